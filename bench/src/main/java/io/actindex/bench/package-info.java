@@ -1,0 +1,2 @@
+/** JMH benchmarks: binary codes against full-precision search. */
+package io.actindex.bench;

@@ -1,0 +1,63 @@
+package io.actindex.index;
+
+/**
+ * Keeps the {@code k} smallest (distance, ordinal) pairs offered, ties by ascending ordinal, in a
+ * binary max-heap keyed on {@code (dist << 32) | ord}. Not thread-safe.
+ */
+public final class TopK {
+  private final long[] heap;
+  private int size;
+
+  public TopK(int k) {
+    if (k <= 0) throw new IllegalArgumentException("k must be positive, got " + k);
+    heap = new long[k];
+  }
+
+  /** Largest distance that could still enter: the k-th best so far, or Integer.MAX_VALUE. */
+  public int bound() {
+    return size < heap.length ? Integer.MAX_VALUE : (int) (heap[0] >>> 32);
+  }
+
+  public int size() {
+    return size;
+  }
+
+  /** Offers one candidate; ordinals must be non-negative. */
+  public void offer(int ord, int dist) {
+    long key = ((long) dist << 32) | ord;
+    if (size < heap.length) {
+      int i = size++;
+      while (i > 0) {
+        int parent = (i - 1) >>> 1;
+        if (heap[parent] >= key) break;
+        heap[i] = heap[parent];
+        i = parent;
+      }
+      heap[i] = key;
+    } else if (key < heap[0]) {
+      int i = 0;
+      while (true) {
+        int l = 2 * i + 1;
+        if (l >= size) break;
+        int r = l + 1;
+        int c = r < size && heap[r] > heap[l] ? r : l;
+        if (heap[c] <= key) break;
+        heap[i] = heap[c];
+        i = c;
+      }
+      heap[i] = key;
+    }
+  }
+
+  /** The kept pairs, sorted by (dist, ord). */
+  public Hits toHits() {
+    long[] sorted = java.util.Arrays.copyOf(heap, size);
+    java.util.Arrays.sort(sorted);
+    int[] o = new int[size], d = new int[size];
+    for (int i = 0; i < size; i++) {
+      o[i] = (int) sorted[i];
+      d[i] = (int) (sorted[i] >>> 32);
+    }
+    return new Hits(o, d);
+  }
+}

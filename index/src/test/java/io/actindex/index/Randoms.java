@@ -1,0 +1,35 @@
+package io.actindex.index;
+
+import java.util.SplittableRandom;
+
+/**
+ * Seeds for randomized tests. The base seed comes from {@code -Dtests.seed=...} when given,
+ * otherwise from the clock; every failure message should carry {@link #describe(long)} so the run
+ * can be repeated.
+ */
+public final class Randoms {
+  private Randoms() {}
+
+  private static final long BASE = initBase();
+
+  private static long initBase() {
+    String s = System.getProperty("tests.seed", "");
+    if (!s.isBlank()) return Long.parseUnsignedLong(s.trim(), 16);
+    return new SplittableRandom().nextLong();
+  }
+
+  /** The base seed of this run. */
+  public static long base() {
+    return BASE;
+  }
+
+  /** A seed for the {@code i}-th repetition of a test. */
+  public static long seed(int i) {
+    return new SplittableRandom(BASE + 0x9E3779B97F4A7C15L * i).nextLong();
+  }
+
+  /** A text that tells how to repeat a failure with this base seed. */
+  public static String describe(long seed) {
+    return "seed=" + Long.toHexString(seed) + " (repeat the run with -Dtests.seed=" + Long.toHexString(BASE) + ")";
+  }
+}

@@ -1,0 +1,129 @@
+package io.actindex.index;
+
+import java.util.SplittableRandom;
+
+/**
+ * Generated data for tests and benchmarks: uniform random codes, and ReLU-like codes with their
+ * float activations from a random two-hidden-layer ReLU network applied to a Gaussian mixture.
+ *
+ * <p>The network is deliberately skewed like trained ones: some neurons are dead (large negative
+ * bias), some always on (large positive bias), and some copy others (correlated units).
+ */
+public final class SyntheticCodes {
+  private SyntheticCodes() {}
+
+  /** Uniform random codes of {@code bits} bits. */
+  public static CodeBlock uniform(int n, int bits, long seed) {
+    CodeLayout layout = CodeLayout.single("bits", bits);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    int w = layout.words();
+    long[] words = new long[n * w];
+    long ghost = CodeBlock.ghostMask(layout);
+    for (int i = 0; i < n; i++) {
+      for (int j = 0; j < w; j++) words[i * w + j] = rnd.nextLong();
+      words[i * w + w - 1] &= ~ghost;
+    }
+    return new CodeBlock(layout, n, words);
+  }
+
+  /** A sample: n inputs passed through the network; activations row-major, hidden1 then hidden2. */
+  public record Sample(CodeBlock codes, float[] activations, int[] cluster) {
+    public int dims() {
+      return codes.layout().bits();
+    }
+  }
+
+  /** A random ReLU network with two hidden layers over a Gaussian mixture of {@code clusters}. */
+  public static final class ReluNet {
+    private final int inputDim, h1, h2, clusters;
+    private final double[][] centers;
+    private final double[][] w1, w2;
+    private final double[] b1, b2;
+
+    public ReluNet(int inputDim, int h1, int h2, int clusters, long seed) {
+      this.inputDim = inputDim;
+      this.h1 = h1;
+      this.h2 = h2;
+      this.clusters = clusters;
+      SplittableRandom rnd = new SplittableRandom(seed);
+      centers = new double[clusters][inputDim];
+      for (double[] c : centers) for (int j = 0; j < inputDim; j++) c[j] = 3 * gauss(rnd);
+      w1 = weights(rnd, h1, inputDim);
+      w2 = weights(rnd, h2, h1);
+      b1 = biases(rnd, h1, Math.sqrt(inputDim) * 3);
+      b2 = biases(rnd, h2, Math.sqrt(h1) * 2);
+      // correlated units: every 8th neuron copies its neighbour with a small change
+      for (int i = 7; i < h1; i += 8) for (int j = 0; j < inputDim; j++) w1[i][j] = w1[i - 1][j] * 1.05;
+    }
+
+    private static double[][] weights(SplittableRandom rnd, int out, int in) {
+      double[][] w = new double[out][in];
+      double scale = 1.0 / Math.sqrt(in);
+      for (double[] row : w) for (int j = 0; j < in; j++) row[j] = gauss(rnd) * scale;
+      return w;
+    }
+
+    /** Mostly small biases; ~6% strongly negative (dead), ~6% strongly positive (always on). */
+    private static double[] biases(SplittableRandom rnd, int out, double big) {
+      double[] b = new double[out];
+      for (int i = 0; i < out; i++) {
+        double u = rnd.nextDouble();
+        b[i] = u < 0.06 ? -big * 4 : u < 0.12 ? big * 4 : 0.3 * gauss(rnd);
+      }
+      return b;
+    }
+
+    public CodeLayout layout() {
+      return new CodeLayout(java.util.List.of(new CodeLayout.Segment("h1", h1), new CodeLayout.Segment("h2", h2)));
+    }
+
+    /**
+     * {@code n} inputs drawn from the mixture; {@code shift} moves every cluster centre by that many
+     * standard deviations along a random direction (0 = in distribution).
+     */
+    public Sample sample(int n, double shift, long seed) {
+      SplittableRandom rnd = new SplittableRandom(seed);
+      double[] dir = new double[inputDim];
+      double norm = 0;
+      for (int j = 0; j < inputDim; j++) norm += (dir[j] = gauss(rnd)) * dir[j];
+      norm = Math.sqrt(norm);
+      CodeLayout layout = layout();
+      int w = layout.words(), bits = h1 + h2;
+      long[] words = new long[n * w];
+      float[] acts = new float[n * bits];
+      int[] cluster = new int[n];
+      double[] x = new double[inputDim], a1 = new double[h1];
+      for (int i = 0; i < n; i++) {
+        int c = rnd.nextInt(clusters);
+        cluster[i] = c;
+        for (int j = 0; j < inputDim; j++) x[j] = centers[c][j] + gauss(rnd) + shift * dir[j] / norm * 3;
+        for (int u = 0; u < h1; u++) {
+          double s = b1[u];
+          for (int j = 0; j < inputDim; j++) s += w1[u][j] * x[j];
+          a1[u] = Math.max(0, s);
+          acts[i * bits + u] = (float) a1[u];
+          if (a1[u] > 0) words[i * w + (u >>> 6)] |= 1L << (u & 63);
+        }
+        for (int u = 0; u < h2; u++) {
+          double s = b2[u];
+          for (int j = 0; j < h1; j++) s += w2[u][j] * a1[j];
+          double a = Math.max(0, s);
+          int bit = h1 + u;
+          acts[i * bits + bit] = (float) a;
+          if (a > 0) words[i * w + (bit >>> 6)] |= 1L << (bit & 63);
+        }
+      }
+      return new Sample(new CodeBlock(layout, n, words), acts, cluster);
+    }
+  }
+
+  private static double gauss(SplittableRandom rnd) {
+    double u = 1 - rnd.nextDouble(), v = rnd.nextDouble();
+    return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * v);
+  }
+
+  /** ReLU-like codes of {@code h1 + h2} bits from a fresh network. */
+  public static Sample reluLike(int n, int h1, int h2, long seed) {
+    return new ReluNet(32, h1, h2, 12, seed).sample(n, 0, seed ^ 0x5DEECE66DL);
+  }
+}

@@ -1,0 +1,2 @@
+/** The operations users ask for, as plain Java methods over an index. */
+package io.actindex.query;

@@ -1,0 +1,2 @@
+/** The demo scenario (invented data). */
+package io.actindex.demo;
