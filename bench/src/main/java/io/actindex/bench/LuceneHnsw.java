@@ -49,7 +49,7 @@ public final class LuceneHnsw implements AutoCloseable {
       int n = rows.length / d;
       for (int i = 0; i < n; i++) {
         float[] v = java.util.Arrays.copyOfRange(rows, i * d, (i + 1) * d);
-        if (isZero(v)) v[0] = Float.MIN_NORMAL; // cosine is undefined for a zero vector; Lucene refuses it
+        if (isZero(v)) v[0] = 1; // cosine is undefined for a zero vector (Lucene refuses it): give it an arbitrary direction
         Document doc = new Document();
         doc.add(new KnnFloatVectorField(FIELD, v, VectorSimilarityFunction.COSINE));
         w.addDocument(doc);
@@ -80,7 +80,7 @@ public final class LuceneHnsw implements AutoCloseable {
   public int[] knn(float[] query, int k) {
     try {
       float[] q = isZero(query) ? query.clone() : query;
-      if (q != query) q[0] = Float.MIN_NORMAL;
+      if (q != query) q[0] = 1;
       TopDocs top = searcher.search(new KnnFloatVectorQuery(FIELD, q, k), k);
       int[] out = new int[top.scoreDocs.length];
       int i = 0;

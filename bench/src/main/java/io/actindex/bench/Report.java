@@ -18,7 +18,7 @@ import java.util.function.Predicate;
  * recall, bytes per example, build time), the radius table, the memory-bandwidth figures and the
  * targets of the benchmark issue, each marked met or missed with the measured figure.
  *
- * <p>Usage: {@code Report results.json facts.tsv}.
+ * <p>Usage: {@code Report facts.tsv results.json [more-results.json ...]}.
  */
 public final class Report {
   private Report() {}
@@ -68,12 +68,16 @@ public final class Report {
   record Row(String id, String label, Map<String, String> key, Result oneThread, Result allCores) {}
 
   public static void main(String[] args) throws IOException {
-    if (args.length != 2) {
-      System.err.println("usage: Report results.json facts.tsv");
+    if (args.length < 2) {
+      System.err.println("usage: Report facts.tsv results.json [more-results.json ...]");
       System.exit(2);
     }
-    List<Result> results = Result.parseAll(Files.readString(Path.of(args[0])));
-    System.out.print(render(results, Facts.read(Path.of(args[1]))));
+    List<Result> results = new ArrayList<>();
+    for (int i = 1; i < args.length; i++) {
+      Path f = Path.of(args[i]);
+      if (Files.exists(f) && Files.size(f) > 0) results.addAll(Result.parseAll(Files.readString(f)));
+    }
+    System.out.print(render(results, Facts.read(Path.of(args[0]))));
   }
 
   /** The whole Markdown report. */
