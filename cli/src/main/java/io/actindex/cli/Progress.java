@@ -77,12 +77,14 @@ public final class Progress implements AutoCloseable {
   }
 
   /**
-   * True when file descriptor 2 is a terminal. On Linux it reads the link {@code /proc/self/fd/2}
-   * (a tty or pts device); elsewhere it falls back to {@link java.io.Console#isTerminal()}, which
-   * looks at stdin and stdout.
+   * True when file descriptor 2 is a terminal. The launcher {@code bin/actindex}, which filters
+   * stderr through a pipe, says so in the system property {@code actindex.stderr.tty}; without it,
+   * on Linux the link {@code /proc/self/fd/2} is read (a tty or pts device), elsewhere
+   * {@link java.io.Console#isTerminal()} (which looks at stdin and stdout) decides.
    */
   public static boolean stderrIsTerminal() {
-    if (Boolean.getBoolean("actindex.noProgress")) return false;
+    String told = System.getProperty("actindex.stderr.tty");
+    if (told != null) return Boolean.parseBoolean(told);
     Path fd2 = Path.of("/proc/self/fd/2");
     try {
       if (Files.isSymbolicLink(fd2)) {
