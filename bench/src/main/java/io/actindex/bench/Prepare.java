@@ -19,9 +19,8 @@ public final class Prepare {
       String[] p = a.split(":");
       int n = Integer.parseInt(p[0]), bits = Integer.parseInt(p[1]);
       long t0 = System.nanoTime();
-      BenchData.codes("relu", n, bits);
-      BenchData.codes("uniform", n, bits);
-      log(a, "codes", t0);
+      for (String data : new String[] {"relu", "uniform"}) CodeContenders.storeDir(data, BenchData.codes(data, n, bits));
+      log(a, "codes and on-disk indexes", t0);
       for (String kind : new String[] {"in", "ood"}) CosineTruth.get(n, bits, kind, () -> CodeSearchBench.unitActivations(n, bits));
       log(a, "cosine truth", t0);
       try (LuceneHnsw h = LuceneHnsw.cached("relu-n" + n + "-b" + bits, BenchData.activations(n, bits), bits)) {

@@ -43,7 +43,7 @@ public class RadiusBench {
   @Param({"0", "1", "2", "3", "4", "5", "6", "7", "8"})
   public int r;
 
-  @Param({"scan"})
+  @Param({"planner", "mih", "cascade", "scan", "store"})
   public String searcher;
 
   private CodeSearcher index;
@@ -53,7 +53,7 @@ public class RadiusBench {
   public void setup() {
     CodeBlock codes = BenchData.codes(data, n, bits);
     pool = BenchData.queries(data, queries, n, bits).codeArrays();
-    index = CodeContenders.build(searcher, codes);
+    index = CodeContenders.build(searcher, codes, data).searcher();
     long hits = 0;
     for (int q = 0; q < 100; q++) hits += index.radius(pool[q], r).size();
     String key = Facts.key(searcher, Map.of("data", data, "n", "" + n, "bits", "" + bits, "queries", queries, "r", "" + r));

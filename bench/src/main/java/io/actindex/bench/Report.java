@@ -106,8 +106,9 @@ public final class Report {
     return switch (id) {
       case "scan" -> "actindex plain scan";
       case "planner" -> "actindex (planner: MIH / cascade / scan)";
-      case "mih" -> "actindex MIH only";
-      case "cascade" -> "actindex cascade only";
+      case "mih" -> "actindex MIH (tables always)";
+      case "cascade" -> "actindex cascade (" + CodeContenders.CASCADE_TABLES + " tables, always)";
+      case "store" -> "actindex on-disk index (IndexReader)";
       case "cosine-loops" -> "exact cosine, float loops";
       case "cosine-ejml" -> "exact cosine, EJML mat-vec";
       case "hnsw" -> "Lucene HNSW cosine (approx.)";
@@ -146,7 +147,7 @@ public final class Report {
   }
 
   private static int order(String id) {
-    List<String> ids = List.of("planner", "mih", "cascade", "scan", "hnsw", "cosine-loops", "cosine-ejml");
+    List<String> ids = List.of("planner", "store", "mih", "cascade", "scan", "hnsw", "cosine-loops", "cosine-ejml");
     int i = ids.indexOf(id);
     return i < 0 ? ids.size() : i;
   }
