@@ -22,12 +22,15 @@ final class Encoding {
   /** Default rows per chunk. */
   static final int CHUNK = 4096;
 
+  /** The codes read, and the encoding options in force (medians filled in; null for a codes file). */
+  record Read(CodeBlock codes, EncodeOptions options) {}
+
   /**
    * Encodes the rows of {@code range} from {@code source}. {@code model} is the model file for
    * inputs (may be a temporary copy of the index's attachment); {@code codesLayout} goes to
    * {@link Encoders#codes} (may be null).
    */
-  static CodeBlock read(Source source, Path model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
+  static Read read(Source source, Path model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
       int chunk, Progress progress) {
     try (CodeStream stream = open(source, model, options, codesLayout)) {
       long total = stream.rows();
@@ -54,17 +57,13 @@ final class Encoding {
       }
       if ((range.to() != -1 && row < range.to()) || (range.from() > 0 && range.from() >= row))
         throw new BadInputException(source.file() + ": rows " + range + " asked, the file has " + row + " rows");
-      return new CodeBlock(layout, kept, Arrays.copyOf(buf, kept * w));
+      return new Read(new CodeBlock(layout, kept, Arrays.copyOf(buf, kept * w)), stream.options());
     } catch (IOException e) {
       throw new UncheckedIOException(source.file() + ": " + e.getMessage(), e);
-    } catch (RuntimeException e) {
-      throw e;
-    } catch (Exception e) {
-      throw new IllegalStateException(source.file() + ": " + e.getMessage(), e);
     }
   }
 
-  private static CodeStream open(Source source, Path model, EncodeOptions options, CodeLayout codesLayout) {
+  private static CodeStream open(Source source, Path model, EncodeOptions options, CodeLayout codesLayout) throws IOException {
     return switch (source.kind()) {
       case ACTIVATIONS -> Encoders.activations(source.file(), options);
       case CODES -> Encoders.codes(source.file(), codesLayout);

@@ -59,13 +59,16 @@ public final class IndexBuilder {
     if (p.source().kind() == Source.Kind.INPUTS && p.source().model() == null)
       throw new BadInputException(p.source().file() + ": building from inputs needs a model file");
     checkEmptyOrAbsent(p.dir());
-    CodeBlock raw = Encoding.read(p.source(), p.source().model(), p.encode(), p.codesLayout(), RowRange.ALL,
+    Encoding.Read read = Encoding.read(p.source(), p.source().model(), p.encode(), p.codesLayout(), RowRange.ALL,
         chunk(p.chunkRows()), orNone(progress));
+    CodeBlock raw = read.codes();
     CodeBlock codes = keepLayers(raw, p.encode().layers(), p.source().file().toString());
     if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
     List<Map<String, String>> meta = readMeta(p.meta(), codes.size(), p.source());
     byte[] model = p.source().kind() == Source.Kind.INPUTS ? readAll(p.source().model()) : null;
-    BuildInfo info = new BuildInfo(p.source().kind(), raw.layout(), model != null, p.encode());
+    // the options in force (per-neuron medians filled in) are what later queries must use
+    EncodeOptions used = read.options() != null ? read.options() : p.encode();
+    BuildInfo info = new BuildInfo(p.source().kind(), raw.layout(), model != null, used);
 
     boolean existed = Files.exists(p.dir());
     try (IndexWriter w = IndexWriter.create(p.dir(), codes.layout(), info.toProperties())) {

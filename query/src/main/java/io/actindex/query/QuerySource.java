@@ -44,7 +44,8 @@ public final class QuerySource {
       // a codes file is read in the layout the index was built from when that was a codes file too
       CodeLayout codesLayout = source.kind() != Source.Kind.CODES ? null
           : info.kind() == Source.Kind.CODES ? info.sourceLayout() : target;
-      CodeBlock raw = Encoding.read(source, model, info.encode(), codesLayout, range, chunk, progress == null ? Progress.NONE : progress);
+      CodeBlock raw = Encoding.read(source, model, info.encode(), codesLayout, range, chunk, progress == null ? Progress.NONE : progress)
+          .codes();
       return Layers.align(raw, target, info.sourceLayout(), source.file().toString());
     } finally {
       Encoding.deleteQuietly(temp);
