@@ -71,7 +71,14 @@ public final class IndexBuilder {
     BuildInfo info = new BuildInfo(p.source().kind(), raw.layout(), model != null, used);
 
     boolean existed = Files.exists(p.dir());
-    try (IndexWriter w = IndexWriter.create(p.dir(), codes.layout(), info.toProperties())) {
+    IndexWriter created;
+    try {
+      created = IndexWriter.create(p.dir(), codes.layout(), info.toProperties());
+    } catch (RuntimeException e) {
+      if (!existed) deleteIfEmpty(p.dir()); // only the empty folder create() may have made
+      throw e;
+    }
+    try (IndexWriter w = created) {
       if (model != null) w.putAttachment(BuildInfo.MODEL, model);
       int first = w.add(codes, meta);
       return new Result(first, codes.size(), codes.layout());
@@ -137,10 +144,17 @@ public final class IndexBuilder {
     if (!Files.exists(dir)) return;
     try (Stream<Path> walk = Files.walk(dir)) {
       for (Path f : walk.sorted(Comparator.reverseOrder()).toList())
-        if (existed && f.equals(dir)) continue;
-        else Files.delete(f);
+        if (!existed || !f.equals(dir)) Files.delete(f);
     } catch (IOException e) {
       failure.addSuppressed(e);
+    }
+  }
+
+  private static void deleteIfEmpty(Path dir) {
+    try {
+      Files.deleteIfExists(dir);
+    } catch (IOException notEmptyOrGone) {
+      // someone else's files: leave them
     }
   }
 
