@@ -1,22 +1,82 @@
 package io.actindex.cli;
 
+import java.io.IOException;
+import java.io.InputStream;
+import java.io.PrintWriter;
+import java.nio.charset.StandardCharsets;
+import java.util.ServiceLoader;
+import java.util.concurrent.Callable;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Spec;
 
-/** Entry point of the {@code actindex} command. */
+/**
+ * Entry point of the {@code actindex} command: one subcommand class per operation, shared options
+ * in mixins, explicit exit codes ({@link ExitCodes}). Extra subcommands (the demo) are found with
+ * {@link ServiceLoader} as {@link ExtraCommand} providers, so modules above {@code cli} can plug in.
+ */
 @Command(
     name = "actindex",
     mixinStandardHelpOptions = true,
-    version = "actindex 0.1.0",
-    description = "Exact Hamming search over the activation codes of ReLU networks.")
-public final class Main implements Runnable {
+    versionProvider = Main.Version.class,
+    synopsisSubcommandLabel = "COMMAND",
+    description = "Exact Hamming search over the on/off codes of ReLU networks.",
+    subcommands = {
+      BuildCommand.class, AddCommand.class, InfoCommand.class, NearestCommand.class,
+      RegionCommand.class, CensusCommand.class, CommandLine.HelpCommand.class
+    },
+    footer = {"", "Exit codes: 0 ok, 2 bad usage or bad input, 1 internal error.",
+        "Run 'actindex COMMAND --help' for the options of one command."})
+public final class Main implements Callable<Integer> {
 
+  @Spec CommandSpec spec;
+
+  @Mixin Verbose verbose;
+
+  /** Without a command: print the usage on stderr, exit 2 (bad usage). */
   @Override
-  public void run() {
-    new CommandLine(this).usage(System.out);
+  public Integer call() {
+    spec.commandLine().usage(spec.commandLine().getErr());
+    return ExitCodes.USAGE;
+  }
+
+  /** The configured command line (handlers, extra commands), writing to the given streams. */
+  public static CommandLine commandLine(PrintWriter out, PrintWriter err) {
+    CommandLine cl = new CommandLine(new Main());
+    for (ExtraCommand extra : ServiceLoader.load(ExtraCommand.class)) cl.addSubcommand(extra);
+    cl.setOut(out);
+    cl.setErr(err);
+    cl.setParameterExceptionHandler(new ErrorHandler());
+    cl.setExecutionExceptionHandler(new ErrorHandler());
+    cl.setCaseInsensitiveEnumValuesAllowed(true);
+    return cl;
+  }
+
+  /** Runs one command line and returns its exit code (for tests and embedding). */
+  public static int run(PrintWriter out, PrintWriter err, String... args) {
+    int code = commandLine(out, err).execute(args);
+    out.flush();
+    err.flush();
+    return code;
   }
 
   public static void main(String[] args) {
-    System.exit(new CommandLine(new Main()).execute(args));
+    PrintWriter out = new PrintWriter(new java.io.BufferedWriter(
+        new java.io.OutputStreamWriter(System.out, StandardCharsets.UTF_8), 1 << 16));
+    PrintWriter err = new PrintWriter(new java.io.OutputStreamWriter(System.err, StandardCharsets.UTF_8), true);
+    System.exit(run(out, err, args));
+  }
+
+  /** The version from the build (a resource filtered by Maven). */
+  static final class Version implements CommandLine.IVersionProvider {
+    @Override
+    public String[] getVersion() throws IOException {
+      try (InputStream in = Main.class.getResourceAsStream("version.txt")) {
+        String v = in == null ? "unknown" : new String(in.readAllBytes(), StandardCharsets.UTF_8).trim();
+        return new String[] {"actindex " + v, "Java " + Runtime.version()};
+      }
+    }
   }
 }

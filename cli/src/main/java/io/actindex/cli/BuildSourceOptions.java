@@ -1,0 +1,61 @@
+package io.actindex.cli;
+
+import java.nio.file.Path;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.ParameterException;
+import picocli.CommandLine.Spec;
+
+/**
+ * Mixin: where the codes of {@code build} and {@code add} come from (exactly one of activations,
+ * codes, or inputs through a model) and the metadata CSV joined to them.
+ */
+public final class BuildSourceOptions {
+  @Spec(Spec.Target.MIXEE) CommandSpec mixee;
+
+  @Option(names = "--activations", paramLabel = "FILE",
+      description = "Activations, rows = examples: .npy, .npz (one array per layer) or .csv.")
+  Path activations;
+
+  @Option(names = "--codes", paramLabel = "FILE",
+      description = "Codes already binarized: .npy of bool or 0/1 uint8, or uint8 packed 8 bits per byte (NumPy packbits order; give --code-layout).")
+  Path codes;
+
+  @Option(names = "--code-layout", paramLabel = "LAYOUT",
+      description = "Layer names and widths of --codes, e.g. h1:64,h2:32 (needed for packed bits; default: one layer named after the file).")
+  String codeLayout;
+
+  @Option(names = "--inputs", paramLabel = "FILE",
+      description = "Model inputs (.npy or .csv), run through the model (--model, or the index's model for add).")
+  Path inputs;
+
+  @Option(names = "--meta", paramLabel = "CSV",
+      description = "Metadata CSV with a header, one row per example (joined by the key column if it has one, else by row order).")
+  Path meta;
+
+  @Option(names = "--key-column", paramLabel = "NAME", defaultValue = "key",
+      description = "Metadata column with each example's unique key. Default: ${DEFAULT-VALUE}.")
+  String keyColumn;
+
+  @Option(names = "--label-column", paramLabel = "NAME", defaultValue = "label",
+      description = "Metadata column with the class label. Default: ${DEFAULT-VALUE}.")
+  String labelColumn;
+
+  @Option(names = "--split-column", paramLabel = "NAME", defaultValue = "split",
+      description = "Metadata column with the data split (train/test/...). Default: ${DEFAULT-VALUE}.")
+  String splitColumn;
+
+  /** Checks that exactly one source is given; {@code model} is the --model option of the command, if any. */
+  void check(Path model, boolean modelRequiredForInputs) {
+    int given = (activations != null ? 1 : 0) + (codes != null ? 1 : 0) + (inputs != null ? 1 : 0);
+    if (given != 1)
+      throw new ParameterException(mixee.commandLine(),
+          "give exactly one source: --activations FILE, --codes FILE, or --model FILE --inputs FILE");
+    if (model != null && inputs == null)
+      throw new ParameterException(mixee.commandLine(), "--model goes with --inputs");
+    if (modelRequiredForInputs && inputs != null && model == null)
+      throw new ParameterException(mixee.commandLine(), "--inputs needs --model FILE (an MLP as safetensors)");
+    if (codeLayout != null && codes == null)
+      throw new ParameterException(mixee.commandLine(), "--code-layout goes with --codes");
+  }
+}

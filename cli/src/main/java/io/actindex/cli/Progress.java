@@ -1,0 +1,99 @@
+package io.actindex.cli;
+
+import java.io.PrintWriter;
+import java.nio.file.Files;
+import java.nio.file.Path;
+
+/**
+ * A one-line progress bar on stderr, drawn only when stderr is a terminal; otherwise every method
+ * does nothing, so piped or captured output carries nothing extra. Redrawn at most ten times a
+ * second. Thread-safe (work may report from several threads).
+ */
+public final class Progress implements AutoCloseable {
+  private static final int BAR = 30;
+  private static final long REDRAW_NANOS = 100_000_000L;
+
+  private final PrintWriter err;
+  private final String task;
+  private final long total;
+  private final long startNanos = System.nanoTime();
+  private final boolean enabled;
+  private long done;
+  private long lastDraw;
+  private boolean drawn;
+
+  /** A bar for {@code total} units of {@code task} ({@code total < 0}: unknown, shows a count). */
+  public Progress(PrintWriter err, String task, long total, boolean enabled) {
+    this.err = err;
+    this.task = task;
+    this.total = total;
+    this.enabled = enabled;
+  }
+
+  /** A bar that draws only if stderr is a terminal. */
+  public static Progress onTerminal(PrintWriter err, String task, long total) {
+    return new Progress(err, task, total, stderrIsTerminal());
+  }
+
+  /** A bar that never draws. */
+  public static Progress none() {
+    return new Progress(null, "", 0, false);
+  }
+
+  /** Adds {@code n} units of finished work. */
+  public synchronized void step(long n) {
+    if (!enabled) return;
+    done += n;
+    long now = System.nanoTime();
+    if (!drawn || now - lastDraw >= REDRAW_NANOS) {
+      draw(now);
+      lastDraw = now;
+    }
+  }
+
+  /** Draws the final state and ends the line (only if something was drawn). */
+  @Override
+  public synchronized void close() {
+    if (!enabled || !drawn) return;
+    draw(System.nanoTime());
+    err.print('\n');
+    err.flush();
+  }
+
+  private void draw(long now) {
+    drawn = true;
+    double secs = (now - startNanos) / 1e9;
+    String line;
+    if (total > 0) {
+      double f = Math.min(1.0, (double) done / total);
+      int filled = (int) Math.round(f * BAR);
+      line = String.format(java.util.Locale.ROOT, "%s [%s%s] %3d%% %,d/%,d %.1fs", task, "=".repeat(filled), " ".repeat(BAR - filled),
+          (int) Math.floor(f * 100), done, total, secs);
+    } else {
+      line = String.format(java.util.Locale.ROOT, "%s %,d %.1fs", task, done, secs);
+    }
+    err.print('\r' + line + "\u001b[K");
+    err.flush();
+  }
+
+  /**
+   * True when file descriptor 2 is a terminal. The launcher {@code bin/actindex}, which filters
+   * stderr through a pipe, says so in the system property {@code actindex.stderr.tty}; without it,
+   * on Linux the link {@code /proc/self/fd/2} is read (a tty or pts device), elsewhere
+   * {@link java.io.Console#isTerminal()} (which looks at stdin and stdout) decides.
+   */
+  public static boolean stderrIsTerminal() {
+    String told = System.getProperty("actindex.stderr.tty");
+    if (told != null) return Boolean.parseBoolean(told);
+    Path fd2 = Path.of("/proc/self/fd/2");
+    try {
+      if (Files.isSymbolicLink(fd2)) {
+        String target = Files.readSymbolicLink(fd2).toString();
+        return target.startsWith("/dev/pts/") || target.startsWith("/dev/tty");
+      }
+    } catch (Exception e) {
+      // fall through to the portable check
+    }
+    return System.console() != null && System.console().isTerminal();
+  }
+}

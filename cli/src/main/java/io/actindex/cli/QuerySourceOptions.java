@@ -1,0 +1,36 @@
+package io.actindex.cli;
+
+import java.nio.file.Path;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.ParameterException;
+import picocli.CommandLine.Spec;
+
+/**
+ * Mixin: the queries of {@code nearest} and {@code region}, encoded the way the index was built:
+ * activations, codes, or model inputs (when the index stores its model), and which rows to use.
+ */
+public final class QuerySourceOptions {
+  @Spec(Spec.Target.MIXEE) CommandSpec mixee;
+
+  @Option(names = "--activations", paramLabel = "FILE", description = "Query activations (.npy, .npz or .csv).")
+  Path activations;
+
+  @Option(names = "--codes", paramLabel = "FILE", description = "Query codes (.npy of bool, 0/1 uint8 or packed bits).")
+  Path codes;
+
+  @Option(names = "--inputs", paramLabel = "FILE",
+      description = "Query inputs, run through the model stored in the index (built with --model).")
+  Path inputs;
+
+  @Option(names = "--rows", paramLabel = "A:B",
+      description = "Only rows A (inclusive) to B (exclusive), 0-based; A: and :B leave one end open; a single number picks one row.")
+  String rows;
+
+  void check() {
+    int given = (activations != null ? 1 : 0) + (codes != null ? 1 : 0) + (inputs != null ? 1 : 0);
+    if (given != 1)
+      throw new ParameterException(mixee.commandLine(),
+          "give exactly one query source: --activations FILE, --codes FILE or --inputs FILE");
+  }
+}

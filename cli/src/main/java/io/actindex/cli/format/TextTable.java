@@ -1,0 +1,69 @@
+package io.actindex.cli.format;
+
+import java.io.PrintWriter;
+import java.util.ArrayList;
+import java.util.List;
+
+/**
+ * A plain-text table for terminals: a header row, a dashed rule, then rows, columns padded to
+ * their widest cell and separated by two spaces. Cells that look numeric are right-aligned.
+ * Line breaks and tabs inside cells are shown as spaces so a row stays on one line.
+ */
+public final class TextTable {
+  private final List<String> header;
+  private final List<List<String>> rows = new ArrayList<>();
+
+  public TextTable(List<String> header) {
+    this.header = List.copyOf(header);
+  }
+
+  /** Adds a row; it must have as many cells as the header (null cells print empty). */
+  public TextTable row(List<String> cells) {
+    if (cells.size() != header.size())
+      throw new IllegalArgumentException("row has " + cells.size() + " cells, the header " + header.size());
+    List<String> clean = new ArrayList<>(cells.size());
+    for (String c : cells) clean.add(c == null ? "" : c.replaceAll("[\\t\\r\\n]", " "));
+    rows.add(clean);
+    return this;
+  }
+
+  public int size() {
+    return rows.size();
+  }
+
+  /** Prints the table, each line prefixed by {@code indent}. */
+  public void print(PrintWriter out, String indent) {
+    int cols = header.size();
+    int[] width = new int[cols];
+    boolean[] numeric = new boolean[cols];
+    for (int c = 0; c < cols; c++) {
+      width[c] = header.get(c).length();
+      numeric[c] = !rows.isEmpty();
+      for (List<String> r : rows) {
+        width[c] = Math.max(width[c], r.get(c).length());
+        if (!r.get(c).isEmpty() && !isNumber(r.get(c))) numeric[c] = false;
+      }
+    }
+    line(out, indent, header, width, numeric);
+    StringBuilder rule = new StringBuilder(indent);
+    for (int c = 0; c < cols; c++) rule.append(c == 0 ? "" : "  ").append("-".repeat(width[c]));
+    out.println(rule);
+    for (List<String> r : rows) line(out, indent, r, width, numeric);
+  }
+
+  private static void line(PrintWriter out, String indent, List<String> cells, int[] width, boolean[] numeric) {
+    StringBuilder sb = new StringBuilder(indent);
+    for (int c = 0; c < cells.size(); c++) {
+      if (c > 0) sb.append("  ");
+      String cell = cells.get(c);
+      String pad = " ".repeat(width[c] - cell.length());
+      if (numeric[c]) sb.append(pad).append(cell);
+      else sb.append(cell).append(c == cells.size() - 1 ? "" : pad);
+    }
+    out.println(sb.toString().stripTrailing());
+  }
+
+  private static boolean isNumber(String s) {
+    return s.matches("[-+]?\\d+(\\.\\d+)?%?");
+  }
+}

@@ -1,0 +1,46 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import java.io.PrintWriter;
+import java.io.StringWriter;
+import org.junit.jupiter.api.Test;
+
+class ProgressTest {
+  @Test
+  void disabledBarWritesNothing() {
+    StringWriter sw = new StringWriter();
+    try (Progress p = new Progress(new PrintWriter(sw), "rows", 100, false)) {
+      p.step(50);
+      p.step(50);
+    }
+    assertThat(sw.toString()).isEmpty();
+  }
+
+  @Test
+  void enabledBarRedrawsInPlaceAndEndsTheLine() {
+    StringWriter sw = new StringWriter();
+    try (Progress p = new Progress(new PrintWriter(sw), "rows", 200, true)) {
+      p.step(50);
+      p.step(150);
+    }
+    String s = sw.toString();
+    assertThat(s).startsWith("\rrows [").endsWith("\n").contains("100% 200/200");
+    assertThat(s.chars().filter(c -> c == '\n').count()).isEqualTo(1);
+  }
+
+  @Test
+  void unknownTotalShowsACount() {
+    StringWriter sw = new StringWriter();
+    try (Progress p = new Progress(new PrintWriter(sw), "queries", -1, true)) {
+      p.step(1234);
+    }
+    assertThat(sw.toString()).contains("queries 1,234");
+  }
+
+  @Test
+  void testsDoNotRunOnATerminal() {
+    // surefire pipes stderr, so the bar must stay off (nothing extra in captured output)
+    assertThat(Progress.stderrIsTerminal()).isFalse();
+  }
+}
