@@ -233,8 +233,7 @@ public final class IndexReader implements AutoCloseable {
       Manifest.SegmentEntry e = manifest.segments().get(i);
       int dead = 0;
       for (int o = 0; o < s.size(); o++) if (deleted.contains(s.id(o))) dead++;
-      infos.add(new IndexInfo.SegmentInfo(s.segmentId(), e.firstId(), e.endId(), s.size(), dead, s.bytes(),
-          s.searcherDescription(), s.droppedConstantBits()));
+      infos.add(new IndexInfo.SegmentInfo(s.segmentId(), e.firstId(), e.endId(), s.size(), dead, s.bytes(), s.stats()));
     }
     return new IndexInfo(manifest.layout(), manifest.generation(), manifest.nextId(), liveCount, infos, folderBytes());
   }
