@@ -77,7 +77,8 @@ class IndexBuilderTest {
     assertEquals(250, added.firstId());
     checkNearest(dir, more, "0:50", want, N, why);
     try (IndexReader r = IndexReader.open(dir)) {
-      assertEquals(Map.of("key", "ex260", "split", "train", "score", "0"), r.meta().document(260));
+      assertEquals(Map.of("key", "ex260", "label", "c0", "split", "train", "score", "0"), r.meta().document(260));
+      assertEquals(Map.of("key", "ex261", "split", "test", "score", "1"), r.meta().document(261)); // 261 % 3 == 0: no label
     }
   }
 
