@@ -87,6 +87,7 @@ public final class Report {
     machine(sb, results, rows);
     knnTable(sb, rows, facts);
     radiusTable(sb, results, facts);
+    encoding(sb, results);
     targets(sb, results, rows, facts);
     return sb.toString();
   }
@@ -235,6 +236,20 @@ public final class Report {
   private static Result radiusScan(List<Result> rad, Result r) {
     for (Result s : rad) if (s.p("searcher").equals("scan") && radiusKey(s).equals(radiusKey(r))) return s;
     return null;
+  }
+
+  // ---- encoding ----
+
+  private static void encoding(StringBuilder sb, List<Result> results) {
+    List<Result> enc = results.stream().filter(r -> r.bench().equals("EncodeBench")).toList();
+    if (enc.isEmpty()) return;
+    sb.append("\n### Encoding float32 .npy activations into codes (one thread, whole file per call)\n\n");
+    sb.append("| n | bits | ms per file | examples/s | MB/s of floats |\n|---:|---:|---:|---:|---:|\n");
+    for (Result r : enc) {
+      double n = Double.parseDouble(r.p("n")), bits = Double.parseDouble(r.p("bits")), s = r.micros() * 1e-6;
+      sb.append("| ").append(count(r.p("n"))).append(" | ").append(r.p("bits")).append(" | ").append(fmt(s * 1e3))
+          .append(" | ").append(fmt(n / s)).append(" | ").append(fmt(n * bits * 4 / s / 1e6)).append(" |\n");
+    }
   }
 
   // ---- machine, bandwidth ----
