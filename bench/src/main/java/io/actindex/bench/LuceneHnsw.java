@@ -76,6 +76,11 @@ public final class LuceneHnsw implements AutoCloseable {
     return h;
   }
 
+  /** True if {@link #cached} would open a complete index without building. */
+  public static boolean isCached(String key) {
+    return Files.exists(BenchData.dir().resolve("hnsw-" + key).resolve("done"));
+  }
+
   /** Rows of the approximate k nearest by cosine, best first. */
   public int[] knn(float[] query, int k) {
     try {
