@@ -30,7 +30,7 @@ public final class Prepare {
       for (String kind : new String[] {"in", "ood"}) CosineTruth.get(n, bits, kind, () -> CodeSearchBench.unitActivations(n, bits));
       log(a, "cosine truth", t0);
       if (!buildHnsw && !LuceneHnsw.isCached("relu-n" + n + "-b" + bits)) {
-        log(a, "HNSW not cached, not built (--no-hnsw-build)", t0);
+        System.err.println("prepare " + a + ": HNSW index not cached; not built (--no-hnsw-build)");
         continue;
       }
       try (LuceneHnsw h = LuceneHnsw.cached("relu-n" + n + "-b" + bits, BenchData.activations(n, bits), bits)) {
