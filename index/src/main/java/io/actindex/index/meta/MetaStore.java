@@ -1,0 +1,214 @@
+package io.actindex.index.meta;
+
+import io.actindex.index.BadInputException;
+import java.io.Closeable;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.Path;
+import java.util.Collections;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.TreeMap;
+import org.apache.lucene.codecs.CodecUtil;
+import org.apache.lucene.document.IntPoint;
+import org.apache.lucene.index.DirectoryReader;
+import org.apache.lucene.index.IndexCommit;
+import org.apache.lucene.index.IndexableField;
+import org.apache.lucene.index.LeafReaderContext;
+import org.apache.lucene.index.NumericDocValues;
+import org.apache.lucene.index.Term;
+import org.apache.lucene.search.CollectorManager;
+import org.apache.lucene.search.IndexSearcher;
+import org.apache.lucene.search.Query;
+import org.apache.lucene.search.ScoreMode;
+import org.apache.lucene.search.SimpleCollector;
+import org.apache.lucene.search.TermQuery;
+import org.apache.lucene.search.TopDocs;
+import org.apache.lucene.store.Directory;
+import org.apache.lucene.store.FSDirectory;
+import org.apache.lucene.store.IOContext;
+import org.apache.lucene.store.IndexInput;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Read side of the metadata store: a Lucene index (subfolder {@code meta}) opened at the commit the
+ * manifest names, after every file of that commit passed Lucene's checksum. One document per live
+ * code; see {@link MetaSchema} for fields. Filters: build a Lucene {@link Query} ({@code TermQuery}
+ * for KEYWORD columns, {@code DoublePoint.newRangeQuery}/{@code newExactQuery} for NUMBER columns,
+ * {@code BooleanQuery} to combine) and {@link #select} it. Thread-safe.
+ */
+public final class MetaStore implements Closeable {
+
+  /** How a column is indexed. */
+  public enum FieldKind { KEYWORD, NUMBER }
+
+  private final Directory dir;
+  private final DirectoryReader reader;
+  private final IndexSearcher searcher;
+  private final Map<String, FieldKind> fields;
+  private final RoaringBitmap deleted;
+
+  private MetaStore(Directory dir, DirectoryReader reader, Map<String, FieldKind> fields, RoaringBitmap deleted) {
+    this.dir = dir;
+    this.reader = reader;
+    this.searcher = new IndexSearcher(reader);
+    this.searcher.setQueryCache(null);
+    this.fields = fields;
+    this.deleted = deleted;
+  }
+
+  /**
+   * Opens the commit {@code segmentsFile} of the store in {@code metaDir}, verifying the checksum of
+   * every file it uses; {@code deleted} ids are never selected. BadInputException names a damaged file.
+   */
+  public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted) {
+    Directory dir = null;
+    try {
+      dir = FSDirectory.open(metaDir);
+      IndexCommit commit = findCommit(metaDir, dir, segmentsFile);
+      for (String name : commit.getFileNames()) {
+        try (IndexInput in = dir.openInput(name, IOContext.READONCE)) {
+          CodecUtil.checksumEntireFile(in);
+        } catch (IOException e) {
+          throw new BadInputException("metadata file " + metaDir.resolve(name) + " is damaged: " + e.getMessage(), e);
+        }
+      }
+      DirectoryReader reader;
+      try {
+        reader = DirectoryReader.open(commit);
+      } catch (IOException e) {
+        throw new BadInputException("metadata store " + metaDir + " is damaged: " + e.getMessage(), e);
+      }
+      return new MetaStore(dir, reader, kinds(commit.getUserData()), deleted.clone());
+    } catch (IOException e) {
+      close(dir);
+      throw new UncheckedIOException("cannot open metadata store " + metaDir, e);
+    } catch (RuntimeException e) {
+      close(dir);
+      throw e;
+    }
+  }
+
+  private static void close(Directory dir) {
+    try {
+      if (dir != null) dir.close();
+    } catch (IOException ignored) {
+      // already failing
+    }
+  }
+
+  static IndexCommit findCommit(Path metaDir, Directory dir, String segmentsFile) {
+    List<IndexCommit> commits;
+    try {
+      commits = DirectoryReader.listCommits(dir);
+    } catch (IOException | RuntimeException e) {
+      throw new BadInputException("metadata store " + metaDir + " cannot be read (" + segmentsFile + "): "
+          + e.getMessage(), e);
+    }
+    for (IndexCommit c : commits) if (c.getSegmentsFileName().equals(segmentsFile)) return c;
+    throw new BadInputException("metadata commit " + metaDir.resolve(segmentsFile)
+        + " named by the manifest is missing");
+  }
+
+  static Map<String, FieldKind> kinds(Map<String, String> userData) {
+    Map<String, FieldKind> out = new TreeMap<>();
+    for (String k : MetaSchema.FIXED_KEYWORDS) out.put(k, FieldKind.KEYWORD);
+    for (Map.Entry<String, String> e : userData.entrySet())
+      if (e.getKey().startsWith(MetaSchema.KIND_PREFIX))
+        out.put(e.getKey().substring(MetaSchema.KIND_PREFIX.length()), MetaSchema.kindOf(e.getValue()));
+    return out;
+  }
+
+  /** Number of documents (one per live code). */
+  public int numDocs() {
+    return reader.numDocs();
+  }
+
+  /** Column name -> kind (key, label, split, source are KEYWORD; "id" is not listed). */
+  public Map<String, FieldKind> fields() {
+    return Collections.unmodifiableMap(fields);
+  }
+
+  /** The row of {@code id}: key plus every non-empty column as given; null if the id is not live. */
+  public Map<String, String> document(int id) {
+    try {
+      TopDocs top = searcher.search(IntPoint.newExactQuery(MetaSchema.ID, id), 1);
+      if (top.scoreDocs.length == 0 || deleted.contains(id)) return null;
+      Map<String, String> out = new LinkedHashMap<>();
+      for (IndexableField f : searcher.storedFields().document(top.scoreDocs[0].doc))
+        if (!f.name().equals(MetaSchema.ID)) out.put(f.name(), f.stringValue());
+      return out;
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
+  }
+
+  /** The id of the live code with this key, or -1. */
+  public int idOfKey(String key) {
+    try {
+      TopDocs top = searcher.search(new TermQuery(new Term(MetaSchema.KEY, key)), 1);
+      if (top.scoreDocs.length == 0) return -1;
+      IndexableField f = searcher.storedFields().document(top.scoreDocs[0].doc).getField(MetaSchema.ID);
+      int id = f.numericValue().intValue();
+      return deleted.contains(id) ? -1 : id;
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
+  }
+
+  /** Ids of the live documents matching {@code query}. */
+  public RoaringBitmap select(Query query) {
+    try {
+      RoaringBitmap ids = searcher.search(query, new CollectorManager<IdCollector, RoaringBitmap>() {
+        @Override
+        public IdCollector newCollector() {
+          return new IdCollector();
+        }
+
+        @Override
+        public RoaringBitmap reduce(java.util.Collection<IdCollector> collectors) {
+          RoaringBitmap all = new RoaringBitmap();
+          for (IdCollector c : collectors) all.or(c.ids);
+          return all;
+        }
+      });
+      ids.andNot(deleted);
+      return ids;
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
+  }
+
+  /** Collects the {@code id} doc value of every match. */
+  private static final class IdCollector extends SimpleCollector {
+    final RoaringBitmap ids = new RoaringBitmap();
+    private NumericDocValues values;
+
+    @Override
+    protected void doSetNextReader(LeafReaderContext context) throws IOException {
+      values = context.reader().getNumericDocValues(MetaSchema.ID);
+    }
+
+    @Override
+    public void collect(int doc) throws IOException {
+      if (values == null || !values.advanceExact(doc))
+        throw new IllegalStateException("metadata document " + doc + " has no id");
+      ids.add((int) values.longValue());
+    }
+
+    @Override
+    public ScoreMode scoreMode() {
+      return ScoreMode.COMPLETE_NO_SCORES;
+    }
+  }
+
+  @Override
+  public void close() throws IOException {
+    try {
+      reader.close();
+    } finally {
+      dir.close();
+    }
+  }
+}

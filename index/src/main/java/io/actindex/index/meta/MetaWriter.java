@@ -1,0 +1,197 @@
+package io.actindex.index.meta;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.meta.MetaStore.FieldKind;
+import java.io.Closeable;
+import java.io.IOException;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import org.apache.lucene.document.Document;
+import org.apache.lucene.document.IntPoint;
+import org.apache.lucene.index.DirectoryReader;
+import org.apache.lucene.index.IndexCommit;
+import org.apache.lucene.index.IndexWriter;
+import org.apache.lucene.index.IndexWriterConfig;
+import org.apache.lucene.index.LeafReaderContext;
+import org.apache.lucene.index.NumericDocValues;
+import org.apache.lucene.index.PostingsEnum;
+import org.apache.lucene.index.SegmentInfos;
+import org.apache.lucene.index.Terms;
+import org.apache.lucene.index.TermsEnum;
+import org.apache.lucene.search.DocIdSetIterator;
+import org.apache.lucene.store.Directory;
+import org.apache.lucene.store.FSDirectory;
+import org.apache.lucene.util.Bits;
+import org.apache.lucene.util.BytesRef;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Write side of the metadata store, driven by the index writer: it adds and deletes documents,
+ * commits Lucene first, and is told when a manifest has published that commit (only then may the
+ * previous commit go). Not thread-safe; one per index writer.
+ */
+public final class MetaWriter implements Closeable {
+  private final Path path;
+  private final Directory dir;
+  private final KeepPublishedPolicy policy;
+  private final IndexWriter writer;
+  private Map<String, FieldKind> kinds;
+  private DirectoryReader nrt;
+
+  /** A validated batch, ready to add. */
+  public record Batch(List<Document> docs, Map<String, FieldKind> kinds) {}
+
+  private MetaWriter(Path path, Directory dir, KeepPublishedPolicy policy, IndexWriter writer,
+      Map<String, FieldKind> kinds) throws IOException {
+    this.path = path;
+    this.dir = dir;
+    this.policy = policy;
+    this.writer = writer;
+    this.kinds = kinds;
+    this.nrt = DirectoryReader.open(writer);
+  }
+
+  /** Creates an empty store in {@code metaDir} (absent or empty) and commits it. */
+  public static MetaWriter create(Path metaDir) throws IOException {
+    KeepPublishedPolicy policy = new KeepPublishedPolicy();
+    Directory dir = FSDirectory.open(metaDir);
+    IndexWriterConfig cfg = config(policy).setOpenMode(IndexWriterConfig.OpenMode.CREATE);
+    MetaWriter w = new MetaWriter(metaDir, dir, policy, new IndexWriter(dir, cfg), new LinkedHashMap<>());
+    w.writer.setLiveCommitData(w.userData(w.kinds).entrySet());
+    return w;
+  }
+
+  /** Opens the store at the commit a manifest names ({@code segmentsFile}), dropping any later one. */
+  public static MetaWriter open(Path metaDir, String segmentsFile) throws IOException {
+    Directory dir = FSDirectory.open(metaDir);
+    try {
+      IndexCommit commit = MetaStore.findCommit(metaDir, dir, segmentsFile);
+      KeepPublishedPolicy policy = new KeepPublishedPolicy();
+      policy.publish(commit.getGeneration());
+      IndexWriterConfig cfg = config(policy).setOpenMode(IndexWriterConfig.OpenMode.APPEND).setIndexCommit(commit);
+      return new MetaWriter(metaDir, dir, policy, new IndexWriter(dir, cfg), MetaStore.kinds(commit.getUserData()));
+    } catch (IOException | RuntimeException e) {
+      dir.close();
+      throw e;
+    }
+  }
+
+  private static IndexWriterConfig config(KeepPublishedPolicy policy) {
+    return new IndexWriterConfig().setIndexDeletionPolicy(policy).setCommitOnClose(false);
+  }
+
+  private Map<String, String> userData(Map<String, FieldKind> k) {
+    Map<String, String> data = new LinkedHashMap<>();
+    for (Map.Entry<String, FieldKind> e : k.entrySet())
+      data.put(MetaSchema.KIND_PREFIX + e.getKey(), MetaSchema.kindId(e.getValue()));
+    return data;
+  }
+
+  /**
+   * Checks a batch of rows for ids {@code firstId..firstId+n-1} without changing anything: column
+   * kinds, and keys unique in the batch and among live documents. {@code rows} may be null (keys
+   * "row-ID"). Refusals name the row.
+   */
+  public Batch prepare(int firstId, int n, List<Map<String, String>> rows) throws IOException {
+    if (rows != null && rows.size() != n)
+      throw new BadInputException(rows.size() + " metadata rows for " + n + " codes");
+    List<Map<String, String>> keyed = new ArrayList<>(n);
+    for (int r = 0; r < n; r++) {
+      Map<String, String> row = new LinkedHashMap<>();
+      String key = rows == null ? null : rows.get(r).get(MetaSchema.KEY);
+      row.put(MetaSchema.KEY, key == null || key.isEmpty() ? "row-" + (firstId + r) : key);
+      if (rows != null)
+        for (Map.Entry<String, String> e : rows.get(r).entrySet())
+          if (!e.getKey().equals(MetaSchema.KEY)) row.put(e.getKey(), e.getValue());
+      keyed.add(row);
+    }
+    Map<String, FieldKind> merged = MetaSchema.kinds(kinds, keyed, firstId);
+    Map<String, Integer> seen = new HashMap<>();
+    for (int r = 0; r < n; r++) {
+      Integer before = seen.put(keyed.get(r).get(MetaSchema.KEY), r);
+      if (before != null)
+        throw new BadInputException("metadata row " + r + ": key '" + keyed.get(r).get(MetaSchema.KEY)
+            + "' already used by row " + before + " of the same batch");
+    }
+    refresh();
+    for (LeafReaderContext leaf : nrt.leaves()) {
+      Terms terms = leaf.reader().terms(MetaSchema.KEY);
+      if (terms == null) continue;
+      TermsEnum te = terms.iterator();
+      Bits live = leaf.reader().getLiveDocs();
+      NumericDocValues ids = null;
+      PostingsEnum pe = null;
+      for (int r = 0; r < n; r++) {
+        if (!te.seekExact(new BytesRef(keyed.get(r).get(MetaSchema.KEY)))) continue;
+        pe = te.postings(pe, PostingsEnum.NONE);
+        for (int d = pe.nextDoc(); d != DocIdSetIterator.NO_MORE_DOCS; d = pe.nextDoc()) {
+          if (live != null && !live.get(d)) continue;
+          ids = leaf.reader().getNumericDocValues(MetaSchema.ID);
+          long id = ids != null && ids.advanceExact(d) ? ids.longValue() : -1;
+          throw new BadInputException("metadata row " + r + ": key '" + keyed.get(r).get(MetaSchema.KEY)
+              + "' already exists in the index (id " + id + ")");
+        }
+      }
+    }
+    List<Document> docs = new ArrayList<>(n);
+    for (int r = 0; r < n; r++) docs.add(MetaSchema.document(firstId + r, keyed.get(r), merged));
+    return new Batch(docs, merged);
+  }
+
+  private void refresh() throws IOException {
+    DirectoryReader fresh = DirectoryReader.openIfChanged(nrt, writer);
+    if (fresh != null) {
+      nrt.close();
+      nrt = fresh;
+    }
+  }
+
+  /** Adds a prepared batch (not yet committed). */
+  public void add(Batch batch) throws IOException {
+    writer.addDocuments(batch.docs());
+    kinds = batch.kinds();
+    writer.setLiveCommitData(userData(kinds).entrySet());
+  }
+
+  /** Deletes the documents of {@code ids} (not yet committed). */
+  public void delete(RoaringBitmap ids) throws IOException {
+    if (!ids.isEmpty()) writer.deleteDocuments(IntPoint.newSetQuery(MetaSchema.ID, ids.toArray()));
+  }
+
+  /** Rewrites segments that hold deleted documents (not yet committed). */
+  public void expungeDeletes() throws IOException {
+    writer.forceMergeDeletes(true);
+  }
+
+  /** Commits Lucene and returns the segments file of the newest commit (the manifest records it). */
+  public String commit() throws IOException {
+    writer.commit();
+    return policy.newest();
+  }
+
+  /** Called once a manifest names {@code segmentsFile}: older commits may now be deleted. */
+  public void published(String segmentsFile) throws IOException {
+    policy.publish(SegmentInfos.generationFromSegmentsFileName(segmentsFile));
+    writer.deleteUnusedFiles();
+  }
+
+  /** The folder of the store. */
+  public Path path() {
+    return path;
+  }
+
+  /** Closes without committing (uncommitted changes are dropped). */
+  @Override
+  public void close() throws IOException {
+    try {
+      nrt.close();
+      writer.rollback();
+    } finally {
+      dir.close();
+    }
+  }
+}

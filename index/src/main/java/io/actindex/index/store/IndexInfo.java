@@ -1,0 +1,35 @@
+package io.actindex.index.store;
+
+import io.actindex.index.CodeLayout;
+import java.util.List;
+
+/**
+ * What the {@code info} command shows about an open index.
+ *
+ * @param layout the code layout
+ * @param generation the manifest generation the reader opened
+ * @param maxId ids handed out so far ({@code 0..maxId-1})
+ * @param liveCount codes not deleted
+ * @param segments one entry per segment, in id order
+ * @param bytesOnDisk every file of the folder, metadata store included
+ */
+public record IndexInfo(CodeLayout layout, long generation, int maxId, int liveCount, List<SegmentInfo> segments,
+    long bytesOnDisk) {
+
+  public IndexInfo {
+    segments = List.copyOf(segments);
+  }
+
+  /**
+   * One segment.
+   *
+   * @param firstId first id of its range; {@code endId} is exclusive
+   * @param count codes stored (deleted ones included until compaction)
+   * @param deleted stored codes that are deleted
+   * @param bytes its codes and tables files
+   * @param searcher the search structure: "scan", or the substring plan of the multi-index tables
+   * @param droppedConstantBits bits constant over the segment that the tables leave out (0 for scan)
+   */
+  public record SegmentInfo(int segmentId, int firstId, int endId, int count, int deleted, long bytes,
+      String searcher, int droppedConstantBits) {}
+}

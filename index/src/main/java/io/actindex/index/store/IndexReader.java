@@ -1,0 +1,266 @@
+package io.actindex.index.store;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.Hits;
+import io.actindex.index.TopK;
+import io.actindex.index.meta.MetaStore;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.function.IntConsumer;
+import java.util.function.IntPredicate;
+import java.util.stream.Stream;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * A point-in-time view of the newest generation of an index folder. Opening reads every file the
+ * manifest names and checks its header, length and CRC32 (and Lucene's checksums for the metadata
+ * store), so a damaged folder fails here with a {@link BadInputException} naming the file, and no
+ * search ever answers from damaged data. Thread-safe; search results carry global ids.
+ */
+public final class IndexReader implements AutoCloseable {
+  private static final int OPEN_ATTEMPTS = 10;
+
+  private final Path dir;
+  private final Manifest manifest;
+  private final List<Segment> segments;
+  private final int[] segmentFirstIds;
+  private final RoaringBitmap deleted;
+  private final Map<String, byte[]> attachments;
+  private final MetaStore meta;
+  private final int liveCount;
+
+  private IndexReader(Path dir, Manifest manifest, List<Segment> segments, RoaringBitmap deleted,
+      Map<String, byte[]> attachments, MetaStore meta) {
+    this.dir = dir;
+    this.manifest = manifest;
+    this.segments = List.copyOf(segments);
+    this.segmentFirstIds = new int[segments.size()];
+    for (int i = 0; i < segments.size(); i++) segmentFirstIds[i] = manifest.segments().get(i).firstId();
+    this.deleted = deleted;
+    this.attachments = attachments;
+    this.meta = meta;
+    this.liveCount = manifest.nextId() - deleted.getCardinality();
+  }
+
+  /** Opens the newest generation in {@code dir}, verifying every file. */
+  public static IndexReader open(Path dir) {
+    for (int attempt = 1; ; attempt++) {
+      long gen = Manifest.newestGeneration(dir);
+      if (gen < 0) throw new BadInputException("no index in " + dir + ": no manifest-N file (not an index, or its manifest was deleted)");
+      try {
+        return load(dir, gen);
+      } catch (RuntimeException e) {
+        // a writer may have committed and removed this generation's files meanwhile: retry then
+        if (attempt >= OPEN_ATTEMPTS || Manifest.newestGeneration(dir) == gen) throw e;
+      }
+    }
+  }
+
+  private static IndexReader load(Path dir, long gen) {
+    Manifest m = Manifest.read(dir, gen);
+    List<Segment> segs = new ArrayList<>();
+    for (Manifest.SegmentEntry e : m.segments()) segs.add(Segment.read(dir, m, e));
+    RoaringBitmap deleted = Tombstones.read(dir, m);
+    long stored = 0;
+    for (Segment s : segs) stored += s.size();
+    int liveInSegments = 0;
+    for (Segment s : segs) for (int o = 0; o < s.size(); o++) if (!deleted.contains(s.id(o))) liveInSegments++;
+    int live = m.nextId() - deleted.getCardinality();
+    if (liveInSegments != live)
+      throw new BadInputException("index " + dir + ": " + Manifest.fileName(gen) + " holds " + stored + " codes of which "
+          + liveInSegments + " live, but ids and tombstones say " + live + " are live");
+    Map<String, byte[]> att = new HashMap<>();
+    for (String name : m.attachments().keySet()) att.put(name, Attachments.read(dir, m, name));
+    MetaStore meta = MetaStore.open(dir.resolve(IndexWriter.META_DIR), m.metaCommit(), deleted);
+    if (meta.numDocs() != live) {
+      try {
+        meta.close();
+      } catch (IOException ignored) {
+        // reporting the inconsistency below
+      }
+      throw new BadInputException("metadata store " + dir.resolve(IndexWriter.META_DIR) + " has " + meta.numDocs()
+          + " documents, " + Manifest.fileName(gen) + " has " + live + " live codes");
+    }
+    return new IndexReader(dir, m, segs, deleted, att, meta);
+  }
+
+  public CodeLayout layout() {
+    return manifest.layout();
+  }
+
+  /** The folder. */
+  public Path dir() {
+    return dir;
+  }
+
+  public Map<String, String> properties() {
+    return manifest.properties();
+  }
+
+  /** Content of the named attachment (a copy), or null. */
+  public byte[] attachment(String name) {
+    byte[] b = attachments.get(name);
+    return b == null ? null : b.clone();
+  }
+
+  /** Ids are {@code 0..maxId()-1}; deleted ones are never reused. */
+  public int maxId() {
+    return manifest.nextId();
+  }
+
+  public int liveCount() {
+    return liveCount;
+  }
+
+  /** A new bitmap of the live ids. */
+  public RoaringBitmap liveIds() {
+    RoaringBitmap live = new RoaringBitmap();
+    if (manifest.nextId() > 0) live.add(0L, manifest.nextId());
+    live.andNot(deleted);
+    return live;
+  }
+
+  /** True if {@code id} is live. */
+  public boolean isLive(int id) {
+    return id >= 0 && id < manifest.nextId() && !deleted.contains(id);
+  }
+
+  /** A copy of the code of live id {@code id}. */
+  public long[] code(int id) {
+    if (!isLive(id)) throw new IllegalArgumentException("id " + id + " is not live in index " + dir);
+    int s = segmentOf(id);
+    return segments.get(s).codes().code(segments.get(s).ord(id));
+  }
+
+  private int segmentOf(int id) {
+    int i = Arrays.binarySearch(segmentFirstIds, id);
+    int s = i >= 0 ? i : -i - 2;
+    if (s < 0 || segments.get(s).ord(id) < 0) throw new IllegalStateException("live id " + id + " is in no segment");
+    return s;
+  }
+
+  /** Calls {@code consumer} with every live id in ascending order. */
+  public void forEachLive(IntConsumer consumer) {
+    for (Segment s : segments)
+      for (int o = 0; o < s.size(); o++) {
+        int id = s.id(o);
+        if (!deleted.contains(id)) consumer.accept(id);
+      }
+  }
+
+  /** All live codes in id order; their ids go to {@code idsOut} (length at least liveCount(), or null). */
+  public CodeBlock liveCodes(int[] idsOut) {
+    if (idsOut != null && idsOut.length < liveCount)
+      throw new IllegalArgumentException("idsOut holds " + idsOut.length + " ids, " + liveCount + " are live");
+    int w = manifest.layout().words();
+    long[] words = new long[Math.multiplyExact(liveCount, w)];
+    int i = 0;
+    for (Segment s : segments)
+      for (int o = 0; o < s.size(); o++) {
+        int id = s.id(o);
+        if (deleted.contains(id)) continue;
+        System.arraycopy(s.codes().words(), o * w, words, i * w, w);
+        if (idsOut != null) idsOut[i] = id;
+        i++;
+      }
+    return new CodeBlock(manifest.layout(), liveCount, words);
+  }
+
+  /**
+   * The {@code k} nearest live codes (restricted to {@code filter} if not null), exact, ties by
+   * ascending id; {@code mask} (nullable) limits the distance to its bits.
+   */
+  public Hits knn(long[] query, int k, RoaringBitmap filter, long[] mask) {
+    if (k <= 0) return Hits.EMPTY;
+    TopK top = new TopK(k);
+    for (Segment s : segments) {
+      Hits h = s.searcher().knn(query, k, accept(s, filter), mask);
+      for (int i = 0; i < h.size(); i++) top.offer(s.id(h.ord(i)), h.dist(i));
+    }
+    return top.toHits();
+  }
+
+  /** Every live code (in {@code filter} if not null) at distance {@code <= radius}, sorted by (distance, id). */
+  public Hits radius(long[] query, int radius, RoaringBitmap filter, long[] mask) {
+    int total = 0;
+    List<Hits> parts = new ArrayList<>(segments.size());
+    for (Segment s : segments) {
+      Hits h = s.searcher().radius(query, radius, accept(s, filter), mask);
+      parts.add(h);
+      total += h.size();
+    }
+    int[] ids = new int[total], dists = new int[total];
+    int j = 0;
+    for (int p = 0; p < parts.size(); p++) {
+      Hits h = parts.get(p);
+      for (int i = 0; i < h.size(); i++, j++) {
+        ids[j] = segments.get(p).id(h.ord(i));
+        dists[j] = h.dist(i);
+      }
+    }
+    return Hits.sorted(ids, dists, total);
+  }
+
+  private IntPredicate accept(Segment s, RoaringBitmap filter) {
+    if (filter == null) {
+      if (deleted.isEmpty()) return null;
+      return ord -> !deleted.contains(s.id(ord));
+    }
+    return ord -> {
+      int id = s.id(ord);
+      return filter.contains(id) && !deleted.contains(id);
+    };
+  }
+
+  public MetaStore meta() {
+    return meta;
+  }
+
+  /** Layout, segments, sizes. */
+  public IndexInfo info() {
+    List<IndexInfo.SegmentInfo> infos = new ArrayList<>();
+    for (int i = 0; i < segments.size(); i++) {
+      Segment s = segments.get(i);
+      Manifest.SegmentEntry e = manifest.segments().get(i);
+      int dead = 0;
+      for (int o = 0; o < s.size(); o++) if (deleted.contains(s.id(o))) dead++;
+      infos.add(new IndexInfo.SegmentInfo(s.segmentId(), e.firstId(), e.endId(), s.size(), dead, s.bytes(),
+          s.searcherDescription(), s.droppedConstantBits()));
+    }
+    return new IndexInfo(manifest.layout(), manifest.generation(), manifest.nextId(), liveCount, infos, folderBytes());
+  }
+
+  private long folderBytes() {
+    try (Stream<Path> files = Files.walk(dir)) {
+      long total = 0;
+      for (Path p : (Iterable<Path>) files::iterator) {
+        try {
+          if (Files.isRegularFile(p)) total += Files.size(p);
+        } catch (IOException ignored) {
+          // deleted meanwhile by a writer
+        }
+      }
+      return total;
+    } catch (IOException e) {
+      throw new UncheckedIOException("cannot list " + dir, e);
+    }
+  }
+
+  @Override
+  public void close() {
+    try {
+      meta.close();
+    } catch (IOException e) {
+      throw new UncheckedIOException("closing " + dir, e);
+    }
+  }
+}

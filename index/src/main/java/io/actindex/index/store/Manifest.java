@@ -1,0 +1,212 @@
+package io.actindex.index.store;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeLayout;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.channels.FileChannel;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.nio.file.StandardCopyOption;
+import java.nio.file.StandardOpenOption;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.TreeMap;
+import java.util.UUID;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
+import java.util.stream.Stream;
+
+/**
+ * One generation of an index folder: the file {@code manifest-N} names everything a reader opens.
+ * A commit writes {@code manifest-N.tmp}, fsyncs it, renames it atomically to {@code manifest-N}
+ * and fsyncs the folder; a {@code .tmp} file is never a generation. Readers open the highest N; a
+ * damaged highest manifest is reported, never skipped.
+ *
+ * <p>Format: a {@link ChecksummedFile} with codec {@value #CODEC}, version 1, whose header carries
+ * the layout hash and the index UUID. Body (big-endian; strings as int byte length + UTF-8;
+ * a FileRef is string name, long length, int CRC32):
+ * <pre>
+ * long    generation N (equals the file name's N)
+ * string  layout, as CodeLayout.toString(); its hash must equal the header's layout hash
+ * int     nextId: ids 0..nextId-1 were handed out (maxId)
+ * int     nextSegmentId
+ * int     segment count S, then S times:
+ *           int segmentId, int count, int firstId, int endId (exclusive id range), FileRef codes, FileRef tables
+ *         (segments in ascending, non-overlapping id ranges, endId &lt;= nextId, count &lt;= endId-firstId)
+ * byte    1 if a tombstones file follows, else 0; then FileRef tombstones
+ * int     property count, then (string key, string value) sorted by key
+ * int     attachment count, then (string name, FileRef file) sorted by name
+ * string  metadata commit: the Lucene segments file (in subfolder meta) this generation uses
+ * </pre>
+ */
+public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId, int nextSegmentId,
+    List<SegmentEntry> segments, FileRef tombstones, Map<String, String> properties,
+    Map<String, FileRef> attachments, String metaCommit) {
+
+  public static final String CODEC = "actindex.manifest";
+  static final int VERSION_START = 1, VERSION_CURRENT = 1;
+  private static final Pattern NAME = Pattern.compile("manifest-(\\d{1,18})");
+
+  /** One segment as the manifest lists it. */
+  public record SegmentEntry(int segmentId, int count, int firstId, int endId, FileRef codes, FileRef tables) {
+    public SegmentEntry {
+      if (count < 0 || firstId < 0 || endId < firstId || count > endId - firstId)
+        throw new IllegalArgumentException("segment " + segmentId + ": bad id range [" + firstId + "," + endId
+            + ") for " + count + " codes");
+    }
+  }
+
+  public Manifest {
+    segments = List.copyOf(segments);
+    properties = java.util.Collections.unmodifiableMap(new TreeMap<>(properties));
+    attachments = java.util.Collections.unmodifiableMap(new TreeMap<>(attachments));
+  }
+
+  /** A copy with the given changes and generation + 1. */
+  Manifest next(int nextId, int nextSegmentId, List<SegmentEntry> segments, FileRef tombstones,
+      Map<String, String> properties, Map<String, FileRef> attachments, String metaCommit) {
+    return new Manifest(generation + 1, uuid, layout, nextId, nextSegmentId, segments, tombstones, properties,
+        attachments, metaCommit);
+  }
+
+  public static String fileName(long generation) {
+    return "manifest-" + generation;
+  }
+
+  /** Every file this generation references (its own manifest excluded). */
+  public List<FileRef> files() {
+    List<FileRef> out = new ArrayList<>();
+    for (SegmentEntry s : segments) {
+      out.add(s.codes());
+      out.add(s.tables());
+    }
+    if (tombstones != null) out.add(tombstones);
+    out.addAll(attachments.values());
+    return out;
+  }
+
+  /** The highest generation whose {@code manifest-N} exists in {@code dir}, or -1. */
+  public static long newestGeneration(Path dir) {
+    long best = -1;
+    try (Stream<Path> files = Files.list(dir)) {
+      for (Path p : (Iterable<Path>) files::iterator) {
+        Matcher m = NAME.matcher(p.getFileName().toString());
+        if (m.matches()) best = Math.max(best, Long.parseLong(m.group(1)));
+      }
+    } catch (java.nio.file.NoSuchFileException e) {
+      throw new BadInputException("index folder " + dir + " does not exist");
+    } catch (IOException e) {
+      throw new UncheckedIOException("cannot list " + dir, e);
+    }
+    return best;
+  }
+
+  /** Reads and checks {@code dir/manifest-N}. */
+  public static Manifest read(Path dir, long generation) {
+    Path file = dir.resolve(fileName(generation));
+    ChecksummedFile.In in = ChecksummedFile.read(file, CODEC, VERSION_START, VERSION_CURRENT, null, null, null);
+    long gen = in.getLong("generation");
+    if (gen != generation) throw in.error("generation field is " + gen + ", the file name says " + generation);
+    String spec = in.string("layout");
+    CodeLayout layout;
+    try {
+      layout = CodeLayout.parse(spec);
+    } catch (IllegalArgumentException e) {
+      throw in.error("layout '" + spec + "' is invalid: " + e.getMessage());
+    }
+    if (layout.hash() != in.header().layoutHash())
+      throw in.error("layout '" + spec + "' does not match the header's layout hash");
+    int nextId = in.getCount("nextId", Integer.MAX_VALUE);
+    int nextSegmentId = in.getCount("nextSegmentId", Integer.MAX_VALUE);
+    int nSegs = in.getCount("segment count", nextId);
+    List<SegmentEntry> segs = new ArrayList<>(nSegs);
+    int prevEnd = 0;
+    for (int i = 0; i < nSegs; i++) {
+      int segId = in.getCount("segment " + i + " id", Integer.MAX_VALUE);
+      int count = in.getInt("segment " + i + " count");
+      int first = in.getInt("segment " + i + " firstId");
+      int end = in.getInt("segment " + i + " endId");
+      if (first < prevEnd || end > nextId || count < 0 || end < first || count > end - first || segId >= nextSegmentId)
+        throw in.error("segment " + i + " (id " + segId + ") has an impossible id range [" + first + "," + end
+            + ") with " + count + " codes");
+      prevEnd = end;
+      segs.add(new SegmentEntry(segId, count, first, end, ref(in, "segment " + i + " codes"),
+          ref(in, "segment " + i + " tables")));
+    }
+    byte hasTomb = in.getByte("tombstones flag");
+    if (hasTomb != 0 && hasTomb != 1) throw in.error("tombstones flag is " + hasTomb);
+    FileRef tomb = hasTomb == 1 ? ref(in, "tombstones") : null;
+    int nProps = in.getCount("property count", 1 << 20);
+    Map<String, String> props = new LinkedHashMap<>();
+    for (int i = 0; i < nProps; i++) props.put(in.string("property " + i + " key"), in.string("property " + i + " value"));
+    int nAtt = in.getCount("attachment count", 1 << 20);
+    Map<String, FileRef> att = new LinkedHashMap<>();
+    for (int i = 0; i < nAtt; i++) att.put(in.string("attachment " + i + " name"), ref(in, "attachment " + i));
+    String metaCommit = in.string("metadata commit");
+    in.end();
+    return new Manifest(gen, in.header().uuid(), layout, nextId, nextSegmentId, segs, tomb, props, att, metaCommit);
+  }
+
+  private static FileRef ref(ChecksummedFile.In in, String field) {
+    String name = in.string(field + " file name");
+    long length = in.getLong(field + " file length");
+    int crc = in.getInt(field + " file crc");
+    try {
+      return new FileRef(name, length, crc);
+    } catch (IllegalArgumentException e) {
+      throw in.error(field + ": " + e.getMessage());
+    }
+  }
+
+  /** Writes this generation durably: temp file, fsync, atomic rename, fsync of the folder. */
+  public void commit(Path dir) throws IOException {
+    Path tmp = dir.resolve(fileName(generation) + ".tmp");
+    try (ChecksummedFile.Out out = ChecksummedFile.create(tmp, CODEC, VERSION_CURRENT, layout.hash(), uuid)) {
+      out.writeLong(generation);
+      out.writeString(layout.toString());
+      out.writeInt(nextId);
+      out.writeInt(nextSegmentId);
+      out.writeInt(segments.size());
+      for (SegmentEntry s : segments) {
+        out.writeInt(s.segmentId());
+        out.writeInt(s.count());
+        out.writeInt(s.firstId());
+        out.writeInt(s.endId());
+        writeRef(out, s.codes());
+        writeRef(out, s.tables());
+      }
+      out.writeByte(tombstones == null ? 0 : 1);
+      if (tombstones != null) writeRef(out, tombstones);
+      out.writeInt(properties.size());
+      for (Map.Entry<String, String> e : properties.entrySet()) {
+        out.writeString(e.getKey());
+        out.writeString(e.getValue());
+      }
+      out.writeInt(attachments.size());
+      for (Map.Entry<String, FileRef> e : attachments.entrySet()) {
+        out.writeString(e.getKey());
+        writeRef(out, e.getValue());
+      }
+      out.writeString(metaCommit);
+      out.finish();
+    }
+    Files.move(tmp, dir.resolve(fileName(generation)), StandardCopyOption.ATOMIC_MOVE);
+    fsyncDir(dir);
+  }
+
+  private static void writeRef(ChecksummedFile.Out out, FileRef r) throws IOException {
+    out.writeString(r.name());
+    out.writeLong(r.length());
+    out.writeInt(r.crc());
+  }
+
+  /** Makes renames and new directory entries in {@code dir} durable. */
+  static void fsyncDir(Path dir) throws IOException {
+    try (FileChannel ch = FileChannel.open(dir, StandardOpenOption.READ)) {
+      ch.force(true);
+    }
+  }
+}

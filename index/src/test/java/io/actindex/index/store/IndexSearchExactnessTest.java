@@ -1,0 +1,152 @@
+package io.actindex.index.store;
+
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+
+import io.actindex.index.BruteForce;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.Hits;
+import io.actindex.index.Randoms;
+import io.actindex.index.SyntheticCodes;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import java.util.function.IntPredicate;
+import org.apache.lucene.index.Term;
+import org.apache.lucene.search.TermQuery;
+import org.junit.jupiter.api.Tag;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Multi-segment search through {@link IndexReader} equals a brute-force scan over every code ever
+ * added (ids = positions), restricted to live ids and the filter: several segments, deletes,
+ * filters, masks, before and after compaction and after reopening.
+ */
+class IndexSearchExactnessTest {
+  @TempDir Path tmp;
+
+  @Test
+  void multiSegmentSearchEqualsBruteForce() {
+    for (int rep = 0; rep < 8; rep++) run(rep, 4);
+  }
+
+  @Test
+  @Tag("slow")
+  void multiSegmentSearchEqualsBruteForceManySeeds() {
+    for (int rep = 100; rep < 140; rep++) run(rep, 6);
+  }
+
+  private void run(int rep, int batches) {
+    long seed = Randoms.seed(rep);
+    String why = Randoms.describe(seed);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    boolean relu = rep % 2 == 1;
+    int[] widths = {64, 100, 128, 256, 1024, 2048};
+    CodeBlock pool = relu
+        ? SyntheticCodes.reluLike(120 * batches, 40 + rnd.nextInt(120), 20 + rnd.nextInt(80), seed).codes()
+        : SyntheticCodes.uniform(120 * batches, widths[rnd.nextInt(widths.length)], seed);
+    Path dir = tmp.resolve("idx-" + rep);
+    CodeBlock all = new CodeBlock(pool.layout(), 0, new long[0]);
+    List<String> labels = new ArrayList<>();
+    RoaringBitmap deleted = new RoaringBitmap();
+    try (IndexWriter w = IndexWriter.create(dir, pool.layout(), Map.of("seed", why))) {
+      int used = 0;
+      for (int b = 0; b < batches; b++) {
+        int n = rnd.nextInt(121);
+        CodeBlock batch = pool.slice(used, used + n);
+        used += n;
+        List<Map<String, String>> rows = new ArrayList<>();
+        for (int i = 0; i < n; i++) {
+          String label = "c" + rnd.nextInt(3);
+          labels.add(label);
+          Map<String, String> row = new HashMap<>();
+          row.put("label", label);
+          rows.add(row);
+        }
+        assertEquals(all.size(), w.add(batch, rows), why);
+        all = all.concat(batch);
+        if (all.size() > 0 && rnd.nextInt(3) == 0) {
+          RoaringBitmap del = new RoaringBitmap();
+          for (int i = 0; i < 1 + rnd.nextInt(20); i++) del.add(rnd.nextInt(all.size()));
+          RoaringBitmap fresh = RoaringBitmap.andNot(del, deleted);
+          assertEquals(fresh.getCardinality(), w.delete(del), why);
+          deleted.or(del);
+        }
+        if (b == batches / 2 || rnd.nextInt(4) == 0) check(dir, all, labels, deleted, rnd, why);
+      }
+      check(dir, all, labels, deleted, rnd, why);
+      w.compact();
+      check(dir, all, labels, deleted, rnd, why);
+      if (all.size() > 0) {
+        RoaringBitmap del = RoaringBitmap.bitmapOf(rnd.nextInt(all.size()));
+        w.delete(del);
+        deleted.or(del);
+      }
+    }
+    check(dir, all, labels, deleted, rnd, why);
+  }
+
+  private static void check(Path dir, CodeBlock all, List<String> labels, RoaringBitmap deleted, SplittableRandom rnd,
+      String why) {
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertEquals(all.size(), r.maxId(), why);
+      assertEquals(all.size() - deleted.getCardinality(), r.liveCount(), why);
+      int[] ids = new int[r.liveCount()];
+      CodeBlock live = r.liveCodes(ids);
+      int j = 0;
+      for (int id = 0; id < all.size(); id++) {
+        if (deleted.contains(id)) continue;
+        assertEquals(id, ids[j], why);
+        assertArrayEquals(all.code(id), live.code(j), why);
+        assertArrayEquals(all.code(id), r.code(id), why);
+        j++;
+      }
+      int bits = all.layout().bits();
+      for (int q = 0; q < 6; q++) {
+        long[] query = all.size() > 0 && rnd.nextBoolean()
+            ? flip(all.code(rnd.nextInt(all.size())), rnd, bits)
+            : SyntheticCodes.uniform(1, bits, rnd.nextLong()).code(0);
+        RoaringBitmap filter = null;
+        String label = "c" + rnd.nextInt(3);
+        if (q % 3 == 1) {
+          filter = r.meta().select(new TermQuery(new Term("label", label)));
+          RoaringBitmap expected = new RoaringBitmap();
+          for (int id = 0; id < all.size(); id++) if (labels.get(id).equals(label) && !deleted.contains(id)) expected.add(id);
+          assertEquals(expected, filter, why);
+        } else if (q % 3 == 2) {
+          filter = new RoaringBitmap();
+          for (int id = 0; id < all.size(); id++) if (rnd.nextInt(3) == 0) filter.add(id);
+        }
+        long[] mask = q == 5 && all.layout().segments().size() > 1 ? all.layout().mask(1) : null;
+        RoaringBitmap f = filter;
+        IntPredicate accept = id -> !deleted.contains(id) && (f == null || f.contains(id));
+        for (int k : new int[] {1, 10, 100}) {
+          Hits expected = BruteForce.knn(all, query, k, accept, mask);
+          assertEquals(expected, r.knn(query, k, filter, mask), why + " k=" + k);
+        }
+        int radius = rnd.nextInt(bits + 2);
+        if (rnd.nextBoolean() && all.size() > 0) radius = BruteForce.knn(all, query, 1 + rnd.nextInt(20), accept, mask).size() > 0
+            ? lastDist(BruteForce.knn(all, query, 1 + rnd.nextInt(20), accept, mask)) : 0;
+        assertEquals(BruteForce.radius(all, query, radius, accept, mask), r.radius(query, radius, filter, mask),
+            why + " r=" + radius);
+      }
+    }
+  }
+
+  private static int lastDist(Hits h) {
+    return h.dist(h.size() - 1);
+  }
+
+  private static long[] flip(long[] code, SplittableRandom rnd, int bits) {
+    for (int i = rnd.nextInt(6); i > 0; i--) {
+      int b = rnd.nextInt(bits);
+      code[b >>> 6] ^= 1L << (b & 63);
+    }
+    return code;
+  }
+}
