@@ -232,7 +232,7 @@ class NearestEndToEndTest {
     Cli.Result table = Cli.run("nearest", "--index", idx.toString(), "--codes", q, "-k", "4");
     assertThat(table.code()).as(table.describe()).isZero();
     assertThat(table.out()).contains("query row 0  vote: ").contains("agreement")
-        .contains("rank  distance  h1  h2  key").contains("label  split  line  rpm");
+        .containsPattern("rank +distance +h1 +h2 +key +label +split +line +rpm");
     // the vote line: count the labels of the expected neighbours of query 0
     List<Hit> exp0 = Reference.knn(ex, d.queries()[0], 4, m -> true, LAYERS);
     Map<String, Integer> votes = new java.util.HashMap<>();

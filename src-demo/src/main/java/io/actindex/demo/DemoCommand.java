@@ -52,7 +52,7 @@ public final class DemoCommand implements ExtraCommand {
   /** Marks a folder as the demo's, so a rerun may replace what it made. */
   static final String MARKER = "ABOUT-THIS-DEMO.txt";
 
-  static final int HIDDEN1 = 24, HIDDEN2 = 12;
+  static final int HIDDEN1 = 8, HIDDEN2 = 6;
 
   @Override
   public Integer call() throws IOException {
@@ -85,6 +85,14 @@ public final class DemoCommand implements ExtraCommand {
         "build", "--out", index.toString(), "--model", model.toString(), "--inputs", historyNpy.toString(), "--meta", historyCsv.toString());
     if (code == 0) code = run(o, "Which past windows does the network treat like the new ones? (the last one is a loose sensor)",
         "nearest", "--index", index.toString(), "--inputs", incomingNpy.toString(), "-k", "5");
+    if (code == 0) {
+      List<String> truth = new ArrayList<>();
+      for (int i = 0; i < incoming.size(); i++) truth.add("row " + i + " " + incoming.get(i).label());
+      o.println();
+      o.println("(The demo knows the new windows' real states, which the index never saw: " + String.join(", ", truth) + ".");
+      o.println(" A vote is given even for the loose sensor: compare its nearest distance with the others'. A vote is not");
+      o.println(" an out-of-distribution check.)");
+    }
     if (code == 0) code = run(o, "The same, only among training windows from line L2:",
         "nearest", "--index", index.toString(), "--inputs", incomingNpy.toString(), "--rows", "0:2", "-k", "3",
         "--where", "split = train and line = L2");
