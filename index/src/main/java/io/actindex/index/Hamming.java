@@ -22,14 +22,28 @@ public final class Hamming {
 
   /**
    * Hamming distance if it is at most {@code bound}; otherwise some value greater than {@code
-   * bound} (the kernel stops early once the partial sum exceeds the bound).
+   * bound}. Codes of 1, 2 or 4 words are counted in full (cheaper than branching); longer ones stop
+   * early, checking the bound every 4 words.
    */
   public static int distanceBounded(long[] a, int aOff, long[] b, int bOff, int words, int bound) {
-    int d = 0;
-    for (int i = 0; i < words; i++) {
-      d += Long.bitCount(a[aOff + i] ^ b[bOff + i]);
+    switch (words) {
+      case 1:
+        return Long.bitCount(a[aOff] ^ b[bOff]);
+      case 2:
+        return Long.bitCount(a[aOff] ^ b[bOff]) + Long.bitCount(a[aOff + 1] ^ b[bOff + 1]);
+      case 4:
+        return Long.bitCount(a[aOff] ^ b[bOff]) + Long.bitCount(a[aOff + 1] ^ b[bOff + 1])
+            + Long.bitCount(a[aOff + 2] ^ b[bOff + 2]) + Long.bitCount(a[aOff + 3] ^ b[bOff + 3]);
+      default:
+        break;
+    }
+    int d = 0, i = 0;
+    for (; i + 4 <= words; i += 4) {
+      d += Long.bitCount(a[aOff + i] ^ b[bOff + i]) + Long.bitCount(a[aOff + i + 1] ^ b[bOff + i + 1])
+          + Long.bitCount(a[aOff + i + 2] ^ b[bOff + i + 2]) + Long.bitCount(a[aOff + i + 3] ^ b[bOff + i + 3]);
       if (d > bound) return d;
     }
+    for (; i < words; i++) d += Long.bitCount(a[aOff + i] ^ b[bOff + i]);
     return d;
   }
 

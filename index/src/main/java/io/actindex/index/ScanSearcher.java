@@ -25,25 +25,36 @@ public final class ScanSearcher implements CodeSearcher {
 
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask) {
-    checkQuery(query, mask);
-    if (k <= 0) return Hits.EMPTY;
-    TopK top = new TopK(k);
+    return knn(query, k, accept, mask, Integer.MAX_VALUE);
+  }
+
+  /**
+   * Expert: like {@link #knn(long[], int, IntPredicate, long[])} but only codes at distance {@code
+   * <= maxDist} can enter, for callers that already know an upper bound of the k-th distance.
+   */
+  public Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
+    query = checkQuery(query, mask);
+    if (k <= 0 || codes.size() == 0) return Hits.EMPTY;
+    TopK top = new TopK(Math.min(k, codes.size()));
     long[] data = codes.words();
     int w = codes.wordsPerCode(), n = codes.size();
-    for (int i = 0; i < n; i++) {
+    int bound = maxDist;
+    for (int i = 0, off = 0; i < n; i++, off += w) {
       if (accept != null && !accept.test(i)) continue;
-      int bound = top.bound();
       int d = mask == null
-          ? Hamming.distanceBounded(query, 0, data, i * w, w, bound)
-          : Hamming.maskedDistance(query, 0, data, i * w, mask, w);
-      if (d <= bound) top.offer(i, d);
+          ? Hamming.distanceBounded(query, 0, data, off, w, bound)
+          : Hamming.maskedDistance(query, 0, data, off, mask, w);
+      if (d <= bound) {
+        top.offer(i, d);
+        bound = Math.min(maxDist, top.bound());
+      }
     }
     return top.toHits();
   }
 
   @Override
   public Hits radius(long[] query, int radius, IntPredicate accept, long[] mask) {
-    checkQuery(query, mask);
+    query = checkQuery(query, mask);
     long[] data = codes.words();
     int w = codes.wordsPerCode(), n = codes.size();
     int[] ords = new int[16], dists = new int[16];
@@ -65,11 +76,24 @@ public final class ScanSearcher implements CodeSearcher {
     return Hits.sorted(ords, dists, size);
   }
 
-  private void checkQuery(long[] query, long[] mask) {
-    int w = codes.wordsPerCode();
+  /**
+   * Checks the shapes and returns the query with any bits beyond the layout's width cleared (they
+   * take no part in a distance, as in a bit-by-bit comparison).
+   */
+  public static long[] checkQuery(CodeLayout layout, long[] query, long[] mask) {
+    int w = layout.words();
     if (query.length != w)
       throw new IllegalArgumentException("query has " + query.length + " words, the codes have " + w);
     if (mask != null && mask.length != w)
       throw new IllegalArgumentException("mask has " + mask.length + " words, the codes have " + w);
+    long ghost = CodeBlock.ghostMask(layout);
+    if ((query[w - 1] & ghost) == 0) return query;
+    long[] clean = query.clone();
+    clean[w - 1] &= ~ghost;
+    return clean;
+  }
+
+  private long[] checkQuery(long[] query, long[] mask) {
+    return checkQuery(codes.layout(), query, mask);
   }
 }

@@ -1,0 +1,117 @@
+package io.actindex.encode;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import java.io.IOException;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+
+/** Binarizes the layers of a {@link LayerSource} chunk by chunk into codes, one segment per layer. */
+final class ActivationCodeStream implements CodeStream {
+  /** Values per internal chunk (all layers together). */
+  static final int CHUNK_VALUES = 1 << 20;
+
+  private final LayerSource src;
+  private final EncodeOptions options;
+  private final CodeLayout layout;
+  private final Binarizer[] binarizers;
+  private final NeuronStats stats;
+  private final int[] widths;
+  private final int chunkRows;
+  private final float[][] f;
+  private final double[][] d;
+
+  ActivationCodeStream(LayerSource.Opener opener, EncodeOptions o) throws IOException {
+    if (o.rule() == BinarizeRule.MEDIAN && o.medians() == null) {
+      try (LayerSource first = opener.open()) {
+        o = o.withMedians(Medians.compute(first));
+      }
+    }
+    this.options = o;
+    this.src = opener.open();
+    try {
+      List<String> names = src.names();
+      this.widths = src.widths();
+      List<CodeLayout.Segment> segs = new ArrayList<>();
+      for (int i = 0; i < names.size(); i++) {
+        try {
+          segs.add(new CodeLayout.Segment(names.get(i), widths[i]));
+        } catch (IllegalArgumentException e) {
+          throw new BadInputException(src.source() + ": layer '" + names.get(i) + "' cannot name a code segment: " + e.getMessage());
+        }
+      }
+      this.layout = new CodeLayout(segs);
+      this.binarizers = new Binarizer[names.size()];
+      for (int i = 0; i < names.size(); i++) binarizers[i] = new Binarizer(layout.start(i), widths[i], thresholds(o, names.get(i), widths[i]));
+      this.stats = new NeuronStats(layout);
+      this.chunkRows = Math.max(1, CHUNK_VALUES / layout.bits());
+      this.f = new float[names.size()][];
+      this.d = new double[names.size()][];
+      for (int i = 0; i < names.size(); i++) {
+        if (src.floats(i)) f[i] = new float[chunkRows * widths[i]];
+        else d[i] = new double[chunkRows * widths[i]];
+      }
+    } catch (RuntimeException e) {
+      src.close();
+      throw e;
+    }
+  }
+
+  private double[] thresholds(EncodeOptions o, String layer, int width) {
+    return switch (o.rule()) {
+      case POSITIVE -> new double[] {0};
+      case THRESHOLD -> new double[] {o.threshold()};
+      case MEDIAN -> {
+        Map<String, double[]> m = o.medians();
+        double[] med = m.get(layer);
+        if (med == null) throw new BadInputException(src.source() + ": no per-neuron medians for layer '" + layer + "' (medians given for " + m.keySet() + ")");
+        if (med.length != width)
+          throw new BadInputException(src.source() + ": layer '" + layer + "' has " + width + " neurons but its medians have " + med.length + " values");
+        yield med;
+      }
+    };
+  }
+
+  @Override
+  public CodeLayout layout() {
+    return layout;
+  }
+
+  @Override
+  public long rows() {
+    return src.rows();
+  }
+
+  @Override
+  public CodeBlock next(int maxRows) throws IOException {
+    if (maxRows <= 0) throw new IllegalArgumentException("maxRows must be positive, got " + maxRows);
+    int m = src.read(Math.min(maxRows, chunkRows), f, d);
+    if (m == 0) return null;
+    int words = layout.words();
+    long[] out = new long[m * words];
+    for (int i = 0; i < binarizers.length; i++) {
+      if (src.floats(i)) binarizers[i].apply(f[i], m, out, words);
+      else binarizers[i].apply(d[i], m, out, words);
+    }
+    CodeBlock block = new CodeBlock(layout, m, out);
+    stats.add(block);
+    return block;
+  }
+
+  @Override
+  public NeuronStats stats() {
+    return stats;
+  }
+
+  @Override
+  public EncodeOptions options() {
+    return options;
+  }
+
+  @Override
+  public void close() throws IOException {
+    src.close();
+  }
+}

@@ -1,0 +1,167 @@
+package io.actindex.encode;
+
+import io.actindex.encode.io.NpyDtype;
+import io.actindex.encode.io.NpyReader;
+import io.actindex.encode.io.NpyWriter;
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import java.io.IOException;
+import java.nio.file.Path;
+
+/**
+ * Pre-binarized codes as {@code .npy} files, both directions. Two forms:
+ *
+ * <ul>
+ *   <li>unpacked: shape {@code (n, bits)}, dtype bool or uint8 holding 0/1; bit {@code b} of a code
+ *       is column {@code b};
+ *   <li>packed: shape {@code (n, ceil(bits/8))}, dtype uint8, NumPy {@code packbits} order (the
+ *       default {@code bitorder='big'}): bit {@code b} of a code is bit {@code 7 - (b % 8)} (most
+ *       significant first) of byte {@code b / 8}; padding bits of the last byte are zero.
+ * </ul>
+ *
+ * A uint8 file is read as packed when a layout is given and the column count is {@code
+ * ceil(bits/8) != bits}; otherwise as unpacked.
+ */
+public final class CodeFiles {
+  private CodeFiles() {}
+
+  /** Opens a codes file; {@code layout} null = one segment {@code "code"} of the file's width (unpacked only). */
+  public static CodeStream read(Path file, CodeLayout layout) throws IOException {
+    NpyReader r = NpyReader.open(file);
+    try {
+      NpyDtype t = r.header().dtype();
+      if (t != NpyDtype.BOOL && t != NpyDtype.UINT8)
+        throw new BadInputException(file + ": field 'descr': codes must be bool or uint8, not " + t.descr(r.header().order()));
+      boolean packed = false;
+      if (layout == null) {
+        layout = CodeLayout.single("code", r.cols());
+      } else if (r.cols() != layout.bits()) {
+        if (t == NpyDtype.UINT8 && r.cols() == (layout.bits() + 7) / 8) packed = true;
+        else
+          throw new BadInputException(file + ": field 'shape' " + r.header().shapeString() + " does not match the layout " + layout + " ("
+              + layout.bits() + " bits: " + layout.bits() + " columns of 0/1, or " + (layout.bits() + 7) / 8 + " packed bytes)");
+      }
+      return new Stream(r, layout, packed);
+    } catch (RuntimeException e) {
+      r.close();
+      throw e;
+    }
+  }
+
+  private static final class Stream implements CodeStream {
+    private final NpyReader r;
+    private final CodeLayout layout;
+    private final boolean packed;
+    private final NeuronStats stats;
+    private float[] buf = new float[0];
+
+    Stream(NpyReader r, CodeLayout layout, boolean packed) {
+      this.r = r;
+      this.layout = layout;
+      this.packed = packed;
+      this.stats = new NeuronStats(layout);
+    }
+
+    @Override
+    public CodeLayout layout() {
+      return layout;
+    }
+
+    @Override
+    public long rows() {
+      return r.rows();
+    }
+
+    @Override
+    public CodeBlock next(int maxRows) throws IOException {
+      int cols = r.cols(), bits = layout.bits(), words = layout.words();
+      int m = (int) Math.min(maxRows, Math.max(1, (1 << 20) / cols));
+      if (buf.length < m * cols) buf = new float[m * cols];
+      long first = r.position();
+      m = r.read(buf, m);
+      if (m == 0) return null;
+      long[] out = new long[m * words];
+      for (int i = 0; i < m; i++) {
+        int base = i * cols;
+        for (int c = 0; c < cols; c++) {
+          int v = (int) buf[base + c];
+          if (packed) {
+            for (int k = 0; k < 8; k++) {
+              if ((v >>> (7 - k) & 1) == 0) continue;
+              int b = c * 8 + k;
+              if (b >= bits)
+                throw new BadInputException(r.source() + ": row " + (first + i) + ", column " + c + ": padding bit " + k
+                    + " (code bit " + b + ") is set but the layout has " + bits + " bits");
+              out[i * words + (b >>> 6)] |= 1L << (b & 63);
+            }
+          } else {
+            if (v != 0 && v != 1)
+              throw new BadInputException(r.source() + ": row " + (first + i) + ", column " + c + ": value " + v
+                  + " is not 0 or 1 (packed bytes need the code layout)");
+            if (v == 1) out[i * words + (c >>> 6)] |= 1L << (c & 63);
+          }
+        }
+      }
+      CodeBlock b = new CodeBlock(layout, m, out);
+      stats.add(b);
+      return b;
+    }
+
+    @Override
+    public NeuronStats stats() {
+      return stats;
+    }
+
+    @Override
+    public void close() throws IOException {
+      r.close();
+    }
+  }
+
+  /** Packs codes {@code [0, n)} into NumPy packbits bytes, {@code ceil(bits/8)} per row. */
+  public static byte[] pack(CodeBlock codes) {
+    int bits = codes.layout().bits(), bytes = (bits + 7) / 8, words = codes.wordsPerCode();
+    long[] w = codes.words();
+    byte[] out = new byte[codes.size() * bytes];
+    for (int i = 0; i < codes.size(); i++)
+      for (int b = 0; b < bits; b++)
+        if ((w[i * words + (b >>> 6)] >>> (b & 63) & 1) != 0) out[i * bytes + (b >>> 3)] |= (byte) (0x80 >>> (b & 7));
+    return out;
+  }
+
+  /** Unpacks codes into one 0/1 byte per bit, {@code bits} per row. */
+  public static byte[] unpack(CodeBlock codes) {
+    int bits = codes.layout().bits();
+    byte[] out = new byte[codes.size() * bits];
+    for (int i = 0; i < codes.size(); i++)
+      for (int b = 0; b < bits; b++) out[i * bits + b] = (byte) (codes.bit(i, b) ? 1 : 0);
+    return out;
+  }
+
+  /** How codes are written. */
+  public enum Form {
+    /** uint8, packbits order. */
+    PACKED,
+    /** bool, one per bit. */
+    BOOL,
+    /** uint8 0/1, one per bit. */
+    UINT8
+  }
+
+  /**
+   * Writes every remaining code of {@code codes} to {@code file} in {@code form}; atomic (nothing
+   * is left behind on failure). Returns the rows written.
+   */
+  public static long write(Path file, CodeStream codes, Form form) throws IOException {
+    int bits = codes.layout().bits();
+    try (NpyWriter w = form == Form.PACKED
+        ? NpyWriter.create(file, NpyDtype.UINT8, (bits + 7) / 8)
+        : NpyWriter.create(file, form == Form.BOOL ? NpyDtype.BOOL : NpyDtype.UINT8, bits)) {
+      CodeBlock b;
+      while ((b = codes.next(8192)) != null) w.writeBytes(form == Form.PACKED ? pack(b) : unpack(b), b.size());
+      w.commit();
+      return w.rows();
+    }
+  }
+}

@@ -1,0 +1,33 @@
+package io.actindex.encode;
+
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import java.io.IOException;
+
+/**
+ * A stream of code chunks; rows are examples, in input order. Not thread-safe. Closing releases
+ * the input files.
+ */
+public interface CodeStream extends AutoCloseable {
+  CodeLayout layout();
+
+  /** Total rows, or -1 if unknown (CSV). */
+  long rows();
+
+  /** The next chunk of at most {@code maxRows} (at least one) codes, or null at the end. */
+  CodeBlock next(int maxRows) throws IOException;
+
+  /** Firing counts per neuron over the rows returned so far; dead and always-on neurons. */
+  NeuronStats stats();
+
+  /**
+   * The options in force, with medians filled in once computed ({@link BinarizeRule#MEDIAN}); pass
+   * them to {@link Encoders#describe} to store in the index. Null for pre-binarized codes.
+   */
+  default EncodeOptions options() {
+    return null;
+  }
+
+  @Override
+  void close() throws IOException;
+}

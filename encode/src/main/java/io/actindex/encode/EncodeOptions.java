@@ -1,0 +1,47 @@
+package io.actindex.encode;
+
+import java.util.Collections;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+
+/**
+ * How to turn activations into codes.
+ *
+ * @param rule the binarization rule
+ * @param threshold {@code t} for {@link BinarizeRule#THRESHOLD} (ignored otherwise)
+ * @param layers which layers to encode, in order; null = all. For an {@code .npz} file the member
+ *     names; for a model the hidden layer names (kept in model order); for a single {@code .npy}
+ *     or CSV file one name, the segment name (default {@code "act"})
+ * @param medians per-layer, per-neuron medians for {@link BinarizeRule#MEDIAN}; null = compute
+ *     them from the data on a first pass (build). Queries pass the build's medians (see {@link
+ *     Encoders#fromProperties}) so they are encoded the same way
+ */
+public record EncodeOptions(BinarizeRule rule, double threshold, List<String> layers, Map<String, double[]> medians) {
+
+  public EncodeOptions {
+    if (rule == null) throw new IllegalArgumentException("binarization rule is null");
+    if (!Double.isFinite(threshold)) throw new IllegalArgumentException("threshold must be finite, got " + threshold);
+    layers = layers == null ? null : List.copyOf(layers);
+    medians = medians == null ? null : Collections.unmodifiableMap(new LinkedHashMap<>(medians));
+  }
+
+  public EncodeOptions(BinarizeRule rule, double threshold, List<String> layers) {
+    this(rule, threshold, layers, null);
+  }
+
+  /** {@code v > 0} on every layer: the default for ReLU activations. */
+  public static EncodeOptions positive() {
+    return new EncodeOptions(BinarizeRule.POSITIVE, 0, null);
+  }
+
+  /** These options with the given medians. */
+  public EncodeOptions withMedians(Map<String, double[]> m) {
+    return new EncodeOptions(rule, threshold, layers, m);
+  }
+
+  /** These options restricted to the given layers. */
+  public EncodeOptions withLayers(List<String> l) {
+    return new EncodeOptions(rule, threshold, l, medians);
+  }
+}

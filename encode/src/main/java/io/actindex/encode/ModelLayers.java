@@ -1,0 +1,78 @@
+package io.actindex.encode;
+
+import io.actindex.encode.io.MatrixReader;
+import io.actindex.encode.mlp.Mlp;
+import io.actindex.index.BadInputException;
+import java.io.IOException;
+import java.util.Arrays;
+import java.util.List;
+import org.ejml.data.DMatrixRMaj;
+
+/** The hidden-layer activations of an {@link Mlp} run on the rows of an input matrix. */
+final class ModelLayers implements LayerSource {
+  private final Mlp mlp;
+  private final MatrixReader in;
+  private final List<String> names;
+  private final int[] layerIndex;
+  private double[] buf = new double[0];
+
+  ModelLayers(Mlp mlp, String modelName, MatrixReader in, List<String> selected) {
+    this.mlp = mlp;
+    this.in = in;
+    List<String> hidden = mlp.hiddenNames();
+    if (hidden.isEmpty()) throw new BadInputException(modelName + ": the model has one layer and no hidden layer to encode");
+    if (in.cols() != mlp.inputs())
+      throw new BadInputException(in.source() + ": rows have " + in.cols() + " values but the model " + modelName + " (layer '"
+          + mlp.layers().getFirst().name() + "', weight shape [" + mlp.layers().getFirst().out() + ", " + mlp.inputs() + "]) takes " + mlp.inputs());
+    if (selected == null) {
+      names = hidden;
+    } else {
+      for (String s : selected)
+        if (!hidden.contains(s)) throw new BadInputException(modelName + ": no hidden layer named '" + s + "' (hidden layers: " + hidden + ")");
+      names = hidden.stream().filter(selected::contains).toList();
+    }
+    layerIndex = names.stream().mapToInt(hidden::indexOf).toArray();
+  }
+
+  @Override
+  public String source() {
+    return in.source();
+  }
+
+  @Override
+  public List<String> names() {
+    return names;
+  }
+
+  @Override
+  public int[] widths() {
+    return Arrays.stream(layerIndex).map(i -> mlp.layers().get(i).out()).toArray();
+  }
+
+  @Override
+  public long rows() {
+    return in.rows();
+  }
+
+  @Override
+  public boolean floats(int layer) {
+    return false;
+  }
+
+  @Override
+  public int read(int m, float[][] f, double[][] d) throws IOException {
+    if (buf.length < m * in.cols()) buf = new double[m * in.cols()];
+    int n = in.read(buf, m);
+    if (n == 0) return 0;
+    DMatrixRMaj x = new DMatrixRMaj(n, in.cols());
+    System.arraycopy(buf, 0, x.data, 0, n * in.cols());
+    DMatrixRMaj[] out = mlp.forward(x);
+    for (int i = 0; i < layerIndex.length; i++) d[i] = out[layerIndex[i]].data;
+    return n;
+  }
+
+  @Override
+  public void close() throws IOException {
+    in.close();
+  }
+}

@@ -1,0 +1,237 @@
+package io.actindex.encode.io;
+
+import io.actindex.index.BadInputException;
+import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
+import java.nio.charset.StandardCharsets;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+
+/**
+ * The header of a NumPy {@code .npy} file, as the NumPy format specification
+ * ({@code numpy.lib.format}) defines it: the magic {@code \x93NUMPY}, a major and minor version
+ * byte, the header length (2 bytes little-endian in version 1.0, 4 bytes in 2.0 and 3.0), then a
+ * Python dict literal with {@code descr}, {@code fortran_order} and {@code shape}, padded with
+ * spaces and ending in a newline. Version 3.0 only changes the header text encoding to UTF-8.
+ *
+ * @param dataOffset byte offset of the first element
+ */
+public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, boolean fortranOrder, long[] shape, long dataOffset) {
+
+  static final byte[] MAGIC = {(byte) 0x93, 'N', 'U', 'M', 'P', 'Y'};
+
+  /** Rows: the first dimension. */
+  public long rows() {
+    return shape[0];
+  }
+
+  /** Values per row: the product of the other dimensions (1 for a 1-D array). */
+  public long cols() {
+    long c = 1;
+    for (int i = 1; i < shape.length; i++) c = Math.multiplyExact(c, shape[i]);
+    return c;
+  }
+
+  /** Bytes of element data the shape needs. */
+  public long dataBytes() {
+    return Math.multiplyExact(Math.multiplyExact(rows(), cols()), dtype.size);
+  }
+
+  public String shapeString() {
+    StringBuilder sb = new StringBuilder("(");
+    for (int i = 0; i < shape.length; i++) sb.append(i == 0 ? "" : ", ").append(shape[i]);
+    return sb.append(shape.length == 1 ? ",)" : ")").toString();
+  }
+
+  /**
+   * Checks magic and version in the first {@code len} bytes and returns the offset of the first
+   * data byte (the end of the header).
+   */
+  static long headerEnd(byte[] head, int len, String file) {
+    if (len < 10) throw new BadInputException(file + ": not a NumPy .npy file (only " + len + " bytes)");
+    for (int i = 0; i < MAGIC.length; i++)
+      if (head[i] != MAGIC[i]) throw new BadInputException(file + ": not a NumPy .npy file (wrong magic bytes at the start)");
+    int major = head[6] & 0xff, minor = head[7] & 0xff;
+    if (major < 1 || major > 3 || minor != 0)
+      throw new BadInputException(file + ": unsupported .npy format version " + major + "." + minor + " (supported: 1.0, 2.0, 3.0)");
+    ByteBuffer bb = ByteBuffer.wrap(head, 0, len).order(ByteOrder.LITTLE_ENDIAN);
+    long hlen;
+    if (major == 1) return 10 + (bb.getShort(8) & 0xffff);
+    if (len < 12) throw new BadInputException(file + ": truncated .npy header");
+    hlen = bb.getInt(8) & 0xffffffffL;
+    if (hlen > 1 << 20) throw new BadInputException(file + ": .npy header length " + hlen + " is implausible (over 1 MiB)");
+    return 12 + hlen;
+  }
+
+  /** How many bytes {@link #parse} needs first to learn the full header length. */
+  static final int PREAMBLE = 12;
+
+  /**
+   * Parses a header. {@code head} holds the file's first bytes (at least the whole header if
+   * available); {@code file} names the file in error messages.
+   */
+  static NpyHeader parse(byte[] head, int len, String file) {
+    long end = headerEnd(head, len, file);
+    if (end > len) throw new BadInputException(file + ": truncated .npy header (needs " + end + " bytes, the file has " + len + ")");
+    int major = head[6] & 0xff, minor = head[7] & 0xff;
+    int start = major == 1 ? 10 : 12;
+    int hlen = (int) (end - start);
+    String text = new String(head, start, (int) hlen, major == 3 ? StandardCharsets.UTF_8 : StandardCharsets.ISO_8859_1);
+    Map<String, Object> dict;
+    try {
+      Object v = new Literal(text).parseTop();
+      if (!(v instanceof Map<?, ?> m)) throw new IllegalArgumentException("not a dict");
+      @SuppressWarnings("unchecked")
+      Map<String, Object> cast = (Map<String, Object>) m;
+      dict = cast;
+    } catch (IllegalArgumentException e) {
+      throw new BadInputException(file + ": malformed .npy header: " + e.getMessage());
+    }
+    Object descr = dict.get("descr");
+    if (!(descr instanceof String d))
+      throw new BadInputException(file + ": field 'descr': unsupported dtype " + describe(descr) + " (structured arrays are not supported)");
+    if (d.length() < 2) throw new BadInputException(file + ": field 'descr': unsupported dtype '" + d + "'");
+    NpyDtype dtype = NpyDtype.ofCode(d.substring(1));
+    char bo = d.charAt(0);
+    if (dtype == null || "<>|=".indexOf(bo) < 0)
+      throw new BadInputException(file + ": field 'descr': unsupported dtype '" + d
+          + "' (supported: float16/32/64, int8/16/32/64, uint8/16/32/64, bool)");
+    ByteOrder order = bo == '>' ? ByteOrder.BIG_ENDIAN : bo == '=' ? ByteOrder.nativeOrder() : ByteOrder.LITTLE_ENDIAN;
+    Object fo = dict.get("fortran_order");
+    if (!(fo instanceof Boolean fortran)) throw new BadInputException(file + ": field 'fortran_order' is missing or not True/False");
+    Object sh = dict.get("shape");
+    if (!(sh instanceof List<?> dims)) throw new BadInputException(file + ": field 'shape' is missing or not a tuple");
+    if (dims.isEmpty()) throw new BadInputException(file + ": field 'shape': a 0-dimensional array has no rows");
+    long[] shape = new long[dims.size()];
+    for (int i = 0; i < shape.length; i++) {
+      if (!(dims.get(i) instanceof Long l) || l < 0)
+        throw new BadInputException(file + ": field 'shape': dimension " + i + " is not a non-negative integer");
+      shape[i] = l;
+    }
+    NpyHeader h = new NpyHeader(major, minor, dtype, order, fortran, shape, start + hlen);
+    try {
+      h.dataBytes();
+    } catch (ArithmeticException e) {
+      throw new BadInputException(file + ": field 'shape' " + h.shapeString() + " overflows");
+    }
+    return h;
+  }
+
+  private static String describe(Object o) {
+    return o == null ? "(missing)" : o.toString();
+  }
+
+  /**
+   * Builds a version 1.0 header (2.0 when longer than 65535 bytes), padded with spaces to a
+   * multiple of 64 bytes, or to exactly {@code total} bytes when {@code total > 0}.
+   */
+  static byte[] write(NpyDtype dtype, ByteOrder order, boolean fortran, long[] shape, int total) {
+    StringBuilder sb = new StringBuilder("{'descr': '").append(dtype.descr(order)).append("', 'fortran_order': ")
+        .append(fortran ? "True" : "False").append(", 'shape': (");
+    for (int i = 0; i < shape.length; i++) sb.append(i == 0 ? "" : ", ").append(shape[i]);
+    sb.append(shape.length == 1 ? ",), }" : "), }");
+    boolean v2 = sb.length() + 11 > 65535;
+    int pre = v2 ? 12 : 10;
+    if (total <= 0) total = (pre + sb.length() + 1 + 63) / 64 * 64;
+    if (pre + sb.length() + 1 > total) throw new IllegalStateException("npy header does not fit in " + total + " bytes");
+    while (sb.length() < total - pre - 1) sb.append(' ');
+    sb.append('\n');
+    ByteBuffer bb = ByteBuffer.allocate(total).order(ByteOrder.LITTLE_ENDIAN);
+    bb.put(MAGIC).put((byte) (v2 ? 2 : 1)).put((byte) 0);
+    if (v2) bb.putInt(total - pre);
+    else bb.putShort((short) (total - pre));
+    bb.put(sb.toString().getBytes(StandardCharsets.ISO_8859_1));
+    return bb.array();
+  }
+
+  /** A parser for the Python literal subset NumPy writes: dicts, tuples, lists, strings, ints, True/False/None. */
+  private static final class Literal {
+    private final String s;
+    private int pos;
+
+    Literal(String s) {
+      this.s = s;
+    }
+
+    Object parseTop() {
+      Object v = value();
+      ws();
+      if (pos < s.length()) throw new IllegalArgumentException("unexpected text at character " + pos);
+      return v;
+    }
+
+    private Object value() {
+      ws();
+      if (pos >= s.length()) throw new IllegalArgumentException("unexpected end");
+      char c = s.charAt(pos);
+      if (c == '{') {
+        pos++;
+        Map<String, Object> m = new LinkedHashMap<>();
+        while (true) {
+          ws();
+          if (peek() == '}') {
+            pos++;
+            return m;
+          }
+          Object k = value();
+          if (!(k instanceof String key)) throw new IllegalArgumentException("dict key is not a string at character " + pos);
+          ws();
+          if (peek() != ':') throw new IllegalArgumentException("expected ':' at character " + pos);
+          pos++;
+          m.put(key, value());
+          ws();
+          if (peek() == ',') pos++;
+          else if (peek() != '}') throw new IllegalArgumentException("expected ',' or '}' at character " + pos);
+        }
+      }
+      if (c == '(' || c == '[') {
+        char close = c == '(' ? ')' : ']';
+        pos++;
+        List<Object> l = new ArrayList<>();
+        while (true) {
+          ws();
+          if (peek() == close) {
+            pos++;
+            return l;
+          }
+          l.add(value());
+          ws();
+          if (peek() == ',') pos++;
+          else if (peek() != close) throw new IllegalArgumentException("expected ',' or '" + close + "' at character " + pos);
+        }
+      }
+      if (c == '\'' || c == '"') {
+        int end = s.indexOf(c, pos + 1);
+        if (end < 0) throw new IllegalArgumentException("unterminated string at character " + pos);
+        String v = s.substring(pos + 1, end);
+        pos = end + 1;
+        return v;
+      }
+      int start = pos;
+      while (pos < s.length() && (Character.isLetterOrDigit(s.charAt(pos)) || s.charAt(pos) == '-' || s.charAt(pos) == '_')) pos++;
+      String tok = s.substring(start, pos);
+      switch (tok) {
+        case "True": return Boolean.TRUE;
+        case "False": return Boolean.FALSE;
+        case "None": return null;
+        default:
+          String digits = tok.endsWith("L") ? tok.substring(0, tok.length() - 1) : tok;
+          try {
+            return Long.parseLong(digits);
+          } catch (NumberFormatException e) {
+            throw new IllegalArgumentException("unexpected token '" + tok + "' at character " + start);
+          }
+      }
+    }
+
+    private void ws() {
+      while (pos < s.length() && Character.isWhitespace(s.charAt(pos))) pos++;
+    }
+
+    private char peek() {
+      return pos < s.length() ? s.charAt(pos) : '\0';
+    }
+  }
+}

@@ -1,0 +1,76 @@
+package io.actindex.encode.io;
+
+import io.actindex.index.BadInputException;
+import java.io.IOException;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Collections;
+import java.util.List;
+import java.util.zip.ZipEntry;
+import java.util.zip.ZipException;
+import java.util.zip.ZipFile;
+
+/**
+ * A NumPy {@code .npz} archive: a zip file whose members {@code NAME.npy} are arrays (written by
+ * {@code numpy.savez}, stored, or {@code numpy.savez_compressed}, deflated). Each member streams
+ * through an {@link NpyReader}; several members can be open at once. Thread-safe for opening
+ * members; each reader is not.
+ */
+public final class NpzReader implements AutoCloseable {
+  private final Path file;
+  private final ZipFile zip;
+  private final List<String> names;
+
+  private NpzReader(Path file, ZipFile zip, List<String> names) {
+    this.file = file;
+    this.zip = zip;
+    this.names = names;
+  }
+
+  public static NpzReader open(Path file) throws IOException {
+    ZipFile zip;
+    try {
+      zip = new ZipFile(file.toFile());
+    } catch (ZipException e) {
+      throw new BadInputException(file + ": not a NumPy .npz archive (not a readable zip file: " + e.getMessage() + ")");
+    }
+    List<String> names = new ArrayList<>();
+    var en = zip.entries();
+    while (en.hasMoreElements()) {
+      ZipEntry e = en.nextElement();
+      if (e.isDirectory()) continue;
+      if (!e.getName().endsWith(".npy")) {
+        zip.close();
+        throw new BadInputException(file + ": member '" + e.getName() + "' is not a .npy array");
+      }
+      names.add(e.getName().substring(0, e.getName().length() - 4));
+    }
+    if (names.isEmpty()) {
+      zip.close();
+      throw new BadInputException(file + ": the .npz archive holds no arrays");
+    }
+    return new NpzReader(file, zip, Collections.unmodifiableList(names));
+  }
+
+  /** Array names (member names without {@code .npy}) in archive order. */
+  public List<String> names() {
+    return names;
+  }
+
+  /** Opens the array {@code name}; BadInputException if absent. */
+  public NpyReader member(String name) throws IOException {
+    ZipEntry e = zip.getEntry(name + ".npy");
+    if (e == null) throw new BadInputException(file + ": no array named '" + name + "' (the archive holds " + names + ")");
+    String label = file + "[" + name + "]";
+    try {
+      return NpyReader.open(label, zip.getInputStream(e), e.getSize());
+    } catch (ZipException ex) {
+      throw new BadInputException(label + ": damaged archive member: " + ex.getMessage());
+    }
+  }
+
+  @Override
+  public void close() throws IOException {
+    zip.close();
+  }
+}

@@ -1,0 +1,194 @@
+package io.actindex.encode.io;
+
+import io.actindex.index.BadInputException;
+import java.io.IOException;
+import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
+import java.nio.channels.FileChannel;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Path;
+import java.nio.file.StandardOpenOption;
+import java.util.Arrays;
+import java.util.Collections;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+
+/**
+ * Reads a safetensors file, following the published format: an unsigned 64-bit little-endian
+ * header length {@code N}, {@code N} bytes of UTF-8 JSON mapping each tensor name to {@code
+ * dtype}, {@code shape} and {@code data_offsets [begin, end)} (relative to the byte after the
+ * header), an optional {@code __metadata__} string map, then the raw little-endian data.
+ *
+ * <p>Every entry is checked on open: known dtype, non-negative shape, offsets inside the data
+ * region and a byte length equal to the shape's. Tensors of F32, F16, BF16 and F64 can be read as
+ * doubles; other dtypes are listed but refused on read. Not thread-safe.
+ */
+public final class SafetensorsReader implements AutoCloseable {
+  /** One tensor's header entry. {@code begin} is the absolute file offset of its data. */
+  public record Entry(String name, String dtype, long[] shape, long begin, long bytes) {
+    /** Number of elements. */
+    public long count() {
+      long c = 1;
+      for (long s : shape) c *= s;
+      return c;
+    }
+
+    public String shapeString() {
+      return Arrays.toString(shape);
+    }
+  }
+
+  static final long MAX_HEADER = 100L << 20;
+  private static final Map<String, Integer> SIZES = Map.ofEntries(
+      Map.entry("BOOL", 1), Map.entry("U8", 1), Map.entry("I8", 1), Map.entry("F8_E5M2", 1), Map.entry("F8_E4M3", 1),
+      Map.entry("I16", 2), Map.entry("U16", 2), Map.entry("F16", 2), Map.entry("BF16", 2),
+      Map.entry("I32", 4), Map.entry("U32", 4), Map.entry("F32", 4),
+      Map.entry("I64", 8), Map.entry("U64", 8), Map.entry("F64", 8));
+
+  private final Path file;
+  private final FileChannel ch;
+  private final Map<String, Entry> entries;
+  private final Map<String, String> metadata;
+
+  private SafetensorsReader(Path file, FileChannel ch, Map<String, Entry> entries, Map<String, String> metadata) {
+    this.file = file;
+    this.ch = ch;
+    this.entries = entries;
+    this.metadata = metadata;
+  }
+
+  public static SafetensorsReader open(Path file) throws IOException {
+    FileChannel ch = FileChannel.open(file, StandardOpenOption.READ);
+    try {
+      long size = ch.size();
+      if (size < 8) throw new BadInputException(file + ": not a safetensors file (" + size + " bytes, the header length alone needs 8)");
+      ByteBuffer lb = ByteBuffer.allocate(8).order(ByteOrder.LITTLE_ENDIAN);
+      readFully(ch, lb, 0, file);
+      long n = lb.getLong(0);
+      if (n < 0 || n > size - 8)
+        throw new BadInputException(file + ": field header length: " + Long.toUnsignedString(n) + " bytes points outside the file (" + size + " bytes)");
+      if (n > MAX_HEADER) throw new BadInputException(file + ": field header length: " + n + " bytes is implausible (over 100 MiB)");
+      ByteBuffer hb = ByteBuffer.allocate((int) n);
+      readFully(ch, hb, 8, file);
+      Object json;
+      try {
+        json = Json.parse(new String(hb.array(), StandardCharsets.UTF_8));
+      } catch (IllegalArgumentException e) {
+        throw new BadInputException(file + ": malformed safetensors JSON header: " + e.getMessage());
+      }
+      if (!(json instanceof Map<?, ?> top)) throw new BadInputException(file + ": safetensors header is not a JSON object");
+      long dataStart = 8 + n, dataSize = size - dataStart;
+      Map<String, Entry> entries = new LinkedHashMap<>();
+      Map<String, String> meta = new LinkedHashMap<>();
+      for (var e : top.entrySet()) {
+        String name = (String) e.getKey();
+        if (name.equals("__metadata__")) {
+          if (!(e.getValue() instanceof Map<?, ?> m)) throw new BadInputException(file + ": field __metadata__ is not an object");
+          for (var me : m.entrySet()) {
+            if (!(me.getValue() instanceof String v)) throw new BadInputException(file + ": field __metadata__." + me.getKey() + " is not a string");
+            meta.put((String) me.getKey(), v);
+          }
+          continue;
+        }
+        entries.put(name, entry(file, name, e.getValue(), dataStart, dataSize));
+      }
+      return new SafetensorsReader(file, ch, Collections.unmodifiableMap(entries), Collections.unmodifiableMap(meta));
+    } catch (RuntimeException | IOException e) {
+      ch.close();
+      throw e;
+    }
+  }
+
+  private static Entry entry(Path file, String name, Object v, long dataStart, long dataSize) {
+    String at = file + ": tensor '" + name + "'";
+    if (!(v instanceof Map<?, ?> m)) throw new BadInputException(at + " is not a JSON object");
+    if (!(m.get("dtype") instanceof String dtype)) throw new BadInputException(at + ": field dtype is missing");
+    Integer size = SIZES.get(dtype);
+    if (size == null) throw new BadInputException(at + ": field dtype: unsupported dtype '" + dtype + "'");
+    if (!(m.get("shape") instanceof List<?> sh)) throw new BadInputException(at + ": field shape is missing");
+    long[] shape = new long[sh.size()];
+    long count = 1;
+    for (int i = 0; i < shape.length; i++) {
+      if (!(sh.get(i) instanceof Long l) || l < 0) throw new BadInputException(at + ": field shape: dimension " + i + " is not a non-negative integer");
+      shape[i] = l;
+      try {
+        count = Math.multiplyExact(count, l);
+      } catch (ArithmeticException ex) {
+        throw new BadInputException(at + ": field shape " + sh + " overflows");
+      }
+    }
+    if (!(m.get("data_offsets") instanceof List<?> off) || off.size() != 2
+        || !(off.get(0) instanceof Long b) || !(off.get(1) instanceof Long e))
+      throw new BadInputException(at + ": field data_offsets is not [begin, end]");
+    if (b < 0 || e < b || e > dataSize)
+      throw new BadInputException(at + ": field data_offsets [" + b + ", " + e + "] points outside the file (the data region holds " + dataSize + " bytes)");
+    long need;
+    try {
+      need = Math.multiplyExact(count, (long) size);
+    } catch (ArithmeticException ex) {
+      throw new BadInputException(at + ": field shape " + sh + " overflows");
+    }
+    if (e - b != need)
+      throw new BadInputException(at + ": field data_offsets [" + b + ", " + e + "] holds " + (e - b) + " bytes; shape " + sh + " of " + dtype + " needs " + need);
+    return new Entry(name, dtype, shape, dataStart + b, e - b);
+  }
+
+  private static void readFully(FileChannel ch, ByteBuffer dst, long pos, Path file) throws IOException {
+    while (dst.hasRemaining()) {
+      int n = ch.read(dst, pos);
+      if (n < 0) throw new BadInputException(file + ": truncated at byte " + pos);
+      pos += n;
+    }
+  }
+
+  public Path file() {
+    return file;
+  }
+
+  /** Tensor entries by name, in header order. */
+  public Map<String, Entry> entries() {
+    return entries;
+  }
+
+  /** The {@code __metadata__} map (empty if absent). */
+  public Map<String, String> metadata() {
+    return metadata;
+  }
+
+  /** The entry {@code name}; BadInputException naming the file if absent. */
+  public Entry entry(String name) {
+    Entry e = entries.get(name);
+    if (e == null) throw new BadInputException(file + ": no tensor named '" + name + "'");
+    return e;
+  }
+
+  /**
+   * The values of tensor {@code name} (row-major) as doubles; F32, F16, BF16 and F64 only. A NaN
+   * or infinite value is refused naming the tensor and the flat element index.
+   */
+  public double[] read(String name) throws IOException {
+    Entry e = entry(name);
+    if (e.count() > Integer.MAX_VALUE - 8) throw new BadInputException(file + ": tensor '" + name + "' is too large to load");
+    ByteBuffer bb = ByteBuffer.allocate((int) e.bytes()).order(ByteOrder.LITTLE_ENDIAN);
+    readFully(ch, bb, e.begin(), file);
+    int n = (int) e.count();
+    double[] out = new double[n];
+    switch (e.dtype()) {
+      case "F32" -> { for (int i = 0; i < n; i++) out[i] = bb.getFloat(i << 2); }
+      case "F64" -> { for (int i = 0; i < n; i++) out[i] = bb.getDouble(i << 3); }
+      case "F16" -> { for (int i = 0; i < n; i++) out[i] = Float.float16ToFloat(bb.getShort(i << 1)); }
+      case "BF16" -> { for (int i = 0; i < n; i++) out[i] = Float.intBitsToFloat((bb.getShort(i << 1) & 0xffff) << 16); }
+      default -> throw new BadInputException(file + ": tensor '" + name + "': field dtype: " + e.dtype()
+          + " is not a floating-point type (supported: F32, F16, BF16, F64)");
+    }
+    for (int i = 0; i < n; i++)
+      if (!Double.isFinite(out[i])) throw new BadInputException(file + ": tensor '" + name + "', element " + i + ": value is not finite");
+    return out;
+  }
+
+  @Override
+  public void close() throws IOException {
+    ch.close();
+  }
+}

@@ -1,0 +1,276 @@
+package io.actindex.index.mih;
+
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.CodeSearcher;
+import io.actindex.index.Hamming;
+import io.actindex.index.Hits;
+import io.actindex.index.ScanSearcher;
+import io.actindex.index.TopK;
+import java.util.Arrays;
+import java.util.function.IntPredicate;
+
+/**
+ * Exact search by multi-index hashing (Norouzi, Punjani and Fleet, "Fast Search in Hamming Space
+ * with Multi-Index Hashing", CVPR 2012), with a per-query planner that falls back to the plain scan.
+ *
+ * <p>The tables key on disjoint substrings of the non-constant bits ({@link BitPlan}). For a query,
+ * the lower bound {@code LB(code) = sum over tables of the substring distances + the constant-bit
+ * distance} never exceeds the true distance (also when the tables cover only part of the bits: the
+ * cascade). Probing table {@code j} at substring radius {@code rho} after tables {@code 0..j-1}
+ * have been probed at {@code rho} and the rest at {@code rho-1} has visited every code with {@code
+ * LB <= rho*m + j + constant} (pigeonhole), so kNN stops once the k-th best verified distance is
+ * within that radius, and radius search probes exactly the shells that the radius needs. Every
+ * candidate is verified on the full code. With a mask, only tables whose bits all lie inside the
+ * mask take part (their distances still bound the masked distance from below).
+ *
+ * <p>Thread-safe: per-thread scratch (a visited bitset) is kept in a {@link ThreadLocal}.
+ */
+final class MihSearcher implements CodeSearcher {
+  // Cost model in rough nanoseconds on one core; only the ratios matter.
+  private static final double PROBE_DENSE = 20, PROBE_SPARSE = 70, CANDIDATE = 30;
+  private static final double SCAN_PER_CODE = 0.4, SCAN_PER_WORD = 0.3;
+  /** Work the tables may spend on a query without knowing it will finish cheaper than a scan. */
+  private static final double EAGER = 0.07;
+  /** Work the tables may spend in all once an upper bound shows they finish within it. */
+  private static final double PROVEN = 0.9;
+
+  final CodeBlock codes;
+  final BitPlan plan;
+  final SubstringTable[] tables;
+  final SearchPlanOptions.Strategy strategy;
+  private final ScanSearcher scan;
+  private final double scanCost;
+  private final double[] prior; // expected candidates per probe, per table
+  private final ThreadLocal<Scratch> scratch;
+
+  MihSearcher(CodeBlock codes, BitPlan plan, SubstringTable[] tables, SearchPlanOptions.Strategy strategy) {
+    this.codes = codes;
+    this.plan = plan;
+    this.tables = tables;
+    this.strategy = strategy;
+    this.scan = new ScanSearcher(codes);
+    int n = codes.size();
+    this.scanCost = n * (SCAN_PER_CODE + SCAN_PER_WORD * codes.wordsPerCode());
+    this.prior = new double[tables.length];
+    for (int t = 0; t < tables.length; t++) prior[t] = Math.max(1.0, tables[t].stats().meanCollisions());
+    this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
+  }
+
+  @Override
+  public CodeLayout layout() {
+    return codes.layout();
+  }
+
+  @Override
+  public int size() {
+    return codes.size();
+  }
+
+  @Override
+  public Hits knn(long[] query, int k, IntPredicate accept, long[] mask) {
+    query = ScanSearcher.checkQuery(codes.layout(), query, mask);
+    int n = codes.size();
+    if (k <= 0 || n == 0) return Hits.EMPTY;
+    int[] active = activeTables(mask);
+    if (strategy == SearchPlanOptions.Strategy.SCAN || active.length == 0) return scan.knn(query, k, accept, mask);
+    int kk = Math.min(k, n), m = active.length, c = plan.constantDistance(query, mask);
+    TopK top = new TopK(kk);
+    Scratch s = scratch.get().begin(this, query, active);
+    try {
+      int maxWidth = 0;
+      for (int t : active) maxWidth = Math.max(maxWidth, tables[t].width);
+      for (int rho = 0; rho <= maxWidth; rho++) {
+        for (int j = 0; j < m; j++) {
+          int t = active[j];
+          if (rho <= tables[t].width) {
+            if (strategy == SearchPlanOptions.Strategy.AUTO && !worthIt(s, top, kk, active, rho, j, c)) {
+              return scan.knn(query, k, accept, mask, top.size() == kk ? top.bound() : Integer.MAX_VALUE);
+            }
+            shell(s, t, rho, query, accept, mask, top, 0);
+          }
+          if (top.size() == kk && top.bound() <= rho * m + j + c) return top.toHits();
+        }
+      }
+      return top.toHits();
+    } finally {
+      s.end();
+    }
+  }
+
+  @Override
+  public Hits radius(long[] query, int radius, IntPredicate accept, long[] mask) {
+    query = ScanSearcher.checkQuery(codes.layout(), query, mask);
+    if (radius < 0 || codes.size() == 0) return Hits.EMPTY;
+    int[] active = activeTables(mask);
+    if (strategy == SearchPlanOptions.Strategy.SCAN || active.length == 0) return scan.radius(query, radius, accept, mask);
+    int c = plan.constantDistance(query, mask);
+    int rr = radius - c, m = active.length;
+    if (rr < 0) return Hits.EMPTY; // every code is at least c away
+    Scratch s = scratch.get().begin(this, query, active);
+    try {
+      // table j is probed up to substring radius rho_j = rr/m for j <= rr%m, rr/m - 1 after
+      if (strategy == SearchPlanOptions.Strategy.AUTO) {
+        double est = 0;
+        for (int j = 0; j < m; j++)
+          for (int x = 0; x <= Math.min(tables[active[j]].width, rr / m - (j <= rr % m ? 0 : 1)); x++)
+            est += shellCost(s, active[j], x);
+        if (est > PROVEN * scanCost) return scan.radius(query, radius, accept, mask);
+      }
+      for (int j = 0; j < m; j++) {
+        int t = active[j];
+        int limit = Math.min(tables[t].width, rr / m - (j <= rr % m ? 0 : 1));
+        for (int x = 0; x <= limit; x++) shell(s, t, x, query, accept, mask, null, radius);
+      }
+      return Hits.sorted(s.hitOrds, s.hitDists, s.hits);
+    } finally {
+      s.end();
+    }
+  }
+
+  /**
+   * Planner: may the tables probe shell (rho, j) next? Yes while the work so far plus that shell
+   * stays under a small share of a scan, or while an upper bound of the work still needed (from
+   * the current k-th best distance) fits under most of a scan. Otherwise the caller scans.
+   */
+  private boolean worthIt(Scratch s, TopK top, int k, int[] active, int rho, int j, int c) {
+    double next = shellCost(s, active[j], rho);
+    if (s.work + next <= EAGER * scanCost) return true;
+    if (top.size() < k) return false;
+    int m = active.length, bound = top.bound();
+    double remaining = 0;
+    for (int x = rho, jj = j; x * m + jj - 1 + c < bound; ) {
+      int t = active[jj];
+      if (x <= tables[t].width) remaining += shellCost(s, t, x);
+      if (s.work + remaining > PROVEN * scanCost) return false;
+      if (++jj == m) {
+        jj = 0;
+        x++;
+      }
+    }
+    return true;
+  }
+
+  /** Estimated cost of probing table t at exactly substring radius rho. */
+  private double shellCost(Scratch s, int t, int rho) {
+    SubstringTable tab = tables[t];
+    double probes = Math.min(ProbeEnumerator.count(tab.width, rho), tab.buckets());
+    // expected candidates per probe: the table's prior, corrected by what this query has met
+    double rate = (prior[t] * 16 + s.candidates) / (16 + s.probes);
+    return probes * ((tab.dense() ? PROBE_DENSE : PROBE_SPARSE) + rate * CANDIDATE);
+  }
+
+  /**
+   * Visits every code whose key in table t is at distance exactly rho from the query's key.
+   * kNN mode when top is non-null, else radius mode (hits with distance <= radius collected).
+   */
+  private void shell(Scratch s, int t, int rho, long[] q, IntPredicate accept, long[] mask, TopK top, int radius) {
+    SubstringTable tab = tables[t];
+    int qkey = s.keys[t];
+    int[] offsets = tab.offsets, ids = tab.ids;
+    long[] data = codes.words(), visited = s.visited;
+    int w = codes.wordsPerCode();
+    long probes = 0, cands = 0;
+    double flips = ProbeEnumerator.count(tab.width, rho);
+    boolean byBucket = flips > tab.buckets(); // cheaper to walk the buckets than to enumerate keys
+    long limit = ProbeEnumerator.limit(tab.width);
+    long f = ProbeEnumerator.first(rho);
+    int b = -1;
+    while (true) {
+      if (byBucket) {
+        if (++b >= tab.buckets()) break;
+        if (Integer.bitCount(tab.keyOfBucket(b) ^ qkey) != rho || offsets[b] == offsets[b + 1]) continue;
+      } else {
+        if (f >= limit) break;
+        b = tab.bucket(qkey ^ (int) f);
+        f = ProbeEnumerator.next(f);
+        probes++;
+        if (b < 0) continue;
+      }
+      for (int i = offsets[b], end = offsets[b + 1]; i < end; i++) {
+        int ord = ids[i];
+        long bit = 1L << ord;
+        int word = ord >>> 6;
+        if ((visited[word] & bit) != 0) continue;
+        visited[word] |= bit;
+        s.touch(ord);
+        cands++;
+        if (accept != null && !accept.test(ord)) continue;
+        int bound = top != null ? top.bound() : radius;
+        int d = mask == null
+            ? Hamming.distanceBounded(q, 0, data, ord * w, w, bound)
+            : Hamming.maskedDistance(q, 0, data, ord * w, mask, w);
+        if (d > bound) continue;
+        if (top != null) top.offer(ord, d);
+        else s.hit(ord, d);
+      }
+    }
+    if (byBucket) probes = tab.buckets();
+    s.probes += probes;
+    s.candidates += cands;
+    s.work += probes * (tab.dense() ? PROBE_DENSE : PROBE_SPARSE) + cands * CANDIDATE;
+  }
+
+  /** Tables usable under the mask: all (null mask) or those whose bits the mask covers. */
+  private int[] activeTables(long[] mask) {
+    int[] all = new int[tables.length];
+    int m = 0;
+    for (int t = 0; t < tables.length; t++) if (mask == null || plan.tableInside(t, mask)) all[m++] = t;
+    return m == all.length ? all : Arrays.copyOf(all, m);
+  }
+
+  /** Per-thread, per-query state. */
+  private static final class Scratch {
+    final long[] visited;
+    final int[] keys;
+    int[] touched = new int[64];
+    int touchedCount;
+    int[] hitOrds = new int[16], hitDists = new int[16];
+    int hits;
+    long probes, candidates;
+    double work;
+    boolean inUse;
+
+    Scratch(int n, int tables) {
+      visited = new long[(n + 63) >>> 6];
+      keys = new int[tables];
+    }
+
+    Scratch begin(MihSearcher owner, long[] query, int[] active) {
+      Scratch s = inUse ? new Scratch(owner.codes.size(), owner.tables.length) : this; // re-entrant call from a filter
+      s.inUse = true;
+      s.touchedCount = 0;
+      s.hits = 0;
+      s.probes = 0;
+      s.candidates = 0;
+      s.work = 0;
+      for (int t : active) s.keys[t] = owner.plan.key(query, 0, t);
+      return s;
+    }
+
+    void touch(int ord) {
+      if (touchedCount == touched.length) touched = Arrays.copyOf(touched, touchedCount * 2);
+      touched[touchedCount++] = ord;
+    }
+
+    void hit(int ord, int dist) {
+      if (hits == hitOrds.length) {
+        hitOrds = Arrays.copyOf(hitOrds, hits * 2);
+        hitDists = Arrays.copyOf(hitDists, hits * 2);
+      }
+      hitOrds[hits] = ord;
+      hitDists[hits++] = dist;
+    }
+
+    void end() {
+      if (touchedCount > visited.length / 8) Arrays.fill(visited, 0);
+      else for (int i = 0; i < touchedCount; i++) visited[touched[i] >>> 6] = 0;
+      if (touched.length > 1 << 16) touched = new int[64];
+      if (hitOrds.length > 1 << 16) {
+        hitOrds = new int[16];
+        hitDists = new int[16];
+      }
+      inUse = false;
+    }
+  }
+}

@@ -1,0 +1,220 @@
+package io.actindex.index.mih;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeSearcher;
+import io.actindex.index.ScanSearcher;
+import java.io.DataInput;
+import java.io.DataOutput;
+import java.io.IOException;
+import java.nio.ByteBuffer;
+import java.util.ArrayList;
+import java.util.List;
+
+/**
+ * Builds, saves and loads the exact searcher of an immutable {@link CodeBlock}: multi-index hash
+ * tables over entropy-balanced substrings of the non-constant bits, a lower-bound cascade for long
+ * codes (tables over the most informative bits only) and a per-query planner that falls back to
+ * the plain scan when the tables would not prune. Every path returns exactly what a brute-force
+ * scan returns.
+ *
+ * <h2>Tables payload, version 1</h2>
+ * Big-endian ({@link DataOutput}); the codes themselves are not part of it.
+ * <pre>
+ * int    version (1)
+ * int    n (codes), int bits, int layoutHash ({@code CodeLayout.hash()})
+ * int    strategy id (0 AUTO, 1 TABLES, 2 SCAN)
+ * long[words] constant-bit mask, long[words] constant-bit values
+ * int    m (tables)
+ * per table:
+ *   int width (1..32), int[width] bit positions (strictly ascending)
+ *   byte   kind: 0 dense (offsets by key), 1 sparse (sorted keys)
+ *   sparse only: int distinct, int[distinct] keys XOR 0x80000000, strictly ascending
+ *   int[buckets + 1] offsets (0, non-decreasing, n last; buckets = 2^width or distinct)
+ *   int[n] ids (each ordinal once, grouped by key)
+ * </pre>
+ * {@link #read} checks every count against the codes with exact arithmetic, every ordinal, and that
+ * every code sits in the bucket of its own key, so inconsistent tables cannot give wrong answers.
+ */
+public final class Searchers {
+  private Searchers() {}
+
+  private static final int VERSION = 1;
+  private static final SearchPlanOptions.Strategy[] STRATEGY_IDS = {
+    SearchPlanOptions.Strategy.AUTO, SearchPlanOptions.Strategy.TABLES, SearchPlanOptions.Strategy.SCAN
+  };
+  private static final int MAX_DENSE_WIDTH = 26;
+
+  /** The searcher with the default plan ({@link SearchPlanOptions#defaults()}). */
+  public static CodeSearcher build(CodeBlock codes) {
+    return build(codes, SearchPlanOptions.defaults());
+  }
+
+  public static CodeSearcher build(CodeBlock codes, SearchPlanOptions opts) {
+    BitPlan plan = BitPlan.choose(codes, opts);
+    SubstringTable[] tables = new SubstringTable[plan.tables()];
+    int n = codes.size(), w = codes.wordsPerCode();
+    long[] data = codes.words();
+    int[] keyOf = new int[n];
+    for (int t = 0; t < tables.length; t++) {
+      for (int ord = 0; ord < n; ord++) keyOf[ord] = plan.key(data, ord * w, t);
+      tables[t] = SubstringTable.build(plan.width(t), keyOf);
+    }
+    return new MihSearcher(codes, plan, tables, opts.strategy());
+  }
+
+  /** Bit plan, table occupancy and memory of a searcher from {@link #build}; a plain scan has no tables. */
+  public static SearcherStats stats(CodeSearcher s) {
+    if (s instanceof ScanSearcher scan)
+      return new SearcherStats(scan.size(), scan.layout().bits(), 0, 0, List.of(), 0,
+          8L * scan.size() * scan.layout().words());
+    MihSearcher m = mih(s);
+    List<SearcherStats.Table> tables = new ArrayList<>();
+    long bytes = 0;
+    for (SubstringTable t : m.tables) {
+      tables.add(t.stats());
+      bytes += t.bytes();
+    }
+    return new SearcherStats(m.size(), m.plan.bits(), m.plan.constantBits(), m.plan.indexedBits(), tables, bytes,
+        8L * m.codes.words().length);
+  }
+
+  /** Writes the tables payload of a searcher from {@link #build} (see the class comment). */
+  public static void write(CodeSearcher s, DataOutput out) throws IOException {
+    MihSearcher m = mih(s);
+    BitPlan plan = m.plan;
+    out.writeInt(VERSION);
+    out.writeInt(m.size());
+    out.writeInt(plan.bits());
+    out.writeInt(m.layout().hash());
+    out.writeInt(java.util.Arrays.asList(STRATEGY_IDS).indexOf(m.strategy));
+    for (long x : plan.constMask()) out.writeLong(x);
+    for (long x : plan.constValue()) out.writeLong(x);
+    out.writeInt(plan.tables());
+    for (int t = 0; t < plan.tables(); t++) {
+      SubstringTable tab = m.tables[t];
+      out.writeInt(plan.width(t));
+      writeInts(out, plan.tableBits(t));
+      out.writeByte(tab.dense() ? 0 : 1);
+      if (!tab.dense()) {
+        out.writeInt(tab.keys.length);
+        writeInts(out, tab.keys);
+      }
+      writeInts(out, tab.offsets);
+      writeInts(out, tab.ids);
+    }
+  }
+
+  /**
+   * Reads a tables payload written by {@link #write} for exactly these codes.
+   *
+   * @throws BadInputException if the payload does not fit the codes or is inconsistent in itself
+   */
+  public static CodeSearcher read(DataInput in, CodeBlock codes) throws IOException {
+    int n = codes.size(), bits = codes.layout().bits(), w = codes.wordsPerCode();
+    expect("version", in.readInt(), VERSION);
+    expect("code count", in.readInt(), n);
+    expect("bits per code", in.readInt(), bits);
+    expect("layout hash", in.readInt(), codes.layout().hash());
+    int sid = in.readInt();
+    if (sid < 0 || sid >= STRATEGY_IDS.length) throw bad("strategy id " + sid + " is unknown");
+    long[] constMask = new long[w], constValue = new long[w];
+    for (int i = 0; i < w; i++) constMask[i] = in.readLong();
+    for (int i = 0; i < w; i++) constValue[i] = in.readLong();
+    int m = in.readInt();
+    if (m < 0 || m > bits) throw bad("table count " + m + " is outside 0.." + bits);
+    int[][] tableBits = new int[m][];
+    SubstringTable[] tables = new SubstringTable[m];
+    for (int t = 0; t < m; t++) {
+      int width = in.readInt();
+      if (width < 1 || width > SearchPlanOptions.MAX_SUBSTRING_BITS)
+        throw bad("table " + t + " width " + width + " is outside 1.." + SearchPlanOptions.MAX_SUBSTRING_BITS);
+      tableBits[t] = readInts(in, width);
+      int kind = in.readUnsignedByte();
+      int[] keys = null;
+      int buckets;
+      if (kind == 0) {
+        if (width > MAX_DENSE_WIDTH) throw bad("table " + t + " is dense with width " + width + " > " + MAX_DENSE_WIDTH);
+        buckets = 1 << width;
+      } else if (kind == 1) {
+        buckets = in.readInt();
+        if (buckets < 0 || buckets > n) throw bad("table " + t + " has " + buckets + " keys for " + n + " codes");
+        keys = readInts(in, buckets);
+        for (int b = 0; b < buckets; b++) {
+          if (b > 0 && keys[b - 1] >= keys[b]) throw bad("table " + t + " keys not ascending at " + b);
+          long key = (keys[b] ^ 0x80000000) & 0xffffffffL;
+          if (width < 32 && key >>> width != 0) throw bad("table " + t + " key " + key + " is wider than " + width + " bits");
+        }
+      } else throw bad("table " + t + " kind " + kind + " is unknown");
+      int[] offsets = readInts(in, Math.addExact(buckets, 1));
+      if (offsets[0] != 0 || offsets[buckets] != n) throw bad("table " + t + " offsets do not run from 0 to " + n);
+      for (int b = 0; b < buckets; b++)
+        if (offsets[b] > offsets[b + 1] || (kind == 1 && offsets[b] == offsets[b + 1]))
+          throw bad("table " + t + " offsets not " + (kind == 1 ? "strictly " : "") + "ascending at bucket " + b);
+      int[] ids = readInts(in, n);
+      tables[t] = new SubstringTable(width, keys, offsets, ids);
+    }
+    BitPlan plan;
+    try {
+      plan = new BitPlan(bits, constMask, constValue, tableBits);
+    } catch (IllegalArgumentException e) {
+      throw bad(e.getMessage());
+    }
+    if (!plan.constantsHold(codes)) throw bad("the codes do not carry the recorded constant bits");
+    long[] data = codes.words();
+    long[] seen = new long[(n + 63) >>> 6];
+    for (int t = 0; t < m; t++) {
+      SubstringTable tab = tables[t];
+      java.util.Arrays.fill(seen, 0);
+      for (int b = 0; b < tab.buckets(); b++) {
+        int key = tab.keyOfBucket(b);
+        for (int i = tab.offsets[b]; i < tab.offsets[b + 1]; i++) {
+          int ord = tab.ids[i];
+          if (ord < 0 || ord >= n) throw bad("table " + t + " names ordinal " + ord + " outside 0.." + (n - 1));
+          if ((seen[ord >>> 6] >>> (ord & 63) & 1) != 0) throw bad("table " + t + " names ordinal " + ord + " twice");
+          seen[ord >>> 6] |= 1L << (ord & 63);
+          if (plan.key(data, ord * w, t) != key) throw bad("table " + t + " files ordinal " + ord + " under the wrong key");
+        }
+      }
+    }
+    return new MihSearcher(codes, plan, tables, STRATEGY_IDS[sid]);
+  }
+
+  private static MihSearcher mih(CodeSearcher s) {
+    if (s instanceof MihSearcher m) return m;
+    throw new IllegalArgumentException("not a searcher built by Searchers.build: " + s.getClass().getName());
+  }
+
+  private static void expect(String field, int got, int want) {
+    if (got != want) throw bad(field + " is " + got + ", expected " + want);
+  }
+
+  private static BadInputException bad(String what) {
+    return new BadInputException("search tables payload: " + what);
+  }
+
+  private static final int CHUNK = 1 << 14; // ints per buffered write/read
+
+  private static void writeInts(DataOutput out, int[] a) throws IOException {
+    ByteBuffer buf = ByteBuffer.allocate(4 * Math.min(CHUNK, Math.max(1, a.length)));
+    for (int from = 0; from < a.length; from += CHUNK) {
+      int len = Math.min(CHUNK, a.length - from);
+      buf.clear();
+      buf.asIntBuffer().put(a, from, len);
+      out.write(buf.array(), 0, 4 * len);
+    }
+  }
+
+  private static int[] readInts(DataInput in, int count) throws IOException {
+    int[] a = new int[count];
+    byte[] bytes = new byte[4 * Math.min(CHUNK, Math.max(1, count))];
+    ByteBuffer buf = ByteBuffer.wrap(bytes);
+    for (int from = 0; from < count; from += CHUNK) {
+      int len = Math.min(CHUNK, count - from);
+      in.readFully(bytes, 0, 4 * len);
+      buf.clear();
+      buf.asIntBuffer().get(a, from, len);
+    }
+    return a;
+  }
+}
