@@ -178,10 +178,11 @@ class NearestEndToEndTest {
     Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("codes.npy"), d.index()).toString(),
         "--code-layout", LAYOUT, "--meta", metaCsv(tmp.resolve("meta.csv"), ex).toString());
     assertThat(b.code()).as(b.describe()).isZero();
-    Cli.Result a = Cli.run("add", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("more.npy"), d.more()).toString(),
-        "--meta", metaCsv(tmp.resolve("more.csv"), more).toString());
-    assertThat(a.code()).as(a.describe()).isZero();
-    assertThat(a.out()).as(a.describe()).contains("ids " + d.index().length + "..");
+    JsonNode added = json("add", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("more.npy"), d.more()).toString(),
+        "--meta", metaCsv(tmp.resolve("more.csv"), more).toString(), "--format", "json");
+    assertThat(added.get("first_id").asInt()).isEqualTo(d.index().length);
+    assertThat(added.get("rows").asInt()).isEqualTo(d.more().length);
+    assertThat(added.get("layout").asText()).isEqualTo(LAYOUT);
     ex.addAll(more);
     String q = Files2.bits(tmp.resolve("q.npy"), d.queries()).toString();
     check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "9", "--format", "json"),
@@ -199,6 +200,16 @@ class NearestEndToEndTest {
     List<Example> live = ex.stream().filter(e -> !gone.contains(e.id())).toList();
     check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "9", "--format", "json"),
         9, live, d.queries(), 0, m -> true, LAYERS, what + " after deletes");
+    JsonNode info = json("info", "--index", idx.toString(), "--format", "json");
+    assertThat(info.get("layout").asText()).isEqualTo(LAYOUT);
+    assertThat(info.get("max_id").asInt()).isEqualTo(ex.size());
+    assertThat(info.get("live").asInt()).isEqualTo(live.size());
+    assertThat(info.get("deleted").asInt()).isEqualTo(gone.getCardinality());
+    assertThat(info.get("segments").size()).as("build and add wrote one segment each").isEqualTo(2);
+    assertThat(info.get("segments").get(1).get("first_id").asInt()).isEqualTo(d.index().length);
+    Cli.Result infoTable = Cli.run("info", "--index", idx.toString());
+    assertThat(infoTable.code()).as(infoTable.describe()).isZero();
+    assertThat(infoTable.out()).contains("h1 (40 bits), h2 (24 bits)").contains(live.size() + " live");
     check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "4", "--format", "json", "--where", "label = run",
             "--layers", "h1"),
         4, live, d.queries(), 0, m -> m.get("label").equals("run"), List.of(LAYERS.get(0)), what + " after deletes, where, layers");

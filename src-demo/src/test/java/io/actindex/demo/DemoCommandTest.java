@@ -38,6 +38,9 @@ class DemoCommandTest {
   void demoIsListedAndRefusesAForeignFolder() throws Exception {
     String[] help = run("--help");
     assertThat(help[1]).contains("demo");
+    String[] demoHelp = run("demo", "--help");
+    assertThat(demoHelp[0]).isEqualTo("0");
+    assertThat(demoHelp[1]).contains("Usage: actindex demo").contains("--out");
     Path foreign = Files.createDirectories(tmp.resolve("mine"));
     Files.writeString(foreign.resolve("notes.txt"), "keep me");
     String[] r = run("demo", "--out", foreign.toString());
