@@ -40,7 +40,7 @@ public final class Progress implements io.actindex.query.Progress, AutoCloseable
     this.done = done;
     this.total = total;
     long now = System.nanoTime();
-    if (!drawn || now - lastDraw >= REDRAW_NANOS) {
+    if (!drawn || now - lastDraw >= REDRAW_NANOS || (total > 0 && done >= total)) {
       draw(now);
       lastDraw = now;
     }
