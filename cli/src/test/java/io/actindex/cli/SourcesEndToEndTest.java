@@ -76,6 +76,27 @@ class SourcesEndToEndTest {
     }
   }
 
+  /** The README's two commands: activations + metadata CSV, then a neighbour table. */
+  @Test
+  void readmeTwoCommandsGiveANeighbourTable() {
+    long seed = Randoms.seed(550);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    float[][] acts = activations(60, 16, rnd), q = activations(2, 16, rnd);
+    List<String> csv = new ArrayList<>(List.of("key,label,split,site"));
+    for (int i = 0; i < acts.length; i++) csv.add("ex-" + i + "," + (i % 2 == 0 ? "cat" : "dog") + ",train,site" + (i % 3));
+    Path dir = tmp.resolve("my-index");
+    Cli.Result build = Cli.run("build", "--out", dir.toString(), "--activations",
+        Files2.floats(tmp.resolve("train_acts.npy"), acts).toString(), "--meta", Files2.text(tmp.resolve("train_meta.csv"), csv).toString());
+    assertThat(build.code()).as(build.describe()).isZero();
+    Cli.Result table = Cli.run("nearest", "--index", dir.toString(), "--activations",
+        Files2.floats(tmp.resolve("new_acts.npy"), q).toString(), "-k", "5");
+    assertThat(table.code()).as(table.describe()).isZero();
+    assertThat(table.out()).as(table.describe()).contains("query row 0  vote: ").contains("query row 1  vote: ")
+        .containsPattern("rank +distance +act +key +label +split +site");
+    for (Reference.Hit h : Reference.knn(plain(binarize(acts, 0)), binarize(q, 0)[1], 5, m -> true, Reference.layers("act:16")))
+      assertThat(table.out()).containsPattern("\\s" + h.distance() + "\\s+" + h.distance() + "\\s+ex-" + h.id() + "\\s");
+  }
+
   /**
    * An MLP 3 -> 5 -> 4 -> 2 with small integer weights, biases off by a half (layer 1) or a quarter
    * (layer 2) and integer inputs, so no pre-activation is ever exactly 0 and float32 arithmetic is
