@@ -101,6 +101,7 @@ public final class MetaWriter implements Closeable {
       throw new BadInputException(rows.size() + " metadata rows for " + n + " codes");
     List<Map<String, String>> keyed = new ArrayList<>(n);
     for (int r = 0; r < n; r++) {
+      if (rows != null && rows.get(r) == null) throw new BadInputException("metadata row " + r + " is missing");
       Map<String, String> row = new LinkedHashMap<>();
       String key = rows == null ? null : rows.get(r).get(MetaSchema.KEY);
       row.put(MetaSchema.KEY, key == null || key.isEmpty() ? "row-" + (firstId + r) : key);

@@ -1,6 +1,7 @@
 package io.actindex.index.store;
 
 import io.actindex.index.CodeLayout;
+import io.actindex.index.mih.SearcherStats;
 import java.util.List;
 
 /**
@@ -27,9 +28,20 @@ public record IndexInfo(CodeLayout layout, long generation, int maxId, int liveC
    * @param count codes stored (deleted ones included until compaction)
    * @param deleted stored codes that are deleted
    * @param bytes its codes and tables files
-   * @param searcher the search structure: "scan", or the substring plan of the multi-index tables
-   * @param droppedConstantBits bits constant over the segment that the tables leave out (0 for scan)
+   * @param searcher the searcher's plan: substrings and their widths, constant bits dropped,
+   *     bucket occupancy, memory ({@link SearcherStats#toString()} is a one-line summary)
    */
   public record SegmentInfo(int segmentId, int firstId, int endId, int count, int deleted, long bytes,
-      String searcher, int droppedConstantBits) {}
+      SearcherStats searcher) {
+
+    /** Bits constant over the segment that the tables leave out (their distance is added back exactly). */
+    public int droppedConstantBits() {
+      return searcher.constantBits();
+    }
+
+    /** Number of substrings (hash tables); 0 for a plain scan. */
+    public int substrings() {
+      return searcher.substrings();
+    }
+  }
 }

@@ -180,6 +180,7 @@ public final class IndexReader implements AutoCloseable {
    * ascending id; {@code mask} (nullable) limits the distance to its bits.
    */
   public Hits knn(long[] query, int k, RoaringBitmap filter, long[] mask) {
+    checkQuery(query, mask);
     if (k <= 0) return Hits.EMPTY;
     TopK top = new TopK(k);
     for (Segment s : segments) {
@@ -191,6 +192,7 @@ public final class IndexReader implements AutoCloseable {
 
   /** Every live code (in {@code filter} if not null) at distance {@code <= radius}, sorted by (distance, id). */
   public Hits radius(long[] query, int radius, RoaringBitmap filter, long[] mask) {
+    checkQuery(query, mask);
     int total = 0;
     List<Hits> parts = new ArrayList<>(segments.size());
     for (Segment s : segments) {
@@ -208,6 +210,14 @@ public final class IndexReader implements AutoCloseable {
       }
     }
     return Hits.sorted(ids, dists, total);
+  }
+
+  private void checkQuery(long[] query, long[] mask) {
+    int w = manifest.layout().words();
+    if (query.length != w)
+      throw new IllegalArgumentException("query has " + query.length + " words, the index's codes have " + w);
+    if (mask != null && mask.length != w)
+      throw new IllegalArgumentException("mask has " + mask.length + " words, the index's codes have " + w);
   }
 
   private IntPredicate accept(Segment s, RoaringBitmap filter) {
@@ -233,8 +243,7 @@ public final class IndexReader implements AutoCloseable {
       Manifest.SegmentEntry e = manifest.segments().get(i);
       int dead = 0;
       for (int o = 0; o < s.size(); o++) if (deleted.contains(s.id(o))) dead++;
-      infos.add(new IndexInfo.SegmentInfo(s.segmentId(), e.firstId(), e.endId(), s.size(), dead, s.bytes(),
-          s.searcherDescription(), s.droppedConstantBits()));
+      infos.add(new IndexInfo.SegmentInfo(s.segmentId(), e.firstId(), e.endId(), s.size(), dead, s.bytes(), s.stats()));
     }
     return new IndexInfo(manifest.layout(), manifest.generation(), manifest.nextId(), liveCount, infos, folderBytes());
   }

@@ -1,9 +1,12 @@
 package io.actindex.index.store;
 
+import io.actindex.index.BadInputException;
 import io.actindex.index.CodeBlock;
 import io.actindex.index.CodeLayout;
 import io.actindex.index.CodeSearcher;
 import io.actindex.index.ScanSearcher;
+import io.actindex.index.mih.SearcherStats;
+import io.actindex.index.mih.Searchers;
 import java.io.DataInputStream;
 import java.io.IOException;
 import java.nio.file.Path;
@@ -27,8 +30,10 @@ import java.util.UUID;
  *   long  n*w code words, row-major (bit i of a code in word i&gt;&gt;&gt;6, bit i&amp;63); ghost bits zero
  * seg-S.tables  codec "actindex.tables", version 1
  *   int   segmentId S
- *   byte  searcher kind: 0 = SCAN (nothing follows), 1 = SEARCHERS (the rest is the payload of
- *         io.actindex.index.mih.Searchers.write, read back with Searchers.read over the codes)
+ *   byte  searcher kind: 1 = SEARCHERS: the rest is the tables payload of
+ *         {@link Searchers#write} (its own layout is documented there), read back with
+ *         {@link Searchers#read} over the codes and checked to end exactly at the footer;
+ *         0 = SCAN (nothing follows; a plain scan, accepted on read, not written)
  * </pre>
  */
 public final class Segment {
@@ -43,8 +48,11 @@ public final class Segment {
   private final int[] ids; // null when contiguous
   private final CodeSearcher searcher;
   private final long bytes;
+  private final SearcherStats stats;
 
-  private Segment(int segmentId, CodeBlock codes, int firstId, int[] ids, CodeSearcher searcher, long bytes) {
+  private Segment(int segmentId, CodeBlock codes, int firstId, int[] ids, CodeSearcher searcher, long bytes,
+      SearcherStats stats) {
+    this.stats = stats;
     this.segmentId = segmentId;
     this.codes = codes;
     this.firstId = firstId;
@@ -63,7 +71,7 @@ public final class Segment {
 
   /** The searcher for a new segment (the one place that picks the implementation). */
   static CodeSearcher buildSearcher(CodeBlock codes) {
-    return new ScanSearcher(codes);
+    return Searchers.build(codes);
   }
 
   /**
@@ -97,12 +105,8 @@ public final class Segment {
     try (ChecksummedFile.Out out = ChecksummedFile.create(dir.resolve(tablesName(segmentId)), TABLES_CODEC,
         VERSION_CURRENT, layout.hash(), uuid)) {
       out.writeInt(segmentId);
-      if (searcher instanceof ScanSearcher) {
-        out.writeByte(KIND_SCAN);
-      } else {
-        out.writeByte(KIND_SEARCHERS);
-        throw new IllegalStateException("no table writer for " + searcher.getClass().getName());
-      }
+      out.writeByte(KIND_SEARCHERS);
+      Searchers.write(searcher, out);
       tablesRef = out.finish();
     }
     int endId = n == 0 ? 0 : ids[n - 1] + 1;
@@ -158,11 +162,19 @@ public final class Segment {
       searcher = new ScanSearcher(codes);
     } else if (kind == KIND_SEARCHERS) {
       DataInputStream payload = t.rest();
-      throw t.error("search tables need the mih module, which this build lacks (" + payload.getClass() + ")");
+      try {
+        searcher = Searchers.read(payload, codes);
+        if (payload.available() != 0) throw t.error(payload.available() + " bytes follow the tables payload");
+      } catch (BadInputException ex) {
+        throw ex.getMessage().contains(t.file().toString()) ? ex : t.error("tables payload: " + ex.getMessage());
+      } catch (IOException ex) {
+        throw t.error("tables payload ends early or is malformed: " + ex);
+      }
     } else {
       throw t.error("unknown searcher kind " + kind);
     }
-    return new Segment(e.segmentId(), codes, firstId, ids, searcher, e.codes().length() + e.tables().length());
+    return new Segment(e.segmentId(), codes, firstId, ids, searcher, e.codes().length() + e.tables().length(),
+        Searchers.stats(searcher));
   }
 
   public int segmentId() {
@@ -181,14 +193,9 @@ public final class Segment {
     return searcher;
   }
 
-  /** "scan", or the searcher's plan once tables are in use. */
-  public String searcherDescription() {
-    return searcher instanceof ScanSearcher ? "scan" : searcher.toString();
-  }
-
-  /** Bits the search tables leave out because they are constant over the segment (0 for scan). */
-  public int droppedConstantBits() {
-    return 0;
+  /** Bit plan and table occupancy of the segment's searcher. */
+  public SearcherStats stats() {
+    return stats;
   }
 
   /** Bytes of the segment's two files. */

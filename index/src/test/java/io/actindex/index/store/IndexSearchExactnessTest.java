@@ -2,6 +2,7 @@ package io.actindex.index.store;
 
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.actindex.index.BruteForce;
 import io.actindex.index.CodeBlock;
@@ -30,9 +31,13 @@ import org.roaringbitmap.RoaringBitmap;
 class IndexSearchExactnessTest {
   @TempDir Path tmp;
 
+  /** Segments whose searcher uses hash tables (so the multi-index path, not only the scan, is checked). */
+  private int tableSegments;
+
   @Test
   void multiSegmentSearchEqualsBruteForce() {
     for (int rep = 0; rep < 8; rep++) run(rep, 4);
+    assertTrue(tableSegments > 0, "no segment used hash tables");
   }
 
   @Test
@@ -91,10 +96,11 @@ class IndexSearchExactnessTest {
     check(dir, all, labels, deleted, rnd, why);
   }
 
-  private static void check(Path dir, CodeBlock all, List<String> labels, RoaringBitmap deleted, SplittableRandom rnd,
+  private void check(Path dir, CodeBlock all, List<String> labels, RoaringBitmap deleted, SplittableRandom rnd,
       String why) {
     try (IndexReader r = IndexReader.open(dir)) {
       assertEquals(all.size(), r.maxId(), why);
+      for (IndexInfo.SegmentInfo s : r.info().segments()) if (s.substrings() > 0) tableSegments++;
       assertEquals(all.size() - deleted.getCardinality(), r.liveCount(), why);
       int[] ids = new int[r.liveCount()];
       CodeBlock live = r.liveCodes(ids);

@@ -1,0 +1,67 @@
+package io.actindex.index.store;
+
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.concurrent.atomic.AtomicReference;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Readers opened while a writer commits (and removes old generations' files) always see one whole
+ * generation: codes, tombstones and metadata agree.
+ */
+class ConcurrentReadTest {
+  @TempDir Path tmp;
+
+  @Test
+  void readersOpenedDuringCommitsSeeWholeGenerations() throws Exception {
+    Path dir = tmp.resolve("idx");
+    IndexWriter.create(dir, CrashChild.LAYOUT, Map.of()).close();
+    AtomicBoolean stop = new AtomicBoolean();
+    AtomicReference<Throwable> failure = new AtomicReference<>();
+    List<Integer> seen = new ArrayList<>();
+    Thread reader = new Thread(() -> {
+      try {
+        while (!stop.get()) {
+          try (IndexReader r = IndexReader.open(dir)) {
+            RoaringBitmap live = r.liveIds();
+            assertEquals(live.getCardinality(), r.meta().numDocs());
+            for (int id : live) assertArrayEquals(CrashChild.code(id), r.code(id), "id " + id);
+            assertEquals(live, r.meta().select(new org.apache.lucene.search.MatchAllDocsQuery()));
+            seen.add(r.maxId());
+          }
+        }
+      } catch (Throwable t) {
+        failure.set(t);
+      }
+    });
+    reader.start();
+    try (IndexWriter w = IndexWriter.open(dir)) {
+      for (int step = 0; step < 30 && failure.get() == null; step++) {
+        int first = w.maxId(), n = 20;
+        long[] words = new long[n * CrashChild.LAYOUT.words()];
+        List<Map<String, String>> rows = new ArrayList<>();
+        for (int i = 0; i < n; i++) {
+          System.arraycopy(CrashChild.code(first + i), 0, words, i * CrashChild.LAYOUT.words(), CrashChild.LAYOUT.words());
+          rows.add(CrashChild.row(first + i));
+        }
+        w.add(new io.actindex.index.CodeBlock(CrashChild.LAYOUT, n, words), rows);
+        if (step % 5 == 4) w.delete(RoaringBitmap.bitmapOf(first, first + 3));
+        if (step % 10 == 9) w.compact();
+      }
+    } finally {
+      stop.set(true);
+      reader.join();
+    }
+    if (failure.get() != null) throw new AssertionError("reader failed", failure.get());
+    assertTrue(seen.size() > 1, "reader opened " + seen.size() + " times");
+  }
+}

@@ -1,0 +1,82 @@
+package io.actindex.index.store;
+
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Child process of {@link CrashTest}: opens the index given as first argument and
+ * changes it until killed. Before each change it prints {@code BEGIN add N}, {@code BEGIN delete
+ * ID,ID,...} or {@code BEGIN compact}; after the change returned (committed) it prints {@code DONE}.
+ * The code and metadata of id i are a function of i alone ({@link #code}, {@link #row}).
+ */
+public final class CrashChild {
+  static final CodeLayout LAYOUT = CodeLayout.parse("a:60,b:36");
+
+  static long[] code(int id) {
+    SplittableRandom rnd = new SplittableRandom(0xC0DEL * 31 + id);
+    long[] c = new long[LAYOUT.words()];
+    for (int j = 0; j < c.length; j++) c[j] = rnd.nextLong();
+    c[c.length - 1] &= ~CodeBlock.ghostMask(LAYOUT);
+    return c;
+  }
+
+  static Map<String, String> row(int id) {
+    Map<String, String> row = new HashMap<>();
+    row.put("key", "k" + id);
+    row.put("label", "c" + id % 5);
+    row.put("weight", Integer.toString(id % 7));
+    return row;
+  }
+
+  public static void main(String[] args) throws Exception {
+    Path dir = Path.of(args[0]);
+    SplittableRandom rnd = new SplittableRandom(Long.parseLong(args[1]));
+    RoaringBitmap live;
+    try (IndexReader r = IndexReader.open(dir)) {
+      live = r.liveIds();
+    }
+    try (IndexWriter w = IndexWriter.open(dir)) {
+      while (true) {
+        int op = rnd.nextInt(10);
+        if (op < 7 || live.isEmpty()) {
+          int n = 1 + rnd.nextInt(300);
+          int first = w.maxId();
+          long[] words = new long[n * LAYOUT.words()];
+          List<Map<String, String>> rows = new ArrayList<>();
+          for (int i = 0; i < n; i++) {
+            System.arraycopy(code(first + i), 0, words, i * LAYOUT.words(), LAYOUT.words());
+            rows.add(row(first + i));
+          }
+          say("BEGIN add " + n);
+          w.add(new CodeBlock(LAYOUT, n, words), rows);
+          live.add((long) first, (long) first + n);
+        } else if (op < 9) {
+          RoaringBitmap del = new RoaringBitmap();
+          int[] ids = live.toArray();
+          for (int i = 0; i < 1 + rnd.nextInt(40); i++) del.add(ids[rnd.nextInt(ids.length)]);
+          StringBuilder sb = new StringBuilder();
+          del.forEach((int id) -> sb.append(sb.isEmpty() ? "" : ",").append(id));
+          say("BEGIN delete " + sb);
+          w.delete(del);
+          live.andNot(del);
+        } else {
+          say("BEGIN compact");
+          w.compact();
+        }
+        say("DONE");
+      }
+    }
+  }
+
+  private static void say(String line) {
+    System.out.println(line);
+    System.out.flush();
+  }
+}

@@ -1,0 +1,138 @@
+package io.actindex.index.store;
+
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+import static org.junit.jupiter.api.Assertions.fail;
+
+import io.actindex.index.Randoms;
+import java.io.BufferedReader;
+import java.io.IOException;
+import java.io.InputStreamReader;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import java.util.concurrent.TimeUnit;
+import org.junit.jupiter.api.Tag;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Kills a child JVM ({@link CrashChild}) at random moments while it adds, deletes and compacts,
+ * then checks that the index opens at the last committed state (or the one being committed when
+ * the kill came), with every committed code and metadata document present, and that the dead
+ * writer's lock does not block the next writer. The runs chain on one folder.
+ */
+class CrashTest {
+  private static final int RUNS = 20;
+  @TempDir Path tmp;
+
+  @Test
+  @Tag("slow")
+  void killedWriterLeavesLastCommitIntact() throws Exception {
+    long seed = Randoms.seed(0);
+    String why = Randoms.describe(seed);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    Path dir = tmp.resolve("idx");
+    IndexWriter.create(dir, CrashChild.LAYOUT, Map.of()).close();
+    int maxId = 0;
+    RoaringBitmap deleted = new RoaringBitmap();
+    int interrupted = 0;
+    for (int run = 0; run < RUNS; run++) {
+      String java = Path.of(System.getProperty("java.home"), "bin", "java").toString();
+      Process p = new ProcessBuilder(java, "-Xmx256m", "-XX:TieredStopAtLevel=1", "-cp", System.getProperty("java.class.path"),
+          CrashChild.class.getName(), dir.toString(), Long.toString(rnd.nextLong()))
+          .redirectError(ProcessBuilder.Redirect.DISCARD).start();
+      List<String> lines = new ArrayList<>();
+      Thread pump = new Thread(() -> {
+        try (BufferedReader in = new BufferedReader(new InputStreamReader(p.getInputStream(), StandardCharsets.UTF_8))) {
+          for (String l; (l = in.readLine()) != null; ) synchronized (lines) { lines.add(l); }
+        } catch (IOException ignored) {
+          // the child died
+        }
+      });
+      pump.start();
+      // wait for the child's first change, then kill it after a random delay
+      long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(60);
+      while (size(lines) == 0 && p.isAlive() && System.nanoTime() < deadline) Thread.sleep(5);
+      Thread.sleep(rnd.nextInt(2000));
+      p.destroyForcibly();
+      assertTrue(p.waitFor(30, TimeUnit.SECONDS), "child did not die");
+      pump.join();
+      String where = why + " run " + run + " lines " + tail(lines);
+      if (lines.isEmpty()) fail("child made no change before the kill: " + where);
+
+      // replay: the state after the last DONE, and the state the pending change would make
+      int doneMax = maxId;
+      RoaringBitmap doneDel = deleted.clone();
+      int nextMax = maxId;
+      RoaringBitmap nextDel = deleted.clone();
+      boolean pending = false;
+      for (String l : lines) {
+        if (l.equals("DONE")) {
+          doneMax = nextMax;
+          doneDel = nextDel.clone();
+          pending = false;
+        } else if (l.startsWith("BEGIN add ")) {
+          nextMax = doneMax + Integer.parseInt(l.substring(10));
+          nextDel = doneDel.clone();
+          pending = true;
+        } else if (l.startsWith("BEGIN delete ")) {
+          nextMax = doneMax;
+          nextDel = doneDel.clone();
+          for (String id : l.substring(13).split(",")) nextDel.add(Integer.parseInt(id));
+          pending = true;
+        } else if (l.equals("BEGIN compact")) {
+          nextMax = doneMax;
+          nextDel = doneDel.clone();
+          pending = true;
+        } else {
+          fail("unexpected child output '" + l + "': " + where);
+        }
+      }
+      if (pending) interrupted++;
+      try (IndexReader r = IndexReader.open(dir)) {
+        boolean atDone = r.maxId() == doneMax && deletedOf(r).equals(doneDel);
+        boolean atNext = pending && r.maxId() == nextMax && deletedOf(r).equals(nextDel);
+        assertTrue(atDone || atNext, "index at maxId " + r.maxId() + " deleted " + deletedOf(r).getCardinality()
+            + ", expected maxId " + doneMax + " deleted " + doneDel.getCardinality() + (pending ? " or maxId "
+            + nextMax + " deleted " + nextDel.getCardinality() : "") + ": " + where);
+        maxId = r.maxId();
+        deleted = deletedOf(r);
+        RoaringBitmap live = r.liveIds();
+        assertEquals(live.getCardinality(), r.meta().numDocs(), where);
+        for (int id : live) {
+          assertArrayEquals(CrashChild.code(id), r.code(id), "code of id " + id + ": " + where);
+          Map<String, String> doc = r.meta().document(id);
+          assertEquals(CrashChild.row(id), doc, "metadata of id " + id + ": " + where);
+        }
+        assertEquals(live, r.meta().select(new org.apache.lucene.search.MatchAllDocsQuery()), where);
+      }
+      IndexWriter.open(dir).close(); // the dead writer's lock file does not block
+    }
+    assertTrue(maxId > 0, why);
+    System.out.println("crash test: " + interrupted + " of " + RUNS + " kills interrupted a change; final maxId " + maxId
+        + ", deleted " + deleted.getCardinality());
+  }
+
+  private static RoaringBitmap deletedOf(IndexReader r) {
+    RoaringBitmap all = new RoaringBitmap();
+    if (r.maxId() > 0) all.add(0L, r.maxId());
+    all.andNot(r.liveIds());
+    return all;
+  }
+
+  private static int size(List<String> lines) {
+    synchronized (lines) {
+      return lines.size();
+    }
+  }
+
+  private static String tail(List<String> lines) {
+    return lines.subList(Math.max(0, lines.size() - 4), lines.size()).toString();
+  }
+}

@@ -1,0 +1,134 @@
+package io.actindex.index.store;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.Randoms;
+import java.io.IOException;
+import java.io.RandomAccessFile;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+import java.util.SplittableRandom;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * A damaged folder never answers: flipping one byte anywhere in any file (codes, tables, manifest,
+ * tombstones, attachment and every Lucene file), truncating a file or deleting the manifest makes
+ * opening fail with a BadInputException that names the file.
+ */
+class DamageTest {
+  @TempDir Path tmp;
+
+  @Test
+  void everyFlippedByteIsReportedWithItsFile() throws IOException {
+    long seed = Randoms.seed(0);
+    String why = Randoms.describe(seed);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    CodeBlock sample = StoreFixtures.sample(seed);
+    Path pristine = tmp.resolve("pristine");
+    StoreFixtures.build(pristine, sample);
+    try (IndexReader r = IndexReader.open(pristine)) {
+      assertEquals(97, r.liveCount(), why);
+    }
+    List<Path> files = StoreFixtures.files(pristine);
+    assertTrue(files.stream().anyMatch(f -> f.getFileName().toString().startsWith("tomb-")), "tombstones present");
+    assertTrue(files.stream().anyMatch(f -> f.getParent().getFileName().toString().equals("meta")), "lucene files present");
+    int trial = 0, checked = 0;
+    for (Path file : files) {
+      long size = Files.size(file);
+      if (size == 0) continue; // the empty lock files carry no data
+      String rel = pristine.relativize(file).toString();
+      // first byte, last byte, and random positions in between
+      long[] positions = {0, size - 1, rnd.nextLong(size), rnd.nextLong(size)};
+      for (long pos : positions) {
+        Path copy = tmp.resolve("t" + trial++);
+        StoreFixtures.copy(pristine, copy);
+        int bit = 1 << rnd.nextInt(8);
+        try (RandomAccessFile raf = new RandomAccessFile(copy.resolve(rel).toFile(), "rw")) {
+          raf.seek(pos);
+          int b = raf.read();
+          raf.seek(pos);
+          raf.write(b ^ bit);
+        }
+        String where = why + " file " + rel + " byte " + pos + " bit " + bit;
+        BadInputException e = assertThrows(BadInputException.class, () -> IndexReader.open(copy).close(), where);
+        assertTrue(e.getMessage().contains(copy.resolve(rel).getFileName().toString()),
+            where + ": message does not name the file: " + e.getMessage());
+        checked++;
+        deleteTree(copy);
+      }
+    }
+    assertTrue(checked >= 4 * 8, "checked " + checked + " damaged copies");
+  }
+
+  @Test
+  void truncatedFilesAreReportedWithTheirName() throws IOException {
+    long seed = Randoms.seed(1);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    Path pristine = tmp.resolve("pristine");
+    StoreFixtures.build(pristine, StoreFixtures.sample(seed));
+    int trial = 0;
+    for (Path file : StoreFixtures.files(pristine)) {
+      long size = Files.size(file);
+      if (size == 0) continue;
+      String rel = pristine.relativize(file).toString();
+      for (long keep : new long[] {0, size - 1, rnd.nextLong(size)}) {
+        Path copy = tmp.resolve("t" + trial++);
+        StoreFixtures.copy(pristine, copy);
+        try (RandomAccessFile raf = new RandomAccessFile(copy.resolve(rel).toFile(), "rw")) {
+          raf.setLength(keep);
+        }
+        String where = Randoms.describe(seed) + " file " + rel + " truncated to " + keep;
+        BadInputException e = assertThrows(BadInputException.class, () -> IndexReader.open(copy).close(), where);
+        assertTrue(e.getMessage().contains(file.getFileName().toString()), where + ": " + e.getMessage());
+        deleteTree(copy);
+      }
+    }
+  }
+
+  @Test
+  void deletedManifestOrDeletedFileIsReported() throws IOException {
+    long seed = Randoms.seed(2);
+    Path pristine = tmp.resolve("pristine");
+    StoreFixtures.build(pristine, StoreFixtures.sample(seed));
+    int trial = 0;
+    for (Path file : StoreFixtures.files(pristine)) {
+      if (Files.size(file) == 0) continue;
+      String rel = pristine.relativize(file).toString();
+      Path copy = tmp.resolve("d" + trial++);
+      StoreFixtures.copy(pristine, copy);
+      Files.delete(copy.resolve(rel));
+      String name = file.getFileName().toString();
+      BadInputException e = assertThrows(BadInputException.class, () -> IndexReader.open(copy).close(), rel);
+      // a missing manifest leaves no generation to name; the message says so
+      String expected = name.startsWith("manifest-") ? "manifest" : name;
+      assertTrue(e.getMessage().contains(expected), rel + ": " + e.getMessage());
+      deleteTree(copy);
+    }
+  }
+
+  @Test
+  void fileOfAnotherIndexIsRefused() throws IOException {
+    long seed = Randoms.seed(3);
+    CodeBlock sample = StoreFixtures.sample(seed);
+    Path a = tmp.resolve("a"), b = tmp.resolve("b");
+    StoreFixtures.build(a, sample);
+    StoreFixtures.build(b, sample);
+    Files.copy(b.resolve("seg-0.codes"), a.resolve("seg-0.codes"), java.nio.file.StandardCopyOption.REPLACE_EXISTING);
+    BadInputException e = assertThrows(BadInputException.class, () -> IndexReader.open(a).close());
+    assertTrue(e.getMessage().contains("seg-0.codes"), e.getMessage());
+  }
+
+  static void deleteTree(Path dir) throws IOException {
+    List<Path> all;
+    try (var s = Files.walk(dir)) {
+      all = s.sorted(java.util.Comparator.reverseOrder()).toList();
+    }
+    for (Path p : all) Files.delete(p);
+  }
+}

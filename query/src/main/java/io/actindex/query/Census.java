@@ -1,0 +1,210 @@
+package io.actindex.query;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.store.IndexReader;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+
+/**
+ * What the data looks like in code space, over the live examples: for each prefix of the layers
+ * (the first layer, the first two, ...) how many distinct regions (codes) the examples occupy, how
+ * the examples spread over them (histogram, quantiles, the largest regions) and how pure the
+ * regions are in labels; and for every neuron how often it fires, with the dead (never on) and
+ * always-on neurons listed as {@code layer:unit}.
+ *
+ * <pre>{@code
+ * Census.Result c = Census.run(reader, new Census.Params(null, 10, 3));
+ * }</pre>
+ */
+public final class Census {
+  private Census() {}
+
+  /**
+   * {@code layers}: the layers, in prefix order (null or empty = all, in layout order); {@code
+   * largest}: how many of the largest regions to list per prefix; {@code examples}: keys per listed region.
+   */
+  public record Params(List<String> layers, int largest, int examples) {
+    public Params {
+      if (largest < 0 || examples < 0) throw new BadInputException("largest and examples must be at least 0");
+      layers = layers == null ? List.of() : List.copyOf(layers);
+    }
+  }
+
+  /** One bucket of the occupancy histogram: regions holding {@code min..max} examples. */
+  public record Bucket(int min, int max, int regions, long examples) {}
+
+  /**
+   * Quantiles of examples per region over the regions (nearest-rank: the smallest count c such that
+   * at least q of the regions hold at most c examples).
+   */
+  public record Quantiles(int min, int p50, int p90, int p99, int max, double mean) {}
+
+  /** One of the largest regions: its size, how many neurons are on in it, its labels and some keys. */
+  public record Big(int count, int active, Map<String, Integer> labels, List<String> keys) {}
+
+  /**
+   * Census of one prefix of layers. {@code purity}: the fraction of labelled examples whose
+   * label is their region's majority label (null when no example has a label); {@code singletons}:
+   * regions holding a single example.
+   */
+  public record Prefix(List<String> layers, int bits, int regions, int singletons, List<Bucket> histogram, Quantiles quantiles,
+      Double purity, List<Big> largest) {}
+
+  /** Firing rates of one layer's units, and its dead and always-on units ({@code layer:unit}). */
+  public record Neurons(String layer, double[] firingRates, List<String> dead, List<String> alwaysOn) {}
+
+  public record Result(int examples, List<Prefix> prefixes, List<Neurons> neurons) {}
+
+  public static Result run(IndexReader reader, Params p) {
+    int[] ids = new int[reader.liveCount()];
+    CodeBlock codes = reader.liveCodes(ids);
+    String[] labels = new String[ids.length], keys = new String[ids.length];
+    boolean hasLabels = reader.meta().fields().containsKey("label");
+    for (int i = 0; i < ids.length; i++) {
+      Map<String, String> doc = reader.meta().document(ids[i]);
+      keys[i] = doc.get("key");
+      if (hasLabels) labels[i] = doc.get("label");
+    }
+    return compute(codes, labels, keys, p);
+  }
+
+  /**
+   * The census of {@code codes}, with {@code labels[i]} (null = none) and {@code keys[i]} for code
+   * {@code i}. Independent of the store, so callers may run it on any code block.
+   */
+  public static Result compute(CodeBlock codes, String[] labels, String[] keys, Params p) {
+    CodeLayout layout = codes.layout();
+    int n = codes.size();
+    if (labels.length != n || keys.length != n) throw new IllegalArgumentException("labels and keys need one entry per code");
+    int[] order = Layers.select(layout, p.layers());
+    List<Prefix> prefixes = new ArrayList<>();
+    long[] mask = new long[layout.words()];
+    List<String> names = new ArrayList<>();
+    int bits = 0;
+    for (int s : order) {
+      long[] m = layout.mask(s);
+      for (int w = 0; w < mask.length; w++) mask[w] |= m[w];
+      names.add(layout.segments().get(s).name());
+      bits += layout.segments().get(s).bits();
+      prefixes.add(prefix(codes, mask, List.copyOf(names), bits, labels, keys, p));
+    }
+    return new Result(n, List.copyOf(prefixes), neurons(codes));
+  }
+
+  private static Prefix prefix(CodeBlock codes, long[] mask, List<String> names, int bits, String[] labels, String[] keys,
+      Params p) {
+    int n = codes.size(), w = codes.wordsPerCode();
+    long[] data = codes.words();
+    Map<Code, List<Integer>> regions = new HashMap<>();
+    for (int i = 0; i < n; i++) {
+      long[] c = new long[w];
+      for (int j = 0; j < w; j++) c[j] = data[i * w + j] & mask[j];
+      regions.computeIfAbsent(new Code(c), k -> new ArrayList<>()).add(i);
+    }
+    int[] sizes = new int[regions.size()];
+    int r = 0, singletons = 0;
+    long majority = 0, labeled = 0;
+    for (List<Integer> members : regions.values()) {
+      sizes[r++] = members.size();
+      if (members.size() == 1) singletons++;
+      Map<String, Integer> mix = mix(members, labels);
+      for (int c : mix.values()) labeled += c;
+      majority += mix.values().stream().mapToInt(Integer::intValue).max().orElse(0);
+    }
+    Arrays.sort(sizes);
+    List<Map.Entry<Code, List<Integer>>> big = new ArrayList<>(regions.entrySet());
+    // largest first; ties by the smallest member (codes are in id order), so the listing is deterministic
+    big.sort((a, b) -> a.getValue().size() != b.getValue().size()
+        ? Integer.compare(b.getValue().size(), a.getValue().size())
+        : Integer.compare(a.getValue().get(0), b.getValue().get(0)));
+    List<Big> largest = new ArrayList<>();
+    for (var e : big.subList(0, Math.min(p.largest(), big.size()))) {
+      List<String> ks = new ArrayList<>();
+      for (int i : e.getValue().subList(0, Math.min(p.examples(), e.getValue().size()))) ks.add(keys[i]);
+      int active = 0;
+      for (long x : e.getKey().words) active += Long.bitCount(x);
+      largest.add(new Big(e.getValue().size(), active, Region.sortedCounts(mix(e.getValue(), labels)), ks));
+    }
+    return new Prefix(names, bits, sizes.length, singletons, histogram(sizes), quantiles(sizes, n),
+        labeled == 0 ? null : majority / (double) labeled, List.copyOf(largest));
+  }
+
+  private static Map<String, Integer> mix(List<Integer> members, String[] labels) {
+    Map<String, Integer> mix = new HashMap<>();
+    for (int i : members) if (labels[i] != null && !labels[i].isEmpty()) mix.merge(labels[i], 1, Integer::sum);
+    return mix;
+  }
+
+  /** Buckets 1, 2, 3-4, 5-8, ... (powers of two); only non-empty buckets. */
+  static List<Bucket> histogram(int[] sortedSizes) {
+    List<Bucket> out = new ArrayList<>();
+    int i = 0;
+    for (long lo = 1, hi = 1; i < sortedSizes.length; lo = hi + 1, hi *= 2) {
+      int regions = 0;
+      long examples = 0;
+      while (i < sortedSizes.length && sortedSizes[i] <= hi) {
+        regions++;
+        examples += sortedSizes[i++];
+      }
+      if (regions > 0) out.add(new Bucket((int) lo, (int) Math.min(hi, Integer.MAX_VALUE), regions, examples));
+    }
+    return out;
+  }
+
+  static Quantiles quantiles(int[] sortedSizes, int examples) {
+    if (sortedSizes.length == 0) return new Quantiles(0, 0, 0, 0, 0, 0);
+    return new Quantiles(sortedSizes[0], rank(sortedSizes, 0.5), rank(sortedSizes, 0.9), rank(sortedSizes, 0.99),
+        sortedSizes[sortedSizes.length - 1], examples / (double) sortedSizes.length);
+  }
+
+  /** Nearest-rank quantile: element ceil(q * n) (1-based). Common practice. */
+  private static int rank(int[] sorted, double q) {
+    int k = (int) Math.ceil(q * sorted.length);
+    return sorted[Math.max(0, k - 1)];
+  }
+
+  private static List<Neurons> neurons(CodeBlock codes) {
+    CodeLayout layout = codes.layout();
+    int n = codes.size();
+    long[] on = new long[layout.bits()];
+    for (int i = 0; i < n; i++) {
+      long[] data = codes.words();
+      int off = i * codes.wordsPerCode();
+      for (int w = 0; w < codes.wordsPerCode(); w++)
+        for (long x = data[off + w]; x != 0; x &= x - 1) on[(w << 6) + Long.numberOfTrailingZeros(x)]++;
+    }
+    List<Neurons> out = new ArrayList<>();
+    for (int s = 0; s < layout.segments().size(); s++) {
+      CodeLayout.Segment seg = layout.segments().get(s);
+      int start = layout.start(s);
+      double[] rates = new double[seg.bits()];
+      List<String> dead = new ArrayList<>(), always = new ArrayList<>();
+      for (int u = 0; u < seg.bits(); u++) {
+        long c = on[start + u];
+        rates[u] = n == 0 ? 0 : c / (double) n;
+        if (n > 0 && c == 0) dead.add(seg.name() + ":" + u);
+        if (n > 0 && c == n) always.add(seg.name() + ":" + u);
+      }
+      out.add(new Neurons(seg.name(), rates, List.copyOf(dead), List.copyOf(always)));
+    }
+    return List.copyOf(out);
+  }
+
+  /** A masked code as a hash key. */
+  private record Code(long[] words) {
+    @Override
+    public boolean equals(Object o) {
+      return o instanceof Code c && Arrays.equals(words, c.words);
+    }
+
+    @Override
+    public int hashCode() {
+      return Arrays.hashCode(words);
+    }
+  }
+}

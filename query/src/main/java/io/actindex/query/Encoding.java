@@ -1,0 +1,92 @@
+package io.actindex.query;
+
+import io.actindex.encode.CodeStream;
+import io.actindex.encode.EncodeOptions;
+import io.actindex.encode.Encoders;
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Arrays;
+
+/**
+ * Reads a {@link Source} to codes, chunk by chunk: at most one chunk of floats is alive at a time,
+ * the codes are kept. Package-private plumbing of {@link IndexBuilder} and {@link QuerySource}.
+ */
+final class Encoding {
+  private Encoding() {}
+
+  /** Default rows per chunk. */
+  static final int CHUNK = 4096;
+
+  /** The codes read, and the encoding options in force (medians filled in; null for a codes file). */
+  record Read(CodeBlock codes, EncodeOptions options) {}
+
+  /**
+   * Encodes the rows of {@code range} from {@code source}. {@code model} is the model file for
+   * inputs (may be a temporary copy of the index's attachment); {@code codesLayout} goes to
+   * {@link Encoders#codes} (may be null).
+   */
+  static Read read(Source source, Path model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
+      int chunk, Progress progress) {
+    try (CodeStream stream = open(source, model, options, codesLayout)) {
+      long total = stream.rows();
+      CodeLayout layout = stream.layout();
+      int w = layout.words();
+      long[] buf = new long[w * 1024];
+      int kept = 0;
+      long row = 0;
+      progress.update(0, total);
+      for (CodeBlock block; (block = stream.next(chunk)) != null; ) {
+        if (!block.layout().equals(layout))
+          throw new IllegalStateException(source.file() + ": the encoder changed layout mid-stream: " + layout + " then " + block.layout());
+        long[] words = block.words();
+        for (int i = 0; i < block.size(); i++, row++) {
+          if (!range.contains(row)) continue;
+          if ((long) (kept + 1) * w > Integer.MAX_VALUE - 16)
+            throw new BadInputException(source.file() + ": too many rows to hold as one block (" + row + ")");
+          if ((kept + 1) * w > buf.length) buf = Arrays.copyOf(buf, Math.max((kept + 1) * w, buf.length * 2));
+          System.arraycopy(words, i * w, buf, kept * w, w);
+          kept++;
+        }
+        progress.update(row, total);
+        if (range.to() != -1 && row >= range.to()) break;
+      }
+      if ((range.to() != -1 && row < range.to()) || (range.from() > 0 && range.from() >= row))
+        throw new BadInputException(source.file() + ": rows " + range + " asked, the file has " + row + " rows");
+      return new Read(new CodeBlock(layout, kept, Arrays.copyOf(buf, kept * w)), stream.options());
+    } catch (IOException e) {
+      throw new UncheckedIOException(source.file() + ": " + e.getMessage(), e);
+    }
+  }
+
+  private static CodeStream open(Source source, Path model, EncodeOptions options, CodeLayout codesLayout) throws IOException {
+    return switch (source.kind()) {
+      case ACTIVATIONS -> Encoders.activations(source.file(), options);
+      case CODES -> Encoders.codes(source.file(), codesLayout);
+      case INPUTS -> Encoders.model(model, source.file(), options);
+    };
+  }
+
+  /** Writes {@code bytes} to a temporary file (for the index's stored model), deleted by the caller. */
+  static Path tempModel(byte[] bytes) {
+    try {
+      Path tmp = Files.createTempFile("actindex-model", ".safetensors");
+      Files.write(tmp, bytes);
+      return tmp;
+    } catch (IOException e) {
+      throw new UncheckedIOException("cannot write a temporary copy of the index's model: " + e.getMessage(), e);
+    }
+  }
+
+  static void deleteQuietly(Path p) {
+    try {
+      if (p != null) Files.deleteIfExists(p);
+    } catch (IOException ignored) {
+      // a leftover temp file is harmless
+    }
+  }
+}

@@ -1,0 +1,177 @@
+package io.actindex.query;
+
+import io.actindex.encode.BinarizeRule;
+import io.actindex.encode.EncodeOptions;
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.store.IndexReader;
+import io.actindex.index.store.IndexWriter;
+import java.io.IOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Comparator;
+import java.util.List;
+import java.util.Map;
+import java.util.stream.Stream;
+
+/**
+ * Builds an index from a source, or adds a source to an existing index, with optional metadata.
+ *
+ * <p>Everything is read and checked before the index is touched: the source is encoded chunk by
+ * chunk (one chunk of floats at a time; the codes are kept), the metadata CSV is read and its row
+ * count compared with the codes, and only then are the codes written as one segment in one atomic
+ * commit. A build that fails after creating its folder removes the folder again.
+ */
+public final class IndexBuilder {
+  private IndexBuilder() {}
+
+  /**
+   * A new index in {@code dir} (absent or empty). {@code encode.layers()} are the layers to keep
+   * (null = all); {@code codesLayout} tells the layout of a codes file when the file cannot (packed
+   * bits), else null; {@code meta} may be null; {@code chunkRows <= 0} means the default.
+   */
+  public record BuildParams(Path dir, Source source, MetaCsv.Options meta, EncodeOptions encode, CodeLayout codesLayout,
+      int chunkRows) {
+    public BuildParams {
+      java.util.Objects.requireNonNull(dir, "dir");
+      java.util.Objects.requireNonNull(source, "source");
+      if (encode == null) encode = new EncodeOptions(BinarizeRule.POSITIVE, 0, null);
+    }
+
+    public BuildParams(Path dir, Source source, MetaCsv.Options meta) {
+      this(dir, source, meta, null, null, 0);
+    }
+  }
+
+  /** New rows for the index in {@code dir}, encoded as the index was built. */
+  public record AddParams(Path dir, Source source, MetaCsv.Options meta, int chunkRows) {
+    public AddParams {
+      java.util.Objects.requireNonNull(dir, "dir");
+      java.util.Objects.requireNonNull(source, "source");
+    }
+  }
+
+  /** What was written: ids {@code [firstId, firstId + rows)} in the layout {@code layout}. */
+  public record Result(int firstId, int rows, CodeLayout layout) {}
+
+  public static Result build(BuildParams p, Progress progress) {
+    if (p.source().kind() == Source.Kind.INPUTS && p.source().model() == null)
+      throw new BadInputException(p.source().file() + ": building from inputs needs a model file");
+    checkEmptyOrAbsent(p.dir());
+    Encoding.Read read = Encoding.read(p.source(), p.source().model(), p.encode(), p.codesLayout(), RowRange.ALL,
+        chunk(p.chunkRows()), orNone(progress));
+    CodeBlock raw = read.codes();
+    CodeBlock codes = keepLayers(raw, p.encode().layers(), p.source().file().toString());
+    if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
+    List<Map<String, String>> meta = readMeta(p.meta(), codes.size(), p.source());
+    byte[] model = p.source().kind() == Source.Kind.INPUTS ? readAll(p.source().model()) : null;
+    // the options in force (per-neuron medians filled in) are what later queries must use
+    EncodeOptions used = read.options() != null ? read.options() : p.encode();
+    BuildInfo info = new BuildInfo(p.source().kind(), raw.layout(), model != null, used);
+
+    boolean existed = Files.exists(p.dir());
+    IndexWriter created;
+    try {
+      created = IndexWriter.create(p.dir(), codes.layout(), info.toProperties());
+    } catch (RuntimeException e) {
+      if (!existed) deleteIfEmpty(p.dir()); // only the empty folder create() may have made
+      throw e;
+    }
+    try (IndexWriter w = created) {
+      if (model != null) w.putAttachment(BuildInfo.MODEL, model);
+      int first = w.add(codes, meta);
+      return new Result(first, codes.size(), codes.layout());
+    } catch (RuntimeException | Error e) {
+      removeBuilt(p.dir(), existed, e);
+      throw e;
+    }
+  }
+
+  public static Result add(AddParams p, Progress progress) {
+    CodeBlock codes;
+    List<Map<String, String>> meta;
+    try (IndexReader r = IndexReader.open(p.dir())) {
+      if (p.source().kind() == Source.Kind.INPUTS && p.source().model() != null) {
+        byte[] stored = r.attachment(BuildInfo.MODEL);
+        if (stored != null && !java.util.Arrays.equals(stored, readAll(p.source().model())))
+          throw new BadInputException(p.source().model() + ": differs from the model the index was built with; leave the model out to use the stored one");
+      }
+      codes = QuerySource.encode(r, p.source(), RowRange.ALL, chunk(p.chunkRows()), orNone(progress), "rows to add");
+      if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
+      meta = readMeta(p.meta(), codes.size(), p.source());
+      if (meta != null)
+        for (int i = 0; i < meta.size(); i++) {
+          String key = meta.get(i).get("key");
+          if (key != null && r.meta().idOfKey(key) >= 0)
+            throw new BadInputException(p.meta().file() + ": data row " + (i + 1) + ": key '" + key + "' is already in the index");
+        }
+    }
+    try (IndexWriter w = IndexWriter.open(p.dir())) {
+      int first = w.add(codes, meta);
+      return new Result(first, codes.size(), codes.layout());
+    }
+  }
+
+  private static CodeBlock keepLayers(CodeBlock raw, List<String> layers, String file) {
+    if (layers == null || layers.isEmpty()) return raw;
+    int[] keep = Layers.select(raw.layout(), layers);
+    List<CodeLayout.Segment> segs = new java.util.ArrayList<>();
+    for (int s : keep) segs.add(raw.layout().segments().get(s));
+    return Layers.project(raw, new CodeLayout(segs));
+  }
+
+  private static List<Map<String, String>> readMeta(MetaCsv.Options o, int rows, Source source) {
+    if (o == null) return null;
+    List<Map<String, String>> meta = MetaCsv.read(o);
+    if (meta.size() != rows)
+      throw new BadInputException(o.file() + ": " + meta.size() + " data rows, but " + source.file() + " has " + rows + " rows");
+    return meta;
+  }
+
+  private static void checkEmptyOrAbsent(Path dir) {
+    if (!Files.exists(dir)) return;
+    if (!Files.isDirectory(dir)) throw new BadInputException(dir + ": exists and is not a folder");
+    try (Stream<Path> s = Files.list(dir)) {
+      if (s.findAny().isPresent()) throw new BadInputException(dir + ": folder is not empty; build needs a new or empty folder");
+    } catch (IOException e) {
+      throw new BadInputException(dir + ": cannot list: " + e.getMessage(), e);
+    }
+  }
+
+  /** Removes what a failed build wrote; the folder was absent or empty before, so all of it is ours. */
+  private static void removeBuilt(Path dir, boolean existed, Throwable failure) {
+    if (!Files.exists(dir)) return;
+    try (Stream<Path> walk = Files.walk(dir)) {
+      for (Path f : walk.sorted(Comparator.reverseOrder()).toList())
+        if (!existed || !f.equals(dir)) Files.delete(f);
+    } catch (IOException e) {
+      failure.addSuppressed(e);
+    }
+  }
+
+  private static void deleteIfEmpty(Path dir) {
+    try {
+      Files.deleteIfExists(dir);
+    } catch (IOException notEmptyOrGone) {
+      // someone else's files: leave them
+    }
+  }
+
+  private static byte[] readAll(Path file) {
+    try {
+      return Files.readAllBytes(file);
+    } catch (IOException e) {
+      throw new BadInputException(file + ": cannot read: " + e.getMessage(), e);
+    }
+  }
+
+  private static int chunk(int rows) {
+    return rows > 0 ? rows : Encoding.CHUNK;
+  }
+
+  private static Progress orNone(Progress p) {
+    return p == null ? Progress.NONE : p;
+  }
+
+}

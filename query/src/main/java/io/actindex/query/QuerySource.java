@@ -1,0 +1,54 @@
+package io.actindex.query;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.store.IndexReader;
+import java.nio.file.Path;
+
+/**
+ * Turns a query source (activations, codes, or inputs run through the index's stored model) into
+ * query codes encoded exactly as the index was built (rule, threshold, layers kept), and refuses
+ * codes whose layout does not fit the index with a {@link BadInputException} saying expected vs got.
+ *
+ * <pre>{@code
+ * QueryCodes q = QuerySource.load(reader, Source.activations(Path.of("test.npy")), RowRange.parse("0:10"));
+ * }</pre>
+ */
+public final class QuerySource {
+  private QuerySource() {}
+
+  public static QueryCodes load(IndexReader reader, Source source, RowRange rows) {
+    return load(reader, source, rows, Progress.NONE);
+  }
+
+  public static QueryCodes load(IndexReader reader, Source source, RowRange rows, Progress progress) {
+    RowRange range = rows == null ? RowRange.ALL : rows;
+    CodeBlock codes = encode(reader, source, range, Encoding.CHUNK, progress, "query");
+    return new QueryCodes(codes, range.from());
+  }
+
+  /** Encodes {@code source} with the index's stored options and aligns it to the index layout. */
+  static CodeBlock encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what) {
+    BuildInfo info = BuildInfo.fromProperties(reader.properties(), "index");
+    CodeLayout target = reader.layout();
+    Path model = source.model();
+    Path temp = null;
+    try {
+      if (source.kind() == Source.Kind.INPUTS && model == null) {
+        byte[] stored = reader.attachment(BuildInfo.MODEL);
+        if (stored == null)
+          throw new BadInputException(source.file() + ": " + what + " given as inputs, but the index holds no model; give activations or codes");
+        model = temp = Encoding.tempModel(stored);
+      }
+      // a codes file is read in the layout the index was built from when that was a codes file too
+      CodeLayout codesLayout = source.kind() != Source.Kind.CODES ? null
+          : info.kind() == Source.Kind.CODES ? info.sourceLayout() : target;
+      CodeBlock raw = Encoding.read(source, model, info.encode(), codesLayout, range, chunk, progress == null ? Progress.NONE : progress)
+          .codes();
+      return Layers.align(raw, target, info.sourceLayout(), source.file().toString());
+    } finally {
+      Encoding.deleteQuietly(temp);
+    }
+  }
+}

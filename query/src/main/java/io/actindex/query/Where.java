@@ -1,0 +1,253 @@
+package io.actindex.query;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.meta.MetaStore;
+import io.actindex.index.meta.MetaStore.FieldKind;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.TreeSet;
+import org.apache.lucene.document.DoublePoint;
+import org.apache.lucene.index.Term;
+import org.apache.lucene.search.BooleanClause.Occur;
+import org.apache.lucene.search.BooleanQuery;
+import org.apache.lucene.search.MatchAllDocsQuery;
+import org.apache.lucene.search.Query;
+import org.apache.lucene.search.TermQuery;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Parses a metadata filter ("where-expression") into a Lucene query over the metadata fields.
+ *
+ * <pre>
+ * expr       := orExpr
+ * orExpr     := andExpr ( "or" andExpr )*
+ * andExpr    := notExpr ( "and" notExpr )*
+ * notExpr    := "not" notExpr | "(" expr ")" | comparison
+ * comparison := FIELD op VALUE | FIELD [ "not" ] "in" "(" VALUE ( "," VALUE )* ")"
+ * op         := "=" | "!=" | "&lt;" | "&lt;=" | "&gt;" | "&gt;="
+ * VALUE      := bare word | 'single quoted' | "double quoted"   (backslash escapes the quote)
+ * </pre>
+ *
+ * Keywords ({@code and or not in}) are case-insensitive; field names are not. A bare word is any
+ * run of characters other than spaces, quotes, parentheses, commas, {@code = ! < >}; quote values
+ * that hold those or that spell a keyword. On a NUMBER field the value must parse as a number and
+ * {@code = != < <= > >=} compare numerically; on a KEYWORD field only {@code =}, {@code !=} and
+ * {@code in} are allowed and compare exact strings. {@code a != v} and {@code not ...} also match
+ * examples that have no value for {@code a}. An unknown field or a syntax error is a {@link
+ * BadInputException} that names the 1-based character position.
+ */
+public final class Where {
+  private final String text;
+  private final Map<String, FieldKind> fields;
+  private final List<Token> tokens;
+  private int pos;
+
+  private Where(String text, Map<String, FieldKind> fields) {
+    this.text = text;
+    this.fields = fields;
+    this.tokens = tokenize(text);
+  }
+
+  /** Parses {@code expr} against the given field kinds. */
+  public static Query parse(String expr, Map<String, FieldKind> fields) {
+    if (expr == null || expr.isBlank()) throw new BadInputException("where: empty expression");
+    Where w = new Where(expr, fields);
+    Query q = w.or();
+    if (w.peek().type != T.END) throw w.error(w.peek(), "expected 'and', 'or' or the end, found " + w.peek().describe());
+    return q;
+  }
+
+  /** The live ids that match {@code expr}, or {@code null} (no filter) when it is null or blank. */
+  public static RoaringBitmap select(MetaStore meta, String expr) {
+    if (expr == null || expr.isBlank()) return null;
+    return meta.select(parse(expr, meta.fields()));
+  }
+
+  // ---- grammar
+
+  private Query or() {
+    List<Query> parts = new ArrayList<>(List.of(and()));
+    while (peekWord("or")) {
+      pos++;
+      parts.add(and());
+    }
+    if (parts.size() == 1) return parts.get(0);
+    BooleanQuery.Builder b = new BooleanQuery.Builder().setMinimumNumberShouldMatch(1);
+    for (Query q : parts) b.add(q, Occur.SHOULD);
+    return b.build();
+  }
+
+  private Query and() {
+    List<Query> parts = new ArrayList<>(List.of(not()));
+    while (peekWord("and")) {
+      pos++;
+      parts.add(not());
+    }
+    if (parts.size() == 1) return parts.get(0);
+    BooleanQuery.Builder b = new BooleanQuery.Builder();
+    for (Query q : parts) b.add(q, Occur.FILTER);
+    return b.build();
+  }
+
+  private Query not() {
+    if (peekWord("not")) {
+      pos++;
+      return negate(not());
+    }
+    Token t = peek();
+    if (t.type == T.LPAREN) {
+      pos++;
+      Query q = or();
+      expect(T.RPAREN, "')'");
+      return q;
+    }
+    return comparison();
+  }
+
+  private Query comparison() {
+    Token field = next();
+    if (field.type != T.WORD || isKeyword(field.text))
+      throw error(field, "expected a field name, found " + field.describe());
+    FieldKind kind = fields.get(field.text);
+    if (kind == null)
+      throw error(field, "unknown field '" + field.text + "'; known fields: " + String.join(", ", new TreeSet<>(fields.keySet())));
+    boolean negated = false;
+    if (peekWord("not")) {
+      pos++;
+      negated = true;
+      if (!peekWord("in")) throw error(peek(), "expected 'in' after 'not', found " + peek().describe());
+    }
+    if (peekWord("in")) {
+      pos++;
+      expect(T.LPAREN, "'(' after 'in'");
+      BooleanQuery.Builder b = new BooleanQuery.Builder().setMinimumNumberShouldMatch(1);
+      b.add(equalsQuery(field.text, kind, value()), Occur.SHOULD);
+      while (peek().type == T.COMMA) {
+        pos++;
+        b.add(equalsQuery(field.text, kind, value()), Occur.SHOULD);
+      }
+      expect(T.RPAREN, "',' or ')'");
+      Query q = b.build();
+      return negated ? negate(q) : q;
+    }
+    Token op = next();
+    if (op.type != T.OP) throw error(op, "expected = != < <= > >= or 'in' after '" + field.text + "', found " + op.describe());
+    Token v = value();
+    return switch (op.text) {
+      case "=" -> equalsQuery(field.text, kind, v);
+      case "!=" -> negate(equalsQuery(field.text, kind, v));
+      default -> {
+        if (kind != FieldKind.NUMBER)
+          throw error(op, "'" + op.text + "' needs a number field; '" + field.text + "' holds text (use = != in)");
+        double x = number(v);
+        yield switch (op.text) {
+          case "<" -> DoublePoint.newRangeQuery(field.text, Double.NEGATIVE_INFINITY, Math.nextDown(x));
+          case "<=" -> DoublePoint.newRangeQuery(field.text, Double.NEGATIVE_INFINITY, x);
+          case ">" -> DoublePoint.newRangeQuery(field.text, Math.nextUp(x), Double.POSITIVE_INFINITY);
+          default -> DoublePoint.newRangeQuery(field.text, x, Double.POSITIVE_INFINITY);
+        };
+      }
+    };
+  }
+
+  private Query equalsQuery(String field, FieldKind kind, Token v) {
+    return kind == FieldKind.NUMBER ? DoublePoint.newExactQuery(field, number(v)) : new TermQuery(new Term(field, v.text));
+  }
+
+  private static Query negate(Query q) {
+    return new BooleanQuery.Builder().add(new MatchAllDocsQuery(), Occur.FILTER).add(q, Occur.MUST_NOT).build();
+  }
+
+  private double number(Token v) {
+    try {
+      double x = Double.parseDouble(v.text);
+      if (Double.isFinite(x)) return x;
+    } catch (NumberFormatException ignored) {
+      // reported below
+    }
+    throw error(v, "'" + v.text + "' is not a number");
+  }
+
+  private Token value() {
+    Token v = next();
+    if (v.type == T.STRING || (v.type == T.WORD && !isKeyword(v.text))) return v;
+    throw error(v, "expected a value, found " + v.describe());
+  }
+
+  // ---- tokens
+
+  private enum T { WORD, STRING, OP, LPAREN, RPAREN, COMMA, END }
+
+  private record Token(T type, String text, int at) {
+    String describe() {
+      return type == T.END ? "the end" : "'" + text + "'";
+    }
+  }
+
+  private Token peek() {
+    return tokens.get(pos);
+  }
+
+  private Token next() {
+    Token t = tokens.get(pos);
+    if (t.type != T.END) pos++;
+    return t;
+  }
+
+  private boolean peekWord(String keyword) {
+    Token t = peek();
+    return t.type == T.WORD && t.text.equalsIgnoreCase(keyword);
+  }
+
+  private void expect(T type, String what) {
+    Token t = next();
+    if (t.type != type) throw error(t, "expected " + what + ", found " + t.describe());
+  }
+
+  private static boolean isKeyword(String s) {
+    return s.equalsIgnoreCase("and") || s.equalsIgnoreCase("or") || s.equalsIgnoreCase("not") || s.equalsIgnoreCase("in");
+  }
+
+  private BadInputException error(Token t, String message) {
+    return new BadInputException("where: at position " + (t.at + 1) + ": " + message + " in: " + text);
+  }
+
+  private List<Token> tokenize(String s) {
+    List<Token> out = new ArrayList<>();
+    int i = 0, n = s.length();
+    while (i < n) {
+      char c = s.charAt(i);
+      if (Character.isWhitespace(c)) {
+        i++;
+      } else if (c == '(' || c == ')' || c == ',') {
+        out.add(new Token(c == '(' ? T.LPAREN : c == ')' ? T.RPAREN : T.COMMA, String.valueOf(c), i));
+        i++;
+      } else if (c == '=' || c == '!' || c == '<' || c == '>') {
+        int start = i++;
+        if (i < n && s.charAt(i) == '=') i++;
+        String op = s.substring(start, i);
+        if (op.equals("!")) throw new BadInputException("where: at position " + (start + 1) + ": '!' must be followed by '=' in: " + s);
+        if (op.equals("==")) op = "=";
+        out.add(new Token(T.OP, op, start));
+      } else if (c == '\'' || c == '"') {
+        int start = i++;
+        StringBuilder b = new StringBuilder();
+        while (true) {
+          if (i >= n) throw new BadInputException("where: at position " + (start + 1) + ": quote never closed in: " + s);
+          char d = s.charAt(i++);
+          if (d == c) break;
+          if (d == '\\' && i < n) d = s.charAt(i++);
+          b.append(d);
+        }
+        out.add(new Token(T.STRING, b.toString(), start));
+      } else {
+        int start = i;
+        while (i < n && !Character.isWhitespace(s.charAt(i)) && "()',\"=!<>".indexOf(s.charAt(i)) < 0) i++;
+        out.add(new Token(T.WORD, s.substring(start, i), start));
+      }
+    }
+    out.add(new Token(T.END, "", n));
+    return out;
+  }
+}

@@ -1,0 +1,138 @@
+package io.actindex.query;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.Randoms;
+import io.actindex.index.SyntheticCodes;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.HashSet;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.SplittableRandom;
+import java.util.TreeMap;
+import org.junit.jupiter.api.Test;
+
+class CensusTest {
+
+  /**
+   * One hidden layer of 3 ReLU units on 2-D inputs whose lines (x = 0, y = 0, x + y = 1) are in
+   * general position cut the plane into 1 + 3 + C(3,2) = 7 regions: T. Zaslavsky, "Facing up to
+   * arrangements: face-count formulas for partitions of space by hyperplanes", Memoirs of the AMS
+   * 154, 1975 (for lines in general position, r = 1 + n + C(n, 2)). The missing sign pattern is
+   * (x<=0, y<=0, x+y>1). A grid over [-4, 4]^2 meets every region.
+   */
+  @Test
+  void threeLinesInGeneralPositionGiveSevenRegions() {
+    HandNet net = HandNet.threeLines();
+    CodeBlock codes = net.grid(-4, 4, 81);
+    Census.Result c = Census.compute(codes, new String[codes.size()], keys(codes.size()), new Census.Params(null, 10, 2));
+    assertEquals(1 + 3 + 3, c.prefixes().get(0).regions());
+    Set<String> seen = new HashSet<>();
+    for (int i = 0; i < codes.size(); i++) seen.add(bits(codes, i, 0, 3));
+    assertThat(seen).doesNotContain("001").hasSize(7);
+    assertEquals(7, c.prefixes().get(0).regions());
+    assertThat(c.neurons().get(0).dead()).isEmpty();
+    assertThat(c.neurons().get(0).alwaysOn()).isEmpty();
+  }
+
+  /** Four lines in general position: 1 + 4 + C(4,2) = 11 regions (Zaslavsky 1975, as above). */
+  @Test
+  void fourLinesInGeneralPositionGiveElevenRegions() {
+    double[][] w = {{1, 0}, {0, 1}, {1, 1}, {1, -2}};
+    double[] b = {0, 0, -1, -0.5};
+    CodeBlock codes = new HandNet(w, b).grid(-10, 10, 201);
+    Census.Result c = Census.compute(codes, new String[codes.size()], keys(codes.size()), new Census.Params(null, 0, 0));
+    assertEquals(1 + 4 + 6, c.prefixes().get(0).regions());
+  }
+
+  @Test
+  void censusEqualsDirectComputationOnReluCodes() {
+    for (int rep = 0; rep < 8; rep++) {
+      long seed = Randoms.seed(rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      SyntheticCodes.Sample s = SyntheticCodes.reluLike(200 + rnd.nextInt(300), 4 + rnd.nextInt(12), 3 + rnd.nextInt(10), seed);
+      CodeBlock codes = s.codes();
+      int n = codes.size();
+      String[] labels = new String[n], keys = keys(n);
+      for (int i = 0; i < n; i++) labels[i] = rnd.nextInt(5) == 0 ? null : "c" + (s.cluster()[i] % 4);
+      Census.Result c = Census.compute(codes, labels, keys, new Census.Params(null, 3, 2));
+      String why = Randoms.describe(seed);
+      assertEquals(n, c.examples(), why);
+      CodeLayout layout = codes.layout();
+      int end = 0;
+      for (int p = 0; p < layout.segments().size(); p++) {
+        end += layout.segments().get(p).bits();
+        // direct: group by the bit string of the prefix
+        Map<String, List<Integer>> regions = new HashMap<>();
+        for (int i = 0; i < n; i++) regions.computeIfAbsent(bits(codes, i, 0, end), k -> new ArrayList<>()).add(i);
+        Census.Prefix got = c.prefixes().get(p);
+        assertEquals(regions.size(), got.regions(), why);
+        assertEquals(end, got.bits(), why);
+        long single = regions.values().stream().filter(l -> l.size() == 1).count();
+        assertEquals(single, got.singletons(), why);
+        int max = regions.values().stream().mapToInt(List::size).max().orElseThrow();
+        assertEquals(max, got.quantiles().max(), why);
+        assertEquals(max, got.largest().get(0).count(), why);
+        assertEquals(n / (double) regions.size(), got.quantiles().mean(), 1e-12, why);
+        List<Integer> sizes = regions.values().stream().map(List::size).sorted().toList();
+        // nearest-rank median: the smallest size with at least half of the regions at or below it
+        int median = sizes.stream().filter(x -> sizes.stream().filter(y -> y <= x).count() * 2 >= sizes.size()).findFirst().orElseThrow();
+        assertEquals(median, got.quantiles().p50(), why);
+        assertEquals(regions.size(), got.histogram().stream().mapToInt(Census.Bucket::regions).sum(), why);
+        assertEquals(n, got.histogram().stream().mapToLong(Census.Bucket::examples).sum(), why);
+        for (Census.Bucket bk : got.histogram())
+          assertEquals(sizes.stream().filter(x -> x >= bk.min() && x <= bk.max()).count(), bk.regions(), why);
+        // purity: sum over regions of the majority label count / labelled examples
+        long maj = 0, lab = 0;
+        for (List<Integer> members : regions.values()) {
+          Map<String, Integer> cnt = new TreeMap<>();
+          for (int i : members) if (labels[i] != null) cnt.merge(labels[i], 1, Integer::sum);
+          maj += cnt.values().stream().mapToInt(x -> x).max().orElse(0);
+          lab += cnt.values().stream().mapToInt(x -> x).sum();
+        }
+        assertEquals(maj / (double) lab, got.purity(), 1e-12, why);
+      }
+      // firing rates, dead and always-on
+      int bit = 0;
+      for (Census.Neurons layer : c.neurons()) {
+        for (int u = 0; u < layer.firingRates().length; u++, bit++) {
+          int on = 0;
+          for (int i = 0; i < n; i++) if (codes.bit(i, bit)) on++;
+          assertEquals(on / (double) n, layer.firingRates()[u], 1e-12, why);
+          assertEquals(on == 0, layer.dead().contains(layer.layer() + ":" + u), why);
+          assertEquals(on == n, layer.alwaysOn().contains(layer.layer() + ":" + u), why);
+        }
+      }
+    }
+  }
+
+  @Test
+  void prefixesFollowTheChosenLayerOrder() {
+    SyntheticCodes.Sample s = SyntheticCodes.reluLike(300, 10, 6, Randoms.seed(99));
+    int n = s.codes().size();
+    Census.Result c = Census.compute(s.codes(), new String[n], keys(n), new Census.Params(List.of("h2"), 1, 1));
+    assertEquals(1, c.prefixes().size());
+    assertEquals(List.of("h2"), c.prefixes().get(0).layers());
+    Set<String> direct = new HashSet<>();
+    for (int i = 0; i < n; i++) direct.add(bits(s.codes(), i, 10, 16));
+    assertEquals(direct.size(), c.prefixes().get(0).regions());
+    assertEquals(null, c.prefixes().get(0).purity());
+  }
+
+  static String[] keys(int n) {
+    String[] k = new String[n];
+    for (int i = 0; i < n; i++) k[i] = "k" + i;
+    return k;
+  }
+
+  static String bits(CodeBlock codes, int i, int from, int to) {
+    StringBuilder sb = new StringBuilder();
+    for (int b = from; b < to; b++) sb.append(codes.bit(i, b) ? '1' : '0');
+    return sb.toString();
+  }
+}

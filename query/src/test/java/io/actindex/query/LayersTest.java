@@ -1,0 +1,58 @@
+package io.actindex.query;
+
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.Randoms;
+import io.actindex.index.SyntheticCodes;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+
+class LayersTest {
+  static final CodeLayout SOURCE = CodeLayout.parse("a:50,b:30,c:70");
+  static final CodeLayout INDEX = CodeLayout.parse("a:50,c:70");
+
+  @Test
+  void projectKeepsTheNamedSegmentsBitForBit() {
+    long seed = Randoms.seed(1);
+    CodeBlock flat = SyntheticCodes.uniform(40, 150, seed);
+    CodeBlock src = Layers.relabel(flat, SOURCE);
+    CodeBlock got = Layers.project(src, INDEX);
+    for (int i = 0; i < 40; i++) {
+      for (int b = 0; b < 50; b++) assertEquals(src.bit(i, b), got.bit(i, b), Randoms.describe(seed));
+      for (int b = 0; b < 70; b++) assertEquals(src.bit(i, 80 + b), got.bit(i, 50 + b), Randoms.describe(seed));
+    }
+    // a single-segment file of the source's width is read as the source layout, then projected
+    assertEquals(got.layout(), Layers.align(flat, INDEX, SOURCE, "q.npy").layout());
+    assertEquals(java.util.Arrays.toString(got.words()), java.util.Arrays.toString(Layers.align(flat, INDEX, SOURCE, "q.npy").words()));
+  }
+
+  @Test
+  void alignRefusesOtherWidthsSayingExpectedAndGot() {
+    CodeBlock wrong = SyntheticCodes.uniform(3, 119, 7);
+    assertThatThrownBy(() -> Layers.align(wrong, INDEX, SOURCE, "q.npy")).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("q.npy").hasMessageContaining("119 bits").hasMessageContaining("a:50,c:70 (120 bits)");
+    CodeBlock swapped = Layers.relabel(SyntheticCodes.uniform(3, 120, 7), CodeLayout.parse("c:70,a:50"));
+    assertEquals(INDEX, Layers.align(swapped, INDEX, SOURCE, "q.npz").layout()); // found by name
+    CodeBlock other = Layers.relabel(SyntheticCodes.uniform(3, 120, 7), CodeLayout.parse("x:50,y:70"));
+    assertThatThrownBy(() -> Layers.align(other, INDEX, SOURCE, "q.npz")).isInstanceOf(BadInputException.class);
+  }
+
+  @Test
+  void neuronNamesAndLayerSelection() {
+    assertEquals("a:49", Layers.neuron(SOURCE, 49));
+    assertEquals("b:0", Layers.neuron(SOURCE, 50));
+    assertEquals("c:69", Layers.neuron(SOURCE, 149));
+    long[] bits = new long[SOURCE.words()];
+    bits[0] |= 1L << 3;
+    bits[1] |= 1L << (79 - 64) | 1L << (80 - 64);
+    assertEquals(List.of("a:3", "b:29", "c:0"), Layers.neurons(SOURCE, bits));
+    assertEquals(List.of(2, 0), java.util.Arrays.stream(Layers.select(SOURCE, List.of("c", "a"))).boxed().toList());
+    assertThatThrownBy(() -> Layers.select(SOURCE, List.of("d"))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("'d'").hasMessageContaining("a, b, c");
+    assertThatThrownBy(() -> Layers.select(SOURCE, List.of("a", "a"))).hasMessageContaining("twice");
+  }
+}

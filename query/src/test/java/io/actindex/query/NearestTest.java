@@ -1,0 +1,138 @@
+package io.actindex.query;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+
+import io.actindex.index.BruteForce;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.Hits;
+import io.actindex.index.Randoms;
+import io.actindex.index.SyntheticCodes;
+import io.actindex.index.store.IndexReader;
+import io.actindex.index.store.IndexWriter;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import java.util.function.Predicate;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Nearest through a real index (several segments, deletes, a later add) equals a brute-force
+ * scan over all codes written in this test, with filters and layer choices.
+ */
+class NearestTest {
+  @TempDir Path tmp;
+
+  record Filter(String where, Predicate<Map<String, String>> test) {}
+
+  static final List<Filter> FILTERS = List.of(
+      new Filter(null, r -> true),
+      new Filter("split = train", r -> "train".equals(r.get("split"))),
+      new Filter("label in (cat, owl) and score >= 4", r -> ("cat".equals(r.get("label")) || "owl".equals(r.get("label")))
+          && Integer.parseInt(r.get("score")) >= 4),
+      new Filter("not (label = dog or score < 2)", r -> !("dog".equals(r.get("label")) || Integer.parseInt(r.get("score")) < 2)));
+
+  @Test
+  void equalsBruteForceWithFiltersLayersDeletesAndAdds() {
+    for (int rep = 0; rep < 4; rep++) {
+      long seed = Randoms.seed(rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      String why = Randoms.describe(seed);
+      CodeBlock all = rep % 2 == 0
+          ? SyntheticCodes.reluLike(500, 20 + rnd.nextInt(60), 10 + rnd.nextInt(40), seed).codes()
+          : Layers.relabel(SyntheticCodes.uniform(500, 90, seed), CodeLayout.parse("h1:60,h2:30"));
+      List<Map<String, String>> meta = TestIndexes.rows(0, 500, rnd);
+      Path dir = tmp.resolve("i" + rep);
+      TestIndexes.write(dir, all.slice(0, 400), meta.subList(0, 400), 3);
+      RoaringBitmap deleted = new RoaringBitmap();
+      for (int i = 0; i < 40; i++) deleted.add(rnd.nextInt(400));
+      try (IndexWriter w = IndexWriter.open(dir)) {
+        w.delete(deleted);
+      }
+      check(dir, all, 400, meta, deleted, rnd, why);
+      try (IndexWriter w = IndexWriter.open(dir)) {
+        w.add(all.slice(400, 500), meta.subList(400, 500));
+      }
+      check(dir, all, 500, meta, deleted, rnd, why);
+    }
+  }
+
+  private void check(Path dir, CodeBlock all, int n, List<Map<String, String>> meta, RoaringBitmap deleted, SplittableRandom rnd,
+      String why) {
+    CodeLayout layout = all.layout();
+    try (IndexReader r = IndexReader.open(dir)) {
+      for (int t = 0; t < 8; t++) {
+        Filter f = FILTERS.get(rnd.nextInt(FILTERS.size()));
+        List<String> layers = switch (rnd.nextInt(3)) {
+          case 0 -> null;
+          case 1 -> List.of("h2");
+          default -> List.of("h1", "h2");
+        };
+        long[] mask = layers == null ? null : layout.mask(Layers.select(layout, layers));
+        int k = 1 + rnd.nextInt(30);
+        // queries: some indexed codes with a few bits flipped
+        int nq = 1 + rnd.nextInt(5);
+        long[] qw = new long[nq * layout.words()];
+        for (int q = 0; q < nq; q++) {
+          long[] c = all.code(rnd.nextInt(n));
+          for (int flips = rnd.nextInt(4); flips > 0; flips--) {
+            int b = rnd.nextInt(layout.bits());
+            c[b >>> 6] ^= 1L << (b & 63);
+          }
+          System.arraycopy(c, 0, qw, q * layout.words(), c.length);
+        }
+        QueryCodes queries = new QueryCodes(new CodeBlock(layout, nq, qw), 10);
+        List<Nearest.Result> got = Nearest.run(r, queries, new Nearest.Params(k, f.where(), layers, 1 + rnd.nextInt(3)), null);
+        assertEquals(nq, got.size(), why);
+        for (int q = 0; q < nq; q++) {
+          long[] qc = queries.codes().code(q);
+          Hits want = BruteForce.knn(all.slice(0, n), qc, k, i -> !deleted.contains(i) && f.test().test(meta.get(i)), mask);
+          Nearest.Result res = got.get(q);
+          assertEquals(10 + q, res.row(), why);
+          assertEquals(want.size(), res.neighbors().size(), f.where() + " " + why);
+          Map<String, long[]> votes = new HashMap<>();
+          for (int h = 0; h < want.size(); h++) {
+            Nearest.Neighbor nb = res.neighbors().get(h);
+            int id = want.ord(h);
+            assertEquals(id, nb.id(), why);
+            assertEquals(want.dist(h), nb.distance(), why);
+            assertEquals("k" + id, nb.key(), why);
+            assertEquals(meta.get(id).get("label"), nb.label(), why);
+            assertEquals(meta.get(id).get("split"), nb.split(), why);
+            assertEquals(Map.of("score", meta.get(id).get("score")), nb.meta(), why);
+            // per-layer distances, bit by bit
+            List<String> shown = layers == null ? List.of("h1", "h2") : layers;
+            assertEquals(shown, new ArrayList<>(nb.layerDistances().keySet()), why);
+            for (String layer : shown) {
+              int s = layout.indexOf(layer), from = layout.start(s), to = from + layout.segments().get(s).bits(), d = 0;
+              for (int b = from; b < to; b++) if (all.bit(id, b) != ((qc[b >>> 6] >>> (b & 63) & 1) != 0)) d++;
+              assertEquals(d, nb.layerDistances().get(layer), why);
+            }
+            if (nb.label() != null) {
+              long[] v = votes.computeIfAbsent(nb.label(), x -> new long[2]);
+              v[0]++;
+              v[1] += nb.distance();
+            }
+          }
+          // vote: most votes, then smallest total distance, then name
+          String best = null;
+          for (var e : votes.entrySet()) {
+            long[] v = e.getValue();
+            if (best == null) {
+              best = e.getKey();
+              continue;
+            }
+            long[] b = votes.get(best);
+            if (v[0] > b[0] || (v[0] == b[0] && (v[1] < b[1] || (v[1] == b[1] && e.getKey().compareTo(best) < 0)))) best = e.getKey();
+          }
+          assertEquals(best, res.vote() == null ? null : res.vote().label(), why);
+        }
+      }
+    }
+  }
+}

@@ -1,0 +1,194 @@
+package io.actindex.query;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+import static org.junit.jupiter.api.Assertions.assertEquals;
+
+import io.actindex.index.BadInputException;
+import io.actindex.index.Randoms;
+import io.actindex.index.meta.MetaStore.FieldKind;
+import java.io.IOException;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import java.util.function.Predicate;
+import org.apache.lucene.document.Document;
+import org.apache.lucene.document.DoublePoint;
+import org.apache.lucene.document.Field;
+import org.apache.lucene.document.StoredField;
+import org.apache.lucene.document.StringField;
+import org.apache.lucene.index.DirectoryReader;
+import org.apache.lucene.index.IndexWriterConfig;
+import org.apache.lucene.search.IndexSearcher;
+import org.apache.lucene.search.Query;
+import org.apache.lucene.search.ScoreDoc;
+import org.apache.lucene.store.ByteBuffersDirectory;
+import org.junit.jupiter.api.Test;
+
+/**
+ * Random where-expressions, each generated together with an equivalent Java predicate, give the
+ * same rows through Lucene as the predicate gives on a direct scan of the metadata rows. The rows
+ * are indexed here as the metadata store documents it: KEYWORD columns as exact strings, NUMBER
+ * columns as double points.
+ */
+class WhereTest {
+  static final Map<String, FieldKind> FIELDS = Map.of("label", FieldKind.KEYWORD, "split", FieldKind.KEYWORD,
+      "score", FieldKind.NUMBER, "source", FieldKind.KEYWORD, "n", FieldKind.NUMBER);
+  static final String[] LABELS = {"cat", "dog", "and", "big cat", "x'y"};
+  static final String[] SPLITS = {"train", "test", "val"};
+  static final String[] SOURCES = {"a", "b", "c-1"};
+
+  record Row(String label, String split, Double score, String source, Double n) {}
+
+  @Test
+  void randomExpressionsMatchADirectScan() throws IOException {
+    for (int rep = 0; rep < 30; rep++) {
+      long seed = Randoms.seed(rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      List<Row> rows = rows(rnd, 60 + rnd.nextInt(60));
+      try (ByteBuffersDirectory dir = index(rows); DirectoryReader reader = DirectoryReader.open(dir)) {
+        IndexSearcher searcher = new IndexSearcher(reader);
+        for (int e = 0; e < 20; e++) {
+          Expr ex = expr(rnd, 3);
+          Query q = Where.parse(ex.text, FIELDS);
+          List<Integer> got = new ArrayList<>();
+          for (ScoreDoc sd : searcher.search(q, rows.size() + 1).scoreDocs)
+            got.add(Integer.parseInt(searcher.storedFields().document(sd.doc).get("row")));
+          got.sort(null);
+          List<Integer> want = new ArrayList<>();
+          for (int i = 0; i < rows.size(); i++) if (ex.test.test(rows.get(i))) want.add(i);
+          assertEquals(want, got, ex.text + " " + Randoms.describe(seed));
+        }
+      }
+    }
+  }
+
+  @Test
+  void documentedExampleMatchesItsMeaning() throws IOException {
+    List<Row> rows = List.of(new Row("cat", "train", 0.7, "a", 1.0), new Row("cat", "test", 0.9, "a", 1.0),
+        new Row("cat", "val", 0.1, "b", 1.0), new Row("cat", "val", 0.2, "c-1", 1.0), new Row("dog", "train", 0.9, "a", 1.0),
+        new Row("cat", null, null, null, null));
+    try (ByteBuffersDirectory dir = index(rows); DirectoryReader reader = DirectoryReader.open(dir)) {
+      IndexSearcher s = new IndexSearcher(reader);
+      Query q = Where.parse("label = cat and split != test and (score >= 0.5 or source in (a, b))", FIELDS);
+      List<String> got = new ArrayList<>();
+      for (ScoreDoc sd : s.search(q, 10).scoreDocs) got.add(s.storedFields().document(sd.doc).get("row"));
+      got.sort(null);
+      assertEquals(List.of("0", "2"), got);
+    }
+  }
+
+  @Test
+  void errorsNameThePosition() {
+    assertThatThrownBy(() -> Where.parse("label = cat and colour = red", FIELDS))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("position 17").hasMessageContaining("unknown field 'colour'");
+    assertThatThrownBy(() -> Where.parse("label = cat and", FIELDS))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("position 16").hasMessageContaining("the end");
+    assertThatThrownBy(() -> Where.parse("(label = cat", FIELDS)).hasMessageContaining("position 13").hasMessageContaining("')'");
+    assertThatThrownBy(() -> Where.parse("score > high", FIELDS)).hasMessageContaining("position 9").hasMessageContaining("not a number");
+    assertThatThrownBy(() -> Where.parse("label < cat", FIELDS)).hasMessageContaining("position 7").hasMessageContaining("number field");
+    assertThatThrownBy(() -> Where.parse("label = 'cat", FIELDS)).hasMessageContaining("position 9").hasMessageContaining("quote");
+    assertThatThrownBy(() -> Where.parse("label ! cat", FIELDS)).hasMessageContaining("position 7");
+    assertThatThrownBy(() -> Where.parse("label in ()", FIELDS)).hasMessageContaining("position 11").hasMessageContaining("value");
+    assertThatThrownBy(() -> Where.parse("label = cat dog", FIELDS)).hasMessageContaining("position 13");
+    assertThatThrownBy(() -> Where.parse(" ", FIELDS)).isInstanceOf(BadInputException.class).hasMessageContaining("empty");
+    assertThatThrownBy(() -> Where.parse("or label = cat", FIELDS)).hasMessageContaining("position 1").hasMessageContaining("field name");
+    assertThat(Where.parse("label == 'and' AND NOT score < 1e-3", FIELDS)).isNotNull();
+  }
+
+  // ---- random expressions with their meaning
+
+  record Expr(String text, Predicate<Row> test, int kind) {} // kind: 0 atom, 1 and, 2 or, 3 not
+
+  static Expr expr(SplittableRandom rnd, int depth) {
+    int pick = depth == 0 ? 0 : rnd.nextInt(5);
+    if (pick <= 1) return atom(rnd);
+    if (pick == 4) {
+      Expr a = expr(rnd, depth - 1);
+      return new Expr("not " + wrap(a, a.kind == 1 || a.kind == 2), a.test.negate(), 3);
+    }
+    boolean and = pick == 2;
+    Expr a = expr(rnd, depth - 1), b = expr(rnd, depth - 1);
+    // precedence: not > and > or; parenthesize only where needed, or at random anyway
+    boolean wrapA = (and && a.kind == 2) || rnd.nextInt(4) == 0, wrapB = (and ? b.kind == 2 : false) || rnd.nextInt(4) == 0;
+    // 'or' is left-associative and 'and' too; a right operand of the same kind needs no parentheses either way
+    String text = wrap(a, wrapA) + (and ? (rnd.nextBoolean() ? " and " : " AND ") : " or ") + wrap(b, wrapB);
+    return new Expr(text, and ? a.test.and(b.test) : a.test.or(b.test), and ? 1 : 2);
+  }
+
+  static String wrap(Expr e, boolean paren) {
+    return paren ? "(" + e.text + ")" : e.text;
+  }
+
+  static Expr atom(SplittableRandom rnd) {
+    switch (rnd.nextInt(4)) {
+      case 0 -> {
+        String v = LABELS[rnd.nextInt(LABELS.length)];
+        boolean ne = rnd.nextBoolean();
+        return new Expr("label " + (ne ? "!=" : "=") + " " + quote(v), r -> ne != v.equals(r.label), 0);
+      }
+      case 1 -> {
+        String a = SPLITS[rnd.nextInt(3)], b = SPLITS[rnd.nextInt(3)];
+        boolean not = rnd.nextBoolean();
+        return new Expr("split " + (not ? "not in" : "in") + " (" + a + ", '" + b + "')",
+            r -> not != (a.equals(r.split) || b.equals(r.split)), 0);
+      }
+      case 2 -> {
+        String[] ops = {"=", "!=", "<", "<=", ">", ">="};
+        String op = ops[rnd.nextInt(ops.length)];
+        double x = rnd.nextInt(11) / 10.0;
+        String field = rnd.nextBoolean() ? "score" : "n";
+        Predicate<Row> p = r -> {
+          Double v = field.equals("score") ? r.score : r.n;
+          if (v == null) return op.equals("!=");
+          return switch (op) {
+            case "=" -> v == x;
+            case "!=" -> v != x;
+            case "<" -> v < x;
+            case "<=" -> v <= x;
+            case ">" -> v > x;
+            default -> v >= x;
+          };
+        };
+        return new Expr(field + " " + op + " " + x, p, 0);
+      }
+      default -> {
+        String v = SOURCES[rnd.nextInt(SOURCES.length)];
+        return new Expr("source = \"" + v + "\"", r -> v.equals(r.source), 0);
+      }
+    }
+  }
+
+  static String quote(String v) {
+    if (v.matches("[a-z]+") && !v.equals("and")) return v;
+    return "'" + v.replace("'", "\\'") + "'";
+  }
+
+  static List<Row> rows(SplittableRandom rnd, int n) {
+    List<Row> rows = new ArrayList<>();
+    for (int i = 0; i < n; i++)
+      rows.add(new Row(rnd.nextInt(8) == 0 ? null : LABELS[rnd.nextInt(LABELS.length)], SPLITS[rnd.nextInt(3)],
+          rnd.nextInt(6) == 0 ? null : rnd.nextInt(11) / 10.0, SOURCES[rnd.nextInt(3)],
+          rnd.nextInt(5) == 0 ? null : (double) (rnd.nextInt(3) - 1) / 2));
+    return rows;
+  }
+
+  static ByteBuffersDirectory index(List<Row> rows) throws IOException {
+    ByteBuffersDirectory dir = new ByteBuffersDirectory();
+    try (org.apache.lucene.index.IndexWriter w = new org.apache.lucene.index.IndexWriter(dir, new IndexWriterConfig())) {
+      for (int i = 0; i < rows.size(); i++) {
+        Row r = rows.get(i);
+        Document d = new Document();
+        d.add(new StoredField("row", Integer.toString(i)));
+        if (r.label != null) d.add(new StringField("label", r.label, Field.Store.NO));
+        if (r.split != null) d.add(new StringField("split", r.split, Field.Store.NO));
+        if (r.source != null) d.add(new StringField("source", r.source, Field.Store.NO));
+        if (r.score != null) d.add(new DoublePoint("score", r.score));
+        if (r.n != null) d.add(new DoublePoint("n", r.n));
+        w.addDocument(d);
+      }
+    }
+    return dir;
+  }
+}
