@@ -4,6 +4,7 @@ import io.actindex.cli.format.CsvWriter;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
 import io.actindex.index.CodeLayout;
+import io.actindex.index.mih.SearcherStats;
 import io.actindex.index.store.IndexInfo;
 import io.actindex.index.store.IndexReader;
 import java.io.PrintWriter;
@@ -59,7 +60,7 @@ final class InfoCommand implements Callable<Integer> {
         .member("deleted", info.maxId() - info.liveCount())
         .member("bytes_on_disk", info.bytesOnDisk())
         .name("segments").beginArray();
-    for (IndexInfo.SegmentInfo s : info.segments())
+    for (IndexInfo.SegmentInfo s : info.segments()) {
       j.beginObject()
           .member("segment", s.segmentId())
           .member("first_id", s.firstId())
@@ -67,21 +68,53 @@ final class InfoCommand implements Callable<Integer> {
           .member("count", s.count())
           .member("deleted", s.deleted())
           .member("bytes", s.bytes())
-          .member("searcher", s.searcher())
-          .member("dropped_constant_bits", s.droppedConstantBits())
-          .endObject();
+          .member("dropped_constant_bits", s.droppedConstantBits());
+      searcher(j.name("searcher"), s.searcher());
+      j.endObject();
+    }
     j.endArray().name("properties").stringMap(props).endObject();
     out.println();
   }
 
+  private static void searcher(JsonWriter j, SearcherStats st) {
+    j.beginObject()
+        .member("substrings", st.substrings())
+        .member("constant_bits", st.constantBits())
+        .member("indexed_bits", st.indexedBits())
+        .name("cascade").value(st.cascade())
+        .member("table_bytes", st.tableBytes())
+        .member("code_bytes", st.codeBytes())
+        .name("tables").beginArray();
+    for (SearcherStats.Table t : st.tables())
+      j.beginObject()
+          .member("width", t.width())
+          .name("dense").value(t.dense())
+          .member("non_empty_buckets", t.nonEmptyBuckets())
+          .member("max_bucket", t.maxBucket())
+          .member("mean_collisions", t.meanCollisions())
+          .member("key_entropy", t.keyEntropy())
+          .member("bytes", t.bytes())
+          .endObject();
+    j.endArray().endObject();
+  }
+
+  /** "scan", or "4 tables of 16+16+16+15 bits" (+ "cascade"). */
+  static String plan(SearcherStats st) {
+    if (st.substrings() == 0) return "scan";
+    List<String> widths = new ArrayList<>();
+    for (SearcherStats.Table t : st.tables()) widths.add(Integer.toString(t.width()));
+    return st.substrings() + (st.substrings() == 1 ? " table of " : " tables of ") + String.join("+", widths) + " bits"
+        + (st.cascade() ? ", cascade" : "");
+  }
+
   private static List<String> header() {
-    return List.of("segment", "first_id", "end_id", "count", "deleted", "bytes", "dropped_constant_bits", "searcher");
+    return List.of("segment", "first_id", "end_id", "count", "deleted", "bytes", "dropped_constant_bits", "search_plan");
   }
 
   private static List<String> row(IndexInfo.SegmentInfo s) {
     return List.of(Integer.toString(s.segmentId()), Integer.toString(s.firstId()), Integer.toString(s.endId()),
         Integer.toString(s.count()), Integer.toString(s.deleted()), Long.toString(s.bytes()),
-        Integer.toString(s.droppedConstantBits()), s.searcher());
+        Integer.toString(s.droppedConstantBits()), plan(s.searcher()));
   }
 
   private static void csv(PrintWriter out, IndexInfo info) {
@@ -102,7 +135,7 @@ final class InfoCommand implements Callable<Integer> {
     TextTable t = new TextTable(List.of("segment", "ids", "count", "deleted", "size", "constant bits dropped", "search plan"));
     for (IndexInfo.SegmentInfo s : info.segments())
       t.row(List.of(Integer.toString(s.segmentId()), s.firstId() + ".." + (s.endId() - 1), Integer.toString(s.count()),
-          Integer.toString(s.deleted()), Units.bytes(s.bytes()), Integer.toString(s.droppedConstantBits()), s.searcher()));
+          Integer.toString(s.deleted()), Units.bytes(s.bytes()), Integer.toString(s.droppedConstantBits()), plan(s.searcher())));
     t.print(out, "  ");
     if (!props.isEmpty()) {
       out.println();
