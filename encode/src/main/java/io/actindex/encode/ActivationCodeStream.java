@@ -11,7 +11,7 @@ import java.util.Map;
 /** Binarizes the layers of a {@link LayerSource} chunk by chunk into codes, one segment per layer. */
 final class ActivationCodeStream implements CodeStream {
   /** Values per internal chunk (all layers together). */
-  static final int CHUNK_VALUES = 1 << 20;
+  static final int CHUNK_VALUES = 1 << 18;
 
   private final LayerSource src;
   private final EncodeOptions options;

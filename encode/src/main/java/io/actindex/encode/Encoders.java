@@ -6,6 +6,7 @@ import io.actindex.encode.io.NpyReader;
 import io.actindex.encode.io.NpzReader;
 import io.actindex.encode.mlp.Mlp;
 import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
 import io.actindex.index.CodeLayout;
 import java.io.IOException;
 import java.nio.file.Files;
@@ -117,6 +118,24 @@ public final class Encoders {
       MatrixReader r = matrix.open();
       return new LayerSource.Readers(r.source(), List.of(layer), List.of(r), null);
     }, o);
+  }
+
+  /**
+   * Every remaining code of {@code s} in one block (for inputs that fit in memory: queries, tests);
+   * null if none remain.
+   */
+  public static CodeBlock readAll(CodeStream s) throws IOException {
+    int words = s.layout().words();
+    long[] all = new long[0];
+    int n = 0;
+    CodeBlock b;
+    while ((b = s.next(65536)) != null) {
+      if ((long) (n + b.size()) * words > Integer.MAX_VALUE - 8) throw new IllegalStateException("too many codes for one block");
+      if ((n + b.size()) * words > all.length) all = Arrays.copyOf(all, Math.max((n + b.size()) * words, all.length * 2));
+      System.arraycopy(b.words(), 0, all, n * words, b.size() * words);
+      n += b.size();
+    }
+    return n == 0 ? null : new CodeBlock(s.layout(), n, Arrays.copyOf(all, n * words));
   }
 
   /** Opens a {@code .npy} or {@code .csv} matrix. */

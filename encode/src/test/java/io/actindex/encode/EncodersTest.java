@@ -19,10 +19,10 @@ import java.util.SplittableRandom;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
-class EncodersTest {
+public class EncodersTest {
   @TempDir Path tmp;
 
-  static CodeBlock all(CodeStream s, int chunk) throws IOException {
+  public static CodeBlock all(CodeStream s, int chunk) throws IOException {
     CodeBlock out = null, b;
     while ((b = s.next(chunk)) != null) out = out == null ? b : out.concat(b);
     return out;

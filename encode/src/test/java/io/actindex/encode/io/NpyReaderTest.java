@@ -107,6 +107,33 @@ class NpyReaderTest {
     }
   }
 
+  @Test
+  void nanDeepInsideALargeFileIsFoundByRowInBothOrders() throws IOException {
+    int n = 100_000, d = 3;
+    long badRow = 70_001;
+    for (boolean fortran : new boolean[] {false, true}) {
+      Path f = tmp.resolve("deep-" + fortran + ".npy");
+      byte[] head = NpyHeader.write(NpyDtype.FLOAT32, ByteOrder.LITTLE_ENDIAN, fortran, new long[] {n, d}, 0);
+      ByteBuffer data = ByteBuffer.allocate(n * d * 4).order(ByteOrder.LITTLE_ENDIAN);
+      for (int i = 0; i < n * d; i++) data.putFloat(i % 5 - 2f);
+      int at = fortran ? (int) (2 * n + badRow) : (int) (badRow * d + 2);
+      data.putFloat(at * 4, Float.NaN);
+      Files.write(f, concat(head, data.array()));
+      for (boolean asFloat : new boolean[] {false, true}) {
+        assertThatThrownBy(() -> {
+          try (NpyReader r = NpyReader.open(f)) {
+            float[] fb = new float[4096 * d];
+            double[] db = new double[4096 * d];
+            while ((asFloat ? r.read(fb, 4096) : r.read(db, 4096)) > 0) {
+              // keep reading
+            }
+          }
+        }).as("fortran=" + fortran + " float=" + asFloat).isInstanceOf(BadInputException.class)
+            .hasMessageContaining("row " + badRow + ", column 2").hasMessageContaining("NaN");
+      }
+    }
+  }
+
   // ---- bad input: each refused with the file named and the field or place at fault
 
   @Test

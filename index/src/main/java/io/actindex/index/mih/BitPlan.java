@@ -177,11 +177,13 @@ final class BitPlan {
       m = o.substrings();
       indexed = (int) Math.min(k, (long) SearchPlanOptions.MAX_SUBSTRING_BITS * m);
     } else {
-      m = Math.max(1, (int) Math.round(k / lg));
+      // about L / log2(n), rounded so that no table is wider than floor(log2 n) bits: a dense table
+      // then has at most n buckets (4 bytes of offsets per code)
+      m = Math.max(1, (k + (int) lg - 1) / (int) lg);
       m = Math.max(m, (k + SearchPlanOptions.MAX_SUBSTRING_BITS - 1) / SearchPlanOptions.MAX_SUBSTRING_BITS);
       if (m > o.maxSubstrings()) {
         m = o.maxSubstrings();
-        int width = (int) Math.min(SearchPlanOptions.MAX_SUBSTRING_BITS, Math.max(1, Math.round(lg)));
+        int width = (int) Math.min(SearchPlanOptions.MAX_SUBSTRING_BITS, Math.max(1, (int) lg));
         indexed = (int) Math.min(k, (long) width * m);
       } else indexed = k;
     }
@@ -210,83 +212,50 @@ final class BitPlan {
     return tables;
   }
 
-  /**
-   * Tables stay inside one layout segment where the table count allows (so per-layer masks can use
-   * them); within a segment, bits go greedily, highest entropy first, to the table whose estimated
-   * entropy is lowest, penalising tables that already hold a bit correlated with the new one.
-   */
   private static int[][] balanced(CodeBlock codes, int[] chosen, double[] entropy, int m) {
-    CodeLayout layout = codes.layout();
-    int segs = layout.segments().size();
-    int[] segOf = new int[chosen.length];
-    int[] segBits = new int[segs];
-    for (int i = 0, s = 0; i < chosen.length; i++) {
-      while (chosen[i] >= layout.start(s) + layout.segments().get(s).bits()) s++;
-      segOf[i] = s;
-      segBits[s]++;
-    }
-    int nonEmpty = 0;
-    for (int c : segBits) if (c > 0) nonEmpty++;
-    int[] quota = new int[segs];
-    if (nonEmpty > m) {
-      Arrays.fill(segOf, 0);
-      Arrays.fill(segBits, 0);
-      segBits[0] = chosen.length;
-      quota[0] = m;
-    } else {
-      int given = 0;
-      for (int s = 0; s < segs; s++) {
-        if (segBits[s] == 0) continue;
-        quota[s] = Math.max(Math.max(1, (int) ((long) m * segBits[s] / chosen.length)),
-            (segBits[s] + SearchPlanOptions.MAX_SUBSTRING_BITS - 1) / SearchPlanOptions.MAX_SUBSTRING_BITS);
-        quota[s] = Math.min(quota[s], segBits[s]);
-        given += quota[s];
-      }
-      while (given < m) { // the rest by largest bits-per-table
-        int best = -1;
-        for (int s = 0; s < segs; s++)
-          if (quota[s] > 0 && quota[s] < segBits[s] && (best < 0 || (double) segBits[s] / quota[s] > (double) segBits[best] / quota[best])) best = s;
-        if (best < 0) break;
-        quota[best]++;
-        given++;
-      }
-    }
-    Sample sample = new Sample(codes, chosen);
-    List<int[]> out = new ArrayList<>();
-    for (int s = 0; s < segs; s++) {
-      if (quota[s] == 0) continue;
-      List<Integer> members = new ArrayList<>();
-      for (int i = 0; i < chosen.length; i++) if (segOf[i] == s) members.add(i);
-      out.addAll(greedy(members, chosen, entropy, quota[s], sample));
-    }
-    return out.toArray(new int[0][]);
+    List<Integer> members = new ArrayList<>();
+    for (int i = 0; i < chosen.length; i++) members.add(i);
+    return greedy(members, chosen, entropy, m, new Sample(codes, chosen)).toArray(new int[0][]);
   }
 
+  /**
+   * Draft assignment: the table whose key entropy (measured on a sample) is lowest takes, among the
+   * bits left, the one that raises its entropy most (ties: the higher per-bit entropy, then the
+   * lower position). Bits that copy a bit already in the table add nothing there, so correlated
+   * bits end up in different tables.
+   */
   private static List<int[]> greedy(List<Integer> members, int[] chosen, double[] entropy, int m, Sample sample) {
     members.sort((a, b) -> entropy[chosen[a]] != entropy[chosen[b]]
         ? Double.compare(entropy[chosen[b]], entropy[chosen[a]]) : Integer.compare(a, b));
-    int total = members.size();
+    int total = members.size(), rows = sample.size;
     int[] cap = new int[m];
     for (int t = 0; t < m; t++) cap[t] = total / m + (t < total % m ? 1 : 0);
     List<List<Integer>> tables = new ArrayList<>();
     for (int t = 0; t < m; t++) tables.add(new ArrayList<>());
-    double[] load = new double[m];
-    for (int i : members) {
+    int[][] group = new int[m][rows]; // group of each sample row under the table's key so far
+    int[][] groupSize = new int[m][];
+    for (int t = 0; t < m; t++) groupSize[t] = new int[] {rows};
+    double[] h = new double[m];
+    int[] ones = new int[Math.max(1, rows * 2)];
+    boolean[] taken = new boolean[total];
+    for (int step = 0; step < total; step++) {
+      int t = -1;
+      for (int u = 0; u < m; u++) if (tables.get(u).size() < cap[u] && (t < 0 || h[u] < h[t])) t = u;
       int best = -1;
-      double bestCost = 0, bestGain = 0;
-      for (int t = 0; t < m; t++) {
-        if (tables.get(t).size() >= cap[t]) continue;
-        double redundancy = 0;
-        for (int j : tables.get(t)) redundancy = Math.max(redundancy, sample.mutualInformation(i, j));
-        double cost = load[t] + 2 * redundancy;
-        if (best < 0 || cost < bestCost) {
-          best = t;
-          bestCost = cost;
-          bestGain = Math.max(0, entropy[chosen[i]] - redundancy);
+      double bestH = -1;
+      for (int idx = 0; idx < total; idx++) {
+        if (taken[idx]) continue;
+        double hb = sample.splitEntropy(members.get(idx), group[t], groupSize[t], ones);
+        if (hb > bestH + 1e-9) {
+          bestH = hb;
+          best = idx;
         }
       }
-      tables.get(best).add(i);
-      load[best] += bestGain;
+      taken[best] = true;
+      int bit = members.get(best);
+      tables.get(t).add(bit);
+      groupSize[t] = sample.split(bit, group[t], groupSize[t].length);
+      h[t] = bestH;
     }
     List<int[]> out = new ArrayList<>();
     for (List<Integer> t : tables) {
@@ -298,14 +267,14 @@ final class BitPlan {
     return out;
   }
 
-  /** Bit columns of up to 4096 evenly spaced codes, for pairwise mutual information. */
+  /** Bit columns of up to 8192 evenly spaced codes, for key entropies. */
   private static final class Sample {
     private final long[][] columns;
     private final int size;
 
     Sample(CodeBlock codes, int[] chosen) {
       int n = codes.size();
-      size = Math.min(n, 4096);
+      size = Math.min(n, 8192);
       columns = new long[chosen.length][(size + 63) >>> 6];
       for (int r = 0; r < size; r++) {
         int i = (int) ((long) r * n / size);
@@ -314,20 +283,35 @@ final class BitPlan {
       }
     }
 
-    double mutualInformation(int a, int b) {
+    /** Entropy of the key (groups refined by bit column c), in bits. */
+    double splitEntropy(int c, int[] group, int[] groupSize, int[] ones) {
       if (size == 0) return 0;
-      int n11 = 0, na = 0, nb = 0;
-      long[] x = columns[a], y = columns[b];
-      for (int i = 0; i < x.length; i++) {
-        n11 += Long.bitCount(x[i] & y[i]);
-        na += Long.bitCount(x[i]);
-        nb += Long.bitCount(y[i]);
+      long[] col = columns[c];
+      for (int i = 0; i < col.length; i++)
+        for (long x = col[i]; x != 0; x &= x - 1) ones[group[(i << 6) + Long.numberOfTrailingZeros(x)]]++;
+      double h = 0, n = size;
+      for (int g = 0; g < groupSize.length; g++) {
+        int one = ones[g], zero = groupSize[g] - one;
+        h -= plogp(one / n) + plogp(zero / n);
+        ones[g] = 0;
       }
-      double n = size;
-      int n10 = na - n11, n01 = nb - n11, n00 = size - na - nb + n11;
-      double ha = binaryEntropy(na / n), hb = binaryEntropy(nb / n);
-      double hab = -(plogp(n11 / n) + plogp(n10 / n) + plogp(n01 / n) + plogp(n00 / n));
-      return Math.max(0, ha + hb - hab);
+      return h;
+    }
+
+    /** Refines the groups by bit column c in place; returns the new group sizes. */
+    int[] split(int c, int[] group, int groups) {
+      int[] id = new int[2 * groups];
+      Arrays.fill(id, -1);
+      int next = 0;
+      long[] col = columns[c];
+      for (int r = 0; r < size; r++) {
+        int key = 2 * group[r] + (int) (col[r >>> 6] >>> (r & 63) & 1);
+        if (id[key] < 0) id[key] = next++;
+        group[r] = id[key];
+      }
+      int[] sizes = new int[next];
+      for (int r = 0; r < size; r++) sizes[group[r]]++;
+      return sizes;
     }
   }
 

@@ -28,10 +28,12 @@ import java.util.function.IntPredicate;
  */
 final class MihSearcher implements CodeSearcher {
   // Cost model in rough nanoseconds on one core; only the ratios matter.
-  private static final double PROBE_DENSE = 20, PROBE_SPARSE = 70, CANDIDATE = 30;
+  private static final double PROBE_DENSE = 20, PROBE_SPARSE = 50, CANDIDATE = 30;
   private static final double SCAN_PER_CODE = 0.4, SCAN_PER_WORD = 0.3;
   /** Work the tables may spend on a query without knowing it will finish cheaper than a scan. */
   private static final double EAGER = 0.07;
+  /** Work the first round (every table's own bucket) may take. */
+  private static final double FIRST_ROUND = 0.3;
   /** Work the tables may spend in all once an upper bound shows they finish within it. */
   private static final double PROVEN = 0.9;
 
@@ -41,7 +43,8 @@ final class MihSearcher implements CodeSearcher {
   final SearchPlanOptions.Strategy strategy;
   private final ScanSearcher scan;
   private final double scanCost;
-  private final double[] prior; // expected candidates per probe, per table
+  private final double[] ownRate; // expected codes in the query's own bucket, per table
+  private final double[] nearRate; // expected codes per probe of a neighbouring bucket, per table
   private final ThreadLocal<Scratch> scratch;
 
   MihSearcher(CodeBlock codes, BitPlan plan, SubstringTable[] tables, SearchPlanOptions.Strategy strategy) {
@@ -52,8 +55,12 @@ final class MihSearcher implements CodeSearcher {
     this.scan = new ScanSearcher(codes);
     int n = codes.size();
     this.scanCost = n * (SCAN_PER_CODE + SCAN_PER_WORD * codes.wordsPerCode());
-    this.prior = new double[tables.length];
-    for (int t = 0; t < tables.length; t++) prior[t] = Math.max(1.0, tables[t].stats().meanCollisions());
+    this.ownRate = new double[tables.length];
+    this.nearRate = new double[tables.length];
+    for (int t = 0; t < tables.length; t++) {
+      ownRate[t] = Math.max(1.0, tables[t].stats().meanCollisions());
+      nearRate[t] = Math.max(0.05, neighbourOccupancy(t));
+    }
     this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
   }
 
@@ -85,6 +92,7 @@ final class MihSearcher implements CodeSearcher {
           int t = active[j];
           if (rho <= tables[t].width) {
             if (strategy == SearchPlanOptions.Strategy.AUTO && !worthIt(s, top, kk, active, rho, j, c)) {
+              s.scanned = true;
               return scan.knn(query, k, accept, mask, top.size() == kk ? top.bound() : Integer.MAX_VALUE);
             }
             shell(s, t, rho, query, accept, mask, top, 0);
@@ -115,7 +123,10 @@ final class MihSearcher implements CodeSearcher {
         for (int j = 0; j < m; j++)
           for (int x = 0; x <= Math.min(tables[active[j]].width, rr / m - (j <= rr % m ? 0 : 1)); x++)
             est += shellCost(s, active[j], x);
-        if (est > PROVEN * scanCost) return scan.radius(query, radius, accept, mask);
+        if (est > PROVEN * scanCost) {
+          s.scanned = true;
+          return scan.radius(query, radius, accept, mask);
+        }
       }
       for (int j = 0; j < m; j++) {
         int t = active[j];
@@ -129,14 +140,15 @@ final class MihSearcher implements CodeSearcher {
   }
 
   /**
-   * Planner: may the tables probe shell (rho, j) next? Yes while the work so far plus that shell
-   * stays under a small share of a scan, or while an upper bound of the work still needed (from
-   * the current k-th best distance) fits under most of a scan. Otherwise the caller scans.
+   * Planner: may the tables probe shell (rho, j) next? Until the first round (substring radius 0)
+   * is done and k candidates are known, yes while the work so far plus that shell stays under a
+   * small share of a scan. After that, yes while an upper bound of the work still needed (every
+   * shell up to the current k-th best distance) fits under most of a scan. Otherwise the caller
+   * scans.
    */
   private boolean worthIt(Scratch s, TopK top, int k, int[] active, int rho, int j, int c) {
-    double next = shellCost(s, active[j], rho);
-    if (s.work + next <= EAGER * scanCost) return true;
-    if (top.size() < k) return false;
+    if (rho == 0) return s.work + shellCost(s, active[j], rho) <= FIRST_ROUND * scanCost;
+    if (top.size() < k) return s.work + shellCost(s, active[j], rho) <= EAGER * scanCost;
     int m = active.length, bound = top.bound();
     double remaining = 0;
     for (int x = rho, jj = j; x * m + jj - 1 + c < bound; ) {
@@ -155,9 +167,25 @@ final class MihSearcher implements CodeSearcher {
   private double shellCost(Scratch s, int t, int rho) {
     SubstringTable tab = tables[t];
     double probes = Math.min(ProbeEnumerator.count(tab.width, rho), tab.buckets());
-    // expected candidates per probe: the table's prior, corrected by what this query has met
-    double rate = (prior[t] * 16 + s.candidates) / (16 + s.probes);
+    // codes per probe: the table's prior, corrected by what this query met in neighbouring buckets
+    double rate = rho == 0 ? ownRate[t] : (nearRate[t] * 64 + s.nearCandidates) / (64 + s.nearProbes);
     return probes * ((tab.dense() ? PROBE_DENSE : PROBE_SPARSE) + rate * CANDIDATE);
+  }
+
+  /** Mean size of the buckets one bit away from the keys of up to 256 evenly spaced codes. */
+  private double neighbourOccupancy(int t) {
+    SubstringTable tab = tables[t];
+    int n = codes.size(), samples = Math.min(n, 256), w = codes.wordsPerCode();
+    if (samples == 0) return 0;
+    long sum = 0;
+    for (int i = 0; i < samples; i++) {
+      int key = plan.key(codes.words(), (int) ((long) i * n / samples) * w, t);
+      for (int f = 0; f < tab.width; f++) {
+        int b = tab.bucket(key ^ (1 << f));
+        if (b >= 0) sum += tab.offsets[b + 1] - tab.offsets[b];
+      }
+    }
+    return sum / ((double) samples * tab.width);
   }
 
   /**
@@ -208,7 +236,20 @@ final class MihSearcher implements CodeSearcher {
     if (byBucket) probes = tab.buckets();
     s.probes += probes;
     s.candidates += cands;
+    if (rho > 0) {
+      s.nearProbes += probes;
+      s.nearCandidates += cands;
+    }
     s.work += probes * (tab.dense() ? PROBE_DENSE : PROBE_SPARSE) + cands * CANDIDATE;
+  }
+
+  /**
+   * Expert, for tests and tuning: {probes, candidates, 1 if the planner fell back to the scan} of
+   * the last query this thread ran on this searcher.
+   */
+  long[] lastQueryWork() {
+    Scratch s = scratch.get();
+    return new long[] {s.probes, s.candidates, s.scanned ? 1 : 0};
   }
 
   /** Tables usable under the mask: all (null mask) or those whose bits the mask covers. */
@@ -227,9 +268,9 @@ final class MihSearcher implements CodeSearcher {
     int touchedCount;
     int[] hitOrds = new int[16], hitDists = new int[16];
     int hits;
-    long probes, candidates;
+    long probes, candidates, nearProbes, nearCandidates;
     double work;
-    boolean inUse;
+    boolean inUse, scanned;
 
     Scratch(int n, int tables) {
       visited = new long[(n + 63) >>> 6];
@@ -243,7 +284,10 @@ final class MihSearcher implements CodeSearcher {
       s.hits = 0;
       s.probes = 0;
       s.candidates = 0;
+      s.nearProbes = 0;
+      s.nearCandidates = 0;
       s.work = 0;
+      s.scanned = false;
       for (int t : active) s.keys[t] = owner.plan.key(query, 0, t);
       return s;
     }

@@ -50,8 +50,24 @@ public final class Searchers {
     return build(codes, SearchPlanOptions.defaults());
   }
 
+  /**
+   * The searcher under {@code opts}. With an automatic table count, a plan whose tables carry much
+   * less key entropy than {@code log2(n)} (correlated bits: the buckets would be huge) is replaced
+   * once by one with proportionally fewer, wider tables.
+   */
   public static CodeSearcher build(CodeBlock codes, SearchPlanOptions opts) {
-    BitPlan plan = BitPlan.choose(codes, opts);
+    MihSearcher s = build(codes, BitPlan.choose(codes, opts), opts.strategy());
+    int m = s.tables.length, n = codes.size();
+    if (opts.substrings() == 0 && m > 1 && n > 1) {
+      double lg = Math.log(n) / Math.log(2), h = stats(s).tables().stream().mapToDouble(SearcherStats.Table::keyEntropy).average().orElse(lg);
+      int kept = s.plan.bits() - s.plan.constantBits();
+      int fewer = Math.max((int) Math.round(m * h / lg), (kept + SearchPlanOptions.MAX_SUBSTRING_BITS - 1) / SearchPlanOptions.MAX_SUBSTRING_BITS);
+      if (h < lg - 3 && fewer < m) s = build(codes, BitPlan.choose(codes, opts.withSubstrings(fewer)), opts.strategy());
+    }
+    return s;
+  }
+
+  private static MihSearcher build(CodeBlock codes, BitPlan plan, SearchPlanOptions.Strategy strategy) {
     SubstringTable[] tables = new SubstringTable[plan.tables()];
     int n = codes.size(), w = codes.wordsPerCode();
     long[] data = codes.words();
@@ -60,7 +76,7 @@ public final class Searchers {
       for (int ord = 0; ord < n; ord++) keyOf[ord] = plan.key(data, ord * w, t);
       tables[t] = SubstringTable.build(plan.width(t), keyOf);
     }
-    return new MihSearcher(codes, plan, tables, opts.strategy());
+    return new MihSearcher(codes, plan, tables, strategy);
   }
 
   /** Bit plan, table occupancy and memory of a searcher from {@link #build}; a plain scan has no tables. */

@@ -1,0 +1,111 @@
+package io.actindex.encode;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+
+import io.actindex.encode.io.NpyDtype;
+import io.actindex.encode.io.NpyWriter;
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import java.io.IOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Arrays;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * Pre-binarized codes against NumPy: bool, 0/1 uint8 and np.packbits (bitorder 'big', most
+ * significant bit first) files written by NumPy (tools/golden/make_npy.py).
+ */
+class CodeFilesTest {
+  @TempDir Path tmp;
+
+  private static CodeBlock read(Path f, CodeLayout layout) throws IOException {
+    try (CodeStream s = Encoders.codes(f, layout)) {
+      return EncodersTest.all(s, 4);
+    }
+  }
+
+  @Test
+  void boolUint8AndPackedFromNumpyGiveTheSameBits() throws IOException {
+    Golden.Expected want = Golden.expected("codes"); // 9 x 21 booleans
+    CodeLayout layout = CodeLayout.parse("a:10,b:11");
+    CodeBlock bools = read(Golden.path("codes_bool.npy"), null);
+    assertThat(bools.layout()).isEqualTo(CodeLayout.single("code", 21));
+    for (int i = 0; i < want.values().length; i++) assertThat(bools.bit(i / 21, i % 21)).isEqualTo(want.values()[i] != 0);
+    CodeBlock u8 = read(Golden.path("codes_u8.npy"), layout);
+    CodeBlock packed = read(Golden.path("codes_packed.npy"), layout);
+    assertThat(u8.layout()).isEqualTo(layout);
+    assertThat(u8.words()).containsExactly(bools.words());
+    assertThat(packed.words()).containsExactly(bools.words());
+  }
+
+  @Test
+  void writtenPackedFileIsByteIdenticalToNumpysPackbits() throws IOException {
+    CodeLayout layout = CodeLayout.single("code", 21);
+    for (CodeFiles.Form form : CodeFiles.Form.values()) {
+      Path out = tmp.resolve(form + ".npy");
+      try (CodeStream s = Encoders.codes(Golden.path("codes_bool.npy"), null)) {
+        assertThat(CodeFiles.write(out, s, form)).isEqualTo(9);
+      }
+      String golden = switch (form) {
+        case PACKED -> "codes_packed.npy";
+        case BOOL -> "codes_bool.npy";
+        case UINT8 -> "codes_u8.npy";
+      };
+      // NumPy pads the header to 64 bytes just as the writer does, so the files match byte for byte.
+      assertThat(Files.readAllBytes(out)).as(form.toString()).isEqualTo(Files.readAllBytes(Golden.path(golden)));
+      assertThat(read(out, form == CodeFiles.Form.PACKED ? layout : null).words())
+          .containsExactly(read(Golden.path("codes_bool.npy"), null).words());
+    }
+  }
+
+  @Test
+  void badCodes() throws IOException {
+    Path twos = tmp.resolve("twos.npy");
+    try (NpyWriter w = NpyWriter.create(twos, NpyDtype.UINT8, 3)) {
+      w.writeBytes(new byte[] {0, 1, 1, 1, 2, 0}, 2);
+      w.commit();
+    }
+    assertThatThrownBy(() -> read(twos, null)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("twos.npy").hasMessageContaining("row 1, column 1").hasMessageContaining("not 0 or 1");
+    // a padding bit beyond the layout's 21 bits is set in byte 2
+    Path pad = tmp.resolve("pad.npy");
+    byte[] row = {(byte) 0xff, 0, 0x04};
+    try (NpyWriter w = NpyWriter.create(pad, NpyDtype.UINT8, 3)) {
+      w.writeBytes(row, 1);
+      w.commit();
+    }
+    assertThatThrownBy(() -> read(pad, CodeLayout.single("c", 21))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("row 0, column 2").hasMessageContaining("padding");
+    // shape does not match the index layout
+    assertThatThrownBy(() -> read(Golden.path("codes_bool.npy"), CodeLayout.single("c", 30))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("codes_bool.npy").hasMessageContaining("shape").hasMessageContaining("c:30");
+    assertThatThrownBy(() -> read(Golden.path("f4_C_le.npy"), null)).isInstanceOf(BadInputException.class).hasMessageContaining("descr");
+  }
+
+  @Test
+  void packUnpackRoundTripAcrossWordBoundaries() {
+    java.util.SplittableRandom rnd = new java.util.SplittableRandom(io.actindex.index.Randoms.seed(1));
+    for (int bits : new int[] {1, 7, 8, 9, 63, 64, 65, 130}) {
+      boolean[][] rows = new boolean[5][bits];
+      for (boolean[] r : rows) for (int b = 0; b < bits; b++) r[b] = rnd.nextBoolean();
+      CodeBlock c = CodeBlock.fromBits(CodeLayout.single("c", bits), rows);
+      byte[] p = CodeFiles.pack(c);
+      assertThat(p.length).isEqualTo(5 * ((bits + 7) / 8));
+      for (int i = 0; i < 5; i++)
+        for (int b = 0; b < bits; b++)
+          assertThat((p[i * ((bits + 7) / 8) + b / 8] >> (7 - b % 8) & 1) == 1).isEqualTo(rows[i][b]);
+      byte[] u = CodeFiles.unpack(c);
+      for (int i = 0; i < 5; i++) assertThat(Arrays.copyOfRange(u, i * bits, (i + 1) * bits)).containsExactly(toBytes(rows[i]));
+    }
+  }
+
+  private static byte[] toBytes(boolean[] b) {
+    byte[] out = new byte[b.length];
+    for (int i = 0; i < b.length; i++) out[i] = (byte) (b[i] ? 1 : 0);
+    return out;
+  }
+}

@@ -1,0 +1,115 @@
+package io.actindex.encode.mlp;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+
+import io.actindex.encode.CodeStream;
+import io.actindex.encode.EncodeOptions;
+import io.actindex.encode.Encoders;
+import io.actindex.encode.Golden;
+import io.actindex.encode.io.SafetensorsWriter;
+import io.actindex.index.BadInputException;
+import java.io.IOException;
+import java.nio.file.Path;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import org.ejml.data.DMatrixRMaj;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+class MlpTest {
+  @TempDir Path tmp;
+
+  @Test
+  void defaultOrderSortsByEmbeddedNumbers() {
+    assertThat(Mlp.defaultOrder(List.of("10", "2", "0"))).containsExactly("0", "2", "10");
+    assertThat(Mlp.defaultOrder(List.of("fc10", "fc2", "fc1"))).containsExactly("fc1", "fc2", "fc10");
+    assertThat(Mlp.defaultOrder(List.of("net.4", "net.0", "net.2"))).containsExactly("net.0", "net.2", "net.4");
+    assertThat(Mlp.defaultOrder(List.of("b1.2", "b1.10", "b0.7"))).containsExactly("b0.7", "b1.2", "b1.10");
+  }
+
+  private Path model(Map<String, SafetensorsWriter.Tensor> t) throws IOException {
+    Path f = tmp.resolve("m" + t.hashCode() + ".safetensors");
+    SafetensorsWriter.write(f, t, null);
+    return f;
+  }
+
+  private static SafetensorsWriter.Tensor zeros(long... shape) {
+    long n = 1;
+    for (long s : shape) n *= s;
+    return new SafetensorsWriter.Tensor(shape, new double[(int) n]);
+  }
+
+  @Test
+  void shapeMismatchesAreRefused() throws IOException {
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("fc1.weight", zeros(4, 3));
+    t.put("fc2.weight", zeros(2, 5));
+    Path broken = model(t);
+    assertThatThrownBy(() -> Mlp.load(broken, null)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("fc2.weight").hasMessageContaining("takes 5 inputs").hasMessageContaining("gives 4");
+    t.put("fc2.weight", zeros(2, 4));
+    t.put("fc1.bias", zeros(5));
+    Path badBias = model(t);
+    assertThatThrownBy(() -> Mlp.load(badBias, null)).isInstanceOf(BadInputException.class).hasMessageContaining("fc1.bias");
+    t.put("fc1.bias", zeros(4));
+    Path ok = model(t);
+    assertThat(Mlp.load(ok, null).hiddenNames()).containsExactly("fc1");
+    // inputs of the wrong width: the XOR inputs have 2 columns, this model takes 3
+    assertThatThrownBy(() -> Encoders.model(ok, Golden.path("xor_inputs.npy"), EncodeOptions.positive())).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("xor_inputs.npy").hasMessageContaining("2 values").hasMessageContaining("takes 3");
+    assertThatThrownBy(() -> Encoders.model(Golden.path("xor.safetensors"), Golden.path("xor_inputs.npy"), new EncodeOptions(io.actindex.encode.BinarizeRule.POSITIVE, 0, List.of("fc9"))))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("fc9");
+    Map<String, SafetensorsWriter.Tensor> none = new LinkedHashMap<>();
+    none.put("w", zeros(2, 2));
+    Path noNames = model(none);
+    assertThatThrownBy(() -> Mlp.load(noNames, null)).isInstanceOf(BadInputException.class).hasMessageContaining("NAME.weight");
+  }
+
+  @Test
+  void explicitOrderAndSaveLoadRoundTrip() throws IOException {
+    Mlp xor = Mlp.load(Golden.path("xor.safetensors"), List.of("0", "2"));
+    Path f = tmp.resolve("copy.safetensors");
+    xor.save(f, Map.of("note", "copy"));
+    Mlp back = Mlp.load(f, null);
+    DMatrixRMaj x = new DMatrixRMaj(XorNetworkTest.X);
+    assertThat(back.forward(x)[1].data).containsExactly(xor.forward(x)[1].data);
+    assertThatThrownBy(() -> Mlp.load(Golden.path("xor.safetensors"), List.of("2", "0"))).isInstanceOf(BadInputException.class);
+  }
+
+  @Test
+  void trainerIsDeterministicAndSavedModelComputesTheSame() throws IOException {
+    double[][] x = new double[40][3];
+    int[] y = new int[40];
+    java.util.SplittableRandom r = new java.util.SplittableRandom(5);
+    for (int i = 0; i < 40; i++) {
+      for (int j = 0; j < 3; j++) x[i][j] = r.nextDouble(-1, 1);
+      y[i] = x[i][0] + x[i][1] > 0 ? 1 : 0;
+    }
+    MlpTrainer.Config cfg = new MlpTrainer.Config(new int[] {8, 4}, 30, 8, 1e-2, 42);
+    Mlp a = MlpTrainer.train(x, y, 2, cfg), b = MlpTrainer.train(x, y, 2, cfg);
+    for (int l = 0; l < 3; l++) assertThat(a.layers().get(l).weight().data).containsExactly(b.layers().get(l).weight().data);
+    assertThat(a.hiddenNames()).containsExactly("0", "2");
+    Path f = tmp.resolve("t.safetensors");
+    a.save(f, null);
+    Mlp back = Mlp.load(f, null);
+    DMatrixRMaj xm = new DMatrixRMaj(x);
+    assertThat(back.forward(xm)[2].data).containsExactly(a.forward(xm)[2].data);
+    int correct = 0;
+    int[] p = a.predict(xm);
+    for (int i = 0; i < 40; i++) if (p[i] == y[i]) correct++;
+    assertThat(correct).as("a linearly separable toy set is learned").isGreaterThanOrEqualTo(36);
+  }
+
+  @Test
+  void medianRuleOnHiddenLayersRoundTripsThroughProperties() throws IOException {
+    try (CodeStream s = Encoders.model(Golden.path("xor.safetensors"), Golden.path("xor_inputs.npy"),
+        new EncodeOptions(io.actindex.encode.BinarizeRule.MEDIAN, 0, null))) {
+      // hidden values per unit over the 4 inputs: (0,1,1,2) median 1, (0,0,0,1) median 0
+      assertThat(s.options().medians().get("0")).containsExactly(1, 0);
+      var codes = io.actindex.encode.EncodersTest.all(s, 10);
+      assertThat(new long[] {codes.code(0)[0], codes.code(1)[0], codes.code(2)[0], codes.code(3)[0]}).containsExactly(0b00, 0b00, 0b00, 0b11);
+    }
+  }
+}

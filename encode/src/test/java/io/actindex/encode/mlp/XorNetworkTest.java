@@ -1,0 +1,49 @@
+package io.actindex.encode.mlp;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import io.actindex.encode.CodeStream;
+import io.actindex.encode.EncodeOptions;
+import io.actindex.encode.Encoders;
+import io.actindex.encode.EncodersTest;
+import io.actindex.encode.Golden;
+import io.actindex.index.CodeBlock;
+import java.io.IOException;
+import org.ejml.data.DMatrixRMaj;
+import org.junit.jupiter.api.Test;
+
+/**
+ * The XOR network of Goodfellow, Bengio & Courville, "Deep Learning" (MIT Press, 2016), section
+ * 6.1: W = [[1, 1], [1, 1]], c = [0, -1], w = [1, -2], b = 0. The book's worked example gives the
+ * outputs 0, 1, 1, 0 for the inputs (0,0), (0,1), (1,0), (1,1) and the hidden values h = (0,0),
+ * (1,0), (1,0), (2,1) after the ReLU. Stored as safetensors with PyTorch naming ("0.weight" [2,2]
+ * = W transposed, which is W itself as it is symmetric; "2.weight" [1,2] = w) by
+ * tools/golden/make_npy.py.
+ */
+class XorNetworkTest {
+  static final double[][] X = {{0, 0}, {0, 1}, {1, 0}, {1, 1}};
+
+  @Test
+  void publishedWeightsGiveThePublishedOutputsAndHiddenValues() throws IOException {
+    Mlp mlp = Mlp.load(Golden.path("xor.safetensors"), null);
+    assertThat(mlp.layers().stream().map(Mlp.Layer::name)).containsExactly("0", "2");
+    DMatrixRMaj x = new DMatrixRMaj(X);
+    DMatrixRMaj[] out = mlp.forward(x);
+    assertThat(out[0].data).containsExactly(0, 0, 1, 0, 1, 0, 2, 1);
+    assertThat(out[1].data).containsExactly(0, 1, 1, 0);
+  }
+
+  @Test
+  void hiddenOnOffPatternsFromTheWorkedExample() throws IOException {
+    // h = (0,0) -> both off; (1,0) -> first on; (2,1) -> both on. Bit 0 = first hidden unit.
+    try (CodeStream s = Encoders.model(Golden.path("xor.safetensors"), Golden.path("xor_inputs.npy"), EncodeOptions.positive())) {
+      assertThat(s.layout().toString()).isEqualTo("0:2");
+      CodeBlock c = EncodersTest.all(s, 3);
+      assertThat(new long[] {c.code(0)[0], c.code(1)[0], c.code(2)[0], c.code(3)[0]}).containsExactly(0b00, 0b01, 0b01, 0b11);
+      // the second hidden unit fires only on (1,1); none is dead or always on
+      assertThat(s.stats().firingCounts()).containsExactly(3, 1);
+      assertThat(s.stats().dead()).isEmpty();
+      assertThat(s.stats().alwaysOn()).isEmpty();
+    }
+  }
+}
