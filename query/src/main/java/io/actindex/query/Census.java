@@ -9,6 +9,7 @@ import java.util.Arrays;
 import java.util.HashMap;
 import java.util.List;
 import java.util.Map;
+import java.util.function.IntFunction;
 
 /**
  * What the data looks like in code space, over the live examples: for each prefix of the layers
@@ -63,24 +64,24 @@ public final class Census {
   public static Result run(IndexReader reader, Params p) {
     int[] ids = new int[reader.liveCount()];
     CodeBlock codes = reader.liveCodes(ids);
-    String[] labels = new String[ids.length], keys = new String[ids.length];
-    boolean hasLabels = reader.meta().fields().containsKey("label");
-    for (int i = 0; i < ids.length; i++) {
+    LabelIndex labelIndex = LabelIndex.of(reader.meta(), reader.maxId());
+    String[] labels = new String[ids.length];
+    for (int i = 0; i < ids.length; i++) labels[i] = labelIndex.label(ids[i]);
+    return compute(codes, labels, i -> {
       Map<String, String> doc = reader.meta().document(ids[i]);
-      keys[i] = doc.get("key");
-      if (hasLabels) labels[i] = doc.get("label");
-    }
-    return compute(codes, labels, keys, p);
+      return doc == null ? null : doc.get("key");
+    }, p);
   }
 
   /**
-   * The census of {@code codes}, with {@code labels[i]} (null = none) and {@code keys[i]} for code
-   * {@code i}. Independent of the store, so callers may run it on any code block.
+   * The census of {@code codes}, with {@code labels[i]} (null = none) and the key {@code
+   * keyOf.apply(i)} (asked only for the listed regions' examples) of code {@code i}. Independent
+   * of the store, so callers may run it on any code block.
    */
-  public static Result compute(CodeBlock codes, String[] labels, String[] keys, Params p) {
+  public static Result compute(CodeBlock codes, String[] labels, IntFunction<String> keyOf, Params p) {
     CodeLayout layout = codes.layout();
     int n = codes.size();
-    if (labels.length != n || keys.length != n) throw new IllegalArgumentException("labels and keys need one entry per code");
+    if (labels.length != n) throw new IllegalArgumentException("labels need one entry per code");
     int[] order = Layers.select(layout, p.layers());
     List<Prefix> prefixes = new ArrayList<>();
     long[] mask = new long[layout.words()];
@@ -91,13 +92,13 @@ public final class Census {
       for (int w = 0; w < mask.length; w++) mask[w] |= m[w];
       names.add(layout.segments().get(s).name());
       bits += layout.segments().get(s).bits();
-      prefixes.add(prefix(codes, mask, List.copyOf(names), bits, labels, keys, p));
+      prefixes.add(prefix(codes, mask, List.copyOf(names), bits, labels, keyOf, p));
     }
     return new Result(n, List.copyOf(prefixes), neurons(codes));
   }
 
-  private static Prefix prefix(CodeBlock codes, long[] mask, List<String> names, int bits, String[] labels, String[] keys,
-      Params p) {
+  private static Prefix prefix(CodeBlock codes, long[] mask, List<String> names, int bits, String[] labels,
+      IntFunction<String> keyOf, Params p) {
     int n = codes.size(), w = codes.wordsPerCode();
     long[] data = codes.words();
     Map<Code, List<Integer>> regions = new HashMap<>();
@@ -125,7 +126,7 @@ public final class Census {
     List<Big> largest = new ArrayList<>();
     for (var e : big.subList(0, Math.min(p.largest(), big.size()))) {
       List<String> ks = new ArrayList<>();
-      for (int i : e.getValue().subList(0, Math.min(p.examples(), e.getValue().size()))) ks.add(keys[i]);
+      for (int i : e.getValue().subList(0, Math.min(p.examples(), e.getValue().size()))) ks.add(keyOf.apply(i));
       int active = 0;
       for (long x : e.getKey().words) active += Long.bitCount(x);
       largest.add(new Big(e.getValue().size(), active, Region.sortedCounts(mix(e.getValue(), labels)), ks));

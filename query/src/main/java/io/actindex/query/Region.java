@@ -55,16 +55,17 @@ public final class Region {
   /** Regions for every query. */
   public static List<Result> run(IndexReader reader, QueryCodes queries, Params p, Progress progress) {
     RoaringBitmap filter = Where.select(reader.meta(), p.where());
+    LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId());
     Progress prog = progress == null ? Progress.NONE : progress;
     List<Result> out = new ArrayList<>();
     for (int i = 0; i < queries.size(); i++) {
-      out.add(run(reader, queries.codes().code(i), queries.row(i), p, filter));
+      out.add(run(reader, queries.codes().code(i), queries.row(i), p, filter, labels));
       prog.update(i + 1, queries.size());
     }
     return out;
   }
 
-  static Result run(IndexReader reader, long[] query, long row, Params p, RoaringBitmap filter) {
+  static Result run(IndexReader reader, long[] query, long row, Params p, RoaringBitmap filter, LabelIndex labels) {
     CodeLayout layout = reader.layout();
     if (query.length != layout.words())
       throw new BadInputException("query has " + query.length + " words, the index layout " + layout + " has " + layout.words());
@@ -79,7 +80,7 @@ public final class Region {
       for (int w = 0; w < diff.length; w++) diff[w] = (diff[w] ^ query[w]) & mask[w];
       int dist = hits.dist(h);
       Acc acc = groups.computeIfAbsent(new Diff(diff), d -> new Acc(dist));
-      acc.add(id, meta, p.examples());
+      acc.add(id, meta, labels, p.examples());
     }
     Group same = new Group(0, List.of(), 0, Map.of(), List.of());
     List<Map.Entry<Diff, Acc>> entries = new ArrayList<>(groups.entrySet());
@@ -130,12 +131,11 @@ public final class Region {
       this.distance = distance;
     }
 
-    void add(int id, MetaStore meta, int examples) {
+    void add(int id, MetaStore meta, LabelIndex labelIndex, int examples) {
       count++;
-      Map<String, String> doc = meta.document(id);
-      String label = doc.get("label");
+      String label = labelIndex.label(id);
       if (label != null && !label.isEmpty()) labels.merge(label, 1, Integer::sum);
-      if (keys.size() < examples) keys.add(doc.get("key"));
+      if (keys.size() < examples) keys.add(meta.document(id).get("key"));
     }
 
     Group toGroup(List<String> flipped) {

@@ -156,7 +156,7 @@ public final class Where {
   }
 
   private static Query negate(Query q) {
-    return new BooleanQuery.Builder().add(new MatchAllDocsQuery(), Occur.FILTER).add(q, Occur.MUST_NOT).build();
+    return new BooleanQuery.Builder().add(MatchAllDocsQuery.INSTANCE, Occur.FILTER).add(q, Occur.MUST_NOT).build();
   }
 
   private double number(Token v) {

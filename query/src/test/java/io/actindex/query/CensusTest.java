@@ -30,7 +30,7 @@ class CensusTest {
   void threeLinesInGeneralPositionGiveSevenRegions() {
     HandNet net = HandNet.threeLines();
     CodeBlock codes = net.grid(-4, 4, 81);
-    Census.Result c = Census.compute(codes, new String[codes.size()], keys(codes.size()), new Census.Params(null, 10, 2));
+    Census.Result c = Census.compute(codes, new String[codes.size()], i -> "k" + i, new Census.Params(null, 10, 2));
     assertEquals(1 + 3 + 3, c.prefixes().get(0).regions());
     Set<String> seen = new HashSet<>();
     for (int i = 0; i < codes.size(); i++) seen.add(bits(codes, i, 0, 3));
@@ -46,7 +46,7 @@ class CensusTest {
     double[][] w = {{1, 0}, {0, 1}, {1, 1}, {1, -2}};
     double[] b = {0, 0, -1, -0.5};
     CodeBlock codes = new HandNet(w, b).grid(-10, 10, 201);
-    Census.Result c = Census.compute(codes, new String[codes.size()], keys(codes.size()), new Census.Params(null, 0, 0));
+    Census.Result c = Census.compute(codes, new String[codes.size()], i -> "k" + i, new Census.Params(null, 0, 0));
     assertEquals(1 + 4 + 6, c.prefixes().get(0).regions());
   }
 
@@ -58,9 +58,10 @@ class CensusTest {
       SyntheticCodes.Sample s = SyntheticCodes.reluLike(200 + rnd.nextInt(300), 4 + rnd.nextInt(12), 3 + rnd.nextInt(10), seed);
       CodeBlock codes = s.codes();
       int n = codes.size();
-      String[] labels = new String[n], keys = keys(n);
+      String[] labels = new String[n], keys = new String[n];
+      for (int i = 0; i < n; i++) keys[i] = "key-" + i;
       for (int i = 0; i < n; i++) labels[i] = rnd.nextInt(5) == 0 ? null : "c" + (s.cluster()[i] % 4);
-      Census.Result c = Census.compute(codes, labels, keys, new Census.Params(null, 3, 2));
+      Census.Result c = Census.compute(codes, labels, i -> keys[i], new Census.Params(null, 3, 2));
       String why = Randoms.describe(seed);
       assertEquals(n, c.examples(), why);
       CodeLayout layout = codes.layout();
@@ -115,19 +116,13 @@ class CensusTest {
   void prefixesFollowTheChosenLayerOrder() {
     SyntheticCodes.Sample s = SyntheticCodes.reluLike(300, 10, 6, Randoms.seed(99));
     int n = s.codes().size();
-    Census.Result c = Census.compute(s.codes(), new String[n], keys(n), new Census.Params(List.of("h2"), 1, 1));
+    Census.Result c = Census.compute(s.codes(), new String[n], i -> "k" + i, new Census.Params(List.of("h2"), 1, 1));
     assertEquals(1, c.prefixes().size());
     assertEquals(List.of("h2"), c.prefixes().get(0).layers());
     Set<String> direct = new HashSet<>();
     for (int i = 0; i < n; i++) direct.add(bits(s.codes(), i, 10, 16));
     assertEquals(direct.size(), c.prefixes().get(0).regions());
     assertEquals(null, c.prefixes().get(0).purity());
-  }
-
-  static String[] keys(int n) {
-    String[] k = new String[n];
-    for (int i = 0; i < n; i++) k[i] = "k" + i;
-    return k;
   }
 
   static String bits(CodeBlock codes, int i, int from, int to) {

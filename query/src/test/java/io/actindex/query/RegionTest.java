@@ -37,7 +37,7 @@ class RegionTest {
     Map<String, Integer> count = new TreeMap<>();
     for (int i = 0; i < codes.size(); i++) count.merge(CensusTest.bits(codes, i, 0, 3), 1, Integer::sum);
     try (IndexReader r = IndexReader.open(tmp.resolve("hand"))) {
-      Region.Result one = Region.run(r, triangle, 0, new Region.Params(1, null, null, 2), null);
+      Region.Result one = Region.run(r, triangle, 0, new Region.Params(1, null, null, 2), null, LabelIndex.of(r.meta(), r.maxId()));
       assertEquals(count.get("110"), one.same().count());
       assertEquals(List.of(), one.same().flipped());
       assertThat(one.nearby()).hasSize(3);
@@ -47,7 +47,7 @@ class RegionTest {
         byFlip.put(g.flipped().get(0), g.count());
       }
       assertEquals(Map.of("hidden:0", count.get("010"), "hidden:1", count.get("100"), "hidden:2", count.get("111")), byFlip);
-      Region.Result all = Region.run(r, triangle, 0, new Region.Params(3, null, null, 2), null);
+      Region.Result all = Region.run(r, triangle, 0, new Region.Params(3, null, null, 2), null, LabelIndex.of(r.meta(), r.maxId()));
       assertEquals(6, all.nearby().size()); // 7 regions, the query's own is "same"
       assertThat(all.nearby().stream().map(Region.Group::flipped)).doesNotContain(List.of("hidden:0", "hidden:1", "hidden:2"));
     }
@@ -79,11 +79,14 @@ class RegionTest {
           long[] q = codes.code(rnd.nextInt(codes.size()));
           if (rnd.nextBoolean()) q[0] ^= 1L << rnd.nextInt(Math.min(64, to));
           String qs = bitsOf(q, from, to);
-          // direct: group live ids by their bit string on the chosen bits
+          String where = rnd.nextBoolean() ? null : "split = train";
+          // direct: group live (and, with the filter, training) ids by their bit string on the chosen bits
           Map<String, List<Integer>> groups = new TreeMap<>();
           for (int i = 0; i < codes.size(); i++)
-            if (!deleted.contains(i)) groups.computeIfAbsent(CensusTest.bits(codes, i, from, to), x -> new ArrayList<>()).add(i);
-          Region.Result res = Region.run(r, q, 7, new Region.Params(radius, layers, null, 3), null);
+            if (!deleted.contains(i) && (where == null || meta.get(i).get("split").equals("train")))
+              groups.computeIfAbsent(CensusTest.bits(codes, i, from, to), x -> new ArrayList<>()).add(i);
+          QueryCodes qc = new QueryCodes(new CodeBlock(layout, 1, q), 7);
+          Region.Result res = Region.run(r, qc, new Region.Params(radius, layers, where, 3), null).get(0);
           assertEquals(7, res.row(), why);
           List<Region.Group> got = new ArrayList<>(res.nearby());
           if (res.same().count() > 0) got.add(res.same());

@@ -25,6 +25,7 @@ import org.apache.lucene.search.Query;
 import org.apache.lucene.search.ScoreDoc;
 import org.apache.lucene.store.ByteBuffersDirectory;
 import org.junit.jupiter.api.Test;
+import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Random where-expressions, each generated together with an equivalent Java predicate, give the
@@ -61,6 +62,39 @@ class WhereTest {
           assertEquals(want, got, ex.text + " " + Randoms.describe(seed));
         }
       }
+    }
+  }
+
+  /** The same through the real metadata store, whose column kinds come from the data. */
+  @Test
+  void throughTheMetadataStore(@org.junit.jupiter.api.io.TempDir java.nio.file.Path tmp) {
+    long seed = Randoms.seed(77);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    List<Row> rows = rows(rnd, 150);
+    List<Map<String, String>> meta = new ArrayList<>();
+    for (int i = 0; i < rows.size(); i++) {
+      Row r = rows.get(i);
+      Map<String, String> m = new java.util.HashMap<>();
+      m.put("key", "k" + i);
+      if (r.label != null) m.put("label", r.label);
+      if (r.split != null) m.put("split", r.split);
+      if (r.source != null) m.put("source", r.source);
+      if (r.score != null) m.put("score", Double.toString(r.score));
+      if (r.n != null) m.put("n", Double.toString(r.n));
+      meta.add(m);
+    }
+    TestIndexes.write(tmp, io.actindex.index.SyntheticCodes.uniform(rows.size(), 8, seed), meta, 2);
+    try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(tmp)) {
+      Map<String, FieldKind> withKey = new java.util.HashMap<>(FIELDS);
+      withKey.put("key", FieldKind.KEYWORD);
+      assertEquals(withKey, reader.meta().fields());
+      for (int e = 0; e < 40; e++) {
+        Expr ex = expr(rnd, 3);
+        RoaringBitmap want = new RoaringBitmap();
+        for (int i = 0; i < rows.size(); i++) if (ex.test.test(rows.get(i))) want.add(i);
+        assertEquals(want, Where.select(reader.meta(), ex.text), ex.text + " " + Randoms.describe(seed));
+      }
+      assertEquals(null, Where.select(reader.meta(), " "));
     }
   }
 
