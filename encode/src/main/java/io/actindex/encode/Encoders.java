@@ -4,6 +4,9 @@ import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.MatrixReader;
 import io.actindex.encode.io.NpyReader;
 import io.actindex.encode.io.NpzReader;
+import io.actindex.encode.io.NpyDtype;
+import io.actindex.encode.io.NpyWriter;
+import io.actindex.encode.io.NpzWriter;
 import io.actindex.encode.mlp.Mlp;
 import io.actindex.index.BadInputException;
 import io.actindex.index.CodeBlock;
@@ -136,6 +139,43 @@ public final class Encoders {
       n += b.size();
     }
     return n == 0 ? null : new CodeBlock(s.layout(), n, Arrays.copyOf(all, n * words));
+  }
+
+  /**
+   * Exports the float activations of the model's hidden layers ({@code layers} selects them, null =
+   * all) on the rows of {@code inputs}: an {@code .npz} with one float32 member per layer, or a
+   * float32 {@code .npy} when {@code out} ends in {@code .npy} and one layer is exported. Atomic.
+   * Returns the rows written.
+   */
+  public static long exportActivations(Mlp mlp, String modelName, Path inputs, List<String> layers, Path out) throws IOException {
+    checkReadable(inputs);
+    boolean npy = extension(out).equals("npy");
+    try (MatrixReader r = openMatrix(inputs)) {
+      ModelLayers src = new ModelLayers(mlp, modelName, r, layers);
+      List<String> names = src.names();
+      int[] widths = src.widths();
+      if (npy && names.size() != 1)
+        throw new BadInputException(out + ": a .npy file holds one layer; export " + names + " to an .npz file");
+      NpzWriter zip = npy ? null : NpzWriter.create(out);
+      NpyWriter single = npy ? NpyWriter.create(out, NpyDtype.FLOAT32, widths[0]) : null;
+      try {
+        NpyWriter[] w = new NpyWriter[names.size()];
+        for (int i = 0; i < w.length; i++) w[i] = npy ? single : zip.member(names.get(i), NpyDtype.FLOAT32, widths[i]);
+        double[][] d = new double[names.size()][];
+        long rows = 0;
+        int m;
+        while ((m = src.read(4096, null, d)) > 0) {
+          for (int i = 0; i < w.length; i++) w[i].write(d[i], m);
+          rows += m;
+        }
+        if (npy) single.commit();
+        else zip.commit();
+        return rows;
+      } finally {
+        if (zip != null) zip.close();
+        if (single != null) single.close();
+      }
+    }
   }
 
   /** Opens a {@code .npy} or {@code .csv} matrix. */

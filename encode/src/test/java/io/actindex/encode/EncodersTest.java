@@ -170,7 +170,9 @@ public class EncodersTest {
         "1,2,3\n4,5,6,7\n", "column 3",
         "1,2,3\n4,,6\n", "empty field",
         "a,b\n1,NaN\n", "line 2 (row 0), column 1",
-        "1,2\n3,-Infinity\n", "only finite");
+        "1,2\n3,-Infinity\n", "only finite",
+        "inf_count,b\n1,0x10\n", "'0x10' is not a number",
+        "1,2\n3,4d\n", "'4d' is not a number");
     int k = 0;
     for (var e : cases.entrySet()) {
       Path f = tmp.resolve("bad" + (k++) + ".csv");

@@ -58,16 +58,12 @@ public final class CsvMatrixReader implements MatrixReader {
     }
   }
 
+  /** A decimal number, or a NaN/infinity word (recognised so that it is refused as a value, not taken for a header). */
+  private static final java.util.regex.Pattern NUMBER =
+      java.util.regex.Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?|[+-]?(?i:nan|inf|infinity)");
+
   private static boolean isNumber(String s) {
-    if (s.isEmpty()) return false;
-    char c = s.charAt(0);
-    if (!(c == '-' || c == '+' || c == '.' || (c >= '0' && c <= '9'))) return s.equalsIgnoreCase("nan") || s.toLowerCase().contains("inf");
-    try {
-      Double.parseDouble(s);
-      return true;
-    } catch (NumberFormatException e) {
-      return false;
-    }
+    return NUMBER.matcher(s).matches();
   }
 
   private String nextLine() throws IOException {
@@ -145,12 +141,9 @@ public final class CsvMatrixReader implements MatrixReader {
       if (col >= cols) throw new BadInputException(where(at, col) + ": too many fields (expected " + cols + ")");
       String f = s.substring(start, end).trim();
       if (f.isEmpty()) throw new BadInputException(where(at, col) + ": empty field");
-      double v;
-      try {
-        v = Double.parseDouble(f);
-      } catch (NumberFormatException e) {
-        throw new BadInputException(where(at, col) + ": '" + f + "' is not a number");
-      }
+      if (!isNumber(f)) throw new BadInputException(where(at, col) + ": '" + f + "' is not a number");
+      char c0 = f.charAt(f.length() - 1);
+      double v = Character.isLetter(c0) ? Double.NaN : Double.parseDouble(f);
       if (!Double.isFinite(v)) throw new BadInputException(where(at, col) + ": value is " + f + "; only finite numbers are accepted");
       out[off + col] = v;
       col++;

@@ -34,6 +34,30 @@ class XorNetworkTest {
   }
 
   @Test
+  void exportedActivationsReadBackAsTheSameCodes(@org.junit.jupiter.api.io.TempDir java.nio.file.Path tmp) throws IOException {
+    Mlp mlp = Mlp.load(Golden.path("xor.safetensors"), null);
+    for (String name : new String[] {"h.npz", "h.npy"}) {
+      java.nio.file.Path out = tmp.resolve(name);
+      assertThat(Encoders.exportActivations(mlp, "xor", Golden.path("xor_inputs.npy"), null, out)).isEqualTo(4);
+      EncodeOptions o = new EncodeOptions(io.actindex.encode.BinarizeRule.POSITIVE, 0, java.util.List.of("0"));
+      try (CodeStream s = Encoders.activations(out, o)) {
+        CodeBlock c = EncodersTest.all(s, 2);
+        assertThat(s.layout().toString()).isEqualTo("0:2");
+        assertThat(new long[] {c.code(0)[0], c.code(1)[0], c.code(2)[0], c.code(3)[0]}).containsExactly(0b00, 0b01, 0b01, 0b11);
+      }
+      try (io.actindex.encode.io.MatrixReader r = name.endsWith(".npy")
+          ? io.actindex.encode.io.NpyReader.open(out) : io.actindex.encode.io.NpzReader.open(out).member("0")) {
+        double[] v = new double[8];
+        assertThat(r.read(v, 4)).isEqualTo(4);
+        assertThat(v).containsExactly(0, 0, 1, 0, 1, 0, 2, 1);
+      }
+    }
+    try (var files = java.nio.file.Files.list(tmp)) {
+      assertThat(files.map(p -> p.getFileName().toString()).sorted().toList()).containsExactly("h.npy", "h.npz");
+    }
+  }
+
+  @Test
   void hiddenOnOffPatternsFromTheWorkedExample() throws IOException {
     // h = (0,0) -> both off; (1,0) -> first on; (2,1) -> both on. Bit 0 = first hidden unit.
     try (CodeStream s = Encoders.model(Golden.path("xor.safetensors"), Golden.path("xor_inputs.npy"), EncodeOptions.positive())) {
