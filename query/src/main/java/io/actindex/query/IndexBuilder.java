@@ -10,6 +10,8 @@ import io.actindex.index.store.IndexWriter;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.Comparator;
 import java.util.List;
 import java.util.Map;
@@ -62,7 +64,7 @@ public final class IndexBuilder {
     Encoding.Read read = Encoding.read(p.source(), p.source().model(), p.encode(), p.codesLayout(), RowRange.ALL,
         chunk(p.chunkRows()), orNone(progress));
     CodeBlock raw = read.codes();
-    CodeBlock codes = keepLayers(raw, p.encode().layers(), p.source().file().toString());
+    CodeBlock codes = keepLayers(raw, p.encode().layers());
     if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
     List<Map<String, String>> meta = readMeta(p.meta(), codes.size(), p.source());
     byte[] model = p.source().kind() == Source.Kind.INPUTS ? readAll(p.source().model()) : null;
@@ -94,7 +96,7 @@ public final class IndexBuilder {
     try (IndexReader r = IndexReader.open(p.dir())) {
       if (p.source().kind() == Source.Kind.INPUTS && p.source().model() != null) {
         byte[] stored = r.attachment(BuildInfo.MODEL);
-        if (stored != null && !java.util.Arrays.equals(stored, readAll(p.source().model())))
+        if (stored != null && !Arrays.equals(stored, readAll(p.source().model())))
           throw new BadInputException(p.source().model() + ": differs from the model the index was built with; leave the model out to use the stored one");
       }
       codes = QuerySource.encode(r, p.source(), RowRange.ALL, chunk(p.chunkRows()), orNone(progress), "rows to add");
@@ -113,10 +115,10 @@ public final class IndexBuilder {
     }
   }
 
-  private static CodeBlock keepLayers(CodeBlock raw, List<String> layers, String file) {
+  private static CodeBlock keepLayers(CodeBlock raw, List<String> layers) {
     if (layers == null || layers.isEmpty()) return raw;
     int[] keep = Layers.select(raw.layout(), layers);
-    List<CodeLayout.Segment> segs = new java.util.ArrayList<>();
+    List<CodeLayout.Segment> segs = new ArrayList<>();
     for (int s : keep) segs.add(raw.layout().segments().get(s));
     return Layers.project(raw, new CodeLayout(segs));
   }
@@ -173,5 +175,4 @@ public final class IndexBuilder {
   private static Progress orNone(Progress p) {
     return p == null ? Progress.NONE : p;
   }
-
 }

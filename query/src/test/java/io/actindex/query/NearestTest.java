@@ -1,7 +1,9 @@
 package io.actindex.query;
 
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 
+import io.actindex.index.BadInputException;
 import io.actindex.index.BruteForce;
 import io.actindex.index.CodeBlock;
 import io.actindex.index.CodeLayout;
@@ -59,6 +61,23 @@ class NearestTest {
         w.add(all.slice(400, 500), meta.subList(400, 500));
       }
       check(dir, all, 500, meta, deleted, rnd, why);
+    }
+  }
+
+  @Test
+  void unknownFieldLayerAndWrongLayoutAreRefused() {
+    CodeBlock codes = SyntheticCodes.reluLike(50, 10, 6, 1).codes();
+    TestIndexes.write(tmp.resolve("b"), codes, TestIndexes.rows(0, 50, new SplittableRandom(1)), 1);
+    try (IndexReader r = IndexReader.open(tmp.resolve("b"))) {
+      QueryCodes q = new QueryCodes(codes.slice(0, 2), 0);
+      assertThatThrownBy(() -> Nearest.run(r, q, new Nearest.Params(3, "label = cat and colour = red", null, 1), null))
+          .isInstanceOf(BadInputException.class).hasMessageContaining("unknown field 'colour'").hasMessageContaining("position 17");
+      assertThatThrownBy(() -> Nearest.run(r, q, new Nearest.Params(3, null, List.of("h3"), 1), null))
+          .isInstanceOf(BadInputException.class).hasMessageContaining("unknown layer 'h3'");
+      QueryCodes other = new QueryCodes(Layers.relabel(codes.slice(0, 2), CodeLayout.parse("a:10,b:6")), 0);
+      assertThatThrownBy(() -> Nearest.run(r, other, new Nearest.Params(3, null, null, 1), null))
+          .isInstanceOf(BadInputException.class).hasMessageContaining("a:10,b:6").hasMessageContaining("h1:10,h2:6");
+      assertThatThrownBy(() -> new Nearest.Params(0, null, null, 1)).isInstanceOf(BadInputException.class);
     }
   }
 
