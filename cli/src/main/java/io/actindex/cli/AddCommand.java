@@ -1,9 +1,11 @@
 package io.actindex.cli;
 
+import io.actindex.query.IndexBuilder;
 import java.util.concurrent.Callable;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.Spec;
 
 /** {@code actindex add}: more examples into an existing index, as one atomic commit. */
@@ -15,10 +17,19 @@ final class AddCommand implements Callable<Integer> {
   @Mixin Verbose verbose;
   @Mixin IndexOption index;
   @Mixin BuildSourceOptions source;
+  @Mixin FormatOption format;
 
   @Override
   public Integer call() {
     source.check(null, false);
-    throw new UnsupportedOperationException("add: not yet wired to the query module");
+    if (source.codeLayout != null)
+      throw new ParameterException(spec.commandLine(), "--code-layout is for build; add reads codes in the index's layout");
+    IndexBuilder.AddParams params = new IndexBuilder.AddParams(index.dir, source.toSource(null), source.metaOptions(), 0);
+    IndexBuilder.Result result;
+    try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "encoding rows")) {
+      result = IndexBuilder.add(params, bar);
+    }
+    Summaries.written(spec.commandLine().getOut(), format.format, "added to", index.dir, result);
+    return ExitCodes.OK;
   }
 }

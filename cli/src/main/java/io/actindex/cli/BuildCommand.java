@@ -1,5 +1,8 @@
 package io.actindex.cli;
 
+import io.actindex.encode.BinarizeRule;
+import io.actindex.encode.EncodeOptions;
+import io.actindex.query.IndexBuilder;
 import java.nio.file.Path;
 import java.util.concurrent.Callable;
 import picocli.CommandLine.Command;
@@ -35,6 +38,7 @@ final class BuildCommand implements Callable<Integer> {
   boolean median;
 
   @Mixin LayersOption layers;
+  @Mixin FormatOption format;
 
   @Override
   public Integer call() {
@@ -43,6 +47,15 @@ final class BuildCommand implements Callable<Integer> {
       throw new ParameterException(spec.commandLine(), "--threshold and --median exclude each other");
     if (threshold != null && !Double.isFinite(threshold))
       throw new ParameterException(spec.commandLine(), "--threshold must be a finite number");
-    throw new UnsupportedOperationException("build: not yet wired to the query module");
+    BinarizeRule rule = median ? BinarizeRule.MEDIAN : threshold != null ? BinarizeRule.THRESHOLD : BinarizeRule.POSITIVE;
+    EncodeOptions encode = new EncodeOptions(rule, threshold == null ? 0 : threshold, layers.layers);
+    IndexBuilder.BuildParams params = new IndexBuilder.BuildParams(out, source.toSource(model), source.metaOptions(), encode,
+        source.codeLayout(), 0);
+    IndexBuilder.Result result;
+    try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "encoding rows")) {
+      result = IndexBuilder.build(params, bar);
+    }
+    Summaries.written(spec.commandLine().getOut(), format.format, "built", out, result);
+    return ExitCodes.OK;
   }
 }

@@ -1,5 +1,9 @@
 package io.actindex.cli;
 
+import io.actindex.index.BadInputException;
+import io.actindex.index.CodeLayout;
+import io.actindex.query.MetaCsv;
+import io.actindex.query.Source;
 import java.nio.file.Path;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
@@ -33,16 +37,16 @@ public final class BuildSourceOptions {
       description = "Metadata CSV with a header, one row per example (joined by the key column if it has one, else by row order).")
   Path meta;
 
-  @Option(names = "--key-column", paramLabel = "NAME", defaultValue = "key",
-      description = "Metadata column with each example's unique key. Default: ${DEFAULT-VALUE}.")
+  @Option(names = "--key-column", paramLabel = "NAME",
+      description = "Metadata column with each example's unique key. Default: 'key' if the header has it, else keys row-<id>.")
   String keyColumn;
 
-  @Option(names = "--label-column", paramLabel = "NAME", defaultValue = "label",
-      description = "Metadata column with the class label. Default: ${DEFAULT-VALUE}.")
+  @Option(names = "--label-column", paramLabel = "NAME",
+      description = "Metadata column with the class label. Default: 'label' if the header has it.")
   String labelColumn;
 
-  @Option(names = "--split-column", paramLabel = "NAME", defaultValue = "split",
-      description = "Metadata column with the data split (train/test/...). Default: ${DEFAULT-VALUE}.")
+  @Option(names = "--split-column", paramLabel = "NAME",
+      description = "Metadata column with the data split (train/test/...). Default: 'split' if the header has it.")
   String splitColumn;
 
   /** Checks that exactly one source is given; {@code model} is the --model option of the command, if any. */
@@ -57,5 +61,32 @@ public final class BuildSourceOptions {
       throw new ParameterException(mixee.commandLine(), "--inputs needs --model FILE (an MLP as safetensors)");
     if (codeLayout != null && codes == null)
       throw new ParameterException(mixee.commandLine(), "--code-layout goes with --codes");
+  }
+
+  /** The source, after {@link #check}. */
+  Source toSource(Path model) {
+    if (activations != null) return Source.activations(activations);
+    if (codes != null) return Source.codes(codes);
+    return Source.inputs(inputs, model);
+  }
+
+  /** The metadata options, or null without --meta. */
+  MetaCsv.Options metaOptions() {
+    if (meta == null) {
+      if (keyColumn != null || labelColumn != null || splitColumn != null)
+        throw new ParameterException(mixee.commandLine(), "--key-column, --label-column and --split-column go with --meta");
+      return null;
+    }
+    return new MetaCsv.Options(meta, keyColumn, labelColumn, splitColumn);
+  }
+
+  /** The --code-layout, or null. */
+  CodeLayout codeLayout() {
+    if (codeLayout == null) return null;
+    try {
+      return CodeLayout.parse(codeLayout);
+    } catch (IllegalArgumentException e) {
+      throw new BadInputException("--code-layout: " + e.getMessage());
+    }
   }
 }

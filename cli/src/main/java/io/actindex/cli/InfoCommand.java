@@ -1,5 +1,17 @@
 package io.actindex.cli;
 
+import io.actindex.cli.format.CsvWriter;
+import io.actindex.cli.format.JsonWriter;
+import io.actindex.cli.format.TextTable;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.mih.SearcherStats;
+import io.actindex.index.store.IndexInfo;
+import io.actindex.index.store.IndexReader;
+import java.io.PrintWriter;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.TreeMap;
 import java.util.concurrent.Callable;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
@@ -17,6 +29,120 @@ final class InfoCommand implements Callable<Integer> {
 
   @Override
   public Integer call() {
-    throw new UnsupportedOperationException("info: not yet wired to the query module");
+    IndexInfo info;
+    Map<String, String> props;
+    try (IndexReader reader = IndexReader.open(index.dir)) {
+      info = reader.info();
+      props = new TreeMap<>(reader.properties());
+    }
+    PrintWriter out = spec.commandLine().getOut();
+    switch (format.format) {
+      case json -> json(out, info, props);
+      case csv -> csv(out, info);
+      case table -> table(out, info, props);
+    }
+    out.flush();
+    return ExitCodes.OK;
+  }
+
+  private void json(PrintWriter out, IndexInfo info, Map<String, String> props) {
+    JsonWriter j = new JsonWriter(out).beginObject()
+        .member("index", index.dir.toString())
+        .member("layout", info.layout().toString())
+        .member("bits", info.layout().bits())
+        .name("layers").beginArray();
+    for (CodeLayout.Segment s : info.layout().segments())
+      j.beginObject().member("name", s.name()).member("bits", s.bits()).endObject();
+    j.endArray()
+        .member("generation", info.generation())
+        .member("max_id", info.maxId())
+        .member("live", info.liveCount())
+        .member("deleted", info.maxId() - info.liveCount())
+        .member("bytes_on_disk", info.bytesOnDisk())
+        .name("segments").beginArray();
+    for (IndexInfo.SegmentInfo s : info.segments()) {
+      j.beginObject()
+          .member("segment", s.segmentId())
+          .member("first_id", s.firstId())
+          .member("end_id", s.endId())
+          .member("count", s.count())
+          .member("deleted", s.deleted())
+          .member("bytes", s.bytes())
+          .member("dropped_constant_bits", s.droppedConstantBits());
+      searcher(j.name("searcher"), s.searcher());
+      j.endObject();
+    }
+    j.endArray().name("properties").stringMap(props).endObject();
+    out.println();
+  }
+
+  private static void searcher(JsonWriter j, SearcherStats st) {
+    j.beginObject()
+        .member("substrings", st.substrings())
+        .member("constant_bits", st.constantBits())
+        .member("indexed_bits", st.indexedBits())
+        .name("cascade").value(st.cascade())
+        .member("table_bytes", st.tableBytes())
+        .member("code_bytes", st.codeBytes())
+        .name("tables").beginArray();
+    for (SearcherStats.Table t : st.tables())
+      j.beginObject()
+          .member("width", t.width())
+          .name("dense").value(t.dense())
+          .member("non_empty_buckets", t.nonEmptyBuckets())
+          .member("max_bucket", t.maxBucket())
+          .member("mean_collisions", t.meanCollisions())
+          .member("key_entropy", t.keyEntropy())
+          .member("bytes", t.bytes())
+          .endObject();
+    j.endArray().endObject();
+  }
+
+  /** "scan", or "4 tables of 16+16+16+15 bits" (+ "cascade"). */
+  static String plan(SearcherStats st) {
+    if (st.substrings() == 0) return "scan";
+    List<String> widths = new ArrayList<>();
+    for (SearcherStats.Table t : st.tables()) widths.add(Integer.toString(t.width()));
+    return st.substrings() + (st.substrings() == 1 ? " table of " : " tables of ") + String.join("+", widths) + " bits"
+        + (st.cascade() ? ", cascade" : "");
+  }
+
+  private static List<String> header() {
+    return List.of("segment", "first_id", "end_id", "count", "deleted", "bytes", "dropped_constant_bits", "search_plan");
+  }
+
+  private static List<String> row(IndexInfo.SegmentInfo s) {
+    return List.of(Integer.toString(s.segmentId()), Integer.toString(s.firstId()), Integer.toString(s.endId()),
+        Integer.toString(s.count()), Integer.toString(s.deleted()), Long.toString(s.bytes()),
+        Integer.toString(s.droppedConstantBits()), plan(s.searcher()));
+  }
+
+  private static void csv(PrintWriter out, IndexInfo info) {
+    CsvWriter csv = new CsvWriter(out, header());
+    for (IndexInfo.SegmentInfo s : info.segments()) csv.row(row(s));
+  }
+
+  private void table(PrintWriter out, IndexInfo info, Map<String, String> props) {
+    out.println("index:     " + index.dir);
+    List<String> layers = new ArrayList<>();
+    for (CodeLayout.Segment s : info.layout().segments()) layers.add(s.name() + " (" + s.bits() + " bits)");
+    out.println("layers:    " + String.join(", ", layers) + "; " + info.layout().bits() + " bits in all");
+    out.println("examples:  " + info.liveCount() + " live, " + (info.maxId() - info.liveCount()) + " deleted (ids 0.."
+        + (info.maxId() - 1) + ")");
+    out.println("on disk:   " + Units.bytes(info.bytesOnDisk()) + ", generation " + info.generation());
+    out.println();
+    out.println("segments:");
+    TextTable t = new TextTable(List.of("segment", "ids", "count", "deleted", "size", "constant bits dropped", "search plan"));
+    for (IndexInfo.SegmentInfo s : info.segments())
+      t.row(List.of(Integer.toString(s.segmentId()), s.firstId() + ".." + (s.endId() - 1), Integer.toString(s.count()),
+          Integer.toString(s.deleted()), Units.bytes(s.bytes()), Integer.toString(s.droppedConstantBits()), plan(s.searcher())));
+    t.print(out, "  ");
+    if (!props.isEmpty()) {
+      out.println();
+      out.println("build settings:");
+      TextTable p = new TextTable(List.of("property", "value"));
+      props.forEach((k, v) -> p.row(List.of(k, v)));
+      p.print(out, "  ");
+    }
   }
 }

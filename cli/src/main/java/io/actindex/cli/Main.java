@@ -31,6 +31,16 @@ import picocli.CommandLine.Spec;
         "Run 'actindex COMMAND --help' for the options of one command."})
 public final class Main implements Callable<Integer> {
 
+  /**
+   * Lucene logs through java.util.logging at INFO when it finds the Vector API; stderr is for our
+   * messages, so only its warnings pass. Held in a field: loggers are weakly referenced.
+   */
+  private static final java.util.logging.Logger LUCENE_LOG = java.util.logging.Logger.getLogger("org.apache.lucene");
+
+  static {
+    LUCENE_LOG.setLevel(java.util.logging.Level.WARNING);
+  }
+
   @Spec CommandSpec spec;
 
   @Mixin Verbose verbose;

@@ -3,49 +3,44 @@ package io.actindex.cli;
 import java.io.PrintWriter;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.Locale;
 
 /**
- * A one-line progress bar on stderr, drawn only when stderr is a terminal; otherwise every method
- * does nothing, so piped or captured output carries nothing extra. Redrawn at most ten times a
- * second. Thread-safe (work may report from several threads).
+ * A one-line progress bar on stderr for the query module's {@link io.actindex.query.Progress}
+ * callbacks, drawn only when stderr is a terminal; otherwise it does nothing, so piped or captured
+ * output carries nothing extra. Redrawn at most ten times a second.
  */
-public final class Progress implements AutoCloseable {
+public final class Progress implements io.actindex.query.Progress, AutoCloseable {
   private static final int BAR = 30;
   private static final long REDRAW_NANOS = 100_000_000L;
 
   private final PrintWriter err;
   private final String task;
-  private final long total;
-  private final long startNanos = System.nanoTime();
   private final boolean enabled;
-  private long done;
-  private long lastDraw;
+  private final long startNanos = System.nanoTime();
+  private long done, total = -1, lastDraw;
   private boolean drawn;
 
-  /** A bar for {@code total} units of {@code task} ({@code total < 0}: unknown, shows a count). */
-  public Progress(PrintWriter err, String task, long total, boolean enabled) {
+  /** A bar for {@code task} (e.g. "encoding rows") that draws only when {@code enabled}. */
+  public Progress(PrintWriter err, String task, boolean enabled) {
     this.err = err;
     this.task = task;
-    this.total = total;
     this.enabled = enabled;
   }
 
   /** A bar that draws only if stderr is a terminal. */
-  public static Progress onTerminal(PrintWriter err, String task, long total) {
-    return new Progress(err, task, total, stderrIsTerminal());
+  public static Progress onTerminal(PrintWriter err, String task) {
+    return new Progress(err, task, stderrIsTerminal());
   }
 
-  /** A bar that never draws. */
-  public static Progress none() {
-    return new Progress(null, "", 0, false);
-  }
-
-  /** Adds {@code n} units of finished work. */
-  public synchronized void step(long n) {
+  /** {@code done} units of {@code total} ({@code total < 0}: unknown, shows a count). */
+  @Override
+  public synchronized void update(long done, long total) {
     if (!enabled) return;
-    done += n;
+    this.done = done;
+    this.total = total;
     long now = System.nanoTime();
-    if (!drawn || now - lastDraw >= REDRAW_NANOS) {
+    if (!drawn || now - lastDraw >= REDRAW_NANOS || (total > 0 && done >= total)) {
       draw(now);
       lastDraw = now;
     }
@@ -67,10 +62,10 @@ public final class Progress implements AutoCloseable {
     if (total > 0) {
       double f = Math.min(1.0, (double) done / total);
       int filled = (int) Math.round(f * BAR);
-      line = String.format(java.util.Locale.ROOT, "%s [%s%s] %3d%% %,d/%,d %.1fs", task, "=".repeat(filled), " ".repeat(BAR - filled),
+      line = String.format(Locale.ROOT, "%s [%s%s] %3d%% %,d/%,d %.1fs", task, "=".repeat(filled), " ".repeat(BAR - filled),
           (int) Math.floor(f * 100), done, total, secs);
     } else {
-      line = String.format(java.util.Locale.ROOT, "%s %,d %.1fs", task, done, secs);
+      line = String.format(Locale.ROOT, "%s %,d %.1fs", task, done, secs);
     }
     err.print('\r' + line + "\u001b[K");
     err.flush();

@@ -1,5 +1,7 @@
 package io.actindex.cli;
 
+import io.actindex.query.RowRange;
+import io.actindex.query.Source;
 import java.nio.file.Path;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
@@ -32,5 +34,17 @@ public final class QuerySourceOptions {
     if (given != 1)
       throw new ParameterException(mixee.commandLine(),
           "give exactly one query source: --activations FILE, --codes FILE or --inputs FILE");
+  }
+
+  /** The query source, after {@link #check}. */
+  Source toSource() {
+    if (activations != null) return Source.activations(activations);
+    if (codes != null) return Source.codes(codes);
+    return Source.inputs(inputs, null);
+  }
+
+  /** The rows to use (all when --rows is absent). */
+  RowRange range() {
+    return RowRange.parse(rows);
   }
 }

@@ -10,9 +10,9 @@ class ProgressTest {
   @Test
   void disabledBarWritesNothing() {
     StringWriter sw = new StringWriter();
-    try (Progress p = new Progress(new PrintWriter(sw), "rows", 100, false)) {
-      p.step(50);
-      p.step(50);
+    try (Progress p = new Progress(new PrintWriter(sw), "rows", false)) {
+      p.update(50, 100);
+      p.update(100, 100);
     }
     assertThat(sw.toString()).isEmpty();
   }
@@ -20,9 +20,9 @@ class ProgressTest {
   @Test
   void enabledBarRedrawsInPlaceAndEndsTheLine() {
     StringWriter sw = new StringWriter();
-    try (Progress p = new Progress(new PrintWriter(sw), "rows", 200, true)) {
-      p.step(50);
-      p.step(150);
+    try (Progress p = new Progress(new PrintWriter(sw), "rows", true)) {
+      p.update(50, 200);
+      p.update(200, 200);
     }
     String s = sw.toString();
     assertThat(s).startsWith("\rrows [").endsWith("\n").contains("100% 200/200");
@@ -32,10 +32,17 @@ class ProgressTest {
   @Test
   void unknownTotalShowsACount() {
     StringWriter sw = new StringWriter();
-    try (Progress p = new Progress(new PrintWriter(sw), "queries", -1, true)) {
-      p.step(1234);
+    try (Progress p = new Progress(new PrintWriter(sw), "queries", true)) {
+      p.update(1234, -1);
     }
     assertThat(sw.toString()).contains("queries 1,234");
+  }
+
+  @Test
+  void nothingDrawnMeansNothingToClose() {
+    StringWriter sw = new StringWriter();
+    new Progress(new PrintWriter(sw), "rows", true).close();
+    assertThat(sw.toString()).isEmpty();
   }
 
   @Test

@@ -16,8 +16,8 @@ import org.junit.jupiter.api.RepeatedTest;
 import org.junit.jupiter.api.Test;
 
 /** Our JSON writer, read back with an outside reference parser (Jackson databind 2.22). */
-class JsonWriterTest {
-  static final ObjectMapper STRICT = JsonMapper.builder()
+public class JsonWriterTest {
+  public static final ObjectMapper STRICT = JsonMapper.builder()
       .enable(StreamReadFeature.STRICT_DUPLICATE_DETECTION)
       .enable(DeserializationFeature.FAIL_ON_TRAILING_TOKENS)
       .build();

@@ -1,0 +1,178 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import io.actindex.encode.io.SafetensorsWriter;
+import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import org.junit.jupiter.api.BeforeEach;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * Every bad-input case of the encode issue, and queries whose width or layout does not fit the
+ * index, through the command line: exit code 2, one line on stderr naming the file and the
+ * problem, no stack trace, and the index folder byte-for-byte unchanged (a failed build leaves no
+ * index behind).
+ */
+class BadInputEndToEndTest {
+  @TempDir Path tmp;
+  Path idx;
+  Path model;
+
+  static final String F32_8 = "{'descr': '<f4', 'fortran_order': False, 'shape': (%d, 8), }";
+
+  @BeforeEach
+  void buildIndex() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(7);
+    idx = tmp.resolve("idx");
+    Path acts = Files2.floats(tmp.resolve("acts.npy"), SourcesEndToEndTest.activations(40, 8, rnd));
+    Cli.Result r = Cli.run("build", "--out", idx.toString(), "--activations", acts.toString());
+    assertThat(r.code()).as(r.describe()).isZero();
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {4, 3}, new double[12]));
+    t.put("0.bias", new SafetensorsWriter.Tensor(new long[] {4}, new double[] {1, -1, 1, -1}));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, 4}, new double[8]));
+    t.put("2.bias", new SafetensorsWriter.Tensor(new long[] {2}, new double[2]));
+    model = tmp.resolve("mlp.safetensors");
+    SafetensorsWriter.write(model, t, Map.of());
+  }
+
+  /** A bad file and the failure it must produce. */
+  record Case(String name, Path file, String mustMention) {}
+
+  private List<Case> badActivations() {
+    List<Case> cases = new ArrayList<>();
+    cases.add(new Case("wrong magic",
+        Files2.rawNpy(tmp.resolve("magic.npy"), new byte[] {(byte) 0x93, 'N', 'U', 'M', 'P', 'X'}, F32_8.formatted(1),
+            Files2.f32(new float[8])), null));
+    cases.add(new Case("unsupported dtype (complex64)",
+        Files2.rawNpy(tmp.resolve("complex.npy"), Files2.NPY_MAGIC, "{'descr': '<c8', 'fortran_order': False, 'shape': (2, 8), }",
+            new byte[2 * 8 * 8]), null));
+    cases.add(new Case("header says more rows than the file holds",
+        Files2.rawNpy(tmp.resolve("short.npy"), Files2.NPY_MAGIC, F32_8.formatted(4), Files2.f32(new float[3 * 8])), null));
+    cases.add(new Case("header says fewer rows than the file holds",
+        Files2.rawNpy(tmp.resolve("long.npy"), Files2.NPY_MAGIC, F32_8.formatted(2), Files2.f32(new float[3 * 8])), null));
+    cases.add(new Case("truncated in the middle of a value",
+        Files2.rawNpy(tmp.resolve("cut.npy"), Files2.NPY_MAGIC, F32_8.formatted(2),
+            java.util.Arrays.copyOf(Files2.f32(new float[2 * 8]), 2 * 8 * 4 - 3)), null));
+    float[][] nan = new float[3][8];
+    nan[2][5] = Float.NaN;
+    cases.add(new Case("NaN", Files2.floats(tmp.resolve("nan.npy"), nan), "row"));
+    float[][] inf = new float[3][8];
+    inf[1][0] = Float.NEGATIVE_INFINITY;
+    cases.add(new Case("infinity", Files2.floats(tmp.resolve("inf.npy"), inf), "row"));
+    cases.add(new Case("width does not match the index (9 columns, index has 8)",
+        Files2.floats(tmp.resolve("wide.npy"), new float[3][9]), null));
+    return cases;
+  }
+
+  private static void assertRefused(Cli.Result r, Case c) {
+    String what = c.name() + "\n" + r.describe();
+    assertThat(r.code()).as(what).isEqualTo(ExitCodes.USAGE);
+    assertThat(r.err()).as(what).contains(c.file().getFileName().toString());
+    assertThat(r.err().strip()).as(what + ": one line").doesNotContain("\n");
+    assertThat(r.err()).as(what).doesNotContain("\tat ").doesNotContain("internal error");
+    if (c.mustMention() != null) assertThat(r.err().toLowerCase()).as(what).contains(c.mustMention());
+    assertThat(r.out()).as(what).isEmpty();
+  }
+
+  @Test
+  void badActivationsAreRefusedByNearestRegionAndAddLeavingTheIndexUnchanged() {
+    for (Case c : badActivations()) {
+      Map<String, String> before = Files2.checksums(idx);
+      assertRefused(Cli.run("nearest", "--index", idx.toString(), "--activations", c.file().toString(), "--format", "json"), c);
+      assertRefused(Cli.run("region", "--index", idx.toString(), "--activations", c.file().toString()), c);
+      assertRefused(Cli.run("add", "--index", idx.toString(), "--activations", c.file().toString()), c);
+      assertThat(Files2.checksums(idx)).as(c.name() + ": index unchanged").isEqualTo(before);
+    }
+  }
+
+  @Test
+  void badActivationsAreRefusedByBuildLeavingNoIndex() throws Exception {
+    for (Case c : badActivations()) {
+      if (c.name().startsWith("width")) continue; // any width is fine for a new index
+      Path out = tmp.resolve("new-" + c.file().getFileName());
+      assertRefused(Cli.run("build", "--out", out.toString(), "--activations", c.file().toString()), c);
+      assertThat(!Files.exists(out) || Files2.checksums(out).isEmpty()).as(c.name() + ": nothing written").isTrue();
+    }
+  }
+
+  @Test
+  void inputsThatDoNotFitTheModelAreRefused() {
+    Path wide = Files2.floats(tmp.resolve("inputs4.npy"), new float[5][4]);
+    Case c = new Case("inputs have 4 columns, the model takes 3", wide, null);
+    Path out = tmp.resolve("m-idx");
+    assertRefused(Cli.run("build", "--out", out.toString(), "--model", model.toString(), "--inputs", wide.toString()), c);
+    assertThat(!Files.exists(out) || Files2.checksums(out).isEmpty()).isTrue();
+    // and a model-built index refuses the same inputs as queries or additions
+    Path good = Files2.floats(tmp.resolve("inputs3.npy"), new float[5][3]);
+    Cli.Result b = Cli.run("build", "--out", out.toString(), "--model", model.toString(), "--inputs", good.toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    Map<String, String> before = Files2.checksums(out);
+    assertRefused(Cli.run("nearest", "--index", out.toString(), "--inputs", wide.toString()), c);
+    assertRefused(Cli.run("add", "--index", out.toString(), "--inputs", wide.toString()), c);
+    assertThat(Files2.checksums(out)).isEqualTo(before);
+  }
+
+  @Test
+  void safetensorsHeaderPointingOutsideTheFileIsRefused() {
+    String header = "{\"0.weight\":{\"dtype\":\"F32\",\"shape\":[4,3],\"data_offsets\":[0,48]},"
+        + "\"0.bias\":{\"dtype\":\"F32\",\"shape\":[4],\"data_offsets\":[48,4000]}}";
+    byte[] json = header.getBytes(StandardCharsets.UTF_8);
+    ByteBuffer b = ByteBuffer.allocate(8 + json.length + 64).order(ByteOrder.LITTLE_ENDIAN);
+    b.putLong(json.length).put(json);
+    Path bad = Files2.write(tmp.resolve("outside.safetensors"), b.array());
+    Path inputs = Files2.floats(tmp.resolve("in.npy"), new float[2][3]);
+    Path out = tmp.resolve("s-idx");
+    assertRefused(Cli.run("build", "--out", out.toString(), "--model", bad.toString(), "--inputs", inputs.toString()),
+        new Case("data_offsets past the end", bad, null));
+    assertThat(!Files.exists(out) || Files2.checksums(out).isEmpty()).isTrue();
+  }
+
+  @Test
+  void queryCodesOfTheWrongWidthAreRefused() {
+    boolean[][] codes = new boolean[3][12];
+    Path c = Files2.bits(tmp.resolve("codes12.npy"), codes);
+    Case k = new Case("12-bit codes for an 8-bit index", c, null);
+    Map<String, String> before = Files2.checksums(idx);
+    assertRefused(Cli.run("nearest", "--index", idx.toString(), "--codes", c.toString()), k);
+    assertRefused(Cli.run("add", "--index", idx.toString(), "--codes", c.toString()), k);
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+  }
+
+  @Test
+  void metadataThatDoesNotFitIsRefusedAndNamesTheCsv() {
+    Path acts = Files2.floats(tmp.resolve("more.npy"), new float[3][8]);
+    Path csv = Files2.text(tmp.resolve("more.csv"), List.of("key,label", "x1,a", "x2,b"));
+    Map<String, String> before = Files2.checksums(idx);
+    assertRefused(Cli.run("add", "--index", idx.toString(), "--activations", acts.toString(), "--meta", csv.toString()),
+        new Case("2 metadata rows for 3 examples", csv, null));
+    Path dup = Files2.text(tmp.resolve("dup.csv"), List.of("key,label", "x1,a", "x1,b", "x3,c"));
+    assertRefused(Cli.run("add", "--index", idx.toString(), "--activations", acts.toString(), "--meta", dup.toString()),
+        new Case("duplicate key", dup, null));
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+  }
+
+  @Test
+  void badWhereAndUnknownLayerAreRefusedWithoutAStackTrace() {
+    Path q = Files2.floats(tmp.resolve("q.npy"), new float[1][8]);
+    Cli.Result r = Cli.run("nearest", "--index", idx.toString(), "--activations", q.toString(), "--where", "label = ");
+    assertThat(r.code()).as(r.describe()).isEqualTo(2);
+    assertThat(r.err()).as(r.describe()).contains("where").doesNotContain("\tat ");
+    r = Cli.run("nearest", "--index", idx.toString(), "--activations", q.toString(), "--layers", "nope");
+    assertThat(r.code()).as(r.describe()).isEqualTo(2);
+    assertThat(r.err()).as(r.describe()).contains("nope");
+    r = Cli.run("nearest", "--index", tmp.resolve("no-such-index").toString(), "--activations", q.toString());
+    assertThat(r.code()).as(r.describe()).isEqualTo(2);
+    assertThat(r.err()).as(r.describe()).contains("no-such-index");
+  }
+}

@@ -1,0 +1,255 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import io.actindex.cli.Reference.Example;
+import io.actindex.cli.Reference.Hit;
+import io.actindex.cli.Reference.Layer;
+import io.actindex.cli.format.JsonWriterTest;
+import io.actindex.index.CodeBlock;
+import io.actindex.index.CodeLayout;
+import io.actindex.index.Randoms;
+import io.actindex.index.SyntheticCodes;
+import io.actindex.index.store.IndexWriter;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Iterator;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import java.util.function.Predicate;
+import org.junit.jupiter.api.RepeatedTest;
+import org.junit.jupiter.api.RepetitionInfo;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * {@code build} then {@code nearest --format json} through the command line, checked against the
+ * test's own brute-force scan (distances, order, tie-break by id, keys, labels, metadata), on
+ * uniform random and on ReLU-like codes, with {@code --where}, {@code --layers}, {@code --rows},
+ * after {@code add} and after deletes.
+ */
+class NearestEndToEndTest {
+  @TempDir Path tmp;
+
+  static final List<Layer> LAYERS = Reference.layers("h1:40", "h2:24");
+  static final String LAYOUT = "h1:40,h2:24";
+
+  /** Codes: uniform random (even repetitions) or ReLU-like from one random network (odd), plus queries. */
+  record Data(boolean[][] index, boolean[][] more, boolean[][] queries) {}
+
+  static Data data(int n, int m, int q, boolean relu, long seed) {
+    if (relu) {
+      SyntheticCodes.ReluNet net = new SyntheticCodes.ReluNet(32, 40, 24, 6, seed);
+      boolean[][] qs = bits(net.sample(q, 0, seed + 3).codes());
+      boolean[][] idx = bits(net.sample(n, 0, seed + 1).codes());
+      qs[0] = idx[5].clone(); // a query sitting exactly on indexed codes: distance-0 ties
+      return new Data(idx, bits(net.sample(m, 0, seed + 2).codes()), qs);
+    }
+    CodeLayout layout = CodeLayout.parse(LAYOUT);
+    return new Data(bits(relabel(SyntheticCodes.uniform(n, 64, seed), layout)),
+        bits(relabel(SyntheticCodes.uniform(m, 64, seed + 1), layout)), bits(relabel(SyntheticCodes.uniform(q, 64, seed + 2), layout)));
+  }
+
+  static CodeBlock relabel(CodeBlock c, CodeLayout layout) {
+    return new CodeBlock(layout, c.size(), c.words());
+  }
+
+  static boolean[][] bits(CodeBlock c) {
+    boolean[][] out = new boolean[c.size()][c.layout().bits()];
+    for (int i = 0; i < c.size(); i++) for (int b = 0; b < out[i].length; b++) out[i][b] = c.bit(i, b);
+    return out;
+  }
+
+  static final String[] LABELS = {"idle", "run", "fault"};
+
+  /** Metadata rows for ids {@code first..}: key, label, split, line (sometimes empty), rpm (number). */
+  static List<Example> examples(boolean[][] codes, int first, String keyPrefix, long seed) {
+    SplittableRandom rnd = new SplittableRandom(seed);
+    List<Example> out = new ArrayList<>();
+    for (int i = 0; i < codes.length; i++) {
+      Map<String, String> meta = new java.util.LinkedHashMap<>();
+      meta.put("key", keyPrefix + "-" + i);
+      meta.put("label", LABELS[rnd.nextInt(3)]);
+      meta.put("split", rnd.nextInt(4) == 0 ? "test" : "train");
+      if (rnd.nextInt(5) != 0) meta.put("line", "L" + (1 + rnd.nextInt(3)));
+      meta.put("rpm", Integer.toString(1000 + 50 * rnd.nextInt(21)));
+      out.add(new Example(first + i, codes[i], meta));
+    }
+    return out;
+  }
+
+  static Path metaCsv(Path file, List<Example> rows) {
+    List<String> lines = new ArrayList<>(List.of("key,label,split,line,rpm"));
+    for (Example e : rows) {
+      Map<String, String> m = e.meta();
+      lines.add(String.join(",", m.get("key"), m.get("label"), m.get("split"), m.getOrDefault("line", ""), m.get("rpm")));
+    }
+    return Files2.text(file, lines);
+  }
+
+  /** Runs the command and returns its JSON document (asserting exit 0 and nothing on stderr). */
+  static JsonNode json(String... args) throws Exception {
+    Cli.Result r = Cli.run(args);
+    assertThat(r.code()).as(r.describe()).isZero();
+    assertThat(r.err()).as(r.describe()).isEmpty();
+    return JsonWriterTest.STRICT.readTree(r.out());
+  }
+
+  /** Checks one nearest JSON document against the brute-force scan. */
+  static void check(JsonNode doc, int k, List<Example> live, boolean[][] queries, int firstRow,
+      Predicate<Map<String, String>> accept, List<Layer> on, String what) {
+    assertThat(doc.get("k").asInt()).as(what).isEqualTo(k);
+    JsonNode results = doc.get("results");
+    assertThat(results.size()).as(what).isEqualTo(queries.length);
+    Map<Integer, Example> byId = new java.util.HashMap<>();
+    for (Example e : live) byId.put(e.id(), e);
+    for (int qi = 0; qi < queries.length; qi++) {
+      JsonNode r = results.get(qi);
+      assertThat(r.get("query").asLong()).as(what).isEqualTo(firstRow + qi);
+      List<Hit> expected = Reference.knn(live, queries[qi], k, accept, on);
+      JsonNode nbs = r.get("neighbors");
+      List<Hit> got = new ArrayList<>();
+      for (JsonNode nb : nbs) got.add(new Hit(nb.get("id").asInt(), nb.get("distance").asInt()));
+      assertThat(got).as(what + ", query " + qi).isEqualTo(expected);
+      for (JsonNode nb : nbs) {
+        Example e = byId.get(nb.get("id").asInt());
+        assertThat(nb.get("key").asText()).as(what).isEqualTo(e.meta().get("key"));
+        assertThat(nb.get("label").asText()).as(what).isEqualTo(e.meta().get("label"));
+        assertThat(nb.get("split").asText()).as(what).isEqualTo(e.meta().get("split"));
+        JsonNode meta = nb.get("meta");
+        assertThat(meta.path("rpm").asText()).as(what).isEqualTo(e.meta().get("rpm"));
+        assertThat(meta.has("line")).as(what).isEqualTo(e.meta().containsKey("line"));
+        if (e.meta().containsKey("line")) assertThat(meta.get("line").asText()).isEqualTo(e.meta().get("line"));
+        for (Iterator<String> it = meta.fieldNames(); it.hasNext(); )
+          assertThat(it.next()).as(what + ": meta holds only the extra columns").isIn("line", "rpm", "source");
+        JsonNode ld = nb.get("layer_distances");
+        assertThat(ld.size()).as(what).isEqualTo(on.size());
+        int i = 0;
+        for (Iterator<Map.Entry<String, JsonNode>> it = ld.fields(); it.hasNext(); i++) {
+          Map.Entry<String, JsonNode> f = it.next();
+          assertThat(f.getKey()).as(what).isEqualTo(on.get(i).name());
+          assertThat(f.getValue().asInt()).as(what).isEqualTo(Reference.distance(queries[qi], e.bits(), List.of(on.get(i))));
+        }
+      }
+    }
+  }
+
+  @RepeatedTest(4)
+  void buildThenNearestEqualsBruteForce(RepetitionInfo rep) throws Exception {
+    long seed = Randoms.seed(rep.getCurrentRepetition());
+    String what = Randoms.describe(seed) + (rep.getCurrentRepetition() % 2 == 1 ? " relu" : " uniform");
+    Data d = data(240, 60, 12, rep.getCurrentRepetition() % 2 == 1, seed);
+    List<Example> ex = examples(d.index(), 0, "a", seed);
+    Path idx = tmp.resolve("idx");
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("codes.npy"), d.index()).toString(),
+        "--code-layout", LAYOUT, "--meta", metaCsv(tmp.resolve("meta.csv"), ex).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    String q = Files2.bits(tmp.resolve("q.npy"), d.queries()).toString();
+
+    check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "7", "--format", "json"),
+        7, ex, d.queries(), 0, m -> true, LAYERS, what + " plain");
+    // k larger than the index
+    check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "500", "--format", "json", "--rows", "0:2"),
+        500, ex, java.util.Arrays.copyOfRange(d.queries(), 0, 2), 0, m -> true, LAYERS, what + " k>n");
+    check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "5", "--format", "json",
+            "--where", "split = train and rpm >= 1500"),
+        5, ex, d.queries(), 0, m -> m.get("split").equals("train") && Integer.parseInt(m.get("rpm")) >= 1500, LAYERS, what + " where");
+    check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "5", "--format", "json",
+            "--where", "line != L2 or label in (fault, idle)"),
+        5, ex, d.queries(), 0, m -> !"L2".equals(m.get("line")) || m.get("label").equals("fault") || m.get("label").equals("idle"),
+        LAYERS, what + " where-2");
+    check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "6", "--format", "json", "--layers", "h2"),
+        6, ex, d.queries(), 0, m -> true, List.of(LAYERS.get(1)), what + " layers h2");
+    check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "3", "--format", "json", "--rows", "4:9", "--threads", "3"),
+        3, ex, java.util.Arrays.copyOfRange(d.queries(), 4, 9), 4, m -> true, LAYERS, what + " rows 4:9, 3 threads");
+  }
+
+  @RepeatedTest(2)
+  void afterAddAndDeletes(RepetitionInfo rep) throws Exception {
+    long seed = Randoms.seed(100 + rep.getCurrentRepetition());
+    String what = Randoms.describe(seed);
+    Data d = data(150, 70, 8, rep.getCurrentRepetition() == 1, seed);
+    List<Example> ex = new ArrayList<>(examples(d.index(), 0, "a", seed));
+    List<Example> more = examples(d.more(), d.index().length, "b", seed + 9);
+    Path idx = tmp.resolve("idx");
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("codes.npy"), d.index()).toString(),
+        "--code-layout", LAYOUT, "--meta", metaCsv(tmp.resolve("meta.csv"), ex).toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    JsonNode added = json("add", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("more.npy"), d.more()).toString(),
+        "--meta", metaCsv(tmp.resolve("more.csv"), more).toString(), "--format", "json");
+    assertThat(added.get("first_id").asInt()).isEqualTo(d.index().length);
+    assertThat(added.get("rows").asInt()).isEqualTo(d.more().length);
+    assertThat(added.get("layout").asText()).isEqualTo(LAYOUT);
+    ex.addAll(more);
+    String q = Files2.bits(tmp.resolve("q.npy"), d.queries()).toString();
+    check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "9", "--format", "json"),
+        9, ex, d.queries(), 0, m -> true, LAYERS, what + " after add");
+
+    // delete every id that was a first or second neighbour, plus a few from the added segment
+    RoaringBitmap gone = new RoaringBitmap();
+    for (boolean[] query : d.queries())
+      for (Hit h : Reference.knn(ex, query, 2, m -> true, LAYERS)) gone.add(h.id());
+    gone.add(d.index().length + 3);
+    gone.add(7);
+    try (IndexWriter w = IndexWriter.open(idx)) {
+      w.delete(gone);
+    }
+    List<Example> live = ex.stream().filter(e -> !gone.contains(e.id())).toList();
+    check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "9", "--format", "json"),
+        9, live, d.queries(), 0, m -> true, LAYERS, what + " after deletes");
+    JsonNode info = json("info", "--index", idx.toString(), "--format", "json");
+    assertThat(info.get("layout").asText()).isEqualTo(LAYOUT);
+    assertThat(info.get("max_id").asInt()).isEqualTo(ex.size());
+    assertThat(info.get("live").asInt()).isEqualTo(live.size());
+    assertThat(info.get("deleted").asInt()).isEqualTo(gone.getCardinality());
+    assertThat(info.get("segments").size()).as("build and add wrote one segment each").isEqualTo(2);
+    assertThat(info.get("segments").get(1).get("first_id").asInt()).isEqualTo(d.index().length);
+    Cli.Result infoTable = Cli.run("info", "--index", idx.toString());
+    assertThat(infoTable.code()).as(infoTable.describe()).isZero();
+    assertThat(infoTable.out()).contains("h1 (40 bits), h2 (24 bits)").contains(live.size() + " live");
+    check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "4", "--format", "json", "--where", "label = run",
+            "--layers", "h1"),
+        4, live, d.queries(), 0, m -> m.get("label").equals("run"), List.of(LAYERS.get(0)), what + " after deletes, where, layers");
+  }
+
+  @Test
+  void tableAndCsvCarryTheSameNeighbours() throws Exception {
+    long seed = Randoms.seed(200);
+    Data d = data(120, 1, 3, true, seed);
+    List<Example> ex = examples(d.index(), 0, "w", seed);
+    Path idx = tmp.resolve("idx");
+    assertThat(Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), d.index()).toString(),
+        "--code-layout", LAYOUT, "--meta", metaCsv(tmp.resolve("m.csv"), ex).toString()).code()).isZero();
+    String q = Files2.bits(tmp.resolve("q.npy"), d.queries()).toString();
+    Cli.Result csv = Cli.run("nearest", "--index", idx.toString(), "--codes", q, "-k", "4", "--format", "csv");
+    assertThat(csv.code()).as(csv.describe()).isZero();
+    String[] lines = csv.out().split("\\R");
+    assertThat(lines[0]).isEqualTo("query,rank,id,key,distance,distance_h1,distance_h2,label,split,line,rpm");
+    assertThat(lines).hasSize(1 + 3 * 4);
+    for (int qi = 0; qi < 3; qi++) {
+      List<Hit> exp = Reference.knn(ex, d.queries()[qi], 4, m -> true, LAYERS);
+      for (int r = 0; r < 4; r++) {
+        String[] f = lines[1 + qi * 4 + r].split(",", -1);
+        assertThat(f[0]).isEqualTo(Integer.toString(qi));
+        assertThat(f[1]).isEqualTo(Integer.toString(r + 1));
+        assertThat(Integer.parseInt(f[2])).isEqualTo(exp.get(r).id());
+        assertThat(Integer.parseInt(f[4])).isEqualTo(exp.get(r).distance());
+        assertThat(Integer.parseInt(f[5]) + Integer.parseInt(f[6])).isEqualTo(exp.get(r).distance());
+      }
+    }
+    Cli.Result table = Cli.run("nearest", "--index", idx.toString(), "--codes", q, "-k", "4");
+    assertThat(table.code()).as(table.describe()).isZero();
+    assertThat(table.out()).contains("query row 0  vote: ").contains("agreement")
+        .containsPattern("rank +distance +h1 +h2 +key +label +split +line +rpm");
+    // the vote line: count the labels of the expected neighbours of query 0
+    List<Hit> exp0 = Reference.knn(ex, d.queries()[0], 4, m -> true, LAYERS);
+    Map<String, Integer> votes = new java.util.HashMap<>();
+    for (Hit h : exp0) votes.merge(ex.get(h.id()).meta().get("label"), 1, Integer::sum);
+    int top = votes.values().stream().mapToInt(Integer::intValue).max().orElseThrow();
+    assertThat(table.out()).as(table.describe()).contains("(" + top + " of 4, agreement " + Math.round(100.0 * top / 4) + "%)");
+    for (Hit h : exp0) assertThat(table.out()).contains(ex.get(h.id()).meta().get("key"));
+  }
+}
