@@ -5,6 +5,7 @@ import java.io.Closeable;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Path;
+import java.util.ArrayList;
 import java.util.Collections;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -29,6 +30,7 @@ import org.apache.lucene.store.Directory;
 import org.apache.lucene.store.FSDirectory;
 import org.apache.lucene.store.IOContext;
 import org.apache.lucene.store.IndexInput;
+import org.apache.lucene.util.IOUtils;
 import org.roaringbitmap.RoaringBitmap;
 
 /**
@@ -67,18 +69,41 @@ public final class MetaStore implements Closeable {
     try {
       dir = FSDirectory.open(metaDir);
       IndexCommit commit = findCommit(metaDir, dir, segmentsFile);
-      for (String name : commit.getFileNames()) {
-        try (IndexInput in = dir.openInput(name, IOContext.READONCE)) {
-          CodecUtil.checksumEntireFile(in);
-        } catch (IOException e) {
-          throw new BadInputException("metadata file " + metaDir.resolve(name) + " is damaged: " + e.getMessage(), e);
-        }
-      }
-      DirectoryReader reader;
+      // open every file of the commit first (a writer may delete an older commit's files at any
+      // time after publishing a newer manifest; open files stay readable), then the reader, then
+      // verify the checksums through the inputs opened first
+      List<String> names = new ArrayList<>(commit.getFileNames());
+      List<IndexInput> pinned = new ArrayList<>();
+      DirectoryReader reader = null;
       try {
-        reader = DirectoryReader.open(commit);
-      } catch (IOException e) {
-        throw new BadInputException("metadata store " + metaDir + " is damaged: " + e.getMessage(), e);
+        for (String name : names) {
+          try {
+            pinned.add(dir.openInput(name, IOContext.READONCE));
+          } catch (IOException e) {
+            throw new BadInputException("metadata file " + metaDir.resolve(name) + " cannot be opened: " + e, e);
+          }
+        }
+        IOException openError = null;
+        try {
+          reader = DirectoryReader.open(commit);
+        } catch (IOException e) {
+          openError = e; // the checksums below name the damaged file, if one is
+        }
+        for (int i = 0; i < pinned.size(); i++) {
+          try {
+            CodecUtil.checksumEntireFile(pinned.get(i));
+          } catch (IOException e) {
+            throw new BadInputException("metadata file " + metaDir.resolve(names.get(i)) + " is damaged: "
+                + e.getMessage(), e);
+          }
+        }
+        if (openError != null)
+          throw new BadInputException("metadata store " + metaDir + " is damaged: " + openError.getMessage(), openError);
+      } catch (RuntimeException e) {
+        if (reader != null) reader.close();
+        throw e;
+      } finally {
+        IOUtils.close(pinned);
       }
       return new MetaStore(dir, reader, kinds(commit.getUserData()), deleted.clone());
     } catch (IOException e) {

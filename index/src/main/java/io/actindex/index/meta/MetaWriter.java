@@ -5,12 +5,10 @@ import io.actindex.index.meta.MetaStore.FieldKind;
 import java.io.Closeable;
 import java.io.IOException;
 import java.nio.file.Path;
-import java.util.ArrayList;
 import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import org.apache.lucene.document.Document;
 import org.apache.lucene.document.IntPoint;
 import org.apache.lucene.index.DirectoryReader;
 import org.apache.lucene.index.IndexCommit;
@@ -42,8 +40,24 @@ public final class MetaWriter implements Closeable {
   private Map<String, FieldKind> kinds;
   private DirectoryReader nrt;
 
-  /** A validated batch, ready to add. */
-  public record Batch(List<Document> docs, Map<String, FieldKind> kinds) {}
+  /** A validated batch, ready to add: rows (nullable) for ids firstId.., and the merged column kinds. */
+  public record Batch(int firstId, int n, List<Map<String, String>> rows, Map<String, FieldKind> kinds) {
+    /** The key of row {@code r}: its "key" column, or "row-ID" when absent or empty. */
+    String key(int r) {
+      String key = rows == null ? null : rows.get(r).get(MetaSchema.KEY);
+      return key == null || key.isEmpty() ? "row-" + (firstId + r) : key;
+    }
+
+    /** Row {@code r} with its key filled in. */
+    Map<String, String> row(int r) {
+      Map<String, String> row = new LinkedHashMap<>();
+      row.put(MetaSchema.KEY, key(r));
+      if (rows != null)
+        for (Map.Entry<String, String> e : rows.get(r).entrySet())
+          if (!e.getKey().equals(MetaSchema.KEY)) row.put(e.getKey(), e.getValue());
+      return row;
+    }
+  }
 
   private MetaWriter(Path path, Directory dir, KeepPublishedPolicy policy, IndexWriter writer,
       Map<String, FieldKind> kinds) throws IOException {
@@ -99,24 +113,16 @@ public final class MetaWriter implements Closeable {
   public Batch prepare(int firstId, int n, List<Map<String, String>> rows) throws IOException {
     if (rows != null && rows.size() != n)
       throw new BadInputException(rows.size() + " metadata rows for " + n + " codes");
-    List<Map<String, String>> keyed = new ArrayList<>(n);
-    for (int r = 0; r < n; r++) {
-      if (rows != null && rows.get(r) == null) throw new BadInputException("metadata row " + r + " is missing");
-      Map<String, String> row = new LinkedHashMap<>();
-      String key = rows == null ? null : rows.get(r).get(MetaSchema.KEY);
-      row.put(MetaSchema.KEY, key == null || key.isEmpty() ? "row-" + (firstId + r) : key);
-      if (rows != null)
-        for (Map.Entry<String, String> e : rows.get(r).entrySet())
-          if (!e.getKey().equals(MetaSchema.KEY)) row.put(e.getKey(), e.getValue());
-      keyed.add(row);
-    }
-    Map<String, FieldKind> merged = MetaSchema.kinds(kinds, keyed, firstId);
+    for (int r = 0; rows != null && r < n; r++)
+      if (rows.get(r) == null) throw new BadInputException("metadata row " + r + " is missing");
+    Batch batch = new Batch(firstId, n, rows, Map.of());
+    Map<String, FieldKind> merged = MetaSchema.kinds(kinds, rows == null ? List.of() : rows, firstId);
     Map<String, Integer> seen = new HashMap<>();
     for (int r = 0; r < n; r++) {
-      Integer before = seen.put(keyed.get(r).get(MetaSchema.KEY), r);
+      Integer before = seen.put(batch.key(r), r);
       if (before != null)
-        throw new BadInputException("metadata row " + r + ": key '" + keyed.get(r).get(MetaSchema.KEY)
-            + "' already used by row " + before + " of the same batch");
+        throw new BadInputException("metadata row " + r + ": key '" + batch.key(r) + "' already used by row " + before
+            + " of the same batch");
     }
     refresh();
     for (LeafReaderContext leaf : nrt.leaves()) {
@@ -127,20 +133,18 @@ public final class MetaWriter implements Closeable {
       NumericDocValues ids = null;
       PostingsEnum pe = null;
       for (int r = 0; r < n; r++) {
-        if (!te.seekExact(new BytesRef(keyed.get(r).get(MetaSchema.KEY)))) continue;
+        if (!te.seekExact(new BytesRef(batch.key(r)))) continue;
         pe = te.postings(pe, PostingsEnum.NONE);
         for (int d = pe.nextDoc(); d != DocIdSetIterator.NO_MORE_DOCS; d = pe.nextDoc()) {
           if (live != null && !live.get(d)) continue;
           ids = leaf.reader().getNumericDocValues(MetaSchema.ID);
           long id = ids != null && ids.advanceExact(d) ? ids.longValue() : -1;
-          throw new BadInputException("metadata row " + r + ": key '" + keyed.get(r).get(MetaSchema.KEY)
+          throw new BadInputException("metadata row " + r + ": key '" + batch.key(r)
               + "' already exists in the index (id " + id + ")");
         }
       }
     }
-    List<Document> docs = new ArrayList<>(n);
-    for (int r = 0; r < n; r++) docs.add(MetaSchema.document(firstId + r, keyed.get(r), merged));
-    return new Batch(docs, merged);
+    return new Batch(firstId, n, rows, merged);
   }
 
   private void refresh() throws IOException {
@@ -153,7 +157,8 @@ public final class MetaWriter implements Closeable {
 
   /** Adds a prepared batch (not yet committed). */
   public void add(Batch batch) throws IOException {
-    writer.addDocuments(batch.docs());
+    for (int r = 0; r < batch.n(); r++)
+      writer.addDocument(MetaSchema.document(batch.firstId() + r, batch.row(r), batch.kinds()));
     kinds = batch.kinds();
     writer.setLiveCommitData(userData(kinds).entrySet());
   }

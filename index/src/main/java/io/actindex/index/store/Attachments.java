@@ -34,9 +34,10 @@ final class Attachments {
     }
   }
 
-  static byte[] read(Path dir, Manifest m, String name) {
+  static byte[] read(Path dir, FileSource src, Manifest m, String name) {
     FileRef ref = m.attachments().get(name);
-    ChecksummedFile.In in = ChecksummedFile.read(dir.resolve(ref.name()), CODEC, VERSION_START, VERSION_CURRENT,
+    Path file = dir.resolve(ref.name());
+    ChecksummedFile.In in = ChecksummedFile.check(file, src.bytes(file), CODEC, VERSION_START, VERSION_CURRENT,
         m.layout().hash(), m.uuid(), ref);
     String stored = in.string("name");
     if (!stored.equals(name)) throw in.error("holds attachment '" + stored + "', the manifest says '" + name + "'");

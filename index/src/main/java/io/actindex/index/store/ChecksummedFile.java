@@ -7,14 +7,11 @@ import java.io.DataInputStream;
 import java.io.DataOutputStream;
 import java.io.IOException;
 import java.io.OutputStream;
-import java.io.UncheckedIOException;
 import java.nio.BufferUnderflowException;
 import java.nio.ByteBuffer;
 import java.nio.channels.FileChannel;
 import java.nio.charset.CharacterCodingException;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
-import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
 import java.nio.file.StandardOpenOption;
 import java.util.UUID;
@@ -130,15 +127,7 @@ public final class ChecksummedFile {
    */
   public static In read(Path file, String codec, int versionStart, int versionCurrent, Integer layoutHash,
       UUID uuid, FileRef expected) {
-    byte[] bytes;
-    try {
-      bytes = Files.readAllBytes(file);
-    } catch (NoSuchFileException e) {
-      throw new BadInputException("index file " + file + " is missing", e);
-    } catch (IOException e) {
-      throw new UncheckedIOException("cannot read " + file, e);
-    }
-    return check(file, bytes, codec, versionStart, versionCurrent, layoutHash, uuid, expected);
+    return check(file, FileSource.DIRECT.bytes(file), codec, versionStart, versionCurrent, layoutHash, uuid, expected);
   }
 
   static In check(Path file, byte[] bytes, String codec, int versionStart, int versionCurrent, Integer layoutHash,

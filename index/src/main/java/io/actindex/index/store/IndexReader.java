@@ -27,7 +27,7 @@ import org.roaringbitmap.RoaringBitmap;
  * search ever answers from damaged data. Thread-safe; search results carry global ids.
  */
 public final class IndexReader implements AutoCloseable {
-  private static final int OPEN_ATTEMPTS = 10;
+  private static final long RETRY_NANOS = 60_000_000_000L;
 
   private final Path dir;
   private final Manifest manifest;
@@ -51,25 +51,37 @@ public final class IndexReader implements AutoCloseable {
     this.liveCount = manifest.nextId() - deleted.getCardinality();
   }
 
-  /** Opens the newest generation in {@code dir}, verifying every file. */
+  /**
+   * Opens the newest generation in {@code dir}, verifying every file. If a writer publishes a newer
+   * generation and removes this one's files while they load, the open starts over on the newer one.
+   */
   public static IndexReader open(Path dir) {
-    for (int attempt = 1; ; attempt++) {
+    long started = System.nanoTime();
+    while (true) {
       long gen = Manifest.newestGeneration(dir);
       if (gen < 0) throw new BadInputException("no index in " + dir + ": no manifest-N file (not an index, or its manifest was deleted)");
       try {
         return load(dir, gen);
       } catch (RuntimeException e) {
-        // a writer may have committed and removed this generation's files meanwhile: retry then
-        if (attempt >= OPEN_ATTEMPTS || Manifest.newestGeneration(dir) == gen) throw e;
+        boolean moved = Manifest.newestGeneration(dir) != gen;
+        if (!moved || System.nanoTime() - started > RETRY_NANOS) throw e;
       }
     }
   }
 
   private static IndexReader load(Path dir, long gen) {
     Manifest m = Manifest.read(dir, gen);
+    List<Path> files = new ArrayList<>();
+    for (FileRef f : m.files()) files.add(dir.resolve(f.name()));
+    try (FileSource.Pinned src = FileSource.pin(files)) {
+      return load(dir, gen, m, src);
+    }
+  }
+
+  private static IndexReader load(Path dir, long gen, Manifest m, FileSource src) {
     List<Segment> segs = new ArrayList<>();
-    for (Manifest.SegmentEntry e : m.segments()) segs.add(Segment.read(dir, m, e));
-    RoaringBitmap deleted = Tombstones.read(dir, m);
+    for (Manifest.SegmentEntry e : m.segments()) segs.add(Segment.read(dir, src, m, e));
+    RoaringBitmap deleted = Tombstones.read(dir, src, m);
     long stored = 0;
     for (Segment s : segs) stored += s.size();
     int liveInSegments = 0;
@@ -79,7 +91,7 @@ public final class IndexReader implements AutoCloseable {
       throw new BadInputException("index " + dir + ": " + Manifest.fileName(gen) + " holds " + stored + " codes of which "
           + liveInSegments + " live, but ids and tombstones say " + live + " are live");
     Map<String, byte[]> att = new HashMap<>();
-    for (String name : m.attachments().keySet()) att.put(name, Attachments.read(dir, m, name));
+    for (String name : m.attachments().keySet()) att.put(name, Attachments.read(dir, src, m, name));
     MetaStore meta = MetaStore.open(dir.resolve(IndexWriter.META_DIR), m.metaCommit(), deleted);
     if (meta.numDocs() != live) {
       try {

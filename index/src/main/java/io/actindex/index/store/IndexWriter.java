@@ -86,7 +86,7 @@ public final class IndexWriter implements AutoCloseable {
         long gen = Manifest.newestGeneration(dir);
         if (gen < 0) throw new BadInputException("no index in " + dir + ": no manifest-N file");
         Manifest m = Manifest.read(dir, gen);
-        RoaringBitmap deleted = Tombstones.read(dir, m);
+        RoaringBitmap deleted = Tombstones.read(dir, FileSource.DIRECT, m);
         meta = MetaWriter.open(dir.resolve(META_DIR), m.metaCommit());
         IndexWriter w = new IndexWriter(dir, lock, meta, m, deleted);
         w.deleteUnreferenced();
@@ -181,7 +181,7 @@ public final class IndexWriter implements AutoCloseable {
       List<Segment> segs = new ArrayList<>();
       int live = 0, stored = 0;
       for (Manifest.SegmentEntry e : manifest.segments()) {
-        Segment s = Segment.read(dir, manifest, e);
+        Segment s = Segment.read(dir, FileSource.DIRECT, manifest, e);
         segs.add(s);
         stored += s.size();
         for (int o = 0; o < s.size(); o++) if (!deleted.contains(s.id(o))) live++;

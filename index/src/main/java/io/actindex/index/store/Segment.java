@@ -114,9 +114,10 @@ public final class Segment {
   }
 
   /** Reads and verifies both files of a manifest's segment. */
-  static Segment read(Path dir, Manifest m, Manifest.SegmentEntry e) {
+  static Segment read(Path dir, FileSource src, Manifest m, Manifest.SegmentEntry e) {
     CodeLayout layout = m.layout();
-    ChecksummedFile.In in = ChecksummedFile.read(dir.resolve(e.codes().name()), CODES_CODEC, VERSION_START,
+    Path codesFile = dir.resolve(e.codes().name()), tablesFile = dir.resolve(e.tables().name());
+    ChecksummedFile.In in = ChecksummedFile.check(codesFile, src.bytes(codesFile), CODES_CODEC, VERSION_START,
         VERSION_CURRENT, layout.hash(), m.uuid(), e.codes());
     int segId = in.getInt("segmentId");
     if (segId != e.segmentId()) throw in.error("segmentId is " + segId + ", the manifest says " + e.segmentId());
@@ -151,7 +152,7 @@ public final class Segment {
     } catch (IllegalArgumentException ex) {
       throw in.error(ex.getMessage());
     }
-    ChecksummedFile.In t = ChecksummedFile.read(dir.resolve(e.tables().name()), TABLES_CODEC, VERSION_START,
+    ChecksummedFile.In t = ChecksummedFile.check(tablesFile, src.bytes(tablesFile), TABLES_CODEC, VERSION_START,
         VERSION_CURRENT, layout.hash(), m.uuid(), e.tables());
     int tSeg = t.getInt("segmentId");
     if (tSeg != e.segmentId()) throw t.error("segmentId is " + tSeg + ", the manifest says " + e.segmentId());

@@ -39,10 +39,11 @@ final class Tombstones {
     }
   }
 
-  static RoaringBitmap read(Path dir, Manifest m) {
+  static RoaringBitmap read(Path dir, FileSource src, Manifest m) {
     if (m.tombstones() == null) return new RoaringBitmap();
-    ChecksummedFile.In in = ChecksummedFile.read(dir.resolve(m.tombstones().name()), CODEC, VERSION_START,
-        VERSION_CURRENT, m.layout().hash(), m.uuid(), m.tombstones());
+    Path file = dir.resolve(m.tombstones().name());
+    ChecksummedFile.In in = ChecksummedFile.check(file, src.bytes(file), CODEC, VERSION_START, VERSION_CURRENT,
+        m.layout().hash(), m.uuid(), m.tombstones());
     int nextId = in.getInt("nextId");
     if (nextId < 0 || nextId > m.nextId())
       throw in.error("written for nextId " + nextId + ", beyond the manifest's " + m.nextId());

@@ -2,9 +2,11 @@ package io.actindex.index.store;
 
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 import static org.junit.jupiter.api.Assertions.fail;
 
+import io.actindex.index.BadInputException;
 import io.actindex.index.Randoms;
 import java.io.BufferedReader;
 import java.io.IOException;
@@ -59,6 +61,11 @@ class CrashTest {
       // wait for the child's first change, then kill it after a random delay
       long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(60);
       while (size(lines) == 0 && p.isAlive() && System.nanoTime() < deadline) Thread.sleep(5);
+      if (run == 0 && p.isAlive()) {
+        // the child holds the lock: a writer in this process is refused
+        BadInputException e = assertThrows(BadInputException.class, () -> IndexWriter.open(dir), why);
+        assertTrue(e.getMessage().contains("locked by another writer (another process"), e.getMessage());
+      }
       Thread.sleep(rnd.nextInt(2000));
       p.destroyForcibly();
       assertTrue(p.waitFor(30, TimeUnit.SECONDS), "child did not die");

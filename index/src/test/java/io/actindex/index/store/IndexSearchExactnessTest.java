@@ -43,7 +43,7 @@ class IndexSearchExactnessTest {
   @Test
   @Tag("slow")
   void multiSegmentSearchEqualsBruteForceManySeeds() {
-    for (int rep = 100; rep < 140; rep++) run(rep, 6);
+    for (int rep = 100; rep < 124; rep++) run(rep, 6);
   }
 
   private void run(int rep, int batches) {
