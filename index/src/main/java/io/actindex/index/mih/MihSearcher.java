@@ -142,14 +142,18 @@ final class MihSearcher implements CodeSearcher {
   /**
    * Planner: may the tables probe shell (rho, j) next? Until the first round (substring radius 0)
    * is done and k candidates are known, yes while the work so far plus that shell stays under a
-   * small share of a scan. After that, yes while an upper bound of the work still needed (every
-   * shell up to the current k-th best distance) fits under most of a scan. Otherwise the caller
-   * scans.
+   * small share of a scan. After that, within three rounds of the k-th best distance, yes while the
+   * work so far plus that shell fits under most of a scan; further away, yes while an upper bound
+   * of the work still needed (every shell up to the current k-th best distance) fits under most of
+   * a scan. Otherwise the caller scans.
    */
   private boolean worthIt(Scratch s, TopK top, int k, int[] active, int rho, int j, int c) {
     if (rho == 0) return s.work + shellCost(s, active[j], rho) <= FIRST_ROUND * scanCost;
     if (top.size() < k) return s.work + shellCost(s, active[j], rho) <= EAGER * scanCost;
     int m = active.length, bound = top.bound();
+    // within three rounds of the k-th best distance: go on while the next shell fits the budget (the
+    // k-th best usually drops on the way, so the sum below would be too pessimistic)
+    if (bound - (rho * m + j - 1 + c) <= 3 * m) return s.work + shellCost(s, active[j], rho) <= PROVEN * scanCost;
     double remaining = 0;
     for (int x = rho, jj = j; x * m + jj - 1 + c < bound; ) {
       int t = active[jj];

@@ -60,8 +60,9 @@ public final class Searchers {
     int m = s.tables.length, n = codes.size();
     if (opts.substrings() == 0 && m > 1 && n > 1) {
       double lg = Math.log(n) / Math.log(2), h = stats(s).tables().stream().mapToDouble(SearcherStats.Table::keyEntropy).average().orElse(lg);
-      int kept = s.plan.bits() - s.plan.constantBits();
-      int fewer = Math.max((int) Math.round(m * h / lg), (kept + SearchPlanOptions.MAX_SUBSTRING_BITS - 1) / SearchPlanOptions.MAX_SUBSTRING_BITS);
+      // fewer tables may not cover every bit (32 bits each at most): then they index the
+      // highest-entropy bits and the rest is checked on the full codes (the cascade)
+      int fewer = Math.max(1, (int) Math.round(m * h / lg));
       if (h < lg - 3 && fewer < m) s = build(codes, BitPlan.choose(codes, opts.withSubstrings(fewer)), opts.strategy());
     }
     return s;
