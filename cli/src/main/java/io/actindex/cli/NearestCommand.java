@@ -96,8 +96,9 @@ final class NearestCommand implements Callable<Integer> {
     return List.copyOf(names);
   }
 
+  /** The metadata columns any neighbour has, sorted by name (stable whatever the neighbours). */
   private static List<String> metaNames(List<Nearest.Result> results) {
-    Set<String> names = new LinkedHashSet<>();
+    Set<String> names = new java.util.TreeSet<>();
     for (Nearest.Result r : results) for (Nearest.Neighbor nb : r.neighbors()) names.addAll(nb.meta().keySet());
     return List.copyOf(names);
   }

@@ -76,7 +76,7 @@ public final class CodeFiles {
     @Override
     public CodeBlock next(int maxRows) throws IOException {
       int cols = r.cols(), bits = layout.bits(), words = layout.words();
-      int m = (int) Math.min(maxRows, Math.max(1, (1 << 20) / cols));
+      int m = Math.min(maxRows, Math.max(1, (1 << 20) / cols));
       if (buf.length < m * cols) buf = new float[m * cols];
       long first = r.position();
       m = r.read(buf, m);

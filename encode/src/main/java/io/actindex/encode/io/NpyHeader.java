@@ -78,7 +78,7 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
     int major = head[6] & 0xff, minor = head[7] & 0xff;
     int start = major == 1 ? 10 : 12;
     int hlen = (int) (end - start);
-    String text = new String(head, start, (int) hlen, major == 3 ? StandardCharsets.UTF_8 : StandardCharsets.ISO_8859_1);
+    String text = new String(head, start, hlen, major == 3 ? StandardCharsets.UTF_8 : StandardCharsets.ISO_8859_1);
     Map<String, Object> dict;
     try {
       Object v = new Literal(text).parseTop();

@@ -4,22 +4,26 @@ import io.actindex.index.BadInputException;
 import java.io.EOFException;
 import java.io.IOException;
 import java.io.InputStream;
+import java.lang.invoke.MethodHandles;
+import java.lang.invoke.VarHandle;
 import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
 import java.nio.channels.FileChannel;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.nio.file.StandardOpenOption;
 
 /**
  * Streams a NumPy {@code .npy} array ({@link NpyHeader} describes the format) as a matrix of
  * {@code shape[0]} rows and {@code prod(shape[1:])} columns, each row flattened in C order (as
- * {@code a.reshape(n, -1)} does). Reads at most about {@link #CHUNK_BYTES} bytes at a time; never
+ * {@code a.reshape(n, -1)} does). Holds at most one chunk (C order, about {@link #CHUNK_BYTES}) or
+ * one block (Fortran order, at most {@link #BLOCK_BYTES}) of the file at a time; never
  * the whole file.
  *
  * <p>C order: a chunk of rows is one contiguous read. Fortran (column-major) order: each column of
- * a chunk of rows is contiguous, so a chunk is one positional read per column ("column-strided"),
- * scattered into row-major order. An {@code .npz} member in Fortran order is first copied to a
+ * a block of rows is contiguous, so a block is one positional read per column ("column-strided",
+ * {@link #BLOCK_COLUMN_BYTES} per read, the block at most {@link #BLOCK_BYTES}), transposed into
+ * row-major order and served from memory. An {@code .npz} member in Fortran order is first copied to a
  * temporary file (a deflated stream cannot seek), which is deleted on close.
  *
  * <p>The header must agree with the data size: a shorter file is "truncated", a longer one
@@ -40,6 +44,11 @@ public final class NpyReader implements MatrixReader {
   private long row;
   private ByteBuffer buf = ByteBuffer.allocateDirect(0);
   private int[] bits = new int[0]; // float32 raw bits, for the vectorizable finite check
+  /** Fortran order: bytes per column read, and bytes of the transposed row block (at most). */
+  static final long BLOCK_COLUMN_BYTES = 64 << 10, BLOCK_BYTES = 64 << 20;
+  private byte[] block; // Fortran order: rows [blockStart, blockStart + blockRows) in row-major order
+  private long blockStart;
+  private int blockRows;
 
   private NpyReader(String name, NpyHeader header, FileChannel channel, InputStream stream, long streamPos, Path tempFile) {
     this.name = name;
@@ -223,13 +232,10 @@ public final class NpyReader implements MatrixReader {
         if (header.dtype() == NpyDtype.FLOAT32) checkFinite32(bb, m * cols, row);
         decode(bb, m * cols, fo, dout, done * cols, 1);
       } else {
-        m = Math.min(total - done, CHUNK_BYTES / size);
-        ByteBuffer bb = buffer(m * size);
-        for (int c = 0; c < cols; c++) {
-          bb.clear().limit(m * size);
-          fill(bb, header.dataOffset() + (colOffset[c] + row) * size);
-          decode(bb, m, fo, dout, done * cols + c, cols);
-        }
+        int at = ensureBlock(rowBytes, size);
+        m = Math.min(total - done, blockRows - at);
+        ByteBuffer bb = ByteBuffer.wrap(block, (int) (at * rowBytes), (int) (m * rowBytes)).slice().order(header.order());
+        decode(bb, m * cols, fo, dout, done * cols, 1);
       }
       if (header.dtype().isFloat() && (colOffset != null || header.dtype() != NpyDtype.FLOAT32))
         checkFinite(fo, dout, done * cols, (done + m) * cols, row - done);
@@ -237,6 +243,44 @@ public final class NpyReader implements MatrixReader {
       done += m;
     }
     return total;
+  }
+
+  /**
+   * Fortran order: makes sure the row-major block holds row {@code row}, loading a block of rows
+   * with one positional read per column (each at least tens of KiB long for typical widths) and
+   * transposing it. Returns the index of {@code row} in the block.
+   */
+  private int ensureBlock(long rowBytes, int size) throws IOException {
+    if (block != null && row >= blockStart && row < blockStart + blockRows) return (int) (row - blockStart);
+    long cap = Math.max(1, Math.min(BLOCK_COLUMN_BYTES / size, BLOCK_BYTES / rowBytes));
+    int b = (int) Math.min(cap, header.rows() - row);
+    if (block == null || block.length < b * rowBytes) block = new byte[(int) (b * rowBytes)];
+    ByteBuffer col = buffer(b * size);
+    byte[] tmp = new byte[b * size];
+    for (int c = 0; c < cols; c++) {
+      col.clear().limit(b * size);
+      fill(col, header.dataOffset() + (colOffset[c] + row) * size);
+      col.get(0, tmp, 0, b * size);
+      transpose(tmp, b, size, c * size, (int) rowBytes);
+    }
+    blockStart = row;
+    blockRows = b;
+    return 0;
+  }
+
+  private static final VarHandle I16 = MethodHandles.byteArrayViewVarHandle(short[].class, ByteOrder.LITTLE_ENDIAN);
+  private static final VarHandle I32 = MethodHandles.byteArrayViewVarHandle(int[].class, ByteOrder.LITTLE_ENDIAN);
+  private static final VarHandle I64 = MethodHandles.byteArrayViewVarHandle(long[].class, ByteOrder.LITTLE_ENDIAN);
+
+  /** Copies {@code b} elements of {@code size} bytes from a column into the block at stride {@code rowBytes}, bytes unchanged. */
+  private void transpose(byte[] col, int b, int size, int first, int rowBytes) {
+    switch (size) {
+      case 1 -> { for (int i = 0, d = first; i < b; i++, d += rowBytes) block[d] = col[i]; }
+      case 2 -> { for (int i = 0, d = first; i < b; i++, d += rowBytes) I16.set(block, d, (short) I16.get(col, i << 1)); }
+      case 4 -> { for (int i = 0, d = first; i < b; i++, d += rowBytes) I32.set(block, d, (int) I32.get(col, i << 2)); }
+      case 8 -> { for (int i = 0, d = first; i < b; i++, d += rowBytes) I64.set(block, d, (long) I64.get(col, i << 3)); }
+      default -> throw new IllegalStateException("element size " + size);
+    }
   }
 
   private void decode(ByteBuffer bb, int count, float[] fo, double[] dout, int off, int stride) {

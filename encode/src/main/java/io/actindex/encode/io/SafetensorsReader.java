@@ -93,6 +93,7 @@ public final class SafetensorsReader implements AutoCloseable {
         }
         entries.put(name, entry(file, name, e.getValue(), dataStart, dataSize));
       }
+      checkCoverage(file, entries.values(), dataStart, dataSize);
       return new SafetensorsReader(file, ch, Collections.unmodifiableMap(entries), Collections.unmodifiableMap(meta));
     } catch (RuntimeException | IOException e) {
       ch.close();
@@ -132,6 +133,21 @@ public final class SafetensorsReader implements AutoCloseable {
     if (e - b != need)
       throw new BadInputException(at + ": field data_offsets [" + b + ", " + e + "] holds " + (e - b) + " bytes; shape " + sh + " of " + dtype + " needs " + need);
     return new Entry(name, dtype, shape, dataStart + b, e - b);
+  }
+
+  /** The format requires the tensors to cover the data region exactly: no holes, no overlaps. */
+  private static void checkCoverage(Path file, java.util.Collection<Entry> entries, long dataStart, long dataSize) {
+    List<Entry> sorted = new java.util.ArrayList<>(entries);
+    sorted.sort(java.util.Comparator.comparingLong(Entry::begin).thenComparingLong(Entry::bytes));
+    long at = dataStart;
+    for (Entry e : sorted) {
+      if (e.begin() != at)
+        throw new BadInputException(file + ": tensor '" + e.name() + "': field data_offsets starts at " + (e.begin() - dataStart) + " but the previous tensor ends at "
+            + (at - dataStart) + (e.begin() > at ? " (a hole in the data)" : " (tensors overlap)"));
+      at += e.bytes();
+    }
+    if (at != dataStart + dataSize)
+      throw new BadInputException(file + ": the tensors cover " + (at - dataStart) + " data bytes but the file holds " + dataSize);
   }
 
   private static void readFully(FileChannel ch, ByteBuffer dst, long pos, Path file) throws IOException {

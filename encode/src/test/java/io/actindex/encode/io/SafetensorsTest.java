@@ -88,10 +88,16 @@ class SafetensorsTest {
         "{\"w\":{\"dtype\":\"F32\",\"shape\":[2],\"data_offsets\":[0,8]}", "malformed",
         "[1,2]", "not a JSON object");
     for (var e : cases.entrySet()) {
-      Path f = withHeader(e.getKey(), 16);
+      Path f = withHeader(e.getKey(), 8);
       assertThatThrownBy(() -> SafetensorsReader.open(f)).as(e.getKey()).isInstanceOf(BadInputException.class)
           .hasMessageContaining(f.toString()).hasMessageContaining(e.getValue());
     }
+    Path hole = withHeader("{\"a\":{\"dtype\":\"F32\",\"shape\":[1],\"data_offsets\":[0,4]},\"b\":{\"dtype\":\"F32\",\"shape\":[1],\"data_offsets\":[8,12]}}", 12);
+    assertThatThrownBy(() -> SafetensorsReader.open(hole)).isInstanceOf(BadInputException.class).hasMessageContaining("'b'").hasMessageContaining("hole");
+    Path overlap = withHeader("{\"a\":{\"dtype\":\"F32\",\"shape\":[2],\"data_offsets\":[0,8]},\"b\":{\"dtype\":\"F32\",\"shape\":[1],\"data_offsets\":[4,8]}}", 8);
+    assertThatThrownBy(() -> SafetensorsReader.open(overlap)).isInstanceOf(BadInputException.class).hasMessageContaining("overlap");
+    Path trailing = withHeader("{\"a\":{\"dtype\":\"F32\",\"shape\":[1],\"data_offsets\":[0,4]}}", 12);
+    assertThatThrownBy(() -> SafetensorsReader.open(trailing)).isInstanceOf(BadInputException.class).hasMessageContaining("cover 4 data bytes");
     Path tiny = tmp.resolve("tiny.safetensors");
     Files.write(tiny, new byte[] {1, 2, 3});
     assertThatThrownBy(() -> SafetensorsReader.open(tiny)).isInstanceOf(BadInputException.class).hasMessageContaining("tiny.safetensors");

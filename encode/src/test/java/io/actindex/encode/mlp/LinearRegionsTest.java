@@ -84,6 +84,7 @@ class LinearRegionsTest {
     return 1 + n + (long) n * (n - 1) / 2;
   }
 
+  @org.junit.jupiter.api.Tag("slow")
   @ParameterizedTest
   @ValueSource(ints = {1, 2, 3, 5, 8})
   void fineGridOverAllIntersectionPointsFindsEveryRegion(int n) throws IOException {
