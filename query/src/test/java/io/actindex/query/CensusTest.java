@@ -125,6 +125,17 @@ class CensusTest {
     assertEquals(null, c.prefixes().get(0).purity());
   }
 
+  @Test
+  void emptyData() {
+    CodeBlock none = new CodeBlock(CodeLayout.parse("h1:5,h2:3"), 0, new long[0]);
+    Census.Result c = Census.compute(none, new String[0], i -> "k" + i, new Census.Params(null, 3, 3));
+    assertEquals(0, c.examples());
+    assertEquals(0, c.prefixes().get(1).regions());
+    assertEquals(null, c.prefixes().get(1).purity());
+    assertThat(c.prefixes().get(1).histogram()).isEmpty();
+    assertThat(c.neurons().get(0).dead()).isEmpty(); // no data: no neuron is called dead
+  }
+
   static String bits(CodeBlock codes, int i, int from, int to) {
     StringBuilder sb = new StringBuilder();
     for (int b = from; b < to; b++) sb.append(codes.bit(i, b) ? '1' : '0');

@@ -12,7 +12,6 @@ import java.util.List;
 import java.util.Map;
 import java.util.TreeMap;
 import org.apache.lucene.codecs.CodecUtil;
-import org.apache.lucene.document.IntPoint;
 import org.apache.lucene.index.DirectoryReader;
 import org.apache.lucene.index.IndexCommit;
 import org.apache.lucene.index.IndexableField;
@@ -50,6 +49,7 @@ public final class MetaStore implements Closeable {
   private final IndexSearcher searcher;
   private final Map<String, FieldKind> fields;
   private final RoaringBitmap deleted;
+  private volatile int[] docOfId;
 
   private MetaStore(Directory dir, DirectoryReader reader, Map<String, FieldKind> fields, RoaringBitmap deleted) {
     this.dir = dir;
@@ -157,13 +157,50 @@ public final class MetaStore implements Closeable {
 
   /** The row of {@code id}: key plus every non-empty column as given; null if the id is not live. */
   public Map<String, String> document(int id) {
+    int[] docs = docOfId();
+    if (id < 0 || id >= docs.length || docs[id] < 0 || deleted.contains(id)) return null;
     try {
-      TopDocs top = searcher.search(IntPoint.newExactQuery(MetaSchema.ID, id), 1);
-      if (top.scoreDocs.length == 0 || deleted.contains(id)) return null;
       Map<String, String> out = new LinkedHashMap<>();
-      for (IndexableField f : searcher.storedFields().document(top.scoreDocs[0].doc))
+      for (IndexableField f : reader.storedFields().document(docs[id]))
         if (!f.name().equals(MetaSchema.ID)) out.put(f.name(), f.stringValue());
       return out;
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
+  }
+
+  /**
+   * Lucene document number of every id (-1 where none), read once from the id doc values: a
+   * lookup by id is then an array read instead of a point query per neighbour.
+   */
+  private int[] docOfId() {
+    int[] docs = docOfId;
+    if (docs != null) return docs;
+    synchronized (this) {
+      if (docOfId == null) docOfId = readDocOfId();
+      return docOfId;
+    }
+  }
+
+  private int[] readDocOfId() {
+    try {
+      int[] docs = new int[0];
+      for (LeafReaderContext leaf : reader.leaves()) {
+        NumericDocValues values = leaf.reader().getNumericDocValues(MetaSchema.ID);
+        if (values == null) continue;
+        org.apache.lucene.util.Bits live = leaf.reader().getLiveDocs();
+        for (int doc = values.nextDoc(); doc != NumericDocValues.NO_MORE_DOCS; doc = values.nextDoc()) {
+          if (live != null && !live.get(doc)) continue;
+          int id = Math.toIntExact(values.longValue());
+          if (id >= docs.length) {
+            int old = docs.length;
+            docs = java.util.Arrays.copyOf(docs, Math.max(id + 1, old * 2));
+            java.util.Arrays.fill(docs, old, docs.length, -1);
+          }
+          docs[id] = leaf.docBase + doc;
+        }
+      }
+      return docs;
     } catch (IOException e) {
       throw new UncheckedIOException(e);
     }

@@ -51,14 +51,14 @@ public final class Searchers {
   }
 
   /**
-   * The searcher under {@code opts}. With an automatic table count, a plan whose tables carry much
+   * The searcher under {@code opts}. With an automatic table count and balancing on, a plan whose tables carry much
    * less key entropy than {@code log2(n)} (correlated bits: the buckets would be huge) is replaced
    * once by one with proportionally fewer, wider tables.
    */
   public static CodeSearcher build(CodeBlock codes, SearchPlanOptions opts) {
     MihSearcher s = build(codes, BitPlan.choose(codes, opts), opts.strategy());
     int m = s.tables.length, n = codes.size();
-    if (opts.substrings() == 0 && m > 1 && n > 1) {
+    if (opts.substrings() == 0 && opts.balance() && m > 1 && n > 1) {
       double lg = Math.log(n) / Math.log(2), h = stats(s).tables().stream().mapToDouble(SearcherStats.Table::keyEntropy).average().orElse(lg);
       // fewer tables may not cover every bit (32 bits each at most): then they index the
       // highest-entropy bits and the rest is checked on the full codes (the cascade)
