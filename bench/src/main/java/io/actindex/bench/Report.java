@@ -1,5 +1,6 @@
 package io.actindex.bench;
 
+import io.actindex.encode.io.Json;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -40,9 +41,9 @@ public final class Report {
         if (m.get("params") instanceof Map<?, ?> p) p.forEach((k, v) -> params.put((String) k, (String) v));
         Map<String, Object> pm = (Map<String, Object>) m.get("primaryMetric");
         double median = Double.NaN;
-        if (pm.get("scorePercentiles") instanceof Map<?, ?> pct && pct.get("50.0") != null) median = Json.number(pct.get("50.0"));
-        out.add(new Result(cls, full.substring(dot + 1), (String) m.get("mode"), (int) Json.number(m.get("threads")),
-            params, Json.number(pm.get("score")), median, (String) pm.get("scoreUnit")));
+        if (pm.get("scorePercentiles") instanceof Map<?, ?> pct && pct.get("50.0") != null) median = number(pct.get("50.0"));
+        out.add(new Result(cls, full.substring(dot + 1), (String) m.get("mode"), (int) number(m.get("threads")),
+            params, number(pm.get("score")), median, (String) pm.get("scoreUnit")));
       }
       return out;
     }
@@ -369,5 +370,12 @@ public final class Report {
     if (v % 1_000_000 == 0) return v / 1_000_000 + "M";
     if (v % 1_000 == 0) return v / 1_000 + "k";
     return n;
+  }
+
+  /** A JMH figure: a JSON number, or a string such as "NaN" (JMH writes non-finite values so). */
+  static double number(Object v) {
+    if (v instanceof Number n) return n.doubleValue();
+    if (v instanceof String str) return Double.parseDouble(str);
+    return Double.NaN;
   }
 }
