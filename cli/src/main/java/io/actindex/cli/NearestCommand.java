@@ -6,7 +6,6 @@ import io.actindex.cli.format.TextTable;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Nearest;
 import io.actindex.query.QueryCodes;
-import io.actindex.query.QuerySource;
 import java.io.PrintWriter;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
@@ -48,10 +47,7 @@ final class NearestCommand implements Callable<Integer> {
     if (k < 1) throw new ParameterException(spec.commandLine(), "-k must be at least 1, got " + k);
     List<Nearest.Result> results;
     try (IndexReader reader = IndexReader.open(index.dir)) {
-      QueryCodes codes;
-      try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "encoding queries")) {
-        codes = QuerySource.load(reader, query.toSource(), query.range(), bar);
-      }
+      QueryCodes codes = query.load(reader);
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
         results = Nearest.run(reader, codes, new Nearest.Params(k, where, layers.layers, threads.resolved()), bar);
       }

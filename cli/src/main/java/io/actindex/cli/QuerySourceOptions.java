@@ -1,5 +1,8 @@
 package io.actindex.cli;
 
+import io.actindex.index.store.IndexReader;
+import io.actindex.query.QueryCodes;
+import io.actindex.query.QuerySource;
 import io.actindex.query.RowRange;
 import io.actindex.query.Source;
 import java.nio.file.Path;
@@ -46,5 +49,12 @@ public final class QuerySourceOptions {
   /** The rows to use (all when --rows is absent). */
   RowRange range() {
     return RowRange.parse(rows);
+  }
+
+  /** The query codes, encoded as the index was built, with a progress bar on a terminal. */
+  QueryCodes load(IndexReader reader) {
+    try (Progress bar = Progress.onTerminal(mixee.commandLine().getErr(), "encoding queries")) {
+      return QuerySource.load(reader, toSource(), range(), bar);
+    }
   }
 }

@@ -5,7 +5,6 @@ import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.QueryCodes;
-import io.actindex.query.QuerySource;
 import io.actindex.query.Region;
 import java.io.PrintWriter;
 import java.util.ArrayList;
@@ -51,10 +50,7 @@ final class RegionCommand implements Callable<Integer> {
     if (examples < 0) throw new ParameterException(spec.commandLine(), "--examples must be 0 or more, got " + examples);
     List<Region.Result> results;
     try (IndexReader reader = IndexReader.open(index.dir)) {
-      QueryCodes codes;
-      try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "encoding queries")) {
-        codes = QuerySource.load(reader, query.toSource(), query.range(), bar);
-      }
+      QueryCodes codes = query.load(reader);
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
         results = Region.run(reader, codes, new Region.Params(radius, layers.layers, where, examples), bar);
       }
