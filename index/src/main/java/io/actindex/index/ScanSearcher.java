@@ -38,12 +38,31 @@ public final class ScanSearcher implements CodeSearcher {
     TopK top = new TopK(Math.min(k, codes.size()));
     long[] data = codes.words();
     int w = codes.wordsPerCode(), n = codes.size();
+    if (w == 4 && accept == null && mask == null) return knn4(query, top, data, n, maxDist);
     int bound = maxDist;
     for (int i = 0, off = 0; i < n; i++, off += w) {
       if (accept != null && !accept.test(i)) continue;
       int d = mask == null
           ? Hamming.distanceBounded(query, 0, data, off, w, bound)
           : Hamming.maskedDistance(query, 0, data, off, mask, w);
+      if (d <= bound) {
+        top.offer(i, d);
+        bound = Math.min(maxDist, top.bound());
+      }
+    }
+    return top.toHits();
+  }
+
+  /**
+   * The common case of 256-bit codes without filter or mask: the query's words stay in registers
+   * (the compiler cannot keep them there itself, since both arrays are long[] and may alias).
+   */
+  private static Hits knn4(long[] query, TopK top, long[] data, int n, int maxDist) {
+    long q0 = query[0], q1 = query[1], q2 = query[2], q3 = query[3];
+    int bound = maxDist;
+    for (int i = 0, off = 0; i < n; i++, off += 4) {
+      int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
+          + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
       if (d <= bound) {
         top.offer(i, d);
         bound = Math.min(maxDist, top.bound());
