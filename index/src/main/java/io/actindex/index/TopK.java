@@ -2,20 +2,23 @@ package io.actindex.index;
 
 /**
  * Keeps the {@code k} smallest (distance, ordinal) pairs offered, ties by ascending ordinal, in a
- * binary max-heap keyed on {@code (dist << 32) | ord}. Not thread-safe.
+ * binary max-heap keyed on {@code (dist << 32) | ord}. The heap grows as candidates arrive, so a
+ * huge {@code k} (a user asking for "all") costs memory only for what is offered. Not thread-safe.
  */
 public final class TopK {
-  private final long[] heap;
+  private final int k;
+  private long[] heap;
   private int size;
 
   public TopK(int k) {
     if (k <= 0) throw new IllegalArgumentException("k must be positive, got " + k);
-    heap = new long[k];
+    this.k = k;
+    heap = new long[Math.min(k, 64)];
   }
 
   /** Largest distance that could still enter: the k-th best so far, or Integer.MAX_VALUE. */
   public int bound() {
-    return size < heap.length ? Integer.MAX_VALUE : (int) (heap[0] >>> 32);
+    return size < k ? Integer.MAX_VALUE : (int) (heap[0] >>> 32);
   }
 
   public int size() {
@@ -25,7 +28,8 @@ public final class TopK {
   /** Offers one candidate; ordinals must be non-negative. */
   public void offer(int ord, int dist) {
     long key = ((long) dist << 32) | ord;
-    if (size < heap.length) {
+    if (size < k) {
+      if (size == heap.length) heap = java.util.Arrays.copyOf(heap, (int) Math.min(k, 2L * size));
       int i = size++;
       while (i > 0) {
         int parent = (i - 1) >>> 1;
