@@ -1,8 +1,8 @@
 package io.actindex.bench;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
-import io.actindex.index.SyntheticCodes;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
+import io.actindex.core.SyntheticCodes;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.ByteBuffer;

@@ -1,10 +1,10 @@
 package io.actindex.bench;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
-import io.actindex.index.CodeSearcher;
-import io.actindex.index.Hits;
-import io.actindex.index.ScanSearcher;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
+import io.actindex.core.CodeSearcher;
+import io.actindex.core.Hits;
+import io.actindex.core.ScanSearcher;
 import io.actindex.index.mih.SearchPlanOptions;
 import io.actindex.index.mih.Searchers;
 import io.actindex.index.store.IndexReader;

@@ -1,9 +1,9 @@
 package io.actindex.bench;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeSearcher;
-import io.actindex.index.Hamming;
-import io.actindex.index.Hits;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeSearcher;
+import io.actindex.core.Hamming;
+import io.actindex.core.Hits;
 import java.util.Map;
 import java.util.concurrent.TimeUnit;
 import org.openjdk.jmh.annotations.Benchmark;

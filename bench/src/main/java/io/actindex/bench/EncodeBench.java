@@ -5,7 +5,7 @@ import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
 import io.actindex.encode.io.NpyDtype;
 import io.actindex.encode.io.NpyWriter;
-import io.actindex.index.CodeBlock;
+import io.actindex.core.CodeBlock;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;

@@ -2,9 +2,9 @@ package io.actindex.bench;
 
 import static org.assertj.core.api.Assertions.assertThat;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.Hamming;
-import io.actindex.index.SyntheticCodes;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Hamming;
+import io.actindex.core.SyntheticCodes;
 import java.nio.file.Path;
 import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.BeforeEach;
@@ -64,7 +64,7 @@ class BenchDataTest {
   void oodQueriesLieFartherThanInDistributionOnes() {
     int n = 5000, bits = 128;
     CodeBlock stored = BenchData.codes("relu", n, bits);
-    io.actindex.index.ScanSearcher scan = new io.actindex.index.ScanSearcher(stored);
+    io.actindex.core.ScanSearcher scan = new io.actindex.core.ScanSearcher(stored);
     double[] mean = new double[2];
     String[] kinds = {"in", "ood"};
     for (int k = 0; k < 2; k++) {

@@ -2,9 +2,9 @@ package io.actindex.bench;
 
 import static org.assertj.core.api.Assertions.assertThat;
 
-import io.actindex.index.BruteForce;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeSearcher;
+import io.actindex.core.BruteForce;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeSearcher;
 import java.nio.file.Path;
 import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.BeforeAll;

@@ -2,7 +2,7 @@ package io.actindex.bench;
 
 import static org.assertj.core.api.Assertions.assertThat;
 
-import io.actindex.index.Randoms;
+import io.actindex.core.Randoms;
 import java.util.Arrays;
 import java.util.Comparator;
 import java.util.SplittableRandom;

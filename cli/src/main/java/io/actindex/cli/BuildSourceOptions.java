@@ -1,7 +1,7 @@
 package io.actindex.cli;
 
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeLayout;
 import io.actindex.query.MetaCsv;
 import io.actindex.query.Source;
 import java.nio.file.Path;

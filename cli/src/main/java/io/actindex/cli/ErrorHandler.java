@@ -1,6 +1,6 @@
 package io.actindex.cli;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.PrintWriter;
 import java.nio.file.AccessDeniedException;
 import java.nio.file.NoSuchFileException;

@@ -3,7 +3,7 @@ package io.actindex.cli;
 import io.actindex.cli.format.CsvWriter;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.CodeLayout;
 import io.actindex.index.mih.SearcherStats;
 import io.actindex.index.store.IndexInfo;
 import io.actindex.index.store.IndexReader;

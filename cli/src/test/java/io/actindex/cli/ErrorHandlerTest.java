@@ -2,7 +2,7 @@ package io.actindex.cli;
 
 import static org.assertj.core.api.Assertions.assertThat;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.PrintWriter;
 import java.io.StringWriter;
 import java.util.concurrent.Callable;

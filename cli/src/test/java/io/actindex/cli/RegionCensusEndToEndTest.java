@@ -6,7 +6,7 @@ import com.fasterxml.jackson.databind.JsonNode;
 import io.actindex.cli.Reference.Example;
 import io.actindex.cli.Reference.Group;
 import io.actindex.cli.Reference.Layer;
-import io.actindex.index.Randoms;
+import io.actindex.core.Randoms;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.HashMap;

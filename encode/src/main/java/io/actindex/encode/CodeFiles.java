@@ -3,9 +3,9 @@ package io.actindex.encode;
 import io.actindex.encode.io.NpyDtype;
 import io.actindex.encode.io.NpyReader;
 import io.actindex.encode.io.NpyWriter;
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import java.io.IOException;
 import java.nio.file.Path;
 

@@ -1,7 +1,7 @@
 package io.actindex.encode;
 
 import io.actindex.encode.io.MatrixReader;
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.IOException;
 import java.util.List;
 

@@ -1,6 +1,6 @@
 package io.actindex.encode;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.IOException;
 import java.util.Arrays;
 import java.util.LinkedHashMap;

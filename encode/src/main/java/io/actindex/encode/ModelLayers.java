@@ -2,7 +2,7 @@ package io.actindex.encode;
 
 import io.actindex.encode.io.MatrixReader;
 import io.actindex.encode.mlp.Mlp;
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.IOException;
 import java.util.Arrays;
 import java.util.List;

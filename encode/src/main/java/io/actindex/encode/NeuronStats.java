@@ -1,7 +1,7 @@
 package io.actindex.encode;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import java.util.ArrayList;
 import java.util.List;
 

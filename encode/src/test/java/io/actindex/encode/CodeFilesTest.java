@@ -5,9 +5,9 @@ import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
 import io.actindex.encode.io.NpyDtype;
 import io.actindex.encode.io.NpyWriter;
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -88,7 +88,7 @@ class CodeFilesTest {
 
   @Test
   void packUnpackRoundTripAcrossWordBoundaries() {
-    java.util.SplittableRandom rnd = new java.util.SplittableRandom(io.actindex.index.Randoms.seed(1));
+    java.util.SplittableRandom rnd = new java.util.SplittableRandom(io.actindex.core.Randoms.seed(1));
     for (int bits : new int[] {1, 7, 8, 9, 63, 64, 65, 130}) {
       boolean[][] rows = new boolean[5][bits];
       for (boolean[] r : rows) for (int b = 0; b < bits; b++) r[b] = rnd.nextBoolean();

@@ -2,8 +2,8 @@ package io.actindex.query;
 
 import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeLayout;
 import java.util.HashMap;
 import java.util.Map;
 

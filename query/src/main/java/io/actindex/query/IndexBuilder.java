@@ -2,9 +2,9 @@ package io.actindex.query;
 
 import io.actindex.encode.BinarizeRule;
 import io.actindex.encode.EncodeOptions;
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import java.io.IOException;

@@ -1,6 +1,6 @@
 package io.actindex.query;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.BufferedReader;
 import java.io.IOException;
 import java.io.UncheckedIOException;

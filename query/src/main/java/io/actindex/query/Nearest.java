@@ -1,9 +1,9 @@
 package io.actindex.query;
 
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeLayout;
-import io.actindex.index.Hamming;
-import io.actindex.index.Hits;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeLayout;
+import io.actindex.core.Hamming;
+import io.actindex.core.Hits;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;

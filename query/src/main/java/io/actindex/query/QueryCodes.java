@@ -1,6 +1,6 @@
 package io.actindex.query;
 
-import io.actindex.index.CodeBlock;
+import io.actindex.core.CodeBlock;
 
 /**
  * Query codes in the index's layout; code {@code i} came from row {@code firstRow + i} of the

@@ -1,8 +1,8 @@
 package io.actindex.query;
 
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import io.actindex.index.store.IndexReader;
 import java.nio.file.Path;
 

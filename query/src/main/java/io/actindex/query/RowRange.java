@@ -1,6 +1,6 @@
 package io.actindex.query;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 
 /**
  * Rows {@code [from, to)} of a query file, 0-based, end exclusive; {@code to = -1} means "to the

@@ -1,6 +1,6 @@
 package io.actindex.query;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.meta.MetaStore.FieldKind;
 import java.util.ArrayList;

@@ -1,7 +1,7 @@
 package io.actindex.query;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 
 /** One hidden ReLU layer with weights given by hand, on 2-D inputs: unit u is on when w[u]·x + b[u] > 0. */
 record HandNet(double[][] w, double[] b) {

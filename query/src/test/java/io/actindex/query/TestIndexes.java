@@ -1,6 +1,6 @@
 package io.actindex.query;
 
-import io.actindex.index.CodeBlock;
+import io.actindex.core.CodeBlock;
 import io.actindex.index.store.IndexWriter;
 import java.nio.file.Path;
 import java.util.ArrayList;

@@ -4,8 +4,8 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 
-import io.actindex.index.BadInputException;
-import io.actindex.index.Randoms;
+import io.actindex.core.BadInputException;
+import io.actindex.core.Randoms;
 import io.actindex.index.meta.MetaStore.FieldKind;
 import java.io.IOException;
 import java.util.ArrayList;
@@ -83,7 +83,7 @@ class WhereTest {
       if (r.n != null) m.put("n", Double.toString(r.n));
       meta.add(m);
     }
-    TestIndexes.write(tmp, io.actindex.index.SyntheticCodes.uniform(rows.size(), 8, seed), meta, 2);
+    TestIndexes.write(tmp, io.actindex.core.SyntheticCodes.uniform(rows.size(), 8, seed), meta, 2);
     try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(tmp)) {
       Map<String, FieldKind> withKey = new java.util.HashMap<>(FIELDS);
       withKey.put("key", FieldKind.KEYWORD);

@@ -8,7 +8,7 @@ import io.actindex.encode.io.NpyDtype;
 import io.actindex.encode.io.NpyWriter;
 import io.actindex.encode.mlp.Mlp;
 import io.actindex.encode.mlp.MlpTrainer;
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.IOException;
 import java.io.PrintWriter;
 import java.nio.charset.StandardCharsets;

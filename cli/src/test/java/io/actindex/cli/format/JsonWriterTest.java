@@ -8,7 +8,7 @@ import com.fasterxml.jackson.databind.DeserializationFeature;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.json.JsonMapper;
-import io.actindex.index.Randoms;
+import io.actindex.core.Randoms;
 import java.util.LinkedHashMap;
 import java.util.Map;
 import java.util.SplittableRandom;

@@ -5,7 +5,7 @@ import java.io.IOException;
 /**
  * Streams a numeric matrix row by row in chunks: rows are examples, columns neurons (or input
  * features). Never holds more than one chunk. Values are checked to be finite: a NaN or infinite
- * value is a {@link io.actindex.index.BadInputException} naming the file, row and column (0-based).
+ * value is a {@link io.actindex.core.BadInputException} naming the file, row and column (0-based).
  */
 public interface MatrixReader extends AutoCloseable {
 

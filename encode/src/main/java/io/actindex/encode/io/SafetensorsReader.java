@@ -1,6 +1,6 @@
 package io.actindex.encode.io;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.IOException;
 import java.nio.ByteBuffer;
 import java.nio.ByteOrder;

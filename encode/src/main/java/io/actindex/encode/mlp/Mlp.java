@@ -2,7 +2,7 @@ package io.actindex.encode.mlp;
 
 import io.actindex.encode.io.SafetensorsReader;
 import io.actindex.encode.io.SafetensorsWriter;
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.IOException;
 import java.nio.file.Path;
 import java.util.ArrayList;

@@ -8,7 +8,7 @@ import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
 import io.actindex.encode.Golden;
 import io.actindex.encode.io.SafetensorsWriter;
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.IOException;
 import java.nio.file.Path;
 import java.util.LinkedHashMap;

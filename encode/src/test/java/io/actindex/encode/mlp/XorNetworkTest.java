@@ -7,7 +7,7 @@ import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
 import io.actindex.encode.EncodersTest;
 import io.actindex.encode.Golden;
-import io.actindex.index.CodeBlock;
+import io.actindex.core.CodeBlock;
 import java.io.IOException;
 import org.ejml.data.DMatrixRMaj;
 import org.junit.jupiter.api.Test;

@@ -1,6 +1,6 @@
 package io.actindex.index.meta;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import io.actindex.index.meta.MetaStore.FieldKind;
 import java.nio.charset.StandardCharsets;
 import java.util.LinkedHashMap;

@@ -1,6 +1,6 @@
 package io.actindex.index.meta;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.Closeable;
 import java.io.IOException;
 import java.io.UncheckedIOException;

@@ -1,12 +1,12 @@
 package io.actindex.index.mih;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
-import io.actindex.index.CodeSearcher;
-import io.actindex.index.Hamming;
-import io.actindex.index.Hits;
-import io.actindex.index.ScanSearcher;
-import io.actindex.index.TopK;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
+import io.actindex.core.CodeSearcher;
+import io.actindex.core.Hamming;
+import io.actindex.core.Hits;
+import io.actindex.core.ScanSearcher;
+import io.actindex.core.TopK;
 import java.util.Arrays;
 import java.util.function.IntPredicate;
 

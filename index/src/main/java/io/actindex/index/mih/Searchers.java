@@ -1,9 +1,9 @@
 package io.actindex.index.mih;
 
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeSearcher;
-import io.actindex.index.ScanSearcher;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeSearcher;
+import io.actindex.core.ScanSearcher;
 import java.io.DataInput;
 import java.io.DataOutput;
 import java.io.IOException;

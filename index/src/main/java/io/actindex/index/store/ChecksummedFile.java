@@ -1,6 +1,6 @@
 package io.actindex.index.store;
 
-import io.actindex.index.BadInputException;
+import io.actindex.core.BadInputException;
 import java.io.BufferedOutputStream;
 import java.io.ByteArrayInputStream;
 import java.io.DataInputStream;
@@ -25,7 +25,7 @@ import java.util.zip.CRC32;
  * header:  int    MAGIC (0x41435849, "ACXI")
  *          string codec name (int byte length, then UTF-8 bytes), e.g. "actindex.codes"
  *          int    format version, accepted if in the codec's [VERSION_START, VERSION_CURRENT]
- *          int    layout hash ({@link io.actindex.index.CodeLayout#hash()})
+ *          int    layout hash ({@link io.actindex.core.CodeLayout#hash()})
  *          long   index UUID, most significant bits
  *          long   index UUID, least significant bits
  * body:    codec-specific, see the codec's class

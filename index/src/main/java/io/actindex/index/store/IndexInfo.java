@@ -1,6 +1,6 @@
 package io.actindex.index.store;
 
-import io.actindex.index.CodeLayout;
+import io.actindex.core.CodeLayout;
 import io.actindex.index.mih.SearcherStats;
 import java.util.List;
 

@@ -1,10 +1,10 @@
 package io.actindex.index.store;
 
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
-import io.actindex.index.Hits;
-import io.actindex.index.TopK;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
+import io.actindex.core.Hits;
+import io.actindex.core.TopK;
 import io.actindex.index.meta.MetaStore;
 import java.io.IOException;
 import java.io.UncheckedIOException;

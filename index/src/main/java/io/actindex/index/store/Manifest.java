@@ -1,7 +1,7 @@
 package io.actindex.index.store;
 
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeLayout;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeLayout;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.channels.FileChannel;

@@ -1,10 +1,10 @@
 package io.actindex.index.store;
 
-import io.actindex.index.BadInputException;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeLayout;
-import io.actindex.index.CodeSearcher;
-import io.actindex.index.ScanSearcher;
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
+import io.actindex.core.CodeSearcher;
+import io.actindex.core.ScanSearcher;
 import io.actindex.index.mih.SearcherStats;
 import io.actindex.index.mih.Searchers;
 import java.io.DataInputStream;

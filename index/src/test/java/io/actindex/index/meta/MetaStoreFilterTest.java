@@ -2,9 +2,9 @@ package io.actindex.index.meta;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.Randoms;
-import io.actindex.index.SyntheticCodes;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Randoms;
+import io.actindex.core.SyntheticCodes;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import java.nio.file.Path;

@@ -2,12 +2,12 @@ package io.actindex.index.mih;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 
-import io.actindex.index.BruteForce;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeSearcher;
-import io.actindex.index.Hits;
-import io.actindex.index.Randoms;
-import io.actindex.index.SyntheticCodes;
+import io.actindex.core.BruteForce;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeSearcher;
+import io.actindex.core.Hits;
+import io.actindex.core.Randoms;
+import io.actindex.core.SyntheticCodes;
 import java.util.SplittableRandom;
 import java.util.function.IntPredicate;
 import org.junit.jupiter.api.Tag;
@@ -193,6 +193,6 @@ class MihExactnessTest {
     for (int i = 0; i < n; i++)
       for (int b = 0; b < bits; b++)
         rows[i][b] = copyOf[b] >= 0 ? rows[i][copyOf[b]] ^ (rnd.nextInt(20) == 0) : rnd.nextDouble() < p[b];
-    return CodeBlock.fromBits(io.actindex.index.CodeLayout.single("bits", bits), rows);
+    return CodeBlock.fromBits(io.actindex.core.CodeLayout.single("bits", bits), rows);
   }
 }

@@ -3,9 +3,9 @@ package io.actindex.index.mih;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.Randoms;
-import io.actindex.index.SyntheticCodes;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Randoms;
+import io.actindex.core.SyntheticCodes;
 import org.junit.jupiter.api.Test;
 
 /** Skew handling: constant bits leave the tables, and the buckets get smaller on ReLU-like codes. */

@@ -3,7 +3,7 @@ package io.actindex.index.mih;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import io.actindex.index.Randoms;
+import io.actindex.core.Randoms;
 import java.util.HashSet;
 import java.util.Set;
 import java.util.SplittableRandom;

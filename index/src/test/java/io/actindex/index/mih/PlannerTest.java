@@ -3,10 +3,10 @@ package io.actindex.index.mih;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import io.actindex.index.BruteForce;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.Randoms;
-import io.actindex.index.SyntheticCodes;
+import io.actindex.core.BruteForce;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Randoms;
+import io.actindex.core.SyntheticCodes;
 import java.util.SplittableRandom;
 import org.junit.jupiter.api.Test;
 

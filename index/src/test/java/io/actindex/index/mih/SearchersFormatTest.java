@@ -4,12 +4,12 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertThrows;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import io.actindex.index.BadInputException;
-import io.actindex.index.BruteForce;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.CodeSearcher;
-import io.actindex.index.Randoms;
-import io.actindex.index.SyntheticCodes;
+import io.actindex.core.BadInputException;
+import io.actindex.core.BruteForce;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeSearcher;
+import io.actindex.core.Randoms;
+import io.actindex.core.SyntheticCodes;
 import java.io.ByteArrayInputStream;
 import java.io.ByteArrayOutputStream;
 import java.io.DataInputStream;

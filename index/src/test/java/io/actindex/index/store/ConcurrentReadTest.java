@@ -53,7 +53,7 @@ class ConcurrentReadTest {
           System.arraycopy(CrashChild.code(first + i), 0, words, i * CrashChild.LAYOUT.words(), CrashChild.LAYOUT.words());
           rows.add(CrashChild.row(first + i));
         }
-        w.add(new io.actindex.index.CodeBlock(CrashChild.LAYOUT, n, words), rows);
+        w.add(new io.actindex.core.CodeBlock(CrashChild.LAYOUT, n, words), rows);
         if (step % 5 == 4) w.delete(RoaringBitmap.bitmapOf(first, first + 3));
         if (step % 10 == 9) w.compact();
       }

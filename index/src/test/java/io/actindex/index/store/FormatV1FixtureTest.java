@@ -3,9 +3,9 @@ package io.actindex.index.store;
 import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 
-import io.actindex.index.BruteForce;
-import io.actindex.index.CodeBlock;
-import io.actindex.index.Hits;
+import io.actindex.core.BruteForce;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Hits;
 import java.net.URISyntaxException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;

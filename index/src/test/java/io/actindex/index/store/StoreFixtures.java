@@ -1,7 +1,7 @@
 package io.actindex.index.store;
 
-import io.actindex.index.CodeBlock;
-import io.actindex.index.SyntheticCodes;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.SyntheticCodes;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Files;

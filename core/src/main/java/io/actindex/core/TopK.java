@@ -1,4 +1,4 @@
-package io.actindex.index;
+package io.actindex.core;
 
 /**
  * Keeps the {@code k} smallest (distance, ordinal) pairs offered, ties by ascending ordinal, in a

@@ -1,10 +1,10 @@
-package io.actindex.index.hamming;
+package io.actindex.core;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import io.actindex.index.Hamming;
-import io.actindex.index.Randoms;
+import io.actindex.core.Hamming;
+import io.actindex.core.Randoms;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.SplittableRandom;

@@ -1,4 +1,4 @@
-package io.actindex.index;
+package io.actindex.core;
 
 /**
  * Scalar Hamming kernels over packed codes: the reference implementation ({@code Long.bitCount}).

@@ -1,4 +1,4 @@
-package io.actindex.index;
+package io.actindex.core;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 

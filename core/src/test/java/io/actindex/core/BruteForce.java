@@ -1,4 +1,4 @@
-package io.actindex.index;
+package io.actindex.core;
 
 import java.util.function.IntPredicate;
 

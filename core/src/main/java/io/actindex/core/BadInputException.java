@@ -1,4 +1,4 @@
-package io.actindex.index;
+package io.actindex.core;
 
 /**
  * Input that actindex refuses: a malformed or damaged file, a wrong shape, a NaN, a layout that
