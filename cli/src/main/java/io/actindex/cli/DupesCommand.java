@@ -76,7 +76,6 @@ final class DupesCommand implements Callable<Integer> {
   public Integer call() {
     if (threads < 0) throw new ParameterException(spec.commandLine(), "--threads must be 0 or more, got " + threads);
     if (groups < 0) throw new ParameterException(spec.commandLine(), "--groups must be 0 or more, got " + groups);
-    if (radius < 0) throw new ParameterException(spec.commandLine(), "--radius must be 0 or more, got " + radius);
     int t = threads == 0 ? Runtime.getRuntime().availableProcessors() : threads;
     Dupes.Params p = new Dupes.Params(radius, where, layers.layers, crossSplit, conflictingLabels, groups, t);
     Dupes.Result joined = null;
