@@ -78,9 +78,9 @@ public final class Dupes {
   public record Result(Summary summary, List<Group> groups) {}
 
   /**
-   * The join. {@code pairs} (nullable) gets every pair as ids {@code a < b} in ascending order, on
-   * the calling thread, without them being kept; with the flag options only the pairs that differ in
-   * split or label.
+   * The join. {@code pairs} (nullable) gets every pair as ids {@code a < b} on the calling thread,
+   * without them being kept, in the deterministic order of {@link SelfJoin#forEachPair} (not sorted);
+   * with the flag options only the pairs that differ in split or label.
    */
   public static Result run(IndexReader reader, Params p, PairSink pairs, Progress progress) {
     long started = System.nanoTime();
@@ -92,15 +92,27 @@ public final class Dupes {
     // union-find over distinct codes; the largest pair distance per root
     int[] parent = new int[nd], maxDist = new int[nd];
     for (int u = 0; u < nd; u++) parent[u] = u;
-    long[] pairCount = {dc.identicalPairs()};
-    join.forEachDistinctPair(p.threads(), (u, v, d) -> {
+    LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId()), splits = LabelIndex.of(reader.meta(), reader.maxId(), "split");
+    // one pass: distinct pairs feed the union-find, ordinal pairs the sink
+    long[] pairCount = {dc.identicalPairs()}, written = {0};
+    boolean flagged = p.crossSplit() || p.conflictingLabels();
+    int[] ids = sel.ids;
+    PairSink ordinals = pairs == null ? null : (a, b, d) -> {
+      if (flagged) {
+        boolean cross = p.crossSplit() && differ(splits.number(ids[a]), splits.number(ids[b]));
+        boolean conflict = p.conflictingLabels() && differ(labels.number(ids[a]), labels.number(ids[b]));
+        if (!cross && !conflict) return;
+      }
+      written[0]++;
+      pairs.pair(ids[a], ids[b], d);
+    };
+    join.forEachPair(p.threads(), ordinals, (u, v, d) -> {
       pairCount[0] += (long) dc.holders(u) * dc.holders(v);
       int a = find(parent, u), b = find(parent, v);
       int max = Math.max(d, Math.max(maxDist[a], maxDist[b]));
       if (a != b) parent[Math.max(a, b)] = Math.min(a, b);
       maxDist[Math.min(a, b)] = max;
     }, (done, total) -> prog.update(done, total));
-    LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId()), splits = LabelIndex.of(reader.meta(), reader.maxId(), "split");
     int[] size = new int[nd], firstLabel = new int[nd], firstSplit = new int[nd], firstMember = new int[nd];
     boolean[] labelConflict = new boolean[nd], splitConflict = new boolean[nd];
     Arrays.fill(firstLabel, -1);
@@ -124,30 +136,14 @@ public final class Dupes {
       if (splitConflict[u]) crossGroups++;
       if (labelConflict[u]) conflictGroups++;
     }
-    boolean flagged = p.crossSplit() || p.conflictingLabels();
     List<Integer> listed = new ArrayList<>();
     for (int r : roots)
       if (!flagged || (p.crossSplit() && splitConflict[r]) || (p.conflictingLabels() && labelConflict[r])) listed.add(r);
     listed.sort((a, b) -> size[a] != size[b] ? Integer.compare(size[b], size[a]) : Integer.compare(firstMember[a], firstMember[b]));
     listed = listed.subList(0, Math.min(p.groups(), listed.size()));
     List<Group> groups = groups(reader, sel, dc, parent, listed, size, maxDist, splitConflict, labelConflict, labels, splits);
-    long written = 0;
-    if (pairs != null) {
-      long[] count = {0};
-      int[] ids = sel.ids;
-      join.forEachPair(p.threads(), (a, b, d) -> {
-        if (flagged) {
-          boolean cross = p.crossSplit() && differ(splits.number(ids[a]), splits.number(ids[b]));
-          boolean conflict = p.conflictingLabels() && differ(labels.number(ids[a]), labels.number(ids[b]));
-          if (!cross && !conflict) return;
-        }
-        count[0]++;
-        pairs.pair(ids[a], ids[b], d);
-      }, (done, total) -> prog.update(done, total));
-      written = count[0];
-    }
     Summary s = new Summary(n, sel.codes.layout().bits(), p.radius(), pairCount[0], dc.identicalPairs(), duplicated, roots.size(),
-        largest, inGroups, crossGroups, conflictGroups, written, join.tables(), (System.nanoTime() - started) / 1e9);
+        largest, inGroups, crossGroups, conflictGroups, written[0], join.tables(), (System.nanoTime() - started) / 1e9);
     return new Result(s, groups);
   }
 

@@ -106,6 +106,7 @@ class DupesTest {
           String at = why + " R=" + radius + " where=" + where + " layers=" + layers;
           Dupes.Result res = Dupes.run(r, new Dupes.Params(radius, where, layers, false, false, Integer.MAX_VALUE, 1 + rnd.nextInt(3)),
               (a, b, d) -> got.add(new Pair(a, b, d)), null);
+          got.sort(java.util.Comparator.comparingInt(Pair::a).thenComparingInt(Pair::b));
           assertEquals(want, got, at);
           assertEquals(want.size(), res.summary().pairs(), at);
           assertEquals(ids.size(), res.summary().examples(), at);

@@ -111,17 +111,6 @@ public final class DistinctCodes {
     return holders[offsets[u] + i];
   }
 
-  /** The index (0-based, within u's holders) of the first holder greater than {@code ord}. */
-  int firstHolderAfter(int u, int ord) {
-    int lo = offsets[u], hi = offsets[u + 1];
-    while (lo < hi) {
-      int mid = (lo + hi) >>> 1;
-      if (holders[mid] <= ord) lo = mid + 1;
-      else hi = mid;
-    }
-    return lo - offsets[u];
-  }
-
   /** Pairs of ordinals holding the same code: sum over distinct codes of C(holders, 2). */
   public long identicalPairs() {
     long p = 0;

@@ -17,12 +17,15 @@ import java.util.Arrays;
  * multi-index hashing", CVPR 2012, Prop. 1), so the candidates of a code are the members of its own
  * bucket and of the buckets within {@code rho} flips, in every table; each is verified on the full
  * code. A pair is kept only from the first table in which its substring distance is at most
- * {@code rho}, so no set of seen pairs is needed. {@code m} is chosen per join from a cost model
- * (probes times expected bucket size), and a plain scan over the distinct codes replaces the
- * tables when they would not prune.
+ * {@code rho}, so no set of seen pairs is needed. When {@code radius + 1} tables can hold more
+ * than 32 bits each, {@code m = radius + 1} (so {@code rho = 0}) and each table keys on a hash of
+ * several substrings: the widest keys the pigeonhole allows, hence the smallest buckets (measured on
+ * 100k ReLU-like 256-bit codes at radius 4: 5 tables of 32 bits meet about 500 candidates per
+ * code). Otherwise {@code m} comes from a cost model (probes times expected bucket size). A plain
+ * scan over the distinct codes replaces the tables when they would not prune.
  *
- * <p>Output is streamed through {@link OrderedPairs}: deterministic order (ascending {@code a},
- * then {@code b}) whatever the thread count, memory independent of the number of pairs.
+ * <p>Output is streamed through {@link OrderedPairs}: deterministic order whatever the thread count
+ * (by distinct code, see {@link #forEachPair}), memory independent of the number of pairs.
  */
 public final class SelfJoin {
   /** Progress callback: {@code done} of {@code total} units. */
@@ -39,19 +42,27 @@ public final class SelfJoin {
   private final boolean scan;
   private final SubstringTable[] tables;
   private final int m, rho;
-  private final int[] keys; // distinct u, table t -> keys[u * m + t]
-  private final int[] own; // the bucket of u's own key in table t
+  private final int group, substrings; // substrings per table (block), and in all
+  private final int[] keys; // distinct u, substring p -> keys[u * substrings + p]
+  private final int[] own; // the bucket of u's own key in table t: own[u * m + t]
 
-  private SelfJoin(DistinctCodes distinct, int radius, BitPlan plan, boolean scan, SubstringTable[] tables, int[] keys, int[] own) {
+  private SelfJoin(DistinctCodes distinct, int radius, BitPlan plan, boolean scan, int group, SubstringTable[] tables, int[] keys,
+      int[] own) {
     this.distinct = distinct;
     this.radius = radius;
     this.plan = plan;
     this.scan = scan;
     this.tables = tables;
     this.m = tables.length;
+    this.group = group;
+    this.substrings = plan == null ? 0 : plan.tables();
     this.rho = m == 0 ? 0 : radius / m;
     this.keys = keys;
     this.own = own;
+  }
+
+  private static SelfJoin without(DistinctCodes d, int radius, boolean scan) {
+    return new SelfJoin(d, radius, null, scan, 1, new SubstringTable[0], new int[0], new int[0]);
   }
 
   /** The join of {@code codes} within {@code radius}, tables chosen automatically. */
@@ -68,23 +79,33 @@ public final class SelfJoin {
     DistinctCodes d = DistinctCodes.of(codes);
     CodeBlock u = d.codes();
     int n = u.size();
-    if (radius == 0 || n <= 1) return new SelfJoin(d, radius, null, radius > 0, new SubstringTable[0], new int[0], new int[0]);
+    if (radius == 0 || n <= 1) return without(d, radius, radius > 0);
     int k = 0;
     for (long c : BitPlan.bitCounts(u)) if (!opts.dropConstantBits() || (c != 0 && c != n)) k++;
-    int m = opts.substrings() > 0 ? Math.min(opts.substrings(), k) : substrings(k, radius, n);
+    int m, group = 1;
+    if (opts.substrings() > 0) m = Math.min(opts.substrings(), k);
+    else if (radius + 1 <= k && (k + radius) / (radius + 1) > SearchPlanOptions.MAX_SUBSTRING_BITS) {
+      // radius + 1 tables, each wider than one substring may be: a table keys on a hash of several
+      // substrings (probed at substring radius 0 only, so hashing loses nothing)
+      m = radius + 1;
+      group = ((k + radius) / (radius + 1) + SearchPlanOptions.MAX_SUBSTRING_BITS - 1) / SearchPlanOptions.MAX_SUBSTRING_BITS;
+    } else m = substrings(k, radius, n);
     boolean scan = opts.strategy() == SearchPlanOptions.Strategy.SCAN
-        || (opts.strategy() == SearchPlanOptions.Strategy.AUTO && estimate(k, m, radius, n) > n / 2.0);
-    if (scan || k == 0) return new SelfJoin(d, radius, null, true, new SubstringTable[0], new int[0], new int[0]);
-    BitPlan plan = BitPlan.choose(u, opts.withSubstrings(m));
-    m = plan.tables();
+        || (opts.strategy() == SearchPlanOptions.Strategy.AUTO && group == 1 && estimate(k, m, radius, n) > n / 2.0);
+    if (scan || k == 0) return without(d, radius, true);
+    BitPlan plan = BitPlan.choose(u, opts.withSubstrings(m * group));
+    int p = plan.tables();
+    m = (p + group - 1) / group;
+    if (group > 1 && radius / m > 0) throw new IllegalStateException("hashed tables need substring radius 0; " + m + " tables for radius " + radius);
     int w = u.wordsPerCode();
     long[] data = u.words();
-    int[] keys = new int[Math.multiplyExact(n, m)], own = new int[n * m], keyOf = new int[n];
+    int[] keys = new int[Math.multiplyExact(n, p)], own = new int[Math.multiplyExact(n, m)], keyOf = new int[n];
+    for (int v = 0; v < n; v++) for (int j = 0; j < p; j++) keys[v * p + j] = plan.key(data, v * w, j);
     SubstringTable[] tables = new SubstringTable[m];
     double perCode = 0;
     for (int t = 0; t < m; t++) {
-      for (int v = 0; v < n; v++) keys[v * m + t] = keyOf[v] = plan.key(data, v * w, t);
-      tables[t] = SubstringTable.build(plan.width(t), keyOf);
+      for (int v = 0; v < n; v++) keyOf[v] = tableKey(keys, v * p, t, group, p);
+      tables[t] = SubstringTable.build(group == 1 ? plan.width(t) : 32, keyOf);
       for (int v = 0; v < n; v++) own[v * m + t] = tables[t].bucket(keyOf[v]);
       for (int b = 0; b < tables[t].buckets(); b++) {
         double s = tables[t].offsets[b + 1] - tables[t].offsets[b];
@@ -92,9 +113,23 @@ public final class SelfJoin {
       }
     }
     // measured own-bucket candidates per code; the scan costs n per code
-    if (opts.strategy() == SearchPlanOptions.Strategy.AUTO && radius / m == 0 && perCode > n / 2.0)
-      return new SelfJoin(d, radius, null, true, new SubstringTable[0], new int[0], new int[0]);
-    return new SelfJoin(d, radius, plan, false, tables, keys, own);
+    if (opts.strategy() == SearchPlanOptions.Strategy.AUTO && radius / m == 0 && perCode > n / 2.0) return without(d, radius, true);
+    return new SelfJoin(d, radius, plan, false, group, tables, keys, own);
+  }
+
+  /**
+   * The key of table {@code t}: the substring's own key when a table is one substring, else a hash
+   * of its {@code group} substring keys (equal substrings give equal hashes; collisions only add
+   * candidates, which are verified).
+   */
+  private static int tableKey(int[] keys, int off, int t, int group, int p) {
+    if (group == 1) return keys[off + t];
+    long h = 0x9E3779B97F4A7C15L;
+    for (int j = t * group, end = Math.min(p, j + group); j < end; j++) {
+      h = (h ^ (keys[off + j] & 0xFFFFFFFFL)) * 0xBF58476D1CE4E5B9L;
+      h ^= h >>> 29;
+    }
+    return (int) (h ^ (h >>> 32));
   }
 
   /**
@@ -149,47 +184,48 @@ public final class SelfJoin {
    * in ascending {@code (u, v)}, to {@code sink} on the calling thread.
    */
   public void forEachDistinctPair(int threads, PairSink sink, Progress progress) {
+    forEachPair(threads, null, sink, progress);
+  }
+
+  /**
+   * Every pair of ordinals {@code a < b} within the radius to {@code pairs}, and every pair of
+   * distinct codes to {@code distinctPairs} (either may be null), on the calling thread, in one pass
+   * over the distinct codes {@code u} in ascending order: first the pairs of ordinals holding {@code
+   * u} itself (distance 0), then for each distinct neighbour {@code v > u} in ascending order the
+   * pair {@code (u, v)} and the pairs of their holders (by holder of {@code u}, then of {@code v}).
+   * So the order is deterministic whatever the thread count, but not sorted by ordinal. Memory does
+   * not grow with the number of pairs.
+   */
+  public void forEachPair(int threads, PairSink pairs, PairSink distinctPairs, Progress progress) {
     int n = distinct.count();
     int tasks = (n + TASK - 1) / TASK;
     long[] data = distinct.codes().words();
     int w = distinct.codes().wordsPerCode();
+    PairSink sink = (a, b, d) -> {
+      if (a < 0) distinctPairs.pair(~a, b, d);
+      else pairs.pair(a, b, d);
+    };
     OrderedPairs.run(tasks, threads, (task, out) -> {
       Neighbours nb = new Neighbours();
       for (int u = task * TASK, end = Math.min(n, u + TASK); u < end; u++) {
-        neighbours(data, u * w, keys, u * m, u, u + 1, nb);
-        for (int i = 0; i < nb.size; i++) out.pair(u, nb.v(i), nb.d(i));
-      }
-    }, sink, progress == null ? null : done -> progress.update(done, tasks));
-  }
-
-  /**
-   * Every pair of ordinals {@code a < b} within the radius, in ascending {@code (a, b)}, to {@code
-   * sink} on the calling thread. Memory does not grow with the number of pairs.
-   */
-  public void forEachPair(int threads, PairSink sink, Progress progress) {
-    int n = distinct.ordinals();
-    int tasks = (n + TASK - 1) / TASK;
-    long[] data = distinct.codes().words();
-    int w = distinct.codes().wordsPerCode();
-    OrderedPairs.run(tasks, threads, (task, out) -> {
-      Neighbours nb = new Neighbours(), partners = new Neighbours();
-      for (int a = task * TASK, end = Math.min(n, a + TASK); a < end; a++) {
-        int u = distinct.distinctOf(a);
-        neighbours(data, u * w, keys, u * m, u, 0, nb);
-        int from = distinct.firstHolderAfter(u, a), count = distinct.holders(u);
-        if (nb.size == 0) { // holders are already in order
-          for (int h = from; h < count; h++) out.pair(a, distinct.holder(u, h), 0);
-          continue;
-        }
-        partners.size = 0;
-        for (int h = from; h < count; h++) partners.add(distinct.holder(u, h), 0);
+        int hu = distinct.holders(u);
+        if (pairs != null)
+          for (int x = 0; x < hu; x++)
+            for (int y = x + 1; y < hu; y++) out.pair(distinct.holder(u, x), distinct.holder(u, y), 0);
+        neighbours(data, u * w, keys, u * substrings, u, u + 1, nb);
         for (int i = 0; i < nb.size; i++) {
-          int v = nb.v(i);
-          for (int h = distinct.firstHolderAfter(v, a), c = distinct.holders(v); h < c; h++)
-            partners.add(distinct.holder(v, h), nb.d(i));
+          int v = nb.v(i), d = nb.d(i);
+          if (distinctPairs != null) out.pair(~u, v, d);
+          if (pairs == null) continue;
+          for (int x = 0, hv = distinct.holders(v); x < hu; x++) {
+            int a = distinct.holder(u, x);
+            for (int y = 0; y < hv; y++) {
+              int b = distinct.holder(v, y);
+              if (a < b) out.pair(a, b, d);
+              else out.pair(b, a, d);
+            }
+          }
         }
-        partners.sort();
-        for (int i = 0; i < partners.size; i++) out.pair(a, partners.v(i), partners.d(i));
       }
     }, sink, progress == null ? null : done -> progress.update(done, tasks));
   }
@@ -208,9 +244,9 @@ public final class SelfJoin {
     long[] data = queries.words();
     OrderedPairs.run(tasks, threads, (task, out) -> {
       Neighbours nb = new Neighbours(), partners = new Neighbours();
-      int[] qKeys = new int[m];
+      int[] qKeys = new int[substrings];
       for (int q = task * TASK, end = Math.min(n, q + TASK); q < end; q++) {
-        for (int t = 0; t < m; t++) qKeys[t] = plan.key(data, q * w, t);
+        for (int j = 0; j < substrings; j++) qKeys[j] = plan.key(data, q * w, j);
         if (radius == 0) {
           nb.size = 0;
           int v = distinct.find(data, q * w);
@@ -229,7 +265,7 @@ public final class SelfJoin {
 
   /**
    * Distinct codes {@code v >= minV}, {@code v != self}, within the radius of the code at {@code
-   * q[qOff..]} (whose table keys are {@code qKeys[kOff..kOff+m)}), sorted by {@code v}.
+   * q[qOff..]} (whose substring keys are {@code qKeys[kOff..kOff+substrings)}), sorted by {@code v}.
    */
   private void neighbours(long[] q, int qOff, int[] qKeys, int kOff, int self, int minV, Neighbours out) {
     out.size = 0;
@@ -247,7 +283,7 @@ public final class SelfJoin {
     }
     for (int t = 0; t < m; t++) {
       SubstringTable tab = tables[t];
-      int key = qKeys[kOff + t];
+      int key = tableKey(qKeys, kOff, t, group, substrings);
       long limit = ProbeEnumerator.limit(tab.width);
       for (int r = 0; r <= rho; r++)
         for (long f = ProbeEnumerator.first(r); f < limit; f = ProbeEnumerator.next(f)) {
@@ -257,9 +293,9 @@ public final class SelfJoin {
           if (minV > 0) from = lowerBound(tab.ids, from, to, minV);
           for (int p = from; p < to; p++) {
             int v = tab.ids[p];
-            if (v == self || seenEarlier(qKeys, kOff, v, t)) continue;
+            if (v == self) continue;
             int d = Hamming.distanceBounded(q, qOff, data, v * w, w, radius);
-            if (d <= radius) out.add(v, d);
+            if (d <= radius && !seenEarlier(qKeys, kOff, v, t)) out.add(v, d);
           }
         }
     }
@@ -268,8 +304,16 @@ public final class SelfJoin {
 
   /** True if an earlier table than {@code t} already puts {@code v} within rho of the query. */
   private boolean seenEarlier(int[] qKeys, int kOff, int v, int t) {
-    int base = v * m;
-    for (int s = 0; s < t; s++) if (Integer.bitCount(qKeys[kOff + s] ^ keys[base + s]) <= rho) return true;
+    int base = v * substrings;
+    if (group == 1) {
+      for (int s = 0; s < t; s++) if (Integer.bitCount(qKeys[kOff + s] ^ keys[base + s]) <= rho) return true;
+      return false;
+    }
+    for (int s = 0; s < t; s++) { // rho is 0: table s qualifies if all its substrings are equal
+      boolean equal = true;
+      for (int j = s * group, end = Math.min(substrings, j + group); j < end && equal; j++) equal = qKeys[kOff + j] == keys[base + j];
+      if (equal) return true;
+    }
     return false;
   }
 

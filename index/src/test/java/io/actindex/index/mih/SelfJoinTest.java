@@ -70,8 +70,11 @@ class SelfJoinTest {
 
   static long[] joined(SelfJoin j, int threads) {
     List<Long> out = new ArrayList<>();
-    j.forEachPair(threads, (a, b, d) -> out.add(pack(a, b, d)), null);
-    return out.stream().mapToLong(Long::longValue).toArray();
+    j.forEachPair(threads, (a, b, d) -> {
+      assertTrue(a < b);
+      out.add(pack(a, b, d));
+    }, null, null);
+    return out.stream().mapToLong(Long::longValue).sorted().toArray();
   }
 
   /**
@@ -117,8 +120,12 @@ class SelfJoinTest {
     String at = why + " R=" + radius + " m=" + j.tables() + " scan=" + j.scans();
     long[] want = bruteForce(d, radius);
     assertArrayEquals(want, joined(j, 1 + 2 * rnd.nextInt(2)), at);
-    // distinct pairs expand to the same count
+    // distinct pairs expand to the same count; same order whatever the thread count
     long[] count = {j.distinct().identicalPairs()};
+    List<Long> one = new ArrayList<>(), three = new ArrayList<>();
+    j.forEachPair(1, (a, b, dist) -> one.add(pack(a, b, dist)), (u, v, dist) -> one.add(-pack(u, v, dist)), null);
+    j.forEachPair(3, (a, b, dist) -> three.add(pack(a, b, dist)), (u, v, dist) -> three.add(-pack(u, v, dist)), null);
+    assertEquals(one, three, at);
     j.forEachDistinctPair(2, (u, v, dist) -> {
       assertTrue(u < v, at);
       count[0] += (long) j.distinct().holders(u) * j.distinct().holders(v);
@@ -174,12 +181,12 @@ class SelfJoinTest {
     SelfJoin j = SelfJoin.build(new CodeBlock(layout, n, words), 3);
     long[] count = {0, -1, 0};
     j.forEachPair(2, (a, b, d) -> {
-      // ascending (a, b): the pairs arrive in order, none kept
+      // one distinct code: its holders' pairs arrive in ascending (a, b), none kept
       long key = (long) a * n + b;
       if (key <= count[1] || d != 0) count[2]++;
       count[1] = key;
       count[0]++;
-    }, null);
+    }, null, null);
     assertEquals(49_995_000L, count[0]); // C(10000, 2)
     assertEquals(0, count[2], "pairs out of order or at a distance other than 0");
     assertEquals(49_995_000L, j.distinct().identicalPairs());
