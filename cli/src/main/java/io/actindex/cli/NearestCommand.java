@@ -36,7 +36,7 @@ final class NearestCommand implements Callable<Integer> {
   int k;
 
   @Option(names = "--where", paramLabel = "EXPR",
-      description = "Only examples whose metadata match, e.g. \"split = train and label != idle\" (syntax in the README).")
+      description = "Only examples whose metadata match, e.g. \"split = train and label != idle\" (syntax and limits: docs/where.md).")
   String where;
 
   @Option(names = "--ties",
