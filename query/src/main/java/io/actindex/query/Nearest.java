@@ -17,7 +17,6 @@ import java.util.concurrent.ExecutionException;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.Future;
-import java.util.function.Supplier;
 import org.roaringbitmap.RoaringBitmap;
 
 /**
@@ -92,14 +91,13 @@ public final class Nearest {
     long[] mask = Layers.maskOrNull(layout, p.layers());
     long[][] segMasks = Layers.segmentMasks(layout);
     RoaringBitmap filter = Where.select(reader.meta(), p.where());
-    Supplier<LabelIndex> labels = memo(() -> LabelIndex.of(reader.meta(), reader.maxId()));
     Progress prog = progress == null ? Progress.NONE : progress;
     int n = queries.size();
     Result[] out = new Result[n];
     Object lock = new Object();
     long[] done = {0};
     java.util.function.IntConsumer one = i -> {
-      out[i] = one(reader, queries.codes().code(i), queries.row(i), p, filter, mask, shown, segMasks, labels);
+      out[i] = one(reader, queries.codes().code(i), queries.row(i), p, filter, mask, shown, segMasks);
       synchronized (lock) {
         prog.update(++done[0], n);
       }
@@ -126,7 +124,7 @@ public final class Nearest {
   }
 
   private static Result one(IndexReader reader, long[] q, long row, Params p, RoaringBitmap filter, long[] mask, int[] shown,
-      long[][] segMasks, Supplier<LabelIndex> labels) {
+      long[][] segMasks) {
     int k = p.k();
     Hits group = withTies(reader, q, k, filter, mask);
     int first = Math.min(k, group.size());
@@ -147,7 +145,7 @@ public final class Nearest {
     }
     int counted = p.voteOverTies() ? group.size() : first;
     List<String> voteLabels = new ArrayList<>(counted);
-    for (int h = 0; h < counted; h++) voteLabels.add(h < listed ? list.get(h).label() : labels.get().label(group.ord(h)));
+    for (int h = 0; h < counted; h++) voteLabels.add(h < listed ? list.get(h).label() : label(meta, group.ord(h)));
     Vote vote = vote(voteLabels, Arrays.copyOf(group.dists(), counted), counted > k, group.size() - counted);
     return new Result(row, List.copyOf(list), vote);
   }
@@ -197,16 +195,9 @@ public final class Nearest {
     return new Vote(best.getKey(), votes, labeled, votes / (double) labeled, dists.length, within, tiesIncluded, tiesLeftOut);
   }
 
-  private static <T> Supplier<T> memo(Supplier<T> make) {
-    Object lock = new Object();
-    Object[] cell = new Object[1];
-    return () -> {
-      synchronized (lock) {
-        if (cell[0] == null) cell[0] = make.get();
-        @SuppressWarnings("unchecked")
-        T t = (T) cell[0];
-        return t;
-      }
-    };
+  /** The label of a live id (one stored-fields read, as for a listed neighbour). */
+  private static String label(MetaStore meta, int id) {
+    Map<String, String> doc = meta.document(id);
+    return doc == null ? null : doc.get("label");
   }
 }
