@@ -304,12 +304,8 @@ public final class Dupes {
     }
     if (n == 0)
       throw new BadInputException(live.length == 0 ? "the index has no live examples to join"
-          : "--where '" + shortPrefix(p.where()) + "' selects no live example; nothing to join");
+          : "--where '" + Snippet.of(p.where()) + "' selects no live example; nothing to join");
     CodeBlock codes = new CodeBlock(layout, n, Arrays.copyOf(words, n * w));
     return new Selection(Arrays.copyOf(ids, n), Layers.project(codes, target));
-  }
-
-  private static String shortPrefix(String s) {
-    return s.length() <= 60 ? s : s.substring(0, 60) + "...";
   }
 }
