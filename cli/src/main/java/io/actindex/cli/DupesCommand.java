@@ -201,8 +201,9 @@ final class DupesCommand implements Callable<Integer> {
           counts(g.labels()), counts(g.splits()), keys(g.members(), ";")));
   }
 
-  private static void table(PrintWriter out, Dupes.Result r) {
+  private void table(PrintWriter out, Dupes.Result r) {
     Dupes.Summary s = r.summary();
+    boolean flagged = crossSplit || conflictingLabels;
     out.printf(Locale.ROOT, "%,d examples joined within radius %d (%d bits): %,d pairs, %,d groups%n", s.examples(), s.radius(),
         s.bits(), s.pairs(), s.groups());
     TextTable t = new TextTable(List.of("", ""));
@@ -219,7 +220,8 @@ final class DupesCommand implements Callable<Integer> {
     t.print(out, "  ");
     if (r.groups().isEmpty()) return;
     out.println();
-    out.println("largest groups" + (r.groups().size() < s.groups() ? " (" + r.groups().size() + " shown)" : ""));
+    out.println("largest groups" + (flagged ? " with " + (crossSplit ? "leakage" : "") + (crossSplit && conflictingLabels ? " or " : "")
+        + (conflictingLabels ? "conflicting labels" : "") : "") + (r.groups().size() < s.groups() ? " (" + r.groups().size() + " shown)" : ""));
     TextTable g = new TextTable(List.of("#", "size", "codes", "max dist", "flags", "labels", "splits", "keys"));
     int i = 1;
     for (Dupes.Group x : r.groups()) {

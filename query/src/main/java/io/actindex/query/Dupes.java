@@ -223,17 +223,19 @@ public final class Dupes {
    */
   public static AgainstResult against(IndexReader reader, Params p, Source source, PairSink pairs, Progress progress) {
     Progress prog = progress == null ? Progress.NONE : progress;
-    select(reader, p); // refuse a bad radius, filter or layer before reading the file
-    return against(reader, p, QuerySource.load(reader, source, RowRange.ALL, prog), pairs, prog);
+    Selection sel = select(reader, p); // refuses a bad radius, filter or layer before the file is read
+    return against(reader, p, sel, QuerySource.load(reader, source, RowRange.ALL, prog), pairs, prog);
   }
 
   /** The same for codes already in the index layout (first row number {@code q.firstRow()}). */
   public static AgainstResult against(IndexReader reader, Params p, QueryCodes q, PairSink pairs, Progress progress) {
+    return against(reader, p, select(reader, p), q, pairs, progress == null ? Progress.NONE : progress);
+  }
+
+  private static AgainstResult against(IndexReader reader, Params p, Selection sel, QueryCodes q, PairSink pairs, Progress prog) {
     long started = System.nanoTime();
-    Progress prog = progress == null ? Progress.NONE : progress;
     if (!q.codes().layout().equals(reader.layout()))
       throw new BadInputException("rows to look up have layout " + q.codes().layout() + ", the index " + reader.layout());
-    Selection sel = select(reader, p);
     CodeBlock queries = Layers.project(q.codes(), sel.codes.layout());
     SelfJoin join = SelfJoin.build(sel.codes, p.radius());
     List<RowMatches> rows = new ArrayList<>();
