@@ -111,6 +111,11 @@ final class ActivationCodeStream implements CodeStream {
   }
 
   @Override
+  public List<String> notes() {
+    return src.notes();
+  }
+
+  @Override
   public void close() throws IOException {
     src.close();
   }

@@ -21,6 +21,9 @@ interface LayerSource extends AutoCloseable {
 
   boolean floats(int layer);
 
+  /** How the inputs were read and interpreted, one line each (header decisions, model layers). */
+  List<String> notes();
+
   /**
    * Reads up to {@code m} rows: layer {@code i} into {@code f[i]} (if floats) or {@code d[i]},
    * which the source may replace by its own array of at least {@code m * width} values. Returns
@@ -77,6 +80,11 @@ interface LayerSource extends AutoCloseable {
     @Override
     public boolean floats(int layer) {
       return readers.get(layer).exactInFloat();
+    }
+
+    @Override
+    public List<String> notes() {
+      return readers.stream().flatMap(r -> r.notes().stream()).toList();
     }
 
     @Override
