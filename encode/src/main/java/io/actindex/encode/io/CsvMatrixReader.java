@@ -62,6 +62,10 @@ public final class CsvMatrixReader implements MatrixReader {
   private CsvMatrixReader(Path file, InputStream in, Header mode) throws IOException {
     this.file = file;
     this.in = in;
+    bufLen = Math.max(0, in.readNBytes(buf, 0, buf.length));
+    if (bufLen >= 2 && ((buf[0] & 0xff) == 0xff && (buf[1] & 0xff) == 0xfe || (buf[0] & 0xff) == 0xfe && (buf[1] & 0xff) == 0xff))
+      throw encoding(0, "a UTF-16 byte order mark: save the file as UTF-8");
+    if (bufLen >= 3 && (buf[0] & 0xff) == 0xef && (buf[1] & 0xff) == 0xbb && (buf[2] & 0xff) == 0xbf) bufPos = 3; // UTF-8 byte order mark
     String first = nextLine();
     if (first == null) throw new BadInputException(file + ": the CSV file is empty");
     long firstLine = line;
@@ -231,14 +235,8 @@ public final class CsvMatrixReader implements MatrixReader {
       if (nl >= 0) break;
     }
     if (!any) return null;
-    int from = 0;
-    if (lineStart == 0) {
-      if (n >= 2 && ((lineBytes[0] & 0xff) == 0xff && (lineBytes[1] & 0xff) == 0xfe || (lineBytes[0] & 0xff) == 0xfe && (lineBytes[1] & 0xff) == 0xff))
-        throw encoding(0, "a UTF-16 byte order mark: save the file as UTF-8");
-      if (n >= 3 && (lineBytes[0] & 0xff) == 0xef && (lineBytes[1] & 0xff) == 0xbb && (lineBytes[2] & 0xff) == 0xbf) from = 3; // UTF-8 BOM
-    }
-    if (n > from && lineBytes[n - 1] == '\r') n--;
-    ByteBuffer bb = ByteBuffer.wrap(lineBytes, from, n - from);
+    if (n > 0 && lineBytes[n - 1] == '\r') n--;
+    ByteBuffer bb = ByteBuffer.wrap(lineBytes, 0, n);
     if (chars.capacity() < n) chars = CharBuffer.allocate(Math.max(n, chars.capacity() * 2));
     chars.clear();
     utf8.reset();
