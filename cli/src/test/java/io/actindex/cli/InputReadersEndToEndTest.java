@@ -239,5 +239,38 @@ class InputReadersEndToEndTest {
     Cli.Result r = Cli.run("nearest", "--index", idx.toString(), "--inputs", wide.toString());
     refused(r, "wide.npy", idx.resolve("model.safetensors").toString(), "the model stored in the index");
     assertThat(r.err()).doesNotContain("actindex-model");
+    // a data-frame export with its row index as an extra column: the refusal carries the hint
+    Path df = csv("df.csv", ",0,1,2\n0,0.5,1,2\n1,0.25,-1,0\n2,1,1,1\n");
+    refused(Cli.run("build", "--out", tmp.resolve("idx2").toString(), "--model", m.toString(), "--inputs", df.toString()), "df.csv",
+        "rows have 4 values", "row index");
+  }
+
+  @Test
+  void aDamagedNpzIsRefusedByItsCrc() throws Exception {
+    Path idx = tmp.resolve("idx");
+    Path acts = Files2.floats(tmp.resolve("acts.npy"), inputs(20, 3, new SplittableRandom(5)));
+    assertThat(Cli.run("build", "--out", idx.toString(), "--activations", acts.toString()).code()).isZero();
+    Map<String, String> before = Files2.checksums(idx);
+    byte[] member = Files.readAllBytes(acts);
+    java.io.ByteArrayOutputStream bytes = new java.io.ByteArrayOutputStream();
+    try (var z = new java.util.zip.ZipOutputStream(bytes)) {
+      var e = new java.util.zip.ZipEntry("act.npy");
+      e.setMethod(java.util.zip.ZipEntry.STORED);
+      e.setSize(member.length);
+      var crc = new java.util.zip.CRC32();
+      crc.update(member);
+      e.setCrc(crc.getValue());
+      z.putNextEntry(e);
+      z.write(member);
+      z.closeEntry();
+    }
+    byte[] zip = bytes.toByteArray();
+    Path good = Files2.write(tmp.resolve("good.npz"), zip);
+    Cli.Result ok = Cli.run("nearest", "--index", idx.toString(), "--activations", good.toString(), "--rows", "0", "--format", "json");
+    assertThat(ok.code()).as(ok.describe()).isZero();
+    zip[30 + "act.npy".length() + member.length - 2] ^= 0x40; // a data byte of the last value (local header: 30 bytes + name)
+    Path bad = Files2.write(tmp.resolve("bad.npz"), zip);
+    refused(Cli.run("add", "--index", idx.toString(), "--activations", bad.toString()), "bad.npz[act]", "CRC-32");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 }

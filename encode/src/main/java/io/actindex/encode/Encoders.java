@@ -293,7 +293,7 @@ public final class Encoders {
   /** The options {@link #describe} wrote; BadInputException naming the property if malformed. */
   public static EncodeOptions fromProperties(Map<String, String> props) {
     String r = props.get(RULE);
-    if (r == null) return EncodeOptions.positive();
+    if (r == null) r = "positive";
     BinarizeRule rule = switch (r) {
       case "positive" -> BinarizeRule.POSITIVE;
       case "threshold" -> BinarizeRule.THRESHOLD;
