@@ -18,6 +18,16 @@ public class BadInputException extends RuntimeException {
   }
 
   /**
+   * A name from the input (a layer, a member) as is when it is short printable ASCII without
+   * commas, quotes or spaces, else {@link #quote}d.
+   */
+  public static String plain(String name) {
+    boolean ok = name != null && !name.isEmpty() && name.length() <= QUOTE_CHARS
+        && name.chars().allMatch(c -> c > 0x20 && c < 0x7f && c != ',' && c != '\'');
+    return ok ? name : quote(name);
+  }
+
+  /**
    * A value from the input, fit for a one-line message: in single quotes, at most {@link
    * #QUOTE_CHARS} characters (then {@code ...} and the full length), with line breaks, other
    * control characters, unpaired surrogates and the quote itself escaped ({@code \n}, {@code

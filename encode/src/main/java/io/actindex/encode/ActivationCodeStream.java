@@ -39,7 +39,8 @@ final class ActivationCodeStream implements CodeStream {
         try {
           segs.add(new CodeLayout.Segment(names.get(i), widths[i]));
         } catch (IllegalArgumentException e) {
-          throw new BadInputException(src.source() + ": layer '" + names.get(i) + "' cannot name a code segment: " + e.getMessage());
+          throw new BadInputException(src.source() + ": layer " + BadInputException.quote(names.get(i))
+              + " cannot name a code segment (a name is non-empty, without ',', ':' or spaces)");
         }
       }
       this.layout = new CodeLayout(segs);

@@ -15,6 +15,7 @@ final class ModelLayers implements LayerSource {
   private final List<String> names;
   private final int[] layerIndex;
   private final String modelNote;
+  private final String modelName;
   private double[] buf = new double[0];
 
   /** {@code modelNote}: a line saying how the model's layers were read (may be null). */
@@ -22,6 +23,7 @@ final class ModelLayers implements LayerSource {
     this.mlp = mlp;
     this.in = in;
     this.modelNote = modelNote;
+    this.modelName = modelName;
     List<String> hidden = mlp.hiddenNames();
     if (hidden.isEmpty())
       throw new BadInputException(modelName + ": the model has one layer and no hidden layer to encode (a file of hidden layers only: --no-output-layer)");
@@ -39,9 +41,10 @@ final class ModelLayers implements LayerSource {
     layerIndex = names.stream().mapToInt(hidden::indexOf).toArray();
   }
 
+  /** The model: messages about layers concern it (rows are the reader's, which names the inputs). */
   @Override
   public String source() {
-    return in.source();
+    return modelName;
   }
 
   @Override

@@ -67,7 +67,7 @@ public final class NpzReader implements AutoCloseable {
   public NpyReader member(String name) throws IOException {
     ZipEntry e = zip.getEntry(name + ".npy");
     if (e == null) throw new BadInputException(file + ": no array named " + BadInputException.quote(name) + " (the archive holds " + names + ")");
-    String label = file + "[" + name + "]";
+    String label = file + "[" + BadInputException.plain(name) + "]";
     try {
       return NpyReader.open(label, new CrcCheckedStream(zip.getInputStream(e), e.getSize(), e.getCrc(), label), e.getSize());
     } catch (ZipException ex) {

@@ -90,9 +90,9 @@ public final class LayerOrder {
 
   private static String candidates(List<List<String>> chains) {
     StringBuilder sb = new StringBuilder(chains.size() == 1 ? "the shapes allow " : "candidate orders ");
-    for (int i = 0; i < Math.min(chains.size(), MAX_CANDIDATES - 1); i++) sb.append(i == 0 ? "" : " or ").append(String.join(",", chains.get(i).stream().map(LayerOrder::plain).toList()));
+    for (int i = 0; i < Math.min(chains.size(), MAX_CANDIDATES - 1); i++) sb.append(i == 0 ? "" : " or ").append(String.join(",", chains.get(i).stream().map(BadInputException::plain).toList()));
     if (chains.size() >= MAX_CANDIDATES) sb.append(" or more");
-    return sb.append("; pass the order with --layer-order ").append(String.join(",", chains.getFirst().stream().map(LayerOrder::plain).toList())).toString();
+    return sb.append("; pass the order with --layer-order ").append(String.join(",", chains.getFirst().stream().map(BadInputException::plain).toList())).toString();
   }
 
   /**
@@ -116,7 +116,7 @@ public final class LayerOrder {
     for (int i = 1; i < ordered.size(); i++) {
       Shape a = ordered.get(i - 1), b = ordered.get(i);
       if (a.out() != b.in())
-        return "layer " + plain(b.name()) + " (weight [" + b.out() + ", " + b.in() + "]) takes " + b.in() + " inputs but layer " + plain(a.name())
+        return "layer " + BadInputException.plain(b.name()) + " (weight [" + b.out() + ", " + b.in() + "]) takes " + b.in() + " inputs but layer " + BadInputException.plain(a.name())
             + " (weight [" + a.out() + ", " + a.in() + "]) gives " + a.out();
     }
     return null;
@@ -187,17 +187,11 @@ public final class LayerOrder {
 
   private static String shapes(List<Shape> layers) {
     StringBuilder sb = new StringBuilder();
-    for (Shape s : layers) sb.append(sb.isEmpty() ? "" : ", ").append(plain(s.name())).append(" [").append(s.out()).append(", ").append(s.in()).append(']');
+    for (Shape s : layers) sb.append(sb.isEmpty() ? "" : ", ").append(BadInputException.plain(s.name())).append(" [").append(s.out()).append(", ").append(s.in()).append(']');
     return sb.toString();
   }
 
   private static String names(java.util.Collection<String> names) {
-    return String.join(",", names.stream().map(LayerOrder::plain).toList());
-  }
-
-  /** A layer name as is when it is short printable text without commas, else quoted and escaped. */
-  static String plain(String name) {
-    boolean ok = !name.isEmpty() && name.length() <= BadInputException.QUOTE_CHARS && name.chars().allMatch(c -> c > 0x20 && c < 0x7f && c != ',' && c != '\'');
-    return ok ? name : BadInputException.quote(name);
+    return String.join(",", names.stream().map(BadInputException::plain).toList());
   }
 }
