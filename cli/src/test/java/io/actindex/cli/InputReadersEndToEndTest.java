@@ -246,6 +246,37 @@ class InputReadersEndToEndTest {
   }
 
   @Test
+  void modelsWithABadHeaderAndArchivesWithTwinMembersAreRefused() throws Exception {
+    byte[] json = "{\"fc\u00e9.weight\":{\"dtype\":\"F32\",\"shape\":[1,1],\"data_offsets\":[0,4]}}".getBytes(StandardCharsets.ISO_8859_1);
+    ByteBuffer st = ByteBuffer.allocate(8 + json.length + 4).order(ByteOrder.LITTLE_ENDIAN).putLong(json.length).put(json);
+    Path latin1 = Files2.write(tmp.resolve("latin1.safetensors"), st.array());
+    Path x = Files2.floats(tmp.resolve("x.npy"), inputs(3, 1, new SplittableRandom(3)));
+    Path out = tmp.resolve("never");
+    refused(Cli.run("build", "--out", out.toString(), "--model", latin1.toString(), "--inputs", x.toString()), "latin1.safetensors", "not valid UTF-8");
+    assertThat(Files2.checksums(out)).isEmpty();
+
+    Path idx = tmp.resolve("idx");
+    Path acts = Files2.floats(tmp.resolve("acts.npy"), inputs(10, 3, new SplittableRandom(4)));
+    assertThat(Cli.run("build", "--out", idx.toString(), "--activations", acts.toString()).code()).isZero();
+    Map<String, String> before = Files2.checksums(idx);
+    byte[] member = Files.readAllBytes(acts);
+    java.io.ByteArrayOutputStream bytes = new java.io.ByteArrayOutputStream();
+    try (var z = new java.util.zip.ZipOutputStream(bytes)) {
+      for (String name : List.of("act.npy", "bct.npy")) { // renamed to act.npy below: the JDK's writer refuses twins
+        z.putNextEntry(new java.util.zip.ZipEntry(name));
+        z.write(member);
+        z.closeEntry();
+      }
+    }
+    byte[] zip = bytes.toByteArray();
+    for (int i = 0; i + 7 <= zip.length; i++) if (new String(zip, i, 7, StandardCharsets.ISO_8859_1).equals("bct.npy")) zip[i] = 'a';
+    Path twins = Files2.write(tmp.resolve("twins.npz"), zip);
+    refused(Cli.run("add", "--index", idx.toString(), "--activations", twins.toString()), "twins.npz", "two members named 'act.npy'");
+    refused(Cli.run("nearest", "--index", idx.toString(), "--activations", twins.toString()), "twins.npz");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+  }
+
+  @Test
   void aDamagedNpzIsRefusedByItsCrc() throws Exception {
     Path idx = tmp.resolve("idx");
     Path acts = Files2.floats(tmp.resolve("acts.npy"), inputs(20, 3, new SplittableRandom(5)));

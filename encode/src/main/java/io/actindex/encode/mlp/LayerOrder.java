@@ -92,7 +92,8 @@ public final class LayerOrder {
     StringBuilder sb = new StringBuilder(chains.size() == 1 ? "the shapes allow " : "candidate orders ");
     for (int i = 0; i < Math.min(chains.size(), MAX_CANDIDATES - 1); i++) sb.append(i == 0 ? "" : " or ").append(String.join(",", chains.get(i).stream().map(BadInputException::plain).toList()));
     if (chains.size() >= MAX_CANDIDATES) sb.append(" or more");
-    return sb.append("; pass the order with --layer-order ").append(String.join(",", chains.getFirst().stream().map(BadInputException::plain).toList())).toString();
+    return sb.append(chains.size() == 1 ? "; pass it with --layer-order " + String.join(",", chains.getFirst().stream().map(BadInputException::plain).toList())
+        : "; pass the right one with --layer-order NAME,NAME,...").toString();
   }
 
   /**
