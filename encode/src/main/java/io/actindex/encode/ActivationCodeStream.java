@@ -67,9 +67,9 @@ final class ActivationCodeStream implements CodeStream {
       case MEDIAN -> {
         Map<String, double[]> m = o.medians();
         double[] med = m.get(layer);
-        if (med == null) throw new BadInputException(src.source() + ": no per-neuron medians for layer '" + layer + "' (medians given for " + m.keySet() + ")");
+        if (med == null) throw new BadInputException(src.source() + ": no per-neuron medians for layer " + BadInputException.quote(layer) + " (medians given for " + m.keySet() + ")");
         if (med.length != width)
-          throw new BadInputException(src.source() + ": layer '" + layer + "' has " + width + " neurons but its medians have " + med.length + " values");
+          throw new BadInputException(src.source() + ": layer " + BadInputException.quote(layer) + " has " + width + " neurons but its medians have " + med.length + " values");
         yield med;
       }
     };

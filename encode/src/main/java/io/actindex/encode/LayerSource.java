@@ -53,8 +53,8 @@ interface LayerSource extends AutoCloseable {
       this.owner = owner;
       for (int i = 1; i < readers.size(); i++)
         if (readers.get(i).rows() != readers.get(0).rows())
-          throw new BadInputException(source + ": layer '" + names.get(i) + "' has " + readers.get(i).rows() + " rows but layer '"
-              + names.get(0) + "' has " + readers.get(0).rows() + "; every layer needs one row per example");
+          throw new BadInputException(source + ": layer " + BadInputException.quote(names.get(i)) + " has " + readers.get(i).rows() + " rows but layer "
+              + BadInputException.quote(names.get(0)) + " has " + readers.get(0).rows() + "; every layer needs one row per example");
     }
 
     @Override
@@ -94,7 +94,7 @@ interface LayerSource extends AutoCloseable {
         MatrixReader r = readers.get(i);
         int n = floats(i) ? r.read(f[i], m) : r.read(d[i], m);
         if (got >= 0 && n != got)
-          throw new BadInputException(source + ": layer '" + names.get(i) + "' ends at row " + r.position() + ", the other layers do not");
+          throw new BadInputException(source + ": layer " + BadInputException.quote(names.get(i)) + " ends at row " + r.position() + ", the other layers do not");
         got = n;
       }
       return got;

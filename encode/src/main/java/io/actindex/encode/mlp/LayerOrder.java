@@ -186,13 +186,18 @@ public final class LayerOrder {
     return Integer.compare(a.size(), b.size());
   }
 
+  /** Layers listed in a message at most; the rest are counted. */
+  static final int MAX_LISTED = 12;
+
   private static String shapes(List<Shape> layers) {
     StringBuilder sb = new StringBuilder();
-    for (Shape s : layers) sb.append(sb.isEmpty() ? "" : ", ").append(BadInputException.plain(s.name())).append(" [").append(s.out()).append(", ").append(s.in()).append(']');
-    return sb.toString();
+    for (Shape s : layers.subList(0, Math.min(layers.size(), MAX_LISTED)))
+      sb.append(sb.isEmpty() ? "" : ", ").append(BadInputException.plain(s.name())).append(" [").append(s.out()).append(", ").append(s.in()).append(']');
+    return sb.append(layers.size() > MAX_LISTED ? ", ... (" + layers.size() + " layers)" : "").toString();
   }
 
   private static String names(java.util.Collection<String> names) {
-    return String.join(",", names.stream().map(BadInputException::plain).toList());
+    List<String> l = names.stream().limit(MAX_LISTED).map(BadInputException::plain).toList();
+    return String.join(",", l) + (names.size() > MAX_LISTED ? ",... (" + names.size() + " layers)" : "");
   }
 }
