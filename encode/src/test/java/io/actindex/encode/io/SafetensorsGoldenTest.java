@@ -23,7 +23,8 @@ import org.junit.jupiter.api.io.TempDir;
 class SafetensorsGoldenTest {
   @TempDir Path tmp;
 
-  static final Path GOLDEN = Path.of("src/test/resources/golden/torch/own_writer.safetensors");
+  /** Where {@code -Dactindex.golden.update=true} writes the golden (Maven runs tests in the module folder). */
+  static final Path SOURCE = Path.of("src/test/resources/golden/torch/own_writer.safetensors");
 
   /** The tensors of the golden file: awkward float32 values, a scalar-like 1-element tensor, a 3-D shape. */
   static Map<String, SafetensorsWriter.Tensor> tensors() {
@@ -46,13 +47,13 @@ class SafetensorsGoldenTest {
   void writerOutputIsByteIdenticalToTheFileTheReferenceReaderRead() throws IOException {
     Path f = tmp.resolve("own.safetensors");
     SafetensorsWriter.write(f, tensors(), metadata());
-    if (Boolean.getBoolean("actindex.golden.update")) Files.copy(f, GOLDEN, java.nio.file.StandardCopyOption.REPLACE_EXISTING);
-    assertThat(Files.readAllBytes(f)).isEqualTo(Files.readAllBytes(GOLDEN));
+    if (Boolean.getBoolean("actindex.golden.update")) Files.copy(f, SOURCE, java.nio.file.StandardCopyOption.REPLACE_EXISTING);
+    else assertThat(Files.readAllBytes(f)).isEqualTo(Files.readAllBytes(io.actindex.encode.Golden.path("torch/own_writer.safetensors")));
   }
 
   @Test
   void referenceReaderReadOurValues() throws IOException {
-    List<String> lines = Files.readAllLines(GOLDEN.resolveSibling("own_writer_read.txt"));
+    List<String> lines = Files.readAllLines(io.actindex.encode.Golden.path("torch/own_writer_read.txt"));
     Map<String, String> meta = new LinkedHashMap<>();
     Map<String, List<Double>> values = new LinkedHashMap<>();
     Map<String, String> shapes = new LinkedHashMap<>();
