@@ -29,36 +29,41 @@ public class BadInputException extends RuntimeException {
 
   /**
    * A value from the input, fit for a one-line message: in single quotes, at most {@link
-   * #QUOTE_CHARS} characters (then {@code ...} and the full length), with line breaks, other
-   * control characters, unpaired surrogates and the quote itself escaped ({@code \n}, {@code
-   * \x00}, {@code \u00d8}...), so that a message never carries raw newlines or binary bytes.
+   * #QUOTE_CHARS} characters, escaped by {@link #snippet}.
    */
   public static String quote(CharSequence value) {
-    if (value == null) return "(none)";
-    StringBuilder sb = new StringBuilder("'");
-    int n = Math.min(value.length(), QUOTE_CHARS);
-    if (n < value.length() && Character.isHighSurrogate(value.charAt(n - 1))) n--; // never cut a pair
+    return value == null ? "(none)" : "'" + snippet(value, QUOTE_CHARS) + "'";
+  }
+
+  /**
+   * {@code text} for a one-line message: line breaks and tabs as {@code \n}, {@code \r}, {@code
+   * \t}; other control characters, line and paragraph separators and unpaired surrogates as
+   * {@code \u0000}-style escapes, so that a message never carries raw newlines or binary bytes;
+   * cut after {@code max} characters (never inside a surrogate pair), then {@code ... (N
+   * characters)}. The one escaping routine of the project's messages.
+   */
+  public static String snippet(CharSequence text, int max) {
+    int n = Math.min(text.length(), max);
+    if (n < text.length() && n > 0 && Character.isHighSurrogate(text.charAt(n - 1))) n--; // never cut a pair
+    StringBuilder sb = new StringBuilder(n + 24);
     for (int i = 0; i < n; i++) {
-      char c = value.charAt(i);
+      char c = text.charAt(i);
       switch (c) {
         case '\n' -> sb.append("\\n");
         case '\r' -> sb.append("\\r");
         case '\t' -> sb.append("\\t");
-        case '\'' -> sb.append("\\'");
-        case '\\' -> sb.append("\\\\");
         default -> {
-          boolean pairedHigh = Character.isHighSurrogate(c) && i + 1 < value.length() && Character.isLowSurrogate(value.charAt(i + 1));
-          boolean pairedLow = Character.isLowSurrogate(c) && i > 0 && Character.isHighSurrogate(value.charAt(i - 1));
-          if (c < 0x20 || c == 0x7f) sb.append(String.format("\\x%02x", (int) c));
-          else if (Character.isISOControl(c) || c == '\ufffd' || c == '\u2028' || c == '\u2029'
+          boolean pairedHigh = Character.isHighSurrogate(c) && i + 1 < text.length() && Character.isLowSurrogate(text.charAt(i + 1));
+          boolean pairedLow = Character.isLowSurrogate(c) && i > 0 && Character.isHighSurrogate(text.charAt(i - 1));
+          int type = Character.getType(c);
+          if (Character.isISOControl(c) || type == Character.LINE_SEPARATOR || type == Character.PARAGRAPH_SEPARATOR
               || (Character.isSurrogate(c) && !pairedHigh && !pairedLow))
             sb.append(String.format("\\u%04x", (int) c));
           else sb.append(c);
         }
       }
     }
-    sb.append('\'');
-    if (value.length() > n) sb.append("... (").append(value.length()).append(" characters)");
+    if (n < text.length()) sb.append("... (").append(String.format(java.util.Locale.ROOT, "%,d", text.length())).append(" characters)");
     return sb.toString();
   }
 }
