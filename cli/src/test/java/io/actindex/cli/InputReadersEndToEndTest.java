@@ -259,16 +259,7 @@ class InputReadersEndToEndTest {
     Path acts = Files2.floats(tmp.resolve("acts.npy"), inputs(10, 3, new SplittableRandom(4)));
     assertThat(Cli.run("build", "--out", idx.toString(), "--activations", acts.toString()).code()).isZero();
     Map<String, String> before = Files2.checksums(idx);
-    byte[] member = Files.readAllBytes(acts);
-    java.io.ByteArrayOutputStream bytes = new java.io.ByteArrayOutputStream();
-    try (var z = new java.util.zip.ZipOutputStream(bytes)) {
-      for (String name : List.of("act.npy", "bct.npy")) { // renamed to act.npy below: the JDK's writer refuses twins
-        z.putNextEntry(new java.util.zip.ZipEntry(name));
-        z.write(member);
-        z.closeEntry();
-      }
-    }
-    byte[] zip = bytes.toByteArray();
+    byte[] zip = storedZip(Files.readAllBytes(acts), "act.npy", "bct.npy"); // renamed to act.npy below: the JDK's writer refuses twins
     for (int i = 0; i + 7 <= zip.length; i++) if (new String(zip, i, 7, StandardCharsets.ISO_8859_1).equals("bct.npy")) zip[i] = 'a';
     Path twins = Files2.write(tmp.resolve("twins.npz"), zip);
     refused(Cli.run("add", "--index", idx.toString(), "--activations", twins.toString()), "twins.npz", "two members named 'act.npy'");
@@ -283,19 +274,7 @@ class InputReadersEndToEndTest {
     assertThat(Cli.run("build", "--out", idx.toString(), "--activations", acts.toString()).code()).isZero();
     Map<String, String> before = Files2.checksums(idx);
     byte[] member = Files.readAllBytes(acts);
-    java.io.ByteArrayOutputStream bytes = new java.io.ByteArrayOutputStream();
-    try (var z = new java.util.zip.ZipOutputStream(bytes)) {
-      var e = new java.util.zip.ZipEntry("act.npy");
-      e.setMethod(java.util.zip.ZipEntry.STORED);
-      e.setSize(member.length);
-      var crc = new java.util.zip.CRC32();
-      crc.update(member);
-      e.setCrc(crc.getValue());
-      z.putNextEntry(e);
-      z.write(member);
-      z.closeEntry();
-    }
-    byte[] zip = bytes.toByteArray();
+    byte[] zip = storedZip(member, "act.npy");
     Path good = Files2.write(tmp.resolve("good.npz"), zip);
     Cli.Result ok = Cli.run("nearest", "--index", idx.toString(), "--activations", good.toString(), "--rows", "0", "--format", "json");
     assertThat(ok.code()).as(ok.describe()).isZero();
@@ -303,5 +282,24 @@ class InputReadersEndToEndTest {
     Path bad = Files2.write(tmp.resolve("bad.npz"), zip);
     refused(Cli.run("add", "--index", idx.toString(), "--activations", bad.toString()), "bad.npz[act]", "CRC-32");
     assertThat(Files2.checksums(idx)).isEqualTo(before);
+  }
+
+  /** A zip archive (as np.savez writes: members stored, not compressed) with {@code member} under each name. */
+  private static byte[] storedZip(byte[] member, String... names) throws java.io.IOException {
+    java.io.ByteArrayOutputStream bytes = new java.io.ByteArrayOutputStream();
+    try (var z = new java.util.zip.ZipOutputStream(bytes)) {
+      for (String name : names) {
+        var e = new java.util.zip.ZipEntry(name);
+        e.setMethod(java.util.zip.ZipEntry.STORED);
+        e.setSize(member.length);
+        var crc = new java.util.zip.CRC32();
+        crc.update(member);
+        e.setCrc(crc.getValue());
+        z.putNextEntry(e);
+        z.write(member);
+        z.closeEntry();
+      }
+    }
+    return bytes.toByteArray();
   }
 }
