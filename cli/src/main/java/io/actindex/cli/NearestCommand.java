@@ -6,6 +6,8 @@ import io.actindex.cli.format.TextTable;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Nearest;
 import io.actindex.query.QueryCodes;
+import io.actindex.query.QuerySource;
+import io.actindex.query.Refine;
 import java.io.PrintWriter;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
@@ -23,7 +25,9 @@ import picocli.CommandLine.Spec;
 /** {@code actindex nearest}: the k indexed examples nearest to each query, by Hamming distance. */
 @Command(name = "nearest", mixinStandardHelpOptions = true,
     description = {"For each query, the k indexed examples nearest by Hamming distance between codes (exact; ties by ascending id).",
-        "Shows per-layer distances, key, label, split and metadata, and the neighbours' label vote."})
+        "Shows per-layer distances, key, label, split and metadata, and the neighbours' label vote.",
+        "With --refine, the C nearest by Hamming distance (and all tied with the C-th) are re-ranked by cosine or Euclidean"
+            + " distance on the magnitudes the index keeps; the output then gives both distances."})
 final class NearestCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -37,6 +41,15 @@ final class NearestCommand implements Callable<Integer> {
       description = "Only examples whose metadata match, e.g. \"split = train and label != idle\" (syntax in the README).")
   String where;
 
+  @Option(names = "--refine", paramLabel = "METRIC",
+      description = "Re-rank the Hamming candidates by cosine or euclidean distance between the query's activations and the"
+          + " examples' kept magnitudes (index built with --magnitudes; queries from --activations or --inputs).")
+  String refine;
+
+  @Option(names = "--candidates", paramLabel = "C",
+      description = "With --refine: Hamming candidates to re-rank (all rows tied with the C-th distance are added). Default: max(100, K).")
+  Integer candidates;
+
   @Mixin LayersOption layers;
   @Mixin FormatOption format;
   @Mixin ThreadsOption threads;
@@ -45,34 +58,73 @@ final class NearestCommand implements Callable<Integer> {
   public Integer call() {
     query.check();
     if (k < 1) throw new ParameterException(spec.commandLine(), "-k must be at least 1, got " + k);
+    if (candidates != null && refine == null) throw new ParameterException(spec.commandLine(), "--candidates goes with --refine");
+    if (candidates != null && candidates < k)
+      throw new ParameterException(spec.commandLine(), "--candidates must be at least 1 and at least -k (" + k + "), got " + candidates);
+    Refine.Metric metric;
+    try {
+      metric = refine == null ? null : Refine.Metric.parse(refine);
+    } catch (io.actindex.core.BadInputException e) {
+      throw new ParameterException(spec.commandLine(), "--refine: " + e.getMessage());
+    }
     List<Nearest.Result> results;
+    List<Refine.Result> refined = null;
     try (IndexReader reader = IndexReader.open(index.dir)) {
-      QueryCodes codes = query.load(reader);
-      try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
-        results = Nearest.run(reader, codes, new Nearest.Params(k, where, layers.layers, threads.resolved()), bar);
+      if (metric == null) {
+        QueryCodes codes = query.load(reader);
+        try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
+          results = Nearest.run(reader, codes, new Nearest.Params(k, where, layers.layers, threads.resolved()), bar);
+        }
+      } else {
+        if (!reader.hasMagnitudes()) throw new io.actindex.core.BadInputException("--refine: " + Refine.noMagnitudes(reader));
+        QuerySource.Queries queries = query.loadWithActivations(reader);
+        int c = candidates != null ? candidates : Math.max(Refine.DEFAULT_CANDIDATES, k);
+        try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
+          refined = Refine.run(reader, queries, new Refine.Params(k, c, metric, where, layers.layers, threads.resolved()), bar);
+        }
+        results = new ArrayList<>();
+        for (Refine.Result r : refined)
+          results.add(new Nearest.Result(r.row(), r.neighbors().stream().map(Refine.Neighbor::example).toList(), r.vote()));
       }
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
-      case json -> json(out, results);
-      case csv -> csv(out, results);
-      case table -> table(out, results);
+      case json -> json(out, results, refined);
+      case csv -> csv(out, results, refined);
+      case table -> table(out, results, refined);
     }
     out.flush();
     return ExitCodes.OK;
   }
 
+  /** The refined distance of neighbour {@code i} of query {@code q}, as text ("" without refinement). */
+  private static String refined(List<Refine.Result> refined, int q, int i) {
+    return refined == null ? "" : String.format(java.util.Locale.ROOT, "%.6g", refined.get(q).neighbors().get(i).distance());
+  }
+
   /** The contract: {"k": K, "results": [{"query": ROW, "neighbors": [{"id", "key", "distance", ...}]}]}. */
-  private void json(PrintWriter out, List<Nearest.Result> results) {
-    JsonWriter j = new JsonWriter(out).beginObject().member("k", k).name("results").beginArray();
-    for (Nearest.Result r : results) {
-      j.beginObject().member("query", r.row()).name("neighbors").beginArray();
-      for (Nearest.Neighbor nb : r.neighbors()) {
+  private void json(PrintWriter out, List<Nearest.Result> results, List<Refine.Result> refined) {
+    JsonWriter j = new JsonWriter(out).beginObject().member("k", k);
+    if (refined != null)
+      j.name("refine").beginObject()
+          .member("metric", Refine.Metric.parse(refine).label())
+          .member("order", "re-ranking of the Hamming candidates by " + Refine.Metric.parse(refine).label()
+              + " distance on the kept magnitudes, not a float search of the whole index")
+          .endObject();
+    j.name("results").beginArray();
+    for (int q = 0; q < results.size(); q++) {
+      Nearest.Result r = results.get(q);
+      j.beginObject().member("query", r.row());
+      if (refined != null) j.member("candidates", refined.get(q).candidates()).member("hamming_radius", refined.get(q).hammingRadius());
+      j.name("neighbors").beginArray();
+      for (int i = 0; i < r.neighbors().size(); i++) {
+        Nearest.Neighbor nb = r.neighbors().get(i);
         j.beginObject()
             .member("id", nb.id())
             .member("key", nb.key())
-            .member("distance", nb.distance())
-            .name("layer_distances").beginObject();
+            .member("distance", nb.distance());
+        if (refined != null) j.member("refined_distance", refined.get(q).neighbors().get(i).distance());
+        j.name("layer_distances").beginObject();
         for (Map.Entry<String, Integer> e : nb.layerDistances().entrySet()) j.member(e.getKey(), e.getValue());
         j.endObject()
             .member("label", nb.label())
@@ -99,18 +151,22 @@ final class NearestCommand implements Callable<Integer> {
     return List.copyOf(names);
   }
 
-  private static void csv(PrintWriter out, List<Nearest.Result> results) {
+  private static void csv(PrintWriter out, List<Nearest.Result> results, List<Refine.Result> refined) {
     List<String> layerNames = layerNames(results), metaNames = metaNames(results);
     List<String> header = new ArrayList<>(List.of("query", "rank", "id", "key", "distance"));
+    if (refined != null) header.add("refined_distance");
     for (String l : layerNames) header.add("distance_" + l);
     header.addAll(List.of("label", "split"));
     header.addAll(metaNames);
     CsvWriter csv = new CsvWriter(out, header);
-    for (Nearest.Result r : results) {
+    for (int q = 0; q < results.size(); q++) {
+      Nearest.Result r = results.get(q);
       int rank = 1;
       for (Nearest.Neighbor nb : r.neighbors()) {
-        List<String> row = new ArrayList<>(List.of(Long.toString(r.row()), Integer.toString(rank++), Integer.toString(nb.id()),
+        List<String> row = new ArrayList<>(List.of(Long.toString(r.row()), Integer.toString(rank), Integer.toString(nb.id()),
             nb.key(), Integer.toString(nb.distance())));
+        if (refined != null) row.add(refined(refined, q, rank - 1));
+        rank++;
         for (String l : layerNames) row.add(str(nb.layerDistances().get(l)));
         row.add(nb.label());
         row.add(nb.split());
@@ -120,7 +176,7 @@ final class NearestCommand implements Callable<Integer> {
     }
   }
 
-  private static void table(PrintWriter out, List<Nearest.Result> results) {
+  private void table(PrintWriter out, List<Nearest.Result> results, List<Refine.Result> refined) {
     List<String> layerNames = layerNames(results), metaNames = metaNames(results);
     boolean labels = false, splits = false;
     for (Nearest.Result r : results)
@@ -129,7 +185,8 @@ final class NearestCommand implements Callable<Integer> {
         splits |= nb.split() != null;
       }
     boolean first = true;
-    for (Nearest.Result r : results) {
+    for (int q = 0; q < results.size(); q++) {
+      Nearest.Result r = results.get(q);
       if (!first) out.println();
       first = false;
       StringBuilder head = new StringBuilder("query row " + r.row());
@@ -138,8 +195,13 @@ final class NearestCommand implements Callable<Integer> {
         head.append("  vote: ").append(r.vote().label()).append(" (").append(r.vote().votes()).append(" of ")
             .append(r.vote().labeled()).append(", agreement ").append(Units.percent(r.vote().agreement())).append(')');
       out.println(head);
+      if (refined != null)
+        out.println("  order: re-ranked by " + Refine.Metric.parse(refine).label() + " distance on the kept magnitudes among "
+            + refined.get(q).candidates() + " Hamming candidates (Hamming distance <= " + refined.get(q).hammingRadius() + ")");
       if (r.neighbors().isEmpty()) continue;
       List<String> header = new ArrayList<>(List.of("rank", "distance"));
+      if (refined != null) header.set(1, "hamming");
+      if (refined != null) header.add(1, Refine.Metric.parse(refine).label());
       header.addAll(layerNames); // per-layer distances, one column per layer
       header.add("key");
       if (labels) header.add("label");
@@ -148,7 +210,9 @@ final class NearestCommand implements Callable<Integer> {
       TextTable t = new TextTable(header);
       int rank = 1;
       for (Nearest.Neighbor nb : r.neighbors()) {
-        List<String> row = new ArrayList<>(List.of(Integer.toString(rank++), Integer.toString(nb.distance())));
+        List<String> row = new ArrayList<>(List.of(Integer.toString(rank), Integer.toString(nb.distance())));
+        if (refined != null) row.add(1, refined(refined, q, rank - 1));
+        rank++;
         for (String l : layerNames) row.add(str(nb.layerDistances().get(l)));
         row.add(nb.key());
         if (labels) row.add(nb.label());

@@ -51,6 +51,13 @@ public final class QuerySourceOptions {
     return RowRange.parse(rows);
   }
 
+  /** The query codes and activations (for refinement), with a progress bar on a terminal. */
+  QuerySource.Queries loadWithActivations(IndexReader reader) {
+    try (Progress bar = Progress.onTerminal(mixee.commandLine().getErr(), "encoding queries")) {
+      return QuerySource.loadWithActivations(reader, toSource(), range(), bar);
+    }
+  }
+
   /** The query codes, encoded as the index was built, with a progress bar on a terminal. */
   QueryCodes load(IndexReader reader) {
     try (Progress bar = Progress.onTerminal(mixee.commandLine().getErr(), "encoding queries")) {

@@ -28,6 +28,15 @@ public interface CodeStream extends AutoCloseable {
     return null;
   }
 
+  /**
+   * The activations the last chunk of {@link #next} was binarized from, row-major, one value per
+   * code bit in layout order (rows {@code 0..chunk size-1}); null for pre-binarized codes. The
+   * array is the stream's own, valid until the next call of {@code next}.
+   */
+  default float[] lastActivations() {
+    return null;
+  }
+
   @Override
   void close() throws IOException;
 }

@@ -4,7 +4,6 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
-import io.actindex.index.meta.MetaStore;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
 import java.util.Comparator;
@@ -12,10 +11,6 @@ import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import java.util.concurrent.ExecutionException;
-import java.util.concurrent.ExecutorService;
-import java.util.concurrent.Executors;
-import java.util.concurrent.Future;
 import org.roaringbitmap.RoaringBitmap;
 
 /**
@@ -70,35 +65,9 @@ public final class Nearest {
     long[] mask = Layers.maskOrNull(layout, p.layers());
     long[][] segMasks = Layers.segmentMasks(layout);
     RoaringBitmap filter = Where.select(reader.meta(), p.where());
-    Progress prog = progress == null ? Progress.NONE : progress;
     int n = queries.size();
     Result[] out = new Result[n];
-    Object lock = new Object();
-    long[] done = {0};
-    java.util.function.IntConsumer one = i -> {
-      out[i] = one(reader, queries, i, p.k(), filter, mask, shown, segMasks);
-      synchronized (lock) {
-        prog.update(++done[0], n);
-      }
-    };
-    if (p.threads() == 1 || n <= 1) {
-      for (int i = 0; i < n; i++) one.accept(i);
-    } else {
-      try (ExecutorService pool = Executors.newFixedThreadPool(Math.min(p.threads(), n))) {
-        List<Future<?>> futures = new ArrayList<>();
-        for (int i = 0; i < n; i++) {
-          int q = i;
-          futures.add(pool.submit(() -> one.accept(q)));
-        }
-        for (Future<?> f : futures) f.get();
-      } catch (InterruptedException e) {
-        Thread.currentThread().interrupt();
-        throw new IllegalStateException("interrupted", e);
-      } catch (ExecutionException e) {
-        if (e.getCause() instanceof RuntimeException re) throw re;
-        throw new IllegalStateException(e.getCause());
-      }
-    }
+    Parallel.forEach(n, p.threads(), progress, i -> out[i] = one(reader, queries, i, p.k(), filter, mask, shown, segMasks));
     return List.of(out);
   }
 
@@ -106,21 +75,22 @@ public final class Nearest {
       int[] shown, long[][] segMasks) {
     long[] q = queries.codes().code(i);
     Hits hits = reader.knn(q, k, filter, mask);
-    CodeLayout layout = reader.layout();
-    MetaStore meta = reader.meta();
     List<Neighbor> list = new ArrayList<>(hits.size());
-    for (int h = 0; h < hits.size(); h++) {
-      int id = hits.ord(h);
-      long[] code = reader.code(id);
-      Map<String, Integer> perLayer = new LinkedHashMap<>();
-      for (int s : shown)
-        perLayer.put(layout.segments().get(s).name(), Hamming.maskedDistance(q, 0, code, 0, segMasks[s], q.length));
-      Map<String, String> doc = new LinkedHashMap<>(meta.document(id));
-      String key = doc.remove("key"), label = doc.remove("label"), split = doc.remove("split");
-      doc.remove("id");
-      list.add(new Neighbor(id, key, hits.dist(h), perLayer, label, split, doc));
-    }
+    for (int h = 0; h < hits.size(); h++) list.add(neighbor(reader, q, hits.ord(h), hits.dist(h), shown, segMasks));
     return new Result(queries.row(i), List.copyOf(list), vote(list));
+  }
+
+  /** Live id {@code id} at Hamming distance {@code distance} from {@code q}, with its metadata. */
+  static Neighbor neighbor(IndexReader reader, long[] q, int id, int distance, int[] shown, long[][] segMasks) {
+    CodeLayout layout = reader.layout();
+    long[] code = reader.code(id);
+    Map<String, Integer> perLayer = new LinkedHashMap<>();
+    for (int s : shown)
+      perLayer.put(layout.segments().get(s).name(), Hamming.maskedDistance(q, 0, code, 0, segMasks[s], q.length));
+    Map<String, String> doc = new LinkedHashMap<>(reader.meta().document(id));
+    String key = doc.remove("key"), label = doc.remove("label"), split = doc.remove("split");
+    doc.remove("id");
+    return new Neighbor(id, key, distance, perLayer, label, split, doc);
   }
 
   /** The label vote of some neighbours, or null when none has a label. */
