@@ -258,8 +258,8 @@ public final class Fidelity {
     else v.append("Hamming neighbours mostly differ from cosine neighbours on the floats.");
     v.append(String.format(java.util.Locale.ROOT, " Overlap %.2f, Spearman %.2f.", overlap, rho));
     if (tied >= 0.2)
-      v.append(String.format(java.util.Locale.ROOT, " %.0f%% of queries are tied at the %d-th Hamming distance, so the order among ties"
-          + " (ascending id) decides part of the answer.", 100 * tied, k));
+      v.append(String.format(java.util.Locale.ROOT, " %.0f%% of queries have more than %d rows within the Hamming distance of their"
+          + " neighbour number %d, so the order among ties (ascending id) decides part of the answer.", 100 * tied, k, k));
     v.append(" Measured on this data only: check again on data like your use.");
     return v.toString();
   }
@@ -356,7 +356,7 @@ public final class Fidelity {
   private static double euclidean(float[] v, int a, int b, int d) {
     double s = 0;
     for (int j = 0; j < d; j++) {
-      double x = v[a * d + j] - v[b * d + j];
+      double x = (double) v[a * d + j] - v[b * d + j];
       s += x * x;
     }
     return Math.sqrt(s);

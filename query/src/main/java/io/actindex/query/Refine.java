@@ -177,7 +177,7 @@ public final class Refine {
       double s = 0;
       for (int t = 0; t < n; t++) {
         int j = units == null ? t : units[t];
-        double x = a[j] - b[j];
+        double x = (double) a[j] - b[j];
         s += x * x;
       }
       return Math.sqrt(s);
