@@ -47,8 +47,9 @@ class DigitsRefineTest {
     double plainAt8 = -1, refinedAt8 = -1;
     for (int bits : new int[] {8, 4, 2}) {
       Path dir = tmp.resolve("idx" + bits);
-      IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.inputs(train, model), MetaCsv.Options.of(metaCsv), null, null, 0,
-          bits), null);
+      IndexBuilder.Result built = IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.inputs(train, model),
+          MetaCsv.Options.of(metaCsv), null, null, 0, bits), null);
+      System.out.println("digits kept magnitudes: " + built.magnitudes());
       try (IndexReader r = IndexReader.open(dir)) {
         QuerySource.Queries q = QuerySource.loadWithActivations(r, Source.inputs(test, null), RowRange.ALL, null);
         List<Nearest.Result> plain = Nearest.run(r, q.codes(), new Nearest.Params(1, null, null, 2), null);
