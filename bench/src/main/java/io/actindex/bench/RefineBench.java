@@ -1,9 +1,8 @@
 package io.actindex.bench;
 
 import io.actindex.core.CodeBlock;
-import io.actindex.core.CodeSearcher;
 import io.actindex.core.Hits;
-import io.actindex.index.mih.Searchers;
+import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.Magnitudes;
 import io.actindex.query.Refine;
 import java.util.Map;
@@ -22,12 +21,14 @@ import org.openjdk.jmh.annotations.State;
 import org.openjdk.jmh.annotations.Warmup;
 
 /**
- * The cost of refining: exact Hamming k-NN with the planner ({@code candidates = 0}, the baseline
- * of the same run) against the refined search of {@link Refine}: the {@code candidates} nearest
- * (plus every code tied with the last), each dequantised from 8-bit kept magnitudes and re-ranked
- * by cosine distance to the query's float activations. relu data (codes and activations of the
- * same examples), one query per call, one thread. Setup records the mean number of candidates
- * re-ranked (ties included) and the bytes per example of the magnitudes.
+ * The cost of refining, on the on-disk index ({@link IndexReader}, the cached store of the relu
+ * codes): plain exact Hamming k-NN ({@code candidates = 0}, the baseline of the same run) against
+ * the refined search of {@link Refine}: the {@code candidates} nearest plus every code tied with the
+ * last ({@link IndexReader#knnWithTies}), each dequantised from 8-bit magnitudes (held in memory
+ * here) and re-ranked by cosine distance to the query's float activations. relu data (codes and activations of the
+ * same examples), one query per call, one thread. {@link #candidatesOnly} times the candidate
+ * search alone (the C nearest and their ties), so the cost can be split. Setup records the mean number of candidates re-ranked (ties
+ * included, over 256 queries) and the bytes per example of the magnitudes.
  */
 @State(Scope.Benchmark)
 @Fork(value = 1, jvmArgsAppend = {"-Xms2g", "-Xmx8g", "--add-modules=jdk.incubator.vector"})
@@ -50,7 +51,7 @@ public class RefineBench {
   @Param({"0", "100", "1000"})
   public int candidates;
 
-  private CodeSearcher index;
+  private IndexReader index;
   private Magnitudes mags;
   private long[][] pool;
   private float[][] poolActs;
@@ -59,7 +60,7 @@ public class RefineBench {
   @Setup(Level.Trial)
   public void setup() {
     CodeBlock codes = BenchData.codes("relu", n, bits);
-    index = Searchers.build(codes);
+    index = IndexReader.open(CodeContenders.storeDir("relu", codes));
     mags = Magnitudes.quantise(BenchData.activations(n, bits), n, bits, 8);
     BenchData.Queries q = BenchData.queries("relu", queries, n, bits);
     pool = q.codeArrays();
@@ -67,17 +68,21 @@ public class RefineBench {
     buf = new float[bits];
     if (candidates > 0) {
       long total = 0;
-      for (long[] query : pool) total += candidates(query).size();
+      for (int i = 0; i < 256; i++) total += candidates(pool[i]).size();
       String key = Facts.key("refine", Map.of("n", "" + n, "bits", "" + bits, "queries", queries, "k", "" + k,
           "candidates", "" + candidates));
-      Facts.put(key, "mean_candidates", total / (double) pool.length);
+      Facts.put(key, "mean_candidates", total / 256.0);
       Facts.put(key, "magnitude_bytes", (double) Magnitudes.rowBytes(bits, 8));
     }
   }
 
   private Hits candidates(long[] q) {
-    Hits h = index.knn(q, candidates);
-    return h.size() < candidates ? h : index.radius(q, h.dist(candidates - 1));
+    return Refine.candidates(index, q, candidates, null, null);
+  }
+
+  @org.openjdk.jmh.annotations.TearDown(Level.Trial)
+  public void close() {
+    index.close();
   }
 
   @Benchmark
@@ -85,8 +90,16 @@ public class RefineBench {
   @OutputTimeUnit(TimeUnit.MICROSECONDS)
   public Object search(QueryCursor c) {
     int i = c.next(pool.length);
-    if (candidates == 0) return index.knn(pool[i], k);
+    if (candidates == 0) return index.knn(pool[i], k, null, null);
     return Refine.rerank(candidates(pool[i]), poolActs[i], (id, out) -> mags.dequantise(id, out, 0), buf, Refine.Metric.COSINE,
         null, k);
+  }
+
+  @Benchmark
+  @BenchmarkMode(Mode.SampleTime)
+  @OutputTimeUnit(TimeUnit.MICROSECONDS)
+  public Object candidatesOnly(QueryCursor c) {
+    int i = c.next(pool.length);
+    return candidates == 0 ? index.knn(pool[i], k, null, null) : candidates(pool[i]);
   }
 }
