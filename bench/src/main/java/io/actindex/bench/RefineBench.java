@@ -24,7 +24,7 @@ import org.openjdk.jmh.annotations.Warmup;
  * The cost of refining, on the on-disk index ({@link IndexReader}, the cached store of the relu
  * codes): plain exact Hamming k-NN ({@code candidates = 0}, the baseline of the same run) against
  * the refined search of {@link Refine}: the {@code candidates} nearest plus every code tied with the
- * last ({@link IndexReader#knnWithTies}), each dequantised from 8-bit magnitudes (held in memory
+ * last ({@link Refine#candidates}: k-NN of C, then the radius search at the C-th distance), each dequantised from 8-bit magnitudes (held in memory
  * here) and re-ranked by cosine distance to the query's float activations. relu data (codes and activations of the
  * same examples), one query per call, one thread. {@link #candidatesOnly} times the candidate
  * search alone (the C nearest and their ties), so the cost can be split. Setup records the mean number of candidates re-ranked (ties

@@ -134,7 +134,9 @@ public final class Refine {
    * with the {@code c}-th distance, sorted by (distance, id).
    */
   public static Hits candidates(IndexReader reader, long[] q, int c, RoaringBitmap filter, long[] mask) {
-    return reader.knnWithTies(q, c, filter, mask);
+    Hits h = reader.knn(q, c, filter, mask);
+    if (h.size() < c) return h;
+    return reader.radius(q, h.dist(c - 1), filter, mask);
   }
 
   /**

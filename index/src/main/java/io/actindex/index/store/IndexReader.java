@@ -3,7 +3,6 @@ package io.actindex.index.store;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
-import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
 import io.actindex.core.TopK;
 import io.actindex.index.meta.MetaStore;
@@ -232,41 +231,6 @@ public final class IndexReader implements AutoCloseable {
       for (int i = 0; i < h.size(); i++) top.offer(s.id(h.ord(i)), h.dist(i));
     }
     return top.toHits();
-  }
-
-  /**
-   * The {@code k} nearest live codes (in {@code filter} if not null; {@code mask} as in {@link #knn})
-   * and every code tied with the {@code k}-th distance, sorted by (distance, id), in one pass over
-   * every segment's codes (cheaper than {@link #knn} then {@link #radius} when {@code k} is in the
-   * hundreds, where neither can use the tables well).
-   */
-  public Hits knnWithTies(long[] query, int k, RoaringBitmap filter, long[] mask) {
-    checkQuery(query, mask);
-    if (k <= 0) return Hits.EMPTY;
-    int w = manifest.layout().words(), total = 0;
-    for (Segment s : segments) total += s.size();
-    int[] ids = new int[total], dists = new int[total], count = new int[manifest.layout().bits() + 1];
-    int m = 0;
-    for (Segment s : segments) {
-      long[] words = s.codes().words();
-      IntPredicate accept = accept(s, filter);
-      for (int o = 0; o < s.size(); o++) {
-        if (accept != null && !accept.test(o)) continue;
-        int d = mask == null ? Hamming.distance(query, 0, words, o * w, w) : Hamming.maskedDistance(query, 0, words, o * w, mask, w);
-        ids[m] = s.id(o);
-        dists[m++] = d;
-        count[d]++;
-      }
-    }
-    int kth = 0;
-    for (int seen = count[0]; seen < Math.min(k, m); seen += count[++kth]) {}
-    int kept = 0;
-    for (int i = 0; i < m; i++)
-      if (dists[i] <= kth) {
-        ids[kept] = ids[i];
-        dists[kept++] = dists[i];
-      }
-    return Hits.sorted(ids, dists, kept);
   }
 
   /** Every live code (in {@code filter} if not null) at distance {@code <= radius}, sorted by (distance, id). */
