@@ -134,9 +134,7 @@ public final class Refine {
    * with the {@code c}-th distance, sorted by (distance, id).
    */
   public static Hits candidates(IndexReader reader, long[] q, int c, RoaringBitmap filter, long[] mask) {
-    Hits h = reader.knn(q, c, filter, mask);
-    if (h.size() < c) return h;
-    return reader.radius(q, h.dist(c - 1), filter, mask);
+    return Nearest.withTies(reader, q, c, filter, mask);
   }
 
   /**
