@@ -133,9 +133,15 @@ public final class Magnitudes {
 
   /** Writes the dequantised row {@code ord} to {@code out[off .. off+units)}. */
   public void dequantise(int ord, float[] out, int off) {
-    int perByte = 8 / bits, mask = (1 << bits) - 1, base = ord * rowBytes;
+    int base = ord * rowBytes;
+    if (bits == 8) {
+      for (int j = 0; j < units; j++) out[off + j] = lo[j] + (data[base + j] & 0xff) * step[j];
+      return;
+    }
+    // 2 or 4 bits: unit j in byte j >>> perByteShift at bit (j & (perByte-1)) * bits; shifts, no division
+    int perByteShift = bits == 4 ? 1 : 2, slotMask = (1 << perByteShift) - 1, bitShift = bits == 4 ? 2 : 1, mask = (1 << bits) - 1;
     for (int j = 0; j < units; j++) {
-      int q = (data[base + j / perByte] >>> ((j % perByte) * bits)) & mask;
+      int q = (data[base + (j >>> perByteShift)] >>> ((j & slotMask) << bitShift)) & mask;
       out[off + j] = lo[j] + q * step[j];
     }
   }
