@@ -121,7 +121,7 @@ public final class Fidelity {
           any ? labels : null, null, 0);
     }
     QuerySource.Encoded enc = QuerySource.encode(r, Source.inputs(inputs, null), RowRange.ALL, Encoding.CHUNK, progress,
-        "inputs", true);
+        "inputs", new java.util.ArrayList<>(), true);
     if (enc.codes().size() != r.maxId())
       throw new BadInputException(inputs + ": " + enc.codes().size() + " rows, but index " + r.dir() + " was built from "
           + r.maxId() + " rows; give the inputs the index was built from, in id order");

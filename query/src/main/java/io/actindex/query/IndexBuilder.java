@@ -78,13 +78,24 @@ public final class IndexBuilder {
   }
 
   /**
-   * What was written: ids {@code [firstId, firstId + rows)} in the layout {@code layout};
+   * What was written: ids {@code [firstId, firstId + rows)} in the layout {@code layout}; {@code
+   * notes} say how the source was read (CSV header decision, a model's layer order, code layers
+   * and output layer); {@code encode} are the options in force (null for a codes file);
    * {@code magnitudes} says how the kept magnitudes compare with the float32 activations (null
    * when none were kept).
    */
-  public record Result(int firstId, int rows, CodeLayout layout, Quantisation magnitudes) {
+  public record Result(int firstId, int rows, CodeLayout layout, List<String> notes, EncodeOptions encode,
+      Quantisation magnitudes) {
+    public Result {
+      notes = notes == null ? List.of() : List.copyOf(notes);
+    }
+
+    public Result(int firstId, int rows, CodeLayout layout, List<String> notes, EncodeOptions encode) {
+      this(firstId, rows, layout, notes, encode, null);
+    }
+
     public Result(int firstId, int rows, CodeLayout layout) {
-      this(firstId, rows, layout, null);
+      this(firstId, rows, layout, null, null, null);
     }
   }
 
@@ -118,7 +129,7 @@ public final class IndexBuilder {
     if (p.source().kind() == Source.Kind.INPUTS && p.source().model() == null)
       throw new BadInputException(p.source().file() + ": building from inputs needs a model file");
     checkEmptyOrAbsent(p.dir());
-    Encoding.Read read = Encoding.read(p.source(), p.source().model(), p.encode(), p.codesLayout(), RowRange.ALL,
+    Encoding.Read read = Encoding.read(p.source(), Encoding.Model.of(p.source().model()), p.encode(), p.codesLayout(), RowRange.ALL,
         chunk(p.chunkRows()), orNone(progress), p.magnitudeBits() > 0);
     CodeBlock raw = read.codes();
     CodeBlock codes = keepLayers(raw, p.encode().layers());
@@ -145,7 +156,8 @@ public final class IndexBuilder {
     try (IndexWriter w = created) {
       if (model != null) w.putAttachment(BuildInfo.MODEL, model);
       int first = w.add(codes, mags, meta);
-      return new Result(first, codes.size(), codes.layout(), mags == null ? null : Quantisation.of(mags, values));
+      return new Result(first, codes.size(), codes.layout(), read.notes(), read.options(),
+          mags == null ? null : Quantisation.of(mags, values));
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e);
       throw e;
@@ -155,10 +167,13 @@ public final class IndexBuilder {
   public static Result add(AddParams p, Progress progress) {
     CodeBlock codes;
     List<Map<String, String>> meta;
+    List<String> notes = new ArrayList<>();
+    EncodeOptions encode;
     Magnitudes mags = null;
     float[] values = null;
     try (IndexReader r = IndexReader.open(p.dir())) {
       int bits = magnitudeBits(r);
+      encode = p.source().kind() == Source.Kind.CODES ? null : BuildInfo.fromProperties(r.properties(), p.dir().toString()).encode();
       if (p.source().kind() == Source.Kind.INPUTS && p.source().model() != null) {
         byte[] stored = r.attachment(BuildInfo.MODEL);
         if (stored != null && !Arrays.equals(stored, readAll(p.source().model())))
@@ -167,7 +182,7 @@ public final class IndexBuilder {
       if (bits > 0 && p.source().kind() == Source.Kind.CODES)
         throw new BadInputException(p.source().file() + ": the index keeps magnitudes beside its codes; add activations or inputs, not codes");
       QuerySource.Encoded enc = QuerySource.encode(r, p.source(), RowRange.ALL, chunk(p.chunkRows()), orNone(progress),
-          "rows to add", bits > 0);
+          "rows to add", notes, bits > 0);
       codes = enc.codes();
       if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
       if (bits > 0) {
@@ -184,7 +199,7 @@ public final class IndexBuilder {
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       int first = w.add(codes, mags, meta);
-      return new Result(first, codes.size(), codes.layout(), mags == null ? null : Quantisation.of(mags, values));
+      return new Result(first, codes.size(), codes.layout(), notes, encode, mags == null ? null : Quantisation.of(mags, values));
     }
   }
 
