@@ -92,7 +92,7 @@ public final class Compare {
     }
 
     public static Options defaults() {
-      return new Options(1000, 42, null, 0.05, 10, 2000, 3000, 4000, 0.05, 500, 1e-6, 1);
+      return new Options(1000, 42, null, 0.05, 10, 2000, 3000, 4000, 0.05, 1000, 1e-5, 1);
     }
   }
 
