@@ -133,12 +133,10 @@ public final class PairDistances {
     return 2 * sAA / (a * (a - 1)) + 2 * sBB / (b * (b - 1)) - 2 * sAB / (a * b);
   }
 
-  /** The kernel matrix of the whole code for a kernel of the distance (one table lookup per pair). */
+  /** The kernel matrix of the whole code for a kernel of the distance (the distances and a table of values). */
   public KernelMatrix kernel(DoubleUnaryOperator kernelOfDistance) {
     double[] table = new double[viewBits[0] + 1];
     for (int d = 0; d < table.length; d++) table[d] = kernelOfDistance.applyAsDouble(d);
-    double[] k = new double[n * n];
-    for (int i = 0; i < k.length; i++) k[i] = table[dist[i]];
-    return new KernelMatrix(n, k);
+    return new KernelMatrix(n, dist, table);
   }
 }
