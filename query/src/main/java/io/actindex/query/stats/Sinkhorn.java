@@ -32,46 +32,29 @@ public final class Sinkhorn {
    */
   public static Result solve(int m, int n, char[] index, double[] cost, double epsilon, int maxIter, double tol, int threads) {
     if (!(epsilon > 0)) throw new IllegalArgumentException("epsilon must be positive");
-    double[] f = new double[m], g = new double[n];
-    double logA = Math.log(1.0 / m), logB = Math.log(1.0 / n);
+    char[] transposed = new char[index.length];
+    for (int i = 0; i < m; i++) for (int j = 0; j < n; j++) transposed[j * m + i] = index[i * n + j];
     double[] scaled = new double[cost.length]; // C / eps
     for (int c = 0; c < cost.length; c++) scaled[c] = cost[c] / epsilon;
-    double[] fe = new double[m], ge = new double[n]; // potentials / eps
+    double[] f = new double[m], g = new double[n]; // potentials / eps
+    double[] lseCols = new double[n];
     int it = 0;
     double err = Double.POSITIVE_INFINITY;
     while (it < maxIter) {
       it++;
-      // rows: f_i = eps log a_i - eps LSE_j (g_j - C_ij) / eps
-      Parallel.forRange(threads, m, (from, to) -> {
-        for (int i = from; i < to; i++) {
-          double mx = Double.NEGATIVE_INFINITY, s = 0;
-          int base = i * n;
-          for (int j = 0; j < n; j++) {
-            double x = ge[j] - scaled[index[base + j]];
-            if (x > mx) {
-              s = s * Math.exp(mx - x) + 1;
-              mx = x;
-            } else if (x - mx > CUT) {
-              s += Math.exp(x - mx);
-            }
-          }
-          fe[i] = logA - (mx + Math.log(s));
-        }
-      });
-      // columns: the same with the roles swapped; the columns' marginal before the update is the error
-      double[] colMax = new double[n], colSum = new double[n];
-      columnLse(m, n, index, scaled, fe, colMax, colSum, threads);
+      // f_i = log a_i - LSE_j (g_j - C_ij / eps): rows' marginals become exact
+      logSumExp(m, n, index, scaled, g, f, threads);
+      for (int i = 0; i < m; i++) f[i] = Math.log(1.0 / m) - f[i];
+      // the columns' marginal before their update is the error; then g_j = log b_j - LSE_i (f_i - C_ij / eps)
+      logSumExp(n, m, transposed, scaled, f, lseCols, threads);
       double e = 0;
       for (int j = 0; j < n; j++) {
-        double lse = colMax[j] + Math.log(colSum[j]);
-        e += Math.abs(Math.exp(ge[j] + lse) - 1.0 / n);
-        ge[j] = logB - lse;
+        e += Math.abs(Math.exp(g[j] + lseCols[j]) - 1.0 / n);
+        g[j] = Math.log(1.0 / n) - lseCols[j];
       }
       err = e;
       if (err < tol) break;
     }
-    for (int i = 0; i < m; i++) f[i] = fe[i];
-    for (int j = 0; j < n; j++) g[j] = ge[j];
     double[] partial = new double[m];
     Parallel.forRange(threads, m, (from, to) -> {
       for (int i = from; i < to; i++) {
@@ -80,7 +63,7 @@ public final class Sinkhorn {
         for (int j = 0; j < n; j++) {
           int c = index[base + j];
           double x = f[i] + g[j] - scaled[c];
-          if (x > CUT - 40) s += Math.exp(x) * cost[c];
+          if (x > 2 * CUT) s += Math.exp(x) * cost[c];
         }
         partial[i] = s;
       }
@@ -90,35 +73,36 @@ public final class Sinkhorn {
     return new Result(total, epsilon, it, err, err < tol);
   }
 
-  /** Per column: a running (max, sum of exp(x - max)) over the rows, merged across chunks. */
-  private static void columnLse(int m, int n, char[] index, double[] scaled, double[] fe, double[] colMax, double[] colSum,
-      int threads) {
-    java.util.Arrays.fill(colMax, Double.NEGATIVE_INFINITY);
-    Object lock = new Object();
-    Parallel.forRange(threads, m, (from, to) -> {
-      double[] mx = new double[n], s = new double[n];
-      java.util.Arrays.fill(mx, Double.NEGATIVE_INFINITY);
+  /**
+   * {@code out[i] = log sum_j exp(p[j] - scaled[index[i * cols + j]])} for each of {@code rows}
+   * rows. With {@code G = max p} and the row's largest term {@code M}, each term is {@code
+   * exp(p[j] - G) * exp(G - scaled[c] - M)}: one exponential per column and one per cost class
+   * and row, not one per pair. When {@code G - M} is too large for that product to stay in range
+   * (a term could overflow), the row takes one exponential per pair.
+   */
+  private static void logSumExp(int rows, int cols, char[] index, double[] scaled, double[] p, double[] out, int threads) {
+    double top = Double.NEGATIVE_INFINITY;
+    for (double x : p) top = Math.max(top, x);
+    double g = top;
+    double[] w = new double[cols];
+    for (int j = 0; j < cols; j++) w[j] = Math.exp(p[j] - g);
+    Parallel.forRange(threads, rows, (from, to) -> {
+      double[] t = new double[scaled.length];
       for (int i = from; i < to; i++) {
-        int base = i * n;
-        double fi = fe[i];
-        for (int j = 0; j < n; j++) {
-          double x = fi - scaled[index[base + j]];
-          double mj = mx[j];
-          if (x > mj) {
-            s[j] = s[j] * Math.exp(mj - x) + 1;
-            mx[j] = x;
-          } else if (x - mj > CUT) {
-            s[j] += Math.exp(x - mj);
+        int base = i * cols;
+        double mx = Double.NEGATIVE_INFINITY;
+        for (int j = 0; j < cols; j++) mx = Math.max(mx, p[j] - scaled[index[base + j]]);
+        double s = 0;
+        if (g - mx <= 700) {
+          for (int c = 0; c < t.length; c++) t[c] = Math.exp(g - scaled[c] - mx);
+          for (int j = 0; j < cols; j++) s += w[j] * t[index[base + j]];
+        } else {
+          for (int j = 0; j < cols; j++) {
+            double x = p[j] - scaled[index[base + j]] - mx;
+            if (x > CUT) s += Math.exp(x);
           }
         }
-      }
-      synchronized (lock) {
-        for (int j = 0; j < n; j++) {
-          if (s[j] == 0) continue;
-          double a = colMax[j], b = mx[j], top = Math.max(a, b);
-          colSum[j] = (a == Double.NEGATIVE_INFINITY ? 0 : colSum[j] * Math.exp(a - top)) + s[j] * Math.exp(b - top);
-          colMax[j] = top;
-        }
+        out[i] = mx + Math.log(s);
       }
     });
   }
