@@ -43,10 +43,10 @@ public final class Sinkhorn {
     while (it < maxIter) {
       it++;
       // f_i = log a_i - LSE_j (g_j - C_ij / eps): rows' marginals become exact
-      logSumExp(m, n, index, scaled, g, f, threads);
+      logSumExp(m, n, index, scaled, g, null, f, threads);
       for (int i = 0; i < m; i++) f[i] = Math.log(1.0 / m) - f[i];
       // the columns' marginal before their update is the error; then g_j = log b_j - LSE_i (f_i - C_ij / eps)
-      logSumExp(n, m, transposed, scaled, f, lseCols, threads);
+      logSumExp(n, m, transposed, scaled, f, null, lseCols, threads);
       double e = 0;
       for (int j = 0; j < n; j++) {
         e += Math.abs(Math.exp(g[j] + lseCols[j]) - 1.0 / n);
@@ -55,32 +55,24 @@ public final class Sinkhorn {
       err = e;
       if (err < tol) break;
     }
-    double[] partial = new double[m];
-    Parallel.forRange(threads, m, (from, to) -> {
-      for (int i = from; i < to; i++) {
-        double s = 0;
-        int base = i * n;
-        for (int j = 0; j < n; j++) {
-          int c = index[base + j];
-          double x = f[i] + g[j] - scaled[c];
-          if (x > 2 * CUT) s += Math.exp(x) * cost[c];
-        }
-        partial[i] = s;
-      }
-    });
+    // <P, C> = sum_i exp(f_i) sum_j exp(g_j - C_ij / eps) C_ij
+    double[] rowCost = new double[m];
+    logSumExp(m, n, index, scaled, g, cost, rowCost, threads);
     double total = 0;
-    for (double p : partial) total += p;
+    for (int i = 0; i < m; i++) total += Math.exp(f[i] + rowCost[i]);
     return new Result(total, epsilon, it, err, err < tol);
   }
 
   /**
-   * {@code out[i] = log sum_j exp(p[j] - scaled[index[i * cols + j]])} for each of {@code rows}
-   * rows. With {@code G = max p} and the row's largest term {@code M}, each term is {@code
+   * {@code out[i] = log sum_j exp(p[j] - scaled[c]) weight[c]}, {@code c = index[i * cols + j]}, for
+   * each of {@code rows} rows ({@code weight} null = 1). With {@code G = max p} and the row's largest term {@code M}, each term is {@code
    * exp(p[j] - G) * exp(G - scaled[c] - M)}: one exponential per column and one per cost class
    * and row, not one per pair. When {@code G - M} is too large for that product to stay in range
-   * (a term could overflow), the row takes one exponential per pair.
+   * (a term could overflow; above 680), the row takes one exponential per pair. A column whose
+   * {@code exp(p[j] - G)} underflows then contributes under e^-65 of the row's largest term.
    */
-  private static void logSumExp(int rows, int cols, char[] index, double[] scaled, double[] p, double[] out, int threads) {
+  private static void logSumExp(int rows, int cols, char[] index, double[] scaled, double[] p, double[] weight, double[] out,
+      int threads) {
     double top = Double.NEGATIVE_INFINITY;
     for (double x : p) top = Math.max(top, x);
     double g = top;
@@ -93,13 +85,13 @@ public final class Sinkhorn {
         double mx = Double.NEGATIVE_INFINITY;
         for (int j = 0; j < cols; j++) mx = Math.max(mx, p[j] - scaled[index[base + j]]);
         double s = 0;
-        if (g - mx <= 700) {
-          for (int c = 0; c < t.length; c++) t[c] = Math.exp(g - scaled[c] - mx);
+        if (g - mx <= 680) { // then t[c] * weight[c] <= e^680 * 2^32 stays finite
+          for (int c = 0; c < t.length; c++) t[c] = Math.exp(g - scaled[c] - mx) * (weight == null ? 1 : weight[c]);
           for (int j = 0; j < cols; j++) s += w[j] * t[index[base + j]];
         } else {
           for (int j = 0; j < cols; j++) {
             double x = p[j] - scaled[index[base + j]] - mx;
-            if (x > CUT) s += Math.exp(x);
+            if (x > CUT) s += Math.exp(x) * (weight == null ? 1 : weight[index[base + j]]);
           }
         }
         out[i] = mx + Math.log(s);
