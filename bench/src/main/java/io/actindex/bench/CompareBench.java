@@ -1,7 +1,7 @@
 package io.actindex.bench;
 
 import io.actindex.core.CodeBlock;
-import io.actindex.core.CodeLayout;
+import io.actindex.core.SyntheticCodes;
 import io.actindex.query.stats.AgreementMmd;
 import io.actindex.query.stats.PairDistances;
 import io.actindex.query.stats.PermutationTest;
@@ -54,13 +54,7 @@ public class CompareBench {
   }
 
   static CodeBlock codes(SplittableRandom r, int n, double[] rates) {
-    CodeLayout layout = CodeLayout.single("h", rates.length);
-    int w = layout.words();
-    long[] words = new long[n * w];
-    for (int i = 0; i < n; i++)
-      for (int bit = 0; bit < rates.length; bit++)
-        if (r.nextDouble() < rates[bit]) words[i * w + (bit >>> 6)] |= 1L << (bit & 63);
-    return new CodeBlock(layout, n, words);
+    return SyntheticCodes.bernoulli(r, n, rates);
   }
 
   @Benchmark

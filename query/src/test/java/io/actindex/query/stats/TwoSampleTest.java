@@ -4,7 +4,7 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.within;
 
 import io.actindex.core.CodeBlock;
-import io.actindex.core.CodeLayout;
+import io.actindex.core.SyntheticCodes;
 import io.actindex.core.Randoms;
 import java.util.SplittableRandom;
 import org.junit.jupiter.api.Tag;
@@ -13,15 +13,8 @@ import org.junit.jupiter.api.Test;
 /** Properties of the two-sample statistics that hold by construction or by a published closed form. */
 class TwoSampleTest {
 
-  /** Codes whose bit b is on with probability rates[b]. */
   static CodeBlock codes(SplittableRandom r, int n, double[] rates) {
-    CodeLayout layout = CodeLayout.single("h", rates.length);
-    int w = layout.words();
-    long[] words = new long[n * w];
-    for (int i = 0; i < n; i++)
-      for (int b = 0; b < rates.length; b++)
-        if (r.nextDouble() < rates[b]) words[i * w + (b >>> 6)] |= 1L << (b & 63);
-    return new CodeBlock(layout, n, words);
+    return SyntheticCodes.bernoulli(r, n, rates);
   }
 
   static double[] rates(SplittableRandom r, int bits) {
