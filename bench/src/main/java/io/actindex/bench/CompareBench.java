@@ -2,6 +2,7 @@ package io.actindex.bench;
 
 import io.actindex.core.CodeBlock;
 import io.actindex.core.SyntheticCodes;
+import io.actindex.query.Compare;
 import io.actindex.query.stats.AgreementMmd;
 import io.actindex.query.stats.PairDistances;
 import io.actindex.query.stats.PermutationTest;
@@ -28,7 +29,9 @@ import org.openjdk.jmh.annotations.Warmup;
  * 2,000 rows (the default --matrix-rows), its kernel matrix and 1000 permutations ({@code distances}:
  * the distance pass alone, the baseline of the same run); {@code
  * w2Exact}: exact W2 on 2,000 vs 2,000; {@code w2Sinkhorn}: Sinkhorn on 10,000 vs 10,000 (reg 0.05,
- * at most 1000 iterations, tol 1e-5).
+ * at most 1000 iterations, tol 1e-5); {@code compareDefaults}: everything {@code compare} computes on the two
+ * samples with its default options (agreement and exponential tests, linear-time MMD, W2 by Sinkhorn
+ * on 4,000 + 4,000 rows, neurons).
  */
 @State(Scope.Benchmark)
 @Fork(value = 1, jvmArgsAppend = {"-Xms2g", "-Xmx6g"})
@@ -55,6 +58,12 @@ public class CompareBench {
 
   static CodeBlock codes(SplittableRandom r, int n, double[] rates) {
     return SyntheticCodes.bernoulli(r, n, rates);
+  }
+
+  /** What {@code actindex compare} computes on the two samples with its default options (one thread). */
+  @Benchmark
+  public Compare.Result compareDefaults() {
+    return Compare.compute(a, b, null, null, "A", "B", Compare.Options.defaults());
   }
 
   @Benchmark
