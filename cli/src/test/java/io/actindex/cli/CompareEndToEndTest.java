@@ -110,6 +110,38 @@ class CompareEndToEndTest {
     }
   }
 
+  /** NumPy's np.median of a column. */
+  static double median(float[][] rows, int col) {
+    double[] v = new double[rows.length];
+    for (int i = 0; i < rows.length; i++) v[i] = rows[i][col];
+    java.util.Arrays.sort(v);
+    int n = v.length;
+    return n % 2 == 1 ? v[n / 2] : (v[n / 2 - 1] + v[n / 2]) / 2;
+  }
+
+  static boolean[][] above(float[][] rows, double[] cut) {
+    boolean[][] out = new boolean[rows.length][rows[0].length];
+    for (int i = 0; i < rows.length; i++) for (int j = 0; j < rows[0].length; j++) out[i][j] = rows[i][j] > cut[j];
+    return out;
+  }
+
+  @Test
+  void withoutAnIndexThresholdAndMedianRulesEncodeBothSamplesAlike() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(404));
+    float[][] a = new float[25][9], b = new float[18][9];
+    for (float[] row : a) for (int j = 0; j < 9; j++) row[j] = (float) (r.nextGaussian() + j * 0.1);
+    for (float[] row : b) for (int j = 0; j < 9; j++) row[j] = (float) (r.nextGaussian() + 0.4);
+    String fa = Files2.floats(tmp.resolve("a.npy"), a).toString(), fb = Files2.floats(tmp.resolve("b.npy"), b).toString();
+    double[] threshold = new double[9], medians = new double[9];
+    java.util.Arrays.fill(threshold, 0.5);
+    for (int j = 0; j < 9; j++) medians[j] = median(a, j);
+    JsonNode t = NearestEndToEndTest.json("compare", "--a", fa, "--b", fb, "--threshold", "0.5", "--permutations", "10", "--format", "json");
+    assertThat(t.get("mmd").get(0).get("mmd2").asDouble()).isCloseTo(mmd2(above(a, threshold), above(b, threshold)), within(1e-12));
+    // --median: the medians of A encode both samples (A is the reference)
+    JsonNode m = NearestEndToEndTest.json("compare", "--a", fa, "--b", fb, "--median", "--permutations", "10", "--format", "json");
+    assertThat(m.get("mmd").get(0).get("mmd2").asDouble()).isCloseTo(mmd2(above(a, medians), above(b, medians)), within(1e-12));
+  }
+
   @Test
   void whereSamplesComeFromTheIndex() throws Exception {
     long seed = Randoms.seed(402);

@@ -64,6 +64,11 @@ public final class Compare {
     String describe() {
       return source != null ? source.file().toString() : "where " + where;
     }
+
+    /** For error messages: a short prefix of a long filter. */
+    String brief() {
+      return Snippet.of(describe());
+    }
   }
 
   /**
@@ -151,7 +156,7 @@ public final class Compare {
       a = ra.codes();
       b = rb.codes();
       if (!a.layout().equals(b.layout()))
-        throw new BadInputException(p.b().describe() + ": sample B has layout " + b.layout() + " (" + b.layout().bits()
+        throw new BadInputException(p.b().brief() + ": sample B has layout " + b.layout() + " (" + b.layout().bits()
             + " bits), sample A " + a.layout() + " (" + a.layout().bits() + " bits)");
     }
     if (!p.layers().isEmpty()) {
@@ -322,8 +327,8 @@ public final class Compare {
   }
 
   private static void checkRows(CodeBlock c, Sample s, String which) {
-    if (c.size() == 0) throw new BadInputException(s.describe() + ": sample " + which + " is empty");
-    if (c.size() < 2) throw new BadInputException(s.describe() + ": sample " + which + " has 1 row; comparing needs at least 2");
+    if (c.size() == 0) throw new BadInputException(s.brief() + ": sample " + which + " is empty");
+    if (c.size() < 2) throw new BadInputException(s.brief() + ": sample " + which + " has 1 row; comparing needs at least 2");
   }
 
   /** Floats of a sample: the given file, else the sample's own activations file, else null. */
