@@ -39,8 +39,8 @@ import org.roaringbitmap.RoaringBitmap;
  * <pre>{@code
  * Compare.Result r = Compare.run(new Compare.Params(null,
  *     Compare.Sample.file(Source.activations(Path.of("train.npy"))),
- *     Compare.Sample.file(Source.activations(Path.of("week.npy"))), null, null, null, null, null,
- *     Compare.Options.defaults()), Progress.NONE);
+ *     Compare.Sample.file(Source.activations(Path.of("week.npy"))),
+ *     null, null, null, null, null, null, Compare.Options.defaults()), Progress.NONE);
  * }</pre>
  */
 public final class Compare {
