@@ -86,6 +86,7 @@ class CompareEndToEndTest {
         "--permutations", "50", "--format", "json");
     assertThat(self.get("w2").get("w2").asDouble()).isZero();
     assertThat(self.get("neurons_moved").asInt()).isZero();
+    assertThat(self.get("verdict").asText()).startsWith("no difference detected").contains("Bonferroni");
   }
 
   @Test

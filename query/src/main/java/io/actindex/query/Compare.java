@@ -237,7 +237,7 @@ public final class Compare {
     else absent = "no float activations for " + (fa == null && fb == null ? "A and B" : fa == null ? "A" : "B")
         + " (give --a-floats/--b-floats, or activations files)";
 
-    String verdict = verdict(mmd.get(1), mmd.get(0), moved, neurons, o.alpha(), sub);
+    String verdict = verdict(mmd.get(1), mmd.get(0), moved, neurons, o.alpha());
     return new Result(describeA, describeB, m, n, layout, mmd, linear, w2, floats, absent, List.copyOf(layers),
         List.copyOf(neurons), moved, "Benjamini-Hochberg (1995) false discovery rate over all " + layout.bits() + " neurons",
         o.alpha(), verdict, List.copyOf(notes));
@@ -269,16 +269,17 @@ public final class Compare {
     return new Floats(fa.rows(), fb.rows(), fa.cols(), fd, mmd("gaussian", k.sigma(), t, pa.length, pb.length, sub));
   }
 
-  private static String verdict(Mmd exp, Mmd agree, int moved, List<Neuron> top, double alpha, boolean sub) {
+  private static String verdict(Mmd exp, Mmd agree, int moved, List<Neuron> top, double alpha) {
     StringBuilder v = new StringBuilder();
     String level = fmt(alpha);
-    if (exp.pValue() < alpha || agree.pValue() < alpha) {
-      v.append("A and B differ in code space at level ").append(level).append(" (MMD permutation p = ").append(fmt(exp.pValue()))
-          .append(" exponential kernel, ").append(fmt(agree.pValue())).append(" agreement kernel)");
+    // two tests of one hypothesis: Bonferroni, each at alpha / 2, so the verdict keeps level alpha
+    String ps = " (MMD permutation p = " + fmt(exp.pValue()) + " exponential kernel, " + fmt(agree.pValue())
+        + " agreement kernel; each against " + fmt(alpha / 2) + ", Bonferroni over the two)";
+    if (Math.min(exp.pValue(), agree.pValue()) <= alpha / 2) {
+      v.append("A and B differ in code space at level ").append(level).append(ps);
     } else {
-      v.append("no difference detected at level ").append(level).append(" (MMD permutation p = ").append(fmt(exp.pValue()))
-          .append(" exponential kernel, ").append(fmt(agree.pValue()))
-          .append(" agreement kernel); this does not show that A and B are alike, only that these samples cannot tell them apart");
+      v.append("no difference detected at level ").append(level).append(ps)
+          .append("; this does not show that A and B are alike, only that these samples cannot tell them apart");
     }
     if (moved > 0 && !top.isEmpty()) {
       Neuron n = top.get(0);
