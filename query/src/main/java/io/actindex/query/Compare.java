@@ -143,10 +143,11 @@ public final class Compare {
   public static Result run(Params p, Progress progress) {
     Progress prog = progress == null ? Progress.NONE : progress;
     CodeBlock a, b;
+    List<String> notes = new ArrayList<>();
     if (p.index() != null) {
       try (IndexReader reader = IndexReader.open(p.index())) {
-        a = load(reader, p.a(), "A", prog);
-        b = load(reader, p.b(), "B", prog);
+        a = load(reader, p.a(), "A", prog, notes);
+        b = load(reader, p.b(), "B", prog, notes);
       }
     } else {
       EncodeOptions enc = p.encode() == null ? EncodeOptions.positive() : p.encode();
@@ -155,6 +156,8 @@ public final class Compare {
       Encoding.Read rb = read(p.b().source(), p, ra.options() == null ? enc : ra.options(), prog);
       a = ra.codes();
       b = rb.codes();
+      if (ra.notes() != null) notes.addAll(ra.notes());
+      if (rb.notes() != null) notes.addAll(rb.notes());
       if (!a.layout().equals(b.layout()))
         throw new BadInputException(p.b().brief() + ": sample B has layout " + b.layout() + " (" + b.layout().bits()
             + " bits), sample A " + a.layout() + " (" + a.layout().bits() + " bits)");
@@ -167,16 +170,21 @@ public final class Compare {
     checkRows(a, p.a(), "A");
     checkRows(b, p.b(), "B");
     FloatSample fa = floats(p.aFloats(), p.a(), p.layers(), "A"), fb = floats(p.bFloats(), p.b(), p.layers(), "B");
-    return compute(a, b, fa, fb, p.a().describe(), p.b().describe(), p.options());
+    return compute(a, b, fa, fb, p.a().describe(), p.b().describe(), p.options(), notes);
   }
 
   /** The statistics on codes already in memory (and optional floats); independent of files. */
   public static Result compute(CodeBlock a, CodeBlock b, FloatSample fa, FloatSample fb, String describeA, String describeB,
       Options o) {
+    return compute(a, b, fa, fb, describeA, describeB, o, List.of());
+  }
+
+  private static Result compute(CodeBlock a, CodeBlock b, FloatSample fa, FloatSample fb, String describeA, String describeB,
+      Options o, List<String> readNotes) {
     if (!a.layout().equals(b.layout())) throw new BadInputException("samples A and B have different layouts: " + a.layout() + " vs " + b.layout());
     CodeLayout layout = a.layout();
     int m = a.size(), n = b.size(), segs = layout.segments().size();
-    List<String> notes = new ArrayList<>();
+    List<String> notes = new ArrayList<>(readNotes);
     Permutations perms = Permutations.seeded(o.seed());
 
     // agreement kernel: every row, exact permutation test, whole code and each layer
@@ -300,8 +308,9 @@ public final class Compare {
 
   // ---- loading
 
-  private static CodeBlock load(IndexReader reader, Sample s, String which, Progress prog) {
-    if (s.source() != null) return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which);
+  private static CodeBlock load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
+    if (s.source() != null)
+      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes);
     RoaringBitmap ids = Where.select(reader.meta(), s.where());
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
@@ -318,7 +327,7 @@ public final class Compare {
       if (p.model() == null) throw new BadInputException(s.file() + ": inputs need a model (--model FILE) or an index that stores one");
       src = Source.inputs(s.file(), p.model());
     }
-    return Encoding.read(src, src.model(), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog);
+    return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog);
   }
 
   private static CodeLayout subLayout(CodeLayout layout, List<String> names) {
