@@ -160,9 +160,10 @@ public final class EdgeCSource {
   }
 
   private static void model(StringBuilder s, EdgeBundle b, EdgeBundle.Model m) {
-    s.append("\n#pragma STDC FP_CONTRACT OFF\n");
+    // GCC ignores the standard pragma (compile with -ffp-contract=off there); other compilers honour it
+    s.append("\n#if defined(__clang__) || !defined(__GNUC__)\n#pragma STDC FP_CONTRACT OFF\n#endif\n");
     int widest = 0;
-    for (int l = 0; l < m.layers().size(); l++) {
+    for (int l = 0; l < m.layers().size() - 1; l++) { // hidden layers: the output layer is not needed for codes
       EdgeBundle.Layer layer = m.layers().get(l);
       widest = Math.max(widest, Math.max(layer.in(), layer.out()));
       s.append("static const float axe_w").append(l).append('[').append(layer.weight().length).append("] = {");
