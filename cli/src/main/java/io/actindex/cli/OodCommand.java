@@ -41,7 +41,7 @@ import picocli.CommandLine.Spec;
 @Command(name = "ood", mixinStandardHelpOptions = true, synopsisSubcommandLabel = "COMMAND",
     description = {"Out-of-distribution flags from the distance of an input's code to its k nearest training codes.",
         "calibrate: store a threshold from held-out in-distribution inputs; score: score and flag inputs; "
-            + "eval: AUROC and FPR at 95% TPR on in and out inputs, beside float and softmax baselines.",
+            + "eval: AUROC and FPR at 95%% TPR on in and out inputs, beside float and softmax baselines.",
         "A calibrated heuristic, not a guarantee (see the caution in every output)."},
     subcommands = {OodCommand.Calibrate.class, OodCommand.Score.class, OodCommand.Eval.class})
 final class OodCommand implements Callable<Integer> {
@@ -264,7 +264,7 @@ final class OodCommand implements Callable<Integer> {
   }
 
   @Command(name = "eval", mixinStandardHelpOptions = true,
-      description = {"AUROC, FPR at 95% TPR and AUPR of the calibrated code score on in- and out-of-distribution inputs, a breakdown over k, "
+      description = {"AUROC, FPR at 95%% TPR and AUPR of the calibrated code score on in- and out-of-distribution inputs, a breakdown over k, "
           + "statistic and layers, and beside it the k-NN score on float activations and the softmax baseline when they apply.",
           "Optionally the ROC curves as CSV and a self-contained HTML page."})
   static final class Eval implements Callable<Integer> {
