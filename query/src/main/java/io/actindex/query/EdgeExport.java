@@ -58,10 +58,17 @@ public final class EdgeExport {
 
   /** The index's live codes, deduplicated, with {@code cal} and (if asked) the stored model. */
   public static EdgeBundle bundle(IndexReader reader, Calibration cal, boolean withModel) {
-    CodeLayout layout = reader.layout();
-    CodeBlock live = reader.liveCodes(null);
-    int w = layout.words(), n = live.size();
-    long[] words = live.words();
+    return bundle(reader.liveCodes(null), cal, withModel ? model(reader) : null);
+  }
+
+  /**
+   * A bundle of {@code codes} (in id order), exact duplicates stored once with their count, most
+   * shared first (ties by first occurrence), with {@code cal} and {@code model} (either may be null).
+   */
+  public static EdgeBundle bundle(CodeBlock codes, Calibration cal, EdgeBundle.Model model) {
+    CodeLayout layout = codes.layout();
+    int w = layout.words(), n = codes.size();
+    long[] words = codes.words();
     Integer[] order = new Integer[n];
     for (int i = 0; i < n; i++) order[i] = i;
     Arrays.sort(order, (a, b) -> Arrays.compareUnsigned(words, a * w, a * w + w, words, b * w, b * w + w));
@@ -76,10 +83,10 @@ public final class EdgeExport {
       i = j + 1;
     }
     groups.sort((a, b) -> a[1] != b[1] ? Integer.compare(b[1], a[1]) : Integer.compare(a[0], b[0]));
-    long[] codes = new long[groups.size() * w];
+    long[] unique = new long[groups.size() * w];
     int[] counts = new int[groups.size()];
     for (int g = 0; g < counts.length; g++) {
-      System.arraycopy(words, groups.get(g)[0] * w, codes, g * w, w);
+      System.arraycopy(words, groups.get(g)[0] * w, unique, g * w, w);
       counts[g] = groups.get(g)[1];
     }
     List<String> names = new ArrayList<>();
@@ -88,7 +95,7 @@ public final class EdgeExport {
       names.add(layout.segments().get(s).name());
       bits[s] = layout.segments().get(s).bits();
     }
-    return new EdgeBundle(names, bits, codes, counts, cal, withModel ? model(reader) : null);
+    return new EdgeBundle(names, bits, unique, counts, cal, model);
   }
 
   /** The stored model in float32 with each code bit's binarization threshold. */
