@@ -290,8 +290,13 @@ final class OodCommand implements Callable<Integer> {
     @Option(names = "--out-floats", paramLabel = "FILE", description = "Float activations of the --out rows.")
     Path outFloats;
 
-    @Option(names = "--train-floats", paramLabel = "FILE", description = "Float activations of the training examples (the float score's reference set).")
+    @Option(names = "--train-floats", paramLabel = "FILE",
+        description = "Float activations of the training examples (the float score's reference set; one row per index id, in build order, for the refined score).")
     Path trainFloats;
+
+    @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",
+        description = "Hamming candidates the refined score re-ranks by float distance (with --train-floats whose rows are the index ids). Default: ${DEFAULT-VALUE}.")
+    int candidates;
 
     @Option(names = "--roc", paramLabel = "FILE", description = "Write the ROC curves as CSV (score,threshold,false_alarm_rate,detection_rate).")
     Path roc;
@@ -309,12 +314,11 @@ final class OodCommand implements Callable<Integer> {
       try (IndexReader reader = IndexReader.open(index.dir)) {
         Kind k = kind != null ? kind : BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel() ? Kind.inputs : Kind.activations;
         try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "evaluating")) {
-          r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats), bar);
+          if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
+          r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats, candidates), bar);
         }
       }
-      List<OodEval.Scored> scores = new ArrayList<>(List.of(r.code()));
-      if (r.floats() != null) scores.add(r.floats());
-      if (r.softmax() != null) scores.add(r.softmax());
+      List<OodEval.Scored> scores = r.scores();
       if (roc != null) write(roc, rocCsv(scores));
       if (html != null) write(html, EvalPage.render("Out-of-distribution evaluation: " + index.dir.getFileName(), r));
       PrintWriter out = spec.commandLine().getOut();

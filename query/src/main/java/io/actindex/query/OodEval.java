@@ -29,9 +29,17 @@ import java.util.TreeSet;
 public final class OodEval {
   private OodEval() {}
 
-  /** The in and out inputs; float activations of in, out and the training rows (all three or none). */
-  public record Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats) {
+  /**
+   * The in and out inputs; float activations of in, out and the training rows (all three or none);
+   * {@code candidates}: Hamming candidates the refined score re-ranks (0 = {@link #REFINE_CANDIDATES}).
+   */
+  public record Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates) {
+    public Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats) {
+      this(in, out, inFloats, outFloats, trainFloats, 0);
+    }
+
     public Params {
+      if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
       int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
       if (floats != 0 && floats != 3)
         throw new BadInputException("the float score needs --in-floats, --out-floats and --train-floats together");
@@ -48,8 +56,20 @@ public final class OodEval {
   /** AUROC and FPR at 95% TPR of one code-score variant. */
   public record Variant(int k, Statistic statistic, List<String> layers, double auroc, double fprAt95Tpr) {}
 
-  /** {@code floats} and {@code softmax} are null when they do not apply. */
-  public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored softmax) {}
+  /**
+   * {@code floats}, {@code refined} and {@code softmax} are null when they do not apply. {@code
+   * refined} needs training floats whose rows are the index's ids (one row per id, in build order).
+   */
+  public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored refined, Scored softmax) {
+    /** The scores that apply, code score first. */
+    public List<Scored> scores() {
+      List<Scored> s = new ArrayList<>(List.of(code));
+      if (floats != null) s.add(floats);
+      if (refined != null) s.add(refined);
+      if (softmax != null) s.add(softmax);
+      return List.copyOf(s);
+    }
+  }
 
   public static Result run(IndexReader reader, Params p, Progress progress) {
     Calibration cal = OodCalibration.load(reader);
@@ -77,19 +97,34 @@ public final class OodEval {
           if (k == cal.k() && st == cal.statistic() && layerSets.get(ls).equals(cal.layers()))
             code = new Scored("code", "Hamming k-NN score on codes (k=" + k + ", " + st.label + ", layers " + layerLabel(cal.layers()) + ")", a, b, m);
         }
-    Scored floats = null;
+    Scored floats = null, refined = null;
     if (p.trainFloats() != null) {
       FloatKnnScore f = new FloatKnnScore(p.trainFloats());
-      double[] a = f.scores(p.inFloats(), cal.k()), b = f.scores(p.outFloats(), cal.k());
-      if (a.length != in.size() || b.length != out.size())
-        throw new BadInputException(p.inFloats() + " / " + p.outFloats() + ": " + a.length + " / " + b.length + " rows, the inputs have "
+      double[][] qa = f.queries(p.inFloats()), qb = f.queries(p.outFloats());
+      if (qa.length != in.size() || qb.length != out.size())
+        throw new BadInputException(p.inFloats() + " / " + p.outFloats() + ": " + qa.length + " / " + qb.length + " rows, the inputs have "
             + in.size() + " / " + out.size());
-      floats = Scored.of("float", "k-NN score on unit-length float activations (k=" + cal.k() + ")", a, b);
+      floats = Scored.of("float", "k-NN score on unit-length float activations (k=" + cal.k() + ")", f.scores(qa, cal.k()), f.scores(qb, cal.k()));
+      if (f.rows() == reader.maxId()) { // training rows are the index's ids: the refined score applies
+        int c = Math.min(Math.max(p.candidates() == 0 ? REFINE_CANDIDATES : p.candidates(), cal.k()), reader.liveCount());
+        long[] mask = Layers.maskOrNull(reader.layout(), cal.layers());
+        refined = Scored.of("refined", "float k-NN distance among the " + c + " nearest codes (k=" + cal.k() + ", exact within the candidates)",
+            f.refined(qa, candidates(reader, in.codes(), c, mask), cal.k()), f.refined(qb, candidates(reader, out.codes(), c, mask), cal.k()));
+      }
     }
     Scored softmax = null;
     double[] sa = SoftmaxBaseline.scores(reader, p.in(), RowRange.ALL), sb = SoftmaxBaseline.scores(reader, p.out(), RowRange.ALL);
     if (sa != null && sb != null) softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)", sa, sb);
-    return new Result(cal, code, List.copyOf(variants), floats, softmax);
+    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax);
+  }
+
+  /** Hamming candidates the refined score re-ranks. */
+  public static final int REFINE_CANDIDATES = 100;
+
+  private static Hits[] candidates(IndexReader reader, CodeBlock codes, int c, long[] mask) {
+    Hits[] h = new Hits[codes.size()];
+    for (int i = 0; i < h.length; i++) h[i] = reader.knn(codes.code(i), c, null, mask);
+    return h;
   }
 
   static String layerLabel(List<String> layers) {

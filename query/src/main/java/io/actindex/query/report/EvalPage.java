@@ -17,10 +17,7 @@ public final class EvalPage {
   private EvalPage() {}
 
   public static String render(String title, OodEval.Result r) {
-    List<OodEval.Scored> scores = new ArrayList<>();
-    scores.add(r.code());
-    if (r.floats() != null) scores.add(r.floats());
-    if (r.softmax() != null) scores.add(r.softmax());
+    List<OodEval.Scored> scores = r.scores();
     StringBuilder h = new StringBuilder();
     h.append("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><title>").append(SvgChart.escape(title)).append("</title>\n");
     h.append("<style>body{font-family:sans-serif;max-width:1100px;margin:1em auto;color:#222}table{border-collapse:collapse;margin:.5em 0}"
