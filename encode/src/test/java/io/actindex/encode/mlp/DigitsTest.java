@@ -10,15 +10,10 @@ import io.actindex.encode.io.NpyWriter;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
 import io.actindex.core.ScanSearcher;
-import java.io.BufferedReader;
 import java.io.IOException;
-import java.io.InputStreamReader;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
-import java.util.ArrayList;
 import java.util.List;
 import java.util.SplittableRandom;
-import java.util.zip.GZIPInputStream;
 import org.ejml.data.DMatrixRMaj;
 import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
@@ -43,19 +38,9 @@ class DigitsTest {
 
   @Test
   void trainedMlpCodesClassifyByHammingNearestNeighbour() throws IOException {
-    List<double[]> rows = new ArrayList<>();
-    List<Integer> labels = new ArrayList<>();
-    try (var in = new BufferedReader(new InputStreamReader(
-        new GZIPInputStream(DigitsTest.class.getResourceAsStream("/digits/digits.csv.gz")), StandardCharsets.US_ASCII))) {
-      String line;
-      while ((line = in.readLine()) != null) {
-        String[] f = line.split(",");
-        double[] x = new double[64];
-        for (int j = 0; j < 64; j++) x[j] = Double.parseDouble(f[j]) / 16.0;
-        rows.add(x);
-        labels.add((int) Double.parseDouble(f[64]));
-      }
-    }
+    DigitsData data = DigitsData.load();
+    List<double[]> rows = List.of(data.x());
+    List<Integer> labels = java.util.Arrays.stream(data.y()).boxed().toList();
     assertThat(rows).hasSize(1797);
     int n = rows.size(), nTrain = n * 3 / 4;
     int[] order = new int[n];
