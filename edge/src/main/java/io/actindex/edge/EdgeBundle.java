@@ -259,7 +259,14 @@ public final class EdgeBundle {
     checkCode(code);
     if (k < 1 || k > examples) throw new IllegalArgumentException("k " + k + " is outside 1.." + examples);
     long[] hist = new long[bits + 1];
-    for (int i = 0; i < n; i++) hist[distance(code, i, mask)] += counts[i];
+    if (mask == null && words == 4) { // 256-bit codes: the query stays in registers
+      long q0 = code[0], q1 = code[1], q2 = code[2], q3 = code[3];
+      for (int i = 0, o = 0; i < n; i++, o += 4)
+        hist[Long.bitCount(q0 ^ codes[o]) + Long.bitCount(q1 ^ codes[o + 1]) + Long.bitCount(q2 ^ codes[o + 2])
+            + Long.bitCount(q3 ^ codes[o + 3])] += counts[i];
+    } else {
+      for (int i = 0; i < n; i++) hist[distance(code, i, mask)] += counts[i];
+    }
     long need = k;
     double sum = 0;
     int kth = 0;
@@ -291,11 +298,13 @@ public final class EdgeBundle {
     int r = (int) Math.min(Math.floor(t), bits);
     long within = 0;
     int k = c.k();
-    for (int i = 0; i < n; i++) {
-      if (distance(code, i, mask) <= r) {
-        within += counts[i];
-        if (within >= k) return false;
-      }
+    if (mask == null && words == 4) { // 256-bit codes: the query stays in registers
+      long q0 = code[0], q1 = code[1], q2 = code[2], q3 = code[3];
+      for (int i = 0, o = 0; i < n; i++, o += 4)
+        if (Long.bitCount(q0 ^ codes[o]) + Long.bitCount(q1 ^ codes[o + 1]) + Long.bitCount(q2 ^ codes[o + 2])
+            + Long.bitCount(q3 ^ codes[o + 3]) <= r && (within += counts[i]) >= k) return false;
+    } else {
+      for (int i = 0; i < n; i++) if (distance(code, i, mask) <= r && (within += counts[i]) >= k) return false;
     }
     if (c.statistic() == Statistic.KTH) return true;
     return score(code).value() > t;
