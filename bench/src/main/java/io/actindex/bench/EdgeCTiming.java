@@ -24,6 +24,7 @@ public final class EdgeCTiming {
   private EdgeCTiming() {}
 
   static final String DRIVER = """
+      #define _POSIX_C_SOURCE 199309L
       #include <stdio.h>
       #include <stdlib.h>
       #include <time.h>
