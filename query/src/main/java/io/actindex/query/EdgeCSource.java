@@ -85,12 +85,12 @@ public final class EdgeCSource {
     s.append("\n};\n/* training examples sharing each code */\nstatic const uint32_t axe_counts[").append(b.uniqueCodes()).append("] = {");
     for (int i = 0; i < b.uniqueCodes(); i++) s.append(i % 16 == 0 ? "\n  " : " ").append(b.count(i)).append("u,");
     long[] mask = cal.layers().isEmpty() ? null : b.mask(cal.layers());
-    s.append("\n};\n/* bits the distance counts */\nstatic const uint64_t axe_mask[AXE_WORDS] = {");
-    for (int w = 0; w < b.words(); w++) {
-      long v = mask != null ? mask[w] : w < b.words() - 1 || (b.bits() & 63) == 0 ? -1L : (1L << (b.bits() & 63)) - 1;
-      s.append(" 0x").append(Long.toHexString(v)).append("ULL,");
+    s.append("\n};\n#define AXE_MASKED ").append(mask == null ? 0 : 1).append(" /* 1: the distance counts only the calibrated layers */\n");
+    if (mask != null) {
+      s.append("static const uint64_t axe_mask[AXE_WORDS] = {");
+      for (long v : mask) s.append(" 0x").append(Long.toHexString(v)).append("ULL,");
     }
-    s.append(" };\n/* calibration scores, ascending */\nstatic const double axe_calibration[AXE_CALIBRATION_SIZE] = {");
+    s.append(mask == null ? "" : " };\n").append("/* calibration scores, ascending */\nstatic const double axe_calibration[AXE_CALIBRATION_SIZE] = {");
     double[] sc = cal.scores();
     for (int i = 0; i < sc.length; i++) s.append(i % 6 == 0 ? "\n  " : " ").append(Double.toHexString(sc[i])).append(',');
     s.append("\n};\nconst double axe_threshold = ").append(Double.toHexString(cal.threshold())).append(";\n\n");
@@ -98,7 +98,11 @@ public final class EdgeCSource {
         static int axe_distance(const uint64_t *q, uint32_t i) {
           const uint64_t *c = axe_codes + (uint64_t) i * AXE_WORDS;
           int d = 0;
+        #if AXE_MASKED
           for (int w = 0; w < AXE_WORDS; w++) d += AXE_POPCOUNT((q[w] ^ c[w]) & axe_mask[w]);
+        #else
+          for (int w = 0; w < AXE_WORDS; w++) d += AXE_POPCOUNT(q[w] ^ c[w]);
+        #endif
           return d;
         }
 
