@@ -102,6 +102,8 @@ public final class EdgeExport {
   static EdgeBundle.Model model(IndexReader reader) {
     Mlp mlp = SoftmaxBaseline.model(reader);
     if (mlp == null) throw new BadInputException(reader.dir() + ": --with-model, but the index holds no model (it was not built with --model)");
+    if (mlp.outputLayer() == null)
+      throw new BadInputException(reader.dir() + ": --with-model needs a model whose last layer is an output layer; this index's model has hidden layers only");
     List<EdgeBundle.Layer> layers = new ArrayList<>();
     for (Mlp.Layer l : mlp.layers()) {
       float[] wt = new float[l.weight().data.length], bias = new float[l.out()];

@@ -2,7 +2,9 @@ package io.actindex.query;
 
 import io.actindex.core.BadInputException;
 import io.actindex.edge.EdgeBundle;
+import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
+import io.actindex.encode.io.SafetensorsReader;
 import io.actindex.encode.io.MatrixReader;
 import io.actindex.encode.mlp.Mlp;
 import io.actindex.index.store.IndexReader;
@@ -21,28 +23,29 @@ import org.ejml.data.DMatrixRMaj;
 public final class SoftmaxBaseline {
   private SoftmaxBaseline() {}
 
-  /** The index's stored model, or null when it has none. */
+  /**
+   * The index's stored model in the layer order and with the output layer the build used, or null
+   * when it has none.
+   */
   public static Mlp model(IndexReader reader) {
     byte[] stored = reader.attachment(BuildInfo.MODEL);
     if (stored == null) return null;
-    Path tmp = Encoding.tempModel(stored);
-    try {
-      return Mlp.load(tmp, null);
+    EncodeOptions o = BuildInfo.fromProperties(reader.properties(), reader.dir().toString()).encode();
+    try (SafetensorsReader r = SafetensorsReader.open(reader.dir().resolve(BuildInfo.MODEL) + " (the model stored in the index)", stored)) {
+      return Mlp.load(r, o.layerOrder(), o.outputLayer(), -1).mlp();
     } catch (IOException e) {
       throw new UncheckedIOException(reader.dir() + ": cannot read the stored model: " + e.getMessage(), e);
-    } finally {
-      Encoding.deleteQuietly(tmp);
     }
   }
 
   /**
    * {@code 1 - MSP} for the rows of {@code source} when it is raw inputs and the index holds a
-   * model; null otherwise (the baseline does not apply).
+   * model with an output layer; null otherwise (the baseline does not apply).
    */
   public static double[] scores(IndexReader reader, Source source, RowRange rows) {
     if (source.kind() != Source.Kind.INPUTS) return null;
     Mlp mlp = source.model() != null ? load(source.model()) : model(reader);
-    if (mlp == null) return null;
+    if (mlp == null || mlp.outputLayer() == null) return null;
     RowRange range = rows == null ? RowRange.ALL : rows;
     try (MatrixReader in = Encoders.openMatrix(source.file())) {
       if (in.cols() != mlp.inputs())
