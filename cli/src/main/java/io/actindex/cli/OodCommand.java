@@ -12,6 +12,7 @@ import io.actindex.query.BuildInfo;
 import io.actindex.query.OodCalibrate;
 import io.actindex.query.OodCalibration;
 import io.actindex.query.OodEval;
+import io.actindex.query.OodScorer;
 import io.actindex.query.OodScore;
 import io.actindex.query.QueryCodes;
 import io.actindex.query.RocMetrics;
@@ -59,6 +60,10 @@ final class OodCommand implements Callable<Integer> {
     return String.format(Locale.ROOT, "%.4f", v);
   }
 
+  static String scoreLabel(OodCalibration.Scoring s) {
+    return s.kind() == OodScorer.Kind.CODE ? "code score" : "refined score (" + s.candidates() + " Hamming candidates, exact within them)";
+  }
+
   static String layers(List<String> layers) {
     return layers.isEmpty() ? "all" : String.join(",", layers);
   }
@@ -99,6 +104,14 @@ final class OodCommand implements Callable<Integer> {
     @Option(names = "--check-overlap", description = "Refuse calibration rows that look like the index's own training rows.")
     boolean checkOverlap;
 
+    @Option(names = "--score", paramLabel = "S",
+        description = "code (Hamming distances on codes) or refined (cosine distance to kept magnitudes among the Hamming candidates). Default: refined when the index keeps magnitudes, else code.")
+    String score;
+
+    @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",
+        description = "Hamming candidates the refined score re-ranks (at least k; ties at the last distance included). Default: ${DEFAULT-VALUE}.")
+    int candidates;
+
     @Mixin LayersOption layers;
     @Mixin FormatOption format;
 
@@ -111,15 +124,18 @@ final class OodCommand implements Callable<Integer> {
       } catch (IllegalArgumentException e) {
         throw new ParameterException(spec.commandLine(), "--statistic: " + e.getMessage());
       }
+      if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
       OodCalibrate.Result r;
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "calibrating")) {
-        r = OodCalibrate.run(index.dir, query.toSource(), query.range(), new OodCalibrate.Params(k, st, tpr, layers.layers, checkOverlap), bar);
+        r = OodCalibrate.run(index.dir, query.toSource(), query.range(), new OodCalibrate.Params(k, st, tpr, layers.layers, checkOverlap,
+            score == null ? null : OodScorer.Kind.parse(score), candidates), bar);
       }
       PrintWriter out = spec.commandLine().getOut();
       Calibration c = r.calibration();
       switch (format.format) {
         case json -> {
-          JsonWriter j = new JsonWriter(out).beginObject().member("index", index.dir.toString());
+          JsonWriter j = new JsonWriter(out).beginObject().member("index", index.dir.toString()).member("score", r.scoring().kind().label())
+              .member("candidates", r.scoring().candidates());
           calibration(j, c);
           j.name("scores").beginObject().member("min", r.min()).member("p50", r.p50()).member("p90", r.p90()).member("p95", r.p95())
               .member("p99", r.p99()).member("max", r.max()).member("mean", r.mean()).endObject()
@@ -132,7 +148,7 @@ final class OodCommand implements Callable<Integer> {
               Double.toString(c.threshold()), num(r.min()), num(r.p50()), num(r.p90()), num(r.p95()), num(r.p99()), num(r.max()), num(r.mean())));
         }
         case table -> {
-          out.println("calibrated " + index.dir + " on " + r.inputs() + " inputs: k=" + c.k() + ", statistic " + c.statistic().label + ", layers "
+          out.println("calibrated " + index.dir + " on " + r.inputs() + " inputs: " + scoreLabel(r.scoring()) + ", k=" + c.k() + ", statistic " + c.statistic().label + ", layers "
               + layers(c.layers()) + ", target TPR " + c.tpr());
           out.println("threshold: " + num(c.threshold()) + " (an input is out when its score is above it)");
           TextTable t = new TextTable(List.of("min", "p50", "p90", "p95", "p99", "max", "mean"));
@@ -159,8 +175,13 @@ final class OodCommand implements Callable<Integer> {
     @Option(names = "--evidence", paramLabel = "N", defaultValue = "3", description = "Nearest training examples to name per input (at most k). Default: ${DEFAULT-VALUE}.")
     int evidence;
 
-    @Option(names = "--decision-only", description = "Only the decision: stops as soon as k training examples lie within the threshold.")
+    @Option(names = "--decision-only", description = "Only the decision (code-score calibrations only): stops as soon as k training examples lie within the threshold.")
     boolean decisionOnly;
+
+    @Option(names = "--score", paramLabel = "S",
+        description = "code or refined; must match the stored calibration (refused otherwise). Default: the calibration's.")
+    String score;
+
 
     @Mixin FormatOption format;
 
@@ -171,12 +192,13 @@ final class OodCommand implements Callable<Integer> {
       try (IndexReader reader = IndexReader.open(index.dir)) {
         if (decisionOnly) {
           Calibration c = OodCalibration.load(reader);
+          if (score != null) OodCalibration.scorer(reader, c, OodScorer.Kind.parse(score));
           QueryCodes q = query.load(reader);
           decisions(out, c, q, OodScore.decide(reader, q));
         } else {
           OodScore.Output o;
           try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "scoring")) {
-            o = OodScore.run(reader, query.toSource(), query.range(), new OodScore.Params(evidence), bar);
+            o = OodScore.run(reader, query.toSource(), query.range(), new OodScore.Params(evidence, score == null ? null : OodScorer.Kind.parse(score)), bar);
           }
           print(out, o);
         }
@@ -298,6 +320,10 @@ final class OodCommand implements Callable<Integer> {
         description = "Hamming candidates the refined score re-ranks by float distance (with --train-floats whose rows are the index ids). Default: ${DEFAULT-VALUE}.")
     int candidates;
 
+    @Option(names = "--score", paramLabel = "S",
+        description = "code or refined; must match the stored calibration (refused otherwise). Default: the calibration's.")
+    String score;
+
     @Option(names = "--roc", paramLabel = "FILE", description = "Write the ROC curves as CSV (score,threshold,false_alarm_rate,detection_rate).")
     Path roc;
 
@@ -315,7 +341,8 @@ final class OodCommand implements Callable<Integer> {
         Kind k = kind != null ? kind : BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel() ? Kind.inputs : Kind.activations;
         try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "evaluating")) {
           if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
-          r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats, candidates), bar);
+          r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats, candidates,
+              score == null ? null : OodScorer.Kind.parse(score)), bar);
         }
       }
       List<OodEval.Scored> scores = r.scores();

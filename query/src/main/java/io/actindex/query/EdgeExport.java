@@ -58,6 +58,7 @@ public final class EdgeExport {
 
   /** The index's live codes, deduplicated, with {@code cal} and (if asked) the stored model. */
   public static EdgeBundle bundle(IndexReader reader, Calibration cal, boolean withModel) {
+    OodCalibration.requireCode(reader, "the edge bundle");
     return bundle(reader.liveCodes(null), cal, withModel ? model(reader) : null);
   }
 

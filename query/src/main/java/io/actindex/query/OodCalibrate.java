@@ -27,10 +27,16 @@ public final class OodCalibrate {
   /**
    * {@code k} nearest, the statistic, the target true-positive rate (share of in-distribution inputs
    * accepted), the layers counted (null/empty = all), and whether to refuse inputs that look like
-   * the index's own rows.
+   * the index's own rows; {@code score} (null = refined when the index keeps magnitudes, else code)
+   * and the Hamming candidates the refined score re-ranks (0 = {@link Refine#DEFAULT_CANDIDATES}).
    */
-  public record Params(int k, Statistic statistic, double tpr, List<String> layers, boolean checkOverlap) {
+  public record Params(int k, Statistic statistic, double tpr, List<String> layers, boolean checkOverlap, OodScorer.Kind score, int candidates) {
+    public Params(int k, Statistic statistic, double tpr, List<String> layers, boolean checkOverlap) {
+      this(k, statistic, tpr, layers, checkOverlap, null, 0);
+    }
+
     public Params {
+      if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
       if (!(tpr > 0 && tpr < 1)) throw new BadInputException("--tpr must lie strictly between 0 and 1, got " + tpr);
       if (statistic == null) statistic = Statistic.KTH;
       layers = layers == null ? List.of() : List.copyOf(layers);
@@ -38,32 +44,37 @@ public final class OodCalibrate {
   }
 
   /** The stored calibration and a summary of the scores (nearest-rank quantiles). */
-  public record Result(Calibration calibration, int inputs, double min, double p50, double p90, double p95, double p99, double max,
+  public record Result(Calibration calibration, OodCalibration.Scoring scoring, int inputs, double min, double p50, double p90, double p95, double p99, double max,
       double mean) {}
 
   public static Result run(Path dir, Source source, RowRange rows, Params p, Progress progress) {
     Calibration cal;
+    OodCalibration.Scoring scoring;
     try (IndexReader reader = IndexReader.open(dir)) {
       OodScorer.checkK(reader, p.k());
       Layers.select(reader.layout(), p.layers());
-      QueryCodes q = QuerySource.load(reader, source, rows);
-      if (p.checkOverlap()) checkOverlap(reader, q, source.file().toString());
-      double[] scores = new OodScorer(reader, p.k(), p.statistic(), p.layers()).values(q.codes(), progress);
+      OodScorer.Kind kind = p.score() != null ? p.score() : OodScorer.Kind.defaultFor(reader);
+      int cands = kind == OodScorer.Kind.CODE ? 0 : Math.max(p.candidates() == 0 ? Refine.DEFAULT_CANDIDATES : p.candidates(), p.k());
+      OodScorer scorer = new OodScorer(reader, p.k(), p.statistic(), p.layers(), kind, cands);
+      QuerySource.Queries qa = scorer.load(source, rows);
+      if (p.checkOverlap()) checkOverlap(reader, qa.codes(), source.file().toString());
+      double[] scores = scorer.values(qa, progress);
+      scoring = kind == OodScorer.Kind.CODE ? OodCalibration.Scoring.CODE : new OodCalibration.Scoring(kind, cands);
       Arrays.sort(scores);
       double threshold = OodCalibration.threshold(scores, p.tpr(), source.file().toString());
       cal = new Calibration(p.k(), p.statistic(), p.layers(), p.tpr(), threshold, scores);
     }
     try (IndexWriter w = IndexWriter.open(dir)) {
-      w.putAttachment(OodCalibration.ATTACHMENT, OodCalibration.toBytes(cal));
+      w.putAttachment(OodCalibration.ATTACHMENT, OodCalibration.toBytes(cal, scoring));
     }
-    return summary(cal);
+    return summary(cal, scoring);
   }
 
-  static Result summary(Calibration cal) {
+  static Result summary(Calibration cal, OodCalibration.Scoring scoring) {
     double[] s = cal.scores();
     double sum = 0;
     for (double v : s) sum += v;
-    return new Result(cal, s.length, s[0], nearestRank(s, 0.5), nearestRank(s, 0.9), nearestRank(s, 0.95), nearestRank(s, 0.99),
+    return new Result(cal, scoring, s.length, s[0], nearestRank(s, 0.5), nearestRank(s, 0.9), nearestRank(s, 0.95), nearestRank(s, 0.99),
         s[s.length - 1], sum / s.length);
   }
 

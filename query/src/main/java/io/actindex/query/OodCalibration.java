@@ -15,7 +15,8 @@ import java.util.Map;
  * {@code key=value} lines ({@code format=1}, {@code k}, {@code statistic} kth|mean, {@code
  * layers} comma-separated or empty, {@code tpr}, {@code threshold}, {@code scores}: the sorted
  * calibration scores, comma-separated, each written by {@link Double#toString} so it reads back
- * exactly). The store checksums attachments; this class checks the content.
+ * exactly), and, when the refined score was calibrated, {@code score=refined} and {@code candidates}
+ * (absent = the code score). The store checksums attachments; this class checks the content.
  *
  * <p>The threshold rule (split conformal, Vovk, Gammerman &amp; Shafer 2005): with {@code n}
  * calibration scores sorted ascending, the threshold is the {@code j}-th smallest, {@code j =
@@ -40,8 +41,52 @@ public final class OodCalibration {
     return parse(new String(bytes, StandardCharsets.UTF_8), reader.dir() + " attachment " + ATTACHMENT);
   }
 
+  /** Which score a calibration holds, and the Hamming candidates the refined score re-ranks (0 for the code score). */
+  public record Scoring(OodScorer.Kind kind, int candidates) {
+    public static final Scoring CODE = new Scoring(OodScorer.Kind.CODE, 0);
+  }
+
+  /** The scoring the stored calibration used (refused when there is none). */
+  public static Scoring scoring(IndexReader reader) {
+    load(reader);
+    Map<String, String> kv = fields(new String(reader.attachment(ATTACHMENT), StandardCharsets.UTF_8));
+    String score = kv.getOrDefault("score", "code");
+    String source = reader.dir() + " attachment " + ATTACHMENT;
+    try {
+      OodScorer.Kind kind = OodScorer.Kind.parse(score);
+      return kind == OodScorer.Kind.CODE ? Scoring.CODE : new Scoring(kind, Integer.parseInt(field(kv, "candidates")));
+    } catch (IllegalArgumentException e) {
+      throw new BadInputException(source + ": damaged calibration: " + e.getMessage(), e);
+    }
+  }
+
+  /**
+   * The scorer for the stored calibration {@code cal}; {@code asked} (null = the stored one) that
+   * differs from the stored score is refused: thresholds of one score mean nothing for the other.
+   */
+  public static OodScorer scorer(IndexReader reader, Calibration cal, OodScorer.Kind asked) {
+    Scoring s = scoring(reader);
+    if (asked != null && asked != s.kind())
+      throw new BadInputException("--score " + asked.label() + ": the calibration stored in " + reader.dir() + " uses the " + s.kind().label()
+          + " score; run 'actindex ood calibrate --score " + asked.label() + "' first, or drop --score");
+    return new OodScorer(reader, cal.k(), cal.statistic(), cal.layers(), s.kind(), s.candidates());
+  }
+
+  /** Refuses a refined calibration where only the code score applies ({@code what}: the option or command). */
+  public static void requireCode(IndexReader reader, String what) {
+    if (scoring(reader).kind() != OodScorer.Kind.CODE)
+      throw new BadInputException(what + " uses the code score, but the calibration stored in " + reader.dir()
+          + " uses the refined score; calibrate with --score code for it");
+  }
+
   static byte[] toBytes(Calibration c) {
+    return toBytes(c, Scoring.CODE);
+  }
+
+  static byte[] toBytes(Calibration c, Scoring scoring) {
     StringBuilder s = new StringBuilder("format=1\n");
+    if (scoring.kind() != OodScorer.Kind.CODE)
+      s.append("score=").append(scoring.kind().label()).append('\n').append("candidates=").append(scoring.candidates()).append('\n');
     s.append("k=").append(c.k()).append('\n');
     s.append("statistic=").append(c.statistic().label).append('\n');
     s.append("layers=").append(String.join(",", c.layers())).append('\n');
@@ -53,12 +98,17 @@ public final class OodCalibration {
     return s.append('\n').toString().getBytes(StandardCharsets.UTF_8);
   }
 
-  static Calibration parse(String text, String source) {
+  private static Map<String, String> fields(String text) {
     Map<String, String> kv = new LinkedHashMap<>();
     for (String line : text.split("\n")) {
       int eq = line.indexOf('=');
       if (eq > 0) kv.put(line.substring(0, eq), line.substring(eq + 1));
     }
+    return kv;
+  }
+
+  static Calibration parse(String text, String source) {
+    Map<String, String> kv = fields(text);
     try {
       if (!"1".equals(kv.get("format"))) throw new IllegalArgumentException("field format: unknown version '" + kv.get("format") + "'");
       String layers = field(kv, "layers");

@@ -31,11 +31,14 @@ public final class OodEval {
 
   /**
    * The in and out inputs; float activations of in, out and the training rows (all three or none);
-   * {@code candidates}: Hamming candidates the refined score re-ranks (0 = {@link #REFINE_CANDIDATES}).
+   * {@code candidates}: Hamming candidates the training-floats refined score re-ranks (0 = {@link
+   * #REFINE_CANDIDATES}); {@code score}: the score asked for (null = the calibration's; a different
+   * one is refused). With a refined calibration, {@code refined} is the score from the index's kept
+   * magnitudes (the calibration's candidates), and the training floats feed only the float score.
    */
-  public record Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates) {
+  public record Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates, OodScorer.Kind score) {
     public Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats) {
-      this(in, out, inFloats, outFloats, trainFloats, 0);
+      this(in, out, inFloats, outFloats, trainFloats, 0, null);
     }
 
     public Params {
@@ -73,8 +76,9 @@ public final class OodEval {
 
   public static Result run(IndexReader reader, Params p, Progress progress) {
     Calibration cal = OodCalibration.load(reader);
-    OodScorer.checkK(reader, cal.k());
-    QueryCodes in = QuerySource.load(reader, p.in(), RowRange.ALL), out = QuerySource.load(reader, p.out(), RowRange.ALL);
+    OodScorer scorer = OodCalibration.scorer(reader, cal, p.score());
+    QuerySource.Queries inQ = scorer.load(p.in(), RowRange.ALL), outQ = scorer.load(p.out(), RowRange.ALL);
+    QueryCodes in = inQ.codes(), out = outQ.codes();
     if (in.size() == 0 || out.size() == 0) throw new BadInputException("ood eval needs rows in both --in and --out");
     // k values and layer sets of the breakdown; one k-NN search per input and layer set
     TreeSet<Integer> ks = new TreeSet<>(List.of(1, 5, 10, cal.k()));
@@ -105,13 +109,17 @@ public final class OodEval {
         throw new BadInputException(p.inFloats() + " / " + p.outFloats() + ": " + qa.length + " / " + qb.length + " rows, the inputs have "
             + in.size() + " / " + out.size());
       floats = Scored.of("float", "k-NN score on unit-length float activations (k=" + cal.k() + ")", f.scores(qa, cal.k()), f.scores(qb, cal.k()));
-      if (f.rows() == reader.maxId()) { // training rows are the index's ids: the refined score applies
+      if (scorer.kind() == OodScorer.Kind.CODE && f.rows() == reader.maxId()) { // training rows are the index's ids
         int c = Math.min(Math.max(p.candidates() == 0 ? REFINE_CANDIDATES : p.candidates(), cal.k()), reader.liveCount());
         long[] mask = Layers.maskOrNull(reader.layout(), cal.layers());
         refined = Scored.of("refined", "float k-NN distance among the " + c + " nearest codes (k=" + cal.k() + ", exact within the candidates)",
             f.refined(qa, candidates(reader, in.codes(), c, mask), cal.k()), f.refined(qb, candidates(reader, out.codes(), c, mask), cal.k()));
       }
     }
+    if (scorer.kind() == OodScorer.Kind.REFINED)
+      refined = Scored.of("refined", "cosine distance of activations to kept magnitudes among the " + OodCalibration.scoring(reader).candidates()
+          + " nearest codes (k=" + cal.k() + ", " + cal.statistic().label + ", exact within the candidates)", scorer.values(inQ, Progress.NONE),
+          scorer.values(outQ, Progress.NONE));
     Scored softmax = null;
     double[] sa = SoftmaxBaseline.scores(reader, p.in(), RowRange.ALL), sb = SoftmaxBaseline.scores(reader, p.out(), RowRange.ALL);
     if (sa != null && sb != null) softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)", sa, sb);

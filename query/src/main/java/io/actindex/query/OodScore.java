@@ -1,7 +1,6 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
-import io.actindex.core.Hits;
 import io.actindex.edge.EdgeBundle;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.index.store.IndexReader;
@@ -26,10 +25,17 @@ import java.util.List;
 public final class OodScore {
   private OodScore() {}
 
-  /** {@code evidence}: how many nearest examples to name per input (0 = none, at most k). */
-  public record Params(int evidence) {
+  /**
+   * {@code evidence}: how many nearest examples to name per input (0 = none, at most k); {@code
+   * score}: the score asked for (null = the calibration's; a different one is refused).
+   */
+  public record Params(int evidence, OodScorer.Kind score) {
     public Params {
       if (evidence < 0) throw new BadInputException("--evidence must be at least 0, got " + evidence);
+    }
+
+    public Params(int evidence) {
+      this(evidence, null);
     }
   }
 
@@ -48,16 +54,17 @@ public final class OodScore {
 
   public static Output run(IndexReader reader, Source source, RowRange rows, Params p, Progress progress) {
     Calibration cal = OodCalibration.load(reader);
-    OodScorer scorer = new OodScorer(reader, cal.k(), cal.statistic(), cal.layers());
-    QueryCodes q = QuerySource.load(reader, source, rows);
+    OodScorer scorer = OodCalibration.scorer(reader, cal, p.score());
+    QuerySource.Queries qa = scorer.load(source, rows);
+    QueryCodes q = qa.codes();
     double[] msp = SoftmaxBaseline.scores(reader, source, rows);
     double[] sorted = cal.scores();
     List<Result> out = new ArrayList<>(q.size());
     for (int i = 0; i < q.size(); i++) {
-      OodScorer.Score s = scorer.score(q.codes().code(i));
+      OodScorer.Score s = scorer.score(q, qa.activations(), i);
       List<Evidence> ev = new ArrayList<>();
-      Hits h = s.nearest();
-      for (int e = 0; e < Math.min(p.evidence(), h.size()); e++) ev.add(new Evidence(h.ord(e), reader.meta().document(h.ord(e)).get("key"), h.dist(e)));
+      for (int e = 0; e < Math.min(p.evidence(), s.ids().length); e++)
+        ev.add(new Evidence(s.ids()[e], reader.meta().document(s.ids()[e]).get("key"), s.distances()[e]));
       out.add(new Result(q.row(i), s.value(), s.kth(), s.mean(), s.ownRegion(), s.value() > cal.threshold(),
           EdgeBundle.pValue(sorted, s.value()), List.copyOf(ev), msp == null ? null : 1 - msp[i]));
       progress.update(i + 1, q.size());
@@ -71,6 +78,7 @@ public final class OodScore {
    * EdgeBundle#isOut}); the same answer as {@code score > threshold}.
    */
   public static boolean[] decide(IndexReader reader, QueryCodes q) {
+    OodCalibration.requireCode(reader, "--decision-only");
     EdgeBundle b = EdgeExport.bundle(reader, OodCalibration.load(reader), false);
     boolean[] out = new boolean[q.size()];
     for (int i = 0; i < out.length; i++) out[i] = b.isOut(q.codes().code(i));
