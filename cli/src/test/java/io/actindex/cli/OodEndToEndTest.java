@@ -149,4 +149,56 @@ class OodEndToEndTest {
     assertThat(m.err()).contains("holds no model");
     assertThat(tmp.resolve("b.edge")).doesNotExist();
   }
+
+  /** Relu-like float rows: each row is one of 6 non-negative prototypes plus noise, clipped at 0. */
+  static float[][] floats(int n, double noise, long seed) {
+    SplittableRandom proto = new SplittableRandom(98), rnd = new SplittableRandom(seed);
+    float[][] p = new float[6][BITS];
+    for (float[] r : p) for (int j = 0; j < BITS; j++) r[j] = proto.nextBoolean() ? (float) proto.nextDouble(0.2, 2) : 0;
+    float[][] out = new float[n][BITS];
+    for (int i = 0; i < n; i++) {
+      float[] b = p[rnd.nextInt(6)];
+      for (int j = 0; j < BITS; j++) out[i][j] = (float) Math.max(0, b[j] + noise * rnd.nextGaussian());
+    }
+    return out;
+  }
+
+  @Test
+  void refinedScoreFromKeptMagnitudes() throws Exception {
+    Path idx = tmp.resolve("fidx");
+    Path trainF = Files2.floats(tmp.resolve("ftrain.npy"), floats(300, 0.1, 1)), calF = Files2.floats(tmp.resolve("fcal.npy"), floats(60, 0.1, 2));
+    Path qF = Files2.floats(tmp.resolve("fq.npy"), floats(20, 0.5, 3));
+    assertThat(Cli.run("build", "--out", idx.toString(), "--activations", trainF.toString()).code()).isZero();
+    Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString(), "-k", "2", "--format", "json");
+    assertThat(c.code()).as(c.describe()).isZero();
+    JsonNode cj = JSON.readTree(c.out());
+    assertThat(cj.get("score").asText()).isEqualTo("refined");
+    assertThat(cj.get("candidates").asInt()).isEqualTo(100);
+    Cli.Result s = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString(), "--format", "json");
+    assertThat(s.code()).as(s.describe()).isZero();
+    for (JsonNode r : JSON.readTree(s.out()).get("results"))
+      assertThat(r.get("decision").asText()).isEqualTo(r.get("score").asDouble() > cj.get("threshold").asDouble() ? "out" : "in");
+    Map<String, String> before = Files2.checksums(idx);
+    Path codesF = Files2.bits(tmp.resolve("fq-codes.npy"), rows(20, 0.05, 3));
+    String i = idx.toString();
+    String[][] bad = {
+        {"ood", "score", "--index", i, "--activations", qF.toString(), "--score", "code"},
+        {"ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--score", "code"},
+        {"ood", "score", "--index", i, "--codes", codesF.toString()},
+        {"ood", "score", "--index", i, "--activations", qF.toString(), "--decision-only"},
+        {"export-edge", "--index", i, "--out", tmp.resolve("f.edge").toString()},
+        {"ood", "score", "--index", i, "--activations", qF.toString(), "--score", "fancy"},
+    };
+    String[] expect = {"uses the refined score", "uses the refined score", "--score code", "--decision-only", "uses the refined score", "--score"};
+    for (int t = 0; t < bad.length; t++) {
+      Cli.Result r = Cli.run(bad[t]);
+      assertThat(r.code()).as(r.describe()).isEqualTo(2);
+      assertThat(r.err().lines().filter(l -> !l.isBlank()).toList()).as(r.describe()).hasSize(1).first().asString().contains(expect[t]);
+    }
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+    assertThat(tmp.resolve("f.edge")).doesNotExist();
+    Cli.Result e = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--format", "json");
+    assertThat(e.code()).as(e.describe()).isZero();
+    assertThat(JSON.readTree(e.out()).get("scores").findValuesAsText("name")).contains("code", "refined");
+  }
 }
