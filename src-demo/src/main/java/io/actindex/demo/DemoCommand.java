@@ -52,59 +52,87 @@ public final class DemoCommand implements ExtraCommand {
   /** Marks a folder as the demo's, so a rerun may replace what it made. */
   static final String MARKER = "ABOUT-THIS-DEMO.txt";
 
-  static final int HIDDEN1 = 8, HIDDEN2 = 6;
+  static final int HIDDEN1 = 128, HIDDEN2 = 64, EPOCHS = 8;
+
+  private double trainSeconds;
+
+  @Option(names = "--size", paramLabel = "full|small", defaultValue = "full", hidden = true,
+      description = "full: about 20,000 windows (default); small: a reduced set for tests.")
+  String size;
 
   @Override
   public Integer call() throws IOException {
     PrintWriter o = spec.commandLine().getOut();
+    VibrationScenario.Sizes sizes = switch (size) {
+      case "full" -> VibrationScenario.Sizes.full();
+      case "small" -> VibrationScenario.Sizes.small();
+      default -> throw new BadInputException("--size: expected full or small, got " + size);
+    };
     prepare(out);
-    List<Window> history = VibrationScenario.windows(1200, 0.2, "w", seed);
-    List<Window> incoming = new ArrayList<>(VibrationScenario.windows(5, 0, "new", seed + 1));
-    incoming.add(VibrationScenario.oddWindow("new-odd", seed + 2));
-
-    Path historyNpy = out.resolve("windows.npy"), historyCsv = out.resolve("windows.csv");
-    Path incomingNpy = out.resolve("incoming.npy"), model = out.resolve("model.safetensors"), index = out.resolve("index");
-    features(historyNpy, history);
-    metadata(historyCsv, history);
-    features(incomingNpy, incoming);
+    long started = System.nanoTime();
+    VibrationScenario.Plant plant = VibrationScenario.plant(sizes, seed);
+    List<Window> history = plant.history();
     Files.writeString(out.resolve(MARKER), about(), StandardCharsets.UTF_8);
+    features(file("windows.npy"), history);
+    metadata(file("windows.csv"), history);
+    features(file("calibration.npy"), plant.calibration());
+    features(file("incoming.npy"), plant.incoming());
+    metadata(file("incoming-truth.csv"), plant.incoming());
+    features(file("week47.npy"), plant.weekBefore());
+    features(file("week48.npy"), plant.weekAfter());
+    metadata(file("planted.csv"), history.stream().filter(w -> !w.planted().isEmpty()).toList());
 
     o.println("actindex demo: a bottling plant's vibration sensors (invented data, seed " + seed + ")");
-    o.println("  " + history.size() + " labelled windows of " + VibrationScenario.FEATURES + " features "
-        + "(states: " + String.join(", ", VibrationScenario.STATES) + "; lines L1-L3; day/night shift; 80/20 train/test split)");
-    o.println("  written to " + historyNpy + " and " + historyCsv + "; " + incoming.size() + " new unlabelled windows in " + incomingNpy);
+    o.println("  " + history.size() + " labelled windows of " + VibrationScenario.FEATURES + " features from three filler lines over two "
+        + "seasons (states: " + String.join(", ", VibrationScenario.STATES) + "; 80/20 train/test split), in " + file("windows.npy")
+        + " with metadata in " + file("windows.csv"));
+    o.println("  planted for the tool to find: " + count(history, VibrationScenario.RESENT) + " windows re-sent by a flaky logger, "
+        + count(history, VibrationScenario.STUCK) + " from a stuck sensor, " + count(history, VibrationScenario.LEAKED)
+        + " training windows copied into the test split, " + count(history, VibrationScenario.RELABELLED)
+        + " windows labelled twice with different states (truth in planted.csv)");
+    o.println("  also written: " + plant.calibration().size() + " fresh windows for calibration, " + plant.incoming().size()
+        + " incoming windows (" + count(plant.incoming(), VibrationScenario.NEW_MACHINE) + " from a new capping machine, "
+        + count(plant.incoming(), VibrationScenario.LOOSE_SENSOR) + " from a loose sensor; truth in incoming-truth.csv), and line L1's "
+        + "weeks 47 and 48 (a bearing was changed in between)");
 
     Mlp mlp = train(history);
-    mlp.save(model, Map.of("actindex.demo", "vibration states, seed " + seed));
-    o.printf(Locale.ROOT, "  trained a ReLU network %d -> %d -> %d -> %d on the train split; accuracy on the test split %.1f%%%n",
-        VibrationScenario.FEATURES, HIDDEN1, HIDDEN2, VibrationScenario.STATES.size(), 100 * accuracy(mlp, history, "test"));
-    o.println("  saved to " + model + " (safetensors; hidden layers '0' and '2' give the codes)");
+    mlp.save(file("model.safetensors"), Map.of("actindex.demo", "vibration states, seed " + seed));
+    o.printf(Locale.ROOT, "  trained a ReLU network %d -> %d -> %d -> %d on the train split in %.1f s; accuracy on the test split %.1f%%%n",
+        VibrationScenario.FEATURES, HIDDEN1, HIDDEN2, VibrationScenario.STATES.size(), trainSeconds,
+        100 * accuracy(mlp, history, "test"));
+    o.println("  its hidden layers '0' and '2' give " + (HIDDEN1 + HIDDEN2) + "-bit codes");
     o.flush();
 
+    String index = file("index").toString(), incoming = file("incoming.npy").toString();
     int code = run(o, "Index every window's on/off code with its metadata:",
-        "build", "--out", index.toString(), "--model", model.toString(), "--inputs", historyNpy.toString(), "--meta", historyCsv.toString());
-    if (code == 0) code = run(o, "Which past windows does the network treat like the new ones? (the last one is a loose sensor)",
-        "nearest", "--index", index.toString(), "--inputs", incomingNpy.toString(), "-k", "5");
-    if (code == 0) {
-      List<String> truth = new ArrayList<>();
-      for (int i = 0; i < incoming.size(); i++) truth.add("row " + i + " " + incoming.get(i).label());
-      o.println();
-      o.println("(The demo knows the new windows' real states, which the index never saw: " + String.join(", ", truth) + ".");
-      o.println(" A vote is given even for the loose sensor: compare its nearest distance with the others'. A vote is not");
-      o.println(" an out-of-distribution check.)");
-    }
+        "build", "--out", index, "--model", file("model.safetensors").toString(), "--inputs", file("windows.npy").toString(),
+        "--meta", file("windows.csv").toString());
+    if (code == 0) code = run(o, "Which past windows does the network treat like the first incoming ones?",
+        "nearest", "--index", index, "--inputs", incoming, "--rows", "0:3", "-k", "5");
     if (code == 0) code = run(o, "The same, only among training windows from line L2:",
-        "nearest", "--index", index.toString(), "--inputs", incomingNpy.toString(), "--rows", "0:2", "-k", "3",
-        "--where", "split = train and line = L2");
+        "nearest", "--index", index, "--inputs", incoming, "--rows", "0:2", "-k", "3", "--where", "split = train and line = L2");
+    int newMachineRow = plant.incoming().indexOf(plant.incoming().stream()
+        .filter(w -> w.planted().equals(VibrationScenario.NEW_MACHINE)).findFirst().orElseThrow());
+    if (code == 0) code = run(o, "The region of a window from the new capping machine, and the populated regions around it:",
+        "region", "--index", index, "--inputs", incoming, "--rows", Integer.toString(newMachineRow), "--radius", "3");
     if (code == 0) code = run(o, "How the windows spread over the network's linear regions:",
-        "census", "--index", index.toString(), "--largest", "3");
+        "census", "--index", index, "--largest", "3");
+    if (code == 0) code = run(o, "A page to look at:", "report", "--index", index, "--out", file("report.html").toString());
     if (code != 0) return code;
     o.println();
-    o.println("Next: 'actindex region --index " + index + " --inputs " + incomingNpy + " --rows 5 --radius 3' shows the odd");
-    o.println("window's region and its populated neighbours; add '--format json' to any query for scripts.");
-    o.println("Note: the label vote is a heuristic from neighbours in code space, not a calibrated guarantee.");
+    o.printf(Locale.ROOT, "Done in %.0f s. Open %s in a browser; every command above can be rerun or varied on the files in %s.%n",
+        (System.nanoTime() - started) / 1e9, file("report.html"), out);
+    o.println("Note: label votes and distances are heuristics from neighbours in code space, not guarantees.");
     o.flush();
     return ExitCodes.OK;
+  }
+
+  private Path file(String name) {
+    return out.resolve(name);
+  }
+
+  private static long count(List<Window> windows, String planted) {
+    return windows.stream().filter(w -> w.planted().equals(planted)).count();
   }
 
   /** Runs one actindex command in this process, after printing it. */
@@ -148,8 +176,10 @@ public final class DemoCommand implements ExtraCommand {
   }
 
   private static void metadata(Path file, List<Window> windows) throws IOException {
-    List<String> lines = new ArrayList<>(List.of("key,label,split,line,shift"));
-    for (Window w : windows) lines.add(String.join(",", w.key(), w.label(), w.split(), w.line(), w.shift()));
+    List<String> lines = new ArrayList<>(List.of("key,label,split,line,shift,week,season,planted,copy_of"));
+    for (Window w : windows)
+      lines.add(String.join(",", w.key(), w.label(), w.split(), w.line(), w.shift(), Integer.toString(w.week()), w.season(), w.planted(),
+          w.copyOf()));
     Files.write(file, lines, StandardCharsets.UTF_8);
   }
 
@@ -161,8 +191,11 @@ public final class DemoCommand implements ExtraCommand {
         x.add(toDouble(w.features()));
         y.add(w.state());
       }
-    return MlpTrainer.train(x.toArray(double[][]::new), y.stream().mapToInt(Integer::intValue).toArray(),
-        VibrationScenario.STATES.size(), new MlpTrainer.Config(new int[] {HIDDEN1, HIDDEN2}, 40, 32, 3e-3, seed));
+    long t0 = System.nanoTime();
+    Mlp mlp = MlpTrainer.train(x.toArray(double[][]::new), y.stream().mapToInt(Integer::intValue).toArray(),
+        VibrationScenario.STATES.size(), new MlpTrainer.Config(new int[] {HIDDEN1, HIDDEN2}, EPOCHS, 64, 2e-3, seed));
+    trainSeconds = (System.nanoTime() - t0) / 1e9;
+    return mlp;
   }
 
   /** Fraction of the windows of {@code split} whose state the network's largest output names. */
@@ -197,11 +230,17 @@ public final class DemoCommand implements ExtraCommand {
   private String about() {
     return """
         Made by 'actindex demo' (seed %d). Invented data, no real machines:
-          windows.npy        labelled vibration windows, float32, one row per window, columns %s
-          windows.csv        their metadata: key, label (machine state), split, line, shift
-          incoming.npy       new unlabelled windows to look up (the last one is a loose sensor)
-          model.safetensors  the small ReLU network trained on the train split
-          index/             the actindex index built from the network's on/off codes
+          windows.npy         labelled vibration windows, float32, one row per window, columns %s
+          windows.csv         their metadata: key, label (machine state), split, line, shift, week, season,
+                              planted (the problem planted in the row, empty for ordinary rows), copy_of
+          planted.csv         the planted rows alone: the truth the demo checks its findings against
+          calibration.npy     fresh in-distribution windows, for out-of-distribution calibration
+          incoming.npy        new unlabelled windows; incoming-truth.csv says which came from the new
+                              capping machine or the loose sensor
+          week47.npy, week48.npy  line L1 before and after a bearing change
+          model.safetensors   the ReLU network trained on the train split
+          index/              the actindex index built from the network's on/off codes
+          report.html         the page 'actindex report' wrote about the index
         Running the demo again with this folder replaces these files.
         """.formatted(seed, String.join(",", VibrationScenario.FEATURE_NAMES));
   }
