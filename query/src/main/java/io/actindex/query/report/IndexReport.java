@@ -175,9 +175,12 @@ public final class IndexReport {
     for (int d = 0; d <= max; d++) {
       Object[] row = new Object[bySplit.size() + 1];
       row[0] = d;
-      int c = 1;
-      for (int[] h : bySplit.values()) row[c++] = h[d];
-      t.row(row);
+      int c = 1, any = 0;
+      for (int[] h : bySplit.values()) {
+        row[c++] = h[d];
+        any += h[d];
+      }
+      if (any > 0) t.row(row); // distances no example has are left out of the table
     }
     page.chartWithTable(SvgChart.bars("Nearest other example, by split", "Hamming distance (bits)", "share of the split's examples", edges,
         series, false), t);
@@ -188,21 +191,17 @@ public final class IndexReport {
         "The share of labelled examples that carry their region's majority label, for each layer prefix. 1 means every region holds "
             + "one label; lower values mean the network puts differently labelled examples in the same region.");
     List<Census.Prefix> prefixes = census.prefixes();
-    double[] edges = new double[prefixes.size() + 1];
-    double[] y = new double[prefixes.size()];
-    for (int i = 0; i <= prefixes.size(); i++) edges[i] = i + 0.5;
+    double[] bits = new double[prefixes.size()], y = new double[prefixes.size()];
     HtmlPage.Table t = new HtmlPage.Table(null, 1, List.of("layers", "bits", "regions", "singletons", "median examples per region", "purity"));
-    boolean any = false;
     for (int i = 0; i < prefixes.size(); i++) {
       Census.Prefix p = prefixes.get(i);
+      bits[i] = p.bits();
       y[i] = p.purity() == null ? Double.NaN : p.purity();
-      any |= p.purity() != null;
       t.row(prefixName(p), p.bits(), p.regions(), p.singletons(), p.quantiles() == null ? null : p.quantiles().p50(),
           p.purity() == null ? "no labels" : HtmlPage.num(p.purity()));
     }
-    String svg = any ? SvgChart.bars("Label purity by layer prefix", "layer prefix (1 = first layer, 2 = first two, ...)", "purity", edges,
-        List.of(new SvgChart.Series("purity", null, y)), false) : SvgChart.bars("Label purity by layer prefix", "layer prefix", "purity",
-        new double[0], List.of(), false);
+    String svg = SvgChart.lines("Label purity as layers are added", "bits of the layer prefix", "purity (share with the majority label)",
+        List.of(new SvgChart.Series("purity", bits, y)), false, false);
     page.chartWithTable(svg, t);
   }
 }
