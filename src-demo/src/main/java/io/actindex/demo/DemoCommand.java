@@ -80,6 +80,8 @@ public final class DemoCommand implements ExtraCommand {
     metadata(file("incoming-truth.csv"), plant.incoming());
     features(file("week47.npy"), plant.weekBefore());
     features(file("week48.npy"), plant.weekAfter());
+    features(file("week47-first-half.npy"), plant.weekBeforeFirstHalf());
+    features(file("week47-second-half.npy"), plant.weekBeforeSecondHalf());
     metadata(file("planted.csv"), history.stream().filter(w -> !w.planted().isEmpty()).toList());
 
     o.println("actindex demo: a bottling plant's vibration sensors (invented data, seed " + seed + ")");
@@ -117,6 +119,8 @@ public final class DemoCommand implements ExtraCommand {
         "region", "--index", index, "--inputs", incoming, "--rows", Integer.toString(newMachineRow), "--radius", "3");
     if (code == 0) code = run(o, "How the windows spread over the network's linear regions:",
         "census", "--index", index, "--largest", "3");
+    if (code == 0) code = run(o, "Has line L1 moved after its bearing change? Week 47 against week 48, as the network sees them:",
+        "compare", "--index", index, "--kind", "inputs", "--a", file("week47.npy").toString(), "--b", file("week48.npy").toString());
     if (code == 0) code = run(o, "A page to look at:", "report", "--index", index, "--out", file("report.html").toString());
     if (code != 0) return code;
     o.println();
@@ -237,7 +241,8 @@ public final class DemoCommand implements ExtraCommand {
           calibration.npy     fresh in-distribution windows, for out-of-distribution calibration
           incoming.npy        new unlabelled windows; incoming-truth.csv says which came from the new
                               capping machine or the loose sensor
-          week47.npy, week48.npy  line L1 before and after a bearing change
+          week47.npy, week48.npy  line L1 before and after a bearing change; week47-first-half.npy and
+                              week47-second-half.npy split week 47 in two (a comparison that should find nothing)
           model.safetensors   the ReLU network trained on the train split
           index/              the actindex index built from the network's on/off codes
           report.html         the page 'actindex report' wrote about the index

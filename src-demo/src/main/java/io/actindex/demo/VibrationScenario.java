@@ -56,7 +56,16 @@ public final class VibrationScenario {
 
   /** Everything the demo writes, with the truth it planted. */
   public record Plant(List<Window> history, List<Window> calibration, List<Window> incoming,
-      List<Window> weekBefore, List<Window> weekAfter) {}
+      List<Window> weekBefore, List<Window> weekAfter) {
+    /** The first half of the week before (the control for the drift test: two halves of one week). */
+    public List<Window> weekBeforeFirstHalf() {
+      return weekBefore.subList(0, weekBefore.size() / 2);
+    }
+
+    public List<Window> weekBeforeSecondHalf() {
+      return weekBefore.subList(weekBefore.size() / 2, weekBefore.size());
+    }
+  }
 
   /** Sizes of the planted problems, so the demo and its test can scale them. */
   public record Sizes(int history, int resent, int stuck, int leaked, int relabelled, int calibration,
