@@ -52,7 +52,7 @@ public final class DemoCommand implements ExtraCommand {
   /** Marks a folder as the demo's, so a rerun may replace what it made. */
   static final String MARKER = "ABOUT-THIS-DEMO.txt";
 
-  static final int HIDDEN1 = 128, HIDDEN2 = 64, EPOCHS = 8;
+  static final int HIDDEN1 = 128, HIDDEN2 = 64, EPOCHS = 8, DUPES_RADIUS = 2;
 
   private double trainSeconds;
 
@@ -69,6 +69,7 @@ public final class DemoCommand implements ExtraCommand {
       default -> throw new BadInputException("--size: expected full or small, got " + size);
     };
     prepare(out);
+    Findings findings = new Findings();
     long started = System.nanoTime();
     VibrationScenario.Plant plant = VibrationScenario.plant(sizes, seed);
     List<Window> history = plant.history();
@@ -119,16 +120,48 @@ public final class DemoCommand implements ExtraCommand {
         "region", "--index", index, "--inputs", incoming, "--rows", Integer.toString(newMachineRow), "--radius", "3");
     if (code == 0) code = run(o, "How the windows spread over the network's linear regions:",
         "census", "--index", index, "--largest", "3");
+    if (code == 0) code = run(o, "Which windows does the network not tell apart (within " + DUPES_RADIUS + " flipped neurons)? Leaks across the split and label conflicts are flagged:",
+        "dupes", "--index", index, "--radius", Integer.toString(DUPES_RADIUS), "--groups", "5", "--pairs", file("pairs.csv").toString());
+    if (code == 0) findings.fromPairs(history, file("pairs.csv"), DUPES_RADIUS);
     if (code == 0) code = run(o, "Has line L1 moved after its bearing change? Week 47 against week 48, as the network sees them:",
         "compare", "--index", index, "--kind", "inputs", "--a", file("week47.npy").toString(), "--b", file("week48.npy").toString());
     if (code == 0) code = run(o, "A page to look at:", "report", "--index", index, "--out", file("report.html").toString());
+    if (code == 0) code = drift(index, findings);
     if (code != 0) return code;
+    o.println();
+    o.println("What the demo planted, and what the commands above found:");
+    o.println(String.format(Locale.ROOT, "  %-40s %5s / %-5s %s", "planted", "found", "of", "found as"));
+    for (Findings.Line l : findings.lines()) o.println(l.render());
     o.println();
     o.printf(Locale.ROOT, "Done in %.0f s. Open %s in a browser; every command above can be rerun or varied on the files in %s.%n",
         (System.nanoTime() - started) / 1e9, file("report.html"), out);
     o.println("Note: label votes and distances are heuristics from neighbours in code space, not guarantees.");
     o.flush();
     return ExitCodes.OK;
+  }
+
+  /** The drift test, read back as JSON: week 47 against 48 (a real change) and the two halves of week 47 (none). */
+  private int drift(String index, Findings findings) {
+    double[] p = new double[2];
+    String[][] pairs = {{"week47.npy", "week48.npy"}, {"week47-first-half.npy", "week47-second-half.npy"}};
+    for (int i = 0; i < 2; i++) {
+      Object doc = json("compare", "--index", index, "--kind", "inputs", "--a", file(pairs[i][0]).toString(), "--b",
+          file(pairs[i][1]).toString(), "--format", "json");
+      if (doc == null) return ExitCodes.INTERNAL;
+      p[i] = 1;
+      for (Object m : (List<?>) ((Map<?, ?>) doc).get("mmd")) p[i] = Math.min(p[i], ((Number) ((Map<?, ?>) m).get("p_value")).doubleValue());
+    }
+    findings.add("bearing change between weeks 47 and 48", p[0] <= 0.025 ? 1 : 0, 1,
+        String.format(Locale.ROOT, "compare: smallest MMD p = %.4f; two halves of week 47: p = %.3f%s", p[0], p[1],
+            p[1] <= 0.025 ? " (a false alarm)" : " (no alarm, as it should be)"));
+    return ExitCodes.OK;
+  }
+
+  /** Runs one command quietly and returns its JSON document (null, with the error shown, if it failed). */
+  private Object json(String... args) {
+    java.io.StringWriter buf = new java.io.StringWriter();
+    int code = Main.run(new PrintWriter(buf), spec.commandLine().getErr(), args);
+    return code == 0 ? io.actindex.encode.io.Json.parse(buf.toString()) : null;
   }
 
   private Path file(String name) {
