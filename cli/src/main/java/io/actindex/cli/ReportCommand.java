@@ -18,8 +18,8 @@ import picocli.CommandLine.Spec;
 @Command(name = "report", mixinStandardHelpOptions = true,
     description = {"Writes one self-contained HTML page about an index (inline SVG charts, each with its numbers in a table;",
         "no script, nothing fetched, opens offline): layout and size, examples per linear region, neuron firing rates,",
-        "distance to the nearest other example by split, label purity of regions, and the out-of-distribution",
-        "calibration when one is stored."})
+        "distance to the nearest other example by split, label purity of regions; the out-of-distribution",
+        "calibration when one is stored; near-duplicates with --dupes-radius; a comparison with --compare-a/--compare-b."})
 final class ReportCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -31,6 +31,17 @@ final class ReportCommand implements Callable<Integer> {
   @Option(names = "--title", paramLabel = "TEXT", description = "Heading of the page. Default: the index folder's name.")
   String title;
 
+  @Option(names = "--dupes-radius", paramLabel = "R",
+      description = "Add the near-duplicate join at radius R (summary, leaking and conflicting groups, the largest groups).")
+  Integer dupesRadius;
+
+  @Option(names = "--compare-a", paramLabel = "FILE", description = "Add a comparison of two samples: A, a file of the kind the index was built from.")
+  Path compareA;
+
+  @Option(names = "--compare-b", paramLabel = "FILE", description = "Sample B of the comparison.")
+  Path compareB;
+
+  @Mixin ThreadsOption threads;
   @Mixin FormatOption format;
 
   @Override
@@ -39,7 +50,7 @@ final class ReportCommand implements Callable<Integer> {
     Report.Result r;
     try (IndexReader reader = IndexReader.open(index.dir);
         Progress progress = Progress.onTerminal(err, "measuring nearest-other distances")) {
-      r = Report.run(reader, new Report.Params(out, title), progress);
+      r = Report.run(reader, new Report.Params(out, title, dupesRadius, compareA, compareB, threads.resolved()), progress);
     }
     PrintWriter o = spec.commandLine().getOut();
     switch (format.format) {

@@ -11,7 +11,6 @@ import picocli.CommandLine;
 /** Parsing, help, version and exit codes that need no index. */
 class MainTest {
   static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare", "fidelity", "dupes",
-  static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare", "fidelity", "dupes",
       "ood", "export-edge", "report");
 
   @Test

@@ -5,6 +5,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.report.HtmlPage;
 import io.actindex.query.report.IndexReport;
+import io.actindex.query.report.ReportSections;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.AtomicMoveNotSupportedException;
@@ -21,10 +22,21 @@ import java.util.Map;
 public final class Report {
   private Report() {}
 
-  /** {@code out}: the HTML file to write; {@code title}: the page's heading (null: from the folder name). */
-  public record Params(Path out, String title) {
+  /**
+   * {@code out}: the HTML file to write; {@code title}: the page's heading (null: from the folder
+   * name); {@code dupesRadius}: add a near-duplicate join at this radius (null: none); {@code
+   * compareA}/{@code compareB}: add a comparison of two files of the kind the index was built from
+   * (null: none); {@code threads} for the join and the comparison.
+   */
+  public record Params(Path out, String title, Integer dupesRadius, Path compareA, Path compareB, int threads) {
     public Params {
       if (out == null) throw new BadInputException("report: --out is required");
+      if ((compareA == null) != (compareB == null)) throw new BadInputException("report: give both --compare-a and --compare-b, or neither");
+      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+    }
+
+    public Params(Path out, String title) {
+      this(out, title, null, null, null, 1);
     }
   }
 
@@ -55,6 +67,17 @@ public final class Report {
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
     HtmlPage page = new HtmlPage(title, f.examples() + " examples, " + reader.layout().bits() + " bits per example.");
     IndexReport.render(page, reader, f);
+    if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibration.load(reader));
+    if (p.dupesRadius() != null)
+      ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null));
+    if (p.compareA() != null) {
+      Source.Kind kind = BuildInfo.fromProperties(reader.properties(), reader.dir().toString()).kind();
+      Compare.Options o = Compare.Options.defaults();
+      o = new Compare.Options(o.permutations(), o.seed(), o.sigma(), o.alpha(), o.top(), o.matrixRows(), o.exactMax(), o.sinkhornRows(),
+          o.reg(), o.maxIter(), o.tol(), p.threads());
+      ReportSections.compare(page, Compare.run(new Compare.Params(reader.dir(), Compare.Sample.file(new Source(kind, p.compareA(), null)),
+          Compare.Sample.file(new Source(kind, p.compareB(), null)), null, null, null, null, null, null, o), null));
+    }
     byte[] html = page.finish().getBytes(StandardCharsets.UTF_8);
     write(p.out(), html);
     return new Result(p.out(), html.length, f);

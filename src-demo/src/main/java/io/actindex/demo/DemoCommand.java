@@ -78,6 +78,8 @@ public final class DemoCommand implements ExtraCommand {
     metadata(file("windows.csv"), history);
     features(file("calibration.npy"), plant.calibration());
     features(file("incoming.npy"), plant.incoming());
+    features(file("incoming-ordinary.npy"), plant.incoming().stream().filter(w -> w.planted().isEmpty()).toList());
+    features(file("incoming-odd.npy"), plant.incoming().stream().filter(w -> !w.planted().isEmpty()).toList());
     metadata(file("incoming-truth.csv"), plant.incoming());
     features(file("week47.npy"), plant.weekBefore());
     features(file("week48.npy"), plant.weekAfter());
@@ -123,14 +125,26 @@ public final class DemoCommand implements ExtraCommand {
     if (code == 0) code = run(o, "Which windows does the network not tell apart (within " + DUPES_RADIUS + " flipped neurons)? Leaks across the split and label conflicts are flagged:",
         "dupes", "--index", index, "--radius", Integer.toString(DUPES_RADIUS), "--groups", "5", "--pairs", file("pairs.csv").toString());
     if (code == 0) findings.fromPairs(history, file("pairs.csv"), DUPES_RADIUS);
+    if (code == 0) code = run(o, "Calibrate an out-of-distribution flag on fresh windows the index has not seen (95% of such windows pass):",
+        "ood", "calibrate", "--index", index, "--inputs", file("calibration.npy").toString());
+    int firstOdd = plant.incoming().size() - (int) (count(plant.incoming(), VibrationScenario.NEW_MACHINE)
+        + count(plant.incoming(), VibrationScenario.LOOSE_SENSOR));
+    if (code == 0) code = run(o, "Score incoming windows: two ordinary ones, then two from the new capping machine and two from the loose sensor:",
+        "ood", "score", "--index", index, "--inputs", incoming, "--rows", (firstOdd - 2) + ":" + (firstOdd + 2));
+    if (code == 0) code = run(o, "How well does the flag separate ordinary incoming windows from the odd ones? (page: ood-eval.html)",
+        "ood", "eval", "--index", index, "--in", file("incoming-ordinary.npy").toString(), "--out", file("incoming-odd.npy").toString(),
+        "--html", file("ood-eval.html").toString());
+    if (code == 0) code = oodFindings(index, plant.incoming(), findings);
     if (code == 0) code = run(o, "Has line L1 moved after its bearing change? Week 47 against week 48, as the network sees them:",
         "compare", "--index", index, "--kind", "inputs", "--a", file("week47.npy").toString(), "--b", file("week48.npy").toString());
-    if (code == 0) code = run(o, "A page to look at:", "report", "--index", index, "--out", file("report.html").toString());
+    if (code == 0) code = run(o, "A page to look at (with the near-duplicates and the week 47 / 48 comparison):", "report", "--index", index,
+        "--out", file("report.html").toString(), "--dupes-radius", Integer.toString(DUPES_RADIUS), "--compare-a", file("week47.npy").toString(),
+        "--compare-b", file("week48.npy").toString());
     if (code == 0) code = drift(index, findings);
     if (code != 0) return code;
     o.println();
     o.println("What the demo planted, and what the commands above found:");
-    o.println(String.format(Locale.ROOT, "  %-40s %5s / %-5s %s", "planted", "found", "of", "found as"));
+    o.println(String.format(Locale.ROOT, "  %-48s %5s / %-5s %s", "planted", "found", "of", "found as"));
     for (Findings.Line l : findings.lines()) o.println(l.render());
     o.println();
     o.printf(Locale.ROOT, "Done in %.0f s. Open %s in a browser; every command above can be rerun or varied on the files in %s.%n",
@@ -154,6 +168,25 @@ public final class DemoCommand implements ExtraCommand {
     findings.add("bearing change between weeks 47 and 48", p[0] <= 0.025 ? 1 : 0, 1,
         String.format(Locale.ROOT, "compare: smallest MMD p = %.4f; two halves of week 47: p = %.3f%s", p[0], p[1],
             p[1] <= 0.025 ? " (a false alarm)" : " (no alarm, as it should be)"));
+    return ExitCodes.OK;
+  }
+
+  /** Which incoming windows the calibrated flag calls out, per planted kind, read back from {@code ood score}'s JSON. */
+  private int oodFindings(String index, List<Window> incoming, Findings findings) {
+    Object doc = json("ood", "score", "--index", index, "--inputs", file("incoming.npy").toString(), "--evidence", "0", "--format", "json");
+    if (doc == null) return ExitCodes.INTERNAL;
+    List<?> results = (List<?>) ((Map<?, ?>) doc).get("results");
+    int[] out = new int[3], total = new int[3];
+    List<String> kinds = List.of("", VibrationScenario.NEW_MACHINE, VibrationScenario.LOOSE_SENSOR);
+    for (Object r : results) {
+      Map<?, ?> m = (Map<?, ?>) r;
+      int k = kinds.indexOf(incoming.get(((Number) m.get("query")).intValue()).planted());
+      total[k]++;
+      if ("out".equals(m.get("decision"))) out[k]++;
+    }
+    findings.add("new capping machine (out of distribution)", out[1], total[1], "flagged out by the calibrated threshold");
+    findings.add("loose sensor (out of distribution)", out[2], total[2], "flagged out by the calibrated threshold");
+    findings.add("ordinary incoming windows flagged (false alarms)", out[0], total[0], "about 5% expected at the calibrated rate");
     return ExitCodes.OK;
   }
 
@@ -273,7 +306,10 @@ public final class DemoCommand implements ExtraCommand {
           planted.csv         the planted rows alone: the truth the demo checks its findings against
           calibration.npy     fresh in-distribution windows, for out-of-distribution calibration
           incoming.npy        new unlabelled windows; incoming-truth.csv says which came from the new
-                              capping machine or the loose sensor
+                              capping machine or the loose sensor; incoming-ordinary.npy and
+                              incoming-odd.npy hold the two parts apart (for 'ood eval')
+          pairs.csv           every near-duplicate pair 'dupes' found (id_a,id_b,distance)
+          ood-eval.html       the page 'ood eval' wrote (ROC curve, score histograms)
           week47.npy, week48.npy  line L1 before and after a bearing change; week47-first-half.npy and
                               week47-second-half.npy split week 47 in two (a comparison that should find nothing)
           model.safetensors   the ReLU network trained on the train split

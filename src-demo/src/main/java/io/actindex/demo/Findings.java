@@ -23,7 +23,7 @@ final class Findings {
   /** One line of the summary: a kind of planted problem, how many were found of how many planted, and how. */
   record Line(String kind, int found, int planted, String how) {
     String render() {
-      return String.format(Locale.ROOT, "  %-40s %5d / %-5d %s", kind, found, planted, how);
+      return String.format(Locale.ROOT, "  %-48s %5d / %-5d %s", kind, found, planted, how);
     }
   }
 

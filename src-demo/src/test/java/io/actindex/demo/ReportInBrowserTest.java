@@ -23,7 +23,7 @@ class ReportInBrowserTest {
   @TempDir Path tmp;
 
   /** Sections every report has, each with a chart and a table of its numbers. */
-  static final List<String> SECTIONS = List.of("overview", "regions", "neurons", "nearest-other", "purity");
+  static final List<String> SECTIONS = List.of("overview", "regions", "neurons", "nearest-other", "purity", "ood", "dupes", "compare");
 
   @Test
   void reportRendersOfflineWithEveryChartAndTable() throws Exception {
