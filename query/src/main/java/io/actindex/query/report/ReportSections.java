@@ -21,7 +21,7 @@ public final class ReportSections {
         "The scores of the held-out in-distribution inputs 'ood calibrate' was given: the " + (c.k() == 1 ? "" : c.k() + "-th ")
             + "nearest training distance (" + c.statistic().label + ", k = " + c.k() + ", layers: "
             + (c.layers().isEmpty() ? "all" : String.join(",", c.layers())) + "). Inputs scoring above the threshold are flagged out; "
-            + "about " + HtmlPage.num(100 * (1 - c.tpr())) + "% of in-distribution inputs are flagged too (false alarms).");
+            + "about " + String.format(java.util.Locale.ROOT, "%.0f", 100 * (1 - c.tpr())) + "% of in-distribution inputs are flagged too (false alarms).");
     page.caution(OodCalibration.CAUTION);
     double[] s = c.scores();
     double lo = s.length == 0 ? 0 : s[0], hi = s.length == 0 ? 1 : s[s.length - 1];
