@@ -4,6 +4,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
+import io.actindex.core.IdSet;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
@@ -16,7 +17,6 @@ import java.util.concurrent.ExecutionException;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.Future;
-import org.roaringbitmap.RoaringBitmap;
 
 /**
  * The {@code k} nearest live examples of each query code (exact Hamming distance), optionally
@@ -69,7 +69,7 @@ public final class Nearest {
     int[] shown = Layers.select(layout, p.layers());
     long[] mask = Layers.maskOrNull(layout, p.layers());
     long[][] segMasks = Layers.segmentMasks(layout);
-    RoaringBitmap filter = Where.select(reader.meta(), p.where());
+    IdSet filter = Where.filter(reader, p.where());
     Progress prog = progress == null ? Progress.NONE : progress;
     int n = queries.size();
     Result[] out = new Result[n];
@@ -102,10 +102,10 @@ public final class Nearest {
     return List.of(out);
   }
 
-  private static Result one(IndexReader reader, QueryCodes queries, int i, int k, RoaringBitmap filter, long[] mask,
+  private static Result one(IndexReader reader, QueryCodes queries, int i, int k, IdSet filter, long[] mask,
       int[] shown, long[][] segMasks) {
     long[] q = queries.codes().code(i);
-    Hits hits = reader.knn(q, k, filter, mask);
+    Hits hits = reader.search(q, k, filter, mask);
     CodeLayout layout = reader.layout();
     MetaStore meta = reader.meta();
     List<Neighbor> list = new ArrayList<>(hits.size());
