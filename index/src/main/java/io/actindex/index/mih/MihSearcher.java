@@ -156,6 +156,20 @@ final class MihSearcher implements CodeSearcher {
     return top.size() == k ? Math.min(maxDist, top.bound()) : maxDist;
   }
 
+  /**
+   * Estimated cost of the tables finding every code within {@code bound} of {@code query} (bucket
+   * statistics measured at build), for choosing between table layouts.
+   */
+  double tablesCost(long[] query, int bound) {
+    int[] active = activeTables(null);
+    Scratch s = scratch.get().begin(this, query, active);
+    try {
+      return tablesCost(s, active, bound, plan.constantDistance(query, null));
+    } finally {
+      s.end();
+    }
+  }
+
   /** Estimated cost of probing every shell the tables would need to find all codes within {@code bound}. */
   private double tablesCost(Scratch s, int[] active, int bound, int c) {
     int m = active.length;

@@ -94,9 +94,10 @@ final class Partition {
       majority(block, sampleOrd, assign, centres, clusters);
     }
     int[] dist = new int[n];
+    Assigner assigner = new Assigner(centres, clusters, w);
     IntStream.range(0, (n + 4095) >>> 12).parallel().forEach(chunk -> {
       for (int i = chunk << 12, end = Math.min(n, i + 4096); i < end; i++) {
-        int c = nearest(centres, clusters, data, i * w, w);
+        int c = assigner.nearest(data, i * w);
         assign[i] = c;
         dist[i] = Hamming.distance(centres, c * w, data, i * w, w);
       }
@@ -124,6 +125,64 @@ final class Partition {
       }
     }
     return best;
+  }
+
+  /**
+   * Nearest centre of a code without comparing it with every centre: the nearest of a few pivot
+   * centres, p, is found first; the other centres are tried in ascending distance from p, and since
+   * {@code d(x,c) >= d(p,c) - d(x,p)}, the walk stops once {@code d(p,c) - d(x,p)} reaches the best
+   * distance so far (Elkan, "Using the Triangle Inequality to Accelerate k-Means", ICML 2003, lemma 1
+   * in its one-sided form). Any nearest centre will do: exactness of the search does not depend on it.
+   */
+  private static final class Assigner {
+    private static final int PIVOTS = 32;
+    final long[] centres;
+    final int clusters, w, pivots;
+    final int[][] byDistance; // per pivot: all centres by ascending distance to it
+    final int[][] distances; // per pivot: those distances
+
+    Assigner(long[] centres, int clusters, int w) {
+      this.centres = centres;
+      this.clusters = clusters;
+      this.w = w;
+      pivots = Math.min(PIVOTS, clusters);
+      byDistance = new int[pivots][];
+      distances = new int[pivots][];
+      for (int p = 0; p < pivots; p++) {
+        int pc = (int) ((long) p * clusters / pivots);
+        long[] key = new long[clusters];
+        for (int c = 0; c < clusters; c++) key[c] = ((long) Hamming.distance(centres, pc * w, centres, c * w, w) << 32) | c;
+        Arrays.sort(key);
+        byDistance[p] = new int[clusters];
+        distances[p] = new int[clusters];
+        for (int i = 0; i < clusters; i++) {
+          byDistance[p][i] = (int) key[i];
+          distances[p][i] = (int) (key[i] >>> 32);
+        }
+      }
+    }
+
+    int nearest(long[] data, int off) {
+      int bestPivot = 0, dxp = Integer.MAX_VALUE;
+      for (int p = 0; p < pivots; p++) {
+        int d = Hamming.distance(data, off, centres, (int) ((long) p * clusters / pivots) * w, w);
+        if (d < dxp) {
+          dxp = d;
+          bestPivot = p;
+        }
+      }
+      int best = (int) ((long) bestPivot * clusters / pivots), bestD = dxp;
+      int[] order = byDistance[bestPivot], dist = distances[bestPivot];
+      for (int i = 0; i < clusters && dist[i] - dxp < bestD; i++) {
+        int c = order[i];
+        int d = Hamming.distanceBounded(data, off, centres, c * w, w, bestD);
+        if (d < bestD) {
+          bestD = d;
+          best = c;
+        }
+      }
+      return best;
+    }
   }
 
   /** Moves each centre to the bitwise majority of its sample members (a centre with none stays). */
