@@ -29,7 +29,9 @@ public final class IdSet implements IntPredicate {
       throw new IllegalArgumentException(words.length + " words cannot hold " + size + " ids");
     for (int i = size; i < (long) words.length << 6; i = (i | 63) + 1)
       if ((words[i >>> 6] >>> (i & 63)) != 0) throw new IllegalArgumentException("bits set past size " + size);
-    return new IdSet(words, 0, size, -1);
+    int count = 0;
+    for (long x : words) count += Long.bitCount(x);
+    return new IdSet(words, 0, size, count);
   }
 
   /** The given ids (each in {@code [0, size)}) in a set over {@code [0, size)}. */

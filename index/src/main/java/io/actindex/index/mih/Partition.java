@@ -224,8 +224,8 @@ final class Partition {
 
   /**
    * First step of a query: distances to every centre, clusters sorted nearest first (a counting
-   * sort on the distance), then the nearest clusters scanned until the top holds k codes (or all
-   * are seen). Returns the number of clusters fully scanned.
+   * sort on the distance), then, when no cap is given, the nearest clusters scanned until the top
+   * holds k codes (or all are seen). Returns the number of clusters fully scanned.
    */
   int begin(long[] q, int bits, Visit v, IntPredicate accept, TopK top, int k, int maxDist) {
     int clusters = clusters(), w = words;
@@ -244,7 +244,9 @@ final class Partition {
       v.dq[p] = d[c];
     }
     int done = 0;
-    while (done < clusters && top.size() < k) {
+    // without a cap from elsewhere, the nearest clusters provide the first k-th distance; with one,
+    // the windows under the cap do (a cap may leave fewer than k codes reachable in this block)
+    while (maxDist == Integer.MAX_VALUE && done < clusters && top.size() < k) {
       int c = v.order[done];
       ScanKernel.knn(q, null, codes, w, start[c], start[c + 1], ords, accept, top, maxDist);
       done++;

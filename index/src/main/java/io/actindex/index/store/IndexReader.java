@@ -39,6 +39,7 @@ public final class IndexReader implements AutoCloseable {
   private final int liveCount;
   private final IdSet live; // over [0, maxId); null when nothing is deleted
   private final Segment[] bySize; // largest first: the search order that shares the k-th distance
+  private final Map<Segment, IdSet> liveOrdinals; // per segment, counted once; empty when nothing is deleted
 
   private IndexReader(Path dir, Manifest manifest, List<Segment> segments, RoaringBitmap deleted,
       Map<String, byte[]> attachments, MetaStore meta) {
@@ -54,6 +55,13 @@ public final class IndexReader implements AutoCloseable {
     this.live = deleted.isEmpty() ? null : toIdSet(deleted, manifest.nextId(), true);
     this.bySize = this.segments.toArray(new Segment[0]);
     Arrays.sort(bySize, (a, b) -> Integer.compare(b.size(), a.size()));
+    this.liveOrdinals = new java.util.IdentityHashMap<>();
+    if (live != null)
+      for (Segment s : this.segments) {
+        IdSet o = ordinals(s, live);
+        if (o != null) o.count(); // counted here, not per query
+        liveOrdinals.put(s, o);
+      }
   }
 
   /** The ids of {@code bits} below {@code size} (or, with {@code complement}, the others) as an IdSet. */
@@ -247,7 +255,7 @@ public final class IndexReader implements AutoCloseable {
     TopK top = new TopK(k);
     for (Segment s : bySize) {
       int maxDist = top.size() == k ? top.bound() : Integer.MAX_VALUE;
-      Hits h = s.searcher().knn(query, k, ordinals(s, accept), mask, maxDist);
+      Hits h = s.searcher().knn(query, k, filter == null ? liveOrdinals.get(s) : ordinals(s, accept), mask, maxDist);
       for (int i = 0; i < h.size(); i++) top.offer(s.id(h.ord(i)), h.dist(i));
     }
     return top.toHits();
@@ -261,7 +269,7 @@ public final class IndexReader implements AutoCloseable {
     int total = 0;
     List<Hits> parts = new ArrayList<>(segments.size());
     for (Segment s : segments) {
-      Hits h = s.searcher().radius(query, radius, ordinals(s, accept), mask);
+      Hits h = s.searcher().radius(query, radius, filter == null ? liveOrdinals.get(s) : ordinals(s, accept), mask);
       parts.add(h);
       total += h.size();
     }
