@@ -81,11 +81,11 @@ public class RealUseBench {
     pool = BenchData.queries(data, queries, n, bits).codeArrays();
     switch (scenario) {
       case "scan" -> scan = new ScanSearcher(codes);
-      case "clean", "mask", "filter10", "filter1", "filter0.01" -> reader = IndexReader.open(store(codes, 1, null));
-      case "tomb1" -> reader = IndexReader.open(store(codes, 1, "tomb1"));
-      case "deleted1" -> reader = IndexReader.open(store(codes, 1, "deleted1"));
-      case "deleted30" -> reader = IndexReader.open(store(codes, 1, "deleted30"));
-      case "segments10" -> reader = IndexReader.open(store(codes, 10, null));
+      case "clean", "mask", "filter10", "filter1", "filter0.01" -> reader = IndexReader.open(store(data, codes, 1, null));
+      case "tomb1" -> reader = IndexReader.open(store(data, codes, 1, "tomb1"));
+      case "deleted1" -> reader = IndexReader.open(store(data, codes, 1, "deleted1"));
+      case "deleted30" -> reader = IndexReader.open(store(data, codes, 1, "deleted30"));
+      case "segments10" -> reader = IndexReader.open(store(data, codes, 10, null));
       default -> throw new IllegalArgumentException("unknown scenario " + scenario);
     }
     if (scenario.startsWith("filter")) {
@@ -117,8 +117,8 @@ public class RealUseBench {
   }
 
   /** The cached store of these codes in {@code segments} batches, with the named deletions applied. */
-  static synchronized Path store(CodeBlock codes, int segments, String deletions) {
-    String name = "realuse-" + Integer.toHexString(codes.layout().hash()) + "-n" + codes.size() + "-s" + segments
+  static synchronized Path store(String data, CodeBlock codes, int segments, String deletions) {
+    String name = "realuse-" + data + "-n" + codes.size() + "-b" + codes.layout().bits() + "-s" + segments
         + (deletions == null ? "" : "-" + deletions);
     Path dir = BenchData.dir().resolve(name), done = dir.resolveSibling(name + ".done");
     if (Files.exists(done)) return dir;
@@ -130,7 +130,7 @@ public class RealUseBench {
           for (int b = 0; b < segments; b++) w.add(codes.slice((int) ((long) b * n / segments), (int) ((long) (b + 1) * n / segments)), null);
         }
       } else { // a copy of the clean store, then one delete
-        Path clean = store(codes, segments, null);
+        Path clean = store(data, codes, segments, null);
         try (Stream<Path> s = Files.walk(clean)) {
           for (Path p : s.toList()) Files.copy(p, dir.resolve(clean.relativize(p).toString()));
         }
