@@ -259,6 +259,7 @@ final class Partition {
    * current k-th distance {@code bound}; also fixes each remaining cluster's window for it.
    */
   long estimate(Visit v, int from, int bound) {
+    bound = Math.min(bound, Character.MAX_VALUE); // no distance exceeds it: keeps dq + bound from overflowing
     long total = 0;
     for (int p = from; p < clusters(); p++) {
       int c = v.order[p], dq = v.dq[p];
@@ -280,7 +281,7 @@ final class Partition {
     for (int p = from; p < clusters(); p++) {
       int lo = v.lo[p], hi = v.hi[p];
       if (lo >= hi) continue;
-      int c = v.order[p], dq = v.dq[p], bound = Math.min(maxDist, top.bound());
+      int c = v.order[p], dq = v.dq[p], bound = Math.min(Character.MAX_VALUE, Math.min(maxDist, top.bound()));
       if (dq - maxOfMaxRadius > bound) break; // no later cluster can hold a code within the bound
       if (dq - maxRadius[c] > bound) continue;
       lo = firstAtLeast(lo, hi, dq - bound);
