@@ -213,6 +213,21 @@ public final class Searchers {
       int[] ids = readInts(in, n);
       tables[t] = new SubstringTable(width, keys, offsets, ids);
     }
+    // the rest of the stream (version 2) before the checks against the codes
+    PlannerCosts cost = PlannerCosts.defaults();
+    Partition partition = null;
+    if (version >= 2) {
+      double[] c = new double[PlannerCosts.COUNT];
+      for (int i = 0; i < c.length; i++) c[i] = in.readDouble();
+      try {
+        cost = PlannerCosts.of(c);
+      } catch (IllegalArgumentException e) {
+        throw bad(e.getMessage());
+      }
+      int kind = in.readUnsignedByte();
+      if (kind == 1) partition = readPartition(in, codes);
+      else if (kind != 0) throw bad("partition kind " + kind + " is unknown");
+    }
     BitPlan plan;
     try {
       plan = new BitPlan(bits, constMask, constValue, tableBits);
@@ -235,20 +250,6 @@ public final class Searchers {
           if (plan.key(data, ord * w, t) != key) throw bad("table " + t + " files ordinal " + ord + " under the wrong key");
         }
       }
-    }
-    PlannerCosts cost = PlannerCosts.defaults();
-    Partition partition = null;
-    if (version >= 2) {
-      double[] c = new double[PlannerCosts.COUNT];
-      for (int i = 0; i < c.length; i++) c[i] = in.readDouble();
-      try {
-        cost = PlannerCosts.of(c);
-      } catch (IllegalArgumentException e) {
-        throw bad(e.getMessage());
-      }
-      int kind = in.readUnsignedByte();
-      if (kind == 1) partition = readPartition(in, codes);
-      else if (kind != 0) throw bad("partition kind " + kind + " is unknown");
     }
     return new MihSearcher(codes, plan, tables, STRATEGY_IDS[sid], partition, cost);
   }
