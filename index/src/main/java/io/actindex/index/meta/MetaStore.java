@@ -161,9 +161,18 @@ public final class MetaStore implements Closeable {
   public static Map<String, String> checkFiles(Path metaDir, String segmentsFile) {
     if (!java.nio.file.Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
     try (Directory dir = FSDirectory.open(metaDir)) {
-      IndexCommit commit = findCommit(metaDir, dir, segmentsFile);
+      java.util.Collection<String> names;
+      String commitProblem = null;
+      try {
+        names = findCommit(metaDir, dir, segmentsFile).getFileNames();
+      } catch (BadInputException e) {
+        commitProblem = e.getMessage();
+        // the commit does not parse: check every file of the folder, so the damaged one is named
+        names = new ArrayList<>(List.of(dir.listAll()));
+        names.remove("write.lock");
+      }
       Map<String, String> out = new LinkedHashMap<>();
-      for (String name : new java.util.TreeSet<>(commit.getFileNames())) {
+      for (String name : new java.util.TreeSet<>(names)) {
         try (IndexInput in = dir.openInput(name, IOContext.READONCE)) {
           CodecUtil.checksumEntireFile(in);
           out.put(name, null);
@@ -171,6 +180,8 @@ public final class MetaStore implements Closeable {
           out.put(name, "damaged: " + e.getMessage());
         }
       }
+      if (commitProblem != null && out.values().stream().allMatch(java.util.Objects::isNull))
+        out.put(segmentsFile, "unreadable: " + commitProblem);
       return out;
     } catch (IOException e) {
       throw new UncheckedIOException("cannot read metadata store " + metaDir, e);

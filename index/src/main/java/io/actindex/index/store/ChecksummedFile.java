@@ -268,6 +268,11 @@ public final class ChecksummedFile {
       return at;
     }
 
+    /** Skips {@code n} bytes of field {@code field}. */
+    public void skip(String field, long n) {
+      take(field, n);
+    }
+
     public int getInt(String field) {
       return bytes.get(INT, take(field, 4));
     }

@@ -25,7 +25,7 @@ public record MergePolicy(long maxSegmentBytes, int mergeFactor, int floorCodes)
   public static final int DEFAULT_MERGE_FACTOR = 10, DEFAULT_FLOOR_CODES = 10_000;
 
   public MergePolicy {
-    if (maxSegmentBytes < 1024) throw new IllegalArgumentException("segment cap " + maxSegmentBytes + " < 1024 bytes");
+    if (maxSegmentBytes < 1) throw new IllegalArgumentException("segment cap " + maxSegmentBytes + " < 1 byte");
     if (mergeFactor < 2) throw new IllegalArgumentException("merge factor " + mergeFactor + " < 2");
     if (floorCodes < 1) throw new IllegalArgumentException("floor " + floorCodes + " < 1");
   }
