@@ -30,6 +30,7 @@ final class AddCommand implements Callable<Integer> {
       result = IndexBuilder.add(params, bar);
     }
     Summaries.written(spec.commandLine().getOut(), format.format, "added to", index.dir, result);
+    Summaries.warnings(spec.commandLine().getErr(), result.warnings());
     return ExitCodes.OK;
   }
 }

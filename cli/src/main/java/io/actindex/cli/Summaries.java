@@ -34,4 +34,10 @@ final class Summaries {
     }
     out.flush();
   }
+
+  /** Problems that did not undo a commit, one line each on stderr. */
+  static void warnings(PrintWriter err, List<String> warnings) {
+    for (String w : warnings) err.println("warning: " + w.replaceAll("\\p{Cntrl}", " "));
+    err.flush();
+  }
 }

@@ -7,6 +7,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
+import io.actindex.index.store.StoreIo;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -54,10 +55,26 @@ public final class IndexBuilder {
     }
   }
 
-  /** What was written: ids {@code [firstId, firstId + rows)} in the layout {@code layout}. */
-  public record Result(int firstId, int rows, CodeLayout layout) {}
+  /**
+   * What was written: ids {@code [firstId, firstId + rows)} in the layout {@code layout};
+   * {@code warnings} are problems that did not undo the commit (old files left to clean).
+   */
+  public record Result(int firstId, int rows, CodeLayout layout, List<String> warnings) {
+    public Result {
+      warnings = List.copyOf(warnings);
+    }
+
+    public Result(int firstId, int rows, CodeLayout layout) {
+      this(firstId, rows, layout, List.of());
+    }
+  }
 
   public static Result build(BuildParams p, Progress progress) {
+    return build(p, progress, StoreIo.REAL);
+  }
+
+  /** As {@link #build(BuildParams, Progress)}, writing through {@code io} (tests inject failures there). */
+  public static Result build(BuildParams p, Progress progress, StoreIo io) {
     if (p.source().kind() == Source.Kind.INPUTS && p.source().model() == null)
       throw new BadInputException(p.source().file() + ": building from inputs needs a model file");
     checkEmptyOrAbsent(p.dir());
@@ -75,15 +92,18 @@ public final class IndexBuilder {
     boolean existed = Files.exists(p.dir());
     IndexWriter created;
     try {
-      created = IndexWriter.create(p.dir(), codes.layout(), info.toProperties());
-    } catch (RuntimeException e) {
-      if (!existed) deleteIfEmpty(p.dir()); // only the empty folder create() may have made
+      created = IndexWriter.create(p.dir(), codes.layout(), info.toProperties(), io);
+    } catch (BadInputException e) {
+      if (!existed) deleteIfEmpty(p.dir()); // refused before writing: only the empty folder may be ours
+      throw e;
+    } catch (RuntimeException | Error e) {
+      removeBuilt(p.dir(), existed, e); // failed while writing (disk full...): the retry needs an empty folder
       throw e;
     }
     try (IndexWriter w = created) {
       if (model != null) w.putAttachment(BuildInfo.MODEL, model);
       int first = w.add(codes, meta);
-      return new Result(first, codes.size(), codes.layout());
+      return new Result(first, codes.size(), codes.layout(), w.takeWarnings());
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e);
       throw e;
@@ -111,7 +131,7 @@ public final class IndexBuilder {
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       int first = w.add(codes, meta);
-      return new Result(first, codes.size(), codes.layout());
+      return new Result(first, codes.size(), codes.layout(), w.takeWarnings());
     }
   }
 
