@@ -4,25 +4,26 @@ import java.util.ArrayList;
 import java.util.List;
 
 /**
- * When segments merge, and how big one may grow (log-structured merging, as in O'Neil, Cheng,
- * Gawlick and O'Neil, "The Log-Structured Merge-Tree", Acta Informatica 1996; the adjacent-window
- * rule is common practice in search engines). A segment's level grows with the logarithm (base
- * {@code mergeFactor}) of its live codes above {@code floorCodes}; whenever {@code mergeFactor}
- * adjacent segments share a level and together fit under the size cap, they merge into one. As
- * adds append at the end, the segments form a base-{@code mergeFactor} counter: at most {@code
- * mergeFactor - 1} per level, so their count grows with the logarithm of the data (plus the
- * segments that reached the cap).
+ * When segments merge, and how big one may grow: log-structured merging (O'Neil, Cheng, Gawlick and
+ * O'Neil, "The Log-Structured Merge-Tree", Acta Informatica 1996) over adjacent segments. The index
+ * may hold {@code mergeFactor - 1} segments per level, levels counted as the logarithm (base {@code
+ * mergeFactor}) of the live codes over {@code floorCodes}: a budget that grows with the logarithm of
+ * the data. Past the budget, the window of {@code mergeFactor} adjacent segments whose largest
+ * member is smallest (and that fits under the size cap) merges into one, so small segments merge
+ * first and a big one is rewritten only when enough data has piled up beside it (choosing balanced
+ * merges is common practice in search engines). When no window fits under the cap, every window
+ * holds more than a cap's worth, so the count is at most {@code mergeFactor} per cap's worth.
  *
  * @param maxSegmentBytes cap on one segment's codes file; {@code add} and merges split or stop
  *     there. The default keeps every array the reader allocates well inside Java's limits.
  * @param mergeFactor segments per merge (at least 2)
- * @param floorCodes segments up to this many live codes share level 0
+ * @param floorCodes live codes below which data counts as one level
  */
 public record MergePolicy(long maxSegmentBytes, int mergeFactor, int floorCodes) {
   /** System properties that override the defaults (tests lower them). */
   public static final String MAX_BYTES_PROPERTY = "actindex.segment.maxBytes", FACTOR_PROPERTY = "actindex.merge.factor";
   public static final long DEFAULT_MAX_SEGMENT_BYTES = 4L << 30;
-  public static final int DEFAULT_MERGE_FACTOR = 10, DEFAULT_FLOOR_CODES = 10_000;
+  public static final int DEFAULT_MERGE_FACTOR = 4, DEFAULT_FLOOR_CODES = 65_536;
 
   public MergePolicy {
     if (maxSegmentBytes < 1) throw new IllegalArgumentException("segment cap " + maxSegmentBytes + " < 1 byte");
@@ -41,28 +42,36 @@ public record MergePolicy(long maxSegmentBytes, int mergeFactor, int floorCodes)
     return Segment.maxCodes(maxSegmentBytes, words);
   }
 
-  int level(long liveCodes) {
-    if (liveCodes <= floorCodes) return 0;
-    return 1 + (int) Math.floor(Math.log((double) liveCodes / floorCodes) / Math.log(mergeFactor));
+  /** Segments the index may hold for {@code liveCodes} live codes before it merges. */
+  int budget(long liveCodes) {
+    int levels = 1 + (int) Math.floor(Math.log((double) Math.max(liveCodes, floorCodes) / floorCodes) / Math.log(mergeFactor));
+    return (mergeFactor - 1) * levels;
   }
 
   /**
    * The next window of adjacent segments to merge, as [from, to) indices into {@code live} (live
-   * codes per segment, in id order), or null. The rightmost qualifying window wins.
+   * codes per segment, in id order), or null when the count is within the budget or no window fits.
    */
   int[] next(List<Long> live, int words) {
+    long total = 0;
+    for (long l : live) total += l;
+    if (live.size() <= budget(total)) return null;
     int f = mergeFactor, max = maxCodes(words);
-    for (int from = live.size() - f; from >= 0; from--) {
-      int lvl = level(live.get(from));
-      long sum = 0;
-      boolean same = true;
-      for (int i = from; i < from + f && same; i++) {
-        same = level(live.get(i)) == lvl;
+    int best = -1;
+    long bestMax = Long.MAX_VALUE, bestSum = Long.MAX_VALUE;
+    for (int from = 0; from + f <= live.size(); from++) {
+      long sum = 0, big = 0;
+      for (int i = from; i < from + f; i++) {
         sum += live.get(i);
+        big = Math.max(big, live.get(i));
       }
-      if (same && sum <= max) return new int[] {from, from + f};
+      if (sum <= max && (big < bestMax || (big == bestMax && sum < bestSum))) {
+        best = from;
+        bestMax = big;
+        bestSum = sum;
+      }
     }
-    return null;
+    return best < 0 ? null : new int[] {best, best + f};
   }
 
   /** Splits {@code n} codes into pieces of at most {@link #maxCodes} each (lengths). */

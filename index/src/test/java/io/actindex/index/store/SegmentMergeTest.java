@@ -83,10 +83,9 @@ class SegmentMergeTest {
       assertEquals(used, r.maxId(), why);
       int segs = r.info().segments().size();
       for (IndexInfo.SegmentInfo s : r.info().segments()) assertTrue(s.count() <= cap, why + ": segment of " + s.count());
-      // a base-3 counter over levels of live sizes: at most 2 per level below the cap, plus full ones
+      // within the budget (2 per level of the live size), or no window of 3 fits under the cap
       int live = r.liveCount();
-      int levels = policy.level(cap) + 1;
-      int bound = (policy.mergeFactor() - 1) * levels + (live + cap - 1) / cap * 2;
+      int bound = Math.max(policy.budget(live), policy.mergeFactor() * (live / cap + 1));
       assertTrue(segs <= bound, why + ": " + segs + " segments for " + live + " live codes, bound " + bound);
       for (int q = 0; q < 12; q++) {
         long[] query = rnd.nextBoolean() ? all.code(rnd.nextInt(used)) : pool.code(rnd.nextInt(pool.size()));
