@@ -122,8 +122,12 @@ class StorageCommandsEndToEndTest {
     refused(Cli.run("delete", "--index", idx.toString(), "--keys", latin1.toString()), "latin1.txt");
     refused(Cli.run("delete", "--index", idx.toString(), "--where", "label = "), "where");
     refused(Cli.run("delete", "--index", idx.toString(), "--where", "nosuchfield = 1"), "nosuchfield");
-    refused(Cli.run("delete", "--index", idx.toString()), "--keys");
-    refused(Cli.run("delete", "--index", idx.toString(), "--keys", unknown.toString(), "--where", "label = a"), "--keys");
+    // option conflicts are usage errors: exit 2, the error and the usual "--help" hint
+    for (Cli.Result u : List.of(Cli.run("delete", "--index", idx.toString()),
+        Cli.run("delete", "--index", idx.toString(), "--keys", unknown.toString(), "--where", "label = a"))) {
+      assertThat(u.code()).as(u.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(u.err()).as(u.describe()).contains("--keys").contains("--where").doesNotContain("\tat ");
+    }
     for (String cmd : List.of("delete", "compact", "check")) {
       List<String> args = new ArrayList<>(List.of(cmd, "--index", tmp.resolve("no-such-index").toString()));
       if (cmd.equals("delete")) args.addAll(List.of("--where", "label = a"));

@@ -13,7 +13,6 @@ import java.nio.channels.FileChannel;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Arrays;
-import org.apache.lucene.store.Directory;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -27,36 +26,11 @@ class BuildFailureTest {
   /** The real file system, failing the {@code failAt}-th file creation. */
   private static StoreIo fullAt(int failAt) {
     int[] created = {0};
-    return new StoreIo() {
+    return new StoreIo.Forwarding(StoreIo.REAL) {
       @Override
       public FileChannel create(Path file) throws IOException {
         if (created[0]++ == failAt) throw new IOException("No space left on device (injected)");
-        return REAL.create(file);
-      }
-
-      @Override
-      public void force(FileChannel channel, Path file) throws IOException {
-        REAL.force(channel, file);
-      }
-
-      @Override
-      public void move(Path from, Path to) throws IOException {
-        REAL.move(from, to);
-      }
-
-      @Override
-      public void syncDir(Path dir) throws IOException {
-        REAL.syncDir(dir);
-      }
-
-      @Override
-      public void delete(Path file) throws IOException {
-        REAL.delete(file);
-      }
-
-      @Override
-      public Directory lucene(Path dir) throws IOException {
-        return REAL.lucene(dir);
+        return super.create(file);
       }
     };
   }
@@ -67,7 +41,8 @@ class BuildFailureTest {
     SyntheticCodes.Sample s = SyntheticCodes.reluLike(120, 24, 16, seed);
     Path acts = TestFiles.npyFloat32(tmp.resolve("a.npy"), 120, 40, Arrays.copyOf(s.activations(), 120 * 40));
     // files a build creates: manifest-1.tmp, seg-0.codes, seg-0.tables, manifest-2.tmp
-    for (int failAt = 0; failAt < 4; failAt++) {
+    for (int k = 0; k < 4; k++) {
+      int failAt = k;
       Path out = tmp.resolve("idx-" + failAt);
       IndexBuilder.BuildParams p = new IndexBuilder.BuildParams(out, Source.activations(acts), null);
       assertThrows(RuntimeException.class, () -> IndexBuilder.build(p, null, fullAt(failAt)), "fail at " + failAt);

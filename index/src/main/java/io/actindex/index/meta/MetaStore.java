@@ -334,13 +334,34 @@ public final class MetaStore implements Closeable {
 
   /** The bare ids that {@code query} matches (see the class comment). */
   private RoaringBitmap selectBare(Query query) throws IOException {
-    java.util.Set<Term> terms = new java.util.HashSet<>();
-    query.visit(org.apache.lucene.search.QueryVisitor.termCollector(terms));
+    // every bare id whose synthesized key the query names anywhere (also under "not")
     RoaringBitmap named = new RoaringBitmap();
-    for (Term t : terms) {
-      int id = t.field().equals(MetaSchema.KEY) ? syntheticId(t.text()) : -1;
-      if (id >= 0 && bare.contains(id)) named.add(id);
-    }
+    query.visit(new org.apache.lucene.search.QueryVisitor() {
+      @Override
+      public void consumeTerms(Query q, Term... terms) {
+        for (Term t : terms) {
+          int id = t.field().equals(MetaSchema.KEY) ? syntheticId(t.text()) : -1;
+          if (id >= 0 && bare.contains(id)) named.add(id);
+        }
+      }
+
+      @Override
+      public void consumeTermsMatching(Query q, String field,
+          java.util.function.Supplier<org.apache.lucene.util.automaton.ByteRunAutomaton> automaton) {
+        if (!field.equals(MetaSchema.KEY)) return;
+        org.apache.lucene.util.automaton.ByteRunAutomaton a = automaton.get();
+        for (int id : bare) {
+          byte[] key = ("row-" + id).getBytes(java.nio.charset.StandardCharsets.UTF_8);
+          if (a.run(key, 0, key.length)) named.add(id);
+        }
+      }
+
+      @Override
+      public org.apache.lucene.search.QueryVisitor getSubVisitor(org.apache.lucene.search.BooleanClause.Occur occur,
+          Query parent) {
+        return this;
+      }
+    });
     try (Directory mem = new org.apache.lucene.store.ByteBuffersDirectory();
         org.apache.lucene.index.IndexWriter w = new org.apache.lucene.index.IndexWriter(mem,
             new org.apache.lucene.index.IndexWriterConfig())) {

@@ -66,4 +66,43 @@ public interface StoreIo {
       return FSDirectory.open(dir);
     }
   };
+
+  /** Forwards every call to a delegate; tests override the calls they observe or break. */
+  class Forwarding implements StoreIo {
+    protected final StoreIo delegate;
+
+    public Forwarding(StoreIo delegate) {
+      this.delegate = delegate;
+    }
+
+    @Override
+    public FileChannel create(Path file) throws IOException {
+      return delegate.create(file);
+    }
+
+    @Override
+    public void force(FileChannel channel, Path file) throws IOException {
+      delegate.force(channel, file);
+    }
+
+    @Override
+    public void move(Path from, Path to) throws IOException {
+      delegate.move(from, to);
+    }
+
+    @Override
+    public void syncDir(Path dir) throws IOException {
+      delegate.syncDir(dir);
+    }
+
+    @Override
+    public void delete(Path file) throws IOException {
+      delegate.delete(file);
+    }
+
+    @Override
+    public Directory lucene(Path dir) throws IOException {
+      return delegate.lucene(dir);
+    }
+  }
 }

@@ -14,7 +14,6 @@ import java.nio.file.Path;
 import java.util.List;
 import java.util.Map;
 import java.util.function.Predicate;
-import org.apache.lucene.store.Directory;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -28,37 +27,17 @@ class WriteFailureTest {
 
   /** The real file system, except that {@code create} or {@code delete} of matching files fails. */
   private static StoreIo failing(Predicate<Path> failCreate, Predicate<Path> failDelete) {
-    return new StoreIo() {
+    return new StoreIo.Forwarding(StoreIo.REAL) {
       @Override
       public FileChannel create(Path file) throws IOException {
         if (failCreate.test(file)) throw new IOException("No space left on device (injected)");
-        return REAL.create(file);
-      }
-
-      @Override
-      public void force(FileChannel channel, Path file) throws IOException {
-        REAL.force(channel, file);
-      }
-
-      @Override
-      public void move(Path from, Path to) throws IOException {
-        REAL.move(from, to);
-      }
-
-      @Override
-      public void syncDir(Path dir) throws IOException {
-        REAL.syncDir(dir);
+        return super.create(file);
       }
 
       @Override
       public void delete(Path file) throws IOException {
         if (failDelete.test(file)) throw new IOException("Permission denied (injected)");
-        REAL.delete(file);
-      }
-
-      @Override
-      public Directory lucene(Path dir) throws IOException {
-        return REAL.lucene(dir);
+        super.delete(file);
       }
     };
   }
