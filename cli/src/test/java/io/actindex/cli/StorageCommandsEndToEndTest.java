@@ -136,6 +136,9 @@ class StorageCommandsEndToEndTest {
       args.set(2, file.toString());
       refused(Cli.run(args.toArray(String[]::new)), "plain-file");
     }
+    Path plain = Files2.text(tmp.resolve("plain-file"), List.of("x"));
+    refused(Cli.run("build", "--out", plain.resolve("idx").toString(), "--codes",
+        Files2.bits(tmp.resolve("one.npy"), new boolean[][] {codes[0]}).toString()), "plain-file");
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 

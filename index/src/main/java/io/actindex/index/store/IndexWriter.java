@@ -60,8 +60,9 @@ public final class IndexWriter implements AutoCloseable {
   /** As {@link #create(Path, CodeLayout, Map)}, writing through {@code io}. */
   public static IndexWriter create(Path dir, CodeLayout layout, Map<String, String> properties, StoreIo io) {
     try {
-      if (Files.exists(dir) && !Files.isDirectory(dir))
-        throw new BadInputException("cannot create an index in " + dir + ": it exists and is not a folder");
+      for (Path p = dir.toAbsolutePath(); p != null; p = p.getParent())
+        if (Files.exists(p) && !Files.isDirectory(p))
+          throw new BadInputException("cannot create an index in " + dir + ": " + p + " exists and is not a folder");
       Files.createDirectories(dir);
       try (Stream<Path> s = Files.list(dir)) {
         if (s.findAny().isPresent()) throw new BadInputException("cannot create an index in " + dir + ": folder is not empty");
