@@ -1,11 +1,35 @@
 package io.actindex.cli;
 
+import io.actindex.query.Snippet;
+import java.util.ArrayList;
 import java.util.List;
+import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
+import picocli.CommandLine.ParameterException;
+import picocli.CommandLine.Spec;
 
-/** Mixin: {@code --layers a,b}: which layers (code segments) to use. */
+/**
+ * Mixin: {@code --layers a,b}: which layers (code segments) to use. An empty name ({@code --layers ,}
+ * or {@code a,,b}) or a name given twice is refused when the command line is parsed.
+ */
 public final class LayersOption {
-  @Option(names = "--layers", paramLabel = "LAYER", split = ",",
-      description = "Only these layers, comma separated (names as 'actindex info' lists them). Default: all.")
+  @Spec(Spec.Target.MIXEE) CommandSpec mixee;
+
+  /** The chosen layers in order, or null for all. */
   List<String> layers;
+
+  @Option(names = "--layers", paramLabel = "LAYER[,LAYER...]",
+      description = "Only these layers, comma separated (names as 'actindex info' lists them). Default: all.")
+  void layers(List<String> values) {
+    List<String> names = new ArrayList<>();
+    for (String value : values)
+      for (String name : value.split(",", -1)) {
+        if (name.isBlank())
+          throw new ParameterException(mixee.commandLine(), "--layers '" + Snippet.of(value) + "': empty layer name; give names like h1,h2");
+        if (names.contains(name.strip()))
+          throw new ParameterException(mixee.commandLine(), "--layers: layer '" + Snippet.of(name.strip()) + "' is given twice");
+        names.add(name.strip());
+      }
+    layers = List.copyOf(names);
+  }
 }

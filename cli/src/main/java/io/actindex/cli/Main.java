@@ -67,7 +67,7 @@ public final class Main implements Callable<Integer> {
 
   /** Runs one command line and returns its exit code (for tests and embedding). */
   public static int run(PrintWriter out, PrintWriter err, String... args) {
-    int code = commandLine(out, err).execute(args);
+    int code = ErrorHandler.execute(commandLine(out, err), args);
     out.flush();
     err.flush();
     return code;

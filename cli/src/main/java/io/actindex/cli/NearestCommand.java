@@ -23,7 +23,9 @@ import picocli.CommandLine.Spec;
 /** {@code actindex nearest}: the k indexed examples nearest to each query, by Hamming distance. */
 @Command(name = "nearest", mixinStandardHelpOptions = true,
     description = {"For each query, the k indexed examples nearest by Hamming distance between codes (exact; ties by ascending id).",
-        "Shows per-layer distances, key, label, split and metadata, and the neighbours' label vote."})
+        "Shows per-layer distances, key, label, split and metadata, and the neighbours' label vote.",
+        "The vote counts every example within the k-th distance, also those tied with the k-th but not listed (--vote-ties).",
+        "The vote is a heuristic from neighbours in code space, not a calibrated guarantee."})
 final class NearestCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -34,8 +36,20 @@ final class NearestCommand implements Callable<Integer> {
   int k;
 
   @Option(names = "--where", paramLabel = "EXPR",
-      description = "Only examples whose metadata match, e.g. \"split = train and label != idle\" (syntax in the README).")
+      description = "Only examples whose metadata match, e.g. \"split = train and label != idle\" (syntax and limits: docs/where.md).")
   String where;
+
+  @Option(names = "--ties",
+      description = "Also list every example tied at the k-th distance (so more than K rows may appear).")
+  boolean ties;
+
+  /** Which neighbours the label vote counts. */
+  enum VoteTies { include, exclude }
+
+  @Option(names = "--vote-ties", paramLabel = "include|exclude", defaultValue = "include",
+      description = {"include: the vote counts every example within the k-th distance, tied ones too (ids never decide it);",
+          "exclude: only the first K by (distance, id). Default: ${DEFAULT-VALUE}."})
+  VoteTies voteTies;
 
   @Mixin LayersOption layers;
   @Mixin FormatOption format;
@@ -49,7 +63,8 @@ final class NearestCommand implements Callable<Integer> {
     try (IndexReader reader = IndexReader.open(index.dir)) {
       QueryCodes codes = query.load(reader);
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
-        results = Nearest.run(reader, codes, new Nearest.Params(k, where, layers.layers, threads.resolved()), bar);
+        results = Nearest.run(reader, codes, new Nearest.Params(k, where, layers.layers, threads.resolved(), ties,
+            voteTies == VoteTies.include), bar);
       }
     }
     PrintWriter out = spec.commandLine().getOut();
@@ -62,9 +77,13 @@ final class NearestCommand implements Callable<Integer> {
     return ExitCodes.OK;
   }
 
-  /** The contract: {"k": K, "results": [{"query": ROW, "neighbors": [{"id", "key", "distance", ...}]}]}. */
+  /**
+   * The contract: {"k": K, "ties": bool, "results": [{"query": ROW, "neighbors": [{"id", "key",
+   * "distance", ...}], "vote": {"label", "votes", "of", "agreement", "neighbors", "within_distance",
+   * "ties_included", "ties_left_out"} or null}]}.
+   */
   private void json(PrintWriter out, List<Nearest.Result> results) {
-    JsonWriter j = new JsonWriter(out).beginObject().member("k", k).name("results").beginArray();
+    JsonWriter j = new JsonWriter(out).beginObject().member("k", k).name("ties").value(ties).name("results").beginArray();
     for (Nearest.Result r : results) {
       j.beginObject().member("query", r.row()).name("neighbors").beginArray();
       for (Nearest.Neighbor nb : r.neighbors()) {
@@ -80,7 +99,14 @@ final class NearestCommand implements Callable<Integer> {
             .name("meta").stringMap(nb.meta())
             .endObject();
       }
-      j.endArray().endObject();
+      j.endArray().name("vote");
+      Nearest.Vote v = r.vote();
+      if (v == null) j.nullValue();
+      else
+        j.beginObject().member("label", v.label()).member("votes", v.votes()).member("of", v.labeled())
+            .member("agreement", v.agreement()).member("neighbors", v.neighbors()).member("within_distance", v.withinDistance())
+            .name("ties_included").value(v.tiesIncluded()).member("ties_left_out", v.tiesLeftOut()).endObject();
+      j.endObject();
     }
     j.endArray().endObject();
     out.println();
@@ -105,6 +131,8 @@ final class NearestCommand implements Callable<Integer> {
     for (String l : layerNames) header.add("distance_" + l);
     header.addAll(List.of("label", "split"));
     header.addAll(metaNames);
+    header.addAll(List.of("vote_label", "vote_votes", "vote_of", "vote_agreement", "vote_neighbors", "vote_within_distance",
+        "vote_ties_included", "vote_ties_left_out"));
     CsvWriter csv = new CsvWriter(out, header);
     for (Nearest.Result r : results) {
       int rank = 1;
@@ -115,12 +143,18 @@ final class NearestCommand implements Callable<Integer> {
         row.add(nb.label());
         row.add(nb.split());
         for (String m : metaNames) row.add(nb.meta().get(m));
+        Nearest.Vote v = r.vote();
+        if (v == null) for (int c = 0; c < 8; c++) row.add(null);
+        else
+          row.addAll(List.of(v.label(), Integer.toString(v.votes()), Integer.toString(v.labeled()), Double.toString(v.agreement()),
+              Integer.toString(v.neighbors()), Integer.toString(v.withinDistance()), Boolean.toString(v.tiesIncluded()),
+              Integer.toString(v.tiesLeftOut())));
         csv.row(row);
       }
     }
   }
 
-  private static void table(PrintWriter out, List<Nearest.Result> results) {
+  private void table(PrintWriter out, List<Nearest.Result> results) {
     List<String> layerNames = layerNames(results), metaNames = metaNames(results);
     boolean labels = false, splits = false;
     for (Nearest.Result r : results)
@@ -134,9 +168,7 @@ final class NearestCommand implements Callable<Integer> {
       first = false;
       StringBuilder head = new StringBuilder("query row " + r.row());
       if (r.neighbors().isEmpty()) head.append(": no example matches");
-      else if (r.vote() != null)
-        head.append("  vote: ").append(r.vote().label()).append(" (").append(r.vote().votes()).append(" of ")
-            .append(r.vote().labeled()).append(", agreement ").append(Units.percent(r.vote().agreement())).append(')');
+      else if (r.vote() != null) head.append("  vote: ").append(describe(r.vote(), k));
       out.println(head);
       if (r.neighbors().isEmpty()) continue;
       List<String> header = new ArrayList<>(List.of("rank", "distance"));
@@ -158,6 +190,29 @@ final class NearestCommand implements Callable<Integer> {
       }
       t.print(out, "  ");
     }
+  }
+
+  /**
+   * "belt-slip (6 of 9, agreement 67%) over 9 neighbours within distance 1 (ties at the 5th
+   * distance included)"; the plain "(3 of 5, agreement 60%)" when no tie crosses the k-th place.
+   */
+  static String describe(Nearest.Vote v, int k) {
+    StringBuilder b = new StringBuilder(v.label()).append(" (").append(v.votes()).append(" of ").append(v.labeled())
+        .append(", agreement ").append(Units.percent(v.agreement())).append(')');
+    if (v.tiesIncluded())
+      b.append(" over ").append(v.neighbors()).append(" neighbours within distance ").append(v.withinDistance())
+          .append(" (ties at the ").append(ordinal(k)).append(" distance included)");
+    else if (v.tiesLeftOut() > 0)
+      b.append(" over the first ").append(v.neighbors()).append(" by id; ").append(v.tiesLeftOut())
+          .append(" more at distance ").append(v.withinDistance()).append(" left out (--vote-ties exclude)");
+    return b.toString();
+  }
+
+  /** 1st, 2nd, 3rd, 4th, ..., 11th, 12th, 13th, 21st. */
+  static String ordinal(int n) {
+    int h = n % 100, t = n % 10;
+    String suffix = h >= 11 && h <= 13 ? "th" : t == 1 ? "st" : t == 2 ? "nd" : t == 3 ? "rd" : "th";
+    return n + suffix;
   }
 
   private static String str(Object o) {

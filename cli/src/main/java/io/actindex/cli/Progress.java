@@ -78,17 +78,24 @@ public final class Progress implements io.actindex.query.Progress, AutoCloseable
    * {@link java.io.Console#isTerminal()} (which looks at stdin and stdout) decides.
    */
   public static boolean stderrIsTerminal() {
-    String told = System.getProperty("actindex.stderr.tty");
-    if (told != null) return Boolean.parseBoolean(told);
+    String fd2Target = null;
     Path fd2 = Path.of("/proc/self/fd/2");
     try {
-      if (Files.isSymbolicLink(fd2)) {
-        String target = Files.readSymbolicLink(fd2).toString();
-        return target.startsWith("/dev/pts/") || target.startsWith("/dev/tty");
-      }
+      if (Files.isSymbolicLink(fd2)) fd2Target = Files.readSymbolicLink(fd2).toString();
     } catch (Exception e) {
       // fall through to the portable check
     }
-    return System.console() != null && System.console().isTerminal();
+    return isTerminal(System.getProperty("actindex.stderr.tty"), fd2Target,
+        () -> System.console() != null && System.console().isTerminal());
+  }
+
+  /**
+   * The decision of {@link #stderrIsTerminal()}: what the launcher said ({@code told}, may be
+   * null), else the target of {@code /proc/self/fd/2} (null where there is none), else the console.
+   */
+  static boolean isTerminal(String told, String fd2Target, java.util.function.BooleanSupplier console) {
+    if (told != null) return Boolean.parseBoolean(told);
+    if (fd2Target != null) return fd2Target.startsWith("/dev/pts/") || fd2Target.startsWith("/dev/tty");
+    return console.getAsBoolean();
   }
 }

@@ -24,15 +24,28 @@ class ErrorHandlerTest {
 
     @Override
     public Integer call() throws Exception {
-      switch (kind) {
+      return switch (kind) {
         case "bad" -> throw new BadInputException("q.npy: row 3, column 7: NaN");
         case "wrapped" -> throw new CompletionException(new BadInputException("meta.csv: row 2: duplicate key 'a'"));
         case "missing" -> throw new java.nio.file.NoSuchFileException("nothere.npy");
+        case "notdir" -> throw new java.nio.file.NotDirectoryException("plain.txt");
+        case "multiline" -> throw new BadInputException("meta.csv: line 2: key 'a\nb\u0000c' already used" + "x".repeat(5000));
+        case "oom" -> throw new OutOfMemoryError("Java heap space");
+        case "oom-in-pool" -> throw new IllegalStateException(new java.util.concurrent.ExecutionException(new OutOfMemoryError("Java heap space")));
+        case "soe" -> {
+          recurse(0);
+          yield 0;
+        }
         default -> throw new IllegalStateException("kaputt");
-      }
+      };
     }
   }
 
+  static int recurse(int depth) {
+    return recurse(depth + 1) + 1; // a real StackOverflowError
+  }
+
+  /** Runs Boom the way {@link Main#run} runs a command: through {@link ErrorHandler#execute}. */
   private static String[] run(String... args) {
     StringWriter out = new StringWriter(), err = new StringWriter();
     CommandLine cl = new CommandLine(new Boom());
@@ -40,7 +53,7 @@ class ErrorHandlerTest {
     cl.setErr(new PrintWriter(err));
     cl.setExecutionExceptionHandler(new ErrorHandler());
     cl.setParameterExceptionHandler(new ErrorHandler());
-    int code = cl.execute(args);
+    int code = ErrorHandler.execute(cl, args);
     return new String[] {Integer.toString(code), out.toString(), err.toString()};
   }
 
@@ -77,5 +90,39 @@ class ErrorHandlerTest {
     String[] r = run("--kind", "other", "--verbose");
     assertThat(r[0]).isEqualTo("1");
     assertThat(r[2]).contains("kaputt").contains("\tat ");
+  }
+
+  @Test
+  void notAFolderExitsTwo() {
+    String[] r = run("--kind", "notdir");
+    assertThat(r[0]).isEqualTo("2");
+    assertThat(r[2]).isEqualTo("boom: plain.txt: not a folder (a part of this path is a file)" + System.lineSeparator());
+  }
+
+  @Test
+  void messagesStayOnOneShortLine() {
+    String[] r = run("--kind", "multiline");
+    assertThat(r[0]).isEqualTo("2");
+    assertThat(r[2].strip()).doesNotContain("\n").doesNotContain("\u0000").contains("key 'a\\nb\\u0000c'")
+        .contains("characters)").hasSizeLessThan(ErrorHandler.MAX_MESSAGE + 100);
+  }
+
+  /** JVM errors never reach the user as a stack trace: one line, exit 1. */
+  @Test
+  void outOfMemoryIsOneLineWithTheMemoryHint() {
+    for (String kind : new String[] {"oom", "oom-in-pool"}) {
+      String[] r = run("--kind", kind);
+      assertThat(r[0]).isEqualTo("1");
+      assertThat(r[2]).isEqualTo("boom: out of memory (Java heap space); give Java more, e.g. ACTINDEX_JAVA_OPTS=-Xmx8g bin/actindex ..., "
+          + "or use smaller inputs" + System.lineSeparator());
+    }
+  }
+
+  @Test
+  void stackOverflowIsOneLine() {
+    String[] r = run("--kind", "soe");
+    assertThat(r[0]).isEqualTo("1");
+    assertThat(r[2]).startsWith("boom: internal error: stack overflow").contains("--verbose").doesNotContain("\tat ");
+    assertThat(r[2].strip()).doesNotContain("\n");
   }
 }

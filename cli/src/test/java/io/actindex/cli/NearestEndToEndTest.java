@@ -29,7 +29,8 @@ import org.roaringbitmap.RoaringBitmap;
  * {@code build} then {@code nearest --format json} through the command line, checked against the
  * test's own brute-force scan (distances, order, tie-break by id, keys, labels, metadata), on
  * uniform random and on ReLU-like codes, with {@code --where}, {@code --layers}, {@code --rows},
- * after {@code add} and after deletes.
+ * after {@code add} and after deletes; the label vote over every neighbour within the k-th distance,
+ * and {@code --ties} on short codes.
  */
 class NearestEndToEndTest {
   @TempDir Path tmp;
@@ -98,10 +99,29 @@ class NearestEndToEndTest {
     return JsonWriterTest.STRICT.readTree(r.out());
   }
 
-  /** Checks one nearest JSON document against the brute-force scan. */
+  /** Checks one nearest JSON document (without --ties) against the brute-force scan. */
   static void check(JsonNode doc, int k, List<Example> live, boolean[][] queries, int firstRow,
       Predicate<Map<String, String>> accept, List<Layer> on, String what) {
+    check(doc, k, false, live, queries, firstRow, accept, on, what);
+  }
+
+  /** Every live, accepted example within the k-th distance of the brute-force order (ties at the k-th included). */
+  static List<Hit> tieGroup(List<Example> live, boolean[] q, int k, Predicate<Map<String, String>> accept, List<Layer> on) {
+    List<Hit> all = Reference.knn(live, q, live.size(), accept, on);
+    if (all.size() <= k) return all;
+    int kth = all.get(k - 1).distance();
+    return all.stream().filter(h -> h.distance() <= kth).toList();
+  }
+
+  /**
+   * Checks one nearest JSON document against the brute-force scan: the first k by (distance, id),
+   * or with {@code ties} the whole group within the k-th distance; the vote always over that group
+   * (most votes, then the smallest total distance, then the smaller name).
+   */
+  static void check(JsonNode doc, int k, boolean ties, List<Example> live, boolean[][] queries, int firstRow,
+      Predicate<Map<String, String>> accept, List<Layer> on, String what) {
     assertThat(doc.get("k").asInt()).as(what).isEqualTo(k);
+    assertThat(doc.get("ties").asBoolean()).as(what).isEqualTo(ties);
     JsonNode results = doc.get("results");
     assertThat(results.size()).as(what).isEqualTo(queries.length);
     Map<Integer, Example> byId = new java.util.HashMap<>();
@@ -109,7 +129,9 @@ class NearestEndToEndTest {
     for (int qi = 0; qi < queries.length; qi++) {
       JsonNode r = results.get(qi);
       assertThat(r.get("query").asLong()).as(what).isEqualTo(firstRow + qi);
-      List<Hit> expected = Reference.knn(live, queries[qi], k, accept, on);
+      List<Hit> group = tieGroup(live, queries[qi], k, accept, on);
+      List<Hit> expected = ties ? group : Reference.knn(live, queries[qi], k, accept, on);
+      checkVote(r.get("vote"), group, k, live, what + ", query " + qi);
       JsonNode nbs = r.get("neighbors");
       List<Hit> got = new ArrayList<>();
       for (JsonNode nb : nbs) got.add(new Hit(nb.get("id").asInt(), nb.get("distance").asInt()));
@@ -134,6 +156,73 @@ class NearestEndToEndTest {
           assertThat(f.getValue().asInt()).as(what).isEqualTo(Reference.distance(queries[qi], e.bits(), List.of(on.get(i))));
         }
       }
+    }
+  }
+
+  static void checkVote(JsonNode vote, List<Hit> group, int k, List<Example> live, String what) {
+    Map<Integer, Example> byId = new java.util.HashMap<>();
+    for (Example e : live) byId.put(e.id(), e);
+    Map<String, int[]> tally = new java.util.TreeMap<>(); // label -> {votes, total distance}; sorted names
+    for (Hit h : group) {
+      int[] t = tally.computeIfAbsent(byId.get(h.id()).meta().get("label"), x -> new int[2]);
+      t[0]++;
+      t[1] += h.distance();
+    }
+    if (group.isEmpty()) {
+      assertThat(vote.isNull()).as(what).isTrue();
+      return;
+    }
+    String best = null;
+    for (var e : tally.entrySet())
+      if (best == null || e.getValue()[0] > tally.get(best)[0]
+          || (e.getValue()[0] == tally.get(best)[0] && e.getValue()[1] < tally.get(best)[1])) best = e.getKey();
+    assertThat(vote.get("label").asText()).as(what).isEqualTo(best);
+    assertThat(vote.get("votes").asInt()).as(what).isEqualTo(tally.get(best)[0]);
+    assertThat(vote.get("of").asInt()).as(what).isEqualTo(group.size());
+    assertThat(vote.get("agreement").asDouble()).as(what).isEqualTo(tally.get(best)[0] / (double) group.size());
+    assertThat(vote.get("neighbors").asInt()).as(what).isEqualTo(group.size());
+    assertThat(vote.get("within_distance").asInt()).as(what).isEqualTo(group.get(group.size() - 1).distance());
+    assertThat(vote.get("ties_included").asBoolean()).as(what).isEqualTo(group.size() > k);
+    assertThat(vote.get("ties_left_out").asInt()).as(what).isZero();
+  }
+
+  /**
+   * Short codes (10 bits, so the k-th distance is nearly always tied): --ties lists the whole group
+   * within the k-th distance, and the vote, with or without --ties, counts that group.
+   */
+  @RepeatedTest(3)
+  void tiesListTheWholeGroupAndTheVoteCountsIt(RepetitionInfo rep) throws Exception {
+    long seed = Randoms.seed(300 + rep.getCurrentRepetition());
+    String what = Randoms.describe(seed);
+    CodeLayout layout = CodeLayout.parse("s1:6,s2:4");
+    boolean[][] codes = bits(relabel(SyntheticCodes.uniform(300, 10, seed), layout));
+    boolean[][] queries = bits(relabel(SyntheticCodes.uniform(6, 10, seed + 1), layout));
+    List<Example> ex = examples(codes, 0, "t", seed);
+    List<Layer> on = Reference.layers("s1:6", "s2:4");
+    Path idx = tmp.resolve("idx");
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("codes.npy"), codes).toString(),
+        "--code-layout", "s1:6,s2:4", "--meta", metaCsv(tmp.resolve("meta.csv"), ex).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    String q = Files2.bits(tmp.resolve("q.npy"), queries).toString();
+    boolean sawTies = false;
+    for (int k : new int[] {1, 5, 12}) {
+      check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", Integer.toString(k), "--ties", "--format", "json"),
+          k, true, ex, queries, 0, m -> true, on, what + " --ties k=" + k);
+      check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", Integer.toString(k), "--format", "json"),
+          k, false, ex, queries, 0, m -> true, on, what + " k=" + k);
+      check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", Integer.toString(k), "--ties", "--format", "json",
+              "--where", "split = train", "--layers", "s2"),
+          k, true, ex, queries, 0, m -> m.get("split").equals("train"), List.of(on.get(1)), what + " --ties where layers k=" + k);
+      for (boolean[] query : queries) sawTies |= tieGroup(ex, query, k, m -> true, on).size() > k;
+    }
+    assertThat(sawTies).as("10-bit codes tie at the k-th distance").isTrue();
+    // --vote-ties exclude: the first k by id vote, and the JSON says how many tied rows were left out
+    JsonNode first = json("nearest", "--index", idx.toString(), "--codes", q, "-k", "5", "--vote-ties", "exclude", "--format", "json");
+    for (int qi = 0; qi < queries.length; qi++) {
+      JsonNode vote = first.get("results").get(qi).get("vote");
+      assertThat(vote.get("neighbors").asInt()).as(what).isEqualTo(5);
+      assertThat(vote.get("ties_included").asBoolean()).as(what).isFalse();
+      assertThat(vote.get("ties_left_out").asInt()).as(what).isEqualTo(tieGroup(ex, queries[qi], 5, m -> true, on).size() - 5);
     }
   }
 
@@ -227,7 +316,8 @@ class NearestEndToEndTest {
     Cli.Result csv = Cli.run("nearest", "--index", idx.toString(), "--codes", q, "-k", "4", "--format", "csv");
     assertThat(csv.code()).as(csv.describe()).isZero();
     String[] lines = csv.out().split("\\R");
-    assertThat(lines[0]).isEqualTo("query,rank,id,key,distance,distance_h1,distance_h2,label,split,line,rpm");
+    assertThat(lines[0]).isEqualTo("query,rank,id,key,distance,distance_h1,distance_h2,label,split,line,rpm,"
+        + "vote_label,vote_votes,vote_of,vote_agreement,vote_neighbors,vote_within_distance,vote_ties_included,vote_ties_left_out");
     assertThat(lines).hasSize(1 + 3 * 4);
     for (int qi = 0; qi < 3; qi++) {
       List<Hit> exp = Reference.knn(ex, d.queries()[qi], 4, m -> true, LAYERS);
@@ -238,18 +328,31 @@ class NearestEndToEndTest {
         assertThat(Integer.parseInt(f[2])).isEqualTo(exp.get(r).id());
         assertThat(Integer.parseInt(f[4])).isEqualTo(exp.get(r).distance());
         assertThat(Integer.parseInt(f[5]) + Integer.parseInt(f[6])).isEqualTo(exp.get(r).distance());
+        // the vote columns: over the group within the 4th distance, the same on every row of the query
+        List<Hit> group = tieGroup(ex, d.queries()[qi], 4, m -> true, LAYERS);
+        assertThat(Integer.parseInt(f[13])).isEqualTo(group.size());
+        assertThat(Integer.parseInt(f[15])).isEqualTo(group.size());
+        assertThat(Integer.parseInt(f[16])).isEqualTo(group.get(group.size() - 1).distance());
+        assertThat(f[17]).isEqualTo(Boolean.toString(group.size() > 4));
+        assertThat(f[18]).isEqualTo("0");
       }
     }
     Cli.Result table = Cli.run("nearest", "--index", idx.toString(), "--codes", q, "-k", "4");
     assertThat(table.code()).as(table.describe()).isZero();
     assertThat(table.out()).contains("query row 0  vote: ").contains("agreement")
         .containsPattern("rank +distance +h1 +h2 +key +label +split +line +rpm");
-    // the vote line: count the labels of the expected neighbours of query 0
+    // the vote line: count the labels of query 0's neighbours within the 4th distance (query 0 sits on
+    // an indexed code, so that group may hold more than 4)
     List<Hit> exp0 = Reference.knn(ex, d.queries()[0], 4, m -> true, LAYERS);
+    List<Hit> group0 = tieGroup(ex, d.queries()[0], 4, m -> true, LAYERS);
     Map<String, Integer> votes = new java.util.HashMap<>();
-    for (Hit h : exp0) votes.merge(ex.get(h.id()).meta().get("label"), 1, Integer::sum);
+    for (Hit h : group0) votes.merge(ex.get(h.id()).meta().get("label"), 1, Integer::sum);
     int top = votes.values().stream().mapToInt(Integer::intValue).max().orElseThrow();
-    assertThat(table.out()).as(table.describe()).contains("(" + top + " of 4, agreement " + Math.round(100.0 * top / 4) + "%)");
+    String line = "(" + top + " of " + group0.size() + ", agreement " + Math.round(100.0 * top / group0.size()) + "%)";
+    if (group0.size() > 4)
+      line += " over " + group0.size() + " neighbours within distance " + group0.get(group0.size() - 1).distance()
+          + " (ties at the 4th distance included)";
+    assertThat(table.out()).as(table.describe()).contains(line);
     for (Hit h : exp0) assertThat(table.out()).contains(ex.get(h.id()).meta().get("key"));
   }
 }

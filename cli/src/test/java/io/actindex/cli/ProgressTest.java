@@ -45,9 +45,19 @@ class ProgressTest {
     assertThat(sw.toString()).isEmpty();
   }
 
+  /** The terminal decision from its inputs (not from how this test happens to be run). */
   @Test
-  void testsDoNotRunOnATerminal() {
-    // surefire pipes stderr, so the bar must stay off (nothing extra in captured output)
-    assertThat(Progress.stderrIsTerminal()).isFalse();
+  void terminalDecision() {
+    java.util.function.BooleanSupplier never = () -> {
+      throw new AssertionError("console consulted although an earlier input decides");
+    };
+    assertThat(Progress.isTerminal("true", "pipe:[1]", never)).isTrue(); // the launcher's word wins
+    assertThat(Progress.isTerminal("false", "/dev/pts/0", never)).isFalse();
+    assertThat(Progress.isTerminal(null, "/dev/pts/3", never)).isTrue();
+    assertThat(Progress.isTerminal(null, "/dev/tty1", never)).isTrue();
+    assertThat(Progress.isTerminal(null, "pipe:[4242]", never)).isFalse();
+    assertThat(Progress.isTerminal(null, "/tmp/log.txt", never)).isFalse();
+    assertThat(Progress.isTerminal(null, null, () -> true)).isTrue();
+    assertThat(Progress.isTerminal(null, null, () -> false)).isFalse();
   }
 }

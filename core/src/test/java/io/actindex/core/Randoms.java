@@ -5,7 +5,9 @@ import java.util.SplittableRandom;
 /**
  * Seeds for randomized tests. The base seed comes from {@code -Dtests.seed=...} when given,
  * otherwise from the clock; every failure message should carry {@link #describe(long)} so the run
- * can be repeated.
+ * can be repeated. {@link SeedReporter} (registered for every module's tests) also prints the
+ * reproduce line for any failure of a test that took a seed, exceptions of the code under test
+ * included.
  */
 public final class Randoms {
   private Randoms() {}
@@ -23,9 +25,17 @@ public final class Randoms {
     return BASE;
   }
 
+  private static final java.util.concurrent.atomic.AtomicLong HANDED_OUT = new java.util.concurrent.atomic.AtomicLong();
+
   /** A seed for the {@code i}-th repetition of a test. */
   public static long seed(int i) {
+    HANDED_OUT.incrementAndGet();
     return new SplittableRandom(BASE + 0x9E3779B97F4A7C15L * i).nextLong();
+  }
+
+  /** How many seeds {@link #seed(int)} has handed out so far ({@link SeedReporter} tells randomized tests by it). */
+  static long handedOut() {
+    return HANDED_OUT.get();
   }
 
   /** A text that tells how to repeat a failure with this base seed. */

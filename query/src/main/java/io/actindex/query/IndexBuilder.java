@@ -152,6 +152,11 @@ public final class IndexBuilder {
   }
 
   private static void checkEmptyOrAbsent(Path dir) {
+    for (Path up = dir.toAbsolutePath().getParent(); up != null; up = up.getParent())
+      if (Files.exists(up)) {
+        if (!Files.isDirectory(up)) throw new BadInputException(dir + ": cannot make the index folder: " + up + " is a file, not a folder");
+        break;
+      }
     if (!Files.exists(dir)) return;
     if (!Files.isDirectory(dir)) throw new BadInputException(dir + ": exists and is not a folder");
     try (Stream<Path> s = Files.list(dir)) {

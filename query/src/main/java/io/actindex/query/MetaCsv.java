@@ -1,9 +1,15 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
-import java.io.BufferedReader;
+import java.io.BufferedInputStream;
+import java.io.ByteArrayOutputStream;
 import java.io.IOException;
-import java.io.UncheckedIOException;
+import java.io.InputStream;
+import java.nio.ByteBuffer;
+import java.nio.CharBuffer;
+import java.nio.charset.CharsetDecoder;
+import java.nio.charset.CoderResult;
+import java.nio.charset.CodingErrorAction;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -20,9 +26,22 @@ import java.util.Map;
  * example (keys must be unique; without a key column the store generates {@code row-<id>}); the
  * label and split columns become {@code label} and {@code split}; every other column keeps its
  * name and becomes a filterable field. Empty values are left out of the row map.
+ *
+ * <p>The file must be UTF-8 (a byte order mark is skipped); UTF-16, Latin-1 or other bytes that
+ * are not UTF-8 are refused with the line. Limits, far above what metadata needs, keep a wrong
+ * file from exhausting memory: at most {@link #MAX_COLUMNS} columns, {@link #MAX_CELL_CHARS}
+ * characters per cell and {@link #MAX_LINE_BYTES} bytes per line. Messages quote at most a short
+ * prefix of a value ({@link Snippet}).
  */
 public final class MetaCsv {
   private MetaCsv() {}
+
+  /** Most columns in a metadata CSV (every column becomes a metadata field of every example). */
+  public static final int MAX_COLUMNS = 1000;
+  /** Longest cell, in characters (at most 3 UTF-8 bytes each, under Lucene's 32,766-byte term limit). */
+  public static final int MAX_CELL_CHARS = 10_000;
+  /** Longest line, in bytes (a quoted cell may span lines; each line is checked). */
+  public static final int MAX_LINE_BYTES = 1 << 20;
 
   /**
    * Which columns play which role. A column named explicitly must exist; {@code null} means the
@@ -41,11 +60,10 @@ public final class MetaCsv {
   /** Reads every row. */
   public static List<Map<String, String>> read(Options o) {
     String name = o.file().toString();
-    try (BufferedReader in = Files.newBufferedReader(o.file(), StandardCharsets.UTF_8)) {
-      Parser p = new Parser(in, name);
+    try (InputStream in = new BufferedInputStream(Files.newInputStream(o.file()), 1 << 16)) {
+      Parser p = new Parser(new Utf8Lines(in, name), name);
       List<String> header = p.next();
       if (header == null) throw new BadInputException(name + ": empty file; a metadata CSV needs a header row");
-      if (!header.isEmpty() && header.get(0).startsWith("\uFEFF")) header.set(0, header.get(0).substring(1));
       String[] target = targets(header, o, name);
       List<Map<String, String>> rows = new ArrayList<>();
       Map<String, Integer> keyRow = new HashMap<>();
@@ -62,15 +80,13 @@ public final class MetaCsv {
           if (key.isEmpty()) throw new BadInputException(name + ": line " + line + ": empty key in column '" + header.get(keyCol) + "'");
           Integer first = keyRow.putIfAbsent(key, line);
           if (first != null)
-            throw new BadInputException(name + ": line " + line + ": key '" + key + "' already used on line " + first);
+            throw new BadInputException(name + ": line " + line + ": key '" + Snippet.of(key) + "' already used on line " + first);
         }
         rows.add(row);
       }
       return rows;
     } catch (IOException e) {
       throw new BadInputException(name + ": cannot read: " + e.getMessage(), e);
-    } catch (UncheckedIOException e) {
-      throw new BadInputException(name + ": cannot read: " + e.getCause().getMessage(), e);
     }
   }
 
@@ -87,7 +103,7 @@ public final class MetaCsv {
         throw new BadInputException(name + ": column 'id' is reserved for the index's ids; pass it as the key column or rename it");
       for (int d = 0; d < c; d++)
         if (target[d].equals(target[c]))
-          throw new BadInputException(name + ": columns " + (d + 1) + " and " + (c + 1) + " both become field '" + target[c] + "'");
+          throw new BadInputException(name + ": columns " + (d + 1) + " and " + (c + 1) + " both become field '" + Snippet.of(target[c]) + "'");
     }
     return target;
   }
@@ -95,7 +111,9 @@ public final class MetaCsv {
   private static void assign(String[] target, List<String> header, String column, String role, String name) {
     if (column == null) return; // default: a column literally named like the role plays it
     int c = header.stream().map(String::trim).toList().indexOf(column);
-    if (c < 0) throw new BadInputException(name + ": no column '" + column + "' for the " + role + "; the header has " + header);
+    if (c < 0)
+      throw new BadInputException(name + ": no column '" + Snippet.of(column) + "' for the " + role + "; the header has "
+          + Snippet.of(String.join(", ", header), 200));
     target[c] = role;
     if (!column.equals(role)) // a column literally named like the role, but not chosen, would clash
       for (int d = 0; d < target.length; d++)
@@ -108,14 +126,14 @@ public final class MetaCsv {
     return -1;
   }
 
-  /** Minimal RFC 4180 record reader. */
+  /** Minimal RFC 4180 record reader with the column and cell limits. */
   private static final class Parser {
-    private final BufferedReader in;
+    private final Utf8Lines in;
     private final String name;
     private int line = 1;
     int recordLine;
 
-    Parser(BufferedReader in, String name) {
+    Parser(Utf8Lines in, String name) {
       this.in = in;
       this.name = name;
     }
@@ -128,6 +146,10 @@ public final class MetaCsv {
       StringBuilder f = new StringBuilder();
       boolean quoted = false, wasQuoted = false;
       while (true) {
+        if (f.length() > MAX_CELL_CHARS)
+          throw new BadInputException(name + ": line " + recordLine + ", column " + (fields.size() + 1) + ": a cell longer than "
+              + String.format(java.util.Locale.ROOT, "%,d", MAX_CELL_CHARS) + " characters, starting '" + Snippet.of(f.toString(), 20)
+              + "'; metadata cells are short text or numbers");
         if (quoted) {
           if (c < 0) throw new BadInputException(name + ": line " + recordLine + ": quoted field never closed");
           if (c == '"') {
@@ -143,6 +165,9 @@ public final class MetaCsv {
             f.append((char) c);
           }
         } else if (c == ',' || c == '\n' || c == '\r' || c < 0) {
+          if (fields.size() == MAX_COLUMNS)
+            throw new BadInputException(name + ": line " + recordLine + ": more than " + MAX_COLUMNS
+                + " columns; a metadata CSV holds a few columns per example (keep features out of it)");
           fields.add(wasQuoted ? f.toString() : f.toString().trim());
           f.setLength(0);
           wasQuoted = false;
@@ -150,10 +175,7 @@ public final class MetaCsv {
             c = in.read();
             continue;
           }
-          if (c == '\r') {
-            in.mark(1);
-            if (in.read() != '\n') in.reset();
-          }
+          if (c == '\r' && in.peek() == '\n') in.read();
           if (c >= 0) line++;
           return fields;
         } else if (c == '"' && f.toString().isBlank()) {
@@ -165,6 +187,78 @@ public final class MetaCsv {
         }
         c = in.read();
       }
+    }
+  }
+
+  /**
+   * The characters of a UTF-8 file, decoded one line at a time so that a refusal names the line:
+   * bytes that are not UTF-8 (Latin-1, Windows-1252), UTF-16 (a byte order mark or NUL bytes), or
+   * a line longer than {@link #MAX_LINE_BYTES}. A UTF-8 byte order mark is skipped.
+   */
+  static final class Utf8Lines {
+    private final InputStream in;
+    private final String name;
+    private final CharsetDecoder decoder = StandardCharsets.UTF_8.newDecoder()
+        .onMalformedInput(CodingErrorAction.REPORT).onUnmappableCharacter(CodingErrorAction.REPORT);
+    private final ByteArrayOutputStream bytes = new ByteArrayOutputStream();
+    private CharBuffer chars = CharBuffer.allocate(0);
+    private int lineNo;
+    private boolean eof;
+
+    Utf8Lines(InputStream in, String name) {
+      this.in = in;
+      this.name = name;
+    }
+
+    int read() throws IOException {
+      if (!chars.hasRemaining() && !fill()) return -1;
+      return chars.get();
+    }
+
+    int peek() throws IOException {
+      if (!chars.hasRemaining() && !fill()) return -1;
+      return chars.get(chars.position());
+    }
+
+    private boolean fill() throws IOException {
+      while (!eof) {
+        bytes.reset();
+        int b;
+        while ((b = in.read()) >= 0) {
+          if (bytes.size() == MAX_LINE_BYTES)
+            throw new BadInputException(name + ": line " + (lineNo + 1) + " is longer than " + String.format(java.util.Locale.ROOT,
+                "%,d", MAX_LINE_BYTES) + " bytes; is this a metadata CSV?");
+          bytes.write(b);
+          if (b == '\n') break;
+        }
+        if (b < 0) eof = true;
+        if (bytes.size() == 0) continue;
+        lineNo++;
+        byte[] line = bytes.toByteArray();
+        int from = 0;
+        if (lineNo == 1) {
+          if (line.length >= 2 && ((line[0] == (byte) 0xFF && line[1] == (byte) 0xFE) || (line[0] == (byte) 0xFE && line[1] == (byte) 0xFF)))
+            throw new BadInputException(name + ": line 1: the file is UTF-16 (it starts with a UTF-16 byte order mark); save it as UTF-8");
+          if (line.length >= 3 && line[0] == (byte) 0xEF && line[1] == (byte) 0xBB && line[2] == (byte) 0xBF) from = 3;
+        }
+        for (int i = from; i < line.length; i++)
+          if (line[i] == 0)
+            throw new BadInputException(name + ": line " + lineNo + ": a NUL byte; the file looks like UTF-16 or binary; save it as UTF-8");
+        ByteBuffer src = ByteBuffer.wrap(line, from, line.length - from);
+        CharBuffer out = CharBuffer.allocate(line.length - from);
+        CoderResult r = decoder.reset().decode(src, out, true);
+        if (!r.isError()) r = decoder.flush(out);
+        if (r.isError()) {
+          int at = src.position();
+          String before = new String(line, from, at - from, StandardCharsets.UTF_8);
+          throw new BadInputException(name + ": line " + lineNo + ": not UTF-8 (byte 0x" + String.format("%02X", line[at] & 0xFF)
+              + " after '" + Snippet.of(before.substring(Math.max(0, before.length() - 20))) + "'); the file may be Latin-1 or "
+              + "Windows-1252: save it as UTF-8");
+        }
+        chars = out.flip();
+        if (chars.hasRemaining()) return true;
+      }
+      return false;
     }
   }
 }

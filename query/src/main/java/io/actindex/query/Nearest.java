@@ -7,6 +7,7 @@ import io.actindex.core.Hits;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.Comparator;
 import java.util.HashMap;
 import java.util.LinkedHashMap;
@@ -23,6 +24,12 @@ import org.roaringbitmap.RoaringBitmap;
  * only among examples matching a {@link Where} filter and with the distance counted on some
  * layers only. Neighbours come in ascending distance, ties by ascending id.
  *
+ * <p>Ties: with short codes many examples often share the k-th distance, and which of them make
+ * the first k is then decided by id (file order), not by the model. With {@link Params#ties()}
+ * every example tied at the k-th distance is listed (more than k rows). The label vote, by default
+ * ({@link Params#voteOverTies()}), counts the whole group within the k-th distance whether or not
+ * it is listed, so ids never decide the vote; {@link Vote} says which neighbours it counted.
+ *
  * <pre>{@code
  * try (IndexReader r = IndexReader.open(dir)) {
  *   QueryCodes q = QuerySource.load(r, Source.activations(Path.of("new.npy")), RowRange.ALL);
@@ -35,13 +42,20 @@ public final class Nearest {
 
   /**
    * {@code k >= 1} neighbours per query; {@code where} a filter or null; {@code layers} the layers
-   * the distance counts (null or empty = all); {@code threads >= 1} queries searched in parallel.
+   * the distance counts (null or empty = all); {@code threads >= 1} queries searched in parallel;
+   * {@code ties}: also list every example tied at the k-th distance; {@code voteOverTies}: the vote
+   * counts every neighbour within the k-th distance (true) or only the first k by (distance, id).
    */
-  public record Params(int k, String where, List<String> layers, int threads) {
+  public record Params(int k, String where, List<String> layers, int threads, boolean ties, boolean voteOverTies) {
     public Params {
       if (k < 1) throw new BadInputException("k must be at least 1, got " + k);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
       layers = layers == null ? List.of() : List.copyOf(layers);
+    }
+
+    /** k rows per query, the vote over the whole tie group at the k-th distance. */
+    public Params(int k, String where, List<String> layers, int threads) {
+      this(k, where, layers, threads, false, true);
     }
   }
 
@@ -55,11 +69,18 @@ public final class Nearest {
   /**
    * The neighbours' label vote: the label most of them carry (ties: the label whose neighbours'
    * total distance is smallest, then the smaller label name), {@code votes} of {@code labeled}
-   * neighbours carry it; {@code agreement = votes / labeled}.
+   * neighbours carry it; {@code agreement = votes / labeled}. The vote counted {@code neighbors}
+   * neighbours (labelled or not), all within distance {@code withinDistance}; {@code tiesIncluded}:
+   * more than k of them, because of ties at the k-th distance; {@code tiesLeftOut}: neighbours at
+   * the k-th distance left out because only the first k by id were counted.
    */
-  public record Vote(String label, int votes, int labeled, double agreement) {}
+  public record Vote(String label, int votes, int labeled, double agreement, int neighbors, int withinDistance,
+      boolean tiesIncluded, int tiesLeftOut) {}
 
-  /** The answer for query row {@code row}; {@code vote} is null when no neighbour has a label. */
+  /**
+   * The answer for query row {@code row}: the neighbours (k, fewer when fewer examples match, or
+   * more with {@link Params#ties()}); {@code vote} is null when no counted neighbour has a label.
+   */
   public record Result(long row, List<Neighbor> neighbors, Vote vote) {}
 
   public static List<Result> run(IndexReader reader, QueryCodes queries, Params p, Progress progress) {
@@ -76,7 +97,7 @@ public final class Nearest {
     Object lock = new Object();
     long[] done = {0};
     java.util.function.IntConsumer one = i -> {
-      out[i] = one(reader, queries, i, p.k(), filter, mask, shown, segMasks);
+      out[i] = one(reader, queries.codes().code(i), queries.row(i), p, filter, mask, shown, segMasks);
       synchronized (lock) {
         prog.update(++done[0], n);
       }
@@ -102,15 +123,17 @@ public final class Nearest {
     return List.of(out);
   }
 
-  private static Result one(IndexReader reader, QueryCodes queries, int i, int k, RoaringBitmap filter, long[] mask,
-      int[] shown, long[][] segMasks) {
-    long[] q = queries.codes().code(i);
-    Hits hits = reader.knn(q, k, filter, mask);
+  private static Result one(IndexReader reader, long[] q, long row, Params p, RoaringBitmap filter, long[] mask, int[] shown,
+      long[][] segMasks) {
+    int k = p.k();
+    Hits group = withTies(reader, q, k, filter, mask);
+    int first = Math.min(k, group.size());
+    int listed = p.ties() ? group.size() : first;
     CodeLayout layout = reader.layout();
     MetaStore meta = reader.meta();
-    List<Neighbor> list = new ArrayList<>(hits.size());
-    for (int h = 0; h < hits.size(); h++) {
-      int id = hits.ord(h);
+    List<Neighbor> list = new ArrayList<>(listed);
+    for (int h = 0; h < listed; h++) {
+      int id = group.ord(h);
       long[] code = reader.code(id);
       Map<String, Integer> perLayer = new LinkedHashMap<>();
       for (int s : shown)
@@ -118,20 +141,48 @@ public final class Nearest {
       Map<String, String> doc = new LinkedHashMap<>(meta.document(id));
       String key = doc.remove("key"), label = doc.remove("label"), split = doc.remove("split");
       doc.remove("id");
-      list.add(new Neighbor(id, key, hits.dist(h), perLayer, label, split, doc));
+      list.add(new Neighbor(id, key, group.dist(h), perLayer, label, split, doc));
     }
-    return new Result(queries.row(i), List.copyOf(list), vote(list));
+    int counted = p.voteOverTies() ? group.size() : first;
+    List<String> voteLabels = new ArrayList<>(counted);
+    for (int h = 0; h < counted; h++) voteLabels.add(h < listed ? list.get(h).label() : label(meta, group.ord(h)));
+    Vote vote = vote(voteLabels, Arrays.copyOf(group.dists(), counted), counted > k, group.size() - counted);
+    return new Result(row, List.copyOf(list), vote);
   }
 
-  /** The label vote of some neighbours, or null when none has a label. */
+  /**
+   * The k nearest and every further code tied with the k-th, sorted by (distance, id): one kNN
+   * search for k+1 tells whether a tie crosses the k-th place; only then a radius search at the
+   * k-th distance collects the whole group.
+   */
+  static Hits withTies(IndexReader reader, long[] q, int k, RoaringBitmap filter, long[] mask) {
+    Hits hits = reader.knn(q, k == Integer.MAX_VALUE ? k : k + 1, filter, mask);
+    if (hits.size() <= k) return hits;
+    if (hits.dist(k) > hits.dist(k - 1)) return Hits.sorted(hits.ords(), hits.dists(), k);
+    return reader.radius(q, hits.dist(k - 1), filter, mask);
+  }
+
+  /** The label vote of some neighbours, all counted, or null when none has a label. */
   public static Vote vote(List<Neighbor> neighbors) {
+    List<String> labels = new ArrayList<>(neighbors.size());
+    int[] dists = new int[neighbors.size()];
+    for (int i = 0; i < dists.length; i++) {
+      labels.add(neighbors.get(i).label());
+      dists[i] = neighbors.get(i).distance();
+    }
+    return vote(labels, dists, false, 0);
+  }
+
+  private static Vote vote(List<String> labels, int[] dists, boolean tiesIncluded, int tiesLeftOut) {
     Map<String, long[]> tally = new HashMap<>(); // label -> {votes, total distance}
-    int labeled = 0;
-    for (Neighbor nb : neighbors) {
-      if (nb.label() == null || nb.label().isEmpty()) continue;
-      long[] t = tally.computeIfAbsent(nb.label(), l -> new long[2]);
+    int labeled = 0, within = 0;
+    for (int i = 0; i < dists.length; i++) {
+      within = Math.max(within, dists[i]);
+      String label = labels.get(i);
+      if (label == null || label.isEmpty()) continue;
+      long[] t = tally.computeIfAbsent(label, l -> new long[2]);
       t[0]++;
-      t[1] += nb.distance();
+      t[1] += dists[i];
       labeled++;
     }
     if (labeled == 0) return null;
@@ -141,6 +192,12 @@ public final class Nearest {
             .thenComparing(Map.Entry::getKey))
         .orElseThrow();
     int votes = (int) best.getValue()[0];
-    return new Vote(best.getKey(), votes, labeled, votes / (double) labeled);
+    return new Vote(best.getKey(), votes, labeled, votes / (double) labeled, dists.length, within, tiesIncluded, tiesLeftOut);
+  }
+
+  /** The label of a live id (one stored-fields read, as for a listed neighbour). */
+  private static String label(MetaStore meta, int id) {
+    Map<String, String> doc = meta.document(id);
+    return doc == null ? null : doc.get("label");
   }
 }

@@ -4,6 +4,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.meta.MetaStore.FieldKind;
 import java.util.ArrayList;
+import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
 import java.util.TreeSet;
@@ -13,7 +14,9 @@ import org.apache.lucene.search.BooleanClause.Occur;
 import org.apache.lucene.search.BooleanQuery;
 import org.apache.lucene.search.MatchAllDocsQuery;
 import org.apache.lucene.search.Query;
+import org.apache.lucene.search.TermInSetQuery;
 import org.apache.lucene.search.TermQuery;
+import org.apache.lucene.util.BytesRef;
 import org.roaringbitmap.RoaringBitmap;
 
 /**
@@ -36,12 +39,24 @@ import org.roaringbitmap.RoaringBitmap;
  * {@code in} are allowed and compare exact strings. {@code a != v} and {@code not ...} also match
  * examples that have no value for {@code a}. An unknown field or a syntax error is a {@link
  * BadInputException} that names the 1-based character position.
+ *
+ * <p>Limits, so that no input can overflow the stack or reach Lucene's clause limit: parentheses
+ * and {@code not} nest at most {@link #MAX_NESTING} deep, and an expression holds at most {@link
+ * #MAX_CLAUSES} comparisons and negations ({@code !=}, {@code not in} and {@code not} each count
+ * one more). A list {@code in (...)} is one set query whatever its length.
  */
 public final class Where {
+  /** Deepest nesting of parentheses and {@code not}. */
+  public static final int MAX_NESTING = 64;
+  /** Most comparisons plus negations in one expression (Lucene refuses more than 1,024 clauses). */
+  public static final int MAX_CLAUSES = 1000;
+
   private final String text;
   private final Map<String, FieldKind> fields;
   private final List<Token> tokens;
   private int pos;
+  private int depth;
+  private int clauses;
 
   private Where(String text, Map<String, FieldKind> fields) {
     this.text = text;
@@ -91,18 +106,34 @@ public final class Where {
   }
 
   private Query not() {
+    Token t = peek();
     if (peekWord("not")) {
       pos++;
-      return negate(not());
+      enter(t);
+      Query q = negate(not(), t);
+      depth--;
+      return q;
     }
-    Token t = peek();
     if (t.type == T.LPAREN) {
       pos++;
+      enter(t);
       Query q = or();
       expect(T.RPAREN, "')'");
+      depth--;
       return q;
     }
     return comparison();
+  }
+
+  private void enter(Token t) {
+    if (++depth > MAX_NESTING)
+      throw error(t, "parentheses and 'not' nest more than " + MAX_NESTING + " deep; simplify the expression");
+  }
+
+  /** Counts one Lucene clause made at token {@code t}. */
+  private void clause(Token t) {
+    if (++clauses > MAX_CLAUSES)
+      throw error(t, "more than " + MAX_CLAUSES + " comparisons and negations; use FIELD in (v1, v2, ...) for long lists of values");
   }
 
   private Query comparison() {
@@ -111,32 +142,26 @@ public final class Where {
       throw error(field, "expected a field name, found " + field.describe());
     FieldKind kind = fields.get(field.text);
     if (kind == null)
-      throw error(field, "unknown field '" + field.text + "'; known fields: " + String.join(", ", new TreeSet<>(fields.keySet())));
+      throw error(field, "unknown field '" + Snippet.of(field.text) + "'; known fields: " + String.join(", ", new TreeSet<>(fields.keySet())));
     boolean negated = false;
     if (peekWord("not")) {
       pos++;
       negated = true;
       if (!peekWord("in")) throw error(peek(), "expected 'in' after 'not', found " + peek().describe());
     }
+    clause(field);
     if (peekWord("in")) {
-      pos++;
+      Token in = next();
       expect(T.LPAREN, "'(' after 'in'");
-      BooleanQuery.Builder b = new BooleanQuery.Builder().setMinimumNumberShouldMatch(1);
-      b.add(equalsQuery(field.text, kind, value()), Occur.SHOULD);
-      while (peek().type == T.COMMA) {
-        pos++;
-        b.add(equalsQuery(field.text, kind, value()), Occur.SHOULD);
-      }
-      expect(T.RPAREN, "',' or ')'");
-      Query q = b.build();
-      return negated ? negate(q) : q;
+      Query q = inQuery(field.text, kind);
+      return negated ? negate(q, in) : q;
     }
     Token op = next();
     if (op.type != T.OP) throw error(op, "expected = != < <= > >= or 'in' after '" + field.text + "', found " + op.describe());
     Token v = value();
     return switch (op.text) {
       case "=" -> equalsQuery(field.text, kind, v);
-      case "!=" -> negate(equalsQuery(field.text, kind, v));
+      case "!=" -> negate(equalsQuery(field.text, kind, v), op);
       default -> {
         if (kind != FieldKind.NUMBER)
           throw error(op, "'" + op.text + "' needs a number field; '" + field.text + "' holds text (use = != in)");
@@ -155,7 +180,28 @@ public final class Where {
     return kind == FieldKind.NUMBER ? DoublePoint.newExactQuery(field, number(v)) : new TermQuery(new Term(field, v.text));
   }
 
-  private static Query negate(Query q) {
+  /** The values of {@code in (v1, v2, ...)} after the '(' as one set query (one clause, any length). */
+  private Query inQuery(String field, FieldKind kind) {
+    List<Token> values = new ArrayList<>(List.of(value()));
+    while (peek().type == T.COMMA) {
+      pos++;
+      values.add(value());
+    }
+    expect(T.RPAREN, "',' or ')'");
+    if (values.size() == 1) return equalsQuery(field, kind, values.get(0));
+    if (kind == FieldKind.NUMBER) {
+      double[] xs = new double[values.size()];
+      for (int i = 0; i < xs.length; i++) xs[i] = number(values.get(i));
+      return DoublePoint.newSetQuery(field, xs);
+    }
+    LinkedHashSet<BytesRef> terms = new LinkedHashSet<>();
+    for (Token v : values) terms.add(new BytesRef(v.text));
+    return new TermInSetQuery(field, terms);
+  }
+
+  /** Everything except {@code q}'s matches (also the examples without a value); one more clause. */
+  private Query negate(Query q, Token at) {
+    clause(at);
     return new BooleanQuery.Builder().add(MatchAllDocsQuery.INSTANCE, Occur.FILTER).add(q, Occur.MUST_NOT).build();
   }
 
@@ -166,7 +212,7 @@ public final class Where {
     } catch (NumberFormatException ignored) {
       // reported below
     }
-    throw error(v, "'" + v.text + "' is not a number");
+    throw error(v, "'" + Snippet.of(v.text) + "' is not a number");
   }
 
   private Token value() {
@@ -181,7 +227,7 @@ public final class Where {
 
   private record Token(T type, String text, int at) {
     String describe() {
-      return type == T.END ? "the end" : "'" + text + "'";
+      return type == T.END ? "the end" : "'" + Snippet.of(text) + "'";
     }
   }
 
@@ -210,7 +256,7 @@ public final class Where {
   }
 
   private BadInputException error(Token t, String message) {
-    return new BadInputException("where: at position " + (t.at + 1) + ": " + message + " in: " + text);
+    return new BadInputException("where: at position " + (t.at + 1) + ": " + message + " in: " + Snippet.of(text, 100));
   }
 
   private List<Token> tokenize(String s) {
@@ -227,14 +273,14 @@ public final class Where {
         int start = i++;
         if (i < n && s.charAt(i) == '=') i++;
         String op = s.substring(start, i);
-        if (op.equals("!")) throw new BadInputException("where: at position " + (start + 1) + ": '!' must be followed by '=' in: " + s);
+        if (op.equals("!")) throw new BadInputException("where: at position " + (start + 1) + ": '!' must be followed by '=' in: " + Snippet.of(s, 100));
         if (op.equals("==")) op = "=";
         out.add(new Token(T.OP, op, start));
       } else if (c == '\'' || c == '"') {
         int start = i++;
         StringBuilder b = new StringBuilder();
         while (true) {
-          if (i >= n) throw new BadInputException("where: at position " + (start + 1) + ": quote never closed in: " + s);
+          if (i >= n) throw new BadInputException("where: at position " + (start + 1) + ": quote never closed in: " + Snippet.of(s, 100));
           char d = s.charAt(i++);
           if (d == c) break;
           if (d == '\\' && i < n) d = s.charAt(i++);

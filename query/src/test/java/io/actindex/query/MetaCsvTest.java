@@ -1,10 +1,13 @@
 package io.actindex.query;
 
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
+import static java.nio.charset.StandardCharsets.UTF_8;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 
 import io.actindex.core.BadInputException;
 import java.io.IOException;
+import java.nio.charset.Charset;
+import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
@@ -59,5 +62,60 @@ class MetaCsvTest {
     assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(k))).hasMessageContaining("'id' is reserved");
     Path l = write("");
     assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(l))).hasMessageContaining("header");
+  }
+
+  @Test
+  void utf8ByteOrderMarkIsSkipped() throws IOException {
+    Path f = tmp.resolve("bom.csv");
+    Files.write(f, concat(new byte[] {(byte) 0xEF, (byte) 0xBB, (byte) 0xBF}, "key,label\nk1,caf\u00e9\n".getBytes(UTF_8)));
+    assertEquals(List.of(Map.of("key", "k1", "label", "caf\u00e9")), MetaCsv.read(MetaCsv.Options.of(f)));
+  }
+
+  /** Text saved as UTF-16 (both byte orders, with and without a byte order mark) or Latin-1 is refused with the line. */
+  @Test
+  void otherEncodingsAreRefusedWithTheLine() throws IOException {
+    String text = "key,label\nk1,caf\u00e9\nk2,na\u00efve\n";
+    for (Charset cs : List.of(StandardCharsets.UTF_16, StandardCharsets.UTF_16LE, StandardCharsets.UTF_16BE)) {
+      Path f = tmp.resolve("u16-" + cs.name() + ".csv");
+      Files.write(f, text.getBytes(cs));
+      assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(f))).isInstanceOf(BadInputException.class)
+          .hasMessageContaining(f.getFileName().toString()).hasMessageContaining("line 1").hasMessageContaining("UTF-16")
+          .hasMessageContaining("save it as UTF-8");
+    }
+    Path latin = tmp.resolve("latin1.csv");
+    Files.write(latin, text.getBytes(StandardCharsets.ISO_8859_1));
+    assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(latin))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("latin1.csv: line 2: not UTF-8 (byte 0xE9 after 'k1,caf')").hasMessageContaining("Latin-1");
+  }
+
+  @Test
+  void limitsAreRefusedWithShortMessages() throws IOException {
+    // columns: at the limit fine, one more refused
+    String head = String.join(",", java.util.stream.IntStream.range(0, MetaCsv.MAX_COLUMNS).mapToObj(c -> "c" + c).toList());
+    Path ok = write(head + "\n" + ",".repeat(MetaCsv.MAX_COLUMNS - 1) + "\n");
+    assertEquals(1, MetaCsv.read(MetaCsv.Options.of(ok)).size());
+    Path wide = write(head + ",extra\n");
+    assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(wide))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("meta.csv: line 1: more than " + MetaCsv.MAX_COLUMNS + " columns");
+    // a cell: at the limit fine (quoted too), one character more refused, message short
+    Path cell = write("key,note\nk1,\"" + "y".repeat(MetaCsv.MAX_CELL_CHARS) + "\"\n");
+    assertEquals(MetaCsv.MAX_CELL_CHARS, MetaCsv.read(MetaCsv.Options.of(cell)).get(0).get("note").length());
+    Path big = write("key,note\nk1,ok\nk2," + "z".repeat(5_000_000) + "\n");
+    assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(big))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("meta.csv: line 3 is longer than").message().hasSizeLessThan(300);
+    Path bigCell = write("key,note\nk1,ok\nk2,\"" + "z\n".repeat(MetaCsv.MAX_CELL_CHARS) + "\"\n");
+    assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(bigCell))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("meta.csv: line 3, column 2: a cell longer than 10,000 characters, starting 'z\\nz\\n")
+        .message().hasSizeLessThan(300).doesNotContain("\n");
+    // a line of 200 MB would be refused after the first MiB; a 2 MiB one shows it
+    Path line = write("key,note\n" + "k,".repeat(MetaCsv.MAX_LINE_BYTES) + "\n");
+    assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(line))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("line 2 is longer than 1,048,576 bytes");
+  }
+
+  private static byte[] concat(byte[] a, byte[] b) {
+    byte[] out = java.util.Arrays.copyOf(a, a.length + b.length);
+    System.arraycopy(b, 0, out, a.length, b.length);
+    return out;
   }
 }

@@ -91,12 +91,22 @@ class RegionTest {
           List<Region.Group> got = new ArrayList<>(res.nearby());
           if (res.same().count() > 0) got.add(res.same());
           int expectedGroups = 0;
+          List<List<Integer>> nearbyBits = new ArrayList<>(); // flipped bit positions of each expected nearby group
+          Map<List<Integer>, Integer> countOf = new java.util.HashMap<>();
           for (var e : groups.entrySet()) {
             List<String> flipped = new ArrayList<>();
+            List<Integer> flippedBits = new ArrayList<>();
             for (int b = 0; b < e.getKey().length(); b++)
-              if (e.getKey().charAt(b) != qs.charAt(b)) flipped.add(Layers.neuron(layout, from + b));
+              if (e.getKey().charAt(b) != qs.charAt(b)) {
+                flipped.add(Layers.neuron(layout, from + b));
+                flippedBits.add(from + b);
+              }
             if (flipped.size() > radius) continue;
             expectedGroups++;
+            if (!flipped.isEmpty()) {
+              nearbyBits.add(flippedBits);
+              countOf.put(flippedBits, e.getValue().size());
+            }
             Region.Group g = got.stream().filter(x -> x.flipped().equals(flipped)).findFirst().orElseThrow(() -> new AssertionError(why));
             assertEquals(flipped.size(), g.distance(), why);
             assertEquals(e.getValue().size(), g.count(), why);
@@ -107,11 +117,15 @@ class RegionTest {
             assertEquals(keys, g.keys(), why);
           }
           assertEquals(expectedGroups, got.size(), why);
-          // order: distance, then count descending
-          for (int i = 1; i < res.nearby().size(); i++) {
-            Region.Group a = res.nearby().get(i - 1), b = res.nearby().get(i);
-            assertThat(a.distance() < b.distance() || (a.distance() == b.distance() && a.count() >= b.count())).as(why).isTrue();
-          }
+          // order: distance, then count descending, then the flipped neurons in bit order (lexicographic)
+          nearbyBits.sort((a, b) -> {
+            if (a.size() != b.size()) return Integer.compare(a.size(), b.size());
+            if (!countOf.get(a).equals(countOf.get(b))) return Integer.compare(countOf.get(b), countOf.get(a));
+            for (int i = 0; i < a.size(); i++) if (!a.get(i).equals(b.get(i))) return Integer.compare(a.get(i), b.get(i));
+            return 0;
+          });
+          List<List<String>> wantOrder = nearbyBits.stream().map(l -> l.stream().map(b -> Layers.neuron(layout, b)).toList()).toList();
+          assertEquals(wantOrder, res.nearby().stream().map(Region.Group::flipped).toList(), why);
         }
       }
     }

@@ -52,14 +52,8 @@ class WhereTest {
         IndexSearcher searcher = new IndexSearcher(reader);
         for (int e = 0; e < 20; e++) {
           Expr ex = expr(rnd, 3);
-          Query q = Where.parse(ex.text, FIELDS);
-          List<Integer> got = new ArrayList<>();
-          for (ScoreDoc sd : searcher.search(q, rows.size() + 1).scoreDocs)
-            got.add(Integer.parseInt(searcher.storedFields().document(sd.doc).get("row")));
-          got.sort(null);
-          List<Integer> want = new ArrayList<>();
-          for (int i = 0; i < rows.size(); i++) if (ex.test.test(rows.get(i))) want.add(i);
-          assertEquals(want, got, ex.text + " " + Randoms.describe(seed));
+          assertEquals(scan(rows, ex.test), search(searcher, Where.parse(ex.text, FIELDS), rows.size()),
+              ex.text + " " + Randoms.describe(seed));
         }
       }
     }
@@ -128,7 +122,115 @@ class WhereTest {
     assertThatThrownBy(() -> Where.parse("label = cat dog", FIELDS)).hasMessageContaining("position 13");
     assertThatThrownBy(() -> Where.parse(" ", FIELDS)).isInstanceOf(BadInputException.class).hasMessageContaining("empty");
     assertThatThrownBy(() -> Where.parse("or label = cat", FIELDS)).hasMessageContaining("position 1").hasMessageContaining("field name");
-    assertThat(Where.parse("label == 'and' AND NOT score < 1e-3", FIELDS)).isNotNull();
+  }
+
+  @Test
+  void keywordsAreCaseInsensitiveAndDoubleEqualsIsEquals() throws IOException {
+    List<Row> rows = List.of(new Row("and", "train", 0.0, "a", 1.0), new Row("and", "train", 0.5, "a", 1.0),
+        new Row("and", "train", null, "a", 1.0), new Row("cat", "train", 0.5, "a", 1.0));
+    try (ByteBuffersDirectory dir = index(rows); DirectoryReader reader = DirectoryReader.open(dir)) {
+      // row 2 has no score: 'score < 1e-3' does not hold for it, so its negation does
+      assertEquals(List.of(1, 2), search(new IndexSearcher(reader), Where.parse("label == 'and' AND NOT score < 1e-3", FIELDS), 4));
+    }
+  }
+
+  /** {@code in (...)} far past Lucene's 1,024-clause limit, on text and on numbers, and negated. */
+  @Test
+  void longInListsMatchADirectScan() throws IOException {
+    for (int rep = 0; rep < 6; rep++) {
+      long seed = Randoms.seed(rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      List<Row> rows = rows(rnd, 200);
+      try (ByteBuffersDirectory dir = index(rows); DirectoryReader reader = DirectoryReader.open(dir)) {
+        IndexSearcher searcher = new IndexSearcher(reader);
+        int count = 1025 + rnd.nextInt(3000);
+        java.util.Set<String> labels = new java.util.HashSet<>();
+        java.util.Set<Double> scores = new java.util.HashSet<>();
+        StringBuilder lt = new StringBuilder(), st = new StringBuilder();
+        for (int i = 0; i < count; i++) {
+          String l = rnd.nextInt(500) == 0 ? LABELS[rnd.nextInt(LABELS.length)] : "v" + rnd.nextInt(1 << 20);
+          double x = rnd.nextInt(500) == 0 ? rnd.nextInt(11) / 10.0 : 2 + rnd.nextInt(1 << 20);
+          labels.add(l);
+          scores.add(x);
+          lt.append(i == 0 ? "" : ", ").append(quote(l));
+          st.append(i == 0 ? "" : ",").append(x);
+        }
+        boolean not = rnd.nextBoolean();
+        String text = "label " + (not ? "not in" : "in") + " (" + lt + ") or score in (" + st + ")";
+        Predicate<Row> test = r -> (not != labels.contains(r.label)) || (r.score != null && scores.contains(r.score));
+        assertEquals(scan(rows, test), search(searcher, Where.parse(text, FIELDS), rows.size()), Randoms.describe(seed));
+      }
+    }
+  }
+
+  /** Up to the limits the answer is right; past them the refusal names the limit and the position. */
+  @Test
+  void nestingAndClauseCountAreCappedWithAClearRefusal() throws IOException {
+    long seed = Randoms.seed(5);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    List<Row> rows = rows(rnd, 120);
+    try (ByteBuffersDirectory dir = index(rows); DirectoryReader reader = DirectoryReader.open(dir)) {
+      IndexSearcher searcher = new IndexSearcher(reader);
+      // deepest accepted nesting: parentheses and 'not' mixed, built with its meaning
+      Expr e = atom(rnd);
+      for (int d = 0; d < Where.MAX_NESTING; d++) {
+        Expr inner = e;
+        e = rnd.nextBoolean() ? new Expr("(" + inner.text + ")", inner.test, 0) : new Expr("not " + inner.text, inner.test.negate(), 3);
+      }
+      assertEquals(scan(rows, e.test), search(searcher, Where.parse(e.text, FIELDS), rows.size()), e.text + " " + Randoms.describe(seed));
+      // the longest accepted or-chain: MAX_CLAUSES comparisons
+      StringBuilder chain = new StringBuilder();
+      Predicate<Row> any = r -> false;
+      for (int i = 0; i < Where.MAX_CLAUSES; i++) {
+        Expr a = rnd.nextBoolean() ? atom(rnd) : new Expr("score = " + rnd.nextInt(11) / 10.0, null, 0);
+        if (a.text.contains("!=") || a.text.contains("not in")) a = new Expr("source = a", r -> "a".equals(r.source), 0);
+        if (a.test == null) {
+          double x = Double.parseDouble(a.text.substring(8));
+          a = new Expr(a.text, r -> r.score != null && r.score == x, 0);
+        }
+        chain.append(i == 0 ? "" : " or ").append(a.text);
+        any = any.or(a.test);
+      }
+      assertEquals(scan(rows, any), search(searcher, Where.parse(chain.toString(), FIELDS), rows.size()), Randoms.describe(seed));
+    }
+    String tooDeep = "(".repeat(Where.MAX_NESTING) + "not label = cat" + ")".repeat(Where.MAX_NESTING);
+    assertThatThrownBy(() -> Where.parse(tooDeep, FIELDS)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("position " + (Where.MAX_NESTING + 1)).hasMessageContaining("nest more than " + Where.MAX_NESTING);
+    // the inputs that overflowed the stack before: 3,000 parentheses, 30,000 'not'
+    for (String huge : List.of("(".repeat(3000) + "label = cat" + ")".repeat(3000), "not ".repeat(30000) + "label = cat")) {
+      assertThatThrownBy(() -> Where.parse(huge, FIELDS)).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("nest more than").message().hasSizeLessThan(400).doesNotContain("\n");
+    }
+    String tooLong = "label = a or ".repeat(Where.MAX_CLAUSES) + "label = b";
+    assertThatThrownBy(() -> Where.parse(tooLong, FIELDS)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("position " + (tooLong.length() - "label = b".length() + 1))
+        .hasMessageContaining("in (").message().hasSizeLessThan(400);
+    // != and not count one more each: 501 of them are 1,002 clauses
+    assertThatThrownBy(() -> Where.parse("label != a and ".repeat(500) + "label != b", FIELDS))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("more than " + Where.MAX_CLAUSES);
+  }
+
+  @Test
+  void messagesQuoteOnlyAShortPrefix() {
+    String longValue = "x".repeat(5_000_000);
+    assertThatThrownBy(() -> Where.parse("score = " + longValue, FIELDS)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("not a number").hasMessageContaining("5,000,000 characters").message().hasSizeLessThan(400);
+    assertThatThrownBy(() -> Where.parse("label = 'a\nb' and\ncolour = red", FIELDS)).isInstanceOf(BadInputException.class)
+        .message().doesNotContain("\n");
+  }
+
+  static List<Integer> scan(List<Row> rows, Predicate<Row> test) {
+    List<Integer> want = new ArrayList<>();
+    for (int i = 0; i < rows.size(); i++) if (test.test(rows.get(i))) want.add(i);
+    return want;
+  }
+
+  static List<Integer> search(IndexSearcher searcher, Query q, int n) throws IOException {
+    List<Integer> got = new ArrayList<>();
+    for (ScoreDoc sd : searcher.search(q, n + 1).scoreDocs)
+      got.add(Integer.parseInt(searcher.storedFields().document(sd.doc).get("row")));
+    got.sort(null);
+    return got;
   }
 
   // ---- random expressions with their meaning

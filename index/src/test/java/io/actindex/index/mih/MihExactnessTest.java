@@ -18,7 +18,12 @@ import org.junit.jupiter.params.provider.ValueSource;
 /** Every search path of {@link Searchers} against {@link BruteForce}, on uniform and ReLU-like codes. */
 class MihExactnessTest {
 
-  /** A plan variant per repetition, so that the planner, forced tables, cascade and odd m all run. */
+  /**
+   * A plan variant per repetition: 0 the defaults (planner on), 1 tables forced, 2 tables forced
+   * with a given number m of substrings (odd m included), 3 the plain layout (no constant-bit
+   * dropping, consecutive bits per substring) with at most 1-4 tables forced, which on long codes
+   * indexes only some bits (the lower-bound cascade), 4 the planner with at most 2-7 tables.
+   */
   static SearchPlanOptions options(int rep, SplittableRandom rnd) {
     SearchPlanOptions d = SearchPlanOptions.defaults();
     return switch (rep % 5) {
@@ -62,7 +67,7 @@ class MihExactnessTest {
   static long[] mask(CodeBlock codes, SplittableRandom rnd) {
     int segs = codes.layout().segments().size();
     return switch (rnd.nextInt(4)) {
-      case 0 -> codes.layout().mask(rnd.nextInt(segs)); // one layer
+      case 0 -> codes.layout().mask(rnd.nextInt(segs)); // one segment (the only one for single-segment layouts)
       case 1 -> {
         long[] m = new long[codes.wordsPerCode()];
         for (int b = 0; b < codes.layout().bits(); b++) if (rnd.nextInt(3) != 0) m[b >>> 6] |= 1L << (b & 63);
@@ -99,7 +104,7 @@ class MihExactnessTest {
       long seed = Randoms.seed(bits * 100 + rep);
       SplittableRandom rnd = new SplittableRandom(seed);
       int n = 1 + rnd.nextInt(bits >= 1024 ? 400 : 1200);
-      // codes that share bits: a random subset of bits is held constant, another copied
+      // independent, uniformly random bits (constant, rare and copied bits: oddWidthsAndSkewedBits)
       CodeBlock codes = SyntheticCodes.uniform(n, bits, seed);
       CodeSearcher s = Searchers.build(codes, options(rep, rnd));
       checkAll(codes, s, rnd, seed, 3);

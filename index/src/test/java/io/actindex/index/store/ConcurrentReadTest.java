@@ -16,7 +16,10 @@ import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Readers opened while a writer commits (and removes old generations' files) always see one whole
- * generation: codes, tombstones and metadata agree.
+ * generation: codes, tombstones and metadata agree. No timing: before each commit the writer waits
+ * until the reader has started a new open since the previous commit, so opens and commits
+ * interleave on any machine, however loaded (the reader opens at least 30 times; the first open ends
+ * before the second commit starts, a later one starts after the 29th).
  */
 class ConcurrentReadTest {
   @TempDir Path tmp;
@@ -26,11 +29,13 @@ class ConcurrentReadTest {
     Path dir = tmp.resolve("idx");
     IndexWriter.create(dir, CrashChild.LAYOUT, Map.of()).close();
     AtomicBoolean stop = new AtomicBoolean();
+    java.util.concurrent.atomic.AtomicInteger opensStarted = new java.util.concurrent.atomic.AtomicInteger();
     AtomicReference<Throwable> failure = new AtomicReference<>();
     List<Integer> seen = new ArrayList<>();
     Thread reader = new Thread(() -> {
       try {
-        while (!stop.get()) {
+        do {
+          opensStarted.incrementAndGet();
           try (IndexReader r = IndexReader.open(dir)) {
             RoaringBitmap live = r.liveIds();
             assertEquals(live.getCardinality(), r.meta().numDocs());
@@ -38,14 +43,18 @@ class ConcurrentReadTest {
             assertEquals(live, r.meta().select(new org.apache.lucene.search.MatchAllDocsQuery()));
             seen.add(r.maxId());
           }
-        }
+        } while (!stop.get());
       } catch (Throwable t) {
         failure.set(t);
       }
     });
     reader.start();
     try (IndexWriter w = IndexWriter.open(dir)) {
+      int opens = 0;
       for (int step = 0; step < 30 && failure.get() == null; step++) {
+        while (opensStarted.get() <= opens && failure.get() == null && reader.isAlive())
+          java.util.concurrent.locks.LockSupport.parkNanos(200_000);
+        opens = opensStarted.get();
         int first = w.maxId(), n = 20;
         long[] words = new long[n * CrashChild.LAYOUT.words()];
         List<Map<String, String>> rows = new ArrayList<>();
@@ -62,6 +71,7 @@ class ConcurrentReadTest {
       reader.join();
     }
     if (failure.get() != null) throw new AssertionError("reader failed", failure.get());
-    assertTrue(seen.size() > 1, "reader opened " + seen.size() + " times");
+    assertTrue(seen.size() >= 30, "reader opened " + seen.size() + " times");
+    assertTrue(seen.stream().distinct().count() > 1, "the reader saw more than one generation: " + seen);
   }
 }
