@@ -87,16 +87,10 @@ public final class Delete {
         throw new BadInputException("keys file " + file + " line " + (i + 1) + ": longer than " + MAX_KEY_BYTES + " characters");
       int id = meta.idOfKey(key);
       if (id < 0)
-        throw new BadInputException("keys file " + file + " line " + (i + 1) + ": key '" + prefix(key)
+        throw new BadInputException("keys file " + file + " line " + (i + 1) + ": key '" + Snippet.of(key)
             + "' is not in the index (nothing deleted)");
       ids.add(id);
     }
     return ids;
-  }
-
-  /** At most 40 characters of {@code s}, control characters shown as '?'. */
-  private static String prefix(String s) {
-    String cut = s.length() > 40 ? s.substring(0, 40) + "..." : s;
-    return cut.replaceAll("\\p{Cntrl}", "?");
   }
 }

@@ -283,9 +283,16 @@ public final class IndexWriter implements AutoCloseable {
   private Manifest merge(Manifest m, int from, int to) throws IOException {
     int w = m.layout().words(), total = 0;
     List<Segment> segs = new ArrayList<>();
+    List<Path> files = new ArrayList<>();
     for (Manifest.SegmentEntry e : m.segments().subList(from, to)) {
-      segs.add(Segment.read(dir, FileSource.DIRECT, m, e, ChecksummedFile.Check.FULL));
-      total += live(e);
+      files.add(dir.resolve(e.codes().name()));
+      files.add(dir.resolve(e.tables().name()));
+    }
+    try (FileSource.Pinned src = FileSource.pin(files)) { // unmapped right after: the codes are copied
+      for (Manifest.SegmentEntry e : m.segments().subList(from, to)) {
+        segs.add(Segment.read(dir, src, m, e, ChecksummedFile.Check.FULL));
+        total += live(e);
+      }
     }
     List<Manifest.SegmentEntry> out = new ArrayList<>(m.segments().subList(0, from));
     int segId = m.nextSegmentId(), si = 0, so = 0;
