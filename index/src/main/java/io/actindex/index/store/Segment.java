@@ -49,11 +49,9 @@ public final class Segment {
   private final int[] ids; // null when contiguous
   private final CodeSearcher searcher;
   private final long bytes;
-  private final SearcherStats stats;
+  private volatile SearcherStats stats; // computed when first asked (info), not at open
 
-  private Segment(int segmentId, CodeBlock codes, int firstId, int[] ids, CodeSearcher searcher, long bytes,
-      SearcherStats stats) {
-    this.stats = stats;
+  private Segment(int segmentId, CodeBlock codes, int firstId, int[] ids, CodeSearcher searcher, long bytes) {
     this.segmentId = segmentId;
     this.codes = codes;
     this.firstId = firstId;
@@ -209,8 +207,7 @@ public final class Segment {
     } else {
       throw t.error("unknown searcher kind " + kind);
     }
-    return new Segment(e.segmentId(), codes, firstId, ids, searcher, e.codes().length() + e.tables().length(),
-        Searchers.stats(searcher));
+    return new Segment(e.segmentId(), codes, firstId, ids, searcher, e.codes().length() + e.tables().length());
   }
 
   public int segmentId() {
@@ -231,7 +228,9 @@ public final class Segment {
 
   /** Bit plan and table occupancy of the segment's searcher. */
   public SearcherStats stats() {
-    return stats;
+    SearcherStats st = stats;
+    if (st == null) stats = st = Searchers.stats(searcher);
+    return st;
   }
 
   /** Bytes of the segment's two files. */
