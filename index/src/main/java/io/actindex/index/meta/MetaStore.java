@@ -76,24 +76,23 @@ public final class MetaStore implements Closeable {
   public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted) {
     RoaringBitmap all = new RoaringBitmap();
     all.add(0L, 1L << 31);
-    return open(metaDir, segmentsFile, deleted, all, 0, true);
+    return open(metaDir, segmentsFile, deleted, all, 0, Long.MAX_VALUE);
   }
 
   /**
    * Opens the commit {@code segmentsFile}; ids in {@code [0, maxId)} that are neither in
-   * {@code documented} nor in {@code deleted} are bare (key "row-ID", no document). With {@code
-   * fullCheck} false only files up to {@code smallFileBytes} get their checksum recomputed; the
-   * others have their footer and length checked (Lucene checks them in full when it merges).
+   * {@code documented} nor in {@code deleted} are bare (key "row-ID", no document). Files up to
+   * {@code fullCheckBytes} get their checksum recomputed; larger ones have their footer checked
+   * (Lucene checks them in full when it merges, {@link #checkFiles} always).
    */
   public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted, RoaringBitmap documented,
-      int maxId, boolean fullCheck) {
+      int maxId, long fullCheckBytes) {
     if (!java.nio.file.Files.isDirectory(metaDir))
       throw new BadInputException("metadata folder " + metaDir + " is missing (readers never create it)");
     RoaringBitmap bare = new RoaringBitmap();
     if (maxId > 0) bare.add(0L, maxId);
     bare.andNot(documented);
     bare.andNot(deleted);
-    long small = Long.getLong("actindex.open.fullCheckBytes", 1 << 20);
     Directory dir = null;
     try {
       dir = FSDirectory.open(metaDir);
@@ -121,7 +120,7 @@ public final class MetaStore implements Closeable {
         for (int i = 0; i < pinned.size(); i++) {
           try {
             IndexInput in = pinned.get(i);
-            if (fullCheck || in.length() <= small) CodecUtil.checksumEntireFile(in);
+            if (in.length() <= fullCheckBytes) CodecUtil.checksumEntireFile(in);
             else CodecUtil.retrieveChecksum(in);
           } catch (IOException e) {
             throw new BadInputException("metadata file " + metaDir.resolve(names.get(i)) + " is damaged: "

@@ -98,7 +98,7 @@ public final class IndexReader implements AutoCloseable {
       att.put(name, Attachments.read(dir, src, m, name, ChecksummedFile.Check.OPEN));
     RoaringBitmap documented = m.documentedIds();
     MetaStore meta = MetaStore.open(dir.resolve(IndexWriter.META_DIR), m.metaCommit(), deleted, documented, m.nextId(),
-        false);
+        ChecksummedFile.smallFileBytes());
     int documentedLive = RoaringBitmap.andNot(documented, deleted).getCardinality();
     if (meta.documents() != documentedLive) {
       try {
