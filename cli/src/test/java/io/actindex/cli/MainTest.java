@@ -10,8 +10,8 @@ import picocli.CommandLine;
 
 /** Parsing, help, version and exit codes that need no index. */
 class MainTest {
-  static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare", "delete",
-      "compact", "check");
+  static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare", "fidelity",
+      "delete", "compact", "check");
 
   @Test
   void everyContractCommandIsRegistered() {

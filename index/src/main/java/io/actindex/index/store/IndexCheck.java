@@ -68,6 +68,12 @@ public final class IndexCheck {
         out.add(new FileResult(tables, size(dir.resolve(tables)),
             codesBad ? "not checked: its codes file is damaged" : problem));
         filesOk &= problem == null;
+        FileRef mags = m.magnitudes().get(e.segmentId());
+        if (mags != null) {
+          String mp = problem(() -> Magnitudes.read(dir, src, m, e, mags, ChecksummedFile.Check.FULL));
+          out.add(new FileResult(mags.name(), size(dir.resolve(mags.name())), mp));
+          filesOk &= mp == null;
+        }
       }
       if (m.tombstones() != null) {
         String problem = problem(() -> Tombstones.read(dir, src, m, ChecksummedFile.Check.FULL));

@@ -32,7 +32,7 @@ import org.roaringbitmap.RoaringBitmap;
 public final class IndexWriter implements AutoCloseable {
   static final String META_DIR = "meta";
   private static final Pattern OWN_FILE =
-      Pattern.compile("manifest-\\d+(\\.tmp)?|seg-\\d+\\.(codes|tables)|tomb-\\d+\\.bits|att-\\d+\\.bin");
+      Pattern.compile("manifest-\\d+(\\.tmp)?|seg-\\d+\\.(codes|tables|mags)|tomb-\\d+\\.bits|att-\\d+\\.bin");
 
   private final Path dir;
   private final StoreIo io;
@@ -76,7 +76,7 @@ public final class IndexWriter implements AutoCloseable {
         meta = MetaWriter.create(dir.resolve(META_DIR), io.lucene(dir.resolve(META_DIR)));
         String commit = meta.commit();
         Manifest m = new Manifest(1, UUID.randomUUID(), layout, 0, 0, List.of(), null,
-            properties == null ? Map.of() : properties, Map.of(), commit, List.of());
+            properties == null ? Map.of() : properties, Map.of(), commit, Map.of(), List.of());
         m.commit(io, dir);
         meta.published(commit);
         return new IndexWriter(dir, io, lock, meta, m, new RoaringBitmap());
@@ -160,7 +160,18 @@ public final class IndexWriter implements AutoCloseable {
    * policy asks (each merge its own commit). Returns the first id.
    */
   public int add(CodeBlock codes, List<Map<String, String>> rows) {
+    return add(codes, null, rows);
+  }
+
+  /**
+   * As {@link #add(CodeBlock, List)}, keeping {@code magnitudes} (one row per code, one unit per
+   * code bit; null = none) in the segment's {@link Magnitudes} file, committed with the codes.
+   */
+  public int add(CodeBlock codes, Magnitudes magnitudes, List<Map<String, String>> rows) {
     ensureOpen();
+    if (magnitudes != null && (magnitudes.count() != codes.size() || magnitudes.units() != manifest.layout().bits()))
+      throw new IllegalArgumentException(magnitudes.count() + " magnitude rows of " + magnitudes.units() + " units for "
+          + codes.size() + " codes of " + manifest.layout().bits() + " bits");
     if (!codes.layout().equals(manifest.layout()))
       throw new BadInputException("codes have layout " + codes.layout() + ", the index " + dir + " has " + manifest.layout());
     int n = codes.size();
@@ -176,12 +187,17 @@ public final class IndexWriter implements AutoCloseable {
     MetaWriter.Batch batch = rows == null ? null : prepare(first, n, rows);
     mutate(() -> {
       List<Manifest.SegmentEntry> segs = new ArrayList<>(manifest.segments());
+      Map<Integer, FileRef> mags = new LinkedHashMap<>();
       int segId = manifest.nextSegmentId(), at = 0;
       for (int len : policy.split(n, codes.wordsPerCode())) {
         int[] ids = new int[len];
         for (int i = 0; i < len; i++) ids[i] = first + at + i;
         CodeBlock piece = at == 0 && len == n ? codes : codes.slice(at, at + len);
-        segs.add(Segment.write(io, dir, manifest.uuid(), segId++, piece, ids));
+        segs.add(Segment.write(io, dir, manifest.uuid(), segId, piece, ids));
+        if (magnitudes != null)
+          mags.put(segId, Magnitudes.write(io, dir, manifest.uuid(), manifest.layout().hash(), segId,
+              len == n ? magnitudes : rows(magnitudes, at, len)));
+        segId++;
         at += len;
       }
       String commit = manifest.metaCommit();
@@ -191,6 +207,7 @@ public final class IndexWriter implements AutoCloseable {
       }
       Manifest next = manifest.next(end, segId, segs, manifest.tombstones(), manifest.properties(), manifest.attachments(),
           commit);
+      for (Map.Entry<Integer, FileRef> e : mags.entrySet()) next = next.withMagnitudes(e.getKey(), e.getValue());
       publish(batch == null ? next : next.withDocumented(first, end));
     });
     mergeAsNeeded();
@@ -295,7 +312,10 @@ public final class IndexWriter implements AutoCloseable {
       }
     }
     List<Manifest.SegmentEntry> out = new ArrayList<>(m.segments().subList(0, from));
-    int segId = m.nextSegmentId(), si = 0, so = 0;
+    Map<Integer, FileRef> mags = new java.util.TreeMap<>(m.magnitudes());
+    for (Manifest.SegmentEntry e : m.segments().subList(from, to)) mags.remove(e.segmentId());
+    Magnitudes kept = total == 0 ? null : liveMagnitudes(m, from, to, segs);
+    int segId = m.nextSegmentId(), si = 0, so = 0, at = 0;
     for (int len : total == 0 ? List.<Integer>of() : policy.split(total, w)) {
       long[] words = new long[Math.multiplyExact(len, w)];
       int[] ids = new int[len];
@@ -314,11 +334,36 @@ public final class IndexWriter implements AutoCloseable {
         }
         so++;
       }
-      out.add(Segment.write(io, dir, m.uuid(), segId++, new CodeBlock(m.layout(), len, words), ids));
+      out.add(Segment.write(io, dir, m.uuid(), segId, new CodeBlock(m.layout(), len, words), ids));
+      if (kept != null)
+        mags.put(segId, Magnitudes.write(io, dir, m.uuid(), m.layout().hash(), segId,
+            len == total ? kept : rows(kept, at, len)));
+      segId++;
+      at += len;
     }
     out.addAll(m.segments().subList(to, m.segments().size()));
     return new Manifest(m.generation(), m.uuid(), m.layout(), m.nextId(), segId, out, m.tombstones(), m.properties(),
-        m.attachments(), m.metaCommit(), m.documented());
+        m.attachments(), m.metaCommit(), mags, m.documented());
+  }
+
+  /** Rows {@code [from, from + len)} of {@code m}. */
+  private static Magnitudes rows(Magnitudes m, int from, int len) {
+    return Magnitudes.merge(List.of(m), List.of(java.util.stream.IntStream.range(from, from + len).toArray()));
+  }
+
+  /** The live rows' magnitudes of segments {@code [from, to)} in id order, or null unless every one keeps them. */
+  private Magnitudes liveMagnitudes(Manifest m, int from, int to, List<Segment> segs) {
+    List<Magnitudes> parts = new ArrayList<>();
+    List<int[]> ords = new ArrayList<>();
+    for (int p = from; p < to; p++) {
+      Manifest.SegmentEntry e = m.segments().get(p);
+      FileRef ref = m.magnitudes().get(e.segmentId());
+      if (ref == null) return null;
+      parts.add(Magnitudes.read(dir, FileSource.DIRECT, m, e, ref, ChecksummedFile.Check.FULL));
+      Segment s = segs.get(p - from);
+      ords.add(java.util.stream.IntStream.range(0, s.size()).filter(o -> !deleted.contains(s.id(o))).toArray());
+    }
+    return parts.isEmpty() ? null : Magnitudes.merge(parts, ords);
   }
 
   /** Adds or replaces properties and commits. */
