@@ -29,7 +29,7 @@ final class AddCommand implements Callable<Integer> {
     try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "encoding rows")) {
       result = IndexBuilder.add(params, bar);
     }
-    Summaries.written(spec.commandLine().getOut(), format.format, "added to", index.dir, result);
+    Summaries.written(spec.commandLine().getOut(), spec.commandLine().getErr(), format.format, "added to", index.dir, result);
     return ExitCodes.OK;
   }
 }

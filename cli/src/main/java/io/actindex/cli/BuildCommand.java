@@ -4,6 +4,7 @@ import io.actindex.encode.BinarizeRule;
 import io.actindex.encode.EncodeOptions;
 import io.actindex.query.IndexBuilder;
 import java.nio.file.Path;
+import java.util.List;
 import java.util.concurrent.Callable;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
@@ -15,7 +16,8 @@ import picocli.CommandLine.Spec;
 /** {@code actindex build}: a new index from activations, codes, or a model and its inputs. */
 @Command(name = "build", mixinStandardHelpOptions = true,
     description = {"Builds a new index folder from activations, codes, or a model and its inputs, with optional metadata.",
-        "The index remembers how it was built (rule, threshold, layers, the model) so that later queries are encoded the same way."})
+        "The index remembers how it was built (rule, threshold, layers, the model and its layer order) so that later queries are encoded the same way.",
+        "How the source was read (CSV header, the model's layer order, code layers and output layer) is printed on stderr (in the JSON document with --format json)."})
 final class BuildCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -28,6 +30,15 @@ final class BuildCommand implements Callable<Integer> {
   Path model;
 
   @Mixin BuildSourceOptions source;
+
+  @Option(names = "--layer-order", paramLabel = "LAYER", split = ",",
+      description = {"The model's layers in forward order, comma separated, every layer named (as in NAME.weight), e.g. input,hidden,output.",
+          "Default: by the numbers in the names when the names differ only in them (0,2,4; fc1,fc2; layer9,layer10), else the one order in which the weight shapes chain; several possible orders are refused. Stored in the index."})
+  List<String> layerOrder;
+
+  @Option(names = "--no-output-layer",
+      description = "The model file holds hidden layers only: every layer becomes a code layer (default: the last layer is the output layer and is not encoded). Stored in the index.")
+  boolean noOutputLayer;
 
   @Option(names = "--threshold", paramLabel = "T",
       description = "A neuron is on when its activation is > T (default: > 0, the ReLU rule).")
@@ -48,14 +59,18 @@ final class BuildCommand implements Callable<Integer> {
     if (threshold != null && !Double.isFinite(threshold))
       throw new ParameterException(spec.commandLine(), "--threshold must be a finite number");
     BinarizeRule rule = median ? BinarizeRule.MEDIAN : threshold != null ? BinarizeRule.THRESHOLD : BinarizeRule.POSITIVE;
-    EncodeOptions encode = new EncodeOptions(rule, threshold == null ? 0 : threshold, layers.layers);
+    if ((layerOrder != null || noOutputLayer) && model == null)
+      throw new ParameterException(spec.commandLine(), "--layer-order and --no-output-layer go with --model");
+    if (layerOrder != null && layerOrder.stream().anyMatch(String::isBlank))
+      throw new ParameterException(spec.commandLine(), "--layer-order: empty layer name in " + layerOrder);
+    EncodeOptions encode = new EncodeOptions(rule, threshold == null ? 0 : threshold, layers.layers).withModel(layerOrder, !noOutputLayer);
     IndexBuilder.BuildParams params = new IndexBuilder.BuildParams(out, source.toSource(model), source.metaOptions(), encode,
         source.codeLayout(), 0);
     IndexBuilder.Result result;
     try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "encoding rows")) {
       result = IndexBuilder.build(params, bar);
     }
-    Summaries.written(spec.commandLine().getOut(), format.format, "built", out, result);
+    Summaries.written(spec.commandLine().getOut(), spec.commandLine().getErr(), format.format, "built", out, result);
     return ExitCodes.OK;
   }
 }

@@ -2,6 +2,7 @@ package io.actindex.cli;
 
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeLayout;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.query.MetaCsv;
 import io.actindex.query.Source;
 import java.nio.file.Path;
@@ -32,6 +33,11 @@ public final class BuildSourceOptions {
   @Option(names = "--inputs", paramLabel = "FILE",
       description = "Model inputs (.npy or .csv), run through the model (--model, or the index's model for add).")
   Path inputs;
+
+  @Option(names = "--header", paramLabel = "yes|no|auto", defaultValue = "auto",
+      description = {"Whether the first line of a CSV source (--activations, --inputs) is a header. auto (default): a header when every cell is text "
+          + "or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both is refused."})
+  String header;
 
   @Option(names = "--meta", paramLabel = "CSV",
       description = "Metadata CSV with a header, one row per example (joined by the key column if it has one, else by row order).")
@@ -65,9 +71,10 @@ public final class BuildSourceOptions {
 
   /** The source, after {@link #check}. */
   Source toSource(Path model) {
-    if (activations != null) return Source.activations(activations);
+    CsvMatrixReader.Header h = CsvMatrixReader.parseHeader(header);
+    if (activations != null) return Source.activations(activations).withHeader(h);
     if (codes != null) return Source.codes(codes);
-    return Source.inputs(inputs, model);
+    return Source.inputs(inputs, model).withHeader(h);
   }
 
   /** The metadata options, or null without --meta. */

@@ -1,5 +1,6 @@
 package io.actindex.cli;
 
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.QueryCodes;
 import io.actindex.query.QuerySource;
@@ -28,6 +29,10 @@ public final class QuerySourceOptions {
       description = "Query inputs, run through the model stored in the index (built with --model).")
   Path inputs;
 
+  @Option(names = "--header", paramLabel = "yes|no|auto", defaultValue = "auto",
+      description = "Whether the first line of a CSV query file is a header (auto: text or the column numbers 0..d-1 = header, numbers = data, a mix is refused).")
+  String header;
+
   @Option(names = "--rows", paramLabel = "A:B",
       description = "Only rows A (inclusive) to B (exclusive), 0-based; A: and :B leave one end open; a single number picks one row.")
   String rows;
@@ -41,9 +46,10 @@ public final class QuerySourceOptions {
 
   /** The query source, after {@link #check}. */
   Source toSource() {
-    if (activations != null) return Source.activations(activations);
+    CsvMatrixReader.Header h = CsvMatrixReader.parseHeader(header);
+    if (activations != null) return Source.activations(activations).withHeader(h);
     if (codes != null) return Source.codes(codes);
-    return Source.inputs(inputs, null);
+    return Source.inputs(inputs, null).withHeader(h);
   }
 
   /** The rows to use (all when --rows is absent). */
@@ -51,10 +57,17 @@ public final class QuerySourceOptions {
     return RowRange.parse(rows);
   }
 
-  /** The query codes, encoded as the index was built, with a progress bar on a terminal. */
+  /**
+   * The query codes, encoded as the index was built, with a progress bar on a terminal; how the
+   * file was read (e.g. the CSV header decision) goes to stderr.
+   */
   QueryCodes load(IndexReader reader) {
+    QueryCodes q;
     try (Progress bar = Progress.onTerminal(mixee.commandLine().getErr(), "encoding queries")) {
-      return QuerySource.load(reader, toSource(), range(), bar);
+      q = QuerySource.load(reader, toSource(), range(), bar);
     }
+    for (String n : q.notes()) mixee.commandLine().getErr().println(n);
+    mixee.commandLine().getErr().flush();
+    return q;
   }
 }

@@ -12,18 +12,36 @@ import java.util.List;
 final class Summaries {
   private Summaries() {}
 
-  /** {@code verb} = "built" or "added to". */
-  static void written(PrintWriter out, Format format, String verb, Path dir, IndexBuilder.Result r) {
+  /**
+   * {@code verb} = "built" or "added to". How the source was read ({@link IndexBuilder.Result#notes()}:
+   * CSV header, a model's layer order, code layers and output layer) goes to {@code err} in table
+   * and CSV formats, and into the JSON document ({@code notes}, and for a model {@code layer_order},
+   * {@code code_layers}, {@code output_layer}).
+   */
+  static void written(PrintWriter out, PrintWriter err, Format format, String verb, Path dir, IndexBuilder.Result r) {
     String first = Integer.toString(r.firstId()), last = Integer.toString(r.firstId() + r.rows() - 1);
+    if (format != Format.json && !r.notes().isEmpty()) {
+      for (String n : r.notes()) err.println(n);
+      err.flush();
+    }
     switch (format) {
       case json -> {
-        new JsonWriter(out).beginObject()
+        JsonWriter j = new JsonWriter(out).beginObject()
             .member("index", dir.toString())
             .member("rows", r.rows())
             .member("first_id", r.firstId())
             .member("layout", r.layout().toString())
-            .member("bits", r.layout().bits())
-            .endObject();
+            .member("bits", r.layout().bits());
+        if (r.encode() != null && r.encode().layerOrder() != null) {
+          List<String> order = r.encode().layerOrder();
+          strings(j.name("layer_order"), order);
+          strings(j.name("code_layers"), r.layout().segments().stream().map(s -> s.name()).toList());
+          j.name("output_layer");
+          if (r.encode().outputLayer()) j.value(order.getLast());
+          else j.nullValue();
+        }
+        strings(j.name("notes"), r.notes());
+        j.endObject();
         out.println();
       }
       case csv -> new CsvWriter(out, List.of("index", "rows", "first_id", "layout", "bits"))
@@ -33,5 +51,11 @@ final class Summaries {
           + r.layout() + " (" + r.layout().bits() + " bits)");
     }
     out.flush();
+  }
+
+  private static void strings(JsonWriter j, List<String> values) {
+    j.beginArray();
+    for (String v : values) j.value(v);
+    j.endArray();
   }
 }

@@ -10,7 +10,7 @@ import picocli.CommandLine;
 
 /** Parsing, help, version and exit codes that need no index. */
 class MainTest {
-  static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census");
+  static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare");
 
   @Test
   void everyContractCommandIsRegistered() {
@@ -20,7 +20,7 @@ class MainTest {
   }
 
   @ParameterizedTest
-  @ValueSource(strings = {"build", "add", "info", "nearest", "region", "census"})
+  @ValueSource(strings = {"build", "add", "info", "nearest", "region", "census", "compare"})
   void helpWorksForEveryCommand(String command) {
     Cli.Result r = Cli.run(command, "--help");
     assertThat(r.code()).as(r.describe()).isZero();

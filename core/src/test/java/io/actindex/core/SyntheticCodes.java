@@ -26,6 +26,17 @@ public final class SyntheticCodes {
     return new CodeBlock(layout, n, words);
   }
 
+  /** Codes with independent bits, bit b on with probability {@code rates[b]} (two-sample tests). */
+  public static CodeBlock bernoulli(SplittableRandom rnd, int n, double[] rates) {
+    CodeLayout layout = CodeLayout.single("bits", rates.length);
+    int w = layout.words();
+    long[] words = new long[n * w];
+    for (int i = 0; i < n; i++)
+      for (int b = 0; b < rates.length; b++)
+        if (rnd.nextDouble() < rates[b]) words[i * w + (b >>> 6)] |= 1L << (b & 63);
+    return new CodeBlock(layout, n, words);
+  }
+
   /** A sample: n inputs passed through the network; activations row-major, hidden1 then hidden2. */
   public record Sample(CodeBlock codes, float[] activations, int[] cluster) {
     public int dims() {

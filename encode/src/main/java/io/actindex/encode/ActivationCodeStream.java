@@ -39,7 +39,8 @@ final class ActivationCodeStream implements CodeStream {
         try {
           segs.add(new CodeLayout.Segment(names.get(i), widths[i]));
         } catch (IllegalArgumentException e) {
-          throw new BadInputException(src.source() + ": layer '" + names.get(i) + "' cannot name a code segment: " + e.getMessage());
+          throw new BadInputException(src.source() + ": layer " + BadInputException.quote(names.get(i))
+              + " cannot name a code segment (a name is non-empty, without ',', ':' or spaces)");
         }
       }
       this.layout = new CodeLayout(segs);
@@ -66,9 +67,9 @@ final class ActivationCodeStream implements CodeStream {
       case MEDIAN -> {
         Map<String, double[]> m = o.medians();
         double[] med = m.get(layer);
-        if (med == null) throw new BadInputException(src.source() + ": no per-neuron medians for layer '" + layer + "' (medians given for " + m.keySet() + ")");
+        if (med == null) throw new BadInputException(src.source() + ": no per-neuron medians for layer " + BadInputException.quote(layer) + " (medians given for " + m.keySet() + ")");
         if (med.length != width)
-          throw new BadInputException(src.source() + ": layer '" + layer + "' has " + width + " neurons but its medians have " + med.length + " values");
+          throw new BadInputException(src.source() + ": layer " + BadInputException.quote(layer) + " has " + width + " neurons but its medians have " + med.length + " values");
         yield med;
       }
     };
@@ -108,6 +109,11 @@ final class ActivationCodeStream implements CodeStream {
   @Override
   public EncodeOptions options() {
     return options;
+  }
+
+  @Override
+  public List<String> notes() {
+    return src.notes();
   }
 
   @Override

@@ -28,6 +28,14 @@ public interface CodeStream extends AutoCloseable {
     return null;
   }
 
+  /**
+   * How the input was read and interpreted, one line each: a CSV header decision, a model's layer
+   * order, code layers and output layer. Empty by default.
+   */
+  default java.util.List<String> notes() {
+    return java.util.List.of();
+  }
+
   @Override
   void close() throws IOException;
 }

@@ -16,14 +16,25 @@ import java.util.Map;
  * @param medians per-layer, per-neuron medians for {@link BinarizeRule#MEDIAN}; null = compute
  *     them from the data on a first pass (build). Queries pass the build's medians (see {@link
  *     Encoders#fromProperties}) so they are encoded the same way
+ * @param layerOrder a model's layers in forward order (every layer, output layer included); null
+ *     = decide from the names and shapes ({@link io.actindex.encode.mlp.LayerOrder}). A model
+ *     stream's {@link CodeStream#options()} carries the order it used, so that it is stored
+ * @param outputLayer whether a model's last layer is its output layer (not encoded); false for a
+ *     file of hidden layers only, where every layer is a code layer
  */
-public record EncodeOptions(BinarizeRule rule, double threshold, List<String> layers, Map<String, double[]> medians) {
+public record EncodeOptions(BinarizeRule rule, double threshold, List<String> layers, Map<String, double[]> medians,
+    List<String> layerOrder, boolean outputLayer) {
 
   public EncodeOptions {
     if (rule == null) throw new IllegalArgumentException("binarization rule is null");
     if (!Double.isFinite(threshold)) throw new IllegalArgumentException("threshold must be finite, got " + threshold);
     layers = layers == null ? null : List.copyOf(layers);
     medians = medians == null ? null : Collections.unmodifiableMap(new LinkedHashMap<>(medians));
+    layerOrder = layerOrder == null ? null : List.copyOf(layerOrder);
+  }
+
+  public EncodeOptions(BinarizeRule rule, double threshold, List<String> layers, Map<String, double[]> medians) {
+    this(rule, threshold, layers, medians, null, true);
   }
 
   public EncodeOptions(BinarizeRule rule, double threshold, List<String> layers) {
@@ -37,11 +48,16 @@ public record EncodeOptions(BinarizeRule rule, double threshold, List<String> la
 
   /** These options with the given medians. */
   public EncodeOptions withMedians(Map<String, double[]> m) {
-    return new EncodeOptions(rule, threshold, layers, m);
+    return new EncodeOptions(rule, threshold, layers, m, layerOrder, outputLayer);
   }
 
   /** These options restricted to the given layers. */
   public EncodeOptions withLayers(List<String> l) {
-    return new EncodeOptions(rule, threshold, l, medians);
+    return new EncodeOptions(rule, threshold, l, medians, layerOrder, outputLayer);
+  }
+
+  /** These options with a model's layer order and output-layer choice. */
+  public EncodeOptions withModel(List<String> order, boolean output) {
+    return new EncodeOptions(rule, threshold, layers, medians, order, output);
   }
 }

@@ -1,6 +1,9 @@
 package io.actindex.encode;
 
 import io.actindex.encode.io.CsvMatrixReader;
+import io.actindex.encode.io.Json;
+import io.actindex.encode.io.SafetensorsReader;
+import io.actindex.encode.mlp.LayerOrder;
 import io.actindex.encode.io.MatrixReader;
 import io.actindex.encode.io.NpyReader;
 import io.actindex.encode.io.NpzReader;
@@ -30,7 +33,8 @@ public final class Encoders {
   private Encoders() {}
 
   /** Property keys written by {@link #describe}. */
-  public static final String RULE = "encode.rule", THRESHOLD = "encode.threshold", LAYERS = "encode.layers", MEDIAN_PREFIX = "encode.median.";
+  public static final String RULE = "encode.rule", THRESHOLD = "encode.threshold", LAYERS = "encode.layers", MEDIAN_PREFIX = "encode.median.",
+      LAYER_ORDER = "encode.model.order", OUTPUT_LAYER = "encode.model.output";
 
   /** Default segment name of a single-matrix activations file. */
   public static final String DEFAULT_LAYER = "act";
@@ -41,6 +45,11 @@ public final class Encoders {
    * order, else archive order).
    */
   public static CodeStream activations(Path file, EncodeOptions o) throws IOException {
+    return activations(file, o, CsvMatrixReader.Header.AUTO);
+  }
+
+  /** As {@link #activations(Path, EncodeOptions)}; {@code header} says whether a CSV file's first line is a header. */
+  public static CodeStream activations(Path file, EncodeOptions o, CsvMatrixReader.Header header) throws IOException {
     String ext = extension(file);
     checkReadable(file);
     LayerSource.Opener opener = switch (ext) {
@@ -49,7 +58,7 @@ public final class Encoders {
           throw new BadInputException(file + ": a single ." + ext + " matrix is one layer, but layers " + o.layers() + " were asked for");
         String name = o.layers() == null ? DEFAULT_LAYER : o.layers().getFirst();
         yield () -> {
-          MatrixReader r = openMatrix(file);
+          MatrixReader r = openMatrix(file, header);
           return new LayerSource.Readers(file.toString(), List.of(name), List.of(r), null);
         };
       }
@@ -79,13 +88,68 @@ public final class Encoders {
   }
 
   /**
-   * The codes of every hidden layer of the MLP in {@code safetensors} (default layer order, see
-   * {@link Mlp}) run on the rows of {@code inputs} ({@code .npy} or {@code .csv}); {@code
-   * o.layers()} selects hidden layers by name.
+   * The codes of every hidden layer of the MLP in {@code safetensors} run on the rows of {@code
+   * inputs} ({@code .npy} or {@code .csv}). The layer order is {@code o.layerOrder()}, or decided
+   * from the names and shapes ({@link LayerOrder}; the width of the inputs breaks ties the shapes
+   * leave); {@code o.outputLayer()} says whether the last layer is an output layer (not encoded);
+   * {@code o.layers()} selects hidden layers by name. The stream's {@link CodeStream#options()}
+   * carry the order used, its {@link CodeStream#notes()} say which layers were encoded.
    */
   public static CodeStream model(Path safetensors, Path inputs, EncodeOptions o) throws IOException {
+    return model(safetensors, inputs, o, CsvMatrixReader.Header.AUTO);
+  }
+
+  /** As {@link #model(Path, Path, EncodeOptions)}; {@code header} says whether a CSV file's first line is a header. */
+  public static CodeStream model(Path safetensors, Path inputs, EncodeOptions o, CsvMatrixReader.Header header) throws IOException {
     checkReadable(safetensors);
-    return model(Mlp.load(safetensors, null), safetensors.toString(), inputs, o);
+    try (SafetensorsReader r = SafetensorsReader.open(safetensors)) {
+      return model(r, inputs, o, header);
+    }
+  }
+
+  /**
+   * As {@link #model(Path, Path, EncodeOptions)} for a model held in memory (e.g. stored in an
+   * index); {@code modelName} names it in messages.
+   */
+  public static CodeStream model(String modelName, byte[] safetensors, Path inputs, EncodeOptions o, CsvMatrixReader.Header header)
+      throws IOException {
+    try (SafetensorsReader r = SafetensorsReader.open(modelName, safetensors)) {
+      return model(r, inputs, o, header);
+    }
+  }
+
+  private static CodeStream model(SafetensorsReader r, Path inputs, EncodeOptions o, CsvMatrixReader.Header header) throws IOException {
+    checkReadable(inputs);
+    int width;
+    try (MatrixReader m = openMatrix(inputs, header)) {
+      width = m.cols();
+    }
+    Mlp.Loaded loaded = Mlp.load(r, o.layerOrder(), o.outputLayer(), width);
+    Mlp mlp = loaded.mlp();
+    EncodeOptions used = o.withModel(mlp.layers().stream().map(Mlp.Layer::name).toList(), o.outputLayer());
+    String note = modelNote(r.file(), loaded);
+    return new ActivationCodeStream(() -> {
+      MatrixReader in = openMatrix(inputs, header);
+      try {
+        return new ModelLayers(mlp, r.file(), in, o.layers(), note);
+      } catch (RuntimeException e) {
+        in.close();
+        throw e;
+      }
+    }, used);
+  }
+
+  /** One line: the layer order and where it came from, the code layers and the output layer. */
+  static String modelNote(String file, Mlp.Loaded m) {
+    List<String> order = m.mlp().layers().stream().map(Mlp.Layer::name).toList();
+    String from = switch (m.orderFrom()) {
+      case OPTION -> "as given";
+      case NAMES -> "from the numbers in the names";
+      case SHAPES -> "from the weight shapes, the only order that chains";
+    };
+    String out = m.mlp().outputLayer();
+    return file + ": layer order " + String.join(", ", order) + " (" + from + "); code layers " + String.join(", ", m.mlp().hiddenNames())
+        + (out == null ? "; no output layer (every layer is a code layer)" : "; output layer " + out + " (not encoded)");
   }
 
   /** As {@link #model(Path, Path, EncodeOptions)} for a loaded model. */
@@ -94,7 +158,7 @@ public final class Encoders {
     return new ActivationCodeStream(() -> {
       MatrixReader r = openMatrix(inputs);
       try {
-        return new ModelLayers(mlp, modelName, r, o.layers());
+        return new ModelLayers(mlp, modelName, r, o.layers(), null);
       } catch (RuntimeException e) {
         r.close();
         throw e;
@@ -107,7 +171,7 @@ public final class Encoders {
     return new ActivationCodeStream(() -> {
       MatrixReader r = inputs.open();
       try {
-        return new ModelLayers(mlp, modelName, r, o.layers());
+        return new ModelLayers(mlp, modelName, r, o.layers(), null);
       } catch (RuntimeException e) {
         r.close();
         throw e;
@@ -151,7 +215,7 @@ public final class Encoders {
     checkReadable(inputs);
     boolean npy = extension(out).equals("npy");
     try (MatrixReader r = openMatrix(inputs)) {
-      ModelLayers src = new ModelLayers(mlp, modelName, r, layers);
+      ModelLayers src = new ModelLayers(mlp, modelName, r, layers, null);
       List<String> names = src.names();
       int[] widths = src.widths();
       if (npy && names.size() != 1)
@@ -178,12 +242,17 @@ public final class Encoders {
     }
   }
 
-  /** Opens a {@code .npy} or {@code .csv} matrix. */
+  /** Opens a {@code .npy} or {@code .csv} matrix (a CSV header detected, see {@link CsvMatrixReader}). */
   public static MatrixReader openMatrix(Path file) throws IOException {
+    return openMatrix(file, CsvMatrixReader.Header.AUTO);
+  }
+
+  /** Opens a {@code .npy} or {@code .csv} matrix; {@code header} says whether a CSV file's first line is a header. */
+  public static MatrixReader openMatrix(Path file, CsvMatrixReader.Header header) throws IOException {
     checkReadable(file);
     return switch (extension(file)) {
       case "npy" -> NpyReader.open(file);
-      case "csv" -> CsvMatrixReader.open(file);
+      case "csv" -> CsvMatrixReader.open(file, header);
       default -> throw new BadInputException(file + ": unknown matrix file type (expected .npy or .csv)");
     };
   }
@@ -208,6 +277,8 @@ public final class Encoders {
     p.put(RULE, o.rule().name().toLowerCase(Locale.ROOT));
     if (o.rule() == BinarizeRule.THRESHOLD) p.put(THRESHOLD, Double.toString(o.threshold()));
     if (o.layers() != null) p.put(LAYERS, String.join(",", o.layers()));
+    if (o.layerOrder() != null) p.put(LAYER_ORDER, Json.quote(o.layerOrder()));
+    if (!o.outputLayer()) p.put(OUTPUT_LAYER, "false");
     if (o.rule() == BinarizeRule.MEDIAN) {
       if (o.medians() == null) throw new IllegalArgumentException("MEDIAN options without medians: describe the stream's options() after building");
       for (var e : o.medians().entrySet()) {
@@ -222,7 +293,7 @@ public final class Encoders {
   /** The options {@link #describe} wrote; BadInputException naming the property if malformed. */
   public static EncodeOptions fromProperties(Map<String, String> props) {
     String r = props.get(RULE);
-    if (r == null) return EncodeOptions.positive();
+    if (r == null) r = "positive";
     BinarizeRule rule = switch (r) {
       case "positive" -> BinarizeRule.POSITIVE;
       case "threshold" -> BinarizeRule.THRESHOLD;
@@ -245,7 +316,20 @@ public final class Encoders {
       }
       if (medians.isEmpty()) throw new BadInputException("index properties: rule median but no " + MEDIAN_PREFIX + "* property");
     }
-    return new EncodeOptions(rule, t, layers, medians);
+    List<String> order = null;
+    if (props.get(LAYER_ORDER) != null) {
+      try {
+        if (!(Json.parse(props.get(LAYER_ORDER)) instanceof List<?> names) || !names.stream().allMatch(String.class::isInstance))
+          throw new IllegalArgumentException("not a list of names");
+        order = names.stream().map(String.class::cast).toList();
+      } catch (IllegalArgumentException e) {
+        throw new BadInputException("index property " + LAYER_ORDER + ": " + e.getMessage());
+      }
+    }
+    String output = props.getOrDefault(OUTPUT_LAYER, "true");
+    if (!output.equals("true") && !output.equals("false"))
+      throw new BadInputException("index property " + OUTPUT_LAYER + ": " + BadInputException.quote(output) + " is not true or false");
+    return new EncodeOptions(rule, t, layers, medians, order, output.equals("true"));
   }
 
   private static double parse(String v, String field) {

@@ -21,6 +21,9 @@ interface LayerSource extends AutoCloseable {
 
   boolean floats(int layer);
 
+  /** How the inputs were read and interpreted, one line each (header decisions, model layers). */
+  List<String> notes();
+
   /**
    * Reads up to {@code m} rows: layer {@code i} into {@code f[i]} (if floats) or {@code d[i]},
    * which the source may replace by its own array of at least {@code m * width} values. Returns
@@ -50,8 +53,8 @@ interface LayerSource extends AutoCloseable {
       this.owner = owner;
       for (int i = 1; i < readers.size(); i++)
         if (readers.get(i).rows() != readers.get(0).rows())
-          throw new BadInputException(source + ": layer '" + names.get(i) + "' has " + readers.get(i).rows() + " rows but layer '"
-              + names.get(0) + "' has " + readers.get(0).rows() + "; every layer needs one row per example");
+          throw new BadInputException(source + ": layer " + BadInputException.quote(names.get(i)) + " has " + readers.get(i).rows() + " rows but layer "
+              + BadInputException.quote(names.get(0)) + " has " + readers.get(0).rows() + "; every layer needs one row per example");
     }
 
     @Override
@@ -80,13 +83,18 @@ interface LayerSource extends AutoCloseable {
     }
 
     @Override
+    public List<String> notes() {
+      return readers.stream().flatMap(r -> r.notes().stream()).toList();
+    }
+
+    @Override
     public int read(int m, float[][] f, double[][] d) throws IOException {
       int got = -1;
       for (int i = 0; i < readers.size(); i++) {
         MatrixReader r = readers.get(i);
         int n = floats(i) ? r.read(f[i], m) : r.read(d[i], m);
         if (got >= 0 && n != got)
-          throw new BadInputException(source + ": layer '" + names.get(i) + "' ends at row " + r.position() + ", the other layers do not");
+          throw new BadInputException(source + ": layer " + BadInputException.quote(names.get(i)) + " ends at row " + r.position() + ", the other layers do not");
         got = n;
       }
       return got;

@@ -14,34 +14,49 @@ final class ModelLayers implements LayerSource {
   private final MatrixReader in;
   private final List<String> names;
   private final int[] layerIndex;
+  private final String modelNote;
+  private final String modelName;
   private double[] buf = new double[0];
 
-  ModelLayers(Mlp mlp, String modelName, MatrixReader in, List<String> selected) {
+  /** {@code modelNote}: a line saying how the model's layers were read (may be null). */
+  ModelLayers(Mlp mlp, String modelName, MatrixReader in, List<String> selected, String modelNote) {
     this.mlp = mlp;
     this.in = in;
+    this.modelNote = modelNote;
+    this.modelName = modelName;
     List<String> hidden = mlp.hiddenNames();
-    if (hidden.isEmpty()) throw new BadInputException(modelName + ": the model has one layer and no hidden layer to encode");
+    if (hidden.isEmpty())
+      throw new BadInputException(modelName + ": the model has one layer and no hidden layer to encode (a file of hidden layers only: --no-output-layer)");
     if (in.cols() != mlp.inputs())
       throw new BadInputException(in.source() + ": rows have " + in.cols() + " values but the model " + modelName + " (layer '"
-          + mlp.layers().getFirst().name() + "', weight shape [" + mlp.layers().getFirst().out() + ", " + mlp.inputs() + "]) takes " + mlp.inputs());
+          + mlp.layers().getFirst().name() + "', weight shape [" + mlp.layers().getFirst().out() + ", " + mlp.inputs() + "]) takes " + mlp.inputs()
+          + in.notes().stream().filter(n -> n.contains("hint:")).map(n -> "; " + n.substring(n.indexOf("hint:"))).findFirst().orElse(""));
     if (selected == null) {
       names = hidden;
     } else {
       for (String s : selected)
-        if (!hidden.contains(s)) throw new BadInputException(modelName + ": no hidden layer named '" + s + "' (hidden layers: " + hidden + ")");
+        if (!hidden.contains(s)) throw new BadInputException(modelName + ": no hidden layer named " + BadInputException.quote(s) + " (hidden layers: " + hidden + ")");
       names = hidden.stream().filter(selected::contains).toList();
     }
     layerIndex = names.stream().mapToInt(hidden::indexOf).toArray();
   }
 
+  /** The model: messages about layers concern it (rows are the reader's, which names the inputs). */
   @Override
   public String source() {
-    return in.source();
+    return modelName;
   }
 
   @Override
   public List<String> names() {
     return names;
+  }
+
+  @Override
+  public List<String> notes() {
+    List<String> n = new java.util.ArrayList<>(in.notes());
+    if (modelNote != null) n.add(modelNote);
+    return n;
   }
 
   @Override

@@ -207,14 +207,22 @@ public class EncodersTest {
   @Test
   void describeRoundTrips() {
     for (EncodeOptions o : List.of(EncodeOptions.positive(), new EncodeOptions(BinarizeRule.THRESHOLD, 0.1, List.of("a", "b")),
-        new EncodeOptions(BinarizeRule.MEDIAN, 0, null, Map.of("x", new double[] {0.1, -2.5e-17, 3})))) {
+        new EncodeOptions(BinarizeRule.MEDIAN, 0, null, Map.of("x", new double[] {0.1, -2.5e-17, 3})),
+        EncodeOptions.positive().withModel(List.of("in put", "hid,den", "out\"put"), false),
+        EncodeOptions.positive().withModel(List.of("fc1", "out"), true))) {
       EncodeOptions back = Encoders.fromProperties(Encoders.describe(o));
+      assertThat(back.layerOrder()).isEqualTo(o.layerOrder());
+      assertThat(back.outputLayer()).isEqualTo(o.outputLayer());
       assertThat(back.rule()).isEqualTo(o.rule());
       assertThat(back.threshold()).isEqualTo(o.rule() == BinarizeRule.THRESHOLD ? o.threshold() : 0);
       assertThat(back.layers()).isEqualTo(o.layers());
       if (o.medians() != null) assertThat(back.medians().get("x")).containsExactly(o.medians().get("x"));
     }
     assertThatThrownBy(() -> Encoders.fromProperties(Map.of(Encoders.RULE, "sign"))).isInstanceOf(BadInputException.class).hasMessageContaining("encode.rule");
+    assertThatThrownBy(() -> Encoders.fromProperties(Map.of(Encoders.LAYER_ORDER, "[1,2]"))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining(Encoders.LAYER_ORDER);
+    assertThatThrownBy(() -> Encoders.fromProperties(Map.of(Encoders.OUTPUT_LAYER, "maybe"))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining(Encoders.OUTPUT_LAYER);
     assertThatThrownBy(() -> Encoders.fromProperties(Map.of(Encoders.RULE, "threshold", Encoders.THRESHOLD, "abc")))
         .isInstanceOf(BadInputException.class).hasMessageContaining("encode.threshold");
   }

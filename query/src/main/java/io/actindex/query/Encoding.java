@@ -8,7 +8,6 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import java.io.IOException;
 import java.io.UncheckedIOException;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Arrays;
 
@@ -22,15 +21,24 @@ final class Encoding {
   /** Default rows per chunk. */
   static final int CHUNK = 4096;
 
-  /** The codes read, and the encoding options in force (medians filled in; null for a codes file). */
-  record Read(CodeBlock codes, EncodeOptions options) {}
+  /**
+   * The codes read, the encoding options in force (medians and a model's layer order filled in;
+   * null for a codes file), and how the input was read ({@link CodeStream#notes()}).
+   */
+  record Read(CodeBlock codes, EncodeOptions options, java.util.List<String> notes) {}
+
+  /** A model for inputs: a file the user gave, or the bytes an index stores (named for messages). */
+  record Model(Path file, String name, byte[] bytes) {
+    static Model of(Path file) {
+      return file == null ? null : new Model(file, file.toString(), null);
+    }
+  }
 
   /**
-   * Encodes the rows of {@code range} from {@code source}. {@code model} is the model file for
-   * inputs (may be a temporary copy of the index's attachment); {@code codesLayout} goes to
-   * {@link Encoders#codes} (may be null).
+   * Encodes the rows of {@code range} from {@code source}. {@code model} is the model for inputs;
+   * {@code codesLayout} goes to {@link Encoders#codes} (may be null).
    */
-  static Read read(Source source, Path model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
+  static Read read(Source source, Model model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
       int chunk, Progress progress) {
     try (CodeStream stream = open(source, model, options, codesLayout)) {
       long total = stream.rows();
@@ -57,36 +65,18 @@ final class Encoding {
       }
       if ((range.to() != -1 && row < range.to()) || (range.from() > 0 && range.from() >= row))
         throw new BadInputException(source.file() + ": rows " + range + " asked, the file has " + row + " rows");
-      return new Read(new CodeBlock(layout, kept, Arrays.copyOf(buf, kept * w)), stream.options());
+      return new Read(new CodeBlock(layout, kept, Arrays.copyOf(buf, kept * w)), stream.options(), stream.notes());
     } catch (IOException e) {
       throw new UncheckedIOException(source.file() + ": " + e.getMessage(), e);
     }
   }
 
-  private static CodeStream open(Source source, Path model, EncodeOptions options, CodeLayout codesLayout) throws IOException {
+  private static CodeStream open(Source source, Model model, EncodeOptions options, CodeLayout codesLayout) throws IOException {
     return switch (source.kind()) {
-      case ACTIVATIONS -> Encoders.activations(source.file(), options);
+      case ACTIVATIONS -> Encoders.activations(source.file(), options, source.header());
       case CODES -> Encoders.codes(source.file(), codesLayout);
-      case INPUTS -> Encoders.model(model, source.file(), options);
+      case INPUTS -> model.bytes() != null ? Encoders.model(model.name(), model.bytes(), source.file(), options, source.header())
+          : Encoders.model(model.file(), source.file(), options, source.header());
     };
-  }
-
-  /** Writes {@code bytes} to a temporary file (for the index's stored model), deleted by the caller. */
-  static Path tempModel(byte[] bytes) {
-    try {
-      Path tmp = Files.createTempFile("actindex-model", ".safetensors");
-      Files.write(tmp, bytes);
-      return tmp;
-    } catch (IOException e) {
-      throw new UncheckedIOException("cannot write a temporary copy of the index's model: " + e.getMessage(), e);
-    }
-  }
-
-  static void deleteQuietly(Path p) {
-    try {
-      if (p != null) Files.deleteIfExists(p);
-    } catch (IOException ignored) {
-      // a leftover temp file is harmless
-    }
   }
 }

@@ -54,14 +54,26 @@ public final class IndexBuilder {
     }
   }
 
-  /** What was written: ids {@code [firstId, firstId + rows)} in the layout {@code layout}. */
-  public record Result(int firstId, int rows, CodeLayout layout) {}
+  /**
+   * What was written: ids {@code [firstId, firstId + rows)} in the layout {@code layout}; {@code
+   * notes} say how the source was read (CSV header decision, a model's layer order, code layers
+   * and output layer); {@code encode} are the options in force (null for a codes file).
+   */
+  public record Result(int firstId, int rows, CodeLayout layout, List<String> notes, EncodeOptions encode) {
+    public Result {
+      notes = notes == null ? List.of() : List.copyOf(notes);
+    }
+
+    public Result(int firstId, int rows, CodeLayout layout) {
+      this(firstId, rows, layout, null, null);
+    }
+  }
 
   public static Result build(BuildParams p, Progress progress) {
     if (p.source().kind() == Source.Kind.INPUTS && p.source().model() == null)
       throw new BadInputException(p.source().file() + ": building from inputs needs a model file");
     checkEmptyOrAbsent(p.dir());
-    Encoding.Read read = Encoding.read(p.source(), p.source().model(), p.encode(), p.codesLayout(), RowRange.ALL,
+    Encoding.Read read = Encoding.read(p.source(), Encoding.Model.of(p.source().model()), p.encode(), p.codesLayout(), RowRange.ALL,
         chunk(p.chunkRows()), orNone(progress));
     CodeBlock raw = read.codes();
     CodeBlock codes = keepLayers(raw, p.encode().layers());
@@ -83,7 +95,7 @@ public final class IndexBuilder {
     try (IndexWriter w = created) {
       if (model != null) w.putAttachment(BuildInfo.MODEL, model);
       int first = w.add(codes, meta);
-      return new Result(first, codes.size(), codes.layout());
+      return new Result(first, codes.size(), codes.layout(), read.notes(), read.options());
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e);
       throw e;
@@ -93,13 +105,16 @@ public final class IndexBuilder {
   public static Result add(AddParams p, Progress progress) {
     CodeBlock codes;
     List<Map<String, String>> meta;
+    List<String> notes = new ArrayList<>();
+    EncodeOptions encode;
     try (IndexReader r = IndexReader.open(p.dir())) {
+      encode = p.source().kind() == Source.Kind.CODES ? null : BuildInfo.fromProperties(r.properties(), p.dir().toString()).encode();
       if (p.source().kind() == Source.Kind.INPUTS && p.source().model() != null) {
         byte[] stored = r.attachment(BuildInfo.MODEL);
         if (stored != null && !Arrays.equals(stored, readAll(p.source().model())))
           throw new BadInputException(p.source().model() + ": differs from the model the index was built with; leave the model out to use the stored one");
       }
-      codes = QuerySource.encode(r, p.source(), RowRange.ALL, chunk(p.chunkRows()), orNone(progress), "rows to add");
+      codes = QuerySource.encode(r, p.source(), RowRange.ALL, chunk(p.chunkRows()), orNone(progress), "rows to add", notes);
       if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
       meta = readMeta(p.meta(), codes.size(), p.source());
       if (meta != null)
@@ -111,7 +126,7 @@ public final class IndexBuilder {
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       int first = w.add(codes, meta);
-      return new Result(first, codes.size(), codes.layout());
+      return new Result(first, codes.size(), codes.layout(), notes, encode);
     }
   }
 

@@ -4,9 +4,17 @@ import io.actindex.core.CodeBlock;
 
 /**
  * Query codes in the index's layout; code {@code i} came from row {@code firstRow + i} of the
- * query file.
+ * query file. {@code notes} say how the query file was read (a CSV header decision, ...).
  */
-public record QueryCodes(CodeBlock codes, long firstRow) {
+public record QueryCodes(CodeBlock codes, long firstRow, java.util.List<String> notes) {
+  public QueryCodes {
+    notes = notes == null ? java.util.List.of() : java.util.List.copyOf(notes);
+  }
+
+  public QueryCodes(CodeBlock codes, long firstRow) {
+    this(codes, firstRow, null);
+  }
+
   public int size() {
     return codes.size();
   }

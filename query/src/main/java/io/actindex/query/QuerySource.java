@@ -4,7 +4,6 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.index.store.IndexReader;
-import java.nio.file.Path;
 
 /**
  * Turns a query source (activations, codes, or inputs run through the index's stored model) into
@@ -24,31 +23,29 @@ public final class QuerySource {
 
   public static QueryCodes load(IndexReader reader, Source source, RowRange rows, Progress progress) {
     RowRange range = rows == null ? RowRange.ALL : rows;
-    CodeBlock codes = encode(reader, source, range, Encoding.CHUNK, progress, "query");
-    return new QueryCodes(codes, range.from());
+    java.util.List<String> notes = new java.util.ArrayList<>();
+    CodeBlock codes = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes);
+    return new QueryCodes(codes, range.from(), notes);
   }
 
   /** Encodes {@code source} with the index's stored options and aligns it to the index layout. */
-  static CodeBlock encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what) {
+  static CodeBlock encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
+      java.util.List<String> notes) {
     BuildInfo info = BuildInfo.fromProperties(reader.properties(), "index");
     CodeLayout target = reader.layout();
-    Path model = source.model();
-    Path temp = null;
-    try {
-      if (source.kind() == Source.Kind.INPUTS && model == null) {
-        byte[] stored = reader.attachment(BuildInfo.MODEL);
-        if (stored == null)
-          throw new BadInputException(source.file() + ": " + what + " given as inputs, but the index holds no model; give activations or codes");
-        model = temp = Encoding.tempModel(stored);
-      }
-      // a codes file is read in the layout the index was built from when that was a codes file too
-      CodeLayout codesLayout = source.kind() != Source.Kind.CODES ? null
-          : info.kind() == Source.Kind.CODES ? info.sourceLayout() : target;
-      CodeBlock raw = Encoding.read(source, model, info.encode(), codesLayout, range, chunk, progress == null ? Progress.NONE : progress)
-          .codes();
-      return Layers.align(raw, target, info.sourceLayout(), source.file().toString());
-    } finally {
-      Encoding.deleteQuietly(temp);
+    Encoding.Model model = Encoding.Model.of(source.model());
+    if (source.kind() == Source.Kind.INPUTS && model == null) {
+      byte[] stored = reader.attachment(BuildInfo.MODEL);
+      if (stored == null)
+        throw new BadInputException(source.file() + ": " + what + " given as inputs, but the index holds no model; give activations or codes");
+      model = new Encoding.Model(null, reader.dir().resolve(BuildInfo.MODEL) + " (the model stored in the index)", stored);
     }
+    // a codes file is read in the layout the index was built from when that was a codes file too
+    CodeLayout codesLayout = source.kind() != Source.Kind.CODES ? null
+        : info.kind() == Source.Kind.CODES ? info.sourceLayout() : target;
+    Encoding.Read read = Encoding.read(source, model, info.encode(), codesLayout, range, chunk, progress == null ? Progress.NONE : progress);
+    // notes about the file itself (its CSV header); the model's layers were reported at build
+    for (String n : read.notes()) if (n.startsWith(source.file() + ":")) notes.add(n);
+    return Layers.align(read.codes(), target, info.sourceLayout(), source.file().toString());
   }
 }

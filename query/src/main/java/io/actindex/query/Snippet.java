@@ -1,5 +1,7 @@
 package io.actindex.query;
 
+import io.actindex.core.BadInputException;
+
 /**
  * A short, one-line rendering of user text for error messages: control characters (line breaks,
  * NUL, ...) become {@code \n}, {@code \t} or {@code \u0000}-style escapes and anything past
@@ -17,27 +19,8 @@ public final class Snippet {
     return of(text, MAX);
   }
 
-  /** {@code text} escaped, cut to {@code max} characters (then "... (N characters)"). */
+  /** {@code text} escaped, cut to {@code max} characters (then "... (N characters)"); see {@link BadInputException#snippet}. */
   public static String of(String text, int max) {
-    if (text == null) return "null";
-    int n = Math.min(text.length(), max);
-    if (n < text.length() && n > 0 && Character.isHighSurrogate(text.charAt(n - 1))) n--; // do not split a pair
-    StringBuilder b = new StringBuilder(n + 24);
-    for (int i = 0; i < n; i++) {
-      char c = text.charAt(i);
-      switch (c) {
-        case '\n' -> b.append("\\n");
-        case '\r' -> b.append("\\r");
-        case '\t' -> b.append("\\t");
-        default -> {
-          if (Character.isISOControl(c) || Character.getType(c) == Character.LINE_SEPARATOR
-              || Character.getType(c) == Character.PARAGRAPH_SEPARATOR)
-            b.append(String.format("\\u%04x", (int) c));
-          else b.append(c);
-        }
-      }
-    }
-    if (n < text.length()) b.append("... (").append(String.format(java.util.Locale.ROOT, "%,d", text.length())).append(" characters)");
-    return b.toString();
+    return text == null ? "null" : BadInputException.snippet(text, max);
   }
 }

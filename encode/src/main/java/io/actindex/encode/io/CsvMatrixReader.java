@@ -1,84 +1,265 @@
 package io.actindex.encode.io;
 
 import io.actindex.core.BadInputException;
-import java.io.BufferedReader;
 import java.io.IOException;
+import java.io.InputStream;
+import java.nio.ByteBuffer;
+import java.nio.CharBuffer;
+import java.nio.charset.CharsetDecoder;
+import java.nio.charset.CoderResult;
+import java.nio.charset.CodingErrorAction;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.ArrayDeque;
 import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.List;
+import java.util.Locale;
+import java.util.regex.Pattern;
 
 /**
  * Streams a numeric CSV file (comma-separated, one row per line, every field a decimal number)
- * as a matrix. The header is optional: a first line with any field that is not a number is taken
- * as column names. Blank lines are skipped. A row with a different number of fields, an empty
- * field, text, NaN or an infinity is refused naming the line (1-based, as editors show it), the
- * row and the column (0-based). Not thread-safe.
+ * as a matrix. The file must be UTF-8 (a UTF-8 byte order mark is skipped); UTF-16 (a UTF-16 byte
+ * order mark or NUL bytes) and other encodings (bytes that are not UTF-8, e.g. Latin-1) are refused
+ * naming the byte offset and line.
+ *
+ * <p>Header line, by {@link Header}: {@code YES} the first line names the columns; {@code NO} it
+ * is data; {@code AUTO} it is a header when every cell is text, or when its cells are exactly the
+ * column numbers {@code 0, 1, ..., d-1} (what a data-frame library writes for unnamed columns,
+ * optionally after an empty or {@code Unnamed: 0} cell over a row-index column), data when every
+ * cell is a number, and refused (naming the first text cell) when it mixes both. {@link #notes()}
+ * says which was chosen, and flags a leading column that looks like a row index.
+ *
+ * <p>Blank lines are skipped. A row with a different number of fields, an empty field, text, NaN
+ * or an infinity is refused naming the line (1-based, as editors show it), the row and the column
+ * (0-based). Lines are limited to {@link #MAX_LINE_BYTES}. Not thread-safe.
  */
 public final class CsvMatrixReader implements MatrixReader {
+  /** Whether the first line is a header. */
+  public enum Header { YES, NO, AUTO }
+
+  /** Longest line accepted, in bytes. */
+  public static final int MAX_LINE_BYTES = 64 << 20;
+
   private final Path file;
-  private final BufferedReader in;
+  private final InputStream in;
+  private final CharsetDecoder utf8 = StandardCharsets.UTF_8.newDecoder().onMalformedInput(CodingErrorAction.REPORT)
+      .onUnmappableCharacter(CodingErrorAction.REPORT);
+  private final byte[] buf = new byte[1 << 16];
+  private int bufPos, bufLen;
+  private long bufStart; // file offset of buf[0]
+  private byte[] lineBytes = new byte[256];
+  private CharBuffer chars = CharBuffer.allocate(256);
   private final List<String> header;
   private final int cols;
-  private String pending; // first data line, read while detecting the header
+  private final List<String> notes = new ArrayList<>();
+  private final ArrayDeque<String> pending = new ArrayDeque<>(); // data lines read ahead
+  private final ArrayDeque<Long> pendingLines = new ArrayDeque<>();
   private long line; // line number of the last line read
-  private long pendingLine;
   private long row;
 
-  private CsvMatrixReader(Path file, BufferedReader in) throws IOException {
+  private CsvMatrixReader(Path file, InputStream in, Header mode) throws IOException {
     this.file = file;
     this.in = in;
+    bufLen = Math.max(0, in.readNBytes(buf, 0, buf.length));
+    if (bufLen >= 2 && ((buf[0] & 0xff) == 0xff && (buf[1] & 0xff) == 0xfe || (buf[0] & 0xff) == 0xfe && (buf[1] & 0xff) == 0xff))
+      throw encoding(0, "a UTF-16 byte order mark: save the file as UTF-8");
+    if (bufLen >= 3 && (buf[0] & 0xff) == 0xef && (buf[1] & 0xff) == 0xbb && (buf[2] & 0xff) == 0xbf) bufPos = 3; // UTF-8 byte order mark
     String first = nextLine();
     if (first == null) throw new BadInputException(file + ": the CSV file is empty");
+    long firstLine = line;
     String[] f = first.split(",", -1);
-    boolean isHeader = false;
-    for (String s : f) if (!isNumber(s.trim())) isHeader = true;
+    this.cols = f.length;
+    boolean isHeader = switch (mode) {
+      case YES -> {
+        notes.add(file + ": line " + firstLine + " taken as the header (--header yes)");
+        yield true;
+      }
+      case NO -> {
+        notes.add(file + ": no header line (--header no)");
+        yield false;
+      }
+      case AUTO -> detect(f, firstLine);
+    };
     if (isHeader) {
-      List<String> names = new ArrayList<>();
-      for (String s : f) names.add(s.trim());
-      header = List.copyOf(names);
-      pending = nextLine();
-      if (pending == null) throw new BadInputException(file + ": the CSV file has a header but no rows");
+      header = Arrays.stream(f).map(String::trim).toList();
     } else {
       header = null;
-      pending = first;
+      pending.add(first);
+      pendingLines.add(firstLine);
     }
-    pendingLine = line;
-    cols = f.length;
+    while (pending.size() < 3) { // a few rows ahead, to spot a row-index column
+      String s = nextLine();
+      if (s == null) break;
+      pending.add(s);
+      pendingLines.add(line);
+    }
+    if (pending.isEmpty()) throw new BadInputException(file + ": the CSV file has a header but no rows");
+    String hint = indexColumnHint();
+    if (hint != null) notes.add(hint);
+  }
+
+  /** The AUTO rule; adds the note saying what was chosen. */
+  private boolean detect(String[] f, long firstLine) {
+    int text = 0, firstText = -1;
+    for (int i = 0; i < f.length; i++)
+      if (!isNumber(f[i].trim())) {
+        text++;
+        if (firstText < 0) firstText = i;
+      }
+    if (text == f.length) {
+      notes.add(file + ": line " + firstLine + " taken as the header (every cell is text; --header no reads it as data)");
+      return true;
+    }
+    if (columnNumbers(f, 0) || (isIndexHeaderCell(f[0].trim()) && columnNumbers(f, 1))) {
+      notes.add(file + ": line " + firstLine + " taken as the header (its cells are the column numbers; --header no reads it as data)");
+      return true;
+    }
+    if (text == 0) {
+      notes.add(file + ": no header line (every cell of line " + firstLine + " is a number; --header yes skips it)");
+      return false;
+    }
+    String hint = isIndexHeaderCell(f[0].trim()) ? "; column 0 looks like a row index column (header cell " + BadInputException.quote(f[0].trim())
+        + "): write the file without it" : "";
+    throw new BadInputException(file + ": line " + firstLine + ", column " + firstText + " (0-based): " + BadInputException.quote(f[firstText].trim())
+        + " is text but other cells of the line are numbers, so it is unclear whether the line is a header; pass --header yes (a header) or --header no (data)"
+        + hint);
+  }
+
+  /** Cells {@code from..} are exactly {@code 0, 1, 2, ...}. */
+  private static boolean columnNumbers(String[] f, int from) {
+    if (f.length - from < 1) return false;
+    for (int i = from; i < f.length; i++) if (!f[i].trim().equals(Integer.toString(i - from))) return false;
+    return true;
+  }
+
+  private static final Pattern INDEX_HEADER = Pattern.compile("|unnamed: ?0|index|row|id", Pattern.CASE_INSENSITIVE);
+
+  private static boolean isIndexHeaderCell(String s) {
+    return INDEX_HEADER.matcher(s).matches();
+  }
+
+  /** A note when column 0 holds 0, 1, 2... (or 1, 2, 3...) in the rows read ahead, or has a row-index header cell. */
+  private String indexColumnHint() {
+    if (cols < 2) return null;
+    boolean counting = pending.size() >= 2;
+    long start = -1, k = 0;
+    for (String s : pending) {
+      int comma = s.indexOf(',');
+      String c0 = (comma < 0 ? s : s.substring(0, comma)).trim();
+      long v;
+      try {
+        v = Long.parseLong(c0);
+      } catch (NumberFormatException e) {
+        counting = false;
+        break;
+      }
+      if (k == 0) start = v;
+      if ((start != 0 && start != 1) || v != start + k) counting = false;
+      k++;
+    }
+    boolean named = header != null && isIndexHeaderCell(header.getFirst());
+    if (!counting && !named) return null;
+    return file + ": hint: column 0 looks like a row index (" + (named ? "header cell " + BadInputException.quote(header.getFirst()) : "")
+        + (named && counting ? ", " : "") + (counting ? "values " + start + ", " + (start + 1) + ", ..." : "")
+        + "); it is read as data: write the file without it (e.g. to_csv(index=False)) if it is not a feature";
   }
 
   public static CsvMatrixReader open(Path file) throws IOException {
-    BufferedReader in = Files.newBufferedReader(file, StandardCharsets.UTF_8);
+    return open(file, Header.AUTO);
+  }
+
+  public static CsvMatrixReader open(Path file, Header mode) throws IOException {
+    InputStream in = Files.newInputStream(file);
     try {
-      return new CsvMatrixReader(file, in);
+      return new CsvMatrixReader(file, in, mode == null ? Header.AUTO : mode);
     } catch (RuntimeException | IOException e) {
       in.close();
       throw e;
     }
   }
 
+  /** Parses {@code yes|no|auto} (any case); BadInputException otherwise. */
+  public static Header parseHeader(String s) {
+    try {
+      return Header.valueOf(s.trim().toUpperCase(Locale.ROOT));
+    } catch (IllegalArgumentException e) {
+      throw new BadInputException("--header: " + BadInputException.quote(s) + " is not yes, no or auto");
+    }
+  }
+
   /** A decimal number, or a NaN/infinity word (recognised so that it is refused as a value, not taken for a header). */
-  private static final java.util.regex.Pattern NUMBER =
-      java.util.regex.Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?|[+-]?(?i:nan|inf|infinity)");
+  private static final Pattern NUMBER = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?|[+-]?(?i:nan|inf|infinity)");
 
   private static boolean isNumber(String s) {
     return NUMBER.matcher(s).matches();
   }
 
+  /** The next non-blank line, decoded strictly as UTF-8, or null at the end. */
   private String nextLine() throws IOException {
     String s;
     do {
-      s = in.readLine();
-      line++;
+      s = readLine();
     } while (s != null && s.isBlank());
-    if (s != null && line == 1 && s.startsWith("\uFEFF")) s = s.substring(1);
     return s;
+  }
+
+  private String readLine() throws IOException {
+    int n = 0;
+    long lineStart = bufStart + bufPos;
+    boolean any = false;
+    while (true) {
+      if (bufPos == bufLen) {
+        bufStart += bufLen;
+        bufLen = Math.max(0, in.readNBytes(buf, 0, buf.length));
+        bufPos = 0;
+        if (bufLen == 0) break;
+      }
+      any = true;
+      int nl = -1;
+      for (int i = bufPos; i < bufLen; i++) {
+        if (buf[i] == '\n') {
+          nl = i;
+          break;
+        }
+        if (buf[i] == 0) throw encoding(bufStart + i, "a NUL byte: the file looks like UTF-16 or binary; save it as UTF-8 text");
+      }
+      int end = nl < 0 ? bufLen : nl;
+      if ((long) n + end - bufPos > MAX_LINE_BYTES)
+        throw new BadInputException(file + ": line " + (line + 1) + " is longer than " + (MAX_LINE_BYTES >> 20) + " MiB");
+      if (n + end - bufPos > lineBytes.length) lineBytes = Arrays.copyOf(lineBytes, Math.max(n + end - bufPos, lineBytes.length * 2));
+      System.arraycopy(buf, bufPos, lineBytes, n, end - bufPos);
+      n += end - bufPos;
+      bufPos = nl < 0 ? bufLen : nl + 1;
+      if (nl >= 0) break;
+    }
+    if (!any) return null;
+    if (n > 0 && lineBytes[n - 1] == '\r') n--;
+    ByteBuffer bb = ByteBuffer.wrap(lineBytes, 0, n);
+    if (chars.capacity() < n) chars = CharBuffer.allocate(Math.max(n, chars.capacity() * 2));
+    chars.clear();
+    utf8.reset();
+    CoderResult r = utf8.decode(bb, chars, true);
+    if (r.isError()) throw encoding(lineStart + bb.position(), "a byte sequence that is not UTF-8 (e.g. Latin-1 text); save the file as UTF-8");
+    utf8.flush(chars);
+    line++;
+    return chars.flip().toString();
+  }
+
+  private BadInputException encoding(long offset, String what) {
+    return new BadInputException(file + ": byte " + offset + " (line " + (line + 1) + "): " + what);
   }
 
   /** Column names from the header line, or null if the file has none. */
   public List<String> header() {
     return header;
+  }
+
+  /** How the file was read: the header decision, and a hint when column 0 looks like a row index. */
+  @Override
+  public List<String> notes() {
+    return List.copyOf(notes);
   }
 
   @Override
@@ -117,10 +298,9 @@ public final class CsvMatrixReader implements MatrixReader {
     while (n < maxRows) {
       String s;
       long at;
-      if (pending != null) {
-        s = pending;
-        at = pendingLine;
-        pending = null;
+      if (!pending.isEmpty()) {
+        s = pending.poll();
+        at = pendingLines.poll();
       } else {
         s = nextLine();
         at = line;
@@ -141,10 +321,10 @@ public final class CsvMatrixReader implements MatrixReader {
       if (col >= cols) throw new BadInputException(where(at, col) + ": too many fields (expected " + cols + ")");
       String f = s.substring(start, end).trim();
       if (f.isEmpty()) throw new BadInputException(where(at, col) + ": empty field");
-      if (!isNumber(f)) throw new BadInputException(where(at, col) + ": '" + f + "' is not a number");
+      if (!isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number");
       char c0 = f.charAt(f.length() - 1);
       double v = Character.isLetter(c0) ? Double.NaN : Double.parseDouble(f);
-      if (!Double.isFinite(v)) throw new BadInputException(where(at, col) + ": value is " + f + "; only finite numbers are accepted");
+      if (!Double.isFinite(v)) throw new BadInputException(where(at, col) + ": value is " + BadInputException.quote(f) + "; only finite numbers are accepted");
       out[off + col] = v;
       col++;
       if (comma < 0) break;

@@ -1,5 +1,6 @@
 package io.actindex.encode.io;
 
+import io.actindex.core.BadInputException;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -43,7 +44,7 @@ public final class Json {
       case 'n' -> literal("null", null);
       default -> {
         if (c == '-' || (c >= '0' && c <= '9')) yield number();
-        throw error("unexpected character '" + c + "'");
+        throw error("unexpected character " + BadInputException.quote(String.valueOf(c)));
       }
     };
   }
@@ -63,7 +64,7 @@ public final class Json {
       ws();
       expect(':');
       ws();
-      if (m.containsKey(k)) throw error("duplicate key \"" + k + "\"");
+      if (m.containsKey(k)) throw error("duplicate key " + BadInputException.quote(k));
       m.put(k, value(depth + 1));
       ws();
       char c = next();
@@ -118,7 +119,7 @@ public final class Json {
           }
           pos += 4;
         }
-        default -> throw error("bad escape \\" + e);
+        default -> throw error("bad escape " + BadInputException.quote("\\" + e));
       }
     }
   }
@@ -133,7 +134,7 @@ public final class Json {
       return Double.parseDouble(t);
     } catch (NumberFormatException e) {
       pos = start;
-      throw error("bad number '" + t + "'");
+      throw error("bad number " + BadInputException.quote(t));
     }
   }
 
@@ -165,6 +166,13 @@ public final class Json {
 
   private IllegalArgumentException error(String what) {
     return new IllegalArgumentException(what + " at character " + pos);
+  }
+
+  /** Writes strings as a JSON array of string literals. */
+  public static String quote(List<String> values) {
+    StringBuilder sb = new StringBuilder("[");
+    for (String v : values) sb.append(sb.length() > 1 ? "," : "").append(quote(v));
+    return sb.append(']').toString();
   }
 
   /** Writes a string as a JSON string literal. */

@@ -58,9 +58,11 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
       throw new BadInputException(file + ": unsupported .npy format version " + major + "." + minor + " (supported: 1.0, 2.0, 3.0)");
     ByteBuffer bb = ByteBuffer.wrap(head, 0, len).order(ByteOrder.LITTLE_ENDIAN);
     long hlen;
-    if (major == 1) return 10 + (bb.getShort(8) & 0xffff);
-    if (len < 12) throw new BadInputException(file + ": truncated .npy header");
-    hlen = bb.getInt(8) & 0xffffffffL;
+    if (major == 1) hlen = bb.getShort(8) & 0xffff;
+    else if (len < 12) throw new BadInputException(file + ": truncated .npy header");
+    else hlen = bb.getInt(8) & 0xffffffffL;
+    if (hlen == 0) throw new BadInputException(file + ": .npy header length is 0 (the header must hold the dict of descr, fortran_order and shape)");
+    if (major == 1) return 10 + hlen;
     if (hlen > 1 << 20) throw new BadInputException(file + ": .npy header length " + hlen + " is implausible (over 1 MiB)");
     return 12 + hlen;
   }
@@ -92,12 +94,12 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
     Object descr = dict.get("descr");
     if (!(descr instanceof String d))
       throw new BadInputException(file + ": field 'descr': unsupported dtype " + describe(descr) + " (structured arrays are not supported)");
-    if (d.length() < 2) throw new BadInputException(file + ": field 'descr': unsupported dtype '" + d + "'");
+    if (d.length() < 2) throw new BadInputException(file + ": field 'descr': unsupported dtype " + BadInputException.quote(d));
     NpyDtype dtype = NpyDtype.ofCode(d.substring(1));
     char bo = d.charAt(0);
     if (dtype == null || "<>|=".indexOf(bo) < 0)
-      throw new BadInputException(file + ": field 'descr': unsupported dtype '" + d
-          + "' (supported: float16/32/64, int8/16/32/64, uint8/16/32/64, bool)");
+      throw new BadInputException(file + ": field 'descr': unsupported dtype " + BadInputException.quote(d)
+          + " (supported: float16/32/64, int8/16/32/64, uint8/16/32/64, bool)");
     ByteOrder order = bo == '>' ? ByteOrder.BIG_ENDIAN : bo == '=' ? ByteOrder.nativeOrder() : ByteOrder.LITTLE_ENDIAN;
     Object fo = dict.get("fortran_order");
     if (!(fo instanceof Boolean fortran)) throw new BadInputException(file + ": field 'fortran_order' is missing or not True/False");
@@ -120,7 +122,7 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
   }
 
   private static String describe(Object o) {
-    return o == null ? "(missing)" : o.toString();
+    return o == null ? "(missing)" : BadInputException.quote(o.toString());
   }
 
   /**
@@ -155,6 +157,10 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
       this.s = s;
     }
 
+    /** Deepest nesting of dicts, tuples and lists accepted (NumPy writes 2 levels). */
+    static final int MAX_DEPTH = 32;
+    private int depth;
+
     Object parseTop() {
       Object v = value();
       ws();
@@ -166,6 +172,8 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
       ws();
       if (pos >= s.length()) throw new IllegalArgumentException("unexpected end");
       char c = s.charAt(pos);
+      if ((c == '{' || c == '(' || c == '[') && ++depth > MAX_DEPTH)
+        throw new IllegalArgumentException("nesting deeper than " + MAX_DEPTH + " levels at character " + pos);
       if (c == '{') {
         pos++;
         Map<String, Object> m = new LinkedHashMap<>();
@@ -173,6 +181,7 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
           ws();
           if (peek() == '}') {
             pos++;
+            depth--;
             return m;
           }
           Object k = value();
@@ -194,6 +203,7 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
           ws();
           if (peek() == close) {
             pos++;
+            depth--;
             return l;
           }
           l.add(value());
@@ -221,7 +231,7 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
           try {
             return Long.parseLong(digits);
           } catch (NumberFormatException e) {
-            throw new IllegalArgumentException("unexpected token '" + tok + "' at character " + start);
+            throw new IllegalArgumentException("unexpected token " + BadInputException.quote(tok) + " at character " + start);
           }
       }
     }

@@ -24,7 +24,7 @@ import java.nio.file.StandardOpenOption;
  * a block of rows is contiguous, so a block is one positional read per column ("column-strided",
  * {@link #BLOCK_COLUMN_BYTES} per read, the block at most {@link #BLOCK_BYTES}), transposed into
  * row-major order and served from memory. An {@code .npz} member in Fortran order is first copied to a
- * temporary file (a deflated stream cannot seek), which is deleted on close.
+ * spill file ({@link SpillFiles}; a deflated stream cannot seek), which is deleted on close.
  *
  * <p>The header must agree with the data size: a shorter file is "truncated", a longer one
  * "disagrees with the file size". Not thread-safe.
@@ -95,7 +95,7 @@ public final class NpyReader implements MatrixReader {
       NpyHeader h = NpyHeader.parse(head, head.length, name);
       if (size >= 0) checkSize(name, h, size);
       if (!h.fortranOrder() || h.cols() <= 1) return new NpyReader(name, h, null, in, consumed[0], null);
-      Path tmp = Files.createTempFile("actindex-npz-", ".npy");
+      Path tmp = SpillFiles.create();
       try (in) {
         Files.write(tmp, head);
         try (var out = Files.newOutputStream(tmp, StandardOpenOption.APPEND)) {
@@ -129,6 +129,7 @@ public final class NpyReader implements MatrixReader {
     }
     long end = NpyHeader.headerEnd(p.array(), pre, name);
     if (end > avail) throw new BadInputException(name + ": truncated .npy header (needs " + end + " bytes, the file has " + size + ")");
+    if (end < pre) throw new BadInputException(name + ": .npy header length " + (end - 10) + " is too short for the header dict");
     ByteBuffer all = ByteBuffer.allocate((int) end);
     all.put(p.array(), 0, pre);
     try {

@@ -41,10 +41,16 @@ public final class NpzReader implements AutoCloseable {
       if (e.isDirectory()) continue;
       if (!e.getName().endsWith(".npy")) {
         zip.close();
-        throw new BadInputException(file + ": member '" + e.getName() + "' is not a .npy array");
+        throw new BadInputException(file + ": member " + BadInputException.quote(e.getName()) + " is not a .npy array");
       }
-      names.add(e.getName().substring(0, e.getName().length() - 4));
+      String name = e.getName().substring(0, e.getName().length() - 4);
+      if (names.contains(name)) {
+        zip.close();
+        throw new BadInputException(file + ": the archive holds two members named " + BadInputException.quote(e.getName()) + "; which one is meant is unclear");
+      }
+      names.add(name);
     }
+    SpillFiles.cleanStale();
     if (names.isEmpty()) {
       zip.close();
       throw new BadInputException(file + ": the .npz archive holds no arrays");
@@ -60,10 +66,10 @@ public final class NpzReader implements AutoCloseable {
   /** Opens the array {@code name}; BadInputException if absent. */
   public NpyReader member(String name) throws IOException {
     ZipEntry e = zip.getEntry(name + ".npy");
-    if (e == null) throw new BadInputException(file + ": no array named '" + name + "' (the archive holds " + names + ")");
-    String label = file + "[" + name + "]";
+    if (e == null) throw new BadInputException(file + ": no array named " + BadInputException.quote(name) + " (the archive holds " + names + ")");
+    String label = file + "[" + BadInputException.plain(name) + "]";
     try {
-      return NpyReader.open(label, zip.getInputStream(e), e.getSize());
+      return NpyReader.open(label, new CrcCheckedStream(zip.getInputStream(e), e.getSize(), e.getCrc(), label), e.getSize());
     } catch (ZipException ex) {
       throw new BadInputException(label + ": damaged archive member: " + ex.getMessage());
     }
@@ -72,5 +78,48 @@ public final class NpzReader implements AutoCloseable {
   @Override
   public void close() throws IOException {
     zip.close();
+  }
+
+  /**
+   * A member's bytes, checked against the CRC-32 its zip entry records once all {@code size} bytes
+   * have been read (as NumPy's reader, through Python's zipfile, checks them): a damaged archive
+   * is refused, never read as numbers.
+   */
+  private static final class CrcCheckedStream extends java.io.FilterInputStream {
+    private final java.util.zip.CRC32 crc = new java.util.zip.CRC32();
+    private final long size, expected;
+    private final String label;
+    private long read;
+
+    CrcCheckedStream(java.io.InputStream in, long size, long expected, String label) {
+      super(in);
+      this.size = size;
+      this.expected = expected;
+      this.label = label;
+    }
+
+    @Override
+    public int read() throws IOException {
+      byte[] one = new byte[1];
+      return read(one, 0, 1) < 0 ? -1 : one[0] & 0xff;
+    }
+
+    @Override
+    public int read(byte[] b, int off, int len) throws IOException {
+      int n = in.read(b, off, len);
+      if (n > 0) {
+        crc.update(b, off, n);
+        read += n;
+        if (size >= 0 && expected >= 0 && read == size && crc.getValue() != expected)
+          throw new BadInputException(label + ": damaged archive member: CRC-32 of its " + size + " bytes is "
+              + Long.toHexString(crc.getValue()) + ", the archive records " + Long.toHexString(expected));
+      }
+      return n;
+    }
+
+    @Override
+    public long skip(long n) throws IOException {
+      throw new IOException("skip is not supported on a checked member");
+    }
   }
 }

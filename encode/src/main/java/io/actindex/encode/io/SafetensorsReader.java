@@ -5,6 +5,8 @@ import java.io.IOException;
 import java.nio.ByteBuffer;
 import java.nio.ByteOrder;
 import java.nio.channels.FileChannel;
+import java.nio.charset.CharacterCodingException;
+import java.nio.charset.CodingErrorAction;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
 import java.nio.file.StandardOpenOption;
@@ -46,12 +48,23 @@ public final class SafetensorsReader implements AutoCloseable {
       Map.entry("I32", 4), Map.entry("U32", 4), Map.entry("F32", 4),
       Map.entry("I64", 8), Map.entry("U64", 8), Map.entry("F64", 8));
 
-  private final Path file;
-  private final FileChannel ch;
+  /** Where the bytes come from: a file, or bytes in memory (a model stored in an index). */
+  private interface Bytes extends AutoCloseable {
+    long size() throws IOException;
+
+    /** Fills {@code dst} from byte {@code pos}; -1 at the end. */
+    int read(ByteBuffer dst, long pos) throws IOException;
+
+    @Override
+    void close() throws IOException;
+  }
+
+  private final String file;
+  private final Bytes ch;
   private final Map<String, Entry> entries;
   private final Map<String, String> metadata;
 
-  private SafetensorsReader(Path file, FileChannel ch, Map<String, Entry> entries, Map<String, String> metadata) {
+  private SafetensorsReader(String file, Bytes ch, Map<String, Entry> entries, Map<String, String> metadata) {
     this.file = file;
     this.ch = ch;
     this.entries = entries;
@@ -59,7 +72,41 @@ public final class SafetensorsReader implements AutoCloseable {
   }
 
   public static SafetensorsReader open(Path file) throws IOException {
-    FileChannel ch = FileChannel.open(file, StandardOpenOption.READ);
+    FileChannel fc = FileChannel.open(file, StandardOpenOption.READ);
+    return open(file.toString(), new Bytes() {
+      public long size() throws IOException {
+        return fc.size();
+      }
+
+      public int read(ByteBuffer dst, long pos) throws IOException {
+        return fc.read(dst, pos);
+      }
+
+      public void close() throws IOException {
+        fc.close();
+      }
+    });
+  }
+
+  /** Reads safetensors bytes held in memory; {@code name} names them in messages. */
+  public static SafetensorsReader open(String name, byte[] bytes) throws IOException {
+    return open(name, new Bytes() {
+      public long size() {
+        return bytes.length;
+      }
+
+      public int read(ByteBuffer dst, long pos) {
+        if (pos >= bytes.length) return -1;
+        int n = (int) Math.min(dst.remaining(), bytes.length - pos);
+        dst.put(bytes, (int) pos, n);
+        return n;
+      }
+
+      public void close() {}
+    });
+  }
+
+  private static SafetensorsReader open(String file, Bytes ch) throws IOException {
     try {
       long size = ch.size();
       if (size < 8) throw new BadInputException(file + ": not a safetensors file (" + size + " bytes, the header length alone needs 8)");
@@ -71,9 +118,16 @@ public final class SafetensorsReader implements AutoCloseable {
       if (n > MAX_HEADER) throw new BadInputException(file + ": field header length: " + n + " bytes is implausible (over 100 MiB)");
       ByteBuffer hb = ByteBuffer.allocate((int) n);
       readFully(ch, hb, 8, file);
+      String text;
+      try {
+        text = StandardCharsets.UTF_8.newDecoder().onMalformedInput(CodingErrorAction.REPORT)
+            .onUnmappableCharacter(CodingErrorAction.REPORT).decode(hb.flip()).toString();
+      } catch (CharacterCodingException e) {
+        throw new BadInputException(file + ": the safetensors JSON header is not valid UTF-8 (at header byte " + badUtf8(hb.array()) + ")");
+      }
       Object json;
       try {
-        json = Json.parse(new String(hb.array(), StandardCharsets.UTF_8));
+        json = Json.parse(text);
       } catch (IllegalArgumentException e) {
         throw new BadInputException(file + ": malformed safetensors JSON header: " + e.getMessage());
       }
@@ -83,10 +137,12 @@ public final class SafetensorsReader implements AutoCloseable {
       Map<String, String> meta = new LinkedHashMap<>();
       for (var e : top.entrySet()) {
         String name = (String) e.getKey();
+        String q = BadInputException.quote(name);
         if (name.equals("__metadata__")) {
           if (!(e.getValue() instanceof Map<?, ?> m)) throw new BadInputException(file + ": field __metadata__ is not an object");
           for (var me : m.entrySet()) {
-            if (!(me.getValue() instanceof String v)) throw new BadInputException(file + ": field __metadata__." + me.getKey() + " is not a string");
+            if (!(me.getValue() instanceof String v))
+              throw new BadInputException(file + ": field __metadata__." + BadInputException.quote((String) me.getKey()) + " is not a string");
             meta.put((String) me.getKey(), v);
           }
           continue;
@@ -101,13 +157,23 @@ public final class SafetensorsReader implements AutoCloseable {
     }
   }
 
-  private static Entry entry(Path file, String name, Object v, long dataStart, long dataSize) {
-    String at = file + ": tensor '" + name + "'";
+  /** Offset of the first byte where strict UTF-8 decoding fails. */
+  static int badUtf8(byte[] b) {
+    var d = StandardCharsets.UTF_8.newDecoder().onMalformedInput(CodingErrorAction.REPORT).onUnmappableCharacter(CodingErrorAction.REPORT);
+    ByteBuffer in = ByteBuffer.wrap(b);
+    java.nio.CharBuffer out = java.nio.CharBuffer.allocate(b.length + 1);
+    var r = d.decode(in, out, true);
+    return r.isError() ? in.position() : b.length;
+  }
+
+  private static Entry entry(String file, String name, Object v, long dataStart, long dataSize) {
+    String at = file + ": tensor " + BadInputException.quote(name);
     if (!(v instanceof Map<?, ?> m)) throw new BadInputException(at + " is not a JSON object");
     if (!(m.get("dtype") instanceof String dtype)) throw new BadInputException(at + ": field dtype is missing");
     Integer size = SIZES.get(dtype);
-    if (size == null) throw new BadInputException(at + ": field dtype: unsupported dtype '" + dtype + "'");
+    if (size == null) throw new BadInputException(at + ": field dtype: unsupported dtype " + BadInputException.quote(dtype));
     if (!(m.get("shape") instanceof List<?> sh)) throw new BadInputException(at + ": field shape is missing");
+    if (sh.size() > 32) throw new BadInputException(at + ": field shape has " + sh.size() + " dimensions (at most 32)");
     long[] shape = new long[sh.size()];
     long count = 1;
     for (int i = 0; i < shape.length; i++) {
@@ -136,13 +202,13 @@ public final class SafetensorsReader implements AutoCloseable {
   }
 
   /** The format requires the tensors to cover the data region exactly: no holes, no overlaps. */
-  private static void checkCoverage(Path file, java.util.Collection<Entry> entries, long dataStart, long dataSize) {
+  private static void checkCoverage(String file, java.util.Collection<Entry> entries, long dataStart, long dataSize) {
     List<Entry> sorted = new java.util.ArrayList<>(entries);
     sorted.sort(java.util.Comparator.comparingLong(Entry::begin).thenComparingLong(Entry::bytes));
     long at = dataStart;
     for (Entry e : sorted) {
       if (e.begin() != at)
-        throw new BadInputException(file + ": tensor '" + e.name() + "': field data_offsets starts at " + (e.begin() - dataStart) + " but the previous tensor ends at "
+        throw new BadInputException(file + ": tensor " + BadInputException.quote(e.name()) + ": field data_offsets starts at " + (e.begin() - dataStart) + " but the previous tensor ends at "
             + (at - dataStart) + (e.begin() > at ? " (a hole in the data)" : " (tensors overlap)"));
       at += e.bytes();
     }
@@ -150,7 +216,7 @@ public final class SafetensorsReader implements AutoCloseable {
       throw new BadInputException(file + ": the tensors cover " + (at - dataStart) + " data bytes but the file holds " + dataSize);
   }
 
-  private static void readFully(FileChannel ch, ByteBuffer dst, long pos, Path file) throws IOException {
+  private static void readFully(Bytes ch, ByteBuffer dst, long pos, String file) throws IOException {
     while (dst.hasRemaining()) {
       int n = ch.read(dst, pos);
       if (n < 0) throw new BadInputException(file + ": truncated at byte " + pos);
@@ -158,7 +224,8 @@ public final class SafetensorsReader implements AutoCloseable {
     }
   }
 
-  public Path file() {
+  /** The name used in messages (the file, or the name given for bytes in memory). */
+  public String file() {
     return file;
   }
 
@@ -175,7 +242,7 @@ public final class SafetensorsReader implements AutoCloseable {
   /** The entry {@code name}; BadInputException naming the file if absent. */
   public Entry entry(String name) {
     Entry e = entries.get(name);
-    if (e == null) throw new BadInputException(file + ": no tensor named '" + name + "'");
+    if (e == null) throw new BadInputException(file + ": no tensor named " + BadInputException.quote(name));
     return e;
   }
 
@@ -185,7 +252,7 @@ public final class SafetensorsReader implements AutoCloseable {
    */
   public double[] read(String name) throws IOException {
     Entry e = entry(name);
-    if (e.count() > Integer.MAX_VALUE - 8) throw new BadInputException(file + ": tensor '" + name + "' is too large to load");
+    if (e.count() > Integer.MAX_VALUE - 8) throw new BadInputException(file + ": tensor " + BadInputException.quote(name) + " is too large to load");
     ByteBuffer bb = ByteBuffer.allocate((int) e.bytes()).order(ByteOrder.LITTLE_ENDIAN);
     readFully(ch, bb, e.begin(), file);
     int n = (int) e.count();
@@ -195,11 +262,11 @@ public final class SafetensorsReader implements AutoCloseable {
       case "F64" -> { for (int i = 0; i < n; i++) out[i] = bb.getDouble(i << 3); }
       case "F16" -> { for (int i = 0; i < n; i++) out[i] = Float.float16ToFloat(bb.getShort(i << 1)); }
       case "BF16" -> { for (int i = 0; i < n; i++) out[i] = Float.intBitsToFloat((bb.getShort(i << 1) & 0xffff) << 16); }
-      default -> throw new BadInputException(file + ": tensor '" + name + "': field dtype: " + e.dtype()
+      default -> throw new BadInputException(file + ": tensor " + BadInputException.quote(name) + ": field dtype: " + e.dtype()
           + " is not a floating-point type (supported: F32, F16, BF16, F64)");
     }
     for (int i = 0; i < n; i++)
-      if (!Double.isFinite(out[i])) throw new BadInputException(file + ": tensor '" + name + "', element " + i + ": value is not finite");
+      if (!Double.isFinite(out[i])) throw new BadInputException(file + ": tensor " + BadInputException.quote(name) + ", element " + i + ": value is not finite");
     return out;
   }
 

@@ -6,27 +6,22 @@ import io.actindex.core.BadInputException;
 import java.io.IOException;
 import java.nio.file.Path;
 import java.util.ArrayList;
-import java.util.Collection;
-import java.util.Comparator;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import java.util.regex.Matcher;
-import java.util.regex.Pattern;
 import org.ejml.data.DMatrixRMaj;
 import org.ejml.dense.row.CommonOps_DDRM;
 
 /**
- * A multi-layer perceptron of linear layers with ReLU between them (none after the last): {@code
- * h_1 = relu(x W_1^T + b_1)}, ..., {@code out = h_{L-1} W_L^T + b_L}. Stored as safetensors with
- * PyTorch naming: {@code NAME.weight} of shape {@code [out, in]} and optional {@code NAME.bias} of
- * shape {@code [out]}. The hidden layers are all layers but the last; their names become the
- * code segments. Immutable; thread-safe.
+ * A multi-layer perceptron of linear layers with ReLU between them: {@code h_1 = relu(x W_1^T +
+ * b_1)}, ..., {@code out = h_{L-1} W_L^T + b_L}. Stored as safetensors with PyTorch naming:
+ * {@code NAME.weight} of shape {@code [out, in]} and optional {@code NAME.bias} of shape {@code
+ * [out]}. By default the last layer is the output layer (no ReLU, not a code layer) and the others
+ * are the code layers; a model without an output layer (a trunk of hidden layers) has ReLU after
+ * every layer and all of them are code layers. Immutable; thread-safe.
  *
- * <p>Default layer order (when none is given): by the integers embedded in the names, compared
- * as sequences ({@code "0" < "2" < "10"}, {@code "fc1" < "fc2" < "fc10"}, {@code "net.0" <
- * "net.2"}), then by name. The order must chain: each layer's input width is the previous
- * layer's output width.
+ * <p>The file does not record the forward order; {@link LayerOrder} decides it (given order, the
+ * numbers in the names, or the shapes) and refuses when it cannot.
  */
 public final class Mlp {
   /** One linear layer: {@code weight} is {@code out x in}. */
@@ -45,74 +40,77 @@ public final class Mlp {
     }
   }
 
-  private final List<Layer> layers;
+  /** A model read from a file, and where its layer order came from. */
+  public record Loaded(Mlp mlp, LayerOrder.From orderFrom) {}
 
+  private final List<Layer> layers;
+  private final boolean outputLayer;
+
+  /** Layers in forward order; the last is the output layer. */
   public Mlp(List<Layer> layers) {
+    this(layers, true);
+  }
+
+  /** Layers in forward order; {@code outputLayer}: the last is an output layer (else a hidden one). */
+  public Mlp(List<Layer> layers, boolean outputLayer) {
     if (layers.isEmpty()) throw new IllegalArgumentException("an MLP needs at least one layer");
     for (int i = 1; i < layers.size(); i++)
       if (layers.get(i).in() != layers.get(i - 1).out())
         throw new IllegalArgumentException("layer '" + layers.get(i).name() + "' takes " + layers.get(i).in() + " inputs but layer '"
             + layers.get(i - 1).name() + "' gives " + layers.get(i - 1).out());
     this.layers = List.copyOf(layers);
-  }
-
-  private static final Pattern DIGITS = Pattern.compile("\\d+");
-
-  /** Sorts layer names by their embedded integers, then by name (the documented default order). */
-  public static List<String> defaultOrder(Collection<String> names) {
-    List<String> out = new ArrayList<>(names);
-    out.sort(Comparator.comparing(Mlp::numbers, Mlp::compareNumbers).thenComparing(Comparator.naturalOrder()));
-    return out;
-  }
-
-  private static List<Long> numbers(String s) {
-    List<Long> l = new ArrayList<>();
-    Matcher m = DIGITS.matcher(s);
-    while (m.find()) l.add(m.group().length() > 18 ? Long.MAX_VALUE : Long.parseLong(m.group()));
-    return l;
-  }
-
-  private static int compareNumbers(List<Long> a, List<Long> b) {
-    for (int i = 0; i < Math.min(a.size(), b.size()); i++) {
-      int c = Long.compare(a.get(i), b.get(i));
-      if (c != 0) return c;
-    }
-    return Integer.compare(a.size(), b.size());
+    this.outputLayer = outputLayer;
   }
 
   /**
    * Loads an MLP from safetensors. {@code order} lists the layer names (without {@code .weight})
-   * in forward order; null = every {@code *.weight} tensor in the default order.
+   * in forward order; null = decide by {@link LayerOrder}. The last layer is the output layer.
    */
   public static Mlp load(Path file, List<String> order) throws IOException {
     try (SafetensorsReader r = SafetensorsReader.open(file)) {
-      List<String> names = new ArrayList<>();
-      for (String t : r.entries().keySet()) if (t.endsWith(".weight")) names.add(t.substring(0, t.length() - 7));
-      if (names.isEmpty()) throw new BadInputException(file + ": no tensor named NAME.weight; an MLP needs PyTorch-style names");
-      boolean given = order != null;
-      if (order == null) order = defaultOrder(names);
-      List<Layer> layers = new ArrayList<>();
-      for (String name : order) {
-        var w = r.entry(name + ".weight");
-        if (w.shape().length != 2)
-          throw new BadInputException(file + ": tensor '" + name + ".weight': field shape " + w.shapeString() + " is not [out, in]");
-        int out = Math.toIntExact(w.shape()[0]), in = Math.toIntExact(w.shape()[1]);
-        DMatrixRMaj weight = DMatrixRMaj.wrap(out, in, r.read(name + ".weight"));
-        double[] bias = new double[out];
-        if (r.entries().containsKey(name + ".bias")) {
-          var b = r.entry(name + ".bias");
-          if (b.shape().length != 1 || b.shape()[0] != out)
-            throw new BadInputException(file + ": tensor '" + name + ".bias': field shape " + b.shapeString() + " does not match [" + out + "]");
-          bias = r.read(name + ".bias");
-        }
-        if (!layers.isEmpty() && layers.getLast().out() != in)
-          throw new BadInputException(file + ": tensor '" + name + ".weight': field shape " + w.shapeString() + " takes " + in
-              + " inputs but layer '" + layers.getLast().name() + "' gives " + layers.getLast().out()
-              + (given ? "" : " (default order " + order + "; give the layer order explicitly)"));
-        layers.add(new Layer(name, weight, bias));
-      }
-      return new Mlp(layers);
+      return load(r, order, true, -1).mlp();
     }
+  }
+
+  /** The linear layers a file declares ({@code NAME.weight} of shape {@code [out, in]}), in file order. */
+  public static List<LayerOrder.Shape> shapes(SafetensorsReader r) {
+    List<LayerOrder.Shape> shapes = new ArrayList<>();
+    for (var e : r.entries().values()) {
+      if (!e.name().endsWith(".weight")) continue;
+      String name = e.name().substring(0, e.name().length() - 7);
+      if (e.shape().length != 2)
+        throw new BadInputException(r.file() + ": tensor " + BadInputException.quote(e.name()) + ": field shape " + e.shapeString() + " is not [out, in]");
+      if (e.shape()[0] == 0 || e.shape()[1] == 0 || e.shape()[0] > Integer.MAX_VALUE || e.shape()[1] > Integer.MAX_VALUE)
+        throw new BadInputException(r.file() + ": tensor " + BadInputException.quote(e.name()) + ": field shape " + e.shapeString() + " is empty or too large");
+      shapes.add(new LayerOrder.Shape(name, e.shape()[0], e.shape()[1]));
+    }
+    if (shapes.isEmpty()) throw new BadInputException(r.file() + ": no tensor named NAME.weight; an MLP needs PyTorch-style names");
+    return shapes;
+  }
+
+  /**
+   * Loads an MLP from an open reader: the order is {@code order} (checked) or decided by {@link
+   * LayerOrder#resolve} with {@code inputWidth} (-1 = unknown); {@code outputLayer} says whether
+   * the last layer is an output layer.
+   */
+  public static Loaded load(SafetensorsReader r, List<String> order, boolean outputLayer, long inputWidth) throws IOException {
+    String file = r.file();
+    LayerOrder.Resolved resolved = LayerOrder.resolve(file, shapes(r), order, inputWidth);
+    List<Layer> layers = new ArrayList<>();
+    for (String name : resolved.order()) {
+      var w = r.entry(name + ".weight");
+      int out = Math.toIntExact(w.shape()[0]), in = Math.toIntExact(w.shape()[1]);
+      DMatrixRMaj weight = DMatrixRMaj.wrap(out, in, r.read(name + ".weight"));
+      double[] bias = new double[out];
+      if (r.entries().containsKey(name + ".bias")) {
+        var b = r.entry(name + ".bias");
+        if (b.shape().length != 1 || b.shape()[0] != out)
+          throw new BadInputException(file + ": tensor " + BadInputException.quote(name + ".bias") + ": field shape " + b.shapeString() + " does not match [" + out + "]");
+        bias = r.read(name + ".bias");
+      }
+      layers.add(new Layer(name, weight, bias));
+    }
+    return new Loaded(new Mlp(layers, outputLayer), resolved.from());
   }
 
   /** Saves as safetensors (F32, PyTorch naming); {@code metadata} goes to {@code __metadata__}. */
@@ -139,14 +137,19 @@ public final class Mlp {
     return layers.getLast().out();
   }
 
-  /** Names of the hidden layers (all but the last), in order. */
+  /** Names of the hidden layers, the code layers (all but the output layer), in order. */
   public List<String> hiddenNames() {
-    return layers.subList(0, layers.size() - 1).stream().map(Layer::name).toList();
+    return layers.subList(0, outputLayer ? layers.size() - 1 : layers.size()).stream().map(Layer::name).toList();
+  }
+
+  /** Name of the output layer (the last), or null for a model of hidden layers only. */
+  public String outputLayer() {
+    return outputLayer ? layers.getLast().name() : null;
   }
 
   /**
    * Batched forward pass of the rows of {@code x} ({@code m x inputs}) with EJML matrix products.
-   * Returns every layer's output: hidden layers after ReLU, the last before any activation.
+   * Returns every layer's output: hidden layers after ReLU, the output layer before any activation.
    */
   public DMatrixRMaj[] forward(DMatrixRMaj x) {
     if (x.numCols != inputs()) throw new IllegalArgumentException("input has " + x.numCols + " columns, the model takes " + inputs());
@@ -158,7 +161,7 @@ public final class Mlp {
       CommonOps_DDRM.multTransB(h, layer.weight(), z);
       double[] zd = z.data, b = layer.bias();
       int o = layer.out();
-      boolean relu = l < layers.size() - 1;
+      boolean relu = l < layers.size() - 1 || !outputLayer;
       for (int i = 0, n = h.numRows * o; i < n; i++) {
         double v = zd[i] + b[i % o];
         zd[i] = relu && !(v > 0) ? 0 : v;

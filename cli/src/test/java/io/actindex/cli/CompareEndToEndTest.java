@@ -1,0 +1,201 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.within;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import io.actindex.cli.Reference.Example;
+import io.actindex.core.Randoms;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/** {@code compare} through the command line: JSON against direct computation in the test, and refused input. */
+class CompareEndToEndTest {
+  @TempDir Path tmp;
+
+  static boolean[][] codes(SplittableRandom r, int n, int bits, double shift) {
+    boolean[][] out = new boolean[n][bits];
+    for (int i = 0; i < n; i++)
+      for (int b = 0; b < bits; b++) out[i][b] = r.nextDouble() < (b < 8 ? 0.3 + shift : 0.5);
+    return out;
+  }
+
+  static int hamming(boolean[] x, boolean[] y) {
+    int d = 0;
+    for (int b = 0; b < x.length; b++) if (x[b] != y[b]) d++;
+    return d;
+  }
+
+  /** MMD^2_u (Gretton et al., JMLR 2012, eq. 3) written out over the pairs, agreement kernel 1 - d/L. */
+  static double mmd2(boolean[][] a, boolean[][] b) {
+    double L = a[0].length, xx = 0, yy = 0, xy = 0;
+    for (int i = 0; i < a.length; i++) for (int j = 0; j < a.length; j++) if (i != j) xx += 1 - hamming(a[i], a[j]) / L;
+    for (int i = 0; i < b.length; i++) for (int j = 0; j < b.length; j++) if (i != j) yy += 1 - hamming(b[i], b[j]) / L;
+    for (boolean[] x : a) for (boolean[] y : b) xy += 1 - hamming(x, y) / L;
+    int m = a.length, n = b.length;
+    return xx / (m * (m - 1.0)) + yy / (n * (n - 1.0)) - 2 * xy / ((double) m * n);
+  }
+
+  /** W2 by trying every matching (n <= 7). */
+  static double w2(boolean[][] a, boolean[][] b) {
+    return Math.sqrt(best(a, b, 0, new boolean[b.length]) / a.length);
+  }
+
+  private static double best(boolean[][] a, boolean[][] b, int row, boolean[] used) {
+    if (row == a.length) return 0;
+    double best = Double.POSITIVE_INFINITY;
+    for (int j = 0; j < b.length; j++) {
+      if (used[j]) continue;
+      used[j] = true;
+      int d = hamming(a[row], b[j]);
+      best = Math.min(best, d * d + best(a, b, row + 1, used));
+      used[j] = false;
+    }
+    return best;
+  }
+
+  @Test
+  void codesFilesMatchDirectComputation() throws Exception {
+    long seed = Randoms.seed(400);
+    SplittableRandom r = new SplittableRandom(seed);
+    boolean[][] a = codes(r, 7, 70, 0), b = codes(r, 7, 70, 0.5);
+    Path fa = Files2.bits(tmp.resolve("a.npy"), a), fb = Files2.bits(tmp.resolve("b.npy"), b);
+    JsonNode doc = NearestEndToEndTest.json("compare", "--a", fa.toString(), "--b", fb.toString(), "--kind", "codes",
+        "--permutations", "200", "--format", "json", "--top", "3");
+    String what = Randoms.describe(seed);
+    assertThat(doc.get("a").get("rows").asInt()).isEqualTo(7);
+    JsonNode agree = doc.get("mmd").get(0);
+    assertThat(agree.get("kernel").asText()).isEqualTo("agreement");
+    assertThat(agree.get("mmd2").asDouble()).as(what).isCloseTo(mmd2(a, b), within(1e-12));
+    assertThat(agree.get("p_value").asDouble()).isBetween(1 / 201.0, 1.0);
+    assertThat(doc.get("mmd").get(1).get("kernel").asText()).isEqualTo("exponential");
+    assertThat(doc.get("w2").get("method").asText()).isEqualTo("exact");
+    assertThat(doc.get("w2").get("w2").asDouble()).as(what).isCloseTo(w2(a, b), within(1e-12));
+    assertThat(doc.get("floats").isNull()).isTrue();
+    assertThat(doc.get("floats_absent").asText()).contains("no float activations");
+    assertThat(doc.get("neurons").size()).isEqualTo(3);
+    assertThat(doc.get("correction").asText()).contains("Benjamini-Hochberg");
+    assertThat(doc.get("verdict").asText()).contains("not a guarantee");
+    // A against itself: every statistic says "no difference"
+    JsonNode self = NearestEndToEndTest.json("compare", "--a", fa.toString(), "--b", fa.toString(), "--kind", "codes",
+        "--permutations", "50", "--format", "json");
+    assertThat(self.get("w2").get("w2").asDouble()).isZero();
+    assertThat(self.get("neurons_moved").asInt()).isZero();
+    assertThat(self.get("verdict").asText()).startsWith("no difference detected").contains("Bonferroni");
+  }
+
+  @Test
+  void activationsGiveTheFloatReferenceAndUnequalSizesUseSinkhorn() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(401));
+    float[][] a = new float[30][6], b = new float[20][6];
+    for (float[] row : a) for (int j = 0; j < 6; j++) row[j] = (float) r.nextGaussian();
+    for (float[] row : b) for (int j = 0; j < 6; j++) row[j] = (float) (r.nextGaussian() + 1);
+    Path fa = Files2.floats(tmp.resolve("a.npy"), a), fb = Files2.floats(tmp.resolve("b.npy"), b);
+    JsonNode doc = NearestEndToEndTest.json("compare", "--a", fa.toString(), "--b", fb.toString(), "--permutations", "100",
+        "--format", "json", "--threads", "2");
+    assertThat(doc.get("floats").get("columns").asInt()).isEqualTo(6);
+    assertThat(doc.get("floats").get("frechet").asDouble()).isPositive();
+    assertThat(doc.get("floats").get("mmd").get("kernel").asText()).isEqualTo("gaussian");
+    assertThat(doc.get("w2").get("method").asText()).isEqualTo("sinkhorn");
+    assertThat(doc.get("w2").get("iterations").asInt()).isPositive();
+    assertThat(doc.get("notes").toString()).contains("Sinkhorn");
+    for (String fmt : List.of("table", "csv")) {
+      Cli.Result t = Cli.run("compare", "--a", fa.toString(), "--b", fb.toString(), "--permutations", "20", "--format", fmt);
+      assertThat(t.code()).as(t.describe()).isZero();
+      assertThat(t.out()).as(t.describe()).contains(fmt.equals("csv") ? "frechet" : "Frechet distance^2");
+    }
+  }
+
+  /** NumPy's np.median of a column. */
+  static double median(float[][] rows, int col) {
+    double[] v = new double[rows.length];
+    for (int i = 0; i < rows.length; i++) v[i] = rows[i][col];
+    java.util.Arrays.sort(v);
+    int n = v.length;
+    return n % 2 == 1 ? v[n / 2] : (v[n / 2 - 1] + v[n / 2]) / 2;
+  }
+
+  static boolean[][] above(float[][] rows, double[] cut) {
+    boolean[][] out = new boolean[rows.length][rows[0].length];
+    for (int i = 0; i < rows.length; i++) for (int j = 0; j < rows[0].length; j++) out[i][j] = rows[i][j] > cut[j];
+    return out;
+  }
+
+  @Test
+  void withoutAnIndexThresholdAndMedianRulesEncodeBothSamplesAlike() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(404));
+    float[][] a = new float[25][9], b = new float[18][9];
+    for (float[] row : a) for (int j = 0; j < 9; j++) row[j] = (float) (r.nextGaussian() + j * 0.1);
+    for (float[] row : b) for (int j = 0; j < 9; j++) row[j] = (float) (r.nextGaussian() + 0.4);
+    String fa = Files2.floats(tmp.resolve("a.npy"), a).toString(), fb = Files2.floats(tmp.resolve("b.npy"), b).toString();
+    double[] threshold = new double[9], medians = new double[9];
+    java.util.Arrays.fill(threshold, 0.5);
+    for (int j = 0; j < 9; j++) medians[j] = median(a, j);
+    JsonNode t = NearestEndToEndTest.json("compare", "--a", fa, "--b", fb, "--threshold", "0.5", "--permutations", "10", "--format", "json");
+    assertThat(t.get("mmd").get(0).get("mmd2").asDouble()).isCloseTo(mmd2(above(a, threshold), above(b, threshold)), within(1e-12));
+    // --median: the medians of A encode both samples (A is the reference)
+    JsonNode m = NearestEndToEndTest.json("compare", "--a", fa, "--b", fb, "--median", "--permutations", "10", "--format", "json");
+    assertThat(m.get("mmd").get(0).get("mmd2").asDouble()).isCloseTo(mmd2(above(a, medians), above(b, medians)), within(1e-12));
+  }
+
+  @Test
+  void whereSamplesComeFromTheIndex() throws Exception {
+    long seed = Randoms.seed(402);
+    NearestEndToEndTest.Data d = NearestEndToEndTest.data(120, 1, 1, true, seed);
+    List<Example> ex = NearestEndToEndTest.examples(d.index(), 0, "w", seed);
+    Path idx = tmp.resolve("idx");
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), d.index()).toString(),
+        "--code-layout", NearestEndToEndTest.LAYOUT, "--meta", NearestEndToEndTest.metaCsv(tmp.resolve("m.csv"), ex).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    List<boolean[]> train = new ArrayList<>(), other = new ArrayList<>();
+    for (Example e : ex) (e.meta().get("split").equals("train") ? train : other).add(e.bits());
+    JsonNode doc = NearestEndToEndTest.json("compare", "--index", idx.toString(), "--a-where", "split = train", "--b-where",
+        "split != train", "--permutations", "50", "--format", "json");
+    assertThat(doc.get("a").get("rows").asInt()).isEqualTo(train.size());
+    assertThat(doc.get("b").get("rows").asInt()).isEqualTo(other.size());
+    assertThat(doc.get("mmd").get(0).get("mmd2").asDouble())
+        .isCloseTo(mmd2(train.toArray(boolean[][]::new), other.toArray(boolean[][]::new)), within(1e-12));
+    assertThat(doc.get("layers").size()).isEqualTo(2);
+    Map<String, String> before = Files2.checksums(idx);
+    Cli.Result empty = Cli.run("compare", "--index", idx.toString(), "--a-where", "split = nowhere", "--b-where", "split = train");
+    assertThat(empty.code()).as(empty.describe()).isEqualTo(2);
+    assertThat(empty.err().strip().lines().count()).as(empty.describe()).isEqualTo(1);
+    assertThat(empty.err()).contains("empty");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+  }
+
+  @Test
+  void badInputIsRefusedWithOneLine() {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(403));
+    String a = Files2.bits(tmp.resolve("a.npy"), codes(r, 5, 16, 0)).toString();
+    String wide = Files2.bits(tmp.resolve("wide.npy"), codes(r, 5, 24, 0)).toString();
+    String one = Files2.bits(tmp.resolve("one.npy"), codes(r, 1, 16, 0)).toString();
+    String nan = Files2.floats(tmp.resolve("nan.npy"), new float[][] {{1, Float.NaN}, {0, 1}}).toString();
+    String fine = Files2.floats(tmp.resolve("fine.npy"), new float[][] {{1, 2}, {0, 1}}).toString();
+    List<String[]> cases = List.of(
+        new String[] {"compare", "--a", a, "--b", wide, "--kind", "codes"},
+        new String[] {"compare", "--a", a, "--b", one, "--kind", "codes"},
+        new String[] {"compare", "--a", nan, "--b", fine},
+        new String[] {"compare", "--a", a, "--b", a, "--kind", "codes", "--a-floats", nan, "--b-floats", fine},
+        new String[] {"compare", "--a", a, "--b", a, "--kind", "codes", "--permutations", "0"});
+    for (String[] args : cases) {
+      Cli.Result res = Cli.run(args);
+      assertThat(res.code()).as(res.describe()).isEqualTo(2);
+      assertThat(res.err().strip().lines().count()).as(res.describe()).isEqualTo(1);
+      assertThat(res.out()).as(res.describe()).isEmpty();
+    }
+    // usage errors: the message, then the project's "--help" hint line
+    for (String[] args : List.of(new String[] {"compare", "--a", a, "--kind", "codes"},
+        new String[] {"compare", "--a", a, "--b-where", "split = x"})) {
+      Cli.Result res = Cli.run(args);
+      assertThat(res.code()).as(res.describe()).isEqualTo(2);
+      assertThat(res.err().lines().findFirst().orElseThrow()).as(res.describe()).contains("--b");
+      assertThat(res.err()).as(res.describe()).contains("--help' for usage");
+    }
+  }
+}

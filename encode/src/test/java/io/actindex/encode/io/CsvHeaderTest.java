@@ -1,0 +1,136 @@
+package io.actindex.encode.io;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+
+import io.actindex.core.BadInputException;
+import io.actindex.encode.io.CsvMatrixReader.Header;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Arrays;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * CSV header decisions and encodings. The default header a data-frame library writes for unnamed
+ * columns is the column numbers (pandas {@code DataFrame.to_csv}: {@code ,0,1,...} with the row
+ * index, {@code 0,1,...} with {@code index=False}) — from memory of that library's behaviour.
+ */
+class CsvHeaderTest {
+  @TempDir Path tmp;
+
+  private Path csv(String name, String text) throws IOException {
+    return Files.writeString(tmp.resolve(name), text, StandardCharsets.UTF_8);
+  }
+
+  private static double[] all(CsvMatrixReader r, int rows) throws IOException {
+    double[] out = new double[(rows + 1) * r.cols()];
+    int n = r.read(out, rows + 1);
+    assertThat(n).isEqualTo(rows);
+    return Arrays.copyOf(out, n * r.cols());
+  }
+
+  @Test
+  void columnNumbersAreAHeaderAndRowsAreNotShifted() throws IOException {
+    Path f = csv("nums.csv", "0,1,2\n5,6,7\n8,9,10\n");
+    try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.AUTO)) {
+      assertThat(r.header()).containsExactly("0", "1", "2");
+      assertThat(all(r, 2)).containsExactly(5, 6, 7, 8, 9, 10);
+      assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("taken as the header").contains("column numbers"));
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
+      assertThat(all(r, 3)).startsWith(0, 1, 2);
+      assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("no header"));
+    }
+  }
+
+  @Test
+  void textHeaderNumbersAreDataYesSkipsANumericFirstLine() throws IOException {
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("t.csv", "a,b\n1,2\n"), Header.AUTO)) {
+      assertThat(r.header()).containsExactly("a", "b");
+      assertThat(all(r, 1)).containsExactly(1, 2);
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("n.csv", "3,4\n1,2\n"), Header.AUTO)) {
+      assertThat(r.header()).isNull();
+      assertThat(all(r, 2)).containsExactly(3, 4, 1, 2);
+      assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("no header line"));
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("y.csv", "3,4\n1,2\n"), Header.YES)) {
+      assertThat(all(r, 1)).containsExactly(1, 2);
+    }
+  }
+
+  @Test
+  void aFirstLineMixingNumbersAndTextIsRefusedNamingTheCell() throws IOException {
+    // a typo in the first data row of a file without header
+    Path f = csv("typo.csv", "1.5,2.O,3\n4,5,6\n");
+    assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.AUTO)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("typo.csv").hasMessageContaining("line 1, column 1").hasMessageContaining("'2.O'")
+        .hasMessageContaining("--header yes").hasMessageContaining("--header no");
+    assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.NO).read(new double[6], 2)).hasMessageContaining("'2.O' is not a number");
+  }
+
+  @Test
+  void aRowIndexColumnGetsAHint() throws IOException {
+    // pandas to_csv with its default index: an empty first header cell over 0, 1, 2...
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("df.csv", ",0,1\n0,0.5,-1\n1,2,3\n2,4,5\n"), Header.AUTO)) {
+      assertThat(r.header()).containsExactly("", "0", "1");
+      assertThat(r.cols()).isEqualTo(3);
+      assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("hint").contains("row index").contains("header cell ''").contains("values 0, 1"));
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("idx.csv", "0,7,8\n1,7,8\n2,7,8\n"), Header.AUTO)) {
+      assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("row index"));
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("plain.csv", "5,7,8\n1,7,8\n2,7,8\n"), Header.AUTO)) {
+      assertThat(r.notes()).noneSatisfy(n -> assertThat(n).contains("row index"));
+    }
+  }
+
+  @Test
+  void utf16AndLatin1AreRefusedWithTheByteOffsetUtf8BomIsAccepted() throws IOException {
+    Path bom16 = tmp.resolve("u16.csv");
+    Files.write(bom16, "a,b\n1,2\n".getBytes(StandardCharsets.UTF_16)); // big-endian with a byte order mark
+    assertThatThrownBy(() -> CsvMatrixReader.open(bom16)).isInstanceOf(BadInputException.class).hasMessageContaining("u16.csv")
+        .hasMessageContaining("byte 0").hasMessageContaining("UTF-16");
+    Path le = Files.write(tmp.resolve("le.csv"), "a,b\n1,2\n".getBytes(StandardCharsets.UTF_16LE));
+    assertThatThrownBy(() -> CsvMatrixReader.open(le)).isInstanceOf(BadInputException.class).hasMessageContaining("byte 1 (line 1)")
+        .hasMessageContaining("UTF-16");
+    Path latin1 = Files.write(tmp.resolve("l1.csv"), "x,y\n1,2\ncaf\u00e9,3\n".getBytes(StandardCharsets.ISO_8859_1));
+    assertThatThrownBy(() -> {
+      try (CsvMatrixReader r = CsvMatrixReader.open(latin1)) {
+        r.read(new double[8], 4);
+      }
+    }).isInstanceOf(BadInputException.class).hasMessageContaining("l1.csv").hasMessageContaining("byte 11 (line 3)").hasMessageContaining("UTF-8");
+    byte[] bom8 = {(byte) 0xef, (byte) 0xbb, (byte) 0xbf};
+    Path withBom = Files.write(tmp.resolve("bom.csv"), concat(bom8, "a,b\n1,2\n".getBytes(StandardCharsets.UTF_8)));
+    try (CsvMatrixReader r = CsvMatrixReader.open(withBom)) {
+      assertThat(r.header()).containsExactly("a", "b");
+      assertThat(all(r, 1)).containsExactly(1, 2);
+    }
+  }
+
+  @Test
+  void messagesQuoteAShortEscapedPrefixOfABadCell() throws IOException {
+    String big = "x".repeat(5_000_000);
+    Path f = csv("big.csv", "a,b\n1,2\n3," + big + "\n");
+    assertThatThrownBy(() -> {
+      try (CsvMatrixReader r = CsvMatrixReader.open(f)) {
+        r.read(new double[8], 4);
+      }
+    }).isInstanceOf(BadInputException.class).satisfies(e -> assertThat(e.getMessage()).hasSizeLessThan(300).contains("5,000,000 characters"));
+    Path ctl = csv("ctl.csv", "a,b\n1,2\n3,a\u0001\u001b[31mred\u2028x\n");
+    assertThatThrownBy(() -> {
+      try (CsvMatrixReader r = CsvMatrixReader.open(ctl)) {
+        r.read(new double[8], 4);
+      }
+    }).satisfies(e -> assertThat(e.getMessage()).contains("'a\\u0001\\u001b[31mred\\u2028x'").doesNotContain("\u0001").doesNotContain("\u001b"));
+  }
+
+  private static byte[] concat(byte[] a, byte[] b) {
+    byte[] c = Arrays.copyOf(a, a.length + b.length);
+    System.arraycopy(b, 0, c, a.length, b.length);
+    return c;
+  }
+}

@@ -1,0 +1,424 @@
+package io.actindex.query;
+
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
+import io.actindex.encode.EncodeOptions;
+import io.actindex.encode.Encoders;
+import io.actindex.encode.io.MatrixReader;
+import io.actindex.encode.io.NpzReader;
+import io.actindex.index.store.IndexReader;
+import io.actindex.query.stats.AgreementMmd;
+import io.actindex.query.stats.FiringRates;
+import io.actindex.query.stats.FloatSample;
+import io.actindex.query.stats.Frechet;
+import io.actindex.query.stats.GaussianMmd;
+import io.actindex.query.stats.KernelMatrix;
+import io.actindex.query.stats.LinearMmd;
+import io.actindex.query.stats.PairDistances;
+import io.actindex.query.stats.PermutationTest;
+import io.actindex.query.stats.Permutations;
+import io.actindex.query.stats.Wasserstein;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.Comparator;
+import java.util.List;
+import java.util.Locale;
+import java.util.function.DoubleUnaryOperator;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Two samples of inputs compared where the model looks: in code space (kernel MMD^2 with
+ * permutation tests, Wasserstein-2 with Hamming ground cost), per layer, per neuron (firing-rate
+ * z tests, Benjamini-Hochberg), and, when float activations are at hand, in full precision
+ * (Frechet distance between Gaussian fits, Gaussian-kernel MMD^2) beside it.
+ *
+ * <pre>{@code
+ * Compare.Result r = Compare.run(new Compare.Params(null,
+ *     Compare.Sample.file(Source.activations(Path.of("train.npy"))),
+ *     Compare.Sample.file(Source.activations(Path.of("week.npy"))),
+ *     null, null, null, null, null, null, Compare.Options.defaults()), Progress.NONE);
+ * }</pre>
+ */
+public final class Compare {
+  private Compare() {}
+
+  /** One sample: a file (encoded with the index's rule when there is an index) or a filtered part of the index. */
+  public record Sample(Source source, String where) {
+    public Sample {
+      if ((source == null) == (where == null || where.isBlank()))
+        throw new BadInputException("a sample is either a file or a where-expression over the index");
+    }
+
+    public static Sample file(Source s) {
+      return new Sample(s, null);
+    }
+
+    public static Sample where(String expr) {
+      return new Sample(null, expr);
+    }
+
+    String describe() {
+      return source != null ? source.file().toString() : "where " + where;
+    }
+
+    /** For error messages: a short prefix of a long filter. */
+    String brief() {
+      return Snippet.of(describe());
+    }
+  }
+
+  /**
+   * Statistics options. {@code sigma}: bandwidth of the exponential code kernel (null = median
+   * heuristic); {@code matrixRows}: at most this many rows per sample go into the pairwise
+   * matrices (exponential and Gaussian kernels), a seeded random subsample beyond; {@code
+   * exactMax}: exact W2 for equal sizes up to this; {@code sinkhornRows}: rows per sample for
+   * Sinkhorn (subsample beyond); {@code reg}: Sinkhorn regularisation relative to the mean squared
+   * distance; {@code top}: neurons listed; {@code alpha}: level of the verdict and of the neuron
+   * list.
+   */
+  public record Options(int permutations, long seed, Double sigma, double alpha, int top, int matrixRows, int exactMax,
+      int sinkhornRows, double reg, int maxIter, double tol, int threads) {
+    public Options {
+      if (permutations < 1) throw new BadInputException("--permutations must be at least 1, got " + permutations);
+      if (sigma != null && !(sigma > 0 && Double.isFinite(sigma))) throw new BadInputException("--sigma must be a positive number, got " + sigma);
+      if (!(alpha > 0 && alpha < 1)) throw new BadInputException("--alpha must be between 0 and 1, got " + alpha);
+      if (top < 0) throw new BadInputException("--top must be 0 or more, got " + top);
+      if (matrixRows < 2) throw new BadInputException("--matrix-rows must be at least 2, got " + matrixRows);
+      if (exactMax < 0) throw new BadInputException("--exact-max must be 0 or more, got " + exactMax);
+      if (sinkhornRows < 1) throw new BadInputException("--sinkhorn-rows must be at least 1, got " + sinkhornRows);
+      if (!(reg > 0 && Double.isFinite(reg))) throw new BadInputException("--reg must be a positive number, got " + reg);
+      if (maxIter < 1) throw new BadInputException("--max-iter must be at least 1, got " + maxIter);
+      if (!(tol > 0)) throw new BadInputException("--tol must be positive, got " + tol);
+      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+    }
+
+    public static Options defaults() {
+      return new Options(1000, 42, null, 0.05, 10, 2000, 3000, 4000, 0.05, 1000, 1e-5, 1);
+    }
+  }
+
+  /**
+   * {@code index}: encode files like it and allow {@code where} samples (null: files only, encoded
+   * with {@code encode}, codes files read with {@code codesLayout}); {@code model}: for inputs
+   * without an index; {@code aFloats}/{@code bFloats}: float activations for the full-precision
+   * reference (null: the activations files themselves, if the samples are activations);
+   * {@code layers}: compare only these layers (null = all).
+   */
+  public record Params(Path index, Sample a, Sample b, EncodeOptions encode, CodeLayout codesLayout, Path model,
+      Path aFloats, Path bFloats, List<String> layers, Options options) {
+    public Params {
+      if (a == null || b == null) throw new BadInputException("two samples are needed");
+      if (index == null && (a.where() != null || b.where() != null))
+        throw new BadInputException("--a-where and --b-where need --index");
+      layers = layers == null ? List.of() : List.copyOf(layers);
+    }
+  }
+
+  /**
+   * One kernel MMD^2 result. {@code kernel}: "agreement" ({@code 1 - d/L}), "exponential"
+   * ({@code exp(-d/sigma)}) or "gaussian" (floats); {@code rowsA/rowsB}: rows it was computed on
+   * ({@code subsampled} when fewer than the samples hold).
+   */
+  public record Mmd(String kernel, Double sigma, double mmd2, double pValue, int permutations, double nullMean, double nullSd,
+      int rowsA, int rowsB, boolean subsampled) {}
+
+  /** The full-precision reference: Frechet distance (squared) of Gaussian fits and Gaussian-kernel MMD^2. */
+  public record Floats(int rowsA, int rowsB, int columns, double frechet, Mmd mmd) {}
+
+  /** One layer: agreement-kernel MMD^2 on all rows with its p-value, exponential-kernel MMD^2 on the matrix rows. */
+  public record Layer(String name, int bits, double agreementMmd2, double agreementP, double exponentialMmd2, double sigma,
+      double meanAbsRateDiff, int neuronsMoved) {}
+
+  /** A neuron ({@code layer:unit}) and its firing-rate test. */
+  public record Neuron(String name, double rateA, double rateB, double z, double p, double q) {}
+
+  public record Result(String describeA, String describeB, int rowsA, int rowsB, CodeLayout layout, List<Mmd> mmd,
+      LinearMmd.Result linear, Wasserstein.Result w2, Floats floats, String floatsAbsent, List<Layer> layers,
+      List<Neuron> neurons, int neuronsMoved, String correction, double alpha, String verdict, List<String> notes) {}
+
+  public static Result run(Params p, Progress progress) {
+    Progress prog = progress == null ? Progress.NONE : progress;
+    CodeBlock a, b;
+    List<String> notes = new ArrayList<>();
+    if (p.index() != null) {
+      try (IndexReader reader = IndexReader.open(p.index())) {
+        a = load(reader, p.a(), "A", prog, notes);
+        b = load(reader, p.b(), "B", prog, notes);
+      }
+    } else {
+      EncodeOptions enc = p.encode() == null ? EncodeOptions.positive() : p.encode();
+      Encoding.Read ra = read(p.a().source(), p, enc, prog);
+      // B is encoded with A's options: with per-neuron medians, A's medians (A is the reference)
+      Encoding.Read rb = read(p.b().source(), p, ra.options() == null ? enc : ra.options(), prog);
+      a = ra.codes();
+      b = rb.codes();
+      if (ra.notes() != null) notes.addAll(ra.notes());
+      if (rb.notes() != null) notes.addAll(rb.notes());
+      if (!a.layout().equals(b.layout()))
+        throw new BadInputException(p.b().brief() + ": sample B has layout " + b.layout() + " (" + b.layout().bits()
+            + " bits), sample A " + a.layout() + " (" + a.layout().bits() + " bits)");
+    }
+    if (!p.layers().isEmpty()) {
+      CodeLayout target = subLayout(a.layout(), p.layers());
+      a = Layers.project(a, target);
+      b = Layers.project(b, target);
+    }
+    checkRows(a, p.a(), "A");
+    checkRows(b, p.b(), "B");
+    FloatSample fa = floats(p.aFloats(), p.a(), p.layers(), "A"), fb = floats(p.bFloats(), p.b(), p.layers(), "B");
+    return compute(a, b, fa, fb, p.a().describe(), p.b().describe(), p.options(), notes);
+  }
+
+  /** The statistics on codes already in memory (and optional floats); independent of files. */
+  public static Result compute(CodeBlock a, CodeBlock b, FloatSample fa, FloatSample fb, String describeA, String describeB,
+      Options o) {
+    return compute(a, b, fa, fb, describeA, describeB, o, List.of());
+  }
+
+  private static Result compute(CodeBlock a, CodeBlock b, FloatSample fa, FloatSample fb, String describeA, String describeB,
+      Options o, List<String> readNotes) {
+    if (!a.layout().equals(b.layout())) throw new BadInputException("samples A and B have different layouts: " + a.layout() + " vs " + b.layout());
+    CodeLayout layout = a.layout();
+    int m = a.size(), n = b.size(), segs = layout.segments().size();
+    List<String> notes = new ArrayList<>(readNotes);
+    Permutations perms = Permutations.seeded(o.seed());
+
+    // agreement kernel: every row, exact permutation test, whole code and each layer
+    int[][] ranges = new int[1 + segs][];
+    ranges[0] = new int[] {0, layout.bits()};
+    for (int s = 0; s < segs; s++) ranges[1 + s] = new int[] {layout.start(s), layout.start(s) + layout.segments().get(s).bits()};
+    PermutationTest[] agree = new AgreementMmd(a.concat(b), m).test(ranges, perms, o.permutations(), o.threads());
+
+    // exponential kernel: a pooled distance matrix on at most matrixRows rows per sample
+    int[] pa = subsample(m, o.matrixRows(), o.seed()), pb = subsample(n, o.matrixRows(), o.seed() + 1);
+    CodeBlock sa = select(a, pa), sb = select(b, pb);
+    boolean sub = pa.length < m || pb.length < n;
+    if (sub)
+      notes.add(String.format(Locale.ROOT, "exponential and Gaussian kernels: a seeded random subsample of %d of %d (A) and %d of %d (B) rows (--matrix-rows %d)",
+          pa.length, m, pb.length, n, o.matrixRows()));
+    PairDistances dist = new PairDistances(sa.concat(sb), pa.length, o.threads());
+    double sigma = o.sigma() != null ? o.sigma() : positiveOrOne(dist.median(0));
+    DoubleUnaryOperator expK = d -> Math.exp(-d / sigma);
+    PermutationTest expT = dist.kernel(expK).test(pa.length, perms, o.permutations(), o.threads());
+    List<Mmd> mmd = List.of(
+        new Mmd("agreement", null, agree[0].statistic(), agree[0].pValue(), agree[0].permutations(), agree[0].nullMean(),
+            agree[0].nullSd(), m, n, false),
+        mmd("exponential", sigma, expT, pa.length, pb.length, sub));
+    LinearMmd.Result linear = Math.min(m, n) >= 4 ? LinearMmd.of(a, b, expK, o.seed()) : null;
+
+    Wasserstein.Result w2 = w2(a, b, o, notes);
+
+    // neurons and layers
+    FiringRates.Result rates = FiringRates.of(a, b);
+    int moved = 0;
+    List<Integer> order = new ArrayList<>();
+    for (int i = 0; i < layout.bits(); i++) {
+      order.add(i);
+      if (rates.q()[i] < o.alpha()) moved++;
+    }
+    order.sort(Comparator.<Integer>comparingDouble(i -> -Math.abs(rates.z()[i])).thenComparingInt(i -> i));
+    List<Neuron> neurons = new ArrayList<>();
+    for (int i : order.subList(0, Math.min(o.top(), order.size())))
+      neurons.add(new Neuron(Layers.neuron(layout, i), rates.rateA()[i], rates.rateB()[i], rates.z()[i], rates.p()[i], rates.q()[i]));
+    List<Layer> layers = new ArrayList<>();
+    for (int s = 0; s < segs; s++) {
+      int view = segs == 1 ? 0 : 1 + s;
+      double ls = positiveOrOne(dist.median(view));
+      double diff = 0;
+      int lm = 0;
+      for (int bit = ranges[1 + s][0]; bit < ranges[1 + s][1]; bit++) {
+        diff += Math.abs(rates.rateA()[bit] - rates.rateB()[bit]);
+        if (rates.q()[bit] < o.alpha()) lm++;
+      }
+      int bits = layout.segments().get(s).bits();
+      layers.add(new Layer(layout.segments().get(s).name(), bits, agree[1 + s].statistic(), agree[1 + s].pValue(),
+          dist.mmd2(view, d -> Math.exp(-d / ls)), ls, diff / bits, lm));
+    }
+
+    Floats floats = null;
+    String absent = null;
+    if (fa != null && fb != null) floats = floats(fa, fb, o, perms, notes);
+    else absent = "no float activations for " + (fa == null && fb == null ? "A and B" : fa == null ? "A" : "B")
+        + " (give --a-floats/--b-floats, or activations files)";
+
+    String verdict = verdict(mmd.get(1), mmd.get(0), moved, neurons, o.alpha());
+    return new Result(describeA, describeB, m, n, layout, mmd, linear, w2, floats, absent, List.copyOf(layers),
+        List.copyOf(neurons), moved, "Benjamini-Hochberg (1995) false discovery rate over all " + layout.bits() + " neurons",
+        o.alpha(), verdict, List.copyOf(notes));
+  }
+
+  private static Mmd mmd(String kernel, Double sigma, PermutationTest t, int ra, int rb, boolean sub) {
+    return new Mmd(kernel, sigma, t.statistic(), t.pValue(), t.permutations(), t.nullMean(), t.nullSd(), ra, rb, sub);
+  }
+
+  private static Wasserstein.Result w2(CodeBlock a, CodeBlock b, Options o, List<String> notes) {
+    int m = a.size(), n = b.size();
+    if (m == n && m <= o.exactMax()) return Wasserstein.exact(a, b, o.threads());
+    int[] pa = subsample(m, o.sinkhornRows(), o.seed() + 2), pb = subsample(n, o.sinkhornRows(), o.seed() + 3);
+    String why = m != n ? "sample sizes differ" : "more than --exact-max " + o.exactMax() + " rows";
+    notes.add(String.format(Locale.ROOT, "W2 by Sinkhorn (%s) on %d of %d (A) and %d of %d (B) rows", why, pa.length, m, pb.length, n));
+    Wasserstein.Result r = Wasserstein.sinkhorn(select(a, pa), select(b, pb), o.reg(), o.maxIter(), o.tol(), o.threads());
+    if (!r.converged())
+      notes.add(String.format(Locale.ROOT, "Sinkhorn stopped after %d iterations with marginal error %.3g (tolerance %.3g): W2 is approximate",
+          r.iterations(), r.marginalError(), o.tol()));
+    return r;
+  }
+
+  private static Floats floats(FloatSample fa, FloatSample fb, Options o, Permutations perms, List<String> notes) {
+    double fd = Frechet.squared(fa, fb);
+    int[] pa = subsample(fa.rows(), o.matrixRows(), o.seed()), pb = subsample(fb.rows(), o.matrixRows(), o.seed() + 1);
+    boolean sub = pa.length < fa.rows() || pb.length < fb.rows();
+    GaussianMmd.Kernel k = GaussianMmd.of(fa.select(pa).concat(fb.select(pb)), null, o.threads());
+    PermutationTest t = k.matrix().test(pa.length, perms, o.permutations(), o.threads());
+    return new Floats(fa.rows(), fb.rows(), fa.cols(), fd, mmd("gaussian", k.sigma(), t, pa.length, pb.length, sub));
+  }
+
+  private static String verdict(Mmd exp, Mmd agree, int moved, List<Neuron> top, double alpha) {
+    StringBuilder v = new StringBuilder();
+    String level = fmt(alpha);
+    // two tests of one hypothesis: Bonferroni, each at alpha / 2, so the verdict keeps level alpha
+    String ps = " (MMD permutation p = " + fmt(exp.pValue()) + " exponential kernel, " + fmt(agree.pValue())
+        + " agreement kernel; each against " + fmt(alpha / 2) + ", Bonferroni over the two)";
+    if (Math.min(exp.pValue(), agree.pValue()) <= alpha / 2) {
+      v.append("A and B differ in code space at level ").append(level).append(ps);
+    } else {
+      v.append("no difference detected at level ").append(level).append(ps)
+          .append("; this does not show that A and B are alike, only that these samples cannot tell them apart");
+    }
+    if (moved > 0 && !top.isEmpty()) {
+      Neuron n = top.get(0);
+      v.append("; ").append(moved).append(moved == 1 ? " neuron fires" : " neurons fire").append(" at a different rate (BH q < ")
+          .append(level).append("), most: ").append(n.name()).append(" ").append(fmt(n.rateA())).append(" -> ").append(fmt(n.rateB()));
+    }
+    v.append(". A statistical signal about the model's codes, not a guarantee: check what it means for your use.");
+    return v.toString();
+  }
+
+  static String fmt(double x) {
+    return String.format(Locale.ROOT, "%.3g", x);
+  }
+
+  private static double positiveOrOne(double median) {
+    return median > 0 ? median : 1;
+  }
+
+  // ---- loading
+
+  private static CodeBlock load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
+    if (s.source() != null)
+      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes);
+    RoaringBitmap ids = Where.select(reader.meta(), s.where());
+    int[] live = new int[reader.liveCount()];
+    CodeBlock all = reader.liveCodes(live);
+    int w = all.wordsPerCode(), kept = 0;
+    long[] out = new long[Math.multiplyExact(ids.getCardinality(), w)];
+    for (int i = 0; i < live.length; i++)
+      if (ids.contains(live[i])) System.arraycopy(all.words(), i * w, out, kept++ * w, w);
+    return new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w));
+  }
+
+  private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog) {
+    Source src = s;
+    if (s.kind() == Source.Kind.INPUTS && s.model() == null) {
+      if (p.model() == null) throw new BadInputException(s.file() + ": inputs need a model (--model FILE) or an index that stores one");
+      src = Source.inputs(s.file(), p.model());
+    }
+    return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog);
+  }
+
+  private static CodeLayout subLayout(CodeLayout layout, List<String> names) {
+    List<CodeLayout.Segment> segs = new ArrayList<>();
+    for (int s : Layers.select(layout, names)) segs.add(layout.segments().get(s));
+    return new CodeLayout(segs);
+  }
+
+  private static void checkRows(CodeBlock c, Sample s, String which) {
+    if (c.size() == 0) throw new BadInputException(s.brief() + ": sample " + which + " is empty");
+    if (c.size() < 2) throw new BadInputException(s.brief() + ": sample " + which + " has 1 row; comparing needs at least 2");
+  }
+
+  /** Floats of a sample: the given file, else the sample's own activations file, else null. */
+  private static FloatSample floats(Path given, Sample s, List<String> layers, String which) {
+    Path file = given != null ? given : s.source() != null && s.source().kind() == Source.Kind.ACTIVATIONS ? s.source().file() : null;
+    if (file == null) return null;
+    FloatSample f = readFloats(file, layers);
+    if (f.rows() < 2) throw new BadInputException(file + ": float sample " + which + " has " + f.rows() + " rows; at least 2 are needed");
+    return f;
+  }
+
+  /** A float matrix: {@code .npy}/{@code .csv}, or {@code .npz} members (the named layers, else all) side by side. */
+  static FloatSample readFloats(Path file, List<String> layers) {
+    try {
+      if (file.getFileName().toString().toLowerCase(Locale.ROOT).endsWith(".npz")) {
+        try (NpzReader z = NpzReader.open(file)) {
+          List<String> names = layers.isEmpty() ? z.names() : layers;
+          FloatSample out = null;
+          for (String name : names) {
+            if (!z.names().contains(name)) throw new BadInputException(file + ": no member '" + name + "'; members: " + z.names());
+            try (MatrixReader r = z.member(name)) {
+              FloatSample part = readAll(r);
+              out = out == null ? part : sideBySide(out, part, file);
+            }
+          }
+          if (out == null) throw new BadInputException(file + ": no arrays");
+          return out;
+        }
+      }
+      try (MatrixReader r = Encoders.openMatrix(file)) {
+        return readAll(r);
+      }
+    } catch (IOException e) {
+      throw new UncheckedIOException(file + ": " + e.getMessage(), e);
+    }
+  }
+
+  private static FloatSample readAll(MatrixReader r) throws IOException {
+    int cols = r.cols();
+    double[] all = new double[0];
+    double[] buf = new double[Math.max(1, (1 << 16) / Math.max(1, cols)) * cols];
+    int rows = 0, got;
+    while ((got = r.read(buf, buf.length / cols)) > 0) {
+      if ((long) (rows + got) * cols > Integer.MAX_VALUE - 16) throw new BadInputException(r.source() + ": too many float values to hold");
+      if ((rows + got) * cols > all.length) all = Arrays.copyOf(all, Math.max((rows + got) * cols, all.length * 2));
+      System.arraycopy(buf, 0, all, rows * cols, got * cols);
+      rows += got;
+    }
+    return new FloatSample(rows, cols, Arrays.copyOf(all, rows * cols));
+  }
+
+  private static FloatSample sideBySide(FloatSample x, FloatSample y, Path file) {
+    if (x.rows() != y.rows()) throw new BadInputException(file + ": members with " + x.rows() + " and " + y.rows() + " rows");
+    int c = x.cols() + y.cols();
+    double[] out = new double[x.rows() * c];
+    for (int i = 0; i < x.rows(); i++) {
+      System.arraycopy(x.values(), i * x.cols(), out, i * c, x.cols());
+      System.arraycopy(y.values(), i * y.cols(), out, i * c + x.cols(), y.cols());
+    }
+    return new FloatSample(x.rows(), c, out);
+  }
+
+  /** All of {@code 0..n-1} when {@code n <= max}, else {@code max} of them at random (seeded), ascending. */
+  static int[] subsample(int n, int max, long seed) {
+    int[] order = new int[n];
+    if (n <= max) {
+      for (int i = 0; i < n; i++) order[i] = i;
+      return order;
+    }
+    Permutations.seeded(seed).fill(0, order);
+    int[] pick = Arrays.copyOf(order, max);
+    Arrays.sort(pick);
+    return pick;
+  }
+
+  private static CodeBlock select(CodeBlock c, int[] rows) {
+    if (rows.length == c.size()) return c;
+    int w = c.wordsPerCode();
+    long[] out = new long[rows.length * w];
+    for (int i = 0; i < rows.length; i++) System.arraycopy(c.words(), rows[i] * w, out, i * w, w);
+    return new CodeBlock(c.layout(), rows.length, out);
+  }
+}

@@ -1,0 +1,140 @@
+package io.actindex.query;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.within;
+
+import io.actindex.core.CodeBlock;
+import io.actindex.encode.Encoders;
+import io.actindex.encode.io.NpyReader;
+import io.actindex.query.stats.AgreementMmd;
+import io.actindex.query.stats.FiringRates;
+import io.actindex.query.stats.FloatSample;
+import io.actindex.query.stats.Frechet;
+import io.actindex.query.stats.GaussianMmd;
+import io.actindex.query.stats.Normal;
+import io.actindex.query.stats.PairDistances;
+import io.actindex.query.stats.PermutationTest;
+import io.actindex.query.stats.Permutations;
+import io.actindex.query.stats.Wasserstein;
+import java.io.IOException;
+import java.net.URISyntaxException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Test;
+
+/**
+ * The compare statistics against NumPy/SciPy on committed inputs (tools/golden/make_compare.py):
+ * MMD^2_u and its permutation p-value over the same fixed permutation list (Gretton et al., JMLR
+ * 2012, eq. 3; p-value rule of Phipson &amp; Smyth 2010), the median heuristic ({@code np.median}
+ * of {@code scipy.spatial.distance.pdist}), exact W2 ({@code scipy.optimize.linear_sum_assignment}),
+ * the Frechet distance ({@code scipy.linalg.sqrtm}, {@code np.cov}), z tests ({@code
+ * scipy.stats.norm.sf}) and Benjamini-Hochberg ({@code scipy.stats.false_discovery_control}).
+ */
+class CompareGoldenTest {
+  static Map<String, Double> expected = new HashMap<>();
+  static Permutations fixed;
+  static int permCount;
+
+  @BeforeAll
+  static void load() throws IOException {
+    for (String line : Files.readAllLines(path("expected.txt"))) {
+      String[] kv = line.split(" ");
+      expected.put(kv[0], Double.parseDouble(kv[1]));
+    }
+    FloatSample perms = Compare.readFloats(path("perms.npy"), List.of());
+    permCount = perms.rows();
+    fixed = (p, order) -> {
+      for (int i = 0; i < order.length; i++) order[i] = (int) perms.values()[p * perms.cols() + i];
+    };
+  }
+
+  static Path path(String name) {
+    try {
+      var url = CompareGoldenTest.class.getResource("/golden/compare/" + name);
+      if (url == null) throw new IllegalStateException("missing golden file " + name);
+      return Path.of(url.toURI());
+    } catch (URISyntaxException e) {
+      throw new IllegalStateException(e);
+    }
+  }
+
+  static CodeBlock codes(String name) throws IOException {
+    try (var s = Encoders.codes(path(name), null)) {
+      return Encoders.readAll(s);
+    }
+  }
+
+  static double exp(String key) {
+    Double v = expected.get(key);
+    if (v == null) throw new IllegalStateException("no expected value " + key);
+    return v;
+  }
+
+  @Test
+  void mmdAndPermutationPValuesMatchNumPy() throws IOException {
+    CodeBlock a = codes("codes_a.npy");
+    for (String other : List.of("codes_b.npy", "codes_c.npy")) {
+      String pre = other.equals("codes_b.npy") ? "" : "null.";
+      CodeBlock b = codes(other);
+      CodeBlock pooled = a.concat(b);
+      PermutationTest agree = new AgreementMmd(pooled, a.size()).test(new int[][] {{0, 70}}, fixed, permCount, 2)[0];
+      assertThat(agree.statistic()).as(pre + "agreement").isCloseTo(exp(pre + "agreement.mmd2"), within(1e-12));
+      assertThat(agree.pValue()).as(pre + "agreement p").isEqualTo(exp(pre + "agreement.p"));
+
+      PairDistances d = new PairDistances(pooled, a.size(), 1);
+      double sigma = d.median(0);
+      assertThat(sigma).isEqualTo(exp(pre + "exponential.sigma"));
+      PermutationTest e = d.kernel(x -> Math.exp(-x / sigma)).test(a.size(), fixed, permCount, 3);
+      assertThat(e.statistic()).as(pre + "exponential").isCloseTo(exp(pre + "exponential.mmd2"), within(1e-12));
+      assertThat(d.mmd2(0, x -> Math.exp(-x / sigma))).isCloseTo(exp(pre + "exponential.mmd2"), within(1e-12));
+      assertThat(e.pValue()).as(pre + "exponential p").isEqualTo(exp(pre + "exponential.p"));
+      // the agreement kernel through the matrix gives the same as through per-bit counts
+      PermutationTest viaMatrix = d.kernel(x -> 1 - x / 70.0).test(a.size(), fixed, permCount, 1);
+      assertThat(viaMatrix.statistic()).isCloseTo(agree.statistic(), within(1e-12));
+      assertThat(viaMatrix.pValue()).isEqualTo(agree.pValue());
+    }
+  }
+
+  @Test
+  void gaussianMmdAndFrechetMatchSciPy() {
+    FloatSample fa = Compare.readFloats(path("floats_a.npy"), List.of()), fb = Compare.readFloats(path("floats_b.npy"), List.of());
+    GaussianMmd.Kernel k = GaussianMmd.of(fa.concat(fb), null, 2);
+    assertThat(k.sigma()).isCloseTo(exp("gaussian.sigma"), within(1e-12));
+    PermutationTest t = k.matrix().test(fa.rows(), fixed, permCount, 2);
+    assertThat(t.statistic()).isCloseTo(exp("gaussian.mmd2"), within(1e-12));
+    assertThat(t.pValue()).isEqualTo(exp("gaussian.p"));
+    assertThat(Frechet.squared(fa, fb)).isCloseTo(exp("frechet"), within(1e-9 * exp("frechet")));
+  }
+
+  @Test
+  void exactW2MatchesLinearSumAssignment() throws IOException {
+    for (String name : List.of("w_small", "w_large")) {
+      Wasserstein.Result r = Wasserstein.exact(codes(name + "_a.npy"), codes(name + "_b.npy"), 2);
+      assertThat(r.w2()).as(name).isCloseTo(exp(name + ".w2"), within(1e-12));
+      assertThat(r.method()).isEqualTo(Wasserstein.Method.EXACT);
+    }
+  }
+
+  @Test
+  void firingRateTestsAndBenjaminiHochbergMatchSciPy() throws IOException {
+    FiringRates.Result r = FiringRates.of(codes("codes_a.npy"), codes("codes_b.npy"));
+    for (int i = 0; i < 70; i++) {
+      assertThat(r.z()[i]).as("z " + i).isCloseTo(exp("neuron." + i + ".z"), within(1e-12));
+      // Numerical Recipes' erfc: fractional error below 1.2e-7
+      assertThat(r.p()[i]).as("p " + i).isCloseTo(exp("neuron." + i + ".p"), within(2e-7 * exp("neuron." + i + ".p") + 1e-300));
+      assertThat(r.q()[i]).as("q " + i).isCloseTo(exp("neuron." + i + ".q"), within(2e-7 * exp("neuron." + i + ".q") + 1e-300));
+    }
+  }
+
+  @Test
+  void normalTailMatchesSciPy() {
+    for (double z : new double[] {0.0, 0.5, 1.0, 1.959963984540054, 3.0, 5.0, 8.0}) {
+      double want = exp("normal.two_sided." + z);
+      assertThat(Normal.twoSided(z)).as("z=" + z).isCloseTo(want, within(1.2e-7 * want));
+    }
+  }
+}
