@@ -119,6 +119,7 @@ public final class ClusterDupes {
       return join(spark, jsc, in, p, log, persisted, started);
     } finally {
       spark.conf().set("spark.sql.shuffle.partitions", shufflePartitions);
+      jsc.setJobDescription(null); // a thread-local property: do not label the caller's later jobs
       in.release();
       for (Object o : persisted) {
         if (o instanceof JavaRDD<?> r) r.unpersist(false);

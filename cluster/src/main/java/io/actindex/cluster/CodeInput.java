@@ -108,16 +108,9 @@ abstract sealed class CodeInput {
     return words;
   }
 
-  /** Text for messages: at most 60 characters, control characters escaped. */
+  /** A value from the input for a one-line message (the project's one escaping routine). */
   static String snippet(Object value) {
-    String s = String.valueOf(value);
-    StringBuilder b = new StringBuilder();
-    for (int i = 0; i < s.length() && b.length() < 60; i++) {
-      char c = s.charAt(i);
-      if (c < 0x20 || c == 0x7f) b.append(String.format("\\u%04x", (int) c));
-      else b.append(c);
-    }
-    return b.length() < s.length() ? b + "..." : b.toString();
+    return BadInputException.snippet(String.valueOf(value), 60);
   }
 
   // ---------------------------------------------------------------------------------- .npy shards

@@ -53,8 +53,7 @@ public final class Main {
   }
 
   static String oneLine(String s) {
-    String t = String.valueOf(s).replace("\r", "\\r").replace("\n", "\\n").replace("\t", " ");
-    return t.length() > 2000 ? t.substring(0, 2000) + "..." : t;
+    return BadInputException.snippet(String.valueOf(s), 2000);
   }
 
   static final class Version implements CommandLine.IVersionProvider {
