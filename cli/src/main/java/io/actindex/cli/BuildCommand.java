@@ -48,6 +48,12 @@ final class BuildCommand implements Callable<Integer> {
       description = "A neuron is on when its activation is above its median over the build data (for non-ReLU activations).")
   boolean median;
 
+  @Option(names = "--magnitudes", paramLabel = "BITS|off",
+      description = {"Keep each example's activations beside its code, quantised to BITS (8, 4 or 2) per unit with a per-unit"
+          + " offset and step, for nearest --refine and fidelity; off keeps codes only.",
+          "Default: 8 for activations and inputs (one byte per unit), off for codes."})
+  String magnitudes;
+
   @Mixin LayersOption layers;
   @Mixin FormatOption format;
 
@@ -65,12 +71,25 @@ final class BuildCommand implements Callable<Integer> {
       throw new ParameterException(spec.commandLine(), "--layer-order: empty layer name in " + layerOrder);
     EncodeOptions encode = new EncodeOptions(rule, threshold == null ? 0 : threshold, layers.layers).withModel(layerOrder, !noOutputLayer);
     IndexBuilder.BuildParams params = new IndexBuilder.BuildParams(out, source.toSource(model), source.metaOptions(), encode,
-        source.codeLayout(), 0);
+        source.codeLayout(), 0, magnitudeBits());
     IndexBuilder.Result result;
     try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "encoding rows")) {
       result = IndexBuilder.build(params, bar);
     }
     Summaries.written(spec.commandLine().getOut(), spec.commandLine().getErr(), format.format, "built", out, result);
     return ExitCodes.OK;
+  }
+
+  /** --magnitudes as bits: -1 = the default, 0 = off. */
+  private int magnitudeBits() {
+    if (magnitudes == null) return -1;
+    return switch (magnitudes.trim().toLowerCase(java.util.Locale.ROOT)) {
+      case "off", "0" -> 0;
+      case "2" -> 2;
+      case "4" -> 4;
+      case "8" -> 8;
+      default -> throw new ParameterException(spec.commandLine(), "--magnitudes must be 8, 4, 2 or off, got '"
+          + (magnitudes.length() > 20 ? magnitudes.substring(0, 20) + "..." : magnitudes) + "'");
+    };
   }
 }

@@ -27,6 +27,9 @@ final class InfoCommand implements Callable<Integer> {
   @Mixin IndexOption index;
   @Mixin FormatOption format;
 
+  /** Bits per kept magnitude when every segment keeps them, else 0. */
+  private int magnitudeBits;
+
   @Override
   public Integer call() {
     IndexInfo info;
@@ -34,6 +37,7 @@ final class InfoCommand implements Callable<Integer> {
     try (IndexReader reader = IndexReader.open(index.dir)) {
       info = reader.info();
       props = new TreeMap<>(reader.properties());
+      magnitudeBits = reader.hasMagnitudes() ? reader.magnitudeBits() : 0;
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
@@ -58,8 +62,13 @@ final class InfoCommand implements Callable<Integer> {
         .member("max_id", info.maxId())
         .member("live", info.liveCount())
         .member("deleted", info.maxId() - info.liveCount())
-        .member("bytes_on_disk", info.bytesOnDisk())
-        .name("segments").beginArray();
+        .member("bytes_on_disk", info.bytesOnDisk());
+    if (magnitudeBits == 0) j.name("magnitudes").nullValue();
+    else j.name("magnitudes").beginObject()
+        .member("bits", magnitudeBits)
+        .member("bytes_per_example", io.actindex.index.store.Magnitudes.rowBytes(info.layout().bits(), magnitudeBits))
+        .endObject();
+    j.name("segments").beginArray();
     for (IndexInfo.SegmentInfo s : info.segments()) {
       j.beginObject()
           .member("segment", s.segmentId())
@@ -130,6 +139,9 @@ final class InfoCommand implements Callable<Integer> {
     out.println("examples:  " + info.liveCount() + " live, " + (info.maxId() - info.liveCount()) + " deleted (ids 0.."
         + (info.maxId() - 1) + ")");
     out.println("on disk:   " + Units.bytes(info.bytesOnDisk()) + ", generation " + info.generation());
+    out.println("magnitudes: " + (magnitudeBits == 0 ? "none kept (nearest --refine needs them; see build --magnitudes)"
+        : magnitudeBits + " bits per unit, " + io.actindex.index.store.Magnitudes.rowBytes(info.layout().bits(), magnitudeBits)
+            + " bytes per example, beside the codes (" + (info.layout().bits() + 7) / 8 + " bytes)"));
     out.println();
     out.println("segments:");
     TextTable t = new TextTable(List.of("segment", "ids", "count", "deleted", "size", "constant bits dropped", "search plan"));

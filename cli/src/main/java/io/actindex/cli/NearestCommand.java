@@ -6,6 +6,8 @@ import io.actindex.cli.format.TextTable;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Nearest;
 import io.actindex.query.QueryCodes;
+import io.actindex.query.QuerySource;
+import io.actindex.query.Refine;
 import java.io.PrintWriter;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
@@ -25,7 +27,9 @@ import picocli.CommandLine.Spec;
     description = {"For each query, the k indexed examples nearest by Hamming distance between codes (exact; ties by ascending id).",
         "Shows per-layer distances, key, label, split and metadata, and the neighbours' label vote.",
         "The vote counts every example within the k-th distance, also those tied with the k-th but not listed (--vote-ties).",
-        "The vote is a heuristic from neighbours in code space, not a calibrated guarantee."})
+        "The vote is a heuristic from neighbours in code space, not a calibrated guarantee.",
+        "With --refine, the C nearest by Hamming distance (and all tied with the C-th) are re-ranked by cosine or Euclidean"
+            + " distance on the magnitudes the index keeps; the output then gives both distances."})
 final class NearestCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -51,6 +55,15 @@ final class NearestCommand implements Callable<Integer> {
           "exclude: only the first K by (distance, id). Default: ${DEFAULT-VALUE}."})
   VoteTies voteTies;
 
+  @Option(names = "--refine", paramLabel = "METRIC",
+      description = "Re-rank the Hamming candidates by cosine or euclidean distance between the query's activations and the"
+          + " examples' kept magnitudes (index built with --magnitudes; queries from --activations or --inputs).")
+  String refine;
+
+  @Option(names = "--candidates", paramLabel = "C",
+      description = "With --refine: Hamming candidates to re-rank (all rows tied with the C-th distance are added). Default: max(100, K).")
+  Integer candidates;
+
   @Mixin LayersOption layers;
   @Mixin FormatOption format;
   @Mixin ThreadsOption threads;
@@ -59,22 +72,50 @@ final class NearestCommand implements Callable<Integer> {
   public Integer call() {
     query.check();
     if (k < 1) throw new ParameterException(spec.commandLine(), "-k must be at least 1, got " + k);
+    if (candidates != null && refine == null) throw new ParameterException(spec.commandLine(), "--candidates goes with --refine");
+    if (candidates != null && candidates < k)
+      throw new ParameterException(spec.commandLine(), "--candidates must be at least 1 and at least -k (" + k + "), got " + candidates);
+    if (refine != null && ties) throw new ParameterException(spec.commandLine(), "--ties goes with the plain search, not with --refine");
+    Refine.Metric metric;
+    try {
+      metric = refine == null ? null : Refine.Metric.parse(refine);
+    } catch (io.actindex.core.BadInputException e) {
+      throw new ParameterException(spec.commandLine(), "--refine: " + e.getMessage());
+    }
     List<Nearest.Result> results;
+    List<Refine.Result> refined = null;
     try (IndexReader reader = IndexReader.open(index.dir)) {
-      QueryCodes codes = query.load(reader);
-      try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
-        results = Nearest.run(reader, codes, new Nearest.Params(k, where, layers.layers, threads.resolved(), ties,
-            voteTies == VoteTies.include), bar);
+      if (metric == null) {
+        QueryCodes codes = query.load(reader);
+        try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
+          results = Nearest.run(reader, codes, new Nearest.Params(k, where, layers.layers, threads.resolved(), ties,
+              voteTies == VoteTies.include), bar);
+        }
+      } else {
+        if (!reader.hasMagnitudes()) throw new io.actindex.core.BadInputException("--refine: " + Refine.noMagnitudes(reader));
+        QuerySource.Queries queries = query.loadWithActivations(reader);
+        int c = candidates != null ? candidates : Math.max(Refine.DEFAULT_CANDIDATES, k);
+        try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
+          refined = Refine.run(reader, queries, new Refine.Params(k, c, metric, where, layers.layers, threads.resolved()), bar);
+        }
+        results = new ArrayList<>();
+        for (Refine.Result r : refined)
+          results.add(new Nearest.Result(r.row(), r.neighbors().stream().map(Refine.Neighbor::example).toList(), r.vote()));
       }
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
-      case json -> json(out, results);
-      case csv -> csv(out, results);
-      case table -> table(out, results);
+      case json -> json(out, results, refined);
+      case csv -> csv(out, results, refined);
+      case table -> table(out, results, refined);
     }
     out.flush();
     return ExitCodes.OK;
+  }
+
+  /** The refined distance of neighbour {@code i} of query {@code q}, as text ("" without refinement). */
+  private static String refined(List<Refine.Result> refined, int q, int i) {
+    return refined == null ? "" : String.format(java.util.Locale.ROOT, "%.6g", refined.get(q).neighbors().get(i).distance());
   }
 
   /**
@@ -82,16 +123,28 @@ final class NearestCommand implements Callable<Integer> {
    * "distance", ...}], "vote": {"label", "votes", "of", "agreement", "neighbors", "within_distance",
    * "ties_included", "ties_left_out"} or null}]}.
    */
-  private void json(PrintWriter out, List<Nearest.Result> results) {
-    JsonWriter j = new JsonWriter(out).beginObject().member("k", k).name("ties").value(ties).name("results").beginArray();
-    for (Nearest.Result r : results) {
-      j.beginObject().member("query", r.row()).name("neighbors").beginArray();
-      for (Nearest.Neighbor nb : r.neighbors()) {
+  private void json(PrintWriter out, List<Nearest.Result> results, List<Refine.Result> refined) {
+    JsonWriter j = new JsonWriter(out).beginObject().member("k", k).name("ties").value(ties);
+    if (refined != null)
+      j.name("refine").beginObject()
+          .member("metric", Refine.Metric.parse(refine).label())
+          .member("order", "re-ranking of the Hamming candidates by " + Refine.Metric.parse(refine).label()
+              + " distance on the kept magnitudes, not a float search of the whole index")
+          .endObject();
+    j.name("results").beginArray();
+    for (int q = 0; q < results.size(); q++) {
+      Nearest.Result r = results.get(q);
+      j.beginObject().member("query", r.row());
+      if (refined != null) j.member("candidates", refined.get(q).candidates()).member("hamming_radius", refined.get(q).hammingRadius());
+      j.name("neighbors").beginArray();
+      for (int i = 0; i < r.neighbors().size(); i++) {
+        Nearest.Neighbor nb = r.neighbors().get(i);
         j.beginObject()
             .member("id", nb.id())
             .member("key", nb.key())
-            .member("distance", nb.distance())
-            .name("layer_distances").beginObject();
+            .member("distance", nb.distance());
+        if (refined != null) j.member("refined_distance", refined.get(q).neighbors().get(i).distance());
+        j.name("layer_distances").beginObject();
         for (Map.Entry<String, Integer> e : nb.layerDistances().entrySet()) j.member(e.getKey(), e.getValue());
         j.endObject()
             .member("label", nb.label())
@@ -125,20 +178,24 @@ final class NearestCommand implements Callable<Integer> {
     return List.copyOf(names);
   }
 
-  private static void csv(PrintWriter out, List<Nearest.Result> results) {
+  private static void csv(PrintWriter out, List<Nearest.Result> results, List<Refine.Result> refined) {
     List<String> layerNames = layerNames(results), metaNames = metaNames(results);
     List<String> header = new ArrayList<>(List.of("query", "rank", "id", "key", "distance"));
+    if (refined != null) header.add("refined_distance");
     for (String l : layerNames) header.add("distance_" + l);
     header.addAll(List.of("label", "split"));
     header.addAll(metaNames);
     header.addAll(List.of("vote_label", "vote_votes", "vote_of", "vote_agreement", "vote_neighbors", "vote_within_distance",
         "vote_ties_included", "vote_ties_left_out"));
     CsvWriter csv = new CsvWriter(out, header);
-    for (Nearest.Result r : results) {
+    for (int q = 0; q < results.size(); q++) {
+      Nearest.Result r = results.get(q);
       int rank = 1;
       for (Nearest.Neighbor nb : r.neighbors()) {
-        List<String> row = new ArrayList<>(List.of(Long.toString(r.row()), Integer.toString(rank++), Integer.toString(nb.id()),
+        List<String> row = new ArrayList<>(List.of(Long.toString(r.row()), Integer.toString(rank), Integer.toString(nb.id()),
             nb.key(), Integer.toString(nb.distance())));
+        if (refined != null) row.add(refined(refined, q, rank - 1));
+        rank++;
         for (String l : layerNames) row.add(str(nb.layerDistances().get(l)));
         row.add(nb.label());
         row.add(nb.split());
@@ -154,7 +211,7 @@ final class NearestCommand implements Callable<Integer> {
     }
   }
 
-  private void table(PrintWriter out, List<Nearest.Result> results) {
+  private void table(PrintWriter out, List<Nearest.Result> results, List<Refine.Result> refined) {
     List<String> layerNames = layerNames(results), metaNames = metaNames(results);
     boolean labels = false, splits = false;
     for (Nearest.Result r : results)
@@ -163,15 +220,21 @@ final class NearestCommand implements Callable<Integer> {
         splits |= nb.split() != null;
       }
     boolean first = true;
-    for (Nearest.Result r : results) {
+    for (int q = 0; q < results.size(); q++) {
+      Nearest.Result r = results.get(q);
       if (!first) out.println();
       first = false;
       StringBuilder head = new StringBuilder("query row " + r.row());
       if (r.neighbors().isEmpty()) head.append(": no example matches");
       else if (r.vote() != null) head.append("  vote: ").append(describe(r.vote(), k));
       out.println(head);
+      if (refined != null)
+        out.println("  order: re-ranked by " + Refine.Metric.parse(refine).label() + " distance on the kept magnitudes among "
+            + refined.get(q).candidates() + " Hamming candidates (Hamming distance <= " + refined.get(q).hammingRadius() + ")");
       if (r.neighbors().isEmpty()) continue;
       List<String> header = new ArrayList<>(List.of("rank", "distance"));
+      if (refined != null) header.set(1, "hamming");
+      if (refined != null) header.add(1, Refine.Metric.parse(refine).label());
       header.addAll(layerNames); // per-layer distances, one column per layer
       header.add("key");
       if (labels) header.add("label");
@@ -180,7 +243,9 @@ final class NearestCommand implements Callable<Integer> {
       TextTable t = new TextTable(header);
       int rank = 1;
       for (Nearest.Neighbor nb : r.neighbors()) {
-        List<String> row = new ArrayList<>(List.of(Integer.toString(rank++), Integer.toString(nb.distance())));
+        List<String> row = new ArrayList<>(List.of(Integer.toString(rank), Integer.toString(nb.distance())));
+        if (refined != null) row.add(1, refined(refined, q, rank - 1));
+        rank++;
         for (String l : layerNames) row.add(str(nb.layerDistances().get(l)));
         row.add(nb.key());
         if (labels) row.add(nb.label());

@@ -57,6 +57,17 @@ public final class QuerySourceOptions {
     return RowRange.parse(rows);
   }
 
+  /** The query codes and activations (for refinement), with a progress bar on a terminal. */
+  QuerySource.Queries loadWithActivations(IndexReader reader) {
+    QuerySource.Queries q;
+    try (Progress bar = Progress.onTerminal(mixee.commandLine().getErr(), "encoding queries")) {
+      q = QuerySource.loadWithActivations(reader, toSource(), range(), bar);
+    }
+    for (String n : q.codes().notes()) mixee.commandLine().getErr().println(n);
+    mixee.commandLine().getErr().flush();
+    return q;
+  }
+
   /**
    * The query codes, encoded as the index was built, with a progress bar on a terminal; how the
    * file was read (e.g. the CSV header decision) goes to stderr.

@@ -32,6 +32,14 @@ final class Summaries {
             .member("first_id", r.firstId())
             .member("layout", r.layout().toString())
             .member("bits", r.layout().bits());
+        if (r.magnitudes() == null) j.name("magnitudes").nullValue();
+        else j.name("magnitudes").beginObject()
+            .member("bits", r.magnitudes().bits())
+            .member("bytes_per_example", r.magnitudes().bytesPerExample())
+            .member("max_abs_error", r.magnitudes().maxAbsError())
+            .member("rms_error", r.magnitudes().rmsError())
+            .member("relative_rms_error", r.magnitudes().relativeRmsError())
+            .endObject();
         if (r.encode() != null && r.encode().layerOrder() != null) {
           List<String> order = r.encode().layerOrder();
           strings(j.name("layer_order"), order);
@@ -47,8 +55,15 @@ final class Summaries {
       case csv -> new CsvWriter(out, List.of("index", "rows", "first_id", "layout", "bits"))
           .row(List.of(dir.toString(), Integer.toString(r.rows()), first, r.layout().toString(),
               Integer.toString(r.layout().bits())));
-      case table -> out.println(verb + " " + dir + ": " + r.rows() + " examples (ids " + first + ".." + last + "), layout "
-          + r.layout() + " (" + r.layout().bits() + " bits)");
+      case table -> {
+        out.println(verb + " " + dir + ": " + r.rows() + " examples (ids " + first + ".." + last + "), layout "
+            + r.layout() + " (" + r.layout().bits() + " bits)");
+        IndexBuilder.Quantisation q = r.magnitudes();
+        if (q != null)
+          out.printf(java.util.Locale.ROOT, "kept magnitudes: %d bits per unit, %d bytes per example; against float32: largest error %.3g,"
+              + " RMS error %.3g (%.2f%% of the values' RMS)%n", q.bits(), q.bytesPerExample(), q.maxAbsError(), q.rmsError(),
+              100 * q.relativeRmsError());
+      }
     }
     out.flush();
   }

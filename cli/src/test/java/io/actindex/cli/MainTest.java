@@ -10,7 +10,7 @@ import picocli.CommandLine;
 
 /** Parsing, help, version and exit codes that need no index. */
 class MainTest {
-  static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare");
+  static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare", "fidelity");
 
   @Test
   void everyContractCommandIsRegistered() {

@@ -22,6 +22,8 @@ final class ActivationCodeStream implements CodeStream {
   private final int chunkRows;
   private final float[][] f;
   private final double[][] d;
+  private int lastRows;
+  private float[] activations;
 
   ActivationCodeStream(LayerSource.Opener opener, EncodeOptions o) throws IOException {
     if (o.rule() == BinarizeRule.MEDIAN && o.medians() == null) {
@@ -98,7 +100,24 @@ final class ActivationCodeStream implements CodeStream {
     }
     CodeBlock block = new CodeBlock(layout, m, out);
     stats.add(block);
+    lastRows = m;
+    activations = null;
     return block;
+  }
+
+  @Override
+  public float[] lastActivations() {
+    if (activations != null || lastRows == 0) return activations;
+    int bits = layout.bits();
+    float[] a = new float[lastRows * bits];
+    for (int i = 0; i < widths.length; i++) {
+      int start = layout.start(i), w = widths[i];
+      for (int r = 0; r < lastRows; r++) {
+        if (src.floats(i)) System.arraycopy(f[i], r * w, a, r * bits + start, w);
+        else for (int c = 0; c < w; c++) a[r * bits + start + c] = (float) d[i][r * w + c];
+      }
+    }
+    return activations = a;
   }
 
   @Override

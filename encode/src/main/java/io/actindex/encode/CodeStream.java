@@ -29,6 +29,15 @@ public interface CodeStream extends AutoCloseable {
   }
 
   /**
+   * The activations the last chunk of {@link #next} was binarized from, row-major, one value per
+   * code bit in layout order (rows {@code 0..chunk size-1}); null for pre-binarized codes. The
+   * array is the stream's own, valid until the next call of {@code next}.
+   */
+  default float[] lastActivations() {
+    return null;
+  }
+
+  /**
    * How the input was read and interpreted, one line each: a CSV header decision, a model's layer
    * order, code layers and output layer. Empty by default.
    */

@@ -23,9 +23,11 @@ final class Encoding {
 
   /**
    * The codes read, the encoding options in force (medians and a model's layer order filled in;
-   * null for a codes file), and how the input was read ({@link CodeStream#notes()}).
+   * null for a codes file), how the input was read ({@link CodeStream#notes()}), and, when asked
+   * for, the activations the codes came from (row-major, one value per code bit of the source
+   * layout; null for a codes file or when not asked for).
    */
-  record Read(CodeBlock codes, EncodeOptions options, java.util.List<String> notes) {}
+  record Read(CodeBlock codes, EncodeOptions options, java.util.List<String> notes, float[] activations) {}
 
   /** A model for inputs: a file the user gave, or the bytes an index stores (named for messages). */
   record Model(Path file, String name, byte[] bytes) {
@@ -40,11 +42,18 @@ final class Encoding {
    */
   static Read read(Source source, Model model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
       int chunk, Progress progress) {
+    return read(source, model, options, codesLayout, range, chunk, progress, false);
+  }
+
+  /** As above; with {@code activations} the floats of the kept rows are kept too (4 bytes per value). */
+  static Read read(Source source, Model model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
+      int chunk, Progress progress, boolean activations) {
     try (CodeStream stream = open(source, model, options, codesLayout)) {
       long total = stream.rows();
       CodeLayout layout = stream.layout();
-      int w = layout.words();
+      int w = layout.words(), d = layout.bits();
       long[] buf = new long[w * 1024];
+      float[] act = activations && source.kind() != Source.Kind.CODES ? new float[d * 1024] : null;
       int kept = 0;
       long row = 0;
       progress.update(0, total);
@@ -52,12 +61,17 @@ final class Encoding {
         if (!block.layout().equals(layout))
           throw new IllegalStateException(source.file() + ": the encoder changed layout mid-stream: " + layout + " then " + block.layout());
         long[] words = block.words();
+        float[] values = act == null ? null : stream.lastActivations();
         for (int i = 0; i < block.size(); i++, row++) {
           if (!range.contains(row)) continue;
-          if ((long) (kept + 1) * w > Integer.MAX_VALUE - 16)
+          if ((long) (kept + 1) * w > Integer.MAX_VALUE - 16 || (act != null && (long) (kept + 1) * d > Integer.MAX_VALUE - 16))
             throw new BadInputException(source.file() + ": too many rows to hold as one block (" + row + ")");
           if ((kept + 1) * w > buf.length) buf = Arrays.copyOf(buf, Math.max((kept + 1) * w, buf.length * 2));
           System.arraycopy(words, i * w, buf, kept * w, w);
+          if (act != null) {
+            if ((kept + 1) * d > act.length) act = Arrays.copyOf(act, (int) Math.min(Integer.MAX_VALUE - 16, Math.max((long) (kept + 1) * d, act.length * 2L)));
+            System.arraycopy(values, i * d, act, kept * d, d);
+          }
           kept++;
         }
         progress.update(row, total);
@@ -65,7 +79,8 @@ final class Encoding {
       }
       if ((range.to() != -1 && row < range.to()) || (range.from() > 0 && range.from() >= row))
         throw new BadInputException(source.file() + ": rows " + range + " asked, the file has " + row + " rows");
-      return new Read(new CodeBlock(layout, kept, Arrays.copyOf(buf, kept * w)), stream.options(), stream.notes());
+      return new Read(new CodeBlock(layout, kept, Arrays.copyOf(buf, kept * w)), stream.options(), stream.notes(),
+          act == null ? null : Arrays.copyOf(act, kept * d));
     } catch (IOException e) {
       throw new UncheckedIOException(source.file() + ": " + e.getMessage(), e);
     }

@@ -7,6 +7,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
+import io.actindex.index.store.Magnitudes;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -29,16 +30,38 @@ public final class IndexBuilder {
   private IndexBuilder() {}
 
   /**
+   * Bits per kept magnitude when a build does not say: 8 (one byte per unit; measured on the UCI
+   * digits MLP, refined 1-NN accuracy matched full float cosine, see docs/commands/nearest.md).
+   */
+  public static final int DEFAULT_MAGNITUDE_BITS = 8;
+
+  /** Index property: bits per kept magnitude ({@code 0} = none kept). */
+  public static final String MAGNITUDES = "build.magnitudes.bits";
+
+  /**
    * A new index in {@code dir} (absent or empty). {@code encode.layers()} are the layers to keep
    * (null = all); {@code codesLayout} tells the layout of a codes file when the file cannot (packed
-   * bits), else null; {@code meta} may be null; {@code chunkRows <= 0} means the default.
+   * bits), else null; {@code meta} may be null; {@code chunkRows <= 0} means the default;
+   * {@code magnitudeBits} (2, 4 or 8; 0 = none) keeps each example's activations quantised beside
+   * its code (activations and inputs only; a codes source keeps none), -1 = the default.
    */
   public record BuildParams(Path dir, Source source, MetaCsv.Options meta, EncodeOptions encode, CodeLayout codesLayout,
-      int chunkRows) {
+      int chunkRows, int magnitudeBits) {
     public BuildParams {
       java.util.Objects.requireNonNull(dir, "dir");
       java.util.Objects.requireNonNull(source, "source");
       if (encode == null) encode = new EncodeOptions(BinarizeRule.POSITIVE, 0, null);
+      if (magnitudeBits < 0) magnitudeBits = source.kind() == Source.Kind.CODES ? 0 : DEFAULT_MAGNITUDE_BITS;
+      if (magnitudeBits != 0 && !Magnitudes.supported(magnitudeBits))
+        throw new BadInputException("bits per kept magnitude must be 2, 4 or 8 (or off), got " + magnitudeBits);
+      if (magnitudeBits != 0 && source.kind() == Source.Kind.CODES)
+        throw new BadInputException(source.file() + ": codes carry no magnitudes to keep; build from activations or a model's inputs");
+    }
+
+    /** With the default magnitudes. */
+    public BuildParams(Path dir, Source source, MetaCsv.Options meta, EncodeOptions encode, CodeLayout codesLayout,
+        int chunkRows) {
+      this(dir, source, meta, encode, codesLayout, chunkRows, -1);
     }
 
     public BuildParams(Path dir, Source source, MetaCsv.Options meta) {
@@ -57,15 +80,48 @@ public final class IndexBuilder {
   /**
    * What was written: ids {@code [firstId, firstId + rows)} in the layout {@code layout}; {@code
    * notes} say how the source was read (CSV header decision, a model's layer order, code layers
-   * and output layer); {@code encode} are the options in force (null for a codes file).
+   * and output layer); {@code encode} are the options in force (null for a codes file);
+   * {@code magnitudes} says how the kept magnitudes compare with the float32 activations (null
+   * when none were kept).
    */
-  public record Result(int firstId, int rows, CodeLayout layout, List<String> notes, EncodeOptions encode) {
+  public record Result(int firstId, int rows, CodeLayout layout, List<String> notes, EncodeOptions encode,
+      Quantisation magnitudes) {
     public Result {
       notes = notes == null ? List.of() : List.copyOf(notes);
     }
 
+    public Result(int firstId, int rows, CodeLayout layout, List<String> notes, EncodeOptions encode) {
+      this(firstId, rows, layout, notes, encode, null);
+    }
+
     public Result(int firstId, int rows, CodeLayout layout) {
-      this(firstId, rows, layout, null, null);
+      this(firstId, rows, layout, null, null, null);
+    }
+  }
+
+  /**
+   * Kept magnitudes against the float32 activations they came from: bits per value, bytes per
+   * example of the stored rows, the largest absolute error of one value, the root-mean-square
+   * error, and that RMS error relative to the RMS of the values.
+   */
+  public record Quantisation(int bits, int bytesPerExample, double maxAbsError, double rmsError, double relativeRmsError) {
+    /** Compares {@code m} with the {@code values} it was quantised from. */
+    public static Quantisation of(Magnitudes m, float[] values) {
+      int d = m.units();
+      float[] row = new float[d];
+      double max = 0, sq = 0, norm = 0;
+      for (int i = 0; i < m.count(); i++) {
+        m.dequantise(i, row, 0);
+        for (int j = 0; j < d; j++) {
+          double v = values[i * d + j], e = Math.abs(row[j] - v);
+          max = Math.max(max, e);
+          sq += e * e;
+          norm += v * v;
+        }
+      }
+      long count = Math.max(1, (long) m.count() * d);
+      return new Quantisation(m.bits(), Magnitudes.rowBytes(d, m.bits()), max, Math.sqrt(sq / count),
+          norm == 0 ? 0 : Math.sqrt(sq / norm));
     }
   }
 
@@ -74,28 +130,34 @@ public final class IndexBuilder {
       throw new BadInputException(p.source().file() + ": building from inputs needs a model file");
     checkEmptyOrAbsent(p.dir());
     Encoding.Read read = Encoding.read(p.source(), Encoding.Model.of(p.source().model()), p.encode(), p.codesLayout(), RowRange.ALL,
-        chunk(p.chunkRows()), orNone(progress));
+        chunk(p.chunkRows()), orNone(progress), p.magnitudeBits() > 0);
     CodeBlock raw = read.codes();
     CodeBlock codes = keepLayers(raw, p.encode().layers());
     if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
+    float[] values = read.activations() == null ? null
+        : Layers.pickColumns(read.activations(), raw.size(), raw.layout().bits(), Layers.columns(raw.layout(), codes.layout()));
+    Magnitudes mags = values == null ? null : Magnitudes.quantise(values, codes.size(), codes.layout().bits(), p.magnitudeBits());
     List<Map<String, String>> meta = readMeta(p.meta(), codes.size(), p.source());
     byte[] model = p.source().kind() == Source.Kind.INPUTS ? readAll(p.source().model()) : null;
     // the options in force (per-neuron medians filled in) are what later queries must use
     EncodeOptions used = read.options() != null ? read.options() : p.encode();
     BuildInfo info = new BuildInfo(p.source().kind(), raw.layout(), model != null, used);
+    Map<String, String> props = new java.util.HashMap<>(info.toProperties());
+    props.put(MAGNITUDES, Integer.toString(mags == null ? 0 : mags.bits()));
 
     boolean existed = Files.exists(p.dir());
     IndexWriter created;
     try {
-      created = IndexWriter.create(p.dir(), codes.layout(), info.toProperties());
+      created = IndexWriter.create(p.dir(), codes.layout(), props);
     } catch (RuntimeException e) {
       if (!existed) deleteIfEmpty(p.dir()); // only the empty folder create() may have made
       throw e;
     }
     try (IndexWriter w = created) {
       if (model != null) w.putAttachment(BuildInfo.MODEL, model);
-      int first = w.add(codes, meta);
-      return new Result(first, codes.size(), codes.layout(), read.notes(), read.options());
+      int first = w.add(codes, mags, meta);
+      return new Result(first, codes.size(), codes.layout(), read.notes(), read.options(),
+          mags == null ? null : Quantisation.of(mags, values));
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e);
       throw e;
@@ -107,15 +169,26 @@ public final class IndexBuilder {
     List<Map<String, String>> meta;
     List<String> notes = new ArrayList<>();
     EncodeOptions encode;
+    Magnitudes mags = null;
+    float[] values = null;
     try (IndexReader r = IndexReader.open(p.dir())) {
+      int bits = magnitudeBits(r);
       encode = p.source().kind() == Source.Kind.CODES ? null : BuildInfo.fromProperties(r.properties(), p.dir().toString()).encode();
       if (p.source().kind() == Source.Kind.INPUTS && p.source().model() != null) {
         byte[] stored = r.attachment(BuildInfo.MODEL);
         if (stored != null && !Arrays.equals(stored, readAll(p.source().model())))
           throw new BadInputException(p.source().model() + ": differs from the model the index was built with; leave the model out to use the stored one");
       }
-      codes = QuerySource.encode(r, p.source(), RowRange.ALL, chunk(p.chunkRows()), orNone(progress), "rows to add", notes);
+      if (bits > 0 && p.source().kind() == Source.Kind.CODES)
+        throw new BadInputException(p.source().file() + ": the index keeps magnitudes beside its codes; add activations or inputs, not codes");
+      QuerySource.Encoded enc = QuerySource.encode(r, p.source(), RowRange.ALL, chunk(p.chunkRows()), orNone(progress),
+          "rows to add", notes, bits > 0);
+      codes = enc.codes();
       if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
+      if (bits > 0) {
+        values = enc.activations();
+        mags = Magnitudes.quantise(values, codes.size(), codes.layout().bits(), bits);
+      }
       meta = readMeta(p.meta(), codes.size(), p.source());
       if (meta != null)
         for (int i = 0; i < meta.size(); i++) {
@@ -125,9 +198,22 @@ public final class IndexBuilder {
         }
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
-      int first = w.add(codes, meta);
-      return new Result(first, codes.size(), codes.layout(), notes, encode);
+      int first = w.add(codes, mags, meta);
+      return new Result(first, codes.size(), codes.layout(), notes, encode, mags == null ? null : Quantisation.of(mags, values));
     }
+  }
+
+  /** Bits per kept magnitude of an open index (its build property; 0 = none kept). */
+  public static int magnitudeBits(IndexReader r) {
+    String v = r.properties().get(MAGNITUDES);
+    if (v == null) return 0;
+    try {
+      int bits = Integer.parseInt(v);
+      if (bits == 0 || Magnitudes.supported(bits)) return bits;
+    } catch (NumberFormatException e) {
+      // reported below
+    }
+    throw new BadInputException(r.dir() + ": index property " + MAGNITUDES + " is '" + v + "', expected 0, 2, 4 or 8");
   }
 
   private static CodeBlock keepLayers(CodeBlock raw, List<String> layers) {

@@ -132,6 +132,38 @@ public final class Layers {
         + (source != null && !source.equals(target) ? " or its source layout " + source : ""));
   }
 
+  /**
+   * For each bit of {@code target}, the bit (column) of {@code got} that {@link #align} takes it
+   * from; call {@code align} first, which refuses layouts that do not fit.
+   */
+  static int[] alignColumns(CodeLayout got, CodeLayout target, CodeLayout source) {
+    if (sameShape(got, target)) return java.util.stream.IntStream.range(0, target.bits()).toArray();
+    return columns(source != null && !source.equals(target) && sameShape(got, source) ? source : got, target);
+  }
+
+  /** For each bit of {@code target}, the bit of {@code from} with the same segment name and unit. */
+  static int[] columns(CodeLayout from, CodeLayout target) {
+    int[] cols = new int[target.bits()];
+    int dst = 0;
+    for (CodeLayout.Segment seg : target.segments()) {
+      int s = from.indexOf(seg.name());
+      if (s < 0 || from.segments().get(s).bits() != seg.bits())
+        throw new IllegalArgumentException("layout " + from + " has no segment " + seg.name() + ":" + seg.bits());
+      for (int b = 0; b < seg.bits(); b++) cols[dst + b] = from.start(s) + b;
+      dst += seg.bits();
+    }
+    return cols;
+  }
+
+  /** The columns {@code cols} of {@code n} rows of {@code width} values (row-major). */
+  static float[] pickColumns(float[] values, int n, int width, int[] cols) {
+    if (cols.length == width && java.util.stream.IntStream.range(0, width).allMatch(i -> cols[i] == i)) return values;
+    float[] out = new float[Math.multiplyExact(n, cols.length)];
+    for (int i = 0; i < n; i++)
+      for (int c = 0; c < cols.length; c++) out[i * cols.length + c] = values[i * width + cols[c]];
+    return out;
+  }
+
   private static boolean sameShape(CodeLayout got, CodeLayout want) {
     if (got.bits() != want.bits()) return false;
     if (got.segments().size() == 1) return true;

@@ -13,10 +13,6 @@ import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import java.util.concurrent.ExecutionException;
-import java.util.concurrent.ExecutorService;
-import java.util.concurrent.Executors;
-import java.util.concurrent.Future;
 import org.roaringbitmap.RoaringBitmap;
 
 /**
@@ -91,35 +87,10 @@ public final class Nearest {
     long[] mask = Layers.maskOrNull(layout, p.layers());
     long[][] segMasks = Layers.segmentMasks(layout);
     RoaringBitmap filter = Where.select(reader.meta(), p.where());
-    Progress prog = progress == null ? Progress.NONE : progress;
     int n = queries.size();
     Result[] out = new Result[n];
-    Object lock = new Object();
-    long[] done = {0};
-    java.util.function.IntConsumer one = i -> {
-      out[i] = one(reader, queries.codes().code(i), queries.row(i), p, filter, mask, shown, segMasks);
-      synchronized (lock) {
-        prog.update(++done[0], n);
-      }
-    };
-    if (p.threads() == 1 || n <= 1) {
-      for (int i = 0; i < n; i++) one.accept(i);
-    } else {
-      try (ExecutorService pool = Executors.newFixedThreadPool(Math.min(p.threads(), n))) {
-        List<Future<?>> futures = new ArrayList<>();
-        for (int i = 0; i < n; i++) {
-          int q = i;
-          futures.add(pool.submit(() -> one.accept(q)));
-        }
-        for (Future<?> f : futures) f.get();
-      } catch (InterruptedException e) {
-        Thread.currentThread().interrupt();
-        throw new IllegalStateException("interrupted", e);
-      } catch (ExecutionException e) {
-        if (e.getCause() instanceof RuntimeException re) throw re;
-        throw new IllegalStateException(e.getCause());
-      }
-    }
+    Parallel.forEach(n, p.threads(), progress,
+        i -> out[i] = one(reader, queries.codes().code(i), queries.row(i), p, filter, mask, shown, segMasks));
     return List.of(out);
   }
 
@@ -129,25 +100,27 @@ public final class Nearest {
     Hits group = withTies(reader, q, k, filter, mask);
     int first = Math.min(k, group.size());
     int listed = p.ties() ? group.size() : first;
-    CodeLayout layout = reader.layout();
     MetaStore meta = reader.meta();
     List<Neighbor> list = new ArrayList<>(listed);
-    for (int h = 0; h < listed; h++) {
-      int id = group.ord(h);
-      long[] code = reader.code(id);
-      Map<String, Integer> perLayer = new LinkedHashMap<>();
-      for (int s : shown)
-        perLayer.put(layout.segments().get(s).name(), Hamming.maskedDistance(q, 0, code, 0, segMasks[s], q.length));
-      Map<String, String> doc = new LinkedHashMap<>(meta.document(id));
-      String key = doc.remove("key"), label = doc.remove("label"), split = doc.remove("split");
-      doc.remove("id");
-      list.add(new Neighbor(id, key, group.dist(h), perLayer, label, split, doc));
-    }
+    for (int h = 0; h < listed; h++) list.add(neighbor(reader, q, group.ord(h), group.dist(h), shown, segMasks));
     int counted = p.voteOverTies() ? group.size() : first;
     List<String> voteLabels = new ArrayList<>(counted);
     for (int h = 0; h < counted; h++) voteLabels.add(h < listed ? list.get(h).label() : label(meta, group.ord(h)));
     Vote vote = vote(voteLabels, Arrays.copyOf(group.dists(), counted), counted > k, group.size() - counted);
     return new Result(row, List.copyOf(list), vote);
+  }
+
+  /** Live id {@code id} at Hamming distance {@code distance} from {@code q}, with its metadata. */
+  static Neighbor neighbor(IndexReader reader, long[] q, int id, int distance, int[] shown, long[][] segMasks) {
+    CodeLayout layout = reader.layout();
+    long[] code = reader.code(id);
+    Map<String, Integer> perLayer = new LinkedHashMap<>();
+    for (int s : shown)
+      perLayer.put(layout.segments().get(s).name(), Hamming.maskedDistance(q, 0, code, 0, segMasks[s], q.length));
+    Map<String, String> doc = new LinkedHashMap<>(reader.meta().document(id));
+    String key = doc.remove("key"), label = doc.remove("label"), split = doc.remove("split");
+    doc.remove("id");
+    return new Neighbor(id, key, distance, perLayer, label, split, doc);
   }
 
   /**

@@ -28,9 +28,34 @@ public final class QuerySource {
     return new QueryCodes(codes, range.from(), notes);
   }
 
+  /**
+   * Query codes and the activations they came from (row-major, one value per bit of the index
+   * layout), for refinement by kept magnitudes. A codes source has no activations: refused.
+   */
+  public record Queries(QueryCodes codes, float[] activations) {}
+
+  /** As {@link #load}, keeping the query activations; a codes source is a {@link BadInputException}. */
+  public static Queries loadWithActivations(IndexReader reader, Source source, RowRange rows, Progress progress) {
+    if (source.kind() == Source.Kind.CODES)
+      throw new BadInputException(source.file() + ": refinement needs the queries' activations (--activations) or inputs (--inputs), not codes");
+    RowRange range = rows == null ? RowRange.ALL : rows;
+    java.util.List<String> notes = new java.util.ArrayList<>();
+    Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, true);
+    return new Queries(new QueryCodes(e.codes(), range.from(), notes), e.activations());
+  }
+
+  /** Codes in the index layout and, when asked for, their activations aligned to the same columns. */
+  record Encoded(CodeBlock codes, float[] activations) {}
+
   /** Encodes {@code source} with the index's stored options and aligns it to the index layout. */
   static CodeBlock encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
       java.util.List<String> notes) {
+    return encode(reader, source, range, chunk, progress, what, notes, false).codes();
+  }
+
+  /** As above, keeping the activations (null for a codes source) when {@code activations}. */
+  static Encoded encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
+      java.util.List<String> notes, boolean activations) {
     BuildInfo info = BuildInfo.fromProperties(reader.properties(), "index");
     CodeLayout target = reader.layout();
     Encoding.Model model = Encoding.Model.of(source.model());
@@ -43,9 +68,14 @@ public final class QuerySource {
     // a codes file is read in the layout the index was built from when that was a codes file too
     CodeLayout codesLayout = source.kind() != Source.Kind.CODES ? null
         : info.kind() == Source.Kind.CODES ? info.sourceLayout() : target;
-    Encoding.Read read = Encoding.read(source, model, info.encode(), codesLayout, range, chunk, progress == null ? Progress.NONE : progress);
+    Encoding.Read read = Encoding.read(source, model, info.encode(), codesLayout, range, chunk,
+        progress == null ? Progress.NONE : progress, activations);
     // notes about the file itself (its CSV header); the model's layers were reported at build
     for (String n : read.notes()) if (n.startsWith(source.file() + ":")) notes.add(n);
-    return Layers.align(read.codes(), target, info.sourceLayout(), source.file().toString());
+    CodeBlock raw = read.codes();
+    CodeBlock codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString());
+    float[] values = read.activations() == null ? null : Layers.pickColumns(read.activations(), raw.size(), raw.layout().bits(),
+        Layers.alignColumns(raw.layout(), target, info.sourceLayout()));
+    return new Encoded(codes, values);
   }
 }

@@ -238,4 +238,71 @@ class IndexBuilderTest {
       throw new UncheckedIOException(new IOException(e));
     }
   }
+
+  /**
+   * A model build that keeps only layer "2" keeps that layer's magnitudes, and query activations
+   * come out in the same columns: both checked against the forward pass computed here (ReLU of
+   * W x + b, float weights), within half a quantisation step.
+   */
+  @Test
+  void keptMagnitudesFollowTheKeptLayers() {
+    java.util.SplittableRandom rnd = new java.util.SplittableRandom(Randoms.seed(21));
+    int in = 5, h1 = 7, h2 = 6, out = 3, n = 80;
+    float[] w0 = new float[h1 * in], b0 = new float[h1], w2 = new float[h2 * h1], b2 = new float[h2], w4 = new float[out * h2];
+    for (float[] a : List.of(w0, b0, w2, b2, w4)) for (int i = 0; i < a.length; i++) a[i] = (float) rnd.nextGaussian();
+    Map<String, TestFiles.Tensor> t = new java.util.LinkedHashMap<>();
+    t.put("0.weight", new TestFiles.Tensor(new int[] {h1, in}, w0));
+    t.put("0.bias", new TestFiles.Tensor(new int[] {h1}, b0));
+    t.put("2.weight", new TestFiles.Tensor(new int[] {h2, h1}, w2));
+    t.put("2.bias", new TestFiles.Tensor(new int[] {h2}, b2));
+    t.put("4.weight", new TestFiles.Tensor(new int[] {out, h2}, w4));
+    t.put("4.bias", new TestFiles.Tensor(new int[] {out}, new float[out]));
+    Path model = TestFiles.safetensors(tmp.resolve("m.safetensors"), t);
+    float[] x = new float[n * in];
+    for (int i = 0; i < x.length; i++) x[i] = (float) rnd.nextGaussian();
+    Path inputs = TestFiles.npyFloat32(tmp.resolve("x.npy"), n, in, x);
+    double[][] a2 = new double[n][h2];
+    for (int r = 0; r < n; r++) {
+      double[] a1 = new double[h1];
+      for (int u = 0; u < h1; u++) {
+        double s = b0[u];
+        for (int j = 0; j < in; j++) s += (double) w0[u * in + j] * x[r * in + j];
+        a1[u] = Math.max(0, s);
+      }
+      for (int u = 0; u < h2; u++) {
+        double s = b2[u];
+        for (int j = 0; j < h1; j++) s += (double) w2[u * h1 + j] * a1[j];
+        a2[r][u] = Math.max(0, s);
+      }
+    }
+    Path dir = tmp.resolve("idx");
+    IndexBuilder.Result built = IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.inputs(inputs, model), null,
+        new EncodeOptions(BinarizeRule.POSITIVE, 0, List.of("2")), null, 0, 8), null);
+    assertThat(built.layout().toString()).isEqualTo("2:" + h2);
+    assertThat(built.magnitudes().bits()).isEqualTo(8);
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertThat(r.hasMagnitudes()).isTrue();
+      float[] got = new float[h2];
+      QuerySource.Queries q = QuerySource.loadWithActivations(r, Source.inputs(inputs, null), RowRange.parse("10:20"), null);
+      for (int u = 0; u < h2; u++) {
+        double lo = Double.POSITIVE_INFINITY, hi = Double.NEGATIVE_INFINITY;
+        for (double[] row : a2) {
+          lo = Math.min(lo, row[u]);
+          hi = Math.max(hi, row[u]);
+        }
+        double halfStep = (hi - lo) / 255 / 2 + 1e-4;
+        for (int id = 0; id < n; id++) {
+          r.magnitudes(id, got, 0);
+          assertThat((double) got[u]).as("id " + id + " unit " + u).isCloseTo(a2[id][u], org.assertj.core.api.Assertions.within(halfStep));
+        }
+        for (int i = 0; i < 10; i++)
+          assertThat((double) q.activations()[i * h2 + u]).as("query " + i + " unit " + u)
+              .isCloseTo(a2[10 + i][u], org.assertj.core.api.Assertions.within(1e-4));
+      }
+    }
+    // a codes source keeps none, and asking for them is refused
+    assertThatThrownBy(() -> new IndexBuilder.BuildParams(tmp.resolve("c"), Source.codes(inputs), null, null, null, 0, 8))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("codes carry no magnitudes");
+    assertThat(new IndexBuilder.BuildParams(tmp.resolve("c"), Source.codes(inputs), null).magnitudeBits()).isZero();
+  }
 }

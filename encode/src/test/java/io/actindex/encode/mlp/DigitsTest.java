@@ -10,15 +10,8 @@ import io.actindex.encode.io.NpyWriter;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
 import io.actindex.core.ScanSearcher;
-import java.io.BufferedReader;
 import java.io.IOException;
-import java.io.InputStreamReader;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
-import java.util.ArrayList;
-import java.util.List;
-import java.util.SplittableRandom;
-import java.util.zip.GZIPInputStream;
 import org.ejml.data.DMatrixRMaj;
 import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
@@ -43,38 +36,12 @@ class DigitsTest {
 
   @Test
   void trainedMlpCodesClassifyByHammingNearestNeighbour() throws IOException {
-    List<double[]> rows = new ArrayList<>();
-    List<Integer> labels = new ArrayList<>();
-    try (var in = new BufferedReader(new InputStreamReader(
-        new GZIPInputStream(DigitsTest.class.getResourceAsStream("/digits/digits.csv.gz")), StandardCharsets.US_ASCII))) {
-      String line;
-      while ((line = in.readLine()) != null) {
-        String[] f = line.split(",");
-        double[] x = new double[64];
-        for (int j = 0; j < 64; j++) x[j] = Double.parseDouble(f[j]) / 16.0;
-        rows.add(x);
-        labels.add((int) Double.parseDouble(f[64]));
-      }
-    }
-    assertThat(rows).hasSize(1797);
-    int n = rows.size(), nTrain = n * 3 / 4;
-    int[] order = new int[n];
-    for (int i = 0; i < n; i++) order[i] = i;
-    SplittableRandom rnd = new SplittableRandom(2026);
-    for (int i = n - 1; i > 0; i--) {
-      int j = rnd.nextInt(i + 1), t = order[i];
-      order[i] = order[j];
-      order[j] = t;
-    }
-    double[][] x = new double[n][];
-    int[] y = new int[n];
-    for (int i = 0; i < n; i++) {
-      x[i] = rows.get(order[i]);
-      y[i] = labels.get(order[i]);
-    }
-    double[][] xTrain = java.util.Arrays.copyOf(x, nTrain);
-    int[] yTrain = java.util.Arrays.copyOf(y, nTrain);
-    Mlp mlp = MlpTrainer.train(xTrain, yTrain, 10, new MlpTrainer.Config(new int[] {64, 32}, 60, 32, 1e-3, 7));
+    Digits digits = Digits.load();
+    double[][] x = digits.x;
+    int[] y = digits.y;
+    int n = x.length, nTrain = digits.nTrain;
+    assertThat(n).isEqualTo(1797);
+    Mlp mlp = digits.train();
 
     int[] pred = mlp.predict(new DMatrixRMaj(java.util.Arrays.copyOfRange(x, nTrain, n)));
     int correct = 0;

@@ -37,9 +37,11 @@ public final class IndexReader implements AutoCloseable {
   private final Map<String, byte[]> attachments;
   private final MetaStore meta;
   private final int liveCount;
+  private final List<Magnitudes> magnitudes; // per segment, null entries where none are kept
 
   private IndexReader(Path dir, Manifest manifest, List<Segment> segments, RoaringBitmap deleted,
-      Map<String, byte[]> attachments, MetaStore meta) {
+      Map<String, byte[]> attachments, MetaStore meta, List<Magnitudes> magnitudes) {
+    this.magnitudes = java.util.Collections.unmodifiableList(new ArrayList<>(magnitudes));
     this.dir = dir;
     this.manifest = manifest;
     this.segments = List.copyOf(segments);
@@ -80,7 +82,12 @@ public final class IndexReader implements AutoCloseable {
 
   private static IndexReader load(Path dir, long gen, Manifest m, FileSource src) {
     List<Segment> segs = new ArrayList<>();
-    for (Manifest.SegmentEntry e : m.segments()) segs.add(Segment.read(dir, src, m, e));
+    List<Magnitudes> mags = new ArrayList<>();
+    for (Manifest.SegmentEntry e : m.segments()) {
+      segs.add(Segment.read(dir, src, m, e));
+      FileRef ref = m.magnitudes().get(e.segmentId());
+      mags.add(ref == null ? null : Magnitudes.read(dir, src, m, e, ref));
+    }
     RoaringBitmap deleted = Tombstones.read(dir, src, m);
     long stored = 0;
     for (Segment s : segs) stored += s.size();
@@ -102,7 +109,7 @@ public final class IndexReader implements AutoCloseable {
       throw new BadInputException("metadata store " + dir.resolve(IndexWriter.META_DIR) + " has " + meta.numDocs()
           + " documents, " + Manifest.fileName(gen) + " has " + live + " live codes");
     }
-    return new IndexReader(dir, m, segs, deleted, att, meta);
+    return new IndexReader(dir, m, segs, deleted, att, meta, mags);
   }
 
   public CodeLayout layout() {
@@ -158,6 +165,30 @@ public final class IndexReader implements AutoCloseable {
     int s = i >= 0 ? i : -i - 2;
     if (s < 0 || segments.get(s).ord(id) < 0) throw new IllegalStateException("live id " + id + " is in no segment");
     return s;
+  }
+
+  /** True when every segment keeps its examples' {@link Magnitudes} (false for an empty index). */
+  public boolean hasMagnitudes() {
+    return !magnitudes.isEmpty() && !magnitudes.contains(null);
+  }
+
+  /** Bits per kept value of the first segment that keeps magnitudes, or 0 when none does. */
+  public int magnitudeBits() {
+    for (Magnitudes m : magnitudes) if (m != null) return m.bits();
+    return 0;
+  }
+
+  /**
+   * Writes the dequantised magnitudes of live id {@code id} (one value per code bit) to
+   * {@code out[off..]}; false (nothing written) when its segment keeps none.
+   */
+  public boolean magnitudes(int id, float[] out, int off) {
+    if (!isLive(id)) throw new IllegalArgumentException("id " + id + " is not live in index " + dir);
+    int s = segmentOf(id);
+    Magnitudes m = magnitudes.get(s);
+    if (m == null) return false;
+    m.dequantise(segments.get(s).ord(id), out, off);
+    return true;
   }
 
   /** Calls {@code consumer} with every live id in ascending order. */

@@ -32,7 +32,7 @@ import org.roaringbitmap.RoaringBitmap;
 public final class IndexWriter implements AutoCloseable {
   static final String META_DIR = "meta";
   private static final Pattern OWN_FILE =
-      Pattern.compile("manifest-\\d+(\\.tmp)?|seg-\\d+\\.(codes|tables)|tomb-\\d+\\.bits|att-\\d+\\.bin");
+      Pattern.compile("manifest-\\d+(\\.tmp)?|seg-\\d+\\.(codes|tables|mags)|tomb-\\d+\\.bits|att-\\d+\\.bin");
 
   private final Path dir;
   private WriteLock lock;
@@ -116,7 +116,18 @@ public final class IndexWriter implements AutoCloseable {
    * other; {@code meta} null = keys "row-ID") as a new segment and commits. Returns the first id.
    */
   public int add(CodeBlock codes, List<Map<String, String>> rows) {
+    return add(codes, null, rows);
+  }
+
+  /**
+   * As {@link #add(CodeBlock, List)}, keeping {@code magnitudes} (one row per code, one unit per
+   * code bit; null = none) in the segment's {@link Magnitudes} file, committed with the codes.
+   */
+  public int add(CodeBlock codes, Magnitudes magnitudes, List<Map<String, String>> rows) {
     ensureOpen();
+    if (magnitudes != null && (magnitudes.count() != codes.size() || magnitudes.units() != manifest.layout().bits()))
+      throw new IllegalArgumentException(magnitudes.count() + " magnitude rows of " + magnitudes.units() + " units for "
+          + codes.size() + " codes of " + manifest.layout().bits() + " bits");
     if (!codes.layout().equals(manifest.layout()))
       throw new BadInputException("codes have layout " + codes.layout() + ", the index " + dir + " has " + manifest.layout());
     int n = codes.size();
@@ -135,11 +146,14 @@ public final class IndexWriter implements AutoCloseable {
       for (int i = 0; i < n; i++) ids[i] = first + i;
       int segId = manifest.nextSegmentId();
       Manifest.SegmentEntry seg = Segment.write(dir, manifest.uuid(), segId, codes, ids);
+      FileRef mags = magnitudes == null ? null
+          : Magnitudes.write(dir, manifest.uuid(), manifest.layout().hash(), segId, magnitudes);
       meta.add(batch);
       String commit = meta.commit();
       List<Manifest.SegmentEntry> segs = new ArrayList<>(manifest.segments());
       segs.add(seg);
-      publish(manifest.next(end, segId + 1, segs, manifest.tombstones(), manifest.properties(), manifest.attachments(), commit));
+      Manifest next = manifest.next(end, segId + 1, segs, manifest.tombstones(), manifest.properties(), manifest.attachments(), commit);
+      publish(mags == null ? next : next.withMagnitudes(segId, mags));
     });
     return first;
   }
@@ -201,11 +215,29 @@ public final class IndexWriter implements AutoCloseable {
       List<Manifest.SegmentEntry> out = new ArrayList<>();
       int segId = manifest.nextSegmentId();
       if (live > 0) out.add(Segment.write(dir, manifest.uuid(), segId, new CodeBlock(manifest.layout(), live, words), ids));
+      Magnitudes mags = live > 0 ? liveMagnitudes(segs) : null;
+      FileRef magsRef = mags == null ? null : Magnitudes.write(dir, manifest.uuid(), manifest.layout().hash(), segId, mags);
       meta.expungeDeletes();
       String commit = meta.commit();
-      publish(manifest.next(manifest.nextId(), segId + 1, out, manifest.tombstones(), manifest.properties(),
-          manifest.attachments(), commit));
+      Manifest next = manifest.next(manifest.nextId(), segId + 1, out, manifest.tombstones(), manifest.properties(),
+          manifest.attachments(), commit);
+      publish(magsRef == null ? next : next.withMagnitudes(segId, magsRef));
     });
+  }
+
+  /** The live rows' magnitudes of {@code segs} in id order, or null unless every segment keeps them. */
+  private Magnitudes liveMagnitudes(List<Segment> segs) {
+    List<Magnitudes> parts = new ArrayList<>();
+    List<int[]> ords = new ArrayList<>();
+    for (int p = 0; p < segs.size(); p++) {
+      Manifest.SegmentEntry e = manifest.segments().get(p);
+      FileRef ref = manifest.magnitudes().get(e.segmentId());
+      if (ref == null) return null;
+      parts.add(Magnitudes.read(dir, FileSource.DIRECT, manifest, e, ref));
+      Segment s = segs.get(p);
+      ords.add(java.util.stream.IntStream.range(0, s.size()).filter(o -> !deleted.contains(s.id(o))).toArray());
+    }
+    return parts.isEmpty() ? null : Magnitudes.merge(parts, ords);
   }
 
   /** Adds or replaces properties and commits. */

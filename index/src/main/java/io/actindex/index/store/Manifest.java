@@ -40,14 +40,18 @@ import java.util.stream.Stream;
  * int     property count, then (string key, string value) sorted by key
  * int     attachment count, then (string name, FileRef file) sorted by name
  * string  metadata commit: the Lucene segments file (in subfolder meta) this generation uses
+ * version 2 adds:
+ * int     magnitudes count, then (int segmentId, FileRef magnitudes) by ascending segmentId: the
+ *         {@link Magnitudes} file of each listed segment (every segmentId must be a listed segment)
  * </pre>
+ * Version 1 manifests (no magnitudes) are still read.
  */
 public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId, int nextSegmentId,
     List<SegmentEntry> segments, FileRef tombstones, Map<String, String> properties,
-    Map<String, FileRef> attachments, String metaCommit) {
+    Map<String, FileRef> attachments, String metaCommit, Map<Integer, FileRef> magnitudes) {
 
   public static final String CODEC = "actindex.manifest";
-  static final int VERSION_START = 1, VERSION_CURRENT = 1;
+  static final int VERSION_START = 1, VERSION_CURRENT = 2;
   private static final Pattern NAME = Pattern.compile("manifest-(\\d{1,18})");
 
   /** One segment as the manifest lists it. */
@@ -63,13 +67,30 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
     segments = List.copyOf(segments);
     properties = java.util.Collections.unmodifiableMap(new TreeMap<>(properties));
     attachments = java.util.Collections.unmodifiableMap(new TreeMap<>(attachments));
+    magnitudes = java.util.Collections.unmodifiableMap(new TreeMap<>(magnitudes == null ? Map.of() : magnitudes));
   }
 
-  /** A copy with the given changes and generation + 1. */
+  /** A generation without kept magnitudes. */
+  public Manifest(long generation, UUID uuid, CodeLayout layout, int nextId, int nextSegmentId, List<SegmentEntry> segments,
+      FileRef tombstones, Map<String, String> properties, Map<String, FileRef> attachments, String metaCommit) {
+    this(generation, uuid, layout, nextId, nextSegmentId, segments, tombstones, properties, attachments, metaCommit, Map.of());
+  }
+
+  /** The same generation with segment {@code segmentId}'s magnitudes file added. */
+  Manifest withMagnitudes(int segmentId, FileRef ref) {
+    Map<Integer, FileRef> mags = new TreeMap<>(magnitudes);
+    mags.put(segmentId, ref);
+    return new Manifest(generation, uuid, layout, nextId, nextSegmentId, segments, tombstones, properties, attachments,
+        metaCommit, mags);
+  }
+
+  /** A copy with the given changes and generation + 1 (magnitudes kept for the segments that remain). */
   Manifest next(int nextId, int nextSegmentId, List<SegmentEntry> segments, FileRef tombstones,
       Map<String, String> properties, Map<String, FileRef> attachments, String metaCommit) {
+    Map<Integer, FileRef> mags = new TreeMap<>();
+    for (SegmentEntry s : segments) if (magnitudes.containsKey(s.segmentId())) mags.put(s.segmentId(), magnitudes.get(s.segmentId()));
     return new Manifest(generation + 1, uuid, layout, nextId, nextSegmentId, segments, tombstones, properties,
-        attachments, metaCommit);
+        attachments, metaCommit, mags);
   }
 
   public static String fileName(long generation) {
@@ -85,6 +106,7 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
     }
     if (tombstones != null) out.add(tombstones);
     out.addAll(attachments.values());
+    out.addAll(magnitudes.values());
     return out;
   }
 
@@ -146,8 +168,18 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
     Map<String, FileRef> att = new LinkedHashMap<>();
     for (int i = 0; i < nAtt; i++) att.put(in.string("attachment " + i + " name"), ref(in, "attachment " + i));
     String metaCommit = in.string("metadata commit");
+    TreeMap<Integer, FileRef> mags = new TreeMap<>();
+    if (in.header().version() >= 2) {
+      int nMags = in.getCount("magnitudes count", nSegs);
+      for (int i = 0; i < nMags; i++) {
+        int segId = in.getInt("magnitudes " + i + " segmentId");
+        if (segs.stream().noneMatch(s -> s.segmentId() == segId) || (!mags.isEmpty() && segId <= mags.lastKey()))
+          throw in.error("magnitudes " + i + " name segment " + segId + ", which is not listed, repeated or out of order");
+        mags.put(segId, ref(in, "magnitudes " + i));
+      }
+    }
     in.end();
-    return new Manifest(gen, in.header().uuid(), layout, nextId, nextSegmentId, segs, tomb, props, att, metaCommit);
+    return new Manifest(gen, in.header().uuid(), layout, nextId, nextSegmentId, segs, tomb, props, att, metaCommit, mags);
   }
 
   private static FileRef ref(ChecksummedFile.In in, String field) {
@@ -191,6 +223,11 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
         writeRef(out, e.getValue());
       }
       out.writeString(metaCommit);
+      out.writeInt(magnitudes.size());
+      for (Map.Entry<Integer, FileRef> e : magnitudes.entrySet()) {
+        out.writeInt(e.getKey());
+        writeRef(out, e.getValue());
+      }
       out.finish();
     }
     Files.move(tmp, dir.resolve(fileName(generation)), StandardCopyOption.ATOMIC_MOVE);

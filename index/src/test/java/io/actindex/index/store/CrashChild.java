@@ -14,7 +14,8 @@ import org.roaringbitmap.RoaringBitmap;
  * Child process of {@link CrashTest}: opens the index given as first argument and
  * changes it until killed. Before each change it prints {@code BEGIN add N}, {@code BEGIN delete
  * ID,ID,...} or {@code BEGIN compact}; after the change returned (committed) it prints {@code DONE}.
- * The code and metadata of id i are a function of i alone ({@link #code}, {@link #row}).
+ * The code, metadata and magnitudes of id i are a function of i alone ({@link #code}, {@link #row},
+ * {@link #value}); every segment keeps 8-bit magnitudes.
  */
 public final class CrashChild {
   static final CodeLayout LAYOUT = CodeLayout.parse("a:60,b:36");
@@ -25,6 +26,12 @@ public final class CrashChild {
     for (int j = 0; j < c.length; j++) c[j] = rnd.nextLong();
     c[c.length - 1] &= ~CodeBlock.ghostMask(LAYOUT);
     return c;
+  }
+
+  /** Magnitude of unit {@code j} of id {@code id}: 0 for an off bit, else 1 to 9. */
+  static float value(int id, int j) {
+    long[] c = code(id);
+    return (c[j >>> 6] >>> (j & 63) & 1) == 0 ? 0f : 1 + (id * 7 + j) % 9;
   }
 
   static Map<String, String> row(int id) {
@@ -54,8 +61,10 @@ public final class CrashChild {
             System.arraycopy(code(first + i), 0, words, i * LAYOUT.words(), LAYOUT.words());
             rows.add(row(first + i));
           }
+          float[] mags = new float[n * LAYOUT.bits()];
+          for (int i = 0; i < n; i++) for (int j = 0; j < LAYOUT.bits(); j++) mags[i * LAYOUT.bits() + j] = value(first + i, j);
           say("BEGIN add " + n);
-          w.add(new CodeBlock(LAYOUT, n, words), rows);
+          w.add(new CodeBlock(LAYOUT, n, words), Magnitudes.quantise(mags, n, LAYOUT.bits(), 8), rows);
           live.add((long) first, (long) first + n);
         } else if (op < 9) {
           RoaringBitmap del = new RoaringBitmap();

@@ -112,8 +112,14 @@ class CrashTest {
         deleted = deletedOf(r);
         RoaringBitmap live = r.liveIds();
         assertEquals(live.getCardinality(), r.meta().numDocs(), where);
+        assertTrue(live.isEmpty() || r.hasMagnitudes(), "every segment keeps magnitudes: " + where);
+        float[] mags = new float[CrashChild.LAYOUT.bits()];
         for (int id : live) {
           assertArrayEquals(CrashChild.code(id), r.code(id), "code of id " + id + ": " + where);
+          r.magnitudes(id, mags, 0);
+          // 8 bits over a range of at most 0..9; compactions that widen a range requantise once each
+          for (int j = 0; j < mags.length; j++)
+            assertEquals(CrashChild.value(id, j), mags[j], 0.1, "magnitude " + j + " of id " + id + ": " + where);
           Map<String, String> doc = r.meta().document(id);
           assertEquals(CrashChild.row(id), doc, "metadata of id " + id + ": " + where);
         }

@@ -32,19 +32,36 @@ final class StoreFixtures {
   }
 
   /**
-   * An index of three segments of ReLU-like codes (the first codes of {@code sample}), deletes,
-   * properties and an attachment; the writer is closed.
+   * An index of three segments of ReLU-like codes (the first codes of {@code sample}), each with
+   * kept magnitudes (8, 4 and 8 bits), deletes, properties and an attachment; the writer is closed.
    */
   static void build(Path dir, CodeBlock sample) {
     try (IndexWriter w = IndexWriter.create(dir, sample.layout(), Map.of("model", "test"))) {
       int at = 0;
-      for (int n : new int[] {40, 25, 35}) {
-        w.add(sample.slice(at, at + n), rows(at, n));
+      int[] bits = {8, 4, 8};
+      int[] sizes = {40, 25, 35};
+      for (int s = 0; s < sizes.length; s++) {
+        int n = sizes[s];
+        w.add(sample.slice(at, at + n), magnitudes(sample, at, n, bits[s]), rows(at, n));
         at += n;
       }
       w.delete(org.roaringbitmap.RoaringBitmap.bitmapOf(3, 41, 77));
       w.putAttachment("weights", "not really weights".getBytes(java.nio.charset.StandardCharsets.UTF_8));
     }
+  }
+
+  /** Magnitudes of codes {@code from..from+n-1}: the value of an on bit grows with id and unit, off bits are 0. */
+  static Magnitudes magnitudes(CodeBlock codes, int from, int n, int bits) {
+    return Magnitudes.quantise(values(codes, from, n), n, codes.layout().bits(), bits);
+  }
+
+  static float[] values(CodeBlock codes, int from, int n) {
+    int d = codes.layout().bits();
+    float[] v = new float[n * d];
+    for (int i = 0; i < n; i++)
+      for (int j = 0; j < d; j++)
+        if (codes.bit(from + i, j)) v[i * d + j] = 0.25f + ((from + i) * 7 + j) % 13 * 0.5f;
+    return v;
   }
 
   static CodeBlock sample(long seed) {

@@ -1,0 +1,377 @@
+package io.actindex.query;
+
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Hamming;
+import io.actindex.core.Hits;
+import io.actindex.encode.EncodeOptions;
+import io.actindex.encode.Encoders;
+import io.actindex.encode.io.MatrixReader;
+import io.actindex.index.store.IndexReader;
+import io.actindex.index.store.Magnitudes;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.Path;
+import java.util.Arrays;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+
+/**
+ * How faithful binary codes are to the float activations they came from, measured on the user's
+ * own data: for {@code queries} sampled rows against all other rows (leave one out),
+ * <ul>
+ *   <li>overlap: the share of the exact cosine k-NN (on the float activations) that the exact
+ *       Hamming k-NN holds (Hamming ties broken by ascending row, as {@code nearest} does);</li>
+ *   <li>Spearman's rank correlation of Hamming and cosine distance over {@code pairs} random
+ *       pairs of distinct rows ({@link Spearman}, ties averaged);</li>
+ *   <li>the share of queries whose k-th Hamming distance is tied (more than k other rows lie
+ *       within it, so the order of ties decides the k-NN), and the mean k-th Hamming distance;</li>
+ *   <li>with labels: k-NN label accuracy (majority of the k labels; a tie goes to the label met
+ *       first in rank order) under Hamming, Hamming refined ({@link Refine}: the candidates by
+ *       Hamming, then cosine on the kept, dequantised magnitudes), cosine on the floats, and
+ *       Euclidean on the raw inputs when the model's inputs are given.</li>
+ * </ul>
+ * A short verdict sums it up. It is a measurement on this data, not a guarantee for other inputs.
+ */
+public final class Fidelity {
+  private Fidelity() {}
+
+  public static final int DEFAULT_QUERIES = 1000, DEFAULT_PAIRS = 20000;
+
+  /**
+   * {@code queries >= 1} sampled rows (at most the rows there are), {@code k >= 1},
+   * {@code candidates >= k} for the refined k-NN, {@code pairs >= 2} for Spearman, {@code seed} for
+   * the samples, {@code threads >= 1}.
+   */
+  public record Params(int queries, int k, int candidates, int pairs, long seed, int threads) {
+    public Params {
+      if (queries < 1) throw new BadInputException("queries must be at least 1, got " + queries);
+      if (k < 1) throw new BadInputException("k must be at least 1, got " + k);
+      if (candidates < k) throw new BadInputException("candidates (" + candidates + ") must be at least k (" + k + ")");
+      if (pairs < 2) throw new BadInputException("pairs must be at least 2, got " + pairs);
+      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+    }
+  }
+
+  /**
+   * The rows compared: codes, the float activations (row-major, one per code bit),
+   * {@code floatSource} saying where the floats came from, the kept magnitudes as the refinement
+   * sees them ({@code kept}, null when none; {@code keptBits}), labels (null = none; entries may be
+   * null) and the raw inputs ({@code inputWidth} values per row; null = none).
+   */
+  public record Data(CodeBlock codes, float[] floats, String floatSource, Refine.Vectors kept, int keptBits, String[] labels,
+      float[] inputs, int inputWidth) {}
+
+  /**
+   * k-NN label accuracy over the {@code labeled} sampled queries that carry a label; {@code refined}
+   * is null without kept magnitudes, {@code euclideanInputs} null without inputs.
+   */
+  public record Accuracy(int labeled, double hamming, Double refined, double cosine, Double euclideanInputs) {}
+
+  /** The measurements; {@code accuracy} is null without labels. */
+  public record Result(int examples, int queries, int k, long seed, String floatSource, int magnitudeBits, int candidates,
+      double overlap, double spearman, int pairs, double tiedShare, double meanKthDistance, Accuracy accuracy,
+      String verdict) {}
+
+  /** Rows of an activations file (one layer per .npz member), labels from the metadata CSV (nullable). */
+  public static Data fromActivations(Path file, MetaCsv.Options meta, int bits, Progress progress) {
+    if (!Magnitudes.supported(bits)) throw new BadInputException("bits per kept magnitude must be 2, 4 or 8, got " + bits);
+    Encoding.Read read = Encoding.read(Source.activations(file), null, EncodeOptions.positive(), null, RowRange.ALL,
+        Encoding.CHUNK, progress == null ? Progress.NONE : progress, true);
+    CodeBlock codes = read.codes();
+    int n = codes.size(), d = codes.layout().bits();
+    if (n < 2) throw new BadInputException(file + ": " + n + " rows; fidelity needs at least 2");
+    String[] labels = null;
+    if (meta != null) {
+      List<Map<String, String>> rows = MetaCsv.read(meta);
+      if (rows.size() != n) throw new BadInputException(meta.file() + ": " + rows.size() + " data rows, but " + file + " has " + n + " rows");
+      labels = rows.stream().map(r -> r.get("label")).toArray(String[]::new);
+      if (Arrays.stream(labels).allMatch(l -> l == null)) labels = null;
+    }
+    Magnitudes kept = Magnitudes.quantise(read.activations(), n, d, bits);
+    return new Data(codes, read.activations(), "float activations of " + file, (ord, out) -> kept.dequantise(ord, out, 0), bits,
+        labels, null, 0);
+  }
+
+  /**
+   * The live rows of an index. Floats: the model's activations on {@code inputs} when given (the
+   * rows the index was built from, in id order; the index must hold the model, and every live
+   * row must give its stored code), else the kept magnitudes, dequantised. Labels from the
+   * metadata store.
+   */
+  public static Data fromIndex(IndexReader r, Path inputs, Progress progress) {
+    int n = r.liveCount(), d = r.layout().bits();
+    int[] ids = new int[n];
+    CodeBlock codes = r.liveCodes(ids);
+    if (n < 2) throw new BadInputException("index " + r.dir() + " has " + n + " live examples; fidelity needs at least 2");
+    LabelIndex labelIndex = LabelIndex.of(r.meta(), r.maxId());
+    String[] labels = new String[n];
+    boolean any = false;
+    for (int i = 0; i < n; i++) any |= (labels[i] = labelIndex.label(ids[i])) != null;
+    Refine.Vectors kept = r.hasMagnitudes() ? (ord, out) -> r.magnitudes(ids[ord], out, 0) : null;
+    int keptBits = r.hasMagnitudes() ? r.magnitudeBits() : 0;
+    if (inputs == null) {
+      if (kept == null)
+        throw new BadInputException(Refine.noMagnitudes(r) + "; or give the model's inputs the index was built from with --inputs");
+      float[] floats = new float[Math.multiplyExact(n, d)];
+      for (int i = 0; i < n; i++) r.magnitudes(ids[i], floats, i * d);
+      return new Data(codes, floats, "kept " + keptBits + "-bit magnitudes of index " + r.dir() + " (dequantised)", kept, keptBits,
+          any ? labels : null, null, 0);
+    }
+    QuerySource.Encoded enc = QuerySource.encode(r, Source.inputs(inputs, null), RowRange.ALL, Encoding.CHUNK, progress,
+        "inputs", new java.util.ArrayList<>(), true);
+    if (enc.codes().size() != r.maxId())
+      throw new BadInputException(inputs + ": " + enc.codes().size() + " rows, but index " + r.dir() + " was built from "
+          + r.maxId() + " rows; give the inputs the index was built from, in id order");
+    float[] floats = new float[Math.multiplyExact(n, d)];
+    for (int i = 0; i < n; i++) {
+      if (!Arrays.equals(enc.codes().code(ids[i]), codes.code(i)))
+        throw new BadInputException(inputs + ": row " + ids[i] + " does not give the code stored for id " + ids[i]
+            + "; give the inputs the index was built from, in id order");
+      System.arraycopy(enc.activations(), ids[i] * d, floats, i * d, d);
+    }
+    float[][] raw = readMatrix(inputs);
+    float[] in = new float[Math.multiplyExact(n, raw[0].length)];
+    int width = raw[0].length;
+    for (int i = 0; i < n; i++) System.arraycopy(raw[1], ids[i] * width, in, i * width, width);
+    return new Data(codes, floats, "the model's float activations on " + inputs, kept, keptBits, any ? labels : null, in, width);
+  }
+
+  /** {@code [0]} has the width as its length, {@code [1]} the rows (row-major). */
+  private static float[][] readMatrix(Path file) {
+    try (MatrixReader m = Encoders.openMatrix(file)) {
+      int cols = m.cols();
+      double[] chunk = new double[4096 * cols];
+      float[] all = new float[0];
+      int rows = 0, got;
+      while ((got = m.read(chunk, 4096)) > 0) {
+        all = Arrays.copyOf(all, Math.multiplyExact(rows + got, cols));
+        for (int i = 0; i < got * cols; i++) all[rows * cols + i] = (float) chunk[i];
+        rows += got;
+      }
+      return new float[][] {new float[cols], all};
+    } catch (IOException e) {
+      throw new UncheckedIOException(file + ": " + e.getMessage(), e);
+    }
+  }
+
+  public static Result run(Data data, Params p, Progress progress) {
+    CodeBlock codes = data.codes();
+    int n = codes.size(), d = codes.layout().bits(), w = codes.wordsPerCode();
+    if (p.queries() > n)
+      throw new BadInputException("--queries " + p.queries() + " is larger than the " + n + " examples there are");
+    if (p.k() > n - 1) throw new BadInputException("-k " + p.k() + " needs more than the " + (n - 1) + " other examples there are");
+    int c = Math.min(p.candidates(), n - 1);
+    int[] sample = sample(n, p.queries(), new SplittableRandom(p.seed()));
+    double[] norms = norms(data.floats(), n, d);
+    long[] words = codes.words();
+    boolean labels = data.labels() != null;
+    PerQuery[] per = new PerQuery[sample.length];
+    Parallel.forEach(sample.length, p.threads(), progress, t -> {
+      int q = sample[t];
+      int[] ham = new int[n];
+      double[] cos = new double[n];
+      for (int j = 0; j < n; j++) {
+        ham[j] = Hamming.distance(words, q * w, words, j * w, w);
+        cos[j] = cosine(data.floats(), q, j, d, norms);
+      }
+      ham[q] = Integer.MAX_VALUE;
+      cos[q] = Double.POSITIVE_INFINITY;
+      int[] count = new int[d + 2];
+      for (int j = 0; j < n; j++) if (j != q) count[ham[j]]++;
+      int kth = distanceAtRank(count, p.k());
+      int within = 0;
+      for (int t2 = 0; t2 <= kth; t2++) within += count[t2];
+      int[] hamTop = hammingTop(ham, kth, p.k());
+      int[] cosTop = top(cos, p.k());
+      int both = 0;
+      for (int a : hamTop) for (int b : cosTop) if (a == b) both++;
+      String label = labels ? data.labels()[q] : null;
+      Boolean hamOk = null, refOk = null, cosOk = null, eucOk = null;
+      if (label != null) {
+        hamOk = label.equals(vote(data.labels(), hamTop));
+        cosOk = label.equals(vote(data.labels(), cosTop));
+        if (data.kept() != null) {
+          int dc = distanceAtRank(count, c);
+          int[] cands = java.util.stream.IntStream.range(0, n).filter(j -> ham[j] <= dc).toArray();
+          int[] cd = new int[cands.length];
+          for (int i = 0; i < cands.length; i++) cd[i] = ham[cands[i]];
+          float[] query = Arrays.copyOfRange(data.floats(), q * d, q * d + d);
+          Refine.Ranked r = Refine.rerank(Hits.sorted(cands, cd, cands.length), query, data.kept(), new float[d], Refine.Metric.COSINE, null, p.k());
+          refOk = label.equals(vote(data.labels(), r.ids()));
+        }
+        if (data.inputs() != null) {
+          double[] euc = new double[n];
+          int iw = data.inputWidth();
+          for (int j = 0; j < n; j++) euc[j] = euclidean(data.inputs(), q, j, iw);
+          euc[q] = Double.POSITIVE_INFINITY;
+          eucOk = label.equals(vote(data.labels(), top(euc, p.k())));
+        }
+      }
+      per[t] = new PerQuery(both / (double) p.k(), within > p.k(), kth, hamOk, refOk, cosOk, eucOk);
+    });
+    double overlap = 0, tied = 0, kthSum = 0;
+    int labeled = 0, hamRight = 0, refRight = 0, cosRight = 0, eucRight = 0;
+    for (PerQuery r : per) {
+      overlap += r.overlap;
+      tied += r.tied ? 1 : 0;
+      kthSum += r.kth;
+      if (r.hamOk == null) continue;
+      labeled++;
+      hamRight += r.hamOk ? 1 : 0;
+      cosRight += r.cosOk ? 1 : 0;
+      refRight += Boolean.TRUE.equals(r.refOk) ? 1 : 0;
+      eucRight += Boolean.TRUE.equals(r.eucOk) ? 1 : 0;
+    }
+    int m = per.length;
+    Accuracy acc = labeled == 0 ? null
+        : new Accuracy(labeled, hamRight / (double) labeled, data.kept() == null ? null : refRight / (double) labeled,
+            cosRight / (double) labeled, data.inputs() == null ? null : eucRight / (double) labeled);
+    double rho = spearman(data, norms, p.pairs(), new SplittableRandom(p.seed() ^ 0x5DEECE66DL));
+    double ov = overlap / m, ts = tied / m;
+    return new Result(n, m, p.k(), p.seed(), data.floatSource(), data.keptBits(), c, ov, rho, p.pairs(), ts, kthSum / m, acc,
+        verdict(ov, rho, ts, acc, p.k(), c));
+  }
+
+  private record PerQuery(double overlap, boolean tied, int kth, Boolean hamOk, Boolean refOk, Boolean cosOk, Boolean eucOk) {}
+
+  /** The short verdict in words. */
+  static String verdict(double overlap, double rho, double tied, Accuracy acc, int k, int c) {
+    StringBuilder v = new StringBuilder();
+    if (acc != null) {
+      double gap = acc.cosine() - acc.hamming();
+      if (gap <= 0.01) v.append("Codes keep what the float activations know about labels here: Hamming ").append(k)
+          .append("-NN accuracy is within 1 point of cosine on the floats.");
+      else {
+        v.append(String.format(java.util.Locale.ROOT, "Codes lose %.1f points of %d-NN label accuracy against cosine on the floats", 100 * gap, k));
+        if (acc.refined() != null && acc.cosine() - acc.refined() <= 0.01)
+          v.append(String.format(java.util.Locale.ROOT, "; re-ranking %d Hamming candidates by the kept magnitudes closes the gap (use nearest --refine).", c));
+        else if (acc.refined() != null)
+          v.append(String.format(java.util.Locale.ROOT, "; re-ranking %d Hamming candidates by the kept magnitudes recovers %.1f of them.", c,
+              100 * (acc.refined() - acc.hamming())));
+        else v.append("; build with kept magnitudes to refine.");
+      }
+    } else if (overlap >= 0.7) v.append("Hamming and cosine neighbours largely agree.");
+    else if (overlap >= 0.4) v.append("Hamming and cosine neighbours agree only in part.");
+    else v.append("Hamming neighbours mostly differ from cosine neighbours on the floats.");
+    v.append(String.format(java.util.Locale.ROOT, " Overlap %.2f, Spearman %.2f.", overlap, rho));
+    if (tied >= 0.2)
+      v.append(String.format(java.util.Locale.ROOT, " %.0f%% of queries have more than %d rows within the Hamming distance of their"
+          + " neighbour number %d, so the order among ties (ascending id) decides part of the answer.", 100 * tied, k, k));
+    v.append(" Measured on this data only: check again on data like your use.");
+    return v.toString();
+  }
+
+  /** The smallest distance D such that at least {@code rank} rows lie within D ({@code count} by distance). */
+  private static int distanceAtRank(int[] count, int rank) {
+    int cum = 0;
+    for (int dist = 0; dist < count.length; dist++) {
+      cum += count[dist];
+      if (cum >= rank) return dist;
+    }
+    return count.length - 1;
+  }
+
+  /** The k nearest by (Hamming distance, row): every row below {@code kth}, then the first rows at it. */
+  private static int[] hammingTop(int[] ham, int kth, int k) {
+    int[] out = new int[k];
+    int at = 0;
+    for (int j = 0; j < ham.length && at < k; j++) if (ham[j] < kth) out[at++] = j;
+    for (int j = 0; j < ham.length && at < k; j++) if (ham[j] == kth) out[at++] = j;
+    Integer[] boxed = Arrays.stream(out).boxed().toArray(Integer[]::new);
+    Arrays.sort(boxed, (a, b) -> ham[a] != ham[b] ? Integer.compare(ham[a], ham[b]) : Integer.compare(a, b));
+    return Arrays.stream(boxed).mapToInt(Integer::intValue).toArray();
+  }
+
+  /** The k smallest values by (value, row), in that order. */
+  private static int[] top(double[] v, int k) {
+    java.util.PriorityQueue<Integer> heap = new java.util.PriorityQueue<>(
+        (a, b) -> v[a] != v[b] ? Double.compare(v[b], v[a]) : Integer.compare(b, a));
+    for (int j = 0; j < v.length; j++) {
+      if (heap.size() < k) heap.add(j);
+      else {
+        int worst = heap.peek();
+        if (v[j] < v[worst] || (v[j] == v[worst] && j < worst)) {
+          heap.poll();
+          heap.add(j);
+        }
+      }
+    }
+    Integer[] out = heap.toArray(new Integer[0]);
+    Arrays.sort(out, (a, b) -> v[a] != v[b] ? Double.compare(v[a], v[b]) : Integer.compare(a, b));
+    return Arrays.stream(out).mapToInt(Integer::intValue).toArray();
+  }
+
+  /** Majority label of the ranked rows (unlabelled ones skipped); a tie goes to the label met first. */
+  static String vote(String[] labels, int[] ranked) {
+    Map<String, Integer> tally = new HashMap<>();
+    String best = null;
+    int bestCount = 0;
+    for (int j : ranked) {
+      String l = labels[j];
+      if (l == null) continue;
+      tally.merge(l, 1, Integer::sum);
+    }
+    for (int j : ranked) {
+      String l = labels[j];
+      if (l != null && tally.get(l) > bestCount) {
+        best = l;
+        bestCount = tally.get(l);
+      }
+    }
+    return best;
+  }
+
+  private static int[] sample(int n, int m, SplittableRandom rnd) {
+    int[] all = new int[n];
+    for (int i = 0; i < n; i++) all[i] = i;
+    for (int i = 0; i < m; i++) {
+      int j = i + rnd.nextInt(n - i), t = all[i];
+      all[i] = all[j];
+      all[j] = t;
+    }
+    return Arrays.copyOf(all, m);
+  }
+
+  private static double[] norms(float[] v, int n, int d) {
+    double[] out = new double[n];
+    for (int i = 0; i < n; i++) {
+      double s = 0;
+      for (int j = 0; j < d; j++) s += (double) v[i * d + j] * v[i * d + j];
+      out[i] = Math.sqrt(s);
+    }
+    return out;
+  }
+
+  /** Cosine distance as {@link Refine.Metric#COSINE} defines it, from precomputed norms. */
+  private static double cosine(float[] v, int a, int b, int d, double[] norms) {
+    if (norms[a] == 0 || norms[b] == 0) return 1;
+    double dot = 0;
+    for (int j = 0; j < d; j++) dot += (double) v[a * d + j] * v[b * d + j];
+    return 1 - dot / (norms[a] * norms[b]);
+  }
+
+  private static double euclidean(float[] v, int a, int b, int d) {
+    double s = 0;
+    for (int j = 0; j < d; j++) {
+      double x = (double) v[a * d + j] - v[b * d + j];
+      s += x * x;
+    }
+    return Math.sqrt(s);
+  }
+
+  private static double spearman(Data data, double[] norms, int pairs, SplittableRandom rnd) {
+    CodeBlock codes = data.codes();
+    int n = codes.size(), d = codes.layout().bits(), w = codes.wordsPerCode();
+    double[] h = new double[pairs], c = new double[pairs];
+    for (int t = 0; t < pairs; t++) {
+      int a = rnd.nextInt(n), b = rnd.nextInt(n - 1);
+      if (b >= a) b++;
+      h[t] = Hamming.distance(codes.words(), a * w, codes.words(), b * w, w);
+      c[t] = cosine(data.floats(), a, b, d, norms);
+    }
+    return Spearman.rho(h, c);
+  }
+}

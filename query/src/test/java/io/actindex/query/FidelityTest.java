@@ -1,0 +1,124 @@
+package io.actindex.query;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+import static org.assertj.core.api.Assertions.within;
+
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
+import io.actindex.core.Randoms;
+import java.util.ArrayList;
+import java.util.Comparator;
+import java.util.List;
+import java.util.SplittableRandom;
+import java.util.stream.IntStream;
+import org.junit.jupiter.api.Test;
+
+/**
+ * {@link Fidelity} against computations written here: k-NN overlap, tied share, mean k-th distance
+ * and label accuracies by plain sorting of every row, on random data; and a case whose answer is
+ * known in closed form: with floats of +1 (on) and -1 (off), cosine distance is 2h/d for Hamming
+ * distance h, a strictly increasing function, so Spearman's rho is exactly 1, the k-NN overlap is 1
+ * (ties broken by row on both sides) and every accuracy is the same.
+ */
+class FidelityTest {
+
+  private static Fidelity.Data data(float[] floats, int n, int d, String[] labels, boolean kept) {
+    boolean[][] bits = new boolean[n][d];
+    for (int i = 0; i < n; i++) for (int j = 0; j < d; j++) bits[i][j] = floats[i * d + j] > 0;
+    CodeBlock codes = CodeBlock.fromBits(CodeLayout.single("act", d), bits);
+    Refine.Vectors vectors = kept ? (ord, out) -> System.arraycopy(floats, ord * d, out, 0, d) : null;
+    return new Fidelity.Data(codes, floats, "test floats", vectors, kept ? 8 : 0, labels, null, 0);
+  }
+
+  @Test
+  void signVectorsAgreeExactly() {
+    SplittableRandom rnd = new SplittableRandom(Randoms.seed(0));
+    int n = 120, d = 37;
+    float[] f = new float[n * d];
+    for (int i = 0; i < f.length; i++) f[i] = rnd.nextBoolean() ? 1f : -1f;
+    String[] labels = new String[n];
+    for (int i = 0; i < n; i++) labels[i] = "c" + (f[i * d] > 0 ? 1 : 0) + (f[i * d + 1] > 0 ? 1 : 0);
+    Fidelity.Result r = Fidelity.run(data(f, n, d, labels, true), new Fidelity.Params(n, 5, 20, 5000, 3, 2), null);
+    assertThat(r.spearman()).isCloseTo(1.0, within(1e-12));
+    assertThat(r.overlap()).isEqualTo(1.0);
+    assertThat(r.accuracy().hamming()).isEqualTo(r.accuracy().cosine());
+    assertThat(r.accuracy().refined()).isEqualTo(r.accuracy().cosine());
+    assertThat(r.verdict()).contains("within 1 point");
+  }
+
+  @Test
+  void matchesADirectComputationOnRandomData() {
+    for (int t = 0; t < 8; t++) {
+      long seed = Randoms.seed(t);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int n = 40 + rnd.nextInt(80), d = 3 + rnd.nextInt(20), k = 1 + rnd.nextInt(6);
+      float[] f = new float[n * d];
+      for (int i = 0; i < f.length; i++) f[i] = rnd.nextInt(3) == 0 ? 0f : (float) rnd.nextGaussian();
+      String[] labels = new String[n];
+      for (int i = 0; i < n; i++) labels[i] = rnd.nextInt(5) == 0 ? null : "l" + rnd.nextInt(3);
+      Fidelity.Data data = data(f, n, d, labels, true);
+      // all rows as queries: the sample is then every row, whatever the seed
+      Fidelity.Result r = Fidelity.run(data, new Fidelity.Params(n, k, n - 1, 100, seed, 1), null);
+      double overlap = 0, tied = 0, kth = 0;
+      int labeled = 0, hamRight = 0, cosRight = 0, refRight = 0;
+      for (int q = 0; q < n; q++) {
+        int qq = q;
+        List<Integer> others = new ArrayList<>(IntStream.range(0, n).filter(j -> j != qq).boxed().toList());
+        int[] ham = new int[n];
+        double[] cos = new double[n];
+        for (int j = 0; j < n; j++) {
+          for (int u = 0; u < d; u++) ham[j] += (f[q * d + u] > 0) != (f[j * d + u] > 0) ? 1 : 0;
+          cos[j] = DigitsRefineTest.cosineDistance(f, q * d, f, j * d, d);
+        }
+        List<Integer> byHam = others.stream().sorted(Comparator.<Integer>comparingInt(j -> ham[j]).thenComparingInt(j -> j)).toList();
+        List<Integer> byCos = others.stream().sorted(Comparator.<Integer>comparingDouble(j -> cos[j]).thenComparingInt(j -> j)).toList();
+        List<Integer> hk = byHam.subList(0, k), ck = byCos.subList(0, k);
+        overlap += hk.stream().filter(ck::contains).count() / (double) k;
+        int dk = ham[hk.get(k - 1)];
+        tied += others.stream().filter(j -> ham[j] <= dk).count() > k ? 1 : 0;
+        kth += dk;
+        if (labels[q] == null) continue;
+        labeled++;
+        hamRight += labels[q].equals(Fidelity.vote(labels, hk.stream().mapToInt(i -> i).toArray())) ? 1 : 0;
+        cosRight += labels[q].equals(Fidelity.vote(labels, ck.stream().mapToInt(i -> i).toArray())) ? 1 : 0;
+        // every other row is a candidate: refined = cosine on the kept (here exact) vectors, ties by Hamming then row
+        List<Integer> refined = others.stream().sorted(Comparator.<Integer>comparingDouble(j -> cos[j])
+            .thenComparingInt(j -> ham[j]).thenComparingInt(j -> j)).toList().subList(0, k);
+        refRight += labels[q].equals(Fidelity.vote(labels, refined.stream().mapToInt(i -> i).toArray())) ? 1 : 0;
+      }
+      String why = Randoms.describe(seed) + " n " + n + " d " + d + " k " + k;
+      assertThat(r.overlap()).as(why).isCloseTo(overlap / n, within(1e-12));
+      assertThat(r.tiedShare()).as(why).isCloseTo(tied / n, within(1e-12));
+      assertThat(r.meanKthDistance()).as(why).isCloseTo(kth / n, within(1e-12));
+      assertThat(r.accuracy().labeled()).as(why).isEqualTo(labeled);
+      assertThat(r.accuracy().hamming()).as(why).isCloseTo(hamRight / (double) labeled, within(1e-12));
+      assertThat(r.accuracy().cosine()).as(why).isCloseTo(cosRight / (double) labeled, within(1e-12));
+      assertThat(r.accuracy().refined()).as(why).isCloseTo(refRight / (double) labeled, within(1e-12));
+      assertThat(r.accuracy().euclideanInputs()).isNull();
+    }
+  }
+
+  @Test
+  void voteTakesTheMajorityAndBreaksTiesByRank() {
+    String[] labels = {"a", "b", "b", null, "a"};
+    assertThat(Fidelity.vote(labels, new int[] {0, 1, 2})).isEqualTo("b");
+    assertThat(Fidelity.vote(labels, new int[] {0, 1})).isEqualTo("a");
+    assertThat(Fidelity.vote(labels, new int[] {3, 1, 4})).isEqualTo("b");
+    assertThat(Fidelity.vote(labels, new int[] {3})).isNull();
+  }
+
+  @Test
+  void refusesMoreQueriesOrNeighboursThanRowsAndBadCounts() {
+    float[] f = new float[10 * 4];
+    Fidelity.Data data = data(f, 10, 4, null, false);
+    assertThatThrownBy(() -> Fidelity.run(data, new Fidelity.Params(11, 1, 100, 100, 1, 1), null))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("larger than the 10 examples");
+    assertThatThrownBy(() -> Fidelity.run(data, new Fidelity.Params(5, 10, 100, 100, 1, 1), null))
+        .isInstanceOf(BadInputException.class);
+    assertThatThrownBy(() -> new Fidelity.Params(0, 1, 10, 100, 1, 1)).isInstanceOf(BadInputException.class);
+    assertThatThrownBy(() -> new Fidelity.Params(1, 0, 10, 100, 1, 1)).isInstanceOf(BadInputException.class);
+    assertThatThrownBy(() -> new Fidelity.Params(1, 5, 4, 100, 1, 1)).isInstanceOf(BadInputException.class);
+  }
+}
