@@ -25,7 +25,9 @@ import picocli.CommandLine.Spec;
     description = "Exact Hamming search over the on/off codes of ReLU networks.",
     subcommands = {
       BuildCommand.class, AddCommand.class, InfoCommand.class, NearestCommand.class,
-      RegionCommand.class, CensusCommand.class, CompareCommand.class, FidelityCommand.class, CommandLine.HelpCommand.class
+      RegionCommand.class, CensusCommand.class, CompareCommand.class, FidelityCommand.class, DupesCommand.class,
+      OodCommand.class, ExportEdgeCommand.class,
+      CommandLine.HelpCommand.class
     },
     footer = {"", "Exit codes: 0 ok, 2 bad usage or bad input, 1 internal error.",
         "Run 'actindex COMMAND --help' for the options of one command."})

@@ -10,7 +10,8 @@ import picocli.CommandLine;
 
 /** Parsing, help, version and exit codes that need no index. */
 class MainTest {
-  static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare", "fidelity");
+  static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare", "fidelity", "dupes",
+      "ood", "export-edge");
 
   @Test
   void everyContractCommandIsRegistered() {
@@ -20,7 +21,7 @@ class MainTest {
   }
 
   @ParameterizedTest
-  @ValueSource(strings = {"build", "add", "info", "nearest", "region", "census", "compare"})
+  @ValueSource(strings = {"build", "add", "info", "nearest", "region", "census", "compare", "ood", "export-edge"})
   void helpWorksForEveryCommand(String command) {
     Cli.Result r = Cli.run(command, "--help");
     assertThat(r.code()).as(r.describe()).isZero();

@@ -26,20 +26,25 @@ final class LabelIndex {
   }
 
   static LabelIndex of(MetaStore meta, int maxId) {
+    return of(meta, maxId, "label");
+  }
+
+  /** The same for another keyword field, e.g. {@code split}. */
+  static LabelIndex of(MetaStore meta, int maxId, String field) {
     int[] labelOf = new int[maxId];
     Arrays.fill(labelOf, -1);
     List<String> names = new ArrayList<>();
-    if (!meta.fields().containsKey("label")) return new LabelIndex(names, labelOf);
-    RoaringBitmap todo = meta.select(new FieldExistsQuery("label"));
+    if (!meta.fields().containsKey(field)) return new LabelIndex(names, labelOf);
+    RoaringBitmap todo = meta.select(new FieldExistsQuery(field));
     while (!todo.isEmpty()) {
       int id = todo.first();
       Map<String, String> doc = meta.document(id);
-      String label = doc == null ? null : doc.get("label");
+      String label = doc == null ? null : doc.get(field);
       if (label == null) { // not live or no label after all: skip it
         todo.remove(id);
         continue;
       }
-      RoaringBitmap ids = meta.select(new TermQuery(new Term("label", label)));
+      RoaringBitmap ids = meta.select(new TermQuery(new Term(field, label)));
       ids.add(id);
       int index = names.size();
       names.add(label);
@@ -49,6 +54,11 @@ final class LabelIndex {
       todo.andNot(ids);
     }
     return new LabelIndex(names, labelOf);
+  }
+
+  /** The number of the label of {@code id} (an index into the distinct labels), or -1. */
+  int number(int id) {
+    return id < labelOf.length ? labelOf[id] : -1;
   }
 
   /** The label of {@code id}, or null. */

@@ -1,0 +1,299 @@
+package io.actindex.cli;
+
+import io.actindex.cli.format.CsvWriter;
+import io.actindex.cli.format.JsonWriter;
+import io.actindex.cli.format.TextTable;
+import io.actindex.index.mih.PairSink;
+import io.actindex.index.store.IndexReader;
+import io.actindex.query.BuildInfo;
+import io.actindex.query.Dupes;
+import io.actindex.query.Source;
+import java.io.BufferedWriter;
+import java.io.IOException;
+import java.io.PrintWriter;
+import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.nio.file.StandardCopyOption;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.concurrent.Callable;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.ParameterException;
+import picocli.CommandLine.Spec;
+
+/** {@code actindex dupes}: near-duplicate examples by Hamming distance between codes, grouped and flagged. */
+@Command(name = "dupes", mixinStandardHelpOptions = true,
+    description = {"Every pair of live examples whose codes are within --radius of each other (exact), grouped into",
+        "connected components; groups spanning several splits (leakage) or labels (conflicts) are flagged.",
+        "With --against FILE: for each row of FILE, the indexed examples within --radius."})
+final class DupesCommand implements Callable<Integer> {
+  @Spec CommandSpec spec;
+  @Mixin Verbose verbose;
+  @Mixin IndexOption index;
+
+  @Option(names = "--radius", required = true, paramLabel = "R",
+      description = "Largest Hamming distance of a pair (0 = identical codes), at most the code length.")
+  int radius;
+
+  @Option(names = "--where", paramLabel = "EXPR", description = "Only examples whose metadata match (both members of a pair).")
+  String where;
+
+  @Mixin LayersOption layers;
+
+  @Option(names = "--cross-split", description = "List only groups spanning several splits; --pairs keeps pairs whose splits differ.")
+  boolean crossSplit;
+
+  @Option(names = "--conflicting-labels",
+      description = "List only groups with several labels; --pairs keeps pairs whose labels differ (with --cross-split: either).")
+  boolean conflictingLabels;
+
+  @Option(names = "--against", paramLabel = "FILE",
+      description = "Rows to look up instead of joining the index with itself, of the kind the index was built from "
+          + "(activations, codes or model inputs), encoded the same way.")
+  Path against;
+
+  @Option(names = "--pairs", paramLabel = "FILE",
+      description = "Write every pair as CSV id_a,id_b,distance (id_a < id_b; with --against: row,id,distance).")
+  Path pairs;
+
+  @Option(names = "--groups", paramLabel = "N", defaultValue = "10", description = "Largest groups to list. Default: ${DEFAULT-VALUE}.")
+  int groups;
+
+  @Option(names = "--threads", paramLabel = "N", defaultValue = "0",
+      description = "Worker threads (the output order does not depend on it). Default: 0 = one per core.")
+  int threads;
+
+  @Mixin FormatOption format;
+
+  @Override
+  public Integer call() {
+    if (threads < 0) throw new ParameterException(spec.commandLine(), "--threads must be 0 or more, got " + threads);
+    if (groups < 0) throw new ParameterException(spec.commandLine(), "--groups must be 0 or more, got " + groups);
+    int t = threads == 0 ? Runtime.getRuntime().availableProcessors() : threads;
+    Dupes.Params p = new Dupes.Params(radius, where, layers.layers, crossSplit, conflictingLabels, groups, t);
+    Dupes.Result joined = null;
+    Dupes.AgainstResult matched = null;
+    try (IndexReader reader = IndexReader.open(index.dir);
+        PairsFile file = pairs == null ? null : new PairsFile(pairs, against == null ? "id_a,id_b,distance" : "row,id,distance");
+        Progress bar = Progress.onTerminal(spec.commandLine().getErr(), against == null ? "joining" : "matching")) {
+      PairSink sink = file == null ? null : file::pair;
+      if (against == null) joined = Dupes.run(reader, p, sink, bar);
+      else {
+        Source.Kind kind = BuildInfo.fromProperties(reader.properties(), index.dir.toString()).kind();
+        matched = Dupes.against(reader, p, new Source(kind, against, null), sink, bar);
+      }
+      if (file != null) file.commit();
+    }
+    PrintWriter out = spec.commandLine().getOut();
+    if (joined != null) {
+      switch (format.format) {
+        case json -> json(out, joined);
+        case csv -> csv(out, joined);
+        case table -> table(out, joined);
+      }
+    } else {
+      switch (format.format) {
+        case json -> json(out, matched);
+        case csv -> csv(out, matched);
+        case table -> table(out, matched);
+      }
+    }
+    out.flush();
+    return ExitCodes.OK;
+  }
+
+  /** The pairs CSV, written to a temporary file beside it and moved into place only when complete. */
+  private static final class PairsFile implements AutoCloseable {
+    private final Path target, temp;
+    private final BufferedWriter w;
+    private final StringBuilder line = new StringBuilder(32);
+    private boolean committed;
+
+    PairsFile(Path target, String header) {
+      this.target = target;
+      Path abs = target.toAbsolutePath();
+      this.temp = abs.resolveSibling(abs.getFileName() + ".tmp");
+      try {
+        w = Files.newBufferedWriter(temp, StandardCharsets.UTF_8);
+        w.write(header);
+        w.write('\n');
+      } catch (IOException e) {
+        throw new UncheckedIOException("cannot write " + target + ": " + e.getMessage(), e);
+      }
+    }
+
+    void pair(int a, int b, int d) {
+      line.setLength(0);
+      line.append(a).append(',').append(b).append(',').append(d).append('\n');
+      try {
+        w.append(line);
+      } catch (IOException e) {
+        throw new UncheckedIOException("cannot write " + target + ": " + e.getMessage(), e);
+      }
+    }
+
+    void commit() {
+      try {
+        w.close();
+        Files.move(temp, target, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
+        committed = true;
+      } catch (IOException e) {
+        throw new UncheckedIOException("cannot write " + target + ": " + e.getMessage(), e);
+      }
+    }
+
+    @Override
+    public void close() {
+      if (committed) return;
+      try {
+        w.close();
+        Files.deleteIfExists(temp);
+      } catch (IOException ignored) {
+        // failing already; the temporary file is all that is left
+      }
+    }
+  }
+
+  // ------------------------------------------------------------------ self-join output
+
+  /** {"summary": {...}, "groups": [{"size", "distinct_codes", "max_distance", "cross_split", ...}]}. */
+  private static void json(PrintWriter out, Dupes.Result r) {
+    Dupes.Summary s = r.summary();
+    JsonWriter j = new JsonWriter(out).beginObject().name("summary").beginObject()
+        .member("examples", s.examples()).member("bits", s.bits()).member("radius", s.radius())
+        .member("pairs", s.pairs()).member("exact_duplicate_pairs", s.exactDuplicatePairs())
+        .member("duplicated_examples", s.duplicatedExamples()).member("groups", s.groups())
+        .member("largest_group", s.largestGroup()).member("examples_in_groups", s.examplesInGroups())
+        .member("cross_split_groups", s.crossSplitGroups()).member("conflicting_groups", s.conflictingGroups())
+        .member("pairs_written", s.pairsWritten()).member("tables", s.tables()).member("seconds", s.seconds())
+        .endObject().name("groups").beginArray();
+    for (Dupes.Group g : r.groups()) {
+      j.beginObject().member("size", g.size()).member("distinct_codes", g.distinctCodes()).member("max_distance", g.maxDistance())
+          .name("cross_split").value(g.crossSplit()).name("conflicting_labels").value(g.conflictingLabels())
+          .name("labels").beginObject();
+      for (Map.Entry<String, Integer> e : g.labels().entrySet()) j.member(e.getKey(), e.getValue());
+      j.endObject().name("splits").beginObject();
+      for (Map.Entry<String, Integer> e : g.splits().entrySet()) j.member(e.getKey(), e.getValue());
+      j.endObject().name("members").beginArray();
+      for (Dupes.Member m : g.members())
+        j.beginObject().member("id", m.id()).member("key", m.key()).member("label", m.label()).member("split", m.split()).endObject();
+      j.endArray().endObject();
+    }
+    j.endArray().endObject();
+    out.println();
+  }
+
+  /** One row per listed group (the summary is in the table and JSON forms). */
+  private static void csv(PrintWriter out, Dupes.Result r) {
+    CsvWriter csv = new CsvWriter(out, List.of("group", "size", "distinct_codes", "max_distance", "cross_split",
+        "conflicting_labels", "labels", "splits", "keys"));
+    int i = 1;
+    for (Dupes.Group g : r.groups())
+      csv.row(List.of(Integer.toString(i++), Integer.toString(g.size()), Integer.toString(g.distinctCodes()),
+          Integer.toString(g.maxDistance()), Boolean.toString(g.crossSplit()), Boolean.toString(g.conflictingLabels()),
+          counts(g.labels()), counts(g.splits()), keys(g.members(), ";")));
+  }
+
+  private void table(PrintWriter out, Dupes.Result r) {
+    Dupes.Summary s = r.summary();
+    boolean flagged = crossSplit || conflictingLabels;
+    out.printf(Locale.ROOT, "%,d examples joined within radius %d (%d bits): %,d pairs, %,d groups%n", s.examples(), s.radius(),
+        s.bits(), s.pairs(), s.groups());
+    TextTable t = new TextTable(List.of("", ""));
+    t.row(List.of("pairs", num(s.pairs())));
+    t.row(List.of("exact duplicate pairs", num(s.exactDuplicatePairs())));
+    t.row(List.of("examples sharing their code", num(s.duplicatedExamples())));
+    t.row(List.of("groups", num(s.groups())));
+    t.row(List.of("largest group", num(s.largestGroup())));
+    t.row(List.of("examples in groups", num(s.examplesInGroups())));
+    t.row(List.of("groups spanning splits (leakage)", num(s.crossSplitGroups())));
+    t.row(List.of("groups with conflicting labels", num(s.conflictingGroups())));
+    t.row(List.of("pairs written", num(s.pairsWritten())));
+    t.row(List.of("time", String.format(Locale.ROOT, "%.2f s", s.seconds())));
+    t.print(out, "  ");
+    if (r.groups().isEmpty()) return;
+    out.println();
+    out.println("largest groups" + (flagged ? " with " + (crossSplit ? "leakage" : "") + (crossSplit && conflictingLabels ? " or " : "")
+        + (conflictingLabels ? "conflicting labels" : "") : "") + (r.groups().size() < s.groups() ? " (" + r.groups().size() + " shown)" : ""));
+    TextTable g = new TextTable(List.of("#", "size", "codes", "max dist", "flags", "labels", "splits", "keys"));
+    int i = 1;
+    for (Dupes.Group x : r.groups()) {
+      List<String> flags = new ArrayList<>();
+      if (x.crossSplit()) flags.add("leak");
+      if (x.conflictingLabels()) flags.add("conflict");
+      g.row(List.of(Integer.toString(i++), num(x.size()), num(x.distinctCodes()), Integer.toString(x.maxDistance()),
+          String.join(",", flags), counts(x.labels()), counts(x.splits()),
+          keys(x.members(), " ") + (x.size() > x.members().size() ? " ..." : "")));
+    }
+    g.print(out, "  ");
+  }
+
+  // ------------------------------------------------------------------ --against output
+
+  private static void json(PrintWriter out, Dupes.AgainstResult r) {
+    Dupes.AgainstSummary s = r.summary();
+    JsonWriter j = new JsonWriter(out).beginObject().name("summary").beginObject()
+        .member("examples", s.examples()).member("bits", s.bits()).member("radius", s.radius())
+        .member("rows", s.rows()).member("rows_with_matches", s.rowsWithMatches()).member("rows_without", s.rowsWithout())
+        .member("matches", s.matches()).member("tables", s.tables()).member("seconds", s.seconds())
+        .endObject().name("rows").beginArray();
+    for (Dupes.RowMatches m : r.rows()) {
+      j.beginObject().member("row", m.row()).member("count", m.count()).name("matches").beginArray();
+      for (Dupes.Match x : m.matches())
+        j.beginObject().member("id", x.id()).member("key", x.key()).member("distance", x.distance())
+            .member("label", x.label()).member("split", x.split()).endObject();
+      j.endArray().endObject();
+    }
+    j.endArray().endObject();
+    out.println();
+  }
+
+  private static void csv(PrintWriter out, Dupes.AgainstResult r) {
+    CsvWriter csv = new CsvWriter(out, List.of("row", "count", "id", "key", "distance", "label", "split"));
+    for (Dupes.RowMatches m : r.rows())
+      for (Dupes.Match x : m.matches())
+        csv.row(List.of(Long.toString(m.row()), Integer.toString(m.count()), Integer.toString(x.id()), str(x.key()),
+            Integer.toString(x.distance()), str(x.label()), str(x.split())));
+  }
+
+  private static void table(PrintWriter out, Dupes.AgainstResult r) {
+    Dupes.AgainstSummary s = r.summary();
+    out.printf(Locale.ROOT, "%,d rows looked up within radius %d (%d bits) among %,d examples: %,d rows have a match, %,d have none "
+        + "(%,d matches, %.2f s)%n", s.rows(), s.radius(), s.bits(), s.examples(), s.rowsWithMatches(), s.rowsWithout(), s.matches(),
+        s.seconds());
+    if (r.rows().isEmpty()) return;
+    TextTable t = new TextTable(List.of("row", "matches", "closest", "distance", "label", "split"));
+    for (Dupes.RowMatches m : r.rows()) {
+      Dupes.Match c = m.matches().get(0);
+      t.row(List.of(Long.toString(m.row()), num(m.count()), str(c.key()), Integer.toString(c.distance()), str(c.label()), str(c.split())));
+    }
+    t.print(out, "  ");
+  }
+
+  private static String counts(Map<String, Integer> m) {
+    List<String> parts = new ArrayList<>();
+    for (Map.Entry<String, Integer> e : m.entrySet()) parts.add(e.getKey() + ":" + e.getValue());
+    return String.join(" ", parts);
+  }
+
+  private static String keys(List<Dupes.Member> ms, String sep) {
+    List<String> ks = new ArrayList<>();
+    for (Dupes.Member m : ms) ks.add(str(m.key()));
+    return String.join(sep, ks);
+  }
+
+  private static String num(long v) {
+    return String.format(Locale.ROOT, "%,d", v);
+  }
+
+  private static String str(String s) {
+    return s == null ? "" : s;
+  }
+}

@@ -1,0 +1,412 @@
+package io.actindex.cli;
+
+import io.actindex.cli.format.CsvWriter;
+import io.actindex.cli.format.Format;
+import io.actindex.cli.format.JsonWriter;
+import io.actindex.cli.format.TextTable;
+import io.actindex.core.BadInputException;
+import io.actindex.edge.EdgeBundle.Calibration;
+import io.actindex.edge.EdgeBundle.Statistic;
+import io.actindex.index.store.IndexReader;
+import io.actindex.query.BuildInfo;
+import io.actindex.query.OodCalibrate;
+import io.actindex.query.OodCalibration;
+import io.actindex.query.OodEval;
+import io.actindex.query.OodScore;
+import io.actindex.query.QueryCodes;
+import io.actindex.query.RocMetrics;
+import io.actindex.query.RowRange;
+import io.actindex.query.Source;
+import io.actindex.query.report.EvalPage;
+import java.io.IOException;
+import java.io.PrintWriter;
+import java.io.StringWriter;
+import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.nio.file.StandardCopyOption;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Locale;
+import java.util.concurrent.Callable;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.ParameterException;
+import picocli.CommandLine.Spec;
+
+/** {@code actindex ood calibrate|score|eval}: out-of-distribution scores, calibration and evaluation. */
+@Command(name = "ood", mixinStandardHelpOptions = true, synopsisSubcommandLabel = "COMMAND",
+    description = {"Out-of-distribution flags from the distance of an input's code to its k nearest training codes.",
+        "calibrate: store a threshold from held-out in-distribution inputs; score: score and flag inputs; "
+            + "eval: AUROC and FPR at 95%% TPR on in and out inputs, beside float and softmax baselines.",
+        "A calibrated heuristic, not a guarantee (see the caution in every output)."},
+    subcommands = {OodCommand.Calibrate.class, OodCommand.Score.class, OodCommand.Eval.class})
+final class OodCommand implements Callable<Integer> {
+  @Spec CommandSpec spec;
+  @Mixin Verbose verbose;
+
+  @Override
+  public Integer call() {
+    spec.commandLine().usage(spec.commandLine().getErr());
+    return ExitCodes.USAGE;
+  }
+
+  static String num(double v) {
+    if (v == Math.rint(v) && Math.abs(v) < 1e15) return Long.toString((long) v);
+    return String.format(Locale.ROOT, "%.4f", v);
+  }
+
+  static String layers(List<String> layers) {
+    return layers.isEmpty() ? "all" : String.join(",", layers);
+  }
+
+  static void calibration(JsonWriter j, Calibration c) {
+    j.member("k", c.k()).member("statistic", c.statistic().label).name("layers").beginArray();
+    for (String l : c.layers()) j.value(l);
+    j.endArray().member("tpr", c.tpr()).member("threshold", c.threshold()).member("calibration_inputs", c.scores().length);
+  }
+
+  /** The caution: a member of JSON documents, the last lines of tables, one line on stderr beside CSV. */
+  static void caution(PrintWriter out, PrintWriter err, Format f) {
+    if (f == Format.csv) err.println("caution: " + OodCalibration.CAUTION);
+    else if (f == Format.table) out.println("caution: " + OodCalibration.CAUTION);
+  }
+
+  @Command(name = "calibrate", mixinStandardHelpOptions = true,
+      description = {"Scores held-out in-distribution inputs (not in the index) and stores the sorted scores, k, statistic, layers and the "
+          + "threshold that accepts the target share of in-distribution inputs in the index (one atomic commit)."})
+  static final class Calibrate implements Callable<Integer> {
+    @Spec CommandSpec spec;
+    @Mixin Verbose verbose;
+    @Mixin IndexOption index;
+    @Mixin QuerySourceOptions query;
+
+    @Option(names = "-k", paramLabel = "K", defaultValue = "1",
+        description = "Score = distance to the K-th nearest training example (k = 1 measured best on the digits set, see docs). Default: ${DEFAULT-VALUE}.")
+    int k;
+
+    @Option(names = "--statistic", paramLabel = "S", defaultValue = "kth",
+        description = "kth (distance to the k-th nearest) or mean (mean of the k nearest distances). Default: ${DEFAULT-VALUE}.")
+    String statistic;
+
+    @Option(names = "--tpr", paramLabel = "RATE", defaultValue = "0.95",
+        description = "Share of in-distribution inputs to accept (the threshold's target true-positive rate). Default: ${DEFAULT-VALUE}.")
+    double tpr;
+
+    @Option(names = "--check-overlap", description = "Refuse calibration rows that look like the index's own training rows.")
+    boolean checkOverlap;
+
+    @Mixin LayersOption layers;
+    @Mixin FormatOption format;
+
+    @Override
+    public Integer call() {
+      query.check();
+      Statistic st;
+      try {
+        st = Statistic.ofLabel(statistic);
+      } catch (IllegalArgumentException e) {
+        throw new ParameterException(spec.commandLine(), "--statistic: " + e.getMessage());
+      }
+      OodCalibrate.Result r;
+      try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "calibrating")) {
+        r = OodCalibrate.run(index.dir, query.toSource(), query.range(), new OodCalibrate.Params(k, st, tpr, layers.layers, checkOverlap), bar);
+      }
+      PrintWriter out = spec.commandLine().getOut();
+      Calibration c = r.calibration();
+      switch (format.format) {
+        case json -> {
+          JsonWriter j = new JsonWriter(out).beginObject().member("index", index.dir.toString());
+          calibration(j, c);
+          j.name("scores").beginObject().member("min", r.min()).member("p50", r.p50()).member("p90", r.p90()).member("p95", r.p95())
+              .member("p99", r.p99()).member("max", r.max()).member("mean", r.mean()).endObject()
+              .member("caution", OodCalibration.CAUTION).endObject();
+          out.println();
+        }
+        case csv -> {
+          CsvWriter w = new CsvWriter(out, List.of("inputs", "k", "statistic", "layers", "tpr", "threshold", "min", "p50", "p90", "p95", "p99", "max", "mean"));
+          w.row(List.of(Integer.toString(r.inputs()), Integer.toString(c.k()), c.statistic().label, layers(c.layers()), Double.toString(c.tpr()),
+              Double.toString(c.threshold()), num(r.min()), num(r.p50()), num(r.p90()), num(r.p95()), num(r.p99()), num(r.max()), num(r.mean())));
+        }
+        case table -> {
+          out.println("calibrated " + index.dir + " on " + r.inputs() + " inputs: k=" + c.k() + ", statistic " + c.statistic().label + ", layers "
+              + layers(c.layers()) + ", target TPR " + c.tpr());
+          out.println("threshold: " + num(c.threshold()) + " (an input is out when its score is above it)");
+          TextTable t = new TextTable(List.of("min", "p50", "p90", "p95", "p99", "max", "mean"));
+          t.row(List.of(num(r.min()), num(r.p50()), num(r.p90()), num(r.p95()), num(r.p99()), num(r.max()), num(r.mean())));
+          out.println("calibration scores:");
+          t.print(out, "  ");
+        }
+      }
+      caution(out, spec.commandLine().getErr(), format.format);
+      out.flush();
+      return ExitCodes.OK;
+    }
+  }
+
+  @Command(name = "score", mixinStandardHelpOptions = true,
+      description = {"Per input: score, threshold, decision (in/out), conformal p-value, own region populated, nearest training examples as "
+          + "evidence, and the model's maximum softmax probability beside it when the inputs are raw inputs and the index holds the model."})
+  static final class Score implements Callable<Integer> {
+    @Spec CommandSpec spec;
+    @Mixin Verbose verbose;
+    @Mixin IndexOption index;
+    @Mixin QuerySourceOptions query;
+
+    @Option(names = "--evidence", paramLabel = "N", defaultValue = "3", description = "Nearest training examples to name per input (at most k). Default: ${DEFAULT-VALUE}.")
+    int evidence;
+
+    @Option(names = "--decision-only", description = "Only the decision: stops as soon as k training examples lie within the threshold.")
+    boolean decisionOnly;
+
+    @Mixin FormatOption format;
+
+    @Override
+    public Integer call() {
+      query.check();
+      PrintWriter out = spec.commandLine().getOut();
+      try (IndexReader reader = IndexReader.open(index.dir)) {
+        if (decisionOnly) {
+          Calibration c = OodCalibration.load(reader);
+          QueryCodes q = query.load(reader);
+          decisions(out, c, q, OodScore.decide(reader, q));
+        } else {
+          OodScore.Output o;
+          try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "scoring")) {
+            o = OodScore.run(reader, query.toSource(), query.range(), new OodScore.Params(evidence), bar);
+          }
+          print(out, o);
+        }
+      }
+      caution(out, spec.commandLine().getErr(), format.format);
+      out.flush();
+      return ExitCodes.OK;
+    }
+
+    private void decisions(PrintWriter out, Calibration c, QueryCodes q, boolean[] isOut) {
+      switch (format.format) {
+        case json -> {
+          JsonWriter j = new JsonWriter(out).beginObject();
+          calibration(j, c);
+          j.name("results").beginArray();
+          for (int i = 0; i < isOut.length; i++) j.beginObject().member("query", q.row(i)).member("decision", isOut[i] ? "out" : "in").endObject();
+          j.endArray().member("caution", OodCalibration.CAUTION).endObject();
+          out.println();
+        }
+        case csv -> {
+          CsvWriter w = new CsvWriter(out, List.of("query", "decision"));
+          for (int i = 0; i < isOut.length; i++) w.row(List.of(Long.toString(q.row(i)), isOut[i] ? "out" : "in"));
+        }
+        case table -> {
+          out.println("threshold " + num(c.threshold()) + " (k=" + c.k() + ", " + c.statistic().label + ", layers " + layers(c.layers()) + ")");
+          TextTable t = new TextTable(List.of("query", "decision"));
+          for (int i = 0; i < isOut.length; i++) t.row(List.of(Long.toString(q.row(i)), isOut[i] ? "out" : "in"));
+          t.print(out, "");
+        }
+      }
+    }
+
+    private void print(PrintWriter out, OodScore.Output o) {
+      Calibration c = o.calibration();
+      switch (format.format) {
+        case json -> {
+          JsonWriter j = new JsonWriter(out).beginObject();
+          calibration(j, c);
+          j.name("results").beginArray();
+          for (OodScore.Result r : o.results()) {
+            j.beginObject().member("query", r.row()).member("score", r.score()).member("kth", r.kth()).member("mean", r.mean())
+                .name("own_region").value(r.ownRegion()).member("decision", r.out() ? "out" : "in").member("p_value", r.pValue())
+                .name("evidence").beginArray();
+            for (OodScore.Evidence e : r.evidence()) j.beginObject().member("id", e.id()).member("key", e.key()).member("distance", e.distance()).endObject();
+            j.endArray().name("max_softmax");
+            if (r.maxSoftmax() == null) j.nullValue();
+            else j.value(r.maxSoftmax().doubleValue());
+            j.endObject();
+          }
+          j.endArray().member("caution", OodCalibration.CAUTION).endObject();
+          out.println();
+        }
+        case csv -> {
+          CsvWriter w = new CsvWriter(out, List.of("query", "score", "kth", "mean", "own_region", "decision", "p_value", "max_softmax", "evidence"));
+          for (OodScore.Result r : o.results())
+            w.row(List.of(Long.toString(r.row()), Double.toString(r.score()), Integer.toString(r.kth()), Double.toString(r.mean()),
+                Boolean.toString(r.ownRegion()), r.out() ? "out" : "in", Double.toString(r.pValue()),
+                r.maxSoftmax() == null ? "" : Double.toString(r.maxSoftmax()), evidence(r)));
+        }
+        case table -> {
+          out.println("threshold " + num(c.threshold()) + " (k=" + c.k() + ", " + c.statistic().label + ", layers " + layers(c.layers())
+              + ", target TPR " + c.tpr() + ", " + c.scores().length + " calibration inputs)");
+          boolean msp = o.results().stream().anyMatch(r -> r.maxSoftmax() != null);
+          List<String> header = new ArrayList<>(List.of("query", "score", "decision", "p-value", "own region"));
+          if (msp) header.add("max softmax");
+          header.add("nearest (key:distance)");
+          TextTable t = new TextTable(header);
+          for (OodScore.Result r : o.results()) {
+            List<String> row = new ArrayList<>(List.of(Long.toString(r.row()), num(r.score()), r.out() ? "out" : "in",
+                String.format(Locale.ROOT, "%.4f", r.pValue()), r.ownRegion() ? "populated" : "empty"));
+            if (msp) row.add(r.maxSoftmax() == null ? "" : String.format(Locale.ROOT, "%.4f", r.maxSoftmax()));
+            row.add(evidence(r));
+            t.row(row);
+          }
+          t.print(out, "");
+        }
+      }
+    }
+
+    private static String evidence(OodScore.Result r) {
+      StringBuilder s = new StringBuilder();
+      for (OodScore.Evidence e : r.evidence()) s.append(s.isEmpty() ? "" : " ").append(e.key()).append(':').append(e.distance());
+      return s.toString();
+    }
+  }
+
+  @Command(name = "eval", mixinStandardHelpOptions = true,
+      description = {"AUROC, FPR at 95%% TPR and AUPR of the calibrated code score on in- and out-of-distribution inputs, a breakdown over k, "
+          + "statistic and layers, and beside it the k-NN score on float activations and the softmax baseline when they apply.",
+          "Optionally the ROC curves as CSV and a self-contained HTML page."})
+  static final class Eval implements Callable<Integer> {
+    enum Kind { inputs, activations, codes }
+
+    @Spec CommandSpec spec;
+    @Mixin Verbose verbose;
+    @Mixin IndexOption index;
+
+    @Option(names = "--in", required = true, paramLabel = "FILE", description = "In-distribution inputs (held out from the index and the calibration).")
+    Path in;
+
+    @Option(names = "--out", required = true, paramLabel = "FILE", description = "Out-of-distribution inputs.")
+    Path outFile;
+
+    @Option(names = "--kind", paramLabel = "KIND",
+        description = "What --in and --out hold: inputs (run through the index's model), activations or codes. Default: inputs when the index holds a model, else activations.")
+    Kind kind;
+
+    @Option(names = "--in-floats", paramLabel = "FILE", description = "Float activations of the --in rows (.npy or .csv), for the float k-NN score.")
+    Path inFloats;
+
+    @Option(names = "--out-floats", paramLabel = "FILE", description = "Float activations of the --out rows.")
+    Path outFloats;
+
+    @Option(names = "--train-floats", paramLabel = "FILE",
+        description = "Float activations of the training examples (the float score's reference set; one row per index id, in build order, for the refined score).")
+    Path trainFloats;
+
+    @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",
+        description = "Hamming candidates the refined score re-ranks by float distance (with --train-floats whose rows are the index ids). Default: ${DEFAULT-VALUE}.")
+    int candidates;
+
+    @Option(names = "--roc", paramLabel = "FILE", description = "Write the ROC curves as CSV (score,threshold,false_alarm_rate,detection_rate).")
+    Path roc;
+
+    @Option(names = "--html", paramLabel = "FILE", description = "Write a self-contained HTML page (inline SVG: ROC curves, score histograms).")
+    Path html;
+
+    @Mixin FormatOption format;
+
+    @Override
+    public Integer call() {
+      for (Path p : new Path[] {roc, html})
+        if (p != null && !Files.isDirectory(p.toAbsolutePath().getParent())) throw new BadInputException(p + ": its folder does not exist");
+      OodEval.Result r;
+      try (IndexReader reader = IndexReader.open(index.dir)) {
+        Kind k = kind != null ? kind : BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel() ? Kind.inputs : Kind.activations;
+        try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "evaluating")) {
+          if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
+          r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats, candidates), bar);
+        }
+      }
+      List<OodEval.Scored> scores = r.scores();
+      if (roc != null) write(roc, rocCsv(scores));
+      if (html != null) write(html, EvalPage.render("Out-of-distribution evaluation: " + index.dir.getFileName(), r));
+      PrintWriter out = spec.commandLine().getOut();
+      switch (format.format) {
+        case json -> {
+          JsonWriter j = new JsonWriter(out).beginObject();
+          calibration(j, r.calibration());
+          j.member("in", r.code().metrics().nIn()).member("out", r.code().metrics().nOut()).name("scores").beginArray();
+          for (OodEval.Scored s : scores) {
+            RocMetrics m = s.metrics();
+            j.beginObject().member("name", s.name()).member("description", s.description()).member("auroc", m.auroc())
+                .member("fpr_at_95_tpr", m.fprAt95Tpr()).member("aupr_in", m.auprIn()).member("aupr_out", m.auprOut()).endObject();
+          }
+          j.endArray().name("variants").beginArray();
+          for (OodEval.Variant v : r.variants()) {
+            j.beginObject().member("k", v.k()).member("statistic", v.statistic().label).name("layers").beginArray();
+            for (String l : v.layers()) j.value(l);
+            j.endArray().member("auroc", v.auroc()).member("fpr_at_95_tpr", v.fprAt95Tpr()).endObject();
+          }
+          j.endArray().member("caution", OodCalibration.CAUTION).endObject();
+          out.println();
+        }
+        case csv -> {
+          CsvWriter w = new CsvWriter(out, List.of("score", "k", "statistic", "layers", "auroc", "fpr_at_95_tpr", "aupr_in", "aupr_out"));
+          for (OodEval.Scored s : scores)
+            w.row(List.of(s.name(), "", "", "", Double.toString(s.metrics().auroc()), Double.toString(s.metrics().fprAt95Tpr()),
+                Double.toString(s.metrics().auprIn()), Double.toString(s.metrics().auprOut())));
+          for (OodEval.Variant v : r.variants())
+            w.row(List.of("code", Integer.toString(v.k()), v.statistic().label, layers(v.layers()), Double.toString(v.auroc()),
+                Double.toString(v.fprAt95Tpr()), "", ""));
+        }
+        case table -> {
+          out.println(r.code().metrics().nIn() + " in-distribution and " + r.code().metrics().nOut() + " out-of-distribution inputs");
+          TextTable t = new TextTable(List.of("score", "AUROC", "FPR@95%TPR", "AUPR in", "AUPR out", "what it is"));
+          for (OodEval.Scored s : scores) {
+            RocMetrics m = s.metrics();
+            t.row(List.of(s.name(), f(m.auroc()), f(m.fprAt95Tpr()), f(m.auprIn()), f(m.auprOut()), s.description()));
+          }
+          t.print(out, "");
+          out.println();
+          out.println("code-score variants:");
+          TextTable v = new TextTable(List.of("k", "statistic", "layers", "AUROC", "FPR@95%TPR"));
+          for (OodEval.Variant x : r.variants())
+            v.row(List.of(Integer.toString(x.k()), x.statistic().label, layers(x.layers()), f(x.auroc()), f(x.fprAt95Tpr())));
+          v.print(out, "  ");
+        }
+      }
+      caution(out, spec.commandLine().getErr(), format.format);
+      out.flush();
+      return ExitCodes.OK;
+    }
+
+    private static Source source(Kind k, Path file) {
+      return switch (k) {
+        case inputs -> Source.inputs(file, null);
+        case activations -> Source.activations(file);
+        case codes -> Source.codes(file);
+      };
+    }
+
+    private static String f(double v) {
+      return String.format(Locale.ROOT, "%.4f", v);
+    }
+
+    static String rocCsv(List<OodEval.Scored> scores) {
+      StringWriter s = new StringWriter();
+      PrintWriter p = new PrintWriter(s);
+      CsvWriter w = new CsvWriter(p, List.of("score", "threshold", "false_alarm_rate", "detection_rate"));
+      for (OodEval.Scored sc : scores)
+        for (RocMetrics.Point pt : sc.metrics().roc())
+          w.row(List.of(sc.name(), Double.isInfinite(pt.threshold()) ? "inf" : Double.toString(pt.threshold()), Double.toString(pt.falseAlarmRate()),
+              Double.toString(pt.detectionRate())));
+      p.flush();
+      return s.toString();
+    }
+
+    private static void write(Path file, String text) {
+      try {
+        Path tmp = Files.createTempFile(file.toAbsolutePath().getParent(), file.getFileName().toString(), ".tmp");
+        try {
+          Files.writeString(tmp, text, StandardCharsets.UTF_8);
+          Files.move(tmp, file, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
+        } finally {
+          Files.deleteIfExists(tmp);
+        }
+      } catch (IOException e) {
+        throw new UncheckedIOException("cannot write " + file + ": " + e.getMessage(), e);
+      }
+    }
+  }
+}

@@ -1,0 +1,167 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import io.actindex.cli.Reference.Example;
+import io.actindex.cli.Reference.Layer;
+import io.actindex.core.Randoms;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import org.junit.jupiter.api.RepeatedTest;
+import org.junit.jupiter.api.RepetitionInfo;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * {@code build} then {@code dupes} through the command line: the {@code --pairs} CSV equals the
+ * test's O(n^2) join (with {@code --where} and {@code --layers}), the JSON summary counts agree,
+ * {@code --against} equals a per-row radius search, and bad input exits 2 leaving the index
+ * byte-identical.
+ */
+class DupesEndToEndTest {
+  @TempDir Path tmp;
+
+  static final String LAYOUT = NearestEndToEndTest.LAYOUT;
+  static final List<Layer> ALL = NearestEndToEndTest.LAYERS;
+
+  /** ReLU-like or uniform codes with planted exact and near copies. */
+  static boolean[][] planted(boolean[][] codes, SplittableRandom rnd) {
+    boolean[][] out = new boolean[codes.length][];
+    for (int i = 0; i < codes.length; i++) out[i] = codes[i].clone();
+    for (int i = 0; i < codes.length / 6; i++) {
+      int to = rnd.nextInt(codes.length);
+      out[to] = out[rnd.nextInt(codes.length)].clone();
+      for (int f = rnd.nextInt(4); f > 0; f--) {
+        int b = rnd.nextInt(out[to].length);
+        out[to][b] = !out[to][b];
+      }
+    }
+    return out;
+  }
+
+  Path build(boolean[][] codes, List<Example> ex) {
+    Path idx = tmp.resolve("idx");
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("codes.npy"), codes).toString(),
+        "--code-layout", LAYOUT, "--meta", NearestEndToEndTest.metaCsv(tmp.resolve("meta.csv"), ex).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    return idx;
+  }
+
+  @RepeatedTest(3)
+  void pairsFileAndSummaryEqualBruteForce(RepetitionInfo rep) throws Exception {
+    long seed = Randoms.seed(rep.getCurrentRepetition());
+    SplittableRandom rnd = new SplittableRandom(seed);
+    boolean relu = rep.getCurrentRepetition() % 2 == 1;
+    NearestEndToEndTest.Data d = NearestEndToEndTest.data(300, 1, 40, relu, seed);
+    boolean[][] codes = planted(d.index(), rnd);
+    List<Example> ex = NearestEndToEndTest.examples(codes, 0, "a", seed);
+    Path idx = build(codes, ex);
+    for (int radius : new int[] {0, 2, 5}) {
+      for (String variant : new String[] {"all", "where", "layers"}) {
+        String what = Randoms.describe(seed) + " R=" + radius + " " + variant + (relu ? " relu" : " uniform");
+        List<Layer> on = variant.equals("layers") ? List.of(ALL.get(0)) : ALL;
+        List<String> want = new ArrayList<>(List.of("id_a,id_b,distance"));
+        for (int a = 0; a < codes.length; a++)
+          for (int b = a + 1; b < codes.length; b++) {
+            if (variant.equals("where") && !(ex.get(a).meta().get("split").equals("train") && ex.get(b).meta().get("split").equals("train")))
+              continue;
+            int dist = Reference.distance(codes[a], codes[b], on);
+            if (dist <= radius) want.add(a + "," + b + "," + dist);
+          }
+        Path pairs = tmp.resolve("pairs.csv");
+        List<String> args = new ArrayList<>(List.of("dupes", "--index", idx.toString(), "--radius", "" + radius, "--format", "json",
+            "--pairs", pairs.toString(), "--threads", "2", "--groups", "3"));
+        if (variant.equals("where")) args.addAll(List.of("--where", "split = train"));
+        if (variant.equals("layers")) args.addAll(List.of("--layers", "h1"));
+        JsonNode doc = NearestEndToEndTest.json(args.toArray(new String[0]));
+        List<String> lines = Files.readAllLines(pairs);
+        assertThat(lines.get(0)).as(what).isEqualTo("id_a,id_b,distance");
+        List<String> sorted = new ArrayList<>(lines.subList(1, lines.size()));
+        sorted.sort(java.util.Comparator.comparingInt((String l) -> Integer.parseInt(l.split(",")[0]))
+            .thenComparingInt(l -> Integer.parseInt(l.split(",")[1])));
+        sorted.add(0, lines.get(0));
+        assertThat(sorted).as(what).isEqualTo(want);
+        JsonNode s = doc.get("summary");
+        assertThat(s.get("pairs").asLong()).as(what).isEqualTo(want.size() - 1);
+        assertThat(s.get("pairs_written").asLong()).as(what).isEqualTo(want.size() - 1);
+        assertThat(s.get("radius").asInt()).as(what).isEqualTo(radius);
+        assertThat(s.get("bits").asInt()).as(what).isEqualTo(variant.equals("layers") ? 40 : 64);
+        assertThat(doc.get("groups").size()).as(what).isLessThanOrEqualTo(3);
+        for (JsonNode g : doc.get("groups")) assertThat(g.get("size").asInt()).as(what).isLessThanOrEqualTo(s.get("largest_group").asInt());
+      }
+    }
+    Cli.Result table = Cli.run("dupes", "--index", idx.toString(), "--radius", "2");
+    assertThat(table.code()).as(table.describe()).isZero();
+    assertThat(table.out()).contains("exact duplicate pairs").contains("groups spanning splits (leakage)");
+    Cli.Result csv = Cli.run("dupes", "--index", idx.toString(), "--radius", "2", "--format", "csv", "--cross-split");
+    assertThat(csv.code()).as(csv.describe()).isZero();
+    assertThat(csv.out()).startsWith("group,size,distinct_codes,max_distance,cross_split,conflicting_labels,labels,splits,keys");
+    for (String line : csv.out().strip().split("\n")) if (!line.startsWith("group,")) assertThat(line).contains(",true,");
+  }
+
+  @Test
+  void againstEqualsPerRowRadiusSearch() throws Exception {
+    long seed = Randoms.seed(9);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    NearestEndToEndTest.Data d = NearestEndToEndTest.data(300, 1, 60, true, seed);
+    boolean[][] codes = planted(d.index(), rnd);
+    boolean[][] queries = d.queries();
+    for (int i = 0; i < 20; i++) queries[i] = codes[rnd.nextInt(codes.length)].clone();
+    Path idx = build(codes, NearestEndToEndTest.examples(codes, 0, "a", seed));
+    Path q = Files2.bits(tmp.resolve("q.npy"), queries), pairs = tmp.resolve("m.csv");
+    int radius = 3;
+    JsonNode doc = NearestEndToEndTest.json("dupes", "--index", idx.toString(), "--radius", "" + radius, "--against", q.toString(),
+        "--pairs", pairs.toString(), "--format", "json");
+    List<String> want = new ArrayList<>(List.of("row,id,distance"));
+    int rowsWith = 0;
+    for (int r = 0; r < queries.length; r++) {
+      boolean any = false;
+      for (int id = 0; id < codes.length; id++) {
+        int dist = Reference.distance(queries[r], codes[id], ALL);
+        if (dist <= radius) {
+          want.add(r + "," + id + "," + dist);
+          any = true;
+        }
+      }
+      if (any) rowsWith++;
+    }
+    assertThat(Files.readAllLines(pairs)).as(Randoms.describe(seed)).isEqualTo(want);
+    assertThat(doc.get("summary").get("rows_with_matches").asInt()).isEqualTo(rowsWith);
+    assertThat(doc.get("summary").get("rows_without").asInt()).isEqualTo(queries.length - rowsWith);
+    assertThat(doc.get("rows").size()).isEqualTo(rowsWith);
+  }
+
+  @Test
+  void badInputExitsTwoAndLeavesTheIndexUnchanged() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(5);
+    NearestEndToEndTest.Data d = NearestEndToEndTest.data(50, 1, 3, false, 5);
+    Path idx = build(d.index(), NearestEndToEndTest.examples(d.index(), 0, "a", 5));
+    Map<String, String> before = Files2.checksums(idx);
+    boolean[][] narrow = new boolean[3][63];
+    for (boolean[] row : narrow) for (int b = 0; b < row.length; b++) row[b] = rnd.nextBoolean();
+    Path wrong = Files2.bits(tmp.resolve("narrow.npy"), narrow);
+    String[][] cases = {
+      {"--radius", "-1"},
+      {"--radius", "65"},
+      {"--radius", "41", "--layers", "h1"},
+      {"--radius", "2", "--where", "split = nowhere"},
+      {"--radius", "2", "--layers", "h9"},
+      {"--radius", "2", "--against", wrong.toString()},
+      {"--radius", "2", "--against", tmp.resolve("missing.npy").toString()},
+    };
+    for (String[] c : cases) {
+      List<String> args = new ArrayList<>(List.of("dupes", "--index", idx.toString(), "--pairs", tmp.resolve("p.csv").toString()));
+      args.addAll(List.of(c));
+      Cli.Result r = Cli.run(args.toArray(new String[0]));
+      assertThat(r.code()).as(r.describe()).isEqualTo(2);
+      assertThat(r.err().strip().lines().count()).as(r.describe()).isEqualTo(1);
+      assertThat(Files.exists(tmp.resolve("p.csv"))).as(r.describe()).isFalse();
+      assertThat(Files2.checksums(idx)).as(r.describe()).isEqualTo(before);
+    }
+  }
+}

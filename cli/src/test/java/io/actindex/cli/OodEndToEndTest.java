@@ -1,0 +1,152 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Arrays;
+import java.util.Map;
+import java.util.SplittableRandom;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * {@code ood calibrate|score|eval} and {@code export-edge} through {@code Main.run} on generated
+ * code files: JSON (read back with Jackson) against a bit-by-bit k-NN, the conformal threshold and
+ * p-value formulas, and the pair-by-pair Mann-Whitney count, all computed in this test; every
+ * refusal exits 2 with one line and leaves the index byte-identical.
+ */
+class OodEndToEndTest {
+  @TempDir Path tmp;
+  static final ObjectMapper JSON = new ObjectMapper();
+  static final int BITS = 40;
+
+  /** Clustered bit rows: each row copies one of 6 prototypes with a few bits flipped ({@code noise} per bit). */
+  static boolean[][] rows(int n, double noise, long seed) {
+    SplittableRandom proto = new SplittableRandom(99), rnd = new SplittableRandom(seed);
+    boolean[][] p = new boolean[6][BITS];
+    for (boolean[] r : p) for (int j = 0; j < BITS; j++) r[j] = proto.nextBoolean();
+    boolean[][] out = new boolean[n][];
+    for (int i = 0; i < n; i++) {
+      out[i] = p[rnd.nextInt(6)].clone();
+      for (int j = 0; j < BITS; j++) if (rnd.nextDouble() < noise) out[i][j] = !out[i][j];
+    }
+    return out;
+  }
+
+  static int kth(boolean[][] train, boolean[] q, int k) {
+    int[] d = new int[train.length];
+    for (int i = 0; i < train.length; i++) for (int j = 0; j < BITS; j++) if (train[i][j] != q[j]) d[i]++;
+    Arrays.sort(d);
+    return d[k - 1];
+  }
+
+  @Test
+  void calibrateScoreEvalAndExport() throws Exception {
+    boolean[][] train = rows(400, 0.05, 1), cal = rows(60, 0.05, 2), in = rows(50, 0.05, 3), out = rows(50, 0.3, 4);
+    Path idx = tmp.resolve("idx");
+    Path trainF = Files2.bits(tmp.resolve("train.npy"), train), calF = Files2.bits(tmp.resolve("cal.npy"), cal);
+    Path inF = Files2.bits(tmp.resolve("in.npy"), in), outF = Files2.bits(tmp.resolve("out.npy"), out);
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", trainF.toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+
+    Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--codes", calF.toString(), "-k", "3", "--tpr", "0.9", "--format", "json");
+    assertThat(c.code()).as(c.describe()).isZero();
+    JsonNode cj = JSON.readTree(c.out());
+    double[] calScores = new double[cal.length];
+    for (int i = 0; i < cal.length; i++) calScores[i] = kth(train, cal[i], 3);
+    Arrays.sort(calScores);
+    double threshold = calScores[(int) Math.ceil(0.9 * 61 - 1e-9) - 1]; // split-conformal rank ceil(tpr (n + 1))
+    assertThat(cj.get("threshold").asDouble()).isEqualTo(threshold);
+    assertThat(cj.get("calibration_inputs").asInt()).isEqualTo(60);
+    assertThat(cj.get("caution").asText()).contains("not a guarantee");
+
+    Cli.Result s = Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--format", "json");
+    assertThat(s.code()).as(s.describe()).isZero();
+    JsonNode results = JSON.readTree(s.out()).get("results");
+    Cli.Result d = Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--decision-only", "--format", "json");
+    JsonNode decisions = JSON.readTree(d.out()).get("results");
+    for (int i = 0; i < in.length; i++) {
+      JsonNode r = results.get(i);
+      double score = kth(train, in[i], 3);
+      int ge = 0;
+      for (double v : calScores) if (v >= score) ge++;
+      assertThat(r.get("score").asDouble()).as("query " + i).isEqualTo(score);
+      assertThat(r.get("decision").asText()).isEqualTo(score > threshold ? "out" : "in");
+      assertThat(decisions.get(i).get("decision").asText()).isEqualTo(r.get("decision").asText());
+      assertThat(r.get("p_value").asDouble()).isEqualTo((1.0 + ge) / 61.0);
+      assertThat(r.get("evidence")).hasSize(3);
+      assertThat(r.get("evidence").get(0).get("key").asText()).startsWith("row-");
+      assertThat(r.get("max_softmax").isNull()).isTrue();
+    }
+    Cli.Result csv = Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:2", "--format", "csv");
+    assertThat(csv.out().lines().toList()).hasSize(3).first().isEqualTo("query,score,kth,mean,own_region,decision,p_value,max_softmax,evidence");
+    assertThat(csv.err()).startsWith("caution: ");
+
+    Path html = tmp.resolve("eval.html"), roc = tmp.resolve("roc.csv");
+    Cli.Result e = Cli.run("ood", "eval", "--index", idx.toString(), "--in", inF.toString(), "--out", outF.toString(), "--kind", "codes",
+        "--html", html.toString(), "--roc", roc.toString(), "--format", "json");
+    assertThat(e.code()).as(e.describe()).isZero();
+    JsonNode code = JSON.readTree(e.out()).get("scores").get(0);
+    double u = 0;
+    for (boolean[] a : in) for (boolean[] o : out) {
+      int sa = kth(train, a, 3), so = kth(train, o, 3);
+      u += so > sa ? 1 : so == sa ? 0.5 : 0;
+    }
+    assertThat(code.get("auroc").asDouble()).isCloseTo(u / (in.length * out.length), org.assertj.core.api.Assertions.within(1e-12));
+    assertThat(Files.readString(html)).contains("<svg", "ROC curves", "not a guarantee").doesNotContain("<script");
+    assertThat(Files.readAllLines(roc).getFirst()).isEqualTo("score,threshold,false_alarm_rate,detection_rate");
+
+    Path bundle = tmp.resolve("b.edge");
+    Cli.Result x = Cli.run("export-edge", "--index", idx.toString(), "--out", bundle.toString(), "--c-source", tmp.resolve("c").toString(),
+        "--format", "json");
+    assertThat(x.code()).as(x.describe()).isZero();
+    JsonNode xj = JSON.readTree(x.out());
+    assertThat(xj.get("bytes").asLong()).isEqualTo(Files.size(bundle));
+    assertThat(xj.get("examples").asInt()).isEqualTo(400);
+    assertThat(tmp.resolve("c").resolve("actindex_edge.c")).exists();
+    Cli.Result t = Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:1");
+    assertThat(t.out()).contains("caution: A calibrated heuristic, not a guarantee");
+  }
+
+  @Test
+  void refusalsExitTwoWithOneLineAndWriteNothing() {
+    boolean[][] train = rows(100, 0.05, 1);
+    Path idx = tmp.resolve("idx");
+    Path trainF = Files2.bits(tmp.resolve("train.npy"), train), cal = Files2.bits(tmp.resolve("cal.npy"), rows(10, 0.05, 2));
+    Path wide = Files2.bits(tmp.resolve("wide.npy"), new boolean[30][BITS + 3]);
+    assertThat(Cli.run("build", "--out", idx.toString(), "--codes", trainF.toString()).code()).isZero();
+    Map<String, String> before = Files2.checksums(idx);
+    String i = idx.toString();
+    String[][] bad = {
+        {"ood", "score", "--index", i, "--codes", cal.toString()},
+        {"ood", "eval", "--index", i, "--in", cal.toString(), "--out", cal.toString(), "--kind", "codes", "--html", tmp.resolve("e.html").toString()},
+        {"export-edge", "--index", i, "--out", tmp.resolve("b.edge").toString()},
+        {"ood", "calibrate", "--index", i, "--codes", cal.toString()},
+        {"ood", "calibrate", "--index", i, "--codes", wide.toString()},
+        {"ood", "calibrate", "--index", i, "--codes", trainF.toString(), "-k", "101"},
+        {"ood", "calibrate", "--index", i, "--codes", trainF.toString(), "--tpr", "1.5"},
+        {"ood", "calibrate", "--index", i, "--codes", trainF.toString(), "--statistic", "median"},
+        {"ood", "calibrate", "--index", i},
+    };
+    String[] expect = {"no OOD calibration stored", "no OOD calibration stored", "no OOD calibration stored", "needs at least 19", "(30, 43)",
+        "larger than the index", "--tpr", "--statistic", "exactly one query source"};
+    for (int t = 0; t < bad.length; t++) {
+      Cli.Result r = Cli.run(bad[t]);
+      assertThat(r.code()).as(r.describe()).isEqualTo(2);
+      assertThat(r.err().lines().filter(l -> !l.isBlank()).findFirst().orElse("")).as(r.describe()).contains(expect[t]);
+      if (t < 7) assertThat(r.err().lines().count()).as(r.describe()).isEqualTo(1);
+    }
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+    assertThat(tmp.resolve("b.edge")).doesNotExist();
+    assertThat(tmp.resolve("e.html")).doesNotExist();
+    // with a calibration stored: --with-model on an index without a model is refused too
+    assertThat(Cli.run("ood", "calibrate", "--index", i, "--codes", Files2.bits(tmp.resolve("c2.npy"), rows(40, 0.05, 5)).toString()).code()).isZero();
+    Cli.Result m = Cli.run("export-edge", "--index", i, "--out", tmp.resolve("b.edge").toString(), "--with-model");
+    assertThat(m.code()).as(m.describe()).isEqualTo(2);
+    assertThat(m.err()).contains("holds no model");
+    assertThat(tmp.resolve("b.edge")).doesNotExist();
+  }
+}

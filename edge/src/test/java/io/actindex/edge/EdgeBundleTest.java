@@ -1,0 +1,160 @@
+package io.actindex.edge;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+
+import java.io.BufferedReader;
+import java.io.ByteArrayOutputStream;
+import java.io.PrintStream;
+import java.io.StringReader;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import java.util.SplittableRandom;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * The edge reader on its own (the index-side agreement is tested in the query module): scores
+ * against every example listed out one by one (a code shared by c examples appears c times), the
+ * decision-only path against the score, the byte format round trip, refusals of damaged bundles,
+ * and the command-line entry point's exit codes.
+ */
+class EdgeBundleTest {
+  @TempDir Path tmp;
+
+  /** A random bundle: {@code n} unique codes of {@code bits} bits with counts 1..4, descending. */
+  static EdgeBundle random(long seed, int n, int bits, EdgeBundle.Statistic st, double threshold, boolean model) {
+    SplittableRandom rnd = new SplittableRandom(seed);
+    int words = (bits + 63) >>> 6;
+    long[] codes = new long[n * words];
+    for (int i = 0; i < codes.length; i++) codes[i] = rnd.nextLong();
+    for (int i = 0; i < n; i++) if ((bits & 63) != 0) codes[i * words + words - 1] &= (1L << (bits & 63)) - 1;
+    int[] counts = new int[n];
+    for (int i = 0; i < n; i++) counts[i] = 1 + rnd.nextInt(4);
+    Integer[] boxed = Arrays.stream(counts).boxed().sorted((a, b) -> b - a).toArray(Integer[]::new);
+    for (int i = 0; i < n; i++) counts[i] = boxed[i];
+    double[] cal = new double[25];
+    for (int i = 0; i < cal.length; i++) cal[i] = rnd.nextInt(bits / 2);
+    Arrays.sort(cal);
+    List<String> layers = bits == 70 ? List.of("b") : List.of(); // 256 bits unmasked: the register fast path
+    EdgeBundle.Model m = null;
+    if (model) {
+      float[] w1 = new float[20 * 3], b1 = new float[20], w2 = new float[(bits - 20) * 20], b2 = new float[bits - 20], w3 = new float[2 * (bits - 20)];
+      for (float[] a : List.of(w1, b1, w2, b2, w3)) for (int i = 0; i < a.length; i++) a[i] = (float) rnd.nextGaussian();
+      double[] thresholds = new double[bits];
+      m = new EdgeBundle.Model(List.of(new EdgeBundle.Layer("a", 20, 3, w1, b1), new EdgeBundle.Layer("b", bits - 20, 20, w2, b2),
+          new EdgeBundle.Layer("out", 2, bits - 20, w3, new float[2])), thresholds);
+    }
+    return new EdgeBundle(List.of("a", "b"), new int[] {20, bits - 20}, codes, counts,
+        new EdgeBundle.Calibration(3, st, layers, 0.9, threshold, cal), m);
+  }
+
+  @Test
+  void scoresMatchEveryExampleListedOut() {
+    for (int rep = 0; rep < 40; rep++) {
+      long seed = 1000 + rep;
+      int bits = new int[] {70, 36, 256}[rep % 3];
+      EdgeBundle.Statistic st = rep % 4 < 2 ? EdgeBundle.Statistic.KTH : EdgeBundle.Statistic.MEAN;
+      EdgeBundle b = random(seed, 50, bits, st, new SplittableRandom(seed).nextInt(bits / 2) + (rep % 3 == 0 ? 0.5 : 0), false);
+      long[] mask = b.calibration().layers().isEmpty() ? null : b.mask(b.calibration().layers());
+      List<long[]> examples = new ArrayList<>();
+      for (int i = 0; i < b.uniqueCodes(); i++) for (int c = 0; c < b.count(i); c++) examples.add(b.code(i));
+      SplittableRandom rnd = new SplittableRandom(seed * 7);
+      for (int qi = 0; qi < 30; qi++) {
+        long[] q = qi % 3 == 0 ? b.code(rnd.nextInt(b.uniqueCodes())) : b.code(rnd.nextInt(b.uniqueCodes()));
+        if (qi % 3 != 0) for (int f = 0; f < 1 + rnd.nextInt(bits / 3); f++) {
+          int bit = rnd.nextInt(bits);
+          q[bit >>> 6] ^= 1L << (bit & 63);
+        }
+        int[] d = new int[examples.size()];
+        for (int e = 0; e < d.length; e++)
+          for (int bit = 0; bit < bits; bit++)
+            if ((mask == null || (mask[bit >>> 6] >>> (bit & 63) & 1) != 0) && ((q[bit >>> 6] ^ examples.get(e)[bit >>> 6]) >>> (bit & 63) & 1) != 0) d[e]++;
+        Arrays.sort(d);
+        double mean = (d[0] + d[1] + d[2]) / 3.0;
+        long zeros = Arrays.stream(d).filter(x -> x == 0).count();
+        EdgeBundle.Score s = b.score(q);
+        String what = "seed " + seed + " query " + qi;
+        assertThat(s.kth()).as(what).isEqualTo(d[2]);
+        assertThat(s.mean()).as(what).isEqualTo(mean);
+        assertThat(s.ownRegion()).as(what).isEqualTo(zeros);
+        assertThat(s.value()).isEqualTo(st == EdgeBundle.Statistic.KTH ? d[2] : mean);
+        assertThat(b.isOut(q)).as(what + " decision only").isEqualTo(s.value() > b.calibration().threshold());
+      }
+    }
+  }
+
+  @Test
+  void formatRoundTripsAndRefusesDamage() throws Exception {
+    EdgeBundle b = random(7, 30, 70, EdgeBundle.Statistic.MEAN, 5, true);
+    byte[] bytes = BundleFormat.toBytes(b);
+    EdgeBundle back = BundleFormat.read(bytes, "x");
+    assertThat(BundleFormat.toBytes(back)).isEqualTo(bytes);
+    double[] input = {0.25, -1, 3};
+    assertThat(back.encode(input)).isEqualTo(b.encode(input));
+    assertThat(back.maxSoftmax(input)).isEqualTo(b.maxSoftmax(input));
+    for (int pos = 0; pos < bytes.length; pos += 3) {
+      byte[] bad = bytes.clone();
+      bad[pos] ^= 0x10;
+      int at = pos;
+      assertThatThrownBy(() -> BundleFormat.read(bad, "bad.edge")).as("flip at " + at).isInstanceOf(EdgeFormatException.class)
+          .hasMessageStartingWith("bad.edge: ");
+    }
+    byte[] v2 = bytes.clone();
+    v2[11] = 2; // version 2
+    assertThatThrownBy(() -> BundleFormat.read(v2, "v2.edge")).hasMessageContaining("version 2");
+    assertThatThrownBy(() -> BundleFormat.read(Arrays.copyOf(bytes, 10), "cut.edge")).isInstanceOf(EdgeFormatException.class);
+    assertThatThrownBy(() -> BundleFormat.read("PK\u0003\u0004 a zip file".getBytes(StandardCharsets.ISO_8859_1), "a.zip"))
+        .hasMessageContaining("not an actindex edge bundle");
+  }
+
+  @Test
+  void encodeFollowsTheForwardPass() {
+    // one hidden layer of 2 units (weights [[1, -1], [0.5, 0.5]], bias [0, -1]) and thresholds 0 and 0.25
+    EdgeBundle.Model m = new EdgeBundle.Model(List.of(new EdgeBundle.Layer("h", 2, 2, new float[] {1, -1, 0.5f, 0.5f}, new float[] {0, -1}),
+        new EdgeBundle.Layer("o", 2, 2, new float[] {1, 0, 0, 1}, new float[] {0, 0})), new double[] {0, 0.25});
+    EdgeBundle b = new EdgeBundle(List.of("h"), new int[] {2}, new long[] {0}, new int[] {1}, null, m);
+    assertThat(b.encode(new double[] {2, 1})).containsExactly(3L); // h = (1, 0.5): both above their thresholds
+    assertThat(b.encode(new double[] {1, 1})).containsExactly(0L); // h = (0, 0)
+    assertThat(b.encode(new double[] {1.5, 0})).containsExactly(1L); // h = (1.5, relu(-0.25) = 0)
+    assertThat(b.encode(new double[] {2.5, 0})).containsExactly(1L); // h = (2.5, 0.25): 0.25 is not > 0.25
+    assertThat(b.encode(new double[] {3, 0})).containsExactly(3L); // h = (3, 0.5)
+    // softmax of logits (a, b) = h: max probability 1 / (1 + e^-|a-b|)
+    assertThat(b.maxSoftmax(new double[] {3, 0})).isCloseTo(1 / (1 + Math.exp(-2.5)), org.assertj.core.api.Assertions.within(1e-15));
+  }
+
+  @Test
+  void commandLineScoresRowsAndRefusesBadBundles() throws Exception {
+    EdgeBundle b = random(9, 20, 36, EdgeBundle.Statistic.KTH, 6, false);
+    Path file = tmp.resolve("b.edge");
+    BundleFormat.write(b, file);
+    StringBuilder bits = new StringBuilder();
+    long[] c = b.code(0);
+    for (int i = 0; i < 36; i++) bits.append((c[i >>> 6] >>> (i & 63) & 1) != 0 ? '1' : '0');
+    Run ok = run(new String[] {file.toString()}, bits + "\n");
+    assertThat(ok.code).as(ok.err).isZero();
+    assertThat(ok.out.lines().toList()).hasSize(3).element(2).isEqualTo("0," + b.score(c).value() + ",in," + b.pValue(b.score(c).value()));
+    Run badRow = run(new String[] {file.toString()}, "0101\n");
+    assertThat(badRow.code).isEqualTo(2);
+    assertThat(badRow.err).startsWith("stdin row 0: 4 bits");
+    Files.write(tmp.resolve("d.edge"), Arrays.copyOf(Files.readAllBytes(file), 50));
+    Run damaged = run(new String[] {tmp.resolve("d.edge").toString()}, "");
+    assertThat(damaged.code).isEqualTo(2);
+    assertThat(damaged.err.lines().count()).isEqualTo(1);
+    assertThat(run(new String[] {tmp.resolve("none.edge").toString()}, "").err).contains("no such file");
+    assertThat(run(new String[] {file.toString(), "--inputs"}, "").err).contains("--with-model");
+  }
+
+  record Run(int code, String out, String err) {}
+
+  static Run run(String[] args, String stdin) {
+    ByteArrayOutputStream out = new ByteArrayOutputStream(), err = new ByteArrayOutputStream();
+    int code = EdgeMain.run(args, new BufferedReader(new StringReader(stdin)), new PrintStream(out, true, StandardCharsets.UTF_8),
+        new PrintStream(err, true, StandardCharsets.UTF_8));
+    return new Run(code, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
+  }
+}

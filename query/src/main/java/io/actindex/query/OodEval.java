@@ -1,0 +1,149 @@
+package io.actindex.query;
+
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Hits;
+import io.actindex.edge.EdgeBundle.Calibration;
+import io.actindex.edge.EdgeBundle.Statistic;
+import io.actindex.index.store.IndexReader;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.TreeSet;
+
+/**
+ * {@code ood eval}: how well scores separate in-distribution inputs ({@code in}) from
+ * out-of-distribution ones ({@code out}), as {@link RocMetrics}: the calibrated code score; a
+ * breakdown over k (1, 5, 10 and the calibrated k), statistic and layers (all, and each layer
+ * alone) so users can choose; with float activations of the same inputs and of the training
+ * examples, the k-NN score on floats ({@link FloatKnnScore}); with raw inputs and a model in the
+ * index, the softmax baseline ({@link SoftmaxBaseline}). Side by side, never mixed.
+ *
+ * <pre>{@code
+ * try (IndexReader r = IndexReader.open(dir)) {
+ *   OodEval.Result e = OodEval.run(r, new OodEval.Params(Source.inputs(in, null), Source.inputs(out, null), null, null, null), Progress.NONE);
+ *   double auroc = e.code().metrics().auroc();
+ * }
+ * }</pre>
+ */
+public final class OodEval {
+  private OodEval() {}
+
+  /**
+   * The in and out inputs; float activations of in, out and the training rows (all three or none);
+   * {@code candidates}: Hamming candidates the refined score re-ranks (0 = {@link #REFINE_CANDIDATES}).
+   */
+  public record Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates) {
+    public Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats) {
+      this(in, out, inFloats, outFloats, trainFloats, 0);
+    }
+
+    public Params {
+      if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
+      int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
+      if (floats != 0 && floats != 3)
+        throw new BadInputException("the float score needs --in-floats, --out-floats and --train-floats together");
+    }
+  }
+
+  /** One score's name, what it is, its in and out values and its metrics. */
+  public record Scored(String name, String description, double[] in, double[] out, RocMetrics metrics) {
+    static Scored of(String name, String description, double[] in, double[] out) {
+      return new Scored(name, description, in, out, RocMetrics.of(in, out));
+    }
+  }
+
+  /** AUROC and FPR at 95% TPR of one code-score variant. */
+  public record Variant(int k, Statistic statistic, List<String> layers, double auroc, double fprAt95Tpr) {}
+
+  /**
+   * {@code floats}, {@code refined} and {@code softmax} are null when they do not apply. {@code
+   * refined} needs training floats whose rows are the index's ids (one row per id, in build order).
+   */
+  public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored refined, Scored softmax) {
+    /** The scores that apply, code score first. */
+    public List<Scored> scores() {
+      List<Scored> s = new ArrayList<>(List.of(code));
+      if (floats != null) s.add(floats);
+      if (refined != null) s.add(refined);
+      if (softmax != null) s.add(softmax);
+      return List.copyOf(s);
+    }
+  }
+
+  public static Result run(IndexReader reader, Params p, Progress progress) {
+    Calibration cal = OodCalibration.load(reader);
+    OodScorer.checkK(reader, cal.k());
+    QueryCodes in = QuerySource.load(reader, p.in(), RowRange.ALL), out = QuerySource.load(reader, p.out(), RowRange.ALL);
+    if (in.size() == 0 || out.size() == 0) throw new BadInputException("ood eval needs rows in both --in and --out");
+    // k values and layer sets of the breakdown; one k-NN search per input and layer set
+    TreeSet<Integer> ks = new TreeSet<>(List.of(1, 5, 10, cal.k()));
+    ks.removeIf(k -> k > reader.liveCount());
+    int kMax = ks.last();
+    List<List<String>> layerSets = new ArrayList<>();
+    layerSets.add(List.of());
+    if (reader.layout().segments().size() > 1) for (var s : reader.layout().segments()) layerSets.add(List.of(s.name()));
+    if (!layerSets.contains(cal.layers())) layerSets.add(cal.layers());
+    Hits[][] inHits = hits(reader, in.codes(), layerSets, kMax, progress, 0, in.size() + out.size());
+    Hits[][] outHits = hits(reader, out.codes(), layerSets, kMax, progress, in.size(), in.size() + out.size());
+    List<Variant> variants = new ArrayList<>();
+    Scored code = null;
+    for (int ls = 0; ls < layerSets.size(); ls++)
+      for (int k : ks)
+        for (Statistic st : Statistic.values()) {
+          double[] a = values(inHits[ls], k, st), b = values(outHits[ls], k, st);
+          RocMetrics m = RocMetrics.of(a, b);
+          variants.add(new Variant(k, st, layerSets.get(ls), m.auroc(), m.fprAt95Tpr()));
+          if (k == cal.k() && st == cal.statistic() && layerSets.get(ls).equals(cal.layers()))
+            code = new Scored("code", "Hamming k-NN score on codes (k=" + k + ", " + st.label + ", layers " + layerLabel(cal.layers()) + ")", a, b, m);
+        }
+    Scored floats = null, refined = null;
+    if (p.trainFloats() != null) {
+      FloatKnnScore f = new FloatKnnScore(p.trainFloats());
+      double[][] qa = f.queries(p.inFloats()), qb = f.queries(p.outFloats());
+      if (qa.length != in.size() || qb.length != out.size())
+        throw new BadInputException(p.inFloats() + " / " + p.outFloats() + ": " + qa.length + " / " + qb.length + " rows, the inputs have "
+            + in.size() + " / " + out.size());
+      floats = Scored.of("float", "k-NN score on unit-length float activations (k=" + cal.k() + ")", f.scores(qa, cal.k()), f.scores(qb, cal.k()));
+      if (f.rows() == reader.maxId()) { // training rows are the index's ids: the refined score applies
+        int c = Math.min(Math.max(p.candidates() == 0 ? REFINE_CANDIDATES : p.candidates(), cal.k()), reader.liveCount());
+        long[] mask = Layers.maskOrNull(reader.layout(), cal.layers());
+        refined = Scored.of("refined", "float k-NN distance among the " + c + " nearest codes (k=" + cal.k() + ", exact within the candidates)",
+            f.refined(qa, candidates(reader, in.codes(), c, mask), cal.k()), f.refined(qb, candidates(reader, out.codes(), c, mask), cal.k()));
+      }
+    }
+    Scored softmax = null;
+    double[] sa = SoftmaxBaseline.scores(reader, p.in(), RowRange.ALL), sb = SoftmaxBaseline.scores(reader, p.out(), RowRange.ALL);
+    if (sa != null && sb != null) softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)", sa, sb);
+    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax);
+  }
+
+  /** Hamming candidates the refined score re-ranks. */
+  public static final int REFINE_CANDIDATES = 100;
+
+  private static Hits[] candidates(IndexReader reader, CodeBlock codes, int c, long[] mask) {
+    Hits[] h = new Hits[codes.size()];
+    for (int i = 0; i < h.length; i++) h[i] = reader.knn(codes.code(i), c, null, mask);
+    return h;
+  }
+
+  static String layerLabel(List<String> layers) {
+    return layers.isEmpty() ? "all" : String.join(",", layers);
+  }
+
+  private static Hits[][] hits(IndexReader reader, CodeBlock codes, List<List<String>> layerSets, int k, Progress progress, int done, int total) {
+    Hits[][] h = new Hits[layerSets.size()][codes.size()];
+    for (int ls = 0; ls < layerSets.size(); ls++) {
+      long[] mask = Layers.maskOrNull(reader.layout(), layerSets.get(ls));
+      for (int i = 0; i < codes.size(); i++) h[ls][i] = reader.knn(codes.code(i), k, null, mask);
+    }
+    progress.update(done + codes.size(), total);
+    return h;
+  }
+
+  private static double[] values(Hits[] hits, int k, Statistic st) {
+    double[] v = new double[hits.length];
+    for (int i = 0; i < v.length; i++) v[i] = OodScorer.of(hits[i], k, st).value();
+    return v;
+  }
+}

@@ -1,0 +1,79 @@
+package io.actindex.query;
+
+import io.actindex.core.BadInputException;
+import io.actindex.core.Hits;
+import io.actindex.edge.EdgeBundle;
+import io.actindex.edge.EdgeBundle.Calibration;
+import io.actindex.index.store.IndexReader;
+import java.util.ArrayList;
+import java.util.List;
+
+/**
+ * {@code ood score}: per input, the calibrated score, the stored threshold, the decision ({@code
+ * out} when the score is above the threshold), the conformal p-value {@code (1 + #{calibration
+ * scores >= s}) / (n + 1)} (Vovk, Gammerman &amp; Shafer 2005), whether the input's own region is
+ * populated, the nearest training examples as evidence, and, when the inputs are raw inputs and
+ * the index holds the model, the model's maximum softmax probability beside it (a separate
+ * baseline, never mixed into the score). {@link #decide} is the decision-only path.
+ *
+ * <pre>{@code
+ * try (IndexReader r = IndexReader.open(dir)) {
+ *   OodScore.Output o = OodScore.run(r, Source.inputs(Path.of("new.npy"), null), RowRange.ALL, new OodScore.Params(3), Progress.NONE);
+ *   for (OodScore.Result x : o.results()) if (x.out()) System.out.println(x.row() + " p=" + x.pValue());
+ * }
+ * }</pre>
+ */
+public final class OodScore {
+  private OodScore() {}
+
+  /** {@code evidence}: how many nearest examples to name per input (0 = none, at most k). */
+  public record Params(int evidence) {
+    public Params {
+      if (evidence < 0) throw new BadInputException("--evidence must be at least 0, got " + evidence);
+    }
+  }
+
+  /** One nearest training example: id, key and distance on the calibrated layers. */
+  public record Evidence(int id, String key, int distance) {}
+
+  /**
+   * One input: its file row, score, k-th distance, mean of the k nearest, own region populated,
+   * decision, p-value, evidence, and {@code maxSoftmax} (null when the baseline does not apply).
+   */
+  public record Result(long row, double score, int kth, double mean, boolean ownRegion, boolean out, double pValue, List<Evidence> evidence,
+      Double maxSoftmax) {}
+
+  /** The calibration in force and one result per input. */
+  public record Output(Calibration calibration, List<Result> results) {}
+
+  public static Output run(IndexReader reader, Source source, RowRange rows, Params p, Progress progress) {
+    Calibration cal = OodCalibration.load(reader);
+    OodScorer scorer = new OodScorer(reader, cal.k(), cal.statistic(), cal.layers());
+    QueryCodes q = QuerySource.load(reader, source, rows);
+    double[] msp = SoftmaxBaseline.scores(reader, source, rows);
+    double[] sorted = cal.scores();
+    List<Result> out = new ArrayList<>(q.size());
+    for (int i = 0; i < q.size(); i++) {
+      OodScorer.Score s = scorer.score(q.codes().code(i));
+      List<Evidence> ev = new ArrayList<>();
+      Hits h = s.nearest();
+      for (int e = 0; e < Math.min(p.evidence(), h.size()); e++) ev.add(new Evidence(h.ord(e), reader.meta().document(h.ord(e)).get("key"), h.dist(e)));
+      out.add(new Result(q.row(i), s.value(), s.kth(), s.mean(), s.ownRegion(), s.value() > cal.threshold(),
+          EdgeBundle.pValue(sorted, s.value()), List.copyOf(ev), msp == null ? null : 1 - msp[i]));
+      progress.update(i + 1, q.size());
+    }
+    return new Output(cal, List.copyOf(out));
+  }
+
+  /**
+   * Decision only, per query code: true = out. Uses the index's unique codes, most shared first,
+   * and stops at the first {@code k} training examples within the threshold ({@link
+   * EdgeBundle#isOut}); the same answer as {@code score > threshold}.
+   */
+  public static boolean[] decide(IndexReader reader, QueryCodes q) {
+    EdgeBundle b = EdgeExport.bundle(reader, OodCalibration.load(reader), false);
+    boolean[] out = new boolean[q.size()];
+    for (int i = 0; i < out.length; i++) out[i] = b.isOut(q.codes().code(i));
+    return out;
+  }
+}

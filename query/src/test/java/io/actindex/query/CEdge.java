@@ -1,0 +1,103 @@
+package io.actindex.query;
+
+import static org.junit.jupiter.api.Assumptions.assumeTrue;
+
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+import java.util.concurrent.TimeUnit;
+
+/**
+ * Compiles the C source of an edge bundle with the system's gcc and a small driver, and runs it:
+ * each input line is {@code c W0 W1 ...} (a code as hex words) or {@code x V0 V1 ...} (a raw input,
+ * doubles as hex floats); each output line is {@code kth score is_out p_value W0 W1 ...} (scores as
+ * C's %a, the code's words in hex). Tests skip, saying why, when gcc is absent.
+ */
+final class CEdge {
+  private CEdge() {}
+
+  static final String DRIVER = """
+      #include <stdio.h>
+      #include <stdlib.h>
+      #include "actindex_edge.h"
+      int main(void) {
+        char kind;
+        uint64_t code[AXE_WORDS];
+        while (scanf(" %c", &kind) == 1) {
+          if (kind == 'c') {
+            for (int w = 0; w < AXE_WORDS; w++) {
+              unsigned long long v;
+              if (scanf("%llx", &v) != 1) return 3;
+              code[w] = v;
+            }
+          } else {
+      #if AXE_HAS_MODEL
+            double x[AXE_INPUTS];
+            for (int j = 0; j < AXE_INPUTS; j++) {
+              char buf[64];
+              if (scanf("%63s", buf) != 1) return 3;
+              x[j] = strtod(buf, NULL);
+            }
+            axe_encode(x, code);
+      #else
+            return 4;
+      #endif
+          }
+          double s = axe_score(code);
+          printf("%d %a %d %a", axe_kth_distance(code), s, axe_is_out(code), axe_p_value(s));
+          for (int w = 0; w < AXE_WORDS; w++) printf(" %llx", (unsigned long long) code[w]);
+          printf("\\n");
+        }
+        return 0;
+      }
+      """;
+
+  /** Compiles {@code dir}'s actindex_edge.c with the driver; skips the test when there is no gcc. */
+  static Path compile(Path dir) throws IOException, InterruptedException {
+    assumeTrue(gcc(), "gcc not found on PATH: the compiled C source check is skipped (install gcc to run it)");
+    Files.writeString(dir.resolve("driver.c"), DRIVER);
+    Path exe = dir.resolve("edge-driver");
+    Process p = new ProcessBuilder("gcc", "-std=c99", "-O2", "-ffp-contract=off", "-Wall", "-Wextra", "-Werror", "-o", exe.toString(),
+        dir.resolve("driver.c").toString(), dir.resolve(EdgeCSource.SOURCE).toString()).redirectErrorStream(true).start();
+    String log = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
+    if (!p.waitFor(300, TimeUnit.SECONDS) || p.exitValue() != 0) throw new AssertionError("gcc failed:\n" + log);
+    return exe;
+  }
+
+  static List<String> run(Path exe, List<String> lines) throws IOException, InterruptedException {
+    Path in = Files.createTempFile(exe.getParent(), "in", ".txt");
+    Files.write(in, lines);
+    Process p = new ProcessBuilder(exe.toString()).redirectInput(in.toFile()).start();
+    String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
+    if (!p.waitFor(300, TimeUnit.SECONDS) || p.exitValue() != 0) throw new AssertionError("driver exited " + p.exitValue());
+    return out.lines().toList();
+  }
+
+  static String codeLine(long[] code) {
+    StringBuilder s = new StringBuilder("c");
+    for (long w : code) s.append(' ').append(Long.toHexString(w));
+    return s.toString();
+  }
+
+  static String inputLine(double[] x) {
+    StringBuilder s = new StringBuilder("x");
+    for (double v : x) s.append(' ').append(Double.toHexString(v));
+    return s.toString();
+  }
+
+  private static boolean gcc() {
+    try {
+      Process p = new ProcessBuilder("gcc", "--version").redirectErrorStream(true).start();
+      p.getInputStream().readAllBytes();
+      return p.waitFor(60, TimeUnit.SECONDS) && p.exitValue() == 0;
+    } catch (IOException e) {
+      return false;
+    } catch (InterruptedException e) {
+      Thread.currentThread().interrupt();
+      throw new UncheckedIOException(new IOException(e));
+    }
+  }
+}

@@ -1,0 +1,76 @@
+package io.actindex.query;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Randoms;
+import io.actindex.edge.EdgeBundle;
+import io.actindex.edge.EdgeBundle.Statistic;
+import io.actindex.index.store.IndexReader;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * The generated C99 source, compiled by the system's gcc (-std=c99 -Wall -Wextra -Werror), answers
+ * exactly as the index does on random (70-bit, two words, a layer subset) and ReLU-like (72-bit)
+ * codes: k-th distance, score, decision and p-value. The model part is checked on the digits set
+ * in {@link DigitsOodTest}.
+ */
+class EdgeCSourceTest {
+  @TempDir Path tmp;
+
+  @Test
+  void compiledCSourceAgreesWithTheIndex() throws Exception {
+    for (int rep = 0; rep < 2; rep++) {
+      long seed = Randoms.seed(rep);
+      OodIndexTest.Data d = rep == 0 ? OodIndexTest.relu(seed, 600) : OodIndexTest.uniform(seed, 400);
+      Path dir = OodIndexTest.index(tmp.resolve("idx" + rep), d.train());
+      List<String> layers = rep == 1 ? List.of("b") : List.of();
+      Statistic st = rep == 0 ? Statistic.KTH : Statistic.MEAN;
+      OodCalibrate.run(dir, Source.codes(OodIndexTest.npy(tmp.resolve("cal" + rep + ".npy"), d.cal())), RowRange.ALL,
+          new OodCalibrate.Params(5, st, 0.9, layers, false), Progress.NONE);
+      Path c = tmp.resolve("c" + rep);
+      OodScore.Output o;
+      try (IndexReader r = IndexReader.open(dir)) {
+        EdgeExport.run(r, new EdgeExport.Params(tmp.resolve("b" + rep + ".edge"), false, c));
+        o = OodScore.run(r, Source.codes(OodIndexTest.npy(tmp.resolve("q" + rep + ".npy"), d.queries())), RowRange.ALL, new OodScore.Params(0),
+            Progress.NONE);
+      }
+      Path exe = CEdge.compile(c);
+      CodeBlock q = d.queries();
+      List<String> lines = new ArrayList<>();
+      for (int i = 0; i < q.size(); i++) lines.add(CEdge.codeLine(q.code(i)));
+      List<String> out = CEdge.run(exe, lines);
+      assertThat(out).hasSize(q.size());
+      int outs = 0;
+      for (int i = 0; i < q.size(); i++) {
+        String[] f = out.get(i).split(" ");
+        OodScore.Result res = o.results().get(i);
+        String what = Randoms.describe(seed) + " query " + i;
+        assertThat(Integer.parseInt(f[0])).as(what).isEqualTo(res.kth());
+        assertThat(Double.parseDouble(f[1])).as(what).isEqualTo(res.score());
+        assertThat(f[2]).as(what).isEqualTo(res.out() ? "1" : "0");
+        assertThat(Double.parseDouble(f[3])).as(what).isEqualTo(res.pValue());
+        if (res.out()) outs++;
+      }
+      assertThat(outs).as("both decisions occur").isBetween(1, q.size() - 1);
+    }
+  }
+
+  @Test
+  void headerNamesTheSizesAndTheCaution() throws Exception {
+    OodIndexTest.Data d = OodIndexTest.uniform(Randoms.seed(3), 100);
+    Path dir = OodIndexTest.index(tmp.resolve("idx"), d.train());
+    OodCalibrate.run(dir, Source.codes(OodIndexTest.npy(tmp.resolve("cal.npy"), d.cal())), RowRange.ALL,
+        new OodCalibrate.Params(1, null, 0.9, null, false), Progress.NONE);
+    try (IndexReader r = IndexReader.open(dir)) {
+      EdgeBundle b = EdgeExport.bundle(r, OodCalibration.load(r), false);
+      String h = EdgeCSource.header(b);
+      assertThat(h).contains("#define AXE_BITS 70", "#define AXE_WORDS 2", "#define AXE_K 1", "not a guarantee", "#define AXE_HAS_MODEL 0");
+      assertThat(EdgeCSource.source(b)).contains("__builtin_popcountll").doesNotContain("malloc");
+    }
+  }
+}

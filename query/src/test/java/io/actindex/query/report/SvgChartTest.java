@@ -1,0 +1,68 @@
+package io.actindex.query.report;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import java.io.ByteArrayInputStream;
+import java.nio.charset.StandardCharsets;
+import java.util.List;
+import javax.xml.parsers.DocumentBuilderFactory;
+import org.junit.jupiter.api.Test;
+import org.w3c.dom.Document;
+
+/**
+ * The chart writer's output is checked with the JDK's XML parser (XML 1.0, W3C 2008) as the
+ * outside reference: every chart, degenerate ones included, must be well-formed and keep hostile
+ * labels as text.
+ */
+class SvgChartTest {
+
+  static Document parse(String svg) throws Exception {
+    DocumentBuilderFactory f = DocumentBuilderFactory.newInstance();
+    f.setFeature("http://apache.org/xml/features/disallow-doctype-decl", true);
+    return f.newDocumentBuilder().parse(new ByteArrayInputStream(svg.getBytes(StandardCharsets.UTF_8)));
+  }
+
+  @Test
+  void labelsAreEscaped() throws Exception {
+    String evil = "<script>alert('x')</script> & \"q\"\u0001";
+    String svg = SvgChart.lines(evil, evil, evil, List.of(new SvgChart.Series(evil, new double[] {0, 1}, new double[] {0, 1})), false, false);
+    Document d = parse(svg);
+    assertThat(d.getElementsByTagName("script").getLength()).isZero();
+    assertThat(d.getDocumentElement().getTextContent()).contains("<script>alert('x')</script> & \"q\"?");
+  }
+
+  @Test
+  void emptyDataGivesAFrameSayingSo() throws Exception {
+    String lines = SvgChart.lines("t", "x", "y", List.of(), false, false);
+    assertThat(parse(lines).getDocumentElement().getTextContent()).contains("no data");
+    String bars = SvgChart.bars("t", "x", "y", new double[0], List.of(), false);
+    assertThat(parse(bars).getDocumentElement().getTextContent()).contains("no data");
+  }
+
+  @Test
+  void oneBarAndOnePointAreDrawn() throws Exception {
+    Document d = parse(SvgChart.bars("t", "x", "y", new double[] {4.5, 5.5}, List.of(new SvgChart.Series("s", null, new double[] {7})), false));
+    assertThat(d.getElementsByTagName("rect").getLength()).isEqualTo(3); // frame, bar, legend swatch
+    Document p = parse(SvgChart.lines("t", "x", "y", List.of(new SvgChart.Series("s", new double[] {2}, new double[] {2})), false, false));
+    assertThat(p.getElementsByTagName("path").item(0).getAttributes().getNamedItem("d").getNodeValue()).startsWith("M");
+  }
+
+  @Test
+  void logAxesLeaveOutZerosAndSaySo() throws Exception {
+    String svg = SvgChart.lines("t", "x", "y", List.of(new SvgChart.Series("s", new double[] {0, 1, 10, 100}, new double[] {1, 0, 5, 50})), true, true);
+    Document d = parse(svg);
+    assertThat(d.getDocumentElement().getTextContent()).contains("2 values not shown");
+    String path = d.getElementsByTagName("path").item(0).getAttributes().getNamedItem("d").getNodeValue();
+    assertThat(path.split("M")).hasSize(2); // one run: the two usable points
+    String bars = SvgChart.bars("t", "x", "y", new double[] {0, 1, 2, 3}, List.of(new SvgChart.Series("s", null, new double[] {0, 10, 1000})), true);
+    assertThat(parse(bars).getDocumentElement().getTextContent()).contains("1 value not shown");
+  }
+
+  @Test
+  void tickNumbersAreShort() {
+    assertThat(SvgChart.num(1000.25)).isEqualTo("1000");
+    assertThat(SvgChart.num(0.25)).isEqualTo("0.25");
+    assertThat(SvgChart.num(3)).isEqualTo("3");
+    assertThat(SvgChart.num(1.5e-7)).isEqualTo("1.50e-07");
+  }
+}
