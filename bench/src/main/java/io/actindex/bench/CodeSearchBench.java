@@ -31,7 +31,7 @@ import org.openjdk.jmh.annotations.Warmup;
 @Warmup(iterations = 3, time = 2)
 @Measurement(iterations = 5, time = 2)
 public class CodeSearchBench {
-  @Param({"relu", "uniform"})
+  @Param({"relu", "dense", "uniform"})
   public String data;
 
   @Param({"100000", "1000000"})
@@ -43,7 +43,7 @@ public class CodeSearchBench {
   @Param({"in", "ood"})
   public String queries;
 
-  @Param({"1", "10"})
+  @Param({"1", "10", "100"})
   public int k;
 
   @Param({"planner", "mih", "cascade", "scan", "store"})

@@ -19,6 +19,18 @@ public interface CodeSearcher {
   /** The {@code k} nearest accepted codes (fewer if fewer are accepted). */
   Hits knn(long[] query, int k, IntPredicate accept, long[] mask);
 
+  /**
+   * The {@code k} nearest accepted codes among those at distance {@code <= maxDist}: for callers
+   * that know an upper bound of the k-th distance already (a shared bound across segments). A
+   * filter given as an {@link IdSet} over {@code 0..size()-1} is read directly (selectivity, walk).
+   */
+  default Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
+    Hits h = knn(query, k, accept, mask);
+    int m = 0;
+    while (m < h.size() && h.dist(m) <= maxDist) m++;
+    return m == h.size() ? h : new Hits(java.util.Arrays.copyOf(h.ords(), m), java.util.Arrays.copyOf(h.dists(), m));
+  }
+
   /** Every accepted code at distance {@code <= radius} (inclusive). */
   Hits radius(long[] query, int radius, IntPredicate accept, long[] mask);
 

@@ -23,51 +23,37 @@ public final class ScanSearcher implements CodeSearcher {
     return codes.size();
   }
 
+  /**
+   * A filter given as an {@link IdSet} whose share of the codes is at most this is walked member by
+   * member instead of scanned past (common practice: a selective filter drives the search).
+   */
+  static final double WALK_SHARE = 0.125;
+
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask) {
     return knn(query, k, accept, mask, Integer.MAX_VALUE);
   }
 
   /**
-   * Expert: like {@link #knn(long[], int, IntPredicate, long[])} but only codes at distance {@code
-   * <= maxDist} can enter, for callers that already know an upper bound of the k-th distance.
+   * Like {@link #knn(long[], int, IntPredicate, long[])} but only codes at distance {@code <=
+   * maxDist} can enter, for callers that already know an upper bound of the k-th distance (other
+   * segments searched before this one).
    */
+  @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
     query = checkQuery(query, mask);
-    if (k <= 0 || codes.size() == 0) return Hits.EMPTY;
-    TopK top = new TopK(Math.min(k, codes.size()));
-    long[] data = codes.words();
-    int w = codes.wordsPerCode(), n = codes.size();
-    if (w == 4 && accept == null && mask == null) return knn4(query, top, data, n, maxDist);
-    int bound = maxDist;
-    for (int i = 0, off = 0; i < n; i++, off += w) {
-      if (accept != null && !accept.test(i)) continue;
-      int d = mask == null
-          ? Hamming.distanceBounded(query, 0, data, off, w, bound)
-          : Hamming.maskedDistance(query, 0, data, off, mask, w);
-      if (d <= bound) {
-        top.offer(i, d);
-        bound = Math.min(maxDist, top.bound());
+    int n = codes.size();
+    if (k <= 0 || n == 0 || maxDist < 0) return Hits.EMPTY;
+    TopK top = new TopK(Math.min(k, n));
+    if (accept instanceof IdSet set) {
+      if (set.size() != n) throw new IllegalArgumentException("filter over " + set.size() + " ordinals, searcher has " + n);
+      if (set.isEmpty()) return Hits.EMPTY;
+      if (set.count() <= WALK_SHARE * n) {
+        ScanKernel.knnMembers(query, mask, codes.words(), codes.wordsPerCode(), set, top, maxDist);
+        return top.toHits();
       }
     }
-    return top.toHits();
-  }
-
-  /**
-   * The common case of 256-bit codes without filter or mask: the query's words stay in registers
-   * (the compiler cannot keep them there itself, since both arrays are long[] and may alias).
-   */
-  private static Hits knn4(long[] query, TopK top, long[] data, int n, int maxDist) {
-    long q0 = query[0], q1 = query[1], q2 = query[2], q3 = query[3];
-    int bound = maxDist;
-    for (int i = 0, off = 0; i < n; i++, off += 4) {
-      int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
-          + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
-      if (d <= bound) {
-        top.offer(i, d);
-        bound = Math.min(maxDist, top.bound());
-      }
-    }
+    ScanKernel.knn(query, mask, codes.words(), codes.wordsPerCode(), 0, n, null, accept, top, maxDist);
     return top.toHits();
   }
 
@@ -76,21 +62,19 @@ public final class ScanSearcher implements CodeSearcher {
     query = checkQuery(query, mask);
     long[] data = codes.words();
     int w = codes.wordsPerCode(), n = codes.size();
+    if (radius < 0 || n == 0 || accept instanceof IdSet set && set.isEmpty()) return Hits.EMPTY;
+    long[] qm = ScanKernel.masked(query, mask, w);
     int[] ords = new int[16], dists = new int[16];
     int size = 0;
     for (int i = 0; i < n; i++) {
-      if (accept != null && !accept.test(i)) continue;
-      int d = mask == null
-          ? Hamming.distanceBounded(query, 0, data, i * w, w, radius)
-          : Hamming.maskedDistance(query, 0, data, i * w, mask, w);
-      if (d <= radius) {
-        if (size == ords.length) {
-          ords = java.util.Arrays.copyOf(ords, size * 2);
-          dists = java.util.Arrays.copyOf(dists, size * 2);
-        }
-        ords[size] = i;
-        dists[size++] = d;
+      int d = ScanKernel.boundedDistance(qm, mask, data, i * w, w, radius);
+      if (d > radius || accept != null && !accept.test(i)) continue;
+      if (size == ords.length) {
+        ords = java.util.Arrays.copyOf(ords, size * 2);
+        dists = java.util.Arrays.copyOf(dists, size * 2);
       }
+      ords[size] = i;
+      dists[size++] = d;
     }
     return Hits.sorted(ords, dists, size);
   }

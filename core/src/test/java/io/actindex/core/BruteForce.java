@@ -10,6 +10,14 @@ public final class BruteForce {
     return take(all(codes, q, accept, mask), k);
   }
 
+  /** The first k of {@link #knn} cut at distance {@code maxDist} (what a capped k-NN must return). */
+  public static Hits knnWithin(CodeBlock codes, long[] q, int k, IntPredicate accept, long[] mask, int maxDist) {
+    Hits h = knn(codes, q, k, accept, mask);
+    int m = 0;
+    while (m < h.size() && h.dist(m) <= maxDist) m++;
+    return take(h, m);
+  }
+
   public static Hits radius(CodeBlock codes, long[] q, int r, IntPredicate accept, long[] mask) {
     Hits all = all(codes, q, accept, mask);
     int m = 0;

@@ -51,20 +51,55 @@ public final class SyntheticCodes {
     private final double[][] w1, w2;
     private final double[] b1, b2;
 
+    /** The skewed network: dead, always-on and copied units, like many trained networks. */
     public ReluNet(int inputDim, int h1, int h2, int clusters, long seed) {
+      this(inputDim, h1, h2, clusters, seed, true);
+    }
+
+    /**
+     * A network whose units are mostly alive ({@code skewed == false}): zero-centred biases, no
+     * copied units, so no bit is constant over a large sample and every bit fires on a fair share
+     * of the inputs. With {@code skewed} true: the constructor above.
+     */
+    public static ReluNet dense(int inputDim, int h1, int h2, int clusters, long seed) {
+      return new ReluNet(inputDim, h1, h2, clusters, seed, false);
+    }
+
+    /**
+     * Spread of the dense network's cluster centres (within-cluster noise has unit variance): 2.2
+     * gives a median in-distribution 1-NN distance of 21 bits among 1M 256-bit codes (measured).
+     */
+    private static final double DENSE_SPREAD = 2.2;
+
+    private ReluNet(int inputDim, int h1, int h2, int clusters, long seed, boolean skewed) {
       this.inputDim = inputDim;
       this.h1 = h1;
       this.h2 = h2;
       this.clusters = clusters;
       SplittableRandom rnd = new SplittableRandom(seed);
       centers = new double[clusters][inputDim];
-      for (double[] c : centers) for (int j = 0; j < inputDim; j++) c[j] = 3 * gauss(rnd);
+      double spread = skewed ? 3 : DENSE_SPREAD;
+      for (double[] c : centers) for (int j = 0; j < inputDim; j++) c[j] = spread * gauss(rnd);
       w1 = weights(rnd, h1, inputDim);
       w2 = weights(rnd, h2, h1);
-      b1 = biases(rnd, h1, Math.sqrt(inputDim) * 3);
-      b2 = biases(rnd, h2, Math.sqrt(h1) * 2);
-      // correlated units: every 8th neuron copies its neighbour with a small change
-      for (int i = 7; i < h1; i += 8) for (int j = 0; j < inputDim; j++) w1[i][j] = w1[i - 1][j] * 1.05;
+      if (skewed) {
+        b1 = biases(rnd, h1, Math.sqrt(inputDim) * 3);
+        b2 = biases(rnd, h2, Math.sqrt(h1) * 2);
+        // correlated units: every 8th neuron copies its neighbour with a small change
+        for (int i = 7; i < h1; i += 8) for (int j = 0; j < inputDim; j++) w1[i][j] = w1[i - 1][j] * 1.05;
+      } else {
+        b1 = new double[h1];
+        b2 = new double[h2];
+        for (int i = 0; i < h1; i++) b1[i] = 0.3 * gauss(rnd);
+        // the second layer sees non-negative inputs: centre each unit on its mean input so it fires
+        // about half the time instead of almost never or always
+        double meanA1 = Math.sqrt(spread * spread + 1) * 0.4; // E[relu(N(0, s^2))] ~ 0.4 s: inputs have variance spread^2 + 1
+        for (int i = 0; i < h2; i++) {
+          double s = 0;
+          for (double x : w2[i]) s += x;
+          b2[i] = -s * meanA1 + 0.3 * gauss(rnd);
+        }
+      }
     }
 
     private static double[][] weights(SplittableRandom rnd, int out, int in) {

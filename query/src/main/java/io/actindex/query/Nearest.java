@@ -4,6 +4,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
+import io.actindex.core.IdSet;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
@@ -13,7 +14,6 @@ import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import org.roaringbitmap.RoaringBitmap;
 
 /**
  * The {@code k} nearest live examples of each query code (exact Hamming distance), optionally
@@ -86,7 +86,7 @@ public final class Nearest {
     int[] shown = Layers.select(layout, p.layers());
     long[] mask = Layers.maskOrNull(layout, p.layers());
     long[][] segMasks = Layers.segmentMasks(layout);
-    RoaringBitmap filter = Where.select(reader.meta(), p.where());
+    IdSet filter = Where.filter(reader, p.where());
     int n = queries.size();
     Result[] out = new Result[n];
     Parallel.forEach(n, p.threads(), progress,
@@ -94,7 +94,7 @@ public final class Nearest {
     return List.of(out);
   }
 
-  private static Result one(IndexReader reader, long[] q, long row, Params p, RoaringBitmap filter, long[] mask, int[] shown,
+  private static Result one(IndexReader reader, long[] q, long row, Params p, IdSet filter, long[] mask, int[] shown,
       long[][] segMasks) {
     int k = p.k();
     Hits group = withTies(reader, q, k, filter, mask);
@@ -128,11 +128,11 @@ public final class Nearest {
    * search for k+1 tells whether a tie crosses the k-th place; only then a radius search at the
    * k-th distance collects the whole group.
    */
-  static Hits withTies(IndexReader reader, long[] q, int k, RoaringBitmap filter, long[] mask) {
-    Hits hits = reader.knn(q, k == Integer.MAX_VALUE ? k : k + 1, filter, mask);
+  static Hits withTies(IndexReader reader, long[] q, int k, IdSet filter, long[] mask) {
+    Hits hits = reader.search(q, k == Integer.MAX_VALUE ? k : k + 1, filter, mask);
     if (hits.size() <= k) return hits;
     if (hits.dist(k) > hits.dist(k - 1)) return Hits.sorted(hits.ords(), hits.dists(), k);
-    return reader.radius(q, hits.dist(k - 1), filter, mask);
+    return reader.searchRadius(q, hits.dist(k - 1), filter, mask);
   }
 
   /** The label vote of some neighbours, all counted, or null when none has a label. */

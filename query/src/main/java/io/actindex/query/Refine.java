@@ -3,12 +3,12 @@ package io.actindex.query;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hits;
+import io.actindex.core.IdSet;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
 import java.util.Locale;
-import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Nearest examples by Hamming distance, re-ranked by the kept magnitudes: an exact Hamming search
@@ -98,7 +98,7 @@ public final class Refine {
     long[] mask = Layers.maskOrNull(layout, p.layers());
     long[][] segMasks = Layers.segmentMasks(layout);
     int[] units = p.layers().isEmpty() ? null : units(layout, shown);
-    RoaringBitmap filter = Where.select(reader.meta(), p.where());
+    IdSet filter = Where.filter(reader, p.where());
     int n = codes.size(), d = layout.bits();
     Result[] out = new Result[n];
     Parallel.forEach(n, p.threads(), progress, i -> {
@@ -133,7 +133,7 @@ public final class Refine {
    * The {@code c} nearest live codes (in {@code filter}, on {@code mask}'s bits) and every code tied
    * with the {@code c}-th distance, sorted by (distance, id).
    */
-  public static Hits candidates(IndexReader reader, long[] q, int c, RoaringBitmap filter, long[] mask) {
+  public static Hits candidates(IndexReader reader, long[] q, int c, IdSet filter, long[] mask) {
     return Nearest.withTies(reader, q, c, filter, mask);
   }
 

@@ -1,8 +1,10 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.IdSet;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.meta.MetaStore.FieldKind;
+import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
 import java.util.List;
@@ -77,6 +79,15 @@ public final class Where {
   public static RoaringBitmap select(MetaStore meta, String expr) {
     if (expr == null || expr.isBlank()) return null;
     return meta.select(parse(expr, meta.fields()));
+  }
+
+  /**
+   * The live ids that match {@code expr} as a search filter of {@code reader} (built once, used for
+   * every query), or {@code null} (no filter) when it is null or blank.
+   */
+  public static IdSet filter(IndexReader reader, String expr) {
+    RoaringBitmap ids = select(reader.meta(), expr);
+    return ids == null ? null : reader.filter(ids);
   }
 
   // ---- grammar

@@ -113,6 +113,7 @@ class DigitsRefineTest {
       na += (double) a[ao + j] * a[ao + j];
       nb += (double) b[bo + j] * b[bo + j];
     }
-    return na == 0 || nb == 0 ? 1 : 1 - dot / Math.sqrt(na * nb);
+    // the same rounding as the code under test (product of the two norms), so exact ties order alike
+    return na == 0 || nb == 0 ? 1 : 1 - dot / (Math.sqrt(na) * Math.sqrt(nb));
   }
 }

@@ -52,59 +52,157 @@ public final class DemoCommand implements ExtraCommand {
   /** Marks a folder as the demo's, so a rerun may replace what it made. */
   static final String MARKER = "ABOUT-THIS-DEMO.txt";
 
-  static final int HIDDEN1 = 8, HIDDEN2 = 6;
+  static final int HIDDEN1 = 128, HIDDEN2 = 64, EPOCHS = 8, DUPES_RADIUS = 2;
+
+  private double trainSeconds;
+
+  @Option(names = "--size", paramLabel = "full|small", defaultValue = "full", hidden = true,
+      description = "full: about 20,000 windows (default); small: a reduced set for tests.")
+  String size;
 
   @Override
   public Integer call() throws IOException {
     PrintWriter o = spec.commandLine().getOut();
+    VibrationScenario.Sizes sizes = switch (size) {
+      case "full" -> VibrationScenario.Sizes.full();
+      case "small" -> VibrationScenario.Sizes.small();
+      default -> throw new BadInputException("--size: expected full or small, got " + size);
+    };
     prepare(out);
-    List<Window> history = VibrationScenario.windows(1200, 0.2, "w", seed);
-    List<Window> incoming = new ArrayList<>(VibrationScenario.windows(5, 0, "new", seed + 1));
-    incoming.add(VibrationScenario.oddWindow("new-odd", seed + 2));
-
-    Path historyNpy = out.resolve("windows.npy"), historyCsv = out.resolve("windows.csv");
-    Path incomingNpy = out.resolve("incoming.npy"), model = out.resolve("model.safetensors"), index = out.resolve("index");
-    features(historyNpy, history);
-    metadata(historyCsv, history);
-    features(incomingNpy, incoming);
+    Findings findings = new Findings();
+    long started = System.nanoTime();
+    VibrationScenario.Plant plant = VibrationScenario.plant(sizes, seed);
+    List<Window> history = plant.history();
     Files.writeString(out.resolve(MARKER), about(), StandardCharsets.UTF_8);
+    features(file("windows.npy"), history);
+    metadata(file("windows.csv"), history);
+    features(file("calibration.npy"), plant.calibration());
+    features(file("incoming.npy"), plant.incoming());
+    features(file("incoming-ordinary.npy"), plant.incoming().stream().filter(w -> w.planted().isEmpty()).toList());
+    features(file("incoming-odd.npy"), plant.incoming().stream().filter(w -> !w.planted().isEmpty()).toList());
+    metadata(file("incoming-truth.csv"), plant.incoming());
+    features(file("week47.npy"), plant.weekBefore());
+    features(file("week48.npy"), plant.weekAfter());
+    features(file("week47-first-half.npy"), plant.weekBeforeFirstHalf());
+    features(file("week47-second-half.npy"), plant.weekBeforeSecondHalf());
+    metadata(file("planted.csv"), history.stream().filter(w -> !w.planted().isEmpty()).toList());
 
     o.println("actindex demo: a bottling plant's vibration sensors (invented data, seed " + seed + ")");
-    o.println("  " + history.size() + " labelled windows of " + VibrationScenario.FEATURES + " features "
-        + "(states: " + String.join(", ", VibrationScenario.STATES) + "; lines L1-L3; day/night shift; 80/20 train/test split)");
-    o.println("  written to " + historyNpy + " and " + historyCsv + "; " + incoming.size() + " new unlabelled windows in " + incomingNpy);
+    o.println("  " + history.size() + " labelled windows of " + VibrationScenario.FEATURES + " features from three filler lines over two "
+        + "seasons (states: " + String.join(", ", VibrationScenario.STATES) + "; 80/20 train/test split), in " + file("windows.npy")
+        + " with metadata in " + file("windows.csv"));
+    o.println("  planted for the tool to find: " + count(history, VibrationScenario.RESENT) + " windows re-sent by a flaky logger, "
+        + count(history, VibrationScenario.STUCK) + " from a stuck sensor, " + count(history, VibrationScenario.LEAKED)
+        + " training windows copied into the test split, " + count(history, VibrationScenario.RELABELLED)
+        + " windows labelled twice with different states (truth in planted.csv)");
+    o.println("  also written: " + plant.calibration().size() + " fresh windows for calibration, " + plant.incoming().size()
+        + " incoming windows (" + count(plant.incoming(), VibrationScenario.NEW_MACHINE) + " from a new capping machine, "
+        + count(plant.incoming(), VibrationScenario.LOOSE_SENSOR) + " from a loose sensor; truth in incoming-truth.csv), and line L1's "
+        + "weeks 47 and 48 (a bearing was changed in between)");
 
     Mlp mlp = train(history);
-    mlp.save(model, Map.of("actindex.demo", "vibration states, seed " + seed));
-    o.printf(Locale.ROOT, "  trained a ReLU network %d -> %d -> %d -> %d on the train split; accuracy on the test split %.1f%%%n",
-        VibrationScenario.FEATURES, HIDDEN1, HIDDEN2, VibrationScenario.STATES.size(), 100 * accuracy(mlp, history, "test"));
-    o.println("  saved to " + model + " (safetensors; hidden layers '0' and '2' give the codes)");
+    mlp.save(file("model.safetensors"), Map.of("actindex.demo", "vibration states, seed " + seed));
+    o.printf(Locale.ROOT, "  trained a ReLU network %d -> %d -> %d -> %d on the train split in %.1f s; accuracy on the test split %.1f%%%n",
+        VibrationScenario.FEATURES, HIDDEN1, HIDDEN2, VibrationScenario.STATES.size(), trainSeconds,
+        100 * accuracy(mlp, history, "test"));
+    o.println("  its hidden layers '0' and '2' give " + (HIDDEN1 + HIDDEN2) + "-bit codes");
     o.flush();
 
+    String index = file("index").toString(), incoming = file("incoming.npy").toString();
     int code = run(o, "Index every window's on/off code with its metadata:",
-        "build", "--out", index.toString(), "--model", model.toString(), "--inputs", historyNpy.toString(), "--meta", historyCsv.toString());
-    if (code == 0) code = run(o, "Which past windows does the network treat like the new ones? (the last one is a loose sensor)",
-        "nearest", "--index", index.toString(), "--inputs", incomingNpy.toString(), "-k", "5");
-    if (code == 0) {
-      List<String> truth = new ArrayList<>();
-      for (int i = 0; i < incoming.size(); i++) truth.add("row " + i + " " + incoming.get(i).label());
-      o.println();
-      o.println("(The demo knows the new windows' real states, which the index never saw: " + String.join(", ", truth) + ".");
-      o.println(" A vote is given even for the loose sensor: compare its nearest distance with the others'. A vote is not");
-      o.println(" an out-of-distribution check.)");
-    }
+        "build", "--out", index, "--model", file("model.safetensors").toString(), "--inputs", file("windows.npy").toString(),
+        "--meta", file("windows.csv").toString());
+    if (code == 0) code = run(o, "Which past windows does the network treat like the first incoming ones?",
+        "nearest", "--index", index, "--inputs", incoming, "--rows", "0:3", "-k", "5");
     if (code == 0) code = run(o, "The same, only among training windows from line L2:",
-        "nearest", "--index", index.toString(), "--inputs", incomingNpy.toString(), "--rows", "0:2", "-k", "3",
-        "--where", "split = train and line = L2");
+        "nearest", "--index", index, "--inputs", incoming, "--rows", "0:2", "-k", "3", "--where", "split = train and line = L2");
+    int newMachineRow = plant.incoming().indexOf(plant.incoming().stream()
+        .filter(w -> w.planted().equals(VibrationScenario.NEW_MACHINE)).findFirst().orElseThrow());
+    if (code == 0) code = run(o, "The region of a window from the new capping machine, and the populated regions around it:",
+        "region", "--index", index, "--inputs", incoming, "--rows", Integer.toString(newMachineRow), "--radius", "3");
     if (code == 0) code = run(o, "How the windows spread over the network's linear regions:",
-        "census", "--index", index.toString(), "--largest", "3");
+        "census", "--index", index, "--largest", "3");
+    if (code == 0) code = run(o, "Which windows does the network not tell apart (within " + DUPES_RADIUS + " flipped neurons)? Leaks across the split and label conflicts are flagged:",
+        "dupes", "--index", index, "--radius", Integer.toString(DUPES_RADIUS), "--groups", "5", "--pairs", file("pairs.csv").toString());
+    if (code == 0) findings.fromPairs(history, file("pairs.csv"), DUPES_RADIUS);
+    if (code == 0) code = run(o, "Calibrate an out-of-distribution flag on fresh windows the index has not seen (95% of such windows pass):",
+        "ood", "calibrate", "--index", index, "--inputs", file("calibration.npy").toString());
+    int firstOdd = plant.incoming().size() - (int) (count(plant.incoming(), VibrationScenario.NEW_MACHINE)
+        + count(plant.incoming(), VibrationScenario.LOOSE_SENSOR));
+    if (code == 0) code = run(o, "Score incoming windows: two ordinary ones, then two from the new capping machine and two from the loose sensor:",
+        "ood", "score", "--index", index, "--inputs", incoming, "--rows", (firstOdd - 2) + ":" + (firstOdd + 2));
+    if (code == 0) code = run(o, "How well does the flag separate ordinary incoming windows from the odd ones? (page: ood-eval.html)",
+        "ood", "eval", "--index", index, "--in", file("incoming-ordinary.npy").toString(), "--out", file("incoming-odd.npy").toString(),
+        "--html", file("ood-eval.html").toString());
+    if (code == 0) code = oodFindings(index, plant.incoming(), findings);
+    if (code == 0) code = run(o, "Has line L1 moved after its bearing change? Week 47 against week 48, as the network sees them:",
+        "compare", "--index", index, "--kind", "inputs", "--a", file("week47.npy").toString(), "--b", file("week48.npy").toString());
+    if (code == 0) code = run(o, "A page to look at (with the near-duplicates and the week 47 / 48 comparison):", "report", "--index", index,
+        "--out", file("report.html").toString(), "--dupes-radius", Integer.toString(DUPES_RADIUS), "--compare-a", file("week47.npy").toString(),
+        "--compare-b", file("week48.npy").toString());
+    if (code == 0) code = drift(index, findings);
     if (code != 0) return code;
     o.println();
-    o.println("Next: 'actindex region --index " + index + " --inputs " + incomingNpy + " --rows 5 --radius 3' shows the odd");
-    o.println("window's region and its populated neighbours; add '--format json' to any query for scripts.");
-    o.println("Note: the label vote is a heuristic from neighbours in code space, not a calibrated guarantee.");
+    o.println("What the demo planted, and what the commands above found:");
+    o.println(String.format(Locale.ROOT, "  %-48s %5s / %-5s %s", "planted", "found", "of", "found as"));
+    for (Findings.Line l : findings.lines()) o.println(l.render());
+    o.println();
+    o.printf(Locale.ROOT, "Done in %.0f s. Open %s in a browser; every command above can be rerun or varied on the files in %s.%n",
+        (System.nanoTime() - started) / 1e9, file("report.html"), out);
+    o.println("Note: label votes and distances are heuristics from neighbours in code space, not guarantees.");
     o.flush();
     return ExitCodes.OK;
+  }
+
+  /** The drift test, read back as JSON: week 47 against 48 (a real change) and the two halves of week 47 (none). */
+  private int drift(String index, Findings findings) {
+    double[] p = new double[2];
+    String[][] pairs = {{"week47.npy", "week48.npy"}, {"week47-first-half.npy", "week47-second-half.npy"}};
+    for (int i = 0; i < 2; i++) {
+      Object doc = json("compare", "--index", index, "--kind", "inputs", "--a", file(pairs[i][0]).toString(), "--b",
+          file(pairs[i][1]).toString(), "--format", "json");
+      if (doc == null) return ExitCodes.INTERNAL;
+      p[i] = 1;
+      for (Object m : (List<?>) ((Map<?, ?>) doc).get("mmd")) p[i] = Math.min(p[i], ((Number) ((Map<?, ?>) m).get("p_value")).doubleValue());
+    }
+    findings.add("bearing change between weeks 47 and 48", p[0] <= 0.025 ? 1 : 0, 1,
+        String.format(Locale.ROOT, "compare: smallest MMD p = %.4f; two halves of week 47: p = %.3f%s", p[0], p[1],
+            p[1] <= 0.025 ? " (a false alarm)" : " (no alarm, as it should be)"));
+    return ExitCodes.OK;
+  }
+
+  /** Which incoming windows the calibrated flag calls out, per planted kind, read back from {@code ood score}'s JSON. */
+  private int oodFindings(String index, List<Window> incoming, Findings findings) {
+    Object doc = json("ood", "score", "--index", index, "--inputs", file("incoming.npy").toString(), "--evidence", "0", "--format", "json");
+    if (doc == null) return ExitCodes.INTERNAL;
+    List<?> results = (List<?>) ((Map<?, ?>) doc).get("results");
+    int[] out = new int[3], total = new int[3];
+    List<String> kinds = List.of("", VibrationScenario.NEW_MACHINE, VibrationScenario.LOOSE_SENSOR);
+    for (Object r : results) {
+      Map<?, ?> m = (Map<?, ?>) r;
+      int k = kinds.indexOf(incoming.get(((Number) m.get("query")).intValue()).planted());
+      total[k]++;
+      if ("out".equals(m.get("decision"))) out[k]++;
+    }
+    findings.add("new capping machine (out of distribution)", out[1], total[1], "flagged out by the calibrated threshold");
+    findings.add("loose sensor (out of distribution)", out[2], total[2], "flagged out by the calibrated threshold");
+    findings.add("ordinary incoming windows flagged (false alarms)", out[0], total[0], "about 5% expected at the calibrated rate");
+    return ExitCodes.OK;
+  }
+
+  /** Runs one command quietly and returns its JSON document (null, with the error shown, if it failed). */
+  private Object json(String... args) {
+    java.io.StringWriter buf = new java.io.StringWriter();
+    int code = Main.run(new PrintWriter(buf), spec.commandLine().getErr(), args);
+    return code == 0 ? io.actindex.encode.io.Json.parse(buf.toString()) : null;
+  }
+
+  private Path file(String name) {
+    return out.resolve(name);
+  }
+
+  private static long count(List<Window> windows, String planted) {
+    return windows.stream().filter(w -> w.planted().equals(planted)).count();
   }
 
   /** Runs one actindex command in this process, after printing it. */
@@ -148,8 +246,10 @@ public final class DemoCommand implements ExtraCommand {
   }
 
   private static void metadata(Path file, List<Window> windows) throws IOException {
-    List<String> lines = new ArrayList<>(List.of("key,label,split,line,shift"));
-    for (Window w : windows) lines.add(String.join(",", w.key(), w.label(), w.split(), w.line(), w.shift()));
+    List<String> lines = new ArrayList<>(List.of("key,label,split,line,shift,week,season,planted,copy_of"));
+    for (Window w : windows)
+      lines.add(String.join(",", w.key(), w.label(), w.split(), w.line(), w.shift(), Integer.toString(w.week()), w.season(), w.planted(),
+          w.copyOf()));
     Files.write(file, lines, StandardCharsets.UTF_8);
   }
 
@@ -161,8 +261,11 @@ public final class DemoCommand implements ExtraCommand {
         x.add(toDouble(w.features()));
         y.add(w.state());
       }
-    return MlpTrainer.train(x.toArray(double[][]::new), y.stream().mapToInt(Integer::intValue).toArray(),
-        VibrationScenario.STATES.size(), new MlpTrainer.Config(new int[] {HIDDEN1, HIDDEN2}, 40, 32, 3e-3, seed));
+    long t0 = System.nanoTime();
+    Mlp mlp = MlpTrainer.train(x.toArray(double[][]::new), y.stream().mapToInt(Integer::intValue).toArray(),
+        VibrationScenario.STATES.size(), new MlpTrainer.Config(new int[] {HIDDEN1, HIDDEN2}, EPOCHS, 64, 2e-3, seed));
+    trainSeconds = (System.nanoTime() - t0) / 1e9;
+    return mlp;
   }
 
   /** Fraction of the windows of {@code split} whose state the network's largest output names. */
@@ -197,11 +300,21 @@ public final class DemoCommand implements ExtraCommand {
   private String about() {
     return """
         Made by 'actindex demo' (seed %d). Invented data, no real machines:
-          windows.npy        labelled vibration windows, float32, one row per window, columns %s
-          windows.csv        their metadata: key, label (machine state), split, line, shift
-          incoming.npy       new unlabelled windows to look up (the last one is a loose sensor)
-          model.safetensors  the small ReLU network trained on the train split
-          index/             the actindex index built from the network's on/off codes
+          windows.npy         labelled vibration windows, float32, one row per window, columns %s
+          windows.csv         their metadata: key, label (machine state), split, line, shift, week, season,
+                              planted (the problem planted in the row, empty for ordinary rows), copy_of
+          planted.csv         the planted rows alone: the truth the demo checks its findings against
+          calibration.npy     fresh in-distribution windows, for out-of-distribution calibration
+          incoming.npy        new unlabelled windows; incoming-truth.csv says which came from the new
+                              capping machine or the loose sensor; incoming-ordinary.npy and
+                              incoming-odd.npy hold the two parts apart (for 'ood eval')
+          pairs.csv           every near-duplicate pair 'dupes' found (id_a,id_b,distance)
+          ood-eval.html       the page 'ood eval' wrote (ROC curve, score histograms)
+          week47.npy, week48.npy  line L1 before and after a bearing change; week47-first-half.npy and
+                              week47-second-half.npy split week 47 in two (a comparison that should find nothing)
+          model.safetensors   the ReLU network trained on the train split
+          index/              the actindex index built from the network's on/off codes
+          report.html         the page 'actindex report' wrote about the index
         Running the demo again with this folder replaces these files.
         """.formatted(seed, String.join(",", VibrationScenario.FEATURE_NAMES));
   }

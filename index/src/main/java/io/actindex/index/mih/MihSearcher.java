@@ -5,6 +5,7 @@ import io.actindex.core.CodeLayout;
 import io.actindex.core.CodeSearcher;
 import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
+import io.actindex.core.IdSet;
 import io.actindex.core.ScanSearcher;
 import io.actindex.core.TopK;
 import java.util.Arrays;
@@ -27,9 +28,7 @@ import java.util.function.IntPredicate;
  * <p>Thread-safe: per-thread scratch (a visited bitset) is kept in a {@link ThreadLocal}.
  */
 final class MihSearcher implements CodeSearcher {
-  // Cost model in rough nanoseconds on one core; only the ratios matter.
-  private static final double PROBE_DENSE = 20, PROBE_SPARSE = 50, CANDIDATE = 30;
-  private static final double SCAN_PER_CODE = 0.4, SCAN_PER_WORD = 0.3;
+  static final int PATH_SCAN = 1, PATH_TABLES = 2, PATH_PARTITION = 3;
   /** Work the tables may spend on a query without knowing it will finish cheaper than a scan. */
   private static final double EAGER = 0.07;
   /** Work the first round (every table's own bucket) may take. */
@@ -41,20 +40,25 @@ final class MihSearcher implements CodeSearcher {
   final BitPlan plan;
   final SubstringTable[] tables;
   final SearchPlanOptions.Strategy strategy;
+  final Partition partition; // null: none (small block)
+  final PlannerCosts cost;
   private final ScanSearcher scan;
   private final double scanCost;
   private final double[] ownRate; // expected codes in the query's own bucket, per table
   private final double[] nearRate; // expected codes per probe of a neighbouring bucket, per table
   private final ThreadLocal<Scratch> scratch;
 
-  MihSearcher(CodeBlock codes, BitPlan plan, SubstringTable[] tables, SearchPlanOptions.Strategy strategy) {
+  MihSearcher(CodeBlock codes, BitPlan plan, SubstringTable[] tables, SearchPlanOptions.Strategy strategy,
+      Partition partition, PlannerCosts cost) {
     this.codes = codes;
     this.plan = plan;
     this.tables = tables;
     this.strategy = strategy;
+    this.partition = partition;
+    this.cost = cost;
     this.scan = new ScanSearcher(codes);
     int n = codes.size();
-    this.scanCost = n * (SCAN_PER_CODE + SCAN_PER_WORD * codes.wordsPerCode());
+    this.scanCost = cost.scan(n, codes.wordsPerCode());
     this.ownRate = new double[tables.length];
     this.nearRate = new double[tables.length];
     for (int t = 0; t < tables.length; t++) {
@@ -76,34 +80,113 @@ final class MihSearcher implements CodeSearcher {
 
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask) {
+    return knn(query, k, accept, mask, Integer.MAX_VALUE);
+  }
+
+  /**
+   * The planner's order: an empty filter answers at once and a selective one is walked (the scan
+   * does both); then, without a mask, the partition finds a first k-th distance B from the nearest
+   * clusters, and whichever of the rest of the partition, the tables (every shell up to B) or the
+   * scan is estimated cheapest finishes the query, with B as the distance cap.
+   */
+  @Override
+  public Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
     query = ScanSearcher.checkQuery(codes.layout(), query, mask);
     int n = codes.size();
-    if (k <= 0 || n == 0) return Hits.EMPTY;
+    if (k <= 0 || n == 0 || maxDist < 0) return Hits.EMPTY;
+    boolean auto = strategy == SearchPlanOptions.Strategy.AUTO;
+    if (accept instanceof IdSet set) {
+      if (set.size() != n) throw new IllegalArgumentException("filter over " + set.size() + " ordinals, searcher has " + n);
+      if (set.isEmpty()) return Hits.EMPTY;
+      if (auto && set.count() * cost.walk() <= scanCost) return scan.knn(query, k, accept, mask, maxDist);
+    }
     int[] active = activeTables(mask);
-    if (strategy == SearchPlanOptions.Strategy.SCAN || active.length == 0) return scan.knn(query, k, accept, mask);
-    int kk = Math.min(k, n), m = active.length, c = plan.constantDistance(query, mask);
-    TopK top = new TopK(kk);
+    int kk = Math.min(k, n);
     Scratch s = scratch.get().begin(this, query, active);
     try {
-      int maxWidth = 0;
-      for (int t : active) maxWidth = Math.max(maxWidth, tables[t].width);
-      for (int rho = 0; rho <= maxWidth; rho++) {
-        for (int j = 0; j < m; j++) {
-          int t = active[j];
-          if (rho <= tables[t].width) {
-            if (strategy == SearchPlanOptions.Strategy.AUTO && !worthIt(s, top, kk, active, rho, j, c)) {
-              s.scanned = true;
-              return scan.knn(query, k, accept, mask, top.size() == kk ? top.bound() : Integer.MAX_VALUE);
-            }
-            shell(s, t, rho, query, accept, mask, top, 0);
-          }
-          if (top.size() == kk && top.bound() <= rho * m + j + c) return top.toHits();
+      boolean usePartition = partition != null && mask == null
+          && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
+      if (usePartition) {
+        TopK top = new TopK(kk);
+        int from = partition.begin(query, codes.layout().bits(), s.visit, accept, top, kk, maxDist);
+        int bound = top.size() == kk ? Math.min(maxDist, top.bound()) : maxDist;
+        double rest = from == partition.clusters() ? 0 : partition.estimate(s.visit, from, bound) * cost.partitionCode();
+        if (!auto || rest <= PROVEN * scanCost && rest <= tablesCost(s, active, bound, plan.constantDistance(query, null))) {
+          s.path = PATH_PARTITION;
+          if (rest > 0) partition.finish(query, s.visit, from, accept, top, maxDist);
+          return top.toHits();
         }
+        maxDist = bound; // the k-th distance so far bounds the answer: the path below starts afresh under it
       }
-      return top.toHits();
+      if (strategy == SearchPlanOptions.Strategy.SCAN || strategy == SearchPlanOptions.Strategy.PARTITION || active.length == 0) {
+        s.path = PATH_SCAN;
+        return scan.knn(query, k, accept, mask, maxDist);
+      }
+      return tables(s, query, kk, accept, mask, active, maxDist);
     } finally {
       s.end();
     }
+  }
+
+  /** Multi-index hashing over the active tables, falling back to the scan when the planner says so. */
+  private Hits tables(Scratch s, long[] query, int kk, IntPredicate accept, long[] mask, int[] active, int maxDist) {
+    int m = active.length, c = plan.constantDistance(query, mask);
+    TopK top = new TopK(kk);
+    s.path = PATH_TABLES;
+    int maxWidth = 0;
+    for (int t : active) maxWidth = Math.max(maxWidth, tables[t].width);
+    for (int rho = 0; rho <= maxWidth; rho++) {
+      for (int j = 0; j < m; j++) {
+        int t = active[j];
+        if (rho <= tables[t].width) {
+          if (strategy == SearchPlanOptions.Strategy.AUTO && !worthIt(s, top, kk, active, rho, j, c, maxDist)) {
+            s.path = PATH_SCAN;
+            return scan.knn(query, kk, accept, mask, bound(top, kk, maxDist));
+          }
+          shell(s, t, rho, query, accept, mask, top, bound(top, kk, maxDist));
+        }
+        if (bound(top, kk, maxDist) <= rho * m + j + c) return top.toHits();
+      }
+    }
+    return top.toHits();
+  }
+
+  /** The largest distance that can still enter: the k-th so far (once there are k), capped by maxDist. */
+  private static int bound(TopK top, int k, int maxDist) {
+    return top.size() == k ? Math.min(maxDist, top.bound()) : maxDist;
+  }
+
+  /**
+   * Estimated cost of the tables finding every code within {@code bound} of {@code query} (bucket
+   * statistics measured at build), for choosing between table layouts.
+   */
+  double tablesCost(long[] query, int bound) {
+    int[] active = activeTables(null);
+    Scratch s = scratch.get().begin(this, query, active);
+    try {
+      return tablesCost(s, active, bound, plan.constantDistance(query, null));
+    } finally {
+      s.end();
+    }
+  }
+
+  /** Estimated cost of probing every shell the tables would need to find all codes within {@code bound}. */
+  private double tablesCost(Scratch s, int[] active, int bound, int c) {
+    int m = active.length;
+    if (m == 0 || strategy == SearchPlanOptions.Strategy.PARTITION) return Double.POSITIVE_INFINITY;
+    int maxWidth = 0;
+    for (int t : active) maxWidth = Math.max(maxWidth, tables[t].width);
+    double total = 0;
+    for (int x = 0, j = 0; x <= maxWidth && (long) x * m + j - 1 + c < bound; ) {
+      int t = active[j];
+      if (x <= tables[t].width) total += shellCost(s, t, x);
+      if (total > scanCost) return total;
+      if (++j == m) {
+        j = 0;
+        x++;
+      }
+    }
+    return total;
   }
 
   @Override
@@ -111,7 +194,9 @@ final class MihSearcher implements CodeSearcher {
     query = ScanSearcher.checkQuery(codes.layout(), query, mask);
     if (radius < 0 || codes.size() == 0) return Hits.EMPTY;
     int[] active = activeTables(mask);
-    if (strategy == SearchPlanOptions.Strategy.SCAN || active.length == 0) return scan.radius(query, radius, accept, mask);
+    if (accept instanceof IdSet set && set.isEmpty()) return Hits.EMPTY;
+    if (strategy == SearchPlanOptions.Strategy.SCAN || strategy == SearchPlanOptions.Strategy.PARTITION || active.length == 0)
+      return scan.radius(query, radius, accept, mask);
     int c = plan.constantDistance(query, mask);
     int rr = radius - c, m = active.length;
     if (rr < 0) return Hits.EMPTY; // every code is at least c away
@@ -124,7 +209,7 @@ final class MihSearcher implements CodeSearcher {
           for (int x = 0; x <= Math.min(tables[active[j]].width, rr / m - (j <= rr % m ? 0 : 1)); x++)
             est += shellCost(s, active[j], x);
         if (est > PROVEN * scanCost) {
-          s.scanned = true;
+          s.path = PATH_SCAN;
           return scan.radius(query, radius, accept, mask);
         }
       }
@@ -147,10 +232,10 @@ final class MihSearcher implements CodeSearcher {
    * of the work still needed (every shell up to the current k-th best distance) fits under most of
    * a scan. Otherwise the caller scans.
    */
-  private boolean worthIt(Scratch s, TopK top, int k, int[] active, int rho, int j, int c) {
+  private boolean worthIt(Scratch s, TopK top, int k, int[] active, int rho, int j, int c, int maxDist) {
     if (rho == 0) return s.work + shellCost(s, active[j], rho) <= FIRST_ROUND * scanCost;
-    if (top.size() < k) return s.work + shellCost(s, active[j], rho) <= EAGER * scanCost;
-    int m = active.length, bound = top.bound();
+    int m = active.length, bound = bound(top, k, maxDist);
+    if (bound == Integer.MAX_VALUE) return s.work + shellCost(s, active[j], rho) <= EAGER * scanCost;
     // within three rounds of the k-th best distance: go on while the next shell fits the budget (the
     // k-th best usually drops on the way, so the sum below would be too pessimistic)
     if (bound - (rho * m + j - 1 + c) <= 3 * m) return s.work + shellCost(s, active[j], rho) <= PROVEN * scanCost;
@@ -173,7 +258,7 @@ final class MihSearcher implements CodeSearcher {
     double probes = Math.min(ProbeEnumerator.count(tab.width, rho), tab.buckets());
     // codes per probe: the table's prior, corrected by what this query met in neighbouring buckets
     double rate = rho == 0 ? ownRate[t] : (nearRate[t] * 64 + s.nearCandidates) / (64 + s.nearProbes);
-    return probes * ((tab.dense() ? PROBE_DENSE : PROBE_SPARSE) + rate * CANDIDATE);
+    return probes * ((tab.dense() ? cost.probeDense() : cost.probeSparse()) + rate * cost.candidate());
   }
 
   /** Mean size of the buckets one bit away from the keys of up to 256 evenly spaced codes. */
@@ -194,7 +279,8 @@ final class MihSearcher implements CodeSearcher {
 
   /**
    * Visits every code whose key in table t is at distance exactly rho from the query's key.
-   * kNN mode when top is non-null, else radius mode (hits with distance <= radius collected).
+   * kNN mode when top is non-null (codes within {@code radius} may enter it), else radius mode
+   * (hits with distance <= radius collected). The filter is asked only about codes within the bound.
    */
   private void shell(Scratch s, int t, int rho, long[] q, IntPredicate accept, long[] mask, TopK top, int radius) {
     SubstringTable tab = tables[t];
@@ -227,12 +313,11 @@ final class MihSearcher implements CodeSearcher {
         visited[word] |= bit;
         s.touch(ord);
         cands++;
-        if (accept != null && !accept.test(ord)) continue;
-        int bound = top != null ? top.bound() : radius;
+        int bound = top != null ? Math.min(radius, top.bound()) : radius;
         int d = mask == null
             ? Hamming.distanceBounded(q, 0, data, ord * w, w, bound)
             : Hamming.maskedDistance(q, 0, data, ord * w, mask, w);
-        if (d > bound) continue;
+        if (d > bound || accept != null && !accept.test(ord)) continue;
         if (top != null) top.offer(ord, d);
         else s.hit(ord, d);
       }
@@ -244,16 +329,16 @@ final class MihSearcher implements CodeSearcher {
       s.nearProbes += probes;
       s.nearCandidates += cands;
     }
-    s.work += probes * (tab.dense() ? PROBE_DENSE : PROBE_SPARSE) + cands * CANDIDATE;
+    s.work += probes * (tab.dense() ? cost.probeDense() : cost.probeSparse()) + cands * cost.candidate();
   }
 
   /**
-   * Expert, for tests and tuning: {probes, candidates, 1 if the planner fell back to the scan} of
-   * the last query this thread ran on this searcher.
+   * Expert, for tests and tuning: {probes, candidates, 1 if the query ended in the scan, the path
+   * that answered (PATH_*)} of the last query this thread ran on this searcher.
    */
   long[] lastQueryWork() {
     Scratch s = scratch.get();
-    return new long[] {s.probes, s.candidates, s.scanned ? 1 : 0};
+    return new long[] {s.probes, s.candidates, s.path == PATH_SCAN ? 1 : 0, s.path};
   }
 
   /** Tables usable under the mask: all (null mask) or those whose bits the mask covers. */
@@ -274,7 +359,9 @@ final class MihSearcher implements CodeSearcher {
     int hits;
     long probes, candidates, nearProbes, nearCandidates;
     double work;
-    boolean inUse, scanned;
+    int path;
+    boolean inUse;
+    final Partition.Visit visit = new Partition.Visit();
 
     Scratch(int n, int tables) {
       visited = new long[(n + 63) >>> 6];
@@ -291,7 +378,7 @@ final class MihSearcher implements CodeSearcher {
       s.nearProbes = 0;
       s.nearCandidates = 0;
       s.work = 0;
-      s.scanned = false;
+      s.path = 0;
       for (int t : active) s.keys[t] = owner.plan.key(query, 0, t);
       return s;
     }

@@ -13,17 +13,21 @@ package io.actindex.index.mih;
  *     (their per-query contribution is added back exactly)
  * @param balance assign bits to substrings so that their entropies are balanced (greedy by per-bit
  *     entropy, correlated bits spread apart); false = consecutive bits in code order
+ * @param partition also group the codes around centres for cluster pruning ({@link Partition}),
+ *     when the block has at least 4,096 codes (any size under strategy PARTITION)
  * @param strategy AUTO lets the planner choose per query; TABLES always probes the tables; SCAN
- *     always scans
+ *     always scans; PARTITION always uses the cluster partition for k-NN (when it has one and there
+ *     is no mask; else the scan)
  */
 public record SearchPlanOptions(
-    int substrings, int maxSubstrings, boolean dropConstantBits, boolean balance, Strategy strategy) {
+    int substrings, int maxSubstrings, boolean dropConstantBits, boolean balance, boolean partition, Strategy strategy) {
 
   /** The search path a query takes. */
   public enum Strategy {
     AUTO,
     TABLES,
-    SCAN
+    SCAN,
+    PARTITION
   }
 
   /** Widest substring a table may key on. */
@@ -35,25 +39,29 @@ public record SearchPlanOptions(
     if (strategy == null) throw new IllegalArgumentException("strategy is null");
   }
 
-  /** Automatic substrings (at most 16 tables), constant bits dropped, entropy balanced, planner on. */
+  /** Automatic substrings (at most 16 tables), constant bits dropped, entropy balanced, a partition, planner on. */
   public static SearchPlanOptions defaults() {
-    return new SearchPlanOptions(0, 16, true, true, Strategy.AUTO);
+    return new SearchPlanOptions(0, 16, true, true, true, Strategy.AUTO);
+  }
+
+  public SearchPlanOptions withPartition(boolean p) {
+    return new SearchPlanOptions(substrings, maxSubstrings, dropConstantBits, balance, p, strategy);
   }
 
   public SearchPlanOptions withSubstrings(int m) {
-    return new SearchPlanOptions(m, maxSubstrings, dropConstantBits, balance, strategy);
+    return new SearchPlanOptions(m, maxSubstrings, dropConstantBits, balance, partition, strategy);
   }
 
   public SearchPlanOptions withMaxSubstrings(int max) {
-    return new SearchPlanOptions(substrings, max, dropConstantBits, balance, strategy);
+    return new SearchPlanOptions(substrings, max, dropConstantBits, balance, partition, strategy);
   }
 
   public SearchPlanOptions withStrategy(Strategy s) {
-    return new SearchPlanOptions(substrings, maxSubstrings, dropConstantBits, balance, s);
+    return new SearchPlanOptions(substrings, maxSubstrings, dropConstantBits, balance, partition, s);
   }
 
   /** The layout before skew handling: no constant-bit dropping, consecutive bits per substring. */
   public SearchPlanOptions plain() {
-    return new SearchPlanOptions(substrings, maxSubstrings, false, false, strategy);
+    return new SearchPlanOptions(substrings, maxSubstrings, false, false, partition, strategy);
   }
 }

@@ -18,10 +18,11 @@ import java.util.List;
  * the plain scan when the tables would not prune. Every path returns exactly what a brute-force
  * scan returns.
  *
- * <h2>Tables payload, version 1</h2>
- * Big-endian ({@link DataOutput}); the codes themselves are not part of it.
+ * <h2>Tables payload, version 2</h2>
+ * Big-endian ({@link DataOutput}); the codes themselves are not part of it. Version 1 is the same
+ * up to the tables, without the planner costs and the partition (read with the fixed default costs).
  * <pre>
- * int    version (1)
+ * int    version (2)
  * int    n (codes), int bits, int layoutHash ({@code CodeLayout.hash()})
  * int    strategy id (0 AUTO, 1 TABLES, 2 SCAN)
  * long[words] constant-bit mask, long[words] constant-bit values
@@ -32,16 +33,24 @@ import java.util.List;
  *   sparse only: int distinct, int[distinct] keys XOR 0x80000000, strictly ascending
  *   int[buckets + 1] offsets (0, non-decreasing, n last; buckets = 2^width or distinct)
  *   int[n] ids (each ordinal once, grouped by key)
+ * double[7] planner costs in ns, measured at build ({@link PlannerCosts}: scan per code, scan per
+ *        word, dense probe, sparse probe, candidate, walked filter member, partition code)
+ * byte   partition: 0 none, 1 follows
+ *   int clusters C (1..n), long[C * words] centres (ghost bits zero)
+ *   int[C + 1] start (0, non-decreasing, n last)
+ *   int[n] ordinals in cluster order (each once; inside a cluster by ascending distance to its centre)
  * </pre>
- * {@link #read} checks every count against the codes with exact arithmetic, every ordinal, and that
- * every code sits in the bucket of its own key, so inconsistent tables cannot give wrong answers.
+ * {@link #read} checks every count against the codes with exact arithmetic, every ordinal, that
+ * every code sits in the bucket of its own key, and recomputes every partition radius from the codes,
+ * so inconsistent tables cannot give wrong answers.
  */
 public final class Searchers {
   private Searchers() {}
 
-  private static final int VERSION = 1;
+  private static final int VERSION = 2, VERSION_START = 1;
   private static final SearchPlanOptions.Strategy[] STRATEGY_IDS = {
-    SearchPlanOptions.Strategy.AUTO, SearchPlanOptions.Strategy.TABLES, SearchPlanOptions.Strategy.SCAN
+    SearchPlanOptions.Strategy.AUTO, SearchPlanOptions.Strategy.TABLES, SearchPlanOptions.Strategy.SCAN,
+    SearchPlanOptions.Strategy.PARTITION
   };
   private static final int MAX_DENSE_WIDTH = 26;
 
@@ -51,24 +60,46 @@ public final class Searchers {
   }
 
   /**
-   * The searcher under {@code opts}. With an automatic table count and balancing on, a plan whose tables carry much
-   * less key entropy than {@code log2(n)} (correlated bits: the buckets would be huge) is replaced
-   * once by one with proportionally fewer, wider tables.
+   * The searcher under {@code opts}. With an automatic table count, the tables follow the analysis
+   * of Norouzi, Punjani and Fleet (TPAMI 2014, choosing m): about {@code L / log2 n} substrings of
+   * at most {@code log2 n} bits. When their keys carry much less entropy than {@code log2 n}
+   * (correlated bits: large buckets), a layout with proportionally fewer, wider tables is built too,
+   * and the one whose measured bucket occupancy predicts less work for typical queries is kept: 16
+   * indexed codes as queries, each with its true 10th-neighbour distance as the radius to cover.
    */
   public static CodeSearcher build(CodeBlock codes, SearchPlanOptions opts) {
-    MihSearcher s = build(codes, BitPlan.choose(codes, opts), opts.strategy());
+    Partition partition = !opts.partition() || codes.size() < 2 ? null
+        : opts.strategy() == SearchPlanOptions.Strategy.PARTITION ? Partition.build(codes, 2) : Partition.build(codes);
+    MihSearcher s = build(codes, BitPlan.choose(codes, opts), opts.strategy(), partition);
     int m = s.tables.length, n = codes.size();
     if (opts.substrings() == 0 && opts.balance() && m > 1 && n > 1) {
       double lg = Math.log(n) / Math.log(2), h = stats(s).tables().stream().mapToDouble(SearcherStats.Table::keyEntropy).average().orElse(lg);
       // fewer tables may not cover every bit (32 bits each at most): then they index the
       // highest-entropy bits and the rest is checked on the full codes (the cascade)
       int fewer = Math.max(1, (int) Math.round(m * h / lg));
-      if (h < lg - 3 && fewer < m) s = build(codes, BitPlan.choose(codes, opts.withSubstrings(fewer)), opts.strategy());
+      if (h < lg - 1 && fewer < m) {
+        MihSearcher wider = build(codes, BitPlan.choose(codes, opts.withSubstrings(fewer)), opts.strategy(), partition);
+        if (typicalWork(wider) < typicalWork(s)) s = wider;
+      }
     }
     return s;
   }
 
-  private static MihSearcher build(CodeBlock codes, BitPlan plan, SearchPlanOptions.Strategy strategy) {
+  /** Mean estimated table work to find the 10 nearest other codes of 16 evenly spaced indexed codes. */
+  private static double typicalWork(MihSearcher s) {
+    CodeBlock codes = s.codes;
+    int n = codes.size(), samples = Math.min(16, n), k = Math.min(11, n);
+    ScanSearcher scan = new ScanSearcher(codes);
+    double total = 0;
+    for (int i = 0; i < samples; i++) {
+      long[] q = codes.code((int) ((long) i * n / samples));
+      io.actindex.core.Hits h = scan.knn(q, k);
+      total += s.tablesCost(q, h.dist(h.size() - 1));
+    }
+    return total / samples;
+  }
+
+  private static MihSearcher build(CodeBlock codes, BitPlan plan, SearchPlanOptions.Strategy strategy, Partition partition) {
     SubstringTable[] tables = new SubstringTable[plan.tables()];
     int n = codes.size(), w = codes.wordsPerCode();
     long[] data = codes.words();
@@ -77,7 +108,7 @@ public final class Searchers {
       for (int ord = 0; ord < n; ord++) keyOf[ord] = plan.key(data, ord * w, t);
       tables[t] = SubstringTable.build(plan.width(t), keyOf);
     }
-    return new MihSearcher(codes, plan, tables, strategy);
+    return new MihSearcher(codes, plan, tables, strategy, partition, PlannerCosts.machine());
   }
 
   /** Bit plan, table occupancy and memory of a searcher from {@link #build}; a plain scan has no tables. */
@@ -92,6 +123,7 @@ public final class Searchers {
       tables.add(t.stats());
       bytes += t.bytes();
     }
+    if (m.partition != null) bytes += m.partition.bytes();
     return new SearcherStats(m.size(), m.plan.bits(), m.plan.constantBits(), m.plan.indexedBits(), tables, bytes,
         8L * m.codes.words().length);
   }
@@ -120,6 +152,15 @@ public final class Searchers {
       writeInts(out, tab.offsets);
       writeInts(out, tab.ids);
     }
+    for (double c : m.cost.toArray()) out.writeDouble(c);
+    Partition p = m.partition;
+    out.writeByte(p == null ? 0 : 1);
+    if (p != null) {
+      out.writeInt(p.clusters());
+      for (long x : p.centres) out.writeLong(x);
+      writeInts(out, p.start);
+      writeInts(out, p.ords);
+    }
   }
 
   /**
@@ -129,7 +170,8 @@ public final class Searchers {
    */
   public static CodeSearcher read(DataInput in, CodeBlock codes) throws IOException {
     int n = codes.size(), bits = codes.layout().bits(), w = codes.wordsPerCode();
-    expect("version", in.readInt(), VERSION);
+    int version = in.readInt();
+    if (version < VERSION_START || version > VERSION) throw bad("version " + version + " is not " + VERSION_START + ".." + VERSION);
     expect("code count", in.readInt(), n);
     expect("bits per code", in.readInt(), bits);
     expect("layout hash", in.readInt(), codes.layout().hash());
@@ -171,6 +213,21 @@ public final class Searchers {
       int[] ids = readInts(in, n);
       tables[t] = new SubstringTable(width, keys, offsets, ids);
     }
+    // the rest of the stream (version 2) before the checks against the codes
+    PlannerCosts cost = PlannerCosts.defaults();
+    Partition partition = null;
+    if (version >= 2) {
+      double[] c = new double[PlannerCosts.COUNT];
+      for (int i = 0; i < c.length; i++) c[i] = in.readDouble();
+      try {
+        cost = PlannerCosts.of(c);
+      } catch (IllegalArgumentException e) {
+        throw bad(e.getMessage());
+      }
+      int kind = in.readUnsignedByte();
+      if (kind == 1) partition = readPartition(in, codes);
+      else if (kind != 0) throw bad("partition kind " + kind + " is unknown");
+    }
     BitPlan plan;
     try {
       plan = new BitPlan(bits, constMask, constValue, tableBits);
@@ -194,7 +251,34 @@ public final class Searchers {
         }
       }
     }
-    return new MihSearcher(codes, plan, tables, STRATEGY_IDS[sid]);
+    return new MihSearcher(codes, plan, tables, STRATEGY_IDS[sid], partition, cost);
+  }
+
+  private static Partition readPartition(DataInput in, CodeBlock codes) throws IOException {
+    int n = codes.size(), w = codes.wordsPerCode();
+    int clusters = in.readInt();
+    if (clusters < 1 || clusters > n) throw bad("partition has " + clusters + " clusters for " + n + " codes");
+    long[] centres = new long[Math.multiplyExact(clusters, w)];
+    for (int i = 0; i < centres.length; i++) centres[i] = in.readLong();
+    long ghost = io.actindex.core.CodeBlock.ghostMask(codes.layout());
+    for (int c = 0; c < clusters; c++)
+      if ((centres[c * w + w - 1] & ghost) != 0) throw bad("partition centre " + c + " has bits past the code width");
+    int[] start = readInts(in, clusters + 1);
+    if (start[0] != 0 || start[clusters] != n) throw bad("partition starts do not run from 0 to " + n);
+    for (int c = 0; c < clusters; c++) if (start[c] > start[c + 1]) throw bad("partition starts not ascending at cluster " + c);
+    int[] ords = readInts(in, n);
+    long[] seen = new long[(n + 63) >>> 6];
+    for (int i = 0; i < n; i++) {
+      int ord = ords[i];
+      if (ord < 0 || ord >= n) throw bad("partition names ordinal " + ord + " outside 0.." + (n - 1));
+      if ((seen[ord >>> 6] >>> (ord & 63) & 1) != 0) throw bad("partition names ordinal " + ord + " twice");
+      seen[ord >>> 6] |= 1L << (ord & 63);
+    }
+    try {
+      return new Partition(codes, centres, start, ords);
+    } catch (IllegalArgumentException e) {
+      throw bad("partition " + e.getMessage());
+    }
   }
 
   private static MihSearcher mih(CodeSearcher s) {

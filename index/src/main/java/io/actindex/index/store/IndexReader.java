@@ -4,6 +4,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hits;
+import io.actindex.core.IdSet;
 import io.actindex.core.TopK;
 import io.actindex.index.meta.MetaStore;
 import java.io.IOException;
@@ -16,7 +17,6 @@ import java.util.HashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.function.IntConsumer;
-import java.util.function.IntPredicate;
 import java.util.stream.Stream;
 import org.roaringbitmap.RoaringBitmap;
 
@@ -37,6 +37,9 @@ public final class IndexReader implements AutoCloseable {
   private final Map<String, byte[]> attachments;
   private final MetaStore meta;
   private final int liveCount;
+  private final IdSet live; // over [0, maxId); null when nothing is deleted
+  private final Segment[] bySize; // largest first: the search order that shares the k-th distance
+  private final Map<Segment, IdSet> liveOrdinals; // per segment, counted once; empty when nothing is deleted
   private final List<Magnitudes> magnitudes; // per segment, null entries where none are kept
 
   private IndexReader(Path dir, Manifest manifest, List<Segment> segments, RoaringBitmap deleted,
@@ -51,6 +54,44 @@ public final class IndexReader implements AutoCloseable {
     this.attachments = attachments;
     this.meta = meta;
     this.liveCount = manifest.nextId() - deleted.getCardinality();
+    this.live = deleted.isEmpty() ? null : toIdSet(deleted, manifest.nextId(), true);
+    this.bySize = this.segments.toArray(new Segment[0]);
+    Arrays.sort(bySize, (a, b) -> Integer.compare(b.size(), a.size()));
+    this.liveOrdinals = new java.util.IdentityHashMap<>();
+    if (live != null)
+      for (Segment s : this.segments) {
+        IdSet o = ordinals(s, live);
+        if (o != null) o.count(); // counted here, not per query
+        liveOrdinals.put(s, o);
+      }
+  }
+
+  /** The ids of {@code bits} below {@code size} (or, with {@code complement}, the others) as an IdSet. */
+  private static IdSet toIdSet(RoaringBitmap bits, int size, boolean complement) {
+    long[] words = new long[(size + 63) >>> 6];
+    org.roaringbitmap.BatchIterator it = bits.getBatchIterator();
+    int[] buf = new int[256];
+    while (it.hasNext()) {
+      int got = it.nextBatch(buf);
+      for (int i = 0; i < got; i++) {
+        int id = buf[i];
+        if (id >= 0 && id < size) words[id >>> 6] |= 1L << (id & 63);
+      }
+    }
+    if (complement) {
+      for (int i = 0; i < words.length; i++) words[i] = ~words[i];
+      if ((size & 63) != 0) words[words.length - 1] &= -1L >>> (64 - (size & 63));
+    }
+    return IdSet.of(words, size);
+  }
+
+  /**
+   * A filter for {@link #search}: the live ids among {@code ids} (ids outside {@code [0, maxId())}
+   * are ignored). Build it once and reuse it for every query with the same filter.
+   */
+  public IdSet filter(RoaringBitmap ids) {
+    IdSet f = toIdSet(ids, manifest.nextId(), false);
+    return live == null ? f : f.and(live);
   }
 
   /**
@@ -220,26 +261,46 @@ public final class IndexReader implements AutoCloseable {
 
   /**
    * The {@code k} nearest live codes (restricted to {@code filter} if not null), exact, ties by
-   * ascending id; {@code mask} (nullable) limits the distance to its bits.
+   * ascending id; {@code mask} (nullable) limits the distance to its bits. Converts the filter on
+   * every call: with many queries, build it once with {@link #filter} and call {@link #search}.
    */
   public Hits knn(long[] query, int k, RoaringBitmap filter, long[] mask) {
+    return search(query, k, filter == null ? null : filter(filter), mask);
+  }
+
+  /** Every live code (in {@code filter} if not null) at distance {@code <= radius}, sorted by (distance, id). */
+  public Hits radius(long[] query, int radius, RoaringBitmap filter, long[] mask) {
+    return searchRadius(query, radius, filter == null ? null : filter(filter), mask);
+  }
+
+  /**
+   * The {@code k} nearest live codes in {@code filter} (null: all; a set over {@code [0, maxId())},
+   * e.g. from {@link #filter}), exact, ties by ascending id; {@code mask} (nullable) limits the
+   * distance to its bits. Segments are searched largest first, each capped by the k-th distance
+   * found so far, so later segments prune with the shared bound. An empty filter answers at once.
+   */
+  public Hits search(long[] query, int k, IdSet filter, long[] mask) {
     checkQuery(query, mask);
-    if (k <= 0) return Hits.EMPTY;
+    IdSet accept = accepted(filter);
+    if (k <= 0 || accept != null && accept.isEmpty()) return Hits.EMPTY;
     TopK top = new TopK(k);
-    for (Segment s : segments) {
-      Hits h = s.searcher().knn(query, k, accept(s, filter), mask);
+    for (Segment s : bySize) {
+      int maxDist = top.size() == k ? top.bound() : Integer.MAX_VALUE;
+      Hits h = s.searcher().knn(query, k, filter == null ? liveOrdinals.get(s) : ordinals(s, accept), mask, maxDist);
       for (int i = 0; i < h.size(); i++) top.offer(s.id(h.ord(i)), h.dist(i));
     }
     return top.toHits();
   }
 
-  /** Every live code (in {@code filter} if not null) at distance {@code <= radius}, sorted by (distance, id). */
-  public Hits radius(long[] query, int radius, RoaringBitmap filter, long[] mask) {
+  /** Every live code in {@code filter} (null: all) at distance {@code <= radius}, sorted by (distance, id). */
+  public Hits searchRadius(long[] query, int radius, IdSet filter, long[] mask) {
     checkQuery(query, mask);
+    IdSet accept = accepted(filter);
+    if (accept != null && accept.isEmpty()) return Hits.EMPTY;
     int total = 0;
     List<Hits> parts = new ArrayList<>(segments.size());
     for (Segment s : segments) {
-      Hits h = s.searcher().radius(query, radius, accept(s, filter), mask);
+      Hits h = s.searcher().radius(query, radius, filter == null ? liveOrdinals.get(s) : ordinals(s, accept), mask);
       parts.add(h);
       total += h.size();
     }
@@ -255,23 +316,32 @@ public final class IndexReader implements AutoCloseable {
     return Hits.sorted(ids, dists, total);
   }
 
+  /** The live ids the filter keeps (null: every id is live and there is no filter). */
+  private IdSet accepted(IdSet filter) {
+    if (filter == null) return live;
+    if (filter.size() != manifest.nextId())
+      throw new IllegalArgumentException("filter over " + filter.size() + " ids, the index has " + manifest.nextId());
+    return live == null ? filter : filter.and(live);
+  }
+
+  /** The accepted ids of segment s as its ordinals (a window when its ids are contiguous). */
+  private static IdSet ordinals(Segment s, IdSet accept) {
+    int n = s.size();
+    if (accept == null || n == 0) return null;
+    int first = s.id(0);
+    if (s.id(n - 1) - first == n - 1) return accept.window(first, n);
+    int[] ords = new int[n];
+    int m = 0;
+    for (int o = 0; o < n; o++) if (accept.contains(s.id(o))) ords[m++] = o;
+    return IdSet.of(n, Arrays.copyOf(ords, m));
+  }
+
   private void checkQuery(long[] query, long[] mask) {
     int w = manifest.layout().words();
     if (query.length != w)
       throw new IllegalArgumentException("query has " + query.length + " words, the index's codes have " + w);
     if (mask != null && mask.length != w)
       throw new IllegalArgumentException("mask has " + mask.length + " words, the index's codes have " + w);
-  }
-
-  private IntPredicate accept(Segment s, RoaringBitmap filter) {
-    if (filter == null) {
-      if (deleted.isEmpty()) return null;
-      return ord -> !deleted.contains(s.id(ord));
-    }
-    return ord -> {
-      int id = s.id(ord);
-      return filter.contains(id) && !deleted.contains(id);
-    };
   }
 
   public MetaStore meta() {

@@ -46,6 +46,51 @@ class IndexSearchExactnessTest {
     for (int rep = 100; rep < 124; rep++) run(rep, 6);
   }
 
+  /**
+   * Segments large enough for a partition (dense ReLU codes), searched largest first with the shared
+   * k-th distance: filters of 0.5% (walked), 30% and all, one tombstone and 30% deleted, masks.
+   */
+  @Test
+  void partitionedSegmentsShareTheBound() throws java.io.IOException {
+    long seed = Randoms.seed(500);
+    String why = Randoms.describe(seed);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    SyntheticCodes.ReluNet net = SyntheticCodes.ReluNet.dense(32, 64, 64, 20, seed);
+    CodeBlock all = net.sample(4_200 + 5_000 + 4_500, 0, seed + 1).codes();
+    Path dir = tmp.resolve("partitioned");
+    RoaringBitmap deleted = new RoaringBitmap();
+    try (IndexWriter w = IndexWriter.create(dir, all.layout(), Map.of())) {
+      w.add(all.slice(0, 4_200), null);
+      w.add(all.slice(4_200, 9_200), null);
+      w.add(all.slice(9_200, all.size()), null);
+      for (int round = 0; round < 3; round++) {
+        try (IndexReader r = IndexReader.open(dir)) {
+          CodeBlock queries = net.sample(8, round == 2 ? 3 : 0, seed + 2 + round).codes();
+          for (int i = 0; i < queries.size(); i++) {
+            long[] q = queries.code(i);
+            double share = new double[] {0.005, 0.3, 1}[i % 3];
+            RoaringBitmap f = new RoaringBitmap();
+            for (int id = 0; id < all.size(); id++) if (rnd.nextDouble() < share) f.add(id);
+            io.actindex.core.IdSet filter = share == 1 ? null : r.filter(f);
+            IntPredicate accept = id -> !deleted.contains(id) && (share == 1 || f.contains(id));
+            long[] mask = i == 7 ? all.layout().mask(1) : null;
+            for (int k : new int[] {1, 10, 100}) {
+              String what = why + " round " + round + " query " + i + " share " + share + " k=" + k;
+              assertEquals(BruteForce.knn(all, q, k, accept, mask), r.search(q, k, filter, mask), what);
+            }
+            assertEquals(BruteForce.radius(all, q, 30, accept, mask), r.searchRadius(q, 30, filter, mask), why);
+          }
+          assertEquals(Hits.EMPTY, r.search(queries.code(0), 10, r.filter(new RoaringBitmap()), null), why);
+        }
+        RoaringBitmap del = new RoaringBitmap();
+        if (round == 0) del.add(rnd.nextInt(all.size()));
+        else for (int id = 0; id < all.size(); id++) if (rnd.nextInt(10) < 3) del.add(id);
+        w.delete(del);
+        deleted.or(del);
+      }
+    }
+  }
+
   private void run(int rep, int batches) {
     long seed = Randoms.seed(rep);
     String why = Randoms.describe(seed);

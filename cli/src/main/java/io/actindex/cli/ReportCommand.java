@@ -1,0 +1,69 @@
+package io.actindex.cli;
+
+import io.actindex.cli.format.JsonWriter;
+import io.actindex.index.store.IndexReader;
+import io.actindex.query.Report;
+import java.io.IOException;
+import java.io.PrintWriter;
+import java.nio.file.Path;
+import java.util.Locale;
+import java.util.concurrent.Callable;
+import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
+import picocli.CommandLine.Model.CommandSpec;
+import picocli.CommandLine.Option;
+import picocli.CommandLine.Spec;
+
+/** {@code actindex report}: a self-contained HTML page about one index. */
+@Command(name = "report", mixinStandardHelpOptions = true,
+    description = {"Writes one self-contained HTML page about an index (inline SVG charts, each with its numbers in a table;",
+        "no script, nothing fetched, opens offline): layout and size, examples per linear region, neuron firing rates,",
+        "distance to the nearest other example by split, label purity of regions; the out-of-distribution",
+        "calibration when one is stored; near-duplicates with --dupes-radius; a comparison with --compare-a/--compare-b."})
+final class ReportCommand implements Callable<Integer> {
+  @Spec CommandSpec spec;
+  @Mixin Verbose verbose;
+  @Mixin IndexOption index;
+
+  @Option(names = "--out", paramLabel = "FILE.html", required = true, description = "The page to write (replaced if it exists).")
+  Path out;
+
+  @Option(names = "--title", paramLabel = "TEXT", description = "Heading of the page. Default: the index folder's name.")
+  String title;
+
+  @Option(names = "--dupes-radius", paramLabel = "R",
+      description = "Add the near-duplicate join at radius R (summary, leaking and conflicting groups, the largest groups).")
+  Integer dupesRadius;
+
+  @Option(names = "--compare-a", paramLabel = "FILE", description = "Add a comparison of two samples: A, a file of the kind the index was built from.")
+  Path compareA;
+
+  @Option(names = "--compare-b", paramLabel = "FILE", description = "Sample B of the comparison.")
+  Path compareB;
+
+  @Mixin ThreadsOption threads;
+  @Mixin FormatOption format;
+
+  @Override
+  public Integer call() throws IOException {
+    PrintWriter err = spec.commandLine().getErr();
+    Report.Result r;
+    try (IndexReader reader = IndexReader.open(index.dir);
+        Progress progress = Progress.onTerminal(err, "measuring nearest-other distances")) {
+      r = Report.run(reader, new Report.Params(out, title, dupesRadius, compareA, compareB, threads.resolved()), progress);
+    }
+    PrintWriter o = spec.commandLine().getOut();
+    switch (format.format) {
+      case json -> {
+        new JsonWriter(o).beginObject().member("out", r.out().toString()).member("bytes", r.bytes())
+            .member("examples", r.facts().examples()).endObject();
+        o.println();
+      }
+      case csv -> o.println("out,bytes,examples\n" + r.out() + "," + r.bytes() + "," + r.facts().examples());
+      case table -> o.printf(Locale.ROOT, "wrote %s (%.1f KB) about %d examples; open it in any browser (works offline)%n", r.out(),
+          r.bytes() / 1024.0, r.facts().examples());
+    }
+    o.flush();
+    return ExitCodes.OK;
+  }
+}

@@ -1,0 +1,78 @@
+package io.actindex.core;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertSame;
+
+import java.util.SplittableRandom;
+import java.util.function.IntPredicate;
+import org.junit.jupiter.api.Test;
+
+/**
+ * The scan's loops (1, 2, 4, 8 words and the general one, masked or not), filters given as an
+ * {@link IdSet} (walked when selective, tested after the distance otherwise) or as any predicate,
+ * and the distance cap, each against the bit-by-bit {@link BruteForce}, on uniform and ReLU-like
+ * codes of 64 to 1,088 bits.
+ */
+class ScanKernelTest {
+  private static final int[] WORDS = {1, 2, 3, 4, 5, 8, 16, 17};
+
+  @Test
+  void everyWidthMaskFilterAndCapEqualsBruteForce() {
+    for (int rep = 0; rep < 160; rep++) {
+      long seed = Randoms.seed(rep);
+      String why = Randoms.describe(seed);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int words = WORDS[rep % WORDS.length];
+      int bits = 64 * (words - 1) + 1 + rnd.nextInt(64);
+      int n = 1 + rnd.nextInt(700);
+      CodeBlock codes = rep % 3 == 0 && bits >= 4
+          ? SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes()
+          : SyntheticCodes.uniform(n, bits, seed);
+      ScanSearcher scan = new ScanSearcher(codes);
+      long[] q = codes.code(rnd.nextInt(n));
+      for (int f = rnd.nextInt(8); f > 0; f--) {
+        int b = rnd.nextInt(bits);
+        q[b >>> 6] ^= 1L << (b & 63);
+      }
+      long[] mask = null;
+      if (rnd.nextBoolean()) {
+        mask = new long[codes.wordsPerCode()];
+        for (int i = 0; i < mask.length; i++) mask[i] = rnd.nextLong();
+      }
+      IntPredicate accept = filter(rnd, n);
+      int k = 1 + rnd.nextInt(rnd.nextBoolean() ? 12 : n + 5);
+      int maxDist = rnd.nextInt(3) == 0 ? rnd.nextInt(bits + 1) : Integer.MAX_VALUE;
+      String what = why + " bits=" + bits + " n=" + n + " k=" + k + " accept=" + accept + " maxDist=" + maxDist;
+      assertEquals(BruteForce.knnWithin(codes, q, k, accept, mask, maxDist), scan.knn(q, k, accept, mask, maxDist), what);
+      int r = rnd.nextInt(bits / 3 + 2);
+      assertEquals(BruteForce.radius(codes, q, r, accept, mask), scan.radius(q, r, accept, mask), what + " r=" + r);
+    }
+  }
+
+  /** An empty filter answers at once; the planner-facing count matches the members. */
+  @Test
+  void emptyFilterAnswersNothing() {
+    CodeBlock codes = SyntheticCodes.uniform(100, 256, 1);
+    IdSet none = IdSet.of(100);
+    assertSame(Hits.EMPTY, new ScanSearcher(codes).knn(codes.code(0), 5, none, null));
+    assertSame(Hits.EMPTY, new ScanSearcher(codes).radius(codes.code(0), 256, none, null));
+  }
+
+  /** Filters of every density: none, one code, about 1%, 10% (walked), 60% (scanned), a lambda. */
+  static IntPredicate filter(SplittableRandom rnd, int n) {
+    int kind = rnd.nextInt(6);
+    if (kind == 0) return null;
+    if (kind == 5) return i -> i % 3 != 0;
+    double share = switch (kind) {
+      case 1 -> 0;
+      case 2 -> 0.01;
+      case 3 -> 0.1;
+      default -> 0.6;
+    };
+    long[] w = new long[(n + 63) >>> 6];
+    for (int i = 0; i < n; i++) if (rnd.nextDouble() < share) w[i >>> 6] |= 1L << (i & 63);
+    if (kind == 1) w[0] = 0;
+    if (kind == 1 && rnd.nextBoolean()) w[0] = 1; // a single member
+    return IdSet.of(w, n);
+  }
+}

@@ -1,0 +1,126 @@
+package io.actindex.index.mih;
+
+import io.actindex.core.IdSet;
+import io.actindex.core.ScanKernel;
+import io.actindex.core.TopK;
+import java.util.SplittableRandom;
+
+/**
+ * The planner's cost constants in nanoseconds on this machine: a scanned code (per code and per
+ * word), a probed bucket (dense and sparse table), a candidate verified by random access, a member
+ * of a walked filter, a code of a partition window. Only their ratios matter. {@link #machine()}
+ * measures them once per JVM with short loops (about 50 ms) the first time a searcher is built;
+ * every tables payload stores the costs it was built with, and a loaded searcher plans with those.
+ */
+record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, double probeSparse, double candidate,
+    double walk, double partitionCode) {
+
+  PlannerCosts {
+    for (double x : new double[] {scanPerCode, scanPerWord, probeDense, probeSparse, candidate, walk, partitionCode})
+      if (!(x > 0 && x < 1e6)) throw new IllegalArgumentException("planner cost " + x + " is outside (0, 1e6) ns");
+  }
+
+  /** Fixed values, for tests that check planner choices independent of the machine. */
+  static PlannerCosts defaults() {
+    return new PlannerCosts(0.4, 0.3, 20, 50, 30, 3, 1.3);
+  }
+
+  static final int COUNT = 7;
+
+  double[] toArray() {
+    return new double[] {scanPerCode, scanPerWord, probeDense, probeSparse, candidate, walk, partitionCode};
+  }
+
+  static PlannerCosts of(double[] a) {
+    return new PlannerCosts(a[0], a[1], a[2], a[3], a[4], a[5], a[6]);
+  }
+
+  /** Cost of scanning n codes of w words. */
+  double scan(int n, int w) {
+    return n * (scanPerCode + scanPerWord * w);
+  }
+
+  private static volatile PlannerCosts measured;
+
+  /** This machine's costs, measured on first use (see the class comment). */
+  static PlannerCosts machine() {
+    PlannerCosts c = measured;
+    if (c == null) {
+      synchronized (PlannerCosts.class) {
+        if (measured == null) measured = measure();
+        c = measured;
+      }
+    }
+    return c;
+  }
+
+  /** Times the loops the planner chooses between, each the best of a few runs after a warm-up. */
+  static PlannerCosts measure() {
+    int n = 1 << 18; // 8 MiB of 4-word codes: larger than the caches close to the core
+    SplittableRandom rnd = new SplittableRandom(42);
+    long[] words = new long[n * 4];
+    for (int i = 0; i < words.length; i++) words[i] = rnd.nextLong();
+    long[] q = {rnd.nextLong(), rnd.nextLong(), rnd.nextLong(), rnd.nextLong()};
+    int[] randomOrds = new int[1 << 14];
+    for (int i = 0; i < randomOrds.length; i++) randomOrds[i] = rnd.nextInt(n);
+    long[] sparse = new long[(n + 63) >>> 6];
+    for (int i = 0; i < n; i += 100) sparse[i >>> 6] |= 1L << (i & 63);
+    IdSet onePercent = IdSet.of(sparse, n);
+    int[] offsets = new int[(1 << 20) + 1];
+    for (int i = 0; i < offsets.length; i++) offsets[i] = rnd.nextInt(n);
+    int[] sortedKeys = new int[1 << 16];
+    for (int i = 0; i < sortedKeys.length; i++) sortedKeys[i] = i * 7;
+    double scan4 = best(() -> {
+      TopK top = new TopK(10);
+      ScanKernel.knn(q, null, words, 4, 0, n, null, null, top, Integer.MAX_VALUE);
+      return top.bound();
+    }) / n;
+    double scan1 = best(() -> {
+      TopK top = new TopK(10);
+      ScanKernel.knn(q, null, words, 1, 0, n, null, null, top, Integer.MAX_VALUE);
+      return top.bound();
+    }) / n;
+    double candidate = best(() -> {
+      int s = 0;
+      for (int ord : randomOrds) s += io.actindex.core.Hamming.distanceBounded(q, 0, words, ord * 4, 4, 256);
+      return s;
+    }) / randomOrds.length;
+    double dense = best(() -> {
+      int s = 0;
+      for (int ord : randomOrds) s += offsets[ord << 2] - offsets[(ord << 2) + 1];
+      return s;
+    }) / randomOrds.length;
+    double sparseProbe = best(() -> {
+      int s = 0;
+      for (int ord : randomOrds) s += java.util.Arrays.binarySearch(sortedKeys, ord);
+      return s;
+    }) / randomOrds.length + dense;
+    double walk = best(() -> {
+      TopK top = new TopK(10);
+      ScanKernel.knnMembers(q, null, words, 4, onePercent, top, Integer.MAX_VALUE);
+      return top.bound();
+    }) / onePercent.count();
+    double perWord = Math.max(0.01, (scan4 - scan1) / 3), perCode = Math.max(0.01, scan1 - perWord);
+    // a partition window is a short scan that starts with two binary searches: a scanned code plus
+    // a share of the window's start (windows hold tens to thousands of codes)
+    return new PlannerCosts(perCode, perWord, Math.max(0.5, dense), Math.max(1, sparseProbe), Math.max(1, candidate),
+        Math.max(0.5, walk), 1.3 * scan4);
+  }
+
+  private interface Loop {
+    long run();
+  }
+
+  private static long sink;
+
+  private static double best(Loop loop) {
+    for (int i = 0; i < 5; i++) sink += loop.run(); // warm-up: compiled before it is timed
+    long best = Long.MAX_VALUE;
+    for (int i = 0; i < 5; i++) {
+      long t0 = System.nanoTime();
+      sink += loop.run();
+      best = Math.min(best, System.nanoTime() - t0);
+    }
+    return best;
+  }
+}

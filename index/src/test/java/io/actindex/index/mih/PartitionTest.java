@@ -1,0 +1,139 @@
+package io.actindex.index.mih;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertNotNull;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import io.actindex.core.BadInputException;
+import io.actindex.core.BruteForce;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeSearcher;
+import io.actindex.core.IdSet;
+import io.actindex.core.Randoms;
+import io.actindex.core.SyntheticCodes;
+import java.io.EOFException;
+import java.io.IOException;
+import java.util.SplittableRandom;
+import java.util.function.IntPredicate;
+import org.junit.jupiter.api.Tag;
+import org.junit.jupiter.api.Test;
+
+/**
+ * The cluster partition ({@link Partition}) and the planner around it against {@link BruteForce}:
+ * uniform, skewed ReLU-like and dense ReLU codes of 64 to 1,024 bits, the partition forced and
+ * chosen by the planner, filters walked and scanned (as {@link IdSet}) or any predicate, the
+ * distance cap other segments pass down, k from 1 to beyond n; payloads with a partition round
+ * trip, and damaged ones are refused or harmless. Speed is never asserted; which path answered is
+ * checked by the work counters.
+ */
+class PartitionTest {
+  private static final int[] BITS = {64, 128, 192, 256, 512, 1024};
+
+  static CodeBlock codes(int rep, int n, int bits, long seed) {
+    return switch (rep % 3) {
+      case 0 -> SyntheticCodes.uniform(n, bits, seed);
+      case 1 -> SyntheticCodes.reluLike(n, bits / 2, bits / 2, seed).codes();
+      default -> SyntheticCodes.ReluNet.dense(32, bits / 2, bits / 2, 20, seed).sample(n, 0, seed + 1).codes();
+    };
+  }
+
+  @Test
+  void partitionAndPlannerEqualBruteForce() {
+    for (int rep = 0; rep < 24; rep++) check(rep, 300 + new SplittableRandom(Randoms.seed(rep)).nextInt(1500), 12);
+  }
+
+  @Test
+  @Tag("slow")
+  void partitionAndPlannerEqualBruteForceManySeeds() {
+    for (int rep = 100; rep < 160; rep++) check(rep, 5000 + new SplittableRandom(Randoms.seed(rep)).nextInt(4000), 8);
+  }
+
+  private void check(int rep, int n, int queries) {
+    long seed = Randoms.seed(rep);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    int bits = BITS[rnd.nextInt(BITS.length)];
+    CodeBlock codes = codes(rep, n, bits, seed);
+    boolean forced = rep % 2 == 0;
+    SearchPlanOptions opts = SearchPlanOptions.defaults();
+    MihSearcher s = (MihSearcher) Searchers.build(codes, forced ? opts.withStrategy(SearchPlanOptions.Strategy.PARTITION) : opts);
+    String why = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " bits=" + bits + " forced=" + forced;
+    if (forced) assertNotNull(s.partition, why);
+    int partitionAnswers = 0;
+    for (int i = 0; i < queries; i++) {
+      long[] q = MihExactnessTest.query(codes, rnd);
+      IntPredicate accept = filter(rnd, n);
+      int k = switch (rnd.nextInt(4)) {
+        case 0 -> 1;
+        case 1 -> 10;
+        case 2 -> 100;
+        default -> 1 + rnd.nextInt(n + 10);
+      };
+      int maxDist = rnd.nextInt(3) == 0 ? rnd.nextInt(bits / 2 + 1) : Integer.MAX_VALUE;
+      String what = why + " query " + i + " k=" + k + " maxDist=" + maxDist + " filter=" + accept;
+      assertEquals(BruteForce.knnWithin(codes, q, k, accept, null, maxDist), s.knn(q, k, accept, null, maxDist), what);
+      if (s.lastQueryWork()[3] == MihSearcher.PATH_PARTITION) partitionAnswers++;
+      long[] mask = codes.layout().mask(rnd.nextInt(codes.layout().segments().size()));
+      assertEquals(BruteForce.knn(codes, q, k, accept, mask), s.knn(q, k, accept, mask), what + " masked");
+    }
+    if (forced) assertTrue(partitionAnswers > 0, why + ": the partition never answered");
+  }
+
+  static IntPredicate filter(SplittableRandom rnd, int n) {
+    int kind = rnd.nextInt(6);
+    if (kind == 0 || kind == 1) return null;
+    if (kind == 5) return i -> i % 5 != 1;
+    double share = kind == 2 ? 0.005 : kind == 3 ? 0.1 : 0.7;
+    long[] w = new long[(n + 63) >>> 6];
+    for (int i = 0; i < n; i++) if (rnd.nextDouble() < share) w[i >>> 6] |= 1L << (i & 63);
+    return IdSet.of(w, n);
+  }
+
+  /** On dense codes the planner answers in-distribution 10-NN by the partition and compares few codes. */
+  @Test
+  void plannerPicksThePartitionOnDenseCodes() {
+    long seed = Randoms.seed(7);
+    SyntheticCodes.ReluNet net = SyntheticCodes.ReluNet.dense(32, 128, 128, 20, seed);
+    CodeBlock codes = net.sample(30_000, 0, seed + 1).codes();
+    CodeBlock queries = net.sample(20, 0, seed + 2).codes();
+    MihSearcher s = (MihSearcher) Searchers.build(codes);
+    int byPartition = 0;
+    for (int i = 0; i < queries.size(); i++) {
+      long[] q = queries.code(i);
+      assertEquals(BruteForce.knn(codes, q, 10, null, null), s.knn(q, 10), Randoms.describe(seed));
+      if (s.lastQueryWork()[3] == MihSearcher.PATH_PARTITION) byPartition++;
+    }
+    assertTrue(byPartition >= queries.size() / 2, Randoms.describe(seed) + " partition answered " + byPartition + " of 20");
+  }
+
+  @Test
+  void payloadWithPartitionRoundTripsAndRefusesDamage() throws IOException {
+    long seed = Randoms.seed(11);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    CodeBlock codes = SyntheticCodes.ReluNet.dense(32, 32, 32, 20, seed).sample(400, 0, seed).codes();
+    CodeSearcher s = Searchers.build(codes, SearchPlanOptions.defaults().withSubstrings(3).withStrategy(SearchPlanOptions.Strategy.PARTITION));
+    byte[] payload = SearchersFormatTest.write(s);
+    CodeSearcher back = SearchersFormatTest.read(payload, codes);
+    assertEquals(Searchers.stats(s), Searchers.stats(back));
+    long[][] queries = new long[6][];
+    for (int i = 0; i < queries.length; i++) queries[i] = MihExactnessTest.query(codes, rnd);
+    for (long[] q : queries) assertEquals(BruteForce.knn(codes, q, 7, null, null), back.knn(q, 7), Randoms.describe(seed));
+    // flips in the partition section (its tail: centres, starts, ordinals)
+    int partitionBytes = 4 + 8 * ((MihSearcher) s).partition.centres.length + 4 * (((MihSearcher) s).partition.clusters() + 1) + 4 * codes.size();
+    int rejected = 0, tried = 0;
+    for (int pos = payload.length - partitionBytes; pos < payload.length; pos += 1 + rnd.nextInt(3)) {
+      byte[] bad = payload.clone();
+      bad[pos] ^= (byte) (1 << rnd.nextInt(8));
+      tried++;
+      CodeSearcher b;
+      try {
+        b = SearchersFormatTest.read(bad, codes);
+      } catch (BadInputException | EOFException e) {
+        rejected++;
+        continue;
+      }
+      // a centre bit may change freely (radii are recomputed): answers stay exact
+      for (long[] q : queries) assertEquals(BruteForce.knn(codes, q, 7, null, null), b.knn(q, 7), Randoms.describe(seed) + " flip at " + pos);
+    }
+    assertTrue(rejected > 0 && tried > 0, "no flip rejected");
+  }
+}

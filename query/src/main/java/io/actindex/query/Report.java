@@ -1,0 +1,100 @@
+package io.actindex.query;
+
+import io.actindex.core.BadInputException;
+import io.actindex.core.CodeBlock;
+import io.actindex.index.store.IndexReader;
+import io.actindex.query.report.HtmlPage;
+import io.actindex.query.report.IndexReport;
+import io.actindex.query.report.ReportSections;
+import java.io.IOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.AtomicMoveNotSupportedException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.nio.file.StandardCopyOption;
+import java.util.Map;
+
+/**
+ * {@code report}: one self-contained HTML page about an index (layout and size, region occupancy,
+ * neuron firing rates, distance to the nearest other example by split, label purity), written
+ * through a temporary file and renamed, so a failed run never leaves half a page.
+ */
+public final class Report {
+  private Report() {}
+
+  /**
+   * {@code out}: the HTML file to write; {@code title}: the page's heading (null: from the folder
+   * name); {@code dupesRadius}: add a near-duplicate join at this radius (null: none); {@code
+   * compareA}/{@code compareB}: add a comparison of two files of the kind the index was built from
+   * (null: none); {@code threads} for the join and the comparison.
+   */
+  public record Params(Path out, String title, Integer dupesRadius, Path compareA, Path compareB, int threads) {
+    public Params {
+      if (out == null) throw new BadInputException("report: --out is required");
+      if ((compareA == null) != (compareB == null)) throw new BadInputException("report: give both --compare-a and --compare-b, or neither");
+      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+    }
+
+    public Params(Path out, String title) {
+      this(out, title, null, null, null, 1);
+    }
+  }
+
+  /** What was written: the file, its size, and the numbers behind the page. */
+  public record Result(Path out, long bytes, IndexReport.Facts facts) {}
+
+  /** The facts of an index that the page shows. */
+  public static IndexReport.Facts facts(IndexReader reader, Progress progress) {
+    int[] ids = new int[reader.liveCount()];
+    CodeBlock codes = reader.liveCodes(ids);
+    LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId());
+    String[] label = new String[ids.length], split = new String[ids.length];
+    for (int i = 0; i < ids.length; i++) {
+      label[i] = labels.label(ids[i]);
+      Map<String, String> doc = reader.meta().document(ids[i]);
+      split[i] = doc == null ? null : doc.get("split");
+    }
+    Census.Result census = Census.compute(codes, label, i -> {
+      Map<String, String> doc = reader.meta().document(ids[i]);
+      return doc == null ? null : doc.get("key");
+    }, new Census.Params(null, 5, 3));
+    return new IndexReport.Facts(ids.length, census, IndexReport.nearestOther(codes, progress), split);
+  }
+
+  /** Renders the page of {@code reader} with any extra sections already added to {@code page}'s tail by the caller. */
+  public static Result run(IndexReader reader, Params p, Progress progress) throws IOException {
+    IndexReport.Facts f = facts(reader, progress);
+    String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
+    HtmlPage page = new HtmlPage(title, f.examples() + " examples, " + reader.layout().bits() + " bits per example.");
+    IndexReport.render(page, reader, f);
+    if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibration.load(reader));
+    if (p.dupesRadius() != null)
+      ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null));
+    if (p.compareA() != null) {
+      Source.Kind kind = BuildInfo.fromProperties(reader.properties(), reader.dir().toString()).kind();
+      Compare.Options o = Compare.Options.defaults();
+      o = new Compare.Options(o.permutations(), o.seed(), o.sigma(), o.alpha(), o.top(), o.matrixRows(), o.exactMax(), o.sinkhornRows(),
+          o.reg(), o.maxIter(), o.tol(), p.threads());
+      ReportSections.compare(page, Compare.run(new Compare.Params(reader.dir(), Compare.Sample.file(new Source(kind, p.compareA(), null)),
+          Compare.Sample.file(new Source(kind, p.compareB(), null)), null, null, null, null, null, null, o), null));
+    }
+    byte[] html = page.finish().getBytes(StandardCharsets.UTF_8);
+    write(p.out(), html);
+    return new Result(p.out(), html.length, f);
+  }
+
+  /** Writes through a temporary file beside {@code out}, then renames it into place. */
+  static void write(Path out, byte[] bytes) throws IOException {
+    Path abs = out.toAbsolutePath();
+    Path dir = abs.getParent();
+    if (dir == null || !Files.isDirectory(dir)) throw new BadInputException(out + ": its folder does not exist");
+    if (Files.isDirectory(abs)) throw new BadInputException(out + ": is a folder; give a file name such as report.html");
+    Path tmp = dir.resolve("." + abs.getFileName() + ".tmp");
+    Files.write(tmp, bytes);
+    try {
+      Files.move(tmp, abs, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
+    } catch (AtomicMoveNotSupportedException e) {
+      Files.move(tmp, abs, StandardCopyOption.REPLACE_EXISTING);
+    }
+  }
+}
