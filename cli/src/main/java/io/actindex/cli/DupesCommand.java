@@ -31,8 +31,8 @@ import picocli.CommandLine.Spec;
 
 /** {@code actindex dupes}: near-duplicate examples by Hamming distance between codes, grouped and flagged. */
 @Command(name = "dupes", mixinStandardHelpOptions = true,
-    description = {"Every pair of live examples whose codes are within --radius of each other (exact), grouped into",
-        "connected components; groups spanning several splits (leakage) or labels (conflicts) are flagged.",
+    description = {"Every pair of live examples whose codes are within --radius of each other (exact), grouped into"
+        + " connected components; groups spanning several splits (leakage) or labels (conflicts) are flagged.",
         "With --against FILE: for each row of FILE, the indexed examples within --radius."})
 final class DupesCommand implements Callable<Integer> {
   @Spec CommandSpec spec;

@@ -181,4 +181,12 @@ class DupesEndToEndTest {
     }
     assertThat(Files.isDirectory(folder)).isTrue();
   }
+
+  /** The command list shows each command's first description line; dupes' and compare's were cut mid-sentence. */
+  @Test
+  void commandListSummariesAreWholeSentences() {
+    Cli.Result r = Cli.run("--help");
+    String flat = r.out().replaceAll("\\s+", " ");
+    assertThat(flat).as(r.describe()).contains("grouped into connected components").contains("Wasserstein-2 with Hamming");
+  }
 }
