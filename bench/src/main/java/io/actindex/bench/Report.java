@@ -89,6 +89,7 @@ public final class Report {
     knnTable(sb, rows, facts);
     radiusTable(sb, results, facts);
     encoding(sb, results);
+    storage(sb, results);
     targets(sb, results, rows, facts);
     return sb.toString();
   }
@@ -250,6 +251,23 @@ public final class Report {
       double n = Double.parseDouble(r.p("n")), bits = Double.parseDouble(r.p("bits")), s = r.micros() * 1e-6;
       sb.append("| ").append(count(r.p("n"))).append(" | ").append(r.p("bits")).append(" | ").append(fmt(s * 1e3))
           .append(" | ").append(fmt(n / s)).append(" | ").append(fmt(n * bits * 4 / s / 1e6)).append(" |\n");
+    }
+  }
+
+  // ---- storage ----
+
+  private static void storage(StringBuilder sb, List<Result> results) {
+    Result check = first(results, r -> r.bench().equals("StoreBench") && r.method().equals("check"));
+    List<Result> store = results.stream().filter(r -> r.bench().equals("StoreBench") || r.bench().equals("Build")).toList();
+    if (store.isEmpty()) return;
+    sb.append("\n### Storage: open, full check, build from .npy (one thread unless the build uses more)\n\n");
+    sb.append("| operation | data | n | bits | ms | ratio to full check |\n|---|---|---:|---:|---:|---:|\n");
+    for (Result r : store) {
+      String op = r.bench().equals("Build") ? "build from .npy (bool codes, no metadata)"
+          : r.method().equals("open") ? "open (headers, footers, counts; warm)" : "check (every byte)";
+      String ratio = check != null && r.bench().equals("StoreBench") ? fmt(r.micros() / check.micros()) : "";
+      sb.append("| ").append(op).append(" | ").append(r.p("data")).append(" | ").append(count(r.p("n"))).append(" | ")
+          .append(r.p("bits")).append(" | ").append(fmt(r.micros() / 1e3)).append(" | ").append(ratio).append(" |\n");
     }
   }
 

@@ -30,6 +30,7 @@ final class AddCommand implements Callable<Integer> {
       result = IndexBuilder.add(params, bar);
     }
     Summaries.written(spec.commandLine().getOut(), spec.commandLine().getErr(), format.format, "added to", index.dir, result);
+    Summaries.warnings(spec.commandLine().getErr(), result.warnings());
     return ExitCodes.OK;
   }
 }

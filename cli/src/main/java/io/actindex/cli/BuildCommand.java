@@ -77,6 +77,7 @@ final class BuildCommand implements Callable<Integer> {
       result = IndexBuilder.build(params, bar);
     }
     Summaries.written(spec.commandLine().getOut(), spec.commandLine().getErr(), format.format, "built", out, result);
+    Summaries.warnings(spec.commandLine().getErr(), result.warnings());
     return ExitCodes.OK;
   }
 

@@ -73,4 +73,10 @@ final class Summaries {
     for (String v : values) j.value(v);
     j.endArray();
   }
+
+  /** Problems that did not undo a commit, one line each on stderr. */
+  static void warnings(PrintWriter err, List<String> warnings) {
+    for (String w : warnings) err.println("warning: " + w.replaceAll("\\p{Cntrl}", " "));
+    err.flush();
+  }
 }

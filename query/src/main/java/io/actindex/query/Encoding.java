@@ -52,7 +52,9 @@ final class Encoding {
       long total = stream.rows();
       CodeLayout layout = stream.layout();
       int w = layout.words(), d = layout.bits();
-      long[] buf = new long[w * 1024];
+      // the row count is known for every file source: one array of the final size, no copies
+      long expect = total < 0 ? 1024 : Math.min(total, range.to() == -1 ? total : range.to()) - Math.max(0, range.from());
+      long[] buf = new long[(int) Math.min(Math.max(expect, 0) * w, 1 << 26)]; // beyond 512 MB it grows as read
       float[] act = activations && source.kind() != Source.Kind.CODES ? new float[d * 1024] : null;
       int kept = 0;
       long row = 0;
@@ -79,8 +81,8 @@ final class Encoding {
       }
       if ((range.to() != -1 && row < range.to()) || (range.from() > 0 && range.from() >= row))
         throw new BadInputException(source.file() + ": rows " + range + " asked, the file has " + row + " rows");
-      return new Read(new CodeBlock(layout, kept, Arrays.copyOf(buf, kept * w)), stream.options(), stream.notes(),
-          act == null ? null : Arrays.copyOf(act, kept * d));
+      return new Read(new CodeBlock(layout, kept, buf.length == kept * w ? buf : Arrays.copyOf(buf, kept * w)),
+          stream.options(), stream.notes(), act == null ? null : Arrays.copyOf(act, kept * d));
     } catch (IOException e) {
       throw new UncheckedIOException(source.file() + ": " + e.getMessage(), e);
     }

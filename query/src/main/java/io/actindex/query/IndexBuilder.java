@@ -7,6 +7,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
+import io.actindex.index.store.StoreIo;
 import io.actindex.index.store.Magnitudes;
 import java.io.IOException;
 import java.nio.file.Files;
@@ -82,20 +83,22 @@ public final class IndexBuilder {
    * notes} say how the source was read (CSV header decision, a model's layer order, code layers
    * and output layer); {@code encode} are the options in force (null for a codes file);
    * {@code magnitudes} says how the kept magnitudes compare with the float32 activations (null
-   * when none were kept).
+   * when none were kept); {@code warnings} are problems that did not undo the commit (old files
+   * left to clean).
    */
   public record Result(int firstId, int rows, CodeLayout layout, List<String> notes, EncodeOptions encode,
-      Quantisation magnitudes) {
+      Quantisation magnitudes, List<String> warnings) {
     public Result {
       notes = notes == null ? List.of() : List.copyOf(notes);
+      warnings = warnings == null ? List.of() : List.copyOf(warnings);
     }
 
     public Result(int firstId, int rows, CodeLayout layout, List<String> notes, EncodeOptions encode) {
-      this(firstId, rows, layout, notes, encode, null);
+      this(firstId, rows, layout, notes, encode, null, null);
     }
 
     public Result(int firstId, int rows, CodeLayout layout) {
-      this(firstId, rows, layout, null, null, null);
+      this(firstId, rows, layout, null, null, null, null);
     }
   }
 
@@ -126,6 +129,11 @@ public final class IndexBuilder {
   }
 
   public static Result build(BuildParams p, Progress progress) {
+    return build(p, progress, StoreIo.REAL);
+  }
+
+  /** As {@link #build(BuildParams, Progress)}, writing through {@code io} (tests inject failures there). */
+  public static Result build(BuildParams p, Progress progress, StoreIo io) {
     if (p.source().kind() == Source.Kind.INPUTS && p.source().model() == null)
       throw new BadInputException(p.source().file() + ": building from inputs needs a model file");
     checkEmptyOrAbsent(p.dir());
@@ -148,16 +156,19 @@ public final class IndexBuilder {
     boolean existed = Files.exists(p.dir());
     IndexWriter created;
     try {
-      created = IndexWriter.create(p.dir(), codes.layout(), props);
-    } catch (RuntimeException e) {
-      if (!existed) deleteIfEmpty(p.dir()); // only the empty folder create() may have made
+      created = IndexWriter.create(p.dir(), codes.layout(), props, io);
+    } catch (BadInputException e) {
+      if (!existed) deleteIfEmpty(p.dir()); // refused before writing: only the empty folder may be ours
+      throw e;
+    } catch (RuntimeException | Error e) {
+      removeBuilt(p.dir(), existed, e); // failed while writing (disk full...): the retry needs an empty folder
       throw e;
     }
     try (IndexWriter w = created) {
       if (model != null) w.putAttachment(BuildInfo.MODEL, model);
       int first = w.add(codes, mags, meta);
       return new Result(first, codes.size(), codes.layout(), read.notes(), read.options(),
-          mags == null ? null : Quantisation.of(mags, values));
+          mags == null ? null : Quantisation.of(mags, values), w.takeWarnings());
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e);
       throw e;
@@ -199,7 +210,8 @@ public final class IndexBuilder {
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       int first = w.add(codes, mags, meta);
-      return new Result(first, codes.size(), codes.layout(), notes, encode, mags == null ? null : Quantisation.of(mags, values));
+      return new Result(first, codes.size(), codes.layout(), notes, encode, mags == null ? null : Quantisation.of(mags, values),
+          w.takeWarnings());
     }
   }
 

@@ -36,8 +36,7 @@ public final class NpyWriter implements AutoCloseable {
     long rv = 1;
     for (long t : trailing) rv = Math.multiplyExact(rv, t);
     this.rowValues = Math.toIntExact(rv);
-    Path dir = target.toAbsolutePath().getParent();
-    this.tmp = Files.createTempFile(dir, "." + target.getFileName() + ".", ".tmp");
+    this.tmp = TempFiles.beside(target);
     this.ch = FileChannel.open(tmp, StandardOpenOption.WRITE);
     this.headerBytes = header(Long.MAX_VALUE, 0).length;
     ch.write(ByteBuffer.wrap(header(0, headerBytes)), 0);

@@ -55,8 +55,7 @@ public final class SafetensorsWriter {
     ByteBuffer head = ByteBuffer.allocate(8 + padded).order(ByteOrder.LITTLE_ENDIAN);
     head.putLong(padded).put(json);
     while (head.hasRemaining()) head.put((byte) ' ');
-    Path dir = file.toAbsolutePath().getParent();
-    Path tmp = Files.createTempFile(dir, "." + file.getFileName() + ".", ".tmp");
+    Path tmp = TempFiles.beside(file);
     try (FileChannel ch = FileChannel.open(tmp, StandardOpenOption.WRITE)) {
       ch.write(head.flip());
       for (Tensor t : tensors.values()) {

@@ -38,6 +38,11 @@ import org.roaringbitmap.RoaringBitmap;
  * code; see {@link MetaSchema} for fields. Filters: build a Lucene {@link Query} ({@code TermQuery}
  * for KEYWORD columns, {@code DoublePoint.newRangeQuery}/{@code newExactQuery} for NUMBER columns,
  * {@code BooleanQuery} to combine) and {@link #select} it. Thread-safe.
+ *
+ * <p>Ids added without metadata have no document ("bare" ids): their row is only the key
+ * {@code row-ID}, synthesized here, so a build without metadata writes nothing per example. {@link
+ * #select} answers for them by running the query over a small in-memory index: one document with no
+ * fields for every bare id whose key the query does not name, and one per bare id it names.
  */
 public final class MetaStore implements Closeable {
 
@@ -49,9 +54,13 @@ public final class MetaStore implements Closeable {
   private final IndexSearcher searcher;
   private final Map<String, FieldKind> fields;
   private final RoaringBitmap deleted;
+  private final RoaringBitmap bare;
   private volatile int[] docOfId;
+  private static final java.util.regex.Pattern SYNTHETIC = java.util.regex.Pattern.compile("row-(0|[1-9]\\d{0,9})");
 
-  private MetaStore(Directory dir, DirectoryReader reader, Map<String, FieldKind> fields, RoaringBitmap deleted) {
+  private MetaStore(Directory dir, DirectoryReader reader, Map<String, FieldKind> fields, RoaringBitmap deleted,
+      RoaringBitmap bare) {
+    this.bare = bare;
     this.dir = dir;
     this.reader = reader;
     this.searcher = new IndexSearcher(reader);
@@ -65,6 +74,25 @@ public final class MetaStore implements Closeable {
    * every file it uses; {@code deleted} ids are never selected. BadInputException names a damaged file.
    */
   public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted) {
+    RoaringBitmap all = new RoaringBitmap();
+    all.add(0L, 1L << 31);
+    return open(metaDir, segmentsFile, deleted, all, 0, Long.MAX_VALUE);
+  }
+
+  /**
+   * Opens the commit {@code segmentsFile}; ids in {@code [0, maxId)} that are neither in
+   * {@code documented} nor in {@code deleted} are bare (key "row-ID", no document). Files up to
+   * {@code fullCheckBytes} get their checksum recomputed; larger ones have their footer checked
+   * (Lucene checks them in full when it merges, {@link #checkFiles} always).
+   */
+  public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted, RoaringBitmap documented,
+      int maxId, long fullCheckBytes) {
+    if (!java.nio.file.Files.isDirectory(metaDir))
+      throw new BadInputException("metadata folder " + metaDir + " is missing (readers never create it)");
+    RoaringBitmap bare = new RoaringBitmap();
+    if (maxId > 0) bare.add(0L, maxId);
+    bare.andNot(documented);
+    bare.andNot(deleted);
     Directory dir = null;
     try {
       dir = FSDirectory.open(metaDir);
@@ -91,7 +119,9 @@ public final class MetaStore implements Closeable {
         }
         for (int i = 0; i < pinned.size(); i++) {
           try {
-            CodecUtil.checksumEntireFile(pinned.get(i));
+            IndexInput in = pinned.get(i);
+            if (in.length() <= fullCheckBytes) CodecUtil.checksumEntireFile(in);
+            else CodecUtil.retrieveChecksum(in);
           } catch (IOException e) {
             throw new BadInputException("metadata file " + metaDir.resolve(names.get(i)) + " is damaged: "
                 + e.getMessage(), e);
@@ -105,7 +135,7 @@ public final class MetaStore implements Closeable {
       } finally {
         IOUtils.close(pinned);
       }
-      return new MetaStore(dir, reader, kinds(commit.getUserData()), deleted.clone());
+      return new MetaStore(dir, reader, kinds(commit.getUserData()), deleted.clone(), bare);
     } catch (IOException e) {
       close(dir);
       throw new UncheckedIOException("cannot open metadata store " + metaDir, e);
@@ -120,6 +150,40 @@ public final class MetaStore implements Closeable {
       if (dir != null) dir.close();
     } catch (IOException ignored) {
       // already failing
+    }
+  }
+
+  /**
+   * Verifies the checksum of every file of commit {@code segmentsFile}: file name -> problem (null
+   * when sound), in the commit's order. A missing folder or commit throws BadInputException.
+   */
+  public static Map<String, String> checkFiles(Path metaDir, String segmentsFile) {
+    if (!java.nio.file.Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
+    try (Directory dir = FSDirectory.open(metaDir)) {
+      java.util.Collection<String> names;
+      String commitProblem = null;
+      try {
+        names = findCommit(metaDir, dir, segmentsFile).getFileNames();
+      } catch (BadInputException e) {
+        commitProblem = e.getMessage();
+        // the commit does not parse: check every file of the folder, so the damaged one is named
+        names = new ArrayList<>(List.of(dir.listAll()));
+        names.remove("write.lock");
+      }
+      Map<String, String> out = new LinkedHashMap<>();
+      for (String name : new java.util.TreeSet<>(names)) {
+        try (IndexInput in = dir.openInput(name, IOContext.READONCE)) {
+          CodecUtil.checksumEntireFile(in);
+          out.put(name, null);
+        } catch (IOException | RuntimeException e) {
+          out.put(name, "damaged: " + e.getMessage());
+        }
+      }
+      if (commitProblem != null && out.values().stream().allMatch(java.util.Objects::isNull))
+        out.put(segmentsFile, "unreadable: " + commitProblem);
+      return out;
+    } catch (IOException e) {
+      throw new UncheckedIOException("cannot read metadata store " + metaDir, e);
     }
   }
 
@@ -145,9 +209,21 @@ public final class MetaStore implements Closeable {
     return out;
   }
 
-  /** Number of documents (one per live code). */
+  /** Number of live rows (documents and bare ids). */
   public int numDocs() {
+    return reader.numDocs() + bare.getCardinality();
+  }
+
+  /** Number of Lucene documents (live ids added with metadata). */
+  public int documents() {
     return reader.numDocs();
+  }
+
+  /** The id a synthesized key "row-ID" names, or -1 if {@code key} is not of that form. */
+  public static int syntheticId(String key) {
+    if (key == null || !SYNTHETIC.matcher(key).matches()) return -1;
+    long id = Long.parseLong(key.substring(4));
+    return id <= Integer.MAX_VALUE ? (int) id : -1;
   }
 
   /** Column name -> kind (key, label, split, source are KEYWORD; "id" is not listed). */
@@ -157,6 +233,11 @@ public final class MetaStore implements Closeable {
 
   /** The row of {@code id}: key plus every non-empty column as given; null if the id is not live. */
   public Map<String, String> document(int id) {
+    if (bare.contains(id)) {
+      Map<String, String> row = new LinkedHashMap<>();
+      row.put(MetaSchema.KEY, "row-" + id);
+      return row;
+    }
     int[] docs = docOfId();
     if (id < 0 || id >= docs.length || docs[id] < 0 || deleted.contains(id)) return null;
     try {
@@ -210,7 +291,10 @@ public final class MetaStore implements Closeable {
   public int idOfKey(String key) {
     try {
       TopDocs top = searcher.search(new TermQuery(new Term(MetaSchema.KEY, key)), 1);
-      if (top.scoreDocs.length == 0) return -1;
+      if (top.scoreDocs.length == 0) {
+        int id = syntheticId(key);
+        return id >= 0 && bare.contains(id) ? id : -1;
+      }
       IndexableField f = searcher.storedFields().document(top.scoreDocs[0].doc).getField(MetaSchema.ID);
       int id = f.numericValue().intValue();
       return deleted.contains(id) ? -1 : id;
@@ -222,23 +306,80 @@ public final class MetaStore implements Closeable {
   /** Ids of the live documents matching {@code query}. */
   public RoaringBitmap select(Query query) {
     try {
-      RoaringBitmap ids = searcher.search(query, new CollectorManager<IdCollector, RoaringBitmap>() {
-        @Override
-        public IdCollector newCollector() {
-          return new IdCollector();
-        }
-
-        @Override
-        public RoaringBitmap reduce(java.util.Collection<IdCollector> collectors) {
-          RoaringBitmap all = new RoaringBitmap();
-          for (IdCollector c : collectors) all.or(c.ids);
-          return all;
-        }
-      });
+      RoaringBitmap ids = collect(searcher, query);
       ids.andNot(deleted);
+      if (!bare.isEmpty()) ids.or(selectBare(query));
       return ids;
     } catch (IOException e) {
       throw new UncheckedIOException(e);
+    }
+  }
+
+  private static RoaringBitmap collect(IndexSearcher s, Query query) throws IOException {
+    return s.search(query, new CollectorManager<IdCollector, RoaringBitmap>() {
+      @Override
+      public IdCollector newCollector() {
+        return new IdCollector();
+      }
+
+      @Override
+      public RoaringBitmap reduce(java.util.Collection<IdCollector> collectors) {
+        RoaringBitmap all = new RoaringBitmap();
+        for (IdCollector c : collectors) all.or(c.ids);
+        return all;
+      }
+    });
+  }
+
+  /** The bare ids that {@code query} matches (see the class comment). */
+  private RoaringBitmap selectBare(Query query) throws IOException {
+    // every bare id whose synthesized key the query names anywhere (also under "not")
+    RoaringBitmap named = new RoaringBitmap();
+    query.visit(new org.apache.lucene.search.QueryVisitor() {
+      @Override
+      public void consumeTerms(Query q, Term... terms) {
+        for (Term t : terms) {
+          int id = t.field().equals(MetaSchema.KEY) ? syntheticId(t.text()) : -1;
+          if (id >= 0 && bare.contains(id)) named.add(id);
+        }
+      }
+
+      @Override
+      public void consumeTermsMatching(Query q, String field,
+          java.util.function.Supplier<org.apache.lucene.util.automaton.ByteRunAutomaton> automaton) {
+        if (!field.equals(MetaSchema.KEY)) return;
+        org.apache.lucene.util.automaton.ByteRunAutomaton a = automaton.get();
+        for (int id : bare) {
+          byte[] key = ("row-" + id).getBytes(java.nio.charset.StandardCharsets.UTF_8);
+          if (a.run(key, 0, key.length)) named.add(id);
+        }
+      }
+
+      @Override
+      public org.apache.lucene.search.QueryVisitor getSubVisitor(org.apache.lucene.search.BooleanClause.Occur occur,
+          Query parent) {
+        return this;
+      }
+    });
+    try (Directory mem = new org.apache.lucene.store.ByteBuffersDirectory();
+        org.apache.lucene.index.IndexWriter w = new org.apache.lucene.index.IndexWriter(mem,
+            new org.apache.lucene.index.IndexWriterConfig())) {
+      w.addDocument(MetaSchema.document(-1, Map.of(), fields));
+      for (int id : named) w.addDocument(MetaSchema.document(id, Map.of(MetaSchema.KEY, "row-" + id), fields));
+      w.commit();
+      try (DirectoryReader r = DirectoryReader.open(mem)) {
+        IndexSearcher s = new IndexSearcher(r);
+        s.setQueryCache(null);
+        RoaringBitmap hits = collect(s, query);
+        RoaringBitmap out = new RoaringBitmap();
+        for (int id : hits) if (id >= 0) out.add(id);
+        if (hits.contains(-1)) {
+          RoaringBitmap others = bare.clone();
+          others.andNot(named);
+          out.or(others);
+        }
+        return out;
+      }
     }
   }
 

@@ -71,8 +71,12 @@ public final class MetaWriter implements Closeable {
 
   /** Creates an empty store in {@code metaDir} (absent or empty) and commits it. */
   public static MetaWriter create(Path metaDir) throws IOException {
+    return create(metaDir, FSDirectory.open(metaDir));
+  }
+
+  /** As {@link #create(Path)}, through {@code dir} (the Lucene directory over {@code metaDir}). */
+  public static MetaWriter create(Path metaDir, Directory dir) throws IOException {
     KeepPublishedPolicy policy = new KeepPublishedPolicy();
-    Directory dir = FSDirectory.open(metaDir);
     IndexWriterConfig cfg = config(policy).setOpenMode(IndexWriterConfig.OpenMode.CREATE);
     MetaWriter w = new MetaWriter(metaDir, dir, policy, new IndexWriter(dir, cfg), new LinkedHashMap<>());
     w.writer.setLiveCommitData(w.userData(w.kinds).entrySet());
@@ -81,7 +85,11 @@ public final class MetaWriter implements Closeable {
 
   /** Opens the store at the commit a manifest names ({@code segmentsFile}), dropping any later one. */
   public static MetaWriter open(Path metaDir, String segmentsFile) throws IOException {
-    Directory dir = FSDirectory.open(metaDir);
+    return open(metaDir, FSDirectory.open(metaDir), segmentsFile);
+  }
+
+  /** As {@link #open(Path, String)}, through {@code dir} (the Lucene directory over {@code metaDir}). */
+  public static MetaWriter open(Path metaDir, Directory dir, String segmentsFile) throws IOException {
     try {
       IndexCommit commit = MetaStore.findCommit(metaDir, dir, segmentsFile);
       KeepPublishedPolicy policy = new KeepPublishedPolicy();
@@ -111,6 +119,15 @@ public final class MetaWriter implements Closeable {
    * "row-ID"). Refusals name the row.
    */
   public Batch prepare(int firstId, int n, List<Map<String, String>> rows) throws IOException {
+    return prepare(firstId, n, rows, id -> false);
+  }
+
+  /**
+   * As {@link #prepare(int, int, List)}; {@code bare} tells which ids are live without a document
+   * (their synthesized key "row-ID" is taken too).
+   */
+  public Batch prepare(int firstId, int n, List<Map<String, String>> rows, java.util.function.IntPredicate bare)
+      throws IOException {
     if (rows != null && rows.size() != n)
       throw new BadInputException(rows.size() + " metadata rows for " + n + " codes");
     for (int r = 0; rows != null && r < n; r++)
@@ -123,6 +140,10 @@ public final class MetaWriter implements Closeable {
       if (before != null)
         throw new BadInputException("metadata row " + r + ": key '" + batch.key(r) + "' already used by row " + before
             + " of the same batch");
+      int synthesized = MetaStore.syntheticId(batch.key(r));
+      if (synthesized >= 0 && bare.test(synthesized))
+        throw new BadInputException("metadata row " + r + ": key '" + batch.key(r)
+            + "' already exists in the index (id " + synthesized + ")");
     }
     refresh();
     for (LeafReaderContext leaf : nrt.leaves()) {

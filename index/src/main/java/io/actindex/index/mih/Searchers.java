@@ -169,6 +169,16 @@ public final class Searchers {
    * @throws BadInputException if the payload does not fit the codes or is inconsistent in itself
    */
   public static CodeSearcher read(DataInput in, CodeBlock codes) throws IOException {
+    return read(in, codes, true);
+  }
+
+  /**
+   * As {@link #read(DataInput, CodeBlock)}; with {@code verifyKeys} false (opening an index whose
+   * files passed their length and footer checks) it checks every count, offset and ordinal range
+   * but does not recompute every code's key and constant bits: the full check is for {@code
+   * actindex check} and merges.
+   */
+  public static CodeSearcher read(DataInput in, CodeBlock codes, boolean verifyKeys) throws IOException {
     int n = codes.size(), bits = codes.layout().bits(), w = codes.wordsPerCode();
     int version = in.readInt();
     if (version < VERSION_START || version > VERSION) throw bad("version " + version + " is not " + VERSION_START + ".." + VERSION);
@@ -233,6 +243,12 @@ public final class Searchers {
       plan = new BitPlan(bits, constMask, constValue, tableBits);
     } catch (IllegalArgumentException e) {
       throw bad(e.getMessage());
+    }
+    if (!verifyKeys) {
+      for (int t = 0; t < m; t++)
+        for (int ord : tables[t].ids)
+          if (ord < 0 || ord >= n) throw bad("table " + t + " names ordinal " + ord + " outside 0.." + (n - 1));
+      return new MihSearcher(codes, plan, tables, STRATEGY_IDS[sid], partition, cost);
     }
     if (!plan.constantsHold(codes)) throw bad("the codes do not carry the recorded constant bits");
     long[] data = codes.words();

@@ -24,8 +24,8 @@ final class Attachments {
     return "att-" + generation + ".bin";
   }
 
-  static FileRef write(Path dir, long generation, Manifest m, String name, byte[] content) throws IOException {
-    try (ChecksummedFile.Out out = ChecksummedFile.create(dir.resolve(fileName(generation)), CODEC, VERSION_CURRENT,
+  static FileRef write(StoreIo io, Path dir, long generation, Manifest m, String name, byte[] content) throws IOException {
+    try (ChecksummedFile.Out out = ChecksummedFile.create(io, dir.resolve(fileName(generation)), CODEC, VERSION_CURRENT,
         m.layout().hash(), m.uuid())) {
       out.writeString(name);
       out.writeInt(content.length);
@@ -34,11 +34,11 @@ final class Attachments {
     }
   }
 
-  static byte[] read(Path dir, FileSource src, Manifest m, String name) {
+  static byte[] read(Path dir, FileSource src, Manifest m, String name, ChecksummedFile.Check level) {
     FileRef ref = m.attachments().get(name);
     Path file = dir.resolve(ref.name());
     ChecksummedFile.In in = ChecksummedFile.check(file, src.bytes(file), CODEC, VERSION_START, VERSION_CURRENT,
-        m.layout().hash(), m.uuid(), ref);
+        m.layout().hash(), m.uuid(), ref, level);
     String stored = in.string("name");
     if (!stored.equals(name)) throw in.error("holds attachment '" + stored + "', the manifest says '" + name + "'");
     int len = in.getCount("length", Integer.MAX_VALUE);

@@ -2,16 +2,21 @@ package io.actindex.index.store;
 
 import io.actindex.core.BadInputException;
 import java.io.BufferedOutputStream;
-import java.io.ByteArrayInputStream;
 import java.io.DataInputStream;
 import java.io.DataOutputStream;
 import java.io.IOException;
+import java.io.InputStream;
 import java.io.OutputStream;
-import java.nio.BufferUnderflowException;
+import java.io.UncheckedIOException;
+import java.lang.foreign.Arena;
+import java.lang.foreign.MemorySegment;
+import java.lang.foreign.ValueLayout;
 import java.nio.ByteBuffer;
+import java.nio.ByteOrder;
 import java.nio.channels.FileChannel;
 import java.nio.charset.CharacterCodingException;
 import java.nio.charset.StandardCharsets;
+import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
 import java.nio.file.StandardOpenOption;
 import java.util.UUID;
@@ -33,9 +38,14 @@ import java.util.zip.CRC32;
  *          long   CRC32 of every byte before this field (high 32 bits zero)
  * </pre>
  *
- * <p>A reader loads the whole file, checks (in this order) the length, magic, codec name, version,
- * footer magic, CRC32, layout hash and UUID, and throws {@link BadInputException} naming the file
- * and the field at fault. Writers fsync the file before {@link Out#finish()} returns.
+ * <p>A reader sees the file as a {@link MemorySegment} (memory-mapped, long offsets: any size) and
+ * checks (in this order) the length, magic, codec name, version, footer magic, the CRC32, layout
+ * hash and UUID, and throws {@link BadInputException} naming the file and the field at fault. The
+ * CRC32 of every byte is recomputed when the caller asks for a full check ({@link Check#FULL}:
+ * {@code actindex check} and merges) or when the file is small ({@link #smallFileBytes()}); else
+ * ({@link Check#OPEN}) the footer's CRC must equal the one the manifest recorded, which catches a
+ * replaced or truncated file but not a flipped bit inside a big one. Writers fsync the file before
+ * {@link Out#finish()} returns.
  */
 public final class ChecksummedFile {
   private ChecksummedFile() {}
@@ -45,13 +55,37 @@ public final class ChecksummedFile {
   /** Bytes of the footer. */
   public static final int FOOTER_LENGTH = 12;
   private static final int MAX_STRING_BYTES = 1 << 20;
+  /** System property: files up to this many bytes get their CRC recomputed at every open. */
+  public static final String SMALL_FILE_PROPERTY = "actindex.open.fullCheckBytes";
+  private static final long SMALL_FILE_DEFAULT = 1 << 20;
+  private static final ValueLayout.OfInt INT = ValueLayout.JAVA_INT_UNALIGNED.withOrder(ByteOrder.BIG_ENDIAN);
+  private static final ValueLayout.OfLong LONG = ValueLayout.JAVA_LONG_UNALIGNED.withOrder(ByteOrder.BIG_ENDIAN);
+
+  /** How much of a file to verify when reading it. */
+  public enum Check {
+    /** Header, length, footer, and the CRC of every byte only for small files (opening an index). */
+    OPEN,
+    /** Also the CRC of every byte and every derived structure (check command, merges). */
+    FULL
+  }
+
+  /** Files up to this size are fully CRC-checked at open ({@value #SMALL_FILE_PROPERTY}, default 1 MiB). */
+  public static long smallFileBytes() {
+    return Long.getLong(SMALL_FILE_PROPERTY, SMALL_FILE_DEFAULT);
+  }
 
   /** What the header says; returned by {@link #read}. */
   public record Header(String codec, int version, int layoutHash, UUID uuid) {}
 
   /** Starts writing {@code file} (created or truncated) with its header. */
   public static Out create(Path file, String codec, int version, int layoutHash, UUID uuid) throws IOException {
-    Out out = new Out(file);
+    return create(StoreIo.REAL, file, codec, version, layoutHash, uuid);
+  }
+
+  /** Starts writing {@code file} through {@code io} (tests observe fsyncs there). */
+  public static Out create(StoreIo io, Path file, String codec, int version, int layoutHash, UUID uuid)
+      throws IOException {
+    Out out = new Out(io, file, io.create(file), new CRC32());
     out.writeInt(MAGIC);
     out.writeString(codec);
     out.writeInt(version);
@@ -63,17 +97,14 @@ public final class ChecksummedFile {
 
   /** A file being written: a DataOutputStream that tracks the CRC32; {@link #finish()} ends it. */
   public static final class Out extends DataOutputStream {
+    private final StoreIo io;
     private final Path file;
     private final FileChannel channel;
     private final CRC32 crc;
 
-    private Out(Path file) throws IOException {
-      this(file, FileChannel.open(file, StandardOpenOption.CREATE, StandardOpenOption.WRITE,
-          StandardOpenOption.TRUNCATE_EXISTING), new CRC32());
-    }
-
-    private Out(Path file, FileChannel channel, CRC32 crc) {
+    private Out(StoreIo io, Path file, FileChannel channel, CRC32 crc) {
       super(new BufferedOutputStream(new CrcStream(java.nio.channels.Channels.newOutputStream(channel), crc), 1 << 16));
+      this.io = io;
       this.file = file;
       this.channel = channel;
       this.crc = crc;
@@ -94,7 +125,7 @@ public final class ChecksummedFile {
       writeLong(value);
       flush();
       long length = channel.size();
-      channel.force(true);
+      io.force(channel, file);
       close();
       return new FileRef(file.getFileName().toString(), length, (int) value);
     }
@@ -122,41 +153,58 @@ public final class ChecksummedFile {
   }
 
   /**
-   * Reads and checks {@code file}. {@code layoutHash} and {@code uuid} may be null (not yet known,
-   * as for a manifest); {@code expected} (nullable) is the reference a manifest recorded.
+   * Reads and fully checks {@code file} (mapped for as long as the returned reader is reachable).
+   * {@code layoutHash} and {@code uuid} may be null (not yet known, as for a manifest);
+   * {@code expected} (nullable) is the reference a manifest recorded.
    */
   public static In read(Path file, String codec, int versionStart, int versionCurrent, Integer layoutHash,
       UUID uuid, FileRef expected) {
-    return check(file, FileSource.DIRECT.bytes(file), codec, versionStart, versionCurrent, layoutHash, uuid, expected);
+    return check(file, map(file, Arena.ofAuto()), codec, versionStart, versionCurrent, layoutHash, uuid, expected,
+        Check.FULL);
   }
 
-  static In check(Path file, byte[] bytes, String codec, int versionStart, int versionCurrent, Integer layoutHash,
-      UUID uuid, FileRef expected) {
-    if (expected != null && bytes.length != expected.length())
-      throw bad(file, "length is " + bytes.length + " bytes, the manifest recorded " + expected.length());
-    ByteBuffer buf = ByteBuffer.wrap(bytes);
-    In in = new In(file, buf);
-    if (bytes.length < 4 + 4 + 4 + 4 + 16 + FOOTER_LENGTH)
-      throw bad(file, "file of " + bytes.length + " bytes is too short for header and footer");
-    int magic = buf.getInt();
+  /** Maps {@code file} read-only into {@code arena}; BadInputException if it is missing or a folder. */
+  static MemorySegment map(Path file, Arena arena) {
+    if (java.nio.file.Files.isDirectory(file)) throw new BadInputException("index file " + file + " is a folder, not a file");
+    try (FileChannel ch = FileChannel.open(file, StandardOpenOption.READ)) {
+      long size = ch.size();
+      return size == 0 ? MemorySegment.ofArray(new byte[0]) : ch.map(FileChannel.MapMode.READ_ONLY, 0, size, arena);
+    } catch (NoSuchFileException e) {
+      throw new BadInputException("index file " + file + " is missing", e);
+    } catch (IOException e) {
+      throw new UncheckedIOException("cannot read " + file, e);
+    }
+  }
+
+  /** Checks {@code bytes} as the content of {@code file}; see the class comment for what {@code level} checks. */
+  static In check(Path file, MemorySegment bytes, String codec, int versionStart, int versionCurrent, Integer layoutHash,
+      UUID uuid, FileRef expected, Check level) {
+    long size = bytes.byteSize();
+    if (expected != null && size != expected.length())
+      throw bad(file, "length is " + size + " bytes, the manifest recorded " + expected.length());
+    In in = new In(file, bytes);
+    if (size < 4 + 4 + 4 + 4 + 16 + FOOTER_LENGTH)
+      throw bad(file, "file of " + size + " bytes is too short for header and footer");
+    int magic = in.getInt("magic");
     if (magic != MAGIC) throw bad(file, "bad magic 0x" + Integer.toHexString(magic) + " (not an actindex file)");
-    buf.limit(bytes.length - FOOTER_LENGTH);
+    in.limit = size - FOOTER_LENGTH;
     String actualCodec = in.string("codec name");
     if (!actualCodec.equals(codec)) throw bad(file, "codec is '" + actualCodec + "', expected '" + codec + "'");
     int version = in.getInt("version");
     if (version < versionStart || version > versionCurrent)
       throw bad(file, "format version " + version + " of " + codec + " is not supported (this build reads "
           + versionStart + " to " + versionCurrent + ")");
-    ByteBuffer footer = ByteBuffer.wrap(bytes, bytes.length - FOOTER_LENGTH, FOOTER_LENGTH);
-    int footerMagic = footer.getInt();
+    int footerMagic = bytes.get(INT, size - FOOTER_LENGTH);
     if (footerMagic != FOOTER_MAGIC)
       throw bad(file, "bad footer magic 0x" + Integer.toHexString(footerMagic) + " (truncated or damaged)");
-    long stored = footer.getLong();
-    CRC32 crc = new CRC32();
-    crc.update(bytes, 0, bytes.length - 8);
-    if (stored != crc.getValue())
-      throw bad(file, "checksum mismatch: footer says 0x" + Long.toHexString(stored) + ", content has 0x"
-          + Long.toHexString(crc.getValue()) + " (damaged)");
+    long stored = bytes.get(LONG, size - 8);
+    if (stored >>> 32 != 0) throw bad(file, "footer checksum 0x" + Long.toHexString(stored) + " is not a CRC32 (damaged)");
+    if (level == Check.FULL || size <= smallFileBytes()) {
+      long actual = crc(bytes, size - 8);
+      if (stored != actual)
+        throw bad(file, "checksum mismatch: footer says 0x" + Long.toHexString(stored) + ", content has 0x"
+            + Long.toHexString(actual) + " (damaged)");
+    }
     if (expected != null && (int) stored != expected.crc())
       throw bad(file, "checksum 0x" + Long.toHexString(stored) + " differs from the manifest's 0x"
           + Integer.toHexString(expected.crc()) + " (file replaced?)");
@@ -171,19 +219,33 @@ public final class ChecksummedFile {
     return in;
   }
 
+  /** CRC32 of the first {@code length} bytes, in slices a ByteBuffer can address. */
+  static long crc(MemorySegment bytes, long length) {
+    CRC32 crc = new CRC32();
+    for (long at = 0; at < length; at += 1 << 30)
+      crc.update(bytes.asSlice(at, Math.min(1 << 30, length - at)).asByteBuffer());
+    return crc.getValue();
+  }
+
   static BadInputException bad(Path file, String what) {
     return new BadInputException("index file " + file + ": " + what);
   }
 
-  /** The checked body of a file, read field by field; every misread names the file and field. */
+  /**
+   * The checked body of a file, read field by field at long offsets; every misread names the file
+   * and field. Valid while the file stays mapped (the reader that opened it).
+   */
   public static final class In {
     private final Path file;
-    private final ByteBuffer buf;
+    private final MemorySegment bytes;
+    private long pos;
+    private long limit;
     private Header header;
 
-    private In(Path file, ByteBuffer buf) {
+    private In(Path file, MemorySegment bytes) {
       this.file = file;
-      this.buf = buf;
+      this.bytes = bytes;
+      this.limit = bytes.byteSize();
     }
 
     public Path file() {
@@ -194,28 +256,33 @@ public final class ChecksummedFile {
       return header;
     }
 
+    /** Bytes left before the footer. */
+    public long remaining() {
+      return limit - pos;
+    }
+
+    private long take(String field, long n) {
+      if (n < 0 || n > limit - pos) throw bad(file, "ends inside field '" + field + "'");
+      long at = pos;
+      pos += n;
+      return at;
+    }
+
+    /** Skips {@code n} bytes of field {@code field}. */
+    public void skip(String field, long n) {
+      take(field, n);
+    }
+
     public int getInt(String field) {
-      try {
-        return buf.getInt();
-      } catch (BufferUnderflowException e) {
-        throw bad(file, "ends inside field '" + field + "'");
-      }
+      return bytes.get(INT, take(field, 4));
     }
 
     public long getLong(String field) {
-      try {
-        return buf.getLong();
-      } catch (BufferUnderflowException e) {
-        throw bad(file, "ends inside field '" + field + "'");
-      }
+      return bytes.get(LONG, take(field, 8));
     }
 
     public byte getByte(String field) {
-      try {
-        return buf.get();
-      } catch (BufferUnderflowException e) {
-        throw bad(file, "ends inside field '" + field + "'");
-      }
+      return bytes.get(ValueLayout.JAVA_BYTE, take(field, 1));
     }
 
     /** A count field: non-negative and at most {@code max}. */
@@ -227,10 +294,10 @@ public final class ChecksummedFile {
 
     public String string(String field) {
       int len = getInt(field + " length");
-      if (len < 0 || len > MAX_STRING_BYTES || len > buf.remaining())
+      if (len < 0 || len > MAX_STRING_BYTES || len > remaining())
         throw bad(file, "field '" + field + "' has impossible length " + len);
       byte[] b = new byte[len];
-      buf.get(b);
+      MemorySegment.copy(bytes, ValueLayout.JAVA_BYTE, take(field, len), b, 0, len);
       try {
         return StandardCharsets.UTF_8.newDecoder().decode(ByteBuffer.wrap(b)).toString();
       } catch (CharacterCodingException e) {
@@ -238,46 +305,66 @@ public final class ChecksummedFile {
       }
     }
 
-    /** Reads {@code count} longs ({@code count} checked against the remaining bytes). */
+    /** Reads {@code count} longs ({@code count} checked against the remaining bytes and the array limit). */
     public long[] longs(String field, long count) {
-      if (count < 0 || count > buf.remaining() / 8)
-        throw bad(file, "field '" + field + "' needs " + count + " longs, " + buf.remaining() + " bytes remain");
+      if (count < 0 || count > remaining() / 8)
+        throw bad(file, "field '" + field + "' needs " + count + " longs, " + remaining() + " bytes remain");
+      if (count > Integer.MAX_VALUE - 8)
+        throw bad(file, "field '" + field + "' holds " + count + " longs, more than this reader can hold in one array");
       long[] out = new long[(int) count];
-      buf.asLongBuffer().get(out);
-      buf.position(Math.addExact(buf.position(), Math.multiplyExact((int) count, 8)));
+      MemorySegment.copy(bytes, LONG, take(field, 8 * count), out, 0, (int) count);
       return out;
     }
 
-    /** Reads {@code count} ints ({@code count} checked against the remaining bytes). */
+    /** Reads {@code count} ints ({@code count} checked against the remaining bytes and the array limit). */
     public int[] ints(String field, long count) {
-      if (count < 0 || count > buf.remaining() / 4)
-        throw bad(file, "field '" + field + "' needs " + count + " ints, " + buf.remaining() + " bytes remain");
+      if (count < 0 || count > remaining() / 4)
+        throw bad(file, "field '" + field + "' needs " + count + " ints, " + remaining() + " bytes remain");
+      if (count > Integer.MAX_VALUE - 8)
+        throw bad(file, "field '" + field + "' holds " + count + " ints, more than this reader can hold in one array");
       int[] out = new int[(int) count];
-      buf.asIntBuffer().get(out);
-      buf.position(Math.addExact(buf.position(), Math.multiplyExact((int) count, 4)));
+      MemorySegment.copy(bytes, INT, take(field, 4 * count), out, 0, (int) count);
       return out;
     }
 
     /** The next {@code length} bytes as a buffer view (position advanced past them). */
     public ByteBuffer slice(String field, int length) {
-      if (length < 0 || length > buf.remaining())
-        throw bad(file, "field '" + field + "' needs " + length + " bytes, " + buf.remaining() + " remain");
-      ByteBuffer s = buf.slice(buf.position(), length);
-      buf.position(buf.position() + length);
-      return s;
+      if (length < 0 || length > remaining())
+        throw bad(file, "field '" + field + "' needs " + length + " bytes, " + remaining() + " remain");
+      return bytes.asSlice(take(field, length), length).asByteBuffer();
     }
 
-    /** The rest of the body as a DataInputStream (consumes it). */
+    /** The rest of the body as a stream read straight from the mapping (consumes it). */
     public DataInputStream rest() {
-      ByteBuffer s = slice("body", buf.remaining());
-      byte[] b = new byte[s.remaining()];
-      s.get(b);
-      return new DataInputStream(new ByteArrayInputStream(b));
+      long from = take("body", remaining()), end = limit;
+      return new DataInputStream(new InputStream() {
+        private long at = from;
+
+        @Override
+        public int read() {
+          return at < end ? bytes.get(ValueLayout.JAVA_BYTE, at++) & 0xff : -1;
+        }
+
+        @Override
+        public int read(byte[] b, int off, int len) {
+          if (len == 0) return 0;
+          if (at >= end) return -1;
+          int n = (int) Math.min(len, end - at);
+          MemorySegment.copy(bytes, ValueLayout.JAVA_BYTE, at, b, off, n);
+          at += n;
+          return n;
+        }
+
+        @Override
+        public int available() {
+          return (int) Math.min(Integer.MAX_VALUE, end - at);
+        }
+      });
     }
 
     /** Checks that the body was read exactly to its end. */
     public void end() {
-      if (buf.remaining() != 0) throw bad(file, buf.remaining() + " unexpected bytes before the footer");
+      if (remaining() != 0) throw bad(file, remaining() + " unexpected bytes before the footer");
     }
 
     /** A failure found while interpreting the body. */

@@ -21,10 +21,13 @@ import java.util.stream.Stream;
 import org.roaringbitmap.RoaringBitmap;
 
 /**
- * A point-in-time view of the newest generation of an index folder. Opening reads every file the
- * manifest names and checks its header, length and CRC32 (and Lucene's checksums for the metadata
- * store), so a damaged folder fails here with a {@link BadInputException} naming the file, and no
- * search ever answers from damaged data. Thread-safe; search results carry global ids.
+ * A point-in-time view of the newest generation of an index folder. Opening maps every file the
+ * manifest names and checks its header, length, footer and every count and range (and the CRC32
+ * of every byte of small files; Lucene's footers, or checksums of its small files), so a missing,
+ * truncated, replaced or mismatched file fails here with a {@link BadInputException} naming it.
+ * The CRC of every byte of big files is left to {@link IndexCheck} ({@code actindex check}) and to
+ * merges, so opening costs about one copy of the codes and tables into memory. Thread-safe;
+ * search results carry global ids. Readers never write to the folder.
  */
 public final class IndexReader implements AutoCloseable {
   private static final long RETRY_NANOS = 60_000_000_000L;
@@ -125,30 +128,34 @@ public final class IndexReader implements AutoCloseable {
     List<Segment> segs = new ArrayList<>();
     List<Magnitudes> mags = new ArrayList<>();
     for (Manifest.SegmentEntry e : m.segments()) {
-      segs.add(Segment.read(dir, src, m, e));
+      segs.add(Segment.read(dir, src, m, e, ChecksummedFile.Check.OPEN));
       FileRef ref = m.magnitudes().get(e.segmentId());
-      mags.add(ref == null ? null : Magnitudes.read(dir, src, m, e, ref));
+      mags.add(ref == null ? null : Magnitudes.read(dir, src, m, e, ref, ChecksummedFile.Check.OPEN));
     }
-    RoaringBitmap deleted = Tombstones.read(dir, src, m);
+    RoaringBitmap deleted = Tombstones.read(dir, src, m, ChecksummedFile.Check.OPEN);
     long stored = 0;
     for (Segment s : segs) stored += s.size();
-    int liveInSegments = 0;
-    for (Segment s : segs) for (int o = 0; o < s.size(); o++) if (!deleted.contains(s.id(o))) liveInSegments++;
+    long liveInSegments = 0;
+    for (Segment s : segs) liveInSegments += s.liveCount(deleted);
     int live = m.nextId() - deleted.getCardinality();
     if (liveInSegments != live)
       throw new BadInputException("index " + dir + ": " + Manifest.fileName(gen) + " holds " + stored + " codes of which "
           + liveInSegments + " live, but ids and tombstones say " + live + " are live");
     Map<String, byte[]> att = new HashMap<>();
-    for (String name : m.attachments().keySet()) att.put(name, Attachments.read(dir, src, m, name));
-    MetaStore meta = MetaStore.open(dir.resolve(IndexWriter.META_DIR), m.metaCommit(), deleted);
-    if (meta.numDocs() != live) {
+    for (String name : m.attachments().keySet())
+      att.put(name, Attachments.read(dir, src, m, name, ChecksummedFile.Check.OPEN));
+    RoaringBitmap documented = m.documentedIds();
+    MetaStore meta = MetaStore.open(dir.resolve(IndexWriter.META_DIR), m.metaCommit(), deleted, documented, m.nextId(),
+        ChecksummedFile.smallFileBytes());
+    int documentedLive = RoaringBitmap.andNot(documented, deleted).getCardinality();
+    if (meta.documents() != documentedLive) {
       try {
         meta.close();
       } catch (IOException ignored) {
         // reporting the inconsistency below
       }
-      throw new BadInputException("metadata store " + dir.resolve(IndexWriter.META_DIR) + " has " + meta.numDocs()
-          + " documents, " + Manifest.fileName(gen) + " has " + live + " live codes");
+      throw new BadInputException("metadata store " + dir.resolve(IndexWriter.META_DIR) + " has " + meta.documents()
+          + " documents, " + Manifest.fileName(gen) + " has " + documentedLive + " live codes with metadata");
     }
     return new IndexReader(dir, m, segs, deleted, att, meta, mags);
   }

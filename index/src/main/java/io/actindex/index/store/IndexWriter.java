@@ -35,13 +35,17 @@ public final class IndexWriter implements AutoCloseable {
       Pattern.compile("manifest-\\d+(\\.tmp)?|seg-\\d+\\.(codes|tables|mags)|tomb-\\d+\\.bits|att-\\d+\\.bin");
 
   private final Path dir;
+  private final StoreIo io;
+  private MergePolicy policy = MergePolicy.defaults();
+  private final List<String> warnings = new ArrayList<>();
   private WriteLock lock;
   private MetaWriter meta;
   private Manifest manifest;
   private RoaringBitmap deleted;
 
-  private IndexWriter(Path dir, WriteLock lock, MetaWriter meta, Manifest manifest, RoaringBitmap deleted) {
+  private IndexWriter(Path dir, StoreIo io, WriteLock lock, MetaWriter meta, Manifest manifest, RoaringBitmap deleted) {
     this.dir = dir;
+    this.io = io;
     this.lock = lock;
     this.meta = meta;
     this.manifest = manifest;
@@ -50,7 +54,15 @@ public final class IndexWriter implements AutoCloseable {
 
   /** Creates a new index in {@code dir}, which must be absent or empty. */
   public static IndexWriter create(Path dir, CodeLayout layout, Map<String, String> properties) {
+    return create(dir, layout, properties, StoreIo.REAL);
+  }
+
+  /** As {@link #create(Path, CodeLayout, Map)}, writing through {@code io}. */
+  public static IndexWriter create(Path dir, CodeLayout layout, Map<String, String> properties, StoreIo io) {
     try {
+      for (Path p = dir.toAbsolutePath(); p != null; p = p.getParent())
+        if (Files.exists(p) && !Files.isDirectory(p))
+          throw new BadInputException("cannot create an index in " + dir + ": " + p + " exists and is not a folder");
       Files.createDirectories(dir);
       try (Stream<Path> s = Files.list(dir)) {
         if (s.findAny().isPresent()) throw new BadInputException("cannot create an index in " + dir + ": folder is not empty");
@@ -59,13 +71,15 @@ public final class IndexWriter implements AutoCloseable {
       MetaWriter meta = null;
       try {
         if (Manifest.newestGeneration(dir) >= 0) throw new BadInputException("an index was created in " + dir + " meanwhile");
-        meta = MetaWriter.create(dir.resolve(META_DIR));
+        Files.createDirectories(dir.resolve(META_DIR));
+        io.syncDir(dir);
+        meta = MetaWriter.create(dir.resolve(META_DIR), io.lucene(dir.resolve(META_DIR)));
         String commit = meta.commit();
         Manifest m = new Manifest(1, UUID.randomUUID(), layout, 0, 0, List.of(), null,
-            properties == null ? Map.of() : properties, Map.of(), commit);
-        m.commit(dir);
+            properties == null ? Map.of() : properties, Map.of(), commit, Map.of(), List.of());
+        m.commit(io, dir);
         meta.published(commit);
-        return new IndexWriter(dir, lock, meta, m, new RoaringBitmap());
+        return new IndexWriter(dir, io, lock, meta, m, new RoaringBitmap());
       } catch (IOException | RuntimeException e) {
         if (meta != null) meta.close();
         lock.close();
@@ -78,18 +92,25 @@ public final class IndexWriter implements AutoCloseable {
 
   /** Opens an existing index for writing; refused if another writer holds the lock. */
   public static IndexWriter open(Path dir) {
+    return open(dir, StoreIo.REAL);
+  }
+
+  /** As {@link #open(Path)}, writing through {@code io}. */
+  public static IndexWriter open(Path dir, StoreIo io) {
     try {
-      if (!Files.isDirectory(dir)) throw new BadInputException("index folder " + dir + " does not exist");
+      if (!Files.isDirectory(dir)) throw new BadInputException("index folder " + dir + " does not exist or is not a folder");
       WriteLock lock = WriteLock.acquire(dir);
       MetaWriter meta = null;
       try {
         long gen = Manifest.newestGeneration(dir);
         if (gen < 0) throw new BadInputException("no index in " + dir + ": no manifest-N file");
         Manifest m = Manifest.read(dir, gen);
-        RoaringBitmap deleted = Tombstones.read(dir, FileSource.DIRECT, m);
-        meta = MetaWriter.open(dir.resolve(META_DIR), m.metaCommit());
-        IndexWriter w = new IndexWriter(dir, lock, meta, m, deleted);
-        w.deleteUnreferenced();
+        RoaringBitmap deleted = Tombstones.read(dir, FileSource.DIRECT, m, ChecksummedFile.Check.OPEN);
+        Path metaDir = dir.resolve(META_DIR);
+        if (!Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
+        meta = MetaWriter.open(metaDir, io.lucene(metaDir), m.metaCommit());
+        IndexWriter w = new IndexWriter(dir, io, lock, meta, m, deleted);
+        w.cleanUp();
         return w;
       } catch (IOException | RuntimeException e) {
         if (meta != null) meta.close();
@@ -99,6 +120,12 @@ public final class IndexWriter implements AutoCloseable {
     } catch (IOException e) {
       throw new UncheckedIOException("cannot open index " + dir + " for writing", e);
     }
+  }
+
+  /** Replaces the merge policy (segment size cap and merge factor). */
+  public IndexWriter mergePolicy(MergePolicy p) {
+    this.policy = java.util.Objects.requireNonNull(p);
+    return this;
   }
 
   /** The layout every added block must have. */
@@ -111,9 +138,26 @@ public final class IndexWriter implements AutoCloseable {
     return manifest.nextId();
   }
 
+  /** Segments of the last commit. */
+  public int segmentCount() {
+    return manifest.segments().size();
+  }
+
+  /**
+   * Problems that did not undo a commit (old files that could not be deleted after a new manifest
+   * was published; the next writer deletes them). Cleared by reading.
+   */
+  public List<String> takeWarnings() {
+    List<String> out = List.copyOf(warnings);
+    warnings.clear();
+    return out;
+  }
+
   /**
    * Adds {@code codes} with one metadata row each (columns "key", "label", "split", "source" and any
-   * other; {@code meta} null = keys "row-ID") as a new segment and commits. Returns the first id.
+   * other; {@code rows} null = no metadata: keys "row-ID" are synthesized, no document is stored)
+   * and commits, as one segment or, past the size cap, several. Then merges segments as the merge
+   * policy asks (each merge its own commit). Returns the first id.
    */
   public int add(CodeBlock codes, List<Map<String, String>> rows) {
     return add(codes, null, rows);
@@ -140,27 +184,46 @@ public final class IndexWriter implements AutoCloseable {
     }
     if (rows != null && rows.size() != n) throw new BadInputException(rows.size() + " metadata rows for " + n + " codes");
     if (n == 0) return first;
-    MetaWriter.Batch batch = prepare(first, n, rows);
+    MetaWriter.Batch batch = rows == null ? null : prepare(first, n, rows);
     mutate(() -> {
-      int[] ids = new int[n];
-      for (int i = 0; i < n; i++) ids[i] = first + i;
-      int segId = manifest.nextSegmentId();
-      Manifest.SegmentEntry seg = Segment.write(dir, manifest.uuid(), segId, codes, ids);
-      FileRef mags = magnitudes == null ? null
-          : Magnitudes.write(dir, manifest.uuid(), manifest.layout().hash(), segId, magnitudes);
-      meta.add(batch);
-      String commit = meta.commit();
       List<Manifest.SegmentEntry> segs = new ArrayList<>(manifest.segments());
-      segs.add(seg);
-      Manifest next = manifest.next(end, segId + 1, segs, manifest.tombstones(), manifest.properties(), manifest.attachments(), commit);
-      publish(mags == null ? next : next.withMagnitudes(segId, mags));
+      Map<Integer, FileRef> mags = new LinkedHashMap<>();
+      int segId = manifest.nextSegmentId(), at = 0;
+      for (int len : policy.split(n, codes.wordsPerCode())) {
+        int[] ids = new int[len];
+        for (int i = 0; i < len; i++) ids[i] = first + at + i;
+        CodeBlock piece = at == 0 && len == n ? codes : codes.slice(at, at + len);
+        segs.add(Segment.write(io, dir, manifest.uuid(), segId, piece, ids));
+        if (magnitudes != null)
+          mags.put(segId, Magnitudes.write(io, dir, manifest.uuid(), manifest.layout().hash(), segId,
+              len == n ? magnitudes : rows(magnitudes, at, len)));
+        segId++;
+        at += len;
+      }
+      String commit = manifest.metaCommit();
+      if (batch != null) {
+        meta.add(batch);
+        commit = meta.commit();
+      }
+      Manifest next = manifest.next(end, segId, segs, manifest.tombstones(), manifest.properties(), manifest.attachments(),
+          commit);
+      for (Map.Entry<Integer, FileRef> e : mags.entrySet()) next = next.withMagnitudes(e.getKey(), e.getValue());
+      publish(batch == null ? next : next.withDocumented(first, end));
     });
+    mergeAsNeeded();
     return first;
+  }
+
+  /** Ids that are live and have no metadata document (their key is "row-ID"). */
+  private java.util.function.IntPredicate bare() {
+    RoaringBitmap documented = manifest.documentedIds();
+    int max = manifest.nextId();
+    return id -> id >= 0 && id < max && !documented.contains(id) && !deleted.contains(id);
   }
 
   private MetaWriter.Batch prepare(int first, int n, List<Map<String, String>> rows) {
     try {
-      return meta.prepare(first, n, rows);
+      return meta.prepare(first, n, rows, bare());
     } catch (IOException e) {
       fail(e);
       throw new UncheckedIOException(e);
@@ -178,9 +241,13 @@ public final class IndexWriter implements AutoCloseable {
     mutate(() -> {
       RoaringBitmap all = RoaringBitmap.or(deleted, fresh);
       long gen = manifest.generation() + 1;
-      FileRef tomb = Tombstones.write(dir, gen, manifest, manifest.nextId(), all);
-      meta.delete(fresh);
-      String commit = meta.commit();
+      FileRef tomb = Tombstones.write(io, dir, gen, manifest, manifest.nextId(), all);
+      RoaringBitmap documented = RoaringBitmap.and(fresh, manifest.documentedIds());
+      String commit = manifest.metaCommit();
+      if (!documented.isEmpty()) {
+        meta.delete(documented);
+        commit = meta.commit();
+      }
       publish(manifest.next(manifest.nextId(), manifest.nextSegmentId(), manifest.segments(), tomb,
           manifest.properties(), manifest.attachments(), commit));
       deleted = all;
@@ -188,53 +255,112 @@ public final class IndexWriter implements AutoCloseable {
     return count;
   }
 
-  /** Merges all segments into one without deleted codes; ids stay as they are. */
+  /**
+   * Rewrites every segment without its deleted codes, merged into as few segments as the size cap
+   * allows; ids stay as they are. Every byte read is CRC-checked first.
+   */
   public void compact() {
     ensureOpen();
+    List<Manifest.SegmentEntry> all = manifest.segments();
+    boolean clean = all.size() <= 1 && all.stream().allMatch(e -> live(e) == e.count());
+    if (clean) return;
     mutate(() -> {
-      List<Segment> segs = new ArrayList<>();
-      int live = 0, stored = 0;
-      for (Manifest.SegmentEntry e : manifest.segments()) {
-        Segment s = Segment.read(dir, FileSource.DIRECT, manifest, e);
-        segs.add(s);
-        stored += s.size();
-        for (int o = 0; o < s.size(); o++) if (!deleted.contains(s.id(o))) live++;
-      }
-      if (segs.size() <= 1 && live == stored) return;
-      int w = manifest.layout().words();
-      long[] words = new long[Math.multiplyExact(live, w)];
-      int[] ids = new int[live];
-      int i = 0;
-      for (Segment s : segs)
-        for (int o = 0; o < s.size(); o++) {
-          int id = s.id(o);
-          if (deleted.contains(id)) continue;
-          System.arraycopy(s.codes().words(), o * w, words, i * w, w);
-          ids[i++] = id;
-        }
-      List<Manifest.SegmentEntry> out = new ArrayList<>();
-      int segId = manifest.nextSegmentId();
-      if (live > 0) out.add(Segment.write(dir, manifest.uuid(), segId, new CodeBlock(manifest.layout(), live, words), ids));
-      Magnitudes mags = live > 0 ? liveMagnitudes(segs) : null;
-      FileRef magsRef = mags == null ? null : Magnitudes.write(dir, manifest.uuid(), manifest.layout().hash(), segId, mags);
+      Manifest m = merge(manifest, 0, all.size());
       meta.expungeDeletes();
       String commit = meta.commit();
-      Manifest next = manifest.next(manifest.nextId(), segId + 1, out, manifest.tombstones(), manifest.properties(),
-          manifest.attachments(), commit);
-      publish(magsRef == null ? next : next.withMagnitudes(segId, magsRef));
+      publish(m.next(m.nextId(), m.nextSegmentId(), m.segments(), m.tombstones(), m.properties(), m.attachments(), commit));
     });
   }
 
-  /** The live rows' magnitudes of {@code segs} in id order, or null unless every segment keeps them. */
-  private Magnitudes liveMagnitudes(List<Segment> segs) {
+  /** Runs the merges the merge policy asks for, each its own commit. */
+  private void mergeAsNeeded() {
+    int w = manifest.layout().words();
+    while (true) {
+      List<Long> live = new ArrayList<>();
+      for (Manifest.SegmentEntry e : manifest.segments()) live.add((long) live(e));
+      int[] window = policy.next(live, w);
+      if (window == null) return;
+      mutate(() -> {
+        Manifest m = merge(manifest, window[0], window[1]);
+        publish(m.next(m.nextId(), m.nextSegmentId(), m.segments(), m.tombstones(), m.properties(), m.attachments(),
+            m.metaCommit()));
+      });
+    }
+  }
+
+  private int live(Manifest.SegmentEntry e) {
+    return (int) (e.endId() - e.firstId() - deleted.rangeCardinality(e.firstId(), e.endId()));
+  }
+
+  /**
+   * Writes the live codes of segments {@code [from, to)} as new segments (at most the cap each)
+   * and returns the manifest entries in their place (same generation: the caller publishes). Reads
+   * with the full check, so a merge never copies damaged bytes into a new file.
+   */
+  private Manifest merge(Manifest m, int from, int to) throws IOException {
+    int w = m.layout().words(), total = 0;
+    List<Segment> segs = new ArrayList<>();
+    List<Path> files = new ArrayList<>();
+    for (Manifest.SegmentEntry e : m.segments().subList(from, to)) {
+      files.add(dir.resolve(e.codes().name()));
+      files.add(dir.resolve(e.tables().name()));
+    }
+    try (FileSource.Pinned src = FileSource.pin(files)) { // unmapped right after: the codes are copied
+      for (Manifest.SegmentEntry e : m.segments().subList(from, to)) {
+        segs.add(Segment.read(dir, src, m, e, ChecksummedFile.Check.FULL));
+        total += live(e);
+      }
+    }
+    List<Manifest.SegmentEntry> out = new ArrayList<>(m.segments().subList(0, from));
+    Map<Integer, FileRef> mags = new java.util.TreeMap<>(m.magnitudes());
+    for (Manifest.SegmentEntry e : m.segments().subList(from, to)) mags.remove(e.segmentId());
+    Magnitudes kept = total == 0 ? null : liveMagnitudes(m, from, to, segs);
+    int segId = m.nextSegmentId(), si = 0, so = 0, at = 0;
+    for (int len : total == 0 ? List.<Integer>of() : policy.split(total, w)) {
+      long[] words = new long[Math.multiplyExact(len, w)];
+      int[] ids = new int[len];
+      int i = 0;
+      while (i < len) {
+        Segment s = segs.get(si);
+        if (so == s.size()) {
+          si++;
+          so = 0;
+          continue;
+        }
+        int id = s.id(so);
+        if (!deleted.contains(id)) {
+          System.arraycopy(s.codes().words(), so * w, words, i * w, w);
+          ids[i++] = id;
+        }
+        so++;
+      }
+      out.add(Segment.write(io, dir, m.uuid(), segId, new CodeBlock(m.layout(), len, words), ids));
+      if (kept != null)
+        mags.put(segId, Magnitudes.write(io, dir, m.uuid(), m.layout().hash(), segId,
+            len == total ? kept : rows(kept, at, len)));
+      segId++;
+      at += len;
+    }
+    out.addAll(m.segments().subList(to, m.segments().size()));
+    return new Manifest(m.generation(), m.uuid(), m.layout(), m.nextId(), segId, out, m.tombstones(), m.properties(),
+        m.attachments(), m.metaCommit(), mags, m.documented());
+  }
+
+  /** Rows {@code [from, from + len)} of {@code m}. */
+  private static Magnitudes rows(Magnitudes m, int from, int len) {
+    return Magnitudes.merge(List.of(m), List.of(java.util.stream.IntStream.range(from, from + len).toArray()));
+  }
+
+  /** The live rows' magnitudes of segments {@code [from, to)} in id order, or null unless every one keeps them. */
+  private Magnitudes liveMagnitudes(Manifest m, int from, int to, List<Segment> segs) {
     List<Magnitudes> parts = new ArrayList<>();
     List<int[]> ords = new ArrayList<>();
-    for (int p = 0; p < segs.size(); p++) {
-      Manifest.SegmentEntry e = manifest.segments().get(p);
-      FileRef ref = manifest.magnitudes().get(e.segmentId());
+    for (int p = from; p < to; p++) {
+      Manifest.SegmentEntry e = m.segments().get(p);
+      FileRef ref = m.magnitudes().get(e.segmentId());
       if (ref == null) return null;
-      parts.add(Magnitudes.read(dir, FileSource.DIRECT, manifest, e, ref));
-      Segment s = segs.get(p);
+      parts.add(Magnitudes.read(dir, FileSource.DIRECT, m, e, ref, ChecksummedFile.Check.FULL));
+      Segment s = segs.get(p - from);
       ords.add(java.util.stream.IntStream.range(0, s.size()).filter(o -> !deleted.contains(s.id(o))).toArray());
     }
     return parts.isEmpty() ? null : Magnitudes.merge(parts, ords);
@@ -254,7 +380,7 @@ public final class IndexWriter implements AutoCloseable {
     ensureOpen();
     if (name == null || name.isEmpty() || name.length() > 1000) throw new BadInputException("attachment name '" + name + "' is empty or too long");
     mutate(() -> {
-      FileRef ref = Attachments.write(dir, manifest.generation() + 1, manifest, name, content);
+      FileRef ref = Attachments.write(io, dir, manifest.generation() + 1, manifest, name, content);
       Map<String, FileRef> att = new LinkedHashMap<>(manifest.attachments());
       att.put(name, ref);
       publish(manifest.next(manifest.nextId(), manifest.nextSegmentId(), manifest.segments(), manifest.tombstones(),
@@ -266,7 +392,10 @@ public final class IndexWriter implements AutoCloseable {
     void run() throws IOException;
   }
 
-  /** Runs a change after validation; any failure closes the writer (disk keeps the last commit). */
+  /**
+   * Runs a change after validation; any failure closes the writer (disk keeps the last commit) and
+   * removes the files the change wrote, unless its manifest may already be on disk.
+   */
   private void mutate(Mutation m) {
     try {
       m.run();
@@ -281,17 +410,40 @@ public final class IndexWriter implements AutoCloseable {
 
   private void fail(Throwable cause) {
     try {
+      if (newestOnDisk() == manifest.generation()) deleteUnreferenced();
+    } catch (IOException | RuntimeException e) {
+      cause.addSuppressed(e);
+    }
+    try {
       close();
     } catch (RuntimeException e) {
       cause.addSuppressed(e);
     }
   }
 
+  private long newestOnDisk() {
+    return Manifest.newestGeneration(dir);
+  }
+
+  /**
+   * Publishes {@code next}. Once its manifest is renamed into place the commit stands: a failure
+   * to make that durable still fails the call, but a failure to delete the old files afterwards
+   * is only a warning ({@link #takeWarnings()}).
+   */
   private void publish(Manifest next) throws IOException {
-    next.commit(dir);
+    next.commit(io, dir);
     manifest = next;
-    meta.published(next.metaCommit());
-    deleteUnreferenced();
+    cleanUp();
+  }
+
+  private void cleanUp() {
+    try {
+      meta.published(manifest.metaCommit());
+      deleteUnreferenced();
+    } catch (IOException | RuntimeException e) {
+      warnings.add("index " + dir + ": committed generation " + manifest.generation()
+          + ", but old files could not be deleted (the next change retries): " + e.getMessage());
+    }
   }
 
   /** Deletes our files that the current manifest does not name (old generations, crash leftovers). */
@@ -302,7 +454,7 @@ public final class IndexWriter implements AutoCloseable {
     try (Stream<Path> files = Files.list(dir)) {
       for (Path p : (Iterable<Path>) files::iterator) {
         String name = p.getFileName().toString();
-        if (OWN_FILE.matcher(name).matches() && !keep.contains(name)) Files.deleteIfExists(p);
+        if (OWN_FILE.matcher(name).matches() && !keep.contains(name)) io.delete(p);
       }
     }
   }

@@ -196,8 +196,8 @@ public final class Magnitudes {
   }
 
   /** Writes {@code m} as the magnitudes file of segment {@code segmentId}. */
-  static FileRef write(Path dir, UUID uuid, int layoutHash, int segmentId, Magnitudes m) throws IOException {
-    try (ChecksummedFile.Out out = ChecksummedFile.create(dir.resolve(fileName(segmentId)), CODEC, VERSION_CURRENT,
+  static FileRef write(StoreIo io, Path dir, UUID uuid, int layoutHash, int segmentId, Magnitudes m) throws IOException {
+    try (ChecksummedFile.Out out = ChecksummedFile.create(io, dir.resolve(fileName(segmentId)), CODEC, VERSION_CURRENT,
         layoutHash, uuid)) {
       out.writeInt(segmentId);
       out.writeInt(m.count);
@@ -211,10 +211,11 @@ public final class Magnitudes {
   }
 
   /** Reads and checks the magnitudes file of manifest segment {@code e}. */
-  static Magnitudes read(Path dir, FileSource src, Manifest m, Manifest.SegmentEntry e, FileRef ref) {
+  static Magnitudes read(Path dir, FileSource src, Manifest m, Manifest.SegmentEntry e, FileRef ref,
+      ChecksummedFile.Check level) {
     Path file = dir.resolve(ref.name());
     ChecksummedFile.In in = ChecksummedFile.check(file, src.bytes(file), CODEC, VERSION_START, VERSION_CURRENT,
-        m.layout().hash(), m.uuid(), ref);
+        m.layout().hash(), m.uuid(), ref, level);
     int segId = in.getInt("segmentId");
     if (segId != e.segmentId()) throw in.error("segmentId is " + segId + ", the manifest says " + e.segmentId());
     int n = in.getCount("count", Integer.MAX_VALUE);

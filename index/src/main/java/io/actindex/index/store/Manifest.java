@@ -4,11 +4,8 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeLayout;
 import java.io.IOException;
 import java.io.UncheckedIOException;
-import java.nio.channels.FileChannel;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
-import java.nio.file.StandardOpenOption;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -43,15 +40,19 @@ import java.util.stream.Stream;
  * version 2 adds:
  * int     magnitudes count, then (int segmentId, FileRef magnitudes) by ascending segmentId: the
  *         {@link Magnitudes} file of each listed segment (every segmentId must be a listed segment)
+ * version 3 adds:
+ * int     documented range count R, then R times int firstId, int endId: the ids that have a
+ *         metadata document (ascending, disjoint, non-adjacent, inside [0, nextId)); every other id
+ *         has only its synthesized key "row-ID" and no document. Versions 1 and 2: every id.
  * </pre>
  * Version 1 manifests (no magnitudes) are still read.
  */
 public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId, int nextSegmentId,
     List<SegmentEntry> segments, FileRef tombstones, Map<String, String> properties,
-    Map<String, FileRef> attachments, String metaCommit, Map<Integer, FileRef> magnitudes) {
+    Map<String, FileRef> attachments, String metaCommit, Map<Integer, FileRef> magnitudes, List<IdRange> documented) {
 
   public static final String CODEC = "actindex.manifest";
-  static final int VERSION_START = 1, VERSION_CURRENT = 2;
+  static final int VERSION_START = 1, VERSION_CURRENT = 3;
   private static final Pattern NAME = Pattern.compile("manifest-(\\d{1,18})");
 
   /** One segment as the manifest lists it. */
@@ -63,8 +64,12 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
     }
   }
 
+  /** Ids {@code [firstId, endId)}. */
+  public record IdRange(int firstId, int endId) {}
+
   public Manifest {
     segments = List.copyOf(segments);
+    documented = List.copyOf(documented);
     properties = java.util.Collections.unmodifiableMap(new TreeMap<>(properties));
     attachments = java.util.Collections.unmodifiableMap(new TreeMap<>(attachments));
     magnitudes = java.util.Collections.unmodifiableMap(new TreeMap<>(magnitudes == null ? Map.of() : magnitudes));
@@ -73,7 +78,8 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
   /** A generation without kept magnitudes. */
   public Manifest(long generation, UUID uuid, CodeLayout layout, int nextId, int nextSegmentId, List<SegmentEntry> segments,
       FileRef tombstones, Map<String, String> properties, Map<String, FileRef> attachments, String metaCommit) {
-    this(generation, uuid, layout, nextId, nextSegmentId, segments, tombstones, properties, attachments, metaCommit, Map.of());
+    this(generation, uuid, layout, nextId, nextSegmentId, segments, tombstones, properties, attachments, metaCommit, Map.of(),
+        List.of());
   }
 
   /** The same generation with segment {@code segmentId}'s magnitudes file added. */
@@ -81,7 +87,7 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
     Map<Integer, FileRef> mags = new TreeMap<>(magnitudes);
     mags.put(segmentId, ref);
     return new Manifest(generation, uuid, layout, nextId, nextSegmentId, segments, tombstones, properties, attachments,
-        metaCommit, mags);
+        metaCommit, mags, documented);
   }
 
   /** A copy with the given changes and generation + 1 (magnitudes kept for the segments that remain). */
@@ -90,7 +96,24 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
     Map<Integer, FileRef> mags = new TreeMap<>();
     for (SegmentEntry s : segments) if (magnitudes.containsKey(s.segmentId())) mags.put(s.segmentId(), magnitudes.get(s.segmentId()));
     return new Manifest(generation + 1, uuid, layout, nextId, nextSegmentId, segments, tombstones, properties,
-        attachments, metaCommit, mags);
+        attachments, metaCommit, mags, documented);
+  }
+
+  /** A copy that also lists ids {@code [first, end)} as documented. */
+  Manifest withDocumented(int first, int end) {
+    List<IdRange> out = new ArrayList<>(documented);
+    IdRange last = out.isEmpty() ? null : out.get(out.size() - 1);
+    if (last != null && last.endId() == first) out.set(out.size() - 1, new IdRange(last.firstId(), end));
+    else out.add(new IdRange(first, end));
+    return new Manifest(generation, uuid, layout, nextId, nextSegmentId, segments, tombstones, properties, attachments,
+        metaCommit, magnitudes, out);
+  }
+
+  /** The ids that have a metadata document (deleted ones included). */
+  public org.roaringbitmap.RoaringBitmap documentedIds() {
+    org.roaringbitmap.RoaringBitmap b = new org.roaringbitmap.RoaringBitmap();
+    for (IdRange r : documented) b.add((long) r.firstId(), (long) r.endId());
+    return b;
   }
 
   public static String fileName(long generation) {
@@ -120,6 +143,8 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
       }
     } catch (java.nio.file.NoSuchFileException e) {
       throw new BadInputException("index folder " + dir + " does not exist");
+    } catch (java.nio.file.NotDirectoryException e) {
+      throw new BadInputException("index folder " + dir + " is not a folder");
     } catch (IOException e) {
       throw new UncheckedIOException("cannot list " + dir, e);
     }
@@ -178,8 +203,23 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
         mags.put(segId, ref(in, "magnitudes " + i));
       }
     }
+    List<IdRange> documented = new ArrayList<>();
+    if (in.header().version() < 3) {
+      if (nextId > 0) documented.add(new IdRange(0, nextId));
+    } else {
+      int nRanges = in.getCount("documented range count", nextId);
+      int prev = -1;
+      for (int i = 0; i < nRanges; i++) {
+        int first = in.getInt("documented range " + i + " firstId"), end = in.getInt("documented range " + i + " endId");
+        if (first <= prev || end <= first || end > nextId)
+          throw in.error("documented range " + i + " [" + first + "," + end + ") is not ascending inside [0," + nextId + ")");
+        documented.add(new IdRange(first, end));
+        prev = end;
+      }
+    }
     in.end();
-    return new Manifest(gen, in.header().uuid(), layout, nextId, nextSegmentId, segs, tomb, props, att, metaCommit, mags);
+    return new Manifest(gen, in.header().uuid(), layout, nextId, nextSegmentId, segs, tomb, props, att, metaCommit,
+        mags, documented);
   }
 
   private static FileRef ref(ChecksummedFile.In in, String field) {
@@ -194,9 +234,9 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
   }
 
   /** Writes this generation durably: temp file, fsync, atomic rename, fsync of the folder. */
-  public void commit(Path dir) throws IOException {
+  public void commit(StoreIo io, Path dir) throws IOException {
     Path tmp = dir.resolve(fileName(generation) + ".tmp");
-    try (ChecksummedFile.Out out = ChecksummedFile.create(tmp, CODEC, VERSION_CURRENT, layout.hash(), uuid)) {
+    try (ChecksummedFile.Out out = ChecksummedFile.create(io, tmp, CODEC, VERSION_CURRENT, layout.hash(), uuid)) {
       out.writeLong(generation);
       out.writeString(layout.toString());
       out.writeInt(nextId);
@@ -228,10 +268,15 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
         out.writeInt(e.getKey());
         writeRef(out, e.getValue());
       }
+      out.writeInt(documented.size());
+      for (IdRange r : documented) {
+        out.writeInt(r.firstId());
+        out.writeInt(r.endId());
+      }
       out.finish();
     }
-    Files.move(tmp, dir.resolve(fileName(generation)), StandardCopyOption.ATOMIC_MOVE);
-    fsyncDir(dir);
+    io.move(tmp, dir.resolve(fileName(generation)));
+    io.syncDir(dir);
   }
 
   private static void writeRef(ChecksummedFile.Out out, FileRef r) throws IOException {
@@ -240,10 +285,4 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
     out.writeInt(r.crc());
   }
 
-  /** Makes renames and new directory entries in {@code dir} durable. */
-  static void fsyncDir(Path dir) throws IOException {
-    try (FileChannel ch = FileChannel.open(dir, StandardOpenOption.READ)) {
-      ch.force(true);
-    }
-  }
 }

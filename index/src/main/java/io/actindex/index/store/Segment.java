@@ -12,6 +12,7 @@ import java.io.IOException;
 import java.nio.file.Path;
 import java.util.Arrays;
 import java.util.UUID;
+import org.roaringbitmap.RoaringBitmap;
 
 /**
  * An immutable segment: codes with their global ids, and the exact searcher over them. Ordinals are
@@ -48,11 +49,9 @@ public final class Segment {
   private final int[] ids; // null when contiguous
   private final CodeSearcher searcher;
   private final long bytes;
-  private final SearcherStats stats;
+  private volatile SearcherStats stats; // computed when first asked (info), not at open
 
-  private Segment(int segmentId, CodeBlock codes, int firstId, int[] ids, CodeSearcher searcher, long bytes,
-      SearcherStats stats) {
-    this.stats = stats;
+  private Segment(int segmentId, CodeBlock codes, int firstId, int[] ids, CodeSearcher searcher, long bytes) {
     this.segmentId = segmentId;
     this.codes = codes;
     this.firstId = firstId;
@@ -78,14 +77,15 @@ public final class Segment {
    * Writes the two files of a new segment and returns its manifest entry. {@code ids} holds the
    * ascending global ids of the codes (may be contiguous; then it is stored as a range).
    */
-  static Manifest.SegmentEntry write(Path dir, UUID uuid, int segmentId, CodeBlock codes, int[] ids) throws IOException {
+  static Manifest.SegmentEntry write(StoreIo io, Path dir, UUID uuid, int segmentId, CodeBlock codes, int[] ids)
+      throws IOException {
     CodeLayout layout = codes.layout();
     int n = codes.size();
     if (ids.length != n) throw new IllegalArgumentException(ids.length + " ids for " + n + " codes");
     boolean contiguous = n == 0 || ids[n - 1] - ids[0] == n - 1;
     int firstId = n == 0 ? 0 : ids[0];
     FileRef codesRef;
-    try (ChecksummedFile.Out out = ChecksummedFile.create(dir.resolve(codesName(segmentId)), CODES_CODEC,
+    try (ChecksummedFile.Out out = ChecksummedFile.create(io, dir.resolve(codesName(segmentId)), CODES_CODEC,
         VERSION_CURRENT, layout.hash(), uuid)) {
       out.writeInt(segmentId);
       out.writeInt(n);
@@ -95,14 +95,14 @@ public final class Segment {
         out.writeInt(firstId);
       } else {
         out.writeByte(EXPLICIT);
-        for (int id : ids) out.writeInt(id);
+        writeInts(out, ids);
       }
-      for (long word : codes.words()) out.writeLong(word);
+      writeLongs(out, codes.words());
       codesRef = out.finish();
     }
     CodeSearcher searcher = buildSearcher(codes);
     FileRef tablesRef;
-    try (ChecksummedFile.Out out = ChecksummedFile.create(dir.resolve(tablesName(segmentId)), TABLES_CODEC,
+    try (ChecksummedFile.Out out = ChecksummedFile.create(io, dir.resolve(tablesName(segmentId)), TABLES_CODEC,
         VERSION_CURRENT, layout.hash(), uuid)) {
       out.writeInt(segmentId);
       out.writeByte(KIND_SEARCHERS);
@@ -113,12 +113,45 @@ public final class Segment {
     return new Manifest.SegmentEntry(segmentId, n, firstId, endId, codesRef, tablesRef);
   }
 
-  /** Reads and verifies both files of a manifest's segment. */
-  static Segment read(Path dir, FileSource src, Manifest m, Manifest.SegmentEntry e) {
+  /** The most codes of {@code words} words one segment may hold for a codes file of at most {@code maxBytes}. */
+  static int maxCodes(long maxBytes, int words) {
+    long perCode = 8L * words + 4; // the code and, at worst, its explicit id
+    long fit = Math.max(1, (maxBytes - 256) / perCode);
+    return (int) Math.min(fit, (Integer.MAX_VALUE - 8) / words);
+  }
+
+  private static void writeLongs(java.io.DataOutput out, long[] a) throws IOException {
+    java.nio.ByteBuffer buf = java.nio.ByteBuffer.allocate(1 << 16);
+    for (int from = 0; from < a.length; ) {
+      int len = Math.min(buf.capacity() / 8, a.length - from);
+      buf.clear();
+      buf.asLongBuffer().put(a, from, len);
+      out.write(buf.array(), 0, 8 * len);
+      from += len;
+    }
+  }
+
+  private static void writeInts(java.io.DataOutput out, int[] a) throws IOException {
+    java.nio.ByteBuffer buf = java.nio.ByteBuffer.allocate(1 << 16);
+    for (int from = 0; from < a.length; ) {
+      int len = Math.min(buf.capacity() / 4, a.length - from);
+      buf.clear();
+      buf.asIntBuffer().put(a, from, len);
+      out.write(buf.array(), 0, 4 * len);
+      from += len;
+    }
+  }
+
+  /**
+   * Reads both files of a manifest's segment. {@link ChecksummedFile.Check#OPEN} checks headers,
+   * lengths, footers and every count and range; {@link ChecksummedFile.Check#FULL} also every
+   * byte's CRC and every table key against the codes.
+   */
+  static Segment read(Path dir, FileSource src, Manifest m, Manifest.SegmentEntry e, ChecksummedFile.Check level) {
     CodeLayout layout = m.layout();
     Path codesFile = dir.resolve(e.codes().name()), tablesFile = dir.resolve(e.tables().name());
     ChecksummedFile.In in = ChecksummedFile.check(codesFile, src.bytes(codesFile), CODES_CODEC, VERSION_START,
-        VERSION_CURRENT, layout.hash(), m.uuid(), e.codes());
+        VERSION_CURRENT, layout.hash(), m.uuid(), e.codes(), level);
     int segId = in.getInt("segmentId");
     if (segId != e.segmentId()) throw in.error("segmentId is " + segId + ", the manifest says " + e.segmentId());
     int n = in.getCount("count", Integer.MAX_VALUE);
@@ -153,7 +186,7 @@ public final class Segment {
       throw in.error(ex.getMessage());
     }
     ChecksummedFile.In t = ChecksummedFile.check(tablesFile, src.bytes(tablesFile), TABLES_CODEC, VERSION_START,
-        VERSION_CURRENT, layout.hash(), m.uuid(), e.tables());
+        VERSION_CURRENT, layout.hash(), m.uuid(), e.tables(), level);
     int tSeg = t.getInt("segmentId");
     if (tSeg != e.segmentId()) throw t.error("segmentId is " + tSeg + ", the manifest says " + e.segmentId());
     byte kind = t.getByte("searcher kind");
@@ -164,7 +197,7 @@ public final class Segment {
     } else if (kind == KIND_SEARCHERS) {
       DataInputStream payload = t.rest();
       try {
-        searcher = Searchers.read(payload, codes);
+        searcher = Searchers.read(payload, codes, level == ChecksummedFile.Check.FULL);
         if (payload.available() != 0) throw t.error(payload.available() + " bytes follow the tables payload");
       } catch (BadInputException ex) {
         throw ex.getMessage().contains(t.file().toString()) ? ex : t.error("tables payload: " + ex.getMessage());
@@ -174,8 +207,7 @@ public final class Segment {
     } else {
       throw t.error("unknown searcher kind " + kind);
     }
-    return new Segment(e.segmentId(), codes, firstId, ids, searcher, e.codes().length() + e.tables().length(),
-        Searchers.stats(searcher));
+    return new Segment(e.segmentId(), codes, firstId, ids, searcher, e.codes().length() + e.tables().length());
   }
 
   public int segmentId() {
@@ -196,12 +228,23 @@ public final class Segment {
 
   /** Bit plan and table occupancy of the segment's searcher. */
   public SearcherStats stats() {
-    return stats;
+    SearcherStats st = stats;
+    if (st == null) stats = st = Searchers.stats(searcher);
+    return st;
   }
 
   /** Bytes of the segment's two files. */
   public long bytes() {
     return bytes;
+  }
+
+  /** Codes of this segment whose id is not in {@code deleted}. */
+  long liveCount(RoaringBitmap deleted) {
+    if (deleted.isEmpty()) return size();
+    if (ids == null) return size() - deleted.rangeCardinality(firstId, (long) firstId + size());
+    long live = 0;
+    for (int id : ids) if (!deleted.contains(id)) live++;
+    return live;
   }
 
   /** Global id of local ordinal {@code ord}. */

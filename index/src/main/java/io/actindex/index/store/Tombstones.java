@@ -28,9 +28,9 @@ final class Tombstones {
     return "tomb-" + generation + ".bits";
   }
 
-  static FileRef write(Path dir, long generation, Manifest m, int nextId, RoaringBitmap deleted) throws IOException {
+  static FileRef write(StoreIo io, Path dir, long generation, Manifest m, int nextId, RoaringBitmap deleted) throws IOException {
     deleted.runOptimize();
-    try (ChecksummedFile.Out out = ChecksummedFile.create(dir.resolve(fileName(generation)), CODEC, VERSION_CURRENT,
+    try (ChecksummedFile.Out out = ChecksummedFile.create(io, dir.resolve(fileName(generation)), CODEC, VERSION_CURRENT,
         m.layout().hash(), m.uuid())) {
       out.writeInt(nextId);
       out.writeInt(deleted.serializedSizeInBytes());
@@ -39,11 +39,11 @@ final class Tombstones {
     }
   }
 
-  static RoaringBitmap read(Path dir, FileSource src, Manifest m) {
+  static RoaringBitmap read(Path dir, FileSource src, Manifest m, ChecksummedFile.Check level) {
     if (m.tombstones() == null) return new RoaringBitmap();
     Path file = dir.resolve(m.tombstones().name());
     ChecksummedFile.In in = ChecksummedFile.check(file, src.bytes(file), CODEC, VERSION_START, VERSION_CURRENT,
-        m.layout().hash(), m.uuid(), m.tombstones());
+        m.layout().hash(), m.uuid(), m.tombstones(), level);
     int nextId = in.getInt("nextId");
     if (nextId < 0 || nextId > m.nextId())
       throw in.error("written for nextId " + nextId + ", beyond the manifest's " + m.nextId());

@@ -24,7 +24,8 @@ import org.junit.jupiter.api.io.TempDir;
 import org.roaringbitmap.RoaringBitmap;
 
 /**
- * Kills a child JVM ({@link CrashChild}) at random moments while it adds, deletes and compacts,
+ * Kills a child JVM ({@link CrashChild}) at random moments while it adds (splitting at a small
+ * segment cap and merging automatically with a merge factor of 2), deletes and compacts,
  * then checks that the index opens at the last committed state (or the one being committed when
  * the kill came), with every committed code and metadata document present, and that the dead
  * writer's lock does not block the next writer. The runs chain on one folder.
@@ -46,7 +47,10 @@ class CrashTest {
     int interrupted = 0;
     for (int run = 0; run < RUNS; run++) {
       String java = Path.of(System.getProperty("java.home"), "bin", "java").toString();
-      Process p = new ProcessBuilder(java, "-Xmx256m", "-XX:TieredStopAtLevel=1", "-cp", System.getProperty("java.class.path"),
+      // merges of 2 and a small segment cap: adds split and merge automatically, so kills land in merges too
+      Process p = new ProcessBuilder(java, "-Xmx256m", "-XX:TieredStopAtLevel=1",
+          "-D" + MergePolicy.FACTOR_PROPERTY + "=2", "-D" + MergePolicy.MAX_BYTES_PROPERTY + "=4096",
+          "-cp", System.getProperty("java.class.path"),
           CrashChild.class.getName(), dir.toString(), Long.toString(rnd.nextLong()))
           .redirectError(ProcessBuilder.Redirect.DISCARD).start();
       List<String> lines = new ArrayList<>();

@@ -1,0 +1,192 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import io.actindex.cli.format.JsonWriterTest;
+import java.io.RandomAccessFile;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.SplittableRandom;
+import java.util.TreeSet;
+import java.util.stream.Stream;
+import org.junit.jupiter.api.BeforeEach;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * {@code delete}, {@code compact} and {@code check} through the command line: deletes by keys
+ * (documented and synthesized "row-ID" keys) and by filter, compaction, then nearest compared with
+ * a bit-by-bit scan written here; every bad input exits 2 with one line naming the file or option
+ * and leaves the index byte-identical; readers never create a missing {@code meta/} folder.
+ */
+class StorageCommandsEndToEndTest {
+  @TempDir Path tmp;
+  Path idx;
+  boolean[][] codes;
+  TreeSet<Integer> live = new TreeSet<>();
+
+  @BeforeEach
+  void buildIndex() {
+    SplittableRandom rnd = new SplittableRandom(11);
+    codes = new boolean[300][70];
+    for (boolean[] c : codes) for (int b = 0; b < c.length; b++) c[b] = rnd.nextInt(b % 5 == 0 ? 10 : 2) == 0;
+    boolean[][] first = java.util.Arrays.copyOfRange(codes, 0, 200), second = java.util.Arrays.copyOfRange(codes, 200, 300);
+    List<String> meta = new ArrayList<>(List.of("key,label"));
+    for (int i = 0; i < 200; i++) meta.add("k" + i + "," + (i % 3 == 0 ? "a" : "b"));
+    idx = tmp.resolve("idx");
+    ok(Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c1.npy"), first).toString(),
+        "--meta", Files2.text(tmp.resolve("m1.csv"), meta).toString()));
+    ok(Cli.run("add", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("c2.npy"), second).toString()));
+    for (int i = 0; i < 300; i++) live.add(i);
+  }
+
+  private static Cli.Result ok(Cli.Result r) {
+    assertThat(r.code()).as(r.describe()).isZero();
+    return r;
+  }
+
+  private static JsonNode json(Cli.Result r) throws Exception {
+    ok(r);
+    return JsonWriterTest.STRICT.readTree(r.out());
+  }
+
+  @Test
+  void deleteCompactAndCheckKeepSearchExact() throws Exception {
+    Path keys = Files2.text(tmp.resolve("keys.txt"), List.of("k5", "", "row-250", "k7"));
+    JsonNode d = json(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json"));
+    assertThat(d.get("deleted").asInt()).isEqualTo(3);
+    live.removeAll(List.of(5, 7, 250));
+    d = json(Cli.run("delete", "--index", idx.toString(), "--where", "label = a", "--format", "json"));
+    int labelledA = 0;
+    for (int i = 0; i < 200; i += 3) if (live.remove(i)) labelledA++;
+    assertThat(d.get("deleted").asInt()).isEqualTo(labelledA);
+    assertThat(d.get("live").asInt()).isEqualTo(live.size());
+    nearestMatchesScan();
+
+    JsonNode c = json(Cli.run("compact", "--index", idx.toString(), "--format", "json"));
+    assertThat(c.get("stored_after").asInt()).isEqualTo(live.size());
+    assertThat(c.get("segments_after").asInt()).isLessThanOrEqualTo(c.get("segments_before").asInt());
+    nearestMatchesScan();
+
+    JsonNode report = json(Cli.run("check", "--index", idx.toString(), "--format", "json"));
+    assertThat(report.get("ok").asBoolean()).isTrue();
+    List<String> names = new ArrayList<>();
+    report.get("files").forEach(f -> names.add(f.get("file").asText()));
+    assertThat(names).anyMatch(n -> n.endsWith(".codes")).anyMatch(n -> n.endsWith(".tables"))
+        .anyMatch(n -> n.startsWith("meta/")).contains("index");
+  }
+
+  private void nearestMatchesScan() throws Exception {
+    boolean[][] queries = {codes[1], codes[250], codes[299]};
+    JsonNode doc = json(Cli.run("nearest", "--index", idx.toString(), "--codes",
+        Files2.bits(tmp.resolve("q" + System.nanoTime() + ".npy"), queries).toString(), "-k", "6", "--format", "json"));
+    for (int q = 0; q < queries.length; q++) {
+      List<int[]> want = new ArrayList<>();
+      for (int id : live) want.add(new int[] {distance(queries[q], codes[id]), id});
+      want.sort((a, b) -> a[0] != b[0] ? Integer.compare(a[0], b[0]) : Integer.compare(a[1], b[1]));
+      JsonNode got = doc.get("results").get(q).get("neighbors");
+      assertThat(got.size()).isEqualTo(6);
+      for (int i = 0; i < 6; i++) {
+        assertThat(got.get(i).get("id").asInt()).as("query " + q + " rank " + i).isEqualTo(want.get(i)[1]);
+        assertThat(got.get(i).get("distance").asInt()).isEqualTo(want.get(i)[0]);
+        int id = want.get(i)[1];
+        assertThat(got.get(i).get("key").asText()).isEqualTo(id < 200 ? "k" + id : "row-" + id);
+      }
+    }
+  }
+
+  private static int distance(boolean[] a, boolean[] b) {
+    int d = 0;
+    for (int i = 0; i < a.length; i++) if (a[i] != b[i]) d++;
+    return d;
+  }
+
+  private static void refused(Cli.Result r, String mention) {
+    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n").doesNotContain("\tat ").contains(mention);
+  }
+
+  @Test
+  void badInputsAreRefusedAndLeaveTheIndexUnchanged() throws Exception {
+    Map<String, String> before = Files2.checksums(idx);
+    Path unknown = Files2.text(tmp.resolve("unknown.txt"), List.of("k1", "nope"));
+    Cli.Result r = Cli.run("delete", "--index", idx.toString(), "--keys", unknown.toString());
+    refused(r, "unknown.txt");
+    assertThat(r.err()).contains("line 2").contains("nope");
+    refused(Cli.run("delete", "--index", idx.toString(), "--keys", tmp.resolve("missing.txt").toString()), "missing.txt");
+    Path latin1 = Files2.write(tmp.resolve("latin1.txt"), new byte[] {'k', (byte) 0xe9, '\n'});
+    refused(Cli.run("delete", "--index", idx.toString(), "--keys", latin1.toString()), "latin1.txt");
+    refused(Cli.run("delete", "--index", idx.toString(), "--where", "label = "), "where");
+    refused(Cli.run("delete", "--index", idx.toString(), "--where", "nosuchfield = 1"), "nosuchfield");
+    // option conflicts are usage errors: exit 2, the error and the usual "--help" hint
+    for (Cli.Result u : List.of(Cli.run("delete", "--index", idx.toString()),
+        Cli.run("delete", "--index", idx.toString(), "--keys", unknown.toString(), "--where", "label = a"))) {
+      assertThat(u.code()).as(u.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(u.err()).as(u.describe()).contains("--keys").contains("--where").doesNotContain("\tat ");
+    }
+    for (String cmd : List.of("delete", "compact", "check")) {
+      List<String> args = new ArrayList<>(List.of(cmd, "--index", tmp.resolve("no-such-index").toString()));
+      if (cmd.equals("delete")) args.addAll(List.of("--where", "label = a"));
+      refused(Cli.run(args.toArray(String[]::new)), "no-such-index");
+      Path file = Files2.text(tmp.resolve("plain-file"), List.of("x"));
+      args.set(2, file.toString());
+      refused(Cli.run(args.toArray(String[]::new)), "plain-file");
+    }
+    Path plain = Files2.text(tmp.resolve("plain-file"), List.of("x"));
+    refused(Cli.run("build", "--out", plain.resolve("idx").toString(), "--codes",
+        Files2.bits(tmp.resolve("one.npy"), new boolean[][] {codes[0]}).toString()), "plain-file");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+  }
+
+  @Test
+  void checkNamesADamagedFileAndChangesNothing() throws Exception {
+    Path codesFile;
+    try (Stream<Path> s = Files.list(idx)) {
+      codesFile = s.filter(p -> p.getFileName().toString().endsWith(".codes")).findFirst().orElseThrow();
+    }
+    try (RandomAccessFile raf = new RandomAccessFile(codesFile.toFile(), "rw")) {
+      long pos = raf.length() / 2;
+      raf.seek(pos);
+      int b = raf.read();
+      raf.seek(pos);
+      raf.write(b ^ 4);
+    }
+    Map<String, String> before = Files2.checksums(idx);
+    Cli.Result r = Cli.run("check", "--index", idx.toString());
+    refused(r, codesFile.getFileName().toString());
+    assertThat(r.out()).contains("DAMAGED").contains(codesFile.getFileName().toString());
+    JsonNode doc = JsonWriterTest.STRICT.readTree(Cli.run("check", "--index", idx.toString(), "--format", "json").out());
+    assertThat(doc.get("ok").asBoolean()).isFalse();
+    refused(Cli.run("compact", "--index", idx.toString()), codesFile.getFileName().toString()); // merges check every byte
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+  }
+
+  @Test
+  void readersNeverCreateAMissingMetaFolderAndAFolderManifestIsRefused() throws Exception {
+    Path q = Files2.bits(tmp.resolve("q.npy"), new boolean[][] {codes[0]});
+    Path meta = idx.resolve("meta");
+    try (Stream<Path> s = Files.walk(meta)) {
+      for (Path p : s.sorted(java.util.Comparator.reverseOrder()).toList()) Files.delete(p);
+    }
+    refused(Cli.run("nearest", "--index", idx.toString(), "--codes", q.toString()), "meta");
+    assertThat(meta).doesNotExist();
+    refused(Cli.run("check", "--index", idx.toString()), "meta");
+    assertThat(meta).doesNotExist();
+
+    Path other = tmp.resolve("other");
+    ok(Cli.run("build", "--out", other.toString(), "--codes", q.toString()));
+    String newest;
+    try (Stream<Path> s = Files.list(other)) {
+      newest = s.map(p -> p.getFileName().toString()).filter(n -> n.matches("manifest-\\d+"))
+          .max(java.util.Comparator.comparingLong(n -> Long.parseLong(n.substring(9)))).orElseThrow();
+    }
+    Path folder = other.resolve("manifest-" + (Long.parseLong(newest.substring(9)) + 1));
+    Files.createDirectory(folder);
+    refused(Cli.run("nearest", "--index", other.toString(), "--codes", q.toString()), folder.getFileName().toString());
+    refused(Cli.run("check", "--index", other.toString()), folder.getFileName().toString());
+  }
+}

@@ -1,0 +1,121 @@
+package io.actindex.index.store;
+
+import io.actindex.core.BadInputException;
+import io.actindex.index.meta.MetaStore;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+
+/**
+ * Verifies every byte of an index folder's newest generation: the CRC32 of every file the manifest
+ * names, every table key against its codes, Lucene's checksum of every file of the metadata commit,
+ * then the cross-file counts that opening checks. Unlike {@link IndexReader#open}, it reads big
+ * files in full, and it keeps going after a damaged file so the report lists every file. Never
+ * writes.
+ */
+public final class IndexCheck {
+  private IndexCheck() {}
+
+  /** One file: its path relative to the folder, its size, and what is wrong (null when sound). */
+  public record FileResult(String file, long bytes, String problem) {
+    public boolean ok() {
+      return problem == null;
+    }
+  }
+
+  /** Every file checked, in manifest order, then the metadata files and the cross-file check ("index"). */
+  public record Report(Path dir, long generation, List<FileResult> files) {
+    public Report {
+      files = List.copyOf(files);
+    }
+
+    public boolean ok() {
+      return files.stream().allMatch(FileResult::ok);
+    }
+
+    /** The first damaged entry, or null. */
+    public FileResult firstDamaged() {
+      return files.stream().filter(f -> !f.ok()).findFirst().orElse(null);
+    }
+  }
+
+  /** Checks {@code dir}; BadInputException only when it holds no index at all. */
+  public static Report run(Path dir) {
+    if (!Files.isDirectory(dir)) throw new BadInputException("index folder " + dir + " does not exist or is not a folder");
+    long gen = Manifest.newestGeneration(dir);
+    if (gen < 0) throw new BadInputException("no index in " + dir + ": no manifest-N file");
+    List<FileResult> out = new ArrayList<>();
+    String manifestName = Manifest.fileName(gen);
+    Manifest m;
+    try {
+      m = Manifest.read(dir, gen);
+      out.add(new FileResult(manifestName, size(dir.resolve(manifestName)), null));
+    } catch (BadInputException e) {
+      out.add(new FileResult(manifestName, size(dir.resolve(manifestName)), e.getMessage()));
+      return new Report(dir, gen, out);
+    }
+    List<Path> files = new ArrayList<>();
+    for (FileRef f : m.files()) files.add(dir.resolve(f.name()));
+    boolean filesOk = true;
+    try (FileSource.Pinned src = FileSource.pin(files.stream().filter(Files::isRegularFile).toList())) {
+      for (Manifest.SegmentEntry e : m.segments()) {
+        String codes = e.codes().name(), tables = e.tables().name();
+        String problem = problem(() -> Segment.read(dir, src, m, e, ChecksummedFile.Check.FULL));
+        boolean codesBad = problem != null && problem.contains(dir.resolve(codes).toString());
+        out.add(new FileResult(codes, size(dir.resolve(codes)), codesBad ? problem : null));
+        out.add(new FileResult(tables, size(dir.resolve(tables)),
+            codesBad ? "not checked: its codes file is damaged" : problem));
+        filesOk &= problem == null;
+        FileRef mags = m.magnitudes().get(e.segmentId());
+        if (mags != null) {
+          String mp = problem(() -> Magnitudes.read(dir, src, m, e, mags, ChecksummedFile.Check.FULL));
+          out.add(new FileResult(mags.name(), size(dir.resolve(mags.name())), mp));
+          filesOk &= mp == null;
+        }
+      }
+      if (m.tombstones() != null) {
+        String problem = problem(() -> Tombstones.read(dir, src, m, ChecksummedFile.Check.FULL));
+        out.add(new FileResult(m.tombstones().name(), size(dir.resolve(m.tombstones().name())), problem));
+        filesOk &= problem == null;
+      }
+      for (Map.Entry<String, FileRef> a : m.attachments().entrySet()) {
+        String problem = problem(() -> Attachments.read(dir, src, m, a.getKey(), ChecksummedFile.Check.FULL));
+        out.add(new FileResult(a.getValue().name(), size(dir.resolve(a.getValue().name())), problem));
+        filesOk &= problem == null;
+      }
+    }
+    Path metaDir = dir.resolve(IndexWriter.META_DIR);
+    try {
+      for (Map.Entry<String, String> f : MetaStore.checkFiles(metaDir, m.metaCommit()).entrySet()) {
+        String rel = IndexWriter.META_DIR + "/" + f.getKey();
+        out.add(new FileResult(rel, size(dir.resolve(rel)),
+            f.getValue() == null ? null : "metadata file " + dir.resolve(rel) + " is " + f.getValue()));
+        filesOk &= f.getValue() == null;
+      }
+    } catch (BadInputException e) {
+      out.add(new FileResult(IndexWriter.META_DIR, 0, e.getMessage()));
+      filesOk = false;
+    }
+    if (filesOk) out.add(new FileResult("index", 0, problem(() -> IndexReader.open(dir).close())));
+    return new Report(dir, gen, out);
+  }
+
+  private static String problem(Runnable check) {
+    try {
+      check.run();
+      return null;
+    } catch (BadInputException e) {
+      return e.getMessage();
+    }
+  }
+
+  private static long size(Path file) {
+    try {
+      return Files.size(file);
+    } catch (java.io.IOException e) {
+      return -1;
+    }
+  }
+}

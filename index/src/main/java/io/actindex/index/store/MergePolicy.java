@@ -1,0 +1,85 @@
+package io.actindex.index.store;
+
+import java.util.ArrayList;
+import java.util.List;
+
+/**
+ * When segments merge, and how big one may grow: log-structured merging (O'Neil, Cheng, Gawlick and
+ * O'Neil, "The Log-Structured Merge-Tree", Acta Informatica 1996) over adjacent segments. The index
+ * may hold {@code mergeFactor - 1} segments per level, levels counted as the logarithm (base {@code
+ * mergeFactor}) of the live codes over {@code floorCodes}: a budget that grows with the logarithm of
+ * the data. Past the budget, the window of {@code mergeFactor} adjacent segments whose largest
+ * member is smallest (and that fits under the size cap) merges into one, so small segments merge
+ * first and a big one is rewritten only when enough data has piled up beside it (choosing balanced
+ * merges is common practice in search engines). When no window fits under the cap, every window
+ * holds more than a cap's worth, so the count is at most {@code mergeFactor} per cap's worth.
+ *
+ * @param maxSegmentBytes cap on one segment's codes file; {@code add} and merges split or stop
+ *     there. The default keeps every array the reader allocates well inside Java's limits.
+ * @param mergeFactor segments per merge (at least 2)
+ * @param floorCodes live codes below which data counts as one level
+ */
+public record MergePolicy(long maxSegmentBytes, int mergeFactor, int floorCodes) {
+  /** System properties that override the defaults (tests lower them). */
+  public static final String MAX_BYTES_PROPERTY = "actindex.segment.maxBytes", FACTOR_PROPERTY = "actindex.merge.factor";
+  public static final long DEFAULT_MAX_SEGMENT_BYTES = 4L << 30;
+  public static final int DEFAULT_MERGE_FACTOR = 4, DEFAULT_FLOOR_CODES = 65_536;
+
+  public MergePolicy {
+    if (maxSegmentBytes < 1) throw new IllegalArgumentException("segment cap " + maxSegmentBytes + " < 1 byte");
+    if (mergeFactor < 2) throw new IllegalArgumentException("merge factor " + mergeFactor + " < 2");
+    if (floorCodes < 1) throw new IllegalArgumentException("floor " + floorCodes + " < 1");
+  }
+
+  /** The defaults, or the values of {@value #MAX_BYTES_PROPERTY} and {@value #FACTOR_PROPERTY}. */
+  public static MergePolicy defaults() {
+    return new MergePolicy(Long.getLong(MAX_BYTES_PROPERTY, DEFAULT_MAX_SEGMENT_BYTES),
+        Integer.getInteger(FACTOR_PROPERTY, DEFAULT_MERGE_FACTOR), DEFAULT_FLOOR_CODES);
+  }
+
+  /** The most codes one segment of codes with {@code words} words may hold. */
+  public int maxCodes(int words) {
+    return Segment.maxCodes(maxSegmentBytes, words);
+  }
+
+  /** Segments the index may hold for {@code liveCodes} live codes before it merges. */
+  int budget(long liveCodes) {
+    int levels = 1 + (int) Math.floor(Math.log((double) Math.max(liveCodes, floorCodes) / floorCodes) / Math.log(mergeFactor));
+    return (mergeFactor - 1) * levels;
+  }
+
+  /**
+   * The next window of adjacent segments to merge, as [from, to) indices into {@code live} (live
+   * codes per segment, in id order), or null when the count is within the budget or no window fits.
+   */
+  int[] next(List<Long> live, int words) {
+    long total = 0;
+    for (long l : live) total += l;
+    if (live.size() <= budget(total)) return null;
+    int f = mergeFactor, max = maxCodes(words);
+    int best = -1;
+    long bestMax = Long.MAX_VALUE, bestSum = Long.MAX_VALUE;
+    for (int from = 0; from + f <= live.size(); from++) {
+      long sum = 0, big = 0;
+      for (int i = from; i < from + f; i++) {
+        sum += live.get(i);
+        big = Math.max(big, live.get(i));
+      }
+      if (sum <= max && (big < bestMax || (big == bestMax && sum < bestSum))) {
+        best = from;
+        bestMax = big;
+        bestSum = sum;
+      }
+    }
+    return best < 0 ? null : new int[] {best, best + f};
+  }
+
+  /** Splits {@code n} codes into pieces of at most {@link #maxCodes} each (lengths). */
+  List<Integer> split(int n, int words) {
+    int max = maxCodes(words);
+    List<Integer> out = new ArrayList<>();
+    int pieces = (int) ((n + (long) max - 1) / max);
+    for (int i = 0; i < pieces; i++) out.add((int) ((long) n * (i + 1) / pieces - (long) n * i / pieces));
+    return out;
+  }
+}

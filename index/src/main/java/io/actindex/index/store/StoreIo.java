@@ -1,0 +1,108 @@
+package io.actindex.index.store;
+
+import java.io.IOException;
+import java.nio.channels.FileChannel;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.nio.file.StandardCopyOption;
+import java.nio.file.StandardOpenOption;
+import org.apache.lucene.store.Directory;
+import org.apache.lucene.store.FSDirectory;
+
+/**
+ * The file operations a commit makes, in one place, so that a test can stand in for the disk and
+ * forget what was never forced to it (a power loss). {@link #REAL} is the file system.
+ */
+public interface StoreIo {
+  /** Opens {@code file} for writing, created or truncated (mode from the umask). */
+  FileChannel create(Path file) throws IOException;
+
+  /** Makes the content of {@code channel} (the file {@code file}) durable. */
+  void force(FileChannel channel, Path file) throws IOException;
+
+  /** Renames atomically, replacing {@code to}. */
+  void move(Path from, Path to) throws IOException;
+
+  /** Makes new, renamed and deleted names in {@code dir} durable. */
+  void syncDir(Path dir) throws IOException;
+
+  /** Deletes {@code file} if it exists. */
+  void delete(Path file) throws IOException;
+
+  /** The Lucene directory over {@code dir} (Lucene makes its own files durable through it). */
+  Directory lucene(Path dir) throws IOException;
+
+  StoreIo REAL = new StoreIo() {
+    @Override
+    public FileChannel create(Path file) throws IOException {
+      return FileChannel.open(file, StandardOpenOption.CREATE, StandardOpenOption.WRITE,
+          StandardOpenOption.TRUNCATE_EXISTING);
+    }
+
+    @Override
+    public void force(FileChannel channel, Path file) throws IOException {
+      channel.force(true);
+    }
+
+    @Override
+    public void move(Path from, Path to) throws IOException {
+      Files.move(from, to, StandardCopyOption.ATOMIC_MOVE);
+    }
+
+    @Override
+    public void syncDir(Path dir) throws IOException {
+      try (FileChannel ch = FileChannel.open(dir, StandardOpenOption.READ)) {
+        ch.force(true);
+      }
+    }
+
+    @Override
+    public void delete(Path file) throws IOException {
+      Files.deleteIfExists(file);
+    }
+
+    @Override
+    public Directory lucene(Path dir) throws IOException {
+      return FSDirectory.open(dir);
+    }
+  };
+
+  /** Forwards every call to a delegate; tests override the calls they observe or break. */
+  class Forwarding implements StoreIo {
+    protected final StoreIo delegate;
+
+    public Forwarding(StoreIo delegate) {
+      this.delegate = delegate;
+    }
+
+    @Override
+    public FileChannel create(Path file) throws IOException {
+      return delegate.create(file);
+    }
+
+    @Override
+    public void force(FileChannel channel, Path file) throws IOException {
+      delegate.force(channel, file);
+    }
+
+    @Override
+    public void move(Path from, Path to) throws IOException {
+      delegate.move(from, to);
+    }
+
+    @Override
+    public void syncDir(Path dir) throws IOException {
+      delegate.syncDir(dir);
+    }
+
+    @Override
+    public void delete(Path file) throws IOException {
+      delegate.delete(file);
+    }
+
+    @Override
+    public Directory lucene(Path dir) throws IOException {
+      return delegate.lucene(dir);
+    }
+  }
+}

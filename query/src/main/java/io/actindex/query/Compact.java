@@ -1,0 +1,53 @@
+package io.actindex.query;
+
+import io.actindex.index.store.IndexReader;
+import io.actindex.index.store.IndexWriter;
+import java.nio.file.Path;
+import java.util.List;
+import java.util.Objects;
+
+/**
+ * Rewrites an index's segments without the codes of deleted examples, merged into as few segments
+ * as the size cap allows (one commit; every byte read is CRC-checked first). Ids do not change.
+ */
+public final class Compact {
+  private Compact() {}
+
+  public record Params(Path dir) {
+    public Params {
+      Objects.requireNonNull(dir, "dir");
+    }
+  }
+
+  /**
+   * @param segmentsBefore segments before
+   * @param segmentsAfter segments after
+   * @param storedBefore codes stored before (deleted ones included)
+   * @param storedAfter codes stored after (the live ones)
+   * @param warnings problems that did not undo the commit
+   */
+  public record Result(int segmentsBefore, int segmentsAfter, long storedBefore, long storedAfter,
+      List<String> warnings) {
+    public Result {
+      warnings = List.copyOf(warnings);
+    }
+  }
+
+  public static Result run(Params p) {
+    int segsBefore;
+    long before;
+    try (IndexReader r = IndexReader.open(p.dir())) {
+      segsBefore = r.info().segments().size();
+      before = r.info().segments().stream().mapToLong(s -> s.count()).sum();
+    }
+    List<String> warnings;
+    try (IndexWriter w = IndexWriter.open(p.dir())) {
+      w.compact();
+      warnings = w.takeWarnings();
+    }
+    try (IndexReader r = IndexReader.open(p.dir())) {
+      return new Result(segsBefore, r.info().segments().size(), before,
+          r.info().segments().stream().mapToLong(s -> s.count()).sum(), warnings);
+    }
+  }
+}

@@ -1,0 +1,96 @@
+package io.actindex.query;
+
+import io.actindex.core.BadInputException;
+import io.actindex.index.meta.MetaStore;
+import io.actindex.index.store.IndexReader;
+import io.actindex.index.store.IndexWriter;
+import java.io.IOException;
+import java.nio.ByteBuffer;
+import java.nio.charset.CharacterCodingException;
+import java.nio.charset.CodingErrorAction;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.List;
+import java.util.Objects;
+import org.roaringbitmap.RoaringBitmap;
+
+/**
+ * Deletes examples by key or by metadata filter, as one commit of tombstones (their ids are never
+ * reused; {@link Compact} drops their codes). A keys file is read and every key resolved before
+ * anything changes: an unknown key refuses the whole delete.
+ */
+public final class Delete {
+  private Delete() {}
+
+  /** Longest line of a keys file (bytes); longer lines are refused. */
+  static final int MAX_KEY_BYTES = 64 * 1024;
+
+  /** Exactly one of {@code keysFile} (one key per line, UTF-8, blank lines skipped) and {@code where}. */
+  public record Params(Path dir, Path keysFile, String where) {
+    public Params {
+      Objects.requireNonNull(dir, "dir");
+      if ((keysFile == null) == (where == null || where.isBlank()))
+        throw new IllegalArgumentException("give exactly one of a keys file and a where-expression");
+    }
+  }
+
+  /**
+   * @param matched live examples the keys or the filter named
+   * @param deleted of those, how many this call deleted (all of them: deleted ones are not live)
+   * @param live live examples after the delete
+   * @param warnings problems that did not undo the commit
+   */
+  public record Result(int matched, int deleted, int live, List<String> warnings) {
+    public Result {
+      warnings = List.copyOf(warnings);
+    }
+  }
+
+  public static Result run(Params p) {
+    RoaringBitmap ids;
+    try (IndexReader r = IndexReader.open(p.dir())) {
+      ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile()) : Where.select(r.meta(), p.where());
+    }
+    try (IndexWriter w = IndexWriter.open(p.dir())) {
+      int deleted = w.delete(ids);
+      List<String> warnings = w.takeWarnings();
+      try (IndexReader r = IndexReader.open(p.dir())) {
+        return new Result(ids.getCardinality(), deleted, r.liveCount(), warnings);
+      }
+    }
+  }
+
+  /** The ids of the keys listed in {@code file}; refuses a key that is not live in the index. */
+  static RoaringBitmap byKeys(MetaStore meta, Path file) {
+    byte[] bytes;
+    try {
+      bytes = Files.readAllBytes(file);
+    } catch (java.nio.file.NoSuchFileException e) {
+      throw new BadInputException("keys file " + file + " does not exist", e);
+    } catch (IOException e) {
+      throw new BadInputException("keys file " + file + " cannot be read: " + e.getMessage(), e);
+    }
+    String text;
+    try {
+      text = StandardCharsets.UTF_8.newDecoder().onMalformedInput(CodingErrorAction.REPORT)
+          .onUnmappableCharacter(CodingErrorAction.REPORT).decode(ByteBuffer.wrap(bytes)).toString();
+    } catch (CharacterCodingException e) {
+      throw new BadInputException("keys file " + file + " is not UTF-8 text");
+    }
+    RoaringBitmap ids = new RoaringBitmap();
+    String[] lines = text.split("\r?\n", -1);
+    for (int i = 0; i < lines.length; i++) {
+      String key = lines[i];
+      if (key.isBlank()) continue;
+      if (key.length() > MAX_KEY_BYTES)
+        throw new BadInputException("keys file " + file + " line " + (i + 1) + ": longer than " + MAX_KEY_BYTES + " characters");
+      int id = meta.idOfKey(key);
+      if (id < 0)
+        throw new BadInputException("keys file " + file + " line " + (i + 1) + ": key '" + Snippet.of(key)
+            + "' is not in the index (nothing deleted)");
+      ids.add(id);
+    }
+    return ids;
+  }
+}

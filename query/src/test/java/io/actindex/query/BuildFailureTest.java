@@ -1,0 +1,56 @@
+package io.actindex.query;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertThrows;
+
+import io.actindex.core.Randoms;
+import io.actindex.core.SyntheticCodes;
+import io.actindex.index.store.IndexReader;
+import io.actindex.index.store.StoreIo;
+import java.io.IOException;
+import java.nio.channels.FileChannel;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Arrays;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * A build that fails while writing (the disk fills up: an IOException injected at the k-th file the
+ * index creates) leaves no folder behind, so the same build run again succeeds.
+ */
+class BuildFailureTest {
+  @TempDir Path tmp;
+
+  /** The real file system, failing the {@code failAt}-th file creation. */
+  private static StoreIo fullAt(int failAt) {
+    int[] created = {0};
+    return new StoreIo.Forwarding(StoreIo.REAL) {
+      @Override
+      public FileChannel create(Path file) throws IOException {
+        if (created[0]++ == failAt) throw new IOException("No space left on device (injected)");
+        return super.create(file);
+      }
+    };
+  }
+
+  @Test
+  void failedBuildLeavesNothingAndTheRetrySucceeds() {
+    long seed = Randoms.seed(0);
+    SyntheticCodes.Sample s = SyntheticCodes.reluLike(120, 24, 16, seed);
+    Path acts = TestFiles.npyFloat32(tmp.resolve("a.npy"), 120, 40, Arrays.copyOf(s.activations(), 120 * 40));
+    // files a build creates: manifest-1.tmp, seg-0.codes, seg-0.tables, manifest-2.tmp
+    for (int k = 0; k < 4; k++) {
+      int failAt = k;
+      Path out = tmp.resolve("idx-" + failAt);
+      IndexBuilder.BuildParams p = new IndexBuilder.BuildParams(out, Source.activations(acts), null);
+      assertThrows(RuntimeException.class, () -> IndexBuilder.build(p, null, fullAt(failAt)), "fail at " + failAt);
+      assertFalse(Files.exists(out), Randoms.describe(seed) + ": a failed build at file " + failAt + " left " + out);
+      IndexBuilder.build(p, null);
+      try (IndexReader r = IndexReader.open(out)) {
+        assertEquals(120, r.liveCount());
+      }
+    }
+  }
+}
