@@ -26,10 +26,10 @@ import picocli.CommandLine.Spec;
 
 /** {@code actindex compare}: two samples compared in code space, per layer and per neuron, with a float reference. */
 @Command(name = "compare", mixinStandardHelpOptions = true,
-    description = {"Two samples of inputs compared where the model looks: kernel MMD^2 between their codes with a",
-        "permutation p-value, Wasserstein-2 with Hamming ground cost, a per-layer breakdown, the neurons whose",
-        "firing rates differ most (Benjamini-Hochberg corrected), and with float activations the Frechet",
-        "distance and Gaussian-kernel MMD^2 beside them. A statistical signal, not a guarantee."})
+    description = {"Two samples of inputs compared where the model looks: kernel MMD^2 between their codes with a"
+        + " permutation p-value, Wasserstein-2 with Hamming ground cost, a per-layer breakdown, the neurons whose"
+        + " firing rates differ most (Benjamini-Hochberg corrected), and with float activations the Frechet"
+        + " distance and Gaussian-kernel MMD^2 beside them. A statistical signal, not a guarantee."})
 final class CompareCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;

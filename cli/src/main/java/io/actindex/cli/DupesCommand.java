@@ -1,6 +1,7 @@
 package io.actindex.cli;
 
 import io.actindex.cli.format.CsvWriter;
+import io.actindex.core.BadInputException;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
 import io.actindex.index.mih.PairSink;
@@ -30,8 +31,8 @@ import picocli.CommandLine.Spec;
 
 /** {@code actindex dupes}: near-duplicate examples by Hamming distance between codes, grouped and flagged. */
 @Command(name = "dupes", mixinStandardHelpOptions = true,
-    description = {"Every pair of live examples whose codes are within --radius of each other (exact), grouped into",
-        "connected components; groups spanning several splits (leakage) or labels (conflicts) are flagged.",
+    description = {"Every pair of live examples whose codes are within --radius of each other (exact), grouped into"
+        + " connected components; groups spanning several splits (leakage) or labels (conflicts) are flagged.",
         "With --against FILE: for each row of FILE, the indexed examples within --radius."})
 final class DupesCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
@@ -119,6 +120,8 @@ final class DupesCommand implements Callable<Integer> {
     PairsFile(Path target, String header) {
       this.target = target;
       Path abs = target.toAbsolutePath();
+      if (Files.isDirectory(abs)) throw new BadInputException(target + ": is a folder; --pairs names a CSV file");
+      if (!Files.isDirectory(abs.getParent())) throw new BadInputException(target + ": its folder does not exist (--pairs)");
       this.temp = abs.resolveSibling(abs.getFileName() + ".tmp");
       try {
         w = Files.newBufferedWriter(temp, StandardCharsets.UTF_8);

@@ -39,8 +39,13 @@ public final class Main implements Callable<Integer> {
    */
   private static final java.util.logging.Logger LUCENE_LOG = java.util.logging.Logger.getLogger("org.apache.lucene");
 
+  /** Its notice that the Vector API module is not readable (plain 'java -jar') is a speed hint, not ours to print. */
+  private static final java.util.logging.Logger LUCENE_VECTOR_LOG =
+      java.util.logging.Logger.getLogger("org.apache.lucene.internal.vectorization");
+
   static {
     LUCENE_LOG.setLevel(java.util.logging.Level.WARNING);
+    LUCENE_VECTOR_LOG.setLevel(java.util.logging.Level.SEVERE);
   }
 
   @Spec CommandSpec spec;

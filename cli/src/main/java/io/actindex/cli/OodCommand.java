@@ -336,6 +336,7 @@ final class OodCommand implements Callable<Integer> {
     public Integer call() {
       for (Path p : new Path[] {roc, html})
         if (p != null && !Files.isDirectory(p.toAbsolutePath().getParent())) throw new BadInputException(p + ": its folder does not exist");
+        else if (p != null && Files.isDirectory(p)) throw new BadInputException(p + ": is a folder; --roc and --html name files");
       OodEval.Result r;
       try (IndexReader reader = IndexReader.open(index.dir)) {
         Kind k = kind != null ? kind : BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel() ? Kind.inputs : Kind.activations;

@@ -177,12 +177,15 @@ class CompareEndToEndTest {
     String one = Files2.bits(tmp.resolve("one.npy"), codes(r, 1, 16, 0)).toString();
     String nan = Files2.floats(tmp.resolve("nan.npy"), new float[][] {{1, Float.NaN}, {0, 1}}).toString();
     String fine = Files2.floats(tmp.resolve("fine.npy"), new float[][] {{1, 2}, {0, 1}}).toString();
+    String wideFloats = Files2.floats(tmp.resolve("wide-floats.npy"), new float[][] {{1, 2, 3}, {0, 1, 2}}).toString();
     List<String[]> cases = List.of(
         new String[] {"compare", "--a", a, "--b", wide, "--kind", "codes"},
         new String[] {"compare", "--a", a, "--b", one, "--kind", "codes"},
         new String[] {"compare", "--a", nan, "--b", fine},
         new String[] {"compare", "--a", a, "--b", a, "--kind", "codes", "--a-floats", nan, "--b-floats", fine},
-        new String[] {"compare", "--a", a, "--b", a, "--kind", "codes", "--permutations", "0"});
+        new String[] {"compare", "--a", a, "--b", a, "--kind", "codes", "--permutations", "0"},
+        // float samples of different widths: was an internal error (exit 1) from the Frechet distance
+        new String[] {"compare", "--a", a, "--b", a, "--kind", "codes", "--a-floats", fine, "--b-floats", wideFloats});
     for (String[] args : cases) {
       Cli.Result res = Cli.run(args);
       assertThat(res.code()).as(res.describe()).isEqualTo(2);

@@ -164,4 +164,29 @@ class DupesEndToEndTest {
       assertThat(Files2.checksums(idx)).as(r.describe()).isEqualTo(before);
     }
   }
+
+  /** --pairs onto a folder was an internal error (exit 1); into a missing folder it named the temporary file. */
+  @Test
+  void pairsOntoAFolderOrIntoAMissingFolderIsRefused() throws Exception {
+    NearestEndToEndTest.Data d = NearestEndToEndTest.data(20, 1, 3, false, 7);
+    Path idx = build(d.index(), NearestEndToEndTest.examples(d.index(), 0, "a", 7));
+    Map<String, String> before = Files2.checksums(idx);
+    Path folder = Files.createDirectories(tmp.resolve("a-folder"));
+    for (Path target : List.of(folder, tmp.resolve("missing").resolve("p.csv"))) {
+      Cli.Result r = Cli.run("dupes", "--index", idx.toString(), "--radius", "1", "--pairs", target.toString());
+      assertThat(r.code()).as(r.describe()).isEqualTo(2);
+      assertThat(r.err().strip().lines().count()).as(r.describe()).isEqualTo(1);
+      assertThat(r.err()).as(r.describe()).contains(target.toString()).doesNotContain(".tmp");
+      assertThat(Files2.checksums(idx)).as(r.describe()).isEqualTo(before);
+    }
+    assertThat(Files.isDirectory(folder)).isTrue();
+  }
+
+  /** The command list shows each command's first description line; dupes' and compare's were cut mid-sentence. */
+  @Test
+  void commandListSummariesAreWholeSentences() {
+    Cli.Result r = Cli.run("--help");
+    String flat = r.out().replaceAll("\\s+", " ");
+    assertThat(flat).as(r.describe()).contains("grouped into connected components").contains("Wasserstein-2 with Hamming");
+  }
 }

@@ -7,6 +7,7 @@ import com.fasterxml.jackson.databind.ObjectMapper;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Arrays;
+import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
 import org.junit.jupiter.api.Test;
@@ -138,6 +139,13 @@ class OodEndToEndTest {
       assertThat(r.code()).as(r.describe()).isEqualTo(2);
       assertThat(r.err().lines().filter(l -> !l.isBlank()).findFirst().orElse("")).as(r.describe()).contains(expect[t]);
       if (t < 7) assertThat(r.err().lines().count()).as(r.describe()).isEqualTo(1);
+    }
+    // --html/--roc onto a folder: was an internal error (exit 1) when the page was moved into place
+    for (String opt : List.of("--html", "--roc")) {
+      Cli.Result r = Cli.run("ood", "eval", "--index", i, "--in", cal.toString(), "--out", cal.toString(), "--kind", "codes", opt, tmp.toString());
+      assertThat(r.code()).as(r.describe()).isEqualTo(2);
+      assertThat(r.err().strip().lines().count()).as(r.describe()).isEqualTo(1);
+      assertThat(r.err()).as(r.describe()).contains("is a folder");
     }
     assertThat(Files2.checksums(idx)).isEqualTo(before);
     assertThat(tmp.resolve("b.edge")).doesNotExist();

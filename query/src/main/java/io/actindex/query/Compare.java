@@ -170,6 +170,10 @@ public final class Compare {
     checkRows(a, p.a(), "A");
     checkRows(b, p.b(), "B");
     FloatSample fa = floats(p.aFloats(), p.a(), p.layers(), "A"), fb = floats(p.bFloats(), p.b(), p.layers(), "B");
+    if (fa != null && fb != null && fa.cols() != fb.cols()) {
+      throw new BadInputException(floatsFile(p.bFloats(), p.b()) + ": float sample B has " + fb.cols()
+          + " columns, float sample A (" + floatsFile(p.aFloats(), p.a()) + ") " + fa.cols());
+    }
     return compute(a, b, fa, fb, p.a().describe(), p.b().describe(), p.options(), notes);
   }
 
@@ -343,11 +347,16 @@ public final class Compare {
 
   /** Floats of a sample: the given file, else the sample's own activations file, else null. */
   private static FloatSample floats(Path given, Sample s, List<String> layers, String which) {
-    Path file = given != null ? given : s.source() != null && s.source().kind() == Source.Kind.ACTIVATIONS ? s.source().file() : null;
+    Path file = floatsFile(given, s);
     if (file == null) return null;
     FloatSample f = readFloats(file, layers);
     if (f.rows() < 2) throw new BadInputException(file + ": float sample " + which + " has " + f.rows() + " rows; at least 2 are needed");
     return f;
+  }
+
+  /** The file a sample's floats come from: the given one, else the sample's own activations file, else null. */
+  private static Path floatsFile(Path given, Sample s) {
+    return given != null ? given : s.source() != null && s.source().kind() == Source.Kind.ACTIVATIONS ? s.source().file() : null;
   }
 
   /** A float matrix: {@code .npy}/{@code .csv}, or {@code .npz} members (the named layers, else all) side by side. */
