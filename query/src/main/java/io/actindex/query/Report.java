@@ -47,12 +47,12 @@ public final class Report {
   public static IndexReport.Facts facts(IndexReader reader, Progress progress) {
     int[] ids = new int[reader.liveCount()];
     CodeBlock codes = reader.liveCodes(ids);
-    LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId());
+    // labels and splits read per distinct value, not one metadata document per example
+    LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId()), splits = LabelIndex.of(reader.meta(), reader.maxId(), "split");
     String[] label = new String[ids.length], split = new String[ids.length];
     for (int i = 0; i < ids.length; i++) {
       label[i] = labels.label(ids[i]);
-      Map<String, String> doc = reader.meta().document(ids[i]);
-      split[i] = doc == null ? null : doc.get("split");
+      split[i] = splits.label(ids[i]);
     }
     Census.Result census = Census.compute(codes, label, i -> {
       Map<String, String> doc = reader.meta().document(ids[i]);
