@@ -6,6 +6,7 @@ import io.actindex.core.CodeSearcher;
 import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
 import io.actindex.core.IdSet;
+import io.actindex.core.ScanKernel;
 import io.actindex.core.ScanSearcher;
 import io.actindex.core.TopK;
 import java.util.Arrays;
@@ -35,6 +36,11 @@ final class MihSearcher implements CodeSearcher {
   private static final double FIRST_ROUND = 0.3;
   /** Work the tables may spend in all once an upper bound shows they finish within it. */
   private static final double PROVEN = 0.9;
+  /**
+   * Under a mask, work the tables may spend before an upper bound shows they finish within {@link
+   * #PROVEN}: a masked query that falls back to the scan costs at most this much more than the scan.
+   */
+  private static final double MASKED_BUDGET = 0.1;
 
   final CodeBlock codes;
   final BitPlan plan;
@@ -85,16 +91,19 @@ final class MihSearcher implements CodeSearcher {
 
   /**
    * The planner's order: an empty filter answers at once and a selective one is walked (the scan
-   * does both); then, without a mask, the partition finds a first k-th distance B from the nearest
-   * clusters, and whichever of the rest of the partition, the tables (every shell up to B) or the
-   * scan is estimated cheapest finishes the query, with B as the distance cap.
+   * does both); then the partition finds a first k-th distance B from the nearest clusters (under a
+   * mask, with the mask's distances to the centres and radii), and whichever of the rest of the
+   * partition, the tables (every shell up to B) or the scan is estimated cheapest finishes the
+   * query, with B as the distance cap. A masked scan costs what its selected words cost.
    */
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
     query = ScanSearcher.checkQuery(codes.layout(), query, mask);
+    mask = ScanSearcher.checkMask(codes.layout(), mask);
     int n = codes.size();
     if (k <= 0 || n == 0 || maxDist < 0) return Hits.EMPTY;
     boolean auto = strategy == SearchPlanOptions.Strategy.AUTO;
+    double scanCost = mask == null ? this.scanCost : cost.scan(n, ScanKernel.Words.of(query, mask, codes.wordsPerCode()).at().length);
     if (accept instanceof IdSet set) {
       if (set.size() != n) throw new IllegalArgumentException("filter over " + set.size() + " ordinals, searcher has " + n);
       if (set.isEmpty()) return Hits.EMPTY;
@@ -103,17 +112,18 @@ final class MihSearcher implements CodeSearcher {
     int[] active = activeTables(mask);
     int kk = Math.min(k, n);
     Scratch s = scratch.get().begin(this, query, active);
+    s.scanCost = scanCost;
+    if (mask != null) s.unproven = MASKED_BUDGET;
     try {
-      boolean usePartition = partition != null && mask == null
-          && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
+      boolean usePartition = partition != null && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
       if (usePartition) {
         TopK top = new TopK(kk);
-        int from = partition.begin(query, codes.layout().bits(), s.visit, accept, top, kk, maxDist);
+        int from = partition.begin(query, mask, codes.layout().bits(), s.visit, accept, top, kk, maxDist);
         int bound = top.size() == kk ? Math.min(maxDist, top.bound()) : maxDist;
-        double rest = from == partition.clusters() ? 0 : partition.estimate(s.visit, from, bound) * cost.partitionCode();
-        if (!auto || rest <= PROVEN * scanCost && rest <= tablesCost(s, active, bound, plan.constantDistance(query, null))) {
+        double rest = from == partition.clusters() ? 0 : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode());
+        if (!auto || rest <= PROVEN * scanCost && rest <= tablesCost(s, active, bound, plan.constantDistance(query, mask))) {
           s.path = PATH_PARTITION;
-          if (rest > 0) partition.finish(query, s.visit, from, accept, top, maxDist);
+          if (rest > 0) partition.finish(s.visit, from, accept, top, maxDist);
           return top.toHits();
         }
         maxDist = bound; // the k-th distance so far bounds the answer: the path below starts afresh under it
@@ -180,7 +190,7 @@ final class MihSearcher implements CodeSearcher {
     for (int x = 0, j = 0; x <= maxWidth && (long) x * m + j - 1 + c < bound; ) {
       int t = active[j];
       if (x <= tables[t].width) total += shellCost(s, t, x);
-      if (total > scanCost) return total;
+      if (total > s.scanCost) return total;
       if (++j == m) {
         j = 0;
         x++;
@@ -192,6 +202,7 @@ final class MihSearcher implements CodeSearcher {
   @Override
   public Hits radius(long[] query, int radius, IntPredicate accept, long[] mask) {
     query = ScanSearcher.checkQuery(codes.layout(), query, mask);
+    mask = ScanSearcher.checkMask(codes.layout(), mask);
     if (radius < 0 || codes.size() == 0) return Hits.EMPTY;
     int[] active = activeTables(mask);
     if (accept instanceof IdSet set && set.isEmpty()) return Hits.EMPTY;
@@ -230,15 +241,19 @@ final class MihSearcher implements CodeSearcher {
    * small share of a scan. After that, within three rounds of the k-th best distance, yes while the
    * work so far plus that shell fits under most of a scan; further away, yes while an upper bound
    * of the work still needed (every shell up to the current k-th best distance) fits under most of
-   * a scan. Otherwise the caller scans.
+   * a scan. Otherwise the caller scans. Under a mask, every rule but the upper bound is capped at
+   * {@link #MASKED_BUDGET}.
    */
   private boolean worthIt(Scratch s, TopK top, int k, int[] active, int rho, int j, int c, int maxDist) {
-    if (rho == 0) return s.work + shellCost(s, active[j], rho) <= FIRST_ROUND * scanCost;
+    double scanCost = s.scanCost;
+    if (rho == 0) return s.work + shellCost(s, active[j], rho) <= Math.min(FIRST_ROUND, s.unproven) * scanCost;
     int m = active.length, bound = bound(top, k, maxDist);
-    if (bound == Integer.MAX_VALUE) return s.work + shellCost(s, active[j], rho) <= EAGER * scanCost;
+    if (bound == Integer.MAX_VALUE) return s.work + shellCost(s, active[j], rho) <= Math.min(EAGER, s.unproven) * scanCost;
     // within three rounds of the k-th best distance: go on while the next shell fits the budget (the
-    // k-th best usually drops on the way, so the sum below would be too pessimistic)
-    if (bound - (rho * m + j - 1 + c) <= 3 * m) return s.work + shellCost(s, active[j], rho) <= PROVEN * scanCost;
+    // k-th best usually drops on the way, so the sum below would be too pessimistic); under a mask,
+    // only within the masked budget
+    if (bound - (rho * m + j - 1 + c) <= 3 * m)
+      return s.work + shellCost(s, active[j], rho) <= Math.min(PROVEN, s.unproven) * scanCost;
     double remaining = 0;
     for (int x = rho, jj = j; x * m + jj - 1 + c < bound; ) {
       int t = active[jj];
@@ -359,6 +374,8 @@ final class MihSearcher implements CodeSearcher {
     int hits;
     long probes, candidates, nearProbes, nearCandidates;
     double work;
+    double scanCost; // of this query (a mask selects fewer words)
+    double unproven; // share of a scan the tables may spend before an upper bound shows they finish cheaper
     int path;
     boolean inUse;
     final Partition.Visit visit = new Partition.Visit();
@@ -378,6 +395,8 @@ final class MihSearcher implements CodeSearcher {
       s.nearProbes = 0;
       s.nearCandidates = 0;
       s.work = 0;
+      s.scanCost = owner.scanCost;
+      s.unproven = Double.POSITIVE_INFINITY;
       s.path = 0;
       for (int t : active) s.keys[t] = owner.plan.key(query, 0, t);
       return s;

@@ -4,7 +4,11 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import io.actindex.core.ScanKernel;
 import io.actindex.core.TopK;
+import java.util.ArrayList;
 import java.util.Arrays;
+import java.util.List;
+import java.util.Map;
+import java.util.concurrent.ConcurrentHashMap;
 import java.util.function.IntPredicate;
 import java.util.stream.IntStream;
 
@@ -40,9 +44,14 @@ final class Partition {
   final char[] radius; // position -> distance to its centre
   final int[] maxRadius; // per cluster
   private final int maxOfMaxRadius;
+  private final Radii stored; // radius and maxRadius: the radii over every bit
+  private final long[][] segmentMasks; // per segment of the layout: its bits
+  private final Map<List<Long>, Radii> coverRadii = new ConcurrentHashMap<>(); // per set of segments, built on first use
 
   Partition(CodeBlock block, long[] centres, int[] start, int[] ords) {
     this.words = block.wordsPerCode();
+    this.segmentMasks = new long[block.layout().segments().size()][];
+    for (int seg = 0; seg < segmentMasks.length; seg++) segmentMasks[seg] = block.layout().mask(seg);
     this.centres = centres;
     this.start = start;
     this.ords = ords;
@@ -62,6 +71,7 @@ final class Partition {
         mm = Math.max(mm, r);
       }
     maxOfMaxRadius = mm;
+    stored = new Radii(radius, maxRadius);
   }
 
   int clusters() {
@@ -206,10 +216,58 @@ final class Partition {
 
   // ------------------------------------------------------------------ search
 
-  /** Per-query state: the clusters in visiting order, their distances and current windows. */
+  /** Covers whose radii are kept at once (2 bytes per code each). */
+  private static final int MAX_COVERS = 8;
+  /** One position in this many is read to estimate how many codes of a masked window pass the radius test. */
+  private static final int SAMPLE_STRIDE = 8;
+
+  /** Distances of the positions to their centres over some bits, and each cluster's largest. */
+  record Radii(char[] radius, int[] maxRadius) {}
+
+  /**
+   * Radii over the bits of the segments a mask touches (its cover): for a code x in cluster c and
+   * the masked distance d_M, {@code d_M(c,x) <= r_cover(x) <= r(x)}, with the first an equality when
+   * the mask covers its segments whole (a mask of whole layers, the usual one). The radii of a cover
+   * are computed on first use (one pass over the codes) and kept, at most {@link #MAX_COVERS} covers
+   * at once; a cover of every segment is the stored radii.
+   */
+  private Radii radii(long[] mask) {
+    List<Long> cover = new ArrayList<>(words);
+    long[] bits = new long[words];
+    boolean all = true;
+    for (long[] seg : segmentMasks) {
+      boolean touched = false;
+      for (int j = 0; j < words && !touched; j++) touched = (seg[j] & mask[j]) != 0;
+      all &= touched;
+      if (touched) for (int j = 0; j < words; j++) bits[j] |= seg[j];
+    }
+    if (all) return stored;
+    for (long x : bits) cover.add(x);
+    Radii r = coverRadii.get(cover);
+    if (r != null) return r;
+    if (coverRadii.size() >= MAX_COVERS) coverRadii.clear(); // bounds the memory; rebuilt on demand
+    return coverRadii.computeIfAbsent(cover, c -> {
+      char[] rad = new char[ords.length];
+      int[] max = new int[clusters()];
+      for (int cl = 0; cl < clusters(); cl++)
+        for (int i = start[cl]; i < start[cl + 1]; i++) {
+          rad[i] = (char) Hamming.maskedDistance(centres, cl * words, codes, i * words, bits, words);
+          max[cl] = Math.max(max[cl], rad[i]);
+        }
+      return new Radii(rad, max);
+    });
+  }
+
+  /**
+   * Per-query state: the mask's selection and radii, the clusters in visiting order, their
+   * distances and current windows.
+   */
   static final class Visit {
     int[] order = new int[0], dq = new int[0], lo = new int[0], hi = new int[0];
     int[] counts = new int[0];
+    ScanKernel.Words sel;
+    Radii radii; // the stored radii (no mask or one of every segment), else the mask's cover
+    boolean exact; // radii are the masked distances to the centres (not only an upper bound)
 
     void ensure(int clusters, int bits) {
       if (order.length < clusters) {
@@ -223,18 +281,22 @@ final class Partition {
   }
 
   /**
-   * First step of a query: distances to every centre, clusters sorted nearest first (a counting
-   * sort on the distance), then, when no cap is given, the nearest clusters scanned until the top
-   * holds k codes (or all are seen). Returns the number of clusters fully scanned.
+   * First step of a query under an optional mask (null, or with ghost bits set as {@code
+   * ScanSearcher.checkMask} leaves it): distances to every centre, clusters sorted nearest first (a
+   * counting sort on the distance), then, when no cap is given, the nearest clusters scanned until
+   * the top holds k codes (or all are seen). Returns the number of clusters fully scanned.
    */
-  int begin(long[] q, int bits, Visit v, IntPredicate accept, TopK top, int k, int maxDist) {
+  int begin(long[] q, long[] mask, int bits, Visit v, IntPredicate accept, TopK top, int k, int maxDist) {
     int clusters = clusters(), w = words;
     v.ensure(clusters, bits);
+    v.sel = ScanKernel.Words.of(q, mask, w);
+    v.radii = mask == null ? stored : radii(mask);
+    v.exact = mask == null || v.radii != stored && coversWhole(mask);
     int[] counts = v.counts;
     Arrays.fill(counts, 0, bits + 2, 0);
     int[] d = v.lo; // scratch for the distances before sorting
     for (int c = 0; c < clusters; c++) {
-      d[c] = Hamming.distance(q, 0, centres, c * w, w);
+      d[c] = v.sel.distance(centres, c * w, w, Integer.MAX_VALUE);
       counts[d[c] + 1]++;
     }
     for (int x = 0; x <= bits; x++) counts[x + 1] += counts[x];
@@ -248,45 +310,88 @@ final class Partition {
     // the windows under the cap do (a cap may leave fewer than k codes reachable in this block)
     while (maxDist == Integer.MAX_VALUE && done < clusters && top.size() < k) {
       int c = v.order[done];
-      ScanKernel.knn(q, null, codes, w, start[c], start[c + 1], ords, accept, top, maxDist);
+      ScanKernel.knn(v.sel, codes, w, start[c], start[c + 1], ords, accept, top, maxDist);
       done++;
     }
     return done;
   }
 
+  /** Whether the mask covers each segment it touches whole. */
+  private boolean coversWhole(long[] mask) {
+    for (long[] seg : segmentMasks) {
+      boolean touched = false, whole = true;
+      for (int j = 0; j < words; j++) {
+        touched |= (seg[j] & mask[j]) != 0;
+        whole &= (seg[j] & mask[j]) == seg[j];
+      }
+      if (touched && !whole) return false;
+    }
+    return true;
+  }
+
   /**
-   * Upper bound of the codes the rest of the query ({@link #finish}) will compare, given the
-   * current k-th distance {@code bound}; also fixes each remaining cluster's window for it.
+   * Estimated cost, in the planner's units, of the rest of the query ({@link #finish}) given the
+   * current k-th distance {@code bound}; also fixes each remaining cluster's window for it. A window
+   * of the stored radii is compared in full ({@code perCode} each); a masked window costs a radius
+   * test per code ({@code perTest}) and a comparison for the share that passes it (estimated from
+   * every {@value #SAMPLE_STRIDE}th code).
    */
-  long estimate(Visit v, int from, int bound) {
+  double estimate(Visit v, int from, int bound, double perCode, double perTest) {
     bound = Math.min(bound, Character.MAX_VALUE); // no distance exceeds it: keeps dq + bound from overflowing
-    long total = 0;
+    boolean full = v.radii == stored;
+    char[] rad = v.radii.radius;
+    double total = 0;
     for (int p = from; p < clusters(); p++) {
       int c = v.order[p], dq = v.dq[p];
-      if (dq - maxRadius[c] > bound) {
+      if (dq - v.radii.maxRadius[c] > bound) {
         v.lo[p] = v.hi[p] = 0;
         continue;
       }
-      int lo = firstAtLeast(start[c], start[c + 1], dq - bound), hi = firstAtLeast(lo, start[c + 1], dq + bound + 1);
+      // d_M(c,x) <= r(x): codes with r(x) < dq - bound are out under any mask
+      int lo = firstAtLeast(start[c], start[c + 1], dq - bound);
+      int hi = full && v.exact ? firstAtLeast(lo, start[c + 1], dq + bound + 1) : start[c + 1];
       v.lo[p] = lo;
       v.hi[p] = hi;
-      total += hi - lo;
+      if (full) {
+        total += (hi - lo) * perCode;
+        continue;
+      }
+      int sampled = 0, passed = 0;
+      for (int i = lo; i < hi; i += SAMPLE_STRIDE, sampled++) if (passes(rad[i], dq, bound, v.exact)) passed++;
+      total += (hi - lo) * (perTest + (sampled == 0 ? 0 : perCode * passed / sampled));
     }
     return total;
   }
 
+  /** Whether a code at cover radius r from its centre can be within bound of a query dq from it. */
+  private static boolean passes(int r, int dq, int bound, boolean exact) {
+    return r >= dq - bound && (!exact || r <= dq + bound);
+  }
+
   /** Scans the remaining clusters' windows (narrowed as the k-th distance drops). */
-  void finish(long[] q, Visit v, int from, IntPredicate accept, TopK top, int maxDist) {
+  void finish(Visit v, int from, IntPredicate accept, TopK top, int maxDist) {
     int w = words;
+    boolean full = v.radii == stored;
+    char[] rad = v.radii.radius;
     for (int p = from; p < clusters(); p++) {
       int lo = v.lo[p], hi = v.hi[p];
       if (lo >= hi) continue;
       int c = v.order[p], dq = v.dq[p], bound = Math.min(Character.MAX_VALUE, Math.min(maxDist, top.bound()));
       if (dq - maxOfMaxRadius > bound) break; // no later cluster can hold a code within the bound
-      if (dq - maxRadius[c] > bound) continue;
+      if (dq - v.radii.maxRadius[c] > bound) continue;
       lo = firstAtLeast(lo, hi, dq - bound);
-      hi = firstAtLeast(lo, hi, dq + bound + 1);
-      ScanKernel.knn(q, null, codes, w, lo, hi, ords, accept, top, maxDist);
+      if (full) {
+        if (v.exact) hi = firstAtLeast(lo, hi, dq + bound + 1);
+        ScanKernel.knn(v.sel, codes, w, lo, hi, ords, accept, top, maxDist);
+        continue;
+      }
+      for (int i = lo; i < hi; i++) {
+        if (!passes(rad[i], dq, bound, v.exact)) continue;
+        int d = v.sel.distance(codes, i * w, w, bound);
+        if (d > bound || accept != null && !accept.test(ords[i])) continue;
+        top.offer(ords[i], d);
+        bound = Math.min(bound, top.bound());
+      }
     }
   }
 
