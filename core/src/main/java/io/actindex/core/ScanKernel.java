@@ -77,6 +77,8 @@ public final class ScanKernel {
      */
     public int distance(long[] data, int off, int w, int bound) {
       if (whole && at.length == w) return Hamming.distanceBounded(q, 0, data, off, w, bound);
+      if (whole && at.length <= 2) // a layer of up to 128 bits: no loop
+        return at.length == 0 ? 0 : Long.bitCount(data[off + at[0]] ^ q[0]) + (at.length == 1 ? 0 : Long.bitCount(data[off + at[1]] ^ q[1]));
       int d = 0, j = 0, c = at.length;
       for (; j + 4 <= c; j += 4) {
         d += Long.bitCount((data[off + at[j]] & m[j]) ^ q[j]) + Long.bitCount((data[off + at[j + 1]] & m[j + 1]) ^ q[j + 1])

@@ -27,6 +27,13 @@ import java.util.stream.IntStream;
  * fast. Exactness needs only that {@code r(x)} is the true distance to the centre (it is recomputed
  * on load); how well the centres fit the data decides the speed alone.
  *
+ * <p>A masked distance (the bits of some layers) is a pseudometric, so the same inequality holds
+ * for it: a masked query sorts the clusters by its masked distances to the centres and tests each
+ * code against the radii over the layers the mask touches (built on first use per set of layers,
+ * 2 bytes per code, kept for up to 8 sets). Those radii are not sorted inside a cluster, so the
+ * window is cut by the full radius from below ({@code d_M(c,x) <= r(x)}) and each code in it is
+ * tested before it is compared.
+ *
  * <p>Codes from a network's activations sit on a low-dimensional set (the input space), so most
  * clusters lie far from a query and drop out; uniform random codes have no such structure and the
  * planner ({@link #estimate}) sends their queries elsewhere. Immutable, thread-safe.
@@ -219,7 +226,7 @@ final class Partition {
   /** Covers whose radii are kept at once (2 bytes per code each). */
   private static final int MAX_COVERS = 8;
   /** One position in this many is read to estimate how many codes of a masked window pass the radius test. */
-  private static final int SAMPLE_STRIDE = 8;
+  private static final int SAMPLE_STRIDE = 16;
 
   /** Distances of the positions to their centres over some bits, and each cluster's largest. */
   record Radii(char[] radius, int[] maxRadius) {}
@@ -268,6 +275,7 @@ final class Partition {
     ScanKernel.Words sel;
     Radii radii; // the stored radii (no mask or one of every segment), else the mask's cover
     boolean exact; // radii are the masked distances to the centres (not only an upper bound)
+    final int[] pass = new int[256]; // positions that passed the radius test, one block at a time
 
     void ensure(int clusters, int bits) {
       if (order.length < clusters) {
@@ -333,15 +341,15 @@ final class Partition {
    * Estimated cost, in the planner's units, of the rest of the query ({@link #finish}) given the
    * current k-th distance {@code bound}; also fixes each remaining cluster's window for it. A window
    * of the stored radii is compared in full ({@code perCode} each); a masked window costs a radius
-   * test per code ({@code perTest}) and a comparison for the share that passes it (estimated from
-   * every {@value #SAMPLE_STRIDE}th code).
+   * test per code ({@code perTest}) and a comparison for the share that passes it, estimated from
+   * every {@value #SAMPLE_STRIDE}th code. Stops as soon as the estimate exceeds {@code limit} (the
+   * windows are then not all fixed, and the caller must not {@link #finish}).
    */
-  double estimate(Visit v, int from, int bound, double perCode, double perTest) {
+  double estimate(Visit v, int from, int bound, double perCode, double perTest, double limit) {
     bound = Math.min(bound, Character.MAX_VALUE); // no distance exceeds it: keeps dq + bound from overflowing
     boolean full = v.radii == stored;
-    char[] rad = v.radii.radius;
     double total = 0;
-    for (int p = from; p < clusters(); p++) {
+    for (int p = from; p < clusters() && total <= limit; p++) {
       int c = v.order[p], dq = v.dq[p];
       if (dq - v.radii.maxRadius[c] > bound) {
         v.lo[p] = v.hi[p] = 0;
@@ -352,13 +360,14 @@ final class Partition {
       int hi = full && v.exact ? firstAtLeast(lo, start[c + 1], dq + bound + 1) : start[c + 1];
       v.lo[p] = lo;
       v.hi[p] = hi;
-      if (full) {
-        total += (hi - lo) * perCode;
-        continue;
-      }
-      int sampled = 0, passed = 0;
+      total += (hi - lo) * (full ? perCode : perTest);
+    }
+    if (full) return total;
+    char[] rad = v.radii.radius;
+    for (int p = from; p < clusters() && total <= limit; p++) {
+      int passed = 0, sampled = 0, dq = v.dq[p], lo = v.lo[p], hi = v.hi[p];
       for (int i = lo; i < hi; i += SAMPLE_STRIDE, sampled++) if (passes(rad[i], dq, bound, v.exact)) passed++;
-      total += (hi - lo) * (perTest + (sampled == 0 ? 0 : perCode * passed / sampled));
+      if (sampled > 0) total += perCode * passed * (hi - lo) / sampled;
     }
     return total;
   }
@@ -385,12 +394,21 @@ final class Partition {
         ScanKernel.knn(v.sel, codes, w, lo, hi, ords, accept, top, maxDist);
         continue;
       }
-      for (int i = lo; i < hi; i++) {
-        if (!passes(rad[i], dq, bound, v.exact)) continue;
-        int d = v.sel.distance(codes, i * w, w, bound);
-        if (d > bound || accept != null && !accept.test(ords[i])) continue;
-        top.offer(ords[i], d);
-        bound = Math.min(bound, top.bound());
+      // radius tests without branches, a block at a time: the positions that pass are gathered,
+      // then compared; the block after sees the bound they left
+      int[] pass = v.pass;
+      for (int i = lo; i < hi; ) {
+        int end = Math.min(hi, i + pass.length), m = 0, least = dq - bound, span = v.exact ? 2 * bound : Integer.MAX_VALUE;
+        for (; i < end; i++) {
+          pass[m] = i;
+          m += Integer.compareUnsigned(rad[i] - least, span) <= 0 ? 1 : 0;
+        }
+        for (int j = 0; j < m; j++) {
+          int at = pass[j], d = v.sel.distance(codes, at * w, w, bound);
+          if (d > bound || accept != null && !accept.test(ords[at])) continue;
+          top.offer(ords[at], d);
+          bound = Math.min(bound, top.bound());
+        }
       }
     }
   }
