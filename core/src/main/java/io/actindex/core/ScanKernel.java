@@ -5,12 +5,12 @@ import java.util.function.IntPredicate;
 /**
  * The k-NN scan loop over a run of packed codes, shared by the plain scan and by index paths that
  * scan parts of a code array (clusters of the partition). A mask first selects the words it
- * touches: words it leaves out are never read, and words it covers whole need no AND, so a mask of
- * whole layers costs at most what the unmasked scan costs. One loop per count of selected whole
- * words (1, 2, 3, 4 and 8; unmasked codes select all their words) keeps the query words in
- * registers (the compiler cannot do that itself: they sit in a {@code long[]} that may alias the
- * codes); other counts, and masks that cut words, take a general loop that stops counting once the
- * bound is passed.
+ * touches: words it leaves out are never read, so a mask of some layers costs at most what the
+ * unmasked scan costs. One loop per count of selected words (1, 2, 3, 4 and 8; unmasked codes
+ * select all their words) keeps the query and mask words in registers (the compiler cannot do that
+ * itself: they sit in a {@code long[]} that may alias the codes), with one AND per word (all ones
+ * for a whole word), except 4 whole words, the common 256-bit case, which skip the ANDs; other
+ * counts take a general loop that stops counting once the bound is passed.
  *
  * <p>Distance first: the filter is asked only about codes that would enter the top k, so a filter
  * that accepts most codes costs almost nothing, and a slow predicate is called rarely.
@@ -33,7 +33,7 @@ public final class ScanKernel {
   /** As {@link #knn(long[], long[], long[], int, int, int, int[], IntPredicate, TopK, int)} with the selection made once per query. */
   public static void knn(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept, TopK top,
       int maxDist) {
-    switch (s.whole ? s.at.length : -1) {
+    switch (s.at.length) {
       case 1 -> knn1(s, data, w, from, to, ords, accept, top, maxDist);
       case 2 -> knn2(s, data, w, from, to, ords, accept, top, maxDist);
       case 3 -> knn3(s, data, w, from, to, ords, accept, top, maxDist);
@@ -77,8 +77,9 @@ public final class ScanKernel {
      */
     public int distance(long[] data, int off, int w, int bound) {
       if (whole && at.length == w) return Hamming.distanceBounded(q, 0, data, off, w, bound);
-      if (whole && at.length <= 2) // a layer of up to 128 bits: no loop
-        return at.length == 0 ? 0 : Long.bitCount(data[off + at[0]] ^ q[0]) + (at.length == 1 ? 0 : Long.bitCount(data[off + at[1]] ^ q[1]));
+      if (at.length <= 2) // a layer of up to 128 bits: no loop
+        return at.length == 0 ? 0
+            : Long.bitCount((data[off + at[0]] ^ q[0]) & m[0]) + (at.length == 1 ? 0 : Long.bitCount((data[off + at[1]] ^ q[1]) & m[1]));
       int d = 0, j = 0, c = at.length;
       for (; j + 4 <= c; j += 4) {
         d += Long.bitCount((data[off + at[j]] & m[j]) ^ q[j]) + Long.bitCount((data[off + at[j + 1]] & m[j + 1]) ^ q[j + 1])
@@ -100,32 +101,33 @@ public final class ScanKernel {
 
   private static void knn1(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
-    long q0 = s.q[0];
+    long q0 = s.q[0], m0 = s.m[0];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * w + s.at[0]; i < to; i++, off += w) {
-      int d = Long.bitCount(data[off] ^ q0);
+      int d = Long.bitCount((data[off] ^ q0) & m0);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
 
   private static void knn2(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
-    long q0 = s.q[0], q1 = s.q[1];
+    long q0 = s.q[0], q1 = s.q[1], m0 = s.m[0], m1 = s.m[1];
     int j0 = s.at[0], j1 = s.at[1];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * w; i < to; i++, off += w) {
-      int d = Long.bitCount(data[off + j0] ^ q0) + Long.bitCount(data[off + j1] ^ q1);
+      int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
 
   private static void knn3(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
-    long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2];
+    long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], m0 = s.m[0], m1 = s.m[1], m2 = s.m[2];
     int j0 = s.at[0], j1 = s.at[1], j2 = s.at[2];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * w; i < to; i++, off += w) {
-      int d = Long.bitCount(data[off + j0] ^ q0) + Long.bitCount(data[off + j1] ^ q1) + Long.bitCount(data[off + j2] ^ q2);
+      int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
+          + Long.bitCount((data[off + j2] ^ q2) & m2);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
@@ -135,9 +137,18 @@ public final class ScanKernel {
     long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], q3 = s.q[3];
     int j0 = s.at[0], j1 = s.at[1], j2 = s.at[2], j3 = s.at[3];
     int bound = Math.min(maxDist, top.bound());
+    if (s.whole) { // the common case (256-bit codes, 256-bit layers) without the four ANDs
+      for (int i = from, off = from * w; i < to; i++, off += w) {
+        int d = Long.bitCount(data[off + j0] ^ q0) + Long.bitCount(data[off + j1] ^ q1)
+            + Long.bitCount(data[off + j2] ^ q2) + Long.bitCount(data[off + j3] ^ q3);
+        if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      }
+      return;
+    }
+    long m0 = s.m[0], m1 = s.m[1], m2 = s.m[2], m3 = s.m[3];
     for (int i = from, off = from * w; i < to; i++, off += w) {
-      int d = Long.bitCount(data[off + j0] ^ q0) + Long.bitCount(data[off + j1] ^ q1)
-          + Long.bitCount(data[off + j2] ^ q2) + Long.bitCount(data[off + j3] ^ q3);
+      int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
+          + Long.bitCount((data[off + j2] ^ q2) & m2) + Long.bitCount((data[off + j3] ^ q3) & m3);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
@@ -146,13 +157,14 @@ public final class ScanKernel {
       TopK top, int maxDist) {
     long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], q3 = s.q[3], q4 = s.q[4], q5 = s.q[5], q6 = s.q[6], q7 = s.q[7];
     int j0 = s.at[0], j1 = s.at[1], j2 = s.at[2], j3 = s.at[3], j4 = s.at[4], j5 = s.at[5], j6 = s.at[6], j7 = s.at[7];
+    long m0 = s.m[0], m1 = s.m[1], m2 = s.m[2], m3 = s.m[3], m4 = s.m[4], m5 = s.m[5], m6 = s.m[6], m7 = s.m[7];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * w; i < to; i++, off += w) {
-      int d = Long.bitCount(data[off + j0] ^ q0) + Long.bitCount(data[off + j1] ^ q1)
-          + Long.bitCount(data[off + j2] ^ q2) + Long.bitCount(data[off + j3] ^ q3);
+      int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
+          + Long.bitCount((data[off + j2] ^ q2) & m2) + Long.bitCount((data[off + j3] ^ q3) & m3);
       if (d > bound) continue;
-      d += Long.bitCount(data[off + j4] ^ q4) + Long.bitCount(data[off + j5] ^ q5)
-          + Long.bitCount(data[off + j6] ^ q6) + Long.bitCount(data[off + j7] ^ q7);
+      d += Long.bitCount((data[off + j4] ^ q4) & m4) + Long.bitCount((data[off + j5] ^ q5) & m5)
+          + Long.bitCount((data[off + j6] ^ q6) & m6) + Long.bitCount((data[off + j7] ^ q7) & m7);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
