@@ -7,9 +7,10 @@ import java.util.function.IntPredicate;
  * scan parts of a code array (clusters of the partition). A mask first selects the words it
  * touches: words it leaves out are never read, so a mask of some layers costs at most what the
  * unmasked scan costs. Loops per word count keep the query (and mask) words in registers (the
- * compiler cannot do that itself: they sit in a {@code long[]} that may alias the codes): all words
- * of codes of 1, 2, 3, 4 and 8 words; 1, 2, 3, 4 and 8 selected words, with one AND per word (the
- * ANDs skipped when 4 whole words are selected). Other counts take a general loop that stops
+ * compiler cannot do that itself: they sit in a {@code long[]} that may alias the codes): every word
+ * of codes of 1, 2, 3, 4 and 8 words; 1, 2, 3, 4 and 8 selected words of wider codes; with one AND
+ * per word (all ones for a whole word; skipped when 4 whole words are selected, the common 256-bit
+ * case). Other counts take a general loop that stops
  * counting once the bound is passed.
  *
  * <p>Distance first: the filter is asked only about codes that would enter the top k, so a filter
@@ -31,23 +32,25 @@ public final class ScanKernel {
   }
 
   /*
-   * Two families of loops. Every word of the code (no mask, or a mask of whole words that selects
-   * them all): a constant stride, so the compiler removes the array bounds checks. Some words:
-   * the code width is the stride, a variable, which keeps one bounds check per read (measured: the
-   * unmasked 256-bit scan took twice as long through the selection loop); the masked loops win by
-   * reading fewer words.
+   * Two families of loops. Every word of the code selected (no mask, or a mask touching every
+   * word): a constant stride, so the compiler can drop the array bounds checks (a mask of 1-word
+   * codes took 2.5x through a variable-stride loop in ScanKernelBench). Some words: the code width
+   * is the stride, a variable; those loops win by reading fewer words.
    */
 
   /** As {@link #knn(long[], long[], long[], int, int, int, int[], IntPredicate, TopK, int)} with the selection made once per query. */
   public static void knn(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept, TopK top,
       int maxDist) {
-    if (s.whole && s.at.length == w) {
+    if (s.at.length == w) {
       switch (w) {
-        case 1 -> all1(s.q, data, from, to, ords, accept, top, maxDist);
-        case 2 -> all2(s.q, data, from, to, ords, accept, top, maxDist);
-        case 3 -> all3(s.q, data, from, to, ords, accept, top, maxDist);
-        case 4 -> all4(s.q, data, from, to, ords, accept, top, maxDist);
-        case 8 -> all8(s.q, data, from, to, ords, accept, top, maxDist);
+        case 1 -> all1(s.q, s.m, data, from, to, ords, accept, top, maxDist);
+        case 2 -> all2(s.q, s.m, data, from, to, ords, accept, top, maxDist);
+        case 3 -> all3(s.q, s.m, data, from, to, ords, accept, top, maxDist);
+        case 4 -> {
+          if (s.whole) all4(s.q, data, from, to, ords, accept, top, maxDist);
+          else knn4(s, data, w, from, to, ords, accept, top, maxDist);
+        }
+        case 8 -> all8(s.q, s.m, data, from, to, ords, accept, top, maxDist);
         default -> knnAny(s, data, w, from, to, ords, accept, top, maxDist);
       }
       return;
@@ -188,32 +191,33 @@ public final class ScanKernel {
     }
   }
 
-  private static void all1(long[] q, long[] data, int from, int to, int[] ords, IntPredicate accept, TopK top,
-      int maxDist) {
-    long q0 = q[0];
+  private static void all1(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    long q0 = q[0], m0 = m[0];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from; i < to; i++) {
-      int d = Long.bitCount(data[i] ^ q0);
+      int d = Long.bitCount((data[i] ^ q0) & m0);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
 
-  private static void all2(long[] q, long[] data, int from, int to, int[] ords, IntPredicate accept, TopK top,
-      int maxDist) {
-    long q0 = q[0], q1 = q[1];
+  private static void all2(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    long q0 = q[0], q1 = q[1], m0 = m[0], m1 = m[1];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * 2; i < to; i++, off += 2) {
-      int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1);
+      int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
 
-  private static void all3(long[] q, long[] data, int from, int to, int[] ords, IntPredicate accept, TopK top,
-      int maxDist) {
-    long q0 = q[0], q1 = q[1], q2 = q[2];
+  private static void all3(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    long q0 = q[0], q1 = q[1], q2 = q[2], m0 = m[0], m1 = m[1], m2 = m[2];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * 3; i < to; i++, off += 3) {
-      int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1) + Long.bitCount(data[off + 2] ^ q2);
+      int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1)
+          + Long.bitCount((data[off + 2] ^ q2) & m2);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
@@ -229,16 +233,17 @@ public final class ScanKernel {
     }
   }
 
-  private static void all8(long[] q, long[] data, int from, int to, int[] ords, IntPredicate accept, TopK top,
-      int maxDist) {
+  private static void all8(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
     long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3], q4 = q[4], q5 = q[5], q6 = q[6], q7 = q[7];
+    long m0 = m[0], m1 = m[1], m2 = m[2], m3 = m[3], m4 = m[4], m5 = m[5], m6 = m[6], m7 = m[7];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * 8; i < to; i++, off += 8) {
-      int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
-          + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
+      int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1)
+          + Long.bitCount((data[off + 2] ^ q2) & m2) + Long.bitCount((data[off + 3] ^ q3) & m3);
       if (d > bound) continue;
-      d += Long.bitCount(data[off + 4] ^ q4) + Long.bitCount(data[off + 5] ^ q5)
-          + Long.bitCount(data[off + 6] ^ q6) + Long.bitCount(data[off + 7] ^ q7);
+      d += Long.bitCount((data[off + 4] ^ q4) & m4) + Long.bitCount((data[off + 5] ^ q5) & m5)
+          + Long.bitCount((data[off + 6] ^ q6) & m6) + Long.bitCount((data[off + 7] ^ q7) & m7);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
