@@ -252,6 +252,13 @@ public final class ScanKernel {
   private static void knnAny(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
     int bound = Math.min(maxDist, top.bound());
+    if (s.whole && s.at.length == w) { // every word: the contiguous kernel, no selection per code
+      for (int i = from, off = from * w; i < to; i++, off += w) {
+        int d = Hamming.distanceBounded(s.q, 0, data, off, w, bound);
+        if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      }
+      return;
+    }
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = s.distance(data, off, w, bound);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
