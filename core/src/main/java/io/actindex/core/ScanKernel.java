@@ -24,7 +24,8 @@ public final class ScanKernel {
    * code) whose distance to {@code q} (under {@code mask}, nullable) is at most {@code maxDist} and
    * at most the running k-th distance, and that {@code accept} (nullable) accepts. The code at
    * position i is offered as ordinal {@code ords == null ? i : ords[i]}, and {@code accept} is asked
-   * about that ordinal. {@code q} must have its ghost bits cleared.
+   * about that ordinal; without {@code ords}, {@code top} must hold no ordinal at or above {@code
+   * from}. {@code q} must have its ghost bits cleared.
    */
   public static void knn(long[] q, long[] mask, long[] data, int w, int from, int to, int[] ords,
       IntPredicate accept, TopK top, int maxDist) {
@@ -113,12 +114,18 @@ public final class ScanKernel {
     }
   }
 
-  /** Offers one code that passed the distance test; returns the new bound. */
+  /**
+   * Offers one code that passed the distance test; returns the new bound. Without {@code ords}
+   * the ordinals rise with the position, so once the top is full a code tied with the k-th
+   * distance can no longer enter (ties go to the smaller ordinal): the bound drops by one and such
+   * ties are not offered (over one layer of skewed codes tens of thousands of codes can tie).
+   */
   private static int offer(int i, int d, int[] ords, IntPredicate accept, TopK top, int maxDist, int bound) {
     int ord = ords == null ? i : ords[i];
     if (accept != null && !accept.test(ord)) return bound;
     top.offer(ord, d);
-    return Math.min(maxDist, top.bound());
+    int b = top.bound();
+    return Math.min(maxDist, ords == null && b != Integer.MAX_VALUE ? b - 1 : b);
   }
 
   private static void knn1(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
