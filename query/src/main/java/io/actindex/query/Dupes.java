@@ -5,6 +5,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.index.mih.DistinctCodes;
 import io.actindex.index.mih.PairSink;
+import io.actindex.index.mih.RadiusMatcher;
 import io.actindex.index.mih.SelfJoin;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
@@ -237,7 +238,7 @@ public final class Dupes {
     if (!q.codes().layout().equals(reader.layout()))
       throw new BadInputException("rows to look up have layout " + q.codes().layout() + ", the index " + reader.layout());
     CodeBlock queries = Layers.project(q.codes(), sel.codes.layout());
-    SelfJoin join = SelfJoin.build(sel.codes, p.radius());
+    RadiusMatcher join = RadiusMatcher.build(sel.codes, p.radius());
     List<RowMatches> rows = new ArrayList<>();
     long[] totals = {0, 0}; // matches, rows with a match
     int[] current = {-1};
