@@ -54,7 +54,7 @@ public final class SelfJoin {
    * bucket, per pair of the scan; measured roughly on 300k ReLU-like 256-bit codes on a busy machine
    * (only their ratios matter).
    */
-  private static final double TABLE_NS_PER_CODE = 80, CANDIDATE_NS = 20, SCAN_NS_PER_PAIR = 4;
+  private static final double TABLE_NS_PER_CODE = 80, CANDIDATE_NS = 6, SCAN_NS_PER_PAIR = 4;
 
   private final DistinctCodes distinct;
   private final int radius;
@@ -239,7 +239,7 @@ public final class SelfJoin {
   private final class Table {
     final int n, w, partitionBits;
     final long[] hashes, entries, codes;
-    final int[] ids, owned, from;
+    final int[] ids, solo, owned, from; // solo: the one ordinal holding the code, or -1
     int subset, top, others, o, posBits;
 
     Table(int n, int w, int maxTop, int partitionBits) {
@@ -250,6 +250,7 @@ public final class SelfJoin {
       entries = new long[n];
       codes = new long[Math.multiplyExact(n, w)];
       ids = new int[n];
+      solo = new int[n];
       owned = new int[Math.multiplyExact(n, maxTop)];
       from = new int[(1 << partitionBits) + 1];
     }
@@ -294,6 +295,7 @@ public final class SelfJoin {
           int p = partition(h), at = next[p]++;
           entries[at] = h >>> posBits << posBits | (at - from[p]);
           ids[at] = u;
+          solo[at] = distinct.holders(u) == 1 ? distinct.holder(u, 0) : -1;
           System.arraycopy(data, u * w, codes, at * w, w);
           int k = at * top;
           for (int q = 0; q < top; q++) if ((others & (1 << q)) != 0) owned[k++] = parts[u * m + q];
@@ -348,8 +350,8 @@ public final class SelfJoin {
     /**
      * The pairs of one bucket (entries {@code [i, j)}) that this table owns: those whose lowest
      * {@code s} agreeing parts are the table's subset. So the parts below the subset's top part and
-     * outside it must all differ (checked first), and the parts of the subset must agree (they do
-     * unless two keys' hashes collided; checked last, on the few pairs within the radius).
+     * outside it must all differ, and the parts of the subset must agree (they do unless two keys'
+     * hashes collided). Both are checked only for the few pairs within the radius.
      */
     private void bucket(int lo, int i, int j, long pos, Scratch sc, PairSink out, Emit emit) {
       int b = j - i;
@@ -365,15 +367,16 @@ public final class SelfJoin {
       for (int x = 0; x < b; x++) {
         next:
         for (int y = x + 1; y < b; y++) {
-          // one well-predicted branch: a part outside the subset agrees, or the codes are too far
-          int d = 0, clash = 0;
-          for (int k = 0, xw = x * w, yw = y * w; k < w; k++) d += Long.bitCount(cs[xw + k] ^ cs[yw + k]);
-          for (int q = 0, xo = x * o, yo = y * o; q < o; q++) clash |= own[xo + q] == own[yo + q] ? 1 : 0;
-          if ((clash | (d > radius ? 1 : 0)) != 0) continue;
-          int ao = at[x] * top, bo = at[y] * top;
-          for (int q = o; q < top; q++) if (owned[ao + q] != owned[bo + q]) continue next;
-          int u = ids[at[x]], v = ids[at[y]];
-          emit(Math.min(u, v), Math.max(u, v), d, out, emit);
+          // the distance first: most candidates are too far (a well-predicted branch)
+          int d = Hamming.distanceBounded(cs, x * w, cs, y * w, w, radius);
+          if (d > radius) continue;
+          for (int q = 0, xo = x * o, yo = y * o; q < o; q++) if (own[xo + q] == own[yo + q]) continue next;
+          for (int q = o, ao = at[x] * top, bo = at[y] * top; q < top; q++) if (owned[ao + q] != owned[bo + q]) continue next;
+          int ea = at[x], eb = at[y];
+          if (solo[ea] >= 0 && solo[eb] >= 0) { // the common case, without looking up holders
+            if (emit.distinctPairs()) out.pair(~Math.min(ids[ea], ids[eb]), Math.max(ids[ea], ids[eb]), d);
+            if (emit.ordinals()) out.pair(Math.min(solo[ea], solo[eb]), Math.max(solo[ea], solo[eb]), d);
+          } else emit(Math.min(ids[ea], ids[eb]), Math.max(ids[ea], ids[eb]), d, out, emit);
         }
       }
     }
