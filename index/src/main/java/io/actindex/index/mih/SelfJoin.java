@@ -3,6 +3,7 @@ package io.actindex.index.mih;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import java.util.Arrays;
+import java.util.function.LongConsumer;
 
 /**
  * Exact self-join of a code set: every pair of ordinals {@code a < b} whose codes are within
@@ -175,7 +176,7 @@ public final class SelfJoin {
     int perTable = 1 << taskBits;
     long total = (pairs != null ? codeTasks : 0) + (scan ? codeTasks : (long) subsets.length * perTable);
     long[] done = {0};
-    java.util.function.LongConsumer tick = progress == null ? null : t -> progress.update(done[0] + t, total);
+    LongConsumer tick = progress == null ? null : t -> progress.update(done[0] + t, total);
     PairSink sink = (a, b, d) -> {
       if (a < 0) distinctPairs.pair(~a, b, d);
       else pairs.pair(a, b, d);
