@@ -148,6 +148,41 @@ class SelfJoinTest {
     assertEquals(want.length, count[0], at);
   }
 
+  /**
+   * Several partitions per table and the table filled by several threads (n above 4,096 distinct
+   * codes), against an O(n^2) join over whole words written here; every key size, 1 and 3 threads.
+   */
+  @Test
+  @Tag("slow")
+  void partitionedTablesEqualWordByWordJoin() {
+    for (int rep = 0; rep < 4; rep++) {
+      long seed = Randoms.seed(200 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int n = 9_000 + rnd.nextInt(4_000);
+      CodeBlock codes = planted(rep % 2 == 0 ? SyntheticCodes.reluLike(n, 60 + rnd.nextInt(60), 40 + rnd.nextInt(40), seed).codes()
+          : SyntheticCodes.uniform(n, 64 + rnd.nextInt(100), seed), rnd);
+      int w = codes.wordsPerCode();
+      long[] data = codes.words();
+      for (int radius : new int[] {2, 4}) {
+        List<Long> want = new ArrayList<>();
+        for (int i = 0; i < n; i++)
+          for (int j = i + 1; j < n; j++) {
+            int d = 0;
+            for (int k = 0; k < w; k++) d += Long.bitCount(data[i * w + k] ^ data[j * w + k]);
+            if (d <= radius) want.add(pack(i, j, d));
+          }
+        for (int keyParts = 0; keyParts <= 3; keyParts++) {
+          SelfJoin j = SelfJoin.build(codes, radius, keyParts, keyParts == 0 ? SearchPlanOptions.Strategy.AUTO : SearchPlanOptions.Strategy.TABLES);
+          String at = Randoms.describe(seed) + " n=" + n + " R=" + radius + " s=" + j.keyParts() + " tables=" + j.tables() + " scan=" + j.scans();
+          for (int threads : new int[] {1, 3}) {
+            long[] got = joined(j, threads);
+            assertArrayEquals(want.stream().mapToLong(Long::longValue).toArray(), got, at + " threads=" + threads);
+          }
+        }
+      }
+    }
+  }
+
   @Test
   void matchesEqualPerRowRadiusSearch() {
     for (int rep = 0; rep < 12; rep++) {
