@@ -365,12 +365,11 @@ public final class SelfJoin {
         System.arraycopy(codes, a * w, cs, x * w, w);
         System.arraycopy(owned, a * top, own, x * o, o);
       }
+      int[] near = sc.near;
       for (int x = 0; x < b; x++) {
         next:
-        for (int y = x + 1; y < b; y++) {
-          // the distance first: most candidates are too far (a well-predicted branch)
-          int d = Hamming.distanceBounded(cs, x * w, cs, y * w, w, radius);
-          if (d > radius) continue;
+        for (int h = 0, found = near(cs, w, x, b, radius, near); h < found; h++) {
+          int y = near[h], d = Hamming.distanceBounded(cs, x * w, cs, y * w, w, radius);
           for (int q = 0, xo = x * o, yo = y * o; q < o; q++) if (own[xo + q] == own[yo + q]) continue next;
           for (int q = o, ao = at[x] * top, bo = at[y] * top; q < top; q++) if (owned[ao + q] != owned[bo + q]) continue next;
           int ea = at[x], eb = at[y];
@@ -388,13 +387,36 @@ public final class SelfJoin {
     void run(int thread, int lo, int hi);
   }
 
+  /**
+   * The members {@code y > x} of a bucket's codes {@code cs} within {@code radius} of member {@code
+   * x}, into {@code out}; returns their count. The hot loop of the join, kept small so that it
+   * compiles tight (a 4-word code is held in registers).
+   */
+  static int near(long[] cs, int w, int x, int b, int radius, int[] out) {
+    int found = 0;
+    if (w == 4) {
+      int o = x * 4;
+      long x0 = cs[o], x1 = cs[o + 1], x2 = cs[o + 2], x3 = cs[o + 3];
+      for (int y = x + 1, p = o + 4; y < b; y++, p += 4) {
+        int d = Long.bitCount(x0 ^ cs[p]) + Long.bitCount(x1 ^ cs[p + 1]) + Long.bitCount(x2 ^ cs[p + 2]) + Long.bitCount(x3 ^ cs[p + 3]);
+        if (d <= radius) out[found++] = y;
+      }
+      return found;
+    }
+    for (int y = x + 1; y < b; y++) if (Hamming.distanceBounded(cs, x * w, cs, y * w, w, radius) <= radius) out[found++] = y;
+    return found;
+  }
+
   /** Per-task copies of one bucket's members. */
   private static final class Scratch {
-    int[] at = new int[64], own = new int[64];
+    int[] at = new int[64], own = new int[64], near = new int[64];
     long[] codes = new long[64];
 
     void fit(int b, int w, int o) {
-      if (at.length < b) at = new int[Math.max(b, at.length * 2)];
+      if (at.length < b) {
+        at = new int[Math.max(b, at.length * 2)];
+        near = new int[at.length];
+      }
       if (codes.length < b * w) codes = new long[Math.max(b * w, codes.length * 2)];
       if (own.length < b * o) own = new int[Math.max(b * o, own.length * 2)];
     }
