@@ -98,7 +98,8 @@ public final class SelfJoin {
     Parts best = null;
     for (int s = keyParts > 0 ? keyParts : 1; radius + s <= Math.min(informative, MAX_PARTS); s++) {
       int m = radius + s;
-      if (keyParts == 0 && binomial(m, s) > MAX_TABLES) break;
+      // more tables than the best plan can afford, even with no candidates at all: stop drafting
+      if (keyParts == 0 && (binomial(m, s) > MAX_TABLES || binomial(m, s) * n * TABLE_NS_PER_CODE >= bestCost)) break;
       Parts p = Parts.choose(sample, m, informative);
       double pairs = p.collisions(sample, s) * ((double) n * (n - 1)) / ((double) sample.size() * (sample.size() - 1));
       double cost = binomial(m, s) * n * TABLE_NS_PER_CODE + pairs * CANDIDATE_NS;
