@@ -68,6 +68,26 @@ final class MihSearcher implements CodeSearcher {
     this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
   }
 
+  /** This searcher with {@code p} as its partition (the tables' statistics are reused). */
+  MihSearcher withPartition(Partition p) {
+    return new MihSearcher(this, p);
+  }
+
+  private MihSearcher(MihSearcher s, Partition partition) {
+    this.codes = s.codes;
+    this.plan = s.plan;
+    this.tables = s.tables;
+    this.strategy = s.strategy;
+    this.partition = partition;
+    this.cost = s.cost;
+    this.scan = s.scan;
+    this.scanCost = s.scanCost;
+    this.ownRate = s.ownRate;
+    this.nearRate = s.nearRate;
+    int n = codes.size();
+    this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
+  }
+
   @Override
   public CodeLayout layout() {
     return codes.layout();

@@ -3,6 +3,7 @@ package io.actindex.index.store;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.index.mih.SearchPlanOptions;
 import io.actindex.index.meta.MetaWriter;
 import java.io.IOException;
 import java.io.UncheckedIOException;
@@ -37,6 +38,7 @@ public final class IndexWriter implements AutoCloseable {
   private final Path dir;
   private final StoreIo io;
   private MergePolicy policy = MergePolicy.defaults();
+  private SearchPlanOptions searchPlan = SearchPlanOptions.defaults();
   private final List<String> warnings = new ArrayList<>();
   private WriteLock lock;
   private MetaWriter meta;
@@ -128,6 +130,16 @@ public final class IndexWriter implements AutoCloseable {
     return this;
   }
 
+  /**
+   * Replaces the plan of the search structures built for new segments (adds, merges, compaction);
+   * default {@link SearchPlanOptions#defaults()}. Every plan answers exactly; tests of very large
+   * segments use a cheap one.
+   */
+  public IndexWriter searchPlan(SearchPlanOptions p) {
+    this.searchPlan = java.util.Objects.requireNonNull(p);
+    return this;
+  }
+
   /** The layout every added block must have. */
   public CodeLayout layout() {
     return manifest.layout();
@@ -193,7 +205,7 @@ public final class IndexWriter implements AutoCloseable {
         int[] ids = new int[len];
         for (int i = 0; i < len; i++) ids[i] = first + at + i;
         CodeBlock piece = at == 0 && len == n ? codes : codes.slice(at, at + len);
-        segs.add(Segment.write(io, dir, manifest.uuid(), segId, piece, ids));
+        segs.add(Segment.write(io, dir, manifest.uuid(), segId, piece, ids, searchPlan));
         if (magnitudes != null)
           mags.put(segId, Magnitudes.write(io, dir, manifest.uuid(), manifest.layout().hash(), segId,
               len == n ? magnitudes : rows(magnitudes, at, len)));
@@ -334,7 +346,7 @@ public final class IndexWriter implements AutoCloseable {
         }
         so++;
       }
-      out.add(Segment.write(io, dir, m.uuid(), segId, new CodeBlock(m.layout(), len, words), ids));
+      out.add(Segment.write(io, dir, m.uuid(), segId, new CodeBlock(m.layout(), len, words), ids, searchPlan));
       if (kept != null)
         mags.put(segId, Magnitudes.write(io, dir, m.uuid(), m.layout().hash(), segId,
             len == total ? kept : rows(kept, at, len)));
