@@ -44,6 +44,7 @@ final class MihSearcher implements CodeSearcher {
   final PlannerCosts cost;
   private final ScanSearcher scan;
   private final double scanCost;
+  private final double candidateCost; // a candidate verified at a random place of these codes
   private final double[] ownRate; // expected codes in the query's own bucket, per table
   private final double[] nearRate; // expected codes per probe of a neighbouring bucket, per table
   private final ThreadLocal<Scratch> scratch;
@@ -59,6 +60,7 @@ final class MihSearcher implements CodeSearcher {
     this.scan = new ScanSearcher(codes);
     int n = codes.size();
     this.scanCost = cost.scan(n, codes.wordsPerCode());
+    this.candidateCost = cost.candidate(8L * codes.words().length);
     this.ownRate = new double[tables.length];
     this.nearRate = new double[tables.length];
     for (int t = 0; t < tables.length; t++) {
@@ -82,6 +84,7 @@ final class MihSearcher implements CodeSearcher {
     this.cost = s.cost;
     this.scan = s.scan;
     this.scanCost = s.scanCost;
+    this.candidateCost = s.candidateCost;
     this.ownRate = s.ownRate;
     this.nearRate = s.nearRate;
     int n = codes.size();
@@ -278,7 +281,7 @@ final class MihSearcher implements CodeSearcher {
     double probes = Math.min(ProbeEnumerator.count(tab.width, rho), tab.buckets());
     // codes per probe: the table's prior, corrected by what this query met in neighbouring buckets
     double rate = rho == 0 ? ownRate[t] : (nearRate[t] * 64 + s.nearCandidates) / (64 + s.nearProbes);
-    return probes * ((tab.dense() ? cost.probeDense() : cost.probeSparse()) + rate * cost.candidate());
+    return probes * ((tab.dense() ? cost.probeDense() : cost.probeSparse()) + rate * candidateCost);
   }
 
   /** Mean size of the buckets one bit away from the keys of up to 256 evenly spaced codes. */
@@ -349,7 +352,7 @@ final class MihSearcher implements CodeSearcher {
       s.nearProbes += probes;
       s.nearCandidates += cands;
     }
-    s.work += probes * (tab.dense() ? cost.probeDense() : cost.probeSparse()) + cands * cost.candidate();
+    s.work += probes * (tab.dense() ? cost.probeDense() : cost.probeSparse()) + cands * candidateCost;
   }
 
   /**

@@ -36,8 +36,9 @@ import java.util.stream.IntStream;
  *   sparse only: int distinct, int[distinct] keys XOR 0x80000000, strictly ascending
  *   int[buckets + 1] offsets (0, non-decreasing, n last; buckets = 2^width or distinct)
  *   int[n] ids (each ordinal once, grouped by key)
- * double[7] planner costs in ns, measured at build ({@link PlannerCosts}: scan per code, scan per
- *        word, dense probe, sparse probe, candidate, walked filter member, partition code)
+ * double[8] planner costs in ns, measured at build ({@link PlannerCosts}: scan per code, scan per
+ *        word, dense probe, sparse probe, candidate, walked filter member, partition code, candidate
+ *        in a block far beyond the caches; version 2 has the first 7)
  * byte   partition: 0 none, 1 follows
  *   int clusters C (1..n), long[C * words] centres (ghost bits zero)
  *   int[C + 1] start (0, non-decreasing, n last)
@@ -244,7 +245,7 @@ public final class Searchers {
     PlannerCosts cost = PlannerCosts.defaults();
     Partition partition = null;
     if (version >= 2) {
-      double[] c = new double[PlannerCosts.COUNT];
+      double[] c = new double[version >= 3 ? PlannerCosts.COUNT : PlannerCosts.COUNT_V2];
       for (int i = 0; i < c.length; i++) c[i] = in.readDouble();
       try {
         cost = PlannerCosts.of(c);
