@@ -208,5 +208,17 @@ class OodEndToEndTest {
     Cli.Result e = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--format", "json");
     assertThat(e.code()).as(e.describe()).isZero();
     assertThat(JSON.readTree(e.out()).get("scores").findValuesAsText("name")).contains("code", "refined");
+    // float rows that do not pair with the --in/--out rows: refused naming both files and counts
+    Path fewer = Files2.floats(tmp.resolve("fewer.npy"), floats(59, 0.1, 2));
+    Cli.Result in = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--in-floats", fewer.toString(),
+        "--out-floats", qF.toString(), "--train-floats", trainF.toString(), "--score", "refined");
+    assertThat(in.code()).as(in.describe()).isEqualTo(2);
+    assertThat(in.err().strip()).as(in.describe()).isEqualTo("actindex ood eval: " + fewer + ": 59 rows of floats, but --in " + calF
+        + " has 60; --in-floats must hold the same inputs in the same order");
+    Cli.Result out = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--in-floats", calF.toString(),
+        "--out-floats", fewer.toString(), "--train-floats", trainF.toString());
+    assertThat(out.code()).as(out.describe()).isEqualTo(2);
+    assertThat(out.err().strip()).as(out.describe()).startsWith("actindex ood eval: " + fewer + ": 59 rows of floats, but --out " + qF + " has 20");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 }

@@ -105,9 +105,12 @@ public final class OodEval {
     if (p.trainFloats() != null) {
       FloatKnnScore f = new FloatKnnScore(p.trainFloats());
       double[][] qa = f.queries(p.inFloats()), qb = f.queries(p.outFloats());
-      if (qa.length != in.size() || qb.length != out.size())
-        throw new BadInputException(p.inFloats() + " / " + p.outFloats() + ": " + qa.length + " / " + qb.length + " rows, the inputs have "
-            + in.size() + " / " + out.size());
+      if (qa.length != in.size())
+        throw new BadInputException(p.inFloats() + ": " + qa.length + " rows of floats, but --in " + p.in().file() + " has " + in.size()
+            + "; --in-floats must hold the same inputs in the same order");
+      if (qb.length != out.size())
+        throw new BadInputException(p.outFloats() + ": " + qb.length + " rows of floats, but --out " + p.out().file() + " has " + out.size()
+            + "; --out-floats must hold the same inputs in the same order");
       floats = Scored.of("float", "k-NN score on unit-length float activations (k=" + cal.k() + ")", f.scores(qa, cal.k()), f.scores(qb, cal.k()));
       if (scorer.kind() == OodScorer.Kind.CODE && f.rows() == reader.maxId()) { // training rows are the index's ids
         int c = Math.min(Math.max(p.candidates() == 0 ? REFINE_CANDIDATES : p.candidates(), cal.k()), reader.liveCount());
