@@ -4,7 +4,7 @@ import io.actindex.cli.format.CsvWriter;
 import io.actindex.cli.format.Format;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
-import io.actindex.core.BadInputException;
+import io.actindex.core.OutputFiles;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.edge.EdgeBundle.Statistic;
 import io.actindex.index.store.IndexReader;
@@ -24,9 +24,7 @@ import java.io.PrintWriter;
 import java.io.StringWriter;
 import java.io.UncheckedIOException;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;
@@ -334,9 +332,8 @@ final class OodCommand implements Callable<Integer> {
 
     @Override
     public Integer call() {
-      for (Path p : new Path[] {roc, html})
-        if (p != null && !Files.isDirectory(p.toAbsolutePath().getParent())) throw new BadInputException(p + ": its folder does not exist");
-        else if (p != null && Files.isDirectory(p)) throw new BadInputException(p + ": is a folder; --roc and --html name files");
+      if (roc != null) OutputFiles.checkTarget(roc, "--roc");
+      if (html != null) OutputFiles.checkTarget(html, "--html");
       OodEval.Result r;
       try (IndexReader reader = IndexReader.open(index.dir)) {
         Kind k = kind != null ? kind : BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel() ? Kind.inputs : Kind.activations;
@@ -347,8 +344,8 @@ final class OodCommand implements Callable<Integer> {
         }
       }
       List<OodEval.Scored> scores = r.scores();
-      if (roc != null) write(roc, rocCsv(scores));
-      if (html != null) write(html, EvalPage.render("Out-of-distribution evaluation: " + index.dir.getFileName(), r));
+      if (roc != null) write(roc, rocCsv(scores), "--roc");
+      if (html != null) write(html, EvalPage.render("Out-of-distribution evaluation: " + index.dir.getFileName(), r), "--html");
       PrintWriter out = spec.commandLine().getOut();
       switch (format.format) {
         case json -> {
@@ -423,15 +420,9 @@ final class OodCommand implements Callable<Integer> {
       return s.toString();
     }
 
-    private static void write(Path file, String text) {
+    private static void write(Path file, String text, String option) {
       try {
-        Path tmp = Files.createTempFile(file.toAbsolutePath().getParent(), file.getFileName().toString(), ".tmp");
-        try {
-          Files.writeString(tmp, text, StandardCharsets.UTF_8);
-          Files.move(tmp, file, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
-        } finally {
-          Files.deleteIfExists(tmp);
-        }
+        OutputFiles.write(file, text.getBytes(StandardCharsets.UTF_8), option);
       } catch (IOException e) {
         throw new UncheckedIOException("cannot write " + file + ": " + e.getMessage(), e);
       }

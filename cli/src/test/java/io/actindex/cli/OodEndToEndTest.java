@@ -108,6 +108,15 @@ class OodEndToEndTest {
     assertThat(xj.get("bytes").asLong()).isEqualTo(Files.size(bundle));
     assertThat(xj.get("examples").asInt()).isEqualTo(400);
     assertThat(tmp.resolve("c").resolve("actindex_edge.c")).exists();
+    // every output follows the umask like any new file (was 0600 for these four from Files.createTempFile)
+    if (Files.getFileStore(tmp).supportsFileAttributeView("posix")) {
+      var mode = Files.getPosixFilePermissions(Files.createFile(tmp.resolve("plain-new-file")));
+      for (Path f : List.of(html, roc, bundle, tmp.resolve("c").resolve("actindex_edge.c"), tmp.resolve("c").resolve("actindex_edge.h")))
+        assertThat(Files.getPosixFilePermissions(f)).as(f.toString()).isEqualTo(mode);
+      try (var left = Files.list(tmp)) {
+        assertThat(left.map(p -> p.getFileName().toString())).noneMatch(n -> n.endsWith(".tmp"));
+      }
+    }
     Cli.Result t = Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:1");
     assertThat(t.out()).contains("caution: A calibrated heuristic, not a guarantee");
   }

@@ -131,7 +131,7 @@ class EdgeBundleTest {
   void commandLineScoresRowsAndRefusesBadBundles() throws Exception {
     EdgeBundle b = random(9, 20, 36, EdgeBundle.Statistic.KTH, 6, false);
     Path file = tmp.resolve("b.edge");
-    BundleFormat.write(b, file);
+    Files.write(file, BundleFormat.toBytes(b));
     StringBuilder bits = new StringBuilder();
     long[] c = b.code(0);
     for (int i = 0; i < 36; i++) bits.append((c[i >>> 6] >>> (i & 63) & 1) != 0 ? '1' : '0');
@@ -154,7 +154,7 @@ class EdgeBundleTest {
   void commandLineRefusesBadPathsBundlesAndRowsWithOneLine() throws Exception {
     EdgeBundle b = random(11, 20, 70, EdgeBundle.Statistic.KTH, 6, true);
     Path file = tmp.resolve("m.edge");
-    BundleFormat.write(b, file);
+    Files.write(file, BundleFormat.toBytes(b));
     Path folder = Files.createDirectory(tmp.resolve("folder.edge"));
     assertRefused(run(new String[] {folder.toString()}, ""), folder + ": is a folder, not a bundle file");
     assertRefused(run(new String[] {tmp.resolve("none.edge").toString()}, ""), tmp.resolve("none.edge") + ": no such file");
