@@ -207,21 +207,22 @@ final class OodCommand implements Callable<Integer> {
     }
 
     private void decisions(PrintWriter out, Calibration c, QueryCodes q, boolean[] isOut) {
+      String name = OodCalibration.Scoring.CODE.name(c.statistic()); // decision-only runs on code calibrations only
       switch (format.format) {
         case json -> {
           JsonWriter j = new JsonWriter(out).beginObject();
           calibration(j, c);
-          j.name("results").beginArray();
+          j.member("score_name", name).name("results").beginArray();
           for (int i = 0; i < isOut.length; i++) j.beginObject().member("query", q.row(i)).member("decision", isOut[i] ? "out" : "in").endObject();
           j.endArray().member("caution", OodCalibration.CAUTION).endObject();
           out.println();
         }
         case csv -> {
-          CsvWriter w = new CsvWriter(out, List.of("query", "decision"));
-          for (int i = 0; i < isOut.length; i++) w.row(List.of(Long.toString(q.row(i)), isOut[i] ? "out" : "in"));
+          CsvWriter w = new CsvWriter(out, List.of("query", "decision", "score_name"));
+          for (int i = 0; i < isOut.length; i++) w.row(List.of(Long.toString(q.row(i)), isOut[i] ? "out" : "in", name));
         }
         case table -> {
-          out.println("threshold " + num(c.threshold()) + " (k=" + c.k() + ", " + c.statistic().label + ", layers " + layers(c.layers()) + ")");
+          out.println("threshold " + num(c.threshold()) + " on the " + name + " (k=" + c.k() + ", layers " + layers(c.layers()) + ")");
           TextTable t = new TextTable(List.of("query", "decision"));
           for (int i = 0; i < isOut.length; i++) t.row(List.of(Long.toString(q.row(i)), isOut[i] ? "out" : "in"));
           t.print(out, "");
@@ -235,7 +236,7 @@ final class OodCommand implements Callable<Integer> {
         case json -> {
           JsonWriter j = new JsonWriter(out).beginObject();
           calibration(j, c);
-          j.name("results").beginArray();
+          j.member("score_name", o.scoreName()).name("results").beginArray();
           for (OodScore.Result r : o.results()) {
             j.beginObject().member("query", r.row()).member("score", r.score()).member("kth", r.kth()).member("mean", r.mean())
                 .name("own_region").value(r.ownRegion()).member("decision", r.out() ? "out" : "in").member("p_value", r.pValue())
@@ -250,15 +251,17 @@ final class OodCommand implements Callable<Integer> {
           out.println();
         }
         case csv -> {
-          CsvWriter w = new CsvWriter(out, List.of("query", "score", "kth", "mean", "own_region", "decision", "p_value", "max_softmax", "evidence"));
+          CsvWriter w = new CsvWriter(out, List.of("query", "score", "kth", "mean", "own_region", "decision", "p_value", "max_softmax", "evidence",
+              "score_name"));
           for (OodScore.Result r : o.results())
             w.row(List.of(Long.toString(r.row()), Double.toString(r.score()), Integer.toString(r.kth()), Double.toString(r.mean()),
                 Boolean.toString(r.ownRegion()), r.out() ? "out" : "in", Double.toString(r.pValue()),
-                r.maxSoftmax() == null ? "" : Double.toString(r.maxSoftmax()), evidence(r)));
+                r.maxSoftmax() == null ? "" : Double.toString(r.maxSoftmax()), evidence(r), o.scoreName()));
         }
         case table -> {
-          out.println("threshold " + num(c.threshold()) + " (k=" + c.k() + ", " + c.statistic().label + ", layers " + layers(c.layers())
-              + ", target TPR " + c.tpr() + ", " + c.scores().length + " calibration inputs)");
+          String cands = o.scoring().kind() == OodScorer.Kind.REFINED ? ", among " + o.scoring().candidates() + " Hamming candidates" : "";
+          out.println("score: " + o.scoreName() + " (k=" + c.k() + cands + ", layers " + layers(c.layers()) + ")");
+          out.println("threshold " + num(c.threshold()) + " (target TPR " + c.tpr() + ", " + c.scores().length + " calibration inputs)");
           boolean msp = o.results().stream().anyMatch(r -> r.maxSoftmax() != null);
           List<String> header = new ArrayList<>(List.of("query", "score", "decision", "p-value", "own region"));
           if (msp) header.add("max softmax");

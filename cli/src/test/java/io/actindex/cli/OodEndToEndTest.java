@@ -83,7 +83,12 @@ class OodEndToEndTest {
       assertThat(r.get("max_softmax").isNull()).isTrue();
     }
     Cli.Result csv = Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:2", "--format", "csv");
-    assertThat(csv.out().lines().toList()).hasSize(3).first().isEqualTo("query,score,kth,mean,own_region,decision,p_value,max_softmax,evidence");
+    assertThat(csv.out().lines().toList()).hasSize(3).first().isEqualTo("query,score,kth,mean,own_region,decision,p_value,max_softmax,evidence,score_name");
+    assertThat(csv.out().lines().skip(1)).allMatch(l -> l.endsWith(",code k-th distance"));
+    assertThat(JSON.readTree(s.out()).get("score_name").asText()).isEqualTo("code k-th distance");
+    assertThat(JSON.readTree(d.out()).get("score_name").asText()).isEqualTo("code k-th distance");
+    assertThat(Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:1").out())
+        .startsWith("score: code k-th distance (k=3, layers all)\nthreshold " + OodCommand.num(threshold) + " (target TPR 0.9, 60 calibration inputs)");
     assertThat(csv.err()).startsWith("caution: ");
 
     Path html = tmp.resolve("eval.html"), roc = tmp.resolve("roc.csv");
@@ -193,6 +198,13 @@ class OodEndToEndTest {
     assertThat(cj.get("candidates").asInt()).isEqualTo(100);
     Cli.Result s = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString(), "--format", "json");
     assertThat(s.code()).as(s.describe()).isZero();
+    assertThat(JSON.readTree(s.out()).get("score_name").asText()).isEqualTo("refined cosine k-th distance");
+    Cli.Result mean = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString(), "-k", "2", "--statistic", "mean");
+    assertThat(mean.code()).as(mean.describe()).isZero();
+    Cli.Result table = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString());
+    assertThat(table.out()).startsWith("score: refined cosine mean distance (k=2, among 100 Hamming candidates, layers all)\n");
+    Cli.Result csvMean = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString(), "--format", "csv");
+    assertThat(csvMean.out().lines().skip(1)).hasSize(20).allMatch(l -> l.endsWith(",refined cosine mean distance"));
     for (JsonNode r : JSON.readTree(s.out()).get("results"))
       assertThat(r.get("decision").asText()).isEqualTo(r.get("score").asDouble() > cj.get("threshold").asDouble() ? "out" : "in");
     Map<String, String> before = Files2.checksums(idx);

@@ -49,8 +49,13 @@ public final class OodScore {
   public record Result(long row, double score, int kth, double mean, boolean ownRegion, boolean out, double pValue, List<Evidence> evidence,
       Double maxSoftmax) {}
 
-  /** The calibration in force and one result per input. */
-  public record Output(Calibration calibration, List<Result> results) {}
+  /** The calibration in force, one result per input, and which score the calibration uses. */
+  public record Output(Calibration calibration, List<Result> results, OodCalibration.Scoring scoring) {
+    /** The score in force by name ({@link OodCalibration.Scoring#name}), e.g. {@code code k-th distance}. */
+    public String scoreName() {
+      return scoring.name(calibration.statistic());
+    }
+  }
 
   public static Output run(IndexReader reader, Source source, RowRange rows, Params p, Progress progress) {
     Calibration cal = OodCalibration.load(reader);
@@ -69,7 +74,7 @@ public final class OodScore {
           EdgeBundle.pValue(sorted, s.value()), List.copyOf(ev), msp == null ? null : 1 - msp[i]));
       progress.update(i + 1, q.size());
     }
-    return new Output(cal, List.copyOf(out));
+    return new Output(cal, List.copyOf(out), OodCalibration.scoring(reader));
   }
 
   /**
