@@ -16,7 +16,8 @@ import java.util.concurrent.ThreadLocalRandom;
  * forced to disk, then renamed onto the target. Unlike {@link Files#createTempFile}, which makes
  * files readable by their owner only (0600), the temporary file is created with no explicit
  * permissions, so it gets the mode the umask gives any new file, as the index's own files do: the
- * result looks like any file the user writes.
+ * result looks like any file the user writes. A full disk is refused naming the target ({@link
+ * DiskFull}).
  */
 public final class OutputFiles {
   private OutputFiles() {}
@@ -66,6 +67,7 @@ public final class OutputFiles {
       } catch (IOException suppressed) {
         e.addSuppressed(suppressed);
       }
+      if (DiskFull.in(e)) throw DiskFull.refusal(target.toString(), "it was not written (a file already there is unchanged)", e);
       throw e;
     }
   }

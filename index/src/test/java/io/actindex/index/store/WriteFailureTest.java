@@ -18,7 +18,7 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * Disk-full and clean-up failures, injected through {@link StoreIo}: a failed add leaves no partial
+ * Write, disk-full and clean-up failures, injected through {@link StoreIo}: a failed add leaves no partial
  * segment file and the last commit readable; a clean-up that fails after the manifest is published
  * is a warning, the commit stands, and the rows are there once.
  */
@@ -30,7 +30,7 @@ class WriteFailureTest {
     return new StoreIo.Forwarding(StoreIo.REAL) {
       @Override
       public FileChannel create(Path file) throws IOException {
-        if (failCreate.test(file)) throw new IOException("No space left on device (injected)");
+        if (failCreate.test(file)) throw new IOException("Input/output error (injected)"); // EIO: an internal error (a full disk is a refusal, below)
         return super.create(file);
       }
 
@@ -69,6 +69,70 @@ class WriteFailureTest {
     }
     try (IndexWriter again = IndexWriter.open(dir)) {
       assertEquals(20, again.add(codes.slice(20, 40), null)); // a retry adds them once
+    }
+  }
+
+  /** SHA-256 of every file under {@code dir}, by relative path (the Lucene folder included). */
+  static Map<String, String> checksums(Path dir) throws IOException {
+    Map<String, String> out = new java.util.TreeMap<>();
+    try (var walk = Files.walk(dir)) {
+      for (Path p : walk.filter(Files::isRegularFile).toList()) {
+        try {
+          out.put(dir.relativize(p).toString(),
+              java.util.HexFormat.of().formatHex(java.security.MessageDigest.getInstance("SHA-256").digest(Files.readAllBytes(p))));
+        } catch (java.security.NoSuchAlgorithmException e) {
+          throw new AssertionError(e);
+        }
+      }
+    }
+    return out;
+  }
+
+  /** Metadata rows with a key and a label, so that each add also commits Lucene. */
+  static List<Map<String, String>> rows(int from, int n) {
+    return java.util.stream.IntStream.range(from, from + n).mapToObj(i -> Map.of("key", "k" + i, "label", "l" + (i % 3))).toList();
+  }
+
+  /**
+   * A full disk (the JDK's own ENOSPC exception, {@link io.actindex.core.NoSpace}) while an add, a
+   * delete, an attachment or a compaction writes its files: refused as bad input naming the folder
+   * and "no space left", every file of the index byte-identical afterwards, and the retry works.
+   */
+  @Test
+  void diskFullIsRefusedNamingTheFolderAndLeavesTheIndexAsItWas() throws IOException {
+    Path dir = tmp.resolve("idx");
+    CodeBlock codes = SyntheticCodes.uniform(90, 64, 5);
+    try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
+      w.add(codes.slice(0, 30), rows(0, 30));
+      w.delete(org.roaringbitmap.RoaringBitmap.bitmapOf(3, 4));
+    }
+    Map<String, String> before = checksums(dir);
+    List<String> kinds = List.of(".codes", ".tables", ".bits", ".bin");
+    for (String kind : kinds) {
+      StoreIo full = new StoreIo.Forwarding(StoreIo.REAL) {
+        @Override
+        public FileChannel create(Path file) throws IOException {
+          if (file.getFileName().toString().endsWith(kind)) throw io.actindex.core.NoSpace.exception();
+          return super.create(file);
+        }
+      };
+      IndexWriter w = IndexWriter.open(dir, full);
+      Runnable change = switch (kind) {
+        case ".codes", ".tables" -> () -> w.add(codes.slice(30, 60), rows(30, 30));
+        case ".bits" -> () -> w.delete(org.roaringbitmap.RoaringBitmap.bitmapOf(5, 6, 7));
+        default -> () -> w.putAttachment("note", new byte[] {1, 2, 3});
+      };
+      io.actindex.core.BadInputException e = assertThrows(io.actindex.core.BadInputException.class, change::run, kind);
+      assertTrue(e.getMessage().startsWith("index " + dir + ": no space left on device ("), e.getMessage());
+      assertTrue(e.getMessage().contains("the change was not made, the index is as it was"), e.getMessage());
+      assertEquals(before, checksums(dir), "index unchanged after a full disk at " + kind);
+      w.close();
+    }
+    try (IndexWriter w = IndexWriter.open(dir)) {
+      assertEquals(30, w.add(codes.slice(30, 60), rows(30, 30)));
+    }
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertEquals(58, r.liveCount());
     }
   }
 
