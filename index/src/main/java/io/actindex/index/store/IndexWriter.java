@@ -430,6 +430,21 @@ public final class IndexWriter implements AutoCloseable {
       cause.addSuppressed(e);
     }
     try {
+      MetaWriter m = meta;
+      meta = null;
+      m.close();
+    } catch (IOException | RuntimeException e) {
+      cause.addSuppressed(e);
+    }
+    if (undone) { // Lucene's files of the failed change (a commit no manifest names, a half-written flush), under our lock
+      try {
+        Path metaDir = dir.resolve(META_DIR);
+        MetaWriter.dropUnpublished(metaDir, io.lucene(metaDir), manifest.metaCommit());
+      } catch (IOException | RuntimeException e) {
+        cause.addSuppressed(e);
+      }
+    }
+    try {
       close();
     } catch (RuntimeException e) {
       cause.addSuppressed(e);
@@ -485,7 +500,7 @@ public final class IndexWriter implements AutoCloseable {
     if (lock == null) return;
     try {
       try {
-        meta.close();
+        if (meta != null) meta.close();
       } finally {
         lock.close();
       }

@@ -136,6 +136,86 @@ class WriteFailureTest {
     }
   }
 
+  /**
+   * Lucene's files of a change that failed after or during its Lucene commit (the manifest's rename
+   * fails; Lucene's k-th output cannot be created on a full disk) are removed at once, and those a
+   * crash left (a Lucene commit no manifest names) by the next writer's open; the published commit
+   * stays, so every byte of the index equals what it was before the change.
+   */
+  @Test
+  void luceneFilesOfAFailedOrCrashedChangeAreRemovedAndThePublishedCommitKept() throws IOException {
+    Path dir = tmp.resolve("idx");
+    CodeBlock codes = SyntheticCodes.uniform(90, 64, 6);
+    try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
+      w.add(codes.slice(0, 30), rows(0, 30));
+    }
+    Map<String, String> before = checksums(dir);
+    // the manifest cannot be renamed into place: Lucene has committed the new documents
+    StoreIo noRename = new StoreIo.Forwarding(StoreIo.REAL) {
+      @Override
+      public void move(Path from, Path to) throws IOException {
+        throw new IOException("Input/output error (injected)");
+      }
+    };
+    IndexWriter w1 = IndexWriter.open(dir, noRename);
+    assertThrows(UncheckedIOException.class, () -> w1.add(codes.slice(30, 60), rows(30, 30)));
+    assertEquals(before, checksums(dir), "after a failed manifest rename");
+    // Lucene's k-th new file cannot be created (a full disk): every k up to a change that fits
+    int failures = 0;
+    for (int k = 0; ; k++) {
+      int failAt = k;
+      int[] outputs = {0};
+      StoreIo luceneFull = new StoreIo.Forwarding(StoreIo.REAL) {
+        @Override
+        public org.apache.lucene.store.Directory lucene(Path d) throws IOException {
+          return new org.apache.lucene.store.FilterDirectory(super.lucene(d)) {
+            @Override
+            public org.apache.lucene.store.IndexOutput createOutput(String name, org.apache.lucene.store.IOContext context) throws IOException {
+              if (outputs[0]++ == failAt) throw io.actindex.core.NoSpace.exception();
+              return super.createOutput(name, context);
+            }
+          };
+        }
+      };
+      IndexWriter w = IndexWriter.open(dir, luceneFull);
+      try {
+        w.add(codes.slice(30, 60), rows(30, 30));
+        w.close();
+        break;
+      } catch (io.actindex.core.BadInputException e) {
+        failures++;
+        assertTrue(e.getMessage().contains("no space left on device"), e.getMessage());
+        assertEquals(before, checksums(dir), "after Lucene's output " + k + " failed");
+      }
+    }
+    assertTrue(failures > 3, failures + " Lucene outputs");
+    // a crash between the Lucene commit and the manifest: a later Lucene commit stays on disk...
+    Path crashed = tmp.resolve("crashed");
+    try (IndexWriter w = IndexWriter.create(crashed, codes.layout(), Map.of())) {
+      w.add(codes.slice(0, 30), rows(0, 30));
+    }
+    Map<String, String> published = checksums(crashed);
+    Manifest m = Manifest.read(crashed, Manifest.newestGeneration(crashed));
+    try (io.actindex.index.meta.MetaWriter meta = io.actindex.index.meta.MetaWriter.open(crashed.resolve("meta"), m.metaCommit())) {
+      meta.add(meta.prepare(30, 30, rows(30, 30)));
+      meta.commit(); // and then the process dies: no manifest names this commit
+    }
+    assertTrue(!checksums(crashed).equals(published), "the unpublished commit is on disk");
+    try (IndexReader r = IndexReader.open(crashed)) {
+      assertEquals(30, r.liveCount()); // readers see the published commit
+    }
+    // ...until the next writer opens: it drops the unpublished commit and nothing else
+    IndexWriter.open(crashed).close();
+    assertEquals(published, checksums(crashed), "the next writer removed the crash's Lucene commit");
+    try (IndexWriter w = IndexWriter.open(crashed)) {
+      assertEquals(30, w.add(codes.slice(30, 60), rows(30, 30)));
+    }
+    try (IndexReader r = IndexReader.open(crashed)) {
+      assertEquals(60, r.liveCount());
+      assertEquals("k45", r.meta().document(45).get("key"));
+    }
+  }
+
   @Test
   void failedCleanUpAfterPublishingIsAWarning() throws IOException {
     Path dir = tmp.resolve("idx");
