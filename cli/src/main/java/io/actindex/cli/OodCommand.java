@@ -78,7 +78,7 @@ final class OodCommand implements Callable<Integer> {
     else if (f == Format.table) out.println("caution: " + OodCalibration.CAUTION);
   }
 
-  @Command(name = "calibrate", mixinStandardHelpOptions = true,
+  @Command(name = "calibrate", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
       description = {"Scores held-out in-distribution inputs (not in the index) and stores the sorted scores, k, statistic, layers and the "
           + "threshold that accepts the target share of in-distribution inputs in the index (one atomic commit)."})
   static final class Calibrate implements Callable<Integer> {
@@ -111,6 +111,7 @@ final class OodCommand implements Callable<Integer> {
     int candidates;
 
     @Mixin LayersOption layers;
+    @Mixin ThreadsOption threads;
     @Mixin FormatOption format;
 
     @Override
@@ -126,7 +127,7 @@ final class OodCommand implements Callable<Integer> {
       OodCalibrate.Result r;
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "calibrating")) {
         r = OodCalibrate.run(index.dir, query.toSource(), query.range(), new OodCalibrate.Params(k, st, tpr, layers.layers, checkOverlap,
-            score == null ? null : OodScorer.Kind.parse(score), candidates), bar);
+            score == null ? null : OodScorer.Kind.parse(score), candidates, threads.resolved()), bar);
       }
       PrintWriter out = spec.commandLine().getOut();
       Calibration c = r.calibration();
@@ -161,7 +162,7 @@ final class OodCommand implements Callable<Integer> {
     }
   }
 
-  @Command(name = "score", mixinStandardHelpOptions = true,
+  @Command(name = "score", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
       description = {"Per input: score, threshold, decision (in/out), conformal p-value, own region populated, nearest training examples as "
           + "evidence, and the model's maximum softmax probability beside it when the inputs are raw inputs and the index holds the model."})
   static final class Score implements Callable<Integer> {
@@ -181,6 +182,7 @@ final class OodCommand implements Callable<Integer> {
     String score;
 
 
+    @Mixin ThreadsOption threads;
     @Mixin FormatOption format;
 
     @Override
@@ -192,11 +194,12 @@ final class OodCommand implements Callable<Integer> {
           Calibration c = OodCalibration.load(reader);
           if (score != null) OodCalibration.scorer(reader, c, OodScorer.Kind.parse(score));
           QueryCodes q = query.load(reader);
-          decisions(out, c, q, OodScore.decide(reader, q));
+          decisions(out, c, q, OodScore.decide(reader, q, threads.resolved()));
         } else {
           OodScore.Output o;
           try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "scoring")) {
-            o = OodScore.run(reader, query.toSource(), query.range(), new OodScore.Params(evidence, score == null ? null : OodScorer.Kind.parse(score)), bar);
+            o = OodScore.run(reader, query.toSource(), query.range(),
+                new OodScore.Params(evidence, score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
           }
           print(out, o);
         }
@@ -286,7 +289,7 @@ final class OodCommand implements Callable<Integer> {
     }
   }
 
-  @Command(name = "eval", mixinStandardHelpOptions = true,
+  @Command(name = "eval", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
       description = {"AUROC, FPR at 95%% TPR and AUPR of the calibrated code score on in- and out-of-distribution inputs, a breakdown over k, "
           + "statistic and layers, and beside it the k-NN score on float activations and the softmax baseline when they apply.",
           "Optionally the ROC curves as CSV and a self-contained HTML page."})
@@ -331,6 +334,7 @@ final class OodCommand implements Callable<Integer> {
     @Option(names = "--html", paramLabel = "FILE", description = "Write a self-contained HTML page (inline SVG: ROC curves, score histograms).")
     Path html;
 
+    @Mixin ThreadsOption threads;
     @Mixin FormatOption format;
 
     @Override
@@ -343,7 +347,7 @@ final class OodCommand implements Callable<Integer> {
         try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "evaluating")) {
           if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
           r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats, candidates,
-              score == null ? null : OodScorer.Kind.parse(score)), bar);
+              score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
         }
       }
       List<OodEval.Scored> scores = r.scores();

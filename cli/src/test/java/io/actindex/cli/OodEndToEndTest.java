@@ -172,6 +172,43 @@ class OodEndToEndTest {
     assertThat(tmp.resolve("b.edge")).doesNotExist();
   }
 
+  /**
+   * {@code --threads}: calibrate, score (full and decision-only) and eval print the same bytes on 1
+   * and 3 threads and by default (one per core, shown in the help).
+   */
+  @Test
+  void threadsGiveTheSameOutput() throws Exception {
+    Path idx = tmp.resolve("tidx");
+    Path trainF = Files2.floats(tmp.resolve("ttrain.npy"), floats(300, 0.1, 11)), calF = Files2.floats(tmp.resolve("tcal.npy"), floats(60, 0.1, 12));
+    Path inF = Files2.floats(tmp.resolve("tin.npy"), floats(40, 0.1, 13)), outF = Files2.floats(tmp.resolve("tout.npy"), floats(40, 0.6, 14));
+    assertThat(Cli.run("build", "--out", idx.toString(), "--activations", trainF.toString()).code()).isZero();
+    String i = idx.toString();
+    for (String score : List.of("refined", "code")) {
+      String[][] commands = {
+          {"ood", "calibrate", "--index", i, "--activations", calF.toString(), "-k", "3", "--score", score, "--format", "json"},
+          {"ood", "score", "--index", i, "--activations", inF.toString(), "--format", "json"},
+          {"ood", "eval", "--index", i, "--in", inF.toString(), "--out", outF.toString(), "--in-floats", inF.toString(), "--out-floats",
+              outF.toString(), "--train-floats", trainF.toString(), "--format", "json"},
+      };
+      for (String[] args : commands) {
+        List<String> outputs = new java.util.ArrayList<>();
+        for (String[] threads : List.of(new String[] {"--threads", "1"}, new String[] {"--threads", "3"}, new String[0])) {
+          String[] all = java.util.stream.Stream.concat(Arrays.stream(args), Arrays.stream(threads)).toArray(String[]::new);
+          Cli.Result r = Cli.run(all);
+          assertThat(r.code()).as(r.describe()).isZero();
+          outputs.add(r.out());
+        }
+        assertThat(outputs).as(String.join(" ", args)).containsOnly(outputs.get(0));
+      }
+    }
+    Cli.Result d1 = Cli.run("ood", "score", "--index", i, "--activations", outF.toString(), "--decision-only", "--threads", "1", "--format", "csv");
+    Cli.Result d3 = Cli.run("ood", "score", "--index", i, "--activations", outF.toString(), "--decision-only", "--threads", "3", "--format", "csv");
+    assertThat(d1.code()).as(d1.describe()).isZero();
+    assertThat(d3.out()).isEqualTo(d1.out()).contains(",out,");
+    for (String sub : List.of("calibrate", "score", "eval"))
+      assertThat(Cli.run("ood", sub, "--help").out().replaceAll("\\s+", " ")).as(sub).contains("--threads=N Worker threads").contains("Default: 0; 0 = one per core");
+  }
+
   /** Relu-like float rows: each row is one of 6 non-negative prototypes plus noise, clipped at 0. */
   static float[][] floats(int n, double noise, long seed) {
     SplittableRandom proto = new SplittableRandom(98), rnd = new SplittableRandom(seed);
