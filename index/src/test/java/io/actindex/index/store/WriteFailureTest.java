@@ -88,6 +88,13 @@ class WriteFailureTest {
     return out;
   }
 
+  /** A new index in {@code dir} holding the first 30 codes with metadata rows (a Lucene commit). */
+  static void indexOf30(Path dir, CodeBlock codes) {
+    try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
+      w.add(codes.slice(0, 30), rows(0, 30));
+    }
+  }
+
   /** Metadata rows with a key and a label, so that each add also commits Lucene. */
   static List<Map<String, String>> rows(int from, int n) {
     return java.util.stream.IntStream.range(from, from + n).mapToObj(i -> Map.of("key", "k" + i, "label", "l" + (i % 3))).toList();
@@ -102,8 +109,8 @@ class WriteFailureTest {
   void diskFullIsRefusedNamingTheFolderAndLeavesTheIndexAsItWas() throws IOException {
     Path dir = tmp.resolve("idx");
     CodeBlock codes = SyntheticCodes.uniform(90, 64, 5);
-    try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
-      w.add(codes.slice(0, 30), rows(0, 30));
+    indexOf30(dir, codes);
+    try (IndexWriter w = IndexWriter.open(dir)) {
       w.delete(org.roaringbitmap.RoaringBitmap.bitmapOf(3, 4));
     }
     Map<String, String> before = checksums(dir);
@@ -146,9 +153,7 @@ class WriteFailureTest {
   void luceneFilesOfAFailedOrCrashedChangeAreRemovedAndThePublishedCommitKept() throws IOException {
     Path dir = tmp.resolve("idx");
     CodeBlock codes = SyntheticCodes.uniform(90, 64, 6);
-    try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
-      w.add(codes.slice(0, 30), rows(0, 30));
-    }
+    indexOf30(dir, codes);
     Map<String, String> before = checksums(dir);
     // the manifest cannot be renamed into place: Lucene has committed the new documents
     StoreIo noRename = new StoreIo.Forwarding(StoreIo.REAL) {
@@ -191,9 +196,7 @@ class WriteFailureTest {
     assertTrue(failures > 3, failures + " Lucene outputs");
     // a crash between the Lucene commit and the manifest: a later Lucene commit stays on disk...
     Path crashed = tmp.resolve("crashed");
-    try (IndexWriter w = IndexWriter.create(crashed, codes.layout(), Map.of())) {
-      w.add(codes.slice(0, 30), rows(0, 30));
-    }
+    indexOf30(crashed, codes);
     Map<String, String> published = checksums(crashed);
     Manifest m = Manifest.read(crashed, Manifest.newestGeneration(crashed));
     try (io.actindex.index.meta.MetaWriter meta = io.actindex.index.meta.MetaWriter.open(crashed.resolve("meta"), m.metaCommit())) {
