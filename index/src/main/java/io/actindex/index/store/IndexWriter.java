@@ -432,7 +432,7 @@ public final class IndexWriter implements AutoCloseable {
     try {
       MetaWriter m = meta;
       meta = null;
-      m.close();
+      if (m != null) m.close();
     } catch (IOException | RuntimeException e) {
       cause.addSuppressed(e);
     }
