@@ -102,7 +102,7 @@ class ErrorHandlerTest {
     assertThat(r[2]).startsWith("boom: writing an output: no space left on device (").hasLineCount(1);
     String[] f = run("--kind", "full-file");
     assertThat(f[0]).isEqualTo("2");
-    assertThat(f[2]).startsWith("boom: out/p.csv: no space left on device (").contains("not written").hasLineCount(1);
+    assertThat(f[2]).startsWith("boom: out/p.csv: no space left on device (No space left on device); not written").hasLineCount(1);
   }
 
   @Test

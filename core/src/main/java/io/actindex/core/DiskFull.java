@@ -44,7 +44,8 @@ public final class DiskFull {
     for (Throwable c = t; c != null; c = c.getCause() == c ? null : c.getCause()) {
       if (c instanceof IOException && c.getMessage() != null) {
         String m = c.getMessage().toLowerCase(Locale.ROOT);
-        for (String s : TEXTS) if (m.contains(s)) return BadInputException.snippet(c.getMessage(), 80);
+        String text = c instanceof java.nio.file.FileSystemException f && f.getReason() != null ? f.getReason() : c.getMessage();
+        for (String s : TEXTS) if (m.contains(s)) return BadInputException.snippet(text, 80);
       }
       for (Throwable s : c.getSuppressed()) if (in(s)) return systemText(s);
     }
