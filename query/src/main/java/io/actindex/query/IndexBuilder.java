@@ -3,6 +3,7 @@ package io.actindex.query;
 import io.actindex.encode.BinarizeRule;
 import io.actindex.encode.EncodeOptions;
 import io.actindex.core.BadInputException;
+import io.actindex.core.DiskFull;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Forked;
@@ -174,7 +175,8 @@ public final class IndexBuilder {
     try {
       created = IndexWriter.create(p.dir(), codes.layout(), props, io);
     } catch (BadInputException e) {
-      if (!existed) deleteIfEmpty(p.dir()); // refused before writing: only the empty folder may be ours
+      if (DiskFull.in(e)) removeBuilt(p.dir(), existed, e); // failed while writing: the retry needs an empty folder
+      else if (!existed) deleteIfEmpty(p.dir()); // refused before writing: only the empty folder may be ours
       throw e;
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e); // failed while writing (disk full...): the retry needs an empty folder

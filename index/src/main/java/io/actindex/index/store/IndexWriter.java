@@ -3,6 +3,7 @@ package io.actindex.index.store;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.core.DiskFull;
 import io.actindex.index.mih.SearchPlanOptions;
 import io.actindex.index.meta.MetaWriter;
 import java.io.IOException;
@@ -25,7 +26,8 @@ import org.roaringbitmap.RoaringBitmap;
  * mutating call commits before it returns: new files are written and fsynced, the metadata store
  * (Lucene) commits, then a new manifest generation is renamed into place. Refused input
  * ({@link BadInputException}) changes nothing and the writer stays usable; any other failure leaves
- * the last committed generation on disk and closes the writer.
+ * the last committed generation on disk and closes the writer. A full disk ({@link DiskFull}) is
+ * such a failure, reported as a {@link BadInputException} naming the folder.
  *
  * <p>Folder: {@code manifest-N}, {@code seg-S.codes}, {@code seg-S.tables}, {@code tomb-N.bits},
  * {@code att-N.bin}, {@code writer.lock} and the Lucene store in {@code meta/}. Not thread-safe.
@@ -87,8 +89,10 @@ public final class IndexWriter implements AutoCloseable {
         lock.close();
         throw e;
       }
-    } catch (IOException e) {
-      throw new UncheckedIOException("cannot create index in " + dir, e);
+    } catch (IOException | RuntimeException e) {
+      if (DiskFull.in(e)) throw DiskFull.refusal("index " + dir, "the index was not created", e);
+      if (e instanceof IOException io2) throw new UncheckedIOException("cannot create index in " + dir, io2);
+      throw (RuntimeException) e;
     }
   }
 
@@ -412,25 +416,52 @@ public final class IndexWriter implements AutoCloseable {
     try {
       m.run();
     } catch (IOException e) {
-      fail(e);
+      boolean undone = fail(e);
+      if (DiskFull.in(e)) throw diskFull(e, undone);
       throw new UncheckedIOException("index " + dir + ": write failed; the last commit stands", e);
     } catch (RuntimeException | Error e) {
-      fail(e);
+      boolean undone = fail(e);
+      if (DiskFull.in(e)) throw diskFull(e, undone);
       throw e;
     }
   }
 
-  private void fail(Throwable cause) {
+  /** A full disk (exit code 2, naming the folder), saying whether the change was undone or had been published. */
+  private BadInputException diskFull(Throwable e, boolean undone) {
+    return DiskFull.refusal("index " + dir, undone ? "the change was not made, the index is as it was"
+        : "the change was published before the failure (the index holds it)", e);
+  }
+
+  /** Undoes a failed change where its manifest is not on disk; true when undone (the last commit stands). */
+  private boolean fail(Throwable cause) {
+    boolean undone = false;
     try {
-      if (newestOnDisk() == manifest.generation()) deleteUnreferenced();
+      undone = newestOnDisk() == manifest.generation();
+      if (undone) deleteUnreferenced();
     } catch (IOException | RuntimeException e) {
       cause.addSuppressed(e);
+    }
+    try {
+      MetaWriter m = meta;
+      meta = null;
+      if (m != null) m.close();
+    } catch (IOException | RuntimeException e) {
+      cause.addSuppressed(e);
+    }
+    if (undone) { // Lucene's files of the failed change (a commit no manifest names, a half-written flush), under our lock
+      try {
+        Path metaDir = dir.resolve(META_DIR);
+        MetaWriter.dropUnpublished(metaDir, io.lucene(metaDir), manifest.metaCommit());
+      } catch (IOException | RuntimeException e) {
+        cause.addSuppressed(e);
+      }
     }
     try {
       close();
     } catch (RuntimeException e) {
       cause.addSuppressed(e);
     }
+    return undone;
   }
 
   private long newestOnDisk() {
@@ -481,7 +512,7 @@ public final class IndexWriter implements AutoCloseable {
     if (lock == null) return;
     try {
       try {
-        meta.close();
+        if (meta != null) meta.close();
       } finally {
         lock.close();
       }
