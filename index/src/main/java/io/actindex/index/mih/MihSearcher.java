@@ -56,6 +56,7 @@ final class MihSearcher implements CodeSearcher {
   final PlannerCosts cost;
   private final ScanSearcher scan;
   private final double scanCost;
+  private final double candidateCost; // a candidate verified at a random place of these codes
   private final double[] ownRate; // expected codes in the query's own bucket, per table
   private final double[] nearRate; // expected codes per probe of a neighbouring bucket, per table
   private final ThreadLocal<Scratch> scratch;
@@ -71,12 +72,34 @@ final class MihSearcher implements CodeSearcher {
     this.scan = new ScanSearcher(codes);
     int n = codes.size();
     this.scanCost = cost.scan(n, codes.wordsPerCode());
+    this.candidateCost = cost.candidate(8L * codes.words().length);
     this.ownRate = new double[tables.length];
     this.nearRate = new double[tables.length];
     for (int t = 0; t < tables.length; t++) {
       ownRate[t] = Math.max(1.0, tables[t].stats().meanCollisions());
       nearRate[t] = Math.max(0.05, neighbourOccupancy(t));
     }
+    this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
+  }
+
+  /** This searcher with {@code p} as its partition (the tables' statistics are reused). */
+  MihSearcher withPartition(Partition p) {
+    return new MihSearcher(this, p);
+  }
+
+  private MihSearcher(MihSearcher s, Partition partition) {
+    this.codes = s.codes;
+    this.plan = s.plan;
+    this.tables = s.tables;
+    this.strategy = s.strategy;
+    this.partition = partition;
+    this.cost = s.cost;
+    this.scan = s.scan;
+    this.scanCost = s.scanCost;
+    this.candidateCost = s.candidateCost;
+    this.ownRate = s.ownRate;
+    this.nearRate = s.nearRate;
+    int n = codes.size();
     this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
   }
 
@@ -281,7 +304,7 @@ final class MihSearcher implements CodeSearcher {
     double probes = Math.min(ProbeEnumerator.count(tab.width, rho), tab.buckets());
     // codes per probe: the table's prior, corrected by what this query met in neighbouring buckets
     double rate = rho == 0 ? ownRate[t] : (nearRate[t] * 64 + s.nearCandidates) / (64 + s.nearProbes);
-    return probes * ((tab.dense() ? cost.probeDense() : cost.probeSparse()) + rate * cost.candidate());
+    return probes * ((tab.dense() ? cost.probeDense() : cost.probeSparse()) + rate * candidateCost);
   }
 
   /** Mean size of the buckets one bit away from the keys of up to 256 evenly spaced codes. */
@@ -352,7 +375,7 @@ final class MihSearcher implements CodeSearcher {
       s.nearProbes += probes;
       s.nearCandidates += cands;
     }
-    s.work += probes * (tab.dense() ? cost.probeDense() : cost.probeSparse()) + cands * cost.candidate();
+    s.work += probes * (tab.dense() ? cost.probeDense() : cost.probeSparse()) + cands * candidateCost;
   }
 
   /**

@@ -55,7 +55,12 @@ final class Partition {
   private final long[][] segmentMasks; // per segment of the layout: its bits
   private final Map<List<Long>, Radii> coverRadii = new ConcurrentHashMap<>(); // per set of segments, built on first use
 
-  Partition(CodeBlock block, long[] centres, int[] start, int[] ords) {
+  /**
+   * The partition of {@code block} with these centres and clusters; {@code copy} holds the codes in
+   * cluster order ({@code block}'s codes at {@code ords}) or is null to gather them from the block.
+   * Every radius is computed here from the copy.
+   */
+  Partition(CodeBlock block, long[] centres, int[] start, int[] ords, long[] copy) {
     this.words = block.wordsPerCode();
     this.segmentMasks = new long[block.layout().segments().size()][];
     for (int seg = 0; seg < segmentMasks.length; seg++) segmentMasks[seg] = block.layout().mask(seg);
@@ -63,15 +68,16 @@ final class Partition {
     this.start = start;
     this.ords = ords;
     int n = ords.length, w = words, clusters = start.length - 1;
+    if (copy != null && copy.length != (long) n * w) throw new IllegalArgumentException("copy of " + copy.length + " words for " + n + " codes");
     long[] data = block.words();
-    codes = new long[Math.multiplyExact(n, w)];
+    codes = copy != null ? copy : new long[Math.multiplyExact(n, w)];
     radius = new char[n];
     maxRadius = new int[clusters];
     int mm = 0;
     for (int c = 0; c < clusters; c++)
       for (int i = start[c]; i < start[c + 1]; i++) {
-        System.arraycopy(data, ords[i] * w, codes, i * w, w);
-        int r = Hamming.distance(centres, c * w, data, ords[i] * w, w);
+        if (copy == null) System.arraycopy(data, ords[i] * w, codes, i * w, w);
+        int r = Hamming.distance(centres, c * w, codes, i * w, w);
         if (i > start[c] && r < radius[i - 1]) throw new IllegalArgumentException("cluster " + c + " not sorted by radius at position " + i);
         radius[i] = (char) r;
         maxRadius[c] = Math.max(maxRadius[c], r);
@@ -114,9 +120,9 @@ final class Partition {
     Assigner assigner = new Assigner(centres, clusters, w);
     IntStream.range(0, (n + 4095) >>> 12).parallel().forEach(chunk -> {
       for (int i = chunk << 12, end = Math.min(n, i + 4096); i < end; i++) {
-        int c = assigner.nearest(data, i * w);
-        assign[i] = c;
-        dist[i] = Hamming.distance(centres, c * w, data, i * w, w);
+        long cd = assigner.nearest(data, i * w);
+        assign[i] = (int) cd;
+        dist[i] = (int) (cd >>> 32);
       }
     });
     // order by (cluster, radius, ordinal): a counting sort on the packed key
@@ -129,7 +135,7 @@ final class Partition {
       start[(int) (key[i] >>> 48) + 1]++;
     }
     for (int c = 0; c < clusters; c++) start[c + 1] += start[c];
-    return new Partition(block, centres, start, ords);
+    return new Partition(block, centres, start, ords, null);
   }
 
   private static int nearest(long[] centres, int clusters, long[] data, int off, int w) {
@@ -179,7 +185,8 @@ final class Partition {
       }
     }
 
-    int nearest(long[] data, int off) {
+    /** The nearest centre of the code at {@code data[off..]} (low 32 bits) and its distance (high 32 bits). */
+    long nearest(long[] data, int off) {
       int bestPivot = 0, dxp = Integer.MAX_VALUE;
       for (int p = 0; p < pivots; p++) {
         int d = Hamming.distance(data, off, centres, (int) ((long) p * clusters / pivots) * w, w);
@@ -198,7 +205,7 @@ final class Partition {
           best = c;
         }
       }
-      return best;
+      return (long) bestD << 32 | best;
     }
   }
 
