@@ -47,6 +47,8 @@ final class MihSearcher implements CodeSearcher {
   private final double[] ownRate; // expected codes in the query's own bucket, per table
   private final double[] nearRate; // expected codes per probe of a neighbouring bucket, per table
   private final ThreadLocal<Scratch> scratch;
+  private final int[] allTables; // 0 .. m-1: the active tables without a mask (never modified)
+  private final double[] freshCost; // see freshTablesCost
 
   MihSearcher(CodeBlock codes, BitPlan plan, SubstringTable[] tables, SearchPlanOptions.Strategy strategy,
       Partition partition, PlannerCosts cost) {
@@ -66,6 +68,8 @@ final class MihSearcher implements CodeSearcher {
       nearRate[t] = Math.max(0.05, neighbourOccupancy(t));
     }
     this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
+    this.allTables = java.util.stream.IntStream.range(0, tables.length).toArray();
+    this.freshCost = freshCosts();
   }
 
   @Override
@@ -110,8 +114,8 @@ final class MihSearcher implements CodeSearcher {
         TopK top = new TopK(kk);
         int from = partition.begin(query, codes.layout().bits(), s.visit, accept, top, kk, maxDist);
         int bound = top.size() == kk ? Math.min(maxDist, top.bound()) : maxDist;
-        double rest = from == partition.clusters() ? 0 : partition.estimate(s.visit, from, bound) * cost.partitionCode();
-        if (!auto || rest <= PROVEN * scanCost && rest <= tablesCost(s, active, bound, plan.constantDistance(query, null))) {
+        long rest = from == partition.clusters() ? 0 : partition.estimate(s.visit, from, bound);
+        if (partitionFinishes(rest, query, bound)) {
           s.path = PATH_PARTITION;
           if (rest > 0) partition.finish(query, s.visit, from, accept, top, maxDist);
           return top.toHits();
@@ -126,6 +130,18 @@ final class MihSearcher implements CodeSearcher {
     } finally {
       s.end();
     }
+  }
+
+  /**
+   * The planner's rule for the partition: it finishes an unmasked query whose remaining windows hold
+   * {@code restCodes} codes under the k-th distance {@code bound} when that costs at most most of a
+   * scan and no more than the tables would to reach the bound (always with strategy PARTITION).
+   * Also {@link JointSearch}'s rule for each block.
+   */
+  boolean partitionFinishes(long restCodes, long[] query, int bound) {
+    if (strategy != SearchPlanOptions.Strategy.AUTO) return strategy == SearchPlanOptions.Strategy.PARTITION;
+    double rest = restCodes * cost.partitionCode();
+    return rest <= PROVEN * scanCost && rest <= tablesCost(query, bound);
   }
 
   /** Multi-index hashing over the active tables, falling back to the scan when the planner says so. */
@@ -158,35 +174,42 @@ final class MihSearcher implements CodeSearcher {
 
   /**
    * Estimated cost of the tables finding every code within {@code bound} of {@code query} (bucket
-   * statistics measured at build), for choosing between table layouts.
+   * statistics measured at build, every table active, nothing probed yet), for the planner and for
+   * choosing between table layouts.
    */
   double tablesCost(long[] query, int bound) {
-    int[] active = activeTables(null);
-    Scratch s = scratch.get().begin(this, query, active);
-    try {
-      return tablesCost(s, active, bound, plan.constantDistance(query, null));
-    } finally {
-      s.end();
-    }
+    return freshTablesCost(bound, plan.constantDistance(query, null));
   }
 
-  /** Estimated cost of probing every shell the tables would need to find all codes within {@code bound}. */
-  private double tablesCost(Scratch s, int[] active, int bound, int c) {
-    int m = active.length;
-    if (m == 0 || strategy == SearchPlanOptions.Strategy.PARTITION) return Double.POSITIVE_INFINITY;
-    int maxWidth = 0;
-    for (int t : active) maxWidth = Math.max(maxWidth, tables[t].width);
-    double total = 0;
-    for (int x = 0, j = 0; x <= maxWidth && (long) x * m + j - 1 + c < bound; ) {
-      int t = active[j];
-      if (x <= tables[t].width) total += shellCost(s, t, x);
-      if (total > scanCost) return total;
-      if (++j == m) {
-        j = 0;
-        x++;
-      }
+
+  /**
+   * Cost of probing every shell the tables would need to find all codes within {@code bound} of a
+   * query whose constant bits are {@code c} away, before any probe (so with the rates measured at
+   * build), all tables active: it depends only on {@code bound - c}, so it is tabulated once.
+   */
+  private double freshTablesCost(int bound, int c) {
+    if (bound < c) return 0; // no shell: every code is at least c away
+    return freshCost[(int) Math.min(freshCost.length - 1, (long) bound - c + 1)];
+  }
+
+  /** The table behind {@link #freshTablesCost}: entry L + 1 sums the shells of levels {@code x*m + j <= L}. */
+  private double[] freshCosts() {
+    int m = tables.length, maxWidth = 0;
+    for (SubstringTable t : tables) maxWidth = Math.max(maxWidth, t.width);
+    double[] f = new double[(maxWidth + 1) * m + 2];
+    if (m == 0 || strategy == SearchPlanOptions.Strategy.PARTITION) {
+      Arrays.fill(f, Double.POSITIVE_INFINITY);
+      return f;
     }
-    return total;
+    double total = 0;
+    for (int level = 0; level + 1 < f.length; level++) {
+      int x = level / m, j = level % m; // shell (x, j) counts when x*m + j - 1 + c < bound
+      if (total <= scanCost && x <= tables[j].width)
+        total += (double) Math.min(ProbeEnumerator.count(tables[j].width, x), tables[j].buckets())
+            * ((tables[j].dense() ? cost.probeDense() : cost.probeSparse()) + (x == 0 ? ownRate[j] : nearRate[j]) * cost.candidate());
+      f[level + 1] = total;
+    }
+    return f;
   }
 
   @Override
@@ -343,9 +366,10 @@ final class MihSearcher implements CodeSearcher {
 
   /** Tables usable under the mask: all (null mask) or those whose bits the mask covers. */
   private int[] activeTables(long[] mask) {
+    if (mask == null) return allTables;
     int[] all = new int[tables.length];
     int m = 0;
-    for (int t = 0; t < tables.length; t++) if (mask == null || plan.tableInside(t, mask)) all[m++] = t;
+    for (int t = 0; t < tables.length; t++) if (plan.tableInside(t, mask)) all[m++] = t;
     return m == all.length ? all : Arrays.copyOf(all, m);
   }
 

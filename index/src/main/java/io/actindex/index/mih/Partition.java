@@ -37,8 +37,9 @@ final class Partition {
   final int[] start; // cluster c is positions start[c] .. start[c+1]-1
   final long[] codes; // copies of the codes, cluster by cluster, each by ascending radius
   final int[] ords; // position -> ordinal
-  final char[] radius; // position -> distance to its centre
   final int[] maxRadius; // per cluster
+  // cluster c's first position at radius >= r, for r in 0..maxRadius[c]: radiusStart[radiusBase[c] + r]
+  final int[] radiusBase, radiusStart;
   private final int maxOfMaxRadius;
 
   Partition(CodeBlock block, long[] centres, int[] start, int[] ords) {
@@ -49,10 +50,11 @@ final class Partition {
     int n = ords.length, w = words, clusters = start.length - 1;
     long[] data = block.words();
     codes = new long[Math.multiplyExact(n, w)];
-    radius = new char[n];
+    char[] radius = new char[n]; // position -> distance to its centre
     maxRadius = new int[clusters];
+    radiusBase = new int[clusters + 1];
     int mm = 0;
-    for (int c = 0; c < clusters; c++)
+    for (int c = 0; c < clusters; c++) {
       for (int i = start[c]; i < start[c + 1]; i++) {
         System.arraycopy(data, ords[i] * w, codes, i * w, w);
         int r = Hamming.distance(centres, c * w, data, ords[i] * w, w);
@@ -61,7 +63,15 @@ final class Partition {
         maxRadius[c] = Math.max(maxRadius[c], r);
         mm = Math.max(mm, r);
       }
+      radiusBase[c + 1] = radiusBase[c] + maxRadius[c] + 1;
+    }
     maxOfMaxRadius = mm;
+    radiusStart = new int[radiusBase[clusters]];
+    for (int c = 0; c < clusters; c++)
+      for (int r = 0, i = start[c]; r <= maxRadius[c]; r++) {
+        while (i < start[c + 1] && radius[i] < r) i++;
+        radiusStart[radiusBase[c] + r] = i;
+      }
   }
 
   int clusters() {
@@ -69,7 +79,7 @@ final class Partition {
   }
 
   long bytes() {
-    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length) + 2L * radius.length;
+    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length);
   }
 
   /** The partition of {@code block}, or null when it is too small (or its codes too wide for char radii). */
@@ -267,7 +277,7 @@ final class Partition {
         v.lo[p] = v.hi[p] = 0;
         continue;
       }
-      int lo = firstAtLeast(start[c], start[c + 1], dq - bound), hi = firstAtLeast(lo, start[c + 1], dq + bound + 1);
+      int lo = atRadius(c, dq - bound), hi = atRadius(c, dq + bound + 1);
       v.lo[p] = lo;
       v.hi[p] = hi;
       total += hi - lo;
@@ -284,21 +294,21 @@ final class Partition {
       int c = v.order[p], dq = v.dq[p], bound = Math.min(Character.MAX_VALUE, Math.min(maxDist, top.bound()));
       if (dq - maxOfMaxRadius > bound) break; // no later cluster can hold a code within the bound
       if (dq - maxRadius[c] > bound) continue;
-      lo = firstAtLeast(lo, hi, dq - bound);
-      hi = firstAtLeast(lo, hi, dq + bound + 1);
+      lo = Math.max(lo, atRadius(c, dq - bound)); // the bound only drops: the window only narrows
+      hi = Math.min(hi, atRadius(c, dq + bound + 1));
       ScanKernel.knn(q, null, codes, w, lo, hi, ords, accept, top, maxDist);
     }
   }
 
-  /** First position in {@code [from, to)} whose radius is at least {@code r} (to if none). */
-  private int firstAtLeast(int from, int to, int r) {
-    if (r <= 0) return from;
-    int lo = from, hi = to;
-    while (lo < hi) {
-      int mid = (lo + hi) >>> 1;
-      if (radius[mid] < r) lo = mid + 1;
-      else hi = mid;
-    }
-    return lo;
+  /**
+   * The first position of cluster c whose code lies at least {@code r} from the centre (the end of
+   * the cluster if none): one table look-up instead of a binary search, whose dependent reads miss
+   * the cache when many small clusters are visited.
+   */
+  int atRadius(int c, int r) {
+    if (r <= 0) return start[c];
+    if (r > maxRadius[c]) return start[c + 1];
+    return radiusStart[radiusBase[c] + r];
   }
+
 }
