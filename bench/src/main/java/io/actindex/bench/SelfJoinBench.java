@@ -24,7 +24,7 @@ import org.openjdk.jmh.annotations.Warmup;
 
 /**
  * The near-duplicate self-join: every pair within radius {@code r}, counted as it streams. {@code
- * join} = {@link SelfJoin} (distinct codes, per-join tables, build included), streaming every pair
+ * join} = {@link SelfJoin} (distinct codes, s-of-m key tables, build included), streaming every pair
  * and the distinct pairs the groups need, in one pass ({@code forEachPair}): the work of
  * {@code actindex dupes --pairs FILE} without metadata and file writing;
  * {@code brute} = a blocked brute-force join (tiles of 256 x 256 codes, row tiles spread over the
@@ -67,6 +67,7 @@ public class SelfJoinBench {
       Facts.put(key, "pairs", pairs[0]);
       Facts.put(key, "distinct_codes", j.distinct().count());
       Facts.put(key, "tables", j.tables());
+      Facts.put(key, "key_parts", j.keyParts());
     }
   }
 

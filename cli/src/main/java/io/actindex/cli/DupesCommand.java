@@ -175,7 +175,7 @@ final class DupesCommand implements Callable<Integer> {
         .member("duplicated_examples", s.duplicatedExamples()).member("groups", s.groups())
         .member("largest_group", s.largestGroup()).member("examples_in_groups", s.examplesInGroups())
         .member("cross_split_groups", s.crossSplitGroups()).member("conflicting_groups", s.conflictingGroups())
-        .member("pairs_written", s.pairsWritten()).member("tables", s.tables()).member("seconds", s.seconds())
+        .member("flagged_pairs", s.flaggedPairs()).member("pairs_written", s.pairsWritten()).member("tables", s.tables()).member("seconds", s.seconds())
         .endObject().name("groups").beginArray();
     for (Dupes.Group g : r.groups()) {
       j.beginObject().member("size", g.size()).member("distinct_codes", g.distinctCodes()).member("max_distance", g.maxDistance())
@@ -204,6 +204,11 @@ final class DupesCommand implements Callable<Integer> {
           counts(g.labels()), counts(g.splits()), keys(g.members(), ";")));
   }
 
+  private String flagLabel() {
+    if (crossSplit && conflictingLabels) return "pairs across splits or with conflicting labels";
+    return crossSplit ? "pairs across splits" : "pairs with conflicting labels";
+  }
+
   private void table(PrintWriter out, Dupes.Result r) {
     Dupes.Summary s = r.summary();
     boolean flagged = crossSplit || conflictingLabels;
@@ -218,6 +223,7 @@ final class DupesCommand implements Callable<Integer> {
     t.row(List.of("examples in groups", num(s.examplesInGroups())));
     t.row(List.of("groups spanning splits (leakage)", num(s.crossSplitGroups())));
     t.row(List.of("groups with conflicting labels", num(s.conflictingGroups())));
+    if (flagged) t.row(List.of(flagLabel(), num(s.flaggedPairs())));
     t.row(List.of("pairs written", num(s.pairsWritten())));
     t.row(List.of("time", String.format(Locale.ROOT, "%.2f s", s.seconds())));
     t.print(out, "  ");

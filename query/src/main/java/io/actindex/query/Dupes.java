@@ -5,6 +5,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.index.mih.DistinctCodes;
 import io.actindex.index.mih.PairSink;
+import io.actindex.index.mih.RadiusMatcher;
 import io.actindex.index.mih.SelfJoin;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
@@ -66,13 +67,14 @@ public final class Dupes {
    * {@code examples} joined (live, matching the filter), over {@code bits} bits; {@code pairs} within
    * the radius, {@code exactDuplicatePairs} of them at distance 0; {@code duplicatedExamples}:
    * examples sharing their code with another; {@code groups}, the {@code largestGroup} and {@code
-   * examplesInGroups}; groups spanning several splits and with several labels; {@code pairsWritten}
-   * (after the flag filters; 0 without a pair sink); {@code tables} the hash tables used (0: exact
+   * examplesInGroups}; groups spanning several splits and with several labels; {@code flaggedPairs}
+   * the pairs that cross splits or disagree on labels, as the flag options ask (-1 without a flag
+   * option); {@code pairsWritten} (after the flag filters; 0 without a pair sink); {@code tables} the hash tables used (0: exact
    * hashing or a scan); wall-clock {@code seconds}.
    */
   public record Summary(int examples, int bits, int radius, long pairs, long exactDuplicatePairs, int duplicatedExamples,
-      int groups, int largestGroup, int examplesInGroups, int crossSplitGroups, int conflictingGroups, long pairsWritten,
-      int tables, double seconds) {}
+      int groups, int largestGroup, int examplesInGroups, int crossSplitGroups, int conflictingGroups, long flaggedPairs,
+      long pairsWritten, int tables, double seconds) {}
 
   /** The summary and the listed groups (largest first, ties by smallest id). */
   public record Result(Summary summary, List<Group> groups) {}
@@ -94,15 +96,18 @@ public final class Dupes {
     for (int u = 0; u < nd; u++) parent[u] = u;
     LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId()), splits = LabelIndex.of(reader.meta(), reader.maxId(), "split");
     // one pass: distinct pairs feed the union-find, ordinal pairs the sink
-    long[] pairCount = {dc.identicalPairs()}, written = {0};
+    long[] pairCount = {dc.identicalPairs()}, written = {0}, flaggedPairs = {0};
     boolean flagged = p.crossSplit() || p.conflictingLabels();
     int[] ids = sel.ids;
-    PairSink ordinals = pairs == null ? null : (a, b, d) -> {
+    // ordinal pairs are needed for the sink, and to count the flagged pairs
+    PairSink ordinals = pairs == null && !flagged ? null : (a, b, d) -> {
       if (flagged) {
         boolean cross = p.crossSplit() && differ(splits.number(ids[a]), splits.number(ids[b]));
         boolean conflict = p.conflictingLabels() && differ(labels.number(ids[a]), labels.number(ids[b]));
         if (!cross && !conflict) return;
+        flaggedPairs[0]++;
       }
+      if (pairs == null) return;
       written[0]++;
       pairs.pair(ids[a], ids[b], d);
     };
@@ -143,7 +148,7 @@ public final class Dupes {
     listed = listed.subList(0, Math.min(p.groups(), listed.size()));
     List<Group> groups = groups(reader, sel, dc, parent, listed, size, maxDist, splitConflict, labelConflict, labels, splits);
     Summary s = new Summary(n, sel.codes.layout().bits(), p.radius(), pairCount[0], dc.identicalPairs(), duplicated, roots.size(),
-        largest, inGroups, crossGroups, conflictGroups, written[0], join.tables(), (System.nanoTime() - started) / 1e9);
+        largest, inGroups, crossGroups, conflictGroups, flagged ? flaggedPairs[0] : -1, written[0], join.tables(), (System.nanoTime() - started) / 1e9);
     return new Result(s, groups);
   }
 
@@ -237,7 +242,7 @@ public final class Dupes {
     if (!q.codes().layout().equals(reader.layout()))
       throw new BadInputException("rows to look up have layout " + q.codes().layout() + ", the index " + reader.layout());
     CodeBlock queries = Layers.project(q.codes(), sel.codes.layout());
-    SelfJoin join = SelfJoin.build(sel.codes, p.radius());
+    RadiusMatcher join = RadiusMatcher.build(sel.codes, p.radius());
     List<RowMatches> rows = new ArrayList<>();
     long[] totals = {0, 0}; // matches, rows with a match
     int[] current = {-1};

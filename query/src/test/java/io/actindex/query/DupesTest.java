@@ -203,6 +203,9 @@ class DupesTest {
           "2 d1 leak=false conflict=true [e2, e3]"), describe(res.groups()));
       Dupes.Result leaks = Dupes.run(r, new Dupes.Params(2, null, null, true, false, 10, 1), null, null);
       assertEquals(List.of("3 d2 leak=true conflict=false [e5, e6, e7]", "2 d0 leak=true conflict=false [e0, e1]"), describe(leaks.groups()));
+      assertEquals(2, leaks.summary().flaggedPairs()); // 0-1 and 6-7, counted without a pair sink
+      assertEquals(0, leaks.summary().pairsWritten());
+      assertEquals(-1, s.flaggedPairs());
       List<Pair> crossPairs = new ArrayList<>();
       Dupes.run(r, new Dupes.Params(2, null, null, true, false, 10, 1), (a, b, d) -> crossPairs.add(new Pair(a, b, d)), null);
       assertEquals(List.of(new Pair(0, 1, 0), new Pair(6, 7, 2)), crossPairs);
@@ -211,6 +214,8 @@ class DupesTest {
           (a, b, d) -> conflictPairs.add(new Pair(a, b, d)), null);
       assertEquals(List.of("2 d1 leak=false conflict=true [e2, e3]"), describe(conflicts.groups()));
       assertEquals(List.of(new Pair(2, 3, 1)), conflictPairs);
+      assertEquals(1, conflicts.summary().flaggedPairs());
+      assertEquals(1, conflicts.summary().pairsWritten());
       // radius 4 joins 5 and 7 directly: the largest distance found becomes 4
       Dupes.Result wider = Dupes.run(r, new Dupes.Params(4, null, null, false, false, 1, 1), null, null);
       assertEquals(4, wider.groups().get(0).maxDistance());

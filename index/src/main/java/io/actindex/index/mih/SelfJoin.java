@@ -3,29 +3,35 @@ package io.actindex.index.mih;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import java.util.Arrays;
+import java.util.function.LongConsumer;
 
 /**
  * Exact self-join of a code set: every pair of ordinals {@code a < b} whose codes are within
- * Hamming distance {@code radius}, each pair exactly once, plus the same search for outside codes
- * ({@link #forEachMatch}).
+ * Hamming distance {@code radius}, each pair exactly once, streamed.
  *
  * <p>How: identical codes are grouped first ({@link DistinctCodes}, one hashing pass; the whole
- * join when the radius is 0). The distinct codes are cut into {@code m} substrings (a {@link
- * BitPlan}: constant bits dropped, entropy-balanced) with one {@link SubstringTable} each. By the
- * pigeonhole principle two codes within {@code radius} agree within {@code rho = floor(radius/m)}
- * on at least one substring (Norouzi, Punjani & Fleet, "Fast search in Hamming space with
- * multi-index hashing", CVPR 2012, Prop. 1), so the candidates of a code are the members of its own
- * bucket and of the buckets within {@code rho} flips, in every table; each is verified on the full
- * code. A pair is kept only from the first table in which its substring distance is at most
- * {@code rho}, so no set of seen pairs is needed. When {@code radius + 1} tables can hold more
- * than 32 bits each, {@code m = radius + 1} (so {@code rho = 0}) and each table keys on a hash of
- * several substrings: the widest keys the pigeonhole allows, hence the smallest buckets (measured on
- * 100k ReLU-like 256-bit codes at radius 4: 5 tables of 32 bits meet about 500 candidates per
- * code). Otherwise {@code m} comes from a cost model (probes times expected bucket size). A plain
- * scan over the distinct codes replaces the tables when they would not prune.
+ * join when the radius is 0). The distinct codes are cut into {@code m = radius + s} disjoint parts
+ * (a {@link BitPlan} drawn on a sample: entropy-balanced, constant bits left out). Two codes within
+ * {@code radius} differ in at most {@code radius} parts, so they agree exactly on at least {@code s}
+ * parts: on all parts of at least one {@code s}-subset. Every {@code s}-subset of the parts is a
+ * table keyed on those parts together, so the candidate pairs of the join are the pairs that share
+ * a bucket in some table (the partition-and-enumerate scheme of Arasu, Ganti & Kaushik, "Efficient
+ * exact set-similarity joins", VLDB 2006, section 4; {@code s = 1} is the pigeonhole of
+ * multi-index hashing, Norouzi, Punjani & Fleet, CVPR 2012). Wider keys ({@code s > 1}) make the
+ * buckets of clustered ReLU codes far smaller at the price of {@code C(m, s)} tables; {@code s} is
+ * chosen per join by counting, on a sample, the candidate pairs each choice would verify.
  *
- * <p>Output is streamed through {@link OrderedPairs}: deterministic order whatever the thread count
- * (by distinct code, see {@link #forEachPair}), memory independent of the number of pairs.
+ * <p>A pair is kept only in the table of the {@code s} lowest-numbered parts on which it agrees, so
+ * no set of seen pairs is needed: the test costs a few integer comparisons and runs before the
+ * distance. One table at a time is built: entries {@code (hash of the key, code)} are spread by
+ * their top hash bits into partitions, each partition is sorted and its runs of equal keys are
+ * joined after copying the members' codes and parts side by side (cache-friendly), so memory is
+ * the parts ({@code m} ints per distinct code) plus two longs per distinct code. A plain scan over
+ * the distinct codes replaces the tables when it costs less, and always for radii of {@link
+ * #MAX_PARTS} or more.
+ *
+ * <p>Output is streamed through {@link OrderedPairs}: memory independent of the number of pairs, the
+ * same order whatever the thread count (see {@link #forEachPair}).
  */
 public final class SelfJoin {
   /** Progress callback: {@code done} of {@code total} units. */
@@ -34,131 +40,98 @@ public final class SelfJoin {
     void update(long done, long total);
   }
 
+  /** Distinct codes per task of the identical-pairs pass and of the scan. */
   private static final int TASK = 1024;
+  /** At most 2^TASK_BITS tasks per table (each a run of partitions). */
+  private static final int TASK_BITS = 6;
+  /** Distinct codes sampled to choose {@code s}. */
+  static final int SAMPLE = 32_768;
+  /** Most tables a join may use (when choosing {@code s} itself). */
+  static final int MAX_TABLES = 256;
+  /** Most parts (table subsets are int bit masks); larger radii join by the scan. */
+  static final int MAX_PARTS = 30;
+  /**
+   * Cost model, CPU nanoseconds per code and table (hash, place, sort), per candidate pair in a
+   * bucket, per pair of the scan; measured roughly on 300k ReLU-like 256-bit codes on a busy machine
+   * (only their ratios matter).
+   */
+  private static final double TABLE_NS_PER_CODE = 80, CANDIDATE_NS = 6, SCAN_NS_PER_PAIR = 4;
 
   private final DistinctCodes distinct;
   private final int radius;
-  private final BitPlan plan; // null: no tables (radius 0, at most one distinct code, or the scan)
   private final boolean scan;
-  private final SubstringTable[] tables;
-  private final int m, rho;
-  private final int group, substrings; // substrings per table (block), and in all
-  private final int[] keys; // distinct u, substring p -> keys[u * substrings + p]
-  private final int[] own; // the bucket of u's own key in table t: own[u * m + t]
+  private final int m, s; // parts, parts per key; 0 when there are no tables
+  private final int[] parts; // part keys of distinct code u: parts[u * m .. u * m + m)
+  private final int[] subsets; // table t: bit mask of its s parts, in ascending order of the mask
 
-  private SelfJoin(DistinctCodes distinct, int radius, BitPlan plan, boolean scan, int group, SubstringTable[] tables, int[] keys,
-      int[] own) {
+  private SelfJoin(DistinctCodes distinct, int radius, boolean scan, int m, int s, int[] parts) {
     this.distinct = distinct;
     this.radius = radius;
-    this.plan = plan;
     this.scan = scan;
-    this.tables = tables;
-    this.m = tables.length;
-    this.group = group;
-    this.substrings = plan == null ? 0 : plan.tables();
-    this.rho = m == 0 ? 0 : radius / m;
-    this.keys = keys;
-    this.own = own;
+    this.m = m;
+    this.s = s;
+    this.parts = parts;
+    this.subsets = subsets(m, s);
   }
 
-  private static SelfJoin without(DistinctCodes d, int radius, boolean scan) {
-    return new SelfJoin(d, radius, null, scan, 1, new SubstringTable[0], new int[0], new int[0]);
-  }
-
-  /** The join of {@code codes} within {@code radius}, tables chosen automatically. */
+  /** The join of {@code codes} within {@code radius}, plan chosen automatically. */
   public static SelfJoin build(CodeBlock codes, int radius) {
-    return build(codes, radius, SearchPlanOptions.defaults());
+    return build(codes, radius, 0, SearchPlanOptions.Strategy.AUTO);
   }
 
   /**
-   * The join under {@code opts}: {@code substrings} forces the table count (0 = cost model), strategy
-   * SCAN forces the scan over distinct codes, TABLES forbids it, AUTO decides.
+   * The join with {@code keyParts} parts per table key ({@code s}; 0 = chosen from a sample).
+   * Strategy SCAN forces the scan over distinct codes; TABLES forbids it unless no table plan exists
+   * ({@code radius + 1} parts need that many non-constant bits); AUTO decides.
    */
-  public static SelfJoin build(CodeBlock codes, int radius, SearchPlanOptions opts) {
+  public static SelfJoin build(CodeBlock codes, int radius, int keyParts, SearchPlanOptions.Strategy strategy) {
     if (radius < 0) throw new IllegalArgumentException("radius must be >= 0, got " + radius);
+    if (keyParts < 0) throw new IllegalArgumentException("keyParts must be >= 0 (0 = automatic), got " + keyParts);
     DistinctCodes d = DistinctCodes.of(codes);
-    CodeBlock u = d.codes();
-    int n = u.size();
-    if (radius == 0 || n <= 1) return without(d, radius, radius > 0);
-    int k = 0;
-    for (long c : BitPlan.bitCounts(u)) if (!opts.dropConstantBits() || (c != 0 && c != n)) k++;
-    int m, group = 1;
-    if (opts.substrings() > 0) m = Math.min(opts.substrings(), k);
-    else if (radius + 1 <= k && (k + radius) / (radius + 1) > SearchPlanOptions.MAX_SUBSTRING_BITS) {
-      // radius + 1 tables, each wider than one substring may be: a table keys on a hash of several
-      // substrings (probed at substring radius 0 only, so hashing loses nothing)
-      m = radius + 1;
-      group = ((k + radius) / (radius + 1) + SearchPlanOptions.MAX_SUBSTRING_BITS - 1) / SearchPlanOptions.MAX_SUBSTRING_BITS;
-    } else m = substrings(k, radius, n);
-    boolean scan = opts.strategy() == SearchPlanOptions.Strategy.SCAN
-        || (opts.strategy() == SearchPlanOptions.Strategy.AUTO && group == 1 && estimate(k, m, radius, n) > n / 2.0);
-    if (scan || k == 0) return without(d, radius, true);
-    BitPlan plan = BitPlan.choose(u, opts.withSubstrings(m * group));
-    int p = plan.tables();
-    m = (p + group - 1) / group;
-    if (group > 1 && radius / m > 0) throw new IllegalStateException("hashed tables need substring radius 0; " + m + " tables for radius " + radius);
-    int w = u.wordsPerCode();
-    long[] data = u.words();
-    int[] keys = new int[Math.multiplyExact(n, p)], own = new int[Math.multiplyExact(n, m)], keyOf = new int[n];
-    for (int v = 0; v < n; v++) for (int j = 0; j < p; j++) keys[v * p + j] = plan.key(data, v * w, j);
-    SubstringTable[] tables = new SubstringTable[m];
-    double perCode = 0;
-    for (int t = 0; t < m; t++) {
-      for (int v = 0; v < n; v++) keyOf[v] = tableKey(keys, v * p, t, group, p);
-      tables[t] = SubstringTable.build(group == 1 ? plan.width(t) : 32, keyOf);
-      for (int v = 0; v < n; v++) own[v * m + t] = tables[t].bucket(keyOf[v]);
-      for (int b = 0; b < tables[t].buckets(); b++) {
-        double s = tables[t].offsets[b + 1] - tables[t].offsets[b];
-        perCode += s * s / n;
-      }
+    int n = d.count();
+    if (radius == 0 || n <= 1) return new SelfJoin(d, radius, false, 0, 0, new int[0]);
+    if (strategy == SearchPlanOptions.Strategy.SCAN) return new SelfJoin(d, radius, true, 0, 0, new int[0]);
+    CodeBlock sample = sample(d.codes());
+    int informative = 0;
+    for (long c : BitPlan.bitCounts(sample)) if (c != 0 && c != sample.size()) informative++;
+    double bestCost = strategy == SearchPlanOptions.Strategy.TABLES ? Double.POSITIVE_INFINITY : SCAN_NS_PER_PAIR * n * (n - 1.0) / 2;
+    Parts best = null;
+    for (int s = keyParts > 0 ? keyParts : 1; radius + s <= Math.min(informative, MAX_PARTS); s++) {
+      int m = radius + s;
+      if (keyParts == 0 && binomial(m, s) > MAX_TABLES) break;
+      Parts p = Parts.choose(sample, m, informative);
+      double pairs = p.collisions(sample, s) * ((double) n * (n - 1)) / ((double) sample.size() * (sample.size() - 1));
+      double cost = binomial(m, s) * n * TABLE_NS_PER_CODE + pairs * CANDIDATE_NS;
+      if (keyParts > 0 || cost < bestCost) {
+        bestCost = cost;
+        best = p;
+      } else if (best != null) break; // costs fall, then rise with s
+      if (keyParts > 0) break;
     }
-    // measured own-bucket candidates per code; the scan costs n per code
-    if (opts.strategy() == SearchPlanOptions.Strategy.AUTO && radius / m == 0 && perCode > n / 2.0) return without(d, radius, true);
-    return new SelfJoin(d, radius, plan, false, group, tables, keys, own);
+    if (best == null) return new SelfJoin(d, radius, true, 0, 0, new int[0]);
+    return new SelfJoin(d, radius, false, best.count(), best.count() - radius, best.keys(d.codes()));
   }
 
-  /**
-   * The key of table {@code t}: the substring's own key when a table is one substring, else a hash
-   * of its {@code group} substring keys (equal substrings give equal hashes; collisions only add
-   * candidates, which are verified).
-   */
-  private static int tableKey(int[] keys, int off, int t, int group, int p) {
-    if (group == 1) return keys[off + t];
-    long h = 0x9E3779B97F4A7C15L;
-    for (int j = t * group, end = Math.min(p, j + group); j < end; j++) {
-      h = (h ^ (keys[off + j] & 0xFFFFFFFFL)) * 0xBF58476D1CE4E5B9L;
-      h ^= h >>> 29;
-    }
-    return (int) (h ^ (h >>> 32));
+  /** Up to {@link #SAMPLE} distinct codes, evenly spaced (all of them when there are fewer). */
+  private static CodeBlock sample(CodeBlock u) {
+    int n = u.size(), w = u.wordsPerCode();
+    if (n <= SAMPLE) return u;
+    long[] words = new long[SAMPLE * w];
+    for (int i = 0; i < SAMPLE; i++) System.arraycopy(u.words(), (int) ((long) i * n / SAMPLE) * w, words, i * w, w);
+    return new CodeBlock(u.layout(), SAMPLE, words);
   }
 
-  /**
-   * The table count with the lowest estimated cost per code: {@code m} tables of {@code k/m} bits,
-   * each probed at {@code sum_{r <= rho} C(k/m, r)} keys, each key holding about {@code n / 2^(k/m)}
-   * codes (uniform estimate). More than {@code radius + 1} tables never helps ({@code rho} is 0
-   * already), fewer than {@code k / 32} cannot hold the bits.
-   */
-  static int substrings(int k, int radius, int n) {
-    int lo = Math.max(1, (k + SearchPlanOptions.MAX_SUBSTRING_BITS - 1) / SearchPlanOptions.MAX_SUBSTRING_BITS);
-    int hi = Math.max(lo, Math.min(k, radius + 1));
-    int best = lo;
-    double bestCost = Double.POSITIVE_INFINITY;
-    for (int m = lo; m <= hi; m++) {
-      double c = estimate(k, m, radius, n);
-      if (c < bestCost) {
-        bestCost = c;
-        best = m;
-      }
-    }
-    return best;
+  static double binomial(int n, int k) {
+    return ProbeEnumerator.count(n, k);
   }
 
-  private static double estimate(int k, int m, int radius, int n) {
-    if (m <= 0 || k == 0) return n;
-    int w = Math.max(1, k / m), r = radius / m;
-    double probes = 0;
-    for (int i = 0; i <= Math.min(r, w); i++) probes += ProbeEnumerator.count(w, i);
-    return m * probes * (1 + n / Math.pow(2, w));
+  /** The s-subsets of {@code m} parts as bit masks, ascending; empty without tables. */
+  private static int[] subsets(int m, int s) {
+    if (m == 0) return new int[0];
+    int[] out = new int[(int) binomial(m, s)];
+    int i = 0;
+    for (long f = ProbeEnumerator.first(s); f < ProbeEnumerator.limit(m); f = ProbeEnumerator.next(f)) out[i++] = (int) f;
+    return out;
   }
 
   public int radius() {
@@ -169,9 +142,14 @@ public final class SelfJoin {
     return distinct;
   }
 
-  /** Number of hash tables in use (0 when the join runs without tables). */
+  /** Number of tables the join runs through (0 when it runs without tables). */
   public int tables() {
-    return m;
+    return subsets.length;
+  }
+
+  /** Parts per table key ({@code s}); 0 without tables. */
+  public int keyParts() {
+    return s;
   }
 
   /** True when the distinct codes are compared by a plain scan instead of the tables. */
@@ -179,173 +157,344 @@ public final class SelfJoin {
     return scan;
   }
 
-  /**
-   * Every pair of distinct codes {@code u < v} within the radius (numbers as in {@link #distinct()}),
-   * in ascending {@code (u, v)}, to {@code sink} on the calling thread.
-   */
+  /** Every pair of distinct codes {@code u < v} within the radius, in the order of {@link #forEachPair}. */
   public void forEachDistinctPair(int threads, PairSink sink, Progress progress) {
     forEachPair(threads, null, sink, progress);
   }
 
   /**
    * Every pair of ordinals {@code a < b} within the radius to {@code pairs}, and every pair of
-   * distinct codes to {@code distinctPairs} (either may be null), on the calling thread, in one pass
-   * over the distinct codes {@code u} in ascending order: first the pairs of ordinals holding {@code
-   * u} itself (distance 0), then for each distinct neighbour {@code v > u} in ascending order the
-   * pair {@code (u, v)} and the pairs of their holders (by holder of {@code u}, then of {@code v}).
-   * So the order is deterministic whatever the thread count, but not sorted by ordinal. Memory does
-   * not grow with the number of pairs.
+   * distinct codes {@code u < v} to {@code distinctPairs} (either may be null), on the calling
+   * thread. Order: first the pairs of ordinals holding one same code (by distinct code, holders
+   * ascending); then, table by table and bucket by bucket, each pair of distinct codes followed by
+   * the pairs of their holders. The order is deterministic whatever the thread count, but not
+   * sorted. Memory does not grow with the number of pairs.
    */
   public void forEachPair(int threads, PairSink pairs, PairSink distinctPairs, Progress progress) {
     int n = distinct.count();
-    int tasks = (n + TASK - 1) / TASK;
-    long[] data = distinct.codes().words();
-    int w = distinct.codes().wordsPerCode();
+    int codeTasks = (n + TASK - 1) / TASK, partitionBits = partitionBits(n), taskBits = Math.min(partitionBits, TASK_BITS);
+    int perTable = 1 << taskBits;
+    long total = (pairs != null ? codeTasks : 0) + (scan ? codeTasks : (long) subsets.length * perTable);
+    long[] done = {0};
+    LongConsumer tick = progress == null ? null : t -> progress.update(done[0] + t, total);
     PairSink sink = (a, b, d) -> {
       if (a < 0) distinctPairs.pair(~a, b, d);
       else pairs.pair(a, b, d);
     };
-    OrderedPairs.run(tasks, threads, (task, out) -> {
-      Neighbours nb = new Neighbours();
-      for (int u = task * TASK, end = Math.min(n, u + TASK); u < end; u++) {
-        int hu = distinct.holders(u);
-        if (pairs != null)
-          for (int x = 0; x < hu; x++)
+    if (pairs != null) {
+      OrderedPairs.run(codeTasks, threads, (task, out) -> {
+        for (int u = task * TASK, end = Math.min(n, u + TASK); u < end; u++)
+          for (int x = 0, hu = distinct.holders(u); x < hu; x++)
             for (int y = x + 1; y < hu; y++) out.pair(distinct.holder(u, x), distinct.holder(u, y), 0);
-        neighbours(data, u * w, keys, u * substrings, u, u + 1, nb);
-        for (int i = 0; i < nb.size; i++) {
-          int v = nb.v(i), d = nb.d(i);
-          if (distinctPairs != null) out.pair(~u, v, d);
-          if (pairs == null) continue;
-          for (int x = 0, hv = distinct.holders(v); x < hu; x++) {
-            int a = distinct.holder(u, x);
-            for (int y = 0; y < hv; y++) {
-              int b = distinct.holder(v, y);
-              if (a < b) out.pair(a, b, d);
-              else out.pair(b, a, d);
-            }
-          }
-        }
-      }
-    }, sink, progress == null ? null : done -> progress.update(done, tasks));
-  }
-
-  /**
-   * For each row {@code q} of {@code queries} (same width as the joined codes), every ordinal within
-   * the radius: {@code sink.pair(q, ordinal, distance)}, in ascending {@code (q, ordinal)}.
-   */
-  public void forEachMatch(CodeBlock queries, int threads, PairSink sink, Progress progress) {
-    int w = distinct.codes().wordsPerCode();
-    if (queries.wordsPerCode() != w || queries.layout().bits() != distinct.codes().layout().bits())
-      throw new IllegalArgumentException("queries have " + queries.layout().bits() + " bits, the joined codes "
-          + distinct.codes().layout().bits());
-    int n = queries.size();
-    int tasks = (n + TASK - 1) / TASK;
-    long[] data = queries.words();
-    OrderedPairs.run(tasks, threads, (task, out) -> {
-      Neighbours nb = new Neighbours(), partners = new Neighbours();
-      int[] qKeys = new int[substrings];
-      for (int q = task * TASK, end = Math.min(n, q + TASK); q < end; q++) {
-        for (int j = 0; j < substrings; j++) qKeys[j] = plan.key(data, q * w, j);
-        if (radius == 0) {
-          nb.size = 0;
-          int v = distinct.find(data, q * w);
-          if (v >= 0) nb.add(v, 0);
-        } else neighbours(data, q * w, qKeys, 0, -1, 0, nb);
-        partners.size = 0;
-        for (int i = 0; i < nb.size; i++) {
-          int v = nb.v(i);
-          for (int h = 0, c = distinct.holders(v); h < c; h++) partners.add(distinct.holder(v, h), nb.d(i));
-        }
-        if (nb.size > 1) partners.sort();
-        for (int i = 0; i < partners.size; i++) out.pair(q, partners.v(i), partners.d(i));
-      }
-    }, sink, progress == null ? null : done -> progress.update(done, tasks));
-  }
-
-  /**
-   * Distinct codes {@code v >= minV}, {@code v != self}, within the radius of the code at {@code
-   * q[qOff..]} (whose substring keys are {@code qKeys[kOff..kOff+substrings)}), sorted by {@code v}.
-   */
-  private void neighbours(long[] q, int qOff, int[] qKeys, int kOff, int self, int minV, Neighbours out) {
-    out.size = 0;
+      }, pairs, tick);
+      done[0] += codeTasks;
+    }
     if (radius == 0) return;
-    long[] data = distinct.codes().words();
-    int w = distinct.codes().wordsPerCode(), n = distinct.count();
-    if (plan == null) {
-      if (!scan) return;
-      for (int v = minV; v < n; v++) {
-        if (v == self) continue;
-        int d = Hamming.distanceBounded(q, qOff, data, v * w, w, radius);
-        if (d <= radius) out.add(v, d);
-      }
+    Emit emit = new Emit(pairs != null, distinctPairs != null);
+    if (scan) {
+      OrderedPairs.run(codeTasks, threads, (task, out) -> scan(task, out, emit), sink, tick);
       return;
     }
-    for (int t = 0; t < m; t++) {
-      SubstringTable tab = tables[t];
-      int key = tableKey(qKeys, kOff, t, group, substrings);
-      long limit = ProbeEnumerator.limit(tab.width);
-      for (int r = 0; r <= rho; r++)
-        for (long f = ProbeEnumerator.first(r); f < limit; f = ProbeEnumerator.next(f)) {
-          int b = r == 0 && self >= 0 ? own[self * m + t] : tab.bucket(key ^ (int) f);
-          if (b < 0) continue;
-          int from = tab.offsets[b], to = tab.offsets[b + 1];
-          if (minV > 0) from = lowerBound(tab.ids, from, to, minV);
-          for (int p = from; p < to; p++) {
-            int v = tab.ids[p];
-            if (v == self) continue;
-            int d = Hamming.distanceBounded(q, qOff, data, v * w, w, radius);
-            if (d <= radius && !seenEarlier(qKeys, kOff, v, t)) out.add(v, d);
-          }
+    Table table = new Table(n, distinct.codes().wordsPerCode(), m, partitionBits);
+    int partitionsPerTask = 1 << partitionBits - taskBits;
+    for (int subset : subsets) {
+      table.fill(subset, Math.max(1, Math.min(threads, n >>> 10)));
+      OrderedPairs.run(perTable, threads, (task, out) -> {
+        Scratch sc = new Scratch();
+        for (int q = task * partitionsPerTask, end = q + partitionsPerTask; q < end; q++) table.join(q, sc, out, emit);
+      }, sink, tick);
+      done[0] += perTable;
+    }
+  }
+
+  /** What to emit per distinct pair. */
+  private record Emit(boolean ordinals, boolean distinctPairs) {}
+
+  /** Partitions per table: about 2,048 distinct codes each (their codes stay in cache), at most 1,024. */
+  private static int partitionBits(int n) {
+    return Math.max(0, Math.min(10, 31 - Integer.numberOfLeadingZeros(Math.max(1, n >>> 11))));
+  }
+
+  private static final long SEED = 0x9E3779B97F4A7C15L;
+
+  /** A 64-bit hash of the parts in {@code subset} of the part keys at {@code keys[base..base+m)}. */
+  private static long keyHash(int[] keys, int base, int m, int subset) {
+    long h = SEED;
+    for (int p = 0; p < m; p++) if ((subset & (1 << p)) != 0) h = mix(h, keys[base + p]);
+    h *= 0x94D049BB133111EBL;
+    return h ^ (h >>> 31);
+  }
+
+  private static long mix(long h, int key) {
+    h = (h ^ (key & 0xFFFFFFFFL)) * 0xBF58476D1CE4E5B9L;
+    return h ^ (h >>> 29);
+  }
+
+  /**
+   * One table at a time, laid out for joining: every distinct code's entry {@code (hash of its key,
+   * position)} and, beside it, its id, its code and the parts that decide ownership (the parts
+   * below the table's top part: first those outside the subset, then those in it), grouped by the
+   * top bits of the hash into partitions, so that joining a partition reads one contiguous stretch
+   * of memory.
+   */
+  private final class Table {
+    final int n, w, partitionBits;
+    final long[] hashes, entries, codes;
+    final int[] ids, solo, owned, from; // solo: the one ordinal holding the code, or -1
+    int subset, top, others, o, posBits;
+
+    Table(int n, int w, int maxTop, int partitionBits) {
+      this.n = n;
+      this.w = w;
+      this.partitionBits = partitionBits;
+      hashes = new long[n];
+      entries = new long[n];
+      codes = new long[Math.multiplyExact(n, w)];
+      ids = new int[n];
+      solo = new int[n];
+      owned = new int[Math.multiplyExact(n, maxTop)];
+      from = new int[(1 << partitionBits) + 1];
+    }
+
+    private int partition(long h) {
+      return partitionBits == 0 ? 0 : (int) (h >>> 64 - partitionBits);
+    }
+
+    /** Lays out the table of {@code subset}. */
+    void fill(int subset, int threads) {
+      this.subset = subset;
+      top = 32 - Integer.numberOfLeadingZeros(subset);
+      others = (1 << top) - 1 & ~subset;
+      o = Integer.bitCount(others);
+      // each thread hashes a stretch of codes and counts its partitions, then places its codes after
+      // those of the stretches before it: positions ascend with u inside each partition
+      int[][] count = new int[threads][from.length - 1];
+      inParallel(threads, (t, lo, hi) -> {
+        for (int u = lo; u < hi; u++) {
+          hashes[u] = keyHash(parts, u * m, m, subset);
+          count[t][partition(hashes[u])]++;
         }
+      });
+      int largest = 1;
+      from[0] = 0;
+      for (int p = 0; p + 1 < from.length; p++) {
+        int size = 0;
+        for (int t = 0; t < threads; t++) {
+          int c = count[t][p];
+          count[t][p] = from[p] + size;
+          size += c;
+        }
+        largest = Math.max(largest, size);
+        from[p + 1] = from[p] + size;
+      }
+      posBits = 32 - Integer.numberOfLeadingZeros(largest - 1);
+      long[] data = distinct.codes().words();
+      inParallel(threads, (t, lo, hi) -> {
+        int[] next = count[t];
+        for (int u = lo; u < hi; u++) {
+          long h = hashes[u];
+          int p = partition(h), at = next[p]++;
+          entries[at] = h >>> posBits << posBits | (at - from[p]);
+          ids[at] = u;
+          solo[at] = distinct.holders(u) == 1 ? distinct.holder(u, 0) : -1;
+          System.arraycopy(data, u * w, codes, at * w, w);
+          int k = at * top;
+          for (int q = 0; q < top; q++) if ((others & (1 << q)) != 0) owned[k++] = parts[u * m + q];
+          for (int q = 0; q < top; q++) if ((subset & (1 << q)) != 0) owned[k++] = parts[u * m + q];
+        }
+      });
     }
-    out.sort();
+
+    /** Runs {@code body(t, lo, hi)} for {@code threads} equal stretches of {@code [0, n)}, thread t on stretch t. */
+    private void inParallel(int threads, Stretch body) {
+      if (threads == 1) {
+        body.run(0, 0, n);
+        return;
+      }
+      Thread[] workers = new Thread[threads - 1];
+      Throwable[] failed = new Throwable[threads];
+      for (int t = 1; t < threads; t++) {
+        int tt = t;
+        workers[t - 1] = Thread.ofPlatform().name("actindex-join-fill").start(() -> {
+          try {
+            body.run(tt, (int) ((long) n * tt / threads), (int) ((long) n * (tt + 1) / threads));
+          } catch (Throwable e) {
+            failed[tt] = e;
+          }
+        });
+      }
+      body.run(0, 0, (int) ((long) n / threads));
+      for (Thread x : workers) {
+        try {
+          x.join();
+        } catch (InterruptedException e) {
+          Thread.currentThread().interrupt();
+          throw new IllegalStateException("interrupted", e);
+        }
+      }
+      for (Throwable e : failed) if (e != null) throw new IllegalStateException("join worker failed", e);
+    }
+
+    /** Joins partition {@code p}: sorts its entries, then every bucket (run of equal hashes). */
+    void join(int p, Scratch sc, PairSink out, Emit emit) {
+      int lo = from[p], hi = from[p + 1];
+      Arrays.sort(entries, lo, hi);
+      long pos = (1L << posBits) - 1;
+      for (int i = lo; i < hi; ) {
+        int j = i + 1;
+        while (j < hi && (entries[j] >>> posBits) == (entries[i] >>> posBits)) j++;
+        if (j - i > 1) bucket(lo, i, j, pos, sc, out, emit);
+        i = j;
+      }
+    }
+
+    /**
+     * The pairs of one bucket (entries {@code [i, j)}) that this table owns: those whose lowest
+     * {@code s} agreeing parts are the table's subset. So the parts below the subset's top part and
+     * outside it must all differ, and the parts of the subset must agree (they do unless two keys'
+     * hashes collided). Both are checked only for the few pairs within the radius.
+     */
+    private void bucket(int lo, int i, int j, long pos, Scratch sc, PairSink out, Emit emit) {
+      int b = j - i;
+      sc.fit(b, w, o);
+      int[] at = sc.at, own = sc.own;
+      long[] cs = sc.codes;
+      for (int x = 0; x < b; x++) { // side by side: positions, codes, parts outside the subset
+        int a = lo + (int) (entries[i + x] & pos);
+        at[x] = a;
+        System.arraycopy(codes, a * w, cs, x * w, w);
+        System.arraycopy(owned, a * top, own, x * o, o);
+      }
+      int[] near = sc.near;
+      for (int x = 0; x < b; x++) {
+        next:
+        for (int h = 0, found = near(cs, w, x, b, radius, near); h < found; h++) {
+          int y = near[h], d = Hamming.distanceBounded(cs, x * w, cs, y * w, w, radius);
+          for (int q = 0, xo = x * o, yo = y * o; q < o; q++) if (own[xo + q] == own[yo + q]) continue next;
+          for (int q = o, ao = at[x] * top, bo = at[y] * top; q < top; q++) if (owned[ao + q] != owned[bo + q]) continue next;
+          int ea = at[x], eb = at[y];
+          if (solo[ea] >= 0 && solo[eb] >= 0) { // the common case, without looking up holders
+            if (emit.distinctPairs()) out.pair(~Math.min(ids[ea], ids[eb]), Math.max(ids[ea], ids[eb]), d);
+            if (emit.ordinals()) out.pair(Math.min(solo[ea], solo[eb]), Math.max(solo[ea], solo[eb]), d);
+          } else emit(Math.min(ids[ea], ids[eb]), Math.max(ids[ea], ids[eb]), d, out, emit);
+        }
+      }
+    }
   }
 
-  /** True if an earlier table than {@code t} already puts {@code v} within rho of the query. */
-  private boolean seenEarlier(int[] qKeys, int kOff, int v, int t) {
-    int base = v * substrings;
-    if (group == 1) {
-      for (int s = 0; s < t; s++) if (Integer.bitCount(qKeys[kOff + s] ^ keys[base + s]) <= rho) return true;
-      return false;
-    }
-    for (int s = 0; s < t; s++) { // rho is 0: table s qualifies if all its substrings are equal
-      boolean equal = true;
-      for (int j = s * group, end = Math.min(substrings, j + group); j < end && equal; j++) equal = qKeys[kOff + j] == keys[base + j];
-      if (equal) return true;
-    }
-    return false;
+  @FunctionalInterface
+  private interface Stretch {
+    void run(int thread, int lo, int hi);
   }
 
-  private static int lowerBound(int[] a, int from, int to, int x) {
-    while (from < to) {
-      int mid = (from + to) >>> 1;
-      if (a[mid] < x) from = mid + 1;
-      else to = mid;
+  /**
+   * The members {@code y > x} of a bucket's codes {@code cs} within {@code radius} of member {@code
+   * x}, into {@code out}; returns their count. The hot loop of the join, kept small so that it
+   * compiles tight (a 4-word code is held in registers).
+   */
+  static int near(long[] cs, int w, int x, int b, int radius, int[] out) {
+    int found = 0;
+    if (w == 4) {
+      int o = x * 4;
+      long x0 = cs[o], x1 = cs[o + 1], x2 = cs[o + 2], x3 = cs[o + 3];
+      for (int y = x + 1, p = o + 4; y < b; y++, p += 4) {
+        int d = Long.bitCount(x0 ^ cs[p]) + Long.bitCount(x1 ^ cs[p + 1]) + Long.bitCount(x2 ^ cs[p + 2]) + Long.bitCount(x3 ^ cs[p + 3]);
+        if (d <= radius) out[found++] = y;
+      }
+      return found;
     }
-    return from;
+    for (int y = x + 1; y < b; y++) if (Hamming.distanceBounded(cs, x * w, cs, y * w, w, radius) <= radius) out[found++] = y;
+    return found;
   }
 
-  /** A growable list of (v, distance), packed as {@code v << 32 | distance}. */
-  private static final class Neighbours {
-    long[] packed = new long[64];
-    int size;
+  /** Per-task copies of one bucket's members. */
+  private static final class Scratch {
+    int[] at = new int[64], own = new int[64], near = new int[64];
+    long[] codes = new long[64];
 
-    void add(int v, int d) {
-      if (size == packed.length) packed = Arrays.copyOf(packed, size * 2);
-      packed[size++] = (long) v << 32 | d;
+    void fit(int b, int w, int o) {
+      if (at.length < b) {
+        at = new int[Math.max(b, at.length * 2)];
+        near = new int[at.length];
+      }
+      if (codes.length < b * w) codes = new long[Math.max(b * w, codes.length * 2)];
+      if (own.length < b * o) own = new int[Math.max(b * o, own.length * 2)];
+    }
+  }
+
+  /** Task {@code task} of the scan: distinct codes {@code u} of the task against every {@code v > u}. */
+  private void scan(int task, PairSink out, Emit emit) {
+    int n = distinct.count(), w = distinct.codes().wordsPerCode();
+    long[] data = distinct.codes().words();
+    for (int u = task * TASK, end = Math.min(n, u + TASK); u < end; u++)
+      for (int v = u + 1; v < n; v++) {
+        int d = Hamming.distanceBounded(data, u * w, data, v * w, w, radius);
+        if (d <= radius) emit(u, v, d, out, emit);
+      }
+  }
+
+  /** The distinct pair {@code (u, v)}, {@code u < v}, as {@code ~u} (when wanted), then its ordinal pairs. */
+  private void emit(int u, int v, int d, PairSink out, Emit emit) {
+    if (emit.distinctPairs()) out.pair(~u, v, d);
+    if (!emit.ordinals()) return;
+    for (int x = 0, hu = distinct.holders(u), hv = distinct.holders(v); x < hu; x++) {
+      int a = distinct.holder(u, x);
+      for (int y = 0; y < hv; y++) {
+        int c = distinct.holder(v, y);
+        if (a < c) out.pair(a, c, d);
+        else out.pair(c, a, d);
+      }
+    }
+  }
+
+  /**
+   * {@code m} disjoint parts of the codes' bits, each one substring of a {@link BitPlan} or, when a
+   * part needs more than 32 bits, a hash of several (equal parts give equal keys; a collision only
+   * adds candidates, which are verified).
+   */
+  private record Parts(BitPlan plan, int count, int group) {
+    static Parts choose(CodeBlock sample, int m, int informative) {
+      int group = Math.max(1, (informative + m * SearchPlanOptions.MAX_SUBSTRING_BITS - 1) / (m * SearchPlanOptions.MAX_SUBSTRING_BITS));
+      BitPlan plan = BitPlan.choose(sample, SearchPlanOptions.defaults().withSubstrings(m * group));
+      if (plan.tables() != m * group) throw new IllegalStateException("bit plan has " + plan.tables() + " substrings, wanted " + m * group);
+      return new Parts(plan, m, group);
     }
 
-    void sort() {
-      Arrays.sort(packed, 0, size);
+    /** Part keys of every code: {@code keys[i * count + p]}. */
+    int[] keys(CodeBlock codes) {
+      int n = codes.size(), w = codes.wordsPerCode();
+      long[] data = codes.words();
+      int[] keys = new int[Math.multiplyExact(n, count)];
+      for (int i = 0; i < n; i++)
+        for (int p = 0; p < count; p++) {
+          if (group == 1) {
+            keys[i * count + p] = plan.key(data, i * w, p);
+            continue;
+          }
+          long h = SEED;
+          for (int j = p * group; j < (p + 1) * group; j++) h = mix(h, plan.key(data, i * w, j));
+          keys[i * count + p] = (int) (h ^ (h >>> 32));
+        }
+      return keys;
     }
 
-    int v(int i) {
-      return (int) (packed[i] >>> 32);
-    }
-
-    int d(int i) {
-      return (int) packed[i];
+    /** Pairs of {@code sample} codes sharing a bucket, summed over the tables of {@code s}-subsets. */
+    long collisions(CodeBlock sample, int s) {
+      int n = sample.size();
+      int[] keys = keys(sample);
+      long[] k = new long[n];
+      long pairs = 0;
+      for (int subset : subsets(count, s)) {
+        for (int i = 0; i < n; i++) k[i] = keyHash(keys, i * count, count, subset);
+        Arrays.sort(k);
+        for (int i = 0; i < n; ) {
+          int j = i + 1;
+          while (j < n && k[j] == k[i]) j++;
+          pairs += (long) (j - i) * (j - i - 1) / 2;
+          i = j;
+        }
+      }
+      return pairs;
     }
   }
 }

@@ -15,10 +15,11 @@ import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
 
 /**
- * {@link SelfJoin} against an O(n^2) join written here (bit-by-bit distances through {@link
- * CodeBlock#bit}), on uniform and ReLU-like codes with planted exact and near copies, every radius
- * 0..8 and radii beyond the table count, forced table counts (substring radius 0, 1, 2...), the
- * scan, and 1 or 3 threads.
+ * {@link SelfJoin} and {@link RadiusMatcher} against an O(n^2) join written here (bit-by-bit
+ * distances through {@link CodeBlock#bit}), on uniform and ReLU-like codes with planted exact and
+ * near copies, every radius 0..8 and a radius of 20, automatic and forced key sizes (s = 1, 2, 3
+ * parts per key), the scan, and 1 or 3 threads; the matcher with forced table counts (substring
+ * radius 0, 1, 2...).
  */
 class SelfJoinTest {
 
@@ -77,8 +78,24 @@ class SelfJoinTest {
     return out.stream().mapToLong(Long::longValue).sorted().toArray();
   }
 
+  /** Join variants: automatic; 1, 2 or 3 parts per key through the tables; the scan. */
+  record JoinPlan(int keyParts, SearchPlanOptions.Strategy strategy) {
+    SelfJoin build(CodeBlock codes, int radius) {
+      return SelfJoin.build(codes, radius, keyParts, strategy);
+    }
+  }
+
+  static JoinPlan joinPlan(int variant, SplittableRandom rnd) {
+    return switch (variant % 4) {
+      case 0 -> new JoinPlan(0, SearchPlanOptions.Strategy.AUTO);
+      case 1 -> new JoinPlan(1, SearchPlanOptions.Strategy.TABLES);
+      case 2 -> new JoinPlan(2 + rnd.nextInt(2), SearchPlanOptions.Strategy.TABLES);
+      default -> new JoinPlan(0, SearchPlanOptions.Strategy.SCAN);
+    };
+  }
+
   /**
-   * Plan variants: automatic; forced tables of about 8-12 bits (so a radius above m probes
+   * Matcher plan variants: automatic; forced tables of about 8-12 bits (so a radius above m probes
    * neighbouring buckets, rho >= 1, at a bearable number of flips); plain tables; the scan.
    */
   static SearchPlanOptions options(int variant, int bits, SplittableRandom rnd) {
@@ -105,22 +122,20 @@ class SelfJoinTest {
       CodeBlock codes = planted(base, rnd);
       int[][] d = allDistances(codes);
       for (int variant = 0; variant < 4; variant++) {
-        SearchPlanOptions o = options(variant, codes.layout().bits(), rnd);
-        List<Integer> radii = new ArrayList<>(List.of(0, 1, 2, 3, 4, 5, 6, 7, 8));
-        for (int radius : radii) check(codes, d, radius, o, rnd, why + " variant " + variant + " " + o);
-        // a radius larger than the table count: substring radius >= 1 (>= 2 when m is forced small)
-        SelfJoin probe = SelfJoin.build(codes, 9, o);
-        check(codes, d, Math.max(9, 2 * probe.tables() + 1), o, rnd, why + " variant " + variant + " R > m");
+        JoinPlan o = joinPlan(variant, rnd);
+        for (int radius : new int[] {0, 1, 2, 3, 4, 5, 6, 7, 8, 20}) check(codes, d, radius, o, rnd, why + " variant " + variant + " " + o);
       }
     }
   }
 
-  private static void check(CodeBlock codes, int[][] d, int radius, SearchPlanOptions o, SplittableRandom rnd, String why) {
-    SelfJoin j = SelfJoin.build(codes, radius, o);
-    String at = why + " R=" + radius + " m=" + j.tables() + " scan=" + j.scans();
+  private static void check(CodeBlock codes, int[][] d, int radius, JoinPlan o, SplittableRandom rnd, String why) {
+    SelfJoin j = o.build(codes, radius);
+    String at = why + " R=" + radius + " tables=" + j.tables() + " s=" + j.keyParts() + " scan=" + j.scans();
     long[] want = bruteForce(d, radius);
     assertArrayEquals(want, joined(j, 1 + 2 * rnd.nextInt(2)), at);
-    // distinct pairs expand to the same count; same order whatever the thread count
+    // distinct pairs expand to the same count; same order whatever the thread count; the forced
+    // table plans really run through tables when the codes have the bits for them
+    if (o.strategy() == SearchPlanOptions.Strategy.TABLES && radius > 0 && !j.scans()) assertEquals(o.keyParts(), j.keyParts(), at);
     long[] count = {j.distinct().identicalPairs()};
     List<Long> one = new ArrayList<>(), three = new ArrayList<>();
     j.forEachPair(1, (a, b, dist) -> one.add(pack(a, b, dist)), (u, v, dist) -> one.add(-pack(u, v, dist)), null);
@@ -131,6 +146,41 @@ class SelfJoinTest {
       count[0] += (long) j.distinct().holders(u) * j.distinct().holders(v);
     }, null);
     assertEquals(want.length, count[0], at);
+  }
+
+  /**
+   * Several partitions per table and the table filled by several threads (n above 4,096 distinct
+   * codes), against an O(n^2) join over whole words written here; every key size, 1 and 3 threads.
+   */
+  @Test
+  @Tag("slow")
+  void partitionedTablesEqualWordByWordJoin() {
+    for (int rep = 0; rep < 4; rep++) {
+      long seed = Randoms.seed(200 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int n = 9_000 + rnd.nextInt(4_000);
+      CodeBlock codes = planted(rep % 2 == 0 ? SyntheticCodes.reluLike(n, 60 + rnd.nextInt(60), 40 + rnd.nextInt(40), seed).codes()
+          : SyntheticCodes.uniform(n, 64 + rnd.nextInt(100), seed), rnd);
+      int w = codes.wordsPerCode();
+      long[] data = codes.words();
+      for (int radius : new int[] {2, 4}) {
+        List<Long> want = new ArrayList<>();
+        for (int i = 0; i < n; i++)
+          for (int j = i + 1; j < n; j++) {
+            int d = 0;
+            for (int k = 0; k < w; k++) d += Long.bitCount(data[i * w + k] ^ data[j * w + k]);
+            if (d <= radius) want.add(pack(i, j, d));
+          }
+        for (int keyParts = 0; keyParts <= 3; keyParts++) {
+          SelfJoin j = SelfJoin.build(codes, radius, keyParts, keyParts == 0 ? SearchPlanOptions.Strategy.AUTO : SearchPlanOptions.Strategy.TABLES);
+          String at = Randoms.describe(seed) + " n=" + n + " R=" + radius + " s=" + j.keyParts() + " tables=" + j.tables() + " scan=" + j.scans();
+          for (int threads : new int[] {1, 3}) {
+            long[] got = joined(j, threads);
+            assertArrayEquals(want.stream().mapToLong(Long::longValue).toArray(), got, at + " threads=" + threads);
+          }
+        }
+      }
+    }
   }
 
   @Test
@@ -155,7 +205,7 @@ class SelfJoinTest {
       }
       CodeBlock queries = new CodeBlock(codes.layout(), q, qw);
       for (int radius : new int[] {0, 1, 3, 6, 11}) {
-        SelfJoin j = SelfJoin.build(codes, radius, options(rep + radius, bits, rnd));
+        RadiusMatcher j = RadiusMatcher.build(codes, radius, options(rep + radius, bits, rnd));
         List<Long> got = new ArrayList<>(), want = new ArrayList<>();
         j.forEachMatch(queries, 1 + rnd.nextInt(3), (row, ord, dist) -> got.add(pack(row, ord, dist)), null);
         for (int i = 0; i < q; i++)
