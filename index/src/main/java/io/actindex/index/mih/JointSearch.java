@@ -2,7 +2,6 @@ package io.actindex.index.mih;
 
 import io.actindex.core.CodeLayout;
 import io.actindex.core.CodeSearcher;
-import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
 import io.actindex.core.IdSet;
 import io.actindex.core.ScanKernel;
@@ -155,19 +154,9 @@ public final class JointSearch {
    */
   private TopK walk(long[] q, int k, IdSet accept, Scratch s) {
     int total = blockOf.length, w = layout.words(), bits = layout.bits();
-    s.ensure(total, bits, blocks.length);
-    int[] counts = s.counts, dist = s.dist, order = s.order, dq = s.dq;
-    Arrays.fill(counts, 0, bits + 2, 0);
-    for (int g = 0; g < total; g++) {
-      dist[g] = Hamming.distance(q, 0, centres, g * w, w);
-      counts[dist[g] + 1]++;
-    }
-    for (int x = 0; x <= bits; x++) counts[x + 1] += counts[x];
-    for (int g = 0; g < total; g++) {
-      int p = counts[dist[g]]++;
-      order[p] = g;
-      dq[p] = dist[g];
-    }
+    s.ensure(blocks.length);
+    Partition.sortCentres(q, centres, total, w, bits, s.visit);
+    int[] order = s.visit.order, dq = s.visit.dq;
     // the pre-pass: the nearest clusters of all blocks until k codes are known
     TopK pre = new TopK(k);
     int done = 0;
@@ -228,19 +217,13 @@ public final class JointSearch {
 
   /** Per-thread, per-query state. */
   private static final class Scratch {
-    int[] order = new int[0], dq = new int[0], dist = new int[0], counts = new int[0];
+    final Partition.Visit visit = new Partition.Visit(); // the joint clusters in visiting order
     long[] rest = new long[0];
     boolean[] walked = new boolean[0];
     int cap;
     boolean inUse;
 
-    void ensure(int clusters, int bits, int blocks) {
-      if (order.length < clusters) {
-        order = new int[clusters];
-        dq = new int[clusters];
-        dist = new int[clusters];
-      }
-      if (counts.length < bits + 2) counts = new int[bits + 2];
+    void ensure(int blocks) {
       if (rest.length < blocks) {
         rest = new long[blocks];
         walked = new boolean[blocks];

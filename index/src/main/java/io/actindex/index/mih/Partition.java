@@ -239,20 +239,7 @@ final class Partition {
    */
   int begin(long[] q, int bits, Visit v, IntPredicate accept, TopK top, int k, int maxDist) {
     int clusters = clusters(), w = words;
-    v.ensure(clusters, bits);
-    int[] counts = v.counts;
-    Arrays.fill(counts, 0, bits + 2, 0);
-    int[] d = v.lo; // scratch for the distances before sorting
-    for (int c = 0; c < clusters; c++) {
-      d[c] = Hamming.distance(q, 0, centres, c * w, w);
-      counts[d[c] + 1]++;
-    }
-    for (int x = 0; x <= bits; x++) counts[x + 1] += counts[x];
-    for (int c = 0; c < clusters; c++) {
-      int p = counts[d[c]]++;
-      v.order[p] = c;
-      v.dq[p] = d[c];
-    }
+    sortCentres(q, centres, clusters, w, bits, v);
     int done = 0;
     // without a cap from elsewhere, the nearest clusters provide the first k-th distance; with one,
     // the windows under the cap do (a cap may leave fewer than k codes reachable in this block)
@@ -262,6 +249,28 @@ final class Partition {
       done++;
     }
     return done;
+  }
+
+  /**
+   * Sorts {@code count} centres of {@code w} words (codes of {@code bits} bits) by their distance to
+   * {@code q}, nearest first, by a counting sort: {@code v.order} gets the centres, {@code v.dq}
+   * their distances.
+   */
+  static void sortCentres(long[] q, long[] centres, int count, int w, int bits, Visit v) {
+    v.ensure(count, bits);
+    int[] counts = v.counts;
+    Arrays.fill(counts, 0, bits + 2, 0);
+    int[] d = v.lo; // scratch for the distances before sorting
+    for (int c = 0; c < count; c++) {
+      d[c] = Hamming.distance(q, 0, centres, c * w, w);
+      counts[d[c] + 1]++;
+    }
+    for (int x = 0; x <= bits; x++) counts[x + 1] += counts[x];
+    for (int c = 0; c < count; c++) {
+      int p = counts[d[c]]++;
+      v.order[p] = c;
+      v.dq[p] = d[c];
+    }
   }
 
   /**

@@ -35,7 +35,7 @@ class JointSearchTest {
 
   @Test
   void forcedPartitionsEqualBruteForce() {
-    for (int rep = 0; rep < 30; rep++) {
+    for (int rep = 0; rep < 24; rep++) {
       SplittableRandom rnd = new SplittableRandom(Randoms.seed(rep));
       check(rep, 200 + rnd.nextInt(2500), true);
     }
@@ -44,13 +44,13 @@ class JointSearchTest {
   /** Blocks large enough for the partition the planner chooses (at least 4,096 codes). */
   @Test
   void plannerChosenPartitionsEqualBruteForce() {
-    for (int rep = 50; rep < 53; rep++) check(rep, 9_000 + new SplittableRandom(Randoms.seed(rep)).nextInt(3_000), false);
+    for (int rep = 50; rep < 52; rep++) check(rep, 9_000 + new SplittableRandom(Randoms.seed(rep)).nextInt(3_000), false);
   }
 
   @Test
   @Tag("slow")
   void plannerChosenPartitionsEqualBruteForceManySeeds() {
-    for (int rep = 100; rep < 112; rep++) check(rep, 9_000 + new SplittableRandom(Randoms.seed(rep)).nextInt(8_000), false);
+    for (int rep = 100; rep < 108; rep++) check(rep, 9_000 + new SplittableRandom(Randoms.seed(rep)).nextInt(8_000), false);
   }
 
   private void check(int rep, int n, boolean forced) {
