@@ -98,7 +98,8 @@ public final class SelfJoin {
     Parts best = null;
     for (int s = keyParts > 0 ? keyParts : 1; radius + s <= Math.min(informative, MAX_PARTS); s++) {
       int m = radius + s;
-      if (keyParts == 0 && binomial(m, s) > MAX_TABLES) break;
+      // more tables than the best plan can afford, even with no candidates at all: stop drafting
+      if (keyParts == 0 && (binomial(m, s) > MAX_TABLES || binomial(m, s) * n * TABLE_NS_PER_CODE >= bestCost)) break;
       Parts p = Parts.choose(sample, m, informative);
       double pairs = p.collisions(sample, s) * ((double) n * (n - 1)) / ((double) sample.size() * (sample.size() - 1));
       double cost = binomial(m, s) * n * TABLE_NS_PER_CODE + pairs * CANDIDATE_NS;
@@ -338,13 +339,39 @@ public final class SelfJoin {
     /** Joins partition {@code p}: sorts its entries, then every bucket (run of equal hashes). */
     void join(int p, Scratch sc, PairSink out, Emit emit) {
       int lo = from[p], hi = from[p + 1];
-      Arrays.sort(entries, lo, hi);
+      group(lo, hi, sc);
       long pos = (1L << posBits) - 1;
       for (int i = lo; i < hi; ) {
         int j = i + 1;
         while (j < hi && (entries[j] >>> posBits) == (entries[i] >>> posBits)) j++;
         if (j - i > 1) bucket(lo, i, j, pos, sc, out, emit);
         i = j;
+      }
+    }
+
+    /**
+     * Sorts the entries {@code [lo, hi)} of one partition: one counting pass on the 8 hash bits
+     * below the partition's, then each of the 256 small groups sorted on its own (a radix step in
+     * front of the sort; the entries are hashes, so the groups are even, except a large bucket).
+     */
+    private void group(int lo, int hi, Scratch sc) {
+      int size = hi - lo;
+      if (size < 512) {
+        Arrays.sort(entries, lo, hi);
+        return;
+      }
+      long[] tmp = sc.tmp(size);
+      int[] start = sc.start;
+      Arrays.fill(start, 0);
+      int shift = 56 - partitionBits;
+      for (int i = lo; i < hi; i++) start[(int) (entries[i] >>> shift & 255) + 1]++;
+      for (int g = 0; g < 256; g++) start[g + 1] += start[g];
+      for (int i = lo; i < hi; i++) tmp[start[(int) (entries[i] >>> shift & 255)]++] = entries[i];
+      System.arraycopy(tmp, 0, entries, lo, size);
+      for (int g = 0, from = lo; g < 256; g++) { // start[g] is now where group g ends
+        int to = lo + start[g];
+        if (to - from > 1) Arrays.sort(entries, from, to);
+        from = to;
       }
     }
 
@@ -409,8 +436,13 @@ public final class SelfJoin {
 
   /** Per-task copies of one bucket's members. */
   private static final class Scratch {
-    int[] at = new int[64], own = new int[64], near = new int[64];
-    long[] codes = new long[64];
+    int[] at = new int[64], own = new int[64], near = new int[64], start = new int[257];
+    long[] codes = new long[64], tmp = new long[0];
+
+    long[] tmp(int size) {
+      if (tmp.length < size) tmp = new long[size];
+      return tmp;
+    }
 
     void fit(int b, int w, int o) {
       if (at.length < b) {
