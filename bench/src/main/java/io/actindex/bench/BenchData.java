@@ -3,6 +3,9 @@ package io.actindex.bench;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.SyntheticCodes;
+import io.actindex.encode.CodeFiles;
+import io.actindex.encode.io.NpyDtype;
+import io.actindex.encode.io.NpyWriter;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.ByteBuffer;
@@ -172,6 +175,30 @@ public final class BenchData {
       case "uniform" -> CodeLayout.single("bits", bits);
       default -> throw new IllegalArgumentException("data set must be relu, dense or uniform, got " + data);
     };
+  }
+
+  /**
+   * The codes of {@link #codes} as a {@code .npy} of bool (n x bits) in the cache folder, for builds
+   * through the command line. Generated chunk by chunk with the same seeds as {@link #codes}, without
+   * holding the codes or the activations whole (10M 256-bit codes are a 2.56 GB file).
+   */
+  public static Path codesNpy(String data, int n, int bits) throws IOException {
+    Path npy = dir().resolve("codes-" + data + "-n" + n + "-b" + bits + ".npy");
+    if (Files.exists(npy)) return npy;
+    if (!fromNet(data)) throw new IllegalArgumentException("codesNpy needs a network data set, got " + data);
+    SyntheticCodes.ReluNet net = net(data, bits);
+    int batch = 2 * Runtime.getRuntime().availableProcessors();
+    try (NpyWriter w = NpyWriter.create(npy, NpyDtype.BOOL, bits)) {
+      for (int c0 = 0; c0 * (long) CHUNK < n; c0 += batch) {
+        int first = c0;
+        CodeBlock[] parts = IntStream.range(first, Math.min(first + batch, (n + CHUNK - 1) / CHUNK)).parallel()
+            .mapToObj(c -> net.sample(Math.min(CHUNK, n - c * CHUNK), 0, SEED + 0x9E3779B97F4A7C15L * (c + 1)).codes())
+            .toArray(CodeBlock[]::new);
+        for (CodeBlock part : parts) w.writeBytes(CodeFiles.unpack(part), part.size());
+      }
+      w.commit();
+    }
+    return npy;
   }
 
   /** Generates a network's codes and activations in parallel chunks (seeded per chunk) and caches both. */

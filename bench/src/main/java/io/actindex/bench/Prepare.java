@@ -5,7 +5,8 @@ import java.io.IOException;
 /**
  * Fills the bench data cache ahead of a run, so the benchmarks' setup only loads files: for each
  * {@code n:bits} argument, the relu codes and activations, the uniform codes, the exact cosine
- * truth of both query kinds and the Lucene HNSW index (the slow part: tens of minutes at 1M).
+ * truth of both query kinds and the Lucene HNSW index (the slow part: tens of minutes at 1M);
+ * for each {@code npy:DATA:N:BITS} argument only the codes of data set DATA as a {@code .npy} of bool.
  * {@code --no-hnsw-build} skips HNSW indexes that are not cached yet.
  */
 public final class Prepare {
@@ -13,7 +14,7 @@ public final class Prepare {
 
   public static void main(String[] args) throws IOException {
     if (args.length == 0) {
-      System.err.println("usage: Prepare [--no-hnsw-build] N:BITS ...   (e.g. 100000:256 1000000:256)");
+      System.err.println("usage: Prepare [--no-hnsw-build] N:BITS|npy:DATA:N:BITS ...   (e.g. 100000:256 npy:dense:1000000:256)");
       System.exit(2);
     }
     boolean buildHnsw = true;
@@ -23,6 +24,12 @@ public final class Prepare {
         continue;
       }
       String[] p = a.split(":");
+      if (p[0].equals("npy")) { // npy:DATA:N:BITS: only the codes as a .npy of bool, for command-line builds
+        long t0 = System.nanoTime();
+        java.nio.file.Path f = BenchData.codesNpy(p[1], Integer.parseInt(p[2]), Integer.parseInt(p[3]));
+        log(a, f.toString(), t0);
+        continue;
+      }
       int n = Integer.parseInt(p[0]), bits = Integer.parseInt(p[1]);
       long t0 = System.nanoTime();
       for (String data : new String[] {"relu", "uniform"}) CodeContenders.storeDir(data, BenchData.codes(data, n, bits));

@@ -44,7 +44,8 @@ import org.roaringbitmap.RoaringBitmap;
  *       the ids (seeded random), built once with {@link IndexReader#filter};
  *   <li>{@code tomb1}: one id deleted; {@code deleted1}, {@code deleted30}: 1% and 30% deleted;
  *   <li>{@code segments10}: the same codes added in ten batches, kept as ten segments (no merges);
- *   <li>{@code mask}: distance over the second layer only.
+ *   <li>{@code mask}: distance over the second layer only; {@code maskscan}: the plain scan with
+ *       that mask (what a masked query cost before the partition served masks).
  * </ul>
  */
 @State(Scope.Benchmark)
@@ -67,7 +68,7 @@ public class RealUseBench {
   @Param({"10"})
   public int k;
 
-  @Param({"scan", "clean", "filter10", "filter1", "filter0.01", "tomb1", "deleted1", "deleted30", "segments10", "mask"})
+  @Param({"scan", "clean", "filter10", "filter1", "filter0.01", "tomb1", "deleted1", "deleted30", "segments10", "mask", "maskscan"})
   public String scenario;
 
   private ScanSearcher scan;
@@ -81,7 +82,7 @@ public class RealUseBench {
     CodeBlock codes = BenchData.codes(data, n, bits);
     pool = BenchData.queries(data, queries, n, bits).codeArrays();
     switch (scenario) {
-      case "scan" -> scan = new ScanSearcher(codes);
+      case "scan", "maskscan" -> scan = new ScanSearcher(codes);
       case "clean", "mask", "filter10", "filter1", "filter0.01" -> reader = IndexReader.open(store(data, codes, 1, null));
       case "tomb1" -> reader = IndexReader.open(store(data, codes, 1, "tomb1"));
       case "deleted1" -> reader = IndexReader.open(store(data, codes, 1, "deleted1"));
@@ -93,7 +94,7 @@ public class RealUseBench {
       double share = Double.parseDouble(scenario.substring("filter".length())) / 100;
       filter = reader.filter(randomIds(n, share, 0xF117E2L));
     }
-    if (scenario.equals("mask")) mask = codes.layout().mask(1);
+    if (scenario.startsWith("mask")) mask = codes.layout().mask(1);
   }
 
   @TearDown(Level.Trial)
@@ -106,7 +107,7 @@ public class RealUseBench {
   @OutputTimeUnit(TimeUnit.MICROSECONDS)
   public void knn(QueryCursor c, Blackhole bh) {
     long[] q = pool[c.next(pool.length)];
-    Hits h = scan != null ? scan.knn(q, k) : reader.search(q, k, filter, mask);
+    Hits h = scan != null ? scan.knn(q, k, null, mask) : reader.search(q, k, filter, mask);
     bh.consume(h);
   }
 

@@ -90,6 +90,7 @@ public final class Report {
     radiusTable(sb, results, facts);
     encoding(sb, results);
     storage(sb, results);
+    onDisk(sb, results);
     targets(sb, results, rows, facts);
     return sb.toString();
   }
@@ -268,6 +269,38 @@ public final class Report {
       String ratio = check != null && r.bench().equals("StoreBench") ? fmt(r.micros() / check.micros()) : "";
       sb.append("| ").append(op).append(" | ").append(r.p("data")).append(" | ").append(count(r.p("n"))).append(" | ")
           .append(r.p("bits")).append(" | ").append(fmt(r.micros() / 1e3)).append(" | ").append(ratio).append(" |\n");
+    }
+  }
+
+  /**
+   * Exact 10-NN through the on-disk index ({@code StoreBench.Query}) against the plain scan over
+   * the same codes in the same fork, and the real-use scenarios ({@code RealUseBench}) against
+   * their plain scan: medians or averages of one run, so only the ratios are comparable.
+   */
+  private static void onDisk(StringBuilder sb, List<Result> results) {
+    List<Result> knn = results.stream().filter(r -> r.bench().equals("Query") && r.method().equals("knn")).toList();
+    if (!knn.isEmpty()) {
+      sb.append("\n### On-disk index: exact 10-NN through the reader vs the plain scan (same fork)\n\n");
+      sb.append("| data | n | bits | queries | reader µs | scan µs | ratio |\n|---|---:|---:|---|---:|---:|---:|\n");
+      for (Result r : knn) {
+        Result scan = first(results, x -> x.bench().equals("Query") && x.method().equals("scan") && x.params().equals(r.params()));
+        double s = scan == null ? Double.NaN : scan.micros();
+        sb.append("| ").append(r.p("data")).append(" | ").append(count(r.p("n"))).append(" | ").append(r.p("bits")).append(" | ")
+            .append(r.p("queries")).append(" | ").append(fmt(r.micros())).append(" | ").append(fmt(s)).append(" | ")
+            .append(fmt(r.micros() / s)).append(" |\n");
+      }
+    }
+    List<Result> real = results.stream().filter(r -> r.bench().equals("RealUseBench") && !r.p("scenario").equals("scan")).toList();
+    if (real.isEmpty()) return;
+    sb.append("\n### Real use: filters, deletes, segments, masks (median µs, ratio to the plain scan of the same data and queries)\n\n");
+    sb.append("| data | n | queries | k | scenario | µs | ratio to scan |\n|---|---:|---|---:|---|---:|---:|\n");
+    for (Result r : real) {
+      Result scan = first(results, x -> x.bench().equals("RealUseBench") && x.p("scenario").equals("scan") && x.p("data").equals(r.p("data"))
+          && x.p("n").equals(r.p("n")) && x.p("queries").equals(r.p("queries")) && x.p("k").equals(r.p("k")) && x.p("bits").equals(r.p("bits")));
+      double s = scan == null ? Double.NaN : scan.micros();
+      sb.append("| ").append(r.p("data")).append(" | ").append(count(r.p("n"))).append(" | ").append(r.p("queries")).append(" | ")
+          .append(r.p("k")).append(" | ").append(r.p("scenario")).append(" | ").append(fmt(r.micros())).append(" | ")
+          .append(fmt(r.micros() / s)).append(" |\n");
     }
   }
 

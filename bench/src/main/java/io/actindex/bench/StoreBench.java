@@ -1,12 +1,9 @@
 package io.actindex.bench;
 
-import io.actindex.core.CodeBlock;
-import io.actindex.encode.CodeFiles;
-import io.actindex.encode.io.NpyDtype;
-import io.actindex.encode.io.NpyWriter;
+import io.actindex.core.Hits;
+import io.actindex.core.ScanSearcher;
 import io.actindex.index.store.IndexCheck;
 import io.actindex.index.store.IndexReader;
-import io.actindex.index.store.IndexWriter;
 import io.actindex.query.IndexBuilder;
 import io.actindex.query.Source;
 import java.io.IOException;
@@ -14,7 +11,6 @@ import java.io.UncheckedIOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.Comparator;
-import java.util.Map;
 import java.util.concurrent.TimeUnit;
 import java.util.stream.Stream;
 import org.openjdk.jmh.annotations.Benchmark;
@@ -28,6 +24,7 @@ import org.openjdk.jmh.annotations.Param;
 import org.openjdk.jmh.annotations.Scope;
 import org.openjdk.jmh.annotations.Setup;
 import org.openjdk.jmh.annotations.State;
+import org.openjdk.jmh.annotations.TearDown;
 import org.openjdk.jmh.annotations.Warmup;
 
 /**
@@ -60,14 +57,68 @@ public class StoreBench {
     dir = BenchData.dir().resolve("store-" + data + "-n" + n + "-b" + bits);
     if (Files.exists(dir.resolve("done"))) return;
     delete(dir);
-    CodeBlock codes = BenchData.codes(data, n, bits);
-    try (IndexWriter w = IndexWriter.create(dir.resolve("index"), codes.layout(), Map.of())) {
-      w.add(codes, null);
-    }
     try {
+      // the command line's path: the codes .npy through IndexBuilder (no activations held, so 10M fit)
+      IndexBuilder.build(new IndexBuilder.BuildParams(dir.resolve("index"), Source.codes(BenchData.codesNpy(data, n, bits)), null), null);
       Files.createFile(dir.resolve("done"));
     } catch (IOException e) {
       throw new UncheckedIOException(e);
+    }
+  }
+
+  /**
+   * Exact 10-NN through the on-disk index ({@link IndexReader#search}, the planner over every
+   * segment) against the plain scan over the same codes in memory ({@code scan}, the baseline), for
+   * the query pools {@code in} and {@code ood} of the data set.
+   */
+  @State(Scope.Benchmark)
+  @Fork(value = 1, jvmArgsAppend = {"-Xms2g", "-Xmx8g"})
+  @Warmup(iterations = 2, time = 2)
+  @Measurement(iterations = 3, time = 2)
+  @BenchmarkMode(Mode.AverageTime)
+  @OutputTimeUnit(TimeUnit.MICROSECONDS)
+  public static class Query {
+    @Param({"relu"})
+    public String data;
+
+    @Param({"1000000"})
+    public int n;
+
+    @Param({"256"})
+    public int bits;
+
+    @Param({"in", "ood"})
+    public String queries;
+
+    private IndexReader reader;
+    private ScanSearcher scan;
+    private long[][] pool;
+
+    @Setup(Level.Trial)
+    public void setup() {
+      StoreBench store = new StoreBench();
+      store.data = data;
+      store.n = n;
+      store.bits = bits;
+      store.setup();
+      reader = IndexReader.open(store.dir.resolve("index"));
+      scan = new ScanSearcher(reader.liveCodes(null));
+      pool = BenchData.queries(data, queries, n, bits).codeArrays();
+    }
+
+    @TearDown(Level.Trial)
+    public void close() {
+      reader.close();
+    }
+
+    @Benchmark
+    public Hits knn(QueryCursor c) {
+      return reader.search(pool[c.next(pool.length)], 10, null, null);
+    }
+
+    @Benchmark
+    public Hits scan(QueryCursor c) {
+      return scan.knn(pool[c.next(pool.length)], 10);
     }
   }
 
@@ -107,16 +158,7 @@ public class StoreBench {
 
     @Setup(Level.Trial)
     public void setup() throws IOException {
-      npy = BenchData.dir().resolve("codes-" + data + "-n" + n + "-b" + bits + ".npy");
-      if (Files.exists(npy)) return;
-      CodeBlock codes = BenchData.codes(data, n, bits);
-      try (NpyWriter w = NpyWriter.create(npy, NpyDtype.BOOL, bits)) {
-        for (int from = 0; from < n; from += 65536) {
-          CodeBlock part = codes.slice(from, Math.min(n, from + 65536));
-          w.writeBytes(CodeFiles.unpack(part), part.size());
-        }
-        w.commit();
-      }
+      npy = BenchData.codesNpy(data, n, bits);
     }
 
     @Setup(Level.Invocation)

@@ -2,6 +2,8 @@ package io.actindex.cli;
 
 import io.actindex.cli.format.CsvWriter;
 import io.actindex.core.BadInputException;
+import io.actindex.core.DiskFull;
+import io.actindex.core.OutputFiles;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
 import io.actindex.index.mih.PairSink;
@@ -16,7 +18,6 @@ import java.io.UncheckedIOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;
@@ -119,17 +120,22 @@ final class DupesCommand implements Callable<Integer> {
 
     PairsFile(Path target, String header) {
       this.target = target;
-      Path abs = target.toAbsolutePath();
-      if (Files.isDirectory(abs)) throw new BadInputException(target + ": is a folder; --pairs names a CSV file");
-      if (!Files.isDirectory(abs.getParent())) throw new BadInputException(target + ": its folder does not exist (--pairs)");
-      this.temp = abs.resolveSibling(abs.getFileName() + ".tmp");
+      OutputFiles.checkTarget(target, "--pairs");
+      Path t = null;
       try {
-        w = Files.newBufferedWriter(temp, StandardCharsets.UTF_8);
+        t = OutputFiles.tempBeside(target);
+        w = Files.newBufferedWriter(t, StandardCharsets.UTF_8);
         w.write(header);
         w.write('\n');
       } catch (IOException e) {
-        throw new UncheckedIOException("cannot write " + target + ": " + e.getMessage(), e);
+        try {
+          if (t != null) Files.deleteIfExists(t);
+        } catch (IOException suppressed) {
+          e.addSuppressed(suppressed);
+        }
+        throw failure(e);
       }
+      this.temp = t;
     }
 
     void pair(int a, int b, int d) {
@@ -138,25 +144,34 @@ final class DupesCommand implements Callable<Integer> {
       try {
         w.append(line);
       } catch (IOException e) {
-        throw new UncheckedIOException("cannot write " + target + ": " + e.getMessage(), e);
+        throw failure(e);
       }
     }
 
     void commit() {
       try {
         w.close();
-        Files.move(temp, target, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
+        OutputFiles.moveIntoPlace(temp, target);
         committed = true;
       } catch (IOException e) {
-        throw new UncheckedIOException("cannot write " + target + ": " + e.getMessage(), e);
+        throw failure(e);
       }
+    }
+
+    private RuntimeException failure(IOException e) {
+      if (DiskFull.in(e)) return DiskFull.refusal(target.toString(), "the pairs file was not written (a file already there is unchanged)", e);
+      return new UncheckedIOException("cannot write " + target + ": " + e.getMessage(), e);
     }
 
     @Override
     public void close() {
       if (committed) return;
       try {
-        w.close();
+        w.close(); // may fail again (a full disk): the temporary file goes all the same
+      } catch (IOException ignored) {
+        // failing already
+      }
+      try {
         Files.deleteIfExists(temp);
       } catch (IOException ignored) {
         // failing already; the temporary file is all that is left

@@ -1,6 +1,7 @@
 package io.actindex.cli;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.DiskFull;
 import io.actindex.query.Snippet;
 import java.io.PrintWriter;
 import java.nio.file.AccessDeniedException;
@@ -91,6 +92,12 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
       if (t instanceof NotDirectoryException f) return f.getFile() + ": not a folder (a part of this path is a file)";
       if (t instanceof FileSystemException f && "Not a directory".equals(f.getReason()))
         return f.getFile() + ": not a folder (a part of this path is a file)";
+    }
+    // a full disk that no writer named: the file when the JDK says it, else the system's text
+    if (DiskFull.in(ex)) {
+      for (Throwable t = ex; t != null; t = t.getCause() == t ? null : t.getCause())
+        if (t instanceof FileSystemException f && f.getFile() != null) return DiskFull.refusal(f.getFile(), "not written", ex).getMessage();
+      return DiskFull.refusal("writing an output", "not finished", ex).getMessage();
     }
     return null;
   }

@@ -4,7 +4,7 @@ import io.actindex.cli.format.CsvWriter;
 import io.actindex.cli.format.Format;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
-import io.actindex.core.BadInputException;
+import io.actindex.core.OutputFiles;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.edge.EdgeBundle.Statistic;
 import io.actindex.index.store.IndexReader;
@@ -24,9 +24,7 @@ import java.io.PrintWriter;
 import java.io.StringWriter;
 import java.io.UncheckedIOException;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Locale;
@@ -80,7 +78,7 @@ final class OodCommand implements Callable<Integer> {
     else if (f == Format.table) out.println("caution: " + OodCalibration.CAUTION);
   }
 
-  @Command(name = "calibrate", mixinStandardHelpOptions = true,
+  @Command(name = "calibrate", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
       description = {"Scores held-out in-distribution inputs (not in the index) and stores the sorted scores, k, statistic, layers and the "
           + "threshold that accepts the target share of in-distribution inputs in the index (one atomic commit)."})
   static final class Calibrate implements Callable<Integer> {
@@ -113,6 +111,7 @@ final class OodCommand implements Callable<Integer> {
     int candidates;
 
     @Mixin LayersOption layers;
+    @Mixin ThreadsOption threads;
     @Mixin FormatOption format;
 
     @Override
@@ -128,7 +127,7 @@ final class OodCommand implements Callable<Integer> {
       OodCalibrate.Result r;
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "calibrating")) {
         r = OodCalibrate.run(index.dir, query.toSource(), query.range(), new OodCalibrate.Params(k, st, tpr, layers.layers, checkOverlap,
-            score == null ? null : OodScorer.Kind.parse(score), candidates), bar);
+            score == null ? null : OodScorer.Kind.parse(score), candidates, threads.resolved()), bar);
       }
       PrintWriter out = spec.commandLine().getOut();
       Calibration c = r.calibration();
@@ -163,7 +162,7 @@ final class OodCommand implements Callable<Integer> {
     }
   }
 
-  @Command(name = "score", mixinStandardHelpOptions = true,
+  @Command(name = "score", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
       description = {"Per input: score, threshold, decision (in/out), conformal p-value, own region populated, nearest training examples as "
           + "evidence, and the model's maximum softmax probability beside it when the inputs are raw inputs and the index holds the model."})
   static final class Score implements Callable<Integer> {
@@ -183,6 +182,7 @@ final class OodCommand implements Callable<Integer> {
     String score;
 
 
+    @Mixin ThreadsOption threads;
     @Mixin FormatOption format;
 
     @Override
@@ -194,11 +194,12 @@ final class OodCommand implements Callable<Integer> {
           Calibration c = OodCalibration.load(reader);
           if (score != null) OodCalibration.scorer(reader, c, OodScorer.Kind.parse(score));
           QueryCodes q = query.load(reader);
-          decisions(out, c, q, OodScore.decide(reader, q));
+          decisions(out, c, q, OodScore.decide(reader, q, threads.resolved()));
         } else {
           OodScore.Output o;
           try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "scoring")) {
-            o = OodScore.run(reader, query.toSource(), query.range(), new OodScore.Params(evidence, score == null ? null : OodScorer.Kind.parse(score)), bar);
+            o = OodScore.run(reader, query.toSource(), query.range(),
+                new OodScore.Params(evidence, score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
           }
           print(out, o);
         }
@@ -209,21 +210,22 @@ final class OodCommand implements Callable<Integer> {
     }
 
     private void decisions(PrintWriter out, Calibration c, QueryCodes q, boolean[] isOut) {
+      String name = OodCalibration.Scoring.CODE.name(c.statistic()); // decision-only runs on code calibrations only
       switch (format.format) {
         case json -> {
           JsonWriter j = new JsonWriter(out).beginObject();
           calibration(j, c);
-          j.name("results").beginArray();
+          j.member("score_name", name).name("results").beginArray();
           for (int i = 0; i < isOut.length; i++) j.beginObject().member("query", q.row(i)).member("decision", isOut[i] ? "out" : "in").endObject();
           j.endArray().member("caution", OodCalibration.CAUTION).endObject();
           out.println();
         }
         case csv -> {
-          CsvWriter w = new CsvWriter(out, List.of("query", "decision"));
-          for (int i = 0; i < isOut.length; i++) w.row(List.of(Long.toString(q.row(i)), isOut[i] ? "out" : "in"));
+          CsvWriter w = new CsvWriter(out, List.of("query", "decision", "score_name"));
+          for (int i = 0; i < isOut.length; i++) w.row(List.of(Long.toString(q.row(i)), isOut[i] ? "out" : "in", name));
         }
         case table -> {
-          out.println("threshold " + num(c.threshold()) + " (k=" + c.k() + ", " + c.statistic().label + ", layers " + layers(c.layers()) + ")");
+          out.println("threshold " + num(c.threshold()) + " on the " + name + " (k=" + c.k() + ", layers " + layers(c.layers()) + ")");
           TextTable t = new TextTable(List.of("query", "decision"));
           for (int i = 0; i < isOut.length; i++) t.row(List.of(Long.toString(q.row(i)), isOut[i] ? "out" : "in"));
           t.print(out, "");
@@ -237,7 +239,7 @@ final class OodCommand implements Callable<Integer> {
         case json -> {
           JsonWriter j = new JsonWriter(out).beginObject();
           calibration(j, c);
-          j.name("results").beginArray();
+          j.member("score_name", o.scoreName()).name("results").beginArray();
           for (OodScore.Result r : o.results()) {
             j.beginObject().member("query", r.row()).member("score", r.score()).member("kth", r.kth()).member("mean", r.mean())
                 .name("own_region").value(r.ownRegion()).member("decision", r.out() ? "out" : "in").member("p_value", r.pValue())
@@ -252,15 +254,17 @@ final class OodCommand implements Callable<Integer> {
           out.println();
         }
         case csv -> {
-          CsvWriter w = new CsvWriter(out, List.of("query", "score", "kth", "mean", "own_region", "decision", "p_value", "max_softmax", "evidence"));
+          CsvWriter w = new CsvWriter(out, List.of("query", "score", "kth", "mean", "own_region", "decision", "p_value", "max_softmax", "evidence",
+              "score_name"));
           for (OodScore.Result r : o.results())
             w.row(List.of(Long.toString(r.row()), Double.toString(r.score()), Integer.toString(r.kth()), Double.toString(r.mean()),
                 Boolean.toString(r.ownRegion()), r.out() ? "out" : "in", Double.toString(r.pValue()),
-                r.maxSoftmax() == null ? "" : Double.toString(r.maxSoftmax()), evidence(r)));
+                r.maxSoftmax() == null ? "" : Double.toString(r.maxSoftmax()), evidence(r), o.scoreName()));
         }
         case table -> {
-          out.println("threshold " + num(c.threshold()) + " (k=" + c.k() + ", " + c.statistic().label + ", layers " + layers(c.layers())
-              + ", target TPR " + c.tpr() + ", " + c.scores().length + " calibration inputs)");
+          String cands = o.scoring().kind() == OodScorer.Kind.REFINED ? ", among " + o.scoring().candidates() + " Hamming candidates" : "";
+          out.println("score: " + o.scoreName() + " (k=" + c.k() + cands + ", layers " + layers(c.layers()) + ")");
+          out.println("threshold " + num(c.threshold()) + " (target TPR " + c.tpr() + ", " + c.scores().length + " calibration inputs)");
           boolean msp = o.results().stream().anyMatch(r -> r.maxSoftmax() != null);
           List<String> header = new ArrayList<>(List.of("query", "score", "decision", "p-value", "own region"));
           if (msp) header.add("max softmax");
@@ -285,7 +289,7 @@ final class OodCommand implements Callable<Integer> {
     }
   }
 
-  @Command(name = "eval", mixinStandardHelpOptions = true,
+  @Command(name = "eval", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
       description = {"AUROC, FPR at 95%% TPR and AUPR of the calibrated code score on in- and out-of-distribution inputs, a breakdown over k, "
           + "statistic and layers, and beside it the k-NN score on float activations and the softmax baseline when they apply.",
           "Optionally the ROC curves as CSV and a self-contained HTML page."})
@@ -330,25 +334,25 @@ final class OodCommand implements Callable<Integer> {
     @Option(names = "--html", paramLabel = "FILE", description = "Write a self-contained HTML page (inline SVG: ROC curves, score histograms).")
     Path html;
 
+    @Mixin ThreadsOption threads;
     @Mixin FormatOption format;
 
     @Override
     public Integer call() {
-      for (Path p : new Path[] {roc, html})
-        if (p != null && !Files.isDirectory(p.toAbsolutePath().getParent())) throw new BadInputException(p + ": its folder does not exist");
-        else if (p != null && Files.isDirectory(p)) throw new BadInputException(p + ": is a folder; --roc and --html name files");
+      if (roc != null) OutputFiles.checkTarget(roc, "--roc");
+      if (html != null) OutputFiles.checkTarget(html, "--html");
       OodEval.Result r;
       try (IndexReader reader = IndexReader.open(index.dir)) {
         Kind k = kind != null ? kind : BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel() ? Kind.inputs : Kind.activations;
         try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "evaluating")) {
           if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
           r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats, candidates,
-              score == null ? null : OodScorer.Kind.parse(score)), bar);
+              score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
         }
       }
       List<OodEval.Scored> scores = r.scores();
-      if (roc != null) write(roc, rocCsv(scores));
-      if (html != null) write(html, EvalPage.render("Out-of-distribution evaluation: " + index.dir.getFileName(), r));
+      if (roc != null) write(roc, rocCsv(scores), "--roc");
+      if (html != null) write(html, EvalPage.render("Out-of-distribution evaluation: " + index.dir.getFileName(), r), "--html");
       PrintWriter out = spec.commandLine().getOut();
       switch (format.format) {
         case json -> {
@@ -423,15 +427,9 @@ final class OodCommand implements Callable<Integer> {
       return s.toString();
     }
 
-    private static void write(Path file, String text) {
+    private static void write(Path file, String text, String option) {
       try {
-        Path tmp = Files.createTempFile(file.toAbsolutePath().getParent(), file.getFileName().toString(), ".tmp");
-        try {
-          Files.writeString(tmp, text, StandardCharsets.UTF_8);
-          Files.move(tmp, file, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
-        } finally {
-          Files.deleteIfExists(tmp);
-        }
+        OutputFiles.write(file, text.getBytes(StandardCharsets.UTF_8), option);
       } catch (IOException e) {
         throw new UncheckedIOException("cannot write " + file + ": " + e.getMessage(), e);
       }

@@ -166,6 +166,15 @@ class CompareEndToEndTest {
     assertThat(empty.code()).as(empty.describe()).isEqualTo(2);
     assertThat(empty.err().strip().lines().count()).as(empty.describe()).isEqualTo(1);
     assertThat(empty.err()).contains("empty");
+    float[][] floats = new float[train.size() + 1][3];
+    for (int i = 0; i < floats.length; i++) floats[i] = new float[] {i, 1, 2};
+    String trainFloats = Files2.floats(tmp.resolve("tf.npy"), floats).toString();
+    Cli.Result mismatch = Cli.run("compare", "--index", idx.toString(), "--a-where", "split = train", "--b-where", "split != train",
+        "--a-floats", trainFloats, "--b-floats", trainFloats, "--permutations", "5");
+    assertThat(mismatch.code()).as(mismatch.describe()).isEqualTo(2);
+    assertThat(mismatch.err().strip().lines().count()).as(mismatch.describe()).isEqualTo(1);
+    assertThat(mismatch.err()).contains(trainFloats + ": float sample A has " + (train.size() + 1) + " rows, but its codes (where split = train) have "
+        + train.size());
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 
@@ -175,9 +184,9 @@ class CompareEndToEndTest {
     String a = Files2.bits(tmp.resolve("a.npy"), codes(r, 5, 16, 0)).toString();
     String wide = Files2.bits(tmp.resolve("wide.npy"), codes(r, 5, 24, 0)).toString();
     String one = Files2.bits(tmp.resolve("one.npy"), codes(r, 1, 16, 0)).toString();
-    String nan = Files2.floats(tmp.resolve("nan.npy"), new float[][] {{1, Float.NaN}, {0, 1}}).toString();
-    String fine = Files2.floats(tmp.resolve("fine.npy"), new float[][] {{1, 2}, {0, 1}}).toString();
-    String wideFloats = Files2.floats(tmp.resolve("wide-floats.npy"), new float[][] {{1, 2, 3}, {0, 1, 2}}).toString();
+    String nan = Files2.floats(tmp.resolve("nan.npy"), new float[][] {{1, Float.NaN}, {0, 1}, {0, 1}, {0, 1}, {0, 1}}).toString();
+    String fine = Files2.floats(tmp.resolve("fine.npy"), new float[][] {{1, 2}, {0, 1}, {0, 2}, {1, 1}, {2, 1}}).toString();
+    String wideFloats = Files2.floats(tmp.resolve("wide-floats.npy"), new float[][] {{1, 2, 3}, {0, 1, 2}, {0, 1, 2}, {0, 1, 2}, {0, 1, 2}}).toString();
     List<String[]> cases = List.of(
         new String[] {"compare", "--a", a, "--b", wide, "--kind", "codes"},
         new String[] {"compare", "--a", a, "--b", one, "--kind", "codes"},
@@ -192,6 +201,17 @@ class CompareEndToEndTest {
       assertThat(res.err().strip().lines().count()).as(res.describe()).isEqualTo(1);
       assertThat(res.out()).as(res.describe()).isEmpty();
     }
+    // floats with another row count than the codes they pair with: were used silently (the float
+    // reference then compared other examples than the codes)
+    String short4 = Files2.floats(tmp.resolve("short.npy"), new float[][] {{1, 2}, {0, 1}, {0, 2}, {1, 1}}).toString();
+    Cli.Result ra = Cli.run("compare", "--a", a, "--b", a, "--kind", "codes", "--a-floats", short4, "--b-floats", fine);
+    assertThat(ra.code()).as(ra.describe()).isEqualTo(2);
+    assertThat(ra.err().strip()).as(ra.describe()).isEqualTo("actindex compare: " + short4 + ": float sample A has 4 rows, but its codes (" + a
+        + ") have 5; --a-floats must hold the same examples in the same order");
+    Cli.Result rb = Cli.run("compare", "--a", a, "--b", a, "--kind", "codes", "--a-floats", fine, "--b-floats", short4);
+    assertThat(rb.code()).as(rb.describe()).isEqualTo(2);
+    assertThat(rb.err().strip().lines().count()).as(rb.describe()).isEqualTo(1);
+    assertThat(rb.err()).as(rb.describe()).contains(short4 + ": float sample B has 4 rows, but its codes (" + a + ") have 5", "--b-floats");
     // usage errors: the message, then the project's "--help" hint line
     for (String[] args : List.of(new String[] {"compare", "--a", a, "--kind", "codes"},
         new String[] {"compare", "--a", a, "--b-where", "split = x"})) {

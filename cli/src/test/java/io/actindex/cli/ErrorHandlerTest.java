@@ -30,6 +30,8 @@ class ErrorHandlerTest {
         case "missing" -> throw new java.nio.file.NoSuchFileException("nothere.npy");
         case "notdir" -> throw new java.nio.file.NotDirectoryException("plain.txt");
         case "multiline" -> throw new BadInputException("meta.csv: line 2: key 'a\nb\u0000c' already used" + "x".repeat(5000));
+        case "full" -> throw new java.io.UncheckedIOException("writing", io.actindex.core.NoSpace.exception());
+        case "full-file" -> throw new java.nio.file.FileSystemException("out/p.csv", null, "No space left on device");
         case "oom" -> throw new OutOfMemoryError("Java heap space");
         case "oom-in-pool" -> throw new IllegalStateException(new java.util.concurrent.ExecutionException(new OutOfMemoryError("Java heap space")));
         case "soe" -> {
@@ -90,6 +92,17 @@ class ErrorHandlerTest {
     String[] r = run("--kind", "other", "--verbose");
     assertThat(r[0]).isEqualTo("1");
     assertThat(r[2]).contains("kaputt").contains("\tat ");
+  }
+
+  /** A full disk no writer named (the JDK's own ENOSPC text): exit 2, one line, the file when the JDK names it. */
+  @Test
+  void diskFullExitsTwoWithOneLine() {
+    String[] r = run("--kind", "full");
+    assertThat(r[0]).isEqualTo("2");
+    assertThat(r[2]).startsWith("boom: writing an output: no space left on device (").hasLineCount(1);
+    String[] f = run("--kind", "full-file");
+    assertThat(f[0]).isEqualTo("2");
+    assertThat(f[2]).startsWith("boom: out/p.csv: no space left on device (No space left on device); not written").hasLineCount(1);
   }
 
   @Test

@@ -281,7 +281,16 @@ class InputReadersEndToEndTest {
     zip[30 + "act.npy".length() + member.length - 2] ^= 0x40; // a data byte of the last value (local header: 30 bytes + name)
     Path bad = Files2.write(tmp.resolve("bad.npz"), zip);
     refused(Cli.run("add", "--index", idx.toString(), "--activations", bad.toString()), "bad.npz[act]", "CRC-32");
+    // rows that stop before the damage: the rest of the member is read for its CRC all the same
+    // (was: exit 0, the member's CRC never checked because the reader stopped early)
+    refused(Cli.run("nearest", "--index", idx.toString(), "--activations", bad.toString(), "--rows", "0"), "bad.npz[act]", "CRC-32",
+        "whole member");
+    refused(Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", bad.toString(), "--rows", "0:5"), "bad.npz[act]", "CRC-32");
     assertThat(Files2.checksums(idx)).isEqualTo(before);
+    // a member cut short inside its stored data is refused too (the zip names a size it does not hold)
+    byte[] cut = java.util.Arrays.copyOf(zip, 30 + "act.npy".length() + member.length / 2);
+    refused(Cli.run("nearest", "--index", idx.toString(), "--activations", Files2.write(tmp.resolve("cut.npz"), cut).toString(), "--rows", "0"),
+        "cut.npz");
   }
 
   /** A zip archive (as np.savez writes: members stored, not compressed) with {@code member} under each name. */

@@ -83,7 +83,12 @@ class OodEndToEndTest {
       assertThat(r.get("max_softmax").isNull()).isTrue();
     }
     Cli.Result csv = Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:2", "--format", "csv");
-    assertThat(csv.out().lines().toList()).hasSize(3).first().isEqualTo("query,score,kth,mean,own_region,decision,p_value,max_softmax,evidence");
+    assertThat(csv.out().lines().toList()).hasSize(3).first().isEqualTo("query,score,kth,mean,own_region,decision,p_value,max_softmax,evidence,score_name");
+    assertThat(csv.out().lines().skip(1)).allMatch(l -> l.endsWith(",code k-th distance"));
+    assertThat(JSON.readTree(s.out()).get("score_name").asText()).isEqualTo("code k-th distance");
+    assertThat(JSON.readTree(d.out()).get("score_name").asText()).isEqualTo("code k-th distance");
+    assertThat(Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:1").out())
+        .startsWith("score: code k-th distance (k=3, layers all)\nthreshold " + OodCommand.num(threshold) + " (target TPR 0.9, 60 calibration inputs)");
     assertThat(csv.err()).startsWith("caution: ");
 
     Path html = tmp.resolve("eval.html"), roc = tmp.resolve("roc.csv");
@@ -108,6 +113,15 @@ class OodEndToEndTest {
     assertThat(xj.get("bytes").asLong()).isEqualTo(Files.size(bundle));
     assertThat(xj.get("examples").asInt()).isEqualTo(400);
     assertThat(tmp.resolve("c").resolve("actindex_edge.c")).exists();
+    // every output follows the umask like any new file (was 0600 for these four from Files.createTempFile)
+    if (Files.getFileStore(tmp).supportsFileAttributeView("posix")) {
+      var mode = Files.getPosixFilePermissions(Files.createFile(tmp.resolve("plain-new-file")));
+      for (Path f : List.of(html, roc, bundle, tmp.resolve("c").resolve("actindex_edge.c"), tmp.resolve("c").resolve("actindex_edge.h")))
+        assertThat(Files.getPosixFilePermissions(f)).as(f.toString()).isEqualTo(mode);
+      try (var left = Files.list(tmp)) {
+        assertThat(left.map(p -> p.getFileName().toString())).noneMatch(n -> n.endsWith(".tmp"));
+      }
+    }
     Cli.Result t = Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:1");
     assertThat(t.out()).contains("caution: A calibrated heuristic, not a guarantee");
   }
@@ -158,6 +172,43 @@ class OodEndToEndTest {
     assertThat(tmp.resolve("b.edge")).doesNotExist();
   }
 
+  /**
+   * {@code --threads}: calibrate, score (full and decision-only) and eval print the same bytes on 1
+   * and 3 threads and by default (one per core, shown in the help).
+   */
+  @Test
+  void threadsGiveTheSameOutput() throws Exception {
+    Path idx = tmp.resolve("tidx");
+    Path trainF = Files2.floats(tmp.resolve("ttrain.npy"), floats(300, 0.1, 11)), calF = Files2.floats(tmp.resolve("tcal.npy"), floats(60, 0.1, 12));
+    Path inF = Files2.floats(tmp.resolve("tin.npy"), floats(40, 0.1, 13)), outF = Files2.floats(tmp.resolve("tout.npy"), floats(40, 0.6, 14));
+    assertThat(Cli.run("build", "--out", idx.toString(), "--activations", trainF.toString()).code()).isZero();
+    String i = idx.toString();
+    for (String score : List.of("refined", "code")) {
+      String[][] commands = {
+          {"ood", "calibrate", "--index", i, "--activations", calF.toString(), "-k", "3", "--score", score, "--format", "json"},
+          {"ood", "score", "--index", i, "--activations", inF.toString(), "--format", "json"},
+          {"ood", "eval", "--index", i, "--in", inF.toString(), "--out", outF.toString(), "--in-floats", inF.toString(), "--out-floats",
+              outF.toString(), "--train-floats", trainF.toString(), "--format", "json"},
+      };
+      for (String[] args : commands) {
+        List<String> outputs = new java.util.ArrayList<>();
+        for (String[] threads : List.of(new String[] {"--threads", "1"}, new String[] {"--threads", "3"}, new String[0])) {
+          String[] all = java.util.stream.Stream.concat(Arrays.stream(args), Arrays.stream(threads)).toArray(String[]::new);
+          Cli.Result r = Cli.run(all);
+          assertThat(r.code()).as(r.describe()).isZero();
+          outputs.add(r.out());
+        }
+        assertThat(outputs).as(String.join(" ", args)).containsOnly(outputs.get(0));
+      }
+    }
+    Cli.Result d1 = Cli.run("ood", "score", "--index", i, "--activations", outF.toString(), "--decision-only", "--threads", "1", "--format", "csv");
+    Cli.Result d3 = Cli.run("ood", "score", "--index", i, "--activations", outF.toString(), "--decision-only", "--threads", "3", "--format", "csv");
+    assertThat(d1.code()).as(d1.describe()).isZero();
+    assertThat(d3.out()).isEqualTo(d1.out()).contains(",out,");
+    for (String sub : List.of("calibrate", "score", "eval"))
+      assertThat(Cli.run("ood", sub, "--help").out().replaceAll("\\s+", " ")).as(sub).contains("--threads=N Worker threads").contains("Default: 0; 0 = one per core");
+  }
+
   /** Relu-like float rows: each row is one of 6 non-negative prototypes plus noise, clipped at 0. */
   static float[][] floats(int n, double noise, long seed) {
     SplittableRandom proto = new SplittableRandom(98), rnd = new SplittableRandom(seed);
@@ -184,6 +235,13 @@ class OodEndToEndTest {
     assertThat(cj.get("candidates").asInt()).isEqualTo(100);
     Cli.Result s = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString(), "--format", "json");
     assertThat(s.code()).as(s.describe()).isZero();
+    assertThat(JSON.readTree(s.out()).get("score_name").asText()).isEqualTo("refined cosine k-th distance");
+    Cli.Result mean = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString(), "-k", "2", "--statistic", "mean");
+    assertThat(mean.code()).as(mean.describe()).isZero();
+    Cli.Result table = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString());
+    assertThat(table.out()).startsWith("score: refined cosine mean distance (k=2, among 100 Hamming candidates, layers all)\n");
+    Cli.Result csvMean = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString(), "--format", "csv");
+    assertThat(csvMean.out().lines().skip(1)).hasSize(20).allMatch(l -> l.endsWith(",refined cosine mean distance"));
     for (JsonNode r : JSON.readTree(s.out()).get("results"))
       assertThat(r.get("decision").asText()).isEqualTo(r.get("score").asDouble() > cj.get("threshold").asDouble() ? "out" : "in");
     Map<String, String> before = Files2.checksums(idx);
@@ -208,5 +266,17 @@ class OodEndToEndTest {
     Cli.Result e = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--format", "json");
     assertThat(e.code()).as(e.describe()).isZero();
     assertThat(JSON.readTree(e.out()).get("scores").findValuesAsText("name")).contains("code", "refined");
+    // float rows that do not pair with the --in/--out rows: refused naming both files and counts
+    Path fewer = Files2.floats(tmp.resolve("fewer.npy"), floats(59, 0.1, 2));
+    Cli.Result in = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--in-floats", fewer.toString(),
+        "--out-floats", qF.toString(), "--train-floats", trainF.toString(), "--score", "refined");
+    assertThat(in.code()).as(in.describe()).isEqualTo(2);
+    assertThat(in.err().strip()).as(in.describe()).isEqualTo("actindex ood eval: " + fewer + ": 59 rows of floats, but --in " + calF
+        + " has 60; --in-floats must hold the same inputs in the same order");
+    Cli.Result out = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--in-floats", calF.toString(),
+        "--out-floats", fewer.toString(), "--train-floats", trainF.toString());
+    assertThat(out.code()).as(out.describe()).isEqualTo(2);
+    assertThat(out.err().strip()).as(out.describe()).startsWith("actindex ood eval: " + fewer + ": 59 rows of floats, but --out " + qF + " has 20");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 }

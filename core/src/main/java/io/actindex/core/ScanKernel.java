@@ -4,10 +4,14 @@ import java.util.function.IntPredicate;
 
 /**
  * The k-NN scan loop over a run of packed codes, shared by the plain scan and by index paths that
- * scan parts of a code array (clusters of the partition). One loop per code width of 1, 2, 4 and 8
- * words keeps the query and mask words in registers (the compiler cannot do that itself: both are
- * {@code long[]} and may alias the codes); other widths stop counting once the bound is passed.
- * A mask is applied as one AND per word (no mask: all ones), so masked search takes the same loop.
+ * scan parts of a code array (clusters of the partition). A mask first selects the words it
+ * touches: words it leaves out are never read, so a mask of some layers costs at most what the
+ * unmasked scan costs. Loops per word count keep the query (and mask) words in registers (the
+ * compiler cannot do that itself: they sit in a {@code long[]} that may alias the codes): every word
+ * of codes of 1, 2, 3, 4 and 8 words; 1, 2, 3, 4 and 8 selected words of wider codes; with one AND
+ * per word (all ones for a whole word; skipped when 4 whole words are selected, the common 256-bit
+ * case). Other counts take a general loop that stops
+ * counting once the bound is passed.
  *
  * <p>Distance first: the filter is asked only about codes that would enter the top k, so a filter
  * that accepts most codes costs almost nothing, and a slow predicate is called rarely.
@@ -20,16 +24,45 @@ public final class ScanKernel {
    * code) whose distance to {@code q} (under {@code mask}, nullable) is at most {@code maxDist} and
    * at most the running k-th distance, and that {@code accept} (nullable) accepts. The code at
    * position i is offered as ordinal {@code ords == null ? i : ords[i]}, and {@code accept} is asked
-   * about that ordinal. {@code q} must have its ghost bits cleared.
+   * about that ordinal; without {@code ords}, {@code top} must hold no ordinal at or above {@code
+   * from}. {@code q} must have its ghost bits cleared.
    */
   public static void knn(long[] q, long[] mask, long[] data, int w, int from, int to, int[] ords,
       IntPredicate accept, TopK top, int maxDist) {
-    switch (w) {
-      case 1 -> knn1(q, mask, data, from, to, ords, accept, top, maxDist);
-      case 2 -> knn2(q, mask, data, from, to, ords, accept, top, maxDist);
-      case 4 -> knn4(q, mask, data, from, to, ords, accept, top, maxDist);
-      case 8 -> knn8(q, mask, data, from, to, ords, accept, top, maxDist);
-      default -> knnAny(q, mask, data, w, from, to, ords, accept, top, maxDist);
+    if (from < to) knn(Words.of(q, mask, w), data, w, from, to, ords, accept, top, maxDist);
+  }
+
+  /*
+   * Two families of loops. Every word of the code selected (no mask, or a mask touching every
+   * word): a constant stride, so the compiler can drop the array bounds checks (a mask of 1-word
+   * codes took 2.5x through a variable-stride loop in ScanKernelBench). Some words: the code width
+   * is the stride, a variable; those loops win by reading fewer words.
+   */
+
+  /** As {@link #knn(long[], long[], long[], int, int, int, int[], IntPredicate, TopK, int)} with the selection made once per query. */
+  public static void knn(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept, TopK top,
+      int maxDist) {
+    if (s.at.length == w) {
+      switch (w) {
+        case 1 -> all1(s.q, s.m, data, from, to, ords, accept, top, maxDist);
+        case 2 -> all2(s.q, s.m, data, from, to, ords, accept, top, maxDist);
+        case 3 -> all3(s.q, s.m, data, from, to, ords, accept, top, maxDist);
+        case 4 -> {
+          if (s.whole) all4(s.q, data, from, to, ords, accept, top, maxDist);
+          else knn4(s, data, w, from, to, ords, accept, top, maxDist);
+        }
+        case 8 -> all8(s.q, s.m, data, from, to, ords, accept, top, maxDist);
+        default -> knnAny(s, data, w, from, to, ords, accept, top, maxDist);
+      }
+      return;
+    }
+    switch (s.at.length) {
+      case 1 -> knn1(s, data, w, from, to, ords, accept, top, maxDist);
+      case 2 -> knn2(s, data, w, from, to, ords, accept, top, maxDist);
+      case 3 -> knn3(s, data, w, from, to, ords, accept, top, maxDist);
+      case 4 -> knn4(s, data, w, from, to, ords, accept, top, maxDist);
+      case 8 -> knn8(s, data, w, from, to, ords, accept, top, maxDist);
+      default -> knnAny(s, data, w, from, to, ords, accept, top, maxDist);
     }
   }
 
@@ -59,21 +92,141 @@ public final class ScanKernel {
     knn(q, null, b, w, bFrom + both, bTo, bOrds, accept, top, maxDist);
   }
 
-  private static long m(long[] mask, int i) {
-    return mask == null ? -1L : mask[i];
+  /**
+   * The words of a code that a mask selects: their indexes {@code at}, the query's words there
+   * ({@code q}, masked) and the mask's ({@code m}); {@code whole} when every selected word is
+   * covered whole (no mask: all words, whole).
+   */
+  public record Words(int[] at, long[] q, long[] m, boolean whole) {
+    /** The selection of {@code mask} (nullable: every word) over codes of {@code w} words, with the query's words. */
+    public static Words of(long[] q, long[] mask, int w) {
+      int count = 0;
+      boolean whole = true;
+      for (int j = 0; j < w; j++)
+        if (mask == null || mask[j] != 0) {
+          count++;
+          whole &= mask == null || mask[j] == -1L;
+        }
+      int[] at = new int[count];
+      long[] qs = new long[count], ms = new long[count];
+      for (int j = 0, c = 0; j < w; j++)
+        if (mask == null || mask[j] != 0) {
+          at[c] = j;
+          ms[c] = mask == null ? -1L : mask[j];
+          qs[c] = q[j] & ms[c];
+          c++;
+        }
+      return new Words(at, qs, ms, whole);
+    }
+
+    /**
+     * Distance of the code at {@code data[off]} (w words) over the selected words if at most
+     * {@code bound}, else some value above it: all words whole count contiguously, others through
+     * their indexes and ANDs, checking the bound every 4 words.
+     */
+    public int distance(long[] data, int off, int w, int bound) {
+      if (whole && at.length == w) return Hamming.distanceBounded(q, 0, data, off, w, bound);
+      if (at.length <= 2) // a layer of up to 128 bits: no loop
+        return at.length == 0 ? 0
+            : Long.bitCount((data[off + at[0]] ^ q[0]) & m[0]) + (at.length == 1 ? 0 : Long.bitCount((data[off + at[1]] ^ q[1]) & m[1]));
+      int d = 0, j = 0, c = at.length;
+      for (; j + 4 <= c; j += 4) {
+        d += Long.bitCount((data[off + at[j]] & m[j]) ^ q[j]) + Long.bitCount((data[off + at[j + 1]] & m[j + 1]) ^ q[j + 1])
+            + Long.bitCount((data[off + at[j + 2]] & m[j + 2]) ^ q[j + 2]) + Long.bitCount((data[off + at[j + 3]] & m[j + 3]) ^ q[j + 3]);
+        if (d > bound) return d;
+      }
+      for (; j < c; j++) d += Long.bitCount((data[off + at[j]] & m[j]) ^ q[j]);
+      return d;
+    }
   }
 
-  /** Offers one code that passed the distance test; returns the new bound. */
+  /**
+   * Offers one code that passed the distance test; returns the new bound. Without {@code ords}
+   * the ordinals rise with the position, so once the top is full a code tied with the k-th
+   * distance can no longer enter (ties go to the smaller ordinal): the bound drops by one and such
+   * ties are not offered (over one layer of skewed codes tens of thousands of codes can tie).
+   */
   private static int offer(int i, int d, int[] ords, IntPredicate accept, TopK top, int maxDist, int bound) {
     int ord = ords == null ? i : ords[i];
     if (accept != null && !accept.test(ord)) return bound;
     top.offer(ord, d);
-    return Math.min(maxDist, top.bound());
+    int b = top.bound();
+    return Math.min(maxDist, ords == null && b != Integer.MAX_VALUE ? b - 1 : b);
   }
 
-  private static void knn1(long[] q, long[] mask, long[] data, int from, int to, int[] ords, IntPredicate accept,
+  private static void knn1(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
-    long q0 = q[0], m0 = m(mask, 0);
+    long q0 = s.q[0], m0 = s.m[0];
+    int bound = Math.min(maxDist, top.bound());
+    for (int i = from, off = from * w + s.at[0]; i < to; i++, off += w) {
+      int d = Long.bitCount((data[off] ^ q0) & m0);
+      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+    }
+  }
+
+  private static void knn2(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    long q0 = s.q[0], q1 = s.q[1], m0 = s.m[0], m1 = s.m[1];
+    int j0 = s.at[0], j1 = s.at[1];
+    int bound = Math.min(maxDist, top.bound());
+    for (int i = from, off = from * w; i < to; i++, off += w) {
+      int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1);
+      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+    }
+  }
+
+  private static void knn3(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], m0 = s.m[0], m1 = s.m[1], m2 = s.m[2];
+    int j0 = s.at[0], j1 = s.at[1], j2 = s.at[2];
+    int bound = Math.min(maxDist, top.bound());
+    for (int i = from, off = from * w; i < to; i++, off += w) {
+      int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
+          + Long.bitCount((data[off + j2] ^ q2) & m2);
+      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+    }
+  }
+
+  private static void knn4(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], q3 = s.q[3];
+    int j0 = s.at[0], j1 = s.at[1], j2 = s.at[2], j3 = s.at[3];
+    int bound = Math.min(maxDist, top.bound());
+    if (s.whole) { // the common case (256-bit codes, 256-bit layers) without the four ANDs
+      for (int i = from, off = from * w; i < to; i++, off += w) {
+        int d = Long.bitCount(data[off + j0] ^ q0) + Long.bitCount(data[off + j1] ^ q1)
+            + Long.bitCount(data[off + j2] ^ q2) + Long.bitCount(data[off + j3] ^ q3);
+        if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      }
+      return;
+    }
+    long m0 = s.m[0], m1 = s.m[1], m2 = s.m[2], m3 = s.m[3];
+    for (int i = from, off = from * w; i < to; i++, off += w) {
+      int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
+          + Long.bitCount((data[off + j2] ^ q2) & m2) + Long.bitCount((data[off + j3] ^ q3) & m3);
+      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+    }
+  }
+
+  private static void knn8(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], q3 = s.q[3], q4 = s.q[4], q5 = s.q[5], q6 = s.q[6], q7 = s.q[7];
+    int j0 = s.at[0], j1 = s.at[1], j2 = s.at[2], j3 = s.at[3], j4 = s.at[4], j5 = s.at[5], j6 = s.at[6], j7 = s.at[7];
+    long m0 = s.m[0], m1 = s.m[1], m2 = s.m[2], m3 = s.m[3], m4 = s.m[4], m5 = s.m[5], m6 = s.m[6], m7 = s.m[7];
+    int bound = Math.min(maxDist, top.bound());
+    for (int i = from, off = from * w; i < to; i++, off += w) {
+      int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
+          + Long.bitCount((data[off + j2] ^ q2) & m2) + Long.bitCount((data[off + j3] ^ q3) & m3);
+      if (d > bound) continue;
+      d += Long.bitCount((data[off + j4] ^ q4) & m4) + Long.bitCount((data[off + j5] ^ q5) & m5)
+          + Long.bitCount((data[off + j6] ^ q6) & m6) + Long.bitCount((data[off + j7] ^ q7) & m7);
+      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+    }
+  }
+
+  private static void all1(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    long q0 = q[0], m0 = m[0];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from; i < to; i++) {
       int d = Long.bitCount((data[i] ^ q0) & m0);
@@ -81,9 +234,9 @@ public final class ScanKernel {
     }
   }
 
-  private static void knn2(long[] q, long[] mask, long[] data, int from, int to, int[] ords, IntPredicate accept,
+  private static void all2(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
-    long q0 = q[0], q1 = q[1], m0 = m(mask, 0), m1 = m(mask, 1);
+    long q0 = q[0], q1 = q[1], m0 = m[0], m1 = m[1];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * 2; i < to; i++, off += 2) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1);
@@ -91,31 +244,32 @@ public final class ScanKernel {
     }
   }
 
-  private static void knn4(long[] q, long[] mask, long[] data, int from, int to, int[] ords, IntPredicate accept,
+  private static void all3(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
-    long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
+    long q0 = q[0], q1 = q[1], q2 = q[2], m0 = m[0], m1 = m[1], m2 = m[2];
     int bound = Math.min(maxDist, top.bound());
-    if (mask == null) { // the common case without the four ANDs
-      for (int i = from, off = from * 4; i < to; i++, off += 4) {
-        int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
-            + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
-        if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
-      }
-      return;
-    }
-    long m0 = mask[0], m1 = mask[1], m2 = mask[2], m3 = mask[3];
-    for (int i = from, off = from * 4; i < to; i++, off += 4) {
+    for (int i = from, off = from * 3; i < to; i++, off += 3) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1)
-          + Long.bitCount((data[off + 2] ^ q2) & m2) + Long.bitCount((data[off + 3] ^ q3) & m3);
+          + Long.bitCount((data[off + 2] ^ q2) & m2);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
   }
 
-  private static void knn8(long[] q, long[] mask, long[] data, int from, int to, int[] ords, IntPredicate accept,
+  private static void all4(long[] q, long[] data, int from, int to, int[] ords, IntPredicate accept, TopK top,
+      int maxDist) {
+    long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
+    int bound = Math.min(maxDist, top.bound());
+    for (int i = from, off = from * 4; i < to; i++, off += 4) {
+      int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
+          + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
+      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+    }
+  }
+
+  private static void all8(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
     long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3], q4 = q[4], q5 = q[5], q6 = q[6], q7 = q[7];
-    long m0 = m(mask, 0), m1 = m(mask, 1), m2 = m(mask, 2), m3 = m(mask, 3);
-    long m4 = m(mask, 4), m5 = m(mask, 5), m6 = m(mask, 6), m7 = m(mask, 7);
+    long m0 = m[0], m1 = m[1], m2 = m[2], m3 = m[3], m4 = m[4], m5 = m[5], m6 = m[6], m7 = m[7];
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * 8; i < to; i++, off += 8) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1)
@@ -127,26 +281,21 @@ public final class ScanKernel {
     }
   }
 
-  private static void knnAny(long[] q, long[] mask, long[] data, int w, int from, int to, int[] ords,
-      IntPredicate accept, TopK top, int maxDist) {
-    long[] qm = masked(q, mask, w); // bits outside the mask never differ
+  /** Any other selection, one code at a time ({@link Words#distance}). */
+  private static void knnAny(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
     int bound = Math.min(maxDist, top.bound());
+    if (s.whole && s.at.length == w) { // every word: the contiguous kernel, no selection per code
+      for (int i = from, off = from * w; i < to; i++, off += w) {
+        int d = Hamming.distanceBounded(s.q, 0, data, off, w, bound);
+        if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      }
+      return;
+    }
     for (int i = from, off = from * w; i < to; i++, off += w) {
-      int d = boundedDistance(qm, mask, data, off, w, bound);
+      int d = s.distance(data, off, w, bound);
       if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
     }
-  }
-
-  /** Masked distance (query already masked) if at most bound, else some value above it. */
-  private static int maskedBounded(long[] qm, long[] mask, long[] data, int off, int w, int bound) {
-    int d = 0, j = 0;
-    for (; j + 4 <= w; j += 4) {
-      d += Long.bitCount((data[off + j] & mask[j]) ^ qm[j]) + Long.bitCount((data[off + j + 1] & mask[j + 1]) ^ qm[j + 1])
-          + Long.bitCount((data[off + j + 2] & mask[j + 2]) ^ qm[j + 2]) + Long.bitCount((data[off + j + 3] & mask[j + 3]) ^ qm[j + 3]);
-      if (d > bound) return d;
-    }
-    for (; j < w; j++) d += Long.bitCount((data[off + j] & mask[j]) ^ qm[j]);
-    return d;
   }
 
   /**
@@ -154,34 +303,16 @@ public final class ScanKernel {
    * order: the path for a selective filter, whose cost follows the set's size, not the code count.
    */
   public static void knnMembers(long[] q, long[] mask, long[] data, int w, IdSet set, TopK top, int maxDist) {
-    long[] qm = masked(q, mask, w);
+    Words s = Words.of(q, mask, w);
     int bound = Math.min(maxDist, top.bound());
     for (int i = 0, words = (set.size() + 63) >>> 6; i < words; i++)
       for (long x = set.word(i); x != 0; x &= x - 1) {
         int ord = (i << 6) + Long.numberOfTrailingZeros(x);
-        int d = boundedDistance(qm, mask, data, ord * w, w, bound);
+        int d = s.distance(data, ord * w, w, bound);
         if (d <= bound) {
           top.offer(ord, d);
           bound = Math.min(maxDist, top.bound());
         }
       }
-  }
-
-  /** The query with the bits outside {@code mask} cleared (the query itself when mask is null). */
-  public static long[] masked(long[] q, long[] mask, int w) {
-    if (mask == null) return q;
-    long[] qm = new long[w];
-    for (int j = 0; j < w; j++) qm[j] = q[j] & mask[j];
-    return qm;
-  }
-
-  /** Distance under an optional mask ({@code qm} already masked) if at most bound, else some value above it. */
-  public static int boundedDistance(long[] qm, long[] mask, long[] data, int off, int w, int bound) {
-    return mask == null ? Hamming.distanceBounded(qm, 0, data, off, w, bound) : maskedBounded(qm, mask, data, off, w, bound);
-  }
-
-  /** The exact distance of one code under an optional mask (no bound). */
-  public static int distance(long[] q, long[] mask, long[] data, int off, int w) {
-    return mask == null ? Hamming.distance(q, 0, data, off, w) : Hamming.maskedDistance(q, 0, data, off, mask, w);
   }
 }

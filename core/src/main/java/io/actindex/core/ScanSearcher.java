@@ -42,6 +42,7 @@ public final class ScanSearcher implements CodeSearcher {
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
     query = checkQuery(query, mask);
+    mask = checkMask(codes.layout(), mask);
     int n = codes.size();
     if (k <= 0 || n == 0 || maxDist < 0) return Hits.EMPTY;
     TopK top = new TopK(Math.min(k, n));
@@ -60,14 +61,15 @@ public final class ScanSearcher implements CodeSearcher {
   @Override
   public Hits radius(long[] query, int radius, IntPredicate accept, long[] mask) {
     query = checkQuery(query, mask);
+    mask = checkMask(codes.layout(), mask);
     long[] data = codes.words();
     int w = codes.wordsPerCode(), n = codes.size();
     if (radius < 0 || n == 0 || accept instanceof IdSet set && set.isEmpty()) return Hits.EMPTY;
-    long[] qm = ScanKernel.masked(query, mask, w);
+    ScanKernel.Words sel = ScanKernel.Words.of(query, mask, w);
     int[] ords = new int[16], dists = new int[16];
     int size = 0;
     for (int i = 0; i < n; i++) {
-      int d = ScanKernel.boundedDistance(qm, mask, data, i * w, w, radius);
+      int d = sel.distance(data, i * w, w, radius);
       if (d > radius || accept != null && !accept.test(i)) continue;
       if (size == ords.length) {
         ords = java.util.Arrays.copyOf(ords, size * 2);
@@ -94,6 +96,25 @@ public final class ScanSearcher implements CodeSearcher {
     long[] clean = query.clone();
     clean[w - 1] &= ~ghost;
     return clean;
+  }
+
+  /**
+   * A mask (already checked by {@link #checkQuery}) in the form the loops like best: null when it
+   * covers every bit of the layout, else with the ghost bits of the last word set (they are zero in
+   * every code and query, so a layer that ends a code counts as whole words). The argument is not
+   * changed.
+   */
+  public static long[] checkMask(CodeLayout layout, long[] mask) {
+    if (mask == null) return null;
+    int w = layout.words();
+    long ghost = CodeBlock.ghostMask(layout);
+    boolean all = true;
+    for (int j = 0; j < w && all; j++) all = (j == w - 1 ? mask[j] | ghost : mask[j]) == -1L;
+    if (all) return null;
+    if (ghost == 0 || (mask[w - 1] & ghost) == ghost) return mask;
+    long[] widened = mask.clone();
+    widened[w - 1] |= ghost;
+    return widened;
   }
 
   private long[] checkQuery(long[] query, long[] mask) {

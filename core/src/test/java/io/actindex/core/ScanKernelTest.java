@@ -49,6 +49,36 @@ class ScanKernelTest {
     }
   }
 
+  /**
+   * Layer masks select whole words, words cut by a layer boundary and skipped words: every
+   * selection loop (1, 2, 3, 4, 8 whole words, the general one) against the brute force, at 64 to
+   * 1,024 bits and odd widths, on uniform and ReLU-like codes cut into 1 to 5 layers.
+   */
+  @Test
+  void layerMasksEqualBruteForce() {
+    int[] widths = {64, 100, 128, 192, 256, 300, 512, 700, 1024};
+    for (int rep = 0; rep < 240; rep++) {
+      long seed = Randoms.seed(1000 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int bits = widths[rep % widths.length], n = 1 + rnd.nextInt(400);
+      CodeBlock codes = LayerMasks.cut(rep % 2 == 0 ? SyntheticCodes.uniform(n, bits, seed)
+          : SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes(), rnd);
+      ScanSearcher scan = new ScanSearcher(codes);
+      long[] mask = LayerMasks.mask(codes.layout(), rnd);
+      long[] q = codes.code(rnd.nextInt(n));
+      for (int f = rnd.nextInt(10); f > 0; f--) {
+        int b = rnd.nextInt(bits);
+        q[b >>> 6] ^= 1L << (b & 63);
+      }
+      IntPredicate accept = filter(rnd, n);
+      int k = 1 + rnd.nextInt(rnd.nextBoolean() ? 12 : n + 5);
+      String what = Randoms.describe(seed) + " layout=" + codes.layout() + " " + LayerMasks.describe(mask) + " k=" + k + " accept=" + accept;
+      assertEquals(BruteForce.knn(codes, q, k, accept, mask), scan.knn(q, k, accept, mask), what);
+      int r = rnd.nextInt(bits / 4 + 2);
+      assertEquals(BruteForce.radius(codes, q, r, accept, mask), scan.radius(q, r, accept, mask), what + " r=" + r);
+    }
+  }
+
   /** An empty filter answers at once; the planner-facing count matches the members. */
   @Test
   void emptyFilterAnswersNothing() {

@@ -11,7 +11,6 @@ import java.nio.charset.CodingErrorAction;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
@@ -107,19 +106,6 @@ public final class BundleFormat {
       return bytes.toByteArray();
     } catch (IOException e) {
       throw new UncheckedIOException(e); // a byte array does not fail
-    }
-  }
-
-  /** Writes the bundle to {@code file} atomically (a temporary file in the same folder, then a rename). */
-  public static void write(EdgeBundle b, Path file) throws IOException {
-    byte[] bytes = toBytes(b);
-    Path dir = file.toAbsolutePath().getParent();
-    Path tmp = Files.createTempFile(dir, file.getFileName().toString(), ".tmp");
-    try {
-      Files.write(tmp, bytes);
-      Files.move(tmp, file, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
-    } finally {
-      Files.deleteIfExists(tmp);
     }
   }
 

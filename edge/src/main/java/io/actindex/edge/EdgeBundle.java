@@ -89,6 +89,9 @@ public final class EdgeBundle {
       if (out < 1 || in < 1) throw new IllegalArgumentException("layer " + name + " has shape [" + out + ", " + in + "]");
       if (weight.length != (long) out * in) throw new IllegalArgumentException("layer " + name + ": weight has " + weight.length + " values");
       if (bias.length != out) throw new IllegalArgumentException("layer " + name + ": bias has " + bias.length + " values");
+      for (int i = 0; i < weight.length; i++)
+        if (!Float.isFinite(weight[i])) throw new IllegalArgumentException("layer " + name + ": weight " + i + " is not finite");
+      for (int i = 0; i < out; i++) if (!Float.isFinite(bias[i])) throw new IllegalArgumentException("layer " + name + ": bias " + i + " is not finite");
     }
   }
 

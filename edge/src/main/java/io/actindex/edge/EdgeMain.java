@@ -5,6 +5,9 @@ import java.io.IOException;
 import java.io.InputStreamReader;
 import java.io.PrintStream;
 import java.nio.charset.StandardCharsets;
+import java.nio.file.AccessDeniedException;
+import java.nio.file.Files;
+import java.nio.file.InvalidPathException;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
 
@@ -22,16 +25,27 @@ public final class EdgeMain {
     System.exit(run(args, new BufferedReader(new InputStreamReader(System.in, StandardCharsets.UTF_8)), System.out, System.err));
   }
 
+  static final String USAGE = "usage: java -jar actindex-edge.jar BUNDLE [--inputs] < rows";
+
   static int run(String[] args, BufferedReader in, PrintStream out, PrintStream err) {
-    if (args.length < 1 || args.length > 2 || (args.length == 2 && !args[1].equals("--inputs"))) {
-      err.println("usage: java -jar actindex-edge.jar BUNDLE [--inputs] < rows");
-      return 2;
+    if (args.length == 1 && (args[0].equals("--help") || args[0].equals("-h"))) {
+      out.println(USAGE);
+      out.println("Scores each row of standard input against the bundle: a code as 0/1 bits, or with --inputs a raw input");
+      out.println("(comma-separated numbers). Prints row,score,decision,p_value. Exit 0 ok, 2 bad bundle, row or option, 1 internal error.");
+      return 0;
     }
-    boolean inputs = args.length == 2;
+    String file = null;
+    boolean inputs = false;
+    for (String a : args) {
+      if (a.equals("--inputs") && !inputs) inputs = true;
+      else if (file == null && !a.startsWith("-")) file = a;
+      else return fail(err, "option or argument " + quote(a) + " not understood; " + USAGE);
+    }
+    if (file == null) return fail(err, "no bundle file given; " + USAGE);
     try {
-      EdgeBundle b = BundleFormat.read(Path.of(args[0]));
-      if (b.calibration() == null) return fail(err, args[0] + ": the bundle holds no calibration");
-      if (inputs && b.model() == null) return fail(err, args[0] + ": --inputs needs a bundle exported --with-model");
+      EdgeBundle b = readBundle(file);
+      if (b.calibration() == null) return fail(err, escape(file, 200) + ": the bundle holds no calibration");
+      if (inputs && b.model() == null) return fail(err, escape(file, 200) + ": --inputs needs a bundle exported --with-model");
       out.println("# a calibrated heuristic, not a guarantee: rates hold only for inputs exchangeable with the calibration data");
       out.println("row,score,decision,p_value");
       String line;
@@ -48,11 +62,37 @@ public final class EdgeMain {
       return 0;
     } catch (EdgeFormatException e) {
       return fail(err, e.getMessage());
-    } catch (NoSuchFileException e) {
-      return fail(err, e.getFile() + ": no such file");
     } catch (IOException | RuntimeException e) {
-      err.println("internal error: " + e);
+      err.println("internal error: " + escape(String.valueOf(e), 2000));
       return 1;
+    }
+  }
+
+  /**
+   * The bundle at {@code file}, every way it cannot be read turned into an {@link
+   * EdgeFormatException} naming the file: missing, a folder, not readable, too large, damaged.
+   */
+  static EdgeBundle readBundle(String file) throws EdgeFormatException {
+    String name = escape(file, 200);
+    Path path;
+    try {
+      path = Path.of(file);
+    } catch (InvalidPathException e) {
+      throw new EdgeFormatException(name + ": not a valid file name");
+    }
+    if (Files.isDirectory(path)) throw new EdgeFormatException(name + ": is a folder, not a bundle file");
+    try {
+      if (Files.exists(path) && Files.size(path) > Integer.MAX_VALUE - 64)
+        throw new EdgeFormatException(name + ": " + Files.size(path) + " bytes, more than a bundle this reader holds in memory (2 GiB)");
+      return BundleFormat.read(Files.readAllBytes(path), name);
+    } catch (EdgeFormatException e) {
+      throw e;
+    } catch (NoSuchFileException e) {
+      throw new EdgeFormatException(name + ": no such file");
+    } catch (AccessDeniedException e) {
+      throw new EdgeFormatException(name + ": permission denied");
+    } catch (IOException e) {
+      throw new EdgeFormatException(name + ": cannot be read (" + escape(String.valueOf(e.getMessage()), 200) + ")");
     }
   }
 
@@ -68,7 +108,7 @@ public final class EdgeMain {
       try {
         x[i] = Double.parseDouble(parts[i].trim());
       } catch (NumberFormatException e) {
-        throw new IllegalArgumentException("column " + i + ": '" + prefix(parts[i]) + "' is not a number");
+        throw new IllegalArgumentException("column " + i + ": " + quote(parts[i].trim()) + " is not a number");
       }
       if (!Double.isFinite(x[i])) throw new IllegalArgumentException("column " + i + ": not finite");
     }
@@ -81,7 +121,7 @@ public final class EdgeMain {
     for (int i = 0; i < line.length(); i++) {
       char c = line.charAt(i);
       if (c == ',' || c == ' ') continue;
-      if (c != '0' && c != '1') throw new IllegalArgumentException("column " + i + ": '" + c + "' is not 0 or 1");
+      if (c != '0' && c != '1') throw new IllegalArgumentException("character " + i + ": " + quote(String.valueOf(c)) + " is not 0 or 1");
       if (bit >= b.bits()) throw new IllegalArgumentException("more than the bundle's " + b.bits() + " bits");
       if (c == '1') code[bit >>> 6] |= 1L << (bit & 63);
       bit++;
@@ -90,7 +130,18 @@ public final class EdgeMain {
     return code;
   }
 
-  private static String prefix(String s) {
-    return s.length() <= 20 ? s : s.substring(0, 20) + "...";
+  /** {@code s} in single quotes for a one-line message: at most 40 characters, control characters escaped. */
+  static String quote(String s) {
+    return "'" + escape(s, 40) + "'";
+  }
+
+  private static String escape(String s, int max) {
+    StringBuilder b = new StringBuilder();
+    for (int i = 0; i < Math.min(s.length(), max); i++) {
+      char c = s.charAt(i);
+      if (Character.isISOControl(c) || c == '\u2028' || c == '\u2029') b.append(String.format("\\u%04x", (int) c));
+      else b.append(c);
+    }
+    return s.length() > max ? b + "..." : b.toString();
   }
 }

@@ -131,7 +131,7 @@ class EdgeBundleTest {
   void commandLineScoresRowsAndRefusesBadBundles() throws Exception {
     EdgeBundle b = random(9, 20, 36, EdgeBundle.Statistic.KTH, 6, false);
     Path file = tmp.resolve("b.edge");
-    BundleFormat.write(b, file);
+    Files.write(file, BundleFormat.toBytes(b));
     StringBuilder bits = new StringBuilder();
     long[] c = b.code(0);
     for (int i = 0; i < 36; i++) bits.append((c[i >>> 6] >>> (i & 63) & 1) != 0 ? '1' : '0');
@@ -147,6 +147,80 @@ class EdgeBundleTest {
     assertThat(damaged.err.lines().count()).isEqualTo(1);
     assertThat(run(new String[] {tmp.resolve("none.edge").toString()}, "").err).contains("no such file");
     assertThat(run(new String[] {file.toString(), "--inputs"}, "").err).contains("--with-model");
+  }
+
+  /** Every bad bundle path and row: exit 2 and one line on stderr naming the file (or stdin row) and what is wrong. */
+  @Test
+  void commandLineRefusesBadPathsBundlesAndRowsWithOneLine() throws Exception {
+    EdgeBundle b = random(11, 20, 70, EdgeBundle.Statistic.KTH, 6, true);
+    Path file = tmp.resolve("m.edge");
+    Files.write(file, BundleFormat.toBytes(b));
+    Path folder = Files.createDirectory(tmp.resolve("folder.edge"));
+    assertRefused(run(new String[] {folder.toString()}, ""), folder + ": is a folder, not a bundle file");
+    assertRefused(run(new String[] {tmp.resolve("none.edge").toString()}, ""), tmp.resolve("none.edge") + ": no such file");
+    assertRefused(run(new String[] {""}, ""), ": is a folder"); // the empty name is the working folder
+    Path locked = tmp.resolve("locked.edge");
+    Files.copy(file, locked);
+    locked.toFile().setReadable(false, false);
+    if (!Files.isReadable(locked)) assertRefused(run(new String[] {locked.toString()}, ""), locked + ": permission denied"); // not as root
+    Path empty = Files.createFile(tmp.resolve("empty.edge"));
+    assertRefused(run(new String[] {empty.toString()}, ""), empty + ": not an actindex edge bundle");
+    Path cut = tmp.resolve("cut.edge");
+    Files.write(cut, Arrays.copyOf(Files.readAllBytes(file), 100));
+    assertRefused(run(new String[] {cut.toString()}, ""), cut + ": CRC32 mismatch");
+    // options
+    assertRefused(run(new String[] {}, ""), "no bundle file given; usage:");
+    assertRefused(run(new String[] {file.toString(), "--input"}, ""), "option or argument '--input' not understood");
+    assertRefused(run(new String[] {file.toString(), file.toString()}, ""), "option or argument");
+    assertThat(run(new String[] {"--inputs", file.toString()}, "1,2,3\n").code).isZero(); // either order
+    assertThat(run(new String[] {"--help"}, "").out).startsWith("usage: java -jar actindex-edge.jar BUNDLE");
+    // rows of the wrong width or content, as codes and as inputs
+    String ok = "0".repeat(70);
+    assertRefused(run(new String[] {file.toString()}, ok + "\n" + "0".repeat(69) + "\n"), "stdin row 1: 69 bits, the bundle's codes have 70");
+    assertRefused(run(new String[] {file.toString()}, ok + "1\n"), "stdin row 0: more than the bundle's 70 bits");
+    assertRefused(run(new String[] {file.toString()}, "\n"), "stdin row 0: 0 bits, the bundle's codes have 70");
+    assertRefused(run(new String[] {file.toString()}, "01\u0007" + ok), "stdin row 0: character 2: '\\u0007' is not 0 or 1");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2\n"), "stdin row 0: input has 2 values, the model takes 3");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,4\n"), "stdin row 0: input has 4 values, the model takes 3");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,x\u001b[31m,3\n"), "stdin row 0: column 1: 'x\\u001b[31m' is not a number");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,NaN,3\n"), "stdin row 0: column 1: not finite");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,1e999\n"), "stdin row 0: column 2: not finite");
+  }
+
+  /**
+   * Damage that keeps the CRC right (a writer bug, or a crafted file): every field change is refused
+   * as a bad bundle (exit 2, one line naming the file) or read as another valid bundle, never an
+   * internal error.
+   */
+  @Test
+  void commandLineRefusesCrcConsistentDamage() throws Exception {
+    EdgeBundle b = random(12, 6, 70, EdgeBundle.Statistic.MEAN, 6, true);
+    byte[] bytes = BundleFormat.toBytes(b);
+    Path file = tmp.resolve("x.edge");
+    SplittableRandom rnd = new SplittableRandom(12);
+    int refused = 0;
+    for (int rep = 0; rep < 600; rep++) {
+      byte[] bad = bytes.clone();
+      int pos = 8 + rnd.nextInt(bytes.length - 12);
+      if (rep % 2 == 0) bad[pos] ^= (byte) (1 << rnd.nextInt(8));
+      else for (int i = 0; i < 4 && pos + i < bytes.length - 4; i++) bad[pos + i] = (byte) (rep % 4 == 1 ? 0xff : 0x7f); // 0xffffffff: a NaN float
+      java.util.zip.CRC32 crc = new java.util.zip.CRC32();
+      crc.update(bad, 0, bad.length - 4);
+      java.nio.ByteBuffer.wrap(bad, bad.length - 4, 4).putInt((int) crc.getValue());
+      Files.write(file, bad);
+      Run r = run(new String[] {file.toString()}, "");
+      assertThat(r.code).as("byte " + pos + " rep " + rep + ": " + r.err).isIn(0, 2);
+      if (r.code == 2) {
+        refused++;
+        assertThat(r.err).as("byte " + pos).startsWith(file + ": ").hasLineCount(1);
+      }
+    }
+    assertThat(refused).isGreaterThan(50); // most bytes are model weights: a changed finite weight is another valid model
+  }
+
+  private static void assertRefused(Run r, String expected) {
+    assertThat(r.code).as(r.err).isEqualTo(2);
+    assertThat(r.err).contains(expected).hasLineCount(1);
   }
 
   record Run(int code, String out, String err) {}

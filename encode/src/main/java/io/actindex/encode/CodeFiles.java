@@ -7,6 +7,9 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import java.io.IOException;
+import java.lang.invoke.MethodHandles;
+import java.lang.invoke.VarHandle;
+import java.nio.ByteOrder;
 import java.nio.file.Path;
 
 /**
@@ -49,12 +52,14 @@ public final class CodeFiles {
     }
   }
 
+  private static final VarHandle LE = MethodHandles.byteArrayViewVarHandle(long[].class, ByteOrder.LITTLE_ENDIAN);
+
   private static final class Stream implements CodeStream {
     private final NpyReader r;
     private final CodeLayout layout;
     private final boolean packed;
     private final NeuronStats stats;
-    private float[] buf = new float[0];
+    private byte[] buf = new byte[0];
 
     Stream(NpyReader r, CodeLayout layout, boolean packed) {
       this.r = r;
@@ -75,37 +80,63 @@ public final class CodeFiles {
 
     @Override
     public CodeBlock next(int maxRows) throws IOException {
-      int cols = r.cols(), bits = layout.bits(), words = layout.words();
+      int cols = r.cols(), words = layout.words();
       int m = Math.min(maxRows, Math.max(1, (1 << 20) / cols));
-      if (buf.length < m * cols) buf = new float[m * cols];
+      if (buf.length < m * cols) buf = new byte[m * cols];
       long first = r.position();
-      m = r.read(buf, m);
+      m = r.readBytes(buf, m);
       if (m == 0) return null;
       long[] out = new long[m * words];
+      boolean bool = r.header().dtype() == NpyDtype.BOOL;
       for (int i = 0; i < m; i++) {
-        int base = i * cols;
-        for (int c = 0; c < cols; c++) {
-          int v = (int) buf[base + c];
-          if (packed) {
-            for (int k = 0; k < 8; k++) {
-              if ((v >>> (7 - k) & 1) == 0) continue;
-              int b = c * 8 + k;
-              if (b >= bits)
-                throw new BadInputException(r.source() + ": row " + (first + i) + ", column " + c + ": padding bit " + k
-                    + " (code bit " + b + ") is set but the layout has " + bits + " bits");
-              out[i * words + (b >>> 6)] |= 1L << (b & 63);
-            }
-          } else {
-            if (v != 0 && v != 1)
-              throw new BadInputException(r.source() + ": row " + (first + i) + ", column " + c + ": value " + v
-                  + " is not 0 or 1 (packed bytes need the code layout)");
-            if (v == 1) out[i * words + (c >>> 6)] |= 1L << (c & 63);
-          }
-        }
+        if (packed) packRow(buf, i * cols, cols, out, i * words, first + i);
+        else unpackedRow(buf, i * cols, cols, bool, out, i * words, first + i);
       }
       CodeBlock b = new CodeBlock(layout, m, out);
       stats.add(b);
       return b;
+    }
+
+    /**
+     * One row of 0/1 bytes (bool: any non-zero byte is 1) to code bits, eight bytes at a time: with
+     * each byte 0 or 1, multiplying by {@code 0x0102040810204080} gathers byte j's bit at bit 56 + j
+     * (no two partial products meet there and nothing carries into it) -- common practice.
+     */
+    private void unpackedRow(byte[] b, int off, int cols, boolean bool, long[] out, int at, long row) {
+      int c = 0;
+      for (; c + 8 <= cols; c += 8) {
+        long x = (long) LE.get(b, off + c);
+        if (bool) x = ((((x & 0x7F7F7F7F7F7F7F7FL) + 0x7F7F7F7F7F7F7F7FL) | x) >>> 7) & 0x0101010101010101L;
+        else if ((x & 0xFEFEFEFEFEFEFEFEL) != 0) throw notBinary(b, off, c, row);
+        out[at + (c >>> 6)] |= ((x * 0x0102040810204080L) >>> 56) << (c & 63);
+      }
+      for (; c < cols; c++) {
+        int v = b[off + c] & 0xff;
+        if (bool) v = v != 0 ? 1 : 0;
+        else if (v > 1) throw notBinary(b, off, c, row);
+        out[at + (c >>> 6)] |= (long) v << (c & 63);
+      }
+    }
+
+    private BadInputException notBinary(byte[] b, int off, int from, long row) {
+      int c = from;
+      while ((b[off + c] & 0xff) <= 1) c++;
+      return new BadInputException(r.source() + ": row " + row + ", column " + c + ": value " + (b[off + c] & 0xff)
+          + " is not 0 or 1 (packed bytes need the code layout)");
+    }
+
+    /** One row of packbits bytes (most significant bit first) to code bits: byte c holds bits 8c..8c+7. */
+    private void packRow(byte[] b, int off, int cols, long[] out, int at, long row) {
+      int c = 0;
+      for (; c + 8 <= cols; c += 8) out[at + (c >>> 3)] = Long.reverseBytes(Long.reverse((long) LE.get(b, off + c)));
+      for (; c < cols; c++) out[at + (c >>> 3)] |= (long) (Integer.reverse(b[off + c] & 0xff) >>> 24) << ((c & 7) << 3);
+      int bits = layout.bits(), last = at + layout.words() - 1;
+      long ghost = (bits & 63) == 0 ? 0 : out[last] & (-1L << (bits & 63));
+      if (ghost != 0) {
+        int bit = ((layout.words() - 1) << 6) + Long.numberOfTrailingZeros(ghost);
+        throw new BadInputException(r.source() + ": row " + row + ", column " + (bit >>> 3) + ": padding bit " + (bit & 7)
+            + " (code bit " + bit + ") is set but the layout has " + bits + " bits");
+      }
     }
 
     @Override

@@ -103,6 +103,58 @@ class CodeFilesTest {
     }
   }
 
+  /**
+   * Reading decodes eight bytes at a time: files of every form written by the per-bit {@link
+   * CodeFiles#pack}/{@link CodeFiles#unpack} read back to the same codes at widths around the
+   * 8-byte and 64-bit steps, a bool byte other than 0/1 reads as set (any non-zero byte is True), and
+   * a bad value or a padding bit inside an eight-byte group is named by its own row and column.
+   */
+  @Test
+  void readingAgreesWithThePerBitWriterAtEveryWidth() throws IOException {
+    long seed = io.actindex.core.Randoms.seed(2);
+    java.util.SplittableRandom rnd = new java.util.SplittableRandom(seed);
+    for (int bits : new int[] {1, 7, 8, 9, 15, 16, 17, 63, 64, 65, 127, 128, 130, 256, 300}) {
+      CodeBlock c = io.actindex.core.SyntheticCodes.uniform(37, bits, rnd.nextLong());
+      CodeLayout layout = c.layout();
+      for (CodeFiles.Form form : CodeFiles.Form.values()) {
+        if (form == CodeFiles.Form.PACKED && bits == 1) continue; // one uint8 column reads as unpacked
+        Path f = tmp.resolve(bits + "-" + form + ".npy");
+        try (NpyWriter w = form == CodeFiles.Form.PACKED ? NpyWriter.create(f, NpyDtype.UINT8, (bits + 7) / 8)
+            : NpyWriter.create(f, form == CodeFiles.Form.BOOL ? NpyDtype.BOOL : NpyDtype.UINT8, bits)) {
+          w.writeBytes(form == CodeFiles.Form.PACKED ? CodeFiles.pack(c) : CodeFiles.unpack(c), c.size());
+          w.commit();
+        }
+        assertThat(read(f, form == CodeFiles.Form.PACKED ? layout : null).words())
+            .as("bits %d, %s, seed %x", bits, form, seed).containsExactly(c.words());
+      }
+      byte[] bools = CodeFiles.unpack(c);
+      for (int i = 0; i < bools.length; i++) if (bools[i] != 0) bools[i] = (byte) (1 + rnd.nextInt(255));
+      Path f = tmp.resolve(bits + "-boolbytes.npy");
+      try (NpyWriter w = NpyWriter.create(f, NpyDtype.BOOL, bits)) {
+        w.writeBytes(bools, c.size());
+        w.commit();
+      }
+      assertThat(read(f, null).words()).as("bits %d, seed %x", bits, seed).containsExactly(c.words());
+    }
+    Path twos = tmp.resolve("twos20.npy");
+    byte[] rows = new byte[2 * 20];
+    rows[20 + 11] = 2;
+    try (NpyWriter w = NpyWriter.create(twos, NpyDtype.UINT8, 20)) {
+      w.writeBytes(rows, 2);
+      w.commit();
+    }
+    assertThatThrownBy(() -> read(twos, null)).isInstanceOf(BadInputException.class).hasMessageContaining("row 1, column 11: value 2");
+    Path pad = tmp.resolve("pad60.npy"); // 60 bits in 8 packed bytes; bit 62 is padding (byte 7, bit 6 from the top)
+    byte[] packed = new byte[8];
+    packed[7] = 0x02;
+    try (NpyWriter w = NpyWriter.create(pad, NpyDtype.UINT8, 8)) {
+      w.writeBytes(packed, 1);
+      w.commit();
+    }
+    assertThatThrownBy(() -> read(pad, CodeLayout.single("c", 60))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("row 0, column 7: padding bit 6 (code bit 62)");
+  }
+
   private static byte[] toBytes(boolean[] b) {
     byte[] out = new byte[b.length];
     for (int i = 0; i < b.length; i++) out[i] = (byte) (b[i] ? 1 : 0);

@@ -174,6 +174,8 @@ public final class Compare {
       throw new BadInputException(floatsFile(p.bFloats(), p.b()) + ": float sample B has " + fb.cols()
           + " columns, float sample A (" + floatsFile(p.aFloats(), p.a()) + ") " + fa.cols());
     }
+    checkPairing(fa, a, p.aFloats(), p.a(), "A");
+    checkPairing(fb, b, p.bFloats(), p.b(), "B");
     return compute(a, b, fa, fb, p.a().describe(), p.b().describe(), p.options(), notes);
   }
 
@@ -343,6 +345,17 @@ public final class Compare {
   private static void checkRows(CodeBlock c, Sample s, String which) {
     if (c.size() == 0) throw new BadInputException(s.brief() + ": sample " + which + " is empty");
     if (c.size() < 2) throw new BadInputException(s.brief() + ": sample " + which + " has 1 row; comparing needs at least 2");
+  }
+
+  /**
+   * Floats and codes of a sample describe the same examples row by row: a different row count means
+   * a wrong file (the float reference would silently compare other data).
+   */
+  private static void checkPairing(FloatSample f, CodeBlock codes, Path given, Sample s, String which) {
+    if (f == null || f.rows() == codes.size()) return;
+    String option = "--" + which.toLowerCase(Locale.ROOT) + "-floats";
+    throw new BadInputException(floatsFile(given, s) + ": float sample " + which + " has " + f.rows() + " rows, but its codes (" + s.brief()
+        + ") have " + codes.size() + "; " + option + " must hold the same examples in the same order");
   }
 
   /** Floats of a sample: the given file, else the sample's own activations file, else null. */

@@ -1,12 +1,12 @@
 package io.actindex.query;
 
+import io.actindex.core.OutputFiles;
 import io.actindex.edge.EdgeBundle;
 import io.actindex.edge.EdgeBundle.Calibration;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.util.List;
 
 /**
@@ -35,13 +35,7 @@ public final class EdgeCSource {
   }
 
   private static void atomic(Path file, String text) throws IOException {
-    Path tmp = Files.createTempFile(file.getParent(), file.getFileName().toString(), ".tmp");
-    try {
-      Files.writeString(tmp, text, StandardCharsets.UTF_8);
-      Files.move(tmp, file, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
-    } finally {
-      Files.deleteIfExists(tmp);
-    }
+    OutputFiles.write(file, text.getBytes(StandardCharsets.UTF_8), "--c-source");
   }
 
   static String header(EdgeBundle b) {

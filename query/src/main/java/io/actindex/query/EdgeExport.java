@@ -3,6 +3,7 @@ package io.actindex.query;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.core.OutputFiles;
 import io.actindex.edge.BundleFormat;
 import io.actindex.edge.EdgeBundle;
 import io.actindex.edge.EdgeBundle.Calibration;
@@ -43,12 +44,10 @@ public final class EdgeExport {
     EdgeBundle b = bundle(reader, cal, p.withModel());
     byte[] bytes = BundleFormat.toBytes(b);
     try {
-      Path parent = p.out().toAbsolutePath().getParent();
-      if (parent == null || !Files.isDirectory(parent)) throw new BadInputException(p.out() + ": its folder does not exist");
-      if (Files.isDirectory(p.out())) throw new BadInputException(p.out() + ": is a folder; --out names the bundle file");
+      OutputFiles.checkTarget(p.out(), "--out");
       if (p.cSource() != null && Files.exists(p.cSource()) && !Files.isDirectory(p.cSource()))
         throw new BadInputException(p.cSource() + ": --c-source names a folder, this is a file");
-      BundleFormat.write(b, p.out());
+      OutputFiles.write(p.out(), bytes, "--out");
       List<Path> c = p.cSource() == null ? List.of() : EdgeCSource.write(b, p.cSource());
       return new Result(p.out(), bytes.length, b.uniqueCodes(), b.examples(), bytes.length / (double) b.examples(), p.withModel(), c);
     } catch (IOException e) {

@@ -39,14 +39,19 @@ public final class FloatKnnScore {
 
   /** The k-th nearest normalised distance of every query row, over every training row. */
   public double[] scores(double[][] q, int k) {
+    return scores(q, k, 1);
+  }
+
+  /** As {@link #scores(double[][], int)}, query rows on {@code threads} threads (the same result for any count). */
+  public double[] scores(double[][] q, int k, int threads) {
     if (k > train.length) throw new BadInputException("-k " + k + " is larger than the " + train.length + " training rows of floats");
     double[] out = new double[q.length];
-    double[] d = new double[train.length];
-    for (int i = 0; i < q.length; i++) {
+    Parallel.forEach(q.length, threads, Progress.NONE, i -> {
+      double[] d = new double[train.length];
       for (int t = 0; t < train.length; t++) d[t] = distance(q[i], t);
       Arrays.sort(d);
       out[i] = d[k - 1];
-    }
+    });
     return out;
   }
 

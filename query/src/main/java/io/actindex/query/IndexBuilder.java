@@ -3,8 +3,10 @@ package io.actindex.query;
 import io.actindex.encode.BinarizeRule;
 import io.actindex.encode.EncodeOptions;
 import io.actindex.core.BadInputException;
+import io.actindex.core.DiskFull;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.core.Forked;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import io.actindex.index.store.StoreIo;
@@ -44,11 +46,13 @@ public final class IndexBuilder {
    * (null = all); {@code codesLayout} tells the layout of a codes file when the file cannot (packed
    * bits), else null; {@code meta} may be null; {@code chunkRows <= 0} means the default;
    * {@code magnitudeBits} (2, 4 or 8; 0 = none) keeps each example's activations quantised beside
-   * its code (activations and inputs only; a codes source keeps none), -1 = the default.
+   * its code (activations and inputs only; a codes source keeps none), -1 = the default;
+   * {@code threads} are the workers that build the search structures (0 = one per core).
    */
   public record BuildParams(Path dir, Source source, MetaCsv.Options meta, EncodeOptions encode, CodeLayout codesLayout,
-      int chunkRows, int magnitudeBits) {
+      int chunkRows, int magnitudeBits, int threads) {
     public BuildParams {
+      if (threads < 0) throw new IllegalArgumentException("threads must be 0 (one per core) or more, got " + threads);
       java.util.Objects.requireNonNull(dir, "dir");
       java.util.Objects.requireNonNull(source, "source");
       if (encode == null) encode = new EncodeOptions(BinarizeRule.POSITIVE, 0, null);
@@ -57,6 +61,12 @@ public final class IndexBuilder {
         throw new BadInputException("bits per kept magnitude must be 2, 4 or 8 (or off), got " + magnitudeBits);
       if (magnitudeBits != 0 && source.kind() == Source.Kind.CODES)
         throw new BadInputException(source.file() + ": codes carry no magnitudes to keep; build from activations or a model's inputs");
+    }
+
+    /** With one thread per core for the search structures. */
+    public BuildParams(Path dir, Source source, MetaCsv.Options meta, EncodeOptions encode, CodeLayout codesLayout,
+        int chunkRows, int magnitudeBits) {
+      this(dir, source, meta, encode, codesLayout, chunkRows, magnitudeBits, 0);
     }
 
     /** With the default magnitudes. */
@@ -132,8 +142,15 @@ public final class IndexBuilder {
     return build(p, progress, StoreIo.REAL);
   }
 
-  /** As {@link #build(BuildParams, Progress)}, writing through {@code io} (tests inject failures there). */
+  /**
+   * As {@link #build(BuildParams, Progress)}, writing through {@code io} (tests inject failures
+   * there). The search structures are built with {@code p.threads()} workers (0 = one per core).
+   */
   public static Result build(BuildParams p, Progress progress, StoreIo io) {
+    return Forked.withThreads(p.threads(), () -> buildHere(p, progress, io));
+  }
+
+  private static Result buildHere(BuildParams p, Progress progress, StoreIo io) {
     if (p.source().kind() == Source.Kind.INPUTS && p.source().model() == null)
       throw new BadInputException(p.source().file() + ": building from inputs needs a model file");
     checkEmptyOrAbsent(p.dir());
@@ -158,7 +175,8 @@ public final class IndexBuilder {
     try {
       created = IndexWriter.create(p.dir(), codes.layout(), props, io);
     } catch (BadInputException e) {
-      if (!existed) deleteIfEmpty(p.dir()); // refused before writing: only the empty folder may be ours
+      if (DiskFull.in(e)) removeBuilt(p.dir(), existed, e); // failed while writing: the retry needs an empty folder
+      else if (!existed) deleteIfEmpty(p.dir()); // refused before writing: only the empty folder may be ours
       throw e;
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e); // failed while writing (disk full...): the retry needs an empty folder

@@ -28,14 +28,21 @@ public final class OodCalibrate {
    * {@code k} nearest, the statistic, the target true-positive rate (share of in-distribution inputs
    * accepted), the layers counted (null/empty = all), and whether to refuse inputs that look like
    * the index's own rows; {@code score} (null = refined when the index keeps magnitudes, else code)
-   * and the Hamming candidates the refined score re-ranks (0 = {@link Refine#DEFAULT_CANDIDATES}).
+   * and the Hamming candidates the refined score re-ranks (0 = {@link Refine#DEFAULT_CANDIDATES});
+   * {@code threads >= 1}: inputs scored in parallel (the same calibration for any count).
    */
-  public record Params(int k, Statistic statistic, double tpr, List<String> layers, boolean checkOverlap, OodScorer.Kind score, int candidates) {
+  public record Params(int k, Statistic statistic, double tpr, List<String> layers, boolean checkOverlap, OodScorer.Kind score, int candidates,
+      int threads) {
     public Params(int k, Statistic statistic, double tpr, List<String> layers, boolean checkOverlap) {
-      this(k, statistic, tpr, layers, checkOverlap, null, 0);
+      this(k, statistic, tpr, layers, checkOverlap, null, 0, 1);
+    }
+
+    public Params(int k, Statistic statistic, double tpr, List<String> layers, boolean checkOverlap, OodScorer.Kind score, int candidates) {
+      this(k, statistic, tpr, layers, checkOverlap, score, candidates, 1);
     }
 
     public Params {
+      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
       if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
       if (!(tpr > 0 && tpr < 1)) throw new BadInputException("--tpr must lie strictly between 0 and 1, got " + tpr);
       if (statistic == null) statistic = Statistic.KTH;
@@ -58,7 +65,7 @@ public final class OodCalibrate {
       OodScorer scorer = new OodScorer(reader, p.k(), p.statistic(), p.layers(), kind, cands);
       QuerySource.Queries qa = scorer.load(source, rows);
       if (p.checkOverlap()) checkOverlap(reader, qa.codes(), source.file().toString());
-      double[] scores = scorer.values(qa, progress);
+      double[] scores = scorer.values(qa, progress, p.threads());
       scoring = kind == OodScorer.Kind.CODE ? OodCalibration.Scoring.CODE : new OodCalibration.Scoring(kind, cands);
       Arrays.sort(scores);
       double threshold = OodCalibration.threshold(scores, p.tpr(), source.file().toString());

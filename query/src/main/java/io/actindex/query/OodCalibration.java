@@ -44,6 +44,15 @@ public final class OodCalibration {
   /** Which score a calibration holds, and the Hamming candidates the refined score re-ranks (0 for the code score). */
   public record Scoring(OodScorer.Kind kind, int candidates) {
     public static final Scoring CODE = new Scoring(OodScorer.Kind.CODE, 0);
+
+    /**
+     * The score in force, one of four fixed names: {@code code k-th distance}, {@code code mean
+     * distance} (Hamming distances on codes), {@code refined cosine k-th distance}, {@code refined
+     * cosine mean distance} (cosine distances to kept magnitudes among the Hamming candidates).
+     */
+    public String name(Statistic statistic) {
+      return (kind == OodScorer.Kind.CODE ? "code " : "refined cosine ") + (statistic == Statistic.MEAN ? "mean distance" : "k-th distance");
+    }
   }
 
   /** The scoring the stored calibration used (refused when there is none). */

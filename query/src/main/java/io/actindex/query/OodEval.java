@@ -35,13 +35,20 @@ public final class OodEval {
    * #REFINE_CANDIDATES}); {@code score}: the score asked for (null = the calibration's; a different
    * one is refused). With a refined calibration, {@code refined} is the score from the index's kept
    * magnitudes (the calibration's candidates), and the training floats feed only the float score.
+   * {@code threads >= 1}: inputs searched and scored in parallel (the same result for any count).
    */
-  public record Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates, OodScorer.Kind score) {
+  public record Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates, OodScorer.Kind score,
+      int threads) {
     public Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats) {
-      this(in, out, inFloats, outFloats, trainFloats, 0, null);
+      this(in, out, inFloats, outFloats, trainFloats, 0, null, 1);
+    }
+
+    public Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates, OodScorer.Kind score) {
+      this(in, out, inFloats, outFloats, trainFloats, candidates, score, 1);
     }
 
     public Params {
+      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
       if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
       int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
       if (floats != 0 && floats != 3)
@@ -88,8 +95,9 @@ public final class OodEval {
     layerSets.add(List.of());
     if (reader.layout().segments().size() > 1) for (var s : reader.layout().segments()) layerSets.add(List.of(s.name()));
     if (!layerSets.contains(cal.layers())) layerSets.add(cal.layers());
-    Hits[][] inHits = hits(reader, in.codes(), layerSets, kMax, progress, 0, in.size() + out.size());
-    Hits[][] outHits = hits(reader, out.codes(), layerSets, kMax, progress, in.size(), in.size() + out.size());
+    int threads = p.threads();
+    Hits[][] inHits = hits(reader, in.codes(), layerSets, kMax, progress, 0, in.size() + out.size(), threads);
+    Hits[][] outHits = hits(reader, out.codes(), layerSets, kMax, progress, in.size(), in.size() + out.size(), threads);
     List<Variant> variants = new ArrayList<>();
     Scored code = null;
     for (int ls = 0; ls < layerSets.size(); ls++)
@@ -105,21 +113,26 @@ public final class OodEval {
     if (p.trainFloats() != null) {
       FloatKnnScore f = new FloatKnnScore(p.trainFloats());
       double[][] qa = f.queries(p.inFloats()), qb = f.queries(p.outFloats());
-      if (qa.length != in.size() || qb.length != out.size())
-        throw new BadInputException(p.inFloats() + " / " + p.outFloats() + ": " + qa.length + " / " + qb.length + " rows, the inputs have "
-            + in.size() + " / " + out.size());
-      floats = Scored.of("float", "k-NN score on unit-length float activations (k=" + cal.k() + ")", f.scores(qa, cal.k()), f.scores(qb, cal.k()));
+      if (qa.length != in.size())
+        throw new BadInputException(p.inFloats() + ": " + qa.length + " rows of floats, but --in " + p.in().file() + " has " + in.size()
+            + "; --in-floats must hold the same inputs in the same order");
+      if (qb.length != out.size())
+        throw new BadInputException(p.outFloats() + ": " + qb.length + " rows of floats, but --out " + p.out().file() + " has " + out.size()
+            + "; --out-floats must hold the same inputs in the same order");
+      floats = Scored.of("float", "k-NN score on unit-length float activations (k=" + cal.k() + ")", f.scores(qa, cal.k(), threads),
+          f.scores(qb, cal.k(), threads));
       if (scorer.kind() == OodScorer.Kind.CODE && f.rows() == reader.maxId()) { // training rows are the index's ids
         int c = Math.min(Math.max(p.candidates() == 0 ? REFINE_CANDIDATES : p.candidates(), cal.k()), reader.liveCount());
         long[] mask = Layers.maskOrNull(reader.layout(), cal.layers());
         refined = Scored.of("refined", "float k-NN distance among the " + c + " nearest codes (k=" + cal.k() + ", exact within the candidates)",
-            f.refined(qa, candidates(reader, in.codes(), c, mask), cal.k()), f.refined(qb, candidates(reader, out.codes(), c, mask), cal.k()));
+            f.refined(qa, candidates(reader, in.codes(), c, mask, threads), cal.k()),
+            f.refined(qb, candidates(reader, out.codes(), c, mask, threads), cal.k()));
       }
     }
     if (scorer.kind() == OodScorer.Kind.REFINED)
       refined = Scored.of("refined", "cosine distance of activations to kept magnitudes among the " + OodCalibration.scoring(reader).candidates()
-          + " nearest codes (k=" + cal.k() + ", " + cal.statistic().label + ", exact within the candidates)", scorer.values(inQ, Progress.NONE),
-          scorer.values(outQ, Progress.NONE));
+          + " nearest codes (k=" + cal.k() + ", " + cal.statistic().label + ", exact within the candidates)", scorer.values(inQ, Progress.NONE, threads),
+          scorer.values(outQ, Progress.NONE, threads));
     Scored softmax = null;
     double[] sa = SoftmaxBaseline.scores(reader, p.in(), RowRange.ALL), sb = SoftmaxBaseline.scores(reader, p.out(), RowRange.ALL);
     if (sa != null && sb != null) softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)", sa, sb);
@@ -129,9 +142,9 @@ public final class OodEval {
   /** Hamming candidates the refined score re-ranks. */
   public static final int REFINE_CANDIDATES = 100;
 
-  private static Hits[] candidates(IndexReader reader, CodeBlock codes, int c, long[] mask) {
+  private static Hits[] candidates(IndexReader reader, CodeBlock codes, int c, long[] mask, int threads) {
     Hits[] h = new Hits[codes.size()];
-    for (int i = 0; i < h.length; i++) h[i] = reader.knn(codes.code(i), c, null, mask);
+    Parallel.forEach(h.length, threads, Progress.NONE, i -> h[i] = reader.knn(codes.code(i), c, null, mask));
     return h;
   }
 
@@ -139,13 +152,15 @@ public final class OodEval {
     return layers.isEmpty() ? "all" : String.join(",", layers);
   }
 
-  private static Hits[][] hits(IndexReader reader, CodeBlock codes, List<List<String>> layerSets, int k, Progress progress, int done, int total) {
+  /** The k nearest of every code on every layer set; one task per code, so any thread count gives the same hits. */
+  private static Hits[][] hits(IndexReader reader, CodeBlock codes, List<List<String>> layerSets, int k, Progress progress, int done, int total,
+      int threads) {
     Hits[][] h = new Hits[layerSets.size()][codes.size()];
-    for (int ls = 0; ls < layerSets.size(); ls++) {
-      long[] mask = Layers.maskOrNull(reader.layout(), layerSets.get(ls));
-      for (int i = 0; i < codes.size(); i++) h[ls][i] = reader.knn(codes.code(i), k, null, mask);
-    }
-    progress.update(done + codes.size(), total);
+    long[][] masks = new long[layerSets.size()][];
+    for (int ls = 0; ls < masks.length; ls++) masks[ls] = Layers.maskOrNull(reader.layout(), layerSets.get(ls));
+    Parallel.forEach(codes.size(), threads, (d, n) -> progress.update(done + d, total), i -> {
+      for (int ls = 0; ls < masks.length; ls++) h[ls][i] = reader.knn(codes.code(i), k, null, masks[ls]);
+    });
     return h;
   }
 

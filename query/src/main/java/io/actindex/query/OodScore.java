@@ -27,15 +27,21 @@ public final class OodScore {
 
   /**
    * {@code evidence}: how many nearest examples to name per input (0 = none, at most k); {@code
-   * score}: the score asked for (null = the calibration's; a different one is refused).
+   * score}: the score asked for (null = the calibration's; a different one is refused); {@code
+   * threads >= 1}: inputs scored in parallel (the results are the same for any count).
    */
-  public record Params(int evidence, OodScorer.Kind score) {
+  public record Params(int evidence, OodScorer.Kind score, int threads) {
     public Params {
       if (evidence < 0) throw new BadInputException("--evidence must be at least 0, got " + evidence);
+      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+    }
+
+    public Params(int evidence, OodScorer.Kind score) {
+      this(evidence, score, 1);
     }
 
     public Params(int evidence) {
-      this(evidence, null);
+      this(evidence, null, 1);
     }
   }
 
@@ -49,8 +55,13 @@ public final class OodScore {
   public record Result(long row, double score, int kth, double mean, boolean ownRegion, boolean out, double pValue, List<Evidence> evidence,
       Double maxSoftmax) {}
 
-  /** The calibration in force and one result per input. */
-  public record Output(Calibration calibration, List<Result> results) {}
+  /** The calibration in force, one result per input, and which score the calibration uses. */
+  public record Output(Calibration calibration, List<Result> results, OodCalibration.Scoring scoring) {
+    /** The score in force by name ({@link OodCalibration.Scoring#name}), e.g. {@code code k-th distance}. */
+    public String scoreName() {
+      return scoring.name(calibration.statistic());
+    }
+  }
 
   public static Output run(IndexReader reader, Source source, RowRange rows, Params p, Progress progress) {
     Calibration cal = OodCalibration.load(reader);
@@ -59,17 +70,16 @@ public final class OodScore {
     QueryCodes q = qa.codes();
     double[] msp = SoftmaxBaseline.scores(reader, source, rows);
     double[] sorted = cal.scores();
-    List<Result> out = new ArrayList<>(q.size());
-    for (int i = 0; i < q.size(); i++) {
+    Result[] out = new Result[q.size()];
+    Parallel.forEach(out.length, p.threads(), progress, i -> {
       OodScorer.Score s = scorer.score(q, qa.activations(), i);
       List<Evidence> ev = new ArrayList<>();
       for (int e = 0; e < Math.min(p.evidence(), s.ids().length); e++)
         ev.add(new Evidence(s.ids()[e], reader.meta().document(s.ids()[e]).get("key"), s.distances()[e]));
-      out.add(new Result(q.row(i), s.value(), s.kth(), s.mean(), s.ownRegion(), s.value() > cal.threshold(),
-          EdgeBundle.pValue(sorted, s.value()), List.copyOf(ev), msp == null ? null : 1 - msp[i]));
-      progress.update(i + 1, q.size());
-    }
-    return new Output(cal, List.copyOf(out));
+      out[i] = new Result(q.row(i), s.value(), s.kth(), s.mean(), s.ownRegion(), s.value() > cal.threshold(),
+          EdgeBundle.pValue(sorted, s.value()), List.copyOf(ev), msp == null ? null : 1 - msp[i]);
+    });
+    return new Output(cal, List.of(out), OodCalibration.scoring(reader));
   }
 
   /**
@@ -78,10 +88,15 @@ public final class OodScore {
    * EdgeBundle#isOut}); the same answer as {@code score > threshold}.
    */
   public static boolean[] decide(IndexReader reader, QueryCodes q) {
+    return decide(reader, q, 1);
+  }
+
+  /** As {@link #decide(IndexReader, QueryCodes)}, queries on {@code threads} threads. */
+  public static boolean[] decide(IndexReader reader, QueryCodes q, int threads) {
     OodCalibration.requireCode(reader, "--decision-only");
     EdgeBundle b = EdgeExport.bundle(reader, OodCalibration.load(reader), false);
     boolean[] out = new boolean[q.size()];
-    for (int i = 0; i < out.length; i++) out[i] = b.isOut(q.codes().code(i));
+    Parallel.forEach(out.length, threads, Progress.NONE, i -> out[i] = b.isOut(q.codes().code(i)));
     return out;
   }
 }

@@ -127,11 +127,17 @@ public final class OodScorer {
 
   /** The scores of every query of {@code q} (activations for the refined score). */
   public double[] values(QuerySource.Queries q, Progress progress) {
+    return values(q, progress, 1);
+  }
+
+  /**
+   * As {@link #values(QuerySource.Queries, Progress)} on {@code threads} threads: each query is
+   * scored on its own (the index is a thread-safe snapshot), so the result is the same for any
+   * thread count.
+   */
+  public double[] values(QuerySource.Queries q, Progress progress, int threads) {
     double[] out = new double[q.codes().size()];
-    for (int i = 0; i < out.length; i++) {
-      out[i] = score(q.codes(), q.activations(), i).value();
-      progress.update(i + 1, out.length);
-    }
+    Parallel.forEach(out.length, threads, progress, i -> out[i] = score(q.codes(), q.activations(), i).value());
     return out;
   }
 

@@ -1,5 +1,6 @@
 package io.actindex.query;
 
+import io.actindex.core.OutputFiles;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.index.store.IndexReader;
@@ -8,10 +9,7 @@ import io.actindex.query.report.IndexReport;
 import io.actindex.query.report.ReportSections;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.AtomicMoveNotSupportedException;
-import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.util.Map;
 
 /**
@@ -85,16 +83,6 @@ public final class Report {
 
   /** Writes through a temporary file beside {@code out}, then renames it into place. */
   static void write(Path out, byte[] bytes) throws IOException {
-    Path abs = out.toAbsolutePath();
-    Path dir = abs.getParent();
-    if (dir == null || !Files.isDirectory(dir)) throw new BadInputException(out + ": its folder does not exist");
-    if (Files.isDirectory(abs)) throw new BadInputException(out + ": is a folder; give a file name such as report.html");
-    Path tmp = dir.resolve("." + abs.getFileName() + ".tmp");
-    Files.write(tmp, bytes);
-    try {
-      Files.move(tmp, abs, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
-    } catch (AtomicMoveNotSupportedException e) {
-      Files.move(tmp, abs, StandardCopyOption.REPLACE_EXISTING);
-    }
+    OutputFiles.write(out, bytes, "--out");
   }
 }

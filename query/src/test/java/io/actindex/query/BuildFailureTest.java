@@ -17,8 +17,9 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * A build that fails while writing (the disk fills up: an IOException injected at the k-th file the
- * index creates) leaves no folder behind, so the same build run again succeeds.
+ * A build that fails while writing (the disk fills up: the JDK's ENOSPC exception injected at the
+ * k-th file the index creates) is refused naming the folder, leaves no folder behind, and the same
+ * build run again succeeds.
  */
 class BuildFailureTest {
   @TempDir Path tmp;
@@ -29,7 +30,7 @@ class BuildFailureTest {
     return new StoreIo.Forwarding(StoreIo.REAL) {
       @Override
       public FileChannel create(Path file) throws IOException {
-        if (created[0]++ == failAt) throw new IOException("No space left on device (injected)");
+        if (created[0]++ == failAt) throw io.actindex.core.NoSpace.exception();
         return super.create(file);
       }
     };
@@ -45,7 +46,9 @@ class BuildFailureTest {
       int failAt = k;
       Path out = tmp.resolve("idx-" + failAt);
       IndexBuilder.BuildParams p = new IndexBuilder.BuildParams(out, Source.activations(acts), null);
-      assertThrows(RuntimeException.class, () -> IndexBuilder.build(p, null, fullAt(failAt)), "fail at " + failAt);
+      io.actindex.core.BadInputException e =
+          assertThrows(io.actindex.core.BadInputException.class, () -> IndexBuilder.build(p, null, fullAt(failAt)), "fail at " + failAt);
+      org.assertj.core.api.Assertions.assertThat(e.getMessage()).startsWith("index " + out + ": no space left on device (");
       assertFalse(Files.exists(out), Randoms.describe(seed) + ": a failed build at file " + failAt + " left " + out);
       IndexBuilder.build(p, null);
       try (IndexReader r = IndexReader.open(out)) {

@@ -218,7 +218,21 @@ public final class NpyReader implements MatrixReader {
     return read(null, out, maxRows);
   }
 
+  /**
+   * Reads up to {@code maxRows} rows of a one-byte dtype (bool, int8, uint8) into {@code out} as
+   * the file's raw bytes, row-major ({@code cols()} per row), without converting them to numbers:
+   * the fast path for codes files. Returns the rows read (0 at the end).
+   */
+  public int readBytes(byte[] out, int maxRows) throws IOException {
+    if (header.dtype().size != 1) throw new IllegalStateException(name + ": " + header.dtype() + " values are not one byte each");
+    return read(null, null, out, maxRows);
+  }
+
   private int read(float[] fo, double[] dout, int maxRows) throws IOException {
+    return read(fo, dout, null, maxRows);
+  }
+
+  private int read(float[] fo, double[] dout, byte[] raw, int maxRows) throws IOException {
     int total = (int) Math.min(maxRows, header.rows() - row);
     if (total <= 0) return 0;
     int size = header.dtype().size;
@@ -231,12 +245,17 @@ public final class NpyReader implements MatrixReader {
         ByteBuffer bb = buffer((int) (m * rowBytes));
         fill(bb, header.dataOffset() + row * rowBytes);
         if (header.dtype() == NpyDtype.FLOAT32) checkFinite32(bb, m * cols, row);
-        decode(bb, m * cols, fo, dout, done * cols, 1);
+        if (raw != null) bb.get(0, raw, done * cols, m * cols);
+        else decode(bb, m * cols, fo, dout, done * cols, 1);
       } else {
         int at = ensureBlock(rowBytes, size);
         m = Math.min(total - done, blockRows - at);
-        ByteBuffer bb = ByteBuffer.wrap(block, (int) (at * rowBytes), (int) (m * rowBytes)).slice().order(header.order());
-        decode(bb, m * cols, fo, dout, done * cols, 1);
+        if (raw != null) {
+          System.arraycopy(block, (int) (at * rowBytes), raw, done * cols, (int) (m * rowBytes));
+        } else {
+          ByteBuffer bb = ByteBuffer.wrap(block, (int) (at * rowBytes), (int) (m * rowBytes)).slice().order(header.order());
+          decode(bb, m * cols, fo, dout, done * cols, 1);
+        }
       }
       if (header.dtype().isFloat() && (colOffset != null || header.dtype() != NpyDtype.FLOAT32))
         checkFinite(fo, dout, done * cols, (done + m) * cols, row - done);

@@ -1,5 +1,6 @@
 package io.actindex.encode.io;
 
+import io.actindex.core.OutputFiles;
 import java.io.IOException;
 import java.nio.ByteBuffer;
 import java.nio.ByteOrder;
@@ -36,7 +37,7 @@ public final class NpyWriter implements AutoCloseable {
     long rv = 1;
     for (long t : trailing) rv = Math.multiplyExact(rv, t);
     this.rowValues = Math.toIntExact(rv);
-    this.tmp = TempFiles.beside(target);
+    this.tmp = OutputFiles.tempBeside(target);
     this.ch = FileChannel.open(tmp, StandardOpenOption.WRITE);
     this.headerBytes = header(Long.MAX_VALUE, 0).length;
     ch.write(ByteBuffer.wrap(header(0, headerBytes)), 0);

@@ -83,7 +83,10 @@ public final class NpzReader implements AutoCloseable {
   /**
    * A member's bytes, checked against the CRC-32 its zip entry records once all {@code size} bytes
    * have been read (as NumPy's reader, through Python's zipfile, checks them): a damaged archive
-   * is refused, never read as numbers.
+   * is refused, never read as numbers. A reader closed before the end (rows that stop early) reads
+   * the rest of the member at close just for the check, because the damage may lie in the rows
+   * already used and only the whole member's CRC can tell: that costs one sequential read of the
+   * remaining bytes (inflating them for a compressed member), and a mismatch fails the close.
    */
   private static final class CrcCheckedStream extends java.io.FilterInputStream {
     private final java.util.zip.CRC32 crc = new java.util.zip.CRC32();
@@ -106,15 +109,38 @@ public final class NpzReader implements AutoCloseable {
 
     @Override
     public int read(byte[] b, int off, int len) throws IOException {
-      int n = in.read(b, off, len);
+      int n;
+      try {
+        n = in.read(b, off, len);
+      } catch (java.util.zip.ZipException | java.io.EOFException e) { // damaged deflate data, or cut short
+        throw new BadInputException(label + ": damaged archive member (" + BadInputException.snippet(String.valueOf(e.getMessage()), 80) + ")", e);
+      }
       if (n > 0) {
         crc.update(b, off, n);
         read += n;
         if (size >= 0 && expected >= 0 && read == size && crc.getValue() != expected)
           throw new BadInputException(label + ": damaged archive member: CRC-32 of its " + size + " bytes is "
-              + Long.toHexString(crc.getValue()) + ", the archive records " + Long.toHexString(expected));
+              + Long.toHexString(crc.getValue()) + ", the archive records " + Long.toHexString(expected)
+              + " (checked over the whole member, also when fewer rows are used)");
+      } else if (n < 0 && size >= 0 && read < size) {
+        throw new BadInputException(label + ": damaged archive member: it ends after " + read + " of its " + size + " bytes");
       }
       return n;
+    }
+
+    /** Reads what is left for the CRC check (see the class comment), then closes. */
+    @Override
+    public void close() throws IOException {
+      try {
+        if (size >= 0 && expected >= 0) {
+          byte[] rest = new byte[64 * 1024];
+          while (read < size && read(rest, 0, rest.length) >= 0) {
+            // read() checks the CRC at the last byte
+          }
+        }
+      } finally {
+        super.close();
+      }
     }
 
     @Override

@@ -1,5 +1,6 @@
 package io.actindex.encode.io;
 
+import io.actindex.core.OutputFiles;
 import java.io.IOException;
 import java.nio.ByteBuffer;
 import java.nio.ByteOrder;
@@ -55,7 +56,7 @@ public final class SafetensorsWriter {
     ByteBuffer head = ByteBuffer.allocate(8 + padded).order(ByteOrder.LITTLE_ENDIAN);
     head.putLong(padded).put(json);
     while (head.hasRemaining()) head.put((byte) ' ');
-    Path tmp = TempFiles.beside(file);
+    Path tmp = OutputFiles.tempBeside(file);
     try (FileChannel ch = FileChannel.open(tmp, StandardOpenOption.WRITE)) {
       ch.write(head.flip());
       for (Tensor t : tensors.values()) {

@@ -7,7 +7,11 @@ import org.apache.lucene.index.IndexDeletionPolicy;
 /**
  * Keeps the Lucene commit that the index's current manifest names ("published") and the newest
  * commit (written, maybe not yet named by a manifest); deletes every other. So a crash between the
- * Lucene commit and the manifest commit leaves the published commit in place for readers.
+ * Lucene commit and the manifest commit leaves the published commit in place for readers. A writer
+ * opened at the published commit ({@link #publish} before the Lucene writer opens) drops every
+ * other commit at once: a later one is the leftover of a change whose manifest never appeared (a
+ * failure or a crash), and Lucene then also deletes the files no remaining commit references
+ * (those of a failed flush). The published commit is never deleted.
  */
 final class KeepPublishedPolicy extends IndexDeletionPolicy {
   private volatile long published = -1;
@@ -24,7 +28,14 @@ final class KeepPublishedPolicy extends IndexDeletionPolicy {
 
   @Override
   public void onInit(List<? extends IndexCommit> commits) {
-    onCommit(commits);
+    if (published < 0) {
+      onCommit(commits);
+      return;
+    }
+    for (IndexCommit c : commits) {
+      if (c.getGeneration() == published) newest = c.getSegmentsFileName();
+      else c.delete();
+    }
   }
 
   @Override

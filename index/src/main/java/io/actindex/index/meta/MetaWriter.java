@@ -83,7 +83,10 @@ public final class MetaWriter implements Closeable {
     return w;
   }
 
-  /** Opens the store at the commit a manifest names ({@code segmentsFile}), dropping any later one. */
+  /**
+   * Opens the store at the commit a manifest names ({@code segmentsFile}), dropping every other
+   * commit and every file no kept commit references (the leftovers of a failed or crashed change).
+   */
   public static MetaWriter open(Path metaDir, String segmentsFile) throws IOException {
     return open(metaDir, FSDirectory.open(metaDir), segmentsFile);
   }
@@ -100,6 +103,14 @@ public final class MetaWriter implements Closeable {
       dir.close();
       throw e;
     }
+  }
+
+  /**
+   * Removes what a failed change left in the store: every commit but the published one ({@code
+   * segmentsFile}) and every file no kept commit references. The published commit is not touched.
+   */
+  public static void dropUnpublished(Path metaDir, Directory dir, String segmentsFile) throws IOException {
+    open(metaDir, dir, segmentsFile).close();
   }
 
   private static IndexWriterConfig config(KeepPublishedPolicy policy) {

@@ -323,19 +323,30 @@ final class BitPlan {
     return -(plogp(p) + plogp(1 - p));
   }
 
-  /** How many codes have each bit set. */
+  /**
+   * How many codes have each bit set. Eight counters of 8 bits share one long ("SIMD within a
+   * register", common practice): counter j of word k's lane l counts bit 8j + l, flushed every 255
+   * codes before a byte can overflow.
+   */
   static long[] bitCounts(CodeBlock codes) {
     int bits = codes.layout().bits(), w = codes.wordsPerCode(), n = codes.size();
     long[] data = codes.words();
-    long[] counts = new long[bits];
-    for (int i = 0; i < n; i++)
-      for (int j = 0; j < w; j++) {
-        long x = data[i * w + j];
-        while (x != 0) {
-          counts[(j << 6) + Long.numberOfTrailingZeros(x)]++;
-          x &= x - 1;
+    long[] counts = new long[w << 6];
+    long[] lanes = new long[w << 3];
+    for (int from = 0; from < n; from += 255) {
+      int to = Math.min(n, from + 255);
+      for (int i = from; i < to; i++)
+        for (int k = 0; k < w; k++) {
+          long x = data[i * w + k];
+          for (int l = 0; l < 8; l++) lanes[(k << 3) + l] += (x >>> l) & 0x0101010101010101L;
         }
-      }
-    return counts;
+      for (int k = 0; k < w; k++)
+        for (int l = 0; l < 8; l++) {
+          long v = lanes[(k << 3) + l];
+          for (int j = 0; j < 8; j++) counts[(k << 6) + (j << 3) + l] += (v >>> (j << 3)) & 0xff;
+          lanes[(k << 3) + l] = 0;
+        }
+    }
+    return Arrays.copyOf(counts, bits);
   }
 }

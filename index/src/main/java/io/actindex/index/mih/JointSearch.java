@@ -2,6 +2,7 @@ package io.actindex.index.mih;
 
 import io.actindex.core.CodeLayout;
 import io.actindex.core.CodeSearcher;
+import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
 import io.actindex.core.IdSet;
 import io.actindex.core.ScanKernel;
@@ -49,7 +50,7 @@ public final class JointSearch {
   private final long[] centres; // the centres of those blocks, block after block
   private final Partition[] partitionOf; // per block, null where parted is
   // per joint cluster: its block, its positions [first, end) in that block's partition, its largest
-  // radius, and where its row of radiusStart begins (a copy of Partition's table: see atRadius)
+  // radius, and where its row of radiusStart begins (see atRadius)
   private final int[] blockOf, first, end, maxRadius, radiusBase;
   private final int[] radiusStart;
   private final int maxOfMaxRadius;
@@ -86,7 +87,8 @@ public final class JointSearch {
     maxRadius = new int[clusters];
     radiusBase = new int[clusters];
     int rows = 0;
-    for (int b = 0; b < nb; b++) if (parted[b] != null) rows += parted[b].partition.radiusStart.length;
+    for (int b = 0; b < nb; b++)
+      if (parted[b] != null) for (int c = 0; c < parted[b].partition.clusters(); c++) rows += parted[b].partition.maxRadius[c] + 1;
     radiusStart = new int[rows];
     rows = 0;
     PlannerCosts cost = PlannerCosts.defaults();
@@ -97,16 +99,18 @@ public final class JointSearch {
       partitionOf[b] = p;
       cost = parted[b].cost;
       System.arraycopy(p.centres, 0, centres, g * w, p.centres.length);
-      System.arraycopy(p.radiusStart, 0, radiusStart, rows, p.radiusStart.length);
       for (int c = 0; c < p.clusters(); c++, g++) {
         blockOf[g] = b;
         first[g] = p.start[c];
         end[g] = p.start[c + 1];
         maxRadius[g] = p.maxRadius[c];
-        radiusBase[g] = rows + p.radiusBase[c];
+        radiusBase[g] = rows;
         mm = Math.max(mm, p.maxRadius[c]);
+        for (int r = 0, i = p.start[c]; r <= p.maxRadius[c]; r++, rows++) { // first position at radius >= r
+          while (i < p.start[c + 1] && p.radius[i] < r) i++;
+          radiusStart[rows] = i;
+        }
       }
-      rows += p.radiusStart.length;
       idAt[b] = new int[p.ords.length];
       for (int i = 0; i < p.ords.length; i++) idAt[b][i] = this.idOf[b].applyAsInt(p.ords[i]);
     }
@@ -154,9 +158,19 @@ public final class JointSearch {
    */
   private TopK walk(long[] q, int k, IdSet accept, Scratch s) {
     int total = blockOf.length, w = layout.words(), bits = layout.bits();
-    s.ensure(blocks.length);
-    Partition.sortCentres(q, centres, total, w, bits, s.visit);
-    int[] order = s.visit.order, dq = s.visit.dq;
+    s.ensure(total, bits, blocks.length);
+    int[] counts = s.counts, dist = s.dist, order = s.order, dq = s.dq;
+    Arrays.fill(counts, 0, bits + 2, 0);
+    for (int g = 0; g < total; g++) { // the clusters by centre distance: a counting sort
+      dist[g] = Hamming.distance(q, 0, centres, g * w, w);
+      counts[dist[g] + 1]++;
+    }
+    for (int x = 0; x <= bits; x++) counts[x + 1] += counts[x];
+    for (int g = 0; g < total; g++) {
+      int p = counts[dist[g]]++;
+      order[p] = g;
+      dq[p] = dist[g];
+    }
     // the pre-pass: the nearest clusters of all blocks until k codes are known
     TopK pre = new TopK(k);
     int done = 0;
@@ -208,7 +222,11 @@ public final class JointSearch {
     return top;
   }
 
-  /** {@link Partition#atRadius} of joint cluster g, from the copied rows (no pointer chasing per cluster). */
+  /**
+   * The first position of joint cluster g whose code lies at least {@code r} from its centre (the
+   * cluster's end if none): one look-up in a table built here, where a binary search over the
+   * radii would wait on several dependent reads for each of the many small clusters visited.
+   */
   private int atRadius(int g, int r) {
     if (r <= 0) return first[g];
     if (r > maxRadius[g]) return end[g];
@@ -217,13 +235,19 @@ public final class JointSearch {
 
   /** Per-thread, per-query state. */
   private static final class Scratch {
-    final Partition.Visit visit = new Partition.Visit(); // the joint clusters in visiting order
+    int[] order = new int[0], dq = new int[0], dist = new int[0], counts = new int[0];
     long[] rest = new long[0];
     boolean[] walked = new boolean[0];
     int cap;
     boolean inUse;
 
-    void ensure(int blocks) {
+    void ensure(int clusters, int bits, int blocks) {
+      if (order.length < clusters) {
+        order = new int[clusters];
+        dq = new int[clusters];
+        dist = new int[clusters];
+      }
+      if (counts.length < bits + 2) counts = new int[bits + 2];
       if (rest.length < blocks) {
         rest = new long[blocks];
         walked = new boolean[blocks];

@@ -6,6 +6,7 @@ import io.actindex.core.CodeSearcher;
 import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
 import io.actindex.core.IdSet;
+import io.actindex.core.ScanKernel;
 import io.actindex.core.ScanSearcher;
 import io.actindex.core.TopK;
 import java.util.Arrays;
@@ -35,6 +36,17 @@ final class MihSearcher implements CodeSearcher {
   private static final double FIRST_ROUND = 0.3;
   /** Work the tables may spend in all once an upper bound shows they finish within it. */
   private static final double PROVEN = 0.9;
+  /**
+   * Under a mask, work the tables may spend before an upper bound shows they finish within {@link
+   * #PROVEN}: a masked query that falls back to the scan costs at most this much more than the scan.
+   */
+  private static final double MASKED_BUDGET = 0.1;
+  /**
+   * Under a mask, the partition's estimated work must fit under this share of a scan: its radius
+   * tests and the codes tied at the k-th distance (many, over one layer of skewed codes) cost
+   * about twice what it estimates (measured on 1M ReLU-like codes), so the estimate needs the margin.
+   */
+  private static final double MASKED_PROVEN = 0.5;
 
   final CodeBlock codes;
   final BitPlan plan;
@@ -44,11 +56,11 @@ final class MihSearcher implements CodeSearcher {
   final PlannerCosts cost;
   private final ScanSearcher scan;
   private final double scanCost;
+  private final double[] freshCost; // see freshTablesCost
+  private final double candidateCost; // a candidate verified at a random place of these codes
   private final double[] ownRate; // expected codes in the query's own bucket, per table
   private final double[] nearRate; // expected codes per probe of a neighbouring bucket, per table
   private final ThreadLocal<Scratch> scratch;
-  private final int[] allTables; // 0 .. m-1: the active tables without a mask (never modified)
-  private final double[] freshCost; // see freshTablesCost
 
   MihSearcher(CodeBlock codes, BitPlan plan, SubstringTable[] tables, SearchPlanOptions.Strategy strategy,
       Partition partition, PlannerCosts cost) {
@@ -61,6 +73,7 @@ final class MihSearcher implements CodeSearcher {
     this.scan = new ScanSearcher(codes);
     int n = codes.size();
     this.scanCost = cost.scan(n, codes.wordsPerCode());
+    this.candidateCost = cost.candidate(8L * codes.words().length);
     this.ownRate = new double[tables.length];
     this.nearRate = new double[tables.length];
     for (int t = 0; t < tables.length; t++) {
@@ -68,8 +81,29 @@ final class MihSearcher implements CodeSearcher {
       nearRate[t] = Math.max(0.05, neighbourOccupancy(t));
     }
     this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
-    this.allTables = java.util.stream.IntStream.range(0, tables.length).toArray();
     this.freshCost = freshCosts();
+  }
+
+  /** This searcher with {@code p} as its partition (the tables' statistics are reused). */
+  MihSearcher withPartition(Partition p) {
+    return new MihSearcher(this, p);
+  }
+
+  private MihSearcher(MihSearcher s, Partition partition) {
+    this.codes = s.codes;
+    this.plan = s.plan;
+    this.tables = s.tables;
+    this.strategy = s.strategy;
+    this.partition = partition;
+    this.cost = s.cost;
+    this.scan = s.scan;
+    this.scanCost = s.scanCost;
+    this.candidateCost = s.candidateCost;
+    this.ownRate = s.ownRate;
+    this.nearRate = s.nearRate;
+    this.freshCost = s.freshCost;
+    int n = codes.size();
+    this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
   }
 
   @Override
@@ -89,16 +123,19 @@ final class MihSearcher implements CodeSearcher {
 
   /**
    * The planner's order: an empty filter answers at once and a selective one is walked (the scan
-   * does both); then, without a mask, the partition finds a first k-th distance B from the nearest
-   * clusters, and whichever of the rest of the partition, the tables (every shell up to B) or the
-   * scan is estimated cheapest finishes the query, with B as the distance cap.
+   * does both); then the partition finds a first k-th distance B from the nearest clusters (under a
+   * mask, with the mask's distances to the centres and radii), and whichever of the rest of the
+   * partition, the tables (every shell up to B) or the scan is estimated cheapest finishes the
+   * query, with B as the distance cap. A masked scan costs what its selected words cost.
    */
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
     query = ScanSearcher.checkQuery(codes.layout(), query, mask);
+    mask = ScanSearcher.checkMask(codes.layout(), mask);
     int n = codes.size();
     if (k <= 0 || n == 0 || maxDist < 0) return Hits.EMPTY;
     boolean auto = strategy == SearchPlanOptions.Strategy.AUTO;
+    double scanCost = mask == null ? this.scanCost : cost.scan(n, ScanKernel.Words.of(query, mask, codes.wordsPerCode()).at().length);
     if (accept instanceof IdSet set) {
       if (set.size() != n) throw new IllegalArgumentException("filter over " + set.size() + " ordinals, searcher has " + n);
       if (set.isEmpty()) return Hits.EMPTY;
@@ -107,17 +144,20 @@ final class MihSearcher implements CodeSearcher {
     int[] active = activeTables(mask);
     int kk = Math.min(k, n);
     Scratch s = scratch.get().begin(this, query, active);
+    s.scanCost = scanCost;
+    if (mask != null) s.unproven = MASKED_BUDGET;
     try {
-      boolean usePartition = partition != null && mask == null
-          && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
+      boolean usePartition = partition != null && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
       if (usePartition) {
         TopK top = new TopK(kk);
-        int from = partition.begin(query, codes.layout().bits(), s.visit, accept, top, kk, maxDist);
+        int from = partition.begin(query, mask, codes.layout().bits(), s.visit, accept, top, kk, maxDist);
         int bound = top.size() == kk ? Math.min(maxDist, top.bound()) : maxDist;
-        long rest = from == partition.clusters() ? 0 : partition.estimate(s.visit, from, bound);
-        if (partitionFinishes(rest, query, bound)) {
+        double limit = (mask == null ? PROVEN : MASKED_PROVEN) * scanCost;
+        double rest = from == partition.clusters() ? 0
+            : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), auto ? limit : Double.POSITIVE_INFINITY);
+        if (!auto || rest <= limit && rest <= tablesCost(s, active, bound, plan.constantDistance(query, mask))) {
           s.path = PATH_PARTITION;
-          if (rest > 0) partition.finish(query, s.visit, from, accept, top, maxDist);
+          if (rest > 0) partition.finish(s.visit, from, accept, top, maxDist);
           return top.toHits();
         }
         maxDist = bound; // the k-th distance so far bounds the answer: the path below starts afresh under it
@@ -130,18 +170,6 @@ final class MihSearcher implements CodeSearcher {
     } finally {
       s.end();
     }
-  }
-
-  /**
-   * The planner's rule for the partition: it finishes an unmasked query whose remaining windows hold
-   * {@code restCodes} codes under the k-th distance {@code bound} when that costs at most most of a
-   * scan and no more than the tables would to reach the bound (always with strategy PARTITION).
-   * Also {@link JointSearch}'s rule for each block.
-   */
-  boolean partitionFinishes(long restCodes, long[] query, int bound) {
-    if (strategy != SearchPlanOptions.Strategy.AUTO) return strategy == SearchPlanOptions.Strategy.PARTITION;
-    double rest = restCodes * cost.partitionCode();
-    return rest <= PROVEN * scanCost && rest <= tablesCost(query, bound);
   }
 
   /** Multi-index hashing over the active tables, falling back to the scan when the planner says so. */
@@ -174,18 +202,28 @@ final class MihSearcher implements CodeSearcher {
 
   /**
    * Estimated cost of the tables finding every code within {@code bound} of {@code query} (bucket
-   * statistics measured at build, every table active, nothing probed yet), for the planner and for
-   * choosing between table layouts.
+   * statistics measured at build), for choosing between table layouts.
    */
   double tablesCost(long[] query, int bound) {
     return freshTablesCost(bound, plan.constantDistance(query, null));
   }
 
+  /**
+   * For {@link JointSearch}: whether this block's partition should finish an unmasked query whose
+   * windows hold {@code restCodes} codes under the k-th distance {@code bound}, by the rule of
+   * {@link #knn}: at most most of a scan and no more than the tables would cost to reach the bound
+   * (always with strategy PARTITION).
+   */
+  boolean partitionFinishes(long restCodes, long[] query, int bound) {
+    if (strategy != SearchPlanOptions.Strategy.AUTO) return strategy == SearchPlanOptions.Strategy.PARTITION;
+    double rest = restCodes * cost.partitionCode();
+    return rest <= PROVEN * scanCost && rest <= tablesCost(query, bound);
+  }
 
   /**
-   * Cost of probing every shell the tables would need to find all codes within {@code bound} of a
-   * query whose constant bits are {@code c} away, before any probe (so with the rates measured at
-   * build), all tables active: it depends only on {@code bound - c}, so it is tabulated once.
+   * {@link #tablesCost(Scratch, int[], int, int)} of an unmasked query before any probe (so with the
+   * rates measured at build), every table active: it depends only on {@code bound - c}, the
+   * constant-bit distance c, so it is tabulated once per searcher.
    */
   private double freshTablesCost(int bound, int c) {
     if (bound < c) return 0; // no shell: every code is at least c away
@@ -206,15 +244,36 @@ final class MihSearcher implements CodeSearcher {
       int x = level / m, j = level % m; // shell (x, j) counts when x*m + j - 1 + c < bound
       if (total <= scanCost && x <= tables[j].width)
         total += (double) Math.min(ProbeEnumerator.count(tables[j].width, x), tables[j].buckets())
-            * ((tables[j].dense() ? cost.probeDense() : cost.probeSparse()) + (x == 0 ? ownRate[j] : nearRate[j]) * cost.candidate());
+            * ((tables[j].dense() ? cost.probeDense() : cost.probeSparse()) + (x == 0 ? ownRate[j] : nearRate[j]) * candidateCost);
       f[level + 1] = total;
     }
     return f;
   }
 
+
+  /** Estimated cost of probing every shell the tables would need to find all codes within {@code bound}. */
+  private double tablesCost(Scratch s, int[] active, int bound, int c) {
+    int m = active.length;
+    if (m == 0 || strategy == SearchPlanOptions.Strategy.PARTITION) return Double.POSITIVE_INFINITY;
+    int maxWidth = 0;
+    for (int t : active) maxWidth = Math.max(maxWidth, tables[t].width);
+    double total = 0;
+    for (int x = 0, j = 0; x <= maxWidth && (long) x * m + j - 1 + c < bound; ) {
+      int t = active[j];
+      if (x <= tables[t].width) total += shellCost(s, t, x);
+      if (total > s.scanCost) return total;
+      if (++j == m) {
+        j = 0;
+        x++;
+      }
+    }
+    return total;
+  }
+
   @Override
   public Hits radius(long[] query, int radius, IntPredicate accept, long[] mask) {
     query = ScanSearcher.checkQuery(codes.layout(), query, mask);
+    mask = ScanSearcher.checkMask(codes.layout(), mask);
     if (radius < 0 || codes.size() == 0) return Hits.EMPTY;
     int[] active = activeTables(mask);
     if (accept instanceof IdSet set && set.isEmpty()) return Hits.EMPTY;
@@ -253,15 +312,19 @@ final class MihSearcher implements CodeSearcher {
    * small share of a scan. After that, within three rounds of the k-th best distance, yes while the
    * work so far plus that shell fits under most of a scan; further away, yes while an upper bound
    * of the work still needed (every shell up to the current k-th best distance) fits under most of
-   * a scan. Otherwise the caller scans.
+   * a scan. Otherwise the caller scans. Under a mask, every rule but the upper bound is capped at
+   * {@link #MASKED_BUDGET}.
    */
   private boolean worthIt(Scratch s, TopK top, int k, int[] active, int rho, int j, int c, int maxDist) {
-    if (rho == 0) return s.work + shellCost(s, active[j], rho) <= FIRST_ROUND * scanCost;
+    double scanCost = s.scanCost;
+    if (rho == 0) return s.work + shellCost(s, active[j], rho) <= Math.min(FIRST_ROUND, s.unproven) * scanCost;
     int m = active.length, bound = bound(top, k, maxDist);
-    if (bound == Integer.MAX_VALUE) return s.work + shellCost(s, active[j], rho) <= EAGER * scanCost;
+    if (bound == Integer.MAX_VALUE) return s.work + shellCost(s, active[j], rho) <= Math.min(EAGER, s.unproven) * scanCost;
     // within three rounds of the k-th best distance: go on while the next shell fits the budget (the
-    // k-th best usually drops on the way, so the sum below would be too pessimistic)
-    if (bound - (rho * m + j - 1 + c) <= 3 * m) return s.work + shellCost(s, active[j], rho) <= PROVEN * scanCost;
+    // k-th best usually drops on the way, so the sum below would be too pessimistic); under a mask,
+    // only within the masked budget
+    if (bound - (rho * m + j - 1 + c) <= 3 * m)
+      return s.work + shellCost(s, active[j], rho) <= Math.min(PROVEN, s.unproven) * scanCost;
     double remaining = 0;
     for (int x = rho, jj = j; x * m + jj - 1 + c < bound; ) {
       int t = active[jj];
@@ -281,7 +344,7 @@ final class MihSearcher implements CodeSearcher {
     double probes = Math.min(ProbeEnumerator.count(tab.width, rho), tab.buckets());
     // codes per probe: the table's prior, corrected by what this query met in neighbouring buckets
     double rate = rho == 0 ? ownRate[t] : (nearRate[t] * 64 + s.nearCandidates) / (64 + s.nearProbes);
-    return probes * ((tab.dense() ? cost.probeDense() : cost.probeSparse()) + rate * cost.candidate());
+    return probes * ((tab.dense() ? cost.probeDense() : cost.probeSparse()) + rate * candidateCost);
   }
 
   /** Mean size of the buckets one bit away from the keys of up to 256 evenly spaced codes. */
@@ -352,7 +415,7 @@ final class MihSearcher implements CodeSearcher {
       s.nearProbes += probes;
       s.nearCandidates += cands;
     }
-    s.work += probes * (tab.dense() ? cost.probeDense() : cost.probeSparse()) + cands * cost.candidate();
+    s.work += probes * (tab.dense() ? cost.probeDense() : cost.probeSparse()) + cands * candidateCost;
   }
 
   /**
@@ -364,12 +427,17 @@ final class MihSearcher implements CodeSearcher {
     return new long[] {s.probes, s.candidates, s.path == PATH_SCAN ? 1 : 0, s.path};
   }
 
+  /** Expert, for tests: the table work of this thread's last query as a share of its scan, both in the planner's costs. */
+  double lastTableWorkShare() {
+    Scratch s = scratch.get();
+    return s.work / s.scanCost;
+  }
+
   /** Tables usable under the mask: all (null mask) or those whose bits the mask covers. */
   private int[] activeTables(long[] mask) {
-    if (mask == null) return allTables;
     int[] all = new int[tables.length];
     int m = 0;
-    for (int t = 0; t < tables.length; t++) if (plan.tableInside(t, mask)) all[m++] = t;
+    for (int t = 0; t < tables.length; t++) if (mask == null || plan.tableInside(t, mask)) all[m++] = t;
     return m == all.length ? all : Arrays.copyOf(all, m);
   }
 
@@ -383,6 +451,8 @@ final class MihSearcher implements CodeSearcher {
     int hits;
     long probes, candidates, nearProbes, nearCandidates;
     double work;
+    double scanCost; // of this query (a mask selects fewer words)
+    double unproven; // share of a scan the tables may spend before an upper bound shows they finish cheaper
     int path;
     boolean inUse;
     final Partition.Visit visit = new Partition.Visit();
@@ -402,6 +472,8 @@ final class MihSearcher implements CodeSearcher {
       s.nearProbes = 0;
       s.nearCandidates = 0;
       s.work = 0;
+      s.scanCost = owner.scanCost;
+      s.unproven = Double.POSITIVE_INFINITY;
       s.path = 0;
       for (int t : active) s.keys[t] = owner.plan.key(query, 0, t);
       return s;

@@ -4,7 +4,11 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import io.actindex.core.ScanKernel;
 import io.actindex.core.TopK;
+import java.util.ArrayList;
 import java.util.Arrays;
+import java.util.List;
+import java.util.Map;
+import java.util.concurrent.ConcurrentHashMap;
 import java.util.function.IntPredicate;
 import java.util.stream.IntStream;
 
@@ -23,6 +27,13 @@ import java.util.stream.IntStream;
  * fast. Exactness needs only that {@code r(x)} is the true distance to the centre (it is recomputed
  * on load); how well the centres fit the data decides the speed alone.
  *
+ * <p>A masked distance (the bits of some layers) is a pseudometric, so the same inequality holds
+ * for it: a masked query sorts the clusters by its masked distances to the centres and tests each
+ * code against the radii over the layers the mask touches (built on first use per set of layers,
+ * 2 bytes per code, kept for up to 8 sets). Those radii are not sorted inside a cluster, so the
+ * window is cut by the full radius from below ({@code d_M(c,x) <= r(x)}) and each code in it is
+ * tested before it is compared.
+ *
  * <p>Codes from a network's activations sit on a low-dimensional set (the input space), so most
  * clusters lie far from a query and drop out; uniform random codes have no such structure and the
  * planner ({@link #estimate}) sends their queries elsewhere. Immutable, thread-safe.
@@ -37,41 +48,43 @@ final class Partition {
   final int[] start; // cluster c is positions start[c] .. start[c+1]-1
   final long[] codes; // copies of the codes, cluster by cluster, each by ascending radius
   final int[] ords; // position -> ordinal
+  final char[] radius; // position -> distance to its centre
   final int[] maxRadius; // per cluster
-  // cluster c's first position at radius >= r, for r in 0..maxRadius[c]: radiusStart[radiusBase[c] + r]
-  final int[] radiusBase, radiusStart;
   private final int maxOfMaxRadius;
+  private final Radii stored; // radius and maxRadius: the radii over every bit
+  private final long[][] segmentMasks; // per segment of the layout: its bits
+  private final Map<List<Long>, Radii> coverRadii = new ConcurrentHashMap<>(); // per set of segments, built on first use
 
-  Partition(CodeBlock block, long[] centres, int[] start, int[] ords) {
+  /**
+   * The partition of {@code block} with these centres and clusters; {@code copy} holds the codes in
+   * cluster order ({@code block}'s codes at {@code ords}) or is null to gather them from the block.
+   * Every radius is computed here from the copy.
+   */
+  Partition(CodeBlock block, long[] centres, int[] start, int[] ords, long[] copy) {
     this.words = block.wordsPerCode();
+    this.segmentMasks = new long[block.layout().segments().size()][];
+    for (int seg = 0; seg < segmentMasks.length; seg++) segmentMasks[seg] = block.layout().mask(seg);
     this.centres = centres;
     this.start = start;
     this.ords = ords;
     int n = ords.length, w = words, clusters = start.length - 1;
+    if (copy != null && copy.length != (long) n * w) throw new IllegalArgumentException("copy of " + copy.length + " words for " + n + " codes");
     long[] data = block.words();
-    codes = new long[Math.multiplyExact(n, w)];
-    char[] radius = new char[n]; // position -> distance to its centre
+    codes = copy != null ? copy : new long[Math.multiplyExact(n, w)];
+    radius = new char[n];
     maxRadius = new int[clusters];
-    radiusBase = new int[clusters + 1];
     int mm = 0;
-    for (int c = 0; c < clusters; c++) {
+    for (int c = 0; c < clusters; c++)
       for (int i = start[c]; i < start[c + 1]; i++) {
-        System.arraycopy(data, ords[i] * w, codes, i * w, w);
-        int r = Hamming.distance(centres, c * w, data, ords[i] * w, w);
+        if (copy == null) System.arraycopy(data, ords[i] * w, codes, i * w, w);
+        int r = Hamming.distance(centres, c * w, codes, i * w, w);
         if (i > start[c] && r < radius[i - 1]) throw new IllegalArgumentException("cluster " + c + " not sorted by radius at position " + i);
         radius[i] = (char) r;
         maxRadius[c] = Math.max(maxRadius[c], r);
         mm = Math.max(mm, r);
       }
-      radiusBase[c + 1] = radiusBase[c] + maxRadius[c] + 1;
-    }
     maxOfMaxRadius = mm;
-    radiusStart = new int[radiusBase[clusters]];
-    for (int c = 0; c < clusters; c++)
-      for (int r = 0, i = start[c]; r <= maxRadius[c]; r++) {
-        while (i < start[c + 1] && radius[i] < r) i++;
-        radiusStart[radiusBase[c] + r] = i;
-      }
+    stored = new Radii(radius, maxRadius);
   }
 
   int clusters() {
@@ -79,7 +92,7 @@ final class Partition {
   }
 
   long bytes() {
-    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length);
+    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length) + 2L * radius.length;
   }
 
   /** The partition of {@code block}, or null when it is too small (or its codes too wide for char radii). */
@@ -107,9 +120,9 @@ final class Partition {
     Assigner assigner = new Assigner(centres, clusters, w);
     IntStream.range(0, (n + 4095) >>> 12).parallel().forEach(chunk -> {
       for (int i = chunk << 12, end = Math.min(n, i + 4096); i < end; i++) {
-        int c = assigner.nearest(data, i * w);
-        assign[i] = c;
-        dist[i] = Hamming.distance(centres, c * w, data, i * w, w);
+        long cd = assigner.nearest(data, i * w);
+        assign[i] = (int) cd;
+        dist[i] = (int) (cd >>> 32);
       }
     });
     // order by (cluster, radius, ordinal): a counting sort on the packed key
@@ -122,7 +135,7 @@ final class Partition {
       start[(int) (key[i] >>> 48) + 1]++;
     }
     for (int c = 0; c < clusters; c++) start[c + 1] += start[c];
-    return new Partition(block, centres, start, ords);
+    return new Partition(block, centres, start, ords, null);
   }
 
   private static int nearest(long[] centres, int clusters, long[] data, int off, int w) {
@@ -172,7 +185,8 @@ final class Partition {
       }
     }
 
-    int nearest(long[] data, int off) {
+    /** The nearest centre of the code at {@code data[off..]} (low 32 bits) and its distance (high 32 bits). */
+    long nearest(long[] data, int off) {
       int bestPivot = 0, dxp = Integer.MAX_VALUE;
       for (int p = 0; p < pivots; p++) {
         int d = Hamming.distance(data, off, centres, (int) ((long) p * clusters / pivots) * w, w);
@@ -191,7 +205,7 @@ final class Partition {
           best = c;
         }
       }
-      return best;
+      return (long) bestD << 32 | best;
     }
   }
 
@@ -216,10 +230,59 @@ final class Partition {
 
   // ------------------------------------------------------------------ search
 
-  /** Per-query state: the clusters in visiting order, their distances and current windows. */
+  /** Covers whose radii are kept at once (2 bytes per code each). */
+  private static final int MAX_COVERS = 8;
+  /** One position in this many is read to estimate how many codes of a masked window pass the radius test. */
+  private static final int SAMPLE_STRIDE = 16;
+
+  /** Distances of the positions to their centres over some bits, and each cluster's largest. */
+  record Radii(char[] radius, int[] maxRadius) {}
+
+  /**
+   * Radii over the bits of the segments a mask touches (its cover): for a code x in cluster c and
+   * the masked distance d_M, {@code d_M(c,x) <= r_cover(x) <= r(x)}, with the first an equality when
+   * the mask covers its segments whole (a mask of whole layers, the usual one). The radii of a cover
+   * are computed on first use (one pass over the codes) and kept, at most {@link #MAX_COVERS} covers
+   * at once; a cover of every segment is the stored radii.
+   */
+  private Radii radii(long[] mask) {
+    List<Long> cover = new ArrayList<>(words);
+    long[] bits = new long[words];
+    boolean all = true;
+    for (long[] seg : segmentMasks) {
+      boolean touched = false;
+      for (int j = 0; j < words && !touched; j++) touched = (seg[j] & mask[j]) != 0;
+      all &= touched;
+      if (touched) for (int j = 0; j < words; j++) bits[j] |= seg[j];
+    }
+    if (all) return stored;
+    for (long x : bits) cover.add(x);
+    Radii r = coverRadii.get(cover);
+    if (r != null) return r;
+    if (coverRadii.size() >= MAX_COVERS) coverRadii.clear(); // bounds the memory; rebuilt on demand
+    return coverRadii.computeIfAbsent(cover, c -> {
+      char[] rad = new char[ords.length];
+      int[] max = new int[clusters()];
+      for (int cl = 0; cl < clusters(); cl++)
+        for (int i = start[cl]; i < start[cl + 1]; i++) {
+          rad[i] = (char) Hamming.maskedDistance(centres, cl * words, codes, i * words, bits, words);
+          max[cl] = Math.max(max[cl], rad[i]);
+        }
+      return new Radii(rad, max);
+    });
+  }
+
+  /**
+   * Per-query state: the mask's selection and radii, the clusters in visiting order, their
+   * distances and current windows.
+   */
   static final class Visit {
     int[] order = new int[0], dq = new int[0], lo = new int[0], hi = new int[0];
     int[] counts = new int[0];
+    ScanKernel.Words sel;
+    Radii radii; // the stored radii (no mask or one of every segment), else the mask's cover
+    boolean exact; // radii are the masked distances to the centres (not only an upper bound)
+    final int[] pass = new int[256]; // positions that passed the radius test, one block at a time
 
     void ensure(int clusters, int bits) {
       if (order.length < clusters) {
@@ -233,91 +296,139 @@ final class Partition {
   }
 
   /**
-   * First step of a query: distances to every centre, clusters sorted nearest first (a counting
-   * sort on the distance), then, when no cap is given, the nearest clusters scanned until the top
-   * holds k codes (or all are seen). Returns the number of clusters fully scanned.
+   * First step of a query under an optional mask (null, or with ghost bits set as {@code
+   * ScanSearcher.checkMask} leaves it): distances to every centre, clusters sorted nearest first (a
+   * counting sort on the distance), then, when no cap is given, the nearest clusters scanned until
+   * the top holds k codes (or all are seen). Returns the number of clusters fully scanned.
    */
-  int begin(long[] q, int bits, Visit v, IntPredicate accept, TopK top, int k, int maxDist) {
+  int begin(long[] q, long[] mask, int bits, Visit v, IntPredicate accept, TopK top, int k, int maxDist) {
     int clusters = clusters(), w = words;
-    sortCentres(q, centres, clusters, w, bits, v);
+    v.ensure(clusters, bits);
+    v.sel = ScanKernel.Words.of(q, mask, w);
+    v.radii = mask == null ? stored : radii(mask);
+    v.exact = mask == null || v.radii != stored && coversWhole(mask);
+    int[] counts = v.counts;
+    Arrays.fill(counts, 0, bits + 2, 0);
+    int[] d = v.lo; // scratch for the distances before sorting
+    for (int c = 0; c < clusters; c++) {
+      d[c] = v.sel.distance(centres, c * w, w, Integer.MAX_VALUE);
+      counts[d[c] + 1]++;
+    }
+    for (int x = 0; x <= bits; x++) counts[x + 1] += counts[x];
+    for (int c = 0; c < clusters; c++) {
+      int p = counts[d[c]]++;
+      v.order[p] = c;
+      v.dq[p] = d[c];
+    }
     int done = 0;
     // without a cap from elsewhere, the nearest clusters provide the first k-th distance; with one,
     // the windows under the cap do (a cap may leave fewer than k codes reachable in this block)
     while (maxDist == Integer.MAX_VALUE && done < clusters && top.size() < k) {
       int c = v.order[done];
-      ScanKernel.knn(q, null, codes, w, start[c], start[c + 1], ords, accept, top, maxDist);
+      ScanKernel.knn(v.sel, codes, w, start[c], start[c + 1], ords, accept, top, maxDist);
       done++;
     }
     return done;
   }
 
-  /**
-   * Sorts {@code count} centres of {@code w} words (codes of {@code bits} bits) by their distance to
-   * {@code q}, nearest first, by a counting sort: {@code v.order} gets the centres, {@code v.dq}
-   * their distances.
-   */
-  static void sortCentres(long[] q, long[] centres, int count, int w, int bits, Visit v) {
-    v.ensure(count, bits);
-    int[] counts = v.counts;
-    Arrays.fill(counts, 0, bits + 2, 0);
-    int[] d = v.lo; // scratch for the distances before sorting
-    for (int c = 0; c < count; c++) {
-      d[c] = Hamming.distance(q, 0, centres, c * w, w);
-      counts[d[c] + 1]++;
+  /** Whether the mask covers each segment it touches whole. */
+  private boolean coversWhole(long[] mask) {
+    for (long[] seg : segmentMasks) {
+      boolean touched = false, whole = true;
+      for (int j = 0; j < words; j++) {
+        touched |= (seg[j] & mask[j]) != 0;
+        whole &= (seg[j] & mask[j]) == seg[j];
+      }
+      if (touched && !whole) return false;
     }
-    for (int x = 0; x <= bits; x++) counts[x + 1] += counts[x];
-    for (int c = 0; c < count; c++) {
-      int p = counts[d[c]]++;
-      v.order[p] = c;
-      v.dq[p] = d[c];
-    }
+    return true;
   }
 
   /**
-   * Upper bound of the codes the rest of the query ({@link #finish}) will compare, given the
-   * current k-th distance {@code bound}; also fixes each remaining cluster's window for it.
+   * Estimated cost, in the planner's units, of the rest of the query ({@link #finish}) given the
+   * current k-th distance {@code bound}; also fixes each remaining cluster's window for it. A window
+   * of the stored radii is compared in full ({@code perCode} each); a masked window costs a radius
+   * test per code ({@code perTest}) and a comparison for the share that passes it, estimated from
+   * every {@value #SAMPLE_STRIDE}th code. Stops as soon as the estimate exceeds {@code limit} (the
+   * windows are then not all fixed, and the caller must not {@link #finish}).
    */
-  long estimate(Visit v, int from, int bound) {
+  double estimate(Visit v, int from, int bound, double perCode, double perTest, double limit) {
     bound = Math.min(bound, Character.MAX_VALUE); // no distance exceeds it: keeps dq + bound from overflowing
-    long total = 0;
-    for (int p = from; p < clusters(); p++) {
+    boolean full = v.radii == stored;
+    double total = 0;
+    for (int p = from; p < clusters() && total <= limit; p++) {
       int c = v.order[p], dq = v.dq[p];
-      if (dq - maxRadius[c] > bound) {
+      if (dq - v.radii.maxRadius[c] > bound) {
         v.lo[p] = v.hi[p] = 0;
         continue;
       }
-      int lo = atRadius(c, dq - bound), hi = atRadius(c, dq + bound + 1);
+      // d_M(c,x) <= r(x): codes with r(x) < dq - bound are out under any mask
+      int lo = firstAtLeast(start[c], start[c + 1], dq - bound);
+      int hi = full && v.exact ? firstAtLeast(lo, start[c + 1], dq + bound + 1) : start[c + 1];
       v.lo[p] = lo;
       v.hi[p] = hi;
-      total += hi - lo;
+      total += (hi - lo) * (full ? perCode : perTest);
+    }
+    if (full) return total;
+    char[] rad = v.radii.radius;
+    for (int p = from; p < clusters() && total <= limit; p++) {
+      int passed = 0, sampled = 0, dq = v.dq[p], lo = v.lo[p], hi = v.hi[p];
+      for (int i = lo; i < hi; i += SAMPLE_STRIDE, sampled++) if (passes(rad[i], dq, bound, v.exact)) passed++;
+      if (sampled > 0) total += perCode * passed * (hi - lo) / sampled;
     }
     return total;
   }
 
+  /** Whether a code at cover radius r from its centre can be within bound of a query dq from it. */
+  private static boolean passes(int r, int dq, int bound, boolean exact) {
+    return r >= dq - bound && (!exact || r <= dq + bound);
+  }
+
   /** Scans the remaining clusters' windows (narrowed as the k-th distance drops). */
-  void finish(long[] q, Visit v, int from, IntPredicate accept, TopK top, int maxDist) {
+  void finish(Visit v, int from, IntPredicate accept, TopK top, int maxDist) {
     int w = words;
+    boolean full = v.radii == stored;
+    char[] rad = v.radii.radius;
     for (int p = from; p < clusters(); p++) {
       int lo = v.lo[p], hi = v.hi[p];
       if (lo >= hi) continue;
       int c = v.order[p], dq = v.dq[p], bound = Math.min(Character.MAX_VALUE, Math.min(maxDist, top.bound()));
       if (dq - maxOfMaxRadius > bound) break; // no later cluster can hold a code within the bound
-      if (dq - maxRadius[c] > bound) continue;
-      lo = Math.max(lo, atRadius(c, dq - bound)); // the bound only drops: the window only narrows
-      hi = Math.min(hi, atRadius(c, dq + bound + 1));
-      ScanKernel.knn(q, null, codes, w, lo, hi, ords, accept, top, maxDist);
+      if (dq - v.radii.maxRadius[c] > bound) continue;
+      lo = firstAtLeast(lo, hi, dq - bound);
+      if (full) {
+        if (v.exact) hi = firstAtLeast(lo, hi, dq + bound + 1);
+        ScanKernel.knn(v.sel, codes, w, lo, hi, ords, accept, top, maxDist);
+        continue;
+      }
+      // radius tests without branches, a block at a time: the positions that pass are gathered,
+      // then compared; the block after sees the bound they left
+      int[] pass = v.pass;
+      for (int i = lo; i < hi; ) {
+        int end = Math.min(hi, i + pass.length), m = 0, least = dq - bound, span = v.exact ? 2 * bound : Integer.MAX_VALUE;
+        for (; i < end; i++) {
+          pass[m] = i;
+          m += Integer.compareUnsigned(rad[i] - least, span) <= 0 ? 1 : 0;
+        }
+        for (int j = 0; j < m; j++) {
+          int at = pass[j], d = v.sel.distance(codes, at * w, w, bound);
+          if (d > bound || accept != null && !accept.test(ords[at])) continue;
+          top.offer(ords[at], d);
+          bound = Math.min(bound, top.bound());
+        }
+      }
     }
   }
 
-  /**
-   * The first position of cluster c whose code lies at least {@code r} from the centre (the end of
-   * the cluster if none): one table look-up instead of a binary search, whose dependent reads miss
-   * the cache when many small clusters are visited.
-   */
-  int atRadius(int c, int r) {
-    if (r <= 0) return start[c];
-    if (r > maxRadius[c]) return start[c + 1];
-    return radiusStart[radiusBase[c] + r];
+  /** First position in {@code [from, to)} whose radius is at least {@code r} (to if none). */
+  private int firstAtLeast(int from, int to, int r) {
+    if (r <= 0) return from;
+    int lo = from, hi = to;
+    while (lo < hi) {
+      int mid = (lo + hi) >>> 1;
+      if (radius[mid] < r) lo = mid + 1;
+      else hi = mid;
+    }
+    return lo;
   }
-
 }

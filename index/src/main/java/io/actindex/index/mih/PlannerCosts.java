@@ -7,32 +7,49 @@ import java.util.SplittableRandom;
 
 /**
  * The planner's cost constants in nanoseconds on this machine: a scanned code (per code and per
- * word), a probed bucket (dense and sparse table), a candidate verified by random access, a member
- * of a walked filter, a code of a partition window. Only their ratios matter. {@link #machine()}
+ * word), a probed bucket (dense and sparse table), a candidate verified by random access in a block
+ * of {@value #NEAR_BYTES} bytes and in one of {@value #FAR_BYTES} bytes (far beyond the caches: a
+ * cache and TLB miss each), a member of a walked filter, a code of a partition window. Only their ratios matter. {@link #machine()}
  * measures them once per JVM with short loops (about 50 ms) the first time a searcher is built;
  * every tables payload stores the costs it was built with, and a loaded searcher plans with those.
  */
 record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, double probeSparse, double candidate,
-    double walk, double partitionCode) {
+    double walk, double partitionCode, double candidateFar) {
+
+  /** Block sizes of the two candidate measurements. */
+  static final long NEAR_BYTES = 8L << 20, FAR_BYTES = 64L << 20;
 
   PlannerCosts {
-    for (double x : new double[] {scanPerCode, scanPerWord, probeDense, probeSparse, candidate, walk, partitionCode})
+    for (double x : new double[] {scanPerCode, scanPerWord, probeDense, probeSparse, candidate, walk, partitionCode, candidateFar})
       if (!(x > 0 && x < 1e6)) throw new IllegalArgumentException("planner cost " + x + " is outside (0, 1e6) ns");
   }
 
   /** Fixed values, for tests that check planner choices independent of the machine. */
   static PlannerCosts defaults() {
-    return new PlannerCosts(0.4, 0.3, 20, 50, 30, 3, 1.3);
+    return new PlannerCosts(0.4, 0.3, 20, 50, 30, 3, 1.3, 30);
   }
 
-  static final int COUNT = 7;
+  /** Costs stored in a tables payload of version 2 (no far candidate: it is taken as the near one), and of version 3. */
+  static final int COUNT_V2 = 7, COUNT = 8;
 
   double[] toArray() {
-    return new double[] {scanPerCode, scanPerWord, probeDense, probeSparse, candidate, walk, partitionCode};
+    return new double[] {scanPerCode, scanPerWord, probeDense, probeSparse, candidate, walk, partitionCode, candidateFar};
   }
 
+  /** From {@link #toArray()}, or its first {@link #COUNT_V2} values. */
   static PlannerCosts of(double[] a) {
-    return new PlannerCosts(a[0], a[1], a[2], a[3], a[4], a[5], a[6]);
+    return new PlannerCosts(a[0], a[1], a[2], a[3], a[4], a[5], a[6], a.length > COUNT_V2 ? a[7] : a[4]);
+  }
+
+  /**
+   * Cost of verifying one candidate by random access in a block of {@code bytes}: the near cost up
+   * to {@link #NEAR_BYTES}, the far cost from {@link #FAR_BYTES}, linear in log(bytes) between.
+   */
+  double candidate(long bytes) {
+    if (bytes <= NEAR_BYTES) return candidate;
+    if (bytes >= FAR_BYTES) return Math.max(candidate, candidateFar);
+    double f = Math.log((double) bytes / NEAR_BYTES) / Math.log((double) FAR_BYTES / NEAR_BYTES);
+    return candidate + f * Math.max(0, candidateFar - candidate);
   }
 
   /** Cost of scanning n codes of w words. */
@@ -95,6 +112,7 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
       for (int ord : randomOrds) s += java.util.Arrays.binarySearch(sortedKeys, ord);
       return s;
     }) / randomOrds.length + dense;
+    double far = farCandidate(q);
     double walk = best(() -> {
       TopK top = new TopK(10);
       ScanKernel.knnMembers(q, null, words, 4, onePercent, top, Integer.MAX_VALUE);
@@ -104,7 +122,26 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
     // a partition window is a short scan that starts with two binary searches: a scanned code plus
     // a share of the window's start (windows hold tens to thousands of codes)
     return new PlannerCosts(perCode, perWord, Math.max(0.5, dense), Math.max(1, sparseProbe), Math.max(1, candidate),
-        Math.max(0.5, walk), 1.3 * scan4);
+        Math.max(0.5, walk), 1.3 * scan4, Double.isNaN(far) ? Math.max(1, candidate) : Math.max(1, far));
+  }
+
+  /**
+   * A candidate verified at a random place of a {@link #FAR_BYTES} block of 4-word codes; NaN (the
+   * caller takes the near cost) in a heap of less than 8 times that, which holds no block that large.
+   */
+  private static double farCandidate(long[] q) {
+    if (Runtime.getRuntime().maxMemory() < 8 * FAR_BYTES) return Double.NaN;
+    long[] far = new long[(int) (FAR_BYTES / 8)];
+    for (int i = 0; i < far.length; i += 512) far[i] = i; // touch every page (zeroed memory may not be mapped yet)
+    SplittableRandom rnd = new SplittableRandom(7);
+    int codes = far.length / 4;
+    int[] ords = new int[1 << 14];
+    for (int i = 0; i < ords.length; i++) ords[i] = rnd.nextInt(codes);
+    return best(() -> {
+      int s = 0;
+      for (int ord : ords) s += io.actindex.core.Hamming.distanceBounded(q, 0, far, ord * 4, 4, 256);
+      return s;
+    }) / ords.length;
   }
 
   private interface Loop {

@@ -16,8 +16,8 @@ package io.actindex.index.mih;
  * @param partition also group the codes around centres for cluster pruning ({@link Partition}),
  *     when the block has at least 4,096 codes (any size under strategy PARTITION)
  * @param strategy AUTO lets the planner choose per query; TABLES always probes the tables; SCAN
- *     always scans; PARTITION always uses the cluster partition for k-NN (when it has one and there
- *     is no mask; else the scan)
+ *     always scans; PARTITION always uses the cluster partition for k-NN (when it has one, masked
+ *     or not; else the scan)
  */
 public record SearchPlanOptions(
     int substrings, int maxSubstrings, boolean dropConstantBits, boolean balance, boolean partition, Strategy strategy) {

@@ -3,6 +3,7 @@ package io.actindex.index.mih;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeSearcher;
+import io.actindex.core.Forked;
 import io.actindex.core.ScanSearcher;
 import java.io.DataInput;
 import java.io.DataOutput;
@@ -10,6 +11,7 @@ import java.io.IOException;
 import java.nio.ByteBuffer;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.stream.IntStream;
 
 /**
  * Builds, saves and loads the exact searcher of an immutable {@link CodeBlock}: multi-index hash
@@ -18,11 +20,12 @@ import java.util.List;
  * the plain scan when the tables would not prune. Every path returns exactly what a brute-force
  * scan returns.
  *
- * <h2>Tables payload, version 2</h2>
- * Big-endian ({@link DataOutput}); the codes themselves are not part of it. Version 1 is the same
- * up to the tables, without the planner costs and the partition (read with the fixed default costs).
+ * <h2>Tables payload, version 3</h2>
+ * Big-endian ({@link DataOutput}); the codes in id order are not part of it. Version 1 is the same
+ * up to the tables, without the planner costs and the partition (read with the fixed default costs);
+ * version 2 has no copy of the codes in cluster order (it is gathered from the codes on load).
  * <pre>
- * int    version (2)
+ * int    version (3)
  * int    n (codes), int bits, int layoutHash ({@code CodeLayout.hash()})
  * int    strategy id (0 AUTO, 1 TABLES, 2 SCAN)
  * long[words] constant-bit mask, long[words] constant-bit values
@@ -33,21 +36,25 @@ import java.util.List;
  *   sparse only: int distinct, int[distinct] keys XOR 0x80000000, strictly ascending
  *   int[buckets + 1] offsets (0, non-decreasing, n last; buckets = 2^width or distinct)
  *   int[n] ids (each ordinal once, grouped by key)
- * double[7] planner costs in ns, measured at build ({@link PlannerCosts}: scan per code, scan per
- *        word, dense probe, sparse probe, candidate, walked filter member, partition code)
+ * double[8] planner costs in ns, measured at build ({@link PlannerCosts}: scan per code, scan per
+ *        word, dense probe, sparse probe, candidate, walked filter member, partition code, candidate
+ *        in a block far beyond the caches; version 2 has the first 7)
  * byte   partition: 0 none, 1 follows
  *   int clusters C (1..n), long[C * words] centres (ghost bits zero)
  *   int[C + 1] start (0, non-decreasing, n last)
  *   int[n] ordinals in cluster order (each once; inside a cluster by ascending distance to its centre)
+ *   long[n * words] the codes in that order (version 3): loading is a sequential copy, not a gather
  * </pre>
  * {@link #read} checks every count against the codes with exact arithmetic, every ordinal, that
- * every code sits in the bucket of its own key, and recomputes every partition radius from the codes,
- * so inconsistent tables cannot give wrong answers.
+ * every code sits in the bucket of its own key and that the cluster-order copy equals the codes, and
+ * recomputes every partition radius from the copy, so inconsistent tables cannot give wrong answers.
+ * Without key verification (opening an index) the keys and the copy are taken as written: the
+ * file's CRC (checked by {@code actindex check}) covers them.
  */
 public final class Searchers {
   private Searchers() {}
 
-  private static final int VERSION = 2, VERSION_START = 1;
+  private static final int VERSION = 3, VERSION_START = 1;
   private static final SearchPlanOptions.Strategy[] STRATEGY_IDS = {
     SearchPlanOptions.Strategy.AUTO, SearchPlanOptions.Strategy.TABLES, SearchPlanOptions.Strategy.SCAN,
     SearchPlanOptions.Strategy.PARTITION
@@ -68,21 +75,31 @@ public final class Searchers {
    * indexed codes as queries, each with its true 10th-neighbour distance as the radius to cover.
    */
   public static CodeSearcher build(CodeBlock codes, SearchPlanOptions opts) {
-    Partition partition = !opts.partition() || codes.size() < 2 ? null
-        : opts.strategy() == SearchPlanOptions.Strategy.PARTITION ? Partition.build(codes, 2) : Partition.build(codes);
-    MihSearcher s = build(codes, BitPlan.choose(codes, opts), opts.strategy(), partition);
-    int m = s.tables.length, n = codes.size();
-    if (opts.substrings() == 0 && opts.balance() && m > 1 && n > 1) {
-      double lg = Math.log(n) / Math.log(2), h = stats(s).tables().stream().mapToDouble(SearcherStats.Table::keyEntropy).average().orElse(lg);
-      // fewer tables may not cover every bit (32 bits each at most): then they index the
-      // highest-entropy bits and the rest is checked on the full codes (the cascade)
-      int fewer = Math.max(1, (int) Math.round(m * h / lg));
-      if (h < lg - 1 && fewer < m) {
-        MihSearcher wider = build(codes, BitPlan.choose(codes, opts.withSubstrings(fewer)), opts.strategy(), partition);
-        if (typicalWork(wider) < typicalWork(s)) s = wider;
+    // the partition and the tables do not depend on each other: the partition is built as a forked
+    // task (run by the caller's fork-join pool, or the common pool) while this thread plans and
+    // fills the tables, themselves one task per table
+    Forked<Partition> partition = !opts.partition() || codes.size() < 2 ? null
+        : Forked.start(() -> opts.strategy() == SearchPlanOptions.Strategy.PARTITION ? Partition.build(codes, 2)
+            : Partition.build(codes));
+    try {
+      PlannerCosts cost = PlannerCosts.machine();
+      MihSearcher s = build(codes, BitPlan.choose(codes, opts), opts.strategy(), null, cost);
+      int m = s.tables.length, n = codes.size();
+      if (opts.substrings() == 0 && opts.balance() && m > 1 && n > 1) {
+        double lg = Math.log(n) / Math.log(2), h = stats(s).tables().stream().mapToDouble(SearcherStats.Table::keyEntropy).average().orElse(lg);
+        // fewer tables may not cover every bit (32 bits each at most): then they index the
+        // highest-entropy bits and the rest is checked on the full codes (the cascade)
+        int fewer = Math.max(1, (int) Math.round(m * h / lg));
+        if (h < lg - 1 && fewer < m) {
+          MihSearcher wider = build(codes, BitPlan.choose(codes, opts.withSubstrings(fewer)), opts.strategy(), null, cost);
+          if (typicalWork(wider) < typicalWork(s)) s = wider;
+        }
       }
+      return partition == null ? s : s.withPartition(partition.join());
+    } catch (RuntimeException | Error e) {
+      if (partition != null) partition.quietlyJoin(); // no stray work left running after a failure
+      throw e;
     }
-    return s;
   }
 
   /** Mean estimated table work to find the 10 nearest other codes of 16 evenly spaced indexed codes. */
@@ -99,16 +116,16 @@ public final class Searchers {
     return total / samples;
   }
 
-  private static MihSearcher build(CodeBlock codes, BitPlan plan, SearchPlanOptions.Strategy strategy, Partition partition) {
-    SubstringTable[] tables = new SubstringTable[plan.tables()];
+  private static MihSearcher build(CodeBlock codes, BitPlan plan, SearchPlanOptions.Strategy strategy, Partition partition,
+      PlannerCosts cost) {
     int n = codes.size(), w = codes.wordsPerCode();
     long[] data = codes.words();
-    int[] keyOf = new int[n];
-    for (int t = 0; t < tables.length; t++) {
+    SubstringTable[] tables = IntStream.range(0, plan.tables()).parallel().mapToObj(t -> {
+      int[] keyOf = new int[n];
       for (int ord = 0; ord < n; ord++) keyOf[ord] = plan.key(data, ord * w, t);
-      tables[t] = SubstringTable.build(plan.width(t), keyOf);
-    }
-    return new MihSearcher(codes, plan, tables, strategy, partition, PlannerCosts.machine());
+      return SubstringTable.build(plan.width(t), keyOf);
+    }).toArray(SubstringTable[]::new);
+    return new MihSearcher(codes, plan, tables, strategy, partition, cost);
   }
 
   /** Bit plan, table occupancy and memory of a searcher from {@link #build}; a plain scan has no tables. */
@@ -160,6 +177,7 @@ public final class Searchers {
       for (long x : p.centres) out.writeLong(x);
       writeInts(out, p.start);
       writeInts(out, p.ords);
+      writeLongs(out, p.codes);
     }
   }
 
@@ -227,7 +245,7 @@ public final class Searchers {
     PlannerCosts cost = PlannerCosts.defaults();
     Partition partition = null;
     if (version >= 2) {
-      double[] c = new double[PlannerCosts.COUNT];
+      double[] c = new double[version >= 3 ? PlannerCosts.COUNT : PlannerCosts.COUNT_V2];
       for (int i = 0; i < c.length; i++) c[i] = in.readDouble();
       try {
         cost = PlannerCosts.of(c);
@@ -235,7 +253,7 @@ public final class Searchers {
         throw bad(e.getMessage());
       }
       int kind = in.readUnsignedByte();
-      if (kind == 1) partition = readPartition(in, codes);
+      if (kind == 1) partition = readPartition(in, codes, version >= 3, verifyKeys);
       else if (kind != 0) throw bad("partition kind " + kind + " is unknown");
     }
     BitPlan plan;
@@ -270,7 +288,7 @@ public final class Searchers {
     return new MihSearcher(codes, plan, tables, STRATEGY_IDS[sid], partition, cost);
   }
 
-  private static Partition readPartition(DataInput in, CodeBlock codes) throws IOException {
+  private static Partition readPartition(DataInput in, CodeBlock codes, boolean withCopy, boolean verifyCopy) throws IOException {
     int n = codes.size(), w = codes.wordsPerCode();
     int clusters = in.readInt();
     if (clusters < 1 || clusters > n) throw bad("partition has " + clusters + " clusters for " + n + " codes");
@@ -290,8 +308,17 @@ public final class Searchers {
       if ((seen[ord >>> 6] >>> (ord & 63) & 1) != 0) throw bad("partition names ordinal " + ord + " twice");
       seen[ord >>> 6] |= 1L << (ord & 63);
     }
+    long[] copy = withCopy ? readLongs(in, Math.multiplyExact(n, w)) : null;
+    if (copy != null) {
+      long[] data = codes.words();
+      for (int i = 0; i < n; i++) {
+        if ((copy[i * w + w - 1] & ghost) != 0) throw bad("partition copy of ordinal " + ords[i] + " has bits past the code width");
+        if (verifyCopy && !java.util.Arrays.equals(copy, i * w, i * w + w, data, ords[i] * w, ords[i] * w + w))
+          throw bad("partition copy of ordinal " + ords[i] + " differs from the codes");
+      }
+    }
     try {
-      return new Partition(codes, centres, start, ords);
+      return new Partition(codes, centres, start, ords, copy);
     } catch (IllegalArgumentException e) {
       throw bad("partition " + e.getMessage());
     }
@@ -320,6 +347,29 @@ public final class Searchers {
       buf.asIntBuffer().put(a, from, len);
       out.write(buf.array(), 0, 4 * len);
     }
+  }
+
+  private static void writeLongs(DataOutput out, long[] a) throws IOException {
+    ByteBuffer buf = ByteBuffer.allocate(8 * Math.min(CHUNK, Math.max(1, a.length)));
+    for (int from = 0; from < a.length; from += CHUNK) {
+      int len = Math.min(CHUNK, a.length - from);
+      buf.clear();
+      buf.asLongBuffer().put(a, from, len);
+      out.write(buf.array(), 0, 8 * len);
+    }
+  }
+
+  private static long[] readLongs(DataInput in, int count) throws IOException {
+    long[] a = new long[count];
+    byte[] bytes = new byte[8 * Math.min(CHUNK, Math.max(1, count))];
+    ByteBuffer buf = ByteBuffer.wrap(bytes);
+    for (int from = 0; from < count; from += CHUNK) {
+      int len = Math.min(CHUNK, count - from);
+      in.readFully(bytes, 0, 8 * len);
+      buf.clear();
+      buf.asLongBuffer().get(a, from, len);
+    }
+    return a;
   }
 
   private static int[] readInts(DataInput in, int count) throws IOException {

@@ -39,22 +39,48 @@ final class SubstringTable {
         return new SubstringTable(width, null, offsets, ids);
       }
     }
-    long[] packed = new long[n];
-    for (int ord = 0; ord < n; ord++) packed[ord] = ((long) (keyOf[ord] ^ FLIP) << 32) | ord;
-    Arrays.sort(packed);
+    // sparse: ordinals sorted by unsigned key with a stable radix sort (16 bits per pass, low half
+    // first), so that each bucket keeps its ordinals ascending
+    int[] ids = new int[n], sorted = keyOf;
+    if (width > 16) {
+      int[] lowIds = new int[n], lowKeys = new int[n];
+      radixPass(keyOf, null, 0, lowKeys, lowIds);
+      radixPass(lowKeys, lowIds, 16, null, ids);
+      sorted = lowKeys;
+      for (int i = 0; i < n; i++) sorted[i] = keyOf[ids[i]];
+    } else {
+      radixPass(keyOf, null, 0, null, ids);
+      int[] k = new int[n];
+      for (int i = 0; i < n; i++) k[i] = keyOf[ids[i]];
+      sorted = k;
+    }
     int distinct = 0;
-    for (int i = 0; i < n; i++) if (i == 0 || (packed[i] >>> 32) != (packed[i - 1] >>> 32)) distinct++;
-    int[] keys = new int[distinct], offsets = new int[distinct + 1], ids = new int[n];
+    for (int i = 0; i < n; i++) if (i == 0 || sorted[i] != sorted[i - 1]) distinct++;
+    int[] keys = new int[distinct], offsets = new int[distinct + 1];
     int b = -1;
-    for (int i = 0; i < n; i++) {
-      if (i == 0 || (packed[i] >>> 32) != (packed[i - 1] >>> 32)) {
-        keys[++b] = (int) (packed[i] >>> 32);
+    for (int i = 0; i < n; i++)
+      if (i == 0 || sorted[i] != sorted[i - 1]) {
+        keys[++b] = sorted[i] ^ FLIP;
         offsets[b] = i;
       }
-      ids[i] = (int) packed[i];
-    }
     offsets[distinct] = n;
     return new SubstringTable(width, keys, offsets, ids);
+  }
+
+  /**
+   * One stable counting-sort pass on the 16 bits of {@code keys} at {@code shift}: position i of the
+   * input holds key {@code keys[i]} and ordinal {@code ids[i]} ({@code i} itself when ids is null);
+   * writes the reordered keys (when {@code outKeys} is not null) and ordinals.
+   */
+  private static void radixPass(int[] keys, int[] ids, int shift, int[] outKeys, int[] outIds) {
+    int[] start = new int[(1 << 16) + 1];
+    for (int key : keys) start[((key >>> shift) & 0xffff) + 1]++;
+    for (int d = 0; d < 1 << 16; d++) start[d + 1] += start[d];
+    for (int i = 0; i < keys.length; i++) {
+      int p = start[(keys[i] >>> shift) & 0xffff]++;
+      outIds[p] = ids == null ? i : ids[i];
+      if (outKeys != null) outKeys[p] = keys[i];
+    }
   }
 
   /** The bucket holding {@code key}, or -1 if none. */

@@ -3,6 +3,8 @@ package io.actindex.index.store;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.core.DiskFull;
+import io.actindex.index.mih.SearchPlanOptions;
 import io.actindex.index.meta.MetaWriter;
 import java.io.IOException;
 import java.io.UncheckedIOException;
@@ -24,7 +26,8 @@ import org.roaringbitmap.RoaringBitmap;
  * mutating call commits before it returns: new files are written and fsynced, the metadata store
  * (Lucene) commits, then a new manifest generation is renamed into place. Refused input
  * ({@link BadInputException}) changes nothing and the writer stays usable; any other failure leaves
- * the last committed generation on disk and closes the writer.
+ * the last committed generation on disk and closes the writer. A full disk ({@link DiskFull}) is
+ * such a failure, reported as a {@link BadInputException} naming the folder.
  *
  * <p>Folder: {@code manifest-N}, {@code seg-S.codes}, {@code seg-S.tables}, {@code tomb-N.bits},
  * {@code att-N.bin}, {@code writer.lock} and the Lucene store in {@code meta/}. Not thread-safe.
@@ -37,6 +40,7 @@ public final class IndexWriter implements AutoCloseable {
   private final Path dir;
   private final StoreIo io;
   private MergePolicy policy = MergePolicy.defaults();
+  private SearchPlanOptions searchPlan = SearchPlanOptions.defaults();
   private final List<String> warnings = new ArrayList<>();
   private WriteLock lock;
   private MetaWriter meta;
@@ -85,8 +89,10 @@ public final class IndexWriter implements AutoCloseable {
         lock.close();
         throw e;
       }
-    } catch (IOException e) {
-      throw new UncheckedIOException("cannot create index in " + dir, e);
+    } catch (IOException | RuntimeException e) {
+      if (DiskFull.in(e)) throw DiskFull.refusal("index " + dir, "the index was not created", e);
+      if (e instanceof IOException io2) throw new UncheckedIOException("cannot create index in " + dir, io2);
+      throw (RuntimeException) e;
     }
   }
 
@@ -125,6 +131,16 @@ public final class IndexWriter implements AutoCloseable {
   /** Replaces the merge policy (segment size cap and merge factor). */
   public IndexWriter mergePolicy(MergePolicy p) {
     this.policy = java.util.Objects.requireNonNull(p);
+    return this;
+  }
+
+  /**
+   * Replaces the plan of the search structures built for new segments (adds, merges, compaction);
+   * default {@link SearchPlanOptions#defaults()}. Every plan answers exactly; tests of very large
+   * segments use a cheap one.
+   */
+  public IndexWriter searchPlan(SearchPlanOptions p) {
+    this.searchPlan = java.util.Objects.requireNonNull(p);
     return this;
   }
 
@@ -193,7 +209,7 @@ public final class IndexWriter implements AutoCloseable {
         int[] ids = new int[len];
         for (int i = 0; i < len; i++) ids[i] = first + at + i;
         CodeBlock piece = at == 0 && len == n ? codes : codes.slice(at, at + len);
-        segs.add(Segment.write(io, dir, manifest.uuid(), segId, piece, ids));
+        segs.add(Segment.write(io, dir, manifest.uuid(), segId, piece, ids, searchPlan));
         if (magnitudes != null)
           mags.put(segId, Magnitudes.write(io, dir, manifest.uuid(), manifest.layout().hash(), segId,
               len == n ? magnitudes : rows(magnitudes, at, len)));
@@ -334,7 +350,7 @@ public final class IndexWriter implements AutoCloseable {
         }
         so++;
       }
-      out.add(Segment.write(io, dir, m.uuid(), segId, new CodeBlock(m.layout(), len, words), ids));
+      out.add(Segment.write(io, dir, m.uuid(), segId, new CodeBlock(m.layout(), len, words), ids, searchPlan));
       if (kept != null)
         mags.put(segId, Magnitudes.write(io, dir, m.uuid(), m.layout().hash(), segId,
             len == total ? kept : rows(kept, at, len)));
@@ -400,25 +416,52 @@ public final class IndexWriter implements AutoCloseable {
     try {
       m.run();
     } catch (IOException e) {
-      fail(e);
+      boolean undone = fail(e);
+      if (DiskFull.in(e)) throw diskFull(e, undone);
       throw new UncheckedIOException("index " + dir + ": write failed; the last commit stands", e);
     } catch (RuntimeException | Error e) {
-      fail(e);
+      boolean undone = fail(e);
+      if (DiskFull.in(e)) throw diskFull(e, undone);
       throw e;
     }
   }
 
-  private void fail(Throwable cause) {
+  /** A full disk (exit code 2, naming the folder), saying whether the change was undone or had been published. */
+  private BadInputException diskFull(Throwable e, boolean undone) {
+    return DiskFull.refusal("index " + dir, undone ? "the change was not made, the index is as it was"
+        : "the change was published before the failure (the index holds it)", e);
+  }
+
+  /** Undoes a failed change where its manifest is not on disk; true when undone (the last commit stands). */
+  private boolean fail(Throwable cause) {
+    boolean undone = false;
     try {
-      if (newestOnDisk() == manifest.generation()) deleteUnreferenced();
+      undone = newestOnDisk() == manifest.generation();
+      if (undone) deleteUnreferenced();
     } catch (IOException | RuntimeException e) {
       cause.addSuppressed(e);
+    }
+    try {
+      MetaWriter m = meta;
+      meta = null;
+      if (m != null) m.close();
+    } catch (IOException | RuntimeException e) {
+      cause.addSuppressed(e);
+    }
+    if (undone) { // Lucene's files of the failed change (a commit no manifest names, a half-written flush), under our lock
+      try {
+        Path metaDir = dir.resolve(META_DIR);
+        MetaWriter.dropUnpublished(metaDir, io.lucene(metaDir), manifest.metaCommit());
+      } catch (IOException | RuntimeException e) {
+        cause.addSuppressed(e);
+      }
     }
     try {
       close();
     } catch (RuntimeException e) {
       cause.addSuppressed(e);
     }
+    return undone;
   }
 
   private long newestOnDisk() {
@@ -469,7 +512,7 @@ public final class IndexWriter implements AutoCloseable {
     if (lock == null) return;
     try {
       try {
-        meta.close();
+        if (meta != null) meta.close();
       } finally {
         lock.close();
       }

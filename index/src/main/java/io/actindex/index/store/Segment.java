@@ -5,6 +5,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.CodeSearcher;
 import io.actindex.core.ScanSearcher;
+import io.actindex.index.mih.SearchPlanOptions;
 import io.actindex.index.mih.SearcherStats;
 import io.actindex.index.mih.Searchers;
 import java.io.DataInputStream;
@@ -69,16 +70,16 @@ public final class Segment {
   }
 
   /** The searcher for a new segment (the one place that picks the implementation). */
-  static CodeSearcher buildSearcher(CodeBlock codes) {
-    return Searchers.build(codes);
+  static CodeSearcher buildSearcher(CodeBlock codes, SearchPlanOptions plan) {
+    return Searchers.build(codes, plan);
   }
 
   /**
    * Writes the two files of a new segment and returns its manifest entry. {@code ids} holds the
    * ascending global ids of the codes (may be contiguous; then it is stored as a range).
    */
-  static Manifest.SegmentEntry write(StoreIo io, Path dir, UUID uuid, int segmentId, CodeBlock codes, int[] ids)
-      throws IOException {
+  static Manifest.SegmentEntry write(StoreIo io, Path dir, UUID uuid, int segmentId, CodeBlock codes, int[] ids,
+      SearchPlanOptions plan) throws IOException {
     CodeLayout layout = codes.layout();
     int n = codes.size();
     if (ids.length != n) throw new IllegalArgumentException(ids.length + " ids for " + n + " codes");
@@ -100,7 +101,7 @@ public final class Segment {
       writeLongs(out, codes.words());
       codesRef = out.finish();
     }
-    CodeSearcher searcher = buildSearcher(codes);
+    CodeSearcher searcher = buildSearcher(codes, plan);
     FileRef tablesRef;
     try (ChecksummedFile.Out out = ChecksummedFile.create(io, dir.resolve(tablesName(segmentId)), TABLES_CODEC,
         VERSION_CURRENT, layout.hash(), uuid)) {

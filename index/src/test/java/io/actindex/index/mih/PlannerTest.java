@@ -29,6 +29,30 @@ class PlannerTest {
     }
   }
 
+  /**
+   * Masked far queries: the tables lie inside the layers (consecutive bits), so they take part,
+   * but cannot prune; they give up within the masked budget (a tenth of a scan, as the planner
+   * estimates work), so a masked query that falls back costs at most about 1.1 scans. Twice the
+   * budget is allowed here: a shell's real work may exceed its estimate.
+   */
+  @Test
+  void maskedFarQueriesGiveUpTheTablesWithinATenthOfAScan() {
+    long seed = Randoms.seed(3);
+    CodeBlock flat = SyntheticCodes.uniform(50_000, 256, seed);
+    CodeBlock codes = new CodeBlock(io.actindex.core.CodeLayout.parse("a:128,b:128"), flat.size(), flat.words());
+    CodeBlock far = SyntheticCodes.uniform(10, 256, seed + 1);
+    MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults().plain().withPartition(false));
+    long[] mask = codes.layout().mask(1);
+    for (int i = 0; i < far.size(); i++) {
+      long[] q = far.code(i);
+      assertEquals(BruteForce.knn(codes, q, 10, null, mask), s.knn(q, 10, null, mask), Randoms.describe(seed));
+      String why = Randoms.describe(seed) + " query " + i;
+      assertEquals(1, s.lastQueryWork()[2], why + " should scan");
+      assertTrue(s.lastQueryWork()[0] > 0, why + ": no table inside the mask was probed");
+      assertTrue(s.lastTableWorkShare() <= 0.2, why + " spent " + s.lastTableWorkShare() + " of a scan in the tables");
+    }
+  }
+
   @Test
   void farQueriesOnUniformCodesFallBackToTheScan() {
     long seed = Randoms.seed(2);

@@ -18,7 +18,7 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * Disk-full and clean-up failures, injected through {@link StoreIo}: a failed add leaves no partial
+ * Write, disk-full and clean-up failures, injected through {@link StoreIo}: a failed add leaves no partial
  * segment file and the last commit readable; a clean-up that fails after the manifest is published
  * is a warning, the commit stands, and the rows are there once.
  */
@@ -30,7 +30,7 @@ class WriteFailureTest {
     return new StoreIo.Forwarding(StoreIo.REAL) {
       @Override
       public FileChannel create(Path file) throws IOException {
-        if (failCreate.test(file)) throw new IOException("No space left on device (injected)");
+        if (failCreate.test(file)) throw new IOException("Input/output error (injected)"); // EIO: an internal error (a full disk is a refusal, below)
         return super.create(file);
       }
 
@@ -69,6 +69,153 @@ class WriteFailureTest {
     }
     try (IndexWriter again = IndexWriter.open(dir)) {
       assertEquals(20, again.add(codes.slice(20, 40), null)); // a retry adds them once
+    }
+  }
+
+  /** SHA-256 of every file under {@code dir}, by relative path (the Lucene folder included). */
+  static Map<String, String> checksums(Path dir) throws IOException {
+    Map<String, String> out = new java.util.TreeMap<>();
+    try (var walk = Files.walk(dir)) {
+      for (Path p : walk.filter(Files::isRegularFile).toList()) {
+        try {
+          out.put(dir.relativize(p).toString(),
+              java.util.HexFormat.of().formatHex(java.security.MessageDigest.getInstance("SHA-256").digest(Files.readAllBytes(p))));
+        } catch (java.security.NoSuchAlgorithmException e) {
+          throw new AssertionError(e);
+        }
+      }
+    }
+    return out;
+  }
+
+  /** A new index in {@code dir} holding the first 30 codes with metadata rows (a Lucene commit). */
+  static void indexOf30(Path dir, CodeBlock codes) {
+    try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
+      w.add(codes.slice(0, 30), rows(0, 30));
+    }
+  }
+
+  /** Metadata rows with a key and a label, so that each add also commits Lucene. */
+  static List<Map<String, String>> rows(int from, int n) {
+    return java.util.stream.IntStream.range(from, from + n).mapToObj(i -> Map.of("key", "k" + i, "label", "l" + (i % 3))).toList();
+  }
+
+  /**
+   * A full disk (the JDK's own ENOSPC exception, {@link io.actindex.core.NoSpace}) while an add, a
+   * delete, an attachment or a compaction writes its files: refused as bad input naming the folder
+   * and "no space left", every file of the index byte-identical afterwards, and the retry works.
+   */
+  @Test
+  void diskFullIsRefusedNamingTheFolderAndLeavesTheIndexAsItWas() throws IOException {
+    Path dir = tmp.resolve("idx");
+    CodeBlock codes = SyntheticCodes.uniform(90, 64, 5);
+    indexOf30(dir, codes);
+    try (IndexWriter w = IndexWriter.open(dir)) {
+      w.delete(org.roaringbitmap.RoaringBitmap.bitmapOf(3, 4));
+    }
+    Map<String, String> before = checksums(dir);
+    List<String> kinds = List.of(".codes", ".tables", ".bits", ".bin");
+    for (String kind : kinds) {
+      StoreIo full = new StoreIo.Forwarding(StoreIo.REAL) {
+        @Override
+        public FileChannel create(Path file) throws IOException {
+          if (file.getFileName().toString().endsWith(kind)) throw io.actindex.core.NoSpace.exception();
+          return super.create(file);
+        }
+      };
+      IndexWriter w = IndexWriter.open(dir, full);
+      Runnable change = switch (kind) {
+        case ".codes", ".tables" -> () -> w.add(codes.slice(30, 60), rows(30, 30));
+        case ".bits" -> () -> w.delete(org.roaringbitmap.RoaringBitmap.bitmapOf(5, 6, 7));
+        default -> () -> w.putAttachment("note", new byte[] {1, 2, 3});
+      };
+      io.actindex.core.BadInputException e = assertThrows(io.actindex.core.BadInputException.class, change::run, kind);
+      assertTrue(e.getMessage().startsWith("index " + dir + ": no space left on device ("), e.getMessage());
+      assertTrue(e.getMessage().contains("the change was not made, the index is as it was"), e.getMessage());
+      assertEquals(before, checksums(dir), "index unchanged after a full disk at " + kind);
+      w.close();
+    }
+    try (IndexWriter w = IndexWriter.open(dir)) {
+      assertEquals(30, w.add(codes.slice(30, 60), rows(30, 30)));
+    }
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertEquals(58, r.liveCount());
+    }
+  }
+
+  /**
+   * Lucene's files of a change that failed after or during its Lucene commit (the manifest's rename
+   * fails; Lucene's k-th output cannot be created on a full disk) are removed at once, and those a
+   * crash left (a Lucene commit no manifest names) by the next writer's open; the published commit
+   * stays, so every byte of the index equals what it was before the change.
+   */
+  @Test
+  void luceneFilesOfAFailedOrCrashedChangeAreRemovedAndThePublishedCommitKept() throws IOException {
+    Path dir = tmp.resolve("idx");
+    CodeBlock codes = SyntheticCodes.uniform(90, 64, 6);
+    indexOf30(dir, codes);
+    Map<String, String> before = checksums(dir);
+    // the manifest cannot be renamed into place: Lucene has committed the new documents
+    StoreIo noRename = new StoreIo.Forwarding(StoreIo.REAL) {
+      @Override
+      public void move(Path from, Path to) throws IOException {
+        throw new IOException("Input/output error (injected)");
+      }
+    };
+    IndexWriter w1 = IndexWriter.open(dir, noRename);
+    assertThrows(UncheckedIOException.class, () -> w1.add(codes.slice(30, 60), rows(30, 30)));
+    assertEquals(before, checksums(dir), "after a failed manifest rename");
+    // Lucene's k-th new file cannot be created (a full disk): every k up to a change that fits
+    int failures = 0;
+    for (int k = 0; ; k++) {
+      int failAt = k;
+      int[] outputs = {0};
+      StoreIo luceneFull = new StoreIo.Forwarding(StoreIo.REAL) {
+        @Override
+        public org.apache.lucene.store.Directory lucene(Path d) throws IOException {
+          return new org.apache.lucene.store.FilterDirectory(super.lucene(d)) {
+            @Override
+            public org.apache.lucene.store.IndexOutput createOutput(String name, org.apache.lucene.store.IOContext context) throws IOException {
+              if (outputs[0]++ == failAt) throw io.actindex.core.NoSpace.exception();
+              return super.createOutput(name, context);
+            }
+          };
+        }
+      };
+      IndexWriter w = IndexWriter.open(dir, luceneFull);
+      try {
+        w.add(codes.slice(30, 60), rows(30, 30));
+        w.close();
+        break;
+      } catch (io.actindex.core.BadInputException e) {
+        failures++;
+        assertTrue(e.getMessage().contains("no space left on device"), e.getMessage());
+        assertEquals(before, checksums(dir), "after Lucene's output " + k + " failed");
+      }
+    }
+    assertTrue(failures > 3, failures + " Lucene outputs");
+    // a crash between the Lucene commit and the manifest: a later Lucene commit stays on disk...
+    Path crashed = tmp.resolve("crashed");
+    indexOf30(crashed, codes);
+    Map<String, String> published = checksums(crashed);
+    Manifest m = Manifest.read(crashed, Manifest.newestGeneration(crashed));
+    try (io.actindex.index.meta.MetaWriter meta = io.actindex.index.meta.MetaWriter.open(crashed.resolve("meta"), m.metaCommit())) {
+      meta.add(meta.prepare(30, 30, rows(30, 30)));
+      meta.commit(); // and then the process dies: no manifest names this commit
+    }
+    assertTrue(!checksums(crashed).equals(published), "the unpublished commit is on disk");
+    try (IndexReader r = IndexReader.open(crashed)) {
+      assertEquals(30, r.liveCount()); // readers see the published commit
+    }
+    // ...until the next writer opens: it drops the unpublished commit and nothing else
+    IndexWriter.open(crashed).close();
+    assertEquals(published, checksums(crashed), "the next writer removed the crash's Lucene commit");
+    try (IndexWriter w = IndexWriter.open(crashed)) {
+      assertEquals(30, w.add(codes.slice(30, 60), rows(30, 30)));
+    }
+    try (IndexReader r = IndexReader.open(crashed)) {
+      assertEquals(60, r.liveCount());
+      assertEquals("k45", r.meta().document(45).get("key"));
     }
   }
 

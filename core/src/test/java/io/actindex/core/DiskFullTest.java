@@ -1,0 +1,75 @@
+package io.actindex.core;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.FileSystemException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.nio.file.attribute.PosixFilePermissions;
+import org.junit.jupiter.api.Assumptions;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * The full-disk refusal: recognised by the operating system's text the JDK carries (taken from a
+ * real write to Linux's {@code /dev/full}, which fails every write with ENOSPC, where it exists),
+ * wrapped or suppressed, and turned into one line naming the file; {@link OutputFiles} leaves no
+ * temporary file and an existing target unchanged.
+ */
+class DiskFullTest {
+  @TempDir Path tmp;
+
+  static IOException realEnospc() {
+    Assumptions.assumeTrue(Files.isWritable(Path.of("/dev/full")), "no /dev/full on this system");
+    return NoSpace.exception();
+  }
+
+  @Test
+  void recognisesTheSystemsTextWrappedOrSuppressed() {
+    IOException e = realEnospc();
+    assertThat(e.getMessage()).containsIgnoringCase("no space left on device");
+    assertThat(DiskFull.in(e)).isTrue();
+    assertThat(DiskFull.in(new UncheckedIOException("cannot write x", e))).isTrue();
+    RuntimeException outer = new IllegalStateException("closing");
+    outer.addSuppressed(e);
+    assertThat(DiskFull.in(outer)).isTrue();
+    assertThat(DiskFull.in(new FileSystemException("a.bin", null, "Disk quota exceeded"))).isTrue();
+    assertThat(DiskFull.in(new IOException("There is not enough space on the disk"))).isTrue(); // Windows' text
+    assertThat(DiskFull.in(new IOException("Permission denied"))).isFalse();
+    assertThat(DiskFull.in(new IllegalStateException("No space left on device"))).as("only I/O errors").isFalse();
+    assertThat(DiskFull.in(null)).isFalse();
+  }
+
+  @Test
+  void refusalNamesThePlaceOnOneLine() {
+    BadInputException r = DiskFull.refusal("out/page.html", "it was not written", new UncheckedIOException(realEnospc()));
+    assertThat(r.getMessage()).isEqualTo("out/page.html: no space left on device (No space left on device); it was not written; "
+        + "free some space and run again");
+    assertThat(r.getCause()).isInstanceOf(UncheckedIOException.class);
+  }
+
+  /** The refusals before writing, the replacement, no temporary file left, and the umask's mode (not 0600). */
+  @Test
+  void outputFilesReplaceWholeFilesWithTheUmasksMode() throws IOException {
+    Path target = Files.writeString(tmp.resolve("page.html"), "old");
+    Path folder = Files.createDirectory(tmp.resolve("sub"));
+    assertThatThrownBy(() -> OutputFiles.write(folder, new byte[] {1}, "--html")).isInstanceOf(BadInputException.class)
+        .hasMessage(folder + ": is a folder; --html names a file");
+    Path nowhere = tmp.resolve("missing").resolve("p.html");
+    assertThatThrownBy(() -> OutputFiles.write(nowhere, new byte[] {1}, "--html")).isInstanceOf(BadInputException.class)
+        .hasMessage(nowhere + ": its folder does not exist (--html)");
+    OutputFiles.write(target, "new".getBytes(), "--html");
+    assertThat(Files.readString(target)).isEqualTo("new");
+    try (var s = Files.list(tmp)) {
+      assertThat(s.map(p -> p.getFileName().toString())).containsExactlyInAnyOrder("page.html", "sub");
+    }
+    if (Files.getFileStore(tmp).supportsFileAttributeView("posix")) {
+      Path plain = Files.createFile(tmp.resolve("plain"));
+      assertThat(PosixFilePermissions.toString(Files.getPosixFilePermissions(target)))
+          .isEqualTo(PosixFilePermissions.toString(Files.getPosixFilePermissions(plain)));
+    }
+  }
+}

@@ -1,0 +1,101 @@
+package io.actindex.index.mih;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import io.actindex.core.BruteForce;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Hits;
+import io.actindex.core.LayerMasks;
+import io.actindex.core.Randoms;
+import io.actindex.core.SyntheticCodes;
+import java.util.SplittableRandom;
+import java.util.function.IntPredicate;
+import org.junit.jupiter.api.Tag;
+import org.junit.jupiter.api.Test;
+
+/**
+ * Masked k-NN through the index ({@link MihSearcher}: the partition with per-cover radii, the
+ * tables, the scan, and the planner between them; the partition forced or chosen) against {@link BruteForce}: uniform, skewed
+ * ReLU-like and dense ReLU codes of 64 to 1,024 bits and odd widths (100, 300, 700), cut into 1 to 5
+ * layers at word boundaries or not; masks of one layer, several, every layer, whole words, any bits,
+ * and layers plus stray bits; filters, distance caps, k from 1 to beyond n. Which path answered is
+ * checked by the work counters, never the speed.
+ */
+class MaskedSearchTest {
+  private static final int[] BITS = {64, 100, 128, 256, 300, 512, 700, 1024};
+
+  @Test
+  void maskedSearchEqualsBruteForce() {
+    int byPartition = 0;
+    for (int rep = 0; rep < 30; rep++) byPartition += check(rep, 500 + new SplittableRandom(Randoms.seed(rep)).nextInt(1500), 10);
+    assertTrue(byPartition > 0, "the partition never answered a masked query");
+  }
+
+  @Test
+  @Tag("slow")
+  void maskedSearchEqualsBruteForceManySeeds() {
+    int byPartition = 0;
+    for (int rep = 200; rep < 260; rep++) byPartition += check(rep, 4096 + new SplittableRandom(Randoms.seed(rep)).nextInt(5000), 8);
+    assertTrue(byPartition > 0, "the partition never answered a masked query");
+  }
+
+  /** Returns how many masked queries the partition answered. */
+  private int check(int rep, int n, int queries) {
+    long seed = Randoms.seed(rep);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    int bits = BITS[rnd.nextInt(BITS.length)];
+    CodeBlock codes = LayerMasks.cut(PartitionTest.codes(rep, n, bits, seed), rnd);
+    SearchPlanOptions.Strategy strategy = rep % 2 == 0 ? SearchPlanOptions.Strategy.PARTITION : SearchPlanOptions.Strategy.AUTO;
+    // consecutive-bit tables (plain) lie inside layers, so masked queries can use them too; the
+    // entropy-balanced plan (slow to choose for wide codes) mixes the layers
+    boolean plain = bits > 256 || rep % 4 < 2;
+    SearchPlanOptions opts = SearchPlanOptions.defaults().withStrategy(strategy);
+    MihSearcher s = (MihSearcher) Searchers.build(codes, plain ? opts.plain() : opts);
+    String why = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " layout=" + codes.layout() + " strategy=" + strategy + " plain=" + plain;
+    int byPartition = 0;
+    for (int i = 0; i < queries; i++) {
+      long[] q = MihExactnessTest.query(codes, rnd);
+      long[] mask = LayerMasks.mask(codes.layout(), rnd);
+      IntPredicate accept = PartitionTest.filter(rnd, n);
+      int k = switch (rnd.nextInt(4)) {
+        case 0 -> 1;
+        case 1 -> 10;
+        case 2 -> 100;
+        default -> 1 + rnd.nextInt(n + 10);
+      };
+      int maxDist = rnd.nextInt(4) == 0 ? rnd.nextInt(bits / 3 + 1) : Integer.MAX_VALUE;
+      String what = why + " query " + i + " " + LayerMasks.describe(mask) + " k=" + k + " maxDist=" + maxDist + " filter=" + accept;
+      // the same mask twice: the second query finds the cover's radii already built
+      Hits expected = BruteForce.knnWithin(codes, q, k, accept, mask, maxDist);
+      for (int twice = 0; twice < 2; twice++) assertEquals(expected, s.knn(q, k, accept, mask, maxDist), what);
+      if (s.lastQueryWork()[3] == MihSearcher.PATH_PARTITION) byPartition++;
+      int r = rnd.nextInt(bits / 4 + 1);
+      assertEquals(BruteForce.radius(codes, q, r, accept, mask), s.radius(q, r, accept, mask), what + " r=" + r);
+    }
+    return byPartition;
+  }
+
+  /**
+   * Dense ReLU codes of two 128-bit layers: 10-NN over either layer is answered by the partition
+   * for most in-distribution queries (the planner found it cheaper than the masked scan).
+   */
+  @Test
+  void plannerAnswersLayerMasksByThePartitionOnDenseCodes() {
+    long seed = Randoms.seed(17);
+    SyntheticCodes.ReluNet net = SyntheticCodes.ReluNet.dense(32, 128, 128, 20, seed);
+    CodeBlock codes = net.sample(30_000, 0, seed + 1).codes();
+    CodeBlock queries = net.sample(20, 0, seed + 2).codes();
+    MihSearcher s = (MihSearcher) Searchers.build(codes);
+    for (int layer = 0; layer < 2; layer++) {
+      long[] mask = codes.layout().mask(layer);
+      int byPartition = 0;
+      for (int i = 0; i < queries.size(); i++) {
+        long[] q = queries.code(i);
+        assertEquals(BruteForce.knn(codes, q, 10, null, mask), s.knn(q, 10, null, mask), Randoms.describe(seed) + " layer " + layer);
+        if (s.lastQueryWork()[3] == MihSearcher.PATH_PARTITION) byPartition++;
+      }
+      assertTrue(byPartition >= queries.size() / 2, Randoms.describe(seed) + " layer " + layer + ": partition answered " + byPartition + " of 20");
+    }
+  }
+}
