@@ -6,6 +6,7 @@ import io.actindex.core.IdSet;
 import io.actindex.core.ScanSearcher;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
+import io.actindex.index.store.MergePolicy;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Files;
@@ -42,7 +43,7 @@ import org.roaringbitmap.RoaringBitmap;
  *   <li>{@code filter10}, {@code filter1}, {@code filter0.01}: a filter keeping that percentage of
  *       the ids (seeded random), built once with {@link IndexReader#filter};
  *   <li>{@code tomb1}: one id deleted; {@code deleted1}, {@code deleted30}: 1% and 30% deleted;
- *   <li>{@code segments10}: the same codes added in ten batches (ten segments);
+ *   <li>{@code segments10}: the same codes added in ten batches, kept as ten segments (no merges);
  *   <li>{@code mask}: distance over the second layer only; {@code maskscan}: the plain scan with
  *       that mask (what a masked query cost before the partition served masks).
  * </ul>
@@ -122,12 +123,14 @@ public class RealUseBench {
     String name = "realuse-" + data + "-n" + codes.size() + "-b" + codes.layout().bits() + "-s" + segments
         + (deletions == null ? "" : "-" + deletions);
     Path dir = BenchData.dir().resolve(name), done = dir.resolveSibling(name + ".done");
-    if (Files.exists(done)) return dir;
+    if (Files.exists(done) && segmentCount(dir) == segments) return dir; // older stores may have merged
     try {
       delete(dir);
       int n = codes.size();
       if (deletions == null) {
         try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
+          // a merge factor above the batch count keeps every batch its own segment
+          w.mergePolicy(new MergePolicy(MergePolicy.DEFAULT_MAX_SEGMENT_BYTES, segments + 1, MergePolicy.DEFAULT_FLOOR_CODES));
           for (int b = 0; b < segments; b++) w.add(codes.slice((int) ((long) b * n / segments), (int) ((long) (b + 1) * n / segments)), null);
         }
       } else { // a copy of the clean store, then one delete
@@ -149,6 +152,12 @@ public class RealUseBench {
       return dir;
     } catch (IOException e) {
       throw new UncheckedIOException(e);
+    }
+  }
+
+  private static int segmentCount(Path dir) {
+    try (IndexReader r = IndexReader.open(dir)) {
+      return r.info().segments().size();
     }
   }
 

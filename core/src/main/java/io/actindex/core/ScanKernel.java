@@ -67,6 +67,32 @@ public final class ScanKernel {
   }
 
   /**
+   * {@link #knn} (no mask) over two runs at once: positions {@code [aFrom, aTo)} of {@code a} and
+   * {@code [bFrom, bTo)} of {@code b}, offered as {@code aOrds[i]} and {@code bOrds[i]}. Reading
+   * two runs in step keeps two streams of memory reads in flight, which pays when the runs are
+   * short (a few hundred codes at random places, as the windows of small clusters are); for 4-word
+   * codes it is one loop, for other widths it is the two runs one after the other.
+   */
+  public static void knnPair(long[] q, int w, long[] a, int aFrom, int aTo, int[] aOrds, long[] b, int bFrom, int bTo,
+      int[] bOrds, IntPredicate accept, TopK top, int maxDist) {
+    int both = Math.min(aTo - aFrom, bTo - bFrom);
+    if (w == 4) {
+      long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
+      int bound = Math.min(maxDist, top.bound());
+      for (int t = 0, i = aFrom, j = bFrom, ai = aFrom * 4, bj = bFrom * 4; t < both; t++, i++, j++, ai += 4, bj += 4) {
+        int da = Long.bitCount(a[ai] ^ q0) + Long.bitCount(a[ai + 1] ^ q1) + Long.bitCount(a[ai + 2] ^ q2) + Long.bitCount(a[ai + 3] ^ q3);
+        int db = Long.bitCount(b[bj] ^ q0) + Long.bitCount(b[bj + 1] ^ q1) + Long.bitCount(b[bj + 2] ^ q2) + Long.bitCount(b[bj + 3] ^ q3);
+        if (da <= bound) bound = offer(i, da, aOrds, accept, top, maxDist, bound);
+        if (db <= bound) bound = offer(j, db, bOrds, accept, top, maxDist, bound);
+      }
+    } else {
+      both = 0;
+    }
+    knn(q, null, a, w, aFrom + both, aTo, aOrds, accept, top, maxDist);
+    knn(q, null, b, w, bFrom + both, bTo, bOrds, accept, top, maxDist);
+  }
+
+  /**
    * The words of a code that a mask selects: their indexes {@code at}, the query's words there
    * ({@code q}, masked) and the mask's ({@code m}); {@code whole} when every selected word is
    * covered whole (no mask: all words, whole).

@@ -56,6 +56,7 @@ final class MihSearcher implements CodeSearcher {
   final PlannerCosts cost;
   private final ScanSearcher scan;
   private final double scanCost;
+  private final double[] freshCost; // see freshTablesCost
   private final double candidateCost; // a candidate verified at a random place of these codes
   private final double[] ownRate; // expected codes in the query's own bucket, per table
   private final double[] nearRate; // expected codes per probe of a neighbouring bucket, per table
@@ -80,6 +81,7 @@ final class MihSearcher implements CodeSearcher {
       nearRate[t] = Math.max(0.05, neighbourOccupancy(t));
     }
     this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
+    this.freshCost = freshCosts();
   }
 
   /** This searcher with {@code p} as its partition (the tables' statistics are reused). */
@@ -99,6 +101,7 @@ final class MihSearcher implements CodeSearcher {
     this.candidateCost = s.candidateCost;
     this.ownRate = s.ownRate;
     this.nearRate = s.nearRate;
+    this.freshCost = s.freshCost;
     int n = codes.size();
     this.scratch = ThreadLocal.withInitial(() -> new Scratch(n, tables.length));
   }
@@ -202,14 +205,51 @@ final class MihSearcher implements CodeSearcher {
    * statistics measured at build), for choosing between table layouts.
    */
   double tablesCost(long[] query, int bound) {
-    int[] active = activeTables(null);
-    Scratch s = scratch.get().begin(this, query, active);
-    try {
-      return tablesCost(s, active, bound, plan.constantDistance(query, null));
-    } finally {
-      s.end();
-    }
+    return freshTablesCost(bound, plan.constantDistance(query, null));
   }
+
+  /**
+   * For {@link JointSearch}: whether this block's partition should finish an unmasked query whose
+   * windows hold {@code restCodes} codes under the k-th distance {@code bound}, by the rule of
+   * {@link #knn}: at most most of a scan and no more than the tables would cost to reach the bound
+   * (always with strategy PARTITION).
+   */
+  boolean partitionFinishes(long restCodes, long[] query, int bound) {
+    if (strategy != SearchPlanOptions.Strategy.AUTO) return strategy == SearchPlanOptions.Strategy.PARTITION;
+    double rest = restCodes * cost.partitionCode();
+    return rest <= PROVEN * scanCost && rest <= tablesCost(query, bound);
+  }
+
+  /**
+   * {@link #tablesCost(Scratch, int[], int, int)} of an unmasked query before any probe (so with the
+   * rates measured at build), every table active: it depends only on {@code bound - c}, the
+   * constant-bit distance c, so it is tabulated once per searcher.
+   */
+  private double freshTablesCost(int bound, int c) {
+    if (bound < c) return 0; // no shell: every code is at least c away
+    return freshCost[(int) Math.min(freshCost.length - 1, (long) bound - c + 1)];
+  }
+
+  /** The table behind {@link #freshTablesCost}: entry L + 1 sums the shells of levels {@code x*m + j <= L}. */
+  private double[] freshCosts() {
+    int m = tables.length, maxWidth = 0;
+    for (SubstringTable t : tables) maxWidth = Math.max(maxWidth, t.width);
+    double[] f = new double[(maxWidth + 1) * m + 2];
+    if (m == 0 || strategy == SearchPlanOptions.Strategy.PARTITION) {
+      Arrays.fill(f, Double.POSITIVE_INFINITY);
+      return f;
+    }
+    double total = 0;
+    for (int level = 0; level + 1 < f.length; level++) {
+      int x = level / m, j = level % m; // shell (x, j) counts when x*m + j - 1 + c < bound
+      if (total <= scanCost && x <= tables[j].width)
+        total += (double) Math.min(ProbeEnumerator.count(tables[j].width, x), tables[j].buckets())
+            * ((tables[j].dense() ? cost.probeDense() : cost.probeSparse()) + (x == 0 ? ownRate[j] : nearRate[j]) * candidateCost);
+      f[level + 1] = total;
+    }
+    return f;
+  }
+
 
   /** Estimated cost of probing every shell the tables would need to find all codes within {@code bound}. */
   private double tablesCost(Scratch s, int[] active, int bound, int c) {

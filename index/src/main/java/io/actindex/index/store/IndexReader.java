@@ -3,10 +3,11 @@ package io.actindex.index.store;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.core.CodeSearcher;
 import io.actindex.core.Hits;
 import io.actindex.core.IdSet;
-import io.actindex.core.TopK;
 import io.actindex.index.meta.MetaStore;
+import io.actindex.index.mih.JointSearch;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Files;
@@ -42,6 +43,7 @@ public final class IndexReader implements AutoCloseable {
   private final int liveCount;
   private final IdSet live; // over [0, maxId); null when nothing is deleted
   private final Segment[] bySize; // largest first: the search order that shares the k-th distance
+  private final JointSearch joint; // k-NN over the segments in that order
   private final Map<Segment, IdSet> liveOrdinals; // per segment, counted once; empty when nothing is deleted
   private final List<Magnitudes> magnitudes; // per segment, null entries where none are kept
 
@@ -60,6 +62,13 @@ public final class IndexReader implements AutoCloseable {
     this.live = deleted.isEmpty() ? null : toIdSet(deleted, manifest.nextId(), true);
     this.bySize = this.segments.toArray(new Segment[0]);
     Arrays.sort(bySize, (a, b) -> Integer.compare(b.size(), a.size()));
+    List<CodeSearcher> searchers = new ArrayList<>();
+    List<java.util.function.IntUnaryOperator> idOf = new ArrayList<>();
+    for (Segment s : bySize) {
+      searchers.add(s.searcher());
+      idOf.add(s::id);
+    }
+    this.joint = new JointSearch(manifest.layout(), searchers, idOf);
     this.liveOrdinals = new java.util.IdentityHashMap<>();
     if (live != null)
       for (Segment s : this.segments) {
@@ -283,20 +292,15 @@ public final class IndexReader implements AutoCloseable {
   /**
    * The {@code k} nearest live codes in {@code filter} (null: all; a set over {@code [0, maxId())},
    * e.g. from {@link #filter}), exact, ties by ascending id; {@code mask} (nullable) limits the
-   * distance to its bits. Segments are searched largest first, each capped by the k-th distance
-   * found so far, so later segments prune with the shared bound. An empty filter answers at once.
+   * distance to its bits. The segments' clusters are searched as one ({@link JointSearch}: one
+   * order, one running k-th distance); what is left, largest segment first, each capped by the k-th
+   * distance found so far. An empty filter answers at once.
    */
   public Hits search(long[] query, int k, IdSet filter, long[] mask) {
     checkQuery(query, mask);
     IdSet accept = accepted(filter);
     if (k <= 0 || accept != null && accept.isEmpty()) return Hits.EMPTY;
-    TopK top = new TopK(k);
-    for (Segment s : bySize) {
-      int maxDist = top.size() == k ? top.bound() : Integer.MAX_VALUE;
-      Hits h = s.searcher().knn(query, k, filter == null ? liveOrdinals.get(s) : ordinals(s, accept), mask, maxDist);
-      for (int i = 0; i < h.size(); i++) top.offer(s.id(h.ord(i)), h.dist(i));
-    }
-    return top.toHits();
+    return joint.knn(query, k, accept, b -> filter == null ? liveOrdinals.get(bySize[b]) : ordinals(bySize[b], accept), mask);
   }
 
   /** Every live code in {@code filter} (null: all) at distance {@code <= radius}, sorted by (distance, id). */
