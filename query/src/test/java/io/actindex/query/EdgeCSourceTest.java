@@ -24,6 +24,7 @@ class EdgeCSourceTest {
 
   @Test
   void compiledCSourceAgreesWithTheIndex() throws Exception {
+    int outs = 0, total = 0;
     for (int rep = 0; rep < 2; rep++) {
       long seed = Randoms.seed(rep);
       OodIndexTest.Data d = rep == 0 ? OodIndexTest.relu(seed, 600) : OodIndexTest.uniform(seed, 400);
@@ -45,7 +46,7 @@ class EdgeCSourceTest {
       for (int i = 0; i < q.size(); i++) lines.add(CEdge.codeLine(q.code(i)));
       List<String> out = CEdge.run(exe, lines);
       assertThat(out).hasSize(q.size());
-      int outs = 0;
+      total += q.size();
       for (int i = 0; i < q.size(); i++) {
         String[] f = out.get(i).split(" ");
         OodScore.Result res = o.results().get(i);
@@ -56,8 +57,10 @@ class EdgeCSourceTest {
         assertThat(Double.parseDouble(f[3])).as(what).isEqualTo(res.pValue());
         if (res.out()) outs++;
       }
-      assertThat(outs).as("both decisions occur").isBetween(1, q.size() - 1);
     }
+    // both decisions reach the C scorer (over both data sets: uniform codes score in few discrete
+    // values, so a calibration threshold can hold every one of its 100 queries)
+    assertThat(outs).as("both decisions occur").isBetween(1, total - 1);
   }
 
   @Test
