@@ -109,11 +109,8 @@ public final class RadiusMatcher {
    */
   private static int tableKey(int[] keys, int off, int t, int group, int p) {
     if (group == 1) return keys[off + t];
-    long h = 0x9E3779B97F4A7C15L;
-    for (int j = t * group, end = Math.min(p, j + group); j < end; j++) {
-      h = (h ^ (keys[off + j] & 0xFFFFFFFFL)) * 0xBF58476D1CE4E5B9L;
-      h ^= h >>> 29;
-    }
+    long h = SelfJoin.SEED;
+    for (int j = t * group, end = Math.min(p, j + group); j < end; j++) h = SelfJoin.mix(h, keys[off + j]);
     return (int) (h ^ (h >>> 32));
   }
 

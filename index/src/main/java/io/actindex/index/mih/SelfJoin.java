@@ -216,7 +216,8 @@ public final class SelfJoin {
     return Math.max(0, Math.min(10, 31 - Integer.numberOfLeadingZeros(Math.max(1, n >>> 11))));
   }
 
-  private static final long SEED = 0x9E3779B97F4A7C15L;
+  /** Start and step of the hash that combines 32-bit part keys (also {@link RadiusMatcher}'s wide keys). */
+  static final long SEED = 0x9E3779B97F4A7C15L;
 
   /** A 64-bit hash of the parts in {@code subset} of the part keys at {@code keys[base..base+m)}. */
   private static long keyHash(int[] keys, int base, int m, int subset) {
@@ -226,7 +227,7 @@ public final class SelfJoin {
     return h ^ (h >>> 31);
   }
 
-  private static long mix(long h, int key) {
+  static long mix(long h, int key) {
     h = (h ^ (key & 0xFFFFFFFFL)) * 0xBF58476D1CE4E5B9L;
     return h ^ (h >>> 29);
   }
@@ -242,7 +243,7 @@ public final class SelfJoin {
     final int n, w, partitionBits;
     final long[] hashes, entries, codes;
     final int[] ids, solo, owned, from; // solo: the one ordinal holding the code, or -1
-    int subset, top, others, o, posBits;
+    int top, others, o, posBits;
 
     Table(int n, int w, int maxTop, int partitionBits) {
       this.n = n;
@@ -263,7 +264,6 @@ public final class SelfJoin {
 
     /** Lays out the table of {@code subset}. */
     void fill(int subset, int threads) {
-      this.subset = subset;
       top = 32 - Integer.numberOfLeadingZeros(subset);
       others = (1 << top) - 1 & ~subset;
       o = Integer.bitCount(others);
