@@ -36,6 +36,8 @@ final class MihSearcher implements CodeSearcher {
   private static final double FIRST_ROUND = 0.3;
   /** Work the tables may spend in all once an upper bound shows they finish within it. */
   private static final double PROVEN = 0.9;
+  /** How much cheaper the tables must be estimated than a block's windows to take the block out of a joint walk. */
+  private static final double JOINT_TABLES_MARGIN = 16;
   /**
    * Under a mask, work the tables may spend before an upper bound shows they finish within {@link
    * #PROVEN}: a masked query that falls back to the scan costs at most this much more than the scan.
@@ -210,14 +212,18 @@ final class MihSearcher implements CodeSearcher {
 
   /**
    * For {@link JointSearch}: whether this block's partition should finish an unmasked query whose
-   * windows hold {@code restCodes} codes under the k-th distance {@code bound}, by the rule of
-   * {@link #knn}: at most most of a scan and no more than the tables would cost to reach the bound
-   * (always with strategy PARTITION).
+   * windows hold {@code restCodes} codes under the k-th distance {@code bound}: at most most of a
+   * scan (the rule of {@link #knn}), and no more than {@value #JOINT_TABLES_MARGIN} times what the
+   * tables are estimated to cost to reach the bound (always with strategy PARTITION). The margin:
+   * on ten segments of 100k skewed ReLU codes (docs/benchmarks.md, "Ten segments searched as one")
+   * the estimate put the tables below the windows for 19% of the blocks, and each block so sent
+   * to its tables took 300-500 µs instead of the 20-30 µs its windows take in the joint walk; a
+   * near-duplicate query, whose tables cost a few probes, still leaves the walk.
    */
   boolean partitionFinishes(long restCodes, long[] query, int bound) {
     if (strategy != SearchPlanOptions.Strategy.AUTO) return strategy == SearchPlanOptions.Strategy.PARTITION;
     double rest = restCodes * cost.partitionCode();
-    return rest <= PROVEN * scanCost && rest <= tablesCost(query, bound);
+    return rest <= PROVEN * scanCost && rest <= JOINT_TABLES_MARGIN * tablesCost(query, bound);
   }
 
   /**

@@ -17,7 +17,7 @@ import java.util.stream.IntStream;
  * Bound Algorithm for Computing k-Nearest Neighbors", IEEE Trans. Computers, 1975, rules 1 and 2,
  * here in Hamming space with both sides of the inequality, as in LAESA: Micó, Oncina and Vidal 1994).
  *
- * <p>The codes are grouped around about {@code sqrt(n)} centres (bitwise majority of their members
+ * <p>The codes are grouped around {@link #clusterCount} centres (bitwise majority of their members
  * on a sample, a few rounds: the code minimising the summed Hamming distance to a group), and copied
  * in cluster order, each cluster sorted by the distance {@code r(x)} of its codes to the centre. For
  * a query at distance {@code d(q,c)} from centre c, every member x has {@code d(q,x) >= |d(q,c) -
@@ -41,6 +41,15 @@ import java.util.stream.IntStream;
 final class Partition {
   /** Smallest block worth partitioning. */
   static final int MIN_CODES = 4096;
+  /**
+   * Fewest codes per cluster on average (see {@link #clusterCount}), about what sqrt(n) gives a 1M
+   * block. Measured on dense and skewed ReLU 256-bit codes (docs/benchmarks.md, "Ten segments
+   * searched as one"): ten segments of 100k answered in-distribution 10-NN in about 0.65x the time
+   * with clusters of 1,000 codes than of 316 (sqrt(n)). Larger clusters (2,000-3,000 codes) were
+   * faster still, for one 1M block too, but masked queries, which cut windows from below only,
+   * got slower with them.
+   */
+  static final int MIN_CLUSTER_SIZE = 1024;
   private static final int MAX_CLUSTERS = 4096, ROUNDS = 3, SAMPLE_PER_CLUSTER = 32;
 
   final int words;
@@ -97,14 +106,31 @@ final class Partition {
 
   /** The partition of {@code block}, or null when it is too small (or its codes too wide for char radii). */
   static Partition build(CodeBlock block) {
-    return build(block, MIN_CODES);
+    return build(block, MIN_CODES, MIN_CLUSTER_SIZE);
   }
 
-  /** The partition of {@code block} if it has at least {@code minCodes} codes (else null). */
-  static Partition build(CodeBlock block, int minCodes) {
+  /**
+   * The number of clusters for n codes: about sqrt(n) clusters of sqrt(n) codes (the balance of
+   * centre work and window work: common practice) once sqrt(n) reaches
+   * {@code minSize} (about 4M codes at the default), fewer and larger below, at most
+   * {@value #MAX_CLUSTERS}, at least 1. A window is a run of one cluster's codes read from a
+   * random place in memory: short runs wait on memory (about 1.5x the time per code in runs of 290
+   * than of 880, docs/benchmarks.md), and every cluster costs a centre distance and a window look-up
+   * per query, which for windows of a few hundred codes outweighs the tighter pruning.
+   */
+  static int clusterCount(int n, int minSize) {
+    double size = Math.max(Math.sqrt(n), Math.max(1, minSize));
+    return (int) Math.max(1, Math.min(MAX_CLUSTERS, Math.round(n / size)));
+  }
+
+  /**
+   * The partition of {@code block} into {@link #clusterCount clusterCount(n, minClusterSize)}
+   * clusters if it has at least {@code minCodes} codes (else null).
+   */
+  static Partition build(CodeBlock block, int minCodes, int minClusterSize) {
     int n = block.size(), w = block.wordsPerCode();
     if (n < Math.max(1, minCodes) || block.layout().bits() > Character.MAX_VALUE) return null;
-    int clusters = (int) Math.min(MAX_CLUSTERS, Math.round(Math.sqrt(n)));
+    int clusters = clusterCount(n, minClusterSize);
     long[] data = block.words();
     int sample = Math.min(n, clusters * SAMPLE_PER_CLUSTER);
     int[] sampleOrd = new int[sample];

@@ -79,7 +79,7 @@ public final class Searchers {
     // task (run by the caller's fork-join pool, or the common pool) while this thread plans and
     // fills the tables, themselves one task per table
     Forked<Partition> partition = !opts.partition() || codes.size() < 2 ? null
-        : Forked.start(() -> opts.strategy() == SearchPlanOptions.Strategy.PARTITION ? Partition.build(codes, 2)
+        : Forked.start(() -> opts.strategy() == SearchPlanOptions.Strategy.PARTITION ? Partition.build(codes, 2, Partition.MIN_CLUSTER_SIZE)
             : Partition.build(codes));
     try {
       PlannerCosts cost = PlannerCosts.machine();

@@ -74,7 +74,7 @@ class JointSearchTest {
     cut[blocks] = n;
     for (int b = 1; b < blocks; b++) // the first block small, the others of random sizes, each of 2 codes or more
       cut[b] = Math.min(n - 2 * (blocks - b), b == 1 ? 2 + rnd.nextInt(Math.min(40, n / blocks)) : cut[b - 1] + 2 + rnd.nextInt(2 * n / blocks));
-    boolean scanFirst = rep % 4 == 3;
+    boolean scanFirst = rep % 4 == 3, smallClusters = rnd.nextBoolean();
     int[][] ids = new int[blocks][];
     List<CodeSearcher> searchers = new ArrayList<>();
     List<IntUnaryOperator> idOf = new ArrayList<>();
@@ -86,7 +86,12 @@ class JointSearchTest {
       long[] bw = new long[bi.length * w];
       for (int o = 0; o < bi.length; o++) System.arraycopy(words, bi[o] * w, bw, o * w, w);
       CodeBlock block = new CodeBlock(all.layout(), bi.length, bw);
-      searchers.add(b == 0 && scanFirst ? new ScanSearcher(block) : Searchers.build(block, opts)); // a small segment may be a plain scan
+      CodeSearcher built = b == 0 && scanFirst ? new ScanSearcher(block) : Searchers.build(block, opts); // a small segment may be a plain scan
+      // the default cluster size leaves these blocks few clusters: in half the cases each block gets
+      // small ones (a few codes up to sqrt of its size), so that clusters of many sizes meet in one walk
+      if (smallClusters && built instanceof MihSearcher m && m.partition != null)
+        built = m.withPartition(Partition.build(block, 2, 2 + rnd.nextInt(1 + (int) Math.sqrt(bi.length))));
+      searchers.add(built);
       idOf.add(o -> bi[o]);
     }
     JointSearch joint = new JointSearch(all.layout(), searchers, idOf);
@@ -103,7 +108,7 @@ class JointSearchTest {
         long[] mask = qi == 5 && all.layout().segments().size() > 1 ? all.layout().mask(1) : null;
         int smallest = Arrays.stream(ids).mapToInt(a -> a.length).min().orElse(0);
         for (int k : new int[] {1, 5, 10, 100, smallest + 3, n + 5}) {
-          String what = why + " blocks=" + Arrays.toString(cut) + " filter=" + f + " query=" + qi + " k=" + k;
+          String what = why + " smallClusters=" + smallClusters + " blocks=" + Arrays.toString(cut) + " filter=" + f + " query=" + qi + " k=" + k;
           Hits expected = BruteForce.knn(all, q, k, accept, mask);
           assertEquals(expected, joint.knn(q, k, accept, blockAccept, mask), what);
         }

@@ -56,7 +56,12 @@ class PartitionTest {
     boolean forced = rep % 2 == 0;
     SearchPlanOptions opts = SearchPlanOptions.defaults();
     MihSearcher s = (MihSearcher) Searchers.build(codes, forced ? opts.withStrategy(SearchPlanOptions.Strategy.PARTITION) : opts);
-    String why = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " bits=" + bits + " forced=" + forced;
+    // the default cluster size gives small blocks one or two clusters: most forced partitions here
+    // get small clusters instead (a few codes up to sqrt(n)), so that pruning across clusters is tested too
+    int clusterSize = forced && rnd.nextInt(4) != 0 ? 2 + rnd.nextInt((int) Math.sqrt(n)) : Partition.MIN_CLUSTER_SIZE;
+    if (clusterSize != Partition.MIN_CLUSTER_SIZE) s = s.withPartition(Partition.build(codes, 2, clusterSize));
+    String why = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " bits=" + bits + " forced=" + forced
+        + " clusterSize=" + clusterSize + " clusters=" + (s.partition == null ? 0 : s.partition.clusters());
     if (forced) assertNotNull(s.partition, why);
     int partitionAnswers = 0;
     for (int i = 0; i < queries; i++) {
@@ -76,6 +81,35 @@ class PartitionTest {
       assertEquals(BruteForce.knn(codes, q, k, accept, mask), s.knn(q, k, accept, mask), what + " masked");
     }
     if (forced) assertTrue(partitionAnswers > 0, why + ": the partition never answered");
+  }
+
+  /**
+   * The cluster count: about sqrt(n) clusters once sqrt(n) reaches the least cluster size, fewer
+   * and larger below (never fewer than one, never more than the cap), and the clusters built hold
+   * that many codes between them, each cluster by ascending radius.
+   */
+  @Test
+  void clusterCountFollowsTheSizeRule() {
+    for (int n : new int[] {1, 2, 4095, 4096, 100_000, 1_000_000, 4_194_304, 10_000_000, 100_000_000}) {
+      int c = Partition.clusterCount(n, Partition.MIN_CLUSTER_SIZE);
+      assertTrue(c >= 1 && c <= 4096, n + " codes: " + c + " clusters");
+      if (n >= 2 * Partition.MIN_CLUSTER_SIZE) {
+        double size = (double) n / c;
+        assertTrue(size >= Partition.MIN_CLUSTER_SIZE * 0.75, n + " codes: " + c + " clusters of " + size);
+        assertTrue(c == 4096 || size <= 1.5 * Math.max(Math.sqrt(n), Partition.MIN_CLUSTER_SIZE), n + " codes: " + c + " clusters of " + size);
+      }
+    }
+    assertEquals(1000, Partition.clusterCount(1_000_000, 1)); // sqrt(n) when the least size is below it
+    assertEquals(3162, Partition.clusterCount(10_000_000, Partition.MIN_CLUSTER_SIZE));
+    long seed = Randoms.seed(3);
+    for (int n : new int[] {4096, 9_000}) {
+      CodeBlock codes = codes(1, n, 128, seed + n);
+      for (int size : new int[] {Partition.MIN_CLUSTER_SIZE, 64}) {
+        Partition p = Partition.build(codes, 2, size);
+        assertEquals(Partition.clusterCount(n, size), p.clusters(), Randoms.describe(seed) + " n=" + n + " size=" + size);
+        assertEquals(n, p.start[p.clusters()], Randoms.describe(seed) + " n=" + n + " size=" + size);
+      }
+    }
   }
 
   static IntPredicate filter(SplittableRandom rnd, int n) {
