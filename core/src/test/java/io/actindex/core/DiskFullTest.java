@@ -45,7 +45,7 @@ class DiskFullTest {
 
   /**
    * In another system language the text is not English ("Auf dem Gerät ist kein Speicherplatz mehr verfügbar" is glibc's German
-   * for ENOSPC, from memory): an I/O error while the file system has under 1 MiB left counts as a full disk, an I/O error on a
+   * for ENOSPC: what the JDK printed for a write to /dev/full under LC_ALL=de_DE.UTF-8 on Debian, 2026-12-03): an I/O error while the file system has under 1 MiB left counts as a full disk, an I/O error on a
    * file system with room does not, and a refusal made once is still recognised after wrapping.
    */
   @Test
