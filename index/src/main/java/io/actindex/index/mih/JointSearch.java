@@ -34,10 +34,12 @@ import java.util.function.IntUnaryOperator;
  * <p>Where the time goes (1M dense 256-bit codes in ten segments, in-distribution 10-NN): the
  * joint order reaches the final k-th distance early (the codes scanned are within a few percent of
  * those a search told the final distance in advance would scan), so the cost is scanning the
- * windows, which are short here (a few hundred codes per cluster of a 100k segment) and cost about
- * half again as much per code as the long windows of one big segment: a random short run waits on
- * memory. Two windows are therefore scanned in step ({@link ScanKernel#knnPair}), and the window
- * bounds come from per-radius tables, not binary searches.
+ * windows. Short windows cost more per code than long ones (a random short run waits on memory), so
+ * small segments get clusters of at least {@link Partition#MIN_CLUSTER_SIZE} codes, two windows are
+ * scanned in step ({@link ScanKernel#knnPair}), and the window bounds come from per-radius tables,
+ * not binary searches. A block leaves the walk for its tables only when they are estimated far
+ * cheaper than its windows ({@link MihSearcher#partitionFinishes}): their estimate is optimistic
+ * on skewed codes, and a block searched on its own pays its fixed work again.
  *
  * <p>Thread-safe: per-thread scratch arrays are kept in a {@link ThreadLocal}.
  */

@@ -215,10 +215,11 @@ final class MihSearcher implements CodeSearcher {
    * windows hold {@code restCodes} codes under the k-th distance {@code bound}: at most most of a
    * scan (the rule of {@link #knn}), and no more than {@value #JOINT_TABLES_MARGIN} times what the
    * tables are estimated to cost to reach the bound (always with strategy PARTITION). The margin:
-   * on ten segments of 100k skewed ReLU codes (docs/benchmarks.md, "Ten segments searched as one")
-   * the estimate put the tables below the windows for 19% of the blocks, and each block so sent
-   * to its tables took 300-500 µs instead of the 20-30 µs its windows take in the joint walk; a
-   * near-duplicate query, whose tables cost a few probes, still leaves the walk.
+   * on ten segments of 100k skewed ReLU codes (docs/benchmarks.md, "Ten segments: larger clusters
+   * for small segments") the estimate put the tables below the windows for 10-27% of the blocks,
+   * and each block so sent to its tables took 300-500 µs instead of the about 20 µs its windows
+   * take in the joint walk. A near-duplicate query, whose tables are estimated at a few probes, can
+   * still leave the walk (not measured).
    */
   boolean partitionFinishes(long restCodes, long[] query, int bound) {
     if (strategy != SearchPlanOptions.Strategy.AUTO) return strategy == SearchPlanOptions.Strategy.PARTITION;

@@ -43,11 +43,11 @@ final class Partition {
   static final int MIN_CODES = 4096;
   /**
    * Fewest codes per cluster on average (see {@link #clusterCount}), about what sqrt(n) gives a 1M
-   * block. Measured on dense and skewed ReLU 256-bit codes (docs/benchmarks.md, "Ten segments
-   * searched as one"): ten segments of 100k answered in-distribution 10-NN in about 0.65x the time
-   * with clusters of 1,000 codes than of 316 (sqrt(n)). Larger clusters (2,000-3,000 codes) were
-   * faster still, for one 1M block too, but masked queries, which cut windows from below only,
-   * got slower with them.
+   * block. Measured on dense and skewed ReLU 256-bit codes (docs/benchmarks.md, "Ten segments:
+   * larger clusters for small segments"): ten segments of 100k answered in-distribution 10-NN in
+   * about 0.65x the time with clusters of 1,000 codes than of 316 (sqrt(n)). Larger clusters
+   * (2,000-3,000 codes) were faster still, for one 1M block too, but masked queries, which cut
+   * windows from below only, got slower with them.
    */
   static final int MIN_CLUSTER_SIZE = 1024;
   private static final int MAX_CLUSTERS = 4096, ROUNDS = 3, SAMPLE_PER_CLUSTER = 32;
