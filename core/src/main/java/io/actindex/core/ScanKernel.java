@@ -42,6 +42,17 @@ public final class ScanKernel {
   /** As {@link #knn(long[], long[], long[], int, int, int, int[], IntPredicate, TopK, int)} with the selection made once per query. */
   public static void knn(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept, TopK top,
       int maxDist) {
+    knn(Loops.CHOSEN, s, data, w, from, to, ords, accept, top, maxDist);
+  }
+
+  /** As {@link #knn(Words, long[], int, int, int, int[], IntPredicate, TopK, int)} through the given loops (benchmarks and tests). */
+  public static void knn(Loops loops, Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    // the vector loops read every word: worth it while the selection holds at least half of them
+    if (loops == Loops.VECTOR && to - from >= 8 && 2 * s.at.length >= w && VectorKernel.handles(w)) {
+      from = VectorKernel.knn(s.wq, s.wm, data, w, from, to, ords, accept, top, maxDist);
+      if (from == to) return;
+    }
     if (s.at.length == w) {
       switch (w) {
         case 1 -> all1(s.q, s.m, data, from, to, ords, accept, top, maxDist);
@@ -76,7 +87,7 @@ public final class ScanKernel {
   public static void knnPair(long[] q, int w, long[] a, int aFrom, int aTo, int[] aOrds, long[] b, int bFrom, int bTo,
       int[] bOrds, IntPredicate accept, TopK top, int maxDist) {
     int both = Math.min(aTo - aFrom, bTo - bFrom);
-    if (w == 4) {
+    if (w == 4 && Loops.CHOSEN == Loops.SCALAR) {
       long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
       int bound = Math.min(maxDist, top.bound());
       for (int t = 0, i = aFrom, j = bFrom, ai = aFrom * 4, bj = bFrom * 4; t < both; t++, i++, j++, ai += 4, bj += 4) {
@@ -95,9 +106,11 @@ public final class ScanKernel {
   /**
    * The words of a code that a mask selects: their indexes {@code at}, the query's words there
    * ({@code q}, masked) and the mask's ({@code m}); {@code whole} when every selected word is
-   * covered whole (no mask: all words, whole).
+   * covered whole (no mask: all words, whole). {@code wq} and {@code wm}: the query and the mask
+   * over every word of the code, zero outside the selection and padded with zeros to a multiple of
+   * 8 words (for {@link VectorKernel}).
    */
-  public record Words(int[] at, long[] q, long[] m, boolean whole) {
+  public record Words(int[] at, long[] q, long[] m, boolean whole, long[] wq, long[] wm) {
     /** The selection of {@code mask} (nullable: every word) over codes of {@code w} words, with the query's words. */
     public static Words of(long[] q, long[] mask, int w) {
       int count = 0;
@@ -108,15 +121,15 @@ public final class ScanKernel {
           whole &= mask == null || mask[j] == -1L;
         }
       int[] at = new int[count];
-      long[] qs = new long[count], ms = new long[count];
+      long[] qs = new long[count], ms = new long[count], wq = new long[(w + 7) & -8], wm = new long[wq.length];
       for (int j = 0, c = 0; j < w; j++)
         if (mask == null || mask[j] != 0) {
           at[c] = j;
-          ms[c] = mask == null ? -1L : mask[j];
-          qs[c] = q[j] & ms[c];
+          ms[c] = wm[j] = mask == null ? -1L : mask[j];
+          qs[c] = wq[j] = q[j] & ms[c];
           c++;
         }
-      return new Words(at, qs, ms, whole);
+      return new Words(at, qs, ms, whole, wq, wm);
     }
 
     /**
@@ -146,7 +159,7 @@ public final class ScanKernel {
    * distance can no longer enter (ties go to the smaller ordinal): the bound drops by one and such
    * ties are not offered (over one layer of skewed codes tens of thousands of codes can tie).
    */
-  private static int offer(int i, int d, int[] ords, IntPredicate accept, TopK top, int maxDist, int bound) {
+  static int offer(int i, int d, int[] ords, IntPredicate accept, TopK top, int maxDist, int bound) {
     int ord = ords == null ? i : ords[i];
     if (accept != null && !accept.test(ord)) return bound;
     top.offer(ord, d);
