@@ -104,6 +104,37 @@ public final class ScanKernel {
   }
 
   /**
+   * The positions {@code y} in {@code [from, to)} of {@code data} (w words per code) whose code is
+   * within {@code radius} of the code at word {@code qOff} of {@code q} (which may be {@code data}
+   * itself), written to {@code out} in ascending order; returns their count. The hot loop of the
+   * self-join (one member of a bucket against the later ones).
+   */
+  public static int within(long[] q, int qOff, long[] data, int w, int from, int to, int radius, int[] out) {
+    return within(Loops.CHOSEN, q, qOff, data, w, from, to, radius, out);
+  }
+
+  /** As {@link #within(long[], int, long[], int, int, int, int, int[])} through the given loops (benchmarks and tests). */
+  public static int within(Loops loops, long[] q, int qOff, long[] data, int w, int from, int to, int radius, int[] out) {
+    int found = 0, y = from;
+    if (loops == Loops.VECTOR && to - from >= 8 && (w == 1 || w == 2 || w == 4)) {
+      long r = VectorKernel.within(q, qOff, data, w, from, to, radius, out, 0);
+      y = (int) (r >>> 32);
+      found = (int) r;
+    }
+    if (w == 4) { // the query in registers
+      long x0 = q[qOff], x1 = q[qOff + 1], x2 = q[qOff + 2], x3 = q[qOff + 3];
+      for (int p = y * 4; y < to; y++, p += 4) {
+        int d = Long.bitCount(x0 ^ data[p]) + Long.bitCount(x1 ^ data[p + 1]) + Long.bitCount(x2 ^ data[p + 2])
+            + Long.bitCount(x3 ^ data[p + 3]);
+        if (d <= radius) out[found++] = y;
+      }
+      return found;
+    }
+    for (; y < to; y++) if (Hamming.distanceBounded(q, qOff, data, y * w, w, radius) <= radius) out[found++] = y;
+    return found;
+  }
+
+  /**
    * The words of a code that a mask selects: their indexes {@code at}, the query's words there
    * ({@code q}, masked) and the mask's ({@code m}); {@code whole} when every selected word is
    * covered whole (no mask: all words, whole). {@code wq} and {@code wm}: the query and the mask

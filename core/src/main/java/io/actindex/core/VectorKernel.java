@@ -4,6 +4,7 @@ import java.util.function.IntPredicate;
 import jdk.incubator.vector.LongVector;
 import jdk.incubator.vector.VectorMask;
 import jdk.incubator.vector.VectorOperators;
+import jdk.incubator.vector.VectorShuffle;
 import jdk.incubator.vector.VectorSpecies;
 
 /**
@@ -22,6 +23,10 @@ final class VectorKernel {
   private static final VectorSpecies<Long> S = LongVector.SPECIES_512;
   private static final LongVector EVEN = LongVector.fromArray(S, new long[] {0, 2, 4, 6, 8, 10, 12, 14}, 0);
   private static final LongVector ODD = LongVector.fromArray(S, new long[] {1, 3, 5, 7, 9, 11, 13, 15}, 0);
+  private static final LongVector ONES = LongVector.broadcast(S, -1L);
+  private static final VectorShuffle<Long> REPEAT1 = VectorShuffle.fromValues(S, 0, 0, 0, 0, 0, 0, 0, 0);
+  private static final VectorShuffle<Long> REPEAT2 = VectorShuffle.fromValues(S, 0, 1, 0, 1, 0, 1, 0, 1);
+  private static final VectorShuffle<Long> REPEAT4 = VectorShuffle.fromValues(S, 0, 1, 2, 3, 0, 1, 2, 3);
 
   /** Whether the JVM has 512-bit long vectors (else this kernel is never chosen). */
   static boolean available() {
@@ -157,5 +162,27 @@ final class VectorKernel {
       if (d <= bound) bound = ScanKernel.offer(i, d, ords, accept, top, maxDist, bound);
     }
     return i;
+  }
+
+  /**
+   * The positions {@code y} in {@code [from, to)} whose code in {@code data} (w = 1, 2 or 4 words)
+   * is within {@code radius} of the code at word {@code qOff} of {@code q}, written in order to
+   * {@code out} from index {@code found} on, eight codes per step; returns the first position not
+   * scanned (fewer than eight remain) in the high 32 bits and the new count in the low ones.
+   */
+  static long within(long[] q, int qOff, long[] data, int w, int from, int to, int radius, int[] out, int found) {
+    LongVector qv = LongVector.fromArray(S, q, qOff, S.indexInRange(0, w)).rearrange(w == 1 ? REPEAT1 : w == 2 ? REPEAT2 : REPEAT4);
+    int y = from;
+    for (int off = from * w; y + 8 <= to; y += 8, off += 8 * w) {
+      LongVector d = switch (w) {
+        case 1 -> count(data, off, qv, ONES);
+        case 2 -> pair(count(data, off, qv, ONES), count(data, off + 8, qv, ONES));
+        default -> pair(pair(count(data, off, qv, ONES), count(data, off + 8, qv, ONES)),
+            pair(count(data, off + 16, qv, ONES), count(data, off + 24, qv, ONES)));
+      };
+      for (long h = d.compare(VectorOperators.LE, radius).toLong(); h != 0; h &= h - 1)
+        out[found++] = y + Long.numberOfTrailingZeros(h);
+    }
+    return (long) y << 32 | found;
   }
 }

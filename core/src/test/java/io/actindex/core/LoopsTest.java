@@ -19,7 +19,8 @@ import org.junit.jupiter.api.Test;
  * widths that cut a word (100, 300 bits), run lengths below, at and past multiples of eight codes,
  * uniform, ReLU-like (skewed, many ties) and few-distinct codes (every code tied with many),
  * random masks and layer masks, filters, distance caps, and windows scanned one after another into
- * one top-k with ordinals out of order (as the partition does). The vector rows need the JVM of
+ * one top-k with ordinals out of order (as the partition does); and the radius loop {@link
+ * ScanKernel#within} of the self-join. The vector rows need the JVM of
  * the tests to have {@code --add-modules jdk.incubator.vector} and 512-bit vectors (surefire's
  * {@code argLine} passes the module); the choice itself is checked in child JVMs.
  */
@@ -65,6 +66,41 @@ class LoopsTest {
       for (int[] win : windows(rnd, n))
         ScanKernel.knn(loops, s, codes.words(), w, win[0], win[1], ords, accept, windows, maxDist);
       assertEquals(expected(codes, q, mask, ords, accept, k, maxDist), windows.toHits(), what + " windows");
+    }
+  }
+
+  @Test
+  void scalarWithinEqualsBruteForce() {
+    checkWithin(Loops.SCALAR);
+  }
+
+  @Test
+  void vectorWithinEqualsBruteForce() {
+    assumeTrue(Loops.vectorUsable(), "no jdk.incubator.vector module or no 512-bit vectors in this JVM");
+    checkWithin(Loops.VECTOR);
+  }
+
+  /** {@link ScanKernel#within}: one code of the block (or a separate query) against a run of the block, any radius. */
+  private static void checkWithin(Loops loops) {
+    for (int rep = 0; rep < 300; rep++) {
+      long seed = Randoms.seed(5000 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int bits = rep % 2 == 0 ? BITS[rep / 2 % 8] : 1 + rnd.nextInt(6 * 64);
+      int n = 1 + (rnd.nextBoolean() ? rnd.nextInt(40) : rnd.nextInt(600));
+      CodeBlock codes = codes(rnd, n, bits, seed);
+      int w = codes.wordsPerCode(), from = rnd.nextInt(n + 1), to = from + rnd.nextInt(n - from + 1);
+      int radius = rnd.nextInt(4) == 0 ? rnd.nextInt(bits + 1) : rnd.nextInt(bits / 3 + 2);
+      boolean own = rnd.nextBoolean();
+      int x = rnd.nextInt(n);
+      long[] q = own ? codes.words() : query(rnd, codes);
+      int qOff = own ? x * w : 0;
+      int[] out = new int[n];
+      int found = ScanKernel.within(loops, q, qOff, codes.words(), w, from, to, radius, out);
+      Hits all = BruteForce.radius(codes, own ? codes.code(x) : q, radius, null, null);
+      int[] expected = Arrays.stream(all.ords()).filter(y -> y >= from && y < to).sorted().toArray();
+      assertEquals(Arrays.toString(expected), Arrays.toString(Arrays.copyOf(out, found)),
+          loops + " " + Randoms.describe(seed) + " bits=" + bits + " n=" + n + " [" + from + ", " + to + ") radius=" + radius
+              + (own ? " code " + x : " separate query"));
     }
   }
 
