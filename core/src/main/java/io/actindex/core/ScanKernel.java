@@ -15,6 +15,10 @@ import java.util.function.IntPredicate;
  *
  * <p>Distance first: the filter is asked only about codes that would enter the top k, so a filter
  * that accepts most codes costs almost nothing, and a slow predicate is called rarely.
+ *
+ * <p>These are the scalar loops; {@link VectorKernel} holds the Vector API ones, run where it
+ * {@link VectorKernel#handles handles} the width when {@link Loops#CHOSEN} (or the caller) says
+ * {@link Loops#VECTOR}.
  */
 public final class ScanKernel {
   private ScanKernel() {}
@@ -48,8 +52,7 @@ public final class ScanKernel {
   /** As {@link #knn(Words, long[], int, int, int, int[], IntPredicate, TopK, int)} through the given loops (benchmarks and tests). */
   public static void knn(Loops loops, Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
-    // the vector loops read every word: worth it while the selection holds at least half of them
-    if (loops == Loops.VECTOR && to - from >= 8 && 2 * s.at.length >= w && VectorKernel.handles(w)) {
+    if (loops == Loops.VECTOR && to - from >= 8 && VectorKernel.handles(w, s.at.length)) {
       from = VectorKernel.knn(s.wq, s.wm, data, w, from, to, ords, accept, top, maxDist);
       if (from == to) return;
     }

@@ -8,14 +8,15 @@ import jdk.incubator.vector.VectorShuffle;
 import jdk.incubator.vector.VectorSpecies;
 
 /**
- * The k-NN scan loop of {@link ScanKernel} through the Vector API, eight codes per step over
- * 512-bit vectors: XOR with the query (AND with the mask), a popcount per 64-bit lane, then the
- * lanes of each code summed by a tree of two-vector permutations ({@code selectFrom} of the even
- * and the odd lanes, added), so that the eight distances land in the eight lanes of one vector
- * and are compared with the bound at once; codes under the bound are offered one by one, in
- * order, through {@link ScanKernel#offer}. Codes of 1, 2, 4 and any multiple of 8 words, every
- * word selected (no mask, or a mask touching every word). The only class that imports {@code
- * jdk.incubator.vector}: it is loaded only when {@link ScanKernel} chose it.
+ * The loops of {@link ScanKernel} through the Vector API over 512-bit vectors (8 lanes of 64 bits):
+ * XOR with the query, AND with the mask, a popcount per lane. Codes of 1, 2 and 4 words (and 5 to
+ * 7, one vector each) go eight per step: the lanes of each code are summed by a tree of two-vector
+ * permutations ({@code selectFrom} of the even and the odd lanes, added), so that eight distances
+ * land in the eight lanes of one vector and are compared with the bound at once. Codes of 8 or
+ * more words go one at a time (chunks added lane by lane, then one sum over the lanes). Codes
+ * within the bound are offered one by one, in order, through {@link ScanKernel#offer}, so the
+ * results are the scalar loops' to the ordinal. The only class that imports {@code
+ * jdk.incubator.vector}: it is loaded only when {@link Loops#VECTOR} runs.
  */
 final class VectorKernel {
   private VectorKernel() {}
@@ -33,13 +34,17 @@ final class VectorKernel {
     return LongVector.SPECIES_PREFERRED.vectorBitSize() >= 512;
   }
 
-
   /**
-   * Whether {@link #knn} is worth calling for codes of {@code w} words: not for 3 (the scalar
-   * loop took 0.6x the time of one vector per code at 192 bits, 100k codes).
+   * Whether {@link #knn} is worth calling for codes of {@code w} words of which a mask selects
+   * {@code selected} (it reads every word). Measured in-process against the scalar loops
+   * (docs/benchmarks.md): not for 3 words (one vector per code took 1.6x the scalar time at 192
+   * bits); for a mask of some words only on codes of 1, 2, 4 or 8 words where it selects at least
+   * half (a layer of 256 or 512 bits: 0.45-0.7x; 3 of 5 words at 300 bits took 1.25x, 8 of 16 at
+   * 1,024 bits 0.9-1.1x).
    */
-  static boolean handles(int w) {
-    return w != 3;
+  static boolean handles(int w, int selected) {
+    if (w == 3) return false;
+    return selected == w || w <= 8 && (w & (w - 1)) == 0 && 2 * selected >= w;
   }
 
   /**
@@ -54,7 +59,8 @@ final class VectorKernel {
       case 1 -> knn1(q, m, data, from, to, ords, accept, top, maxDist);
       case 2 -> knn2(q, m, data, from, to, ords, accept, top, maxDist);
       case 4 -> knn4(q, m, data, from, to, ords, accept, top, maxDist);
-      default -> w <= 8 ? knnUpTo8(q, m, data, w, from, to, ords, accept, top, maxDist) : knnPerCode(q, m, data, w, from, to, ords, accept, top, maxDist);
+      default -> w < 8 ? knnUpTo8(q, m, data, w, from, to, ords, accept, top, maxDist)
+          : knnPerCode(q, m, data, w, from, to, ords, accept, top, maxDist);
     };
   }
 
@@ -126,7 +132,7 @@ final class VectorKernel {
   }
 
   /**
-   * Codes of 3 to 8 words, one vector each (query and mask padded with zeros, so the words of the
+   * Codes of 5 to 7 words (3 works too), one vector each (query and mask padded with zeros, so the words of the
    * next code in the vector count nothing); stops where the last vector would read past the array.
    */
   private static int knnUpTo8(long[] q, long[] m, long[] data, int w, int from, int to, int[] ords,
@@ -147,7 +153,8 @@ final class VectorKernel {
   }
 
   /**
-   * Codes of more than 8 words: one code at a time, its words read 8 at a time
+   * Codes of 8 or more words: one code at a time (at 512 bits 0.5x the scalar time against 0.7x
+   * for eight codes per step through the tree, and not slower at 1M codes), its words read 8 at a time
    * (query and mask padded with zeros to a multiple of 8, so the words of the next code read with
    * the last chunk count nothing), the chunks added lane by lane, then the lanes. Stops where the
    * last chunk would read past the array.
