@@ -124,11 +124,26 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
       ScanKernel.knnMembers(q, null, words, 4, onePercent, top, Integer.MAX_VALUE);
       return top.bound();
     }) / onePercent.count();
-    double perWord = Math.max(0.01, (scan4 - scan1) / 3), perCode = Math.max(0.01, scan1 - perWord);
+    double[] split = splitScan(scan1, scan4);
+    double perCode = split[0], perWord = split[1];
     // a partition window is a short scan that starts with two binary searches: a scanned code plus
     // a share of the window's start (windows hold tens to thousands of codes)
     return new PlannerCosts(perCode, perWord, Math.max(0.5, dense), Math.max(1, sparseProbe), Math.max(1, candidate),
         Math.max(0.5, walk), 1.3 * scan4, Double.isNaN(far) ? Math.max(1, candidate) : Math.max(1, far));
+  }
+
+  /** Bounds of the per-word share of a 4-word code's scan cost (the defaults give 0.19). */
+  static final double MIN_WORD_SHARE = 0.1, MAX_WORD_SHARE = 0.22;
+
+  /**
+   * Per-code and per-word scan costs from the times per code of a 1-word and a 4-word scan. Their
+   * difference is small beside the noise of a loaded machine (seen: per-word 0.01 ns in one build,
+   * 0.65 in the next), so the per-word cost is held within {@link #MIN_WORD_SHARE}..{@link
+   * #MAX_WORD_SHARE} of the 4-word cost, and the two always add up to the measured 4-word cost.
+   */
+  static double[] splitScan(double scan1, double scan4) {
+    double perWord = Math.clamp((scan4 - scan1) / 3, MIN_WORD_SHARE * scan4, MAX_WORD_SHARE * scan4);
+    return new double[] {Math.max(0.01, scan4 - 4 * perWord), Math.max(0.01, perWord)};
   }
 
   /**

@@ -85,4 +85,23 @@ class PlannerTest {
     assertTrue(visited / queries.size() < codes.size() / 4, Randoms.describe(seed) + " mean visited " + visited / queries.size()
         + " of " + codes.size() + "; " + Searchers.stats(s));
   }
+
+  /**
+   * The scan's per-code / per-word split from two noisy timings: always adds up to the 4-word time,
+   * the per-word share held within its bounds whatever the noise (even a 1-word scan timed slower
+   * than the 4-word one), and exact where the timings are consistent.
+   */
+  @Test
+  void scanCostSplitStaysSaneUnderNoise() {
+    double[][] timings = {{0.7, 1.6}, {1.7, 1.6}, {0.1, 1.6}, {1.6, 1.6}, {0.05, 3.0}};
+    for (double[] t : timings) {
+      double[] s = PlannerCosts.splitScan(t[0], t[1]);
+      assertEquals(t[1], s[0] + 4 * s[1], 1e-9, "sum for " + t[0] + ", " + t[1]);
+      assertTrue(s[1] >= PlannerCosts.MIN_WORD_SHARE * t[1] - 1e-12 && s[1] <= PlannerCosts.MAX_WORD_SHARE * t[1] + 1e-12,
+          "share " + s[1] / t[1] + " for " + t[0] + ", " + t[1]);
+    }
+    double[] consistent = PlannerCosts.splitScan(0.7, 1.6); // the defaults: 0.4 per code + 0.3 per word
+    assertEquals(0.4, consistent[0], 1e-9);
+    assertEquals(0.3, consistent[1], 1e-9);
+  }
 }
