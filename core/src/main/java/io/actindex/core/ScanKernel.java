@@ -144,7 +144,10 @@ public final class ScanKernel {
    * Offers one code that passed the distance test; returns the new bound. Without {@code ords}
    * the ordinals rise with the position, so once the top is full a code tied with the k-th
    * distance can no longer enter (ties go to the smaller ordinal): the bound drops by one and such
-   * ties are not offered (over one layer of skewed codes tens of thousands of codes can tie).
+   * ties are not offered (over one layer of skewed codes tens of thousands of codes can tie); the
+   * bound drops below 0 once k codes at distance 0 are in, and the loops then stop: nothing after
+   * them can enter (the scan of a masked query whose k nearest tie at 0 ends after its first few
+   * hundred codes).
    */
   private static int offer(int i, int d, int[] ords, IntPredicate accept, TopK top, int maxDist, int bound) {
     int ord = ords == null ? i : ords[i];
@@ -160,7 +163,7 @@ public final class ScanKernel {
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * w + s.at[0]; i < to; i++, off += w) {
       int d = Long.bitCount((data[off] ^ q0) & m0);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -171,7 +174,7 @@ public final class ScanKernel {
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -183,7 +186,7 @@ public final class ScanKernel {
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
           + Long.bitCount((data[off + j2] ^ q2) & m2);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -196,7 +199,7 @@ public final class ScanKernel {
       for (int i = from, off = from * w; i < to; i++, off += w) {
         int d = Long.bitCount(data[off + j0] ^ q0) + Long.bitCount(data[off + j1] ^ q1)
             + Long.bitCount(data[off + j2] ^ q2) + Long.bitCount(data[off + j3] ^ q3);
-        if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+        if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
       }
       return;
     }
@@ -204,7 +207,7 @@ public final class ScanKernel {
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
           + Long.bitCount((data[off + j2] ^ q2) & m2) + Long.bitCount((data[off + j3] ^ q3) & m3);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -220,7 +223,7 @@ public final class ScanKernel {
       if (d > bound) continue;
       d += Long.bitCount((data[off + j4] ^ q4) & m4) + Long.bitCount((data[off + j5] ^ q5) & m5)
           + Long.bitCount((data[off + j6] ^ q6) & m6) + Long.bitCount((data[off + j7] ^ q7) & m7);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -230,7 +233,7 @@ public final class ScanKernel {
     int bound = Math.min(maxDist, top.bound());
     for (int i = from; i < to; i++) {
       int d = Long.bitCount((data[i] ^ q0) & m0);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -240,7 +243,7 @@ public final class ScanKernel {
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * 2; i < to; i++, off += 2) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -251,7 +254,7 @@ public final class ScanKernel {
     for (int i = from, off = from * 3; i < to; i++, off += 3) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1)
           + Long.bitCount((data[off + 2] ^ q2) & m2);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -262,7 +265,7 @@ public final class ScanKernel {
     for (int i = from, off = from * 4; i < to; i++, off += 4) {
       int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
           + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -277,7 +280,7 @@ public final class ScanKernel {
       if (d > bound) continue;
       d += Long.bitCount((data[off + 4] ^ q4) & m4) + Long.bitCount((data[off + 5] ^ q5) & m5)
           + Long.bitCount((data[off + 6] ^ q6) & m6) + Long.bitCount((data[off + 7] ^ q7) & m7);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -288,13 +291,13 @@ public final class ScanKernel {
     if (s.whole && s.at.length == w) { // every word: the contiguous kernel, no selection per code
       for (int i = from, off = from * w; i < to; i++, off += w) {
         int d = Hamming.distanceBounded(s.q, 0, data, off, w, bound);
-        if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+        if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
       }
       return;
     }
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = s.distance(data, off, w, bound);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
