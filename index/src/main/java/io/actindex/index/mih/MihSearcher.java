@@ -146,31 +146,29 @@ final class MihSearcher implements CodeSearcher {
       if (set.isEmpty()) return Hits.EMPTY;
       if (auto && set.count() * cost.walk() <= scanCost) return scan.knn(query, k, accept, mask, maxDist);
     }
-    int[] active = activeTables(mask);
     int kk = Math.min(k, n);
+    // under a mask, the scan's first codes: done when k of them tie at distance 0 (see head)
+    Head head = null;
+    if (mask != null && auto && !(accept instanceof IdSet set && set.count() <= ScanSearcher.WALK_SHARE * n)) {
+      head = head(sel, kk, accept, maxDist);
+      if (head.end == n || head.top.size() == kk && head.top.bound() == 0) {
+        scratch.get().answeredByScan();
+        return head.top.toHits();
+      }
+      if (head.top.size() == kk) maxDist = Math.min(maxDist, head.top.bound()); // k codes are within it
+      scanCost *= (double) (head.stop - head.end) / n; // what the scan has left
+    }
+    int[] active = activeTables(mask);
     Scratch s = scratch.get().begin(this, query, active);
     s.scanCost = scanCost;
     try {
-      // under a mask, the scan's first codes: done when k of them tie at distance 0 (see head)
-      TopK head = null;
-      int headEnd = 0;
-      if (mask != null && auto && !(accept instanceof IdSet set && set.count() <= ScanSearcher.WALK_SHARE * n)) {
-        head = new TopK(kk);
-        headEnd = head(sel, kk, accept, head, maxDist);
-        if (headEnd == n || head.size() == kk && head.bound() == 0) {
-          s.path = PATH_SCAN;
-          return head.toHits();
-        }
-        if (head.size() == kk) maxDist = Math.min(maxDist, head.bound()); // k codes are within it
-        scanCost *= (double) (n - headEnd) / n; // what the scan has left
-      }
       boolean usePartition = partition != null && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
       if (usePartition) {
         TopK top = new TopK(kk);
         // a full head holds k codes within maxDist, so the nearest clusters may offer codes beyond it:
         // the windows under maxDist push them out
         int from = partition.begin(query, mask, codes.layout().bits(), s.visit, accept, top, kk,
-            head != null && head.size() == kk ? Integer.MAX_VALUE : maxDist);
+            head != null && head.top.size() == kk ? Integer.MAX_VALUE : maxDist);
         int bound = top.size() == kk ? Math.min(maxDist, top.bound()) : maxDist;
         double limit = (mask == null ? PROVEN : MASKED_PROVEN) * scanCost;
         double rest = from == partition.clusters() ? 0
@@ -186,8 +184,8 @@ final class MihSearcher implements CodeSearcher {
       }
       if (head != null && active.length == 0) { // the scan goes on after its head
         s.path = PATH_SCAN;
-        ScanKernel.knn(sel, codes.words(), codes.wordsPerCode(), headEnd, n, null, accept, head, maxDist);
-        return head.toHits();
+        ScanKernel.knn(sel, codes.words(), codes.wordsPerCode(), head.end, n, null, accept, head.top, maxDist);
+        return head.top.toHits();
       }
       if (strategy == SearchPlanOptions.Strategy.SCAN || strategy == SearchPlanOptions.Strategy.PARTITION || active.length == 0) {
         s.path = PATH_SCAN;
@@ -200,29 +198,38 @@ final class MihSearcher implements CodeSearcher {
   }
 
   /**
-   * The plain scan's first codes under a mask, into {@code top}: a masked distance (one layer of
-   * skewed codes) is often 0 for thousands of codes, and the scan, which stops once it holds k codes
-   * at distance 0 (the smallest ordinals, as ties go), then ends within a few hundred codes, long
-   * before another path could even find all those ties. Scans the first {@code n / }{@value
-   * #HEAD_SHARE} codes (at least {@value #HEAD_MIN}), then further while the codes at distance 0 so
-   * far predict k of them within {@value #HEAD_REACH} of the codes. Returns the end of the scanned
-   * run; the answer is in {@code top} when that is n or when it holds k codes at distance 0.
+   * The plain scan's first codes under a mask: {@code top} after positions {@code [0, end)}, and
+   * {@code stop}, where the whole scan is expected to end (n, or earlier when it is expected to find
+   * k codes at distance 0 before).
    */
-  private int head(ScanKernel.Words sel, int kk, IntPredicate accept, TopK top, int maxDist) {
+  private record Head(TopK top, int end, long stop) {}
+
+  /**
+   * The plain scan's first codes under a mask: a masked distance (one layer of skewed codes) is
+   * often 0 for thousands of codes, and the scan, which stops once it holds k codes at distance 0
+   * (the smallest ordinals, as ties go), then ends within a few hundred codes, long before another
+   * path could even find all those ties. Scans the first {@code n / }{@value #HEAD_SHARE} codes (at
+   * least {@value #HEAD_MIN}), then further while the codes at distance 0 so far predict k of them
+   * within {@value #HEAD_REACH} of the codes. The answer is in the head's top when its end is n or
+   * when it holds k codes at distance 0.
+   */
+  private Head head(ScanKernel.Words sel, int kk, IntPredicate accept, int maxDist) {
     int n = codes.size(), w = codes.wordsPerCode(), end = Math.min(n, Math.max(HEAD_MIN, n / HEAD_SHARE));
     long[] data = codes.words();
+    TopK top = new TopK(kk);
     ScanKernel.knn(sel, data, w, 0, end, null, accept, top, maxDist);
-    while (end < n && !(top.size() == kk && top.bound() == 0)) {
+    while (true) {
+      if (end == n || top.size() == kk && top.bound() == 0) return new Head(top, end, end);
       Hits h = top.toHits();
       int zeros = 0;
       while (zeros < h.size() && h.dist(zeros) == 0) zeros++;
-      long need = zeros == 0 ? Long.MAX_VALUE : (long) end * kk / zeros * 5 / 4; // a margin over the expected end
-      if (need > HEAD_REACH * n) break;
-      int next = (int) Math.min(n, Math.max(need, 2L * end));
-      ScanKernel.knn(sel, data, w, end, next, null, accept, top, maxDist);
-      end = next;
+      long stop = zeros == 0 ? n : Math.min(n, (long) end * kk / zeros); // expected end of the scan
+      long next = stop * 5 / 4; // with a margin
+      if (next > HEAD_REACH * n) return new Head(top, end, Math.max(stop, end));
+      next = Math.min(n, Math.max(next, 2L * end));
+      ScanKernel.knn(sel, data, w, end, (int) next, null, accept, top, maxDist);
+      end = (int) next;
     }
-    return end;
   }
 
   /** Multi-index hashing over the active tables, falling back to the scan when the planner says so. */
@@ -520,6 +527,12 @@ final class MihSearcher implements CodeSearcher {
       s.path = 0;
       for (int t : active) s.keys[t] = owner.plan.key(query, 0, t);
       return s;
+    }
+
+    /** Marks the last query as answered by the scan before any other work (for {@link #lastQueryWork}). */
+    void answeredByScan() {
+      probes = candidates = 0;
+      path = PATH_SCAN;
     }
 
     void touch(int ord) {
