@@ -50,6 +50,7 @@ final class Partition {
   final int[] ords; // position -> ordinal
   final char[] radius; // position -> distance to its centre
   final int[] maxRadius; // per cluster
+  final int[] radiusBase, radiusStart; // cluster c's first position at radius >= r: radiusStart[radiusBase[c] + r] (see atRadius)
   private final int maxOfMaxRadius;
   private final Radii stored; // radius and maxRadius: the radii over every bit
   private final long[][] segmentMasks; // per segment of the layout: its bits
@@ -85,6 +86,29 @@ final class Partition {
       }
     maxOfMaxRadius = mm;
     stored = new Radii(radius, maxRadius);
+    radiusBase = new int[clusters];
+    int rows = 0;
+    for (int c = 0; c < clusters; c++) {
+      radiusBase[c] = rows;
+      rows += maxRadius[c] + 1;
+    }
+    radiusStart = new int[rows];
+    for (int c = 0, row = 0; c < clusters; c++)
+      for (int r = 0, i = start[c]; r <= maxRadius[c]; r++, row++) {
+        while (i < start[c + 1] && radius[i] < r) i++;
+        radiusStart[row] = i;
+      }
+  }
+
+  /**
+   * The first position of cluster c whose code lies at least {@code r} from its centre (the
+   * cluster's end if none): one look-up in a table built with the partition, where a binary search
+   * over the radii waits on several dependent reads for each of the many clusters a query visits.
+   */
+  int atRadius(int c, int r) {
+    if (r <= 0) return start[c];
+    if (r > maxRadius[c]) return start[c + 1];
+    return radiusStart[radiusBase[c] + r];
   }
 
   int clusters() {
@@ -92,7 +116,8 @@ final class Partition {
   }
 
   long bytes() {
-    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length) + 2L * radius.length;
+    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length)
+        + 2L * radius.length;
   }
 
   /** The partition of {@code block}, or null when it is too small (or its codes too wide for char radii). */
@@ -363,8 +388,8 @@ final class Partition {
         continue;
       }
       // d_M(c,x) <= r(x): codes with r(x) < dq - bound are out under any mask
-      int lo = firstAtLeast(start[c], start[c + 1], dq - bound);
-      int hi = full && v.exact ? firstAtLeast(lo, start[c + 1], dq + bound + 1) : start[c + 1];
+      int lo = atRadius(c, dq - bound);
+      int hi = full && v.exact ? atRadius(c, dq + bound + 1) : start[c + 1];
       v.lo[p] = lo;
       v.hi[p] = hi;
       total += (hi - lo) * (full ? perCode : perTest);
@@ -395,9 +420,10 @@ final class Partition {
       int c = v.order[p], dq = v.dq[p], bound = Math.min(Character.MAX_VALUE, Math.min(maxDist, top.bound()));
       if (dq - maxOfMaxRadius > bound) break; // no later cluster can hold a code within the bound
       if (dq - v.radii.maxRadius[c] > bound) continue;
-      lo = firstAtLeast(lo, hi, dq - bound);
+      lo = Math.max(lo, atRadius(c, dq - bound));
+      if (lo >= hi) continue;
       if (full) {
-        if (v.exact) hi = firstAtLeast(lo, hi, dq + bound + 1);
+        if (v.exact) hi = Math.min(hi, atRadius(c, dq + bound + 1));
         ScanKernel.knn(v.sel, codes, w, lo, hi, ords, accept, top, maxDist);
         continue;
       }
@@ -418,17 +444,5 @@ final class Partition {
         }
       }
     }
-  }
-
-  /** First position in {@code [from, to)} whose radius is at least {@code r} (to if none). */
-  private int firstAtLeast(int from, int to, int r) {
-    if (r <= 0) return from;
-    int lo = from, hi = to;
-    while (lo < hi) {
-      int mid = (lo + hi) >>> 1;
-      if (radius[mid] < r) lo = mid + 1;
-      else hi = mid;
-    }
-    return lo;
   }
 }
