@@ -151,7 +151,8 @@ public final class ScanKernel {
   }
 
   /**
-   * Offers one code that passed the distance test; returns the new bound. Without {@code ords}
+   * Offers one code that passed the distance test; returns the new bound. A code tied with the
+   * k-th distance of a full top enters only with a smaller ordinal (checked before the filter). Without {@code ords}
    * the ordinals rise with the position, so once the top is full a code tied with the k-th
    * distance can no longer enter (ties go to the smaller ordinal): the bound drops by one and such
    * ties are not offered (over one layer of skewed codes tens of thousands of codes can tie); the
@@ -161,6 +162,7 @@ public final class ScanKernel {
    */
   private static int offer(int i, int d, int[] ords, IntPredicate accept, TopK top, int maxDist, int bound) {
     int ord = ords == null ? i : ords[i];
+    if (((long) d << 32 | ord) >= top.worst()) return bound; // a tie that cannot enter: the filter is not asked
     if (accept != null && !accept.test(ord)) return bound;
     top.offer(ord, d);
     int b = top.bound();

@@ -436,9 +436,11 @@ final class Partition {
           pass[m] = i;
           m += Integer.compareUnsigned(rad[i] - least, span) <= 0 ? 1 : 0;
         }
+        // a code tied with the k-th distance enters only with a smaller ordinal than the k-th's:
+        // the others (thousands over one layer of skewed codes) are not offered, nor is the filter asked
         for (int j = 0; j < m; j++) {
           int at = pass[j], d = v.sel.distance(codes, at * w, w, bound);
-          if (d > bound || accept != null && !accept.test(ords[at])) continue;
+          if (d > bound || ((long) d << 32 | ords[at]) >= top.worst() || accept != null && !accept.test(ords[at])) continue;
           top.offer(ords[at], d);
           bound = Math.min(bound, top.bound());
         }
