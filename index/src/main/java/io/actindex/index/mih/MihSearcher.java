@@ -176,6 +176,17 @@ final class MihSearcher implements CodeSearcher {
             : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), auto ? limit : Double.POSITIVE_INFINITY);
         double tablesCost = tablesCost(s, active, bound, plan.constantDistance(query, mask));
         if (!auto || rest <= limit && rest <= tablesCost) {
+          // k codes at distance 0 near the query: there may be thousands, which the partition must
+          // all find while the scan stops after k of them; the scan goes on for what the partition
+          // would cost, so that a wrong guess costs at most that twice
+          if (head != null && bound == 0 && rest > 0) {
+            long more = (long) (rest / (cost.scan(n, sel.at().length) / n));
+            ScanKernel.knn(sel, codes.words(), codes.wordsPerCode(), head.end, (int) Math.min(n, head.end + more), null, accept, head.top, maxDist);
+            if (head.top.size() == kk && head.top.bound() == 0 || head.end + more >= n) {
+              s.path = PATH_SCAN;
+              return head.top.toHits();
+            }
+          }
           s.path = PATH_PARTITION;
           if (rest > 0) partition.finish(s.visit, from, accept, top, maxDist);
           return top.toHits();
