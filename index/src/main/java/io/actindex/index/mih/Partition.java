@@ -23,8 +23,8 @@ import java.util.stream.IntStream;
  * a query at distance {@code d(q,c)} from centre c, every member x has {@code d(q,x) >= |d(q,c) -
  * r(x)|}; so with the k-th best distance B so far, a cluster is skipped when {@code d(q,c) -
  * maxR(c) > B}, and inside a cluster only the run of codes with {@code r(x)} in {@code [d(q,c) - B,
- * d(q,c) + B]} (two binary searches) is scanned. Clusters are visited nearest first, so B drops
- * fast. Exactness needs only that {@code r(x)} is the true distance to the centre (it is recomputed
+ * d(q,c) + B]} (two look-ups in a table of first positions per radius) is scanned. Clusters are
+ * visited nearest first, so B drops fast. Exactness needs only that {@code r(x)} is the true distance to the centre (it is recomputed
  * on load); how well the centres fit the data decides the speed alone.
  *
  * <p>A masked distance (the bits of some layers) is a pseudometric, so the same inequality holds
