@@ -92,6 +92,7 @@ public final class Report {
     storage(sb, results);
     onDisk(sb, results);
     targets(sb, results, rows, facts);
+    realScaleTargets(sb, results);
     return sb.toString();
   }
 
@@ -380,6 +381,54 @@ public final class Report {
     sb.append("- Lucene HNSW recall@10 against exact cosine: ").append(fmt(fact(facts, "hnsw", in, "recall_vs_cosine")))
         .append(" in distribution, ").append(fmt(fact(facts, "hnsw", ood, "recall_vs_cosine")))
         .append(" out of distribution (HNSW median ").append(fmt(micros(hnswOod))).append(" µs OOD); actindex is exact on both.\n");
+  }
+
+  /**
+   * The targets of the index at real scale: {@code RealUseBench} scenarios (1M 256-bit codes, 10-NN,
+   * in distribution) against the plain scan or the clean single segment of the same run, the worst
+   * scenario on any query set against its scan, and {@code StoreBench}'s open and in-process build.
+   */
+  private static void realScaleTargets(StringBuilder sb, List<Result> results) {
+    sb.append("\n### Targets at real scale (1M 256-bit codes, exact 10-NN; ratios within one run)\n\n");
+    for (String data : List.of("dense", "relu")) {
+      double scan = realUse(results, data, "in", "scan"), clean = realUse(results, data, "in", "clean");
+      double filter = realUse(results, data, "in", "filter1"), tomb = realUse(results, data, "in", "tomb1");
+      double segs = realUse(results, data, "in", "segments10");
+      target(sb, data + ", in distribution: index at most 0.3 x plain scan", clean / scan <= 0.3, clean / scan,
+          "index " + fmt(clean) + " µs vs scan " + fmt(scan) + " µs = " + ratio(clean / scan));
+      target(sb, data + ": a 1% filter at most 0.1 x plain scan", filter / scan <= 0.1, filter / scan,
+          "filtered " + fmt(filter) + " µs vs scan " + fmt(scan) + " µs = " + ratio(filter / scan));
+      target(sb, data + ": one tombstone at most 1.1 x the clean index", tomb / clean <= 1.1, tomb / clean,
+          fmt(tomb) + " µs vs " + fmt(clean) + " µs = " + ratio(tomb / clean));
+      target(sb, data + ": ten segments at most 1.3 x one", segs / clean <= 1.3, segs / clean,
+          fmt(segs) + " µs vs " + fmt(clean) + " µs = " + ratio(segs / clean));
+    }
+    double worst = Double.NaN;
+    String worstAt = "";
+    for (Result r : results) {
+      if (!r.bench().equals("RealUseBench") || r.p("scenario").endsWith("scan")) continue;
+      double v = r.micros() / realUse(results, r.p("data"), r.p("queries"), "scan");
+      if (!Double.isNaN(v) && (Double.isNaN(worst) || v > worst)) {
+        worst = v;
+        worstAt = r.p("data") + ", " + r.p("queries") + ", " + r.p("scenario");
+      }
+    }
+    target(sb, "never above 1.1 x the plain scan (worst measured scenario)", worst <= 1.1, worst, worstAt + ": " + ratio(worst));
+    for (Result r : results) {
+      if (!"1000000".equals(r.p("n"))) continue;
+      if (r.bench().equals("StoreBench") && r.method().equals("open"))
+        target(sb, r.p("data") + ": open of the 1M-code index at most 100 ms (warm)", r.micros() <= 100e3, r.micros(), fmt(r.micros() / 1e3) + " ms");
+      if (r.bench().equals("Build"))
+        target(sb, r.p("data") + ": build of 1M codes from .npy at most 5 s wall on 2 cores", r.micros() <= 5e6, r.micros(),
+            fmt(r.micros() / 1e6) + " s in process (the command line adds the JVM's start)");
+    }
+  }
+
+  /** Median µs of a {@code RealUseBench} scenario at 1M 256-bit codes, k = 10; NaN when not measured. */
+  private static double realUse(List<Result> results, String data, String queries, String scenario) {
+    Result r = first(results, x -> x.bench().equals("RealUseBench") && x.p("scenario").equals(scenario) && x.p("data").equals(data)
+        && x.p("queries").equals(queries) && x.p("n").equals("1000000") && x.p("bits").equals("256") && x.p("k").equals("10"));
+    return r == null ? Double.NaN : r.micros();
   }
 
   private static double fact(Map<String, Map<String, Double>> facts, String id, Map<String, String> key, String name) {

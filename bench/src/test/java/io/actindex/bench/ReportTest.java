@@ -96,6 +96,33 @@ class ReportTest {
   void missingFiguresAreSaidToBeMissing() {
     String md = Report.render(List.of(), Map.of());
     assertThat(md).contains("at most 0.4 x plain scan: **NOT MEASURED**");
+    assertThat(md).contains("relu: ten segments at most 1.3 x one: **NOT MEASURED**");
+    assertThat(md).contains("never above 1.1 x the plain scan (worst measured scenario): **NOT MEASURED**");
+  }
+
+  @Test
+  void realScaleTargetsAreJudgedWithinTheRun() {
+    List<Report.Result> rs = new ArrayList<>();
+    double[][] micros = {{2000, 400, 150, 420, 700, 2300}, {1000, 100, 120, 105, 125, 900}}; // scan clean filter1 tomb1 segments10 mask
+    String[] scenarios = {"scan", "clean", "filter1", "tomb1", "segments10", "mask"};
+    String[] data = {"dense", "relu"};
+    for (int d = 0; d < 2; d++)
+      for (int s = 0; s < scenarios.length; s++)
+        rs.add(knn("RealUseBench", p("data", data[d], "n", "1000000", "bits", "256", "k", "10", "queries", "in", "scenario", scenarios[s]),
+            micros[d][s]));
+    rs.add(new Report.Result("StoreBench", "open", "avgt", 1, p("data", "relu", "n", "1000000", "bits", "256"), 54, Double.NaN, "ms/op"));
+    rs.add(new Report.Result("Build", "build", "ss", 1, p("data", "relu", "n", "1000000", "bits", "256"), 6200, Double.NaN, "ms/op"));
+    String md = Report.render(rs, Map.of());
+    assertThat(md).contains("dense, in distribution: index at most 0.3 x plain scan: **met** — index 400 µs vs scan 2000 µs = 0.200×");
+    assertThat(md).contains("dense: a 1% filter at most 0.1 x plain scan: **met** — filtered 150 µs vs scan 2000 µs = 0.075×");
+    assertThat(md).contains("relu: a 1% filter at most 0.1 x plain scan: **MISSED** — filtered 120 µs vs scan 1000 µs = 0.120×");
+    assertThat(md).contains("dense: one tombstone at most 1.1 x the clean index: **met** — 420 µs vs 400 µs = 1.05×");
+    assertThat(md).contains("dense: ten segments at most 1.3 x one: **MISSED** — 700 µs vs 400 µs = 1.75×");
+    assertThat(md).contains("relu: ten segments at most 1.3 x one: **met** — 125 µs vs 100 µs = 1.25×");
+    // worst: dense mask 2300 / 2000 = 1.15
+    assertThat(md).contains("never above 1.1 x the plain scan (worst measured scenario): **MISSED** — dense, in, mask: 1.15×");
+    assertThat(md).contains("relu: open of the 1M-code index at most 100 ms (warm): **met** — 54.0 ms");
+    assertThat(md).contains("relu: build of 1M codes from .npy at most 5 s wall on 2 cores: **MISSED** — 6.20 s in process");
   }
 
   @Test

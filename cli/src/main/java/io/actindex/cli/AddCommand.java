@@ -17,6 +17,7 @@ final class AddCommand implements Callable<Integer> {
   @Mixin Verbose verbose;
   @Mixin IndexOption index;
   @Mixin BuildSourceOptions source;
+  @Mixin StructureThreadsOption threads;
   @Mixin FormatOption format;
 
   @Override
@@ -24,7 +25,7 @@ final class AddCommand implements Callable<Integer> {
     source.check(null, false);
     if (source.codeLayout != null)
       throw new ParameterException(spec.commandLine(), "--code-layout is for build; add reads codes in the index's layout");
-    IndexBuilder.AddParams params = new IndexBuilder.AddParams(index.dir, source.toSource(null), source.metaOptions(), 0);
+    IndexBuilder.AddParams params = new IndexBuilder.AddParams(index.dir, source.toSource(null), source.metaOptions(), 0, threads.value());
     IndexBuilder.Result result;
     try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "encoding rows")) {
       result = IndexBuilder.add(params, bar);

@@ -54,9 +54,7 @@ final class BuildCommand implements Callable<Integer> {
           "Default: 8 for activations and inputs (one byte per unit), off for codes."})
   String magnitudes;
 
-  @Option(names = "--threads", paramLabel = "N", defaultValue = "0",
-      description = "Worker threads for the search structures (the index does not depend on it). Default: 0 = one per core.")
-  int threads;
+  @Mixin StructureThreadsOption threads;
 
   @Mixin LayersOption layers;
   @Mixin FormatOption format;
@@ -64,7 +62,6 @@ final class BuildCommand implements Callable<Integer> {
   @Override
   public Integer call() {
     source.check(model, true);
-    if (threads < 0) throw new ParameterException(spec.commandLine(), "--threads must be 0 or more, got " + threads);
     if (threshold != null && median)
       throw new ParameterException(spec.commandLine(), "--threshold and --median exclude each other");
     if (threshold != null && !Double.isFinite(threshold))
@@ -76,7 +73,7 @@ final class BuildCommand implements Callable<Integer> {
       throw new ParameterException(spec.commandLine(), "--layer-order: empty layer name in " + layerOrder);
     EncodeOptions encode = new EncodeOptions(rule, threshold == null ? 0 : threshold, layers.layers).withModel(layerOrder, !noOutputLayer);
     IndexBuilder.BuildParams params = new IndexBuilder.BuildParams(out, source.toSource(model), source.metaOptions(), encode,
-        source.codeLayout(), 0, magnitudeBits(), threads);
+        source.codeLayout(), 0, magnitudeBits(), threads.value());
     IndexBuilder.Result result;
     try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "encoding rows")) {
       result = IndexBuilder.build(params, bar);

@@ -19,11 +19,12 @@ final class CompactCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
   @Mixin IndexOption index;
+  @Mixin StructureThreadsOption threads;
   @Mixin FormatOption format;
 
   @Override
   public Integer call() {
-    Compact.Result r = Compact.run(new Compact.Params(index.dir));
+    Compact.Result r = Compact.run(new Compact.Params(index.dir, threads.value()));
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
       case json -> {

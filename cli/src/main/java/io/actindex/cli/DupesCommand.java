@@ -128,12 +128,13 @@ final class DupesCommand implements Callable<Integer> {
         w.write(header);
         w.write('\n');
       } catch (IOException e) {
+        RuntimeException f = failure(e); // before the temporary file's space is freed
         try {
           if (t != null) Files.deleteIfExists(t);
         } catch (IOException suppressed) {
           e.addSuppressed(suppressed);
         }
-        throw failure(e);
+        throw f;
       }
       this.temp = t;
     }
@@ -159,7 +160,7 @@ final class DupesCommand implements Callable<Integer> {
     }
 
     private RuntimeException failure(IOException e) {
-      if (DiskFull.in(e)) return DiskFull.refusal(target.toString(), "the pairs file was not written (a file already there is unchanged)", e);
+      if (DiskFull.in(e, target)) return DiskFull.refusal(target.toString(), "the pairs file was not written (a file already there is unchanged)", e);
       return new UncheckedIOException("cannot write " + target + ": " + e.getMessage(), e);
     }
 

@@ -6,8 +6,10 @@ import io.actindex.query.Snippet;
 import java.io.PrintWriter;
 import java.nio.file.AccessDeniedException;
 import java.nio.file.FileSystemException;
+import java.nio.file.InvalidPathException;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.NotDirectoryException;
+import java.nio.file.Path;
 import picocli.CommandLine;
 import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.ParseResult;
@@ -94,12 +96,25 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
         return f.getFile() + ": not a folder (a part of this path is a file)";
     }
     // a full disk that no writer named: the file when the JDK says it, else the system's text
-    if (DiskFull.in(ex)) {
-      for (Throwable t = ex; t != null; t = t.getCause() == t ? null : t.getCause())
-        if (t instanceof FileSystemException f && f.getFile() != null) return DiskFull.refusal(f.getFile(), "not written", ex).getMessage();
-      return DiskFull.refusal("writing an output", "not finished", ex).getMessage();
-    }
+    String file = fileIn(ex);
+    if (DiskFull.in(ex, file == null ? null : pathOrNull(file)))
+      return DiskFull.refusal(file != null ? file : "writing an output", file != null ? "not written" : "not finished", ex).getMessage();
     return null;
+  }
+
+  /** The file a {@link FileSystemException} in the chain names, else null. */
+  private static String fileIn(Throwable ex) {
+    for (Throwable t = ex; t != null; t = t.getCause() == t ? null : t.getCause())
+      if (t instanceof FileSystemException f && f.getFile() != null) return f.getFile();
+    return null;
+  }
+
+  private static Path pathOrNull(String file) {
+    try {
+      return Path.of(file);
+    } catch (InvalidPathException e) {
+      return null;
+    }
   }
 
   /** The message on one line: control characters escaped, cut at {@link #MAX_MESSAGE} characters. */

@@ -370,6 +370,8 @@ final class OodCommand implements Callable<Integer> {
             for (String l : v.layers()) j.value(l);
             j.endArray().member("auroc", v.auroc()).member("fpr_at_95_tpr", v.fprAt95Tpr()).endObject();
           }
+          j.endArray().name("warnings").beginArray();
+          for (String w : r.warnings()) j.value(w);
           j.endArray().member("caution", OodCalibration.CAUTION).endObject();
           out.println();
         }
@@ -398,6 +400,7 @@ final class OodCommand implements Callable<Integer> {
           v.print(out, "  ");
         }
       }
+      Summaries.warnings(spec.commandLine().getErr(), r.warnings());
       caution(out, spec.commandLine().getErr(), format.format);
       out.flush();
       return ExitCodes.OK;

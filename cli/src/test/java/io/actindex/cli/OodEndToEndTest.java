@@ -205,6 +205,22 @@ class OodEndToEndTest {
     Cli.Result d3 = Cli.run("ood", "score", "--index", i, "--activations", outF.toString(), "--decision-only", "--threads", "3", "--format", "csv");
     assertThat(d1.code()).as(d1.describe()).isZero();
     assertThat(d3.out()).isEqualTo(d1.out()).contains(",out,");
+    // the code calibration is stored now: --train-floats with one row per id gives the refined score; with another row count the
+    // float score still runs on all rows and the missing refined score is said, on stderr and in the JSON
+    for (Path train : List.of(trainF, calF)) {
+      Cli.Result e = Cli.run("ood", "eval", "--index", i, "--in", inF.toString(), "--out", outF.toString(), "--in-floats", inF.toString(),
+          "--out-floats", outF.toString(), "--train-floats", train.toString(), "--format", "json");
+      assertThat(e.code()).as(e.describe()).isZero();
+      JsonNode j = JSON.readTree(e.out());
+      boolean matches = train.equals(trainF);
+      assertThat(j.get("scores").findValuesAsText("name")).as(e.describe()).contains("code", "float");
+      assertThat(j.get("scores").findValuesAsText("name").contains("refined")).as(e.describe()).isEqualTo(matches);
+      assertThat(j.get("warnings").size()).as(e.describe()).isEqualTo(matches ? 0 : 1);
+      if (!matches) {
+        assertThat(j.get("warnings").get(0).asText()).contains(calF + " has 60 rows but the index has 300 ids");
+        assertThat(e.err()).contains("warning: no refined score: " + calF);
+      }
+    }
     for (String sub : List.of("calibrate", "score", "eval"))
       assertThat(Cli.run("ood", sub, "--help").out().replaceAll("\\s+", " ")).as(sub).contains("--threads=N Worker threads").contains("Default: 0; 0 = one per core");
   }

@@ -40,7 +40,7 @@ class StorageCommandsEndToEndTest {
     idx = tmp.resolve("idx");
     ok(Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c1.npy"), first).toString(),
         "--meta", Files2.text(tmp.resolve("m1.csv"), meta).toString()));
-    ok(Cli.run("add", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("c2.npy"), second).toString()));
+    ok(Cli.run("add", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("c2.npy"), second).toString(), "--threads", "1"));
     for (int i = 0; i < 300; i++) live.add(i);
   }
 
@@ -67,7 +67,7 @@ class StorageCommandsEndToEndTest {
     assertThat(d.get("live").asInt()).isEqualTo(live.size());
     nearestMatchesScan();
 
-    JsonNode c = json(Cli.run("compact", "--index", idx.toString(), "--format", "json"));
+    JsonNode c = json(Cli.run("compact", "--index", idx.toString(), "--format", "json", "--threads", "3"));
     assertThat(c.get("stored_after").asInt()).isEqualTo(live.size());
     assertThat(c.get("segments_after").asInt()).isLessThanOrEqualTo(c.get("segments_before").asInt());
     nearestMatchesScan();
@@ -136,6 +136,12 @@ class StorageCommandsEndToEndTest {
       args.set(2, file.toString());
       refused(Cli.run(args.toArray(String[]::new)), "plain-file");
     }
+    Path more = Files2.bits(tmp.resolve("more.npy"), new boolean[][] {codes[0]});
+    for (String[] args : List.of(new String[] {"add", "--index", idx.toString(), "--codes", more.toString(), "--threads", "-1"},
+        new String[] {"compact", "--index", idx.toString(), "--threads", "-2"},
+        new String[] {"build", "--out", tmp.resolve("idx2").toString(), "--codes", more.toString(), "--threads", "-1"}))
+      refused(Cli.run(args), "--threads must be 0 or more");
+    assertThat(tmp.resolve("idx2")).doesNotExist();
     Path plain = Files2.text(tmp.resolve("plain-file"), List.of("x"));
     refused(Cli.run("build", "--out", plain.resolve("idx").toString(), "--codes",
         Files2.bits(tmp.resolve("one.npy"), new boolean[][] {codes[0]}).toString()), "plain-file");

@@ -62,12 +62,13 @@ public final class OutputFiles {
       }
       moveIntoPlace(tmp, target);
     } catch (IOException | RuntimeException e) {
+      boolean full = DiskFull.in(e, target); // before the temporary file's space is freed
       try {
         Files.deleteIfExists(tmp);
       } catch (IOException suppressed) {
         e.addSuppressed(suppressed);
       }
-      if (DiskFull.in(e)) throw DiskFull.refusal(target.toString(), "it was not written (a file already there is unchanged)", e);
+      if (full) throw DiskFull.refusal(target.toString(), "it was not written (a file already there is unchanged)", e);
       throw e;
     }
   }

@@ -43,6 +43,28 @@ class DiskFullTest {
     assertThat(DiskFull.in(null)).isFalse();
   }
 
+  /**
+   * In another system language the text is not English ("Auf dem Gerät ist kein Speicherplatz mehr verfügbar" is glibc's German
+   * for ENOSPC: what the JDK printed for a write to /dev/full under LC_ALL=de_DE.UTF-8 on Debian, 2026-12-03): an I/O error while the file system has under 1 MiB left counts as a full disk, an I/O error on a
+   * file system with room does not, and a refusal made once is still recognised after wrapping.
+   */
+  @Test
+  void recognisesAFullFileSystemInAnyLanguage() throws IOException {
+    IOException german = new IOException("Auf dem Gerät ist kein Speicherplatz mehr verfügbar");
+    assertThat(DiskFull.in(german)).isFalse();
+    assertThat(DiskFull.nearlyFull(german, 0)).isTrue();
+    assertThat(DiskFull.nearlyFull(new UncheckedIOException("cannot write", german), 4096)).isTrue();
+    assertThat(DiskFull.nearlyFull(german, DiskFull.NEARLY_FULL)).isFalse();
+    assertThat(DiskFull.nearlyFull(new IllegalStateException("closing"), 0)).as("only I/O errors").isFalse();
+    Assumptions.assumeTrue(DiskFull.usableBytes(tmp) > DiskFull.NEARLY_FULL, "the test's own disk is nearly full");
+    assertThat(DiskFull.in(german, tmp.resolve("not/yet/there.bin"))).as("room left: an ordinary I/O error").isFalse();
+    assertThat(DiskFull.usableBytes(tmp.resolve("not/yet/there.bin"))).isEqualTo(Files.getFileStore(tmp).getUsableSpace());
+    BadInputException r = DiskFull.refusal("out.csv", "not written", german);
+    assertThat(r.getMessage()).isEqualTo("out.csv: no space left on device (Auf dem Gerät ist kein Speicherplatz mehr verfügbar); not written; "
+        + "free some space and run again");
+    assertThat(DiskFull.in(new IllegalStateException("wrapped", r))).isTrue();
+  }
+
   @Test
   void refusalNamesThePlaceOnOneLine() {
     BadInputException r = DiskFull.refusal("out/page.html", "it was not written", new UncheckedIOException(realEnospc()));

@@ -1,5 +1,6 @@
 package io.actindex.query;
 
+import io.actindex.core.Forked;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import java.nio.file.Path;
@@ -13,9 +14,15 @@ import java.util.Objects;
 public final class Compact {
   private Compact() {}
 
-  public record Params(Path dir) {
+  /** {@code threads}: workers for the merged segments' search structures (0 = one per core). */
+  public record Params(Path dir, int threads) {
     public Params {
       Objects.requireNonNull(dir, "dir");
+      if (threads < 0) throw new IllegalArgumentException("threads must be 0 (one per core) or more, got " + threads);
+    }
+
+    public Params(Path dir) {
+      this(dir, 0);
     }
   }
 
@@ -42,7 +49,10 @@ public final class Compact {
     }
     List<String> warnings;
     try (IndexWriter w = IndexWriter.open(p.dir())) {
-      w.compact();
+      Forked.withThreads(p.threads(), () -> {
+        w.compact();
+        return null;
+      });
       warnings = w.takeWarnings();
     }
     try (IndexReader r = IndexReader.open(p.dir())) {

@@ -80,11 +80,19 @@ public final class IndexBuilder {
     }
   }
 
-  /** New rows for the index in {@code dir}, encoded as the index was built. */
-  public record AddParams(Path dir, Source source, MetaCsv.Options meta, int chunkRows) {
+  /**
+   * New rows for the index in {@code dir}, encoded as the index was built; {@code threads} build the
+   * new segment's search structures and any merge it triggers (0 = one per core).
+   */
+  public record AddParams(Path dir, Source source, MetaCsv.Options meta, int chunkRows, int threads) {
     public AddParams {
       java.util.Objects.requireNonNull(dir, "dir");
       java.util.Objects.requireNonNull(source, "source");
+      if (threads < 0) throw new IllegalArgumentException("threads must be 0 (one per core) or more, got " + threads);
+    }
+
+    public AddParams(Path dir, Source source, MetaCsv.Options meta, int chunkRows) {
+      this(dir, source, meta, chunkRows, 0);
     }
   }
 
@@ -227,7 +235,8 @@ public final class IndexBuilder {
         }
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
-      int first = w.add(codes, mags, meta);
+      Magnitudes kept = mags;
+      int first = Forked.withThreads(p.threads(), () -> w.add(codes, kept, meta));
       return new Result(first, codes.size(), codes.layout(), notes, encode, mags == null ? null : Quantisation.of(mags, values),
           w.takeWarnings());
     }

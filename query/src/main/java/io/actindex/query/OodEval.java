@@ -70,7 +70,8 @@ public final class OodEval {
    * {@code floats}, {@code refined} and {@code softmax} are null when they do not apply. {@code
    * refined} needs training floats whose rows are the index's ids (one row per id, in build order).
    */
-  public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored refined, Scored softmax) {
+  public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored refined, Scored softmax,
+      List<String> warnings) {
     /** The scores that apply, code score first. */
     public List<Scored> scores() {
       List<Scored> s = new ArrayList<>(List.of(code));
@@ -110,6 +111,7 @@ public final class OodEval {
             code = new Scored("code", "Hamming k-NN score on codes (k=" + k + ", " + st.label + ", layers " + layerLabel(cal.layers()) + ")", a, b, m);
         }
     Scored floats = null, refined = null;
+    List<String> warnings = new ArrayList<>();
     if (p.trainFloats() != null) {
       FloatKnnScore f = new FloatKnnScore(p.trainFloats());
       double[][] qa = f.queries(p.inFloats()), qb = f.queries(p.outFloats());
@@ -127,6 +129,9 @@ public final class OodEval {
         refined = Scored.of("refined", "float k-NN distance among the " + c + " nearest codes (k=" + cal.k() + ", exact within the candidates)",
             f.refined(qa, candidates(reader, in.codes(), c, mask, threads), cal.k()),
             f.refined(qb, candidates(reader, out.codes(), c, mask, threads), cal.k()));
+      } else if (scorer.kind() == OodScorer.Kind.CODE) {
+        warnings.add("no refined score: " + p.trainFloats() + " has " + f.rows() + " rows but the index has " + reader.maxId()
+            + " ids (the refined score needs one row per index id, in build order); the float score uses all its rows");
       }
     }
     if (scorer.kind() == OodScorer.Kind.REFINED)
@@ -136,7 +141,7 @@ public final class OodEval {
     Scored softmax = null;
     double[] sa = SoftmaxBaseline.scores(reader, p.in(), RowRange.ALL), sb = SoftmaxBaseline.scores(reader, p.out(), RowRange.ALL);
     if (sa != null && sb != null) softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)", sa, sb);
-    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax);
+    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings));
   }
 
   /** Hamming candidates the refined score re-ranks. */

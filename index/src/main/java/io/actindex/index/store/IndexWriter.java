@@ -90,7 +90,7 @@ public final class IndexWriter implements AutoCloseable {
         throw e;
       }
     } catch (IOException | RuntimeException e) {
-      if (DiskFull.in(e)) throw DiskFull.refusal("index " + dir, "the index was not created", e);
+      if (DiskFull.in(e, dir)) throw DiskFull.refusal("index " + dir, "the index was not created", e);
       if (e instanceof IOException io2) throw new UncheckedIOException("cannot create index in " + dir, io2);
       throw (RuntimeException) e;
     }
@@ -416,12 +416,14 @@ public final class IndexWriter implements AutoCloseable {
     try {
       m.run();
     } catch (IOException e) {
+      boolean full = DiskFull.in(e, dir); // before fail() frees what the change wrote
       boolean undone = fail(e);
-      if (DiskFull.in(e)) throw diskFull(e, undone);
+      if (full) throw diskFull(e, undone);
       throw new UncheckedIOException("index " + dir + ": write failed; the last commit stands", e);
     } catch (RuntimeException | Error e) {
+      boolean full = DiskFull.in(e, dir);
       boolean undone = fail(e);
-      if (DiskFull.in(e)) throw diskFull(e, undone);
+      if (full) throw diskFull(e, undone);
       throw e;
     }
   }
