@@ -152,7 +152,7 @@ final class MihSearcher implements CodeSearcher {
     Head head = null;
     if (mask != null && auto && !(accept instanceof IdSet set && set.count() <= ScanSearcher.WALK_SHARE * n)) {
       head = head(sel, kk, accept, maxDist);
-      if (head.end == n || head.top.size() == kk && head.top.bound() == 0) {
+      if (head.done()) {
         scratch.get().answeredByScan();
         return head.top.toHits();
       }
@@ -171,22 +171,21 @@ final class MihSearcher implements CodeSearcher {
         int from = partition.begin(query, mask, codes.layout().bits(), s.visit, accept, top, kk,
             head != null && head.top.size() == kk ? Integer.MAX_VALUE : maxDist);
         int bound = top.size() == kk ? Math.min(maxDist, top.bound()) : maxDist;
+        if (head != null && bound == 0 && from < partition.clusters()) {
+          // k codes at distance 0 near the query: there may be thousands, which the partition must
+          // all find while the scan stops after k of them; the scan goes on to n/8 first
+          head.scanTo(Math.max(head.end, (int) (HEAD_REACH * n)), sel, accept, maxDist);
+          if (head.done()) {
+            s.path = PATH_SCAN;
+            return head.top.toHits();
+          }
+          scanCost = cost.scan(n - head.end, sel.at().length);
+        }
         double limit = (mask == null ? PROVEN : MASKED_PROVEN) * scanCost;
         double rest = from == partition.clusters() ? 0
             : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), auto ? limit : Double.POSITIVE_INFINITY);
         double tablesCost = tablesCost(s, active, bound, plan.constantDistance(query, mask));
         if (!auto || rest <= limit && rest <= tablesCost) {
-          // k codes at distance 0 near the query: there may be thousands, which the partition must
-          // all find while the scan stops after k of them; the scan goes on for what the partition
-          // would cost, so that a wrong guess costs at most that twice
-          if (head != null && bound == 0 && rest > 0) {
-            long more = (long) (rest / (cost.scan(n, sel.at().length) / n));
-            ScanKernel.knn(sel, codes.words(), codes.wordsPerCode(), head.end, (int) Math.min(n, head.end + more), null, accept, head.top, maxDist);
-            if (head.top.size() == kk && head.top.bound() == 0 || head.end + more >= n) {
-              s.path = PATH_SCAN;
-              return head.top.toHits();
-            }
-          }
           s.path = PATH_PARTITION;
           if (rest > 0) partition.finish(s.visit, from, accept, top, maxDist);
           return top.toHits();
@@ -214,7 +213,28 @@ final class MihSearcher implements CodeSearcher {
    * {@code stop}, where the whole scan is expected to end (n, or earlier when it is expected to find
    * k codes at distance 0 before).
    */
-  private record Head(TopK top, int end, long stop) {}
+  private final class Head {
+    final TopK top;
+    final int k;
+    int end;
+    long stop;
+
+    Head(int k) {
+      this.k = k;
+      top = new TopK(k);
+    }
+
+    /** Scans on to position {@code to}. */
+    void scanTo(int to, ScanKernel.Words sel, IntPredicate accept, int maxDist) {
+      ScanKernel.knn(sel, codes.words(), codes.wordsPerCode(), end, to, null, accept, top, maxDist);
+      end = Math.max(end, to);
+    }
+
+    /** Whether the top is the scan's answer: every code seen, or k codes at distance 0. */
+    boolean done() {
+      return end == codes.size() || top.size() == k && top.bound() == 0;
+    }
+  }
 
   /**
    * The plain scan's first codes under a mask: a masked distance (one layer of skewed codes) is
@@ -222,26 +242,23 @@ final class MihSearcher implements CodeSearcher {
    * (the smallest ordinals, as ties go), then ends within a few hundred codes, long before another
    * path could even find all those ties. Scans the first {@code n / }{@value #HEAD_SHARE} codes (at
    * least {@value #HEAD_MIN}), then further while the codes at distance 0 so far predict k of them
-   * within {@value #HEAD_REACH} of the codes. The answer is in the head's top when its end is n or
-   * when it holds k codes at distance 0.
+   * within {@value #HEAD_REACH} of the codes. The answer is in the head's top when it is {@link
+   * Head#done}.
    */
   private Head head(ScanKernel.Words sel, int kk, IntPredicate accept, int maxDist) {
-    int n = codes.size(), w = codes.wordsPerCode(), end = Math.min(n, Math.max(HEAD_MIN, n / HEAD_SHARE));
-    long[] data = codes.words();
-    TopK top = new TopK(kk);
-    ScanKernel.knn(sel, data, w, 0, end, null, accept, top, maxDist);
-    while (true) {
-      if (end == n || top.size() == kk && top.bound() == 0) return new Head(top, end, end);
-      Hits h = top.toHits();
+    int n = codes.size();
+    Head head = new Head(kk);
+    head.scanTo(Math.min(n, Math.max(HEAD_MIN, n / HEAD_SHARE)), sel, accept, maxDist);
+    while (!head.done()) {
+      Hits h = head.top.toHits();
       int zeros = 0;
       while (zeros < h.size() && h.dist(zeros) == 0) zeros++;
-      long stop = zeros == 0 ? n : Math.min(n, (long) end * kk / zeros); // expected end of the scan
-      long next = stop * 5 / 4; // with a margin
-      if (next > HEAD_REACH * n) return new Head(top, end, Math.max(stop, end));
-      next = Math.min(n, Math.max(next, 2L * end));
-      ScanKernel.knn(sel, data, w, end, (int) next, null, accept, top, maxDist);
-      end = (int) next;
+      head.stop = zeros == 0 ? n : Math.max(head.end, Math.min(n, (long) head.end * kk / zeros)); // expected end of the scan
+      long next = head.stop * 5 / 4; // with a margin
+      if (next > HEAD_REACH * n) break;
+      head.scanTo((int) Math.min(n, Math.max(next, 2L * head.end)), sel, accept, maxDist);
     }
+    return head;
   }
 
   /** Multi-index hashing over the active tables, falling back to the scan when the planner says so. */
