@@ -32,7 +32,7 @@ import org.openjdk.jmh.annotations.Warmup;
  * report scales it by {@code (n / 100k)^2}. One shot per iteration (a join takes seconds).
  */
 @State(Scope.Benchmark)
-@Fork(value = 1, jvmArgsAppend = {"-Xms2g", "-Xmx8g"})
+@Fork(value = 1, jvmArgsAppend = {"-Xms2g", "-Xmx8g", "--add-modules=jdk.incubator.vector"})
 @Warmup(iterations = 1)
 @Measurement(iterations = 3)
 public class SelfJoinBench {

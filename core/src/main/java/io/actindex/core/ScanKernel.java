@@ -15,6 +15,10 @@ import java.util.function.IntPredicate;
  *
  * <p>Distance first: the filter is asked only about codes that would enter the top k, so a filter
  * that accepts most codes costs almost nothing, and a slow predicate is called rarely.
+ *
+ * <p>These are the scalar loops; {@link VectorKernel} holds the Vector API ones, run where it
+ * {@link VectorKernel#handles handles} the width when {@link Loops#CHOSEN} (or the caller) says
+ * {@link Loops#VECTOR}.
  */
 public final class ScanKernel {
   private ScanKernel() {}
@@ -42,6 +46,16 @@ public final class ScanKernel {
   /** As {@link #knn(long[], long[], long[], int, int, int, int[], IntPredicate, TopK, int)} with the selection made once per query. */
   public static void knn(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept, TopK top,
       int maxDist) {
+    knn(Loops.CHOSEN, s, data, w, from, to, ords, accept, top, maxDist);
+  }
+
+  /** As {@link #knn(Words, long[], int, int, int, int[], IntPredicate, TopK, int)} through the given loops (benchmarks and tests). */
+  public static void knn(Loops loops, Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    if (loops == Loops.VECTOR && to - from >= 8 && VectorKernel.handles(w, s.at.length)) {
+      from = VectorKernel.knn(s.wq, s.wm, data, w, from, to, ords, accept, top, maxDist);
+      if (from == to) return;
+    }
     if (s.at.length == w) {
       switch (w) {
         case 1 -> all1(s.q, s.m, data, from, to, ords, accept, top, maxDist);
@@ -81,7 +95,7 @@ public final class ScanKernel {
   public static void knnPair(long[] q, int w, long[] a, int aFrom, int aTo, int[] aOrds, long[] b, int bFrom, int bTo,
       int[] bOrds, IntPredicate accept, TopK top, int maxDist) {
     int both = Math.min(aTo - aFrom, bTo - bFrom);
-    if (w == 4) {
+    if (w == 4 && Loops.CHOSEN == Loops.SCALAR) {
       long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
       int bound = Math.min(maxDist, top.bound());
       for (int t = 0, i = aFrom, j = bFrom, ai = aFrom * 4, bj = bFrom * 4; t < both; t++, i++, j++, ai += 4, bj += 4) {
@@ -98,11 +112,44 @@ public final class ScanKernel {
   }
 
   /**
+   * The positions {@code y} in {@code [from, to)} of {@code data} (w words per code) whose code is
+   * within {@code radius} of the code at word {@code qOff} of {@code q} (which may be {@code data}
+   * itself), written to {@code out} in ascending order; returns their count. The hot loop of the
+   * self-join (one member of a bucket against the later ones).
+   */
+  public static int within(long[] q, int qOff, long[] data, int w, int from, int to, int radius, int[] out) {
+    return within(Loops.CHOSEN, q, qOff, data, w, from, to, radius, out);
+  }
+
+  /** As {@link #within(long[], int, long[], int, int, int, int, int[])} through the given loops (benchmarks and tests). */
+  public static int within(Loops loops, long[] q, int qOff, long[] data, int w, int from, int to, int radius, int[] out) {
+    int found = 0, y = from;
+    if (loops == Loops.VECTOR && to - from >= 8 && (w == 1 || w == 2 || w == 4)) {
+      long r = VectorKernel.within(q, qOff, data, w, from, to, radius, out, 0);
+      y = (int) (r >>> 32);
+      found = (int) r;
+    }
+    if (w == 4) { // the query in registers
+      long x0 = q[qOff], x1 = q[qOff + 1], x2 = q[qOff + 2], x3 = q[qOff + 3];
+      for (int p = y * 4; y < to; y++, p += 4) {
+        int d = Long.bitCount(x0 ^ data[p]) + Long.bitCount(x1 ^ data[p + 1]) + Long.bitCount(x2 ^ data[p + 2])
+            + Long.bitCount(x3 ^ data[p + 3]);
+        if (d <= radius) out[found++] = y;
+      }
+      return found;
+    }
+    for (; y < to; y++) if (Hamming.distanceBounded(q, qOff, data, y * w, w, radius) <= radius) out[found++] = y;
+    return found;
+  }
+
+  /**
    * The words of a code that a mask selects: their indexes {@code at}, the query's words there
    * ({@code q}, masked) and the mask's ({@code m}); {@code whole} when every selected word is
-   * covered whole (no mask: all words, whole).
+   * covered whole (no mask: all words, whole). {@code wq} and {@code wm}: the query and the mask
+   * over every word of the code, zero outside the selection and padded with zeros to a multiple of
+   * 8 words (for {@link VectorKernel}).
    */
-  public record Words(int[] at, long[] q, long[] m, boolean whole) {
+  public record Words(int[] at, long[] q, long[] m, boolean whole, long[] wq, long[] wm) {
     /** The selection of {@code mask} (nullable: every word) over codes of {@code w} words, with the query's words. */
     public static Words of(long[] q, long[] mask, int w) {
       int count = 0;
@@ -113,15 +160,15 @@ public final class ScanKernel {
           whole &= mask == null || mask[j] == -1L;
         }
       int[] at = new int[count];
-      long[] qs = new long[count], ms = new long[count];
+      long[] qs = new long[count], ms = new long[count], wq = new long[(w + 7) & -8], wm = new long[wq.length];
       for (int j = 0, c = 0; j < w; j++)
         if (mask == null || mask[j] != 0) {
           at[c] = j;
-          ms[c] = mask == null ? -1L : mask[j];
-          qs[c] = q[j] & ms[c];
+          ms[c] = wm[j] = mask == null ? -1L : mask[j];
+          qs[c] = wq[j] = q[j] & ms[c];
           c++;
         }
-      return new Words(at, qs, ms, whole);
+      return new Words(at, qs, ms, whole, wq, wm);
     }
 
     /** Whether the selected words are whole and in one run (a layer that starts and ends on word boundaries). */
@@ -160,7 +207,7 @@ public final class ScanKernel {
    * them can enter (the scan of a masked query whose k nearest tie at 0 ends after its first few
    * hundred codes).
    */
-  private static int offer(int i, int d, int[] ords, IntPredicate accept, TopK top, int maxDist, int bound) {
+  static int offer(int i, int d, int[] ords, IntPredicate accept, TopK top, int maxDist, int bound) {
     int ord = ords == null ? i : ords[i];
     if (((long) d << 32 | ord) >= top.worst()) return bound; // a tie that cannot enter: the filter is not asked
     if (accept != null && !accept.test(ord)) return bound;

@@ -42,4 +42,16 @@ public final class Randoms {
   public static String describe(long seed) {
     return "seed=" + Long.toHexString(seed) + " (repeat the run with -Dtests.seed=" + Long.toHexString(BASE) + ")";
   }
+
+  /** A uniformly random permutation of 0..n-1 (Fisher-Yates). */
+  public static int[] permutation(int n, SplittableRandom rnd) {
+    int[] p = new int[n];
+    for (int i = 0; i < n; i++) p[i] = i;
+    for (int i = n - 1; i > 0; i--) {
+      int j = rnd.nextInt(i + 1), t = p[i];
+      p[i] = p[j];
+      p[j] = t;
+    }
+    return p;
+  }
 }

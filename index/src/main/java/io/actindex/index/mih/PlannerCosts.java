@@ -1,6 +1,7 @@
 package io.actindex.index.mih;
 
 import io.actindex.core.IdSet;
+import io.actindex.core.Loops;
 import io.actindex.core.ScanKernel;
 import io.actindex.core.TopK;
 import java.util.SplittableRandom;
@@ -71,7 +72,12 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
     return c;
   }
 
-  /** Times the loops the planner chooses between, each the best of a few runs after a warm-up. */
+  /**
+   * Times the loops the planner chooses between, each the best of a few runs after a warm-up. The
+   * scan is timed through the scalar loops whatever {@link Loops#CHOSEN} is: a few runs do not
+   * get the vector loops compiled (cold, they took 3-10x longer), and costs stored in a payload
+   * should not depend on a JVM option.
+   */
   static PlannerCosts measure() {
     int n = 1 << 18; // 8 MiB of 4-word codes: larger than the caches close to the core
     SplittableRandom rnd = new SplittableRandom(42);
@@ -89,12 +95,12 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
     for (int i = 0; i < sortedKeys.length; i++) sortedKeys[i] = i * 7;
     double scan4 = best(() -> {
       TopK top = new TopK(10);
-      ScanKernel.knn(q, null, words, 4, 0, n, null, null, top, Integer.MAX_VALUE);
+      ScanKernel.knn(Loops.SCALAR, ScanKernel.Words.of(q, null, 4), words, 4, 0, n, null, null, top, Integer.MAX_VALUE);
       return top.bound();
     }) / n;
     double scan1 = best(() -> {
       TopK top = new TopK(10);
-      ScanKernel.knn(q, null, words, 1, 0, n, null, null, top, Integer.MAX_VALUE);
+      ScanKernel.knn(Loops.SCALAR, ScanKernel.Words.of(q, null, 1), words, 1, 0, n, null, null, top, Integer.MAX_VALUE);
       return top.bound();
     }) / n;
     double candidate = best(() -> {

@@ -2,6 +2,7 @@ package io.actindex.index.mih;
 
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
+import io.actindex.core.ScanKernel;
 import java.util.Arrays;
 import java.util.function.LongConsumer;
 
@@ -395,7 +396,7 @@ public final class SelfJoin {
       int[] near = sc.near;
       for (int x = 0; x < b; x++) {
         next:
-        for (int h = 0, found = near(cs, w, x, b, radius, near); h < found; h++) {
+        for (int h = 0, found = ScanKernel.within(cs, x * w, cs, w, x + 1, b, radius, near); h < found; h++) {
           int y = near[h], d = Hamming.distanceBounded(cs, x * w, cs, y * w, w, radius);
           for (int q = 0, xo = x * o, yo = y * o; q < o; q++) if (own[xo + q] == own[yo + q]) continue next;
           for (int q = o, ao = at[x] * top, bo = at[y] * top; q < top; q++) if (owned[ao + q] != owned[bo + q]) continue next;
@@ -412,26 +413,6 @@ public final class SelfJoin {
   @FunctionalInterface
   private interface Stretch {
     void run(int thread, int lo, int hi);
-  }
-
-  /**
-   * The members {@code y > x} of a bucket's codes {@code cs} within {@code radius} of member {@code
-   * x}, into {@code out}; returns their count. The hot loop of the join, kept small so that it
-   * compiles tight (a 4-word code is held in registers).
-   */
-  static int near(long[] cs, int w, int x, int b, int radius, int[] out) {
-    int found = 0;
-    if (w == 4) {
-      int o = x * 4;
-      long x0 = cs[o], x1 = cs[o + 1], x2 = cs[o + 2], x3 = cs[o + 3];
-      for (int y = x + 1, p = o + 4; y < b; y++, p += 4) {
-        int d = Long.bitCount(x0 ^ cs[p]) + Long.bitCount(x1 ^ cs[p + 1]) + Long.bitCount(x2 ^ cs[p + 2]) + Long.bitCount(x3 ^ cs[p + 3]);
-        if (d <= radius) out[found++] = y;
-      }
-      return found;
-    }
-    for (int y = x + 1; y < b; y++) if (Hamming.distanceBounded(cs, x * w, cs, y * w, w, radius) <= radius) out[found++] = y;
-    return found;
   }
 
   /** Per-task copies of one bucket's members. */

@@ -69,7 +69,7 @@ class JointSearchTest {
 
     // blocks: unequal shares of a random permutation of the ids, each block's ids ascending
     int blocks = forced ? 2 + rnd.nextInt(5) : 2 + rnd.nextInt(2);
-    int[] perm = permutation(n, rnd);
+    int[] perm = Randoms.permutation(n, rnd);
     int[] cut = new int[blocks + 1];
     cut[blocks] = n;
     for (int b = 1; b < blocks; b++) // the first block small, the others of random sizes, each of 2 codes or more
@@ -127,17 +127,6 @@ class JointSearchTest {
     int m = 0;
     for (int o = 0; o < ids.length; o++) if (accept.contains(ids[o])) ords[m++] = o;
     return IdSet.of(ids.length, Arrays.copyOf(ords, m));
-  }
-
-  private static int[] permutation(int n, SplittableRandom rnd) {
-    int[] p = new int[n];
-    for (int i = 0; i < n; i++) p[i] = i;
-    for (int i = n - 1; i > 0; i--) {
-      int j = rnd.nextInt(i + 1), t = p[i];
-      p[i] = p[j];
-      p[j] = t;
-    }
-    return p;
   }
 
   private static long[] flip(long[] code, int flips, int bits, SplittableRandom rnd) {
