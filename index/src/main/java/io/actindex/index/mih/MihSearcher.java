@@ -152,6 +152,9 @@ final class MihSearcher implements CodeSearcher {
     Head head = null;
     if (mask != null && auto && !(accept instanceof IdSet set && set.count() <= ScanSearcher.WALK_SHARE * n)) {
       head = head(sel, kk, accept, maxDist);
+      // k codes at distance 0 expected before the end: any other path would have to find every code
+      // at distance 0, the scan stops after k of them
+      if (!head.done() && head.stop < n) head.scanTo(n, sel, accept, maxDist);
       if (head.done()) {
         scratch.get().answeredByScan();
         return head.top.toHits();
@@ -222,6 +225,7 @@ final class MihSearcher implements CodeSearcher {
     Head(int k) {
       this.k = k;
       top = new TopK(k);
+      stop = codes.size();
     }
 
     /** Scans on to position {@code to}. */
