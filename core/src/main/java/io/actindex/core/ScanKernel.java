@@ -70,6 +70,11 @@ public final class ScanKernel {
       }
       return;
     }
+    if (s.at.length > 4 && s.run()) { // a layer of whole words (512 bits of 1,024, ...): one contiguous run
+      if (s.at.length == 8) run8(s, data, w, from, to, ords, accept, top, maxDist);
+      else runAny(s, data, w, from, to, ords, accept, top, maxDist);
+      return;
+    }
     switch (s.at.length) {
       case 1 -> knn1(s, data, w, from, to, ords, accept, top, maxDist);
       case 2 -> knn2(s, data, w, from, to, ords, accept, top, maxDist);
@@ -166,13 +171,18 @@ public final class ScanKernel {
       return new Words(at, qs, ms, whole, wq, wm);
     }
 
+    /** Whether the selected words are whole and in one run (a layer that starts and ends on word boundaries). */
+    public boolean run() {
+      return whole && at.length > 0 && at[at.length - 1] - at[0] == at.length - 1;
+    }
+
     /**
      * Distance of the code at {@code data[off]} (w words) over the selected words if at most
-     * {@code bound}, else some value above it: all words whole count contiguously, others through
+     * {@code bound}, else some value above it: a run of whole words counts contiguously, others through
      * their indexes and ANDs, checking the bound every 4 words.
      */
     public int distance(long[] data, int off, int w, int bound) {
-      if (whole && at.length == w) return Hamming.distanceBounded(q, 0, data, off, w, bound);
+      if (at.length > 2 && run()) return Hamming.distanceBounded(q, 0, data, off + at[0], at.length, bound);
       if (at.length <= 2) // a layer of up to 128 bits: no loop
         return at.length == 0 ? 0
             : Long.bitCount((data[off + at[0]] ^ q[0]) & m[0]) + (at.length == 1 ? 0 : Long.bitCount((data[off + at[1]] ^ q[1]) & m[1]));
@@ -188,13 +198,18 @@ public final class ScanKernel {
   }
 
   /**
-   * Offers one code that passed the distance test; returns the new bound. Without {@code ords}
+   * Offers one code that passed the distance test; returns the new bound. A code tied with the
+   * k-th distance of a full top enters only with a smaller ordinal (checked before the filter). Without {@code ords}
    * the ordinals rise with the position, so once the top is full a code tied with the k-th
    * distance can no longer enter (ties go to the smaller ordinal): the bound drops by one and such
-   * ties are not offered (over one layer of skewed codes tens of thousands of codes can tie).
+   * ties are not offered (over one layer of skewed codes tens of thousands of codes can tie); the
+   * bound drops below 0 once k codes at distance 0 are in, and the loops then stop: nothing after
+   * them can enter (the scan of a masked query whose k nearest tie at 0 ends after its first few
+   * hundred codes).
    */
   static int offer(int i, int d, int[] ords, IntPredicate accept, TopK top, int maxDist, int bound) {
     int ord = ords == null ? i : ords[i];
+    if (((long) d << 32 | ord) >= top.worst()) return bound; // a tie that cannot enter: the filter is not asked
     if (accept != null && !accept.test(ord)) return bound;
     top.offer(ord, d);
     int b = top.bound();
@@ -207,7 +222,7 @@ public final class ScanKernel {
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * w + s.at[0]; i < to; i++, off += w) {
       int d = Long.bitCount((data[off] ^ q0) & m0);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -218,7 +233,7 @@ public final class ScanKernel {
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -230,7 +245,7 @@ public final class ScanKernel {
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
           + Long.bitCount((data[off + j2] ^ q2) & m2);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -243,7 +258,7 @@ public final class ScanKernel {
       for (int i = from, off = from * w; i < to; i++, off += w) {
         int d = Long.bitCount(data[off + j0] ^ q0) + Long.bitCount(data[off + j1] ^ q1)
             + Long.bitCount(data[off + j2] ^ q2) + Long.bitCount(data[off + j3] ^ q3);
-        if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+        if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
       }
       return;
     }
@@ -251,7 +266,7 @@ public final class ScanKernel {
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
           + Long.bitCount((data[off + j2] ^ q2) & m2) + Long.bitCount((data[off + j3] ^ q3) & m3);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -267,7 +282,35 @@ public final class ScanKernel {
       if (d > bound) continue;
       d += Long.bitCount((data[off + j4] ^ q4) & m4) + Long.bitCount((data[off + j5] ^ q5) & m5)
           + Long.bitCount((data[off + j6] ^ q6) & m6) + Long.bitCount((data[off + j7] ^ q7) & m7);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
+    }
+  }
+
+  /*
+   * A run of whole words: no masks and one offset, so the loop keeps only the query words in
+   * registers (the general loops of 8 selected words hold 8 query words, 8 mask words and 8
+   * indexes, more than the registers, and took 2-3x the unmasked scan of 1,024-bit codes).
+   */
+  private static void run8(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], q3 = s.q[3], q4 = s.q[4], q5 = s.q[5], q6 = s.q[6], q7 = s.q[7];
+    int bound = Math.min(maxDist, top.bound());
+    for (int i = from, off = from * w + s.at[0]; i < to; i++, off += w) {
+      int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
+          + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
+      if (d > bound) continue;
+      d += Long.bitCount(data[off + 4] ^ q4) + Long.bitCount(data[off + 5] ^ q5)
+          + Long.bitCount(data[off + 6] ^ q6) + Long.bitCount(data[off + 7] ^ q7);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
+    }
+  }
+
+  private static void runAny(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
+      TopK top, int maxDist) {
+    int c = s.at.length, bound = Math.min(maxDist, top.bound());
+    for (int i = from, off = from * w + s.at[0]; i < to; i++, off += w) {
+      int d = Hamming.distanceBounded(s.q, 0, data, off, c, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -277,7 +320,7 @@ public final class ScanKernel {
     int bound = Math.min(maxDist, top.bound());
     for (int i = from; i < to; i++) {
       int d = Long.bitCount((data[i] ^ q0) & m0);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -287,7 +330,7 @@ public final class ScanKernel {
     int bound = Math.min(maxDist, top.bound());
     for (int i = from, off = from * 2; i < to; i++, off += 2) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -298,7 +341,7 @@ public final class ScanKernel {
     for (int i = from, off = from * 3; i < to; i++, off += 3) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1)
           + Long.bitCount((data[off + 2] ^ q2) & m2);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -309,7 +352,7 @@ public final class ScanKernel {
     for (int i = from, off = from * 4; i < to; i++, off += 4) {
       int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
           + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -324,7 +367,7 @@ public final class ScanKernel {
       if (d > bound) continue;
       d += Long.bitCount((data[off + 4] ^ q4) & m4) + Long.bitCount((data[off + 5] ^ q5) & m5)
           + Long.bitCount((data[off + 6] ^ q6) & m6) + Long.bitCount((data[off + 7] ^ q7) & m7);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 
@@ -335,13 +378,13 @@ public final class ScanKernel {
     if (s.whole && s.at.length == w) { // every word: the contiguous kernel, no selection per code
       for (int i = from, off = from * w; i < to; i++, off += w) {
         int d = Hamming.distanceBounded(s.q, 0, data, off, w, bound);
-        if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+        if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
       }
       return;
     }
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = s.distance(data, off, w, bound);
-      if (d <= bound) bound = offer(i, d, ords, accept, top, maxDist, bound);
+      if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
     }
   }
 

@@ -27,7 +27,7 @@ public final class ScanSearcher implements CodeSearcher {
    * A filter given as an {@link IdSet} whose share of the codes is at most this is walked member by
    * member instead of scanned past (common practice: a selective filter drives the search).
    */
-  static final double WALK_SHARE = 0.125;
+  public static final double WALK_SHARE = 0.125;
 
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask) {

@@ -21,6 +21,15 @@ public final class TopK {
     return size < k ? Integer.MAX_VALUE : (int) (heap[0] >>> 32);
   }
 
+  /**
+   * The kept pair that the next entry would push out, as {@code (dist << 32) | ord}, once k are
+   * kept (else Long.MAX_VALUE): a candidate enters only if its own such key is smaller, so a code
+   * tied with the k-th distance enters only with a smaller ordinal.
+   */
+  public long worst() {
+    return size < k ? Long.MAX_VALUE : heap[0];
+  }
+
   public int size() {
     return size;
   }

@@ -79,6 +79,34 @@ class ScanKernelTest {
     }
   }
 
+  /**
+   * Many codes tied at distance 0 under a layer mask (the layer copied from a few codes) and exact
+   * copies: the scan keeps the k smallest ordinals among the ties and stops once it holds k codes at
+   * distance 0; against the brute force with filters and caps.
+   */
+  @Test
+  void tiesAtZeroEqualBruteForce() {
+    int[] widths = {64, 100, 128, 192, 256, 300, 512, 1024};
+    for (int rep = 0; rep < 120; rep++) {
+      long seed = Randoms.seed(2000 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int bits = widths[rep % widths.length], n = 1 + rnd.nextInt(3000);
+      CodeBlock base = LayerMasks.cut(rep % 2 == 0 ? SyntheticCodes.uniform(n, bits, seed)
+          : SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes(), rnd);
+      long[] layer = rep % 5 == 0 ? null : LayerMasks.mask(base.layout(), rnd);
+      long[] all = new long[base.wordsPerCode()];
+      java.util.Arrays.fill(all, -1L);
+      CodeBlock codes = SyntheticCodes.tiedUnder(base, layer == null ? all : layer, 1 + rnd.nextInt(30), seed + 1);
+      long[] q = codes.code(rnd.nextInt(n));
+      IntPredicate accept = filter(rnd, n);
+      int k = 1 + rnd.nextInt(rnd.nextBoolean() ? 120 : n + 5);
+      int maxDist = rnd.nextInt(4) == 0 ? rnd.nextInt(3) : Integer.MAX_VALUE;
+      String what = Randoms.describe(seed) + " layout=" + codes.layout() + " " + (layer == null ? "no mask" : LayerMasks.describe(layer))
+          + " n=" + n + " k=" + k + " accept=" + accept + " maxDist=" + maxDist;
+      assertEquals(BruteForce.knnWithin(codes, q, k, accept, layer, maxDist), new ScanSearcher(codes).knn(q, k, accept, layer, maxDist), what);
+    }
+  }
+
   /** An empty filter answers at once; the planner-facing count matches the members. */
   @Test
   void emptyFilterAnswersNothing() {

@@ -26,6 +26,23 @@ public final class SyntheticCodes {
     return new CodeBlock(layout, n, words);
   }
 
+  /**
+   * {@code n} codes in the layout of {@code codes} whose bits under {@code mask} are copied from
+   * only {@code distinct} of its codes (picked at random per code) and the rest from the code at
+   * the same position: under that mask thousands of codes tie exactly, as one layer of a skewed
+   * network's codes does (dead, always-on and copied units).
+   */
+  public static CodeBlock tiedUnder(CodeBlock codes, long[] mask, int distinct, long seed) {
+    SplittableRandom rnd = new SplittableRandom(seed);
+    int n = codes.size(), w = codes.wordsPerCode();
+    long[] words = codes.words().clone();
+    for (int i = 0; i < n; i++) {
+      int from = rnd.nextInt(Math.min(distinct, n));
+      for (int j = 0; j < w; j++) words[i * w + j] = (words[i * w + j] & ~mask[j]) | (codes.words()[from * w + j] & mask[j]);
+    }
+    return new CodeBlock(codes.layout(), n, words);
+  }
+
   /** Codes with independent bits, bit b on with probability {@code rates[b]} (two-sample tests). */
   public static CodeBlock bernoulli(SplittableRandom rnd, int n, double[] rates) {
     CodeLayout layout = CodeLayout.single("bits", rates.length);

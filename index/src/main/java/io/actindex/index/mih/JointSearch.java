@@ -89,8 +89,7 @@ public final class JointSearch {
     maxRadius = new int[clusters];
     radiusBase = new int[clusters];
     int rows = 0;
-    for (int b = 0; b < nb; b++)
-      if (parted[b] != null) for (int c = 0; c < parted[b].partition.clusters(); c++) rows += parted[b].partition.maxRadius[c] + 1;
+    for (int b = 0; b < nb; b++) if (parted[b] != null) rows += parted[b].partition.radiusStart.length;
     radiusStart = new int[rows];
     rows = 0;
     PlannerCosts cost = PlannerCosts.defaults();
@@ -106,13 +105,11 @@ public final class JointSearch {
         first[g] = p.start[c];
         end[g] = p.start[c + 1];
         maxRadius[g] = p.maxRadius[c];
-        radiusBase[g] = rows;
+        radiusBase[g] = rows + p.radiusBase[c];
         mm = Math.max(mm, p.maxRadius[c]);
-        for (int r = 0, i = p.start[c]; r <= p.maxRadius[c]; r++, rows++) { // first position at radius >= r
-          while (i < p.start[c + 1] && p.radius[i] < r) i++;
-          radiusStart[rows] = i;
-        }
       }
+      System.arraycopy(p.radiusStart, 0, radiusStart, rows, p.radiusStart.length);
+      rows += p.radiusStart.length;
       idAt[b] = new int[p.ords.length];
       for (int i = 0; i < p.ords.length; i++) idAt[b][i] = this.idOf[b].applyAsInt(p.ords[i]);
     }

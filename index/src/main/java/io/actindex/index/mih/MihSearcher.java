@@ -32,23 +32,28 @@ final class MihSearcher implements CodeSearcher {
   static final int PATH_SCAN = 1, PATH_TABLES = 2, PATH_PARTITION = 3;
   /** Work the tables may spend on a query without knowing it will finish cheaper than a scan. */
   private static final double EAGER = 0.07;
-  /** Work the first round (every table's own bucket) may take. */
-  private static final double FIRST_ROUND = 0.3;
   /** Work the tables may spend in all once an upper bound shows they finish within it. */
   private static final double PROVEN = 0.9;
   /** How much cheaper the tables must be estimated than a block's windows to take the block out of a joint walk. */
   private static final double JOINT_TABLES_MARGIN = 16;
   /**
-   * Under a mask, work the tables may spend before an upper bound shows they finish within {@link
-   * #PROVEN}: a masked query that falls back to the scan costs at most this much more than the scan.
+   * Work the tables may spend (the first round included) before an upper bound of what is left
+   * shows they finish within {@link #PROVEN}: a query that falls back to the scan unproven costs at
+   * most this much more than the scan.
    */
-  private static final double MASKED_BUDGET = 0.1;
+  private static final double UNPROVEN = 0.1;
   /**
    * Under a mask, the partition's estimated work must fit under this share of a scan: its radius
-   * tests and the codes tied at the k-th distance (many, over one layer of skewed codes) cost
-   * about twice what it estimates (measured on 1M ReLU-like codes), so the estimate needs the margin.
+   * tests and the codes tied at the k-th distance cost about twice what it estimates on 1M skewed
+   * ReLU-like codes, and 2.5-3 times on 100k dense ones (64-256 bits, one layer, measured per query
+   * against the masked scan), so the estimate needs the margin.
    */
-  private static final double MASKED_PROVEN = 0.5;
+  private static final double MASKED_PROVEN = 0.3;
+
+  /** The masked scan's head ({@link #head}): the first n / HEAD_SHARE codes, at least HEAD_MIN... */
+  private static final int HEAD_SHARE = 64, HEAD_MIN = 1024;
+  /** ...then on while k codes at distance 0 are expected within this share of the codes. */
+  private static final double HEAD_REACH = 0.125;
 
   final CodeBlock codes;
   final BitPlan plan;
@@ -137,32 +142,66 @@ final class MihSearcher implements CodeSearcher {
     int n = codes.size();
     if (k <= 0 || n == 0 || maxDist < 0) return Hits.EMPTY;
     boolean auto = strategy == SearchPlanOptions.Strategy.AUTO;
-    double scanCost = mask == null ? this.scanCost : cost.scan(n, ScanKernel.Words.of(query, mask, codes.wordsPerCode()).at().length);
+    ScanKernel.Words sel = mask == null ? null : ScanKernel.Words.of(query, mask, codes.wordsPerCode());
+    double scanCost = mask == null ? this.scanCost : cost.scan(n, sel.at().length);
     if (accept instanceof IdSet set) {
       if (set.size() != n) throw new IllegalArgumentException("filter over " + set.size() + " ordinals, searcher has " + n);
       if (set.isEmpty()) return Hits.EMPTY;
       if (auto && set.count() * cost.walk() <= scanCost) return scan.knn(query, k, accept, mask, maxDist);
     }
-    int[] active = activeTables(mask);
     int kk = Math.min(k, n);
+    // under a mask, the scan's first codes: done when k of them tie at distance 0 (see head)
+    Head head = null;
+    if (mask != null && auto && !(accept instanceof IdSet set && set.count() <= ScanSearcher.WALK_SHARE * n)) {
+      head = head(sel, kk, accept, maxDist);
+      // k codes at distance 0 expected before the end: any other path would have to find every code
+      // at distance 0, the scan stops after k of them
+      if (!head.done() && head.stop < n) head.scanTo(n, sel, accept, maxDist);
+      if (head.done()) {
+        scratch.get().answeredByScan();
+        return head.top.toHits();
+      }
+      if (head.top.size() == kk) maxDist = Math.min(maxDist, head.top.bound()); // k codes are within it
+      scanCost *= (double) (head.stop - head.end) / n; // what the scan has left
+    }
+    int[] active = activeTables(mask);
     Scratch s = scratch.get().begin(this, query, active);
     s.scanCost = scanCost;
-    if (mask != null) s.unproven = MASKED_BUDGET;
     try {
       boolean usePartition = partition != null && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
       if (usePartition) {
         TopK top = new TopK(kk);
-        int from = partition.begin(query, mask, codes.layout().bits(), s.visit, accept, top, kk, maxDist);
+        // a full head holds k codes within maxDist, so the nearest clusters may offer codes beyond it:
+        // the windows under maxDist push them out
+        int from = partition.begin(query, mask, codes.layout().bits(), s.visit, accept, top, kk,
+            head != null && head.top.size() == kk ? Integer.MAX_VALUE : maxDist);
         int bound = top.size() == kk ? Math.min(maxDist, top.bound()) : maxDist;
+        if (head != null && bound == 0 && from < partition.clusters()) {
+          // k codes at distance 0 near the query: there may be thousands, which the partition must
+          // all find while the scan stops after k of them; the scan goes on to n/8 first
+          head.scanTo(Math.max(head.end, (int) (HEAD_REACH * n)), sel, accept, maxDist);
+          if (head.done()) {
+            s.path = PATH_SCAN;
+            return head.top.toHits();
+          }
+          scanCost = cost.scan(n - head.end, sel.at().length);
+        }
         double limit = (mask == null ? PROVEN : MASKED_PROVEN) * scanCost;
         double rest = from == partition.clusters() ? 0
             : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), auto ? limit : Double.POSITIVE_INFINITY);
-        if (!auto || rest <= limit && rest <= tablesCost(s, active, bound, plan.constantDistance(query, mask))) {
+        double tablesCost = tablesCost(s, active, bound, plan.constantDistance(query, mask));
+        if (!auto || rest <= limit && rest <= tablesCost) {
           s.path = PATH_PARTITION;
           if (rest > 0) partition.finish(s.visit, from, accept, top, maxDist);
           return top.toHits();
         }
         maxDist = bound; // the k-th distance so far bounds the answer: the path below starts afresh under it
+        if (tablesCost > scanCost) active = new int[0]; // the rest of the scan is cheaper
+      }
+      if (head != null && active.length == 0) { // the scan goes on after its head
+        s.path = PATH_SCAN;
+        ScanKernel.knn(sel, codes.words(), codes.wordsPerCode(), head.end, n, null, accept, head.top, maxDist);
+        return head.top.toHits();
       }
       if (strategy == SearchPlanOptions.Strategy.SCAN || strategy == SearchPlanOptions.Strategy.PARTITION || active.length == 0) {
         s.path = PATH_SCAN;
@@ -172,6 +211,60 @@ final class MihSearcher implements CodeSearcher {
     } finally {
       s.end();
     }
+  }
+
+  /**
+   * The plain scan's first codes under a mask: {@code top} after positions {@code [0, end)}, and
+   * {@code stop}, where the whole scan is expected to end (n, or earlier when it is expected to find
+   * k codes at distance 0 before).
+   */
+  private final class Head {
+    final TopK top;
+    final int k;
+    int end;
+    long stop;
+
+    Head(int k) {
+      this.k = k;
+      top = new TopK(k);
+      stop = codes.size();
+    }
+
+    /** Scans on to position {@code to}. */
+    void scanTo(int to, ScanKernel.Words sel, IntPredicate accept, int maxDist) {
+      ScanKernel.knn(sel, codes.words(), codes.wordsPerCode(), end, to, null, accept, top, maxDist);
+      end = Math.max(end, to);
+    }
+
+    /** Whether the top is the scan's answer: every code seen, or k codes at distance 0. */
+    boolean done() {
+      return end == codes.size() || top.size() == k && top.bound() == 0;
+    }
+  }
+
+  /**
+   * The plain scan's first codes under a mask: a masked distance (one layer of skewed codes) is
+   * often 0 for thousands of codes, and the scan, which stops once it holds k codes at distance 0
+   * (the smallest ordinals, as ties go), then ends within a few hundred codes, long before another
+   * path could even find all those ties. Scans the first {@code n / }{@value #HEAD_SHARE} codes (at
+   * least {@value #HEAD_MIN}), then further while the codes at distance 0 so far predict k of them
+   * within {@value #HEAD_REACH} of the codes. The answer is in the head's top when it is {@link
+   * Head#done}.
+   */
+  private Head head(ScanKernel.Words sel, int kk, IntPredicate accept, int maxDist) {
+    int n = codes.size();
+    Head head = new Head(kk);
+    head.scanTo(Math.min(n, Math.max(HEAD_MIN, n / HEAD_SHARE)), sel, accept, maxDist);
+    while (!head.done()) {
+      Hits h = head.top.toHits();
+      int zeros = 0;
+      while (zeros < h.size() && h.dist(zeros) == 0) zeros++;
+      head.stop = zeros == 0 ? n : Math.max(head.end, Math.min(n, (long) head.end * kk / zeros)); // expected end of the scan
+      long next = head.stop * 5 / 4; // with a margin
+      if (next > HEAD_REACH * n) break;
+      head.scanTo((int) Math.min(n, Math.max(next, 2L * head.end)), sel, accept, maxDist);
+    }
+    return head;
   }
 
   /** Multi-index hashing over the active tables, falling back to the scan when the planner says so. */
@@ -314,24 +407,16 @@ final class MihSearcher implements CodeSearcher {
   }
 
   /**
-   * Planner: may the tables probe shell (rho, j) next? Until the first round (substring radius 0)
-   * is done and k candidates are known, yes while the work so far plus that shell stays under a
-   * small share of a scan. After that, within three rounds of the k-th best distance, yes while the
-   * work so far plus that shell fits under most of a scan; further away, yes while an upper bound
-   * of the work still needed (every shell up to the current k-th best distance) fits under most of
-   * a scan. Otherwise the caller scans. Under a mask, every rule but the upper bound is capped at
-   * {@link #MASKED_BUDGET}.
+   * Planner: may the tables probe shell (rho, j) next? Yes while the work so far plus that shell stays
+   * under a small share of a scan ({@link #EAGER} until k candidates are known, then {@link
+   * #UNPROVEN}); beyond that, yes while an upper bound of the work still needed (every shell up to
+   * the current k-th best distance) fits under most of a scan. Otherwise the caller scans.
    */
   private boolean worthIt(Scratch s, TopK top, int k, int[] active, int rho, int j, int c, int maxDist) {
-    double scanCost = s.scanCost;
-    if (rho == 0) return s.work + shellCost(s, active[j], rho) <= Math.min(FIRST_ROUND, s.unproven) * scanCost;
+    double scanCost = s.scanCost, next = s.work + shellCost(s, active[j], rho);
     int m = active.length, bound = bound(top, k, maxDist);
-    if (bound == Integer.MAX_VALUE) return s.work + shellCost(s, active[j], rho) <= Math.min(EAGER, s.unproven) * scanCost;
-    // within three rounds of the k-th best distance: go on while the next shell fits the budget (the
-    // k-th best usually drops on the way, so the sum below would be too pessimistic); under a mask,
-    // only within the masked budget
-    if (bound - (rho * m + j - 1 + c) <= 3 * m)
-      return s.work + shellCost(s, active[j], rho) <= Math.min(PROVEN, s.unproven) * scanCost;
+    if (next <= (bound == Integer.MAX_VALUE && rho > 0 ? EAGER : UNPROVEN) * scanCost) return true;
+    if (bound == Integer.MAX_VALUE) return false;
     double remaining = 0;
     for (int x = rho, jj = j; x * m + jj - 1 + c < bound; ) {
       int t = active[jj];
@@ -459,7 +544,6 @@ final class MihSearcher implements CodeSearcher {
     long probes, candidates, nearProbes, nearCandidates;
     double work;
     double scanCost; // of this query (a mask selects fewer words)
-    double unproven; // share of a scan the tables may spend before an upper bound shows they finish cheaper
     int path;
     boolean inUse;
     final Partition.Visit visit = new Partition.Visit();
@@ -480,10 +564,15 @@ final class MihSearcher implements CodeSearcher {
       s.nearCandidates = 0;
       s.work = 0;
       s.scanCost = owner.scanCost;
-      s.unproven = Double.POSITIVE_INFINITY;
       s.path = 0;
       for (int t : active) s.keys[t] = owner.plan.key(query, 0, t);
       return s;
+    }
+
+    /** Marks the last query as answered by the scan before any other work (for {@link #lastQueryWork}). */
+    void answeredByScan() {
+      probes = candidates = 0;
+      path = PATH_SCAN;
     }
 
     void touch(int ord) {

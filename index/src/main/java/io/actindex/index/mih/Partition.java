@@ -23,8 +23,8 @@ import java.util.stream.IntStream;
  * a query at distance {@code d(q,c)} from centre c, every member x has {@code d(q,x) >= |d(q,c) -
  * r(x)|}; so with the k-th best distance B so far, a cluster is skipped when {@code d(q,c) -
  * maxR(c) > B}, and inside a cluster only the run of codes with {@code r(x)} in {@code [d(q,c) - B,
- * d(q,c) + B]} (two binary searches) is scanned. Clusters are visited nearest first, so B drops
- * fast. Exactness needs only that {@code r(x)} is the true distance to the centre (it is recomputed
+ * d(q,c) + B]} (two look-ups in a table of first positions per radius) is scanned. Clusters are
+ * visited nearest first, so B drops fast. Exactness needs only that {@code r(x)} is the true distance to the centre (it is recomputed
  * on load); how well the centres fit the data decides the speed alone.
  *
  * <p>A masked distance (the bits of some layers) is a pseudometric, so the same inequality holds
@@ -59,6 +59,7 @@ final class Partition {
   final int[] ords; // position -> ordinal
   final char[] radius; // position -> distance to its centre
   final int[] maxRadius; // per cluster
+  final int[] radiusBase, radiusStart; // cluster c's first position at radius >= r: radiusStart[radiusBase[c] + r] (see atRadius)
   private final int maxOfMaxRadius;
   private final Radii stored; // radius and maxRadius: the radii over every bit
   private final long[][] segmentMasks; // per segment of the layout: its bits
@@ -94,6 +95,29 @@ final class Partition {
       }
     maxOfMaxRadius = mm;
     stored = new Radii(radius, maxRadius);
+    radiusBase = new int[clusters];
+    int rows = 0;
+    for (int c = 0; c < clusters; c++) {
+      radiusBase[c] = rows;
+      rows += maxRadius[c] + 1;
+    }
+    radiusStart = new int[rows];
+    for (int c = 0, row = 0; c < clusters; c++)
+      for (int r = 0, i = start[c]; r <= maxRadius[c]; r++, row++) {
+        while (i < start[c + 1] && radius[i] < r) i++;
+        radiusStart[row] = i;
+      }
+  }
+
+  /**
+   * The first position of cluster c whose code lies at least {@code r} from its centre (the
+   * cluster's end if none): one look-up in a table built with the partition, where a binary search
+   * over the radii waits on several dependent reads for each of the many clusters a query visits.
+   */
+  int atRadius(int c, int r) {
+    if (r <= 0) return start[c];
+    if (r > maxRadius[c]) return start[c + 1];
+    return radiusStart[radiusBase[c] + r];
   }
 
   int clusters() {
@@ -101,7 +125,8 @@ final class Partition {
   }
 
   long bytes() {
-    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length) + 2L * radius.length;
+    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length)
+        + 2L * radius.length;
   }
 
   /** The partition of {@code block}, or null when it is too small (or its codes too wide for char radii). */
@@ -389,8 +414,8 @@ final class Partition {
         continue;
       }
       // d_M(c,x) <= r(x): codes with r(x) < dq - bound are out under any mask
-      int lo = firstAtLeast(start[c], start[c + 1], dq - bound);
-      int hi = full && v.exact ? firstAtLeast(lo, start[c + 1], dq + bound + 1) : start[c + 1];
+      int lo = atRadius(c, dq - bound);
+      int hi = full && v.exact ? atRadius(c, dq + bound + 1) : start[c + 1];
       v.lo[p] = lo;
       v.hi[p] = hi;
       total += (hi - lo) * (full ? perCode : perTest);
@@ -421,9 +446,10 @@ final class Partition {
       int c = v.order[p], dq = v.dq[p], bound = Math.min(Character.MAX_VALUE, Math.min(maxDist, top.bound()));
       if (dq - maxOfMaxRadius > bound) break; // no later cluster can hold a code within the bound
       if (dq - v.radii.maxRadius[c] > bound) continue;
-      lo = firstAtLeast(lo, hi, dq - bound);
+      lo = Math.max(lo, atRadius(c, dq - bound));
+      if (lo >= hi) continue;
       if (full) {
-        if (v.exact) hi = firstAtLeast(lo, hi, dq + bound + 1);
+        if (v.exact) hi = Math.min(hi, atRadius(c, dq + bound + 1));
         ScanKernel.knn(v.sel, codes, w, lo, hi, ords, accept, top, maxDist);
         continue;
       }
@@ -436,25 +462,15 @@ final class Partition {
           pass[m] = i;
           m += Integer.compareUnsigned(rad[i] - least, span) <= 0 ? 1 : 0;
         }
+        // a code tied with the k-th distance enters only with a smaller ordinal than the k-th's:
+        // the others (thousands over one layer of skewed codes) are not offered, nor is the filter asked
         for (int j = 0; j < m; j++) {
           int at = pass[j], d = v.sel.distance(codes, at * w, w, bound);
-          if (d > bound || accept != null && !accept.test(ords[at])) continue;
+          if (d > bound || ((long) d << 32 | ords[at]) >= top.worst() || accept != null && !accept.test(ords[at])) continue;
           top.offer(ords[at], d);
           bound = Math.min(bound, top.bound());
         }
       }
     }
-  }
-
-  /** First position in {@code [from, to)} whose radius is at least {@code r} (to if none). */
-  private int firstAtLeast(int from, int to, int r) {
-    if (r <= 0) return from;
-    int lo = from, hi = to;
-    while (lo < hi) {
-      int mid = (lo + hi) >>> 1;
-      if (radius[mid] < r) lo = mid + 1;
-      else hi = mid;
-    }
-    return lo;
   }
 }

@@ -77,6 +77,43 @@ class MaskedSearchTest {
   }
 
   /**
+   * Thousands of codes tied at masked distance 0 (one layer copied from a few codes): the k nearest
+   * are the smallest ordinals among the ties, whichever path answers (the scan's head, which stops
+   * once it holds k codes at distance 0, the partition or the tables), with filters and caps; and
+   * the head answers the queries whose k nearest all tie at 0.
+   */
+  @Test
+  void tiesAtZeroUnderAMaskEqualBruteForce() {
+    int byHead = 0;
+    for (int rep = 0; rep < 12; rep++) {
+      long seed = Randoms.seed(300 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int bits = BITS[rnd.nextInt(BITS.length)] & ~1, n = 5000 + rnd.nextInt(5000);
+      CodeBlock base = LayerMasks.cut(PartitionTest.codes(rep, n, bits, seed), rnd);
+      long[] layer = LayerMasks.mask(base.layout(), rnd);
+      CodeBlock codes = SyntheticCodes.tiedUnder(base, layer, 1 + rnd.nextInt(40), seed + 1);
+      MihSearcher s = (MihSearcher) Searchers.build(codes, rep % 2 == 0 ? SearchPlanOptions.defaults() : SearchPlanOptions.defaults().plain());
+      String why = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " layout=" + codes.layout() + " " + LayerMasks.describe(layer);
+      for (int i = 0; i < 12; i++) {
+        long[] q = codes.code(rnd.nextInt(n));
+        for (int f = rnd.nextInt(3) == 0 ? rnd.nextInt(4) : 0; f > 0; f--) {
+          int b = rnd.nextInt(bits);
+          q[b >>> 6] ^= 1L << (b & 63);
+        }
+        long[] mask = rnd.nextInt(4) == 0 ? LayerMasks.mask(codes.layout(), rnd) : layer;
+        IntPredicate accept = PartitionTest.filter(rnd, n);
+        int k = new int[] {1, 10, 100, 1000, 1 + rnd.nextInt(n)}[rnd.nextInt(5)];
+        int maxDist = rnd.nextInt(5) == 0 ? rnd.nextInt(3) : Integer.MAX_VALUE;
+        String what = why + " query " + i + " mask " + LayerMasks.describe(mask) + " k=" + k + " maxDist=" + maxDist + " filter=" + accept;
+        Hits expected = BruteForce.knnWithin(codes, q, k, accept, mask, maxDist);
+        assertEquals(expected, s.knn(q, k, accept, mask, maxDist), what);
+        if (s.lastQueryWork()[3] == MihSearcher.PATH_SCAN && expected.size() == k && expected.dist(k - 1) == 0) byHead++;
+      }
+    }
+    assertTrue(byHead > 0, "no query was answered by the scan's head");
+  }
+
+  /**
    * Dense ReLU codes of two 128-bit layers: 10-NN over either layer is answered by the partition
    * for most in-distribution queries (the planner found it cheaper than the masked scan).
    */
