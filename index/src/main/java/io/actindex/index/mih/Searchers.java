@@ -75,6 +75,11 @@ public final class Searchers {
    * indexed codes as queries, each with its true 10th-neighbour distance as the radius to cover.
    */
   public static CodeSearcher build(CodeBlock codes, SearchPlanOptions opts) {
+    return build(codes, opts, PlannerCosts.machine());
+  }
+
+  /** As {@link #build(CodeBlock, SearchPlanOptions)}, planning with {@code cost} (tests: fixed costs, choices independent of the machine). */
+  static CodeSearcher build(CodeBlock codes, SearchPlanOptions opts, PlannerCosts cost) {
     // the partition and the tables do not depend on each other: the partition is built as a forked
     // task (run by the caller's fork-join pool, or the common pool) while this thread plans and
     // fills the tables, themselves one task per table
@@ -82,7 +87,6 @@ public final class Searchers {
         : Forked.start(() -> opts.strategy() == SearchPlanOptions.Strategy.PARTITION ? Partition.build(codes, 2, Partition.MIN_CLUSTER_SIZE)
             : Partition.build(codes));
     try {
-      PlannerCosts cost = PlannerCosts.machine();
       MihSearcher s = build(codes, BitPlan.choose(codes, opts), opts.strategy(), null, cost);
       int m = s.tables.length, n = codes.size();
       if (opts.substrings() == 0 && opts.balance() && m > 1 && n > 1) {

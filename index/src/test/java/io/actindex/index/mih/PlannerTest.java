@@ -18,7 +18,7 @@ class PlannerTest {
     long seed = Randoms.seed(1);
     SplittableRandom rnd = new SplittableRandom(seed);
     CodeBlock codes = SyntheticCodes.uniform(50_000, 256, seed);
-    MihSearcher s = (MihSearcher) Searchers.build(codes);
+    MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults(), PlannerCosts.defaults());
     for (int i = 0; i < 20; i++) {
       long[] q = codes.code(rnd.nextInt(codes.size()));
       q[rnd.nextInt(4)] ^= 1L << rnd.nextInt(64);
@@ -41,7 +41,7 @@ class PlannerTest {
     CodeBlock flat = SyntheticCodes.uniform(50_000, 256, seed);
     CodeBlock codes = new CodeBlock(io.actindex.core.CodeLayout.parse("a:128,b:128"), flat.size(), flat.words());
     CodeBlock far = SyntheticCodes.uniform(10, 256, seed + 1);
-    MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults().plain().withPartition(false));
+    MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults().plain().withPartition(false), PlannerCosts.defaults());
     long[] mask = codes.layout().mask(1);
     for (int i = 0; i < far.size(); i++) {
       long[] q = far.code(i);
@@ -58,7 +58,8 @@ class PlannerTest {
     long seed = Randoms.seed(2);
     CodeBlock codes = SyntheticCodes.uniform(50_000, 256, seed);
     CodeBlock far = SyntheticCodes.uniform(10, 256, seed + 1);
-    MihSearcher s = (MihSearcher) Searchers.build(codes);
+    // fixed costs: which path is cheapest must not depend on how busy the machine was when it measured its own
+    MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults(), PlannerCosts.defaults());
     for (int i = 0; i < far.size(); i++) {
       long[] q = far.code(i);
       // the 10th neighbour of a random 256-bit code is ~90 bits away: no table can prune that
