@@ -393,6 +393,10 @@ public final class ScanKernel {
    * order: the path for a selective filter, whose cost follows the set's size, not the code count.
    */
   public static void knnMembers(long[] q, long[] mask, long[] data, int w, IdSet set, TopK top, int maxDist) {
+    if (w == 4 && mask == null) {
+      knnMembers4(q, data, set, top, maxDist);
+      return;
+    }
     Words s = Words.of(q, mask, w);
     int bound = Math.min(maxDist, top.bound());
     for (int i = 0, words = (set.size() + 63) >>> 6; i < words; i++)
@@ -401,6 +405,25 @@ public final class ScanKernel {
         int d = s.distance(data, ord * w, w, bound);
         if (d <= bound) {
           top.offer(ord, d);
+          bound = Math.min(maxDist, top.bound());
+        }
+      }
+  }
+
+  /**
+   * {@link #knnMembers} for unmasked 4-word codes: every member is a random access far from the
+   * last, so the loop is kept short (query words in registers, no bound test inside a code) for the
+   * processor to keep more of those loads in flight.
+   */
+  private static void knnMembers4(long[] q, long[] data, IdSet set, TopK top, int maxDist) {
+    long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
+    int bound = Math.min(maxDist, top.bound());
+    for (int i = 0, words = (set.size() + 63) >>> 6; i < words; i++)
+      for (long x = set.word(i); x != 0; x &= x - 1) {
+        int o = ((i << 6) + Long.numberOfTrailingZeros(x)) << 2;
+        int d = Long.bitCount(q0 ^ data[o]) + Long.bitCount(q1 ^ data[o + 1]) + Long.bitCount(q2 ^ data[o + 2]) + Long.bitCount(q3 ^ data[o + 3]);
+        if (d <= bound) {
+          top.offer(o >>> 2, d);
           bound = Math.min(maxDist, top.bound());
         }
       }
