@@ -90,12 +90,14 @@ public final class ScanKernel {
    * {@code [bFrom, bTo)} of {@code b}, offered as {@code aOrds[i]} and {@code bOrds[i]}. Reading
    * two runs in step keeps two streams of memory reads in flight, which pays when the runs are
    * short (a few hundred codes at random places, as the windows of small clusters are); for 4-word
-   * codes it is one loop, for other widths it is the two runs one after the other.
+   * codes it is one loop, for other widths it is the two runs one after the other. {@code s}: the
+   * query's words without a mask ({@code Words.of(q, null, w)}, made once per query).
    */
-  public static void knnPair(long[] q, int w, long[] a, int aFrom, int aTo, int[] aOrds, long[] b, int bFrom, int bTo,
+  public static void knnPair(Words s, int w, long[] a, int aFrom, int aTo, int[] aOrds, long[] b, int bFrom, int bTo,
       int[] bOrds, IntPredicate accept, TopK top, int maxDist) {
     int both = Math.min(aTo - aFrom, bTo - bFrom);
     if (w == 4 && Loops.CHOSEN == Loops.SCALAR) {
+      long[] q = s.q;
       long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
       int bound = Math.min(maxDist, top.bound());
       for (int t = 0, i = aFrom, j = bFrom, ai = aFrom * 4, bj = bFrom * 4; t < both; t++, i++, j++, ai += 4, bj += 4) {
@@ -107,8 +109,8 @@ public final class ScanKernel {
     } else {
       both = 0;
     }
-    knn(q, null, a, w, aFrom + both, aTo, aOrds, accept, top, maxDist);
-    knn(q, null, b, w, bFrom + both, bTo, bOrds, accept, top, maxDist);
+    if (aFrom + both < aTo) knn(s, a, w, aFrom + both, aTo, aOrds, accept, top, maxDist);
+    if (bFrom + both < bTo) knn(s, b, w, bFrom + both, bTo, bOrds, accept, top, maxDist);
   }
 
   /**

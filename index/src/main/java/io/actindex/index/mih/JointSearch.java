@@ -171,11 +171,12 @@ public final class JointSearch {
       dq[p] = dist[g];
     }
     // the pre-pass: the nearest clusters of all blocks until k codes are known
+    ScanKernel.Words sel = ScanKernel.Words.of(q, null, w); // once per query: the window loops below take it
     TopK pre = new TopK(k);
     int done = 0;
     while (done < total && pre.size() < k) {
       int g = order[done++], b = blockOf[g];
-      ScanKernel.knn(q, null, partitionOf[b].codes, w, first[g], end[g], idAt[b], accept, pre, Integer.MAX_VALUE);
+      if (first[g] < end[g]) ScanKernel.knn(sel, partitionOf[b].codes, w, first[g], end[g], idAt[b], accept, pre, Integer.MAX_VALUE);
     }
     for (int b = 0; b < blocks.length; b++) s.walked[b] = parted[b] != null;
     s.cap = pre.bound();
@@ -212,12 +213,12 @@ public final class JointSearch {
         waitLo = lo;
         waitHi = hi;
       } else {
-        ScanKernel.knnPair(q, w, partitionOf[waiting].codes, waitLo, waitHi, idAt[waiting], partitionOf[b].codes, lo, hi, idAt[b],
+        ScanKernel.knnPair(sel, w, partitionOf[waiting].codes, waitLo, waitHi, idAt[waiting], partitionOf[b].codes, lo, hi, idAt[b],
             accept, top, bound);
         waiting = -1;
       }
     }
-    if (waiting >= 0) ScanKernel.knn(q, null, partitionOf[waiting].codes, w, waitLo, waitHi, idAt[waiting], accept, top, bound);
+    if (waiting >= 0) ScanKernel.knn(sel, partitionOf[waiting].codes, w, waitLo, waitHi, idAt[waiting], accept, top, bound);
     return top;
   }
 
