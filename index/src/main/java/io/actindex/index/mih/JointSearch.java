@@ -123,6 +123,14 @@ public final class JointSearch {
     return (int) Arrays.stream(parted).filter(java.util.Objects::nonNull).count();
   }
 
+  /** Blocks the last walk on this thread kept in it (for tests). */
+  int walkedLast() {
+    Scratch s = scratch.get();
+    int c = 0;
+    for (int b = 0; b < Math.min(blocks.length, s.walked.length); b++) if (s.walked[b]) c++;
+    return c;
+  }
+
   /**
    * The {@code k} nearest codes of all blocks, as ids, ties by ascending id. {@code accept}
    * (nullable) is over ids: the codes that may be returned; {@code blockAccept.apply(b)} (nullable
@@ -182,11 +190,11 @@ public final class JointSearch {
     s.cap = pre.bound();
     if (done == total) return pre; // every cluster of every partition scanned whole
     int bound = Math.min(s.cap, Character.MAX_VALUE); // no distance exceeds it: keeps dq + bound from overflowing
-    // each block's windows under the bound, and its planner's choice
+    // each block's windows under the bound after the pre-pass, and its planner's choice
     long[] rest = s.rest;
     Arrays.fill(rest, 0, blocks.length, 0);
     int reach = total;
-    for (int p = 0; p < total; p++) {
+    for (int p = done; p < total; p++) {
       int g = order[p];
       if (dq[p] - maxOfMaxRadius > bound) {
         reach = p; // so is every later cluster
@@ -194,31 +202,21 @@ public final class JointSearch {
       }
       if (dq[p] - maxRadius[g] <= bound) rest[blockOf[g]] += atRadius(g, dq[p] + bound + 1) - atRadius(g, dq[p] - bound);
     }
+    boolean all = true;
     for (int b = 0; b < blocks.length; b++)
-      if (parted[b] != null) s.walked[b] = parted[b].partitionFinishes(rest[b], q, bound);
-    // the walk: the windows of the chosen blocks, cut by the joint k-th distance as it drops
-    // (windows are scanned two at a time: see ScanKernel.knnPair; a window kept waiting was cut under
-    // an earlier, larger k-th distance, so it holds every code the current one admits)
-    TopK top = new TopK(k);
-    int waiting = -1, waitLo = 0, waitHi = 0;
-    for (int p = 0; p < reach; p++) {
+      if (parted[b] != null) all &= s.walked[b] = parted[b].partitionFinishes(rest[b], q, bound);
+    // the walk: the windows of the chosen blocks, cut by the joint k-th distance as it drops, one
+    // window at a time. When every block stays, it goes on from the pre-pass (its clusters are
+    // scanned whole); else it starts over, since the pre-pass holds codes of blocks searched on their own.
+    TopK top = all ? pre : new TopK(k);
+    for (int p = all ? done : 0; p < reach; p++) {
       int g = order[p], b = blockOf[g];
       int cut = top.size() == k ? Math.min(bound, top.bound()) : bound;
       if (dq[p] - maxOfMaxRadius > cut) break; // no later cluster can hold a code within it
       if (dq[p] - maxRadius[g] > cut || !s.walked[b]) continue;
       int lo = atRadius(g, dq[p] - cut), hi = atRadius(g, dq[p] + cut + 1);
-      if (lo >= hi) continue;
-      if (waiting < 0) {
-        waiting = b;
-        waitLo = lo;
-        waitHi = hi;
-      } else {
-        ScanKernel.knnPair(sel, w, partitionOf[waiting].codes, waitLo, waitHi, idAt[waiting], partitionOf[b].codes, lo, hi, idAt[b],
-            accept, top, bound);
-        waiting = -1;
-      }
+      if (lo < hi) ScanKernel.knn(sel, partitionOf[b].codes, w, lo, hi, idAt[b], accept, top, bound);
     }
-    if (waiting >= 0) ScanKernel.knn(sel, partitionOf[waiting].codes, w, waitLo, waitHi, idAt[waiting], accept, top, bound);
     return top;
   }
 

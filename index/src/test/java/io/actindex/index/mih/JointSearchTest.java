@@ -53,11 +53,31 @@ class JointSearchTest {
     for (int rep = 100; rep < 108; rep++) check(rep, 9_000 + new SplittableRandom(Randoms.seed(rep)).nextInt(8_000), false);
   }
 
+  /**
+   * One block's planner never lets its partition finish a query (a partition code priced near a
+   * millisecond), so it leaves the walk: the walk then starts over instead of going on from the
+   * pre-pass, which holds that block's codes too, and the block is searched on its own.
+   */
+  @Test
+  void blockLeavingTheWalkEqualsBruteForce() {
+    int left = 0;
+    for (int rep = 60; rep < 64; rep++) left += check(rep, 12_000 + new SplittableRandom(Randoms.seed(rep)).nextInt(4_000), false, true);
+    assertTrue(left > 0, "no block left the walk");
+  }
+
   private void check(int rep, int n, boolean forced) {
+    check(rep, n, forced, false);
+  }
+
+  private static final PlannerCosts LEAVING = new PlannerCosts(0.4, 0.3, 20, 50, 30, 3, 9e5, 30);
+
+  /** Returns how many unmasked queries had a block leave the walk. */
+  private int check(int rep, int n, boolean forced, boolean leaving) {
+    int left = 0;
     long seed = Randoms.seed(rep);
     SplittableRandom rnd = new SplittableRandom(seed);
     int bits = forced ? BITS[rnd.nextInt(BITS.length)] : 256;
-    String why = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " bits=" + bits + " forced=" + forced;
+    String why = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " bits=" + bits + " forced=" + forced + " leaving=" + leaving;
     // the codes by id, with one code copied to 16 ids (ties across blocks) and 3% copies of others
     CodeBlock drawn = PartitionTest.codes(rep, n, bits, seed);
     int w = drawn.wordsPerCode();
@@ -75,6 +95,8 @@ class JointSearchTest {
     for (int b = 1; b < blocks; b++) // the first block small, the others of random sizes, each of 2 codes or more
       cut[b] = Math.min(n - 2 * (blocks - b), b == 1 ? 2 + rnd.nextInt(Math.min(40, n / blocks)) : cut[b - 1] + 2 + rnd.nextInt(2 * n / blocks));
     boolean scanFirst = rep % 4 == 3, smallClusters = rnd.nextBoolean();
+    int largest = 0;
+    for (int b = 1; b < blocks; b++) if (cut[b + 1] - cut[b] > cut[largest + 1] - cut[largest]) largest = b;
     int[][] ids = new int[blocks][];
     List<CodeSearcher> searchers = new ArrayList<>();
     List<IntUnaryOperator> idOf = new ArrayList<>();
@@ -86,7 +108,8 @@ class JointSearchTest {
       long[] bw = new long[bi.length * w];
       for (int o = 0; o < bi.length; o++) System.arraycopy(words, bi[o] * w, bw, o * w, w);
       CodeBlock block = new CodeBlock(all.layout(), bi.length, bw);
-      CodeSearcher built = b == 0 && scanFirst ? new ScanSearcher(block) : Searchers.build(block, opts); // a small segment may be a plain scan
+      CodeSearcher built = b == 0 && scanFirst ? new ScanSearcher(block) // a small segment may be a plain scan
+          : leaving && b == largest ? Searchers.build(block, opts, LEAVING) : Searchers.build(block, opts);
       // the default cluster size leaves these blocks few clusters: in half the cases each block gets
       // small ones (a few codes up to sqrt of its size), so that clusters of many sizes meet in one walk
       if (smallClusters && built instanceof MihSearcher m && m.partition != null)
@@ -111,9 +134,11 @@ class JointSearchTest {
           String what = why + " smallClusters=" + smallClusters + " blocks=" + Arrays.toString(cut) + " filter=" + f + " query=" + qi + " k=" + k;
           Hits expected = BruteForce.knn(all, q, k, accept, mask);
           assertEquals(expected, joint.knn(q, k, accept, blockAccept, mask), what);
+          if (mask == null && joint.walkedLast() < joint.partitionedBlocks()) left++;
         }
       }
     }
+    return left;
   }
 
   /** Filter case f: none, one deleted, 30% deleted, 10% kept, 0.5% kept (walked), none kept, 90% kept. */
