@@ -31,15 +31,21 @@ import java.util.function.IntUnaryOperator;
  * distance still order by id. Without a partition to share (a mask, a selective filter, fewer than
  * two blocks), blocks are searched one by one, largest first, each capped the same way.
  *
- * <p>Where the time goes (1M dense 256-bit codes in ten segments, in-distribution 10-NN): the
- * joint order reaches the final k-th distance early (the codes scanned are within a few percent of
- * those a search told the final distance in advance would scan), so the cost is scanning the
- * windows. Short windows cost more per code than long ones (a random short run waits on memory), so
- * small segments get clusters of at least {@link Partition#MIN_CLUSTER_SIZE} codes, two windows are
- * scanned in step ({@link ScanKernel#knnPair}), and the window bounds come from per-radius tables,
- * not binary searches. A block leaves the walk for its tables only when they are estimated far
- * cheaper than its windows ({@link MihSearcher#partitionFinishes}): their estimate is optimistic
- * on skewed codes, and a block searched on its own pays its fixed work again.
+ * <p>Where the time goes (1M 256-bit codes in ten segments, in-distribution 10-NN): the joint
+ * order reaches the final k-th distance early (the codes scanned are within a few percent of those
+ * a search told the final distance in advance would scan), so the cost is scanning the windows.
+ * When every block stays in the walk, it goes on from the pre-pass's top and skips the clusters the
+ * pre-pass scanned whole. Short windows cost more per code than long ones (a random short run waits
+ * on memory), so small segments get clusters of at least {@link Partition#MIN_CLUSTER_SIZE} codes,
+ * and the window bounds come from per-radius tables, not binary searches. Windows are scanned one
+ * at a time: two in step (one loop over both) measured slower per code than one after the other
+ * at these window lengths (docs/benchmarks.md, "Ten segments of skewed codes, stop 19"). On skewed
+ * ReLU codes ten segments of 100k scan about 1.7x the codes of one 1M segment: a cluster of 1,000
+ * codes among 100k spans more of the code space than one among 1M, so more of it lies within the
+ * window; how the centres are fit (sample size, rounds, seeding) changed that by about 1%. A block
+ * leaves the walk for its tables only when they are estimated far cheaper than its windows
+ * ({@link MihSearcher#partitionFinishes}): their estimate is optimistic on skewed codes, and a
+ * block searched on its own pays its fixed work again.
  *
  * <p>Thread-safe: per-thread scratch arrays are kept in a {@link ThreadLocal}.
  */
