@@ -86,6 +86,34 @@ public final class ScanKernel {
   }
 
   /**
+   * {@link #knn} (no mask) over two runs at once: positions {@code [aFrom, aTo)} of {@code a} and
+   * {@code [bFrom, bTo)} of {@code b}, offered as {@code aOrds[i]} and {@code bOrds[i]}. Reading
+   * two runs in step keeps two streams of memory reads in flight, which pays when the runs are
+   * short (a few hundred codes at random places, as the windows of small clusters are); for 4-word
+   * codes it is one loop, for other widths it is the two runs one after the other. {@code s}: the
+   * query's words without a mask ({@code Words.of(q, null, w)}, made once per query).
+   */
+  public static void knnPair(Words s, int w, long[] a, int aFrom, int aTo, int[] aOrds, long[] b, int bFrom, int bTo,
+      int[] bOrds, IntPredicate accept, TopK top, int maxDist) {
+    int both = Math.min(aTo - aFrom, bTo - bFrom);
+    if (w == 4 && Loops.CHOSEN == Loops.SCALAR) {
+      long[] q = s.q;
+      long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
+      int bound = Math.min(maxDist, top.bound());
+      for (int t = 0, i = aFrom, j = bFrom, ai = aFrom * 4, bj = bFrom * 4; t < both; t++, i++, j++, ai += 4, bj += 4) {
+        int da = Long.bitCount(a[ai] ^ q0) + Long.bitCount(a[ai + 1] ^ q1) + Long.bitCount(a[ai + 2] ^ q2) + Long.bitCount(a[ai + 3] ^ q3);
+        int db = Long.bitCount(b[bj] ^ q0) + Long.bitCount(b[bj + 1] ^ q1) + Long.bitCount(b[bj + 2] ^ q2) + Long.bitCount(b[bj + 3] ^ q3);
+        if (da <= bound) bound = offer(i, da, aOrds, accept, top, maxDist, bound);
+        if (db <= bound) bound = offer(j, db, bOrds, accept, top, maxDist, bound);
+      }
+    } else {
+      both = 0;
+    }
+    if (aFrom + both < aTo) knn(s, a, w, aFrom + both, aTo, aOrds, accept, top, maxDist);
+    if (bFrom + both < bTo) knn(s, b, w, bFrom + both, bTo, bOrds, accept, top, maxDist);
+  }
+
+  /**
    * The positions {@code y} in {@code [from, to)} of {@code data} (w words per code) whose code is
    * within {@code radius} of the code at word {@code qOff} of {@code q} (which may be {@code data}
    * itself), written to {@code out} in ascending order; returns their count. The hot loop of the

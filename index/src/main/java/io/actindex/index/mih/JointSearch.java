@@ -37,9 +37,10 @@ import java.util.function.IntUnaryOperator;
  * When every block stays in the walk, it goes on from the pre-pass's top and skips the clusters the
  * pre-pass scanned whole. Short windows cost more per code than long ones (a random short run waits
  * on memory), so small segments get clusters of at least {@link Partition#MIN_CLUSTER_SIZE} codes,
- * and the window bounds come from per-radius tables, not binary searches. Windows are scanned one
- * at a time: two in step (one loop over both) measured slower per code than one after the other
- * at these window lengths (docs/benchmarks.md, "Ten segments of skewed codes, stop 19"). On skewed
+ * two windows are scanned in step ({@link ScanKernel#knnPair}; one at a time measured 3-11% faster
+ * on skewed codes but up to 17% slower on dense ones out of distribution, within this machine's
+ * noise: docs/benchmarks.md, "Ten segments of skewed codes, stop 19"), and the window bounds come
+ * from per-radius tables, not binary searches. On skewed
  * ReLU codes ten segments of 100k scan about 1.7x the codes of one 1M segment: a cluster of 1,000
  * codes among 100k spans more of the code space than one among 1M, so more of it lies within the
  * window; how the centres are fit (sample size, rounds, seeding) changed that by about 1%. A block
@@ -211,18 +212,31 @@ public final class JointSearch {
     boolean all = true;
     for (int b = 0; b < blocks.length; b++)
       if (parted[b] != null) all &= s.walked[b] = parted[b].partitionFinishes(rest[b], q, bound);
-    // the walk: the windows of the chosen blocks, cut by the joint k-th distance as it drops, one
-    // window at a time. When every block stays, it goes on from the pre-pass (its clusters are
-    // scanned whole); else it starts over, since the pre-pass holds codes of blocks searched on their own.
+    // the walk: the windows of the chosen blocks, cut by the joint k-th distance as it drops. When
+    // every block stays, it goes on from the pre-pass (its clusters are scanned whole); else it
+    // starts over, since the pre-pass holds codes of blocks searched on their own. Windows are
+    // scanned two at a time (see ScanKernel.knnPair); a window kept waiting was cut under an
+    // earlier, larger k-th distance, so it holds every code the current one admits.
     TopK top = all ? pre : new TopK(k);
+    int waiting = -1, waitLo = 0, waitHi = 0;
     for (int p = all ? done : 0; p < reach; p++) {
       int g = order[p], b = blockOf[g];
       int cut = top.size() == k ? Math.min(bound, top.bound()) : bound;
       if (dq[p] - maxOfMaxRadius > cut) break; // no later cluster can hold a code within it
       if (dq[p] - maxRadius[g] > cut || !s.walked[b]) continue;
       int lo = atRadius(g, dq[p] - cut), hi = atRadius(g, dq[p] + cut + 1);
-      if (lo < hi) ScanKernel.knn(sel, partitionOf[b].codes, w, lo, hi, idAt[b], accept, top, bound);
+      if (lo >= hi) continue;
+      if (waiting < 0) {
+        waiting = b;
+        waitLo = lo;
+        waitHi = hi;
+      } else {
+        ScanKernel.knnPair(sel, w, partitionOf[waiting].codes, waitLo, waitHi, idAt[waiting], partitionOf[b].codes, lo, hi, idAt[b],
+            accept, top, bound);
+        waiting = -1;
+      }
     }
+    if (waiting >= 0) ScanKernel.knn(sel, partitionOf[waiting].codes, w, waitLo, waitHi, idAt[waiting], accept, top, bound);
     return top;
   }
 
