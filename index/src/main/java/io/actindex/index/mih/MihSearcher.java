@@ -50,6 +50,16 @@ final class MihSearcher implements CodeSearcher {
    */
   private static final double MASKED_PROVEN = 0.3;
 
+  /**
+   * Share of a selective filter's walk that the partition's first clusters may cost, and share of
+   * it under which the partition's estimate must stay to finish the query (see {@link #selective}):
+   * the estimate is optimistic (1M 256-bit codes, 1% filter: estimated at most half the walk, the
+   * partition took 1.4x the walk's 139 us on dense codes, about 2x its 150 us on skewed ones), so
+   * the partition must promise a quarter. A 10% filter, whose walk took 3-5 ms, is far under it.
+   */
+  private static final double SELECTIVE_TRY = 0.1, SELECTIVE_MARGIN = 0.25;
+  private static final int[] NO_TABLES = {};
+
   /** The masked scan's head ({@link #head}): the first n / HEAD_SHARE codes, at least HEAD_MIN... */
   private static final int HEAD_SHARE = 64, HEAD_MIN = 1024;
   /** ...then on while k codes at distance 0 are expected within this share of the codes. */
@@ -147,7 +157,13 @@ final class MihSearcher implements CodeSearcher {
     if (accept instanceof IdSet set) {
       if (set.size() != n) throw new IllegalArgumentException("filter over " + set.size() + " ordinals, searcher has " + n);
       if (set.isEmpty()) return Hits.EMPTY;
-      if (auto && set.count() * cost.walk() <= scanCost) return scan.knn(query, k, accept, mask, maxDist);
+      double walkCost = set.count() * cost.walk();
+      if (auto && walkCost <= scanCost) {
+        Hits h = mask == null ? selective(query, Math.min(k, n), set, maxDist, walkCost) : null;
+        if (h != null) return h;
+        scratch.get().answeredByScan();
+        return scan.knn(query, k, accept, mask, maxDist);
+      }
     }
     int kk = Math.min(k, n);
     // under a mask, the scan's first codes: done when k of them tie at distance 0 (see head)
@@ -208,6 +224,39 @@ final class MihSearcher implements CodeSearcher {
         return scan.knn(query, k, accept, mask, maxDist);
       }
       return tables(s, query, kk, accept, mask, active, maxDist);
+    } finally {
+      s.end();
+    }
+  }
+
+  /**
+   * A selective filter ({@code set}, cheaper to walk than to scan past), unmasked: its walk costs
+   * {@code walkCost}, but with many members the partition may find the k nearest of them sooner
+   * (a 5% filter's 10th nearest member is about the 200th nearest code, which the windows reach
+   * quickly; a 0.01% filter's lies too far for any pruning). So when the clusters nearest the query
+   * are expected to hold k members within {@value #SELECTIVE_TRY} of the walk's cost (k n / count
+   * codes), they are scanned first; the k-th distance they give bounds the windows of the rest, and
+   * the partition finishes the query if those windows are estimated at most {@value #SELECTIVE_MARGIN}
+   * of the walk. Else
+   * (null) the caller walks.
+   */
+  private Hits selective(long[] query, int k, IdSet set, int maxDist, double walkCost) {
+    if (partition == null || (double) k * codes.size() / set.count() * cost.partitionCode() > SELECTIVE_TRY * walkCost) return null;
+    Scratch s = scratch.get().begin(this, query, NO_TABLES);
+    try {
+      TopK top = new TopK(k);
+      int from = partition.begin(query, null, codes.layout().bits(), s.visit, set, top, k, maxDist);
+      int bound = top.size() == k ? Math.min(maxDist, top.bound()) : maxDist;
+      double limit = SELECTIVE_MARGIN * walkCost;
+      double rest = from == partition.clusters() ? 0
+          : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), limit);
+      if (rest > limit) {
+        s.path = PATH_SCAN;
+        return scan.knn(query, k, set, null, bound); // the k members found are within the bound
+      }
+      s.path = PATH_PARTITION;
+      if (rest > 0) partition.finish(s.visit, from, set, top, maxDist);
+      return top.toHits();
     } finally {
       s.end();
     }
