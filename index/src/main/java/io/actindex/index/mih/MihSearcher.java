@@ -29,7 +29,8 @@ import java.util.function.IntPredicate;
  * <p>Thread-safe: per-thread scratch (a visited bitset) is kept in a {@link ThreadLocal}.
  */
 final class MihSearcher implements CodeSearcher {
-  static final int PATH_SCAN = 1, PATH_TABLES = 2, PATH_PARTITION = 3;
+  /** Which path answered ({@link #lastQueryWork}): the scan's head (a masked query, before any other set-up) is the scan's answer too. */
+  static final int PATH_SCAN = 1, PATH_TABLES = 2, PATH_PARTITION = 3, PATH_HEAD = 4;
   /** Work the tables may spend on a query without knowing it will finish cheaper than a scan. */
   private static final double EAGER = 0.07;
   /** Work the tables may spend in all once an upper bound shows they finish within it. */
@@ -170,11 +171,21 @@ final class MihSearcher implements CodeSearcher {
     try {
       boolean usePartition = partition != null && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
       if (usePartition) {
-        TopK top = new TopK(kk);
-        // a full head holds k codes within maxDist, so the nearest clusters may offer codes beyond it:
-        // the windows under maxDist push them out
-        int from = partition.begin(query, mask, codes.layout().bits(), s.visit, accept, top, kk,
-            head != null && head.top.size() == kk ? Integer.MAX_VALUE : maxDist);
+        TopK top;
+        IntPredicate rest = accept; // what the partition may offer
+        int from;
+        if (head != null && head.top.size() == kk) {
+          // the partition starts from the head's k codes and skips the head's positions (ordinals)
+          top = head.top.copy();
+          int end = head.end;
+          IntPredicate a = accept;
+          rest = a == null ? o -> o >= end : o -> o >= end && a.test(o);
+          from = partition.beginAfter(sel, mask, codes.layout().bits(), s.visit, rest, top, maxDist, kk);
+        } else {
+          top = new TopK(kk);
+          from = partition.begin(sel != null ? sel : ScanKernel.Words.of(query, null, codes.wordsPerCode()), mask,
+              codes.layout().bits(), s.visit, accept, top, kk, maxDist);
+        }
         int bound = top.size() == kk ? Math.min(maxDist, top.bound()) : maxDist;
         if (head != null && bound == 0 && from < partition.clusters()) {
           // k codes at distance 0 near the query: there may be thousands, which the partition must
@@ -187,12 +198,12 @@ final class MihSearcher implements CodeSearcher {
           scanCost = cost.scan(n - head.end, sel.at().length);
         }
         double limit = (mask == null ? PROVEN : MASKED_PROVEN) * scanCost;
-        double rest = from == partition.clusters() ? 0
+        double restCost = from == partition.clusters() ? 0
             : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), auto ? limit : Double.POSITIVE_INFINITY);
         double tablesCost = tablesCost(s, active, bound, plan.constantDistance(query, mask));
-        if (!auto || rest <= limit && rest <= tablesCost) {
+        if (!auto || restCost <= limit && restCost <= tablesCost) {
           s.path = PATH_PARTITION;
-          if (rest > 0) partition.finish(s.visit, from, accept, top, maxDist);
+          if (restCost > 0) partition.finish(s.visit, from, rest, top, maxDist);
           return top.toHits();
         }
         maxDist = bound; // the k-th distance so far bounds the answer: the path below starts afresh under it
@@ -207,7 +218,7 @@ final class MihSearcher implements CodeSearcher {
         s.path = PATH_SCAN;
         return scan.knn(query, k, accept, mask, maxDist);
       }
-      return tables(s, query, kk, accept, mask, active, maxDist);
+      return tables(s, query, kk, accept, mask, active, maxDist, head, sel);
     } finally {
       s.end();
     }
@@ -256,9 +267,7 @@ final class MihSearcher implements CodeSearcher {
     Head head = new Head(kk);
     head.scanTo(Math.min(n, Math.max(HEAD_MIN, n / HEAD_SHARE)), sel, accept, maxDist);
     while (!head.done()) {
-      Hits h = head.top.toHits();
-      int zeros = 0;
-      while (zeros < h.size() && h.dist(zeros) == 0) zeros++;
+      int zeros = head.top.countWithin(0);
       head.stop = zeros == 0 ? n : Math.max(head.end, Math.min(n, (long) head.end * kk / zeros)); // expected end of the scan
       long next = head.stop * 5 / 4; // with a margin
       if (next > HEAD_REACH * n) break;
@@ -267,8 +276,12 @@ final class MihSearcher implements CodeSearcher {
     return head;
   }
 
-  /** Multi-index hashing over the active tables, falling back to the scan when the planner says so. */
-  private Hits tables(Scratch s, long[] query, int kk, IntPredicate accept, long[] mask, int[] active, int maxDist) {
+  /**
+   * Multi-index hashing over the active tables, falling back to the scan when the planner says so
+   * (after the scan's head, if any: from where it stopped).
+   */
+  private Hits tables(Scratch s, long[] query, int kk, IntPredicate accept, long[] mask, int[] active, int maxDist, Head head,
+      ScanKernel.Words sel) {
     int m = active.length, c = plan.constantDistance(query, mask);
     TopK top = new TopK(kk);
     s.path = PATH_TABLES;
@@ -280,7 +293,9 @@ final class MihSearcher implements CodeSearcher {
         if (rho <= tables[t].width) {
           if (strategy == SearchPlanOptions.Strategy.AUTO && !worthIt(s, top, kk, active, rho, j, c, maxDist)) {
             s.path = PATH_SCAN;
-            return scan.knn(query, kk, accept, mask, bound(top, kk, maxDist));
+            if (head == null) return scan.knn(query, kk, accept, mask, bound(top, kk, maxDist));
+            head.scanTo(codes.size(), sel, accept, bound(top, kk, maxDist));
+            return head.top.toHits();
           }
           shell(s, t, rho, query, accept, mask, top, bound(top, kk, maxDist));
         }
@@ -516,7 +531,7 @@ final class MihSearcher implements CodeSearcher {
    */
   long[] lastQueryWork() {
     Scratch s = scratch.get();
-    return new long[] {s.probes, s.candidates, s.path == PATH_SCAN ? 1 : 0, s.path};
+    return new long[] {s.probes, s.candidates, s.path == PATH_SCAN || s.path == PATH_HEAD ? 1 : 0, s.path};
   }
 
   /** Expert, for tests: the table work of this thread's last query as a share of its scan, both in the planner's costs. */
@@ -572,7 +587,7 @@ final class MihSearcher implements CodeSearcher {
     /** Marks the last query as answered by the scan before any other work (for {@link #lastQueryWork}). */
     void answeredByScan() {
       probes = candidates = 0;
-      path = PATH_SCAN;
+      path = PATH_HEAD;
     }
 
     void touch(int ord) {
