@@ -91,12 +91,9 @@ class ScanKernelTest {
       long seed = Randoms.seed(2000 + rep);
       SplittableRandom rnd = new SplittableRandom(seed);
       int bits = widths[rep % widths.length], n = 1 + rnd.nextInt(3000);
-      CodeBlock base = LayerMasks.cut(rep % 2 == 0 ? SyntheticCodes.uniform(n, bits, seed)
-          : SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes(), rnd);
-      long[] layer = rep % 5 == 0 ? null : LayerMasks.mask(base.layout(), rnd);
-      long[] all = new long[base.wordsPerCode()];
-      java.util.Arrays.fill(all, -1L);
-      CodeBlock codes = SyntheticCodes.tiedUnder(base, layer == null ? all : layer, 1 + rnd.nextInt(30), seed + 1);
+      Tied tied = tied(rep, n, bits, seed, rnd);
+      CodeBlock codes = tied.codes();
+      long[] layer = tied.layer();
       long[] q = codes.code(rnd.nextInt(n));
       IntPredicate accept = filter(rnd, n);
       int k = 1 + rnd.nextInt(rnd.nextBoolean() ? 120 : n + 5);
@@ -119,12 +116,9 @@ class ScanKernelTest {
       long seed = Randoms.seed(500 + rep);
       SplittableRandom rnd = new SplittableRandom(seed);
       int bits = new int[] {64, 100, 128, 256, 300, 512, 1024}[rnd.nextInt(7)], n = 500 + rnd.nextInt(4000);
-      CodeBlock base = LayerMasks.cut(rep % 2 == 0 ? SyntheticCodes.uniform(n, bits, seed)
-          : SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes(), rnd);
-      long[] layer = rep % 5 == 0 ? null : LayerMasks.mask(base.layout(), rnd);
-      long[] all = new long[base.wordsPerCode()];
-      java.util.Arrays.fill(all, -1L);
-      CodeBlock codes = SyntheticCodes.tiedUnder(base, layer == null ? all : layer, 1 + rnd.nextInt(30), seed + 1);
+      Tied tied = tied(rep, n, bits, seed, rnd);
+      CodeBlock codes = tied.codes();
+      long[] layer = tied.layer();
       long[] q = ScanSearcher.checkQuery(codes.layout(), codes.code(rnd.nextInt(n)), layer);
       long[] mask = ScanSearcher.checkMask(codes.layout(), layer);
       IntPredicate accept = filter(rnd, n);
@@ -143,6 +137,19 @@ class ScanKernelTest {
         from = to;
       }
     }
+  }
+
+  /** Codes of which thousands tie over {@code layer} (null: over every bit). */
+  private record Tied(CodeBlock codes, long[] layer) {}
+
+  /** Uniform or ReLU-like codes cut into layers, a layer mask (null for every fifth rep), and one layer copied from a few codes. */
+  private static Tied tied(int rep, int n, int bits, long seed, SplittableRandom rnd) {
+    CodeBlock base = LayerMasks.cut(rep % 2 == 0 ? SyntheticCodes.uniform(n, bits, seed)
+        : SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes(), rnd);
+    long[] layer = rep % 5 == 0 ? null : LayerMasks.mask(base.layout(), rnd);
+    long[] all = new long[base.wordsPerCode()];
+    java.util.Arrays.fill(all, -1L);
+    return new Tied(SyntheticCodes.tiedUnder(base, layer == null ? all : layer, 1 + rnd.nextInt(30), seed + 1), layer);
   }
 
   /** An empty filter answers at once; the planner-facing count matches the members. */

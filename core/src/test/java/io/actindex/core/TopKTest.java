@@ -6,7 +6,10 @@ import java.util.Arrays;
 import java.util.SplittableRandom;
 import org.junit.jupiter.api.Test;
 
-/** {@link TopK} against a sort of everything offered: the kept pairs, ties by ordinal, and {@link TopK#countWithin}. */
+/**
+ * {@link TopK} against a sort of everything offered: the kept pairs, ties by ordinal, {@link
+ * TopK#countWithin}, and a {@link TopK#copy} that stays as it was while the original goes on.
+ */
 class TopKTest {
 
   @Test
@@ -18,11 +21,18 @@ class TopKTest {
       TopK top = new TopK(k);
       long[] all = new long[n];
       int[] ords = Randoms.permutation(n, rnd); // each ordinal once, in any order
+      TopK half = null;
+      Hits atHalf = null;
       for (int i = 0; i < n; i++) {
+        if (i == n / 2) {
+          half = top.copy();
+          atHalf = top.toHits();
+        }
         int d = rnd.nextInt(maxDist);
         all[i] = (long) d << 32 | ords[i];
         top.offer(ords[i], d);
       }
+      if (half != null) assertEquals(atHalf, half.toHits(), Randoms.describe(seed) + ": the copy moved with the original");
       Arrays.sort(all);
       long[] kept = Arrays.copyOf(all, Math.min(k, n));
       Hits h = top.toHits();

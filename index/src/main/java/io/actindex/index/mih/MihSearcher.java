@@ -131,10 +131,12 @@ final class MihSearcher implements CodeSearcher {
 
   /**
    * The planner's order: an empty filter answers at once and a selective one is walked (the scan
-   * does both); then the partition finds a first k-th distance B from the nearest clusters (under a
-   * mask, with the mask's distances to the centres and radii), and whichever of the rest of the
-   * partition, the tables (every shell up to B) or the scan is estimated cheapest finishes the
-   * query, with B as the distance cap. A masked scan costs what its selected words cost.
+   * does both); under a mask the scan's head runs first ({@link #head}) and answers when it holds k
+   * codes at distance 0; then the partition finds a first k-th distance B from the nearest clusters
+   * (under a mask, with the mask's distances to the centres and radii, starting from a copy of a
+   * full head's top), and whichever of the rest of the partition, the tables (every shell up to B)
+   * or the scan (from where the head stopped) is estimated cheapest finishes the query, with B as
+   * the distance cap. A masked scan costs what its selected words cost.
    */
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
