@@ -63,6 +63,7 @@ final class MihSearcher implements CodeSearcher {
   final Partition partition; // null: none (small block)
   final PlannerCosts cost;
   private final ScanSearcher scan;
+  private final long ghost; // the layout's bits past its width in a code's last word
   private final double scanCost;
   private final double[] freshCost; // see freshTablesCost
   private final double candidateCost; // a candidate verified at a random place of these codes
@@ -79,6 +80,7 @@ final class MihSearcher implements CodeSearcher {
     this.partition = partition;
     this.cost = cost;
     this.scan = new ScanSearcher(codes);
+    this.ghost = CodeBlock.ghostMask(codes.layout());
     int n = codes.size();
     this.scanCost = cost.scan(n, codes.wordsPerCode());
     this.candidateCost = cost.candidate(8L * codes.words().length);
@@ -105,6 +107,7 @@ final class MihSearcher implements CodeSearcher {
     this.partition = partition;
     this.cost = s.cost;
     this.scan = s.scan;
+    this.ghost = s.ghost;
     this.scanCost = s.scanCost;
     this.candidateCost = s.candidateCost;
     this.ownRate = s.ownRate;
@@ -140,12 +143,13 @@ final class MihSearcher implements CodeSearcher {
    */
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
-    query = ScanSearcher.checkQuery(codes.layout(), query, mask);
-    mask = ScanSearcher.checkMask(codes.layout(), mask);
+    int w = codes.wordsPerCode();
+    query = ScanSearcher.checkQuery(w, ghost, query, mask);
+    mask = ScanSearcher.checkMask(w, ghost, mask);
     int n = codes.size();
     if (k <= 0 || n == 0 || maxDist < 0) return Hits.EMPTY;
     boolean auto = strategy == SearchPlanOptions.Strategy.AUTO;
-    ScanKernel.Words sel = mask == null ? null : ScanKernel.Words.of(query, mask, codes.wordsPerCode());
+    ScanKernel.Words sel = mask == null ? null : ScanKernel.Words.of(query, mask, w);
     double scanCost = mask == null ? this.scanCost : cost.scan(n, sel.at().length);
     if (accept instanceof IdSet set) {
       if (set.size() != n) throw new IllegalArgumentException("filter over " + set.size() + " ordinals, searcher has " + n);
@@ -389,8 +393,8 @@ final class MihSearcher implements CodeSearcher {
 
   @Override
   public Hits radius(long[] query, int radius, IntPredicate accept, long[] mask) {
-    query = ScanSearcher.checkQuery(codes.layout(), query, mask);
-    mask = ScanSearcher.checkMask(codes.layout(), mask);
+    query = ScanSearcher.checkQuery(codes.wordsPerCode(), ghost, query, mask);
+    mask = ScanSearcher.checkMask(codes.wordsPerCode(), ghost, mask);
     if (radius < 0 || codes.size() == 0) return Hits.EMPTY;
     int[] active = activeTables(mask);
     if (accept instanceof IdSet set && set.isEmpty()) return Hits.EMPTY;
