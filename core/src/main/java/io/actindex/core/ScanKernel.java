@@ -215,8 +215,7 @@ public final class ScanKernel {
     if (((long) d << 32 | ord) >= top.worst()) return bound; // a tie that cannot enter: the filter is not asked
     if (accept != null && !accept.test(ord)) return bound;
     top.offer(ord, d);
-    int b = top.bound();
-    return Math.min(maxDist, ords == null && b != Integer.MAX_VALUE ? b - 1 : b);
+    return startBound(top, ords, maxDist);
   }
 
   /**
