@@ -37,7 +37,7 @@ final class CheckCommand implements Callable<Integer> {
             .name("ok").value(r.ok())
             .name("files").beginArray();
         for (IndexCheck.FileResult f : r.files()) {
-          j.beginObject().member("file", f.file()).member("bytes", f.bytes()).name("ok").value(f.ok());
+          j.beginObject().member("file", f.file()).member("bytes", f.bytes()).name("ok").value(f.ok()).member("status", f.status());
           if (f.problem() != null) j.member("problem", f.problem());
           j.endObject();
         }
@@ -52,10 +52,12 @@ final class CheckCommand implements Callable<Integer> {
       case table -> {
         TextTable t = new TextTable(List.of("file", "bytes", "status"));
         for (IndexCheck.FileResult f : r.files())
-          t.row(List.of(f.file(), f.file().equals("index") ? "" : Long.toString(f.bytes()), f.ok() ? "ok" : "DAMAGED"));
+          t.row(List.of(f.file(), f.file().equals("index") ? "" : Long.toString(f.bytes()), f.status()));
         out.println("index " + index.dir + ", generation " + r.generation() + ":");
         t.print(out, "  ");
-        out.println(r.ok() ? "every file is sound" : "damaged files found");
+        out.println(r.ok() ? "every file is sound" : "damaged files found:");
+        for (IndexCheck.FileResult f : r.files())
+          if (!f.ok()) out.println("  " + f.file() + ": " + f.problem());
       }
     }
     out.flush();

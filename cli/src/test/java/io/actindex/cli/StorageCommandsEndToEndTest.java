@@ -164,9 +164,15 @@ class StorageCommandsEndToEndTest {
     Map<String, String> before = Files2.checksums(idx);
     Cli.Result r = Cli.run("check", "--index", idx.toString());
     refused(r, codesFile.getFileName().toString());
-    assertThat(r.out()).contains("DAMAGED").contains(codesFile.getFileName().toString());
+    assertThat(r.out()).contains("damaged").contains(codesFile.getFileName().toString());
     JsonNode doc = JsonWriterTest.STRICT.readTree(Cli.run("check", "--index", idx.toString(), "--format", "json").out());
     assertThat(doc.get("ok").asBoolean()).isFalse();
+    String tablesName = codesFile.getFileName().toString().replace(".codes", ".tables");
+    for (JsonNode f : doc.get("files")) { // only the codes file is damaged; its tables file could not be checked
+      String name = f.get("file").asText();
+      String want = name.equals(codesFile.getFileName().toString()) ? "damaged" : name.equals(tablesName) ? "not checked" : "ok";
+      assertThat(f.get("status").asText()).as(name).isEqualTo(want);
+    }
     refused(Cli.run("compact", "--index", idx.toString()), codesFile.getFileName().toString()); // merges check every byte
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }

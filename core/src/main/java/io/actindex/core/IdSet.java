@@ -119,6 +119,37 @@ public final class IdSet implements IntPredicate {
     return contains(id);
   }
 
+  /**
+   * The members from {@code from} on, in ascending order, copied into {@code out} until it is full;
+   * returns how many were copied (fewer than {@code out.length} only once the set is exhausted). For
+   * loops that walk a set a block at a time: the next block starts after {@code out[m - 1]}. Sparse
+   * sets spend most of a walk passing empty words, so a set whose members start on a word boundary
+   * (every set but some windows) reads its words directly.
+   */
+  public int next(int from, int[] out) {
+    if (from < 0) throw new IllegalArgumentException("from " + from + " < 0");
+    int m = 0, cap = out.length, n = (size + 63) >>> 6;
+    if (from >= size || cap == 0) return 0;
+    int i = from >>> 6;
+    boolean aligned = (base & 63) == 0;
+    int off = base >>> 6;
+    long x = (aligned ? words[off + i] : word(i)) & (-1L << from);
+    while (true) {
+      for (; x != 0; x &= x - 1) {
+        int id = (i << 6) + Long.numberOfTrailingZeros(x);
+        if (id >= size) return m; // a window's words run on past its end
+        out[m++] = id;
+        if (m == cap) return m;
+      }
+      if (++i >= n) return m;
+      if (aligned) {
+        while ((x = words[off + i]) == 0) if (++i >= n) return m;
+      } else {
+        x = word(i);
+      }
+    }
+  }
+
   /** The members in ascending order. */
   public int[] toArray() {
     int[] out = new int[count()];

@@ -414,9 +414,10 @@ public final class ScanKernel {
     }
     Words s = Words.of(q, mask, w);
     int bound = Math.min(maxDist, top.bound());
-    for (int i = 0, words = (set.size() + 63) >>> 6; i < words; i++)
-      for (long x = set.word(i); x != 0; x &= x - 1) {
-        int ord = (i << 6) + Long.numberOfTrailingZeros(x);
+    int[] block = new int[MEMBER_BLOCK];
+    for (int from = 0, m = MEMBER_BLOCK; m == MEMBER_BLOCK && (m = set.next(from, block)) > 0; from = block[m - 1] + 1)
+      for (int j = 0; j < m; j++) {
+        int ord = block[j];
         int d = s.distance(data, ord * w, w, bound);
         if (d <= bound) {
           top.offer(ord, d);
@@ -424,6 +425,9 @@ public final class ScanKernel {
         }
       }
   }
+
+  /** Members taken from a set at a time by the member walks ({@link IdSet#next}). */
+  private static final int MEMBER_BLOCK = 256;
 
   /**
    * {@link #knnMembers} for unmasked 4-word codes: every member is a random access far from the
@@ -433,9 +437,10 @@ public final class ScanKernel {
   private static void knnMembers4(long[] q, long[] data, IdSet set, TopK top, int maxDist) {
     long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
     int bound = Math.min(maxDist, top.bound());
-    for (int i = 0, words = (set.size() + 63) >>> 6; i < words; i++)
-      for (long x = set.word(i); x != 0; x &= x - 1) {
-        int o = ((i << 6) + Long.numberOfTrailingZeros(x)) << 2;
+    int[] block = new int[MEMBER_BLOCK];
+    for (int from = 0, m = MEMBER_BLOCK; m == MEMBER_BLOCK && (m = set.next(from, block)) > 0; from = block[m - 1] + 1)
+      for (int j = 0; j < m; j++) {
+        int o = block[j] << 2;
         int d = Long.bitCount(q0 ^ data[o]) + Long.bitCount(q1 ^ data[o + 1]) + Long.bitCount(q2 ^ data[o + 2]) + Long.bitCount(q3 ^ data[o + 3]);
         if (d <= bound) {
           top.offer(o >>> 2, d);

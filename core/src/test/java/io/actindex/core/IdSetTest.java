@@ -42,6 +42,40 @@ class IdSetTest {
     }
   }
 
+  /**
+   * Blocks of members ({@link IdSet#next}) from any start, in blocks of any length, on whole sets and
+   * on windows at any bit offset (aligned or not), sparse and dense: together the TreeSet's tail.
+   */
+  @Test
+  void blocksOfMembersAgreeWithATreeSet() {
+    for (int rep = 0; rep < 200; rep++) {
+      long seed = Randoms.seed(1000 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int size = 1 + rnd.nextInt(700);
+      double share = rnd.nextInt(3) == 0 ? 0.01 : rnd.nextDouble();
+      TreeSet<Integer> a = new TreeSet<>();
+      for (int i = 0; i < size; i++) if (rnd.nextDouble() < share) a.add(i);
+      IdSet set = IdSet.of(size, a.stream().mapToInt(Integer::intValue).toArray());
+      int wFrom = rnd.nextBoolean() ? 0 : rnd.nextBoolean() ? 64 * rnd.nextInt(size / 64 + 1) : rnd.nextInt(size);
+      int wLen = rnd.nextInt(size - wFrom + 1);
+      IdSet win = set.window(wFrom, wLen);
+      TreeSet<Integer> inWin = new TreeSet<>();
+      for (int i : a.subSet(wFrom, wFrom + wLen)) inWin.add(i - wFrom);
+      int start = wLen == 0 ? 0 : rnd.nextInt(wLen + 1);
+      int[] block = new int[1 + rnd.nextInt(40)];
+      java.util.List<Integer> got = new java.util.ArrayList<>();
+      for (int from = start, m; (m = win.next(from, block)) > 0; from = block[m - 1] + 1) {
+        for (int j = 0; j < m; j++) got.add(block[j]);
+        if (m < block.length) {
+          assertEquals(0, win.next(block[m - 1] + 1, block), Randoms.describe(seed) + ": a short block is the last");
+          break;
+        }
+      }
+      assertEquals(java.util.List.copyOf(inWin.tailSet(start)), got,
+          Randoms.describe(seed) + " window " + wFrom + "+" + wLen + " from " + start + " block " + block.length);
+    }
+  }
+
   @Test
   void refusesBitsPastTheSize() {
     assertThrows(IllegalArgumentException.class, () -> IdSet.of(new long[] {1L << 10}, 10));

@@ -24,7 +24,7 @@ class ScanKernelTest {
       SplittableRandom rnd = new SplittableRandom(seed);
       int words = WORDS[rep % WORDS.length];
       int bits = 64 * (words - 1) + 1 + rnd.nextInt(64);
-      int n = 1 + rnd.nextInt(700);
+      int n = 1 + rnd.nextInt(rep % 5 == 0 ? 6000 : 700); // large enough for walks of several blocks of members
       CodeBlock codes = rep % 3 == 0 && bits >= 4
           ? SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes()
           : SyntheticCodes.uniform(n, bits, seed);

@@ -197,6 +197,9 @@ public final class IndexBuilder {
           mags == null ? null : Quantisation.of(mags, values), w.takeWarnings());
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e);
+      // the writer's refusal speaks of a change to an index; here there was no index before
+      if (DiskFull.in(e)) throw DiskFull.refusal("index " + p.dir(), existed ? "the index was not built, the folder is empty again"
+          : "the index was not built, the folder was removed", e);
       throw e;
     }
   }

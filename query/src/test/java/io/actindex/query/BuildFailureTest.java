@@ -48,12 +48,23 @@ class BuildFailureTest {
       IndexBuilder.BuildParams p = new IndexBuilder.BuildParams(out, Source.activations(acts), null);
       io.actindex.core.BadInputException e =
           assertThrows(io.actindex.core.BadInputException.class, () -> IndexBuilder.build(p, null, fullAt(failAt)), "fail at " + failAt);
-      org.assertj.core.api.Assertions.assertThat(e.getMessage()).startsWith("index " + out + ": no space left on device (");
+      org.assertj.core.api.Assertions.assertThat(e.getMessage()).startsWith("index " + out + ": no space left on device (")
+          .containsAnyOf("the index was not created", "the index was not built, the folder was removed")
+          .doesNotContain("as it was"); // there was no index before: nothing to keep "as it was"
       assertFalse(Files.exists(out), Randoms.describe(seed) + ": a failed build at file " + failAt + " left " + out);
       IndexBuilder.build(p, null);
       try (IndexReader r = IndexReader.open(out)) {
         assertEquals(120, r.liveCount());
       }
     }
+    // into an empty folder the user made: the folder stays, empty
+    Path mine = tmp.resolve("mine");
+    IndexBuilder.BuildParams p = new IndexBuilder.BuildParams(mine, Source.activations(acts), null);
+    io.actindex.core.BadInputException e = assertThrows(io.actindex.core.BadInputException.class, () -> {
+      Files.createDirectories(mine);
+      IndexBuilder.build(p, null, fullAt(1));
+    });
+    org.assertj.core.api.Assertions.assertThat(e.getMessage()).contains("the index was not built, the folder is empty again");
+    org.assertj.core.api.Assertions.assertThat(mine).isEmptyDirectory();
   }
 }

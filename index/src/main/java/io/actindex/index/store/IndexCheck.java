@@ -23,7 +23,14 @@ public final class IndexCheck {
     public boolean ok() {
       return problem == null;
     }
+
+    /** "ok", "damaged", or "not checked" (a file whose check needs another file that is damaged). */
+    public String status() {
+      return problem == null ? "ok" : problem.startsWith(NOT_CHECKED) ? "not checked" : "damaged";
+    }
   }
+
+  private static final String NOT_CHECKED = "not checked: ";
 
   /** Every file checked, in manifest order, then the metadata files and the cross-file check ("index"). */
   public record Report(Path dir, long generation, List<FileResult> files) {
@@ -66,7 +73,7 @@ public final class IndexCheck {
         boolean codesBad = problem != null && problem.contains(dir.resolve(codes).toString());
         out.add(new FileResult(codes, size(dir.resolve(codes)), codesBad ? problem : null));
         out.add(new FileResult(tables, size(dir.resolve(tables)),
-            codesBad ? "not checked: its codes file is damaged" : problem));
+            codesBad ? NOT_CHECKED + "its codes file " + dir.resolve(codes) + " is damaged" : problem));
         filesOk &= problem == null;
         FileRef mags = m.magnitudes().get(e.segmentId());
         if (mags != null) {
