@@ -262,7 +262,7 @@ final class MihSearcher implements CodeSearcher {
     Scratch s = scratch.get().begin(this, query, NO_TABLES);
     try {
       TopK top = new TopK(k);
-      int from = partition.begin(query, null, codes.layout().bits(), s.visit, set, top, k, maxDist);
+      int from = partition.begin(ScanKernel.Words.of(query, null, codes.wordsPerCode()), null, codes.layout().bits(), s.visit, set, top, k, maxDist);
       int bound = top.size() == k ? Math.min(maxDist, top.bound()) : maxDist;
       double limit = SELECTIVE_MARGIN * walkCost;
       double rest = from == partition.clusters() ? 0
