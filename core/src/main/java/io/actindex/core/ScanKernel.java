@@ -52,6 +52,7 @@ public final class ScanKernel {
   /** As {@link #knn(Words, long[], int, int, int, int[], IntPredicate, TopK, int)} through the given loops (benchmarks and tests). */
   public static void knn(Loops loops, Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
+    if (startBound(top, ords, maxDist) < 0) return; // k codes at distance 0 before this run: none of it can enter
     if (loops == Loops.VECTOR && to - from >= 8 && VectorKernel.handles(w, s.at.length)) {
       from = VectorKernel.knn(s.wq, s.wm, data, w, from, to, ords, accept, top, maxDist);
       if (from == to) return;
@@ -214,6 +215,18 @@ public final class ScanKernel {
     if (((long) d << 32 | ord) >= top.worst()) return bound; // a tie that cannot enter: the filter is not asked
     if (accept != null && !accept.test(ord)) return bound;
     top.offer(ord, d);
+    return startBound(top, ords, maxDist);
+  }
+
+  /**
+   * The bound a loop starts under: the k-th distance so far, capped by {@code maxDist}. Without
+   * {@code ords} (every position above the ordinals in the top) a full top takes no tie at its k-th
+   * distance, so the bound is one less, as {@link #offer} leaves it: a run that continues an earlier
+   * one (the planner's head of a masked scan, grown in steps, then the rest of the scan) must not
+   * offer the thousands of codes tied at the k-th distance that one layer of skewed codes holds.
+   * Below 0 (k codes at distance 0) nothing can enter.
+   */
+  static int startBound(TopK top, int[] ords, int maxDist) {
     int b = top.bound();
     return Math.min(maxDist, ords == null && b != Integer.MAX_VALUE ? b - 1 : b);
   }
@@ -221,7 +234,7 @@ public final class ScanKernel {
   private static void knn1(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
     long q0 = s.q[0], m0 = s.m[0];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * w + s.at[0]; i < to; i++, off += w) {
       int d = Long.bitCount((data[off] ^ q0) & m0);
       if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
@@ -232,7 +245,7 @@ public final class ScanKernel {
       TopK top, int maxDist) {
     long q0 = s.q[0], q1 = s.q[1], m0 = s.m[0], m1 = s.m[1];
     int j0 = s.at[0], j1 = s.at[1];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1);
       if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
@@ -243,7 +256,7 @@ public final class ScanKernel {
       TopK top, int maxDist) {
     long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], m0 = s.m[0], m1 = s.m[1], m2 = s.m[2];
     int j0 = s.at[0], j1 = s.at[1], j2 = s.at[2];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
           + Long.bitCount((data[off + j2] ^ q2) & m2);
@@ -255,7 +268,7 @@ public final class ScanKernel {
       TopK top, int maxDist) {
     long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], q3 = s.q[3];
     int j0 = s.at[0], j1 = s.at[1], j2 = s.at[2], j3 = s.at[3];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     if (s.whole) { // the common case (256-bit codes, 256-bit layers) without the four ANDs
       for (int i = from, off = from * w; i < to; i++, off += w) {
         int d = Long.bitCount(data[off + j0] ^ q0) + Long.bitCount(data[off + j1] ^ q1)
@@ -277,7 +290,7 @@ public final class ScanKernel {
     long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], q3 = s.q[3], q4 = s.q[4], q5 = s.q[5], q6 = s.q[6], q7 = s.q[7];
     int j0 = s.at[0], j1 = s.at[1], j2 = s.at[2], j3 = s.at[3], j4 = s.at[4], j5 = s.at[5], j6 = s.at[6], j7 = s.at[7];
     long m0 = s.m[0], m1 = s.m[1], m2 = s.m[2], m3 = s.m[3], m4 = s.m[4], m5 = s.m[5], m6 = s.m[6], m7 = s.m[7];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * w; i < to; i++, off += w) {
       int d = Long.bitCount((data[off + j0] ^ q0) & m0) + Long.bitCount((data[off + j1] ^ q1) & m1)
           + Long.bitCount((data[off + j2] ^ q2) & m2) + Long.bitCount((data[off + j3] ^ q3) & m3);
@@ -296,7 +309,7 @@ public final class ScanKernel {
   private static void run8(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
     long q0 = s.q[0], q1 = s.q[1], q2 = s.q[2], q3 = s.q[3], q4 = s.q[4], q5 = s.q[5], q6 = s.q[6], q7 = s.q[7];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * w + s.at[0]; i < to; i++, off += w) {
       int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
           + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
@@ -309,7 +322,7 @@ public final class ScanKernel {
 
   private static void runAny(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
-    int c = s.at.length, bound = Math.min(maxDist, top.bound());
+    int c = s.at.length, bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * w + s.at[0]; i < to; i++, off += w) {
       int d = Hamming.distanceBounded(s.q, 0, data, off, c, bound);
       if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
@@ -319,7 +332,7 @@ public final class ScanKernel {
   private static void all1(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
     long q0 = q[0], m0 = m[0];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from; i < to; i++) {
       int d = Long.bitCount((data[i] ^ q0) & m0);
       if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
@@ -329,7 +342,7 @@ public final class ScanKernel {
   private static void all2(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
     long q0 = q[0], q1 = q[1], m0 = m[0], m1 = m[1];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * 2; i < to; i++, off += 2) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1);
       if (d <= bound && (bound = offer(i, d, ords, accept, top, maxDist, bound)) < 0) return;
@@ -339,7 +352,7 @@ public final class ScanKernel {
   private static void all3(long[] q, long[] m, long[] data, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
     long q0 = q[0], q1 = q[1], q2 = q[2], m0 = m[0], m1 = m[1], m2 = m[2];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * 3; i < to; i++, off += 3) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1)
           + Long.bitCount((data[off + 2] ^ q2) & m2);
@@ -350,7 +363,7 @@ public final class ScanKernel {
   private static void all4(long[] q, long[] data, int from, int to, int[] ords, IntPredicate accept, TopK top,
       int maxDist) {
     long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * 4; i < to; i++, off += 4) {
       int d = Long.bitCount(data[off] ^ q0) + Long.bitCount(data[off + 1] ^ q1)
           + Long.bitCount(data[off + 2] ^ q2) + Long.bitCount(data[off + 3] ^ q3);
@@ -362,7 +375,7 @@ public final class ScanKernel {
       TopK top, int maxDist) {
     long q0 = q[0], q1 = q[1], q2 = q[2], q3 = q[3], q4 = q[4], q5 = q[5], q6 = q[6], q7 = q[7];
     long m0 = m[0], m1 = m[1], m2 = m[2], m3 = m[3], m4 = m[4], m5 = m[5], m6 = m[6], m7 = m[7];
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     for (int i = from, off = from * 8; i < to; i++, off += 8) {
       int d = Long.bitCount((data[off] ^ q0) & m0) + Long.bitCount((data[off + 1] ^ q1) & m1)
           + Long.bitCount((data[off + 2] ^ q2) & m2) + Long.bitCount((data[off + 3] ^ q3) & m3);
@@ -376,7 +389,7 @@ public final class ScanKernel {
   /** Any other selection, one code at a time ({@link Words#distance}). */
   private static void knnAny(Words s, long[] data, int w, int from, int to, int[] ords, IntPredicate accept,
       TopK top, int maxDist) {
-    int bound = Math.min(maxDist, top.bound());
+    int bound = startBound(top, ords, maxDist);
     if (s.whole && s.at.length == w) { // every word: the contiguous kernel, no selection per code
       for (int i = from, off = from * w; i < to; i++, off += w) {
         int d = Hamming.distanceBounded(s.q, 0, data, off, w, bound);

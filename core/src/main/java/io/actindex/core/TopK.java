@@ -34,6 +34,22 @@ public final class TopK {
     return size;
   }
 
+  /** A copy that goes on independently of this one. */
+  public TopK copy() {
+    TopK c = new TopK(k);
+    c.heap = heap.clone();
+    c.size = size;
+    return c;
+  }
+
+  /** How many kept pairs lie at distance {@code <= dist} (a pass over the heap, no sort). */
+  public int countWithin(int dist) {
+    long below = ((long) dist + 1) << 32;
+    int c = 0;
+    for (int i = 0; i < size; i++) if (heap[i] < below) c++;
+    return c;
+  }
+
   /** Offers one candidate; ordinals must be non-negative. */
   public void offer(int ord, int dist) {
     long key = ((long) dist << 32) | ord;

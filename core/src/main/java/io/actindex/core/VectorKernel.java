@@ -95,7 +95,7 @@ final class VectorKernel {
       TopK top, int maxDist) {
     LongVector qv = repeat(q, 1), mv = repeat(m, 1);
     long[] dist = new long[8];
-    int bound = Math.min(maxDist, top.bound()), i = from;
+    int bound = ScanKernel.startBound(top, ords, maxDist), i = from;
     for (; i + 8 <= to; i += 8) {
       LongVector d = count(data, i, qv, mv);
       VectorMask<Long> hit = d.compare(VectorOperators.LE, bound);
@@ -108,7 +108,7 @@ final class VectorKernel {
       TopK top, int maxDist) {
     LongVector qv = repeat(q, 2), mv = repeat(m, 2);
     long[] dist = new long[8];
-    int bound = Math.min(maxDist, top.bound()), i = from;
+    int bound = ScanKernel.startBound(top, ords, maxDist), i = from;
     for (int off = from * 2; i + 8 <= to; i += 8, off += 16) {
       LongVector d = pair(count(data, off, qv, mv), count(data, off + 8, qv, mv));
       VectorMask<Long> hit = d.compare(VectorOperators.LE, bound);
@@ -121,7 +121,7 @@ final class VectorKernel {
       TopK top, int maxDist) {
     LongVector qv = repeat(q, 4), mv = repeat(m, 4);
     long[] dist = new long[8];
-    int bound = Math.min(maxDist, top.bound()), i = from;
+    int bound = ScanKernel.startBound(top, ords, maxDist), i = from;
     for (int off = from * 4; i + 8 <= to; i += 8, off += 32) {
       LongVector d = pair(pair(count(data, off, qv, mv), count(data, off + 8, qv, mv)),
           pair(count(data, off + 16, qv, mv), count(data, off + 24, qv, mv)));
@@ -139,7 +139,7 @@ final class VectorKernel {
       IntPredicate accept, TopK top, int maxDist) {
     LongVector qv = LongVector.fromArray(S, q, 0), mv = LongVector.fromArray(S, m, 0);
     long[] dist = new long[8];
-    int bound = Math.min(maxDist, top.bound()), i = from;
+    int bound = ScanKernel.startBound(top, ords, maxDist), i = from;
     for (int off = from * w; i + 8 <= to && off + 7 * w + 8 <= data.length; i += 8, off += 8 * w) {
       LongVector d = pair(
           pair(pair(count(data, off, qv, mv), count(data, off + w, qv, mv)),
@@ -161,7 +161,7 @@ final class VectorKernel {
    */
   private static int knnPerCode(long[] q, long[] m, long[] data, int w, int from, int to, int[] ords,
       IntPredicate accept, TopK top, int maxDist) {
-    int span = q.length, bound = Math.min(maxDist, top.bound()), i = from;
+    int span = q.length, bound = ScanKernel.startBound(top, ords, maxDist), i = from;
     for (int off = from * w; i < to && off + span <= data.length; i++, off += w) {
       LongVector acc = count(data, off, LongVector.fromArray(S, q, 0), LongVector.fromArray(S, m, 0));
       for (int c = 8; c < span; c += 8) acc = acc.add(count(data, off + c, LongVector.fromArray(S, q, c), LongVector.fromArray(S, m, c)));

@@ -91,12 +91,9 @@ class ScanKernelTest {
       long seed = Randoms.seed(2000 + rep);
       SplittableRandom rnd = new SplittableRandom(seed);
       int bits = widths[rep % widths.length], n = 1 + rnd.nextInt(3000);
-      CodeBlock base = LayerMasks.cut(rep % 2 == 0 ? SyntheticCodes.uniform(n, bits, seed)
-          : SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes(), rnd);
-      long[] layer = rep % 5 == 0 ? null : LayerMasks.mask(base.layout(), rnd);
-      long[] all = new long[base.wordsPerCode()];
-      java.util.Arrays.fill(all, -1L);
-      CodeBlock codes = SyntheticCodes.tiedUnder(base, layer == null ? all : layer, 1 + rnd.nextInt(30), seed + 1);
+      Tied tied = tied(rep, n, bits, seed, rnd);
+      CodeBlock codes = tied.codes();
+      long[] layer = tied.layer();
       long[] q = codes.code(rnd.nextInt(n));
       IntPredicate accept = filter(rnd, n);
       int k = 1 + rnd.nextInt(rnd.nextBoolean() ? 120 : n + 5);
@@ -105,6 +102,54 @@ class ScanKernelTest {
           + " n=" + n + " k=" + k + " accept=" + accept + " maxDist=" + maxDist;
       assertEquals(BruteForce.knnWithin(codes, q, k, accept, layer, maxDist), new ScanSearcher(codes).knn(q, k, accept, layer, maxDist), what);
     }
+  }
+
+  /**
+   * One scan cut into runs at random positions, one top carried from run to run without ordinals
+   * (as the planner's head of a masked scan grows in steps and the scan then goes on from it): the
+   * top of every prefix and the whole equal the brute force, with thousands of codes tied at 0 and
+   * at the k-th distance across the cuts, through the scalar and the vector loops.
+   */
+  @Test
+  void runsContinuedWithOneTopEqualBruteForce() {
+    for (int rep = 0; rep < 60; rep++) {
+      long seed = Randoms.seed(500 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int bits = new int[] {64, 100, 128, 256, 300, 512, 1024}[rnd.nextInt(7)], n = 500 + rnd.nextInt(4000);
+      Tied tied = tied(rep, n, bits, seed, rnd);
+      CodeBlock codes = tied.codes();
+      long[] layer = tied.layer();
+      long[] q = ScanSearcher.checkQuery(codes.layout(), codes.code(rnd.nextInt(n)), layer);
+      long[] mask = ScanSearcher.checkMask(codes.layout(), layer);
+      IntPredicate accept = filter(rnd, n);
+      int k = 1 + rnd.nextInt(rnd.nextBoolean() ? 120 : n + 5);
+      int maxDist = rnd.nextInt(4) == 0 ? rnd.nextInt(3) : Integer.MAX_VALUE;
+      Loops loops = Loops.vectorUsable() && rnd.nextBoolean() ? Loops.VECTOR : Loops.SCALAR;
+      ScanKernel.Words sel = ScanKernel.Words.of(q, mask, codes.wordsPerCode());
+      TopK top = new TopK(Math.min(k, n));
+      String what = Randoms.describe(seed) + " layout=" + codes.layout() + " " + (layer == null ? "no mask" : LayerMasks.describe(layer))
+          + " n=" + n + " k=" + k + " accept=" + accept + " maxDist=" + maxDist + " loops=" + loops;
+      for (int from = 0; from < n; ) {
+        int to = Math.min(n, from + 1 + rnd.nextInt(rnd.nextBoolean() ? 64 : n / 3 + 1));
+        ScanKernel.knn(loops, sel, codes.words(), codes.wordsPerCode(), from, to, null, accept, top, maxDist);
+        CodeBlock prefix = codes.slice(0, to);
+        assertEquals(BruteForce.knnWithin(prefix, q, k, accept, layer, maxDist), top.toHits(), what + " after [0," + to + ")");
+        from = to;
+      }
+    }
+  }
+
+  /** Codes of which thousands tie over {@code layer} (null: over every bit). */
+  private record Tied(CodeBlock codes, long[] layer) {}
+
+  /** Uniform or ReLU-like codes cut into layers, a layer mask (null for every fifth rep), and one layer copied from a few codes. */
+  private static Tied tied(int rep, int n, int bits, long seed, SplittableRandom rnd) {
+    CodeBlock base = LayerMasks.cut(rep % 2 == 0 ? SyntheticCodes.uniform(n, bits, seed)
+        : SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes(), rnd);
+    long[] layer = rep % 5 == 0 ? null : LayerMasks.mask(base.layout(), rnd);
+    long[] all = new long[base.wordsPerCode()];
+    java.util.Arrays.fill(all, -1L);
+    return new Tied(SyntheticCodes.tiedUnder(base, layer == null ? all : layer, 1 + rnd.nextInt(30), seed + 1), layer);
   }
 
   /** An empty filter answers at once; the planner-facing count matches the members. */

@@ -148,6 +148,7 @@ public final class JointSearch {
     query = ScanSearcher.checkQuery(layout, query, mask);
     if (k <= 0 || accept != null && accept.isEmpty()) return Hits.EMPTY;
     boolean joint = mask == null && centres.length > 0 && (accept == null || accept.count() * walkCost > scanCost);
+    if (!joint && blocks.length == 1) return ids(blocks[0].knn(query, k, blockAccept.apply(0), mask), idOf[0]);
     Scratch s = scratch.get();
     if (s.inUse) s = new Scratch(); // re-entrant call from a filter
     s.inUse = true;
@@ -164,6 +165,20 @@ public final class JointSearch {
     } finally {
       s.inUse = false;
     }
+  }
+
+  /**
+   * One block's hits with its ordinals turned into ids: still sorted by (distance, id), since ids
+   * ascend with the ordinals (a single block needs no merge: a masked query over a one-segment index
+   * often ends after a few hundred codes, where a second top and sort were a visible share).
+   */
+  private static Hits ids(Hits h, IntUnaryOperator idOf) {
+    int[] ids = new int[h.size()], dists = new int[h.size()];
+    for (int i = 0; i < ids.length; i++) {
+      ids[i] = idOf.applyAsInt(h.ord(i));
+      dists[i] = h.dist(i);
+    }
+    return new Hits(ids, dists);
   }
 
   /**

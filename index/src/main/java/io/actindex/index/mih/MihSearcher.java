@@ -29,7 +29,8 @@ import java.util.function.IntPredicate;
  * <p>Thread-safe: per-thread scratch (a visited bitset) is kept in a {@link ThreadLocal}.
  */
 final class MihSearcher implements CodeSearcher {
-  static final int PATH_SCAN = 1, PATH_TABLES = 2, PATH_PARTITION = 3;
+  /** Which path answered ({@link #lastQueryWork}): the scan's head (a masked query, before any other set-up) is the scan's answer too. */
+  static final int PATH_SCAN = 1, PATH_TABLES = 2, PATH_PARTITION = 3, PATH_HEAD = 4;
   /** Work the tables may spend on a query without knowing it will finish cheaper than a scan. */
   private static final double EAGER = 0.07;
   /** Work the tables may spend in all once an upper bound shows they finish within it. */
@@ -50,6 +51,16 @@ final class MihSearcher implements CodeSearcher {
    */
   private static final double MASKED_PROVEN = 0.3;
 
+  /**
+   * Share of a selective filter's walk that the partition's first clusters may cost, and share of
+   * it under which the partition's estimate must stay to finish the query (see {@link #selective}):
+   * the estimate is optimistic (1M 256-bit codes, 1% filter: estimated at most half the walk, the
+   * partition took 1.4x the walk's 139 us on dense codes, about 2x its 150 us on skewed ones), so
+   * the partition must promise a quarter. A 10% filter, whose walk took 3-5 ms, is far under it.
+   */
+  private static final double SELECTIVE_TRY = 0.1, SELECTIVE_MARGIN = 0.25;
+  private static final int[] NO_TABLES = {};
+
   /** The masked scan's head ({@link #head}): the first n / HEAD_SHARE codes, at least HEAD_MIN... */
   private static final int HEAD_SHARE = 64, HEAD_MIN = 1024;
   /** ...then on while k codes at distance 0 are expected within this share of the codes. */
@@ -62,6 +73,7 @@ final class MihSearcher implements CodeSearcher {
   final Partition partition; // null: none (small block)
   final PlannerCosts cost;
   private final ScanSearcher scan;
+  private final long ghost; // the layout's bits past its width in a code's last word
   private final double scanCost;
   private final double[] freshCost; // see freshTablesCost
   private final double candidateCost; // a candidate verified at a random place of these codes
@@ -78,6 +90,7 @@ final class MihSearcher implements CodeSearcher {
     this.partition = partition;
     this.cost = cost;
     this.scan = new ScanSearcher(codes);
+    this.ghost = CodeBlock.ghostMask(codes.layout());
     int n = codes.size();
     this.scanCost = cost.scan(n, codes.wordsPerCode());
     this.candidateCost = cost.candidate(8L * codes.words().length);
@@ -104,6 +117,7 @@ final class MihSearcher implements CodeSearcher {
     this.partition = partition;
     this.cost = s.cost;
     this.scan = s.scan;
+    this.ghost = s.ghost;
     this.scanCost = s.scanCost;
     this.candidateCost = s.candidateCost;
     this.ownRate = s.ownRate;
@@ -130,24 +144,33 @@ final class MihSearcher implements CodeSearcher {
 
   /**
    * The planner's order: an empty filter answers at once and a selective one is walked (the scan
-   * does both); then the partition finds a first k-th distance B from the nearest clusters (under a
-   * mask, with the mask's distances to the centres and radii), and whichever of the rest of the
-   * partition, the tables (every shell up to B) or the scan is estimated cheapest finishes the
-   * query, with B as the distance cap. A masked scan costs what its selected words cost.
+   * does both); under a mask the scan's head runs first ({@link #head}) and answers when it holds k
+   * codes at distance 0; then the partition finds a first k-th distance B from the nearest clusters
+   * (under a mask, with the mask's distances to the centres and radii, starting from a copy of a
+   * full head's top), and whichever of the rest of the partition, the tables (every shell up to B)
+   * or the scan (from where the head stopped) is estimated cheapest finishes the query, with B as
+   * the distance cap. A masked scan costs what its selected words cost.
    */
   @Override
   public Hits knn(long[] query, int k, IntPredicate accept, long[] mask, int maxDist) {
-    query = ScanSearcher.checkQuery(codes.layout(), query, mask);
-    mask = ScanSearcher.checkMask(codes.layout(), mask);
+    int w = codes.wordsPerCode();
+    query = ScanSearcher.checkQuery(w, ghost, query, mask);
+    mask = ScanSearcher.checkMask(w, ghost, mask);
     int n = codes.size();
     if (k <= 0 || n == 0 || maxDist < 0) return Hits.EMPTY;
     boolean auto = strategy == SearchPlanOptions.Strategy.AUTO;
-    ScanKernel.Words sel = mask == null ? null : ScanKernel.Words.of(query, mask, codes.wordsPerCode());
+    ScanKernel.Words sel = mask == null ? null : ScanKernel.Words.of(query, mask, w);
     double scanCost = mask == null ? this.scanCost : cost.scan(n, sel.at().length);
     if (accept instanceof IdSet set) {
       if (set.size() != n) throw new IllegalArgumentException("filter over " + set.size() + " ordinals, searcher has " + n);
       if (set.isEmpty()) return Hits.EMPTY;
-      if (auto && set.count() * cost.walk() <= scanCost) return scan.knn(query, k, accept, mask, maxDist);
+      double walkCost = set.count() * cost.walk();
+      if (auto && walkCost <= scanCost) {
+        Hits h = mask == null ? selective(query, Math.min(k, n), set, maxDist, walkCost) : null;
+        if (h != null) return h;
+        scratch.get().answeredByScan();
+        return scan.knn(query, k, accept, mask, maxDist);
+      }
     }
     int kk = Math.min(k, n);
     // under a mask, the scan's first codes: done when k of them tie at distance 0 (see head)
@@ -170,11 +193,21 @@ final class MihSearcher implements CodeSearcher {
     try {
       boolean usePartition = partition != null && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
       if (usePartition) {
-        TopK top = new TopK(kk);
-        // a full head holds k codes within maxDist, so the nearest clusters may offer codes beyond it:
-        // the windows under maxDist push them out
-        int from = partition.begin(query, mask, codes.layout().bits(), s.visit, accept, top, kk,
-            head != null && head.top.size() == kk ? Integer.MAX_VALUE : maxDist);
+        TopK top;
+        IntPredicate rest = accept; // what the partition may offer
+        int from;
+        if (head != null && head.top.size() == kk) {
+          // the partition starts from the head's k codes and skips the head's positions (ordinals)
+          top = head.top.copy();
+          int end = head.end;
+          IntPredicate a = accept;
+          rest = a == null ? o -> o >= end : o -> o >= end && a.test(o);
+          from = partition.beginAfter(sel, mask, codes.layout().bits(), s.visit, rest, top, maxDist, kk);
+        } else {
+          top = new TopK(kk);
+          from = partition.begin(sel != null ? sel : ScanKernel.Words.of(query, null, codes.wordsPerCode()), mask,
+              codes.layout().bits(), s.visit, accept, top, kk, maxDist);
+        }
         int bound = top.size() == kk ? Math.min(maxDist, top.bound()) : maxDist;
         if (head != null && bound == 0 && from < partition.clusters()) {
           // k codes at distance 0 near the query: there may be thousands, which the partition must
@@ -187,12 +220,12 @@ final class MihSearcher implements CodeSearcher {
           scanCost = cost.scan(n - head.end, sel.at().length);
         }
         double limit = (mask == null ? PROVEN : MASKED_PROVEN) * scanCost;
-        double rest = from == partition.clusters() ? 0
+        double restCost = from == partition.clusters() ? 0
             : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), auto ? limit : Double.POSITIVE_INFINITY);
         double tablesCost = tablesCost(s, active, bound, plan.constantDistance(query, mask));
-        if (!auto || rest <= limit && rest <= tablesCost) {
+        if (!auto || restCost <= limit && restCost <= tablesCost) {
           s.path = PATH_PARTITION;
-          if (rest > 0) partition.finish(s.visit, from, accept, top, maxDist);
+          if (restCost > 0) partition.finish(s.visit, from, rest, top, maxDist);
           return top.toHits();
         }
         maxDist = bound; // the k-th distance so far bounds the answer: the path below starts afresh under it
@@ -207,7 +240,40 @@ final class MihSearcher implements CodeSearcher {
         s.path = PATH_SCAN;
         return scan.knn(query, k, accept, mask, maxDist);
       }
-      return tables(s, query, kk, accept, mask, active, maxDist);
+      return tables(s, query, kk, accept, mask, active, maxDist, head, sel);
+    } finally {
+      s.end();
+    }
+  }
+
+  /**
+   * A selective filter ({@code set}, cheaper to walk than to scan past), unmasked: its walk costs
+   * {@code walkCost}, but with many members the partition may find the k nearest of them sooner
+   * (a 5% filter's 10th nearest member is about the 200th nearest code, which the windows reach
+   * quickly; a 0.01% filter's lies too far for any pruning). So when the clusters nearest the query
+   * are expected to hold k members within {@value #SELECTIVE_TRY} of the walk's cost (k n / count
+   * codes), they are scanned first; the k-th distance they give bounds the windows of the rest, and
+   * the partition finishes the query if those windows are estimated at most {@value #SELECTIVE_MARGIN}
+   * of the walk. Else
+   * (null) the caller walks.
+   */
+  private Hits selective(long[] query, int k, IdSet set, int maxDist, double walkCost) {
+    if (partition == null || (double) k * codes.size() / set.count() * cost.partitionCode() > SELECTIVE_TRY * walkCost) return null;
+    Scratch s = scratch.get().begin(this, query, NO_TABLES);
+    try {
+      TopK top = new TopK(k);
+      int from = partition.begin(ScanKernel.Words.of(query, null, codes.wordsPerCode()), null, codes.layout().bits(), s.visit, set, top, k, maxDist);
+      int bound = top.size() == k ? Math.min(maxDist, top.bound()) : maxDist;
+      double limit = SELECTIVE_MARGIN * walkCost;
+      double rest = from == partition.clusters() ? 0
+          : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), limit);
+      if (rest > limit) {
+        s.path = PATH_SCAN;
+        return scan.knn(query, k, set, null, bound); // the k members found are within the bound
+      }
+      s.path = PATH_PARTITION;
+      if (rest > 0) partition.finish(s.visit, from, set, top, maxDist);
+      return top.toHits();
     } finally {
       s.end();
     }
@@ -256,9 +322,7 @@ final class MihSearcher implements CodeSearcher {
     Head head = new Head(kk);
     head.scanTo(Math.min(n, Math.max(HEAD_MIN, n / HEAD_SHARE)), sel, accept, maxDist);
     while (!head.done()) {
-      Hits h = head.top.toHits();
-      int zeros = 0;
-      while (zeros < h.size() && h.dist(zeros) == 0) zeros++;
+      int zeros = head.top.countWithin(0);
       head.stop = zeros == 0 ? n : Math.max(head.end, Math.min(n, (long) head.end * kk / zeros)); // expected end of the scan
       long next = head.stop * 5 / 4; // with a margin
       if (next > HEAD_REACH * n) break;
@@ -267,8 +331,12 @@ final class MihSearcher implements CodeSearcher {
     return head;
   }
 
-  /** Multi-index hashing over the active tables, falling back to the scan when the planner says so. */
-  private Hits tables(Scratch s, long[] query, int kk, IntPredicate accept, long[] mask, int[] active, int maxDist) {
+  /**
+   * Multi-index hashing over the active tables, falling back to the scan when the planner says so
+   * (after the scan's head, if any: from where it stopped).
+   */
+  private Hits tables(Scratch s, long[] query, int kk, IntPredicate accept, long[] mask, int[] active, int maxDist, Head head,
+      ScanKernel.Words sel) {
     int m = active.length, c = plan.constantDistance(query, mask);
     TopK top = new TopK(kk);
     s.path = PATH_TABLES;
@@ -280,7 +348,9 @@ final class MihSearcher implements CodeSearcher {
         if (rho <= tables[t].width) {
           if (strategy == SearchPlanOptions.Strategy.AUTO && !worthIt(s, top, kk, active, rho, j, c, maxDist)) {
             s.path = PATH_SCAN;
-            return scan.knn(query, kk, accept, mask, bound(top, kk, maxDist));
+            if (head == null) return scan.knn(query, kk, accept, mask, bound(top, kk, maxDist));
+            head.scanTo(codes.size(), sel, accept, bound(top, kk, maxDist));
+            return head.top.toHits();
           }
           shell(s, t, rho, query, accept, mask, top, bound(top, kk, maxDist));
         }
@@ -372,8 +442,8 @@ final class MihSearcher implements CodeSearcher {
 
   @Override
   public Hits radius(long[] query, int radius, IntPredicate accept, long[] mask) {
-    query = ScanSearcher.checkQuery(codes.layout(), query, mask);
-    mask = ScanSearcher.checkMask(codes.layout(), mask);
+    query = ScanSearcher.checkQuery(codes.wordsPerCode(), ghost, query, mask);
+    mask = ScanSearcher.checkMask(codes.wordsPerCode(), ghost, mask);
     if (radius < 0 || codes.size() == 0) return Hits.EMPTY;
     int[] active = activeTables(mask);
     if (accept instanceof IdSet set && set.isEmpty()) return Hits.EMPTY;
@@ -516,7 +586,7 @@ final class MihSearcher implements CodeSearcher {
    */
   long[] lastQueryWork() {
     Scratch s = scratch.get();
-    return new long[] {s.probes, s.candidates, s.path == PATH_SCAN ? 1 : 0, s.path};
+    return new long[] {s.probes, s.candidates, s.path == PATH_SCAN || s.path == PATH_HEAD ? 1 : 0, s.path};
   }
 
   /** Expert, for tests: the table work of this thread's last query as a share of its scan, both in the planner's costs. */
@@ -572,7 +642,7 @@ final class MihSearcher implements CodeSearcher {
     /** Marks the last query as answered by the scan before any other work (for {@link #lastQueryWork}). */
     void answeredByScan() {
       probes = candidates = 0;
-      path = PATH_SCAN;
+      path = PATH_HEAD;
     }
 
     void touch(int ord) {

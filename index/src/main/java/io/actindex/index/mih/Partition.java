@@ -290,8 +290,13 @@ final class Partition {
 
   /** Covers whose radii are kept at once (2 bytes per code each). */
   private static final int MAX_COVERS = 8;
-  /** One position in this many is read to estimate how many codes of a masked window pass the radius test. */
-  private static final int SAMPLE_STRIDE = 16;
+  /**
+   * One position in this many (at least) is read to estimate how many codes of a masked window pass
+   * the radius test, and at most about {@link #MAX_SAMPLES} in all: the windows of an out-of-distribution
+   * query hold a large share of the codes, and reading every 16th of them cost a tenth of a masked
+   * scan of 100k codes.
+   */
+  private static final int SAMPLE_STRIDE = 16, MAX_SAMPLES = 2048;
 
   /** Distances of the positions to their centres over some bits, and each cluster's largest. */
   record Radii(char[] radius, int[] maxRadius) {}
@@ -330,6 +335,20 @@ final class Partition {
     });
   }
 
+  /** A mask, its cover's radii and whether they are its distances to the centres (see {@link Visit#exact}). */
+  private record Cover(long[] mask, Radii radii, boolean exact) {}
+
+  private volatile Cover lastCover; // the last masked query's: a run of queries over one layer skips the look-up
+
+  private Cover cover(long[] mask) {
+    Cover last = lastCover;
+    if (last != null && Arrays.equals(last.mask, mask)) return last;
+    Radii r = radii(mask);
+    Cover c = new Cover(mask.clone(), r, r != stored && coversWhole(mask));
+    lastCover = c;
+    return c;
+  }
+
   /**
    * Per-query state: the mask's selection and radii, the clusters in visiting order, their
    * distances and current windows.
@@ -355,16 +374,18 @@ final class Partition {
 
   /**
    * First step of a query under an optional mask (null, or with ghost bits set as {@code
-   * ScanSearcher.checkMask} leaves it): distances to every centre, clusters sorted nearest first (a
+   * ScanSearcher.checkMask} leaves it), whose selection of the query's words is {@code sel}
+   * ({@code ScanKernel.Words.of(q, mask, w)}): distances to every centre, clusters sorted nearest first (a
    * counting sort on the distance), then, when no cap is given, the nearest clusters scanned until
    * the top holds k codes (or all are seen). Returns the number of clusters fully scanned.
    */
-  int begin(long[] q, long[] mask, int bits, Visit v, IntPredicate accept, TopK top, int k, int maxDist) {
+  int begin(ScanKernel.Words sel, long[] mask, int bits, Visit v, IntPredicate accept, TopK top, int k, int maxDist) {
     int clusters = clusters(), w = words;
     v.ensure(clusters, bits);
-    v.sel = ScanKernel.Words.of(q, mask, w);
-    v.radii = mask == null ? stored : radii(mask);
-    v.exact = mask == null || v.radii != stored && coversWhole(mask);
+    v.sel = sel;
+    Cover cover = mask == null ? null : cover(mask);
+    v.radii = cover == null ? stored : cover.radii;
+    v.exact = cover == null || cover.exact;
     int[] counts = v.counts;
     Arrays.fill(counts, 0, bits + 2, 0);
     int[] d = v.lo; // scratch for the distances before sorting
@@ -389,6 +410,23 @@ final class Partition {
     return done;
   }
 
+  /**
+   * {@link #begin} for a top that already holds k codes (the masked scan's head; {@code accept}
+   * must refuse the codes the top was filled from): the nearest clusters are scanned under its
+   * bound and {@code cap} until {@code least} codes have been read, so they offer only codes that
+   * would enter (a fresh top of k = 100 filled from a cluster of about a thousand codes took as long
+   * as the rest of the set-up), and the first k-th distance is that of the head and those clusters.
+   */
+  int beginAfter(ScanKernel.Words sel, long[] mask, int bits, Visit v, IntPredicate accept, TopK top, int cap, long least) {
+    int done = begin(sel, mask, bits, v, accept, top, 0, cap), clusters = clusters();
+    for (long read = 0; done < clusters && read < least; done++) {
+      int c = v.order[done];
+      ScanKernel.knn(v.sel, codes, words, start[c], start[c + 1], ords, accept, top, cap);
+      read += start[c + 1] - start[c];
+    }
+    return done;
+  }
+
   /** Whether the mask covers each segment it touches whole. */
   private boolean coversWhole(long[] mask) {
     for (long[] seg : segmentMasks) {
@@ -407,13 +445,15 @@ final class Partition {
    * current k-th distance {@code bound}; also fixes each remaining cluster's window for it. A window
    * of the stored radii is compared in full ({@code perCode} each); a masked window costs a radius
    * test per code ({@code perTest}) and a comparison for the share that passes it, estimated from
-   * every {@value #SAMPLE_STRIDE}th code. Stops as soon as the estimate exceeds {@code limit} (the
+   * every {@value #SAMPLE_STRIDE}th code (a longer stride when the windows hold more than {@value
+   * #MAX_SAMPLES} such samples). Stops as soon as the estimate exceeds {@code limit} (the
    * windows are then not all fixed, and the caller must not {@link #finish}).
    */
   double estimate(Visit v, int from, int bound, double perCode, double perTest, double limit) {
     bound = Math.min(bound, Character.MAX_VALUE); // no distance exceeds it: keeps dq + bound from overflowing
     boolean full = v.radii == stored;
     double total = 0;
+    long windowed = 0;
     for (int p = from; p < clusters() && total <= limit; p++) {
       int c = v.order[p], dq = v.dq[p];
       if (dq - v.radii.maxRadius[c] > bound) {
@@ -425,13 +465,15 @@ final class Partition {
       int hi = full && v.exact ? atRadius(c, dq + bound + 1) : start[c + 1];
       v.lo[p] = lo;
       v.hi[p] = hi;
+      windowed += hi - lo;
       total += (hi - lo) * (full ? perCode : perTest);
     }
     if (full) return total;
     char[] rad = v.radii.radius;
+    int stride = (int) Math.max(SAMPLE_STRIDE, windowed / MAX_SAMPLES);
     for (int p = from; p < clusters() && total <= limit; p++) {
       int passed = 0, sampled = 0, dq = v.dq[p], lo = v.lo[p], hi = v.hi[p];
-      for (int i = lo; i < hi; i += SAMPLE_STRIDE, sampled++) if (passes(rad[i], dq, bound, v.exact)) passed++;
+      for (int i = lo; i < hi; i += stride, sampled++) if (passes(rad[i], dq, bound, v.exact)) passed++;
       if (sampled > 0) total += perCode * passed * (hi - lo) / sampled;
     }
     return total;

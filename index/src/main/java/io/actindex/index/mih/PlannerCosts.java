@@ -123,11 +123,13 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
       return s;
     }) / randomOrds.length + dense;
     double far = farCandidate(q);
+    // the walk is timed only after a hundred runs: a few runs time it before it is compiled (seen:
+    // 160-210 ns per member, against about 20 compiled), which kept filters of 1% from being walked
     double walk = best(() -> {
       TopK top = new TopK(10);
       ScanKernel.knnMembers(q, null, words, 4, onePercent, top, Integer.MAX_VALUE);
       return top.bound();
-    }) / onePercent.count();
+    }, 100) / onePercent.count();
     double[] split = splitScan(scan1, scan4);
     double perCode = split[0], perWord = split[1];
     // a partition window is a short scan that starts with two binary searches: a scanned code plus
@@ -176,7 +178,11 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
   private static long sink;
 
   private static double best(Loop loop) {
-    for (int i = 0; i < 5; i++) sink += loop.run(); // warm-up: compiled before it is timed
+    return best(loop, 5);
+  }
+
+  private static double best(Loop loop, int warmUps) {
+    for (int i = 0; i < warmUps; i++) sink += loop.run(); // warm-up: compiled before it is timed
     long best = Long.MAX_VALUE;
     for (int i = 0; i < 5; i++) {
       long t0 = System.nanoTime();

@@ -107,10 +107,91 @@ class MaskedSearchTest {
         String what = why + " query " + i + " mask " + LayerMasks.describe(mask) + " k=" + k + " maxDist=" + maxDist + " filter=" + accept;
         Hits expected = BruteForce.knnWithin(codes, q, k, accept, mask, maxDist);
         assertEquals(expected, s.knn(q, k, accept, mask, maxDist), what);
-        if (s.lastQueryWork()[3] == MihSearcher.PATH_SCAN && expected.size() == k && expected.dist(k - 1) == 0) byHead++;
+        if (s.lastQueryWork()[3] == MihSearcher.PATH_HEAD && expected.size() == k && expected.dist(k - 1) == 0) byHead++;
       }
     }
     assertTrue(byHead > 0, "no query was answered by the scan's head");
+  }
+
+  /**
+   * The scan's head grows in steps: codes at masked distance 0 placed only at chosen ordinals (on
+   * both sides of the step boundaries 1,024 / 2,048 / 4,096 / n/64 / n/32 / n/16 / n/8, and a few
+   * at random), every other code at least 1 away, so the k nearest tie at 0 across a boundary, or
+   * fewer than k codes lie at 0 and the rest of the answer comes from any path; k around the number
+   * of zeros, filters that drop some of them, caps of 0 and 1. The head answers some queries and the
+   * partition, started from the head's top (it skips the head's positions), others.
+   */
+  @Test
+  void zerosAcrossTheHeadsStepsEqualBruteForce() {
+    int byHead = 0, otherwise = 0, byPart = 0;
+    for (int rep = 0; rep < 16; rep++) {
+      long seed = Randoms.seed(400 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int bits = new int[] {64, 128, 256, 300}[rnd.nextInt(4)], n = 20_000 + rnd.nextInt(40_000);
+      CodeBlock base = LayerMasks.cut(PartitionTest.codes(rep, n, bits, seed), rnd);
+      long[] mask = LayerMasks.mask(base.layout(), rnd);
+      long[] m0 = mask;
+      if (java.util.stream.IntStream.range(0, bits).noneMatch(b -> (m0[b >>> 6] >>> (b & 63) & 1) != 0)) mask = base.layout().mask(0);
+      long[] q = MihExactnessTest.query(base, rnd);
+      int[] at = {1023, 1024, 1025, 2047, 2048, 4095, 4096, n / 64 - 1, n / 64, n / 32, n / 16 + 1, n / 8 - 1, n / 8,
+          rnd.nextInt(n), rnd.nextInt(n), n - 1};
+      int zeros = 1 + rnd.nextInt(at.length); // the first ones of a shuffled list are at distance 0
+      int[] order = Randoms.permutation(at.length, rnd);
+      boolean[] zero = new boolean[n];
+      for (int i = 0; i < zeros; i++) zero[at[order[i]]] = true;
+      CodeBlock codes = placeZeros(base, q, mask, zero, rnd);
+      // fixed costs: which path answers must not depend on how busy the machine was when it measured its own
+      MihSearcher s = (MihSearcher) Searchers.build(codes, rep % 2 == 0 ? SearchPlanOptions.defaults() : SearchPlanOptions.defaults().plain(),
+          PlannerCosts.defaults());
+      String why = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " layout=" + codes.layout() + " "
+          + LayerMasks.describe(mask) + " zeros at " + java.util.Arrays.toString(java.util.stream.IntStream.range(0, n).filter(i -> zero[i]).toArray());
+      for (int t = 0; t < 8; t++) {
+        int k = Math.max(1, zeros + rnd.nextInt(5) - 2);
+        if (t == 7) k = 10 * (1 + rnd.nextInt(10));
+        int drop = at[order[rnd.nextInt(zeros)]];
+        IntPredicate accept = switch (t % 4) {
+          case 0 -> null;
+          case 1 -> i -> i != drop; // one code at 0 filtered out
+          case 2 -> PartitionTest.filter(rnd, n);
+          default -> i -> i % 3 != 0;
+        };
+        int maxDist = t == 5 ? 0 : t == 6 ? 1 : Integer.MAX_VALUE;
+        String what = why + " k=" + k + " maxDist=" + maxDist + " filter " + t % 4 + " drop=" + drop;
+        assertEquals(BruteForce.knnWithin(codes, q, k, accept, mask, maxDist), s.knn(q, k, accept, mask, maxDist), what);
+        if (s.lastQueryWork()[3] == MihSearcher.PATH_HEAD) byHead++;
+        else otherwise++;
+        if (s.lastQueryWork()[3] == MihSearcher.PATH_PARTITION) byPart++;
+      }
+    }
+    assertTrue(byHead > 0 && byPart > 0 && otherwise > byPart, "paths: head " + byHead + ", partition " + byPart + ", others " + otherwise);
+  }
+
+  /**
+   * The codes with their masked bits set to the query's where {@code zero}; elsewhere half of them
+   * 1-2 masked bits from the query (thousands tied at 1), the others as they were, and every one at
+   * least one masked bit off.
+   */
+  private static CodeBlock placeZeros(CodeBlock base, long[] q, long[] mask, boolean[] zero, SplittableRandom rnd) {
+    int w = base.wordsPerCode(), bits = base.layout().bits();
+    long[] words = base.words().clone();
+    int[] maskBits = java.util.stream.IntStream.range(0, bits).filter(b -> (mask[b >>> 6] >>> (b & 63) & 1) != 0).toArray();
+    for (int i = 0; i < zero.length; i++) {
+      boolean near = zero[i] || rnd.nextBoolean();
+      if (near) for (int j = 0; j < w; j++) words[i * w + j] = (words[i * w + j] & ~mask[j]) | (q[j] & mask[j]);
+      if (zero[i]) continue;
+      if (near)
+        for (int f = 1 + rnd.nextInt(2); f > 0; f--) {
+          int b = maskBits[rnd.nextInt(maskBits.length)];
+          words[i * w + (b >>> 6)] ^= 1L << (b & 63);
+        }
+      long diff = 0;
+      for (int j = 0; j < w; j++) diff |= (words[i * w + j] ^ q[j]) & mask[j];
+      if (diff == 0) { // equal on the mask after all: one bit off
+        int b = maskBits[rnd.nextInt(maskBits.length)];
+        words[i * w + (b >>> 6)] ^= 1L << (b & 63);
+      }
+    }
+    return new CodeBlock(base.layout(), base.size(), words);
   }
 
   /**

@@ -122,6 +122,39 @@ class PartitionTest {
     return IdSet.of(w, n);
   }
 
+  /**
+   * Selective filters (0.2% to 12% of the codes, walked or finished by the partition, whichever the
+   * planner estimates cheaper) equal the brute force on every family, with and without a cap from
+   * other segments; over all sets both ways answer (so neither is dead code).
+   */
+  @Test
+  void selectiveFiltersWalkedOrPartitionedEqualBruteForce() {
+    int walked = 0, partitioned = 0;
+    for (int rep = 0; rep < 9; rep++) {
+      long seed = Randoms.seed(500 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int n = 8_000 + rnd.nextInt(8_000);
+      CodeBlock codes = codes(rep, n, 64 * (1 + rnd.nextInt(4)), seed);
+      MihSearcher s = ((MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults(), PlannerCosts.defaults()))
+          .withPartition(Partition.build(codes, 2, 50 + rnd.nextInt(200)));
+      for (int i = 0; i < 12; i++) {
+        double share = new double[] {0.002, 0.01, 0.05, 0.12}[rnd.nextInt(4)];
+        long[] w = new long[(n + 63) >>> 6];
+        for (int o = 0; o < n; o++) if (rnd.nextDouble() < share) w[o >>> 6] |= 1L << o;
+        IdSet set = IdSet.of(w, n);
+        long[] q = MihExactnessTest.query(codes, rnd);
+        int k = rnd.nextBoolean() ? 10 : 1 + rnd.nextInt(30);
+        int maxDist = rnd.nextInt(3) == 0 ? rnd.nextInt(codes.layout().bits() / 2 + 1) : Integer.MAX_VALUE;
+        String what = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " clusters=" + s.partition.clusters() + " query " + i
+            + " k=" + k + " maxDist=" + maxDist + " filter=" + set;
+        assertEquals(BruteForce.knnWithin(codes, q, k, set, null, maxDist), s.knn(q, k, set, null, maxDist), what);
+        if (s.lastQueryWork()[3] == MihSearcher.PATH_PARTITION) partitioned++;
+        else walked++;
+      }
+    }
+    assertTrue(walked > 0 && partitioned > 0, "walked " + walked + ", partitioned " + partitioned);
+  }
+
   /** On dense codes the planner answers in-distribution 10-NN by the partition and compares few codes. */
   @Test
   void plannerPicksThePartitionOnDenseCodes() {
