@@ -168,7 +168,7 @@ final class MihSearcher implements CodeSearcher {
       if (auto && walkCost <= scanCost) {
         Hits h = mask == null ? selective(query, Math.min(k, n), set, maxDist, walkCost) : null;
         if (h != null) return h;
-        scratch.get().answeredByScan();
+        scratch.get().answeredBy(PATH_SCAN); // the scan walks the filter's members
         return scan.knn(query, k, accept, mask, maxDist);
       }
     }
@@ -181,7 +181,7 @@ final class MihSearcher implements CodeSearcher {
       // at distance 0, the scan stops after k of them
       if (!head.done() && head.stop < n) head.scanTo(n, sel, accept, maxDist);
       if (head.done()) {
-        scratch.get().answeredByScan();
+        scratch.get().answeredBy(PATH_HEAD);
         return head.top.toHits();
       }
       if (head.top.size() == kk) maxDist = Math.min(maxDist, head.top.bound()); // k codes are within it
@@ -254,8 +254,7 @@ final class MihSearcher implements CodeSearcher {
    * are expected to hold k members within {@value #SELECTIVE_TRY} of the walk's cost (k n / count
    * codes), they are scanned first; the k-th distance they give bounds the windows of the rest, and
    * the partition finishes the query if those windows are estimated at most {@value #SELECTIVE_MARGIN}
-   * of the walk. Else
-   * (null) the caller walks.
+   * of the walk. Else the walk answers, under that k-th distance (null: the caller walks).
    */
   private Hits selective(long[] query, int k, IdSet set, int maxDist, double walkCost) {
     if (partition == null || (double) k * codes.size() / set.count() * cost.partitionCode() > SELECTIVE_TRY * walkCost) return null;
@@ -639,10 +638,10 @@ final class MihSearcher implements CodeSearcher {
       return s;
     }
 
-    /** Marks the last query as answered by the scan before any other work (for {@link #lastQueryWork}). */
-    void answeredByScan() {
+    /** Marks the last query as answered by the scan (walk or head) before any other work (for {@link #lastQueryWork}). */
+    void answeredBy(int path) {
       probes = candidates = 0;
-      path = PATH_HEAD;
+      this.path = path;
     }
 
     void touch(int ord) {

@@ -200,11 +200,16 @@ class MaskedSearchTest {
    */
   @Test
   void plannerAnswersLayerMasksByThePartitionOnDenseCodes() {
-    long seed = Randoms.seed(17);
+    // one fixed network: which path answers is a property of the data (some random networks' second
+    // layer sends most queries elsewhere, e.g. 8 of 20 by the partition); exactness over many seeds
+    // is checked by the tests above
+    long seed = 17;
     SyntheticCodes.ReluNet net = SyntheticCodes.ReluNet.dense(32, 128, 128, 20, seed);
     CodeBlock codes = net.sample(30_000, 0, seed + 1).codes();
     CodeBlock queries = net.sample(20, 0, seed + 2).codes();
-    MihSearcher s = (MihSearcher) Searchers.build(codes);
+    // fixed costs: with this machine's, measured once per JVM under whatever load, the choice moved
+    // (the partition answered 4 of 20 once)
+    MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults(), PlannerCosts.defaults());
     for (int layer = 0; layer < 2; layer++) {
       long[] mask = codes.layout().mask(layer);
       int byPartition = 0;
