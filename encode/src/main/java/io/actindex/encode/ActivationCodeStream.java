@@ -23,6 +23,7 @@ final class ActivationCodeStream implements CodeStream {
   private final float[][] f;
   private final double[][] d;
   private int lastRows;
+  private long lastStart; // row number of the last chunk's first row
   private float[] activations;
 
   ActivationCodeStream(LayerSource.Opener opener, EncodeOptions o) throws IOException {
@@ -92,6 +93,7 @@ final class ActivationCodeStream implements CodeStream {
     if (maxRows <= 0) throw new IllegalArgumentException("maxRows must be positive, got " + maxRows);
     int m = src.read(Math.min(maxRows, chunkRows), f, d);
     if (m == 0) return null;
+    lastStart += lastRows;
     int words = layout.words();
     long[] out = new long[m * words];
     for (int i = 0; i < binarizers.length; i++) {
@@ -114,10 +116,19 @@ final class ActivationCodeStream implements CodeStream {
       int start = layout.start(i), w = widths[i];
       for (int r = 0; r < lastRows; r++) {
         if (src.floats(i)) System.arraycopy(f[i], r * w, a, r * bits + start, w);
-        else for (int c = 0; c < w; c++) a[r * bits + start + c] = (float) d[i][r * w + c];
+        else for (int c = 0; c < w; c++) a[r * bits + start + c] = toFloat(d[i][r * w + c], i, r, c);
       }
     }
     return activations = a;
+  }
+
+  /** A value kept as a float32 activation; one beyond float32's range is refused (it would become infinite). */
+  private float toFloat(double v, int layer, int row, int col) {
+    float f = (float) v;
+    if (Float.isFinite(f)) return f;
+    throw new BadInputException(src.source() + ": " + (widths.length > 1 ? "layer " + BadInputException.quote(src.names().get(layer)) + ", " : "")
+        + "row " + (lastStart + row) + ", column " + col + " (0-based): value " + v + " does not fit the float32 in which activations"
+        + " are kept (at most about 3.4e38); scale the activations, or build with --magnitudes off to keep none");
   }
 
   @Override

@@ -258,6 +258,7 @@ public final class Encoders {
   }
 
   private static void checkReadable(Path file) {
+    if (Files.isDirectory(file)) throw new BadInputException(file + ": is a folder, not a file");
     if (!Files.isRegularFile(file)) throw new BadInputException(file + ": no such file");
     if (!Files.isReadable(file)) throw new BadInputException(file + ": not readable");
   }

@@ -82,8 +82,22 @@ final class ModelLayers implements LayerSource {
     DMatrixRMaj x = new DMatrixRMaj(n, in.cols());
     System.arraycopy(buf, 0, x.data, 0, n * in.cols());
     DMatrixRMaj[] out = mlp.forward(x);
+    checkFinite(out, in.position() - n);
     for (int i = 0; i < layerIndex.length; i++) d[i] = out[layerIndex[i]].data;
     return n;
+  }
+
+  /** Refuses rows whose hidden activations overflow (a NaN or infinity would otherwise pass as a code bit). */
+  private void checkFinite(DMatrixRMaj[] out, long firstRow) {
+    for (int l = 0; l < mlp.hiddenNames().size(); l++) {
+      double[] v = out[l].data;
+      int w = out[l].numCols;
+      for (int i = 0; i < out[l].getNumElements(); i++)
+        if (!Double.isFinite(v[i]))
+          throw new BadInputException(in.source() + ": row " + (firstRow + i / w) + " (0-based): layer "
+              + BadInputException.quote(mlp.layers().get(l).name()) + ", unit " + (i % w) + " of the model " + modelName
+              + " overflows (" + v[i] + "); the inputs are too large for the weights");
+    }
   }
 
   @Override

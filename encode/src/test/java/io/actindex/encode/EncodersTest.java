@@ -195,6 +195,27 @@ public class EncodersTest {
   }
 
   @Test
+  void keptActivationsBeyondFloat32AreRefusedNamingRowAndColumn() throws IOException {
+    // float64 activations past Float.MAX_VALUE make valid codes but cannot be kept as float32
+    // magnitudes: they used to reach the quantiser as infinity and end in an internal error.
+    double[][] rows = {{1, -1}, {2, 3}, {0.5, 0.25}, {1, -1e39}};
+    try (CodeStream s = Encoders.activations(() -> ArrayMatrixReader.of("big.npy", rows), "act", EncodeOptions.positive())) {
+      assertThat(s.next(3).size()).isEqualTo(3);
+      assertThat(s.lastActivations()).containsExactly(1, -1, 2, 3, 0.5f, 0.25f);
+      assertThat(s.next(3).code(0)[0]).isEqualTo(0b01L);
+      assertThatThrownBy(s::lastActivations).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("big.npy: row 3, column 1").hasMessageContaining("float32");
+    }
+  }
+
+  @Test
+  void aFolderGivenAsAFileIsNamedAsAFolder() throws IOException {
+    Path folder = Files.createDirectory(tmp.resolve("acts.npy"));
+    assertThatThrownBy(() -> Encoders.activations(folder, EncodeOptions.positive())).isInstanceOf(BadInputException.class)
+        .hasMessage(folder + ": is a folder, not a file");
+  }
+
+  @Test
   void unknownFileTypeAndMissingFile() {
     assertThatThrownBy(() -> Encoders.activations(tmp.resolve("nope.npy"), EncodeOptions.positive())).isInstanceOf(BadInputException.class)
         .hasMessageContaining("no such file");

@@ -85,6 +85,10 @@ public final class Mlp {
       shapes.add(new LayerOrder.Shape(name, e.shape()[0], e.shape()[1]));
     }
     if (shapes.isEmpty()) throw new BadInputException(r.file() + ": no tensor named NAME.weight; an MLP needs PyTorch-style names");
+    for (String name : r.entries().keySet())
+      if (name.endsWith(".bias") && !r.entries().containsKey(name.substring(0, name.length() - 5) + ".weight"))
+        throw new BadInputException(r.file() + ": tensor " + BadInputException.quote(name) + " has no "
+            + BadInputException.quote(name.substring(0, name.length() - 5) + ".weight") + " (a layer without its weight: is the file complete?)");
     return shapes;
   }
 
@@ -150,6 +154,7 @@ public final class Mlp {
   /**
    * Batched forward pass of the rows of {@code x} ({@code m x inputs}) with EJML matrix products.
    * Returns every layer's output: hidden layers after ReLU, the output layer before any activation.
+   * A pre-activation that overflows stays infinite or NaN (ReLU takes only -infinity to 0).
    */
   public DMatrixRMaj[] forward(DMatrixRMaj x) {
     if (x.numCols != inputs()) throw new IllegalArgumentException("input has " + x.numCols + " columns, the model takes " + inputs());
@@ -164,7 +169,7 @@ public final class Mlp {
       boolean relu = l < layers.size() - 1 || !outputLayer;
       for (int i = 0, n = h.numRows * o; i < n; i++) {
         double v = zd[i] + b[i % o];
-        zd[i] = relu && !(v > 0) ? 0 : v;
+        zd[i] = relu && v <= 0 ? 0 : v; // NaN passes, so a caller can see an overflow
       }
       out[l] = z;
       h = z;

@@ -34,6 +34,37 @@ class MlpTest {
   }
 
   @Test
+  void aBiasWithoutItsWeightIsRefused() throws IOException {
+    // A file cut short or saved from the wrong state dict: '2.bias' without '2.weight' used to be
+    // ignored, so layer 0 became the output layer and a hidden layer vanished from the codes.
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", zeros(4, 3));
+    t.put("0.bias", zeros(4));
+    t.put("2.weight", zeros(2, 4));
+    t.put("2.bias", zeros(2));
+    t.put("4.bias", zeros(3));
+    Path orphan = model(t);
+    assertThatThrownBy(() -> Mlp.load(orphan, null)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining(orphan.toString()).hasMessageContaining("'4.bias'").hasMessageContaining("'4.weight'");
+  }
+
+  @Test
+  void hiddenActivationsThatOverflowAreRefusedNamingTheRow() throws IOException {
+    // 1e200 * 1e200 overflows double: +inf, and +inf - inf = NaN, which ReLU used to turn into an
+    // off bit without a word. Row 1 is fine, row 2 overflows in layer 'a' unit 1.
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("a.weight", new SafetensorsWriter.Tensor(new long[] {2, 2}, new double[] {1, 0, 1e20, -1e20}));
+    t.put("b.weight", new SafetensorsWriter.Tensor(new long[] {1, 2}, new double[] {1, 1}));
+    Path m = model(t);
+    double[][] rows = {{1, 2}, {3, 4}, {1e300, 1e300}};
+    try (CodeStream s = Encoders.model(Mlp.load(m, List.of("a", "b")), "m.safetensors",
+        () -> io.actindex.encode.io.ArrayMatrixReader.of("in.npy", rows), EncodeOptions.positive())) {
+      assertThatThrownBy(() -> s.next(10)).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("in.npy: row 2").hasMessageContaining("layer 'a', unit 1").hasMessageContaining("m.safetensors");
+    }
+  }
+
+  @Test
   void shapeMismatchesAreRefused() throws IOException {
     Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
     t.put("fc1.weight", zeros(4, 3));
