@@ -66,6 +66,8 @@ final class BuildCommand implements Callable<Integer> {
       throw new ParameterException(spec.commandLine(), "--threshold and --median exclude each other");
     if (threshold != null && !Double.isFinite(threshold))
       throw new ParameterException(spec.commandLine(), "--threshold must be a finite number");
+    if (median && source.codes != null)
+      throw new ParameterException(spec.commandLine(), "--median takes each neuron's median over activations; --codes carry none (give --activations or --model with --inputs)");
     BinarizeRule rule = median ? BinarizeRule.MEDIAN : threshold != null ? BinarizeRule.THRESHOLD : BinarizeRule.POSITIVE;
     if ((layerOrder != null || noOutputLayer) && model == null)
       throw new ParameterException(spec.commandLine(), "--layer-order and --no-output-layer go with --model");

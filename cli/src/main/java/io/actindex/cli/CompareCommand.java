@@ -120,6 +120,9 @@ final class CompareCommand implements Callable<Integer> {
       throw new ParameterException(spec.commandLine(), "with --index, files are encoded as the index was built: drop --threshold, --median, --model and --code-layout");
     if (threshold != null && median) throw new ParameterException(spec.commandLine(), "give --threshold or --median, not both");
     if (model != null && kind != Source.Kind.INPUTS) throw new ParameterException(spec.commandLine(), "--model goes with --kind inputs");
+    if (codeLayout != null && kind != Source.Kind.CODES) throw new ParameterException(spec.commandLine(), "--code-layout goes with --kind codes");
+    if ((threshold != null || median) && kind == Source.Kind.CODES)
+      throw new ParameterException(spec.commandLine(), "--threshold and --median binarize activations; --kind codes is binary already");
     if (permutations < 1) throw new BadInputException("--permutations must be at least 1, got " + permutations);
     if (threshold != null && !Double.isFinite(threshold)) throw new BadInputException("--threshold must be a finite number");
     EncodeOptions enc = median ? new EncodeOptions(BinarizeRule.MEDIAN, 0, null)

@@ -175,4 +175,82 @@ class BadInputEndToEndTest {
     assertThat(r.code()).as(r.describe()).isEqualTo(2);
     assertThat(r.err()).as(r.describe()).contains("no-such-index");
   }
+  /** Little-endian float64 bytes. */
+  private static byte[] f64(double... v) {
+    ByteBuffer b = ByteBuffer.allocate(8 * v.length).order(ByteOrder.LITTLE_ENDIAN);
+    for (double x : v) b.putDouble(x);
+    return b.array();
+  }
+
+  @Test
+  void float64ActivationsBeyondFloat32AreRefusedWhereTheyWouldBeKept() {
+    // codes from 1e39 are fine, but the kept magnitudes are float32: this was an internal error (exit 1)
+    double[] v = new double[3 * 8];
+    v[8 + 2] = 1e39;
+    Path big = Files2.rawNpy(tmp.resolve("big64.npy"), Files2.NPY_MAGIC, "{'descr': '<f8', 'fortran_order': False, 'shape': (3, 8), }", f64(v));
+    Case c = new Case("a float64 value past float32", big, "row 1, column 2");
+    Path out = tmp.resolve("big-idx");
+    assertRefused(Cli.run("build", "--out", out.toString(), "--activations", big.toString()), c);
+    assertThat(!Files.exists(out) || Files2.checksums(out).isEmpty()).isTrue();
+    Map<String, String> before = Files2.checksums(idx);
+    assertRefused(Cli.run("add", "--index", idx.toString(), "--activations", big.toString()), c);
+    assertRefused(Cli.run("fidelity", "--activations", big.toString()), c);
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+    Cli.Result off = Cli.run("build", "--out", out.toString(), "--activations", big.toString(), "--magnitudes", "off");
+    assertThat(off.code()).as(off.describe()).isZero();
+  }
+
+  @Test
+  void modelInputsThatOverflowTheForwardPassAreRefused() {
+    // 1e300 * 1e38 overflows double: the hidden unit became NaN or infinity and its code bit was made up
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {2, 3}, new double[] {1e38, -1e38, 0, 1, 1, 1}));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {1, 2}, new double[] {1, 1}));
+    Path big = Files2.write(tmp.resolve("big.safetensors"), new byte[0]);
+    try {
+      SafetensorsWriter.write(big, t, Map.of());
+    } catch (java.io.IOException e) {
+      throw new java.io.UncheckedIOException(e);
+    }
+    Path inputs = Files2.rawNpy(tmp.resolve("huge-in.npy"), Files2.NPY_MAGIC, "{'descr': '<f8', 'fortran_order': False, 'shape': (2, 3), }",
+        f64(1, 2, 3, 1e300, -1e300, 0));
+    Path out = tmp.resolve("o-idx");
+    assertRefused(Cli.run("build", "--out", out.toString(), "--model", big.toString(), "--inputs", inputs.toString(), "--magnitudes", "off"),
+        new Case("hidden unit overflows", inputs, "row 1"));
+    assertThat(!Files.exists(out) || Files2.checksums(out).isEmpty()).isTrue();
+  }
+
+  @Test
+  void aFolderWhereAFileBelongsIsCalledAFolder() throws Exception {
+    Path folder = Files.createDirectory(tmp.resolve("acts-folder.npy"));
+    Case c = new Case("a folder as activations", folder, "is a folder");
+    assertRefused(Cli.run("build", "--out", tmp.resolve("f-idx").toString(), "--activations", folder.toString()), c);
+    assertRefused(Cli.run("nearest", "--index", idx.toString(), "--activations", folder.toString()), c);
+    assertRefused(Cli.run("build", "--out", tmp.resolve("g-idx").toString(), "--model", folder.toString(), "--inputs", folder.toString()), c);
+  }
+
+  /** Options that cannot apply: exit 2 naming the option, nothing written (they were an internal error or ignored). */
+  @Test
+  void optionsThatCannotApplyAreRefused() {
+    Map<String, String> before = Files2.checksums(idx);
+    for (String blank : new String[] {"", "  "}) {
+      Cli.Result r = Cli.run("delete", "--index", idx.toString(), "--where", blank);
+      assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(r.err()).as(r.describe()).contains("--where").doesNotContain("internal error");
+    }
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+    Path codes = Files2.bits(tmp.resolve("c.npy"), new boolean[4][8]);
+    Path acts = Files2.floats(tmp.resolve("a.npy"), new float[4][8]);
+    String[][] cases = {
+        {"--median", "build", "--out", tmp.resolve("m-idx").toString(), "--codes", codes.toString(), "--median"},
+        {"--code-layout", "compare", "--a", acts.toString(), "--b", acts.toString(), "--code-layout", "x:4,y:4"},
+        {"--threshold", "compare", "--a", codes.toString(), "--b", codes.toString(), "--kind", "codes", "--threshold", "0.5"}};
+    for (String[] c : cases) {
+      Cli.Result r = Cli.run(java.util.Arrays.copyOfRange(c, 1, c.length));
+      assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(r.err()).as(r.describe()).contains(c[0]).doesNotContain("internal error");
+      assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
+    }
+    assertThat(!Files.exists(tmp.resolve("m-idx")) || Files2.checksums(tmp.resolve("m-idx")).isEmpty()).isTrue();
+  }
 }
