@@ -406,6 +406,10 @@ public final class Compare {
     while ((got = r.read(buf, buf.length / cols)) > 0) {
       if ((long) (rows + got) * cols > Integer.MAX_VALUE - 16) throw new BadInputException(r.source() + ": too many float values to hold");
       if ((rows + got) * cols > all.length) all = Arrays.copyOf(all, Math.max((rows + got) * cols, all.length * 2));
+      for (int i = 0; i < got * cols; i++)
+        if (Math.abs(buf[i]) > Float.MAX_VALUE) // its square overflows the covariance: activations are float32
+          throw new BadInputException(r.source() + ": row " + (rows + i / cols) + ", column " + (i % cols) + " (0-based): value " + buf[i]
+              + " does not fit float32 (at most about 3.4e38); activations that large cannot be compared");
       System.arraycopy(buf, 0, all, rows * cols, got * cols);
       rows += got;
     }
