@@ -80,6 +80,17 @@ class StorageCommandsEndToEndTest {
         .anyMatch(n -> n.startsWith("meta/")).contains("index");
   }
 
+  @Test
+  void aKeysFileSavedWithAByteOrderMarkAndCrlfDeletesItsKeys() throws Exception {
+    // Windows editors write "\uFEFF" first and CRLF line ends; the BOM was read as part of the
+    // first key, which was then "not in the index" (the metadata CSV accepts a BOM).
+    Path keys = Files2.write(tmp.resolve("bom.txt"), "\uFEFFk5\r\nk7\r\n".getBytes(java.nio.charset.StandardCharsets.UTF_8));
+    JsonNode d = json(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json"));
+    assertThat(d.get("deleted").asInt()).isEqualTo(2);
+    live.removeAll(List.of(5, 7));
+    nearestMatchesScan();
+  }
+
   private void nearestMatchesScan() throws Exception {
     boolean[][] queries = {codes[1], codes[250], codes[299]};
     JsonNode doc = json(Cli.run("nearest", "--index", idx.toString(), "--codes",

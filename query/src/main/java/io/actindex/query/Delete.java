@@ -26,7 +26,7 @@ public final class Delete {
   /** Longest line of a keys file (bytes); longer lines are refused. */
   static final int MAX_KEY_BYTES = 64 * 1024;
 
-  /** Exactly one of {@code keysFile} (one key per line, UTF-8, blank lines skipped) and {@code where}. */
+  /** Exactly one of {@code keysFile} (one key per line, UTF-8, a byte order mark and blank lines skipped) and {@code where}. */
   public record Params(Path dir, Path keysFile, String where) {
     public Params {
       Objects.requireNonNull(dir, "dir");
@@ -78,6 +78,7 @@ public final class Delete {
     } catch (CharacterCodingException e) {
       throw new BadInputException("keys file " + file + " is not UTF-8 text");
     }
+    if (text.startsWith("\uFEFF")) text = text.substring(1); // a byte order mark, as the metadata CSV allows
     RoaringBitmap ids = new RoaringBitmap();
     String[] lines = text.split("\r?\n", -1);
     for (int i = 0; i < lines.length; i++) {
