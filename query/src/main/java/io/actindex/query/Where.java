@@ -217,13 +217,20 @@ public final class Where {
   }
 
   private double number(Token v) {
+    if (MetaStore.exactNumber(v.text)) return Double.parseDouble(v.text);
+    // a decimal that a double only rounds would match the neighbours of what was asked for
+    boolean rounded = isDecimal(v.text) && Double.isFinite(Double.parseDouble(v.text));
+    throw error(v, "'" + Snippet.of(v.text) + "' is not a number"
+        + (rounded ? " a number field holds exactly (a double: about 15-17 significant digits)" : ""));
+  }
+
+  private static boolean isDecimal(String text) {
     try {
-      double x = Double.parseDouble(v.text);
-      if (Double.isFinite(x)) return x;
-    } catch (NumberFormatException ignored) {
-      // reported below
+      new java.math.BigDecimal(text);
+      return true;
+    } catch (NumberFormatException e) {
+      return false;
     }
-    throw error(v, "'" + Snippet.of(v.text) + "' is not a number");
   }
 
   private Token value() {

@@ -92,6 +92,27 @@ class WhereTest {
     }
   }
 
+  /**
+   * Numbers a double cannot hold exactly (integers past 2^53, such as 64-bit ids or nanosecond
+   * timestamps): a column of them used to become a number field whose values were rounded, so
+   * {@code ts = 9007199254740993} also matched 9007199254740992. Such a column is text now (exact
+   * equality), and a comparison value a number field cannot hold exactly is refused.
+   */
+  @Test
+  void numbersADoubleCannotHoldExactlyNeverMatchTheWrongRows(@org.junit.jupiter.api.io.TempDir java.nio.file.Path tmp) {
+    String[] ts = {"9007199254740992", "9007199254740993", "9007199254740994", "1733234567890123456"};
+    List<Map<String, String>> meta = new ArrayList<>();
+    for (int i = 0; i < ts.length; i++) meta.add(Map.of("key", "k" + i, "ts", ts[i], "n", i == 0 ? "1.5" : "2e3"));
+    TestIndexes.write(tmp, io.actindex.core.SyntheticCodes.uniform(ts.length, 8, 1), meta, 1);
+    try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(tmp)) {
+      assertThat(reader.meta().fields()).containsEntry("ts", FieldKind.KEYWORD).containsEntry("n", FieldKind.NUMBER);
+      for (int i = 0; i < ts.length; i++) assertThat(Where.select(reader.meta(), "ts = " + ts[i])).as(ts[i]).isEqualTo(RoaringBitmap.bitmapOf(i));
+      assertThat(Where.select(reader.meta(), "n = 2000")).isEqualTo(RoaringBitmap.bitmapOf(1, 2, 3));
+      for (String bad : new String[] {"n = 9007199254740993", "n < 1e-400", "n in (1.5, 12345678901234567890)"})
+        assertThatThrownBy(() -> Where.select(reader.meta(), bad)).as(bad).isInstanceOf(BadInputException.class).hasMessageContaining("exactly");
+    }
+  }
+
   @Test
   void documentedExampleMatchesItsMeaning() throws IOException {
     List<Row> rows = List.of(new Row("cat", "train", 0.7, "a", 1.0), new Row("cat", "test", 0.9, "a", 1.0),

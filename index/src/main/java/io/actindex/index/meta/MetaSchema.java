@@ -25,7 +25,7 @@ import org.apache.lucene.util.BytesRef;
  * <p>Every document: {@value #ID} (IntPoint + NumericDocValues + stored), {@value #KEY} (StringField,
  * stored, unique). {@code label}, {@code split}, {@code source} are always KEYWORD. Any other column
  * is NUMBER when every non-empty value in the batch that introduces it is a finite decimal number
- * (DoublePoint + DoubleDocValuesField + the original text stored), else KEYWORD (StringField +
+ * that a double holds exactly ({@link #exactInDouble}; else equal filters would match neighbours) (DoublePoint + DoubleDocValuesField + the original text stored), else KEYWORD (StringField +
  * SortedDocValuesField, stored). A column keeps its kind for the life of the index: a later
  * non-number in a NUMBER column is refused. Empty values are not indexed or stored.
  *
@@ -57,9 +57,21 @@ final class MetaSchema {
     };
   }
 
+  /** A finite decimal number that a double holds exactly enough that no other such text rounds to the same value. */
   static boolean isNumber(String v) {
-    if (!NUMBER.matcher(v).matches()) return false;
-    return Double.isFinite(Double.parseDouble(v));
+    return NUMBER.matcher(v).matches() && exactInDouble(v);
+  }
+
+  /**
+   * Whether the decimal {@code v} (already known to be one) equals the shortest decimal of the
+   * double it parses to: then two such texts give the same double only when they are the same
+   * number. False for infinities, for values that underflow, and for more significant digits than a
+   * double keeps (integers past 2^53 such as 64-bit ids or nanosecond timestamps), which would
+   * otherwise compare equal to their neighbours.
+   */
+  static boolean exactInDouble(String v) {
+    double d = Double.parseDouble(v);
+    return Double.isFinite(d) && new java.math.BigDecimal(v).compareTo(new java.math.BigDecimal(Double.toString(d))) == 0;
   }
 
   /**
@@ -90,7 +102,9 @@ final class MetaSchema {
       Integer bad = firstNonNumber.get(col);
       if (have == FieldKind.NUMBER && bad != null)
         throw new BadInputException("metadata row " + bad + " (id " + (firstId + bad) + ") column '" + col + "': '"
-            + rows.get(bad).get(col) + "' is not a number, and the column is numeric in this index");
+            + rows.get(bad).get(col) + "' is not a number"
+            + (NUMBER.matcher(rows.get(bad).get(col)).matches() ? " a double holds exactly (about 15-17 significant digits)" : "")
+            + ", and the column is numeric in this index");
       if (have == null) out.put(col, bad == null ? FieldKind.NUMBER : FieldKind.KEYWORD);
     }
     return out;

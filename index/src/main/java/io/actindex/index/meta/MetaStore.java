@@ -49,6 +49,11 @@ public final class MetaStore implements Closeable {
   /** How a column is indexed. */
   public enum FieldKind { KEYWORD, NUMBER }
 
+  /** Whether {@code text} is a value a NUMBER field holds exactly (a finite decimal, no more digits than a double keeps). */
+  public static boolean exactNumber(String text) {
+    return MetaSchema.isNumber(text);
+  }
+
   private final Directory dir;
   private final DirectoryReader reader;
   private final IndexSearcher searcher;
