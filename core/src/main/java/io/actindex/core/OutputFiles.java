@@ -1,6 +1,7 @@
 package io.actindex.core;
 
 import java.io.IOException;
+import java.io.UncheckedIOException;
 import java.nio.ByteBuffer;
 import java.nio.channels.FileChannel;
 import java.nio.file.AtomicMoveNotSupportedException;
@@ -10,6 +11,8 @@ import java.nio.file.Path;
 import java.nio.file.StandardCopyOption;
 import java.nio.file.StandardOpenOption;
 import java.util.concurrent.ThreadLocalRandom;
+import java.util.regex.Pattern;
+import java.util.stream.Stream;
 
 /**
  * Output files written whole or not at all: a temporary file in the target's folder, filled and
@@ -36,14 +39,32 @@ public final class OutputFiles {
   }
 
   /**
-   * Refuses a target that cannot take a file: its folder is missing, or it is itself a folder
-   * ({@code option} names the option in the message, e.g. {@code --html}).
+   * Refuses a target that cannot take a file: its folder is missing, it is itself a folder, or it
+   * lies in an index folder or a folder inside one ({@code option} names the option in the
+   * message, e.g. {@code --html}).
    */
   public static void checkTarget(Path target, String option) {
     Path abs = target.toAbsolutePath();
     if (abs.getParent() == null || !Files.isDirectory(abs.getParent()))
       throw new BadInputException(target + ": its folder does not exist (" + option + ")");
     if (Files.isDirectory(abs)) throw new BadInputException(target + ": is a folder; " + option + " names a file");
+    Path dir = abs.normalize().getParent(); // its folder, or a folder inside an index (meta/)
+    for (Path d : new Path[] {dir, dir == null ? null : dir.getParent()})
+      if (d != null && holdsIndex(d))
+        throw new BadInputException(target + ": " + d + " is an index folder, whose files only actindex's writers touch; write "
+            + option + " elsewhere");
+  }
+
+  /** The names that mark an index folder: index.store's manifests ({@code manifest-N}) and its writer's lock. */
+  private static final Pattern INDEX_FILE = Pattern.compile("manifest-\\d{1,18}|writer\\.lock");
+
+  /** Whether {@code dir} holds an index (a manifest or the writer's lock file). */
+  private static boolean holdsIndex(Path dir) {
+    try (Stream<Path> files = Files.list(dir)) {
+      return files.anyMatch(f -> INDEX_FILE.matcher(f.getFileName().toString()).matches());
+    } catch (IOException | UncheckedIOException e) {
+      return false; // an unreadable folder: the write itself will say so
+    }
   }
 
   /**
