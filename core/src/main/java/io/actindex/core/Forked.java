@@ -31,15 +31,18 @@ public final class Forked<T> {
     return new Forked<>(work, null);
   }
 
+  /** The most workers a JDK fork-join pool takes (a larger count is an IllegalArgumentException). */
+  static final int MAX_WORKERS = 0x7fff;
+
   /**
-   * Runs {@code work} with {@code threads} fork-join workers for the parallel steps inside it (its
+   * Runs {@code work} with {@code threads} fork-join workers (at most {@link #MAX_WORKERS}) for the parallel steps inside it (its
    * parallel streams and forked tasks run in that pool); {@code threads} 0 runs it on this thread
    * with the common pool (one worker per core, this thread included).
    */
   public static <T> T withThreads(int threads, Supplier<T> work) {
     if (threads < 0) throw new IllegalArgumentException("threads " + threads);
     if (threads == 0) return work.get();
-    try (ForkJoinPool pool = new ForkJoinPool(threads)) {
+    try (ForkJoinPool pool = new ForkJoinPool(Math.min(threads, MAX_WORKERS))) {
       return new Forked<>(work, pool).join();
     }
   }
