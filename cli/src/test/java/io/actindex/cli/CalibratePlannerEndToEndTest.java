@@ -81,6 +81,11 @@ class CalibratePlannerEndToEndTest {
     Cli.Result bad = Cli.run("nearest", "--index", idx.toString(), "--codes", q.toString(), "-k", "5");
     assertThat(bad.code()).as(bad.describe()).isEqualTo(ExitCodes.USAGE);
     assertThat(bad.err().strip()).as(bad.describe()).doesNotContain("\n").contains(file.toString()).contains("walk 'fast' is not a number");
+    // the message starts at the costs file: it used to begin "index file .../seg-0.tables: tables payload:", blaming the index
+    assertThat(bad.err()).as(bad.describe()).startsWith("actindex nearest: planner costs " + file).doesNotContain("seg-");
+    Cli.Result check = Cli.run("check", "--index", idx.toString());
+    assertThat(check.code()).as(check.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(check.err()).as(check.describe()).contains("planner costs " + file).doesNotContain("tables payload");
   }
 
   @Test

@@ -111,7 +111,7 @@ public final class PlannerCalibration {
     } catch (NoSuchFileException e) {
       return Optional.empty();
     } catch (IOException | java.io.UncheckedIOException e) {
-      throw new BadInputException("planner costs " + file + ": cannot be read (" + e.getMessage() + ")", e);
+      throw new BadCosts("planner costs " + file + ": cannot be read (" + e.getMessage() + ")", e);
     }
     double[] c = new double[NAMES.size()];
     Arrays.fill(c, Double.NaN);
@@ -173,6 +173,13 @@ public final class PlannerCalibration {
   }
 
   private static BadInputException bad(String message) {
-    return new BadInputException(message + " (run 'actindex calibrate-planner' again, or delete the file)");
+    return new BadCosts(message + " (run 'actindex calibrate-planner' again, or delete the file)", null);
+  }
+
+  /** A refused costs file: its own type, so that a reader of index files does not report it as theirs. */
+  public static final class BadCosts extends BadInputException {
+    BadCosts(String message, Throwable cause) {
+      super(message, cause);
+    }
   }
 }

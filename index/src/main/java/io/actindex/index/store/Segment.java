@@ -7,6 +7,7 @@ import io.actindex.core.CodeSearcher;
 import io.actindex.core.ScanSearcher;
 import io.actindex.index.mih.SearchPlanOptions;
 import io.actindex.index.mih.SearcherStats;
+import io.actindex.index.mih.PlannerCalibration;
 import io.actindex.index.mih.Searchers;
 import java.io.DataInputStream;
 import java.io.IOException;
@@ -200,6 +201,8 @@ public final class Segment {
       try {
         searcher = Searchers.read(payload, codes, level == ChecksummedFile.Check.FULL);
         if (payload.available() != 0) throw t.error(payload.available() + " bytes follow the tables payload");
+      } catch (PlannerCalibration.BadCosts ex) {
+        throw ex; // the machine's costs file, not this one
       } catch (BadInputException ex) {
         throw ex.getMessage().contains(t.file().toString()) ? ex : t.error("tables payload: " + ex.getMessage());
       } catch (IOException ex) {
