@@ -48,7 +48,12 @@ public final class OutputFiles {
     if (abs.getParent() == null || !Files.isDirectory(abs.getParent()))
       throw new BadInputException(target + ": its folder does not exist (" + option + ")");
     if (Files.isDirectory(abs)) throw new BadInputException(target + ": is a folder; " + option + " names a file");
-    Path dir = abs.normalize().getParent(); // its folder, or a folder inside an index (meta/)
+    checkOutsideIndex(target, option);
+  }
+
+  /** Refuses a target in an index folder or a folder inside one (meta/): only the index's writers touch those. */
+  public static void checkOutsideIndex(Path target, String option) {
+    Path dir = target.toAbsolutePath().normalize().getParent();
     for (Path d : new Path[] {dir, dir == null ? null : dir.getParent()})
       if (d != null && holdsIndex(d))
         throw new BadInputException(target + ": " + d + " is an index folder, whose files only actindex's writers touch; write "

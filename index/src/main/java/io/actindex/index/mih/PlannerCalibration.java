@@ -1,6 +1,7 @@
 package io.actindex.index.mih;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.OutputFiles;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.AtomicMoveNotSupportedException;
@@ -87,6 +88,7 @@ public final class PlannerCalibration {
     s.append(FORMAT).append('\n');
     for (Cost c : r.costs()) s.append(c.name()).append('=').append(String.format(Locale.ROOT, "%.6g", c.ns())).append('\n');
     Path abs = file.toAbsolutePath();
+    OutputFiles.checkOutsideIndex(file, "the costs");
     Files.createDirectories(abs.getParent());
     Path tmp = Files.createTempFile(abs.getParent(), abs.getFileName().toString(), ".tmp");
     try {

@@ -50,6 +50,23 @@ class PlannerCalibrationTest {
     }
   }
 
+  /** 'calibrate-planner --out idx/manifest-2' replaced an index's manifest with the costs (the index was lost). */
+  @Test
+  void neverWrittenIntoAnIndexFolder() throws Exception {
+    Path idx = Files.createDirectories(tmp.resolve("idx"));
+    Files.write(idx.resolve("manifest-2"), new byte[] {1, 2});
+    PlannerCalibration.Result r = new PlannerCalibration.Result(
+        PlannerCalibration.NAMES.stream().map(n -> new PlannerCalibration.Cost(n, 1.5, 1)).toList(), 1);
+    for (String name : new String[] {"manifest-2", "costs.properties"}) {
+      BadInputException e = assertThrows(BadInputException.class, () -> PlannerCalibration.write(r, idx.resolve(name)));
+      assertTrue(e.getMessage().contains("index folder"), e.getMessage());
+    }
+    try (var s = Files.list(idx)) {
+      assertEquals(List.of(idx.resolve("manifest-2")), s.toList());
+    }
+    assertEquals(List.of((byte) 1, (byte) 2), List.of(Files.readAllBytes(idx.resolve("manifest-2"))[0], Files.readAllBytes(idx.resolve("manifest-2"))[1]));
+  }
+
   @Test
   void aMissingFileMeansNotCalibrated() {
     assertEquals(Optional.empty(), PlannerCalibration.read(tmp.resolve("none")));
