@@ -29,9 +29,9 @@ public final class Layers {
     for (int i = 0; i < out.length; i++) {
       String name = names.get(i);
       int s = layout.indexOf(name);
-      if (s < 0) throw new BadInputException("unknown layer '" + name + "'; the index has layers " + names(layout));
+      if (s < 0) throw new BadInputException("--layers: unknown layer '" + name + "' (the layers are " + names(layout) + ")");
       for (int j = 0; j < i; j++)
-        if (out[j] == s) throw new BadInputException("layer '" + name + "' is chosen twice");
+        if (out[j] == s) throw new BadInputException("--layers: layer '" + name + "' is chosen twice");
       out[i] = s;
     }
     return out;

@@ -15,6 +15,15 @@ class LayersTest {
   static final CodeLayout SOURCE = CodeLayout.parse("a:50,b:30,c:70");
   static final CodeLayout INDEX = CodeLayout.parse("a:50,c:70");
 
+  /** The refusal names the option and the layers there are, and says "index" only where there is one (compare has none). */
+  @Test
+  void anUnknownLayerIsRefusedNamingTheOption() {
+    assertThatThrownBy(() -> Layers.select(SOURCE, List.of("a", "z"))).isInstanceOf(BadInputException.class)
+        .hasMessage("--layers: unknown layer 'z' (the layers are a, b, c)");
+    assertThatThrownBy(() -> Layers.select(SOURCE, List.of("b", "b"))).isInstanceOf(BadInputException.class)
+        .hasMessage("--layers: layer 'b' is chosen twice");
+  }
+
   @Test
   void projectKeepsTheNamedSegmentsBitForBit() {
     long seed = Randoms.seed(1);
