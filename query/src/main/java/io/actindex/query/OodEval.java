@@ -87,7 +87,8 @@ public final class OodEval {
     OodScorer scorer = OodCalibration.scorer(reader, cal, p.score());
     QuerySource.Queries inQ = scorer.load(p.in(), RowRange.ALL), outQ = scorer.load(p.out(), RowRange.ALL);
     QueryCodes in = inQ.codes(), out = outQ.codes();
-    if (in.size() == 0 || out.size() == 0) throw new BadInputException("ood eval needs rows in both --in and --out");
+    if (in.size() == 0) throw new BadInputException(p.in().file() + ": no rows; ood eval needs rows in both --in and --out");
+    if (out.size() == 0) throw new BadInputException(p.out().file() + ": no rows; ood eval needs rows in both --in and --out");
     // k values and layer sets of the breakdown; one k-NN search per input and layer set
     TreeSet<Integer> ks = new TreeSet<>(List.of(1, 5, 10, cal.k()));
     ks.removeIf(k -> k > reader.liveCount());

@@ -196,6 +196,22 @@ class OodIndexTest {
     assertThat(tmp.resolve("b.edge")).doesNotExist();
   }
 
+  /** An empty --in or --out file is named (the message said only "needs rows in both --in and --out"). */
+  @Test
+  void anEmptyEvaluationFileIsNamed() throws Exception {
+    Data d = relu(Randoms.seed(0), 300);
+    Path dir = index(tmp.resolve("idx"), d.train());
+    Path cal = npy(tmp.resolve("cal.npy"), d.cal());
+    Path empty = npy(tmp.resolve("empty.npy"), d.cal().slice(0, 0));
+    OodCalibrate.run(dir, Source.codes(cal), RowRange.ALL, new OodCalibrate.Params(1, null, 0.95, null, false), Progress.NONE);
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertThatThrownBy(() -> OodEval.run(r, new OodEval.Params(Source.codes(cal), Source.codes(empty), null, null, null), Progress.NONE))
+          .isInstanceOf(BadInputException.class).hasMessageContaining("empty.npy").hasMessageContaining("--out");
+      assertThatThrownBy(() -> OodEval.run(r, new OodEval.Params(Source.codes(empty), Source.codes(cal), null, null, null), Progress.NONE))
+          .isInstanceOf(BadInputException.class).hasMessageContaining("empty.npy").hasMessageContaining("--in");
+    }
+  }
+
   @Test
   void damagedBundlesAreRefused() throws IOException {
     Data d = relu(Randoms.seed(1), 200);
