@@ -83,6 +83,13 @@ class AdversarialSearchTest {
       for (String family : AdversarialCodes.FAMILIES) check(rep++, bits, family, new int[] {0, 1, 2, 3, -1}, 300);
   }
 
+  /** Codes wider than the partition's radii can hold (65,535 bits): no partition, long tables and masks. */
+  @Test
+  void widthBeyondThePartitionsRadii() {
+    int rep = 500;
+    for (String family : new String[] {"uniform", "fewDistinct", "sparse"}) check(rep++, 65_600, family, new int[] {2, -1}, 40);
+  }
+
   /** Blocks of a few thousand codes: more clusters, wider tables, longer heads. */
   @Test
   @Tag("slow")
