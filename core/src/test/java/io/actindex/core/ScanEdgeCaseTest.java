@@ -64,7 +64,7 @@ class ScanEdgeCaseTest {
                   assertEquals(expected, top.toHits(), what + " loops=" + loops);
                 }
             }
-          for (int r : new int[] {-1, 0, 1, rnd.nextInt(bits + 1), bits})
+          for (int r : new int[] {-1, 0, 1, rnd.nextInt(bits + 1), bits, Integer.MAX_VALUE})
             assertEquals(PopcountReference.radius(codes, q, r, accept, mask), scan.radius(q, r, accept, mask), why + " radius=" + r);
           assertArrayEquals(q0, q, why + ": the query was changed");
           if (mask != null) assertArrayEquals(m0, mask, why + ": the mask was changed");

@@ -113,7 +113,7 @@ class AdversarialIndexTest {
               assertEquals(expected, r.search(q, k, set, mask), what + " k=" + k);
               if (k == 1 || k == Integer.MAX_VALUE) assertEquals(expected, r.knn(q, k, filter, mask), what + " k=" + k + " (RoaringBitmap filter)");
             }
-            for (int radius : new int[] {-1, 0, rnd.nextInt(all.layout().bits() + 1), all.layout().bits()})
+            for (int radius : new int[] {-1, 0, rnd.nextInt(all.layout().bits() + 1), all.layout().bits(), Integer.MAX_VALUE})
               assertEquals(PopcountReference.radius(all, q, radius, accept, mask), r.searchRadius(q, radius, set, mask), what + " radius=" + radius);
           }
         }
