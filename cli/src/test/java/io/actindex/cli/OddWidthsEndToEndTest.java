@@ -18,7 +18,7 @@ import org.junit.jupiter.api.io.TempDir;
 
 /**
  * {@code build}, {@code nearest}, {@code region}, {@code dupes}, {@code delete} and {@code compact}
- * through the command line with {@code --format json} on tiny indexes of odd widths (1 bit; 65
+ * (and {@code dupes --against}) through the command line with {@code --format json} on tiny indexes of odd widths (1 bit; 65
  * bits as 64 + 1; 129 bits as 1 + 127 + 1), codes with many exact copies (ties at every distance),
  * k of 1, n and past n, radius 0 and the full width, one layer only; checked against the test's own
  * bit-by-bit answers ({@link Reference}: Hamming distance as R. W. Hamming, Bell System Technical
@@ -135,6 +135,21 @@ class OddWidthsEndToEndTest {
         assertThat(s.get("pairs").asLong()).as(what).isEqualTo(pairs);
         assertThat(s.get("bits").asInt()).as(what).isEqualTo(onBits);
         if (radius == onBits) assertThat(pairs).as(what).isEqualTo((long) n * (n - 1) / 2);
+      }
+      // the queries against the index: every (row, id, distance) within the radius
+      for (int radius : new int[] {0, 1, onBits}) {
+        Path pairsFile = idx.resolveSibling("against-" + radius + ".csv");
+        List<String> args = new ArrayList<>(List.of("dupes", "--index", idx.toString(), "--radius", "" + radius, "--against", q.toString(),
+            "--pairs", pairsFile.toString(), "--format", "json"));
+        args.addAll(layerArgs);
+        NearestEndToEndTest.json(args.toArray(String[]::new));
+        List<String> want = new ArrayList<>(List.of("row,id,distance"));
+        for (int row = 0; row < queries.length; row++)
+          for (Example e : live) {
+            int d = Reference.distance(queries[row], e.bits(), on);
+            if (d <= radius) want.add(row + "," + e.id() + "," + d);
+          }
+        assertThat(Files.readAllLines(pairsFile)).as(why + " dupes --against radius=" + radius + " layers=" + on).isEqualTo(want);
       }
     }
   }
