@@ -161,7 +161,7 @@ public class RealUseBench {
     }
   }
 
-  private static void delete(Path dir) throws IOException {
+  static void delete(Path dir) throws IOException {
     if (Files.exists(dir)) try (Stream<Path> s = Files.walk(dir)) {
       for (Path p : s.sorted(Comparator.reverseOrder()).toList()) Files.delete(p);
     }

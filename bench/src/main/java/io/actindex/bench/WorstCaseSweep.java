@@ -199,7 +199,7 @@ public final class WorstCaseSweep {
     return s;
   }
 
-  private static String arg(String[] args, String name, String def) {
+  static String arg(String[] args, String name, String def) {
     for (String a : args) if (a.startsWith(name + "=")) return a.substring(name.length() + 1);
     return def;
   }

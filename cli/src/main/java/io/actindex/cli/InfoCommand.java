@@ -4,6 +4,7 @@ import io.actindex.cli.format.CsvWriter;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
 import io.actindex.core.CodeLayout;
+import io.actindex.index.mih.PlannerCalibration;
 import io.actindex.index.mih.SearcherStats;
 import io.actindex.index.store.IndexInfo;
 import io.actindex.index.store.IndexReader;
@@ -81,7 +82,11 @@ final class InfoCommand implements Callable<Integer> {
       searcher(j.name("searcher"), s.searcher());
       j.endObject();
     }
-    j.endArray().name("properties").stringMap(props).endObject();
+    j.endArray().name("planner_costs").beginObject()
+        .member("source", PlannerCalibration.calibrated() ? "calibrated" : "stored")
+        .member("file", PlannerCalibration.file().toString())
+        .endObject();
+    j.name("properties").stringMap(props).endObject();
     out.println();
   }
 
@@ -142,6 +147,8 @@ final class InfoCommand implements Callable<Integer> {
     out.println("magnitudes: " + (magnitudeBits == 0 ? "none kept (nearest --refine needs them; see build --magnitudes)"
         : magnitudeBits + " bits per unit, " + io.actindex.index.store.Magnitudes.rowBytes(info.layout().bits(), magnitudeBits)
             + " bytes per example, beside the codes (" + (info.layout().bits() + 7) / 8 + " bytes)"));
+    out.println("planner:   " + (PlannerCalibration.calibrated() ? "costs calibrated on this machine (" + PlannerCalibration.file() + ")"
+        : "costs measured when each segment was built (no calibration at " + PlannerCalibration.file() + "; see calibrate-planner)"));
     out.println();
     out.println("segments:");
     TextTable t = new TextTable(List.of("segment", "ids", "count", "deleted", "size", "constant bits dropped", "search plan"));

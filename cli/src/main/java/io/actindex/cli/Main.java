@@ -27,6 +27,7 @@ import picocli.CommandLine.Spec;
       BuildCommand.class, AddCommand.class, InfoCommand.class, NearestCommand.class,
       RegionCommand.class, CensusCommand.class, CompareCommand.class, FidelityCommand.class, DupesCommand.class,
       OodCommand.class, ExportEdgeCommand.class, ReportCommand.class, DeleteCommand.class, CompactCommand.class, CheckCommand.class,
+      CalibratePlannerCommand.class,
       CommandLine.HelpCommand.class
     },
     footer = {"", "Exit codes: 0 ok, 2 bad usage or bad input, 1 internal error.",

@@ -52,8 +52,11 @@ import java.util.function.IntUnaryOperator;
  */
 public final class JointSearch {
   private final CodeLayout layout;
+  private final int words;
+  private final long ghost; // the layout's bits past its width in the last word
   private final CodeSearcher[] blocks;
   private final IntUnaryOperator[] idOf;
+  private final boolean[] sameIds; // per block: its ids are its ordinals
   private final MihSearcher[] parted; // per block: its searcher when its partition takes part, else null
   private final int[][] idAt; // per block with a partition: the id of each partition position
   private final long[] centres; // the centres of those blocks, block after block
@@ -74,8 +77,15 @@ public final class JointSearch {
   public JointSearch(CodeLayout layout, List<CodeSearcher> blocks, List<IntUnaryOperator> idOf) {
     if (blocks.size() != idOf.size()) throw new IllegalArgumentException(blocks.size() + " blocks, " + idOf.size() + " id maps");
     this.layout = layout;
+    this.words = layout.words();
+    this.ghost = io.actindex.core.CodeBlock.ghostMask(layout);
     this.blocks = blocks.toArray(new CodeSearcher[0]);
     this.idOf = idOf.toArray(new IntUnaryOperator[0]);
+    sameIds = new boolean[this.blocks.length];
+    for (int b = 0; b < sameIds.length; b++) { // ids ascend with the ordinals: 0 and n - 1 at the ends means every one
+      int n = this.blocks[b].size();
+      sameIds[b] = n == 0 || this.idOf[b].applyAsInt(0) == 0 && this.idOf[b].applyAsInt(n - 1) == n - 1;
+    }
     int nb = this.blocks.length, w = layout.words(), clusters = 0;
     parted = new MihSearcher[nb];
     idAt = new int[nb][];
@@ -145,10 +155,13 @@ public final class JointSearch {
    * {@code mask} (nullable) limits the distance to its bits.
    */
   public Hits knn(long[] query, int k, IdSet accept, IntFunction<IntPredicate> blockAccept, long[] mask) {
-    query = ScanSearcher.checkQuery(layout, query, mask);
+    query = ScanSearcher.checkQuery(words, ghost, query, mask);
     if (k <= 0 || accept != null && accept.isEmpty()) return Hits.EMPTY;
     boolean joint = mask == null && centres.length > 0 && (accept == null || accept.count() * walkCost > scanCost);
-    if (!joint && blocks.length == 1) return ids(blocks[0].knn(query, k, blockAccept.apply(0), mask), idOf[0]);
+    if (!joint && blocks.length == 1) {
+      Hits h = blocks[0].knn(query, k, blockAccept.apply(0), mask);
+      return sameIds[0] ? h : ids(h, idOf[0]);
+    }
     Scratch s = scratch.get();
     if (s.inUse) s = new Scratch(); // re-entrant call from a filter
     s.inUse = true;

@@ -4,15 +4,19 @@ import io.actindex.core.IdSet;
 import io.actindex.core.Loops;
 import io.actindex.core.ScanKernel;
 import io.actindex.core.TopK;
+import java.util.Optional;
 import java.util.SplittableRandom;
 
 /**
  * The planner's cost constants in nanoseconds on this machine: a scanned code (per code and per
  * word), a probed bucket (dense and sparse table), a candidate verified by random access in a block
  * of {@value #NEAR_BYTES} bytes and in one of {@value #FAR_BYTES} bytes (far beyond the caches: a
- * cache and TLB miss each), a member of a walked filter, a code of a partition window. Only their ratios matter. {@link #machine()}
- * measures them once per JVM with short loops (about 50 ms) the first time a searcher is built;
- * every tables payload stores the costs it was built with, and a loaded searcher plans with those.
+ * cache and TLB miss each), a member of a walked filter, a code of a partition window. Only their
+ * ratios matter. {@link #machine()} takes the machine's calibrated costs ({@link
+ * PlannerCalibration}, {@code actindex calibrate-planner}) or else measures them once per JVM with
+ * short loops (about 0.2 s) the first time a searcher is built; every tables payload stores the
+ * costs it was built with, and a loaded searcher plans with the calibrated costs if the machine has
+ * them, else with those.
  */
 record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, double probeSparse, double candidate,
     double walk, double partitionCode, double candidateFar) {
@@ -64,8 +68,10 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
 
   private static volatile PlannerCosts measured;
 
-  /** This machine's costs, measured on first use (see the class comment). */
+  /** This machine's costs: calibrated, else measured on first use (see the class comment). */
   static PlannerCosts machine() {
+    Optional<PlannerCosts> calibrated = PlannerCalibration.current();
+    if (calibrated.isPresent()) return calibrated.get();
     PlannerCosts c = measured;
     if (c == null) {
       synchronized (PlannerCosts.class) {
@@ -77,10 +83,13 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
   }
 
   /**
-   * Times the loops the planner chooses between, each the best of a few runs after a warm-up. The
-   * scan is timed through the scalar loops whatever {@link Loops#CHOSEN} is: a few runs do not
-   * get the vector loops compiled (cold, they took 3-10x longer), and costs stored in a payload
-   * should not depend on a JVM option.
+   * Times the loops the planner chooses between: each is warmed up until compiled, then the loops
+   * are timed in turn, round after round, and each keeps its best round. Timed in turn, a burst of
+   * load from elsewhere slows every loop alike instead of one of them (timed one after the other,
+   * builds on this shared machine stored dense probes from 2.8 to 38 ns beside the same scan cost),
+   * and only the costs' ratios matter. The scan is timed through the scalar loops whatever {@link
+   * Loops#CHOSEN} is: a few runs do not get the vector loops compiled (cold, they took 3-10x
+   * longer), and costs stored in a payload should not depend on a JVM option.
    */
   static PlannerCosts measure() {
     int n = 1 << 18; // 8 MiB of 4-word codes: larger than the caches close to the core
@@ -97,46 +106,63 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
     for (int i = 0; i < offsets.length; i++) offsets[i] = rnd.nextInt(n);
     int[] sortedKeys = new int[1 << 16];
     for (int i = 0; i < sortedKeys.length; i++) sortedKeys[i] = i * 7;
-    double scan4 = best(() -> {
-      TopK top = new TopK(10);
-      ScanKernel.knn(Loops.SCALAR, ScanKernel.Words.of(q, null, 4), words, 4, 0, n, null, null, top, Integer.MAX_VALUE);
-      return top.bound();
-    }) / n;
-    double scan1 = best(() -> {
-      TopK top = new TopK(10);
-      ScanKernel.knn(Loops.SCALAR, ScanKernel.Words.of(q, null, 1), words, 1, 0, n, null, null, top, Integer.MAX_VALUE);
-      return top.bound();
-    }) / n;
-    double candidate = best(() -> {
-      int s = 0;
-      for (int ord : randomOrds) s += io.actindex.core.Hamming.distanceBounded(q, 0, words, ord * 4, 4, 256);
-      return s;
-    }) / randomOrds.length;
-    double dense = best(() -> {
-      int s = 0;
-      for (int ord : randomOrds) s += offsets[ord << 2] - offsets[(ord << 2) + 1];
-      return s;
-    }) / randomOrds.length;
-    double sparseProbe = best(() -> {
-      int s = 0;
-      for (int ord : randomOrds) s += java.util.Arrays.binarySearch(sortedKeys, ord);
-      return s;
-    }) / randomOrds.length + dense;
-    double far = farCandidate(q);
-    // the walk is timed only after a hundred runs: a few runs time it before it is compiled (seen:
+    long[] far = farBlock();
+    int[] farOrds = new int[1 << 14];
+    for (int i = 0; i < farOrds.length; i++) farOrds[i] = far == null ? 0 : rnd.nextInt(far.length / 4);
+    Loop[] loops = {
+      () -> { // 0: a scan of 4-word codes
+        TopK top = new TopK(10);
+        ScanKernel.knn(Loops.SCALAR, ScanKernel.Words.of(q, null, 4), words, 4, 0, n, null, null, top, Integer.MAX_VALUE);
+        return top.bound();
+      },
+      () -> { // 1: of 1-word codes
+        TopK top = new TopK(10);
+        ScanKernel.knn(Loops.SCALAR, ScanKernel.Words.of(q, null, 1), words, 1, 0, n, null, null, top, Integer.MAX_VALUE);
+        return top.bound();
+      },
+      () -> { // 2: candidates verified by random access
+        int s = 0;
+        for (int ord : randomOrds) s += io.actindex.core.Hamming.distanceBounded(q, 0, words, ord * 4, 4, 256);
+        return s;
+      },
+      () -> { // 3: dense buckets
+        int s = 0;
+        for (int ord : randomOrds) s += offsets[ord << 2] - offsets[(ord << 2) + 1];
+        return s;
+      },
+      () -> { // 4: sparse buckets, less the dense part
+        int s = 0;
+        for (int ord : randomOrds) s += java.util.Arrays.binarySearch(sortedKeys, ord);
+        return s;
+      },
+      () -> { // 5: a walked filter of 1%
+        TopK top = new TopK(10);
+        ScanKernel.knnMembers(q, null, words, 4, onePercent, top, Integer.MAX_VALUE);
+        return top.bound();
+      },
+      () -> { // 6: candidates far beyond the caches
+        int s = 0;
+        if (far != null) for (int ord : farOrds) s += io.actindex.core.Hamming.distanceBounded(q, 0, far, ord * 4, 4, 256);
+        return s;
+      }
+    };
+    // the walk warms up a hundred runs: after a few it was timed before it was compiled (seen:
     // 160-210 ns per member, against about 20 compiled), which kept filters of 1% from being walked
-    double walk = best(() -> {
-      TopK top = new TopK(10);
-      ScanKernel.knnMembers(q, null, words, 4, onePercent, top, Integer.MAX_VALUE);
-      return top.bound();
-    }, 100) / onePercent.count();
+    int[] warmUps = {5, 5, 5, 5, 5, 100, 5};
+    double[] t = best(loops, warmUps, ROUNDS);
+    double scan4 = t[0] / n, scan1 = t[1] / n, candidate = t[2] / randomOrds.length, dense = t[3] / randomOrds.length;
+    double sparseProbe = t[4] / randomOrds.length + dense, walk = t[5] / onePercent.count();
+    double farCost = far == null ? Double.NaN : t[6] / farOrds.length;
     double[] split = splitScan(scan1, scan4);
     double perCode = split[0], perWord = split[1];
     // a partition window is a short scan that starts with two binary searches: a scanned code plus
     // a share of the window's start (windows hold tens to thousands of codes)
     return new PlannerCosts(perCode, perWord, Math.max(0.5, dense), Math.max(1, sparseProbe), Math.max(1, candidate),
-        Math.max(0.5, walk), 1.3 * scan4, Double.isNaN(far) ? Math.max(1, candidate) : Math.max(1, far));
+        Math.max(0.5, walk), 1.3 * scan4, Double.isNaN(farCost) ? Math.max(1, candidate) : Math.max(1, farCost));
   }
+
+  /** Rounds of {@link #measure()}: each loop keeps its best. */
+  private static final int ROUNDS = 7;
 
   /** Bounds of the per-word share of a 4-word code's scan cost (the defaults give 0.19). */
   static final double MIN_WORD_SHARE = 0.1, MAX_WORD_SHARE = 0.22;
@@ -153,22 +179,14 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
   }
 
   /**
-   * A candidate verified at a random place of a {@link #FAR_BYTES} block of 4-word codes; NaN (the
-   * caller takes the near cost) in a heap of less than 8 times that, which holds no block that large.
+   * A block of {@link #FAR_BYTES} of 4-word codes for the far candidate; null (the caller takes the
+   * near cost) in a heap of less than 8 times that, which holds no block that large.
    */
-  private static double farCandidate(long[] q) {
-    if (Runtime.getRuntime().maxMemory() < 8 * FAR_BYTES) return Double.NaN;
+  private static long[] farBlock() {
+    if (Runtime.getRuntime().maxMemory() < 8 * FAR_BYTES) return null;
     long[] far = new long[(int) (FAR_BYTES / 8)];
     for (int i = 0; i < far.length; i += 512) far[i] = i; // touch every page (zeroed memory may not be mapped yet)
-    SplittableRandom rnd = new SplittableRandom(7);
-    int codes = far.length / 4;
-    int[] ords = new int[1 << 14];
-    for (int i = 0; i < ords.length; i++) ords[i] = rnd.nextInt(codes);
-    return best(() -> {
-      int s = 0;
-      for (int ord : ords) s += io.actindex.core.Hamming.distanceBounded(q, 0, far, ord * 4, 4, 256);
-      return s;
-    }) / ords.length;
+    return far;
   }
 
   private interface Loop {
@@ -177,18 +195,18 @@ record PlannerCosts(double scanPerCode, double scanPerWord, double probeDense, d
 
   private static long sink;
 
-  private static double best(Loop loop) {
-    return best(loop, 5);
-  }
-
-  private static double best(Loop loop, int warmUps) {
-    for (int i = 0; i < warmUps; i++) sink += loop.run(); // warm-up: compiled before it is timed
-    long best = Long.MAX_VALUE;
-    for (int i = 0; i < 5; i++) {
-      long t0 = System.nanoTime();
-      sink += loop.run();
-      best = Math.min(best, System.nanoTime() - t0);
-    }
+  /** Each loop's best time in ns over {@code rounds} rounds that run every loop once, after its warm-ups. */
+  private static double[] best(Loop[] loops, int[] warmUps, int rounds) {
+    double[] best = new double[loops.length];
+    java.util.Arrays.fill(best, Double.MAX_VALUE);
+    for (int i = 0; i < loops.length; i++)
+      for (int j = 0; j < warmUps[i]; j++) sink += loops[i].run(); // compiled before it is timed
+    for (int r = 0; r < rounds; r++)
+      for (int i = 0; i < loops.length; i++) {
+        long t0 = System.nanoTime();
+        sink += loops[i].run();
+        best[i] = Math.min(best[i], System.nanoTime() - t0);
+      }
     return best;
   }
 }

@@ -36,7 +36,8 @@ import java.util.stream.IntStream;
  *   sparse only: int distinct, int[distinct] keys XOR 0x80000000, strictly ascending
  *   int[buckets + 1] offsets (0, non-decreasing, n last; buckets = 2^width or distinct)
  *   int[n] ids (each ordinal once, grouped by key)
- * double[8] planner costs in ns, measured at build ({@link PlannerCosts}: scan per code, scan per
+ * double[8] planner costs in ns, measured at build ({@link PlannerCosts}; on load a machine's
+ *        {@link PlannerCalibration} takes their place: scan per code, scan per
  *        word, dense probe, sparse probe, candidate, walked filter member, partition code, candidate
  *        in a block far beyond the caches; version 2 has the first 7)
  * byte   partition: 0 none, 1 follows
@@ -256,6 +257,7 @@ public final class Searchers {
       } catch (IllegalArgumentException e) {
         throw bad(e.getMessage());
       }
+      cost = PlannerCalibration.current().orElse(cost); // the machine's calibration, if any, over the builder's
       int kind = in.readUnsignedByte();
       if (kind == 1) partition = readPartition(in, codes, version >= 3, verifyKeys);
       else if (kind != 0) throw bad("partition kind " + kind + " is unknown");

@@ -42,9 +42,11 @@ public final class IndexReader implements AutoCloseable {
   private final MetaStore meta;
   private final int liveCount;
   private final IdSet live; // over [0, maxId); null when nothing is deleted
+  private final int words; // per code
   private final Segment[] bySize; // largest first: the search order that shares the k-th distance
   private final JointSearch joint; // k-NN over the segments in that order
   private final Map<Segment, IdSet> liveOrdinals; // per segment, counted once; empty when nothing is deleted
+  private final java.util.function.IntFunction<java.util.function.IntPredicate> liveOf; // block b (bySize) -> its live ordinals
   private final List<Magnitudes> magnitudes; // per segment, null entries where none are kept
 
   private IndexReader(Path dir, Manifest manifest, List<Segment> segments, RoaringBitmap deleted,
@@ -59,6 +61,7 @@ public final class IndexReader implements AutoCloseable {
     this.attachments = attachments;
     this.meta = meta;
     this.liveCount = manifest.nextId() - deleted.getCardinality();
+    this.words = manifest.layout().words();
     this.live = deleted.isEmpty() ? null : toIdSet(deleted, manifest.nextId(), true);
     this.bySize = this.segments.toArray(new Segment[0]);
     Arrays.sort(bySize, (a, b) -> Integer.compare(b.size(), a.size()));
@@ -70,6 +73,7 @@ public final class IndexReader implements AutoCloseable {
     }
     this.joint = new JointSearch(manifest.layout(), searchers, idOf);
     this.liveOrdinals = new java.util.IdentityHashMap<>();
+    this.liveOf = b -> liveOrdinals.get(bySize[b]);
     if (live != null)
       for (Segment s : this.segments) {
         IdSet o = ordinals(s, live);
@@ -300,7 +304,7 @@ public final class IndexReader implements AutoCloseable {
     checkQuery(query, mask);
     IdSet accept = accepted(filter);
     if (k <= 0 || accept != null && accept.isEmpty()) return Hits.EMPTY;
-    return joint.knn(query, k, accept, b -> filter == null ? liveOrdinals.get(bySize[b]) : ordinals(bySize[b], accept), mask);
+    return joint.knn(query, k, accept, filter == null ? liveOf : b -> ordinals(bySize[b], accept), mask);
   }
 
   /** Every live code in {@code filter} (null: all) at distance {@code <= radius}, sorted by (distance, id). */
@@ -348,7 +352,7 @@ public final class IndexReader implements AutoCloseable {
   }
 
   private void checkQuery(long[] query, long[] mask) {
-    int w = manifest.layout().words();
+    int w = words;
     if (query.length != w)
       throw new IllegalArgumentException("query has " + query.length + " words, the index's codes have " + w);
     if (mask != null && mask.length != w)

@@ -1,0 +1,97 @@
+package io.actindex.bench;
+
+import io.actindex.core.CodeBlock;
+import io.actindex.core.Hits;
+import io.actindex.index.store.IndexReader;
+import io.actindex.index.store.IndexWriter;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.lang.management.ManagementFactory;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.Arrays;
+import java.util.Locale;
+import java.util.Map;
+
+/**
+ * Many segments against one, paired per query (issue 9: "ten segments at most 1.3x the clean single
+ * segment"): the same 1M codes as one segment, as ten segments of 100k kept apart (the stores {@link
+ * RealUseBench} caches) and as ten adds of 100k under the default merge policy (what a user who adds
+ * ten batches gets; built here once and cached). Each query runs through the three indexes in turn,
+ * rotating which goes first, {@code rounds} times after a round that checks they answer alike; a
+ * query's time is its best round. Ratios: summed per-query times, and the median of the per-query
+ * ratios, over the single segment's, all measured in the same minutes.
+ *
+ * <p>Run: {@code java -Xmx8g -cp bench/target/benchmarks.jar -Dactindex.bench.data=DIR
+ * io.actindex.bench.SegmentsPaired [data=relu,dense] [queries=in,ood] [rounds=5] [count=512] [k=10]}.
+ */
+public final class SegmentsPaired {
+  private SegmentsPaired() {}
+
+  public static void main(String[] args) {
+    String[] data = WorstCaseSweep.arg(args, "data", "relu,dense").split(","), kinds = WorstCaseSweep.arg(args, "queries", "in,ood").split(",");
+    int n = 1_000_000, bits = 256, rounds = Integer.parseInt(WorstCaseSweep.arg(args, "rounds", "5")),
+        count = Integer.parseInt(WorstCaseSweep.arg(args, "count", "512")), k = Integer.parseInt(WorstCaseSweep.arg(args, "k", "10"));
+    System.out.println("| data | queries | one segment µs | ten kept apart µs | / one (sum, median per query) | ten adds, default policy µs | segments | / one (sum, median per query) | load |");
+    System.out.println("|---|---|---:|---:|---:|---:|---:|---:|---:|");
+    for (String d : data) {
+      CodeBlock codes = BenchData.codes(d, n, bits);
+      IndexReader[] r = {IndexReader.open(RealUseBench.store(d, codes, 1, null)), IndexReader.open(RealUseBench.store(d, codes, 10, null)),
+        IndexReader.open(defaultPolicy(d, codes, 10))};
+      try {
+        for (String kind : kinds) {
+          long[][] qs = Arrays.copyOf(BenchData.queries(d, kind, n, bits).codeArrays(), count);
+          double[][] best = new double[r.length][qs.length];
+          for (double[] b : best) Arrays.fill(b, Double.MAX_VALUE);
+          for (int round = 0; round <= rounds; round++)
+            for (int i = 0; i < qs.length; i++)
+              for (int j = 0; j < r.length; j++) {
+                int p = (j + round + i) % r.length;
+                long t0 = System.nanoTime();
+                Hits h = r[p].search(qs[i], k, null, null);
+                double us = (System.nanoTime() - t0) / 1e3;
+                if (round > 0) best[p][i] = Math.min(best[p][i], us);
+                else if (p > 0 && !h.equals(r[0].search(qs[i], k, null, null)))
+                  throw new AssertionError(d + " " + kind + " query " + i + ": index " + p + " answers differently");
+              }
+          double one = sum(best[0]);
+          System.out.printf(Locale.ROOT, "| %s | %s | %.1f | %.1f | %.2f×, %.2f× | %.1f | %d | %.2f×, %.2f× | %.1f |%n", d, kind, one / qs.length,
+              sum(best[1]) / qs.length, sum(best[1]) / one, medianRatio(best[1], best[0]), sum(best[2]) / qs.length,
+              r[2].info().segments().size(), sum(best[2]) / one, medianRatio(best[2], best[0]),
+              ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage());
+        }
+      } finally {
+        for (IndexReader x : r) x.close();
+      }
+    }
+  }
+
+  /** The codes added in {@code batches} batches under the default merge policy (cached in the bench data folder). */
+  static synchronized Path defaultPolicy(String data, CodeBlock codes, int batches) {
+    String name = "default-policy-" + data + "-n" + codes.size() + "-b" + codes.layout().bits() + "-a" + batches;
+    Path dir = BenchData.dir().resolve(name), done = dir.resolveSibling(name + ".done");
+    if (Files.exists(done)) return dir;
+    try {
+      RealUseBench.delete(dir);
+      int n = codes.size();
+      try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
+        for (int b = 0; b < batches; b++) w.add(codes.slice((int) ((long) b * n / batches), (int) ((long) (b + 1) * n / batches)), null);
+      }
+      Files.writeString(done, "");
+      return dir;
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
+  }
+
+  private static double medianRatio(double[] a, double[] b) {
+    double[] r = new double[a.length];
+    for (int i = 0; i < a.length; i++) r[i] = a[i] / b[i];
+    Arrays.sort(r);
+    return r[r.length / 2];
+  }
+
+  private static double sum(double[] a) {
+    return Arrays.stream(a).sum();
+  }
+}
