@@ -28,7 +28,7 @@ import org.junit.jupiter.api.Test;
  * shared mutable state (per-thread scratch, the partition's cover radii) would answer wrongly or
  * throw here.
  */
-class ConcurrentSearchTest {
+class SharedPartitionThreadsTest {
 
   private record Task(long[] q, long[] mask, int k, IdSet accept, Hits expected, String what) {}
 
