@@ -91,6 +91,8 @@ public final class PlannerCalibration {
     Path tmp = Files.createTempFile(abs.getParent(), abs.getFileName().toString(), ".tmp");
     try {
       Files.writeString(tmp, s, StandardCharsets.UTF_8);
+      if (Files.getFileStore(tmp).supportsFileAttributeView("posix")) // a temporary file is the owner's alone; the costs are not secret
+        Files.setPosixFilePermissions(tmp, java.nio.file.attribute.PosixFilePermissions.fromString("rw-r--r--"));
       try {
         Files.move(tmp, abs, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
       } catch (AtomicMoveNotSupportedException e) {
