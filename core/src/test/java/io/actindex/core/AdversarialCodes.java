@@ -181,6 +181,36 @@ public final class AdversarialCodes {
     };
   }
 
+  /**
+   * One query under one mask and one filter; {@link #unchanged} tells whether a search changed the
+   * caller's query or mask (it must not).
+   */
+  public record Case(long[] query, String maskKind, long[] mask, String filterKind, java.util.function.IntPredicate accept,
+      long[] queryBefore, long[] maskBefore) {
+    public boolean unchanged() {
+      return java.util.Arrays.equals(query, queryBefore) && java.util.Arrays.equals(mask, maskBefore);
+    }
+
+    @Override
+    public String toString() {
+      return "mask=" + maskKind + " filter=" + filterKind;
+    }
+  }
+
+  /** For each of {@code queries} queries of {@link #query}, one case per mask kind, each with a filter of a random kind. */
+  public static List<Case> cases(CodeBlock codes, int queries, SplittableRandom rnd) {
+    List<Case> out = new ArrayList<>();
+    for (int qi = 0; qi < queries; qi++) {
+      long[] q = query(codes, rnd);
+      for (String maskKind : MASKS) {
+        long[] mask = mask(maskKind, codes.layout(), rnd);
+        String filterKind = FILTERS[rnd.nextInt(FILTERS.length)];
+        out.add(new Case(q, maskKind, mask, filterKind, filter(filterKind, codes.size(), rnd), q.clone(), mask == null ? null : mask.clone()));
+      }
+    }
+    return out;
+  }
+
   /** k values that stress the edges for {@code n} codes. */
   public static int[] ks(int n, SplittableRandom rnd) {
     return new int[] {-3, 0, 1, 2, Math.max(1, n - 1), Math.max(1, n), n + 1, 1 + rnd.nextInt(Math.max(1, n) + 10), Integer.MAX_VALUE};
