@@ -47,8 +47,8 @@ class AdversarialIndexTest {
   @Tag("slow")
   void largerSegmentsEqualReference() {
     int rep = 3000;
-    for (int bits : new int[] {64, 127, 257, 1000})
-      for (String family : new String[] {"uniform", "fewDistinct", "halfConstant", "oneCluster"}) run(rep++, bits, family, 9000);
+    for (int bits : new int[] {127, 1000})
+      for (String family : new String[] {"fewDistinct", "halfConstant", "oneCluster"}) run(rep++, bits, family, 9000);
   }
 
   private void run(int rep, int bits, String family, int large) {
