@@ -92,12 +92,24 @@ public final class ClusterDupes {
     }
   }
 
+  /**
+   * Most bucket keys a forced table count may send each code to: beyond it the shuffle holds n
+   * times that many entries, which no cluster finishes (two tables over 256 bits at radius 6: 2 x
+   * C(128, <= 3), about 700,000 keys per code). Before this limit such a run probed for ever.
+   */
+  static final double MAX_KEYS_PER_CODE = 1e6;
+
   /** Checks everything that can be checked without a pass over the data; the input, opened. */
   static CodeInput prepare(SparkSession spark, Params p) throws IOException {
     CodeInput in = CodeInput.open(spark, p.input(), p.layout(), p.columns());
     int bits = in.layout().bits();
     if (p.radius() > bits) throw new BadInputException("--radius " + p.radius() + " is larger than the code length (" + bits + " bits)");
     if (p.tables() > bits) throw new BadInputException("--tables " + p.tables() + " is more than the code's " + bits + " bits");
+    if (p.tables() > 0 && SubstringPlan.keysPerCode(bits, p.radius(), p.tables()) > MAX_KEYS_PER_CODE)
+      throw new BadInputException("--tables " + p.tables() + " with --radius " + p.radius() + " sends every code to "
+          + String.format(java.util.Locale.ROOT, "%.3g", SubstringPlan.keysPerCode(bits, p.radius(), p.tables()))
+          + " buckets (substring radius " + p.radius() / p.tables() + "), more than " + MAX_KEYS_PER_CODE
+          + ": the join would not finish; give more tables (at most " + bits + ") or leave --tables out");
     if (p.out() != null) {
       Path out = new Path(p.out());
       FileSystem fs = out.getFileSystem(spark.sparkContext().hadoopConfiguration());

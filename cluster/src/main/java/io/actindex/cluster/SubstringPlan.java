@@ -174,6 +174,22 @@ public final class SubstringPlan implements Serializable {
     void probe(long[] key, int flips);
   }
 
+  /**
+   * {@link #keysPerCode()} of any plan of {@code m} tables over {@code bits} bits for {@code radius}
+   * (every plan here deals the bits evenly: {@code bits % m} tables one bit wider than the others),
+   * known before a sample is read.
+   */
+  static double keysPerCode(int bits, int radius, int m) {
+    int narrow = bits / m, wide = bits % m, rho = radius / m;
+    return wide * keys(narrow + 1, rho) + (m - wide) * keys(narrow, rho);
+  }
+
+  private static double keys(int width, int rho) {
+    double s = 0;
+    for (int r = 0; r <= Math.min(rho, width); r++) s += binomial(width, r);
+    return s;
+  }
+
   /** Keys emitted per code: {@code sum_t sum_{r <= rho} C(width_t, r)}. */
   public double keysPerCode() {
     double s = 0;

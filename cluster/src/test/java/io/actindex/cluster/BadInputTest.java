@@ -112,6 +112,9 @@ class BadInputTest {
         "--radius", "-1");
     assertRefused(run("dupes", "--input", dir.toString(), "--layout", "c:64", "--radius", "2", "--tables", "65", "--out",
         tmp.resolve("o").toString()), "--tables 65");
+    // one table at radius 40: every code would be probed at sum_{r <= 40} C(64, r) (about 1.8e19) keys
+    assertRefused(run("dupes", "--input", dir.toString(), "--layout", "c:64", "--radius", "40", "--tables", "1", "--out",
+        tmp.resolve("o").toString()), "--tables 1 with --radius 40", "would not finish");
     assertThat(jobs.get()).isZero();
   }
 

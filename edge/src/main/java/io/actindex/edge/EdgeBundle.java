@@ -122,6 +122,7 @@ public final class EdgeBundle {
   private final List<String> layerNames;
   private final int[] layerBits;
   private final int bits, words, n;
+  private final long ghost; // the bits of a code's last word past its width
   private final long[] codes;
   private final int[] counts;
   private final long examples;
@@ -150,7 +151,7 @@ public final class EdgeBundle {
     words = (bits + 63) >>> 6;
     n = counts.length;
     if ((long) n * words != codes.length) throw new IllegalArgumentException(n + " codes need " + (long) n * words + " words, got " + codes.length);
-    long ghost = (bits & 63) == 0 ? 0 : -1L << (bits & 63);
+    ghost = (bits & 63) == 0 ? 0 : -1L << (bits & 63);
     long sum = 0;
     for (int i = 0; i < n; i++) {
       if (counts[i] < 1) throw new IllegalArgumentException("count of code " + i + " is " + counts[i]);
@@ -259,7 +260,7 @@ public final class EdgeBundle {
    * mask} (null = all): one pass over the unique codes, a histogram of distances weighted by counts.
    */
   public Score score(long[] code, int k, long[] mask, Statistic statistic) {
-    checkCode(code);
+    code = checkCode(code);
     if (k < 1 || k > examples) throw new IllegalArgumentException("k " + k + " is outside 1.." + examples);
     long[] hist = new long[bits + 1];
     if (mask == null && words == 4) { // 256-bit codes: the query stays in registers
@@ -295,7 +296,7 @@ public final class EdgeBundle {
    */
   public boolean isOut(long[] code) {
     Calibration c = requireCalibration();
-    checkCode(code);
+    code = checkCode(code);
     double t = c.threshold();
     if (t < 0) return true;
     int r = (int) Math.min(Math.floor(t), bits);
@@ -389,8 +390,16 @@ public final class EdgeBundle {
     return d;
   }
 
-  private void checkCode(long[] code) {
+  /**
+   * The code, checked for its length, with any bits of its last word past the code width cleared
+   * (a copy then): they are no positions of the code and never count, as in the index's searchers.
+   */
+  private long[] checkCode(long[] code) {
     if (code.length != words) throw new IllegalArgumentException("code has " + code.length + " words, the bundle's codes have " + words);
+    if ((code[words - 1] & ghost) == 0) return code;
+    long[] clean = code.clone();
+    clean[words - 1] &= ~ghost;
+    return clean;
   }
 
   private Calibration requireCalibration() {

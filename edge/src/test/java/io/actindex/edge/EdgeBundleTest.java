@@ -88,6 +88,50 @@ class EdgeBundleTest {
     }
   }
 
+  /**
+   * A caller's code whose words carry bits past the code width (a reused buffer, a packer that
+   * leaves its padding dirty): they are no positions of the code, so they never count, as in the
+   * index's searchers (Hamming distance over the code's own positions: R. W. Hamming, Bell System
+   * Technical Journal, 1950). Checked against the distances counted bit by bit over the width.
+   */
+  @Test
+  void bitsPastTheWidthNeverCount() {
+    for (int rep = 0; rep < 12; rep++) {
+      long seed = 5000 + rep;
+      int bits = new int[] {36, 100, 70}[rep % 3];
+      EdgeBundle.Statistic st = rep % 2 == 0 ? EdgeBundle.Statistic.KTH : EdgeBundle.Statistic.MEAN;
+      SplittableRandom rnd = new SplittableRandom(seed);
+      EdgeBundle b = random(seed, 40, bits, st, rnd.nextInt(bits / 2) + 0.5, false);
+      long[] mask = b.calibration().layers().isEmpty() ? null : b.mask(b.calibration().layers());
+      long ghost = -1L << (bits & 63);
+      for (int qi = 0; qi < 20; qi++) {
+        long[] q = b.code(rnd.nextInt(b.uniqueCodes()));
+        for (int f = 0; f < rnd.nextInt(bits / 3); f++) {
+          int bit = rnd.nextInt(bits);
+          q[bit >>> 6] ^= 1L << (bit & 63);
+        }
+        long[] dirty = q.clone();
+        dirty[dirty.length - 1] |= (qi % 2 == 0 ? -1L : rnd.nextLong()) & ghost;
+        long[] before = dirty.clone();
+        List<Integer> d = new ArrayList<>();
+        for (int i = 0; i < b.uniqueCodes(); i++) {
+          long[] c = b.code(i);
+          int dist = 0;
+          for (int bit = 0; bit < bits; bit++)
+            if ((mask == null || (mask[bit >>> 6] >>> (bit & 63) & 1) != 0) && ((q[bit >>> 6] ^ c[bit >>> 6]) >>> (bit & 63) & 1) != 0) dist++;
+          for (int c2 = 0; c2 < b.count(i); c2++) d.add(dist);
+        }
+        d.sort(null);
+        String what = "seed " + seed + " bits " + bits + " query " + qi;
+        EdgeBundle.Score s = b.score(dirty);
+        assertThat(s.kth()).as(what).isEqualTo(d.get(2));
+        assertThat(s.mean()).as(what).isEqualTo((d.get(0) + d.get(1) + d.get(2)) / 3.0);
+        assertThat(b.isOut(dirty)).as(what + " decision only").isEqualTo(b.isOut(q));
+        assertThat(dirty).as(what + ": the caller's code is left as it was").isEqualTo(before);
+      }
+    }
+  }
+
   @Test
   void formatRoundTripsAndRefusesDamage() throws Exception {
     EdgeBundle b = random(7, 30, 70, EdgeBundle.Statistic.MEAN, 5, true);

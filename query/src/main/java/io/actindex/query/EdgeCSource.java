@@ -46,6 +46,9 @@ public final class EdgeCSource {
     s.append(" * ").append(OodCalibration.CAUTION.replace("*/", "* /")).append("\n */\n");
     s.append("#ifndef ACTINDEX_EDGE_H\n#define ACTINDEX_EDGE_H\n\n#include <stdint.h>\n\n");
     s.append("#define AXE_BITS ").append(b.bits()).append("\n#define AXE_WORDS ").append(b.words()).append('\n');
+    long last = (b.bits() & 63) == 0 ? -1L : -1L >>> (64 - (b.bits() & 63));
+    s.append("#define AXE_LAST_WORD_BITS 0x").append(Long.toHexString(last))
+        .append("ULL /* the bits of a code's last word inside AXE_BITS: the others never count */\n");
     s.append("#define AXE_UNIQUE ").append(b.uniqueCodes()).append("\n#define AXE_EXAMPLES ").append(b.examples()).append("ULL\n");
     s.append("#define AXE_K ").append(cal.k()).append("\n#define AXE_STAT_MEAN ").append(cal.statistic() == EdgeBundle.Statistic.MEAN ? 1 : 0)
         .append(" /* 1: the score is the mean of the k nearest distances; 0: the k-th nearest distance */\n");
@@ -95,7 +98,8 @@ public final class EdgeCSource {
         #if AXE_MASKED
           for (int w = 0; w < AXE_WORDS; w++) d += AXE_POPCOUNT((q[w] ^ c[w]) & axe_mask[w]);
         #else
-          for (int w = 0; w < AXE_WORDS; w++) d += AXE_POPCOUNT(q[w] ^ c[w]);
+          for (int w = 0; w < AXE_WORDS - 1; w++) d += AXE_POPCOUNT(q[w] ^ c[w]);
+          d += AXE_POPCOUNT((q[AXE_WORDS - 1] ^ c[AXE_WORDS - 1]) & AXE_LAST_WORD_BITS);
         #endif
           return d;
         }

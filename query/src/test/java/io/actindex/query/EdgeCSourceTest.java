@@ -16,7 +16,8 @@ import org.junit.jupiter.api.io.TempDir;
 /**
  * The generated C99 source, compiled by the system's gcc (-std=c99 -Wall -Wextra -Werror), answers
  * exactly as the index does on random (70-bit, two words, a layer subset) and ReLU-like (72-bit)
- * codes: k-th distance, score, decision and p-value. The model part is checked on the digits set
+ * codes: k-th distance, score, decision and p-value, also for a code whose bits past the width
+ * are set (they never count). The model part is checked on the digits set
  * in {@link DigitsOodTest}.
  */
 class EdgeCSourceTest {
@@ -42,20 +43,29 @@ class EdgeCSourceTest {
       }
       Path exe = CEdge.compile(c);
       CodeBlock q = d.queries();
+      // each query twice: as it is, and with the bits of its last word past the code width set (a
+      // caller's dirty padding), which must not count
+      long ghost = -1L << (q.layout().bits() & 63);
       List<String> lines = new ArrayList<>();
-      for (int i = 0; i < q.size(); i++) lines.add(CEdge.codeLine(q.code(i)));
-      List<String> out = CEdge.run(exe, lines);
-      assertThat(out).hasSize(q.size());
-      total += q.size();
       for (int i = 0; i < q.size(); i++) {
-        String[] f = out.get(i).split(" ");
+        long[] code = q.code(i);
+        lines.add(CEdge.codeLine(code));
+        code[code.length - 1] |= ghost;
+        lines.add(CEdge.codeLine(code));
+      }
+      List<String> out = CEdge.run(exe, lines);
+      assertThat(out).hasSize(2 * q.size());
+      total += q.size();
+      for (int line = 0; line < out.size(); line++) {
+        int i = line / 2;
+        String[] f = out.get(line).split(" ");
         OodScore.Result res = o.results().get(i);
-        String what = Randoms.describe(seed) + " query " + i;
+        String what = Randoms.describe(seed) + " query " + i + (line % 2 == 1 ? " with the bits past the width set" : "");
         assertThat(Integer.parseInt(f[0])).as(what).isEqualTo(res.kth());
         assertThat(Double.parseDouble(f[1])).as(what).isEqualTo(res.score());
         assertThat(f[2]).as(what).isEqualTo(res.out() ? "1" : "0");
         assertThat(Double.parseDouble(f[3])).as(what).isEqualTo(res.pValue());
-        if (res.out()) outs++;
+        if (res.out() && line % 2 == 0) outs++;
       }
     }
     // both decisions reach the C scorer (over both data sets: uniform codes score in few discrete

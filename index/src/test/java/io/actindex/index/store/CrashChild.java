@@ -12,8 +12,12 @@ import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Child process of {@link CrashTest}: opens the index given as first argument and
- * changes it until killed. Before each change it prints {@code BEGIN add N}, {@code BEGIN delete
- * ID,ID,...} or {@code BEGIN compact}; after the change returned (committed) it prints {@code DONE}.
+ * changes it until killed. Before each change it logs {@code BEGIN add N}, {@code BEGIN delete
+ * ID,ID,...} or {@code BEGIN compact}; after the change returned (committed) it logs {@code DONE}.
+ * The log is the file given as third argument, each line one unbuffered write: a killed process's
+ * completed writes are all in the file. (Read from its standard output through a pipe, the test
+ * once found the index two changes, an add and a delete, ahead of the lines it had read: most
+ * likely lines lost at the kill, since the reading thread ended quietly on an error.)
  * The code, metadata and magnitudes of id i are a function of i alone ({@link #code}, {@link #row},
  * {@link #value}); every segment keeps 8-bit magnitudes.
  */
@@ -45,6 +49,7 @@ public final class CrashChild {
   public static void main(String[] args) throws Exception {
     Path dir = Path.of(args[0]);
     SplittableRandom rnd = new SplittableRandom(Long.parseLong(args[1]));
+    log = new java.io.FileOutputStream(args[2], true);
     RoaringBitmap live;
     try (IndexReader r = IndexReader.open(dir)) {
       live = r.liveIds();
@@ -84,8 +89,9 @@ public final class CrashChild {
     }
   }
 
-  private static void say(String line) {
-    System.out.println(line);
-    System.out.flush();
+  private static java.io.FileOutputStream log;
+
+  private static void say(String line) throws java.io.IOException {
+    log.write((line + "\n").getBytes(java.nio.charset.StandardCharsets.UTF_8));
   }
 }

@@ -8,12 +8,8 @@ import static org.junit.jupiter.api.Assertions.fail;
 
 import io.actindex.core.BadInputException;
 import io.actindex.core.Randoms;
-import java.io.BufferedReader;
-import java.io.IOException;
-import java.io.InputStreamReader;
-import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
 import java.nio.file.Path;
-import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
@@ -48,23 +44,15 @@ class CrashTest {
     for (int run = 0; run < RUNS; run++) {
       String java = Path.of(System.getProperty("java.home"), "bin", "java").toString();
       // merges of 2 and a small segment cap: adds split and merge automatically, so kills land in merges too
+      Path log = tmp.resolve("child-" + run + ".log");
       Process p = new ProcessBuilder(java, "-Xmx256m", "-XX:TieredStopAtLevel=1",
           "-D" + MergePolicy.FACTOR_PROPERTY + "=2", "-D" + MergePolicy.MAX_BYTES_PROPERTY + "=4096",
           "-cp", System.getProperty("java.class.path"),
-          CrashChild.class.getName(), dir.toString(), Long.toString(rnd.nextLong()))
-          .redirectError(ProcessBuilder.Redirect.DISCARD).start();
-      List<String> lines = new ArrayList<>();
-      Thread pump = new Thread(() -> {
-        try (BufferedReader in = new BufferedReader(new InputStreamReader(p.getInputStream(), StandardCharsets.UTF_8))) {
-          for (String l; (l = in.readLine()) != null; ) synchronized (lines) { lines.add(l); }
-        } catch (IOException ignored) {
-          // the child died
-        }
-      });
-      pump.start();
+          CrashChild.class.getName(), dir.toString(), Long.toString(rnd.nextLong()), log.toString())
+          .redirectOutput(ProcessBuilder.Redirect.DISCARD).redirectError(ProcessBuilder.Redirect.DISCARD).start();
       // wait for the child's first change, then kill it after a random delay
       long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(60);
-      while (size(lines) == 0 && p.isAlive() && System.nanoTime() < deadline) Thread.sleep(5);
+      while (!(Files.exists(log) && Files.size(log) > 0) && p.isAlive() && System.nanoTime() < deadline) Thread.sleep(5);
       if (run == 0 && p.isAlive()) {
         // the child holds the lock: a writer in this process is refused
         BadInputException e = assertThrows(BadInputException.class, () -> IndexWriter.open(dir), why);
@@ -73,7 +61,7 @@ class CrashTest {
       Thread.sleep(rnd.nextInt(2000));
       p.destroyForcibly();
       assertTrue(p.waitFor(30, TimeUnit.SECONDS), "child did not die");
-      pump.join();
+      List<String> lines = Files.exists(log) ? Files.readAllLines(log) : List.of();
       String where = why + " run " + run + " lines " + tail(lines);
       if (lines.isEmpty()) fail("child made no change before the kill: " + where);
 
@@ -111,7 +99,8 @@ class CrashTest {
         boolean atNext = pending && r.maxId() == nextMax && deletedOf(r).equals(nextDel);
         assertTrue(atDone || atNext, "index at maxId " + r.maxId() + " deleted " + deletedOf(r).getCardinality()
             + ", expected maxId " + doneMax + " deleted " + doneDel.getCardinality() + (pending ? " or maxId "
-            + nextMax + " deleted " + nextDel.getCardinality() : "") + ": " + where);
+            + nextMax + " deleted " + nextDel.getCardinality() : "") + ": " + where + "; the run started at maxId " + maxId + " deleted "
+            + deleted.getCardinality() + ", generation now " + Manifest.newestGeneration(dir) + ", its child said " + lines);
         maxId = r.maxId();
         deleted = deletedOf(r);
         RoaringBitmap live = r.liveIds();
@@ -141,12 +130,6 @@ class CrashTest {
     if (r.maxId() > 0) all.add(0L, r.maxId());
     all.andNot(r.liveIds());
     return all;
-  }
-
-  private static int size(List<String> lines) {
-    synchronized (lines) {
-      return lines.size();
-    }
   }
 
   private static String tail(List<String> lines) {
