@@ -51,8 +51,7 @@ import java.util.function.IntUnaryOperator;
  * <p>Thread-safe: per-thread scratch arrays are kept in a {@link ThreadLocal}.
  */
 public final class JointSearch {
-  private final CodeLayout layout;
-  private final int words;
+  private final int words, bits; // per code (a layout sums them over its layers)
   private final long ghost; // the layout's bits past its width in the last word
   private final CodeSearcher[] blocks;
   private final IntUnaryOperator[] idOf;
@@ -76,8 +75,8 @@ public final class JointSearch {
    */
   public JointSearch(CodeLayout layout, List<CodeSearcher> blocks, List<IntUnaryOperator> idOf) {
     if (blocks.size() != idOf.size()) throw new IllegalArgumentException(blocks.size() + " blocks, " + idOf.size() + " id maps");
-    this.layout = layout;
     this.words = layout.words();
+    this.bits = layout.bits();
     this.ghost = io.actindex.core.CodeBlock.ghostMask(layout);
     this.blocks = blocks.toArray(new CodeSearcher[0]);
     this.idOf = idOf.toArray(new IntUnaryOperator[0]);
@@ -86,7 +85,7 @@ public final class JointSearch {
       int n = this.blocks[b].size();
       sameIds[b] = n == 0 || this.idOf[b].applyAsInt(0) == 0 && this.idOf[b].applyAsInt(n - 1) == n - 1;
     }
-    int nb = this.blocks.length, w = layout.words(), clusters = 0;
+    int nb = this.blocks.length, w = words, clusters = 0;
     parted = new MihSearcher[nb];
     idAt = new int[nb][];
     long codes = 0;
@@ -199,7 +198,7 @@ public final class JointSearch {
    * {@code s.walked}), and leaves in {@code s.cap} the bound every other block is searched under.
    */
   private TopK walk(long[] q, int k, IdSet accept, Scratch s) {
-    int total = blockOf.length, w = layout.words(), bits = layout.bits();
+    int total = blockOf.length, w = words;
     s.ensure(total, bits, blocks.length);
     int[] counts = s.counts, dist = s.dist, order = s.order, dq = s.dq;
     Arrays.fill(counts, 0, bits + 2, 0);
