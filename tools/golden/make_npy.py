@@ -88,6 +88,13 @@ np.savez_compressed(os.path.join(out, "layers_deflated.npz"), first=l1, second=n
 expected(l1, "layers_first")
 expected(l2, "layers_second")
 
+# One-dimensional arrays: refused by the matrix readers (one example saved without its batch axis,
+# or a flat vector), as a file and as an .npz member beside a good one.
+vec = base_values(1, 6).ravel().astype(np.float32)
+np.save(os.path.join(out, "vector_f4.npy"), vec)
+np.save(os.path.join(out, "vector_u1.npy"), (vec > 0).astype(np.uint8))
+np.savez(os.path.join(out, "vector_member.npz"), first=base_values(6, 5).astype(np.float32), flat=vec)
+
 # Codes: booleans, 0/1 uint8 and packbits (most significant bit first in each byte).
 rng = np.random.default_rng(20261202)
 bits = rng.random((9, 21)) > 0.5

@@ -83,7 +83,7 @@ final class DupesCommand implements Callable<Integer> {
     Dupes.Result joined = null;
     Dupes.AgainstResult matched = null;
     try (IndexReader reader = IndexReader.open(index.dir);
-        PairsFile file = pairs == null ? null : new PairsFile(pairs, against == null ? "id_a,id_b,distance" : "row,id,distance");
+        PairsFile file = pairs == null ? null : new PairsFile(pairs, against == null ? "id_a,id_b,distance" : "row,id,distance", against);
         Progress bar = Progress.onTerminal(spec.commandLine().getErr(), against == null ? "joining" : "matching")) {
       PairSink sink = file == null ? null : file::pair;
       if (against == null) joined = Dupes.run(reader, p, sink, bar);
@@ -118,9 +118,9 @@ final class DupesCommand implements Callable<Integer> {
     private final StringBuilder line = new StringBuilder(32);
     private boolean committed;
 
-    PairsFile(Path target, String header) {
+    PairsFile(Path target, String header, Path against) {
       this.target = target;
-      OutputFiles.checkTarget(target, "--pairs");
+      OutputFiles.checkTarget(target, "--pairs", new OutputFiles.Input("--against", against));
       Path t = null;
       try {
         t = OutputFiles.tempBeside(target);

@@ -339,8 +339,11 @@ final class OodCommand implements Callable<Integer> {
 
     @Override
     public Integer call() {
-      if (roc != null) OutputFiles.checkTarget(roc, "--roc");
-      if (html != null) OutputFiles.checkTarget(html, "--html");
+      OutputFiles.Input[] inputs = {new OutputFiles.Input("--in", in), new OutputFiles.Input("--out", outFile),
+          new OutputFiles.Input("--in-floats", inFloats), new OutputFiles.Input("--out-floats", outFloats),
+          new OutputFiles.Input("--train-floats", trainFloats)};
+      if (roc != null) OutputFiles.checkTarget(roc, "--roc", inputs);
+      if (html != null) OutputFiles.checkTarget(html, "--html", inputs);
       OodEval.Result r;
       try (IndexReader reader = IndexReader.open(index.dir)) {
         Kind k = kind != null ? kind : BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel() ? Kind.inputs : Kind.activations;

@@ -38,26 +38,73 @@ public final class OutputFiles {
     }
   }
 
+  /** A file the command reads, named by the option that gave it (e.g. {@code --compare-a}); a null file is skipped. */
+  public record Input(String option, Path file) {}
+
   /**
-   * Refuses a target that cannot take a file: its folder is missing, it is itself a folder, or it
-   * lies in an index folder or a folder inside one ({@code option} names the option in the
-   * message, e.g. {@code --html}).
+   * Refuses a target that cannot take a file: its folder is missing, it is itself a folder, it lies
+   * in an index folder or a folder inside one, or it is the same file as one of {@code inputs}
+   * ({@code option} names the option in the message, e.g. {@code --html}). Called before any work,
+   * so that a refused output leaves every file as it was.
    */
-  public static void checkTarget(Path target, String option) {
+  public static void checkTarget(Path target, String option, Input... inputs) {
     Path abs = target.toAbsolutePath();
     if (abs.getParent() == null || !Files.isDirectory(abs.getParent()))
       throw new BadInputException(target + ": its folder does not exist (" + option + ")");
     if (Files.isDirectory(abs)) throw new BadInputException(target + ": is a folder; " + option + " names a file");
     checkOutsideIndex(target, option);
+    checkNotInput(target, option, inputs);
   }
 
-  /** Refuses a target in an index folder or a folder inside one (meta/): only the index's writers touch those. */
+  /**
+   * Refuses a target that is the same file as one of {@code inputs}: writing it would replace a
+   * file the command reads. Same file: {@link Files#isSameFile} when both exist (symbolic and hard
+   * links), else equal normalized absolute paths ({@code ./x} and {@code x}).
+   */
+  public static void checkNotInput(Path target, String option, Input... inputs) {
+    for (Input in : inputs)
+      if (in != null && in.file() != null && sameFile(target, in.file()))
+        throw new BadInputException(target + ": " + option + " is the same file as the input " + in.option() + " (" + in.file()
+            + "); writing it would replace that input, so nothing was written: give " + option + " another file");
+  }
+
+  /** Whether {@code a} and {@code b} name one file (see {@link #checkNotInput}). */
+  static boolean sameFile(Path a, Path b) {
+    if (Files.exists(a) && Files.exists(b)) {
+      try {
+        return Files.isSameFile(a, b);
+      } catch (IOException | SecurityException e) {
+        // cannot tell from the file system: fall back to the names
+      }
+    }
+    return a.toAbsolutePath().normalize().equals(b.toAbsolutePath().normalize());
+  }
+
+  /** Refuses a target in an index folder or any folder inside one (meta/): only the index's writers touch those. */
   public static void checkOutsideIndex(Path target, String option) {
-    Path dir = target.toAbsolutePath().normalize().getParent();
-    for (Path d : new Path[] {dir, dir == null ? null : dir.getParent()})
-      if (d != null && holdsIndex(d))
-        throw new BadInputException(target + ": " + d + " is an index folder, whose files only actindex's writers touch; write "
-            + option + " elsewhere");
+    Path d = indexAbove(target);
+    if (d != null)
+      throw new BadInputException(target + ": " + d + " is an index folder, whose files only actindex's writers touch; write "
+          + option + " elsewhere");
+  }
+
+  /**
+   * Refuses a new index folder {@code dir} inside an existing index folder (at any depth): the
+   * outer index's writers own every file below it, and nesting one index in another invites a
+   * delete or a copy of one to take the other along. {@code option} names the option, e.g. {@code --out}.
+   */
+  public static void checkIndexPlace(Path dir, String option) {
+    Path d = indexAbove(dir);
+    if (d != null)
+      throw new BadInputException(dir + ": is inside the index folder " + d + "; an index cannot hold another index: give " + option
+          + " a folder outside it");
+  }
+
+  /** The nearest folder above {@code path} (its parent, or any folder above that) that holds an index, or null. */
+  public static Path indexAbove(Path path) {
+    for (Path d = path.toAbsolutePath().normalize().getParent(); d != null; d = d.getParent())
+      if (holdsIndex(d)) return d;
+    return null;
   }
 
   /** The names that mark an index folder: index.store's manifests ({@code manifest-N}) and its writer's lock. */

@@ -12,6 +12,7 @@ import io.actindex.encode.io.NpyWriter;
 import io.actindex.encode.io.NpzWriter;
 import io.actindex.encode.mlp.Mlp;
 import io.actindex.core.BadInputException;
+import io.actindex.core.OutputFiles;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import java.io.IOException;
@@ -213,6 +214,7 @@ public final class Encoders {
    */
   public static long exportActivations(Mlp mlp, String modelName, Path inputs, List<String> layers, Path out) throws IOException {
     checkReadable(inputs);
+    OutputFiles.checkTarget(out, "out", new OutputFiles.Input("inputs", inputs));
     boolean npy = extension(out).equals("npy");
     try (MatrixReader r = openMatrix(inputs)) {
       ModelLayers src = new ModelLayers(mlp, modelName, r, layers, null);

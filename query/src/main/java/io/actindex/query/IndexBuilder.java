@@ -3,6 +3,7 @@ package io.actindex.query;
 import io.actindex.encode.BinarizeRule;
 import io.actindex.encode.EncodeOptions;
 import io.actindex.core.BadInputException;
+import io.actindex.core.OutputFiles;
 import io.actindex.core.DiskFull;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
@@ -275,6 +276,7 @@ public final class IndexBuilder {
   }
 
   private static void checkEmptyOrAbsent(Path dir) {
+    OutputFiles.checkIndexPlace(dir, "--out");
     for (Path up = dir.toAbsolutePath().getParent(); up != null; up = up.getParent())
       if (Files.exists(up)) {
         if (!Files.isDirectory(up)) throw new BadInputException(dir + ": cannot make the index folder: " + up + " is a file, not a folder");

@@ -61,6 +61,8 @@ public final class Report {
 
   /** Renders the page of {@code reader} with any extra sections already added to {@code page}'s tail by the caller. */
   public static Result run(IndexReader reader, Params p, Progress progress) throws IOException {
+    OutputFiles.checkTarget(p.out(), "--out", new OutputFiles.Input("--compare-a", p.compareA()),
+        new OutputFiles.Input("--compare-b", p.compareB()));
     IndexReport.Facts f = facts(reader, progress);
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
     HtmlPage page = new HtmlPage(title, f.examples() + " examples, " + reader.layout().bits() + " bits per example.");

@@ -16,7 +16,8 @@ import java.nio.file.StandardOpenOption;
 /**
  * Streams a NumPy {@code .npy} array ({@link NpyHeader} describes the format) as a matrix of
  * {@code shape[0]} rows and {@code prod(shape[1:])} columns, each row flattened in C order (as
- * {@code a.reshape(n, -1)} does). Holds at most one chunk (C order, about {@link #CHUNK_BYTES}) or
+ * {@code a.reshape(n, -1)} does); a 1-D array is refused ({@link #oneDimensional}), since activations,
+ * codes and query rows are always matrices. Holds at most one chunk (C order, about {@link #CHUNK_BYTES}) or
  * one block (Fortran order, at most {@link #BLOCK_BYTES}) of the file at a time; never
  * the whole file.
  *
@@ -57,6 +58,7 @@ public final class NpyReader implements MatrixReader {
     this.stream = stream;
     this.streamPos = streamPos;
     this.tempFile = tempFile;
+    if (header.shape().length == 1) throw oneDimensional(name, header.shape()[0]);
     long c = header.cols();
     if (c == 0) throw new BadInputException(name + ": field 'shape' " + header.shapeString() + " has no columns");
     if (c > Integer.MAX_VALUE / 8) throw new BadInputException(name + ": field 'shape' " + header.shapeString() + ": too many columns per row");
@@ -360,6 +362,15 @@ public final class NpyReader implements MatrixReader {
       double v = f != null ? f[bad] : d[bad];
       throw nonFinite(name, firstRow + bad / cols, bad % cols, v);
     }
+  }
+
+  /**
+   * A 1-D array is refused rather than read as n rows of one column: for activations, codes or
+   * query rows it is nearly always one example saved without its batch axis, or a flat vector.
+   */
+  static BadInputException oneDimensional(String file, long n) {
+    return new BadInputException(file + ": field 'shape' (" + n + ",) is a 1-D array, but rows (examples) by columns (units) are needed: save it as shape (1, "
+        + n + ") for one row (a.reshape(1, -1)), or (" + n + ", 1) for one column (a.reshape(-1, 1))");
   }
 
   static BadInputException nonFinite(String file, long row, int col, double v) {

@@ -77,6 +77,34 @@ class NpyReaderTest {
     assertThat(readAll(Golden.path("cube_f4_F_le.npy"), 3)).containsExactly(want.values());
   }
 
+  /**
+   * 1-D arrays written by np.save (golden vector_*.npy, shape (6,)) are refused, naming the file and
+   * the shape and saying how to save one row or one column, also as an .npz member beside a good one.
+   */
+  @Test
+  void oneDimensionalArraysAreRefusedWithTheShapesThatWouldDo() throws IOException {
+    for (String name : List.of("vector_f4.npy", "vector_u1.npy"))
+      assertThatThrownBy(() -> NpyReader.open(Golden.path(name))).as(name).isInstanceOf(BadInputException.class)
+          .hasMessageContaining(name).hasMessageContaining("(6,) is a 1-D array").hasMessageContaining("(1, 6) for one row")
+          .hasMessageContaining("(6, 1) for one column");
+    try (NpzReader npz = NpzReader.open(Golden.path("vector_member.npz"))) {
+      try (NpyReader good = npz.member("first")) {
+        assertThat(good.cols()).isEqualTo(5);
+      }
+      assertThatThrownBy(() -> npz.member("flat")).isInstanceOf(BadInputException.class).hasMessageContaining("vector_member.npz")
+          .hasMessageContaining("flat").hasMessageContaining("(6,) is a 1-D array");
+    }
+    // the same refusal for a 1-D array in Fortran order
+    Path f = rewriteHeader("vector_f4.npy", "'fortran_order': False", "'fortran_order': True ");
+    assertThatThrownBy(() -> NpyReader.open(f)).isInstanceOf(BadInputException.class).hasMessageContaining("(6,) is a 1-D array");
+    // a (6, 1) column, the fix the message proposes, reads as 6 rows of one value
+    Path col = rewriteHeader("vector_f4.npy", "(6,)", "(6, 1)");
+    try (NpyReader r = NpyReader.open(col)) {
+      assertThat(r.rows()).isEqualTo(6);
+      assertThat(r.cols()).isEqualTo(1);
+    }
+  }
+
   @Test
   void nanAndInfinityNameRowAndColumn() {
     assertThatThrownBy(() -> readAll(Golden.path("nan_f4.npy"), 10))

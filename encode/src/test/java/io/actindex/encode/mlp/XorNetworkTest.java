@@ -57,6 +57,20 @@ class XorNetworkTest {
     }
   }
 
+  /** Exporting over the inputs file would replace it with activations: refused, the inputs unchanged. */
+  @Test
+  void anExportOverItsOwnInputsIsRefused(@org.junit.jupiter.api.io.TempDir java.nio.file.Path tmp) throws IOException {
+    Mlp mlp = Mlp.load(Golden.path("xor.safetensors"), null);
+    java.nio.file.Path inputs = java.nio.file.Files.copy(Golden.path("xor_inputs.npy"), tmp.resolve("x.npy"));
+    byte[] before = java.nio.file.Files.readAllBytes(inputs);
+    org.assertj.core.api.Assertions.assertThatThrownBy(() -> Encoders.exportActivations(mlp, "xor", inputs, null, tmp.resolve(".").resolve("x.npy")))
+        .isInstanceOf(io.actindex.core.BadInputException.class).hasMessageContaining("x.npy").hasMessageContaining("same file as the input");
+    assertThat(java.nio.file.Files.readAllBytes(inputs)).isEqualTo(before);
+    try (var files = java.nio.file.Files.list(tmp)) {
+      assertThat(files.map(p -> p.getFileName().toString()).toList()).containsExactly("x.npy");
+    }
+  }
+
   @Test
   void hiddenOnOffPatternsFromTheWorkedExample() throws IOException {
     // h = (0,0) -> both off; (1,0) -> first on; (2,1) -> both on. Bit 0 = first hidden unit.

@@ -4,6 +4,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.DiskFull;
+import io.actindex.core.OutputFiles;
 import io.actindex.index.mih.SearchPlanOptions;
 import io.actindex.index.meta.MetaWriter;
 import java.io.IOException;
@@ -67,6 +68,7 @@ public final class IndexWriter implements AutoCloseable {
       for (Path p = dir.toAbsolutePath(); p != null; p = p.getParent())
         if (Files.exists(p) && !Files.isDirectory(p))
           throw new BadInputException("cannot create an index in " + dir + ": " + p + " exists and is not a folder");
+      OutputFiles.checkIndexPlace(dir, "the new index");
       Files.createDirectories(dir);
       try (Stream<Path> s = Files.list(dir)) {
         if (s.findAny().isPresent()) throw new BadInputException("cannot create an index in " + dir + ": folder is not empty");
