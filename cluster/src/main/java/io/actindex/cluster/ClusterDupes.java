@@ -115,8 +115,18 @@ public final class ClusterDupes {
       FileSystem fs = out.getFileSystem(spark.sparkContext().hadoopConfiguration());
       if (fs.exists(out) && !p.overwrite() && (!fs.getFileStatus(out).isDirectory() || fs.listStatus(out).length > 0))
         throw new BadInputException(p.out() + ": --out exists and is not empty (pass --overwrite to replace it)");
+      Path input = fs.makeQualified(new Path(p.input())), target = fs.makeQualified(out);
+      if (within(input, target) || within(target, input)) // --overwrite deletes the folder first
+        throw new BadInputException(p.out() + ": --out and the input " + p.input() + " overlap (one is inside the other); "
+            + "writing there would delete or change the input, so nothing was written: give --out a folder of its own");
     }
     return in;
+  }
+
+  /** Whether {@code inner} is {@code outer} or lies inside it (both qualified). */
+  private static boolean within(Path inner, Path outer) {
+    for (Path x = inner; x != null; x = x.getParent()) if (x.equals(outer)) return true;
+    return false;
   }
 
   public static Summary run(SparkSession spark, Params p) throws IOException {

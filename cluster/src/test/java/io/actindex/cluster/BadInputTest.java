@@ -151,6 +151,15 @@ class BadInputTest {
     Files.writeString(out.resolve("x"), "keep");
     assertRefused(run("dupes", "--input", dir.toString(), "--layout", "c:64", "--radius", "1", "--out", out.toString()), "--overwrite");
     assertThat(Files.readString(out.resolve("x"))).isEqualTo("keep");
+    // --overwrite deletes --out first: an input inside it, or --out inside the input, is refused untouched
+    byte[] shardBytes = Files.readAllBytes(dir.resolve("a.npy"));
+    assertRefused(run("dupes", "--input", dir.toString(), "--layout", "c:64", "--radius", "1", "--out", dir.toString(), "--overwrite"),
+        "overlap");
+    assertRefused(run("dupes", "--input", dir.resolve("a.npy").toString(), "--layout", "c:64", "--radius", "1", "--out", dir.toString(),
+        "--overwrite"), "overlap");
+    assertRefused(run("dupes", "--input", dir.toString(), "--layout", "c:64", "--radius", "1", "--out", dir.resolve("sub").toString(),
+        "--overwrite"), "overlap");
+    assertThat(Files.readAllBytes(dir.resolve("a.npy"))).isEqualTo(shardBytes);
     assertRefused(run("dupes", "--input", tmp.resolve("missing").toString(), "--radius", "1", "--out", tmp.resolve("o").toString()),
         "missing", "no such file");
     assertRefused(run("dupes", "--input", dir.toString(), "--radius", "1", "--out", tmp.resolve("o").toString(), "--out-format", "xml"),

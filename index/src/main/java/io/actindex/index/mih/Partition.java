@@ -42,14 +42,18 @@ final class Partition {
   /** Smallest block worth partitioning. */
   static final int MIN_CODES = 4096;
   /**
-   * Fewest codes per cluster on average (see {@link #clusterCount}), about what sqrt(n) gives a 1M
-   * block. Measured on dense and skewed ReLU 256-bit codes (docs/benchmarks.md, "Ten segments:
-   * larger clusters for small segments"): ten segments of 100k answered in-distribution 10-NN in
-   * about 0.65x the time with clusters of 1,000 codes than of 316 (sqrt(n)). Larger clusters
-   * (2,000-3,000 codes) were faster still, for one 1M block too, but masked queries, which cut
-   * windows from below only, got slower with them.
+   * Fewest codes per cluster on average (see {@link #clusterCount}): sqrt(n) clusters of sqrt(n)
+   * codes from about 4M codes up. Measured on dense and skewed ReLU 256-bit codes (docs/benchmarks.md,
+   * "Ten segments: larger clusters for small segments" and "Clusters of 2,048 codes"): ten segments
+   * of 100k answered in-distribution 10-NN in about 0.65x the time with clusters of 1,000 codes than
+   * of 316 (sqrt(n)); then, on one core of a nearly quiet machine, clusters of 2,048 codes answered
+   * unmasked 10-NN over one 1M block of 256-bit codes in 0.74-0.87x the time of 1,024 (128 and 512
+   * bits: 0.46-1.07x), ten segments of 100k in 0.80-1.05x, and masked queries about alike (the
+   * largest move: dense 128-bit out of distribution from 0.71x to 0.84x of the masked scan). Clusters
+   * of 4,096 were faster still for one block but slower over ten segments (dense out of distribution
+   * 1.16x of 1,024's time).
    */
-  static final int MIN_CLUSTER_SIZE = 1024;
+  static final int MIN_CLUSTER_SIZE = 2048;
   /**
    * Cap on the cluster count, and the fit: majority rounds on a sample of this many codes per
    * cluster. A better fit did not pay: on 1M skewed and dense ReLU 256-bit codes, in one block and in

@@ -205,7 +205,7 @@ class MaskedSearchTest {
     // is checked by the tests above
     long seed = 17;
     SyntheticCodes.ReluNet net = SyntheticCodes.ReluNet.dense(32, 128, 128, 20, seed);
-    CodeBlock codes = net.sample(30_000, 0, seed + 1).codes();
+    CodeBlock codes = net.sample(100_000, 0, seed + 1).codes(); // about 50 clusters of 2,048 (30k gave 15, too coarse to pay)
     CodeBlock queries = net.sample(20, 0, seed + 2).codes();
     // fixed costs: with this machine's, measured once per JVM under whatever load, the choice moved
     // (the partition answered 4 of 20 once)

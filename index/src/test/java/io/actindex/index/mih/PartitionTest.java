@@ -100,6 +100,7 @@ class PartitionTest {
       }
     }
     assertEquals(1000, Partition.clusterCount(1_000_000, 1)); // sqrt(n) when the least size is below it
+    assertEquals(488, Partition.clusterCount(1_000_000, Partition.MIN_CLUSTER_SIZE)); // 1M / 2,048
     assertEquals(3162, Partition.clusterCount(10_000_000, Partition.MIN_CLUSTER_SIZE));
     long seed = Randoms.seed(3);
     for (int n : new int[] {4096, 9_000}) {
