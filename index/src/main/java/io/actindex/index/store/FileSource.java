@@ -1,7 +1,10 @@
 package io.actindex.index.store;
 
+import java.io.IOException;
+import java.io.UncheckedIOException;
 import java.lang.foreign.Arena;
 import java.lang.foreign.MemorySegment;
+import java.nio.channels.FileChannel;
 import java.nio.file.Path;
 import java.util.HashMap;
 import java.util.List;
@@ -17,6 +20,11 @@ interface FileSource {
   /** The content of {@code file}, mapped; BadInputException if it is missing. */
   MemorySegment bytes(Path file);
 
+  /** {@code file} open for positional reads while this source is (null: none; read the mapping). */
+  default FileChannel channel(Path file) {
+    return null;
+  }
+
   /** Maps each file when asked; the mapping lives while it is reachable. */
   FileSource DIRECT = file -> ChecksummedFile.map(file, Arena.ofAuto());
 
@@ -24,18 +32,30 @@ interface FileSource {
   static Pinned pin(List<Path> files) {
     Pinned p = new Pinned();
     try {
-      for (Path f : files) p.open.put(f, ChecksummedFile.map(f, p.arena));
+      for (Path f : files) {
+        FileChannel ch = ChecksummedFile.open(f);
+        p.channels.put(f, ch);
+        p.open.put(f, ChecksummedFile.map(ch, p.arena));
+      }
       return p;
+    } catch (IOException e) {
+      p.close();
+      throw new UncheckedIOException("cannot read " + files, e);
     } catch (RuntimeException e) {
       p.close();
       throw e;
     }
   }
 
-  /** Files mapped up front, in one arena. */
+  /**
+   * Files opened and mapped up front, in one arena. The open channels serve large reads (copying a
+   * mapping out page by page costs a fault per page; see {@code ChecksummedFile.In.copy}); like the
+   * mappings, they hold their files against deletion.
+   */
   final class Pinned implements FileSource, AutoCloseable {
     private final Arena arena = Arena.ofShared();
     private final Map<Path, MemorySegment> open = new HashMap<>();
+    private final Map<Path, FileChannel> channels = new HashMap<>();
 
     private Pinned() {}
 
@@ -46,8 +66,20 @@ interface FileSource {
     }
 
     @Override
+    public FileChannel channel(Path file) {
+      return channels.get(file);
+    }
+
+    @Override
     public void close() {
       arena.close();
+      for (FileChannel ch : channels.values()) {
+        try {
+          ch.close();
+        } catch (IOException e) {
+          // read-only: nothing is lost
+        }
+      }
     }
   }
 }

@@ -153,7 +153,7 @@ public final class Segment {
     CodeLayout layout = m.layout();
     Path codesFile = dir.resolve(e.codes().name()), tablesFile = dir.resolve(e.tables().name());
     ChecksummedFile.In in = ChecksummedFile.check(codesFile, src.bytes(codesFile), CODES_CODEC, VERSION_START,
-        VERSION_CURRENT, layout.hash(), m.uuid(), e.codes(), level);
+        VERSION_CURRENT, layout.hash(), m.uuid(), e.codes(), level).through(src.channel(codesFile));
     int segId = in.getInt("segmentId");
     if (segId != e.segmentId()) throw in.error("segmentId is " + segId + ", the manifest says " + e.segmentId());
     int n = in.getCount("count", Integer.MAX_VALUE);
@@ -188,7 +188,7 @@ public final class Segment {
       throw in.error(ex.getMessage());
     }
     ChecksummedFile.In t = ChecksummedFile.check(tablesFile, src.bytes(tablesFile), TABLES_CODEC, VERSION_START,
-        VERSION_CURRENT, layout.hash(), m.uuid(), e.tables(), level);
+        VERSION_CURRENT, layout.hash(), m.uuid(), e.tables(), level).through(src.channel(tablesFile));
     int tSeg = t.getInt("segmentId");
     if (tSeg != e.segmentId()) throw t.error("segmentId is " + tSeg + ", the manifest says " + e.segmentId());
     byte kind = t.getByte("searcher kind");

@@ -105,4 +105,62 @@ class IndexCheckTest {
       assertFalse(in.remaining() > 0);
     }
   }
+
+  /**
+   * Arrays of at least {@link ChecksummedFile#BULK_BYTES} and large stream reads go through the open
+   * channel (positional reads), smaller ones through the mapping: both give the values written by
+   * {@link java.io.DataOutputStream} (big-endian, its documented format), at offsets that are not a
+   * multiple of 8, and a channel onto a file shorter than the mapping is refused naming the field.
+   */
+  @Test
+  void largeArraysReadThroughTheChannelEqualWhatWasWritten() throws IOException {
+    long seed = Randoms.seed(11);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    Path file = tmp.resolve("bulk.bin");
+    UUID uuid = UUID.randomUUID();
+    long[] longs = new long[300_000 + rnd.nextInt(1000)]; // 2.4 MB: read through the channel
+    int[] ints = new int[300_000 + rnd.nextInt(1000)];
+    int[] few = new int[100]; // under the threshold: from the mapping
+    byte[] tail = new byte[(3 << 20) + rnd.nextInt(1000)];
+    for (int i = 0; i < longs.length; i++) longs[i] = rnd.nextLong();
+    for (int i = 0; i < ints.length; i++) ints[i] = rnd.nextInt();
+    for (int i = 0; i < few.length; i++) few[i] = rnd.nextInt();
+    rnd.nextBytes(tail);
+    try (ChecksummedFile.Out out = ChecksummedFile.create(file, "actindex.test", 1, 7, uuid)) {
+      out.writeByte(5); // every array below starts at an odd offset
+      for (long v : longs) out.writeLong(v);
+      for (int v : ints) out.writeInt(v);
+      for (int v : few) out.writeInt(v);
+      out.write(tail);
+      out.finish();
+    }
+    for (boolean channel : new boolean[] {false, true})
+      try (Arena arena = Arena.ofConfined(); java.nio.channels.FileChannel ch = ChecksummedFile.open(file)) {
+        ChecksummedFile.In in = ChecksummedFile.check(file, ChecksummedFile.map(file, arena), "actindex.test", 1, 1, 7, uuid, null,
+            ChecksummedFile.Check.OPEN).through(channel ? ch : null);
+        String what = Randoms.describe(seed) + (channel ? " through the channel" : " from the mapping");
+        assertEquals(5, in.getByte("odd"), what);
+        org.junit.jupiter.api.Assertions.assertArrayEquals(longs, in.longs("longs", longs.length), what);
+        org.junit.jupiter.api.Assertions.assertArrayEquals(ints, in.ints("ints", ints.length), what);
+        org.junit.jupiter.api.Assertions.assertArrayEquals(few, in.ints("few", few.length), what);
+        java.io.DataInputStream rest = in.rest();
+        byte[] got = new byte[tail.length];
+        rest.readFully(got, 0, 7); // small reads, then one large one
+        rest.readFully(got, 7, tail.length - 7);
+        org.junit.jupiter.api.Assertions.assertArrayEquals(tail, got, what);
+        assertEquals(-1, rest.read(), what);
+      }
+    Path shorter = tmp.resolve("shorter.bin");
+    byte[] all = Files.readAllBytes(file);
+    Files.write(shorter, java.util.Arrays.copyOf(all, all.length / 2));
+    try (Arena arena = Arena.ofConfined(); java.nio.channels.FileChannel ch = ChecksummedFile.open(shorter)) {
+      ChecksummedFile.In in = ChecksummedFile.check(file, ChecksummedFile.map(file, arena), "actindex.test", 1, 1, 7, uuid, null,
+          ChecksummedFile.Check.OPEN).through(ch);
+      in.getByte("odd");
+      in.longs("longs", longs.length);
+      io.actindex.core.BadInputException e = org.junit.jupiter.api.Assertions.assertThrows(io.actindex.core.BadInputException.class,
+          () -> in.ints("ints", ints.length));
+      assertTrue(e.getMessage().contains(file.toString()) && e.getMessage().contains("ends inside field 'ints'"), e.getMessage());
+    }
+  }
 }
