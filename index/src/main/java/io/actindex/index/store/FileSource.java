@@ -31,8 +31,10 @@ interface FileSource {
   /** Maps every file now; {@link Pinned#close()} unmaps them (no reader of theirs may be used after). */
   static Pinned pin(List<Path> files) {
     Pinned p = new Pinned();
+    Path f = null;
     try {
-      for (Path f : files) {
+      for (Path file : files) {
+        f = file;
         FileChannel ch = ChecksummedFile.open(f);
         p.channels.put(f, ch);
         p.open.put(f, ChecksummedFile.map(ch, p.arena));
@@ -40,7 +42,7 @@ interface FileSource {
       return p;
     } catch (IOException e) {
       p.close();
-      throw new UncheckedIOException("cannot read " + files, e);
+      throw new UncheckedIOException("cannot read " + f, e); // the one file, not the whole list
     } catch (RuntimeException e) {
       p.close();
       throw e;
