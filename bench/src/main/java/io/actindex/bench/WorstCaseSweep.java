@@ -26,9 +26,11 @@ import java.util.Locale;
  *
  * <p>Run: {@code java -cp bench/target/benchmarks.jar -Dactindex.bench.data=DIR
  * io.actindex.bench.WorstCaseSweep [data=dense,relu] [n=100000] [bits=64,128,256,512,1024]
- * [queries=in,ood] [k=1,10,100] [mask=none,first,second] [rounds=3] [count=512] [detail=0] [via=searcher]}; {@code via=reader}
+ * [queries=in,ood] [k=1,10,100] [mask=none,first,second] [rounds=3] [count=512] [detail=0] [via=searcher] [loops=1]}; {@code via=reader}
  * runs the planner through a one-segment on-disk index ({@link IndexReader#search}, the store
- * {@link RealUseBench} caches) instead of the searcher alone.
+ * {@link RealUseBench} caches) instead of the searcher alone. {@code loops=L} times each query as
+ * the mean of L calls in a row (for queries of a few µs, where one call's time carries the clock's
+ * cost and a cold start).
  */
 public final class WorstCaseSweep {
   private WorstCaseSweep() {}
@@ -38,7 +40,7 @@ public final class WorstCaseSweep {
         masks = arg(args, "mask", "none,first,second").split(",");
     String via = arg(args, "via", "searcher");
     int n = Integer.parseInt(arg(args, "n", "100000")), rounds = Integer.parseInt(arg(args, "rounds", "3")),
-        count = Integer.parseInt(arg(args, "count", "512")), detail = Integer.parseInt(arg(args, "detail", "0"));
+        count = Integer.parseInt(arg(args, "count", "512")), loops = Integer.parseInt(arg(args, "loops", "1")), detail = Integer.parseInt(arg(args, "detail", "0"));
     int[] widths = Arrays.stream(arg(args, "bits", "64,128,256,512,1024").split(",")).mapToInt(Integer::parseInt).toArray();
     int[] ks = Arrays.stream(arg(args, "k", "1,10,100").split(",")).mapToInt(Integer::parseInt).toArray();
     System.out.println("| data | bits | queries | mask | k | scan µs | masked scan µs | planner µs | / scan | / masked scan | worst query | paths h/s/t/p | load |");
@@ -66,7 +68,7 @@ public final class WorstCaseSweep {
               };
               double[] scanT = new double[qs.length], planT = new double[qs.length];
               int[] paths = new int[6], pathOf = new int[qs.length], kth = new int[qs.length];
-              bestPair(scan, planner, searcher, mask, qs, k, rounds, scanT, planT, paths, pathOf, kth, work,
+              bestPair(scan, planner, searcher, mask, qs, k, rounds, loops, scanT, planT, paths, pathOf, kth, work,
                   d + " " + bits + " " + kind + " " + m + " " + k);
               double s = sum(scanT), p = sum(planT), base = sum(plain), worst = 0;
               for (int i = 0; i < qs.length; i++) worst = Math.max(worst, planT[i] / scanT[i]);
@@ -160,18 +162,17 @@ public final class WorstCaseSweep {
 
   /** Best-of-rounds times of the scan and the planner, alternating; checks equal answers and counts paths. */
   private static void bestPair(ScanSearcher scan, CodeSearcher planner, CodeSearcher searcher, long[] mask, long[][] qs, int k, int rounds,
-      double[] scanT, double[] planT, int[] paths, int[] pathOf, int[] kth, Method work, String what) throws Exception {
+      int loops, double[] scanT, double[] planT, int[] paths, int[] pathOf, int[] kth, Method work, String what) throws Exception {
     Arrays.fill(scanT, Double.MAX_VALUE);
     Arrays.fill(planT, Double.MAX_VALUE);
     for (int r = 0; r < rounds + 1; r++)
       for (int i = 0; i < qs.length; i++) {
         boolean scanFirst = ((r + i) & 1) == 0;
         double a = 0, b;
-        if (scanFirst) a = time(scan, qs[i], k, mask);
-        long t0 = System.nanoTime();
-        Hits h = planner.knn(qs[i], k, null, mask);
-        b = (System.nanoTime() - t0) / 1e3;
-        if (!scanFirst) a = time(scan, qs[i], k, mask);
+        if (scanFirst) a = time(scan, qs[i], k, mask, loops);
+        b = time(planner, qs[i], k, mask, loops);
+        Hits h = r == 0 ? planner.knn(qs[i], k, null, mask) : null;
+        if (!scanFirst) a = time(scan, qs[i], k, mask, loops);
         if (r == 0) {
           long[] w = (long[]) work.invoke(searcher);
           pathOf[i] = w[3] == 1 && w[0] > 0 ? 5 : (int) w[3]; // 5: the scan after the tables gave up
@@ -187,10 +188,11 @@ public final class WorstCaseSweep {
       }
   }
 
-  private static double time(CodeSearcher s, long[] q, int k, long[] mask) {
+  /** µs per call of {@code loops} calls in a row (sub-µs queries: the clock's own cost and a cold first call averaged out). */
+  private static double time(CodeSearcher s, long[] q, int k, long[] mask, int loops) {
     long t0 = System.nanoTime();
-    s.knn(q, k, null, mask);
-    return (System.nanoTime() - t0) / 1e3;
+    for (int l = 0; l < loops; l++) s.knn(q, k, null, mask);
+    return (System.nanoTime() - t0) / 1e3 / loops;
   }
 
   private static double sum(double[] a) {
