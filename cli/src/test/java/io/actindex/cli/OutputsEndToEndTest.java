@@ -93,19 +93,6 @@ class OutputsEndToEndTest {
     }
   }
 
-  /** 'ood eval --roc x --html ./x': the page replaced the curve; refused before any work, nothing written. */
-  @Test
-  void twoOutputsNamingOneFileAreRefused() throws IOException {
-    Path both = tmp.resolve("both.out");
-    String[] eval = {"ood", "eval", "--index", idx.toString(), "--in", in.toString(), "--out", out.toString(), "--kind", "activations"};
-    Map<String, String> files = Files2.checksums(tmp);
-    Cli.Result r = Cli.run(concat(eval, "--roc", both.toString(), "--html", tmp.resolve(".").resolve("both.out").toString()));
-    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
-    assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n").contains("--roc and --html name the same file");
-    assertThat(Files2.checksums(tmp)).as(r.describe()).isEqualTo(files);
-    ok(concat(eval, "--roc", both.toString(), "--html", tmp.resolve("page.html").toString()));
-  }
-
   /** 'build --out idx/sub' nested an index in an index; an existing non-empty folder stays refused as before. */
   @Test
   void aNewIndexInsideAnIndexFolderIsRefused() throws IOException {

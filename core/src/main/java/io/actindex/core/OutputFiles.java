@@ -68,16 +68,6 @@ public final class OutputFiles {
             + "); writing it would replace that input, so nothing was written: give " + option + " another file");
   }
 
-  /**
-   * Refuses two outputs of one command that name one file ({@link #sameFile}): the second would
-   * replace the first. Null outputs are skipped.
-   */
-  public static void checkDistinct(Path a, String optionA, Path b, String optionB) {
-    if (a != null && b != null && sameFile(a, b))
-      throw new BadInputException(b + ": " + optionA + " and " + optionB + " name the same file, and the second would replace the first;"
-          + " nothing was written: give them different files");
-  }
-
   /** Whether {@code a} and {@code b} name one file (see {@link #checkNotInput}). */
   static boolean sameFile(Path a, Path b) {
     if (Files.exists(a) && Files.exists(b)) {
