@@ -126,7 +126,8 @@ public final class MetaWriter implements Closeable {
 
   /**
    * Checks a batch of rows for ids {@code firstId..firstId+n-1} without changing anything: column
-   * kinds, and keys unique in the batch and among live documents. {@code rows} may be null (keys
+   * kinds, and keys unique in the batch and among live documents; a key "row-ID" for an id past the
+   * batch is refused (that id's synthesized key once an add without keys reaches it). {@code rows} may be null (keys
    * "row-ID"). Refusals name the row.
    */
   public Batch prepare(int firstId, int n, List<Map<String, String>> rows) throws IOException {
@@ -155,6 +156,9 @@ public final class MetaWriter implements Closeable {
       if (synthesized >= 0 && bare.test(synthesized))
         throw new BadInputException("metadata row " + r + ": key '" + batch.key(r)
             + "' already exists in the index (id " + synthesized + ")");
+      if (synthesized >= firstId + n) // the id's own key once an add without keys reaches it
+        throw new BadInputException("metadata row " + r + ": key '" + batch.key(r) + "' names id " + synthesized
+            + ", which is not given out yet (a later add without keys would give it this key); rename the key");
     }
     refresh();
     for (LeafReaderContext leaf : nrt.leaves()) {
