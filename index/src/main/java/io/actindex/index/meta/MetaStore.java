@@ -54,6 +54,11 @@ public final class MetaStore implements Closeable {
     return MetaSchema.isNumber(text);
   }
 
+  /** Whether a metadata column may not have this name ("id", and names the store keeps for itself). */
+  public static boolean reservedColumn(String name) {
+    return name.equals(MetaSchema.ID) || name.startsWith(MetaSchema.KIND_PREFIX);
+  }
+
   private final Directory dir;
   private final DirectoryReader reader;
   private final IndexSearcher searcher;
