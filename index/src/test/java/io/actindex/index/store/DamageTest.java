@@ -108,6 +108,19 @@ class DamageTest {
       // a missing manifest leaves no generation to name; the message says so
       String expected = name.startsWith("manifest-") ? "manifest" : name;
       assertTrue(e.getMessage().contains(expected), rel + ": " + e.getMessage());
+      if (!name.startsWith("manifest-")) {
+        // says the file is missing, in the words of the index's own files (Lucene's files were
+        // "cannot be opened: java.nio.file.NoSuchFileException: ...", and for check "damaged: PATH")
+        assertTrue(e.getMessage().contains(name + " is missing") || e.getMessage().contains(name + " named by the manifest is missing")
+            || name.endsWith(".si"), rel + ": " + e.getMessage()); // a missing .si is found by Lucene, reading the commit
+        IndexCheck.FileResult bad = IndexCheck.run(copy).firstDamaged();
+        if (name.endsWith(".si")) { // the commit that lists it cannot be read without it: reported there, naming it
+          assertTrue(bad.problem().contains(name), rel + ": " + bad);
+        } else {
+          assertEquals(rel, bad.file(), rel + ": " + bad);
+          assertTrue(bad.problem().contains(name + " is missing"), rel + ": " + bad.problem());
+        }
+      }
       deleteTree(copy);
     }
   }
