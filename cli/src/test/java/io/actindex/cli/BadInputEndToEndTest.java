@@ -251,6 +251,32 @@ class BadInputEndToEndTest {
     assertRefused(Cli.run("build", "--out", tmp.resolve("g-idx").toString(), "--model", folder.toString(), "--inputs", folder.toString()), c);
   }
 
+  /**
+   * An empty path (an unset shell variable: {@code --out "$OUT"}) is refused naming its option; it
+   * was the current folder: {@code build --out ""} built an index there, {@code --keys ""} said
+   * "keys file  cannot be read: Is a directory".
+   */
+  @Test
+  void anEmptyPathIsRefusedNamingItsOption() {
+    Path codes = Files2.bits(tmp.resolve("c.npy"), new boolean[4][8]);
+    Map<String, String> before = Files2.checksums(idx);
+    String[][] cases = {
+        {"--out", "build", "--out", "", "--codes", codes.toString()},
+        {"--codes", "build", "--out", tmp.resolve("e-idx").toString(), "--codes", ""},
+        {"--index", "info", "--index", ""},
+        {"--keys", "delete", "--index", idx.toString(), "--keys", ""},
+        {"--meta", "add", "--index", idx.toString(), "--codes", codes.toString(), "--meta", ""},
+        {"--codes", "nearest", "--index", idx.toString(), "--codes", ""}};
+    for (String[] c : cases) {
+      Cli.Result r = Cli.run(java.util.Arrays.copyOfRange(c, 1, c.length));
+      assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(r.err()).as(r.describe()).contains(c[0]).contains("empty").doesNotContain("\tat ");
+      assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
+    }
+    assertThat(tmp.resolve("e-idx")).doesNotExist();
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+  }
+
   /** Options that cannot apply: exit 2 naming the option, nothing written (they were an internal error or ignored). */
   @Test
   void optionsThatCannotApplyAreRefused() {
