@@ -126,6 +126,23 @@ class DamageTest {
   }
 
   @Test
+  void aStrayFileNamedLikeAManifestIsNotTakenForOne() throws IOException {
+    // "manifest-0099" was read as generation 99, so the index failed to open: "manifest-99 is missing"
+    Path dir = tmp.resolve("idx");
+    StoreFixtures.build(dir, StoreFixtures.sample(Randoms.seed(4)));
+    long generation = Manifest.newestGeneration(dir);
+    for (String name : List.of("manifest-00" + (generation + 1), "manifest-0", "manifest-", "manifest-x1")) {
+      Files.writeString(dir.resolve(name), "not a manifest");
+      try (IndexReader r = IndexReader.open(dir)) {
+        assertEquals(97, r.liveCount(), name);
+      }
+      assertEquals(generation, Manifest.newestGeneration(dir), name);
+      assertTrue(IndexCheck.run(dir).ok(), name);
+      Files.delete(dir.resolve(name));
+    }
+  }
+
+  @Test
   void fileOfAnotherIndexIsRefused() throws IOException {
     long seed = Randoms.seed(3);
     CodeBlock sample = StoreFixtures.sample(seed);
