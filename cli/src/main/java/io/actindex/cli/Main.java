@@ -4,6 +4,7 @@ import java.io.IOException;
 import java.io.InputStream;
 import java.io.PrintWriter;
 import java.nio.charset.StandardCharsets;
+import java.nio.file.Path;
 import java.util.ServiceLoader;
 import java.util.concurrent.Callable;
 import picocli.CommandLine;
@@ -69,7 +70,17 @@ public final class Main implements Callable<Integer> {
     cl.setParameterExceptionHandler(new ErrorHandler());
     cl.setExecutionExceptionHandler(new ErrorHandler());
     cl.setCaseInsensitiveEnumValuesAllowed(true);
+    cl.registerConverter(Path.class, Main::path); // after the extra commands: it reaches the commands present
     return cl;
+  }
+
+  /**
+   * A path option's value; an empty one (an unset shell variable) is refused, since {@code Path.of("")}
+   * is the current folder: {@code build --out ""} built an index there.
+   */
+  private static Path path(String value) {
+    if (value.isEmpty()) throw new CommandLine.TypeConversionException("the path is empty");
+    return Path.of(value);
   }
 
   /** Runs one command line and returns its exit code (for tests and embedding). */

@@ -163,6 +163,28 @@ class BadInputEndToEndTest {
   }
 
   @Test
+  void metadataRefusedByTheIndexNamesTheCsvAndItsDataRow() {
+    // refusals that need the index (a column's kind, ids not given out yet) used to name neither
+    // the file nor its rows as the CSV counts them ("metadata row 0")
+    Path acts = Files2.floats(tmp.resolve("more.npy"), new float[3][8]);
+    Path numbers = Files2.text(tmp.resolve("numbers.csv"), List.of("key,rpm", "x1,100", "x2,200", "x3,300"));
+    Cli.Result ok = Cli.run("add", "--index", idx.toString(), "--activations", acts.toString(), "--meta", numbers.toString());
+    assertThat(ok.code()).as(ok.describe()).isZero();
+    Map<String, String> before = Files2.checksums(idx);
+    Path text = Files2.text(tmp.resolve("text.csv"), List.of("key,rpm", "y1,100", "y2,fast", "y3,300"));
+    assertRefused(Cli.run("add", "--index", idx.toString(), "--activations", acts.toString(), "--meta", text.toString()),
+        new Case("text in a number column", text, "data row 2"));
+    Path ahead = Files2.text(tmp.resolve("ahead.csv"), List.of("key", "z1", "z2", "row-90"));
+    assertRefused(Cli.run("add", "--index", idx.toString(), "--activations", acts.toString(), "--meta", ahead.toString()),
+        new Case("key of an id not given out yet", ahead, "data row 3"));
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+    Path out = tmp.resolve("new-idx");
+    assertRefused(Cli.run("build", "--out", out.toString(), "--activations", acts.toString(), "--meta", ahead.toString()),
+        new Case("key of an id not given out yet, build", ahead, "data row 3"));
+    assertThat(out).doesNotExist();
+  }
+
+  @Test
   void badWhereAndUnknownLayerAreRefusedWithoutAStackTrace() {
     Path q = Files2.floats(tmp.resolve("q.npy"), new float[1][8]);
     Cli.Result r = Cli.run("nearest", "--index", idx.toString(), "--activations", q.toString(), "--where", "label = ");
@@ -227,6 +249,32 @@ class BadInputEndToEndTest {
     assertRefused(Cli.run("build", "--out", tmp.resolve("f-idx").toString(), "--activations", folder.toString()), c);
     assertRefused(Cli.run("nearest", "--index", idx.toString(), "--activations", folder.toString()), c);
     assertRefused(Cli.run("build", "--out", tmp.resolve("g-idx").toString(), "--model", folder.toString(), "--inputs", folder.toString()), c);
+  }
+
+  /**
+   * An empty path (an unset shell variable: {@code --out "$OUT"}) is refused naming its option; it
+   * was the current folder: {@code build --out ""} built an index there, {@code --keys ""} said
+   * "keys file  cannot be read: Is a directory".
+   */
+  @Test
+  void anEmptyPathIsRefusedNamingItsOption() {
+    Path codes = Files2.bits(tmp.resolve("c.npy"), new boolean[4][8]);
+    Map<String, String> before = Files2.checksums(idx);
+    String[][] cases = {
+        {"--out", "build", "--out", "", "--codes", codes.toString()},
+        {"--codes", "build", "--out", tmp.resolve("e-idx").toString(), "--codes", ""},
+        {"--index", "info", "--index", ""},
+        {"--keys", "delete", "--index", idx.toString(), "--keys", ""},
+        {"--meta", "add", "--index", idx.toString(), "--codes", codes.toString(), "--meta", ""},
+        {"--codes", "nearest", "--index", idx.toString(), "--codes", ""}};
+    for (String[] c : cases) {
+      Cli.Result r = Cli.run(java.util.Arrays.copyOfRange(c, 1, c.length));
+      assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(r.err()).as(r.describe()).contains(c[0]).contains("empty").doesNotContain("\tat ");
+      assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
+    }
+    assertThat(tmp.resolve("e-idx")).doesNotExist();
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 
   /** Options that cannot apply: exit 2 naming the option, nothing written (they were an internal error or ignored). */

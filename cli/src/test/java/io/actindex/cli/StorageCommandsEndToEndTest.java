@@ -129,6 +129,9 @@ class StorageCommandsEndToEndTest {
     refused(r, "unknown.txt");
     assertThat(r.err()).contains("line 2").contains("nope");
     refused(Cli.run("delete", "--index", idx.toString(), "--keys", tmp.resolve("missing.txt").toString()), "missing.txt");
+    // a second byte order mark (files joined with cat) stays in the key; the message shows it
+    Path twoMarks = Files2.write(tmp.resolve("two-marks.txt"), "\uFEFFk1\n\uFEFFk2\n".getBytes(java.nio.charset.StandardCharsets.UTF_8));
+    refused(Cli.run("delete", "--index", idx.toString(), "--keys", twoMarks.toString()), "line 2: key '\\ufeffk2'");
     Path latin1 = Files2.write(tmp.resolve("latin1.txt"), new byte[] {'k', (byte) 0xe9, '\n'});
     refused(Cli.run("delete", "--index", idx.toString(), "--keys", latin1.toString()), "latin1.txt");
     refused(Cli.run("delete", "--index", idx.toString(), "--where", "label = "), "where");

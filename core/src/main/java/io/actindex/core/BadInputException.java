@@ -37,7 +37,8 @@ public class BadInputException extends RuntimeException {
 
   /**
    * {@code text} for a one-line message: line breaks and tabs as {@code \n}, {@code \r}, {@code
-   * \t}; other control characters, line and paragraph separators and unpaired surrogates as
+   * \t}; other control characters, line and paragraph separators, invisible format characters
+   * (a byte order mark, zero-width spaces, bidi controls) and unpaired surrogates as
    * {@code \u0000}-style escapes, so that a message never carries raw newlines or binary bytes;
    * cut after {@code max} characters (never inside a surrogate pair), then {@code ... (N
    * characters)}. The one escaping routine of the project's messages.
@@ -57,6 +58,7 @@ public class BadInputException extends RuntimeException {
           boolean pairedLow = Character.isLowSurrogate(c) && i > 0 && Character.isHighSurrogate(text.charAt(i - 1));
           int type = Character.getType(c);
           if (Character.isISOControl(c) || type == Character.LINE_SEPARATOR || type == Character.PARAGRAPH_SEPARATOR
+              || type == Character.FORMAT // invisible: byte order mark, zero-width space, bidi controls
               || (Character.isSurrogate(c) && !pairedHigh && !pairedLow))
             sb.append(String.format("\\u%04x", (int) c));
           else sb.append(c);

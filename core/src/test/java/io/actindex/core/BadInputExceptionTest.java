@@ -13,6 +13,9 @@ class BadInputExceptionTest {
     assertThat(BadInputException.quote("x".repeat(5_000_000))).isEqualTo("'" + "x".repeat(40) + "... (5,000,000 characters)'");
     assertThat(BadInputException.quote("caf\u00e9 \uD83D\uDE00")).isEqualTo("'caf\u00e9 \uD83D\uDE00'"); // printable text and a surrogate pair stay
     assertThat(BadInputException.quote("\uD800x\u0085\u2028\u2029")).isEqualTo("'\\ud800x\\u0085\\u2028\\u2029'");
+    // invisible format characters (a byte order mark, zero-width space, bidi override, soft hyphen):
+    // "key 'k5' is not in the index" while the key was "\uFEFFk5"
+    assertThat(BadInputException.quote("\uFEFFk5\u200B\u202E\u00AD")).isEqualTo("'\\ufeffk5\\u200b\\u202e\\u00ad'");
     // a pair cut at the limit is dropped whole rather than split
     String cut = "y".repeat(39) + "\uD83D\uDE00z";
     assertThat(BadInputException.quote(cut)).isEqualTo("'" + "y".repeat(39) + "... (42 characters)'");

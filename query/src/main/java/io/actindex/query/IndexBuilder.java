@@ -8,6 +8,7 @@ import io.actindex.core.DiskFull;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Forked;
+import io.actindex.index.meta.RowRefusal;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import io.actindex.index.store.StoreIo;
@@ -193,7 +194,7 @@ public final class IndexBuilder {
     }
     try (IndexWriter w = created) {
       if (model != null) w.putAttachment(BuildInfo.MODEL, model);
-      int first = w.add(codes, mags, meta);
+      int first = addRows(w, codes, mags, meta, p.meta());
       return new Result(first, codes.size(), codes.layout(), read.notes(), read.options(),
           mags == null ? null : Quantisation.of(mags, values), w.takeWarnings());
     } catch (RuntimeException | Error e) {
@@ -240,9 +241,18 @@ public final class IndexBuilder {
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       Magnitudes kept = mags;
-      int first = Forked.withThreads(p.threads(), () -> w.add(codes, kept, meta));
+      int first = Forked.withThreads(p.threads(), () -> addRows(w, codes, kept, meta, p.meta()));
       return new Result(first, codes.size(), codes.layout(), notes, encode, mags == null ? null : Quantisation.of(mags, values),
           w.takeWarnings());
+    }
+  }
+
+  /** {@code w.add}; a metadata row the index refuses is named by its file and data row (1-based, as the CSV counts). */
+  private static int addRows(IndexWriter w, CodeBlock codes, Magnitudes mags, List<Map<String, String>> meta, MetaCsv.Options o) {
+    try {
+      return w.add(codes, mags, meta);
+    } catch (RowRefusal e) {
+      throw new BadInputException(o.file() + ": data row " + (e.row() + 1) + ": " + e.detail(), e);
     }
   }
 

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.index.meta.MetaStore;
 import java.io.BufferedInputStream;
 import java.io.ByteArrayOutputStream;
 import java.io.IOException;
@@ -101,6 +102,8 @@ public final class MetaCsv {
       if (target[c].isEmpty()) throw new BadInputException(name + ": column " + (c + 1) + " has an empty name");
       if (target[c].equals("id"))
         throw new BadInputException(name + ": column 'id' is reserved for the index's ids; pass it as the key column or rename it");
+      if (MetaStore.reservedColumn(target[c]))
+        throw new BadInputException(name + ": column '" + Snippet.of(target[c]) + "' has a name the index keeps for itself; rename it");
       for (int d = 0; d < c; d++)
         if (target[d].equals(target[c]))
           throw new BadInputException(name + ": columns " + (d + 1) + " and " + (c + 1) + " both become field '" + Snippet.of(target[c]) + "'");

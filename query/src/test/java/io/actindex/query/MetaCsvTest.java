@@ -60,6 +60,8 @@ class MetaCsvTest {
     assertThatThrownBy(() -> MetaCsv.read(new MetaCsv.Options(j, "name", "class", null))).hasMessageContaining("clashes");
     Path k = write("id,label\n1,a\n");
     assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(k))).hasMessageContaining("'id' is reserved");
+    Path kind = write("key,kind.rpm\nk1,3\n"); // the store's own name for a column's kind: refused by the index without the file
+    assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(kind))).hasMessageContaining("meta.csv").hasMessageContaining("'kind.rpm'");
     Path l = write("");
     assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(l))).hasMessageContaining("header");
   }

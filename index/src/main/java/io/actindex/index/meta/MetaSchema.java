@@ -86,13 +86,12 @@ final class MetaSchema {
     for (int r = 0; r < rows.size(); r++) {
       for (Map.Entry<String, String> e : rows.get(r).entrySet()) {
         String col = e.getKey(), v = e.getValue();
-        if (col == null || col.isEmpty()) throw new BadInputException("metadata row " + r + " has a column with no name");
-        if (col.equals(ID) || col.startsWith(KIND_PREFIX))
+        if (col == null || col.isEmpty()) throw new RowRefusal(r, "a column has no name");
+        if (MetaStore.reservedColumn(col))
           throw new BadInputException("metadata column '" + col + "' is reserved; rename it");
         if (v == null || v.isEmpty()) continue;
         if (v.getBytes(StandardCharsets.UTF_8).length > MAX_TERM_BYTES)
-          throw new BadInputException("metadata row " + r + " (id " + (firstId + r) + ") column '" + col
-              + "': value longer than " + MAX_TERM_BYTES + " bytes");
+          throw new RowRefusal(r, "column '" + col + "' (id " + (firstId + r) + "): value longer than " + MAX_TERM_BYTES + " bytes");
         seen.put(col, true);
         if (!firstNonNumber.containsKey(col) && !isNumber(v)) firstNonNumber.put(col, r);
       }
@@ -101,7 +100,7 @@ final class MetaSchema {
       FieldKind have = out.get(col);
       Integer bad = firstNonNumber.get(col);
       if (have == FieldKind.NUMBER && bad != null)
-        throw new BadInputException("metadata row " + bad + " (id " + (firstId + bad) + ") column '" + col + "': '"
+        throw new RowRefusal(bad, "column '" + col + "' (id " + (firstId + bad) + "): '"
             + rows.get(bad).get(col) + "' is not a number"
             + (NUMBER.matcher(rows.get(bad).get(col)).matches() ? " a double holds exactly (about 15-17 significant digits)" : "")
             + ", and the column is numeric in this index");

@@ -2,8 +2,10 @@ package io.actindex.index.meta;
 
 import io.actindex.core.BadInputException;
 import java.io.Closeable;
+import java.io.FileNotFoundException;
 import java.io.IOException;
 import java.io.UncheckedIOException;
+import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.Collections;
@@ -52,6 +54,11 @@ public final class MetaStore implements Closeable {
   /** Whether {@code text} is a value a NUMBER field holds exactly (a finite decimal, no more digits than a double keeps). */
   public static boolean exactNumber(String text) {
     return MetaSchema.isNumber(text);
+  }
+
+  /** Whether a metadata column may not have this name ("id", and names the store keeps for itself). */
+  public static boolean reservedColumn(String name) {
+    return name.equals(MetaSchema.ID) || name.startsWith(MetaSchema.KIND_PREFIX);
   }
 
   private final Directory dir;
@@ -112,6 +119,8 @@ public final class MetaStore implements Closeable {
         for (String name : names) {
           try {
             pinned.add(dir.openInput(name, IOContext.READONCE));
+          } catch (NoSuchFileException | FileNotFoundException e) {
+            throw new BadInputException("metadata file " + metaDir.resolve(name) + " is missing", e);
           } catch (IOException e) {
             throw new BadInputException("metadata file " + metaDir.resolve(name) + " cannot be opened: " + e, e);
           }
@@ -180,12 +189,14 @@ public final class MetaStore implements Closeable {
         try (IndexInput in = dir.openInput(name, IOContext.READONCE)) {
           CodecUtil.checksumEntireFile(in);
           out.put(name, null);
+        } catch (NoSuchFileException | FileNotFoundException e) {
+          out.put(name, "missing");
         } catch (IOException | RuntimeException e) {
           out.put(name, "damaged: " + e.getMessage());
         }
       }
       if (commitProblem != null && out.values().stream().allMatch(java.util.Objects::isNull))
-        out.put(segmentsFile, "unreadable: " + commitProblem);
+        out.put(segmentsFile, java.nio.file.Files.exists(metaDir.resolve(segmentsFile)) ? "unreadable: " + commitProblem : "missing");
       return out;
     } catch (IOException e) {
       throw new UncheckedIOException("cannot read metadata store " + metaDir, e);
@@ -193,6 +204,7 @@ public final class MetaStore implements Closeable {
   }
 
   static IndexCommit findCommit(Path metaDir, Directory dir, String segmentsFile) {
+    if (!java.nio.file.Files.exists(metaDir.resolve(segmentsFile))) throw missingCommit(metaDir, segmentsFile);
     List<IndexCommit> commits;
     try {
       commits = DirectoryReader.listCommits(dir);
@@ -201,8 +213,11 @@ public final class MetaStore implements Closeable {
           + e.getMessage(), e);
     }
     for (IndexCommit c : commits) if (c.getSegmentsFileName().equals(segmentsFile)) return c;
-    throw new BadInputException("metadata commit " + metaDir.resolve(segmentsFile)
-        + " named by the manifest is missing");
+    throw missingCommit(metaDir, segmentsFile);
+  }
+
+  private static BadInputException missingCommit(Path metaDir, String segmentsFile) {
+    return new BadInputException("metadata commit " + metaDir.resolve(segmentsFile) + " named by the manifest is missing");
   }
 
   static Map<String, FieldKind> kinds(Map<String, String> userData) {

@@ -126,7 +126,8 @@ public final class MetaWriter implements Closeable {
 
   /**
    * Checks a batch of rows for ids {@code firstId..firstId+n-1} without changing anything: column
-   * kinds, and keys unique in the batch and among live documents. {@code rows} may be null (keys
+   * kinds, and keys unique in the batch and among live documents; a key "row-ID" for an id past the
+   * batch is refused (that id's synthesized key once an add without keys reaches it). {@code rows} may be null (keys
    * "row-ID"). Refusals name the row.
    */
   public Batch prepare(int firstId, int n, List<Map<String, String>> rows) throws IOException {
@@ -142,19 +143,20 @@ public final class MetaWriter implements Closeable {
     if (rows != null && rows.size() != n)
       throw new BadInputException(rows.size() + " metadata rows for " + n + " codes");
     for (int r = 0; rows != null && r < n; r++)
-      if (rows.get(r) == null) throw new BadInputException("metadata row " + r + " is missing");
+      if (rows.get(r) == null) throw new RowRefusal(r, "missing");
     Batch batch = new Batch(firstId, n, rows, Map.of());
     Map<String, FieldKind> merged = MetaSchema.kinds(kinds, rows == null ? List.of() : rows, firstId);
     Map<String, Integer> seen = new HashMap<>();
     for (int r = 0; r < n; r++) {
       Integer before = seen.put(batch.key(r), r);
       if (before != null)
-        throw new BadInputException("metadata row " + r + ": key '" + batch.key(r) + "' already used by row " + before
-            + " of the same batch");
+        throw new RowRefusal(r, "key '" + batch.key(r) + "' already used by row " + before + " of the same batch");
       int synthesized = MetaStore.syntheticId(batch.key(r));
       if (synthesized >= 0 && bare.test(synthesized))
-        throw new BadInputException("metadata row " + r + ": key '" + batch.key(r)
-            + "' already exists in the index (id " + synthesized + ")");
+        throw new RowRefusal(r, "key '" + batch.key(r) + "' already exists in the index (id " + synthesized + ")");
+      if (synthesized >= firstId + n) // the id's own key once an add without keys reaches it
+        throw new RowRefusal(r, "key '" + batch.key(r) + "' names id " + synthesized
+            + ", which is not given out yet (a later add without keys would give it this key); rename the key");
     }
     refresh();
     for (LeafReaderContext leaf : nrt.leaves()) {
@@ -171,8 +173,7 @@ public final class MetaWriter implements Closeable {
           if (live != null && !live.get(d)) continue;
           ids = leaf.reader().getNumericDocValues(MetaSchema.ID);
           long id = ids != null && ids.advanceExact(d) ? ids.longValue() : -1;
-          throw new BadInputException("metadata row " + r + ": key '" + batch.key(r)
-              + "' already exists in the index (id " + id + ")");
+          throw new RowRefusal(r, "key '" + batch.key(r) + "' already exists in the index (id " + id + ")");
         }
       }
     }

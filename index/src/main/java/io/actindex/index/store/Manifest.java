@@ -53,7 +53,8 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
 
   public static final String CODEC = "actindex.manifest";
   static final int VERSION_START = 1, VERSION_CURRENT = 3;
-  private static final Pattern NAME = Pattern.compile("manifest-(\\d{1,18})");
+  /** The manifest of generation N is named exactly as {@link #fileName} writes it: no leading zeros ("manifest-0099" is a stray file). */
+  private static final Pattern NAME = Pattern.compile("manifest-(0|[1-9]\\d{0,17})");
 
   /** One segment as the manifest lists it. */
   public record SegmentEntry(int segmentId, int count, int firstId, int endId, FileRef codes, FileRef tables) {

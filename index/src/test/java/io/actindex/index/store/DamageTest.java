@@ -108,7 +108,37 @@ class DamageTest {
       // a missing manifest leaves no generation to name; the message says so
       String expected = name.startsWith("manifest-") ? "manifest" : name;
       assertTrue(e.getMessage().contains(expected), rel + ": " + e.getMessage());
+      if (!name.startsWith("manifest-")) {
+        // says the file is missing, in the words of the index's own files (Lucene's files were
+        // "cannot be opened: java.nio.file.NoSuchFileException: ...", and for check "damaged: PATH")
+        assertTrue(e.getMessage().contains(name + " is missing") || e.getMessage().contains(name + " named by the manifest is missing")
+            || name.endsWith(".si"), rel + ": " + e.getMessage()); // a missing .si is found by Lucene, reading the commit
+        IndexCheck.FileResult bad = IndexCheck.run(copy).firstDamaged();
+        if (name.endsWith(".si")) { // the commit that lists it cannot be read without it: reported there, naming it
+          assertTrue(bad.problem().contains(name), rel + ": " + bad);
+        } else {
+          assertEquals(rel, bad.file(), rel + ": " + bad);
+          assertTrue(bad.problem().contains(name + " is missing"), rel + ": " + bad.problem());
+        }
+      }
       deleteTree(copy);
+    }
+  }
+
+  @Test
+  void aStrayFileNamedLikeAManifestIsNotTakenForOne() throws IOException {
+    // "manifest-0099" was read as generation 99, so the index failed to open: "manifest-99 is missing"
+    Path dir = tmp.resolve("idx");
+    StoreFixtures.build(dir, StoreFixtures.sample(Randoms.seed(4)));
+    long generation = Manifest.newestGeneration(dir);
+    for (String name : List.of("manifest-00" + (generation + 1), "manifest-0", "manifest-", "manifest-x1")) {
+      Files.writeString(dir.resolve(name), "not a manifest");
+      try (IndexReader r = IndexReader.open(dir)) {
+        assertEquals(97, r.liveCount(), name);
+      }
+      assertEquals(generation, Manifest.newestGeneration(dir), name);
+      assertTrue(IndexCheck.run(dir).ok(), name);
+      Files.delete(dir.resolve(name));
     }
   }
 
