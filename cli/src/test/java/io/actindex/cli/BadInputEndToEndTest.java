@@ -159,6 +159,15 @@ class BadInputEndToEndTest {
     Path dup = Files2.text(tmp.resolve("dup.csv"), List.of("key,label", "x1,a", "x1,b", "x3,c"));
     assertRefused(Cli.run("add", "--index", idx.toString(), "--activations", acts.toString(), "--meta", dup.toString()),
         new Case("duplicate key", dup, null));
+    // row-44 is the key id 44 would get if added without metadata (these rows get ids 40..42)
+    Path reserved = Files2.text(tmp.resolve("reserved.csv"), List.of("key,label", "x1,a", "row-44,b", "x3,c"));
+    Cli.Result r = Cli.run("add", "--index", idx.toString(), "--activations", acts.toString(), "--meta", reserved.toString());
+    assertRefused(r, new Case("a key kept for an id to come", reserved, null));
+    assertThat(r.err()).contains("data row 2: key 'row-44'");
+    Path built = tmp.resolve("built");
+    Cli.Result b = Cli.run("build", "--out", built.toString(), "--activations", acts.toString(), "--meta", reserved.toString());
+    assertRefused(b, new Case("a key kept for an id to come, build", reserved, null));
+    assertThat(built).doesNotExist();
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 

@@ -8,6 +8,7 @@ import io.actindex.core.DiskFull;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Forked;
+import io.actindex.index.meta.MetaStore;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import io.actindex.index.store.StoreIo;
@@ -171,7 +172,7 @@ public final class IndexBuilder {
     float[] values = read.activations() == null ? null
         : Layers.pickColumns(read.activations(), raw.size(), raw.layout().bits(), Layers.columns(raw.layout(), codes.layout()));
     Magnitudes mags = values == null ? null : Magnitudes.quantise(values, codes.size(), codes.layout().bits(), p.magnitudeBits());
-    List<Map<String, String>> meta = readMeta(p.meta(), codes.size(), p.source());
+    List<Map<String, String>> meta = readMeta(p.meta(), codes.size(), p.source(), 0);
     byte[] model = p.source().kind() == Source.Kind.INPUTS ? readAll(p.source().model()) : null;
     // the options in force (per-neuron medians filled in) are what later queries must use
     EncodeOptions used = read.options() != null ? read.options() : p.encode();
@@ -230,7 +231,7 @@ public final class IndexBuilder {
         values = enc.activations();
         mags = Magnitudes.quantise(values, codes.size(), codes.layout().bits(), bits);
       }
-      meta = readMeta(p.meta(), codes.size(), p.source());
+      meta = readMeta(p.meta(), codes.size(), p.source(), r.maxId());
       if (meta != null)
         for (int i = 0; i < meta.size(); i++) {
           String key = meta.get(i).get("key");
@@ -267,11 +268,22 @@ public final class IndexBuilder {
     return Layers.project(raw, new CodeLayout(segs));
   }
 
-  private static List<Map<String, String>> readMeta(MetaCsv.Options o, int rows, Source source) {
+  /**
+   * The metadata rows of ids {@code firstId..}; a key {@code row-N} for an id after the last is
+   * refused (id N gets that key if it is added without metadata: two examples would share it).
+   */
+  private static List<Map<String, String>> readMeta(MetaCsv.Options o, int rows, Source source, int firstId) {
     if (o == null) return null;
     List<Map<String, String>> meta = MetaCsv.read(o);
     if (meta.size() != rows)
       throw new BadInputException(o.file() + ": " + meta.size() + " data rows, but " + source.file() + " has " + rows + " rows");
+    for (int i = 0; i < rows; i++) {
+      int reserved = MetaStore.syntheticId(meta.get(i).get("key"));
+      if (reserved >= 0 && (long) reserved >= (long) firstId + rows)
+        throw new BadInputException(o.file() + ": data row " + (i + 1) + ": key '" + meta.get(i).get("key") + "' is the key id " + reserved
+            + " gets if it is added without metadata, and these rows get ids " + firstId + ".." + (firstId + rows - 1)
+            + "; keys row-<id> are kept for those ids: rename it");
+    }
     return meta;
   }
 

@@ -135,7 +135,8 @@ public final class MetaWriter implements Closeable {
 
   /**
    * As {@link #prepare(int, int, List)}; {@code bare} tells which ids are live without a document
-   * (their synthesized key "row-ID" is taken too).
+   * (their synthesized key "row-ID" is taken too). A key "row-N" for an id after the batch's last is
+   * refused: id N would get it if added without metadata.
    */
   public Batch prepare(int firstId, int n, List<Map<String, String>> rows, java.util.function.IntPredicate bare)
       throws IOException {
@@ -152,6 +153,10 @@ public final class MetaWriter implements Closeable {
         throw new BadInputException("metadata row " + r + ": key '" + batch.key(r) + "' already used by row " + before
             + " of the same batch");
       int synthesized = MetaStore.syntheticId(batch.key(r));
+      if (synthesized >= 0 && (long) synthesized >= (long) firstId + n)
+        throw new BadInputException("metadata row " + r + ": key '" + batch.key(r) + "' is the key id " + synthesized
+            + " gets if it is added without metadata, and this batch ends at id " + (firstId + n - 1)
+            + "; keys row-<id> are kept for those ids: rename it");
       if (synthesized >= 0 && bare.test(synthesized))
         throw new BadInputException("metadata row " + r + ": key '" + batch.key(r)
             + "' already exists in the index (id " + synthesized + ")");
