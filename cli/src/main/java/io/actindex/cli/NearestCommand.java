@@ -245,7 +245,7 @@ final class NearestCommand implements Callable<Integer> {
       StringBuilder head = new StringBuilder("query row " + r.row());
       if (r.neighbors().isEmpty()) head.append(": no example matches");
       else if (r.vote() != null) head.append("  vote: ").append(describe(r.vote(), k));
-      out.println(head);
+      out.println(io.actindex.core.BadInputException.snippet(head, Integer.MAX_VALUE)); // the label comes from a user's file
       if (refined != null)
         out.println("  order: re-ranked by " + Refine.Metric.parse(refine).label() + " distance on the kept magnitudes among "
             + refined.get(q).candidates() + " Hamming candidates (Hamming distance <= " + refined.get(q).hammingRadius() + ")");

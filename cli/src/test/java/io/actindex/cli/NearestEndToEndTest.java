@@ -383,4 +383,19 @@ class NearestEndToEndTest {
             .isEqualTo("query,rank,id,key,distance," + (h2 ? "" : "distance_h1,") + "distance_h2,label,split,line,rpm," + votes);
       }
   }
+  /** A label holding an ESC sequence reached the terminal through the vote line of the table. */
+  @Test
+  void controlCharactersInMetadataDoNotReachTheTerminal() throws Exception {
+    boolean[][] codes = new boolean[4][8];
+    for (int i = 0; i < 4; i++) codes[i][i] = true;
+    List<String> meta = new ArrayList<>(List.of("key,label"));
+    for (int i = 0; i < 4; i++) meta.add("k" + i + ",\"red\u001b[31m\u0007\"");
+    Path idx = tmp.resolve("idx");
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), codes).toString(),
+        "--meta", Files2.text(tmp.resolve("m.csv"), meta).toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    Cli.Result r = Cli.run("nearest", "--index", idx.toString(), "--codes", tmp.resolve("c.npy").toString(), "-k", "2");
+    assertThat(r.code()).as(r.describe()).isZero();
+    assertThat(r.out()).contains("vote: red\\u001b[31m\\u0007").doesNotContain("\u001b").doesNotContain("\u0007");
+  }
 }
