@@ -256,7 +256,9 @@ public final class Fidelity {
     } else if (overlap >= 0.7) v.append("Hamming and cosine neighbours largely agree.");
     else if (overlap >= 0.4) v.append("Hamming and cosine neighbours agree only in part.");
     else v.append("Hamming neighbours mostly differ from cosine neighbours on the floats.");
-    v.append(String.format(java.util.Locale.ROOT, " Overlap %.2f, Spearman %.2f.", overlap, rho));
+    v.append(String.format(java.util.Locale.ROOT, " Overlap %.2f, ", overlap))
+        .append(Double.isNaN(rho) ? "Spearman undefined (one of the two distances is the same for every pair)."
+            : String.format(java.util.Locale.ROOT, "Spearman %.2f.", rho));
     if (tied >= 0.2)
       v.append(String.format(java.util.Locale.ROOT, " %.0f%% of queries have more than %d rows within the Hamming distance of their"
           + " neighbour number %d, so the order among ties (ascending id) decides part of the answer.", 100 * tied, k, k));
