@@ -253,7 +253,10 @@ class BadInputEndToEndTest {
     String[][] cases = {
         {"--median", "build", "--out", tmp.resolve("m-idx").toString(), "--codes", codes.toString(), "--median"},
         {"--code-layout", "compare", "--a", acts.toString(), "--b", acts.toString(), "--code-layout", "x:4,y:4"},
-        {"--threshold", "compare", "--a", codes.toString(), "--b", codes.toString(), "--kind", "codes", "--threshold", "0.5"}};
+        {"--threshold", "compare", "--a", codes.toString(), "--b", codes.toString(), "--kind", "codes", "--threshold", "0.5"},
+        // named --radius (the dupes option) and checked only after the page's slowest section
+        {"--dupes-radius", "report", "--index", idx.toString(), "--out", tmp.resolve("r1.html").toString(), "--dupes-radius", "-1"},
+        {"--dupes-radius", "report", "--index", idx.toString(), "--out", tmp.resolve("r2.html").toString(), "--dupes-radius", "9"}};
     for (String[] c : cases) {
       Cli.Result r = Cli.run(java.util.Arrays.copyOfRange(c, 1, c.length));
       assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
@@ -261,5 +264,7 @@ class BadInputEndToEndTest {
       assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
     }
     assertThat(!Files.exists(tmp.resolve("m-idx")) || Files2.checksums(tmp.resolve("m-idx")).isEmpty()).isTrue();
+    assertThat(tmp.resolve("r1.html")).doesNotExist();
+    assertThat(tmp.resolve("r2.html")).doesNotExist();
   }
 }
