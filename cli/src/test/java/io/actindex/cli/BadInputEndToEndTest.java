@@ -256,11 +256,13 @@ class BadInputEndToEndTest {
         {"--threshold", "compare", "--a", codes.toString(), "--b", codes.toString(), "--kind", "codes", "--threshold", "0.5"},
         // named --radius (the dupes option) and checked only after the page's slowest section
         {"--dupes-radius", "report", "--index", idx.toString(), "--out", tmp.resolve("r1.html").toString(), "--dupes-radius", "-1"},
-        {"--dupes-radius", "report", "--index", idx.toString(), "--out", tmp.resolve("r2.html").toString(), "--dupes-radius", "9"}};
+        {"--dupes-radius", "report", "--index", idx.toString(), "--out", tmp.resolve("r2.html").toString(), "--dupes-radius", "9"},
+        // the index holds no model: said "give activations or codes", which fidelity --index does not take
+        {"--inputs", "fidelity", "--index", idx.toString(), "--inputs", acts.toString()}};
     for (String[] c : cases) {
       Cli.Result r = Cli.run(java.util.Arrays.copyOfRange(c, 1, c.length));
       assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
-      assertThat(r.err()).as(r.describe()).contains(c[0]).doesNotContain("internal error");
+      assertThat(r.err()).as(r.describe()).contains(c[0]).doesNotContain("internal error").doesNotContain("give activations or codes");
       assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
     }
     assertThat(!Files.exists(tmp.resolve("m-idx")) || Files2.checksums(tmp.resolve("m-idx")).isEmpty()).isTrue();

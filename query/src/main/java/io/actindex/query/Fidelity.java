@@ -120,6 +120,9 @@ public final class Fidelity {
       return new Data(codes, floats, "kept " + keptBits + "-bit magnitudes of index " + r.dir() + " (dequantised)", kept, keptBits,
           any ? labels : null, null, 0);
     }
+    if (!BuildInfo.fromProperties(r.properties(), r.dir().toString()).hasModel())
+      throw new BadInputException(inputs + ": --inputs needs an index built from a model (build --model), and index " + r.dir()
+          + " holds none; leave --inputs out to measure on its kept magnitudes");
     QuerySource.Encoded enc = QuerySource.encode(r, Source.inputs(inputs, null), RowRange.ALL, Encoding.CHUNK, progress,
         "inputs", new java.util.ArrayList<>(), true);
     if (enc.codes().size() != r.maxId())
