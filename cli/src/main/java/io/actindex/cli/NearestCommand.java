@@ -4,6 +4,7 @@ import io.actindex.cli.format.CsvWriter;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
 import io.actindex.index.store.IndexReader;
+import io.actindex.query.Layers;
 import io.actindex.query.Nearest;
 import io.actindex.query.QueryCodes;
 import io.actindex.query.QuerySource;
@@ -84,7 +85,9 @@ final class NearestCommand implements Callable<Integer> {
     }
     List<Nearest.Result> results;
     List<Refine.Result> refined = null;
+    CsvColumns columns;
     try (IndexReader reader = IndexReader.open(index.dir)) {
+      columns = CsvColumns.of(reader, layers.layers);
       if (metric == null) {
         QueryCodes codes = query.load(reader);
         try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
@@ -106,7 +109,7 @@ final class NearestCommand implements Callable<Integer> {
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
       case json -> json(out, results, refined);
-      case csv -> csv(out, results, refined);
+      case csv -> csv(out, results, refined, columns);
       case table -> table(out, results, refined);
     }
     out.flush();
@@ -178,8 +181,23 @@ final class NearestCommand implements Callable<Integer> {
     return List.copyOf(names);
   }
 
-  private static void csv(PrintWriter out, List<Nearest.Result> results, List<Refine.Result> refined) {
-    List<String> layerNames = layerNames(results), metaNames = metaNames(results);
+  /**
+   * The CSV's per-layer and metadata columns, from the index (the layers counted, in the order
+   * {@link Layers#select} gives; every metadata column but key, label and split, sorted by name), so
+   * that they do not depend on the neighbours found.
+   */
+  private record CsvColumns(List<String> layers, List<String> meta) {
+    static CsvColumns of(IndexReader reader, List<String> layers) {
+      List<String> names = new ArrayList<>();
+      for (int s : Layers.select(reader.layout(), layers)) names.add(reader.layout().segments().get(s).name());
+      List<String> meta = new ArrayList<>(reader.meta().columns());
+      meta.removeAll(List.of("key", "label", "split"));
+      return new CsvColumns(List.copyOf(names), List.copyOf(meta));
+    }
+  }
+
+  private static void csv(PrintWriter out, List<Nearest.Result> results, List<Refine.Result> refined, CsvColumns columns) {
+    List<String> layerNames = columns.layers(), metaNames = columns.meta();
     List<String> header = new ArrayList<>(List.of("query", "rank", "id", "key", "distance"));
     if (refined != null) header.add("refined_distance");
     for (String l : layerNames) header.add("distance_" + l);
@@ -227,7 +245,7 @@ final class NearestCommand implements Callable<Integer> {
       StringBuilder head = new StringBuilder("query row " + r.row());
       if (r.neighbors().isEmpty()) head.append(": no example matches");
       else if (r.vote() != null) head.append("  vote: ").append(describe(r.vote(), k));
-      out.println(head);
+      out.println(io.actindex.core.BadInputException.snippet(head, Integer.MAX_VALUE)); // the label comes from a user's file
       if (refined != null)
         out.println("  order: re-ranked by " + Refine.Metric.parse(refine).label() + " distance on the kept magnitudes among "
             + refined.get(q).candidates() + " Hamming candidates (Hamming distance <= " + refined.get(q).hammingRadius() + ")");

@@ -344,6 +344,7 @@ final class OodCommand implements Callable<Integer> {
           new OutputFiles.Input("--train-floats", trainFloats)};
       if (roc != null) OutputFiles.checkTarget(roc, "--roc", inputs);
       if (html != null) OutputFiles.checkTarget(html, "--html", inputs);
+      OutputFiles.checkDistinct(html, "--html", roc, "--roc");
       OodEval.Result r;
       try (IndexReader reader = IndexReader.open(index.dir)) {
         Kind k = kind != null ? kind : BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel() ? Kind.inputs : Kind.activations;

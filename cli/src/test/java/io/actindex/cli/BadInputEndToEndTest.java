@@ -159,6 +159,15 @@ class BadInputEndToEndTest {
     Path dup = Files2.text(tmp.resolve("dup.csv"), List.of("key,label", "x1,a", "x1,b", "x3,c"));
     assertRefused(Cli.run("add", "--index", idx.toString(), "--activations", acts.toString(), "--meta", dup.toString()),
         new Case("duplicate key", dup, null));
+    // row-44 is the key id 44 would get if added without metadata (these rows get ids 40..42)
+    Path reserved = Files2.text(tmp.resolve("reserved.csv"), List.of("key,label", "x1,a", "row-44,b", "x3,c"));
+    Cli.Result r = Cli.run("add", "--index", idx.toString(), "--activations", acts.toString(), "--meta", reserved.toString());
+    assertRefused(r, new Case("a key kept for an id to come", reserved, null));
+    assertThat(r.err()).contains("data row 2: key 'row-44'");
+    Path built = tmp.resolve("built");
+    Cli.Result b = Cli.run("build", "--out", built.toString(), "--activations", acts.toString(), "--meta", reserved.toString());
+    assertRefused(b, new Case("a key kept for an id to come, build", reserved, null));
+    assertThat(built).doesNotExist();
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 
@@ -292,13 +301,20 @@ class BadInputEndToEndTest {
     String[][] cases = {
         {"--median", "build", "--out", tmp.resolve("m-idx").toString(), "--codes", codes.toString(), "--median"},
         {"--code-layout", "compare", "--a", acts.toString(), "--b", acts.toString(), "--code-layout", "x:4,y:4"},
-        {"--threshold", "compare", "--a", codes.toString(), "--b", codes.toString(), "--kind", "codes", "--threshold", "0.5"}};
+        {"--threshold", "compare", "--a", codes.toString(), "--b", codes.toString(), "--kind", "codes", "--threshold", "0.5"},
+        // named --radius (the dupes option) and checked only after the page's slowest section
+        {"--dupes-radius", "report", "--index", idx.toString(), "--out", tmp.resolve("r1.html").toString(), "--dupes-radius", "-1"},
+        {"--dupes-radius", "report", "--index", idx.toString(), "--out", tmp.resolve("r2.html").toString(), "--dupes-radius", "9"},
+        // the index holds no model: said "give activations or codes", which fidelity --index does not take
+        {"--inputs", "fidelity", "--index", idx.toString(), "--inputs", acts.toString()}};
     for (String[] c : cases) {
       Cli.Result r = Cli.run(java.util.Arrays.copyOfRange(c, 1, c.length));
       assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
-      assertThat(r.err()).as(r.describe()).contains(c[0]).doesNotContain("internal error");
+      assertThat(r.err()).as(r.describe()).contains(c[0]).doesNotContain("internal error").doesNotContain("give activations or codes");
       assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
     }
     assertThat(!Files.exists(tmp.resolve("m-idx")) || Files2.checksums(tmp.resolve("m-idx")).isEmpty()).isTrue();
+    assertThat(tmp.resolve("r1.html")).doesNotExist();
+    assertThat(tmp.resolve("r2.html")).doesNotExist();
   }
 }

@@ -355,4 +355,47 @@ class NearestEndToEndTest {
     assertThat(table.out()).as(table.describe()).contains(line);
     for (Hit h : exp0) assertThat(table.out()).contains(ex.get(h.id()).meta().get("key"));
   }
+  /**
+   * The CSV columns come from the index (its layers, or those of --layers, and its metadata
+   * fields), not from the neighbours found: a --where that matched nothing printed a header without
+   * the distance_LAYER and metadata columns, and one that matched only examples without 'line'
+   * dropped the 'line' column, so two runs on one index gave files of different columns.
+   */
+  @Test
+  void csvColumnsAreTheSameWhateverTheNeighbours() throws Exception {
+    long seed = Randoms.seed(201);
+    Data d = data(60, 1, 2, false, seed);
+    List<Example> ex = examples(d.index(), 0, "w", seed);
+    Path idx = tmp.resolve("idx");
+    assertThat(Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), d.index()).toString(),
+        "--code-layout", LAYOUT, "--meta", metaCsv(tmp.resolve("m.csv"), ex).toString()).code()).isZero();
+    String q = Files2.bits(tmp.resolve("q.npy"), d.queries()).toString();
+    String votes = "vote_label,vote_votes,vote_of,vote_agreement,vote_neighbors,vote_within_distance,vote_ties_included,vote_ties_left_out";
+    String[][] wheres = {{}, {"--where", "label = nothing"}, {"--where", "line != L1 and line != L2 and line != L3"}};
+    for (String[] where : wheres)
+      for (boolean h2 : new boolean[] {false, true}) {
+        List<String> args = new ArrayList<>(List.of("nearest", "--index", idx.toString(), "--codes", q, "-k", "3", "--format", "csv"));
+        args.addAll(List.of(where));
+        if (h2) args.addAll(List.of("--layers", "h2"));
+        Cli.Result r = Cli.run(args.toArray(String[]::new));
+        assertThat(r.code()).as(r.describe()).isZero();
+        assertThat(r.out().split("\\R")[0]).as(r.describe())
+            .isEqualTo("query,rank,id,key,distance," + (h2 ? "" : "distance_h1,") + "distance_h2,label,split,line,rpm," + votes);
+      }
+  }
+  /** A label holding an ESC sequence reached the terminal through the vote line of the table. */
+  @Test
+  void controlCharactersInMetadataDoNotReachTheTerminal() throws Exception {
+    boolean[][] codes = new boolean[4][8];
+    for (int i = 0; i < 4; i++) codes[i][i] = true;
+    List<String> meta = new ArrayList<>(List.of("key,label"));
+    for (int i = 0; i < 4; i++) meta.add("k" + i + ",\"red\u001b[31m\u0007\"");
+    Path idx = tmp.resolve("idx");
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), codes).toString(),
+        "--meta", Files2.text(tmp.resolve("m.csv"), meta).toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    Cli.Result r = Cli.run("nearest", "--index", idx.toString(), "--codes", tmp.resolve("c.npy").toString(), "-k", "2");
+    assertThat(r.code()).as(r.describe()).isZero();
+    assertThat(r.out()).contains("vote: red\\u001b[31m\\u0007").doesNotContain("\u001b").doesNotContain("\u0007");
+  }
 }

@@ -93,6 +93,42 @@ class OutputsEndToEndTest {
     }
   }
 
+  /**
+   * Two outputs of one command that name one path, or a C source folder that may not take the
+   * files: 'ood eval --roc r --html r' wrote the CSV and then replaced it with the page (exit 0);
+   * 'export-edge --out b --c-source b' wrote the bundle, then failed with an internal error (exit 1);
+   * 'export-edge --c-source idx/c' wrote the bundle and made a folder inside the index before it
+   * refused. Each is refused before anything is written: exit 2, one line naming both options.
+   */
+  @Test
+  void outputsThatCollideOrMayNotBeWrittenAreRefusedBeforeAnyIsWritten() throws IOException {
+    String i = idx.toString();
+    Path r = tmp.resolve("r.csv"), bundle = tmp.resolve("b.edge"), c = tmp.resolve("c");
+    String[] eval = {"ood", "eval", "--index", i, "--in", in.toString(), "--out", out.toString(), "--kind", "activations"};
+    String[][] commands = {
+        concat(eval, "--roc", r.toString(), "--html", r.toString()),
+        concat(eval, "--roc", r.toString(), "--html", tmp.resolve(".").resolve("r.csv").toString()),
+        {"export-edge", "--index", i, "--out", bundle.toString(), "--c-source", bundle.toString()},
+        {"export-edge", "--index", i, "--out", c.resolve("actindex_edge.h").toString(), "--c-source", c.toString()},
+        {"export-edge", "--index", i, "--out", bundle.toString(), "--c-source", idx.resolve("c").toString()},
+    };
+    String[][] mentions = {{"--roc", "--html"}, {"--roc", "--html"}, {"--out", "--c-source"}, {"--out", "--c-source"},
+        {"--c-source", "index folder"}};
+    Files.createDirectories(c);
+    for (int n = 0; n < commands.length; n++) {
+      Map<String, String> files = Files2.checksums(tmp);
+      Cli.Result res = Cli.run(commands[n]);
+      assertThat(res.code()).as(res.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(res.err().strip()).as(res.describe()).doesNotContain("\n").contains(mentions[n]);
+      assertThat(res.out()).as(res.describe()).isEmpty();
+      assertThat(Files2.checksums(tmp)).as(res.describe() + "\nevery file as it was, no temporary file left").isEqualTo(files);
+      assertThat(idx.resolve("c")).as(res.describe()).doesNotExist();
+    }
+    // with outputs of their own, the same commands succeed
+    ok(concat(eval, "--roc", r.toString(), "--html", tmp.resolve("r.html").toString()));
+    ok("export-edge", "--index", i, "--out", bundle.toString(), "--c-source", c.toString());
+  }
+
   /** 'build --out idx/sub' nested an index in an index; an existing non-empty folder stays refused as before. */
   @Test
   void aNewIndexInsideAnIndexFolderIsRefused() throws IOException {

@@ -68,6 +68,16 @@ public final class OutputFiles {
             + "); writing it would replace that input, so nothing was written: give " + option + " another file");
   }
 
+  /**
+   * Refuses two outputs of one command that name one path (the same test as {@link
+   * #checkNotInput}): the second written would replace the first. Null paths are skipped.
+   */
+  public static void checkDistinct(Path target, String option, Path other, String otherOption) {
+    if (target != null && other != null && sameFile(target, other))
+      throw new BadInputException(target + ": " + option + " and " + otherOption + " (" + other
+          + ") name the same path; one output would replace the other, so nothing was written: give each its own");
+  }
+
   /** Whether {@code a} and {@code b} name one file (see {@link #checkNotInput}). */
   static boolean sameFile(Path a, Path b) {
     if (Files.exists(a) && Files.exists(b)) {

@@ -1,5 +1,6 @@
 package io.actindex.query;
 
+import io.actindex.core.BadInputException;
 import io.actindex.core.OutputFiles;
 import io.actindex.edge.EdgeBundle;
 import io.actindex.edge.EdgeBundle.Calibration;
@@ -24,6 +25,22 @@ public final class EdgeCSource {
   private EdgeCSource() {}
 
   public static final String HEADER = "actindex_edge.h", SOURCE = "actindex_edge.c";
+
+  /**
+   * Refuses a {@code dir} that cannot take both files, before anything is written: a file, a
+   * folder in an index folder, the path of {@code out} (the bundle), or holding {@code out} as one of
+   * the two files.
+   */
+  public static void checkTargets(Path dir, Path out) {
+    if (Files.exists(dir) && !Files.isDirectory(dir)) throw new BadInputException(dir + ": --c-source names a folder, this is a file");
+    OutputFiles.checkDistinct(dir, "--c-source", out, "--out");
+    for (String name : List.of(HEADER, SOURCE)) {
+      Path file = dir.resolve(name);
+      if (Files.isDirectory(dir)) OutputFiles.checkTarget(file, "--c-source");
+      else OutputFiles.checkOutsideIndex(file, "--c-source");
+      OutputFiles.checkDistinct(file, "--c-source", out, "--out");
+    }
+  }
 
   /** Writes both files into {@code dir} (created if absent); returns their paths. */
   public static List<Path> write(EdgeBundle b, Path dir) throws IOException {

@@ -12,7 +12,6 @@ import io.actindex.encode.mlp.Mlp;
 import io.actindex.index.store.IndexReader;
 import java.io.IOException;
 import java.io.UncheckedIOException;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.Arrays;
@@ -45,8 +44,7 @@ public final class EdgeExport {
     byte[] bytes = BundleFormat.toBytes(b);
     try {
       OutputFiles.checkTarget(p.out(), "--out");
-      if (p.cSource() != null && Files.exists(p.cSource()) && !Files.isDirectory(p.cSource()))
-        throw new BadInputException(p.cSource() + ": --c-source names a folder, this is a file");
+      if (p.cSource() != null) EdgeCSource.checkTargets(p.cSource(), p.out());
       OutputFiles.write(p.out(), bytes, "--out");
       List<Path> c = p.cSource() == null ? List.of() : EdgeCSource.write(b, p.cSource());
       return new Result(p.out(), bytes.length, b.uniqueCodes(), b.examples(), bytes.length / (double) b.examples(), p.withModel(), c);

@@ -120,6 +120,9 @@ public final class Fidelity {
       return new Data(codes, floats, "kept " + keptBits + "-bit magnitudes of index " + r.dir() + " (dequantised)", kept, keptBits,
           any ? labels : null, null, 0);
     }
+    if (!BuildInfo.fromProperties(r.properties(), r.dir().toString()).hasModel())
+      throw new BadInputException(inputs + ": --inputs needs an index built from a model (build --model), and index " + r.dir()
+          + " holds none; leave --inputs out to measure on its kept magnitudes");
     QuerySource.Encoded enc = QuerySource.encode(r, Source.inputs(inputs, null), RowRange.ALL, Encoding.CHUNK, progress,
         "inputs", new java.util.ArrayList<>(), true);
     if (enc.codes().size() != r.maxId())
@@ -256,7 +259,9 @@ public final class Fidelity {
     } else if (overlap >= 0.7) v.append("Hamming and cosine neighbours largely agree.");
     else if (overlap >= 0.4) v.append("Hamming and cosine neighbours agree only in part.");
     else v.append("Hamming neighbours mostly differ from cosine neighbours on the floats.");
-    v.append(String.format(java.util.Locale.ROOT, " Overlap %.2f, Spearman %.2f.", overlap, rho));
+    v.append(String.format(java.util.Locale.ROOT, " Overlap %.2f, ", overlap))
+        .append(Double.isNaN(rho) ? "Spearman undefined (one of the two distances is the same for every pair)."
+            : String.format(java.util.Locale.ROOT, "Spearman %.2f.", rho));
     if (tied >= 0.2)
       v.append(String.format(java.util.Locale.ROOT, " %.0f%% of queries have more than %d rows within the Hamming distance of their"
           + " neighbour number %d, so the order among ties (ascending id) decides part of the answer.", 100 * tied, k, k));

@@ -63,6 +63,9 @@ public final class Report {
   public static Result run(IndexReader reader, Params p, Progress progress) throws IOException {
     OutputFiles.checkTarget(p.out(), "--out", new OutputFiles.Input("--compare-a", p.compareA()),
         new OutputFiles.Input("--compare-b", p.compareB()));
+    int bits = reader.layout().bits();
+    if (p.dupesRadius() != null && (p.dupesRadius() < 0 || p.dupesRadius() > bits))
+      throw new BadInputException("--dupes-radius must be 0 to the code length, " + bits + " bits; got " + p.dupesRadius());
     IndexReport.Facts f = facts(reader, progress);
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
     HtmlPage page = new HtmlPage(title, f.examples() + " examples, " + reader.layout().bits() + " bits per example.");

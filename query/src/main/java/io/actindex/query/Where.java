@@ -178,17 +178,31 @@ public final class Where {
           throw error(op, "'" + op.text + "' needs a number field; '" + field.text + "' holds text (use = != in)");
         double x = number(v);
         yield switch (op.text) {
-          case "<" -> DoublePoint.newRangeQuery(field.text, Double.NEGATIVE_INFINITY, Math.nextDown(x));
-          case "<=" -> DoublePoint.newRangeQuery(field.text, Double.NEGATIVE_INFINITY, x);
-          case ">" -> DoublePoint.newRangeQuery(field.text, Math.nextUp(x), Double.POSITIVE_INFINITY);
-          default -> DoublePoint.newRangeQuery(field.text, x, Double.POSITIVE_INFINITY);
+          case "<" -> DoublePoint.newRangeQuery(field.text, Double.NEGATIVE_INFINITY, Math.nextDown(low(x)));
+          case "<=" -> DoublePoint.newRangeQuery(field.text, Double.NEGATIVE_INFINITY, high(x));
+          case ">" -> DoublePoint.newRangeQuery(field.text, Math.nextUp(high(x)), Double.POSITIVE_INFINITY);
+          default -> DoublePoint.newRangeQuery(field.text, low(x), Double.POSITIVE_INFINITY);
         };
       }
     };
   }
 
   private Query equalsQuery(String field, FieldKind kind, Token v) {
-    return kind == FieldKind.NUMBER ? DoublePoint.newExactQuery(field, number(v)) : new TermQuery(new Term(field, v.text));
+    if (kind != FieldKind.NUMBER) return new TermQuery(new Term(field, v.text));
+    double x = number(v);
+    return DoublePoint.newRangeQuery(field, low(x), high(x));
+  }
+
+  /*
+   * Points compare doubles by their bits, where -0.0 sorts just below 0.0; as numbers they are
+   * equal (a file may hold "-0.0", a user may type -0). A value's bounds: both zeros for a zero.
+   */
+  private static double low(double x) {
+    return x == 0 ? -0.0 : x;
+  }
+
+  private static double high(double x) {
+    return x == 0 ? 0.0 : x;
   }
 
   /** The values of {@code in (v1, v2, ...)} after the '(' as one set query (one clause, any length). */
@@ -201,9 +215,12 @@ public final class Where {
     expect(T.RPAREN, "',' or ')'");
     if (values.size() == 1) return equalsQuery(field, kind, values.get(0));
     if (kind == FieldKind.NUMBER) {
-      double[] xs = new double[values.size()];
-      for (int i = 0; i < xs.length; i++) xs[i] = number(values.get(i));
-      return DoublePoint.newSetQuery(field, xs);
+      java.util.stream.DoubleStream.Builder xs = java.util.stream.DoubleStream.builder();
+      for (Token v : values) {
+        double x = number(v);
+        xs.add(low(x)).add(high(x)); // a zero: both zeros
+      }
+      return DoublePoint.newSetQuery(field, xs.build().distinct().toArray());
     }
     LinkedHashSet<BytesRef> terms = new LinkedHashSet<>();
     for (Token v : values) terms.add(new BytesRef(v.text));

@@ -123,4 +123,15 @@ class FidelityTest {
     assertThatThrownBy(() -> new Fidelity.Params(1, 0, 10, 100, 1, 1)).isInstanceOf(BadInputException.class);
     assertThatThrownBy(() -> new Fidelity.Params(1, 5, 4, 100, 1, 1)).isInstanceOf(BadInputException.class);
   }
+  /**
+   * Codes that are all the same (every unit off on these rows) give every pair Hamming distance 0,
+   * so Spearman's rho is undefined (null in JSON, empty in the table): the verdict printed
+   * "Spearman NaN".
+   */
+  @Test
+  void anUndefinedSpearmanIsSaidInWordsNotAsNaN() {
+    String v = Fidelity.verdict(0.07, Double.NaN, 1.0, null, 3, 29);
+    assertThat(v).doesNotContain("NaN").contains("Spearman undefined");
+    assertThat(Fidelity.verdict(0.07, 0.25, 1.0, null, 3, 29)).contains("Spearman 0.25");
+  }
 }

@@ -113,6 +113,32 @@ class WhereTest {
     }
   }
 
+  /**
+   * Negative zero equals zero: NumPy and pandas write "-0.0" for it, and a user may type "-0". The
+   * filter compared the points' bits, so {@code n = 0} missed rows stored as -0.0, {@code n = -0}
+   * and {@code n <= -0} missed the rows stored as 0, and {@code n != -0} kept them.
+   */
+  @Test
+  void negativeZeroIsZeroOnBothSides(@org.junit.jupiter.api.io.TempDir java.nio.file.Path tmp) {
+    String[] n = {"-0.0", "0", "0.0", "-1", "2", "-0"};
+    List<Map<String, String>> meta = new ArrayList<>();
+    for (int i = 0; i < n.length; i++) meta.add(Map.of("key", "k" + i, "n", n[i]));
+    TestIndexes.write(tmp, io.actindex.core.SyntheticCodes.uniform(n.length, 8, 1), meta, 1);
+    RoaringBitmap zeros = RoaringBitmap.bitmapOf(0, 1, 2, 5), negative = RoaringBitmap.bitmapOf(3), positive = RoaringBitmap.bitmapOf(4);
+    try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(tmp)) {
+      for (String z : new String[] {"0", "-0", "0.0", "-0.0", "-0e5"}) {
+        assertThat(Where.select(reader.meta(), "n = " + z)).as("= " + z).isEqualTo(zeros);
+        assertThat(Where.select(reader.meta(), "n in (" + z + ")")).as("in " + z).isEqualTo(zeros);
+        assertThat(Where.select(reader.meta(), "n in (" + z + ", 2)")).as("in " + z + ", 2").isEqualTo(RoaringBitmap.or(zeros, positive));
+        assertThat(Where.select(reader.meta(), "n != " + z)).as("!= " + z).isEqualTo(RoaringBitmap.or(negative, positive));
+        assertThat(Where.select(reader.meta(), "n < " + z)).as("< " + z).isEqualTo(negative);
+        assertThat(Where.select(reader.meta(), "n <= " + z)).as("<= " + z).isEqualTo(RoaringBitmap.or(zeros, negative));
+        assertThat(Where.select(reader.meta(), "n > " + z)).as("> " + z).isEqualTo(positive);
+        assertThat(Where.select(reader.meta(), "n >= " + z)).as(">= " + z).isEqualTo(RoaringBitmap.or(zeros, positive));
+      }
+    }
+  }
+
   @Test
   void documentedExampleMatchesItsMeaning() throws IOException {
     List<Row> rows = List.of(new Row("cat", "train", 0.7, "a", 1.0), new Row("cat", "test", 0.9, "a", 1.0),

@@ -1,5 +1,6 @@
 package io.actindex.cli.format;
 
+import io.actindex.core.BadInputException;
 import java.io.PrintWriter;
 import java.util.ArrayList;
 import java.util.List;
@@ -7,14 +8,16 @@ import java.util.List;
 /**
  * A plain-text table for terminals: a header row, a dashed rule, then rows, columns padded to
  * their widest cell and separated by two spaces. Cells that look numeric are right-aligned.
- * Line breaks and tabs inside cells are shown as spaces so a row stays on one line.
+ * Line breaks and tabs inside cells are shown as spaces so a row stays on one line; other control
+ * characters and line or paragraph separators (cells come from users' files: an ESC sequence would
+ * drive the terminal) are shown escaped, {@code \u001b}, as {@link BadInputException#snippet} does.
  */
 public final class TextTable {
   private final List<String> header;
   private final List<List<String>> rows = new ArrayList<>();
 
   public TextTable(List<String> header) {
-    this.header = List.copyOf(header);
+    this.header = header.stream().map(TextTable::clean).toList();
   }
 
   /** Adds a row; it must have as many cells as the header (null cells print empty). */
@@ -22,9 +25,13 @@ public final class TextTable {
     if (cells.size() != header.size())
       throw new IllegalArgumentException("row has " + cells.size() + " cells, the header " + header.size());
     List<String> clean = new ArrayList<>(cells.size());
-    for (String c : cells) clean.add(c == null ? "" : c.replaceAll("[\\t\\r\\n]", " "));
+    for (String c : cells) clean.add(clean(c));
     rows.add(clean);
     return this;
+  }
+
+  private static String clean(String cell) {
+    return cell == null ? "" : BadInputException.snippet(cell.replaceAll("[\\t\\r\\n]", " "), Integer.MAX_VALUE);
   }
 
   public int size() {

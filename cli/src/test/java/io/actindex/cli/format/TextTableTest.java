@@ -25,6 +25,26 @@ class TextTableTest {
         "    10  w-2     bearing wear");
   }
 
+  /**
+   * Cells come from metadata files: a label holding ESC [31m turned the terminal red, a backspace
+   * hid characters, a vertical tab or line separator broke the row. Control characters (other than
+   * the line breaks and tabs shown as spaces) and line or paragraph separators are printed escaped,
+   * in cells and in the header alike.
+   */
+  @Test
+  void controlCharactersInCellsAreEscapedNotSentToTheTerminal() {
+    TextTable t = new TextTable(List.of("key", "no\u001bte"));
+    t.row(List.of("k\u0008\u0008x", "l\u001b[31mred\u000bnext\u2028line\u0007"));
+    StringWriter sw = new StringWriter();
+    PrintWriter pw = new PrintWriter(sw);
+    t.print(pw, "");
+    pw.flush();
+    String out = sw.toString();
+    assertThat(out.split("\n")).hasSize(3);
+    assertThat(out).contains("k\\u0008\\u0008x", "l\\u001b[31mred\\u000bnext\\u2028line\\u0007", "no\\u001bte")
+        .doesNotContain("\u001b").doesNotContain("\u0008").doesNotContain("\u000b").doesNotContain("\u2028").doesNotContain("\u0007");
+  }
+
   @Test
   void rowWidthMustMatchHeader() {
     assertThatThrownBy(() -> new TextTable(List.of("a")).row(List.of("1", "2"))).isInstanceOf(IllegalArgumentException.class);

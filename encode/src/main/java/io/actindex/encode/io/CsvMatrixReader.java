@@ -31,7 +31,8 @@ import java.util.regex.Pattern;
  * cell is a number, and refused (naming the first text cell) when it mixes both. {@link #notes()}
  * says which was chosen, and flags a leading column that looks like a row index.
  *
- * <p>Blank lines are skipped. A row with a different number of fields, an empty field, text, NaN
+ * <p>Cells may be quoted as RFC 4180 says ({@code "h1,u0"} is one cell, {@code ""} inside quotes
+ * one quote; a quoted number is a number), each on one line. Blank lines are skipped. A row with a different number of fields, an empty field, text, NaN
  * or an infinity is refused naming the line (1-based, as editors show it), the row and the column
  * (0-based). Lines are limited to {@link #MAX_LINE_BYTES}. Not thread-safe.
  */
@@ -69,7 +70,7 @@ public final class CsvMatrixReader implements MatrixReader {
     String first = nextLine();
     if (first == null) throw new BadInputException(file + ": the CSV file is empty");
     long firstLine = line;
-    String[] f = first.split(",", -1);
+    String[] f = split(first, firstLine);
     this.cols = f.length;
     boolean isHeader = switch (mode) {
       case YES -> {
@@ -146,8 +147,7 @@ public final class CsvMatrixReader implements MatrixReader {
     boolean counting = pending.size() >= 2;
     long start = -1, k = 0;
     for (String s : pending) {
-      int comma = s.indexOf(',');
-      String c0 = (comma < 0 ? s : s.substring(0, comma)).trim();
+      String c0 = split(s, -1)[0].trim();
       long v;
       try {
         v = Long.parseLong(c0);
@@ -313,24 +313,79 @@ public final class CsvMatrixReader implements MatrixReader {
     return n;
   }
 
+  /**
+   * The cells of a line, RFC 4180 quoting undone: {@code "a,b"} is one cell, {@code ""} inside
+   * quotes one quote (a cell may not span lines). A quote left open, or text after a closing quote,
+   * is refused naming line {@code at}; at {@code -1} (a line read ahead, refused later when parsed)
+   * the line is split at every comma instead.
+   */
+  private String[] split(String s, long at) {
+    if (s.indexOf('"') < 0) return s.split(",", -1);
+    List<String> cells = new ArrayList<>();
+    StringBuilder cell = new StringBuilder();
+    int i = 0, n = s.length();
+    while (true) {
+      int start = i;
+      while (i < n && s.charAt(i) == ' ') i++;
+      if (i < n && s.charAt(i) == '"') {
+        cell.setLength(0);
+        for (i++; ; i++) {
+          if (i == n) {
+            if (at < 0) return s.split(",", -1);
+            throw new BadInputException(file + ": line " + at + ", column " + cells.size() + " (0-based): a quoted cell is not closed on its line");
+          }
+          char c = s.charAt(i);
+          if (c != '"') cell.append(c);
+          else if (i + 1 < n && s.charAt(i + 1) == '"') cell.append(s.charAt(++i));
+          else break;
+        }
+        for (i++; i < n && s.charAt(i) == ' '; i++) {}
+        if (i < n && s.charAt(i) != ',') {
+          if (at < 0) return s.split(",", -1);
+          throw new BadInputException(file + ": line " + at + ", column " + cells.size() + " (0-based): text after a closing quote");
+        }
+        cells.add(cell.toString());
+      } else {
+        int comma = s.indexOf(',', i);
+        i = comma < 0 ? n : comma;
+        cells.add(s.substring(start, i));
+      }
+      if (i == n) return cells.toArray(String[]::new);
+      i++; // the comma
+    }
+  }
+
   private void parseRow(String s, long at, double[] out, int off) {
+    if (s.indexOf('"') >= 0) {
+      String[] f = split(s, at);
+      for (int col = 0; col < f.length; col++) {
+        if (col >= cols) throw new BadInputException(where(at, col) + ": too many fields (expected " + cols + ")");
+        out[off + col] = value(f[col].trim(), at, col);
+      }
+      if (f.length != cols) throw new BadInputException(where(at, f.length) + ": only " + f.length + " fields (expected " + cols + ")");
+      return;
+    }
     int col = 0, start = 0;
     while (true) {
       int comma = s.indexOf(',', start);
       int end = comma < 0 ? s.length() : comma;
       if (col >= cols) throw new BadInputException(where(at, col) + ": too many fields (expected " + cols + ")");
-      String f = s.substring(start, end).trim();
-      if (f.isEmpty()) throw new BadInputException(where(at, col) + ": empty field");
-      if (!isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number");
-      char c0 = f.charAt(f.length() - 1);
-      double v = Character.isLetter(c0) ? Double.NaN : Double.parseDouble(f);
-      if (!Double.isFinite(v)) throw new BadInputException(where(at, col) + ": value is " + BadInputException.quote(f) + "; only finite numbers are accepted");
-      out[off + col] = v;
+      out[off + col] = value(s.substring(start, end).trim(), at, col);
       col++;
       if (comma < 0) break;
       start = comma + 1;
     }
     if (col != cols) throw new BadInputException(where(at, col) + ": only " + col + " fields (expected " + cols + ")");
+  }
+
+  /** The number in cell {@code f} (trimmed); empty, text, NaN and infinities are refused naming the cell. */
+  private double value(String f, long at, int col) {
+    if (f.isEmpty()) throw new BadInputException(where(at, col) + ": empty field");
+    if (!isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number");
+    char c0 = f.charAt(f.length() - 1);
+    double v = Character.isLetter(c0) ? Double.NaN : Double.parseDouble(f);
+    if (!Double.isFinite(v)) throw new BadInputException(where(at, col) + ": value is " + BadInputException.quote(f) + "; only finite numbers are accepted");
+    return v;
   }
 
   private String where(long at, int col) {

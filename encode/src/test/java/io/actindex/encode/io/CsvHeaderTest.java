@@ -88,6 +88,48 @@ class CsvHeaderTest {
     }
   }
 
+  /**
+   * RFC 4180 quoting: Python's {@code csv.writer} quotes a column name holding a comma or a quote
+   * (and with {@code quoting=csv.QUOTE_ALL} every cell, numbers too); R's {@code write.csv} quotes
+   * every name and row name ({@code "","V1"} over {@code "1",0.5}). The header was split at every
+   * comma and a quoted number was "not a number", so such files were refused or misread.
+   */
+  @Test
+  void quotedCellsAreReadAsRfc4180SaysNamesWithCommasStayOneColumn() throws IOException {
+    // printed by: csv.writer(f).writerow(['h1,u0', 'say "x"', 'u2']); writerow([0.5, -1, 0.002])
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("names.csv", "\"h1,u0\",\"say \"\"x\"\"\",u2\r\n0.5,-1,0.002\r\n"), Header.AUTO)) {
+      assertThat(r.cols()).isEqualTo(3);
+      assertThat(r.header()).containsExactly("h1,u0", "say \"x\"", "u2");
+      assertThat(all(r, 1)).containsExactly(0.5, -1, 0.002);
+    }
+    // the same with quoting=csv.QUOTE_ALL
+    String all = "\"h1,u0\",\"say \"\"x\"\"\",\"u2\"\r\n\"0.5\",\"-1\",\"0.002\"\r\n\"1\",\"2\",\"3\"\r\n";
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("all.csv", all), Header.AUTO)) {
+      assertThat(r.header()).containsExactly("h1,u0", "say \"x\"", "u2");
+      assertThat(all(r, 2)).containsExactly(0.5, -1, 0.002, 1, 2, 3);
+    }
+    // a quoted first line of numbers is data, as unquoted
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("qnum.csv", "\"1\",\"2\"\n3,4\n"), Header.AUTO)) {
+      assertThat(r.header()).isNull();
+      assertThat(all(r, 2)).containsExactly(1, 2, 3, 4);
+    }
+    // R's write.csv with row names: an empty quoted header cell over quoted 1, 2, 3 gets the row-index hint
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("r.csv", "\"\",\"V1\",\"V2\"\n\"1\",0.5,-1\n\"2\",2,3\n\"3\",4,5\n"), Header.AUTO)) {
+      assertThat(r.header()).containsExactly("", "V1", "V2");
+      assertThat(all(r, 3)).containsExactly(1, 0.5, -1, 2, 2, 3, 3, 4, 5);
+      assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("row index").contains("values 1, 2"));
+    }
+    // broken quoting is refused naming the file and line; a quoted cell is checked like any other
+    for (String[] bad : new String[][] {{"open.csv", "a,b\n1,\"2\n", "line 2", "not closed"}, {"after.csv", "a,b\n1,\"2\"x\n", "line 2", "after a closing quote"},
+        {"text.csv", "a,b\n1,\"x\"\n", "line 2", "'x' is not a number"}, {"empty.csv", "a,b\n1,\"\"\n", "line 2", "empty field"},
+        {"wide.csv", "a,b\n1,\"2,3\"\n", "line 2", "'2,3' is not a number"}})
+      assertThatThrownBy(() -> {
+        try (CsvMatrixReader r = CsvMatrixReader.open(csv(bad[0], bad[1]), Header.AUTO)) {
+          r.read(new double[8], 4);
+        }
+      }).as(bad[0]).isInstanceOf(BadInputException.class).hasMessageContaining(bad[0]).hasMessageContaining(bad[2]).hasMessageContaining(bad[3]);
+  }
+
   @Test
   void utf16AndLatin1AreRefusedWithTheByteOffsetUtf8BomIsAccepted() throws IOException {
     Path bom16 = tmp.resolve("u16.csv");

@@ -251,6 +251,17 @@ public final class MetaStore implements Closeable {
     return Collections.unmodifiableMap(fields);
   }
 
+  /**
+   * The columns some stored row holds a value for (a subset of {@link #fields()}: a fixed keyword
+   * such as {@code source} is listed there whether or not the metadata had it), sorted by name.
+   */
+  public List<String> columns() {
+    org.apache.lucene.index.FieldInfos infos = org.apache.lucene.index.FieldInfos.getMergedFieldInfos(reader);
+    List<String> out = new ArrayList<>();
+    for (String f : new java.util.TreeSet<>(fields.keySet())) if (infos.fieldInfo(f) != null) out.add(f);
+    return out;
+  }
+
   /** The row of {@code id}: key plus every non-empty column as given; null if the id is not live. */
   public Map<String, String> document(int id) {
     if (bare.contains(id)) {
