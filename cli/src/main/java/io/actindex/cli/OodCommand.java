@@ -4,6 +4,7 @@ import io.actindex.cli.format.CsvWriter;
 import io.actindex.cli.format.Format;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
+import io.actindex.core.BadInputException;
 import io.actindex.core.OutputFiles;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.edge.EdgeBundle.Statistic;
@@ -347,7 +348,11 @@ final class OodCommand implements Callable<Integer> {
       OutputFiles.checkDistinct(html, "--html", roc, "--roc");
       OodEval.Result r;
       try (IndexReader reader = IndexReader.open(index.dir)) {
-        Kind k = kind != null ? kind : BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel() ? Kind.inputs : Kind.activations;
+        boolean hasModel = BuildInfo.fromProperties(reader.properties(), index.dir.toString()).hasModel();
+        if (kind == Kind.inputs && !hasModel)
+          throw new BadInputException(index.dir + ": --kind inputs needs an index built from a model (build --model), and this one holds"
+              + " none; give --kind activations or --kind codes");
+        Kind k = kind != null ? kind : hasModel ? Kind.inputs : Kind.activations;
         try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "evaluating")) {
           if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
           r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats, candidates,

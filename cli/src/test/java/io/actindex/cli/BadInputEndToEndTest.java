@@ -306,7 +306,9 @@ class BadInputEndToEndTest {
         {"--dupes-radius", "report", "--index", idx.toString(), "--out", tmp.resolve("r1.html").toString(), "--dupes-radius", "-1"},
         {"--dupes-radius", "report", "--index", idx.toString(), "--out", tmp.resolve("r2.html").toString(), "--dupes-radius", "9"},
         // the index holds no model: said "give activations or codes", which fidelity --index does not take
-        {"--inputs", "fidelity", "--index", idx.toString(), "--inputs", acts.toString()}};
+        {"--inputs", "fidelity", "--index", idx.toString(), "--inputs", acts.toString()},
+        // the same for ood eval's --kind inputs ('--kind activations' or 'codes' is what it takes)
+        {"--kind inputs", "ood", "eval", "--index", idx.toString(), "--in", acts.toString(), "--out", acts.toString(), "--kind", "inputs"}};
     for (String[] c : cases) {
       Cli.Result r = Cli.run(java.util.Arrays.copyOfRange(c, 1, c.length));
       assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
