@@ -87,7 +87,8 @@ final class FidelityCommand implements Callable<Integer> {
     if (queries != null && queries < 1) throw new ParameterException(spec.commandLine(), "--queries must be at least 1, got " + queries);
     if (candidates != null && candidates < k)
       throw new ParameterException(spec.commandLine(), "--candidates must be at least 1 and at least -k (" + k + "), got " + candidates);
-    if (pairs < 2) throw new ParameterException(spec.commandLine(), "--pairs must be at least 2, got " + pairs);
+    if (pairs < 2 || pairs > Fidelity.MAX_PAIRS)
+      throw new ParameterException(spec.commandLine(), "--pairs must be from 2 to " + Fidelity.MAX_PAIRS + " (about a gigabyte of memory), got " + pairs);
     if (bits != 2 && bits != 4 && bits != 8) throw new ParameterException(spec.commandLine(), "--magnitudes must be 8, 4 or 2, got " + bits);
     int c = candidates != null ? candidates : Math.max(Refine.DEFAULT_CANDIDATES, k);
     Fidelity.Result result;

@@ -308,6 +308,8 @@ class BadInputEndToEndTest {
         // the index holds no model: said "give activations or codes", which fidelity --index does not take
         {"--inputs", "fidelity", "--index", idx.toString(), "--inputs", acts.toString()},
         // the same for ood eval's --kind inputs ('--kind activations' or 'codes' is what it takes)
+        // ran out of memory (exit 1, advising more memory)
+        {"--pairs", "fidelity", "--activations", acts.toString(), "--pairs", "2147483647"},
         {"--kind inputs", "ood", "eval", "--index", idx.toString(), "--in", acts.toString(), "--out", acts.toString(), "--kind", "inputs"}};
     for (String[] c : cases) {
       Cli.Result r = Cli.run(java.util.Arrays.copyOfRange(c, 1, c.length));

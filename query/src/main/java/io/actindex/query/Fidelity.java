@@ -41,8 +41,15 @@ public final class Fidelity {
   public static final int DEFAULT_QUERIES = 1000, DEFAULT_PAIRS = 20000;
 
   /**
+   * The most pairs Spearman's correlation takes: each costs two doubles and their ranks, so 10M is
+   * about a gigabyte, and its standard error (about 1/sqrt(pairs)) is long below any difference
+   * that matters.
+   */
+  public static final int MAX_PAIRS = 10_000_000;
+
+  /**
    * {@code queries >= 1} sampled rows (at most the rows there are), {@code k >= 1},
-   * {@code candidates >= k} for the refined k-NN, {@code pairs >= 2} for Spearman, {@code seed} for
+   * {@code candidates >= k} for the refined k-NN, {@code pairs} from 2 to {@link #MAX_PAIRS} for Spearman, {@code seed} for
    * the samples, {@code threads >= 1}.
    */
   public record Params(int queries, int k, int candidates, int pairs, long seed, int threads) {
@@ -50,7 +57,7 @@ public final class Fidelity {
       if (queries < 1) throw new BadInputException("queries must be at least 1, got " + queries);
       if (k < 1) throw new BadInputException("k must be at least 1, got " + k);
       if (candidates < k) throw new BadInputException("candidates (" + candidates + ") must be at least k (" + k + ")");
-      if (pairs < 2) throw new BadInputException("pairs must be at least 2, got " + pairs);
+      if (pairs < 2 || pairs > MAX_PAIRS) throw new BadInputException("pairs must be from 2 to " + MAX_PAIRS + ", got " + pairs);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
     }
   }
