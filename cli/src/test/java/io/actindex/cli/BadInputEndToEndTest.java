@@ -260,6 +260,16 @@ class BadInputEndToEndTest {
     assertRefused(Cli.run("build", "--out", tmp.resolve("g-idx").toString(), "--model", folder.toString(), "--inputs", folder.toString()), c);
   }
 
+  @Test
+  void aDeviceOrPipeIsNotCalledMissing() {
+    // a process substitution (--codes <(...)) is a pipe under /dev/fd; /dev/null was "no such file"
+    Path device = Path.of("/dev/null");
+    org.junit.jupiter.api.Assumptions.assumeTrue(Files.exists(device) && !Files.isRegularFile(device));
+    Case c = new Case("a device as codes", device, "not a regular file");
+    assertRefused(Cli.run("nearest", "--index", idx.toString(), "--codes", device.toString()), c);
+    assertRefused(Cli.run("build", "--out", tmp.resolve("d-idx").toString(), "--activations", device.toString()), c);
+  }
+
   /**
    * An empty path (an unset shell variable: {@code --out "$OUT"}) is refused naming its option; it
    * was the current folder: {@code build --out ""} built an index there, {@code --keys ""} said

@@ -60,6 +60,10 @@ class StorageCommandsEndToEndTest {
     JsonNode d = json(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json"));
     assertThat(d.get("deleted").asInt()).isEqualTo(3);
     live.removeAll(List.of(5, 7, 250));
+    // the same list again (a rerun after a warning): refused, and the message does not claim the keys never existed
+    Map<String, String> once = Files2.checksums(idx);
+    refused(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString()), "deleted already");
+    assertThat(Files2.checksums(idx)).isEqualTo(once);
     d = json(Cli.run("delete", "--index", idx.toString(), "--where", "label = a", "--format", "json"));
     int labelledA = 0;
     for (int i = 0; i < 200; i += 3) if (live.remove(i)) labelledA++;

@@ -261,7 +261,9 @@ public final class Encoders {
 
   private static void checkReadable(Path file) {
     if (Files.isDirectory(file)) throw new BadInputException(file + ": is a folder, not a file");
-    if (!Files.isRegularFile(file)) throw new BadInputException(file + ": no such file");
+    if (!Files.exists(file)) throw new BadInputException(file + ": no such file");
+    if (!Files.isRegularFile(file))
+      throw new BadInputException(file + ": not a regular file (a device or a pipe); save the data to a file first");
     if (!Files.isReadable(file)) throw new BadInputException(file + ": not readable");
   }
 

@@ -89,7 +89,7 @@ public final class Delete {
       int id = meta.idOfKey(key);
       if (id < 0)
         throw new BadInputException("keys file " + file + " line " + (i + 1) + ": key '" + Snippet.of(key)
-            + "' is not in the index (nothing deleted)");
+            + "' is not a live example of the index (never added, or deleted already); nothing deleted");
       ids.add(id);
     }
     return ids;

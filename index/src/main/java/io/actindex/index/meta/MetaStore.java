@@ -100,7 +100,8 @@ public final class MetaStore implements Closeable {
   public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted, RoaringBitmap documented,
       int maxId, long fullCheckBytes) {
     if (!java.nio.file.Files.isDirectory(metaDir))
-      throw new BadInputException("metadata folder " + metaDir + " is missing (readers never create it)");
+      throw new BadInputException("metadata folder " + metaDir + (java.nio.file.Files.exists(metaDir) ? " is not a folder"
+          : " is missing (readers never create it)"));
     RoaringBitmap bare = new RoaringBitmap();
     if (maxId > 0) bare.add(0L, maxId);
     bare.andNot(documented);
@@ -117,6 +118,8 @@ public final class MetaStore implements Closeable {
       DirectoryReader reader = null;
       try {
         for (String name : names) {
+          if (java.nio.file.Files.isDirectory(metaDir.resolve(name)))
+            throw new BadInputException("metadata file " + metaDir.resolve(name) + " is a folder, not a file");
           try {
             pinned.add(dir.openInput(name, IOContext.READONCE));
           } catch (NoSuchFileException | FileNotFoundException e) {
@@ -172,7 +175,8 @@ public final class MetaStore implements Closeable {
    * when sound), in the commit's order. A missing folder or commit throws BadInputException.
    */
   public static Map<String, String> checkFiles(Path metaDir, String segmentsFile) {
-    if (!java.nio.file.Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
+    if (!java.nio.file.Files.isDirectory(metaDir))
+      throw new BadInputException("metadata folder " + metaDir + (java.nio.file.Files.exists(metaDir) ? " is not a folder" : " is missing"));
     try (Directory dir = FSDirectory.open(metaDir)) {
       java.util.Collection<String> names;
       String commitProblem = null;
@@ -186,6 +190,10 @@ public final class MetaStore implements Closeable {
       }
       Map<String, String> out = new LinkedHashMap<>();
       for (String name : new java.util.TreeSet<>(names)) {
+        if (java.nio.file.Files.isDirectory(metaDir.resolve(name))) {
+          out.put(name, "a folder, not a file");
+          continue;
+        }
         try (IndexInput in = dir.openInput(name, IOContext.READONCE)) {
           CodecUtil.checksumEntireFile(in);
           out.put(name, null);
@@ -196,7 +204,8 @@ public final class MetaStore implements Closeable {
         }
       }
       if (commitProblem != null && out.values().stream().allMatch(java.util.Objects::isNull))
-        out.put(segmentsFile, java.nio.file.Files.exists(metaDir.resolve(segmentsFile)) ? "unreadable: " + commitProblem : "missing");
+        out.put(segmentsFile, !java.nio.file.Files.exists(metaDir.resolve(segmentsFile)) ? "missing"
+            : java.nio.file.Files.isDirectory(metaDir.resolve(segmentsFile)) ? "a folder, not a file" : "unreadable: " + commitProblem);
       return out;
     } catch (IOException e) {
       throw new UncheckedIOException("cannot read metadata store " + metaDir, e);
@@ -205,10 +214,18 @@ public final class MetaStore implements Closeable {
 
   static IndexCommit findCommit(Path metaDir, Directory dir, String segmentsFile) {
     if (!java.nio.file.Files.exists(metaDir.resolve(segmentsFile))) throw missingCommit(metaDir, segmentsFile);
+    if (java.nio.file.Files.isDirectory(metaDir.resolve(segmentsFile)))
+      throw new BadInputException("metadata file " + metaDir.resolve(segmentsFile) + " is a folder, not a file");
     List<IndexCommit> commits;
     try {
       commits = DirectoryReader.listCommits(dir);
     } catch (IOException | RuntimeException e) {
+      try (java.util.stream.Stream<Path> entries = java.nio.file.Files.list(metaDir)) { // Lucene's words for a folder are about mmap limits
+        Path folder = entries.filter(java.nio.file.Files::isDirectory).findFirst().orElse(null);
+        if (folder != null) throw new BadInputException("metadata file " + folder + " is a folder, not a file", e);
+      } catch (IOException listing) {
+        e.addSuppressed(listing);
+      }
       throw new BadInputException("metadata store " + metaDir + " cannot be read (" + segmentsFile + "): "
           + e.getMessage(), e);
     }

@@ -5,6 +5,7 @@ import java.io.IOException;
 import java.nio.channels.FileChannel;
 import java.nio.channels.FileLock;
 import java.nio.channels.OverlappingFileLockException;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.nio.file.StandardOpenOption;
 import java.util.Set;
@@ -34,6 +35,8 @@ final class WriteLock implements AutoCloseable {
     if (!HELD.add(key)) throw new BadInputException("index " + dir + " is locked by another writer (in this process)");
     FileChannel ch = null;
     try {
+      if (Files.isDirectory(key.resolve(FILE)))
+        throw new BadInputException("index " + dir + ": " + FILE + " is a folder, not the writer's lock file; remove it");
       ch = FileChannel.open(key.resolve(FILE), StandardOpenOption.CREATE, StandardOpenOption.WRITE);
       FileLock l;
       try {

@@ -126,6 +126,38 @@ class DamageTest {
   }
 
   @Test
+  void aFolderWhereAFileBelongsIsRefusedByName() throws IOException {
+    // a Lucene file made a folder gave Lucene's advice on 'ulimit -v' and mmap; meta/ made a file was "missing"
+    long seed = Randoms.seed(5);
+    Path pristine = tmp.resolve("pristine");
+    StoreFixtures.build(pristine, StoreFixtures.sample(seed));
+    int trial = 0;
+    List<Path> files = new java.util.ArrayList<>(StoreFixtures.files(pristine));
+    files.add(pristine.resolve("meta"));
+    for (Path file : files) {
+      String name = file.getFileName().toString();
+      if (name.endsWith(".lock") || name.startsWith("manifest-")) continue; // the lock: IndexWriterTest; a manifest folder: StorageCommandsEndToEndTest
+      String rel = pristine.relativize(file).toString();
+      Path copy = tmp.resolve("f" + trial++);
+      StoreFixtures.copy(pristine, copy);
+      Path target = copy.resolve(rel);
+      if (Files.isDirectory(target)) {
+        deleteTree(target);
+        Files.writeString(target, "x");
+      } else {
+        Files.delete(target);
+        Files.createDirectory(target);
+      }
+      BadInputException e = assertThrows(BadInputException.class, () -> IndexReader.open(copy).close(), rel);
+      String want = Files.isDirectory(target) ? name + " is a folder, not a file" : name + " is not a folder";
+      assertTrue(e.getMessage().contains(want), rel + ": " + e.getMessage());
+      IndexCheck.Report report = IndexCheck.run(copy);
+      assertTrue(report.firstDamaged().problem().contains(want), rel + ": " + report.firstDamaged());
+      deleteTree(copy);
+    }
+  }
+
+  @Test
   void aStrayFileNamedLikeAManifestIsNotTakenForOne() throws IOException {
     // "manifest-0099" was read as generation 99, so the index failed to open: "manifest-99 is missing"
     Path dir = tmp.resolve("idx");

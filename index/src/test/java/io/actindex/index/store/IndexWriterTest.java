@@ -41,6 +41,22 @@ class IndexWriterTest {
   }
 
   @Test
+  void aFolderWhereTheLockFileBelongsIsRefusedByName() throws Exception {
+    // it was an internal error: "FileSystemException: .../writer.lock: Is a directory"
+    Path dir = tmp.resolve("idx");
+    try (IndexWriter w = IndexWriter.create(dir, CodeLayout.single("bits", 64), Map.of())) {
+      w.add(SyntheticCodes.uniform(3, 64, 1), null);
+    }
+    Files.delete(dir.resolve("writer.lock"));
+    Files.createDirectory(dir.resolve("writer.lock"));
+    BadInputException e = assertThrows(BadInputException.class, () -> IndexWriter.open(dir));
+    assertTrue(e.getMessage().contains("writer.lock") && e.getMessage().contains("folder"), e.getMessage());
+    try (IndexReader r = IndexReader.open(dir)) { // readers take no lock
+      assertEquals(3, r.liveCount());
+    }
+  }
+
+  @Test
   void createRefusesAFolderThatIsNotEmpty() throws Exception {
     Path dir = tmp.resolve("full");
     Files.createDirectories(dir);
