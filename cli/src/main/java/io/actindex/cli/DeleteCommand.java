@@ -55,7 +55,7 @@ final class DeleteCommand implements Callable<Integer> {
       case csv -> new CsvWriter(out, List.of("index", "matched", "deleted", "live"))
           .row(List.of(index.dir.toString(), Integer.toString(r.matched()), Integer.toString(r.deleted()),
               Integer.toString(r.live())));
-      case table -> out.println("deleted " + r.deleted() + " examples from " + index.dir + "; " + r.live() + " live");
+      case table -> out.println("deleted " + r.deleted() + (r.deleted() == 1 ? " example" : " examples") + " from " + index.dir + "; " + r.live() + " live");
     }
     out.flush();
     Summaries.warnings(spec.commandLine().getErr(), r.warnings());

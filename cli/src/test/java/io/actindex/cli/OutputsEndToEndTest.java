@@ -147,6 +147,12 @@ class OutputsEndToEndTest {
     assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
     assertThat(r.err()).as(r.describe()).contains("folder is not empty");
     assertThat(Files2.checksums(full)).containsOnlyKeys("notes.txt");
+    // an index there (or what a killed build left: its lock and meta/) is named as such
+    Cli.Result again = Cli.run("build", "--out", idx.toString(), "--activations", in.toString());
+    assertThat(again.code()).as(again.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(again.err()).as(again.describe()).contains("folder is not empty").contains("it holds an index").contains("'add' grows an index");
+    assertThat(r.err()).as(r.describe()).doesNotContain("holds an index");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 
   /**

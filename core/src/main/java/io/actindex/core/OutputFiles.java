@@ -121,7 +121,7 @@ public final class OutputFiles {
   private static final Pattern INDEX_FILE = Pattern.compile("manifest-\\d{1,18}|writer\\.lock");
 
   /** Whether {@code dir} holds an index (a manifest or the writer's lock file). */
-  private static boolean holdsIndex(Path dir) {
+  public static boolean holdsIndex(Path dir) {
     try (Stream<Path> files = Files.list(dir)) {
       return files.anyMatch(f -> INDEX_FILE.matcher(f.getFileName().toString()).matches());
     } catch (IOException | UncheckedIOException e) {

@@ -295,7 +295,10 @@ public final class IndexBuilder {
     if (!Files.exists(dir)) return;
     if (!Files.isDirectory(dir)) throw new BadInputException(dir + ": exists and is not a folder");
     try (Stream<Path> s = Files.list(dir)) {
-      if (s.findAny().isPresent()) throw new BadInputException(dir + ": folder is not empty; build needs a new or empty folder");
+      if (s.findAny().isPresent())
+        throw new BadInputException(dir + ": folder is not empty; build needs a new or empty folder" + (OutputFiles.holdsIndex(dir)
+            ? " (it holds an index, or what an interrupted build left of one: 'add' grows an index; remove the folder to build anew)"
+            : ""));
     } catch (IOException e) {
       throw new BadInputException(dir + ": cannot list: " + e.getMessage(), e);
     }
