@@ -106,9 +106,10 @@ final class RegionCommand implements Callable<Integer> {
       if (!first) out.println();
       first = false;
       Region.Group same = r.same();
-      out.println("query row " + r.row() + ": its own region holds " + same.count() + " example" + (same.count() == 1 ? "" : "s")
+      String head = "query row " + r.row() + ": its own region holds " + same.count() + " example" + (same.count() == 1 ? "" : "s")
           + (same.count() == 0 ? "" : " (" + labels(same.labels(), ", ") + (same.keys().isEmpty() ? "" : "; e.g. "
-          + String.join(", ", same.keys())) + ")"));
+          + String.join(", ", same.keys())) + ")");
+      out.println(io.actindex.core.BadInputException.snippet(head, Integer.MAX_VALUE)); // labels and keys come from a user's file
       if (r.nearby().isEmpty()) {
         out.println("  no other populated region within the radius");
         continue;

@@ -397,5 +397,9 @@ class NearestEndToEndTest {
     Cli.Result r = Cli.run("nearest", "--index", idx.toString(), "--codes", tmp.resolve("c.npy").toString(), "-k", "2");
     assertThat(r.code()).as(r.describe()).isZero();
     assertThat(r.out()).contains("vote: red\\u001b[31m\\u0007").doesNotContain("\u001b").doesNotContain("\u0007");
+    // region's line about the query's own region names its labels and keys too
+    Cli.Result g = Cli.run("region", "--index", idx.toString(), "--codes", tmp.resolve("c.npy").toString());
+    assertThat(g.code()).as(g.describe()).isZero();
+    assertThat(g.out()).contains("(red\\u001b[31m\\u0007 1; e.g. k0)").doesNotContain("\u001b").doesNotContain("\u0007");
   }
 }
