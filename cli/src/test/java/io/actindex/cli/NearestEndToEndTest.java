@@ -304,15 +304,20 @@ class NearestEndToEndTest {
         4, live, d.queries(), 0, m -> m.get("label").equals("run"), List.of(LAYERS.get(0)), what + " after deletes, where, layers");
   }
 
+  /** Builds {@code idx} from d's index codes (layout {@link #LAYOUT}) with ex as metadata; returns the queries' file. */
+  private String buildWithMeta(Path idx, Data d, List<Example> ex) throws Exception {
+    assertThat(Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), d.index()).toString(),
+        "--code-layout", LAYOUT, "--meta", metaCsv(tmp.resolve("m.csv"), ex).toString()).code()).isZero();
+    return Files2.bits(tmp.resolve("q.npy"), d.queries()).toString();
+  }
+
   @Test
   void tableAndCsvCarryTheSameNeighbours() throws Exception {
     long seed = Randoms.seed(200);
     Data d = data(120, 1, 3, true, seed);
     List<Example> ex = examples(d.index(), 0, "w", seed);
     Path idx = tmp.resolve("idx");
-    assertThat(Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), d.index()).toString(),
-        "--code-layout", LAYOUT, "--meta", metaCsv(tmp.resolve("m.csv"), ex).toString()).code()).isZero();
-    String q = Files2.bits(tmp.resolve("q.npy"), d.queries()).toString();
+    String q = buildWithMeta(idx, d, ex);
     Cli.Result csv = Cli.run("nearest", "--index", idx.toString(), "--codes", q, "-k", "4", "--format", "csv");
     assertThat(csv.code()).as(csv.describe()).isZero();
     String[] lines = csv.out().split("\\R");
@@ -367,9 +372,7 @@ class NearestEndToEndTest {
     Data d = data(60, 1, 2, false, seed);
     List<Example> ex = examples(d.index(), 0, "w", seed);
     Path idx = tmp.resolve("idx");
-    assertThat(Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), d.index()).toString(),
-        "--code-layout", LAYOUT, "--meta", metaCsv(tmp.resolve("m.csv"), ex).toString()).code()).isZero();
-    String q = Files2.bits(tmp.resolve("q.npy"), d.queries()).toString();
+    String q = buildWithMeta(idx, d, ex);
     String votes = "vote_label,vote_votes,vote_of,vote_agreement,vote_neighbors,vote_within_distance,vote_ties_included,vote_ties_left_out";
     String[][] wheres = {{}, {"--where", "label = nothing"}, {"--where", "line != L1 and line != L2 and line != L3"}};
     for (String[] where : wheres)
