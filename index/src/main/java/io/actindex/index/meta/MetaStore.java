@@ -100,8 +100,7 @@ public final class MetaStore implements Closeable {
   public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted, RoaringBitmap documented,
       int maxId, long fullCheckBytes) {
     if (!java.nio.file.Files.isDirectory(metaDir))
-      throw new BadInputException("metadata folder " + metaDir + (java.nio.file.Files.exists(metaDir) ? " is not a folder"
-          : " is missing (readers never create it)"));
+      throw noFolder(metaDir, " (readers never create it)");
     RoaringBitmap bare = new RoaringBitmap();
     if (maxId > 0) bare.add(0L, maxId);
     bare.andNot(documented);
@@ -119,7 +118,7 @@ public final class MetaStore implements Closeable {
       try {
         for (String name : names) {
           if (java.nio.file.Files.isDirectory(metaDir.resolve(name)))
-            throw new BadInputException("metadata file " + metaDir.resolve(name) + " is a folder, not a file");
+            throw folderForFile(metaDir.resolve(name), null);
           try {
             pinned.add(dir.openInput(name, IOContext.READONCE));
           } catch (NoSuchFileException | FileNotFoundException e) {
@@ -176,7 +175,7 @@ public final class MetaStore implements Closeable {
    */
   public static Map<String, String> checkFiles(Path metaDir, String segmentsFile) {
     if (!java.nio.file.Files.isDirectory(metaDir))
-      throw new BadInputException("metadata folder " + metaDir + (java.nio.file.Files.exists(metaDir) ? " is not a folder" : " is missing"));
+      throw noFolder(metaDir, "");
     try (Directory dir = FSDirectory.open(metaDir)) {
       java.util.Collection<String> names;
       String commitProblem = null;
@@ -215,14 +214,14 @@ public final class MetaStore implements Closeable {
   static IndexCommit findCommit(Path metaDir, Directory dir, String segmentsFile) {
     if (!java.nio.file.Files.exists(metaDir.resolve(segmentsFile))) throw missingCommit(metaDir, segmentsFile);
     if (java.nio.file.Files.isDirectory(metaDir.resolve(segmentsFile)))
-      throw new BadInputException("metadata file " + metaDir.resolve(segmentsFile) + " is a folder, not a file");
+      throw folderForFile(metaDir.resolve(segmentsFile), null);
     List<IndexCommit> commits;
     try {
       commits = DirectoryReader.listCommits(dir);
     } catch (IOException | RuntimeException e) {
       try (java.util.stream.Stream<Path> entries = java.nio.file.Files.list(metaDir)) { // Lucene's words for a folder are about mmap limits
         Path folder = entries.filter(java.nio.file.Files::isDirectory).findFirst().orElse(null);
-        if (folder != null) throw new BadInputException("metadata file " + folder + " is a folder, not a file", e);
+        if (folder != null) throw folderForFile(folder, e);
       } catch (IOException listing) {
         e.addSuppressed(listing);
       }
@@ -231,6 +230,16 @@ public final class MetaStore implements Closeable {
     }
     for (IndexCommit c : commits) if (c.getSegmentsFileName().equals(segmentsFile)) return c;
     throw missingCommit(metaDir, segmentsFile);
+  }
+
+  /** The metadata folder is missing ({@code why} appended) or is not a folder. */
+  private static BadInputException noFolder(Path metaDir, String why) {
+    return new BadInputException("metadata folder " + metaDir + (java.nio.file.Files.exists(metaDir) ? " is not a folder" : " is missing" + why));
+  }
+
+  /** A folder where the store keeps a file ({@code cause} nullable: Lucene's own words, which were about mmap limits). */
+  private static BadInputException folderForFile(Path file, Throwable cause) {
+    return new BadInputException("metadata file " + file + " is a folder, not a file", cause);
   }
 
   private static BadInputException missingCommit(Path metaDir, String segmentsFile) {
