@@ -92,28 +92,6 @@ class BareIdsTest {
     }
   }
 
-  @Test
-  void aKeyNamingAnIdNotYetGivenOutIsRefused() {
-    // a later add without keys would give that id the same key "row-ID": one key, two examples
-    CodeBlock codes = SyntheticCodes.uniform(20, 32, 7);
-    Path dir = tmp.resolve("idx");
-    try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
-      BadInputException first = assertThrows(BadInputException.class,
-          () -> w.add(codes.slice(0, 2), List.of(Map.of("key", "a"), Map.of("key", "row-2"))));
-      assertTrue(first.getMessage().contains("row-2"), first.getMessage());
-      w.add(codes.slice(0, 2), List.of(Map.of("key", "row-0"), Map.of("key", "row-0-b"))); // its own id: no clash
-      BadInputException later = assertThrows(BadInputException.class,
-          () -> w.add(codes.slice(2, 4), List.of(Map.of("key", "b"), Map.of("key", "row-15"))));
-      assertTrue(later.getMessage().contains("row-15"), later.getMessage());
-      w.add(codes.slice(2, 20), null);
-    }
-    try (IndexReader r = IndexReader.open(dir)) {
-      assertEquals(20, r.meta().numDocs());
-      for (int id = 2; id < 20; id++) assertEquals(id, r.meta().idOfKey("row-" + id), "id of row-" + id);
-      assertEquals(0, r.meta().idOfKey("row-0"));
-    }
-  }
-
   /**
    * A key of the form row-N given to another id, while id N was still to come, made two examples
    * with one key: 'add --meta' gave id 200 the key row-204, a later 'add' without metadata gave id
@@ -125,6 +103,10 @@ class BareIdsTest {
     CodeBlock codes = SyntheticCodes.uniform(20, 32, 6);
     Path dir = tmp.resolve("idx");
     try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
+      // the first batch too (ids 0 and 1; row-2 is id 2's)
+      BadInputException first = assertThrows(BadInputException.class,
+          () -> w.add(codes.slice(0, 2), List.of(Map.of("key", "a"), Map.of("key", "row-2"))));
+      assertTrue(first.getMessage().contains("metadata row 1: key 'row-2'"), first.getMessage());
       w.add(codes.slice(0, 4), null);
       w.delete(RoaringBitmap.bitmapOf(1));
       for (String key : new String[] {"row-7", "row-6", "row-19"}) {
