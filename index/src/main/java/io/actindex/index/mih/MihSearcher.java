@@ -261,14 +261,17 @@ final class MihSearcher implements CodeSearcher {
     Scratch s = scratch.get().begin(this, query, NO_TABLES);
     try {
       TopK top = new TopK(k);
-      int from = partition.begin(ScanKernel.Words.of(query, null, codes.wordsPerCode()), null, codes.layout().bits(), s.visit, set, top, k, maxDist);
+      ScanKernel.Words sel = ScanKernel.Words.of(query, null, codes.wordsPerCode());
+      int from = partition.begin(sel, null, codes.layout().bits(), s.visit, set, top, k, maxDist);
       int bound = top.size() == k ? Math.min(maxDist, top.bound()) : maxDist;
       double limit = SELECTIVE_MARGIN * walkCost;
       double rest = from == partition.clusters() ? 0
           : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), limit);
-      if (rest > limit) {
+      if (rest > limit) { // the walk, skipping members the centres' distances rule out
         s.path = PATH_SCAN;
-        return scan.knn(query, k, set, null, bound); // the k members found are within the bound
+        TopK walked = new TopK(k); // the k members found are within the bound, and are walked again
+        partition.walk(sel, codes.words(), set, s.visit, walked, bound);
+        return walked.toHits();
       }
       s.path = PATH_PARTITION;
       if (rest > 0) partition.finish(s.visit, from, set, top, maxDist);

@@ -2,6 +2,7 @@ package io.actindex.index.mih;
 
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
+import io.actindex.core.IdSet;
 import io.actindex.core.ScanKernel;
 import io.actindex.core.TopK;
 import java.util.ArrayList;
@@ -71,6 +72,7 @@ final class Partition {
   final char[] radius; // position -> distance to its centre
   final int[] maxRadius; // per cluster
   final int[] radiusBase, radiusStart; // cluster c's first position at radius >= r: radiusStart[radiusBase[c] + r] (see atRadius)
+  private final int[] placeOf; // ordinal -> its cluster (high 16 bits) and its radius (low 16 bits), for walks (see walk)
   private final int maxOfMaxRadius;
   private final Radii stored; // radius and maxRadius: the radii over every bit
   private final long[][] segmentMasks; // per segment of the layout: its bits
@@ -90,6 +92,7 @@ final class Partition {
     this.ords = ords;
     int n = ords.length, w = words, clusters = start.length - 1;
     if (copy != null && copy.length != (long) n * w) throw new IllegalArgumentException("copy of " + copy.length + " words for " + n + " codes");
+    if (clusters > 1 << 16) throw new IllegalArgumentException(clusters + " clusters, more than " + (1 << 16)); // see placeOf
     long[] data = block.words();
     codes = copy != null ? copy : new long[Math.multiplyExact(n, w)];
     radius = new char[n];
@@ -106,6 +109,8 @@ final class Partition {
       }
     maxOfMaxRadius = mm;
     stored = new Radii(radius, maxRadius);
+    placeOf = new int[n];
+    for (int c = 0; c < clusters; c++) for (int i = start[c]; i < start[c + 1]; i++) placeOf[ords[i]] = c << 16 | radius[i];
     radiusBase = new int[clusters];
     int rows = 0;
     for (int c = 0; c < clusters; c++) {
@@ -136,7 +141,8 @@ final class Partition {
   }
 
   long bytes() {
-    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length)
+    return 8L * (codes.length + centres.length)
+        + 4L * (start.length + ords.length + placeOf.length + maxRadius.length + radiusBase.length + radiusStart.length)
         + 2L * radius.length;
   }
 
@@ -359,11 +365,13 @@ final class Partition {
    */
   static final class Visit {
     int[] order = new int[0], dq = new int[0], lo = new int[0], hi = new int[0];
+    int[] byCluster = new int[0]; // the query's distance to each centre, by cluster
     int[] counts = new int[0];
     ScanKernel.Words sel;
     Radii radii; // the stored radii (no mask or one of every segment), else the mask's cover
     boolean exact; // radii are the masked distances to the centres (not only an upper bound)
     final int[] pass = new int[256]; // positions that passed the radius test, one block at a time
+    final int[] members = new int[256]; // members of a filter that passed the radius test (see walk)
 
     void ensure(int clusters, int bits) {
       if (order.length < clusters) {
@@ -371,6 +379,7 @@ final class Partition {
         dq = new int[clusters];
         lo = new int[clusters];
         hi = new int[clusters];
+        byCluster = new int[clusters];
       }
       if (counts.length < bits + 2) counts = new int[bits + 2];
     }
@@ -392,7 +401,7 @@ final class Partition {
     v.exact = cover == null || cover.exact;
     int[] counts = v.counts;
     Arrays.fill(counts, 0, bits + 2, 0);
-    int[] d = v.lo; // scratch for the distances before sorting
+    int[] d = v.byCluster;
     for (int c = 0; c < clusters; c++) {
       d[c] = v.sel.distance(centres, c * w, w, Integer.MAX_VALUE);
       counts[d[c] + 1]++;
@@ -486,6 +495,36 @@ final class Partition {
   /** Whether a code at cover radius r from its centre can be within bound of a query dq from it. */
   private static boolean passes(int r, int dq, int bound, boolean exact) {
     return r >= dq - bound && (!exact || r <= dq + bound);
+  }
+
+  /**
+   * The members of {@code set} (ordinals, ascending) offered to {@code top}, after {@link #begin}
+   * with no mask: a member x of cluster c is compared only when {@code |d(q,c) - r(x)|}, a lower
+   * bound of its distance, is within the k-th distance so far (capped by {@code maxDist}); its
+   * place (cluster and radius) is read from a small table by ordinal, where its code would be a read
+   * from a random place of a far larger array. The bounds of a block of members are taken before
+   * any of them is compared, so a block sees the k-th distance the block before left (still exact:
+   * the bound only drops).
+   */
+  void walk(ScanKernel.Words sel, long[] data, IdSet set, Visit v, TopK top, int maxDist) {
+    int w = words;
+    int[] dq = v.byCluster, block = v.pass, pass = v.members;
+    int bound = Math.min(maxDist, top.bound());
+    for (int from = 0, m = block.length; m == block.length && (m = set.next(from, block)) > 0; from = block[m - 1] + 1) {
+      int kept = 0;
+      for (int j = 0; j < m; j++) {
+        int ord = block[j], place = placeOf[ord];
+        pass[kept] = ord;
+        kept += Math.abs(dq[place >>> 16] - (place & 0xFFFF)) <= bound ? 1 : 0;
+      }
+      for (int j = 0; j < kept; j++) {
+        int ord = pass[j], d = sel.distance(data, ord * w, w, bound);
+        if (d <= bound) {
+          top.offer(ord, d);
+          bound = Math.min(maxDist, top.bound());
+        }
+      }
+    }
   }
 
   /** Scans the remaining clusters' windows (narrowed as the k-th distance drops). */

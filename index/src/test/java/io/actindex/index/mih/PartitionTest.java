@@ -171,6 +171,40 @@ class PartitionTest {
   }
 
 
+  /**
+   * The walk of a filter's members that skips members by their centre's distance ({@link
+   * Partition#walk}, what a selective filter takes when the partition does not finish the query)
+   * equals the brute force: every family and width, clusters of a few codes to thousands, filters
+   * from one member in a thousand to all, with and without a cap.
+   */
+  @Test
+  void memberWalkSkippingByCentresEqualsBruteForce() {
+    for (int rep = 0; rep < 30; rep++) {
+      long seed = Randoms.seed(700 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int n = 1000 + rnd.nextInt(6000), bits = BITS[rnd.nextInt(BITS.length)];
+      CodeBlock codes = codes(rep, n, bits, seed);
+      Partition p = Partition.build(codes, 2, 2 + rnd.nextInt(rnd.nextBoolean() ? 50 : 3000));
+      for (int i = 0; i < 8; i++) {
+        double share = new double[] {0.001, 0.01, 0.05, 0.3, 1}[rnd.nextInt(5)];
+        long[] w = new long[(n + 63) >>> 6];
+        for (int o = 0; o < n; o++) if (rnd.nextDouble() < share) w[o >>> 6] |= 1L << o;
+        IdSet set = IdSet.of(w, n);
+        long[] q = MihExactnessTest.query(codes, rnd);
+        int k = rnd.nextBoolean() ? 10 : 1 + rnd.nextInt(n + 5);
+        int maxDist = rnd.nextInt(3) == 0 ? rnd.nextInt(bits / 2 + 1) : Integer.MAX_VALUE;
+        Partition.Visit v = new Partition.Visit();
+        io.actindex.core.ScanKernel.Words sel = io.actindex.core.ScanKernel.Words.of(q, null, codes.wordsPerCode());
+        p.begin(sel, null, bits, v, null, new io.actindex.core.TopK(1), 0, Integer.MAX_VALUE); // the centres' distances only
+        io.actindex.core.TopK top = new io.actindex.core.TopK(Math.min(k, n));
+        p.walk(sel, codes.words(), set, v, top, maxDist);
+        String what = Randoms.describe(seed) + " family=" + rep % 3 + " n=" + n + " bits=" + bits + " clusters=" + p.clusters() + " query " + i
+            + " k=" + k + " maxDist=" + maxDist + " filter=" + set;
+        assertEquals(BruteForce.knnWithin(codes, q, k, set, null, maxDist), top.toHits(), what);
+      }
+    }
+  }
+
   /** On dense codes the planner answers in-distribution 10-NN by the partition and compares few codes. */
   @Test
   void plannerPicksThePartitionOnDenseCodes() {
