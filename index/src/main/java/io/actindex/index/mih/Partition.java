@@ -72,7 +72,7 @@ final class Partition {
   final char[] radius; // position -> distance to its centre
   final int[] maxRadius; // per cluster
   final int[] radiusBase, radiusStart; // cluster c's first position at radius >= r: radiusStart[radiusBase[c] + r] (see atRadius)
-  private final int[] placeOf; // ordinal -> its cluster (high 16 bits) and its radius (low 16 bits), for walks (see walk)
+  private volatile int[] placeOf; // ordinal -> its cluster (high 16 bits) and its radius (low 16 bits): built by the first walk
   private final int maxOfMaxRadius;
   private final Radii stored; // radius and maxRadius: the radii over every bit
   private final long[][] segmentMasks; // per segment of the layout: its bits
@@ -109,8 +109,7 @@ final class Partition {
       }
     maxOfMaxRadius = mm;
     stored = new Radii(radius, maxRadius);
-    placeOf = new int[n];
-    for (int c = 0; c < clusters; c++) for (int i = start[c]; i < start[c + 1]; i++) placeOf[ords[i]] = c << 16 | radius[i];
+
     radiusBase = new int[clusters];
     int rows = 0;
     for (int c = 0; c < clusters; c++) {
@@ -142,7 +141,7 @@ final class Partition {
 
   long bytes() {
     return 8L * (codes.length + centres.length)
-        + 4L * (start.length + ords.length + placeOf.length + maxRadius.length + radiusBase.length + radiusStart.length)
+        + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length)
         + 2L * radius.length;
   }
 
@@ -508,7 +507,7 @@ final class Partition {
    */
   void walk(ScanKernel.Words sel, long[] data, IdSet set, Visit v, TopK top, int maxDist) {
     int w = words;
-    int[] dq = v.byCluster, block = v.pass, pass = v.members;
+    int[] dq = v.byCluster, block = v.pass, pass = v.members, placeOf = places();
     int bound = Math.min(maxDist, top.bound());
     for (int from = 0, m = block.length; m == block.length && (m = set.next(from, block)) > 0; from = block[m - 1] + 1) {
       int kept = 0;
@@ -525,6 +524,19 @@ final class Partition {
         }
       }
     }
+  }
+
+  /**
+   * Each ordinal's cluster and radius (4 bytes per code), built on first use: only filtered queries
+   * need it, and an open should not pay for it. Threads racing here build equal tables.
+   */
+  private int[] places() {
+    int[] p = placeOf;
+    if (p != null) return p;
+    p = new int[ords.length];
+    for (int c = 0; c < clusters(); c++) for (int i = start[c]; i < start[c + 1]; i++) p[ords[i]] = c << 16 | radius[i];
+    placeOf = p;
+    return p;
   }
 
   /** Scans the remaining clusters' windows (narrowed as the k-th distance drops). */
