@@ -25,7 +25,9 @@ class LargeSegmentTest {
   void segmentPastTwoGibReadsBackExactly() throws Exception {
     long seed = Randoms.seed(0);
     String java = Path.of(System.getProperty("java.home"), "bin", "java").toString();
-    Process p = new ProcessBuilder(java, "-Xmx3g", "-cp", System.getProperty("java.class.path"),
+    // G1 named: on one CPU the JVM would pick the serial collector, whose old generation (two
+    // thirds of the heap) cannot hold the 2.15 GB array of codes
+    Process p = new ProcessBuilder(java, "-Xmx3g", "-XX:+UseG1GC", "-cp", System.getProperty("java.class.path"),
         LargeSegmentChild.class.getName(), tmp.resolve("idx").toString(), Long.toString(seed), "8400000", "2048")
         .redirectErrorStream(true).start();
     byte[] out = p.getInputStream().readAllBytes();
