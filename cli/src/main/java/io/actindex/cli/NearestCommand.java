@@ -105,6 +105,7 @@ final class NearestCommand implements Callable<Integer> {
         for (Refine.Result r : refined)
           results.add(new Nearest.Result(r.row(), r.neighbors().stream().map(Refine.Neighbor::example).toList(), r.vote()));
       }
+      index.noteIfEmpty(reader.liveCount());
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {

@@ -54,6 +54,7 @@ final class RegionCommand implements Callable<Integer> {
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
         results = Region.run(reader, codes, new Region.Params(radius, layers.layers, where, examples), bar);
       }
+      index.noteIfEmpty(reader.liveCount());
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {

@@ -317,6 +317,8 @@ public final class Compare {
   private static CodeBlock load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
     if (s.source() != null)
       return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes);
+    if (reader.liveCount() == 0)
+      throw new BadInputException(s.brief() + ": sample " + which + " is empty: the index " + reader.dir() + " holds no live examples");
     RoaringBitmap ids = Where.select(reader.meta(), s.where());
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
