@@ -77,6 +77,7 @@ final class DupesCommand implements Callable<Integer> {
   @Override
   public Integer call() {
     if (threads < 0) throw new ParameterException(spec.commandLine(), "--threads must be 0 or more, got " + threads);
+    EmptyFilter.refuse(spec, where);
     if (groups < 0) throw new ParameterException(spec.commandLine(), "--groups must be 0 or more, got " + groups);
     int t = threads == 0 ? Runtime.getRuntime().availableProcessors() : threads;
     Dupes.Params p = new Dupes.Params(radius, where, layers.layers, crossSplit, conflictingLabels, groups, t);

@@ -46,6 +46,7 @@ final class RegionCommand implements Callable<Integer> {
   @Override
   public Integer call() {
     query.check();
+    EmptyFilter.refuse(spec, where);
     if (radius < 0) throw new ParameterException(spec.commandLine(), "--radius must be 0 or more, got " + radius);
     if (examples < 0) throw new ParameterException(spec.commandLine(), "--examples must be 0 or more, got " + examples);
     List<Region.Result> results;
