@@ -297,6 +297,33 @@ class BadInputEndToEndTest {
   }
 
   /**
+   * An index built from codes records no rule that made them from activations: adding activations
+   * (binarized by the default rule) or model inputs to it is refused, naming the index, the file and
+   * what to add instead. Codes still go in.
+   */
+  @Test
+  void addingActivationsToAnIndexBuiltFromCodesIsRefused() {
+    SplittableRandom rnd = new SplittableRandom(9);
+    float[][] acts = SourcesEndToEndTest.activations(6, 8, rnd);
+    Path cidx = tmp.resolve("cidx"), file = Files2.floats(tmp.resolve("more.npy"), acts);
+    Cli.Result built = Cli.run("build", "--out", cidx.toString(), "--codes",
+        Files2.bits(tmp.resolve("codes.npy"), SourcesEndToEndTest.binarize(acts, 0)).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    Map<String, String> before = Files2.checksums(cidx);
+    for (String option : new String[] {"--activations", "--inputs"}) {
+      Cli.Result r = Cli.run("add", "--index", cidx.toString(), option, file.toString());
+      assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(r.err()).as(r.describe()).contains(cidx.toString()).contains(file.toString()).contains("built from codes")
+          .contains("--codes").doesNotContain("give activations");
+      assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
+    }
+    assertThat(Files2.checksums(cidx)).isEqualTo(before);
+    Cli.Result codes = Cli.run("add", "--index", cidx.toString(), "--codes",
+        Files2.bits(tmp.resolve("more-codes.npy"), SourcesEndToEndTest.binarize(acts, 0)).toString());
+    assertThat(codes.code()).as(codes.describe()).isZero();
+  }
+
+  /**
    * An empty or blank filter (an unset shell variable) is refused by every command that takes one,
    * naming the option: query commands read it as "every example" and delete refused it.
    */
