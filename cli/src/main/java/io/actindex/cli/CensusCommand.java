@@ -45,6 +45,7 @@ final class CensusCommand implements Callable<Integer> {
     Census.Result c;
     try (IndexReader reader = IndexReader.open(index.dir)) {
       c = Census.run(reader, new Census.Params(layers.layers, largest, examples));
+      index.noteIfEmpty(reader.liveCount());
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {

@@ -113,6 +113,8 @@ final class CompareCommand implements Callable<Integer> {
 
   @Override
   public Integer call() {
+    EmptyFilter.refuse(spec, "--a-where", aWhere, "give a filter, or sample A as --a FILE");
+    EmptyFilter.refuse(spec, "--b-where", bWhere, "give a filter, or sample B as --b FILE");
     if ((a == null) == (aWhere == null)) throw new ParameterException(spec.commandLine(), "give sample A as --a FILE or --a-where EXPR (one of them)");
     if ((b == null) == (bWhere == null)) throw new ParameterException(spec.commandLine(), "give sample B as --b FILE or --b-where EXPR (one of them)");
     if (index == null && (aWhere != null || bWhere != null)) throw new ParameterException(spec.commandLine(), "--a-where and --b-where need --index");

@@ -12,7 +12,6 @@ import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
-import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.Spec;
 
 /** {@code actindex delete}: tombstones for examples named by key or by a metadata filter. */
@@ -38,8 +37,7 @@ final class DeleteCommand implements Callable<Integer> {
 
   @Override
   public Integer call() {
-    if (which.where != null && which.where.isBlank())
-      throw new ParameterException(spec.commandLine(), "--where is empty; give a filter such as --where \"split = test\" (delete never means everything)");
+    EmptyFilter.refuse(spec, "--where", which.where, "delete needs a filter such as --where \"split = test\" (it never deletes every example)");
     Delete.Result r = Delete.run(new Delete.Params(index.dir, which.keys, which.where));
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {

@@ -77,11 +77,13 @@ final class DupesCommand implements Callable<Integer> {
   @Override
   public Integer call() {
     if (threads < 0) throw new ParameterException(spec.commandLine(), "--threads must be 0 or more, got " + threads);
+    EmptyFilter.refuse(spec, where);
     if (groups < 0) throw new ParameterException(spec.commandLine(), "--groups must be 0 or more, got " + groups);
     int t = threads == 0 ? Runtime.getRuntime().availableProcessors() : threads;
     Dupes.Params p = new Dupes.Params(radius, where, layers.layers, crossSplit, conflictingLabels, groups, t);
     Dupes.Result joined = null;
     Dupes.AgainstResult matched = null;
+    int live;
     try (IndexReader reader = IndexReader.open(index.dir);
         PairsFile file = pairs == null ? null : new PairsFile(pairs, against == null ? "id_a,id_b,distance" : "row,id,distance", against);
         Progress bar = Progress.onTerminal(spec.commandLine().getErr(), against == null ? "joining" : "matching")) {
@@ -92,7 +94,9 @@ final class DupesCommand implements Callable<Integer> {
         matched = Dupes.against(reader, p, new Source(kind, against, null), sink, bar);
       }
       if (file != null) file.commit();
+      live = reader.liveCount();
     }
+    index.noteIfEmpty(live);
     PrintWriter out = spec.commandLine().getOut();
     if (joined != null) {
       switch (format.format) {

@@ -72,6 +72,7 @@ final class NearestCommand implements Callable<Integer> {
   @Override
   public Integer call() {
     query.check();
+    EmptyFilter.refuse(spec, where);
     if (k < 1) throw new ParameterException(spec.commandLine(), "-k must be at least 1, got " + k);
     if (candidates != null && refine == null) throw new ParameterException(spec.commandLine(), "--candidates goes with --refine");
     if (candidates != null && candidates < k)
@@ -105,6 +106,7 @@ final class NearestCommand implements Callable<Integer> {
         for (Refine.Result r : refined)
           results.add(new Nearest.Result(r.row(), r.neighbors().stream().map(Refine.Neighbor::example).toList(), r.vote()));
       }
+      index.noteIfEmpty(reader.liveCount());
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {

@@ -46,6 +46,7 @@ final class RegionCommand implements Callable<Integer> {
   @Override
   public Integer call() {
     query.check();
+    EmptyFilter.refuse(spec, where);
     if (radius < 0) throw new ParameterException(spec.commandLine(), "--radius must be 0 or more, got " + radius);
     if (examples < 0) throw new ParameterException(spec.commandLine(), "--examples must be 0 or more, got " + examples);
     List<Region.Result> results;
@@ -54,6 +55,7 @@ final class RegionCommand implements Callable<Integer> {
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
         results = Region.run(reader, codes, new Region.Params(radius, layers.layers, where, examples), bar);
       }
+      index.noteIfEmpty(reader.liveCount());
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {

@@ -48,10 +48,13 @@ final class ReportCommand implements Callable<Integer> {
   public Integer call() throws IOException {
     PrintWriter err = spec.commandLine().getErr();
     Report.Result r;
+    int live;
     try (IndexReader reader = IndexReader.open(index.dir);
         Progress progress = Progress.onTerminal(err, "measuring nearest-other distances")) {
       r = Report.run(reader, new Report.Params(out, title, dupesRadius, compareA, compareB, threads.resolved()), progress);
+      live = reader.liveCount();
     }
+    index.noteIfEmpty(live);
     PrintWriter o = spec.commandLine().getOut();
     switch (format.format) {
       case json -> {

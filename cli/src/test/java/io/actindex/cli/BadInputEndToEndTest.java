@@ -296,16 +296,66 @@ class BadInputEndToEndTest {
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 
+  /**
+   * An index built from codes records no rule that made them from activations: adding activations
+   * (binarized by the default rule) or model inputs to it is refused, naming the index, the file and
+   * what to add instead. Codes still go in.
+   */
+  @Test
+  void addingActivationsToAnIndexBuiltFromCodesIsRefused() {
+    SplittableRandom rnd = new SplittableRandom(9);
+    float[][] acts = SourcesEndToEndTest.activations(6, 8, rnd);
+    Path cidx = tmp.resolve("cidx"), file = Files2.floats(tmp.resolve("more.npy"), acts);
+    Cli.Result built = Cli.run("build", "--out", cidx.toString(), "--codes",
+        Files2.bits(tmp.resolve("codes.npy"), SourcesEndToEndTest.binarize(acts, 0)).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    Map<String, String> before = Files2.checksums(cidx);
+    for (String option : new String[] {"--activations", "--inputs"}) {
+      Cli.Result r = Cli.run("add", "--index", cidx.toString(), option, file.toString());
+      assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(r.err()).as(r.describe()).contains(cidx.toString()).contains(file.toString()).contains("built from codes")
+          .contains("--codes").doesNotContain("give activations");
+      assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
+    }
+    assertThat(Files2.checksums(cidx)).isEqualTo(before);
+    Cli.Result codes = Cli.run("add", "--index", cidx.toString(), "--codes",
+        Files2.bits(tmp.resolve("more-codes.npy"), SourcesEndToEndTest.binarize(acts, 0)).toString());
+    assertThat(codes.code()).as(codes.describe()).isZero();
+  }
+
+  /**
+   * An empty or blank filter (an unset shell variable) is refused by every command that takes one,
+   * naming the option: query commands read it as "every example" and delete refused it.
+   */
+  @Test
+  void anEmptyWhereIsRefusedByEveryCommand() {
+    Path acts = Files2.floats(tmp.resolve("q.npy"), new float[4][8]);
+    Map<String, String> before = Files2.checksums(idx);
+    String i = idx.toString(), q = acts.toString();
+    for (String blank : new String[] {"", "  ", "\t"}) {
+      String[][] cases = {
+          {"--where", "leave --where out", "nearest", "--index", i, "--activations", q, "--where", blank},
+          {"--where", "leave --where out", "region", "--index", i, "--activations", q, "--where", blank},
+          {"--where", "leave --where out", "dupes", "--index", i, "--radius", "1", "--where", blank},
+          {"--where", "leave --where out", "dupes", "--index", i, "--radius", "1", "--against", q, "--where", blank},
+          {"--where", "never deletes every example", "delete", "--index", i, "--where", blank},
+          {"--a-where", "--a FILE", "compare", "--index", i, "--a-where", blank, "--b", q},
+          {"--b-where", "--b FILE", "compare", "--index", i, "--a", q, "--b-where", blank}};
+      for (String[] c : cases) {
+        Cli.Result r = Cli.run(java.util.Arrays.copyOfRange(c, 2, c.length));
+        assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+        assertThat(r.err()).as(r.describe()).contains(c[0] + ": the expression is empty").contains(c[1]).doesNotContain("internal error");
+        assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
+        assertThat(r.out()).as(r.describe()).isEmpty();
+      }
+    }
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+  }
+
   /** Options that cannot apply: exit 2 naming the option, nothing written (they were an internal error or ignored). */
   @Test
   void optionsThatCannotApplyAreRefused() {
     Map<String, String> before = Files2.checksums(idx);
-    for (String blank : new String[] {"", "  "}) {
-      Cli.Result r = Cli.run("delete", "--index", idx.toString(), "--where", blank);
-      assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
-      assertThat(r.err()).as(r.describe()).contains("--where").doesNotContain("internal error");
-    }
-    assertThat(Files2.checksums(idx)).isEqualTo(before);
     Path codes = Files2.bits(tmp.resolve("c.npy"), new boolean[4][8]);
     Path acts = Files2.floats(tmp.resolve("a.npy"), new float[4][8]);
     String[][] cases = {
@@ -330,5 +380,6 @@ class BadInputEndToEndTest {
     assertThat(!Files.exists(tmp.resolve("m-idx")) || Files2.checksums(tmp.resolve("m-idx")).isEmpty()).isTrue();
     assertThat(tmp.resolve("r1.html")).doesNotExist();
     assertThat(tmp.resolve("r2.html")).doesNotExist();
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 }

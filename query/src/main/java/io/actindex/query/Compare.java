@@ -49,7 +49,7 @@ public final class Compare {
   /** One sample: a file (encoded with the index's rule when there is an index) or a filtered part of the index. */
   public record Sample(Source source, String where) {
     public Sample {
-      if ((source == null) == (where == null || where.isBlank()))
+      if ((source == null) == (where == null))
         throw new BadInputException("a sample is either a file or a where-expression over the index");
     }
 
@@ -318,6 +318,8 @@ public final class Compare {
     if (s.source() != null)
       return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes);
     RoaringBitmap ids = Where.select(reader.meta(), s.where());
+    if (reader.liveCount() == 0)
+      throw new BadInputException(s.brief() + ": sample " + which + " is empty: the index " + reader.dir() + " holds no live examples");
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
     int w = all.wordsPerCode(), kept = 0;

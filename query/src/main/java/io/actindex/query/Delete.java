@@ -30,7 +30,7 @@ public final class Delete {
   public record Params(Path dir, Path keysFile, String where) {
     public Params {
       Objects.requireNonNull(dir, "dir");
-      if ((keysFile == null) == (where == null || where.isBlank()))
+      if ((keysFile == null) == (where == null))
         throw new IllegalArgumentException("give exactly one of a keys file and a where-expression");
     }
   }

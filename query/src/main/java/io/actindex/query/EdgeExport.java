@@ -53,9 +53,13 @@ public final class EdgeExport {
     }
   }
 
-  /** The index's live codes, deduplicated, with {@code cal} and (if asked) the stored model. */
+  /**
+   * The index's live codes, deduplicated, with {@code cal} and (if asked) the stored model; refused
+   * when the index holds fewer live examples than the calibration's k (deleted since).
+   */
   public static EdgeBundle bundle(IndexReader reader, Calibration cal, boolean withModel) {
     OodCalibration.requireCode(reader, "the edge bundle");
+    OodScorer.checkK(reader, cal.k());
     return bundle(reader.liveCodes(null), cal, withModel ? model(reader) : null);
   }
 

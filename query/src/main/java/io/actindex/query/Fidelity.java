@@ -112,7 +112,8 @@ public final class Fidelity {
     int n = r.liveCount(), d = r.layout().bits();
     int[] ids = new int[n];
     CodeBlock codes = r.liveCodes(ids);
-    if (n < 2) throw new BadInputException("index " + r.dir() + " has " + n + " live examples; fidelity needs at least 2");
+    if (n < 2)
+      throw new BadInputException("the index " + r.dir() + " holds " + (n == 0 ? "no live examples" : "1 live example") + "; fidelity needs at least 2");
     LabelIndex labelIndex = LabelIndex.of(r.meta(), r.maxId());
     String[] labels = new String[n];
     boolean any = false;

@@ -215,7 +215,9 @@ public final class IndexBuilder {
     float[] values = null;
     try (IndexReader r = IndexReader.open(p.dir())) {
       int bits = magnitudeBits(r);
-      encode = p.source().kind() == Source.Kind.CODES ? null : BuildInfo.fromProperties(r.properties(), p.dir().toString()).encode();
+      BuildInfo built = BuildInfo.fromProperties(r.properties(), p.dir().toString());
+      checkKind(built, p);
+      encode = p.source().kind() == Source.Kind.CODES ? null : built.encode();
       if (p.source().kind() == Source.Kind.INPUTS && p.source().model() != null) {
         byte[] stored = r.attachment(BuildInfo.MODEL);
         if (stored != null && !Arrays.equals(stored, readAll(p.source().model())))
@@ -245,6 +247,18 @@ public final class IndexBuilder {
       return new Result(first, codes.size(), codes.layout(), notes, encode, mags == null ? null : Quantisation.of(mags, values),
           w.takeWarnings());
     }
+  }
+
+  /**
+   * An index built from codes records no rule that made them from activations (nor a model): rows
+   * of activations or inputs would be binarized by the default rule, perhaps unlike its codes.
+   */
+  private static void checkKind(BuildInfo built, AddParams p) {
+    Source.Kind kind = p.source().kind();
+    if (built.kind() == Source.Kind.CODES && kind != Source.Kind.CODES)
+      throw new BadInputException(p.source().file() + ": the index " + p.dir() + " was built from codes (layout " + built.sourceLayout()
+          + ") and does not record how they were made from " + kind.name().toLowerCase(java.util.Locale.ROOT)
+          + "; binarize these rows the way its codes were made and add them with --codes");
   }
 
   /** {@code w.add}; a metadata row the index refuses is named by its file and data row (1-based, as the CSV counts). */

@@ -81,9 +81,11 @@ public final class OodScorer {
     return kind;
   }
 
-  /** Refuses {@code k < 1} and {@code k} above the index's live examples. */
+  /** Refuses {@code k < 1} and {@code k} above the index's live examples (none: every example deleted). */
   public static void checkK(IndexReader reader, int k) {
     if (k < 1) throw new BadInputException("-k must be at least 1, got " + k);
+    if (reader.liveCount() == 0)
+      throw new BadInputException("the index " + reader.dir() + " holds no live examples; an OOD score needs at least k = " + k + " of them");
     if (k > reader.liveCount())
       throw new BadInputException("-k " + k + " is larger than the index " + reader.dir() + ", which holds " + reader.liveCount() + " live examples");
   }

@@ -68,22 +68,26 @@ public final class Where {
 
   /** Parses {@code expr} against the given field kinds. */
   public static Query parse(String expr, Map<String, FieldKind> fields) {
-    if (expr == null || expr.isBlank()) throw new BadInputException("where: empty expression");
+    if (expr == null || expr.isBlank()) throw new BadInputException("where: the expression is empty; give no filter (null) to use every example");
     Where w = new Where(expr, fields);
     Query q = w.or();
     if (w.peek().type != T.END) throw w.error(w.peek(), "expected 'and', 'or' or the end, found " + w.peek().describe());
     return q;
   }
 
-  /** The live ids that match {@code expr}, or {@code null} (no filter) when it is null or blank. */
+  /**
+   * The live ids that match {@code expr}, or {@code null} (no filter) when it is null. An empty or
+   * blank expression is refused like a syntax error, never read as "every example" (a delete by an
+   * unset shell variable must not delete everything).
+   */
   public static RoaringBitmap select(MetaStore meta, String expr) {
-    if (expr == null || expr.isBlank()) return null;
+    if (expr == null) return null;
     return meta.select(parse(expr, meta.fields()));
   }
 
   /**
    * The live ids that match {@code expr} as a search filter of {@code reader} (built once, used for
-   * every query), or {@code null} (no filter) when it is null or blank.
+   * every query), or {@code null} (no filter) when it is null; blank is refused.
    */
   public static IdSet filter(IndexReader reader, String expr) {
     RoaringBitmap ids = select(reader.meta(), expr);

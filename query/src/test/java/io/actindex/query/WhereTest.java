@@ -88,7 +88,10 @@ class WhereTest {
         for (int i = 0; i < rows.size(); i++) if (ex.test.test(rows.get(i))) want.add(i);
         assertEquals(want, Where.select(reader.meta(), ex.text), ex.text + " " + Randoms.describe(seed));
       }
-      assertEquals(null, Where.select(reader.meta(), " "));
+      assertEquals(null, Where.select(reader.meta(), null));
+      for (String blank : new String[] {"", " ", "\t\n"}) // never "every example": a delete by an unset variable would take all
+        assertThatThrownBy(() -> Where.select(reader.meta(), blank)).as("'" + blank + "'").isInstanceOf(BadInputException.class)
+            .hasMessageContaining("the expression is empty");
     }
   }
 
