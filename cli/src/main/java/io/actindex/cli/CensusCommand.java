@@ -140,7 +140,7 @@ final class CensusCommand implements Callable<Integer> {
       out.println("largest regions (" + name + "):");
       TextTable b = new TextTable(List.of("examples", "neurons on", "labels", "example keys"));
       for (Census.Big g : all.largest())
-        b.row(List.of(Integer.toString(g.count()), Integer.toString(g.active()), RegionCommand.labels(g.labels(), ", "),
+        b.row(List.of(Integer.toString(g.count()), Integer.toString(g.active()), RegionCommand.labels(g.labels()),
             String.join(", ", g.keys())));
       b.print(out, "  ");
     }

@@ -221,7 +221,7 @@ final class DupesCommand implements Callable<Integer> {
     for (Dupes.Group g : r.groups())
       csv.row(List.of(Integer.toString(i++), Integer.toString(g.size()), Integer.toString(g.distinctCodes()),
           Integer.toString(g.maxDistance()), Boolean.toString(g.crossSplit()), Boolean.toString(g.conflictingLabels()),
-          counts(g.labels()), counts(g.splits()), keys(g.members(), ";")));
+          CsvWriter.list(CsvWriter.counted(g.labels())), CsvWriter.list(CsvWriter.counted(g.splits())), CsvWriter.list(keys(g.members()))));
   }
 
   private String flagLabel() {
@@ -259,7 +259,7 @@ final class DupesCommand implements Callable<Integer> {
       if (x.conflictingLabels()) flags.add("conflict");
       g.row(List.of(Integer.toString(i++), num(x.size()), num(x.distinctCodes()), Integer.toString(x.maxDistance()),
           String.join(",", flags), counts(x.labels()), counts(x.splits()),
-          keys(x.members(), " ") + (x.size() > x.members().size() ? " ..." : "")));
+          String.join(" ", keys(x.members())) + (x.size() > x.members().size() ? " ..." : "")));
     }
     g.print(out, "  ");
   }
@@ -307,15 +307,13 @@ final class DupesCommand implements Callable<Integer> {
   }
 
   private static String counts(Map<String, Integer> m) {
-    List<String> parts = new ArrayList<>();
-    for (Map.Entry<String, Integer> e : m.entrySet()) parts.add(e.getKey() + ":" + e.getValue());
-    return String.join(" ", parts);
+    return String.join(" ", CsvWriter.counted(m));
   }
 
-  private static String keys(List<Dupes.Member> ms, String sep) {
+  private static List<String> keys(List<Dupes.Member> ms) {
     List<String> ks = new ArrayList<>();
     for (Dupes.Member m : ms) ks.add(str(m.key()));
-    return String.join(sep, ks);
+    return ks;
   }
 
   private static String num(long v) {

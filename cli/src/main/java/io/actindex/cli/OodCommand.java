@@ -67,6 +67,11 @@ final class OodCommand implements Callable<Integer> {
     return layers.isEmpty() ? "all" : String.join(",", layers);
   }
 
+  /** The layers as a CSV cell: {@code all}, or the names as a {@link CsvWriter#list}. */
+  static String csvLayers(List<String> layers) {
+    return layers.isEmpty() ? "all" : CsvWriter.list(layers);
+  }
+
   static void calibration(JsonWriter j, Calibration c) {
     j.member("k", c.k()).member("statistic", c.statistic().label).name("layers").beginArray();
     for (String l : c.layers()) j.value(l);
@@ -144,7 +149,7 @@ final class OodCommand implements Callable<Integer> {
         }
         case csv -> {
           CsvWriter w = new CsvWriter(out, List.of("inputs", "k", "statistic", "layers", "tpr", "threshold", "min", "p50", "p90", "p95", "p99", "max", "mean"));
-          w.row(List.of(Integer.toString(r.inputs()), Integer.toString(c.k()), c.statistic().label, layers(c.layers()), Double.toString(c.tpr()),
+          w.row(List.of(Integer.toString(r.inputs()), Integer.toString(c.k()), c.statistic().label, csvLayers(c.layers()), Double.toString(c.tpr()),
               Double.toString(c.threshold()), num(r.min()), num(r.p50()), num(r.p90()), num(r.p95()), num(r.p99()), num(r.max()), num(r.mean())));
         }
         case table -> {
@@ -260,7 +265,7 @@ final class OodCommand implements Callable<Integer> {
           for (OodScore.Result r : o.results())
             w.row(List.of(Long.toString(r.row()), Double.toString(r.score()), Integer.toString(r.kth()), Double.toString(r.mean()),
                 Boolean.toString(r.ownRegion()), r.out() ? "out" : "in", Double.toString(r.pValue()),
-                r.maxSoftmax() == null ? "" : Double.toString(r.maxSoftmax()), evidence(r), o.scoreName()));
+                r.maxSoftmax() == null ? "" : Double.toString(r.maxSoftmax()), CsvWriter.list(evidence(r)), o.scoreName()));
         }
         case table -> {
           String cands = o.scoring().kind() == OodScorer.Kind.REFINED ? ", among " + o.scoring().candidates() + " Hamming candidates" : "";
@@ -275,7 +280,7 @@ final class OodCommand implements Callable<Integer> {
             List<String> row = new ArrayList<>(List.of(Long.toString(r.row()), num(r.score()), r.out() ? "out" : "in",
                 String.format(Locale.ROOT, "%.4f", r.pValue()), r.ownRegion() ? "populated" : "empty"));
             if (msp) row.add(r.maxSoftmax() == null ? "" : String.format(Locale.ROOT, "%.4f", r.maxSoftmax()));
-            row.add(evidence(r));
+            row.add(String.join(" ", evidence(r)));
             t.row(row);
           }
           t.print(out, "");
@@ -283,10 +288,11 @@ final class OodCommand implements Callable<Integer> {
       }
     }
 
-    private static String evidence(OodScore.Result r) {
-      StringBuilder s = new StringBuilder();
-      for (OodScore.Evidence e : r.evidence()) s.append(s.isEmpty() ? "" : " ").append(e.key()).append(':').append(e.distance());
-      return s.toString();
+    /** The nearest examples as {@code key:distance} items. */
+    private static List<String> evidence(OodScore.Result r) {
+      List<String> items = new ArrayList<>();
+      for (OodScore.Evidence e : r.evidence()) items.add(e.key() + ":" + e.distance());
+      return items;
     }
   }
 
@@ -390,7 +396,7 @@ final class OodCommand implements Callable<Integer> {
             w.row(List.of(s.name(), "", "", "", Double.toString(s.metrics().auroc()), Double.toString(s.metrics().fprAt95Tpr()),
                 Double.toString(s.metrics().auprIn()), Double.toString(s.metrics().auprOut())));
           for (OodEval.Variant v : r.variants())
-            w.row(List.of("code", Integer.toString(v.k()), v.statistic().label, layers(v.layers()), Double.toString(v.auroc()),
+            w.row(List.of("code", Integer.toString(v.k()), v.statistic().label, csvLayers(v.layers()), Double.toString(v.auroc()),
                 Double.toString(v.fprAt95Tpr()), "", ""));
         }
         case table -> {

@@ -98,7 +98,7 @@ final class RegionCommand implements Callable<Integer> {
       all.addAll(r.nearby());
       for (Region.Group g : all)
         csv.row(List.of(Long.toString(r.row()), Integer.toString(g.distance()), Integer.toString(g.count()),
-            labels(g.labels(), ";"), String.join(" ", g.flipped()), String.join(" ", g.keys())));
+            CsvWriter.list(CsvWriter.counted(g.labels())), CsvWriter.list(g.flipped()), CsvWriter.list(g.keys())));
     }
   }
 
@@ -109,7 +109,7 @@ final class RegionCommand implements Callable<Integer> {
       first = false;
       Region.Group same = r.same();
       String head = "query row " + r.row() + ": its own region holds " + same.count() + " example" + (same.count() == 1 ? "" : "s")
-          + (same.count() == 0 ? "" : " (" + labels(same.labels(), ", ") + (same.keys().isEmpty() ? "" : "; e.g. "
+          + (same.count() == 0 ? "" : " (" + labels(same.labels()) + (same.keys().isEmpty() ? "" : "; e.g. "
           + String.join(", ", same.keys())) + ")");
       out.println(io.actindex.core.BadInputException.snippet(head, Integer.MAX_VALUE)); // labels and keys come from a user's file
       if (r.nearby().isEmpty()) {
@@ -118,16 +118,16 @@ final class RegionCommand implements Callable<Integer> {
       }
       TextTable t = new TextTable(List.of("flips", "examples", "labels", "flipped neurons", "example keys"));
       for (Region.Group g : r.nearby())
-        t.row(List.of(Integer.toString(g.distance()), Integer.toString(g.count()), labels(g.labels(), ", "),
+        t.row(List.of(Integer.toString(g.distance()), Integer.toString(g.count()), labels(g.labels()),
             String.join(" ", g.flipped()), String.join(", ", g.keys())));
       t.print(out, "  ");
     }
   }
 
-  /** "normal 10, imbalance 2" (or with another separator); empty when no example has a label. */
-  static String labels(Map<String, Integer> mix, String sep) {
+  /** For tables: "normal 10, imbalance 2"; empty when no example has a label. */
+  static String labels(Map<String, Integer> mix) {
     List<String> parts = new ArrayList<>();
-    mix.forEach((label, n) -> parts.add(label + (sep.equals(";") ? ":" : " ") + n));
-    return String.join(sep, parts);
+    mix.forEach((label, n) -> parts.add(label + " " + n));
+    return String.join(", ", parts);
   }
 }

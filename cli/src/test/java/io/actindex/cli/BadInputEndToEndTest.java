@@ -57,6 +57,10 @@ class BadInputEndToEndTest {
     cases.add(new Case("unsupported dtype (complex64)",
         Files2.rawNpy(tmp.resolve("complex.npy"), Files2.NPY_MAGIC, "{'descr': '<c8', 'fortran_order': False, 'shape': (2, 8), }",
             new byte[2 * 8 * 8]), null));
+    // NumPy's read_array_header (numpy/lib/format.py) refuses a shape that is not a tuple
+    cases.add(new Case("shape written as a list",
+        Files2.rawNpy(tmp.resolve("listshape.npy"), Files2.NPY_MAGIC, "{'descr': '<f4', 'fortran_order': False, 'shape': [2, 8], }",
+            Files2.f32(new float[2 * 8])), "shape"));
     cases.add(new Case("header says more rows than the file holds",
         Files2.rawNpy(tmp.resolve("short.npy"), Files2.NPY_MAGIC, F32_8.formatted(4), Files2.f32(new float[3 * 8])), null));
     cases.add(new Case("header says fewer rows than the file holds",

@@ -102,6 +102,21 @@ class DupesEndToEndTest {
     assertThat(csv.code()).as(csv.describe()).isZero();
     assertThat(csv.out()).startsWith("group,size,distinct_codes,max_distance,cross_split,conflicting_labels,labels,splits,keys");
     for (String line : csv.out().strip().split("\n")) if (!line.startsWith("group,")) assertThat(line).contains(",true,");
+    // the list cells (";"-separated, docs/commands/README.md) hold what the JSON lists
+    JsonNode groups = NearestEndToEndTest.json("dupes", "--index", idx.toString(), "--radius", "2", "--format", "json", "--cross-split")
+        .get("groups");
+    List<String[]> rows = CsvCells.rows(csv.out());
+    assertThat(rows).hasSize(groups.size()).isNotEmpty();
+    for (int i = 0; i < rows.size(); i++) {
+      JsonNode g = groups.get(i);
+      String[] row = rows.get(i);
+      Map<String, Integer> labels = new java.util.LinkedHashMap<>(), splits = new java.util.LinkedHashMap<>();
+      g.get("labels").fields().forEachRemaining(f -> labels.put(f.getKey(), f.getValue().asInt()));
+      g.get("splits").fields().forEachRemaining(f -> splits.put(f.getKey(), f.getValue().asInt()));
+      assertThat(CsvCells.counts(row[6])).as("group " + i + " labels").containsExactlyEntriesOf(labels);
+      assertThat(CsvCells.counts(row[7])).as("group " + i + " splits").containsExactlyEntriesOf(splits).hasSizeGreaterThan(1);
+      assertThat(CsvCells.items(row[8])).as("group " + i + " keys").isEqualTo(g.get("members").findValuesAsText("key"));
+    }
   }
 
   @Test

@@ -6,6 +6,7 @@ import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
 import java.util.Map;
@@ -85,6 +86,12 @@ class OodEndToEndTest {
     Cli.Result csv = Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:2", "--format", "csv");
     assertThat(csv.out().lines().toList()).hasSize(3).first().isEqualTo("query,score,kth,mean,own_region,decision,p_value,max_softmax,evidence,score_name");
     assertThat(csv.out().lines().skip(1)).allMatch(l -> l.endsWith(",code k-th distance"));
+    List<String[]> csvRows = CsvCells.rows(csv.out());
+    for (int i = 0; i < csvRows.size(); i++) { // evidence: key:distance items separated by ';' (docs/commands/README.md)
+      List<String> want = new ArrayList<>();
+      for (JsonNode ev : results.get(i).get("evidence")) want.add(ev.get("key").asText() + ":" + ev.get("distance").asInt());
+      assertThat(CsvCells.items(csvRows.get(i)[8])).as("query " + i).hasSize(3).isEqualTo(want);
+    }
     assertThat(JSON.readTree(s.out()).get("score_name").asText()).isEqualTo("code k-th distance");
     assertThat(JSON.readTree(d.out()).get("score_name").asText()).isEqualTo("code k-th distance");
     assertThat(Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:1").out())

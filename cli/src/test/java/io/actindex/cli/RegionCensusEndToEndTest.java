@@ -67,7 +67,40 @@ class RegionCensusEndToEndTest {
           checkGroup(g, e, ex, what);
         }
       }
+      csvListsMatchJson(doc, args, what);
     }
+  }
+
+  /** The CSV's list cells ({@code ;}-separated, docs/commands/README.md) hold what the JSON lists. */
+  private static void csvListsMatchJson(JsonNode doc, List<String> args, String what) {
+    List<String> csvArgs = new ArrayList<>(args);
+    csvArgs.set(csvArgs.indexOf("json"), "csv");
+    Cli.Result r = Cli.run(csvArgs.toArray(String[]::new));
+    assertThat(r.code()).as(r.describe()).isZero();
+    assertThat(r.out().lines().findFirst()).hasValue("query,distance,count,labels,flipped,keys");
+    List<String[]> rows = CsvCells.rows(r.out());
+    int i = 0;
+    for (JsonNode q : doc.get("results")) {
+      List<JsonNode> groups = new ArrayList<>(List.of(q.get("same")));
+      q.get("nearby").forEach(groups::add);
+      for (JsonNode g : groups) {
+        String[] row = rows.get(i++);
+        assertThat(row[0]).as(what).isEqualTo(q.get("query").asText());
+        assertThat(row[1]).as(what).isEqualTo(g.get("distance").asText());
+        Map<String, Integer> labels = new java.util.LinkedHashMap<>();
+        g.get("labels").fields().forEachRemaining(f -> labels.put(f.getKey(), f.getValue().asInt()));
+        assertThat(CsvCells.counts(row[3])).as(what + ": labels, in order").containsExactlyEntriesOf(labels);
+        assertThat(CsvCells.items(row[4])).as(what + ": flipped").isEqualTo(texts(g.get("flipped")));
+        assertThat(CsvCells.items(row[5])).as(what + ": keys").isEqualTo(texts(g.get("keys")));
+      }
+    }
+    assertThat(rows).as(what).hasSize(i);
+  }
+
+  static List<String> texts(JsonNode array) {
+    List<String> out = new ArrayList<>();
+    array.forEach(v -> out.add(v.asText()));
+    return out;
   }
 
   private static void checkGroup(JsonNode g, Group e, List<Example> ex, String what) {

@@ -1,13 +1,20 @@
 package io.actindex.cli.format;
 
 import java.io.PrintWriter;
+import java.util.ArrayList;
+import java.util.Collection;
 import java.util.List;
+import java.util.Map;
 
 /**
  * Writes CSV as RFC 4180 describes it: comma-separated fields, CRLF-free output lines ending in
  * {@code \n} (common practice on Unix), a field quoted with double quotes when it contains a
  * comma, a quote, a line break or leading/trailing space, and quotes inside doubled.
  * A null field is written empty.
+ *
+ * <p>A list in one cell (keys, labels, flipped neurons, layers) is written by {@link #list}: its
+ * items separated by {@value #LIST_SEPARATOR}, the same in every command, so that the cell never
+ * needs quoting for the separator and splits with one call; an empty list is an empty cell.
  */
 public final class CsvWriter {
   private final PrintWriter out;
@@ -29,6 +36,23 @@ public final class CsvWriter {
       sb.append(field(fields.get(i)));
     }
     out.println(sb);
+  }
+
+  /** The separator of the items of a list written into one cell. */
+  public static final String LIST_SEPARATOR = ";";
+
+  /** A list as one cell: the items separated by {@value #LIST_SEPARATOR}. */
+  public static String list(Collection<?> items) {
+    StringBuilder sb = new StringBuilder();
+    for (Object item : items) sb.append(sb.isEmpty() ? "" : LIST_SEPARATOR).append(item);
+    return sb.toString();
+  }
+
+  /** Counts as {@code NAME:COUNT} items, in the map's order (for {@link #list} or a table). */
+  public static List<String> counted(Map<String, Integer> counts) {
+    List<String> items = new ArrayList<>(counts.size());
+    counts.forEach((name, n) -> items.add(name + ":" + n));
+    return items;
   }
 
   /** One field, quoted if needed. */

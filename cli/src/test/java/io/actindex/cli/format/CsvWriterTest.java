@@ -5,7 +5,9 @@ import static org.assertj.core.api.Assertions.assertThat;
 import java.io.PrintWriter;
 import java.io.StringWriter;
 import java.util.Arrays;
+import java.util.LinkedHashMap;
 import java.util.List;
+import java.util.Map;
 import org.junit.jupiter.api.Test;
 
 class CsvWriterTest {
@@ -30,5 +32,23 @@ class CsvWriterTest {
     csv.row(Arrays.asList("2", null));
     pw.flush();
     assertThat(sw.toString().split("\\R")).containsExactly("rank,key", "1,\"motor, left\"", "2,");
+  }
+
+  @Test
+  void listCellsUseOneSeparatorThatNeedsNoQuoting() {
+    // the contract in docs/commands/README.md: items separated by ';', empty list = empty cell
+    assertThat(CsvWriter.list(List.of("h1:3", "h2:0"))).isEqualTo("h1:3;h2:0");
+    assertThat(CsvWriter.list(List.of("only"))).isEqualTo("only");
+    assertThat(CsvWriter.list(List.of())).isEmpty();
+    assertThat(CsvWriter.field(CsvWriter.list(List.of("a", "b", "c")))).as("not quoted").isEqualTo("a;b;c");
+    Map<String, Integer> counts = new LinkedHashMap<>();
+    counts.put("normal", 10);
+    counts.put("a:b", 2); // a name with ':' still splits at the last one
+    assertThat(CsvWriter.list(CsvWriter.counted(counts))).isEqualTo("normal:10;a:b:2");
+    StringWriter sw = new StringWriter();
+    PrintWriter pw = new PrintWriter(sw);
+    new CsvWriter(pw, List.of("n", "keys")).row(List.of("2", CsvWriter.list(List.of("x", "y"))));
+    pw.flush();
+    assertThat(sw.toString().split("\\R")[1].split(",", -1)).containsExactly("2", "x;y");
   }
 }

@@ -8,6 +8,7 @@ import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
 
 /**
  * The header of a NumPy {@code .npy} file, as the NumPy format specification
@@ -21,6 +22,9 @@ import java.util.Map;
 public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, boolean fortranOrder, long[] shape, long dataOffset) {
 
   static final byte[] MAGIC = {(byte) 0x93, 'N', 'U', 'M', 'P', 'Y'};
+
+  /** The header dict's keys: exactly these, as NumPy's {@code read_array_header} requires. */
+  private static final Set<String> KEYS = Set.of("descr", "fortran_order", "shape");
 
   /** Rows: the first dimension. */
   public long rows() {
@@ -91,20 +95,28 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
     } catch (IllegalArgumentException e) {
       throw new BadInputException(file + ": malformed .npy header: " + e.getMessage());
     }
+    if (!dict.keySet().equals(KEYS))
+      throw new BadInputException(file + ": .npy header keys are " + describe(dict.keySet().stream().sorted().toList())
+          + "; NumPy's format requires exactly 'descr', 'fortran_order' and 'shape'");
     Object descr = dict.get("descr");
     if (!(descr instanceof String d))
       throw new BadInputException(file + ": field 'descr': unsupported dtype " + describe(descr) + " (structured arrays are not supported)");
-    if (d.length() < 2) throw new BadInputException(file + ": field 'descr': unsupported dtype " + BadInputException.quote(d));
-    NpyDtype dtype = NpyDtype.ofCode(d.substring(1));
-    char bo = d.charAt(0);
-    if (dtype == null || "<>|=".indexOf(bo) < 0)
+    // The byte-order character is optional in a descr: NumPy's dtype('f4') is native order.
+    // Common practice: a missing byte order is read as little-endian, the native order of every
+    // machine actindex targets ('=' is read the same way); single-byte types ignore it.
+    char bo = d.isEmpty() ? '\0' : d.charAt(0);
+    boolean hasOrder = "<>|=".indexOf(bo) >= 0;
+    NpyDtype dtype = NpyDtype.ofCode(hasOrder ? d.substring(1) : d);
+    if (dtype == null)
       throw new BadInputException(file + ": field 'descr': unsupported dtype " + BadInputException.quote(d)
-          + " (supported: float16/32/64, int8/16/32/64, uint8/16/32/64, bool)");
-    ByteOrder order = bo == '>' ? ByteOrder.BIG_ENDIAN : bo == '=' ? ByteOrder.nativeOrder() : ByteOrder.LITTLE_ENDIAN;
+          + " (supported: float16/32/64, int8/16/32/64, uint8/16/32/64, bool, as '<f4', '>f4', 'f4' or '|u1')");
+    ByteOrder order = bo == '>' ? ByteOrder.BIG_ENDIAN : ByteOrder.LITTLE_ENDIAN;
     Object fo = dict.get("fortran_order");
-    if (!(fo instanceof Boolean fortran)) throw new BadInputException(file + ": field 'fortran_order' is missing or not True/False");
+    if (!(fo instanceof Boolean fortran)) throw new BadInputException(file + ": field 'fortran_order' must be True or False, not " + describe(fo));
     Object sh = dict.get("shape");
-    if (!(sh instanceof List<?> dims)) throw new BadInputException(file + ": field 'shape' is missing or not a tuple");
+    if (!(sh instanceof Tuple(List<Object> dims)))
+      throw new BadInputException(file + ": field 'shape' must be a tuple of integers such as (3, 4) or (3,), not "
+          + (sh instanceof List<?> ? "a list " : "") + describe(sh));
     if (dims.isEmpty()) throw new BadInputException(file + ": field 'shape': a 0-dimensional array has no rows");
     long[] shape = new long[dims.size()];
     for (int i = 0; i < shape.length; i++) {
@@ -122,7 +134,7 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
   }
 
   private static String describe(Object o) {
-    return o == null ? "(missing)" : BadInputException.quote(o.toString());
+    return BadInputException.snippet(Literal.repr(o), 80);
   }
 
   /**
@@ -148,7 +160,13 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
     return bb.array();
   }
 
-  /** A parser for the Python literal subset NumPy writes: dicts, tuples, lists, strings, ints, True/False/None. */
+  /** A Python tuple; a Python list is a plain {@link List}. */
+  private record Tuple(List<Object> items) {}
+
+  /**
+   * A parser for the Python literal subset NumPy writes: dicts ({@link Map}), tuples ({@link
+   * Tuple}), lists ({@link List}), strings, ints (with Python 2's {@code L} suffix), True/False/None.
+   */
   private static final class Literal {
     private final String s;
     private int pos;
@@ -199,17 +217,22 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
         char close = c == '(' ? ')' : ']';
         pos++;
         List<Object> l = new ArrayList<>();
+        boolean comma = false;
         while (true) {
           ws();
           if (peek() == close) {
             pos++;
             depth--;
-            return l;
+            if (c == '[') return l;
+            // as in Python: (3) is the integer 3, (3,) and () are tuples
+            return l.size() == 1 && !comma ? l.getFirst() : new Tuple(l);
           }
           l.add(value());
           ws();
-          if (peek() == ',') pos++;
-          else if (peek() != close) throw new IllegalArgumentException("expected ',' or '" + close + "' at character " + pos);
+          if (peek() == ',') {
+            pos++;
+            comma = true;
+          } else if (peek() != close) throw new IllegalArgumentException("expected ',' or '" + close + "' at character " + pos);
         }
       }
       if (c == '\'' || c == '"') {
@@ -234,6 +257,25 @@ public record NpyHeader(int major, int minor, NpyDtype dtype, ByteOrder order, b
             throw new IllegalArgumentException("unexpected token " + BadInputException.quote(tok) + " at character " + start);
           }
       }
+    }
+
+    /** A value written back as Python would print it, for messages. */
+    static String repr(Object o) {
+      return switch (o) {
+        case null -> "None";
+        case Boolean b -> b ? "True" : "False";
+        case String str -> "'" + str + "'";
+        case Tuple(List<Object> items) -> items.size() == 1 ? "(" + repr(items.getFirst()) + ",)" : join(items, "(", ")");
+        case List<?> l -> join(l, "[", "]");
+        case Map<?, ?> m -> "{...}";
+        default -> o.toString();
+      };
+    }
+
+    private static String join(java.util.Collection<?> items, String open, String close) {
+      StringBuilder sb = new StringBuilder(open);
+      for (Object item : items) sb.append(sb.length() == open.length() ? "" : ", ").append(repr(item));
+      return sb.append(close).toString();
     }
 
     private void ws() {
