@@ -325,6 +325,17 @@ class BadInputEndToEndTest {
     Cli.Result codes = Cli.run("add", "--index", cidx.toString(), "--codes",
         Files2.bits(tmp.resolve("more-codes.npy"), SourcesEndToEndTest.binarize(acts, 0)).toString());
     assertThat(codes.code()).as(codes.describe()).isZero();
+    // a query only reads: answered, with a note that the activations were binarized by the default
+    // rule; the same rows as codes answer alike and without the note
+    Map<String, String> grown = Files2.checksums(cidx);
+    Cli.Result byActs = Cli.run("nearest", "--index", cidx.toString(), "--activations", file.toString(), "-k", "3", "--format", "csv");
+    Cli.Result byCodes = Cli.run("nearest", "--index", cidx.toString(), "--codes", tmp.resolve("more-codes.npy").toString(), "-k", "3",
+        "--format", "csv");
+    assertThat(byActs.code()).as(byActs.describe()).isZero();
+    assertThat(byActs.err()).as(byActs.describe()).contains("built from codes").contains("default rule").contains(file.toString());
+    assertThat(byCodes.err()).as(byCodes.describe()).doesNotContain("built from codes");
+    assertThat(byActs.out()).as(byActs.describe()).isEqualTo(byCodes.out());
+    assertThat(Files2.checksums(cidx)).isEqualTo(grown);
   }
 
   /**

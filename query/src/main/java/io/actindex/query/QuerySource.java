@@ -65,6 +65,9 @@ public final class QuerySource {
         throw new BadInputException(source.file() + ": " + what + " given as inputs, but the index holds no model; give activations or codes");
       model = new Encoding.Model(null, reader.dir().resolve(BuildInfo.MODEL) + " (the model stored in the index)", stored);
     }
+    if (info.kind() == Source.Kind.CODES && source.kind() != Source.Kind.CODES) // add refuses these; a query only reads
+      notes.add(source.file() + ": note: the index " + reader.dir() + " was built from codes and records no rule that made them; these "
+          + what + " rows are binarized by the default rule (a unit is on when its value is > 0), which may not be how its codes were made");
     // a codes file is read in the layout the index was built from when that was a codes file too
     CodeLayout codesLayout = source.kind() != Source.Kind.CODES ? null
         : info.kind() == Source.Kind.CODES ? info.sourceLayout() : target;
