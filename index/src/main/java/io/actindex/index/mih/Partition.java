@@ -297,6 +297,10 @@ final class Partition {
 
   // ------------------------------------------------------------------ search
 
+  /** Members {@link #walk} tests before it judges whether its bounds pay, and the share kept above which they do not. */
+  private static final int WALK_TRIAL = 1024;
+  private static final double WALK_KEEPS = 0.75;
+
   /** Covers whose radii are kept at once (2 bytes per code each). */
   private static final int MAX_COVERS = 8;
   /**
@@ -503,27 +507,41 @@ final class Partition {
    * place (cluster and radius) is read from a small table by ordinal, where its code would be a read
    * from a random place of a far larger array. The bounds of a block of members are taken before
    * any of them is compared, so a block sees the k-th distance the block before left (still exact:
-   * the bound only drops).
+   * the bound only drops). Where the bounds keep more than {@value #WALK_KEEPS} of the first
+   * {@value #WALK_TRIAL} members (codes without structure, all about equally far from every centre),
+   * the rest are compared without them, as the plain walk does. Returns the members compared.
    */
-  void walk(ScanKernel.Words sel, long[] data, IdSet set, Visit v, TopK top, int maxDist) {
+  long walk(ScanKernel.Words sel, long[] data, IdSet set, Visit v, TopK top, int maxDist) {
     int w = words;
     int[] dq = v.byCluster, block = v.pass, pass = v.members, placeOf = places();
     int bound = Math.min(maxDist, top.bound());
+    long seen = 0, passed = 0, compared = 0;
+    boolean skip = true;
     for (int from = 0, m = block.length; m == block.length && (m = set.next(from, block)) > 0; from = block[m - 1] + 1) {
-      int kept = 0;
-      for (int j = 0; j < m; j++) {
-        int ord = block[j], place = placeOf[ord];
-        pass[kept] = ord;
-        kept += Math.abs(dq[place >>> 16] - (place & 0xFFFF)) <= bound ? 1 : 0;
+      int kept = m;
+      int[] list = block;
+      if (skip) {
+        kept = 0;
+        list = pass;
+        for (int j = 0; j < m; j++) {
+          int ord = block[j], place = placeOf[ord];
+          pass[kept] = ord;
+          kept += Math.abs(dq[place >>> 16] - (place & 0xFFFF)) <= bound ? 1 : 0;
+        }
+        seen += m;
+        passed += kept;
+        skip = seen < WALK_TRIAL || passed <= WALK_KEEPS * seen;
       }
+      compared += kept;
       for (int j = 0; j < kept; j++) {
-        int ord = pass[j], d = sel.distance(data, ord * w, w, bound);
+        int ord = list[j], d = sel.distance(data, ord * w, w, bound);
         if (d <= bound) {
           top.offer(ord, d);
           bound = Math.min(maxDist, top.bound());
         }
       }
     }
+    return compared;
   }
 
   /**
