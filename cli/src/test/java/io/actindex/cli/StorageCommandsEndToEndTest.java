@@ -243,6 +243,30 @@ class StorageCommandsEndToEndTest {
     assertThat(leftovers).containsExactly("notes.txt");
   }
 
+  /** Beside a stray commit, the manifest's own commit missing or damaged is still refused by name (exit 2), by every command. */
+  @Test
+  void theManifestsOwnCommitMissingOrDamagedIsRefusedByNameBesideAStrayOne() throws Exception {
+    Path commit;
+    try (Stream<Path> s = Files.list(idx.resolve("meta"))) {
+      commit = s.filter(p -> p.getFileName().toString().startsWith("segments_")).findFirst().orElseThrow();
+    }
+    String name = commit.getFileName().toString();
+    Path stray = commit.resolveSibling("segments_" + Long.toString(Long.parseLong(name.substring(9), Character.MAX_RADIX) + 1,
+        Character.MAX_RADIX));
+    Files.copy(commit, stray);
+    byte[] bytes = Files.readAllBytes(commit);
+    Path q = Files2.bits(tmp.resolve("q.npy"), new boolean[][] {codes[0]});
+    for (boolean missing : new boolean[] {true, false}) {
+      if (missing) Files.delete(commit);
+      else Files2.write(commit, java.util.Arrays.copyOf(bytes, bytes.length - 5));
+      Map<String, String> before = Files2.checksums(idx);
+      refused(Cli.run("check", "--index", idx.toString()), name);
+      refused(Cli.run("nearest", "--index", idx.toString(), "--codes", q.toString()), name);
+      refused(Cli.run("add", "--index", idx.toString(), "--codes", q.toString()), name);
+      assertThat(Files2.checksums(idx)).as("missing " + missing).isEqualTo(before);
+    }
+  }
+
   @Test
   void readersNeverCreateAMissingMetaFolderAndAFolderManifestIsRefused() throws Exception {
     Path q = Files2.bits(tmp.resolve("q.npy"), new boolean[][] {codes[0]});
