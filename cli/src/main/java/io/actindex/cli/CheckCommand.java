@@ -18,7 +18,8 @@ import picocli.CommandLine.Spec;
 @Command(name = "check", mixinStandardHelpOptions = true,
     description = {"Verifies every byte of every file of an index: each file's CRC32, every hash-table key",
         "against its codes, and the checksum of every metadata (Lucene) file. Reports per file; exits 2,",
-        "naming the first damaged file, if any is damaged. Never writes."})
+        "naming the first damaged file, if any is damaged. Files the index does not use are listed as",
+        "leftovers (exit 0 when the index is sound). Never writes."})
 final class CheckCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -41,23 +42,37 @@ final class CheckCommand implements Callable<Integer> {
           if (f.problem() != null) j.member("problem", f.problem());
           j.endObject();
         }
+        for (IndexCheck.Leftover f : r.leftovers())
+          j.beginObject().member("file", f.file()).member("bytes", f.bytes()).name("ok").value(true).member("status", LEFTOVER)
+              .name("removed_by_next_change").value(f.removedByWriter()).endObject();
         j.endArray().endObject();
         out.println();
       }
       case csv -> {
-        CsvWriter csv = new CsvWriter(out, List.of("file", "bytes", "ok", "problem"));
+        CsvWriter csv = new CsvWriter(out, List.of("file", "bytes", "ok", "problem", "status"));
         for (IndexCheck.FileResult f : r.files())
-          csv.row(List.of(f.file(), Long.toString(f.bytes()), Boolean.toString(f.ok()), f.problem() == null ? "" : f.problem()));
+          csv.row(List.of(f.file(), Long.toString(f.bytes()), Boolean.toString(f.ok()), f.problem() == null ? "" : f.problem(), f.status()));
+        for (IndexCheck.Leftover f : r.leftovers())
+          csv.row(List.of(f.file(), Long.toString(f.bytes()), "true", "", LEFTOVER));
       }
       case table -> {
         TextTable t = new TextTable(List.of("file", "bytes", "status"));
         for (IndexCheck.FileResult f : r.files())
           t.row(List.of(f.file(), f.file().equals("index") ? "" : Long.toString(f.bytes()), f.status()));
+        for (IndexCheck.Leftover f : r.leftovers()) t.row(List.of(f.file(), Long.toString(f.bytes()), LEFTOVER));
         out.println("index " + index.dir + ", generation " + r.generation() + ":");
         t.print(out, "  ");
-        out.println(r.ok() ? "every file is sound" : "damaged files found:");
+        out.println(r.ok() ? "every file of the index is sound" : "damaged files found:");
         for (IndexCheck.FileResult f : r.files())
           if (!f.ok()) out.println("  " + f.file() + ": " + f.problem());
+        if (!r.leftovers().isEmpty()) {
+          out.println(r.leftovers().size() + " leftover file(s), not part of the index (left by an interrupted or failed change,"
+              + " or put here):");
+          out.println("safe to delete (the index stays as it is) while no add, delete or compact runs on it");
+          for (IndexCheck.Leftover f : r.leftovers())
+            out.println("  " + f.file() + ": " + f.bytes() + " bytes, "
+                + (f.removedByWriter() ? "removed by the next add, delete or compact" : "never removed by actindex (a name it does not write)"));
+        }
       }
     }
     out.flush();
@@ -65,4 +80,7 @@ final class CheckCommand implements Callable<Integer> {
     if (bad != null) throw new BadInputException(bad.problem());
     return ExitCodes.OK;
   }
+
+  /** The status of a file the index does not use. */
+  private static final String LEFTOVER = "leftover";
 }

@@ -60,9 +60,9 @@ final class InfoCommand implements Callable<Integer> {
       j.beginObject().member("name", s.name()).member("bits", s.bits()).endObject();
     j.endArray()
         .member("generation", info.generation())
-        .member("max_id", info.maxId())
+        .member("next_id", info.nextId())
         .member("live", info.liveCount())
-        .member("deleted", info.maxId() - info.liveCount())
+        .member("deleted", info.nextId() - info.liveCount())
         .member("bytes_on_disk", info.bytesOnDisk());
     if (magnitudeBits == 0) j.name("magnitudes").nullValue();
     else j.name("magnitudes").beginObject()
@@ -141,8 +141,9 @@ final class InfoCommand implements Callable<Integer> {
     List<String> layers = new ArrayList<>();
     for (CodeLayout.Segment s : info.layout().segments()) layers.add(s.name() + " (" + s.bits() + " bits)");
     out.println("layers:    " + String.join(", ", layers) + "; " + info.layout().bits() + " bits in all");
-    out.println("examples:  " + info.liveCount() + " live, " + (info.maxId() - info.liveCount()) + " deleted (ids 0.."
-        + (info.maxId() - 1) + ")");
+    out.println("examples:  " + info.liveCount() + " live, " + (info.nextId() - info.liveCount()) + " deleted ("
+        + (info.nextId() == 0 ? "no id given out yet" : "ids 0.." + (info.nextId() - 1) + " given out") + ", next id "
+        + info.nextId() + ")");
     out.println("on disk:   " + Units.bytes(info.bytesOnDisk()) + ", generation " + info.generation());
     out.println("magnitudes: " + (magnitudeBits == 0 ? "none kept (nearest --refine needs them; see build --magnitudes)"
         : magnitudeBits + " bits per unit, " + io.actindex.index.store.Magnitudes.rowBytes(info.layout().bits(), magnitudeBits)

@@ -291,7 +291,7 @@ class NearestEndToEndTest {
         9, live, d.queries(), 0, m -> true, LAYERS, what + " after deletes");
     JsonNode info = json("info", "--index", idx.toString(), "--format", "json");
     assertThat(info.get("layout").asText()).isEqualTo(LAYOUT);
-    assertThat(info.get("max_id").asInt()).isEqualTo(ex.size());
+    assertThat(info.get("next_id").asInt()).isEqualTo(ex.size());
     assertThat(info.get("live").asInt()).isEqualTo(live.size());
     assertThat(info.get("deleted").asInt()).isEqualTo(gone.getCardinality());
     assertThat(info.get("segments").size()).as("build and add wrote one segment each").isEqualTo(2);

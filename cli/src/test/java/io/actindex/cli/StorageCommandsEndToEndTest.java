@@ -195,6 +195,78 @@ class StorageCommandsEndToEndTest {
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 
+  /**
+   * What a killed add leaves (an orphan segment file, a temporary manifest, a Lucene commit no
+   * manifest names, here junk) is listed by check as leftovers with their sizes, not as damage: exit
+   * 0, the index still answers, and the next add removes exactly those check says it removes.
+   */
+  @Test
+  void checkListsLeftoverFilesWithTheirSizesAndTheNextAddRemovesThem() throws Exception {
+    String commit;
+    try (Stream<Path> s = Files.list(idx.resolve("meta"))) {
+      commit = s.map(p -> p.getFileName().toString()).filter(n -> n.startsWith("segments_")).findFirst().orElseThrow();
+    }
+    long gen = Long.parseLong(commit.substring(9), Character.MAX_RADIX);
+    Map<String, Integer> left = new java.util.TreeMap<>(Map.of("seg-97.codes", 1234, "manifest-98.tmp", 77,
+        "meta/segments_" + Long.toString(gen + 1, Character.MAX_RADIX), 40, "meta/_zz.cfs", 300, "notes.txt", 12));
+    for (Map.Entry<String, Integer> f : left.entrySet()) Files2.write(idx.resolve(f.getKey()), new byte[f.getValue()]);
+    Map<String, String> before = Files2.checksums(idx);
+
+    Cli.Result table = ok(Cli.run("check", "--index", idx.toString()));
+    for (Map.Entry<String, Integer> f : left.entrySet())
+      assertThat(table.out()).as(table.describe()).containsPattern("(?m)^  " + java.util.regex.Pattern.quote(f.getKey())
+          + " +" + f.getValue() + " +leftover$");
+    assertThat(table.out()).contains("every file of the index is sound").contains("not part of the index")
+        .contains("safe to delete").contains("notes.txt: 12 bytes, never removed by actindex")
+        .contains("seg-97.codes: 1234 bytes, removed by the next add, delete or compact");
+    JsonNode doc = json(Cli.run("check", "--index", idx.toString(), "--format", "json"));
+    assertThat(doc.get("ok").asBoolean()).isTrue();
+    Map<String, Integer> listed = new java.util.TreeMap<>();
+    for (JsonNode f : doc.get("files"))
+      if (f.get("status").asText().equals("leftover")) {
+        listed.put(f.get("file").asText(), f.get("bytes").asInt());
+        assertThat(f.get("ok").asBoolean()).isTrue();
+        assertThat(f.get("removed_by_next_change").asBoolean()).as(f.toString()).isEqualTo(!f.get("file").asText().equals("notes.txt"));
+      }
+    assertThat(listed).isEqualTo(left);
+    List<String> csv = ok(Cli.run("check", "--index", idx.toString(), "--format", "csv")).out().lines().toList();
+    assertThat(csv.get(0)).isEqualTo("file,bytes,ok,problem,status");
+    assertThat(csv).contains("seg-97.codes,1234,true,,leftover");
+    assertThat(Files2.checksums(idx)).isEqualTo(before); // check never writes
+    ok(Cli.run("nearest", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("q.npy"), new boolean[][] {codes[3]}).toString()));
+
+    ok(Cli.run("add", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("c3.npy"), new boolean[][] {codes[1]}).toString()));
+    for (String f : left.keySet()) assertThat(idx.resolve(f).toFile().exists()).as(f).isEqualTo(f.equals("notes.txt"));
+    doc = json(Cli.run("check", "--index", idx.toString(), "--format", "json"));
+    List<String> leftovers = new ArrayList<>();
+    doc.get("files").forEach(f -> { if (f.get("status").asText().equals("leftover")) leftovers.add(f.get("file").asText()); });
+    assertThat(leftovers).containsExactly("notes.txt");
+  }
+
+  /** Beside a stray commit, the manifest's own commit missing or damaged is still refused by name (exit 2), by every command. */
+  @Test
+  void theManifestsOwnCommitMissingOrDamagedIsRefusedByNameBesideAStrayOne() throws Exception {
+    Path commit;
+    try (Stream<Path> s = Files.list(idx.resolve("meta"))) {
+      commit = s.filter(p -> p.getFileName().toString().startsWith("segments_")).findFirst().orElseThrow();
+    }
+    String name = commit.getFileName().toString();
+    Path stray = commit.resolveSibling("segments_" + Long.toString(Long.parseLong(name.substring(9), Character.MAX_RADIX) + 1,
+        Character.MAX_RADIX));
+    Files.copy(commit, stray);
+    byte[] bytes = Files.readAllBytes(commit);
+    Path q = Files2.bits(tmp.resolve("q.npy"), new boolean[][] {codes[0]});
+    for (boolean missing : new boolean[] {true, false}) {
+      if (missing) Files.delete(commit);
+      else Files2.write(commit, java.util.Arrays.copyOf(bytes, bytes.length - 5));
+      Map<String, String> before = Files2.checksums(idx);
+      refused(Cli.run("check", "--index", idx.toString()), name);
+      refused(Cli.run("nearest", "--index", idx.toString(), "--codes", q.toString()), name);
+      refused(Cli.run("add", "--index", idx.toString(), "--codes", q.toString()), name);
+      assertThat(Files2.checksums(idx)).as("missing " + missing).isEqualTo(before);
+    }
+  }
+
   @Test
   void readersNeverCreateAMissingMetaFolderAndAFolderManifestIsRefused() throws Exception {
     Path q = Files2.bits(tmp.resolve("q.npy"), new boolean[][] {codes[0]});

@@ -61,6 +61,9 @@ public final class MetaStore implements Closeable {
     return name.equals(MetaSchema.ID) || name.startsWith(MetaSchema.KIND_PREFIX);
   }
 
+  /** Lucene's lock file in the store folder (empty; not part of any commit). */
+  public static final String LOCK_FILE = org.apache.lucene.index.IndexWriter.WRITE_LOCK_NAME;
+
   private final Directory dir;
   private final DirectoryReader reader;
   private final IndexSearcher searcher;
@@ -171,7 +174,9 @@ public final class MetaStore implements Closeable {
 
   /**
    * Verifies the checksum of every file of commit {@code segmentsFile}: file name -> problem (null
-   * when sound), in the commit's order. A missing folder or commit throws BadInputException.
+   * when sound), by name. When the commit cannot be read, every file of the folder but other
+   * segments files is checked, and the commit is listed as missing or unreadable unless another
+   * file is found damaged. A missing folder throws BadInputException.
    */
   public static Map<String, String> checkFiles(Path metaDir, String segmentsFile) {
     if (!java.nio.file.Files.isDirectory(metaDir))
@@ -183,9 +188,11 @@ public final class MetaStore implements Closeable {
         names = findCommit(metaDir, dir, segmentsFile).getFileNames();
       } catch (BadInputException e) {
         commitProblem = e.getMessage();
-        // the commit does not parse: check every file of the folder, so the damaged one is named
+        // the commit does not parse: check every file of the folder but other commits (leftovers,
+        // whatever their state), so the damaged one is named
         names = new ArrayList<>(List.of(dir.listAll()));
-        names.remove("write.lock");
+        names.remove(LOCK_FILE);
+        names.removeIf(name -> MetaWriter.otherCommit(name, segmentsFile));
       }
       Map<String, String> out = new LinkedHashMap<>();
       for (String name : new java.util.TreeSet<>(names)) {
@@ -215,9 +222,8 @@ public final class MetaStore implements Closeable {
     if (!java.nio.file.Files.exists(metaDir.resolve(segmentsFile))) throw missingCommit(metaDir, segmentsFile);
     if (java.nio.file.Files.isDirectory(metaDir.resolve(segmentsFile)))
       throw folderForFile(metaDir.resolve(segmentsFile), null);
-    List<IndexCommit> commits;
     try {
-      commits = DirectoryReader.listCommits(dir);
+      return new NamedCommit(dir, segmentsFile); // that commit only: no other segments file is read
     } catch (IOException | RuntimeException e) {
       try (java.util.stream.Stream<Path> entries = java.nio.file.Files.list(metaDir)) { // Lucene's words for a folder are about mmap limits
         Path folder = entries.filter(java.nio.file.Files::isDirectory).findFirst().orElse(null);
@@ -228,8 +234,6 @@ public final class MetaStore implements Closeable {
       throw new BadInputException("metadata store " + metaDir + " cannot be read (" + segmentsFile + "): "
           + e.getMessage(), e);
     }
-    for (IndexCommit c : commits) if (c.getSegmentsFileName().equals(segmentsFile)) return c;
-    throw missingCommit(metaDir, segmentsFile);
   }
 
   /** The metadata folder is missing ({@code why} appended) or is not a folder. */

@@ -12,6 +12,7 @@ import java.util.Map;
 import org.apache.lucene.document.IntPoint;
 import org.apache.lucene.index.DirectoryReader;
 import org.apache.lucene.index.IndexCommit;
+import org.apache.lucene.index.IndexFileNames;
 import org.apache.lucene.index.IndexWriter;
 import org.apache.lucene.index.IndexWriterConfig;
 import org.apache.lucene.index.LeafReaderContext;
@@ -86,6 +87,8 @@ public final class MetaWriter implements Closeable {
   /**
    * Opens the store at the commit a manifest names ({@code segmentsFile}), dropping every other
    * commit and every file no kept commit references (the leftovers of a failed or crashed change).
+   * Other segments files are deleted before Lucene's writer opens, since it reads every one of them
+   * and stops at one it cannot parse (junk, a copy, a commit cut short); see {@link #removesLeftover}.
    */
   public static MetaWriter open(Path metaDir, String segmentsFile) throws IOException {
     return open(metaDir, FSDirectory.open(metaDir), segmentsFile);
@@ -95,6 +98,8 @@ public final class MetaWriter implements Closeable {
   public static MetaWriter open(Path metaDir, Directory dir, String segmentsFile) throws IOException {
     try {
       IndexCommit commit = MetaStore.findCommit(metaDir, dir, segmentsFile);
+      for (String name : dir.listAll())
+        if (otherCommit(name, segmentsFile)) dir.deleteFile(name);
       KeepPublishedPolicy policy = new KeepPublishedPolicy();
       policy.publish(commit.getGeneration());
       IndexWriterConfig cfg = config(policy).setOpenMode(IndexWriterConfig.OpenMode.APPEND).setIndexCommit(commit);
@@ -103,6 +108,21 @@ public final class MetaWriter implements Closeable {
       dir.close();
       throw e;
     }
+  }
+
+  /** Whether {@code name} is a segments file (a commit, or one being written) other than {@code segmentsFile}. */
+  static boolean otherCommit(String name, String segmentsFile) {
+    return (name.startsWith(IndexFileNames.SEGMENTS) || name.startsWith(IndexFileNames.PENDING_SEGMENTS))
+        && !name.equals(segmentsFile);
+  }
+
+  /**
+   * Whether a writer's {@link #open} removes {@code name}, a file of the store folder that the
+   * commit {@code segmentsFile} does not use: other segments files (deleted here) and Lucene's own
+   * file names (deleted by Lucene as unreferenced). Other names are left alone.
+   */
+  public static boolean removesLeftover(String name, String segmentsFile) {
+    return otherCommit(name, segmentsFile) || IndexFileNames.CODEC_FILE_PATTERN.matcher(name).matches();
   }
 
   /**

@@ -2,18 +2,25 @@ package io.actindex.index.store;
 
 import io.actindex.core.BadInputException;
 import io.actindex.index.meta.MetaStore;
+import io.actindex.index.meta.MetaWriter;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
+import java.util.HashSet;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
+import java.util.function.Predicate;
+import java.util.stream.Stream;
 
 /**
  * Verifies every byte of an index folder's newest generation: the CRC32 of every file the manifest
  * names, every table key against its codes, Lucene's checksum of every file of the metadata commit,
  * then the cross-file counts that opening checks. Unlike {@link IndexReader#open}, it reads big
- * files in full, and it keeps going after a damaged file so the report lists every file. Never
- * writes.
+ * files in full, and it keeps going after a damaged file so the report lists every file. Files of
+ * the folder and of {@code meta/} that the generation does not use (what a killed or failed change
+ * left, a stray Lucene commit) are listed as leftovers, not checked: they are not part of the
+ * index. Never writes.
  */
 public final class IndexCheck {
   private IndexCheck() {}
@@ -32,10 +39,21 @@ public final class IndexCheck {
 
   private static final String NOT_CHECKED = "not checked: ";
 
-  /** Every file checked, in manifest order, then the metadata files and the cross-file check ("index"). */
-  public record Report(Path dir, long generation, List<FileResult> files) {
+  /**
+   * A file the checked generation does not use: its path relative to the folder, its size, and
+   * whether the next writer of the index removes it ({@link IndexWriter#open} deletes the names
+   * actindex and Lucene write; a file of another name stays until someone deletes it).
+   */
+  public record Leftover(String file, long bytes, boolean removedByWriter) {}
+
+  /**
+   * Every file checked, in manifest order, then the metadata files and the cross-file check
+   * ("index"); then the leftovers, by name (none when the manifest itself is damaged).
+   */
+  public record Report(Path dir, long generation, List<FileResult> files, List<Leftover> leftovers) {
     public Report {
       files = List.copyOf(files);
+      leftovers = List.copyOf(leftovers);
     }
 
     public boolean ok() {
@@ -61,7 +79,7 @@ public final class IndexCheck {
       out.add(new FileResult(manifestName, size(dir.resolve(manifestName)), null));
     } catch (BadInputException e) {
       out.add(new FileResult(manifestName, size(dir.resolve(manifestName)), e.getMessage()));
-      return new Report(dir, gen, out);
+      return new Report(dir, gen, out, List.of());
     }
     List<Path> files = new ArrayList<>();
     for (FileRef f : m.files()) files.add(dir.resolve(f.name()));
@@ -93,9 +111,16 @@ public final class IndexCheck {
         filesOk &= problem == null;
       }
     }
+    Set<String> used = new HashSet<>(List.of(manifestName, WriteLock.FILE, IndexWriter.META_DIR));
+    for (FileRef f : m.files()) used.add(f.name());
+    List<Leftover> leftovers = leftovers(dir, "", used, IndexWriter::removesLeftover);
     Path metaDir = dir.resolve(IndexWriter.META_DIR);
     try {
-      for (Map.Entry<String, String> f : MetaStore.checkFiles(metaDir, m.metaCommit()).entrySet()) {
+      Map<String, String> metaFiles = MetaStore.checkFiles(metaDir, m.metaCommit());
+      Set<String> metaUsed = new HashSet<>(metaFiles.keySet());
+      metaUsed.add(MetaStore.LOCK_FILE);
+      leftovers.addAll(leftovers(metaDir, IndexWriter.META_DIR + "/", metaUsed, name -> MetaWriter.removesLeftover(name, m.metaCommit())));
+      for (Map.Entry<String, String> f : metaFiles.entrySet()) {
         String rel = IndexWriter.META_DIR + "/" + f.getKey();
         out.add(new FileResult(rel, size(dir.resolve(rel)),
             f.getValue() == null ? null : "metadata file " + dir.resolve(rel) + " is " + f.getValue()));
@@ -106,7 +131,22 @@ public final class IndexCheck {
       filesOk = false;
     }
     if (filesOk) out.add(new FileResult("index", 0, problem(() -> IndexReader.open(dir).close())));
-    return new Report(dir, gen, out);
+    leftovers.sort(java.util.Comparator.comparing(Leftover::file));
+    return new Report(dir, gen, out, leftovers);
+  }
+
+  /** The files (not folders) of {@code folder} not in {@code used}, named {@code prefix + name}. */
+  private static List<Leftover> leftovers(Path folder, String prefix, Set<String> used, Predicate<String> removedByWriter) {
+    List<Leftover> out = new ArrayList<>();
+    try (Stream<Path> entries = Files.list(folder)) {
+      for (Path p : (Iterable<Path>) entries::iterator) {
+        String name = p.getFileName().toString();
+        if (!used.contains(name) && !Files.isDirectory(p)) out.add(new Leftover(prefix + name, size(p), removedByWriter.test(name)));
+      }
+    } catch (java.io.IOException e) {
+      throw new java.io.UncheckedIOException("cannot list " + folder, e);
+    }
+    return out;
   }
 
   private static String problem(Runnable check) {

@@ -9,12 +9,13 @@ import java.util.List;
  *
  * @param layout the code layout
  * @param generation the manifest generation the reader opened
- * @param maxId ids handed out so far ({@code 0..maxId-1})
+ * @param nextId the id the next added code gets: ids {@code 0..nextId-1} were handed out (deleted
+ *     ones included; ids are never reused), so the largest id given out is {@code nextId - 1}
  * @param liveCount codes not deleted
  * @param segments one entry per segment, in id order
  * @param bytesOnDisk every file of the folder, metadata store included
  */
-public record IndexInfo(CodeLayout layout, long generation, int maxId, int liveCount, List<SegmentInfo> segments,
+public record IndexInfo(CodeLayout layout, long generation, int nextId, int liveCount, List<SegmentInfo> segments,
     long bytesOnDisk) {
 
   public IndexInfo {

@@ -98,6 +98,11 @@ public final class IndexWriter implements AutoCloseable {
     }
   }
 
+  /** Whether a writer's open deletes {@code name}, a file of the index folder the current manifest does not name. */
+  static boolean removesLeftover(String name) {
+    return OWN_FILE.matcher(name).matches();
+  }
+
   /** Opens an existing index for writing; refused if another writer holds the lock. */
   public static IndexWriter open(Path dir) {
     return open(dir, StoreIo.REAL);
@@ -116,6 +121,7 @@ public final class IndexWriter implements AutoCloseable {
         RoaringBitmap deleted = Tombstones.read(dir, FileSource.DIRECT, m, ChecksummedFile.Check.OPEN);
         Path metaDir = dir.resolve(META_DIR);
         if (!Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
+        io.syncDir(dir); // the manifest read is durable before anything it does not name is deleted (a writer killed before its folder fsync)
         meta = MetaWriter.open(metaDir, io.lucene(metaDir), m.metaCommit());
         IndexWriter w = new IndexWriter(dir, io, lock, meta, m, deleted);
         w.cleanUp();

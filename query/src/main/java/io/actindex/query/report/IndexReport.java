@@ -64,7 +64,7 @@ public final class IndexReport {
     CodeLayout layout = info.layout();
     List<String> layers = new ArrayList<>();
     for (CodeLayout.Segment seg : layout.segments()) layers.add(seg.name() + " (" + seg.bits() + " bits)");
-    int deleted = info.maxId() - info.liveCount();
+    int deleted = info.nextId() - info.liveCount();
     HtmlPage.Table t = new HtmlPage.Table("kv", 2, null)
         .row("folder", reader.dir().toString())
         .row("layers", String.join(", ", layers))

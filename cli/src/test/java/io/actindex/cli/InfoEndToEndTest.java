@@ -1,0 +1,58 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import io.actindex.cli.format.JsonWriterTest;
+import io.actindex.core.CodeLayout;
+import io.actindex.index.store.IndexWriter;
+import java.nio.file.Path;
+import java.util.Map;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * {@code info}'s id counts: ids are given out from 0 and never reused, so the field for the id
+ * range is the next free id ({@code next_id}, exclusive: one past the largest id ever given out,
+ * deleted ones included), and the table names the range inclusively, or says none was given out.
+ */
+class InfoEndToEndTest {
+  @TempDir Path tmp;
+
+  private static JsonNode json(Path idx) throws Exception {
+    Cli.Result r = Cli.run("info", "--index", idx.toString(), "--format", "json");
+    assertThat(r.code()).as(r.describe()).isZero();
+    return JsonWriterTest.STRICT.readTree(r.out());
+  }
+
+  private static String table(Path idx) {
+    Cli.Result r = Cli.run("info", "--index", idx.toString());
+    assertThat(r.code()).as(r.describe()).isZero();
+    return r.out();
+  }
+
+  @Test
+  void theIdFieldIsTheNextFreeIdAndTheTableShowsTheLargestIdGivenOut() throws Exception {
+    Path idx = tmp.resolve("idx");
+    boolean[][] codes = new boolean[5][9];
+    for (int i = 0; i < codes.length; i++) codes[i][i] = true;
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), codes).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    assertThat(Cli.run("delete", "--index", idx.toString(), "--where", "key = row-4").code()).isZero(); // the largest id
+
+    JsonNode info = json(idx);
+    assertThat(info.has("max_id")).as("the old name read as the largest id: " + info).isFalse();
+    assertThat(info.get("next_id").asInt()).isEqualTo(5);
+    assertThat(info.get("live").asInt()).isEqualTo(4);
+    assertThat(info.get("deleted").asInt()).isEqualTo(1);
+    assertThat(table(idx)).contains("examples:  4 live, 1 deleted (ids 0..4 given out, next id 5)");
+  }
+
+  @Test
+  void anIndexWithoutCodesHasGivenOutNoId() throws Exception {
+    Path idx = tmp.resolve("empty");
+    IndexWriter.create(idx, CodeLayout.single("code", 9), Map.of()).close();
+    assertThat(json(idx).get("next_id").asInt()).isZero();
+    assertThat(table(idx)).contains("examples:  0 live, 0 deleted (no id given out yet, next id 0)");
+  }
+}
