@@ -61,6 +61,7 @@ final class InfoCommand implements Callable<Integer> {
     j.endArray()
         .member("generation", info.generation())
         .member("next_id", info.nextId())
+        .member("max_id", info.nextId()) // the earlier name of next_id, kept: JSON fields stay stable
         .member("live", info.liveCount())
         .member("deleted", info.nextId() - info.liveCount())
         .member("bytes_on_disk", info.bytesOnDisk());
