@@ -235,7 +235,7 @@ public final class IndexWriter implements AutoCloseable {
       mergeAsNeeded();
     } catch (RuntimeException | OutOfMemoryError e) { // the add stands: an error would invite adding the rows again
       warnings.add("index " + dir + ": the add is committed (ids " + first + ".." + (end - 1)
-          + "), but a merge of segments after it failed (the index holds the new segment unmerged; the next add or compact merges): "
+          + "); a merge of segments that followed failed, which leaves more segments than usual and loses nothing: "
           + e.getMessage());
     }
     return first;
