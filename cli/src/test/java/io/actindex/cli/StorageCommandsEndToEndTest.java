@@ -267,6 +267,36 @@ class StorageCommandsEndToEndTest {
     }
   }
 
+  /**
+   * Damage in a codes file too big for the open's full check (here every file counts as big) is
+   * found by the merge that follows an add's commit: the add stands, so it exits 0 with a warning
+   * naming the file, never a refusal that a script would answer by adding the rows a second time.
+   */
+  @Test
+  void aMergeThatMeetsDamageAfterAnAddWarnsAndTheAddStands() throws Exception {
+    Path codesFile = idx.resolve("seg-0.codes");
+    try (RandomAccessFile raf = new RandomAccessFile(codesFile.toFile(), "rw")) {
+      long pos = raf.length() / 2;
+      raf.seek(pos);
+      int b = raf.read();
+      raf.seek(pos);
+      raf.write(b ^ 4);
+    }
+    System.setProperty(io.actindex.index.store.ChecksummedFile.SMALL_FILE_PROPERTY, "0");
+    System.setProperty(io.actindex.index.store.MergePolicy.FACTOR_PROPERTY, "2");
+    try {
+      Cli.Result r = ok(Cli.run("add", "--index", idx.toString(), "--codes",
+          Files2.bits(tmp.resolve("c3.npy"), java.util.Arrays.copyOfRange(codes, 0, 40)).toString()));
+      assertThat(r.out()).contains("40 examples (ids 300..339)");
+      assertThat(r.err()).contains("warning: ").contains("the add is committed (ids 300..339)").contains("seg-0.codes");
+      assertThat(json(Cli.run("info", "--index", idx.toString(), "--format", "json")).get("live").asInt()).isEqualTo(340);
+    } finally {
+      System.clearProperty(io.actindex.index.store.ChecksummedFile.SMALL_FILE_PROPERTY);
+      System.clearProperty(io.actindex.index.store.MergePolicy.FACTOR_PROPERTY);
+    }
+    refused(Cli.run("check", "--index", idx.toString()), "seg-0.codes");
+  }
+
   @Test
   void readersNeverCreateAMissingMetaFolderAndAFolderManifestIsRefused() throws Exception {
     Path q = Files2.bits(tmp.resolve("q.npy"), new boolean[][] {codes[0]});

@@ -169,7 +169,8 @@ public final class IndexWriter implements AutoCloseable {
 
   /**
    * Problems that did not undo a commit (old files that could not be deleted after a new manifest
-   * was published; the next writer deletes them). Cleared by reading.
+   * was published, the next writer deletes them; a merge that failed after an add's commit).
+   * Cleared by reading.
    */
   public List<String> takeWarnings() {
     List<String> out = List.copyOf(warnings);
@@ -181,7 +182,9 @@ public final class IndexWriter implements AutoCloseable {
    * Adds {@code codes} with one metadata row each (columns "key", "label", "split", "source" and any
    * other; {@code rows} null = no metadata: keys "row-ID" are synthesized, no document is stored)
    * and commits, as one segment or, past the size cap, several. Then merges segments as the merge
-   * policy asks (each merge its own commit). Returns the first id.
+   * policy asks (each merge its own commit). Returns the first id. A merge that fails after the
+   * add's commit is a warning ({@link #takeWarnings()}), not an error, since the add stands; like
+   * every failure it closes the writer.
    */
   public int add(CodeBlock codes, List<Map<String, String>> rows) {
     return add(codes, null, rows);
@@ -234,7 +237,13 @@ public final class IndexWriter implements AutoCloseable {
       for (Map.Entry<Integer, FileRef> e : mags.entrySet()) next = next.withMagnitudes(e.getKey(), e.getValue());
       publish(batch == null ? next : next.withDocumented(first, end));
     });
-    mergeAsNeeded();
+    try {
+      mergeAsNeeded();
+    } catch (RuntimeException | OutOfMemoryError e) { // the add stands: an error would invite adding the rows again
+      warnings.add("index " + dir + ": the add is committed (ids " + first + ".." + (end - 1)
+          + "); a merge of segments that followed failed, which leaves more segments than usual and loses nothing: "
+          + e.getMessage());
+    }
     return first;
   }
 

@@ -219,6 +219,44 @@ class WriteFailureTest {
     }
   }
 
+  /**
+   * The merge that follows an add's commit fails (a full disk while it writes its segment): the add
+   * stands, so it returns its first id with a warning that says so, not an error that would invite
+   * the caller to add the rows again; the merge leaves no file, and the next writer merges.
+   */
+  @Test
+  void failedMergeAfterAnAddIsAWarningAndTheAddStands() throws IOException {
+    Path dir = tmp.resolve("idx");
+    CodeBlock codes = SyntheticCodes.uniform(90, 64, 7);
+    MergePolicy pairs = new MergePolicy(MergePolicy.DEFAULT_MAX_SEGMENT_BYTES, 2, MergePolicy.DEFAULT_FLOOR_CODES);
+    try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
+      w.add(codes.slice(0, 30), null); // seg-0
+    }
+    StoreIo full = new StoreIo.Forwarding(StoreIo.REAL) {
+      @Override
+      public FileChannel create(Path file) throws IOException {
+        if (file.getFileName().toString().equals("seg-2.codes")) throw io.actindex.core.NoSpace.exception(); // the merge's output
+        return super.create(file);
+      }
+    };
+    IndexWriter w = IndexWriter.open(dir, full).mergePolicy(pairs);
+    assertEquals(30, w.add(codes.slice(30, 60), null)); // seg-1, then the merge of seg-0 and seg-1 fails
+    List<String> warnings = w.takeWarnings();
+    assertEquals(1, warnings.size(), warnings.toString());
+    assertTrue(warnings.get(0).contains("the add is committed (ids 30..59)"), warnings.get(0));
+    assertTrue(warnings.get(0).contains("no space left on device"), warnings.get(0));
+    w.close();
+    assertEquals(List.of("manifest-3", "meta", "seg-0.codes", "seg-0.tables", "seg-1.codes", "seg-1.tables", "writer.lock"),
+        names(dir), "the failed merge left no file");
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertEquals(60, r.liveCount());
+    }
+    try (IndexWriter again = IndexWriter.open(dir).mergePolicy(pairs)) {
+      assertEquals(60, again.add(codes.slice(60, 90), null));
+      assertEquals(1, again.segmentCount());
+    }
+  }
+
   @Test
   void failedCleanUpAfterPublishingIsAWarning() throws IOException {
     Path dir = tmp.resolve("idx");
