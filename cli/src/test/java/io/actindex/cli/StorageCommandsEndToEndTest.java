@@ -172,13 +172,7 @@ class StorageCommandsEndToEndTest {
     try (Stream<Path> s = Files.list(idx)) {
       codesFile = s.filter(p -> p.getFileName().toString().endsWith(".codes")).findFirst().orElseThrow();
     }
-    try (RandomAccessFile raf = new RandomAccessFile(codesFile.toFile(), "rw")) {
-      long pos = raf.length() / 2;
-      raf.seek(pos);
-      int b = raf.read();
-      raf.seek(pos);
-      raf.write(b ^ 4);
-    }
+    flipMiddleBit(codesFile);
     Map<String, String> before = Files2.checksums(idx);
     Cli.Result r = Cli.run("check", "--index", idx.toString());
     refused(r, codesFile.getFileName().toString());
@@ -275,13 +269,7 @@ class StorageCommandsEndToEndTest {
   @Test
   void aMergeThatMeetsDamageAfterAnAddWarnsAndTheAddStands() throws Exception {
     Path codesFile = idx.resolve("seg-0.codes");
-    try (RandomAccessFile raf = new RandomAccessFile(codesFile.toFile(), "rw")) {
-      long pos = raf.length() / 2;
-      raf.seek(pos);
-      int b = raf.read();
-      raf.seek(pos);
-      raf.write(b ^ 4);
-    }
+    flipMiddleBit(codesFile);
     System.setProperty(io.actindex.index.store.ChecksummedFile.SMALL_FILE_PROPERTY, "0");
     System.setProperty(io.actindex.index.store.MergePolicy.FACTOR_PROPERTY, "2");
     try {
@@ -320,5 +308,16 @@ class StorageCommandsEndToEndTest {
     Files.createDirectory(folder);
     refused(Cli.run("nearest", "--index", other.toString(), "--codes", q.toString()), folder.getFileName().toString());
     refused(Cli.run("check", "--index", other.toString()), folder.getFileName().toString());
+  }
+
+  /** Flips one bit in the middle of {@code file}. */
+  private static void flipMiddleBit(Path file) throws java.io.IOException {
+    try (RandomAccessFile raf = new RandomAccessFile(file.toFile(), "rw")) {
+      long pos = raf.length() / 2;
+      raf.seek(pos);
+      int b = raf.read();
+      raf.seek(pos);
+      raf.write(b ^ 4);
+    }
   }
 }
