@@ -42,10 +42,8 @@ public final class CsvWriter {
   public static final String LIST_SEPARATOR = ";";
 
   /** A list as one cell: the items separated by {@value #LIST_SEPARATOR}. */
-  public static String list(Collection<?> items) {
-    StringBuilder sb = new StringBuilder();
-    for (Object item : items) sb.append(sb.isEmpty() ? "" : LIST_SEPARATOR).append(item);
-    return sb.toString();
+  public static String list(Collection<String> items) {
+    return String.join(LIST_SEPARATOR, items);
   }
 
   /** Counts as {@code NAME:COUNT} items, in the map's order (for {@link #list} or a table). */

@@ -109,7 +109,6 @@ final class Partition {
       }
     maxOfMaxRadius = mm;
     stored = new Radii(radius, maxRadius);
-
     radiusBase = new int[clusters];
     int rows = 0;
     for (int c = 0; c < clusters; c++) {
@@ -140,8 +139,7 @@ final class Partition {
   }
 
   long bytes() {
-    return 8L * (codes.length + centres.length)
-        + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length)
+    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length)
         + 2L * radius.length;
   }
 
