@@ -266,23 +266,39 @@ class StorageCommandsEndToEndTest {
    * found by the merge that follows an add's commit: the add stands, so it exits 0 with a warning
    * naming the file, never a refusal that a script would answer by adding the rows a second time.
    */
+  /**
+   * With every file counted as big (its CRC computed while it is read, not before), a flipped bit
+   * in the middle of the codes or the tables file still stops a query, info and an add before they
+   * answer or write: exit 2 naming the file as damaged, nothing changed (an add into a damaged index
+   * is refused up front, not committed and then warned about when its merge meets the damage).
+   */
   @Test
-  void aMergeThatMeetsDamageAfterAnAddWarnsAndTheAddStands() throws Exception {
-    Path codesFile = idx.resolve("seg-0.codes");
-    flipMiddleBit(codesFile);
+  void aFlippedBitInsideABigFileStopsQueriesBeforeTheyAnswer() throws Exception {
+    Path q = Files2.bits(tmp.resolve("q.npy"), new boolean[][] {codes[0]});
+    Path more = Files2.bits(tmp.resolve("more.npy"), java.util.Arrays.copyOfRange(codes, 0, 40));
     System.setProperty(io.actindex.index.store.ChecksummedFile.SMALL_FILE_PROPERTY, "0");
-    System.setProperty(io.actindex.index.store.MergePolicy.FACTOR_PROPERTY, "2");
     try {
-      Cli.Result r = ok(Cli.run("add", "--index", idx.toString(), "--codes",
-          Files2.bits(tmp.resolve("c3.npy"), java.util.Arrays.copyOfRange(codes, 0, 40)).toString()));
-      assertThat(r.out()).contains("40 examples (ids 300..339)");
-      assertThat(r.err()).contains("warning: ").contains("the add is committed (ids 300..339)").contains("seg-0.codes");
-      assertThat(json(Cli.run("info", "--index", idx.toString(), "--format", "json")).get("live").asInt()).isEqualTo(340);
+      ok(Cli.run("nearest", "--index", idx.toString(), "--codes", q.toString()));
+      for (String name : List.of("seg-0.codes", "seg-0.tables")) {
+        Path file = idx.resolve(name);
+        byte[] pristine = Files.readAllBytes(file);
+        flipMiddleBit(file);
+        Map<String, String> before = Files2.checksums(idx);
+        for (String[] args : List.of(new String[] {"nearest", "--index", idx.toString(), "--codes", q.toString()},
+            new String[] {"info", "--index", idx.toString()},
+            new String[] {"add", "--index", idx.toString(), "--codes", more.toString()})) {
+          Cli.Result r = Cli.run(args);
+          refused(r, name);
+          assertThat(r.err()).as(r.describe()).contains("checksum mismatch");
+        }
+        assertThat(Files2.checksums(idx)).isEqualTo(before);
+        refused(Cli.run("check", "--index", idx.toString()), name);
+        Files.write(file, pristine);
+      }
+      ok(Cli.run("check", "--index", idx.toString()));
     } finally {
       System.clearProperty(io.actindex.index.store.ChecksummedFile.SMALL_FILE_PROPERTY);
-      System.clearProperty(io.actindex.index.store.MergePolicy.FACTOR_PROPERTY);
     }
-    refused(Cli.run("check", "--index", idx.toString()), "seg-0.codes");
   }
 
   @Test

@@ -146,8 +146,8 @@ public final class Segment {
 
   /**
    * Reads both files of a manifest's segment. {@link ChecksummedFile.Check#OPEN} checks headers,
-   * lengths, footers and every count and range; {@link ChecksummedFile.Check#FULL} also every
-   * byte's CRC and every table key against the codes.
+   * lengths, footers, every byte's CRC and every count and range; {@link ChecksummedFile.Check#FULL}
+   * also every table key against the codes.
    */
   static Segment read(Path dir, FileSource src, Manifest m, Manifest.SegmentEntry e, ChecksummedFile.Check level) {
     CodeLayout layout = m.layout();
@@ -201,6 +201,7 @@ public final class Segment {
       try {
         searcher = Searchers.read(payload, codes, level == ChecksummedFile.Check.FULL);
         if (payload.available() != 0) throw t.error(payload.available() + " bytes follow the tables payload");
+        t.end(); // the CRC of a big file, computed as the payload was read
       } catch (PlannerCalibration.BadCosts ex) {
         throw ex; // the machine's costs file, not this one
       } catch (BadInputException ex) {
