@@ -56,6 +56,7 @@ final class DeleteCommand implements Callable<Integer> {
       case table -> out.println("deleted " + r.deleted() + (r.deleted() == 1 ? " example" : " examples") + " from " + index.dir + "; " + r.live() + " live");
     }
     out.flush();
+    if (which.where != null) index.noteIfEmpty(r.live() + r.deleted(), "--where", which.where, r.matched()); // live before the delete
     Summaries.warnings(spec.commandLine().getErr(), r.warnings());
     return ExitCodes.OK;
   }

@@ -83,7 +83,7 @@ final class DupesCommand implements Callable<Integer> {
     Dupes.Params p = new Dupes.Params(radius, where, layers.layers, crossSplit, conflictingLabels, groups, t);
     Dupes.Result joined = null;
     Dupes.AgainstResult matched = null;
-    int live;
+    int live, selected;
     try (IndexReader reader = IndexReader.open(index.dir);
         PairsFile file = pairs == null ? null : new PairsFile(pairs, against == null ? "id_a,id_b,distance" : "row,id,distance", against);
         Progress bar = Progress.onTerminal(spec.commandLine().getErr(), against == null ? "joining" : "matching")) {
@@ -95,8 +95,9 @@ final class DupesCommand implements Callable<Integer> {
       }
       if (file != null) file.commit();
       live = reader.liveCount();
+      selected = joined != null ? joined.summary().examples() : matched.summary().examples();
     }
-    index.noteIfEmpty(live);
+    index.noteIfEmpty(live, "--where", where, selected);
     PrintWriter out = spec.commandLine().getOut();
     if (joined != null) {
       switch (format.format) {

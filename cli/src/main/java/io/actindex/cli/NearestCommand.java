@@ -106,7 +106,7 @@ final class NearestCommand implements Callable<Integer> {
         for (Refine.Result r : refined)
           results.add(new Nearest.Result(r.row(), r.neighbors().stream().map(Refine.Neighbor::example).toList(), r.vote()));
       }
-      index.noteIfEmpty(reader.liveCount());
+      index.noteIfNoneFound(reader, where, results.stream().anyMatch(r -> !r.neighbors().isEmpty()));
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {

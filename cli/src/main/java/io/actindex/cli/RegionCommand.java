@@ -55,7 +55,7 @@ final class RegionCommand implements Callable<Integer> {
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "searching")) {
         results = Region.run(reader, codes, new Region.Params(radius, layers.layers, where, examples), bar);
       }
-      index.noteIfEmpty(reader.liveCount());
+      index.noteIfNoneFound(reader, where, results.stream().anyMatch(r -> r.same().count() > 0 || !r.nearby().isEmpty()));
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {

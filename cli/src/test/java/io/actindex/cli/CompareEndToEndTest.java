@@ -165,7 +165,7 @@ class CompareEndToEndTest {
     Cli.Result empty = Cli.run("compare", "--index", idx.toString(), "--a-where", "split = nowhere", "--b-where", "split = train");
     assertThat(empty.code()).as(empty.describe()).isEqualTo(2);
     assertThat(empty.err().strip().lines().count()).as(empty.describe()).isEqualTo(1);
-    assertThat(empty.err()).contains("empty");
+    assertThat(empty.err()).contains("--a-where 'split = nowhere' matches 0 of the 120 live examples; sample A needs at least 2");
     float[][] floats = new float[train.size() + 1][3];
     for (int i = 0; i < floats.length; i++) floats[i] = new float[] {i, 1, 2};
     String trainFloats = Files2.floats(tmp.resolve("tf.npy"), floats).toString();

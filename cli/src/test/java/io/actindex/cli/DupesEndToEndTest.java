@@ -164,7 +164,7 @@ class DupesEndToEndTest {
       {"--radius", "-1"},
       {"--radius", "65"},
       {"--radius", "41", "--layers", "h1"},
-      {"--radius", "2", "--where", "split = nowhere"},
+      {"--radius", "2", "--where", "no_such_column = x"},
       {"--radius", "2", "--layers", "h9"},
       {"--radius", "2", "--against", wrong.toString()},
       {"--radius", "2", "--against", tmp.resolve("missing.npy").toString()},

@@ -320,6 +320,9 @@ public final class Compare {
     RoaringBitmap ids = Where.select(reader.meta(), s.where());
     if (reader.liveCount() == 0)
       throw new BadInputException(s.brief() + ": sample " + which + " is empty: the index " + reader.dir() + " holds no live examples");
+    if (ids.getCardinality() < 2) // before the other sample is read
+      throw new BadInputException("--" + which.toLowerCase(Locale.ROOT) + "-where " + BadInputException.quote(s.where()) + " matches "
+          + ids.getCardinality() + " of the " + reader.liveCount() + " live examples; sample " + which + " needs at least 2");
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
     int w = all.wordsPerCode(), kept = 0;

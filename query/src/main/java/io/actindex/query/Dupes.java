@@ -309,8 +309,6 @@ public final class Dupes {
       if (n != i) System.arraycopy(words, i * w, words, n * w, w);
       ids[n++] = live[i];
     }
-    if (n == 0 && live.length > 0) // an index with no live example joins to nothing; a filter that selects none is a mistake
-      throw new BadInputException("--where '" + Snippet.of(p.where()) + "' selects no live example; nothing to join");
     CodeBlock codes = new CodeBlock(layout, n, Arrays.copyOf(words, n * w));
     return new Selection(Arrays.copyOf(ids, n), Layers.project(codes, target));
   }
