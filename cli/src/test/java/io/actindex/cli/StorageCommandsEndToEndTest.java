@@ -268,7 +268,7 @@ class StorageCommandsEndToEndTest {
    */
   /**
    * With every file counted as big (its CRC computed while it is read, not before), a flipped bit
-   * in the middle of the codes or the tables file still stops a query, info and an add before they
+   * in the middle of the codes, the tables or the biggest metadata file still stops a query, info and an add before they
    * answer or write: exit 2 naming the file as damaged, nothing changed (an add into a damaged index
    * is refused up front, not committed and then warned about when its merge meets the damage).
    */
@@ -279,7 +279,11 @@ class StorageCommandsEndToEndTest {
     System.setProperty(io.actindex.index.store.ChecksummedFile.SMALL_FILE_PROPERTY, "0");
     try {
       ok(Cli.run("nearest", "--index", idx.toString(), "--codes", q.toString()));
-      for (String name : List.of("seg-0.codes", "seg-0.tables")) {
+      String biggestMeta;
+      try (Stream<Path> m = Files.list(idx.resolve("meta"))) {
+        biggestMeta = "meta/" + m.max(java.util.Comparator.comparingLong(p -> p.toFile().length())).orElseThrow().getFileName();
+      }
+      for (String name : List.of("seg-0.codes", "seg-0.tables", biggestMeta)) {
         Path file = idx.resolve(name);
         byte[] pristine = Files.readAllBytes(file);
         flipMiddleBit(file);

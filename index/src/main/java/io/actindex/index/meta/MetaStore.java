@@ -186,7 +186,7 @@ public final class MetaStore implements Closeable {
       crc.update(buf.flip());
     }
     if (crc.getValue() != stored)
-      throw new org.apache.lucene.index.CorruptIndexException("checksum failed: footer says 0x" + Long.toHexString(stored)
+      throw new org.apache.lucene.index.CorruptIndexException("checksum mismatch: footer says 0x" + Long.toHexString(stored)
           + ", content has 0x" + Long.toHexString(crc.getValue()), in);
   }
 
