@@ -21,7 +21,11 @@ import picocli.CommandLine.Spec;
 
 /** {@code actindex info}: what an index holds. */
 @Command(name = "info", mixinStandardHelpOptions = true,
-    description = "Shows an index's layout, segments, counts, bits dropped as constant, search plan, build settings and size on disk.")
+    description = {"Shows an index's layout, segments, counts, bits dropped as constant, search plan, build settings, size on disk"
+        + " and memory once open.",
+        "A segment's memory is its codes and search tables, plus, at most, what its cluster partition builds on the first"
+            + " filtered or masked query (4 bytes per code, and radii per set of masked layers): counted from the partition's"
+            + " size, since info runs no query."})
 final class InfoCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -99,6 +103,7 @@ final class InfoCommand implements Callable<Integer> {
         .name("cascade").value(st.cascade())
         .member("table_bytes", st.tableBytes())
         .member("code_bytes", st.codeBytes())
+        .member("on_demand_bytes", st.onDemandBytes())
         .name("tables").beginArray();
     for (SearcherStats.Table t : st.tables())
       j.beginObject()
@@ -120,6 +125,12 @@ final class InfoCommand implements Callable<Integer> {
     for (SearcherStats.Table t : st.tables()) widths.add(Integer.toString(t.width()));
     return st.substrings() + (st.substrings() == 1 ? " table of " : " tables of ") + String.join("+", widths) + " bits"
         + (st.cascade() ? ", cascade" : "");
+  }
+
+  /** "12.0 MiB", or "12.0 MiB + up to 4.0 MiB on demand" when the searcher builds more on first use. */
+  static String memory(SearcherStats st) {
+    String held = Units.bytes(st.codeBytes() + st.tableBytes());
+    return st.onDemandBytes() == 0 ? held : held + " + up to " + Units.bytes(st.onDemandBytes()) + " on demand";
   }
 
   private static List<String> header() {
@@ -153,10 +164,11 @@ final class InfoCommand implements Callable<Integer> {
         : "costs measured when each segment was built (no calibration at " + PlannerCalibration.file() + "; see calibrate-planner)"));
     out.println();
     out.println("segments:");
-    TextTable t = new TextTable(List.of("segment", "ids", "count", "deleted", "size", "constant bits dropped", "search plan"));
+    TextTable t = new TextTable(List.of("segment", "ids", "count", "deleted", "size", "memory", "constant bits dropped", "search plan"));
     for (IndexInfo.SegmentInfo s : info.segments())
       t.row(List.of(Integer.toString(s.segmentId()), s.firstId() + ".." + (s.endId() - 1), Integer.toString(s.count()),
-          Integer.toString(s.deleted()), Units.bytes(s.bytes()), Integer.toString(s.droppedConstantBits()), plan(s.searcher())));
+          Integer.toString(s.deleted()), Units.bytes(s.bytes()), memory(s.searcher()), Integer.toString(s.droppedConstantBits()),
+          plan(s.searcher())));
     t.print(out, "  ");
     if (!props.isEmpty()) {
       out.println();

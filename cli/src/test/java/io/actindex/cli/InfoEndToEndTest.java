@@ -5,16 +5,21 @@ import static org.assertj.core.api.Assertions.assertThat;
 import com.fasterxml.jackson.databind.JsonNode;
 import io.actindex.cli.format.JsonWriterTest;
 import io.actindex.core.CodeLayout;
+import io.actindex.core.Randoms;
 import io.actindex.index.store.IndexWriter;
 import java.nio.file.Path;
+import java.util.Arrays;
+import java.util.List;
 import java.util.Map;
+import java.util.SplittableRandom;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
  * {@code info}'s id counts: ids are given out from 0 and never reused, so the field for the id
  * range is the next free id ({@code next_id}, exclusive: one past the largest id ever given out,
- * deleted ones included), and the table names the range inclusively, or says none was given out.
+ * deleted ones included), and the table names the range inclusively, or says none was given out;
+ * and the memory a segment's partition builds on first use.
  */
 class InfoEndToEndTest {
   @TempDir Path tmp;
@@ -55,5 +60,29 @@ class InfoEndToEndTest {
     IndexWriter.create(idx, CodeLayout.single("code", 9), Map.of()).close();
     assertThat(json(idx).get("next_id").asInt()).isZero();
     assertThat(table(idx)).contains("examples:  0 live, 0 deleted (no id given out yet, next id 0)");
+  }
+
+  /**
+   * A segment's memory counts, at its most, the table of places its partition builds on the first
+   * filtered query (4 bytes per code; one layer: no radii for masked layer sets), though info runs
+   * no query; a segment too small for a partition builds nothing on use.
+   */
+  @Test
+  void memoryCountsWhatThePartitionBuildsOnFirstUse() throws Exception {
+    long seed = Randoms.seed(0);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    boolean[][] codes = new boolean[5000][40]; // a partition from 4,096 codes up
+    for (boolean[] row : codes) for (int b = 0; b < row.length; b++) row[b] = rnd.nextBoolean();
+    Path big = tmp.resolve("big"), small = tmp.resolve("small");
+    for (Path idx : List.of(big, small)) {
+      boolean[][] rows = idx == big ? codes : Arrays.copyOf(codes, 50);
+      Cli.Result built = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve(idx.getFileName() + ".npy"), rows).toString());
+      assertThat(built.code()).as(built.describe()).isZero();
+    }
+    JsonNode searcher = json(big).get("segments").get(0).get("searcher");
+    assertThat(searcher.get("on_demand_bytes").asLong()).as(Randoms.describe(seed) + "\n" + searcher).isEqualTo(4L * codes.length);
+    assertThat(table(big)).contains(" + up to 19.5 KiB on demand"); // 20,000 bytes
+    assertThat(json(small).get("segments").get(0).get("searcher").get("on_demand_bytes").asLong()).isZero();
+    assertThat(table(small)).doesNotContain("on demand");
   }
 }

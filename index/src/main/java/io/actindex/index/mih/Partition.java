@@ -143,6 +143,20 @@ final class Partition {
         + 2L * radius.length;
   }
 
+  /**
+   * Bytes this partition adds on first use, at most, from its size alone (whether any of it is
+   * built yet does not change it): the places of {@link #walk}, 4 bytes per code, built by the first
+   * filtered query; and the radii of {@link #radii}, 2 bytes per code and 4 per cluster for each set
+   * of segments a masked query touches other than all of them, at most {@value #MAX_COVERS} sets at
+   * once (none for a one-segment layout; a mask of no bit at all, which the command line never
+   * sends, is not counted).
+   */
+  long onDemandBytes() {
+    int segments = segmentMasks.length;
+    long covers = segments >= 4 ? MAX_COVERS : Math.max(0, Math.min(MAX_COVERS, (1 << segments) - 2));
+    return 4L * ords.length + covers * (2L * ords.length + 4L * clusters());
+  }
+
   /** The partition of {@code block}, or null when it is too small (or its codes too wide for char radii). */
   static Partition build(CodeBlock block) {
     return build(block, MIN_CODES, MIN_CLUSTER_SIZE);
@@ -544,7 +558,8 @@ final class Partition {
 
   /**
    * Each ordinal's cluster and radius (4 bytes per code), built on first use: only filtered queries
-   * need it, and an open should not pay for it. Threads racing here build equal tables.
+   * need it, and an open should not pay for it (counted by {@link #onDemandBytes}, built or not).
+   * Threads racing here build equal tables.
    */
   private int[] places() {
     int[] p = placeOf;

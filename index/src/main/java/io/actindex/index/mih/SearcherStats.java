@@ -12,11 +12,15 @@ import java.util.List;
  * @param indexedBits bits the tables key on; fewer than {@code bits - constantBits} means the
  *     lower-bound cascade (the other bits are only checked on the full codes)
  * @param tables one entry per substring table, in probe order (empty: every query scans)
- * @param tableBytes memory of the tables (ids, offsets, keys)
+ * @param tableBytes memory of the tables (ids, offsets, keys) and of the cluster partition, as built
  * @param codeBytes memory of the codes themselves
+ * @param onDemandBytes memory the partition builds on first use and may then hold, at most: each
+ *     code's cluster and radius for filtered queries (4 bytes per code) and radii for masked
+ *     queries (per set of layers, up to 8 sets); counted from the partition's size, whether or not
+ *     a query has built them yet; 0 without a partition
  */
-public record SearcherStats(
-    int size, int bits, int constantBits, int indexedBits, List<Table> tables, long tableBytes, long codeBytes) {
+public record SearcherStats(int size, int bits, int constantBits, int indexedBits, List<Table> tables, long tableBytes,
+    long codeBytes, long onDemandBytes) {
 
   public SearcherStats {
     tables = List.copyOf(tables);

@@ -133,11 +133,14 @@ public final class Searchers {
     return new MihSearcher(codes, plan, tables, strategy, partition, cost);
   }
 
-  /** Bit plan, table occupancy and memory of a searcher from {@link #build}; a plain scan has no tables. */
+  /**
+   * Bit plan, table occupancy and memory of a searcher from {@link #build}; a plain scan has no
+   * tables. The memory its partition builds on first use is counted at its most, built or not.
+   */
   public static SearcherStats stats(CodeSearcher s) {
     if (s instanceof ScanSearcher scan)
       return new SearcherStats(scan.size(), scan.layout().bits(), 0, 0, List.of(), 0,
-          8L * scan.size() * scan.layout().words());
+          8L * scan.size() * scan.layout().words(), 0);
     MihSearcher m = mih(s);
     List<SearcherStats.Table> tables = new ArrayList<>();
     long bytes = 0;
@@ -147,7 +150,7 @@ public final class Searchers {
     }
     if (m.partition != null) bytes += m.partition.bytes();
     return new SearcherStats(m.size(), m.plan.bits(), m.plan.constantBits(), m.plan.indexedBits(), tables, bytes,
-        8L * m.codes.words().length);
+        8L * m.codes.words().length, m.partition == null ? 0 : m.partition.onDemandBytes());
   }
 
   /** Writes the tables payload of a searcher from {@link #build} (see the class comment). */
