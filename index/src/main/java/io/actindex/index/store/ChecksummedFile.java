@@ -398,11 +398,14 @@ public final class ChecksummedFile {
       }
     }
 
-    /** Fills {@code dst} from the file at {@code at}; a file that ends first (cut after it was opened) is refused. */
+    /**
+     * Fills {@code dst} from the file at {@code at}; a file that ends first (cut after it was opened)
+     * is refused, without {@link #error}'s CRC over the mapping, whose pages past the new end fault.
+     */
     private void readFully(ByteBuffer dst, long at, String field) throws IOException {
       for (long p = at; dst.hasRemaining();) {
         int r = channel.read(dst, p);
-        if (r < 0) throw error("ends inside field '" + field + "'");
+        if (r < 0) throw bad(file, "ends inside field '" + field + "'");
         p += r;
       }
     }
