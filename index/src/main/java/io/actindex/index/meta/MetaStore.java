@@ -91,17 +91,16 @@ public final class MetaStore implements Closeable {
   public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted) {
     RoaringBitmap all = new RoaringBitmap();
     all.add(0L, 1L << 31);
-    return open(metaDir, segmentsFile, deleted, all, 0, Long.MAX_VALUE);
+    return open(metaDir, segmentsFile, deleted, all, 0);
   }
 
   /**
    * Opens the commit {@code segmentsFile}; ids in {@code [0, maxId)} that are neither in
    * {@code documented} nor in {@code deleted} are bare (key "row-ID", no document). Every file's
-   * checksum is recomputed: through Lucene's input for files up to {@code fullCheckBytes}, by
-   * reading the file for larger ones ({@link #checksumByReading}).
+   * checksum is recomputed ({@link #checksumByReading}).
    */
   public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted, RoaringBitmap documented,
-      int maxId, long fullCheckBytes) {
+      int maxId) {
     if (!java.nio.file.Files.isDirectory(metaDir))
       throw noFolder(metaDir, " (readers never create it)");
     RoaringBitmap bare = new RoaringBitmap();
@@ -140,9 +139,7 @@ public final class MetaStore implements Closeable {
         }
         for (int i = 0; i < pinned.size(); i++) {
           try {
-            IndexInput in = pinned.get(i);
-            if (in.length() <= fullCheckBytes) CodecUtil.checksumEntireFile(in);
-            else checksumByReading(in, channels.get(i));
+            checksumByReading(pinned.get(i), channels.get(i));
           } catch (IOException e) {
             throw new BadInputException("metadata file " + metaDir.resolve(names.get(i)) + " is damaged: "
                 + e.getMessage(), e);

@@ -109,6 +109,7 @@ final class Partition {
       }
     maxOfMaxRadius = mm;
     stored = new Radii(radius, maxRadius);
+
     radiusBase = new int[clusters];
     int rows = 0;
     for (int c = 0; c < clusters; c++) {
@@ -139,7 +140,8 @@ final class Partition {
   }
 
   long bytes() {
-    return 8L * (codes.length + centres.length) + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length)
+    return 8L * (codes.length + centres.length)
+        + 4L * (start.length + ords.length + maxRadius.length + radiusBase.length + radiusStart.length)
         + 2L * radius.length;
   }
 
@@ -153,7 +155,7 @@ final class Partition {
    */
   long onDemandBytes() {
     int segments = segmentMasks.length;
-    long covers = segments >= 4 ? MAX_COVERS : Math.max(0, Math.min(MAX_COVERS, (1 << segments) - 2));
+    long covers = segments >= 4 ? MAX_COVERS : Math.min(MAX_COVERS, (1 << segments) - 2); // >= 4: no overflow
     return 4L * ords.length + covers * (2L * ords.length + 4L * clusters());
   }
 

@@ -158,8 +158,7 @@ public final class IndexReader implements AutoCloseable {
     for (String name : m.attachments().keySet())
       att.put(name, Attachments.read(dir, src, m, name, ChecksummedFile.Check.OPEN));
     RoaringBitmap documented = m.documentedIds();
-    MetaStore meta = MetaStore.open(dir.resolve(IndexWriter.META_DIR), m.metaCommit(), deleted, documented, m.nextId(),
-        ChecksummedFile.smallFileBytes());
+    MetaStore meta = MetaStore.open(dir.resolve(IndexWriter.META_DIR), m.metaCommit(), deleted, documented, m.nextId());
     int documentedLive = RoaringBitmap.andNot(documented, deleted).getCardinality();
     if (meta.documents() != documentedLive) {
       try {
