@@ -37,14 +37,20 @@ import java.util.stream.IntStream;
  * </ul>
  *
  * <p>The cache folder is {@code -Dactindex.bench.data} (default: {@code actindex-bench} in the
- * temporary folder). Files are raw little-endian arrays named by their parameters; a file of the
+ * temporary folder), with a sub-folder {@code seed-<hex>} for a seed other than {@link #TUNED_SEED}. Files are raw little-endian arrays named by their parameters; a file of the
  * wrong length is regenerated.
  */
 public final class BenchData {
   private BenchData() {}
 
-  /** Seed of the network and of the stored examples. */
-  public static final long SEED = 0x5EED_AC71L;
+  /** Seed the benchmarks were tuned on. */
+  public static final long TUNED_SEED = 0x5EED_AC71L;
+  /**
+   * Seed of the networks, the stored examples and the queries: {@code -Dactindex.bench.seed} (hex
+   * or decimal), else {@link #TUNED_SEED}. Another seed draws other networks and mixtures of the
+   * same shape: data the planner's thresholds and the cluster sizes were never tuned on.
+   */
+  public static final long SEED = Long.decode(System.getProperty("actindex.bench.seed", Long.toString(TUNED_SEED)));
   /** How far OOD queries move every cluster centre, in {@link SyntheticCodes.ReluNet} units. */
   public static final double OOD_SHIFT = 4.0;
   /** Queries per pool; a benchmark cycles through them. */
@@ -56,6 +62,7 @@ public final class BenchData {
   public static Path dir() {
     String p = System.getProperty("actindex.bench.data");
     Path d = p == null || p.isBlank() ? Path.of(System.getProperty("java.io.tmpdir"), "actindex-bench") : Path.of(p);
+    if (SEED != TUNED_SEED) d = d.resolve("seed-" + Long.toHexString(SEED)); // every cached file and store of another seed apart
     try {
       return Files.createDirectories(d);
     } catch (IOException e) {
