@@ -102,6 +102,17 @@ np.save(os.path.join(out, "codes_bool.npy"), bits)
 np.save(os.path.join(out, "codes_u8.npy"), bits.astype(np.uint8))
 np.save(os.path.join(out, "codes_packed.npy"), np.packbits(bits, axis=1))
 expected(bits, "codes")
+# The same codes as people often save them: (acts > 0).astype(int) (int64), as floats, and as
+# big-endian int32 in Fortran order; and 0/1 with one stray value each, which must be refused.
+np.save(os.path.join(out, "codes_i8.npy"), bits.astype(int))
+np.save(os.path.join(out, "codes_f4.npy"), bits.astype(np.float32))
+np.save(os.path.join(out, "codes_i4_F_be.npy"), np.asfortranarray(bits.astype(">i4")))
+stray = bits.astype(np.int16)
+stray[4, 7] = -1
+np.save(os.path.join(out, "codes_i2_stray.npy"), stray)
+stray = bits.astype(np.float64)
+stray[2, 20] = 0.5
+np.save(os.path.join(out, "codes_f8_stray.npy"), stray)
 
 
 # safetensors, byte by byte from the published format description.

@@ -23,7 +23,7 @@ public final class BuildSourceOptions {
   Path activations;
 
   @Option(names = "--codes", paramLabel = "FILE",
-      description = "Codes already binarized: .npy of bool or 0/1 uint8, or uint8 packed 8 bits per byte (NumPy packbits order; give --code-layout).")
+      description = "Codes already binarized: .npy of bool, or 0/1 in any integer or float dtype, or uint8 packed 8 bits per byte (NumPy packbits order; give --code-layout).")
   Path codes;
 
   @Option(names = "--code-layout", paramLabel = "LAYOUT",

@@ -22,7 +22,7 @@ public final class QuerySourceOptions {
   @Option(names = "--activations", paramLabel = "FILE", description = "Query activations (.npy, .npz or .csv).")
   Path activations;
 
-  @Option(names = "--codes", paramLabel = "FILE", description = "Query codes (.npy of bool, 0/1 uint8 or packed bits).")
+  @Option(names = "--codes", paramLabel = "FILE", description = "Query codes (.npy of bool, 0/1 in any integer or float dtype, or uint8 packed bits).")
   Path codes;
 
   @Option(names = "--inputs", paramLabel = "FILE",

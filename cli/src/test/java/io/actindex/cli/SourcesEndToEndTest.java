@@ -77,6 +77,33 @@ class SourcesEndToEndTest {
   }
 
   /** The README's two commands: activations + metadata CSV, then a neighbour table. */
+  /**
+   * Codes saved as 0/1 floats (a float tensor of codes, or {@code (acts > 0).astype(np.float32)})
+   * build an index and query it like bool codes; activations passed as codes are refused by row and
+   * column, exit 2, nothing written.
+   */
+  @Test
+  void codesAsZeroOneFloatsBuildAndQueryLikeBools() throws Exception {
+    long seed = Randoms.seed(501);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    float[][] acts = activations(120, 70, rnd), q = activations(5, 70, rnd);
+    boolean[][] codes = binarize(acts, 0), qcodes = binarize(q, 0);
+    float[][] asFloats = new float[codes.length][70];
+    for (int i = 0; i < codes.length; i++) for (int j = 0; j < 70; j++) asFloats[i][j] = codes[i][j] ? 1f : 0f;
+    Path idx = tmp.resolve("idx");
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", Files2.floats(tmp.resolve("codes.npy"), asFloats).toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    JsonNode doc = NearestEndToEndTest.json("nearest", "--index", idx.toString(), "--codes",
+        Files2.bits(tmp.resolve("q.npy"), qcodes).toString(), "-k", "6", "--format", "json");
+    checkHits(doc, plain(codes), qcodes, 6, Reference.layers("codes:70"), Randoms.describe(seed));
+
+    Path other = tmp.resolve("other");
+    Cli.Result refused = Cli.run("build", "--out", other.toString(), "--codes", Files2.floats(tmp.resolve("acts.npy"), acts).toString());
+    assertThat(refused.code()).as(refused.describe()).isEqualTo(2);
+    assertThat(refused.err()).contains("acts.npy").contains("is not 0 or 1").doesNotContain("internal error");
+    assertThat(Files2.checksums(other)).isEmpty();
+  }
+
   @Test
   void readmeTwoCommandsGiveANeighbourTable() {
     long seed = Randoms.seed(550);

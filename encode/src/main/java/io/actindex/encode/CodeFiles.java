@@ -16,8 +16,9 @@ import java.nio.file.Path;
  * Pre-binarized codes as {@code .npy} files, both directions. Two forms:
  *
  * <ul>
- *   <li>unpacked: shape {@code (n, bits)}, dtype bool or uint8 holding 0/1; bit {@code b} of a code
- *       is column {@code b};
+ *   <li>unpacked: shape {@code (n, bits)}, dtype bool, or 0/1 in any integer or float dtype (as
+ *       {@code (acts > 0).astype(int)} or a float tensor of codes saves them; any other value is
+ *       refused); bit {@code b} of a code is column {@code b};
  *   <li>packed: shape {@code (n, ceil(bits/8))}, dtype uint8, NumPy {@code packbits} order (the
  *       default {@code bitorder='big'}): bit {@code b} of a code is bit {@code 7 - (b % 8)} (most
  *       significant first) of byte {@code b / 8}; padding bits of the last byte are zero.
@@ -34,8 +35,6 @@ public final class CodeFiles {
     NpyReader r = NpyReader.open(file);
     try {
       NpyDtype t = r.header().dtype();
-      if (t != NpyDtype.BOOL && t != NpyDtype.UINT8)
-        throw new BadInputException(file + ": field 'descr': codes must be bool or uint8, not " + t.descr(r.header().order()));
       boolean packed = false;
       if (layout == null) {
         layout = CodeLayout.single("code", r.cols());
@@ -60,6 +59,7 @@ public final class CodeFiles {
     private final boolean packed;
     private final NeuronStats stats;
     private byte[] buf = new byte[0];
+    private double[] values = new double[0]; // dtypes other than bool and uint8, read as numbers
 
     Stream(NpyReader r, CodeLayout layout, boolean packed) {
       this.r = r;
@@ -82,15 +82,22 @@ public final class CodeFiles {
     public CodeBlock next(int maxRows) throws IOException {
       int cols = r.cols(), words = layout.words();
       int m = Math.min(maxRows, Math.max(1, (1 << 20) / cols));
-      if (buf.length < m * cols) buf = new byte[m * cols];
+      NpyDtype t = r.header().dtype();
+      boolean bytes = t == NpyDtype.BOOL || t == NpyDtype.UINT8;
       long first = r.position();
-      m = r.readBytes(buf, m);
+      if (bytes) {
+        if (buf.length < m * cols) buf = new byte[m * cols];
+        m = r.readBytes(buf, m);
+      } else {
+        if (values.length < m * cols) values = new double[m * cols];
+        m = r.read(values, m);
+      }
       if (m == 0) return null;
       long[] out = new long[m * words];
-      boolean bool = r.header().dtype() == NpyDtype.BOOL;
       for (int i = 0; i < m; i++) {
         if (packed) packRow(buf, i * cols, cols, out, i * words, first + i);
-        else unpackedRow(buf, i * cols, cols, bool, out, i * words, first + i);
+        else if (bytes) unpackedRow(buf, i * cols, cols, t == NpyDtype.BOOL, out, i * words, first + i);
+        else numberRow(values, i * cols, cols, out, i * words, first + i);
       }
       CodeBlock b = new CodeBlock(layout, m, out);
       stats.add(b);
@@ -115,6 +122,19 @@ public final class CodeFiles {
         if (bool) v = v != 0 ? 1 : 0;
         else if (v > 1) throw notBinary(b, off, c, row);
         out[at + (c >>> 6)] |= (long) v << (c & 63);
+      }
+    }
+
+    /** One row of 0/1 numbers (any other value is refused) to code bits. */
+    private void numberRow(double[] v, int off, int cols, long[] out, int at, long row) {
+      for (int c = 0; c < cols; c++) {
+        double x = v[off + c];
+        if (x != 0 && x != 1) {
+          String value = x == Math.rint(x) && Math.abs(x) < 1e15 ? Long.toString((long) x) : Double.toString(x);
+          throw new BadInputException(r.source() + ": row " + row + ", column " + c + ": value " + value + " is not 0 or 1 (a codes file holds"
+              + " bool or 0/1 values; activations are another input)");
+        }
+        if (x == 1) out[at + (c >>> 6)] |= 1L << (c & 63);
       }
     }
 

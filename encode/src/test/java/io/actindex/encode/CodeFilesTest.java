@@ -16,8 +16,9 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * Pre-binarized codes against NumPy: bool, 0/1 uint8 and np.packbits (bitorder 'big', most
- * significant bit first) files written by NumPy (tools/golden/make_npy.py).
+ * Pre-binarized codes against NumPy: bool, 0/1 uint8, 0/1 in wider integer and float dtypes and
+ * np.packbits (bitorder 'big', most significant bit first) files written by NumPy
+ * (tools/golden/make_npy.py).
  */
 class CodeFilesTest {
   @TempDir Path tmp;
@@ -40,6 +41,23 @@ class CodeFilesTest {
     assertThat(u8.layout()).isEqualTo(layout);
     assertThat(u8.words()).containsExactly(bools.words());
     assertThat(packed.words()).containsExactly(bools.words());
+  }
+
+  @Test
+  void zeroOneInAnyNumericDtypeFromNumpyGivesTheSameBits() throws IOException {
+    // NumPy's own files of the same codes: (bits).astype(int), float32, and big-endian int32 in
+    // Fortran order (tools/golden/make_npy.py)
+    CodeBlock bools = read(Golden.path("codes_bool.npy"), null);
+    CodeLayout layout = CodeLayout.parse("a:10,b:11");
+    for (String f : new String[] {"codes_i8.npy", "codes_f4.npy", "codes_i4_F_be.npy"}) {
+      assertThat(read(Golden.path(f), null).words()).as(f).containsExactly(bools.words());
+      assertThat(read(Golden.path(f), layout).layout()).as(f).isEqualTo(layout);
+    }
+    // one value other than 0 and 1 is refused by row and column (NumPy put -1 at [4, 7] and 0.5 at [2, 20])
+    assertThatThrownBy(() -> read(Golden.path("codes_i2_stray.npy"), null)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("codes_i2_stray.npy").hasMessageContaining("row 4, column 7: value -1 is not 0 or 1");
+    assertThatThrownBy(() -> read(Golden.path("codes_f8_stray.npy"), layout)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("codes_f8_stray.npy").hasMessageContaining("row 2, column 20: value 0.5 is not 0 or 1");
   }
 
   @Test
@@ -83,7 +101,9 @@ class CodeFilesTest {
     // shape does not match the index layout
     assertThatThrownBy(() -> read(Golden.path("codes_bool.npy"), CodeLayout.single("c", 30))).isInstanceOf(BadInputException.class)
         .hasMessageContaining("codes_bool.npy").hasMessageContaining("shape").hasMessageContaining("c:30");
-    assertThatThrownBy(() -> read(Golden.path("f4_C_le.npy"), null)).isInstanceOf(BadInputException.class).hasMessageContaining("descr");
+    // activations given as codes: refused at their first value other than 0 and 1
+    assertThatThrownBy(() -> read(Golden.path("f4_C_le.npy"), null)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("f4_C_le.npy").hasMessageContaining("row 0, column 0: value -13.125 is not 0 or 1");
   }
 
   @Test
