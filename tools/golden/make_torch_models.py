@@ -14,6 +14,8 @@ For each model the script saves, in OUT:
   MODEL.txt                  what the Java test should do: the layer order to pass (or "refuse"
                              when names and shapes leave several orders), the hidden layers and
                              whether the file has an output layer
+It also writes refuse_*.safetensors / refuse_*.pt: a BatchNorm1d model (with and without its
+affine scale) and torch.save checkpoints (zip and legacy pickle), which the Java side must refuse.
 Rows whose pre-activation |z| < MARGIN anywhere are dropped, so that float32 (PyTorch) and
 float64 (actindex) arithmetic cannot disagree on the sign of a unit.
 
@@ -123,6 +125,26 @@ save("fc_out", Named(["fc1", "fc2", "out"], [(12, 20), (20, 20), (20, 4)]), 12, 
 save("fc_square", Named(["fc1", "fc2", "fc3", "out"], [(12, 20), (20, 20), (20, 20), (20, 4)]), 12, 64, "refuse:fc1,fc2,fc3,out")
 # encoder/decoder/head, non-square
 save("enc_dec_head", Named(["encoder", "decoder", "head"], [(12, 24), (24, 8), (8, 3)]), 12, 64, "shapes")
+
+# Files actindex must refuse rather than run as another network: normalization layers (a
+# BatchNorm1d's scale and running statistics; with affine=False only the statistics, so every
+# ".weight" is still a Linear's) and PyTorch's own checkpoints (torch.save: zip, and the legacy pickle).
+def refused_files():
+    bn = nn.Sequential(nn.Linear(6, 8), nn.BatchNorm1d(8), nn.ReLU(), nn.Linear(8, 2))
+    bn.train()
+    bn(torch.randn(32, 6))  # moves the running statistics away from their initial values
+    bn.eval()
+    save_file(bn.state_dict(), os.path.join(out, "refuse_batchnorm.safetensors"))
+    stats = nn.Sequential(nn.Linear(6, 8), nn.BatchNorm1d(8, affine=False), nn.ReLU(), nn.Linear(8, 2))
+    stats.train()
+    stats(torch.randn(32, 6))
+    save_file(stats.state_dict(), os.path.join(out, "refuse_batchnorm_stats.safetensors"))
+    plain = sequential([(6, 8), (8, 2)])
+    torch.save(plain.state_dict(), os.path.join(out, "refuse_checkpoint_zip.pt"))
+    torch.save(plain.state_dict(), os.path.join(out, "refuse_checkpoint_pickle.pt"), _use_new_zipfile_serialization=False)
+
+
+refused_files()
 
 own = os.path.join(out, "own_writer.safetensors")
 if os.path.exists(own):

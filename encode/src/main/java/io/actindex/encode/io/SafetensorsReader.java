@@ -113,8 +113,14 @@ public final class SafetensorsReader implements AutoCloseable {
       ByteBuffer lb = ByteBuffer.allocate(8).order(ByteOrder.LITTLE_ENDIAN);
       readFully(ch, lb, 0, file);
       long n = lb.getLong(0);
-      if (n < 0 || n > size - 8)
+      if (n < 0 || n > size - 8) {
+        // torch.save writes a zip archive (since PyTorch 1.6) or, older, a pickle (protocol 2+ starts with 0x80)
+        boolean zip = lb.get(0) == 'P' && lb.get(1) == 'K' && lb.get(2) == 3 && lb.get(3) == 4, pickle = (lb.get(0) & 0xff) == 0x80;
+        if (zip || pickle)
+          throw new BadInputException(file + ": a PyTorch checkpoint (torch.save, " + (zip ? "zip" : "pickle") + "), not safetensors; save the"
+              + " weights with safetensors.torch.save_file(model.state_dict(), 'model.safetensors')");
         throw new BadInputException(file + ": field header length: " + Long.toUnsignedString(n) + " bytes points outside the file (" + size + " bytes)");
+      }
       if (n > MAX_HEADER) throw new BadInputException(file + ": field header length: " + n + " bytes is implausible (over 100 MiB)");
       ByteBuffer hb = ByteBuffer.allocate((int) n);
       readFully(ch, hb, 8, file);

@@ -72,23 +72,40 @@ public final class Mlp {
     }
   }
 
-  /** The linear layers a file declares ({@code NAME.weight} of shape {@code [out, in]}), in file order. */
+  /** What a file holding anything else is told. */
+  private static final String PLAIN = "actindex runs a plain stack of linear layers with ReLU between them and would compute other codes"
+      + " than your model: fold such layers into the linear ones (as for inference), or give the activations (--activations)";
+
+  /**
+   * The linear layers a file declares ({@code NAME.weight} of shape {@code [out, in]}), in file
+   * order. Any other tensor (a normalization layer's scale or running statistics, an embedding, a
+   * buffer) is refused: ignoring it would run another network than the file's, with no error.
+   */
   public static List<LayerOrder.Shape> shapes(SafetensorsReader r) {
     List<LayerOrder.Shape> shapes = new ArrayList<>();
     for (var e : r.entries().values()) {
       if (!e.name().endsWith(".weight")) continue;
       String name = e.name().substring(0, e.name().length() - 7);
       if (e.shape().length != 2)
-        throw new BadInputException(r.file() + ": tensor " + BadInputException.quote(e.name()) + ": field shape " + e.shapeString() + " is not [out, in]");
+        throw new BadInputException(r.file() + ": tensor " + BadInputException.quote(e.name()) + ": field shape " + e.shapeString() + " is not [out, in]"
+            + (e.shape().length == 1 ? " (a normalization layer's scale?); " + PLAIN : ""));
       if (e.shape()[0] == 0 || e.shape()[1] == 0 || e.shape()[0] > Integer.MAX_VALUE || e.shape()[1] > Integer.MAX_VALUE)
         throw new BadInputException(r.file() + ": tensor " + BadInputException.quote(e.name()) + ": field shape " + e.shapeString() + " is empty or too large");
       shapes.add(new LayerOrder.Shape(name, e.shape()[0], e.shape()[1]));
     }
     if (shapes.isEmpty()) throw new BadInputException(r.file() + ": no tensor named NAME.weight; an MLP needs PyTorch-style names");
-    for (String name : r.entries().keySet())
+    List<String> other = new ArrayList<>();
+    for (String name : r.entries().keySet()) {
       if (name.endsWith(".bias") && !r.entries().containsKey(name.substring(0, name.length() - 5) + ".weight"))
         throw new BadInputException(r.file() + ": tensor " + BadInputException.quote(name) + " has no "
             + BadInputException.quote(name.substring(0, name.length() - 5) + ".weight") + " (a layer without its weight: is the file complete?)");
+      if (!name.endsWith(".weight") && !name.endsWith(".bias")) other.add(BadInputException.quote(name));
+    }
+    if (!other.isEmpty())
+      throw new BadInputException(r.file() + ": " + (other.size() == 1 ? "tensor " : other.size() + " tensors ")
+          + String.join(", ", other.subList(0, Math.min(5, other.size()))) + (other.size() > 5 ? ", ..." : "")
+          + (other.size() == 1 ? " is" : " are") + " not the weight or bias of a linear layer" + (other.stream().anyMatch(n -> n.contains("running_"))
+              ? " (a normalization layer's running statistics?)" : "") + "; " + PLAIN);
     return shapes;
   }
 

@@ -101,4 +101,23 @@ class TorchGoldenTest {
       assertThat(a.words()).isNotEqualTo(b.words());
     }
   }
+
+  /**
+   * Files PyTorch writes that are not a plain stack of linear layers are refused, never run as
+   * one: a BatchNorm1d model (its scale is a one-dimensional ".weight"), the same with {@code
+   * affine=False} (only running statistics beside the linear layers: ignoring them would run
+   * another network with no error), and torch.save checkpoints, zip and legacy pickle (written by
+   * PyTorch 2.13.0, tools/golden/make_torch_models.py).
+   */
+  @ParameterizedTest
+  @ValueSource(strings = {"refuse_batchnorm.safetensors:normalization layer's scale", "refuse_batchnorm_stats.safetensors:running statistics",
+    "refuse_checkpoint_zip.pt:PyTorch checkpoint", "refuse_checkpoint_pickle.pt:PyTorch checkpoint"})
+  void normalizationLayersAndTorchCheckpointsAreRefused(String fileAndWhy) {
+    String name = fileAndWhy.substring(0, fileAndWhy.indexOf(':')), why = fileAndWhy.substring(fileAndWhy.indexOf(':') + 1);
+    var file = Golden.path("torch/" + name);
+    var inputs = Golden.path("torch/fc_out_inputs.npy");
+    assertThatThrownBy(() -> Encoders.model(file, inputs, EncodeOptions.positive()).close()).isInstanceOf(BadInputException.class)
+        .hasMessageContaining(name).hasMessageContaining(why).hasMessageNotContaining("\n")
+        .hasMessageContaining(name.endsWith(".pt") ? "safetensors.torch.save_file" : "--activations");
+  }
 }
