@@ -37,8 +37,9 @@ import java.util.stream.IntStream;
  * </ul>
  *
  * <p>The cache folder is {@code -Dactindex.bench.data} (default: {@code actindex-bench} in the
- * temporary folder), with a sub-folder {@code seed-<hex>} for a seed other than {@link #TUNED_SEED}. Files are raw little-endian arrays named by their parameters; a file of the
- * wrong length is regenerated.
+ * temporary folder), with a sub-folder {@code seed-<hex>} for a seed other than {@link
+ * #TUNED_SEED}. Files are raw little-endian arrays named by their parameters; a file of the wrong
+ * length is regenerated.
  */
 public final class BenchData {
   private BenchData() {}

@@ -30,8 +30,9 @@ import org.apache.spark.storage.StorageLevel;
 /**
  * Where the codes come from, checked on the driver before any work is scheduled: {@code .npy}
  * shards (one file, or every {@code *.npy} of a folder in name order; bool, 0/1 in any integer or
- * float dtype, or packbits uint8; key = the row's number counted across the shards from 0) or a Parquet dataset (a key
- * column, a binary code column in packbits order, optional label and split columns). Every example
+ * float dtype, or packbits uint8; key = the row's number counted across the shards from 0) or a
+ * Parquet dataset (a key column, a binary code column in packbits order, optional label and split
+ * columns). Every example
  * gets an internal id: its row number for shards, a unique long for Parquet.
  */
 abstract sealed class CodeInput {
