@@ -441,14 +441,15 @@ final class Partition {
   }
 
   /**
-   * {@link #begin} for a top that already holds k codes (the masked scan's head; {@code accept}
-   * must refuse the codes the top was filled from): the nearest clusters are scanned under its
-   * bound and {@code cap} until {@code least} codes have been read, so they offer only codes that
-   * would enter (a fresh top of k = 100 filled from a cluster of about a thousand codes took as long
-   * as the rest of the set-up), and the first k-th distance is that of the head and those clusters.
+   * After {@link #begin} with no clusters scanned, for a top that already holds k codes (the masked
+   * scan's head; {@code accept} must refuse the codes the top was filled from): the nearest clusters
+   * are scanned under its bound and {@code cap} until {@code least} codes have been read, so they
+   * offer only codes that would enter (a fresh top of k = 100 filled from a cluster of about a
+   * thousand codes took as long as the rest of the set-up), and the first k-th distance is that of
+   * the head and those clusters. Returns the number of clusters scanned.
    */
-  int beginAfter(ScanKernel.Words sel, long[] mask, int bits, Visit v, IntPredicate accept, TopK top, int cap, long least) {
-    int done = begin(sel, mask, bits, v, accept, top, 0, cap), clusters = clusters();
+  int scanNearest(Visit v, IntPredicate accept, TopK top, int cap, long least) {
+    int done = 0, clusters = clusters();
     for (long read = 0; done < clusters && read < least; done++) {
       int c = v.order[done];
       ScanKernel.knn(v.sel, codes, words, start[c], start[c + 1], ords, accept, top, cap);

@@ -221,4 +221,31 @@ class MaskedSearchTest {
       assertTrue(byPartition >= queries.size() / 2, Randoms.describe(seed) + " layer " + layer + ": partition answered " + byPartition + " of 20");
     }
   }
+
+  /**
+   * Dense codes out of distribution at k = 100 under one layer: the planner leaves the partition
+   * untried for some queries after the masked scan's head (its estimate under the head's guess of
+   * the k-th distance is hopeless) and answers them by the scan, exactly; at k = 10 the head is too
+   * small a sample for the guess and the partition is always tried.
+   */
+  @Test
+  void aHopelessPartitionIsLeftUntriedAndTheAnswerStaysExact() {
+    long seed = 23;
+    SyntheticCodes.ReluNet net = SyntheticCodes.ReluNet.dense(32, 32, 32, 20, seed);
+    CodeBlock codes = net.sample(20_000, 0, seed + 1).codes();
+    CodeBlock ood = net.sample(40, 4.0, seed + 2).codes();
+    MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults(), PlannerCosts.defaults());
+    for (int layer = 0; layer < 2; layer++) {
+      long[] mask = codes.layout().mask(layer);
+      int untried = 0;
+      for (int i = 0; i < ood.size(); i++) {
+        long[] q = ood.code(i);
+        assertEquals(BruteForce.knn(codes, q, 100, null, mask), s.knn(q, 100, null, mask), Randoms.describe(seed) + " layer " + layer + " query " + i);
+        if (s.lastLeftPartitionUntried()) untried++;
+        assertEquals(BruteForce.knn(codes, q, 10, null, mask), s.knn(q, 10, null, mask), Randoms.describe(seed) + " layer " + layer + " query " + i);
+        assertTrue(!s.lastLeftPartitionUntried(), "k = 10 left the partition untried");
+      }
+      assertTrue(untried > 0, Randoms.describe(seed) + " layer " + layer + ": the partition was tried for every query");
+    }
+  }
 }
