@@ -54,9 +54,10 @@ final class MihSearcher implements CodeSearcher {
    * After the masked scan's head, the partition is not tried when its estimate under a guess of the
    * final k-th distance exceeds this multiple of what it must fit under ({@link #partitionHopeless}).
    * Logged over 100k codes (dense and skewed, 64-512 bits, either layer, in and out of
-   * distribution, k = 100: about 9,800 masked queries on each of two seeds, one of them never used
-   * for tuning), 2 skipped 22-26% of the tries the scan then answered anyway and none (one of 6,707
-   * on the held-out seed) of those the partition won; 1.5 skipped more and lost 24-29.
+   * distribution, k = 1, 10 and 100: about 9,800 masked queries on each of two seeds, one of them
+   * never used for tuning), 2 skipped about 26% of the tries the scan then answered anyway and none
+   * (one of 6,707 on the held-out seed) of those the partition won; 1.5 skipped more and lost 24-29
+   * (docs/benchmarks.md, "Stop 25").
    */
   private static final double HOPELESS = 2;
 
