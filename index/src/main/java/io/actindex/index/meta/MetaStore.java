@@ -5,15 +5,21 @@ import java.io.Closeable;
 import java.io.FileNotFoundException;
 import java.io.IOException;
 import java.io.UncheckedIOException;
+import java.nio.ByteBuffer;
+import java.nio.channels.FileChannel;
+import java.nio.file.Files;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
+import java.nio.file.StandardOpenOption;
 import java.util.ArrayList;
 import java.util.Collections;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.TreeMap;
+import java.util.zip.CRC32;
 import org.apache.lucene.codecs.CodecUtil;
+import org.apache.lucene.index.CorruptIndexException;
 import org.apache.lucene.index.DirectoryReader;
 import org.apache.lucene.index.IndexCommit;
 import org.apache.lucene.index.IndexableField;
@@ -101,7 +107,7 @@ public final class MetaStore implements Closeable {
    */
   public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted, RoaringBitmap documented,
       int maxId) {
-    if (!java.nio.file.Files.isDirectory(metaDir))
+    if (!Files.isDirectory(metaDir))
       throw noFolder(metaDir, " (readers never create it)");
     RoaringBitmap bare = new RoaringBitmap();
     if (maxId > 0) bare.add(0L, maxId);
@@ -116,15 +122,15 @@ public final class MetaStore implements Closeable {
       // verify the checksums through the inputs opened first
       List<String> names = new ArrayList<>(commit.getFileNames());
       List<IndexInput> pinned = new ArrayList<>();
-      List<java.nio.channels.FileChannel> channels = new ArrayList<>(); // the same files, for fast reads
+      List<FileChannel> channels = new ArrayList<>(); // the same files, for fast reads
       DirectoryReader reader = null;
       try {
         for (String name : names) {
-          if (java.nio.file.Files.isDirectory(metaDir.resolve(name)))
+          if (Files.isDirectory(metaDir.resolve(name)))
             throw folderForFile(metaDir.resolve(name), null);
           try {
             pinned.add(dir.openInput(name, IOContext.READONCE));
-            channels.add(java.nio.channels.FileChannel.open(metaDir.resolve(name), java.nio.file.StandardOpenOption.READ));
+            channels.add(FileChannel.open(metaDir.resolve(name), StandardOpenOption.READ));
           } catch (NoSuchFileException | FileNotFoundException e) {
             throw new BadInputException("metadata file " + metaDir.resolve(name) + " is missing", e);
           } catch (IOException e) {
@@ -137,9 +143,12 @@ public final class MetaStore implements Closeable {
         } catch (IOException e) {
           openError = e; // the checksums below name the damaged file, if one is
         }
+        long largest = 0;
+        for (IndexInput in : pinned) largest = Math.max(largest, in.length());
+        ByteBuffer chunk = ByteBuffer.allocateDirect(Math.clamp(largest, 1, 1 << 20)); // one for every file
         for (int i = 0; i < pinned.size(); i++) {
           try {
-            checksumByReading(pinned.get(i), channels.get(i));
+            checksumByReading(pinned.get(i), channels.get(i), chunk);
           } catch (IOException e) {
             throw new BadInputException("metadata file " + metaDir.resolve(names.get(i)) + " is damaged: "
                 + e.getMessage(), e);
@@ -166,24 +175,23 @@ public final class MetaStore implements Closeable {
 
   /**
    * Verifies a Lucene file's checksum as {@link CodecUtil#checksumEntireFile} does (the footer's
-   * CRC32 of every byte before it), reading the file through {@code ch} in 1 MiB chunks: reading
-   * a 37 MB metadata store through Lucene's mapped inputs took about 25 ms, through the channel a
-   * few ms (page faults of the mapping, not the CRC, were the cost).
+   * CRC32 of every byte before it), reading the file through {@code ch} in chunks of {@code buf}'s
+   * capacity: reading a 37 MB metadata store through Lucene's mapped inputs took about 25 ms,
+   * through the channel a few ms (page faults of the mapping, not the CRC, were the cost).
    */
-  private static void checksumByReading(IndexInput in, java.nio.channels.FileChannel ch) throws IOException {
+  private static void checksumByReading(IndexInput in, FileChannel ch, ByteBuffer buf) throws IOException {
     long stored = CodecUtil.retrieveChecksum(in); // checks the footer's structure and length too
     long end = in.length() - Long.BYTES;
-    java.util.zip.CRC32 crc = new java.util.zip.CRC32();
-    java.nio.ByteBuffer buf = java.nio.ByteBuffer.allocateDirect(1 << 20);
+    CRC32 crc = new CRC32();
     for (long at = 0; at < end;) {
       buf.clear().limit((int) Math.min(buf.capacity(), end - at));
       int r = ch.read(buf, at);
-      if (r < 0) throw new org.apache.lucene.index.CorruptIndexException("file ends before its footer", in);
+      if (r < 0) throw new CorruptIndexException("file ends before its footer", in);
       at += r;
       crc.update(buf.flip());
     }
     if (crc.getValue() != stored)
-      throw new org.apache.lucene.index.CorruptIndexException("checksum mismatch: footer says 0x" + Long.toHexString(stored)
+      throw new CorruptIndexException("checksum mismatch: footer says 0x" + Long.toHexString(stored)
           + ", content has 0x" + Long.toHexString(crc.getValue()), in);
   }
 
@@ -202,7 +210,7 @@ public final class MetaStore implements Closeable {
    * file is found damaged. A missing folder throws BadInputException.
    */
   public static Map<String, String> checkFiles(Path metaDir, String segmentsFile) {
-    if (!java.nio.file.Files.isDirectory(metaDir))
+    if (!Files.isDirectory(metaDir))
       throw noFolder(metaDir, "");
     try (Directory dir = FSDirectory.open(metaDir)) {
       java.util.Collection<String> names;
@@ -219,7 +227,7 @@ public final class MetaStore implements Closeable {
       }
       Map<String, String> out = new LinkedHashMap<>();
       for (String name : new java.util.TreeSet<>(names)) {
-        if (java.nio.file.Files.isDirectory(metaDir.resolve(name))) {
+        if (Files.isDirectory(metaDir.resolve(name))) {
           out.put(name, "a folder, not a file");
           continue;
         }
@@ -233,8 +241,8 @@ public final class MetaStore implements Closeable {
         }
       }
       if (commitProblem != null && out.values().stream().allMatch(java.util.Objects::isNull))
-        out.put(segmentsFile, !java.nio.file.Files.exists(metaDir.resolve(segmentsFile)) ? "missing"
-            : java.nio.file.Files.isDirectory(metaDir.resolve(segmentsFile)) ? "a folder, not a file" : "unreadable: " + commitProblem);
+        out.put(segmentsFile, !Files.exists(metaDir.resolve(segmentsFile)) ? "missing"
+            : Files.isDirectory(metaDir.resolve(segmentsFile)) ? "a folder, not a file" : "unreadable: " + commitProblem);
       return out;
     } catch (IOException e) {
       throw new UncheckedIOException("cannot read metadata store " + metaDir, e);
@@ -242,14 +250,14 @@ public final class MetaStore implements Closeable {
   }
 
   static IndexCommit findCommit(Path metaDir, Directory dir, String segmentsFile) {
-    if (!java.nio.file.Files.exists(metaDir.resolve(segmentsFile))) throw missingCommit(metaDir, segmentsFile);
-    if (java.nio.file.Files.isDirectory(metaDir.resolve(segmentsFile)))
+    if (!Files.exists(metaDir.resolve(segmentsFile))) throw missingCommit(metaDir, segmentsFile);
+    if (Files.isDirectory(metaDir.resolve(segmentsFile)))
       throw folderForFile(metaDir.resolve(segmentsFile), null);
     try {
       return new NamedCommit(dir, segmentsFile); // that commit only: no other segments file is read
     } catch (IOException | RuntimeException e) {
-      try (java.util.stream.Stream<Path> entries = java.nio.file.Files.list(metaDir)) { // Lucene's words for a folder are about mmap limits
-        Path folder = entries.filter(java.nio.file.Files::isDirectory).findFirst().orElse(null);
+      try (java.util.stream.Stream<Path> entries = Files.list(metaDir)) { // Lucene's words for a folder are about mmap limits
+        Path folder = entries.filter(Files::isDirectory).findFirst().orElse(null);
         if (folder != null) throw folderForFile(folder, e);
       } catch (IOException listing) {
         e.addSuppressed(listing);
@@ -261,7 +269,7 @@ public final class MetaStore implements Closeable {
 
   /** The metadata folder is missing ({@code why} appended) or is not a folder. */
   private static BadInputException noFolder(Path metaDir, String why) {
-    return new BadInputException("metadata folder " + metaDir + (java.nio.file.Files.exists(metaDir) ? " is not a folder" : " is missing" + why));
+    return new BadInputException("metadata folder " + metaDir + (Files.exists(metaDir) ? " is not a folder" : " is missing" + why));
   }
 
   /** A folder where the store keeps a file ({@code cause} nullable: Lucene's own words, which were about mmap limits). */
