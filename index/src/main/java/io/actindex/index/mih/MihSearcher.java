@@ -231,7 +231,9 @@ final class MihSearcher implements CodeSearcher {
             s.path = PATH_SCAN;
             return head.top.toHits();
           }
-          scanCost = cost.scan(n - head.end, sel.at().length);
+          // the scan stops by the largest ordinal among the partition's k codes at distance 0
+          long last = top.size() == kk ? Math.min(n, (int) top.worst() + 1L) : n;
+          scanCost = cost.scan((int) Math.max(0, last - head.end), sel.at().length);
         }
         double limit = (mask == null ? PROVEN : MASKED_PROVEN) * scanCost;
         double restCost = from == partition.clusters() ? 0

@@ -5,10 +5,12 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import io.actindex.core.BruteForce;
 import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import io.actindex.core.Hits;
 import io.actindex.core.LayerMasks;
 import io.actindex.core.Randoms;
 import io.actindex.core.SyntheticCodes;
+import java.util.List;
 import java.util.SplittableRandom;
 import java.util.function.IntPredicate;
 import org.junit.jupiter.api.Tag;
@@ -246,6 +248,38 @@ class MaskedSearchTest {
         assertTrue(!s.lastLeftPartitionUntried(), "k = 10 left the partition untried");
       }
       assertTrue(untried > 0, Randoms.describe(seed) + " layer " + layer + ": the partition was tried for every query");
+    }
+  }
+
+  /**
+   * After the masked scan's head, the partition's first cluster holds k codes at distance 0 while
+   * thousands more at distance 0 lie in another cluster: the partition would have to read them all
+   * (an estimate well under a third of the whole scan, which once chose it), while the scan stops by
+   * the largest position among those k, a few hundred positions on. The scan answers, exactly.
+   * (k = 30: the head, n / 64 codes, is then too small a sample to leave the partition untried.)
+   */
+  @Test
+  void codesAtDistanceZeroJustPastTheHeadAreLeftToTheScan() {
+    for (int rep = 0; rep < 5; rep++) {
+      long seed = Randoms.seed(rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      CodeLayout layout = new CodeLayout(List.of(new CodeLayout.Segment("a", 64), new CodeLayout.Segment("b", 64)));
+      int n = 80_000, k = 30, firstZero = n / 8 + 20;
+      long za = rnd.nextLong(), zb = rnd.nextLong();
+      long[] words = new long[2 * n];
+      for (int i = 0; i < n; i++) {
+        // before: at distance 1; after: every 10th at distance 0, in two groups far apart in the
+        // first layer (two clusters), the rest at distance 63
+        boolean zero = i >= firstZero && i % 10 == 0;
+        words[2 * i] = !zero ? rnd.nextLong() : i % 20 == 0 ? za : ~za;
+        words[2 * i + 1] = i < firstZero ? zb ^ 1L : zero ? zb : ~zb ^ 1L << rnd.nextInt(64);
+      }
+      CodeBlock codes = new CodeBlock(layout, n, words);
+      MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults(), PlannerCosts.defaults());
+      long[] mask = layout.mask(1);
+      long[] q = {rnd.nextLong(), zb};
+      assertEquals(BruteForce.knn(codes, q, k, null, mask), s.knn(q, k, null, mask), Randoms.describe(seed));
+      assertEquals(MihSearcher.PATH_SCAN, s.lastQueryWork()[3], Randoms.describe(seed) + ": not answered by the scan");
     }
   }
 }
