@@ -113,7 +113,7 @@ final class OodCommand implements Callable<Integer> {
     String score;
 
     @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",
-        description = "Hamming candidates the refined score re-ranks (at least k; ties at the last distance included). Default: ${DEFAULT-VALUE}.")
+        description = "Hamming candidates the refined score re-ranks (raised to k when smaller; ties at the last distance included). Default: ${DEFAULT-VALUE}.")
     int candidates;
 
     @Mixin LayersOption layers;
