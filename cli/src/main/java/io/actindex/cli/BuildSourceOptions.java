@@ -27,7 +27,7 @@ public final class BuildSourceOptions {
   Path codes;
 
   @Option(names = "--code-layout", paramLabel = "LAYOUT",
-      description = "Layer names and widths of --codes, e.g. h1:64,h2:32 (needed for packed bits; default: one layer named after the file).")
+      description = "Layer names and widths of --codes, e.g. h1:64,h2:32 (needed for packed bits; default: one layer named code).")
   String codeLayout;
 
   @Option(names = "--inputs", paramLabel = "FILE",
@@ -40,7 +40,7 @@ public final class BuildSourceOptions {
   String header;
 
   @Option(names = "--meta", paramLabel = "CSV",
-      description = "Metadata CSV with a header, one row per example (joined by the key column if it has one, else by row order).")
+      description = "Metadata CSV with a header, then one row per example in the order of the source's rows (row i describes row i; the counts must match).")
   Path meta;
 
   @Option(names = "--key-column", paramLabel = "NAME",

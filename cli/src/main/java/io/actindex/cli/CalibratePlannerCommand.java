@@ -33,7 +33,7 @@ final class CalibratePlannerCommand implements Callable<Integer> {
   @Mixin FormatOption format;
 
   @Option(names = "--runs", paramLabel = "N", defaultValue = "5",
-      description = "Measurements to take the median of (about 0.2 s each). Default: ${DEFAULT-VALUE}.")
+      description = "Measurements to take the median of, 1 to 100 (about 0.2 s each). Default: ${DEFAULT-VALUE}.")
   int runs;
 
   @Option(names = "--out", paramLabel = "FILE", description = "Where to keep the costs (default: see above).")

@@ -19,9 +19,9 @@ import picocli.CommandLine.Spec;
 
 /** {@code actindex census}: how the indexed examples spread over linear regions. */
 @Command(name = "census", mixinStandardHelpOptions = true,
-    description = {"How the indexed examples spread over linear regions, for each prefix of the layers:",
-        "distinct regions, examples per region, label purity, the largest regions;",
-        "and per-neuron firing rates with the dead and always-on neurons listed."})
+    description = {"How the indexed examples spread over linear regions, for each prefix of the layers.",
+        "Per prefix: distinct regions, examples per region, label purity and the largest regions. "
+            + "Per neuron: firing rates, with the dead and always-on neurons listed."})
 final class CensusCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;

@@ -16,10 +16,10 @@ import picocli.CommandLine.Spec;
 
 /** {@code actindex check}: every byte of every file of an index, reported per file. */
 @Command(name = "check", mixinStandardHelpOptions = true,
-    description = {"Verifies every byte of every file of an index: each file's CRC32, every hash-table key",
-        "against its codes, and the checksum of every metadata (Lucene) file. Reports per file; exits 2,",
-        "naming the first damaged file, if any is damaged. Files the index does not use are listed as",
-        "leftovers (exit 0 when the index is sound). Never writes."})
+    description = {"Verifies every byte of every file of an index and reports per file; never writes.",
+        "Checks each file's CRC32, every hash-table key against its codes, and the checksum of every metadata (Lucene) file. "
+            + "Exits 2, naming the first damaged file, if any is damaged. Files the index does not use are listed as "
+            + "leftovers (exit 0 when the index is sound)."})
 final class CheckCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;

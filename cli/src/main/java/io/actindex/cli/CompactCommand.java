@@ -13,8 +13,8 @@ import picocli.CommandLine.Spec;
 
 /** {@code actindex compact}: segments rewritten without deleted codes. */
 @Command(name = "compact", mixinStandardHelpOptions = true,
-    description = {"Rewrites an index's segments without the codes of deleted examples, merged into as few",
-        "segments as the size cap allows, in one atomic commit. Every byte read is checked first. Ids stay."})
+    description = {"Rewrites an index's segments without the codes of deleted examples, in one atomic commit.",
+        "The segments are merged into as few as the size cap allows. Every byte read is checked first. Ids stay."})
 final class CompactCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;

@@ -40,7 +40,7 @@ final class FidelityCommand implements Callable<Integer> {
           + " Euclidean k-NN on the inputs.")
   Path inputs;
 
-  @Option(names = "--activations", paramLabel = "FILE", description = "Without an index: activations (.npy, .npz or .csv); on = > 0.")
+  @Option(names = "--activations", paramLabel = "FILE", description = "Without an index: activations (.npy, .npz or .csv); a unit is on when its activation is > 0.")
   Path activations;
 
   @Option(names = "--meta", paramLabel = "CSV", description = "With --activations: metadata CSV (one row per example) with a label column.")

@@ -113,7 +113,7 @@ final class OodCommand implements Callable<Integer> {
     String score;
 
     @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",
-        description = "Hamming candidates the refined score re-ranks (at least k; ties at the last distance included). Default: ${DEFAULT-VALUE}.")
+        description = "Hamming candidates the refined score re-ranks (raised to k when smaller; ties at the last distance included). Default: ${DEFAULT-VALUE}.")
     int candidates;
 
     @Mixin LayersOption layers;
@@ -297,8 +297,8 @@ final class OodCommand implements Callable<Integer> {
   }
 
   @Command(name = "eval", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
-      description = {"AUROC, FPR at 95%% TPR and AUPR of the calibrated code score on in- and out-of-distribution inputs, a breakdown over k, "
-          + "statistic and layers, and beside it the k-NN score on float activations and the softmax baseline when they apply.",
+      description = {"AUROC, FPR at 95%% TPR and AUPR of the calibrated score (code or refined) on in- and out-of-distribution inputs, "
+          + "a breakdown of the code score over k, statistic and layers, and beside it the k-NN score on float activations and the softmax baseline when they apply.",
           "Optionally the ROC curves as CSV and a self-contained HTML page."})
   static final class Eval implements Callable<Integer> {
     enum Kind { inputs, activations, codes }
@@ -307,10 +307,10 @@ final class OodCommand implements Callable<Integer> {
     @Mixin Verbose verbose;
     @Mixin IndexOption index;
 
-    @Option(names = "--in", required = true, paramLabel = "FILE", description = "In-distribution inputs (held out from the index and the calibration).")
+    @Option(names = "--in", required = true, paramLabel = "FILE", description = "In-distribution rows, a file of --kind (held out from the index and the calibration).")
     Path in;
 
-    @Option(names = "--out", required = true, paramLabel = "FILE", description = "Out-of-distribution inputs.")
+    @Option(names = "--out", required = true, paramLabel = "FILE", description = "Out-of-distribution rows, a file of --kind (an input file, not an output).")
     Path outFile;
 
     @Option(names = "--kind", paramLabel = "KIND",

@@ -30,7 +30,7 @@ public final class QuerySourceOptions {
   Path inputs;
 
   @Option(names = "--header", paramLabel = "yes|no|auto", defaultValue = "auto",
-      description = "Whether the first line of a CSV query file is a header (auto: text or the column numbers 0..d-1 = header, numbers = data, a mix is refused).")
+      description = "Whether the first line of a CSV query file is a header. auto (default): a header when every cell is text or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both is refused.")
   String header;
 
   @Option(names = "--rows", paramLabel = "A:B",

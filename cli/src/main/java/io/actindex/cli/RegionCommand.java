@@ -33,7 +33,7 @@ final class RegionCommand implements Callable<Integer> {
       description = "Also list populated regions within R flipped neurons (inclusive). Default: ${DEFAULT-VALUE}.")
   int radius;
 
-  @Option(names = "--where", paramLabel = "EXPR", description = "Only examples whose metadata match (syntax in the README).")
+  @Option(names = "--where", paramLabel = "EXPR", description = "Only examples whose metadata match, e.g. \"split = train\" (syntax and limits: docs/where.md).")
   String where;
 
   @Option(names = "--examples", paramLabel = "N", defaultValue = "3",

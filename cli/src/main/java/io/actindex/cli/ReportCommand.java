@@ -16,10 +16,11 @@ import picocli.CommandLine.Spec;
 
 /** {@code actindex report}: a self-contained HTML page about one index. */
 @Command(name = "report", mixinStandardHelpOptions = true,
-    description = {"Writes one self-contained HTML page about an index (inline SVG charts, each with its numbers in a table;",
-        "no script, nothing fetched, opens offline): layout and size, examples per linear region, neuron firing rates,",
-        "distance to the nearest other example by split, label purity of regions; the out-of-distribution",
-        "calibration when one is stored; near-duplicates with --dupes-radius; a comparison with --compare-a/--compare-b."})
+    description = {"Writes one self-contained HTML page about an index.",
+        "Inline SVG charts, each with its numbers in a table; no script, nothing fetched, opens offline. "
+            + "Sections: layout and size, examples per linear region, neuron firing rates, distance to the nearest other "
+            + "example by split, label purity of regions; the out-of-distribution calibration when one is stored; "
+            + "near-duplicates with --dupes-radius; a comparison with --compare-a/--compare-b."})
 final class ReportCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;

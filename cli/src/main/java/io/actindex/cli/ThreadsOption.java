@@ -12,7 +12,7 @@ public final class ThreadsOption {
   private int threads = 1;
 
   @Option(names = "--threads", paramLabel = "N", defaultValue = "1",
-      description = "Worker threads (results keep their order). Default: ${DEFAULT-VALUE}; 0 = one per core.")
+      description = "Worker threads (results keep their order). Default: ${DEFAULT-VALUE} (0 = one per core).")
   void setThreads(int n) {
     if (n < 0) throw new ParameterException(mixee.commandLine(), "--threads must be 0 or more, got " + n);
     threads = n;

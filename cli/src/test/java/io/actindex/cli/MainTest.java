@@ -5,13 +5,13 @@ import static org.assertj.core.api.Assertions.assertThat;
 import java.util.List;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.params.ParameterizedTest;
-import org.junit.jupiter.params.provider.ValueSource;
+import org.junit.jupiter.params.provider.MethodSource;
 import picocli.CommandLine;
 
 /** Parsing, help, version and exit codes that need no index. */
 class MainTest {
   static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare", "fidelity", "dupes",
-      "ood", "export-edge", "report", "delete", "compact", "check");
+      "ood", "export-edge", "report", "delete", "compact", "check", "calibrate-planner");
 
   @Test
   void everyContractCommandIsRegistered() {
@@ -20,8 +20,12 @@ class MainTest {
     assertThat(cl.getSubcommands().keySet()).containsAll(COMMANDS);
   }
 
+  static List<String> commands() {
+    return COMMANDS;
+  }
+
   @ParameterizedTest
-  @ValueSource(strings = {"build", "add", "info", "nearest", "region", "census", "compare", "ood", "export-edge"})
+  @MethodSource("commands")
   void helpWorksForEveryCommand(String command) {
     Cli.Result r = Cli.run(command, "--help");
     assertThat(r.code()).as(r.describe()).isZero();
@@ -30,6 +34,39 @@ class MainTest {
     Cli.Result viaHelp = Cli.run("help", command);
     assertThat(viaHelp.code()).as(viaHelp.describe()).isZero();
     assertThat(viaHelp.out()).isEqualTo(r.out());
+  }
+
+  /**
+   * The command list of {@code actindex --help} shows the first line of each description: it must be
+   * a whole sentence (a description cut into lines mid-sentence showed "...merged into as few").
+   * Every option says what it does, and one with a default value names it.
+   */
+  @Test
+  void everyCommandAndOptionIsDescribed() {
+    CommandLine root = Main.commandLine(new java.io.PrintWriter(java.io.Writer.nullWriter()),
+        new java.io.PrintWriter(java.io.Writer.nullWriter()));
+    List<CommandLine> todo = new java.util.ArrayList<>(root.getSubcommands().values());
+    List<String> problems = new java.util.ArrayList<>();
+    int checked = 0;
+    while (!todo.isEmpty()) {
+      CommandLine c = todo.removeLast();
+      todo.addAll(c.getSubcommands().values());
+      String name = c.getCommandSpec().qualifiedName();
+      if (name.endsWith(" help")) continue; // picocli's own help command
+      String[] description = c.getCommandSpec().usageMessage().description();
+      if (description.length == 0 || !description[0].endsWith("."))
+        problems.add(name + ": the first description line (its summary in 'actindex --help') is not a whole sentence");
+      for (CommandLine.Model.OptionSpec o : c.getCommandSpec().options()) {
+        String text = String.join(" ", o.description());
+        if (text.isBlank()) problems.add(name + " " + o.longestName() + ": no description");
+        boolean flag = o.typeInfo().getType() == boolean.class || o.usageHelp() || o.versionHelp();
+        if (o.defaultValue() != null && !flag && !text.toLowerCase(java.util.Locale.ROOT).contains("default"))
+          problems.add(name + " " + o.longestName() + ": has the default " + o.defaultValue() + " but its description does not say so");
+        checked++;
+      }
+    }
+    assertThat(problems).isEmpty();
+    assertThat(checked).as("options checked").isGreaterThan(100);
   }
 
   @Test

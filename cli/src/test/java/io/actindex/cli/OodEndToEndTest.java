@@ -229,7 +229,7 @@ class OodEndToEndTest {
       }
     }
     for (String sub : List.of("calibrate", "score", "eval"))
-      assertThat(Cli.run("ood", sub, "--help").out().replaceAll("\\s+", " ")).as(sub).contains("--threads=N Worker threads").contains("Default: 0; 0 = one per core");
+      assertThat(Cli.run("ood", sub, "--help").out().replaceAll("\\s+", " ")).as(sub).contains("--threads=N Worker threads").contains("Default: 0 (0 = one per core)");
   }
 
   /** Relu-like float rows: each row is one of 6 non-negative prototypes plus noise, clipped at 0. */

@@ -60,14 +60,14 @@ final class DupesCommand implements Callable<Integer> {
   @Option(names = "--overwrite", description = "Replace an existing --out folder.")
   boolean overwrite;
 
-  @Option(names = "--tables", defaultValue = "0", paramLabel = "M", description = "Substrings (hash tables); 0 = chosen from the code length, R and n.")
+  @Option(names = "--tables", defaultValue = "0", paramLabel = "M", description = "Substrings (hash tables). Default: 0 = chosen from the code length, R and n.")
   int tables;
 
   @Option(names = "--block-size", defaultValue = "1000", paramLabel = "B",
       description = "A bucket of more entries is split into blocks of about B, joined block pair by block pair. Default: ${DEFAULT-VALUE}.")
   int blockSize;
 
-  @Option(names = "--partitions", defaultValue = "0", paramLabel = "P", description = "Shuffle partitions; 0 = about one per half million entries.")
+  @Option(names = "--partitions", defaultValue = "0", paramLabel = "P", description = "Shuffle partitions. Default: 0 = about one per half million entries.")
   int partitions;
 
   @Option(names = "--format", defaultValue = "table", paramLabel = "table|json", description = "Summary on stdout. Default: ${DEFAULT-VALUE}.")

@@ -33,9 +33,10 @@ import picocli.CommandLine.Spec;
  * them on the files it leaves in the output folder.
  */
 @Command(name = "demo", mixinStandardHelpOptions = true,
-    description = {"Runs the main job on built-in invented data (vibration-sensor windows of three filler lines):",
-        "trains a small ReLU network, builds an index with metadata, prints neighbour tables and a census,",
-        "and shows the commands it ran so you can repeat them."})
+    description = {"Runs the main job on built-in invented data (vibration-sensor windows of three filler lines).",
+        "Trains a small ReLU network, builds an index with metadata, runs nearest, region, census, dupes, ood, "
+            + "compare and report on it, prints every command it ran so you can repeat them, and ends with what it "
+            + "found against what it planted."})
 public final class DemoCommand implements ExtraCommand {
   @Spec CommandSpec spec;
 
@@ -43,7 +44,7 @@ public final class DemoCommand implements ExtraCommand {
       description = "Folder for the demo's files and index (new, empty, or an earlier demo's). Default: ${DEFAULT-VALUE}.")
   Path out;
 
-  @Option(names = "--seed", paramLabel = "N", defaultValue = "2026", description = "Seed of the invented data and the training.")
+  @Option(names = "--seed", paramLabel = "N", defaultValue = "2026", description = "Seed of the invented data and the training. Default: ${DEFAULT-VALUE}.")
   long seed;
 
   @Option(names = "--verbose", description = "On an internal error, print the full stack trace.")
