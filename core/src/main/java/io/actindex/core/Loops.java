@@ -3,8 +3,8 @@ package io.actindex.core;
 /**
  * Which loops {@link ScanKernel} runs, chosen once when this class loads: {@link #VECTOR} when the
  * system property {@code actindex.simd} is {@code true} and {@link #vectorUsable()}; {@link
- * #SCALAR} otherwise (the default). The vector loops are 2-5x faster once compiled on codes in
- * cache, but a JVM spends about half a second of interpreted and C1 code before the JIT has
+ * #SCALAR} otherwise (the default). Once compiled, the vector loops take 0.25-0.7x the scalar
+ * loops' time on the plain scan (1.4-4x faster; widths of 3 words stay scalar), but a JVM spends about half a second of interpreted and C1 code before the JIT has
  * compiled them, which a one-shot command never earns back (docs/benchmarks.md, "Vector API
  * loops"): they are for long runs (a large {@code dupes}, a server, batches of queries), e.g.
  * {@code ACTINDEX_JAVA_OPTS=-Dactindex.simd=true bin/actindex ...}. Either way the results are
