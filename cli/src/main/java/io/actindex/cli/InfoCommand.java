@@ -134,13 +134,15 @@ final class InfoCommand implements Callable<Integer> {
   }
 
   private static List<String> header() {
-    return List.of("segment", "first_id", "end_id", "count", "deleted", "bytes", "dropped_constant_bits", "search_plan");
+    return List.of("segment", "first_id", "end_id", "count", "deleted", "bytes", "dropped_constant_bits", "search_plan",
+        "code_bytes", "table_bytes", "on_demand_bytes");
   }
 
   private static List<String> row(IndexInfo.SegmentInfo s) {
     return List.of(Integer.toString(s.segmentId()), Integer.toString(s.firstId()), Integer.toString(s.endId()),
         Integer.toString(s.count()), Integer.toString(s.deleted()), Long.toString(s.bytes()),
-        Integer.toString(s.droppedConstantBits()), plan(s.searcher()));
+        Integer.toString(s.droppedConstantBits()), plan(s.searcher()), Long.toString(s.searcher().codeBytes()),
+        Long.toString(s.searcher().tableBytes()), Long.toString(s.searcher().onDemandBytes()));
   }
 
   private static void csv(PrintWriter out, IndexInfo info) {

@@ -84,5 +84,13 @@ class InfoEndToEndTest {
     assertThat(table(big)).contains(" + up to 19.5 KiB on demand"); // 20,000 bytes
     assertThat(json(small).get("segments").get(0).get("searcher").get("on_demand_bytes").asLong()).isZero();
     assertThat(table(small)).doesNotContain("on demand");
+
+    // the CSV ends each line with the same three memory figures as the JSON
+    Cli.Result csv = Cli.run("info", "--index", big.toString(), "--format", "csv");
+    assertThat(csv.code()).as(csv.describe()).isZero();
+    String[] lines = csv.out().strip().split("\\R");
+    assertThat(lines[0]).endsWith(",code_bytes,table_bytes,on_demand_bytes");
+    assertThat(lines[1]).as(csv.out()).endsWith("," + searcher.get("code_bytes").asLong() + "," + searcher.get("table_bytes").asLong()
+        + "," + 4L * codes.length);
   }
 }
