@@ -191,11 +191,17 @@ public final class DemoCommand implements ExtraCommand {
     return ExitCodes.OK;
   }
 
-  /** Runs one command quietly and returns its JSON document (null, with the error shown, if it failed). */
+  /**
+   * Runs one command quietly and returns its JSON document; if it failed, null, with what it wrote
+   * to stderr shown (its notes are not shown otherwise: they would come after the summary).
+   */
   private Object json(String... args) {
-    java.io.StringWriter buf = new java.io.StringWriter();
-    int code = Main.run(new PrintWriter(buf), spec.commandLine().getErr(), args);
-    return code == 0 ? io.actindex.encode.io.Json.parse(buf.toString()) : null;
+    java.io.StringWriter buf = new java.io.StringWriter(), err = new java.io.StringWriter();
+    int code = Main.run(new PrintWriter(buf), new PrintWriter(err), args);
+    if (code == 0) return io.actindex.encode.io.Json.parse(buf.toString());
+    spec.commandLine().getErr().print(err);
+    spec.commandLine().getErr().flush();
+    return null;
   }
 
   private Path file(String name) {
