@@ -165,10 +165,10 @@ public class EncodersTest {
   @Test
   void csvBadCellsNameLineRowAndColumn() throws IOException {
     Map<String, String> cases = Map.of(
-        "1,2,3\n4,x,6\n", "line 2 (row 1), column 1",
-        "1,2,3\n4,5\n", "line 2 (row 1)",
-        "1,2,3\n4,5,6,7\n", "column 3",
-        "1,2,3\n4,,6\n", "empty field",
+        "1,2,4\n4,x,6\n", "line 2 (row 1), column 1",
+        "1,2,4\n4,5\n", "line 2 (row 1)",
+        "1,2,4\n4,5,6,7\n", "column 3",
+        "1,2,4\n4,,6\n", "empty field",
         "a,b\n1,NaN\n", "line 2 (row 0), column 1",
         "1,2\n3,-Infinity\n", "only finite",
         "inf_count,b\n1,0x10\n", "'0x10' is not a number",

@@ -3,6 +3,7 @@ package io.actindex.encode.io;
 import io.actindex.core.BadInputException;
 import java.io.IOException;
 import java.io.InputStream;
+import java.math.BigDecimal;
 import java.nio.ByteBuffer;
 import java.nio.CharBuffer;
 import java.nio.charset.CharsetDecoder;
@@ -28,7 +29,9 @@ import java.util.regex.Pattern;
  * is data; {@code AUTO} it is a header when every cell is text, or when its cells are exactly the
  * column numbers {@code 0, 1, ..., d-1} (what a data-frame library writes for unnamed columns,
  * optionally after an empty or {@code Unnamed: 0} cell over a row-index column), data when every
- * cell is a number, and refused (naming the first text cell) when it mixes both. {@link #notes()}
+ * cell is a number, and refused (naming the first text cell) when it mixes both, or when its three
+ * or more numbers are evenly spaced ({@code 1, 2, ..., d}; {@code 400, 410, 420}), as numbered
+ * column names are. {@link #notes()}
  * says which was chosen, and flags a leading column that looks like a row index.
  *
  * <p>Cells may be quoted as RFC 4180 says ({@code "h1,u0"} is one cell, {@code ""} inside quotes
@@ -117,6 +120,10 @@ public final class CsvMatrixReader implements MatrixReader {
       notes.add(file + ": line " + firstLine + " taken as the header (its cells are the column numbers; --header no reads it as data)");
       return true;
     }
+    if (text == 0 && evenlySpaced(f))
+      throw new BadInputException(file + ": line " + firstLine + " holds the evenly spaced numbers " + f[0].trim() + ", " + f[1].trim() + ", ..., "
+          + f[f.length - 1].trim() + ", more like column names (columns numbered from 1, wavelengths, time offsets) than a row of data;"
+          + " pass --header yes (a header) or --header no (data)");
     if (text == 0) {
       notes.add(file + ": no header line (every cell of line " + firstLine + " is a number; --header yes skips it)");
       return false;
@@ -126,6 +133,28 @@ public final class CsvMatrixReader implements MatrixReader {
     throw new BadInputException(file + ": line " + firstLine + ", column " + firstText + " (0-based): " + BadInputException.quote(f[firstText].trim())
         + " is text but other cells of the line are numbers, so it is unclear whether the line is a header; pass --header yes (a header) or --header no (data)"
         + hint);
+  }
+
+  /**
+   * Three or more numbers that rise or fall by one same nonzero step, compared exactly as decimals
+   * ({@code 0.1, 0.2, 0.3} is evenly spaced): a header of numbered columns, which read as data would
+   * shift every row by one.
+   */
+  private static boolean evenlySpaced(String[] f) {
+    if (f.length < 3) return false;
+    BigDecimal[] v = new BigDecimal[f.length];
+    try {
+      for (int i = 0; i < f.length; i++) {
+        v[i] = new BigDecimal(f[i].trim());
+        if (Math.abs(v[i].scale()) > 64) return false; // e.g. 1e-999999999: exact differences would take gigabytes
+      }
+    } catch (NumberFormatException e) {
+      return false; // NaN or an infinity: refused as a value later
+    }
+    BigDecimal step = v[1].subtract(v[0]);
+    if (step.signum() == 0) return false;
+    for (int i = 2; i < v.length; i++) if (v[i].subtract(v[i - 1]).compareTo(step) != 0) return false;
+    return true;
   }
 
   /** Cells {@code from..} are exactly {@code 0, 1, 2, ...}. */

@@ -72,6 +72,38 @@ class CsvHeaderTest {
     assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.NO).read(new double[6], 2)).hasMessageContaining("'2.O' is not a number");
   }
 
+  /**
+   * A header of numbered columns that do not start at 0 (1-based column numbers, wavelengths, time
+   * offsets) was read as a row of data under AUTO: one example too many and every id shifted by
+   * one, with exit code 0. Now refused; YES and NO read it as told.
+   */
+  @Test
+  void evenlySpacedNumbersOnTheFirstLineAreRefusedUnderAuto() throws IOException {
+    String[][] cases = { // first line, a data row, how the message shows the first line
+        {"1,2,3,4,5,6", "0.5,-1.25,3,7,8,9", "1, 2, ..., 6"}, {"400,410,420", "0.5,-1.25,3", "400, 410, ..., 420"},
+        {"0.1,0.2,0.3", "0.5,-1.25,3", "0.1, 0.2, ..., 0.3"}, {"6,5,4", "0.5,-1.25,3", "6, 5, ..., 4"},
+        {"\"1\",\"2\",\"3\"", "0.5,-1.25,3", "1, 2, ..., 3"}, {"1e2,2e2,3e2", "0.5,-1.25,3", "1e2, 2e2, ..., 3e2"}};
+    for (String[] c : cases) {
+      Path f = csv("num-header.csv", c[0] + "\n" + c[1] + "\n");
+      assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.AUTO)).as(c[0]).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("num-header.csv").hasMessageContaining("line 1").hasMessageContaining(c[2])
+          .hasMessageContaining("--header yes").hasMessageContaining("--header no");
+      double[] row = Arrays.stream(c[1].split(",")).mapToDouble(Double::parseDouble).toArray();
+      try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.YES)) {
+        assertThat(all(r, 1)).containsExactly(row);
+      }
+      try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
+        assertThat(all(r, 2)).endsWith(row).hasSize(2 * row.length);
+      }
+    }
+    // not evenly spaced, two cells, a constant row, or a huge exponent: data, as before
+    for (String first : new String[] {"1,2,4", "3,4", "0,0,0", "1e-999999999,1e999999999,2", "-0.5,0.25,2"})
+      try (CsvMatrixReader r = CsvMatrixReader.open(csv("data.csv", first + "\n" + first + "\n"), Header.AUTO)) {
+        assertThat(r.header()).as(first).isNull();
+        assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("no header line"));
+      }
+  }
+
   @Test
   void aRowIndexColumnGetsAHint() throws IOException {
     // pandas to_csv with its default index: an empty first header cell over 0, 1, 2...
