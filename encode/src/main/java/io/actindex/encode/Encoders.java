@@ -103,6 +103,9 @@ public final class Encoders {
   /** As {@link #model(Path, Path, EncodeOptions)}; {@code header} says whether a CSV file's first line is a header. */
   public static CodeStream model(Path safetensors, Path inputs, EncodeOptions o, CsvMatrixReader.Header header) throws IOException {
     checkReadable(safetensors);
+    if (o.rule() == BinarizeRule.THRESHOLD && o.threshold() < 0)
+      throw new BadInputException(safetensors + ": threshold " + o.threshold() + " is below 0, but a model's hidden activations are taken after ReLU"
+          + " (0 or more), so every neuron would be on in every row; give a threshold of 0 or more, or pass activations before ReLU with --activations");
     try (SafetensorsReader r = SafetensorsReader.open(safetensors)) {
       return model(r, inputs, o, header);
     }

@@ -5,6 +5,7 @@ import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
+import io.actindex.encode.BinarizeRule;
 import io.actindex.encode.CodeStream;
 import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
@@ -59,30 +60,55 @@ class TorchGoldenTest {
       assertThat(s.notes()).anySatisfy(n -> assertThat(n).contains("code layers " + String.join(", ", hidden))
           .contains(output ? "output layer " + forward.getLast() : "no output layer")
           .contains(how.equals("names") ? "numbers in the names" : how.equals("shapes") ? "weight shapes" : "as given"));
-      CodeBlock codes = Encoders.readAll(s);
-      int bitsBefore = 0, on = 0, total = 0;
-      for (String layer : hidden) {
-        try (NpyReader r = NpyReader.open(Golden.path("torch/" + model + "_act_" + layer + ".npy"))) {
-          int n = (int) r.rows(), w = r.cols();
-          double[] a = new double[n * w];
-          assertThat(r.read(a, n)).isEqualTo(n);
-          assertThat(codes.size()).isEqualTo(n);
-          for (int i = 0; i < n; i++)
-            for (int j = 0; j < w; j++) {
-              int bit = bitsBefore + j;
-              boolean ours = (codes.words()[i * codes.layout().words() + (bit >>> 6)] >>> (bit & 63) & 1) != 0;
-              boolean torch = a[i * w + j] > 0;
-              if (ours != torch) throw new AssertionError(model + ": row " + i + ", layer " + layer + ", unit " + j + ": actindex " + ours + ", PyTorch " + torch);
-              on += torch ? 1 : 0;
-              total++;
-            }
-          bitsBefore += w;
-        }
-      }
-      assertThat(bitsBefore).isEqualTo(codes.layout().bits());
-      // the golden data exercise both states, so equal codes cannot come from all-zero or all-one layers
-      assertThat(on).as("units on").isBetween(1, total - 1);
+      assertCodesAre(model, hidden, Encoders.readAll(s), 0);
     }
+  }
+
+  /**
+   * Checks {@code codes} bit for bit against PyTorch's activations of {@code hidden} above {@code
+   * t}, and that both states occur (equal codes cannot then come from all-zero or all-one layers).
+   */
+  private static void assertCodesAre(String model, List<String> hidden, CodeBlock codes, double t) throws IOException {
+    int bitsBefore = 0, on = 0, total = 0;
+    for (String layer : hidden) {
+      try (NpyReader r = NpyReader.open(Golden.path("torch/" + model + "_act_" + layer + ".npy"))) {
+        int n = (int) r.rows(), w = r.cols();
+        double[] a = new double[n * w];
+        assertThat(r.read(a, n)).isEqualTo(n);
+        assertThat(codes.size()).isEqualTo(n);
+        for (int i = 0; i < n; i++)
+          for (int j = 0; j < w; j++) {
+            int bit = bitsBefore + j;
+            boolean ours = (codes.words()[i * codes.layout().words() + (bit >>> 6)] >>> (bit & 63) & 1) != 0;
+            boolean torch = a[i * w + j] > t;
+            if (ours != torch) throw new AssertionError(model + ": row " + i + ", layer " + layer + ", unit " + j + ": actindex " + ours + ", PyTorch " + torch);
+            on += torch ? 1 : 0;
+            total++;
+          }
+        bitsBefore += w;
+      }
+    }
+    assertThat(bitsBefore).isEqualTo(codes.layout().bits());
+    assertThat(on).as("units on").isBetween(1, total - 1);
+  }
+
+  /**
+   * {@code --threshold T} with a model compares its hidden activations after ReLU with {@code T}
+   * (PyTorch's hooked activations above T, bit for bit). Those activations are 0 or more
+   * (torch.nn.ReLU: max(0, x)), so a T below 0 turned every unit on in every row: an index where
+   * every distance is 0, built with exit code 0. Now refused, naming the file.
+   */
+  @org.junit.jupiter.api.Test
+  void aThresholdComparesActivationsAfterReluAndBelowZeroIsRefused() throws IOException {
+    var file = Golden.path("torch/seq_trunk.safetensors");
+    var inputs = Golden.path("torch/seq_trunk_inputs.npy");
+    try (CodeStream s = Encoders.model(file, inputs, new EncodeOptions(BinarizeRule.THRESHOLD, 0.15, null).withModel(null, false))) {
+      assertCodesAre("seq_trunk", List.of("0", "2"), Encoders.readAll(s), 0.15); // no activation within 3e-4 of 0.15
+    }
+    for (double t : new double[] {-0.25, -1e-9})
+      assertThatThrownBy(() -> Encoders.model(file, inputs, new EncodeOptions(BinarizeRule.THRESHOLD, t, null).withModel(null, false)).close())
+          .isInstanceOf(BadInputException.class).hasMessageContaining("seq_trunk.safetensors").hasMessageContaining("below 0")
+          .hasMessageContaining("after ReLU");
   }
 
   /**
