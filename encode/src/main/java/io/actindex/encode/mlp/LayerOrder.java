@@ -76,9 +76,13 @@ public final class LayerOrder {
       ordered.sort(Comparator.comparing((Shape s) -> numbers(s.name()), LayerOrder::compareNumbers));
       String broken = brokenLink(ordered);
       if (broken == null) return new Resolved(ordered.stream().map(Shape::name).toList(), From.NAMES);
+      String head = file + ": the numbers in the layer names give the order " + names(ordered.stream().map(Shape::name).toList())
+          + ", but it does not chain: " + broken + "; ";
+      if (chainsTransposed(ordered, inputWidth))
+        throw new BadInputException(head + "read as [in, out] (how Keras and JAX/Flax store a dense kernel) the weights chain in this order from the"
+            + " input width " + inputWidth + ": save each one transposed (W.T), as [out, in] like PyTorch's nn.Linear");
       List<List<String>> chains = chains(file, layers, inputWidth);
-      throw new BadInputException(file + ": the numbers in the layer names give the order " + names(ordered.stream().map(Shape::name).toList())
-          + ", but it does not chain: " + broken + "; " + (chains.isEmpty() ? "no order of the layers chains" : candidates(chains)));
+      throw new BadInputException(head + (chains.isEmpty() ? "no order of the layers chains" : candidates(chains)));
     }
     List<List<String>> chains = chains(file, layers, inputWidth);
     if (chains.size() == 1) return new Resolved(chains.getFirst(), From.SHAPES);
@@ -110,6 +114,13 @@ public final class LayerOrder {
       skeleton = s;
     }
     return skeleton != null;
+  }
+
+  /** Whether {@code ordered}, each weight read as {@code [in, out]}, chains from a known {@code inputWidth}. */
+  private static boolean chainsTransposed(List<Shape> ordered, long inputWidth) {
+    if (inputWidth < 0 || ordered.getFirst().out() != inputWidth) return false;
+    for (int i = 1; i < ordered.size(); i++) if (ordered.get(i - 1).in() != ordered.get(i).out()) return false;
+    return true;
   }
 
   /** The first place where {@code ordered} does not chain, or null. */

@@ -93,7 +93,12 @@ public final class Mlp {
         throw new BadInputException(r.file() + ": tensor " + BadInputException.quote(e.name()) + ": field shape " + e.shapeString() + " is empty or too large");
       shapes.add(new LayerOrder.Shape(name, e.shape()[0], e.shape()[1]));
     }
-    if (shapes.isEmpty()) throw new BadInputException(r.file() + ": no tensor named NAME.weight; an MLP needs PyTorch-style names");
+    if (shapes.isEmpty()) {
+      String kernel = r.entries().keySet().stream().filter(n -> n.matches("(?s).*kernel(:\\d+)?")).findFirst().orElse(null);
+      throw new BadInputException(r.file() + ": no tensor named NAME.weight; an MLP needs PyTorch-style names" + (kernel == null ? ""
+          : " (" + BadInputException.quote(kernel) + " is a dense kernel as Keras and JAX/Flax store it, [in, out]: save each kernel transposed"
+              + " as NAME.weight, [out, in] like PyTorch's nn.Linear, and its bias as NAME.bias)"));
+    }
     List<String> other = new ArrayList<>();
     for (String name : r.entries().keySet()) {
       if (name.endsWith(".bias") && !r.entries().containsKey(name.substring(0, name.length() - 5) + ".weight"))

@@ -78,6 +78,23 @@ class LayerOrderTest {
     assertThatThrownBy(() -> resolve(List.of(s("a", 4, 8), s("b", 5, 3)))).hasMessageContaining("no order of the layers");
   }
 
+  /**
+   * Kernels saved as [in, out] under PyTorch names (8 inputs, 16 hidden, 3 out: "0" [8, 16], "2"
+   * [16, 3]) chain in the reverse order, 2 then 0, which cannot take the 8 inputs; the refusal
+   * said "pass --layer-order 2,0". With the input width known it now says to transpose them.
+   */
+  @Test
+  void weightsThatChainAsInOutFromTheInputWidthAreCalledTransposed() {
+    List<Shape> kernels = List.of(s("0", 8, 16), s("2", 16, 3));
+    assertThatThrownBy(() -> LayerOrder.resolve("m.safetensors", kernels, null, 8)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("m.safetensors").hasMessageContaining("does not chain").hasMessageContaining("[in, out]")
+        .hasMessageContaining("transposed").hasMessageContaining("input width 8").hasMessageNotContaining("--layer-order 2,0");
+    // another input width, or none known: the order the shapes allow, as before
+    for (long width : new long[] {3, -1})
+      assertThatThrownBy(() -> LayerOrder.resolve("m.safetensors", kernels, null, width)).as("width %d", width)
+          .hasMessageContaining("--layer-order 2,0").hasMessageNotContaining("transposed");
+  }
+
   @Test
   void shapeSearchFindsTheHiddenChainOfShuffledDistinctWidths() {
     long seed = new Random().nextLong();

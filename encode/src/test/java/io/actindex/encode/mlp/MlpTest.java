@@ -48,6 +48,29 @@ class MlpTest {
         .hasMessageContaining(orphan.toString()).hasMessageContaining("'4.bias'").hasMessageContaining("'4.weight'");
   }
 
+  /**
+   * Keras and JAX/Flax store a dense layer's kernel as [in, out], named "kernel" (from memory of
+   * those libraries: Flax "Dense_0.kernel", Keras "dense/kernel:0"); the refusal names one and the
+   * transposition it needs.
+   */
+  @Test
+  void denseKernelsAreRefusedWithTheTranspositionTheyNeed() throws IOException {
+    for (String name : new String[] {"params.Dense_0.kernel", "dense/kernel:0"}) {
+      Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+      t.put(name, zeros(3, 4));
+      t.put(name.replace("kernel", "bias"), zeros(4));
+      Path f = model(t);
+      assertThatThrownBy(() -> Mlp.load(f, null)).as(name).isInstanceOf(BadInputException.class).hasMessageContaining(f.toString())
+          .hasMessageContaining("no tensor named NAME.weight").hasMessageContaining(BadInputException.quote(name))
+          .hasMessageContaining("[in, out]").hasMessageContaining("transposed");
+    }
+    Map<String, SafetensorsWriter.Tensor> other = new LinkedHashMap<>();
+    other.put("w", zeros(3, 4));
+    Path f = model(other);
+    assertThatThrownBy(() -> Mlp.load(f, null)).isInstanceOf(BadInputException.class).hasMessageContaining("no tensor named NAME.weight")
+        .hasMessageNotContaining("kernel");
+  }
+
   @Test
   void hiddenActivationsThatOverflowAreRefusedNamingTheRow() throws IOException {
     // 1e200 * 1e200 overflows double: +inf, and +inf - inf = NaN, which ReLU used to turn into an
