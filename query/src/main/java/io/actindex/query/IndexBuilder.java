@@ -2,6 +2,7 @@ package io.actindex.query;
 
 import io.actindex.encode.BinarizeRule;
 import io.actindex.encode.EncodeOptions;
+import io.actindex.encode.NeuronStats;
 import io.actindex.core.BadInputException;
 import io.actindex.core.OutputFiles;
 import io.actindex.core.DiskFull;
@@ -195,7 +196,10 @@ public final class IndexBuilder {
     try (IndexWriter w = created) {
       if (model != null) w.putAttachment(BuildInfo.MODEL, model);
       int first = addRows(w, codes, mags, meta, p.meta());
-      return new Result(first, codes.size(), codes.layout(), read.notes(), read.options(),
+      List<String> notes = new ArrayList<>(read.notes());
+      notes.addAll(constantLayers(codes, p.source().kind() == Source.Kind.INPUTS ? p.source().model() : p.source().file(),
+          p.source().kind() == Source.Kind.ACTIVATIONS));
+      return new Result(first, codes.size(), codes.layout(), notes, read.options(),
           mags == null ? null : Quantisation.of(mags, values), w.takeWarnings());
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e);
@@ -204,6 +208,26 @@ public final class IndexBuilder {
           : "the index was not built, the folder was removed", e);
       throw e;
     }
+  }
+
+  /**
+   * A note for each layer whose every unit is on in every row, or off in every row: its codes are
+   * all alike and add nothing to any distance. Activations after a sigmoid or softplus are all above
+   * 0, so under the default rule every unit is on; nothing else says so.
+   */
+  static List<String> constantLayers(CodeBlock codes, Path file, boolean activations) {
+    List<String> notes = new ArrayList<>();
+    if (codes.size() < 2) return notes;
+    NeuronStats stats = new NeuronStats(codes.layout());
+    stats.add(codes);
+    for (NeuronStats.LayerSummary l : stats.perLayer()) {
+      boolean on = l.alwaysOn() == l.neurons();
+      if (!on && l.dead() != l.neurons()) continue;
+      notes.add(file + ": layer " + l.layer() + ": every unit is " + (on ? "on" : "off") + " in every row (" + l.neurons() + " units, " + codes.size()
+          + " rows), so the layer adds nothing to any distance" + (on && activations ? "; activations that are all above the threshold (after a"
+              + " sigmoid or softplus, not a ReLU?) need --median or a --threshold inside their range" : ""));
+    }
+    return notes;
   }
 
   public static Result add(AddParams p, Progress progress) {

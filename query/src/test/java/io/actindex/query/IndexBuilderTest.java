@@ -82,6 +82,35 @@ class IndexBuilderTest {
     }
   }
 
+  /**
+   * Activations hooked after a sigmoid are all above 0 (1 / (1 + e^-x), common practice): under
+   * the default rule every unit is on in every row and every distance is 0. The build says so per
+   * layer; a layer of ReLU-like activations gets no such note.
+   */
+  @Test
+  void aLayerOnInEveryRowIsNoted() {
+    long seed = Randoms.seed(31);
+    java.util.SplittableRandom rnd = new java.util.SplittableRandom(seed);
+    int n = 50, d = 8;
+    float[] sigmoid = new float[n * d], relu = new float[n * d];
+    for (int i = 0; i < n * d; i++) {
+      double z = rnd.nextGaussian();
+      sigmoid[i] = (float) (1 / (1 + Math.exp(-z)));
+      relu[i] = (float) Math.max(0, z);
+    }
+    Path sig = TestFiles.npyFloat32(tmp.resolve("sigmoid.npy"), n, d, sigmoid);
+    IndexBuilder.Result built = IndexBuilder.build(new IndexBuilder.BuildParams(tmp.resolve("a"), Source.activations(sig), null), null);
+    assertThat(built.notes()).as(Randoms.describe(seed)).anySatisfy(m -> assertThat(m).contains("sigmoid.npy").contains("layer act")
+        .contains("every unit is on in every row (8 units, 50 rows)").contains("--median"));
+    Path rel = TestFiles.npyFloat32(tmp.resolve("relu.npy"), n, d, relu);
+    IndexBuilder.Result plain = IndexBuilder.build(new IndexBuilder.BuildParams(tmp.resolve("b"), Source.activations(rel), null), null);
+    assertThat(plain.notes()).as(Randoms.describe(seed)).noneSatisfy(m -> assertThat(m).contains("every unit"));
+    // a threshold above every value turns the same layer off in every row
+    IndexBuilder.Result off = IndexBuilder.build(new IndexBuilder.BuildParams(tmp.resolve("c"), Source.activations(sig), null,
+        new EncodeOptions(BinarizeRule.THRESHOLD, 1, null), null, 0, 0), null);
+    assertThat(off.notes()).anySatisfy(m -> assertThat(m).contains("every unit is off in every row").doesNotContain("--median"));
+  }
+
   private void checkNearest(Path dir, Path queryFile, String rows, CodeBlock all, int n, String why) {
     try (IndexReader r = IndexReader.open(dir)) {
       QueryCodes q = QuerySource.load(r, Source.activations(queryFile), RowRange.parse(rows));
