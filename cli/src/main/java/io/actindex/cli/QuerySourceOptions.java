@@ -30,7 +30,7 @@ public final class QuerySourceOptions {
   Path inputs;
 
   @Option(names = "--header", paramLabel = "yes|no|auto", defaultValue = "auto",
-      description = "Whether the first line of a CSV query file is a header. auto (default): a header when every cell is text or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both is refused.")
+      description = "Whether the first line of a CSV query file is a header. auto (default): a header when every cell is text or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both, or of three or more evenly spaced numbers (1..d, 400,410,420: numbered column names), is refused.")
   String header;
 
   @Option(names = "--rows", paramLabel = "A:B",
@@ -63,8 +63,7 @@ public final class QuerySourceOptions {
     try (Progress bar = Progress.onTerminal(mixee.commandLine().getErr(), "encoding queries")) {
       q = QuerySource.loadWithActivations(reader, toSource(), range(), bar);
     }
-    for (String n : q.codes().notes()) mixee.commandLine().getErr().println(n);
-    mixee.commandLine().getErr().flush();
+    printNotes(q.codes());
     return q;
   }
 
@@ -77,8 +76,14 @@ public final class QuerySourceOptions {
     try (Progress bar = Progress.onTerminal(mixee.commandLine().getErr(), "encoding queries")) {
       q = QuerySource.load(reader, toSource(), range(), bar);
     }
-    for (String n : q.notes()) mixee.commandLine().getErr().println(n);
-    mixee.commandLine().getErr().flush();
+    printNotes(q);
     return q;
+  }
+
+  /** How the file was read, on stderr; and a note when it holds no rows (else the answer is silently empty). */
+  private void printNotes(QueryCodes q) {
+    for (String n : q.notes()) mixee.commandLine().getErr().println(n);
+    if (q.codes().size() == 0) mixee.commandLine().getErr().println("note: " + toSource().file() + " holds no rows; the answer is empty");
+    mixee.commandLine().getErr().flush();
   }
 }

@@ -111,6 +111,29 @@ class EmptyIndexEndToEndTest {
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 
+  /**
+   * A query file of no rows (a hook that never ran, a filter that kept nothing: NumPy writes shape
+   * (0, 8)) was answered with nothing at all, not even on stderr.
+   * Now one note names the file, as for an index without live examples.
+   */
+  @Test
+  void aQueryFileOfNoRowsGetsANote() {
+    SplittableRandom rnd = new SplittableRandom(13);
+    Path idx = tmp.resolve("q0");
+    Path acts = Files2.floats(tmp.resolve("acts.npy"), SourcesEndToEndTest.activations(40, 8, rnd));
+    ok(Cli.run("build", "--out", idx.toString(), "--activations", acts.toString()));
+    Path none = Files2.rawNpy(tmp.resolve("none.npy"), Files2.NPY_MAGIC, "{'descr': '<f4', 'fortran_order': False, 'shape': (0, 8), }", new byte[0]);
+    for (String[] args : new String[][] {{"nearest", "--index", idx.toString(), "--activations", none.toString()},
+        {"region", "--index", idx.toString(), "--activations", none.toString()},
+        {"nearest", "--index", idx.toString(), "--activations", none.toString(), "--format", "json"}}) {
+      Cli.Result r = Cli.run(args);
+      assertThat(r.code()).as(r.describe()).isZero();
+      assertThat(r.err()).as(r.describe()).contains("note: ").contains(args[4]).contains("no rows").contains("the answer is empty");
+    }
+    Cli.Result some = Cli.run("nearest", "--index", idx.toString(), "--activations", acts.toString(), "--rows", "0:2");
+    assertThat(some.err()).as(some.describe()).doesNotContain("no rows");
+  }
+
   private static void ok(Cli.Result r) {
     assertThat(r.code()).as(r.describe()).isZero();
   }
