@@ -79,6 +79,24 @@ public final class QuerySource {
     CodeBlock codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString());
     float[] values = read.activations() == null ? null : Layers.pickColumns(read.activations(), raw.size(), raw.layout().bits(),
         Layers.alignColumns(raw.layout(), target, info.sourceLayout()));
+    if (values != null && info.kind() == Source.Kind.INPUTS && source.kind() == Source.Kind.ACTIVATIONS && reluInPlace(values))
+      notes.add(source.file() + ": note: the index keeps its model's hidden activations after ReLU; the negative values here (activations"
+          + " before ReLU, e.g. hooked on nn.Linear) are taken as 0, as ReLU does");
     return new Encoded(codes, values);
+  }
+
+  /**
+   * Sets negative values to 0; true if there were any. The codes do not change (a model's rule
+   * compares with a threshold of 0 or more), but kept magnitudes are after ReLU: a cosine or a
+   * distance against values before ReLU would rank by other numbers than the model's.
+   */
+  private static boolean reluInPlace(float[] values) {
+    boolean any = false;
+    for (int i = 0; i < values.length; i++)
+      if (values[i] < 0) {
+        values[i] = 0;
+        any = true;
+      }
+    return any;
   }
 }

@@ -1,0 +1,76 @@
+package io.actindex.query;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.within;
+
+import io.actindex.index.store.IndexReader;
+import java.net.URISyntaxException;
+import java.nio.file.Path;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * Activations a PyTorch user hooks on the Linear layers of a model (before ReLU) against an index
+ * built from that model, whose kept magnitudes are after ReLU. The codes never differed (on means
+ * above 0 either way), but the values did: {@code nearest --refine} and the refined OOD score
+ * ranked by cosines against negative values the model never passes on, and {@code add} kept them,
+ * with exit code 0. Now they are taken through ReLU, with a note.
+ *
+ * <p>Reference: PyTorch 2.13.0 forward hooks on {@code torch.nn.Linear} (y = x W^T + b, before
+ * ReLU) and on {@code torch.nn.ReLU} (max(0, y)) of one {@code nn.Sequential}, written by {@code
+ * tools/golden/make_hooked_activations.py} (versions in {@code golden/hooked/VERSIONS.txt}).
+ */
+class HookedActivationsGoldenTest {
+  @TempDir Path tmp;
+
+  static Path golden(String name) {
+    try {
+      var url = HookedActivationsGoldenTest.class.getResource("/golden/hooked/" + name);
+      if (url == null) throw new IllegalStateException("missing golden file " + name);
+      return Path.of(url.toURI());
+    } catch (URISyntaxException e) {
+      throw new IllegalStateException(e);
+    }
+  }
+
+  private Path build(String name) {
+    Path dir = tmp.resolve(name);
+    IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.inputs(golden("inputs.npy"), golden("model.safetensors")), null), null);
+    return dir;
+  }
+
+  @Test
+  void activationsHookedBeforeReluAreTakenThroughReluAgainstAModelIndex() {
+    Path dir = build("idx");
+    try (IndexReader r = IndexReader.open(dir)) {
+      QuerySource.Queries pre = QuerySource.loadWithActivations(r, Source.activations(golden("queries_pre.npz")), RowRange.ALL, null);
+      QuerySource.Queries post = QuerySource.loadWithActivations(r, Source.activations(golden("queries_post.npz")), RowRange.ALL, null);
+      QuerySource.Queries inputs = QuerySource.loadWithActivations(r, Source.inputs(golden("queries.npy"), null), RowRange.ALL, null);
+      assertThat(post.activations()).hasSize(12 * 18);
+      // PyTorch's ReLU output, value for value
+      assertThat(pre.activations()).containsExactly(post.activations());
+      assertThat(pre.codes().codes().words()).containsExactly(post.codes().codes().words());
+      assertThat(inputs.codes().codes().words()).containsExactly(post.codes().codes().words());
+      for (int i = 0; i < post.activations().length; i++)
+        assertThat(inputs.activations()[i]).as("value %d", i).isCloseTo(post.activations()[i], within(1e-5f));
+      assertThat(pre.codes().notes()).anySatisfy(n -> assertThat(n).contains("queries_pre.npz").contains("after ReLU").contains("taken as 0"));
+      assertThat(post.codes().notes()).noneSatisfy(n -> assertThat(n).contains("taken as 0"));
+    }
+  }
+
+  @Test
+  void addKeepsTheSameMagnitudesFromActivationsBeforeOrAfterRelu() {
+    Path a = build("a"), b = build("b");
+    IndexBuilder.Result added = IndexBuilder.add(new IndexBuilder.AddParams(a, Source.activations(golden("queries_pre.npz")), null, 0, 1), null);
+    IndexBuilder.add(new IndexBuilder.AddParams(b, Source.activations(golden("queries_post.npz")), null, 0, 1), null);
+    assertThat(added.notes()).anySatisfy(n -> assertThat(n).contains("taken as 0"));
+    try (IndexReader ra = IndexReader.open(a); IndexReader rb = IndexReader.open(b)) {
+      float[] x = new float[18], y = new float[18];
+      for (int id = 40; id < 52; id++) {
+        assertThat(ra.magnitudes(id, x, 0)).isTrue();
+        assertThat(rb.magnitudes(id, y, 0)).isTrue();
+        assertThat(x).as("id %d", id).containsExactly(y);
+      }
+    }
+  }
+}
