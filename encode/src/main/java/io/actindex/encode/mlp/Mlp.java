@@ -82,6 +82,12 @@ public final class Mlp {
    * buffer) is refused: ignoring it would run another network than the file's, with no error.
    */
   public static List<LayerOrder.Shape> shapes(SafetensorsReader r) {
+    String split = r.entries().keySet().stream().filter(n -> n.contains(".parametrizations.") || n.endsWith(".weight_g") || n.endsWith(".weight_v"))
+        .findFirst().orElse(null);
+    if (split != null) // weight_norm and the like: the weight is a function of these tensors
+      throw new BadInputException(r.file() + ": tensor " + BadInputException.quote(split) + " is part of a parametrized weight (weight_norm,"
+          + " spectral_norm): remove the parametrization before saving (torch.nn.utils.parametrize.remove_parametrizations, or"
+          + " torch.nn.utils.remove_weight_norm), so that each layer has its NAME.weight");
     List<LayerOrder.Shape> shapes = new ArrayList<>();
     for (var e : r.entries().values()) {
       if (!e.name().endsWith(".weight")) continue;

@@ -71,6 +71,25 @@ class MlpTest {
         .hasMessageNotContaining("kernel");
   }
 
+  /**
+   * PyTorch's weight_norm saves a layer's weight as two tensors (from memory of torch.nn.utils:
+   * "0.parametrizations.weight.original0/1" for the parametrization form, "0.weight_g"/"0.weight_v"
+   * for the older one); the refusal said "'0.bias' has no '0.weight': is the file complete?".
+   */
+  @Test
+  void parametrizedWeightsAreRefusedSayingToRemoveTheParametrization() throws IOException {
+    for (String[] names : new String[][] {{"0.parametrizations.weight.original0", "0.parametrizations.weight.original1"}, {"0.weight_g", "0.weight_v"}}) {
+      Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+      t.put("0.bias", zeros(4));
+      t.put(names[0], zeros(4, 1));
+      t.put(names[1], zeros(4, 3));
+      t.put("2.weight", zeros(2, 4));
+      Path f = model(t);
+      assertThatThrownBy(() -> Mlp.load(f, null)).as(names[0]).isInstanceOf(BadInputException.class).hasMessageContaining(f.toString())
+          .hasMessageContaining("parametrized weight").hasMessageContaining("remove_parametrizations").hasMessageNotContaining("is the file complete");
+    }
+  }
+
   @Test
   void hiddenActivationsThatOverflowAreRefusedNamingTheRow() throws IOException {
     // 1e200 * 1e200 overflows double: +inf, and +inf - inf = NaN, which ReLU used to turn into an
