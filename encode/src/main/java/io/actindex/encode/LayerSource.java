@@ -54,7 +54,9 @@ interface LayerSource extends AutoCloseable {
       for (int i = 1; i < readers.size(); i++)
         if (readers.get(i).rows() != readers.get(0).rows())
           throw new BadInputException(source + ": layer " + BadInputException.quote(names.get(i)) + " has " + readers.get(i).rows() + " rows but layer "
-              + BadInputException.quote(names.get(0)) + " has " + readers.get(0).rows() + "; every layer needs one row per example");
+              + BadInputException.quote(names.get(0)) + " has " + readers.get(0).rows() + "; every layer needs one row per example"
+              + (readers.get(i).cols() == readers.get(0).cols() ? " (both have " + readers.get(0).cols() + " columns: saved as units by examples?"
+                  + " save each array transposed, a.T)" : ""));
     }
 
     @Override

@@ -30,7 +30,8 @@ final class ModelLayers implements LayerSource {
     if (in.cols() != mlp.inputs())
       throw new BadInputException(in.source() + ": rows have " + in.cols() + " values but the model " + modelName + " (layer '"
           + mlp.layers().getFirst().name() + "', weight shape [" + mlp.layers().getFirst().out() + ", " + mlp.inputs() + "]) takes " + mlp.inputs()
-          + in.notes().stream().filter(n -> n.contains("hint:")).map(n -> "; " + n.substring(n.indexOf("hint:"))).findFirst().orElse(""));
+          + in.notes().stream().filter(n -> n.contains("hint:")).map(n -> "; " + n.substring(n.indexOf("hint:"))).findFirst().orElse("")
+          + (in.rows() == mlp.inputs() ? "; the file has " + in.rows() + " rows: saved as features by examples? save it transposed (a.T)" : ""));
     if (selected == null) {
       names = hidden;
     } else {

@@ -114,6 +114,23 @@ public class EncodersTest {
         .hasMessageContaining("mixed.npz").hasMessageContaining("rows");
   }
 
+  /**
+   * Layers saved as units by examples (a (16, 50) and an (8, 50) array for 50 examples) differ in
+   * rows but agree in columns: the refusal suggests the transposition.
+   */
+  @Test
+  void npzLayersSavedTransposedGetAHint() throws IOException {
+    Path f = tmp.resolve("transposed.npz");
+    try (io.actindex.encode.io.NpzWriter z = io.actindex.encode.io.NpzWriter.create(f)) {
+      z.member("a", io.actindex.encode.io.NpyDtype.FLOAT32, 50).write(new double[16 * 50], 16);
+      z.member("b", io.actindex.encode.io.NpyDtype.FLOAT32, 50).write(new double[8 * 50], 8);
+      z.commit();
+    }
+    assertThatThrownBy(() -> Encoders.activations(f, EncodeOptions.positive()).close()).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("transposed.npz").hasMessageContaining("layer 'b' has 8 rows but layer 'a' has 16")
+        .hasMessageContaining("both have 50 columns").hasMessageContaining("a.T");
+  }
+
   @Test
   void randomActivationsAgainstBitByBitReference() throws IOException {
     // Widths around word boundaries, float32 and float64, chunk sizes that split rows unevenly.

@@ -106,6 +106,26 @@ class MlpTest {
     }
   }
 
+  /** Inputs saved as features by examples ((3, 50) for 50 rows of 3 features) get a hint to transpose them; other widths do not. */
+  @Test
+  void inputsSavedTransposedGetAHint() throws IOException {
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", zeros(4, 3));
+    t.put("2.weight", zeros(2, 4));
+    Path m = model(t);
+    for (int rows : new int[] {3, 7}) {
+      Path in = tmp.resolve("in" + rows + ".npy");
+      try (var w = io.actindex.encode.io.NpyWriter.create(in, io.actindex.encode.io.NpyDtype.FLOAT32, 50)) {
+        w.write(new double[rows * 50], rows);
+        w.commit();
+      }
+      var refused = assertThatThrownBy(() -> Encoders.model(m, in, EncodeOptions.positive()).next(10)).as("%d rows", rows)
+          .isInstanceOf(BadInputException.class).hasMessageContaining("rows have 50 values").hasMessageContaining("takes 3");
+      if (rows == 3) refused.hasMessageContaining("the file has 3 rows").hasMessageContaining("a.T");
+      else refused.hasMessageNotContaining("a.T");
+    }
+  }
+
   @Test
   void shapeMismatchesAreRefused() throws IOException {
     Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
