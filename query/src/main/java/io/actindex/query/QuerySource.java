@@ -77,6 +77,9 @@ public final class QuerySource {
     for (String n : read.notes()) if (n.startsWith(source.file() + ":")) notes.add(n);
     CodeBlock raw = read.codes();
     CodeBlock codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString());
+    CodeLayout split = raw.layout().bits() == target.bits() ? target : info.sourceLayout();
+    if (raw.layout().segments().size() == 1 && split != null && split.segments().size() > 1 && split.bits() == raw.layout().bits())
+      notes.add(source.file() + ": note: its " + raw.layout().bits() + " columns are read as the layers " + split + " side by side, in that order");
     float[] values = read.activations() == null ? null : Layers.pickColumns(read.activations(), raw.size(), raw.layout().bits(),
         Layers.alignColumns(raw.layout(), target, info.sourceLayout()));
     if (values != null && info.kind() == Source.Kind.INPUTS && source.kind() == Source.Kind.ACTIVATIONS && reluInPlace(values))

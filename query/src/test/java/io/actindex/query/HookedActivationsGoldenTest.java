@@ -58,6 +58,25 @@ class HookedActivationsGoldenTest {
     }
   }
 
+  /**
+   * The hooked layers side by side in one array (np.concatenate([h0, h2], axis=1)) are read
+   * column by column as the index's layers in its order; nothing could tell a wrong order of
+   * equal total width, so a note now says how the columns were split.
+   */
+  @Test
+  void oneArrayOfEveryLayerIsSplitInLayoutOrderWithANote() {
+    Path dir = build("one");
+    try (IndexReader r = IndexReader.open(dir)) {
+      QuerySource.Queries post = QuerySource.loadWithActivations(r, Source.activations(golden("queries_post.npz")), RowRange.ALL, null);
+      Path joined = TestFiles.npyFloat32(tmp.resolve("joined.npy"), 12, 18, post.activations());
+      QuerySource.Queries one = QuerySource.loadWithActivations(r, Source.activations(joined), RowRange.ALL, null);
+      assertThat(one.codes().codes().words()).containsExactly(post.codes().codes().words());
+      assertThat(one.activations()).containsExactly(post.activations());
+      assertThat(one.codes().notes()).anySatisfy(n -> assertThat(n).contains("joined.npy").contains("18 columns").contains("0:10,2:8"));
+      assertThat(post.codes().notes()).noneSatisfy(n -> assertThat(n).contains("side by side"));
+    }
+  }
+
   @Test
   void addKeepsTheSameMagnitudesFromActivationsBeforeOrAfterRelu() {
     Path a = build("a"), b = build("b");
