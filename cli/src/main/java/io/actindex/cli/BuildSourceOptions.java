@@ -67,6 +67,8 @@ public final class BuildSourceOptions {
       throw new ParameterException(mixee.commandLine(), "--inputs needs --model FILE (an MLP as safetensors)");
     if (codeLayout != null && codes == null)
       throw new ParameterException(mixee.commandLine(), "--code-layout goes with --codes");
+    if (codes != null && GivenOptions.given(mixee, "--header"))
+      throw new ParameterException(mixee.commandLine(), "--header is about CSV files of --activations or --inputs; --codes are read from .npy");
   }
 
   /** The source, after {@link #check}. */

@@ -80,6 +80,9 @@ final class FidelityCommand implements Callable<Integer> {
       throw new ParameterException(spec.commandLine(), "give exactly one of --index DIR or --activations FILE");
     if (index != null && (meta != null || labelColumn != null))
       throw new ParameterException(spec.commandLine(), "--meta and --label-column go with --activations (an index has its labels)");
+    if (index != null)
+      GivenOptions.refuse(spec, "goes with --activations; with --index the refined k-NN uses the magnitudes the index keeps (build --magnitudes)",
+          "--magnitudes");
     if (activations != null && inputs != null)
       throw new ParameterException(spec.commandLine(), "--inputs goes with --index (the rows the index was built from)");
     if (labelColumn != null && meta == null) throw new ParameterException(spec.commandLine(), "--label-column goes with --meta");
