@@ -1,5 +1,7 @@
 package io.actindex.cli;
 
+import java.nio.file.Path;
+import java.util.Locale;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.ParameterException;
 
@@ -20,5 +22,12 @@ final class GivenOptions {
   static void refuse(CommandSpec spec, String why, String... options) {
     for (String option : options)
       if (given(spec, option)) throw new ParameterException(spec.commandLine(), option + " " + why);
+  }
+
+  /** Refuses {@code option}, which is about CSV files, when typed with a source {@code file} that is not one. */
+  static void refuseUnlessCsv(CommandSpec spec, String option, Path file) {
+    if (given(spec, option) && !file.getFileName().toString().toLowerCase(Locale.ROOT).endsWith(".csv"))
+      throw new ParameterException(spec.commandLine(), option + " is about CSV files; " + file + " is not one (.npy and .npz files"
+          + " and codes have no header line)");
   }
 }

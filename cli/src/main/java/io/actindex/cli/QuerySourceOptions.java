@@ -30,7 +30,7 @@ public final class QuerySourceOptions {
   Path inputs;
 
   @Option(names = "--header", paramLabel = "yes|no|auto", defaultValue = "auto",
-      description = "Whether the first line of a CSV query file (--activations, --inputs) is a header. auto (default): a header when every cell is text or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both is refused.")
+      description = "Whether the first line of a CSV query file (--activations, --inputs) is a header; refused with other files. auto (default): a header when every cell is text or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both is refused.")
   String header;
 
   @Option(names = "--rows", paramLabel = "A:B",
@@ -42,8 +42,7 @@ public final class QuerySourceOptions {
     if (given != 1)
       throw new ParameterException(mixee.commandLine(),
           "give exactly one query source: --activations FILE, --codes FILE or --inputs FILE");
-    if (codes != null && GivenOptions.given(mixee, "--header"))
-      throw new ParameterException(mixee.commandLine(), "--header is about CSV files of --activations or --inputs; --codes are read from .npy");
+    GivenOptions.refuseUnlessCsv(mixee, "--header", activations != null ? activations : codes != null ? codes : inputs);
   }
 
   /** The query source, after {@link #check}. */

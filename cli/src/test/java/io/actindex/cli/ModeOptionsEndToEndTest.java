@@ -20,7 +20,7 @@ import org.junit.jupiter.api.io.TempDir;
  */
 class ModeOptionsEndToEndTest {
   @TempDir Path tmp;
-  Path idx, codesIdx, acts, queries, codes, queryCodes, calActs, calCodes, farActs, farCodes;
+  Path idx, codesIdx, plainIdx, acts, queries, codes, queryCodes, calActs, calCodes, farActs, farCodes;
 
   /** A command line, the option that must be refused and how many values follow it. */
   record Case(String option, int values, String... args) {
@@ -52,6 +52,8 @@ class ModeOptionsEndToEndTest {
     Path meta = Files2.text(tmp.resolve("meta.csv"), lines);
     idx = tmp.resolve("idx");
     codesIdx = tmp.resolve("codes-idx");
+    plainIdx = tmp.resolve("plain-idx");
+    ok("build", "--out", plainIdx.toString(), "--activations", acts.toString()); // magnitudes, no labels
     ok("build", "--out", idx.toString(), "--activations", acts.toString(), "--meta", meta.toString());
     ok("build", "--out", codesIdx.toString(), "--codes", codes.toString(), "--meta", meta.toString());
     ok("ood", "calibrate", "--index", idx.toString(), "--activations", calActs.toString()); // refined: the index keeps magnitudes
@@ -73,10 +75,15 @@ class ModeOptionsEndToEndTest {
         new Case("--vote-ties", 1, "nearest", "--index", i, "--activations", queries.toString(), "--refine", "cosine", "--vote-ties", "exclude"),
         new Case("--header", 1, "nearest", "--index", i, "--codes", queryCodes.toString(), "--header", "no"),
         new Case("--header", 1, "region", "--index", i, "--codes", queryCodes.toString(), "--header", "yes"),
+        new Case("--header", 1, "nearest", "--index", i, "--activations", queries.toString(), "--header", "yes"),
+        new Case("--header", 1, "build", "--out", tmp.resolve("b3").toString(), "--activations", acts.toString(), "--header", "no"),
         new Case("--header", 1, "ood", "score", "--index", ci, "--codes", queryCodes.toString(), "--header", "auto"),
         new Case("--header", 1, "build", "--out", tmp.resolve("b1").toString(), "--codes", codes.toString(), "--header", "no"),
         new Case("--threshold", 1, "build", "--out", tmp.resolve("b2").toString(), "--codes", codes.toString(), "--threshold", "0.5"),
         new Case("--magnitudes", 1, "fidelity", "--index", i, "--magnitudes", "4", "--queries", "20"),
+        new Case("--magnitudes", 1, "fidelity", "--activations", acts.toString(), "--magnitudes", "4", "--queries", "20"),
+        new Case("--candidates", 1, "fidelity", "--activations", acts.toString(), "--candidates", "50", "--queries", "20"),
+        new Case("--candidates", 1, "fidelity", "--index", plainIdx.toString(), "--candidates", "50", "--queries", "20"),
         new Case("--largest", 1, "census", "--index", i, "--format", "csv", "--largest", "2"),
         new Case("--examples", 1, "census", "--index", i, "--format", "csv", "--examples", "1"),
         new Case("--candidates", 1, "ood", "calibrate", "--index", ci, "--codes", calCodes.toString(), "--candidates", "50"),
@@ -89,7 +96,7 @@ class ModeOptionsEndToEndTest {
             "activations", "--in-floats", calActs.toString(), "--out-floats", farActs.toString(), "--train-floats", acts.toString(),
             "--roc", tmp.resolve("roc.csv").toString(), "--candidates", "50"),
         new Case("--header", 1, "add", "--index", ci, "--codes", queryCodes.toString(), "--header", "no"));
-    Map<String, String> before = Files2.checksums(idx), codesBefore = Files2.checksums(codesIdx);
+    Map<String, String> before = Files2.checksums(idx), codesBefore = Files2.checksums(codesIdx), plainBefore = Files2.checksums(plainIdx);
     for (Case c : cases) {
       Cli.Result r = Cli.run(c.args());
       assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
@@ -98,8 +105,10 @@ class ModeOptionsEndToEndTest {
       assertThat(r.out()).as(r.describe()).isEmpty();
       assertThat(Files2.checksums(idx)).as(r.describe()).isEqualTo(before);
       assertThat(Files2.checksums(codesIdx)).as(r.describe()).isEqualTo(codesBefore);
+      assertThat(Files2.checksums(plainIdx)).as(r.describe()).isEqualTo(plainBefore);
       assertThat(tmp.resolve("b1")).as(r.describe()).doesNotExist();
       assertThat(tmp.resolve("b2")).as(r.describe()).doesNotExist();
+      assertThat(tmp.resolve("b3")).as(r.describe()).doesNotExist();
       assertThat(tmp.resolve("roc.csv")).as(r.describe()).doesNotExist();
     }
     for (Case c : cases) ok(c.without()); // after the refusals: some of these change an index (add, calibrate)
