@@ -66,6 +66,8 @@ final class BuildCommand implements Callable<Integer> {
       throw new ParameterException(spec.commandLine(), "--threshold and --median exclude each other");
     if (threshold != null && !Double.isFinite(threshold))
       throw new ParameterException(spec.commandLine(), "--threshold must be a finite number");
+    if (threshold != null && source.codes != null)
+      throw new ParameterException(spec.commandLine(), "--threshold binarizes activations; --codes are binary already (give --activations or --model with --inputs)");
     if (median && source.codes != null)
       throw new ParameterException(spec.commandLine(), "--median takes each neuron's median over activations; --codes carry none (give --activations or --model with --inputs)");
     BinarizeRule rule = median ? BinarizeRule.MEDIAN : threshold != null ? BinarizeRule.THRESHOLD : BinarizeRule.POSITIVE;

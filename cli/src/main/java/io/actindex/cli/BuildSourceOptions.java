@@ -35,7 +35,7 @@ public final class BuildSourceOptions {
   Path inputs;
 
   @Option(names = "--header", paramLabel = "yes|no|auto", defaultValue = "auto",
-      description = {"Whether the first line of a CSV source (--activations, --inputs) is a header. auto (default): a header when every cell is text "
+      description = {"Whether the first line of a CSV source (--activations, --inputs) is a header; refused with other files. auto (default): a header when every cell is text "
           + "or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both, or of three or more evenly spaced"
           + " numbers (1..d, 400,410,420: numbered column names), is refused."})
   String header;
@@ -68,6 +68,7 @@ public final class BuildSourceOptions {
       throw new ParameterException(mixee.commandLine(), "--inputs needs --model FILE (an MLP as safetensors)");
     if (codeLayout != null && codes == null)
       throw new ParameterException(mixee.commandLine(), "--code-layout goes with --codes");
+    GivenOptions.refuseUnlessCsv(mixee, "--header", activations != null ? activations : codes != null ? codes : inputs);
   }
 
   /** The source, after {@link #check}. */

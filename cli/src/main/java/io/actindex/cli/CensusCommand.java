@@ -1,6 +1,7 @@
 package io.actindex.cli;
 
 import io.actindex.cli.format.CsvWriter;
+import io.actindex.cli.format.Format;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
 import io.actindex.index.store.IndexReader;
@@ -28,11 +29,11 @@ final class CensusCommand implements Callable<Integer> {
   @Mixin IndexOption index;
 
   @Option(names = "--largest", paramLabel = "N", defaultValue = "5",
-      description = "List the N largest regions per prefix. Default: ${DEFAULT-VALUE}.")
+      description = "List the N largest regions per prefix (table and json). Default: ${DEFAULT-VALUE}.")
   int largest;
 
   @Option(names = "--examples", paramLabel = "N", defaultValue = "3",
-      description = "Example keys per listed region. Default: ${DEFAULT-VALUE}.")
+      description = "Example keys per listed region (table and json). Default: ${DEFAULT-VALUE}.")
   int examples;
 
   @Mixin LayersOption layers;
@@ -42,6 +43,9 @@ final class CensusCommand implements Callable<Integer> {
   public Integer call() {
     if (largest < 0 || examples < 0)
       throw new ParameterException(spec.commandLine(), "--largest and --examples must be 0 or more");
+    if (format.format == Format.csv)
+      GivenOptions.refuse(spec, "is about the listed regions; --format csv has one line per neuron and lists no regions (use table or json)",
+          "--largest", "--examples");
     Census.Result c;
     try (IndexReader reader = IndexReader.open(index.dir)) {
       c = Census.run(reader, new Census.Params(layers.layers, largest, examples));

@@ -49,11 +49,13 @@ final class DupesCommand implements Callable<Integer> {
 
   @Mixin LayersOption layers;
 
-  @Option(names = "--cross-split", description = "List only groups spanning several splits; --pairs keeps pairs whose splits differ.")
+  @Option(names = "--cross-split",
+      description = "List only groups spanning several splits; --pairs keeps pairs whose splits differ. Not with --against.")
   boolean crossSplit;
 
   @Option(names = "--conflicting-labels",
-      description = "List only groups with several labels; --pairs keeps pairs whose labels differ (with --cross-split: either).")
+      description = "List only groups with several labels; --pairs keeps pairs whose labels differ (with --cross-split: either)."
+          + " Not with --against.")
   boolean conflictingLabels;
 
   @Option(names = "--against", paramLabel = "FILE",
@@ -65,7 +67,7 @@ final class DupesCommand implements Callable<Integer> {
       description = "Write every pair as CSV id_a,id_b,distance (id_a < id_b; with --against: row,id,distance).")
   Path pairs;
 
-  @Option(names = "--groups", paramLabel = "N", defaultValue = "10", description = "Largest groups to list. Default: ${DEFAULT-VALUE}.")
+  @Option(names = "--groups", paramLabel = "N", defaultValue = "10", description = "Largest groups to list (not with --against). Default: ${DEFAULT-VALUE}.")
   int groups;
 
   @Option(names = "--threads", paramLabel = "N", defaultValue = "0",
@@ -79,6 +81,9 @@ final class DupesCommand implements Callable<Integer> {
     if (threads < 0) throw new ParameterException(spec.commandLine(), "--threads must be 0 or more, got " + threads);
     EmptyFilter.refuse(spec, where);
     if (groups < 0) throw new ParameterException(spec.commandLine(), "--groups must be 0 or more, got " + groups);
+    if (against != null)
+      GivenOptions.refuse(spec, "is about the groups of the self-join; --against lists each row's matches and forms no groups",
+          "--cross-split", "--conflicting-labels", "--groups");
     int t = threads == 0 ? Runtime.getRuntime().availableProcessors() : threads;
     Dupes.Params p = new Dupes.Params(radius, where, layers.layers, crossSplit, conflictingLabels, groups, t);
     Dupes.Result joined = null;

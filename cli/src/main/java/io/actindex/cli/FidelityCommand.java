@@ -50,7 +50,8 @@ final class FidelityCommand implements Callable<Integer> {
   String labelColumn;
 
   @Option(names = "--magnitudes", paramLabel = "BITS", defaultValue = "8",
-      description = "With --activations: bits per unit of the quantised magnitudes the refined k-NN uses (8, 4 or 2). Default: ${DEFAULT-VALUE}.")
+      description = "With --activations and --meta: bits per unit of the quantised magnitudes the refined k-NN uses (8, 4 or 2)."
+          + " Default: ${DEFAULT-VALUE}.")
   int bits;
 
   @Option(names = "--queries", paramLabel = "N",
@@ -61,7 +62,8 @@ final class FidelityCommand implements Callable<Integer> {
   int k;
 
   @Option(names = "--candidates", paramLabel = "C",
-      description = "Hamming candidates the refined k-NN re-ranks (ties with the C-th added). Default: max(100, K).")
+      description = "Hamming candidates the refined k-NN re-ranks (ties with the C-th added); needs labels and kept magnitudes."
+          + " Default: max(100, K).")
   Integer candidates;
 
   @Option(names = "--pairs", paramLabel = "P", defaultValue = "" + Fidelity.DEFAULT_PAIRS,
@@ -80,6 +82,11 @@ final class FidelityCommand implements Callable<Integer> {
       throw new ParameterException(spec.commandLine(), "give exactly one of --index DIR or --activations FILE");
     if (index != null && (meta != null || labelColumn != null))
       throw new ParameterException(spec.commandLine(), "--meta and --label-column go with --activations (an index has its labels)");
+    if (index != null)
+      GivenOptions.refuse(spec, "goes with --activations; with --index the refined k-NN uses the magnitudes the index keeps (build --magnitudes)",
+          "--magnitudes");
+    if (activations != null && meta == null)
+      GivenOptions.refuse(spec, "is for the refined k-NN label accuracy, which needs labels (--meta)", "--magnitudes", "--candidates");
     if (activations != null && inputs != null)
       throw new ParameterException(spec.commandLine(), "--inputs goes with --index (the rows the index was built from)");
     if (labelColumn != null && meta == null) throw new ParameterException(spec.commandLine(), "--label-column goes with --meta");
@@ -113,6 +120,10 @@ final class FidelityCommand implements Callable<Integer> {
   }
 
   private Fidelity.Result run(Fidelity.Data data, int c, Progress bar) {
+    if (GivenOptions.given(spec, "--candidates") && (data.labels() == null || data.kept() == null))
+      throw new io.actindex.core.BadInputException("--candidates is for the refined k-NN label accuracy, which needs labels and kept"
+          + " magnitudes; " + (data.labels() == null ? "the examples of index " + index + " have no labels" : "index " + index
+          + " keeps no magnitudes"));
     int n = data.codes().size();
     int q = queries != null ? queries : Math.min(Fidelity.DEFAULT_QUERIES, n);
     if (q > n)

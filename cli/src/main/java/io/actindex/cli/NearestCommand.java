@@ -53,7 +53,7 @@ final class NearestCommand implements Callable<Integer> {
 
   @Option(names = "--vote-ties", paramLabel = "include|exclude", defaultValue = "include",
       description = {"include: the vote counts every example within the k-th distance, tied ones too (ids never decide it);",
-          "exclude: only the first K by (distance, id). Default: ${DEFAULT-VALUE}."})
+          "exclude: only the first K by (distance, id). Not with --refine. Default: ${DEFAULT-VALUE}."})
   VoteTies voteTies;
 
   @Option(names = "--refine", paramLabel = "METRIC",
@@ -78,6 +78,8 @@ final class NearestCommand implements Callable<Integer> {
     if (candidates != null && candidates < k)
       throw new ParameterException(spec.commandLine(), "--candidates must be at least 1 and at least -k (" + k + "), got " + candidates);
     if (refine != null && ties) throw new ParameterException(spec.commandLine(), "--ties goes with the plain search, not with --refine");
+    if (refine != null)
+      GivenOptions.refuse(spec, "is about the plain search's vote; with --refine the vote counts the K re-ranked neighbours", "--vote-ties");
     Refine.Metric metric;
     try {
       metric = refine == null ? null : Refine.Metric.parse(refine);

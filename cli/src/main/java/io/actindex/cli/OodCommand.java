@@ -113,7 +113,7 @@ final class OodCommand implements Callable<Integer> {
     String score;
 
     @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",
-        description = "Hamming candidates the refined score re-ranks (raised to k when smaller; ties at the last distance included). Default: ${DEFAULT-VALUE}.")
+        description = "Hamming candidates the refined score re-ranks (raised to k when smaller; ties at the last distance included); refused with the code score. Default: ${DEFAULT-VALUE}.")
     int candidates;
 
     @Mixin LayersOption layers;
@@ -133,7 +133,8 @@ final class OodCommand implements Callable<Integer> {
       OodCalibrate.Result r;
       try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "calibrating")) {
         r = OodCalibrate.run(index.dir, query.toSource(), query.range(), new OodCalibrate.Params(k, st, tpr, layers.layers, checkOverlap,
-            score == null ? null : OodScorer.Kind.parse(score), candidates, threads.resolved()), bar);
+            score == null ? null : OodScorer.Kind.parse(score), GivenOptions.given(spec, "--candidates") ? candidates : 0,
+            threads.resolved()), bar);
       }
       PrintWriter out = spec.commandLine().getOut();
       Calibration c = r.calibration();
@@ -177,7 +178,7 @@ final class OodCommand implements Callable<Integer> {
     @Mixin IndexOption index;
     @Mixin QuerySourceOptions query;
 
-    @Option(names = "--evidence", paramLabel = "N", defaultValue = "3", description = "Nearest training examples to name per input (at most k). Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--evidence", paramLabel = "N", defaultValue = "3", description = "Nearest training examples to name per input (at most k; not with --decision-only). Default: ${DEFAULT-VALUE}.")
     int evidence;
 
     @Option(names = "--decision-only", description = "Only the decision (code-score calibrations only): stops as soon as k training examples lie within the threshold.")
@@ -197,6 +198,7 @@ final class OodCommand implements Callable<Integer> {
       PrintWriter out = spec.commandLine().getOut();
       try (IndexReader reader = IndexReader.open(index.dir)) {
         if (decisionOnly) {
+          GivenOptions.refuse(spec, "names the nearest examples of the full score; --decision-only gives the decision alone", "--evidence");
           Calibration c = OodCalibration.load(reader);
           if (score != null) OodCalibration.scorer(reader, c, OodScorer.Kind.parse(score));
           QueryCodes q = query.load(reader);
@@ -328,7 +330,7 @@ final class OodCommand implements Callable<Integer> {
     Path trainFloats;
 
     @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",
-        description = "Hamming candidates the refined score re-ranks by float distance (with --train-floats whose rows are the index ids). Default: ${DEFAULT-VALUE}.")
+        description = "Hamming candidates the refined score re-ranks by float distance (with --train-floats whose rows are the index ids and a code calibration). Default: ${DEFAULT-VALUE}.")
     int candidates;
 
     @Option(names = "--score", paramLabel = "S",
@@ -361,7 +363,8 @@ final class OodCommand implements Callable<Integer> {
         Kind k = kind != null ? kind : hasModel ? Kind.inputs : Kind.activations;
         try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "evaluating")) {
           if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
-          r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats, candidates,
+          r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats,
+              GivenOptions.given(spec, "--candidates") ? candidates : 0,
               score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
         }
       }

@@ -30,7 +30,7 @@ public final class QuerySourceOptions {
   Path inputs;
 
   @Option(names = "--header", paramLabel = "yes|no|auto", defaultValue = "auto",
-      description = "Whether the first line of a CSV query file is a header. auto (default): a header when every cell is text or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both, or of three or more evenly spaced numbers (1..d, 400,410,420: numbered column names), is refused.")
+      description = "Whether the first line of a CSV query file (--activations, --inputs) is a header; refused with other files. auto (default): a header when every cell is text or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both, or of three or more evenly spaced numbers (1..d, 400,410,420: numbered column names), is refused.")
   String header;
 
   @Option(names = "--rows", paramLabel = "A:B",
@@ -42,6 +42,7 @@ public final class QuerySourceOptions {
     if (given != 1)
       throw new ParameterException(mixee.commandLine(),
           "give exactly one query source: --activations FILE, --codes FILE or --inputs FILE");
+    GivenOptions.refuseUnlessCsv(mixee, "--header", activations != null ? activations : codes != null ? codes : inputs);
   }
 
   /** The query source, after {@link #check}. */

@@ -70,7 +70,7 @@ public final class ClusterDupes {
       if (tables < 0) throw new BadInputException("--tables must be at least 0 (0 = chosen), got " + tables);
       if (blockSize < 2) throw new BadInputException("--block-size must be at least 2, got " + blockSize);
       if (partitions < 0) throw new BadInputException("--partitions must be at least 0 (0 = chosen), got " + partitions);
-      if (columns == null) columns = new CodeInput.Columns("key", "code", null, null);
+      if (columns == null) columns = new CodeInput.Columns(null, null, null, null);
     }
   }
 

@@ -36,8 +36,15 @@ import org.apache.spark.storage.StorageLevel;
  * gets an internal id: its row number for shards, a unique long for Parquet.
  */
 abstract sealed class CodeInput {
-  /** The columns the caller names; null for the defaults / none. */
-  record Columns(String key, String code, String label, String split) {}
+  /**
+   * The Parquet columns the caller names; null for the defaults ({@code key}, {@code code}) / none
+   * (label, split). Shards have no columns, so any name given with them is refused.
+   */
+  record Columns(String key, String code, String label, String split) {
+    Columns withDefaults() {
+      return new Columns(key != null ? key : "key", code != null ? code : "code", label, split);
+    }
+  }
 
   abstract CodeLayout layout();
 
@@ -76,6 +83,9 @@ abstract sealed class CodeInput {
     if (!shards.isEmpty()) {
       if (cols.label() != null || cols.split() != null)
         throw new BadInputException(input + ": --label-column and --split-column need Parquet input (.npy shards carry codes only)");
+      if (cols.key() != null || cols.code() != null)
+        throw new BadInputException(input + ": --key-column and --code-column name Parquet columns; the key of a .npy shard row is its"
+            + " row number");
       return NpyShards.check(shards, layout);
     }
     if (local != null && !Files.exists(local)) throw new BadInputException(input + ": no such file or folder");
@@ -233,7 +243,8 @@ abstract sealed class CodeInput {
     }
 
     /** Reads the schema (no pass over the rows) and checks every named column. */
-    static ParquetCodes check(SparkSession spark, String input, CodeLayout layout, Columns cols) {
+    static ParquetCodes check(SparkSession spark, String input, CodeLayout layout, Columns named) {
+      Columns cols = named.withDefaults();
       Dataset<Row> df;
       try {
         df = spark.read().parquet(input);

@@ -39,10 +39,10 @@ final class DupesCommand implements Callable<Integer> {
       description = "Spark master, e.g. local[2]; default: what spark-submit set, else local[*].")
   String master;
 
-  @Option(names = "--key-column", defaultValue = "key", paramLabel = "NAME", description = "Parquet key column (unique). Default: ${DEFAULT-VALUE}.")
+  @Option(names = "--key-column", paramLabel = "NAME", description = "Parquet key column (unique). Default: key.")
   String keyColumn;
 
-  @Option(names = "--code-column", defaultValue = "code", paramLabel = "NAME", description = "Parquet binary code column. Default: ${DEFAULT-VALUE}.")
+  @Option(names = "--code-column", paramLabel = "NAME", description = "Parquet binary code column. Default: code.")
   String codeColumn;
 
   @Option(names = "--label-column", paramLabel = "NAME", description = "Parquet label column: groups whose labels differ are flagged.")

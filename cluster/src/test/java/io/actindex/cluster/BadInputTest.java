@@ -103,6 +103,24 @@ class BadInputTest {
     assertThat(tmp.resolve("o")).doesNotExist();
   }
 
+  /** Shards have no columns: a Parquet column option given with them was ignored for the key and code columns. */
+  @Test
+  void parquetColumnOptionsWithShards() throws Exception {
+    Path dir = shard("a.npy", 64, CodeFiles.Form.BOOL);
+    String[][] cases = {
+      {"--key-column", "id", "--key-column and --code-column"},
+      {"--code-column", "bits", "--key-column and --code-column"},
+      {"--label-column", "label", "--label-column and --split-column"},
+      {"--split-column", "split", "--label-column and --split-column"},
+    };
+    for (String[] c : cases) {
+      assertRefused(run("dupes", "--input", dir.toString(), "--radius", "1", c[0], c[1], "--out", tmp.resolve("o").toString()),
+          dir.toString(), c[2]);
+      assertThat(tmp.resolve("o")).doesNotExist();
+    }
+    assertThat(jobs.get()).isZero();
+  }
+
   @Test
   void radiusOutOfRange() throws Exception {
     Path dir = shard("a.npy", 64, CodeFiles.Form.PACKED);

@@ -32,8 +32,9 @@ public final class OodEval {
   /**
    * The in and out inputs; float activations of in, out and the training rows (all three or none);
    * {@code candidates}: Hamming candidates the training-floats refined score re-ranks (0 = {@link
-   * #REFINE_CANDIDATES}); {@code score}: the score asked for (null = the calibration's; a different
-   * one is refused). With a refined calibration, {@code refined} is the score from the index's kept
+   * #REFINE_CANDIDATES}; another count without the training floats or with a refined calibration is
+   * refused); {@code score}: the score asked for (null = the calibration's; a different one is
+   * refused). With a refined calibration, {@code refined} is the score from the index's kept
    * magnitudes (the calibration's candidates), and the training floats feed only the float score.
    * {@code threads >= 1}: inputs searched and scored in parallel (the same result for any count).
    */
@@ -53,6 +54,8 @@ public final class OodEval {
       int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
       if (floats != 0 && floats != 3)
         throw new BadInputException("the float score needs --in-floats, --out-floats and --train-floats together");
+      if (candidates != 0 && trainFloats == null)
+        throw new BadInputException("--candidates is for the refined score from --train-floats; without the float files there is none");
     }
   }
 
@@ -85,6 +88,9 @@ public final class OodEval {
   public static Result run(IndexReader reader, Params p, Progress progress) {
     Calibration cal = OodCalibration.load(reader);
     OodScorer scorer = OodCalibration.scorer(reader, cal, p.score());
+    if (p.candidates() != 0 && scorer.kind() == OodScorer.Kind.REFINED)
+      throw new BadInputException("--candidates is for the refined score from --train-floats with a code calibration; this refined"
+          + " calibration re-ranks its own " + OodCalibration.scoring(reader).candidates() + " candidates (set at ood calibrate)");
     QuerySource.Queries inQ = scorer.load(p.in(), RowRange.ALL), outQ = scorer.load(p.out(), RowRange.ALL);
     QueryCodes in = inQ.codes(), out = outQ.codes();
     if (in.size() == 0) throw new BadInputException(p.in().file() + ": no rows; ood eval needs rows in both --in and --out");
