@@ -53,13 +53,15 @@ final class MihSearcher implements CodeSearcher {
   /**
    * After the masked scan's head, the partition is not tried when its estimate under a guess of the
    * final k-th distance exceeds this multiple of what it must fit under ({@link #partitionHopeless}).
-   * Logged over 100k codes (dense and skewed, 64-512 bits, either layer, in and out of
-   * distribution, k = 1, 10 and 100: about 9,800 masked queries on each of two seeds, one of them
-   * never used for tuning), 2 skipped about 26% of the tries the scan then answered anyway and none
-   * (one of 6,707 on the held-out seed) of those the partition won; 1.5 skipped more and lost 24-29
-   * (docs/benchmarks.md, "Stop 25").
+   * First 2, chosen from a log of about 9,800 masked queries per seed (100k codes, dense and
+   * skewed, 64-512 bits, either layer, in and out of distribution, k = 1, 10 and 100; docs/benchmarks.md,
+   * "Stop 25"). Since masked windows may be read in one pass ({@link Partition#estimate}) the
+   * estimates are lower and tighter, and the queries in the band between 1 and 2 times the limit
+   * were all tried in vain: 1.25 brought every k = 100 set at 64-256 bits, on the tuned and the
+   * held-out seed, within 1.04x of the masked scan (2: up to 1.13x) while the partition answered
+   * 0-8 fewer queries per set of 256 ("Stop 26").
    */
-  private static final double HOPELESS = 2;
+  private static final double HOPELESS = 1.25;
 
   /**
    * Share of a selective filter's walk that the partition's first clusters may cost, and share of
@@ -237,7 +239,7 @@ final class MihSearcher implements CodeSearcher {
         }
         double limit = (mask == null ? PROVEN : MASKED_PROVEN) * scanCost;
         double restCost = from == partition.clusters() ? 0
-            : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), auto ? limit : Double.POSITIVE_INFINITY);
+            : partition.estimate(s.visit, from, bound, cost, auto ? limit : Double.POSITIVE_INFINITY);
         double tablesCost = tablesCost(s, active, bound, plan.constantDistance(query, mask));
         if (!auto || restCost <= limit && restCost <= tablesCost) {
           s.path = PATH_PARTITION;
@@ -282,7 +284,7 @@ final class MihSearcher implements CodeSearcher {
       int bound = top.size() == k ? Math.min(maxDist, top.bound()) : maxDist;
       double limit = SELECTIVE_MARGIN * walkCost;
       double rest = from == partition.clusters() ? 0
-          : partition.estimate(s.visit, from, bound, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), limit);
+          : partition.estimate(s.visit, from, bound, cost, limit);
       if (rest > limit) { // the walk, skipping members the centres' distances rule out
         s.path = PATH_SCAN;
         TopK walked = new TopK(k); // the k members found are within the bound, and are walked again
@@ -366,7 +368,7 @@ final class MihSearcher implements CodeSearcher {
     int j = (int) Math.ceil(expected), guess = 0;
     while (head.top.countWithin(guess) < j) guess++;
     double limit = HOPELESS * MASKED_PROVEN * scanCost;
-    return partition.estimate(v, 0, guess, cost.partitionCode(), cost.scanPerCode() + cost.scanPerWord(), limit) > limit;
+    return partition.estimate(v, 0, guess, cost, limit) > limit;
   }
 
   /**

@@ -32,8 +32,9 @@ import java.util.stream.IntStream;
  * for it: a masked query sorts the clusters by its masked distances to the centres and tests each
  * code against the radii over the layers the mask touches (built on first use per set of layers,
  * 2 bytes per code, kept for up to 8 sets). Those radii are not sorted inside a cluster, so the
- * window is cut by the full radius from below ({@code d_M(c,x) <= r(x)}) and each code in it is
- * tested before it is compared.
+ * window is cut by the full radius from below ({@code d_M(c,x) <= r(x)}) and then either each code
+ * in it is tested before it is compared, or, where most would pass (skewed codes), every code is
+ * compared in one pass of the scan's loops ({@link #estimate} picks per cluster).
  *
  * <p>Codes from a network's activations sit on a low-dimensional set (the input space), so most
  * clusters lie far from a query and drop out; uniform random codes have no such structure and the
@@ -382,6 +383,7 @@ final class Partition {
    */
   static final class Visit {
     int[] order = new int[0], dq = new int[0], lo = new int[0], hi = new int[0];
+    boolean[] whole = new boolean[0]; // a masked window read in one pass, without radius tests (see estimate)
     int[] byCluster = new int[0]; // the query's distance to each centre, by cluster
     int[] counts = new int[0];
     ScanKernel.Words sel;
@@ -396,6 +398,7 @@ final class Partition {
         dq = new int[clusters];
         lo = new int[clusters];
         hi = new int[clusters];
+        whole = new boolean[clusters];
         byCluster = new int[clusters];
       }
       if (counts.length < bits + 2) counts = new int[bits + 2];
@@ -473,17 +476,22 @@ final class Partition {
 
   /**
    * Estimated cost, in the planner's units, of the rest of the query ({@link #finish}) given the
-   * current k-th distance {@code bound}; also fixes each remaining cluster's window for it. A window
-   * of the stored radii is compared in full ({@code perCode} each); a masked window costs a radius
-   * test per code ({@code perTest}) and a comparison for the share that passes it, estimated from
-   * every {@value #SAMPLE_STRIDE}th code (a longer stride when the windows hold more than {@value
-   * #MAX_SAMPLES} such samples). Stops as soon as the estimate exceeds {@code limit} (the
-   * windows are then not all fixed, and the caller must not {@link #finish}).
+   * current k-th distance {@code bound}; also fixes each remaining cluster's window for it, and how
+   * {@link #finish} reads it. A window of the stored radii is compared in full ({@code
+   * partitionCode} each). A masked window is read one of two ways, whichever is estimated cheaper:
+   * a radius test per code and a comparison of the share that passes it (that share estimated from
+   * every {@value #SAMPLE_STRIDE}th code, a longer stride when the windows hold more than {@value
+   * #MAX_SAMPLES} such samples), or every code compared in one pass of the scan's loops over the
+   * mask's words (skewed codes: most of a window passes the test, and the pass costs less than the
+   * tests, the gathering and the comparisons one by one). Stops as soon as the estimate exceeds
+   * {@code limit} (the windows are then not all fixed, and the caller must not {@link #finish}).
    */
-  double estimate(Visit v, int from, int bound, double perCode, double perTest, double limit) {
+  double estimate(Visit v, int from, int bound, PlannerCosts cost, double limit) {
     bound = Math.min(bound, Character.MAX_VALUE); // no distance exceeds it: keeps dq + bound from overflowing
     boolean full = v.radii == stored;
-    double total = 0;
+    double perCode = cost.partitionCode(), perTest = cost.scanPerCode() + cost.scanPerWord();
+    double perPass = perCode * cost.scan(1, v.sel.at().length) / cost.scan(1, 4); // a window code of 4 words costs perCode
+    double least = Math.min(perTest, perPass), total = 0;
     long windowed = 0;
     for (int p = from; p < clusters() && total <= limit; p++) {
       int c = v.order[p], dq = v.dq[p];
@@ -497,7 +505,7 @@ final class Partition {
       v.lo[p] = lo;
       v.hi[p] = hi;
       windowed += hi - lo;
-      total += (hi - lo) * (full ? perCode : perTest);
+      total += (hi - lo) * (full ? perCode : least);
     }
     if (full) return total;
     char[] rad = v.radii.radius;
@@ -505,7 +513,9 @@ final class Partition {
     for (int p = from; p < clusters() && total <= limit; p++) {
       int passed = 0, sampled = 0, dq = v.dq[p], lo = v.lo[p], hi = v.hi[p];
       for (int i = lo; i < hi; i += stride, sampled++) if (passes(rad[i], dq, bound, v.exact)) passed++;
-      if (sampled > 0) total += perCode * passed * (hi - lo) / sampled;
+      double tested = sampled == 0 ? 0 : (hi - lo) * (perTest + perCode * passed / sampled), whole = (hi - lo) * perPass;
+      v.whole[p] = whole <= tested;
+      total += Math.min(tested, whole) - (hi - lo) * least;
     }
     return total;
   }
@@ -586,8 +596,8 @@ final class Partition {
       if (dq - v.radii.maxRadius[c] > bound) continue;
       lo = Math.max(lo, atRadius(c, dq - bound));
       if (lo >= hi) continue;
-      if (full) {
-        if (v.exact) hi = Math.min(hi, atRadius(c, dq + bound + 1));
+      if (full || v.whole[p]) {
+        if (full && v.exact) hi = Math.min(hi, atRadius(c, dq + bound + 1));
         ScanKernel.knn(v.sel, codes, w, lo, hi, ords, accept, top, maxDist);
         continue;
       }
