@@ -210,6 +210,7 @@ final class OodCommand implements Callable<Integer> {
                 new OodScore.Params(evidence, score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
           }
           print(out, o);
+          query.noteIfEmpty(o.results().size());
         }
       }
       caution(out, spec.commandLine().getErr(), format.format);

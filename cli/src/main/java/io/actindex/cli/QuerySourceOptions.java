@@ -81,10 +81,15 @@ public final class QuerySourceOptions {
     return q;
   }
 
-  /** How the file was read, on stderr; and a note when it holds no rows (else the answer is silently empty). */
+  /** How the file was read, on stderr; and a note when it holds no rows. */
   private void printNotes(QueryCodes q) {
     for (String n : q.notes()) mixee.commandLine().getErr().println(n);
-    if (q.codes().size() == 0) mixee.commandLine().getErr().println("note: " + toSource().file() + " holds no rows; the answer is empty");
+    noteIfEmpty(q.codes().size());
+  }
+
+  /** A note on stderr when the query file held no rows (else the answer is silently empty). */
+  void noteIfEmpty(int rows) {
+    if (rows == 0) mixee.commandLine().getErr().println("note: " + toSource().file() + " holds no rows; the answer is empty");
     mixee.commandLine().getErr().flush();
   }
 }

@@ -123,12 +123,15 @@ class EmptyIndexEndToEndTest {
     Path acts = Files2.floats(tmp.resolve("acts.npy"), SourcesEndToEndTest.activations(40, 8, rnd));
     ok(Cli.run("build", "--out", idx.toString(), "--activations", acts.toString()));
     Path none = Files2.rawNpy(tmp.resolve("none.npy"), Files2.NPY_MAGIC, "{'descr': '<f4', 'fortran_order': False, 'shape': (0, 8), }", new byte[0]);
+    Path cal = Files2.floats(tmp.resolve("cal.npy"), SourcesEndToEndTest.activations(30, 8, rnd));
+    ok(Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", cal.toString()));
     for (String[] args : new String[][] {{"nearest", "--index", idx.toString(), "--activations", none.toString()},
         {"region", "--index", idx.toString(), "--activations", none.toString()},
-        {"nearest", "--index", idx.toString(), "--activations", none.toString(), "--format", "json"}}) {
+        {"nearest", "--index", idx.toString(), "--activations", none.toString(), "--format", "json"},
+        {"ood", "score", "--index", idx.toString(), "--activations", none.toString()}}) {
       Cli.Result r = Cli.run(args);
       assertThat(r.code()).as(r.describe()).isZero();
-      assertThat(r.err()).as(r.describe()).contains("note: ").contains(args[4]).contains("no rows").contains("the answer is empty");
+      assertThat(r.err()).as(r.describe()).contains("note: " + none + " holds no rows; the answer is empty");
     }
     Cli.Result some = Cli.run("nearest", "--index", idx.toString(), "--activations", acts.toString(), "--rows", "0:2");
     assertThat(some.err()).as(some.describe()).doesNotContain("no rows");

@@ -134,6 +134,11 @@ class InputReadersEndToEndTest {
         "--layer-order", "input,hidden,output");
     assertThat(table.code()).as(table.describe()).isZero();
     assertThat(table.err()).contains("code layers input, hidden").contains("output layer output (not encoded)");
+    // with --layers the line names the layers kept as well as every hidden one
+    Cli.Result one = Cli.run("build", "--out", tmp.resolve("idx3").toString(), "--model", m.toString(), "--inputs", in.toString(),
+        "--layer-order", "input,hidden,output", "--layers", "hidden");
+    assertThat(one.code()).as(one.describe()).isZero();
+    assertThat(one.err()).contains("hidden layers input, hidden, kept as code layers hidden").doesNotContain("code layers input, hidden");
   }
 
   @Test

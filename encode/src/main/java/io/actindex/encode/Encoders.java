@@ -131,7 +131,7 @@ public final class Encoders {
     Mlp.Loaded loaded = Mlp.load(r, o.layerOrder(), o.outputLayer(), width);
     Mlp mlp = loaded.mlp();
     EncodeOptions used = o.withModel(mlp.layers().stream().map(Mlp.Layer::name).toList(), o.outputLayer());
-    String note = modelNote(r.file(), loaded);
+    String note = modelNote(r.file(), loaded, o.layers());
     return new ActivationCodeStream(() -> {
       MatrixReader in = openMatrix(inputs, header);
       try {
@@ -143,8 +143,11 @@ public final class Encoders {
     }, used);
   }
 
-  /** One line: the layer order and where it came from, the code layers and the output layer. */
-  static String modelNote(String file, Mlp.Loaded m) {
+  /**
+   * One line: the layer order and where it came from, the code layers (those kept, when {@code
+   * kept} names some) and the output layer.
+   */
+  static String modelNote(String file, Mlp.Loaded m, List<String> kept) {
     List<String> order = m.mlp().layers().stream().map(Mlp.Layer::name).toList();
     String from = switch (m.orderFrom()) {
       case OPTION -> "as given";
@@ -152,7 +155,10 @@ public final class Encoders {
       case SHAPES -> "from the weight shapes, the only order that chains";
     };
     String out = m.mlp().outputLayer();
-    return file + ": layer order " + String.join(", ", order) + " (" + from + "); code layers " + String.join(", ", m.mlp().hiddenNames())
+    List<String> hidden = m.mlp().hiddenNames();
+    String codes = kept == null || kept.equals(hidden) ? "code layers " + String.join(", ", hidden)
+        : "hidden layers " + String.join(", ", hidden) + ", kept as code layers " + String.join(", ", kept);
+    return file + ": layer order " + String.join(", ", order) + " (" + from + "); " + codes
         + (out == null ? "; no output layer (every layer is a code layer)" : "; output layer " + out + " (not encoded)");
   }
 
