@@ -129,7 +129,22 @@ public final class Layers {
     if (containsAll(got, target)) return project(codes, target);
     throw new BadInputException(file + ": the codes have layout " + got + " (" + got.bits() + " bits); the index expects "
         + target + " (" + target.bits() + " bits)"
-        + (source != null && !source.equals(target) ? " or its source layout " + source : ""));
+        + (source != null && !source.equals(target) ? " or its source layout " + source : "") + renamedHint(got, target));
+  }
+
+  /**
+   * When the layers have the index's widths in its order under other names (activations hooked on
+   * a network's ReLU modules are named after those, not after the linear layers the index names),
+   * a hint to save them under the index's names; they are not matched by position silently, since
+   * equal widths do not make the same layers.
+   */
+  private static String renamedHint(CodeLayout got, CodeLayout target) {
+    List<CodeLayout.Segment> g = got.segments(), t = target.segments();
+    if (g.size() != t.size() || g.size() < 2) return "";
+    for (int i = 0; i < g.size(); i++) if (g.get(i).bits() != t.get(i).bits()) return "";
+    List<String> names = t.stream().map(CodeLayout.Segment::name).toList();
+    return ". The layers have the index's widths in its order under other names (activations hooked on the ReLU modules"
+        + " rather than the linear layers, say): if they are the same layers, save them under the names " + String.join(", ", names);
   }
 
   /**

@@ -46,8 +46,13 @@ class LayersTest {
         .hasMessageContaining("q.npy").hasMessageContaining("119 bits").hasMessageContaining("a:50,c:70 (120 bits)");
     CodeBlock swapped = Layers.relabel(SyntheticCodes.uniform(3, 120, 7), CodeLayout.parse("c:70,a:50"));
     assertEquals(INDEX, Layers.align(swapped, INDEX, SOURCE, "q.npz").layout()); // found by name
+    // the index's widths in its order under other names: refused, with a hint to rename (not matched by position)
     CodeBlock other = Layers.relabel(SyntheticCodes.uniform(3, 120, 7), CodeLayout.parse("x:50,y:70"));
-    assertThatThrownBy(() -> Layers.align(other, INDEX, SOURCE, "q.npz")).isInstanceOf(BadInputException.class);
+    assertThatThrownBy(() -> Layers.align(other, INDEX, SOURCE, "q.npz")).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("save them under the names a, c");
+    CodeBlock otherWidths = Layers.relabel(SyntheticCodes.uniform(3, 120, 7), CodeLayout.parse("x:60,y:60"));
+    assertThatThrownBy(() -> Layers.align(otherWidths, INDEX, SOURCE, "q.npz")).isInstanceOf(BadInputException.class)
+        .hasMessageNotContaining("save them under");
   }
 
   @Test
