@@ -240,7 +240,7 @@ final class DupesCommand implements Callable<Integer> {
     boolean flagged = crossSplit || conflictingLabels;
     out.printf(Locale.ROOT, "%,d examples joined within radius %d (%d bits): %,d pairs, %,d groups%n", s.examples(), s.radius(),
         s.bits(), s.pairs(), s.groups());
-    TextTable t = new TextTable(List.of("", ""));
+    TextTable t = new TextTable(List.of("summary", "value"));
     t.row(List.of("pairs", num(s.pairs())));
     t.row(List.of("exact duplicate pairs", num(s.exactDuplicatePairs())));
     t.row(List.of("examples sharing their code", num(s.duplicatedExamples())));
