@@ -178,7 +178,7 @@ final class OodCommand implements Callable<Integer> {
     @Mixin IndexOption index;
     @Mixin QuerySourceOptions query;
 
-    @Option(names = "--evidence", paramLabel = "N", defaultValue = "3", description = "Nearest training examples to name per input (at most k; not with --decision-only). Default: ${DEFAULT-VALUE}.")
+    @Option(names = "--evidence", paramLabel = "N", defaultValue = "3", description = "Nearest training examples to name per input (at most the calibration's k: the default is cut to k, a larger N typed is refused; not with --decision-only). Default: ${DEFAULT-VALUE}.")
     int evidence;
 
     @Option(names = "--decision-only", description = "Only the decision (code-score calibrations only): stops as soon as k training examples lie within the threshold.")
@@ -204,6 +204,7 @@ final class OodCommand implements Callable<Integer> {
           QueryCodes q = query.load(reader);
           decisions(out, c, q, OodScore.decide(reader, q, threads.resolved()));
         } else {
+          refuseEvidenceAboveK(OodCalibration.load(reader).k());
           OodScore.Output o;
           try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "scoring")) {
             o = OodScore.run(reader, query.toSource(), query.range(),
@@ -216,6 +217,14 @@ final class OodCommand implements Callable<Integer> {
       caution(out, spec.commandLine().getErr(), format.format);
       out.flush();
       return ExitCodes.OK;
+    }
+
+    /** The score finds the k nearest examples only, so a typed {@code --evidence} above k is refused (the default is cut to k). */
+    private void refuseEvidenceAboveK(int k) {
+      if (GivenOptions.given(spec, "--evidence") && evidence > k)
+        throw new ParameterException(spec.commandLine(), "--evidence " + evidence + " is more than the stored calibration's -k " + k
+            + " (set by ood calibrate -k): the score finds the k nearest training examples only; give --evidence " + k
+            + " or less, or calibrate again with a larger -k");
     }
 
     private void decisions(PrintWriter out, Calibration c, QueryCodes q, boolean[] isOut) {

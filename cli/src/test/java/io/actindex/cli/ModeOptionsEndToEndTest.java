@@ -90,6 +90,7 @@ class ModeOptionsEndToEndTest {
         new Case("--candidates", 1, "ood", "calibrate", "--index", i, "--activations", calActs.toString(), "--score", "code",
             "--candidates", "50"),
         new Case("--evidence", 1, "ood", "score", "--index", ci, "--codes", queryCodes.toString(), "--decision-only", "--evidence", "2"),
+        new Case("--evidence", 1, "ood", "score", "--index", ci, "--codes", queryCodes.toString(), "--evidence", "2"), // above the calibration's k = 1
         new Case("--candidates", 1, "ood", "eval", "--index", ci, "--in", calCodes.toString(), "--out", farCodes.toString(), "--kind", "codes",
             "--roc", tmp.resolve("roc.csv").toString(), "--candidates", "50"),
         new Case("--candidates", 1, "ood", "eval", "--index", i, "--in", calActs.toString(), "--out", farActs.toString(), "--kind",
@@ -129,5 +130,11 @@ class ModeOptionsEndToEndTest {
     Cli.Result evalNoFloats = Cli.run("ood", "eval", "--index", codesIdx.toString(), "--in", calCodes.toString(), "--out", farCodes.toString(),
         "--kind", "codes", "--candidates", "50");
     assertThat(evalNoFloats.err()).contains("--candidates").contains("--train-floats");
+    Cli.Result evidence = Cli.run("ood", "score", "--index", codesIdx.toString(), "--codes", queryCodes.toString(), "--evidence", "2");
+    assertThat(evidence.err()).contains("--evidence 2").contains("-k 1").contains("ood calibrate");
+    Cli.Result evidenceAtK = Cli.run("ood", "score", "--index", codesIdx.toString(), "--codes", queryCodes.toString(), "--evidence", "1",
+        "--format", "json");
+    assertThat(evidenceAtK.code()).as(evidenceAtK.describe()).isZero();
+    assertThat(evidenceAtK.out()).contains("\"evidence\":[{");
   }
 }
