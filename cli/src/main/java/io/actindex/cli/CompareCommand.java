@@ -145,6 +145,7 @@ final class CompareCommand implements Callable<Integer> {
     try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "reading samples")) {
       r = Compare.run(p, bar);
     }
+    noteUnusedW2Options(r);
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
       case json -> json(out, r);
@@ -153,6 +154,27 @@ final class CompareCommand implements Callable<Integer> {
     }
     out.flush();
     return ExitCodes.OK;
+  }
+
+  /**
+   * Which W2 method runs depends on the samples' sizes, known only once they are read, so W2 options
+   * typed for the other method are not refused (the same command line may take the other method on
+   * the next batch) but named in one stderr line.
+   */
+  private void noteUnusedW2Options(Compare.Result r) {
+    Wasserstein.Result w = r.w2();
+    PrintWriter err = spec.commandLine().getErr();
+    if (w.method() == Wasserstein.Method.EXACT) {
+      List<String> unused = new ArrayList<>();
+      for (String o : List.of("--sinkhorn-rows", "--reg", "--max-iter", "--tol")) if (GivenOptions.given(spec, o)) unused.add(o);
+      if (!unused.isEmpty())
+        err.println("note: " + String.join(", ", unused) + " not used: W2 is exact here (both samples have " + w.rowsA()
+            + " rows, at most --exact-max " + exactMax + "); they apply to Sinkhorn only");
+    } else if (GivenOptions.given(spec, "--exact-max") && r.rowsA() != r.rowsB()) {
+      err.println("note: --exact-max not used: the exact W2 needs samples of equal sizes, and A has " + r.rowsA() + " rows, B "
+          + r.rowsB() + "; W2 is Sinkhorn");
+    }
+    err.flush();
   }
 
   private Compare.Sample sample(Path file, String where) {

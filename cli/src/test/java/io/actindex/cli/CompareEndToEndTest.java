@@ -111,6 +111,39 @@ class CompareEndToEndTest {
     }
   }
 
+  /**
+   * Which W2 method runs depends on the sample sizes, so options of the other method are noted on
+   * stderr (one line naming them), not refused and not ignored in silence; the answer is the same.
+   */
+  @Test
+  void w2OptionsOfTheMethodNotRunAreNoted() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(402));
+    Path fa = Files2.bits(tmp.resolve("a.npy"), codes(r, 6, 20, 0)), fb = Files2.bits(tmp.resolve("b.npy"), codes(r, 6, 20, 0.4));
+    Path fc = Files2.bits(tmp.resolve("c.npy"), codes(r, 9, 20, 0.4));
+    String[] equal = {"compare", "--a", fa.toString(), "--b", fb.toString(), "--kind", "codes", "--permutations", "20", "--format", "json"};
+    Cli.Result plain = Cli.run(equal);
+    assertThat(plain.code()).as(plain.describe()).isZero();
+    assertThat(plain.err()).as(plain.describe()).isEmpty();
+    Cli.Result sinkhornOptions = Cli.run(concat(equal, "--reg", "0.2", "--tol", "1e-4"));
+    assertThat(sinkhornOptions.code()).as(sinkhornOptions.describe()).isZero();
+    assertThat(sinkhornOptions.err().strip().lines().toList()).as(sinkhornOptions.describe())
+        .containsExactly("note: --reg, --tol not used: W2 is exact here (both samples have 6 rows, at most --exact-max 3000); they apply to Sinkhorn only");
+    assertThat(sinkhornOptions.out()).isEqualTo(plain.out());
+    String[] unequal = {"compare", "--a", fa.toString(), "--b", fc.toString(), "--kind", "codes", "--permutations", "20", "--format", "json"};
+    Cli.Result exactMax = Cli.run(concat(unequal, "--exact-max", "10", "--reg", "0.2"));
+    assertThat(exactMax.code()).as(exactMax.describe()).isZero();
+    assertThat(exactMax.err().strip().lines().toList()).as(exactMax.describe())
+        .containsExactly("note: --exact-max not used: the exact W2 needs samples of equal sizes, and A has 6 rows, B 9; W2 is Sinkhorn");
+    Cli.Result sinkhorn = Cli.run(concat(unequal, "--reg", "0.2"));
+    assertThat(sinkhorn.err()).as(sinkhorn.describe()).isEmpty();
+  }
+
+  private static String[] concat(String[] a, String... b) {
+    List<String> all = new ArrayList<>(List.of(a));
+    all.addAll(List.of(b));
+    return all.toArray(new String[0]);
+  }
+
   /** NumPy's np.median of a column. */
   static double median(float[][] rows, int col) {
     double[] v = new double[rows.length];
