@@ -65,7 +65,7 @@ final class CalibratePlannerCommand implements Callable<Integer> {
       }
       case csv -> {
         CsvWriter csv = new CsvWriter(o, List.of("name", "ns", "spread"));
-        for (PlannerCalibration.Cost c : r.costs()) csv.row(List.of(c.name(), num(c.ns()), num(c.spread())));
+        for (PlannerCalibration.Cost c : r.costs()) csv.row(List.of(c.name(), CsvWriter.number(c.ns()), CsvWriter.number(c.spread())));
       }
       case table -> {
         TextTable t = new TextTable(List.of("cost", "ns", "largest / smallest run"));

@@ -112,7 +112,7 @@ final class CensusCommand implements Callable<Integer> {
       for (int u = 0; u < n.firingRates().length; u++) {
         String name = n.layer() + ":" + u;
         String state = n.dead().contains(name) ? "dead" : n.alwaysOn().contains(name) ? "always-on" : "";
-        csv.row(List.of(n.layer(), Integer.toString(u), Double.toString(n.firingRates()[u]), state));
+        csv.row(List.of(n.layer(), Integer.toString(u), CsvWriter.number(n.firingRates()[u]), state));
       }
   }
 

@@ -259,7 +259,7 @@ final class CompareCommand implements Callable<Integer> {
   }
 
   private static String num(double x) {
-    return Double.toString(x);
+    return CsvWriter.number(x);
   }
 
   private static String mmdDetail(Compare.Mmd m) {

@@ -165,35 +165,36 @@ final class FidelityCommand implements Callable<Integer> {
   /** One line per measure: {@code measure,value}. */
   private static void csv(PrintWriter out, Fidelity.Result r) {
     CsvWriter csv = new CsvWriter(out, List.of("measure", "value"));
-    for (String[] row : rows(r)) csv.row(List.of(row[0], row[1]));
+    for (String[] row : rows(r, CsvWriter::number)) csv.row(List.of(row[0], row[1]));
   }
 
   private static void table(PrintWriter out, Fidelity.Result r) {
     out.println("fidelity of codes to " + r.floatSource());
     TextTable t = new TextTable(List.of("measure", "value"));
-    for (String[] row : rows(r)) t.row(List.of(row[0].replace('_', ' '), row[1]));
+    for (String[] row : rows(r, FidelityCommand::num)) t.row(List.of(row[0].replace('_', ' '), row[1]));
     t.print(out, "  ");
     out.println();
     out.println(r.verdict());
   }
 
-  private static List<String[]> rows(Fidelity.Result r) {
+  /** The measures as (name, text) rows, fractional numbers written by {@code fmt} (4 decimals in the table, full in CSV). */
+  private static List<String[]> rows(Fidelity.Result r, java.util.function.DoubleFunction<String> fmt) {
     List<String[]> rows = new ArrayList<>();
     rows.add(new String[] {"examples", Integer.toString(r.examples())});
     rows.add(new String[] {"queries", Integer.toString(r.queries())});
     rows.add(new String[] {"k", Integer.toString(r.k())});
-    rows.add(new String[] {"knn_overlap", num(r.overlap())});
-    rows.add(new String[] {"spearman", num(r.spearman())});
+    rows.add(new String[] {"knn_overlap", fmt.apply(r.overlap())});
+    rows.add(new String[] {"spearman", fmt.apply(r.spearman())});
     rows.add(new String[] {"pairs", Integer.toString(r.pairs())});
-    rows.add(new String[] {"tied_share", num(r.tiedShare())});
-    rows.add(new String[] {"mean_kth_distance", num(r.meanKthDistance())});
+    rows.add(new String[] {"tied_share", fmt.apply(r.tiedShare())});
+    rows.add(new String[] {"mean_kth_distance", fmt.apply(r.meanKthDistance())});
     Fidelity.Accuracy a = r.accuracy();
     if (a != null) {
       rows.add(new String[] {"labeled_queries", Integer.toString(a.labeled())});
-      rows.add(new String[] {"accuracy_hamming", num(a.hamming())});
-      rows.add(new String[] {"accuracy_refined", a.refined() == null ? "" : num(a.refined())});
-      rows.add(new String[] {"accuracy_cosine", num(a.cosine())});
-      rows.add(new String[] {"accuracy_euclidean_inputs", a.euclideanInputs() == null ? "" : num(a.euclideanInputs())});
+      rows.add(new String[] {"accuracy_hamming", fmt.apply(a.hamming())});
+      rows.add(new String[] {"accuracy_refined", a.refined() == null ? "" : fmt.apply(a.refined())});
+      rows.add(new String[] {"accuracy_cosine", fmt.apply(a.cosine())});
+      rows.add(new String[] {"accuracy_euclidean_inputs", a.euclideanInputs() == null ? "" : fmt.apply(a.euclideanInputs())});
     }
     rows.add(new String[] {"candidates", Integer.toString(r.candidates())});
     rows.add(new String[] {"magnitude_bits", Integer.toString(r.magnitudeBits())});

@@ -216,7 +216,7 @@ final class NearestCommand implements Callable<Integer> {
       for (Nearest.Neighbor nb : r.neighbors()) {
         List<String> row = new ArrayList<>(List.of(Long.toString(r.row()), Integer.toString(rank), Integer.toString(nb.id()),
             nb.key(), Integer.toString(nb.distance())));
-        if (refined != null) row.add(refined(refined, q, rank - 1));
+        if (refined != null) row.add(CsvWriter.number(refined.get(q).neighbors().get(rank - 1).distance()));
         rank++;
         for (String l : layerNames) row.add(str(nb.layerDistances().get(l)));
         row.add(nb.label());
@@ -225,7 +225,7 @@ final class NearestCommand implements Callable<Integer> {
         Nearest.Vote v = r.vote();
         if (v == null) for (int c = 0; c < 8; c++) row.add(null);
         else
-          row.addAll(List.of(v.label(), Integer.toString(v.votes()), Integer.toString(v.labeled()), Double.toString(v.agreement()),
+          row.addAll(List.of(v.label(), Integer.toString(v.votes()), Integer.toString(v.labeled()), CsvWriter.number(v.agreement()),
               Integer.toString(v.neighbors()), Integer.toString(v.withinDistance()), Boolean.toString(v.tiesIncluded()),
               Integer.toString(v.tiesLeftOut())));
         csv.row(row);

@@ -150,8 +150,9 @@ final class OodCommand implements Callable<Integer> {
         }
         case csv -> {
           CsvWriter w = new CsvWriter(out, List.of("inputs", "k", "statistic", "layers", "tpr", "threshold", "min", "p50", "p90", "p95", "p99", "max", "mean"));
-          w.row(List.of(Integer.toString(r.inputs()), Integer.toString(c.k()), c.statistic().label, csvLayers(c.layers()), Double.toString(c.tpr()),
-              Double.toString(c.threshold()), num(r.min()), num(r.p50()), num(r.p90()), num(r.p95()), num(r.p99()), num(r.max()), num(r.mean())));
+          w.row(List.of(Integer.toString(r.inputs()), Integer.toString(c.k()), c.statistic().label, csvLayers(c.layers()), CsvWriter.number(c.tpr()),
+              CsvWriter.number(c.threshold()), CsvWriter.number(r.min()), CsvWriter.number(r.p50()), CsvWriter.number(r.p90()),
+              CsvWriter.number(r.p95()), CsvWriter.number(r.p99()), CsvWriter.number(r.max()), CsvWriter.number(r.mean())));
         }
         case table -> {
           out.println("calibrated " + index.dir + " on " + r.inputs() + " inputs: " + scoreLabel(r.scoring()) + ", k=" + c.k() + ", statistic " + c.statistic().label + ", layers "
@@ -275,9 +276,9 @@ final class OodCommand implements Callable<Integer> {
           CsvWriter w = new CsvWriter(out, List.of("query", "score", "kth", "mean", "own_region", "decision", "p_value", "max_softmax", "evidence",
               "score_name"));
           for (OodScore.Result r : o.results())
-            w.row(List.of(Long.toString(r.row()), Double.toString(r.score()), Integer.toString(r.kth()), Double.toString(r.mean()),
-                Boolean.toString(r.ownRegion()), r.out() ? "out" : "in", Double.toString(r.pValue()),
-                r.maxSoftmax() == null ? "" : Double.toString(r.maxSoftmax()), CsvWriter.list(evidence(r)), o.scoreName()));
+            w.row(List.of(Long.toString(r.row()), CsvWriter.number(r.score()), Integer.toString(r.kth()), CsvWriter.number(r.mean()),
+                Boolean.toString(r.ownRegion()), r.out() ? "out" : "in", CsvWriter.number(r.pValue()),
+                r.maxSoftmax() == null ? "" : CsvWriter.number(r.maxSoftmax()), CsvWriter.list(evidence(r)), o.scoreName()));
         }
         case table -> {
           String cands = o.scoring().kind() == OodScorer.Kind.REFINED ? ", among " + o.scoring().candidates() + " Hamming candidates" : "";
@@ -406,11 +407,11 @@ final class OodCommand implements Callable<Integer> {
         case csv -> {
           CsvWriter w = new CsvWriter(out, List.of("score", "k", "statistic", "layers", "auroc", "fpr_at_95_tpr", "aupr_in", "aupr_out"));
           for (OodEval.Scored s : scores)
-            w.row(List.of(s.name(), "", "", "", Double.toString(s.metrics().auroc()), Double.toString(s.metrics().fprAt95Tpr()),
-                Double.toString(s.metrics().auprIn()), Double.toString(s.metrics().auprOut())));
+            w.row(List.of(s.name(), "", "", "", CsvWriter.number(s.metrics().auroc()), CsvWriter.number(s.metrics().fprAt95Tpr()),
+                CsvWriter.number(s.metrics().auprIn()), CsvWriter.number(s.metrics().auprOut())));
           for (OodEval.Variant v : r.variants())
-            w.row(List.of("code", Integer.toString(v.k()), v.statistic().label, csvLayers(v.layers()), Double.toString(v.auroc()),
-                Double.toString(v.fprAt95Tpr()), "", ""));
+            w.row(List.of("code", Integer.toString(v.k()), v.statistic().label, csvLayers(v.layers()), CsvWriter.number(v.auroc()),
+                CsvWriter.number(v.fprAt95Tpr()), "", ""));
         }
         case table -> {
           out.println(r.code().metrics().nIn() + " in-distribution and " + r.code().metrics().nOut() + " out-of-distribution inputs");
@@ -452,8 +453,8 @@ final class OodCommand implements Callable<Integer> {
       CsvWriter w = new CsvWriter(p, List.of("score", "threshold", "false_alarm_rate", "detection_rate"));
       for (OodEval.Scored sc : scores)
         for (RocMetrics.Point pt : sc.metrics().roc())
-          w.row(List.of(sc.name(), Double.isInfinite(pt.threshold()) ? "inf" : Double.toString(pt.threshold()), Double.toString(pt.falseAlarmRate()),
-              Double.toString(pt.detectionRate())));
+          w.row(List.of(sc.name(), Double.isInfinite(pt.threshold()) ? "inf" : CsvWriter.number(pt.threshold()), CsvWriter.number(pt.falseAlarmRate()),
+              CsvWriter.number(pt.detectionRate())));
       p.flush();
       return s.toString();
     }

@@ -38,6 +38,10 @@ class OodEndToEndTest {
     return out;
   }
 
+  private static String[] csvHeader(Cli.Result csv) {
+    return csv.out().lines().findFirst().orElseThrow().split(",");
+  }
+
   static int kth(boolean[][] train, boolean[] q, int k) {
     int[] d = new int[train.length];
     for (int i = 0; i < train.length; i++) for (int j = 0; j < BITS; j++) if (train[i][j] != q[j]) d[i]++;
@@ -91,7 +95,14 @@ class OodEndToEndTest {
       List<String> want = new ArrayList<>();
       for (JsonNode ev : results.get(i).get("evidence")) want.add(ev.get("key").asText() + ":" + ev.get("distance").asInt());
       assertThat(CsvCells.items(csvRows.get(i)[8])).as("query " + i).hasSize(3).isEqualTo(want);
+      // numbers: the same text as in JSON (a whole number without ".0"), in every command's CSV
+      for (int col : new int[] {1, 2, 3, 6})
+        assertThat(csvRows.get(i)[col]).as("query " + i + " column " + col).isEqualTo(results.get(i).get(csvHeader(csv)[col]).toString());
     }
+    Cli.Result cc = Cli.run("ood", "calibrate", "--index", idx.toString(), "--codes", calF.toString(), "-k", "3", "--tpr", "0.9", "--format", "csv");
+    String[] calCsv = CsvCells.rows(cc.out()).getFirst();
+    assertThat(calCsv[5]).isEqualTo(cj.get("threshold").toString());
+    for (int col = 6; col < 13; col++) assertThat(calCsv[col]).as(csvHeader(cc)[col]).isEqualTo(cj.get("scores").get(csvHeader(cc)[col]).toString());
     assertThat(JSON.readTree(s.out()).get("score_name").asText()).isEqualTo("code k-th distance");
     assertThat(JSON.readTree(d.out()).get("score_name").asText()).isEqualTo("code k-th distance");
     assertThat(Cli.run("ood", "score", "--index", idx.toString(), "--codes", inF.toString(), "--rows", "0:1").out())

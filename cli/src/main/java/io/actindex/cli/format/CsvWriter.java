@@ -27,6 +27,11 @@ public final class CsvWriter {
     row(header);
   }
 
+  /** A number cell: the same text as in JSON ({@link JsonWriter#number}); NaN and infinities (null in JSON) an empty cell. */
+  public static String number(double v) {
+    return Double.isFinite(v) ? JsonWriter.number(v) : "";
+  }
+
   public void row(List<String> fields) {
     if (fields.size() != columns)
       throw new IllegalArgumentException("CSV row has " + fields.size() + " fields, the header " + columns);

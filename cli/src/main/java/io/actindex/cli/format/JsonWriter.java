@@ -75,13 +75,22 @@ public final class JsonWriter {
     return scalarDone();
   }
 
-  /** A finite double in the shortest form that reads back to the same value; NaN and infinities as null. */
+  /** A finite double as {@link #number}; NaN and infinities as null. */
   public JsonWriter value(double v) {
     if (!Double.isFinite(v)) return nullValue();
     beforeValue();
-    if (v == Math.rint(v) && Math.abs(v) < 1e15) raw(Long.toString((long) v));
-    else raw(Double.toString(v));
+    raw(number(v));
     return scalarDone();
+  }
+
+  /**
+   * The text of a finite double in JSON and in CSV cells ({@link CsvWriter#number}): the shortest
+   * form that reads back to the same value, a whole number below 1e15 without a fraction ({@code
+   * 27}, not {@code 27.0}).
+   */
+  public static String number(double v) {
+    if (v == Math.rint(v) && Math.abs(v) < 1e15) return Long.toString((long) v);
+    return Double.toString(v);
   }
 
   public JsonWriter value(boolean v) {

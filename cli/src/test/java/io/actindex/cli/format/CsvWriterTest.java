@@ -24,6 +24,20 @@ class CsvWriterTest {
   }
 
   @Test
+  void numbersAreWrittenAsInJson() {
+    // one rule for JSON and CSV: a whole number without ".0", else the shortest text that reads back the same (Double.toString)
+    for (double v : new double[] {27.0, -3.0, 0.0, 0.1, 2.3333333333333335, 1e-7, 1e15, 1.5e300, Double.MIN_VALUE}) {
+      String text = CsvWriter.number(v);
+      assertThat(text).as("%s", v).isEqualTo(JsonWriter.number(v));
+      assertThat(Double.parseDouble(text)).as(text).isEqualTo(v);
+    }
+    assertThat(CsvWriter.number(27.0)).isEqualTo("27");
+    assertThat(CsvWriter.number(-0.5)).isEqualTo("-0.5");
+    assertThat(CsvWriter.number(Double.NaN)).isEmpty(); // null in JSON
+    assertThat(CsvWriter.number(Double.POSITIVE_INFINITY)).isEmpty();
+  }
+
+  @Test
   void writesHeaderAndRows() {
     StringWriter sw = new StringWriter();
     PrintWriter pw = new PrintWriter(sw);
