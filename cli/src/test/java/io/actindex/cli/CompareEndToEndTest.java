@@ -6,6 +6,7 @@ import static org.assertj.core.api.Assertions.within;
 import com.fasterxml.jackson.databind.JsonNode;
 import io.actindex.cli.Reference.Example;
 import io.actindex.core.Randoms;
+import io.actindex.query.Compare;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -233,6 +234,21 @@ class CompareEndToEndTest {
       assertThat(res.code()).as(res.describe()).isEqualTo(2);
       assertThat(res.err().strip().lines().count()).as(res.describe()).isEqualTo(1);
       assertThat(res.out()).as(res.describe()).isEmpty();
+    }
+    // beyond what the 16-bit distances and one-array matrices hold: were internal errors (exit 1)
+    String huge = Files2.bits(tmp.resolve("huge.npy"), codes(r, 3, Compare.MAX_BITS + 1, 0)).toString();
+    Cli.Result tooWide = Cli.run("compare", "--a", huge, "--b", huge, "--kind", "codes", "--permutations", "5");
+    assertThat(tooWide.code()).as(tooWide.describe()).isEqualTo(2);
+    assertThat(tooWide.err().strip()).as(tooWide.describe()).contains("65536 bits", "at most 65535", "--layers").doesNotContain("\n");
+    Cli.Result someLayers = Cli.run("compare", "--a", huge, "--b", huge, "--kind", "codes", "--permutations", "5",
+        "--code-layout", "x:65000,y:536", "--layers", "y", "--format", "json");
+    assertThat(someLayers.code()).as(someLayers.describe()).isZero();
+    for (String[] option : List.of(new String[] {"--matrix-rows", "23171"}, new String[] {"--exact-max", "46341"},
+        new String[] {"--sinkhorn-rows", "46341"}, new String[] {"--sinkhorn-rows", "1"})) {
+      Cli.Result res = Cli.run("compare", "--a", a, "--b", a, "--kind", "codes", option[0], option[1]);
+      assertThat(res.code()).as(res.describe()).isEqualTo(2);
+      assertThat(res.err().strip().lines().count()).as(res.describe()).isEqualTo(1);
+      assertThat(res.err()).as(res.describe()).contains(option[0]);
     }
     // floats with another row count than the codes they pair with: were used silently (the float
     // reference then compared other examples than the codes)

@@ -71,6 +71,15 @@ public final class Compare {
     }
   }
 
+  /** The most rows per sample in the pooled pairwise matrices: {@code (2 x rows)^2} entries fit one Java array. */
+  public static final int MAX_MATRIX_ROWS = 23_170;
+
+  /** The most rows per sample in an A x B distance matrix (exact W2, Sinkhorn): {@code rows^2} entries fit one Java array. */
+  public static final int MAX_PAIR_ROWS = 46_340;
+
+  /** The longest codes: pairwise distances are held in 16 bits. */
+  public static final int MAX_BITS = Character.MAX_VALUE;
+
   /**
    * Statistics options. {@code sigma}: bandwidth of the exponential code kernel (null = median
    * heuristic); {@code matrixRows}: at most this many rows per sample go into the pairwise
@@ -87,9 +96,12 @@ public final class Compare {
       if (sigma != null && !(sigma > 0 && Double.isFinite(sigma))) throw new BadInputException("--sigma must be a positive number, got " + sigma);
       if (!(alpha > 0 && alpha < 1)) throw new BadInputException("--alpha must be between 0 and 1, got " + alpha);
       if (top < 0) throw new BadInputException("--top must be 0 or more, got " + top);
-      if (matrixRows < 2) throw new BadInputException("--matrix-rows must be at least 2, got " + matrixRows);
-      if (exactMax < 0) throw new BadInputException("--exact-max must be 0 or more, got " + exactMax);
-      if (sinkhornRows < 1) throw new BadInputException("--sinkhorn-rows must be at least 1, got " + sinkhornRows);
+      if (matrixRows < 2 || matrixRows > MAX_MATRIX_ROWS)
+        throw new BadInputException("--matrix-rows must be from 2 to " + MAX_MATRIX_ROWS + " (both samples' rows share one pairwise matrix), got " + matrixRows);
+      if (exactMax < 0 || exactMax > MAX_PAIR_ROWS)
+        throw new BadInputException("--exact-max must be from 0 to " + MAX_PAIR_ROWS + " (an A x B distance matrix in one array), got " + exactMax);
+      if (sinkhornRows < 2 || sinkhornRows > MAX_PAIR_ROWS)
+        throw new BadInputException("--sinkhorn-rows must be from 2 to " + MAX_PAIR_ROWS + " (an A x B distance matrix in one array), got " + sinkhornRows);
       if (!(reg > 0 && Double.isFinite(reg))) throw new BadInputException("--reg must be a positive number, got " + reg);
       if (maxIter < 1) throw new BadInputException("--max-iter must be at least 1, got " + maxIter);
       if (!(tol > 0)) throw new BadInputException("--tol must be positive, got " + tol);
@@ -189,6 +201,9 @@ public final class Compare {
       Options o, List<String> readNotes) {
     if (!a.layout().equals(b.layout())) throw new BadInputException("samples A and B have different layouts: " + a.layout() + " vs " + b.layout());
     CodeLayout layout = a.layout();
+    if (layout.bits() > MAX_BITS)
+      throw new BadInputException("codes of " + layout.bits() + " bits (" + layout + "): compare holds pairwise distances in 16 bits, so"
+          + " codes of at most " + MAX_BITS + " bits; compare some of the layers (--layers)");
     int m = a.size(), n = b.size(), segs = layout.segments().size();
     List<String> notes = new ArrayList<>(readNotes);
     Permutations perms = Permutations.seeded(o.seed());
