@@ -19,7 +19,7 @@ import org.ejml.interfaces.decomposition.EigenDecomposition_F64;
  * the sample ones with the {@code n - 1} denominator ({@code np.cov}'s default). The square roots
  * come from symmetric eigen-decompositions (EJML), negative eigenvalues from rounding clamped to 0;
  * {@code S1^1/2 S2 S1^1/2} is symmetric positive semi-definite with the same trace of the square
- * root as {@code sqrtm(S1 S2)}.
+ * root as {@code sqrtm(S1 S2)}. A result that rounding takes below 0 is reported as 0.
  */
 public final class Frechet {
   private Frechet() {}
@@ -39,7 +39,8 @@ public final class Frechet {
     symmetrize(mid);
     double traceSqrt = 0;
     for (double ev : eigenvalues(mid)) traceSqrt += Math.sqrt(Math.max(0, ev));
-    return meanTerm + CommonOps_DDRM.trace(s1) + CommonOps_DDRM.trace(s2) - 2 * traceSqrt;
+    // a squared distance: rounding below 0 (two alike samples with singular covariances) is 0
+    return Math.max(0, meanTerm + CommonOps_DDRM.trace(s1) + CommonOps_DDRM.trace(s2) - 2 * traceSqrt);
   }
 
   static double[] mean(FloatSample s) {
