@@ -14,7 +14,7 @@ import org.junit.jupiter.api.Test;
 
 /**
  * ROC metrics against two outside references: scikit-learn's {@code roc_auc_score}, {@code
- * average_precision_score} and {@code roc_curve} on committed golden inputs
+ * average_precision_score} and {@code roc_curve} (every point) on committed golden inputs
  * ({@code tools/golden/make_ood_metrics.py}, scikit-learn 1.9.1; we could not reproduce a table of
  * Fawcett, "An introduction to ROC analysis", Pattern Recognition Letters 2006, exactly, so the
  * library is the reference), and the definition of the Mann-Whitney U statistic (Mann &amp; Whitney
@@ -37,10 +37,20 @@ class RocMetricsTest {
         assertThat(m.auprIn()).as(f[0] + " aupr_in").isCloseTo(Double.parseDouble(f[4]), within(1e-12));
         assertThat(m.auprOut()).as(f[0] + " aupr_out").isCloseTo(Double.parseDouble(f[5]), within(1e-12));
         assertThat(m.fprAt95Tpr()).as(f[0] + " fpr95").isCloseTo(Double.parseDouble(f[6]), within(1e-12));
+        // roc_curve(y, s, drop_intermediate=False): one point per distinct threshold from the highest down
+        String[] points = f[7].split(" ");
+        assertThat(m.roc()).as(f[0] + " roc points").hasSize(points.length);
+        for (int i = 0; i < points.length; i++) {
+          String[] p = points[i].split(":");
+          RocMetrics.Point got = m.roc().get(i);
+          assertThat(got.threshold()).as(f[0] + " threshold " + i).isEqualTo(p[0].equals("inf") ? Double.POSITIVE_INFINITY : Double.parseDouble(p[0]));
+          assertThat(got.falseAlarmRate()).as(f[0] + " fpr " + i).isCloseTo(Double.parseDouble(p[1]), within(1e-12));
+          assertThat(got.detectionRate()).as(f[0] + " tpr " + i).isCloseTo(Double.parseDouble(p[2]), within(1e-12));
+        }
         cases++;
       }
     }
-    assertThat(cases).isEqualTo(8);
+    assertThat(cases).isEqualTo(14);
   }
 
   @Test
