@@ -25,7 +25,8 @@ import java.util.SplittableRandom;
  *   <li>overlap: the share of the exact cosine k-NN (on the float activations) that the exact
  *       Hamming k-NN holds (Hamming ties broken by ascending row, as {@code nearest} does);</li>
  *   <li>Spearman's rank correlation of Hamming and cosine distance over {@code pairs} random
- *       pairs of distinct rows ({@link Spearman}, ties averaged);</li>
+ *       pairs of distinct rows, or over every pair once when there are no more than {@code pairs}
+ *       ({@link Spearman}, ties averaged);</li>
  *   <li>the share of queries whose k-th Hamming distance is tied (more than k other rows lie
  *       within it, so the order of ties decides the k-NN), and the mean k-th Hamming distance;</li>
  *   <li>with labels: k-NN label accuracy (majority of the k labels; a tie goes to the label met
@@ -240,9 +241,11 @@ public final class Fidelity {
     Accuracy acc = labeled == 0 ? null
         : new Accuracy(labeled, hamRight / (double) labeled, data.kept() == null ? null : refRight / (double) labeled,
             cosRight / (double) labeled, data.inputs() == null ? null : eucRight / (double) labeled);
-    double rho = spearman(data, norms, p.pairs(), new SplittableRandom(p.seed() ^ 0x5DEECE66DL));
+    long distinct = (long) n * (n - 1) / 2;
+    int pairs = distinct <= p.pairs() ? (int) distinct : p.pairs();
+    double rho = spearman(data, norms, pairs, distinct <= p.pairs(), new SplittableRandom(p.seed() ^ 0x5DEECE66DL));
     double ov = overlap / m, ts = tied / m;
-    return new Result(n, m, p.k(), p.seed(), data.floatSource(), data.keptBits(), c, ov, rho, p.pairs(), ts, kthSum / m, acc,
+    return new Result(n, m, p.k(), p.seed(), data.floatSource(), data.keptBits(), c, ov, rho, pairs, ts, kthSum / m, acc,
         verdict(ov, rho, ts, acc, p.k(), c));
   }
 
@@ -375,13 +378,26 @@ public final class Fidelity {
     return Math.sqrt(s);
   }
 
-  private static double spearman(Data data, double[] norms, int pairs, SplittableRandom rnd) {
+  /**
+   * Spearman's rho over {@code pairs} pairs of distinct rows: every pair once when {@code all} (there
+   * are no more than were asked for, so the exact value needs no sample), else drawn at random.
+   */
+  private static double spearman(Data data, double[] norms, int pairs, boolean all, SplittableRandom rnd) {
     CodeBlock codes = data.codes();
     int n = codes.size(), d = codes.layout().bits(), w = codes.wordsPerCode();
     double[] h = new double[pairs], c = new double[pairs];
+    int nextA = 0, nextB = 1;
     for (int t = 0; t < pairs; t++) {
-      int a = rnd.nextInt(n), b = rnd.nextInt(n - 1);
-      if (b >= a) b++;
+      int a, b;
+      if (all) {
+        a = nextA;
+        b = nextB;
+        if (++nextB == n) nextB = ++nextA + 1;
+      } else {
+        a = rnd.nextInt(n);
+        b = rnd.nextInt(n - 1);
+        if (b >= a) b++;
+      }
       h[t] = Hamming.distance(codes.words(), a * w, codes.words(), b * w, w);
       c[t] = cosine(data.floats(), a, b, d, norms);
     }
