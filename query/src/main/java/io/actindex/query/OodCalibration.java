@@ -139,22 +139,26 @@ public final class OodCalibration {
   }
 
   /** {@code j = ceil(tpr (n + 1))}, the 1-based rank of the threshold among n sorted scores. */
-  static int rank(double tpr, int n) {
-    return (int) Math.ceil(tpr * (n + 1) - 1e-9);
+  static long rank(double tpr, long n) {
+    return (long) Math.ceil(tpr * (n + 1) - 1e-9);
   }
 
-  /** The fewest calibration inputs for which the threshold rank fits: {@code ceil(tpr (n + 1)) <= n}. */
-  public static int minimum(double tpr) {
-    int n = 1;
+  /**
+   * The fewest calibration inputs for which the threshold rank fits: {@code ceil(tpr (n + 1)) <= n},
+   * that is {@code n >= (tpr - 1e-9) / (1 - tpr)}; the search starts just below that bound (a count
+   * up from 1 took seconds and stopped at the int range for a rate near 1, naming a wrong count).
+   */
+  public static long minimum(double tpr) {
+    long n = Math.max(1, (long) ((tpr - 1e-9) / (1 - tpr)) - 2);
     while (rank(tpr, n) > n) n++;
     return n;
   }
 
   /** The threshold of ascending {@code sorted} scores for {@code tpr}; too few scores is refused. */
   public static double threshold(double[] sorted, double tpr, String what) {
-    int need = minimum(tpr);
+    long need = minimum(tpr);
     if (sorted.length < need)
       throw new BadInputException(what + ": " + sorted.length + " calibration inputs; a target rate of " + tpr + " needs at least " + need);
-    return sorted[rank(tpr, sorted.length) - 1];
+    return sorted[(int) rank(tpr, sorted.length) - 1];
   }
 }

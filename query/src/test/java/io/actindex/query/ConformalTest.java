@@ -66,6 +66,14 @@ class ConformalTest {
     assertThat(OodCalibration.minimum(0.95)).isEqualTo(19);
     assertThat(OodCalibration.minimum(0.9)).isEqualTo(9);
     assertThat(OodCalibration.minimum(0.99)).isEqualTo(99);
+    // the bound n >= tpr / (1 - tpr), counted up from 1 for rates whose answer is small enough to count to
+    for (double tpr : new double[] {0.01, 0.5, 0.6, 0.75, 0.8, 0.95, 0.975, 0.999, 0.9999}) {
+      long n = 1;
+      while (Math.ceil(tpr * (n + 1) - 1e-9) > n) n++;
+      assertThat(OodCalibration.minimum(tpr)).as("tpr " + tpr).isEqualTo(n);
+    }
+    // a rate near 1: about 1e12 inputs (the count stopped at 2^31 - 1 before)
+    assertThat(OodCalibration.minimum(1 - 1e-12)).isBetween(999_000_000_000L, 1_001_000_000_000L);
     double[] s = new double[19];
     for (int i = 0; i < s.length; i++) s[i] = i;
     assertThat(OodCalibration.threshold(s, 0.95, "x")).isEqualTo(18.0);
