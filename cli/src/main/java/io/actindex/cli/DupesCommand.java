@@ -103,6 +103,8 @@ final class DupesCommand implements Callable<Integer> {
       selected = joined != null ? joined.summary().examples() : matched.summary().examples();
     }
     index.noteIfEmpty(live, "--where", where, selected);
+    if (matched != null && matched.summary().rows() == 0) // as nearest, region and ood score say it
+      spec.commandLine().getErr().println("note: " + against + " holds no rows; the answer is empty");
     PrintWriter out = spec.commandLine().getOut();
     if (joined != null) {
       switch (format.format) {

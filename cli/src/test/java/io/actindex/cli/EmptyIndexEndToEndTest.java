@@ -128,13 +128,16 @@ class EmptyIndexEndToEndTest {
     for (String[] args : new String[][] {{"nearest", "--index", idx.toString(), "--activations", none.toString()},
         {"region", "--index", idx.toString(), "--activations", none.toString()},
         {"nearest", "--index", idx.toString(), "--activations", none.toString(), "--format", "json"},
-        {"ood", "score", "--index", idx.toString(), "--activations", none.toString()}}) {
+        {"ood", "score", "--index", idx.toString(), "--activations", none.toString()},
+        {"dupes", "--index", idx.toString(), "--radius", "1", "--against", none.toString(), "--format", "json"}}) {
       Cli.Result r = Cli.run(args);
       assertThat(r.code()).as(r.describe()).isZero();
       assertThat(r.err()).as(r.describe()).contains("note: " + none + " holds no rows; the answer is empty");
     }
     Cli.Result some = Cli.run("nearest", "--index", idx.toString(), "--activations", acts.toString(), "--rows", "0:2");
     assertThat(some.err()).as(some.describe()).doesNotContain("no rows");
+    Cli.Result against = Cli.run("dupes", "--index", idx.toString(), "--radius", "1", "--against", acts.toString());
+    assertThat(against.err()).as(against.describe()).doesNotContain("no rows");
   }
 
   private static void ok(Cli.Result r) {
