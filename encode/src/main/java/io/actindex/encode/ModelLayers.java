@@ -60,6 +60,12 @@ final class ModelLayers implements LayerSource {
     return n;
   }
 
+  /** The names of the input columns (a CSV header), not of the hidden units. */
+  @Override
+  public List<String> columnNames() {
+    return in.columnNames();
+  }
+
   @Override
   public int[] widths() {
     return Arrays.stream(layerIndex).map(i -> mlp.layers().get(i).out()).toArray();

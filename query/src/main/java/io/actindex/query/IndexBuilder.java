@@ -180,6 +180,7 @@ public final class IndexBuilder {
     BuildInfo info = new BuildInfo(p.source().kind(), raw.layout(), model != null, used);
     Map<String, String> props = new java.util.HashMap<>(info.toProperties());
     props.put(MAGNITUDES, Integer.toString(mags == null ? 0 : mags.bits()));
+    SourceColumns.put(props, read.columns());
 
     boolean existed = Files.exists(p.dir());
     IndexWriter created;

@@ -75,6 +75,9 @@ public final class QuerySource {
         progress == null ? Progress.NONE : progress, activations);
     // notes about the file itself (its CSV header); the model's layers were reported at build
     for (String n : read.notes()) if (n.startsWith(source.file() + ":")) notes.add(n);
+    if (source.kind() == info.kind()) // activations against activations, inputs against inputs
+      SourceColumns.check(SourceColumns.of(reader.properties(), reader.dir().toString()), "the CSV the index " + reader.dir() + " was built from",
+          read.columns(), source.file().toString());
     CodeBlock raw = read.codes();
     CodeBlock codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString());
     CodeLayout split = raw.layout().bits() == target.bits() ? target : info.sourceLayout();

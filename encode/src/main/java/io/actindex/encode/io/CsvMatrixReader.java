@@ -285,6 +285,11 @@ public final class CsvMatrixReader implements MatrixReader {
     return header;
   }
 
+  @Override
+  public List<String> columnNames() {
+    return header;
+  }
+
   /** How the file was read: the header decision, and a hint when column 0 looks like a row index. */
   @Override
   public List<String> notes() {
