@@ -137,7 +137,9 @@ public final class Mlp {
       if (r.entries().containsKey(name + ".bias")) {
         var b = r.entry(name + ".bias");
         if (b.shape().length != 1 || b.shape()[0] != out)
-          throw new BadInputException(file + ": tensor " + BadInputException.quote(name + ".bias") + ": field shape " + b.shapeString() + " does not match [" + out + "]");
+          throw new BadInputException(file + ": tensor " + BadInputException.quote(name + ".bias") + ": field shape " + b.shapeString() + " does not match ["
+              + out + "]" + (b.shape().length == 1 && b.shape()[0] == in ? "; it matches the weight's second dimension: is the weight [" + out + ", " + in
+                  + "] stored as [in, out] (scikit-learn's coefs_, a Keras or JAX/Flax kernel)? save it transposed (W.T), as [out, in]" : ""));
         bias = r.read(name + ".bias");
       }
       layers.add(new Layer(name, weight, bias));
