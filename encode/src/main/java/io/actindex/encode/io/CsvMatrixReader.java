@@ -28,7 +28,8 @@ import java.util.regex.Pattern;
  * <p>Header line, by {@link Header}: {@code YES} the first line names the columns; {@code NO} it
  * is data; {@code AUTO} it is a header when every cell is text, or when its cells are exactly the
  * column numbers {@code 0, 1, ..., d-1} (what a data-frame library writes for unnamed columns,
- * optionally after an empty or {@code Unnamed: 0} cell over a row-index column), data when every
+ * optionally after an empty or {@code Unnamed: 0} cell over a row-index column; refused as
+ * ambiguous when that is {@code 0} or {@code 0,1} alone, a likely row of codes), data when every
  * cell is a number, and refused (naming the first text cell) when it mixes both, or when its three
  * or more numbers are evenly spaced ({@code 1, 2, ..., d}; {@code 400, 410, 420}), as numbered
  * column names are. {@link #notes()}
@@ -116,6 +117,10 @@ public final class CsvMatrixReader implements MatrixReader {
       notes.add(file + ": line " + firstLine + " taken as the header (every cell is text; --header no reads it as data)");
       return true;
     }
+    if (columnNumbers(f, 0) && f.length < 3) // "0" or "0,1": as likely a row of 0/1 codes or counts as pandas' header
+      throw new BadInputException(file + ": line " + firstLine + " holds " + String.join(", ", Arrays.stream(f).map(String::trim).toList())
+          + ", the column numbers a data-frame library writes over unnamed columns, or a row of data (with " + f.length
+          + (f.length == 1 ? " column" : " columns") + " either is likely); pass --header yes (a header) or --header no (data)");
     if (columnNumbers(f, 0) || (isIndexHeaderCell(f[0].trim()) && columnNumbers(f, 1))) {
       notes.add(file + ": line " + firstLine + " taken as the header (its cells are the column numbers; --header no reads it as data)");
       return true;

@@ -46,6 +46,37 @@ class CsvHeaderTest {
     }
   }
 
+  /**
+   * With one or two columns, a first line {@code 0} or {@code 0,1} is as likely a row of 0/1 codes
+   * (or counts) as pandas' header of unnamed columns; it was taken as the header, dropping the
+   * first example and shifting every id by one with exit code 0. Now refused under AUTO; YES and
+   * NO read it as told, and the same header over a row-index column is still a header.
+   */
+  @Test
+  void columnNumbersOfOneOrTwoColumnsAreRefusedAsAmbiguous() throws IOException {
+    for (String first : new String[] {"0", "0,1", " 0 , 1", "\"0\",\"1\""}) {
+      int d = first.split(",").length;
+      String row = d == 1 ? "1" : "1,1";
+      Path f = csv("codes.csv", first + "\n" + row + "\n" + row + "\n");
+      assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.AUTO)).as(first).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("codes.csv").hasMessageContaining("line 1").hasMessageContaining("--header yes")
+          .hasMessageContaining("--header no");
+      try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
+        assertThat(all(r, 3)).hasSize(3 * d).startsWith(0);
+      }
+      try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.YES)) {
+        assertThat(all(r, 2)).containsOnly(1);
+      }
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("df.csv", ",0,1\n0,0.5,-1\n1,2,3\n"), Header.AUTO)) {
+      assertThat(r.header()).containsExactly("", "0", "1");
+    }
+    for (String first : new String[] {"1", "1,0", "0,2"})
+      try (CsvMatrixReader r = CsvMatrixReader.open(csv("data.csv", first + "\n" + first + "\n"), Header.AUTO)) {
+        assertThat(r.header()).as(first).isNull();
+      }
+  }
+
   @Test
   void textHeaderNumbersAreDataYesSkipsANumericFirstLine() throws IOException {
     try (CsvMatrixReader r = CsvMatrixReader.open(csv("t.csv", "a,b\n1,2\n"), Header.AUTO)) {
