@@ -420,11 +420,22 @@ public final class CsvMatrixReader implements MatrixReader {
   /** The number in cell {@code f} (trimmed); empty, text, NaN and infinities are refused naming the cell. */
   private double value(String f, long at, int col) {
     if (f.isEmpty()) throw new BadInputException(where(at, col) + ": empty field");
-    if (!isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number");
+    if (!isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number" + otherSeparator(f));
     char c0 = f.charAt(f.length() - 1);
     double v = Character.isLetter(c0) ? Double.NaN : Double.parseDouble(f);
     if (!Double.isFinite(v)) throw new BadInputException(where(at, col) + ": value is " + BadInputException.quote(f) + "; only finite numbers are accepted");
     return v;
+  }
+
+  private static final Pattern OTHER_SEPARATOR = Pattern.compile("[\\s;]+");
+
+  /** A hint when a cell is several numbers apart by spaces, tabs or semicolons (np.savetxt's default delimiter is a space). */
+  private static String otherSeparator(String cell) {
+    String[] parts = OTHER_SEPARATOR.split(cell.trim());
+    if (parts.length < 2) return "";
+    for (String s : parts) if (!isNumber(s)) return "";
+    return "; it holds numbers separated by " + (cell.indexOf(';') >= 0 ? "semicolons" : cell.indexOf('\t') >= 0 ? "tabs" : "spaces")
+        + ", but cells are separated by commas: write the file with delimiter=',' (np.savetxt's default is a space)";
   }
 
   private String where(long at, int col) {

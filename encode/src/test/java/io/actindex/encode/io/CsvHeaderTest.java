@@ -77,6 +77,21 @@ class CsvHeaderTest {
       }
   }
 
+  /** np.savetxt writes numbers apart by a space unless told otherwise (its default delimiter, from memory of NumPy's API). */
+  @Test
+  void numbersApartBySpacesTabsOrSemicolonsAreRefusedSayingSo() throws IOException {
+    String[][] cases = {{"1.000000000000000000e+00 0.000000000000000000e+00\n2.5e+00 1e-03\n", "spaces"}, {"1\t2\n3\t4\n", "tabs"},
+        {"1;2\n3;4\n", "semicolons"}};
+    for (String[] c : cases) {
+      Path f = csv("savetxt.csv", c[0]);
+      assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.NO).read(new double[4], 2)).as(c[1]).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("savetxt.csv").hasMessageContaining("line 1").hasMessageContaining("separated by " + c[1])
+          .hasMessageContaining("delimiter=','");
+    }
+    assertThatThrownBy(() -> CsvMatrixReader.open(csv("word.csv", "1,two words\n"), Header.NO).read(new double[2], 1))
+        .hasMessageContaining("is not a number").hasMessageNotContaining("delimiter");
+  }
+
   @Test
   void textHeaderNumbersAreDataYesSkipsANumericFirstLine() throws IOException {
     try (CsvMatrixReader r = CsvMatrixReader.open(csv("t.csv", "a,b\n1,2\n"), Header.AUTO)) {
