@@ -88,7 +88,10 @@ public final class CsvMatrixReader implements MatrixReader {
       case AUTO -> detect(f, firstLine);
     };
     if (isHeader) {
-      header = Arrays.stream(f).map(String::trim).toList();
+      List<String> names = new ArrayList<>(Arrays.stream(f).map(String::trim).toList());
+      // np.savetxt(header=...) writes its comment mark first ("# h0,h1,..."): it is not part of the first name
+      if (names.getFirst().startsWith("#") && !first.stripLeading().startsWith("\"")) names.set(0, names.getFirst().substring(1).trim());
+      header = List.copyOf(names);
     } else {
       header = null;
       pending.add(first);

@@ -92,6 +92,19 @@ class CsvHeaderTest {
         .hasMessageContaining("is not a number").hasMessageNotContaining("delimiter");
   }
 
+  /** np.savetxt(header=...) writes "# " before the header (its default comments, from memory of NumPy's API). */
+  @Test
+  void theCommentMarkOfNumpysHeaderIsNotPartOfTheFirstName() throws IOException {
+    for (String first : new String[] {"# h0,h1", "#h0,h1", "h0,h1"})
+      try (CsvMatrixReader r = CsvMatrixReader.open(csv("st.csv", first + "\n1,2\n"), Header.AUTO)) {
+        assertThat(r.columnNames()).as(first).containsExactly("h0", "h1");
+        assertThat(all(r, 1)).containsExactly(1, 2);
+      }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("q.csv", "\"#h0\",h1\n1,2\n"), Header.AUTO)) {
+      assertThat(r.columnNames()).containsExactly("#h0", "h1"); // a quoted name is the name
+    }
+  }
+
   @Test
   void textHeaderNumbersAreDataYesSkipsANumericFirstLine() throws IOException {
     try (CsvMatrixReader r = CsvMatrixReader.open(csv("t.csv", "a,b\n1,2\n"), Header.AUTO)) {
