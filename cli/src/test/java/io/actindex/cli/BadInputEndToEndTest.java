@@ -172,6 +172,14 @@ class BadInputEndToEndTest {
     Cli.Result b = Cli.run("build", "--out", built.toString(), "--activations", acts.toString(), "--meta", reserved.toString());
     assertRefused(b, new Case("a key kept for an id to come, build", reserved, null));
     assertThat(built).doesNotExist();
+    // 8 examples of 3 units saved as 3 rows of 8 (units by examples): the metadata's 8 rows say so
+    Path transposed = Files2.floats(tmp.resolve("transposed.npy"), new float[3][8]);
+    List<String> eight = new ArrayList<>(List.of("key"));
+    for (int i = 0; i < 8; i++) eight.add("t" + i);
+    Path meta8 = Files2.text(tmp.resolve("meta8.csv"), eight);
+    Cli.Result t = Cli.run("build", "--out", built.toString(), "--activations", transposed.toString(), "--meta", meta8.toString());
+    assertRefused(t, new Case("activations saved transposed", meta8, "transposed"));
+    assertThat(built).doesNotExist();
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
 

@@ -173,7 +173,7 @@ public final class IndexBuilder {
     float[] values = read.activations() == null ? null
         : Layers.pickColumns(read.activations(), raw.size(), raw.layout().bits(), Layers.columns(raw.layout(), codes.layout()));
     Magnitudes mags = values == null ? null : Magnitudes.quantise(values, codes.size(), codes.layout().bits(), p.magnitudeBits());
-    List<Map<String, String>> meta = readMeta(p.meta(), codes.size(), p.source());
+    List<Map<String, String>> meta = readMeta(p.meta(), codes, p.source());
     byte[] model = p.source().kind() == Source.Kind.INPUTS ? readAll(p.source().model()) : null;
     // the options in force (per-neuron medians filled in) are what later queries must use
     EncodeOptions used = read.options() != null ? read.options() : p.encode();
@@ -258,7 +258,7 @@ public final class IndexBuilder {
         values = enc.activations();
         mags = Magnitudes.quantise(values, codes.size(), codes.layout().bits(), bits);
       }
-      meta = readMeta(p.meta(), codes.size(), p.source());
+      meta = readMeta(p.meta(), codes, p.source());
       if (meta != null)
         for (int i = 0; i < meta.size(); i++) {
           String key = meta.get(i).get("key");
@@ -316,11 +316,15 @@ public final class IndexBuilder {
     return Layers.project(raw, new CodeLayout(segs));
   }
 
-  private static List<Map<String, String>> readMeta(MetaCsv.Options o, int rows, Source source) {
+  /** The metadata rows, one per code of {@code codes} (whose width is the source's columns unless it is a model's inputs). */
+  private static List<Map<String, String>> readMeta(MetaCsv.Options o, CodeBlock codes, Source source) {
     if (o == null) return null;
     List<Map<String, String>> meta = MetaCsv.read(o);
+    int rows = codes.size(), cols = codes.layout().bits();
     if (meta.size() != rows)
-      throw new BadInputException(o.file() + ": " + meta.size() + " data rows, but " + source.file() + " has " + rows + " rows");
+      throw new BadInputException(o.file() + ": " + meta.size() + " data rows, but " + source.file() + " has " + rows + " rows"
+          + (meta.size() == cols && source.kind() != Source.Kind.INPUTS ? " of " + cols + " columns (saved as units by examples? save it"
+              + " transposed, a.T)" : ""));
     return meta;
   }
 
