@@ -24,8 +24,15 @@ Outputs, in OUT:
                            matches the weight's second dimension)
   VERSIONS.txt             library versions
 
+and, in BINARY_OUT, a two-class MLPClassifier on the breast cancer data (load_breast_cancer,
+standardized), which has ONE output unit with the logistic function (out_activation_ "logistic"):
+  model.safetensors        saved as above
+  inputs.npy               60 standardized rows
+  one_minus_msp.npy        1 - predict_proba(inputs).max(axis=1) as one column, scikit-learn's own probabilities
+
 Usage (from the repository root; pip install scikit-learn safetensors numpy):
-  python3 tools/golden/make_sklearn_mlp.py encode/src/test/resources/golden/sklearn
+  python3 tools/golden/make_sklearn_mlp.py encode/src/test/resources/golden/sklearn \
+      query/src/test/resources/golden/sklearn_binary
 """
 import os
 import sys
@@ -35,7 +42,7 @@ import numpy as np
 import safetensors
 import sklearn
 from safetensors.numpy import save_file
-from sklearn.datasets import load_digits
+from sklearn.datasets import load_breast_cancer, load_digits
 from sklearn.exceptions import ConvergenceWarning
 from sklearn.neural_network import MLPClassifier
 
@@ -87,5 +94,25 @@ def main(out):
         f.write(f"rows {len(rows)}, hidden {[w.shape[1] for w in W[:-1]]}, train accuracy {clf.score(X, y):.4f}\n")
 
 
+def binary(out):
+    os.makedirs(out, exist_ok=True)
+    X, y = load_breast_cancer(return_X_y=True)
+    X = (X - X.mean(axis=0)) / X.std(axis=0)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ConvergenceWarning)
+        clf = MLPClassifier(hidden_layer_sizes=(16,), activation="relu", max_iter=300, random_state=1).fit(X, y)
+    assert clf.out_activation_ == "logistic" and clf.coefs_[-1].shape[1] == 1
+    t = {}
+    for i, (w, b) in enumerate(zip(clf.coefs_, clf.intercepts_)):
+        t[f"{i}.weight"], t[f"{i}.bias"] = np.ascontiguousarray(w.T), b
+    save_file(t, os.path.join(out, "model.safetensors"))
+    rows = X[np.random.default_rng(1).permutation(len(X))[:60]]
+    np.save(os.path.join(out, "inputs.npy"), rows)
+    np.save(os.path.join(out, "one_minus_msp.npy"), (1 - clf.predict_proba(rows).max(axis=1)).reshape(-1, 1))
+    with open(os.path.join(out, "VERSIONS.txt"), "w") as f:
+        f.write(f"scikit-learn {sklearn.__version__}\nnumpy {np.__version__}\nsafetensors {safetensors.__version__}\n")
+
+
 if __name__ == "__main__":
     main(sys.argv[1])
+    binary(sys.argv[2])
