@@ -70,6 +70,33 @@ class SklearnGoldenTest {
         .hasMessageNotContaining("PyTorch checkpoint").hasMessageNotContaining("\n");
   }
 
+  /**
+   * A dict written by hand that leaves out one intercept runs with a bias of 0 there (nn.Linear may
+   * have no bias, so it is not refused), and the model line says so; a model without any bias
+   * gets no such note.
+   */
+  @Test
+  void aBiasMissingBesideTheOthersIsNoted(@org.junit.jupiter.api.io.TempDir java.nio.file.Path tmp) throws IOException {
+    java.util.Map<String, io.actindex.encode.io.SafetensorsWriter.Tensor> all = new java.util.LinkedHashMap<>(), noBias = new java.util.LinkedHashMap<>();
+    try (var r = io.actindex.encode.io.SafetensorsReader.open(Golden.path("sklearn/mlp.safetensors"))) {
+      for (String name : r.entries().keySet()) {
+        var t = new io.actindex.encode.io.SafetensorsWriter.Tensor(r.entry(name).shape(), r.read(name));
+        if (!name.equals("1.bias")) all.put(name, t);
+        if (name.endsWith(".weight")) noBias.put(name, t);
+      }
+    }
+    var missing = tmp.resolve("missing.safetensors");
+    var none = tmp.resolve("none.safetensors");
+    io.actindex.encode.io.SafetensorsWriter.write(missing, all, java.util.Map.of());
+    io.actindex.encode.io.SafetensorsWriter.write(none, noBias, java.util.Map.of());
+    try (CodeStream s = Encoders.model(missing, Golden.path("sklearn/inputs.npy"), EncodeOptions.positive())) {
+      assertThat(s.notes()).anySatisfy(n -> assertThat(n).contains("1 has no .bias tensor (taken as 0)"));
+    }
+    try (CodeStream s = Encoders.model(none, Golden.path("sklearn/inputs.npy"), EncodeOptions.positive())) {
+      assertThat(s.notes()).noneSatisfy(n -> assertThat(n).contains(".bias"));
+    }
+  }
+
   @Test
   void theFixItNamesGivesScikitLearnsCodes() throws IOException {
     // the untransposed file's own tensors, transposed as the message says, are mlp.safetensors
