@@ -119,6 +119,10 @@ class CsvColumnNamesEndToEndTest {
     assertThat(ok.code()).as(ok.describe()).isZero();
     Path reordered = csv("q-reordered.csv", query, features, REVERSED);
     assertRefused(Cli.run("nearest", "--index", idx.toString(), "--inputs", reordered.toString()), reordered, "another order");
+    // the inputs given as activations: refused by their header even where widths would match
+    Cli.Result asActs = Cli.run("nearest", "--index", idx.toString(), "--activations", same.toString());
+    assertThat(asActs.code()).as(asActs.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(asActs.err()).as(asActs.describe()).contains("q.csv").contains("pass it with --inputs");
     assertRefused(Cli.run("compare", "--a", inputs.toString(), "--b", reordered.toString(), "--model", model.toString(), "--kind", "inputs"),
         reordered, "another order");
   }
