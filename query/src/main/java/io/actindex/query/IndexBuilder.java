@@ -200,6 +200,9 @@ public final class IndexBuilder {
       List<String> notes = new ArrayList<>(read.notes());
       notes.addAll(constantLayers(codes, p.source().kind() == Source.Kind.INPUTS ? p.source().model() : p.source().file(),
           p.source().kind() == Source.Kind.ACTIVATIONS));
+      if (meta != null && meta.stream().noneMatch(row -> row.containsKey("label")))
+        notes.add(p.meta().file() + ": note: no example has a label (no column 'label' with a value; --label-column NAME takes another, such as"
+            + " scikit-learn's 'target'), so label votes, purity and label conflicts have none to count");
       return new Result(first, codes.size(), codes.layout(), notes, read.options(),
           mags == null ? null : Quantisation.of(mags, values), w.takeWarnings());
     } catch (RuntimeException | Error e) {
