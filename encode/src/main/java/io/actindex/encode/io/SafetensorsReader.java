@@ -118,7 +118,7 @@ public final class SafetensorsReader implements AutoCloseable {
         boolean zip = lb.get(0) == 'P' && lb.get(1) == 'K' && lb.get(2) == 3 && lb.get(3) == 4, pickle = (lb.get(0) & 0xff) == 0x80;
         if (zip && firstZipEntry(ch).endsWith(".npy")) // np.savez: e.g. the arrays of scikit-learn's coefs_ and intercepts_
           throw new BadInputException(file + ": a NumPy .npz archive, not safetensors; save the layers with safetensors.numpy.save_file,"
-              + " named NAME.weight [out, in] and NAME.bias (scikit-learn's coefs_[i] is [in, out]: save coefs_[i].T)");
+              + " named NAME.weight [out, in] and NAME.bias (scikit-learn's coefs_[i] is [in, out]: save np.ascontiguousarray(coefs_[i].T))");
         if (zip || pickle)
           throw new BadInputException(file + ": a PyTorch checkpoint (torch.save, " + (zip ? "zip" : "pickle") + "), not safetensors; save the"
               + " weights with safetensors.torch.save_file(model.state_dict(), 'model.safetensors')");

@@ -80,7 +80,7 @@ public final class LayerOrder {
           + ", but it does not chain: " + broken + "; ";
       if (chainsTransposed(ordered, inputWidth))
         throw new BadInputException(head + "read as [in, out] (how scikit-learn's coefs_, Keras and JAX/Flax store a dense kernel) the weights chain in this order from the"
-            + " input width " + inputWidth + ": save each one transposed (W.T), as [out, in] like PyTorch's nn.Linear");
+            + " input width " + inputWidth + ": save each one transposed, as [out, in] like PyTorch's nn.Linear: np.ascontiguousarray(W.T)");
       List<List<String>> chains = chains(file, layers, inputWidth);
       throw new BadInputException(head + (chains.isEmpty() ? "no order of the layers chains" : candidates(chains)));
     }

@@ -140,7 +140,7 @@ public final class Mlp {
         if (b.shape().length != 1 || b.shape()[0] != out)
           throw new BadInputException(file + ": tensor " + BadInputException.quote(name + ".bias") + ": field shape " + b.shapeString() + " does not match ["
               + out + "]" + (b.shape().length == 1 && b.shape()[0] == in ? "; it matches the weight's second dimension: is the weight [" + out + ", " + in
-                  + "] stored as [in, out] (scikit-learn's coefs_, a Keras or JAX/Flax kernel)? save it transposed (W.T), as [out, in]" : ""));
+                  + "] stored as [in, out] (scikit-learn's coefs_, a Keras or JAX/Flax kernel)? save it transposed, as [out, in]: np.ascontiguousarray(W.T)" : ""));
         bias = r.read(name + ".bias");
       } else {
         withoutBias.add(name);
