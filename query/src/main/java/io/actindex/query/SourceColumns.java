@@ -24,9 +24,17 @@ final class SourceColumns {
   /** Index property: the build file's column names, a JSON array. */
   static final String PROPERTY = "build.source.columns";
 
-  /** Records {@code names} in {@code props} (nothing when null). */
+  /**
+   * Longest names record kept, in UTF-8 bytes: the manifest, rewritten by every commit, reads a
+   * string of at most 1 MiB; a header longer than this is not recorded (and so not checked).
+   */
+  static final int MAX_BYTES = 256 << 10;
+
+  /** Records {@code names} in {@code props} (nothing when null or longer than {@link #MAX_BYTES}). */
   static void put(Map<String, String> props, List<String> names) {
-    if (names != null) props.put(PROPERTY, Json.quote(names));
+    if (names == null) return;
+    String json = Json.quote(names);
+    if (json.getBytes(java.nio.charset.StandardCharsets.UTF_8).length <= MAX_BYTES) props.put(PROPERTY, json);
   }
 
   /** The recorded names, or null when the index records none (built from a file without a header). */

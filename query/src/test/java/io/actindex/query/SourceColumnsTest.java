@@ -21,6 +21,15 @@ class SourceColumnsTest {
     SourceColumns.put(none, null);
     assertThat(none).isEmpty();
     assertThat(SourceColumns.of(none, "idx")).isNull();
+    // a header too long for the manifest's strings (1 MiB) is not recorded: the index must stay readable
+    List<String> wide = new java.util.ArrayList<>();
+    for (int i = 0; i < 40_000; i++) wide.add("activation_" + i);
+    Map<String, String> big = new HashMap<>();
+    SourceColumns.put(big, wide.subList(0, 1000));
+    assertThat(big).containsKey(SourceColumns.PROPERTY);
+    big.clear();
+    SourceColumns.put(big, wide);
+    assertThat(big).isEmpty();
     props.put(SourceColumns.PROPERTY, "[\"a\", 3]");
     assertThatThrownBy(() -> SourceColumns.of(props, "idx")).isInstanceOf(BadInputException.class).hasMessageContaining("idx");
   }
