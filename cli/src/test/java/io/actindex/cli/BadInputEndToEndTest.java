@@ -117,6 +117,12 @@ class BadInputEndToEndTest {
     Path out = tmp.resolve("m-idx");
     assertRefused(Cli.run("build", "--out", out.toString(), "--model", model.toString(), "--inputs", wide.toString()), c);
     assertThat(!Files.exists(out) || Files2.checksums(out).isEmpty()).isTrue();
+    // a data frame written with its label column (scikit-learn's frames end with 'target'): the extra column is named
+    Path frame = Files2.text(tmp.resolve("frame.csv"), List.of("f0,f1,f2,target", "0.5,1,2,0", "1,0.5,2,1"));
+    Cli.Result f = Cli.run("build", "--out", out.toString(), "--model", model.toString(), "--inputs", frame.toString());
+    assertRefused(f, new Case("a label column beside the features", frame, "one column too many"));
+    assertThat(f.err()).contains("last 'target'");
+    assertThat(!Files.exists(out) || Files2.checksums(out).isEmpty()).isTrue();
     // and a model-built index refuses the same inputs as queries or additions
     Path good = Files2.floats(tmp.resolve("inputs3.npy"), new float[5][3]);
     Cli.Result b = Cli.run("build", "--out", out.toString(), "--model", model.toString(), "--inputs", good.toString());
