@@ -106,7 +106,13 @@ public final class CsvMatrixReader implements MatrixReader {
     if (pending.isEmpty()) throw new BadInputException(file + ": the CSV file has a header but no rows");
     String hint = indexColumnHint();
     if (hint != null) notes.add(hint);
+    for (int c = 0; header != null && c < header.size(); c++)
+      if (LABEL_HEADER.matcher(header.get(c)).matches())
+        notes.add(file + ": hint: column " + c + " is named " + BadInputException.quote(header.get(c)) + ", like a label (scikit-learn's data"
+            + " frames end with 'target'); it is read as values like every column: write the file without it if it is not one");
   }
+
+  private static final Pattern LABEL_HEADER = Pattern.compile("label|labels|target|class|y", Pattern.CASE_INSENSITIVE);
 
   /** The AUTO rule; adds the note saying what was chosen. */
   private boolean detect(String[] f, long firstLine) {

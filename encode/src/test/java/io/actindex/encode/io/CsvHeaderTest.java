@@ -105,6 +105,18 @@ class CsvHeaderTest {
     }
   }
 
+  /** A data frame written with its label (scikit-learn's frames end with a 'target' column) gets a hint naming the column. */
+  @Test
+  void aColumnNamedLikeALabelGetsAHint() throws IOException {
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("frame.csv", "f0,f1,target\n0.5,1,0\n1,2,1\n"), Header.AUTO)) {
+      assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("frame.csv: hint: column 2 is named 'target'"));
+      assertThat(all(r, 2)).containsExactly(0.5, 1, 0, 1, 2, 1);
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("plain.csv", "f0,f1,targets_seen\n0.5,1,0\n"), Header.AUTO)) {
+      assertThat(r.notes()).noneSatisfy(n -> assertThat(n).contains("hint"));
+    }
+  }
+
   @Test
   void textHeaderNumbersAreDataYesSkipsANumericFirstLine() throws IOException {
     try (CsvMatrixReader r = CsvMatrixReader.open(csv("t.csv", "a,b\n1,2\n"), Header.AUTO)) {
