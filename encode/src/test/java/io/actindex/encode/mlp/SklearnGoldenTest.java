@@ -60,7 +60,7 @@ class SklearnGoldenTest {
    * refused as {@code [in, out]} whether the names are numbered (the shapes do not chain) or not
    * (the shapes chain backwards and the biases fit the weights' second dimension). The fix named is
    * a C-ordered copy: safetensors.numpy 0.8.0 writes a bare {@code W.T} view's memory as it lies
-   * (safetensors issue 825), so the advice "save W.T" gave a file that loads without error and holds
+   * (seen here), so the advice "save W.T" gave a file that loads without error and holds
    * other weights.
    */
   @ParameterizedTest
