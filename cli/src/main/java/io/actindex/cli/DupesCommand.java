@@ -89,6 +89,7 @@ final class DupesCommand implements Callable<Integer> {
     Dupes.Result joined = null;
     Dupes.AgainstResult matched = null;
     int live, selected;
+    List<String> columns;
     try (IndexReader reader = IndexReader.open(index.dir);
         PairsFile file = pairs == null ? null : new PairsFile(pairs, against == null ? "id_a,id_b,distance" : "row,id,distance", against);
         Progress bar = Progress.onTerminal(spec.commandLine().getErr(), against == null ? "joining" : "matching")) {
@@ -101,10 +102,16 @@ final class DupesCommand implements Callable<Integer> {
       if (file != null) file.commit();
       live = reader.liveCount();
       selected = joined != null ? joined.summary().examples() : matched.summary().examples();
+      columns = reader.meta().columns();
     }
     index.noteIfEmpty(live, "--where", where, selected);
     if (matched != null && matched.summary().rows() == 0) // as nearest, region and ood score say it
       spec.commandLine().getErr().println("note: " + against + " holds no rows; the answer is empty");
+    // "0 groups with conflicting labels" reads as a finding; with no labels in the index it is none (same for splits)
+    if (against == null) {
+      noteMissing(columns, "label", conflictingLabels, "--conflicting-labels", "conflicting labels");
+      noteMissing(columns, "split", crossSplit, "--cross-split", "several splits");
+    }
     PrintWriter out = spec.commandLine().getOut();
     if (joined != null) {
       switch (format.format) {
@@ -121,6 +128,16 @@ final class DupesCommand implements Callable<Integer> {
     }
     out.flush();
     return ExitCodes.OK;
+  }
+
+  /**
+   * A line on stderr when no example has a {@code role} value although the metadata has other
+   * columns (e.g. labels under scikit-learn's name {@code target}) or {@code asked} (its flag given).
+   */
+  private void noteMissing(List<String> columns, String role, boolean asked, String flag, String what) {
+    if (columns.contains(role) || (!asked && columns.stream().noneMatch(c -> !c.equals("key") && !c.equals("source")))) return;
+    spec.commandLine().getErr().println("note: no example in " + index.dir + " has a " + role + " (a metadata column '" + role + "', or one named"
+        + " at build with --" + role + "-column), so no group can have " + what + (asked ? "; " + flag + " lists none" : ""));
   }
 
   /** The pairs CSV, written to a temporary file beside it and moved into place only when complete. */

@@ -176,7 +176,8 @@ final class InfoCommand implements Callable<Integer> {
       out.println();
       out.println("build settings:");
       TextTable p = new TextTable(List.of("property", "value"));
-      props.forEach((k, v) -> p.row(List.of(k, v)));
+      // a long value (the column names of a wide CSV) is cut here; the JSON output holds it whole
+      props.forEach((k, v) -> p.row(List.of(k, io.actindex.core.BadInputException.snippet(v, 200))));
       p.print(out, "  ");
     }
   }

@@ -117,6 +117,12 @@ class BadInputEndToEndTest {
     Path out = tmp.resolve("m-idx");
     assertRefused(Cli.run("build", "--out", out.toString(), "--model", model.toString(), "--inputs", wide.toString()), c);
     assertThat(!Files.exists(out) || Files2.checksums(out).isEmpty()).isTrue();
+    // a data frame written with its label column (scikit-learn's frames end with 'target'): the extra column is named
+    Path frame = Files2.text(tmp.resolve("frame.csv"), List.of("f0,f1,f2,target", "0.5,1,2,0", "1,0.5,2,1"));
+    Cli.Result f = Cli.run("build", "--out", out.toString(), "--model", model.toString(), "--inputs", frame.toString());
+    assertRefused(f, new Case("a label column beside the features", frame, "one column too many"));
+    assertThat(f.err()).contains("last 'target'");
+    assertThat(!Files.exists(out) || Files2.checksums(out).isEmpty()).isTrue();
     // and a model-built index refuses the same inputs as queries or additions
     Path good = Files2.floats(tmp.resolve("inputs3.npy"), new float[5][3]);
     Cli.Result b = Cli.run("build", "--out", out.toString(), "--model", model.toString(), "--inputs", good.toString());
@@ -171,6 +177,14 @@ class BadInputEndToEndTest {
     Path built = tmp.resolve("built");
     Cli.Result b = Cli.run("build", "--out", built.toString(), "--activations", acts.toString(), "--meta", reserved.toString());
     assertRefused(b, new Case("a key kept for an id to come, build", reserved, null));
+    assertThat(built).doesNotExist();
+    // 8 examples of 3 units saved as 3 rows of 8 (units by examples): the metadata's 8 rows say so
+    Path transposed = Files2.floats(tmp.resolve("transposed.npy"), new float[3][8]);
+    List<String> eight = new ArrayList<>(List.of("key"));
+    for (int i = 0; i < 8; i++) eight.add("t" + i);
+    Path meta8 = Files2.text(tmp.resolve("meta8.csv"), eight);
+    Cli.Result t = Cli.run("build", "--out", built.toString(), "--activations", transposed.toString(), "--meta", meta8.toString());
+    assertRefused(t, new Case("activations saved transposed", meta8, "transposed"));
     assertThat(built).doesNotExist();
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }

@@ -151,6 +151,32 @@ class DupesEndToEndTest {
     assertThat(doc.get("rows").size()).isEqualTo(rowsWith);
   }
 
+  /**
+   * Labels in a column of another name (scikit-learn's data frames call it {@code target}) are not
+   * labels: the build notes it, and dupes' "0 groups with conflicting labels" comes with a line
+   * saying that no example has a label; named with --label-column, the same rows conflict.
+   */
+  @Test
+  void labelsUnderAnotherNameAreNotedInsteadOfReadingAsNoConflict() throws Exception {
+    boolean[][] codes = new boolean[6][8];
+    for (int i = 0; i < 6; i++) codes[i][i % 3] = true; // rows i and i + 3 share a code
+    Path npy = Files2.bits(tmp.resolve("c.npy"), codes);
+    Path meta = Files2.text(tmp.resolve("m.csv"), List.of("key,target", "a,0", "b,0", "c,0", "d,1", "e,1", "f,1"));
+    for (boolean named : new boolean[] {false, true}) {
+      Path idx = tmp.resolve("idx-" + named);
+      List<String> args = new ArrayList<>(List.of("build", "--out", idx.toString(), "--codes", npy.toString(), "--meta", meta.toString()));
+      if (named) args.addAll(List.of("--label-column", "target"));
+      Cli.Result b = Cli.run(args.toArray(String[]::new));
+      assertThat(b.code()).as(b.describe()).isZero();
+      assertThat(b.err().contains("no example has a label")).as(b.describe()).isEqualTo(!named);
+      Cli.Result d = Cli.run("dupes", "--index", idx.toString(), "--radius", "0", "--conflicting-labels", "--format", "json");
+      assertThat(d.code()).as(d.describe()).isZero();
+      int conflicts = io.actindex.cli.format.JsonWriterTest.STRICT.readTree(d.out()).get("summary").get("conflicting_groups").asInt();
+      assertThat(conflicts).as(d.describe()).isEqualTo(named ? 3 : 0);
+      assertThat(d.err().contains("no example in " + idx + " has a label")).as(d.describe()).isEqualTo(!named);
+    }
+  }
+
   @Test
   void badInputExitsTwoAndLeavesTheIndexUnchanged() throws Exception {
     SplittableRandom rnd = new SplittableRandom(5);

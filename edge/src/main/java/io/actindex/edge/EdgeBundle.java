@@ -360,8 +360,15 @@ public final class EdgeBundle {
     return maxSoftmaxOf(h);
   }
 
-  /** {@code max_i softmax(logits)_i}, computed stably. */
+  /**
+   * {@code max_i softmax(logits)_i}, computed stably. A single logit {@code z} is a binary head
+   * (scikit-learn's {@code MLPClassifier} on two classes has one output unit with the logistic
+   * function, {@code predict_proba = [1 - s, s]}, {@code s = 1 / (1 + e^-z)}; so does a PyTorch
+   * {@code BCEWithLogitsLoss} head): it counts as the two logits {@code (0, z)}, whose softmax is
+   * that pair. Softmax over the one logit alone would be 1 for every input.
+   */
   public static double maxSoftmaxOf(double[] logits) {
+    if (logits.length == 1) return 1 / (1 + Math.exp(-Math.abs(logits[0]))); // max(s, 1 - s)
     double max = Double.NEGATIVE_INFINITY;
     for (double v : logits) max = Math.max(max, v);
     double sum = 0;

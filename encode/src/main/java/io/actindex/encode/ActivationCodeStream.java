@@ -147,6 +147,11 @@ final class ActivationCodeStream implements CodeStream {
   }
 
   @Override
+  public List<String> columnNames() {
+    return src.columnNames();
+  }
+
+  @Override
   public void close() throws IOException {
     src.close();
   }

@@ -45,6 +45,15 @@ public interface CodeStream extends AutoCloseable {
     return java.util.List.of();
   }
 
+  /**
+   * The column names of the file read, when it has them (a CSV header line; for a model, its
+   * inputs' header), else null. Columns are read by position; the names let a later file be
+   * checked against the one an index was built from.
+   */
+  default java.util.List<String> columnNames() {
+    return null;
+  }
+
   @Override
   void close() throws IOException;
 }

@@ -159,7 +159,9 @@ public final class Encoders {
     String codes = kept == null || kept.equals(hidden) ? "code layers " + String.join(", ", hidden)
         : "hidden layers " + String.join(", ", hidden) + ", kept as code layers " + String.join(", ", kept);
     return file + ": layer order " + String.join(", ", order) + " (" + from + "); " + codes
-        + (out == null ? "; no output layer (every layer is a code layer)" : "; output layer " + out + " (not encoded)");
+        + (out == null ? "; no output layer (every layer is a code layer)" : "; output layer " + out + " (not encoded)")
+        + (m.withoutBias().isEmpty() ? "" : "; note: " + String.join(", ", m.withoutBias()) + (m.withoutBias().size() == 1 ? " has" : " have")
+            + " no .bias tensor (taken as 0) though the other layers have one: check that none was left out when saving");
   }
 
   /** As {@link #model(Path, Path, EncodeOptions)} for a loaded model. */

@@ -24,6 +24,9 @@ interface LayerSource extends AutoCloseable {
   /** How the inputs were read and interpreted, one line each (header decisions, model layers). */
   List<String> notes();
 
+  /** The column names of a source read from one file that has them (a CSV header line), else null. */
+  List<String> columnNames();
+
   /**
    * Reads up to {@code m} rows: layer {@code i} into {@code f[i]} (if floats) or {@code d[i]},
    * which the source may replace by its own array of at least {@code m * width} values. Returns
@@ -87,6 +90,11 @@ interface LayerSource extends AutoCloseable {
     @Override
     public List<String> notes() {
       return readers.stream().flatMap(r -> r.notes().stream()).toList();
+    }
+
+    @Override
+    public List<String> columnNames() {
+      return readers.size() == 1 ? readers.getFirst().columnNames() : null;
     }
 
     @Override

@@ -31,7 +31,10 @@ final class ModelLayers implements LayerSource {
       throw new BadInputException(in.source() + ": rows have " + in.cols() + " values but the model " + modelName + " (layer '"
           + mlp.layers().getFirst().name() + "', weight shape [" + mlp.layers().getFirst().out() + ", " + mlp.inputs() + "]) takes " + mlp.inputs()
           + in.notes().stream().filter(n -> n.contains("hint:")).map(n -> "; " + n.substring(n.indexOf("hint:"))).findFirst().orElse("")
-          + (in.rows() == mlp.inputs() ? "; the file has " + in.rows() + " rows: saved as features by examples? save it transposed (a.T)" : ""));
+          + (in.rows() == mlp.inputs() ? "; the file has " + in.rows() + " rows: saved as features by examples? save it transposed (a.T)" : "")
+          + (in.cols() == mlp.inputs() + 1 ? "; one column too many: is one of them the label (scikit-learn's data frames end with 'target')"
+              + " or a row index?" + (in.columnNames() == null ? "" : " (first column " + BadInputException.quote(in.columnNames().getFirst())
+                  + ", last " + BadInputException.quote(in.columnNames().getLast()) + ")") : ""));
     if (selected == null) {
       names = hidden;
     } else {
@@ -58,6 +61,12 @@ final class ModelLayers implements LayerSource {
     List<String> n = new java.util.ArrayList<>(in.notes());
     if (modelNote != null) n.add(modelNote);
     return n;
+  }
+
+  /** The names of the input columns (a CSV header), not of the hidden units. */
+  @Override
+  public List<String> columnNames() {
+    return in.columnNames();
   }
 
   @Override

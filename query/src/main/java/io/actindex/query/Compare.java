@@ -166,6 +166,7 @@ public final class Compare {
       Encoding.Read ra = read(p.a().source(), p, enc, prog);
       // B is encoded with A's options: with per-neuron medians, A's medians (A is the reference)
       Encoding.Read rb = read(p.b().source(), p, ra.options() == null ? enc : ra.options(), prog);
+      SourceColumns.check(ra.columns(), "sample A (" + p.a().source().file() + ")", rb.columns(), p.b().source().file().toString());
       a = ra.codes();
       b = rb.codes();
       if (ra.notes() != null) notes.addAll(ra.notes());

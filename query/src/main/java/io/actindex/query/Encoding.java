@@ -25,9 +25,10 @@ final class Encoding {
    * The codes read, the encoding options in force (medians and a model's layer order filled in;
    * null for a codes file), how the input was read ({@link CodeStream#notes()}), and, when asked
    * for, the activations the codes came from (row-major, one value per code bit of the source
-   * layout; null for a codes file or when not asked for).
+   * layout; null for a codes file or when not asked for), and the column names of the file read
+   * (its CSV header; a model's inputs' header) or null.
    */
-  record Read(CodeBlock codes, EncodeOptions options, java.util.List<String> notes, float[] activations) {}
+  record Read(CodeBlock codes, EncodeOptions options, java.util.List<String> notes, float[] activations, java.util.List<String> columns) {}
 
   /** A model for inputs: a file the user gave, or the bytes an index stores (named for messages). */
   record Model(Path file, String name, byte[] bytes) {
@@ -82,7 +83,7 @@ final class Encoding {
       if ((range.to() != -1 && row < range.to()) || (range.from() > 0 && range.from() >= row))
         throw new BadInputException(source.file() + ": rows " + range + " asked, the file has " + row + " rows");
       return new Read(new CodeBlock(layout, kept, buf.length == kept * w ? buf : Arrays.copyOf(buf, kept * w)),
-          stream.options(), stream.notes(), act == null ? null : Arrays.copyOf(act, kept * d));
+          stream.options(), stream.notes(), act == null ? null : Arrays.copyOf(act, kept * d), stream.columnNames());
     } catch (IOException e) {
       throw new UncheckedIOException(source.file() + ": " + e.getMessage(), e);
     }

@@ -173,13 +173,14 @@ public final class IndexBuilder {
     float[] values = read.activations() == null ? null
         : Layers.pickColumns(read.activations(), raw.size(), raw.layout().bits(), Layers.columns(raw.layout(), codes.layout()));
     Magnitudes mags = values == null ? null : Magnitudes.quantise(values, codes.size(), codes.layout().bits(), p.magnitudeBits());
-    List<Map<String, String>> meta = readMeta(p.meta(), codes.size(), p.source());
+    List<Map<String, String>> meta = readMeta(p.meta(), codes, p.source());
     byte[] model = p.source().kind() == Source.Kind.INPUTS ? readAll(p.source().model()) : null;
     // the options in force (per-neuron medians filled in) are what later queries must use
     EncodeOptions used = read.options() != null ? read.options() : p.encode();
     BuildInfo info = new BuildInfo(p.source().kind(), raw.layout(), model != null, used);
     Map<String, String> props = new java.util.HashMap<>(info.toProperties());
     props.put(MAGNITUDES, Integer.toString(mags == null ? 0 : mags.bits()));
+    SourceColumns.put(props, read.columns());
 
     boolean existed = Files.exists(p.dir());
     IndexWriter created;
@@ -199,6 +200,9 @@ public final class IndexBuilder {
       List<String> notes = new ArrayList<>(read.notes());
       notes.addAll(constantLayers(codes, p.source().kind() == Source.Kind.INPUTS ? p.source().model() : p.source().file(),
           p.source().kind() == Source.Kind.ACTIVATIONS));
+      if (meta != null && meta.stream().noneMatch(row -> row.containsKey("label")))
+        notes.add(p.meta().file() + ": note: no example has a label (no column 'label' with a value; --label-column NAME takes another, such as"
+            + " scikit-learn's 'target'), so label votes, purity and label conflicts have none to count");
       return new Result(first, codes.size(), codes.layout(), notes, read.options(),
           mags == null ? null : Quantisation.of(mags, values), w.takeWarnings());
     } catch (RuntimeException | Error e) {
@@ -257,7 +261,7 @@ public final class IndexBuilder {
         values = enc.activations();
         mags = Magnitudes.quantise(values, codes.size(), codes.layout().bits(), bits);
       }
-      meta = readMeta(p.meta(), codes.size(), p.source());
+      meta = readMeta(p.meta(), codes, p.source());
       if (meta != null)
         for (int i = 0; i < meta.size(); i++) {
           String key = meta.get(i).get("key");
@@ -315,11 +319,15 @@ public final class IndexBuilder {
     return Layers.project(raw, new CodeLayout(segs));
   }
 
-  private static List<Map<String, String>> readMeta(MetaCsv.Options o, int rows, Source source) {
+  /** The metadata rows, one per code of {@code codes} (whose width is the source's columns unless it is a model's inputs). */
+  private static List<Map<String, String>> readMeta(MetaCsv.Options o, CodeBlock codes, Source source) {
     if (o == null) return null;
     List<Map<String, String>> meta = MetaCsv.read(o);
+    int rows = codes.size(), cols = codes.layout().bits();
     if (meta.size() != rows)
-      throw new BadInputException(o.file() + ": " + meta.size() + " data rows, but " + source.file() + " has " + rows + " rows");
+      throw new BadInputException(o.file() + ": " + meta.size() + " data rows, but " + source.file() + " has " + rows + " rows"
+          + (meta.size() == cols && source.kind() != Source.Kind.INPUTS ? " of " + cols + " columns (saved as units by examples? save it"
+              + " transposed, a.T)" : ""));
     return meta;
   }
 

@@ -99,7 +99,9 @@ public final class MetaCsv {
     assign(target, header, o.labelColumn(), "label", name);
     assign(target, header, o.splitColumn(), "split", name);
     for (int c = 0; c < target.length; c++) {
-      if (target[c].isEmpty()) throw new BadInputException(name + ": column " + (c + 1) + " has an empty name");
+      if (target[c].isEmpty())
+        throw new BadInputException(name + ": column " + (c + 1) + " has an empty name" + (c == 0 ? " (a row index written by pandas' to_csv?"
+            + " write the file with index=False)" : ""));
       if (target[c].equals("id"))
         throw new BadInputException(name + ": column 'id' is reserved for the index's ids; pass it as the key column or rename it");
       if (MetaStore.reservedColumn(target[c]))

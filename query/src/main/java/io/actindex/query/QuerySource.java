@@ -75,6 +75,12 @@ public final class QuerySource {
         progress == null ? Progress.NONE : progress, activations);
     // notes about the file itself (its CSV header); the model's layers were reported at build
     for (String n : read.notes()) if (n.startsWith(source.file() + ":")) notes.add(n);
+    java.util.List<String> builtColumns = SourceColumns.of(reader.properties(), reader.dir().toString());
+    if (source.kind() == info.kind()) // activations against activations, inputs against inputs
+      SourceColumns.check(builtColumns, "the CSV the index " + reader.dir() + " was built from", read.columns(), source.file().toString());
+    else if (info.kind() == Source.Kind.INPUTS && builtColumns != null && builtColumns.equals(read.columns()))
+      throw new BadInputException(source.file() + ": its header names the model inputs the index " + reader.dir() + " was built from, but it"
+          + " was given as " + source.kind().name().toLowerCase(java.util.Locale.ROOT) + "; pass it with --inputs");
     CodeBlock raw = read.codes();
     CodeBlock codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString());
     CodeLayout split = raw.layout().bits() == target.bits() ? target : info.sourceLayout();

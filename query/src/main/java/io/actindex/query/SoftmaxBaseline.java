@@ -47,7 +47,7 @@ public final class SoftmaxBaseline {
     Mlp mlp = source.model() != null ? load(source.model()) : model(reader);
     if (mlp == null || mlp.outputLayer() == null) return null;
     RowRange range = rows == null ? RowRange.ALL : rows;
-    try (MatrixReader in = Encoders.openMatrix(source.file())) {
+    try (MatrixReader in = Encoders.openMatrix(source.file(), source.header())) { // the header choice the codes were read with
       if (in.cols() != mlp.inputs())
         throw new BadInputException(source.file() + ": rows have " + in.cols() + " values, the model takes " + mlp.inputs());
       double[] out = new double[64];

@@ -56,6 +56,10 @@ class MetaCsvTest {
     assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(h))).hasMessageContaining("never closed");
     Path i = write("key,label\n");
     assertThatThrownBy(() -> MetaCsv.read(new MetaCsv.Options(i, "name", null, null))).hasMessageContaining("no column 'name'");
+    // pandas' to_csv writes its row index under an empty header cell (from memory of that library)
+    Path pandas = write(",key,label\n0,k1,a\n1,k2,b\n");
+    assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(pandas))).hasMessageContaining("column 1 has an empty name")
+        .hasMessageContaining("index=False");
     Path j = write("name,label,class\nx,a,b\n");
     assertThatThrownBy(() -> MetaCsv.read(new MetaCsv.Options(j, "name", "class", null))).hasMessageContaining("clashes");
     Path k = write("id,label\n1,a\n");

@@ -28,7 +28,8 @@ import java.util.regex.Pattern;
  * <p>Header line, by {@link Header}: {@code YES} the first line names the columns; {@code NO} it
  * is data; {@code AUTO} it is a header when every cell is text, or when its cells are exactly the
  * column numbers {@code 0, 1, ..., d-1} (what a data-frame library writes for unnamed columns,
- * optionally after an empty or {@code Unnamed: 0} cell over a row-index column), data when every
+ * optionally after an empty or {@code Unnamed: 0} cell over a row-index column; refused as
+ * ambiguous when that is {@code 0} or {@code 0,1} alone, a likely row of codes), data when every
  * cell is a number, and refused (naming the first text cell) when it mixes both, or when its three
  * or more numbers are evenly spaced ({@code 1, 2, ..., d}; {@code 400, 410, 420}), as numbered
  * column names are. {@link #notes()}
@@ -87,7 +88,10 @@ public final class CsvMatrixReader implements MatrixReader {
       case AUTO -> detect(f, firstLine);
     };
     if (isHeader) {
-      header = Arrays.stream(f).map(String::trim).toList();
+      List<String> names = new ArrayList<>(Arrays.stream(f).map(String::trim).toList());
+      // np.savetxt(header=...) writes its comment mark first ("# h0,h1,..."): it is not part of the first name
+      if (names.getFirst().startsWith("#") && !first.stripLeading().startsWith("\"")) names.set(0, names.getFirst().substring(1).trim());
+      header = List.copyOf(names);
     } else {
       header = null;
       pending.add(first);
@@ -102,7 +106,13 @@ public final class CsvMatrixReader implements MatrixReader {
     if (pending.isEmpty()) throw new BadInputException(file + ": the CSV file has a header but no rows");
     String hint = indexColumnHint();
     if (hint != null) notes.add(hint);
+    for (int c = 0; header != null && c < header.size(); c++)
+      if (LABEL_HEADER.matcher(header.get(c)).matches())
+        notes.add(file + ": hint: column " + c + " is named " + BadInputException.quote(header.get(c)) + ", like a label (scikit-learn's data"
+            + " frames end with 'target'); it is read as values like every column: write the file without it if it is not one");
   }
+
+  private static final Pattern LABEL_HEADER = Pattern.compile("label|labels|target|class|y", Pattern.CASE_INSENSITIVE);
 
   /** The AUTO rule; adds the note saying what was chosen. */
   private boolean detect(String[] f, long firstLine) {
@@ -116,6 +126,10 @@ public final class CsvMatrixReader implements MatrixReader {
       notes.add(file + ": line " + firstLine + " taken as the header (every cell is text; --header no reads it as data)");
       return true;
     }
+    if (columnNumbers(f, 0) && f.length < 3) // "0" or "0,1": as likely a row of 0/1 codes or counts as pandas' header
+      throw new BadInputException(file + ": line " + firstLine + " holds " + String.join(", ", Arrays.stream(f).map(String::trim).toList())
+          + ", the column numbers a data-frame library writes over unnamed columns, or a row of data (with " + f.length
+          + (f.length == 1 ? " column" : " columns") + " either is likely); pass --header yes (a header) or --header no (data)");
     if (columnNumbers(f, 0) || (isIndexHeaderCell(f[0].trim()) && columnNumbers(f, 1))) {
       notes.add(file + ": line " + firstLine + " taken as the header (its cells are the column numbers; --header no reads it as data)");
       return true;
@@ -285,6 +299,11 @@ public final class CsvMatrixReader implements MatrixReader {
     return header;
   }
 
+  @Override
+  public List<String> columnNames() {
+    return header;
+  }
+
   /** How the file was read: the header decision, and a hint when column 0 looks like a row index. */
   @Override
   public List<String> notes() {
@@ -410,11 +429,22 @@ public final class CsvMatrixReader implements MatrixReader {
   /** The number in cell {@code f} (trimmed); empty, text, NaN and infinities are refused naming the cell. */
   private double value(String f, long at, int col) {
     if (f.isEmpty()) throw new BadInputException(where(at, col) + ": empty field");
-    if (!isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number");
+    if (!isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number" + otherSeparator(f));
     char c0 = f.charAt(f.length() - 1);
     double v = Character.isLetter(c0) ? Double.NaN : Double.parseDouble(f);
     if (!Double.isFinite(v)) throw new BadInputException(where(at, col) + ": value is " + BadInputException.quote(f) + "; only finite numbers are accepted");
     return v;
+  }
+
+  private static final Pattern OTHER_SEPARATOR = Pattern.compile("[\\s;]+");
+
+  /** A hint when a cell is several numbers apart by spaces, tabs or semicolons (np.savetxt's default delimiter is a space). */
+  private static String otherSeparator(String cell) {
+    String[] parts = OTHER_SEPARATOR.split(cell.trim());
+    if (parts.length < 2) return "";
+    for (String s : parts) if (!isNumber(s)) return "";
+    return "; it holds numbers separated by " + (cell.indexOf(';') >= 0 ? "semicolons" : cell.indexOf('\t') >= 0 ? "tabs" : "spaces")
+        + ", but cells are separated by commas: write the file with delimiter=',' (np.savetxt's default is a space)";
   }
 
   private String where(long at, int col) {

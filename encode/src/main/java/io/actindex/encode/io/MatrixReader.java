@@ -33,6 +33,11 @@ public interface MatrixReader extends AutoCloseable {
   /** Reads up to {@code maxRows} rows into {@code out} (row-major); returns the rows read, 0 at the end. */
   int read(double[] out, int maxRows) throws IOException;
 
+  /** The column names of a file that has them (a CSV header line), else null. */
+  default java.util.List<String> columnNames() {
+    return null;
+  }
+
   /** How the file was read, one line each (e.g. a CSV header decision); empty by default. */
   default java.util.List<String> notes() {
     return java.util.List.of();

@@ -116,6 +116,9 @@ public final class SafetensorsReader implements AutoCloseable {
       if (n < 0 || n > size - 8) {
         // torch.save writes a zip archive (since PyTorch 1.6) or, older, a pickle (protocol 2+ starts with 0x80)
         boolean zip = lb.get(0) == 'P' && lb.get(1) == 'K' && lb.get(2) == 3 && lb.get(3) == 4, pickle = (lb.get(0) & 0xff) == 0x80;
+        if (zip && firstZipEntry(ch).endsWith(".npy")) // np.savez: e.g. the arrays of scikit-learn's coefs_ and intercepts_
+          throw new BadInputException(file + ": a NumPy .npz archive, not safetensors; save the layers with safetensors.numpy.save_file,"
+              + " named NAME.weight [out, in] and NAME.bias (scikit-learn's coefs_[i] is [in, out]: save np.ascontiguousarray(coefs_[i].T))");
         if (zip || pickle)
           throw new BadInputException(file + ": a PyTorch checkpoint (torch.save, " + (zip ? "zip" : "pickle") + "), not safetensors; save the"
               + " weights with safetensors.torch.save_file(model.state_dict(), 'model.safetensors')");
@@ -220,6 +223,15 @@ public final class SafetensorsReader implements AutoCloseable {
     }
     if (at != dataStart + dataSize)
       throw new BadInputException(file + ": the tensors cover " + (at - dataStart) + " data bytes but the file holds " + dataSize);
+  }
+
+  /** The name of the first entry of a zip archive (its local file header at offset 0), or "" when it cannot be read. */
+  private static String firstZipEntry(Bytes ch) throws IOException {
+    ByteBuffer h = ByteBuffer.allocate(30 + 256).order(ByteOrder.LITTLE_ENDIAN);
+    while (h.hasRemaining() && ch.read(h, h.position()) > 0) {}
+    if (h.position() < 30) return "";
+    int len = Math.min(h.getShort(26) & 0xffff, h.position() - 30);
+    return new String(h.array(), 30, len, StandardCharsets.UTF_8);
   }
 
   private static void readFully(Bytes ch, ByteBuffer dst, long pos, String file) throws IOException {

@@ -79,8 +79,8 @@ public final class LayerOrder {
       String head = file + ": the numbers in the layer names give the order " + names(ordered.stream().map(Shape::name).toList())
           + ", but it does not chain: " + broken + "; ";
       if (chainsTransposed(ordered, inputWidth))
-        throw new BadInputException(head + "read as [in, out] (how Keras and JAX/Flax store a dense kernel) the weights chain in this order from the"
-            + " input width " + inputWidth + ": save each one transposed (W.T), as [out, in] like PyTorch's nn.Linear");
+        throw new BadInputException(head + "read as [in, out] (how scikit-learn's coefs_, Keras and JAX/Flax store a dense kernel) the weights chain in this order from the"
+            + " input width " + inputWidth + ": save each one transposed, as [out, in] like PyTorch's nn.Linear: np.ascontiguousarray(W.T)");
       List<List<String>> chains = chains(file, layers, inputWidth);
       throw new BadInputException(head + (chains.isEmpty() ? "no order of the layers chains" : candidates(chains)));
     }

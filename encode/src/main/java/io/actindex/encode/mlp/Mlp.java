@@ -41,7 +41,7 @@ public final class Mlp {
   }
 
   /** A model read from a file, and where its layer order came from. */
-  public record Loaded(Mlp mlp, LayerOrder.From orderFrom) {}
+  public record Loaded(Mlp mlp, LayerOrder.From orderFrom, List<String> withoutBias) {}
 
   private final List<Layer> layers;
   private final boolean outputLayer;
@@ -129,6 +129,7 @@ public final class Mlp {
     String file = r.file();
     LayerOrder.Resolved resolved = LayerOrder.resolve(file, shapes(r), order, inputWidth);
     List<Layer> layers = new ArrayList<>();
+    List<String> withoutBias = new ArrayList<>();
     for (String name : resolved.order()) {
       var w = r.entry(name + ".weight");
       int out = Math.toIntExact(w.shape()[0]), in = Math.toIntExact(w.shape()[1]);
@@ -137,12 +138,17 @@ public final class Mlp {
       if (r.entries().containsKey(name + ".bias")) {
         var b = r.entry(name + ".bias");
         if (b.shape().length != 1 || b.shape()[0] != out)
-          throw new BadInputException(file + ": tensor " + BadInputException.quote(name + ".bias") + ": field shape " + b.shapeString() + " does not match [" + out + "]");
+          throw new BadInputException(file + ": tensor " + BadInputException.quote(name + ".bias") + ": field shape " + b.shapeString() + " does not match ["
+              + out + "]" + (b.shape().length == 1 && b.shape()[0] == in ? "; it matches the weight's second dimension: is the weight [" + out + ", " + in
+                  + "] stored as [in, out] (scikit-learn's coefs_, a Keras or JAX/Flax kernel)? save it transposed, as [out, in]: np.ascontiguousarray(W.T)" : ""));
         bias = r.read(name + ".bias");
+      } else {
+        withoutBias.add(name);
       }
       layers.add(new Layer(name, weight, bias));
     }
-    return new Loaded(new Mlp(layers, outputLayer), resolved.from());
+    // a bias missing beside others is more often left out when saving than a layer built without one
+    return new Loaded(new Mlp(layers, outputLayer), resolved.from(), withoutBias.size() == layers.size() ? List.of() : List.copyOf(withoutBias));
   }
 
   /** Saves as safetensors (F32, PyTorch naming); {@code metadata} goes to {@code __metadata__}. */

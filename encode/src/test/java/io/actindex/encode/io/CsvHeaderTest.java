@@ -46,6 +46,77 @@ class CsvHeaderTest {
     }
   }
 
+  /**
+   * With one or two columns, a first line {@code 0} or {@code 0,1} is as likely a row of 0/1 codes
+   * (or counts) as pandas' header of unnamed columns; it was taken as the header, dropping the
+   * first example and shifting every id by one with exit code 0. Now refused under AUTO; YES and
+   * NO read it as told, and the same header over a row-index column is still a header.
+   */
+  @Test
+  void columnNumbersOfOneOrTwoColumnsAreRefusedAsAmbiguous() throws IOException {
+    for (String first : new String[] {"0", "0,1", " 0 , 1", "\"0\",\"1\""}) {
+      int d = first.split(",").length;
+      String row = d == 1 ? "1" : "1,1";
+      Path f = csv("codes.csv", first + "\n" + row + "\n" + row + "\n");
+      assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.AUTO)).as(first).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("codes.csv").hasMessageContaining("line 1").hasMessageContaining("--header yes")
+          .hasMessageContaining("--header no");
+      try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
+        assertThat(all(r, 3)).hasSize(3 * d).startsWith(0);
+      }
+      try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.YES)) {
+        assertThat(all(r, 2)).containsOnly(1);
+      }
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("df.csv", ",0,1\n0,0.5,-1\n1,2,3\n"), Header.AUTO)) {
+      assertThat(r.header()).containsExactly("", "0", "1");
+    }
+    for (String first : new String[] {"1", "1,0", "0,2"})
+      try (CsvMatrixReader r = CsvMatrixReader.open(csv("data.csv", first + "\n" + first + "\n"), Header.AUTO)) {
+        assertThat(r.header()).as(first).isNull();
+      }
+  }
+
+  /** np.savetxt writes numbers apart by a space unless told otherwise (its default delimiter, from memory of NumPy's API). */
+  @Test
+  void numbersApartBySpacesTabsOrSemicolonsAreRefusedSayingSo() throws IOException {
+    String[][] cases = {{"1.000000000000000000e+00 0.000000000000000000e+00\n2.5e+00 1e-03\n", "spaces"}, {"1\t2\n3\t4\n", "tabs"},
+        {"1;2\n3;4\n", "semicolons"}};
+    for (String[] c : cases) {
+      Path f = csv("savetxt.csv", c[0]);
+      assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.NO).read(new double[4], 2)).as(c[1]).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("savetxt.csv").hasMessageContaining("line 1").hasMessageContaining("separated by " + c[1])
+          .hasMessageContaining("delimiter=','");
+    }
+    assertThatThrownBy(() -> CsvMatrixReader.open(csv("word.csv", "1,two words\n"), Header.NO).read(new double[2], 1))
+        .hasMessageContaining("is not a number").hasMessageNotContaining("delimiter");
+  }
+
+  /** np.savetxt(header=...) writes "# " before the header (its default comments, from memory of NumPy's API). */
+  @Test
+  void theCommentMarkOfNumpysHeaderIsNotPartOfTheFirstName() throws IOException {
+    for (String first : new String[] {"# h0,h1", "#h0,h1", "h0,h1"})
+      try (CsvMatrixReader r = CsvMatrixReader.open(csv("st.csv", first + "\n1,2\n"), Header.AUTO)) {
+        assertThat(r.columnNames()).as(first).containsExactly("h0", "h1");
+        assertThat(all(r, 1)).containsExactly(1, 2);
+      }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("q.csv", "\"#h0\",h1\n1,2\n"), Header.AUTO)) {
+      assertThat(r.columnNames()).containsExactly("#h0", "h1"); // a quoted name is the name
+    }
+  }
+
+  /** A data frame written with its label (scikit-learn's frames end with a 'target' column) gets a hint naming the column. */
+  @Test
+  void aColumnNamedLikeALabelGetsAHint() throws IOException {
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("frame.csv", "f0,f1,target\n0.5,1,0\n1,2,1\n"), Header.AUTO)) {
+      assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("frame.csv: hint: column 2 is named 'target'"));
+      assertThat(all(r, 2)).containsExactly(0.5, 1, 0, 1, 2, 1);
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("plain.csv", "f0,f1,targets_seen\n0.5,1,0\n"), Header.AUTO)) {
+      assertThat(r.notes()).noneSatisfy(n -> assertThat(n).contains("hint"));
+    }
+  }
+
   @Test
   void textHeaderNumbersAreDataYesSkipsANumericFirstLine() throws IOException {
     try (CsvMatrixReader r = CsvMatrixReader.open(csv("t.csv", "a,b\n1,2\n"), Header.AUTO)) {

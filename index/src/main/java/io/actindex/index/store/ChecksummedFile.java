@@ -56,7 +56,12 @@ public final class ChecksummedFile {
   public static final int FOOTER_MAGIC = ~MAGIC;
   /** Bytes of the footer. */
   public static final int FOOTER_LENGTH = 12;
-  private static final int MAX_STRING_BYTES = 1 << 20;
+  /**
+   * Longest string field, in UTF-8 bytes, on both sides: a writer refuses a longer one, so it never
+   * writes what a reader refuses. An index property can be long (the per-unit medians of a layer of
+   * 60,000 units are about 1.2 MB of text; at 1 MiB such an index was built and then unreadable).
+   */
+  static final int MAX_STRING_BYTES = 1 << 26;
   /** System property: files up to this many bytes get their CRC verified before their body is read. */
   public static final String SMALL_FILE_PROPERTY = "actindex.open.fullCheckBytes";
   private static final long SMALL_FILE_DEFAULT = 1 << 20;
@@ -120,6 +125,8 @@ public final class ChecksummedFile {
     /** Writes a string as an int byte length and its UTF-8 bytes. */
     public void writeString(String s) throws IOException {
       byte[] b = s.getBytes(StandardCharsets.UTF_8);
+      if (b.length > MAX_STRING_BYTES)
+        throw new IllegalArgumentException("a string field of " + b.length + " bytes, over the " + MAX_STRING_BYTES + " a reader takes");
       writeInt(b.length);
       write(b);
     }

@@ -144,6 +144,26 @@ class IndexWriterTest {
     }
   }
 
+  /**
+   * A property of over 1 MiB (the medians of a 60,000-unit layer kept by build --median) was
+   * written, and then every open refused the manifest ("impossible length"): an index built with
+   * exit code 0 that no command could read.
+   */
+  @Test
+  void aPropertyOfSeveralMegabytesIsReadBack() {
+    Path dir = tmp.resolve("idx");
+    StringBuilder medians = new StringBuilder();
+    java.util.SplittableRandom rnd = new java.util.SplittableRandom(5);
+    for (int i = 0; i < 150_000; i++) medians.append(i == 0 ? "" : ",").append(rnd.nextGaussian());
+    try (IndexWriter w = IndexWriter.create(dir, CodeLayout.single("bits", 32), Map.of("encode.median.bits", medians.toString()))) {
+      w.putProperties(Map.of("other", "1"));
+    }
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertEquals(medians.toString(), r.properties().get("encode.median.bits"));
+      assertTrue(medians.length() > 2 << 20);
+    }
+  }
+
   @Test
   void propertiesAndAttachmentsAreCommitted() {
     Path dir = tmp.resolve("idx");

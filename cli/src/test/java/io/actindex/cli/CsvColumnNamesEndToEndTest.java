@@ -1,0 +1,129 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import io.actindex.encode.io.SafetensorsWriter;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.SplittableRandom;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * CSV files are read by position. An index built from a CSV with a header keeps its column names,
+ * and a later CSV of the same kind whose header names other columns, or the same ones in another
+ * order (a data frame whose columns were reordered), is refused instead of being encoded as other
+ * units. scikit-learn refuses the same at predict time (scikit-learn 1.x, {@code
+ * sklearn.base.BaseEstimator}: "The feature names should match those that were passed during
+ * fit"). Files without a header, and files of another kind, are read by position as before.
+ */
+class CsvColumnNamesEndToEndTest {
+  @TempDir Path tmp;
+
+  static final int D = 6;
+
+  /** Rows as CSV lines under {@code header} (null: none; names quoted), columns taken in the order {@code cols}. */
+  private Path csv(String name, float[][] rows, List<String> header, int[] cols) {
+    List<String> lines = new ArrayList<>();
+    if (header != null) {
+      List<String> h = new ArrayList<>();
+      for (int c : cols) h.add("\"" + header.get(c).replace("\"", "\"\"") + "\""); // RFC 4180 quoting
+      lines.add(String.join(",", h));
+    }
+    for (float[] r : rows) {
+      StringBuilder sb = new StringBuilder();
+      for (int c : cols) sb.append(sb.isEmpty() ? "" : ",").append(String.format(Locale.ROOT, "%.6f", r[c]));
+      lines.add(sb.toString());
+    }
+    return Files2.text(tmp.resolve(name), lines);
+  }
+
+  private static final int[] SAME = {0, 1, 2, 3, 4, 5}, REVERSED = {5, 4, 3, 2, 1, 0};
+
+  private static List<String> names(String prefix) {
+    List<String> n = new ArrayList<>();
+    for (int i = 0; i < D; i++) n.add(prefix + i);
+    return n;
+  }
+
+  private static void assertRefused(Cli.Result r, Path file, String mention) {
+    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(r.err()).as(r.describe()).contains(file.getFileName().toString()).contains("column 0").contains(mention);
+    assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
+  }
+
+  @Test
+  void activationsWhoseHeaderNamesOtherOrReorderedColumnsAreRefused() {
+    SplittableRandom rnd = new SplittableRandom(11);
+    float[][] train = SourcesEndToEndTest.activations(40, D, rnd), query = SourcesEndToEndTest.activations(5, D, rnd);
+    List<String> h = names("h");
+    Path idx = tmp.resolve("idx");
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--activations", csv("train.csv", train, h, SAME).toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+
+    Cli.Result named = Cli.run("nearest", "--index", idx.toString(), "--activations", csv("q.csv", query, h, SAME).toString(), "--format", "json");
+    Cli.Result bare = Cli.run("nearest", "--index", idx.toString(), "--activations", csv("q-bare.csv", query, null, SAME).toString(), "--format", "json");
+    assertThat(named.code()).as(named.describe()).isZero();
+    assertThat(bare.code()).as(bare.describe()).isZero();
+    assertThat(named.out()).as("same columns: the header changes nothing").isEqualTo(bare.out());
+
+    Map<String, String> before = Files2.checksums(idx);
+    Path reordered = csv("q-reordered.csv", query, h, REVERSED);
+    for (String cmd : List.of("nearest", "region", "add"))
+      assertRefused(Cli.run(cmd, "--index", idx.toString(), "--activations", reordered.toString()), reordered, "another order");
+    assertRefused(Cli.run("dupes", "--index", idx.toString(), "--radius", "1", "--against", reordered.toString()), reordered, "another order");
+    Path renamed = csv("q-renamed.csv", query, names("x"), SAME);
+    assertRefused(Cli.run("nearest", "--index", idx.toString(), "--activations", renamed.toString()), renamed, "without its header line");
+    assertThat(Files2.checksums(idx)).as("index unchanged").isEqualTo(before);
+
+    Cli.Result added = Cli.run("add", "--index", idx.toString(), "--activations", csv("more.csv", query, h, SAME).toString());
+    assertThat(added.code()).as(added.describe()).isZero();
+  }
+
+  @Test
+  void anIndexBuiltWithoutColumnNamesReadsAnyHeaderByPosition() {
+    SplittableRandom rnd = new SplittableRandom(12);
+    float[][] train = SourcesEndToEndTest.activations(30, D, rnd), query = SourcesEndToEndTest.activations(4, D, rnd);
+    for (Path src : List.of(csv("bare.csv", train, null, SAME), Files2.floats(tmp.resolve("train.npy"), train))) {
+      Path idx = tmp.resolve("idx-" + src.getFileName());
+      Cli.Result b = Cli.run("build", "--out", idx.toString(), "--activations", src.toString());
+      assertThat(b.code()).as(b.describe()).isZero();
+      Cli.Result q = Cli.run("nearest", "--index", idx.toString(), "--activations", csv("q-any.csv", query, names("x"), REVERSED).toString());
+      assertThat(q.code()).as(q.describe()).isZero();
+    }
+  }
+
+  @Test
+  void modelInputsAndCompareSamplesWithReorderedColumnsAreRefused() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(13);
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    double[] w0 = new double[4 * D], w1 = new double[2 * 4];
+    for (int i = 0; i < w0.length; i++) w0[i] = rnd.nextDouble(-1, 1);
+    for (int i = 0; i < w1.length; i++) w1[i] = rnd.nextDouble(-1, 1);
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {4, D}, w0));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, 4}, w1));
+    Path model = tmp.resolve("mlp.safetensors");
+    SafetensorsWriter.write(model, t, Map.of());
+    float[][] train = SourcesEndToEndTest.activations(30, D, rnd), query = SourcesEndToEndTest.activations(4, D, rnd);
+    List<String> features = List.of("mean radius", "mean texture", "area, worst", "smoothness \"se\"", "x4", "x5");
+    Path inputs = csv("inputs.csv", train, features, SAME);
+    Path idx = tmp.resolve("idx");
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--model", model.toString(), "--inputs", inputs.toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    Path same = csv("q.csv", query, features, SAME);
+    Cli.Result ok = Cli.run("nearest", "--index", idx.toString(), "--inputs", same.toString());
+    assertThat(ok.code()).as(ok.describe()).isZero();
+    Path reordered = csv("q-reordered.csv", query, features, REVERSED);
+    assertRefused(Cli.run("nearest", "--index", idx.toString(), "--inputs", reordered.toString()), reordered, "another order");
+    // the inputs given as activations: refused by their header even where widths would match
+    Cli.Result asActs = Cli.run("nearest", "--index", idx.toString(), "--activations", same.toString());
+    assertThat(asActs.code()).as(asActs.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(asActs.err()).as(asActs.describe()).contains("q.csv").contains("pass it with --inputs");
+    assertRefused(Cli.run("compare", "--a", inputs.toString(), "--b", reordered.toString(), "--model", model.toString(), "--kind", "inputs"),
+        reordered, "another order");
+  }
+}

@@ -1,0 +1,51 @@
+package io.actindex.query;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
+
+import io.actindex.core.BadInputException;
+import java.util.HashMap;
+import java.util.List;
+import java.util.Map;
+import org.junit.jupiter.api.Test;
+
+/** The column names an index keeps, and the check of a later file's header against them. */
+class SourceColumnsTest {
+  @Test
+  void namesSurviveTheIndexPropertyWhateverTheyHold() {
+    List<String> names = List.of("mean radius", "a,b", "say \"hi\"", "back\\slash", "", "tab\there", "ünï", "0");
+    Map<String, String> props = new HashMap<>();
+    SourceColumns.put(props, names);
+    assertThat(SourceColumns.of(props, "idx")).isEqualTo(names);
+    Map<String, String> none = new HashMap<>();
+    SourceColumns.put(none, null);
+    assertThat(none).isEmpty();
+    assertThat(SourceColumns.of(none, "idx")).isNull();
+    // a header too long for the manifest's strings (1 MiB) is not recorded: the index must stay readable
+    List<String> wide = new java.util.ArrayList<>();
+    for (int i = 0; i < 40_000; i++) wide.add("activation_" + i);
+    Map<String, String> big = new HashMap<>();
+    SourceColumns.put(big, wide.subList(0, 1000));
+    assertThat(big).containsKey(SourceColumns.PROPERTY);
+    big.clear();
+    SourceColumns.put(big, wide);
+    assertThat(big).isEmpty();
+    props.put(SourceColumns.PROPERTY, "[\"a\", 3]");
+    assertThatThrownBy(() -> SourceColumns.of(props, "idx")).isInstanceOf(BadInputException.class).hasMessageContaining("idx");
+  }
+
+  @Test
+  void onlyTheSameNamesInTheSameOrderPass() {
+    List<String> built = List.of("h0", "h1", "h2");
+    SourceColumns.check(built, "the build", List.of("h0", "h1", "h2"), "q.csv");
+    SourceColumns.check(built, "the build", null, "q.csv"); // no header: read by position
+    SourceColumns.check(null, "the build", List.of("x", "y", "z"), "q.csv"); // nothing recorded
+    SourceColumns.check(built, "the build", List.of("h0", "h1"), "q.csv"); // another width: refused by the width check
+    assertThatThrownBy(() -> SourceColumns.check(built, "the build", List.of("h0", "h2", "h1"), "q.csv"))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("q.csv: column 1 (0-based) is 'h2'").hasMessageContaining("another order");
+    assertThatThrownBy(() -> SourceColumns.check(built, "the build", List.of("h0", "h1", "h1"), "q.csv"))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("column 2").hasMessageNotContaining("another order");
+    assertThatThrownBy(() -> SourceColumns.check(built, "the build", List.of("h0", "h1", "H2"), "q.csv"))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("'H2' where the build has 'h2'");
+  }
+}
