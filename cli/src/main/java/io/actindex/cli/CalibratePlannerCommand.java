@@ -39,12 +39,15 @@ final class CalibratePlannerCommand implements Callable<Integer> {
   @Option(names = "--out", paramLabel = "FILE", description = "Where to keep the costs (default: see above).")
   Path out;
 
-  @Option(names = "--dry-run", description = "Measure and print, write nothing.")
+  @Option(names = "--dry-run", description = "Measure and print, write nothing (not with --out).")
   boolean dryRun;
 
   @Override
   public Integer call() {
     if (runs < 1 || runs > 100) throw new ParameterException(spec.commandLine(), "--runs must be 1..100, not " + runs);
+    // a dry run writes no file, so a file to write it to means nothing; read as "write here, not to the machine's file" it
+    // would leave the user waiting for a file that never comes
+    if (dryRun) GivenOptions.refuse(spec, "names the file to write; --dry-run writes none (leave out one of the two)", "--out");
     Path file = out != null ? out : PlannerCalibration.file();
     PlannerCalibration.Result r = PlannerCalibration.calibrate(runs);
     if (!dryRun) {

@@ -41,11 +41,16 @@ class CalibratePlannerEndToEndTest {
     assertThat(lines).contains("format=1");
     assertThat(lines.stream().filter(l -> !l.startsWith("format=") && l.matches("[a-z-]+=[0-9.e+-]+")).count()).isEqualTo(8);
 
-    Path dry = tmp.resolve("dry.properties");
-    Cli.Result d = Cli.run("calibrate-planner", "--runs", "1", "--out", dry.toString(), "--dry-run");
+    Path dry = tmp.resolve("dry.properties"); // the file a dry run would write: the machine's, given by the property
+    System.setProperty(PlannerCalibration.PROPERTY, dry.toString());
+    Cli.Result d = Cli.run("calibrate-planner", "--runs", "1", "--dry-run", "--format", "json");
     assertThat(d.code()).as(d.describe()).isZero();
-    assertThat(d.out()).contains("not written (--dry-run)").contains("walk");
+    JsonNode dryDoc = JsonWriterTest.STRICT.readTree(d.out());
+    assertThat(dryDoc.get("written").asBoolean()).isFalse();
+    assertThat(dryDoc.get("file").asText()).isEqualTo(dry.toString());
+    assertThat(Cli.run("calibrate-planner", "--runs", "1", "--dry-run").out()).contains("not written (--dry-run)").contains("walk");
     assertThat(dry).doesNotExist();
+    System.clearProperty(PlannerCalibration.PROPERTY);
 
     // queries on an index plan with the file's costs; the answers stay exact
     SplittableRandom rnd = new SplittableRandom(5);
@@ -94,6 +99,16 @@ class CalibratePlannerEndToEndTest {
       Cli.Result r = Cli.run("calibrate-planner", "--runs", runs, "--out", tmp.resolve("x").toString());
       assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
       assertThat(r.err()).as(r.describe()).contains("--runs must be 1..100");
+    }
+    // --out with --dry-run: the one names a file to write, the other writes none; refused before anything is measured
+    Path wanted = tmp.resolve("wanted.properties");
+    for (String[] args : List.of(new String[] {"calibrate-planner", "--out", wanted.toString(), "--dry-run"},
+        new String[] {"calibrate-planner", "--dry-run", "--runs", "1", "--out", wanted.toString(), "--format", "json"})) {
+      Cli.Result both = Cli.run(args);
+      assertThat(both.code()).as(both.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(both.err()).as(both.describe()).contains("--out names the file to write; --dry-run writes none").doesNotContain("\tat ");
+      assertThat(both.out()).as(both.describe()).isEmpty();
+      assertThat(wanted).doesNotExist();
     }
     Path plain = Files.writeString(tmp.resolve("plain-file"), "x");
     Path under = plain.resolve("costs.properties");
