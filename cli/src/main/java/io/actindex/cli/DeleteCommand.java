@@ -17,7 +17,8 @@ import picocli.CommandLine.Spec;
 /** {@code actindex delete}: tombstones for examples named by key or by a metadata filter. */
 @Command(name = "delete", mixinStandardHelpOptions = true,
     description = {"Deletes examples from an index in one atomic commit (their ids are never reused).",
-        "Their codes stay on disk until 'actindex compact'. An unknown key deletes nothing."})
+        "Their codes stay on disk until 'actindex compact'. Keys that name no live example (deleted already, or never added) "
+            + "are skipped and named on stderr; the others are deleted."})
 final class DeleteCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -28,7 +29,8 @@ final class DeleteCommand implements Callable<Integer> {
   Which which;
 
   static final class Which {
-    @Option(names = "--keys", paramLabel = "FILE", description = "A text file of keys, one per line (UTF-8; blank lines skipped).")
+    @Option(names = "--keys", paramLabel = "FILE", description = "A text file of keys, one per line (UTF-8; blank lines skipped). A key of no live example is skipped "
+        + "and named in a note.")
     Path keys;
 
     @Option(names = "--where", paramLabel = "EXPR", description = "A metadata filter, as in 'nearest --where'.")
@@ -47,17 +49,32 @@ final class DeleteCommand implements Callable<Integer> {
             .member("matched", r.matched())
             .member("deleted", r.deleted())
             .member("live", r.live())
+            .member("not_live", r.notLive().size())
             .endObject();
         out.println();
       }
-      case csv -> new CsvWriter(out, List.of("index", "matched", "deleted", "live"))
+      case csv -> new CsvWriter(out, List.of("index", "matched", "deleted", "live", "not_live"))
           .row(List.of(index.dir.toString(), Integer.toString(r.matched()), Integer.toString(r.deleted()),
-              Integer.toString(r.live())));
+              Integer.toString(r.live()), Integer.toString(r.notLive().size())));
       case table -> out.println("deleted " + r.deleted() + (r.deleted() == 1 ? " example" : " examples") + " from " + index.dir + "; " + r.live() + " live");
     }
     out.flush();
     if (which.where != null) index.noteIfEmpty(r.live() + r.deleted(), "--where", which.where, r.matched()); // live before the delete
+    if (!r.notLive().isEmpty()) noteNotLive(r.notLive());
     Summaries.warnings(spec.commandLine().getErr(), r.warnings());
     return ExitCodes.OK;
+  }
+
+  /** Shown of the keys that named no live example; the note counts the rest. */
+  static final int NOT_LIVE_SHOWN = 5;
+
+  private void noteNotLive(List<String> notLive) {
+    int n = notLive.size();
+    String shown = String.join(", ", notLive.subList(0, Math.min(n, NOT_LIVE_SHOWN)));
+    PrintWriter err = spec.commandLine().getErr();
+    err.println("note: keys file " + which.keys + ": " + n + (n == 1 ? " key names" : " keys name")
+        + " no live example (deleted already, or never added) and " + (n == 1 ? "was" : "were") + " skipped: " + shown
+        + (n > NOT_LIVE_SHOWN ? " and " + (n - NOT_LIVE_SHOWN) + " more" : ""));
+    err.flush();
   }
 }

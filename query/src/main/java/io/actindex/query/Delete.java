@@ -11,6 +11,7 @@ import java.nio.charset.CodingErrorAction;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.ArrayList;
 import java.util.List;
 import java.util.Objects;
 import org.roaringbitmap.RoaringBitmap;
@@ -18,7 +19,9 @@ import org.roaringbitmap.RoaringBitmap;
 /**
  * Deletes examples by key or by metadata filter, as one commit of tombstones (their ids are never
  * reused; {@link Compact} drops their codes). A keys file is read and every key resolved before
- * anything changes: an unknown key refuses the whole delete.
+ * anything changes: keys that name no live example (deleted already, or never added: the index keeps
+ * no keys of deleted examples, so it cannot tell which) are skipped and reported in
+ * {@link Result#notLive}, so that rerunning a list, or one that grows, deletes what is still live.
  */
 public final class Delete {
   private Delete() {}
@@ -40,29 +43,36 @@ public final class Delete {
    * @param deleted of those, how many this call deleted (all of them: deleted ones are not live)
    * @param live live examples after the delete
    * @param warnings problems that did not undo the commit
+   * @param notLive the keys file's keys that named no live example and were skipped, as
+   *     {@code line N: 'KEY'} in file order (empty for a filter)
    */
-  public record Result(int matched, int deleted, int live, List<String> warnings) {
+  public record Result(int matched, int deleted, int live, List<String> warnings, List<String> notLive) {
     public Result {
       warnings = List.copyOf(warnings);
+      notLive = List.copyOf(notLive);
     }
   }
 
   public static Result run(Params p) {
     RoaringBitmap ids;
+    List<String> notLive = new ArrayList<>();
     try (IndexReader r = IndexReader.open(p.dir())) {
-      ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile()) : Where.select(r.meta(), p.where());
+      ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile(), notLive) : Where.select(r.meta(), p.where());
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       int deleted = w.delete(ids);
       List<String> warnings = w.takeWarnings();
       try (IndexReader r = IndexReader.open(p.dir())) {
-        return new Result(ids.getCardinality(), deleted, r.liveCount(), warnings);
+        return new Result(ids.getCardinality(), deleted, r.liveCount(), warnings, notLive);
       }
     }
   }
 
-  /** The ids of the keys listed in {@code file}; refuses a key that is not live in the index. */
-  static RoaringBitmap byKeys(MetaStore meta, Path file) {
+  /**
+   * The ids of the keys listed in {@code file} that name live examples; each other key goes to
+   * {@code notLive} as {@code line N: 'KEY'}.
+   */
+  static RoaringBitmap byKeys(MetaStore meta, Path file, List<String> notLive) {
     byte[] bytes;
     try {
       bytes = Files.readAllBytes(file);
@@ -87,10 +97,8 @@ public final class Delete {
       if (key.length() > MAX_KEY_BYTES)
         throw new BadInputException("keys file " + file + " line " + (i + 1) + ": longer than " + MAX_KEY_BYTES + " characters");
       int id = meta.idOfKey(key);
-      if (id < 0)
-        throw new BadInputException("keys file " + file + " line " + (i + 1) + ": key '" + Snippet.of(key)
-            + "' is not a live example of the index (never added, or deleted already); nothing deleted");
-      ids.add(id);
+      if (id < 0) notLive.add("line " + (i + 1) + ": '" + Snippet.of(key) + "'");
+      else ids.add(id);
     }
     return ids;
   }
