@@ -12,6 +12,7 @@ import io.actindex.core.Forked;
 import io.actindex.index.meta.RowRefusal;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
+import io.actindex.index.store.Manifest;
 import io.actindex.index.store.StoreIo;
 import io.actindex.index.store.Magnitudes;
 import java.io.IOException;
@@ -181,6 +182,7 @@ public final class IndexBuilder {
     Map<String, String> props = new java.util.HashMap<>(info.toProperties());
     props.put(MAGNITUDES, Integer.toString(mags == null ? 0 : mags.bits()));
     SourceColumns.put(props, read.columns());
+    props.put(Manifest.BUILD_ROWS, Integer.toString(codes.size())); // until they are committed, the index is an unfinished build
 
     boolean existed = Files.exists(p.dir());
     IndexWriter created;

@@ -53,6 +53,24 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
 
   public static final String CODEC = "actindex.manifest";
   static final int VERSION_START = 1, VERSION_CURRENT = 3;
+
+  /**
+   * A property that a builder puts among the properties it creates an index with: the number of
+   * examples its first change commits. Creating publishes an empty index at once, so a builder
+   * killed before that change leaves one; while no id is given out, such an index is an unfinished
+   * build, refused by readers, writers and the check ({@link #refuseUnfinished}) instead of taken for
+   * an index whose examples were all deleted, or grown by adds that would hide the loss.
+   */
+  public static final String BUILD_ROWS = "build.rows";
+
+  /** Refuses an unfinished build (see {@link #BUILD_ROWS}) in {@code dir}. */
+  void refuseUnfinished(Path dir) {
+    String rows = properties.get(BUILD_ROWS);
+    if (rows != null && nextId == 0)
+      throw new BadInputException("index " + dir + ": an unfinished build: " + fileName(generation) + " holds none of the "
+          + rows + " examples the build was to commit (it is still running, or it was stopped by a kill or power loss "
+          + "before committing them); remove the folder and build again");
+  }
   /** The manifest of generation N is named exactly as {@link #fileName} writes it: no leading zeros ("manifest-0099" is a stray file). */
   private static final Pattern NAME = Pattern.compile("manifest-(0|[1-9]\\d{0,17})");
 
