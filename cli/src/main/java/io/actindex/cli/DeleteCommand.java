@@ -17,8 +17,8 @@ import picocli.CommandLine.Spec;
 /** {@code actindex delete}: tombstones for examples named by key or by a metadata filter. */
 @Command(name = "delete", mixinStandardHelpOptions = true,
     description = {"Deletes examples from an index in one atomic commit (their ids are never reused).",
-        "Their codes stay on disk until 'actindex compact'. Keys that name no live example (deleted already, or never added) "
-            + "are skipped and named on stderr; the others are deleted."})
+        "Their codes stay on disk until 'actindex compact'. A key that names no live example (deleted already, or never added) "
+            + "refuses the whole delete, unless --skip-missing is given."})
 final class DeleteCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -28,9 +28,14 @@ final class DeleteCommand implements Callable<Integer> {
   @ArgGroup(exclusive = true, multiplicity = "1")
   Which which;
 
+  @Option(names = "--skip-missing", description = "With --keys: keys that name no live example (deleted already, or never added) are "
+      + "skipped and named on stderr, and the others deleted, instead of refusing the whole delete (for rerunning a list, or one that "
+      + "grows).")
+  boolean skipMissing;
+
   static final class Which {
-    @Option(names = "--keys", paramLabel = "FILE", description = "A text file of keys, one per line (UTF-8; blank lines skipped). A key of no live example is skipped "
-        + "and named in a note.")
+    @Option(names = "--keys", paramLabel = "FILE", description = "A text file of keys, one per line (UTF-8; blank lines skipped). A key of no live example "
+        + "refuses the whole delete (nothing changes).")
     Path keys;
 
     @Option(names = "--where", paramLabel = "EXPR", description = "A metadata filter, as in 'nearest --where'.")
@@ -40,7 +45,8 @@ final class DeleteCommand implements Callable<Integer> {
   @Override
   public Integer call() {
     EmptyFilter.refuse(spec, "--where", which.where, "delete needs a filter such as --where \"split = test\" (it never deletes every example)");
-    Delete.Result r = Delete.run(new Delete.Params(index.dir, which.keys, which.where));
+    if (which.where != null) GivenOptions.refuse(spec, "is about --keys; --where names live examples only", "--skip-missing");
+    Delete.Result r = Delete.run(new Delete.Params(index.dir, which.keys, which.where, skipMissing));
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
       case json -> {

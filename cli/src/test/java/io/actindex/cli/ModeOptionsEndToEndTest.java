@@ -96,6 +96,7 @@ class ModeOptionsEndToEndTest {
         new Case("--candidates", 1, "ood", "eval", "--index", i, "--in", calActs.toString(), "--out", farActs.toString(), "--kind",
             "activations", "--in-floats", calActs.toString(), "--out-floats", farActs.toString(), "--train-floats", acts.toString(),
             "--roc", tmp.resolve("roc.csv").toString(), "--candidates", "50"),
+        new Case("--skip-missing", 0, "delete", "--index", i, "--where", "label = nothing-has-this", "--skip-missing"),
         new Case("--header", 1, "add", "--index", ci, "--codes", queryCodes.toString(), "--header", "no"));
     Map<String, String> before = Files2.checksums(idx), codesBefore = Files2.checksums(codesIdx), plainBefore = Files2.checksums(plainIdx);
     for (Case c : cases) {

@@ -60,9 +60,15 @@ class StorageCommandsEndToEndTest {
     JsonNode d = json(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json"));
     assertThat(d.get("deleted").asInt()).isEqualTo(3);
     live.removeAll(List.of(5, 7, 250));
-    // the same list again (a rerun after a warning): nothing left to delete, exit 0, the keys named, no commit
+    // the same list again: refused by default (a typo never deletes half a list), files unchanged
     Map<String, String> once = Files2.checksums(idx);
-    Cli.Result again = ok(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json"));
+    Cli.Result refused = Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json");
+    assertThat(refused.code()).as(refused.describe()).isEqualTo(2);
+    assertThat(refused.err()).contains(keys.toString()).contains("line 1: 'k5' is not a live example").contains("and 2 more")
+        .contains("nothing deleted").contains("--skip-missing");
+    assertThat(Files2.checksums(idx)).isEqualTo(once);
+    // with --skip-missing (a rerun after a warning): nothing left to delete, exit 0, the keys named, no commit
+    Cli.Result again = ok(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json", "--skip-missing"));
     assertThat(again.err().strip()).as(again.describe()).doesNotContain("\n")
         .contains("3 keys name no live example (deleted already, or never added)").contains("line 1: 'k5'")
         .contains("line 3: 'row-250'").contains("line 4: 'k7'");
@@ -102,11 +108,12 @@ class StorageCommandsEndToEndTest {
 
   /**
    * A keys file mixing live keys, keys deleted earlier, never-added keys (a typo, a stray byte order
-   * mark) and ids never given out: the live ones are deleted, the others are skipped and named with
-   * their lines in one note, exit 0; search stays exact. Over several seeds of which keys go where.
+   * mark) and ids never given out: refused as a whole by default (exit 2, files unchanged); with
+   * --skip-missing the live ones are deleted, the others are skipped and named with their lines in
+   * one note, exit 0; search stays exact. Over several seeds of which keys go where.
    */
   @Test
-  void keysOfNoLiveExampleAreSkippedAndNamedWhileTheOthersAreDeleted() throws Exception {
+  void keysOfNoLiveExampleRefuseTheDeleteOrWithSkipMissingAreSkippedAndNamed() throws Exception {
     ok(Cli.run("delete", "--index", idx.toString(), "--keys", Files2.text(tmp.resolve("first.txt"), List.of("k3", "row-203")).toString()));
     live.removeAll(List.of(3, 203));
     Map<String, String> start = Files2.checksums(idx);
@@ -133,7 +140,14 @@ class StorageCommandsEndToEndTest {
         lines.add(key);
       }
       Path keys = Files2.text(tmp.resolve("mixed" + seed + ".txt"), lines);
-      Cli.Result r = ok(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json"));
+      if (!wantSkipped.isEmpty()) { // without --skip-missing the whole delete is refused, nothing changed
+        Map<String, String> before = Files2.checksums(idx);
+        Cli.Result refused = Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString());
+        assertThat(refused.code()).as("seed " + seed + " " + refused.describe()).isEqualTo(2);
+        assertThat(refused.err()).as("seed " + seed).contains(wantSkipped.getFirst() + " is not a live example");
+        assertThat(Files2.checksums(idx)).as("seed " + seed).isEqualTo(before);
+      }
+      Cli.Result r = ok(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json", "--skip-missing"));
       JsonNode d = JsonWriterTest.STRICT.readTree(r.out());
       String why = "seed " + seed + " keys " + lines + " " + r.describe();
       assertThat(d.get("deleted").asInt()).as(why).isEqualTo(wantGone.size());
@@ -151,7 +165,7 @@ class StorageCommandsEndToEndTest {
     assertThat(Files2.checksums(idx)).isNotEqualTo(start);
     // a second byte order mark (files joined with cat) stays in the key; the note shows it escaped
     Path twoMarks = Files2.write(tmp.resolve("two-marks.txt"), "\uFEFFk1\n\uFEFFk2\n".getBytes(java.nio.charset.StandardCharsets.UTF_8));
-    Cli.Result r = ok(Cli.run("delete", "--index", idx.toString(), "--keys", twoMarks.toString()));
+    Cli.Result r = ok(Cli.run("delete", "--index", idx.toString(), "--keys", twoMarks.toString(), "--skip-missing"));
     assertThat(r.err()).as(r.describe()).contains("no live example").contains("line 2: '\\ufeffk2'");
   }
 

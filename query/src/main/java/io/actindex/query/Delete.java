@@ -19,8 +19,9 @@ import org.roaringbitmap.RoaringBitmap;
 /**
  * Deletes examples by key or by metadata filter, as one commit of tombstones (their ids are never
  * reused; {@link Compact} drops their codes). A keys file is read and every key resolved before
- * anything changes: keys that name no live example (deleted already, or never added: the index keeps
- * no keys of deleted examples, so it cannot tell which) are skipped and reported in
+ * anything changes: a key that names no live example (deleted already, or never added: the index keeps
+ * no keys of deleted examples, so it cannot tell which) refuses the whole delete, so a typo never
+ * deletes half a list; with {@code skipMissing} such keys are skipped and reported in
  * {@link Result#notLive}, so that rerunning a list, or one that grows, deletes what is still live.
  */
 public final class Delete {
@@ -29,12 +30,21 @@ public final class Delete {
   /** Longest line of a keys file (bytes); longer lines are refused. */
   static final int MAX_KEY_BYTES = 64 * 1024;
 
-  /** Exactly one of {@code keysFile} (one key per line, UTF-8, a byte order mark and blank lines skipped) and {@code where}. */
-  public record Params(Path dir, Path keysFile, String where) {
+  /**
+   * Exactly one of {@code keysFile} (one key per line, UTF-8, a byte order mark and blank lines
+   * skipped) and {@code where}; {@code skipMissing} (keys file only) skips keys of no live example
+   * instead of refusing the delete.
+   */
+  public record Params(Path dir, Path keysFile, String where, boolean skipMissing) {
     public Params {
       Objects.requireNonNull(dir, "dir");
       if ((keysFile == null) == (where == null))
         throw new IllegalArgumentException("give exactly one of a keys file and a where-expression");
+      if (skipMissing && keysFile == null) throw new IllegalArgumentException("skipping missing keys needs a keys file");
+    }
+
+    public Params(Path dir, Path keysFile, String where) {
+      this(dir, keysFile, where, false);
     }
   }
 
@@ -59,6 +69,10 @@ public final class Delete {
     try (IndexReader r = IndexReader.open(p.dir())) {
       ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile(), notLive) : Where.select(r.meta(), p.where());
     }
+    if (!notLive.isEmpty() && !p.skipMissing())
+      throw new BadInputException("keys file " + p.keysFile() + " " + notLive.getFirst() + " is not a live example of the index "
+          + "(never added, or deleted already)" + (notLive.size() > 1 ? ", and " + (notLive.size() - 1) + " more key(s) are not" : "")
+          + "; nothing deleted (--skip-missing deletes the others and names these)");
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       int deleted = w.delete(ids);
       List<String> warnings = w.takeWarnings();
