@@ -4,19 +4,13 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.within;
 
 import io.actindex.core.CodeBlock;
-import io.actindex.encode.Encoders;
 import io.actindex.encode.mlp.DigitsData;
 import io.actindex.query.stats.FloatSample;
 import io.actindex.query.stats.Frechet;
 import io.actindex.query.stats.Wasserstein;
 import java.io.IOException;
-import java.net.URISyntaxException;
-import java.nio.file.Files;
 import java.nio.file.Path;
-import java.util.HashMap;
 import java.util.List;
-import java.util.Map;
-import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 
 /**
@@ -29,37 +23,18 @@ import org.junit.jupiter.api.Test;
  */
 class CompareEdgesGoldenTest {
   static final List<String> CASES = List.of("bit_equal", "bit_unequal", "wide_unequal", "two_rows", "identical", "constant_neurons");
-  static Map<String, Double> expected = new HashMap<>();
-
-  @BeforeAll
-  static void load() throws IOException {
-    for (String line : Files.readAllLines(path("expected.txt"))) {
-      if (line.startsWith("#")) continue;
-      String[] kv = line.split(" ");
-      expected.put(kv[0], Double.parseDouble(kv[1]));
-    }
-  }
+  static final GoldenFiles GOLDEN = new GoldenFiles("compare_edges");
 
   static Path path(String name) {
-    try {
-      var url = CompareEdgesGoldenTest.class.getResource("/golden/compare_edges/" + name);
-      if (url == null) throw new IllegalStateException("missing golden file " + name);
-      return Path.of(url.toURI());
-    } catch (URISyntaxException e) {
-      throw new IllegalStateException(e);
-    }
+    return GOLDEN.path(name);
   }
 
   static CodeBlock codes(String name) throws IOException {
-    try (var s = Encoders.codes(path(name), null)) {
-      return Encoders.readAll(s);
-    }
+    return GOLDEN.codes(name);
   }
 
   static double exp(String key) {
-    Double v = expected.get(key);
-    if (v == null) throw new IllegalStateException("no expected value " + key);
-    return v;
+    return GOLDEN.exp(key);
   }
 
   @Test

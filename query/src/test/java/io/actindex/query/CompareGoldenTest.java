@@ -4,7 +4,6 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.within;
 
 import io.actindex.core.CodeBlock;
-import io.actindex.encode.Encoders;
 import io.actindex.encode.io.NpyReader;
 import io.actindex.query.stats.AgreementMmd;
 import io.actindex.query.stats.FiringRates;
@@ -17,12 +16,8 @@ import io.actindex.query.stats.PermutationTest;
 import io.actindex.query.stats.Permutations;
 import io.actindex.query.stats.Wasserstein;
 import java.io.IOException;
-import java.net.URISyntaxException;
-import java.nio.file.Files;
 import java.nio.file.Path;
-import java.util.HashMap;
 import java.util.List;
-import java.util.Map;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 
@@ -35,16 +30,12 @@ import org.junit.jupiter.api.Test;
  * scipy.stats.norm.sf}) and Benjamini-Hochberg ({@code scipy.stats.false_discovery_control}).
  */
 class CompareGoldenTest {
-  static Map<String, Double> expected = new HashMap<>();
+  static final GoldenFiles GOLDEN = new GoldenFiles("compare");
   static Permutations fixed;
   static int permCount;
 
   @BeforeAll
   static void load() throws IOException {
-    for (String line : Files.readAllLines(path("expected.txt"))) {
-      String[] kv = line.split(" ");
-      expected.put(kv[0], Double.parseDouble(kv[1]));
-    }
     FloatSample perms = Compare.readFloats(path("perms.npy"), List.of());
     permCount = perms.rows();
     fixed = (p, order) -> {
@@ -53,25 +44,15 @@ class CompareGoldenTest {
   }
 
   static Path path(String name) {
-    try {
-      var url = CompareGoldenTest.class.getResource("/golden/compare/" + name);
-      if (url == null) throw new IllegalStateException("missing golden file " + name);
-      return Path.of(url.toURI());
-    } catch (URISyntaxException e) {
-      throw new IllegalStateException(e);
-    }
+    return GOLDEN.path(name);
   }
 
   static CodeBlock codes(String name) throws IOException {
-    try (var s = Encoders.codes(path(name), null)) {
-      return Encoders.readAll(s);
-    }
+    return GOLDEN.codes(name);
   }
 
   static double exp(String key) {
-    Double v = expected.get(key);
-    if (v == null) throw new IllegalStateException("no expected value " + key);
-    return v;
+    return GOLDEN.exp(key);
   }
 
   @Test
