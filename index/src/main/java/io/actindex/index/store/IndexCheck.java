@@ -70,7 +70,7 @@ public final class IndexCheck {
   public static Report run(Path dir) {
     if (!Files.isDirectory(dir)) throw new BadInputException("index folder " + dir + " does not exist or is not a folder");
     long gen = Manifest.newestGeneration(dir);
-    if (gen < 0) throw new BadInputException("no index in " + dir + ": no manifest-N file");
+    if (gen < 0) throw Manifest.noManifest(dir);
     List<FileResult> out = new ArrayList<>();
     String manifestName = Manifest.fileName(gen);
     Manifest m;

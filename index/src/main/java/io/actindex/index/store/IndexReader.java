@@ -118,7 +118,7 @@ public final class IndexReader implements AutoCloseable {
     long started = System.nanoTime();
     while (true) {
       long gen = Manifest.newestGeneration(dir);
-      if (gen < 0) throw new BadInputException("no index in " + dir + ": no manifest-N file (not an index, or its manifest was deleted)");
+      if (gen < 0) throw Manifest.noManifest(dir);
       try {
         return load(dir, gen);
       } catch (RuntimeException e) {

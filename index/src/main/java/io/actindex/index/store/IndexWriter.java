@@ -116,7 +116,7 @@ public final class IndexWriter implements AutoCloseable {
       MetaWriter meta = null;
       try {
         long gen = Manifest.newestGeneration(dir);
-        if (gen < 0) throw new BadInputException("no index in " + dir + ": no manifest-N file");
+        if (gen < 0) throw Manifest.noManifest(dir);
         Manifest m = Manifest.read(dir, gen);
         m.refuseUnfinished(dir);
         RoaringBitmap deleted = Tombstones.read(dir, FileSource.DIRECT, m, ChecksummedFile.Check.OPEN);

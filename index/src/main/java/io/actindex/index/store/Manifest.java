@@ -152,6 +152,12 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
     return out;
   }
 
+  /** The refusal of {@code dir} when it holds no manifest ({@link #newestGeneration} is -1). */
+  static BadInputException noManifest(Path dir) {
+    return new BadInputException("no index in " + dir + ": no manifest-N file (not an index, its manifest was deleted, or a build "
+        + "there has not written its first one yet)");
+  }
+
   /** The highest generation whose {@code manifest-N} exists in {@code dir}, or -1. */
   public static long newestGeneration(Path dir) {
     long best = -1;
