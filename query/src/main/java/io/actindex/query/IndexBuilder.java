@@ -24,6 +24,8 @@ import java.util.Comparator;
 import java.util.List;
 import java.util.Map;
 import java.util.stream.Stream;
+import org.apache.lucene.index.Term;
+import org.apache.lucene.search.TermQuery;
 
 /**
  * Builds an index from a source, or adds a source to an existing index, with optional metadata.
@@ -202,6 +204,8 @@ public final class IndexBuilder {
       List<String> notes = new ArrayList<>(read.notes());
       notes.addAll(constantLayers(codes, p.source().kind() == Source.Kind.INPUTS ? p.source().model() : p.source().file(),
           p.source().kind() == Source.Kind.ACTIVATIONS));
+      String spelt = meta == null ? null : LabelSpellings.note(p.meta().file().toString(), meta, null);
+      if (spelt != null) notes.add(spelt);
       if (meta != null && meta.stream().noneMatch(row -> row.containsKey("label")))
         notes.add(p.meta().file() + ": note: no example has a label (no column 'label' with a value; --label-column NAME takes another, such as"
             + " scikit-learn's 'target'), so label votes, purity and label conflicts have none to count");
@@ -264,6 +268,11 @@ public final class IndexBuilder {
         mags = Magnitudes.quantise(values, codes.size(), codes.layout().bits(), bits);
       }
       meta = readMeta(p.meta(), codes, p.source());
+      if (meta != null) {
+        String spelt = LabelSpellings.note(p.meta().file().toString(), meta,
+            label -> !r.meta().select(new TermQuery(new Term("label", label))).isEmpty());
+        if (spelt != null) notes.add(spelt);
+      }
       if (meta != null)
         for (int i = 0; i < meta.size(); i++) {
           String key = meta.get(i).get("key");

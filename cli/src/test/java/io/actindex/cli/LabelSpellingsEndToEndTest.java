@@ -1,0 +1,29 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import java.nio.file.Path;
+import java.util.List;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/** A batch whose labels write the index's whole numbers as 3.0 (pandas, after a missing value) is added with a note. */
+class LabelSpellingsEndToEndTest {
+  @TempDir Path tmp;
+
+  @Test
+  void addNotesLabelsThatWriteTheIndexsNumbersAnotherWay() {
+    boolean[][] codes = new boolean[6][16];
+    for (int i = 0; i < 6; i++) codes[i][i] = true;
+    Path idx = tmp.resolve("idx");
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), codes).toString(),
+        "--meta", Files2.text(tmp.resolve("m.csv"), List.of("key,label", "a,0", "b,1", "c,1", "d,2", "e,0", "f,2")).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    assertThat(built.err()).doesNotContain("written two ways");
+    Path batch = Files2.text(tmp.resolve("batch.csv"), List.of("key,label", "g,1.0", "h,", "i,2.0"));
+    Cli.Result added = Cli.run("add", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("c2.npy"), new boolean[3][16]).toString(),
+        "--meta", batch.toString());
+    assertThat(added.code()).as(added.describe()).isZero();
+    assertThat(added.err()).as(added.describe()).contains(batch + ": note: label '1.0' and '1' in the index are the same number written two ways");
+  }
+}
