@@ -125,7 +125,9 @@ public final class Refine {
     String kind = reader.properties().get(BuildInfo.KIND);
     String how = "codes".equals(kind)
         ? "it was built from codes, which carry none; build it from activations (--activations) or a model and its inputs (--model, --inputs)"
-        : "it was built with --magnitudes off; build it again with --magnitudes 8 (the default for activations and inputs)";
+        : reader.properties().get(IndexBuilder.MAGNITUDES) == null
+            ? "it was built by an earlier actindex, which kept none; build it again (activations and inputs keep 8 bits per unit by default)"
+            : "it was built with --magnitudes off; build it again with --magnitudes 8 (the default for activations and inputs)";
     return "index " + reader.dir() + " keeps no magnitudes to refine with: " + how;
   }
 

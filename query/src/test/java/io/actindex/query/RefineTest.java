@@ -201,8 +201,18 @@ class RefineTest {
     TestIndexes.write(dir, codes, null, 1);
     try (IndexReader r = IndexReader.open(dir)) {
       QuerySource.Queries q = new QuerySource.Queries(new QueryCodes(codes.slice(0, 1), 0), new float[64]);
+      // no build.magnitudes.bits at all: written before kept magnitudes existed
       assertThatThrownBy(() -> Refine.run(r, q, new Refine.Params(1, 10, Refine.Metric.COSINE, null, null, 1), null))
-          .isInstanceOf(BadInputException.class).hasMessageContaining("keeps no magnitudes").hasMessageContaining("--magnitudes");
+          .isInstanceOf(BadInputException.class).hasMessageContaining("keeps no magnitudes").hasMessageContaining("earlier actindex");
+    }
+    Path off = tmp.resolve("off");
+    try (IndexWriter w = IndexWriter.create(off, codes.layout(), Map.of(IndexBuilder.MAGNITUDES, "0"))) {
+      w.add(codes, null);
+    }
+    try (IndexReader r = IndexReader.open(off)) {
+      QuerySource.Queries q = new QuerySource.Queries(new QueryCodes(codes.slice(0, 1), 0), new float[64]);
+      assertThatThrownBy(() -> Refine.run(r, q, new Refine.Params(1, 10, Refine.Metric.COSINE, null, null, 1), null))
+          .isInstanceOf(BadInputException.class).hasMessageContaining("keeps no magnitudes").hasMessageContaining("--magnitudes off");
     }
     assertThatThrownBy(() -> new Refine.Params(0, 10, null, null, null, 1)).isInstanceOf(BadInputException.class);
     assertThatThrownBy(() -> new Refine.Params(1, 0, null, null, null, 1)).isInstanceOf(BadInputException.class);
