@@ -330,7 +330,11 @@ public final class EdgeBundle {
     return (1.0 + (sorted.length - lo)) / (sorted.length + 1.0);
   }
 
-  /** The code of a raw input, through the bundle's model: exactly what the index's encoder gives. */
+  /**
+   * The code of a raw input, through the bundle's model: exactly what the index's encoder gives.
+   * Throws {@link IllegalArgumentException} when a hidden activation is not finite (the input is too
+   * large for the weights), where the index refuses the row too.
+   */
   public long[] encode(double[] input) {
     Model m = requireModel();
     long[] code = new long[words];
@@ -340,6 +344,10 @@ public final class EdgeBundle {
     int bit = 0;
     for (int l = 0; l < keptHidden.length; l++) {
       h = layer(m.layers().get(l), h, true);
+      for (int o = 0; o < h.length; o++) // as the index: an overflow is refused, never read as a bit
+        if (!Double.isFinite(h[o]))
+          throw new IllegalArgumentException("layer " + m.layers().get(l).name() + ", unit " + o + " overflows (" + h[o]
+              + "); the input is too large for the weights");
       if (keptHidden[l] < 0) continue;
       for (double v : h) {
         if (v > m.thresholds()[bit]) code[bit >>> 6] |= 1L << (bit & 63);
@@ -385,7 +393,7 @@ public final class EdgeBundle {
       double s = 0;
       for (int j = 0; j < in; j++) s += h[j] * w[o * in + j];
       double v = s + layer.bias()[o];
-      z[o] = relu && !(v > 0) ? 0 : v;
+      z[o] = relu && v <= 0 ? 0 : v; // NaN passes, so encode can refuse an overflow
     }
     return z;
   }

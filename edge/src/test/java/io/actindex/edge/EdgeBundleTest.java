@@ -167,6 +167,11 @@ class EdgeBundleTest {
     assertThat(b.encode(new double[] {1.5, 0})).containsExactly(1L); // h = (1.5, relu(-0.25) = 0)
     assertThat(b.encode(new double[] {2.5, 0})).containsExactly(1L); // h = (2.5, 0.25): 0.25 is not > 0.25
     assertThat(b.encode(new double[] {3, 0})).containsExactly(3L); // h = (3, 0.5)
+    // as the index: a hidden activation of +Infinity or NaN is refused, -Infinity is ReLU's 0
+    assertThatThrownBy(() -> b.encode(new double[] {Double.MAX_VALUE, -Double.MAX_VALUE})).isInstanceOf(IllegalArgumentException.class)
+        .hasMessageContaining("layer h, unit 0 overflows (Infinity)");
+    assertThatThrownBy(() -> b.encode(new double[] {Double.NaN, 0})).hasMessageContaining("layer h, unit 0 overflows (NaN)");
+    assertThat(b.encode(new double[] {-Double.MAX_VALUE, Double.MAX_VALUE})).containsExactly(0L); // h = (relu(-Infinity), relu(-1))
     // softmax of logits (a, b) = h: max probability 1 / (1 + e^-|a-b|)
     assertThat(b.maxSoftmax(new double[] {3, 0})).isCloseTo(1 / (1 + Math.exp(-2.5)), org.assertj.core.api.Assertions.within(1e-15));
   }
@@ -229,6 +234,7 @@ class EdgeBundleTest {
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,x\u001b[31m,3\n"), "stdin row 0: column 1: 'x\\u001b[31m' is not a number");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,NaN,3\n"), "stdin row 0: column 1: not finite");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,1e999\n"), "stdin row 0: column 2: not finite");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3\n1.7e308,1.7e308,1.7e308\n"), "stdin row 1: layer a, unit ");
   }
 
   /**

@@ -77,8 +77,9 @@ public final class EdgeCSource {
     s.append("/* the Hamming distance to the k-th nearest training example on the calibrated layers */\nint axe_kth_distance(const uint64_t code[AXE_WORDS]);\n");
     s.append("/* decision only, stops early when in: 1 = out of distribution, 0 = in */\nint axe_is_out(const uint64_t code[AXE_WORDS]);\n");
     s.append("/* conformal p-value of a score: (1 + #{calibration scores >= score}) / (n + 1) */\ndouble axe_p_value(double score);\n");
-    if (m != null) s.append("/* the code of a raw input through the model (bit i is bit i % 64 of word i / 64) */\n"
-        + "void axe_encode(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS]);\n");
+    if (m != null) s.append("/* the code of a raw input through the model (bit i is bit i % 64 of word i / 64); returns 0, or -1\n"
+        + "   when a hidden activation is not finite (the input is too large for the weights): do not score that code */\n"
+        + "int axe_encode(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS]);\n");
     return s.append("\n#endif\n").toString();
   }
 
@@ -180,7 +181,7 @@ public final class EdgeCSource {
 
   private static void model(StringBuilder s, EdgeBundle b, EdgeBundle.Model m) {
     // GCC ignores the standard pragma (compile with -ffp-contract=off there); other compilers honour it
-    s.append("\n#if defined(__clang__) || !defined(__GNUC__)\n#pragma STDC FP_CONTRACT OFF\n#endif\n");
+    s.append("\n#include <math.h>\n#if defined(__clang__) || !defined(__GNUC__)\n#pragma STDC FP_CONTRACT OFF\n#endif\n");
     int widest = 0;
     for (int l = 0; l < m.layers().size() - 1; l++) { // hidden layers: the output layer is not needed for codes
       EdgeBundle.Layer layer = m.layers().get(l);
@@ -198,16 +199,19 @@ public final class EdgeCSource {
     for (int i = 0; i < t.length; i++) s.append(i % 6 == 0 ? "\n  " : " ").append(Double.toHexString(t[i])).append(',');
     s.append("\n};\n#define AXE_WIDEST ").append(widest).append("\n\n");
     s.append("""
-        static void axe_layer(const float *w, const float *b, int out, int in, const double *h, double *z) {
+        /* one hidden layer with ReLU; -1 when an activation is not finite (refused, as in the index) */
+        static int axe_layer(const float *w, const float *b, int out, int in, const double *h, double *z) {
           for (int o = 0; o < out; o++) {
             double s = 0;
             for (int j = 0; j < in; j++) s += h[j] * (double) w[o * in + j];
             double v = s + (double) b[o];
-            z[o] = v > 0 ? v : 0;
+            z[o] = v <= 0 ? 0 : v; /* NaN passes to the check */
+            if (!isfinite(z[o])) return -1;
           }
+          return 0;
         }
 
-        void axe_encode(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS]) {
+        int axe_encode(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS]) {
           double a[AXE_WIDEST], z[AXE_WIDEST];
           for (int w = 0; w < AXE_WORDS; w++) code[w] = 0;
           for (int j = 0; j < AXE_INPUTS; j++) a[j] = input[j];
@@ -216,13 +220,13 @@ public final class EdgeCSource {
     List<String> kept = b.layerNames();
     for (int l = 0; l < m.layers().size() - 1; l++) {
       EdgeBundle.Layer layer = m.layers().get(l);
-      s.append("  axe_layer(axe_w").append(l).append(", axe_b").append(l).append(", ").append(layer.out()).append(", ").append(layer.in())
-          .append(", a, z);\n");
+      s.append("  if (axe_layer(axe_w").append(l).append(", axe_b").append(l).append(", ").append(layer.out()).append(", ").append(layer.in())
+          .append(", a, z)) return -1;\n");
       if (kept.contains(layer.name()))
         s.append("  for (int o = 0; o < ").append(layer.out())
             .append("; o++, bit++) if (z[o] > axe_bit_threshold[bit]) code[bit >> 6] |= (uint64_t) 1 << (bit & 63);\n");
       s.append("  for (int o = 0; o < ").append(layer.out()).append("; o++) a[o] = z[o];\n");
     }
-    s.append("  (void) bit;\n}\n");
+    s.append("  (void) bit;\n  return 0;\n}\n");
   }
 }

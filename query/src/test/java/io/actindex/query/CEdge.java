@@ -14,7 +14,7 @@ import java.util.concurrent.TimeUnit;
  * Compiles the C source of an edge bundle with the system's gcc and a small driver, and runs it:
  * each input line is {@code c W0 W1 ...} (a code as hex words) or {@code x V0 V1 ...} (a raw input,
  * doubles as hex floats); each output line is {@code kth score is_out p_value W0 W1 ...} (scores as
- * C's %a, the code's words in hex). Tests skip, saying why, when gcc is absent.
+ * C's %a, the code's words in hex), or {@code overflow} when axe_encode refuses the input. Tests skip, saying why, when gcc is absent.
  */
 final class CEdge {
   private CEdge() {}
@@ -41,7 +41,7 @@ final class CEdge {
               if (scanf("%63s", buf) != 1) return 3;
               x[j] = strtod(buf, NULL);
             }
-            axe_encode(x, code);
+            if (axe_encode(x, code)) { printf("overflow\\n"); continue; }
       #else
             return 4;
       #endif

@@ -74,6 +74,43 @@ class EdgeCSourceTest {
   }
 
   @Test
+  void anInputThatOverflowsIsRefusedInJavaAndC() throws Exception {
+    // one hidden layer: unit 0 sums both inputs, unit 1 takes their difference; the index refuses a
+    // row whose hidden activation is not finite (ModelLayers), so Java and C must refuse it too
+    EdgeBundle.Model m = new EdgeBundle.Model(List.of(new EdgeBundle.Layer("h", 2, 2, new float[] {1, 1, 1, -1}, new float[] {0, 0}),
+        new EdgeBundle.Layer("o", 1, 2, new float[] {1, 1}, new float[] {0})), new double[] {0, 0});
+    EdgeBundle b = new EdgeBundle(List.of("h"), new int[] {2}, new long[] {1, 0}, new int[] {2, 1},
+        new EdgeBundle.Calibration(1, Statistic.KTH, List.of(), 0.9, 1, new double[] {0, 1}), m);
+    Path c = tmp.resolve("overflow");
+    EdgeCSource.write(b, c);
+    Path exe = CEdge.compile(c);
+    double big = Double.MAX_VALUE * 0.75;
+    double[][] rows = {{1, 0.5}, {big, big}, {-big, -big}, {big, -big}, {-big, big}, {Double.MAX_VALUE, -Double.MAX_VALUE}, {Double.NaN, 0}};
+    List<String> lines = new ArrayList<>();
+    for (double[] x : rows) lines.add(CEdge.inputLine(x));
+    List<String> out = CEdge.run(exe, lines);
+    assertThat(out).hasSize(rows.length);
+    int refused = 0;
+    for (int i = 0; i < rows.length; i++) {
+      long[] code;
+      try {
+        code = b.encode(rows[i]);
+      } catch (IllegalArgumentException e) {
+        assertThat(e).hasMessageContaining("overflows");
+        assertThat(out.get(i)).as("row " + i + " refused in Java").isEqualTo("overflow");
+        refused++;
+        continue;
+      }
+      String[] f = out.get(i).split(" ");
+      assertThat(f).as("row " + i + " encoded in Java: " + out.get(i)).hasSize(5);
+      assertThat(Long.parseUnsignedLong(f[4], 16)).as("row " + i).isEqualTo(code[0]);
+    }
+    // refused: (big, big) takes unit 0 to +Infinity, (big, -big) and (MAX, -MAX) unit 1, (NaN, 0) both units to NaN;
+    // kept: (-big, -big) and (-big, big) reach -Infinity only, which ReLU takes to 0 (as in the index)
+    assertThat(refused).isEqualTo(4);
+  }
+
+  @Test
   void headerNamesTheSizesAndTheCaution() throws Exception {
     OodIndexTest.Data d = OodIndexTest.uniform(Randoms.seed(3), 100);
     Path dir = OodIndexTest.index(tmp.resolve("idx"), d.train());
