@@ -102,7 +102,7 @@ public final class EdgeMain {
   }
 
   private static double[] numbers(String line) {
-    String[] parts = line.split(",");
+    String[] parts = line.split(",", -1); // "1,2," keeps its empty last field (refused below), as the index's CSV reader refuses it
     double[] x = new double[parts.length];
     for (int i = 0; i < x.length; i++) {
       try {

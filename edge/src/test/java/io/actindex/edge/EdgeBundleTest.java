@@ -231,6 +231,7 @@ class EdgeBundleTest {
     assertRefused(run(new String[] {file.toString()}, "01\u0007" + ok), "stdin row 0: character 2: '\\u0007' is not 0 or 1");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2\n"), "stdin row 0: input has 2 values, the model takes 3");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,4\n"), "stdin row 0: input has 4 values, the model takes 3");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,\n"), "stdin row 0: column 3: '' is not a number");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,x\u001b[31m,3\n"), "stdin row 0: column 1: 'x\\u001b[31m' is not a number");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,NaN,3\n"), "stdin row 0: column 1: not finite");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,1e999\n"), "stdin row 0: column 2: not finite");
