@@ -156,7 +156,7 @@ final class CensusCommand implements Callable<Integer> {
       double sum = 0;
       for (double r : layer.firingRates()) sum += r;
       n.row(List.of(layer.layer(), Integer.toString(layer.firingRates().length),
-          Units.rate(layer.firingRates().length == 0 ? 0 : sum / layer.firingRates().length),
+          c.examples() == 0 ? "n/a" : Units.rate(layer.firingRates().length == 0 ? 0 : sum / layer.firingRates().length),
           Integer.toString(layer.dead().size()), Integer.toString(layer.alwaysOn().size())));
       if (!layer.dead().isEmpty()) lists.add("dead: " + String.join(" ", layer.dead()));
       if (!layer.alwaysOn().isEmpty()) lists.add("always on: " + String.join(" ", layer.alwaysOn()));

@@ -64,6 +64,13 @@ class EmptyIndexEndToEndTest {
     assertThat(against.get("summary").get("rows").asLong()).as(state).isEqualTo(40);
     assertThat(against.get("summary").get("rows_without").asLong()).as(state).isEqualTo(40);
     assertThat(against.get("rows")).as(state).isEmpty();
+    // no live example: no firing rate (was 0 beside an empty dead list): null in JSON, an empty CSV cell, n/a in the table
+    JsonNode census = JSON.readTree(Cli.run("census", "--index", i, "--format", "json").out());
+    assertThat(census.get("neurons").get(0).get("firing_rates")).as(state).hasSize(8).allMatch(JsonNode::isNull);
+    assertThat(census.get("neurons").get(0).get("dead")).as(state).isEmpty();
+    assertThat(Cli.run("census", "--index", i, "--format", "csv").out().lines().skip(1)).as(state).hasSize(8)
+        .allMatch(l -> l.matches("act,\\d+,,"));
+    assertThat(Cli.run("census", "--index", i).out()).as(state).containsPattern("act +8 +n/a +0 +0");
     assertThat(Cli.run("dupes", "--index", i, "--radius", "1", "--format", "csv").out().strip()).as(state)
         .isEqualTo("group,size,distinct_codes,max_distance,cross_split,conflicting_labels,labels,splits,keys");
 

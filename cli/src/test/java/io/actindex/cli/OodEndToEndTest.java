@@ -4,6 +4,7 @@ import static org.assertj.core.api.Assertions.assertThat;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import io.actindex.query.report.HtmlPage;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -267,6 +268,20 @@ class OodEndToEndTest {
     JsonNode cj = JSON.readTree(c.out());
     assertThat(cj.get("score").asText()).isEqualTo("refined");
     assertThat(cj.get("candidates").asInt()).isEqualTo(100);
+    // the report's OOD section shows the numbers ood calibrate printed (60 scores: the nearest-rank
+    // median is the 30th, not the 31st) and names the refined score, a cosine distance, not bits
+    Path page = tmp.resolve("r.html");
+    Cli.Result rep = Cli.run("report", "--index", idx.toString(), "--out", page.toString());
+    assertThat(rep.code()).as(rep.describe()).isZero();
+    String html = Files.readString(page);
+    int start = html.indexOf("<h2 id=\"ood\""), end = html.indexOf("<h2", start + 1);
+    assertThat(start).as("the page has an ood section").isNotNegative();
+    String ood = html.substring(start, end < 0 ? html.length() : end);
+    JsonNode sc = cj.get("scores");
+    for (String[] row : new String[][] {{"smallest score", "min"}, {"median score", "p50"}, {"largest score", "max"}})
+      assertThat(ood).contains("<td class=\"l\">" + row[0] + "</td><td>" + HtmlPage.num(sc.get(row[1]).asDouble()) + "</td>");
+    assertThat(ood).contains("<td class=\"l\">threshold (flag out above)</td><td>" + HtmlPage.num(cj.get("threshold").asDouble()) + "</td>")
+        .contains("refined cosine k-th distance (k = 2, among 100 Hamming candidates").contains("score (cosine distance)").doesNotContain("(bits)");
     Cli.Result s = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString(), "--format", "json");
     assertThat(s.code()).as(s.describe()).isZero();
     assertThat(JSON.readTree(s.out()).get("score_name").asText()).isEqualTo("refined cosine k-th distance");

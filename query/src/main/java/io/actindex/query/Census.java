@@ -56,7 +56,7 @@ public final class Census {
   public record Prefix(List<String> layers, int bits, int regions, int singletons, List<Bucket> histogram, Quantiles quantiles,
       Double purity, List<Big> largest) {}
 
-  /** Firing rates of one layer's units, and its dead and always-on units ({@code layer:unit}). */
+  /** Firing rates of one layer's units (NaN without examples), and its dead and always-on units ({@code layer:unit}). */
   public record Neurons(String layer, double[] firingRates, List<String> dead, List<String> alwaysOn) {}
 
   public record Result(int examples, List<Prefix> prefixes, List<Neurons> neurons) {}
@@ -187,7 +187,7 @@ public final class Census {
       List<String> dead = new ArrayList<>(), always = new ArrayList<>();
       for (int u = 0; u < seg.bits(); u++) {
         long c = on[start + u];
-        rates[u] = n == 0 ? 0 : c / (double) n;
+        rates[u] = n == 0 ? Double.NaN : c / (double) n; // no example: no rate (null in JSON), and no neuron called dead
         if (n > 0 && c == 0) dead.add(seg.name() + ":" + u);
         if (n > 0 && c == n) always.add(seg.name() + ":" + u);
       }

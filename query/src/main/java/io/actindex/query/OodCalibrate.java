@@ -81,7 +81,8 @@ public final class OodCalibrate {
     return summary(cal, scoring);
   }
 
-  static Result summary(Calibration cal, OodCalibration.Scoring scoring) {
+  /** The summary {@code ood calibrate} prints, of a stored calibration (the report shows the same numbers). */
+  public static Result summary(Calibration cal, OodCalibration.Scoring scoring) {
     double[] s = cal.scores();
     double sum = 0;
     for (double v : s) sum += v;

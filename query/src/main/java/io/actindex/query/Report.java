@@ -70,7 +70,7 @@ public final class Report {
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
     HtmlPage page = new HtmlPage(title, f.examples() + " examples, " + reader.layout().bits() + " bits per example.");
     IndexReport.render(page, reader, f);
-    if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibration.load(reader));
+    if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)));
     if (p.dupesRadius() != null)
       ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null));
     if (p.compareA() != null) {

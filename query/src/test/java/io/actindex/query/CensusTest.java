@@ -134,6 +134,8 @@ class CensusTest {
     assertEquals(null, c.prefixes().get(1).purity());
     assertThat(c.prefixes().get(1).histogram()).isEmpty();
     assertThat(c.neurons().get(0).dead()).isEmpty(); // no data: no neuron is called dead
+    for (Census.Neurons layer : c.neurons()) // nor given a rate of 0 (it was, beside an empty dead list)
+      assertThat(layer.firingRates()).as(layer.layer()).hasSize(layer.layer().equals("h1") ? 5 : 3).containsOnly(Double.NaN);
   }
 
   static String bits(CodeBlock codes, int i, int from, int to) {

@@ -184,6 +184,9 @@ public final class IndexReport {
     }
     page.chartWithTable(SvgChart.bars("Nearest other example, by split", "Hamming distance (bits)", "share of the split's examples", edges,
         series, false), t);
+    int alone = 0;
+    for (int d : f.nearestOther()) if (d < 0) alone++;
+    if (alone > 0) page.note(alone + " live example" + (alone == 1 ? " has" : "s have") + " no other live example to be measured against (left out above).");
   }
 
   private static void purity(HtmlPage page, Census.Result census) {

@@ -3,7 +3,9 @@ package io.actindex.query.report;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.query.Compare;
 import io.actindex.query.Dupes;
+import io.actindex.query.OodCalibrate;
 import io.actindex.query.OodCalibration;
+import io.actindex.query.OodScorer;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
@@ -15,11 +17,16 @@ import java.util.Map;
 public final class ReportSections {
   private ReportSections() {}
 
-  /** The calibration scores, the threshold and how the scores spread. */
-  public static void ood(HtmlPage page, Calibration c) {
+  /**
+   * The calibration scores, the threshold and how the scores spread; the summary numbers are those
+   * {@code ood calibrate} printed ({@code r}, nearest-rank median).
+   */
+  public static void ood(HtmlPage page, OodCalibrate.Result r) {
+    Calibration c = r.calibration();
+    boolean code = r.scoring().kind() == OodScorer.Kind.CODE;
     page.section("ood", "Out-of-distribution calibration",
-        "The scores of the held-out in-distribution inputs 'ood calibrate' was given: the " + (c.k() == 1 ? "" : c.k() + "-th ")
-            + "nearest training distance (" + c.statistic().label + ", k = " + c.k() + ", layers: "
+        "The scores of the held-out in-distribution inputs 'ood calibrate' was given: the " + r.scoring().name(c.statistic())
+            + " (k = " + c.k() + (code ? "" : ", among " + r.scoring().candidates() + " Hamming candidates") + ", layers: "
             + (c.layers().isEmpty() ? "all" : String.join(",", c.layers())) + "). Inputs scoring above the threshold are flagged out; "
             + "about " + String.format(java.util.Locale.ROOT, "%.0f", 100 * (1 - c.tpr())) + "% of in-distribution inputs are flagged too (false alarms).");
     page.caution(OodCalibration.CAUTION);
@@ -48,9 +55,10 @@ public final class ReportSections {
         .row("threshold (flag out above)", c.threshold())
         .row("target share of in-distribution inputs accepted", c.tpr())
         .row("smallest score", lo)
-        .row("median score", s.length == 0 ? Double.NaN : s[s.length / 2])
+        .row("median score", r.p50())
         .row("largest score", hi);
-    page.chartWithTable(SvgChart.bars("Calibration scores (threshold " + HtmlPage.num(c.threshold()) + ")", "score (bits)",
+    page.chartWithTable(SvgChart.bars("Calibration scores (threshold " + HtmlPage.num(c.threshold()) + ")",
+        code ? "score (bits)" : "score (cosine distance)",
         "calibration inputs", edges, List.of(new SvgChart.Series("accepted (in)", null, counts),
             new SvgChart.Series("above the threshold", null, flagged)), false), t);
   }

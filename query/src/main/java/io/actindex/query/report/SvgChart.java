@@ -10,7 +10,8 @@ import java.util.Locale;
  * or logarithmic axes. Labels are XML-escaped. Degenerate data is drawn, not refused: no data gives
  * an empty frame saying so, a single value or a single bar gets a padded range, and on a log axis
  * values {@code <= 0} are left out (a line breaks there, a bar has no height) and a note under the
- * chart says how many were left out.
+ * chart says how many were left out. Bars on a log axis rise from a power of ten below their
+ * smallest value, so every positive bar, a count of 1 included, has a height.
  *
  * <pre>{@code
  * String svg = SvgChart.lines("ROC", "false alarm rate", "detection rate",
@@ -84,6 +85,7 @@ public final class SvgChart {
     if (!logY) y.include(0);
     for (Series s : series) for (double v : s.y()) if (y.usable(v)) y.include(v); else y.dropped++;
     if (y.empty()) y.include(1);
+    if (logY) y.include(y.lo / 2); // the base lies below the smallest bar (not at it), so a bar of the smallest value has a height
     x.finish();
     y.finish();
     frame(svg, x, y, xLabel, yLabel);

@@ -58,6 +58,26 @@ class SvgChartTest {
     assertThat(parse(bars).getDocumentElement().getTextContent()).contains("1 value not shown");
   }
 
+  /** A bar of the smallest value had no height on a log axis whose base was that value (a report's region of count 1 vanished). */
+  @Test
+  void everyPositiveBarOnALogAxisHasAHeight() throws Exception {
+    double[][] cases = {{1}, {1, 1}, {1, 8, 0, 1}, {10, 100}, {2, 3}, {0.01, 1}};
+    for (double[] values : cases) {
+      double[] edges = new double[values.length + 1];
+      for (int i = 0; i < edges.length; i++) edges[i] = i;
+      Document d = parse(SvgChart.bars("t", "x", "y", edges, List.of(new SvgChart.Series("s", null, values)), true));
+      org.w3c.dom.NodeList rects = d.getElementsByTagName("rect");
+      int bars = 0;
+      for (int i = 0; i < rects.getLength(); i++) {
+        org.w3c.dom.Element r = (org.w3c.dom.Element) rects.item(i);
+        if (r.getElementsByTagName("title").getLength() == 0) continue; // frame and legend swatch
+        bars++;
+        assertThat(Double.parseDouble(r.getAttribute("height"))).as(java.util.Arrays.toString(values) + " " + r.getTextContent()).isPositive();
+      }
+      assertThat(bars).as(java.util.Arrays.toString(values)).isEqualTo((int) java.util.Arrays.stream(values).filter(v -> v > 0).count());
+    }
+  }
+
   @Test
   void tickNumbersAreShort() {
     assertThat(SvgChart.num(1000.25)).isEqualTo("1000");

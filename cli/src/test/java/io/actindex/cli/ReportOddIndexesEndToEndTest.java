@@ -1,0 +1,77 @@
+package io.actindex.cli;
+
+import static org.assertj.core.api.Assertions.assertThat;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import io.actindex.query.report.HtmlPage;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.SplittableRandom;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * {@code report} on unusual but real indexes (one example, 1-bit codes, every code identical, five
+ * layers): the page's per-prefix table agrees with {@code census --format json}, every bar of the
+ * regions chart has a height, and an example with no other to measure against is said, not dropped
+ * silently.
+ */
+class ReportOddIndexesEndToEndTest {
+  @TempDir Path tmp;
+  static final ObjectMapper JSON = new ObjectMapper();
+
+  @Test
+  void pageAgreesWithTheCensusOnOddIndexes() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(5);
+    boolean[][] one = {{true, false, true}};
+    boolean[][] oneBit = new boolean[30][1], same = new boolean[20][16], five = new boolean[40][140];
+    for (boolean[] r : oneBit) r[0] = rnd.nextBoolean();
+    for (boolean[] r : same) java.util.Arrays.fill(r, true);
+    for (boolean[] r : five) for (int j = 0; j < r.length; j++) r[j] = rnd.nextInt(4) == 0;
+    Object[][] cases = {{"one", one, null}, {"onebit", oneBit, null}, {"same", same, null}, {"five", five, "a:3,b:7,c:1,d:64,e:65"}};
+    for (Object[] c : cases) {
+      String name = (String) c[0];
+      Path codes = Files2.bits(tmp.resolve(name + ".npy"), (boolean[][]) c[1]), idx = tmp.resolve(name), page = tmp.resolve(name + ".html");
+      List<String> build = new ArrayList<>(List.of("build", "--out", idx.toString(), "--codes", codes.toString()));
+      if (c[2] != null) build.addAll(List.of("--code-layout", (String) c[2]));
+      Cli.Result b = Cli.run(build.toArray(String[]::new));
+      assertThat(b.code()).as(b.describe()).isZero();
+      Cli.Result r = Cli.run("report", "--index", idx.toString(), "--out", page.toString());
+      assertThat(r.code()).as(r.describe()).isZero();
+      Cli.Result census = Cli.run("census", "--index", idx.toString(), "--format", "json");
+      assertThat(census.code()).as(census.describe()).isZero();
+      String html = Files.readString(page);
+      JsonNode prefixes = JSON.readTree(census.out()).get("prefixes");
+      String purity = section(html, "purity");
+      for (JsonNode p : prefixes) {
+        List<String> layers = new ArrayList<>();
+        p.get("layers").forEach(l -> layers.add(l.asText()));
+        assertThat(purity).as(name).contains("<tr><td class=\"l\">" + String.join("+", layers) + "</td><td>" + p.get("bits").asInt() + "</td><td>"
+            + p.get("regions").asInt() + "</td><td>" + p.get("singletons").asInt() + "</td><td>"
+            + HtmlPage.num(p.get("examples_per_region").get("p50").asDouble()) + "</td>");
+      }
+      Matcher bar = Pattern.compile("height=\"([0-9.]+)\"><title>").matcher(section(html, "regions"));
+      int bars = 0;
+      while (bar.find()) {
+        bars++;
+        assertThat(Double.parseDouble(bar.group(1))).as(name + ": a bar of the regions chart").isPositive();
+      }
+      assertThat(bars).as(name).isPositive();
+      String nearest = section(html, "nearest-other");
+      if (name.equals("one")) assertThat(nearest).contains("1 live example has no other live example");
+      else assertThat(nearest).doesNotContain("no other live example");
+    }
+  }
+
+  /** The part of the page from the heading with this id to the next heading. */
+  static String section(String html, String id) {
+    int start = html.indexOf("<h2 id=\"" + id + "\""), end = html.indexOf("<h2", start + 1);
+    assertThat(start).as("section " + id).isNotNegative();
+    return html.substring(start, end < 0 ? html.length() : end);
+  }
+}
