@@ -9,7 +9,6 @@ import io.actindex.query.stats.FloatSample;
 import io.actindex.query.stats.Frechet;
 import io.actindex.query.stats.Wasserstein;
 import java.io.IOException;
-import java.nio.file.Path;
 import java.util.List;
 import org.junit.jupiter.api.Test;
 
@@ -25,30 +24,18 @@ class CompareEdgesGoldenTest {
   static final List<String> CASES = List.of("bit_equal", "bit_unequal", "wide_unequal", "two_rows", "identical", "constant_neurons");
   static final GoldenFiles GOLDEN = new GoldenFiles("compare_edges");
 
-  static Path path(String name) {
-    return GOLDEN.path(name);
-  }
-
-  static CodeBlock codes(String name) throws IOException {
-    return GOLDEN.codes(name);
-  }
-
-  static double exp(String key) {
-    return GOLDEN.exp(key);
-  }
-
   @Test
   void edgeCasesMatchNumPyAndSciPy() throws IOException {
     for (String c : CASES) {
-      CodeBlock a = codes(c + "_a.npy"), b = codes(c + "_b.npy");
+      CodeBlock a = GOLDEN.codes(c + "_a.npy"), b = GOLDEN.codes(c + "_b.npy");
       int bits = a.layout().bits();
       // a small regularisation and a tight tolerance: the Sinkhorn plan's cost then lies just above the exact optimum
       Compare.Options o = new Compare.Options(50, 7, null, 0.05, bits, 2000, 3000, 4000, 0.001, 200_000, 1e-10, 1);
       Compare.Result r = Compare.compute(a, b, null, null, "A", "B", o);
-      assertThat(r.mmd().get(0).mmd2()).as(c + " agreement").isCloseTo(exp(c + ".agreement.mmd2"), within(1e-12));
-      assertThat(r.mmd().get(1).sigma()).as(c + " sigma").isEqualTo(exp(c + ".exponential.sigma"));
-      assertThat(r.mmd().get(1).mmd2()).as(c + " exponential").isCloseTo(exp(c + ".exponential.mmd2"), within(1e-12));
-      double w2 = exp(c + ".w2");
+      assertThat(r.mmd().get(0).mmd2()).as(c + " agreement").isCloseTo(GOLDEN.exp(c + ".agreement.mmd2"), within(1e-12));
+      assertThat(r.mmd().get(1).sigma()).as(c + " sigma").isEqualTo(GOLDEN.exp(c + ".exponential.sigma"));
+      assertThat(r.mmd().get(1).mmd2()).as(c + " exponential").isCloseTo(GOLDEN.exp(c + ".exponential.mmd2"), within(1e-12));
+      double w2 = GOLDEN.exp(c + ".w2");
       if (a.size() == b.size()) {
         assertThat(r.w2().method()).as(c).isEqualTo(Wasserstein.Method.EXACT);
         assertThat(r.w2().w2()).as(c + " exact W2").isCloseTo(w2, within(1e-12));
@@ -60,10 +47,10 @@ class CompareEdgesGoldenTest {
       assertThat(r.neurons()).as(c).hasSize(bits);
       for (Compare.Neuron n : r.neurons()) {
         String key = c + ".neuron." + n.name().substring(n.name().indexOf(':') + 1);
-        assertThat(n.z()).as(key + " z").isCloseTo(exp(key + ".z"), within(1e-12));
+        assertThat(n.z()).as(key + " z").isCloseTo(GOLDEN.exp(key + ".z"), within(1e-12));
         // Numerical Recipes' erfc: fractional error below 1.2e-7
-        assertThat(n.p()).as(key + " p").isCloseTo(exp(key + ".p"), within(2e-7 * exp(key + ".p") + 1e-300));
-        assertThat(n.q()).as(key + " q").isCloseTo(exp(key + ".q"), within(2e-7 * exp(key + ".q") + 1e-300));
+        assertThat(n.p()).as(key + " p").isCloseTo(GOLDEN.exp(key + ".p"), within(2e-7 * GOLDEN.exp(key + ".p") + 1e-300));
+        assertThat(n.q()).as(key + " q").isCloseTo(GOLDEN.exp(key + ".q"), within(2e-7 * GOLDEN.exp(key + ".q") + 1e-300));
       }
     }
   }

@@ -16,7 +16,6 @@ import io.actindex.query.stats.PermutationTest;
 import io.actindex.query.stats.Permutations;
 import io.actindex.query.stats.Wasserstein;
 import java.io.IOException;
-import java.nio.file.Path;
 import java.util.List;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -36,43 +35,31 @@ class CompareGoldenTest {
 
   @BeforeAll
   static void load() throws IOException {
-    FloatSample perms = Compare.readFloats(path("perms.npy"), List.of());
+    FloatSample perms = Compare.readFloats(GOLDEN.path("perms.npy"), List.of());
     permCount = perms.rows();
     fixed = (p, order) -> {
       for (int i = 0; i < order.length; i++) order[i] = (int) perms.values()[p * perms.cols() + i];
     };
   }
 
-  static Path path(String name) {
-    return GOLDEN.path(name);
-  }
-
-  static CodeBlock codes(String name) throws IOException {
-    return GOLDEN.codes(name);
-  }
-
-  static double exp(String key) {
-    return GOLDEN.exp(key);
-  }
-
   @Test
   void mmdAndPermutationPValuesMatchNumPy() throws IOException {
-    CodeBlock a = codes("codes_a.npy");
+    CodeBlock a = GOLDEN.codes("codes_a.npy");
     for (String other : List.of("codes_b.npy", "codes_c.npy")) {
       String pre = other.equals("codes_b.npy") ? "" : "null.";
-      CodeBlock b = codes(other);
+      CodeBlock b = GOLDEN.codes(other);
       CodeBlock pooled = a.concat(b);
       PermutationTest agree = new AgreementMmd(pooled, a.size()).test(new int[][] {{0, 70}}, fixed, permCount, 2)[0];
-      assertThat(agree.statistic()).as(pre + "agreement").isCloseTo(exp(pre + "agreement.mmd2"), within(1e-12));
-      assertThat(agree.pValue()).as(pre + "agreement p").isEqualTo(exp(pre + "agreement.p"));
+      assertThat(agree.statistic()).as(pre + "agreement").isCloseTo(GOLDEN.exp(pre + "agreement.mmd2"), within(1e-12));
+      assertThat(agree.pValue()).as(pre + "agreement p").isEqualTo(GOLDEN.exp(pre + "agreement.p"));
 
       PairDistances d = new PairDistances(pooled, a.size(), 1);
       double sigma = d.median(0);
-      assertThat(sigma).isEqualTo(exp(pre + "exponential.sigma"));
+      assertThat(sigma).isEqualTo(GOLDEN.exp(pre + "exponential.sigma"));
       PermutationTest e = d.kernel(x -> Math.exp(-x / sigma)).test(a.size(), fixed, permCount, 3);
-      assertThat(e.statistic()).as(pre + "exponential").isCloseTo(exp(pre + "exponential.mmd2"), within(1e-12));
-      assertThat(d.mmd2(0, x -> Math.exp(-x / sigma))).isCloseTo(exp(pre + "exponential.mmd2"), within(1e-12));
-      assertThat(e.pValue()).as(pre + "exponential p").isEqualTo(exp(pre + "exponential.p"));
+      assertThat(e.statistic()).as(pre + "exponential").isCloseTo(GOLDEN.exp(pre + "exponential.mmd2"), within(1e-12));
+      assertThat(d.mmd2(0, x -> Math.exp(-x / sigma))).isCloseTo(GOLDEN.exp(pre + "exponential.mmd2"), within(1e-12));
+      assertThat(e.pValue()).as(pre + "exponential p").isEqualTo(GOLDEN.exp(pre + "exponential.p"));
       // the agreement kernel through the matrix gives the same as through per-bit counts
       PermutationTest viaMatrix = d.kernel(x -> 1 - x / 70.0).test(a.size(), fixed, permCount, 1);
       assertThat(viaMatrix.statistic()).isCloseTo(agree.statistic(), within(1e-12));
@@ -82,39 +69,39 @@ class CompareGoldenTest {
 
   @Test
   void gaussianMmdAndFrechetMatchSciPy() {
-    FloatSample fa = Compare.readFloats(path("floats_a.npy"), List.of()), fb = Compare.readFloats(path("floats_b.npy"), List.of());
+    FloatSample fa = Compare.readFloats(GOLDEN.path("floats_a.npy"), List.of()), fb = Compare.readFloats(GOLDEN.path("floats_b.npy"), List.of());
     GaussianMmd.Kernel k = GaussianMmd.of(fa.concat(fb), null, 2);
-    assertThat(k.sigma()).isCloseTo(exp("gaussian.sigma"), within(1e-12));
+    assertThat(k.sigma()).isCloseTo(GOLDEN.exp("gaussian.sigma"), within(1e-12));
     PermutationTest t = k.matrix().test(fa.rows(), fixed, permCount, 2);
-    assertThat(t.statistic()).isCloseTo(exp("gaussian.mmd2"), within(1e-12));
-    assertThat(t.pValue()).isEqualTo(exp("gaussian.p"));
-    assertThat(Frechet.squared(fa, fb)).isCloseTo(exp("frechet"), within(1e-9 * exp("frechet")));
+    assertThat(t.statistic()).isCloseTo(GOLDEN.exp("gaussian.mmd2"), within(1e-12));
+    assertThat(t.pValue()).isEqualTo(GOLDEN.exp("gaussian.p"));
+    assertThat(Frechet.squared(fa, fb)).isCloseTo(GOLDEN.exp("frechet"), within(1e-9 * GOLDEN.exp("frechet")));
   }
 
   @Test
   void exactW2MatchesLinearSumAssignment() throws IOException {
     for (String name : List.of("w_small", "w_large")) {
-      Wasserstein.Result r = Wasserstein.exact(codes(name + "_a.npy"), codes(name + "_b.npy"), 2);
-      assertThat(r.w2()).as(name).isCloseTo(exp(name + ".w2"), within(1e-12));
+      Wasserstein.Result r = Wasserstein.exact(GOLDEN.codes(name + "_a.npy"), GOLDEN.codes(name + "_b.npy"), 2);
+      assertThat(r.w2()).as(name).isCloseTo(GOLDEN.exp(name + ".w2"), within(1e-12));
       assertThat(r.method()).isEqualTo(Wasserstein.Method.EXACT);
     }
   }
 
   @Test
   void firingRateTestsAndBenjaminiHochbergMatchSciPy() throws IOException {
-    FiringRates.Result r = FiringRates.of(codes("codes_a.npy"), codes("codes_b.npy"));
+    FiringRates.Result r = FiringRates.of(GOLDEN.codes("codes_a.npy"), GOLDEN.codes("codes_b.npy"));
     for (int i = 0; i < 70; i++) {
-      assertThat(r.z()[i]).as("z " + i).isCloseTo(exp("neuron." + i + ".z"), within(1e-12));
+      assertThat(r.z()[i]).as("z " + i).isCloseTo(GOLDEN.exp("neuron." + i + ".z"), within(1e-12));
       // Numerical Recipes' erfc: fractional error below 1.2e-7
-      assertThat(r.p()[i]).as("p " + i).isCloseTo(exp("neuron." + i + ".p"), within(2e-7 * exp("neuron." + i + ".p") + 1e-300));
-      assertThat(r.q()[i]).as("q " + i).isCloseTo(exp("neuron." + i + ".q"), within(2e-7 * exp("neuron." + i + ".q") + 1e-300));
+      assertThat(r.p()[i]).as("p " + i).isCloseTo(GOLDEN.exp("neuron." + i + ".p"), within(2e-7 * GOLDEN.exp("neuron." + i + ".p") + 1e-300));
+      assertThat(r.q()[i]).as("q " + i).isCloseTo(GOLDEN.exp("neuron." + i + ".q"), within(2e-7 * GOLDEN.exp("neuron." + i + ".q") + 1e-300));
     }
   }
 
   @Test
   void normalTailMatchesSciPy() {
     for (double z : new double[] {0.0, 0.5, 1.0, 1.959963984540054, 3.0, 5.0, 8.0}) {
-      double want = exp("normal.two_sided." + z);
+      double want = GOLDEN.exp("normal.two_sided." + z);
       assertThat(Normal.twoSided(z)).as("z=" + z).isCloseTo(want, within(1.2e-7 * want));
     }
   }
