@@ -68,6 +68,28 @@ class ReportOddIndexesEndToEndTest {
     }
   }
 
+  /** The comparison's W2 row says whether it is exact (equal sizes) or Sinkhorn's upper bound (unequal sizes). */
+  @Test
+  void theComparisonSaysHowW2WasComputed() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(9);
+    boolean[][] train = new boolean[60][24], a = new boolean[20][24], b = new boolean[20][24], c = new boolean[25][24];
+    for (boolean[][] m : List.of(train, a, b, c)) for (boolean[] r : m) for (int j = 0; j < r.length; j++) r[j] = rnd.nextInt(3) == 0;
+    Path idx = tmp.resolve("cmp");
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("train.npy"), train).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    String[][] cases = {{"b.npy", "(bits, exact)"}, {"c.npy", "(bits, Sinkhorn: an upper bound)"}};
+    Files2.bits(tmp.resolve("b.npy"), b);
+    Files2.bits(tmp.resolve("c.npy"), c);
+    Path sampleA = Files2.bits(tmp.resolve("a.npy"), a);
+    for (String[] k : cases) {
+      Path page = tmp.resolve(k[0] + ".html");
+      Cli.Result r = Cli.run("report", "--index", idx.toString(), "--out", page.toString(), "--compare-a", sampleA.toString(),
+          "--compare-b", tmp.resolve(k[0]).toString());
+      assertThat(r.code()).as(r.describe()).isZero();
+      assertThat(section(Files.readString(page), "compare")).as(k[0]).contains("W2 with Hamming ground cost " + k[1]);
+    }
+  }
+
   /** The part of the page from the heading with this id to the next heading. */
   static String section(String html, String id) {
     int start = html.indexOf("<h2 id=\"" + id + "\""), end = html.indexOf("<h2", start + 1);

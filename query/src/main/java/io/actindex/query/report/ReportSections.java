@@ -6,6 +6,7 @@ import io.actindex.query.Dupes;
 import io.actindex.query.OodCalibrate;
 import io.actindex.query.OodCalibration;
 import io.actindex.query.OodScorer;
+import io.actindex.query.stats.Wasserstein;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
@@ -114,7 +115,9 @@ public final class ReportSections {
         + r.rowsB() + " rows). " + r.verdict());
     HtmlPage.Table tests = new HtmlPage.Table(null, 1, List.of("statistic", "value", "p-value", "rows A", "rows B"));
     for (Compare.Mmd m : r.mmd()) tests.row("MMD^2, " + m.kernel() + " kernel", m.mmd2(), m.pValue(), m.rowsA(), m.rowsB());
-    if (r.w2() != null) tests.row("W2 with Hamming ground cost (bits)", r.w2().w2(), null, r.w2().rowsA(), r.w2().rowsB());
+    if (r.w2() != null)
+      tests.row(r.w2().method() == Wasserstein.Method.EXACT ? "W2 with Hamming ground cost (bits, exact)"
+          : "W2 with Hamming ground cost (bits, Sinkhorn: an upper bound)", r.w2().w2(), null, r.w2().rowsA(), r.w2().rowsB());
     page.table(tests);
     List<Compare.Neuron> top = r.neurons();
     double[] edges = new double[top.size() + 1], a = new double[top.size()], b = new double[top.size()];
