@@ -63,7 +63,7 @@ public final class IndexReport {
         + "(1 bit per neuron), which names the linear region of the network the example falls in.");
     CodeLayout layout = info.layout();
     List<String> layers = new ArrayList<>();
-    for (CodeLayout.Segment seg : layout.segments()) layers.add(seg.name() + " (" + seg.bits() + " bits)");
+    for (CodeLayout.Segment seg : layout.segments()) layers.add(seg.name() + " (" + seg.bits() + (seg.bits() == 1 ? " bit)" : " bits)"));
     int deleted = info.nextId() - info.liveCount();
     HtmlPage.Table t = new HtmlPage.Table("kv", 2, null)
         .row("folder", reader.dir().toString())
