@@ -2,9 +2,12 @@ package io.actindex.query;
 
 import java.math.BigDecimal;
 import java.util.HashMap;
+import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
+import java.util.Set;
 import java.util.function.Predicate;
+import java.util.regex.Pattern;
 
 /**
  * Labels that write the same number two ways ({@code 3} and {@code 3.0}): labels are compared as
@@ -20,9 +23,11 @@ final class LabelSpellings {
   /** Most distinct labels of a batch looked up in an index (each costs two term look-ups). */
   static final int MAX_LOOKUPS = 10_000;
 
+  private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
+
   /** {@code label} as a number with no trailing zeros ({@code 3.0 -> 3}, {@code 2.50 -> 2.5}), or null if it is none. */
   static String number(String label) {
-    if (label == null || label.isEmpty() || label.length() > 40 || !label.matches("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?")) return null;
+    if (label == null || label.isEmpty() || label.length() > 40 || !DECIMAL.matcher(label).matches()) return null;
     try {
       return new BigDecimal(label).stripTrailingZeros().toPlainString();
     } catch (NumberFormatException | ArithmeticException e) {
@@ -35,14 +40,16 @@ final class LabelSpellings {
    * the number of an earlier one, or of a label {@code indexHas}, another way; null when none.
    */
   static String note(String file, List<Map<String, String>> rows, Predicate<String> indexHas) {
+    Set<String> labels = new LinkedHashSet<>(); // each distinct label once, in file order (a build has a handful for a million rows)
+    for (Map<String, String> row : rows) labels.add(row.get("label"));
     Map<String, String> seen = new HashMap<>(); // number -> its first spelling in the file
     int looked = 0;
-    for (Map<String, String> row : rows) {
-      String label = row.get("label"), n = number(label);
+    for (String label : labels) {
+      String n = number(label);
       if (n == null) continue;
       String first = seen.putIfAbsent(n, label);
-      if (first != null && !first.equals(label)) return message(file, label, "'" + first + "' earlier in the file");
-      if (first == null && indexHas != null && looked++ < MAX_LOOKUPS)
+      if (first != null) return message(file, label, "'" + first + "' earlier in the file");
+      if (indexHas != null && looked++ < MAX_LOOKUPS)
         for (String other : n.contains(".") ? List.of(n) : List.of(n, n + ".0"))
           if (!other.equals(label) && indexHas.test(other)) return message(file, label, "'" + other + "' in the index");
     }

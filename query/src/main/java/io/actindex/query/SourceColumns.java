@@ -25,8 +25,8 @@ final class SourceColumns {
   static final String PROPERTY = "build.source.columns";
 
   /**
-   * Longest names record kept, in UTF-8 bytes: the manifest, rewritten by every commit, reads a
-   * string of at most 1 MiB; a header longer than this is not recorded (and so not checked).
+   * Longest names record kept, in UTF-8 bytes: every commit rewrites the manifest that holds it, so a
+   * header longer than this (tens of thousands of columns) is not recorded, and so not checked.
    */
   static final int MAX_BYTES = 256 << 10;
 
