@@ -130,7 +130,6 @@ public final class IndexReader implements AutoCloseable {
 
   private static IndexReader load(Path dir, long gen) {
     Manifest m = Manifest.read(dir, gen);
-    m.refuseUnfinished(dir);
     List<Path> files = new ArrayList<>();
     for (FileRef f : m.files()) files.add(dir.resolve(f.name()));
     try (FileSource.Pinned src = FileSource.pin(files)) {

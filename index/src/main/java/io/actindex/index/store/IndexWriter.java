@@ -118,7 +118,6 @@ public final class IndexWriter implements AutoCloseable {
         long gen = Manifest.newestGeneration(dir);
         if (gen < 0) throw Manifest.noManifest(dir);
         Manifest m = Manifest.read(dir, gen);
-        m.refuseUnfinished(dir);
         RoaringBitmap deleted = Tombstones.read(dir, FileSource.DIRECT, m, ChecksummedFile.Check.OPEN);
         Path metaDir = dir.resolve(META_DIR);
         if (!Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");

@@ -58,13 +58,13 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
    * A property that a builder puts among the properties it creates an index with: the number of
    * examples its first change commits. Creating publishes an empty index at once, so a builder
    * killed before that change leaves one; while no id is given out, such an index is an unfinished
-   * build, refused by readers, writers and the check ({@link #refuseUnfinished}) instead of taken for
+   * build, refused by readers, writers and the check ({@link #read} refuses it) instead of taken for
    * an index whose examples were all deleted, or grown by adds that would hide the loss.
    */
   public static final String BUILD_ROWS = "build.rows";
 
-  /** Refuses an unfinished build (see {@link #BUILD_ROWS}) in {@code dir}. */
-  void refuseUnfinished(Path dir) {
+  /** Refuses an unfinished build (see {@link #BUILD_ROWS}) in {@code dir}; every {@link #read} does. */
+  private void refuseUnfinished(Path dir) {
     String rows = properties.get(BUILD_ROWS);
     if (rows != null && nextId == 0)
       throw new BadInputException("index " + dir + ": an unfinished build: " + fileName(generation) + " holds none of the "
@@ -176,7 +176,7 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
     return best;
   }
 
-  /** Reads and checks {@code dir/manifest-N}. */
+  /** Reads and checks {@code dir/manifest-N}; refuses an unfinished build ({@link #BUILD_ROWS}). */
   public static Manifest read(Path dir, long generation) {
     Path file = dir.resolve(fileName(generation));
     ChecksummedFile.In in = ChecksummedFile.read(file, CODEC, VERSION_START, VERSION_CURRENT, null, null, null);
@@ -243,8 +243,10 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
       }
     }
     in.end();
-    return new Manifest(gen, in.header().uuid(), layout, nextId, nextSegmentId, segs, tomb, props, att, metaCommit,
+    Manifest m = new Manifest(gen, in.header().uuid(), layout, nextId, nextSegmentId, segs, tomb, props, att, metaCommit,
         mags, documented);
+    m.refuseUnfinished(dir);
+    return m;
   }
 
   private static FileRef ref(ChecksummedFile.In in, String field) {
