@@ -92,7 +92,7 @@ public class RealUseBench {
     }
     if (scenario.startsWith("filter")) {
       double share = Double.parseDouble(scenario.substring("filter".length())) / 100;
-      filter = reader.filter(randomIds(n, share, 0xF117E2L));
+      filter = reader.filter(randomIds(n, share, 0xF117E2L).toArray());
     }
     if (scenario.startsWith("mask")) mask = codes.layout().mask(1);
   }

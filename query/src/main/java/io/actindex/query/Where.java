@@ -91,7 +91,7 @@ public final class Where {
    */
   public static IdSet filter(IndexReader reader, String expr) {
     RoaringBitmap ids = select(reader.meta(), expr);
-    return ids == null ? null : reader.filter(ids);
+    return ids == null ? null : reader.filter(ids.toArray());
   }
 
   // ---- grammar

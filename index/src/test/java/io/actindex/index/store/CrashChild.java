@@ -52,7 +52,7 @@ public final class CrashChild {
     log = new java.io.FileOutputStream(args[2], true);
     RoaringBitmap live;
     try (IndexReader r = IndexReader.open(dir)) {
-      live = r.liveIds();
+      live = RoaringBitmap.bitmapOf(r.liveIds().toArray());
     }
     try (IndexWriter w = IndexWriter.open(dir)) {
       while (true) {

@@ -107,7 +107,7 @@ class CrashTest {
             + deleted.getCardinality() + ", generation now " + Manifest.newestGeneration(dir) + ", its child said " + lines);
         maxId = r.maxId();
         deleted = deletedOf(r);
-        RoaringBitmap live = r.liveIds();
+        RoaringBitmap live = RoaringBitmap.bitmapOf(r.liveIds().toArray());
         assertEquals(live.getCardinality(), r.meta().numDocs(), where);
         assertTrue(live.isEmpty() || r.hasMagnitudes(), "every segment keeps magnitudes: " + where);
         float[] mags = new float[CrashChild.LAYOUT.bits()];
@@ -132,7 +132,7 @@ class CrashTest {
   private static RoaringBitmap deletedOf(IndexReader r) {
     RoaringBitmap all = new RoaringBitmap();
     if (r.maxId() > 0) all.add(0L, r.maxId());
-    all.andNot(r.liveIds());
+    all.andNot(RoaringBitmap.bitmapOf(r.liveIds().toArray()));
     return all;
   }
 

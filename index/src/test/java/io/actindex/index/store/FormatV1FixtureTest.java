@@ -71,7 +71,7 @@ class FormatV1FixtureTest {
       for (int q = 0; q < 30; q += 7) {
         long[] query = CrashChild.code(100 + q);
         Hits expected = BruteForce.knn(all, query, 5, id -> !deleted.contains(id), null);
-        assertEquals(expected, r.knn(query, 5, null, null));
+        assertEquals(expected, r.search(query, 5, null, null));
       }
     }
   }

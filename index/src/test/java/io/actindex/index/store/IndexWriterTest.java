@@ -126,7 +126,7 @@ class IndexWriterTest {
     }
     try (IndexReader r = IndexReader.open(dir)) {
       assertEquals(6, r.maxId());
-      assertEquals(RoaringBitmap.bitmapOf(0, 3, 4, 5), r.liveIds());
+      assertArrayEquals(new int[] {0, 3, 4, 5}, r.liveIds().toArray());
       assertEquals(3, r.meta().idOfKey("k1"));
       assertNull(r.meta().document(1));
       assertEquals("row-5", r.meta().document(5).get("key"));

@@ -130,12 +130,12 @@ class PowerLossTest {
       try (IndexReader r = IndexReader.open(dir)) {
         List<long[]> codes = new ArrayList<>();
         List<Map<String, String>> rows = new ArrayList<>();
-        for (int id : r.liveIds()) {
+        for (int id : r.liveIds().toArray()) {
           codes.add(r.code(id));
           rows.add(r.meta().document(id));
         }
         assertEquals(r.liveCount(), r.meta().numDocs());
-        return new State(r.maxId(), r.liveIds(), codes, rows, r.info().segments().size());
+        return new State(r.maxId(), RoaringBitmap.bitmapOf(r.liveIds().toArray()), codes, rows, r.info().segments().size());
       }
     }
 
