@@ -78,7 +78,7 @@ class FilterAfterCompactionTest {
       check(dir, pool, used, rows, deleted, rnd, why + " after adds");
       RoaringBitmap del = RoaringBitmap.bitmapOf(3, 35, 40, 89);
       for (int id = 0; id < used; id++) if (rnd.nextInt(4) == 0) del.add(id);
-      w.delete(del);
+      w.delete(del.toArray());
       deleted.or(del);
       check(dir, pool, used, rows, deleted, rnd, why + " after deletes");
       w.compact();
@@ -86,7 +86,7 @@ class FilterAfterCompactionTest {
       used = add(w, pool, used, 10, false, rows, rnd);
       used = add(w, pool, used, 10, true, rows, rnd);
       RoaringBitmap more = RoaringBitmap.bitmapOf(36, used - 1);
-      w.delete(more);
+      w.delete(more.toArray());
       deleted.or(more);
       check(dir, pool, used, rows, deleted, rnd, why + " after compaction, adds and deletes");
     }

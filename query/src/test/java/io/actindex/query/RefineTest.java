@@ -44,7 +44,7 @@ class RefineTest {
         for (int i = from; i < to; i++) dequantised[i] = m.row(i - from);
         w.add(codes.slice(from, to), m, meta == null ? null : meta.subList(from, to));
       }
-      w.delete(deleted);
+      w.delete(deleted.toArray());
     }
     return dequantised;
   }

@@ -58,7 +58,7 @@ class MetaStoreFilterTest {
         int cut = n / 2;
         w.add(codes.slice(0, cut), rows.subList(0, cut));
         for (int i = 0; i < 30; i++) deleted.add(rnd.nextInt(cut));
-        w.delete(deleted);
+        w.delete(deleted.toArray());
         w.add(codes.slice(cut, n), rows.subList(cut, n));
         if (rep % 2 == 1) w.compact();
       }

@@ -76,7 +76,7 @@ class AdversarialIndexTest {
       // every code of the two-code segment, a third of the rest at random, and the one-code segment
       RoaringBitmap del = RoaringBitmap.bitmapOf(1 + large, 2 + large);
       for (int id = 0; id < used; id++) if (rnd.nextInt(3) == 0) del.add(id);
-      w.delete(del);
+      w.delete(del.toArray());
       deleted.or(del);
       check(dir, pool, used, deleted, rnd, why + " after deletes");
       w.compact();
@@ -87,7 +87,7 @@ class AdversarialIndexTest {
       }
       RoaringBitmap more = new RoaringBitmap();
       for (int id = 0; id < used; id++) if (rnd.nextInt(10) == 0) more.add(id);
-      w.delete(more);
+      w.delete(more.toArray());
       deleted.or(more);
       check(dir, pool, used, deleted, rnd, why + " after compaction, adds and deletes");
     }

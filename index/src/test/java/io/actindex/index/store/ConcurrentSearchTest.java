@@ -47,7 +47,7 @@ class ConcurrentSearchTest {
       w.add(all.slice(0, 3_000), null);
       w.add(all.slice(3_000, 9_000), null);
       w.add(all.slice(9_000, all.size()), null);
-      w.delete(deleted);
+      w.delete(deleted.toArray());
     }
     int threads = 4, perThread = 60;
     CodeBlock queries = net.sample(threads * perThread, 0, seed + 2).codes();

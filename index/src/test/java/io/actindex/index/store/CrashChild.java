@@ -78,7 +78,7 @@ public final class CrashChild {
           StringBuilder sb = new StringBuilder();
           del.forEach((int id) -> sb.append(sb.isEmpty() ? "" : ",").append(id));
           say("BEGIN delete " + sb);
-          w.delete(del);
+          w.delete(del.toArray());
           live.andNot(del);
         } else {
           say("BEGIN compact");

@@ -85,7 +85,7 @@ class IndexSearchExactnessTest {
         RoaringBitmap del = new RoaringBitmap();
         if (round == 0) del.add(rnd.nextInt(all.size()));
         else for (int id = 0; id < all.size(); id++) if (rnd.nextInt(10) < 3) del.add(id);
-        w.delete(del);
+        w.delete(del.toArray());
         deleted.or(del);
       }
     }
@@ -124,7 +124,7 @@ class IndexSearchExactnessTest {
           RoaringBitmap del = new RoaringBitmap();
           for (int i = 0; i < 1 + rnd.nextInt(20); i++) del.add(rnd.nextInt(all.size()));
           RoaringBitmap fresh = RoaringBitmap.andNot(del, deleted);
-          assertEquals(fresh.getCardinality(), w.delete(del), why);
+          assertEquals(fresh.getCardinality(), w.delete(del.toArray()), why);
           deleted.or(del);
         }
         if (b == batches / 2 || rnd.nextInt(4) == 0) check(dir, all, labels, deleted, rnd, why);
@@ -134,7 +134,7 @@ class IndexSearchExactnessTest {
       check(dir, all, labels, deleted, rnd, why);
       if (all.size() > 0) {
         RoaringBitmap del = RoaringBitmap.bitmapOf(rnd.nextInt(all.size()));
-        w.delete(del);
+        w.delete(del.toArray());
         deleted.or(del);
       }
     }

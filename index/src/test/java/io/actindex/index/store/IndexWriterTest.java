@@ -116,8 +116,8 @@ class IndexWriterTest {
     CodeBlock codes = SyntheticCodes.uniform(6, 64, 7);
     try (IndexWriter w = IndexWriter.create(dir, codes.layout(), Map.of())) {
       w.add(codes.slice(0, 3), StoreFixtures.rows(0, 3));
-      assertEquals(2, w.delete(RoaringBitmap.bitmapOf(1, 2, 99)));
-      assertEquals(0, w.delete(RoaringBitmap.bitmapOf(1, 2)));
+      assertEquals(2, w.delete(1, 2, 99));
+      assertEquals(0, w.delete(1, 2));
       List<Map<String, String>> again = StoreFixtures.rows(3, 1);
       again.get(0).put("key", "k1");
       assertEquals(3, w.add(codes.slice(3, 4), again));

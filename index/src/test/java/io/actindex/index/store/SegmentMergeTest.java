@@ -61,7 +61,7 @@ class SegmentMergeTest {
         if (rnd.nextInt(4) == 0) {
           RoaringBitmap del = new RoaringBitmap();
           for (int i = 0; i < 3; i++) del.add(rnd.nextInt(used));
-          wr.delete(del);
+          wr.delete(del.toArray());
           deleted.or(del);
         }
         if (a % 10 == 9) check(dir, pool, used, deleted, cap, policy, rnd, why + " after add " + a);
