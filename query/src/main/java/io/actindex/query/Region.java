@@ -54,7 +54,7 @@ public final class Region {
 
   /** Regions for every query. */
   public static List<Result> run(IndexReader reader, QueryCodes queries, Params p, Progress progress) {
-    IdSet filter = Where.filter(reader, p.where());
+    IdSet filter = Where.select(reader.meta(), p.where());
     LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId());
     Progress prog = progress == null ? Progress.NONE : progress;
     List<Result> out = new ArrayList<>();

@@ -1,5 +1,6 @@
 package io.actindex.query;
 
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 
 import io.actindex.core.AdversarialCodes;
@@ -120,8 +121,9 @@ class FilterAfterCompactionTest {
         RoaringBitmap want = new RoaringBitmap();
         for (int id = 0; id < used; id++) if (!deleted.contains(id) && c.want.test(rows.get(id))) want.add(id);
         String what = why + " where " + c.expr;
-        assertEquals(want, Where.select(r.meta(), c.expr), what);
-        IdSet filter = Where.filter(r, c.expr);
+        IdSet filter = Where.select(r.meta(), c.expr);
+        assertEquals(r.maxId(), filter.size(), what);
+        assertArrayEquals(want.toArray(), filter.toArray(), what);
         for (int qi = 0; qi < 3; qi++) {
           long[] q = AdversarialCodes.query(all, rnd);
           for (int k : new int[] {1, 7, used + 1})

@@ -120,7 +120,7 @@ class CrashTest {
           Map<String, String> doc = r.meta().document(id);
           assertEquals(CrashChild.row(id), doc, "metadata of id " + id + ": " + where);
         }
-        assertEquals(live, r.meta().select(new org.apache.lucene.search.MatchAllDocsQuery()), where);
+        assertArrayEquals(live.toArray(), r.meta().select(new org.apache.lucene.search.MatchAllDocsQuery()).toArray(), where);
       }
       IndexWriter.open(dir).close(); // the dead writer's lock file does not block
     }

@@ -165,7 +165,7 @@ class IndexSearchExactnessTest {
         RoaringBitmap filter = null;
         String label = "c" + rnd.nextInt(3);
         if (q % 3 == 1) {
-          filter = r.meta().select(new TermQuery(new Term("label", label)));
+          filter = RoaringBitmap.bitmapOf(r.meta().select(new TermQuery(new Term("label", label))).toArray());
           RoaringBitmap expected = new RoaringBitmap();
           for (int id = 0; id < all.size(); id++) if (labels.get(id).equals(label) && !deleted.contains(id)) expected.add(id);
           assertEquals(expected, filter, why);
