@@ -27,7 +27,7 @@ import java.util.stream.Stream;
  *   <li>{@code mih}: multi-index hashing over all non-constant bits, tables always probed;
  *   <li>{@code cascade}: tables over the most informative bits only ({@value #CASCADE_TABLES}
  *       tables), the rest checked on the full codes, tables always probed;
- *   <li>{@code store}: the on-disk index ({@link IndexReader#knn}), built once and cached in the
+ *   <li>{@code store}: the on-disk index ({@link IndexReader#search}), built once and cached in the
  *       bench data folder, as an application opens it.
  * </ul>
  */
@@ -108,14 +108,14 @@ final class CodeContenders {
 
     @Override
     public Hits knn(long[] query, int k, IntPredicate accept, long[] mask) {
-      if (accept != null) throw new UnsupportedOperationException("filters go through IndexReader's RoaringBitmap");
-      return reader.knn(query, k, null, mask);
+      if (accept != null) throw new UnsupportedOperationException("filters go through IndexReader.filter");
+      return reader.search(query, k, null, mask);
     }
 
     @Override
     public Hits radius(long[] query, int radius, IntPredicate accept, long[] mask) {
-      if (accept != null) throw new UnsupportedOperationException("filters go through IndexReader's RoaringBitmap");
-      return reader.radius(query, radius, null, mask);
+      if (accept != null) throw new UnsupportedOperationException("filters go through IndexReader.filter");
+      return reader.searchRadius(query, radius, null, mask);
     }
   }
 }

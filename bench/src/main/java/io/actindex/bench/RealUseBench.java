@@ -30,7 +30,6 @@ import org.openjdk.jmh.annotations.State;
 import org.openjdk.jmh.annotations.TearDown;
 import org.openjdk.jmh.annotations.Warmup;
 import org.openjdk.jmh.infra.Blackhole;
-import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Exact k-NN through the on-disk index ({@link IndexReader#search}) the way users work: with a
@@ -111,11 +110,11 @@ public class RealUseBench {
     bh.consume(h);
   }
 
-  static RoaringBitmap randomIds(int n, double share, long seed) {
+  static int[] randomIds(int n, double share, long seed) {
     SplittableRandom rnd = new SplittableRandom(seed);
-    RoaringBitmap ids = new RoaringBitmap();
+    java.util.stream.IntStream.Builder ids = java.util.stream.IntStream.builder();
     for (int i = 0; i < n; i++) if (rnd.nextDouble() < share) ids.add(i);
-    return ids;
+    return ids.build().toArray();
   }
 
   /** The cached store of these codes in {@code segments} batches, with the named deletions applied. */
@@ -138,8 +137,8 @@ public class RealUseBench {
         try (Stream<Path> s = Files.walk(clean)) {
           for (Path p : s.toList()) Files.copy(p, dir.resolve(clean.relativize(p).toString()));
         }
-        RoaringBitmap del = switch (deletions) {
-          case "tomb1" -> RoaringBitmap.bitmapOf(n / 2);
+        int[] del = switch (deletions) {
+          case "tomb1" -> new int[] {n / 2};
           case "deleted1" -> randomIds(n, 0.01, 0xDE1E7EL);
           case "deleted30" -> randomIds(n, 0.30, 0xDE1E7EL);
           default -> throw new IllegalArgumentException("unknown deletions " + deletions);

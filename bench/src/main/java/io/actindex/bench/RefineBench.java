@@ -90,7 +90,7 @@ public class RefineBench {
   @OutputTimeUnit(TimeUnit.MICROSECONDS)
   public Object search(QueryCursor c) {
     int i = c.next(pool.length);
-    if (candidates == 0) return index.knn(pool[i], k, null, null);
+    if (candidates == 0) return index.search(pool[i], k, null, null);
     return Refine.rerank(candidates(pool[i]), poolActs[i], (id, out) -> mags.dequantise(id, out, 0), buf, Refine.Metric.COSINE,
         null, k);
   }
@@ -100,6 +100,6 @@ public class RefineBench {
   @OutputTimeUnit(TimeUnit.MICROSECONDS)
   public Object candidatesOnly(QueryCursor c) {
     int i = c.next(pool.length);
-    return candidates == 0 ? index.knn(pool[i], k, null, null) : candidates(pool[i]);
+    return candidates == 0 ? index.search(pool[i], k, null, null) : candidates(pool[i]);
   }
 }

@@ -63,6 +63,6 @@ public final class IndexOption {
   void noteIfNoneFound(IndexReader reader, String where, boolean found) {
     if (found) return;
     int live = reader.liveCount();
-    noteIfEmpty(live, "--where", where, where == null || live == 0 ? live : Where.select(reader.meta(), where).getCardinality());
+    noteIfEmpty(live, "--where", where, where == null || live == 0 ? live : Where.select(reader.meta(), where).count());
   }
 }

@@ -284,7 +284,7 @@ class NearestEndToEndTest {
     gone.add(d.index().length + 3);
     gone.add(7);
     try (IndexWriter w = IndexWriter.open(idx)) {
-      w.delete(gone);
+      w.delete(gone.toArray());
     }
     List<Example> live = ex.stream().filter(e -> !gone.contains(e.id())).toList();
     check(json("nearest", "--index", idx.toString(), "--codes", q, "-k", "9", "--format", "json"),

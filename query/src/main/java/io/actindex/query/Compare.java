@@ -3,6 +3,7 @@ package io.actindex.query;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.core.IdSet;
 import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
 import io.actindex.encode.io.MatrixReader;
@@ -28,7 +29,6 @@ import java.util.Comparator;
 import java.util.List;
 import java.util.Locale;
 import java.util.function.DoubleUnaryOperator;
-import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Two samples of inputs compared where the model looks: in code space (kernel MMD^2 with
@@ -333,16 +333,16 @@ public final class Compare {
   private static CodeBlock load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
     if (s.source() != null)
       return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes);
-    RoaringBitmap ids = Where.select(reader.meta(), s.where());
+    IdSet ids = Where.select(reader.meta(), s.where());
     if (reader.liveCount() == 0)
       throw new BadInputException(s.brief() + ": sample " + which + " is empty: the index " + reader.dir() + " holds no live examples");
-    if (ids.getCardinality() < 2) // before the other sample is read
+    if (ids.count() < 2) // before the other sample is read
       throw new BadInputException("--" + which.toLowerCase(Locale.ROOT) + "-where " + BadInputException.quote(s.where()) + " matches "
-          + ids.getCardinality() + " of the " + reader.liveCount() + " live examples; sample " + which + " needs at least 2");
+          + ids.count() + " of the " + reader.liveCount() + " live examples; sample " + which + " needs at least 2");
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
     int w = all.wordsPerCode(), kept = 0;
-    long[] out = new long[Math.multiplyExact(ids.getCardinality(), w)];
+    long[] out = new long[Math.multiplyExact(ids.count(), w)];
     for (int i = 0; i < live.length; i++)
       if (ids.contains(live[i])) System.arraycopy(all.words(), i * w, out, kept++ * w, w);
     return new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w));

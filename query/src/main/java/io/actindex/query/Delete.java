@@ -64,10 +64,10 @@ public final class Delete {
   }
 
   public static Result run(Params p) {
-    RoaringBitmap ids;
+    int[] ids;
     List<String> notLive = new ArrayList<>();
     try (IndexReader r = IndexReader.open(p.dir())) {
-      ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile(), notLive) : Where.select(r.meta(), p.where());
+      ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile(), notLive) : Where.select(r.meta(), p.where()).toArray();
     }
     if (!notLive.isEmpty() && !p.skipMissing())
       throw new BadInputException("keys file " + p.keysFile() + " " + notLive.getFirst() + " is not a live example of the index "
@@ -77,16 +77,16 @@ public final class Delete {
       int deleted = w.delete(ids);
       List<String> warnings = w.takeWarnings();
       try (IndexReader r = IndexReader.open(p.dir())) {
-        return new Result(ids.getCardinality(), deleted, r.liveCount(), warnings, notLive);
+        return new Result(ids.length, deleted, r.liveCount(), warnings, notLive);
       }
     }
   }
 
   /**
-   * The ids of the keys listed in {@code file} that name live examples; each other key goes to
-   * {@code notLive} as {@code line N: 'KEY'}.
+   * The ids of the keys listed in {@code file} that name live examples, ascending, each once; each
+   * other key goes to {@code notLive} as {@code line N: 'KEY'}.
    */
-  static RoaringBitmap byKeys(MetaStore meta, Path file, List<String> notLive) {
+  static int[] byKeys(MetaStore meta, Path file, List<String> notLive) {
     byte[] bytes;
     try {
       bytes = Files.readAllBytes(file);
@@ -114,6 +114,6 @@ public final class Delete {
       if (id < 0) notLive.add("line " + (i + 1) + ": '" + Snippet.of(key) + "'");
       else ids.add(id);
     }
-    return ids;
+    return ids.toArray();
   }
 }

@@ -3,6 +3,7 @@ package io.actindex.query;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.core.IdSet;
 import io.actindex.index.mih.DistinctCodes;
 import io.actindex.index.mih.PairSink;
 import io.actindex.index.mih.RadiusMatcher;
@@ -298,7 +299,7 @@ public final class Dupes {
     if (p.radius() > target.bits())
       throw new BadInputException("--radius " + p.radius() + " is larger than the code length, " + target.bits() + " bits"
           + (p.layers().isEmpty() ? "" : " on layers " + String.join(",", p.layers())));
-    RoaringBitmap filter = Where.select(reader.meta(), p.where());
+    IdSet filter = Where.select(reader.meta(), p.where());
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
     int n = 0, w = all.wordsPerCode();

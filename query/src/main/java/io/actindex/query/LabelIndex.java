@@ -8,7 +8,6 @@ import java.util.Map;
 import org.apache.lucene.index.Term;
 import org.apache.lucene.search.FieldExistsQuery;
 import org.apache.lucene.search.TermQuery;
-import org.roaringbitmap.RoaringBitmap;
 
 /**
  * The label of every live id, read with one filter per distinct label instead of one document
@@ -35,23 +34,15 @@ final class LabelIndex {
     Arrays.fill(labelOf, -1);
     List<String> names = new ArrayList<>();
     if (!meta.fields().containsKey(field)) return new LabelIndex(names, labelOf);
-    RoaringBitmap todo = meta.select(new FieldExistsQuery(field));
-    while (!todo.isEmpty()) {
-      int id = todo.first();
+    for (int id : meta.select(new FieldExistsQuery(field)).toArray()) {
+      if (id >= maxId || labelOf[id] >= 0) continue; // placed with an earlier id's label
       Map<String, String> doc = meta.document(id);
       String label = doc == null ? null : doc.get(field);
-      if (label == null) { // not live or no label after all: skip it
-        todo.remove(id);
-        continue;
-      }
-      RoaringBitmap ids = meta.select(new TermQuery(new Term(field, label)));
-      ids.add(id);
+      if (label == null) continue; // not live or no label after all: skip it
       int index = names.size();
       names.add(label);
-      ids.forEach((int i) -> {
-        if (i < maxId) labelOf[i] = index;
-      });
-      todo.andNot(ids);
+      labelOf[id] = index;
+      for (int i : meta.select(new TermQuery(new Term(field, label))).toArray()) if (i < maxId) labelOf[i] = index;
     }
     return new LabelIndex(names, labelOf);
   }

@@ -86,7 +86,7 @@ public final class Nearest {
     int[] shown = Layers.select(layout, p.layers());
     long[] mask = Layers.maskOrNull(layout, p.layers());
     long[][] segMasks = Layers.segmentMasks(layout);
-    IdSet filter = Where.filter(reader, p.where());
+    IdSet filter = Where.select(reader.meta(), p.where());
     int n = queries.size();
     Result[] out = new Result[n];
     Parallel.forEach(n, p.threads(), progress,

@@ -156,7 +156,7 @@ public final class OodEval {
 
   private static Hits[] candidates(IndexReader reader, CodeBlock codes, int c, long[] mask, int threads) {
     Hits[] h = new Hits[codes.size()];
-    Parallel.forEach(h.length, threads, Progress.NONE, i -> h[i] = reader.knn(codes.code(i), c, null, mask));
+    Parallel.forEach(h.length, threads, Progress.NONE, i -> h[i] = reader.search(codes.code(i), c, null, mask));
     return h;
   }
 
@@ -171,7 +171,7 @@ public final class OodEval {
     long[][] masks = new long[layerSets.size()][];
     for (int ls = 0; ls < masks.length; ls++) masks[ls] = Layers.maskOrNull(reader.layout(), layerSets.get(ls));
     Parallel.forEach(codes.size(), threads, (d, n) -> progress.update(done + d, total), i -> {
-      for (int ls = 0; ls < masks.length; ls++) h[ls][i] = reader.knn(codes.code(i), k, null, masks[ls]);
+      for (int ls = 0; ls < masks.length; ls++) h[ls][i] = reader.search(codes.code(i), k, null, masks[ls]);
     });
     return h;
   }

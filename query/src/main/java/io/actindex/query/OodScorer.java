@@ -91,7 +91,7 @@ public final class OodScorer {
   }
 
   public Score score(long[] code) {
-    return of(reader.knn(code, k, null, mask), k, statistic);
+    return of(reader.search(code, k, null, mask), k, statistic);
   }
 
   /**

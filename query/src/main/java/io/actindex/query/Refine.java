@@ -98,7 +98,7 @@ public final class Refine {
     long[] mask = Layers.maskOrNull(layout, p.layers());
     long[][] segMasks = Layers.segmentMasks(layout);
     int[] units = p.layers().isEmpty() ? null : units(layout, shown);
-    IdSet filter = Where.filter(reader, p.where());
+    IdSet filter = Where.select(reader.meta(), p.where());
     int n = codes.size(), d = layout.bits();
     Result[] out = new Result[n];
     Parallel.forEach(n, p.threads(), progress, i -> {

@@ -3,6 +3,7 @@ package io.actindex.query;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hits;
+import io.actindex.core.IdSet;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
@@ -12,7 +13,6 @@ import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
-import org.roaringbitmap.RoaringBitmap;
 
 /**
  * The linear region of a query and the populated regions around it. On the chosen layers, the
@@ -54,7 +54,7 @@ public final class Region {
 
   /** Regions for every query. */
   public static List<Result> run(IndexReader reader, QueryCodes queries, Params p, Progress progress) {
-    RoaringBitmap filter = Where.select(reader.meta(), p.where());
+    IdSet filter = Where.select(reader.meta(), p.where());
     LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId());
     Progress prog = progress == null ? Progress.NONE : progress;
     List<Result> out = new ArrayList<>();
@@ -65,13 +65,13 @@ public final class Region {
     return out;
   }
 
-  static Result run(IndexReader reader, long[] query, long row, Params p, RoaringBitmap filter, LabelIndex labels) {
+  static Result run(IndexReader reader, long[] query, long row, Params p, IdSet filter, LabelIndex labels) {
     CodeLayout layout = reader.layout();
     if (query.length != layout.words())
       throw new BadInputException("query has " + query.length + " words, the index layout " + layout + " has " + layout.words());
     long[] mask = Layers.maskOrNull(layout, p.layers());
     if (mask == null) mask = layout.fullMask();
-    Hits hits = reader.radius(query, p.radius(), filter, p.layers().isEmpty() ? null : mask);
+    Hits hits = reader.searchRadius(query, p.radius(), filter, p.layers().isEmpty() ? null : mask);
     MetaStore meta = reader.meta();
     Map<Diff, Acc> groups = new HashMap<>();
     for (int h = 0; h < hits.size(); h++) {

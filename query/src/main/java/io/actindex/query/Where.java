@@ -4,7 +4,6 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.IdSet;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.meta.MetaStore.FieldKind;
-import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
 import java.util.List;
@@ -19,10 +18,11 @@ import org.apache.lucene.search.Query;
 import org.apache.lucene.search.TermInSetQuery;
 import org.apache.lucene.search.TermQuery;
 import org.apache.lucene.util.BytesRef;
-import org.roaringbitmap.RoaringBitmap;
 
 /**
- * Parses a metadata filter ("where-expression") into a Lucene query over the metadata fields.
+ * A metadata filter ("where-expression"): {@link #select} gives the live ids it matches as an {@link
+ * IdSet}, the search filter of {@code IndexReader.search}. Inside, the expression is parsed into a
+ * Lucene query over the metadata fields, which the store runs.
  *
  * <pre>
  * expr       := orExpr
@@ -66,8 +66,8 @@ public final class Where {
     this.tokens = tokenize(text);
   }
 
-  /** Parses {@code expr} against the given field kinds. */
-  public static Query parse(String expr, Map<String, FieldKind> fields) {
+  /** Parses {@code expr} against the given field kinds (the store's own query; callers use {@link #select}). */
+  static Query parse(String expr, Map<String, FieldKind> fields) {
     if (expr == null || expr.isBlank()) throw new BadInputException("where: the expression is empty; give no filter (null) to use every example");
     Where w = new Where(expr, fields);
     Query q = w.or();
@@ -76,22 +76,14 @@ public final class Where {
   }
 
   /**
-   * The live ids that match {@code expr}, or {@code null} (no filter) when it is null. An empty or
-   * blank expression is refused like a syntax error, never read as "every example" (a delete by an
-   * unset shell variable must not delete everything).
+   * The live ids that match {@code expr}, a set over {@code [0, maxId)} of the index {@code meta}
+   * belongs to (so a search filter of its reader: build it once, use it for every query), or {@code
+   * null} (no filter) when it is null. An empty or blank expression is refused like a syntax error,
+   * never read as "every example" (a delete by an unset shell variable must not delete everything).
    */
-  public static RoaringBitmap select(MetaStore meta, String expr) {
+  public static IdSet select(MetaStore meta, String expr) {
     if (expr == null) return null;
     return meta.select(parse(expr, meta.fields()));
-  }
-
-  /**
-   * The live ids that match {@code expr} as a search filter of {@code reader} (built once, used for
-   * every query), or {@code null} (no filter) when it is null; blank is refused.
-   */
-  public static IdSet filter(IndexReader reader, String expr) {
-    RoaringBitmap ids = select(reader.meta(), expr);
-    return ids == null ? null : reader.filter(ids);
   }
 
   // ---- grammar

@@ -31,7 +31,7 @@ class CensusIndexTest {
     TestIndexes.write(tmp.resolve("c"), codes, meta, 2);
     RoaringBitmap deleted = RoaringBitmap.bitmapOf(0, 1, 2, 50, 299);
     try (IndexWriter w = IndexWriter.open(tmp.resolve("c"))) {
-      w.delete(deleted);
+      w.delete(deleted.toArray());
     }
     try (IndexReader r = IndexReader.open(tmp.resolve("c"))) {
       Census.Result c = Census.run(r, new Census.Params(null, 5, 2));

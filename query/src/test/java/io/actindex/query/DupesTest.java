@@ -74,7 +74,7 @@ class DupesTest {
       RoaringBitmap deleted = new RoaringBitmap();
       for (int i = 0; i < n / 10; i++) deleted.add(rnd.nextInt(n));
       try (IndexWriter w = IndexWriter.open(dir)) {
-        w.delete(deleted);
+        w.delete(deleted.toArray());
       }
       try (IndexReader r = IndexReader.open(dir)) {
         for (int radius : new int[] {0, 1, 2, 3, 5, 8, 13}) {

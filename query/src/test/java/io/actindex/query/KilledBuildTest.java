@@ -88,7 +88,7 @@ class KilledBuildTest {
           if (q % 2 == 1) query[0] ^= 1L << rnd.nextInt(64) | 1L << rnd.nextInt(64);
           int kk = 1 + rnd.nextInt(40);
           Hits want = BruteForce.knn(codes, query, kk, id -> true, null);
-          assertEquals(want, r.knn(query, kk, null, null), at + " query " + q + " k " + kk);
+          assertEquals(want, r.search(query, kk, null, null), at + " query " + q + " k " + kk);
         }
       }
       complete++;

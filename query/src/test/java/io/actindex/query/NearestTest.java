@@ -54,7 +54,7 @@ class NearestTest {
       RoaringBitmap deleted = new RoaringBitmap();
       for (int i = 0; i < 40; i++) deleted.add(rnd.nextInt(400));
       try (IndexWriter w = IndexWriter.open(dir)) {
-        w.delete(deleted);
+        w.delete(deleted.toArray());
       }
       check(dir, all, 400, meta, deleted, rnd, why);
       try (IndexWriter w = IndexWriter.open(dir)) {
@@ -102,7 +102,7 @@ class NearestTest {
       for (int i = rnd.nextInt(30); i > 0; i--) deleted.add(rnd.nextInt(n));
       if (!deleted.isEmpty())
         try (IndexWriter w = IndexWriter.open(dir)) {
-          w.delete(deleted);
+          w.delete(deleted.toArray());
         }
       try (IndexReader r = IndexReader.open(dir)) {
         for (int t = 0; t < 12; t++) {

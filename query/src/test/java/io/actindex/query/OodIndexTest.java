@@ -50,7 +50,7 @@ class OodIndexTest {
       w.add(codes.slice(half, codes.size()), rows.subList(half, codes.size()));
       org.roaringbitmap.RoaringBitmap dead = new org.roaringbitmap.RoaringBitmap();
       for (int i = 0; i < codes.size(); i += 11) dead.add(i);
-      w.delete(dead);
+      w.delete(dead.toArray());
     }
     return dir;
   }

@@ -78,7 +78,7 @@ class OodRefinedTest {
         for (int i = from; i < to; i++) vectors[i] = m.row(i - from);
         w.add(codes.slice(from, to), m, null);
       }
-      w.delete(deleted);
+      w.delete(deleted.toArray());
     }
     try (IndexReader r = IndexReader.open(dir)) {
       QueryCodes q = new QueryCodes(qCodes, 0);

@@ -44,7 +44,7 @@ class RefineTest {
         for (int i = from; i < to; i++) dequantised[i] = m.row(i - from);
         w.add(codes.slice(from, to), m, meta == null ? null : meta.subList(from, to));
       }
-      w.delete(deleted);
+      w.delete(deleted.toArray());
     }
     return dequantised;
   }
@@ -138,7 +138,7 @@ class RefineTest {
         Refine.Metric metric = rnd.nextBoolean() ? Refine.Metric.COSINE : Refine.Metric.EUCLIDEAN;
         String where = round == 1 ? "label = cat or split = test" : null;
         List<String> layers = round == 2 && codes.layout().segments().size() > 1 ? List.of(codes.layout().segments().get(1).name()) : null;
-        RoaringBitmap filter = where == null ? null : Where.select(r.meta(), where);
+        RoaringBitmap filter = where == null ? null : RoaringBitmap.bitmapOf(Where.select(r.meta(), where).toArray());
         int[] units = layers == null ? allUnits(d) : Refine.units(codes.layout(), Layers.select(codes.layout(), layers));
         List<Refine.Result> got = Refine.run(r, q, new Refine.Params(k, c, metric, where, layers, 1 + round % 2), null);
         for (int i = 0; i < qCodes.size(); i++) {

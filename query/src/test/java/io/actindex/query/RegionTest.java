@@ -69,7 +69,7 @@ class RegionTest {
       RoaringBitmap deleted = new RoaringBitmap();
       for (int i = 0; i < 30; i++) deleted.add(rnd.nextInt(codes.size()));
       try (IndexWriter w = IndexWriter.open(dir)) {
-        w.delete(deleted);
+        w.delete(deleted.toArray());
       }
       try (IndexReader r = IndexReader.open(dir)) {
         for (int t = 0; t < 5; t++) {

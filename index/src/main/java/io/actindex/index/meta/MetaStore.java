@@ -1,6 +1,7 @@
 package io.actindex.index.meta;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.IdSet;
 import java.io.Closeable;
 import java.io.FileNotFoundException;
 import java.io.IOException;
@@ -45,7 +46,9 @@ import org.roaringbitmap.RoaringBitmap;
  * manifest names, after every file of that commit passed Lucene's checksum. One document per live
  * code; see {@link MetaSchema} for fields. Filters: build a Lucene {@link Query} ({@code TermQuery}
  * for KEYWORD columns, {@code DoublePoint.newRangeQuery}/{@code newExactQuery} for NUMBER columns,
- * {@code BooleanQuery} to combine) and {@link #select} it. Thread-safe.
+ * {@code BooleanQuery} to combine) and {@link #select} it into an {@code IdSet}; that is what
+ * {@code query}'s {@code Where} does with a where-expression, the way library users filter (Lucene
+ * stays an implementation detail). Thread-safe.
  *
  * <p>Ids added without metadata have no document ("bare" ids): their row is only the key
  * {@code row-ID}, synthesized here, so a build without metadata writes nothing per example. {@link
@@ -76,12 +79,14 @@ public final class MetaStore implements Closeable {
   private final Map<String, FieldKind> fields;
   private final RoaringBitmap deleted;
   private final RoaringBitmap bare;
+  private final int maxId; // ids are [0, maxId)
   private volatile int[] docOfId;
   private static final java.util.regex.Pattern SYNTHETIC = java.util.regex.Pattern.compile("row-(0|[1-9]\\d{0,9})");
 
   private MetaStore(Directory dir, DirectoryReader reader, Map<String, FieldKind> fields, RoaringBitmap deleted,
-      RoaringBitmap bare) {
+      RoaringBitmap bare, int maxId) {
     this.bare = bare;
+    this.maxId = maxId;
     this.dir = dir;
     this.reader = reader;
     this.searcher = new IndexSearcher(reader);
@@ -91,19 +96,11 @@ public final class MetaStore implements Closeable {
   }
 
   /**
-   * Opens the commit {@code segmentsFile} of the store in {@code metaDir}, verifying the checksum of
-   * every file it uses; {@code deleted} ids are never selected. BadInputException names a damaged file.
-   */
-  public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted) {
-    RoaringBitmap all = new RoaringBitmap();
-    all.add(0L, 1L << 31);
-    return open(metaDir, segmentsFile, deleted, all, 0);
-  }
-
-  /**
-   * Opens the commit {@code segmentsFile}; ids in {@code [0, maxId)} that are neither in
-   * {@code documented} nor in {@code deleted} are bare (key "row-ID", no document). Every file's
-   * checksum is recomputed ({@link #checksumByReading}).
+   * Opens the commit {@code segmentsFile} of the store in {@code metaDir} (for {@link
+   * io.actindex.index.store.IndexReader}, which passes its manifest's sets); ids in {@code [0, maxId)}
+   * that are neither in {@code documented} nor in {@code deleted} are bare (key "row-ID", no
+   * document), {@code deleted} ids are never selected. Every file's checksum is recomputed ({@link
+   * #checksumByReading}); BadInputException names a damaged file.
    */
   public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted, RoaringBitmap documented,
       int maxId) {
@@ -163,7 +160,7 @@ public final class MetaStore implements Closeable {
         IOUtils.close(pinned);
         IOUtils.close(channels);
       }
-      return new MetaStore(dir, reader, kinds(commit.getUserData()), deleted.clone(), bare);
+      return new MetaStore(dir, reader, kinds(commit.getUserData()), deleted.clone(), bare, maxId);
     } catch (IOException e) {
       close(dir);
       throw new UncheckedIOException("cannot open metadata store " + metaDir, e);
@@ -395,16 +392,24 @@ public final class MetaStore implements Closeable {
     }
   }
 
-  /** Ids of the live documents matching {@code query}. */
-  public RoaringBitmap select(Query query) {
+  /**
+   * The live ids matching {@code query}, a set over {@code [0, maxId)}: a search filter of the reader
+   * this store belongs to. The Lucene entry of {@code query}'s {@code Where} and label look-ups.
+   */
+  public IdSet select(Query query) {
+    RoaringBitmap ids;
     try {
-      RoaringBitmap ids = collect(searcher, query);
+      ids = collect(searcher, query);
       ids.andNot(deleted);
       if (!bare.isEmpty()) ids.or(selectBare(query));
-      return ids;
     } catch (IOException e) {
       throw new UncheckedIOException(e);
     }
+    long[] words = new long[(maxId + 63) >>> 6];
+    ids.forEach((int id) -> {
+      if (id >= 0 && id < maxId) words[id >>> 6] |= 1L << (id & 63);
+    });
+    return IdSet.of(words, maxId);
   }
 
   private static RoaringBitmap collect(IndexSearcher s, Query query) throws IOException {

@@ -62,7 +62,7 @@ public final class IndexReader implements AutoCloseable {
     this.meta = meta;
     this.liveCount = manifest.nextId() - deleted.getCardinality();
     this.words = manifest.layout().words();
-    this.live = deleted.isEmpty() ? null : toIdSet(deleted, manifest.nextId(), true);
+    this.live = deleted.isEmpty() ? null : notIn(deleted, manifest.nextId());
     this.bySize = this.segments.toArray(new Segment[0]);
     Arrays.sort(bySize, (a, b) -> Integer.compare(b.size(), a.size()));
     List<CodeSearcher> searchers = new ArrayList<>();
@@ -82,8 +82,8 @@ public final class IndexReader implements AutoCloseable {
       }
   }
 
-  /** The ids of {@code bits} below {@code size} (or, with {@code complement}, the others) as an IdSet. */
-  private static IdSet toIdSet(RoaringBitmap bits, int size, boolean complement) {
+  /** The ids below {@code size} that are not in {@code bits}. */
+  private static IdSet notIn(RoaringBitmap bits, int size) {
     long[] words = new long[(size + 63) >>> 6];
     org.roaringbitmap.BatchIterator it = bits.getBatchIterator();
     int[] buf = new int[256];
@@ -94,19 +94,20 @@ public final class IndexReader implements AutoCloseable {
         if (id >= 0 && id < size) words[id >>> 6] |= 1L << (id & 63);
       }
     }
-    if (complement) {
-      for (int i = 0; i < words.length; i++) words[i] = ~words[i];
-      if ((size & 63) != 0) words[words.length - 1] &= -1L >>> (64 - (size & 63));
-    }
+    for (int i = 0; i < words.length; i++) words[i] = ~words[i];
+    if ((size & 63) != 0) words[words.length - 1] &= -1L >>> (64 - (size & 63));
     return IdSet.of(words, size);
   }
 
   /**
-   * A filter for {@link #search}: the live ids among {@code ids} (ids outside {@code [0, maxId())}
-   * are ignored). Build it once and reuse it for every query with the same filter.
+   * A filter for {@link #search}: the live ids among {@code ids} (any order; repeats and ids outside
+   * {@code [0, maxId())} are ignored). Build it once and reuse it for every query with the same filter.
    */
-  public IdSet filter(RoaringBitmap ids) {
-    IdSet f = toIdSet(ids, manifest.nextId(), false);
+  public IdSet filter(int... ids) {
+    int size = manifest.nextId();
+    long[] words = new long[(size + 63) >>> 6];
+    for (int id : ids) if (id >= 0 && id < size) words[id >>> 6] |= 1L << (id & 63);
+    IdSet f = IdSet.of(words, size);
     return live == null ? f : f.and(live);
   }
 
@@ -200,12 +201,9 @@ public final class IndexReader implements AutoCloseable {
     return liveCount;
   }
 
-  /** A new bitmap of the live ids. */
-  public RoaringBitmap liveIds() {
-    RoaringBitmap live = new RoaringBitmap();
-    if (manifest.nextId() > 0) live.add(0L, manifest.nextId());
-    live.andNot(deleted);
-    return live;
+  /** The live ids, a set over {@code [0, maxId())}. */
+  public IdSet liveIds() {
+    return live == null ? IdSet.all(manifest.nextId()) : live;
   }
 
   /** True if {@code id} is live. */
@@ -276,20 +274,6 @@ public final class IndexReader implements AutoCloseable {
         i++;
       }
     return new CodeBlock(manifest.layout(), liveCount, words);
-  }
-
-  /**
-   * The {@code k} nearest live codes (restricted to {@code filter} if not null), exact, ties by
-   * ascending id; {@code mask} (nullable) limits the distance to its bits. Converts the filter on
-   * every call: with many queries, build it once with {@link #filter} and call {@link #search}.
-   */
-  public Hits knn(long[] query, int k, RoaringBitmap filter, long[] mask) {
-    return search(query, k, filter == null ? null : filter(filter), mask);
-  }
-
-  /** Every live code (in {@code filter} if not null) at distance {@code <= radius}, sorted by (distance, id). */
-  public Hits radius(long[] query, int radius, RoaringBitmap filter, long[] mask) {
-    return searchRadius(query, radius, filter == null ? null : filter(filter), mask);
   }
 
   /**

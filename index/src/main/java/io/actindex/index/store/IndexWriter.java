@@ -263,10 +263,13 @@ public final class IndexWriter implements AutoCloseable {
     }
   }
 
-  /** Deletes the given ids (those live) and commits; returns how many were live. */
-  public int delete(RoaringBitmap ids) {
+  /**
+   * Deletes the given ids (any order; repeats, ids never given out and ids deleted already are
+   * ignored) and commits; returns how many were live.
+   */
+  public int delete(int... ids) {
     ensureOpen();
-    RoaringBitmap fresh = ids.clone();
+    RoaringBitmap fresh = RoaringBitmap.bitmapOf(ids);
     if (!fresh.isEmpty()) fresh.remove(Integer.toUnsignedLong(manifest.nextId()), 0x1_0000_0000L);
     fresh.andNot(deleted);
     int count = fresh.getCardinality();

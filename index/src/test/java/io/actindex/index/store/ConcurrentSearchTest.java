@@ -47,7 +47,7 @@ class ConcurrentSearchTest {
       w.add(all.slice(0, 3_000), null);
       w.add(all.slice(3_000, 9_000), null);
       w.add(all.slice(9_000, all.size()), null);
-      w.delete(deleted);
+      w.delete(deleted.toArray());
     }
     int threads = 4, perThread = 60;
     CodeBlock queries = net.sample(threads * perThread, 0, seed + 2).codes();
@@ -61,7 +61,7 @@ class ConcurrentSearchTest {
         RoaringBitmap f = new RoaringBitmap();
         for (int id = 0; id < all.size(); id++) if (rnd.nextDouble() < share) f.add(id);
         filters.add(f);
-        sets.add(r.filter(f));
+        sets.add(r.filter(f.toArray()));
       }
       CyclicBarrier start = new CyclicBarrier(threads);
       AtomicReference<Throwable> failure = new AtomicReference<>();
@@ -97,7 +97,7 @@ class ConcurrentSearchTest {
       for (Thread th : pool) th.join();
       if (failure.get() != null) throw new AssertionError(why + ": a searching thread failed", failure.get());
       assertEquals(threads * perThread, checked.get(), why);
-      Hits none = r.search(queries.code(0), 10, r.filter(new RoaringBitmap()), null);
+      Hits none = r.search(queries.code(0), 10, r.filter(), null);
       assertEquals(Hits.EMPTY, none, why);
     }
   }

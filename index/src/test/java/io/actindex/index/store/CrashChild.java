@@ -52,7 +52,7 @@ public final class CrashChild {
     log = new java.io.FileOutputStream(args[2], true);
     RoaringBitmap live;
     try (IndexReader r = IndexReader.open(dir)) {
-      live = r.liveIds();
+      live = RoaringBitmap.bitmapOf(r.liveIds().toArray());
     }
     try (IndexWriter w = IndexWriter.open(dir)) {
       while (true) {
@@ -78,7 +78,7 @@ public final class CrashChild {
           StringBuilder sb = new StringBuilder();
           del.forEach((int id) -> sb.append(sb.isEmpty() ? "" : ",").append(id));
           say("BEGIN delete " + sb);
-          w.delete(del);
+          w.delete(del.toArray());
           live.andNot(del);
         } else {
           say("BEGIN compact");

@@ -31,7 +31,7 @@ class FormatV1FixtureTest {
     try (IndexWriter w = IndexWriter.create(dir, CrashChild.LAYOUT, Map.of("made.by", "FormatV1FixtureTest"))) {
       w.add(block(0, 20), rows(0, 20));
       w.add(block(20, 30), rows(20, 30));
-      w.delete(RoaringBitmap.bitmapOf(3, 25));
+      w.delete(3, 25);
       w.putAttachment("note", "fixture v1".getBytes(StandardCharsets.UTF_8));
     }
   }
@@ -71,7 +71,7 @@ class FormatV1FixtureTest {
       for (int q = 0; q < 30; q += 7) {
         long[] query = CrashChild.code(100 + q);
         Hits expected = BruteForce.knn(all, query, 5, id -> !deleted.contains(id), null);
-        assertEquals(expected, r.knn(query, 5, null, null));
+        assertEquals(expected, r.search(query, 5, null, null));
       }
     }
   }

@@ -71,7 +71,7 @@ class IndexSearchExactnessTest {
             double share = new double[] {0.005, 0.3, 1}[i % 3];
             RoaringBitmap f = new RoaringBitmap();
             for (int id = 0; id < all.size(); id++) if (rnd.nextDouble() < share) f.add(id);
-            io.actindex.core.IdSet filter = share == 1 ? null : r.filter(f);
+            io.actindex.core.IdSet filter = share == 1 ? null : r.filter(f.toArray());
             IntPredicate accept = id -> !deleted.contains(id) && (share == 1 || f.contains(id));
             long[] mask = i == 7 ? all.layout().mask(1) : null;
             for (int k : new int[] {1, 10, 100}) {
@@ -80,12 +80,12 @@ class IndexSearchExactnessTest {
             }
             assertEquals(BruteForce.radius(all, q, 30, accept, mask), r.searchRadius(q, 30, filter, mask), why);
           }
-          assertEquals(Hits.EMPTY, r.search(queries.code(0), 10, r.filter(new RoaringBitmap()), null), why);
+          assertEquals(Hits.EMPTY, r.search(queries.code(0), 10, r.filter(), null), why);
         }
         RoaringBitmap del = new RoaringBitmap();
         if (round == 0) del.add(rnd.nextInt(all.size()));
         else for (int id = 0; id < all.size(); id++) if (rnd.nextInt(10) < 3) del.add(id);
-        w.delete(del);
+        w.delete(del.toArray());
         deleted.or(del);
       }
     }
@@ -124,7 +124,7 @@ class IndexSearchExactnessTest {
           RoaringBitmap del = new RoaringBitmap();
           for (int i = 0; i < 1 + rnd.nextInt(20); i++) del.add(rnd.nextInt(all.size()));
           RoaringBitmap fresh = RoaringBitmap.andNot(del, deleted);
-          assertEquals(fresh.getCardinality(), w.delete(del), why);
+          assertEquals(fresh.getCardinality(), w.delete(del.toArray()), why);
           deleted.or(del);
         }
         if (b == batches / 2 || rnd.nextInt(4) == 0) check(dir, all, labels, deleted, rnd, why);
@@ -134,7 +134,7 @@ class IndexSearchExactnessTest {
       check(dir, all, labels, deleted, rnd, why);
       if (all.size() > 0) {
         RoaringBitmap del = RoaringBitmap.bitmapOf(rnd.nextInt(all.size()));
-        w.delete(del);
+        w.delete(del.toArray());
         deleted.or(del);
       }
     }
@@ -165,7 +165,7 @@ class IndexSearchExactnessTest {
         RoaringBitmap filter = null;
         String label = "c" + rnd.nextInt(3);
         if (q % 3 == 1) {
-          filter = r.meta().select(new TermQuery(new Term("label", label)));
+          filter = RoaringBitmap.bitmapOf(r.meta().select(new TermQuery(new Term("label", label))).toArray());
           RoaringBitmap expected = new RoaringBitmap();
           for (int id = 0; id < all.size(); id++) if (labels.get(id).equals(label) && !deleted.contains(id)) expected.add(id);
           assertEquals(expected, filter, why);
@@ -176,14 +176,15 @@ class IndexSearchExactnessTest {
         long[] mask = q == 5 && all.layout().segments().size() > 1 ? all.layout().mask(1) : null;
         RoaringBitmap f = filter;
         IntPredicate accept = id -> !deleted.contains(id) && (f == null || f.contains(id));
+        io.actindex.core.IdSet set = f == null ? null : r.filter(f.toArray());
         for (int k : new int[] {1, 10, 100}) {
           Hits expected = BruteForce.knn(all, query, k, accept, mask);
-          assertEquals(expected, r.knn(query, k, filter, mask), why + " k=" + k);
+          assertEquals(expected, r.search(query, k, set, mask), why + " k=" + k);
         }
         int radius = rnd.nextInt(bits + 2);
         if (rnd.nextBoolean() && all.size() > 0) radius = BruteForce.knn(all, query, 1 + rnd.nextInt(20), accept, mask).size() > 0
             ? lastDist(BruteForce.knn(all, query, 1 + rnd.nextInt(20), accept, mask)) : 0;
-        assertEquals(BruteForce.radius(all, query, radius, accept, mask), r.radius(query, radius, filter, mask),
+        assertEquals(BruteForce.radius(all, query, radius, accept, mask), r.searchRadius(query, radius, set, mask),
             why + " r=" + radius);
       }
     }

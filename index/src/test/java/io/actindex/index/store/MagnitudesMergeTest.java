@@ -45,7 +45,7 @@ class MagnitudesMergeTest {
         w.add(codes.slice(30 * b, 30 * (b + 1)), batches[b], null);
       }
       check(dir, batches, deleted, 0, why + " after adds");
-      w.delete(deleted);
+      w.delete(deleted.toArray());
       check(dir, batches, deleted, 0, why + " after delete");
       w.compact();
       check(dir, batches, deleted, 0, why + " after compaction");

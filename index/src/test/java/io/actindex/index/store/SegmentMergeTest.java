@@ -61,7 +61,7 @@ class SegmentMergeTest {
         if (rnd.nextInt(4) == 0) {
           RoaringBitmap del = new RoaringBitmap();
           for (int i = 0; i < 3; i++) del.add(rnd.nextInt(used));
-          wr.delete(del);
+          wr.delete(del.toArray());
           deleted.or(del);
         }
         if (a % 10 == 9) check(dir, pool, used, deleted, cap, policy, rnd, why + " after add " + a);
@@ -91,10 +91,10 @@ class SegmentMergeTest {
         long[] query = rnd.nextBoolean() ? all.code(rnd.nextInt(used)) : pool.code(rnd.nextInt(pool.size()));
         int k = 1 + rnd.nextInt(15);
         Hits want = BruteForce.knn(all, query, k, id -> !deleted.contains(id), null);
-        assertEquals(want, r.knn(query, k, null, null), why + " knn k=" + k);
+        assertEquals(want, r.search(query, k, null, null), why + " knn k=" + k);
         int radius = rnd.nextInt(pool.layout().bits() / 3 + 1);
         assertEquals(BruteForce.radius(all, query, radius, id -> !deleted.contains(id), null),
-            r.radius(query, radius, null, null), why + " radius " + radius);
+            r.searchRadius(query, radius, null, null), why + " radius " + radius);
       }
     }
   }

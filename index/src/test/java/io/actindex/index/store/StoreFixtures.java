@@ -45,7 +45,7 @@ final class StoreFixtures {
         w.add(sample.slice(at, at + n), magnitudes(sample, at, n, bits[s]), rows(at, n));
         at += n;
       }
-      w.delete(org.roaringbitmap.RoaringBitmap.bitmapOf(3, 41, 77));
+      w.delete(3, 41, 77);
       w.putAttachment("weights", "not really weights".getBytes(java.nio.charset.StandardCharsets.UTF_8));
     }
   }

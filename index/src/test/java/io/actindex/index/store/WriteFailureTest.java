@@ -111,7 +111,7 @@ class WriteFailureTest {
     CodeBlock codes = SyntheticCodes.uniform(90, 64, 5);
     indexOf30(dir, codes);
     try (IndexWriter w = IndexWriter.open(dir)) {
-      w.delete(org.roaringbitmap.RoaringBitmap.bitmapOf(3, 4));
+      w.delete(3, 4);
     }
     Map<String, String> before = checksums(dir);
     List<String> kinds = List.of(".codes", ".tables", ".bits", ".bin");
@@ -126,7 +126,7 @@ class WriteFailureTest {
       IndexWriter w = IndexWriter.open(dir, full);
       Runnable change = switch (kind) {
         case ".codes", ".tables" -> () -> w.add(codes.slice(30, 60), rows(30, 30));
-        case ".bits" -> () -> w.delete(org.roaringbitmap.RoaringBitmap.bitmapOf(5, 6, 7));
+        case ".bits" -> () -> w.delete(5, 6, 7);
         default -> () -> w.putAttachment("note", new byte[] {1, 2, 3});
       };
       io.actindex.core.BadInputException e = assertThrows(io.actindex.core.BadInputException.class, change::run, kind);
