@@ -91,6 +91,37 @@ class CompareEndToEndTest {
   }
 
   @Test
+  void constantSamplesNeverReadAsDifferent() throws Exception {
+    // both samples one code repeated: every MMD^2 is 0 and every p-value 1 (the permutation rule
+    // (1 + #{null >= observed}) / (1 + P) when every relabeling ties, and the linear test's exact
+    // sign-flip p-value; its z is undefined there, null in JSON)
+    boolean[][] same = new boolean[6][12];
+    for (boolean[] row : same) row[3] = row[7] = true;
+    Path fa = Files2.bits(tmp.resolve("same_a.npy"), same), fb = Files2.bits(tmp.resolve("same_b.npy"), same);
+    String[] args = {"compare", "--a", fa.toString(), "--b", fb.toString(), "--kind", "codes", "--permutations", "50"};
+    JsonNode doc = NearestEndToEndTest.json(concat(args, "--format", "json"));
+    for (JsonNode m : doc.get("mmd")) {
+      assertThat(m.get("mmd2").asDouble()).as(m.toString()).isZero();
+      assertThat(m.get("p_value").asDouble()).as(m.toString()).isEqualTo(1.0);
+    }
+    JsonNode lin = doc.get("linear_mmd");
+    assertThat(lin.get("mmd2").asDouble()).as(lin.toString()).isZero();
+    assertThat(lin.get("z").isNull()).as(lin.toString()).isTrue();
+    assertThat(lin.get("p_value").asDouble()).as(lin.toString()).isEqualTo(1.0);
+    assertThat(doc.get("verdict").asText()).startsWith("no difference detected");
+    Cli.Result csv = Cli.run(concat(args, "--format", "csv"));
+    assertThat(csv.out()).as(csv.describe()).contains("codes,mmd2_linear_exponential,0,1,3 pairs");
+    Cli.Result table = Cli.run(args);
+    assertThat(table.out()).as(table.describe()).containsPattern("linear-time +0\\.000 +1\\.000 ");
+
+    // two rows each: no linear-time test, and a note says why
+    Path ta = Files2.bits(tmp.resolve("two_a.npy"), new boolean[][] {same[0], same[1]});
+    JsonNode two = NearestEndToEndTest.json("compare", "--a", ta.toString(), "--b", ta.toString(), "--kind", "codes", "--format", "json");
+    assertThat(two.get("linear_mmd").isNull()).isTrue();
+    assertThat(two.get("notes").toString()).contains("at least 4 rows in each sample (A has 2, B 2)");
+  }
+
+  @Test
   void activationsGiveTheFloatReferenceAndUnequalSizesUseSinkhorn() throws Exception {
     SplittableRandom r = new SplittableRandom(Randoms.seed(401));
     float[][] a = new float[30][6], b = new float[20][6];

@@ -231,6 +231,8 @@ public final class Compare {
             agree[0].nullSd(), m, n, false),
         mmd("exponential", sigma, expT, pa.length, pb.length, sub));
     LinearMmd.Result linear = Math.min(m, n) >= 4 ? LinearMmd.of(a, b, expK, o.seed()) : null;
+    if (linear == null)
+      notes.add("linear-time MMD^2 not computed: it needs at least 4 rows in each sample (A has " + m + ", B " + n + ")");
 
     Wasserstein.Result w2 = w2(a, b, o, notes);
 
