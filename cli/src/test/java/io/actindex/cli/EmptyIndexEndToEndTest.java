@@ -68,6 +68,14 @@ class EmptyIndexEndToEndTest {
     JsonNode census = JSON.readTree(Cli.run("census", "--index", i, "--format", "json").out());
     assertThat(census.get("neurons").get(0).get("firing_rates")).as(state).hasSize(8).allMatch(JsonNode::isNull);
     assertThat(census.get("neurons").get(0).get("dead")).as(state).isEmpty();
+    // and no region: the sizes per region are undefined too (were 0), null in JSON, n/a in the table
+    JsonNode prefix = census.get("prefixes").get(0);
+    assertThat(prefix.get("regions").asInt()).as(state).isZero();
+    assertThat(prefix.get("examples_per_region").properties()).as(state).extracting(Map.Entry::getKey)
+        .containsExactly("min", "p50", "p90", "p99", "max", "mean");
+    assertThat(prefix.get("examples_per_region")).as(state).allMatch(JsonNode::isNull);
+    assertThat(prefix.get("purity").isNull()).as(state).isTrue();
+    assertThat(Cli.run("census", "--index", i).out()).as(state).containsPattern("act +8 +0 +0 +n/a +n/a +n/a +n/a *\\n");
     assertThat(Cli.run("census", "--index", i, "--format", "csv").out().lines().skip(1)).as(state).hasSize(8)
         .allMatch(l -> l.matches("act,\\d+,,"));
     assertThat(Cli.run("census", "--index", i).out()).as(state).containsPattern("act +8 +n/a +0 +0");
