@@ -4,6 +4,7 @@ import static org.assertj.core.api.Assertions.assertThat;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -79,6 +80,9 @@ class EmptyIndexEndToEndTest {
     assertThat(Cli.run("census", "--index", i, "--format", "csv").out().lines().skip(1)).as(state).hasSize(8)
         .allMatch(l -> l.matches("act,\\d+,,"));
     assertThat(Cli.run("census", "--index", i).out()).as(state).containsPattern("act +8 +n/a +0 +0");
+    // the index had labels, all deleted: the purity table said "no labels"
+    assertThat(Files.readString(tmp.resolve("r.html"))).as(state).contains("<td>no live example has a label</td>")
+        .doesNotContain("no labels");
     assertThat(Cli.run("dupes", "--index", i, "--radius", "1", "--format", "csv").out().strip()).as(state)
         .isEqualTo("group,size,distinct_codes,max_distance,cross_split,conflicting_labels,labels,splits,keys");
 
