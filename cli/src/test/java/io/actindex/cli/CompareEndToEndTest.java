@@ -164,6 +164,15 @@ class CompareEndToEndTest {
         .doesNotContain("\n");
     ok(Cli.run(concat(either, "--kind", "inputs")));
     ok(Cli.run(concat(either, "--kind", "activations")));
+
+    // an index built from codes: files are codes (were read as activations, with a note that the
+    // default rule binarized them)
+    Path cidx = tmp.resolve("c");
+    ok(Cli.run("build", "--out", cidx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), codes(r, 20, 10, 0)).toString()));
+    String[] onCodes = {"compare", "--index", cidx.toString(), "--a", Files2.bits(tmp.resolve("ca.npy"), codes(r, 8, 10, 0)).toString(),
+        "--b", Files2.bits(tmp.resolve("cb.npy"), codes(r, 8, 10, 0.4)).toString(), "--permutations", "20", "--format", "json"};
+    String inferred = ok(Cli.run(onCodes)).out();
+    assertThat(inferred).isEqualTo(ok(Cli.run(concat(onCodes, "--kind", "codes"))).out()).doesNotContain("binarized");
   }
 
   private static Cli.Result ok(Cli.Result r) {
