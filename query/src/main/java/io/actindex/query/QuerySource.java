@@ -68,7 +68,12 @@ public final class QuerySource {
     if (model == null || !(name.endsWith(".npy") || name.endsWith(".csv"))) return Source.Kind.INPUTS; // the reader says what is wrong
     try (MatrixReader m = Encoders.openMatrix(file); SafetensorsReader r = SafetensorsReader.open(BuildInfo.MODEL, model)) {
       long cols = m.cols();
-      int inputs = Mlp.load(r, info.encode().layerOrder(), info.encode().outputLayer(), -1).mlp().inputs();
+      int inputs;
+      try {
+        inputs = Mlp.load(r, info.encode().layerOrder(), info.encode().outputLayer(), -1).mlp().inputs();
+      } catch (BadInputException e) { // an order that needs the input width to resolve: reading the file as inputs says what fits
+        return Source.Kind.INPUTS;
+      }
       CodeLayout hidden = info.sourceLayout();
       boolean codesWidth = cols == reader.layout().bits() || (hidden != null && cols == hidden.bits());
       if (!codesWidth) return Source.Kind.INPUTS;
