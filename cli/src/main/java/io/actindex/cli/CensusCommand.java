@@ -75,9 +75,12 @@ final class CensusCommand implements Callable<Integer> {
         j.beginObject().member("min", b.min()).member("max", b.max()).member("regions", b.regions())
             .member("examples", b.examples()).endObject();
       Census.Quantiles q = p.quantiles();
-      j.endArray().name("examples_per_region").beginObject()
-          .member("min", q.min()).member("p50", q.p50()).member("p90", q.p90()).member("p99", q.p99())
-          .member("max", q.max()).member("mean", q.mean()).endObject();
+      j.endArray().name("examples_per_region").beginObject();
+      // no region (no live example): every member null, as the firing rates are
+      if (q == null) for (String m : List.of("min", "p50", "p90", "p99", "max", "mean")) j.name(m).nullValue();
+      else j.member("min", q.min()).member("p50", q.p50()).member("p90", q.p90()).member("p99", q.p99())
+          .member("max", q.max()).member("mean", q.mean());
+      j.endObject();
       j.name("purity");
       if (p.purity() == null) j.nullValue();
       else j.value(p.purity().doubleValue());
@@ -124,9 +127,14 @@ final class CensusCommand implements Callable<Integer> {
         "mean size", "label purity"));
     for (Census.Prefix p : c.prefixes()) {
       Census.Quantiles q = p.quantiles();
-      t.row(List.of(String.join("+", p.layers()), Integer.toString(p.bits()), Integer.toString(p.regions()),
-          Integer.toString(p.singletons()), Integer.toString(q.p50()), Integer.toString(q.p90()), Integer.toString(q.max()),
-          String.format(java.util.Locale.ROOT, "%.2f", q.mean()), p.purity() == null ? "" : Units.percent(p.purity())));
+      List<String> row = new ArrayList<>(List.of(String.join("+", p.layers()), Integer.toString(p.bits()), Integer.toString(p.regions()),
+          Integer.toString(p.singletons())));
+      // no region (no live example): no size to give, n/a as for the firing rates
+      if (q == null) row.addAll(List.of("n/a", "n/a", "n/a", "n/a"));
+      else row.addAll(List.of(Integer.toString(q.p50()), Integer.toString(q.p90()), Integer.toString(q.max()),
+          String.format(java.util.Locale.ROOT, "%.2f", q.mean())));
+      row.add(p.purity() == null ? "" : Units.percent(p.purity()));
+      t.row(row);
     }
     t.print(out, "  ");
     if (c.prefixes().isEmpty()) return;

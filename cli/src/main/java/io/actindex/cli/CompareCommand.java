@@ -51,7 +51,7 @@ final class CompareCommand implements Callable<Integer> {
   Path index;
 
   @Option(names = "--kind", paramLabel = "KIND", defaultValue = "activations",
-      description = "What --a and --b hold: activations (.npy, .npz, .csv), codes (.npy of 0/1 or packed bits) or inputs (run through --model or the index's model). Default: ${DEFAULT-VALUE}.")
+      description = "What --a and --b hold: activations (.npy, .npz, .csv), codes (.npy of 0/1 or packed bits) or inputs (run through --model or the index's model). Default: ${DEFAULT-VALUE}; with --index, what the index was built from (for a model's index, inputs or hidden activations by the file's width).")
   Source.Kind kind;
 
   @Option(names = "--model", paramLabel = "FILE", description = "MLP (safetensors) for --kind inputs without an index.")
@@ -178,8 +178,10 @@ final class CompareCommand implements Callable<Integer> {
   }
 
   private Compare.Sample sample(Path file, String where) {
-    if (file != null) return Compare.Sample.file(new Source(kind, file, null));
-    return Compare.Sample.where(where);
+    if (file == null) return Compare.Sample.where(where);
+    // with an index and no --kind: the kind the index was built from (a model's index: inputs or hidden activations, by width)
+    if (index != null && !GivenOptions.given(spec, "--kind")) return Compare.Sample.fileOfIndexKind(file);
+    return Compare.Sample.file(new Source(kind, file, null));
   }
 
   private static void json(PrintWriter out, Compare.Result r) {
@@ -290,7 +292,7 @@ final class CompareCommand implements Callable<Integer> {
           fmt(m.pValue()), mmdDetail(m)));
     if (r.linear() != null)
       t.row(List.of("MMD^2 exponential, linear-time", fmt(r.linear().mmd2()), fmt(r.linear().pValue()),
-          "all rows, " + r.linear().pairs() + " pairs, normal null"));
+          "all rows, " + r.linear().pairs() + " pairs, " + (Double.isNaN(r.linear().z()) ? "every pair equal: exact sign-flip p" : "normal null")));
     t.row(List.of("W2 (bits)", fmt(r.w2().w2()), "", w2Detail(r.w2())));
     t.print(out, "  ");
     out.println();

@@ -331,8 +331,11 @@ final class DupesCommand implements Callable<Integer> {
     t.print(out, "  ");
   }
 
+  /** Table cell: {@code NAME:COUNT} items separated by spaces, names quoted when they hold a space, comma or colon. */
   private static String counts(Map<String, Integer> m) {
-    return String.join(" ", CsvWriter.counted(m));
+    List<String> items = new ArrayList<>(m.size());
+    m.forEach((name, n) -> items.add(TextTable.item(name) + ":" + n));
+    return String.join(" ", items);
   }
 
   private static List<String> keys(List<Dupes.Member> ms) {

@@ -278,7 +278,7 @@ final class OodCommand implements Callable<Integer> {
           for (OodScore.Result r : o.results())
             w.row(List.of(Long.toString(r.row()), CsvWriter.number(r.score()), Integer.toString(r.kth()), CsvWriter.number(r.mean()),
                 Boolean.toString(r.ownRegion()), r.out() ? "out" : "in", CsvWriter.number(r.pValue()),
-                r.maxSoftmax() == null ? "" : CsvWriter.number(r.maxSoftmax()), CsvWriter.list(evidence(r)), o.scoreName()));
+                r.maxSoftmax() == null ? "" : CsvWriter.number(r.maxSoftmax()), CsvWriter.list(evidence(r, false)), o.scoreName()));
         }
         case table -> {
           String cands = o.scoring().kind() == OodScorer.Kind.REFINED ? ", among " + o.scoring().candidates() + " Hamming candidates" : "";
@@ -293,7 +293,7 @@ final class OodCommand implements Callable<Integer> {
             List<String> row = new ArrayList<>(List.of(Long.toString(r.row()), num(r.score()), r.out() ? "out" : "in",
                 String.format(Locale.ROOT, "%.4f", r.pValue()), r.ownRegion() ? "populated" : "empty"));
             if (msp) row.add(r.maxSoftmax() == null ? "" : String.format(Locale.ROOT, "%.4f", r.maxSoftmax()));
-            row.add(String.join(" ", evidence(r)));
+            row.add(String.join(" ", evidence(r, true)));
             t.row(row);
           }
           t.print(out, "");
@@ -301,10 +301,10 @@ final class OodCommand implements Callable<Integer> {
       }
     }
 
-    /** The nearest examples as {@code key:distance} items. */
-    private static List<String> evidence(OodScore.Result r) {
+    /** The nearest examples as {@code key:distance} items; for a table, keys quoted as {@link TextTable#item} says. */
+    private static List<String> evidence(OodScore.Result r, boolean table) {
       List<String> items = new ArrayList<>();
-      for (OodScore.Evidence e : r.evidence()) items.add(e.key() + ":" + e.distance());
+      for (OodScore.Evidence e : r.evidence()) items.add((table ? TextTable.item(e.key()) : e.key()) + ":" + e.distance());
       return items;
     }
   }

@@ -127,7 +127,7 @@ final class RegionCommand implements Callable<Integer> {
   /** For tables: "normal 10, imbalance 2"; empty when no example has a label. */
   static String labels(Map<String, Integer> mix) {
     List<String> parts = new ArrayList<>();
-    mix.forEach((label, n) -> parts.add(label + " " + n));
+    mix.forEach((label, n) -> parts.add(TextTable.item(label) + " " + n));
     return String.join(", ", parts);
   }
 }

@@ -6,9 +6,11 @@ import static org.assertj.core.api.Assertions.within;
 import com.fasterxml.jackson.databind.JsonNode;
 import io.actindex.cli.Reference.Example;
 import io.actindex.core.Randoms;
+import io.actindex.encode.io.SafetensorsWriter;
 import io.actindex.query.Compare;
 import java.nio.file.Path;
 import java.util.ArrayList;
+import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
@@ -88,6 +90,94 @@ class CompareEndToEndTest {
     assertThat(self.get("w2").get("w2").asDouble()).isZero();
     assertThat(self.get("neurons_moved").asInt()).isZero();
     assertThat(self.get("verdict").asText()).startsWith("no difference detected").contains("Bonferroni");
+  }
+
+  @Test
+  void constantSamplesNeverReadAsDifferent() throws Exception {
+    // both samples one code repeated: every MMD^2 is 0 and every p-value 1 (the permutation rule
+    // (1 + #{null >= observed}) / (1 + P) when every relabeling ties, and the linear test's exact
+    // sign-flip p-value; its z is undefined there, null in JSON)
+    boolean[][] same = new boolean[6][12];
+    for (boolean[] row : same) row[3] = row[7] = true;
+    Path fa = Files2.bits(tmp.resolve("same_a.npy"), same), fb = Files2.bits(tmp.resolve("same_b.npy"), same);
+    String[] args = {"compare", "--a", fa.toString(), "--b", fb.toString(), "--kind", "codes", "--permutations", "50"};
+    JsonNode doc = NearestEndToEndTest.json(concat(args, "--format", "json"));
+    for (JsonNode m : doc.get("mmd")) {
+      assertThat(m.get("mmd2").asDouble()).as(m.toString()).isZero();
+      assertThat(m.get("p_value").asDouble()).as(m.toString()).isEqualTo(1.0);
+    }
+    JsonNode lin = doc.get("linear_mmd");
+    assertThat(lin.get("mmd2").asDouble()).as(lin.toString()).isZero();
+    assertThat(lin.get("z").isNull()).as(lin.toString()).isTrue();
+    assertThat(lin.get("p_value").asDouble()).as(lin.toString()).isEqualTo(1.0);
+    assertThat(doc.get("verdict").asText()).startsWith("no difference detected");
+    Cli.Result csv = Cli.run(concat(args, "--format", "csv"));
+    assertThat(csv.out()).as(csv.describe()).contains("codes,mmd2_linear_exponential,0,1,3 pairs");
+    Cli.Result table = Cli.run(args);
+    assertThat(table.out()).as(table.describe()).containsPattern("linear-time +0\\.000 +1\\.000 ");
+
+    // two rows each: no linear-time test, and a note says why
+    Path ta = Files2.bits(tmp.resolve("two_a.npy"), new boolean[][] {same[0], same[1]});
+    JsonNode two = NearestEndToEndTest.json("compare", "--a", ta.toString(), "--b", ta.toString(), "--kind", "codes", "--format", "json");
+    assertThat(two.get("linear_mmd").isNull()).isTrue();
+    assertThat(two.get("notes").toString()).contains("at least 4 rows in each sample (A has 2, B 2)");
+  }
+
+  /** A 2-layer MLP of {@code inputs} inputs, 4 hidden units and 2 outputs, random weights. */
+  static Path mlp(Path file, int inputs, SplittableRandom r) {
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {4, inputs}, r.doubles(4L * inputs, -1, 1).toArray()));
+    t.put("0.bias", new SafetensorsWriter.Tensor(new long[] {4}, r.doubles(4, -0.5, 0.5).toArray()));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, 4}, r.doubles(8, -1, 1).toArray()));
+    t.put("2.bias", new SafetensorsWriter.Tensor(new long[] {2}, new double[2]));
+    try {
+      SafetensorsWriter.write(file, t, Map.of());
+    } catch (java.io.IOException e) {
+      throw new java.io.UncheckedIOException(e);
+    }
+    return file;
+  }
+
+  @Test
+  void withAModelsIndexTheKindFollowsTheIndexAndTheFilesWidth() {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(401));
+    // 3 inputs, 4 hidden units: inputs and hidden activations have different widths
+    Path idx = tmp.resolve("m3"), in = Files2.floats(tmp.resolve("in.npy"), SourcesEndToEndTest.activations(30, 3, r));
+    ok(Cli.run("build", "--out", idx.toString(), "--model", mlp(tmp.resolve("m3.safetensors"), 3, r).toString(), "--inputs", in.toString()));
+    String ia = Files2.floats(tmp.resolve("ia.npy"), SourcesEndToEndTest.activations(12, 3, r)).toString();
+    String ib = Files2.floats(tmp.resolve("ib.npy"), SourcesEndToEndTest.activations(12, 3, r)).toString();
+    String ha = Files2.floats(tmp.resolve("ha.npy"), SourcesEndToEndTest.activations(12, 4, r)).toString();
+    String hb = Files2.floats(tmp.resolve("hb.npy"), SourcesEndToEndTest.activations(12, 4, r)).toString();
+    String[] inputs = {"compare", "--index", idx.toString(), "--a", ia, "--b", ib, "--permutations", "20", "--format", "json"};
+    // was exit 2 (read as activations: "layout act:3, the index expects 0:4"); report takes inputs for such an index
+    assertThat(ok(Cli.run(inputs)).out()).isEqualTo(ok(Cli.run(concat(inputs, "--kind", "inputs"))).out());
+    String[] hidden = {"compare", "--index", idx.toString(), "--a", ha, "--b", hb, "--permutations", "20", "--format", "json"};
+    assertThat(ok(Cli.run(hidden)).out()).isEqualTo(ok(Cli.run(concat(hidden, "--kind", "activations"))).out());
+
+    // 4 inputs, 4 hidden units: a 4-column file could be either; refused until --kind says which
+    Path idx4 = tmp.resolve("m4"), in4 = Files2.floats(tmp.resolve("in4.npy"), SourcesEndToEndTest.activations(30, 4, r));
+    ok(Cli.run("build", "--out", idx4.toString(), "--model", mlp(tmp.resolve("m4.safetensors"), 4, r).toString(), "--inputs", in4.toString()));
+    String[] either = {"compare", "--index", idx4.toString(), "--a", ha, "--b", hb, "--permutations", "20"};
+    Cli.Result refused = Cli.run(either);
+    assertThat(refused.code()).as(refused.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(refused.err().strip()).as(refused.describe()).contains(ha).contains("--kind inputs").contains("--kind activations")
+        .doesNotContain("\n");
+    ok(Cli.run(concat(either, "--kind", "inputs")));
+    ok(Cli.run(concat(either, "--kind", "activations")));
+
+    // an index built from codes: files are codes (were read as activations, with a note that the
+    // default rule binarized them)
+    Path cidx = tmp.resolve("c");
+    ok(Cli.run("build", "--out", cidx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), codes(r, 20, 10, 0)).toString()));
+    String[] onCodes = {"compare", "--index", cidx.toString(), "--a", Files2.bits(tmp.resolve("ca.npy"), codes(r, 8, 10, 0)).toString(),
+        "--b", Files2.bits(tmp.resolve("cb.npy"), codes(r, 8, 10, 0.4)).toString(), "--permutations", "20", "--format", "json"};
+    String inferred = ok(Cli.run(onCodes)).out();
+    assertThat(inferred).isEqualTo(ok(Cli.run(concat(onCodes, "--kind", "codes"))).out()).doesNotContain("binarized");
+  }
+
+  private static Cli.Result ok(Cli.Result r) {
+    assertThat(r.code()).as(r.describe()).isZero();
+    return r;
   }
 
   @Test

@@ -4,6 +4,7 @@ import static org.assertj.core.api.Assertions.assertThat;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
+import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -68,9 +69,20 @@ class EmptyIndexEndToEndTest {
     JsonNode census = JSON.readTree(Cli.run("census", "--index", i, "--format", "json").out());
     assertThat(census.get("neurons").get(0).get("firing_rates")).as(state).hasSize(8).allMatch(JsonNode::isNull);
     assertThat(census.get("neurons").get(0).get("dead")).as(state).isEmpty();
+    // and no region: the sizes per region are undefined too (were 0), null in JSON, n/a in the table
+    JsonNode prefix = census.get("prefixes").get(0);
+    assertThat(prefix.get("regions").asInt()).as(state).isZero();
+    assertThat(prefix.get("examples_per_region").properties()).as(state).extracting(Map.Entry::getKey)
+        .containsExactly("min", "p50", "p90", "p99", "max", "mean");
+    assertThat(prefix.get("examples_per_region")).as(state).allMatch(JsonNode::isNull);
+    assertThat(prefix.get("purity").isNull()).as(state).isTrue();
+    assertThat(Cli.run("census", "--index", i).out()).as(state).containsPattern("act +8 +0 +0 +n/a +n/a +n/a +n/a *\\n");
     assertThat(Cli.run("census", "--index", i, "--format", "csv").out().lines().skip(1)).as(state).hasSize(8)
         .allMatch(l -> l.matches("act,\\d+,,"));
     assertThat(Cli.run("census", "--index", i).out()).as(state).containsPattern("act +8 +n/a +0 +0");
+    // the index had labels, all deleted: the purity table said "no labels"
+    assertThat(Files.readString(tmp.resolve("r.html"))).as(state).contains("<td>no live example has a label</td>")
+        .doesNotContain("no labels");
     assertThat(Cli.run("dupes", "--index", i, "--radius", "1", "--format", "csv").out().strip()).as(state)
         .isEqualTo("group,size,distinct_codes,max_distance,cross_split,conflicting_labels,labels,splits,keys");
 

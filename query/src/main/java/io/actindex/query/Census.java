@@ -41,7 +41,8 @@ public final class Census {
 
   /**
    * Quantiles of examples per region over the regions (nearest-rank: the smallest count c such that
-   * at least q of the regions hold at most c examples).
+   * at least q of the regions hold at most c examples). Null for a prefix with no region (no live
+   * example): there is no size to describe.
    */
   public record Quantiles(int min, int p50, int p90, int p99, int max, double mean) {}
 
@@ -158,7 +159,7 @@ public final class Census {
   }
 
   static Quantiles quantiles(int[] sortedSizes, int examples) {
-    if (sortedSizes.length == 0) return new Quantiles(0, 0, 0, 0, 0, 0);
+    if (sortedSizes.length == 0) return null;
     return new Quantiles(sortedSizes[0], rank(sortedSizes, 0.5), rank(sortedSizes, 0.9), rank(sortedSizes, 0.99),
         sortedSizes[sortedSizes.length - 1], examples / (double) sortedSizes.length);
   }

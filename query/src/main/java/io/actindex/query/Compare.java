@@ -46,15 +46,29 @@ import java.util.function.DoubleUnaryOperator;
 public final class Compare {
   private Compare() {}
 
-  /** One sample: a file (encoded with the index's rule when there is an index) or a filtered part of the index. */
-  public record Sample(Source source, String where) {
+  /**
+   * One sample: a file (encoded with the index's rule when there is an index) or a filtered part of
+   * the index. {@code kindFromIndex}: the file's kind was not given; with an index it is {@link
+   * QuerySource#kindOf}, without one the source's own (activations).
+   */
+  public record Sample(Source source, String where, boolean kindFromIndex) {
     public Sample {
       if ((source == null) == (where == null))
         throw new BadInputException("a sample is either a file or a where-expression over the index");
+      if (kindFromIndex && source == null) throw new IllegalArgumentException("only a file's kind can come from the index");
+    }
+
+    public Sample(Source source, String where) {
+      this(source, where, false);
     }
 
     public static Sample file(Source s) {
       return new Sample(s, null);
+    }
+
+    /** A file of the kind the index was built from, told apart by its width for a model's index ({@link QuerySource#kindOf}). */
+    public static Sample fileOfIndexKind(Path file) {
+      return new Sample(Source.activations(file), null, true);
     }
 
     public static Sample where(String expr) {
@@ -156,23 +170,26 @@ public final class Compare {
     Progress prog = progress == null ? Progress.NONE : progress;
     CodeBlock a, b;
     List<String> notes = new ArrayList<>();
+    Sample sa = p.a(), sb = p.b();
     if (p.index() != null) {
       try (IndexReader reader = IndexReader.open(p.index())) {
-        a = load(reader, p.a(), "A", prog, notes);
-        b = load(reader, p.b(), "B", prog, notes);
+        sa = ofIndexKind(reader, sa);
+        sb = ofIndexKind(reader, sb);
+        a = load(reader, sa, "A", prog, notes);
+        b = load(reader, sb, "B", prog, notes);
       }
     } else {
       EncodeOptions enc = p.encode() == null ? EncodeOptions.positive() : p.encode();
-      Encoding.Read ra = read(p.a().source(), p, enc, prog);
+      Encoding.Read ra = read(sa.source(), p, enc, prog);
       // B is encoded with A's options: with per-neuron medians, A's medians (A is the reference)
-      Encoding.Read rb = read(p.b().source(), p, ra.options() == null ? enc : ra.options(), prog);
-      SourceColumns.check(ra.columns(), "sample A (" + p.a().source().file() + ")", rb.columns(), p.b().source().file().toString());
+      Encoding.Read rb = read(sb.source(), p, ra.options() == null ? enc : ra.options(), prog);
+      SourceColumns.check(ra.columns(), "sample A (" + sa.source().file() + ")", rb.columns(), sb.source().file().toString());
       a = ra.codes();
       b = rb.codes();
       if (ra.notes() != null) notes.addAll(ra.notes());
       if (rb.notes() != null) notes.addAll(rb.notes());
       if (!a.layout().equals(b.layout()))
-        throw new BadInputException(p.b().brief() + ": sample B has layout " + b.layout() + " (" + b.layout().bits()
+        throw new BadInputException(sb.brief() + ": sample B has layout " + b.layout() + " (" + b.layout().bits()
             + " bits), sample A " + a.layout() + " (" + a.layout().bits() + " bits)");
     }
     if (!p.layers().isEmpty()) {
@@ -180,16 +197,16 @@ public final class Compare {
       a = Layers.project(a, target);
       b = Layers.project(b, target);
     }
-    checkRows(a, p.a(), "A");
-    checkRows(b, p.b(), "B");
-    FloatSample fa = floats(p.aFloats(), p.a(), p.layers(), "A"), fb = floats(p.bFloats(), p.b(), p.layers(), "B");
+    checkRows(a, sa, "A");
+    checkRows(b, sb, "B");
+    FloatSample fa = floats(p.aFloats(), sa, p.layers(), "A"), fb = floats(p.bFloats(), sb, p.layers(), "B");
     if (fa != null && fb != null && fa.cols() != fb.cols()) {
-      throw new BadInputException(floatsFile(p.bFloats(), p.b()) + ": float sample B has " + fb.cols()
-          + " columns, float sample A (" + floatsFile(p.aFloats(), p.a()) + ") " + fa.cols());
+      throw new BadInputException(floatsFile(p.bFloats(), sb) + ": float sample B has " + fb.cols()
+          + " columns, float sample A (" + floatsFile(p.aFloats(), sa) + ") " + fa.cols());
     }
-    checkPairing(fa, a, p.aFloats(), p.a(), "A");
-    checkPairing(fb, b, p.bFloats(), p.b(), "B");
-    return compute(a, b, fa, fb, p.a().describe(), p.b().describe(), p.options(), notes);
+    checkPairing(fa, a, p.aFloats(), sa, "A");
+    checkPairing(fb, b, p.bFloats(), sb, "B");
+    return compute(a, b, fa, fb, sa.describe(), sb.describe(), p.options(), notes);
   }
 
   /** The statistics on codes already in memory (and optional floats); independent of files. */
@@ -231,6 +248,8 @@ public final class Compare {
             agree[0].nullSd(), m, n, false),
         mmd("exponential", sigma, expT, pa.length, pb.length, sub));
     LinearMmd.Result linear = Math.min(m, n) >= 4 ? LinearMmd.of(a, b, expK, o.seed()) : null;
+    if (linear == null)
+      notes.add("linear-time MMD^2 not computed: it needs at least 4 rows in each sample (A has " + m + ", B " + n + ")");
 
     Wasserstein.Result w2 = w2(a, b, o, notes);
 
@@ -329,6 +348,12 @@ public final class Compare {
   }
 
   // ---- loading
+
+  /** The sample with its file's kind settled by the index, when it was not given. */
+  private static Sample ofIndexKind(IndexReader reader, Sample s) {
+    if (!s.kindFromIndex()) return s;
+    return Sample.file(new Source(QuerySource.kindOf(reader, s.source().file(), "--kind"), s.source().file(), null));
+  }
 
   private static CodeBlock load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
     if (s.source() != null)

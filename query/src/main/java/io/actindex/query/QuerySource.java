@@ -3,7 +3,15 @@ package io.actindex.query;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.encode.Encoders;
+import io.actindex.encode.io.MatrixReader;
+import io.actindex.encode.io.SafetensorsReader;
+import io.actindex.encode.mlp.Mlp;
 import io.actindex.index.store.IndexReader;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.file.Path;
+import java.util.Locale;
 
 /**
  * Turns a query source (activations, codes, or inputs run through the index's stored model) into
@@ -42,6 +50,40 @@ public final class QuerySource {
     java.util.List<String> notes = new java.util.ArrayList<>();
     Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, true);
     return new Queries(new QueryCodes(e.codes(), range.from(), notes), e.activations());
+  }
+
+  /**
+   * What a file is when nobody said (compare {@code --index} without {@code --kind}): what the index
+   * was built from (as {@code report} takes it), except that for an index built from a model a
+   * one-matrix file whose width fits the codes ({@link Layers#align}: the index layout or the
+   * model's hidden layers) and not the model's inputs holds hidden activations. A width that fits
+   * both cannot be told apart: refused, naming the file and asking for the kind ({@code option}).
+   */
+  public static Source.Kind kindOf(IndexReader reader, Path file, String option) {
+    BuildInfo info = BuildInfo.fromProperties(reader.properties(), reader.dir().toString());
+    if (info.kind() != Source.Kind.INPUTS) return info.kind();
+    String name = file.getFileName().toString().toLowerCase(Locale.ROOT);
+    if (name.endsWith(".npz")) return Source.Kind.ACTIVATIONS; // one array per layer; inputs are one matrix
+    byte[] model = reader.attachment(BuildInfo.MODEL);
+    if (model == null || !(name.endsWith(".npy") || name.endsWith(".csv"))) return Source.Kind.INPUTS; // the reader says what is wrong
+    try (MatrixReader m = Encoders.openMatrix(file); SafetensorsReader r = SafetensorsReader.open(BuildInfo.MODEL, model)) {
+      long cols = m.cols();
+      int inputs;
+      try {
+        inputs = Mlp.load(r, info.encode().layerOrder(), info.encode().outputLayer(), -1).mlp().inputs();
+      } catch (BadInputException e) { // an order that needs the input width to resolve: reading the file as inputs says what fits
+        return Source.Kind.INPUTS;
+      }
+      CodeLayout hidden = info.sourceLayout();
+      boolean codesWidth = cols == reader.layout().bits() || (hidden != null && cols == hidden.bits());
+      if (!codesWidth) return Source.Kind.INPUTS;
+      if (cols != inputs) return Source.Kind.ACTIVATIONS;
+      throw new BadInputException(file + ": its " + cols + " columns could be the inputs of the model the index " + reader.dir()
+          + " was built from (" + inputs + " inputs) or its hidden activations (" + (cols == reader.layout().bits() ? reader.layout() : hidden)
+          + "); say which with " + option + " inputs or " + option + " activations");
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
   }
 
   /** Codes in the index layout and, when asked for, their activations aligned to the same columns. */

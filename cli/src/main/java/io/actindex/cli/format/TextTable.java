@@ -30,6 +30,21 @@ public final class TextTable {
     return this;
   }
 
+  /**
+   * A name (label, split, key) as an item of a list in one cell ({@code dog 2, cat 1} or {@code
+   * dog:2 cat:1}): in double quotes, inner ones doubled, when it holds whitespace, a comma, a colon
+   * or a double quote, so that the list reads one way; other names as they are.
+   */
+  public static String item(String name) {
+    if (name == null) return "";
+    boolean quote = false;
+    for (int i = 0; i < name.length() && !quote; i++) {
+      char c = name.charAt(i);
+      quote = Character.isWhitespace(c) || Character.isSpaceChar(c) || c == ',' || c == ':' || c == '"';
+    }
+    return quote ? '"' + name.replace("\"", "\"\"") + '"' : name;
+  }
+
   private static String clean(String cell) {
     return cell == null ? "" : BadInputException.snippet(cell.replaceAll("[\\t\\r\\n]", " "), Integer.MAX_VALUE);
   }

@@ -25,6 +25,19 @@ class TextTableTest {
         "    10  w-2     bearing wear");
   }
 
+  @Test
+  void listItemsAreQuotedOnlyWhenTheyWouldSplitTheList() {
+    assertThat(TextTable.item("dog")).isEqualTo("dog");
+    assertThat(TextTable.item("w-0001_b.2")).isEqualTo("w-0001_b.2");
+    assertThat(TextTable.item("big cat")).isEqualTo("\"big cat\"");
+    assertThat(TextTable.item("bird, small")).isEqualTo("\"bird, small\"");
+    assertThat(TextTable.item("a:b")).isEqualTo("\"a:b\"");
+    assertThat(TextTable.item("tab\there")).isEqualTo("\"tab\there\"");
+    assertThat(TextTable.item("no\u00a0break")).isEqualTo("\"no\u00a0break\"");
+    assertThat(TextTable.item("x \"q\"")).isEqualTo("\"x \"\"q\"\"\"");
+    assertThat(TextTable.item("say\"")).isEqualTo("\"say\"\"\"");
+  }
+
   /**
    * Cells come from metadata files: a label holding ESC [31m turned the terminal red, a backspace
    * hid characters, a vertical tab or line separator broke the row. Control characters (other than

@@ -201,7 +201,8 @@ public final class IndexReport {
       bits[i] = p.bits();
       y[i] = p.purity() == null ? Double.NaN : p.purity();
       t.row(prefixName(p), p.bits(), p.regions(), p.singletons(), p.quantiles() == null ? null : p.quantiles().p50(),
-          p.purity() == null ? "no labels" : HtmlPage.num(p.purity()));
+          // null purity: no live example carries a label (labelled ones may have been deleted: nothing records that they were)
+          p.purity() == null ? "no live example has a label" : HtmlPage.num(p.purity()));
     }
     String svg = SvgChart.lines("Label purity as layers are added", "bits of the layer prefix", "purity (share with the majority label)",
         List.of(new SvgChart.Series("purity", bits, y)), false, false);

@@ -4,8 +4,10 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.within;
 
 import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import io.actindex.core.SyntheticCodes;
 import io.actindex.core.Randoms;
+import java.util.Arrays;
 import java.util.SplittableRandom;
 import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
@@ -79,6 +81,33 @@ class TwoSampleTest {
     // under the null the z score is approximately standard normal: |z| < 5 is a 1-in-1.7-million miss
     LinearMmd.Result same = LinearMmd.of(a, a2, d -> Math.exp(-d / 25.0), seed);
     assertThat(Math.abs(same.z())).as(Randoms.describe(seed)).isLessThan(5);
+  }
+
+  @Test
+  void linearTimeTestOnConstantSamplesGivesTheExactSignFlipPValue() {
+    // every row the same code: each pair's h is the same number, so the normal null (variance 0) is
+    // undefined; swapping x_2i and y_2i negates h_i (from memory), so under the null the 2^pairs sign
+    // patterns are equally likely: p = 1 for h = 0 (as the permutation tests give for identical
+    // samples), 2^-pairs for h > 0 (only the all-plus pattern reaches it)
+    for (int bits : new int[] {1, 8, 70}) {
+      for (int n : new int[] {4, 5, 10, 31}) {
+        CodeBlock ones = constant(n, bits, true), zeros = constant(n + 3, bits, false);
+        LinearMmd.Result same = LinearMmd.of(ones, constant(n, bits, true), d -> Math.exp(-d / 3.0), 7);
+        assertThat(same.mmd2()).as(bits + " bits, " + n + " rows").isZero();
+        assertThat(same.z()).as(bits + " bits, " + n + " rows").isNaN();
+        assertThat(same.pValue()).as(bits + " bits, " + n + " rows").isEqualTo(1.0);
+        LinearMmd.Result apart = LinearMmd.of(ones, zeros, d -> Math.exp(-d / 3.0), 7);
+        assertThat(apart.mmd2()).as(bits + " bits, " + n + " rows").isCloseTo(2 - 2 * Math.exp(-bits / 3.0), within(1e-12));
+        assertThat(apart.z()).as(bits + " bits, " + n + " rows").isNaN();
+        assertThat(apart.pValue()).as(bits + " bits, " + n + " rows").isEqualTo(Math.pow(2, -(n / 2)));
+      }
+    }
+  }
+
+  static CodeBlock constant(int n, int bits, boolean on) {
+    boolean[][] rows = new boolean[n][bits];
+    for (boolean[] row : rows) Arrays.fill(row, on);
+    return CodeBlock.fromBits(CodeLayout.single("c", bits), rows);
   }
 
   @Test
