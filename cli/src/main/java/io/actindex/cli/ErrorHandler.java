@@ -10,6 +10,7 @@ import java.nio.file.InvalidPathException;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.NotDirectoryException;
 import java.nio.file.Path;
+import java.util.List;
 import picocli.CommandLine;
 import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.ParseResult;
@@ -46,9 +47,22 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
     CommandLine cl = ex.getCommandLine();
     PrintWriter err = cl.getErr();
     String name = cl.getCommandSpec().qualifiedName();
-    err.println(name + ": " + oneLine(ex.getMessage()) + " (run '" + name + " --help' for usage)");
+    err.println(name + ": " + oneLine(message(ex)) + " (run '" + name + " --help' for usage)");
     err.flush();
     return ExitCodes.USAGE;
+  }
+
+  /**
+   * Picocli's message, and for a mistyped option or command the most alike name it knows ("did you
+   * mean"); a word where a command expects one of its commands is called an unknown command.
+   */
+  private static String message(ParameterException ex) {
+    if (!(ex instanceof CommandLine.UnmatchedArgumentException u) || u.getUnmatched().isEmpty()) return ex.getMessage();
+    List<String> near = u.getSuggestions(); // most alike first
+    String hint = near.isEmpty() ? "" : "; did you mean " + near.getFirst() + "?";
+    String first = u.getUnmatched().getFirst();
+    boolean command = !u.getCommandLine().getSubcommands().isEmpty() && !first.startsWith("-");
+    return (command ? "unknown command '" + first + "'" : ex.getMessage()) + hint;
   }
 
   @Override

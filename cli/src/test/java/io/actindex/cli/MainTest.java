@@ -100,6 +100,21 @@ class MainTest {
   }
 
   @Test
+  void aMistypedOptionOrCommandIsAnsweredWithTheNearestNames() {
+    Cli.Result r = Cli.run("nearest", "--index", "x", "--activation", "q.npy");
+    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(r.err()).as(r.describe()).contains("'--activation'").contains("did you mean --activations");
+    Cli.Result c = Cli.run("nearst", "--index", "x");
+    assertThat(c.code()).as(c.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(c.err()).as(c.describe()).contains("unknown command 'nearst'; did you mean nearest?");
+    Cli.Result o = Cli.run("ood", "calibrat", "--index", "x");
+    assertThat(o.code()).as(o.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(o.err()).as(o.describe()).contains("actindex ood: unknown command 'calibrat'; did you mean calibrate?");
+    Cli.Result far = Cli.run("info", "--index", "x", "--frobnicate");
+    assertThat(far.err()).as(far.describe()).doesNotContain("did you mean");
+  }
+
+  @Test
   void missingRequiredOptionIsBadUsage() {
     Cli.Result r = Cli.run("nearest", "--activations", "q.npy");
     assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
