@@ -126,4 +126,42 @@ class CsvColumnNamesEndToEndTest {
     assertRefused(Cli.run("compare", "--a", inputs.toString(), "--b", reordered.toString(), "--model", model.toString(), "--kind", "inputs"),
         reordered, "another order");
   }
+
+  /**
+   * pandas writes the column numbers 0..d-1 over the columns of a {@code DataFrame(array)}: such a
+   * header names no column (scikit-learn keeps no feature names for integer column labels either).
+   * With a hidden layer as wide as the model's inputs, hidden activations saved that way were taken
+   * for the inputs ("pass it with --inputs"), and named query inputs were refused against the numbers.
+   */
+  @Test
+  void aHeaderOfColumnNumbersNamesNoColumn() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(14);
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    double[] w0 = new double[D * D], w1 = new double[2 * D];
+    for (int i = 0; i < w0.length; i++) w0[i] = rnd.nextDouble(-1, 1);
+    for (int i = 0; i < w1.length; i++) w1[i] = rnd.nextDouble(-1, 1);
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {D, D}, w0));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, D}, w1));
+    Path model = tmp.resolve("square.safetensors");
+    SafetensorsWriter.write(model, t, Map.of());
+    List<String> numbers = names("");
+    float[][] train = SourcesEndToEndTest.activations(30, D, rnd), query = SourcesEndToEndTest.activations(4, D, rnd);
+    Path idx = tmp.resolve("idx");
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--model", model.toString(), "--inputs", csv("inputs.csv", train, numbers, SAME).toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    // hidden activations of the queries (ReLU of the first layer), saved by pandas with its column numbers
+    float[][] hidden = new float[query.length][D];
+    for (int r = 0; r < query.length; r++)
+      for (int o = 0; o < D; o++) {
+        double s = 0;
+        for (int j = 0; j < D; j++) s += (float) w0[o * D + j] * query[r][j];
+        hidden[r][o] = (float) Math.max(0, s);
+      }
+    Cli.Result acts = Cli.run("nearest", "--index", idx.toString(), "--activations", csv("hidden.csv", hidden, numbers, SAME).toString(), "--format", "json");
+    assertThat(acts.code()).as(acts.describe()).isZero();
+    Cli.Result named = Cli.run("nearest", "--index", idx.toString(), "--inputs", csv("q-named.csv", query, names("f"), SAME).toString(), "--format", "json");
+    Cli.Result bare = Cli.run("nearest", "--index", idx.toString(), "--inputs", csv("q-bare.csv", query, null, SAME).toString(), "--format", "json");
+    assertThat(named.code()).as(named.describe()).isZero();
+    assertThat(named.out()).as("read by position, as without a header").isEqualTo(bare.out());
+  }
 }

@@ -16,7 +16,10 @@ import java.util.Map;
  * scikit-learn refuses the same at predict time: an estimator fitted on named features
  * ({@code feature_names_in_}) raises when the names differ or come in another order
  * (scikit-learn 1.x, {@code sklearn.base.BaseEstimator}, "The feature names should match those
- * that were passed during fit"). A file without a header cannot be checked and is read by position.
+ * that were passed during fit"). A file without a header cannot be checked and is read by position;
+ * nor can one whose header is the column numbers {@code 0, 1, ..., d-1}, which pandas writes over
+ * the columns of {@code DataFrame(array)}: they name no column (scikit-learn keeps no feature names
+ * for integer column labels either), so such a header is neither recorded nor checked.
  */
 final class SourceColumns {
   private SourceColumns() {}
@@ -30,14 +33,14 @@ final class SourceColumns {
    */
   static final int MAX_BYTES = 256 << 10;
 
-  /** Records {@code names} in {@code props} (nothing when null or longer than {@link #MAX_BYTES}). */
+  /** Records {@code names} in {@code props} (nothing when null, {@link #numbered} or longer than {@link #MAX_BYTES}). */
   static void put(Map<String, String> props, List<String> names) {
-    if (names == null) return;
+    if (names == null || numbered(names)) return;
     String json = Json.quote(names);
     if (json.getBytes(java.nio.charset.StandardCharsets.UTF_8).length <= MAX_BYTES) props.put(PROPERTY, json);
   }
 
-  /** The recorded names, or null when the index records none (built from a file without a header). */
+  /** The recorded names, or null when the index records none (built from a file without a header, or numbered columns). */
   static List<String> of(Map<String, String> props, String dir) {
     String v = props.get(PROPERTY);
     if (v == null) return null;
@@ -45,7 +48,7 @@ final class SourceColumns {
       if (Json.parse(v) instanceof List<?> list) {
         List<String> names = new ArrayList<>();
         for (Object o : list) names.add((String) o);
-        return names;
+        return numbered(names) ? null : names; // recorded before numbered headers were left out
       }
     } catch (IllegalArgumentException | ClassCastException e) {
       // falls through to the refusal
@@ -55,11 +58,12 @@ final class SourceColumns {
 
   /**
    * Refuses {@code given} (the header of {@code file}) when it differs from {@code expected} (the
-   * header of what {@code expectedFrom} describes). Either null, or of another length (a width the
-   * caller refuses on its own): nothing to check.
+   * header of what {@code expectedFrom} describes). Either null or {@link #numbered}, or of another
+   * length (a width the caller refuses on its own): nothing to check.
    */
   static void check(List<String> expected, String expectedFrom, List<String> given, String file) {
-    if (expected == null || given == null || expected.size() != given.size() || expected.equals(given)) return;
+    if (expected == null || given == null || expected.size() != given.size() || expected.equals(given) || numbered(expected)
+        || numbered(given)) return;
     int i = 0;
     while (expected.get(i).equals(given.get(i))) i++;
     String at = file + ": column " + i + " (0-based) is " + BadInputException.quote(given.get(i)) + " where " + expectedFrom + " has "
@@ -69,6 +73,12 @@ final class SourceColumns {
           + " position, not by name; write them in that order");
     throw new BadInputException(at + "; columns are read by position, not by name: write the same columns in the same order (or, if only"
         + " the names differ, write the file without its header line)");
+  }
+
+  /** The names are {@code 0, 1, ..., d-1}: the column numbers a data-frame library writes over unnamed columns. */
+  static boolean numbered(List<String> names) {
+    for (int i = 0; i < names.size(); i++) if (!names.get(i).equals(Integer.toString(i))) return false;
+    return true;
   }
 
   private static boolean sameNames(List<String> a, List<String> b) {

@@ -48,4 +48,19 @@ class SourceColumnsTest {
     assertThatThrownBy(() -> SourceColumns.check(built, "the build", List.of("h0", "h1", "H2"), "q.csv"))
         .isInstanceOf(BadInputException.class).hasMessageContaining("'H2' where the build has 'h2'");
   }
+
+  @Test
+  void columnNumbersNameNoColumn() {
+    // pandas writes 0, 1, ..., d-1 over the columns of DataFrame(array) (common practice): no names to keep or to check
+    List<String> numbered = List.of("0", "1", "2");
+    Map<String, String> props = new HashMap<>();
+    SourceColumns.put(props, numbered);
+    assertThat(props).isEmpty();
+    props.put(SourceColumns.PROPERTY, "[\"0\",\"1\",\"2\"]"); // recorded by an earlier version
+    assertThat(SourceColumns.of(props, "idx")).isNull();
+    SourceColumns.check(List.of("h0", "h1", "h2"), "the build", numbered, "q.csv");
+    SourceColumns.check(numbered, "sample A", List.of("h0", "h1", "h2"), "b.csv");
+    assertThatThrownBy(() -> SourceColumns.check(List.of("h0", "h1", "h2"), "the build", List.of("0", "2", "1"), "q.csv"))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("column 0");
+  }
 }
