@@ -164,4 +164,24 @@ class CsvColumnNamesEndToEndTest {
     assertThat(named.code()).as(named.describe()).isZero();
     assertThat(named.out()).as("read by position, as without a header").isEqualTo(bare.out());
   }
+
+  /** compare --index with two files: B's header is checked against A's, as without an index, also when the index records no names. */
+  @Test
+  void compareSamplesAgainstAnIndexWithoutNamesAreCheckedAgainstEachOther() {
+    SplittableRandom rnd = new SplittableRandom(15);
+    float[][] train = SourcesEndToEndTest.activations(30, D, rnd), a = SourcesEndToEndTest.activations(20, D, rnd),
+        b = SourcesEndToEndTest.activations(20, D, rnd);
+    Path idx = tmp.resolve("idx");
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--activations", Files2.floats(tmp.resolve("train.npy"), train).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    List<String> h = names("h");
+    Path sampleA = csv("a.csv", a, h, SAME);
+    Cli.Result same = Cli.run("compare", "--index", idx.toString(), "--a", sampleA.toString(), "--b", csv("b.csv", b, h, SAME).toString(),
+        "--permutations", "20");
+    assertThat(same.code()).as(same.describe()).isZero();
+    Path reordered = csv("b-reordered.csv", b, h, REVERSED);
+    Cli.Result r = Cli.run("compare", "--index", idx.toString(), "--a", sampleA.toString(), "--b", reordered.toString(), "--permutations", "20");
+    assertRefused(r, reordered, "another order");
+    assertThat(r.err()).as(r.describe()).contains("sample A");
+  }
 }

@@ -175,8 +175,12 @@ public final class Compare {
       try (IndexReader reader = IndexReader.open(p.index())) {
         sa = ofIndexKind(reader, sa);
         sb = ofIndexKind(reader, sb);
-        a = load(reader, sa, "A", prog, notes);
-        b = load(reader, sb, "B", prog, notes);
+        QuerySource.Encoded ea = load(reader, sa, "A", prog, notes), eb = load(reader, sb, "B", prog, notes);
+        // each file was checked against the build's header; B against A too (an index built from .npy records none)
+        if (sb.source() != null)
+          SourceColumns.check(ea.columns(), "sample A (" + sa.brief() + ")", eb.columns(), sb.source().file().toString());
+        a = ea.codes();
+        b = eb.codes();
       }
     } else {
       EncodeOptions enc = p.encode() == null ? EncodeOptions.positive() : p.encode();
@@ -355,9 +359,10 @@ public final class Compare {
     return Sample.file(new Source(QuerySource.kindOf(reader, s.source().file(), "--kind"), s.source().file(), null));
   }
 
-  private static CodeBlock load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
+  /** A sample's codes (and a file's column names) from the index: a file encoded as the index was built, or the examples --where selects. */
+  private static QuerySource.Encoded load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
     if (s.source() != null)
-      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes);
+      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes, false);
     IdSet ids = Where.select(reader.meta(), s.where());
     if (reader.liveCount() == 0)
       throw new BadInputException(s.brief() + ": sample " + which + " is empty: the index " + reader.dir() + " holds no live examples");
@@ -370,7 +375,7 @@ public final class Compare {
     long[] out = new long[Math.multiplyExact(ids.count(), w)];
     for (int i = 0; i < live.length; i++)
       if (ids.contains(live[i])) System.arraycopy(all.words(), i * w, out, kept++ * w, w);
-    return new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w));
+    return new QuerySource.Encoded(new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w)), null, null);
   }
 
   private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog) {

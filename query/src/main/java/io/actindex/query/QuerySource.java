@@ -86,8 +86,11 @@ public final class QuerySource {
     }
   }
 
-  /** Codes in the index layout and, when asked for, their activations aligned to the same columns. */
-  record Encoded(CodeBlock codes, float[] activations) {}
+  /**
+   * Codes in the index layout and, when asked for, their activations aligned to the same columns;
+   * the file's column names (its CSV header) or null.
+   */
+  record Encoded(CodeBlock codes, float[] activations, java.util.List<String> columns) {}
 
   /** Encodes {@code source} with the index's stored options and aligns it to the index layout. */
   static CodeBlock encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
@@ -133,7 +136,7 @@ public final class QuerySource {
     if (values != null && info.kind() == Source.Kind.INPUTS && source.kind() == Source.Kind.ACTIVATIONS && reluInPlace(values))
       notes.add(source.file() + ": note: the index keeps its model's hidden activations after ReLU; the negative values here (activations"
           + " before ReLU, e.g. hooked on nn.Linear) are taken as 0, as ReLU does");
-    return new Encoded(codes, values);
+    return new Encoded(codes, values, read.columns());
   }
 
   /**
