@@ -18,6 +18,7 @@ import io.actindex.query.OodScore;
 import io.actindex.query.QueryCodes;
 import io.actindex.query.RocMetrics;
 import io.actindex.query.RowRange;
+import io.actindex.query.SoftmaxBaseline;
 import io.actindex.query.Source;
 import io.actindex.query.report.EvalPage;
 import java.io.IOException;
@@ -213,6 +214,11 @@ final class OodCommand implements Callable<Integer> {
           }
           print(out, o);
           query.noteIfEmpty(o.results().size());
+          String one = o.results().stream().anyMatch(r -> r.maxSoftmax() != null) ? SoftmaxBaseline.oneOutputNote(reader) : null;
+          if (one != null) {
+            spec.commandLine().getErr().println("note: max_softmax: " + one);
+            spec.commandLine().getErr().flush();
+          }
         }
       }
       caution(out, spec.commandLine().getErr(), format.format);

@@ -147,7 +147,10 @@ public final class OodEval {
           scorer.values(outQ, Progress.NONE, threads));
     Scored softmax = null;
     double[] sa = SoftmaxBaseline.scores(reader, p.in(), RowRange.ALL), sb = SoftmaxBaseline.scores(reader, p.out(), RowRange.ALL);
-    if (sa != null && sb != null) softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)", sa, sb);
+    if (sa != null && sb != null) {
+      String one = SoftmaxBaseline.oneOutputNote(reader);
+      softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)" + (one == null ? "" : "; " + one), sa, sb);
+    }
     return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings));
   }
 

@@ -39,6 +39,18 @@ public final class SoftmaxBaseline {
   }
 
   /**
+   * For a stored model of one output: a note that the baseline reads that output as a two-class
+   * logit ({@link EdgeBundle#maxSoftmaxOf}), which a regressor's output is not (nothing in the file
+   * tells the two apart); null for any other model, or none.
+   */
+  public static String oneOutputNote(IndexReader reader) {
+    Mlp mlp = model(reader);
+    if (mlp == null || mlp.outputLayer() == null || mlp.outputs() != 1) return null;
+    return "the model has one output, taken as a two-class logit z (probabilities 1 / (1 + e^-z) and its complement); a regressor's"
+        + " output is no logit, and the softmax baseline then means nothing";
+  }
+
+  /**
    * {@code 1 - MSP} for the rows of {@code source} when it is raw inputs and the index holds a
    * model with an output layer; null otherwise (the baseline does not apply).
    */

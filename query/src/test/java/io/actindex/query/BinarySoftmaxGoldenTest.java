@@ -59,4 +59,43 @@ class BinarySoftmaxGoldenTest {
     }
     assertThat(Arrays.stream(expected).distinct().count()).as("the reference tells rows apart").isGreaterThan(expected.length / 2);
   }
+
+  /**
+   * A one-output model's output is read as a logit, which only a classifier's is: nothing in the
+   * file tells a regressor apart, so ood eval's description and ood score's note say how it is read.
+   */
+  @Test
+  void aOneOutputModelIsSaidToBeReadAsATwoClassLogit() throws Exception {
+    Path inputs = golden("inputs.npy");
+    int cols;
+    try (NpyReader r = NpyReader.open(inputs)) {
+      cols = r.cols();
+    }
+    java.util.SplittableRandom rnd = new java.util.SplittableRandom(5);
+    double[] w0 = new double[4 * cols], w1 = new double[2 * 4];
+    for (int i = 0; i < w0.length; i++) w0[i] = rnd.nextDouble(-1, 1);
+    for (int i = 0; i < w1.length; i++) w1[i] = rnd.nextDouble(-1, 1);
+    java.util.Map<String, io.actindex.encode.io.SafetensorsWriter.Tensor> t = new java.util.LinkedHashMap<>();
+    t.put("0.weight", new io.actindex.encode.io.SafetensorsWriter.Tensor(new long[] {4, cols}, w0));
+    t.put("2.weight", new io.actindex.encode.io.SafetensorsWriter.Tensor(new long[] {2, 4}, w1));
+    Path twoOutputs = tmp.resolve("two.safetensors");
+    io.actindex.encode.io.SafetensorsWriter.write(twoOutputs, t, java.util.Map.of());
+    for (Path model : new Path[] {golden("model.safetensors"), twoOutputs}) {
+      Path dir = tmp.resolve("idx-" + model.getFileName());
+      IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.inputs(inputs, model), null), null);
+      OodCalibrate.run(dir, Source.inputs(inputs, null), RowRange.ALL, new OodCalibrate.Params(1, null, 0.9, null, false), Progress.NONE);
+      try (IndexReader reader = IndexReader.open(dir)) {
+        OodEval.Result e = OodEval.run(reader, new OodEval.Params(Source.inputs(inputs, null), Source.inputs(inputs, null), null, null, null),
+            Progress.NONE);
+        String note = SoftmaxBaseline.oneOutputNote(reader);
+        if (model == twoOutputs) {
+          assertThat(note).isNull();
+          assertThat(e.softmax().description()).doesNotContain("regressor");
+        } else {
+          assertThat(note).contains("one output").contains("regressor");
+          assertThat(e.softmax().description()).contains(note);
+        }
+      }
+    }
+  }
 }
