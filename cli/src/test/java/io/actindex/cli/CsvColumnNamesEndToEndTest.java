@@ -184,4 +184,32 @@ class CsvColumnNamesEndToEndTest {
     assertRefused(r, reordered, "another order");
     assertThat(r.err()).as(r.describe()).contains("sample A");
   }
+
+  /**
+   * A first line --header auto cannot decide on is refused; compare, dupes --against, fidelity and
+   * ood eval take no --header, so the refusal must name a way out that they accept (a first line of
+   * names), and following it must work.
+   */
+  @Test
+  void anUndecidableFirstLineNamesAWayOutForCommandsWithoutHeaderOption() {
+    SplittableRandom rnd = new SplittableRandom(16);
+    float[][] rows = SourcesEndToEndTest.activations(20, D, rnd);
+    for (int c = 0; c < D; c++) rows[0][c] = c + 1; // a first row of evenly spaced numbers: 1, 2, ..., D
+    List<String> lines = new ArrayList<>();
+    for (float[] r : rows) {
+      StringBuilder sb = new StringBuilder();
+      for (float v : r) sb.append(sb.isEmpty() ? "" : ",").append(String.format(Locale.ROOT, "%s", v == Math.rint(v) ? Integer.toString((int) v) : v));
+      lines.add(sb.toString());
+    }
+    Path undecided = Files2.text(tmp.resolve("undecided.csv"), lines);
+    Path other = csv("other.csv", SourcesEndToEndTest.activations(20, D, rnd), null, SAME);
+    Cli.Result r = Cli.run("compare", "--a", undecided.toString(), "--b", other.toString(), "--permutations", "20");
+    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(r.err()).as(r.describe()).contains("undecided.csv").contains("line of column names");
+    List<String> named = new ArrayList<>(List.of(String.join(",", names("h"))));
+    named.addAll(lines);
+    Cli.Result ok = Cli.run("compare", "--a", Files2.text(tmp.resolve("named.csv"), named).toString(), "--b", other.toString(),
+        "--permutations", "20");
+    assertThat(ok.code()).as(ok.describe()).isZero();
+  }
 }

@@ -114,6 +114,14 @@ public final class CsvMatrixReader implements MatrixReader {
 
   private static final Pattern LABEL_HEADER = Pattern.compile("label|labels|target|class|y", Pattern.CASE_INSENSITIVE);
 
+  /**
+   * The way out of a first line AUTO cannot decide on. Some commands take no {@code --header}
+   * (compare, dupes --against, fidelity, ood eval): for them, a first line of names that are not
+   * numbers is a header, and a file that begins with one is read the same everywhere.
+   */
+  static final String HEADER_CHOICE = "pass --header yes (a header) or --header no (data), or, for a command without --header (compare,"
+      + " dupes --against, fidelity, ood eval), begin the file with a line of column names that are not numbers";
+
   /** The AUTO rule; adds the note saying what was chosen. */
   private boolean detect(String[] f, long firstLine) {
     int text = 0, firstText = -1;
@@ -129,7 +137,7 @@ public final class CsvMatrixReader implements MatrixReader {
     if (columnNumbers(f, 0) && f.length < 3) // "0" or "0,1": as likely a row of 0/1 codes or counts as pandas' header
       throw new BadInputException(file + ": line " + firstLine + " holds " + String.join(", ", Arrays.stream(f).map(String::trim).toList())
           + ", the column numbers a data-frame library writes over unnamed columns, or a row of data (with " + f.length
-          + (f.length == 1 ? " column" : " columns") + " either is likely); pass --header yes (a header) or --header no (data)");
+          + (f.length == 1 ? " column" : " columns") + " either is likely); " + HEADER_CHOICE);
     if (columnNumbers(f, 0) || (isIndexHeaderCell(f[0].trim()) && columnNumbers(f, 1))) {
       notes.add(file + ": line " + firstLine + " taken as the header (its cells are the column numbers; --header no reads it as data)");
       return true;
@@ -137,7 +145,7 @@ public final class CsvMatrixReader implements MatrixReader {
     if (text == 0 && evenlySpaced(f))
       throw new BadInputException(file + ": line " + firstLine + " holds the evenly spaced numbers " + f[0].trim() + ", " + f[1].trim() + ", ..., "
           + f[f.length - 1].trim() + ", more like column names (columns numbered from 1, wavelengths, time offsets) than a row of data;"
-          + " pass --header yes (a header) or --header no (data)");
+          + " " + HEADER_CHOICE);
     if (text == 0) {
       notes.add(file + ": no header line (every cell of line " + firstLine + " is a number; --header yes skips it)");
       return false;
@@ -145,7 +153,7 @@ public final class CsvMatrixReader implements MatrixReader {
     String hint = isIndexHeaderCell(f[0].trim()) ? "; column 0 looks like a row index column (header cell " + BadInputException.quote(f[0].trim())
         + "): write the file without it" : "";
     throw new BadInputException(file + ": line " + firstLine + ", column " + firstText + " (0-based): " + BadInputException.quote(f[firstText].trim())
-        + " is text but other cells of the line are numbers, so it is unclear whether the line is a header; pass --header yes (a header) or --header no (data)"
+        + " is text but other cells of the line are numbers, so it is unclear whether the line is a header; " + HEADER_CHOICE
         + hint);
   }
 
