@@ -128,13 +128,14 @@ class CsvColumnNamesEndToEndTest {
   }
 
   /**
-   * pandas writes the column numbers 0..d-1 over the columns of a {@code DataFrame(array)}: such a
-   * header names no column (scikit-learn keeps no feature names for integer column labels either).
+   * pandas writes the column numbers 0..d-1 over the columns of a {@code DataFrame(array)}: against
+   * names they tell nothing (scikit-learn keeps no feature names for integer column labels either).
    * With a hidden layer as wide as the model's inputs, hidden activations saved that way were taken
    * for the inputs ("pass it with --inputs"), and named query inputs were refused against the numbers.
+   * pandas keeps the numbers as labels, so against other whole numbers they are checked.
    */
   @Test
-  void aHeaderOfColumnNumbersNamesNoColumn() throws Exception {
+  void columnNumbersAreCheckedAgainstNumbersNotNames() throws Exception {
     SplittableRandom rnd = new SplittableRandom(14);
     Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
     double[] w0 = new double[D * D], w1 = new double[2 * D];
@@ -163,6 +164,12 @@ class CsvColumnNamesEndToEndTest {
     Cli.Result bare = Cli.run("nearest", "--index", idx.toString(), "--inputs", csv("q-bare.csv", query, null, SAME).toString(), "--format", "json");
     assertThat(named.code()).as(named.describe()).isZero();
     assertThat(named.out()).as("read by position, as without a header").isEqualTo(bare.out());
+    // pandas keeps its numbers as the columns' labels: reordered columns carry them in another order
+    // (--header yes: a first line of other whole numbers is data under auto)
+    Path reordered = csv("q-reordered.csv", query, numbers, new int[] {1, 0, 2, 3, 4, 5});
+    Cli.Result r = Cli.run("nearest", "--index", idx.toString(), "--inputs", reordered.toString(), "--header", "yes");
+    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(r.err()).as(r.describe()).contains("q-reordered.csv").contains("another order");
   }
 
   /** compare --index with two files: B's header is checked against A's, as without an index, also when the index records no names. */

@@ -123,7 +123,8 @@ public final class QuerySource {
     java.util.List<String> builtColumns = SourceColumns.of(reader.properties(), reader.dir().toString());
     if (source.kind() == info.kind()) // activations against activations, inputs against inputs
       SourceColumns.check(builtColumns, "the CSV the index " + reader.dir() + " was built from", read.columns(), source.file().toString());
-    else if (info.kind() == Source.Kind.INPUTS && builtColumns != null && builtColumns.equals(read.columns()))
+    else if (info.kind() == Source.Kind.INPUTS && builtColumns != null && !SourceColumns.numbered(builtColumns) // pandas' numbers: any frame's
+        && builtColumns.equals(read.columns()))
       throw new BadInputException(source.file() + ": its header names the model inputs the index " + reader.dir() + " was built from, but it"
           + " was given as " + source.kind().name().toLowerCase(java.util.Locale.ROOT) + "; pass it with --inputs");
     CodeBlock raw = read.codes();

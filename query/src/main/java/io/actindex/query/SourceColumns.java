@@ -16,10 +16,11 @@ import java.util.Map;
  * scikit-learn refuses the same at predict time: an estimator fitted on named features
  * ({@code feature_names_in_}) raises when the names differ or come in another order
  * (scikit-learn 1.x, {@code sklearn.base.BaseEstimator}, "The feature names should match those
- * that were passed during fit"). A file without a header cannot be checked and is read by position;
- * nor can one whose header is the column numbers {@code 0, 1, ..., d-1}, which pandas writes over
- * the columns of {@code DataFrame(array)}: they name no column (scikit-learn keeps no feature names
- * for integer column labels either), so such a header is neither recorded nor checked.
+ * that were passed during fit"). A file without a header cannot be checked and is read by position.
+ * The column numbers {@code 0, 1, ..., d-1} that pandas writes over the columns of {@code
+ * DataFrame(array)} are its labels, kept through a reordering, so they are checked against other
+ * whole numbers; against names they tell nothing of which column is which (scikit-learn keeps no
+ * feature names for integer labels either), so such a pair is read by position.
  */
 final class SourceColumns {
   private SourceColumns() {}
@@ -33,14 +34,14 @@ final class SourceColumns {
    */
   static final int MAX_BYTES = 256 << 10;
 
-  /** Records {@code names} in {@code props} (nothing when null, {@link #numbered} or longer than {@link #MAX_BYTES}). */
+  /** Records {@code names} in {@code props} (nothing when null or longer than {@link #MAX_BYTES}). */
   static void put(Map<String, String> props, List<String> names) {
-    if (names == null || numbered(names)) return;
+    if (names == null) return;
     String json = Json.quote(names);
     if (json.getBytes(java.nio.charset.StandardCharsets.UTF_8).length <= MAX_BYTES) props.put(PROPERTY, json);
   }
 
-  /** The recorded names, or null when the index records none (built from a file without a header, or numbered columns). */
+  /** The recorded names, or null when the index records none (built from a file without a header). */
   static List<String> of(Map<String, String> props, String dir) {
     String v = props.get(PROPERTY);
     if (v == null) return null;
@@ -48,7 +49,7 @@ final class SourceColumns {
       if (Json.parse(v) instanceof List<?> list) {
         List<String> names = new ArrayList<>();
         for (Object o : list) names.add((String) o);
-        return numbered(names) ? null : names; // recorded before numbered headers were left out
+        return names;
       }
     } catch (IllegalArgumentException | ClassCastException e) {
       // falls through to the refusal
@@ -58,12 +59,13 @@ final class SourceColumns {
 
   /**
    * Refuses {@code given} (the header of {@code file}) when it differs from {@code expected} (the
-   * header of what {@code expectedFrom} describes). Either null or {@link #numbered}, or of another
-   * length (a width the caller refuses on its own): nothing to check.
+   * header of what {@code expectedFrom} describes). Either null, of another length (a width the
+   * caller refuses on its own), or {@link #numbered} against names that are not all whole numbers:
+   * nothing to check.
    */
   static void check(List<String> expected, String expectedFrom, List<String> given, String file) {
-    if (expected == null || given == null || expected.size() != given.size() || expected.equals(given) || numbered(expected)
-        || numbered(given)) return;
+    if (expected == null || given == null || expected.size() != given.size() || expected.equals(given)) return;
+    if (numbered(expected) && !wholeNumbers(given) || numbered(given) && !wholeNumbers(expected)) return;
     int i = 0;
     while (expected.get(i).equals(given.get(i))) i++;
     String at = file + ": column " + i + " (0-based) is " + BadInputException.quote(given.get(i)) + " where " + expectedFrom + " has "
@@ -78,6 +80,13 @@ final class SourceColumns {
   /** The names are {@code 0, 1, ..., d-1}: the column numbers a data-frame library writes over unnamed columns. */
   static boolean numbered(List<String> names) {
     for (int i = 0; i < names.size(); i++) if (!names.get(i).equals(Integer.toString(i))) return false;
+    return true;
+  }
+
+  private static final java.util.regex.Pattern WHOLE = java.util.regex.Pattern.compile("-?\\d+");
+
+  private static boolean wholeNumbers(List<String> names) {
+    for (String s : names) if (!WHOLE.matcher(s).matches()) return false;
     return true;
   }
 

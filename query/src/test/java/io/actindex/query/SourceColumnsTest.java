@@ -50,16 +50,17 @@ class SourceColumnsTest {
   }
 
   @Test
-  void columnNumbersNameNoColumn() {
-    // pandas writes 0, 1, ..., d-1 over the columns of DataFrame(array) (common practice): no names to keep or to check
+  void columnNumbersAreNotCheckedAgainstNamesButTheirOrderIs() {
+    // pandas writes 0, 1, ..., d-1 over the columns of DataFrame(array) and keeps them as labels (common practice)
     List<String> numbered = List.of("0", "1", "2");
-    Map<String, String> props = new HashMap<>();
-    SourceColumns.put(props, numbered);
-    assertThat(props).isEmpty();
-    props.put(SourceColumns.PROPERTY, "[\"0\",\"1\",\"2\"]"); // recorded by an earlier version
-    assertThat(SourceColumns.of(props, "idx")).isNull();
     SourceColumns.check(List.of("h0", "h1", "h2"), "the build", numbered, "q.csv");
     SourceColumns.check(numbered, "sample A", List.of("h0", "h1", "h2"), "b.csv");
+    assertThat(SourceColumns.numbered(numbered)).isTrue();
+    assertThat(SourceColumns.numbered(List.of("0", "2", "1"))).isFalse();
+    assertThatThrownBy(() -> SourceColumns.check(numbered, "the build", List.of("2", "1", "0"), "q.csv"))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("column 0").hasMessageContaining("another order");
+    assertThatThrownBy(() -> SourceColumns.check(numbered, "the build", List.of("0", "1", "5"), "q.csv"))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("column 2");
     assertThatThrownBy(() -> SourceColumns.check(List.of("h0", "h1", "h2"), "the build", List.of("0", "2", "1"), "q.csv"))
         .isInstanceOf(BadInputException.class).hasMessageContaining("column 0");
   }
