@@ -18,9 +18,9 @@ import java.util.Map;
  * (scikit-learn 1.x, {@code sklearn.base.BaseEstimator}, "The feature names should match those
  * that were passed during fit"). A file without a header cannot be checked and is read by position.
  * The column numbers {@code 0, 1, ..., d-1} that pandas writes over the columns of {@code
- * DataFrame(array)} are its labels, kept through a reordering, so they are checked against other
- * whole numbers; against names they tell nothing of which column is which (scikit-learn keeps no
- * feature names for integer labels either), so such a pair is read by position.
+ * DataFrame(array)} are its labels, kept through a reordering, so they are checked against a
+ * header of numbers; against names they tell nothing of which column is which (scikit-learn keeps
+ * no feature names for integer labels either), so such a pair is read by position.
  */
 final class SourceColumns {
   private SourceColumns() {}
@@ -60,12 +60,12 @@ final class SourceColumns {
   /**
    * Refuses {@code given} (the header of {@code file}) when it differs from {@code expected} (the
    * header of what {@code expectedFrom} describes). Either null, of another length (a width the
-   * caller refuses on its own), or {@link #numbered} against names that are not all whole numbers:
+   * caller refuses on its own), or {@link #numbered} against names that are not all numbers:
    * nothing to check.
    */
   static void check(List<String> expected, String expectedFrom, List<String> given, String file) {
     if (expected == null || given == null || expected.size() != given.size() || expected.equals(given)) return;
-    if (numbered(expected) && !wholeNumbers(given) || numbered(given) && !wholeNumbers(expected)) return;
+    if (numbered(expected) && !numbers(given) || numbered(given) && !numbers(expected)) return;
     int i = 0;
     while (expected.get(i).equals(given.get(i))) i++;
     String at = file + ": column " + i + " (0-based) is " + BadInputException.quote(given.get(i)) + " where " + expectedFrom + " has "
@@ -83,10 +83,11 @@ final class SourceColumns {
     return true;
   }
 
-  private static final java.util.regex.Pattern WHOLE = java.util.regex.Pattern.compile("-?\\d+");
+  private static final java.util.regex.Pattern NUMBER = java.util.regex.Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
 
-  private static boolean wholeNumbers(List<String> names) {
-    for (String s : names) if (!WHOLE.matcher(s).matches()) return false;
+  /** Every name is a decimal number (other column numbers, or a first row of data read as a header with --header yes). */
+  private static boolean numbers(List<String> names) {
+    for (String s : names) if (!NUMBER.matcher(s).matches()) return false;
     return true;
   }
 

@@ -61,6 +61,9 @@ class SourceColumnsTest {
         .isInstanceOf(BadInputException.class).hasMessageContaining("column 0").hasMessageContaining("another order");
     assertThatThrownBy(() -> SourceColumns.check(numbered, "the build", List.of("0", "1", "5"), "q.csv"))
         .isInstanceOf(BadInputException.class).hasMessageContaining("column 2");
+    // a first row of data taken for a header (--header yes on a file without one) against numbers
+    assertThatThrownBy(() -> SourceColumns.check(numbered, "the build", List.of("0.25", "-1.5e-3", "7"), "q.csv"))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("column 0");
     assertThatThrownBy(() -> SourceColumns.check(List.of("h0", "h1", "h2"), "the build", List.of("0", "2", "1"), "q.csv"))
         .isInstanceOf(BadInputException.class).hasMessageContaining("column 0");
   }
