@@ -106,7 +106,7 @@ final class OodCommand implements Callable<Integer> {
         description = "Share of in-distribution inputs to accept (the threshold's target true-positive rate). Default: ${DEFAULT-VALUE}.")
     double tpr;
 
-    @Option(names = "--check-overlap", description = "Refuse calibration rows that look like the index's own training rows.")
+    @Option(names = "--check-overlap", description = "Refuse calibration rows that look like the index's own training rows (at least half of the rows have the code of the index example with the same id). Without it, such rows get a warning.")
     boolean checkOverlap;
 
     @Option(names = "--score", paramLabel = "S",
@@ -146,7 +146,9 @@ final class OodCommand implements Callable<Integer> {
           calibration(j, c);
           j.name("scores").beginObject().member("min", r.min()).member("p50", r.p50()).member("p90", r.p90()).member("p95", r.p95())
               .member("p99", r.p99()).member("max", r.max()).member("mean", r.mean()).endObject()
-              .member("caution", OodCalibration.CAUTION).endObject();
+              .member("caution", OodCalibration.CAUTION).name("warnings").beginArray();
+          for (String w : r.warnings()) j.value(w);
+          j.endArray().endObject();
           out.println();
         }
         case csv -> {
@@ -167,6 +169,7 @@ final class OodCommand implements Callable<Integer> {
       }
       caution(out, spec.commandLine().getErr(), format.format);
       out.flush();
+      Summaries.warnings(spec.commandLine().getErr(), r.warnings());
       return ExitCodes.OK;
     }
   }

@@ -192,6 +192,49 @@ class OodEndToEndTest {
   }
 
   /**
+   * Calibrating on the training file (a common slip): rows whose code is that of the index example
+   * with the same id give a warning (stderr and JSON), and with {@code --check-overlap} a refusal
+   * that leaves the index unchanged; the training rows in another order (no same-id match) still
+   * warn, since every one of them scores 0 and so does the threshold. Held-out rows warn of nothing.
+   */
+  @Test
+  void calibratingOnTrainingRowsWarnsOrIsRefused() throws Exception {
+    boolean[][] train = rows(200, 0.05, 1), heldOut = rows(60, 0.05, 2);
+    boolean[][] shuffled = new boolean[train.length][];
+    for (int r = 0; r < train.length; r++) shuffled[r] = train[(r * 37 + 11) % train.length]; // 37 and 200 coprime: a permutation
+    Path idx = tmp.resolve("idx");
+    Path trainF = Files2.bits(tmp.resolve("train.npy"), train), shuffledF = Files2.bits(tmp.resolve("shuffled.npy"), shuffled);
+    Path heldF = Files2.bits(tmp.resolve("held.npy"), heldOut);
+    assertThat(Cli.run("build", "--out", idx.toString(), "--codes", trainF.toString()).code()).isZero();
+    String i = idx.toString();
+
+    Map<String, String> before = Files2.checksums(idx);
+    Cli.Result refused = Cli.run("ood", "calibrate", "--index", i, "--codes", trainF.toString(), "-k", "1", "--check-overlap");
+    assertThat(refused.code()).as(refused.describe()).isEqualTo(2);
+    assertThat(refused.err()).as(refused.describe()).contains("200 of 200 rows have exactly the code of the index example with the same id");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+
+    Cli.Result same = Cli.run("ood", "calibrate", "--index", i, "--codes", trainF.toString(), "-k", "1", "--format", "json");
+    assertThat(same.code()).as(same.describe()).isZero();
+    assertThat(same.err()).as(same.describe()).contains("warning: ").contains("200 of 200 rows").contains("--check-overlap");
+    JsonNode sj = JSON.readTree(same.out());
+    assertThat(sj.get("threshold").asDouble()).isZero();
+    assertThat(sj.get("warnings")).hasSize(1);
+
+    Cli.Result moved = Cli.run("ood", "calibrate", "--index", i, "--codes", shuffledF.toString(), "-k", "1", "--format", "json");
+    assertThat(moved.code()).as(moved.describe()).isZero();
+    assertThat(moved.err()).as(moved.describe()).contains("warning: the threshold is 0: 200 of 200 calibration inputs score 0");
+    assertThat(JSON.readTree(moved.out()).get("warnings")).hasSize(1);
+
+    Cli.Result held = Cli.run("ood", "calibrate", "--index", i, "--codes", heldF.toString(), "-k", "3", "--format", "json");
+    assertThat(held.code()).as(held.describe()).isZero();
+    assertThat(held.err()).as(held.describe()).doesNotContain("warning");
+    JsonNode hj = JSON.readTree(held.out());
+    assertThat(hj.get("threshold").asDouble()).isPositive();
+    assertThat(hj.get("warnings")).isEmpty();
+  }
+
+  /**
    * {@code --threads}: calibrate, score (full and decision-only) and eval print the same bytes on 1
    * and 3 threads and by default (one per core, shown in the help).
    */

@@ -7,6 +7,7 @@ import io.actindex.edge.EdgeBundle.Statistic;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import java.nio.file.Path;
+import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
 
@@ -51,13 +52,21 @@ public final class OodCalibrate {
     }
   }
 
-  /** The stored calibration and a summary of the scores (nearest-rank quantiles). */
+  /**
+   * The stored calibration, a summary of the scores (nearest-rank quantiles) and warnings about
+   * the calibration inputs (a threshold of 0, inputs that look like the training file).
+   */
   public record Result(Calibration calibration, OodCalibration.Scoring scoring, int inputs, double min, double p50, double p90, double p95, double p99, double max,
-      double mean) {}
+      double mean, List<String> warnings) {
+    public Result {
+      warnings = List.copyOf(warnings);
+    }
+  }
 
   public static Result run(Path dir, Source source, RowRange rows, Params p, Progress progress) {
     Calibration cal;
     OodCalibration.Scoring scoring;
+    List<String> warnings = new ArrayList<>();
     try (IndexReader reader = IndexReader.open(dir)) {
       OodScorer.checkK(reader, p.k());
       Layers.select(reader.layout(), p.layers());
@@ -68,17 +77,34 @@ public final class OodCalibrate {
       int cands = kind == OodScorer.Kind.CODE ? 0 : Math.max(p.candidates() == 0 ? Refine.DEFAULT_CANDIDATES : p.candidates(), p.k());
       OodScorer scorer = new OodScorer(reader, p.k(), p.statistic(), p.layers(), kind, cands);
       QuerySource.Queries qa = scorer.load(source, rows);
-      if (p.checkOverlap()) checkOverlap(reader, qa.codes(), source.file().toString());
+      String file = source.file().toString();
+      int[] overlap = overlap(reader, qa.codes());
+      boolean looksLikeTraining = overlap[1] > 0 && 2L * overlap[0] >= overlap[1];
+      if (looksLikeTraining && p.checkOverlap())
+        throw new BadInputException(file + ": " + overlap[0] + " of " + overlap[1] + " rows have exactly the code of the index example with the same id; "
+            + "these look like training rows (calibrate with held-out inputs the index does not hold)");
+      if (looksLikeTraining)
+        warnings.add(file + ": " + overlap[0] + " of " + overlap[1] + " rows have exactly the code of the index example with the same id, "
+            + "as rows of the training file would; their scores are optimistically low and the threshold flags too much "
+            + "(calibrate with held-out inputs the index does not hold; --check-overlap refuses such a file)");
       double[] scores = scorer.values(qa, progress, p.threads());
       scoring = kind == OodScorer.Kind.CODE ? OodCalibration.Scoring.CODE : new OodCalibration.Scoring(kind, cands);
       Arrays.sort(scores);
       double threshold = OodCalibration.threshold(scores, p.tpr(), source.file().toString());
       cal = new Calibration(p.k(), p.statistic(), p.layers(), p.tpr(), threshold, scores);
+      if (threshold == 0 && !looksLikeTraining) {
+        int zeros = 0;
+        while (zeros < scores.length && scores[zeros] == 0) zeros++;
+        warnings.add("the threshold is 0: " + zeros + " of " + scores.length + " calibration inputs score 0 (their " + p.k()
+            + " nearest indexed examples are at distance 0), so every later input that is not such a copy is flagged out; "
+            + "if these inputs are (copies of) indexed examples, calibrate with held-out inputs the index does not hold");
+      }
     }
     try (IndexWriter w = IndexWriter.open(dir)) {
       w.putAttachment(OodCalibration.ATTACHMENT, OodCalibration.toBytes(cal, scoring));
     }
-    return summary(cal, scoring);
+    Result r = summary(cal, scoring);
+    return new Result(cal, scoring, r.inputs(), r.min(), r.p50(), r.p90(), r.p95(), r.p99(), r.max(), r.mean(), warnings);
   }
 
   /** The summary {@code ood calibrate} prints, of a stored calibration (the report shows the same numbers). */
@@ -87,7 +113,7 @@ public final class OodCalibrate {
     double sum = 0;
     for (double v : s) sum += v;
     return new Result(cal, scoring, s.length, s[0], nearestRank(s, 0.5), nearestRank(s, 0.9), nearestRank(s, 0.95), nearestRank(s, 0.99),
-        s[s.length - 1], sum / s.length);
+        s[s.length - 1], sum / s.length, List.of());
   }
 
   /** Nearest-rank quantile of ascending values. */
@@ -96,11 +122,12 @@ public final class OodCalibrate {
   }
 
   /**
-   * Refuses calibration rows that look like the index's own training rows: when at least half of
-   * the rows have exactly the code of the live example with the same id (row i vs id i), the file is
-   * most likely (part of) the training file, and its scores would be optimistically low.
+   * How many calibration rows have exactly the code of the live example with the same id (row i vs
+   * id i), and of how many rows that have such an example: when it is at least half, the file is
+   * most likely (part of) the training file, and its scores would be optimistically low (refused
+   * with {@code checkOverlap}, else a warning).
    */
-  static void checkOverlap(IndexReader reader, QueryCodes q, String file) {
+  static int[] overlap(IndexReader reader, QueryCodes q) {
     CodeBlock codes = q.codes();
     int same = 0, compared = 0;
     for (int i = 0; i < codes.size(); i++) {
@@ -109,8 +136,6 @@ public final class OodCalibrate {
       compared++;
       if (Arrays.equals(codes.code(i), reader.code((int) id))) same++;
     }
-    if (compared > 0 && 2L * same >= compared)
-      throw new BadInputException(file + ": " + same + " of " + compared + " rows have exactly the code of the index example with the same id; "
-          + "these look like training rows (calibrate with held-out inputs the index does not hold)");
+    return new int[] {same, compared};
   }
 }
