@@ -10,6 +10,7 @@ import java.nio.file.Files;
 import java.nio.file.InvalidPathException;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
+import java.util.regex.Pattern;
 
 /**
  * {@code java -jar actindex-edge.jar BUNDLE [--inputs]}: scores the rows on standard input and
@@ -101,15 +102,22 @@ public final class EdgeMain {
     return 2;
   }
 
+  /**
+   * A decimal number as the index's CSV reader takes one: Java's own parser also takes {@code 1f},
+   * {@code 1d} and hexadecimal {@code 0x1p3}, which the index refuses, so an input the index would
+   * refuse is never scored here.
+   */
+  private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?"),
+      NOT_FINITE = Pattern.compile("[+-]?(?i:nan|inf|infinity)");
+
   private static double[] numbers(String line) {
     String[] parts = line.split(",", -1); // "1,2," keeps its empty last field (refused below), as the index's CSV reader refuses it
     double[] x = new double[parts.length];
     for (int i = 0; i < x.length; i++) {
-      try {
-        x[i] = Double.parseDouble(parts[i].trim());
-      } catch (NumberFormatException e) {
-        throw new IllegalArgumentException("column " + i + ": " + quote(parts[i].trim()) + " is not a number");
-      }
+      String f = parts[i].trim();
+      if (NOT_FINITE.matcher(f).matches()) throw new IllegalArgumentException("column " + i + ": not finite");
+      if (!DECIMAL.matcher(f).matches()) throw new IllegalArgumentException("column " + i + ": " + quote(f) + " is not a number");
+      x[i] = Double.parseDouble(f);
       if (!Double.isFinite(x[i])) throw new IllegalArgumentException("column " + i + ": not finite");
     }
     return x;
