@@ -246,15 +246,18 @@ public final class Fidelity {
     double rho = spearman(data, norms, pairs, distinct <= p.pairs(), new SplittableRandom(p.seed() ^ 0x5DEECE66DL));
     double ov = overlap / m, ts = tied / m;
     return new Result(n, m, p.k(), p.seed(), data.floatSource(), data.keptBits(), c, ov, rho, pairs, ts, kthSum / m, acc,
-        verdict(ov, rho, ts, acc, p.k(), c));
+        verdict(ov, rho, ts, acc, p.k(), c, n));
   }
 
   private record PerQuery(double overlap, boolean tied, int kth, Boolean hamOk, Boolean refOk, Boolean cosOk, Boolean eucOk) {}
 
   /** The short verdict in words. */
-  static String verdict(double overlap, double rho, double tied, Accuracy acc, int k, int c) {
+  static String verdict(double overlap, double rho, double tied, Accuracy acc, int k, int c, int n) {
     StringBuilder v = new StringBuilder();
-    if (acc != null) {
+    double chance = (double) k / (n - 1); // expected overlap of k rows drawn at random from the n - 1 others
+    if (chance >= 0.5) v.append(String.format(java.util.Locale.ROOT,
+        "Too few rows to judge: with k = %d of the %d other rows as neighbours, chance alone gives an overlap of %.2f.", k, n - 1, chance));
+    else if (acc != null) {
       double gap = acc.cosine() - acc.hamming();
       if (gap <= 0.01) v.append("Codes keep what the float activations know about labels here: Hamming ").append(k)
           .append("-NN accuracy is within 1 point of cosine on the floats.");

@@ -161,8 +161,22 @@ class FidelityTest {
    */
   @Test
   void anUndefinedSpearmanIsSaidInWordsNotAsNaN() {
-    String v = Fidelity.verdict(0.07, Double.NaN, 1.0, null, 3, 29);
+    String v = Fidelity.verdict(0.07, Double.NaN, 1.0, null, 3, 29, 30);
     assertThat(v).doesNotContain("NaN").contains("Spearman undefined");
-    assertThat(Fidelity.verdict(0.07, 0.25, 1.0, null, 3, 29)).contains("Spearman 0.25");
+    assertThat(Fidelity.verdict(0.07, 0.25, 1.0, null, 3, 29, 30)).contains("Spearman 0.25");
+  }
+
+  /**
+   * Two or three rows with k = 1 or 2: every other row is a neighbour under both metrics, so the
+   * overlap is 1 whatever the codes, and the verdict said the neighbours "largely agree". Chance
+   * overlap k / (n - 1) (common practice: k rows drawn at random from n - 1) of at least one half
+   * is now called too few rows to judge; with enough rows the verdict is as before.
+   */
+  @Test
+  void tooFewRowsToJudgeIsSaid() {
+    String few = Fidelity.verdict(1.0, Double.NaN, 0, null, 1, 100, 2);
+    assertThat(few).startsWith("Too few rows to judge").contains("k = 1 of the 1 other rows").contains("1.00").doesNotContain("largely agree");
+    assertThat(Fidelity.verdict(1.0, 0.9, 0, null, 2, 100, 5)).startsWith("Too few rows to judge");
+    assertThat(Fidelity.verdict(1.0, 0.9, 0, null, 2, 100, 6)).startsWith("Hamming and cosine neighbours largely agree");
   }
 }
