@@ -100,14 +100,7 @@ class CsvColumnNamesEndToEndTest {
   @Test
   void modelInputsAndCompareSamplesWithReorderedColumnsAreRefused() throws Exception {
     SplittableRandom rnd = new SplittableRandom(13);
-    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
-    double[] w0 = new double[4 * D], w1 = new double[2 * 4];
-    for (int i = 0; i < w0.length; i++) w0[i] = rnd.nextDouble(-1, 1);
-    for (int i = 0; i < w1.length; i++) w1[i] = rnd.nextDouble(-1, 1);
-    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {4, D}, w0));
-    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, 4}, w1));
-    Path model = tmp.resolve("mlp.safetensors");
-    SafetensorsWriter.write(model, t, Map.of());
+    Path model = mlp("mlp.safetensors", 4, rnd);
     float[][] train = SourcesEndToEndTest.activations(30, D, rnd), query = SourcesEndToEndTest.activations(4, D, rnd);
     List<String> features = List.of("mean radius", "mean texture", "area, worst", "smoothness \"se\"", "x4", "x5");
     Path inputs = csv("inputs.csv", train, features, SAME);
@@ -192,31 +185,86 @@ class CsvColumnNamesEndToEndTest {
     assertThat(r.err()).as(r.describe()).contains("sample A");
   }
 
-  /**
-   * A first line --header auto cannot decide on is refused; compare, dupes --against, fidelity and
-   * ood eval take no --header, so the refusal must name a way out that they accept (a first line of
-   * names), and following it must work.
-   */
-  @Test
-  void anUndecidableFirstLineNamesAWayOutForCommandsWithoutHeaderOption() {
-    SplittableRandom rnd = new SplittableRandom(16);
-    float[][] rows = SourcesEndToEndTest.activations(20, D, rnd);
-    for (int c = 0; c < D; c++) rows[0][c] = c + 1; // a first row of evenly spaced numbers: 1, 2, ..., D
+  /** A two-layer MLP (D inputs, {@code hidden} units, 2 outputs) with random weights, as safetensors. */
+  private Path mlp(String name, int hidden, SplittableRandom rnd) throws Exception {
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    double[] w0 = new double[hidden * D], w1 = new double[2 * hidden];
+    for (int i = 0; i < w0.length; i++) w0[i] = rnd.nextDouble(-1, 1);
+    for (int i = 0; i < w1.length; i++) w1[i] = rnd.nextDouble(-1, 1);
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {hidden, D}, w0));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, hidden}, w1));
+    Path model = tmp.resolve(name);
+    SafetensorsWriter.write(model, t, Map.of());
+    return model;
+  }
+
+  /** A number in a command's JSON output, by its path of member names. */
+  private static long jsonNumber(Cli.Result r, String... path) {
+    assertThat(r.code()).as(r.describe()).isZero();
+    Object v = io.actindex.encode.io.Json.parse(r.out());
+    for (String name : path) v = ((Map<?, ?>) v).get(name);
+    return ((Number) v).longValue();
+  }
+
+  /** Rows without a header whose first row is 1, 2, ..., D: evenly spaced numbers, which --header auto refuses. */
+  private Path undecided(String name, float[][] rows) {
+    for (int c = 0; c < D; c++) rows[0][c] = c + 1;
     List<String> lines = new ArrayList<>();
     for (float[] r : rows) {
       StringBuilder sb = new StringBuilder();
-      for (float v : r) sb.append(sb.isEmpty() ? "" : ",").append(String.format(Locale.ROOT, "%s", v == Math.rint(v) ? Integer.toString((int) v) : v));
+      for (float v : r) sb.append(sb.isEmpty() ? "" : ",").append(v == Math.rint(v) ? Integer.toString((int) v) : Float.toString(v));
       lines.add(sb.toString());
     }
-    Path undecided = Files2.text(tmp.resolve("undecided.csv"), lines);
-    Path other = csv("other.csv", SourcesEndToEndTest.activations(20, D, rnd), null, SAME);
-    Cli.Result r = Cli.run("compare", "--a", undecided.toString(), "--b", other.toString(), "--permutations", "20");
-    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
-    assertThat(r.err()).as(r.describe()).contains("undecided.csv").contains("line of column names");
-    List<String> named = new ArrayList<>(List.of(String.join(",", names("h"))));
-    named.addAll(lines);
-    Cli.Result ok = Cli.run("compare", "--a", Files2.text(tmp.resolve("named.csv"), named).toString(), "--b", other.toString(),
-        "--permutations", "20");
-    assertThat(ok.code()).as(ok.describe()).isZero();
+    return Files2.text(tmp.resolve(name), lines);
+  }
+
+  /**
+   * compare, dupes --against, fidelity and ood eval take --header as the query commands do: a first
+   * line --header auto cannot decide on is refused naming the option, and --header no (data) or yes
+   * (a header) reads it, for every CSV file the command reads: one row more or fewer.
+   */
+  @Test
+  void everyCommandThatReadsCsvDataTakesHeader() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(16);
+    Path undecided = undecided("undecided.csv", SourcesEndToEndTest.activations(20, D, rnd));
+    Path other = Files2.floats(tmp.resolve("other.npy"), SourcesEndToEndTest.activations(20, D, rnd)); // --header applies to CSV files only
+    Path train = Files2.floats(tmp.resolve("train.npy"), SourcesEndToEndTest.activations(40, D, rnd));
+    Path idx = tmp.resolve("idx");
+    for (String[] args : List.of(new String[] {"build", "--out", idx.toString(), "--activations", train.toString()},
+        new String[] {"ood", "calibrate", "--index", idx.toString(), "--activations", Files2.floats(tmp.resolve("cal.npy"),
+            SourcesEndToEndTest.activations(20, D, rnd)).toString()})) {
+      Cli.Result r = Cli.run(args);
+      assertThat(r.code()).as(r.describe()).isZero();
+    }
+    Path modelIdx = tmp.resolve("model-idx");
+    Cli.Result built = Cli.run("build", "--out", modelIdx.toString(), "--model", mlp("mlp.safetensors", 4, rnd).toString(), "--inputs",
+        undecided.toString(), "--header", "no");
+    assertThat(built.code()).as(built.describe()).isZero();
+
+    record Use(String[] args, String... rows) {}
+    String u = undecided.toString();
+    List<Use> uses = List.of(
+        new Use(new String[] {"compare", "--a", u, "--b", other.toString(), "--permutations", "20"}, "a", "rows"),
+        new Use(new String[] {"compare", "--a", other.toString(), "--b", u, "--permutations", "20"}, "b", "rows"),
+        new Use(new String[] {"dupes", "--index", idx.toString(), "--radius", "1", "--against", u}, "summary", "rows"),
+        new Use(new String[] {"fidelity", "--activations", u, "-k", "3"}, "examples"),
+        new Use(new String[] {"ood", "eval", "--index", idx.toString(), "--in", u, "--out", other.toString(), "--kind", "activations"}, "in"),
+        new Use(new String[] {"ood", "eval", "--index", idx.toString(), "--in", other.toString(), "--out", u, "--kind", "activations"}, "out"),
+        new Use(new String[] {"ood", "eval", "--index", idx.toString(), "--in", other.toString(), "--out", other.toString(), "--kind",
+            "activations", "--in-floats", other.toString(), "--out-floats", other.toString(), "--train-floats", u}),
+        new Use(new String[] {"fidelity", "--index", modelIdx.toString(), "--inputs", u, "-k", "3"}));
+    for (Use use : uses) {
+      Cli.Result auto = Cli.run(use.args());
+      assertThat(auto.code()).as(auto.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(auto.err()).as(auto.describe()).contains("undecided.csv").contains("--header yes");
+      List<String> args = new ArrayList<>(List.of(use.args()));
+      args.addAll(List.of("--format", "json", "--header", "no"));
+      Cli.Result data = Cli.run(args.toArray(new String[0]));
+      assertThat(data.code()).as(data.describe()).isZero();
+      if (use.rows().length == 0) continue; // floats, or inputs that must be the index's 20 rows
+      assertThat(jsonNumber(data, use.rows())).as(data.describe()).isEqualTo(20);
+      args.set(args.size() - 1, "yes");
+      assertThat(jsonNumber(Cli.run(args.toArray(new String[0])), use.rows())).as("--header yes: the first line is not a row").isEqualTo(19);
+    }
   }
 }

@@ -5,6 +5,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.edge.EdgeBundle.Statistic;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -37,18 +38,23 @@ public final class OodEval {
    * refused). With a refined calibration, {@code refined} is the score from the index's kept
    * magnitudes (the calibration's candidates), and the training floats feed only the float score.
    * {@code threads >= 1}: inputs searched and scored in parallel (the same result for any count).
+   * {@code header}: whether the first line of every CSV file read (in and out, replacing their
+   * sources' own rule, and the float files) is a header (null = detect).
    */
   public record Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates, OodScorer.Kind score,
-      int threads) {
+      int threads, CsvMatrixReader.Header header) {
     public Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats) {
-      this(in, out, inFloats, outFloats, trainFloats, 0, null, 1);
+      this(in, out, inFloats, outFloats, trainFloats, 0, null, 1, null);
     }
 
     public Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates, OodScorer.Kind score) {
-      this(in, out, inFloats, outFloats, trainFloats, candidates, score, 1);
+      this(in, out, inFloats, outFloats, trainFloats, candidates, score, 1, null);
     }
 
     public Params {
+      if (header == null) header = CsvMatrixReader.Header.AUTO;
+      in = in.withHeader(header);
+      out = out.withHeader(header);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
       if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
       int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
@@ -120,8 +126,9 @@ public final class OodEval {
     Scored floats = null, refined = null;
     List<String> warnings = new ArrayList<>();
     if (p.trainFloats() != null) {
-      FloatKnnScore f = new FloatKnnScore(p.trainFloats());
-      double[][] qa = f.queries(p.inFloats()), qb = f.queries(p.outFloats());
+      FloatKnnScore f = new FloatKnnScore(p.trainFloats(), p.header());
+      FloatKnnScore.Queries fa = f.queries(p.inFloats()), fb = f.queries(p.outFloats());
+      double[][] qa = fa.rows(), qb = fb.rows();
       if (qa.length != in.size())
         throw new BadInputException(p.inFloats() + ": " + qa.length + " rows of floats, but --in " + p.in().file() + " has " + in.size()
             + "; --in-floats must hold the same inputs in the same order");
