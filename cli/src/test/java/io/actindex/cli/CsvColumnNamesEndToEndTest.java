@@ -267,4 +267,67 @@ class CsvColumnNamesEndToEndTest {
       assertThat(jsonNumber(Cli.run(args.toArray(new String[0])), use.rows())).as("--header yes: the first line is not a row").isEqualTo(19);
     }
   }
+
+  /**
+   * Float files that one command reads as activations of the same units (compare's --a-floats and
+   * --b-floats; ood eval's --in-floats, --out-floats and --train-floats) are read by position, so
+   * their headers must name the same columns in the same order, as compare's --a and --b must.
+   */
+  @Test
+  void floatFilesWhoseHeadersDisagreeAreRefused() {
+    SplittableRandom rnd = new SplittableRandom(17);
+    float[][] a = SourcesEndToEndTest.activations(20, D, rnd), b = SourcesEndToEndTest.activations(20, D, rnd),
+        train = SourcesEndToEndTest.activations(40, D, rnd);
+    List<String> h = names("h");
+    Path aNpy = Files2.floats(tmp.resolve("a.npy"), a), bNpy = Files2.floats(tmp.resolve("b.npy"), b);
+    Path aCsv = csv("a.csv", a, h, SAME), bCsv = csv("b.csv", b, h, SAME), bReordered = csv("b-reordered.csv", b, h, REVERSED);
+
+    String[] compare = {"compare", "--a", aNpy.toString(), "--b", bNpy.toString(), "--permutations", "20", "--a-floats", aCsv.toString(),
+        "--b-floats"};
+    Cli.Result refused = Cli.run(concat(compare, bReordered.toString()));
+    assertRefused(refused, bReordered, "another order");
+    assertThat(refused.err()).as(refused.describe()).contains("a.csv").contains("float sample A");
+    for (Path agrees : List.of(bCsv, csv("b-bare.csv", b, null, SAME))) {
+      Cli.Result ok = Cli.run(concat(compare, agrees.toString()));
+      assertThat(ok.code()).as(ok.describe()).isZero();
+    }
+    // pandas' column numbers, reordered: a first line of other whole numbers is data under auto, a header with --header yes
+    Path aNumbered = csv("a-numbered.csv", a, names(""), SAME), bNumbered = csv("b-numbered.csv", b, names(""), new int[] {1, 0, 2, 3, 4, 5});
+    String[] numbered = {"compare", "--a", aNpy.toString(), "--b", bNpy.toString(), "--permutations", "20", "--a-floats",
+        aNumbered.toString(), "--b-floats", bNumbered.toString(), "--header", "yes"};
+    assertRefused(Cli.run(numbered), bNumbered, "another order");
+
+    Path idx = tmp.resolve("idx");
+    for (String[] args : List.of(new String[] {"build", "--out", idx.toString(), "--activations", Files2.floats(tmp.resolve("train.npy"), train).toString()},
+        new String[] {"ood", "calibrate", "--index", idx.toString(), "--activations", aNpy.toString()})) {
+      Cli.Result r = Cli.run(args);
+      assertThat(r.code()).as(r.describe()).isZero();
+    }
+    Map<String, String> before = Files2.checksums(idx);
+    Path trainCsv = csv("train.csv", train, h, SAME), trainReordered = csv("train-reordered.csv", train, h, REVERSED);
+    Path roc = tmp.resolve("roc.csv"), html = tmp.resolve("eval.html");
+    String[] eval = {"ood", "eval", "--index", idx.toString(), "--in", aNpy.toString(), "--out", bNpy.toString(), "--roc", roc.toString(),
+        "--html", html.toString()};
+    Cli.Result againstTrain = Cli.run(concat(eval, "--in-floats", aCsv.toString(), "--out-floats", bCsv.toString(), "--train-floats",
+        trainReordered.toString()));
+    assertRefused(againstTrain, aCsv, "another order");
+    assertThat(againstTrain.err()).as(againstTrain.describe()).contains("train-reordered.csv");
+    // training floats without a header: in and out are checked against each other
+    Cli.Result againstIn = Cli.run(concat(eval, "--in-floats", aCsv.toString(), "--out-floats", bReordered.toString(), "--train-floats",
+        csv("train-bare.csv", train, null, SAME).toString()));
+    assertRefused(againstIn, bReordered, "another order");
+    assertThat(againstIn.err()).as(againstIn.describe()).contains("--in-floats").contains("a.csv");
+    assertThat(roc).as("nothing written").doesNotExist();
+    assertThat(html).as("nothing written").doesNotExist();
+    assertThat(Files2.checksums(idx)).as("index unchanged").isEqualTo(before);
+    Cli.Result ok = Cli.run(concat(eval, "--in-floats", aCsv.toString(), "--out-floats", bCsv.toString(), "--train-floats", trainCsv.toString()));
+    assertThat(ok.code()).as(ok.describe()).isZero();
+    assertThat(roc).exists();
+  }
+
+  private static String[] concat(String[] head, String... tail) {
+    List<String> all = new ArrayList<>(List.of(head));
+    all.addAll(List.of(tail));
+    return all.toArray(new String[0]);
+  }
 }

@@ -222,6 +222,9 @@ public final class Compare {
     checkRows(b, sb, "B");
     FloatFile ffa = floats(p.aFloats(), sa, p, "A"), ffb = floats(p.bFloats(), sb, p, "B");
     FloatSample fa = ffa == null ? null : ffa.values(), fb = ffb == null ? null : ffb.values();
+    if (fa != null && fb != null) // both hold activations of the same units: read by position like the samples
+      SourceColumns.check(ffa.columns(), "float sample A (" + floatsFile(p.aFloats(), sa) + ")", ffb.columns(),
+          floatsFile(p.bFloats(), sb).toString());
     if (fa != null && fb != null && fa.cols() != fb.cols()) {
       throw new BadInputException(floatsFile(p.bFloats(), sb) + ": float sample B has " + fb.cols()
           + " columns, float sample A (" + floatsFile(p.aFloats(), sa) + ") " + fa.cols());

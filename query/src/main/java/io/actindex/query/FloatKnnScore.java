@@ -44,9 +44,13 @@ public final class FloatKnnScore {
     return train.length;
   }
 
-  /** The rows of a query file, normalised, checked against the training width. */
+  /**
+   * The rows of a query file, normalised, checked against the training width and, when both files
+   * have a header, the training header (columns are read by position: {@link SourceColumns#check}).
+   */
   public Queries queries(Path file) {
     Matrix m = read(file, header);
+    SourceColumns.check(trainColumns, "the training floats (" + trainFile + ")", m.columns(), file.toString());
     double[][] q = normalised(m.rows(), file);
     if (q.length > 0 && q[0].length != train[0].length)
       throw new BadInputException(file + ": rows have " + q[0].length + " values, the training floats have " + train[0].length);

@@ -128,6 +128,8 @@ public final class OodEval {
     if (p.trainFloats() != null) {
       FloatKnnScore f = new FloatKnnScore(p.trainFloats(), p.header());
       FloatKnnScore.Queries fa = f.queries(p.inFloats()), fb = f.queries(p.outFloats());
+      // each was checked against the training floats' header; against each other too (the training floats may have none)
+      SourceColumns.check(fa.columns(), "--in-floats (" + p.inFloats() + ")", fb.columns(), p.outFloats().toString());
       double[][] qa = fa.rows(), qb = fb.rows();
       if (qa.length != in.size())
         throw new BadInputException(p.inFloats() + ": " + qa.length + " rows of floats, but --in " + p.in().file() + " has " + in.size()
