@@ -325,6 +325,31 @@ class CsvColumnNamesEndToEndTest {
     assertThat(roc).exists();
   }
 
+  /** ood eval's --in and --out against an index built from .npy (no names recorded): checked against each other, as compare's samples. */
+  @Test
+  void oodEvalInputsAgainstAnIndexWithoutNamesAreCheckedAgainstEachOther() {
+    SplittableRandom rnd = new SplittableRandom(18);
+    float[][] in = SourcesEndToEndTest.activations(20, D, rnd), out = SourcesEndToEndTest.activations(20, D, rnd);
+    Path idx = tmp.resolve("idx");
+    for (String[] args : List.of(new String[] {"build", "--out", idx.toString(), "--activations",
+        Files2.floats(tmp.resolve("train.npy"), SourcesEndToEndTest.activations(40, D, rnd)).toString()},
+        new String[] {"ood", "calibrate", "--index", idx.toString(), "--activations", Files2.floats(tmp.resolve("cal.npy"), in).toString()})) {
+      Cli.Result r = Cli.run(args);
+      assertThat(r.code()).as(r.describe()).isZero();
+    }
+    List<String> h = names("h");
+    Path inCsv = csv("in.csv", in, h, SAME), roc = tmp.resolve("roc.csv");
+    Path reordered = csv("out-reordered.csv", out, h, REVERSED);
+    Cli.Result r = Cli.run("ood", "eval", "--index", idx.toString(), "--in", inCsv.toString(), "--out", reordered.toString(), "--roc", roc.toString());
+    assertRefused(r, reordered, "another order");
+    assertThat(r.err()).as(r.describe()).contains("--in").contains("in.csv");
+    assertThat(roc).as("nothing written").doesNotExist();
+    Cli.Result ok = Cli.run("ood", "eval", "--index", idx.toString(), "--in", inCsv.toString(), "--out", csv("out.csv", out, h, SAME).toString(),
+        "--roc", roc.toString());
+    assertThat(ok.code()).as(ok.describe()).isZero();
+    assertThat(roc).exists();
+  }
+
   private static String[] concat(String[] head, String... tail) {
     List<String> all = new ArrayList<>(List.of(head));
     all.addAll(List.of(tail));

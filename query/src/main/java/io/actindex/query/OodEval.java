@@ -99,6 +99,8 @@ public final class OodEval {
           + " calibration re-ranks its own " + OodCalibration.scoring(reader).candidates() + " candidates (set at ood calibrate)");
     QuerySource.Queries inQ = scorer.load(p.in(), RowRange.ALL), outQ = scorer.load(p.out(), RowRange.ALL);
     QueryCodes in = inQ.codes(), out = outQ.codes();
+    // each was checked against the build's header; against each other too (an index built from .npy records none)
+    SourceColumns.check(in.columns(), "--in (" + p.in().file() + ")", out.columns(), p.out().file().toString());
     if (in.size() == 0) throw new BadInputException(p.in().file() + ": no rows; ood eval needs rows in both --in and --out");
     if (out.size() == 0) throw new BadInputException(p.out().file() + ": no rows; ood eval needs rows in both --in and --out");
     // k values and layer sets of the breakdown; one k-NN search per input and layer set

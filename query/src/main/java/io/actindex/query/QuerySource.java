@@ -33,8 +33,8 @@ public final class QuerySource {
   public static QueryCodes load(IndexReader reader, Source source, RowRange rows, Progress progress) {
     RowRange range = rows == null ? RowRange.ALL : rows;
     java.util.List<String> notes = new java.util.ArrayList<>();
-    CodeBlock codes = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes);
-    return new QueryCodes(codes, range.from(), notes);
+    Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, false);
+    return new QueryCodes(e.codes(), range.from(), notes, e.columns());
   }
 
   /**
@@ -50,7 +50,7 @@ public final class QuerySource {
     RowRange range = rows == null ? RowRange.ALL : rows;
     java.util.List<String> notes = new java.util.ArrayList<>();
     Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, true);
-    return new Queries(new QueryCodes(e.codes(), range.from(), notes), e.activations());
+    return new Queries(new QueryCodes(e.codes(), range.from(), notes, e.columns()), e.activations());
   }
 
   /**
@@ -94,13 +94,10 @@ public final class QuerySource {
    */
   record Encoded(CodeBlock codes, float[] activations, java.util.List<String> columns) {}
 
-  /** Encodes {@code source} with the index's stored options and aligns it to the index layout. */
-  static CodeBlock encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
-      java.util.List<String> notes) {
-    return encode(reader, source, range, chunk, progress, what, notes, false).codes();
-  }
-
-  /** As above, keeping the activations (null for a codes source) when {@code activations}. */
+  /**
+   * Encodes {@code source} with the index's stored options and aligns it to the index layout,
+   * keeping the activations (null for a codes source) when {@code activations}.
+   */
   static Encoded encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
       java.util.List<String> notes, boolean activations) {
     BuildInfo info = BuildInfo.fromProperties(reader.properties(), "index");
