@@ -35,9 +35,8 @@ public final class BuildSourceOptions {
   Path inputs;
 
   @Option(names = "--header", paramLabel = "yes|no|auto", defaultValue = "auto",
-      description = {"Whether the first line of a CSV source (--activations, --inputs) is a header; refused with other files. auto (default): a header when every cell is text "
-          + "or the cells are the column numbers 0..d-1, data when every cell is a number; a line mixing both, or of three or more evenly spaced"
-          + " numbers (1..d, 400,410,420: numbered column names), is refused."})
+      description = "Whether the first line of a CSV source (--activations, --inputs) is a header; refused with other files. "
+          + HeaderOption.AUTO_RULE)
   String header;
 
   @Option(names = "--meta", paramLabel = "CSV",

@@ -73,6 +73,7 @@ final class CompareCommand implements Callable<Integer> {
   Path bFloats;
 
   @Mixin LayersOption layers;
+  @Mixin HeaderOption header;
 
   @Option(names = "--permutations", paramLabel = "P", defaultValue = "1000", description = "Relabelings of the permutation tests. Default: ${DEFAULT-VALUE}.")
   int permutations;
@@ -140,7 +141,7 @@ final class CompareCommand implements Callable<Integer> {
     Compare.Options o = new Compare.Options(permutations, seed, sigma, alpha, top, matrixRows, exactMax, sinkhornRows, reg,
         maxIter, tol, threads.resolved());
     Compare.Params p = new Compare.Params(index, sample(a, aWhere), sample(b, bWhere), enc, layout, model, aFloats, bFloats,
-        layers.layers, o);
+        layers.layers, o, header.of(a, b, aFloats, bFloats));
     Compare.Result r;
     try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "reading samples")) {
       r = Compare.run(p, bar);

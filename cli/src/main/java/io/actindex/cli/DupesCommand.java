@@ -7,6 +7,7 @@ import io.actindex.core.OutputFiles;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
 import io.actindex.index.mih.PairSink;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.BuildInfo;
 import io.actindex.query.Dupes;
@@ -74,6 +75,7 @@ final class DupesCommand implements Callable<Integer> {
       description = "Worker threads (the output order does not depend on it). Default: 0 = one per core.")
   int threads;
 
+  @Mixin HeaderOption header;
   @Mixin FormatOption format;
 
   @Override
@@ -84,6 +86,7 @@ final class DupesCommand implements Callable<Integer> {
     if (against != null)
       GivenOptions.refuse(spec, "is about the groups of the self-join; --against lists each row's matches and forms no groups",
           "--cross-split", "--conflicting-labels", "--groups");
+    CsvMatrixReader.Header h = header.of(against);
     int t = threads == 0 ? Runtime.getRuntime().availableProcessors() : threads;
     Dupes.Params p = new Dupes.Params(radius, where, layers.layers, crossSplit, conflictingLabels, groups, t);
     Dupes.Result joined = null;
@@ -97,7 +100,7 @@ final class DupesCommand implements Callable<Integer> {
       if (against == null) joined = Dupes.run(reader, p, sink, bar);
       else {
         Source.Kind kind = BuildInfo.fromProperties(reader.properties(), index.dir.toString()).kind();
-        matched = Dupes.against(reader, p, new Source(kind, against, null), sink, bar);
+        matched = Dupes.against(reader, p, new Source(kind, against, null, h), sink, bar);
       }
       if (file != null) file.commit();
       live = reader.liveCount();

@@ -3,6 +3,7 @@ package io.actindex.cli;
 import io.actindex.cli.format.CsvWriter;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Fidelity;
 import io.actindex.query.MetaCsv;
@@ -73,6 +74,7 @@ final class FidelityCommand implements Callable<Integer> {
   @Option(names = "--seed", paramLabel = "S", defaultValue = "1", description = "Seed of the samples. Default: ${DEFAULT-VALUE}.")
   long seed;
 
+  @Mixin HeaderOption header;
   @Mixin FormatOption format;
   @Mixin ThreadsOption threads;
 
@@ -98,15 +100,16 @@ final class FidelityCommand implements Callable<Integer> {
       throw new ParameterException(spec.commandLine(), "--pairs must be from 2 to " + Fidelity.MAX_PAIRS + " (about a gigabyte of memory), got " + pairs);
     if (bits != 2 && bits != 4 && bits != 8) throw new ParameterException(spec.commandLine(), "--magnitudes must be 8, 4 or 2, got " + bits);
     int c = candidates != null ? candidates : Math.max(Refine.DEFAULT_CANDIDATES, k);
+    CsvMatrixReader.Header h = header.of(activations, inputs);
     Fidelity.Result result;
     try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "measuring")) {
       if (index != null) {
         try (IndexReader reader = IndexReader.open(index)) {
-          result = run(Fidelity.fromIndex(reader, inputs, bar), c, bar);
+          result = run(Fidelity.fromIndex(reader, inputs, h, bar), c, bar);
         }
       } else {
         MetaCsv.Options m = meta == null ? null : new MetaCsv.Options(meta, null, labelColumn, null);
-        result = run(Fidelity.fromActivations(activations, m, bits, bar), c, bar);
+        result = run(Fidelity.fromActivations(activations, h, m, bits, bar), c, bar);
       }
     }
     PrintWriter out = spec.commandLine().getOut();

@@ -1,7 +1,11 @@
 package io.actindex.cli;
 
 import java.nio.file.Path;
+import java.util.Arrays;
+import java.util.List;
 import java.util.Locale;
+import java.util.Objects;
+import java.util.stream.Collectors;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.ParameterException;
 
@@ -24,10 +28,17 @@ final class GivenOptions {
       if (given(spec, option)) throw new ParameterException(spec.commandLine(), option + " " + why);
   }
 
-  /** Refuses {@code option}, which is about CSV files, when typed with a source {@code file} that is not one. */
-  static void refuseUnlessCsv(CommandSpec spec, String option, Path file) {
-    if (given(spec, option) && !file.getFileName().toString().toLowerCase(Locale.ROOT).endsWith(".csv"))
-      throw new ParameterException(spec.commandLine(), option + " is about CSV files; " + file + " is not one (.npy and .npz files"
-          + " and codes have no header line)");
+  /**
+   * Refuses {@code option}, which is about CSV files, when typed while none of {@code files} (the
+   * data files the command line reads; null entries are options not given) is one.
+   */
+  static void refuseUnlessCsv(CommandSpec spec, String option, Path... files) {
+    if (!given(spec, option)) return;
+    List<Path> read = Arrays.stream(files).filter(Objects::nonNull).toList();
+    if (read.stream().anyMatch(f -> f.getFileName().toString().toLowerCase(Locale.ROOT).endsWith(".csv"))) return;
+    String which = read.isEmpty() ? "this command line reads no data file" : read.size() == 1 ? read.getFirst() + " is not one"
+        : "none of " + read.stream().map(Path::toString).collect(Collectors.joining(", ")) + " is one";
+    throw new ParameterException(spec.commandLine(), option + " is about CSV files; " + which + " (.npy and .npz files and codes have no"
+        + " header line)");
   }
 }

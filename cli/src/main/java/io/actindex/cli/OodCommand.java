@@ -8,6 +8,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.OutputFiles;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.edge.EdgeBundle.Statistic;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.BuildInfo;
 import io.actindex.query.OodCalibrate;
@@ -363,11 +364,13 @@ final class OodCommand implements Callable<Integer> {
     @Option(names = "--html", paramLabel = "FILE", description = "Write a self-contained HTML page (inline SVG: ROC curves, score histograms).")
     Path html;
 
+    @Mixin HeaderOption header;
     @Mixin ThreadsOption threads;
     @Mixin FormatOption format;
 
     @Override
     public Integer call() {
+      CsvMatrixReader.Header h = header.of(in, outFile, inFloats, outFloats, trainFloats);
       OutputFiles.Input[] inputs = {new OutputFiles.Input("--in", in), new OutputFiles.Input("--out", outFile),
           new OutputFiles.Input("--in-floats", inFloats), new OutputFiles.Input("--out-floats", outFloats),
           new OutputFiles.Input("--train-floats", trainFloats)};
@@ -385,7 +388,7 @@ final class OodCommand implements Callable<Integer> {
           if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
           r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats,
               GivenOptions.given(spec, "--candidates") ? candidates : 0,
-              score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
+              score == null ? null : OodScorer.Kind.parse(score), threads.resolved(), h), bar);
         }
       }
       List<OodEval.Scored> scores = r.scores();

@@ -100,14 +100,7 @@ class CsvColumnNamesEndToEndTest {
   @Test
   void modelInputsAndCompareSamplesWithReorderedColumnsAreRefused() throws Exception {
     SplittableRandom rnd = new SplittableRandom(13);
-    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
-    double[] w0 = new double[4 * D], w1 = new double[2 * 4];
-    for (int i = 0; i < w0.length; i++) w0[i] = rnd.nextDouble(-1, 1);
-    for (int i = 0; i < w1.length; i++) w1[i] = rnd.nextDouble(-1, 1);
-    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {4, D}, w0));
-    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, 4}, w1));
-    Path model = tmp.resolve("mlp.safetensors");
-    SafetensorsWriter.write(model, t, Map.of());
+    Path model = mlp("mlp.safetensors", 4, rnd);
     float[][] train = SourcesEndToEndTest.activations(30, D, rnd), query = SourcesEndToEndTest.activations(4, D, rnd);
     List<String> features = List.of("mean radius", "mean texture", "area, worst", "smoothness \"se\"", "x4", "x5");
     Path inputs = csv("inputs.csv", train, features, SAME);
@@ -192,31 +185,174 @@ class CsvColumnNamesEndToEndTest {
     assertThat(r.err()).as(r.describe()).contains("sample A");
   }
 
-  /**
-   * A first line --header auto cannot decide on is refused; compare, dupes --against, fidelity and
-   * ood eval take no --header, so the refusal must name a way out that they accept (a first line of
-   * names), and following it must work.
-   */
-  @Test
-  void anUndecidableFirstLineNamesAWayOutForCommandsWithoutHeaderOption() {
-    SplittableRandom rnd = new SplittableRandom(16);
-    float[][] rows = SourcesEndToEndTest.activations(20, D, rnd);
-    for (int c = 0; c < D; c++) rows[0][c] = c + 1; // a first row of evenly spaced numbers: 1, 2, ..., D
+  /** A two-layer MLP (D inputs, {@code hidden} units, 2 outputs) with random weights, as safetensors. */
+  private Path mlp(String name, int hidden, SplittableRandom rnd) throws Exception {
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    double[] w0 = new double[hidden * D], w1 = new double[2 * hidden];
+    for (int i = 0; i < w0.length; i++) w0[i] = rnd.nextDouble(-1, 1);
+    for (int i = 0; i < w1.length; i++) w1[i] = rnd.nextDouble(-1, 1);
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {hidden, D}, w0));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, hidden}, w1));
+    Path model = tmp.resolve(name);
+    SafetensorsWriter.write(model, t, Map.of());
+    return model;
+  }
+
+  /** A number in a command's JSON output, by its path of member names. */
+  private static long jsonNumber(Cli.Result r, String... path) {
+    assertThat(r.code()).as(r.describe()).isZero();
+    Object v = io.actindex.encode.io.Json.parse(r.out());
+    for (String name : path) v = ((Map<?, ?>) v).get(name);
+    return ((Number) v).longValue();
+  }
+
+  /** Rows without a header whose first row is 1, 2, ..., D: evenly spaced numbers, which --header auto refuses. */
+  private Path undecided(String name, float[][] rows) {
+    for (int c = 0; c < D; c++) rows[0][c] = c + 1;
     List<String> lines = new ArrayList<>();
     for (float[] r : rows) {
       StringBuilder sb = new StringBuilder();
-      for (float v : r) sb.append(sb.isEmpty() ? "" : ",").append(String.format(Locale.ROOT, "%s", v == Math.rint(v) ? Integer.toString((int) v) : v));
+      for (float v : r) sb.append(sb.isEmpty() ? "" : ",").append(v == Math.rint(v) ? Integer.toString((int) v) : Float.toString(v));
       lines.add(sb.toString());
     }
-    Path undecided = Files2.text(tmp.resolve("undecided.csv"), lines);
-    Path other = csv("other.csv", SourcesEndToEndTest.activations(20, D, rnd), null, SAME);
-    Cli.Result r = Cli.run("compare", "--a", undecided.toString(), "--b", other.toString(), "--permutations", "20");
-    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
-    assertThat(r.err()).as(r.describe()).contains("undecided.csv").contains("line of column names");
-    List<String> named = new ArrayList<>(List.of(String.join(",", names("h"))));
-    named.addAll(lines);
-    Cli.Result ok = Cli.run("compare", "--a", Files2.text(tmp.resolve("named.csv"), named).toString(), "--b", other.toString(),
-        "--permutations", "20");
+    return Files2.text(tmp.resolve(name), lines);
+  }
+
+  /**
+   * compare, dupes --against, fidelity and ood eval take --header as the query commands do: a first
+   * line --header auto cannot decide on is refused naming the option, and --header no (data) or yes
+   * (a header) reads it, for every CSV file the command reads: one row more or fewer.
+   */
+  @Test
+  void everyCommandThatReadsCsvDataTakesHeader() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(16);
+    Path undecided = undecided("undecided.csv", SourcesEndToEndTest.activations(20, D, rnd));
+    Path other = Files2.floats(tmp.resolve("other.npy"), SourcesEndToEndTest.activations(20, D, rnd)); // --header applies to CSV files only
+    Path train = Files2.floats(tmp.resolve("train.npy"), SourcesEndToEndTest.activations(40, D, rnd));
+    Path idx = tmp.resolve("idx");
+    for (String[] args : List.of(new String[] {"build", "--out", idx.toString(), "--activations", train.toString()},
+        new String[] {"ood", "calibrate", "--index", idx.toString(), "--activations", Files2.floats(tmp.resolve("cal.npy"),
+            SourcesEndToEndTest.activations(20, D, rnd)).toString()})) {
+      Cli.Result r = Cli.run(args);
+      assertThat(r.code()).as(r.describe()).isZero();
+    }
+    Path modelIdx = tmp.resolve("model-idx");
+    Cli.Result built = Cli.run("build", "--out", modelIdx.toString(), "--model", mlp("mlp.safetensors", 4, rnd).toString(), "--inputs",
+        undecided.toString(), "--header", "no");
+    assertThat(built.code()).as(built.describe()).isZero();
+
+    record Use(String[] args, String... rows) {}
+    String u = undecided.toString();
+    List<Use> uses = List.of(
+        new Use(new String[] {"compare", "--a", u, "--b", other.toString(), "--permutations", "20"}, "a", "rows"),
+        new Use(new String[] {"compare", "--a", other.toString(), "--b", u, "--permutations", "20"}, "b", "rows"),
+        new Use(new String[] {"dupes", "--index", idx.toString(), "--radius", "1", "--against", u}, "summary", "rows"),
+        new Use(new String[] {"fidelity", "--activations", u, "-k", "3"}, "examples"),
+        new Use(new String[] {"ood", "eval", "--index", idx.toString(), "--in", u, "--out", other.toString(), "--kind", "activations"}, "in"),
+        new Use(new String[] {"ood", "eval", "--index", idx.toString(), "--in", other.toString(), "--out", u, "--kind", "activations"}, "out"),
+        new Use(new String[] {"ood", "eval", "--index", idx.toString(), "--in", other.toString(), "--out", other.toString(), "--kind",
+            "activations", "--in-floats", other.toString(), "--out-floats", other.toString(), "--train-floats", u}),
+        new Use(new String[] {"fidelity", "--index", modelIdx.toString(), "--inputs", u, "-k", "3"}));
+    for (Use use : uses) {
+      Cli.Result auto = Cli.run(use.args());
+      assertThat(auto.code()).as(auto.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(auto.err()).as(auto.describe()).contains("undecided.csv").contains("--header yes");
+      List<String> args = new ArrayList<>(List.of(use.args()));
+      args.addAll(List.of("--format", "json", "--header", "no"));
+      Cli.Result data = Cli.run(args.toArray(new String[0]));
+      assertThat(data.code()).as(data.describe()).isZero();
+      if (use.rows().length == 0) continue; // floats, or inputs that must be the index's 20 rows
+      assertThat(jsonNumber(data, use.rows())).as(data.describe()).isEqualTo(20);
+      args.set(args.size() - 1, "yes");
+      assertThat(jsonNumber(Cli.run(args.toArray(new String[0])), use.rows())).as("--header yes: the first line is not a row").isEqualTo(19);
+    }
+  }
+
+  /**
+   * Float files that one command reads as activations of the same units (compare's --a-floats and
+   * --b-floats; ood eval's --in-floats, --out-floats and --train-floats) are read by position, so
+   * their headers must name the same columns in the same order, as compare's --a and --b must.
+   */
+  @Test
+  void floatFilesWhoseHeadersDisagreeAreRefused() {
+    SplittableRandom rnd = new SplittableRandom(17);
+    float[][] a = SourcesEndToEndTest.activations(20, D, rnd), b = SourcesEndToEndTest.activations(20, D, rnd),
+        train = SourcesEndToEndTest.activations(40, D, rnd);
+    List<String> h = names("h");
+    Path aNpy = Files2.floats(tmp.resolve("a.npy"), a), bNpy = Files2.floats(tmp.resolve("b.npy"), b);
+    Path aCsv = csv("a.csv", a, h, SAME), bCsv = csv("b.csv", b, h, SAME), bReordered = csv("b-reordered.csv", b, h, REVERSED);
+
+    String[] compare = {"compare", "--a", aNpy.toString(), "--b", bNpy.toString(), "--permutations", "20", "--a-floats", aCsv.toString(),
+        "--b-floats"};
+    Cli.Result refused = Cli.run(concat(compare, bReordered.toString()));
+    assertRefused(refused, bReordered, "another order");
+    assertThat(refused.err()).as(refused.describe()).contains("a.csv").contains("float sample A");
+    for (Path agrees : List.of(bCsv, csv("b-bare.csv", b, null, SAME))) {
+      Cli.Result ok = Cli.run(concat(compare, agrees.toString()));
+      assertThat(ok.code()).as(ok.describe()).isZero();
+    }
+    // pandas' column numbers, reordered: a first line of other whole numbers is data under auto, a header with --header yes
+    Path aNumbered = csv("a-numbered.csv", a, names(""), SAME), bNumbered = csv("b-numbered.csv", b, names(""), new int[] {1, 0, 2, 3, 4, 5});
+    String[] numbered = {"compare", "--a", aNpy.toString(), "--b", bNpy.toString(), "--permutations", "20", "--a-floats",
+        aNumbered.toString(), "--b-floats", bNumbered.toString(), "--header", "yes"};
+    assertRefused(Cli.run(numbered), bNumbered, "another order");
+
+    Path idx = tmp.resolve("idx");
+    for (String[] args : List.of(new String[] {"build", "--out", idx.toString(), "--activations", Files2.floats(tmp.resolve("train.npy"), train).toString()},
+        new String[] {"ood", "calibrate", "--index", idx.toString(), "--activations", aNpy.toString()})) {
+      Cli.Result r = Cli.run(args);
+      assertThat(r.code()).as(r.describe()).isZero();
+    }
+    Map<String, String> before = Files2.checksums(idx);
+    Path trainCsv = csv("train.csv", train, h, SAME), trainReordered = csv("train-reordered.csv", train, h, REVERSED);
+    Path roc = tmp.resolve("roc.csv"), html = tmp.resolve("eval.html");
+    String[] eval = {"ood", "eval", "--index", idx.toString(), "--in", aNpy.toString(), "--out", bNpy.toString(), "--roc", roc.toString(),
+        "--html", html.toString()};
+    Cli.Result againstTrain = Cli.run(concat(eval, "--in-floats", aCsv.toString(), "--out-floats", bCsv.toString(), "--train-floats",
+        trainReordered.toString()));
+    assertRefused(againstTrain, aCsv, "another order");
+    assertThat(againstTrain.err()).as(againstTrain.describe()).contains("train-reordered.csv");
+    // training floats without a header: in and out are checked against each other
+    Cli.Result againstIn = Cli.run(concat(eval, "--in-floats", aCsv.toString(), "--out-floats", bReordered.toString(), "--train-floats",
+        csv("train-bare.csv", train, null, SAME).toString()));
+    assertRefused(againstIn, bReordered, "another order");
+    assertThat(againstIn.err()).as(againstIn.describe()).contains("--in-floats").contains("a.csv");
+    assertThat(roc).as("nothing written").doesNotExist();
+    assertThat(html).as("nothing written").doesNotExist();
+    assertThat(Files2.checksums(idx)).as("index unchanged").isEqualTo(before);
+    Cli.Result ok = Cli.run(concat(eval, "--in-floats", aCsv.toString(), "--out-floats", bCsv.toString(), "--train-floats", trainCsv.toString()));
     assertThat(ok.code()).as(ok.describe()).isZero();
+    assertThat(roc).exists();
+  }
+
+  /** ood eval's --in and --out against an index built from .npy (no names recorded): checked against each other, as compare's samples. */
+  @Test
+  void oodEvalInputsAgainstAnIndexWithoutNamesAreCheckedAgainstEachOther() {
+    SplittableRandom rnd = new SplittableRandom(18);
+    float[][] in = SourcesEndToEndTest.activations(20, D, rnd), out = SourcesEndToEndTest.activations(20, D, rnd);
+    Path idx = tmp.resolve("idx");
+    for (String[] args : List.of(new String[] {"build", "--out", idx.toString(), "--activations",
+        Files2.floats(tmp.resolve("train.npy"), SourcesEndToEndTest.activations(40, D, rnd)).toString()},
+        new String[] {"ood", "calibrate", "--index", idx.toString(), "--activations", Files2.floats(tmp.resolve("cal.npy"), in).toString()})) {
+      Cli.Result r = Cli.run(args);
+      assertThat(r.code()).as(r.describe()).isZero();
+    }
+    List<String> h = names("h");
+    Path inCsv = csv("in.csv", in, h, SAME), roc = tmp.resolve("roc.csv");
+    Path reordered = csv("out-reordered.csv", out, h, REVERSED);
+    Cli.Result r = Cli.run("ood", "eval", "--index", idx.toString(), "--in", inCsv.toString(), "--out", reordered.toString(), "--roc", roc.toString());
+    assertRefused(r, reordered, "another order");
+    assertThat(r.err()).as(r.describe()).contains("--in").contains("in.csv");
+    assertThat(roc).as("nothing written").doesNotExist();
+    Cli.Result ok = Cli.run("ood", "eval", "--index", idx.toString(), "--in", inCsv.toString(), "--out", csv("out.csv", out, h, SAME).toString(),
+        "--roc", roc.toString());
+    assertThat(ok.code()).as(ok.describe()).isZero();
+    assertThat(roc).exists();
+  }
+
+  private static String[] concat(String[] head, String... tail) {
+    List<String> all = new ArrayList<>(List.of(head));
+    all.addAll(List.of(tail));
+    return all.toArray(new String[0]);
   }
 }

@@ -97,7 +97,13 @@ class ModeOptionsEndToEndTest {
             "activations", "--in-floats", calActs.toString(), "--out-floats", farActs.toString(), "--train-floats", acts.toString(),
             "--roc", tmp.resolve("roc.csv").toString(), "--candidates", "50"),
         new Case("--skip-missing", 0, "delete", "--index", i, "--where", "label = nothing-has-this", "--skip-missing"),
-        new Case("--header", 1, "add", "--index", ci, "--codes", queryCodes.toString(), "--header", "no"));
+        new Case("--header", 1, "add", "--index", ci, "--codes", queryCodes.toString(), "--header", "no"),
+        new Case("--header", 1, "compare", "--a", calActs.toString(), "--b", farActs.toString(), "--permutations", "20", "--header", "no"),
+        new Case("--header", 1, "dupes", "--index", i, "--radius", "2", "--against", queries.toString(), "--header", "yes"),
+        new Case("--header", 1, "dupes", "--index", i, "--radius", "2", "--header", "yes"),
+        new Case("--header", 1, "fidelity", "--index", i, "--queries", "20", "--header", "no"),
+        new Case("--header", 1, "ood", "eval", "--index", ci, "--in", calCodes.toString(), "--out", farCodes.toString(), "--kind", "codes",
+            "--header", "no"));
     Map<String, String> before = Files2.checksums(idx), codesBefore = Files2.checksums(codesIdx), plainBefore = Files2.checksums(plainIdx);
     for (Case c : cases) {
       Cli.Result r = Cli.run(c.args());

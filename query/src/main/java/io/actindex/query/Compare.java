@@ -6,6 +6,7 @@ import io.actindex.core.CodeLayout;
 import io.actindex.core.IdSet;
 import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.MatrixReader;
 import io.actindex.encode.io.NpzReader;
 import io.actindex.index.store.IndexReader;
@@ -75,6 +76,11 @@ public final class Compare {
       return new Sample(null, expr);
     }
 
+    /** This sample with its file read under the CSV header rule {@code h}. */
+    Sample withHeader(CsvMatrixReader.Header h) {
+      return source == null ? this : new Sample(source.withHeader(h), where, kindFromIndex);
+    }
+
     String describe() {
       return source != null ? source.file().toString() : "where " + where;
     }
@@ -132,15 +138,26 @@ public final class Compare {
    * with {@code encode}, codes files read with {@code codesLayout}); {@code model}: for inputs
    * without an index; {@code aFloats}/{@code bFloats}: float activations for the full-precision
    * reference (null: the activations files themselves, if the samples are activations);
-   * {@code layers}: compare only these layers (null = all).
+   * {@code layers}: compare only these layers (null = all); {@code header}: whether the first line of
+   * every CSV file read (the samples' files, replacing their sources' own rule, and the float
+   * files) is a header (null = detect).
    */
   public record Params(Path index, Sample a, Sample b, EncodeOptions encode, CodeLayout codesLayout, Path model,
-      Path aFloats, Path bFloats, List<String> layers, Options options) {
+      Path aFloats, Path bFloats, List<String> layers, Options options, CsvMatrixReader.Header header) {
     public Params {
       if (a == null || b == null) throw new BadInputException("two samples are needed");
       if (index == null && (a.where() != null || b.where() != null))
         throw new BadInputException("--a-where and --b-where need --index");
       layers = layers == null ? List.of() : List.copyOf(layers);
+      if (header == null) header = CsvMatrixReader.Header.AUTO;
+      a = a.withHeader(header);
+      b = b.withHeader(header);
+    }
+
+    /** CSV first lines detected ({@link CsvMatrixReader.Header#AUTO}). */
+    public Params(Path index, Sample a, Sample b, EncodeOptions encode, CodeLayout codesLayout, Path model, Path aFloats, Path bFloats,
+        List<String> layers, Options options) {
+      this(index, a, b, encode, codesLayout, model, aFloats, bFloats, layers, options, CsvMatrixReader.Header.AUTO);
     }
   }
 
@@ -203,7 +220,11 @@ public final class Compare {
     }
     checkRows(a, sa, "A");
     checkRows(b, sb, "B");
-    FloatSample fa = floats(p.aFloats(), sa, p.layers(), "A"), fb = floats(p.bFloats(), sb, p.layers(), "B");
+    FloatFile ffa = floats(p.aFloats(), sa, p, "A"), ffb = floats(p.bFloats(), sb, p, "B");
+    FloatSample fa = ffa == null ? null : ffa.values(), fb = ffb == null ? null : ffb.values();
+    if (fa != null && fb != null) // both hold activations of the same units: read by position like the samples
+      SourceColumns.check(ffa.columns(), "float sample A (" + floatsFile(p.aFloats(), sa) + ")", ffb.columns(),
+          floatsFile(p.bFloats(), sb).toString());
     if (fa != null && fb != null && fa.cols() != fb.cols()) {
       throw new BadInputException(floatsFile(p.bFloats(), sb) + ": float sample B has " + fb.cols()
           + " columns, float sample A (" + floatsFile(p.aFloats(), sa) + ") " + fa.cols());
@@ -356,7 +377,8 @@ public final class Compare {
   /** The sample with its file's kind settled by the index, when it was not given. */
   private static Sample ofIndexKind(IndexReader reader, Sample s) {
     if (!s.kindFromIndex()) return s;
-    return Sample.file(new Source(QuerySource.kindOf(reader, s.source().file(), "--kind"), s.source().file(), null));
+    Source src = s.source();
+    return Sample.file(new Source(QuerySource.kindOf(reader, src.file(), src.header(), "--kind"), src.file(), null, src.header()));
   }
 
   /** A sample's codes (and a file's column names) from the index: a file encoded as the index was built, or the examples --where selects. */
@@ -409,12 +431,16 @@ public final class Compare {
         + ") have " + codes.size() + "; " + option + " must hold the same examples in the same order");
   }
 
+  /** A float matrix and its file's column names (a CSV header; null when none). */
+  record FloatFile(FloatSample values, List<String> columns) {}
+
   /** Floats of a sample: the given file, else the sample's own activations file, else null. */
-  private static FloatSample floats(Path given, Sample s, List<String> layers, String which) {
+  private static FloatFile floats(Path given, Sample s, Params p, String which) {
     Path file = floatsFile(given, s);
     if (file == null) return null;
-    FloatSample f = readFloats(file, layers);
-    if (f.rows() < 2) throw new BadInputException(file + ": float sample " + which + " has " + f.rows() + " rows; at least 2 are needed");
+    FloatFile f = readFloats(file, p.layers(), p.header());
+    int rows = f.values().rows();
+    if (rows < 2) throw new BadInputException(file + ": float sample " + which + " has " + rows + " rows; at least 2 are needed");
     return f;
   }
 
@@ -423,8 +449,13 @@ public final class Compare {
     return given != null ? given : s.source() != null && s.source().kind() == Source.Kind.ACTIVATIONS ? s.source().file() : null;
   }
 
-  /** A float matrix: {@code .npy}/{@code .csv}, or {@code .npz} members (the named layers, else all) side by side. */
+  /** A float matrix: {@code .npy}/{@code .csv} (a CSV header detected), or {@code .npz} members (the named layers, else all) side by side. */
   static FloatSample readFloats(Path file, List<String> layers) {
+    return readFloats(file, layers, CsvMatrixReader.Header.AUTO).values();
+  }
+
+  /** As {@link #readFloats(Path, List)}, a CSV file's first line read under {@code header}; with its column names. */
+  static FloatFile readFloats(Path file, List<String> layers, CsvMatrixReader.Header header) {
     try {
       if (file.getFileName().toString().toLowerCase(Locale.ROOT).endsWith(".npz")) {
         try (NpzReader z = NpzReader.open(file)) {
@@ -438,11 +469,11 @@ public final class Compare {
             }
           }
           if (out == null) throw new BadInputException(file + ": no arrays");
-          return out;
+          return new FloatFile(out, null);
         }
       }
-      try (MatrixReader r = Encoders.openMatrix(file)) {
-        return readAll(r);
+      try (MatrixReader r = Encoders.openMatrix(file, header)) {
+        return new FloatFile(readAll(r), r.columnNames());
       }
     } catch (IOException e) {
       throw new UncheckedIOException(file + ": " + e.getMessage(), e);

@@ -6,6 +6,7 @@ import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
 import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.MatrixReader;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.Magnitudes;
@@ -83,10 +84,13 @@ public final class Fidelity {
       double overlap, double spearman, int pairs, double tiedShare, double meanKthDistance, Accuracy accuracy,
       String verdict) {}
 
-  /** Rows of an activations file (one layer per .npz member), labels from the metadata CSV (nullable). */
-  public static Data fromActivations(Path file, MetaCsv.Options meta, int bits, Progress progress) {
+  /**
+   * Rows of an activations file (one layer per .npz member), labels from the metadata CSV (nullable);
+   * {@code header}: whether a CSV file's first line is a header (null = detect).
+   */
+  public static Data fromActivations(Path file, CsvMatrixReader.Header header, MetaCsv.Options meta, int bits, Progress progress) {
     if (!Magnitudes.supported(bits)) throw new BadInputException("bits per kept magnitude must be 2, 4 or 8, got " + bits);
-    Encoding.Read read = Encoding.read(Source.activations(file), null, EncodeOptions.positive(), null, RowRange.ALL,
+    Encoding.Read read = Encoding.read(Source.activations(file).withHeader(header), null, EncodeOptions.positive(), null, RowRange.ALL,
         Encoding.CHUNK, progress == null ? Progress.NONE : progress, true);
     CodeBlock codes = read.codes();
     int n = codes.size(), d = codes.layout().bits();
@@ -107,9 +111,9 @@ public final class Fidelity {
    * The live rows of an index. Floats: the model's activations on {@code inputs} when given (the
    * rows the index was built from, in id order; the index must hold the model, and every live
    * row must give its stored code), else the kept magnitudes, dequantised. Labels from the
-   * metadata store.
+   * metadata store. {@code header}: whether the first line of {@code inputs}, a CSV file, is a header (null = detect).
    */
-  public static Data fromIndex(IndexReader r, Path inputs, Progress progress) {
+  public static Data fromIndex(IndexReader r, Path inputs, CsvMatrixReader.Header header, Progress progress) {
     int n = r.liveCount(), d = r.layout().bits();
     int[] ids = new int[n];
     CodeBlock codes = r.liveCodes(ids);
@@ -132,7 +136,7 @@ public final class Fidelity {
     if (!BuildInfo.fromProperties(r.properties(), r.dir().toString()).hasModel())
       throw new BadInputException(inputs + ": --inputs needs an index built from a model (build --model), and index " + r.dir()
           + " holds none; leave --inputs out to measure on its kept magnitudes");
-    QuerySource.Encoded enc = QuerySource.encode(r, Source.inputs(inputs, null), RowRange.ALL, Encoding.CHUNK, progress,
+    QuerySource.Encoded enc = QuerySource.encode(r, Source.inputs(inputs, null).withHeader(header), RowRange.ALL, Encoding.CHUNK, progress,
         "inputs", new java.util.ArrayList<>(), true);
     if (enc.codes().size() != r.maxId())
       throw new BadInputException(inputs + ": " + enc.codes().size() + " rows, but index " + r.dir() + " was built from "
@@ -144,7 +148,7 @@ public final class Fidelity {
             + "; give the inputs the index was built from, in id order");
       System.arraycopy(enc.activations(), ids[i] * d, floats, i * d, d);
     }
-    float[][] raw = readMatrix(inputs);
+    float[][] raw = readMatrix(inputs, header);
     float[] in = new float[Math.multiplyExact(n, raw[0].length)];
     int width = raw[0].length;
     for (int i = 0; i < n; i++) System.arraycopy(raw[1], ids[i] * width, in, i * width, width);
@@ -152,8 +156,8 @@ public final class Fidelity {
   }
 
   /** {@code [0]} has the width as its length, {@code [1]} the rows (row-major). */
-  private static float[][] readMatrix(Path file) {
-    try (MatrixReader m = Encoders.openMatrix(file)) {
+  private static float[][] readMatrix(Path file, CsvMatrixReader.Header header) {
+    try (MatrixReader m = Encoders.openMatrix(file, header)) {
       int cols = m.cols();
       double[] chunk = new double[4096 * cols];
       float[] all = new float[0];

@@ -2,12 +2,14 @@ package io.actindex.query;
 
 import io.actindex.core.BadInputException;
 import io.actindex.encode.Encoders;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.MatrixReader;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Path;
 import io.actindex.core.Hits;
 import java.util.Arrays;
+import java.util.List;
 
 /**
  * The k-NN score on full-precision activations, the reference the code score is compared with:
@@ -17,24 +19,42 @@ import java.util.Arrays;
  */
 public final class FloatKnnScore {
   private final double[][] train;
+  private final Path trainFile;
+  private final List<String> trainColumns;
+  private final CsvMatrixReader.Header header;
 
-  /** Reads the training activations (.npy or .csv, one row per training example) and normalises them. */
-  public FloatKnnScore(Path trainFile) {
-    this.train = normalised(read(trainFile), trainFile);
+  /**
+   * Reads the training activations (.npy or .csv, one row per training example) and normalises
+   * them; the first line of every CSV file (training and queries) is read under {@code header} (null = detect).
+   */
+  public FloatKnnScore(Path trainFile, CsvMatrixReader.Header header) {
+    this.header = header == null ? CsvMatrixReader.Header.AUTO : header;
+    Matrix m = read(trainFile, this.header);
+    this.train = normalised(m.rows(), trainFile);
+    this.trainFile = trainFile;
+    this.trainColumns = m.columns();
     if (train.length == 0) throw new BadInputException(trainFile + ": no rows");
   }
+
+  /** The rows of a file of floats, normalised, and its column names (a CSV header; null when none). */
+  public record Queries(double[][] rows, List<String> columns) {}
 
   /** Number of training rows. */
   public int rows() {
     return train.length;
   }
 
-  /** The rows of a query file, normalised, checked against the training width. */
-  public double[][] queries(Path file) {
-    double[][] q = normalised(read(file), file);
+  /**
+   * The rows of a query file, normalised, checked against the training width and, when both files
+   * have a header, the training header (columns are read by position: {@link SourceColumns#check}).
+   */
+  public Queries queries(Path file) {
+    Matrix m = read(file, header);
+    SourceColumns.check(trainColumns, "the training floats (" + trainFile + ")", m.columns(), file.toString());
+    double[][] q = normalised(m.rows(), file);
     if (q.length > 0 && q[0].length != train[0].length)
       throw new BadInputException(file + ": rows have " + q[0].length + " values, the training floats have " + train[0].length);
-    return q;
+    return new Queries(q, m.columns());
   }
 
   /** The k-th nearest normalised distance of every query row, over every training row. */
@@ -91,14 +111,16 @@ public final class FloatKnnScore {
     return rows;
   }
 
-  static double[][] read(Path file) {
-    try (MatrixReader r = Encoders.openMatrix(file)) {
+  private record Matrix(double[][] rows, List<String> columns) {}
+
+  private static Matrix read(Path file, CsvMatrixReader.Header header) {
+    try (MatrixReader r = Encoders.openMatrix(file, header)) {
       int cols = r.cols();
       double[] buf = new double[1024 * cols];
-      java.util.List<double[]> rows = new java.util.ArrayList<>();
+      List<double[]> rows = new java.util.ArrayList<>();
       int m;
       while ((m = r.read(buf, 1024)) > 0) for (int i = 0; i < m; i++) rows.add(Arrays.copyOfRange(buf, i * cols, (i + 1) * cols));
-      return rows.toArray(new double[0][]);
+      return new Matrix(rows.toArray(new double[0][]), r.columnNames());
     } catch (IOException e) {
       throw new UncheckedIOException(file + ": " + e.getMessage(), e);
     }

@@ -5,6 +5,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.edge.EdgeBundle.Statistic;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -37,18 +38,23 @@ public final class OodEval {
    * refused). With a refined calibration, {@code refined} is the score from the index's kept
    * magnitudes (the calibration's candidates), and the training floats feed only the float score.
    * {@code threads >= 1}: inputs searched and scored in parallel (the same result for any count).
+   * {@code header}: whether the first line of every CSV file read (in and out, replacing their
+   * sources' own rule, and the float files) is a header (null = detect).
    */
   public record Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates, OodScorer.Kind score,
-      int threads) {
+      int threads, CsvMatrixReader.Header header) {
     public Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats) {
-      this(in, out, inFloats, outFloats, trainFloats, 0, null, 1);
+      this(in, out, inFloats, outFloats, trainFloats, 0, null, 1, null);
     }
 
     public Params(Source in, Source out, Path inFloats, Path outFloats, Path trainFloats, int candidates, OodScorer.Kind score) {
-      this(in, out, inFloats, outFloats, trainFloats, candidates, score, 1);
+      this(in, out, inFloats, outFloats, trainFloats, candidates, score, 1, null);
     }
 
     public Params {
+      if (header == null) header = CsvMatrixReader.Header.AUTO;
+      in = in.withHeader(header);
+      out = out.withHeader(header);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
       if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
       int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
@@ -93,6 +99,8 @@ public final class OodEval {
           + " calibration re-ranks its own " + OodCalibration.scoring(reader).candidates() + " candidates (set at ood calibrate)");
     QuerySource.Queries inQ = scorer.load(p.in(), RowRange.ALL), outQ = scorer.load(p.out(), RowRange.ALL);
     QueryCodes in = inQ.codes(), out = outQ.codes();
+    // each was checked against the build's header; against each other too (an index built from .npy records none)
+    SourceColumns.check(in.columns(), "--in (" + p.in().file() + ")", out.columns(), p.out().file().toString());
     if (in.size() == 0) throw new BadInputException(p.in().file() + ": no rows; ood eval needs rows in both --in and --out");
     if (out.size() == 0) throw new BadInputException(p.out().file() + ": no rows; ood eval needs rows in both --in and --out");
     // k values and layer sets of the breakdown; one k-NN search per input and layer set
@@ -120,8 +128,11 @@ public final class OodEval {
     Scored floats = null, refined = null;
     List<String> warnings = new ArrayList<>();
     if (p.trainFloats() != null) {
-      FloatKnnScore f = new FloatKnnScore(p.trainFloats());
-      double[][] qa = f.queries(p.inFloats()), qb = f.queries(p.outFloats());
+      FloatKnnScore f = new FloatKnnScore(p.trainFloats(), p.header());
+      FloatKnnScore.Queries fa = f.queries(p.inFloats()), fb = f.queries(p.outFloats());
+      // each was checked against the training floats' header; against each other too (the training floats may have none)
+      SourceColumns.check(fa.columns(), "--in-floats (" + p.inFloats() + ")", fb.columns(), p.outFloats().toString());
+      double[][] qa = fa.rows(), qb = fb.rows();
       if (qa.length != in.size())
         throw new BadInputException(p.inFloats() + ": " + qa.length + " rows of floats, but --in " + p.in().file() + " has " + in.size()
             + "; --in-floats must hold the same inputs in the same order");

@@ -4,6 +4,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.encode.Encoders;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.MatrixReader;
 import io.actindex.encode.io.SafetensorsReader;
 import io.actindex.encode.mlp.Mlp;
@@ -32,8 +33,8 @@ public final class QuerySource {
   public static QueryCodes load(IndexReader reader, Source source, RowRange rows, Progress progress) {
     RowRange range = rows == null ? RowRange.ALL : rows;
     java.util.List<String> notes = new java.util.ArrayList<>();
-    CodeBlock codes = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes);
-    return new QueryCodes(codes, range.from(), notes);
+    Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, false);
+    return new QueryCodes(e.codes(), range.from(), notes, e.columns());
   }
 
   /**
@@ -49,7 +50,7 @@ public final class QuerySource {
     RowRange range = rows == null ? RowRange.ALL : rows;
     java.util.List<String> notes = new java.util.ArrayList<>();
     Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, true);
-    return new Queries(new QueryCodes(e.codes(), range.from(), notes), e.activations());
+    return new Queries(new QueryCodes(e.codes(), range.from(), notes, e.columns()), e.activations());
   }
 
   /**
@@ -58,15 +59,16 @@ public final class QuerySource {
    * one-matrix file whose width fits the codes ({@link Layers#align}: the index layout or the
    * model's hidden layers) and not the model's inputs holds hidden activations. A width that fits
    * both cannot be told apart: refused, naming the file and asking for the kind ({@code option}).
+   * {@code header}: whether a CSV file's first line is a header.
    */
-  public static Source.Kind kindOf(IndexReader reader, Path file, String option) {
+  public static Source.Kind kindOf(IndexReader reader, Path file, CsvMatrixReader.Header header, String option) {
     BuildInfo info = BuildInfo.fromProperties(reader.properties(), reader.dir().toString());
     if (info.kind() != Source.Kind.INPUTS) return info.kind();
     String name = file.getFileName().toString().toLowerCase(Locale.ROOT);
     if (name.endsWith(".npz")) return Source.Kind.ACTIVATIONS; // one array per layer; inputs are one matrix
     byte[] model = reader.attachment(BuildInfo.MODEL);
     if (model == null || !(name.endsWith(".npy") || name.endsWith(".csv"))) return Source.Kind.INPUTS; // the reader says what is wrong
-    try (MatrixReader m = Encoders.openMatrix(file); SafetensorsReader r = SafetensorsReader.open(BuildInfo.MODEL, model)) {
+    try (MatrixReader m = Encoders.openMatrix(file, header); SafetensorsReader r = SafetensorsReader.open(BuildInfo.MODEL, model)) {
       long cols = m.cols();
       int inputs;
       try {
@@ -92,13 +94,10 @@ public final class QuerySource {
    */
   record Encoded(CodeBlock codes, float[] activations, java.util.List<String> columns) {}
 
-  /** Encodes {@code source} with the index's stored options and aligns it to the index layout. */
-  static CodeBlock encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
-      java.util.List<String> notes) {
-    return encode(reader, source, range, chunk, progress, what, notes, false).codes();
-  }
-
-  /** As above, keeping the activations (null for a codes source) when {@code activations}. */
+  /**
+   * Encodes {@code source} with the index's stored options and aligns it to the index layout,
+   * keeping the activations (null for a codes source) when {@code activations}.
+   */
   static Encoded encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
       java.util.List<String> notes, boolean activations) {
     BuildInfo info = BuildInfo.fromProperties(reader.properties(), "index");

@@ -89,7 +89,7 @@ class DigitsRefineTest {
           }
         }
         if (bits == 8) {
-          Fidelity.Result f = Fidelity.run(Fidelity.fromIndex(r, train, null), new Fidelity.Params(nTrain, 1, 100, 20000, 1, 2), null);
+          Fidelity.Result f = Fidelity.run(Fidelity.fromIndex(r, train, null, null), new Fidelity.Params(nTrain, 1, 100, 20000, 1, 2), null);
           System.out.println("digits fidelity (train rows, leave one out): " + f);
         }
       }

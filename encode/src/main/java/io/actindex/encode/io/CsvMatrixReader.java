@@ -114,13 +114,8 @@ public final class CsvMatrixReader implements MatrixReader {
 
   private static final Pattern LABEL_HEADER = Pattern.compile("label|labels|target|class|y", Pattern.CASE_INSENSITIVE);
 
-  /**
-   * The way out of a first line AUTO cannot decide on. Some commands take no {@code --header}
-   * (compare, dupes --against, fidelity, ood eval): for them, a first line of names that are not
-   * numbers is a header, and a file that begins with one is read the same everywhere.
-   */
-  static final String HEADER_CHOICE = "pass --header yes (a header) or --header no (data), or, for a command without --header (compare,"
-      + " dupes --against, fidelity, ood eval), begin the file with a line of column names that are not numbers";
+  /** The way out of a first line AUTO cannot decide on: every command that reads CSV data takes {@code --header}. */
+  static final String HEADER_CHOICE = "pass --header yes (a header) or --header no (data)";
 
   /** The AUTO rule; adds the note saying what was chosen. */
   private boolean detect(String[] f, long firstLine) {
