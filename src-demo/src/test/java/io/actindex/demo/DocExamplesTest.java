@@ -1,0 +1,250 @@
+package io.actindex.demo;
+
+import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatIllegalArgumentException;
+
+import io.actindex.cli.Main;
+import java.io.IOException;
+import java.io.PrintWriter;
+import java.io.StringWriter;
+import java.io.UncheckedIOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.HashSet;
+import java.util.LinkedHashMap;
+import java.util.List;
+import java.util.Map;
+import java.util.Set;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
+import java.util.stream.Stream;
+import org.junit.jupiter.api.Tag;
+import org.junit.jupiter.api.Test;
+import org.junit.jupiter.api.io.TempDir;
+
+/**
+ * Every command line of the documentation that runs on the demo's files still runs as written.
+ *
+ * <p>Collects, from the fenced code blocks of README.md and docs/**.md, each line that starts with
+ * {@code bin/actindex } and names a file under {@code actindex-demo/} (continuation lines ending in
+ * {@code \} joined). The demo runs once into a temporary folder; each page then gets a fresh copy of
+ * it and runs its examples in the order written (an example may use what an earlier one on the page
+ * wrote, e.g. a calibration), in-process through {@link Main#run}. {@code actindex-demo} becomes the
+ * copy, the value of an output option ({@link #OUTPUTS}) a file in a scratch folder of the page.
+ * Expected: exit 0, or the code a trailing comment states ({@code # refused: exit 2}).
+ */
+class DocExamplesTest {
+  @TempDir Path tmp;
+
+  /** Options whose value is a file or folder the command writes. */
+  static final Set<String> OUTPUTS = Set.of("--out", "--pairs", "--html", "--roc", "--c-source");
+
+  /**
+   * Examples that need files the demo does not write, with the reason (command line as the doc
+   * writes it, continuation lines joined by one space). Each must still be found in the docs.
+   */
+  static final Map<String, String> NOT_RUNNABLE = Map.of();
+
+  private static final Pattern EXIT = Pattern.compile("\\bexit (\\d+)\\b");
+
+  record Example(String file, int line, String command, int expectedExit) {
+    String where() {
+      return file + ":" + line;
+    }
+  }
+
+  @Test
+  @Tag("slow")
+  void everyDemoExampleOfTheDocsRuns() throws IOException {
+    Path root = repositoryRoot();
+    List<Example> examples = new ArrayList<>();
+    for (Path doc : docs(root)) examples.addAll(examples(root.relativize(doc).toString(), Files.readAllLines(doc)));
+    assertThat(examples).as("examples found in the docs").isNotEmpty();
+    Set<String> found = new HashSet<>();
+    examples.forEach(e -> found.add(e.command()));
+    assertThat(found).as("every NOT_RUNNABLE entry is still in the docs").containsAll(NOT_RUNNABLE.keySet());
+
+    Path demo = tmp.resolve("demo");
+    String[] made = run("demo", "--out", demo.toString());
+    assertThat(made[0]).as("the demo: " + made[1] + made[2]).isEqualTo("0");
+
+    Map<String, List<Example>> byFile = new LinkedHashMap<>();
+    for (Example e : examples) byFile.computeIfAbsent(e.file(), f -> new ArrayList<>()).add(e);
+    List<String> failures = new ArrayList<>();
+    int ran = 0, page = 0;
+    for (List<Example> onPage : byFile.values()) {
+      Path folder = tmp.resolve("page" + page++);
+      Path copy = copyTree(demo, folder.resolve("actindex-demo"));
+      Path scratch = Files.createDirectories(folder.resolve("out"));
+      for (Example e : onPage) {
+        if (NOT_RUNNABLE.containsKey(e.command())) continue;
+        ran++;
+        String[] args;
+        try {
+          args = arguments(e.command(), copy, scratch);
+        } catch (IllegalArgumentException cannot) {
+          failures.add(e.where() + ": cannot run as written (" + cannot.getMessage() + "): " + e.command());
+          continue;
+        }
+        String[] r = run(args);
+        if (!r[0].equals(Integer.toString(e.expectedExit()))) {
+          failures.add(e.where() + ": exit " + r[0] + ", expected " + e.expectedExit() + ": " + e.command()
+              + "\n  stderr: " + r[2].strip().replace("\n", "\n          "));
+        }
+      }
+    }
+    System.out.printf("doc examples: %d found, %d run, %d listed as not runnable%n", examples.size(), ran,
+        examples.size() - ran);
+    assertThat(failures).as("doc examples that no longer run as written").isEmpty();
+  }
+
+  @Test
+  void collectsDemoLinesOfFencedBlocksOnly() {
+    List<String> page = List.of(
+        "bin/actindex nearest --index actindex-demo/index       (outside a block: prose)",
+        "```",
+        "# a comment line naming actindex-demo/index",
+        "bin/actindex demo        # writes actindex-demo/windows.npy",
+        "bin/actindex-cluster dupes --codes actindex-demo/codes.parquet",
+        "bin/actindex compare --index actindex-demo/index \\",
+        "    --a-where \"split = train\" --b-where 'line = L1' --top 5   # no difference expected",
+        "bin/actindex dupes --index actindex-demo/index --radius -1   # refused: exit 2",
+        "bin/actindex build --out my-index --activations train_acts.npy",
+        "```");
+    assertThat(examples("p.md", page)).containsExactly(
+        new Example("p.md", 6, "bin/actindex compare --index actindex-demo/index --a-where \"split = train\" --b-where 'line = L1' --top 5", 0),
+        new Example("p.md", 8, "bin/actindex dupes --index actindex-demo/index --radius -1", 2));
+  }
+
+  @Test
+  void rewritesTheDemoFolderAndOutputsAndRefusesShellSyntax() {
+    Path demo = Path.of("/d/actindex-demo"), scratch = Path.of("/s");
+    assertThat(arguments("bin/actindex ood eval --index actindex-demo/index --in actindex-demo/a.npy --out actindex-demo/b.npy "
+        + "--html ood.html --where \"split = test\"", demo, scratch)).containsExactly(
+        "ood", "eval", "--index", "/d/actindex-demo/index", "--in", "/d/actindex-demo/a.npy", "--out", "/d/actindex-demo/b.npy",
+        "--html", "/s/ood.html", "--where", "split = test");
+    for (String shell : List.of("bin/actindex x --inputs actindex-demo/a.npy < in.csv", "bin/actindex x --index $IDX",
+        "bin/actindex x --where 'split = test"))
+      assertThatIllegalArgumentException().as(shell).isThrownBy(() -> arguments(shell, demo, scratch));
+  }
+
+  /** The folder above the working directory (Maven: the module's) that holds README.md and docs/. */
+  static Path repositoryRoot() {
+    for (Path p = Path.of("").toAbsolutePath(); p != null; p = p.getParent()) {
+      if (Files.isRegularFile(p.resolve("README.md")) && Files.isDirectory(p.resolve("docs/commands"))) return p;
+    }
+    throw new IllegalStateException("no folder above " + Path.of("").toAbsolutePath() + " holds README.md and docs/commands");
+  }
+
+  static List<Path> docs(Path root) throws IOException {
+    List<Path> docs = new ArrayList<>(List.of(root.resolve("README.md")));
+    try (Stream<Path> s = Files.walk(root.resolve("docs"))) {
+      s.filter(p -> p.toString().endsWith(".md")).sorted().forEach(docs::add);
+    }
+    return docs;
+  }
+
+  /** The demo examples of one page: command lines in fenced blocks, continuations joined. */
+  static List<Example> examples(String file, List<String> lines) {
+    List<Example> out = new ArrayList<>();
+    boolean fenced = false;
+    for (int i = 0; i < lines.size(); i++) {
+      String line = lines.get(i).strip();
+      if (line.startsWith("```")) {
+        fenced = !fenced;
+        continue;
+      }
+      if (!fenced) continue;
+      int first = i;
+      StringBuilder joined = new StringBuilder();
+      while (line.endsWith("\\") && i + 1 < lines.size()) {
+        joined.append(line, 0, line.length() - 1).append(' ');
+        line = lines.get(++i).strip();
+      }
+      String text = joined.append(line).toString().replaceAll("\\s+", " ");
+      int hash = commentStart(text);
+      String command = (hash < 0 ? text : text.substring(0, hash)).strip();
+      if (!command.startsWith("bin/actindex ") || !command.contains("actindex-demo/")) continue;
+      Matcher m = EXIT.matcher(hash < 0 ? "" : text.substring(hash));
+      out.add(new Example(file, first + 1, command, m.find() ? Integer.parseInt(m.group(1)) : 0));
+    }
+    return out;
+  }
+
+  /** Where an unquoted {@code #} starts a word (a shell comment), or -1. */
+  private static int commentStart(String s) {
+    char quote = 0;
+    for (int i = 0; i < s.length(); i++) {
+      char c = s.charAt(i);
+      if (quote != 0) {
+        if (c == quote) quote = 0;
+      } else if (c == '"' || c == '\'') {
+        quote = c;
+      } else if (c == '#' && (i == 0 || Character.isWhitespace(s.charAt(i - 1)))) {
+        return i;
+      }
+    }
+    return -1;
+  }
+
+  /**
+   * The arguments after {@code bin/actindex}: shell words (plain double and single quotes), with
+   * {@code actindex-demo} replaced by {@code demo} and output values moved into {@code scratch}.
+   * Refuses what an in-process run cannot do (redirections, pipes, variables, globs).
+   */
+  static String[] arguments(String command, Path demo, Path scratch) {
+    List<String> words = new ArrayList<>();
+    StringBuilder word = null;
+    char quote = 0;
+    for (char c : command.substring("bin/actindex ".length()).toCharArray()) {
+      if (quote != 0) {
+        if (c == quote) quote = 0;
+        else word.append(c);
+      } else if (c == '"' || c == '\'') {
+        quote = c;
+        if (word == null) word = new StringBuilder();
+      } else if (Character.isWhitespace(c)) {
+        if (word != null) words.add(word.toString());
+        word = null;
+      } else if ("<>|;&$*?`\\".indexOf(c) >= 0) {
+        throw new IllegalArgumentException("shell syntax '" + c + "'");
+      } else {
+        if (word == null) word = new StringBuilder();
+        word.append(c);
+      }
+    }
+    if (quote != 0) throw new IllegalArgumentException("unclosed quote");
+    if (word != null) words.add(word.toString());
+    String[] args = words.toArray(String[]::new);
+    for (int i = 0; i < args.length; i++) {
+      if (args[i].equals("actindex-demo") || args[i].startsWith("actindex-demo/")) {
+        args[i] = demo.resolve(args[i].substring("actindex-demo".length()).replaceFirst("^/", "")).toString();
+      } else if (i > 0 && OUTPUTS.contains(args[i - 1])) {
+        if (Path.of(args[i]).isAbsolute()) throw new IllegalArgumentException("absolute output path " + args[i]);
+        args[i] = scratch.resolve(args[i]).toString();
+      }
+    }
+    return args;
+  }
+
+  private static String[] run(String... args) {
+    StringWriter out = new StringWriter(), err = new StringWriter();
+    int code = Main.run(new PrintWriter(out), new PrintWriter(err), args);
+    return new String[] {Integer.toString(code), out.toString(), err.toString()};
+  }
+
+  private static Path copyTree(Path from, Path to) throws IOException {
+    Files.createDirectories(to.getParent());
+    try (Stream<Path> s = Files.walk(from)) {
+      s.forEach(p -> {
+        try {
+          Files.copy(p, to.resolve(from.relativize(p).toString()));
+        } catch (IOException e) {
+          throw new UncheckedIOException(e);
+        }
+      });
+    }
+    return to;
+  }
+}
