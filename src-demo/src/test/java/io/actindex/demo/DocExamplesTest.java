@@ -8,6 +8,7 @@ import java.io.IOException;
 import java.io.PrintWriter;
 import java.io.StringWriter;
 import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -28,7 +29,8 @@ import org.junit.jupiter.api.io.TempDir;
  *
  * <p>Collects, from the fenced code blocks of README.md and docs/**.md, each line that starts with
  * {@code bin/actindex } and names a file under {@code actindex-demo/} (continuation lines ending in
- * {@code \} joined). The demo runs once into a temporary folder; each page then gets a fresh copy of
+ * {@code \} joined), and each {@code printf 'TEXT' > actindex-demo/FILE} line, which writes a small
+ * input file (a keys file) the way the shell would. The demo runs once into a temporary folder; each page then gets a fresh copy of
  * it and runs its examples in the order written (an example may use what an earlier one on the page
  * wrote, e.g. a calibration), in-process through {@link Main#run}. {@code actindex-demo} becomes the
  * copy, the value of an output option ({@link #OUTPUTS}) a file in a scratch folder of the page.
@@ -82,6 +84,11 @@ class DocExamplesTest {
         ran++;
         String[] args;
         try {
+          if (e.command().startsWith("printf ")) {
+            Written w = printf(e.command(), copy);
+            Files.writeString(w.file(), w.text(), StandardCharsets.UTF_8);
+            continue;
+          }
           args = arguments(e.command(), copy, scratch);
         } catch (IllegalArgumentException cannot) {
           failures.add(e.where() + ": cannot run as written (" + cannot.getMessage() + "): " + e.command());
@@ -111,10 +118,25 @@ class DocExamplesTest {
         "    --a-where \"split = train\" --b-where 'line = L1' --top 5   # no difference expected",
         "bin/actindex dupes --index actindex-demo/index --radius -1   # refused: exit 2",
         "bin/actindex build --out my-index --activations train_acts.npy",
+        "printf 'k1\\nk2\\n' > actindex-demo/keys.txt   # two keys",
+        "printf 'k1\\n' > keys.txt",
         "```");
     assertThat(examples("p.md", page)).containsExactly(
         new Example("p.md", 6, "bin/actindex compare --index actindex-demo/index --a-where \"split = train\" --b-where 'line = L1' --top 5", 0),
-        new Example("p.md", 8, "bin/actindex dupes --index actindex-demo/index --radius -1", 2));
+        new Example("p.md", 8, "bin/actindex dupes --index actindex-demo/index --radius -1", 2),
+        new Example("p.md", 10, "printf 'k1\\nk2\\n' > actindex-demo/keys.txt", 0));
+  }
+
+  @Test
+  void printfLinesWriteTheirTextIntoTheDemoFolder() {
+    Path demo = Path.of("/d/actindex-demo");
+    assertThat(printf("printf 'w-1\\n w-2\\tx\\\\\\n' > actindex-demo/gone.txt", demo))
+        .isEqualTo(new Written(Path.of("/d/actindex-demo/gone.txt"), "w-1\n w-2\tx\\\n"));
+    assertThat(printf("printf '' > actindex-demo/empty.txt", demo)).isEqualTo(new Written(Path.of("/d/actindex-demo/empty.txt"), ""));
+    for (String shell : List.of("printf 'a\\n' >> actindex-demo/k.txt", "printf \"a\\n\" > actindex-demo/k.txt",
+        "printf '%s\\n' a > actindex-demo/k.txt", "printf 'a\\r\\n' > actindex-demo/k.txt", "printf 'a\\n' > k.txt",
+        "printf 'a\\n' > actindex-demo/../k.txt", "printf 'a\\n' > actindex-demo/k.txt; rm x"))
+      assertThatIllegalArgumentException().as(shell).isThrownBy(() -> printf(shell, demo));
   }
 
   @Test
@@ -165,7 +187,8 @@ class DocExamplesTest {
       String text = joined.append(line).toString().replaceAll("\\s+", " ");
       int hash = commentStart(text);
       String command = (hash < 0 ? text : text.substring(0, hash)).strip();
-      if (!command.startsWith("bin/actindex ") || !command.contains("actindex-demo/")) continue;
+      boolean runs = command.startsWith("bin/actindex ") || command.startsWith("printf ");
+      if (!runs || !command.contains("actindex-demo/")) continue;
       Matcher m = EXIT.matcher(hash < 0 ? "" : text.substring(hash));
       out.add(new Example(file, first + 1, command, m.find() ? Integer.parseInt(m.group(1)) : 0));
     }
@@ -226,6 +249,41 @@ class DocExamplesTest {
       }
     }
     return args;
+  }
+
+  /** A file a {@code printf} line of the docs writes, and its text. */
+  record Written(Path file, String text) {}
+
+  private static final Pattern PRINTF = Pattern.compile("printf '([^'%]*)' > actindex-demo/([\\w.-]+)");
+
+  /**
+   * What {@code printf 'TEXT' > actindex-demo/FILE} writes: TEXT in single quotes with no {@code %}
+   * and no escapes but {@code \n}, {@code \t} and a doubled backslash, FILE a plain name in the demo
+   * folder.
+   * Refuses any other form.
+   */
+  static Written printf(String command, Path demo) {
+    Matcher m = PRINTF.matcher(command);
+    if (!m.matches() || m.group(2).startsWith(".")) {
+      throw new IllegalArgumentException("only printf 'TEXT' > actindex-demo/FILE is run");
+    }
+    StringBuilder text = new StringBuilder();
+    String t = m.group(1);
+    for (int i = 0; i < t.length(); i++) {
+      char c = t.charAt(i);
+      if (c != '\\') {
+        text.append(c);
+        continue;
+      }
+      char next = ++i < t.length() ? t.charAt(i) : 0;
+      switch (next) {
+        case 'n' -> text.append('\n');
+        case 't' -> text.append('\t');
+        case '\\' -> text.append('\\');
+        default -> throw new IllegalArgumentException("printf escape other than \\n, \\t, \\\\");
+      }
+    }
+    return new Written(demo.resolve(m.group(2)), text.toString());
   }
 
   private static String[] run(String... args) {
