@@ -1,8 +1,10 @@
 package io.actindex.cli;
 
 import io.actindex.cli.format.JsonWriter;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Report;
+import io.actindex.query.Source;
 import java.io.IOException;
 import java.io.PrintWriter;
 import java.nio.file.Path;
@@ -36,11 +38,19 @@ final class ReportCommand implements Callable<Integer> {
       description = "Add the near-duplicate join at radius R (summary, leaking and conflicting groups, the largest groups).")
   Integer dupesRadius;
 
-  @Option(names = "--compare-a", paramLabel = "FILE", description = "Add a comparison of two samples: A, a file of the kind the index was built from.")
+  @Option(names = "--compare-a", paramLabel = "FILE", description = "Add a comparison of two samples: A, a file of --compare-kind.")
   Path compareA;
 
   @Option(names = "--compare-b", paramLabel = "FILE", description = "Sample B of the comparison.")
   Path compareB;
+
+  @Option(names = "--compare-kind", paramLabel = "KIND",
+      description = "What --compare-a and --compare-b hold: inputs (run through the index's model), activations or codes. Default: what the"
+          + " index was built from; for a model's index, inputs or hidden activations by each file's width (a width that fits both is"
+          + " refused: say which), as compare --index does.")
+  Source.Kind compareKind;
+
+  @Mixin HeaderOption header;
 
   @Mixin ThreadsOption threads;
   @Mixin FormatOption format;
@@ -48,11 +58,14 @@ final class ReportCommand implements Callable<Integer> {
   @Override
   public Integer call() throws IOException {
     PrintWriter err = spec.commandLine().getErr();
+    if (compareA == null) GivenOptions.refuse(spec, "goes with --compare-a and --compare-b", "--compare-kind");
+    CsvMatrixReader.Header csvHeader = header.of(compareA, compareB);
     Report.Result r;
     int live;
     try (IndexReader reader = IndexReader.open(index.dir);
         Progress progress = Progress.onTerminal(err, "measuring nearest-other distances")) {
-      r = Report.run(reader, new Report.Params(out, title, dupesRadius, compareA, compareB, threads.resolved()), progress);
+      r = Report.run(reader, new Report.Params(out, title, dupesRadius, compareA, compareB, compareKind, csvHeader,
+          threads.resolved()), progress);
       live = reader.liveCount();
     }
     index.noteIfEmpty(live);

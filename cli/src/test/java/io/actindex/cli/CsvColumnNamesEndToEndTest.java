@@ -219,7 +219,7 @@ class CsvColumnNamesEndToEndTest {
   }
 
   /**
-   * compare, dupes --against, fidelity and ood eval take --header as the query commands do: a first
+   * compare, dupes --against, fidelity, ood eval and report take --header as the query commands do: a first
    * line --header auto cannot decide on is refused naming the option, and --header no (data) or yes
    * (a header) reads it, for every CSV file the command reads: one row more or fewer.
    */
@@ -252,7 +252,9 @@ class CsvColumnNamesEndToEndTest {
         new Use(new String[] {"ood", "eval", "--index", idx.toString(), "--in", other.toString(), "--out", u, "--kind", "activations"}, "out"),
         new Use(new String[] {"ood", "eval", "--index", idx.toString(), "--in", other.toString(), "--out", other.toString(), "--kind",
             "activations", "--in-floats", other.toString(), "--out-floats", other.toString(), "--train-floats", u}),
-        new Use(new String[] {"fidelity", "--index", modelIdx.toString(), "--inputs", u, "-k", "3"}));
+        new Use(new String[] {"fidelity", "--index", modelIdx.toString(), "--inputs", u, "-k", "3"}),
+        new Use(new String[] {"report", "--index", idx.toString(), "--out", tmp.resolve("page.html").toString(), "--compare-a", u,
+            "--compare-b", other.toString()}));
     for (Use use : uses) {
       Cli.Result auto = Cli.run(use.args());
       assertThat(auto.code()).as(auto.describe()).isEqualTo(ExitCodes.USAGE);

@@ -3,6 +3,7 @@ package io.actindex.query;
 import io.actindex.core.OutputFiles;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.report.HtmlPage;
 import io.actindex.query.report.IndexReport;
@@ -23,18 +24,22 @@ public final class Report {
   /**
    * {@code out}: the HTML file to write; {@code title}: the page's heading (null: from the folder
    * name); {@code dupesRadius}: add a near-duplicate join at this radius (null: none); {@code
-   * compareA}/{@code compareB}: add a comparison of two files of the kind the index was built from
-   * (null: none); {@code threads} for the join and the comparison.
+   * compareA}/{@code compareB}: add a comparison of two files (null: none); {@code compareKind}:
+   * what they hold (null: told by the index as {@code compare --index} does, {@link
+   * QuerySource#kindOf}); {@code compareHeader}: whether their CSV first line is a header (null:
+   * detect); {@code threads} for the join and the comparison.
    */
-  public record Params(Path out, String title, Integer dupesRadius, Path compareA, Path compareB, int threads) {
+  public record Params(Path out, String title, Integer dupesRadius, Path compareA, Path compareB, Source.Kind compareKind,
+      CsvMatrixReader.Header compareHeader, int threads) {
     public Params {
       if (out == null) throw new BadInputException("report: --out is required");
       if ((compareA == null) != (compareB == null)) throw new BadInputException("report: give both --compare-a and --compare-b, or neither");
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+      if (compareHeader == null) compareHeader = CsvMatrixReader.Header.AUTO;
     }
 
     public Params(Path out, String title) {
-      this(out, title, null, null, null, 1);
+      this(out, title, null, null, null, null, null, 1);
     }
   }
 
@@ -63,6 +68,8 @@ public final class Report {
   public static Result run(IndexReader reader, Params p, Progress progress) throws IOException {
     OutputFiles.checkTarget(p.out(), "--out", new OutputFiles.Input("--compare-a", p.compareA()),
         new OutputFiles.Input("--compare-b", p.compareB()));
+    // the files' kinds settled before the long part, so a width that fits two kinds is refused at once
+    Source a = compareSource(reader, p, p.compareA()), b = compareSource(reader, p, p.compareB());
     int bits = reader.layout().bits();
     if (p.dupesRadius() != null && (p.dupesRadius() < 0 || p.dupesRadius() > bits))
       throw new BadInputException("--dupes-radius must be 0 to the code length, " + bits + " bits; got " + p.dupesRadius());
@@ -73,17 +80,23 @@ public final class Report {
     if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)));
     if (p.dupesRadius() != null)
       ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null));
-    if (p.compareA() != null) {
-      Source.Kind kind = BuildInfo.fromProperties(reader.properties(), reader.dir().toString()).kind();
+    if (a != null) {
       Compare.Options o = Compare.Options.defaults();
       o = new Compare.Options(o.permutations(), o.seed(), o.sigma(), o.alpha(), o.top(), o.matrixRows(), o.exactMax(), o.sinkhornRows(),
           o.reg(), o.maxIter(), o.tol(), p.threads());
-      ReportSections.compare(page, Compare.run(new Compare.Params(reader.dir(), Compare.Sample.file(new Source(kind, p.compareA(), null)),
-          Compare.Sample.file(new Source(kind, p.compareB(), null)), null, null, null, null, null, null, o), null));
+      ReportSections.compare(page, Compare.run(new Compare.Params(reader.dir(), Compare.Sample.file(a), Compare.Sample.file(b), null, null,
+          null, null, null, null, o, p.compareHeader()), null));
     }
     byte[] html = page.finish().getBytes(StandardCharsets.UTF_8);
     write(p.out(), html);
     return new Result(p.out(), html.length, f);
+  }
+
+  /** A comparison file as a source of its given kind, or of the kind the index tells ({@code --compare-kind} names the way out); null for none. */
+  private static Source compareSource(IndexReader reader, Params p, Path file) {
+    if (file == null) return null;
+    Source.Kind kind = p.compareKind() != null ? p.compareKind() : QuerySource.kindOf(reader, file, p.compareHeader(), "--compare-kind");
+    return new Source(kind, file, null, p.compareHeader());
   }
 
   /** Writes through a temporary file beside {@code out}, then renames it into place. */
