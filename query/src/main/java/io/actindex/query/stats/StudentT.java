@@ -12,7 +12,7 @@ package io.actindex.query.stats;
  *
  * <p>Accuracy against 50-digit values (tools/golden/make_tails.py), relative, down to 1e-300:
  * below 1e-13 for df up to 1,000, growing about in proportion to df beyond (1.3e-12 at df = 2 x
- * 10^4, 5.4e-11 at 10^6 for t near 1.75; 2.5e-9 measured at 10^8): with many degrees of freedom
+ * 10^4, 5.4e-11 at 10^6 for t near 1.75; 7.7e-9 measured at 10^8): with many degrees of freedom
  * and a moderate t, {@code x} is within about {@code t^2 / df} of 1 and the fraction, which sees x
  * only, loses a factor of about {@code df / t^2} to rounding.
  */
@@ -83,7 +83,11 @@ public final class StudentT {
     throw new ArithmeticException("incomplete beta continued fraction did not converge: a=" + a + " b=" + b + " x=" + x);
   }
 
-  /** {@code ln B(a, b)}; with a large argument {@code g} and a small one {@code s}, {@code ln Gamma(g) - ln Gamma(g + s)} comes from Stirling's series as one small difference. */
+  /**
+   * {@code ln B(a, b)}; with a large argument {@code g} and a small one {@code s} (here always 1/2),
+   * {@code ln Gamma(g) - ln Gamma(g + s)} comes from Stirling's series as one small difference. Both
+   * arguments large would cancel in {@code ln Gamma(s)} instead: not a case the t tail has.
+   */
   static double logBeta(double a, double b) {
     double s = Math.min(a, b), g = Math.max(a, b);
     if (g < 10) return logGamma(s) + logGamma(g) - logGamma(s + g);
