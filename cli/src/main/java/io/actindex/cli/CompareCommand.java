@@ -293,7 +293,7 @@ final class CompareCommand implements Callable<Integer> {
           fmt(m.pValue()), mmdDetail(m)));
     if (r.linear() != null)
       t.row(List.of("MMD^2 exponential, linear-time", fmt(r.linear().mmd2()), fmt(r.linear().pValue()),
-          "all rows, " + r.linear().pairs() + " pairs, " + (Double.isNaN(r.linear().z()) ? "every pair equal: exact sign-flip p" : "normal null")));
+          "all rows, " + r.linear().pairs() + " pairs, " + (Double.isNaN(r.linear().z()) ? "every pair equal: exact sign-flip p" : "Student's t null, " + (r.linear().pairs() - 1) + " df")));
     t.row(List.of("W2 (bits)", fmt(r.w2().w2()), "", w2Detail(r.w2())));
     t.print(out, "  ");
     out.println();

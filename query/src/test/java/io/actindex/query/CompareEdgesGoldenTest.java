@@ -48,9 +48,9 @@ class CompareEdgesGoldenTest {
       for (Compare.Neuron n : r.neurons()) {
         String key = c + ".neuron." + n.name().substring(n.name().indexOf(':') + 1);
         assertThat(n.z()).as(key + " z").isCloseTo(GOLDEN.exp(key + ".z"), within(1e-12));
-        // Numerical Recipes' erfc: fractional error below 1.2e-7
-        assertThat(n.p()).as(key + " p").isCloseTo(GOLDEN.exp(key + ".p"), within(2e-7 * GOLDEN.exp(key + ".p") + 1e-300));
-        assertThat(n.q()).as(key + " q").isCloseTo(GOLDEN.exp(key + ".q"), within(2e-7 * GOLDEN.exp(key + ".q") + 1e-300));
+        // Normal's tail: relative error within 1e-12 of scipy.stats.norm.sf (TailsGoldenTest)
+        assertThat(n.p()).as(key + " p").isCloseTo(GOLDEN.exp(key + ".p"), within(1e-12 * GOLDEN.exp(key + ".p") + 1e-300));
+        assertThat(n.q()).as(key + " q").isCloseTo(GOLDEN.exp(key + ".q"), within(1e-12 * GOLDEN.exp(key + ".q") + 1e-300));
       }
     }
   }

@@ -92,9 +92,9 @@ class CompareGoldenTest {
     FiringRates.Result r = FiringRates.of(GOLDEN.codes("codes_a.npy"), GOLDEN.codes("codes_b.npy"));
     for (int i = 0; i < 70; i++) {
       assertThat(r.z()[i]).as("z " + i).isCloseTo(GOLDEN.exp("neuron." + i + ".z"), within(1e-12));
-      // Numerical Recipes' erfc: fractional error below 1.2e-7
-      assertThat(r.p()[i]).as("p " + i).isCloseTo(GOLDEN.exp("neuron." + i + ".p"), within(2e-7 * GOLDEN.exp("neuron." + i + ".p") + 1e-300));
-      assertThat(r.q()[i]).as("q " + i).isCloseTo(GOLDEN.exp("neuron." + i + ".q"), within(2e-7 * GOLDEN.exp("neuron." + i + ".q") + 1e-300));
+      // Normal's tail: relative error within 1e-12 of scipy.stats.norm.sf (TailsGoldenTest)
+      assertThat(r.p()[i]).as("p " + i).isCloseTo(GOLDEN.exp("neuron." + i + ".p"), within(1e-12 * GOLDEN.exp("neuron." + i + ".p") + 1e-300));
+      assertThat(r.q()[i]).as("q " + i).isCloseTo(GOLDEN.exp("neuron." + i + ".q"), within(1e-12 * GOLDEN.exp("neuron." + i + ".q") + 1e-300));
     }
   }
 
@@ -102,7 +102,7 @@ class CompareGoldenTest {
   void normalTailMatchesSciPy() {
     for (double z : new double[] {0.0, 0.5, 1.0, 1.959963984540054, 3.0, 5.0, 8.0}) {
       double want = GOLDEN.exp("normal.two_sided." + z);
-      assertThat(Normal.twoSided(z)).as("z=" + z).isCloseTo(want, within(1.2e-7 * want));
+      assertThat(Normal.twoSided(z)).as("z=" + z).isCloseTo(want, within(1e-12 * want));
     }
   }
 }

@@ -84,8 +84,37 @@ class TwoSampleTest {
   }
 
   @Test
+  void linearTimeTestWithFewPairsTakesItsPValueFromStudentsT() {
+    // the mean of the pairs' h over its estimated standard error is referred to Student's t with
+    // pairs - 1 degrees of freedom (common practice: the one-sample t test); with 2 pairs that is
+    // the Cauchy law, P(T > z) = 1/2 - atan(z)/pi (from memory)
+    int checked = 0;
+    for (int rep = 0; rep < 20; rep++) {
+      long seed = Randoms.seed(40 + rep);
+      SplittableRandom r = new SplittableRandom(seed);
+      int n = 4 + r.nextInt(2);
+      CodeBlock a = constant(n, 16, true), b = codes(r, n, rates(r, 16));
+      LinearMmd.Result two = LinearMmd.of(a, b, d -> Math.exp(-d / 4.0), seed);
+      if (Double.isNaN(two.z())) continue;
+      assertThat(two.pairs()).isEqualTo(2);
+      assertThat(two.pValue()).as(Randoms.describe(seed)).isCloseTo(0.5 - Math.atan(two.z()) / Math.PI, within(1e-12));
+      CodeBlock c = constant(10, 16, false), e = codes(r, 11, rates(r, 16));
+      LinearMmd.Result five = LinearMmd.of(c, e, x -> Math.exp(-x / 4.0), seed);
+      if (Double.isNaN(five.z())) continue;
+      assertThat(five.pairs()).isEqualTo(5);
+      assertThat(five.pValue()).as(Randoms.describe(seed)).isEqualTo(StudentT.upperTail(five.z(), 4));
+      // with 4 degrees of freedom P(T > z) = 1/2 - z (z^2 + 6) / (2 (z^2 + 4)^(3/2)) (from memory; checked
+      // against scipy.stats.t.sf), far above the normal tail used before for the same z
+      double z = five.z(), closed = 0.5 - z * (z * z + 6) / (2 * Math.pow(z * z + 4, 1.5));
+      assertThat(five.pValue()).as(Randoms.describe(seed)).isCloseTo(closed, within(1e-12));
+      checked++;
+    }
+    assertThat(checked).isGreaterThan(10);
+  }
+
+  @Test
   void linearTimeTestOnConstantSamplesGivesTheExactSignFlipPValue() {
-    // every row the same code: each pair's h is the same number, so the normal null (variance 0) is
+    // every row the same code: each pair's h is the same number, so z (variance 0) is
     // undefined; swapping x_2i and y_2i negates h_i (from memory), so under the null the 2^pairs sign
     // patterns are equally likely: p = 1 for h = 0 (as the permutation tests give for identical
     // samples), 2^-pairs for h > 0 (only the all-plus pattern reaches it)
