@@ -112,8 +112,9 @@ public final class OodEval {
     if (reader.layout().segments().size() > 1) for (var s : reader.layout().segments()) layerSets.add(List.of(s.name()));
     if (!layerSets.contains(cal.layers())) layerSets.add(cal.layers());
     int threads = p.threads();
-    Hits[][] inHits = hits(reader, in.codes(), layerSets, kMax, progress, 0, in.size() + out.size(), threads);
-    Hits[][] outHits = hits(reader, out.codes(), layerSets, kMax, progress, in.size(), in.size() + out.size(), threads);
+    Progress prog = progress == null ? Progress.NONE : progress;
+    Hits[][] inHits = hits(reader, in.codes(), layerSets, kMax, prog, 0, in.size() + out.size(), threads);
+    Hits[][] outHits = hits(reader, out.codes(), layerSets, kMax, prog, in.size(), in.size() + out.size(), threads);
     List<Variant> variants = new ArrayList<>();
     Scored code = null;
     for (int ls = 0; ls < layerSets.size(); ls++)

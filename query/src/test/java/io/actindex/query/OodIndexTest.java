@@ -196,6 +196,22 @@ class OodIndexTest {
     assertThat(tmp.resolve("b.edge")).doesNotExist();
   }
 
+  /** A null progress means none, as for the other operations (OodEval threw a NullPointerException). */
+  @Test
+  void evaluationRunsWithoutProgress() throws Exception {
+    Data d = relu(Randoms.seed(0), 300);
+    Path dir = index(tmp.resolve("idx"), d.train());
+    Path cal = npy(tmp.resolve("cal.npy"), d.cal()), queries = npy(tmp.resolve("q.npy"), d.queries());
+    OodCalibrate.run(dir, Source.codes(cal), RowRange.ALL, new OodCalibrate.Params(5, null, 0.95, null, false), null);
+    try (IndexReader r = IndexReader.open(dir)) {
+      OodEval.Params p = new OodEval.Params(Source.codes(cal), Source.codes(queries), null, null, null);
+      OodEval.Result quiet = OodEval.run(r, p, null), counted = OodEval.run(r, p, Progress.NONE);
+      assertThat(quiet.code().in()).containsExactly(counted.code().in());
+      assertThat(quiet.code().out()).containsExactly(counted.code().out());
+      assertThat(quiet.variants()).isEqualTo(counted.variants());
+    }
+  }
+
   /** An empty --in or --out file is named (the message said only "needs rows in both --in and --out"). */
   @Test
   void anEmptyEvaluationFileIsNamed() throws Exception {
