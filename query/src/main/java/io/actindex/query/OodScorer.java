@@ -117,12 +117,13 @@ public final class OodScorer {
     return kind == Kind.REFINED ? refined(q.codes().code(i), acts, i * reader.layout().bits()) : score(q.codes().code(i));
   }
 
-  /** The scores of every code of {@code codes}. */
+  /** The scores of every code of {@code codes} ({@code progress} null: none). */
   public double[] values(CodeBlock codes, Progress progress) {
+    Progress prog = progress == null ? Progress.NONE : progress;
     double[] out = new double[codes.size()];
     for (int i = 0; i < out.length; i++) {
       out[i] = score(codes.code(i)).value();
-      progress.update(i + 1, out.length);
+      prog.update(i + 1, out.length);
     }
     return out;
   }

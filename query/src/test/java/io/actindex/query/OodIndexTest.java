@@ -209,6 +209,10 @@ class OodIndexTest {
       assertThat(quiet.code().in()).containsExactly(counted.code().in());
       assertThat(quiet.code().out()).containsExactly(counted.code().out());
       assertThat(quiet.variants()).isEqualTo(counted.variants());
+      // the scorer's own loop over codes takes a null progress too
+      OodScorer scorer = new OodScorer(r, 5, null, null, OodScorer.Kind.CODE, 0);
+      CodeBlock qc = QuerySource.load(r, Source.codes(queries), RowRange.ALL).codes();
+      assertThat(scorer.values(qc, null)).containsExactly(scorer.values(qc, Progress.NONE));
     }
   }
 
