@@ -271,6 +271,38 @@ class OodEndToEndTest {
   }
 
   /**
+   * ood eval without --kind on an index built from a model takes each file as compare does: the
+   * model's inputs, or its hidden activations when the width fits those and not the inputs. Hidden
+   * activations were read as inputs ("rows have 4 values but the model ... takes 3", exit 2) with no
+   * word of --kind, while compare on the same index took them.
+   */
+  @Test
+  void evalOnAModelsIndexTakesHiddenActivationsByTheirWidth() {
+    SplittableRandom r = new SplittableRandom(403);
+    Path idx = tmp.resolve("midx");
+    String train = Files2.floats(tmp.resolve("min.npy"), SourcesEndToEndTest.activations(60, 3, r)).toString();
+    String model = CompareEndToEndTest.mlp(tmp.resolve("m.safetensors"), 3, r).toString();
+    assertThat(Cli.run("build", "--out", idx.toString(), "--model", model, "--inputs", train).code()).isZero();
+    String cal = Files2.floats(tmp.resolve("mcal.npy"), SourcesEndToEndTest.activations(40, 3, r)).toString();
+    Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--inputs", cal);
+    assertThat(c.code()).as(c.describe()).isZero();
+    String ha = Files2.floats(tmp.resolve("ha.npy"), SourcesEndToEndTest.activations(12, 4, r)).toString();
+    String hb = Files2.floats(tmp.resolve("hb.npy"), SourcesEndToEndTest.activations(12, 4, r)).toString();
+    String[] eval = {"ood", "eval", "--index", idx.toString(), "--in", ha, "--out", hb, "--format", "json"};
+    Cli.Result inferred = Cli.run(eval);
+    assertThat(inferred.code()).as(inferred.describe()).isZero();
+    String[] told = Arrays.copyOf(eval, eval.length + 2);
+    told[eval.length] = "--kind";
+    told[eval.length + 1] = "activations";
+    assertThat(inferred.out()).isEqualTo(Cli.run(told).out());
+    // inputs are still inputs
+    String ia = Files2.floats(tmp.resolve("ia.npy"), SourcesEndToEndTest.activations(12, 3, r)).toString();
+    Cli.Result inputs = Cli.run("ood", "eval", "--index", idx.toString(), "--in", ia, "--out", ia, "--format", "json");
+    assertThat(inputs.code()).as(inputs.describe()).isZero();
+    assertThat(inputs.out()).isEqualTo(Cli.run("ood", "eval", "--index", idx.toString(), "--in", ia, "--out", ia, "--format", "json", "--kind", "inputs").out());
+  }
+
+  /**
    * {@code --threads}: calibrate, score (full and decision-only) and eval print the same bytes on 1
    * and 3 threads and by default (one per core, shown in the help).
    */
