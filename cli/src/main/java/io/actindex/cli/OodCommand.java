@@ -57,8 +57,10 @@ final class OodCommand implements Callable<Integer> {
     return ExitCodes.USAGE;
   }
 
+  /** Whole numbers as such; below 0.001 in scientific notation (a refined score of 4e-6 is not 0.0000); else 4 decimals. */
   static String num(double v) {
     if (v == Math.rint(v) && Math.abs(v) < 1e15) return Long.toString((long) v);
+    if (Math.abs(v) < 1e-3) return String.format(Locale.ROOT, "%.3e", v);
     return String.format(Locale.ROOT, "%.4f", v);
   }
 

@@ -263,6 +263,11 @@ class OodEndToEndTest {
     assertThat(moved.code()).as(moved.describe()).isZero();
     assertThat(moved.err()).as(moved.describe()).contains("warning: ").contains("120 of 120 rows are copies").contains("--check-overlap");
     assertThat(JSON.readTree(moved.out()).get("warnings")).hasSize(1);
+    // the table showed such a threshold (about 1e-6) as 0.0000
+    double threshold = JSON.readTree(moved.out()).get("threshold").asDouble();
+    Cli.Result table = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString());
+    assertThat(threshold).isStrictlyBetween(0.0, 1e-3);
+    assertThat(table.out()).as(table.describe()).contains("threshold: " + String.format(java.util.Locale.ROOT, "%.3e", threshold) + " ");
 
     Cli.Result held = Cli.run("ood", "calibrate", "--index", i, "--activations", heldF.toString(), "--format", "json");
     assertThat(held.code()).as(held.describe()).isZero();
