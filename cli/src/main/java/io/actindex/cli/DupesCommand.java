@@ -9,8 +9,8 @@ import io.actindex.cli.format.TextTable;
 import io.actindex.index.mih.PairSink;
 import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
-import io.actindex.query.BuildInfo;
 import io.actindex.query.Dupes;
+import io.actindex.query.QuerySource;
 import io.actindex.query.Source;
 import java.io.BufferedWriter;
 import java.io.IOException;
@@ -61,8 +61,13 @@ final class DupesCommand implements Callable<Integer> {
 
   @Option(names = "--against", paramLabel = "FILE",
       description = "Rows to look up instead of joining the index with itself, of the kind the index was built from "
-          + "(activations, codes or model inputs), encoded the same way.")
+          + "(activations, codes or model inputs; see --kind), encoded the same way.")
   Path against;
+
+  @Option(names = "--kind", paramLabel = "KIND",
+      description = "What the --against file holds: activations, codes or inputs. Default: what the index was built from (for a model's index, "
+          + "inputs or hidden activations by the file's width).")
+  Source.Kind kind;
 
   @Option(names = "--pairs", paramLabel = "FILE",
       description = "Write every pair as CSV id_a,id_b,distance (id_a < id_b; with --against: row,id,distance).")
@@ -86,6 +91,7 @@ final class DupesCommand implements Callable<Integer> {
     if (against != null)
       GivenOptions.refuse(spec, "is about the groups of the self-join; --against lists each row's matches and forms no groups",
           "--cross-split", "--conflicting-labels", "--groups");
+    if (against == null) GivenOptions.refuse(spec, "says what the --against file holds; give it with --against", "--kind");
     CsvMatrixReader.Header h = header.of(against);
     int t = threads == 0 ? Runtime.getRuntime().availableProcessors() : threads;
     Dupes.Params p = new Dupes.Params(radius, where, layers.layers, crossSplit, conflictingLabels, groups, t);
@@ -99,8 +105,8 @@ final class DupesCommand implements Callable<Integer> {
       PairSink sink = file == null ? null : file::pair;
       if (against == null) joined = Dupes.run(reader, p, sink, bar);
       else {
-        Source.Kind kind = BuildInfo.fromProperties(reader.properties(), index.dir.toString()).kind();
-        matched = Dupes.against(reader, p, new Source(kind, against, null, h), sink, bar);
+        Source.Kind k = kind != null ? kind : QuerySource.kindOf(reader, against, h, "--kind");
+        matched = Dupes.against(reader, p, new Source(k, against, null, h), sink, bar);
       }
       if (file != null) file.commit();
       live = reader.liveCount();

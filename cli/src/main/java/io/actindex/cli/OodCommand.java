@@ -17,6 +17,7 @@ import io.actindex.query.OodEval;
 import io.actindex.query.OodScorer;
 import io.actindex.query.OodScore;
 import io.actindex.query.QueryCodes;
+import io.actindex.query.QuerySource;
 import io.actindex.query.RocMetrics;
 import io.actindex.query.RowRange;
 import io.actindex.query.SoftmaxBaseline;
@@ -56,8 +57,10 @@ final class OodCommand implements Callable<Integer> {
     return ExitCodes.USAGE;
   }
 
+  /** Whole numbers as such; below 0.001 in scientific notation (a refined score of 4e-6 is not 0.0000); else 4 decimals. */
   static String num(double v) {
     if (v == Math.rint(v) && Math.abs(v) < 1e15) return Long.toString((long) v);
+    if (Math.abs(v) < 1e-3) return String.format(Locale.ROOT, "%.3e", v);
     return String.format(Locale.ROOT, "%.4f", v);
   }
 
@@ -107,7 +110,7 @@ final class OodCommand implements Callable<Integer> {
         description = "Share of in-distribution inputs to accept (the threshold's target true-positive rate). Default: ${DEFAULT-VALUE}.")
     double tpr;
 
-    @Option(names = "--check-overlap", description = "Refuse calibration rows that look like the index's own training rows (at least half of the rows have the code of the index example with the same id). Without it, such rows get a warning.")
+    @Option(names = "--check-overlap", description = "Refuse calibration rows that look like the index's own training rows (at least half of the rows have the code of the index example with the same id or, with the refined score, are copies of indexed examples in any order). Without it, such rows get a warning.")
     boolean checkOverlap;
 
     @Option(names = "--score", paramLabel = "S",
@@ -337,7 +340,7 @@ final class OodCommand implements Callable<Integer> {
     Path outFile;
 
     @Option(names = "--kind", paramLabel = "KIND",
-        description = "What --in and --out hold: inputs (run through the index's model), activations or codes. Default: inputs when the index holds a model, else activations.")
+        description = "What --in and --out hold: inputs (run through the index's model), activations or codes. Default: activations, or for an index built from a model inputs or its hidden activations by each file's width.")
     Kind kind;
 
     @Option(names = "--in-floats", paramLabel = "FILE", description = "Float activations of the --in rows (.npy or .csv), for the float k-NN score.")
@@ -383,10 +386,11 @@ final class OodCommand implements Callable<Integer> {
         if (kind == Kind.inputs && !hasModel)
           throw new BadInputException(index.dir + ": --kind inputs needs an index built from a model (build --model), and this one holds"
               + " none; give --kind activations or --kind codes");
-        Kind k = kind != null ? kind : hasModel ? Kind.inputs : Kind.activations;
+        Kind kIn = kind != null ? kind : hasModel ? kindOf(reader, in, h) : Kind.activations;
+        Kind kOut = kind != null ? kind : hasModel ? kindOf(reader, outFile, h) : Kind.activations;
         try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "evaluating")) {
           if (candidates < 1) throw new ParameterException(spec.commandLine(), "--candidates must be at least 1, got " + candidates);
-          r = OodEval.run(reader, new OodEval.Params(source(k, in), source(k, outFile), inFloats, outFloats, trainFloats,
+          r = OodEval.run(reader, new OodEval.Params(source(kIn, in), source(kOut, outFile), inFloats, outFloats, trainFloats,
               GivenOptions.given(spec, "--candidates") ? candidates : 0,
               score == null ? null : OodScorer.Kind.parse(score), threads.resolved(), h), bar);
         }
@@ -445,6 +449,11 @@ final class OodCommand implements Callable<Integer> {
       caution(out, spec.commandLine().getErr(), format.format);
       out.flush();
       return ExitCodes.OK;
+    }
+
+    /** For a model's index: inputs, or hidden activations when the file's width fits those and not the inputs (as compare). */
+    private static Kind kindOf(IndexReader reader, Path file, CsvMatrixReader.Header h) {
+      return QuerySource.kindOf(reader, file, h, "--kind") == Source.Kind.ACTIVATIONS ? Kind.activations : Kind.inputs;
     }
 
     private static Source source(Kind k, Path file) {

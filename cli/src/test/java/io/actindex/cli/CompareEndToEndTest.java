@@ -138,6 +138,18 @@ class CompareEndToEndTest {
     return file;
   }
 
+  /** Sample B saved with its pandas row index: the refusal of the widths says column 0 looks like a row index, as nearest's does. */
+  @Test
+  void aSampleWithAnIndexColumnIsRefusedWithTheHint() {
+    byte[] a = "0,1,2\n0.5,0,1\n0,0.25,1\n1,1,0\n".getBytes(java.nio.charset.StandardCharsets.UTF_8);
+    byte[] b = ",0,1,2\n0,0.5,0,1\n1,0,0.25,1\n2,1,1,0\n".getBytes(java.nio.charset.StandardCharsets.UTF_8);
+    Path fa = Files2.write(tmp.resolve("a.csv"), a), fb = Files2.write(tmp.resolve("b.csv"), b);
+    Cli.Result r = Cli.run("compare", "--a", fa.toString(), "--b", fb.toString(), "--permutations", "20");
+    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(r.err().strip()).as(r.describe()).contains("sample B has layout").contains(fb + ": hint: column 0 looks like a row index")
+        .doesNotContain("\n");
+  }
+
   @Test
   void withAModelsIndexTheKindFollowsTheIndexAndTheFilesWidth() {
     SplittableRandom r = new SplittableRandom(Randoms.seed(401));

@@ -119,6 +119,40 @@ class DupesEndToEndTest {
     }
   }
 
+  /**
+   * --against on an index built from a model takes the model's inputs or its hidden activations by
+   * the file's width, as compare does, and --kind says which when the width fits both. Hidden
+   * activations were read as inputs and refused ("rows have 4 values but the model ... takes 3").
+   */
+  @Test
+  void againstAModelsIndexTakesHiddenActivationsByTheirWidth() {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(405));
+    Path idx = tmp.resolve("m");
+    String train = Files2.floats(tmp.resolve("in.npy"), SourcesEndToEndTest.activations(40, 3, r)).toString();
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--model", CompareEndToEndTest.mlp(tmp.resolve("m.safetensors"), 3, r).toString(),
+        "--inputs", train);
+    assertThat(built.code()).as(built.describe()).isZero();
+    String hidden = Files2.floats(tmp.resolve("h.npy"), SourcesEndToEndTest.activations(10, 4, r)).toString();
+    String[] args = {"dupes", "--index", idx.toString(), "--radius", "1", "--against", hidden, "--format", "csv"};
+    Cli.Result inferred = Cli.run(args);
+    assertThat(inferred.code()).as(inferred.describe()).isZero();
+    Cli.Result told = Cli.run(concat(args, "--kind", "activations"));
+    assertThat(inferred.out()).as(told.describe()).isEqualTo(told.out());
+    Cli.Result inputs = Cli.run("dupes", "--index", idx.toString(), "--radius", "1", "--against", train, "--format", "csv");
+    assertThat(inputs.code()).as(inputs.describe()).isZero();
+    assertThat(inputs.out()).isEqualTo(Cli.run("dupes", "--index", idx.toString(), "--radius", "1", "--against", train, "--format", "csv",
+        "--kind", "inputs").out());
+    Cli.Result alone = Cli.run("dupes", "--index", idx.toString(), "--radius", "1", "--kind", "inputs");
+    assertThat(alone.code()).as(alone.describe()).isEqualTo(2);
+    assertThat(alone.err()).as(alone.describe()).contains("--kind says what the --against file holds");
+  }
+
+  private static String[] concat(String[] a, String... b) {
+    String[] out = java.util.Arrays.copyOf(a, a.length + b.length);
+    System.arraycopy(b, 0, out, a.length, b.length);
+    return out;
+  }
+
   @Test
   void againstEqualsPerRowRadiusSearch() throws Exception {
     long seed = Randoms.seed(9);

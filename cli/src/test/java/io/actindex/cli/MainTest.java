@@ -112,6 +112,17 @@ class MainTest {
     assertThat(o.err()).as(o.describe()).contains("actindex ood: unknown command 'calibrat'; did you mean calibrate?");
     Cli.Result far = Cli.run("info", "--index", "x", "--frobnicate");
     assertThat(far.err()).as(far.describe()).doesNotContain("did you mean");
+    // the fewest edits wins: picocli's letter-pair ranking answered --index for --input, --header for
+    // --held-out-input (no option is near it) and nothing for --bwhere
+    String[][] typed = {{"nearest", "--input", "did you mean --inputs?"}, {"compare", "--bwhere", "did you mean --b-where?"},
+        {"nearest", "--k", "did you mean -k?"}, {"compare", "--a-wher=x", "did you mean --a-where?"}};
+    for (String[] t : typed) {
+      Cli.Result m = Cli.run(t[0], "--index", "x", t[1], "v");
+      assertThat(m.code()).as(m.describe()).isEqualTo(ExitCodes.USAGE);
+      assertThat(m.err()).as(m.describe()).contains(t[2]);
+    }
+    Cli.Result none = Cli.run("ood", "calibrate", "--index", "x", "--held-out-input", "v.npy");
+    assertThat(none.err()).as(none.describe()).doesNotContain("did you mean");
   }
 
   @Test

@@ -235,6 +235,79 @@ class OodEndToEndTest {
   }
 
   /**
+   * The refined score (an index of float activations with kept magnitudes): training rows score
+   * about the 8-bit rounding of the kept magnitudes, not 0, so the threshold-0 warning cannot catch
+   * them. Shuffled, or a part of them saved to a file of their own (no row i with the code of id i),
+   * they were calibrated on with exit 0 and no warning, and the threshold (about 1e-6) flagged
+   * every later input out. Now they warn, and --check-overlap refuses them; held-out rows warn of
+   * nothing.
+   */
+  @Test
+  void trainingRowsInAnotherOrderWarnUnderTheRefinedScore() throws Exception {
+    float[][] train = floats(300, 0.1, 21), heldOut = floats(60, 0.1, 22);
+    float[][] shuffled = new float[120][];
+    for (int r = 0; r < shuffled.length; r++) shuffled[r] = train[(r * 37 + 11) % train.length]; // distinct rows: 37 and 300 coprime
+    Path idx = tmp.resolve("ridx");
+    Path trainF = Files2.floats(tmp.resolve("rtrain.npy"), train), shuffledF = Files2.floats(tmp.resolve("rshuf.npy"), shuffled);
+    Path heldF = Files2.floats(tmp.resolve("rheld.npy"), heldOut);
+    assertThat(Cli.run("build", "--out", idx.toString(), "--activations", trainF.toString()).code()).isZero();
+    String i = idx.toString();
+
+    Map<String, String> before = Files2.checksums(idx);
+    Cli.Result refused = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString(), "--check-overlap");
+    assertThat(refused.code()).as(refused.describe()).isEqualTo(2);
+    assertThat(refused.err()).as(refused.describe()).contains("120 of 120 rows are copies of indexed examples");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+
+    Cli.Result moved = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString(), "--format", "json");
+    assertThat(moved.code()).as(moved.describe()).isZero();
+    assertThat(moved.err()).as(moved.describe()).contains("warning: ").contains("120 of 120 rows are copies").contains("--check-overlap");
+    assertThat(JSON.readTree(moved.out()).get("warnings")).hasSize(1);
+    // the table showed such a threshold (about 1e-6) as 0.0000
+    double threshold = JSON.readTree(moved.out()).get("threshold").asDouble();
+    Cli.Result table = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString());
+    assertThat(threshold).isStrictlyBetween(0.0, 1e-3);
+    assertThat(table.out()).as(table.describe()).contains("threshold: " + String.format(java.util.Locale.ROOT, "%.3e", threshold) + " ");
+
+    Cli.Result held = Cli.run("ood", "calibrate", "--index", i, "--activations", heldF.toString(), "--format", "json");
+    assertThat(held.code()).as(held.describe()).isZero();
+    assertThat(held.err()).as(held.describe()).doesNotContain("warning");
+    assertThat(JSON.readTree(held.out()).get("warnings")).isEmpty();
+  }
+
+  /**
+   * ood eval without --kind on an index built from a model takes each file as compare does: the
+   * model's inputs, or its hidden activations when the width fits those and not the inputs. Hidden
+   * activations were read as inputs ("rows have 4 values but the model ... takes 3", exit 2) with no
+   * word of --kind, while compare on the same index took them.
+   */
+  @Test
+  void evalOnAModelsIndexTakesHiddenActivationsByTheirWidth() {
+    SplittableRandom r = new SplittableRandom(403);
+    Path idx = tmp.resolve("midx");
+    String train = Files2.floats(tmp.resolve("min.npy"), SourcesEndToEndTest.activations(60, 3, r)).toString();
+    String model = CompareEndToEndTest.mlp(tmp.resolve("m.safetensors"), 3, r).toString();
+    assertThat(Cli.run("build", "--out", idx.toString(), "--model", model, "--inputs", train).code()).isZero();
+    String cal = Files2.floats(tmp.resolve("mcal.npy"), SourcesEndToEndTest.activations(40, 3, r)).toString();
+    Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--inputs", cal);
+    assertThat(c.code()).as(c.describe()).isZero();
+    String ha = Files2.floats(tmp.resolve("ha.npy"), SourcesEndToEndTest.activations(12, 4, r)).toString();
+    String hb = Files2.floats(tmp.resolve("hb.npy"), SourcesEndToEndTest.activations(12, 4, r)).toString();
+    String[] eval = {"ood", "eval", "--index", idx.toString(), "--in", ha, "--out", hb, "--format", "json"};
+    Cli.Result inferred = Cli.run(eval);
+    assertThat(inferred.code()).as(inferred.describe()).isZero();
+    String[] told = Arrays.copyOf(eval, eval.length + 2);
+    told[eval.length] = "--kind";
+    told[eval.length + 1] = "activations";
+    assertThat(inferred.out()).isEqualTo(Cli.run(told).out());
+    // inputs are still inputs
+    String ia = Files2.floats(tmp.resolve("ia.npy"), SourcesEndToEndTest.activations(12, 3, r)).toString();
+    Cli.Result inputs = Cli.run("ood", "eval", "--index", idx.toString(), "--in", ia, "--out", ia, "--format", "json");
+    assertThat(inputs.code()).as(inputs.describe()).isZero();
+    assertThat(inputs.out()).isEqualTo(Cli.run("ood", "eval", "--index", idx.toString(), "--in", ia, "--out", ia, "--format", "json", "--kind", "inputs").out());
+  }
+
+  /**
    * {@code --threads}: calibrate, score (full and decision-only) and eval print the same bytes on 1
    * and 3 threads and by default (one per core, shown in the help).
    */

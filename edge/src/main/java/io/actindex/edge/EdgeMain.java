@@ -16,7 +16,8 @@ import java.util.regex.Pattern;
  * {@code java -jar actindex-edge.jar BUNDLE [--inputs]}: scores the rows on standard input and
  * prints {@code row,score,decision,p_value} per row. Without {@code --inputs} a row is a code
  * written as its bits, {@code 0} and {@code 1} (commas and spaces ignored), bit 0 first; with it, a
- * row is the raw input, comma-separated numbers, run through the bundle's model. Exit 0 ok, 2 a bad
+ * row is the raw input, comma-separated numbers, run through the bundle's model (a first line of
+ * column names, {@link #isHeader}, is skipped with a note on stderr). Exit 0 ok, 2 a bad
  * bundle, row or option (one line on stderr), 1 anything else.
  */
 public final class EdgeMain {
@@ -49,8 +50,12 @@ public final class EdgeMain {
       if (inputs && b.model() == null) return fail(err, escape(file, 200) + ": --inputs needs a bundle exported --with-model");
       out.println("# a calibrated heuristic, not a guarantee: rates hold only for inputs exchangeable with the calibration data");
       out.println("row,score,decision,p_value");
-      String line;
-      for (long row = 0; (line = in.readLine()) != null; row++) {
+      String line = in.readLine();
+      if (inputs && line != null && isHeader(line)) {
+        err.println("note: stdin line 1 taken as a header and skipped (column names, not numbers); row 0 is the next line");
+        line = in.readLine();
+      }
+      for (long row = 0; line != null; row++, line = in.readLine()) {
         long[] code;
         try {
           code = inputs ? b.encode(numbers(line)) : bits(line, b);
@@ -109,6 +114,22 @@ public final class EdgeMain {
    */
   private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?"),
       NOT_FINITE = Pattern.compile("[+-]?(?i:nan|inf|infinity)");
+
+  /**
+   * Whether a first line of raw inputs is a header, as the index's CSV reader decides by default:
+   * every cell is text, or the cells are the column numbers 0, 1, ..., d-1 that pandas writes over
+   * unnamed columns (d at least 3: a line "0" or "0,1" is read as data, since it can be both).
+   */
+  static boolean isHeader(String line) {
+    String[] parts = line.split(",", -1);
+    boolean text = true, numbered = parts.length >= 3;
+    for (int i = 0; i < parts.length; i++) {
+      String f = parts[i].trim();
+      if (DECIMAL.matcher(f).matches() || NOT_FINITE.matcher(f).matches() || f.isEmpty()) text = false;
+      if (!f.equals(Integer.toString(i))) numbered = false;
+    }
+    return text || numbered;
+  }
 
   private static double[] numbers(String line) {
     String[] parts = line.split(",", -1); // "1,2," keeps its empty last field (refused below), as the index's CSV reader refuses it

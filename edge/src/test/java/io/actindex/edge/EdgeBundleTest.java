@@ -222,6 +222,17 @@ class EdgeBundleTest {
     assertRefused(run(new String[] {file.toString(), "--input"}, ""), "option or argument '--input' not understood");
     assertRefused(run(new String[] {file.toString(), file.toString()}, ""), "option or argument");
     assertThat(run(new String[] {"--inputs", file.toString()}, "1,2,3\n").code).isZero(); // either order
+    // a header line (pandas' column numbers, or names) is skipped with a note, and the rows after it are
+    // numbered from 0: the column numbers were scored as an input row 0 (exit 0), names refused
+    Run plain = run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1,2,3\n");
+    for (String header : List.of("0,1,2", "a,b,c", "\"x 0\",y,z")) {
+      Run h = run(new String[] {file.toString(), "--inputs"}, header + "\n0.5,2,3\n1,2,3\n");
+      assertThat(h.code).as(header + ": " + h.err).isZero();
+      assertThat(h.out).as(header).isEqualTo(plain.out);
+      assertThat(h.err).as(header).contains("note: stdin line 1 taken as a header");
+    }
+    assertThat(plain.err).isEmpty();
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, ",0,1\n1,2,3\n"), "stdin row 0: column 0: '' is not a number");
     assertThat(run(new String[] {"--help"}, "").out).startsWith("usage: java -jar actindex-edge.jar BUNDLE");
     // rows of the wrong width or content, as codes and as inputs
     String ok = "0".repeat(70);

@@ -211,7 +211,8 @@ public final class Compare {
       if (rb.notes() != null) notes.addAll(rb.notes());
       if (!a.layout().equals(b.layout()))
         throw new BadInputException(sb.brief() + ": sample B has layout " + b.layout() + " (" + b.layout().bits()
-            + " bits), sample A " + a.layout() + " (" + a.layout().bits() + " bits)");
+            + " bits), sample A " + a.layout() + " (" + a.layout().bits() + " bits)"
+            + notes.stream().filter(n -> n.contains("looks like a row index")).map(n -> "; " + n).collect(java.util.stream.Collectors.joining()));
     }
     if (!p.layers().isEmpty()) {
       CodeLayout target = subLayout(a.layout(), p.layers());

@@ -2,6 +2,7 @@ package io.actindex.query;
 
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
+import io.actindex.core.Hits;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.edge.EdgeBundle.Statistic;
 import io.actindex.index.store.IndexReader;
@@ -80,12 +81,18 @@ public final class OodCalibrate {
       String file = source.file().toString();
       int[] overlap = overlap(reader, qa.codes());
       boolean looksLikeTraining = overlap[1] > 0 && 2L * overlap[0] >= overlap[1];
+      String found = overlap[0] + " of " + overlap[1] + " rows have exactly the code of the index example with the same id";
+      int rowCount = qa.codes().codes().size();
+      if (!looksLikeTraining && qa.activations() != null && reader.hasMagnitudes()) {
+        // training rows in another order, or a part of them saved to a file of its own
+        int copies = copies(reader, qa);
+        looksLikeTraining = rowCount > 0 && 2L * copies >= rowCount;
+        found = copies + " of " + rowCount + " rows are copies of indexed examples (the same code, and activations within the rounding of the kept magnitudes)";
+      }
       if (looksLikeTraining && p.checkOverlap())
-        throw new BadInputException(file + ": " + overlap[0] + " of " + overlap[1] + " rows have exactly the code of the index example with the same id; "
-            + "these look like training rows (calibrate with held-out inputs the index does not hold)");
+        throw new BadInputException(file + ": " + found + "; these look like training rows (calibrate with held-out inputs the index does not hold)");
       if (looksLikeTraining)
-        warnings.add(file + ": " + overlap[0] + " of " + overlap[1] + " rows have exactly the code of the index example with the same id, "
-            + "as rows of the training file would; their scores are optimistically low and the threshold flags too much "
+        warnings.add(file + ": " + found + ", as rows of the training file would; their scores are optimistically low and the threshold flags too much "
             + "(calibrate with held-out inputs the index does not hold; --check-overlap refuses such a file)");
       double[] scores = scorer.values(qa, progress, p.threads());
       scoring = kind == OodScorer.Kind.CODE ? OodCalibration.Scoring.CODE : new OodCalibration.Scoring(kind, cands);
@@ -119,6 +126,35 @@ public final class OodCalibrate {
   /** Nearest-rank quantile of ascending values. */
   static double nearestRank(double[] sorted, double q) {
     return sorted[Math.max(0, (int) Math.ceil(q * sorted.length - 1e-9) - 1)];
+  }
+
+  /**
+   * How many query rows are copies of a live example: the same code, and each activation within one
+   * rounding step of that example's kept magnitude (two half steps: a compaction may have rounded
+   * the kept value twice). Held-out rows that share an example's region differ from it by far more
+   * than the 8-bit rounding, so this finds training rows in any order, which {@link #overlap}
+   * (row i against id i) does not.
+   */
+  static int copies(IndexReader reader, QuerySource.Queries q) {
+    int bits = reader.layout().bits();
+    float[] kept = new float[bits], err = new float[bits], acts = q.activations();
+    CodeBlock codes = q.codes().codes();
+    int copies = 0;
+    for (int i = 0; i < codes.size(); i++) {
+      Hits same = reader.searchRadius(codes.code(i), 0, null, null);
+      boolean copy = false;
+      for (int h = 0; h < same.size() && !copy; h++) {
+        int id = same.ord(h);
+        if (!reader.magnitudes(id, kept, 0) || !reader.magnitudeErrors(id, err, 0)) continue;
+        copy = true;
+        for (int j = 0; j < bits && copy; j++) {
+          float a = acts[i * bits + j];
+          copy = Math.abs(a - kept[j]) <= 2 * err[j] + 1e-6f * Math.max(1f, Math.abs(a));
+        }
+      }
+      if (copy) copies++;
+    }
+    return copies;
   }
 
   /**

@@ -249,6 +249,18 @@ public final class IndexReader implements AutoCloseable {
     return true;
   }
 
+  /**
+   * Writes the largest rounding error of each kept magnitude of live id {@code id} (half its
+   * segment's step per unit) to {@code out[off..]}; false (nothing written) when its segment keeps none.
+   */
+  public boolean magnitudeErrors(int id, float[] out, int off) {
+    if (!isLive(id)) throw new IllegalArgumentException("id " + id + " is not live in index " + dir);
+    Magnitudes m = magnitudes.get(segmentOf(id));
+    if (m == null) return false;
+    for (int j = 0; j < m.units(); j++) out[off + j] = m.maxError(j);
+    return true;
+  }
+
   /** Calls {@code consumer} with every live id in ascending order. */
   public void forEachLive(IntConsumer consumer) {
     for (Segment s : segments)
