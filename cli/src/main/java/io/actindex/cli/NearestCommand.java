@@ -56,9 +56,10 @@ final class NearestCommand implements Callable<Integer> {
           "exclude: only the first K by (distance, id). Not with --refine. Default: ${DEFAULT-VALUE}."})
   VoteTies voteTies;
 
-  @Option(names = "--refine", paramLabel = "METRIC",
+  @Option(names = "--refine", paramLabel = "METRIC", arity = "0..1", fallbackValue = "cosine",
       description = "Re-rank the Hamming candidates by cosine or euclidean distance between the query's activations and the"
-          + " examples' kept magnitudes (index built with --magnitudes; queries from --activations or --inputs).")
+          + " examples' kept magnitudes (index built with --magnitudes; queries from --activations or --inputs)."
+          + " --refine alone: cosine.")
   String refine;
 
   @Option(names = "--candidates", paramLabel = "C",

@@ -95,6 +95,17 @@ class RefineFidelityEndToEndTest {
     Cli.Result csv = Cli.run("nearest", "--index", idx.toString(), "--activations", queries.toString(), "-k", "2",
         "--refine", "cosine", "--format", "csv");
     assertThat(csv.out().lines().findFirst().orElseThrow()).startsWith("query,rank,id,key,distance,refined_distance");
+    // --refine with no metric (before another option, or last) is cosine: the same output as typing it
+    Cli.Result bare = Cli.run("nearest", "--index", idx.toString(), "--activations", queries.toString(), "--refine", "-k", "2",
+        "--format", "csv");
+    assertThat(bare.code()).as(bare.describe()).isZero();
+    assertThat(bare.out()).isEqualTo(csv.out());
+    Cli.Result last = Cli.run("nearest", "--index", idx.toString(), "--activations", queries.toString(), "-k", "2", "--format", "csv",
+        "--refine");
+    assertThat(last.out()).as(last.describe()).isEqualTo(csv.out());
+    Cli.Result wrong = Cli.run("nearest", "--index", idx.toString(), "--activations", queries.toString(), "--refine", "manhattan");
+    assertThat(wrong.code()).as(wrong.describe()).isEqualTo(2);
+    assertThat(wrong.err()).as(wrong.describe()).contains("manhattan");
   }
 
   @Test
