@@ -105,8 +105,7 @@ final class DupesCommand implements Callable<Integer> {
       PairSink sink = file == null ? null : file::pair;
       if (against == null) joined = Dupes.run(reader, p, sink, bar);
       else {
-        Source.Kind k = kind != null ? kind : QuerySource.kindOf(reader, against, h, "--kind");
-        matched = Dupes.against(reader, p, new Source(k, against, null, h), sink, bar);
+        matched = Dupes.against(reader, p, QuerySource.sourceOf(reader, kind, against, h, "--kind"), sink, bar);
       }
       if (file != null) file.commit();
       live = reader.liveCount();

@@ -108,9 +108,10 @@ public final class EdgeMain {
   }
 
   /**
-   * A decimal number as the index's CSV reader takes one: Java's own parser also takes {@code 1f},
-   * {@code 1d} and hexadecimal {@code 0x1p3}, which the index refuses, so an input the index would
-   * refuse is never scored here.
+   * A decimal number as the index's CSV reader takes one (the same patterns as {@code
+   * CsvMatrixReader}'s, written again because this module depends on nothing): Java's own parser
+   * also takes {@code 1f}, {@code 1d} and hexadecimal {@code 0x1p3}, which the index refuses, so an
+   * input the index would refuse is never scored here.
    */
   private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?"),
       NOT_FINITE = Pattern.compile("[+-]?(?i:nan|inf|infinity)");

@@ -379,7 +379,7 @@ public final class Compare {
   private static Sample ofIndexKind(IndexReader reader, Sample s) {
     if (!s.kindFromIndex()) return s;
     Source src = s.source();
-    return Sample.file(new Source(QuerySource.kindOf(reader, src.file(), src.header(), "--kind"), src.file(), null, src.header()));
+    return Sample.file(QuerySource.sourceOf(reader, null, src.file(), src.header(), "--kind"));
   }
 
   /** A sample's codes (and a file's column names) from the index: a file encoded as the index was built, or the examples --where selects. */

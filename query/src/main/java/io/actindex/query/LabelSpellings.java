@@ -1,5 +1,6 @@
 package io.actindex.query;
 
+import io.actindex.encode.io.CsvMatrixReader;
 import java.math.BigDecimal;
 import java.util.HashMap;
 import java.util.LinkedHashSet;
@@ -7,7 +8,6 @@ import java.util.List;
 import java.util.Map;
 import java.util.Set;
 import java.util.function.Predicate;
-import java.util.regex.Pattern;
 
 /**
  * Labels that write the same number two ways ({@code 3} and {@code 3.0}): labels are compared as
@@ -23,11 +23,9 @@ final class LabelSpellings {
   /** Most distinct labels of a batch looked up in an index (each costs two term look-ups). */
   static final int MAX_LOOKUPS = 10_000;
 
-  private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
-
   /** {@code label} as a number with no trailing zeros ({@code 3.0 -> 3}, {@code 2.50 -> 2.5}), or null if it is none. */
   static String number(String label) {
-    if (label == null || label.isEmpty() || label.length() > 40 || !DECIMAL.matcher(label).matches()) return null;
+    if (label == null || label.isEmpty() || label.length() > 40 || !CsvMatrixReader.isDecimal(label)) return null;
     try {
       return new BigDecimal(label).stripTrailingZeros().toPlainString();
     } catch (NumberFormatException | ArithmeticException e) {

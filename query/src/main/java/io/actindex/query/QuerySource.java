@@ -61,6 +61,11 @@ public final class QuerySource {
    * both cannot be told apart: refused, naming the file and asking for the kind ({@code option}).
    * {@code header}: whether a CSV file's first line is a header.
    */
+  /** {@code file} as a source of the kind {@code given}, or (null) of the kind {@link #kindOf} tells. */
+  public static Source sourceOf(IndexReader reader, Source.Kind given, Path file, CsvMatrixReader.Header header, String option) {
+    return new Source(given != null ? given : kindOf(reader, file, header, option), file, null, header);
+  }
+
   public static Source.Kind kindOf(IndexReader reader, Path file, CsvMatrixReader.Header header, String option) {
     BuildInfo info = BuildInfo.fromProperties(reader.properties(), reader.dir().toString());
     if (info.kind() != Source.Kind.INPUTS) return info.kind();

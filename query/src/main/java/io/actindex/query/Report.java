@@ -94,9 +94,7 @@ public final class Report {
 
   /** A comparison file as a source of its given kind, or of the kind the index tells ({@code --compare-kind} names the way out); null for none. */
   private static Source compareSource(IndexReader reader, Params p, Path file) {
-    if (file == null) return null;
-    Source.Kind kind = p.compareKind() != null ? p.compareKind() : QuerySource.kindOf(reader, file, p.compareHeader(), "--compare-kind");
-    return new Source(kind, file, null, p.compareHeader());
+    return file == null ? null : QuerySource.sourceOf(reader, p.compareKind(), file, p.compareHeader(), "--compare-kind");
   }
 
   /** Writes through a temporary file beside {@code out}, then renames it into place. */

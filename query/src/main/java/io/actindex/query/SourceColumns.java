@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.Json;
 import java.util.ArrayList;
 import java.util.HashMap;
@@ -83,11 +84,10 @@ final class SourceColumns {
     return true;
   }
 
-  private static final java.util.regex.Pattern NUMBER = java.util.regex.Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
 
   /** Every name is a decimal number (other column numbers, or a first row of data read as a header with --header yes). */
   private static boolean numbers(List<String> names) {
-    for (String s : names) if (!NUMBER.matcher(s).matches()) return false;
+    for (String s : names) if (!CsvMatrixReader.isDecimal(s)) return false;
     return true;
   }
 

@@ -235,11 +235,19 @@ public final class CsvMatrixReader implements MatrixReader {
     }
   }
 
-  /** A decimal number, or a NaN/infinity word (recognised so that it is refused as a value, not taken for a header). */
-  private static final Pattern NUMBER = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?|[+-]?(?i:nan|inf|infinity)");
+  /** A decimal number as a cell of data may write one (no {@code 1f}, no hexadecimal). */
+  private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
+
+  /** A NaN/infinity word (recognised so that it is refused as a value, not taken for a header). */
+  private static final Pattern NOT_FINITE = Pattern.compile("[+-]?(?i:nan|inf|infinity)");
+
+  /** Whether {@code s} is a decimal number as this reader takes one ({@code 3}, {@code -0.5}, {@code 1e-3}). */
+  public static boolean isDecimal(String s) {
+    return DECIMAL.matcher(s).matches();
+  }
 
   private static boolean isNumber(String s) {
-    return NUMBER.matcher(s).matches();
+    return isDecimal(s) || NOT_FINITE.matcher(s).matches();
   }
 
   /** The next non-blank line, decoded strictly as UTF-8, or null at the end. */
