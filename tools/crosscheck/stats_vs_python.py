@@ -30,7 +30,10 @@ import warnings
 import numpy as np
 import pandas as pd
 from safetensors.numpy import save_file
-from scipy import linalg, optimize, stats
+
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "golden"))
+from reference_stats import exact_w2, mmd2_unbiased  # noqa: E402
+from scipy import linalg, stats
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 from scipy.spatial import distance
@@ -57,23 +60,6 @@ def run(*args):
     return json.loads(r.stdout) if "--format" in args and "json" in args else r.stdout
 
 
-def mmd2u(K, m):
-    n = K.shape[0] - m
-    kxx, kyy, kxy = K[:m, :m], K[m:, m:], K[:m, m:]
-    return (kxx.sum() - np.trace(kxx)) / (m * (m - 1)) + (kyy.sum() - np.trace(kyy)) / (n * (n - 1)) - 2 * kxy.sum() / (m * n)
-
-
-def exact_w2(a, b):
-    m, n, L = len(a), len(b), a.shape[1]
-    C = (distance.cdist(a, b, "hamming") * L) ** 2
-    if m == n:
-        r, c = optimize.linear_sum_assignment(C)
-        return np.sqrt(C[r, c].mean())
-    rows = [np.kron(np.eye(m)[i], np.ones(n)) for i in range(m)] + [np.kron(np.ones(m), np.eye(n)[j]) for j in range(n)]
-    res = optimize.linprog(C.ravel(), A_eq=np.array(rows), b_eq=np.r_[np.full(m, 1 / m), np.full(n, 1 / n)], bounds=(0, None), method="highs")
-    return np.sqrt(max(res.fun, 0))
-
-
 def compare_case(name, a, b):
     np.save(f"{name}_a.npy", a.astype(np.float32))
     np.save(f"{name}_b.npy", b.astype(np.float32))
@@ -85,9 +71,9 @@ def compare_case(name, a, b):
     iu = np.triu_indices(m + n, 1)
     med = np.median(D[iu])
     sigma = med if med > 0 else 1.0
-    check(f"compare {name}: agreement MMD^2", abs(j["mmd"][0]["mmd2"] - mmd2u(1 - D / L, m)) < 1e-9)
+    check(f"compare {name}: agreement MMD^2", abs(j["mmd"][0]["mmd2"] - mmd2_unbiased(1 - D / L, m)) < 1e-9)
     check(f"compare {name}: median sigma", j["mmd"][1]["sigma"] == sigma, f'{j["mmd"][1]["sigma"]} vs {sigma}')
-    check(f"compare {name}: exponential MMD^2", abs(j["mmd"][1]["mmd2"] - mmd2u(np.exp(-D / sigma), m)) < 1e-9)
+    check(f"compare {name}: exponential MMD^2", abs(j["mmd"][1]["mmd2"] - mmd2_unbiased(np.exp(-D / sigma), m)) < 1e-9)
     w, ex = j["w2"], exact_w2(ca.astype(np.uint8), cb.astype(np.uint8))
     if w["method"] == "exact":
         check(f"compare {name}: exact W2", abs(w["w2"] - ex) < 1e-9, f'{w["w2"]} vs {ex}')
@@ -113,7 +99,7 @@ def compare_case(name, a, b):
         E = distance.cdist(F, F)
         s = np.median(E[iu])
         s = s if s > 0 else 1.0
-        check(f"compare {name}: Gaussian MMD^2", abs(j["floats"]["mmd"]["mmd2"] - mmd2u(np.exp(-E ** 2 / (2 * s * s)), m)) < 1e-9)
+        check(f"compare {name}: Gaussian MMD^2", abs(j["floats"]["mmd"]["mmd2"] - mmd2_unbiased(np.exp(-E ** 2 / (2 * s * s)), m)) < 1e-9)
 
 
 def compares():

@@ -21,6 +21,7 @@ import sys
 import numpy as np
 from scipy import linalg, optimize, stats
 from scipy.spatial import distance
+from reference_stats import mmd2_unbiased
 
 out = sys.argv[1] if len(sys.argv) > 1 else "compare"
 os.makedirs(out, exist_ok=True)
@@ -30,13 +31,6 @@ lines = []
 
 def put(name, value):
     lines.append(f"{name} {float(value)!r}")
-
-
-def mmd2_unbiased(K, m):
-    n = K.shape[0] - m
-    kxx, kyy, kxy = K[:m, :m], K[m:, m:], K[:m, m:]
-    return ((kxx.sum() - np.trace(kxx)) / (m * (m - 1)) + (kyy.sum() - np.trace(kyy)) / (n * (n - 1))
-            - 2 * kxy.sum() / (m * n))
 
 
 def p_value(K, m, perms):

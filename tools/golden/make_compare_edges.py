@@ -22,8 +22,9 @@ import sys
 
 import numpy as np
 import scipy
-from scipy import optimize, stats
+from scipy import stats
 from scipy.spatial import distance
+from reference_stats import exact_w2, mmd2_unbiased
 
 out = sys.argv[1] if len(sys.argv) > 1 else "compare_edges"
 os.makedirs(out, exist_ok=True)
@@ -33,26 +34,6 @@ lines = [f"# made by tools/golden/make_compare_edges.py with numpy {np.__version
 
 def put(name, value):
     lines.append(f"{name} {float(value)!r}")
-
-
-def mmd2_unbiased(K, m):
-    n = K.shape[0] - m
-    kxx, kyy, kxy = K[:m, :m], K[m:, m:], K[:m, m:]
-    return ((kxx.sum() - np.trace(kxx)) / (m * (m - 1)) + (kyy.sum() - np.trace(kyy)) / (n * (n - 1))
-            - 2 * kxy.sum() / (m * n))
-
-
-def exact_w2(a, b):
-    m, n, L = len(a), len(b), a.shape[1]
-    C = (distance.cdist(a, b, "hamming") * L) ** 2
-    if m == n:
-        r, c = optimize.linear_sum_assignment(C)
-        return np.sqrt(C[r, c].mean())
-    rows = [np.kron(np.eye(m)[i], np.ones(n)) for i in range(m)] + [np.kron(np.ones(m), np.eye(n)[j]) for j in range(n)]
-    res = optimize.linprog(C.ravel(), A_eq=np.array(rows), b_eq=np.r_[np.full(m, 1 / m), np.full(n, 1 / n)],
-                           bounds=(0, None), method="highs")
-    assert res.status == 0
-    return np.sqrt(max(res.fun, 0.0))
 
 
 def case(name, a, b):
