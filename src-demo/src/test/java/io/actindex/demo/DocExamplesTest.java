@@ -2,6 +2,7 @@ package io.actindex.demo;
 
 import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatIllegalArgumentException;
+import static org.assertj.core.api.Assertions.assertThatIllegalStateException;
 
 import io.actindex.cli.Main;
 import java.io.IOException;
@@ -35,6 +36,14 @@ import org.junit.jupiter.api.io.TempDir;
  * wrote, e.g. a calibration), in-process through {@link Main#run}. {@code actindex-demo} becomes the
  * copy, the value of an output option ({@link #OUTPUTS}) a file in a scratch folder of the page.
  * Expected: exit 0, or the code a trailing comment states ({@code # refused: exit 2}).
+ *
+ * <p>A quoted output: a line {@code <!-- output of: COMMAND -->} outside the fenced blocks, right
+ * before one, says that the block quotes what COMMAND prints (a demo example as above, or {@code
+ * bin/actindex demo} itself). COMMAND runs at that place of the page like an example, and the block
+ * must be found in its stdout and stderr, the copy's path written {@code actindex-demo} and the
+ * scratch folder's left out, as {@link QuotedOutput} compares them (whitespace free, {@code ...}
+ * for what is left out, numbers rounded). So leave timings, sizes on disk and paths outside the
+ * demo folder out of a checked quote.
  */
 class DocExamplesTest {
   @TempDir Path tmp;
@@ -50,7 +59,17 @@ class DocExamplesTest {
 
   private static final Pattern EXIT = Pattern.compile("\\bexit (\\d+)\\b");
 
-  record Example(String file, int line, String command, int expectedExit) {
+  /** A line saying that the next fenced block quotes what a command prints. */
+  private static final Pattern QUOTES = Pattern.compile("<!-- output of: (.+) -->");
+
+  static final String DEMO = "bin/actindex demo";
+
+  /** One command line of a page; {@code quoted} the block that quotes its output, or null. */
+  record Example(String file, int line, String command, int expectedExit, String quoted) {
+    Example(String file, int line, String command, int expectedExit) {
+      this(file, line, command, expectedExit, null);
+    }
+
     String where() {
       return file + ":" + line;
     }
@@ -70,17 +89,24 @@ class DocExamplesTest {
     Path demo = tmp.resolve("demo");
     String[] made = run("demo", "--out", demo.toString());
     assertThat(made[0]).as("the demo: " + made[1] + made[2]).isEqualTo("0");
+    String demoPrinted = made[1].replace(demo.toString(), "actindex-demo");
 
     Map<String, List<Example>> byFile = new LinkedHashMap<>();
     for (Example e : examples) byFile.computeIfAbsent(e.file(), f -> new ArrayList<>()).add(e);
     List<String> failures = new ArrayList<>();
-    int ran = 0, page = 0;
+    int ran = 0, page = 0, quotes = 0;
     for (List<Example> onPage : byFile.values()) {
       Path folder = tmp.resolve("page" + page++);
       Path copy = copyTree(demo, folder.resolve("actindex-demo"));
       Path scratch = Files.createDirectories(folder.resolve("out"));
       for (Example e : onPage) {
         if (NOT_RUNNABLE.containsKey(e.command())) continue;
+        if (e.quoted() != null) quotes++;
+        if (e.command().equals(DEMO)) {
+          String differs = QuotedOutput.mismatch(e.quoted(), demoPrinted);
+          if (differs != null) failures.add(e.where() + ": the quoted output differs from the demo's:\n  " + differs);
+          continue;
+        }
         ran++;
         String[] args;
         try {
@@ -98,11 +124,16 @@ class DocExamplesTest {
         if (!r[0].equals(Integer.toString(e.expectedExit()))) {
           failures.add(e.where() + ": exit " + r[0] + ", expected " + e.expectedExit() + ": " + e.command()
               + "\n  stderr: " + r[2].strip().replace("\n", "\n          "));
+        } else if (e.quoted() != null) {
+          String printed = (r[1] + "\n" + r[2]).replace(scratch + "/", "").replace(copy.toString(), "actindex-demo");
+          String differs = QuotedOutput.mismatch(e.quoted(), printed);
+          if (differs != null) failures.add(e.where() + ": the quoted output differs from what " + e.command() + " prints:\n  " + differs);
         }
       }
     }
-    System.out.printf("doc examples: %d found, %d run, %d listed as not runnable%n", examples.size(), ran,
-        examples.size() - ran);
+    System.out.printf("doc examples: %d found, %d run, %d listed as not runnable; %d quoted outputs compared%n",
+        examples.size(), ran, NOT_RUNNABLE.size(), quotes);
+    assertThat(quotes).as("quoted outputs found in the docs").isPositive();
     assertThat(failures).as("doc examples that no longer run as written").isEmpty();
   }
 
@@ -125,6 +156,28 @@ class DocExamplesTest {
         new Example("p.md", 6, "bin/actindex compare --index actindex-demo/index --a-where \"split = train\" --b-where 'line = L1' --top 5", 0),
         new Example("p.md", 8, "bin/actindex dupes --index actindex-demo/index --radius -1", 2),
         new Example("p.md", 10, "printf 'k1\\nk2\\n' > actindex-demo/keys.txt", 0));
+  }
+
+  @Test
+  void anOutputQuoteTakesTheBlockAfterIt() {
+    List<String> page = List.of(
+        "<!-- output of: bin/actindex check --index actindex-demo/index -->",
+        "",
+        "```",
+        "index actindex-demo/index ...",
+        "  seg-0.codes ... ok",
+        "```",
+        "<!-- output of: bin/actindex demo -->",
+        "```",
+        "```");
+    assertThat(examples("p.md", page)).containsExactly(
+        new Example("p.md", 1, "bin/actindex check --index actindex-demo/index", 0,
+            "index actindex-demo/index ...\n  seg-0.codes ... ok"),
+        new Example("p.md", 7, "bin/actindex demo", 0, ""));
+    assertThatIllegalStateException().isThrownBy(() -> examples("p.md", List.of("<!-- output of: bin/actindex info --index my-index -->", "```", "```")))
+        .withMessageContaining("p.md:1");
+    assertThatIllegalStateException().isThrownBy(() -> examples("p.md", List.of("<!-- output of: bin/actindex demo -->", "text", "```", "```")))
+        .withMessageContaining("not followed by a fenced block");
   }
 
   @Test
@@ -167,7 +220,10 @@ class DocExamplesTest {
     return docs;
   }
 
-  /** The demo examples of one page: command lines in fenced blocks, continuations joined. */
+  /**
+   * The demo examples of one page: command lines in fenced blocks, continuations joined, and the
+   * commands of {@code <!-- output of: ... -->} lines with the block after them.
+   */
   static List<Example> examples(String file, List<String> lines) {
     List<Example> out = new ArrayList<>();
     boolean fenced = false;
@@ -177,7 +233,11 @@ class DocExamplesTest {
         fenced = !fenced;
         continue;
       }
-      if (!fenced) continue;
+      if (!fenced) {
+        Matcher q = QUOTES.matcher(line);
+        if (q.matches()) out.add(quote(file, lines, i, q.group(1)));
+        continue;
+      }
       int first = i;
       StringBuilder joined = new StringBuilder();
       while (line.endsWith("\\") && i + 1 < lines.size()) {
@@ -193,6 +253,26 @@ class DocExamplesTest {
       out.add(new Example(file, first + 1, command, m.find() ? Integer.parseInt(m.group(1)) : 0));
     }
     return out;
+  }
+
+  /** The example of an {@code <!-- output of: TEXT -->} line, with the fenced block that follows it. */
+  private static Example quote(String file, List<String> lines, int at, String text) {
+    String where = file + ":" + (at + 1);
+    int hash = commentStart(text);
+    String command = (hash < 0 ? text : text.substring(0, hash)).strip().replaceAll("\\s+", " ");
+    if (!command.equals(DEMO) && !(command.startsWith("bin/actindex ") && command.contains("actindex-demo/"))) {
+      throw new IllegalStateException(where + ": an output quote names a command that is not a demo example: " + command);
+    }
+    int open = at + 1;
+    while (open < lines.size() && lines.get(open).isBlank()) open++;
+    int close = open + 1;
+    while (close < lines.size() && !lines.get(close).strip().startsWith("```")) close++;
+    if (open >= lines.size() || !lines.get(open).strip().startsWith("```") || close >= lines.size()) {
+      throw new IllegalStateException(where + ": an output quote is not followed by a fenced block");
+    }
+    Matcher m = EXIT.matcher(hash < 0 ? "" : text.substring(hash));
+    return new Example(file, at + 1, command, m.find() ? Integer.parseInt(m.group(1)) : 0,
+        String.join("\n", lines.subList(open + 1, close)));
   }
 
   /** Where an unquoted {@code #} starts a word (a shell comment), or -1. */
