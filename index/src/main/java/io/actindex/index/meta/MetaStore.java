@@ -30,6 +30,7 @@ import org.apache.lucene.index.Term;
 import org.apache.lucene.search.CollectorManager;
 import org.apache.lucene.search.FieldExistsQuery;
 import org.apache.lucene.search.IndexSearcher;
+import org.apache.lucene.search.MatchAllDocsQuery;
 import org.apache.lucene.search.Query;
 import org.apache.lucene.search.ScoreMode;
 import org.apache.lucene.search.SimpleCollector;
@@ -406,11 +407,11 @@ public final class MetaStore implements Closeable {
   }
 
   /**
-   * The live ids whose row holds a value in column {@code field} (any text; bare ids hold only their
-   * key), a set over {@code [0, maxId)}: a search filter of the reader this store belongs to.
+   * The live ids whose row holds a value in column {@code field} (every live id for {@code key}; a bare
+   * id holds no other), a set over {@code [0, maxId)}: a search filter of the reader this store belongs to.
    */
   public IdSet selectHaving(String field) {
-    return select(new FieldExistsQuery(field));
+    return select(field.equals(MetaSchema.KEY) ? MatchAllDocsQuery.INSTANCE : new FieldExistsQuery(field));
   }
 
   /**
