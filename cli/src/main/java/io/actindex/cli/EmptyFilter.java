@@ -7,7 +7,7 @@ import picocli.CommandLine.ParameterException;
  * The one rule of every option that takes a metadata filter ({@code --where}, compare's {@code
  * --a-where}/{@code --b-where}): an empty or blank expression, as an unset shell variable gives, is
  * refused (exit 2) before any work, never read as "every example"; leaving the option out is how to
- * say that. The query module's {@code Where} refuses it too, for library callers.
+ * say that. The index module's {@code Where} refuses it too, for library callers.
  */
 final class EmptyFilter {
   private EmptyFilter() {}

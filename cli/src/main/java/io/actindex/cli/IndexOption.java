@@ -1,8 +1,8 @@
 package io.actindex.cli;
 
 import io.actindex.core.BadInputException;
+import io.actindex.index.meta.Where;
 import io.actindex.index.store.IndexReader;
-import io.actindex.query.Where;
 import java.io.PrintWriter;
 import java.nio.file.Files;
 import java.nio.file.Path;

@@ -4,8 +4,8 @@ import static org.assertj.core.api.Assertions.assertThat;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import io.actindex.cli.format.JsonWriterTest;
+import io.actindex.index.meta.Where;
 import io.actindex.query.MetaCsv;
-import io.actindex.query.Where;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;

@@ -9,6 +9,7 @@ import io.actindex.encode.Encoders;
 import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.MatrixReader;
 import io.actindex.encode.io.NpzReader;
+import io.actindex.index.meta.Where;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.stats.AgreementMmd;
 import io.actindex.query.stats.FiringRates;

@@ -2,6 +2,7 @@ package io.actindex.query;
 
 import io.actindex.core.BadInputException;
 import io.actindex.index.meta.MetaStore;
+import io.actindex.index.meta.Where;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import java.io.IOException;

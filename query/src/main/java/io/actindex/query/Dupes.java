@@ -4,6 +4,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.IdSet;
+import io.actindex.index.meta.Where;
 import io.actindex.index.mih.DistinctCodes;
 import io.actindex.index.mih.PairSink;
 import io.actindex.index.mih.RadiusMatcher;

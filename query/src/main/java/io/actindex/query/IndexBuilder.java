@@ -24,8 +24,6 @@ import java.util.Comparator;
 import java.util.List;
 import java.util.Map;
 import java.util.stream.Stream;
-import org.apache.lucene.index.Term;
-import org.apache.lucene.search.TermQuery;
 
 /**
  * Builds an index from a source, or adds a source to an existing index, with optional metadata.
@@ -270,7 +268,7 @@ public final class IndexBuilder {
       meta = readMeta(p.meta(), codes, p.source());
       if (meta != null) {
         String spelt = LabelSpellings.note(p.meta().file().toString(), meta,
-            label -> !r.meta().select(new TermQuery(new Term("label", label))).isEmpty());
+            label -> !r.meta().selectEqual("label", label).isEmpty());
         if (spelt != null) notes.add(spelt);
       }
       if (meta != null)

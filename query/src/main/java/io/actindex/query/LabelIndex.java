@@ -5,9 +5,6 @@ import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
 import java.util.Map;
-import org.apache.lucene.index.Term;
-import org.apache.lucene.search.FieldExistsQuery;
-import org.apache.lucene.search.TermQuery;
 
 /**
  * The label of every live id, read with one filter per distinct label instead of one document
@@ -34,7 +31,7 @@ final class LabelIndex {
     Arrays.fill(labelOf, -1);
     List<String> names = new ArrayList<>();
     if (!meta.fields().containsKey(field)) return new LabelIndex(names, labelOf);
-    for (int id : meta.select(new FieldExistsQuery(field)).toArray()) {
+    for (int id : meta.selectHaving(field).toArray()) {
       if (id >= maxId || labelOf[id] >= 0) continue; // placed with an earlier id's label
       Map<String, String> doc = meta.document(id);
       String label = doc == null ? null : doc.get(field);
@@ -42,7 +39,7 @@ final class LabelIndex {
       int index = names.size();
       names.add(label);
       labelOf[id] = index;
-      for (int i : meta.select(new TermQuery(new Term(field, label))).toArray()) if (i < maxId) labelOf[i] = index;
+      for (int i : meta.selectEqual(field, label).toArray()) if (i < maxId) labelOf[i] = index;
     }
     return new LabelIndex(names, labelOf);
   }

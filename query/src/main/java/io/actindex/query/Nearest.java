@@ -6,6 +6,7 @@ import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
 import io.actindex.core.IdSet;
 import io.actindex.index.meta.MetaStore;
+import io.actindex.index.meta.Where;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
 import java.util.Arrays;

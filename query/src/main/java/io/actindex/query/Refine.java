@@ -4,6 +4,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hits;
 import io.actindex.core.IdSet;
+import io.actindex.index.meta.Where;
 import io.actindex.index.store.IndexReader;
 import java.util.ArrayList;
 import java.util.Arrays;

@@ -34,7 +34,7 @@ import org.junit.jupiter.api.io.TempDir;
 class DocSnippetsTest {
   @TempDir Path tmp;
 
-  private static final String IMPORTS = "import io.actindex.core.*; import io.actindex.encode.*; import io.actindex.index.store.*;"
+  private static final String IMPORTS = "import io.actindex.core.*; import io.actindex.encode.*; import io.actindex.index.meta.*; import io.actindex.index.store.*;"
       + " import io.actindex.query.*; import java.nio.file.Path; import java.util.List;\n";
 
   @Test

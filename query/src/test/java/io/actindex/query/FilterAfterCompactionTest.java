@@ -9,6 +9,7 @@ import io.actindex.core.CodeLayout;
 import io.actindex.core.IdSet;
 import io.actindex.core.PopcountReference;
 import io.actindex.core.Randoms;
+import io.actindex.index.meta.Where;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import java.nio.file.Path;

@@ -8,6 +8,7 @@ import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Randoms;
 import io.actindex.core.SyntheticCodes;
+import io.actindex.index.meta.Where;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import io.actindex.index.store.Magnitudes;

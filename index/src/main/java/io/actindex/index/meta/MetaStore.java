@@ -28,7 +28,9 @@ import org.apache.lucene.index.LeafReaderContext;
 import org.apache.lucene.index.NumericDocValues;
 import org.apache.lucene.index.Term;
 import org.apache.lucene.search.CollectorManager;
+import org.apache.lucene.search.FieldExistsQuery;
 import org.apache.lucene.search.IndexSearcher;
+import org.apache.lucene.search.MatchAllDocsQuery;
 import org.apache.lucene.search.Query;
 import org.apache.lucene.search.ScoreMode;
 import org.apache.lucene.search.SimpleCollector;
@@ -44,11 +46,11 @@ import org.roaringbitmap.RoaringBitmap;
 /**
  * Read side of the metadata store: a Lucene index (subfolder {@code meta}) opened at the commit the
  * manifest names, after every file of that commit passed Lucene's checksum. One document per live
- * code; see {@link MetaSchema} for fields. Filters: build a Lucene {@link Query} ({@code TermQuery}
- * for KEYWORD columns, {@code DoublePoint.newRangeQuery}/{@code newExactQuery} for NUMBER columns,
- * {@code BooleanQuery} to combine) and {@link #select} it into an {@code IdSet}; that is what
- * {@code query}'s {@code Where} does with a where-expression, the way library users filter (Lucene
- * stays an implementation detail). Thread-safe.
+ * code; see {@link MetaSchema} for fields. Filters: {@link Where#select} turns a where-expression
+ * into the {@code IdSet} of live ids it matches, {@link #selectHaving} and {@link #selectEqual} pick
+ * the rows with a value in a column or with one exact text. Inside, each is a Lucene query that
+ * {@link #select} runs; Lucene and RoaringBitmap stay implementation details (no public method takes
+ * or returns their types). Thread-safe.
  *
  * <p>Ids added without metadata have no document ("bare" ids): their row is only the key
  * {@code row-ID}, synthesized here, so a build without metadata writes nothing per example. {@link
@@ -97,19 +99,17 @@ public final class MetaStore implements Closeable {
 
   /**
    * Opens the commit {@code segmentsFile} of the store in {@code metaDir} (for {@link
-   * io.actindex.index.store.IndexReader}, which passes its manifest's sets); ids in {@code [0, maxId)}
-   * that are neither in {@code documented} nor in {@code deleted} are bare (key "row-ID", no
-   * document), {@code deleted} ids are never selected. Every file's checksum is recomputed ({@link
-   * #checksumByReading}); BadInputException names a damaged file.
+   * io.actindex.index.store.IndexReader}, which passes its manifest's sets, both over {@code [0,
+   * maxId)}); ids that are neither in {@code documented} nor in {@code deleted} are bare (key
+   * "row-ID", no document), {@code deleted} ids are never selected. Every file's checksum is
+   * recomputed ({@link #checksumByReading}); BadInputException names a damaged file.
    */
-  public static MetaStore open(Path metaDir, String segmentsFile, RoaringBitmap deleted, RoaringBitmap documented,
-      int maxId) {
+  public static MetaStore open(Path metaDir, String segmentsFile, IdSet deleted, IdSet documented, int maxId) {
+    if (deleted.size() != maxId || documented.size() != maxId)
+      throw new IllegalArgumentException("sets over " + deleted.size() + " and " + documented.size() + " ids, not " + maxId);
     if (!Files.isDirectory(metaDir))
       throw noFolder(metaDir, " (readers never create it)");
-    RoaringBitmap bare = new RoaringBitmap();
-    if (maxId > 0) bare.add(0L, maxId);
-    bare.andNot(documented);
-    bare.andNot(deleted);
+    RoaringBitmap bare = bitmap(IdSet.all(maxId).andNot(documented).andNot(deleted));
     Directory dir = null;
     try {
       dir = FSDirectory.open(metaDir);
@@ -160,13 +160,27 @@ public final class MetaStore implements Closeable {
         IOUtils.close(pinned);
         IOUtils.close(channels);
       }
-      return new MetaStore(dir, reader, kinds(commit.getUserData()), deleted.clone(), bare, maxId);
+      return new MetaStore(dir, reader, kinds(commit.getUserData()), bitmap(deleted), bare, maxId);
     } catch (IOException e) {
       close(dir);
       throw new UncheckedIOException("cannot open metadata store " + metaDir, e);
     } catch (RuntimeException e) {
       close(dir);
       throw e;
+    }
+  }
+
+  /** The members of {@code ids}, runs of consecutive ids added as ranges (a store without metadata: every id bare). */
+  private static RoaringBitmap bitmap(IdSet ids) {
+    RoaringBitmap out = new RoaringBitmap();
+    int[] batch = new int[256];
+    for (int from = 0;;) {
+      int got = ids.next(from, batch);
+      if (got == 0) return out;
+      int last = batch[got - 1];
+      if (last - batch[0] == got - 1) out.add((long) batch[0], last + 1L);
+      else out.addN(batch, 0, got);
+      from = last + 1;
     }
   }
 
@@ -393,10 +407,28 @@ public final class MetaStore implements Closeable {
   }
 
   /**
-   * The live ids matching {@code query}, a set over {@code [0, maxId)}: a search filter of the reader
-   * this store belongs to. The Lucene entry of {@code query}'s {@code Where} and label look-ups.
+   * The live ids whose row holds a value in column {@code field} (every live id for {@code key}; a bare
+   * id holds no other), a set over {@code [0, maxId)}: a search filter of the reader this store belongs to.
    */
-  public IdSet select(Query query) {
+  public IdSet selectHaving(String field) {
+    return select(field.equals(MetaSchema.KEY) ? MatchAllDocsQuery.INSTANCE : new FieldExistsQuery(field));
+  }
+
+  /**
+   * The live ids whose KEYWORD column {@code field} holds exactly {@code text} (a bare id's key
+   * "row-ID" included), a set over {@code [0, maxId)}. A NUMBER column matches nothing here: compare
+   * numbers through {@link Where}.
+   */
+  public IdSet selectEqual(String field, String text) {
+    return select(new TermQuery(new Term(field, text)));
+  }
+
+  /**
+   * The live ids matching {@code query}, a set over {@code [0, maxId)}: a search filter of the reader
+   * this store belongs to. The Lucene entry of {@link Where} and of the look-ups above; package-private,
+   * so that no Lucene type is part of the library's public signatures.
+   */
+  IdSet select(Query query) {
     RoaringBitmap ids;
     try {
       ids = collect(searcher, query);

@@ -84,6 +84,19 @@ public final class IndexReader implements AutoCloseable {
 
   /** The ids below {@code size} that are not in {@code bits}. */
   private static IdSet notIn(RoaringBitmap bits, int size) {
+    long[] words = words(bits, size);
+    for (int i = 0; i < words.length; i++) words[i] = ~words[i];
+    if ((size & 63) != 0) words[words.length - 1] &= -1L >>> (64 - (size & 63));
+    return IdSet.of(words, size);
+  }
+
+  /** The ids below {@code size} that are in {@code bits}. */
+  private static IdSet in(RoaringBitmap bits, int size) {
+    return IdSet.of(words(bits, size), size);
+  }
+
+  /** The ids below {@code size} in {@code bits} as the words of a bitset over {@code [0, size)}. */
+  private static long[] words(RoaringBitmap bits, int size) {
     long[] words = new long[(size + 63) >>> 6];
     org.roaringbitmap.BatchIterator it = bits.getBatchIterator();
     int[] buf = new int[256];
@@ -94,9 +107,7 @@ public final class IndexReader implements AutoCloseable {
         if (id >= 0 && id < size) words[id >>> 6] |= 1L << (id & 63);
       }
     }
-    for (int i = 0; i < words.length; i++) words[i] = ~words[i];
-    if ((size & 63) != 0) words[words.length - 1] &= -1L >>> (64 - (size & 63));
-    return IdSet.of(words, size);
+    return words;
   }
 
   /**
@@ -159,7 +170,8 @@ public final class IndexReader implements AutoCloseable {
     for (String name : m.attachments().keySet())
       att.put(name, Attachments.read(dir, src, m, name, ChecksummedFile.Check.OPEN));
     RoaringBitmap documented = m.documentedIds();
-    MetaStore meta = MetaStore.open(dir.resolve(IndexWriter.META_DIR), m.metaCommit(), deleted, documented, m.nextId());
+    MetaStore meta = MetaStore.open(dir.resolve(IndexWriter.META_DIR), m.metaCommit(), in(deleted, m.nextId()),
+        in(documented, m.nextId()), m.nextId());
     int documentedLive = RoaringBitmap.andNot(documented, deleted).getCardinality();
     if (meta.documents() != documentedLive) {
       try {
@@ -354,6 +366,11 @@ public final class IndexReader implements AutoCloseable {
       throw new IllegalArgumentException("mask has " + mask.length + " words, the index's codes have " + w);
   }
 
+  /**
+   * The metadata of this generation: rows by id ({@code document}), ids by key ({@code idOfKey}),
+   * columns and their kinds, and filters ({@code Where.select}, {@code selectHaving},
+   * {@code selectEqual}) as {@code IdSet}s over {@code [0, maxId())}.
+   */
   public MetaStore meta() {
     return meta;
   }

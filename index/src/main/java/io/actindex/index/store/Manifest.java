@@ -129,7 +129,7 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
   }
 
   /** The ids that have a metadata document (deleted ones included). */
-  public org.roaringbitmap.RoaringBitmap documentedIds() {
+  org.roaringbitmap.RoaringBitmap documentedIds() {
     org.roaringbitmap.RoaringBitmap b = new org.roaringbitmap.RoaringBitmap();
     for (IdRange r : documented) b.add((long) r.firstId(), (long) r.endId());
     return b;

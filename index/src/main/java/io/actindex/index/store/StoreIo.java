@@ -11,28 +11,33 @@ import org.apache.lucene.store.FSDirectory;
 
 /**
  * The file operations a commit makes, in one place, so that a test can stand in for the disk and
- * forget what was never forced to it (a power loss). {@link #REAL} is the file system.
+ * forget what was never forced to it (a power loss). {@link #REAL} is the file system. A class
+ * rather than an interface so that the metadata store's seam, {@link #lucene}, stays
+ * package-private (no public signature names a Lucene type); outside this package, stand-ins
+ * extend {@link Forwarding}.
  */
-public interface StoreIo {
+public abstract class StoreIo {
+  StoreIo() {}
+
   /** Opens {@code file} for writing, created or truncated (mode from the umask). */
-  FileChannel create(Path file) throws IOException;
+  public abstract FileChannel create(Path file) throws IOException;
 
   /** Makes the content of {@code channel} (the file {@code file}) durable. */
-  void force(FileChannel channel, Path file) throws IOException;
+  public abstract void force(FileChannel channel, Path file) throws IOException;
 
   /** Renames atomically, replacing {@code to}. */
-  void move(Path from, Path to) throws IOException;
+  public abstract void move(Path from, Path to) throws IOException;
 
   /** Makes new, renamed and deleted names in {@code dir} durable. */
-  void syncDir(Path dir) throws IOException;
+  public abstract void syncDir(Path dir) throws IOException;
 
   /** Deletes {@code file} if it exists. */
-  void delete(Path file) throws IOException;
+  public abstract void delete(Path file) throws IOException;
 
   /** The Lucene directory over {@code dir} (Lucene makes its own files durable through it). */
-  Directory lucene(Path dir) throws IOException;
+  abstract Directory lucene(Path dir) throws IOException;
 
-  StoreIo REAL = new StoreIo() {
+  public static final StoreIo REAL = new StoreIo() {
     @Override
     public FileChannel create(Path file) throws IOException {
       return FileChannel.open(file, StandardOpenOption.CREATE, StandardOpenOption.WRITE,
@@ -62,13 +67,13 @@ public interface StoreIo {
     }
 
     @Override
-    public Directory lucene(Path dir) throws IOException {
+    Directory lucene(Path dir) throws IOException {
       return FSDirectory.open(dir);
     }
   };
 
   /** Forwards every call to a delegate; tests override the calls they observe or break. */
-  class Forwarding implements StoreIo {
+  public static class Forwarding extends StoreIo {
     protected final StoreIo delegate;
 
     public Forwarding(StoreIo delegate) {
@@ -101,7 +106,7 @@ public interface StoreIo {
     }
 
     @Override
-    public Directory lucene(Path dir) throws IOException {
+    Directory lucene(Path dir) throws IOException {
       return delegate.lucene(dir);
     }
   }

@@ -89,6 +89,13 @@ class BareIdsTest {
       check(meta, truth, new BooleanQuery.Builder().add(not(new TermQuery(new Term("label", "b"))), Occur.MUST)
           .add(not(new TermQuery(new Term("key", "row-20"))), Occur.MUST).build(),
           m -> !"b".equals(m.get("label")) && !"row-20".equals(m.get("key")));
+      // the plain look-ups: a value in a column, one exact text (a bare id's key, a deleted id's, a reused one)
+      for (String column : new String[] {"label", "key", "colour"})
+        assertEquals(expected(truth, m -> m.containsKey(column)), bits(meta.selectHaving(column)), "having " + column);
+      String[][] pairs = {{"label", "a"}, {"label", "b"}, {"label", "c"}, {"key", "row-12"}, {"key", "row-15"}, {"key", "row-3"},
+          {"key", "k3"}, {"key", "k4"}, {"key", "row-40"}};
+      for (String[] p : pairs)
+        assertEquals(expected(truth, m -> p[1].equals(m.get(p[0]))), bits(meta.selectEqual(p[0], p[1])), p[0] + " = " + p[1]);
     }
   }
 
@@ -136,13 +143,23 @@ class BareIdsTest {
   }
 
   private static void check(MetaStore meta, Map<Integer, Map<String, String>> truth, Query q, RowTest want) {
+    assertEquals(expected(truth, want), select(meta, q), q.toString());
+  }
+
+  /** The ids whose row passes {@code want}. */
+  private static RoaringBitmap expected(Map<Integer, Map<String, String>> truth, RowTest want) {
     RoaringBitmap expected = new RoaringBitmap();
     for (Map.Entry<Integer, Map<String, String>> e : truth.entrySet()) if (want.test(e.getValue())) expected.add(e.getKey());
-    assertEquals(expected, select(meta, q), q.toString());
+    return expected;
   }
 
   /** The store's answer as a bitmap, to compare with the one the test computes. */
   private static RoaringBitmap select(MetaStore meta, Query q) {
-    return RoaringBitmap.bitmapOf(meta.select(q).toArray());
+    return bits(meta.select(q));
+  }
+
+  private static RoaringBitmap bits(io.actindex.core.IdSet ids) {
+    assertEquals(40, ids.size());
+    return RoaringBitmap.bitmapOf(ids.toArray());
   }
 }

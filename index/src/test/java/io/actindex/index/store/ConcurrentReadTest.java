@@ -39,7 +39,7 @@ class ConcurrentReadTest {
             int[] live = r.liveIds().toArray();
             assertEquals(live.length, r.meta().numDocs());
             for (int id : live) assertArrayEquals(CrashChild.code(id), r.code(id), "id " + id);
-            assertArrayEquals(live, r.meta().select(new org.apache.lucene.search.MatchAllDocsQuery()).toArray());
+            assertArrayEquals(live, io.actindex.index.meta.MetaQueries.select(r.meta(), new org.apache.lucene.search.MatchAllDocsQuery()).toArray());
             seen.add(r.maxId());
           }
         } while (!stop.get());

@@ -120,7 +120,7 @@ class CrashTest {
           Map<String, String> doc = r.meta().document(id);
           assertEquals(CrashChild.row(id), doc, "metadata of id " + id + ": " + where);
         }
-        assertArrayEquals(live.toArray(), r.meta().select(new org.apache.lucene.search.MatchAllDocsQuery()).toArray(), where);
+        assertArrayEquals(live.toArray(), io.actindex.index.meta.MetaQueries.select(r.meta(), new org.apache.lucene.search.MatchAllDocsQuery()).toArray(), where);
       }
       IndexWriter.open(dir).close(); // the dead writer's lock file does not block
     }

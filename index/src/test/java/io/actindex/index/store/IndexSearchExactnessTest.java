@@ -16,8 +16,6 @@ import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
 import java.util.function.IntPredicate;
-import org.apache.lucene.index.Term;
-import org.apache.lucene.search.TermQuery;
 import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
@@ -165,7 +163,7 @@ class IndexSearchExactnessTest {
         RoaringBitmap filter = null;
         String label = "c" + rnd.nextInt(3);
         if (q % 3 == 1) {
-          filter = RoaringBitmap.bitmapOf(r.meta().select(new TermQuery(new Term("label", label))).toArray());
+          filter = RoaringBitmap.bitmapOf(r.meta().selectEqual("label", label).toArray());
           RoaringBitmap expected = new RoaringBitmap();
           for (int id = 0; id < all.size(); id++) if (labels.get(id).equals(label) && !deleted.contains(id)) expected.add(id);
           assertEquals(expected, filter, why);

@@ -243,7 +243,7 @@ class IndexWriterTest {
       assertEquals(Map.of("key", "row-1", "y", "2"), r.meta().document(1));
       assertEquals("+4.", r.meta().document(3).get("x"));
       assertArrayEquals(new int[] {0, 3},
-          r.meta().select(org.apache.lucene.document.DoublePoint.newRangeQuery("x", 0, 10)).toArray());
+          io.actindex.index.meta.MetaQueries.select(r.meta(), org.apache.lucene.document.DoublePoint.newRangeQuery("x", 0, 10)).toArray());
     }
   }
 }

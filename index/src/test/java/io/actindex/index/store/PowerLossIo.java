@@ -29,7 +29,7 @@ import org.apache.lucene.store.IndexOutput;
  * <p>The machine "dies" at the {@code crashAt}-th operation: that call and every later one throws
  * {@link PowerLost} without touching the disk.
  */
-final class PowerLossIo implements StoreIo {
+final class PowerLossIo extends StoreIo {
   /** Thrown once the simulated machine is off. */
   static final class PowerLost extends IOException {
     PowerLost() {

@@ -1,8 +1,7 @@
-package io.actindex.query;
+package io.actindex.index.meta;
 
 import io.actindex.core.BadInputException;
 import io.actindex.core.IdSet;
-import io.actindex.index.meta.MetaStore;
 import io.actindex.index.meta.MetaStore.FieldKind;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
@@ -22,7 +21,8 @@ import org.apache.lucene.util.BytesRef;
 /**
  * A metadata filter ("where-expression"): {@link #select} gives the live ids it matches as an {@link
  * IdSet}, the search filter of {@code IndexReader.search}. Inside, the expression is parsed into a
- * Lucene query over the metadata fields, which the store runs.
+ * Lucene query over the metadata fields, which the store runs; the query never leaves this package
+ * (no public signature of the library names a Lucene type).
  *
  * <pre>
  * expr       := orExpr
@@ -149,7 +149,7 @@ public final class Where {
       throw error(field, "expected a field name, found " + field.describe());
     FieldKind kind = fields.get(field.text);
     if (kind == null)
-      throw error(field, "unknown field '" + Snippet.of(field.text) + "'; known fields: " + String.join(", ", new TreeSet<>(fields.keySet())));
+      throw error(field, "unknown field '" + snippet(field.text) + "'; known fields: " + String.join(", ", new TreeSet<>(fields.keySet())));
     boolean negated = false;
     if (peekWord("not")) {
       pos++;
@@ -233,7 +233,7 @@ public final class Where {
     if (MetaStore.exactNumber(v.text)) return Double.parseDouble(v.text);
     // a decimal that a double only rounds would match the neighbours of what was asked for
     boolean rounded = isDecimal(v.text) && Double.isFinite(Double.parseDouble(v.text));
-    throw error(v, "'" + Snippet.of(v.text) + "' is not a number"
+    throw error(v, "'" + snippet(v.text) + "' is not a number"
         + (rounded ? " a number field holds exactly (a double: about 15-17 significant digits)" : ""));
   }
 
@@ -258,7 +258,7 @@ public final class Where {
 
   private record Token(T type, String text, int at) {
     String describe() {
-      return type == T.END ? "the end" : "'" + Snippet.of(text) + "'";
+      return type == T.END ? "the end" : "'" + snippet(text) + "'";
     }
   }
 
@@ -286,8 +286,17 @@ public final class Where {
     return s.equalsIgnoreCase("and") || s.equalsIgnoreCase("or") || s.equalsIgnoreCase("not") || s.equalsIgnoreCase("in");
   }
 
+  /** {@code text} escaped and cut for a message, as the query module's {@code Snippet} does (60 characters). */
+  private static String snippet(String text) {
+    return snippet(text, 60);
+  }
+
+  private static String snippet(String text, int max) {
+    return BadInputException.snippet(text, max);
+  }
+
   private BadInputException error(Token t, String message) {
-    return new BadInputException("where: at position " + (t.at + 1) + ": " + message + " in: " + Snippet.of(text, 100));
+    return new BadInputException("where: at position " + (t.at + 1) + ": " + message + " in: " + snippet(text, 100));
   }
 
   private List<Token> tokenize(String s) {
@@ -304,14 +313,14 @@ public final class Where {
         int start = i++;
         if (i < n && s.charAt(i) == '=') i++;
         String op = s.substring(start, i);
-        if (op.equals("!")) throw new BadInputException("where: at position " + (start + 1) + ": '!' must be followed by '=' in: " + Snippet.of(s, 100));
+        if (op.equals("!")) throw new BadInputException("where: at position " + (start + 1) + ": '!' must be followed by '=' in: " + snippet(s, 100));
         if (op.equals("==")) op = "=";
         out.add(new Token(T.OP, op, start));
       } else if (c == '\'' || c == '"') {
         int start = i++;
         StringBuilder b = new StringBuilder();
         while (true) {
-          if (i >= n) throw new BadInputException("where: at position " + (start + 1) + ": quote never closed in: " + Snippet.of(s, 100));
+          if (i >= n) throw new BadInputException("where: at position " + (start + 1) + ": quote never closed in: " + snippet(s, 100));
           char d = s.charAt(i++);
           if (d == c) break;
           if (d == '\\' && i < n) d = s.charAt(i++);

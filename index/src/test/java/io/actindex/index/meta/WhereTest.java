@@ -1,4 +1,4 @@
-package io.actindex.query;
+package io.actindex.index.meta;
 
 import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
@@ -77,7 +77,7 @@ class WhereTest {
       if (r.n != null) m.put("n", Double.toString(r.n));
       meta.add(m);
     }
-    TestIndexes.write(tmp, io.actindex.core.SyntheticCodes.uniform(rows.size(), 8, seed), meta, 2);
+    write(tmp, io.actindex.core.SyntheticCodes.uniform(rows.size(), 8, seed), meta, 2);
     try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(tmp)) {
       Map<String, FieldKind> withKey = new java.util.HashMap<>(FIELDS);
       withKey.put("key", FieldKind.KEYWORD);
@@ -106,7 +106,7 @@ class WhereTest {
     String[] ts = {"9007199254740992", "9007199254740993", "9007199254740994", "1733234567890123456"};
     List<Map<String, String>> meta = new ArrayList<>();
     for (int i = 0; i < ts.length; i++) meta.add(Map.of("key", "k" + i, "ts", ts[i], "n", i == 0 ? "1.5" : "2e3"));
-    TestIndexes.write(tmp, io.actindex.core.SyntheticCodes.uniform(ts.length, 8, 1), meta, 1);
+    write(tmp, io.actindex.core.SyntheticCodes.uniform(ts.length, 8, 1), meta, 1);
     try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(tmp)) {
       assertThat(reader.meta().fields()).containsEntry("ts", FieldKind.KEYWORD).containsEntry("n", FieldKind.NUMBER);
       for (int i = 0; i < ts.length; i++) assertThat(select(reader, "ts = " + ts[i])).as(ts[i]).isEqualTo(RoaringBitmap.bitmapOf(i));
@@ -126,7 +126,7 @@ class WhereTest {
     String[] n = {"-0.0", "0", "0.0", "-1", "2", "-0"};
     List<Map<String, String>> meta = new ArrayList<>();
     for (int i = 0; i < n.length; i++) meta.add(Map.of("key", "k" + i, "n", n[i]));
-    TestIndexes.write(tmp, io.actindex.core.SyntheticCodes.uniform(n.length, 8, 1), meta, 1);
+    write(tmp, io.actindex.core.SyntheticCodes.uniform(n.length, 8, 1), meta, 1);
     RoaringBitmap zeros = RoaringBitmap.bitmapOf(0, 1, 2, 5), negative = RoaringBitmap.bitmapOf(3), positive = RoaringBitmap.bitmapOf(4);
     try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(tmp)) {
       for (String z : new String[] {"0", "-0", "0.0", "-0.0", "-0e5"}) {
@@ -376,6 +376,17 @@ class WhereTest {
       }
     }
     return dir;
+  }
+
+  /** Writes {@code codes} with {@code meta} in {@code parts} segments. */
+  private static void write(java.nio.file.Path dir, io.actindex.core.CodeBlock codes, List<Map<String, String>> meta, int parts) {
+    try (io.actindex.index.store.IndexWriter w = io.actindex.index.store.IndexWriter.create(dir, codes.layout(), Map.of())) {
+      int n = codes.size();
+      for (int p = 0; p < parts; p++) {
+        int from = n * p / parts, to = n * (p + 1) / parts;
+        w.add(codes.slice(from, to), meta.subList(from, to));
+      }
+    }
   }
 
   /** {@link Where#select}'s answer (a set over every id of the index) as a bitmap, null staying null. */
