@@ -221,7 +221,8 @@ public final class Dupes {
   public record AgainstSummary(int examples, int bits, int radius, long rows, long rowsWithMatches, long rowsWithout,
       long matches, int tables, double seconds) {}
 
-  public record AgainstResult(AgainstSummary summary, List<RowMatches> rows) {}
+  /** The summary, the rows with a match, and how the file was read ({@link QueryCodes#notes()}, e.g. its CSV header). */
+  public record AgainstResult(AgainstSummary summary, List<RowMatches> rows, List<String> notes) {}
 
   /**
    * For each row of {@code source} (encoded as the index was built), the live examples (matching the
@@ -283,7 +284,7 @@ public final class Dupes {
     flush.run();
     AgainstSummary s = new AgainstSummary(sel.ids.length, sel.codes.layout().bits(), p.radius(), queries.size(), totals[1],
         queries.size() - totals[1], totals[0], join.tables(), (System.nanoTime() - started) / 1e9);
-    return new AgainstResult(s, List.copyOf(rows));
+    return new AgainstResult(s, List.copyOf(rows), q.notes());
   }
 
   // ------------------------------------------------------------------ selection

@@ -78,9 +78,10 @@ public final class OodEval {
   /**
    * {@code floats}, {@code refined} and {@code softmax} are null when they do not apply. {@code
    * refined} needs training floats whose rows are the index's ids (one row per id, in build order).
+   * {@code notes}: how the in and out files were read ({@link QueryCodes#notes()}, e.g. their CSV header).
    */
   public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored refined, Scored softmax,
-      List<String> warnings) {
+      List<String> warnings, List<String> notes) {
     /** The scores that apply, code score first. */
     public List<Scored> scores() {
       List<Scored> s = new ArrayList<>(List.of(code));
@@ -163,7 +164,9 @@ public final class OodEval {
       String one = SoftmaxBaseline.oneOutputNote(reader);
       softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)" + (one == null ? "" : "; " + one), sa, sb);
     }
-    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings));
+    List<String> notes = new ArrayList<>(in.notes());
+    notes.addAll(out.notes());
+    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings), List.copyOf(notes));
   }
 
   /** Hamming candidates the refined score re-ranks. */

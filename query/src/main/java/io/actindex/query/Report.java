@@ -11,6 +11,7 @@ import io.actindex.query.report.ReportSections;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
+import java.util.List;
 import java.util.Map;
 
 /**
@@ -43,8 +44,11 @@ public final class Report {
     }
   }
 
-  /** What was written: the file, its size, and the numbers behind the page. */
-  public record Result(Path out, long bytes, IndexReport.Facts facts) {}
+  /**
+   * What was written: the file, its size, the numbers behind the page, and the comparison's notes
+   * ({@link Compare.Result#notes()}: how its files were read, what it approximated; empty without one).
+   */
+  public record Result(Path out, long bytes, IndexReport.Facts facts, List<String> notes) {}
 
   /** The facts of an index that the page shows. */
   public static IndexReport.Facts facts(IndexReader reader, Progress progress) {
@@ -80,16 +84,19 @@ public final class Report {
     if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)));
     if (p.dupesRadius() != null)
       ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null));
+    List<String> notes = List.of();
     if (a != null) {
       Compare.Options o = Compare.Options.defaults();
       o = new Compare.Options(o.permutations(), o.seed(), o.sigma(), o.alpha(), o.top(), o.matrixRows(), o.exactMax(), o.sinkhornRows(),
           o.reg(), o.maxIter(), o.tol(), p.threads());
-      ReportSections.compare(page, Compare.run(new Compare.Params(reader.dir(), Compare.Sample.file(a), Compare.Sample.file(b), null, null,
-          null, null, null, null, o, p.compareHeader()), null));
+      Compare.Result compared = Compare.run(new Compare.Params(reader.dir(), Compare.Sample.file(a), Compare.Sample.file(b), null, null,
+          null, null, null, null, o, p.compareHeader()), null);
+      ReportSections.compare(page, compared);
+      notes = compared.notes();
     }
     byte[] html = page.finish().getBytes(StandardCharsets.UTF_8);
     write(p.out(), html);
-    return new Result(p.out(), html.length, f);
+    return new Result(p.out(), html.length, f, notes);
   }
 
   /** A comparison file as a source of its given kind, or of the kind the index tells ({@code --compare-kind} names the way out); null for none. */
