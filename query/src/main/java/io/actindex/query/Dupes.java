@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.IdSet;
@@ -46,8 +47,8 @@ public final class Dupes {
   public record Params(int radius, String where, List<String> layers, boolean crossSplit, boolean conflictingLabels,
       int groups, int threads) {
     public Params {
-      if (radius < 0) throw new BadInputException("--radius must be at least 0, got " + radius);
-      if (groups < 0) throw new BadInputException("--groups must be at least 0, got " + groups);
+      if (radius < 0) throw new BadParameterException("radius", " must be at least 0, got " + radius);
+      if (groups < 0) throw new BadParameterException("groups", " must be at least 0, got " + groups);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
       layers = layers == null ? List.of() : List.copyOf(layers);
     }
@@ -299,7 +300,7 @@ public final class Dupes {
     for (int s : order) segs.add(layout.segments().get(s));
     CodeLayout target = p.layers().isEmpty() ? layout : new CodeLayout(segs);
     if (p.radius() > target.bits())
-      throw new BadInputException("--radius " + p.radius() + " is larger than the code length, " + target.bits() + " bits"
+      throw new BadParameterException("radius", " " + p.radius() + " is larger than the code length, " + target.bits() + " bits"
           + (p.layers().isEmpty() ? "" : " on layers " + String.join(",", p.layers())));
     IdSet filter = Where.select(reader.meta(), p.where());
     int[] live = new int[reader.liveCount()];

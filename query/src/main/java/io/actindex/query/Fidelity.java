@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
@@ -177,8 +178,8 @@ public final class Fidelity {
     CodeBlock codes = data.codes();
     int n = codes.size(), d = codes.layout().bits(), w = codes.wordsPerCode();
     if (p.queries() > n)
-      throw new BadInputException("--queries " + p.queries() + " is larger than the " + n + " examples there are");
-    if (p.k() > n - 1) throw new BadInputException("-k " + p.k() + " needs more than the " + (n - 1) + " other examples there are");
+      throw new BadParameterException("queries", " " + p.queries() + " is larger than the " + n + " examples there are");
+    if (p.k() > n - 1) throw new BadParameterException("k", " " + p.k() + " needs more than the " + (n - 1) + " other examples there are");
     int c = Math.min(p.candidates(), n - 1);
     int[] sample = sample(n, p.queries(), new SplittableRandom(p.seed()));
     double[] norms = norms(data.floats(), n, d);

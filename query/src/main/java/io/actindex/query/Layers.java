@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import java.util.ArrayList;
@@ -29,9 +30,9 @@ public final class Layers {
     for (int i = 0; i < out.length; i++) {
       String name = names.get(i);
       int s = layout.indexOf(name);
-      if (s < 0) throw new BadInputException("--layers: unknown layer '" + name + "' (the layers are " + names(layout) + ")");
+      if (s < 0) throw new BadParameterException("layers", ": unknown layer '" + name + "' (the layers are " + names(layout) + ")");
       for (int j = 0; j < i; j++)
-        if (out[j] == s) throw new BadInputException("--layers: layer '" + name + "' is chosen twice");
+        if (out[j] == s) throw new BadParameterException("layers", ": layer '" + name + "' is chosen twice");
       out[i] = s;
     }
     return out;

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
 import io.actindex.edge.EdgeBundle.Calibration;
@@ -46,8 +47,8 @@ public final class OodCalibrate {
 
     public Params {
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
-      if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
-      if (!(tpr > 0 && tpr < 1)) throw new BadInputException("--tpr must lie strictly between 0 and 1, got " + tpr);
+      if (candidates < 0) throw new BadParameterException("candidates", " must be at least 1, got " + candidates);
+      if (!(tpr > 0 && tpr < 1)) throw new BadParameterException("tpr", " must lie strictly between 0 and 1, got " + tpr);
       if (statistic == null) statistic = Statistic.KTH;
       layers = layers == null ? List.of() : List.copyOf(layers);
     }
@@ -75,7 +76,7 @@ public final class OodCalibrate {
       Layers.select(reader.layout(), p.layers());
       OodScorer.Kind kind = p.score() != null ? p.score() : OodScorer.Kind.defaultFor(reader);
       if (kind == OodScorer.Kind.CODE && p.candidates() != 0)
-        throw new BadInputException("--candidates is for the refined score; this calibration uses the code score"
+        throw new BadParameterException("candidates", " is for the refined score; this calibration uses the code score"
             + (p.score() == null ? " (the index " + dir + " keeps no magnitudes)" : ""));
       int cands = kind == OodScorer.Kind.CODE ? 0 : Math.max(p.candidates() == 0 ? Refine.DEFAULT_CANDIDATES : p.candidates(), p.k());
       OodScorer scorer = new OodScorer(reader, p.k(), p.statistic(), p.layers(), kind, cands);

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
 import io.actindex.edge.EdgeBundle.Calibration;
@@ -56,7 +57,7 @@ public final class OodEval {
       in = in.withHeader(header);
       out = out.withHeader(header);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
-      if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
+      if (candidates < 0) throw new BadParameterException("candidates", " must be at least 1, got " + candidates);
       int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
       if (floats != 0 && floats != 3)
         throw new BadInputException("the float score needs --in-floats, --out-floats and --train-floats together");

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.edge.EdgeBundle;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.index.store.IndexReader;
@@ -32,7 +33,7 @@ public final class OodScore {
    */
   public record Params(int evidence, OodScorer.Kind score, int threads) {
     public Params {
-      if (evidence < 0) throw new BadInputException("--evidence must be at least 0, got " + evidence);
+      if (evidence < 0) throw new BadParameterException("evidence", " must be at least 0, got " + evidence);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
     }
 

@@ -2,6 +2,7 @@ package io.actindex.query;
 
 import io.actindex.core.OutputFiles;
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
@@ -76,7 +77,7 @@ public final class Report {
     Source a = compareSource(reader, p, p.compareA()), b = compareSource(reader, p, p.compareB());
     int bits = reader.layout().bits();
     if (p.dupesRadius() != null && (p.dupesRadius() < 0 || p.dupesRadius() > bits))
-      throw new BadInputException("--dupes-radius must be 0 to the code length, " + bits + " bits; got " + p.dupesRadius());
+      throw new BadParameterException("dupesRadius", " must be 0 to the code length, " + bits + " bits; got " + p.dupesRadius());
     IndexReport.Facts f = facts(reader, progress);
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
     HtmlPage page = new HtmlPage(title, f.examples() + " examples, " + reader.layout().bits() + " bits per example.");

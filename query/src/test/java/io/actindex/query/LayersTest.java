@@ -19,9 +19,9 @@ class LayersTest {
   @Test
   void anUnknownLayerIsRefusedNamingTheOption() {
     assertThatThrownBy(() -> Layers.select(SOURCE, List.of("a", "z"))).isInstanceOf(BadInputException.class)
-        .hasMessage("--layers: unknown layer 'z' (the layers are a, b, c)");
+        .hasMessage("layers: unknown layer 'z' (the layers are a, b, c)");
     assertThatThrownBy(() -> Layers.select(SOURCE, List.of("b", "b"))).isInstanceOf(BadInputException.class)
-        .hasMessage("--layers: layer 'b' is chosen twice");
+        .hasMessage("layers: layer 'b' is chosen twice");
   }
 
   @Test
