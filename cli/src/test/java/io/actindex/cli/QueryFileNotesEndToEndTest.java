@@ -42,11 +42,17 @@ class QueryFileNotesEndToEndTest {
     runs.add(Cli.run("dupes", "--index", idx.toString(), "--radius", "1", "--against", in.toString()));
     runs.add(Cli.run("report", "--index", idx.toString(), "--out", tmp.resolve("r.html").toString(), "--compare-a", in.toString(),
         "--compare-b", out.toString()));
+    // fidelity on a file: its header, and labels that write one number two ways (as build notes them)
+    List<String> labels = new ArrayList<>(List.of("label"));
+    for (int i = 0; i < 60; i++) labels.add(i == 7 ? "1.0" : Integer.toString(i % 3));
+    Path meta = Files2.text(tmp.resolve("labels.csv"), labels);
+    runs.add(Cli.run("fidelity", "--activations", tmp.resolve("train.csv").toString(), "--meta", meta.toString(), "-k", "3"));
     for (Cli.Result r : runs) {
       assertThat(r.code()).as(r.describe() + "\n" + Randoms.describe(seed)).isZero();
       for (String arg : r.args())
-        if (arg.endsWith(".csv")) assertThat(r.err()).as(r.describe()).contains(arg + ": line 1 taken as the header");
+        if (arg.endsWith(".csv") && !arg.endsWith("labels.csv")) assertThat(r.err()).as(r.describe()).contains(arg + ": line 1 taken as the header");
     }
+    assertThat(runs.getLast().err()).contains(meta + ": note: label '1.0' and '1' earlier in the file are the same number written two ways");
     // stdout stays the JSON document alone
     assertThat(runs.get(2).out().trim()).startsWith("{").endsWith("}");
   }
