@@ -113,6 +113,7 @@ final class DupesCommand implements Callable<Integer> {
       columns = reader.meta().columns();
     }
     index.noteIfEmpty(live, "--where", where, selected);
+    if (matched != null) Summaries.notes(spec.commandLine().getErr(), matched.notes());
     if (matched != null && matched.summary().rows() == 0) // as nearest, region and ood score say it
       spec.commandLine().getErr().println("note: " + against + " holds no rows; the answer is empty");
     // "0 groups with conflicting labels" reads as a finding; with no labels in the index it is none (same for splits)

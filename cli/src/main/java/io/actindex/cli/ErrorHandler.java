@@ -1,6 +1,7 @@
 package io.actindex.cli;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.DiskFull;
 import io.actindex.query.Snippet;
 import java.io.PrintWriter;
@@ -114,7 +115,7 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
   public int handleExecutionException(Exception ex, CommandLine cl, ParseResult parsed) {
     PrintWriter err = cl.getErr();
     String name = cl.getCommandSpec().qualifiedName();
-    String refusal = refusal(ex);
+    String refusal = refusal(ex, cl.getCommandSpec());
     if (refusal != null) {
       err.println(name + ": " + oneLine(refusal));
       if (verbose(parsed)) ex.printStackTrace(err);
@@ -144,9 +145,14 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
     }
   }
 
-  /** The user-facing message if the failure is bad input (anywhere in the cause chain), else null. */
-  static String refusal(Throwable ex) {
+  /**
+   * The user-facing message if the failure is bad input (anywhere in the cause chain), else null. A
+   * refused API parameter ({@link BadParameterException}) is named by the option of {@code command}
+   * that carries it, when it has one.
+   */
+  static String refusal(Throwable ex, CommandLine.Model.CommandSpec command) {
     for (Throwable t = ex; t != null; t = t.getCause() == t ? null : t.getCause()) {
+      if (t instanceof BadParameterException p && option(command, p.parameter()) != null) return option(command, p.parameter()) + p.rest();
       if (t instanceof BadInputException) return t.getMessage();
       if (t instanceof NoSuchFileException f) return f.getFile() + ": no such file";
       if (t instanceof AccessDeniedException f) return f.getFile() + ": permission denied";
@@ -159,6 +165,17 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
     if (DiskFull.in(ex, file == null ? null : pathOrNull(file)))
       return DiskFull.refusal(file != null ? file : "writing an output", file != null ? "not written" : "not finished", ex).getMessage();
     return null;
+  }
+
+  /**
+   * The option of {@code command} for an API parameter: {@code -k} for {@code k}, {@code --matrix-rows} for
+   * {@code matrixRows}; null when the command has no such option (its value came from elsewhere, e.g. a
+   * stored calibration).
+   */
+  static String option(CommandLine.Model.CommandSpec command, String parameter) {
+    String name = parameter.length() == 1 ? "-" + parameter
+        : "--" + parameter.replaceAll("([A-Z])", "-$1").toLowerCase(java.util.Locale.ROOT);
+    return command != null && command.findOption(name) != null ? name : null;
   }
 
   /** The file a {@link FileSystemException} in the chain names, else null. */

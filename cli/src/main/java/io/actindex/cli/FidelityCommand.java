@@ -123,6 +123,7 @@ final class FidelityCommand implements Callable<Integer> {
   }
 
   private Fidelity.Result run(Fidelity.Data data, int c, Progress bar) {
+    Summaries.notes(spec.commandLine().getErr(), data.notes());
     if (GivenOptions.given(spec, "--candidates") && (data.labels() == null || data.kept() == null))
       throw new io.actindex.core.BadInputException("--candidates is for the refined k-NN label accuracy, which needs labels and kept"
           + " magnitudes; " + (data.labels() == null ? "the examples of index " + index + " have no labels" : "index " + index

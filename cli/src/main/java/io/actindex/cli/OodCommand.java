@@ -141,6 +141,7 @@ final class OodCommand implements Callable<Integer> {
             score == null ? null : OodScorer.Kind.parse(score), GivenOptions.given(spec, "--candidates") ? candidates : 0,
             threads.resolved()), bar);
       }
+      Summaries.notes(spec.commandLine().getErr(), r.notes());
       PrintWriter out = spec.commandLine().getOut();
       Calibration c = r.calibration();
       switch (format.format) {
@@ -219,6 +220,7 @@ final class OodCommand implements Callable<Integer> {
             o = OodScore.run(reader, query.toSource(), query.range(),
                 new OodScore.Params(evidence, score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
           }
+          Summaries.notes(spec.commandLine().getErr(), o.notes());
           print(out, o);
           query.noteIfEmpty(o.results().size());
           String one = o.results().stream().anyMatch(r -> r.maxSoftmax() != null) ? SoftmaxBaseline.oneOutputNote(reader) : null;
@@ -395,6 +397,7 @@ final class OodCommand implements Callable<Integer> {
               score == null ? null : OodScorer.Kind.parse(score), threads.resolved(), h), bar);
         }
       }
+      Summaries.notes(spec.commandLine().getErr(), r.notes());
       List<OodEval.Scored> scores = r.scores();
       if (roc != null) write(roc, rocCsv(scores), "--roc");
       if (html != null) write(html, EvalPage.render("Out-of-distribution evaluation: " + index.dir.getFileName(), r), "--html");

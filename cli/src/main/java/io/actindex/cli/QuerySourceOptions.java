@@ -84,7 +84,7 @@ public final class QuerySourceOptions {
 
   /** How the file was read, on stderr; and a note when it holds no rows. */
   private void printNotes(QueryCodes q) {
-    for (String n : q.notes()) mixee.commandLine().getErr().println(n);
+    Summaries.notes(mixee.commandLine().getErr(), q.notes());
     noteIfEmpty(q.codes().size());
   }
 

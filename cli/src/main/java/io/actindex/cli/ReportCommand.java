@@ -69,6 +69,8 @@ final class ReportCommand implements Callable<Integer> {
       live = reader.liveCount();
     }
     index.noteIfEmpty(live);
+    // the comparison's notes, worded as compare prints them
+    Summaries.notes(err, r.notes().stream().map(n -> "note: " + n).toList());
     PrintWriter o = spec.commandLine().getOut();
     switch (format.format) {
       case json -> {

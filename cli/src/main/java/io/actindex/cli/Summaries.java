@@ -8,7 +8,7 @@ import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.util.List;
 
-/** The one-line summaries of {@code build} and {@code add}. */
+/** The one-line summaries of {@code build} and {@code add}; notes and warnings on stderr. */
 final class Summaries {
   private Summaries() {}
 
@@ -20,10 +20,7 @@ final class Summaries {
    */
   static void written(PrintWriter out, PrintWriter err, Format format, String verb, Path dir, IndexBuilder.Result r) {
     String first = Integer.toString(r.firstId()), last = Integer.toString(r.firstId() + r.rows() - 1);
-    if (format != Format.json && !r.notes().isEmpty()) {
-      for (String n : r.notes()) err.println(n);
-      err.flush();
-    }
+    if (format != Format.json) notes(err, r.notes());
     switch (format) {
       case json -> {
         JsonWriter j = new JsonWriter(out).beginObject()
@@ -72,6 +69,15 @@ final class Summaries {
     j.beginArray();
     for (String v : values) j.value(v);
     j.endArray();
+  }
+
+  /**
+   * How input files were read (a CSV header taken, an index column, layers read side by side...),
+   * one line each on stderr: every command that reads a query file prints its notes this way.
+   */
+  static void notes(PrintWriter err, List<String> notes) {
+    for (String n : notes) err.println(n);
+    err.flush();
   }
 
   /** Problems that did not undo a commit, one line each on stderr. */

@@ -75,7 +75,7 @@ class BadInputEndToEndTest {
     inf[1][0] = Float.NEGATIVE_INFINITY;
     cases.add(new Case("infinity", Files2.floats(tmp.resolve("inf.npy"), inf), "row"));
     cases.add(new Case("width does not match the index (9 columns, index has 8)",
-        Files2.floats(tmp.resolve("wide.npy"), new float[3][9]), null));
+        Files2.floats(tmp.resolve("wide.npy"), new float[3][9]), "the activations have layout act:9 (9 columns, one per unit)"));
     return cases;
   }
 

@@ -78,8 +78,8 @@ class ContractEndToEndTest {
           layers), "--layers");
       assertThat(out).doesNotExist();
     }
-    assertRefused(nearest("--layers", "h1,nope"), "unknown layer 'nope'", "h1, h2");
-    assertRefused(Cli.run("census", "--index", idx.toString(), "--layers", "nope"), "unknown layer 'nope'");
+    assertRefused(nearest("--layers", "h1,nope"), "--layers: unknown layer 'nope'", "h1, h2");
+    assertRefused(Cli.run("census", "--index", idx.toString(), "--layers", "nope"), "--layers: unknown layer 'nope'");
   }
 
   @Test

@@ -22,10 +22,17 @@ class ErrorHandlerTest {
 
     @Option(names = "--kind") String kind;
 
+    @Option(names = "--matrix-rows") Integer matrixRows;
+
+    @Option(names = "-k") Integer k;
+
     @Override
     public Integer call() throws Exception {
       return switch (kind) {
         case "bad" -> throw new BadInputException("q.npy: row 3, column 7: NaN");
+        case "param" -> throw new CompletionException(new io.actindex.core.BadParameterException("matrixRows", " must be from 2 to 9, got 1"));
+        case "param-k" -> throw new io.actindex.core.BadParameterException("k", " 7 is larger than the 5 rows");
+        case "param-elsewhere" -> throw new io.actindex.core.BadParameterException("dupesRadius", " must be 0 to 64; got 65");
         case "wrapped" -> throw new CompletionException(new BadInputException("meta.csv: row 2: duplicate key 'a'"));
         case "missing" -> throw new java.nio.file.NoSuchFileException("nothere.npy");
         case "notdir" -> throw new java.nio.file.NotDirectoryException("plain.txt");
@@ -71,6 +78,18 @@ class ErrorHandlerTest {
     String[] r = run("--kind", "wrapped");
     assertThat(r[0]).isEqualTo("2");
     assertThat(r[2]).contains("meta.csv: row 2: duplicate key 'a'").doesNotContain("\tat ");
+  }
+
+  @Test
+  void aRefusedApiParameterIsNamedByTheCommandsOptionForIt() {
+    // the API's message names the parameter as Java code does; the command line names its option
+    assertThat(new io.actindex.core.BadParameterException("matrixRows", " must be from 2 to 9, got 1")).hasMessage("matrixRows must be from 2 to 9, got 1");
+    assertThat(run("--kind", "param")[2]).isEqualTo("boom: --matrix-rows must be from 2 to 9, got 1" + System.lineSeparator());
+    assertThat(run("--kind", "param-k")[2]).isEqualTo("boom: -k 7 is larger than the 5 rows" + System.lineSeparator());
+    // a command without such an option did not take the value from the user: the API's words stay
+    String[] r = run("--kind", "param-elsewhere");
+    assertThat(r[0]).isEqualTo("2");
+    assertThat(r[2]).isEqualTo("boom: dupesRadius must be 0 to 64; got 65" + System.lineSeparator());
   }
 
   @Test

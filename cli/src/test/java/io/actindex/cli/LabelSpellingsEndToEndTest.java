@@ -26,4 +26,19 @@ class LabelSpellingsEndToEndTest {
     assertThat(added.code()).as(added.describe()).isZero();
     assertThat(added.err()).as(added.describe()).contains(batch + ": note: label '1.0' and '1' in the index are the same number written two ways");
   }
+
+  @Test
+  void addNotesAWholeNumberTheIndexWritesWithZerosAroundIt() {
+    boolean[][] codes = new boolean[4][16];
+    for (int i = 0; i < 4; i++) codes[i][i] = true;
+    Path idx = tmp.resolve("idx");
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("c.npy"), codes).toString(),
+        "--meta", Files2.text(tmp.resolve("m.csv"), List.of("key,label", "a,3.00", "b,3.00", "c,07", "d,cat")).toString());
+    assertThat(built.code()).as(built.describe()).isZero();
+    Path batch = Files2.text(tmp.resolve("batch.csv"), List.of("key,label", "e,cat", "f,7"));
+    Cli.Result added = Cli.run("add", "--index", idx.toString(), "--codes", Files2.bits(tmp.resolve("c2.npy"), new boolean[2][16]).toString(),
+        "--meta", batch.toString());
+    assertThat(added.code()).as(added.describe()).isZero();
+    assertThat(added.err()).as(added.describe()).contains(batch + ": note: label '7' and '07' in the index are the same number written two ways");
+  }
 }

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.IdSet;
@@ -113,19 +114,19 @@ public final class Compare {
   public record Options(int permutations, long seed, Double sigma, double alpha, int top, int matrixRows, int exactMax,
       int sinkhornRows, double reg, int maxIter, double tol, int threads) {
     public Options {
-      if (permutations < 1) throw new BadInputException("--permutations must be at least 1, got " + permutations);
-      if (sigma != null && !(sigma > 0 && Double.isFinite(sigma))) throw new BadInputException("--sigma must be a positive number, got " + sigma);
-      if (!(alpha > 0 && alpha < 1)) throw new BadInputException("--alpha must be between 0 and 1, got " + alpha);
-      if (top < 0) throw new BadInputException("--top must be 0 or more, got " + top);
+      if (permutations < 1) throw new BadParameterException("permutations", " must be at least 1, got " + permutations);
+      if (sigma != null && !(sigma > 0 && Double.isFinite(sigma))) throw new BadParameterException("sigma", " must be a positive number, got " + sigma);
+      if (!(alpha > 0 && alpha < 1)) throw new BadParameterException("alpha", " must be between 0 and 1, got " + alpha);
+      if (top < 0) throw new BadParameterException("top", " must be 0 or more, got " + top);
       if (matrixRows < 2 || matrixRows > MAX_MATRIX_ROWS)
-        throw new BadInputException("--matrix-rows must be from 2 to " + MAX_MATRIX_ROWS + " (both samples' rows share one pairwise matrix), got " + matrixRows);
+        throw new BadParameterException("matrixRows", " must be from 2 to " + MAX_MATRIX_ROWS + " (both samples' rows share one pairwise matrix), got " + matrixRows);
       if (exactMax < 0 || exactMax > MAX_PAIR_ROWS)
-        throw new BadInputException("--exact-max must be from 0 to " + MAX_PAIR_ROWS + " (an A x B distance matrix in one array), got " + exactMax);
+        throw new BadParameterException("exactMax", " must be from 0 to " + MAX_PAIR_ROWS + " (an A x B distance matrix in one array), got " + exactMax);
       if (sinkhornRows < 2 || sinkhornRows > MAX_PAIR_ROWS)
-        throw new BadInputException("--sinkhorn-rows must be from 2 to " + MAX_PAIR_ROWS + " (an A x B distance matrix in one array), got " + sinkhornRows);
-      if (!(reg > 0 && Double.isFinite(reg))) throw new BadInputException("--reg must be a positive number, got " + reg);
-      if (maxIter < 1) throw new BadInputException("--max-iter must be at least 1, got " + maxIter);
-      if (!(tol > 0)) throw new BadInputException("--tol must be positive, got " + tol);
+        throw new BadParameterException("sinkhornRows", " must be from 2 to " + MAX_PAIR_ROWS + " (an A x B distance matrix in one array), got " + sinkhornRows);
+      if (!(reg > 0 && Double.isFinite(reg))) throw new BadParameterException("reg", " must be a positive number, got " + reg);
+      if (maxIter < 1) throw new BadParameterException("maxIter", " must be at least 1, got " + maxIter);
+      if (!(tol > 0)) throw new BadParameterException("tol", " must be positive, got " + tol);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
     }
 

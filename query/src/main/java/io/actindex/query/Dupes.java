@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.IdSet;
@@ -46,8 +47,8 @@ public final class Dupes {
   public record Params(int radius, String where, List<String> layers, boolean crossSplit, boolean conflictingLabels,
       int groups, int threads) {
     public Params {
-      if (radius < 0) throw new BadInputException("--radius must be at least 0, got " + radius);
-      if (groups < 0) throw new BadInputException("--groups must be at least 0, got " + groups);
+      if (radius < 0) throw new BadParameterException("radius", " must be at least 0, got " + radius);
+      if (groups < 0) throw new BadParameterException("groups", " must be at least 0, got " + groups);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
       layers = layers == null ? List.of() : List.copyOf(layers);
     }
@@ -221,7 +222,8 @@ public final class Dupes {
   public record AgainstSummary(int examples, int bits, int radius, long rows, long rowsWithMatches, long rowsWithout,
       long matches, int tables, double seconds) {}
 
-  public record AgainstResult(AgainstSummary summary, List<RowMatches> rows) {}
+  /** The summary, the rows with a match, and how the file was read ({@link QueryCodes#notes()}, e.g. its CSV header). */
+  public record AgainstResult(AgainstSummary summary, List<RowMatches> rows, List<String> notes) {}
 
   /**
    * For each row of {@code source} (encoded as the index was built), the live examples (matching the
@@ -283,7 +285,7 @@ public final class Dupes {
     flush.run();
     AgainstSummary s = new AgainstSummary(sel.ids.length, sel.codes.layout().bits(), p.radius(), queries.size(), totals[1],
         queries.size() - totals[1], totals[0], join.tables(), (System.nanoTime() - started) / 1e9);
-    return new AgainstResult(s, List.copyOf(rows));
+    return new AgainstResult(s, List.copyOf(rows), q.notes());
   }
 
   // ------------------------------------------------------------------ selection
@@ -298,7 +300,7 @@ public final class Dupes {
     for (int s : order) segs.add(layout.segments().get(s));
     CodeLayout target = p.layers().isEmpty() ? layout : new CodeLayout(segs);
     if (p.radius() > target.bits())
-      throw new BadInputException("--radius " + p.radius() + " is larger than the code length, " + target.bits() + " bits"
+      throw new BadParameterException("radius", " " + p.radius() + " is larger than the code length, " + target.bits() + " bits"
           + (p.layers().isEmpty() ? "" : " on layers " + String.join(",", p.layers())));
     IdSet filter = Where.select(reader.meta(), p.where());
     int[] live = new int[reader.liveCount()];

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
@@ -68,10 +69,11 @@ public final class Fidelity {
    * The rows compared: codes, the float activations (row-major, one per code bit),
    * {@code floatSource} saying where the floats came from, the kept magnitudes as the refinement
    * sees them ({@code kept}, null when none; {@code keptBits}), labels (null = none; entries may be
-   * null) and the raw inputs ({@code inputWidth} values per row; null = none).
+   * null) and the raw inputs ({@code inputWidth} values per row; null = none); {@code notes}: how
+   * the files were read (a CSV header, labels that write one number two ways).
    */
   public record Data(CodeBlock codes, float[] floats, String floatSource, Refine.Vectors kept, int keptBits, String[] labels,
-      float[] inputs, int inputWidth) {}
+      float[] inputs, int inputWidth, List<String> notes) {}
 
   /**
    * k-NN label accuracy over the {@code labeled} sampled queries that carry a label; {@code refined}
@@ -96,15 +98,18 @@ public final class Fidelity {
     int n = codes.size(), d = codes.layout().bits();
     if (n < 2) throw new BadInputException(file + ": " + n + " rows; fidelity needs at least 2");
     String[] labels = null;
+    List<String> notes = new java.util.ArrayList<>(read.notes());
     if (meta != null) {
       List<Map<String, String>> rows = MetaCsv.read(meta);
       if (rows.size() != n) throw new BadInputException(meta.file() + ": " + rows.size() + " data rows, but " + file + " has " + n + " rows");
+      String spelt = LabelSpellings.note(meta.file().toString(), rows, null);
+      if (spelt != null) notes.add(spelt);
       labels = rows.stream().map(r -> r.get("label")).toArray(String[]::new);
       if (Arrays.stream(labels).allMatch(l -> l == null)) labels = null;
     }
     Magnitudes kept = Magnitudes.quantise(read.activations(), n, d, bits);
     return new Data(codes, read.activations(), "float activations of " + file, (ord, out) -> kept.dequantise(ord, out, 0), bits,
-        labels, null, 0);
+        labels, null, 0, List.copyOf(notes));
   }
 
   /**
@@ -131,13 +136,14 @@ public final class Fidelity {
       float[] floats = new float[Math.multiplyExact(n, d)];
       for (int i = 0; i < n; i++) r.magnitudes(ids[i], floats, i * d);
       return new Data(codes, floats, "kept " + keptBits + "-bit magnitudes of index " + r.dir() + " (dequantised)", kept, keptBits,
-          any ? labels : null, null, 0);
+          any ? labels : null, null, 0, List.of());
     }
     if (!BuildInfo.fromProperties(r.properties(), r.dir().toString()).hasModel())
       throw new BadInputException(inputs + ": --inputs needs an index built from a model (build --model), and index " + r.dir()
           + " holds none; leave --inputs out to measure on its kept magnitudes");
+    List<String> notes = new java.util.ArrayList<>();
     QuerySource.Encoded enc = QuerySource.encode(r, Source.inputs(inputs, null).withHeader(header), RowRange.ALL, Encoding.CHUNK, progress,
-        "inputs", new java.util.ArrayList<>(), true);
+        "inputs", notes, true);
     if (enc.codes().size() != r.maxId())
       throw new BadInputException(inputs + ": " + enc.codes().size() + " rows, but index " + r.dir() + " was built from "
           + r.maxId() + " rows; give the inputs the index was built from, in id order");
@@ -152,7 +158,8 @@ public final class Fidelity {
     float[] in = new float[Math.multiplyExact(n, raw[0].length)];
     int width = raw[0].length;
     for (int i = 0; i < n; i++) System.arraycopy(raw[1], ids[i] * width, in, i * width, width);
-    return new Data(codes, floats, "the model's float activations on " + inputs, kept, keptBits, any ? labels : null, in, width);
+    return new Data(codes, floats, "the model's float activations on " + inputs, kept, keptBits, any ? labels : null, in, width,
+        List.copyOf(notes));
   }
 
   /** {@code [0]} has the width as its length, {@code [1]} the rows (row-major). */
@@ -177,8 +184,8 @@ public final class Fidelity {
     CodeBlock codes = data.codes();
     int n = codes.size(), d = codes.layout().bits(), w = codes.wordsPerCode();
     if (p.queries() > n)
-      throw new BadInputException("--queries " + p.queries() + " is larger than the " + n + " examples there are");
-    if (p.k() > n - 1) throw new BadInputException("-k " + p.k() + " needs more than the " + (n - 1) + " other examples there are");
+      throw new BadParameterException("queries", " " + p.queries() + " is larger than the " + n + " examples there are");
+    if (p.k() > n - 1) throw new BadParameterException("k", " " + p.k() + " needs more than the " + (n - 1) + " other examples there are");
     int c = Math.min(p.candidates(), n - 1);
     int[] sample = sample(n, p.queries(), new SplittableRandom(p.seed()));
     double[] norms = norms(data.floats(), n, d);

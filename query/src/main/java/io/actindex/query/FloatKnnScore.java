@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.encode.Encoders;
 import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.MatrixReader;
@@ -64,7 +65,7 @@ public final class FloatKnnScore {
 
   /** As {@link #scores(double[][], int)}, query rows on {@code threads} threads (the same result for any count). */
   public double[] scores(double[][] q, int k, int threads) {
-    if (k > train.length) throw new BadInputException("-k " + k + " is larger than the " + train.length + " training rows of floats");
+    if (k > train.length) throw new BadParameterException("k", " " + k + " is larger than the " + train.length + " training rows of floats");
     double[] out = new double[q.length];
     Parallel.forEach(q.length, threads, Progress.NONE, i -> {
       double[] d = new double[train.length];

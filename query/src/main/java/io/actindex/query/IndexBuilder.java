@@ -267,8 +267,7 @@ public final class IndexBuilder {
       }
       meta = readMeta(p.meta(), codes, p.source());
       if (meta != null) {
-        String spelt = LabelSpellings.note(p.meta().file().toString(), meta,
-            label -> !r.meta().selectEqual("label", label).isEmpty());
+        String spelt = LabelSpellings.note(p.meta().file().toString(), meta, label -> LabelSpellings.inIndex(r.meta(), label));
         if (spelt != null) notes.add(spelt);
       }
       if (meta != null)

@@ -1,13 +1,15 @@
 package io.actindex.query;
 
+import io.actindex.core.IdSet;
 import io.actindex.encode.io.CsvMatrixReader;
+import io.actindex.index.meta.MetaStore;
 import java.math.BigDecimal;
 import java.util.HashMap;
 import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
 import java.util.Set;
-import java.util.function.Predicate;
+import java.util.function.UnaryOperator;
 
 /**
  * Labels that write the same number two ways ({@code 3} and {@code 3.0}): labels are compared as
@@ -15,12 +17,14 @@ import java.util.function.Predicate;
  * {@code 3.0} is a label conflict. pandas writes a column of whole numbers as {@code 3.0} once it
  * holds a missing value (common practice), so a batch saved that way beside one saved without
  * gaps splits every class in two without an error. Found here, the user gets a note; the labels
- * stay as written.
+ * stay as written. Two labels write the same number when both are decimals ({@code [+-]digits[.digits][e[+-]digits]})
+ * of equal value: {@code 3}, {@code 3.0}, {@code 3.00}, {@code 03}, {@code +3}; in the index only
+ * plain spellings (no exponent) are looked for.
  */
 final class LabelSpellings {
   private LabelSpellings() {}
 
-  /** Most distinct labels of a batch looked up in an index (each costs two term look-ups). */
+  /** Most distinct labels of a batch looked up in an index (each costs one pattern look-up). */
   static final int MAX_LOOKUPS = 10_000;
 
   /** {@code label} as a number with no trailing zeros ({@code 3.0 -> 3}, {@code 2.50 -> 2.5}), or null if it is none. */
@@ -34,10 +38,44 @@ final class LabelSpellings {
   }
 
   /**
-   * A note for the first label of {@code rows} (their {@code label} values, in order) that writes
-   * the number of an earlier one, or of a label {@code indexHas}, another way; null when none.
+   * A regular expression matching every plain decimal spelling of {@code number} (as {@link
+   * #number} writes it): an optional sign ({@code -} for a negative number, {@code +} for a positive one,
+   * either for zero), leading zeros, trailing zeros after the point, the point alone after a whole
+   * number and the zero before it left out ({@code .5}). At least one digit. Written with escapes,
+   * groups, {@code |}, {@code ?} and {@code *} only, which mean the same in Lucene's syntax ({@link
+   * MetaStore#selectMatching}) and in {@link java.util.regex.Pattern}.
    */
-  static String note(String file, List<Map<String, String>> rows, Predicate<String> indexHas) {
+  static String spellings(String number) {
+    boolean negative = number.startsWith("-");
+    String digits = negative ? number.substring(1) : number;
+    int point = digits.indexOf('.');
+    String whole = point < 0 ? digits : digits.substring(0, point), fraction = point < 0 ? "" : digits.substring(point + 1);
+    if (whole.equals("0") && fraction.isEmpty()) return "(\\+|\\-)?(0+(\\.0*)?|\\.0+)";
+    return (negative ? "\\-" : "\\+?") + "0*" + (whole.equals("0") ? "" : whole)
+        + (fraction.isEmpty() ? "(\\.0*)?" : "\\." + fraction + "0*");
+  }
+
+  /**
+   * A live label of the index that writes the number {@code label} writes another way (the one of
+   * the smallest such id), or null: one pattern look-up of {@link #spellings}, and one document read
+   * when it matches.
+   */
+  static String inIndex(MetaStore meta, String label) {
+    String n = number(label);
+    if (n == null || !meta.fields().containsKey("label")) return null;
+    IdSet ids = meta.selectMatching("label", spellings(n)).andNot(meta.selectEqual("label", label));
+    int[] first = new int[1];
+    if (ids.next(0, first) == 0) return null;
+    Map<String, String> doc = meta.document(first[0]);
+    return doc == null ? null : doc.get("label");
+  }
+
+  /**
+   * A note for the first label of {@code rows} (their {@code label} values, in order) that writes
+   * the number of an earlier one, or (when {@code inIndex}, as {@link #inIndex}, is given) of a
+   * label of the index, another way; null when none.
+   */
+  static String note(String file, List<Map<String, String>> rows, UnaryOperator<String> inIndex) {
     Set<String> labels = new LinkedHashSet<>(); // each distinct label once, in file order (a build has a handful for a million rows)
     for (Map<String, String> row : rows) labels.add(row.get("label"));
     Map<String, String> seen = new HashMap<>(); // number -> its first spelling in the file
@@ -47,9 +85,10 @@ final class LabelSpellings {
       if (n == null) continue;
       String first = seen.putIfAbsent(n, label);
       if (first != null) return message(file, label, "'" + first + "' earlier in the file");
-      if (indexHas != null && looked++ < MAX_LOOKUPS)
-        for (String other : n.contains(".") ? List.of(n) : List.of(n, n + ".0"))
-          if (!other.equals(label) && indexHas.test(other)) return message(file, label, "'" + other + "' in the index");
+      if (inIndex != null && looked++ < MAX_LOOKUPS) {
+        String other = inIndex.apply(label);
+        if (other != null) return message(file, label, "'" + other + "' in the index");
+      }
     }
     return null;
   }

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import java.util.ArrayList;
@@ -29,9 +30,9 @@ public final class Layers {
     for (int i = 0; i < out.length; i++) {
       String name = names.get(i);
       int s = layout.indexOf(name);
-      if (s < 0) throw new BadInputException("--layers: unknown layer '" + name + "' (the layers are " + names(layout) + ")");
+      if (s < 0) throw new BadParameterException("layers", ": unknown layer '" + name + "' (the layers are " + names(layout) + ")");
       for (int j = 0; j < i; j++)
-        if (out[j] == s) throw new BadInputException("--layers: layer '" + name + "' is chosen twice");
+        if (out[j] == s) throw new BadParameterException("layers", ": layer '" + name + "' is chosen twice");
       out[i] = s;
     }
     return out;
@@ -120,14 +121,20 @@ public final class Layers {
    * file stem); a layout of the same total width as {@code source} (the layout the index was built
    * from, before layers were dropped) followed by keeping the indexed layers; or any layout that
    * holds every indexed layer by name. Anything else is a {@link BadInputException} that says the
-   * expected and the given layout.
+   * expected and the given layout, in the words of what {@code file} holds ({@code kind}: codes,
+   * activations, or inputs the model turned into these codes).
    */
-  public static CodeBlock align(CodeBlock codes, CodeLayout target, CodeLayout source, String file) {
+  public static CodeBlock align(CodeBlock codes, CodeLayout target, CodeLayout source, String file, Source.Kind kind) {
     CodeLayout got = codes.layout();
     if (sameShape(got, target)) return relabel(codes, target);
     if (source != null && !source.equals(target) && sameShape(got, source)) return project(relabel(codes, source), target);
     if (containsAll(got, target)) return project(codes, target);
-    throw new BadInputException(file + ": the codes have layout " + got + " (" + got.bits() + " bits); the index expects "
+    String given = switch (kind) {
+      case CODES -> "the codes have layout " + got + " (" + got.bits() + " bits)";
+      case ACTIVATIONS -> "the activations have layout " + got + " (" + got.bits() + " columns, one per unit)";
+      case INPUTS -> "through the model these inputs give codes of layout " + got + " (" + got.bits() + " bits)";
+    };
+    throw new BadInputException(file + ": " + given + "; the index expects "
         + target + " (" + target.bits() + " bits)"
         + (source != null && !source.equals(target) ? " or its source layout " + source : "") + renamedHint(got, target));
   }

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
 import io.actindex.edge.EdgeBundle.Calibration;
@@ -46,8 +47,8 @@ public final class OodCalibrate {
 
     public Params {
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
-      if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
-      if (!(tpr > 0 && tpr < 1)) throw new BadInputException("--tpr must lie strictly between 0 and 1, got " + tpr);
+      if (candidates < 0) throw new BadParameterException("candidates", " must be at least 1, got " + candidates);
+      if (!(tpr > 0 && tpr < 1)) throw new BadParameterException("tpr", " must lie strictly between 0 and 1, got " + tpr);
       if (statistic == null) statistic = Statistic.KTH;
       layers = layers == null ? List.of() : List.copyOf(layers);
     }
@@ -55,29 +56,32 @@ public final class OodCalibrate {
 
   /**
    * The stored calibration, a summary of the scores (nearest-rank quantiles) and warnings about
-   * the calibration inputs (a threshold of 0, inputs that look like the training file).
+   * the calibration inputs (a threshold of 0, inputs that look like the training file); {@code
+   * notes}: how the input file was read ({@link QueryCodes#notes()}, e.g. its CSV header).
    */
   public record Result(Calibration calibration, OodCalibration.Scoring scoring, int inputs, double min, double p50, double p90, double p95, double p99, double max,
-      double mean, List<String> warnings) {
+      double mean, List<String> warnings, List<String> notes) {
     public Result {
       warnings = List.copyOf(warnings);
+      notes = List.copyOf(notes);
     }
   }
 
   public static Result run(Path dir, Source source, RowRange rows, Params p, Progress progress) {
     Calibration cal;
     OodCalibration.Scoring scoring;
-    List<String> warnings = new ArrayList<>();
+    List<String> warnings = new ArrayList<>(), notes;
     try (IndexReader reader = IndexReader.open(dir)) {
       OodScorer.checkK(reader, p.k());
       Layers.select(reader.layout(), p.layers());
       OodScorer.Kind kind = p.score() != null ? p.score() : OodScorer.Kind.defaultFor(reader);
       if (kind == OodScorer.Kind.CODE && p.candidates() != 0)
-        throw new BadInputException("--candidates is for the refined score; this calibration uses the code score"
+        throw new BadParameterException("candidates", " is for the refined score; this calibration uses the code score"
             + (p.score() == null ? " (the index " + dir + " keeps no magnitudes)" : ""));
       int cands = kind == OodScorer.Kind.CODE ? 0 : Math.max(p.candidates() == 0 ? Refine.DEFAULT_CANDIDATES : p.candidates(), p.k());
       OodScorer scorer = new OodScorer(reader, p.k(), p.statistic(), p.layers(), kind, cands);
       QuerySource.Queries qa = scorer.load(source, rows);
+      notes = qa.codes().notes();
       String file = source.file().toString();
       int[] overlap = overlap(reader, qa.codes());
       boolean looksLikeTraining = overlap[1] > 0 && 2L * overlap[0] >= overlap[1];
@@ -111,7 +115,7 @@ public final class OodCalibrate {
       w.putAttachment(OodCalibration.ATTACHMENT, OodCalibration.toBytes(cal, scoring));
     }
     Result r = summary(cal, scoring);
-    return new Result(cal, scoring, r.inputs(), r.min(), r.p50(), r.p90(), r.p95(), r.p99(), r.max(), r.mean(), warnings);
+    return new Result(cal, scoring, r.inputs(), r.min(), r.p50(), r.p90(), r.p95(), r.p99(), r.max(), r.mean(), warnings, notes);
   }
 
   /** The summary {@code ood calibrate} prints, of a stored calibration (the report shows the same numbers). */
@@ -120,7 +124,7 @@ public final class OodCalibrate {
     double sum = 0;
     for (double v : s) sum += v;
     return new Result(cal, scoring, s.length, s[0], nearestRank(s, 0.5), nearestRank(s, 0.9), nearestRank(s, 0.95), nearestRank(s, 0.99),
-        s[s.length - 1], sum / s.length, List.of());
+        s[s.length - 1], sum / s.length, List.of(), List.of());
   }
 
   /** Nearest-rank quantile of ascending values. */

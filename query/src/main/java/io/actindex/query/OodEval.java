@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
 import io.actindex.edge.EdgeBundle.Calibration;
@@ -56,7 +57,7 @@ public final class OodEval {
       in = in.withHeader(header);
       out = out.withHeader(header);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
-      if (candidates < 0) throw new BadInputException("--candidates must be at least 1, got " + candidates);
+      if (candidates < 0) throw new BadParameterException("candidates", " must be at least 1, got " + candidates);
       int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
       if (floats != 0 && floats != 3)
         throw new BadInputException("the float score needs --in-floats, --out-floats and --train-floats together");
@@ -78,9 +79,10 @@ public final class OodEval {
   /**
    * {@code floats}, {@code refined} and {@code softmax} are null when they do not apply. {@code
    * refined} needs training floats whose rows are the index's ids (one row per id, in build order).
+   * {@code notes}: how the in and out files were read ({@link QueryCodes#notes()}, e.g. their CSV header).
    */
   public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored refined, Scored softmax,
-      List<String> warnings) {
+      List<String> warnings, List<String> notes) {
     /** The scores that apply, code score first. */
     public List<Scored> scores() {
       List<Scored> s = new ArrayList<>(List.of(code));
@@ -163,7 +165,9 @@ public final class OodEval {
       String one = SoftmaxBaseline.oneOutputNote(reader);
       softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)" + (one == null ? "" : "; " + one), sa, sb);
     }
-    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings));
+    List<String> notes = new ArrayList<>(in.notes());
+    notes.addAll(out.notes());
+    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings), List.copyOf(notes));
   }
 
   /** Hamming candidates the refined score re-ranks. */

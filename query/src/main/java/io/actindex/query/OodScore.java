@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.edge.EdgeBundle;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.index.store.IndexReader;
@@ -32,7 +33,7 @@ public final class OodScore {
    */
   public record Params(int evidence, OodScorer.Kind score, int threads) {
     public Params {
-      if (evidence < 0) throw new BadInputException("--evidence must be at least 0, got " + evidence);
+      if (evidence < 0) throw new BadParameterException("evidence", " must be at least 0, got " + evidence);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
     }
 
@@ -55,8 +56,11 @@ public final class OodScore {
   public record Result(long row, double score, int kth, double mean, boolean ownRegion, boolean out, double pValue, List<Evidence> evidence,
       Double maxSoftmax) {}
 
-  /** The calibration in force, one result per input, and which score the calibration uses. */
-  public record Output(Calibration calibration, List<Result> results, OodCalibration.Scoring scoring) {
+  /**
+   * The calibration in force, one result per input, which score the calibration uses, and how the
+   * input file was read ({@link QueryCodes#notes()}, e.g. its CSV header).
+   */
+  public record Output(Calibration calibration, List<Result> results, OodCalibration.Scoring scoring, List<String> notes) {
     /** The score in force by name ({@link OodCalibration.Scoring#name}), e.g. {@code code k-th distance}. */
     public String scoreName() {
       return scoring.name(calibration.statistic());
@@ -79,7 +83,7 @@ public final class OodScore {
       out[i] = new Result(q.row(i), s.value(), s.kth(), s.mean(), s.ownRegion(), s.value() > cal.threshold(),
           EdgeBundle.pValue(sorted, s.value()), List.copyOf(ev), msp == null ? null : 1 - msp[i]);
     });
-    return new Output(cal, List.of(out), OodCalibration.scoring(reader));
+    return new Output(cal, List.of(out), OodCalibration.scoring(reader), q.notes());
   }
 
   /**

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
 import io.actindex.edge.EdgeBundle.Statistic;
@@ -35,7 +36,7 @@ public final class OodScorer {
 
     public static Kind parse(String s) {
       for (Kind x : values()) if (x.label().equals(s)) return x;
-      throw new BadInputException("--score: unknown score '" + (s.length() > 20 ? s.substring(0, 20) + "..." : s) + "' (code or refined)");
+      throw new BadParameterException("score", ": unknown score '" + (s.length() > 20 ? s.substring(0, 20) + "..." : s) + "' (code or refined)");
     }
 
     public String label() {
@@ -83,11 +84,11 @@ public final class OodScorer {
 
   /** Refuses {@code k < 1} and {@code k} above the index's live examples (none: every example deleted). */
   public static void checkK(IndexReader reader, int k) {
-    if (k < 1) throw new BadInputException("-k must be at least 1, got " + k);
+    if (k < 1) throw new BadParameterException("k", " must be at least 1, got " + k);
     if (reader.liveCount() == 0)
       throw new BadInputException("the index " + reader.dir() + " holds no live examples; an OOD score needs at least k = " + k + " of them");
     if (k > reader.liveCount())
-      throw new BadInputException("-k " + k + " is larger than the index " + reader.dir() + ", which holds " + reader.liveCount() + " live examples");
+      throw new BadParameterException("k", " " + k + " is larger than the index " + reader.dir() + ", which holds " + reader.liveCount() + " live examples");
   }
 
   public Score score(long[] code) {

@@ -132,7 +132,7 @@ public final class QuerySource {
       throw new BadInputException(source.file() + ": its header names the model inputs the index " + reader.dir() + " was built from, but it"
           + " was given as " + source.kind().name().toLowerCase(java.util.Locale.ROOT) + "; pass it with --inputs");
     CodeBlock raw = read.codes();
-    CodeBlock codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString());
+    CodeBlock codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString(), source.kind());
     CodeLayout split = raw.layout().bits() == target.bits() ? target : info.sourceLayout();
     if (raw.layout().segments().size() == 1 && split != null && split.segments().size() > 1 && split.bits() == raw.layout().bits())
       notes.add(source.file() + ": note: its " + raw.layout().bits() + " columns are read as the layers " + split + " side by side, in that order");

@@ -2,6 +2,7 @@ package io.actindex.query;
 
 import io.actindex.core.OutputFiles;
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
@@ -11,6 +12,7 @@ import io.actindex.query.report.ReportSections;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Path;
+import java.util.List;
 import java.util.Map;
 
 /**
@@ -43,8 +45,11 @@ public final class Report {
     }
   }
 
-  /** What was written: the file, its size, and the numbers behind the page. */
-  public record Result(Path out, long bytes, IndexReport.Facts facts) {}
+  /**
+   * What was written: the file, its size, the numbers behind the page, and the comparison's notes
+   * ({@link Compare.Result#notes()}: how its files were read, what it approximated; empty without one).
+   */
+  public record Result(Path out, long bytes, IndexReport.Facts facts, List<String> notes) {}
 
   /** The facts of an index that the page shows. */
   public static IndexReport.Facts facts(IndexReader reader, Progress progress) {
@@ -72,7 +77,7 @@ public final class Report {
     Source a = compareSource(reader, p, p.compareA()), b = compareSource(reader, p, p.compareB());
     int bits = reader.layout().bits();
     if (p.dupesRadius() != null && (p.dupesRadius() < 0 || p.dupesRadius() > bits))
-      throw new BadInputException("--dupes-radius must be 0 to the code length, " + bits + " bits; got " + p.dupesRadius());
+      throw new BadParameterException("dupesRadius", " must be 0 to the code length, " + bits + " bits; got " + p.dupesRadius());
     IndexReport.Facts f = facts(reader, progress);
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
     HtmlPage page = new HtmlPage(title, f.examples() + " examples, " + reader.layout().bits() + " bits per example.");
@@ -80,16 +85,19 @@ public final class Report {
     if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)));
     if (p.dupesRadius() != null)
       ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null));
+    List<String> notes = List.of();
     if (a != null) {
       Compare.Options o = Compare.Options.defaults();
       o = new Compare.Options(o.permutations(), o.seed(), o.sigma(), o.alpha(), o.top(), o.matrixRows(), o.exactMax(), o.sinkhornRows(),
           o.reg(), o.maxIter(), o.tol(), p.threads());
-      ReportSections.compare(page, Compare.run(new Compare.Params(reader.dir(), Compare.Sample.file(a), Compare.Sample.file(b), null, null,
-          null, null, null, null, o, p.compareHeader()), null));
+      Compare.Result compared = Compare.run(new Compare.Params(reader.dir(), Compare.Sample.file(a), Compare.Sample.file(b), null, null,
+          null, null, null, null, o, p.compareHeader()), null);
+      ReportSections.compare(page, compared);
+      notes = compared.notes();
     }
     byte[] html = page.finish().getBytes(StandardCharsets.UTF_8);
     write(p.out(), html);
-    return new Result(p.out(), html.length, f);
+    return new Result(p.out(), html.length, f, notes);
   }
 
   /** A comparison file as a source of its given kind, or of the kind the index tells ({@code --compare-kind} names the way out); null for none. */

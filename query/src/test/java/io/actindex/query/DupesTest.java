@@ -311,7 +311,7 @@ class DupesTest {
     TestIndexes.write(dir, codes, TestIndexes.rows(0, 60, new SplittableRandom(3)), 1);
     try (IndexReader r = IndexReader.open(dir)) {
       assertThatThrownBy(() -> new Dupes.Params(-1, null, null, false, false, 10, 1))
-          .isInstanceOf(BadInputException.class).hasMessageContaining("--radius");
+          .isInstanceOf(BadInputException.class).hasMessage("radius must be at least 0, got -1");
       assertThatThrownBy(() -> Dupes.run(r, new Dupes.Params(17, null, null, false, false, 10, 1), null, null))
           .isInstanceOf(BadInputException.class).hasMessageContaining("larger than the code length, 16 bits");
       assertThatThrownBy(() -> Dupes.run(r, new Dupes.Params(7, null, List.of("h2"), false, false, 10, 1), null, null))

@@ -29,7 +29,7 @@ class FidelityTest {
     for (int i = 0; i < n; i++) for (int j = 0; j < d; j++) bits[i][j] = floats[i * d + j] > 0;
     CodeBlock codes = CodeBlock.fromBits(CodeLayout.single("act", d), bits);
     Refine.Vectors vectors = kept ? (ord, out) -> System.arraycopy(floats, ord * d, out, 0, d) : null;
-    return new Fidelity.Data(codes, floats, "test floats", vectors, kept ? 8 : 0, labels, null, 0);
+    return new Fidelity.Data(codes, floats, "test floats", vectors, kept ? 8 : 0, labels, null, 0, List.of());
   }
 
   @Test

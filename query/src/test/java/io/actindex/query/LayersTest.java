@@ -19,9 +19,9 @@ class LayersTest {
   @Test
   void anUnknownLayerIsRefusedNamingTheOption() {
     assertThatThrownBy(() -> Layers.select(SOURCE, List.of("a", "z"))).isInstanceOf(BadInputException.class)
-        .hasMessage("--layers: unknown layer 'z' (the layers are a, b, c)");
+        .hasMessage("layers: unknown layer 'z' (the layers are a, b, c)");
     assertThatThrownBy(() -> Layers.select(SOURCE, List.of("b", "b"))).isInstanceOf(BadInputException.class)
-        .hasMessage("--layers: layer 'b' is chosen twice");
+        .hasMessage("layers: layer 'b' is chosen twice");
   }
 
   @Test
@@ -35,23 +35,30 @@ class LayersTest {
       for (int b = 0; b < 70; b++) assertEquals(src.bit(i, 80 + b), got.bit(i, 50 + b), Randoms.describe(seed));
     }
     // a single-segment file of the source's width is read as the source layout, then projected
-    assertEquals(got.layout(), Layers.align(flat, INDEX, SOURCE, "q.npy").layout());
-    assertEquals(java.util.Arrays.toString(got.words()), java.util.Arrays.toString(Layers.align(flat, INDEX, SOURCE, "q.npy").words()));
+    assertEquals(got.layout(), Layers.align(flat, INDEX, SOURCE, "q.npy", Source.Kind.CODES).layout());
+    assertEquals(java.util.Arrays.toString(got.words()), java.util.Arrays.toString(Layers.align(flat, INDEX, SOURCE, "q.npy", Source.Kind.CODES).words()));
   }
 
   @Test
   void alignRefusesOtherWidthsSayingExpectedAndGot() {
     CodeBlock wrong = SyntheticCodes.uniform(3, 119, 7);
-    assertThatThrownBy(() -> Layers.align(wrong, INDEX, SOURCE, "q.npy")).isInstanceOf(BadInputException.class)
+    assertThatThrownBy(() -> Layers.align(wrong, INDEX, SOURCE, "q.npy", Source.Kind.CODES)).isInstanceOf(BadInputException.class)
         .hasMessageContaining("q.npy").hasMessageContaining("119 bits").hasMessageContaining("a:50,c:70 (120 bits)");
+    // the message names what was given: activations are columns, inputs give codes through the model
+    assertThatThrownBy(() -> Layers.align(wrong, INDEX, SOURCE, "q.npy", Source.Kind.ACTIVATIONS))
+        .hasMessageStartingWith("q.npy: the activations have layout bits:119 (119 columns, one per unit); the index expects a:50,c:70");
+    assertThatThrownBy(() -> Layers.align(wrong, INDEX, SOURCE, "q.npy", Source.Kind.INPUTS))
+        .hasMessageStartingWith("q.npy: through the model these inputs give codes of layout bits:119 (119 bits); the index expects a:50,c:70");
+    assertThatThrownBy(() -> Layers.align(wrong, INDEX, SOURCE, "q.npy", Source.Kind.CODES))
+        .hasMessageStartingWith("q.npy: the codes have layout bits:119 (119 bits); the index expects a:50,c:70");
     CodeBlock swapped = Layers.relabel(SyntheticCodes.uniform(3, 120, 7), CodeLayout.parse("c:70,a:50"));
-    assertEquals(INDEX, Layers.align(swapped, INDEX, SOURCE, "q.npz").layout()); // found by name
+    assertEquals(INDEX, Layers.align(swapped, INDEX, SOURCE, "q.npz", Source.Kind.CODES).layout()); // found by name
     // the index's widths in its order under other names: refused, with a hint to rename (not matched by position)
     CodeBlock other = Layers.relabel(SyntheticCodes.uniform(3, 120, 7), CodeLayout.parse("x:50,y:70"));
-    assertThatThrownBy(() -> Layers.align(other, INDEX, SOURCE, "q.npz")).isInstanceOf(BadInputException.class)
+    assertThatThrownBy(() -> Layers.align(other, INDEX, SOURCE, "q.npz", Source.Kind.CODES)).isInstanceOf(BadInputException.class)
         .hasMessageContaining("save them under the names a, c");
     CodeBlock otherWidths = Layers.relabel(SyntheticCodes.uniform(3, 120, 7), CodeLayout.parse("x:60,y:60"));
-    assertThatThrownBy(() -> Layers.align(otherWidths, INDEX, SOURCE, "q.npz")).isInstanceOf(BadInputException.class)
+    assertThatThrownBy(() -> Layers.align(otherWidths, INDEX, SOURCE, "q.npz", Source.Kind.CODES)).isInstanceOf(BadInputException.class)
         .hasMessageNotContaining("save them under");
   }
 

@@ -1,6 +1,7 @@
 package io.actindex.encode.io;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import java.io.IOException;
 import java.io.InputStream;
 import java.math.BigDecimal;
@@ -231,7 +232,7 @@ public final class CsvMatrixReader implements MatrixReader {
     try {
       return Header.valueOf(s.trim().toUpperCase(Locale.ROOT));
     } catch (IllegalArgumentException e) {
-      throw new BadInputException("--header: " + BadInputException.quote(s) + " is not yes, no or auto");
+      throw new BadParameterException("header", ": " + BadInputException.quote(s) + " is not yes, no or auto");
     }
   }
 

@@ -32,6 +32,7 @@ import org.apache.lucene.search.FieldExistsQuery;
 import org.apache.lucene.search.IndexSearcher;
 import org.apache.lucene.search.MatchAllDocsQuery;
 import org.apache.lucene.search.Query;
+import org.apache.lucene.search.RegexpQuery;
 import org.apache.lucene.search.ScoreMode;
 import org.apache.lucene.search.SimpleCollector;
 import org.apache.lucene.search.TermQuery;
@@ -421,6 +422,16 @@ public final class MetaStore implements Closeable {
    */
   public IdSet selectEqual(String field, String text) {
     return select(new TermQuery(new Term(field, text)));
+  }
+
+  /**
+   * The live ids whose KEYWORD column {@code field} holds a value that {@code regexp} matches whole, a
+   * set over {@code [0, maxId)}. The expression is in Lucene's regular-expression syntax (its {@code
+   * RegExp}: no anchors, {@code .} any character, a backslash escapes; {@code ( ) | ? * +} and
+   * character classes as usual); it is run against the column's distinct values, not per id.
+   */
+  public IdSet selectMatching(String field, String regexp) {
+    return select(new RegexpQuery(new Term(field, regexp)));
   }
 
   /**

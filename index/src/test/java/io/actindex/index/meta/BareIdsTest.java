@@ -96,6 +96,12 @@ class BareIdsTest {
           {"key", "k3"}, {"key", "k4"}, {"key", "row-40"}};
       for (String[] p : pairs)
         assertEquals(expected(truth, m -> p[1].equals(m.get(p[0]))), bits(meta.selectEqual(p[0], p[1])), p[0] + " = " + p[1]);
+      // patterns, against java.util.regex on the rows (these constructs mean the same in both; bare ids' keys included)
+      String[][] patterns = {{"label", "a|b"}, {"label", "[ac]"}, {"label", "x*"}, {"key", "row\\-1[0-9]"}, {"key", "k.*"},
+          {"key", "(row\\-3|k3)0?"}, {"colour", ".+"}};
+      for (String[] p : patterns)
+        assertEquals(expected(truth, m -> m.get(p[0]) != null && java.util.regex.Pattern.matches(p[1], m.get(p[0]))),
+            bits(meta.selectMatching(p[0], p[1])), p[0] + " ~ " + p[1]);
     }
   }
 
