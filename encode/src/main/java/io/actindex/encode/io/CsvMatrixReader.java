@@ -23,7 +23,7 @@ import java.util.regex.Pattern;
  * Streams a numeric CSV file (comma-separated, one row per line, every field a decimal number)
  * as a matrix. The file must be UTF-8 (a UTF-8 byte order mark is skipped); UTF-16 (a UTF-16 byte
  * order mark or NUL bytes) and other encodings (bytes that are not UTF-8, e.g. Latin-1) are refused
- * naming the byte offset and line.
+ * naming the byte offset and line, and so are lines that end in CR alone.
  *
  * <p>Header line, by {@link Header}: {@code YES} the first line names the columns; {@code NO} it
  * is data; {@code AUTO} it is a header when every cell is text, or when its cells are exactly the
@@ -297,6 +297,9 @@ public final class CsvMatrixReader implements MatrixReader {
     }
     if (!any) return null;
     if (n > 0 && lineBytes[n - 1] == '\r') n--;
+    for (int i = 0; i < n; i++) // lines ending in CR alone are one line to this reader: refused as such, not as a header without rows
+      if (lineBytes[i] == '\r')
+        throw encoding(lineStart + i, "a carriage return inside a line: the file's lines end in CR alone (classic Mac OS); save it with LF or CRLF line ends");
     ByteBuffer bb = ByteBuffer.wrap(lineBytes, 0, n);
     if (chars.capacity() < n) chars = CharBuffer.allocate(Math.max(n, chars.capacity() * 2));
     chars.clear();

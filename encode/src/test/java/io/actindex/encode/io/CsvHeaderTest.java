@@ -287,6 +287,26 @@ class CsvHeaderTest {
     }
   }
 
+  /**
+   * Lines that end in CR alone (classic Mac OS spreadsheets; Python's open(newline='\\r') writes
+   * them too) are one line to this reader: "1\\r2\\r3" was refused as a header without rows, a
+   * message about something else. CRLF line ends and a CR before the last newline stay fine.
+   */
+  @Test
+  void linesEndingInCarriageReturnAloneAreRefusedSayingSo() throws IOException {
+    for (String text : new String[] {"1\r2\r3\r", "a,b\r1,2\r3,4\r", "a,b\n1,2\r3,4\n"}) {
+      Path f = csv("cr.csv", text);
+      assertThatThrownBy(() -> {
+        try (CsvMatrixReader r = CsvMatrixReader.open(f)) {
+          r.read(new double[8], 4);
+        }
+      }).as(text).isInstanceOf(BadInputException.class).hasMessageContaining("cr.csv").hasMessageContaining("CR alone");
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("crlf.csv", "a,b\r\n1,2\r\n\r\n3,4\r\n"))) {
+      assertThat(all(r, 2)).containsExactly(1, 2, 3, 4);
+    }
+  }
+
   @Test
   void messagesQuoteAShortEscapedPrefixOfABadCell() throws IOException {
     String big = "x".repeat(5_000_000);
