@@ -6,6 +6,8 @@ reads back (same layout as make_npy.py: `rows cols`, then one repr(float) per li
 
 - u8_high.npy, u8_high_F_be.npy: uint64 values above 2^63 whose low bits NumPy must round
   (np.save; expected: NumPy's astype(np.float64), round to nearest even).
+- codes_packed_little.npy: 21-bit codes packed with np.packbits(bitorder='little'), the order
+  actindex does not read (expected: the codes).
 - decimal_comma.csv: one column of decimals as pandas writes it for a European spreadsheet,
   to_csv(sep=';', decimal=',', header=False, index=False); expected: what pandas reads back
   with read_csv(sep=';', decimal=',', header=None). Read as a comma-separated file it looks like
@@ -39,6 +41,12 @@ high = np.array([[2**63 + 1025, 2**63 + 3073, 2**64 - 1],
 np.save(os.path.join(out, "u8_high.npy"), high)
 np.save(os.path.join(out, "u8_high_F_be.npy"), np.asfortranarray(high.astype(">u8")))
 expected(high, "u8_high")
+
+# Codes packed with bitorder='little' (least significant bit first): with 21 bits, bits 16-18 of a
+# code land where NumPy's default order keeps the padding of the last byte.
+bits = np.random.default_rng(20261205).random((9, 21)) > 0.5
+np.save(os.path.join(out, "codes_packed_little.npy"), np.packbits(bits, axis=1, bitorder="little"))
+expected(bits, "codes_packed_little")
 
 values = pd.DataFrame({"v": [0.342, -5.103, 5.697, -18.473, 2.25, 0.05]})
 path = os.path.join(out, "decimal_comma.csv")
