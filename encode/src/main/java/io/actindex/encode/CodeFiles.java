@@ -155,7 +155,8 @@ public final class CodeFiles {
       if (ghost != 0) {
         int bit = ((layout.words() - 1) << 6) + Long.numberOfTrailingZeros(ghost);
         throw new BadInputException(r.source() + ": row " + row + ", column " + (bit >>> 3) + ": padding bit " + (bit & 7)
-            + " (code bit " + bit + ") is set but the layout has " + bits + " bits");
+            + " (code bit " + bit + ") is set but the layout has " + bits + " bits (packed with np.packbits(..., bitorder='little')?"
+            + " packed codes are read in NumPy's default order, bitorder='big': most significant bit first)");
       }
     }
 

@@ -80,6 +80,21 @@ class CodeFilesTest {
     }
   }
 
+  /**
+   * Codes packed least significant bit first (golden formats/codes_packed_little.npy; reference:
+   * NumPy 2.4 np.packbits(bitorder='little'), see tools/golden/make_formats.py) put code bits 16-18
+   * where NumPy's default order keeps the padding of the last byte: refused, naming that order.
+   */
+  @Test
+  void codesPackedInLittleBitOrderAreRefusedNamingTheOrder() throws IOException {
+    Golden.Expected bits = Golden.expected("formats/codes_packed_little"); // 9 x 21 booleans
+    boolean inPadding = false;
+    for (int r = 0; r < bits.rows(); r++) for (int c = 16; c <= 18; c++) inPadding |= bits.values()[r * bits.cols() + c] != 0;
+    assertThat(inPadding).as("some code has one of bits 16-18 set").isTrue();
+    assertThatThrownBy(() -> read(Golden.path("formats/codes_packed_little.npy"), CodeLayout.single("c", 21))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("codes_packed_little.npy").hasMessageContaining("padding bit").hasMessageContaining("bitorder='little'");
+  }
+
   @Test
   void badCodes() throws IOException {
     Path twos = tmp.resolve("twos.npy");

@@ -26,7 +26,9 @@ import java.util.Map;
  * CSV belongs to row {@code i} of the codes (join by row order). The key column names each
  * example (keys must be unique; without a key column the store generates {@code row-<id>}); the
  * label and split columns become {@code label} and {@code split}; every other column keeps its
- * name and becomes a filterable field. Empty values are left out of the row map.
+ * name and becomes a filterable field. Empty values are left out of the row map. A header of one
+ * column whose name holds a semicolon or a tab is refused: the file is separated by those, and
+ * read by commas it would become one field named after the whole header line.
  *
  * <p>The file must be UTF-8 (a byte order mark is skipped); UTF-16, Latin-1 or other bytes that
  * are not UTF-8 are refused with the line. Limits, far above what metadata needs, keep a wrong
@@ -65,6 +67,10 @@ public final class MetaCsv {
       Parser p = new Parser(new Utf8Lines(in, name), name);
       List<String> header = p.next();
       if (header == null) throw new BadInputException(name + ": empty file; a metadata CSV needs a header row");
+      if (header.size() == 1 && (header.getFirst().contains(";") || header.getFirst().contains("\t")))
+        throw new BadInputException(name + ": line 1: the header is one column named '" + Snippet.of(header.getFirst()) + "': the file is separated by "
+            + (header.getFirst().contains(";") ? "semicolons (as spreadsheets in European languages save CSV)" : "tabs")
+            + ", but metadata is read comma-separated: save it with commas (pandas: to_csv(sep=','))");
       String[] target = targets(header, o, name);
       List<Map<String, String>> rows = new ArrayList<>();
       Map<String, Integer> keyRow = new HashMap<>();

@@ -68,6 +68,14 @@ class MetaCsvTest {
     assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(kind))).hasMessageContaining("meta.csv").hasMessageContaining("'kind.rpm'");
     Path l = write("");
     assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(l))).hasMessageContaining("header");
+    // separated by semicolons, as pandas' to_csv(sep=';') and spreadsheets in European languages write it
+    // (from memory): it was read as one field named 'key;label;split', keys row-N and no label, exit 0
+    Path semi = write("key;label;split\nk0;cat;train\nk1;dog;test\n");
+    assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(semi))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("meta.csv").hasMessageContaining("line 1").hasMessageContaining("semicolons");
+    Path tabs = write("key\tlabel\nk0\tcat\n");
+    assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(tabs))).hasMessageContaining("meta.csv").hasMessageContaining("tabs");
+    assertEquals(List.of(Map.of("key", "k0", "note", "a;b")), MetaCsv.read(MetaCsv.Options.of(write("key,note\nk0,a;b\n")))); // a value may hold one
   }
 
   @Test

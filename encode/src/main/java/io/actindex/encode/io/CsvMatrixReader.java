@@ -24,7 +24,7 @@ import java.util.regex.Pattern;
  * Streams a numeric CSV file (comma-separated, one row per line, every field a decimal number)
  * as a matrix. The file must be UTF-8 (a UTF-8 byte order mark is skipped); UTF-16 (a UTF-16 byte
  * order mark or NUL bytes) and other encodings (bytes that are not UTF-8, e.g. Latin-1) are refused
- * naming the byte offset and line.
+ * naming the byte offset and line, and so are lines that end in CR alone.
  *
  * <p>Header line, by {@link Header}: {@code YES} the first line names the columns; {@code NO} it
  * is data; {@code AUTO} it is a header when every cell is text, or when its cells are exactly the
@@ -37,7 +37,9 @@ import java.util.regex.Pattern;
  * says which was chosen, and flags a leading column that looks like a row index.
  *
  * <p>Cells may be quoted as RFC 4180 says ({@code "h1,u0"} is one cell, {@code ""} inside quotes
- * one quote; a quoted number is a number), each on one line. Blank lines are skipped. A row with a different number of fields, an empty field, text, NaN
+ * one quote; a quoted number is a number), each on one line. Blank lines are skipped. A file
+ * without a header whose every row is two whole numbers, the second unsigned, is refused at its
+ * end under {@code AUTO} ({@link #decimalComma}: one column written with a decimal comma reads that way). A row with a different number of fields, an empty field, text, NaN
  * or an infinity is refused naming the line (1-based, as editors show it), the row and the column
  * (0-based). Lines are limited to {@link #MAX_LINE_BYTES}. Not thread-safe.
  */
@@ -64,6 +66,10 @@ public final class CsvMatrixReader implements MatrixReader {
   private final ArrayDeque<Long> pendingLines = new ArrayDeque<>();
   private long line; // line number of the last line read
   private long row;
+  /** AUTO found no header, two columns, and every row so far is two whole numbers, the second unsigned: see {@link #decimalComma}. */
+  private boolean wholePairs;
+  private String firstRowText; // for the message of decimalComma
+  private long firstRowLine;
 
   private CsvMatrixReader(Path file, InputStream in, Header mode) throws IOException {
     this.file = file;
@@ -105,6 +111,7 @@ public final class CsvMatrixReader implements MatrixReader {
       pendingLines.add(line);
     }
     if (pending.isEmpty()) throw new BadInputException(file + ": the CSV file has a header but no rows");
+    wholePairs = mode == Header.AUTO && header == null && cols == 2;
     String hint = indexColumnHint();
     if (hint != null) notes.add(hint);
     for (int c = 0; header != null && c < header.size(); c++)
@@ -291,6 +298,9 @@ public final class CsvMatrixReader implements MatrixReader {
     }
     if (!any) return null;
     if (n > 0 && lineBytes[n - 1] == '\r') n--;
+    for (int i = 0; i < n; i++) // lines ending in CR alone are one line to this reader: refused as such, not as a header without rows
+      if (lineBytes[i] == '\r')
+        throw encoding(lineStart + i, "a carriage return inside a line: the file's lines end in CR alone (classic Mac OS); save it with LF or CRLF line ends");
     ByteBuffer bb = ByteBuffer.wrap(lineBytes, 0, n);
     if (chars.capacity() < n) chars = CharBuffer.allocate(Math.max(n, chars.capacity() * 2));
     chars.clear();
@@ -365,7 +375,14 @@ public final class CsvMatrixReader implements MatrixReader {
         s = nextLine();
         at = line;
       }
-      if (s == null) break;
+      if (s == null) {
+        if (wholePairs && row > 0) throw decimalComma();
+        break;
+      }
+      if (row == 0) {
+        firstRowText = s;
+        firstRowLine = at;
+      }
       parseRow(s, at, out, n * cols);
       n++;
       row++;
@@ -417,6 +434,7 @@ public final class CsvMatrixReader implements MatrixReader {
 
   private void parseRow(String s, long at, double[] out, int off) {
     if (s.indexOf('"') >= 0) {
+      wholePairs = false; // quoted cells: written by a comma-separated writer (it would quote "0,342" whole)
       String[] f = split(s, at);
       for (int col = 0; col < f.length; col++) {
         if (col >= cols) throw new BadInputException(where(at, col) + ": too many fields (expected " + cols + ")");
@@ -441,11 +459,29 @@ public final class CsvMatrixReader implements MatrixReader {
   /** The number in cell {@code f} (trimmed); empty, text, NaN and infinities are refused naming the cell. */
   private double value(String f, long at, int col) {
     if (f.isEmpty()) throw new BadInputException(where(at, col) + ": empty field");
+    if (wholePairs && !(col == 0 ? WHOLE : DIGITS).matcher(f).matches()) wholePairs = false;
     if (!isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number" + otherSeparator(f));
     char c0 = f.charAt(f.length() - 1);
     double v = Character.isLetter(c0) ? Double.NaN : Double.parseDouble(f);
     if (!Double.isFinite(v)) throw new BadInputException(where(at, col) + ": value is " + BadInputException.quote(f) + "; only finite numbers are accepted");
     return v;
+  }
+
+  private static final Pattern WHOLE = Pattern.compile("[+-]?\\d+"), DIGITS = Pattern.compile("\\d+");
+
+  /**
+   * A file without a header whose every row is two whole numbers, the second without a sign
+   * ({@code 0,342}), reads the same as one column of decimals written with a decimal comma (a
+   * spreadsheet saved in a European language writes 0.342 as {@code 0,342}); under {@code AUTO}
+   * it is refused at the end of the file rather than read as two columns (unless a cell is quoted:
+   * a writer that quotes uses the comma as separator). {@code --header no}
+   * (the user says the lines are comma-separated data) or a header line naming two columns reads it.
+   */
+  private BadInputException decimalComma() {
+    return new BadInputException(file + ": every row is two whole numbers, the second without a sign (line " + firstRowLine + ": "
+        + BadInputException.quote(firstRowText.trim()) + "), which is also how one column of decimals written with a decimal comma"
+        + " reads (0,342 for 0.342, as spreadsheets in European languages save it); refused rather than guessed: write the numbers"
+        + " with a decimal point (pandas: to_csv(decimal='.')), or, if these are two columns of whole numbers, pass --header no");
   }
 
   private static final Pattern OTHER_SEPARATOR = Pattern.compile("[\\s;]+");

@@ -66,7 +66,11 @@ public enum NpyDtype {
     for (int k = 0, o = off; k < count; k++, o += stride) out[o] = get(bb, k);
   }
 
-  /** Element {@code k} as a double (uint64 above 2^63 is converted as unsigned). */
+  /**
+   * Element {@code k} as a double (uint64 above 2^63 is converted as unsigned, rounded to nearest
+   * as NumPy's astype(float64) does: the bit halving drops stays as a sticky bit, so it can never
+   * make a tie; common practice).
+   */
   double get(ByteBuffer bb, int k) {
     return switch (this) {
       case BOOL -> bb.get(k) != 0 ? 1 : 0;
@@ -79,7 +83,7 @@ public enum NpyDtype {
       case INT64 -> bb.getLong(k << 3);
       case UINT64 -> {
         long v = bb.getLong(k << 3);
-        yield v >= 0 ? v : (double) (v >>> 1) * 2.0 + (v & 1);
+        yield v >= 0 ? v : (double) (v >>> 1 | (v & 1)) * 2.0;
       }
       case FLOAT16 -> Float.float16ToFloat(bb.getShort(k << 1));
       case FLOAT32 -> bb.getFloat(k << 2);

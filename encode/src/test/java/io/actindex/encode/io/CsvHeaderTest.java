@@ -77,6 +77,37 @@ class CsvHeaderTest {
       }
   }
 
+  /**
+   * One column of decimals saved with a decimal comma (golden formats/decimal_comma.csv; reference:
+   * pandas 3.0 to_csv(sep=';', decimal=','), read back by its read_csv(decimal=',') as one column,
+   * see tools/golden/make_formats.py) was read as two columns of whole numbers ("0,342" as 0 and
+   * 342) with exit code 0. AUTO now refuses it at the end of the file, whatever the chunk size;
+   * --header no reads it as told. Two whole numbers with a sign on the second, a decimal point,
+   * a header line, a third column or quoted cells are what a comma-separated file holds, and are read.
+   */
+  @Test
+  void oneColumnWrittenWithDecimalCommasIsRefusedNotReadAsTwoColumns() throws IOException {
+    Path f = io.actindex.encode.Golden.path("formats/decimal_comma.csv");
+    io.actindex.encode.Golden.Expected pandas = io.actindex.encode.Golden.expected("formats/decimal_comma");
+    assertThat(pandas.cols()).isEqualTo(1);
+    for (int chunk : new int[] {1, 4, 100}) {
+      try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.AUTO)) {
+        double[] out = new double[chunk * r.cols()];
+        assertThatThrownBy(() -> {
+          while (r.read(out, chunk) > 0) {}
+        }).as("chunk " + chunk).isInstanceOf(BadInputException.class).hasMessageContaining(f.toString())
+            .hasMessageContaining("line 1: '0,342'").hasMessageContaining("decimal comma").hasMessageContaining("--header no");
+      }
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
+      assertThat(all(r, pandas.rows())).startsWith(0, 342, -5, 103);
+    }
+    for (String ok : new String[] {"3,4\n1,-2\n", "3,4\n1,2.5\n", "a,b\n3,4\n1,2\n", "3,4,6\n1,2,3\n", "3,4\n1,2e0\n", "\"3\",\"4\"\n\"1\",\"2\"\n"})
+      try (CsvMatrixReader r = CsvMatrixReader.open(csv("ok.csv", ok), Header.AUTO)) {
+        assertThat(all(r, 2)).as(ok).hasSize(2 * r.cols());
+      }
+  }
+
   /** np.savetxt writes numbers apart by a space unless told otherwise (its default delimiter, from memory of NumPy's API). */
   @Test
   void numbersApartBySpacesTabsOrSemicolonsAreRefusedSayingSo() throws IOException {
@@ -123,9 +154,9 @@ class CsvHeaderTest {
       assertThat(r.header()).containsExactly("a", "b");
       assertThat(all(r, 1)).containsExactly(1, 2);
     }
-    try (CsvMatrixReader r = CsvMatrixReader.open(csv("n.csv", "3,4\n1,2\n"), Header.AUTO)) {
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("n.csv", "3,4.5\n1,2\n"), Header.AUTO)) {
       assertThat(r.header()).isNull();
-      assertThat(all(r, 2)).containsExactly(3, 4, 1, 2);
+      assertThat(all(r, 2)).containsExactly(3, 4.5, 1, 2);
       assertThat(r.notes()).anySatisfy(n -> assertThat(n).contains("no header line"));
     }
     try (CsvMatrixReader r = CsvMatrixReader.open(csv("y.csv", "3,4\n1,2\n"), Header.YES)) {
@@ -253,6 +284,26 @@ class CsvHeaderTest {
     try (CsvMatrixReader r = CsvMatrixReader.open(withBom)) {
       assertThat(r.header()).containsExactly("a", "b");
       assertThat(all(r, 1)).containsExactly(1, 2);
+    }
+  }
+
+  /**
+   * Lines that end in CR alone (classic Mac OS spreadsheets; Python's open(newline='\\r') writes
+   * them too) are one line to this reader: "1\\r2\\r3" was refused as a header without rows, a
+   * message about something else. CRLF line ends and a CR before the last newline stay fine.
+   */
+  @Test
+  void linesEndingInCarriageReturnAloneAreRefusedSayingSo() throws IOException {
+    for (String text : new String[] {"1\r2\r3\r", "a,b\r1,2\r3,4\r", "a,b\n1,2\r3,4\n"}) {
+      Path f = csv("cr.csv", text);
+      assertThatThrownBy(() -> {
+        try (CsvMatrixReader r = CsvMatrixReader.open(f)) {
+          r.read(new double[8], 4);
+        }
+      }).as(text).isInstanceOf(BadInputException.class).hasMessageContaining("cr.csv").hasMessageContaining("CR alone");
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("crlf.csv", "a,b\r\n1,2\r\n\r\n3,4\r\n"))) {
+      assertThat(all(r, 2)).containsExactly(1, 2, 3, 4);
     }
   }
 
