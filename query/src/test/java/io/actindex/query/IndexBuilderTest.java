@@ -139,7 +139,7 @@ class IndexBuilderTest {
     try (IndexReader r = IndexReader.open(dir)) {
       assertThatThrownBy(() -> QuerySource.load(r, Source.activations(narrow), RowRange.ALL))
           .isInstanceOf(BadInputException.class).hasMessageContaining("narrow.npy")
-          .hasMessageContaining((D - 1) + " bits").hasMessageContaining("expects").hasMessageContaining(D + " bits");
+          .hasMessageContaining((D - 1) + " columns").hasMessageContaining("expects").hasMessageContaining(D + " bits");
     }
     assertThatThrownBy(() -> IndexBuilder.add(new IndexBuilder.AddParams(dir, Source.activations(narrow), null, 0), null))
         .isInstanceOf(BadInputException.class).hasMessageContaining("narrow.npy");
