@@ -276,6 +276,41 @@ class OodEndToEndTest {
   }
 
   /**
+   * A stored calibration whose score name or candidate count is damaged (written here through the
+   * index writer, as a bug or a hand-edited store could leave it) is named as a damaged calibration
+   * of the index, exit 2. The score name went through the parser of the --score option, so the
+   * refusal read "--score: unknown score 'refind'" although no --score was typed.
+   */
+  @Test
+  void aDamagedStoredScoreNameIsNamedAsADamagedCalibration() throws Exception {
+    Path idx = tmp.resolve("didx");
+    Path trainF = Files2.floats(tmp.resolve("dtrain.npy"), floats(200, 0.1, 31)), calF = Files2.floats(tmp.resolve("dcal.npy"), floats(40, 0.1, 32));
+    assertThat(Cli.run("build", "--out", idx.toString(), "--activations", trainF.toString()).code()).isZero();
+    Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString());
+    assertThat(c.code()).as(c.describe()).isZero();
+    String stored;
+    try (io.actindex.index.store.IndexReader r = io.actindex.index.store.IndexReader.open(idx)) {
+      stored = new String(r.attachment("ood.calibration"), java.nio.charset.StandardCharsets.UTF_8);
+    }
+    assertThat(stored).contains("score=refined\n").contains("candidates=100\n");
+    String[][] damages = {{"score=refined\n", "score=refind\n", "unknown score 'refind'"}, {"candidates=100\n", "candidates=-3\n", "candidates"},
+        {"candidates=100\n", "candidates=x\n", "candidates"}};
+    for (String[] d : damages) {
+      try (io.actindex.index.store.IndexWriter w = io.actindex.index.store.IndexWriter.open(idx)) {
+        w.putAttachment("ood.calibration", stored.replace(d[0], d[1]).getBytes(java.nio.charset.StandardCharsets.UTF_8));
+      }
+      for (String[] args : new String[][] {{"ood", "score", "--index", idx.toString(), "--activations", calF.toString()},
+          {"report", "--index", idx.toString(), "--out", tmp.resolve("d.html").toString()}}) {
+        Cli.Result r = Cli.run(args);
+        assertThat(r.code()).as(r.describe()).isEqualTo(2);
+        assertThat(r.err()).as(r.describe()).contains(idx + " attachment ood.calibration: damaged calibration").contains(d[2])
+            .doesNotContain("--score");
+        assertThat(r.err().strip().lines().count()).as(r.describe()).isEqualTo(1);
+      }
+    }
+  }
+
+  /**
    * ood eval without --kind on an index built from a model takes each file as compare does: the
    * model's inputs, or its hidden activations when the width fits those and not the inputs. Hidden
    * activations were read as inputs ("rows have 4 values but the model ... takes 3", exit 2) with no
