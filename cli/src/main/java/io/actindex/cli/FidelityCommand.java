@@ -112,6 +112,8 @@ final class FidelityCommand implements Callable<Integer> {
         result = run(Fidelity.fromActivations(activations, h, m, bits, bar), c, bar);
       }
     }
+    String note = noLabelNote(result);
+    if (note != null) Summaries.notes(spec.commandLine().getErr(), List.of(note));
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
       case json -> json(out, result);
@@ -162,8 +164,38 @@ final class FidelityCommand implements Callable<Integer> {
       else j.value(a.euclideanInputs());
       j.endObject();
     }
-    j.member("verdict", r.verdict()).endObject();
+    j.member("verdict", r.verdict());
+    j.name("no_labelled_neighbour");
+    if (a == null) j.nullValue();
+    else {
+      Fidelity.NoLabelledNeighbour none = a.noLabelledNeighbour();
+      j.beginObject().member("hamming", none.hamming()).name("refined");
+      if (none.refined() == null) j.nullValue();
+      else j.value(none.refined());
+      j.member("cosine", none.cosine()).name("euclidean_inputs");
+      if (none.euclideanInputs() == null) j.nullValue();
+      else j.value(none.euclideanInputs());
+      j.endObject();
+    }
+    j.endObject();
     out.println();
+  }
+
+  /**
+   * The note on stderr when some labelled queries had no labelled neighbour under some metric (they
+   * count as wrong in its accuracy), else null.
+   */
+  static String noLabelNote(Fidelity.Result r) {
+    Fidelity.Accuracy a = r.accuracy();
+    if (a == null || !a.noLabelledNeighbour().any()) return null;
+    Fidelity.NoLabelledNeighbour none = a.noLabelledNeighbour();
+    List<String> per = new ArrayList<>();
+    per.add(none.hamming() + " under hamming");
+    if (none.refined() != null) per.add(none.refined() + " under refined");
+    per.add(none.cosine() + " under cosine");
+    if (none.euclideanInputs() != null) per.add(none.euclideanInputs() + " under euclidean_inputs");
+    return "note: of the " + a.labeled() + " labelled queries, some have no labelled example among their " + r.k()
+        + " nearest (" + String.join(", ", per) + "); each of those counts as wrong in that accuracy";
   }
 
   /** One line per measure: {@code measure,value}. */
@@ -202,6 +234,14 @@ final class FidelityCommand implements Callable<Integer> {
     }
     rows.add(new String[] {"candidates", Integer.toString(r.candidates())});
     rows.add(new String[] {"magnitude_bits", Integer.toString(r.magnitudeBits())});
+    if (a != null) {
+      Fidelity.NoLabelledNeighbour none = a.noLabelledNeighbour();
+      rows.add(new String[] {"no_labelled_neighbour_hamming", Integer.toString(none.hamming())});
+      rows.add(new String[] {"no_labelled_neighbour_refined", none.refined() == null ? "" : Integer.toString(none.refined())});
+      rows.add(new String[] {"no_labelled_neighbour_cosine", Integer.toString(none.cosine())});
+      rows.add(new String[] {"no_labelled_neighbour_euclidean_inputs",
+          none.euclideanInputs() == null ? "" : Integer.toString(none.euclideanInputs())});
+    }
     return rows;
   }
 

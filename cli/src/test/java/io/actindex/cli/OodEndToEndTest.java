@@ -221,10 +221,21 @@ class OodEndToEndTest {
     assertThat(sj.get("threshold").asDouble()).isZero();
     assertThat(sj.get("warnings")).hasSize(1);
 
+    // in another order: every row on an indexed code, far more often than indexed codes are shared
     Cli.Result moved = Cli.run("ood", "calibrate", "--index", i, "--codes", shuffledF.toString(), "-k", "1", "--format", "json");
     assertThat(moved.code()).as(moved.describe()).isZero();
-    assertThat(moved.err()).as(moved.describe()).contains("warning: the threshold is 0: 200 of 200 calibration inputs score 0");
+    assertThat(moved.err()).as(moved.describe()).contains("warning: ").contains("200 of 200 rows have exactly the code of an indexed example");
     assertThat(JSON.readTree(moved.out()).get("warnings")).hasSize(1);
+    // an index holding every code twice: held-out rows could not be told from training rows by their codes
+    // (every indexed code is shared), but a threshold of 0 still warns
+    boolean[][] twice = new boolean[2 * train.length][];
+    for (int r = 0; r < twice.length; r++) twice[r] = train[r / 2];
+    Path twiceIdx = tmp.resolve("idx2");
+    assertThat(Cli.run("build", "--out", twiceIdx.toString(), "--codes", Files2.bits(tmp.resolve("twice.npy"), twice).toString()).code()).isZero();
+    Cli.Result zero = Cli.run("ood", "calibrate", "--index", twiceIdx.toString(), "--codes", shuffledF.toString(), "-k", "1", "--format", "json");
+    assertThat(zero.code()).as(zero.describe()).isZero();
+    assertThat(zero.err()).as(zero.describe()).contains("warning: the threshold is 0: 200 of 200 calibration inputs score 0");
+    assertThat(JSON.readTree(zero.out()).get("warnings")).hasSize(1);
 
     Cli.Result held = Cli.run("ood", "calibrate", "--index", i, "--codes", heldF.toString(), "-k", "3", "--format", "json");
     assertThat(held.code()).as(held.describe()).isZero();
@@ -232,6 +243,48 @@ class OodEndToEndTest {
     JsonNode hj = JSON.readTree(held.out());
     assertThat(hj.get("threshold").asDouble()).isPositive();
     assertThat(hj.get("warnings")).isEmpty();
+  }
+
+  /**
+   * The code score with k > 1 on an index built from codes (no kept magnitudes, so no copy check by
+   * activations): training rows in another order score low (each finds itself at distance 0) but
+   * the threshold is not 0, and they were calibrated on without a word. Now, when at least 99% of the
+   * rows have exactly the code of some indexed example and that share lies far above the share of
+   * indexed examples (drawn at random) whose code another one shares, they warn, and --check-overlap
+   * refuses them. Held-out rows of the same clusters (some of them on an indexed code) warn of nothing.
+   */
+  @Test
+  void shuffledTrainingCodesWarnUnderTheCodeScoreWithKAboveOne() throws Exception {
+    boolean[][] train = rows(200, 0.05, 1), heldOut = rows(60, 0.05, 2);
+    boolean[][] shuffled = new boolean[150][];
+    for (int r = 0; r < shuffled.length; r++) shuffled[r] = train[(r * 37 + 11) % train.length]; // distinct rows: 37 and 200 coprime
+    Path idx = tmp.resolve("kidx");
+    Path trainF = Files2.bits(tmp.resolve("ktrain.npy"), train), shuffledF = Files2.bits(tmp.resolve("kshuf.npy"), shuffled);
+    Path heldF = Files2.bits(tmp.resolve("kheld.npy"), heldOut);
+    assertThat(Cli.run("build", "--out", idx.toString(), "--codes", trainF.toString()).code()).isZero();
+    String i = idx.toString();
+    int indexed = 0;
+    for (boolean[] h : heldOut) for (boolean[] t : train) if (Arrays.equals(h, t)) { indexed++; break; }
+    assertThat(indexed).as("some held-out rows land on an indexed code").isPositive();
+
+    Map<String, String> before = Files2.checksums(idx);
+    Cli.Result refused = Cli.run("ood", "calibrate", "--index", i, "--codes", shuffledF.toString(), "-k", "3", "--check-overlap");
+    assertThat(refused.code()).as(refused.describe()).isEqualTo(2);
+    assertThat(refused.err()).as(refused.describe()).contains("150 of 150 rows have exactly the code of an indexed example");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+
+    Cli.Result moved = Cli.run("ood", "calibrate", "--index", i, "--codes", shuffledF.toString(), "-k", "3", "--format", "json");
+    assertThat(moved.code()).as(moved.describe()).isZero();
+    assertThat(moved.err()).as(moved.describe()).contains("warning: ").contains("150 of 150 rows have exactly the code")
+        .contains("--check-overlap");
+    JsonNode mj = JSON.readTree(moved.out());
+    assertThat(mj.get("threshold").asDouble()).as("the threshold-0 warning cannot catch these").isPositive();
+    assertThat(mj.get("warnings")).hasSize(1);
+
+    Cli.Result held = Cli.run("ood", "calibrate", "--index", i, "--codes", heldF.toString(), "-k", "3", "--check-overlap", "--format", "json");
+    assertThat(held.code()).as(held.describe()).isZero();
+    assertThat(held.err()).as(held.describe()).doesNotContain("warning");
+    assertThat(JSON.readTree(held.out()).get("warnings")).isEmpty();
   }
 
   /**
@@ -273,6 +326,41 @@ class OodEndToEndTest {
     assertThat(held.code()).as(held.describe()).isZero();
     assertThat(held.err()).as(held.describe()).doesNotContain("warning");
     assertThat(JSON.readTree(held.out()).get("warnings")).isEmpty();
+  }
+
+  /**
+   * A stored calibration whose score name or candidate count is damaged (written here through the
+   * index writer, as a bug or a hand-edited store could leave it) is named as a damaged calibration
+   * of the index, exit 2. The score name went through the parser of the --score option, so the
+   * refusal read "--score: unknown score 'refind'" although no --score was typed.
+   */
+  @Test
+  void aDamagedStoredScoreNameIsNamedAsADamagedCalibration() throws Exception {
+    Path idx = tmp.resolve("didx");
+    Path trainF = Files2.floats(tmp.resolve("dtrain.npy"), floats(200, 0.1, 31)), calF = Files2.floats(tmp.resolve("dcal.npy"), floats(40, 0.1, 32));
+    assertThat(Cli.run("build", "--out", idx.toString(), "--activations", trainF.toString()).code()).isZero();
+    Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString());
+    assertThat(c.code()).as(c.describe()).isZero();
+    String stored;
+    try (io.actindex.index.store.IndexReader r = io.actindex.index.store.IndexReader.open(idx)) {
+      stored = new String(r.attachment("ood.calibration"), java.nio.charset.StandardCharsets.UTF_8);
+    }
+    assertThat(stored).contains("score=refined\n").contains("candidates=100\n");
+    String[][] damages = {{"score=refined\n", "score=refind\n", "unknown score 'refind'"}, {"candidates=100\n", "candidates=-3\n", "candidates"},
+        {"candidates=100\n", "candidates=x\n", "candidates"}};
+    for (String[] d : damages) {
+      try (io.actindex.index.store.IndexWriter w = io.actindex.index.store.IndexWriter.open(idx)) {
+        w.putAttachment("ood.calibration", stored.replace(d[0], d[1]).getBytes(java.nio.charset.StandardCharsets.UTF_8));
+      }
+      for (String[] args : new String[][] {{"ood", "score", "--index", idx.toString(), "--activations", calF.toString()},
+          {"report", "--index", idx.toString(), "--out", tmp.resolve("d.html").toString()}}) {
+        Cli.Result r = Cli.run(args);
+        assertThat(r.code()).as(r.describe()).isEqualTo(2);
+        assertThat(r.err()).as(r.describe()).contains(idx + " attachment ood.calibration: damaged calibration").contains(d[2])
+            .doesNotContain("--score");
+        assertThat(r.err().strip().lines().count()).as(r.describe()).isEqualTo(1);
+      }
+    }
   }
 
   /**

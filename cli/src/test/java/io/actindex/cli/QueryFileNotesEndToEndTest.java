@@ -56,4 +56,38 @@ class QueryFileNotesEndToEndTest {
     // stdout stays the JSON document alone
     assertThat(runs.get(2).out().trim()).startsWith("{").endsWith("}");
   }
+
+  /**
+   * The float files of ood eval (--in-floats, --out-floats, --train-floats) and compare (--a-floats,
+   * --b-floats) say how their CSV header was read as the sample files do: ood eval on stderr,
+   * compare among its notes (table and JSON), each file once even when a sample is its own floats.
+   */
+  @Test
+  void floatFilesSayTheyTookLineOneAsTheHeader() {
+    long seed = Randoms.seed(1);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    Path idx = tmp.resolve("idx");
+    Path train = csv("train.csv", rnd, 60);
+    Cli.Result built = Cli.run("build", "--out", idx.toString(), "--activations", train.toString(), "--magnitudes", "8");
+    assertThat(built.code()).as(built.describe()).isZero();
+    Path cal = csv("cal.csv", rnd, 30), in = csv("in.csv", rnd, 20), out = csv("out.csv", rnd, 20);
+    Path inF = csv("in-floats.csv", rnd, 20), outF = csv("out-floats.csv", rnd, 20), trainF = csv("train-floats.csv", rnd, 60);
+    Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", cal.toString(), "-k", "1", "--score", "code");
+    assertThat(c.code()).as(c.describe()).isZero();
+    Cli.Result eval = Cli.run("ood", "eval", "--index", idx.toString(), "--in", in.toString(), "--out", out.toString(),
+        "--in-floats", inF.toString(), "--out-floats", outF.toString(), "--train-floats", trainF.toString(), "--format", "json");
+    assertThat(eval.code()).as(eval.describe() + "\n" + Randoms.describe(seed)).isZero();
+    for (Path f : List.of(in, out, inF, outF, trainF)) assertThat(eval.err()).as(eval.describe()).contains(f + ": line 1 taken as the header");
+    assertThat(eval.out().trim()).startsWith("{").endsWith("}");
+
+    Path aF = csv("a-floats.csv", rnd, 20), bF = csv("b-floats.csv", rnd, 20);
+    Cli.Result given = Cli.run("compare", "--a", in.toString(), "--b", out.toString(), "--a-floats", aF.toString(), "--b-floats",
+        bF.toString(), "--permutations", "9");
+    assertThat(given.code()).as(given.describe()).isZero();
+    for (Path f : List.of(in, out, aF, bF)) assertThat(given.out()).as(given.describe()).contains("note: " + f + ": line 1 taken as the header");
+    Cli.Result own = Cli.run("compare", "--a", in.toString(), "--b", out.toString(), "--permutations", "9");
+    assertThat(own.code()).as(own.describe()).isZero();
+    String once = "note: " + in + ": line 1 taken as the header";
+    assertThat(own.out().split(java.util.regex.Pattern.quote(once), -1)).as(own.describe()).hasSize(2);
+  }
 }

@@ -132,6 +132,65 @@ class RefineFidelityEndToEndTest {
     assertThat(csv.out()).startsWith("measure,value").contains("spearman,");
   }
 
+  /**
+   * Partly labelled examples: a labelled query whose k nearest all lack a label counts as wrong in
+   * every accuracy; fidelity counts those queries per metric (the Hamming count checked against a
+   * brute-force count here), prints a note on stderr and adds the counts at the end of the JSON
+   * object and of the CSV rows. Fully labelled (the fixture's index): zeros and no note.
+   */
+  @Test
+  void queriesWithoutALabelledNeighbourAreCountedAndNoted() {
+    int k = 2;
+    List<String> lines = new ArrayList<>(List.of("key,label"));
+    String[] labels = new String[train.length];
+    for (int i = 0; i < train.length; i++) {
+      labels[i] = i % 5 < 2 ? (train[i][0] > 0 ? "hot" : "cold") : null; // 2 rows in 5 labelled
+      lines.add("e" + i + "," + (labels[i] == null ? "" : labels[i]));
+    }
+    Path partMeta = Files2.text(tmp.resolve("part.csv"), lines);
+    Path part = tmp.resolve("part");
+    Cli.Result b = Cli.run("build", "--out", part.toString(), "--activations", acts.toString(), "--meta", partMeta.toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    int labelled = 0, none = 0;
+    for (int q = 0; q < train.length; q++) {
+      if (labels[q] == null) continue;
+      labelled++;
+      int qq = q;
+      List<Integer> byHam = new ArrayList<>();
+      for (int j = 0; j < train.length; j++) if (j != q) byHam.add(j);
+      byHam.sort(Comparator.<Integer>comparingInt(j -> hamming(train[qq], train[j])).thenComparingInt(j -> j));
+      none += byHam.subList(0, k).stream().allMatch(j -> labels[j] == null) ? 1 : 0;
+    }
+    assertThat(none).as("the fixture has such queries").isPositive();
+    Cli.Result f = Cli.run("fidelity", "--index", part.toString(), "--queries", "" + train.length, "-k", "" + k, "--format", "json");
+    assertThat(f.code()).as(f.describe()).isZero();
+    JsonNode doc = json(f);
+    assertThat(doc.get("accuracy").get("labeled").asInt()).isEqualTo(labelled);
+    List<String> names = new ArrayList<>();
+    doc.fieldNames().forEachRemaining(names::add);
+    assertThat(names.getLast()).isEqualTo("no_labelled_neighbour");
+    JsonNode counts = doc.get("no_labelled_neighbour");
+    assertThat(counts.get("hamming").asInt()).as(f.describe()).isEqualTo(none);
+    for (String metric : List.of("refined", "cosine")) assertThat(counts.get(metric).asInt()).as(metric).isBetween(0, labelled);
+    assertThat(counts.get("euclidean_inputs").isNull()).isTrue();
+    assertThat(f.err()).contains("note: of the " + labelled + " labelled queries").contains(none + " under hamming")
+        .contains("among their " + k + " nearest").contains("counts as wrong");
+
+    Cli.Result csv = Cli.run("fidelity", "--index", part.toString(), "--queries", "" + train.length, "-k", "" + k, "--format", "csv");
+    List<String> rows = csv.out().lines().toList();
+    assertThat(rows.subList(rows.size() - 4, rows.size())).containsExactly("no_labelled_neighbour_hamming," + none,
+        "no_labelled_neighbour_refined," + counts.get("refined").asInt(), "no_labelled_neighbour_cosine," + counts.get("cosine").asInt(),
+        "no_labelled_neighbour_euclidean_inputs,");
+    assertThat(csv.err()).contains(none + " under hamming");
+
+    Cli.Result full = Cli.run("fidelity", "--index", idx.toString(), "--queries", "50", "-k", "" + k, "--format", "json");
+    assertThat(full.code()).as(full.describe()).isZero();
+    assertThat(json(full).get("no_labelled_neighbour").get("hamming").asInt()).isZero();
+    assertThat(full.err()).doesNotContain("labelled queries");
+    Cli.Result unlabelled = Cli.run("fidelity", "--activations", acts.toString(), "--queries", "20", "--format", "json");
+    assertThat(json(unlabelled).get("no_labelled_neighbour").isNull()).isTrue();
+  }
+
   @Test
   void badInputIsRefusedWithExitTwoAndTheIndexUnchanged() {
     Map<String, String> before = Files2.checksums(idx);

@@ -225,6 +225,8 @@ public final class Compare {
     checkRows(b, sb, "B");
     FloatFile ffa = floats(p.aFloats(), sa, p, "A"), ffb = floats(p.bFloats(), sb, p, "B");
     FloatSample fa = ffa == null ? null : ffa.values(), fb = ffb == null ? null : ffb.values();
+    for (FloatFile f : new FloatFile[] {ffa, ffb}) // how a float file was read, unless its sample's file (the same) said so
+      if (f != null) for (String n : f.notes()) if (!notes.contains(n)) notes.add(n);
     if (fa != null && fb != null) // both hold activations of the same units: read by position like the samples
       SourceColumns.check(ffa.columns(), "float sample A (" + floatsFile(p.aFloats(), sa) + ")", ffb.columns(),
           floatsFile(p.bFloats(), sb).toString());
@@ -434,8 +436,8 @@ public final class Compare {
         + ") have " + codes.size() + "; " + option + " must hold the same examples in the same order");
   }
 
-  /** A float matrix and its file's column names (a CSV header; null when none). */
-  record FloatFile(FloatSample values, List<String> columns) {}
+  /** A float matrix, its file's column names (a CSV header; null when none) and how it was read ({@link MatrixReader#notes()}). */
+  record FloatFile(FloatSample values, List<String> columns, List<String> notes) {}
 
   /** Floats of a sample: the given file, else the sample's own activations file, else null. */
   private static FloatFile floats(Path given, Sample s, Params p, String which) {
@@ -472,11 +474,11 @@ public final class Compare {
             }
           }
           if (out == null) throw new BadInputException(file + ": no arrays");
-          return new FloatFile(out, null);
+          return new FloatFile(out, null, List.of());
         }
       }
       try (MatrixReader r = Encoders.openMatrix(file, header)) {
-        return new FloatFile(readAll(r), r.columnNames());
+        return new FloatFile(readAll(r), r.columnNames(), List.copyOf(r.notes()));
       }
     } catch (IOException e) {
       throw new UncheckedIOException(file + ": " + e.getMessage(), e);

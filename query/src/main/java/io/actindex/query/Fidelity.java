@@ -77,9 +77,22 @@ public final class Fidelity {
 
   /**
    * k-NN label accuracy over the {@code labeled} sampled queries that carry a label; {@code refined}
-   * is null without kept magnitudes, {@code euclideanInputs} null without inputs.
+   * is null without kept magnitudes, {@code euclideanInputs} null without inputs. A query whose k
+   * neighbours all lack a label counts as wrong; {@code noLabelledNeighbour} says how many did, per metric.
    */
-  public record Accuracy(int labeled, double hamming, Double refined, double cosine, Double euclideanInputs) {}
+  public record Accuracy(int labeled, double hamming, Double refined, double cosine, Double euclideanInputs,
+      NoLabelledNeighbour noLabelledNeighbour) {}
+
+  /**
+   * Per metric, the labelled queries none of whose k neighbours carries a label (each counted wrong
+   * in that metric's accuracy); null where the accuracy is null.
+   */
+  public record NoLabelledNeighbour(int hamming, Integer refined, int cosine, Integer euclideanInputs) {
+    /** Whether any metric had such a query. */
+    public boolean any() {
+      return hamming > 0 || cosine > 0 || (refined != null && refined > 0) || (euclideanInputs != null && euclideanInputs > 0);
+    }
+  }
 
   /** The measurements; {@code accuracy} is null without labels. */
   public record Result(int examples, int queries, int k, long seed, String floatSource, int magnitudeBits, int candidates,
@@ -212,10 +225,10 @@ public final class Fidelity {
       int both = 0;
       for (int a : hamTop) for (int b : cosTop) if (a == b) both++;
       String label = labels ? data.labels()[q] : null;
-      Boolean hamOk = null, refOk = null, cosOk = null, eucOk = null;
+      String hamVote = null, refVote = null, cosVote = null, eucVote = null;
       if (label != null) {
-        hamOk = label.equals(vote(data.labels(), hamTop));
-        cosOk = label.equals(vote(data.labels(), cosTop));
+        hamVote = vote(data.labels(), hamTop);
+        cosVote = vote(data.labels(), cosTop);
         if (data.kept() != null) {
           int dc = distanceAtRank(count, c);
           int[] cands = java.util.stream.IntStream.range(0, n).filter(j -> ham[j] <= dc).toArray();
@@ -223,35 +236,38 @@ public final class Fidelity {
           for (int i = 0; i < cands.length; i++) cd[i] = ham[cands[i]];
           float[] query = Arrays.copyOfRange(data.floats(), q * d, q * d + d);
           Refine.Ranked r = Refine.rerank(Hits.sorted(cands, cd, cands.length), query, data.kept(), new float[d], Refine.Metric.COSINE, null, p.k());
-          refOk = label.equals(vote(data.labels(), r.ids()));
+          refVote = vote(data.labels(), r.ids());
         }
         if (data.inputs() != null) {
           double[] euc = new double[n];
           int iw = data.inputWidth();
           for (int j = 0; j < n; j++) euc[j] = euclidean(data.inputs(), q, j, iw);
           euc[q] = Double.POSITIVE_INFINITY;
-          eucOk = label.equals(vote(data.labels(), top(euc, p.k())));
+          eucVote = vote(data.labels(), top(euc, p.k()));
         }
       }
-      per[t] = new PerQuery(both / (double) p.k(), within > p.k(), kth, hamOk, refOk, cosOk, eucOk);
+      per[t] = new PerQuery(both / (double) p.k(), within > p.k(), kth, label, hamVote, refVote, cosVote, eucVote);
     });
     double overlap = 0, tied = 0, kthSum = 0;
-    int labeled = 0, hamRight = 0, refRight = 0, cosRight = 0, eucRight = 0;
+    int labeled = 0;
+    Tally ham = new Tally(), ref = new Tally(), cos = new Tally(), euc = new Tally();
     for (PerQuery r : per) {
       overlap += r.overlap;
       tied += r.tied ? 1 : 0;
       kthSum += r.kth;
-      if (r.hamOk == null) continue;
+      if (r.label == null) continue;
       labeled++;
-      hamRight += r.hamOk ? 1 : 0;
-      cosRight += r.cosOk ? 1 : 0;
-      refRight += Boolean.TRUE.equals(r.refOk) ? 1 : 0;
-      eucRight += Boolean.TRUE.equals(r.eucOk) ? 1 : 0;
+      ham.add(r.label, r.hamVote);
+      ref.add(r.label, r.refVote);
+      cos.add(r.label, r.cosVote);
+      euc.add(r.label, r.eucVote);
     }
     int m = per.length;
+    boolean refined = data.kept() != null, inputs = data.inputs() != null;
     Accuracy acc = labeled == 0 ? null
-        : new Accuracy(labeled, hamRight / (double) labeled, data.kept() == null ? null : refRight / (double) labeled,
-            cosRight / (double) labeled, data.inputs() == null ? null : eucRight / (double) labeled);
+        : new Accuracy(labeled, ham.right / (double) labeled, refined ? ref.right / (double) labeled : null,
+            cos.right / (double) labeled, inputs ? euc.right / (double) labeled : null,
+            new NoLabelledNeighbour(ham.none, refined ? ref.none : null, cos.none, inputs ? euc.none : null));
     long distinct = (long) n * (n - 1) / 2;
     int pairs = distinct <= p.pairs() ? (int) distinct : p.pairs();
     double rho = spearman(data, norms, pairs, distinct <= p.pairs(), new SplittableRandom(p.seed() ^ 0x5DEECE66DL));
@@ -260,7 +276,22 @@ public final class Fidelity {
         verdict(ov, rho, ts, acc, p.k(), c, n));
   }
 
-  private record PerQuery(double overlap, boolean tied, int kth, Boolean hamOk, Boolean refOk, Boolean cosOk, Boolean eucOk) {}
+  /**
+   * One query's outcome: its label (null = none) and the majority label of its k neighbours under each
+   * metric (null when none of them has a label, or when the metric was not measured).
+   */
+  private record PerQuery(double overlap, boolean tied, int kth, String label, String hamVote, String refVote, String cosVote,
+      String eucVote) {}
+
+  /** Labelled queries one metric got right, and those whose neighbours had no label (counted wrong). */
+  private static final class Tally {
+    int right, none;
+
+    void add(String label, String vote) {
+      if (vote == null) none++;
+      else if (vote.equals(label)) right++;
+    }
+  }
 
   /** The short verdict in words. */
   static String verdict(double overlap, double rho, double tied, Accuracy acc, int k, int c, int n) {

@@ -21,7 +21,7 @@ import java.util.List;
 public final class FloatKnnScore {
   private final double[][] train;
   private final Path trainFile;
-  private final List<String> trainColumns;
+  private final List<String> trainColumns, trainNotes;
   private final CsvMatrixReader.Header header;
 
   /**
@@ -34,11 +34,20 @@ public final class FloatKnnScore {
     this.train = normalised(m.rows(), trainFile);
     this.trainFile = trainFile;
     this.trainColumns = m.columns();
+    this.trainNotes = m.notes();
     if (train.length == 0) throw new BadInputException(trainFile + ": no rows");
   }
 
-  /** The rows of a file of floats, normalised, and its column names (a CSV header; null when none). */
-  public record Queries(double[][] rows, List<String> columns) {}
+  /**
+   * The rows of a file of floats, normalised, its column names (a CSV header; null when none) and
+   * how it was read ({@link MatrixReader#notes()}, e.g. its CSV header).
+   */
+  public record Queries(double[][] rows, List<String> columns, List<String> notes) {}
+
+  /** How the training file was read ({@link MatrixReader#notes()}, e.g. its CSV header). */
+  public List<String> notes() {
+    return trainNotes;
+  }
 
   /** Number of training rows. */
   public int rows() {
@@ -55,7 +64,7 @@ public final class FloatKnnScore {
     double[][] q = normalised(m.rows(), file);
     if (q.length > 0 && q[0].length != train[0].length)
       throw new BadInputException(file + ": rows have " + q[0].length + " values, the training floats have " + train[0].length);
-    return new Queries(q, m.columns());
+    return new Queries(q, m.columns(), m.notes());
   }
 
   /** The k-th nearest normalised distance of every query row, over every training row. */
@@ -112,7 +121,7 @@ public final class FloatKnnScore {
     return rows;
   }
 
-  private record Matrix(double[][] rows, List<String> columns) {}
+  private record Matrix(double[][] rows, List<String> columns, List<String> notes) {}
 
   private static Matrix read(Path file, CsvMatrixReader.Header header) {
     try (MatrixReader r = Encoders.openMatrix(file, header)) {
@@ -121,7 +130,7 @@ public final class FloatKnnScore {
       List<double[]> rows = new java.util.ArrayList<>();
       int m;
       while ((m = r.read(buf, 1024)) > 0) for (int i = 0; i < m; i++) rows.add(Arrays.copyOfRange(buf, i * cols, (i + 1) * cols));
-      return new Matrix(rows.toArray(new double[0][]), r.columnNames());
+      return new Matrix(rows.toArray(new double[0][]), r.columnNames(), List.copyOf(r.notes()));
     } catch (IOException e) {
       throw new UncheckedIOException(file + ": " + e.getMessage(), e);
     }

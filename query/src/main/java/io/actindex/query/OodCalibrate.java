@@ -92,6 +92,13 @@ public final class OodCalibrate {
         int copies = copies(reader, qa);
         looksLikeTraining = rowCount > 0 && 2L * copies >= rowCount;
         found = copies + " of " + rowCount + " rows are copies of indexed examples (the same code, and activations within the rounding of the kept magnitudes)";
+      } else if (!looksLikeTraining) {
+        // no activations to compare: training rows in another order still all land on an indexed code
+        int[] shared = sharedCodes(reader, qa.codes().codes());
+        looksLikeTraining = farAbove(shared);
+        found = shared[0] + " of " + shared[1] + " rows have exactly the code of an indexed example, while " + shared[2] + " of "
+            + shared[3] + " indexed examples drawn at random share their code with another (about how often rows the index does not hold"
+            + " land on an indexed code)";
       }
       if (looksLikeTraining && p.checkOverlap())
         throw new BadInputException(file + ": " + found + "; these look like training rows (calibrate with held-out inputs the index does not hold)");
@@ -159,6 +166,47 @@ public final class OodCalibrate {
       if (copy) copies++;
     }
     return copies;
+  }
+
+  /** Live examples {@link #sharedCodes} draws (all of them when there are no more). */
+  static final int BASELINE = 2000;
+
+  /**
+   * Training rows in any order when no activations can be compared ({@link #copies}): {@code [0]} of
+   * the {@code [1]} query rows have exactly the code of some live example; {@code [2]} of {@code [3]}
+   * live examples (at most {@link #BASELINE}, drawn at random with a fixed seed) share their code
+   * with another live one. A row the index does not hold lands on an indexed code about as often as
+   * an indexed example's code is shared by another (leave one out); a training row always does.
+   */
+  static int[] sharedCodes(IndexReader reader, CodeBlock codes) {
+    int onIndexed = 0;
+    for (int i = 0; i < codes.size(); i++) if (reader.searchRadius(codes.code(i), 0, null, null).size() > 0) onIndexed++;
+    int[] drawn = new int[Math.min(BASELINE, reader.liveCount())];
+    java.util.SplittableRandom rnd = new java.util.SplittableRandom(0x0C0DE5L);
+    int seen = 0;
+    for (int id = 0; id < reader.maxId(); id++) { // reservoir sample of the live ids
+      if (!reader.isLive(id)) continue;
+      int at = seen < drawn.length ? seen : rnd.nextInt(seen + 1);
+      if (at < drawn.length) drawn[at] = id;
+      seen++;
+    }
+    int shared = 0;
+    for (int id : drawn) if (reader.searchRadius(reader.code(id), 0, null, null).size() > 1) shared++;
+    return new int[] {onIndexed, codes.size(), shared, drawn.length};
+  }
+
+  /**
+   * Whether {@link #sharedCodes}' rows look like training rows: at least 99% of them on an indexed
+   * code, and that share more than 4 standard errors above the drawn examples' (two-proportion z
+   * test with the pooled share, common practice; 4 keeps honest held-out rows, whose share is the
+   * drawn one's up to sampling, from a false alarm). When most indexed codes are shared (few
+   * regions), held-out rows land on them too and nothing can be told apart: no warning.
+   */
+  static boolean farAbove(int[] s) {
+    if (s[1] == 0 || s[3] == 0 || 100L * s[0] < 99L * s[1]) return false;
+    double p1 = (double) s[0] / s[1], p2 = (double) s[2] / s[3], p = (double) (s[0] + s[2]) / (s[1] + s[3]);
+    double se = Math.sqrt(p * (1 - p) * (1.0 / s[1] + 1.0 / s[3]));
+    return se > 0 && (p1 - p2) / se > 4;
   }
 
   /**

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.edge.EdgeBundle.Statistic;
 import io.actindex.index.store.IndexReader;
@@ -61,9 +62,17 @@ public final class OodCalibration {
     Map<String, String> kv = fields(new String(reader.attachment(ATTACHMENT), StandardCharsets.UTF_8));
     String score = kv.getOrDefault("score", "code");
     String source = reader.dir() + " attachment " + ATTACHMENT;
+    OodScorer.Kind kind;
     try {
-      OodScorer.Kind kind = OodScorer.Kind.parse(score);
-      return kind == OodScorer.Kind.CODE ? Scoring.CODE : new Scoring(kind, Integer.parseInt(field(kv, "candidates")));
+      kind = OodScorer.Kind.parse(score);
+    } catch (BadParameterException e) { // the stored name, not a --score typed: the calibration is damaged
+      throw new BadInputException(source + ": damaged calibration: field score" + e.rest(), e);
+    }
+    if (kind == OodScorer.Kind.CODE) return Scoring.CODE;
+    try {
+      int candidates = intField(kv, "candidates");
+      if (candidates < 1) throw new IllegalArgumentException("field candidates: " + candidates + " is below 1");
+      return new Scoring(kind, candidates);
     } catch (IllegalArgumentException e) {
       throw new BadInputException(source + ": damaged calibration: " + e.getMessage(), e);
     }
@@ -123,10 +132,10 @@ public final class OodCalibration {
       String layers = field(kv, "layers");
       String[] parts = field(kv, "scores").split(",");
       double[] scores = new double[parts.length];
-      for (int i = 0; i < parts.length; i++) scores[i] = Double.parseDouble(parts[i]);
-      return new Calibration(Integer.parseInt(field(kv, "k")), Statistic.ofLabel(field(kv, "statistic")),
-          layers.isEmpty() ? List.of() : Arrays.asList(layers.split(",")), Double.parseDouble(field(kv, "tpr")),
-          Double.parseDouble(field(kv, "threshold")), scores);
+      for (int i = 0; i < parts.length; i++) scores[i] = number("scores", parts[i]);
+      return new Calibration(intField(kv, "k"), Statistic.ofLabel(field(kv, "statistic")),
+          layers.isEmpty() ? List.of() : Arrays.asList(layers.split(",")), number("tpr", field(kv, "tpr")),
+          number("threshold", field(kv, "threshold")), scores);
     } catch (IllegalArgumentException e) {
       throw new BadInputException(source + ": damaged calibration: " + e.getMessage(), e);
     }
@@ -136,6 +145,24 @@ public final class OodCalibration {
     String v = kv.get(name);
     if (v == null) throw new IllegalArgumentException("field " + name + " missing");
     return v;
+  }
+
+  private static int intField(Map<String, String> kv, String name) {
+    String v = field(kv, name);
+    try {
+      return Integer.parseInt(v);
+    } catch (NumberFormatException e) {
+      throw new IllegalArgumentException("field " + name + ": " + BadInputException.quote(v) + " is not a whole number");
+    }
+  }
+
+  /** {@code text}, a value of field {@code name}, as a number. */
+  private static double number(String name, String text) {
+    try {
+      return Double.parseDouble(text);
+    } catch (NumberFormatException e) {
+      throw new IllegalArgumentException("field " + name + ": " + BadInputException.quote(text) + " is not a number");
+    }
   }
 
   /** {@code j = ceil(tpr (n + 1))}, the 1-based rank of the threshold among n sorted scores. */

@@ -10,7 +10,9 @@ import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
 import java.nio.file.Path;
 import java.util.ArrayList;
+import java.util.LinkedHashSet;
 import java.util.List;
+import java.util.Set;
 import java.util.TreeSet;
 
 /**
@@ -79,7 +81,8 @@ public final class OodEval {
   /**
    * {@code floats}, {@code refined} and {@code softmax} are null when they do not apply. {@code
    * refined} needs training floats whose rows are the index's ids (one row per id, in build order).
-   * {@code notes}: how the in and out files were read ({@link QueryCodes#notes()}, e.g. their CSV header).
+   * {@code notes}: how the in and out files were read ({@link QueryCodes#notes()}, e.g. their CSV header), then
+   * the float files ({@link FloatKnnScore.Queries#notes()}, {@link FloatKnnScore#notes()}).
    */
   public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored refined, Scored softmax,
       List<String> warnings, List<String> notes) {
@@ -130,9 +133,14 @@ public final class OodEval {
         }
     Scored floats = null, refined = null;
     List<String> warnings = new ArrayList<>();
+    Set<String> notes = new LinkedHashSet<>(in.notes()); // each once: a float file may be --in or --out itself
+    notes.addAll(out.notes());
     if (p.trainFloats() != null) {
       FloatKnnScore f = new FloatKnnScore(p.trainFloats(), p.header());
       FloatKnnScore.Queries fa = f.queries(p.inFloats()), fb = f.queries(p.outFloats());
+      notes.addAll(fa.notes());
+      notes.addAll(fb.notes());
+      notes.addAll(f.notes());
       // each was checked against the training floats' header; against each other too (the training floats may have none)
       SourceColumns.check(fa.columns(), "--in-floats (" + p.inFloats() + ")", fb.columns(), p.outFloats().toString());
       double[][] qa = fa.rows(), qb = fb.rows();
@@ -165,8 +173,6 @@ public final class OodEval {
       String one = SoftmaxBaseline.oneOutputNote(reader);
       softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)" + (one == null ? "" : "; " + one), sa, sb);
     }
-    List<String> notes = new ArrayList<>(in.notes());
-    notes.addAll(out.notes());
     return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings), List.copyOf(notes));
   }
 

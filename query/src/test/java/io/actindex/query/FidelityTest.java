@@ -81,6 +81,7 @@ class FidelityTest {
 
   @Test
   void matchesADirectComputationOnRandomData() {
+    boolean sawNone = false;
     for (int t = 0; t < 8; t++) {
       long seed = Randoms.seed(t);
       SplittableRandom rnd = new SplittableRandom(seed);
@@ -90,12 +91,16 @@ class FidelityTest {
       float[] f = new float[n * d];
       for (int i = 0; i < f.length; i++) f[i] = rnd.nextInt(5) == 0 ? 0f : (float) rnd.nextGaussian();
       String[] labels = new String[n];
-      for (int i = 0; i < n; i++) labels[i] = rnd.nextInt(5) == 0 ? null : "l" + rnd.nextInt(3);
+      // a fifth of the rows unlabelled, or on odd t half of them with k of 1 or 2: then queries whose k
+      // neighbours all lack a label are common (about a quarter to a half of the labelled queries)
+      int unlabelled = t % 2 == 0 ? 5 : 2;
+      if (t % 2 == 1) k = 1 + k % 2;
+      for (int i = 0; i < n; i++) labels[i] = rnd.nextInt(unlabelled) == 0 ? null : "l" + rnd.nextInt(3);
       Fidelity.Data data = data(f, n, d, labels, true);
       // all rows as queries: the sample is then every row, whatever the seed
       Fidelity.Result r = Fidelity.run(data, new Fidelity.Params(n, k, n - 1, 100, seed, 1), null);
       double overlap = 0, tied = 0, kth = 0;
-      int labeled = 0, hamRight = 0, cosRight = 0, refRight = 0;
+      int labeled = 0, hamRight = 0, cosRight = 0, refRight = 0, hamNone = 0, cosNone = 0, refNone = 0;
       for (int q = 0; q < n; q++) {
         int qq = q;
         List<Integer> others = new ArrayList<>(IntStream.range(0, n).filter(j -> j != qq).boxed().toList());
@@ -120,6 +125,9 @@ class FidelityTest {
         List<Integer> refined = others.stream().sorted(Comparator.<Integer>comparingDouble(j -> cos[j])
             .thenComparingInt(j -> ham[j]).thenComparingInt(j -> j)).toList().subList(0, k);
         refRight += labels[q].equals(Fidelity.vote(labels, refined.stream().mapToInt(i -> i).toArray())) ? 1 : 0;
+        hamNone += hk.stream().allMatch(j -> labels[j] == null) ? 1 : 0;
+        cosNone += ck.stream().allMatch(j -> labels[j] == null) ? 1 : 0;
+        refNone += refined.stream().allMatch(j -> labels[j] == null) ? 1 : 0;
       }
       String why = Randoms.describe(seed) + " n " + n + " d " + d + " k " + k;
       assertThat(r.overlap()).as(why).isCloseTo(overlap / n, within(1e-12));
@@ -130,7 +138,14 @@ class FidelityTest {
       assertThat(r.accuracy().cosine()).as(why).isCloseTo(cosRight / (double) labeled, within(1e-12));
       assertThat(r.accuracy().refined()).as(why).isCloseTo(refRight / (double) labeled, within(1e-12));
       assertThat(r.accuracy().euclideanInputs()).isNull();
+      Fidelity.NoLabelledNeighbour none = r.accuracy().noLabelledNeighbour();
+      assertThat(none.hamming()).as(why).isEqualTo(hamNone);
+      assertThat(none.cosine()).as(why).isEqualTo(cosNone);
+      assertThat(none.refined()).as(why).isEqualTo(refNone);
+      assertThat(none.euclideanInputs()).isNull();
+      sawNone |= hamNone > 0 && cosNone > 0 && refNone > 0;
     }
+    assertThat(sawNone).as("some seed gives queries with no labelled neighbour under every metric").isTrue();
   }
 
   @Test
