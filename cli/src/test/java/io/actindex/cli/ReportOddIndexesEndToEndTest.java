@@ -122,7 +122,8 @@ class ReportOddIndexesEndToEndTest {
       String[][] rows = {{"examples joined", "examples"}, {"pairs within the radius", "pairs"}, {"exact duplicate pairs (distance 0)", "exact_duplicate_pairs"},
           {"groups", "groups"}, {"largest group", "largest_group"}, {"examples in groups", "examples_in_groups"}};
       for (String[] row : rows) assertThat(html).as(name).contains("<td class=\"l\">" + row[0] + "</td><td>" + s.get(row[1]).asInt() + "</td>");
-      assertThat(html).as(name).contains("The largest groups (10 of " + s.get("groups").asInt() + " listed)");
+      assertThat(html).as(name).contains("The largest groups (10 of " + s.get("groups").asInt() + " listed)")
+          .contains("The 10 listed groups (of " + s.get("groups").asInt() + ") by size");
       String leak = "<td class=\"l\">groups spanning splits (leakage)</td><td>", conflict = "<td class=\"l\">groups with conflicting labels</td><td>";
       assertThat(html).as(name).contains(header.contains("split") ? leak + s.get("cross_split_groups").asInt() + "</td>" : leak + "no live example has a split</td>");
       assertThat(html).as(name).contains(header.contains("label") ? conflict + s.get("conflicting_groups").asInt() + "</td>" : conflict + "no live example has a label</td>");

@@ -89,7 +89,7 @@ public final class ReportSections {
     double[] edges = new double[maxBucket + 2], counts = new double[maxBucket + 1];
     for (int i = 0; i < edges.length; i++) edges[i] = i - 0.5;
     for (Dupes.Group g : r.groups()) counts[bucket(g.size())]++;
-    page.chartWithTable(SvgChart.bars("Listed groups by size", "size bucket k (2^(k+1) to 2^(k+2)-1 examples)",
+    page.chartWithTable(SvgChart.bars("The " + r.groups().size() + " listed groups (of " + s.groups() + ") by size", "size bucket k (2^(k+1) to 2^(k+2)-1 examples)",
         "groups listed", edges, List.of(new SvgChart.Series("groups", null, counts)), false), t);
     HtmlPage.Table groups = new HtmlPage.Table(null, 4, List.of("flags", "labels", "splits", "keys (first members)", "size", "codes", "max distance"));
     for (Dupes.Group g : r.groups()) {
