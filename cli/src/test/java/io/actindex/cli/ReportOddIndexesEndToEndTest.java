@@ -105,9 +105,10 @@ class ReportOddIndexesEndToEndTest {
     String[] metas = {"key,label,split", "key,label", "key,line"};
     for (String header : metas) {
       StringBuilder csv = new StringBuilder(header).append('\n');
-      for (int i = 0; i < codes.length; i++)
-        csv.append("k").append(i).append(',').append(i % 3 == 0 ? "a" : "b").append(header.endsWith("split") ? (i % 4 == 0 ? ",test" : ",train") : "").append('\n');
-      if (header.endsWith("line")) csv = new StringBuilder(csv.toString().replace(",a\n", ",L1\n").replace(",b\n", ",L2\n"));
+      for (int i = 0; i < codes.length; i++) { // label a/b (a conflict where a pair mixes them); split test for even groups (a leak)
+        String second = header.endsWith("line") ? (i % 3 == 0 ? "L1" : "L2") : i % 3 == 0 ? "a" : "b";
+        csv.append("k").append(i).append(',').append(second).append(header.endsWith("split") ? (i % 4 == 0 ? ",test" : ",train") : "").append('\n');
+      }
       String name = header.replace(',', '-');
       Path idx = tmp.resolve(name), page = tmp.resolve(name + ".html");
       Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", file.toString(), "--meta",
@@ -118,6 +119,8 @@ class ReportOddIndexesEndToEndTest {
       Cli.Result d = Cli.run("dupes", "--index", idx.toString(), "--radius", "0", "--format", "json");
       assertThat(d.code()).as(d.describe()).isZero();
       JsonNode s = JSON.readTree(d.out()).get("summary");
+      if (header.equals("key,label,split")) assertThat(s.get("cross_split_groups").asInt()).isPositive();
+      if (header.contains("label")) assertThat(s.get("conflicting_groups").asInt()).isPositive();
       String html = section(Files.readString(page), "dupes");
       String[][] rows = {{"examples joined", "examples"}, {"pairs within the radius", "pairs"}, {"exact duplicate pairs (distance 0)", "exact_duplicate_pairs"},
           {"groups", "groups"}, {"largest group", "largest_group"}, {"examples in groups", "examples_in_groups"}};
