@@ -19,7 +19,8 @@ import org.junit.jupiter.api.io.TempDir;
  * {@code report} on unusual but real indexes (one example, 1-bit codes, every code identical, five
  * layers): the page's per-prefix table agrees with {@code census --format json}, every bar of the
  * regions chart has a height, and an example with no other to measure against is said, not dropped
- * silently.
+ * silently; what the page cannot count (leaks without splits, conflicts without labels, anything
+ * in an index with no live example) is said rather than shown as 0.
  */
 class ReportOddIndexesEndToEndTest {
   @TempDir Path tmp;
@@ -88,6 +89,62 @@ class ReportOddIndexesEndToEndTest {
       assertThat(r.code()).as(r.describe()).isZero();
       assertThat(section(Files.readString(page), "compare")).as(k[0]).contains("W2 with Hamming ground cost " + k[1]);
     }
+  }
+
+  /**
+   * The near-duplicates section shows the numbers {@code dupes --format json} prints, says how many
+   * of the groups it lists, and, where no live example has a split (or a label), says so instead of
+   * a 0 that reads as "no leak" (or "no conflict").
+   */
+  @Test
+  void dupesSectionAgreesWithDupesAndSaysWhatItCannotCount() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(13);
+    boolean[][] codes = new boolean[36][20]; // rows 2g and 2g+1 share a code: 18 groups of two
+    for (int g = 0; g < 18; g++) for (int j = 0; j < 20; j++) codes[2 * g][j] = codes[2 * g + 1][j] = rnd.nextBoolean();
+    Path file = Files2.bits(tmp.resolve("dup.npy"), codes);
+    String[] metas = {"key,label,split", "key,label", "key,line"};
+    for (String header : metas) {
+      StringBuilder csv = new StringBuilder(header).append('\n');
+      for (int i = 0; i < codes.length; i++) { // label a/b (a conflict where a pair mixes them); split test for even groups (a leak)
+        String second = header.endsWith("line") ? (i % 3 == 0 ? "L1" : "L2") : i % 3 == 0 ? "a" : "b";
+        csv.append("k").append(i).append(',').append(second).append(header.endsWith("split") ? (i % 4 == 0 ? ",test" : ",train") : "").append('\n');
+      }
+      String name = header.replace(',', '-');
+      Path idx = tmp.resolve(name), page = tmp.resolve(name + ".html");
+      Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", file.toString(), "--meta",
+          Files2.write(tmp.resolve(name + ".csv"), csv.toString().getBytes(java.nio.charset.StandardCharsets.UTF_8)).toString());
+      assertThat(b.code()).as(b.describe()).isZero();
+      Cli.Result r = Cli.run("report", "--index", idx.toString(), "--out", page.toString(), "--dupes-radius", "0");
+      assertThat(r.code()).as(r.describe()).isZero();
+      Cli.Result d = Cli.run("dupes", "--index", idx.toString(), "--radius", "0", "--format", "json");
+      assertThat(d.code()).as(d.describe()).isZero();
+      JsonNode s = JSON.readTree(d.out()).get("summary");
+      if (header.equals("key,label,split")) assertThat(s.get("cross_split_groups").asInt()).isPositive();
+      if (header.contains("label")) assertThat(s.get("conflicting_groups").asInt()).isPositive();
+      String html = section(Files.readString(page), "dupes");
+      String[][] rows = {{"examples joined", "examples"}, {"pairs within the radius", "pairs"}, {"exact duplicate pairs (distance 0)", "exact_duplicate_pairs"},
+          {"groups", "groups"}, {"largest group", "largest_group"}, {"examples in groups", "examples_in_groups"}};
+      for (String[] row : rows) assertThat(html).as(name).contains("<td class=\"l\">" + row[0] + "</td><td>" + s.get(row[1]).asInt() + "</td>");
+      assertThat(html).as(name).contains("The largest groups (10 of " + s.get("groups").asInt() + " listed)")
+          .contains("The 10 listed groups (of " + s.get("groups").asInt() + ") by size");
+      String leak = "<td class=\"l\">groups spanning splits (leakage)</td><td>", conflict = "<td class=\"l\">groups with conflicting labels</td><td>";
+      assertThat(html).as(name).contains(header.contains("split") ? leak + s.get("cross_split_groups").asInt() + "</td>" : leak + "no live example has a split</td>");
+      assertThat(html).as(name).contains(header.contains("label") ? conflict + s.get("conflicting_groups").asInt() + "</td>" : conflict + "no live example has a label</td>");
+    }
+  }
+
+  /** An index whose examples were all deleted: the page says at its top that there is nothing to count. */
+  @Test
+  void anIndexWithNoLiveExampleSaysSo() throws Exception {
+    Path idx = tmp.resolve("gone"), page = tmp.resolve("gone.html"), keys = Files2.write(tmp.resolve("keys.txt"), "row-0\nrow-1\n".getBytes());
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", Files2.bits(tmp.resolve("gone.npy"), new boolean[][] {{true, false}, {false, true}}).toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    Cli.Result del = Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString());
+    assertThat(del.code()).as(del.describe()).isZero();
+    Cli.Result r = Cli.run("report", "--index", idx.toString(), "--out", page.toString());
+    assertThat(r.code()).as(r.describe()).isZero();
+    String html = Files.readString(page);
+    assertThat(html.substring(0, html.indexOf("<h2"))).contains("no live examples (2 deleted)");
   }
 
   /** The part of the page from the heading with this id to the next heading. */

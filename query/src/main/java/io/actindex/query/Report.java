@@ -84,7 +84,8 @@ public final class Report {
     IndexReport.render(page, reader, f);
     if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)));
     if (p.dupesRadius() != null)
-      ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null));
+      ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null),
+          f.census().prefixes().stream().anyMatch(x -> x.purity() != null), java.util.Arrays.stream(f.splits()).anyMatch(java.util.Objects::nonNull));
     List<String> notes = List.of();
     if (a != null) {
       Compare.Options o = Compare.Options.defaults();

@@ -51,6 +51,8 @@ public final class IndexReport {
   /** Renders the page's fixed sections into {@code page}. */
   public static void render(HtmlPage page, IndexReader reader, Facts f) {
     IndexInfo info = reader.info();
+    if (f.examples() == 0)
+      page.note("The index holds no live examples (" + (info.nextId() - info.liveCount()) + " deleted): the sections below have nothing to count.");
     overview(page, reader, info);
     regions(page, f.census());
     neurons(page, f.census());

@@ -64,8 +64,12 @@ public final class ReportSections {
             new SvgChart.Series("above the threshold", null, flagged)), false), t);
   }
 
-  /** The near-duplicate join's summary, the sizes of its groups and its largest groups. */
-  public static void dupes(HtmlPage page, Dupes.Result r) {
+  /**
+   * The near-duplicate join's summary, the sizes of its listed groups and the groups themselves.
+   * {@code anyLabel}/{@code anySplit}: whether some live example has a label/split; without, the
+   * conflict/leakage rows say so instead of a 0 that would read as a finding.
+   */
+  public static void dupes(HtmlPage page, Dupes.Result r, boolean anyLabel, boolean anySplit) {
     Dupes.Summary s = r.summary();
     page.section("dupes", "Near-duplicates to the model (radius " + s.radius() + ")",
         "Pairs of examples whose codes differ in at most " + s.radius() + " neurons, joined into groups. A group across splits is a "
@@ -78,14 +82,14 @@ public final class ReportSections {
         .row("groups", s.groups())
         .row("largest group", s.largestGroup())
         .row("examples in groups", s.examplesInGroups())
-        .row("groups spanning splits (leakage)", s.crossSplitGroups())
-        .row("groups with conflicting labels", s.conflictingGroups());
+        .row("groups spanning splits (leakage)", anySplit ? s.crossSplitGroups() : "no live example has a split")
+        .row("groups with conflicting labels", anyLabel ? s.conflictingGroups() : "no live example has a label");
     int maxBucket = 0;
     for (Dupes.Group g : r.groups()) maxBucket = Math.max(maxBucket, bucket(g.size()));
     double[] edges = new double[maxBucket + 2], counts = new double[maxBucket + 1];
     for (int i = 0; i < edges.length; i++) edges[i] = i - 0.5;
     for (Dupes.Group g : r.groups()) counts[bucket(g.size())]++;
-    page.chartWithTable(SvgChart.bars("Listed groups by size", "size bucket k (2^(k+1) to 2^(k+2)-1 examples)",
+    page.chartWithTable(SvgChart.bars("The " + r.groups().size() + " listed groups (of " + s.groups() + ") by size", "size bucket k (2^(k+1) to 2^(k+2)-1 examples)",
         "groups listed", edges, List.of(new SvgChart.Series("groups", null, counts)), false), t);
     HtmlPage.Table groups = new HtmlPage.Table(null, 4, List.of("flags", "labels", "splits", "keys (first members)", "size", "codes", "max distance"));
     for (Dupes.Group g : r.groups()) {
@@ -94,7 +98,7 @@ public final class ReportSections {
       String flags = (g.crossSplit() ? "leak " : "") + (g.conflictingLabels() ? "conflict" : "");
       groups.row(flags.trim(), counts(g.labels()), counts(g.splits()), String.join(" ", keys), g.size(), g.distinctCodes(), g.maxDistance());
     }
-    page.paragraph("The largest groups (" + r.groups().size() + " listed):");
+    page.paragraph("The largest groups (" + r.groups().size() + " of " + s.groups() + " listed):");
     page.table(groups);
   }
 
