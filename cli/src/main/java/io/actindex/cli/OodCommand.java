@@ -83,6 +83,22 @@ final class OodCommand implements Callable<Integer> {
     j.endArray().member("tpr", c.tpr()).member("threshold", c.threshold()).member("calibration_inputs", c.scores().length);
   }
 
+  /**
+   * Whether the index's live examples changed since the stored calibration: a warning (changed) or a
+   * note (the calibration does not record them) on stderr, nothing when unchanged. Never refuses.
+   */
+  static void liveNote(PrintWriter err, OodCalibration.LiveCheck live) {
+    if (live.message() == null) return;
+    err.println((live.standing() == OodCalibration.Standing.CHANGED ? "warning: " : "note: ") + live.message());
+    err.flush();
+  }
+
+  /** The last member of a JSON document with calibration numbers: {@code index_changed} true, false, or null (cannot tell). */
+  static JsonWriter liveMember(JsonWriter j, OodCalibration.LiveCheck live) {
+    j.name("index_changed");
+    return live.standing() == OodCalibration.Standing.UNRECORDED ? j.nullValue() : j.value(live.standing() == OodCalibration.Standing.CHANGED);
+  }
+
   /** The caution: a member of JSON documents, the last lines of tables, one line on stderr beside CSV. */
   static void caution(PrintWriter out, PrintWriter err, Format f) {
     if (f == Format.csv) err.println("caution: " + OodCalibration.CAUTION);
@@ -202,6 +218,8 @@ final class OodCommand implements Callable<Integer> {
     @Mixin ThreadsOption threads;
     @Mixin FormatOption format;
 
+    private OodCalibration.LiveCheck live; // the stored calibration against the index now, set once the work is done
+
     @Override
     public Integer call() {
       query.check();
@@ -212,7 +230,9 @@ final class OodCommand implements Callable<Integer> {
           Calibration c = OodCalibration.load(reader);
           if (score != null) OodCalibration.scorer(reader, c, OodScorer.Kind.parse(score));
           QueryCodes q = query.load(reader);
-          decisions(out, c, q, OodScore.decide(reader, q, threads.resolved()));
+          boolean[] isOut = OodScore.decide(reader, q, threads.resolved());
+          live = OodCalibration.liveCheck(reader);
+          decisions(out, c, q, isOut);
         } else {
           refuseEvidenceAboveK(OodCalibration.load(reader).k());
           OodScore.Output o;
@@ -221,6 +241,7 @@ final class OodCommand implements Callable<Integer> {
                 new OodScore.Params(evidence, score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
           }
           Summaries.notes(spec.commandLine().getErr(), o.notes());
+          live = OodCalibration.liveCheck(reader);
           print(out, o);
           query.noteIfEmpty(o.results().size());
           String one = o.results().stream().anyMatch(r -> r.maxSoftmax() != null) ? SoftmaxBaseline.oneOutputNote(reader) : null;
@@ -232,6 +253,7 @@ final class OodCommand implements Callable<Integer> {
       }
       caution(out, spec.commandLine().getErr(), format.format);
       out.flush();
+      liveNote(spec.commandLine().getErr(), live);
       return ExitCodes.OK;
     }
 
@@ -251,7 +273,7 @@ final class OodCommand implements Callable<Integer> {
           calibration(j, c);
           j.member("score_name", name).name("results").beginArray();
           for (int i = 0; i < isOut.length; i++) j.beginObject().member("query", q.row(i)).member("decision", isOut[i] ? "out" : "in").endObject();
-          j.endArray().member("caution", OodCalibration.CAUTION).endObject();
+          liveMember(j.endArray().member("caution", OodCalibration.CAUTION), live).endObject();
           out.println();
         }
         case csv -> {
@@ -284,7 +306,7 @@ final class OodCommand implements Callable<Integer> {
             else j.value(r.maxSoftmax().doubleValue());
             j.endObject();
           }
-          j.endArray().member("caution", OodCalibration.CAUTION).endObject();
+          liveMember(j.endArray().member("caution", OodCalibration.CAUTION), live).endObject();
           out.println();
         }
         case csv -> {
@@ -373,6 +395,8 @@ final class OodCommand implements Callable<Integer> {
     @Mixin ThreadsOption threads;
     @Mixin FormatOption format;
 
+    private OodCalibration.LiveCheck live; // the stored calibration against the index now, set once the work is done
+
     @Override
     public Integer call() {
       CsvMatrixReader.Header h = header.of(in, outFile, inFloats, outFloats, trainFloats);
@@ -396,6 +420,7 @@ final class OodCommand implements Callable<Integer> {
               GivenOptions.given(spec, "--candidates") ? candidates : 0,
               score == null ? null : OodScorer.Kind.parse(score), threads.resolved(), h), bar);
         }
+        live = OodCalibration.liveCheck(reader);
       }
       Summaries.notes(spec.commandLine().getErr(), r.notes());
       List<OodEval.Scored> scores = r.scores();
@@ -420,7 +445,7 @@ final class OodCommand implements Callable<Integer> {
           }
           j.endArray().name("warnings").beginArray();
           for (String w : r.warnings()) j.value(w);
-          j.endArray().member("caution", OodCalibration.CAUTION).endObject();
+          liveMember(j.endArray().member("caution", OodCalibration.CAUTION), live).endObject();
           out.println();
         }
         case csv -> {
@@ -451,6 +476,7 @@ final class OodCommand implements Callable<Integer> {
       Summaries.warnings(spec.commandLine().getErr(), r.warnings());
       caution(out, spec.commandLine().getErr(), format.format);
       out.flush();
+      liveNote(spec.commandLine().getErr(), live);
       return ExitCodes.OK;
     }
 

@@ -70,6 +70,7 @@ public final class OodCalibrate {
   public static Result run(Path dir, Source source, RowRange rows, Params p, Progress progress) {
     Calibration cal;
     OodCalibration.Scoring scoring;
+    OodCalibration.LiveSet live; // the examples scored against, recorded so that a later change of them is told
     List<String> warnings = new ArrayList<>(), notes;
     try (IndexReader reader = IndexReader.open(dir)) {
       OodScorer.checkK(reader, p.k());
@@ -110,6 +111,7 @@ public final class OodCalibrate {
       Arrays.sort(scores);
       double threshold = OodCalibration.threshold(scores, p.tpr(), source.file().toString());
       cal = new Calibration(p.k(), p.statistic(), p.layers(), p.tpr(), threshold, scores);
+      live = OodCalibration.LiveSet.of(reader);
       if (threshold == 0 && !looksLikeTraining) {
         int zeros = 0;
         while (zeros < scores.length && scores[zeros] == 0) zeros++;
@@ -119,7 +121,7 @@ public final class OodCalibrate {
       }
     }
     try (IndexWriter w = IndexWriter.open(dir)) {
-      w.putAttachment(OodCalibration.ATTACHMENT, OodCalibration.toBytes(cal, scoring));
+      w.putAttachment(OodCalibration.ATTACHMENT, OodCalibration.toBytes(cal, scoring, live));
     }
     Result r = summary(cal, scoring);
     return new Result(cal, scoring, r.inputs(), r.min(), r.p50(), r.p90(), r.p95(), r.p99(), r.max(), r.mean(), warnings, notes);

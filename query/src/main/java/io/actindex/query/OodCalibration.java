@@ -5,6 +5,8 @@ import io.actindex.core.BadParameterException;
 import io.actindex.edge.EdgeBundle.Calibration;
 import io.actindex.edge.EdgeBundle.Statistic;
 import io.actindex.index.store.IndexReader;
+import java.math.BigDecimal;
+import java.math.MathContext;
 import java.nio.charset.StandardCharsets;
 import java.util.Arrays;
 import java.util.LinkedHashMap;
@@ -17,7 +19,10 @@ import java.util.Map;
  * layers} comma-separated or empty, {@code tpr}, {@code threshold}, {@code scores}: the sorted
  * calibration scores, comma-separated, each written by {@link Double#toString} so it reads back
  * exactly), and, when the refined score was calibrated, {@code score=refined} and {@code candidates}
- * (absent = the code score). The store checksums attachments; this class checks the content.
+ * (absent = the code score). Since the live-set record, also {@code live} (the index's live examples
+ * when it was calibrated) and {@code live_ids} (their {@link LiveSet#fingerprint}, 16 lowercase hex
+ * digits), both or neither: a calibration without them (written before) reads as {@link
+ * LiveSet#UNRECORDED}. The store checksums attachments; this class checks the content.
  *
  * <p>The threshold rule (split conformal, Vovk, Gammerman &amp; Shafer 2005): with {@code n}
  * calibration scores sorted ascending, the threshold is the {@code j}-th smallest, {@code j =
@@ -97,11 +102,81 @@ public final class OodCalibration {
           + " uses the refined score; calibrate with --score code for it");
   }
 
-  static byte[] toBytes(Calibration c) {
-    return toBytes(c, Scoring.CODE);
+  /**
+   * Which examples were live: their count and a 64-bit fingerprint of their ids ({@code count < 0}:
+   * not recorded, a calibration written before the record). Ids are never renumbered or reused
+   * ({@code compact} keeps them), so the same live set means the same codes and kept magnitudes,
+   * hence the same scores; an {@code add} or {@code delete} changes it (an add whose examples are
+   * all deleted again restores it, and so do the scores).
+   */
+  public record LiveSet(int count, long fingerprint) {
+    public static final LiveSet UNRECORDED = new LiveSet(-1, 0);
+
+    /** The live set of {@code reader}'s index now. The fingerprint: h = 0, then for every live id ascending h = mix(h + id + 1). */
+    public static LiveSet of(IndexReader reader) {
+      long[] h = {0};
+      reader.forEachLive(id -> h[0] = mix(h[0] + id + 1));
+      return new LiveSet(reader.liveCount(), h[0]);
+    }
+
+    /** SplitMix64's finaliser: every input bit moves every output bit. */
+    private static long mix(long z) {
+      z = (z ^ (z >>> 30)) * 0xbf58476d1ce4e5b9L;
+      z = (z ^ (z >>> 27)) * 0x94d049bb133111ebL;
+      return z ^ (z >>> 31);
+    }
+
+    public boolean recorded() {
+      return count >= 0;
+    }
   }
 
-  static byte[] toBytes(Calibration c, Scoring scoring) {
+  /** How the live set now stands against the one the stored calibration recorded. */
+  public enum Standing { SAME, CHANGED, UNRECORDED }
+
+  /**
+   * The stored calibration's live set against the index's now; {@code message} is null when they
+   * are the same, else one sentence to show (a warning when changed, a note when not recorded).
+   */
+  public record LiveCheck(Standing standing, LiveSet then, LiveSet now, String message) {}
+
+  /**
+   * Compares the live set the stored calibration recorded with the index's now (refused when there
+   * is no calibration or it is damaged). Never refuses a change: the user may keep the calibration
+   * knowingly; the caller shows the message.
+   */
+  public static LiveCheck liveCheck(IndexReader reader) {
+    double tpr = load(reader).tpr(); // refuses a missing or damaged calibration, the record included
+    LiveSet then = liveSet(fields(new String(reader.attachment(ATTACHMENT), StandardCharsets.UTF_8)), reader.dir() + " attachment " + ATTACHMENT);
+    LiveSet now = LiveSet.of(reader);
+    if (!then.recorded())
+      return new LiveCheck(Standing.UNRECORDED, then, now, "the OOD calibration stored in " + reader.dir() + " does not record which examples"
+          + " were live (it was written by an older actindex), so a change of the index since cannot be detected; run 'actindex ood calibrate'"
+          + " again to record it");
+    if (then.equals(now)) return new LiveCheck(Standing.SAME, then, now, null);
+    String share = new BigDecimal(Double.toString(1 - tpr)).movePointRight(2).round(new MathContext(3)).stripTrailingZeros().toPlainString();
+    return new LiveCheck(Standing.CHANGED, then, now, "the index " + reader.dir() + " changed since 'ood calibrate' (" + then.count()
+        + " live examples then, " + now.count() + (then.count() == now.count() ? " now, not the same ones" : " now")
+        + "): the stored threshold may no longer flag about " + share + "% of in-distribution inputs; it is used as it is; run"
+        + " 'actindex ood calibrate' again to fit it to the index now");
+  }
+
+  /** The recorded live set of the fields {@code kv} ({@link LiveSet#UNRECORDED} when neither field is there); a damaged record is refused. */
+  private static LiveSet liveSet(Map<String, String> kv, String source) {
+    try {
+      if (!kv.containsKey("live") && !kv.containsKey("live_ids")) return LiveSet.UNRECORDED;
+      int count = intField(kv, "live");
+      if (count < 0) throw new IllegalArgumentException("field live: " + count + " is below 0");
+      String hex = field(kv, "live_ids");
+      if (!hex.matches("[0-9a-f]{16}"))
+        throw new IllegalArgumentException("field live_ids: " + BadInputException.quote(hex) + " is not 16 hex digits");
+      return new LiveSet(count, Long.parseUnsignedLong(hex, 16));
+    } catch (IllegalArgumentException e) {
+      throw new BadInputException(source + ": damaged calibration: " + e.getMessage(), e);
+    }
+  }
+
+  static byte[] toBytes(Calibration c, Scoring scoring, LiveSet live) {
     StringBuilder s = new StringBuilder("format=1\n");
     if (scoring.kind() != OodScorer.Kind.CODE)
       s.append("score=").append(scoring.kind().label()).append('\n').append("candidates=").append(scoring.candidates()).append('\n');
@@ -113,7 +188,9 @@ public final class OodCalibration {
     s.append("scores=");
     double[] v = c.scores();
     for (int i = 0; i < v.length; i++) s.append(i == 0 ? "" : ",").append(v[i]);
-    return s.append('\n').toString().getBytes(StandardCharsets.UTF_8);
+    s.append('\n');
+    if (live.recorded()) s.append("live=").append(live.count()).append('\n').append("live_ids=").append(String.format("%016x", live.fingerprint())).append('\n');
+    return s.toString().getBytes(StandardCharsets.UTF_8);
   }
 
   private static Map<String, String> fields(String text) {
@@ -133,6 +210,7 @@ public final class OodCalibration {
       String[] parts = field(kv, "scores").split(",");
       double[] scores = new double[parts.length];
       for (int i = 0; i < parts.length; i++) scores[i] = number("scores", parts[i]);
+      liveSet(kv, source); // refuses a damaged record here, so every reader of the calibration does
       return new Calibration(intField(kv, "k"), Statistic.ofLabel(field(kv, "statistic")),
           layers.isEmpty() ? List.of() : Arrays.asList(layers.split(",")), number("tpr", field(kv, "tpr")),
           number("threshold", field(kv, "threshold")), scores);

@@ -82,7 +82,8 @@ public final class Report {
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
     HtmlPage page = new HtmlPage(title, f.examples() + " examples, " + reader.layout().bits() + " bits per example.");
     IndexReport.render(page, reader, f);
-    if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)));
+    if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)),
+        OodCalibration.liveCheck(reader));
     if (p.dupesRadius() != null)
       ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null),
           f.census().prefixes().stream().anyMatch(x -> x.purity() != null), java.util.Arrays.stream(f.splits()).anyMatch(java.util.Objects::nonNull));

@@ -20,9 +20,10 @@ public final class ReportSections {
 
   /**
    * The calibration scores, the threshold and how the scores spread; the summary numbers are those
-   * {@code ood calibrate} printed ({@code r}, nearest-rank median).
+   * {@code ood calibrate} printed ({@code r}, nearest-rank median); {@code live}'s message, when
+   * the index changed since (or the calibration cannot tell), right under the heading's text.
    */
-  public static void ood(HtmlPage page, OodCalibrate.Result r) {
+  public static void ood(HtmlPage page, OodCalibrate.Result r, OodCalibration.LiveCheck live) {
     Calibration c = r.calibration();
     boolean code = r.scoring().kind() == OodScorer.Kind.CODE;
     page.section("ood", "Out-of-distribution calibration",
@@ -30,6 +31,8 @@ public final class ReportSections {
             + " (k = " + c.k() + (code ? "" : ", among " + r.scoring().candidates() + " Hamming candidates") + ", layers: "
             + (c.layers().isEmpty() ? "all" : String.join(",", c.layers())) + "). Inputs scoring above the threshold are flagged out; "
             + "about " + String.format(java.util.Locale.ROOT, "%.0f", 100 * (1 - c.tpr())) + "% of in-distribution inputs are flagged too (false alarms).");
+    if (live.standing() == OodCalibration.Standing.CHANGED) page.caution("Warning: " + live.message() + ".");
+    else if (live.message() != null) page.note("Note: " + live.message() + ".");
     page.caution(OodCalibration.CAUTION);
     double[] s = c.scores();
     double lo = s.length == 0 ? 0 : s[0], hi = s.length == 0 ? 1 : s[s.length - 1];
