@@ -48,7 +48,9 @@ import org.junit.jupiter.api.io.TempDir;
  * ties come out by ascending id; filters, key look-ups, codes and rows equal the model too.
  *
  * <p>Seeds: the fixed ones below on every run, and one fresh seed per run ({@link Randoms}); a
- * failure names its seed (a fixed seed repeats as is; a fresh one with {@code -Dtests.seed}).
+ * failure names its seed (a fixed seed repeats as is; a fresh one with {@code -Dtests.seed}) and the
+ * last operations. The slow test runs longer sequences, and two with batches 40 times larger and a
+ * cap of 4,096-8,191 codes, so that the default plan builds partitions too.
  */
 class OperationSequenceTest {
   @TempDir Path tmp;
@@ -63,9 +65,9 @@ class OperationSequenceTest {
 
   @Test
   void randomOperationSequencesStayExact() {
-    for (long seed : FIXED_SEEDS) run(seed, "fixed seed=" + Long.toHexString(seed), 40);
+    for (long seed : FIXED_SEEDS) run(seed, "fixed seed=" + Long.toHexString(seed), 40, 1);
     long fresh = Randoms.seed(0);
-    run(fresh, Randoms.describe(fresh), 40);
+    run(fresh, Randoms.describe(fresh), 40, 1);
     assertTrue(merges > 0 && compactionsWithDeletes > 0 && staleQueries > 0 && refusedAdds > 0 && tableSegments > 0
         && partitionSegments > 0, "merges " + merges + ", compactions with deletes " + compactionsWithDeletes
         + ", queries on a kept reader " + staleQueries + ", refused adds " + refusedAdds + ", segments seen with tables "
@@ -77,7 +79,11 @@ class OperationSequenceTest {
   void longerSequencesManySeeds() {
     for (int rep = 1; rep <= 12; rep++) {
       long seed = Randoms.seed(rep);
-      run(seed, Randoms.describe(seed), 200);
+      run(seed, Randoms.describe(seed), 200, 1);
+    }
+    for (int rep = 13; rep <= 14; rep++) { // segments of thousands: partitions under the default plan too
+      long seed = Randoms.seed(rep);
+      run(seed, Randoms.describe(seed) + " scale=40", 40, 40);
     }
   }
 
@@ -118,10 +124,12 @@ class OperationSequenceTest {
     IndexReader reader;
     Snapshot readerSees;
     int keyCounter;
+    final int scale;
     /** The largest segment cap of this run's writers: a segment written under a larger cap keeps its size. */
     int maxCap;
 
-    Run(long seed, String why, Path dir) {
+    Run(long seed, String why, Path dir, int scale) {
+      this.scale = scale;
       rnd = new SplittableRandom(seed);
       this.dir = dir;
       if (rnd.nextBoolean()) {
@@ -144,8 +152,8 @@ class OperationSequenceTest {
     }
 
     void openWriter() {
-      int w = layout.words(), cap = 8 + rnd.nextInt(50);
-      policy = new MergePolicy(256 + cap * (8L * w + 4), 2 + rnd.nextInt(3), 1 + rnd.nextInt(16));
+      int w = layout.words(), cap = scale == 1 ? 8 + rnd.nextInt(50) : 4096 + rnd.nextInt(4096);
+      policy = new MergePolicy(256 + cap * (8L * w + 4), 2 + rnd.nextInt(3), (1 + rnd.nextInt(16)) * scale);
       assertEquals(cap, policy.maxCodes(w), why);
       maxCap = Math.max(maxCap, cap);
       // segments of test size get a partition (so a share in the joint search) only under PARTITION
@@ -193,7 +201,7 @@ class OperationSequenceTest {
 
     void add() {
       int r = rnd.nextInt(20);
-      int n = r == 0 ? 0 : r < 7 ? 1 + rnd.nextInt(4) : r < 17 ? 5 + rnd.nextInt(30) : 40 + rnd.nextInt(80);
+      int n = (r == 0 ? 0 : r < 7 ? 1 + rnd.nextInt(4) : r < 17 ? 5 + rnd.nextInt(30) : 40 + rnd.nextInt(80)) * scale;
       CodeBlock batch = codes(n);
       int first = rows.size();
       boolean bare = rnd.nextInt(3) == 0;
@@ -255,7 +263,7 @@ class OperationSequenceTest {
       int[] ids = new int[m];
       for (int i = 0; i < m; i++) ids[i] = rnd.nextInt(rows.size() + 3); // ids not given out are ignored
       if (rows.size() > 10 && rnd.nextInt(3) == 0) { // a run of ids: may empty a whole segment
-        int from = rnd.nextInt(rows.size()), len = 1 + rnd.nextInt(30);
+        int from = rnd.nextInt(rows.size()), len = (1 + rnd.nextInt(30)) * scale;
         ids = new int[Math.min(len, rows.size() - from)];
         for (int i = 0; i < ids.length; i++) ids[i] = from + i;
       }
@@ -487,8 +495,9 @@ class OperationSequenceTest {
     }
   }
 
-  private void run(long seed, String why, int steps) {
-    Run run = new Run(seed, why, tmp.resolve("idx-" + Long.toHexString(seed)));
+  /** {@code steps} random operations; {@code scale} multiplies batch sizes, runs of deleted ids and the segment cap. */
+  private void run(long seed, String why, int steps, int scale) {
+    Run run = new Run(seed, why, tmp.resolve("idx-" + Long.toHexString(seed)), scale);
     run.openWriter();
     run.openReader();
     try {
