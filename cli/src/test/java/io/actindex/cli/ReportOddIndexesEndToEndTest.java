@@ -147,6 +147,38 @@ class ReportOddIndexesEndToEndTest {
     assertThat(html.substring(0, html.indexOf("<h2"))).contains("no live examples (2 deleted)");
   }
 
+  /** Counts of one agree with their noun ("1 example", "1 bit", "1 listed group"), wherever the page prints a count. */
+  @Test
+  void countsOfOneAreSingular() throws Exception {
+    Path one = tmp.resolve("one1"), same = tmp.resolve("same1");
+    build(one, new boolean[][] {{true}}, null);
+    build(same, new boolean[][] {{true}, {true}, {true}}, null);
+    String onePage = report(one, "--dupes-radius", "1"), samePage = report(same, "--dupes-radius", "1");
+    assertThat(onePage).contains("<p class=\"lede\">1 example, 1 bit per example.</p>");
+    assertThat(section(samePage, "dupes")).contains("differ in at most 1 neuron,").contains("The 1 listed group (of 1) by size")
+        .contains("The largest group (1 of 1 listed)");
+    for (String page : List.of(onePage, samePage))
+      assertThat(Pattern.compile("[ (>]1 (examples|bits|neurons|groups|rows|units|listed groups)\\b").matcher(page).find()).as(page).isFalse();
+  }
+
+  private void build(Path idx, boolean[][] codes, String meta) {
+    Path file = Files2.bits(tmp.resolve(idx.getFileName() + ".npy"), codes);
+    List<String> args = new ArrayList<>(List.of("build", "--out", idx.toString(), "--codes", file.toString()));
+    if (meta != null)
+      args.addAll(List.of("--meta", Files2.write(tmp.resolve(idx.getFileName() + ".csv"), meta.getBytes(java.nio.charset.StandardCharsets.UTF_8)).toString()));
+    Cli.Result b = Cli.run(args.toArray(String[]::new));
+    assertThat(b.code()).as(b.describe()).isZero();
+  }
+
+  private String report(Path idx, String... more) throws Exception {
+    Path page = tmp.resolve(idx.getFileName() + ".html");
+    List<String> args = new ArrayList<>(List.of("report", "--index", idx.toString(), "--out", page.toString()));
+    args.addAll(List.of(more));
+    Cli.Result r = Cli.run(args.toArray(String[]::new));
+    assertThat(r.code()).as(r.describe()).isZero();
+    return Files.readString(page);
+  }
+
   /** The part of the page from the heading with this id to the next heading. */
   static String section(String html, String id) {
     int start = html.indexOf("<h2 id=\"" + id + "\""), end = html.indexOf("<h2", start + 1);

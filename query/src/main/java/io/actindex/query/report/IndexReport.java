@@ -65,7 +65,7 @@ public final class IndexReport {
         + "(1 bit per neuron), which names the linear region of the network the example falls in.");
     CodeLayout layout = info.layout();
     List<String> layers = new ArrayList<>();
-    for (CodeLayout.Segment seg : layout.segments()) layers.add(seg.name() + " (" + seg.bits() + (seg.bits() == 1 ? " bit)" : " bits)"));
+    for (CodeLayout.Segment seg : layout.segments()) layers.add(seg.name() + " (" + HtmlPage.count(seg.bits(), "bit") + ")");
     int deleted = info.nextId() - info.liveCount();
     HtmlPage.Table t = new HtmlPage.Table("kv", 2, null)
         .row("folder", reader.dir().toString())
@@ -188,7 +188,7 @@ public final class IndexReport {
         series, false), t);
     int alone = 0;
     for (int d : f.nearestOther()) if (d < 0) alone++;
-    if (alone > 0) page.note(alone + " live example" + (alone == 1 ? " has" : "s have") + " no other live example to be measured against (left out above).");
+    if (alone > 0) page.note(HtmlPage.count(alone, "live example") + (alone == 1 ? " has" : " have") + " no other live example to be measured against (left out above).");
   }
 
   private static void purity(HtmlPage page, Census.Result census) {

@@ -75,7 +75,7 @@ public final class ReportSections {
   public static void dupes(HtmlPage page, Dupes.Result r, boolean anyLabel, boolean anySplit) {
     Dupes.Summary s = r.summary();
     page.section("dupes", "Near-duplicates to the model (radius " + s.radius() + ")",
-        "Pairs of examples whose codes differ in at most " + s.radius() + " neurons, joined into groups. A group across splits is a "
+        "Pairs of examples whose codes differ in at most " + HtmlPage.count(s.radius(), "neuron") + ", joined into groups. A group across splits is a "
             + "leak (the model cannot tell a test example from a training one); a group with several labels is a label conflict. "
             + "Flags tell where to look, not a verdict.");
     HtmlPage.Table t = new HtmlPage.Table("kv", 1, null)
@@ -92,7 +92,7 @@ public final class ReportSections {
     double[] edges = new double[maxBucket + 2], counts = new double[maxBucket + 1];
     for (int i = 0; i < edges.length; i++) edges[i] = i - 0.5;
     for (Dupes.Group g : r.groups()) counts[bucket(g.size())]++;
-    page.chartWithTable(SvgChart.bars("The " + r.groups().size() + " listed groups (of " + s.groups() + ") by size", "size bucket k (2^(k+1) to 2^(k+2)-1 examples)",
+    page.chartWithTable(SvgChart.bars("The " + HtmlPage.count(r.groups().size(), "listed group") + " (of " + s.groups() + ") by size", "size bucket k (2^(k+1) to 2^(k+2)-1 examples)",
         "groups listed", edges, List.of(new SvgChart.Series("groups", null, counts)), false), t);
     HtmlPage.Table groups = new HtmlPage.Table(null, 4, List.of("flags", "labels", "splits", "keys (first members)", "size", "codes", "max distance"));
     for (Dupes.Group g : r.groups()) {
@@ -101,7 +101,7 @@ public final class ReportSections {
       String flags = (g.crossSplit() ? "leak " : "") + (g.conflictingLabels() ? "conflict" : "");
       groups.row(flags.trim(), counts(g.labels()), counts(g.splits()), String.join(" ", keys), g.size(), g.distinctCodes(), g.maxDistance());
     }
-    page.paragraph("The largest groups (" + r.groups().size() + " of " + s.groups() + " listed):");
+    page.paragraph("The largest " + (r.groups().size() == 1 ? "group" : "groups") + " (" + r.groups().size() + " of " + s.groups() + " listed):");
     page.table(groups);
   }
 
@@ -118,8 +118,8 @@ public final class ReportSections {
 
   /** Two samples compared in code space: the tests, per layer, and the neurons that moved most. */
   public static void compare(HtmlPage page, Compare.Result r) {
-    page.section("compare", "Two samples compared", "A: " + r.describeA() + " (" + r.rowsA() + " rows); B: " + r.describeB() + " ("
-        + r.rowsB() + " rows). " + r.verdict());
+    page.section("compare", "Two samples compared", "A: " + r.describeA() + " (" + HtmlPage.count(r.rowsA(), "row") + "); B: " + r.describeB() + " ("
+        + HtmlPage.count(r.rowsB(), "row") + "). " + r.verdict());
     HtmlPage.Table tests = new HtmlPage.Table(null, 1, List.of("statistic", "value", "p-value", "rows A", "rows B"));
     for (Compare.Mmd m : r.mmd()) tests.row("MMD^2, " + m.kernel() + " kernel", m.mmd2(), m.pValue(), m.rowsA(), m.rowsB());
     if (r.w2() != null)
