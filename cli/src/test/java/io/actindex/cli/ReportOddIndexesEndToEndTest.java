@@ -161,6 +161,23 @@ class ReportOddIndexesEndToEndTest {
       assertThat(Pattern.compile("[ (>]1 (examples|bits|neurons|groups|rows|units|listed groups)\\b").matcher(page).find()).as(page).isFalse();
   }
 
+  /** A chart of shares keeps its y axis within [0, 1], even when every value is the same (the purity of a single prefix). */
+  @Test
+  void aShareAxisStaysWithinZeroAndOne() throws Exception {
+    Path idx = tmp.resolve("pure");
+    build(idx, new boolean[][] {{true, false}, {true, false}, {false, true}, {false, true}}, "key,label\nk0,a\nk1,a\nk2,b\nk3,b\n");
+    String html = report(idx);
+    for (String id : List.of("purity", "neurons", "nearest-other")) {
+      Matcher tick = Pattern.compile("text-anchor=\"end\">([^<]+)</text>").matcher(section(html, id));
+      int ticks = 0;
+      while (tick.find()) {
+        ticks++;
+        assertThat(Double.parseDouble(tick.group(1))).as(id + ": a y-axis tick").isBetween(0.0, 1.0);
+      }
+      assertThat(ticks).as(id).isPositive();
+    }
+  }
+
   private void build(Path idx, boolean[][] codes, String meta) {
     Path file = Files2.bits(tmp.resolve(idx.getFileName() + ".npy"), codes);
     List<String> args = new ArrayList<>(List.of("build", "--out", idx.toString(), "--codes", file.toString()));

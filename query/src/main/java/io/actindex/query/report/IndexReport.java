@@ -135,8 +135,8 @@ public final class IndexReport {
       double[] rates = n.firingRates();
       double[] edges = new double[rates.length + 1];
       for (int i = 0; i <= rates.length; i++) edges[i] = i - 0.5;
-      page.raw("<figure style=\"margin:0\">" + SvgChart.bars("Layer " + n.layer() + ": firing rate per unit", "unit (0-based, layer " + n.layer() + ")",
-          "share of examples with the unit on", edges, List.of(new SvgChart.Series("firing rate", null, rates)), false) + "</figure>\n");
+      page.raw("<figure style=\"margin:0\">" + SvgChart.shareBars("Layer " + n.layer() + ": firing rate per unit", "unit (0-based, layer " + n.layer() + ")",
+          "share of examples with the unit on", edges, List.of(new SvgChart.Series("firing rate", null, rates))) + "</figure>\n");
     }
     page.table(summary);
   }
@@ -184,8 +184,8 @@ public final class IndexReport {
       }
       if (any > 0) t.row(row); // distances no example has are left out of the table
     }
-    page.chartWithTable(SvgChart.bars("Nearest other example, by split", "Hamming distance (bits)", "share of the split's examples", edges,
-        series, false), t);
+    page.chartWithTable(SvgChart.shareBars("Nearest other example, by split", "Hamming distance (bits)", "share of the split's examples", edges,
+        series), t);
     int alone = 0;
     for (int d : f.nearestOther()) if (d < 0) alone++;
     if (alone > 0) page.note(HtmlPage.count(alone, "live example") + (alone == 1 ? " has" : " have") + " no other live example to be measured against (left out above).");
@@ -206,8 +206,8 @@ public final class IndexReport {
           // null purity: no live example carries a label (labelled ones may have been deleted: nothing records that they were)
           p.purity() == null ? "no live example has a label" : HtmlPage.num(p.purity()));
     }
-    String svg = SvgChart.lines("Label purity as layers are added", "bits of the layer prefix", "purity (share with the majority label)",
-        List.of(new SvgChart.Series("purity", bits, y)), false, false);
+    String svg = SvgChart.shareLines("Label purity as layers are added", "bits of the layer prefix", "purity (share with the majority label)",
+        List.of(new SvgChart.Series("purity", bits, y)));
     page.chartWithTable(svg, t);
   }
 }

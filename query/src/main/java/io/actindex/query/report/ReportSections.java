@@ -135,8 +135,8 @@ public final class ReportSections {
       b[i] = top.get(i).rateB();
       t.row(Integer.toString(i + 1), top.get(i).name(), top.get(i).rateA(), top.get(i).rateB(), top.get(i).z(), top.get(i).q());
     }
-    page.chartWithTable(SvgChart.bars("Neurons whose firing rates moved most", "rank (see table for the neuron)", "firing rate", edges,
-        List.of(new SvgChart.Series("A", null, a), new SvgChart.Series("B", null, b)), false), t);
+    page.chartWithTable(SvgChart.shareBars("Neurons whose firing rates moved most", "rank (see table for the neuron)", "firing rate", edges,
+        List.of(new SvgChart.Series("A", null, a), new SvgChart.Series("B", null, b))), t);
     page.note("Multiple testing: " + r.correction() + ". A small p-value says the samples differ in code space more than chance "
         + "explains, not that the difference matters for the model's decisions.");
   }

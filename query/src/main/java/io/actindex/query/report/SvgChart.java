@@ -33,7 +33,15 @@ public final class SvgChart {
 
   /** A line chart of the series (points joined in the order given). */
   public static String lines(String title, String xLabel, String yLabel, List<Series> series, boolean logX, boolean logY) {
-    Axis x = new Axis(logX), y = new Axis(logY);
+    return lines(title, xLabel, yLabel, series, new Axis(logX), new Axis(logY));
+  }
+
+  /** A line chart of shares: as {@link #lines}, with a y axis that never leaves [0, 1], even around one repeated value. */
+  public static String shareLines(String title, String xLabel, String yLabel, List<Series> series) {
+    return lines(title, xLabel, yLabel, series, new Axis(false), Axis.share());
+  }
+
+  private static String lines(String title, String xLabel, String yLabel, List<Series> series, Axis x, Axis y) {
     for (Series s : series)
       for (int i = 0; i < s.y().length; i++) {
         double xv = s.x() == null ? i : s.x()[i];
@@ -74,7 +82,17 @@ public final class SvgChart {
    * series ({@code y[i]} = count or share of bin i).
    */
   public static String bars(String title, String xLabel, String yLabel, double[] edges, List<Series> series, boolean logY) {
-    Axis x = new Axis(false), y = new Axis(logY);
+    return bars(title, xLabel, yLabel, edges, series, new Axis(logY));
+  }
+
+  /** A histogram of shares: as {@link #bars} on a linear axis that never leaves [0, 1] (all-zero bars included). */
+  public static String shareBars(String title, String xLabel, String yLabel, double[] edges, List<Series> series) {
+    return bars(title, xLabel, yLabel, edges, series, Axis.share());
+  }
+
+  private static String bars(String title, String xLabel, String yLabel, double[] edges, List<Series> series, Axis y) {
+    Axis x = new Axis(false);
+    boolean logY = y.log;
     int bins = Math.max(0, edges.length - 1);
     for (Series s : series)
       if (s.y().length != bins) throw new IllegalArgumentException("series " + s.name() + " has " + s.y().length + " bins, edges give " + bins);
@@ -128,14 +146,23 @@ public final class SvgChart {
     return b.toString();
   }
 
-  /** One axis: its range, linear or log10. */
+  /** One axis: its range, linear or log10; a linear axis of shares is kept within [0, 1]. */
   static final class Axis {
     final boolean log;
     double lo = Double.POSITIVE_INFINITY, hi = Double.NEGATIVE_INFINITY;
+    double min = Double.NEGATIVE_INFINITY, max = Double.POSITIVE_INFINITY;
     int dropped;
 
     Axis(boolean log) {
       this.log = log;
+    }
+
+    /** A linear axis for shares: padding around a single value stops at 0 and 1. */
+    static Axis share() {
+      Axis a = new Axis(false);
+      a.min = 0;
+      a.max = 1;
+      return a;
     }
 
     boolean usable(double v) {
@@ -161,6 +188,8 @@ public final class SvgChart {
         lo -= pad;
         hi += pad;
       }
+      if (!log && lo < min && min < hi) lo = min;
+      if (!log && hi > max && max > lo) hi = max;
     }
 
     double frac(double v) {
