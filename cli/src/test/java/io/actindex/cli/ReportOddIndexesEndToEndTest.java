@@ -178,6 +178,16 @@ class ReportOddIndexesEndToEndTest {
     }
   }
 
+  /** An index that keeps no magnitudes says so in words, as {@code info} does, not as "0". */
+  @Test
+  void noKeptMagnitudesIsSaidInWords() throws Exception {
+    Path idx = tmp.resolve("nomag");
+    build(idx, new boolean[][] {{true, false}, {false, true}}, null);
+    Cli.Result info = Cli.run("info", "--index", idx.toString());
+    assertThat(info.out()).contains("magnitudes: none kept");
+    assertThat(section(report(idx), "overview")).contains("<td class=\"l\">build.magnitudes.bits</td><td class=\"l\">none kept</td>");
+  }
+
   private void build(Path idx, boolean[][] codes, String meta) {
     Path file = Files2.bits(tmp.resolve(idx.getFileName() + ".npy"), codes);
     List<String> args = new ArrayList<>(List.of("build", "--out", idx.toString(), "--codes", file.toString()));

@@ -8,6 +8,7 @@ import io.actindex.index.mih.Searchers;
 import io.actindex.index.store.IndexInfo;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Census;
+import io.actindex.query.IndexBuilder;
 import io.actindex.query.Progress;
 import java.util.ArrayList;
 import java.util.List;
@@ -77,7 +78,8 @@ public final class IndexReport {
         .row("bytes on disk", String.valueOf(info.bytesOnDisk()))
         .row("bytes on disk per live example", info.liveCount() == 0 ? "n/a" : HtmlPage.num(info.bytesOnDisk() / (double) info.liveCount()));
     for (Map.Entry<String, String> e : new TreeMap<>(reader.properties()).entrySet())
-      if (e.getKey().startsWith("build.")) t.row(e.getKey(), e.getValue());
+      if (e.getKey().startsWith("build.")) // 0 kept magnitudes said in info's words
+        t.row(e.getKey(), e.getKey().equals(IndexBuilder.MAGNITUDES) && e.getValue().equals("0") ? "none kept" : e.getValue());
     page.table(t);
   }
 
