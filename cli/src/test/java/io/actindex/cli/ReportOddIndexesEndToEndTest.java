@@ -188,6 +188,18 @@ class ReportOddIndexesEndToEndTest {
     assertThat(section(report(idx), "overview")).contains("<td class=\"l\">build.magnitudes.bits</td><td class=\"l\">none kept</td>");
   }
 
+  /** A listed group with more members than shown says how many more there are. */
+  @Test
+  void aTruncatedGroupSaysHowManyMore() throws Exception {
+    Path idx = tmp.resolve("nine");
+    boolean[][] codes = new boolean[11][4];
+    for (int i = 0; i < 9; i++) codes[i][0] = true; // k0..k8 share a code; k9 and k10 share another
+    build(idx, codes, null);
+    String html = section(report(idx, "--dupes-radius", "0"), "dupes");
+    assertThat(html).contains("<td class=\"l\">row-0 row-1 row-2 row-3 row-4 row-5 … and 3 more</td>");
+    assertThat(html).contains("<td class=\"l\">row-9 row-10</td>");
+  }
+
   private void build(Path idx, boolean[][] codes, String meta) {
     Path file = Files2.bits(tmp.resolve(idx.getFileName() + ".npy"), codes);
     List<String> args = new ArrayList<>(List.of("build", "--out", idx.toString(), "--codes", file.toString()));

@@ -99,7 +99,8 @@ public final class ReportSections {
       List<String> keys = new ArrayList<>();
       for (Dupes.Member m : g.members()) if (keys.size() < 6) keys.add(m.key());
       String flags = (g.crossSplit() ? "leak " : "") + (g.conflictingLabels() ? "conflict" : "");
-      groups.row(flags.trim(), counts(g.labels()), counts(g.splits()), String.join(" ", keys), g.size(), g.distinctCodes(), g.maxDistance());
+      String shown = String.join(" ", keys) + (g.size() > keys.size() ? " … and " + (g.size() - keys.size()) + " more" : "");
+      groups.row(flags.trim(), counts(g.labels()), counts(g.splits()), shown, g.size(), g.distinctCodes(), g.maxDistance());
     }
     page.paragraph("The largest " + (r.groups().size() == 1 ? "group" : "groups") + " (" + r.groups().size() + " of " + s.groups() + " listed):");
     page.table(groups);
