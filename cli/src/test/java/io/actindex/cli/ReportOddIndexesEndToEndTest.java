@@ -200,6 +200,33 @@ class ReportOddIndexesEndToEndTest {
     assertThat(html).contains("<td class=\"l\">row-9 row-10</td>");
   }
 
+  /** Each bar's tooltip names its bin: the unit ({@code layer:unit}) of a firing rate, the size range of a regions bucket. */
+  @Test
+  void barTooltipsNameTheirBin() throws Exception {
+    Path idx = tmp.resolve("named");
+    SplittableRandom rnd = new SplittableRandom(3);
+    boolean[][] codes = new boolean[12][5];
+    for (boolean[] r : codes) for (int j = 0; j < r.length; j++) r[j] = rnd.nextBoolean();
+    Path file = Files2.bits(tmp.resolve("named.npy"), codes);
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", file.toString(), "--code-layout", "a:3,b:2");
+    assertThat(b.code()).as(b.describe()).isZero();
+    String html = report(idx);
+    List<String> units = new ArrayList<>();
+    Matcher m = Pattern.compile("<title>([ab]:[0-9]+), firing rate: [0-9.]+</title>").matcher(section(html, "neurons"));
+    while (m.find()) units.add(m.group(1));
+    assertThat(units).containsExactly("a:0", "a:1", "a:2", "b:0", "b:1");
+    Matcher regions = Pattern.compile("<title>([^<]*)</title></rect>").matcher(section(html, "regions"));
+    int bars = 0;
+    while (regions.find()) {
+      bars++;
+      assertThat(regions.group(1)).matches("regions of [0-9]+(-[0-9]+)? examples?, [ab+]+: [0-9]+");
+    }
+    assertThat(bars).isPositive();
+    Matcher nearest = Pattern.compile("<title>([^<]*)</title></rect>").matcher(section(html, "nearest-other"));
+    assertThat(nearest.find()).isTrue();
+    assertThat(nearest.group(1)).matches("distance [0-9]+ bits?, .+: [0-9.]+");
+  }
+
   private void build(Path idx, boolean[][] codes, String meta) {
     Path file = Files2.bits(tmp.resolve(idx.getFileName() + ".npy"), codes);
     List<String> args = new ArrayList<>(List.of("build", "--out", idx.toString(), "--codes", file.toString()));

@@ -79,7 +79,7 @@ public final class EvalPage {
       edges = new double[bins + 1];
       for (int i = 0; i <= bins; i++) edges[i] = lo + i * width;
     }
-    return SvgChart.shareBars("Histogram: " + s.name() + " score", s.name() + " score", "share of inputs", edges,
+    return SvgChart.shareBars("Histogram: " + s.name() + " score", s.name() + " score", "share of inputs", edges, null,
         List.of(new SvgChart.Series("in", null, shares(s.in(), edges)), new SvgChart.Series("out", null, shares(s.out(), edges))));
   }
 

@@ -102,15 +102,17 @@ public final class IndexReport {
       header.add("regions, " + prefixName(p));
     }
     HtmlPage.Table t = new HtmlPage.Table(null, 1, header);
+    List<String> names = new ArrayList<>();
     for (int b = 0; b < buckets; b++) {
       Object[] row = new Object[census.prefixes().size() + 1];
       int lo = b == 0 ? 1 : (1 << (b - 1)) + 1, hi = 1 << b;
       row[0] = lo == hi ? Integer.toString(lo) : lo + "-" + hi;
+      names.add("regions of " + (lo == hi ? HtmlPage.count(lo, "example") : row[0] + " examples"));
       for (int pi = 0; pi < census.prefixes().size(); pi++) row[pi + 1] = (long) series.get(pi).y()[b];
       t.row(row);
     }
     page.chartWithTable(SvgChart.bars("Regions by size, per layer prefix", "size bucket k (2^(k-1)+1 to 2^k examples)",
-        "regions (log scale)", edges, series, true), t);
+        "regions (log scale)", edges, names, series, true), t);
   }
 
   /** The histogram bucket of a region of {@code max} examples: 0 for 1, k for 2^(k-1)+1..2^k. */
@@ -137,8 +139,10 @@ public final class IndexReport {
       double[] rates = n.firingRates();
       double[] edges = new double[rates.length + 1];
       for (int i = 0; i <= rates.length; i++) edges[i] = i - 0.5;
+      List<String> units = new ArrayList<>();
+      for (int i = 0; i < rates.length; i++) units.add(n.layer() + ":" + i);
       page.raw("<figure style=\"margin:0\">" + SvgChart.shareBars("Layer " + n.layer() + ": firing rate per unit", "unit (0-based, layer " + n.layer() + ")",
-          "share of examples with the unit on", edges, List.of(new SvgChart.Series("firing rate", null, rates))) + "</figure>\n");
+          "share of examples with the unit on", edges, units, List.of(new SvgChart.Series("firing rate", null, rates))) + "</figure>\n");
     }
     page.table(summary);
   }
@@ -165,6 +169,8 @@ public final class IndexReport {
     }
     double[] edges = new double[max + 2];
     for (int i = 0; i < edges.length; i++) edges[i] = i - 0.5;
+    List<String> distances = new ArrayList<>();
+    for (int d = 0; d <= max; d++) distances.add("distance " + HtmlPage.count(d, "bit"));
     List<SvgChart.Series> series = new ArrayList<>();
     List<String> header = new ArrayList<>(List.of("distance"));
     for (Map.Entry<String, int[]> e : bySplit.entrySet()) {
@@ -187,7 +193,7 @@ public final class IndexReport {
       if (any > 0) t.row(row); // distances no example has are left out of the table
     }
     page.chartWithTable(SvgChart.shareBars("Nearest other example, by split", "Hamming distance (bits)", "share of the split's examples", edges,
-        series), t);
+        distances, series), t);
     int alone = 0;
     for (int d : f.nearestOther()) if (d < 0) alone++;
     if (alone > 0) page.note(HtmlPage.count(alone, "live example") + (alone == 1 ? " has" : " have") + " no other live example to be measured against (left out above).");

@@ -92,8 +92,19 @@ class SvgChartTest {
     plain.include(1);
     plain.finish();
     assertThat(plain.hi).isEqualTo(1.5);
-    String bars = SvgChart.shareBars("t", "x", "y", new double[] {0, 1, 2}, List.of(new SvgChart.Series("s", null, new double[] {0, 0})));
+    String bars = SvgChart.shareBars("t", "x", "y", new double[] {0, 1, 2}, null, List.of(new SvgChart.Series("s", null, new double[] {0, 0})));
     assertThat(bars).doesNotContain(">-1</text>").contains(">1</text>");
+  }
+
+  /** A bar's tooltip names its bin: by the name given, else by its edges. */
+  @Test
+  void barTooltipsNameTheirBin() throws Exception {
+    List<SvgChart.Series> one = List.of(new SvgChart.Series("s", null, new double[] {3, 0.25}));
+    String named = SvgChart.bars("t", "x", "y", new double[] {0, 1, 2}, List.of("unit h:0", "unit h:1"), one, false);
+    assertThat(named).contains("<title>unit h:0, s: 3</title>").contains("<title>unit h:1, s: 0.25</title>");
+    assertThat(SvgChart.bars("t", "x", "y", new double[] {0, 0.5, 1}, one, false)).contains("<title>0 to 0.5, s: 3</title>")
+        .contains("<title>0.5 to 1, s: 0.25</title>");
+    parse(named);
   }
 
   @Test
