@@ -157,6 +157,8 @@ class ReportOddIndexesEndToEndTest {
     assertThat(onePage).contains("<p class=\"lede\">1 example, 1 bit per example.</p>");
     assertThat(section(samePage, "dupes")).contains("differ in at most 1 neuron,").contains("The 1 listed group (of 1) by size")
         .contains("The largest group (1 of 1 listed)");
+    Cli.Result line = Cli.run("report", "--index", one.toString(), "--out", tmp.resolve("one-again.html").toString());
+    assertThat(line.out()).as(line.describe()).contains(" about 1 example;");
     for (String page : List.of(onePage, samePage))
       assertThat(Pattern.compile("[ (>]1 (examples|bits|neurons|groups|rows|units|listed groups)\\b").matcher(page).find()).as(page).isFalse();
   }
