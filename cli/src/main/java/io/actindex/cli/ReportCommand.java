@@ -82,8 +82,8 @@ final class ReportCommand implements Callable<Integer> {
         o.println();
       }
       case csv -> o.println("out,bytes,examples\n" + r.out() + "," + r.bytes() + "," + r.facts().examples());
-      case table -> o.printf(Locale.ROOT, "wrote %s (%.1f KB) about %d examples; open it in any browser (works offline)%n", r.out(),
-          r.bytes() / 1024.0, r.facts().examples());
+      case table -> o.printf(Locale.ROOT, "wrote %s (%.1f KB) about %s; open it in any browser (works offline)%n", r.out(),
+          r.bytes() / 1024.0, io.actindex.query.report.HtmlPage.count(r.facts().examples(), "example"));
     }
     o.flush();
     if (calibration != null) OodCommand.liveNote(err, calibration); // the page's OOD section says the same

@@ -173,6 +173,8 @@ class RefineFidelityEndToEndTest {
     assertThat(counts.get("hamming").asInt()).as(f.describe()).isEqualTo(none);
     for (String metric : List.of("refined", "cosine")) assertThat(counts.get(metric).asInt()).as(metric).isBetween(0, labelled);
     assertThat(counts.get("euclidean_inputs").isNull()).isTrue();
+    int most = Math.max(none, Math.max(counts.get("refined").asInt(), counts.get("cosine").asInt()));
+    assertThat(doc.get("verdict").asText().startsWith("Too few labels to compare the accuracies")).as(f.describe()).isEqualTo(most * 10 > labelled);
     assertThat(f.err()).contains("note: of the " + labelled + " labelled queries").contains(none + " under hamming")
         .contains("among their " + k + " nearest").contains("counts as wrong");
 
@@ -187,6 +189,7 @@ class RefineFidelityEndToEndTest {
     assertThat(full.code()).as(full.describe()).isZero();
     assertThat(json(full).get("no_labelled_neighbour").get("hamming").asInt()).isZero();
     assertThat(full.err()).doesNotContain("labelled queries");
+    assertThat(json(full).get("verdict").asText()).doesNotContain("Too few labels");
     Cli.Result unlabelled = Cli.run("fidelity", "--activations", acts.toString(), "--queries", "20", "--format", "json");
     assertThat(json(unlabelled).get("no_labelled_neighbour").isNull()).isTrue();
   }

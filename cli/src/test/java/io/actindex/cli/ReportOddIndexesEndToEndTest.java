@@ -147,6 +147,106 @@ class ReportOddIndexesEndToEndTest {
     assertThat(html.substring(0, html.indexOf("<h2"))).contains("no live examples (2 deleted)");
   }
 
+  /** Counts of one agree with their noun ("1 example", "1 bit", "1 listed group"), wherever the page prints a count. */
+  @Test
+  void countsOfOneAreSingular() throws Exception {
+    Path one = tmp.resolve("one1"), same = tmp.resolve("same1");
+    build(one, new boolean[][] {{true}}, null);
+    build(same, new boolean[][] {{true}, {true}, {true}}, null);
+    String onePage = report(one, "--dupes-radius", "1"), samePage = report(same, "--dupes-radius", "1");
+    assertThat(onePage).contains("<p class=\"lede\">1 example, 1 bit per example.</p>");
+    assertThat(section(samePage, "dupes")).contains("differ in at most 1 neuron,").contains("The 1 listed group (of 1) by size")
+        .contains("The largest group (1 of 1 listed)");
+    Cli.Result line = Cli.run("report", "--index", one.toString(), "--out", tmp.resolve("one-again.html").toString());
+    assertThat(line.out()).as(line.describe()).contains(" about 1 example;");
+    for (String page : List.of(onePage, samePage))
+      assertThat(Pattern.compile("[ (>]1 (examples|bits|neurons|groups|rows|units|listed groups)\\b").matcher(page).find()).as(page).isFalse();
+  }
+
+  /** A chart of shares keeps its y axis within [0, 1], even when every value is the same (the purity of a single prefix). */
+  @Test
+  void aShareAxisStaysWithinZeroAndOne() throws Exception {
+    Path idx = tmp.resolve("pure");
+    build(idx, new boolean[][] {{true, false}, {true, false}, {false, true}, {false, true}}, "key,label\nk0,a\nk1,a\nk2,b\nk3,b\n");
+    String html = report(idx);
+    for (String id : List.of("purity", "neurons", "nearest-other")) {
+      Matcher tick = Pattern.compile("text-anchor=\"end\">([^<]+)</text>").matcher(section(html, id));
+      int ticks = 0;
+      while (tick.find()) {
+        ticks++;
+        assertThat(Double.parseDouble(tick.group(1))).as(id + ": a y-axis tick").isBetween(0.0, 1.0);
+      }
+      assertThat(ticks).as(id).isPositive();
+    }
+  }
+
+  /** An index that keeps no magnitudes says so in words, as {@code info} does, not as "0". */
+  @Test
+  void noKeptMagnitudesIsSaidInWords() throws Exception {
+    Path idx = tmp.resolve("nomag");
+    build(idx, new boolean[][] {{true, false}, {false, true}}, null);
+    Cli.Result info = Cli.run("info", "--index", idx.toString());
+    assertThat(info.out()).contains("magnitudes: none kept");
+    assertThat(section(report(idx), "overview")).contains("<td class=\"l\">build.magnitudes.bits</td><td class=\"l\">none kept</td>");
+  }
+
+  /** A listed group with more members than shown says how many more there are. */
+  @Test
+  void aTruncatedGroupSaysHowManyMore() throws Exception {
+    Path idx = tmp.resolve("nine");
+    boolean[][] codes = new boolean[11][4];
+    for (int i = 0; i < 9; i++) codes[i][0] = true; // k0..k8 share a code; k9 and k10 share another
+    build(idx, codes, null);
+    String html = section(report(idx, "--dupes-radius", "0"), "dupes");
+    assertThat(html).contains("<td class=\"l\">row-0 row-1 row-2 row-3 row-4 row-5 … and 3 more</td>");
+    assertThat(html).contains("<td class=\"l\">row-9 row-10</td>");
+  }
+
+  /** Each bar's tooltip names its bin: the unit ({@code layer:unit}) of a firing rate, the size range of a regions bucket. */
+  @Test
+  void barTooltipsNameTheirBin() throws Exception {
+    Path idx = tmp.resolve("named");
+    SplittableRandom rnd = new SplittableRandom(3);
+    boolean[][] codes = new boolean[12][5];
+    for (boolean[] r : codes) for (int j = 0; j < r.length; j++) r[j] = rnd.nextBoolean();
+    Path file = Files2.bits(tmp.resolve("named.npy"), codes);
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", file.toString(), "--code-layout", "a:3,b:2");
+    assertThat(b.code()).as(b.describe()).isZero();
+    String html = report(idx);
+    List<String> units = new ArrayList<>();
+    Matcher m = Pattern.compile("<title>([ab]:[0-9]+), firing rate: [0-9.]+</title>").matcher(section(html, "neurons"));
+    while (m.find()) units.add(m.group(1));
+    assertThat(units).containsExactly("a:0", "a:1", "a:2", "b:0", "b:1");
+    Matcher regions = Pattern.compile("<title>([^<]*)</title></rect>").matcher(section(html, "regions"));
+    int bars = 0;
+    while (regions.find()) {
+      bars++;
+      assertThat(regions.group(1)).matches("regions of [0-9]+(-[0-9]+)? examples?, [ab+]+: [0-9]+");
+    }
+    assertThat(bars).isPositive();
+    Matcher nearest = Pattern.compile("<title>([^<]*)</title></rect>").matcher(section(html, "nearest-other"));
+    assertThat(nearest.find()).isTrue();
+    assertThat(nearest.group(1)).matches("distance [0-9]+ bits?, .+: [0-9.]+");
+  }
+
+  private void build(Path idx, boolean[][] codes, String meta) {
+    Path file = Files2.bits(tmp.resolve(idx.getFileName() + ".npy"), codes);
+    List<String> args = new ArrayList<>(List.of("build", "--out", idx.toString(), "--codes", file.toString()));
+    if (meta != null)
+      args.addAll(List.of("--meta", Files2.write(tmp.resolve(idx.getFileName() + ".csv"), meta.getBytes(java.nio.charset.StandardCharsets.UTF_8)).toString()));
+    Cli.Result b = Cli.run(args.toArray(String[]::new));
+    assertThat(b.code()).as(b.describe()).isZero();
+  }
+
+  private String report(Path idx, String... more) throws Exception {
+    Path page = tmp.resolve(idx.getFileName() + ".html");
+    List<String> args = new ArrayList<>(List.of("report", "--index", idx.toString(), "--out", page.toString()));
+    args.addAll(List.of(more));
+    Cli.Result r = Cli.run(args.toArray(String[]::new));
+    assertThat(r.code()).as(r.describe()).isZero();
+    return Files.readString(page);
+  }
+
   /** The part of the page from the heading with this id to the next heading. */
   static String section(String html, String id) {
     int start = html.indexOf("<h2 id=\"" + id + "\""), end = html.indexOf("<h2", start + 1);

@@ -90,8 +90,23 @@ public final class Fidelity {
   public record NoLabelledNeighbour(int hamming, Integer refined, int cosine, Integer euclideanInputs) {
     /** Whether any metric had such a query. */
     public boolean any() {
-      return hamming > 0 || cosine > 0 || (refined != null && refined > 0) || (euclideanInputs != null && euclideanInputs > 0);
+      return most() > 0;
     }
+
+    /** The largest count over the metrics. */
+    public int most() {
+      return Math.max(Math.max(hamming, cosine), Math.max(refined == null ? 0 : refined, euclideanInputs == null ? 0 : euclideanInputs));
+    }
+  }
+
+  /**
+   * Above this share of the labelled queries without a labelled neighbour (under any metric), the
+   * verdict does not compare the accuracies: too many of their answers are wrong for want of a label.
+   */
+  static final double MOST_UNANSWERED = 0.10;
+
+  private static boolean tooFewLabels(Accuracy acc) {
+    return acc.noLabelledNeighbour() != null && acc.noLabelledNeighbour().most() > MOST_UNANSWERED * acc.labeled();
   }
 
   /** The measurements; {@code accuracy} is null without labels. */
@@ -299,6 +314,11 @@ public final class Fidelity {
     double chance = (double) k / (n - 1); // expected overlap of k rows drawn at random from the n - 1 others
     if (chance >= 0.5) v.append(String.format(java.util.Locale.ROOT,
         "Too few rows to judge: with k = %d of the %d other rows as neighbours, chance alone gives an overlap of %.2f.", k, n - 1, chance));
+    else if (acc != null && tooFewLabels(acc))
+      v.append(String.format(java.util.Locale.ROOT, "Too few labels to compare the accuracies: under at least one measure, %d of the %d labelled"
+          + " queries (%.0f%%) have no labelled example among their %d nearest and count as wrong (see no_labelled_neighbour);"
+          + " label more examples and measure again.", acc.noLabelledNeighbour().most(), acc.labeled(),
+          100.0 * acc.noLabelledNeighbour().most() / acc.labeled(), k));
     else if (acc != null) {
       double gap = acc.cosine() - acc.hamming();
       if (gap <= 0.01) v.append("Codes keep what the float activations know about labels here: Hamming ").append(k)

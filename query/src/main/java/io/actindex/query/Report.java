@@ -80,7 +80,7 @@ public final class Report {
       throw new BadParameterException("dupesRadius", " must be 0 to the code length, " + bits + " bits; got " + p.dupesRadius());
     IndexReport.Facts f = facts(reader, progress);
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
-    HtmlPage page = new HtmlPage(title, f.examples() + " examples, " + reader.layout().bits() + " bits per example.");
+    HtmlPage page = new HtmlPage(title, HtmlPage.count(f.examples(), "example") + ", " + HtmlPage.count(reader.layout().bits(), "bit") + " per example.");
     IndexReport.render(page, reader, f);
     if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)),
         OodCalibration.liveCheck(reader));

@@ -194,4 +194,21 @@ class FidelityTest {
     assertThat(Fidelity.verdict(1.0, 0.9, 0, null, 2, 100, 5)).startsWith("Too few rows to judge");
     assertThat(Fidelity.verdict(1.0, 0.9, 0, null, 2, 100, 6)).startsWith("Hamming and cosine neighbours largely agree");
   }
+
+  /**
+   * When many labelled queries had no labelled neighbour (each counted wrong), the accuracies say
+   * little about the codes: above 10% of them under any measure the verdict says so instead of
+   * comparing the accuracies; at 10% or below, and with every query answered, it compares them as before.
+   */
+  @Test
+  void manyQueriesWithoutALabelledNeighbourAreSaidInTheVerdict() {
+    for (int[] c : new int[][] {{6, 0, 0}, {0, 6, 0}, {0, 0, 6}, {5, 5, 5}, {0, 0, 0}}) {
+      Fidelity.Accuracy acc = new Fidelity.Accuracy(50, 0.5, 0.5, 0.5, null, new Fidelity.NoLabelledNeighbour(c[0], c[1], c[2], null));
+      String v = Fidelity.verdict(0.6, 0.8, 0, acc, 3, 100, 200);
+      boolean many = Math.max(c[0], Math.max(c[1], c[2])) > 5;
+      assertThat(v.startsWith("Too few labels to compare the accuracies")).as(v).isEqualTo(many);
+      assertThat(v.contains("keep what the float activations know")).as(v).isEqualTo(!many);
+      if (many) assertThat(v).contains("6 of the 50 labelled queries (12%)").contains("among their 3 nearest").contains("Overlap 0.60");
+    }
+  }
 }

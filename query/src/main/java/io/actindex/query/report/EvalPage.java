@@ -79,8 +79,8 @@ public final class EvalPage {
       edges = new double[bins + 1];
       for (int i = 0; i <= bins; i++) edges[i] = lo + i * width;
     }
-    return SvgChart.bars("Histogram: " + s.name() + " score", s.name() + " score", "share of inputs", edges,
-        List.of(new SvgChart.Series("in", null, shares(s.in(), edges)), new SvgChart.Series("out", null, shares(s.out(), edges))), false);
+    return SvgChart.shareBars("Histogram: " + s.name() + " score", s.name() + " score", "share of inputs", edges, null,
+        List.of(new SvgChart.Series("in", null, shares(s.in(), edges)), new SvgChart.Series("out", null, shares(s.out(), edges))));
   }
 
   static double[] shares(double[] values, double[] edges) {

@@ -85,6 +85,11 @@ public final class HtmlPage {
     return SvgChart.escape(s);
   }
 
+  /** A count with its noun in agreement: {@code count(1, "example")} is "1 example", {@code count(2, "example")} "2 examples". */
+  public static String count(long n, String noun) {
+    return n + " " + noun + (n == 1 ? "" : "s");
+  }
+
   /** A number for a table cell: integers plain, others with 4 significant digits. */
   public static String num(double v) {
     if (Double.isNaN(v)) return "n/a";

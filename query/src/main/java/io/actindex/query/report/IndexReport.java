@@ -8,6 +8,7 @@ import io.actindex.index.mih.Searchers;
 import io.actindex.index.store.IndexInfo;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Census;
+import io.actindex.query.IndexBuilder;
 import io.actindex.query.Progress;
 import java.util.ArrayList;
 import java.util.List;
@@ -65,7 +66,7 @@ public final class IndexReport {
         + "(1 bit per neuron), which names the linear region of the network the example falls in.");
     CodeLayout layout = info.layout();
     List<String> layers = new ArrayList<>();
-    for (CodeLayout.Segment seg : layout.segments()) layers.add(seg.name() + " (" + seg.bits() + (seg.bits() == 1 ? " bit)" : " bits)"));
+    for (CodeLayout.Segment seg : layout.segments()) layers.add(seg.name() + " (" + HtmlPage.count(seg.bits(), "bit") + ")");
     int deleted = info.nextId() - info.liveCount();
     HtmlPage.Table t = new HtmlPage.Table("kv", 2, null)
         .row("folder", reader.dir().toString())
@@ -77,7 +78,8 @@ public final class IndexReport {
         .row("bytes on disk", String.valueOf(info.bytesOnDisk()))
         .row("bytes on disk per live example", info.liveCount() == 0 ? "n/a" : HtmlPage.num(info.bytesOnDisk() / (double) info.liveCount()));
     for (Map.Entry<String, String> e : new TreeMap<>(reader.properties()).entrySet())
-      if (e.getKey().startsWith("build.")) t.row(e.getKey(), e.getValue());
+      if (e.getKey().startsWith("build.")) // 0 kept magnitudes said in info's words
+        t.row(e.getKey(), e.getKey().equals(IndexBuilder.MAGNITUDES) && e.getValue().equals("0") ? "none kept" : e.getValue());
     page.table(t);
   }
 
@@ -100,15 +102,17 @@ public final class IndexReport {
       header.add("regions, " + prefixName(p));
     }
     HtmlPage.Table t = new HtmlPage.Table(null, 1, header);
+    List<String> names = new ArrayList<>();
     for (int b = 0; b < buckets; b++) {
       Object[] row = new Object[census.prefixes().size() + 1];
       int lo = b == 0 ? 1 : (1 << (b - 1)) + 1, hi = 1 << b;
       row[0] = lo == hi ? Integer.toString(lo) : lo + "-" + hi;
+      names.add("regions of " + (lo == hi ? HtmlPage.count(lo, "example") : row[0] + " examples"));
       for (int pi = 0; pi < census.prefixes().size(); pi++) row[pi + 1] = (long) series.get(pi).y()[b];
       t.row(row);
     }
     page.chartWithTable(SvgChart.bars("Regions by size, per layer prefix", "size bucket k (2^(k-1)+1 to 2^k examples)",
-        "regions (log scale)", edges, series, true), t);
+        "regions (log scale)", edges, names, series, true), t);
   }
 
   /** The histogram bucket of a region of {@code max} examples: 0 for 1, k for 2^(k-1)+1..2^k. */
@@ -135,8 +139,10 @@ public final class IndexReport {
       double[] rates = n.firingRates();
       double[] edges = new double[rates.length + 1];
       for (int i = 0; i <= rates.length; i++) edges[i] = i - 0.5;
-      page.raw("<figure style=\"margin:0\">" + SvgChart.bars("Layer " + n.layer() + ": firing rate per unit", "unit (0-based, layer " + n.layer() + ")",
-          "share of examples with the unit on", edges, List.of(new SvgChart.Series("firing rate", null, rates)), false) + "</figure>\n");
+      List<String> units = new ArrayList<>();
+      for (int i = 0; i < rates.length; i++) units.add(n.layer() + ":" + i);
+      page.raw("<figure style=\"margin:0\">" + SvgChart.shareBars("Layer " + n.layer() + ": firing rate per unit", "unit (0-based, layer " + n.layer() + ")",
+          "share of examples with the unit on", edges, units, List.of(new SvgChart.Series("firing rate", null, rates))) + "</figure>\n");
     }
     page.table(summary);
   }
@@ -163,6 +169,8 @@ public final class IndexReport {
     }
     double[] edges = new double[max + 2];
     for (int i = 0; i < edges.length; i++) edges[i] = i - 0.5;
+    List<String> distances = new ArrayList<>();
+    for (int d = 0; d <= max; d++) distances.add("distance " + HtmlPage.count(d, "bit"));
     List<SvgChart.Series> series = new ArrayList<>();
     List<String> header = new ArrayList<>(List.of("distance"));
     for (Map.Entry<String, int[]> e : bySplit.entrySet()) {
@@ -184,11 +192,11 @@ public final class IndexReport {
       }
       if (any > 0) t.row(row); // distances no example has are left out of the table
     }
-    page.chartWithTable(SvgChart.bars("Nearest other example, by split", "Hamming distance (bits)", "share of the split's examples", edges,
-        series, false), t);
+    page.chartWithTable(SvgChart.shareBars("Nearest other example, by split", "Hamming distance (bits)", "share of the split's examples", edges,
+        distances, series), t);
     int alone = 0;
     for (int d : f.nearestOther()) if (d < 0) alone++;
-    if (alone > 0) page.note(alone + " live example" + (alone == 1 ? " has" : "s have") + " no other live example to be measured against (left out above).");
+    if (alone > 0) page.note(HtmlPage.count(alone, "live example") + (alone == 1 ? " has" : " have") + " no other live example to be measured against (left out above).");
   }
 
   private static void purity(HtmlPage page, Census.Result census) {
@@ -206,8 +214,8 @@ public final class IndexReport {
           // null purity: no live example carries a label (labelled ones may have been deleted: nothing records that they were)
           p.purity() == null ? "no live example has a label" : HtmlPage.num(p.purity()));
     }
-    String svg = SvgChart.lines("Label purity as layers are added", "bits of the layer prefix", "purity (share with the majority label)",
-        List.of(new SvgChart.Series("purity", bits, y)), false, false);
+    String svg = SvgChart.shareLines("Label purity as layers are added", "bits of the layer prefix", "purity (share with the majority label)",
+        List.of(new SvgChart.Series("purity", bits, y)));
     page.chartWithTable(svg, t);
   }
 }

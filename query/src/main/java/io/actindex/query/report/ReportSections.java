@@ -48,6 +48,9 @@ public final class ReportSections {
       for (int i = 0; i <= 30; i++) edges[i] = lo + i * w;
     }
     double[] counts = new double[edges.length - 1], flagged = new double[edges.length - 1];
+    List<String> bins = new ArrayList<>();
+    for (int b = 0; b < counts.length; b++)
+      bins.add("score " + (integers && hi - lo <= 80 ? HtmlPage.num(lo + b) : HtmlPage.num(edges[b]) + " to " + HtmlPage.num(edges[b + 1])));
     for (double v : s) {
       int b = 0;
       while (b < counts.length - 1 && v >= edges[b + 1]) b++;
@@ -63,7 +66,7 @@ public final class ReportSections {
         .row("largest score", hi);
     page.chartWithTable(SvgChart.bars("Calibration scores (threshold " + HtmlPage.num(c.threshold()) + ")",
         code ? "score (bits)" : "score (cosine distance)",
-        "calibration inputs", edges, List.of(new SvgChart.Series("accepted (in)", null, counts),
+        "calibration inputs", edges, bins, List.of(new SvgChart.Series("accepted (in)", null, counts),
             new SvgChart.Series("above the threshold", null, flagged)), false), t);
   }
 
@@ -75,7 +78,7 @@ public final class ReportSections {
   public static void dupes(HtmlPage page, Dupes.Result r, boolean anyLabel, boolean anySplit) {
     Dupes.Summary s = r.summary();
     page.section("dupes", "Near-duplicates to the model (radius " + s.radius() + ")",
-        "Pairs of examples whose codes differ in at most " + s.radius() + " neurons, joined into groups. A group across splits is a "
+        "Pairs of examples whose codes differ in at most " + HtmlPage.count(s.radius(), "neuron") + ", joined into groups. A group across splits is a "
             + "leak (the model cannot tell a test example from a training one); a group with several labels is a label conflict. "
             + "Flags tell where to look, not a verdict.");
     HtmlPage.Table t = new HtmlPage.Table("kv", 1, null)
@@ -92,16 +95,19 @@ public final class ReportSections {
     double[] edges = new double[maxBucket + 2], counts = new double[maxBucket + 1];
     for (int i = 0; i < edges.length; i++) edges[i] = i - 0.5;
     for (Dupes.Group g : r.groups()) counts[bucket(g.size())]++;
-    page.chartWithTable(SvgChart.bars("The " + r.groups().size() + " listed groups (of " + s.groups() + ") by size", "size bucket k (2^(k+1) to 2^(k+2)-1 examples)",
-        "groups listed", edges, List.of(new SvgChart.Series("groups", null, counts)), false), t);
+    List<String> sizes = new ArrayList<>();
+    for (int k = 0; k <= maxBucket; k++) sizes.add("groups of " + (1 << (k + 1)) + "-" + ((1 << (k + 2)) - 1) + " examples");
+    page.chartWithTable(SvgChart.bars("The " + HtmlPage.count(r.groups().size(), "listed group") + " (of " + s.groups() + ") by size", "size bucket k (2^(k+1) to 2^(k+2)-1 examples)",
+        "groups listed", edges, sizes, List.of(new SvgChart.Series("groups", null, counts)), false), t);
     HtmlPage.Table groups = new HtmlPage.Table(null, 4, List.of("flags", "labels", "splits", "keys (first members)", "size", "codes", "max distance"));
     for (Dupes.Group g : r.groups()) {
       List<String> keys = new ArrayList<>();
       for (Dupes.Member m : g.members()) if (keys.size() < 6) keys.add(m.key());
       String flags = (g.crossSplit() ? "leak " : "") + (g.conflictingLabels() ? "conflict" : "");
-      groups.row(flags.trim(), counts(g.labels()), counts(g.splits()), String.join(" ", keys), g.size(), g.distinctCodes(), g.maxDistance());
+      String shown = String.join(" ", keys) + (g.size() > keys.size() ? " … and " + (g.size() - keys.size()) + " more" : "");
+      groups.row(flags.trim(), counts(g.labels()), counts(g.splits()), shown, g.size(), g.distinctCodes(), g.maxDistance());
     }
-    page.paragraph("The largest groups (" + r.groups().size() + " of " + s.groups() + " listed):");
+    page.paragraph("The largest " + (r.groups().size() == 1 ? "group" : "groups") + " (" + r.groups().size() + " of " + s.groups() + " listed):");
     page.table(groups);
   }
 
@@ -118,8 +124,8 @@ public final class ReportSections {
 
   /** Two samples compared in code space: the tests, per layer, and the neurons that moved most. */
   public static void compare(HtmlPage page, Compare.Result r) {
-    page.section("compare", "Two samples compared", "A: " + r.describeA() + " (" + r.rowsA() + " rows); B: " + r.describeB() + " ("
-        + r.rowsB() + " rows). " + r.verdict());
+    page.section("compare", "Two samples compared", "A: " + r.describeA() + " (" + HtmlPage.count(r.rowsA(), "row") + "); B: " + r.describeB() + " ("
+        + HtmlPage.count(r.rowsB(), "row") + "). " + r.verdict());
     HtmlPage.Table tests = new HtmlPage.Table(null, 1, List.of("statistic", "value", "p-value", "rows A", "rows B"));
     for (Compare.Mmd m : r.mmd()) tests.row("MMD^2, " + m.kernel() + " kernel", m.mmd2(), m.pValue(), m.rowsA(), m.rowsB());
     if (r.w2() != null)
@@ -130,13 +136,15 @@ public final class ReportSections {
     double[] edges = new double[top.size() + 1], a = new double[top.size()], b = new double[top.size()];
     for (int i = 0; i <= top.size(); i++) edges[i] = i + 0.5;
     HtmlPage.Table t = new HtmlPage.Table(null, 1, List.of("rank", "neuron", "rate A", "rate B", "z", "q-value"));
+    List<String> ranks = new ArrayList<>();
     for (int i = 0; i < top.size(); i++) {
+      ranks.add("rank " + (i + 1) + " (" + top.get(i).name() + ")");
       a[i] = top.get(i).rateA();
       b[i] = top.get(i).rateB();
       t.row(Integer.toString(i + 1), top.get(i).name(), top.get(i).rateA(), top.get(i).rateB(), top.get(i).z(), top.get(i).q());
     }
-    page.chartWithTable(SvgChart.bars("Neurons whose firing rates moved most", "rank (see table for the neuron)", "firing rate", edges,
-        List.of(new SvgChart.Series("A", null, a), new SvgChart.Series("B", null, b)), false), t);
+    page.chartWithTable(SvgChart.shareBars("Neurons whose firing rates moved most", "rank (see table for the neuron)", "firing rate", edges, ranks,
+        List.of(new SvgChart.Series("A", null, a), new SvgChart.Series("B", null, b))), t);
     page.note("Multiple testing: " + r.correction() + ". A small p-value says the samples differ in code space more than chance "
         + "explains, not that the difference matters for the model's decisions.");
   }

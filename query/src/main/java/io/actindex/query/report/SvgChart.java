@@ -33,7 +33,15 @@ public final class SvgChart {
 
   /** A line chart of the series (points joined in the order given). */
   public static String lines(String title, String xLabel, String yLabel, List<Series> series, boolean logX, boolean logY) {
-    Axis x = new Axis(logX), y = new Axis(logY);
+    return lines(title, xLabel, yLabel, series, new Axis(logX), new Axis(logY));
+  }
+
+  /** A line chart of shares: as {@link #lines}, with a y axis that never leaves [0, 1], even around one repeated value. */
+  public static String shareLines(String title, String xLabel, String yLabel, List<Series> series) {
+    return lines(title, xLabel, yLabel, series, new Axis(false), Axis.share());
+  }
+
+  private static String lines(String title, String xLabel, String yLabel, List<Series> series, Axis x, Axis y) {
     for (Series s : series)
       for (int i = 0; i < s.y().length; i++) {
         double xv = s.x() == null ? i : s.x()[i];
@@ -74,8 +82,27 @@ public final class SvgChart {
    * series ({@code y[i]} = count or share of bin i).
    */
   public static String bars(String title, String xLabel, String yLabel, double[] edges, List<Series> series, boolean logY) {
-    Axis x = new Axis(false), y = new Axis(logY);
+    return bars(title, xLabel, yLabel, edges, null, series, new Axis(logY));
+  }
+
+  /**
+   * As {@link #bars}, with a name per bin for each bar's tooltip ("name, series: value"); null
+   * names a bin by its edges ("a to b").
+   */
+  public static String bars(String title, String xLabel, String yLabel, double[] edges, List<String> binNames, List<Series> series, boolean logY) {
+    return bars(title, xLabel, yLabel, edges, binNames, series, new Axis(logY));
+  }
+
+  /** A histogram of shares: as {@link #bars} on a linear axis that never leaves [0, 1] (all-zero bars included). */
+  public static String shareBars(String title, String xLabel, String yLabel, double[] edges, List<String> binNames, List<Series> series) {
+    return bars(title, xLabel, yLabel, edges, binNames, series, Axis.share());
+  }
+
+  private static String bars(String title, String xLabel, String yLabel, double[] edges, List<String> binNames, List<Series> series, Axis y) {
+    Axis x = new Axis(false);
+    boolean logY = y.log;
     int bins = Math.max(0, edges.length - 1);
+    if (binNames != null && binNames.size() != bins) throw new IllegalArgumentException(binNames.size() + " bin names, edges give " + bins + " bins");
     for (Series s : series)
       if (s.y().length != bins) throw new IllegalArgumentException("series " + s.name() + " has " + s.y().length + " bins, edges give " + bins);
     StringBuilder svg = open(title);
@@ -93,13 +120,14 @@ public final class SvgChart {
     for (int b = 0; b < bins; b++) {
       double x0 = px(x, edges[b]), x1 = px(x, edges[b + 1]);
       double width = Math.max(1, (x1 - x0 - 2) / series.size());
+      String bin = binNames != null ? binNames.get(b) : num(edges[b]) + " to " + num(edges[b + 1]);
       for (int si = 0; si < series.size(); si++) {
         double v = series.get(si).y()[b];
         if (!y.usable(v)) continue;
         double top = py(y, v);
         svg.append("<rect fill=\"").append(color(si)).append("\" fill-opacity=\"0.8\" x=\"").append(fmt(x0 + 1 + si * width))
             .append("\" y=\"").append(fmt(Math.min(top, base))).append("\" width=\"").append(fmt(width)).append("\" height=\"")
-            .append(fmt(Math.abs(base - top))).append("\"><title>").append(escape(series.get(si).name())).append(": ")
+            .append(fmt(Math.abs(base - top))).append("\"><title>").append(escape(bin + ", " + series.get(si).name())).append(": ")
             .append(num(v)).append("</title></rect>\n");
       }
     }
@@ -128,14 +156,23 @@ public final class SvgChart {
     return b.toString();
   }
 
-  /** One axis: its range, linear or log10. */
+  /** One axis: its range, linear or log10; a linear axis of shares is kept within [0, 1]. */
   static final class Axis {
     final boolean log;
     double lo = Double.POSITIVE_INFINITY, hi = Double.NEGATIVE_INFINITY;
+    double min = Double.NEGATIVE_INFINITY, max = Double.POSITIVE_INFINITY;
     int dropped;
 
     Axis(boolean log) {
       this.log = log;
+    }
+
+    /** A linear axis for shares: padding around a single value stops at 0 and 1. */
+    static Axis share() {
+      Axis a = new Axis(false);
+      a.min = 0;
+      a.max = 1;
+      return a;
     }
 
     boolean usable(double v) {
@@ -161,6 +198,8 @@ public final class SvgChart {
         lo -= pad;
         hi += pad;
       }
+      if (!log && lo < min && min < hi) lo = min;
+      if (!log && hi > max && max > lo) hi = max;
     }
 
     double frac(double v) {

@@ -78,6 +78,35 @@ class SvgChartTest {
     }
   }
 
+  /** A share repeated everywhere (1, or 0) is drawn on an axis within [0, 1], not padded past it; other values as before. */
+  @Test
+  void aShareAxisStaysWithinZeroAndOne() {
+    for (double v : new double[] {0, 0.9, 1}) {
+      SvgChart.Axis y = SvgChart.Axis.share();
+      y.include(v);
+      y.finish();
+      assertThat(y.lo).as("share " + v).isBetween(0.0, v);
+      assertThat(y.hi).as("share " + v).isBetween(v, 1.0).isGreaterThan(y.lo);
+    }
+    SvgChart.Axis plain = new SvgChart.Axis(false);
+    plain.include(1);
+    plain.finish();
+    assertThat(plain.hi).isEqualTo(1.5);
+    String bars = SvgChart.shareBars("t", "x", "y", new double[] {0, 1, 2}, null, List.of(new SvgChart.Series("s", null, new double[] {0, 0})));
+    assertThat(bars).doesNotContain(">-1</text>").contains(">1</text>");
+  }
+
+  /** A bar's tooltip names its bin: by the name given, else by its edges. */
+  @Test
+  void barTooltipsNameTheirBin() throws Exception {
+    List<SvgChart.Series> one = List.of(new SvgChart.Series("s", null, new double[] {3, 0.25}));
+    String named = SvgChart.bars("t", "x", "y", new double[] {0, 1, 2}, List.of("unit h:0", "unit h:1"), one, false);
+    assertThat(named).contains("<title>unit h:0, s: 3</title>").contains("<title>unit h:1, s: 0.25</title>");
+    assertThat(SvgChart.bars("t", "x", "y", new double[] {0, 0.5, 1}, one, false)).contains("<title>0 to 0.5, s: 3</title>")
+        .contains("<title>0.5 to 1, s: 0.25</title>");
+    parse(named);
+  }
+
   @Test
   void tickNumbersAreShort() {
     assertThat(SvgChart.num(1000.25)).isEqualTo("1000");
