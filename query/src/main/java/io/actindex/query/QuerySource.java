@@ -120,7 +120,7 @@ public final class QuerySource {
     // a codes file is read in the layout the index was built from when that was a codes file too
     CodeLayout codesLayout = source.kind() != Source.Kind.CODES ? null
         : info.kind() == Source.Kind.CODES ? info.sourceLayout() : target;
-    Encoding.Read read = Encoding.read(source, model, info.encode(), codesLayout, range, chunk,
+    Encoding.Read read = Encoding.read(source, model, oneMatrixOptions(source, info, target), codesLayout, range, chunk,
         progress == null ? Progress.NONE : progress, activations);
     // notes about the file itself (its CSV header); the model's layers were reported at build
     for (String n : read.notes()) if (n.startsWith(source.file() + ":")) notes.add(n);
@@ -142,6 +142,40 @@ public final class QuerySource {
       notes.add(source.file() + ": note: the index keeps its model's hidden activations after ReLU; the negative values here (activations"
           + " before ReLU, e.g. hooked on nn.Linear) are taken as 0, as ReLU does");
     return new Encoded(codes, values, read.columns());
+  }
+
+  /**
+   * The index's encode options, or, for one {@code .npy}/{@code .csv} matrix of activations against
+   * an index of several layers kept by name ({@code build --layers}) or binarized by per-layer
+   * medians, the same options for that matrix as one layer: no layer names to pick (a single matrix
+   * has none) and the medians of the layers it is read as, side by side in that order (the index's
+   * layers when it is as wide as them, else the layers it was built from; any other width is left
+   * to {@link Layers#align} to refuse).
+   */
+  private static io.actindex.encode.EncodeOptions oneMatrixOptions(Source source, BuildInfo info, CodeLayout target) {
+    io.actindex.encode.EncodeOptions o = info.encode();
+    String name = source.file().getFileName().toString().toLowerCase(Locale.ROOT);
+    boolean oneMatrix = source.kind() == Source.Kind.ACTIVATIONS && (name.endsWith(".npy") || name.endsWith(".csv"));
+    boolean named = o.layers() != null && o.layers().size() > 1, medians = o.medians() != null && o.medians().size() > 1;
+    if (!oneMatrix || !(named || medians)) return o;
+    if (!medians) return o.withLayers(null);
+    int cols;
+    try (MatrixReader m = Encoders.openMatrix(source.file(), source.header())) {
+      cols = m.cols();
+    } catch (IOException e) {
+      throw new UncheckedIOException(source.file() + ": " + e.getMessage(), e);
+    }
+    CodeLayout split = cols == target.bits() ? target : info.sourceLayout();
+    if (split == null || split.bits() != cols) return o.withLayers(null); // refused by Layers.align, naming the layouts
+    double[] joined = new double[cols];
+    int at = 0;
+    for (CodeLayout.Segment seg : split.segments()) {
+      double[] med = o.medians().get(seg.name());
+      if (med == null || med.length != seg.bits()) return o; // refused by the encoder, naming the layer
+      System.arraycopy(med, 0, joined, at, med.length);
+      at += med.length;
+    }
+    return o.withLayers(null).withMedians(java.util.Map.of(Encoders.DEFAULT_LAYER, joined));
   }
 
   /**

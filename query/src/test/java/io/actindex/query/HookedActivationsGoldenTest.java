@@ -92,4 +92,30 @@ class HookedActivationsGoldenTest {
       }
     }
   }
+
+  /**
+   * The same one array against an index that keeps two layers by name, in another order ({@code
+   * build --layers 2,0}), and against one binarized by per-layer medians: it was refused (a single
+   * matrix "is one layer, but layers [2, 0] were asked for"; "no per-neuron medians for layer
+   * act"), although the reference says one array as wide as the index's layers is read as those
+   * layers side by side. It must give what the archive's members give, matched by name.
+   */
+  @Test
+  void oneArrayIsReadSideBySideAgainstLayersKeptByNameOrBinarizedByMedians() {
+    Path byName = tmp.resolve("byname");
+    IndexBuilder.build(new IndexBuilder.BuildParams(byName, Source.inputs(golden("inputs.npy"), golden("model.safetensors")), null,
+        new io.actindex.encode.EncodeOptions(io.actindex.encode.BinarizeRule.POSITIVE, 0, java.util.List.of("2", "0")), null, 0, -1, 0), null);
+    Path medians = tmp.resolve("medians");
+    IndexBuilder.build(new IndexBuilder.BuildParams(medians, Source.activations(golden("queries_post.npz")), null,
+        new io.actindex.encode.EncodeOptions(io.actindex.encode.BinarizeRule.MEDIAN, 0, null), null, 0, -1, 0), null);
+    for (Path dir : java.util.List.of(byName, medians))
+      try (IndexReader r = IndexReader.open(dir)) {
+        QuerySource.Queries post = QuerySource.loadWithActivations(r, Source.activations(golden("queries_post.npz")), RowRange.ALL, null);
+        Path joined = TestFiles.npyFloat32(tmp.resolve(dir.getFileName() + ".npy"), 12, 18, post.activations());
+        QuerySource.Queries one = QuerySource.loadWithActivations(r, Source.activations(joined), RowRange.ALL, null);
+        assertThat(one.codes().codes().words()).as("%s", dir).containsExactly(post.codes().codes().words());
+        assertThat(one.activations()).as("%s", dir).containsExactly(post.activations());
+        assertThat(one.codes().notes()).anySatisfy(n -> assertThat(n).contains("18 columns").contains(r.layout().toString()));
+      }
+  }
 }
