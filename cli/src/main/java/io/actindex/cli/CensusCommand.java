@@ -22,7 +22,7 @@ import picocli.CommandLine.Spec;
 @Command(name = "census", mixinStandardHelpOptions = true,
     description = {"How the indexed examples spread over linear regions, for each prefix of the layers.",
         "Per prefix: distinct regions, examples per region, label purity and the largest regions. "
-            + "Per neuron: firing rates, with the dead and always-on neurons listed."})
+            + "Per neuron of those layers: firing rates, with the dead and always-on neurons listed."})
 final class CensusCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;

@@ -15,7 +15,7 @@ import java.util.function.IntFunction;
  * What the data looks like in code space, over the live examples: for each prefix of the layers
  * (the first layer, the first two, ...) how many distinct regions (codes) the examples occupy, how
  * the examples spread over them (histogram, quantiles, the largest regions) and how pure the
- * regions are in labels; and for every neuron how often it fires, with the dead (never on) and
+ * regions are in labels; and for every neuron of those layers how often it fires, with the dead (never on) and
  * always-on neurons listed as {@code layer:unit}.
  *
  * <pre>{@code
@@ -95,7 +95,7 @@ public final class Census {
       bits += layout.segments().get(s).bits();
       prefixes.add(prefix(codes, mask, List.copyOf(names), bits, labels, keyOf, p));
     }
-    return new Result(n, List.copyOf(prefixes), neurons(codes));
+    return new Result(n, List.copyOf(prefixes), neurons(codes, order));
   }
 
   private static Prefix prefix(CodeBlock codes, long[] mask, List<String> names, int bits, String[] labels,
@@ -170,7 +170,8 @@ public final class Census {
     return sorted[Math.max(0, k - 1)];
   }
 
-  private static List<Neurons> neurons(CodeBlock codes) {
+  /** Firing rates of the units of the layers {@code order} (indexes into the layout), in that order. */
+  private static List<Neurons> neurons(CodeBlock codes, int[] order) {
     CodeLayout layout = codes.layout();
     int n = codes.size();
     long[] on = new long[layout.bits()];
@@ -181,7 +182,7 @@ public final class Census {
         for (long x = data[off + w]; x != 0; x &= x - 1) on[(w << 6) + Long.numberOfTrailingZeros(x)]++;
     }
     List<Neurons> out = new ArrayList<>();
-    for (int s = 0; s < layout.segments().size(); s++) {
+    for (int s : order) {
       CodeLayout.Segment seg = layout.segments().get(s);
       int start = layout.start(s);
       double[] rates = new double[seg.bits()];

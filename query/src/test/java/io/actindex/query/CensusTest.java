@@ -123,6 +123,15 @@ class CensusTest {
     for (int i = 0; i < n; i++) direct.add(bits(s.codes(), i, 10, 16));
     assertEquals(direct.size(), c.prefixes().get(0).regions());
     assertEquals(null, c.prefixes().get(0).purity());
+    // the neuron section covers the chosen layers only (it listed every layer whatever --layers said)
+    assertEquals(1, c.neurons().size());
+    assertEquals("h2", c.neurons().get(0).layer());
+    assertEquals(6, c.neurons().get(0).firingRates().length);
+    for (int u = 0; u < 6; u++) {
+      int on = 0;
+      for (int i = 0; i < n; i++) if (s.codes().bit(i, 10 + u)) on++;
+      assertEquals(on / (double) n, c.neurons().get(0).firingRates()[u], 1e-12);
+    }
   }
 
   @Test
