@@ -261,15 +261,21 @@ abstract sealed class CodeInput {
           functions.col(q(cols.key())).as("_key"), functions.col(q(cols.code())).as("_code")));
       if (cols.label() != null) {
         field(schema, input, cols.label(), "--label-column");
-        sel.add(functions.col(q(cols.label())).cast("string").as("label"));
+        sel.add(text(cols.label()).as("label"));
       }
       if (cols.split() != null) {
         field(schema, input, cols.split(), "--split-column");
-        sel.add(functions.col(q(cols.split())).cast("string").as("split"));
+        sel.add(text(cols.split()).as("split"));
       }
       // persisted so that the ids stay the same for the codes and for the keys of the outputs
       Dataset<Row> data = df.select(sel.toArray(Column[]::new)).persist(StorageLevel.MEMORY_AND_DISK());
       return new ParquetCodes(input, layout, cols, data);
+    }
+
+    /** A label or split column as text, an empty cell read as null: unknown, as a null is (countDistinct skips nulls). */
+    private static Column text(String name) {
+      Column c = functions.col(q(name)).cast("string");
+      return functions.when(c.notEqual(functions.lit("")), c);
     }
 
     private static String q(String name) {

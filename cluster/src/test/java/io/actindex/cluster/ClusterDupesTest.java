@@ -112,7 +112,8 @@ class ClusterDupesTest {
 
   /**
    * ReLU-like codes (skewed: dead and always-on units, many identical codes) as Parquet with string
-   * keys, labels and splits; leakage and conflict flags against the BFS groups.
+   * keys, labels and splits (null and empty cells among them: both unknown, as documented); leakage
+   * and conflict flags against the BFS groups.
    */
   @Test
   void reluLikeParquetMatchesBruteForce() throws Exception {
@@ -122,8 +123,9 @@ class ClusterDupesTest {
     String[] labels = new String[codes.size()], splits = new String[codes.size()];
     List<Row> rows = new ArrayList<>();
     for (int i = 0; i < codes.size(); i++) {
-      labels[i] = rnd.nextInt(10) == 0 ? null : "c" + rnd.nextInt(3);
-      splits[i] = rnd.nextInt(8) == 0 ? "test" : "train";
+      int l = rnd.nextInt(10), t = rnd.nextInt(8);
+      labels[i] = l == 0 ? null : l == 1 ? "" : "c" + rnd.nextInt(3);
+      splits[i] = t == 0 ? "test" : t == 1 ? "" : "train";
       rows.add(RowFactory.create(String.format("ex-%05d", i), Fixtures.packedRow(codes, i), labels[i], splits[i]));
     }
     StructType schema = new StructType().add("id", DataTypes.StringType).add("bits", DataTypes.BinaryType)
@@ -157,7 +159,7 @@ class ClusterDupesTest {
   }
 
   private static long distinct(List<Integer> group, String[] values) {
-    return group.stream().map(i -> values[i]).filter(v -> v != null).distinct().count();
+    return group.stream().map(i -> values[i]).filter(v -> v != null && !v.isEmpty()).distinct().count();
   }
 
   /**

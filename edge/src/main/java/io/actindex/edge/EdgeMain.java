@@ -51,6 +51,7 @@ public final class EdgeMain {
       out.println("# a calibrated heuristic, not a guarantee: rates hold only for inputs exchangeable with the calibration data");
       out.println("row,score,decision,p_value");
       String line = in.readLine();
+      if (line != null && line.startsWith("\uFEFF")) line = line.substring(1); // a UTF-8 byte order mark, skipped as the index's CSV reader does
       if (inputs && line != null && isHeader(line)) {
         err.println("note: stdin line 1 taken as a header and skipped (column names, not numbers); row 0 is the next line");
         line = in.readLine();

@@ -232,6 +232,14 @@ class EdgeBundleTest {
       assertThat(h.err).as(header).contains("note: stdin line 1 taken as a header");
     }
     assertThat(plain.err).isEmpty();
+    // a UTF-8 byte order mark before the first line is skipped, as the index's CSV reader skips it
+    for (String header : List.of("", "0,1,2\n", "a,b,c\r\n")) {
+      Run bom = run(new String[] {file.toString(), "--inputs"}, "\uFEFF" + header + "0.5,2,3\n1,2,3\n");
+      assertThat(bom.code).as(header + ": " + bom.err).isZero();
+      assertThat(bom.out).as(header).isEqualTo(plain.out);
+    }
+    Run codes = run(new String[] {file.toString()}, "0".repeat(70) + "\n");
+    assertThat(run(new String[] {file.toString()}, "\uFEFF" + "0".repeat(70) + "\n").out).isEqualTo(codes.out);
     assertRefused(run(new String[] {file.toString(), "--inputs"}, ",0,1\n1,2,3\n"), "stdin row 0: column 0: '' is not a number");
     assertThat(run(new String[] {"--help"}, "").out).startsWith("usage: java -jar actindex-edge.jar BUNDLE");
     // rows of the wrong width or content, as codes and as inputs
