@@ -155,27 +155,17 @@ final class FidelityCommand implements Callable<Integer> {
     Fidelity.Accuracy a = r.accuracy();
     if (a == null) j.name("accuracy").nullValue();
     else {
-      j.name("accuracy").beginObject().member("labeled", a.labeled()).member("hamming", a.hamming());
-      j.name("refined");
-      if (a.refined() == null) j.nullValue();
-      else j.value(a.refined());
-      j.member("cosine", a.cosine()).name("euclidean_inputs");
-      if (a.euclideanInputs() == null) j.nullValue();
-      else j.value(a.euclideanInputs());
-      j.endObject();
+      j.name("accuracy").beginObject().member("labeled", a.labeled()).member("hamming", a.hamming())
+          .member("refined", a.refined()).member("cosine", a.cosine()).member("euclidean_inputs", a.euclideanInputs())
+          .endObject();
     }
     j.member("verdict", r.verdict());
     j.name("no_labelled_neighbour");
     if (a == null) j.nullValue();
     else {
       Fidelity.NoLabelledNeighbour none = a.noLabelledNeighbour();
-      j.beginObject().member("hamming", none.hamming()).name("refined");
-      if (none.refined() == null) j.nullValue();
-      else j.value(none.refined());
-      j.member("cosine", none.cosine()).name("euclidean_inputs");
-      if (none.euclideanInputs() == null) j.nullValue();
-      else j.value(none.euclideanInputs());
-      j.endObject();
+      j.beginObject().member("hamming", none.hamming()).member("refined", none.refined()).member("cosine", none.cosine())
+          .member("euclidean_inputs", none.euclideanInputs()).endObject();
     }
     j.endObject();
     out.println();

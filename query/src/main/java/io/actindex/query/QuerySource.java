@@ -3,6 +3,7 @@ package io.actindex.query;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
+import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.Encoders;
 import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.MatrixReader;
@@ -13,6 +14,7 @@ import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.file.Path;
 import java.util.Locale;
+import java.util.Map;
 
 /**
  * Turns a query source (activations, codes, or inputs run through the index's stored model) into
@@ -152,8 +154,8 @@ public final class QuerySource {
    * layers when it is as wide as them, else the layers it was built from; any other width is left
    * to {@link Layers#align} to refuse).
    */
-  private static io.actindex.encode.EncodeOptions oneMatrixOptions(Source source, BuildInfo info, CodeLayout target) {
-    io.actindex.encode.EncodeOptions o = info.encode();
+  private static EncodeOptions oneMatrixOptions(Source source, BuildInfo info, CodeLayout target) {
+    EncodeOptions o = info.encode();
     String name = source.file().getFileName().toString().toLowerCase(Locale.ROOT);
     boolean oneMatrix = source.kind() == Source.Kind.ACTIVATIONS && (name.endsWith(".npy") || name.endsWith(".csv"));
     boolean named = o.layers() != null && o.layers().size() > 1, medians = o.medians() != null && o.medians().size() > 1;
@@ -175,7 +177,7 @@ public final class QuerySource {
       System.arraycopy(med, 0, joined, at, med.length);
       at += med.length;
     }
-    return o.withLayers(null).withMedians(java.util.Map.of(Encoders.DEFAULT_LAYER, joined));
+    return o.withLayers(null).withMedians(Map.of(Encoders.DEFAULT_LAYER, joined));
   }
 
   /**

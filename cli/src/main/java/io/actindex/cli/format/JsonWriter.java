@@ -118,6 +118,14 @@ public final class JsonWriter {
     return name(name).value(value);
   }
 
+  /** Writes {@code name: value} for a number that may be absent: null as {@code null}, whole types as {@link #value(long)}, others as {@link #value(double)}. */
+  public JsonWriter member(String name, Number value) {
+    name(name);
+    if (value == null) return nullValue();
+    return value instanceof Integer || value instanceof Long || value instanceof Short || value instanceof Byte
+        ? value(value.longValue()) : value(value.doubleValue());
+  }
+
   /** An object of string values, in the map's iteration order. */
   public JsonWriter stringMap(Map<String, String> map) {
     beginObject();
