@@ -32,6 +32,19 @@ public class JsonWriterTest {
   }
 
   @Test
+  void aNumberThatMayBeAbsentIsNullOrTheNumber() throws Exception {
+    StringBuilder sb = new StringBuilder();
+    Integer none = null;
+    Double half = 0.5;
+    new JsonWriter(sb).beginObject().member("a", none).member("b", (Integer) 7).member("c", half).member("d", (Long) 9007199254740993L)
+        .endObject();
+    assertThat(sb.toString()).isEqualTo("{\"a\":null,\"b\":7,\"c\":0.5,\"d\":9007199254740993}");
+    JsonNode n = STRICT.readTree(sb.toString());
+    assertThat(n.get("a").isNull()).isTrue();
+    assertThat(n.get("d").longValue()).isEqualTo(9007199254740993L); // a long above 2^53 is not rounded through a double
+  }
+
+  @Test
   void loneSurrogatesAreEscaped() throws Exception {
     StringBuilder sb = new StringBuilder();
     new JsonWriter(sb).value("x\ud800y\udc00");
