@@ -47,8 +47,11 @@ def check(idx, layersel, live=None):
         nm = [k for k, v in lmap.items() if v == nb["layer"]][0]; a, b = sl[nm]
         rates = T[ids, a:b].mean(0)
         if np.abs(np.array(nb["firing_rates"]) - rates).max() > 1e-12: bad += 1; print("RATES", nm)
-        dead = [f"{nb['layer']}:{u}" for u in np.where(rates == 0)[0]]; on = [f"{nb['layer']}:{u}" for u in np.where(rates == 1)[0]]
+        # called dead / always on only when the 95% bound 1 - 0.05^(1/n) of an unseen rate is at most 5% (59 examples or more)
+        bound = 1 - 0.05 ** (1 / len(ids)); call = bound <= 0.05
+        dead = [f"{nb['layer']}:{u}" for u in np.where(rates == 0)[0]] if call else []; on = [f"{nb['layer']}:{u}" for u in np.where(rates == 1)[0]] if call else []
         if nb["dead"] != dead or nb["always_on"] != on: bad += 1; print("DEAD/ON", nm, nb["dead"], dead, nb["always_on"], on)
+        if abs(nb["rate_bound"] - bound) > 1e-12 * bound or nb["too_few_examples"] != (not call): bad += 1; print("BOUND", nm, nb["rate_bound"], bound, nb["too_few_examples"])
     if [nb["layer"] for nb in out["neurons"]] != [lmap[x] for x, _ in LAYERS[net]]: bad += 1; print("NEURON LAYERS", [nb["layer"] for nb in out["neurons"]])
     print(f"census {idx} layers={layersel}: {len(out['prefixes'])} prefixes, {sum(len(p['largest']) for p in out['prefixes'])} largest regions, {bad} bad")
     return bad

@@ -22,7 +22,8 @@ import picocli.CommandLine.Spec;
 @Command(name = "census", mixinStandardHelpOptions = true,
     description = {"How the indexed examples spread over linear regions, for each prefix of the layers.",
         "Per prefix: distinct regions, examples per region, label purity and the largest regions. "
-            + "Per neuron of those layers: firing rates, with the dead and always-on neurons listed."})
+            + "Per neuron of those layers: firing rates, with the dead and always-on neurons listed when the examples are enough "
+            + "to call them so, and a 95%% bound of how often such a unit may still fire (or not) on new inputs."})
 final class CensusCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -102,7 +103,7 @@ final class CensusCommand implements Callable<Integer> {
       for (String d : n.dead()) j.value(d);
       j.endArray().name("always_on").beginArray();
       for (String a : n.alwaysOn()) j.value(a);
-      j.endArray().endObject();
+      j.endArray().member("rate_bound", c.rateBound()).name("too_few_examples").value(c.tooFewToCall()).endObject();
     }
     j.endArray().endObject();
     out.println();
@@ -159,17 +160,19 @@ final class CensusCommand implements Callable<Integer> {
     out.println();
     out.println("neurons:");
     TextTable n = new TextTable(List.of("layer", "units", "mean firing rate", "dead", "always on"));
+    boolean call = !c.tooFewToCall();
     List<String> lists = new ArrayList<>();
     for (Census.Neurons layer : c.neurons()) {
       double sum = 0;
       for (double r : layer.firingRates()) sum += r;
       n.row(List.of(layer.layer(), Integer.toString(layer.firingRates().length),
           c.examples() == 0 ? "n/a" : Units.rate(layer.firingRates().length == 0 ? 0 : sum / layer.firingRates().length),
-          Integer.toString(layer.dead().size()), Integer.toString(layer.alwaysOn().size())));
+          call ? Integer.toString(layer.dead().size()) : "n/a", call ? Integer.toString(layer.alwaysOn().size()) : "n/a"));
       if (!layer.dead().isEmpty()) lists.add("dead: " + String.join(" ", layer.dead()));
       if (!layer.alwaysOn().isEmpty()) lists.add("always on: " + String.join(" ", layer.alwaysOn()));
     }
     n.print(out, "  ");
     for (String l : lists) out.println("  " + l);
+    if (c.deadNote() != null) out.println("  " + c.deadNote());
   }
 }

@@ -72,6 +72,9 @@ class EmptyIndexEndToEndTest {
     JsonNode census = JSON.readTree(Cli.run("census", "--index", i, "--format", "json").out());
     assertThat(census.get("neurons").get(0).get("firing_rates")).as(state).hasSize(8).allMatch(JsonNode::isNull);
     assertThat(census.get("neurons").get(0).get("dead")).as(state).isEmpty();
+    // nor a bound on how often an unseen unit fires: no unit is called dead or always on
+    assertThat(census.get("neurons").get(0).get("rate_bound").isNull()).as(state).isTrue();
+    assertThat(census.get("neurons").get(0).get("too_few_examples").asBoolean()).as(state).isTrue();
     // and no region: the sizes per region are undefined too (were 0), null in JSON, n/a in the table
     JsonNode prefix = census.get("prefixes").get(0);
     assertThat(prefix.get("regions").asInt()).as(state).isZero();
@@ -82,7 +85,7 @@ class EmptyIndexEndToEndTest {
     assertThat(Cli.run("census", "--index", i).out()).as(state).containsPattern("act +8 +0 +0 +n/a +n/a +n/a +n/a *\\n");
     assertThat(Cli.run("census", "--index", i, "--format", "csv").out().lines().skip(1)).as(state).hasSize(8)
         .allMatch(l -> l.matches("act,\\d+,,"));
-    assertThat(Cli.run("census", "--index", i).out()).as(state).containsPattern("act +8 +n/a +0 +0");
+    assertThat(Cli.run("census", "--index", i).out()).as(state).containsPattern("act +8 +n/a +n/a +n/a");
     // the index had labels, all deleted: the purity table said "no labels"
     assertThat(Files.readString(tmp.resolve("r.html"))).as(state).contains("<td>no live example has a label</td>")
         .doesNotContain("no labels");

@@ -164,9 +164,13 @@ class RegionCensusEndToEndTest {
       jn.get("always_on").forEach(x -> gotAlways.add(x.asText()));
       assertThat(gotDead).as(what).isEqualTo(dead);
       assertThat(gotAlways).as(what).isEqualTo(always);
+      // 400 examples: enough to call units dead, with the 95% bound 1 - 0.05^(1/400) beside them
+      assertThat(jn.get("too_few_examples").asBoolean()).isFalse();
+      assertThat(jn.get("rate_bound").asDouble()).isCloseTo(1 - Math.pow(0.05, 1 / 400.0), org.assertj.core.data.Offset.offset(1e-12));
     }
     Cli.Result table = Cli.run("census", "--index", idx.toString());
     assertThat(table.code()).as(table.describe()).isZero();
-    assertThat(table.out()).contains("examples: 400").contains("h1+h2").contains("neurons:");
+    assertThat(table.out()).contains("examples: 400").contains("h1+h2").contains("neurons:")
+        .contains("Dead: never on in these 400 examples, so its firing rate on inputs like them is below 0.75% (95% upper bound)");
   }
 }

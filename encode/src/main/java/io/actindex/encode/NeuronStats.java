@@ -7,8 +7,9 @@ import java.util.List;
 
 /**
  * Per-neuron firing counts over the codes of a stream: how many rows had each bit set. A neuron
- * that never fires is dead, one that fires on every row always-on; both carry no information for
- * search and are reported, not hidden. Counting uses byte-lane accumulators (8 neurons per long,
+ * that never fires on these rows is dead for them, one that fires on every row always-on; both carry
+ * no information for searching these rows and are reported, not hidden (over few rows either says
+ * little about other inputs: the census calls a unit dead only from enough rows). Counting uses byte-lane accumulators (8 neurons per long,
  * flushed every 255 rows), so it costs about one table lookup per 8 bits. Not thread-safe.
  */
 public final class NeuronStats {

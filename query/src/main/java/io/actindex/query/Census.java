@@ -4,10 +4,15 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.index.store.IndexReader;
+import io.actindex.query.stats.NeverSeenBound;
+import java.math.BigDecimal;
+import java.math.MathContext;
+import java.math.RoundingMode;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.HashMap;
 import java.util.List;
+import java.util.Locale;
 import java.util.Map;
 import java.util.function.IntFunction;
 
@@ -16,7 +21,9 @@ import java.util.function.IntFunction;
  * (the first layer, the first two, ...) how many distinct regions (codes) the examples occupy, how
  * the examples spread over them (histogram, quantiles, the largest regions) and how pure the
  * regions are in labels; and for every neuron of those layers how often it fires, with the dead (never on) and
- * always-on neurons listed as {@code layer:unit}.
+ * always-on neurons listed as {@code layer:unit}. A unit never on in {@code n} examples may still fire on new
+ * inputs: {@link Result#rateBound()} says how often at most (95%), and units are called dead or always on only
+ * when that bound is at most {@link #CALL_LIMIT}.
  *
  * <pre>{@code
  * Census.Result c = Census.run(reader, new Census.Params(null, 10, 3));
@@ -24,6 +31,17 @@ import java.util.function.IntFunction;
  */
 public final class Census {
   private Census() {}
+
+  /**
+   * The largest 95% upper bound of a firing rate (of an off rate) at which a unit never on (always on)
+   * is still called dead (always on): 5%, reached at {@link #CALL_EXAMPLES} examples. A choice, not a
+   * standard: with a larger bound, a unit that never fired could still fire on more than one input in
+   * 20, too often to call it dead.
+   */
+  public static final double CALL_LIMIT = 0.05;
+
+  /** The fewest live examples at which units are called dead or always on (59 for 5%). */
+  public static final long CALL_EXAMPLES = NeverSeenBound.examplesFor(CALL_LIMIT);
 
   /**
    * {@code layers}: the layers, in prefix order (null or empty = all, in layout order); {@code
@@ -57,10 +75,48 @@ public final class Census {
   public record Prefix(List<String> layers, int bits, int regions, int singletons, List<Bucket> histogram, Quantiles quantiles,
       Double purity, List<Big> largest) {}
 
-  /** Firing rates of one layer's units (NaN without examples), and its dead and always-on units ({@code layer:unit}). */
+  /**
+   * Firing rates of one layer's units (NaN without examples), and its dead and always-on units
+   * ({@code layer:unit}): those never on (on for every example), listed only when the examples are
+   * enough to call them so ({@link Result#tooFewToCall()} false), else empty.
+   */
   public record Neurons(String layer, double[] firingRates, List<String> dead, List<String> alwaysOn) {}
 
-  public record Result(int examples, List<Prefix> prefixes, List<Neurons> neurons) {}
+  public record Result(int examples, List<Prefix> prefixes, List<Neurons> neurons) {
+    /**
+     * The 95% upper bound of the firing rate of a unit never on in these examples (of the off rate
+     * of one always on): {@code 1 - 0.05^(1/examples)}, about {@code 3/examples}; NaN without examples.
+     */
+    public double rateBound() {
+      return NeverSeenBound.upper(examples);
+    }
+
+    /** True when the examples are too few (or none) to call a unit dead or always on: the bound is above {@link #CALL_LIMIT}. */
+    public boolean tooFewToCall() {
+      return examples < CALL_EXAMPLES;
+    }
+
+    /**
+     * One sentence on what the dead and always-on counts claim: the bound at these examples, or why no
+     * unit is called either; null without examples.
+     */
+    public String deadNote() {
+      if (examples == 0) return null;
+      String n = String.format(Locale.ROOT, "%,d", examples) + (examples == 1 ? " example" : " examples");
+      String bound = percentAtMost(rateBound());
+      if (tooFewToCall())
+        return "Too few examples to call a unit dead or always on: a unit never on in " + n + " may still fire on up to " + bound
+            + " of inputs like them (95% upper bound); it takes " + CALL_EXAMPLES + " examples to bring that bound to "
+            + percentAtMost(CALL_LIMIT) + " or less.";
+      return "Dead: never on in these " + n + ", so its firing rate on inputs like them is below " + bound + " (95% upper bound);"
+          + " always on: never off in them, so its off rate is below " + bound + ".";
+    }
+  }
+
+  /** A share as a percentage of 2 significant digits rounded up, so that a bound stays a bound (0.0029912 -> "0.30%"). */
+  static String percentAtMost(double share) {
+    return BigDecimal.valueOf(share).movePointRight(2).round(new MathContext(2, RoundingMode.CEILING)).toPlainString() + "%";
+  }
 
   public static Result run(IndexReader reader, Params p) {
     int[] ids = new int[reader.liveCount()];
@@ -187,11 +243,12 @@ public final class Census {
       int start = layout.start(s);
       double[] rates = new double[seg.bits()];
       List<String> dead = new ArrayList<>(), always = new ArrayList<>();
+      boolean call = n >= CALL_EXAMPLES; // too few examples (or none): no unit called dead or always on
       for (int u = 0; u < seg.bits(); u++) {
         long c = on[start + u];
-        rates[u] = n == 0 ? Double.NaN : c / (double) n; // no example: no rate (null in JSON), and no neuron called dead
-        if (n > 0 && c == 0) dead.add(seg.name() + ":" + u);
-        if (n > 0 && c == n) always.add(seg.name() + ":" + u);
+        rates[u] = n == 0 ? Double.NaN : c / (double) n; // no example: no rate (null in JSON)
+        if (call && c == 0) dead.add(seg.name() + ":" + u);
+        if (call && c == n) always.add(seg.name() + ":" + u);
       }
       out.add(new Neurons(seg.name(), rates, List.copyOf(dead), List.copyOf(always)));
     }

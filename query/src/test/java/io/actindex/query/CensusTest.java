@@ -147,6 +147,70 @@ class CensusTest {
       assertThat(layer.firingRates()).as(layer.layer()).hasSize(layer.layer().equals("h1") ? 5 : 3).containsOnly(Double.NaN);
   }
 
+  /** n codes of 3 units: unit 0 never on, unit 1 always on, unit 2 on for even rows. */
+  private static Census.Result threeUnits(int n) {
+    long[] words = new long[n];
+    for (int i = 0; i < n; i++) words[i] = 0b010 | (i % 2 == 0 ? 0b100 : 0);
+    return Census.compute(new CodeBlock(CodeLayout.parse("h:3"), n, words), new String[n], i -> "k" + i, new Census.Params(null, 0, 0));
+  }
+
+  /**
+   * A unit never on (always on) is called dead (always on) only when the 95% bound of its firing (off)
+   * rate, 1 - 0.05^(1/n), is at most 5%; below that the lists are empty, though the rates still show 0 and 1.
+   */
+  @Test
+  void unitsAreCalledDeadOnlyFromEnoughExamples() {
+    for (int n : new int[] {1, 2, 20, 57, 58, 59, 60, 1000, 19_800}) {
+      Census.Result c = threeUnits(n);
+      boolean call = 1 - Math.pow(0.05, 1.0 / n) <= 0.05;
+      String why = "n = " + n;
+      assertEquals(!call, c.tooFewToCall(), why);
+      assertEquals(1 - Math.pow(0.05, 1.0 / n), c.rateBound(), 1e-12, why);
+      Census.Neurons h = c.neurons().get(0);
+      assertEquals(call ? List.of("h:0") : List.of(), h.dead(), why);
+      assertEquals(call ? List.of("h:1") : List.of(), h.alwaysOn(), why);
+      assertEquals(0.0, h.firingRates()[0], why);
+      assertEquals(1.0, h.firingRates()[1], why);
+    }
+    assertThat(Census.CALL_EXAMPLES).isEqualTo(59); // the first n with 1 - 0.05^(1/n) <= 5% (NeverSeenBoundTest checks it against scipy)
+    assertThat(threeUnits(0).tooFewToCall()).isTrue();
+    assertThat(threeUnits(0).rateBound()).isNaN();
+    assertThat(threeUnits(0).deadNote()).isNull();
+  }
+
+  /**
+   * The sentence beside the counts, at 1, 20, 1,000 and 19,800 examples. The percentages are
+   * scipy.stats.beta.ppf(0.95, 1, n) (golden/never-seen-bound.csv: 0.95, 0.1391, 0.002991, 0.0001513)
+   * rounded up to 2 significant digits.
+   */
+  @Test
+  void noteSaysWhatTheCountsClaim() {
+    assertEquals("Too few examples to call a unit dead or always on: a unit never on in 1 example may still fire on up to 95% of"
+        + " inputs like them (95% upper bound); it takes 59 examples to bring that bound to 5% or less.", threeUnits(1).deadNote());
+    assertEquals("Too few examples to call a unit dead or always on: a unit never on in 20 examples may still fire on up to 14% of"
+        + " inputs like them (95% upper bound); it takes 59 examples to bring that bound to 5% or less.", threeUnits(20).deadNote());
+    assertEquals("Dead: never on in these 1,000 examples, so its firing rate on inputs like them is below 0.30% (95% upper bound);"
+        + " always on: never off in them, so its off rate is below 0.30%.", threeUnits(1000).deadNote());
+    assertEquals("Dead: never on in these 19,800 examples, so its firing rate on inputs like them is below 0.016% (95% upper bound);"
+        + " always on: never off in them, so its off rate is below 0.016%.", threeUnits(19_800).deadNote());
+  }
+
+  /** A bound printed as a percentage is never below the bound and keeps 2 significant digits. */
+  @Test
+  void printedBoundsRoundUp() {
+    long seed = Randoms.seed(7);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    for (int rep = 0; rep < 2000; rep++) {
+      double share = Math.pow(10, -7 * rnd.nextDouble()) * rnd.nextDouble();
+      String s = Census.percentAtMost(share);
+      java.math.BigDecimal printed = new java.math.BigDecimal(s.substring(0, s.length() - 1));
+      String why = share + " printed " + s + ", " + Randoms.describe(seed);
+      assertThat(printed.compareTo(java.math.BigDecimal.valueOf(share).movePointRight(2))).as(why).isGreaterThanOrEqualTo(0);
+      assertThat(printed.stripTrailingZeros().precision()).as(why).isLessThanOrEqualTo(2);
+      assertThat(printed.doubleValue()).as(why).isLessThan(100 * share * 1.1 + 1e-300);
+    }
+  }
+
   static String bits(CodeBlock codes, int i, int from, int to) {
     StringBuilder sb = new StringBuilder();
     for (int b = from; b < to; b++) sb.append(codes.bit(i, b) ? '1' : '0');

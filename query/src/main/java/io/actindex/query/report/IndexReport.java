@@ -126,14 +126,16 @@ public final class IndexReport {
 
   private static void neurons(HtmlPage page, Census.Result census) {
     page.section("neurons", "How often each neuron fires",
-        "The share of live examples for which each hidden unit is on. Dead units (never on) and always-on units carry no "
-            + "information about the examples; the index drops such bits from its tables and adds their constant share back.");
+        "The share of live examples for which each hidden unit is on. A unit never on (or always on) over these examples carries no "
+            + "information about them; the index drops such bits from its tables and adds their constant share back. It may still fire "
+            + "(or not) on new inputs: the note under the table bounds how often.");
     HtmlPage.Table summary = new HtmlPage.Table(null, 1, List.of("layer", "units", "mean firing rate", "dead", "always on", "dead units", "always-on units"));
     for (Census.Neurons n : census.neurons()) {
       double mean = 0;
       for (double r : n.firingRates()) mean += r;
       mean = n.firingRates().length == 0 ? 0 : mean / n.firingRates().length;
-      summary.row(n.layer(), n.firingRates().length, mean, n.dead().size(), n.alwaysOn().size(), abbreviate(n.dead()), abbreviate(n.alwaysOn()));
+      if (census.tooFewToCall()) summary.row(n.layer(), n.firingRates().length, mean, "n/a", "n/a", "", "");
+      else summary.row(n.layer(), n.firingRates().length, mean, n.dead().size(), n.alwaysOn().size(), abbreviate(n.dead()), abbreviate(n.alwaysOn()));
     }
     for (Census.Neurons n : census.neurons()) {
       double[] rates = n.firingRates();
@@ -145,6 +147,7 @@ public final class IndexReport {
           "share of examples with the unit on", edges, units, List.of(new SvgChart.Series("firing rate", null, rates))) + "</figure>\n");
     }
     page.table(summary);
+    if (census.deadNote() != null) page.note(census.deadNote());
   }
 
   private static String abbreviate(List<String> units) {
