@@ -70,6 +70,31 @@ class MainTest {
   }
 
   @Test
+  void everyHelpPageRendersWithoutPicocliWarnings() {
+    // picocli passes each description line through String.format when it renders help; a lone '%' makes it
+    // print a warning on stderr (and the raw line) instead. Write a percent sign as %% in descriptions.
+    CommandLine root = Main.commandLine(new java.io.PrintWriter(java.io.Writer.nullWriter()),
+        new java.io.PrintWriter(java.io.Writer.nullWriter()));
+    List<CommandLine> todo = new java.util.ArrayList<>(List.of(root));
+    java.io.ByteArrayOutputStream err = new java.io.ByteArrayOutputStream();
+    java.io.PrintStream saved = System.err;
+    int pages = 0;
+    System.setErr(new java.io.PrintStream(err, true, java.nio.charset.StandardCharsets.UTF_8));
+    try {
+      while (!todo.isEmpty()) {
+        CommandLine c = todo.removeLast();
+        todo.addAll(c.getSubcommands().values());
+        assertThat(c.getUsageMessage(CommandLine.Help.Ansi.OFF)).isNotBlank();
+        pages++;
+      }
+    } finally {
+      System.setErr(saved);
+    }
+    assertThat(err.toString(java.nio.charset.StandardCharsets.UTF_8)).as("picocli's warnings while rendering help").isEmpty();
+    assertThat(pages).as("help pages rendered").isGreaterThan(15);
+  }
+
+  @Test
   void topLevelHelpListsCommandsAndExitCodes() {
     Cli.Result r = Cli.run("--help");
     assertThat(r.code()).as(r.describe()).isZero();
