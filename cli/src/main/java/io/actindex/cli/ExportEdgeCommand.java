@@ -38,10 +38,8 @@ final class ExportEdgeCommand implements Callable<Integer> {
   @Override
   public Integer call() {
     EdgeExport.Result r;
-    OodCalibration.LiveCheck live;
     try (IndexReader reader = IndexReader.open(index.dir)) {
       r = EdgeExport.run(reader, new EdgeExport.Params(out, withModel, cSource));
-      live = OodCalibration.liveCheck(reader);
     }
     PrintWriter o = spec.commandLine().getOut();
     switch (format.format) {
@@ -66,7 +64,7 @@ final class ExportEdgeCommand implements Callable<Integer> {
     }
     OodCommand.caution(o, spec.commandLine().getErr(), format.format);
     o.flush();
-    OodCommand.liveNote(spec.commandLine().getErr(), live); // the bundle carries the calibration as stored
+    OodCommand.liveNote(spec.commandLine().getErr(), r.liveCheck()); // the bundle carries the calibration as stored
     return ExitCodes.OK;
   }
 }

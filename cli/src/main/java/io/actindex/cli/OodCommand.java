@@ -230,9 +230,9 @@ final class OodCommand implements Callable<Integer> {
           Calibration c = OodCalibration.load(reader);
           if (score != null) OodCalibration.scorer(reader, c, OodScorer.Kind.parse(score));
           QueryCodes q = query.load(reader);
-          boolean[] isOut = OodScore.decide(reader, q, threads.resolved());
-          live = OodCalibration.liveCheck(reader);
-          decisions(out, c, q, isOut);
+          OodScore.Decisions d = OodScore.decide(reader, q, threads.resolved());
+          live = d.liveCheck();
+          decisions(out, c, q, d.out());
         } else {
           refuseEvidenceAboveK(OodCalibration.load(reader).k());
           OodScore.Output o;
@@ -241,7 +241,7 @@ final class OodCommand implements Callable<Integer> {
                 new OodScore.Params(evidence, score == null ? null : OodScorer.Kind.parse(score), threads.resolved()), bar);
           }
           Summaries.notes(spec.commandLine().getErr(), o.notes());
-          live = OodCalibration.liveCheck(reader);
+          live = o.liveCheck();
           print(out, o);
           query.noteIfEmpty(o.results().size());
           String one = o.results().stream().anyMatch(r -> r.maxSoftmax() != null) ? SoftmaxBaseline.oneOutputNote(reader) : null;
@@ -420,7 +420,7 @@ final class OodCommand implements Callable<Integer> {
               GivenOptions.given(spec, "--candidates") ? candidates : 0,
               score == null ? null : OodScorer.Kind.parse(score), threads.resolved(), h), bar);
         }
-        live = OodCalibration.liveCheck(reader);
+        live = r.liveCheck();
       }
       Summaries.notes(spec.commandLine().getErr(), r.notes());
       List<OodEval.Scored> scores = r.scores();

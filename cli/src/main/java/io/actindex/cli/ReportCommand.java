@@ -3,7 +3,6 @@ package io.actindex.cli;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.store.IndexReader;
-import io.actindex.query.OodCalibration;
 import io.actindex.query.Report;
 import io.actindex.query.Source;
 import java.io.IOException;
@@ -63,13 +62,11 @@ final class ReportCommand implements Callable<Integer> {
     CsvMatrixReader.Header csvHeader = header.of(compareA, compareB);
     Report.Result r;
     int live;
-    OodCalibration.LiveCheck calibration = null;
     try (IndexReader reader = IndexReader.open(index.dir);
         Progress progress = Progress.onTerminal(err, "measuring nearest-other distances")) {
       r = Report.run(reader, new Report.Params(out, title, dupesRadius, compareA, compareB, compareKind, csvHeader,
           threads.resolved()), progress);
       live = reader.liveCount();
-      if (reader.attachment(OodCalibration.ATTACHMENT) != null) calibration = OodCalibration.liveCheck(reader);
     }
     index.noteIfEmpty(live);
     // the comparison's notes, worded as compare prints them
@@ -86,7 +83,7 @@ final class ReportCommand implements Callable<Integer> {
           r.bytes() / 1024.0, io.actindex.query.report.HtmlPage.count(r.facts().examples(), "example"));
     }
     o.flush();
-    if (calibration != null) OodCommand.liveNote(err, calibration); // the page's OOD section says the same
+    if (r.liveCheck() != null) OodCommand.liveNote(err, r.liveCheck()); // the page's OOD section says the same
     return ExitCodes.OK;
   }
 }

@@ -35,8 +35,12 @@ public final class EdgeExport {
   /** The bundle file, whether to include the model, and a folder for C source (null = none). */
   public record Params(Path out, boolean withModel, Path cSource) {}
 
-  /** What was written: sizes and counts. */
-  public record Result(Path out, long bytes, int uniqueCodes, long examples, double bytesPerExample, boolean withModel, List<Path> cFiles) {}
+  /**
+   * What was written: sizes and counts, and whether the index's live examples changed since the
+   * calibration the bundle carries as stored ({@link OodCalibration#liveCheck}).
+   */
+  public record Result(Path out, long bytes, int uniqueCodes, long examples, double bytesPerExample, boolean withModel, List<Path> cFiles,
+      OodCalibration.LiveCheck liveCheck) {}
 
   public static Result run(IndexReader reader, Params p) {
     Calibration cal = OodCalibration.load(reader);
@@ -47,7 +51,8 @@ public final class EdgeExport {
       if (p.cSource() != null) EdgeCSource.checkTargets(p.cSource(), p.out());
       OutputFiles.write(p.out(), bytes, "--out");
       List<Path> c = p.cSource() == null ? List.of() : EdgeCSource.write(b, p.cSource());
-      return new Result(p.out(), bytes.length, b.uniqueCodes(), b.examples(), bytes.length / (double) b.examples(), p.withModel(), c);
+      return new Result(p.out(), bytes.length, b.uniqueCodes(), b.examples(), bytes.length / (double) b.examples(), p.withModel(), c,
+          OodCalibration.liveCheck(reader));
     } catch (IOException e) {
       throw new UncheckedIOException(p.out() + ": " + e.getMessage(), e);
     }
@@ -55,7 +60,8 @@ public final class EdgeExport {
 
   /**
    * The index's live codes, deduplicated, with {@code cal} and (if asked) the stored model; refused
-   * when the index holds fewer live examples than the calibration's k (deleted since).
+   * when the index holds fewer live examples than the calibration's k (deleted since). It does not
+   * compare {@code cal} with the index's live examples ({@link OodCalibration#liveCheck} does).
    */
   public static EdgeBundle bundle(IndexReader reader, Calibration cal, boolean withModel) {
     OodCalibration.requireCode(reader, "the edge bundle");

@@ -143,7 +143,8 @@ public final class OodCalibration {
   /**
    * Compares the live set the stored calibration recorded with the index's now (refused when there
    * is no calibration or it is damaged). Never refuses a change: the user may keep the calibration
-   * knowingly; the caller shows the message.
+   * knowingly; the caller shows the message. {@link OodScore#run}, {@link OodScore#decide}, {@link
+   * OodEval#run}, {@link EdgeExport#run} and {@link Report#run} make this check and return it.
    */
   public static LiveCheck liveCheck(IndexReader reader) {
     double tpr = load(reader).tpr(); // refuses a missing or damaged calibration, the record included

@@ -82,10 +82,12 @@ public final class OodEval {
    * {@code floats}, {@code refined} and {@code softmax} are null when they do not apply. {@code
    * refined} needs training floats whose rows are the index's ids (one row per id, in build order).
    * {@code notes}: how the in and out files were read ({@link QueryCodes#notes()}, e.g. their CSV header), then
-   * the float files ({@link FloatKnnScore.Queries#notes()}, {@link FloatKnnScore#notes()}).
+   * the float files ({@link FloatKnnScore.Queries#notes()}, {@link FloatKnnScore#notes()}). {@code
+   * liveCheck}: whether the index's live examples changed since the calibration ({@link
+   * OodCalibration#liveCheck}).
    */
   public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored refined, Scored softmax,
-      List<String> warnings, List<String> notes) {
+      List<String> warnings, List<String> notes, OodCalibration.LiveCheck liveCheck) {
     /** The scores that apply, code score first. */
     public List<Scored> scores() {
       List<Scored> s = new ArrayList<>(List.of(code));
@@ -173,7 +175,8 @@ public final class OodEval {
       String one = SoftmaxBaseline.oneOutputNote(reader);
       softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)" + (one == null ? "" : "; " + one), sa, sb);
     }
-    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings), List.copyOf(notes));
+    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings), List.copyOf(notes),
+        OodCalibration.liveCheck(reader));
   }
 
   /** Hamming candidates the refined score re-ranks. */

@@ -20,6 +20,7 @@ import java.util.List;
  * try (IndexReader r = IndexReader.open(dir)) {
  *   OodScore.Output o = OodScore.run(r, Source.inputs(Path.of("new.npy"), null), RowRange.ALL, new OodScore.Params(3), Progress.NONE);
  *   for (OodScore.Result x : o.results()) if (x.out()) System.out.println(x.row() + " p=" + x.pValue());
+ *   if (o.liveCheck().message() != null) System.err.println(o.liveCheck().message()); // e.g. the index changed since calibrating
  * }
  * }</pre>
  */
@@ -57,10 +58,13 @@ public final class OodScore {
       Double maxSoftmax) {}
 
   /**
-   * The calibration in force, one result per input, which score the calibration uses, and how the
-   * input file was read ({@link QueryCodes#notes()}, e.g. its CSV header).
+   * The calibration in force, one result per input, which score the calibration uses, how the
+   * input file was read ({@link QueryCodes#notes()}, e.g. its CSV header), and whether the index's
+   * live examples changed since the calibration ({@link OodCalibration#liveCheck}: when they did, the
+   * threshold may no longer flag the share it was set for; its message says so).
    */
-  public record Output(Calibration calibration, List<Result> results, OodCalibration.Scoring scoring, List<String> notes) {
+  public record Output(Calibration calibration, List<Result> results, OodCalibration.Scoring scoring, List<String> notes,
+      OodCalibration.LiveCheck liveCheck) {
     /** The score in force by name ({@link OodCalibration.Scoring#name}), e.g. {@code code k-th distance}. */
     public String scoreName() {
       return scoring.name(calibration.statistic());
@@ -83,24 +87,30 @@ public final class OodScore {
       out[i] = new Result(q.row(i), s.value(), s.kth(), s.mean(), s.ownRegion(), s.value() > cal.threshold(),
           EdgeBundle.pValue(sorted, s.value()), List.copyOf(ev), msp == null ? null : 1 - msp[i]);
     });
-    return new Output(cal, List.of(out), OodCalibration.scoring(reader), q.notes());
+    return new Output(cal, List.of(out), OodCalibration.scoring(reader), q.notes(), OodCalibration.liveCheck(reader));
   }
 
   /**
-   * Decision only, per query code: true = out. Uses the index's unique codes, most shared first,
-   * and stops at the first {@code k} training examples within the threshold ({@link
-   * EdgeBundle#isOut}); the same answer as {@code score > threshold}.
+   * The decisions, per query code ({@code out[i]} true = out), and whether the index's live
+   * examples changed since the calibration (as {@link Output#liveCheck}).
    */
-  public static boolean[] decide(IndexReader reader, QueryCodes q) {
+  public record Decisions(boolean[] out, OodCalibration.LiveCheck liveCheck) {}
+
+  /**
+   * Decision only, per query code. Uses the index's unique codes, most shared first, and stops at
+   * the first {@code k} training examples within the threshold ({@link EdgeBundle#isOut}); the same
+   * answer as {@code score > threshold}.
+   */
+  public static Decisions decide(IndexReader reader, QueryCodes q) {
     return decide(reader, q, 1);
   }
 
   /** As {@link #decide(IndexReader, QueryCodes)}, queries on {@code threads} threads. */
-  public static boolean[] decide(IndexReader reader, QueryCodes q, int threads) {
+  public static Decisions decide(IndexReader reader, QueryCodes q, int threads) {
     OodCalibration.requireCode(reader, "--decision-only");
     EdgeBundle b = EdgeExport.bundle(reader, OodCalibration.load(reader), false);
     boolean[] out = new boolean[q.size()];
     Parallel.forEach(out.length, threads, Progress.NONE, i -> out[i] = b.isOut(q.codes().code(i)));
-    return out;
+    return new Decisions(out, OodCalibration.liveCheck(reader));
   }
 }

@@ -46,10 +46,12 @@ public final class Report {
   }
 
   /**
-   * What was written: the file, its size, the numbers behind the page, and the comparison's notes
-   * ({@link Compare.Result#notes()}: how its files were read, what it approximated; empty without one).
+   * What was written: the file, its size, the numbers behind the page, the comparison's notes
+   * ({@link Compare.Result#notes()}: how its files were read, what it approximated; empty without one),
+   * and, when the index holds an OOD calibration, whether its live examples changed since ({@link
+   * OodCalibration#liveCheck}, shown in the page's OOD section; null without a calibration).
    */
-  public record Result(Path out, long bytes, IndexReport.Facts facts, List<String> notes) {}
+  public record Result(Path out, long bytes, IndexReport.Facts facts, List<String> notes, OodCalibration.LiveCheck liveCheck) {}
 
   /** The facts of an index that the page shows. */
   public static IndexReport.Facts facts(IndexReader reader, Progress progress) {
@@ -82,8 +84,8 @@ public final class Report {
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
     HtmlPage page = new HtmlPage(title, HtmlPage.count(f.examples(), "example") + ", " + HtmlPage.count(reader.layout().bits(), "bit") + " per example.");
     IndexReport.render(page, reader, f);
-    if (reader.attachment(OodCalibration.ATTACHMENT) != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)),
-        OodCalibration.liveCheck(reader));
+    OodCalibration.LiveCheck live = reader.attachment(OodCalibration.ATTACHMENT) == null ? null : OodCalibration.liveCheck(reader);
+    if (live != null) ReportSections.ood(page, OodCalibrate.summary(OodCalibration.load(reader), OodCalibration.scoring(reader)), live);
     if (p.dupesRadius() != null)
       ReportSections.dupes(page, Dupes.run(reader, new Dupes.Params(p.dupesRadius(), null, null, false, false, 10, p.threads()), null, null),
           f.census().prefixes().stream().anyMatch(x -> x.purity() != null), java.util.Arrays.stream(f.splits()).anyMatch(java.util.Objects::nonNull));
@@ -99,7 +101,7 @@ public final class Report {
     }
     byte[] html = page.finish().getBytes(StandardCharsets.UTF_8);
     write(p.out(), html);
-    return new Result(p.out(), html.length, f, notes);
+    return new Result(p.out(), html.length, f, notes, live);
   }
 
   /** A comparison file as a source of its given kind, or of the kind the index tells ({@code --compare-kind} names the way out); null for none. */

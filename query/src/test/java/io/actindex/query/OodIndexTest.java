@@ -121,7 +121,7 @@ class OodIndexTest {
         assertThat(cal.layers()).isEqualTo(layers);
         QueryCodes q = QuerySource.load(r, Source.codes(npy(tmp.resolve("q" + rep + ".npy"), d.queries())), RowRange.ALL);
         OodScore.Output o = OodScore.run(r, Source.codes(tmp.resolve("q" + rep + ".npy")), RowRange.ALL, new OodScore.Params(3), Progress.NONE);
-        boolean[] decide = OodScore.decide(r, q);
+        boolean[] decide = OodScore.decide(r, q).out();
         EdgeBundle fromBytes = BundleFormat.read(BundleFormat.toBytes(EdgeExport.bundle(r, cal, false)), "test");
         assertThat(fromBytes.examples()).isEqualTo(live.size());
         int outs = 0;

@@ -197,7 +197,7 @@ class OodRefinedTest {
     try (IndexReader r = IndexReader.open(dir)) {
       assertThatThrownBy(() -> OodScore.run(r, Source.activations(qFile), RowRange.ALL, new OodScore.Params(2, OodScorer.Kind.REFINED), Progress.NONE))
           .isInstanceOf(BadInputException.class).hasMessageContaining("uses the code score");
-      assertThat(OodScore.decide(r, QuerySource.load(r, Source.activations(qFile), RowRange.ALL))).hasSize(20);
+      assertThat(OodScore.decide(r, QuerySource.load(r, Source.activations(qFile), RowRange.ALL)).out()).hasSize(20);
     }
     // an index without magnitudes: refined refused, naming how to get them
     Path noMag = tmp.resolve("codes-idx");

@@ -16,6 +16,8 @@ import java.lang.reflect.ParameterizedType;
 import java.lang.reflect.Type;
 import java.lang.reflect.TypeVariable;
 import java.lang.reflect.WildcardType;
+import java.nio.file.FileSystem;
+import java.nio.file.FileSystems;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayDeque;
@@ -32,7 +34,8 @@ import org.junit.jupiter.api.Test;
  * {@link IndexReader}, {@link IndexWriter} and every public class of this module, every public or
  * protected constructor, method and field of every project class met on the way (parameters,
  * results, exceptions, type arguments, supertypes, nested classes) is walked, and each outside type
- * it names is checked. Filters are the project's {@code IdSet}; Lucene and RoaringBitmap stay inside.
+ * it names is checked; so is every public class of the index module, reached or not. Filters are
+ * the project's {@code IdSet}; Lucene and RoaringBitmap stay inside.
  * (The query module does not depend on Lucene, so the walk's own test below uses RoaringBitmap.)
  */
 class PublicApiTypesTest {
@@ -42,10 +45,24 @@ class PublicApiTypesTest {
   void noReachableSignatureNamesLuceneOrRoaring() throws Exception {
     List<Class<?>> roots = new ArrayList<>(List.of(IndexReader.class, IndexWriter.class));
     roots.addAll(publicClassesOf(Nearest.class));
+    assertThat(roots).contains(IndexBuilder.class);
     Walk walk = new Walk();
     walk.from(roots);
     // the walk really goes through the store: the metadata store and the file seam are reached
     assertThat(walk.reached).contains(MetaStore.class, StoreIo.class, StoreIo.Forwarding.class);
+    assertThat(walk.leaks).as("signatures naming Lucene or RoaringBitmap types").isEmpty();
+  }
+
+  /**
+   * Every public class of the index module, reachable from the classes above or not (callable by
+   * name all the same): none has a public or protected member naming a Lucene or RoaringBitmap type.
+   */
+  @Test
+  void noPublicClassOfTheIndexModuleNamesLuceneOrRoaring() throws Exception {
+    List<Class<?>> index = publicClassesOf(IndexReader.class);
+    assertThat(index).as("public classes of the index module").contains(IndexReader.class, MetaStore.class, StoreIo.class);
+    Walk walk = new Walk();
+    walk.from(index);
     assertThat(walk.leaks).as("signatures naming Lucene or RoaringBitmap types").isEmpty();
   }
 
@@ -148,22 +165,27 @@ class PublicApiTypesTest {
     }
   }
 
-  /** The public top-level and nested classes compiled into the folder that holds {@code anchor}. */
+  /** The public top-level and nested classes compiled into the folder or jar that holds {@code anchor}. */
   private static List<Class<?>> publicClassesOf(Class<?> anchor) throws Exception {
-    Path root = Path.of(anchor.getProtectionDomain().getCodeSource().getLocation().toURI());
-    assertThat(root).as("the module's classes as a folder").isDirectory();
+    Path location = Path.of(anchor.getProtectionDomain().getCodeSource().getLocation().toURI());
     List<Class<?>> out = new ArrayList<>();
+    try (FileSystem jar = Files.isDirectory(location) ? null : FileSystems.newFileSystem(location)) {
+      list(jar == null ? location : jar.getPath("/"), anchor.getClassLoader(), out);
+    }
+    assertThat(out).as("public classes of " + location).contains(anchor);
+    return out;
+  }
+
+  private static void list(Path root, ClassLoader loader, List<Class<?>> out) throws Exception {
     try (Stream<Path> files = Files.walk(root)) {
       for (Path p : (Iterable<Path>) files::iterator) {
         String rel = root.relativize(p).toString().replace(p.getFileSystem().getSeparator(), ".");
         if (!rel.endsWith(".class") || rel.equals("module-info.class") || rel.endsWith("package-info.class")) continue;
-        Class<?> c = Class.forName(rel.substring(0, rel.length() - ".class".length()), false, anchor.getClassLoader());
+        Class<?> c = Class.forName(rel.substring(0, rel.length() - ".class".length()), false, loader);
         if (Modifier.isPublic(c.getModifiers()) && !c.isAnonymousClass() && !c.isLocalClass()) out.add(c);
       }
     } catch (IOException e) {
       throw new IOException("cannot list " + root, e);
     }
-    assertThat(out).as("public classes of " + root).contains(Nearest.class, IndexBuilder.class);
-    return out;
   }
 }

@@ -26,7 +26,6 @@ import org.apache.lucene.store.Directory;
 import org.apache.lucene.store.FSDirectory;
 import org.apache.lucene.util.Bits;
 import org.apache.lucene.util.BytesRef;
-import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Write side of the metadata store, driven by the index writer: it adds and deletes documents,
@@ -70,18 +69,44 @@ public final class MetaWriter implements Closeable {
     this.nrt = DirectoryReader.open(writer);
   }
 
-  /** Creates an empty store in {@code metaDir} (absent or empty) and commits it. */
-  public static MetaWriter create(Path metaDir) throws IOException {
-    return create(metaDir, FSDirectory.open(metaDir));
+  /**
+   * How a writer reaches the files of its store; {@link #FILES} opens the folder itself. Its one
+   * method is package-private and so is its constructor, so that no public signature names Lucene's
+   * directory: the index writer takes one from its {@code StoreIo}, and tests that stand in for the
+   * disk wrap one through this package's test sources.
+   */
+  public abstract static class Opener {
+    Opener() {}
+
+    /** The Lucene directory over {@code metaDir} (Lucene makes its own files durable through it). */
+    abstract Directory open(Path metaDir) throws IOException;
+
+    public static final Opener FILES = new Opener() {
+      @Override
+      Directory open(Path metaDir) throws IOException {
+        return FSDirectory.open(metaDir);
+      }
+    };
   }
 
-  /** As {@link #create(Path)}, through {@code dir} (the Lucene directory over {@code metaDir}). */
-  public static MetaWriter create(Path metaDir, Directory dir) throws IOException {
-    KeepPublishedPolicy policy = new KeepPublishedPolicy();
-    IndexWriterConfig cfg = config(policy).setOpenMode(IndexWriterConfig.OpenMode.CREATE);
-    MetaWriter w = new MetaWriter(metaDir, dir, policy, new IndexWriter(dir, cfg), new LinkedHashMap<>());
-    w.writer.setLiveCommitData(w.userData(w.kinds).entrySet());
-    return w;
+  /** Creates an empty store in {@code metaDir} (absent or empty) and commits it. */
+  public static MetaWriter create(Path metaDir) throws IOException {
+    return create(metaDir, Opener.FILES);
+  }
+
+  /** As {@link #create(Path)}, reaching the folder through {@code opener}. */
+  public static MetaWriter create(Path metaDir, Opener opener) throws IOException {
+    Directory dir = opener.open(metaDir);
+    try {
+      KeepPublishedPolicy policy = new KeepPublishedPolicy();
+      IndexWriterConfig cfg = config(policy).setOpenMode(IndexWriterConfig.OpenMode.CREATE);
+      MetaWriter w = new MetaWriter(metaDir, dir, policy, new IndexWriter(dir, cfg), new LinkedHashMap<>());
+      w.writer.setLiveCommitData(w.userData(w.kinds).entrySet());
+      return w;
+    } catch (IOException | RuntimeException e) {
+      dir.close();
+      throw e;
+    }
   }
 
   /**
@@ -91,11 +116,12 @@ public final class MetaWriter implements Closeable {
    * and stops at one it cannot parse (junk, a copy, a commit cut short); see {@link #removesLeftover}.
    */
   public static MetaWriter open(Path metaDir, String segmentsFile) throws IOException {
-    return open(metaDir, FSDirectory.open(metaDir), segmentsFile);
+    return open(metaDir, Opener.FILES, segmentsFile);
   }
 
-  /** As {@link #open(Path, String)}, through {@code dir} (the Lucene directory over {@code metaDir}). */
-  public static MetaWriter open(Path metaDir, Directory dir, String segmentsFile) throws IOException {
+  /** As {@link #open(Path, String)}, reaching the folder through {@code opener}. */
+  public static MetaWriter open(Path metaDir, Opener opener, String segmentsFile) throws IOException {
+    Directory dir = opener.open(metaDir);
     try {
       IndexCommit commit = MetaStore.findCommit(metaDir, dir, segmentsFile);
       for (String name : dir.listAll())
@@ -129,8 +155,8 @@ public final class MetaWriter implements Closeable {
    * Removes what a failed change left in the store: every commit but the published one ({@code
    * segmentsFile}) and every file no kept commit references. The published commit is not touched.
    */
-  public static void dropUnpublished(Path metaDir, Directory dir, String segmentsFile) throws IOException {
-    open(metaDir, dir, segmentsFile).close();
+  public static void dropUnpublished(Path metaDir, Opener opener, String segmentsFile) throws IOException {
+    open(metaDir, opener, segmentsFile).close();
   }
 
   private static IndexWriterConfig config(KeepPublishedPolicy policy) {
@@ -217,8 +243,8 @@ public final class MetaWriter implements Closeable {
   }
 
   /** Deletes the documents of {@code ids} (not yet committed). */
-  public void delete(RoaringBitmap ids) throws IOException {
-    if (!ids.isEmpty()) writer.deleteDocuments(IntPoint.newSetQuery(MetaSchema.ID, ids.toArray()));
+  public void delete(int... ids) throws IOException {
+    if (ids.length > 0) writer.deleteDocuments(IntPoint.newSetQuery(MetaSchema.ID, ids));
   }
 
   /** Rewrites segments that hold deleted documents (not yet committed). */

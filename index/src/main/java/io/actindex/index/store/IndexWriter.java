@@ -79,7 +79,7 @@ public final class IndexWriter implements AutoCloseable {
         if (Manifest.newestGeneration(dir) >= 0) throw new BadInputException("an index was created in " + dir + " meanwhile");
         Files.createDirectories(dir.resolve(META_DIR));
         io.syncDir(dir);
-        meta = MetaWriter.create(dir.resolve(META_DIR), io.lucene(dir.resolve(META_DIR)));
+        meta = MetaWriter.create(dir.resolve(META_DIR), io.meta());
         String commit = meta.commit();
         Manifest m = new Manifest(1, UUID.randomUUID(), layout, 0, 0, List.of(), null,
             properties == null ? Map.of() : properties, Map.of(), commit, Map.of(), List.of());
@@ -122,7 +122,7 @@ public final class IndexWriter implements AutoCloseable {
         Path metaDir = dir.resolve(META_DIR);
         if (!Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
         io.syncDir(dir); // the manifest read is durable before anything it does not name is deleted (a writer killed before its folder fsync)
-        meta = MetaWriter.open(metaDir, io.lucene(metaDir), m.metaCommit());
+        meta = MetaWriter.open(metaDir, io.meta(), m.metaCommit());
         IndexWriter w = new IndexWriter(dir, io, lock, meta, m, deleted);
         w.cleanUp();
         return w;
@@ -281,7 +281,7 @@ public final class IndexWriter implements AutoCloseable {
       RoaringBitmap documented = RoaringBitmap.and(fresh, manifest.documentedIds());
       String commit = manifest.metaCommit();
       if (!documented.isEmpty()) {
-        meta.delete(documented);
+        meta.delete(documented.toArray());
         commit = meta.commit();
       }
       publish(manifest.next(manifest.nextId(), manifest.nextSegmentId(), manifest.segments(), tomb,
@@ -473,7 +473,7 @@ public final class IndexWriter implements AutoCloseable {
     if (undone) { // Lucene's files of the failed change (a commit no manifest names, a half-written flush), under our lock
       try {
         Path metaDir = dir.resolve(META_DIR);
-        MetaWriter.dropUnpublished(metaDir, io.lucene(metaDir), manifest.metaCommit());
+        MetaWriter.dropUnpublished(metaDir, io.meta(), manifest.metaCommit());
       } catch (IOException | RuntimeException e) {
         cause.addSuppressed(e);
       }

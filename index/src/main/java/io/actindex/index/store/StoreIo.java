@@ -6,15 +6,14 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.nio.file.StandardCopyOption;
 import java.nio.file.StandardOpenOption;
-import org.apache.lucene.store.Directory;
-import org.apache.lucene.store.FSDirectory;
+import io.actindex.index.meta.MetaWriter;
 
 /**
  * The file operations a commit makes, in one place, so that a test can stand in for the disk and
  * forget what was never forced to it (a power loss). {@link #REAL} is the file system. A class
- * rather than an interface so that the metadata store's seam, {@link #lucene}, stays
- * package-private (no public signature names a Lucene type); outside this package, stand-ins
- * extend {@link Forwarding}.
+ * rather than an interface so that the metadata store's seam, {@link #meta}, stays
+ * package-private (tests of this package wrap Lucene's files through it); outside this package,
+ * stand-ins extend {@link Forwarding}.
  */
 public abstract class StoreIo {
   StoreIo() {}
@@ -34,8 +33,8 @@ public abstract class StoreIo {
   /** Deletes {@code file} if it exists. */
   public abstract void delete(Path file) throws IOException;
 
-  /** The Lucene directory over {@code dir} (Lucene makes its own files durable through it). */
-  abstract Directory lucene(Path dir) throws IOException;
+  /** How the metadata store's writer reaches its folder (Lucene makes its own files durable). */
+  abstract MetaWriter.Opener meta();
 
   public static final StoreIo REAL = new StoreIo() {
     @Override
@@ -67,8 +66,8 @@ public abstract class StoreIo {
     }
 
     @Override
-    Directory lucene(Path dir) throws IOException {
-      return FSDirectory.open(dir);
+    MetaWriter.Opener meta() {
+      return MetaWriter.Opener.FILES;
     }
   };
 
@@ -106,8 +105,8 @@ public abstract class StoreIo {
     }
 
     @Override
-    Directory lucene(Path dir) throws IOException {
-      return delegate.lucene(dir);
+    MetaWriter.Opener meta() {
+      return delegate.meta();
     }
   }
 }

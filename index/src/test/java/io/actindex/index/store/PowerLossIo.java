@@ -1,5 +1,7 @@
 package io.actindex.index.store;
 
+import io.actindex.index.meta.MetaOpeners;
+import io.actindex.index.meta.MetaWriter;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.nio.channels.FileChannel;
@@ -140,8 +142,11 @@ final class PowerLossIo extends StoreIo {
   }
 
   @Override
-  public Directory lucene(Path dir) throws IOException {
-    Directory real = StoreIo.REAL.lucene(dir);
+  MetaWriter.Opener meta() {
+    return MetaOpeners.wrapping(StoreIo.REAL.meta(), this::watched);
+  }
+
+  private Directory watched(Path dir, Directory real) {
     return new FilterDirectory(real) {
       @Override
       public IndexOutput createOutput(String name, IOContext context) throws IOException {

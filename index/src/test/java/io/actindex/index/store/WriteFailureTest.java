@@ -172,14 +172,14 @@ class WriteFailureTest {
       int[] outputs = {0};
       StoreIo luceneFull = new StoreIo.Forwarding(StoreIo.REAL) {
         @Override
-        public org.apache.lucene.store.Directory lucene(Path d) throws IOException {
-          return new org.apache.lucene.store.FilterDirectory(super.lucene(d)) {
+        io.actindex.index.meta.MetaWriter.Opener meta() {
+          return io.actindex.index.meta.MetaOpeners.wrapping(super.meta(), (d, opened) -> new org.apache.lucene.store.FilterDirectory(opened) {
             @Override
             public org.apache.lucene.store.IndexOutput createOutput(String name, org.apache.lucene.store.IOContext context) throws IOException {
               if (outputs[0]++ == failAt) throw io.actindex.core.NoSpace.exception();
               return super.createOutput(name, context);
             }
-          };
+          });
         }
       };
       IndexWriter w = IndexWriter.open(dir, luceneFull);
