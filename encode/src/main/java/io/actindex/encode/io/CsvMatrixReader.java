@@ -112,7 +112,7 @@ public final class CsvMatrixReader implements MatrixReader {
       pending.add(s);
       pendingLines.add(line);
     }
-    if (pending.isEmpty()) throw new BadInputException(file + ": the CSV file has a header but no rows");
+    if (pending.isEmpty()) throw new BadInputException(file + ": the CSV file has a header but no rows" + (f.length == 1 ? otherSeparator(f[0]) : ""));
     wholePairs = mode == Header.AUTO && header == null && cols == 2;
     String hint = indexColumnHint();
     if (hint != null) notes.add(hint);

@@ -149,6 +149,12 @@ class CsvHeaderTest {
     }
     assertThatThrownBy(() -> CsvMatrixReader.open(csv("word.csv", "1,two words\n"), Header.NO).read(new double[2], 1))
         .hasMessageContaining("is not a number").hasMessageNotContaining("delimiter");
+    // one line of them is one text cell, a header with no row after it: refused saying both
+    Path one = csv("one.csv", "0.1;0.2;0.3\n");
+    assertThatThrownBy(() -> CsvMatrixReader.open(one, Header.AUTO)).isInstanceOf(BadInputException.class).hasMessageContaining("one.csv")
+        .hasMessageContaining("a header but no rows").hasMessageContaining("separated by semicolons");
+    assertThatThrownBy(() -> CsvMatrixReader.open(csv("names.csv", "a;b\n"), Header.AUTO)).hasMessageContaining("a header but no rows")
+        .hasMessageNotContaining("semicolons");
   }
 
   /** np.savetxt(header=...) writes "# " before the header (its default comments, from memory of NumPy's API). */
