@@ -24,7 +24,8 @@ import java.util.Map;
  * Reads a metadata CSV (RFC 4180: a header row, comma separated, fields in double quotes may hold
  * commas, quotes written twice and line breaks) into one row map per example. Row {@code i} of the
  * CSV belongs to row {@code i} of the codes (join by row order). The key column names each
- * example (keys must be unique; without a key column the store generates {@code row-<id>}); the
+ * example (keys must be unique; without a key column the store generates {@code row-<id>}; the
+ * whitespace around a key is not part of it, {@link MetaStore#key}, also inside quotes); the
  * label and split columns become {@code label} and {@code split}; every other column keeps its
  * name and becomes a filterable field. Empty values are left out of the row map. A header of one
  * column whose name holds a semicolon or a tab is refused: the file is separated by those, and
@@ -83,11 +84,12 @@ public final class MetaCsv {
         Map<String, String> row = new LinkedHashMap<>();
         for (int c = 0; c < fields.size(); c++) if (!fields.get(c).isEmpty()) row.put(target[c], fields.get(c));
         if (keyCol >= 0) {
-          String key = fields.get(keyCol);
+          String key = MetaStore.key(fields.get(keyCol)); // spaces around a key are not part of it, quoted or not
           if (key.isEmpty()) throw new BadInputException(name + ": line " + line + ": empty key in column '" + header.get(keyCol) + "'");
           Integer first = keyRow.putIfAbsent(key, line);
           if (first != null)
             throw new BadInputException(name + ": line " + line + ": key '" + Snippet.of(key) + "' already used on line " + first);
+          row.put("key", key);
         }
         rows.add(row);
       }

@@ -184,6 +184,8 @@ public final class Where {
   }
 
   private Query equalsQuery(String field, FieldKind kind, Token v) {
+    if (field.equals(MetaSchema.KEY) && !MetaStore.key(v.text).equals(v.text)) // as written, or without the spaces around it (MetaStore.key)
+      return new TermInSetQuery(field, List.of(new BytesRef(v.text), new BytesRef(MetaStore.key(v.text))));
     if (kind != FieldKind.NUMBER) return new TermQuery(new Term(field, v.text));
     double x = number(v);
     return DoublePoint.newRangeQuery(field, low(x), high(x));
@@ -219,7 +221,10 @@ public final class Where {
       return DoublePoint.newSetQuery(field, xs.build().distinct().toArray());
     }
     LinkedHashSet<BytesRef> terms = new LinkedHashSet<>();
-    for (Token v : values) terms.add(new BytesRef(v.text));
+    for (Token v : values) {
+      terms.add(new BytesRef(v.text));
+      if (field.equals(MetaSchema.KEY)) terms.add(new BytesRef(MetaStore.key(v.text)));
+    }
     return new TermInSetQuery(field, terms);
   }
 
