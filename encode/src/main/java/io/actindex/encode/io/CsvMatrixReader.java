@@ -2,6 +2,7 @@ package io.actindex.encode.io;
 
 import io.actindex.core.BadInputException;
 import io.actindex.core.BadParameterException;
+import io.actindex.core.Names;
 import java.io.IOException;
 import java.io.InputStream;
 import java.math.BigDecimal;
@@ -97,7 +98,7 @@ public final class CsvMatrixReader implements MatrixReader {
       case AUTO -> detect(f, firstLine);
     };
     if (isHeader) {
-      List<String> names = new ArrayList<>(Arrays.stream(f).map(String::trim).toList());
+      List<String> names = new ArrayList<>(Arrays.stream(f).map(c -> Names.nfc(c.trim())).toList()); // one Unicode form for names
       // np.savetxt(header=...) writes its comment mark first ("# h0,h1,..."): it is not part of the first name
       if (names.getFirst().startsWith("#") && !first.stripLeading().startsWith("\"")) names.set(0, names.getFirst().substring(1).trim());
       header = List.copyOf(names);
