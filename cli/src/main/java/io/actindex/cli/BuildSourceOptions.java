@@ -44,7 +44,7 @@ public final class BuildSourceOptions {
   Path meta;
 
   @Option(names = "--key-column", paramLabel = "NAME",
-      description = "Metadata column with each example's unique key. Default: 'key' if the header has it, else keys row-<id>.")
+      description = "Metadata column with each example's unique key (spaces around a key are not part of it, quoted or not). Default: 'key' if the header has it, else keys row-<id>.")
   String keyColumn;
 
   @Option(names = "--label-column", paramLabel = "NAME",

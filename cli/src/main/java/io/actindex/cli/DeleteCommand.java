@@ -34,7 +34,7 @@ final class DeleteCommand implements Callable<Integer> {
   boolean skipMissing;
 
   static final class Which {
-    @Option(names = "--keys", paramLabel = "FILE", description = "A text file of keys, one per line (UTF-8; blank lines skipped). A key of no live example "
+    @Option(names = "--keys", paramLabel = "FILE", description = "A text file of keys, one per line (UTF-8; blank lines skipped; spaces around a key are not part of it). A key of no live example "
         + "refuses the whole delete (nothing changes).")
     Path keys;
 

@@ -1,5 +1,6 @@
 package io.actindex.cli;
 
+import io.actindex.core.Names;
 import io.actindex.query.Snippet;
 import java.util.ArrayList;
 import java.util.List;
@@ -26,9 +27,10 @@ public final class LayersOption {
       for (String name : value.split(",", -1)) {
         if (name.isBlank())
           throw new ParameterException(mixee.commandLine(), "--layers '" + Snippet.of(value) + "': empty layer name; give names like h1,h2");
-        if (names.contains(name.strip()))
-          throw new ParameterException(mixee.commandLine(), "--layers: layer '" + Snippet.of(name.strip()) + "' is given twice");
-        names.add(name.strip());
+        String layer = Names.nfc(name.strip()); // as the readers give layer names (an accent typed as a combining mark is the same name)
+        if (names.contains(layer))
+          throw new ParameterException(mixee.commandLine(), "--layers: layer '" + Snippet.of(layer) + "' is given twice");
+        names.add(layer);
       }
     layers = List.copyOf(names);
   }

@@ -213,6 +213,31 @@ class InputReadersEndToEndTest {
     assertThat(q.err()).contains("taken as the header");
   }
 
+  /**
+   * One column of decimals written with a decimal comma ({@code 0,342}) is refused under
+   * {@code --header auto}; with {@code --rows} reading stopped before the end of a file longer than
+   * one chunk, where alone the rule was checked, and the rows were read as two columns (exit 0).
+   */
+  @Test
+  void decimalCommaRowsAreRefusedWhenRowsStopReadingEarly() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(Randoms.seed(0xdc));
+    StringBuilder train = new StringBuilder("a,b\n");
+    for (int i = 0; i < 20; i++) train.append(rnd.nextInt(-3, 4)).append(',').append(rnd.nextInt(-3, 4)).append('\n');
+    Path idx = tmp.resolve("idx");
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--activations", csv("train.csv", train.toString()).toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    StringBuilder sb = new StringBuilder();
+    for (int i = 0; i < 9_000; i++) sb.append(rnd.nextInt(0, 2)).append(',').append(rnd.nextInt(0, 1000)).append('\n'); // past one chunk
+    Path f = csv("decimal-comma.csv", sb.toString());
+    for (String rows : new String[] {"0:3", "7", "5000:5002"})
+      for (String[] cmd : new String[][] {{"nearest", "-k", "1"}, {"region", "--radius", "1"}})
+        refused(Cli.run(cmd[0], cmd[1], cmd[2], "--index", idx.toString(), "--activations", f.toString(), "--rows", rows), "decimal-comma.csv",
+            "every row read", "decimal comma", "--header no");
+    Cli.Result no = Cli.run("nearest", "--index", idx.toString(), "--activations", f.toString(), "--rows", "0:3", "--header", "no", "--format", "json");
+    assertThat(no.code()).as(no.describe()).isZero();
+    assertThat(JsonWriterTest.STRICT.readTree(no.out()).get("results").size()).isEqualTo(3);
+  }
+
   @Test
   void badlyEncodedAndHostileFilesAreRefusedLeavingTheIndexUnchanged() throws Exception {
     Path idx = tmp.resolve("idx");

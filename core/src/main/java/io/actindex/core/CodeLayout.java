@@ -71,9 +71,10 @@ public record CodeLayout(List<Segment> segments) {
     return (bits() + 63) >>> 6;
   }
 
-  /** Index of the segment named {@code name}, or -1. */
+  /** Index of the segment named {@code name}, or -1; a name in another Unicode normal form is the same name ({@link Names}). */
   public int indexOf(String name) {
     for (int i = 0; i < segments.size(); i++) if (segments.get(i).name().equals(name)) return i;
+    for (int i = 0; i < segments.size(); i++) if (Names.same(segments.get(i).name(), name)) return i;
     return -1;
   }
 

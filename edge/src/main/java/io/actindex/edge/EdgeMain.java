@@ -4,6 +4,7 @@ import java.io.BufferedReader;
 import java.io.IOException;
 import java.io.InputStreamReader;
 import java.io.PrintStream;
+import java.math.BigDecimal;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.AccessDeniedException;
 import java.nio.file.Files;
@@ -16,9 +17,11 @@ import java.util.regex.Pattern;
  * {@code java -jar actindex-edge.jar BUNDLE [--inputs]}: scores the rows on standard input and
  * prints {@code row,score,decision,p_value} per row. Without {@code --inputs} a row is a code
  * written as its bits, {@code 0} and {@code 1} (commas and spaces ignored), bit 0 first; with it, a
- * row is the raw input, comma-separated numbers, run through the bundle's model (a first line of
- * column names, {@link #isHeader}, is skipped with a note on stderr). Exit 0 ok, 2 a bad
- * bundle, row or option (one line on stderr), 1 anything else.
+ * row is the raw input, comma-separated numbers, run through the bundle's model, read as the index's
+ * CSV reader reads a file under {@code --header auto}: blank lines skipped, a first line of column
+ * names skipped with a note on stderr ({@link #firstLine}), a first line that may be either refused,
+ * and so is a header with no row after it. Exit 0 ok, 2 a bad bundle, row or option (one line on
+ * stderr), 1 anything else.
  */
 public final class EdgeMain {
   private EdgeMain() {}
@@ -50,19 +53,30 @@ public final class EdgeMain {
       if (inputs && b.model() == null) return fail(err, escape(file, 200) + ": --inputs needs a bundle exported --with-model");
       out.println("# a calibrated heuristic, not a guarantee: rates hold only for inputs exchangeable with the calibration data");
       out.println("row,score,decision,p_value");
-      String line = in.readLine();
-      if (line != null && line.startsWith("\uFEFF")) line = line.substring(1); // a UTF-8 byte order mark, skipped as the index's CSV reader does
-      if (inputs && line != null && isHeader(line)) {
-        err.println("note: stdin line 1 taken as a header and skipped (column names, not numbers); row 0 is the next line");
-        line = in.readLine();
+      Lines lines = new Lines(in, inputs);
+      String line = lines.next(), note = null;
+      if (inputs && line != null) {
+        String where = "stdin line " + lines.number;
+        try {
+          if (firstLine(line)) {
+            String header = line;
+            line = lines.next();
+            if (line == null) return fail(err, where + " is taken as a header (column names, not numbers) and no row follows it" + otherSeparator(header));
+            note = "note: " + where + " taken as a header and skipped (column names, not numbers); row 0 is the next line";
+          }
+        } catch (IllegalArgumentException e) {
+          return fail(err, where + ": " + e.getMessage());
+        }
       }
-      for (long row = 0; line != null; row++, line = in.readLine()) {
+      for (long row = 0; line != null; row++, line = lines.next()) {
         long[] code;
         try {
           code = inputs ? b.encode(numbers(line)) : bits(line, b);
         } catch (IllegalArgumentException e) {
           return fail(err, "stdin row " + row + ": " + e.getMessage());
         }
+        if (note != null) err.println(note); // once row 0 is read: a refusal stays one line
+        note = null;
         double s = b.score(code).value();
         out.println(row + "," + s + "," + (b.isOut(code) ? "out" : "in") + "," + b.pValue(s));
       }
@@ -118,19 +132,84 @@ public final class EdgeMain {
       NOT_FINITE = Pattern.compile("[+-]?(?i:nan|inf|infinity)");
 
   /**
-   * Whether a first line of raw inputs is a header, as the index's CSV reader decides by default:
-   * every cell is text, or the cells are the column numbers 0, 1, ..., d-1 that pandas writes over
-   * unnamed columns (d at least 3: a line "0" or "0,1" is read as data, since it can be both).
+   * The first line of raw inputs, decided as the index's CSV reader decides under {@code --header
+   * auto}: true, a header, when every cell is text or the cells are the column numbers 0, 1, ...,
+   * d-1 that pandas writes over unnamed columns; false, data, when every cell is a number. Refused
+   * (IllegalArgumentException) when it can be both: {@code 0} or {@code 0,1} (column numbers, or a
+   * row of 0/1 values), or three or more evenly spaced numbers (numbered column names look like that).
+   * A line mixing text and numbers is data here, refused when read as a row. This reader takes no
+   * {@code --header}, so the way out is a line of column names before a first row of data.
    */
-  static boolean isHeader(String line) {
+  static boolean firstLine(String line) {
     String[] parts = line.split(",", -1);
-    boolean text = true, numbered = parts.length >= 3;
+    boolean text = true, number = true, numbered = true;
     for (int i = 0; i < parts.length; i++) {
       String f = parts[i].trim();
-      if (DECIMAL.matcher(f).matches() || NOT_FINITE.matcher(f).matches() || f.isEmpty()) text = false;
+      boolean isNumber = DECIMAL.matcher(f).matches() || NOT_FINITE.matcher(f).matches();
+      if (isNumber || f.isEmpty()) text = false;
+      if (!isNumber) number = false;
       if (!f.equals(Integer.toString(i))) numbered = false;
     }
-    return text || numbered;
+    String cells = String.join(", ", java.util.Arrays.stream(parts).map(String::trim).toArray(String[]::new));
+    String wayOut = "; this reader takes no --header: delete the line if it is a header, or put a line of column names before it if it is data";
+    if (numbered && parts.length < 3)
+      throw new IllegalArgumentException("holds " + quote(cells) + ", the column numbers a data-frame library writes over unnamed columns, or a row"
+          + " of data (with " + parts.length + (parts.length == 1 ? " column" : " columns") + " either is likely)" + wayOut);
+    if (text || numbered) return true;
+    if (number && evenlySpaced(parts))
+      throw new IllegalArgumentException("holds the evenly spaced numbers " + quote(cells) + ", more like column names (columns numbered from 1,"
+          + " wavelengths, time offsets) than a row of data" + wayOut);
+    return false;
+  }
+
+  /** Three or more numbers that rise or fall by one same nonzero step, compared exactly as decimals (as the index's CSV reader compares them). */
+  private static boolean evenlySpaced(String[] f) {
+    if (f.length < 3) return false;
+    BigDecimal[] v = new BigDecimal[f.length];
+    try {
+      for (int i = 0; i < f.length; i++) {
+        v[i] = new BigDecimal(f[i].trim());
+        if (Math.abs(v[i].scale()) > 64) return false; // e.g. 1e-999999999: exact differences would take gigabytes
+      }
+    } catch (NumberFormatException e) {
+      return false; // NaN or an infinity: refused as a value later
+    }
+    BigDecimal step = v[1].subtract(v[0]);
+    if (step.signum() == 0) return false;
+    for (int i = 2; i < v.length; i++) if (v[i].subtract(v[i - 1]).compareTo(step) != 0) return false;
+    return true;
+  }
+
+  private static final Pattern OTHER_SEPARATOR = Pattern.compile("[\\s;]+");
+
+  /** A hint when a cell is several numbers apart by spaces, tabs or semicolons, worded as the index's CSV reader words it. */
+  static String otherSeparator(String cell) {
+    String[] parts = OTHER_SEPARATOR.split(cell.trim());
+    if (parts.length < 2) return "";
+    for (String p : parts) if (!DECIMAL.matcher(p).matches() && !NOT_FINITE.matcher(p).matches()) return "";
+    return "; it holds numbers separated by " + (cell.indexOf(';') >= 0 ? "semicolons" : cell.indexOf('\t') >= 0 ? "tabs" : "spaces")
+        + ", but cells are separated by commas: write the rows with delimiter=','";
+  }
+
+  /** Lines of standard input: a UTF-8 byte order mark before the first skipped, blank lines skipped for raw inputs, counted from 1. */
+  private static final class Lines {
+    final BufferedReader in;
+    final boolean skipBlank;
+    long number;
+
+    Lines(BufferedReader in, boolean skipBlank) {
+      this.in = in;
+      this.skipBlank = skipBlank;
+    }
+
+    String next() throws IOException {
+      String s;
+      do {
+        s = in.readLine();
+        if (s != null && number++ == 0 && s.startsWith("\uFEFF")) s = s.substring(1); // as the index's CSV reader skips it
+      } while (s != null && skipBlank && s.isBlank());
+      return s;
+    }
   }
 
   private static double[] numbers(String line) {
@@ -139,7 +218,7 @@ public final class EdgeMain {
     for (int i = 0; i < x.length; i++) {
       String f = parts[i].trim();
       if (NOT_FINITE.matcher(f).matches()) throw new IllegalArgumentException("column " + i + ": not finite");
-      if (!DECIMAL.matcher(f).matches()) throw new IllegalArgumentException("column " + i + ": " + quote(f) + " is not a number");
+      if (!DECIMAL.matcher(f).matches()) throw new IllegalArgumentException("column " + i + ": " + quote(f) + " is not a number" + otherSeparator(f));
       x[i] = Double.parseDouble(f);
       if (!Double.isFinite(x[i])) throw new IllegalArgumentException("column " + i + ": not finite");
     }

@@ -221,7 +221,7 @@ class EdgeBundleTest {
     assertRefused(run(new String[] {}, ""), "no bundle file given; usage:");
     assertRefused(run(new String[] {file.toString(), "--input"}, ""), "option or argument '--input' not understood");
     assertRefused(run(new String[] {file.toString(), file.toString()}, ""), "option or argument");
-    assertThat(run(new String[] {"--inputs", file.toString()}, "1,2,3\n").code).isZero(); // either order
+    assertThat(run(new String[] {"--inputs", file.toString()}, "0.5,2,3\n").code).isZero(); // either order
     // a header line (pandas' column numbers, or names) is skipped with a note, and the rows after it are
     // numbered from 0: the column numbers were scored as an input row 0 (exit 0), names refused
     Run plain = run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1,2,3\n");
@@ -249,7 +249,7 @@ class EdgeBundleTest {
     assertRefused(run(new String[] {file.toString()}, "\n"), "stdin row 0: 0 bits, the bundle's codes have 70");
     assertRefused(run(new String[] {file.toString()}, "01\u0007" + ok), "stdin row 0: character 2: '\\u0007' is not 0 or 1");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2\n"), "stdin row 0: input has 2 values, the model takes 3");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,4\n"), "stdin row 0: input has 4 values, the model takes 3");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,5\n"), "stdin row 0: input has 4 values, the model takes 3");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,\n"), "stdin row 0: column 3: '' is not a number");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,x\u001b[31m,3\n"), "stdin row 0: column 1: 'x\\u001b[31m' is not a number");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,NaN,3\n"), "stdin row 0: column 1: not finite");
@@ -259,7 +259,37 @@ class EdgeBundleTest {
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3d\n"), "stdin row 0: column 2: '3d' is not a number");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "0x1p3,2,3\n"), "stdin row 0: column 0: '0x1p3' is not a number");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,1e999\n"), "stdin row 0: column 2: not finite");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3\n1.7e308,1.7e308,1.7e308\n"), "stdin row 1: layer a, unit ");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1.7e308,1.7e308,1.7e308\n"), "stdin row 1: layer a, unit ");
+  }
+
+  /**
+   * Raw inputs read as the index's CSV reader reads them under --header auto (ood score refuses the
+   * same files): a header with no row after it (a one-line semicolon-separated file is one text
+   * cell, so a header) was scored as no rows with exit 0; a first line that may be a header or data
+   * was scored as data; blank lines, which the index skips, were refused as rows.
+   */
+  @Test
+  void rawInputsAreReadAsTheIndexReadsACsvFile() throws Exception {
+    EdgeBundle b = random(13, 20, 70, EdgeBundle.Statistic.KTH, 6, true);
+    Path file = tmp.resolve("m.edge");
+    Files.write(file, BundleFormat.toBytes(b));
+    String[] in = {file.toString(), "--inputs"};
+    assertRefused(run(in, "0.1;0.2;0.3\n"), "stdin line 1 is taken as a header (column names, not numbers) and no row follows it; it holds numbers"
+        + " separated by semicolons, but cells are separated by commas");
+    assertRefused(run(in, "\n\na,b,c\n\n"), "stdin line 3 is taken as a header (column names, not numbers) and no row follows it");
+    assertRefused(run(in, "0.1;0.2;0.3\n0.4;0.5;0.6\n"), "stdin row 0: column 0: '0.4;0.5;0.6' is not a number; it holds numbers separated by semicolons");
+    assertRefused(run(in, "0.1,0.2,0.3\n1,2,3\n"), "stdin line 1: holds the evenly spaced numbers '0.1, 0.2, 0.3', more like column names");
+    assertRefused(run(in, "3,2,1\n"), "put a line of column names before it if it is data");
+    assertRefused(run(in, "0,1\n"), "stdin line 1: holds '0, 1', the column numbers a data-frame library writes over unnamed columns, or a row of data");
+    assertRefused(run(in, "0\n"), "(with 1 column either is likely)");
+    Run plain = run(in, "0.5,2,3\n1,2,3\n");
+    assertThat(plain.code).as(plain.err).isZero();
+    for (String text : List.of("\n0.5,2,3\n \n1,2,3\n\n", "a,b,c\n\n0.5,2,3\n1,2,3\n", "\uFEFF\n0,1,2\n0.5,2,3\n\t\n1,2,3\n", "x,y,z\n0.5,2,3\n1,2,3\n")) {
+      Run r = run(in, text);
+      assertThat(r.code).as(text + ": " + r.err).isZero();
+      assertThat(r.out).as(text).isEqualTo(plain.out);
+    }
+    assertRefused(run(new String[] {file.toString()}, "0".repeat(70) + "\n\n"), "stdin row 1: 0 bits"); // codes: a blank line stays a refused row
   }
 
   /**

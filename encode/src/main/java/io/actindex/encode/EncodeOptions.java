@@ -1,5 +1,6 @@
 package io.actindex.encode;
 
+import io.actindex.core.Names;
 import java.util.Collections;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -10,7 +11,7 @@ import java.util.Map;
  *
  * @param rule the binarization rule
  * @param threshold {@code t} for {@link BinarizeRule#THRESHOLD} (ignored otherwise)
- * @param layers which layers to encode, in order; null = all. For an {@code .npz} file the member
+ * @param layers which layers to encode, in order; null = all (names in Unicode NFC, {@link Names}, as every name here). For an {@code .npz} file the member
  *     names; for a model the hidden layer names (kept in model order); for a single {@code .npy}
  *     or CSV file one name, the segment name (default {@code "act"})
  * @param medians per-layer, per-neuron medians for {@link BinarizeRule#MEDIAN}; null = compute
@@ -28,9 +29,13 @@ public record EncodeOptions(BinarizeRule rule, double threshold, List<String> la
   public EncodeOptions {
     if (rule == null) throw new IllegalArgumentException("binarization rule is null");
     if (!Double.isFinite(threshold)) throw new IllegalArgumentException("threshold must be finite, got " + threshold);
-    layers = layers == null ? null : List.copyOf(layers);
-    medians = medians == null ? null : Collections.unmodifiableMap(new LinkedHashMap<>(medians));
-    layerOrder = layerOrder == null ? null : List.copyOf(layerOrder);
+    layers = layers == null ? null : layers.stream().map(Names::nfc).toList(); // names in one Unicode form, as the readers give them
+    if (medians != null) {
+      Map<String, double[]> m = new LinkedHashMap<>();
+      medians.forEach((layer, v) -> m.put(Names.nfc(layer), v));
+      medians = Collections.unmodifiableMap(m);
+    }
+    layerOrder = layerOrder == null ? null : layerOrder.stream().map(Names::nfc).toList();
   }
 
   public EncodeOptions(BinarizeRule rule, double threshold, List<String> layers, Map<String, double[]> medians) {

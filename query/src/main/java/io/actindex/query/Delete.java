@@ -28,8 +28,6 @@ import org.roaringbitmap.RoaringBitmap;
 public final class Delete {
   private Delete() {}
 
-  private static final String DID_YOU_MEAN = "did you mean";
-
   /** Longest line of a keys file (bytes); longer lines are refused. */
   static final int MAX_KEY_BYTES = 64 * 1024;
 
@@ -73,9 +71,7 @@ public final class Delete {
       ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile(), notLive) : Where.select(r.meta(), p.where()).toArray();
     }
     if (!notLive.isEmpty() && !p.skipMissing()) {
-      // name a key with a "did you mean" first: a likely slip that the user can fix
-      String shown = notLive.stream().filter(k -> k.contains(DID_YOU_MEAN)).findFirst().orElse(notLive.getFirst());
-      throw new BadInputException("keys file " + p.keysFile() + " " + shown + " is not a live example of the index "
+      throw new BadInputException("keys file " + p.keysFile() + " " + notLive.getFirst() + " is not a live example of the index "
           + "(never added, or deleted already)" + (notLive.size() > 1 ? ", and " + (notLive.size() - 1) + " more key(s) are not" : "")
           + "; nothing deleted (--skip-missing deletes the others and names these)");
     }
@@ -90,9 +86,8 @@ public final class Delete {
 
   /**
    * The ids of the keys listed in {@code file} that name live examples, ascending, each once; each
-   * other key goes to {@code notLive} as {@code line N: 'KEY'}, followed by {@code (did you mean 'K'?
-   * ...)} when the key without its leading and trailing whitespace is the live key K (keys are never
-   * trimmed).
+   * other key goes to {@code notLive} as {@code line N: 'KEY'}. A line is matched as a key of the
+   * metadata CSV is read, without the whitespace around it ({@link MetaStore#idOfKey}).
    */
   static int[] byKeys(MetaStore meta, Path file, List<String> notLive) {
     byte[] bytes;
@@ -119,15 +114,8 @@ public final class Delete {
       if (key.length() > MAX_KEY_BYTES)
         throw new BadInputException("keys file " + file + " line " + (i + 1) + ": longer than " + MAX_KEY_BYTES + " characters");
       int id = meta.idOfKey(key);
-      if (id >= 0) {
-        ids.add(id);
-        continue;
-      }
-      // keys may hold spaces, so none is trimmed; but a live key that differs only by the spaces around it is named
-      String trimmed = key.strip();
-      boolean near = !trimmed.equals(key) && !trimmed.isEmpty() && meta.idOfKey(trimmed) >= 0;
-      notLive.add("line " + (i + 1) + ": '" + Snippet.of(key) + "'"
-          + (near ? " (" + DID_YOU_MEAN + " '" + Snippet.of(trimmed) + "'? keys are matched exactly, spaces included)" : ""));
+      if (id >= 0) ids.add(id);
+      else notLive.add("line " + (i + 1) + ": '" + Snippet.of(key) + "'");
     }
     return ids.toArray();
   }

@@ -1,6 +1,8 @@
 package io.actindex.query;
 
 import io.actindex.core.IdSet;
+import io.actindex.core.Names;
+import java.text.Normalizer;
 import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.index.meta.MetaStore;
 import java.math.BigDecimal;
@@ -20,6 +22,11 @@ import java.util.function.UnaryOperator;
  * stay as written. Two labels write the same number when both are decimals ({@code [+-]digits[.digits][e[+-]digits]})
  * of equal value: {@code 3}, {@code 3.0}, {@code 3.00}, {@code 03}, {@code +3}; in the index only
  * plain spellings (no exponent) are looked for.
+ *
+ * <p>Likewise labels that are one text in two Unicode forms ({@code café} with a precomposed
+ * {@code é}, NFC, and with {@code e} + a combining accent, NFD): they print alike but are two
+ * labels. Labels are not normalised (they are data, kept as written, unlike names: see {@link
+ * Names}); the note says so.
  */
 final class LabelSpellings {
   private LabelSpellings() {}
@@ -61,8 +68,13 @@ final class LabelSpellings {
    * when it matches.
    */
   static String inIndex(MetaStore meta, String label) {
+    if (!meta.fields().containsKey("label")) return null;
     String n = number(label);
-    if (n == null || !meta.fields().containsKey("label")) return null;
+    if (n == null) { // the label's other Unicode forms: two exact look-ups, none for plain ASCII
+      for (String form : List.of(Names.nfc(label), Normalizer.normalize(label, Normalizer.Form.NFD)))
+        if (!form.equals(label) && !meta.selectEqual("label", form).isEmpty()) return form;
+      return null;
+    }
     IdSet ids = meta.selectMatching("label", spellings(n)).andNot(meta.selectEqual("label", label));
     int[] first = new int[1];
     if (ids.next(0, first) == 0) return null;
@@ -78,24 +90,29 @@ final class LabelSpellings {
   static String note(String file, List<Map<String, String>> rows, UnaryOperator<String> inIndex) {
     Set<String> labels = new LinkedHashSet<>(); // each distinct label once, in file order (a build has a handful for a million rows)
     for (Map<String, String> row : rows) labels.add(row.get("label"));
-    Map<String, String> seen = new HashMap<>(); // number -> its first spelling in the file
+    Map<String, String> seen = new HashMap<>(); // the number, or the text in NFC -> its first spelling in the file
     int looked = 0;
     for (String label : labels) {
+      if (label == null) continue;
       String n = number(label);
-      if (n == null) continue;
-      String first = seen.putIfAbsent(n, label);
-      if (first != null) return message(file, label, "'" + first + "' earlier in the file");
+      boolean ascii = n == null && label.chars().allMatch(c -> c < 128);
+      if (ascii) continue; // neither a number nor text with another Unicode form
+      String first = seen.putIfAbsent(n != null ? n : "text:" + Names.nfc(label), label);
+      if (first != null) return message(file, label, "'" + first + "' earlier in the file", n != null);
       if (inIndex != null && looked++ < MAX_LOOKUPS) {
         String other = inIndex.apply(label);
-        if (other != null) return message(file, label, "'" + other + "' in the index");
+        if (other != null) return message(file, label, "'" + other + "' in the index", n != null);
       }
     }
     return null;
   }
 
-  private static String message(String file, String label, String other) {
-    return file + ": note: label '" + label + "' and " + other + " are the same number written two ways, and labels are compared as"
-        + " text, so they count as two labels (label votes, purity and label conflicts); pandas writes whole numbers as 3.0 in a"
-        + " column with a missing value. If they are the same class, write them the same way";
+  private static String message(String file, String label, String other, boolean number) {
+    String why = number ? "are the same number written two ways" : "are the same text in two Unicode forms (one writes an accent as a"
+        + " separate combining mark, so they print alike)";
+    return file + ": note: label '" + label + "' and " + other + " " + why + ", and labels are compared as"
+        + " text, so they count as two labels (label votes, purity and label conflicts); " + (number ? "pandas writes whole numbers as 3.0 in a"
+        + " column with a missing value" : "Python's unicodedata.normalize('NFC', s) writes every label one way") + ". If they are the same class,"
+        + " write them the same way";
   }
 }

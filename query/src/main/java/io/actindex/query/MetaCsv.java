@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.Names;
 import io.actindex.index.meta.MetaStore;
 import java.io.BufferedInputStream;
 import java.io.ByteArrayOutputStream;
@@ -24,9 +25,10 @@ import java.util.Map;
  * Reads a metadata CSV (RFC 4180: a header row, comma separated, fields in double quotes may hold
  * commas, quotes written twice and line breaks) into one row map per example. Row {@code i} of the
  * CSV belongs to row {@code i} of the codes (join by row order). The key column names each
- * example (keys must be unique; without a key column the store generates {@code row-<id>}); the
+ * example (keys must be unique; without a key column the store generates {@code row-<id>}; the
+ * whitespace around a key is not part of it, {@link MetaStore#key}, also inside quotes); the
  * label and split columns become {@code label} and {@code split}; every other column keeps its
- * name and becomes a filterable field. Empty values are left out of the row map. A header of one
+ * name (in Unicode NFC, {@link Names}) and becomes a filterable field. Empty values are left out of the row map. A header of one
  * column whose name holds a semicolon or a tab is refused: the file is separated by those, and
  * read by commas it would become one field named after the whole header line.
  *
@@ -83,11 +85,12 @@ public final class MetaCsv {
         Map<String, String> row = new LinkedHashMap<>();
         for (int c = 0; c < fields.size(); c++) if (!fields.get(c).isEmpty()) row.put(target[c], fields.get(c));
         if (keyCol >= 0) {
-          String key = fields.get(keyCol);
+          String key = MetaStore.key(fields.get(keyCol)); // spaces around a key are not part of it, quoted or not
           if (key.isEmpty()) throw new BadInputException(name + ": line " + line + ": empty key in column '" + header.get(keyCol) + "'");
           Integer first = keyRow.putIfAbsent(key, line);
           if (first != null)
             throw new BadInputException(name + ": line " + line + ": key '" + Snippet.of(key) + "' already used on line " + first);
+          row.put("key", key);
         }
         rows.add(row);
       }
@@ -100,7 +103,7 @@ public final class MetaCsv {
   /** Field name for each CSV column. */
   private static String[] targets(List<String> header, Options o, String name) {
     String[] target = new String[header.size()];
-    for (int c = 0; c < target.length; c++) target[c] = header.get(c).trim();
+    for (int c = 0; c < target.length; c++) target[c] = Names.nfc(header.get(c).trim()); // one Unicode form for names
     assign(target, header, o.keyColumn(), "key", name);
     assign(target, header, o.labelColumn(), "label", name);
     assign(target, header, o.splitColumn(), "split", name);
@@ -121,7 +124,7 @@ public final class MetaCsv {
 
   private static void assign(String[] target, List<String> header, String column, String role, String name) {
     if (column == null) return; // default: a column literally named like the role plays it
-    int c = header.stream().map(String::trim).toList().indexOf(column);
+    int c = header.stream().map(h -> Names.nfc(h.trim())).toList().indexOf(Names.nfc(column));
     if (c < 0)
       throw new BadInputException(name + ": no column '" + Snippet.of(column) + "' for the " + role + "; the header has "
           + Snippet.of(String.join(", ", header), 200));

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.Names;
 import io.actindex.encode.io.CsvMatrixReader;
 import io.actindex.encode.io.Json;
 import java.util.ArrayList;
@@ -68,7 +69,8 @@ final class SourceColumns {
     if (expected == null || given == null || expected.size() != given.size() || expected.equals(given)) return;
     if (numbered(expected) && !numbers(given) || numbered(given) && !numbers(expected)) return;
     int i = 0;
-    while (expected.get(i).equals(given.get(i))) i++;
+    while (i < given.size() && Names.same(expected.get(i), given.get(i))) i++; // a header stored before names were NFC
+    if (i == given.size()) return;
     String at = file + ": column " + i + " (0-based) is " + BadInputException.quote(given.get(i)) + " where " + expectedFrom + " has "
         + BadInputException.quote(expected.get(i));
     if (sameNames(expected, given))

@@ -41,6 +41,16 @@ class LabelSpellingsTest {
     assertThat(LabelSpellings.note("m.csv", rows("1", "2", "1", "cat", "Cat", "01x"), null)).isNull();
   }
 
+  /** "café" precomposed (NFC) and with a combining accent (NFD) print alike but are two labels: noted, not rewritten. */
+  @Test
+  void oneTextInTwoUnicodeFormsIsNoted() {
+    String nfc = "caf\u00e9", nfd = "cafe\u0301";
+    String note = LabelSpellings.note("m.csv", rows("dog", nfc, "1", nfd), null);
+    assertThat(note).startsWith("m.csv: note: label '" + nfd + "' and '" + nfc + "' earlier in the file are the same text in two Unicode forms")
+        .contains("unicodedata.normalize('NFC', s)");
+    assertThat(LabelSpellings.note("m.csv", rows(nfc, "cafe", "Caf\u00e9", nfc), null)).isNull();
+  }
+
   @Test
   void aBatchWritingTheIndexsNumbersAnotherWayIsNoted() {
     Set<String> index = Set.of("0", "1", "2");
@@ -132,6 +142,17 @@ class LabelSpellingsTest {
       assertThat(LabelSpellings.inIndex(r.meta(), "12.0")).isNull(); // deleted
       assertThat(LabelSpellings.inIndex(r.meta(), "10")).isNull(); // exponent forms are not searched for in the index
       assertThat(LabelSpellings.inIndex(r.meta(), "cat")).isNull();
+    }
+    Path other = tmp.resolve("unicode");
+    List<String> text = List.of("cafe\u0301", "dog", "na\u00efve");
+    try (IndexWriter w = IndexWriter.create(other, SyntheticCodes.uniform(1, 16, 1).layout(), Map.of())) {
+      w.add(SyntheticCodes.uniform(text.size(), 16, 1), rows(text.toArray(String[]::new)));
+    }
+    try (IndexReader r = IndexReader.open(other)) {
+      assertThat(LabelSpellings.inIndex(r.meta(), "caf\u00e9")).isEqualTo("cafe\u0301");
+      assertThat(LabelSpellings.inIndex(r.meta(), "nai\u0308ve")).isEqualTo("na\u00efve");
+      assertThat(LabelSpellings.inIndex(r.meta(), "cafe\u0301")).isNull(); // its own form
+      assertThat(LabelSpellings.inIndex(r.meta(), "dog")).isNull();
     }
   }
 }

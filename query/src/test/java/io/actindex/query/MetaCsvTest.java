@@ -38,6 +38,14 @@ class MetaCsvTest {
     assertEquals(Map.of("key", "c", "split", "val", "note", "two\nlines", "score", "3"), rows.get(2));
   }
 
+  /** Column names come out in Unicode NFC, and a role column named in the other form is found (see encode's UnicodeNamesTest). */
+  @Test
+  void columnNamesAreNfcAndRoleColumnsMatchInEitherForm() throws IOException {
+    String nfd = "cafe\u0301", nfc = "caf\u00e9";
+    Path f = write("key," + nfd + ",cla\u0301se\nk1,1,a\n");
+    assertEquals(Map.of("key", "k1", nfc, "1", "label", "a"), MetaCsv.read(new MetaCsv.Options(f, null, "cl\u00e1se", null)).getFirst());
+  }
+
   @Test
   void defaultRoleColumnsByName() throws IOException {
     Path f = write("key,label,x\nk1,l1,1\nk2,l2,2\n");

@@ -2,6 +2,7 @@ package io.actindex.encode.io;
 
 import io.actindex.core.BadInputException;
 import io.actindex.core.BadParameterException;
+import io.actindex.core.Names;
 import java.io.IOException;
 import java.io.InputStream;
 import java.math.BigDecimal;
@@ -39,7 +40,8 @@ import java.util.regex.Pattern;
  * <p>Cells may be quoted as RFC 4180 says ({@code "h1,u0"} is one cell, {@code ""} inside quotes
  * one quote; a quoted number is a number), each on one line. Blank lines are skipped. A file
  * without a header whose every row is two whole numbers, the second unsigned, is refused at its
- * end under {@code AUTO} ({@link #decimalComma}: one column written with a decimal comma reads that way). A row with a different number of fields, an empty field, text, NaN
+ * end under {@code AUTO} ({@link #decimalComma}: one column written with a decimal comma reads that way),
+ * and so is a reader closed before the end (a row limit) whose every row read so far is. A row with a different number of fields, an empty field, text, NaN
  * or an infinity is refused naming the line (1-based, as editors show it), the row and the column
  * (0-based). Lines are limited to {@link #MAX_LINE_BYTES}. Not thread-safe.
  */
@@ -70,6 +72,7 @@ public final class CsvMatrixReader implements MatrixReader {
   private boolean wholePairs;
   private String firstRowText; // for the message of decimalComma
   private long firstRowLine;
+  private boolean ended; // read met the end of the file
 
   private CsvMatrixReader(Path file, InputStream in, Header mode) throws IOException {
     this.file = file;
@@ -95,7 +98,7 @@ public final class CsvMatrixReader implements MatrixReader {
       case AUTO -> detect(f, firstLine);
     };
     if (isHeader) {
-      List<String> names = new ArrayList<>(Arrays.stream(f).map(String::trim).toList());
+      List<String> names = new ArrayList<>(Arrays.stream(f).map(c -> Names.nfc(c.trim())).toList()); // one Unicode form for names
       // np.savetxt(header=...) writes its comment mark first ("# h0,h1,..."): it is not part of the first name
       if (names.getFirst().startsWith("#") && !first.stripLeading().startsWith("\"")) names.set(0, names.getFirst().substring(1).trim());
       header = List.copyOf(names);
@@ -110,7 +113,7 @@ public final class CsvMatrixReader implements MatrixReader {
       pending.add(s);
       pendingLines.add(line);
     }
-    if (pending.isEmpty()) throw new BadInputException(file + ": the CSV file has a header but no rows");
+    if (pending.isEmpty()) throw new BadInputException(file + ": the CSV file has a header but no rows" + (f.length == 1 ? otherSeparator(f[0]) : ""));
     wholePairs = mode == Header.AUTO && header == null && cols == 2;
     String hint = indexColumnHint();
     if (hint != null) notes.add(hint);
@@ -376,6 +379,7 @@ public final class CsvMatrixReader implements MatrixReader {
         at = line;
       }
       if (s == null) {
+        ended = true;
         if (wholePairs && row > 0) throw decimalComma();
         break;
       }
@@ -383,7 +387,12 @@ public final class CsvMatrixReader implements MatrixReader {
         firstRowText = s;
         firstRowLine = at;
       }
-      parseRow(s, at, out, n * cols);
+      try {
+        parseRow(s, at, out, n * cols);
+      } catch (BadInputException e) {
+        wholePairs = false; // that refusal is the one to report, not a guess about the rows before
+        throw e;
+      }
       n++;
       row++;
     }
@@ -474,11 +483,13 @@ public final class CsvMatrixReader implements MatrixReader {
    * ({@code 0,342}), reads the same as one column of decimals written with a decimal comma (a
    * spreadsheet saved in a European language writes 0.342 as {@code 0,342}); under {@code AUTO}
    * it is refused at the end of the file rather than read as two columns (unless a cell is quoted:
-   * a writer that quotes uses the comma as separator). {@code --header no}
+   * a writer that quotes uses the comma as separator), or, when reading stops before the end (a row
+   * limit such as {@code --rows}), at {@link #close} over the rows read. {@code --header no}
    * (the user says the lines are comma-separated data) or a header line naming two columns reads it.
    */
   private BadInputException decimalComma() {
-    return new BadInputException(file + ": every row is two whole numbers, the second without a sign (line " + firstRowLine + ": "
+    String rows = ended ? "every row" : "every row read (the first " + row + "; reading stopped before the end of the file)";
+    return new BadInputException(file + ": " + rows + " is two whole numbers, the second without a sign (line " + firstRowLine + ": "
         + BadInputException.quote(firstRowText.trim()) + "), which is also how one column of decimals written with a decimal comma"
         + " reads (0,342 for 0.342, as spreadsheets in European languages save it); refused rather than guessed: write the numbers"
         + " with a decimal point (pandas: to_csv(decimal='.')), or, if these are two columns of whole numbers, pass --header no");
@@ -499,8 +510,13 @@ public final class CsvMatrixReader implements MatrixReader {
     return file + ": line " + at + " (row " + row + "), column " + col + " (0-based)";
   }
 
+  /** Closes the file; refuses, as at its end, rows read so far that are all decimal-comma lookalikes (see {@link #decimalComma}). */
   @Override
   public void close() throws IOException {
     in.close();
+    if (wholePairs && row > 0 && !ended) {
+      wholePairs = false; // once
+      throw decimalComma();
+    }
   }
 }

@@ -1,11 +1,14 @@
 package io.actindex.encode.io;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.Names;
 import java.io.IOException;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.Collections;
+import java.util.HashMap;
 import java.util.List;
+import java.util.Map;
 import java.util.zip.ZipEntry;
 import java.util.zip.ZipException;
 import java.util.zip.ZipFile;
@@ -14,17 +17,20 @@ import java.util.zip.ZipFile;
  * A NumPy {@code .npz} archive: a zip file whose members {@code NAME.npy} are arrays (written by
  * {@code numpy.savez}, stored, or {@code numpy.savez_compressed}, deflated). Each member streams
  * through an {@link NpyReader}; several members can be open at once. Thread-safe for opening
- * members; each reader is not.
+ * members; each reader is not. Array names are in Unicode NFC ({@link Names}): a member saved
+ * under {@code cafe} + U+0301 is the array {@code café}, and two members that differ only so are refused.
  */
 public final class NpzReader implements AutoCloseable {
   private final Path file;
   private final ZipFile zip;
   private final List<String> names;
+  private final Map<String, String> members; // array name -> member name as written
 
-  private NpzReader(Path file, ZipFile zip, List<String> names) {
+  private NpzReader(Path file, ZipFile zip, List<String> names, Map<String, String> members) {
     this.file = file;
     this.zip = zip;
     this.names = names;
+    this.members = members;
   }
 
   public static NpzReader open(Path file) throws IOException {
@@ -35,6 +41,7 @@ public final class NpzReader implements AutoCloseable {
       throw new BadInputException(file + ": not a NumPy .npz archive (not a readable zip file: " + e.getMessage() + ")");
     }
     List<String> names = new ArrayList<>();
+    Map<String, String> members = new HashMap<>();
     var en = zip.entries();
     while (en.hasMoreElements()) {
       ZipEntry e = en.nextElement();
@@ -43,10 +50,12 @@ public final class NpzReader implements AutoCloseable {
         zip.close();
         throw new BadInputException(file + ": member " + BadInputException.quote(e.getName()) + " is not a .npy array");
       }
-      String name = e.getName().substring(0, e.getName().length() - 4);
-      if (names.contains(name)) {
+      String name = Names.nfc(e.getName().substring(0, e.getName().length() - 4));
+      String before = members.putIfAbsent(name, e.getName());
+      if (before != null) {
         zip.close();
-        throw new BadInputException(file + ": the archive holds two members named " + BadInputException.quote(e.getName()) + "; which one is meant is unclear");
+        throw new BadInputException(file + ": the archive holds two members named " + BadInputException.quote(e.getName())
+            + (before.equals(e.getName()) ? "" : " (written in two Unicode forms, one with a combining accent)") + "; which one is meant is unclear");
       }
       names.add(name);
     }
@@ -55,7 +64,7 @@ public final class NpzReader implements AutoCloseable {
       zip.close();
       throw new BadInputException(file + ": the .npz archive holds no arrays");
     }
-    return new NpzReader(file, zip, Collections.unmodifiableList(names));
+    return new NpzReader(file, zip, Collections.unmodifiableList(names), members);
   }
 
   /** Array names (member names without {@code .npy}) in archive order. */
@@ -65,7 +74,8 @@ public final class NpzReader implements AutoCloseable {
 
   /** Opens the array {@code name}; BadInputException if absent. */
   public NpyReader member(String name) throws IOException {
-    ZipEntry e = zip.getEntry(name + ".npy");
+    String member = members.get(Names.nfc(name));
+    ZipEntry e = member == null ? null : zip.getEntry(member);
     if (e == null) throw new BadInputException(file + ": no array named " + BadInputException.quote(name) + " (the archive holds " + names + ")");
     String label = file + "[" + BadInputException.plain(name) + "]";
     try {

@@ -1,6 +1,7 @@
 package io.actindex.encode.io;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.Names;
 import java.io.IOException;
 import java.nio.ByteBuffer;
 import java.nio.ByteOrder;
@@ -24,7 +25,8 @@ import java.util.Map;
  *
  * <p>Every entry is checked on open: known dtype, non-negative shape, offsets inside the data
  * region and a byte length equal to the shape's. Tensors of F32, F16, BF16 and F64 can be read as
- * doubles; other dtypes are listed but refused on read. Not thread-safe.
+ * doubles; other dtypes are listed but refused on read. Tensor names are in Unicode NFC ({@link
+ * Names}; two that differ only in their Unicode form are refused). Not thread-safe.
  */
 public final class SafetensorsReader implements AutoCloseable {
   /** One tensor's header entry. {@code begin} is the absolute file offset of its data. */
@@ -145,7 +147,7 @@ public final class SafetensorsReader implements AutoCloseable {
       Map<String, Entry> entries = new LinkedHashMap<>();
       Map<String, String> meta = new LinkedHashMap<>();
       for (var e : top.entrySet()) {
-        String name = (String) e.getKey();
+        String name = Names.nfc((String) e.getKey());
         String q = BadInputException.quote(name);
         if (name.equals("__metadata__")) {
           if (!(e.getValue() instanceof Map<?, ?> m)) throw new BadInputException(file + ": field __metadata__ is not an object");
@@ -156,7 +158,8 @@ public final class SafetensorsReader implements AutoCloseable {
           }
           continue;
         }
-        entries.put(name, entry(file, name, e.getValue(), dataStart, dataSize));
+        if (entries.put(name, entry(file, name, e.getValue(), dataStart, dataSize)) != null)
+          throw new BadInputException(file + ": two tensors named " + q + " (written in two Unicode forms, one with a combining accent)");
       }
       checkCoverage(file, entries.values(), dataStart, dataSize);
       return new SafetensorsReader(file, ch, Collections.unmodifiableMap(entries), Collections.unmodifiableMap(meta));
@@ -259,7 +262,7 @@ public final class SafetensorsReader implements AutoCloseable {
 
   /** The entry {@code name}; BadInputException naming the file if absent. */
   public Entry entry(String name) {
-    Entry e = entries.get(name);
+    Entry e = entries.get(Names.nfc(name));
     if (e == null) throw new BadInputException(file + ": no tensor named " + BadInputException.quote(name));
     return e;
   }

@@ -108,6 +108,34 @@ class CsvHeaderTest {
       }
   }
 
+  /**
+   * A row limit ({@code --rows}) stops reading before the end of the file, where the decimal-comma
+   * rule was checked alone: the golden file read 1 to 5 of its 6 rows at a time came back as two
+   * columns. Closing the reader early now applies the rule to the rows read; rows read up to one
+   * that breaks the pattern, {@code --header no}, or a refusal of another kind close quietly.
+   */
+  @Test
+  void aReaderClosedBeforeTheEndRefusesDecimalCommaRowsReadSoFar() throws IOException {
+    Path f = io.actindex.encode.Golden.path("formats/decimal_comma.csv");
+    for (int stop = 1; stop < 6; stop++) {
+      CsvMatrixReader r = CsvMatrixReader.open(f, Header.AUTO);
+      assertThat(r.read(new double[stop * 2], stop)).isEqualTo(stop);
+      assertThatThrownBy(r::close).as("stopped after " + stop).isInstanceOf(BadInputException.class).hasMessageContaining(f.toString())
+          .hasMessageContaining("every row read (the first " + stop + ";").hasMessageContaining("line 1: '0,342'")
+          .hasMessageContaining("decimal comma").hasMessageContaining("--header no");
+      r.close(); // refused once
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
+      assertThat(r.read(new double[4], 2)).isEqualTo(2);
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("signed.csv", "3,4\n1,-2\n5,6\n7,8\n"), Header.AUTO)) {
+      assertThat(r.read(new double[4], 2)).as("a signed second number among the rows read: two columns").isEqualTo(2);
+    }
+    CsvMatrixReader wide = CsvMatrixReader.open(csv("wide.csv", "3,4\n1,2,3\n5,6\n"), Header.AUTO);
+    assertThatThrownBy(() -> wide.read(new double[6], 3)).hasMessageContaining("too many fields");
+    wide.close(); // the refusal above is the one reported
+  }
+
   /** np.savetxt writes numbers apart by a space unless told otherwise (its default delimiter, from memory of NumPy's API). */
   @Test
   void numbersApartBySpacesTabsOrSemicolonsAreRefusedSayingSo() throws IOException {
@@ -121,6 +149,12 @@ class CsvHeaderTest {
     }
     assertThatThrownBy(() -> CsvMatrixReader.open(csv("word.csv", "1,two words\n"), Header.NO).read(new double[2], 1))
         .hasMessageContaining("is not a number").hasMessageNotContaining("delimiter");
+    // one line of them is one text cell, a header with no row after it: refused saying both
+    Path one = csv("one.csv", "0.1;0.2;0.3\n");
+    assertThatThrownBy(() -> CsvMatrixReader.open(one, Header.AUTO)).isInstanceOf(BadInputException.class).hasMessageContaining("one.csv")
+        .hasMessageContaining("a header but no rows").hasMessageContaining("separated by semicolons");
+    assertThatThrownBy(() -> CsvMatrixReader.open(csv("names.csv", "a;b\n"), Header.AUTO)).hasMessageContaining("a header but no rows")
+        .hasMessageNotContaining("semicolons");
   }
 
   /** np.savetxt(header=...) writes "# " before the header (its default comments, from memory of NumPy's API). */

@@ -391,8 +391,27 @@ public final class MetaStore implements Closeable {
     }
   }
 
-  /** The id of the live code with this key, or -1. */
+  /**
+   * A key as a user's file writes it, without the whitespace around it ({@link String#strip}): many
+   * CSV writers put a space after each comma, so {@code k, x} means key {@code k}. The one rule for
+   * every key read from a file or typed: build/add's metadata CSV (quoted or not), delete's keys
+   * file, {@code --where} on {@code key} and {@link #idOfKey}.
+   */
+  public static String key(String written) {
+    return written.strip();
+  }
+
+  /**
+   * The id of the live code with this key, or -1: the key as given, else without the whitespace
+   * around it ({@link #key}; a key stored with such whitespace, by a library caller or an index
+   * built before the rule, is still found as written).
+   */
   public int idOfKey(String key) {
+    int id = exactIdOfKey(key);
+    return id >= 0 || key(key).equals(key) ? id : exactIdOfKey(key(key));
+  }
+
+  private int exactIdOfKey(String key) {
     try {
       TopDocs top = searcher.search(new TermQuery(new Term(MetaSchema.KEY, key)), 1);
       if (top.scoreDocs.length == 0) {

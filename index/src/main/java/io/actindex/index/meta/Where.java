@@ -2,6 +2,7 @@ package io.actindex.index.meta;
 
 import io.actindex.core.BadInputException;
 import io.actindex.core.IdSet;
+import io.actindex.core.Names;
 import io.actindex.index.meta.MetaStore.FieldKind;
 import java.util.ArrayList;
 import java.util.LinkedHashSet;
@@ -147,9 +148,10 @@ public final class Where {
     Token field = next();
     if (field.type != T.WORD || isKeyword(field.text))
       throw error(field, "expected a field name, found " + field.describe());
-    FieldKind kind = fields.get(field.text);
-    if (kind == null)
+    String name = fieldName(field.text);
+    if (name == null)
       throw error(field, "unknown field '" + snippet(field.text) + "'; known fields: " + String.join(", ", new TreeSet<>(fields.keySet())));
+    FieldKind kind = fields.get(name);
     boolean negated = false;
     if (peekWord("not")) {
       pos++;
@@ -160,30 +162,39 @@ public final class Where {
     if (peekWord("in")) {
       Token in = next();
       expect(T.LPAREN, "'(' after 'in'");
-      Query q = inQuery(field.text, kind);
+      Query q = inQuery(name, kind);
       return negated ? negate(q, in) : q;
     }
     Token op = next();
     if (op.type != T.OP) throw error(op, "expected = != < <= > >= or 'in' after '" + field.text + "', found " + op.describe());
     Token v = value();
     return switch (op.text) {
-      case "=" -> equalsQuery(field.text, kind, v);
-      case "!=" -> negate(equalsQuery(field.text, kind, v), op);
+      case "=" -> equalsQuery(name, kind, v);
+      case "!=" -> negate(equalsQuery(name, kind, v), op);
       default -> {
         if (kind != FieldKind.NUMBER)
-          throw error(op, "'" + op.text + "' needs a number field; '" + field.text + "' holds text (use = != in)");
+          throw error(op, "'" + op.text + "' needs a number field; '" + name + "' holds text (use = != in)");
         double x = number(v);
         yield switch (op.text) {
-          case "<" -> DoublePoint.newRangeQuery(field.text, Double.NEGATIVE_INFINITY, Math.nextDown(low(x)));
-          case "<=" -> DoublePoint.newRangeQuery(field.text, Double.NEGATIVE_INFINITY, high(x));
-          case ">" -> DoublePoint.newRangeQuery(field.text, Math.nextUp(high(x)), Double.POSITIVE_INFINITY);
-          default -> DoublePoint.newRangeQuery(field.text, low(x), Double.POSITIVE_INFINITY);
+          case "<" -> DoublePoint.newRangeQuery(name, Double.NEGATIVE_INFINITY, Math.nextDown(low(x)));
+          case "<=" -> DoublePoint.newRangeQuery(name, Double.NEGATIVE_INFINITY, high(x));
+          case ">" -> DoublePoint.newRangeQuery(name, Math.nextUp(high(x)), Double.POSITIVE_INFINITY);
+          default -> DoublePoint.newRangeQuery(name, low(x), Double.POSITIVE_INFINITY);
         };
       }
     };
   }
 
+  /** The stored field {@code typed} names: itself, else the one that is the same name in another Unicode form ({@link Names}); null if none. */
+  private String fieldName(String typed) {
+    if (fields.containsKey(typed)) return typed;
+    for (String f : fields.keySet()) if (Names.same(f, typed)) return f;
+    return null;
+  }
+
   private Query equalsQuery(String field, FieldKind kind, Token v) {
+    if (field.equals(MetaSchema.KEY) && !MetaStore.key(v.text).equals(v.text)) // as written, or without the spaces around it (MetaStore.key)
+      return new TermInSetQuery(field, List.of(new BytesRef(v.text), new BytesRef(MetaStore.key(v.text))));
     if (kind != FieldKind.NUMBER) return new TermQuery(new Term(field, v.text));
     double x = number(v);
     return DoublePoint.newRangeQuery(field, low(x), high(x));
@@ -219,7 +230,10 @@ public final class Where {
       return DoublePoint.newSetQuery(field, xs.build().distinct().toArray());
     }
     LinkedHashSet<BytesRef> terms = new LinkedHashSet<>();
-    for (Token v : values) terms.add(new BytesRef(v.text));
+    for (Token v : values) {
+      terms.add(new BytesRef(v.text));
+      if (field.equals(MetaSchema.KEY)) terms.add(new BytesRef(MetaStore.key(v.text)));
+    }
     return new TermInSetQuery(field, terms);
   }
 
