@@ -126,7 +126,7 @@ final class OodCommand implements Callable<Integer> {
         description = "Share of in-distribution inputs to accept (the threshold's target true-positive rate). Default: ${DEFAULT-VALUE}.")
     double tpr;
 
-    @Option(names = "--check-overlap", description = "Refuse calibration rows that look like the index's own training rows (at least half of the rows have the code of the index example with the same id or, with activations and kept magnitudes, are copies of indexed examples in any order; without activations to compare, at least 99% of them land on an indexed code, far more often than rows the index does not hold would). Without it, such rows get a warning.")
+    @Option(names = "--check-overlap", description = "Refuse calibration rows that look like the index's own training rows (at least half of the rows have the code of the index example with the same id or, with activations and kept magnitudes, are copies of indexed examples in any order; without activations to compare, at least 99%% of them land on an indexed code, far more often than rows the index does not hold would). Without it, such rows get a warning.")
     boolean checkOverlap;
 
     @Option(names = "--score", paramLabel = "S",
