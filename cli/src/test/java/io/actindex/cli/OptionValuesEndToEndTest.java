@@ -171,6 +171,21 @@ class OptionValuesEndToEndTest {
     assertThat(r.err()).doesNotContain("--b-where");
   }
 
+  /** "a:4,b:4," built (a trailing comma was dropped) while ",a:4,b:4" and --layers "0," are refused. */
+  @Test
+  void aCodeLayoutWithATrailingCommaIsRefused() {
+    boolean[][] bits = new boolean[6][UNITS];
+    for (int r = 0; r < bits.length; r++) bits[r][r % UNITS] = true;
+    String codes = Files2.bits(tmp.resolve("codes.npy"), bits).toString();
+    List<String> layouts = List.of("a:4,b:4,", ",a:4,b:4", "a:4,,b:4");
+    for (int n = 0; n < layouts.size(); n++) {
+      String layout = layouts.get(n), out = tmp.resolve("bad-" + n).toString();
+      refused(args("build", "--out", out, "--codes", codes, "--code-layout", layout), "--code-layout", "layout segment '' is not name:bits");
+      assertThat(Path.of(out)).doesNotExist();
+    }
+    ok("build", "--out", tmp.resolve("good").toString(), "--codes", codes, "--code-layout", "a:4,b:4");
+  }
+
   private JsonNode json(Cli.Result r) {
     try {
       return JsonWriterTest.STRICT.readTree(r.out());
