@@ -186,6 +186,19 @@ class OptionValuesEndToEndTest {
     ok("build", "--out", tmp.resolve("good").toString(), "--codes", codes, "--code-layout", "a:4,b:4");
   }
 
+  /** delete's --where given twice read "expected only one match but got (--keys=FILE | --where=EXPR)={...}" (a picocli group). */
+  @Test
+  void deleteSaysWhichOptionIsRepeatedOrMissing() throws Exception {
+    String keys = Files2.text(tmp.resolve("keys.txt"), List.of("k1")).toString();
+    refused(args("delete", "--index", i, "--where", "split = test", "--where", "split = test"),
+        "option '--where' (EXPR) should be specified only once");
+    refused(args("delete", "--index", i, "--keys", keys, "--keys", keys), "option '--keys' (FILE) should be specified only once");
+    refused(args("delete", "--index", i, "--keys", keys, "--where", "split = test"), "--keys FILE or --where EXPR (one of them)");
+    refused(args("delete", "--index", i), "--keys FILE or --where EXPR (one of them)");
+    JsonNode d = json(ok("delete", "--index", i, "--keys", keys, "--format", "json"));
+    assertThat(d.get("deleted").asInt()).isEqualTo(1);
+  }
+
   private JsonNode json(Cli.Result r) {
     try {
       return JsonWriterTest.STRICT.readTree(r.out());
