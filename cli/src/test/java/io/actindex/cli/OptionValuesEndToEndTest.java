@@ -127,6 +127,26 @@ class OptionValuesEndToEndTest {
     assertThat(json(ok(line.toArray(String[]::new))).toString()).contains("sinkhorn");
   }
 
+  /**
+   * With P permutations no permutation p-value is below 1/(P+1) (Phipson and Smyth's (b+1)/(P+1)):
+   * --permutations 1 answered "no difference detected" for any samples, without a word. A note
+   * names the least P that can reach the level each of the two tests is held to (alpha / 2).
+   */
+  @Test
+  void compareNotesTooFewPermutationsToReject() {
+    String[][] cases = {{"0.05", "38", "39"}, {"0.01", "198", "199"}, {"0.05", "1", "39"}};
+    for (String[] c : cases) {
+      String alpha = c[0], few = c[1], enough = c[2];
+      JsonNode r = json(ok("compare", "--kind", "activations", "--a", a, "--b", acts2.toString(), "--alpha", alpha,
+          "--permutations", few, "--format", "json"));
+      assertThat(r.get("notes").toString()).as(alpha + " " + few).contains("with " + few + " permutations (--permutations) no MMD p-value")
+          .contains("give at least " + enough);
+      r = json(ok("compare", "--kind", "activations", "--a", a, "--b", acts2.toString(), "--alpha", alpha,
+          "--permutations", enough, "--format", "json"));
+      assertThat(r.get("notes").toString()).as(alpha + " " + enough).doesNotContain("--permutations");
+    }
+  }
+
   /** "--largest and --examples must be 0 or more" named neither the one given nor its value. */
   @Test
   void censusNamesWhichCountIsNegative() {

@@ -317,6 +317,11 @@ public final class Compare {
     else absent = "no float activations for " + (fa == null && fb == null ? "A and B" : fa == null ? "A" : "B")
         + " (give --a-floats/--b-floats, or activations files)";
 
+    double floor = 1.0 / (o.permutations() + 1); // the smallest permutation p-value, (0 + 1) / (P + 1)
+    if (floor > o.alpha() / 2)
+      notes.add(String.format(Locale.ROOT, "with %d permutations (--permutations) no MMD p-value falls below %s, above the %s each test"
+          + " is held to: the verdict cannot find a difference; give at least %d", o.permutations(), fmt(floor), fmt(o.alpha() / 2),
+          (int) Math.ceil(2 / o.alpha() - 1 - 1e-9)));
     String verdict = verdict(mmd.get(1), mmd.get(0), moved, neurons, o.alpha());
     return new Result(describeA, describeB, m, n, layout, mmd, linear, w2, floats, absent, List.copyOf(layers),
         List.copyOf(neurons), moved, "Benjamini-Hochberg (1995) false discovery rate over all " + layout.bits() + " neurons",
