@@ -219,6 +219,18 @@ class OptionValuesEndToEndTest {
     assertThat(d.get("deleted").asInt()).isEqualTo(1);
   }
 
+  /** report --title "" wrote a page with an empty heading and an empty tab title. */
+  @Test
+  void reportRefusesABlankTitle() throws Exception {
+    Path page = tmp.resolve("r.html");
+    for (String title : List.of("", "  ")) {
+      refused(args("report", "--index", i, "--out", page.toString(), "--title", title), "--title is empty");
+      assertThat(page).doesNotExist();
+    }
+    ok("report", "--index", i, "--out", page.toString(), "--title", "Week 48");
+    assertThat(Files.readString(page)).contains("<h1>Week 48</h1>");
+  }
+
   private JsonNode json(Cli.Result r) {
     try {
       return JsonWriterTest.STRICT.readTree(r.out());
