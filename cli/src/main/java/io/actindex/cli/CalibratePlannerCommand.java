@@ -49,6 +49,7 @@ final class CalibratePlannerCommand implements Callable<Integer> {
     // would leave the user waiting for a file that never comes
     if (dryRun) GivenOptions.refuse(spec, "names the file to write; --dry-run writes none (leave out one of the two)", "--out");
     Path file = out != null ? out : PlannerCalibration.file();
+    if (!dryRun) PlannerCalibration.checkTarget(file);
     PlannerCalibration.Result r = PlannerCalibration.calibrate(runs);
     if (!dryRun) {
       try {

@@ -42,8 +42,8 @@ final class CensusCommand implements Callable<Integer> {
 
   @Override
   public Integer call() {
-    if (largest < 0 || examples < 0)
-      throw new ParameterException(spec.commandLine(), "--largest and --examples must be 0 or more");
+    if (largest < 0) throw new ParameterException(spec.commandLine(), "--largest must be 0 or more, got " + largest);
+    if (examples < 0) throw new ParameterException(spec.commandLine(), "--examples must be 0 or more, got " + examples);
     if (format.format == Format.csv)
       GivenOptions.refuse(spec, "is about the listed regions; --format csv has one line per neuron and lists no regions (use table or json)",
           "--largest", "--examples");

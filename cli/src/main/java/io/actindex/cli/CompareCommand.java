@@ -106,7 +106,7 @@ final class CompareCommand implements Callable<Integer> {
   @Option(names = "--max-iter", paramLabel = "N", defaultValue = "1000", description = "Sinkhorn iterations at most. Default: ${DEFAULT-VALUE}.")
   int maxIter;
 
-  @Option(names = "--tol", paramLabel = "T", defaultValue = "1e-5", description = "Sinkhorn stops when the marginals are within T (L1). Default: ${DEFAULT-VALUE}.")
+  @Option(names = "--tol", paramLabel = "T", defaultValue = "1e-5", description = "Sinkhorn stops when the marginals are within T (L1; above 0, below 2). Default: ${DEFAULT-VALUE}.")
   double tol;
 
   @Mixin FormatOption format;

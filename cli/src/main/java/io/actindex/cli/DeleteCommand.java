@@ -7,11 +7,11 @@ import java.io.PrintWriter;
 import java.nio.file.Path;
 import java.util.List;
 import java.util.concurrent.Callable;
-import picocli.CommandLine.ArgGroup;
 import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
+import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.Spec;
 
 /** {@code actindex delete}: tombstones for examples named by key or by a metadata filter. */
@@ -25,28 +25,27 @@ final class DeleteCommand implements Callable<Integer> {
   @Mixin IndexOption index;
   @Mixin FormatOption format;
 
-  @ArgGroup(exclusive = true, multiplicity = "1")
-  Which which;
-
   @Option(names = "--skip-missing", description = "With --keys: keys that name no live example (deleted already, or never added) are "
       + "skipped and named on stderr, and the others deleted, instead of refusing the whole delete (for rerunning a list, or one that "
       + "grows).")
   boolean skipMissing;
 
-  static final class Which {
-    @Option(names = "--keys", paramLabel = "FILE", description = "A text file of keys, one per line (UTF-8; blank lines skipped; spaces around a key are not part of it). A key of no live example "
-        + "refuses the whole delete (nothing changes).")
-    Path keys;
+  // Two plain options, not an exclusive picocli group: a group answered --where given twice with
+  // "expected only one match but got (--keys=FILE | --where=EXPR)={...} and ...".
+  @Option(names = "--keys", paramLabel = "FILE", description = "A text file of keys, one per line (UTF-8; blank lines skipped; spaces around a key are not part of it). A key of no live example "
+      + "refuses the whole delete (nothing changes).")
+  Path keys;
 
-    @Option(names = "--where", paramLabel = "EXPR", description = "A metadata filter, as in 'nearest --where'.")
-    String where;
-  }
+  @Option(names = "--where", paramLabel = "EXPR", description = "A metadata filter, as in 'nearest --where'.")
+  String where;
 
   @Override
   public Integer call() {
-    EmptyFilter.refuse(spec, "--where", which.where, "delete needs a filter such as --where \"split = test\" (it never deletes every example)");
-    if (which.where != null) GivenOptions.refuse(spec, "is about --keys; --where names live examples only", "--skip-missing");
-    Delete.Result r = Delete.run(new Delete.Params(index.dir, which.keys, which.where, skipMissing));
+    if ((keys == null) == (where == null))
+      throw new ParameterException(spec.commandLine(), "give the examples to delete as --keys FILE or --where EXPR (one of them)");
+    EmptyFilter.refuse(spec, "--where", where, "delete needs a filter such as --where \"split = test\" (it never deletes every example)");
+    if (where != null) GivenOptions.refuse(spec, "is about --keys; --where names live examples only", "--skip-missing");
+    Delete.Result r = Delete.run(new Delete.Params(index.dir, keys, where, skipMissing));
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
       case json -> {
@@ -65,7 +64,7 @@ final class DeleteCommand implements Callable<Integer> {
       case table -> out.println("deleted " + r.deleted() + (r.deleted() == 1 ? " example" : " examples") + " from " + index.dir + "; " + r.live() + " live");
     }
     out.flush();
-    if (which.where != null) index.noteIfEmpty(r.live() + r.deleted(), "--where", which.where, r.matched()); // live before the delete
+    if (where != null) index.noteIfEmpty(r.live() + r.deleted(), "--where", where, r.matched()); // live before the delete
     if (!r.notLive().isEmpty()) noteNotLive(r.notLive());
     Summaries.warnings(spec.commandLine().getErr(), r.warnings());
     return ExitCodes.OK;
@@ -78,7 +77,7 @@ final class DeleteCommand implements Callable<Integer> {
     int n = notLive.size();
     String shown = String.join(", ", notLive.subList(0, Math.min(n, NOT_LIVE_SHOWN)));
     PrintWriter err = spec.commandLine().getErr();
-    err.println("note: keys file " + which.keys + ": " + n + (n == 1 ? " key names" : " keys name")
+    err.println("note: keys file " + keys + ": " + n + (n == 1 ? " key names" : " keys name")
         + " no live example (deleted already, or never added) and " + (n == 1 ? "was" : "were") + " skipped: " + shown
         + (n > NOT_LIVE_SHOWN ? " and " + (n - NOT_LIVE_SHOWN) + " more" : ""));
     err.flush();

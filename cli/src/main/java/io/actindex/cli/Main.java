@@ -76,10 +76,12 @@ public final class Main implements Callable<Integer> {
 
   /**
    * A path option's value; an empty one (an unset shell variable) is refused, since {@code Path.of("")}
-   * is the current folder: {@code build --out ""} built an index there.
+   * is the current folder: {@code build --out ""} built an index there. A blank one too: {@code
+   * build --out " "} built an index in a folder named by a space.
    */
   private static Path path(String value) {
     if (value.isEmpty()) throw new CommandLine.TypeConversionException("the path is empty");
+    if (value.isBlank()) throw new CommandLine.TypeConversionException("the path is blank (only spaces)");
     return Path.of(value);
   }
 

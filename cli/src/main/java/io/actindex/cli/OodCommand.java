@@ -146,7 +146,7 @@ final class OodCommand implements Callable<Integer> {
       query.check();
       Statistic st;
       try {
-        st = Statistic.ofLabel(statistic);
+        st = Statistic.ofLabel(statistic.toLowerCase(java.util.Locale.ROOT)); // as case-blind as every other choice
       } catch (IllegalArgumentException e) {
         throw new ParameterException(spec.commandLine(), "--statistic: " + e.getMessage());
       }

@@ -30,7 +30,7 @@ final class RegionCommand implements Callable<Integer> {
   @Mixin QuerySourceOptions query;
 
   @Option(names = "--radius", paramLabel = "R", defaultValue = "2",
-      description = "Also list populated regions within R flipped neurons (inclusive). Default: ${DEFAULT-VALUE}.")
+      description = "Also list populated regions within R flipped neurons (inclusive; at most the code length of the chosen layers). Default: ${DEFAULT-VALUE}.")
   int radius;
 
   @Option(names = "--where", paramLabel = "EXPR", description = "Only examples whose metadata match, e.g. \"split = train\" (syntax and limits: docs/where.md).")

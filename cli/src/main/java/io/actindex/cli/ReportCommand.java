@@ -14,6 +14,7 @@ import picocli.CommandLine.Command;
 import picocli.CommandLine.Mixin;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
+import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.Spec;
 
 /** {@code actindex report}: a self-contained HTML page about one index. */
@@ -31,7 +32,7 @@ final class ReportCommand implements Callable<Integer> {
   @Option(names = "--out", paramLabel = "FILE.html", required = true, description = "The page to write (replaced if it exists).")
   Path out;
 
-  @Option(names = "--title", paramLabel = "TEXT", description = "Heading of the page. Default: the index folder's name.")
+  @Option(names = "--title", paramLabel = "TEXT", description = "Heading of the page (not blank). Default: the index folder's name.")
   String title;
 
   @Option(names = "--dupes-radius", paramLabel = "R",
@@ -59,6 +60,8 @@ final class ReportCommand implements Callable<Integer> {
   public Integer call() throws IOException {
     PrintWriter err = spec.commandLine().getErr();
     if (compareA == null) GivenOptions.refuse(spec, "goes with --compare-a and --compare-b", "--compare-kind");
+    if (title != null && title.isBlank()) // an unset shell variable: the page had an empty heading and tab title
+      throw new ParameterException(spec.commandLine(), "--title is empty; leave it out for the index folder's name");
     CsvMatrixReader.Header csvHeader = header.of(compareA, compareB);
     Report.Result r;
     int live;

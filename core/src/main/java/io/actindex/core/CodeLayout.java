@@ -44,10 +44,13 @@ public record CodeLayout(List<Segment> segments) {
     return new CodeLayout(List.of(new Segment(name, bits)));
   }
 
-  /** Parses {@code "name:bits,name:bits"}, the form {@link #toString()} writes. */
+  /**
+   * Parses {@code "name:bits,name:bits"}, the form {@link #toString()} writes. An empty segment is
+   * refused wherever it stands ({@code split}'s default dropped a trailing one: {@code "a:40,"}).
+   */
   public static CodeLayout parse(String spec) {
     List<Segment> segs = new ArrayList<>();
-    for (String part : spec.split(",")) {
+    for (String part : spec.split(",", -1)) {
       int colon = part.lastIndexOf(':');
       if (colon < 0) throw new IllegalArgumentException("layout segment '" + part + "' is not name:bits");
       try {

@@ -126,7 +126,8 @@ public final class Compare {
         throw new BadParameterException("sinkhornRows", " must be from 2 to " + MAX_PAIR_ROWS + " (an A x B distance matrix in one array), got " + sinkhornRows);
       if (!(reg > 0 && Double.isFinite(reg))) throw new BadParameterException("reg", " must be a positive number, got " + reg);
       if (maxIter < 1) throw new BadParameterException("maxIter", " must be at least 1, got " + maxIter);
-      if (!(tol > 0)) throw new BadParameterException("tol", " must be positive, got " + tol);
+      if (!(tol > 0 && tol < 2)) // two marginals of mass 1 are never more than 2 apart in L1: a larger tol stops at once
+        throw new BadParameterException("tol", " must be above 0 and below 2 (the L1 distance between the marginals is at most 2), got " + tol);
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
     }
 
@@ -316,6 +317,11 @@ public final class Compare {
     else absent = "no float activations for " + (fa == null && fb == null ? "A and B" : fa == null ? "A" : "B")
         + " (give --a-floats/--b-floats, or activations files)";
 
+    double floor = 1.0 / (o.permutations() + 1); // the smallest permutation p-value, (0 + 1) / (P + 1)
+    if (floor > o.alpha() / 2)
+      notes.add(String.format(Locale.ROOT, "with %d permutations (--permutations) no MMD p-value falls below %s, above the %s each test"
+          + " is held to: the verdict cannot find a difference; give at least %d", o.permutations(), fmt(floor), fmt(o.alpha() / 2),
+          (int) Math.ceil(2 / o.alpha() - 1 - 1e-9)));
     String verdict = verdict(mmd.get(1), mmd.get(0), moved, neurons, o.alpha());
     return new Result(describeA, describeB, m, n, layout, mmd, linear, w2, floats, absent, List.copyOf(layers),
         List.copyOf(neurons), moved, "Benjamini-Hochberg (1995) false discovery rate over all " + layout.bits() + " neurons",
@@ -390,7 +396,12 @@ public final class Compare {
   private static QuerySource.Encoded load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
     if (s.source() != null)
       return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes, false);
-    IdSet ids = Where.select(reader.meta(), s.where());
+    IdSet ids;
+    try {
+      ids = Where.select(reader.meta(), s.where());
+    } catch (BadParameterException e) { // "where: at position ..." would not say which sample's filter
+      throw new BadInputException("--" + which.toLowerCase(Locale.ROOT) + "-" + e.parameter() + e.rest(), e);
+    }
     if (reader.liveCount() == 0)
       throw new BadInputException(s.brief() + ": sample " + which + " is empty: the index " + reader.dir() + " holds no live examples");
     if (ids.count() < 2) // before the other sample is read

@@ -299,9 +299,7 @@ public final class Dupes {
     List<CodeLayout.Segment> segs = new ArrayList<>();
     for (int s : order) segs.add(layout.segments().get(s));
     CodeLayout target = p.layers().isEmpty() ? layout : new CodeLayout(segs);
-    if (p.radius() > target.bits())
-      throw new BadParameterException("radius", " " + p.radius() + " is larger than the code length, " + target.bits() + " bits"
-          + (p.layers().isEmpty() ? "" : " on layers " + String.join(",", p.layers())));
+    Layers.checkRadius(layout, p.layers(), p.radius());
     IdSet filter = Where.select(reader.meta(), p.where());
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);

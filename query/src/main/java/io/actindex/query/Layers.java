@@ -43,6 +43,18 @@ public final class Layers {
     return names == null || names.isEmpty() ? null : layout.mask(select(layout, names));
   }
 
+  /**
+   * Refuses a Hamming radius above the width of the chosen layers (all when none are named): no two
+   * codes differ in more bits, so such a radius only says the caller mistook the width.
+   */
+  public static void checkRadius(CodeLayout layout, List<String> names, int radius) {
+    int bits = 0;
+    for (int s : select(layout, names)) bits += layout.segments().get(s).bits();
+    if (radius > bits)
+      throw new BadParameterException("radius", " " + radius + " is larger than the code length, " + bits + " bits"
+          + (names == null || names.isEmpty() ? "" : " on layers " + String.join(",", names)));
+  }
+
   /** The layer names of a layout, comma separated. */
   public static String names(CodeLayout layout) {
     List<String> out = new ArrayList<>();

@@ -35,7 +35,7 @@ public final class OodScorer {
     CODE, REFINED;
 
     public static Kind parse(String s) {
-      for (Kind x : values()) if (x.label().equals(s)) return x;
+      for (Kind x : values()) if (x.label().equalsIgnoreCase(s)) return x;
       throw new BadParameterException("score", ": unknown score '" + (s.length() > 20 ? s.substring(0, 20) + "..." : s) + "' (code or refined)");
     }
 

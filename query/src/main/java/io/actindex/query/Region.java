@@ -55,6 +55,7 @@ public final class Region {
 
   /** Regions for every query. */
   public static List<Result> run(IndexReader reader, QueryCodes queries, Params p, Progress progress) {
+    Layers.checkRadius(reader.layout(), p.layers(), p.radius());
     IdSet filter = Where.select(reader.meta(), p.where());
     LabelIndex labels = LabelIndex.of(reader.meta(), reader.maxId());
     Progress prog = progress == null ? Progress.NONE : progress;

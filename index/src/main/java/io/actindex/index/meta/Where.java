@@ -1,6 +1,7 @@
 package io.actindex.index.meta;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.IdSet;
 import io.actindex.core.Names;
 import io.actindex.index.meta.MetaStore.FieldKind;
@@ -69,7 +70,7 @@ public final class Where {
 
   /** Parses {@code expr} against the given field kinds (the store's own query; callers use {@link #select}). */
   static Query parse(String expr, Map<String, FieldKind> fields) {
-    if (expr == null || expr.isBlank()) throw new BadInputException("where: the expression is empty; give no filter (null) to use every example");
+    if (expr == null || expr.isBlank()) throw new BadParameterException("where", ": the expression is empty; give no filter (null) to use every example");
     Where w = new Where(expr, fields);
     Query q = w.or();
     if (w.peek().type != T.END) throw w.error(w.peek(), "expected 'and', 'or' or the end, found " + w.peek().describe());
@@ -309,8 +310,8 @@ public final class Where {
     return BadInputException.snippet(text, max);
   }
 
-  private BadInputException error(Token t, String message) {
-    return new BadInputException("where: at position " + (t.at + 1) + ": " + message + " in: " + snippet(text, 100));
+  private BadParameterException error(Token t, String message) {
+    return new BadParameterException("where", ": at position " + (t.at + 1) + ": " + message + " in: " + snippet(text, 100));
   }
 
   private List<Token> tokenize(String s) {
@@ -327,14 +328,14 @@ public final class Where {
         int start = i++;
         if (i < n && s.charAt(i) == '=') i++;
         String op = s.substring(start, i);
-        if (op.equals("!")) throw new BadInputException("where: at position " + (start + 1) + ": '!' must be followed by '=' in: " + snippet(s, 100));
+        if (op.equals("!")) throw new BadParameterException("where", ": at position " + (start + 1) + ": '!' must be followed by '=' in: " + snippet(s, 100));
         if (op.equals("==")) op = "=";
         out.add(new Token(T.OP, op, start));
       } else if (c == '\'' || c == '"') {
         int start = i++;
         StringBuilder b = new StringBuilder();
         while (true) {
-          if (i >= n) throw new BadInputException("where: at position " + (start + 1) + ": quote never closed in: " + snippet(s, 100));
+          if (i >= n) throw new BadParameterException("where", ": at position " + (start + 1) + ": quote never closed in: " + snippet(s, 100));
           char d = s.charAt(i++);
           if (d == c) break;
           if (d == '\\' && i < n) d = s.charAt(i++);

@@ -78,6 +78,15 @@ public final class PlannerCalibration {
     return new Result(List.copyOf(costs), runs);
   }
 
+  /**
+   * Refuses a costs file that is a folder or lies in an index folder. {@link #write} checks it too;
+   * a caller asks first so that a refusal does not come after the measuring.
+   */
+  public static void checkTarget(Path file) {
+    if (Files.isDirectory(file)) throw new BadInputException(file + ": is a folder; the costs go in a file");
+    OutputFiles.checkOutsideIndex(file, "the costs");
+  }
+
   /** Writes {@code r} to {@code file} whole or not at all (a temporary file moved into place). */
   public static void write(Result r, Path file) throws IOException {
     StringBuilder s = new StringBuilder();
@@ -88,7 +97,7 @@ public final class PlannerCalibration {
     s.append(FORMAT).append('\n');
     for (Cost c : r.costs()) s.append(c.name()).append('=').append(String.format(Locale.ROOT, "%.6g", c.ns())).append('\n');
     Path abs = file.toAbsolutePath();
-    OutputFiles.checkOutsideIndex(file, "the costs");
+    checkTarget(file);
     Files.createDirectories(abs.getParent());
     Path tmp = Files.createTempFile(abs.getParent(), abs.getFileName().toString(), ".tmp");
     try {
