@@ -122,7 +122,7 @@ class CsvHeaderTest {
       assertThat(r.read(new double[stop * 2], stop)).isEqualTo(stop);
       assertThatThrownBy(r::close).as("stopped after " + stop).isInstanceOf(BadInputException.class).hasMessageContaining(f.toString())
           .hasMessageContaining("every row read (the first " + stop + ";").hasMessageContaining("line 1: '0,342'")
-          .hasMessageContaining("decimal comma").hasMessageContaining("--header no");
+          .hasMessageContaining("decimal comma").hasMessageContaining("`header` no");
       r.close(); // refused once
     }
     try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
