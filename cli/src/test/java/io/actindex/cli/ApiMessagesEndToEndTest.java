@@ -118,6 +118,15 @@ class ApiMessagesEndToEndTest {
         + " line 2: 'row-999' is not a live example of the index (never added, or deleted already); nothing deleted (--skip-missing deletes the"
         + " others and names these)");
 
+    // a sample's filter, named by the sample (Compare builds the name from "a" or "b")
+    Compare.Params where = new Compare.Params(idx, Compare.Sample.where("key = row-1"), Compare.Sample.where("key = row-2"), null, null, null,
+        null, null, null, Compare.Options.defaults(), null);
+    String m1 = refusal(() -> Compare.run(where, null));
+    javaNames(m1, "a.where");
+    assertThat(m1).isEqualTo("`a.where` 'key = row-1' matches 1 of the 40 live examples; sample A needs at least 2");
+    refused(Cli.run("compare", "--index", idx.toString(), "--a-where", "key = row-1", "--b-where", "key = row-2"),
+        "actindex compare: --a-where 'key = row-1' matches 1 of the 40 live examples; sample A needs at least 2");
+
     // a score the stored calibration was not made for: three names in one message
     Path held = Files2.bits(tmp.resolve("held.npy"), bits(floats(30, 12, 3)));
     zero(Cli.run("ood", "calibrate", "--index", cidx.toString(), "--codes", held.toString(), "-k", "3"));

@@ -319,7 +319,7 @@ public final class Compare {
 
     double floor = 1.0 / (o.permutations() + 1); // the smallest permutation p-value, (0 + 1) / (P + 1)
     if (floor > o.alpha() / 2)
-      notes.add(String.format(Locale.ROOT, "with %d permutations (--permutations) no MMD p-value falls below %s, above the %s each test"
+      notes.add(String.format(Locale.ROOT, "with %d permutations (`permutations`) no MMD p-value falls below %s, above the %s each test"
           + " is held to: the verdict cannot find a difference; give at least %d", o.permutations(), fmt(floor), fmt(o.alpha() / 2),
           (int) Math.ceil(2 / o.alpha() - 1 - 1e-9)));
     String verdict = verdict(mmd.get(1), mmd.get(0), moved, neurons, o.alpha());
@@ -400,12 +400,12 @@ public final class Compare {
     try {
       ids = Where.select(reader.meta(), s.where());
     } catch (BadParameterException e) { // "where: at position ..." would not say which sample's filter
-      throw new BadInputException("--" + which.toLowerCase(Locale.ROOT) + "-" + e.parameter() + e.rest(), e);
+      throw new BadInputException("`" + which.toLowerCase(Locale.ROOT) + "." + e.parameter() + "`" + e.rest(), e);
     }
     if (reader.liveCount() == 0)
       throw new BadInputException(s.brief() + ": sample " + which + " is empty: the index " + reader.dir() + " holds no live examples");
     if (ids.count() < 2) // before the other sample is read
-      throw new BadInputException("--" + which.toLowerCase(Locale.ROOT) + "-where " + BadInputException.quote(s.where()) + " matches "
+      throw new BadInputException("`" + which.toLowerCase(Locale.ROOT) + ".where` " + BadInputException.quote(s.where()) + " matches "
           + ids.count() + " of the " + reader.liveCount() + " live examples; sample " + which + " needs at least 2");
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
@@ -442,7 +442,7 @@ public final class Compare {
    */
   private static void checkPairing(FloatSample f, CodeBlock codes, Path given, Sample s, String which) {
     if (f == null || f.rows() == codes.size()) return;
-    String option = "--" + which.toLowerCase(Locale.ROOT) + "-floats";
+    String option = "`" + which.toLowerCase(Locale.ROOT) + "Floats`";
     throw new BadInputException(floatsFile(given, s) + ": float sample " + which + " has " + f.rows() + " rows, but its codes (" + s.brief()
         + ") have " + codes.size() + "; " + option + " must hold the same examples in the same order");
   }
