@@ -214,7 +214,7 @@ final class CompareCommand implements Callable<Integer> {
       mmd(j, f.mmd());
       j.endObject();
     }
-    j.member("floats_absent", r.floatsAbsent());
+    j.member("floats_absent", ApiNames.options(r.floatsAbsent()));
     j.name("layers").beginArray();
     for (Compare.Layer l : r.layers())
       j.beginObject().member("layer", l.name()).member("bits", l.bits()).member("agreement_mmd2", l.agreementMmd2())
@@ -228,7 +228,7 @@ final class CompareCommand implements Callable<Integer> {
           .member("p_value", n.p()).member("q_value", n.q()).endObject();
     j.endArray();
     j.member("verdict", r.verdict()).name("notes").beginArray();
-    for (String s : r.notes()) j.value(s);
+    for (String s : r.notes()) j.value(ApiNames.options(s));
     j.endArray().endObject();
     out.println();
   }
@@ -305,7 +305,7 @@ final class CompareCommand implements Callable<Integer> {
       ft.row(List.of("MMD^2 gaussian", fmt(f.mmd().mmd2()), fmt(f.mmd().pValue()), mmdDetail(f.mmd())));
       ft.print(out, "  ");
     } else {
-      out.println("in full precision: " + r.floatsAbsent());
+      out.println("in full precision: " + ApiNames.options(r.floatsAbsent()));
     }
     out.println();
     out.println("per layer:");
@@ -324,7 +324,7 @@ final class CompareCommand implements Callable<Integer> {
     List<String> notes = new ArrayList<>(r.notes());
     if (!notes.isEmpty()) {
       out.println();
-      for (String s : notes) out.println("note: " + s);
+      for (String s : notes) out.println("note: " + ApiNames.options(s));
     }
     out.println();
     out.println("verdict: " + r.verdict());

@@ -148,12 +148,14 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
   /**
    * The user-facing message if the failure is bad input (anywhere in the cause chain), else null. A
    * refused API parameter ({@link BadParameterException}) is named by the option of {@code command}
-   * that carries it, when it has one.
+   * that carries it, when it has one; Java names the message writes in backquotes become options
+   * ({@link ApiNames}).
    */
   static String refusal(Throwable ex, CommandLine.Model.CommandSpec command) {
     for (Throwable t = ex; t != null; t = t.getCause() == t ? null : t.getCause()) {
-      if (t instanceof BadParameterException p && option(command, p.parameter()) != null) return option(command, p.parameter()) + p.rest();
-      if (t instanceof BadInputException) return t.getMessage();
+      if (t instanceof BadParameterException p && option(command, p.parameter()) != null)
+        return option(command, p.parameter()) + ApiNames.options(p.rest());
+      if (t instanceof BadInputException) return ApiNames.options(t.getMessage());
       if (t instanceof NoSuchFileException f) return f.getFile() + ": no such file";
       if (t instanceof AccessDeniedException f) return f.getFile() + ": permission denied";
       if (t instanceof NotDirectoryException f) return f.getFile() + ": not a folder (a part of this path is a file)";
@@ -173,9 +175,8 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
    * stored calibration).
    */
   static String option(CommandLine.Model.CommandSpec command, String parameter) {
-    String name = parameter.length() == 1 ? "-" + parameter
-        : "--" + parameter.replaceAll("([A-Z])", "-$1").toLowerCase(java.util.Locale.ROOT);
-    return command != null && command.findOption(name) != null ? name : null;
+    String name = ApiNames.option(parameter);
+    return name != null && command != null && command.findOption(name) != null ? name : null;
   }
 
   /** The file a {@link FileSystemException} in the chain names, else null. */

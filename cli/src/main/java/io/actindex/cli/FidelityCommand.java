@@ -159,7 +159,7 @@ final class FidelityCommand implements Callable<Integer> {
           .member("refined", a.refined()).member("cosine", a.cosine()).member("euclidean_inputs", a.euclideanInputs())
           .endObject();
     }
-    j.member("verdict", r.verdict());
+    j.member("verdict", ApiNames.options(r.verdict()));
     j.name("no_labelled_neighbour");
     if (a == null) j.nullValue();
     else {
@@ -200,7 +200,7 @@ final class FidelityCommand implements Callable<Integer> {
     for (String[] row : rows(r, FidelityCommand::num)) t.row(List.of(row[0].replace('_', ' '), row[1]));
     t.print(out, "  ");
     out.println();
-    out.println(r.verdict());
+    out.println(ApiNames.options(r.verdict()));
   }
 
   /** The measures as (name, text) rows, fractional numbers written by {@code fmt} (4 decimals in the table, full in CSV). */

@@ -89,7 +89,7 @@ final class OodCommand implements Callable<Integer> {
    */
   static void liveNote(PrintWriter err, OodCalibration.LiveCheck live) {
     if (live.message() == null) return;
-    err.println((live.standing() == OodCalibration.Standing.CHANGED ? "warning: " : "note: ") + live.message());
+    err.println((live.standing() == OodCalibration.Standing.CHANGED ? "warning: " : "note: ") + ApiNames.options(live.message()));
     err.flush();
   }
 
@@ -168,7 +168,7 @@ final class OodCommand implements Callable<Integer> {
           j.name("scores").beginObject().member("min", r.min()).member("p50", r.p50()).member("p90", r.p90()).member("p95", r.p95())
               .member("p99", r.p99()).member("max", r.max()).member("mean", r.mean()).endObject()
               .member("caution", OodCalibration.CAUTION).name("warnings").beginArray();
-          for (String w : r.warnings()) j.value(w);
+          for (String w : r.warnings()) j.value(ApiNames.options(w));
           j.endArray().endObject();
           out.println();
         }
@@ -444,7 +444,7 @@ final class OodCommand implements Callable<Integer> {
             j.endArray().member("auroc", v.auroc()).member("fpr_at_95_tpr", v.fprAt95Tpr()).endObject();
           }
           j.endArray().name("warnings").beginArray();
-          for (String w : r.warnings()) j.value(w);
+          for (String w : r.warnings()) j.value(ApiNames.options(w));
           liveMember(j.endArray().member("caution", OodCalibration.CAUTION), live).endObject();
           out.println();
         }

@@ -45,7 +45,7 @@ final class Summaries {
           if (r.encode().outputLayer()) j.value(order.getLast());
           else j.nullValue();
         }
-        strings(j.name("notes"), r.notes());
+        strings(j.name("notes"), ApiNames.options(r.notes()));
         j.endObject();
         out.println();
       }
@@ -76,13 +76,13 @@ final class Summaries {
    * one line each on stderr: every command that reads a query file prints its notes this way.
    */
   static void notes(PrintWriter err, List<String> notes) {
-    for (String n : notes) err.println(n);
+    for (String n : notes) err.println(ApiNames.options(n));
     err.flush();
   }
 
   /** Problems that did not undo a commit, one line each on stderr. */
   static void warnings(PrintWriter err, List<String> warnings) {
-    for (String w : warnings) err.println("warning: " + w.replaceAll("\\p{Cntrl}", " "));
+    for (String w : warnings) err.println("warning: " + ApiNames.options(w).replaceAll("\\p{Cntrl}", " "));
     err.flush();
   }
 }

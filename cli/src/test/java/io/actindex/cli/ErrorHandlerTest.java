@@ -33,6 +33,8 @@ class ErrorHandlerTest {
         case "param" -> throw new CompletionException(new io.actindex.core.BadParameterException("matrixRows", " must be from 2 to 9, got 1"));
         case "param-k" -> throw new io.actindex.core.BadParameterException("k", " 7 is larger than the 5 rows");
         case "param-elsewhere" -> throw new io.actindex.core.BadParameterException("dupesRadius", " must be 0 to 64; got 65");
+        case "hint" -> throw new BadInputException("q.csv: its header names the model inputs; pass it with `Source.inputs`");
+        case "param-hint" -> throw new io.actindex.core.BadParameterException("k", " 7 is larger than the 5 rows; lower `k` or give `matrixRows`");
         case "wrapped" -> throw new CompletionException(new BadInputException("meta.csv: row 2: duplicate key 'a'"));
         case "missing" -> throw new java.nio.file.NoSuchFileException("nothere.npy");
         case "notdir" -> throw new java.nio.file.NotDirectoryException("plain.txt");
@@ -90,6 +92,14 @@ class ErrorHandlerTest {
     String[] r = run("--kind", "param-elsewhere");
     assertThat(r[0]).isEqualTo("2");
     assertThat(r[2]).isEqualTo("boom: dupesRadius must be 0 to 64; got 65" + System.lineSeparator());
+  }
+
+  @Test
+  void javaNamesInsideAMessageArePrintedAsOptions() {
+    // the library names what the caller passed in Java terms; the command line prints its options
+    assertThat(new BadInputException("q.csv: pass it with `Source.inputs`")).hasMessage("q.csv: pass it with `Source.inputs`");
+    assertThat(run("--kind", "hint")[2]).isEqualTo("boom: q.csv: its header names the model inputs; pass it with --inputs" + System.lineSeparator());
+    assertThat(run("--kind", "param-hint")[2]).isEqualTo("boom: -k 7 is larger than the 5 rows; lower -k or give --matrix-rows" + System.lineSeparator());
   }
 
   @Test

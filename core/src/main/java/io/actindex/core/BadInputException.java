@@ -3,7 +3,9 @@ package io.actindex.core;
 /**
  * Input that actindex refuses: a malformed or damaged file, a wrong shape, a NaN, a layout that
  * does not match. The message names the file and the row, column or field at fault. The command
- * line maps it to exit code 2.
+ * line maps it to exit code 2. A parameter the message mentions (a hint such as "use {@code `score`}
+ * code") is written in backquotes as the Java API names it; the command line prints its option
+ * there ({@code --score}). See {@link BadParameterException} for a refused value of one parameter.
  */
 public class BadInputException extends RuntimeException {
   /** Characters of a bad value that {@link #quote} keeps. */

@@ -38,13 +38,17 @@ public final class OutputFiles {
     }
   }
 
-  /** A file the command reads, named by the option that gave it (e.g. {@code --compare-a}); a null file is skipped. */
+  /**
+   * A file the command reads, named by the option that gave it (e.g. {@code --compare-a}; from the
+   * library, the Java name in backquotes, {@code `compareA`}); a null file is skipped.
+   */
   public record Input(String option, Path file) {}
 
   /**
    * Refuses a target that cannot take a file: its folder is missing, it is itself a folder, it lies
    * in an index folder or a folder inside one, or it is the same file as one of {@code inputs}
-   * ({@code option} names the option in the message, e.g. {@code --html}). Called before any work,
+   * ({@code option} names the option in the message, e.g. {@code --html}, or from the library the
+   * Java parameter in backquotes, e.g. {@code `out`}, which the command line prints as its option). Called before any work,
    * so that a refused output leaves every file as it was.
    */
   public static void checkTarget(Path target, String option, Input... inputs) {

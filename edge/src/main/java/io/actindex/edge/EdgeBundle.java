@@ -423,7 +423,7 @@ public final class EdgeBundle {
   }
 
   private Model requireModel() {
-    if (model == null) throw new IllegalStateException("the bundle holds no model: export it with --with-model");
+    if (model == null) throw new IllegalStateException("the bundle holds no model: export it with `withModel` (EdgeExport.Params)");
     return model;
   }
 

@@ -196,6 +196,9 @@ class EdgeBundleTest {
     assertThat(damaged.err.lines().count()).isEqualTo(1);
     assertThat(run(new String[] {tmp.resolve("none.edge").toString()}, "").err).contains("no such file");
     assertThat(run(new String[] {file.toString(), "--inputs"}, "").err).contains("--with-model");
+    // a Java caller is told the exporter's Java parameter, not the command line's option
+    assertThatThrownBy(() -> b.encode(new double[] {1})).isInstanceOf(IllegalStateException.class)
+        .hasMessageContaining("`withModel`").hasMessageNotContaining("--");
   }
 
   /** Every bad bundle path and row: exit 2 and one line on stderr naming the file (or stdin row) and what is wrong. */

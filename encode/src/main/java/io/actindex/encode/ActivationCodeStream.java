@@ -128,7 +128,7 @@ final class ActivationCodeStream implements CodeStream {
     if (Float.isFinite(f)) return f;
     throw new BadInputException(src.source() + ": " + (widths.length > 1 ? "layer " + BadInputException.quote(src.names().get(layer)) + ", " : "")
         + "row " + (lastStart + row) + ", column " + col + " (0-based): value " + v + " does not fit the float32 in which activations"
-        + " are kept (at most about 3.4e38); scale the activations, or build with --magnitudes off to keep none");
+        + " are kept (at most about 3.4e38); scale the activations, or build with `magnitudeBits 0` to keep none");
   }
 
   @Override

@@ -105,7 +105,7 @@ public final class Encoders {
     checkReadable(safetensors);
     if (o.rule() == BinarizeRule.THRESHOLD && o.threshold() < 0)
       throw new BadInputException(safetensors + ": threshold " + o.threshold() + " is below 0, but a model's hidden activations are taken after ReLU"
-          + " (0 or more), so every neuron would be on in every row; give a threshold of 0 or more, or pass activations before ReLU with --activations");
+          + " (0 or more), so every neuron would be on in every row; give a threshold of 0 or more, or pass activations before ReLU with `Source.activations`");
     try (SafetensorsReader r = SafetensorsReader.open(safetensors)) {
       return model(r, inputs, o, header);
     }

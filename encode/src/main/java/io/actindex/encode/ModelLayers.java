@@ -26,7 +26,7 @@ final class ModelLayers implements LayerSource {
     this.modelName = modelName;
     List<String> hidden = mlp.hiddenNames();
     if (hidden.isEmpty())
-      throw new BadInputException(modelName + ": the model has one layer and no hidden layer to encode (a file of hidden layers only: --no-output-layer)");
+      throw new BadInputException(modelName + ": the model has one layer and no hidden layer to encode (a file of hidden layers only: `outputLayer false`)");
     if (in.cols() != mlp.inputs())
       throw new BadInputException(in.source() + ": rows have " + in.cols() + " values but the model " + modelName + " (layer '"
           + mlp.layers().getFirst().name() + "', weight shape [" + mlp.layers().getFirst().out() + ", " + mlp.inputs() + "]) takes " + mlp.inputs()

@@ -150,7 +150,7 @@ public final class Compare {
     public Params {
       if (a == null || b == null) throw new BadInputException("two samples are needed");
       if (index == null && (a.where() != null || b.where() != null))
-        throw new BadInputException("--a-where and --b-where need --index");
+        throw new BadInputException("`a.where` and `b.where` need `index`");
       layers = layers == null ? List.of() : List.copyOf(layers);
       if (header == null) header = CsvMatrixReader.Header.AUTO;
       a = a.withHeader(header);
@@ -252,7 +252,7 @@ public final class Compare {
     CodeLayout layout = a.layout();
     if (layout.bits() > MAX_BITS)
       throw new BadInputException("codes of " + layout.bits() + " bits (" + layout + "): compare holds pairwise distances in 16 bits, so"
-          + " codes of at most " + MAX_BITS + " bits; compare some of the layers (--layers)");
+          + " codes of at most " + MAX_BITS + " bits; compare some of the layers (`layers`)");
     int m = a.size(), n = b.size(), segs = layout.segments().size();
     List<String> notes = new ArrayList<>(readNotes);
     Permutations perms = Permutations.seeded(o.seed());
@@ -268,7 +268,7 @@ public final class Compare {
     CodeBlock sa = select(a, pa), sb = select(b, pb);
     boolean sub = pa.length < m || pb.length < n;
     if (sub)
-      notes.add(String.format(Locale.ROOT, "exponential and Gaussian kernels: a seeded random subsample of %d of %d (A) and %d of %d (B) rows (--matrix-rows %d)",
+      notes.add(String.format(Locale.ROOT, "exponential and Gaussian kernels: a seeded random subsample of %d of %d (A) and %d of %d (B) rows (`matrixRows` %d)",
           pa.length, m, pb.length, n, o.matrixRows()));
     PairDistances dist = new PairDistances(sa.concat(sb), pa.length, o.threads());
     double sigma = o.sigma() != null ? o.sigma() : positiveOrOne(dist.median(0));
@@ -315,11 +315,11 @@ public final class Compare {
     String absent = null;
     if (fa != null && fb != null) floats = floats(fa, fb, o, perms, notes);
     else absent = "no float activations for " + (fa == null && fb == null ? "A and B" : fa == null ? "A" : "B")
-        + " (give --a-floats/--b-floats, or activations files)";
+        + " (give `aFloats`/`bFloats`, or activations files)";
 
     double floor = 1.0 / (o.permutations() + 1); // the smallest permutation p-value, (0 + 1) / (P + 1)
     if (floor > o.alpha() / 2)
-      notes.add(String.format(Locale.ROOT, "with %d permutations (--permutations) no MMD p-value falls below %s, above the %s each test"
+      notes.add(String.format(Locale.ROOT, "with %d permutations (`permutations`) no MMD p-value falls below %s, above the %s each test"
           + " is held to: the verdict cannot find a difference; give at least %d", o.permutations(), fmt(floor), fmt(o.alpha() / 2),
           (int) Math.ceil(2 / o.alpha() - 1 - 1e-9)));
     String verdict = verdict(mmd.get(1), mmd.get(0), moved, neurons, o.alpha());
@@ -336,7 +336,7 @@ public final class Compare {
     int m = a.size(), n = b.size();
     if (m == n && m <= o.exactMax()) return Wasserstein.exact(a, b, o.threads());
     int[] pa = subsample(m, o.sinkhornRows(), o.seed() + 2), pb = subsample(n, o.sinkhornRows(), o.seed() + 3);
-    String why = m != n ? "sample sizes differ" : "more than --exact-max " + o.exactMax() + " rows";
+    String why = m != n ? "sample sizes differ" : "more than `exactMax` " + o.exactMax() + " rows";
     notes.add(String.format(Locale.ROOT, "W2 by Sinkhorn (%s) on %d of %d (A) and %d of %d (B) rows", why, pa.length, m, pb.length, n));
     Wasserstein.Result r = Wasserstein.sinkhorn(select(a, pa), select(b, pb), o.reg(), o.maxIter(), o.tol(), o.threads());
     if (!r.converged())
@@ -389,7 +389,7 @@ public final class Compare {
   private static Sample ofIndexKind(IndexReader reader, Sample s) {
     if (!s.kindFromIndex()) return s;
     Source src = s.source();
-    return Sample.file(QuerySource.sourceOf(reader, null, src.file(), src.header(), "--kind"));
+    return Sample.file(QuerySource.sourceOf(reader, null, src.file(), src.header(), "`kind`"));
   }
 
   /** A sample's codes (and a file's column names) from the index: a file encoded as the index was built, or the examples --where selects. */
@@ -400,12 +400,12 @@ public final class Compare {
     try {
       ids = Where.select(reader.meta(), s.where());
     } catch (BadParameterException e) { // "where: at position ..." would not say which sample's filter
-      throw new BadInputException("--" + which.toLowerCase(Locale.ROOT) + "-" + e.parameter() + e.rest(), e);
+      throw new BadInputException("`" + which.toLowerCase(Locale.ROOT) + "." + e.parameter() + "`" + e.rest(), e);
     }
     if (reader.liveCount() == 0)
       throw new BadInputException(s.brief() + ": sample " + which + " is empty: the index " + reader.dir() + " holds no live examples");
     if (ids.count() < 2) // before the other sample is read
-      throw new BadInputException("--" + which.toLowerCase(Locale.ROOT) + "-where " + BadInputException.quote(s.where()) + " matches "
+      throw new BadInputException("`" + which.toLowerCase(Locale.ROOT) + ".where` " + BadInputException.quote(s.where()) + " matches "
           + ids.count() + " of the " + reader.liveCount() + " live examples; sample " + which + " needs at least 2");
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
@@ -419,7 +419,7 @@ public final class Compare {
   private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog) {
     Source src = s;
     if (s.kind() == Source.Kind.INPUTS && s.model() == null) {
-      if (p.model() == null) throw new BadInputException(s.file() + ": inputs need a model (--model FILE) or an index that stores one");
+      if (p.model() == null) throw new BadInputException(s.file() + ": inputs need a model (`model` FILE) or an index that stores one");
       src = Source.inputs(s.file(), p.model());
     }
     return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog);
@@ -442,7 +442,7 @@ public final class Compare {
    */
   private static void checkPairing(FloatSample f, CodeBlock codes, Path given, Sample s, String which) {
     if (f == null || f.rows() == codes.size()) return;
-    String option = "--" + which.toLowerCase(Locale.ROOT) + "-floats";
+    String option = "`" + which.toLowerCase(Locale.ROOT) + "Floats`";
     throw new BadInputException(floatsFile(given, s) + ": float sample " + which + " has " + f.rows() + " rows, but its codes (" + s.brief()
         + ") have " + codes.size() + "; " + option + " must hold the same examples in the same order");
   }

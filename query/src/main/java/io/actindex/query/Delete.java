@@ -73,7 +73,7 @@ public final class Delete {
     if (!notLive.isEmpty() && !p.skipMissing()) {
       throw new BadInputException("keys file " + p.keysFile() + " " + notLive.getFirst() + " is not a live example of the index "
           + "(never added, or deleted already)" + (notLive.size() > 1 ? ", and " + (notLive.size() - 1) + " more key(s) are not" : "")
-          + "; nothing deleted (--skip-missing deletes the others and names these)");
+          + "; nothing deleted (`skipMissing` deletes the others and names these)");
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       int deleted = w.delete(ids);

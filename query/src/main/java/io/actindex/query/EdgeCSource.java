@@ -32,13 +32,13 @@ public final class EdgeCSource {
    * the two files.
    */
   public static void checkTargets(Path dir, Path out) {
-    if (Files.exists(dir) && !Files.isDirectory(dir)) throw new BadInputException(dir + ": --c-source names a folder, this is a file");
-    OutputFiles.checkDistinct(dir, "--c-source", out, "--out");
+    if (Files.exists(dir) && !Files.isDirectory(dir)) throw new BadInputException(dir + ": `cSource` names a folder, this is a file");
+    OutputFiles.checkDistinct(dir, "`cSource`", out, "`out`");
     for (String name : List.of(HEADER, SOURCE)) {
       Path file = dir.resolve(name);
-      if (Files.isDirectory(dir)) OutputFiles.checkTarget(file, "--c-source");
-      else OutputFiles.checkOutsideIndex(file, "--c-source");
-      OutputFiles.checkDistinct(file, "--c-source", out, "--out");
+      if (Files.isDirectory(dir)) OutputFiles.checkTarget(file, "`cSource`");
+      else OutputFiles.checkOutsideIndex(file, "`cSource`");
+      OutputFiles.checkDistinct(file, "`cSource`", out, "`out`");
     }
   }
 
@@ -52,7 +52,7 @@ public final class EdgeCSource {
   }
 
   private static void atomic(Path file, String text) throws IOException {
-    OutputFiles.write(file, text.getBytes(StandardCharsets.UTF_8), "--c-source");
+    OutputFiles.write(file, text.getBytes(StandardCharsets.UTF_8), "`cSource`");
   }
 
   static String header(EdgeBundle b) {

@@ -47,9 +47,9 @@ public final class EdgeExport {
     EdgeBundle b = bundle(reader, cal, p.withModel());
     byte[] bytes = BundleFormat.toBytes(b);
     try {
-      OutputFiles.checkTarget(p.out(), "--out");
+      OutputFiles.checkTarget(p.out(), "`out`");
       if (p.cSource() != null) EdgeCSource.checkTargets(p.cSource(), p.out());
-      OutputFiles.write(p.out(), bytes, "--out");
+      OutputFiles.write(p.out(), bytes, "`out`");
       List<Path> c = p.cSource() == null ? List.of() : EdgeCSource.write(b, p.cSource());
       return new Result(p.out(), bytes.length, b.uniqueCodes(), b.examples(), bytes.length / (double) b.examples(), p.withModel(), c,
           OodCalibration.liveCheck(reader));
@@ -109,9 +109,9 @@ public final class EdgeExport {
   /** The stored model in float32 with each code bit's binarization threshold. */
   static EdgeBundle.Model model(IndexReader reader) {
     Mlp mlp = SoftmaxBaseline.model(reader);
-    if (mlp == null) throw new BadInputException(reader.dir() + ": --with-model, but the index holds no model (it was not built with --model)");
+    if (mlp == null) throw new BadInputException(reader.dir() + ": `withModel`, but the index holds no model (it was not built with `model`)");
     if (mlp.outputLayer() == null)
-      throw new BadInputException(reader.dir() + ": --with-model needs a model whose last layer is an output layer; this index's model has hidden layers only");
+      throw new BadInputException(reader.dir() + ": `withModel` needs a model whose last layer is an output layer; this index's model has hidden layers only");
     List<EdgeBundle.Layer> layers = new ArrayList<>();
     for (Mlp.Layer l : mlp.layers()) {
       float[] wt = new float[l.weight().data.length], bias = new float[l.out()];

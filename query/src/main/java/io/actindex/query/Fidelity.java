@@ -160,15 +160,15 @@ public final class Fidelity {
     int keptBits = r.hasMagnitudes() ? r.magnitudeBits() : 0;
     if (inputs == null) {
       if (kept == null)
-        throw new BadInputException(Refine.noMagnitudes(r) + "; or give the model's inputs the index was built from with --inputs");
+        throw new BadInputException(Refine.noMagnitudes(r) + "; or give the model's inputs the index was built from with `inputs`");
       float[] floats = new float[Math.multiplyExact(n, d)];
       for (int i = 0; i < n; i++) r.magnitudes(ids[i], floats, i * d);
       return new Data(codes, floats, "kept " + keptBits + "-bit magnitudes of index " + r.dir() + " (dequantised)", kept, keptBits,
           any ? labels : null, null, 0, List.of());
     }
     if (!BuildInfo.fromProperties(r.properties(), r.dir().toString()).hasModel())
-      throw new BadInputException(inputs + ": --inputs needs an index built from a model (build --model), and index " + r.dir()
-          + " holds none; leave --inputs out to measure on its kept magnitudes");
+      throw new BadInputException(inputs + ": `inputs` needs an index built from a model (build `model`), and index " + r.dir()
+          + " holds none; leave `inputs` out to measure on its kept magnitudes");
     List<String> notes = new java.util.ArrayList<>();
     QuerySource.Encoded enc = QuerySource.encode(r, Source.inputs(inputs, null).withHeader(header), RowRange.ALL, Encoding.CHUNK, progress,
         "inputs", notes, true);
@@ -326,7 +326,7 @@ public final class Fidelity {
       else {
         v.append(String.format(java.util.Locale.ROOT, "Codes lose %.1f points of %d-NN label accuracy against cosine on the floats", 100 * gap, k));
         if (acc.refined() != null && acc.cosine() - acc.refined() <= 0.01)
-          v.append(String.format(java.util.Locale.ROOT, "; re-ranking %d Hamming candidates by the kept magnitudes closes the gap (use nearest --refine).", c));
+          v.append(String.format(java.util.Locale.ROOT, "; re-ranking %d Hamming candidates by the kept magnitudes closes the gap (use `Refine.run`).", c));
         else if (acc.refined() != null)
           v.append(String.format(java.util.Locale.ROOT, "; re-ranking %d Hamming candidates by the kept magnitudes recovers %.1f of them.", c,
               100 * (acc.refined() - acc.hamming())));

@@ -205,7 +205,7 @@ public final class IndexBuilder {
       String spelt = meta == null ? null : LabelSpellings.note(p.meta().file().toString(), meta, null);
       if (spelt != null) notes.add(spelt);
       if (meta != null && meta.stream().noneMatch(row -> row.containsKey("label")))
-        notes.add(p.meta().file() + ": note: no example has a label (no column 'label' with a value; --label-column NAME takes another, such as"
+        notes.add(p.meta().file() + ": note: no example has a label (no column 'label' with a value; `labelColumn` NAME takes another, such as"
             + " scikit-learn's 'target'), so label votes, purity and label conflicts have none to count");
       return new Result(first, codes.size(), codes.layout(), notes, read.options(),
           mags == null ? null : Quantisation.of(mags, values), w.takeWarnings());
@@ -233,7 +233,7 @@ public final class IndexBuilder {
       if (!on && l.dead() != l.neurons()) continue;
       notes.add(file + ": layer " + l.layer() + ": every unit is " + (on ? "on" : "off") + " in every row (" + l.neurons() + " units, " + codes.size()
           + " rows), so the layer adds nothing to any distance" + (on && activations ? "; activations that are all above the threshold (after a"
-              + " sigmoid or softplus, not a ReLU?) need --median or a --threshold inside their range" : ""));
+              + " sigmoid or softplus, not a ReLU?) need `BinarizeRule.MEDIAN` or a `threshold` inside their range" : ""));
     }
     return notes;
   }
@@ -294,7 +294,7 @@ public final class IndexBuilder {
     if (built.kind() == Source.Kind.CODES && kind != Source.Kind.CODES)
       throw new BadInputException(p.source().file() + ": the index " + p.dir() + " was built from codes (layout " + built.sourceLayout()
           + ") and does not record how they were made from " + kind.name().toLowerCase(java.util.Locale.ROOT)
-          + "; binarize these rows the way its codes were made and add them with --codes");
+          + "; binarize these rows the way its codes were made and add them with `Source.codes`");
   }
 
   /** {@code w.add}; a metadata row the index refuses is named by its file and data row (1-based, as the CSV counts). */
@@ -340,7 +340,7 @@ public final class IndexBuilder {
   }
 
   private static void checkEmptyOrAbsent(Path dir) {
-    OutputFiles.checkIndexPlace(dir, "--out");
+    OutputFiles.checkIndexPlace(dir, "`BuildParams.dir`");
     for (Path up = dir.toAbsolutePath().getParent(); up != null; up = up.getParent())
       if (Files.exists(up)) {
         if (!Files.isDirectory(up)) throw new BadInputException(dir + ": cannot make the index folder: " + up + " is a file, not a folder");

@@ -105,7 +105,7 @@ public final class OodCalibrate {
         throw new BadInputException(file + ": " + found + "; these look like training rows (calibrate with held-out inputs the index does not hold)");
       if (looksLikeTraining)
         warnings.add(file + ": " + found + ", as rows of the training file would; their scores are optimistically low and the threshold flags too much "
-            + "(calibrate with held-out inputs the index does not hold; --check-overlap refuses such a file)");
+            + "(calibrate with held-out inputs the index does not hold; `checkOverlap` refuses such a file)");
       double[] scores = scorer.values(qa, progress, p.threads());
       scoring = kind == OodScorer.Kind.CODE ? OodCalibration.Scoring.CODE : new OodCalibration.Scoring(kind, cands);
       Arrays.sort(scores);

@@ -90,8 +90,8 @@ public final class OodCalibration {
   public static OodScorer scorer(IndexReader reader, Calibration cal, OodScorer.Kind asked) {
     Scoring s = scoring(reader);
     if (asked != null && asked != s.kind())
-      throw new BadInputException("--score " + asked.label() + ": the calibration stored in " + reader.dir() + " uses the " + s.kind().label()
-          + " score; run 'actindex ood calibrate --score " + asked.label() + "' first, or drop --score");
+      throw new BadInputException("`score` " + asked.label() + ": the calibration stored in " + reader.dir() + " uses the " + s.kind().label()
+          + " score; run 'actindex ood calibrate `score` " + asked.label() + "' first, or drop `score`");
     return new OodScorer(reader, cal.k(), cal.statistic(), cal.layers(), s.kind(), s.candidates());
   }
 
@@ -99,7 +99,7 @@ public final class OodCalibration {
   public static void requireCode(IndexReader reader, String what) {
     if (scoring(reader).kind() != OodScorer.Kind.CODE)
       throw new BadInputException(what + " uses the code score, but the calibration stored in " + reader.dir()
-          + " uses the refined score; calibrate with --score code for it");
+          + " uses the refined score; calibrate with `score` code for it");
   }
 
   /**

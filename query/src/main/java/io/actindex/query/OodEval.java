@@ -62,9 +62,9 @@ public final class OodEval {
       if (candidates < 0) throw new BadParameterException("candidates", " must be at least 1, got " + candidates);
       int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
       if (floats != 0 && floats != 3)
-        throw new BadInputException("the float score needs --in-floats, --out-floats and --train-floats together");
+        throw new BadInputException("the float score needs `inFloats`, `outFloats` and `trainFloats` together");
       if (candidates != 0 && trainFloats == null)
-        throw new BadInputException("--candidates is for the refined score from --train-floats; without the float files there is none");
+        throw new BadInputException("`candidates` is for the refined score from `trainFloats`; without the float files there is none");
     }
   }
 
@@ -102,14 +102,14 @@ public final class OodEval {
     Calibration cal = OodCalibration.load(reader);
     OodScorer scorer = OodCalibration.scorer(reader, cal, p.score());
     if (p.candidates() != 0 && scorer.kind() == OodScorer.Kind.REFINED)
-      throw new BadInputException("--candidates is for the refined score from --train-floats with a code calibration; this refined"
+      throw new BadInputException("`candidates` is for the refined score from `trainFloats` with a code calibration; this refined"
           + " calibration re-ranks its own " + OodCalibration.scoring(reader).candidates() + " candidates (set at ood calibrate)");
     QuerySource.Queries inQ = scorer.load(p.in(), RowRange.ALL), outQ = scorer.load(p.out(), RowRange.ALL);
     QueryCodes in = inQ.codes(), out = outQ.codes();
     // each was checked against the build's header; against each other too (an index built from .npy records none)
-    SourceColumns.check(in.columns(), "--in (" + p.in().file() + ")", out.columns(), p.out().file().toString());
-    if (in.size() == 0) throw new BadInputException(p.in().file() + ": no rows; ood eval needs rows in both --in and --out");
-    if (out.size() == 0) throw new BadInputException(p.out().file() + ": no rows; ood eval needs rows in both --in and --out");
+    SourceColumns.check(in.columns(), "`in` (" + p.in().file() + ")", out.columns(), p.out().file().toString());
+    if (in.size() == 0) throw new BadInputException(p.in().file() + ": no rows; ood eval needs rows in both `in` and `out`");
+    if (out.size() == 0) throw new BadInputException(p.out().file() + ": no rows; ood eval needs rows in both `in` and `out`");
     // k values and layer sets of the breakdown; one k-NN search per input and layer set
     TreeSet<Integer> ks = new TreeSet<>(List.of(1, 5, 10, cal.k()));
     ks.removeIf(k -> k > reader.liveCount());
@@ -144,14 +144,14 @@ public final class OodEval {
       notes.addAll(fb.notes());
       notes.addAll(f.notes());
       // each was checked against the training floats' header; against each other too (the training floats may have none)
-      SourceColumns.check(fa.columns(), "--in-floats (" + p.inFloats() + ")", fb.columns(), p.outFloats().toString());
+      SourceColumns.check(fa.columns(), "`inFloats` (" + p.inFloats() + ")", fb.columns(), p.outFloats().toString());
       double[][] qa = fa.rows(), qb = fb.rows();
       if (qa.length != in.size())
-        throw new BadInputException(p.inFloats() + ": " + qa.length + " rows of floats, but --in " + p.in().file() + " has " + in.size()
-            + "; --in-floats must hold the same inputs in the same order");
+        throw new BadInputException(p.inFloats() + ": " + qa.length + " rows of floats, but `in` " + p.in().file() + " has " + in.size()
+            + "; `inFloats` must hold the same inputs in the same order");
       if (qb.length != out.size())
-        throw new BadInputException(p.outFloats() + ": " + qb.length + " rows of floats, but --out " + p.out().file() + " has " + out.size()
-            + "; --out-floats must hold the same inputs in the same order");
+        throw new BadInputException(p.outFloats() + ": " + qb.length + " rows of floats, but `out` " + p.out().file() + " has " + out.size()
+            + "; `outFloats` must hold the same inputs in the same order");
       floats = Scored.of("float", "k-NN score on unit-length float activations (k=" + cal.k() + ")", f.scores(qa, cal.k(), threads),
           f.scores(qb, cal.k(), threads));
       if (scorer.kind() == OodScorer.Kind.CODE && f.rows() == reader.maxId()) { // training rows are the index's ids

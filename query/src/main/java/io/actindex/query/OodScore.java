@@ -107,7 +107,7 @@ public final class OodScore {
 
   /** As {@link #decide(IndexReader, QueryCodes)}, queries on {@code threads} threads. */
   public static Decisions decide(IndexReader reader, QueryCodes q, int threads) {
-    OodCalibration.requireCode(reader, "--decision-only");
+    OodCalibration.requireCode(reader, "`OodScore.decide`");
     EdgeBundle b = EdgeExport.bundle(reader, OodCalibration.load(reader), false);
     boolean[] out = new boolean[q.size()];
     Parallel.forEach(out.length, threads, Progress.NONE, i -> out[i] = b.isOut(q.codes().code(i)));

@@ -149,8 +149,8 @@ public final class OodScorer {
   public QuerySource.Queries load(Source source, RowRange rows) {
     if (kind == Kind.REFINED) {
       if (source.kind() == Source.Kind.CODES)
-        throw new BadInputException(source.file() + ": the refined score needs the queries' activations (--activations) or inputs (--inputs), "
-            + "not codes; use --score code for codes");
+        throw new BadInputException(source.file() + ": the refined score needs the queries' activations (`Source.activations`) or inputs (`Source.inputs`), "
+            + "not codes; use `score` code for codes");
       return QuerySource.loadWithActivations(reader, source, rows, Progress.NONE);
     }
     return new QuerySource.Queries(QuerySource.load(reader, source, rows), null);

@@ -48,7 +48,7 @@ public final class QuerySource {
   /** As {@link #load}, keeping the query activations; a codes source is a {@link BadInputException}. */
   public static Queries loadWithActivations(IndexReader reader, Source source, RowRange rows, Progress progress) {
     if (source.kind() == Source.Kind.CODES)
-      throw new BadInputException(source.file() + ": refinement needs the queries' activations (--activations) or inputs (--inputs), not codes");
+      throw new BadInputException(source.file() + ": refinement needs the queries' activations (`Source.activations`) or inputs (`Source.inputs`), not codes");
     RowRange range = rows == null ? RowRange.ALL : rows;
     java.util.List<String> notes = new java.util.ArrayList<>();
     Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, true);
@@ -132,7 +132,7 @@ public final class QuerySource {
     else if (info.kind() == Source.Kind.INPUTS && builtColumns != null && !SourceColumns.numbered(builtColumns) // pandas' numbers: any frame's
         && builtColumns.equals(read.columns()))
       throw new BadInputException(source.file() + ": its header names the model inputs the index " + reader.dir() + " was built from, but it"
-          + " was given as " + source.kind().name().toLowerCase(java.util.Locale.ROOT) + "; pass it with --inputs");
+          + " was given as " + source.kind().name().toLowerCase(java.util.Locale.ROOT) + "; pass it with `Source.inputs`");
     CodeBlock raw = read.codes();
     CodeBlock codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString(), source.kind());
     CodeLayout split = raw.layout().bits() == target.bits() ? target : info.sourceLayout();

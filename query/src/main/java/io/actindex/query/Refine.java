@@ -94,7 +94,7 @@ public final class Refine {
     if (!codes.codes().layout().equals(layout))
       throw new BadInputException("query layout " + codes.codes().layout() + " differs from the index layout " + layout);
     if (queries.activations() == null)
-      throw new BadInputException("refinement needs the queries' activations (--activations or --inputs), not codes");
+      throw new BadInputException("refinement needs the queries' activations (`Source.activations` or `Source.inputs`), not codes");
     int[] shown = Layers.select(layout, p.layers());
     long[] mask = Layers.maskOrNull(layout, p.layers());
     long[][] segMasks = Layers.segmentMasks(layout);
@@ -125,10 +125,10 @@ public final class Refine {
   public static String noMagnitudes(IndexReader reader) {
     String kind = reader.properties().get(BuildInfo.KIND);
     String how = "codes".equals(kind)
-        ? "it was built from codes, which carry none; build it from activations (--activations) or a model and its inputs (--model, --inputs)"
+        ? "it was built from codes, which carry none; build it from activations (`Source.activations`) or a model and its inputs (`model`, `Source.inputs`)"
         : reader.properties().get(IndexBuilder.MAGNITUDES) == null
             ? "it was built by an earlier actindex, which kept none; build it again (activations and inputs keep 8 bits per unit by default)"
-            : "it was built with --magnitudes off; build it again with --magnitudes 8 (the default for activations and inputs)";
+            : "it was built with `magnitudeBits 0`; build it again with `magnitudeBits` 8 (the default for activations and inputs)";
     return "index " + reader.dir() + " keeps no magnitudes to refine with: " + how;
   }
 

@@ -34,8 +34,8 @@ public final class Report {
   public record Params(Path out, String title, Integer dupesRadius, Path compareA, Path compareB, Source.Kind compareKind,
       CsvMatrixReader.Header compareHeader, int threads) {
     public Params {
-      if (out == null) throw new BadInputException("report: --out is required");
-      if ((compareA == null) != (compareB == null)) throw new BadInputException("report: give both --compare-a and --compare-b, or neither");
+      if (out == null) throw new BadInputException("report: `out` is required");
+      if ((compareA == null) != (compareB == null)) throw new BadInputException("report: give both `compareA` and `compareB`, or neither");
       if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
       if (compareHeader == null) compareHeader = CsvMatrixReader.Header.AUTO;
     }
@@ -73,8 +73,8 @@ public final class Report {
 
   /** Renders the page of {@code reader} with any extra sections already added to {@code page}'s tail by the caller. */
   public static Result run(IndexReader reader, Params p, Progress progress) throws IOException {
-    OutputFiles.checkTarget(p.out(), "--out", new OutputFiles.Input("--compare-a", p.compareA()),
-        new OutputFiles.Input("--compare-b", p.compareB()));
+    OutputFiles.checkTarget(p.out(), "`out`", new OutputFiles.Input("`compareA`", p.compareA()),
+        new OutputFiles.Input("`compareB`", p.compareB()));
     // the files' kinds settled before the long part, so a width that fits two kinds is refused at once
     Source a = compareSource(reader, p, p.compareA()), b = compareSource(reader, p, p.compareB());
     int bits = reader.layout().bits();
@@ -106,11 +106,11 @@ public final class Report {
 
   /** A comparison file as a source of its given kind, or of the kind the index tells ({@code --compare-kind} names the way out); null for none. */
   private static Source compareSource(IndexReader reader, Params p, Path file) {
-    return file == null ? null : QuerySource.sourceOf(reader, p.compareKind(), file, p.compareHeader(), "--compare-kind");
+    return file == null ? null : QuerySource.sourceOf(reader, p.compareKind(), file, p.compareHeader(), "`compareKind`");
   }
 
   /** Writes through a temporary file beside {@code out}, then renames it into place. */
   static void write(Path out, byte[] bytes) throws IOException {
-    OutputFiles.write(out, bytes, "--out");
+    OutputFiles.write(out, bytes, "`out`");
   }
 }

@@ -101,14 +101,14 @@ class IndexBuilderTest {
     Path sig = TestFiles.npyFloat32(tmp.resolve("sigmoid.npy"), n, d, sigmoid);
     IndexBuilder.Result built = IndexBuilder.build(new IndexBuilder.BuildParams(tmp.resolve("a"), Source.activations(sig), null), null);
     assertThat(built.notes()).as(Randoms.describe(seed)).anySatisfy(m -> assertThat(m).contains("sigmoid.npy").contains("layer act")
-        .contains("every unit is on in every row (8 units, 50 rows)").contains("--median"));
+        .contains("every unit is on in every row (8 units, 50 rows)").contains("`BinarizeRule.MEDIAN`"));
     Path rel = TestFiles.npyFloat32(tmp.resolve("relu.npy"), n, d, relu);
     IndexBuilder.Result plain = IndexBuilder.build(new IndexBuilder.BuildParams(tmp.resolve("b"), Source.activations(rel), null), null);
     assertThat(plain.notes()).as(Randoms.describe(seed)).noneSatisfy(m -> assertThat(m).contains("every unit"));
     // a threshold above every value turns the same layer off in every row
     IndexBuilder.Result off = IndexBuilder.build(new IndexBuilder.BuildParams(tmp.resolve("c"), Source.activations(sig), null,
         new EncodeOptions(BinarizeRule.THRESHOLD, 1, null), null, 0, 0), null);
-    assertThat(off.notes()).anySatisfy(m -> assertThat(m).contains("every unit is off in every row").doesNotContain("--median"));
+    assertThat(off.notes()).anySatisfy(m -> assertThat(m).contains("every unit is off in every row").doesNotContain("`BinarizeRule.MEDIAN`"));
   }
 
   private void checkNearest(Path dir, Path queryFile, String rows, CodeBlock all, int n, String why) {

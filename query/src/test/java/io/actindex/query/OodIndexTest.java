@@ -226,9 +226,9 @@ class OodIndexTest {
     OodCalibrate.run(dir, Source.codes(cal), RowRange.ALL, new OodCalibrate.Params(1, null, 0.95, null, false), Progress.NONE);
     try (IndexReader r = IndexReader.open(dir)) {
       assertThatThrownBy(() -> OodEval.run(r, new OodEval.Params(Source.codes(cal), Source.codes(empty), null, null, null), Progress.NONE))
-          .isInstanceOf(BadInputException.class).hasMessageContaining("empty.npy").hasMessageContaining("--out");
+          .isInstanceOf(BadInputException.class).hasMessageContaining("empty.npy").hasMessageContaining("`out`");
       assertThatThrownBy(() -> OodEval.run(r, new OodEval.Params(Source.codes(empty), Source.codes(cal), null, null, null), Progress.NONE))
-          .isInstanceOf(BadInputException.class).hasMessageContaining("empty.npy").hasMessageContaining("--in");
+          .isInstanceOf(BadInputException.class).hasMessageContaining("empty.npy").hasMessageContaining("`in`");
     }
   }
 

@@ -179,10 +179,10 @@ class OodRefinedTest {
       Path codesFile = tmp.resolve("q-codes.npy");
       OodIndexTest.npy(codesFile, qa.codes().codes());
       assertThatThrownBy(() -> OodScore.run(r, Source.codes(codesFile), RowRange.ALL, new OodScore.Params(2), Progress.NONE))
-          .isInstanceOf(BadInputException.class).hasMessageContaining("q-codes.npy").hasMessageContaining("--score code");
+          .isInstanceOf(BadInputException.class).hasMessageContaining("q-codes.npy").hasMessageContaining("`score` code");
       assertThatThrownBy(() -> OodScore.run(r, Source.activations(qFile), RowRange.ALL, new OodScore.Params(2, OodScorer.Kind.CODE), Progress.NONE))
           .isInstanceOf(BadInputException.class).hasMessageContaining("uses the refined score");
-      assertThatThrownBy(() -> OodScore.decide(r, qa.codes())).isInstanceOf(BadInputException.class).hasMessageContaining("--decision-only");
+      assertThatThrownBy(() -> OodScore.decide(r, qa.codes())).isInstanceOf(BadInputException.class).hasMessageContaining("`OodScore.decide`");
       assertThatThrownBy(() -> OodEval.run(r, new OodEval.Params(Source.activations(calFile), Source.activations(qFile), null, null, null, 0,
           OodScorer.Kind.CODE), Progress.NONE)).isInstanceOf(BadInputException.class).hasMessageContaining("uses the refined score");
       OodEval.Result e = OodEval.run(r, new OodEval.Params(Source.activations(calFile), Source.activations(qFile), null, null, null), Progress.NONE);

@@ -213,7 +213,7 @@ class RefineTest {
     try (IndexReader r = IndexReader.open(off)) {
       QuerySource.Queries q = new QuerySource.Queries(new QueryCodes(codes.slice(0, 1), 0), new float[64]);
       assertThatThrownBy(() -> Refine.run(r, q, new Refine.Params(1, 10, Refine.Metric.COSINE, null, null, 1), null))
-          .isInstanceOf(BadInputException.class).hasMessageContaining("keeps no magnitudes").hasMessageContaining("--magnitudes off");
+          .isInstanceOf(BadInputException.class).hasMessageContaining("keeps no magnitudes").hasMessageContaining("`magnitudeBits 0`");
     }
     assertThatThrownBy(() -> new Refine.Params(0, 10, null, null, null, 1)).isInstanceOf(BadInputException.class);
     assertThatThrownBy(() -> new Refine.Params(1, 0, null, null, null, 1)).isInstanceOf(BadInputException.class);

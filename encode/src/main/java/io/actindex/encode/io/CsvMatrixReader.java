@@ -88,11 +88,11 @@ public final class CsvMatrixReader implements MatrixReader {
     this.cols = f.length;
     boolean isHeader = switch (mode) {
       case YES -> {
-        notes.add(file + ": line " + firstLine + " taken as the header (--header yes)");
+        notes.add(file + ": line " + firstLine + " taken as the header (`header` yes)");
         yield true;
       }
       case NO -> {
-        notes.add(file + ": no header line (--header no)");
+        notes.add(file + ": no header line (`header` no)");
         yield false;
       }
       case AUTO -> detect(f, firstLine);
@@ -126,7 +126,7 @@ public final class CsvMatrixReader implements MatrixReader {
   private static final Pattern LABEL_HEADER = Pattern.compile("label|labels|target|class|y", Pattern.CASE_INSENSITIVE);
 
   /** The way out of a first line AUTO cannot decide on: every command that reads CSV data takes {@code --header}. */
-  static final String HEADER_CHOICE = "pass --header yes (a header) or --header no (data)";
+  static final String HEADER_CHOICE = "pass `header` yes (a header) or `header` no (data)";
 
   /** The AUTO rule; adds the note saying what was chosen. */
   private boolean detect(String[] f, long firstLine) {
@@ -137,7 +137,7 @@ public final class CsvMatrixReader implements MatrixReader {
         if (firstText < 0) firstText = i;
       }
     if (text == f.length) {
-      notes.add(file + ": line " + firstLine + " taken as the header (every cell is text; --header no reads it as data)");
+      notes.add(file + ": line " + firstLine + " taken as the header (every cell is text; `header` no reads it as data)");
       return true;
     }
     if (columnNumbers(f, 0) && f.length < 3) // "0" or "0,1": as likely a row of 0/1 codes or counts as pandas' header
@@ -145,7 +145,7 @@ public final class CsvMatrixReader implements MatrixReader {
           + ", the column numbers a data-frame library writes over unnamed columns, or a row of data (with " + f.length
           + (f.length == 1 ? " column" : " columns") + " either is likely); " + HEADER_CHOICE);
     if (columnNumbers(f, 0) || (isIndexHeaderCell(f[0].trim()) && columnNumbers(f, 1))) {
-      notes.add(file + ": line " + firstLine + " taken as the header (its cells are the column numbers; --header no reads it as data)");
+      notes.add(file + ": line " + firstLine + " taken as the header (its cells are the column numbers; `header` no reads it as data)");
       return true;
     }
     if (text == 0 && evenlySpaced(f))
@@ -153,7 +153,7 @@ public final class CsvMatrixReader implements MatrixReader {
           + f[f.length - 1].trim() + ", more like column names (columns numbered from 1, wavelengths, time offsets) than a row of data;"
           + " " + HEADER_CHOICE);
     if (text == 0) {
-      notes.add(file + ": no header line (every cell of line " + firstLine + " is a number; --header yes skips it)");
+      notes.add(file + ": no header line (every cell of line " + firstLine + " is a number; `header` yes skips it)");
       return false;
     }
     String hint = isIndexHeaderCell(f[0].trim()) ? "; column 0 looks like a row index column (header cell " + BadInputException.quote(f[0].trim())
@@ -492,7 +492,7 @@ public final class CsvMatrixReader implements MatrixReader {
     return new BadInputException(file + ": " + rows + " is two whole numbers, the second without a sign (line " + firstRowLine + ": "
         + BadInputException.quote(firstRowText.trim()) + "), which is also how one column of decimals written with a decimal comma"
         + " reads (0,342 for 0.342, as spreadsheets in European languages save it); refused rather than guessed: write the numbers"
-        + " with a decimal point (pandas: to_csv(decimal='.')), or, if these are two columns of whole numbers, pass --header no");
+        + " with a decimal point (pandas: to_csv(decimal='.')), or, if these are two columns of whole numbers, pass `header` no");
   }
 
   private static final Pattern OTHER_SEPARATOR = Pattern.compile("[\\s;]+");

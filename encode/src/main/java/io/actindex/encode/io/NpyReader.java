@@ -371,7 +371,7 @@ public final class NpyReader implements MatrixReader {
   static BadInputException oneDimensional(String file, long n) {
     return new BadInputException(file + ": field 'shape' (" + n + ",) is a 1-D array, but rows (examples) by columns (units) are needed: save it as shape (1, "
         + n + ") for one row (a.reshape(1, -1)), or (" + n + ", 1) for one column (a.reshape(-1, 1))"
-        + (file.endsWith("]") ? "; or, if this member of the archive is not a layer (labels, ids), name the layers to read with --layers" : ""));
+        + (file.endsWith("]") ? "; or, if this member of the archive is not a layer (labels, ids), name the layers to read with `layers`" : ""));
   }
 
   static BadInputException nonFinite(String file, long row, int col, double v) {

@@ -96,8 +96,8 @@ public final class LayerOrder {
     StringBuilder sb = new StringBuilder(chains.size() == 1 ? "the shapes allow " : "candidate orders ");
     for (int i = 0; i < Math.min(chains.size(), MAX_CANDIDATES - 1); i++) sb.append(i == 0 ? "" : " or ").append(String.join(",", chains.get(i).stream().map(BadInputException::plain).toList()));
     if (chains.size() >= MAX_CANDIDATES) sb.append(" or more");
-    return sb.append(chains.size() == 1 ? "; pass it with --layer-order " + String.join(",", chains.getFirst().stream().map(BadInputException::plain).toList())
-        : "; pass the right one with --layer-order NAME,NAME,...").toString();
+    return sb.append(chains.size() == 1 ? "; pass it with `layerOrder` " + String.join(",", chains.getFirst().stream().map(BadInputException::plain).toList())
+        : "; pass the right one with `layerOrder` NAME,NAME,...").toString();
   }
 
   /**
@@ -161,7 +161,7 @@ public final class LayerOrder {
       used[i] = false;
     }
     if (steps[0] > SEARCH_STEPS)
-      throw new BadInputException(file + ": the " + layers.size() + " layers allow too many orders to search; pass the order with --layer-order");
+      throw new BadInputException(file + ": the " + layers.size() + " layers allow too many orders to search; pass the order with `layerOrder`");
   }
 
   /** Depth-first: every way to continue {@code path} through the unused layers. */

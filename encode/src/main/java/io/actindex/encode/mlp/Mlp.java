@@ -74,7 +74,7 @@ public final class Mlp {
 
   /** What a file holding anything else is told. */
   private static final String PLAIN = "actindex runs a plain stack of linear layers with ReLU between them and would compute other codes"
-      + " than your model: fold such layers into the linear ones (as for inference), or give the activations (--activations)";
+      + " than your model: fold such layers into the linear ones (as for inference), or give the activations (`Source.activations`)";
 
   /**
    * The linear layers a file declares ({@code NAME.weight} of shape {@code [out, in]}), in file

@@ -59,8 +59,8 @@ class CsvHeaderTest {
       String row = d == 1 ? "1" : "1,1";
       Path f = csv("codes.csv", first + "\n" + row + "\n" + row + "\n");
       assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.AUTO)).as(first).isInstanceOf(BadInputException.class)
-          .hasMessageContaining("codes.csv").hasMessageContaining("line 1").hasMessageContaining("--header yes")
-          .hasMessageContaining("--header no");
+          .hasMessageContaining("codes.csv").hasMessageContaining("line 1").hasMessageContaining("`header` yes")
+          .hasMessageContaining("`header` no");
       try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
         assertThat(all(r, 3)).hasSize(3 * d).startsWith(0);
       }
@@ -96,7 +96,7 @@ class CsvHeaderTest {
         assertThatThrownBy(() -> {
           while (r.read(out, chunk) > 0) {}
         }).as("chunk " + chunk).isInstanceOf(BadInputException.class).hasMessageContaining(f.toString())
-            .hasMessageContaining("line 1: '0,342'").hasMessageContaining("decimal comma").hasMessageContaining("--header no");
+            .hasMessageContaining("line 1: '0,342'").hasMessageContaining("decimal comma").hasMessageContaining("`header` no");
       }
     }
     try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
@@ -122,7 +122,7 @@ class CsvHeaderTest {
       assertThat(r.read(new double[stop * 2], stop)).isEqualTo(stop);
       assertThatThrownBy(r::close).as("stopped after " + stop).isInstanceOf(BadInputException.class).hasMessageContaining(f.toString())
           .hasMessageContaining("every row read (the first " + stop + ";").hasMessageContaining("line 1: '0,342'")
-          .hasMessageContaining("decimal comma").hasMessageContaining("--header no");
+          .hasMessageContaining("decimal comma").hasMessageContaining("`header` no");
       r.close(); // refused once
     }
     try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.NO)) {
@@ -204,7 +204,7 @@ class CsvHeaderTest {
     Path f = csv("typo.csv", "1.5,2.O,3\n4,5,6\n");
     assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.AUTO)).isInstanceOf(BadInputException.class)
         .hasMessageContaining("typo.csv").hasMessageContaining("line 1, column 1").hasMessageContaining("'2.O'")
-        .hasMessageContaining("--header yes").hasMessageContaining("--header no");
+        .hasMessageContaining("`header` yes").hasMessageContaining("`header` no");
     assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.NO).read(new double[6], 2)).hasMessageContaining("'2.O' is not a number");
   }
 
@@ -223,7 +223,7 @@ class CsvHeaderTest {
       Path f = csv("num-header.csv", c[0] + "\n" + c[1] + "\n");
       assertThatThrownBy(() -> CsvMatrixReader.open(f, Header.AUTO)).as(c[0]).isInstanceOf(BadInputException.class)
           .hasMessageContaining("num-header.csv").hasMessageContaining("line 1").hasMessageContaining(c[2])
-          .hasMessageContaining("--header yes").hasMessageContaining("--header no");
+          .hasMessageContaining("`header` yes").hasMessageContaining("`header` no");
       double[] row = Arrays.stream(c[1].split(",")).mapToDouble(Double::parseDouble).toArray();
       try (CsvMatrixReader r = CsvMatrixReader.open(f, Header.YES)) {
         assertThat(all(r, 1)).containsExactly(row);

@@ -99,13 +99,13 @@ class NpyReaderTest {
     for (String name : List.of("vector_f4.npy", "vector_u1.npy"))
       assertThatThrownBy(() -> NpyReader.open(Golden.path(name))).as(name).isInstanceOf(BadInputException.class)
           .hasMessageContaining(name).hasMessageContaining("(6,) is a 1-D array").hasMessageContaining("(1, 6) for one row")
-          .hasMessageContaining("(6, 1) for one column").hasMessageNotContaining("--layers");
+          .hasMessageContaining("(6, 1) for one column").hasMessageNotContaining("`layers`");
     try (NpzReader npz = NpzReader.open(Golden.path("vector_member.npz"))) {
       try (NpyReader good = npz.member("first")) {
         assertThat(good.cols()).isEqualTo(5);
       }
       assertThatThrownBy(() -> npz.member("flat")).isInstanceOf(BadInputException.class).hasMessageContaining("vector_member.npz")
-          .hasMessageContaining("flat").hasMessageContaining("(6,) is a 1-D array").hasMessageContaining("--layers");
+          .hasMessageContaining("flat").hasMessageContaining("(6,) is a 1-D array").hasMessageContaining("`layers`");
     }
     // the same refusal for a 1-D array in Fortran order
     Path f = rewriteHeader("vector_f4.npy", "'fortran_order': False", "'fortran_order': True ");

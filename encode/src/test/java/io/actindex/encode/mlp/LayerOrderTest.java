@@ -48,7 +48,7 @@ class LayerOrderTest {
     List<Shape> square = List.of(s("fc1", 16, 16), s("fc2", 16, 16), s("out", 4, 16));
     assertThatThrownBy(() -> resolve(square)).isInstanceOf(BadInputException.class)
         .hasMessageContaining("m.safetensors").hasMessageContaining("fc1,fc2,out").hasMessageContaining("fc2,fc1,out")
-        .hasMessageContaining("--layer-order");
+        .hasMessageContaining("`layerOrder`");
     // the input width breaks the tie when only one first layer takes it
     List<Shape> allSquare = List.of(s("input", 16, 16), s("hidden", 16, 16), s("output", 4, 16));
     assertThatThrownBy(() -> LayerOrder.resolve("m", allSquare, null, 16)).isInstanceOf(BadInputException.class).hasMessageContaining("several");
@@ -74,7 +74,7 @@ class LayerOrderTest {
     // layer2 is applied first: the numbers do not tell the order here
     List<Shape> l = List.of(s("layer1", 4, 8), s("layer2", 8, 3));
     assertThatThrownBy(() -> resolve(l)).isInstanceOf(BadInputException.class).hasMessageContaining("does not chain")
-        .hasMessageContaining("--layer-order layer2,layer1");
+        .hasMessageContaining("`layerOrder` layer2,layer1");
     assertThatThrownBy(() -> resolve(List.of(s("a", 4, 8), s("b", 5, 3)))).hasMessageContaining("no order of the layers");
   }
 
@@ -88,11 +88,11 @@ class LayerOrderTest {
     List<Shape> kernels = List.of(s("0", 8, 16), s("2", 16, 3));
     assertThatThrownBy(() -> LayerOrder.resolve("m.safetensors", kernels, null, 8)).isInstanceOf(BadInputException.class)
         .hasMessageContaining("m.safetensors").hasMessageContaining("does not chain").hasMessageContaining("[in, out]")
-        .hasMessageContaining("transposed").hasMessageContaining("input width 8").hasMessageNotContaining("--layer-order 2,0");
+        .hasMessageContaining("transposed").hasMessageContaining("input width 8").hasMessageNotContaining("`layerOrder` 2,0");
     // another input width, or none known: the order the shapes allow, as before
     for (long width : new long[] {3, -1})
       assertThatThrownBy(() -> LayerOrder.resolve("m.safetensors", kernels, null, width)).as("width %d", width)
-          .hasMessageContaining("--layer-order 2,0").hasMessageNotContaining("transposed");
+          .hasMessageContaining("`layerOrder` 2,0").hasMessageNotContaining("transposed");
   }
 
   @Test

@@ -50,7 +50,7 @@ class TorchGoldenTest {
       EncodeOptions undecided = o;
       // the names give no order and square layers chain in several: refused, with the candidates and the option named
       assertThatThrownBy(() -> Encoders.model(file, inputs, undecided).close()).isInstanceOf(BadInputException.class)
-          .hasMessageContaining(file.getFileName().toString()).hasMessageContaining("--layer-order")
+          .hasMessageContaining(file.getFileName().toString()).hasMessageContaining("`layerOrder`")
           .hasMessageContaining(String.join(",", forward)).hasMessageNotContaining("\n");
       o = o.withModel(forward, output);
     }
@@ -144,6 +144,6 @@ class TorchGoldenTest {
     var inputs = Golden.path("torch/fc_out_inputs.npy");
     assertThatThrownBy(() -> Encoders.model(file, inputs, EncodeOptions.positive()).close()).isInstanceOf(BadInputException.class)
         .hasMessageContaining(name).hasMessageContaining(why).hasMessageNotContaining("\n")
-        .hasMessageContaining(name.endsWith(".pt") ? "safetensors.torch.save_file" : "--activations");
+        .hasMessageContaining(name.endsWith(".pt") ? "safetensors.torch.save_file" : "`Source.activations`");
   }
 }
