@@ -92,7 +92,7 @@ public final class BuildSourceOptions {
   CodeLayout codeLayout() {
     if (codeLayout == null) return null;
     try {
-      return CodeLayout.parse(codeLayout);
+      return CodeLayout.parseTyped(codeLayout);
     } catch (IllegalArgumentException e) {
       throw new BadInputException("--code-layout: " + e.getMessage());
     }

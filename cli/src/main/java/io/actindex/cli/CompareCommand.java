@@ -133,7 +133,7 @@ final class CompareCommand implements Callable<Integer> {
     CodeLayout layout = null;
     if (codeLayout != null) {
       try {
-        layout = CodeLayout.parse(codeLayout);
+        layout = CodeLayout.parseTyped(codeLayout);
       } catch (IllegalArgumentException e) {
         throw new BadInputException("--code-layout: " + e.getMessage());
       }

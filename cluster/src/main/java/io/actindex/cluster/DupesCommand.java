@@ -90,7 +90,7 @@ final class DupesCommand implements Callable<Integer> {
     CodeLayout l = null;
     if (layout != null) {
       try {
-        l = CodeLayout.parse(layout);
+        l = CodeLayout.parseTyped(layout);
       } catch (IllegalArgumentException e) {
         throw new BadInputException("--layout: " + e.getMessage());
       }

@@ -35,8 +35,9 @@ public record CodeLayout(List<Segment> segments) {
     if (total > Integer.MAX_VALUE / 2) throw new IllegalArgumentException("code too long: " + total + " bits");
     for (int i = 0; i < segments.size(); i++)
       for (int j = i + 1; j < segments.size(); j++)
-        if (segments.get(i).name().equals(segments.get(j).name()))
-          throw new IllegalArgumentException("segment name '" + segments.get(i).name() + "' appears twice");
+        if (Names.same(segments.get(i).name(), segments.get(j).name())) // one name in two Unicode forms is one name
+          throw new IllegalArgumentException("segment name '" + segments.get(i).name() + "' appears twice"
+              + (segments.get(i).name().equals(segments.get(j).name()) ? "" : " (written in two Unicode forms)"));
   }
 
   /** A layout of one segment named {@code name}. */
@@ -49,12 +50,26 @@ public record CodeLayout(List<Segment> segments) {
    * refused wherever it stands ({@code split}'s default dropped a trailing one: {@code "a:40,"}).
    */
   public static CodeLayout parse(String spec) {
+    return parse(spec, false);
+  }
+
+  /**
+   * As {@link #parse}, for a layout a user typed ({@code --code-layout}): each name in Unicode NFC
+   * ({@link Names}), as names read from users' files are. {@link #parse} keeps a stored layout's
+   * names as written, since its {@link #hash} is in file headers.
+   */
+  public static CodeLayout parseTyped(String spec) {
+    return parse(spec, true);
+  }
+
+  private static CodeLayout parse(String spec, boolean nfc) {
     List<Segment> segs = new ArrayList<>();
     for (String part : spec.split(",", -1)) {
       int colon = part.lastIndexOf(':');
       if (colon < 0) throw new IllegalArgumentException("layout segment '" + part + "' is not name:bits");
+      String name = part.substring(0, colon).trim();
       try {
-        segs.add(new Segment(part.substring(0, colon).trim(), Integer.parseInt(part.substring(colon + 1).trim())));
+        segs.add(new Segment(nfc ? Names.nfc(name) : name, Integer.parseInt(part.substring(colon + 1).trim())));
       } catch (NumberFormatException e) {
         throw new IllegalArgumentException("layout segment '" + part + "' has no integer bit count");
       }

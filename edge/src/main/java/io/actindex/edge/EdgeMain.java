@@ -4,6 +4,7 @@ import java.io.BufferedReader;
 import java.io.IOException;
 import java.io.InputStreamReader;
 import java.io.PrintStream;
+import java.io.Reader;
 import java.math.BigDecimal;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.AccessDeniedException;
@@ -18,10 +19,11 @@ import java.util.regex.Pattern;
  * prints {@code row,score,decision,p_value} per row. Without {@code --inputs} a row is a code
  * written as its bits, {@code 0} and {@code 1} (commas and spaces ignored), bit 0 first; with it, a
  * row is the raw input, comma-separated numbers, run through the bundle's model, read as the index's
- * CSV reader reads a file under {@code --header auto}: blank lines skipped, a first line of column
- * names skipped with a note on stderr ({@link #firstLine}), a first line that may be either refused,
- * and so is a header with no row after it. Exit 0 ok, 2 a bad bundle, row or option (one line on
- * stderr), 1 anything else.
+ * CSV reader reads a file under {@code --header auto}: blank lines skipped, cells may be quoted, a
+ * first line of column names skipped with a note on stderr ({@link #firstLine}), a first line that
+ * may be either refused, and so is a header with no row after it; two whole numbers in row 0 of a
+ * two-input model are refused ({@link #decimalComma}). Either way empty input and lines ending in CR
+ * alone are refused. Exit 0 ok, 2 a bad bundle, row or option (one line on stderr), 1 anything else.
  */
 public final class EdgeMain {
   private EdgeMain() {}
@@ -31,6 +33,13 @@ public final class EdgeMain {
   }
 
   static final String USAGE = "usage: java -jar actindex-edge.jar BUNDLE [--inputs] < rows";
+
+  /** Standard input refused: the message is the whole line printed. */
+  private static final class Refused extends Exception {
+    Refused(String message) {
+      super(message, null, false, false);
+    }
+  }
 
   static int run(String[] args, BufferedReader in, PrintStream out, PrintStream err) {
     if (args.length == 1 && (args[0].equals("--help") || args[0].equals("-h"))) {
@@ -55,22 +64,32 @@ public final class EdgeMain {
       out.println("row,score,decision,p_value");
       Lines lines = new Lines(in, inputs);
       String line = lines.next(), note = null;
-      if (inputs && line != null) {
+      if (line == null) return fail(err, "stdin holds no rows (it is empty" + (inputs ? " or blank)" : ")"));
+      boolean headed = false;
+      if (inputs) {
         String where = "stdin line " + lines.number;
+        String[] first;
         try {
-          if (firstLine(line)) {
-            String header = line;
-            line = lines.next();
-            if (line == null) return fail(err, where + " is taken as a header (column names, not numbers) and no row follows it" + otherSeparator(header));
-            note = "note: " + where + " taken as a header and skipped (column names, not numbers); row 0 is the next line";
-          }
+          first = cells(line);
+          headed = firstLine(first);
         } catch (IllegalArgumentException e) {
           return fail(err, where + ": " + e.getMessage());
         }
+        if (headed) {
+          line = lines.next();
+          if (line == null) return fail(err, where + " is taken as a header (column names, not numbers) and no row follows it"
+              + (first.length == 1 ? otherSeparator(first[0]) : ""));
+          note = "note: " + where + " taken as a header and skipped (column names, not numbers); row 0 is the next line";
+          if (first.length > 1 && INDEX_HEADER.matcher(first[0].trim()).matches())
+            note += "; hint: column 0 looks like a row index (header cell " + quote(first[0].trim()) + "); it is read as data: write the rows without it"
+                + " (e.g. to_csv(index=False)) if it is not an input";
+        }
       }
+      boolean pairs = inputs && !headed && b.model().layers().get(0).in() == 2;
       for (long row = 0; line != null; row++, line = lines.next()) {
         long[] code;
         try {
+          if (pairs && row == 0) decimalComma(line);
           code = inputs ? b.encode(numbers(line)) : bits(line, b);
         } catch (IllegalArgumentException e) {
           return fail(err, "stdin row " + row + ": " + e.getMessage());
@@ -82,6 +101,8 @@ public final class EdgeMain {
       }
       return 0;
     } catch (EdgeFormatException e) {
+      return fail(err, e.getMessage());
+    } catch (Refused e) {
       return fail(err, e.getMessage());
     } catch (IOException | RuntimeException e) {
       err.println("internal error: " + escape(String.valueOf(e), 2000));
@@ -132,34 +153,64 @@ public final class EdgeMain {
       NOT_FINITE = Pattern.compile("[+-]?(?i:nan|inf|infinity)");
 
   /**
-   * The first line of raw inputs, decided as the index's CSV reader decides under {@code --header
-   * auto}: true, a header, when every cell is text or the cells are the column numbers 0, 1, ...,
-   * d-1 that pandas writes over unnamed columns; false, data, when every cell is a number. Refused
+   * The first line of raw inputs (its {@link #cells}), decided as the index's CSV reader decides
+   * under {@code --header auto}: true, a header, when every cell is text (an empty cell counts as
+   * text, as pandas leaves the row-index column's name empty), or the cells are the column numbers
+   * 0, 1, ..., d-1 that pandas writes over unnamed columns, optionally after a row-index cell (empty,
+   * {@code Unnamed: 0}, {@code index}, {@code row}, {@code id}); false, data, otherwise. Refused
    * (IllegalArgumentException) when it can be both: {@code 0} or {@code 0,1} (column numbers, or a
    * row of 0/1 values), or three or more evenly spaced numbers (numbered column names look like that).
-   * A line mixing text and numbers is data here, refused when read as a row. This reader takes no
-   * {@code --header}, so the way out is a line of column names before a first row of data.
+   * A line mixing text and numbers is data here, refused when read as a row (the index refuses the
+   * line as unclear). This reader takes no {@code --header}, so the way out is a line of column names
+   * before a first row of data.
    */
-  static boolean firstLine(String line) {
-    String[] parts = line.split(",", -1);
-    boolean text = true, number = true, numbered = true;
-    for (int i = 0; i < parts.length; i++) {
-      String f = parts[i].trim();
-      boolean isNumber = DECIMAL.matcher(f).matches() || NOT_FINITE.matcher(f).matches();
-      if (isNumber || f.isEmpty()) text = false;
-      if (!isNumber) number = false;
-      if (!f.equals(Integer.toString(i))) numbered = false;
-    }
-    String cells = String.join(", ", java.util.Arrays.stream(parts).map(String::trim).toArray(String[]::new));
+  static boolean firstLine(String[] f) {
+    int text = 0;
+    for (String c : f) if (!isNumber(c.trim())) text++;
+    String cells = String.join(", ", java.util.Arrays.stream(f).map(String::trim).toArray(String[]::new));
     String wayOut = "; this reader takes no --header: delete the line if it is a header, or put a line of column names before it if it is data";
-    if (numbered && parts.length < 3)
+    if (text == f.length) return true;
+    if (columnNumbers(f, 0) && f.length < 3)
       throw new IllegalArgumentException("holds " + quote(cells) + ", the column numbers a data-frame library writes over unnamed columns, or a row"
-          + " of data (with " + parts.length + (parts.length == 1 ? " column" : " columns") + " either is likely)" + wayOut);
-    if (text || numbered) return true;
-    if (number && evenlySpaced(parts))
+          + " of data (with " + f.length + (f.length == 1 ? " column" : " columns") + " either is likely)" + wayOut);
+    if (columnNumbers(f, 0) || (INDEX_HEADER.matcher(f[0].trim()).matches() && columnNumbers(f, 1))) return true;
+    if (text == 0 && evenlySpaced(f))
       throw new IllegalArgumentException("holds the evenly spaced numbers " + quote(cells) + ", more like column names (columns numbered from 1,"
           + " wavelengths, time offsets) than a row of data" + wayOut);
     return false;
+  }
+
+  /** A row-index column's header cell, as the index's CSV reader recognises one. */
+  private static final Pattern INDEX_HEADER = Pattern.compile("|unnamed: ?0|index|row|id", Pattern.CASE_INSENSITIVE);
+
+  /** Cells {@code from..} are exactly {@code 0, 1, 2, ...}. */
+  private static boolean columnNumbers(String[] f, int from) {
+    if (f.length - from < 1) return false;
+    for (int i = from; i < f.length; i++) if (!f[i].trim().equals(Integer.toString(i - from))) return false;
+    return true;
+  }
+
+  private static boolean isNumber(String s) {
+    return DECIMAL.matcher(s).matches() || NOT_FINITE.matcher(s).matches();
+  }
+
+  private static final Pattern WHOLE = Pattern.compile("[+-]?\\d+"), DIGITS = Pattern.compile("\\d+");
+
+  /**
+   * Row 0 of a two-input model, with no header line before it, that is two whole numbers, the second
+   * unsigned ({@code 0,342}), is refused: it reads the same as one value written with a decimal comma
+   * (0.342). The index's CSV reader refuses such a file under {@code --header auto} when every row is
+   * such a pair, at the end of the file; this reader answers row by row, so it decides on row 0 (a
+   * later row such as {@code 0.5,0.7}, which the index takes as proof of two columns, comes too late).
+   * Quoted cells are never a decimal comma (a writer that quotes quotes {@code "0,342"} whole).
+   */
+  private static void decimalComma(String line) {
+    if (line.indexOf('"') >= 0) return;
+    String[] f = line.split(",", -1);
+    if (f.length != 2 || !WHOLE.matcher(f[0].trim()).matches() || !DIGITS.matcher(f[1].trim()).matches()) return;
+    throw new IllegalArgumentException(quote(line.trim()) + " is two whole numbers, the second without a sign, which is also how one value written"
+        + " with a decimal comma reads (0,342 for 0.342, as spreadsheets in European languages save it); refused rather than guessed: write the"
+        + " numbers with a decimal point, or, if these are the model's two inputs, put a line of column names before the rows");
   }
 
   /** Three or more numbers that rise or fall by one same nonzero step, compared exactly as decimals (as the index's CSV reader compares them). */
@@ -191,29 +242,96 @@ public final class EdgeMain {
         + ", but cells are separated by commas: write the rows with delimiter=','";
   }
 
-  /** Lines of standard input: a UTF-8 byte order mark before the first skipped, blank lines skipped for raw inputs, counted from 1. */
+  /**
+   * Lines of standard input, split at LF (a CR before it dropped), a UTF-8 byte order mark before the
+   * first skipped, blank lines skipped for raw inputs, counted from 1. A CR anywhere else is refused
+   * ({@link Refused}): lines that end in CR alone (classic Mac OS) are one line to the index's CSV
+   * reader, which refuses them, so they are refused here rather than read as rows.
+   */
   private static final class Lines {
-    final BufferedReader in;
+    final Reader in;
     final boolean skipBlank;
+    final char[] buf = new char[8192];
+    int pos, len;
+    final StringBuilder line = new StringBuilder();
     long number;
 
-    Lines(BufferedReader in, boolean skipBlank) {
+    Lines(Reader in, boolean skipBlank) {
       this.in = in;
       this.skipBlank = skipBlank;
     }
 
-    String next() throws IOException {
+    String next() throws IOException, Refused {
       String s;
       do {
-        s = in.readLine();
-        if (s != null && number++ == 0 && s.startsWith("\uFEFF")) s = s.substring(1); // as the index's CSV reader skips it
+        s = read();
+        if (s != null && number == 1 && s.startsWith("\uFEFF")) s = s.substring(1); // as the index's CSV reader skips it
       } while (s != null && skipBlank && s.isBlank());
       return s;
+    }
+
+    private String read() throws IOException, Refused {
+      line.setLength(0);
+      boolean any = false;
+      while (true) {
+        if (pos == len) {
+          len = Math.max(0, in.read(buf));
+          pos = 0;
+          if (len == 0) break;
+        }
+        any = true;
+        char c = buf[pos++];
+        if (c == '\n') break;
+        line.append(c);
+      }
+      if (!any) return null;
+      number++;
+      int n = line.length();
+      if (n > 0 && line.charAt(n - 1) == '\r') line.setLength(--n);
+      if (line.indexOf("\r") >= 0)
+        throw new Refused("stdin line " + number + ": a carriage return inside a line: the lines end in CR alone (classic Mac OS);"
+            + " write them with LF or CRLF line ends");
+      return line.toString();
+    }
+  }
+
+  /**
+   * The cells of a line as the index's CSV reader splits it (RFC 4180 quoting undone, each cell on its
+   * line): {@code "a,b"} is one cell, {@code ""} inside quotes one quote; spaces around a quoted cell
+   * are dropped. A quote left open, or text after a closing quote, is refused naming the column.
+   */
+  static String[] cells(String s) {
+    if (s.indexOf('"') < 0) return s.split(",", -1);
+    java.util.List<String> cells = new java.util.ArrayList<>();
+    StringBuilder cell = new StringBuilder();
+    int i = 0, n = s.length();
+    while (true) {
+      int start = i;
+      while (i < n && s.charAt(i) == ' ') i++;
+      if (i < n && s.charAt(i) == '"') {
+        cell.setLength(0);
+        for (i++; ; i++) {
+          if (i == n) throw new IllegalArgumentException("column " + cells.size() + ": a quoted cell is not closed on its line");
+          char c = s.charAt(i);
+          if (c != '"') cell.append(c);
+          else if (i + 1 < n && s.charAt(i + 1) == '"') cell.append(s.charAt(++i));
+          else break;
+        }
+        for (i++; i < n && s.charAt(i) == ' '; i++) {}
+        if (i < n && s.charAt(i) != ',') throw new IllegalArgumentException("column " + cells.size() + ": text after a closing quote");
+        cells.add(cell.toString());
+      } else {
+        int comma = s.indexOf(',', i);
+        i = comma < 0 ? n : comma;
+        cells.add(s.substring(start, i));
+      }
+      if (i == n) return cells.toArray(String[]::new);
+      i++; // the comma
     }
   }
 
   private static double[] numbers(String line) {
-    String[] parts = line.split(",", -1); // "1,2," keeps its empty last field (refused below), as the index's CSV reader refuses it
+    String[] parts = cells(line); // "1,2," keeps its empty last field (refused below), as the index's CSV reader refuses it
     double[] x = new double[parts.length];
     for (int i = 0; i < x.length; i++) {
       String f = parts[i].trim();

@@ -5,7 +5,10 @@ import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
 import io.actindex.core.BadInputException;
 import io.actindex.index.meta.Where;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import io.actindex.index.store.IndexReader;
+import io.actindex.index.store.IndexWriter;
 import java.nio.file.Path;
 import java.util.Arrays;
 import java.util.List;
@@ -64,5 +67,44 @@ class KeySpacesTest {
     assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(twice))).hasMessageContaining("line 3: key 'k1' already used on line 2");
     Path blank = TestFiles.csv(tmp.resolve("blank.csv"), "key,label\n\"  \",a\n");
     assertThatThrownBy(() -> MetaCsv.read(MetaCsv.Options.of(blank))).hasMessageContaining("line 2: empty key");
+  }
+
+  /**
+   * A key stored with spaces around it (a library caller's, or an index built before keys lost them)
+   * is that key without them: add refused {@code a} beside a stored {@code ' a'} only when the new key
+   * was written {@code ' a'} too, since the look-up tried the stored text and not what it means.
+   */
+  @Test
+  void aKeyStoredWithSpacesIsFoundByTheKeyWithout() {
+    Path dir = build("stored");
+    try (IndexWriter w = IndexWriter.open(dir)) {
+      CodeLayout layout;
+      long[] words;
+      try (IndexReader r = IndexReader.open(dir)) {
+        layout = r.layout();
+        words = r.code(0);
+      }
+      w.add(new CodeBlock(layout, 1, words), List.of(new java.util.HashMap<>(java.util.Map.of("key", " a\t", "label", "x"))));
+      w.add(new CodeBlock(layout, 1, words), List.of(new java.util.HashMap<>(java.util.Map.of("key", "b ", "label", "x"))));
+    }
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertThat(r.meta().document(4).get("key")).isEqualTo(" a\t"); // stored as the caller wrote it
+      assertThat(r.meta().idOfKey("a")).isEqualTo(4);
+      assertThat(r.meta().idOfKey(" a ")).isEqualTo(4);
+      assertThat(r.meta().idOfKey("b")).isEqualTo(5);
+      assertThat(r.meta().idOfKey("ab")).isEqualTo(-1);
+    }
+    Path acts = TestFiles.csv(tmp.resolve("more.csv"), "a,b\n1,0\n");
+    for (String cell : List.of("a", "\" a\"", "b")) {
+      Path meta = TestFiles.csv(tmp.resolve("more-meta.csv"), "key,label\n" + cell + ",v\n");
+      assertThatThrownBy(() -> IndexBuilder.add(new IndexBuilder.AddParams(dir, Source.activations(acts), MetaCsv.Options.of(meta), 4096), Progress.NONE))
+          .as(cell).isInstanceOf(BadInputException.class).hasMessageContaining("is already in the index");
+    }
+    Delete.Result d = Delete.run(new Delete.Params(dir, TestFiles.csv(tmp.resolve("keys.txt"), "a\n"), null));
+    assertThat(d.deleted()).isEqualTo(1);
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertThat(r.meta().idOfKey("a")).isEqualTo(-1); // deleted: no longer found
+      assertThat(r.meta().idOfKey("b")).isEqualTo(5);
+    }
   }
 }

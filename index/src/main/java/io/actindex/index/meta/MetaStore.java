@@ -403,12 +403,49 @@ public final class MetaStore implements Closeable {
 
   /**
    * The id of the live code with this key, or -1: the key as given, else without the whitespace
-   * around it ({@link #key}; a key stored with such whitespace, by a library caller or an index
-   * built before the rule, is still found as written).
+   * around it ({@link #key}), else a live key stored with such whitespace (by a library caller or an
+   * index built before the rule) that is this key once it is gone: {@code a} finds a stored
+   * {@code ' a'}, so that add refuses {@code a} beside it and delete finds it.
    */
   public int idOfKey(String key) {
     int id = exactIdOfKey(key);
-    return id >= 0 || key(key).equals(key) ? id : exactIdOfKey(key(key));
+    if (id < 0 && !key(key).equals(key)) id = exactIdOfKey(key(key));
+    if (id < 0) id = spacedKeys().getOrDefault(key(key), -1);
+    return id;
+  }
+
+  private volatile Map<String, Integer> spacedKeys;
+
+  /** Live stored keys with whitespace around them, by the key without it (read once; few or none in most indexes). */
+  private Map<String, Integer> spacedKeys() {
+    Map<String, Integer> m = spacedKeys;
+    if (m != null) return m;
+    m = new java.util.HashMap<>();
+    try {
+      for (LeafReaderContext leaf : reader.leaves()) {
+        org.apache.lucene.index.Terms terms = leaf.reader().terms(MetaSchema.KEY);
+        if (terms == null) continue;
+        org.apache.lucene.index.TermsEnum te = terms.iterator();
+        org.apache.lucene.util.Bits live = leaf.reader().getLiveDocs();
+        org.apache.lucene.index.PostingsEnum pe = null;
+        for (org.apache.lucene.util.BytesRef b = te.next(); b != null; b = te.next()) {
+          if (b.length == 0) continue;
+          int first = b.bytes[b.offset] & 0xff, last = b.bytes[b.offset + b.length - 1] & 0xff;
+          if (first > ' ' && first < 0x80 && last > ' ' && last < 0x80) continue; // ASCII ends that are not whitespace: no decoding
+          String k = b.utf8ToString();
+          if (key(k).equals(k)) continue;
+          pe = te.postings(pe, org.apache.lucene.index.PostingsEnum.NONE);
+          for (int d = pe.nextDoc(); d != org.apache.lucene.search.DocIdSetIterator.NO_MORE_DOCS; d = pe.nextDoc()) {
+            if (live != null && !live.get(d)) continue;
+            int id = leaf.reader().storedFields().document(d).getField(MetaSchema.ID).numericValue().intValue();
+            if (!deleted.contains(id)) m.putIfAbsent(key(k), id);
+          }
+        }
+      }
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
+    return spacedKeys = Map.copyOf(m);
   }
 
   private int exactIdOfKey(String key) {
