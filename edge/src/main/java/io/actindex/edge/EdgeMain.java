@@ -5,14 +5,12 @@ import java.io.IOException;
 import java.io.InputStreamReader;
 import java.io.PrintStream;
 import java.io.Reader;
-import java.math.BigDecimal;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.AccessDeniedException;
 import java.nio.file.Files;
 import java.nio.file.InvalidPathException;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
-import java.util.regex.Pattern;
 
 /**
  * {@code java -jar actindex-edge.jar BUNDLE [--inputs]}: scores the rows on standard input and
@@ -70,7 +68,7 @@ public final class EdgeMain {
         String where = "stdin line " + lines.number;
         String[] first;
         try {
-          first = cells(line);
+          first = RowText.cells(line);
           headed = firstLine(first);
         } catch (IllegalArgumentException e) {
           return fail(err, where + ": " + e.getMessage());
@@ -80,7 +78,7 @@ public final class EdgeMain {
           if (line == null) return fail(err, where + " is taken as a header (column names, not numbers) and no row follows it"
               + (first.length == 1 ? otherSeparator(first[0]) : ""));
           note = "note: " + where + " taken as a header and skipped (column names, not numbers); row 0 is the next line";
-          if (first.length > 1 && INDEX_HEADER.matcher(first[0].trim()).matches())
+          if (first.length > 1 && RowText.isIndexHeader(first[0].trim()))
             note += "; hint: column 0 looks like a row index (header cell " + quote(first[0].trim()) + "); it is read as data: write the rows without it"
                 + " (e.g. to_csv(index=False)) if it is not an input";
         }
@@ -144,57 +142,31 @@ public final class EdgeMain {
   }
 
   /**
-   * A decimal number as the index's CSV reader takes one (the same patterns as {@code
-   * CsvMatrixReader}'s, written again because this module depends on nothing): Java's own parser
-   * also takes {@code 1f}, {@code 1d} and hexadecimal {@code 0x1p3}, which the index refuses, so an
-   * input the index would refuse is never scored here.
-   */
-  private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?"),
-      NOT_FINITE = Pattern.compile("[+-]?(?i:nan|inf|infinity)");
-
-  /**
-   * The first line of raw inputs (its {@link #cells}), decided as the index's CSV reader decides
-   * under {@code --header auto}: true, a header, when every cell is text (an empty cell counts as
-   * text, as pandas leaves the row-index column's name empty), or the cells are the column numbers
-   * 0, 1, ..., d-1 that pandas writes over unnamed columns, optionally after a row-index cell (empty,
-   * {@code Unnamed: 0}, {@code index}, {@code row}, {@code id}); false, data, otherwise. Refused
-   * (IllegalArgumentException) when it can be both: {@code 0} or {@code 0,1} (column numbers, or a
-   * row of 0/1 values), or three or more evenly spaced numbers (numbered column names look like that).
+   * The first line of raw inputs (its {@link RowText#cells}), decided by {@link RowText#firstLine} as
+   * the index's CSV reader decides under {@code --header auto}: true, a header, for {@code TEXT} and
+   * {@code COLUMN_NUMBERS}; false, data, otherwise. Refused (IllegalArgumentException) when it can be
+   * both: {@code FEW_COLUMN_NUMBERS} ({@code 0} or {@code 0,1}) or {@code EVENLY_SPACED}.
    * A line mixing text and numbers is data here, refused when read as a row (the index refuses the
    * line as unclear). This reader takes no {@code --header}, so the way out is a line of column names
    * before a first row of data.
    */
   static boolean firstLine(String[] f) {
-    int text = 0;
-    for (String c : f) if (!isNumber(c.trim())) text++;
     String cells = String.join(", ", java.util.Arrays.stream(f).map(String::trim).toArray(String[]::new));
     String wayOut = "; this reader takes no --header: delete the line if it is a header, or put a line of column names before it if it is data";
-    if (text == f.length) return true;
-    if (columnNumbers(f, 0) && f.length < 3)
-      throw new IllegalArgumentException("holds " + quote(cells) + ", the column numbers a data-frame library writes over unnamed columns, or a row"
-          + " of data (with " + f.length + (f.length == 1 ? " column" : " columns") + " either is likely)" + wayOut);
-    if (columnNumbers(f, 0) || (INDEX_HEADER.matcher(f[0].trim()).matches() && columnNumbers(f, 1))) return true;
-    if (text == 0 && evenlySpaced(f))
-      throw new IllegalArgumentException("holds the evenly spaced numbers " + quote(cells) + ", more like column names (columns numbered from 1,"
-          + " wavelengths, time offsets) than a row of data" + wayOut);
-    return false;
+    switch (RowText.firstLine(f)) {
+      case TEXT:
+      case COLUMN_NUMBERS:
+        return true;
+      case FEW_COLUMN_NUMBERS:
+        throw new IllegalArgumentException("holds " + quote(cells) + ", the column numbers a data-frame library writes over unnamed columns, or a row"
+            + " of data (with " + f.length + (f.length == 1 ? " column" : " columns") + " either is likely)" + wayOut);
+      case EVENLY_SPACED:
+        throw new IllegalArgumentException("holds the evenly spaced numbers " + quote(cells) + ", more like column names (columns numbered from 1,"
+            + " wavelengths, time offsets) than a row of data" + wayOut);
+      default:
+        return false;
+    }
   }
-
-  /** A row-index column's header cell, as the index's CSV reader recognises one. */
-  private static final Pattern INDEX_HEADER = Pattern.compile("|unnamed: ?0|index|row|id", Pattern.CASE_INSENSITIVE);
-
-  /** Cells {@code from..} are exactly {@code 0, 1, 2, ...}. */
-  private static boolean columnNumbers(String[] f, int from) {
-    if (f.length - from < 1) return false;
-    for (int i = from; i < f.length; i++) if (!f[i].trim().equals(Integer.toString(i - from))) return false;
-    return true;
-  }
-
-  private static boolean isNumber(String s) {
-    return DECIMAL.matcher(s).matches() || NOT_FINITE.matcher(s).matches();
-  }
-
-  private static final Pattern WHOLE = Pattern.compile("[+-]?\\d+"), DIGITS = Pattern.compile("\\d+");
 
   /**
    * Row 0 of a two-input model, with no header line before it, that is two whole numbers, the second
@@ -207,39 +179,16 @@ public final class EdgeMain {
   private static void decimalComma(String line) {
     if (line.indexOf('"') >= 0) return;
     String[] f = line.split(",", -1);
-    if (f.length != 2 || !WHOLE.matcher(f[0].trim()).matches() || !DIGITS.matcher(f[1].trim()).matches()) return;
+    if (f.length != 2 || !RowText.isDecimalCommaPart(0, f[0].trim()) || !RowText.isDecimalCommaPart(1, f[1].trim())) return;
     throw new IllegalArgumentException(quote(line.trim()) + " is two whole numbers, the second without a sign, which is also how one value written"
         + " with a decimal comma reads (0,342 for 0.342, as spreadsheets in European languages save it); refused rather than guessed: write the"
         + " numbers with a decimal point, or, if these are the model's two inputs, put a line of column names before the rows");
   }
 
-  /** Three or more numbers that rise or fall by one same nonzero step, compared exactly as decimals (as the index's CSV reader compares them). */
-  private static boolean evenlySpaced(String[] f) {
-    if (f.length < 3) return false;
-    BigDecimal[] v = new BigDecimal[f.length];
-    try {
-      for (int i = 0; i < f.length; i++) {
-        v[i] = new BigDecimal(f[i].trim());
-        if (Math.abs(v[i].scale()) > 64) return false; // e.g. 1e-999999999: exact differences would take gigabytes
-      }
-    } catch (NumberFormatException e) {
-      return false; // NaN or an infinity: refused as a value later
-    }
-    BigDecimal step = v[1].subtract(v[0]);
-    if (step.signum() == 0) return false;
-    for (int i = 2; i < v.length; i++) if (v[i].subtract(v[i - 1]).compareTo(step) != 0) return false;
-    return true;
-  }
-
-  private static final Pattern OTHER_SEPARATOR = Pattern.compile("[\\s;]+");
-
   /** A hint when a cell is several numbers apart by spaces, tabs or semicolons, worded as the index's CSV reader words it. */
   static String otherSeparator(String cell) {
-    String[] parts = OTHER_SEPARATOR.split(cell.trim());
-    if (parts.length < 2) return "";
-    for (String p : parts) if (!DECIMAL.matcher(p).matches() && !NOT_FINITE.matcher(p).matches()) return "";
-    return "; it holds numbers separated by " + (cell.indexOf(';') >= 0 ? "semicolons" : cell.indexOf('\t') >= 0 ? "tabs" : "spaces")
-        + ", but cells are separated by commas: write the rows with delimiter=','";
+    String by = RowText.otherSeparator(cell);
+    return by == null ? "" : "; it holds numbers separated by " + by + ", but cells are separated by commas: write the rows with delimiter=','";
   }
 
   /**
@@ -295,48 +244,13 @@ public final class EdgeMain {
     }
   }
 
-  /**
-   * The cells of a line as the index's CSV reader splits it (RFC 4180 quoting undone, each cell on its
-   * line): {@code "a,b"} is one cell, {@code ""} inside quotes one quote; spaces around a quoted cell
-   * are dropped. A quote left open, or text after a closing quote, is refused naming the column.
-   */
-  static String[] cells(String s) {
-    if (s.indexOf('"') < 0) return s.split(",", -1);
-    java.util.List<String> cells = new java.util.ArrayList<>();
-    StringBuilder cell = new StringBuilder();
-    int i = 0, n = s.length();
-    while (true) {
-      int start = i;
-      while (i < n && s.charAt(i) == ' ') i++;
-      if (i < n && s.charAt(i) == '"') {
-        cell.setLength(0);
-        for (i++; ; i++) {
-          if (i == n) throw new IllegalArgumentException("column " + cells.size() + ": a quoted cell is not closed on its line");
-          char c = s.charAt(i);
-          if (c != '"') cell.append(c);
-          else if (i + 1 < n && s.charAt(i + 1) == '"') cell.append(s.charAt(++i));
-          else break;
-        }
-        for (i++; i < n && s.charAt(i) == ' '; i++) {}
-        if (i < n && s.charAt(i) != ',') throw new IllegalArgumentException("column " + cells.size() + ": text after a closing quote");
-        cells.add(cell.toString());
-      } else {
-        int comma = s.indexOf(',', i);
-        i = comma < 0 ? n : comma;
-        cells.add(s.substring(start, i));
-      }
-      if (i == n) return cells.toArray(String[]::new);
-      i++; // the comma
-    }
-  }
-
   private static double[] numbers(String line) {
-    String[] parts = cells(line); // "1,2," keeps its empty last field (refused below), as the index's CSV reader refuses it
+    String[] parts = RowText.cells(line); // "1,2," keeps its empty last field (refused below), as the index's CSV reader refuses it
     double[] x = new double[parts.length];
     for (int i = 0; i < x.length; i++) {
       String f = parts[i].trim();
-      if (NOT_FINITE.matcher(f).matches()) throw new IllegalArgumentException("column " + i + ": not finite");
-      if (!DECIMAL.matcher(f).matches()) throw new IllegalArgumentException("column " + i + ": " + quote(f) + " is not a number" + otherSeparator(f));
+      if (RowText.isNotFinite(f)) throw new IllegalArgumentException("column " + i + ": not finite");
+      if (!RowText.isDecimal(f)) throw new IllegalArgumentException("column " + i + ": " + quote(f) + " is not a number" + otherSeparator(f));
       x[i] = Double.parseDouble(f);
       if (!Double.isFinite(x[i])) throw new IllegalArgumentException("column " + i + ": not finite");
     }

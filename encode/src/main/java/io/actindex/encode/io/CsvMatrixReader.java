@@ -3,9 +3,9 @@ package io.actindex.encode.io;
 import io.actindex.core.BadInputException;
 import io.actindex.core.BadParameterException;
 import io.actindex.core.Names;
+import io.actindex.edge.RowText;
 import java.io.IOException;
 import java.io.InputStream;
-import java.math.BigDecimal;
 import java.nio.ByteBuffer;
 import java.nio.CharBuffer;
 import java.nio.charset.CharsetDecoder;
@@ -128,74 +128,40 @@ public final class CsvMatrixReader implements MatrixReader {
   /** The way out of a first line AUTO cannot decide on: every command that reads CSV data takes {@code --header}. */
   static final String HEADER_CHOICE = "pass `header` yes (a header) or `header` no (data)";
 
-  /** The AUTO rule; adds the note saying what was chosen. */
+  /** The AUTO rule ({@link RowText#firstLine}); adds the note saying what was chosen. */
   private boolean detect(String[] f, long firstLine) {
-    int text = 0, firstText = -1;
-    for (int i = 0; i < f.length; i++)
-      if (!isNumber(f[i].trim())) {
-        text++;
-        if (firstText < 0) firstText = i;
+    switch (RowText.firstLine(f)) {
+      case TEXT -> {
+        notes.add(file + ": line " + firstLine + " taken as the header (every cell is text; `header` no reads it as data)");
+        return true;
       }
-    if (text == f.length) {
-      notes.add(file + ": line " + firstLine + " taken as the header (every cell is text; `header` no reads it as data)");
-      return true;
-    }
-    if (columnNumbers(f, 0) && f.length < 3) // "0" or "0,1": as likely a row of 0/1 codes or counts as pandas' header
-      throw new BadInputException(file + ": line " + firstLine + " holds " + String.join(", ", Arrays.stream(f).map(String::trim).toList())
-          + ", the column numbers a data-frame library writes over unnamed columns, or a row of data (with " + f.length
-          + (f.length == 1 ? " column" : " columns") + " either is likely); " + HEADER_CHOICE);
-    if (columnNumbers(f, 0) || (isIndexHeaderCell(f[0].trim()) && columnNumbers(f, 1))) {
-      notes.add(file + ": line " + firstLine + " taken as the header (its cells are the column numbers; `header` no reads it as data)");
-      return true;
-    }
-    if (text == 0 && evenlySpaced(f))
-      throw new BadInputException(file + ": line " + firstLine + " holds the evenly spaced numbers " + f[0].trim() + ", " + f[1].trim() + ", ..., "
-          + f[f.length - 1].trim() + ", more like column names (columns numbered from 1, wavelengths, time offsets) than a row of data;"
-          + " " + HEADER_CHOICE);
-    if (text == 0) {
-      notes.add(file + ": no header line (every cell of line " + firstLine + " is a number; `header` yes skips it)");
-      return false;
-    }
-    String hint = isIndexHeaderCell(f[0].trim()) ? "; column 0 looks like a row index column (header cell " + BadInputException.quote(f[0].trim())
-        + "): write the file without it" : "";
-    throw new BadInputException(file + ": line " + firstLine + ", column " + firstText + " (0-based): " + BadInputException.quote(f[firstText].trim())
-        + " is text but other cells of the line are numbers, so it is unclear whether the line is a header; " + HEADER_CHOICE
-        + hint);
-  }
-
-  /**
-   * Three or more numbers that rise or fall by one same nonzero step, compared exactly as decimals
-   * ({@code 0.1, 0.2, 0.3} is evenly spaced): a header of numbered columns, which read as data would
-   * shift every row by one.
-   */
-  private static boolean evenlySpaced(String[] f) {
-    if (f.length < 3) return false;
-    BigDecimal[] v = new BigDecimal[f.length];
-    try {
-      for (int i = 0; i < f.length; i++) {
-        v[i] = new BigDecimal(f[i].trim());
-        if (Math.abs(v[i].scale()) > 64) return false; // e.g. 1e-999999999: exact differences would take gigabytes
+      case FEW_COLUMN_NUMBERS -> // "0" or "0,1": as likely a row of 0/1 codes or counts as pandas' header
+        throw new BadInputException(file + ": line " + firstLine + " holds " + String.join(", ", Arrays.stream(f).map(String::trim).toList())
+            + ", the column numbers a data-frame library writes over unnamed columns, or a row of data (with " + f.length
+            + (f.length == 1 ? " column" : " columns") + " either is likely); " + HEADER_CHOICE);
+      case COLUMN_NUMBERS -> {
+        notes.add(file + ": line " + firstLine + " taken as the header (its cells are the column numbers; `header` no reads it as data)");
+        return true;
       }
-    } catch (NumberFormatException e) {
-      return false; // NaN or an infinity: refused as a value later
+      case EVENLY_SPACED ->
+        throw new BadInputException(file + ": line " + firstLine + " holds the evenly spaced numbers " + f[0].trim() + ", " + f[1].trim() + ", ..., "
+            + f[f.length - 1].trim() + ", more like column names (columns numbered from 1, wavelengths, time offsets) than a row of data;"
+            + " " + HEADER_CHOICE);
+      case NUMBERS -> {
+        notes.add(file + ": no header line (every cell of line " + firstLine + " is a number; `header` yes skips it)");
+        return false;
+      }
+      case MIXED -> {
+        int firstText = 0;
+        while (RowText.isNumber(f[firstText].trim())) firstText++;
+        String hint = RowText.isIndexHeader(f[0].trim()) ? "; column 0 looks like a row index column (header cell "
+            + BadInputException.quote(f[0].trim()) + "): write the file without it" : "";
+        throw new BadInputException(file + ": line " + firstLine + ", column " + firstText + " (0-based): " + BadInputException.quote(f[firstText].trim())
+            + " is text but other cells of the line are numbers, so it is unclear whether the line is a header; " + HEADER_CHOICE
+            + hint);
+      }
     }
-    BigDecimal step = v[1].subtract(v[0]);
-    if (step.signum() == 0) return false;
-    for (int i = 2; i < v.length; i++) if (v[i].subtract(v[i - 1]).compareTo(step) != 0) return false;
-    return true;
-  }
-
-  /** Cells {@code from..} are exactly {@code 0, 1, 2, ...}. */
-  private static boolean columnNumbers(String[] f, int from) {
-    if (f.length - from < 1) return false;
-    for (int i = from; i < f.length; i++) if (!f[i].trim().equals(Integer.toString(i - from))) return false;
-    return true;
-  }
-
-  private static final Pattern INDEX_HEADER = Pattern.compile("|unnamed: ?0|index|row|id", Pattern.CASE_INSENSITIVE);
-
-  private static boolean isIndexHeaderCell(String s) {
-    return INDEX_HEADER.matcher(s).matches();
+    throw new AssertionError();
   }
 
   /** A note when column 0 holds 0, 1, 2... (or 1, 2, 3...) in the rows read ahead, or has a row-index header cell. */
@@ -216,7 +182,7 @@ public final class CsvMatrixReader implements MatrixReader {
       if ((start != 0 && start != 1) || v != start + k) counting = false;
       k++;
     }
-    boolean named = header != null && isIndexHeaderCell(header.getFirst());
+    boolean named = header != null && RowText.isIndexHeader(header.getFirst());
     if (!counting && !named) return null;
     return file + ": hint: column 0 looks like a row index (" + (named ? "header cell " + BadInputException.quote(header.getFirst()) : "")
         + (named && counting ? ", " : "") + (counting ? "values " + start + ", " + (start + 1) + ", ..." : "")
@@ -246,19 +212,9 @@ public final class CsvMatrixReader implements MatrixReader {
     }
   }
 
-  /** A decimal number as a cell of data may write one (no {@code 1f}, no hexadecimal). */
-  private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
-
-  /** A NaN/infinity word (recognised so that it is refused as a value, not taken for a header). */
-  private static final Pattern NOT_FINITE = Pattern.compile("[+-]?(?i:nan|inf|infinity)");
-
-  /** Whether {@code s} is a decimal number as this reader takes one ({@code 3}, {@code -0.5}, {@code 1e-3}). */
+  /** Whether {@code s} is a decimal number as this reader takes one ({@code 3}, {@code -0.5}, {@code 1e-3}; no {@code 1f}, no hexadecimal). */
   public static boolean isDecimal(String s) {
-    return DECIMAL.matcher(s).matches();
-  }
-
-  private static boolean isNumber(String s) {
-    return isDecimal(s) || NOT_FINITE.matcher(s).matches();
+    return RowText.isDecimal(s);
   }
 
   /** The next non-blank line, decoded strictly as UTF-8, or null at the end. */
@@ -400,44 +356,16 @@ public final class CsvMatrixReader implements MatrixReader {
   }
 
   /**
-   * The cells of a line, RFC 4180 quoting undone: {@code "a,b"} is one cell, {@code ""} inside
-   * quotes one quote (a cell may not span lines). A quote left open, or text after a closing quote,
-   * is refused naming line {@code at}; at {@code -1} (a line read ahead, refused later when parsed)
-   * the line is split at every comma instead.
+   * The cells of a line ({@link RowText#cells}: RFC 4180 quoting undone, a cell on one line). A quote
+   * left open, or text after a closing quote, is refused naming line {@code at}; at {@code -1} (a line
+   * read ahead, refused later when parsed) the line is split at every comma instead.
    */
   private String[] split(String s, long at) {
-    if (s.indexOf('"') < 0) return s.split(",", -1);
-    List<String> cells = new ArrayList<>();
-    StringBuilder cell = new StringBuilder();
-    int i = 0, n = s.length();
-    while (true) {
-      int start = i;
-      while (i < n && s.charAt(i) == ' ') i++;
-      if (i < n && s.charAt(i) == '"') {
-        cell.setLength(0);
-        for (i++; ; i++) {
-          if (i == n) {
-            if (at < 0) return s.split(",", -1);
-            throw new BadInputException(file + ": line " + at + ", column " + cells.size() + " (0-based): a quoted cell is not closed on its line");
-          }
-          char c = s.charAt(i);
-          if (c != '"') cell.append(c);
-          else if (i + 1 < n && s.charAt(i + 1) == '"') cell.append(s.charAt(++i));
-          else break;
-        }
-        for (i++; i < n && s.charAt(i) == ' '; i++) {}
-        if (i < n && s.charAt(i) != ',') {
-          if (at < 0) return s.split(",", -1);
-          throw new BadInputException(file + ": line " + at + ", column " + cells.size() + " (0-based): text after a closing quote");
-        }
-        cells.add(cell.toString());
-      } else {
-        int comma = s.indexOf(',', i);
-        i = comma < 0 ? n : comma;
-        cells.add(s.substring(start, i));
-      }
-      if (i == n) return cells.toArray(String[]::new);
-      i++; // the comma
+    try {
+      return RowText.cells(s);
+    } catch (RowText.BadCell e) {
+      if (at < 0) return s.split(",", -1);
+      throw new BadInputException(file + ": line " + at + ", column " + e.column() + " (0-based): " + e.reason());
     }
   }
 
@@ -468,15 +396,13 @@ public final class CsvMatrixReader implements MatrixReader {
   /** The number in cell {@code f} (trimmed); empty, text, NaN and infinities are refused naming the cell. */
   private double value(String f, long at, int col) {
     if (f.isEmpty()) throw new BadInputException(where(at, col) + ": empty field");
-    if (wholePairs && !(col == 0 ? WHOLE : DIGITS).matcher(f).matches()) wholePairs = false;
-    if (!isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number" + otherSeparator(f));
+    if (wholePairs && !RowText.isDecimalCommaPart(col, f)) wholePairs = false;
+    if (!RowText.isNumber(f)) throw new BadInputException(where(at, col) + ": " + BadInputException.quote(f) + " is not a number" + otherSeparator(f));
     char c0 = f.charAt(f.length() - 1);
     double v = Character.isLetter(c0) ? Double.NaN : Double.parseDouble(f);
     if (!Double.isFinite(v)) throw new BadInputException(where(at, col) + ": value is " + BadInputException.quote(f) + "; only finite numbers are accepted");
     return v;
   }
-
-  private static final Pattern WHOLE = Pattern.compile("[+-]?\\d+"), DIGITS = Pattern.compile("\\d+");
 
   /**
    * A file without a header whose every row is two whole numbers, the second without a sign
@@ -495,14 +421,10 @@ public final class CsvMatrixReader implements MatrixReader {
         + " with a decimal point (pandas: to_csv(decimal='.')), or, if these are two columns of whole numbers, pass `header` no");
   }
 
-  private static final Pattern OTHER_SEPARATOR = Pattern.compile("[\\s;]+");
-
   /** A hint when a cell is several numbers apart by spaces, tabs or semicolons (np.savetxt's default delimiter is a space). */
   private static String otherSeparator(String cell) {
-    String[] parts = OTHER_SEPARATOR.split(cell.trim());
-    if (parts.length < 2) return "";
-    for (String s : parts) if (!isNumber(s)) return "";
-    return "; it holds numbers separated by " + (cell.indexOf(';') >= 0 ? "semicolons" : cell.indexOf('\t') >= 0 ? "tabs" : "spaces")
+    String by = RowText.otherSeparator(cell);
+    return by == null ? "" : "; it holds numbers separated by " + by
         + ", but cells are separated by commas: write the file with delimiter=',' (np.savetxt's default is a space)";
   }
 
