@@ -17,7 +17,8 @@ import picocli.CommandLine.Spec;
 /** {@code actindex delete}: tombstones for examples named by key or by a metadata filter. */
 @Command(name = "delete", mixinStandardHelpOptions = true,
     description = {"Deletes examples from an index in one atomic commit (their ids are never reused).",
-        "Their codes stay on disk until 'actindex compact'. A key that names no live example (deleted already, or never added) "
+        "Name the examples with --keys FILE or --where EXPR (exactly one of them). "
+            + "Their codes stay on disk until 'actindex compact'. A key that names no live example (deleted already, or never added) "
             + "refuses the whole delete, unless --skip-missing is given."})
 final class DeleteCommand implements Callable<Integer> {
   @Spec CommandSpec spec;

@@ -15,8 +15,9 @@ public final class HeaderOption {
   /** What {@code auto} does; shared by every {@code --header} description. */
   static final String AUTO_RULE = "auto (default): a header when every cell is text or the cells are the column numbers 0..d-1, data when"
       + " every cell is a number; a line mixing both, or of three or more evenly spaced numbers (1..d, 400,410,420: numbered column"
-      + " names), is refused, and so is a file without a header whose every row is two whole numbers, the second unsigned (0,342: one"
-      + " column written with a decimal comma reads so; no reads it as two columns).";
+      + " names) or a first line 0 or 0,1 (column numbers or 0/1 codes), is refused, and so is a file without a header whose every row"
+      + " (every row read, when reading stops early) is two whole numbers, the second unsigned (0,342: one column written with a"
+      + " decimal comma reads so; no reads it as two columns).";
 
   @Spec(Spec.Target.MIXEE) CommandSpec mixee;
 
