@@ -40,6 +40,8 @@ class ParamsRefusalsTest {
     refused("threads", () -> new OodScore.Params(0, OodScorer.Kind.CODE, 0));
     refused("threads", () -> new OodCalibrate.Params(5, EdgeBundle.Statistic.values()[0], 0.95, null, false, OodScorer.Kind.CODE, 0, 0));
     refused("threads", () -> new OodEval.Params(IN, IN, null, null, null, 0, OodScorer.Kind.CODE, 0, null));
+    refused("candidates", () -> new OodCalibrate.Params(5, EdgeBundle.Statistic.values()[0], 0.95, null, false, OodScorer.Kind.CODE, -1, 1));
+    refused("candidates", () -> new OodEval.Params(IN, IN, null, null, null, -1, OodScorer.Kind.CODE, 1, null));
     refused("largest", () -> new Census.Params(null, -1, 0));
     refused("examples", () -> new Census.Params(null, 0, -1));
     refused("threads", () -> new Compact.Params(DIR, -1));
