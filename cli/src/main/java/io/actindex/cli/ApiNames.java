@@ -27,6 +27,7 @@ final class ApiNames {
       "outputLayer false", "--no-output-layer",
       "BinarizeRule.MEDIAN", "--median",
       "BuildParams.dir", "--out",
+      "keysFile", "--keys",
       "Refine.run", "nearest --refine",
       "OodScore.decide", "--decision-only");
 

@@ -21,6 +21,7 @@ class ApiNamesTest {
     assertThat(ApiNames.option("magnitudeBits")).isEqualTo("--magnitudes");
     assertThat(ApiNames.option("magnitudeBits 0")).isEqualTo("--magnitudes off");
     assertThat(ApiNames.option("BuildParams.dir")).isEqualTo("--out");
+    assertThat(ApiNames.option("keysFile")).isEqualTo("--keys");
     // not a name, or a class alone
     assertThat(ApiNames.option("two words")).isNull();
     assertThat(ApiNames.option("Source.Kind")).isNull();

@@ -1,5 +1,6 @@
 package io.actindex.encode;
 
+import io.actindex.core.BadParameterException;
 import io.actindex.core.Names;
 import java.util.Collections;
 import java.util.LinkedHashMap;
@@ -28,7 +29,7 @@ public record EncodeOptions(BinarizeRule rule, double threshold, List<String> la
 
   public EncodeOptions {
     if (rule == null) throw new IllegalArgumentException("binarization rule is null");
-    if (!Double.isFinite(threshold)) throw new IllegalArgumentException("threshold must be finite, got " + threshold);
+    if (!Double.isFinite(threshold)) throw new BadParameterException("threshold", " must be a finite number, got " + threshold);
     layers = layers == null ? null : layers.stream().map(Names::nfc).toList(); // names in one Unicode form, as the readers give them
     if (medians != null) {
       Map<String, double[]> m = new LinkedHashMap<>();

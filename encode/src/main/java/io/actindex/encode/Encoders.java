@@ -225,7 +225,7 @@ public final class Encoders {
    */
   public static long exportActivations(Mlp mlp, String modelName, Path inputs, List<String> layers, Path out) throws IOException {
     checkReadable(inputs);
-    OutputFiles.checkTarget(out, "out", new OutputFiles.Input("inputs", inputs));
+    OutputFiles.checkTarget(out, "`out`", new OutputFiles.Input("`inputs`", inputs));
     boolean npy = extension(out).equals("npy");
     try (MatrixReader r = openMatrix(inputs)) {
       ModelLayers src = new ModelLayers(mlp, modelName, r, layers, null);

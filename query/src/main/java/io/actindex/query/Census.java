@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.index.store.IndexReader;
@@ -49,7 +50,8 @@ public final class Census {
    */
   public record Params(List<String> layers, int largest, int examples) {
     public Params {
-      if (largest < 0 || examples < 0) throw new BadInputException("largest and examples must be at least 0");
+      if (largest < 0) throw new BadParameterException("largest", " must be at least 0, got " + largest);
+      if (examples < 0) throw new BadParameterException("examples", " must be at least 0, got " + examples);
       layers = layers == null ? List.of() : List.copyOf(layers);
     }
   }

@@ -18,7 +18,7 @@ public final class Compact {
   public record Params(Path dir, int threads) {
     public Params {
       Objects.requireNonNull(dir, "dir");
-      if (threads < 0) throw new IllegalArgumentException("threads must be 0 (one per core) or more, got " + threads);
+      Parallel.checkThreadsOrAuto(threads);
     }
 
     public Params(Path dir) {

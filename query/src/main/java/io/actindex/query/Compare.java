@@ -128,7 +128,7 @@ public final class Compare {
       if (maxIter < 1) throw new BadParameterException("maxIter", " must be at least 1, got " + maxIter);
       if (!(tol > 0 && tol < 2)) // two marginals of mass 1 are never more than 2 apart in L1: a larger tol stops at once
         throw new BadParameterException("tol", " must be above 0 and below 2 (the L1 distance between the marginals is at most 2), got " + tol);
-      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+      Parallel.checkThreads(threads);
     }
 
     public static Options defaults() {

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.meta.Where;
 import io.actindex.index.store.IndexReader;
@@ -40,8 +41,8 @@ public final class Delete {
     public Params {
       Objects.requireNonNull(dir, "dir");
       if ((keysFile == null) == (where == null))
-        throw new IllegalArgumentException("give exactly one of a keys file and a where-expression");
-      if (skipMissing && keysFile == null) throw new IllegalArgumentException("skipping missing keys needs a keys file");
+        throw new BadInputException("give exactly one of `keysFile` and `where`");
+      if (skipMissing && keysFile == null) throw new BadParameterException("skipMissing", " needs `keysFile` (it skips the keys that name no live example)");
     }
 
     public Params(Path dir, Path keysFile, String where) {

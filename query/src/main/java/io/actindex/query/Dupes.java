@@ -49,7 +49,7 @@ public final class Dupes {
     public Params {
       if (radius < 0) throw new BadParameterException("radius", " must be at least 0, got " + radius);
       if (groups < 0) throw new BadParameterException("groups", " must be at least 0, got " + groups);
-      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+      Parallel.checkThreads(threads);
       layers = layers == null ? List.of() : List.copyOf(layers);
     }
   }

@@ -57,11 +57,11 @@ public final class Fidelity {
    */
   public record Params(int queries, int k, int candidates, int pairs, long seed, int threads) {
     public Params {
-      if (queries < 1) throw new BadInputException("queries must be at least 1, got " + queries);
-      if (k < 1) throw new BadInputException("k must be at least 1, got " + k);
-      if (candidates < k) throw new BadInputException("candidates (" + candidates + ") must be at least k (" + k + ")");
-      if (pairs < 2 || pairs > MAX_PAIRS) throw new BadInputException("pairs must be from 2 to " + MAX_PAIRS + ", got " + pairs);
-      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+      if (queries < 1) throw new BadParameterException("queries", " must be at least 1, got " + queries);
+      if (k < 1) throw new BadParameterException("k", " must be at least 1, got " + k);
+      if (candidates < k) throw new BadParameterException("candidates", " (" + candidates + ") must be at least `k` (" + k + ")");
+      if (pairs < 2 || pairs > MAX_PAIRS) throw new BadParameterException("pairs", " must be from 2 to " + MAX_PAIRS + ", got " + pairs);
+      Parallel.checkThreads(threads);
     }
   }
 

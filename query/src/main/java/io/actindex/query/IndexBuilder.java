@@ -4,6 +4,7 @@ import io.actindex.encode.BinarizeRule;
 import io.actindex.encode.EncodeOptions;
 import io.actindex.encode.NeuronStats;
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.OutputFiles;
 import io.actindex.core.DiskFull;
 import io.actindex.core.CodeBlock;
@@ -56,13 +57,13 @@ public final class IndexBuilder {
   public record BuildParams(Path dir, Source source, MetaCsv.Options meta, EncodeOptions encode, CodeLayout codesLayout,
       int chunkRows, int magnitudeBits, int threads) {
     public BuildParams {
-      if (threads < 0) throw new IllegalArgumentException("threads must be 0 (one per core) or more, got " + threads);
+      Parallel.checkThreadsOrAuto(threads);
       java.util.Objects.requireNonNull(dir, "dir");
       java.util.Objects.requireNonNull(source, "source");
       if (encode == null) encode = new EncodeOptions(BinarizeRule.POSITIVE, 0, null);
       if (magnitudeBits < 0) magnitudeBits = source.kind() == Source.Kind.CODES ? 0 : DEFAULT_MAGNITUDE_BITS;
       if (magnitudeBits != 0 && !Magnitudes.supported(magnitudeBits))
-        throw new BadInputException("bits per kept magnitude must be 2, 4 or 8 (or off), got " + magnitudeBits);
+        throw new BadParameterException("magnitudeBits", " must be 2, 4 or 8 (0 keeps none, -1 the default), got " + magnitudeBits);
       if (magnitudeBits != 0 && source.kind() == Source.Kind.CODES)
         throw new BadInputException(source.file() + ": codes carry no magnitudes to keep; build from activations or a model's inputs");
     }
@@ -92,7 +93,7 @@ public final class IndexBuilder {
     public AddParams {
       java.util.Objects.requireNonNull(dir, "dir");
       java.util.Objects.requireNonNull(source, "source");
-      if (threads < 0) throw new IllegalArgumentException("threads must be 0 (one per core) or more, got " + threads);
+      Parallel.checkThreadsOrAuto(threads);
     }
 
     public AddParams(Path dir, Source source, MetaCsv.Options meta, int chunkRows) {

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hamming;
 import io.actindex.core.Hits;
@@ -45,8 +46,8 @@ public final class Nearest {
    */
   public record Params(int k, String where, List<String> layers, int threads, boolean ties, boolean voteOverTies) {
     public Params {
-      if (k < 1) throw new BadInputException("k must be at least 1, got " + k);
-      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+      if (k < 1) throw new BadParameterException("k", " must be at least 1, got " + k);
+      Parallel.checkThreads(threads);
       layers = layers == null ? List.of() : List.copyOf(layers);
     }
 

@@ -46,8 +46,8 @@ public final class OodCalibrate {
     }
 
     public Params {
-      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
-      if (candidates < 0) throw new BadParameterException("candidates", " must be at least 1, got " + candidates);
+      Parallel.checkThreads(threads);
+      if (candidates < 0) throw new BadParameterException("candidates", " must be at least 1 (or 0 for the default, " + Refine.DEFAULT_CANDIDATES + "), got " + candidates);
       if (!(tpr > 0 && tpr < 1)) throw new BadParameterException("tpr", " must lie strictly between 0 and 1, got " + tpr);
       if (statistic == null) statistic = Statistic.KTH;
       layers = layers == null ? List.of() : List.copyOf(layers);

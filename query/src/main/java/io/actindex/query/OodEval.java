@@ -58,8 +58,8 @@ public final class OodEval {
       if (header == null) header = CsvMatrixReader.Header.AUTO;
       in = in.withHeader(header);
       out = out.withHeader(header);
-      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
-      if (candidates < 0) throw new BadParameterException("candidates", " must be at least 1, got " + candidates);
+      Parallel.checkThreads(threads);
+      if (candidates < 0) throw new BadParameterException("candidates", " must be at least 1 (or 0 for the default, " + Refine.DEFAULT_CANDIDATES + "), got " + candidates);
       int floats = (inFloats != null ? 1 : 0) + (outFloats != null ? 1 : 0) + (trainFloats != null ? 1 : 0);
       if (floats != 0 && floats != 3)
         throw new BadInputException("the float score needs `inFloats`, `outFloats` and `trainFloats` together");

@@ -35,7 +35,7 @@ public final class OodScore {
   public record Params(int evidence, OodScorer.Kind score, int threads) {
     public Params {
       if (evidence < 0) throw new BadParameterException("evidence", " must be at least 0, got " + evidence);
-      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+      Parallel.checkThreads(threads);
     }
 
     public Params(int evidence, OodScorer.Kind score) {

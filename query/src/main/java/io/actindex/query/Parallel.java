@@ -1,5 +1,6 @@
 package io.actindex.query;
 
+import io.actindex.core.BadParameterException;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.concurrent.ExecutionException;
@@ -11,6 +12,16 @@ import java.util.function.IntConsumer;
 /** Runs one task per query on up to {@code threads} threads, reporting (done, n) to a progress callback. */
 final class Parallel {
   private Parallel() {}
+
+  /** Refuses a {@code threads} parameter below 1 (a {@code Params} check; the caller resolves "one per core" first). */
+  static void checkThreads(int threads) {
+    if (threads < 1) throw new BadParameterException("threads", " must be at least 1, got " + threads);
+  }
+
+  /** Refuses a {@code threads} parameter below 0, where 0 means one per core. */
+  static void checkThreadsOrAuto(int threads) {
+    if (threads < 0) throw new BadParameterException("threads", " must be 0 (one per core) or more, got " + threads);
+  }
 
   /** Calls {@code task} with {@code 0..n-1}; the first task failure is rethrown. */
   static void forEach(int n, int threads, Progress progress, IntConsumer task) {

@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hits;
 import io.actindex.core.IdSet;
@@ -57,10 +58,10 @@ public final class Refine {
    */
   public record Params(int k, int candidates, Metric metric, String where, List<String> layers, int threads) {
     public Params {
-      if (k < 1) throw new BadInputException("k must be at least 1, got " + k);
-      if (candidates < 1) throw new BadInputException("candidates must be at least 1, got " + candidates);
-      if (candidates < k) throw new BadInputException("candidates (" + candidates + ") must be at least k (" + k + ")");
-      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+      if (k < 1) throw new BadParameterException("k", " must be at least 1, got " + k);
+      if (candidates < 1) throw new BadParameterException("candidates", " must be at least 1, got " + candidates);
+      if (candidates < k) throw new BadParameterException("candidates", " (" + candidates + ") must be at least `k` (" + k + ")");
+      Parallel.checkThreads(threads);
       if (metric == null) metric = Metric.COSINE;
       layers = layers == null ? List.of() : List.copyOf(layers);
     }

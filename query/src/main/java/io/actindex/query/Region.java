@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.Hits;
 import io.actindex.core.IdSet;
@@ -37,8 +38,8 @@ public final class Region {
    */
   public record Params(int radius, List<String> layers, String where, int examples) {
     public Params {
-      if (radius < 0) throw new BadInputException("radius must be at least 0, got " + radius);
-      if (examples < 0) throw new BadInputException("examples must be at least 0, got " + examples);
+      if (radius < 0) throw new BadParameterException("radius", " must be at least 0, got " + radius);
+      if (examples < 0) throw new BadParameterException("examples", " must be at least 0, got " + examples);
       layers = layers == null ? List.of() : List.copyOf(layers);
     }
   }

@@ -36,7 +36,7 @@ public final class Report {
     public Params {
       if (out == null) throw new BadInputException("report: `out` is required");
       if ((compareA == null) != (compareB == null)) throw new BadInputException("report: give both `compareA` and `compareB`, or neither");
-      if (threads < 1) throw new BadInputException("threads must be at least 1, got " + threads);
+      Parallel.checkThreads(threads);
       if (compareHeader == null) compareHeader = CsvMatrixReader.Header.AUTO;
     }
 

@@ -64,7 +64,7 @@ class XorNetworkTest {
     java.nio.file.Path inputs = java.nio.file.Files.copy(Golden.path("xor_inputs.npy"), tmp.resolve("x.npy"));
     byte[] before = java.nio.file.Files.readAllBytes(inputs);
     org.assertj.core.api.Assertions.assertThatThrownBy(() -> Encoders.exportActivations(mlp, "xor", inputs, null, tmp.resolve(".").resolve("x.npy")))
-        .isInstanceOf(io.actindex.core.BadInputException.class).hasMessageContaining("x.npy").hasMessageContaining("same file as the input");
+        .isInstanceOf(io.actindex.core.BadInputException.class).hasMessageContaining("x.npy").hasMessageContaining("`out` is the same file as the input `inputs`");
     assertThat(java.nio.file.Files.readAllBytes(inputs)).isEqualTo(before);
     try (var files = java.nio.file.Files.list(tmp)) {
       assertThat(files.map(p -> p.getFileName().toString()).toList()).containsExactly("x.npy");
