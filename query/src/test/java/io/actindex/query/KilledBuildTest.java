@@ -19,6 +19,7 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.security.MessageDigest;
 import java.util.HexFormat;
+import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
 import java.util.TreeMap;
@@ -55,7 +56,7 @@ class KilledBuildTest {
 
     String[] lines = child(tmp.resolve("whole"), codesFile, 0, why).strip().split("\n"); // Lucene may log on stderr first
     int ops = Integer.parseInt(lines[lines.length - 1].strip());
-    int unfinished = 0, complete = 0, noIndex = 0;
+    int unfinished = 0, complete = 0, noIndex = 0, lockOnly = 0;
     for (int k = 1; k <= ops; k++) {
       Path dir = tmp.resolve("killed-" + k);
       String at = why + " halted after file operation " + k + " of " + ops;
@@ -63,6 +64,14 @@ class KilledBuildTest {
       if (!hasManifest(dir)) {
         BadInputException e = assertThrows(BadInputException.class, () -> IndexReader.open(dir).close(), at);
         assertTrue(e.getMessage().contains("no index in") || e.getMessage().contains("does not exist"), at + ": " + e.getMessage());
+        if (Files.exists(dir.resolve("writer.lock"))) {
+          // the build's lock file without a manifest: readers, writers and the check say what to do
+          for (Exception x : List.of(e, assertThrows(BadInputException.class, () -> IndexWriter.open(dir).close(), at),
+              assertThrows(BadInputException.class, () -> IndexCheck.run(dir), at)))
+            assertTrue(x.getMessage().contains("no manifest-N file beside writer.lock") && x.getMessage().endsWith("remove the folder and build again"),
+                at + ": " + x.getMessage());
+          lockOnly++;
+        }
         noIndex++;
         continue;
       }
@@ -94,7 +103,8 @@ class KilledBuildTest {
       complete++;
     }
     // the state that matters was met: the empty first generation published before the rows' commit
-    assertTrue(unfinished > 0 && complete > 0, why + ": unfinished " + unfinished + ", complete " + complete + ", no index " + noIndex);
+    assertTrue(unfinished > 0 && complete > 0 && lockOnly > 0,
+        why + ": unfinished " + unfinished + ", complete " + complete + ", no index " + noIndex + " (lock file only " + lockOnly + ")");
   }
 
   /** Runs {@link KilledBuildChild}; returns its standard output. */

@@ -154,6 +154,11 @@ public record Manifest(long generation, UUID uuid, CodeLayout layout, int nextId
 
   /** The refusal of {@code dir} when it holds no manifest ({@link #newestGeneration} is -1). */
   static BadInputException noManifest(Path dir) {
+    // only a build's create leaves the writer's lock file without a manifest: say what to do about it
+    if (Files.exists(dir.resolve(WriteLock.FILE)))
+      return new BadInputException("no index in " + dir + ": no manifest-N file beside " + WriteLock.FILE + " (a build there is "
+          + "still running, or it was stopped by a kill or power loss before writing its first manifest, or the manifests were "
+          + "deleted); remove the folder and build again");
     return new BadInputException("no index in " + dir + ": no manifest-N file (not an index, its manifest was deleted, or a build "
         + "there has not written its first one yet)");
   }
