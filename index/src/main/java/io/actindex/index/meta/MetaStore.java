@@ -14,6 +14,7 @@ import java.nio.file.Path;
 import java.nio.file.StandardOpenOption;
 import java.util.ArrayList;
 import java.util.Collections;
+import java.util.HashMap;
 import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
@@ -26,8 +27,12 @@ import org.apache.lucene.index.IndexCommit;
 import org.apache.lucene.index.IndexableField;
 import org.apache.lucene.index.LeafReaderContext;
 import org.apache.lucene.index.NumericDocValues;
+import org.apache.lucene.index.PostingsEnum;
 import org.apache.lucene.index.Term;
+import org.apache.lucene.index.Terms;
+import org.apache.lucene.index.TermsEnum;
 import org.apache.lucene.search.CollectorManager;
+import org.apache.lucene.search.DocIdSetIterator;
 import org.apache.lucene.search.FieldExistsQuery;
 import org.apache.lucene.search.IndexSearcher;
 import org.apache.lucene.search.MatchAllDocsQuery;
@@ -41,6 +46,8 @@ import org.apache.lucene.store.Directory;
 import org.apache.lucene.store.FSDirectory;
 import org.apache.lucene.store.IOContext;
 import org.apache.lucene.store.IndexInput;
+import org.apache.lucene.util.Bits;
+import org.apache.lucene.util.BytesRef;
 import org.apache.lucene.util.IOUtils;
 import org.roaringbitmap.RoaringBitmap;
 
@@ -373,7 +380,7 @@ public final class MetaStore implements Closeable {
       for (LeafReaderContext leaf : reader.leaves()) {
         NumericDocValues values = leaf.reader().getNumericDocValues(MetaSchema.ID);
         if (values == null) continue;
-        org.apache.lucene.util.Bits live = leaf.reader().getLiveDocs();
+        Bits live = leaf.reader().getLiveDocs();
         for (int doc = values.nextDoc(); doc != NumericDocValues.NO_MORE_DOCS; doc = values.nextDoc()) {
           if (live != null && !live.get(doc)) continue;
           int id = Math.toIntExact(values.longValue());
@@ -420,22 +427,22 @@ public final class MetaStore implements Closeable {
   private Map<String, Integer> spacedKeys() {
     Map<String, Integer> m = spacedKeys;
     if (m != null) return m;
-    m = new java.util.HashMap<>();
+    m = new HashMap<>();
     try {
       for (LeafReaderContext leaf : reader.leaves()) {
-        org.apache.lucene.index.Terms terms = leaf.reader().terms(MetaSchema.KEY);
+        Terms terms = leaf.reader().terms(MetaSchema.KEY);
         if (terms == null) continue;
-        org.apache.lucene.index.TermsEnum te = terms.iterator();
-        org.apache.lucene.util.Bits live = leaf.reader().getLiveDocs();
-        org.apache.lucene.index.PostingsEnum pe = null;
-        for (org.apache.lucene.util.BytesRef b = te.next(); b != null; b = te.next()) {
+        TermsEnum te = terms.iterator();
+        Bits live = leaf.reader().getLiveDocs();
+        PostingsEnum pe = null;
+        for (BytesRef b = te.next(); b != null; b = te.next()) {
           if (b.length == 0) continue;
           int first = b.bytes[b.offset] & 0xff, last = b.bytes[b.offset + b.length - 1] & 0xff;
           if (first > ' ' && first < 0x80 && last > ' ' && last < 0x80) continue; // ASCII ends that are not whitespace: no decoding
           String k = b.utf8ToString();
           if (key(k).equals(k)) continue;
-          pe = te.postings(pe, org.apache.lucene.index.PostingsEnum.NONE);
-          for (int d = pe.nextDoc(); d != org.apache.lucene.search.DocIdSetIterator.NO_MORE_DOCS; d = pe.nextDoc()) {
+          pe = te.postings(pe, PostingsEnum.NONE);
+          for (int d = pe.nextDoc(); d != DocIdSetIterator.NO_MORE_DOCS; d = pe.nextDoc()) {
             if (live != null && !live.get(d)) continue;
             int id = leaf.reader().storedFields().document(d).getField(MetaSchema.ID).numericValue().intValue();
             if (!deleted.contains(id)) m.putIfAbsent(key(k), id);
