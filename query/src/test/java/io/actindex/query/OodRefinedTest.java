@@ -32,8 +32,10 @@ import org.roaringbitmap.RoaringBitmap;
  * within the C-th smallest distance (ties at the C-th included), each candidate's vector
  * dequantised from the {@link Magnitudes} the test quantised itself, the cosine distance computed
  * here, sorted; the score is the k-th smallest (or the mean of the k smallest). Random and ReLU-like
- * data, deletes, layers, both statistics, many seeds. Then the commands end to end: the stored
- * calibration records the score, and mismatches and codes-only queries are refused.
+ * data, deletes, layers, both statistics, many seeds, before and after a compaction merges the two
+ * segments (their rows keep their own quantisation, so the scores stay the same). Then the commands
+ * end to end: the stored calibration records the score, and mismatches and codes-only queries are
+ * refused.
  */
 class OodRefinedTest {
   @TempDir Path tmp;
@@ -80,18 +82,24 @@ class OodRefinedTest {
       }
       w.delete(deleted.toArray());
     }
-    try (IndexReader r = IndexReader.open(dir)) {
-      QueryCodes q = new QueryCodes(qCodes, 0);
-      for (int round = 0; round < 4; round++) {
-        int k = 1 + rnd.nextInt(8), c = k + rnd.nextInt(round == 3 ? 3 : 50);
-        Statistic st = rnd.nextBoolean() ? Statistic.KTH : Statistic.MEAN;
-        List<String> layers = round == 2 && codes.layout().segments().size() > 1 ? List.of(codes.layout().segments().get(1).name()) : null;
-        int[] units = layers == null ? java.util.stream.IntStream.range(0, d).toArray() : Refine.units(codes.layout(), Layers.select(codes.layout(), layers));
-        OodScorer scorer = new OodScorer(r, k, st, layers, OodScorer.Kind.REFINED, c);
-        for (int i = 0; i < qCodes.size(); i++) {
-          String at = why + " bits " + bits + " round " + round + " k " + k + " C " + c + " " + st.label + " query " + i;
-          double want = bruteForce(codes, vectors, deleted, qCodes.code(i), Arrays.copyOfRange(qActs, i * d, i * d + d), units, k, c, st);
-          assertThat(scorer.score(q, qActs, i).value()).as(at).isCloseTo(want, org.assertj.core.api.Assertions.within(1e-12));
+    for (int pass = 0; pass < 2; pass++) {
+      if (pass == 1)
+        try (IndexWriter w = IndexWriter.open(dir)) { // one segment: the two batches' rows keep their own quantisation
+          w.compact();
+        }
+      try (IndexReader r = IndexReader.open(dir)) {
+        QueryCodes q = new QueryCodes(qCodes, 0);
+        for (int round = 0; round < 4; round++) {
+          int k = 1 + rnd.nextInt(8), c = k + rnd.nextInt(round == 3 ? 3 : 50);
+          Statistic st = rnd.nextBoolean() ? Statistic.KTH : Statistic.MEAN;
+          List<String> layers = round == 2 && codes.layout().segments().size() > 1 ? List.of(codes.layout().segments().get(1).name()) : null;
+          int[] units = layers == null ? java.util.stream.IntStream.range(0, d).toArray() : Refine.units(codes.layout(), Layers.select(codes.layout(), layers));
+          OodScorer scorer = new OodScorer(r, k, st, layers, OodScorer.Kind.REFINED, c);
+          for (int i = 0; i < qCodes.size(); i++) {
+            String at = why + (pass == 1 ? " after compaction" : "") + " bits " + bits + " round " + round + " k " + k + " C " + c + " " + st.label + " query " + i;
+            double want = bruteForce(codes, vectors, deleted, qCodes.code(i), Arrays.copyOfRange(qActs, i * d, i * d + d), units, k, c, st);
+            assertThat(scorer.score(q, qActs, i).value()).as(at).isCloseTo(want, org.assertj.core.api.Assertions.within(1e-12));
+          }
         }
       }
     }

@@ -26,24 +26,39 @@ import java.util.UUID;
  *   bytes  n rows of ceil(d*b/8) bytes; unit j of a row in byte j/(8/b), bits (j%(8/b))*b
  *          upward (low bits first); bits past unit d-1 in a row's last byte are zero
  * </pre>
+ * Version 2 (written only for more than one block) keeps several quantisations, one per block of
+ * consecutive rows, so that merging segments of the same bits copies their rows unchanged: after
+ * the bits byte {@code int} blocks B (at least 2), B {@code int}s the first row of each block (0,
+ * then strictly ascending, below n), then per block d offsets and d steps; the rows as above, each
+ * read with its block's offsets and steps.
  */
 public final class Magnitudes {
   public static final String CODEC = "actindex.magnitudes";
-  static final int VERSION_START = 1, VERSION_CURRENT = 1;
+  static final int VERSION_START = 1, VERSION_CURRENT = 2;
 
   private final int count, units, bits, rowBytes;
+  /** First row of each block; block b's offsets and steps are {@code lo, step[b*units .. (b+1)*units)}. */
+  private final int[] starts;
   private final float[] lo, step;
   private final byte[] data;
 
-  private Magnitudes(int count, int units, int bits, float[] lo, float[] step, byte[] data) {
+  private Magnitudes(int count, int units, int bits, int[] starts, float[] lo, float[] step, byte[] data) {
     checkBits(bits);
     this.count = count;
     this.units = units;
     this.bits = bits;
     this.rowBytes = rowBytes(units, bits);
+    this.starts = starts;
     this.lo = lo;
     this.step = step;
     this.data = data;
+  }
+
+  /** The block holding row {@code ord}. */
+  private int block(int ord) {
+    if (starts.length == 1) return 0;
+    int i = Arrays.binarySearch(starts, ord);
+    return i >= 0 ? i : -i - 2;
   }
 
   /** True for the supported widths 2, 4 and 8. */
@@ -106,7 +121,7 @@ public final class Magnitudes {
         }
         data[i * rb + j / perByte] |= (byte) (q << ((j % perByte) * bits));
       }
-    return new Magnitudes(n, units, bits, offset, step, data);
+    return new Magnitudes(n, units, bits, new int[] {0}, offset, step, data);
   }
 
   public int count() {
@@ -126,23 +141,25 @@ public final class Magnitudes {
     return data.length;
   }
 
-  /** The largest error of one dequantised value of unit {@code j}: half its step. */
+  /** The largest error of one dequantised value of unit {@code j}: half its largest step. */
   public float maxError(int j) {
-    return step[j] / 2;
+    float s = 0;
+    for (int b = 0; b < starts.length; b++) s = Math.max(s, step[b * units + j]);
+    return s / 2;
   }
 
   /** Writes the dequantised row {@code ord} to {@code out[off .. off+units)}. */
   public void dequantise(int ord, float[] out, int off) {
-    int base = ord * rowBytes;
+    int base = ord * rowBytes, p = block(ord) * units;
     if (bits == 8) {
-      for (int j = 0; j < units; j++) out[off + j] = lo[j] + (data[base + j] & 0xff) * step[j];
+      for (int j = 0; j < units; j++) out[off + j] = lo[p + j] + (data[base + j] & 0xff) * step[p + j];
       return;
     }
     // 2 or 4 bits: unit j in byte j >>> perByteShift at bit (j & (perByte-1)) * bits; shifts, no division
     int perByteShift = bits == 4 ? 1 : 2, slotMask = (1 << perByteShift) - 1, bitShift = bits == 4 ? 2 : 1, mask = (1 << bits) - 1;
     for (int j = 0; j < units; j++) {
       int q = (data[base + (j >>> perByteShift)] >>> ((j & slotMask) << bitShift)) & mask;
-      out[off + j] = lo[j] + q * step[j];
+      out[off + j] = lo[p + j] + q * step[p + j];
     }
   }
 
@@ -155,9 +172,10 @@ public final class Magnitudes {
 
   /**
    * The rows {@code ords[p]} of {@code parts.get(p)}, in that order, as one set (compaction). Parts
-   * with the same bits, offsets and steps are copied byte for byte; otherwise the rows are
-   * dequantised and quantised again, with the largest bits of the parts, over the union of the
-   * parts' ranges (error at most half the old step plus half the new one).
+   * of the same bits are copied byte for byte, each row keeping its offsets and steps (one block
+   * per run of rows with the same ones), so every row reads back exactly as before; parts of
+   * different bits are dequantised and quantised again, with the largest bits of the parts, over
+   * the union of the parts' ranges (error at most half the old step plus half the new one).
    */
   public static Magnitudes merge(List<Magnitudes> parts, List<int[]> ords) {
     if (parts.isEmpty()) throw new IllegalArgumentException("nothing to merge");
@@ -166,17 +184,36 @@ public final class Magnitudes {
     boolean same = true;
     for (Magnitudes m : parts) {
       if (m.units != units) throw new IllegalArgumentException("cannot merge magnitudes of " + m.units + " and " + units + " units");
-      same &= m.bits == first.bits && Arrays.equals(m.lo, first.lo) && Arrays.equals(m.step, first.step);
+      same &= m.bits == first.bits;
       bits = Math.max(bits, m.bits);
     }
     for (int[] o : ords) n = Math.addExact(n, o.length);
     int rb = first.rowBytes;
     if (same) {
       byte[] data = new byte[Math.multiplyExact(n, rb)];
-      int at = 0;
-      for (int p = 0; p < parts.size(); p++)
-        for (int o : ords.get(p)) System.arraycopy(parts.get(p).data, o * rb, data, (at++) * rb, rb);
-      return new Magnitudes(n, units, bits, first.lo.clone(), first.step.clone(), data);
+      List<Integer> starts = new java.util.ArrayList<>();
+      List<Magnitudes> owners = new java.util.ArrayList<>(); // block k's offsets and steps: owners[k]'s block at[k]
+      List<Integer> at = new java.util.ArrayList<>();
+      int row = 0;
+      for (int p = 0; p < parts.size(); p++) {
+        Magnitudes m = parts.get(p);
+        for (int o : ords.get(p)) {
+          int q = m.block(o) * units;
+          if (starts.isEmpty() || !m.sameBlock(q, owners.getLast(), at.getLast())) {
+            starts.add(row);
+            owners.add(m);
+            at.add(q);
+          }
+          System.arraycopy(m.data, o * rb, data, (row++) * rb, rb);
+        }
+      }
+      if (starts.isEmpty()) return new Magnitudes(0, units, bits, new int[] {0}, new float[units], new float[units], data);
+      float[] lo = new float[starts.size() * units], step = new float[lo.length];
+      for (int k = 0; k < starts.size(); k++) {
+        System.arraycopy(owners.get(k).lo, at.get(k), lo, k * units, units);
+        System.arraycopy(owners.get(k).step, at.get(k), step, k * units, units);
+      }
+      return new Magnitudes(n, units, bits, starts.stream().mapToInt(Integer::intValue).toArray(), lo, step, data);
     }
     float[] values = new float[Math.multiplyExact(n, units)];
     float[] lo = new float[units], hi = new float[units];
@@ -187,24 +224,37 @@ public final class Magnitudes {
       Magnitudes m = parts.get(p);
       for (int o : ords.get(p)) m.dequantise(o, values, (at++) * units);
       if (ords.get(p).length == 0) continue;
-      for (int j = 0; j < units; j++) {
-        lo[j] = Math.min(lo[j], m.lo[j]);
-        hi[j] = Math.max(hi[j], m.lo[j] + ((1 << m.bits) - 1) * m.step[j]);
-      }
+      for (int q = 0; q < m.lo.length; q += units)
+        for (int j = 0; j < units; j++) {
+          lo[j] = Math.min(lo[j], m.lo[q + j]);
+          hi[j] = Math.max(hi[j], m.lo[q + j] + ((1 << m.bits) - 1) * m.step[q + j]);
+        }
     }
     return quantise(values, n, units, bits, lo, hi);
   }
 
+  /** True when this one's block at {@code q} has the offsets and steps of {@code o}'s block at {@code r}. */
+  private boolean sameBlock(int q, Magnitudes o, int r) {
+    return Arrays.equals(lo, q, q + units, o.lo, r, r + units) && Arrays.equals(step, q, q + units, o.step, r, r + units);
+  }
+
   /** Writes {@code m} as the magnitudes file of segment {@code segmentId}. */
   static FileRef write(StoreIo io, Path dir, UUID uuid, int layoutHash, int segmentId, Magnitudes m) throws IOException {
-    try (ChecksummedFile.Out out = ChecksummedFile.create(io, dir.resolve(fileName(segmentId)), CODEC, VERSION_CURRENT,
-        layoutHash, uuid)) {
+    int blocks = m.starts.length;
+    try (ChecksummedFile.Out out = ChecksummedFile.create(io, dir.resolve(fileName(segmentId)), CODEC,
+        blocks == 1 ? VERSION_START : VERSION_CURRENT, layoutHash, uuid)) {
       out.writeInt(segmentId);
       out.writeInt(m.count);
       out.writeInt(m.units);
       out.writeByte(m.bits);
-      for (float v : m.lo) out.writeFloat(v);
-      for (float v : m.step) out.writeFloat(v);
+      if (blocks > 1) {
+        out.writeInt(blocks);
+        for (int s : m.starts) out.writeInt(s);
+      }
+      for (int q = 0; q < m.lo.length; q += m.units) {
+        for (int j = 0; j < m.units; j++) out.writeFloat(m.lo[q + j]);
+        for (int j = 0; j < m.units; j++) out.writeFloat(m.step[q + j]);
+      }
       out.write(m.data);
       return out.finish();
     }
@@ -224,10 +274,23 @@ public final class Magnitudes {
     if (units != m.layout().bits()) throw in.error("has " + units + " units per row, the layout has " + m.layout().bits() + " bits");
     int bits = in.getByte("bits per value");
     if (!supported(bits)) throw in.error("bits per value is " + bits + " (2, 4 or 8 expected)");
-    float[] lo = floats(in, "offsets", units), step = floats(in, "steps", units);
-    for (int j = 0; j < units; j++)
-      if (!Float.isFinite(lo[j]) || !Float.isFinite(step[j]) || step[j] < 0)
-        throw in.error("unit " + j + " has offset " + lo[j] + " and step " + step[j]);
+    int[] starts = {0};
+    if (in.header().version() >= 2) {
+      int blocks = in.getCount("blocks", Math.max(2, n));
+      if (blocks < 2) throw in.error("has " + blocks + " blocks (at least 2 expected in version 2)");
+      starts = in.ints("block starts", blocks);
+      for (int b = 0; b < blocks; b++)
+        if (b == 0 ? starts[0] != 0 : starts[b] <= starts[b - 1] || starts[b] >= n)
+          throw in.error("block " + b + " starts at row " + starts[b] + " (0, then ascending below " + n + ")");
+    }
+    float[] lo = new float[starts.length * units], step = new float[lo.length];
+    for (int b = 0; b < starts.length; b++) {
+      System.arraycopy(floats(in, "offsets", units), 0, lo, b * units, units);
+      System.arraycopy(floats(in, "steps", units), 0, step, b * units, units);
+      for (int j = b * units; j < (b + 1) * units; j++)
+        if (!Float.isFinite(lo[j]) || !Float.isFinite(step[j]) || step[j] < 0)
+          throw in.error((b > 0 ? "block " + b + ", " : "") + "unit " + (j - b * units) + " has offset " + lo[j] + " and step " + step[j]);
+    }
     int rb = rowBytes(units, bits);
     long len = Math.multiplyExact((long) n, rb);
     if (len > Integer.MAX_VALUE - 16) throw in.error(n + " rows of " + rb + " bytes do not fit one array");
@@ -239,7 +302,7 @@ public final class Magnitudes {
     if (used != 0)
       for (int i = 0; i < n; i++)
         if ((data[i * rb + rb - 1] & 0xff) >>> used != 0) throw in.error("row " + i + " has bits set past its last unit");
-    return new Magnitudes(n, units, bits, lo, step, data);
+    return new Magnitudes(n, units, bits, starts, lo, step, data);
   }
 
   private static float[] floats(ChecksummedFile.In in, String field, int count) {

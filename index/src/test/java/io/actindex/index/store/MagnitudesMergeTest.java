@@ -15,27 +15,38 @@ import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Kept magnitudes follow their codes through a split at a lowered segment cap, automatic merges,
- * deletes and compaction: every live id reads back exactly the row it was added with (each batch
- * spans the same range per unit, so merged files copy rows byte for byte), and check passes.
+ * deletes and compaction: every live id reads back exactly (bit for bit) the row it was added
+ * with, whether the batches span the same range per unit (one quantisation, rows copied) or each
+ * its own (rows copied, each keeping its batch's offsets and steps), and check passes.
  */
 class MagnitudesMergeTest {
   @TempDir Path tmp;
 
   @Test
   void magnitudesFollowSplitsMergesAndCompaction() {
-    long seed = Randoms.seed(0);
-    String why = Randoms.describe(seed);
+    run(Randoms.seed(0), true);
+  }
+
+  @Test
+  void batchesOfDifferentRangesAreNotQuantisedAgain() {
+    for (int s = 1; s <= 5; s++) run(Randoms.seed(s), false);
+  }
+
+  private void run(long seed, boolean sameRange) {
+    String why = Randoms.describe(seed) + (sameRange ? ", same range per batch" : ", own range per batch");
     SplittableRandom rnd = new SplittableRandom(seed);
     int n = 90, bits = 64;
     CodeBlock codes = SyntheticCodes.uniform(n, bits, seed);
     float[] values = new float[n * bits];
-    for (int i = 0; i < values.length; i++) values[i] = rnd.nextInt(256) / 255f;
-    for (int b = 0; b < 3; b++) // rows 30b and 30b+1 hold 0 and 1 in every unit: the same range per batch
-      for (int j = 0; j < bits; j++) {
-        values[(30 * b) * bits + j] = 0;
-        values[(30 * b + 1) * bits + j] = 1;
-      }
-    Path dir = tmp.resolve("idx");
+    for (int i = 0; i < values.length; i++)
+      values[i] = sameRange ? rnd.nextInt(256) / 255f : (float) (rnd.nextDouble() * (1 + i / (30 * bits)) - 0.3 * rnd.nextDouble());
+    if (sameRange)
+      for (int b = 0; b < 3; b++) // rows 30b and 30b+1 hold 0 and 1 in every unit: the same range per batch
+        for (int j = 0; j < bits; j++) {
+          values[(30 * b) * bits + j] = 0;
+          values[(30 * b + 1) * bits + j] = 1;
+        }
+    Path dir = tmp.resolve("idx-" + seed + "-" + sameRange);
     Magnitudes[] batches = new Magnitudes[3];
     MergePolicy policy = new MergePolicy(256 + 12 * (8L + 4), 2, 4);
     RoaringBitmap deleted = RoaringBitmap.bitmapOf(5, 33, 61, 62);
@@ -49,6 +60,10 @@ class MagnitudesMergeTest {
       check(dir, batches, deleted, 0, why + " after delete");
       w.compact();
       check(dir, batches, deleted, 0, why + " after compaction");
+    }
+    try (IndexReader r = IndexReader.open(dir)) { // else the rows above never shared a file across batches
+      assertTrue(r.info().segments().stream().anyMatch(g -> g.firstId() / 30 != (g.endId() - 1) / 30),
+          why + ": a compacted segment holds rows of two batches " + r.info().segments());
     }
     assertTrue(IndexCheck.run(dir).ok(), why + ": " + IndexCheck.run(dir).firstDamaged());
   }
