@@ -66,6 +66,46 @@ class MagnitudesMergeTest {
           why + ": a compacted segment holds rows of two batches " + r.info().segments());
     }
     assertTrue(IndexCheck.run(dir).ok(), why + ": " + IndexCheck.run(dir).firstDamaged());
+    if (!sameRange) flippedBytesOfMergedMagnitudesAreCaught(dir, rnd, why);
+  }
+
+  /**
+   * A merged magnitudes file of several blocks (file version 2) is damage-checked like any other:
+   * one flipped bit anywhere (its block count and starts included) makes opening fail or check report
+   * the file, by name.
+   */
+  private void flippedBytesOfMergedMagnitudesAreCaught(Path dir, SplittableRandom rnd, String why) {
+    java.util.List<Path> mags = StoreFixtures.files(dir).stream().filter(f -> f.getFileName().toString().endsWith(".mags")).toList();
+    assertTrue(!mags.isEmpty(), why + ": a magnitudes file");
+    int trial = 0;
+    for (Path file : mags) {
+      String rel = dir.relativize(file).toString(), name = file.getFileName().toString();
+      long size = file.toFile().length();
+      for (long pos : new long[] {0, 40, 60, 80, size / 2, size - 1, rnd.nextLong(size)}) {
+        if (pos >= size) continue;
+        Path copy = tmp.resolve(dir.getFileName() + "-damaged-" + trial++);
+        StoreFixtures.copy(dir, copy);
+        int bit = 1 << rnd.nextInt(8);
+        try (java.io.RandomAccessFile raf = new java.io.RandomAccessFile(copy.resolve(rel).toFile(), "rw")) {
+          raf.seek(pos);
+          int b = raf.read();
+          raf.seek(pos);
+          raf.write(b ^ bit);
+        } catch (java.io.IOException e) {
+          throw new java.io.UncheckedIOException(e);
+        }
+        String where = why + ": " + rel + " byte " + pos + " bit " + bit;
+        String message;
+        try (IndexReader r = IndexReader.open(copy)) {
+          IndexCheck.Report report = IndexCheck.run(copy);
+          assertTrue(!report.ok(), where + ": neither open nor check saw the damage");
+          message = report.firstDamaged().file();
+        } catch (io.actindex.core.BadInputException e) {
+          message = e.getMessage();
+        }
+        assertTrue(message.contains(name), where + ": the refusal does not name the file: " + message);
+      }
+    }
   }
 
   private static void check(Path dir, Magnitudes[] batches, RoaringBitmap deleted, int unused, String why) {
