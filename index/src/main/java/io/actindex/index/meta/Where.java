@@ -32,13 +32,15 @@ import org.apache.lucene.util.BytesRef;
  * andExpr    := notExpr ( "and" notExpr )*
  * notExpr    := "not" notExpr | "(" expr ")" | comparison
  * comparison := FIELD op VALUE | FIELD [ "not" ] "in" "(" VALUE ( "," VALUE )* ")"
+ * FIELD      := bare word | 'single quoted' | "double quoted"
  * op         := "=" | "!=" | "&lt;" | "&lt;=" | "&gt;" | "&gt;="
  * VALUE      := bare word | 'single quoted' | "double quoted"   (backslash escapes the quote)
  * </pre>
  *
  * Keywords ({@code and or not in}) are case-insensitive; field names are not. A bare word is any
  * run of characters other than spaces, quotes, parentheses, commas, {@code = ! < >}; quote values
- * that hold those or that spell a keyword. On a NUMBER field the value must parse as a number and
+ * that hold those or that spell a keyword, and field names alike (a metadata column may be named
+ * {@code and} or {@code night shift}). On a NUMBER field the value must parse as a number and
  * {@code = != < <= > >=} compare numerically; on a KEYWORD field only {@code =}, {@code !=} and
  * {@code in} are allowed and compare exact strings. {@code a != v} and {@code not ...} also match
  * examples that have no value for {@code a}. An unknown field or a syntax error is a {@link
@@ -147,8 +149,9 @@ public final class Where {
 
   private Query comparison() {
     Token field = next();
-    if (field.type != T.WORD || isKeyword(field.text))
-      throw error(field, "expected a field name, found " + field.describe());
+    if (field.type != T.STRING && (field.type != T.WORD || isKeyword(field.text)))
+      throw error(field, "expected a field name, found " + field.describe()
+          + (field.type == T.WORD && fieldName(field.text) != null ? " (a field named like a keyword is written in quotes: '" + field.text + "')" : ""));
     String name = fieldName(field.text);
     if (name == null)
       throw error(field, "unknown field '" + snippet(field.text) + "'; known fields: " + String.join(", ", new TreeSet<>(fields.keySet())));

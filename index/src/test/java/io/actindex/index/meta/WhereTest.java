@@ -117,6 +117,31 @@ class WhereTest {
   }
 
   /**
+   * A metadata column may be named like a keyword ({@code and}, {@code IN}) or hold spaces and
+   * symbols ({@code night shift}, {@code rpm (avg)}): build and add take such columns, and a field
+   * name in quotes reaches them. As a bare word a keyword-named field was refused, and a spaced
+   * name could not be written at all.
+   */
+  @Test
+  void quotedFieldNamesReachColumnsNamedLikeKeywordsOrWithSpaces(@org.junit.jupiter.api.io.TempDir java.nio.file.Path tmp) {
+    List<Map<String, String>> meta = new ArrayList<>();
+    for (int i = 0; i < 6; i++)
+      meta.add(Map.of("key", "k" + i, "and", i % 2 == 0 ? "x" : "y", "IN", "v" + (i % 3), "night shift", Integer.toString(i), "rpm (avg)", "r" + i));
+    write(tmp, io.actindex.core.SyntheticCodes.uniform(meta.size(), 8, 1), meta, 2);
+    try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(tmp)) {
+      assertThat(select(reader, "'and' = x")).isEqualTo(RoaringBitmap.bitmapOf(0, 2, 4));
+      assertThat(select(reader, "\"and\" != x and 'IN' in (v0, v1)")).isEqualTo(RoaringBitmap.bitmapOf(1, 3));
+      assertThat(select(reader, "'IN' not in (v0)")).isEqualTo(RoaringBitmap.bitmapOf(1, 2, 4, 5));
+      assertThat(select(reader, "'night shift' >= 4 or 'rpm (avg)' = r0")).isEqualTo(RoaringBitmap.bitmapOf(0, 4, 5));
+      assertThat(select(reader, "not 'night shift' < 5")).isEqualTo(RoaringBitmap.bitmapOf(5));
+      assertThatThrownBy(() -> select(reader, "and = x")).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("position 1").hasMessageContaining("written in quotes: 'and'");
+      assertThatThrownBy(() -> select(reader, "'night' = 1")).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("unknown field 'night'");
+    }
+  }
+
+  /**
    * Negative zero equals zero: NumPy and pandas write "-0.0" for it, and a user may type "-0". The
    * filter compared the points' bits, so {@code n = 0} missed rows stored as -0.0, {@code n = -0}
    * and {@code n <= -0} missed the rows stored as 0, and {@code n != -0} kept them.
