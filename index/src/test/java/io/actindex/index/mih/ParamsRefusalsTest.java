@@ -6,11 +6,13 @@ import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.SyntheticCodes;
+import io.actindex.index.store.Magnitudes;
+import io.actindex.index.store.MergePolicy;
 import org.assertj.core.api.ThrowableAssert.ThrowingCallable;
 import org.junit.jupiter.api.Test;
 
 /**
- * The search structures refuse a caller's bad value as a {@link BadParameterException} led by the
+ * The search structures, the merge policy and the magnitudes refuse a caller's bad value as a {@link BadParameterException} led by the
  * Java parameter's name, never an option (DEVELOPERS.md, "Writing a message").
  */
 class ParamsRefusalsTest {
@@ -24,6 +26,10 @@ class ParamsRefusalsTest {
     refused("keyParts", () -> SelfJoin.build(codes, 2, -1, SearchPlanOptions.Strategy.AUTO));
     refused("radius", () -> RadiusMatcher.build(codes, -1));
     refused("runs", () -> PlannerCalibration.calibrate(0));
+    refused("maxSegmentBytes", () -> new MergePolicy(0, 2, 1));
+    refused("mergeFactor", () -> new MergePolicy(1 << 20, 1, 1));
+    refused("floorCodes", () -> new MergePolicy(1 << 20, 2, 0));
+    refused("bits", () -> Magnitudes.quantise(new float[6], 2, 3, 3));
   }
 
   @Test
