@@ -71,6 +71,10 @@ public final class Main implements Callable<Integer> {
     cl.setExecutionExceptionHandler(new ErrorHandler());
     cl.setCaseInsensitiveEnumValuesAllowed(true);
     cl.registerConverter(Path.class, Main::path); // after the extra commands: it reaches the commands present
+    cl.registerConverter(int.class, Main::wholeInt);
+    cl.registerConverter(Integer.class, Main::wholeInt);
+    cl.registerConverter(long.class, Main::wholeLong);
+    cl.registerConverter(Long.class, Main::wholeLong);
     return cl;
   }
 
@@ -83,6 +87,28 @@ public final class Main implements Callable<Integer> {
     if (value.isEmpty()) throw new CommandLine.TypeConversionException("the path is empty");
     if (value.isBlank()) throw new CommandLine.TypeConversionException("the path is blank (only spaces)");
     return Path.of(value);
+  }
+
+  /**
+   * A whole-number option's value, spaces (and other characters up to U+0020) around it dropped as
+   * decimal options drop them ({@code Double.valueOf} trims): {@code -k ' 3'} is 3, as {@code --tol ' 0.5'}
+   * is 0.5. Anything else that is not an int is refused with picocli's own words.
+   */
+  private static Integer wholeInt(String value) {
+    try {
+      return Integer.valueOf(value.trim());
+    } catch (NumberFormatException e) {
+      throw new CommandLine.TypeConversionException("'" + value + "' is not an int");
+    }
+  }
+
+  /** {@link #wholeInt} for a {@code long} option ({@code --seed}). */
+  private static Long wholeLong(String value) {
+    try {
+      return Long.valueOf(value.trim());
+    } catch (NumberFormatException e) {
+      throw new CommandLine.TypeConversionException("'" + value + "' is not a long");
+    }
   }
 
   /** Runs one command line and returns its exit code (for tests and embedding). */

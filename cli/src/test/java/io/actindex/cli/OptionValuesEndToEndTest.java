@@ -11,6 +11,7 @@ import java.util.ArrayList;
 import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
+import java.util.stream.Stream;
 import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
@@ -229,6 +230,67 @@ class OptionValuesEndToEndTest {
     }
     ok("report", "--index", i, "--out", page.toString(), "--title", "Week 48");
     assertThat(Files.readString(page)).contains("<h1>Week 48</h1>");
+  }
+
+  /**
+   * Whole-number options refused {@code -k ' 3'} ("' 3' is not an int") where decimal options took
+   * {@code --tol ' 0.5'}: they take spaces around the number too, and refuse what is still not a whole
+   * number in picocli's words, as before.
+   */
+  @Test
+  void wholeNumbersTakeSpacesAroundThemLikeDecimals() {
+    String plain = ok("nearest", "--index", i, "--activations", a, "--rows", "0:5", "-k", "3", "--threads", "2", "--format", "csv").out();
+    for (String k : List.of(" 3", "3 ", "\t3\n"))
+      assertThat(ok("nearest", "--index", i, "--activations", a, "--rows", "0:5", "-k", k, "--threads", " 2 ", "--format", "csv").out())
+          .as("-k '%s'", k).isEqualTo(plain);
+    List<String> compare = List.of("compare", "--kind", "activations", "--a", a, "--b", acts2.toString(), "--format", "json");
+    JsonNode seeded = json(ok(Stream.concat(compare.stream(), Stream.of("--seed", "7", "--permutations", "20")).toArray(String[]::new)));
+    JsonNode spaced = json(ok(Stream.concat(compare.stream(), Stream.of("--seed", " 7 ", "--permutations", " 20")).toArray(String[]::new)));
+    assertThat(spaced).isEqualTo(seeded);
+    for (String bad : List.of("3x", " ", "", "0x3", "3 4", "99999999999"))
+      refused(args("nearest", "--index", i, "--activations", a, "-k", bad), "Invalid value for option '-k': '" + bad + "' is not an int");
+    refused(Stream.concat(compare.stream(), Stream.of("--seed", " x")).toArray(String[]::new),
+        "Invalid value for option '--seed': ' x' is not a long");
+    refused(args("nearest", "--index", i, "--activations", a, "-k", " 0"), "-k must be at least 1, got 0");
+  }
+
+  /**
+   * nearest -k above the live examples listed them all without a word, as if the search had found no
+   * more: one note says how many there are (those --where matches, with a filter); the output is the
+   * one -k of that count gives.
+   */
+  @Test
+  void nearestNotesAKAboveTheLiveExamples() throws Exception {
+    List<String> q = List.of("nearest", "--index", i, "--activations", a, "--rows", "0:4");
+    Cli.Result above = ok(with(q, "-k", Integer.toString(ROWS + 5), "--format", "csv"));
+    Cli.Result exact = ok(with(q, "-k", Integer.toString(ROWS), "--format", "csv"));
+    assertThat(above.out()).isEqualTo(exact.out());
+    assertThat(notes(exact)).isEmpty();
+    assertThat(notes(above)).containsExactly("note: -k " + (ROWS + 5) + " is more than the " + ROWS
+        + " live examples in the index; each answer lists all " + ROWS);
+    int tests = (ROWS + 2) / 3; // split = test: rows 0, 3, 6, ...
+    Cli.Result filtered = ok(with(q, "-k", Integer.toString(tests + 1), "--where", "split = test", "--format", "json"));
+    assertThat(notes(filtered)).containsExactly("note: -k " + (tests + 1) + " is more than the " + tests
+        + " live examples --where 'split = test' matches; each answer lists all " + tests);
+    for (JsonNode r : json(filtered).get("results")) assertThat(r.get("neighbors")).hasSize(tests);
+    assertThat(notes(ok(with(q, "-k", Integer.toString(tests), "--where", "split = test")))).isEmpty();
+    assertThat(notes(ok(with(q, "-k", "2", "--where", "key = k5", "--ties"))))
+        .containsExactly("note: -k 2 is more than the 1 live example --where 'key = k5' matches; each answer lists it");
+    assertThat(notes(ok(with(q, "-k", "2", "--where", "key = nosuch")))).containsExactly(
+        "note: --where 'key = nosuch' matches no live example (of the " + ROWS + " in the index)");
+    ok("delete", "--index", i, "--where", "split = test");
+    Cli.Result deleted = ok(with(q, "-k", Integer.toString(ROWS), "--format", "json"));
+    assertThat(notes(deleted)).containsExactly("note: -k " + ROWS + " is more than the " + (ROWS - tests)
+        + " live examples in the index; each answer lists all " + (ROWS - tests));
+    for (JsonNode r : json(deleted).get("results")) assertThat(r.get("neighbors")).hasSize(ROWS - tests);
+  }
+
+  private static String[] with(List<String> line, String... more) {
+    return Stream.concat(line.stream(), Stream.of(more)).toArray(String[]::new);
+  }
+
+  private static List<String> notes(Cli.Result r) {
+    return r.err().lines().filter(l -> l.startsWith("note:")).toList();
   }
 
   private JsonNode json(Cli.Result r) {

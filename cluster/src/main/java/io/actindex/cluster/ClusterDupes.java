@@ -1,6 +1,7 @@
 package io.actindex.cluster;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeLayout;
 import java.io.IOException;
 import java.io.OutputStream;
@@ -66,10 +67,10 @@ public final class ClusterDupes {
   public record Params(String input, CodeLayout layout, CodeInput.Columns columns, int radius, int tables, int blockSize,
       int partitions, String out, OutFormat outFormat, boolean writePairs, boolean overwrite) {
     public Params {
-      if (radius < 0) throw new BadInputException("--radius must be at least 0, got " + radius);
-      if (tables < 0) throw new BadInputException("--tables must be at least 0 (0 = chosen), got " + tables);
-      if (blockSize < 2) throw new BadInputException("--block-size must be at least 2, got " + blockSize);
-      if (partitions < 0) throw new BadInputException("--partitions must be at least 0 (0 = chosen), got " + partitions);
+      if (radius < 0) throw new BadParameterException("radius", " must be at least 0, got " + radius);
+      if (tables < 0) throw new BadParameterException("tables", " must be at least 0 (0 = chosen), got " + tables);
+      if (blockSize < 2) throw new BadParameterException("blockSize", " must be at least 2, got " + blockSize);
+      if (partitions < 0) throw new BadParameterException("partitions", " must be at least 0 (0 = chosen), got " + partitions);
       if (columns == null) columns = new CodeInput.Columns(null, null, null, null);
     }
   }
@@ -103,22 +104,22 @@ public final class ClusterDupes {
   static CodeInput prepare(SparkSession spark, Params p) throws IOException {
     CodeInput in = CodeInput.open(spark, p.input(), p.layout(), p.columns());
     int bits = in.layout().bits();
-    if (p.radius() > bits) throw new BadInputException("--radius " + p.radius() + " is larger than the code length (" + bits + " bits)");
-    if (p.tables() > bits) throw new BadInputException("--tables " + p.tables() + " is more than the code's " + bits + " bits");
+    if (p.radius() > bits) throw new BadParameterException("radius", " " + p.radius() + " is larger than the code length (" + bits + " bits)");
+    if (p.tables() > bits) throw new BadParameterException("tables", " " + p.tables() + " is more than the code's " + bits + " bits");
     if (p.tables() > 0 && SubstringPlan.keysPerCode(bits, p.radius(), p.tables()) > MAX_KEYS_PER_CODE)
-      throw new BadInputException("--tables " + p.tables() + " with --radius " + p.radius() + " sends every code to "
+      throw new BadParameterException("tables", " " + p.tables() + " with `radius` " + p.radius() + " sends every code to "
           + String.format(java.util.Locale.ROOT, "%.3g", SubstringPlan.keysPerCode(bits, p.radius(), p.tables()))
           + " buckets (substring radius " + p.radius() / p.tables() + "), more than " + MAX_KEYS_PER_CODE
-          + ": the join would not finish; give more tables (at most " + bits + ") or leave --tables out");
+          + ": the join would not finish; give more tables (at most " + bits + ") or leave `tables` out");
     if (p.out() != null) {
       Path out = new Path(p.out());
       FileSystem fs = out.getFileSystem(spark.sparkContext().hadoopConfiguration());
       if (fs.exists(out) && !p.overwrite() && (!fs.getFileStatus(out).isDirectory() || fs.listStatus(out).length > 0))
-        throw new BadInputException(p.out() + ": --out exists and is not empty (pass --overwrite to replace it)");
+        throw new BadInputException(p.out() + ": `out` exists and is not empty (pass `overwrite` to replace it)");
       Path input = fs.makeQualified(new Path(p.input())), target = fs.makeQualified(out);
       if (within(input, target) || within(target, input)) // --overwrite deletes the folder first
-        throw new BadInputException(p.out() + ": --out and the input " + p.input() + " overlap (one is inside the other); "
-            + "writing there would delete or change the input, so nothing was written: give --out a folder of its own");
+        throw new BadInputException(p.out() + ": `out` and the input " + p.input() + " overlap (one is inside the other); "
+            + "writing there would delete or change the input, so nothing was written: give `out` a folder of its own");
     }
     return in;
   }

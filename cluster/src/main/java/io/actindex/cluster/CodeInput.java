@@ -1,6 +1,7 @@
 package io.actindex.cluster;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.encode.CodeFiles;
@@ -82,14 +83,14 @@ abstract sealed class CodeInput {
     List<Path> shards = local == null ? List.of() : npyShards(local);
     if (!shards.isEmpty()) {
       if (cols.label() != null || cols.split() != null)
-        throw new BadInputException(input + ": --label-column and --split-column need Parquet input (.npy shards carry codes only)");
+        throw new BadInputException(input + ": `columns.label` and `columns.split` need Parquet input (.npy shards carry codes only)");
       if (cols.key() != null || cols.code() != null)
-        throw new BadInputException(input + ": --key-column and --code-column name Parquet columns; the key of a .npy shard row is its"
+        throw new BadInputException(input + ": `columns.key` and `columns.code` name Parquet columns; the key of a .npy shard row is its"
             + " row number");
       return NpyShards.check(shards, layout);
     }
     if (local != null && !Files.exists(local)) throw new BadInputException(input + ": no such file or folder");
-    if (layout == null) throw new BadInputException("--layout is needed for Parquet input (the code column holds packed bytes)");
+    if (layout == null) throw new BadParameterException("layout", " is needed for Parquet input (the code column holds packed bytes)");
     return ParquetCodes.check(spark, input, layout, cols);
   }
 
@@ -154,7 +155,7 @@ abstract sealed class CodeInput {
             firstShard = f;
           } else if (layout == null && !s.layout().equals(seen)) {
             throw new BadInputException(f + ": " + s.layout().bits() + " bits per code, but " + firstShard + " has "
-                + seen.bits() + " (mixed layouts across shards; give --layout to check each shard against it)");
+                + seen.bits() + " (mixed layouts across shards; give `layout` to check each shard against it)");
           }
           first[i] = rows;
           rows += s.rows();
@@ -252,19 +253,19 @@ abstract sealed class CodeInput {
         throw new BadInputException(input + ": not a readable Parquet dataset (" + snippet(e.getMessage()) + ")", e);
       }
       StructType schema = df.schema();
-      field(schema, input, cols.key(), "--key-column");
-      DataType codeType = field(schema, input, cols.code(), "--code-column");
+      field(schema, input, cols.key(), "`columns.key`");
+      DataType codeType = field(schema, input, cols.code(), "`columns.code`");
       if (!(codeType instanceof BinaryType))
         throw new BadInputException(input + ": column '" + cols.code() + "' is " + codeType.simpleString()
             + "; codes must be binary (packbits bytes, " + (layout.bits() + 7) / 8 + " per row)");
       List<Column> sel = new ArrayList<>(List.of(functions.monotonically_increasing_id().as("_id"),
           functions.col(q(cols.key())).as("_key"), functions.col(q(cols.code())).as("_code")));
       if (cols.label() != null) {
-        field(schema, input, cols.label(), "--label-column");
+        field(schema, input, cols.label(), "`columns.label`");
         sel.add(text(cols.label()).as("label"));
       }
       if (cols.split() != null) {
-        field(schema, input, cols.split(), "--split-column");
+        field(schema, input, cols.split(), "`columns.split`");
         sel.add(text(cols.split()).as("split"));
       }
       // persisted so that the ids stay the same for the codes and for the keys of the outputs
@@ -282,11 +283,11 @@ abstract sealed class CodeInput {
       return "`" + name.replace("`", "``") + "`";
     }
 
-    private static DataType field(StructType schema, String input, String name, String option) {
+    private static DataType field(StructType schema, String input, String name, String parameter) {
       for (StructField f : schema.fields()) if (f.name().equals(name)) return f.dataType();
       List<String> names = new ArrayList<>();
       for (StructField f : schema.fields()) names.add(f.name());
-      throw new BadInputException(input + ": no column '" + snippet(name) + "' (" + option + "); columns: "
+      throw new BadInputException(input + ": no column '" + snippet(name) + "' (" + parameter + "); columns: "
           + snippet(String.join(", ", names)));
     }
 

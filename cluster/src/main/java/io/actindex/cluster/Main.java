@@ -1,10 +1,14 @@
 package io.actindex.cluster;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
+import io.actindex.core.OptionNames;
 import java.io.PrintWriter;
 import java.nio.file.NoSuchFileException;
+import java.util.Map;
 import picocli.CommandLine;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Model.CommandSpec;
 
 /**
  * {@code actindex-cluster}: the commands that run on a distributed engine (Apache Spark). Exit
@@ -29,7 +33,7 @@ public final class Main {
       err.println("actindex-cluster: " + oneLine(e.getMessage()));
       return 2;
     });
-    cl.setExecutionExceptionHandler((e, c, parsed) -> handle(e, err));
+    cl.setExecutionExceptionHandler((e, c, parsed) -> handle(e, c.getCommandSpec(), err));
     try {
       return cl.execute(args);
     } catch (Error e) { // picocli lets JVM errors through
@@ -39,17 +43,41 @@ public final class Main {
     }
   }
 
-  /** Bad input anywhere in the cause chain (Spark wraps task failures) is exit 2; the rest exit 1. */
-  static int handle(Throwable e, PrintWriter err) {
+  /**
+   * Java names the library writes that this command line spells otherwise than {@link OptionNames}'
+   * rule ({@code columns.key} would be {@code --columns-key}).
+   */
+  static final Map<String, String> SPELLED = Map.of(
+      "columns.key", "--key-column",
+      "columns.code", "--code-column",
+      "columns.label", "--label-column",
+      "columns.split", "--split-column",
+      "writePairs false", "--count-only");
+
+  /**
+   * Bad input anywhere in the cause chain (Spark wraps task failures) is exit 2; the rest exit 1. The
+   * library names parameters as Java does ({@code radius}, {@code `columns.key`}); {@code command}'s
+   * options are printed in their place, as {@code actindex} prints its own.
+   */
+  static int handle(Throwable e, CommandSpec command, PrintWriter err) {
     for (Throwable c = e; c != null; c = c.getCause()) {
       if (c instanceof BadInputException || c instanceof NoSuchFileException) {
-        err.println("actindex-cluster: " + oneLine(c instanceof NoSuchFileException ? c.getMessage() + ": no such file" : c.getMessage()));
+        err.println("actindex-cluster: " + oneLine(c instanceof NoSuchFileException ? c.getMessage() + ": no such file" : refusal(c, command)));
         return 2;
       }
     }
     err.println("actindex-cluster: internal error: " + oneLine(String.valueOf(e)) + " (rerun with --verbose for the stack trace)");
     if (Boolean.getBoolean("actindex.verbose")) e.printStackTrace(err);
     return 1;
+  }
+
+  /** The message of a refusal, the Java names in it written as {@code command}'s options. */
+  static String refusal(Throwable c, CommandSpec command) {
+    if (c instanceof BadParameterException p) {
+      String option = OptionNames.option(p.parameter(), SPELLED);
+      if (option != null && command.findOption(option) != null) return option + OptionNames.options(p.rest(), SPELLED);
+    }
+    return OptionNames.options(c.getMessage(), SPELLED);
   }
 
   static String oneLine(String s) {

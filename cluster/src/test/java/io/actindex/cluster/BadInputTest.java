@@ -1,8 +1,12 @@
 package io.actindex.cluster;
 
 import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
+import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import io.actindex.core.SyntheticCodes;
 import io.actindex.encode.CodeFiles;
 import java.io.PrintWriter;
@@ -187,5 +191,57 @@ class BadInputTest {
     assertRefused(run("dupes", "--radius", "1"), "--input");
     assertThat(jobs.get()).isZero();
     assertThat(List.of(tmp.resolve("o"))).allMatch(f -> !Files.exists(f));
+  }
+
+  /**
+   * The library names Java parameters, never options (DEVELOPERS.md, "Writing a message"); the command
+   * line prints each as its option, in the words it printed before the library named them.
+   */
+  @Test
+  void theLibraryNamesJavaParametersAndTheCommandLineItsOptions() throws Exception {
+    var dupes = new picocli.CommandLine(new DupesCommand()).getCommandSpec();
+    for (String option : Main.SPELLED.values()) assertThat(dupes.findOption(option)).as(option).isNotNull();
+    Path dir = shard("a.npy", 64, CodeFiles.Form.PACKED);
+    CodeLayout c64 = CodeLayout.parseTyped("c:64");
+    String out = tmp.resolve("o").toString(), pq = parquet().toString();
+    refusedAs("radius", () -> new ClusterDupes.Params(dir.toString(), c64, null, -1, 0, 1000, 0, out, ClusterDupes.OutFormat.PARQUET, true, false));
+    refusedAs("tables", () -> new ClusterDupes.Params(dir.toString(), c64, null, 1, -1, 1000, 0, out, ClusterDupes.OutFormat.PARQUET, true, false));
+    refusedAs("blockSize", () -> new ClusterDupes.Params(dir.toString(), c64, null, 1, 0, 1, 0, out, ClusterDupes.OutFormat.PARQUET, true, false));
+    refusedAs("partitions", () -> new ClusterDupes.Params(dir.toString(), c64, null, 1, 0, 1000, -1, out, ClusterDupes.OutFormat.PARQUET, true, false));
+    refusedAs("radius", () -> ClusterDupes.run(spark, new ClusterDupes.Params(dir.toString(), c64, null, 65, 0, 1000, 0, out,
+        ClusterDupes.OutFormat.PARQUET, true, false)));
+    assertThatThrownBy(() -> ClusterDupes.run(spark, new ClusterDupes.Params(dir.toString(), c64, null, 40, 1, 1000, 0, out,
+        ClusterDupes.OutFormat.PARQUET, true, false))).isInstanceOf(BadParameterException.class)
+        .hasMessageStartingWith("tables 1 with `radius` 40").hasMessageEndingWith("leave `tables` out").message().doesNotContain("--");
+    assertThatThrownBy(() -> ClusterDupes.run(spark, new ClusterDupes.Params(dir.toString(), c64,
+        new CodeInput.Columns(null, null, "label", null), 1, 0, 1000, 0, out, ClusterDupes.OutFormat.PARQUET, true, false)))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("`columns.label` and `columns.split`").message().doesNotContain("--");
+    refusedAs("layout", () -> ClusterDupes.run(spark, new ClusterDupes.Params(pq, null, null, 1, 0, 1000, 0, out,
+        ClusterDupes.OutFormat.PARQUET, true, false)));
+    assertThat(tmp.resolve("o")).doesNotExist();
+
+    assertThat(run("dupes", "--input", dir.toString(), "--layout", "c:64", "--radius", "65", "--out", out)).isEqualTo(2);
+    assertThat(stderr).isEqualTo("actindex-cluster: --radius 65 is larger than the code length (64 bits)" + System.lineSeparator());
+    assertThat(run("dupes", "--input", dir.toString(), "--layout", "c:64", "--radius", "40", "--tables", "1", "--out", out)).isEqualTo(2);
+    assertThat(stderr).startsWith("actindex-cluster: --tables 1 with --radius 40 sends every code to ")
+        .endsWith("or leave --tables out" + System.lineSeparator());
+    assertThat(run("dupes", "--input", dir.toString(), "--radius", "1", "--split-column", "s", "--out", out)).isEqualTo(2);
+    assertThat(stderr).isEqualTo("actindex-cluster: " + dir + ": --label-column and --split-column need Parquet input (.npy shards carry"
+        + " codes only)" + System.lineSeparator());
+    assertThat(run("dupes", "--input", pq, "--layout", "c:64", "--radius", "1", "--code-column", "bits", "--key-column",
+        "id", "--out", out)).isEqualTo(2);
+    assertThat(stderr).contains(": no column 'bits' (--code-column); columns: id, code, text");
+    Path full = Files.createDirectories(tmp.resolve("full"));
+    Files.writeString(full.resolve("x"), "keep");
+    assertThat(run("dupes", "--input", dir.toString(), "--layout", "c:64", "--radius", "1", "--out", full.toString())).isEqualTo(2);
+    assertThat(stderr).isEqualTo("actindex-cluster: " + full + ": --out exists and is not empty (pass --overwrite to replace it)"
+        + System.lineSeparator());
+  }
+
+  private static void refusedAs(String parameter, org.assertj.core.api.ThrowableAssert.ThrowingCallable call) {
+    assertThatThrownBy(call).as(parameter).isInstanceOfSatisfying(BadParameterException.class, e -> {
+      assertThat(e.parameter()).as(e.getMessage()).isEqualTo(parameter);
+      assertThat(e.getMessage()).startsWith(parameter).doesNotContain("--");
+    });
   }
 }

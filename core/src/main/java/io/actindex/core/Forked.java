@@ -40,7 +40,7 @@ public final class Forked<T> {
    * with the common pool (one worker per core, this thread included).
    */
   public static <T> T withThreads(int threads, Supplier<T> work) {
-    if (threads < 0) throw new IllegalArgumentException("threads " + threads);
+    if (threads < 0) throw new BadParameterException("threads", " must be 0 (one per core) or more, got " + threads);
     if (threads == 0) return work.get();
     try (ForkJoinPool pool = new ForkJoinPool(Math.min(threads, MAX_WORKERS))) {
       return new Forked<>(work, pool).join();

@@ -11,7 +11,7 @@ public final class TopK {
   private int size;
 
   public TopK(int k) {
-    if (k <= 0) throw new IllegalArgumentException("k must be positive, got " + k);
+    if (k < 1) throw new BadParameterException("k", " must be at least 1, got " + k);
     this.k = k;
     heap = new long[Math.min(k, 64)];
   }

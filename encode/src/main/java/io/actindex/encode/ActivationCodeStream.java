@@ -90,7 +90,7 @@ final class ActivationCodeStream implements CodeStream {
 
   @Override
   public CodeBlock next(int maxRows) throws IOException {
-    if (maxRows <= 0) throw new IllegalArgumentException("maxRows must be positive, got " + maxRows);
+    CodeStream.checkMaxRows(maxRows);
     int m = src.read(Math.min(maxRows, chunkRows), f, d);
     if (m == 0) return null;
     lastStart += lastRows;

@@ -80,6 +80,7 @@ public final class CodeFiles {
 
     @Override
     public CodeBlock next(int maxRows) throws IOException {
+      CodeStream.checkMaxRows(maxRows);
       int cols = r.cols(), words = layout.words();
       int m = Math.min(maxRows, Math.max(1, (1 << 20) / cols));
       NpyDtype t = r.header().dtype();

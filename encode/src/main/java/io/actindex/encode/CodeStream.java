@@ -1,5 +1,6 @@
 package io.actindex.encode;
 
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import java.io.IOException;
@@ -16,6 +17,11 @@ public interface CodeStream extends AutoCloseable {
 
   /** The next chunk of at most {@code maxRows} (at least one) codes, or null at the end. */
   CodeBlock next(int maxRows) throws IOException;
+
+  /** {@link #next}'s check of its argument: a {@code maxRows} below 1 is refused. */
+  static void checkMaxRows(int maxRows) {
+    if (maxRows < 1) throw new BadParameterException("maxRows", " must be at least 1, got " + maxRows);
+  }
 
   /** Firing counts per neuron over the rows returned so far; dead and always-on neurons. */
   NeuronStats stats();

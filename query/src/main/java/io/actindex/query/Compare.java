@@ -58,7 +58,7 @@ public final class Compare {
     public Sample {
       if ((source == null) == (where == null))
         throw new BadInputException("a sample is either a file or a where-expression over the index");
-      if (kindFromIndex && source == null) throw new IllegalArgumentException("only a file's kind can come from the index");
+      if (kindFromIndex && source == null) throw new BadParameterException("kindFromIndex", " needs a file: only a file's kind can come from the index");
     }
 
     public Sample(Source source, String where) {

@@ -1,7 +1,9 @@
 package io.actindex.query;
 
+import io.actindex.core.BadParameterException;
 import io.actindex.encode.io.CsvMatrixReader;
 import java.nio.file.Path;
+import java.util.Locale;
 import java.util.Objects;
 
 /**
@@ -15,7 +17,7 @@ public record Source(Kind kind, Path file, Path model, CsvMatrixReader.Header he
   public Source {
     Objects.requireNonNull(kind, "kind");
     Objects.requireNonNull(file, "file");
-    if (kind != Kind.INPUTS && model != null) throw new IllegalArgumentException("a model goes only with inputs");
+    if (kind != Kind.INPUTS && model != null) throw new BadParameterException("model", " goes only with a source of inputs, not " + kind.name().toLowerCase(Locale.ROOT));
     if (header == null) header = CsvMatrixReader.Header.AUTO;
   }
 

@@ -5,9 +5,19 @@ import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
 import io.actindex.core.BadInputException;
 import io.actindex.core.BadParameterException;
+import io.actindex.core.CodeBlock;
+import io.actindex.core.SyntheticCodes;
 import io.actindex.edge.EdgeBundle;
 import io.actindex.encode.BinarizeRule;
 import io.actindex.encode.EncodeOptions;
+import io.actindex.query.stats.Assignment;
+import io.actindex.query.stats.FloatSample;
+import io.actindex.query.stats.Frechet;
+import io.actindex.query.stats.LinearMmd;
+import io.actindex.query.stats.NeverSeenBound;
+import io.actindex.query.stats.Sinkhorn;
+import io.actindex.query.stats.StudentT;
+import io.actindex.query.stats.Wasserstein;
 import java.nio.file.Path;
 import org.assertj.core.api.ThrowableAssert.ThrowingCallable;
 import org.junit.jupiter.api.Test;
@@ -50,6 +60,23 @@ class ParamsRefusalsTest {
     refused("magnitudeBits", () -> new IndexBuilder.BuildParams(DIR, IN, null, null, null, 0, 3));
     refused("skipMissing", () -> new Delete.Params(DIR, null, "split = test", true));
     refused("threshold", () -> new EncodeOptions(BinarizeRule.POSITIVE, Double.NaN, null));
+    refused("model", () -> new Source(Source.Kind.ACTIVATIONS, Path.of("a.npy"), Path.of("m.safetensors")));
+    refused("kindFromIndex", () -> new Compare.Sample(null, "split = test", true));
+  }
+
+  @Test
+  void theStatisticsNameTheArgumentTheyRefuse() {
+    CodeBlock three = SyntheticCodes.uniform(3, 16, 1), four = SyntheticCodes.uniform(4, 16, 2);
+    FloatSample twoCols = new FloatSample(2, 2, new double[4]), threeCols = new FloatSample(2, 3, new double[6]);
+    refused("a", () -> LinearMmd.of(three, four, d -> Math.exp(-d), 1));
+    refused("b", () -> LinearMmd.of(four, three, d -> Math.exp(-d), 1));
+    refused("b", () -> Wasserstein.exact(four, three, 1));
+    refused("b", () -> Frechet.squared(twoCols, threeCols));
+    refused("values", () -> new FloatSample(2, 2, new double[3]));
+    refused("cost", () -> Assignment.solve(2, new long[3]));
+    refused("epsilon", () -> Sinkhorn.solve(1, 1, new char[1], new double[1], 0, 10, 1e-6, 1));
+    refused("df", () -> StudentT.upperTail(1, 0));
+    refused("rate", () -> NeverSeenBound.examplesFor(1));
   }
 
   @Test

@@ -1,5 +1,6 @@
 package io.actindex.encode.mlp;
 
+import io.actindex.core.BadParameterException;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.SplittableRandom;
@@ -28,16 +29,19 @@ public final class MlpTrainer {
   public record Config(int[] hidden, int epochs, int batchSize, double learningRate, long seed) {
     public Config {
       hidden = hidden.clone();
-      for (int h : hidden) if (h <= 0) throw new IllegalArgumentException("hidden widths must be positive");
-      if (epochs < 0 || batchSize <= 0 || !(learningRate > 0)) throw new IllegalArgumentException("bad training settings");
+      for (int h : hidden) if (h <= 0) throw new BadParameterException("hidden", " widths must be at least 1, got " + h);
+      if (epochs < 0) throw new BadParameterException("epochs", " must be at least 0, got " + epochs);
+      if (batchSize < 1) throw new BadParameterException("batchSize", " must be at least 1, got " + batchSize);
+      if (!(learningRate > 0 && Double.isFinite(learningRate)))
+        throw new BadParameterException("learningRate", " must be a positive number, got " + learningRate);
     }
   }
 
   /** Trains on rows {@code x} ({@code n x d}) with labels {@code y} in {@code [0, classes)}. */
   public static Mlp train(double[][] x, int[] y, int classes, Config cfg) {
     int n = x.length, d = x[0].length;
-    if (y.length != n) throw new IllegalArgumentException(n + " rows but " + y.length + " labels");
-    for (int label : y) if (label < 0 || label >= classes) throw new IllegalArgumentException("label " + label + " outside [0, " + classes + ")");
+    if (y.length != n) throw new BadParameterException("y", " has " + y.length + " labels for the " + n + " rows of `x`");
+    for (int label : y) if (label < 0 || label >= classes) throw new BadParameterException("y", " holds label " + label + ", outside 0.." + (classes - 1));
     SplittableRandom rnd = new SplittableRandom(cfg.seed());
     int[] widths = new int[cfg.hidden().length + 2];
     widths[0] = d;

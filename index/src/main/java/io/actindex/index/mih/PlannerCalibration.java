@@ -1,6 +1,7 @@
 package io.actindex.index.mih;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.OutputFiles;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
@@ -62,7 +63,7 @@ public final class PlannerCalibration {
 
   /** Measures the costs {@code runs} times (about 0.2 s each) and takes each one's median. */
   public static Result calibrate(int runs) {
-    if (runs < 1) throw new IllegalArgumentException("runs must be at least 1, not " + runs);
+    if (runs < 1) throw new BadParameterException("runs", " must be at least 1, got " + runs);
     double[][] all = new double[NAMES.size()][runs];
     for (int r = 0; r < runs; r++) {
       double[] c = PlannerCosts.measure().toArray();

@@ -1,5 +1,6 @@
 package io.actindex.index.mih;
 
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import java.util.Arrays;
@@ -61,7 +62,7 @@ public final class RadiusMatcher {
    * SCAN forces the scan over distinct codes, TABLES forbids it, AUTO decides.
    */
   public static RadiusMatcher build(CodeBlock codes, int radius, SearchPlanOptions opts) {
-    if (radius < 0) throw new IllegalArgumentException("radius must be >= 0, got " + radius);
+    if (radius < 0) throw new BadParameterException("radius", " must be at least 0, got " + radius);
     DistinctCodes d = DistinctCodes.of(codes);
     CodeBlock u = d.codes();
     int n = u.size();

@@ -1,5 +1,7 @@
 package io.actindex.index.mih;
 
+import io.actindex.core.BadParameterException;
+
 /**
  * How {@link Searchers#build} lays out its hash tables. The defaults suit most data; tests and
  * benchmarks override them to force one search path.
@@ -34,8 +36,8 @@ public record SearchPlanOptions(
   public static final int MAX_SUBSTRING_BITS = 32;
 
   public SearchPlanOptions {
-    if (substrings < 0) throw new IllegalArgumentException("substrings must be >= 0 (0 = automatic), got " + substrings);
-    if (maxSubstrings < 1) throw new IllegalArgumentException("maxSubstrings must be >= 1, got " + maxSubstrings);
+    if (substrings < 0) throw new BadParameterException("substrings", " must be 0 (automatic) or more, got " + substrings);
+    if (maxSubstrings < 1) throw new BadParameterException("maxSubstrings", " must be at least 1, got " + maxSubstrings);
     if (strategy == null) throw new IllegalArgumentException("strategy is null");
   }
 

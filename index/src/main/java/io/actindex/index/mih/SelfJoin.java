@@ -1,5 +1,6 @@
 package io.actindex.index.mih;
 
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import io.actindex.core.ScanKernel;
@@ -86,8 +87,8 @@ public final class SelfJoin {
    * ({@code radius + 1} parts need that many non-constant bits); AUTO decides.
    */
   public static SelfJoin build(CodeBlock codes, int radius, int keyParts, SearchPlanOptions.Strategy strategy) {
-    if (radius < 0) throw new IllegalArgumentException("radius must be >= 0, got " + radius);
-    if (keyParts < 0) throw new IllegalArgumentException("keyParts must be >= 0 (0 = automatic), got " + keyParts);
+    if (radius < 0) throw new BadParameterException("radius", " must be at least 0, got " + radius);
+    if (keyParts < 0) throw new BadParameterException("keyParts", " must be 0 (automatic) or more, got " + keyParts);
     DistinctCodes d = DistinctCodes.of(codes);
     int n = d.count();
     if (radius == 0 || n <= 1) return new SelfJoin(d, radius, false, 0, 0, new int[0]);

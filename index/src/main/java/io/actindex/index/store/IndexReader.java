@@ -1,6 +1,7 @@
 package io.actindex.index.store;
 
 import io.actindex.core.BadInputException;
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import io.actindex.core.CodeSearcher;
@@ -225,7 +226,7 @@ public final class IndexReader implements AutoCloseable {
 
   /** A copy of the code of live id {@code id}. */
   public long[] code(int id) {
-    if (!isLive(id)) throw new IllegalArgumentException("id " + id + " is not live in index " + dir);
+    if (!isLive(id)) throw new BadParameterException("id", " " + id + " is not live in index " + dir);
     int s = segmentOf(id);
     return segments.get(s).codes().code(segments.get(s).ord(id));
   }
@@ -253,7 +254,7 @@ public final class IndexReader implements AutoCloseable {
    * {@code out[off..]}; false (nothing written) when its segment keeps none.
    */
   public boolean magnitudes(int id, float[] out, int off) {
-    if (!isLive(id)) throw new IllegalArgumentException("id " + id + " is not live in index " + dir);
+    if (!isLive(id)) throw new BadParameterException("id", " " + id + " is not live in index " + dir);
     int s = segmentOf(id);
     Magnitudes m = magnitudes.get(s);
     if (m == null) return false;
@@ -266,7 +267,7 @@ public final class IndexReader implements AutoCloseable {
    * segment's step per unit) to {@code out[off..]}; false (nothing written) when its segment keeps none.
    */
   public boolean magnitudeErrors(int id, float[] out, int off) {
-    if (!isLive(id)) throw new IllegalArgumentException("id " + id + " is not live in index " + dir);
+    if (!isLive(id)) throw new BadParameterException("id", " " + id + " is not live in index " + dir);
     Magnitudes m = magnitudes.get(segmentOf(id));
     if (m == null) return false;
     for (int j = 0; j < m.units(); j++) out[off + j] = m.maxError(j);

@@ -1,5 +1,6 @@
 package io.actindex.index.store;
 
+import io.actindex.core.BadParameterException;
 import java.io.IOException;
 import java.nio.ByteBuffer;
 import java.nio.file.Path;
@@ -85,7 +86,7 @@ public final class Magnitudes {
    * {@code bits} bits each, with each column's range taken from these rows.
    */
   public static Magnitudes quantise(float[] values, int n, int units, int bits) {
-    checkBits(bits);
+    if (!supported(bits)) throw new BadParameterException("bits", " per value must be 2, 4 or 8, got " + bits);
     if ((long) n * units != values.length)
       throw new IllegalArgumentException(values.length + " values for " + n + " rows of " + units);
     float[] lo = new float[units], hi = new float[units];

@@ -1,5 +1,6 @@
 package io.actindex.index.store;
 
+import io.actindex.core.BadParameterException;
 import java.util.ArrayList;
 import java.util.List;
 
@@ -26,9 +27,9 @@ public record MergePolicy(long maxSegmentBytes, int mergeFactor, int floorCodes)
   public static final int DEFAULT_MERGE_FACTOR = 4, DEFAULT_FLOOR_CODES = 65_536;
 
   public MergePolicy {
-    if (maxSegmentBytes < 1) throw new IllegalArgumentException("segment cap " + maxSegmentBytes + " < 1 byte");
-    if (mergeFactor < 2) throw new IllegalArgumentException("merge factor " + mergeFactor + " < 2");
-    if (floorCodes < 1) throw new IllegalArgumentException("floor " + floorCodes + " < 1");
+    if (maxSegmentBytes < 1) throw new BadParameterException("maxSegmentBytes", " must be at least 1, got " + maxSegmentBytes);
+    if (mergeFactor < 2) throw new BadParameterException("mergeFactor", " must be at least 2, got " + mergeFactor);
+    if (floorCodes < 1) throw new BadParameterException("floorCodes", " must be at least 1, got " + floorCodes);
   }
 
   /** The defaults, or the values of {@value #MAX_BYTES_PROPERTY} and {@value #FACTOR_PROPERTY}. */

@@ -130,7 +130,7 @@ class IndexWriterTest {
       assertEquals(3, r.meta().idOfKey("k1"));
       assertNull(r.meta().document(1));
       assertEquals("row-5", r.meta().document(5).get("key"));
-      assertThrows(IllegalArgumentException.class, () -> r.code(1));
+      assertThrows(io.actindex.core.BadParameterException.class, () -> r.code(1));
       assertArrayEquals(codes.code(3), r.code(3));
       IndexInfo info = r.info();
       assertEquals(2, info.segments().size());

@@ -152,7 +152,7 @@ class MagnitudesTest {
     try (IndexWriter w = IndexWriter.create(dir, sample.layout(), Map.of())) {
       assertThrows(IllegalArgumentException.class,
           () -> w.add(sample.slice(0, 10), StoreFixtures.magnitudes(sample, 0, 9, 8), null));
-      assertThrows(IllegalArgumentException.class, () -> Magnitudes.quantise(new float[6], 2, 3, 3));
+      assertThrows(io.actindex.core.BadParameterException.class, () -> Magnitudes.quantise(new float[6], 2, 3, 3));
       w.add(sample.slice(0, 10), StoreFixtures.magnitudes(sample, 0, 10, 8), null);
     }
     List<Path> mags = StoreFixtures.files(dir).stream().filter(p -> p.toString().endsWith(".mags")).toList();

@@ -1,5 +1,6 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
 import java.util.Arrays;
 
 /**
@@ -17,7 +18,7 @@ public final class Assignment {
 
   /** {@code cost}: row-major n x n, entries at most about 2^61 / n. */
   public static Result solve(int n, long[] cost) {
-    if (cost.length != (long) n * n) throw new IllegalArgumentException("need n*n costs");
+    if (cost.length != (long) n * n) throw new BadParameterException("cost", " has " + cost.length + " entries; n x n needs " + (long) n * n);
     final long inf = Long.MAX_VALUE / 4;
     long[] u = new long[n + 1], v = new long[n + 1], minv = new long[n + 1];
     int[] rowOfCol = new int[n + 1], way = new int[n + 1]; // 1-based; rowOfCol[0] = the row being added

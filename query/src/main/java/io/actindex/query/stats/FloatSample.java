@@ -1,9 +1,11 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
+
 /** {@code rows} x {@code cols} finite values, row-major. */
 public record FloatSample(int rows, int cols, double[] values) {
   public FloatSample {
-    if (values.length != (long) rows * cols) throw new IllegalArgumentException("need rows * cols values");
+    if (values.length != (long) rows * cols) throw new BadParameterException("values", " has " + values.length + " entries; rows x cols needs " + (long) rows * cols);
   }
 
   /** The rows {@code pick[0], pick[1], ...} as a new sample. */

@@ -1,5 +1,6 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
 import org.ejml.data.Complex_F64;
 import org.ejml.data.DMatrixRMaj;
 import org.ejml.dense.row.CommonOps_DDRM;
@@ -27,7 +28,7 @@ public final class Frechet {
   /** Needs at least 2 rows per sample and the same columns. */
   public static double squared(FloatSample a, FloatSample b) {
     int d = a.cols();
-    if (b.cols() != d) throw new IllegalArgumentException("samples of " + d + " and " + b.cols() + " columns");
+    if (b.cols() != d) throw new BadParameterException("b", " has " + b.cols() + " columns, sample A " + d);
     double[] m1 = mean(a), m2 = mean(b);
     DMatrixRMaj s1 = covariance(a, m1), s2 = covariance(b, m2);
     double meanTerm = 0;

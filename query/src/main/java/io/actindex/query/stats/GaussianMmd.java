@@ -1,5 +1,6 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
 import java.util.Arrays;
 
 /**
@@ -15,7 +16,7 @@ public final class GaussianMmd {
 
   public static Kernel of(FloatSample pooled, Double sigma, int threads) {
     int n = pooled.rows(), d = pooled.cols();
-    if ((long) n * n > Integer.MAX_VALUE - 16) throw new IllegalArgumentException("too many rows for a kernel matrix: " + n);
+    if ((long) n * n > Integer.MAX_VALUE - 16) throw new BadParameterException("pooled", " has " + n + " rows, too many for one kernel matrix");
     double[] v = pooled.values(), sq = new double[n * n];
     Parallel.forRange(threads, n, (from, to) -> {
       for (int i = from; i < to; i++)

@@ -1,5 +1,6 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import java.util.function.DoubleUnaryOperator;
@@ -35,7 +36,8 @@ public final class LinearMmd {
 
   public static Result of(CodeBlock a, CodeBlock b, DoubleUnaryOperator kernelOfDistance, long seed) {
     int pairs = Math.min(a.size(), b.size()) / 2;
-    if (pairs < 2) throw new IllegalArgumentException("the linear-time estimator needs 4 rows in each sample");
+    if (pairs < 2) throw new BadParameterException(a.size() < 4 ? "a" : "b", " has " + Math.min(a.size(), b.size())
+        + " rows; the linear-time estimator needs at least 4 in each sample");
     int[] pa = shuffled(a.size(), seed), pb = shuffled(b.size(), seed + 1);
     int w = a.wordsPerCode();
     long[] x = a.words(), y = b.words();

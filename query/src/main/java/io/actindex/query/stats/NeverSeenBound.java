@@ -1,5 +1,7 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
+
 /**
  * How often something may happen that never happened in {@code n} independent examples: the
  * one-sided 95% upper confidence bound of its rate, {@code 1 - 0.05^(1/n)} (the exact binomial
@@ -19,7 +21,7 @@ public final class NeverSeenBound {
 
   /** The fewest examples whose bound {@link #upper} is at most {@code rate} (0 < rate < 1). */
   public static long examplesFor(double rate) {
-    if (!(rate > 0 && rate < 1)) throw new IllegalArgumentException("rate must be strictly between 0 and 1: " + rate);
+    if (!(rate > 0 && rate < 1)) throw new BadParameterException("rate", " must be strictly between 0 and 1, got " + rate);
     long n = Math.max(1, (long) Math.ceil(LN_MISS / Math.log1p(-rate)));
     while (n > 1 && upper(n - 1) <= rate) n--; // the closed form may be one off after rounding
     while (upper(n) > rate) n++;

@@ -1,5 +1,6 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
 import java.util.function.DoubleUnaryOperator;
@@ -23,9 +24,9 @@ public final class PairDistances {
   /** {@code pooled}: A (rows {@code 0..m-1}) then B; at most 65,535 bits and 46,340 rows. */
   public PairDistances(CodeBlock pooled, int m, int threads) {
     CodeLayout layout = pooled.layout();
-    if (layout.bits() > Character.MAX_VALUE) throw new IllegalArgumentException("codes longer than 65535 bits");
+    if (layout.bits() > Character.MAX_VALUE) throw new BadParameterException("pooled", " holds codes of " + layout.bits() + " bits; distances are kept in 16 bits (at most 65,535)");
     this.n = pooled.size();
-    if ((long) n * n > Integer.MAX_VALUE - 16) throw new IllegalArgumentException("too many rows for a distance matrix: " + n);
+    if ((long) n * n > Integer.MAX_VALUE - 16) throw new BadParameterException("pooled", " has " + n + " rows, too many for one distance matrix");
     this.m = m;
     int layers = layout.segments().size();
     int views = layers == 1 ? 1 : layers + 1;

@@ -1,5 +1,7 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
+
 /**
  * Entropy-regularised optimal transport between two uniform empirical distributions (Cuturi,
  * "Sinkhorn Distances: Lightspeed Computation of Optimal Transport", NeurIPS 2013), with the
@@ -31,7 +33,7 @@ public final class Sinkhorn {
    * @param epsilon the regularisation, in cost units
    */
   public static Result solve(int m, int n, char[] index, double[] cost, double epsilon, int maxIter, double tol, int threads) {
-    if (!(epsilon > 0)) throw new IllegalArgumentException("epsilon must be positive");
+    if (!(epsilon > 0)) throw new BadParameterException("epsilon", " must be above 0, got " + epsilon);
     char[] transposed = new char[index.length];
     for (int i = 0; i < m; i++) for (int j = 0; j < n; j++) transposed[j * m + i] = index[i * n + j];
     double[] scaled = new double[cost.length]; // C / eps

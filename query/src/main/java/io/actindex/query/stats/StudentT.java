@@ -1,5 +1,7 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
+
 /**
  * Upper tail {@code P(T > t)} of Student's t distribution with {@code df} degrees of freedom. For
  * {@code t > 0}, {@code P(|T| > t) = I_x(df/2, 1/2)} with {@code x = df / (df + t^2)}, {@code I} the
@@ -25,7 +27,7 @@ public final class StudentT {
 
   /** {@code P(T > t)}; NaN for NaN {@code t}. */
   public static double upperTail(double t, double df) {
-    if (!(df > 0)) throw new IllegalArgumentException("degrees of freedom must be positive: " + df);
+    if (!(df > 0)) throw new BadParameterException("df", " (degrees of freedom) must be above 0, got " + df);
     if (Double.isNaN(t)) return Double.NaN;
     if (t == 0) return 0.5;
     if (Double.isInfinite(t)) return t > 0 ? 0 : 1;

@@ -1,5 +1,6 @@
 package io.actindex.query.stats;
 
+import io.actindex.core.BadParameterException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 
@@ -25,7 +26,7 @@ public final class Wasserstein {
 
   public static Result exact(CodeBlock a, CodeBlock b, int threads) {
     int n = a.size();
-    if (b.size() != n) throw new IllegalArgumentException("exact W2 needs samples of equal size");
+    if (b.size() != n) throw new BadParameterException("b", " has " + b.size() + " rows; exact W2 needs as many as sample A (" + n + ")");
     char[] d = crossDistances(a, b, threads);
     long[] cost = new long[d.length];
     for (int i = 0; i < d.length; i++) cost[i] = (long) d[i] * d[i];
@@ -52,8 +53,8 @@ public final class Wasserstein {
   /** Row-major m x n Hamming distances between A's and B's codes. */
   static char[] crossDistances(CodeBlock a, CodeBlock b, int threads) {
     int m = a.size(), n = b.size(), w = a.wordsPerCode();
-    if ((long) m * n > Integer.MAX_VALUE - 16) throw new IllegalArgumentException("too many pairs for one matrix: " + m + " x " + n);
-    if (a.layout().bits() > Character.MAX_VALUE) throw new IllegalArgumentException("codes longer than 65535 bits");
+    if ((long) m * n > Integer.MAX_VALUE - 16) throw new BadParameterException("b", " has " + n + " rows: " + m + " x " + n + " pairs are too many for one matrix");
+    if (a.layout().bits() > Character.MAX_VALUE) throw new BadParameterException("a", " holds codes of " + a.layout().bits() + " bits; distances are kept in 16 bits (at most 65,535)");
     char[] d = new char[m * n];
     long[] x = a.words(), y = b.words();
     Parallel.forRange(threads, m, (from, to) -> {

@@ -73,7 +73,7 @@ class NeverSeenBoundTest {
     long lastAbove = rows.stream().filter(r -> r[1] > 0.05).mapToLong(r -> (long) r[0]).max().orElseThrow();
     assertThat(first).as("the golden file has consecutive counts around 5%").isEqualTo(lastAbove + 1);
     assertThat(NeverSeenBound.examplesFor(0.05)).isEqualTo(first);
-    assertThatThrownBy(() -> NeverSeenBound.examplesFor(0)).isInstanceOf(IllegalArgumentException.class);
-    assertThatThrownBy(() -> NeverSeenBound.examplesFor(1)).isInstanceOf(IllegalArgumentException.class);
+    assertThatThrownBy(() -> NeverSeenBound.examplesFor(0)).isInstanceOf(io.actindex.core.BadParameterException.class).hasMessageStartingWith("rate ");
+    assertThatThrownBy(() -> NeverSeenBound.examplesFor(1)).isInstanceOf(io.actindex.core.BadParameterException.class).hasMessageStartingWith("rate ");
   }
 }
