@@ -415,17 +415,37 @@ public final class MetaStore implements Closeable {
    * {@code ' a'}, so that add refuses {@code a} beside it and delete finds it.
    */
   public int idOfKey(String key) {
-    int id = exactIdOfKey(key);
-    if (id < 0 && !key(key).equals(key)) id = exactIdOfKey(key(key));
-    if (id < 0) id = spacedKeys().getOrDefault(key(key), -1);
-    return id;
+    Named n = named(key);
+    return n == null ? -1 : n.id();
   }
 
-  private volatile Map<String, Integer> spacedKeys;
+  /**
+   * The key as stored of the live code that {@code typed} names by the rule of {@link #idOfKey}, or
+   * {@code typed} without the whitespace around it when none is live: what {@code --where} compares
+   * the {@code key} field with, so that a filter on a key and a delete by it pick the same example.
+   */
+  String storedKey(String typed) {
+    Named n = named(typed);
+    return n == null ? key(typed) : n.stored();
+  }
+
+  /** A live key as stored and its id. */
+  private record Named(String stored, int id) {}
+
+  /** The live key {@code typed} names (see {@link #idOfKey}), or null. */
+  private Named named(String typed) {
+    int id = exactIdOfKey(typed);
+    if (id >= 0) return new Named(typed, id);
+    String k = key(typed);
+    if (!k.equals(typed) && (id = exactIdOfKey(k)) >= 0) return new Named(k, id);
+    return spacedKeys().get(k);
+  }
+
+  private volatile Map<String, Named> spacedKeys;
 
   /** Live stored keys with whitespace around them, by the key without it (read once; few or none in most indexes). */
-  private Map<String, Integer> spacedKeys() {
-    Map<String, Integer> m = spacedKeys;
+  private Map<String, Named> spacedKeys() {
+    Map<String, Named> m = spacedKeys;
     if (m != null) return m;
     m = new HashMap<>();
     try {
@@ -445,7 +465,7 @@ public final class MetaStore implements Closeable {
           for (int d = pe.nextDoc(); d != DocIdSetIterator.NO_MORE_DOCS; d = pe.nextDoc()) {
             if (live != null && !live.get(d)) continue;
             int id = leaf.reader().storedFields().document(d).getField(MetaSchema.ID).numericValue().intValue();
-            if (!deleted.contains(id)) m.putIfAbsent(key(k), id);
+            if (!deleted.contains(id)) m.putIfAbsent(key(k), new Named(k, id));
           }
         }
       }
