@@ -41,7 +41,6 @@ import org.apache.lucene.search.RegexpQuery;
 import org.apache.lucene.search.ScoreMode;
 import org.apache.lucene.search.SimpleCollector;
 import org.apache.lucene.search.TermQuery;
-import org.apache.lucene.search.TopDocs;
 import org.apache.lucene.store.Directory;
 import org.apache.lucene.store.FSDirectory;
 import org.apache.lucene.store.IOContext;
@@ -475,19 +474,29 @@ public final class MetaStore implements Closeable {
     return spacedKeys = Map.copyOf(m);
   }
 
+  /** The live id whose stored key is exactly {@code key} (a bare id's synthesized one included), or -1. */
   private int exactIdOfKey(String key) {
+    BytesRef term = new BytesRef(key);
     try {
-      TopDocs top = searcher.search(new TermQuery(new Term(MetaSchema.KEY, key)), 1);
-      if (top.scoreDocs.length == 0) {
-        int id = syntheticId(key);
-        return id >= 0 && bare.contains(id) ? id : -1;
+      for (LeafReaderContext leaf : reader.leaves()) { // by the terms and the id doc values: no query, no stored fields
+        Terms terms = leaf.reader().terms(MetaSchema.KEY);
+        if (terms == null) continue;
+        TermsEnum te = terms.iterator();
+        if (!te.seekExact(term)) continue;
+        PostingsEnum pe = te.postings(null, PostingsEnum.NONE);
+        Bits live = leaf.reader().getLiveDocs();
+        NumericDocValues ids = leaf.reader().getNumericDocValues(MetaSchema.ID);
+        for (int d = pe.nextDoc(); d != DocIdSetIterator.NO_MORE_DOCS; d = pe.nextDoc()) {
+          if (live != null && !live.get(d) || ids == null || !ids.advanceExact(d)) continue;
+          int id = Math.toIntExact(ids.longValue());
+          if (!deleted.contains(id)) return id;
+        }
       }
-      IndexableField f = searcher.storedFields().document(top.scoreDocs[0].doc).getField(MetaSchema.ID);
-      int id = f.numericValue().intValue();
-      return deleted.contains(id) ? -1 : id;
     } catch (IOException e) {
       throw new UncheckedIOException(e);
     }
+    int id = syntheticId(key);
+    return id >= 0 && bare.contains(id) ? id : -1;
   }
 
   /**
