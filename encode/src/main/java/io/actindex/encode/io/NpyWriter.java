@@ -121,6 +121,19 @@ public final class NpyWriter implements AutoCloseable {
     committed = true;
   }
 
+  /**
+   * Writes the final header but leaves the file under its temporary name ({@link #path}), for an
+   * archive to copy ({@link NpzWriter}); {@link #close()} deletes it.
+   */
+  void finish() throws IOException {
+    ch.write(ByteBuffer.wrap(header(rows, headerBytes)), 0);
+  }
+
+  /** The temporary file being written. */
+  Path path() {
+    return tmp.path();
+  }
+
   /** Deletes the temporary file unless {@link #commit()} ran. */
   @Override
   public void close() throws IOException {
