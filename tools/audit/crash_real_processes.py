@@ -14,11 +14,16 @@ processes on copies of the demo's index, and
   2. starts two writers on one index at once (add+add, add+delete, compact+add): the second must be
      refused (exit 2, a message naming the index and another writer) and the index must equal the
      first one's result; a reader (nearest) run during a write must answer from before or after;
-  3. the same checks as 1 after SIGINT and SIGTERM.
+  3. the same checks as 1 after SIGINT and SIGTERM;
+  4. kills commands that write a file outside the index (dupes --pairs, report --out) with each
+     signal: the target holds its old bytes or the whole new file (pairs: the bytes of an
+     unkilled run), SIGINT and SIGTERM leave no .NAME.RANDOM.tmp beside it, and one that SIGKILL
+     leaves is removed by the next write of the same target once it is older than 10 minutes (its
+     time is set back) and kept while younger.
 Trials run one after another (the machine is shared). The seed is printed; --seed repeats a run.
 
   python3 tools/audit/crash_real_processes.py [--work DIR] [--trials N] [--signal-trials N] [--seed S]
-      [--only "add,compact,pairs"] [--signals KILL,INT,TERM]
+      [--only "add,compact,pairs,outputs"] [--signals KILL,INT,TERM] [--output-trials N]
 """
 import argparse
 import json
@@ -105,6 +110,7 @@ class Audit:
         self.rows = defaultdict(Counter)   # command -> Counter of outcomes / failure kinds
         self.notes = []                    # failures with details, for the report
         self.fail_kinds = set()
+        self.output_refs = {}              # output command -> (bytes of an unkilled run, its duration)
 
     # ---------- set-up ----------
     def setup(self, needed):
@@ -196,6 +202,71 @@ class Audit:
                 mid = self.state(idx)
                 assert mid == after, name + ": the add's commit alone reads differently from the merged index: " + str(mid)[:300]
             print(f"  {name}: runs {dur:.2f} s", flush=True)
+
+    # ---------- 4: output files outside the index ----------
+    def outputs_interrupted(self, trials, sig):
+        out = os.path.join(self.work, "out")
+        os.makedirs(out, exist_ok=True)
+        idx = self.demo + "/index"
+        for name, args, whole in [
+                ("dupes --pairs", ["dupes", "--index", idx, "--radius", "10", "--pairs", "{out}"], None),
+                ("report --out", ["report", "--index", idx, "--out", "{out}"], lambda b: b.rstrip().endswith(b"</html>"))]:
+            label = f"{name} [{signal.Signals(sig).name}]"
+            target = os.path.join(out, "target")
+            argv = [a.replace("{out}", target) for a in args]
+            if name not in self.output_refs:  # an unkilled run: its bytes and duration
+                t0 = time.time()
+                rc, _, err = self.t.run(argv)
+                assert rc == 0, name + ": " + err
+                with open(target, "rb") as f:
+                    self.output_refs[name] = (f.read(), time.time() - t0)
+            ref, dur = self.output_refs[name]
+            if whole is None:
+                whole = lambda b, ref=ref: b == ref
+            for trial in range(trials):
+                for f in os.listdir(out):
+                    os.remove(os.path.join(out, f))
+                with open(target, "wb") as f:
+                    f.write(b"old\n")
+                delay = self.rnd.uniform(0, dur * 1.05)
+                p = self.t.start(argv, "out")
+                time.sleep(delay)
+                killed = p.poll() is None
+                if killed:
+                    p.send_signal(sig)
+                rc, _, err = finish(p)
+                where = f"trial {trial} delay {delay:.2f}s rc {rc}"
+                self.rows[label]["trials"] += 1
+                self.rows[label]["interrupted" if killed else "finished before the signal"] += 1
+                if not killed and rc != 0:
+                    self.fail(label, "command failed", where + ": " + err[:300])
+                with open(target, "rb") as f:
+                    got = f.read()
+                if got == b"old\n":
+                    self.rows[label]["target: old"] += 1
+                elif whole(got):
+                    self.rows[label]["target: new"] += 1
+                else:
+                    self.fail(label, "target neither old nor whole", where + f": {len(got)} bytes")
+                tmp = sorted(f for f in os.listdir(out) if f.startswith(".target.") and f.endswith(".tmp"))
+                if tmp and sig != signal.SIGKILL:
+                    self.fail(label, "temporary file after SIGINT/SIGTERM", where + ": " + str(tmp))
+                if not tmp:
+                    continue
+                self.rows[label]["temporary file left by the kill"] += 1
+                # the next write keeps a young one (it may be a writer's), removes one older than 10 minutes
+                rc, _, err = self.t.run(["report", "--index", idx, "--out", target])
+                left = sorted(f for f in os.listdir(out) if f.startswith(".target.") and f.endswith(".tmp"))
+                if rc != 0 or left != tmp:
+                    self.fail(label, "young temporary file not kept", where + f": rc {rc} {left} {err[:200]}")
+                for f in left:
+                    old = time.time() - 11 * 60
+                    os.utime(os.path.join(out, f), (old, old))
+                rc, _, err = self.t.run(["report", "--index", idx, "--out", target])
+                left = [f for f in os.listdir(out) if f.startswith(".target.") and f.endswith(".tmp")]
+                if rc != 0 or left:
+                    self.fail(label, "stale temporary file not removed by the next write", where + f": rc {rc} {left} {err[:200]}")
+            self.jtmp_clean(label, trials)
 
     # ---------- what the user sees ----------
     def state(self, idx):
@@ -447,6 +518,7 @@ def main():
     ap.add_argument("--trials", type=int, default=24, help="SIGKILL trials per command")
     ap.add_argument("--signal-trials", type=int, default=6, help="SIGINT and SIGTERM trials per command, each")
     ap.add_argument("--pair-trials", type=int, default=5)
+    ap.add_argument("--output-trials", type=int, default=6, help="trials per signal of each output-writing command")
     ap.add_argument("--only", default="", help="comma-separated command names to run (default: all)")
     ap.add_argument("--signals", default="KILL,INT,TERM", help="which signals interrupt the commands")
     ap.add_argument("--seed", type=int, default=None)
@@ -470,6 +542,10 @@ def main():
         for n in names:
             print(f"{sig.name}: {n} x {a.signal_trials}", flush=True)
             au.interrupted(n, a.signal_trials, sig)
+    if not only or "outputs" in only:
+        for sig in sigs:
+            print(f"{sig.name}: output files x {a.output_trials}", flush=True)
+            au.outputs_interrupted(a.output_trials, sig)
     if not only or "pairs" in only:
         au.build_onto_index()
         D = au.d

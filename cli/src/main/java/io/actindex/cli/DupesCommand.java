@@ -16,8 +16,8 @@ import java.io.BufferedWriter;
 import java.io.IOException;
 import java.io.PrintWriter;
 import java.io.UncheckedIOException;
+import java.nio.channels.Channels;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.List;
@@ -151,7 +151,8 @@ final class DupesCommand implements Callable<Integer> {
 
   /** The pairs CSV, written to a temporary file beside it and moved into place only when complete. */
   private static final class PairsFile implements AutoCloseable {
-    private final Path target, temp;
+    private final Path target;
+    private final OutputFiles.Temp temp;
     private final BufferedWriter w;
     private final StringBuilder line = new StringBuilder(32);
     private boolean committed;
@@ -159,16 +160,16 @@ final class DupesCommand implements Callable<Integer> {
     PairsFile(Path target, String header, Path against) {
       this.target = target;
       OutputFiles.checkTarget(target, "--pairs", new OutputFiles.Input("--against", against));
-      Path t = null;
+      OutputFiles.Temp t = null;
       try {
-        t = OutputFiles.tempBeside(target);
-        w = Files.newBufferedWriter(t, StandardCharsets.UTF_8);
+        t = OutputFiles.begin(target);
+        w = new BufferedWriter(Channels.newWriter(t.channel(), StandardCharsets.UTF_8));
         w.write(header);
         w.write('\n');
       } catch (IOException e) {
         RuntimeException f = failure(e); // before the temporary file's space is freed
         try {
-          if (t != null) Files.deleteIfExists(t);
+          if (t != null) t.close();
         } catch (IOException suppressed) {
           e.addSuppressed(suppressed);
         }
@@ -189,8 +190,8 @@ final class DupesCommand implements Callable<Integer> {
 
     void commit() {
       try {
-        w.close();
-        OutputFiles.moveIntoPlace(temp, target);
+        w.flush();
+        temp.commit();
         committed = true;
       } catch (IOException e) {
         throw failure(e);
@@ -206,12 +207,7 @@ final class DupesCommand implements Callable<Integer> {
     public void close() {
       if (committed) return;
       try {
-        w.close(); // may fail again (a full disk): the temporary file goes all the same
-      } catch (IOException ignored) {
-        // failing already
-      }
-      try {
-        Files.deleteIfExists(temp);
+        temp.close(); // the writer's unflushed rest goes with it
       } catch (IOException ignored) {
         // failing already; the temporary file is all that is left
       }

@@ -123,7 +123,29 @@ public final class Main implements Callable<Integer> {
     PrintWriter out = new PrintWriter(new java.io.BufferedWriter(
         new java.io.OutputStreamWriter(System.out, StandardCharsets.UTF_8), 1 << 16));
     PrintWriter err = new PrintWriter(new java.io.OutputStreamWriter(System.err, StandardCharsets.UTF_8), true);
+    String garbled = garbledArgument(System.getProperty("sun.jnu.encoding"), args);
+    if (garbled != null) {
+      err.println("actindex: " + garbled);
+      System.exit(2);
+    }
     System.exit(run(out, err, args));
+  }
+
+  /**
+   * Why the arguments cannot be trusted, or null. Java decodes the command line in the locale's
+   * character set ({@code sun.jnu.encoding}); under the C or POSIX locale (ASCII, a shell or
+   * container with no LANG set) every byte of {@code café} past ASCII becomes U+FFFD, so {@code
+   * --where "key = café"} would quietly match nothing and a file of that name would not be found.
+   * An argument holding U+FFFD in a locale that is not UTF-8 is such a loss.
+   */
+  static String garbledArgument(String encoding, String... args) {
+    if (encoding == null || encoding.equalsIgnoreCase("UTF-8") || encoding.equalsIgnoreCase("UTF8")) return null;
+    for (int i = 0; i < args.length; i++)
+      if (args[i].indexOf('\uFFFD') >= 0)
+        return "argument " + (i + 1) + " ('" + io.actindex.core.BadInputException.snippet(args[i], 60) + "') holds characters that the locale's "
+            + "character set (" + encoding + ") cannot carry, so they arrived as U+FFFD and would be read wrong; run in a UTF-8 locale, "
+            + "e.g. LC_ALL=C.UTF-8 (bin/actindex switches to it by itself)";
+    return null;
   }
 
   /** The version from the build (a resource filtered by Maven). */

@@ -5,11 +5,19 @@ import java.io.UncheckedIOException;
 import java.nio.ByteBuffer;
 import java.nio.channels.FileChannel;
 import java.nio.file.AtomicMoveNotSupportedException;
+import java.nio.file.DirectoryStream;
 import java.nio.file.FileAlreadyExistsException;
 import java.nio.file.Files;
+import java.nio.file.LinkOption;
 import java.nio.file.Path;
 import java.nio.file.StandardCopyOption;
 import java.nio.file.StandardOpenOption;
+import java.nio.file.attribute.BasicFileAttributes;
+import java.nio.file.attribute.FileTime;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.Set;
+import java.util.concurrent.ConcurrentHashMap;
 import java.util.concurrent.ThreadLocalRandom;
 import java.util.regex.Pattern;
 import java.util.stream.Stream;
@@ -20,21 +28,151 @@ import java.util.stream.Stream;
  * files readable by their owner only (0600), the temporary file is created with no explicit
  * permissions, so it gets the mode the umask gives any new file, as the index's own files do: the
  * result looks like any file the user writes. A full disk is refused naming the target ({@link
- * DiskFull}).
+ * DiskFull}). A write killed before its rename leaves its temporary file; the next write of the
+ * same target removes it once it is stale ({@link #removeStale}), and Ctrl-C or SIGTERM deletes it
+ * at once (a shutdown hook).
  */
 public final class OutputFiles {
   private OutputFiles() {}
 
-  /** A new empty file {@code .NAME.RANDOM.tmp} in the folder of {@code target} (mode from the umask). */
-  public static Path tempBeside(Path target) throws IOException {
-    Path dir = target.toAbsolutePath().getParent();
+  /**
+   * Starts writing {@code target}: a new empty file {@code .NAME.RANDOM.tmp} in its folder (mode from
+   * the umask), open for writing and locked (see {@link Temp}). Write through {@link Temp#channel},
+   * then {@link Temp#commit}; {@link Temp#close} without a commit deletes the file.
+   */
+  public static Temp begin(Path target) throws IOException {
+    Path dir = target.toAbsolutePath().normalize().getParent();
     for (int attempt = 0; ; attempt++) {
-      Path tmp = dir.resolve("." + target.getFileName() + "." + Long.toUnsignedString(ThreadLocalRandom.current().nextLong(), 36) + ".tmp");
+      Path tmp = dir.resolve(tempPrefix(target) + Long.toUnsignedString(ThreadLocalRandom.current().nextLong(), 36) + ".tmp");
+      FileChannel ch;
       try {
-        return Files.createFile(tmp);
+        ch = FileChannel.open(tmp, StandardOpenOption.CREATE_NEW, StandardOpenOption.WRITE);
       } catch (FileAlreadyExistsException e) {
         if (attempt > 100) throw e;
+        continue;
       }
+      Temp t = new Temp(target, tmp, ch);
+      Pending.FILES.add(tmp);
+      try {
+        ch.tryLock(); // null only if another process locked this brand-new file: write all the same
+      } catch (IOException | UnsupportedOperationException e) {
+        // a file system without locks: the age rule alone keeps other writers off this file
+      }
+      return t;
+    }
+  }
+
+  /** The start of every temporary file name of {@code target}: {@code .NAME.} */
+  private static String tempPrefix(Path target) {
+    return "." + target.getFileName() + ".";
+  }
+
+  /** The random part of a temporary file name: {@link Long#toUnsignedString(long, int)} in base 36. */
+  private static final Pattern RANDOM_PART = Pattern.compile("[0-9a-z]{1,13}");
+
+  /**
+   * How long a temporary file must have gone unmodified before a write of its target may remove it
+   * (when no process holds its lock): covers a writer between creating its file and locking it,
+   * an older actindex that did not lock, and a file system that does not share locks between machines.
+   */
+  public static final Duration STALE_AFTER = Duration.ofMinutes(10);
+
+  /**
+   * A temporary file being written beside its target. While it is open it holds an exclusive lock on
+   * the whole file (advisory; the system drops it when the process ends, however it ends) and is on
+   * this JVM's list of files that a shutdown hook deletes (Ctrl-C, SIGTERM). {@link #commit} renames
+   * it onto the target and then removes the target's stale temporary files ({@link #removeStale}).
+   */
+  public static final class Temp implements AutoCloseable {
+    private final Path target, path;
+    private final FileChannel channel;
+    private boolean committed;
+
+    private Temp(Path target, Path path, FileChannel channel) {
+      this.target = target;
+      this.path = path;
+      this.channel = channel;
+    }
+
+    public Path path() {
+      return path;
+    }
+
+    /** The open file, for writing (closing it releases the lock: leave that to {@link #close}). */
+    public FileChannel channel() {
+      return channel;
+    }
+
+    /** Forces the file to disk, renames it onto the target (still locked), closes it, then removes stale ones. */
+    public void commit() throws IOException {
+      channel.force(true);
+      moveIntoPlace(path, target);
+      committed = true;
+      close();
+      removeStale(target);
+    }
+
+    /** Closes the file and deletes it unless {@link #commit} renamed it. */
+    @Override
+    public void close() throws IOException {
+      Pending.FILES.remove(path);
+      try {
+        channel.close();
+      } finally {
+        if (!committed) Files.deleteIfExists(path);
+      }
+    }
+  }
+
+  /** The temporary files this JVM is writing; a shutdown hook (Ctrl-C, SIGTERM) deletes those left. */
+  private static final class Pending {
+    static final Set<Path> FILES = ConcurrentHashMap.newKeySet();
+
+    static {
+      try {
+        Runtime.getRuntime().addShutdownHook(new Thread(() -> {
+          for (Path p : FILES) {
+            try {
+              Files.deleteIfExists(p);
+            } catch (IOException | RuntimeException e) {
+              // exiting: nothing to tell
+            }
+          }
+        }, "actindex-output-cleanup"));
+      } catch (IllegalStateException e) {
+        // the JVM is exiting already
+      }
+    }
+  }
+
+  /**
+   * Removes the temporary files {@code .NAME.RANDOM.tmp} of {@code target} that a write killed before
+   * its rename left behind: those this JVM is not writing, unmodified for {@link #STALE_AFTER}, and
+   * whose lock no process holds (taken here before the file is deleted). Anything else in the folder,
+   * and any file that cannot be tested, is left alone; a failure is ignored (the target is written).
+   */
+  static void removeStale(Path target) {
+    Path dir = target.toAbsolutePath().normalize().getParent();
+    String prefix = tempPrefix(target);
+    FileTime cutoff = FileTime.from(Instant.now().minus(STALE_AFTER));
+    try (DirectoryStream<Path> files = Files.newDirectoryStream(dir)) {
+      for (Path f : files) {
+        String name = f.getFileName().toString();
+        if (!name.startsWith(prefix) || !name.endsWith(".tmp")
+            || !RANDOM_PART.matcher(name.substring(prefix.length(), name.length() - 4)).matches() || Pending.FILES.contains(f))
+          continue;
+        try {
+          BasicFileAttributes a = Files.readAttributes(f, BasicFileAttributes.class, LinkOption.NOFOLLOW_LINKS);
+          if (!a.isRegularFile() || a.lastModifiedTime().compareTo(cutoff) > 0) continue;
+          try (FileChannel ch = FileChannel.open(f, StandardOpenOption.WRITE, LinkOption.NOFOLLOW_LINKS)) {
+            if (ch.tryLock() != null) Files.delete(f); // the lock goes with the channel
+          }
+        } catch (IOException | RuntimeException e) {
+          // in use in this JVM (OverlappingFileLockException), not ours to open, gone already: leave it
+        }
+      }
+    } catch (IOException | RuntimeException e) {
+      // an unreadable folder: the leftovers stay
     }
   }
 
@@ -140,18 +278,15 @@ public final class OutputFiles {
    */
   public static void write(Path target, byte[] bytes, String option) throws IOException {
     checkTarget(target, option);
-    Path tmp = tempBeside(target);
+    Temp tmp = begin(target);
     try {
-      try (FileChannel ch = FileChannel.open(tmp, StandardOpenOption.WRITE)) {
-        ByteBuffer b = ByteBuffer.wrap(bytes);
-        while (b.hasRemaining()) ch.write(b);
-        ch.force(true);
-      }
-      moveIntoPlace(tmp, target);
+      ByteBuffer b = ByteBuffer.wrap(bytes);
+      while (b.hasRemaining()) tmp.channel().write(b);
+      tmp.commit();
     } catch (IOException | RuntimeException e) {
       boolean full = DiskFull.in(e, target); // before the temporary file's space is freed
       try {
-        Files.deleteIfExists(tmp);
+        tmp.close();
       } catch (IOException suppressed) {
         e.addSuppressed(suppressed);
       }

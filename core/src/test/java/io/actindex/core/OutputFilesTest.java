@@ -6,6 +6,10 @@ import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.nio.file.attribute.FileTime;
+import java.time.Instant;
+import java.util.List;
+import java.util.concurrent.TimeUnit;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -91,5 +95,94 @@ class OutputFilesTest {
     OutputFiles.checkIndexPlace(tmp.resolve("idx2"), "--out");
     OutputFiles.checkIndexPlace(idx, "--out");
     assertThat(OutputFiles.indexAbove(tmp.resolve("idx2").resolve("deeper"))).isNull();
+  }
+
+  /**
+   * A write killed between creating its temporary file and renaming it left {@code .NAME.RANDOM.tmp}
+   * beside the target for good. The next write of the same target removes such a file once no
+   * process holds its lock and it has gone unmodified for {@link OutputFiles#STALE_AFTER} (its time
+   * is set back here); a file another live process is writing stays, and so do files of other
+   * targets and names that only look alike. Real processes: a child JVM killed with SIGKILL.
+   */
+  @Test
+  void aKilledWritersTemporaryFileIsRemovedByTheNextWriteButALiveWritersStays() throws Exception {
+    Path target = tmp.resolve("r.html");
+    Path old = tmp.resolve(".r.html.oldleftover.tmp"); // unlocked and old: a leftover
+    Path fresh = tmp.resolve(".r.html.fresh.tmp"); // unlocked but just modified: may be a writer about to lock it
+    List<Path> others = List.of(tmp.resolve(".s.html.abc.tmp"), tmp.resolve(".r.html.ABC.tmp"), tmp.resolve(".r.html.a-b.tmp"),
+        tmp.resolve(".r.html.abc.tmp.keep"), tmp.resolve("r.html.abc.tmp"), tmp.resolve(".r.html..tmp"));
+    for (Path f : others) setBack(Files.write(f, new byte[] {5}));
+    setBack(Files.write(old, new byte[] {5}));
+    Files.write(fresh, new byte[] {5});
+
+    Process child = start(target, tmp.resolve("ready"));
+    try {
+      Path childs = Path.of(awaitReady(child, tmp.resolve("ready")));
+      setBack(childs); // old, but locked by a live process
+      try (OutputFiles.Temp mine = OutputFiles.begin(target)) { // this JVM's own write in progress, old too
+        setBack(mine.path());
+        OutputFiles.write(target, new byte[] {7}, "--out");
+        assertThat(Files.readAllBytes(target)).containsExactly(7);
+        assertThat(old).doesNotExist();
+        assertThat(childs).as("a live writer's file").exists();
+        assertThat(mine.path()).as("this JVM's file being written").exists();
+      }
+      assertThat(fresh).exists();
+      for (Path f : others) assertThat(f).exists();
+
+      child.destroyForcibly(); // SIGKILL: no shutdown hook runs, the file stays, its lock goes
+      assertThat(child.waitFor(60, TimeUnit.SECONDS)).isTrue();
+      assertThat(childs).exists();
+      OutputFiles.write(target, new byte[] {8}, "--out");
+      assertThat(Files.readAllBytes(target)).containsExactly(8);
+      assertThat(childs).doesNotExist();
+      assertThat(fresh).exists();
+      for (Path f : others) assertThat(f).exists();
+    } finally {
+      child.destroyForcibly();
+    }
+  }
+
+  /** Ctrl-C (SIGINT) or SIGTERM during a write: the JVM's shutdown hook deletes the temporary file. */
+  @Test
+  void anInterruptedWriteDeletesItsTemporaryFile() throws Exception {
+    for (String signal : new String[] {"INT", "TERM"}) {
+      Path target = tmp.resolve(signal + ".html");
+      Path ready = tmp.resolve("ready-" + signal);
+      Process child = start(target, ready);
+      try {
+        Path childs = Path.of(awaitReady(child, ready));
+        assertThat(childs).exists();
+        Process kill = new ProcessBuilder("kill", "-" + signal, Long.toString(child.pid())).inheritIO().start();
+        assertThat(kill.waitFor(60, TimeUnit.SECONDS) && kill.exitValue() == 0).as("kill -" + signal).isTrue();
+        assertThat(child.waitFor(60, TimeUnit.SECONDS)).as(signal).isTrue();
+        assertThat(childs).as(signal).doesNotExist();
+        assertThat(target).as(signal).doesNotExist();
+      } finally {
+        child.destroyForcibly();
+      }
+    }
+  }
+
+  private static void setBack(Path f) throws IOException {
+    Files.setLastModifiedTime(f, FileTime.from(Instant.now().minus(OutputFiles.STALE_AFTER).minusSeconds(60)));
+  }
+
+  private static Process start(Path target, Path ready) throws IOException {
+    String java = Path.of(System.getProperty("java.home"), "bin", "java").toString();
+    return new ProcessBuilder(java, "-Xmx64m", "-XX:TieredStopAtLevel=1", "-cp", System.getProperty("java.class.path"),
+        OutputFilesChild.class.getName(), target.toString(), ready.toString())
+        .redirectOutput(ProcessBuilder.Redirect.DISCARD).redirectError(ProcessBuilder.Redirect.INHERIT).start();
+  }
+
+  /** The child's temporary file, once it has written it (a minute at most). */
+  private static String awaitReady(Process child, Path ready) throws Exception {
+    long deadline = System.nanoTime() + TimeUnit.SECONDS.toNanos(60);
+    while (!Files.exists(ready)) {
+      if (!child.isAlive()) throw new AssertionError("child ended with " + child.exitValue() + " before it began writing");
+      if (System.nanoTime() > deadline) throw new AssertionError("child did not begin writing within a minute");
+      Thread.sleep(10);
+    }
+    return Files.readString(ready);
   }
 }

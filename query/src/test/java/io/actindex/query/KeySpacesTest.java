@@ -107,4 +107,55 @@ class KeySpacesTest {
       assertThat(r.meta().idOfKey("b")).isEqualTo(5);
     }
   }
+
+  /**
+   * {@code --where} on {@code key} names a key the way add and delete do ({@link
+   * io.actindex.index.meta.MetaStore#idOfKey}): {@code key = a} missed a key stored as {@code ' a'}
+   * (by a library caller, or in an index built before keys lost their spaces) that {@code delete
+   * --keys} deletes for the line {@code a}. A key stored both ways ({@code c} from the CSV, {@code
+   * ' c'} from the library) is named as written first, by the filter as by the delete.
+   */
+  @Test
+  void whereOnKeyMatchesWhatDeleteByKeyTakes() {
+    Path dir = libraryKeys(build("where-stored")); // ids 0-3: lead, q, c, d from the CSV; 4-6: ' a\t', 'b ', ' c'
+    List<String> typed = List.of("a", " a", "a\t", " a\t", "b", "b ", "c", " c", "c ", "lead", " lead ", "q", "zz", " zz");
+    try (IndexReader r = IndexReader.open(dir)) {
+      for (String k : typed) {
+        int id = r.meta().idOfKey(k);
+        int[] want = id < 0 ? new int[0] : new int[] {id};
+        String quoted = "'" + k.replace("'", "\\'") + "'";
+        assertThat(Where.select(r.meta(), "key = " + quoted).toArray()).as("key = %s", quoted).containsExactly(want);
+        assertThat(Where.select(r.meta(), "key in (" + quoted + ", zz)").toArray()).as("key in %s", quoted).containsExactly(want);
+        assertThat(Where.select(r.meta(), "key != " + quoted).toArray()).as("key != %s", quoted)
+            .containsExactly(Arrays.stream(r.liveIds().toArray()).filter(i -> i != id).toArray());
+      }
+      assertThat(r.meta().idOfKey("a")).isEqualTo(4);
+      assertThat(r.meta().idOfKey("c")).isEqualTo(2);
+      assertThat(r.meta().idOfKey(" c")).isEqualTo(6);
+      assertThat(Where.select(r.meta(), "key in (a, b, c, ' c')").toArray()).containsExactly(2, 4, 5, 6);
+    }
+    // deleting by the filter takes what deleting by the keys file takes
+    Path byKeys = TestFiles.csv(tmp.resolve("keys-abc.txt"), "a\nb\n c\n");
+    Delete.Result d = Delete.run(new Delete.Params(dir, null, "key in (a, b, ' c')"));
+    assertThat(d.deleted()).isEqualTo(3);
+    assertThat(keys(dir)).containsExactly("lead", "q", "c", "d");
+    Path again = libraryKeys(build("where-stored-keys"));
+    assertThat(Delete.run(new Delete.Params(again, byKeys, null)).deleted()).isEqualTo(3);
+    assertThat(keys(again)).containsExactly("lead", "q", "c", "d");
+  }
+
+  /** {@code dir} with three more examples added through the library, keys {@code ' a\t'}, {@code 'b '}, {@code ' c'} as written. */
+  private static Path libraryKeys(Path dir) {
+    try (IndexWriter w = IndexWriter.open(dir)) {
+      CodeLayout layout;
+      long[] words;
+      try (IndexReader r = IndexReader.open(dir)) {
+        layout = r.layout();
+        words = r.code(0);
+      }
+      for (String key : List.of(" a\t", "b ", " c"))
+        w.add(new CodeBlock(layout, 1, words), List.of(new java.util.HashMap<>(java.util.Map.of("key", key, "label", "x"))));
+    }
+    return dir;
+  }
 }

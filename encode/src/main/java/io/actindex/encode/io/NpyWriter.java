@@ -5,10 +5,7 @@ import java.io.IOException;
 import java.nio.ByteBuffer;
 import java.nio.ByteOrder;
 import java.nio.channels.FileChannel;
-import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
-import java.nio.file.StandardOpenOption;
 import java.util.Arrays;
 
 /**
@@ -20,7 +17,7 @@ import java.util.Arrays;
  */
 public final class NpyWriter implements AutoCloseable {
   private final Path target;
-  private final Path tmp;
+  private final OutputFiles.Temp tmp;
   private final FileChannel ch;
   private final NpyDtype dtype;
   private final long[] trailing;
@@ -37,8 +34,8 @@ public final class NpyWriter implements AutoCloseable {
     long rv = 1;
     for (long t : trailing) rv = Math.multiplyExact(rv, t);
     this.rowValues = Math.toIntExact(rv);
-    this.tmp = OutputFiles.tempBeside(target);
-    this.ch = FileChannel.open(tmp, StandardOpenOption.WRITE);
+    this.tmp = OutputFiles.begin(target);
+    this.ch = tmp.channel();
     this.headerBytes = header(Long.MAX_VALUE, 0).length;
     ch.write(ByteBuffer.wrap(header(0, headerBytes)), 0);
   }
@@ -120,21 +117,27 @@ public final class NpyWriter implements AutoCloseable {
   /** Writes the final header, syncs and moves the file into place. */
   public void commit() throws IOException {
     ch.write(ByteBuffer.wrap(header(rows, headerBytes)), 0);
-    ch.force(true);
-    ch.close();
-    Files.move(tmp, target, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
+    tmp.commit();
     committed = true;
+  }
+
+  /**
+   * Writes the final header but leaves the file under its temporary name ({@link #path}), for an
+   * archive to copy ({@link NpzWriter}); {@link #close()} deletes it.
+   */
+  void finish() throws IOException {
+    ch.write(ByteBuffer.wrap(header(rows, headerBytes)), 0);
+  }
+
+  /** The temporary file being written. */
+  Path path() {
+    return tmp.path();
   }
 
   /** Deletes the temporary file unless {@link #commit()} ran. */
   @Override
   public void close() throws IOException {
-    if (committed) return;
-    try {
-      ch.close();
-    } finally {
-      Files.deleteIfExists(tmp);
-    }
+    if (!committed) tmp.close();
   }
 
   @Override

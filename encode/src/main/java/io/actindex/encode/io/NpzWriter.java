@@ -1,10 +1,10 @@
 package io.actindex.encode.io;
 
+import io.actindex.core.OutputFiles;
 import java.io.IOException;
-import java.io.OutputStream;
+import java.nio.channels.Channels;
 import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
 import java.util.List;
@@ -14,20 +14,18 @@ import java.util.zip.ZipOutputStream;
 
 /**
  * Writes a NumPy {@code .npz} archive (as {@code numpy.savez}: stored members {@code NAME.npy}).
- * Each member is an {@link NpyWriter} that can be filled row chunk by row chunk, all at once;
- * {@link #commit()} zips the members in the order they were added into a temporary file and moves
- * it into place atomically. {@link #close()} without a commit leaves nothing behind.
+ * Each member is an {@link NpyWriter} that can be filled row chunk by row chunk, all at once, in a
+ * temporary file of the target's ({@link OutputFiles#begin}: {@code .NAME.RANDOM.tmp} beside it);
+ * {@link #commit()} zips the members in the order they were added into one more such file and
+ * renames it onto the target. {@link #close()} without a commit leaves nothing behind, and a
+ * killed write leaves only files that a later write of the target removes.
  */
 public final class NpzWriter implements AutoCloseable {
   private final Path target;
-  private final Path dir;
   private final Map<String, NpyWriter> members = new LinkedHashMap<>();
-  private final Map<String, Path> files = new LinkedHashMap<>();
-  private boolean committed;
 
-  private NpzWriter(Path target) throws IOException {
+  private NpzWriter(Path target) {
     this.target = target;
-    this.dir = Files.createTempDirectory(target.toAbsolutePath().getParent(), "." + target.getFileName() + ".");
   }
 
   public static NpzWriter create(Path file) throws IOException {
@@ -37,48 +35,40 @@ public final class NpzWriter implements AutoCloseable {
   /** Adds member {@code name} of rows shaped {@code trailingShape}; fill it, do not commit it. */
   public NpyWriter member(String name, NpyDtype dtype, long... trailingShape) throws IOException {
     if (members.containsKey(name)) throw new IllegalArgumentException("member '" + name + "' added twice");
-    Path f = dir.resolve("m" + members.size() + ".npy");
-    NpyWriter w = NpyWriter.create(f, dtype, trailingShape);
+    NpyWriter w = NpyWriter.create(target, dtype, trailingShape);
     members.put(name, w);
-    files.put(name, f);
     return w;
   }
 
   public void commit() throws IOException {
-    for (NpyWriter w : members.values()) w.commit();
-    Path tmp = dir.resolve("archive.npz");
-    try (OutputStream out = Files.newOutputStream(tmp); ZipOutputStream zip = new ZipOutputStream(out)) {
+    for (NpyWriter w : members.values()) w.finish();
+    try (OutputFiles.Temp archive = OutputFiles.begin(target)) {
+      ZipOutputStream zip = new ZipOutputStream(Channels.newOutputStream(archive.channel())); // not closed: that would close the channel
       zip.setMethod(ZipOutputStream.DEFLATED);
       zip.setLevel(0);
-      for (var e : files.entrySet()) {
+      for (var e : members.entrySet()) {
         zip.putNextEntry(new ZipEntry(e.getKey() + ".npy"));
-        Files.copy(e.getValue(), zip);
+        Files.copy(e.getValue().path(), zip);
         zip.closeEntry();
       }
+      zip.finish();
+      zip.flush();
+      archive.commit();
     }
-    try (var ch = java.nio.channels.FileChannel.open(tmp, java.nio.file.StandardOpenOption.WRITE)) {
-      ch.force(true);
-    }
-    Files.move(tmp, target, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
-    committed = true;
     close();
   }
 
+  /** Deletes the members' temporary files. */
   @Override
   public void close() throws IOException {
     List<IOException> errors = new ArrayList<>();
-    if (!committed) {
-      for (NpyWriter w : members.values()) {
-        try {
-          w.close();
-        } catch (IOException e) {
-          errors.add(e);
-        }
+    for (NpyWriter w : members.values()) {
+      try {
+        w.close();
+      } catch (IOException e) {
+        errors.add(e);
       }
     }
-    for (Path f : files.values()) Files.deleteIfExists(f);
-    Files.deleteIfExists(dir.resolve("archive.npz"));
-    Files.deleteIfExists(dir);
     if (!errors.isEmpty()) throw errors.getFirst();
   }
 }

@@ -6,10 +6,7 @@ import java.nio.ByteBuffer;
 import java.nio.ByteOrder;
 import java.nio.channels.FileChannel;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.Files;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
-import java.nio.file.StandardOpenOption;
 import java.util.Map;
 
 /**
@@ -56,8 +53,8 @@ public final class SafetensorsWriter {
     ByteBuffer head = ByteBuffer.allocate(8 + padded).order(ByteOrder.LITTLE_ENDIAN);
     head.putLong(padded).put(json);
     while (head.hasRemaining()) head.put((byte) ' ');
-    Path tmp = OutputFiles.tempBeside(file);
-    try (FileChannel ch = FileChannel.open(tmp, StandardOpenOption.WRITE)) {
+    try (OutputFiles.Temp tmp = OutputFiles.begin(file)) {
+      FileChannel ch = tmp.channel();
       ch.write(head.flip());
       for (Tensor t : tensors.values()) {
         ByteBuffer bb = ByteBuffer.allocate(4 * t.values().length).order(ByteOrder.LITTLE_ENDIAN);
@@ -65,11 +62,7 @@ public final class SafetensorsWriter {
         bb.flip();
         while (bb.hasRemaining()) ch.write(bb);
       }
-      ch.force(true);
-    } catch (IOException | RuntimeException e) {
-      Files.deleteIfExists(tmp);
-      throw e;
+      tmp.commit();
     }
-    Files.move(tmp, file, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
   }
 }

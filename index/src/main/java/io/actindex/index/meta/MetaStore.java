@@ -41,7 +41,6 @@ import org.apache.lucene.search.RegexpQuery;
 import org.apache.lucene.search.ScoreMode;
 import org.apache.lucene.search.SimpleCollector;
 import org.apache.lucene.search.TermQuery;
-import org.apache.lucene.search.TopDocs;
 import org.apache.lucene.store.Directory;
 import org.apache.lucene.store.FSDirectory;
 import org.apache.lucene.store.IOContext;
@@ -415,17 +414,37 @@ public final class MetaStore implements Closeable {
    * {@code ' a'}, so that add refuses {@code a} beside it and delete finds it.
    */
   public int idOfKey(String key) {
-    int id = exactIdOfKey(key);
-    if (id < 0 && !key(key).equals(key)) id = exactIdOfKey(key(key));
-    if (id < 0) id = spacedKeys().getOrDefault(key(key), -1);
-    return id;
+    Named n = named(key);
+    return n == null ? -1 : n.id();
   }
 
-  private volatile Map<String, Integer> spacedKeys;
+  /**
+   * The key as stored of the live code that {@code typed} names by the rule of {@link #idOfKey}, or
+   * {@code typed} without the whitespace around it when none is live: what {@code --where} compares
+   * the {@code key} field with, so that a filter on a key and a delete by it pick the same example.
+   */
+  String storedKey(String typed) {
+    Named n = named(typed);
+    return n == null ? key(typed) : n.stored();
+  }
+
+  /** A live key as stored and its id. */
+  private record Named(String stored, int id) {}
+
+  /** The live key {@code typed} names (see {@link #idOfKey}), or null. */
+  private Named named(String typed) {
+    int id = exactIdOfKey(typed);
+    if (id >= 0) return new Named(typed, id);
+    String k = key(typed);
+    if (!k.equals(typed) && (id = exactIdOfKey(k)) >= 0) return new Named(k, id);
+    return spacedKeys().get(k);
+  }
+
+  private volatile Map<String, Named> spacedKeys;
 
   /** Live stored keys with whitespace around them, by the key without it (read once; few or none in most indexes). */
-  private Map<String, Integer> spacedKeys() {
-    Map<String, Integer> m = spacedKeys;
+  private Map<String, Named> spacedKeys() {
+    Map<String, Named> m = spacedKeys;
     if (m != null) return m;
     m = new HashMap<>();
     try {
@@ -445,7 +464,7 @@ public final class MetaStore implements Closeable {
           for (int d = pe.nextDoc(); d != DocIdSetIterator.NO_MORE_DOCS; d = pe.nextDoc()) {
             if (live != null && !live.get(d)) continue;
             int id = leaf.reader().storedFields().document(d).getField(MetaSchema.ID).numericValue().intValue();
-            if (!deleted.contains(id)) m.putIfAbsent(key(k), id);
+            if (!deleted.contains(id)) m.putIfAbsent(key(k), new Named(k, id));
           }
         }
       }
@@ -455,19 +474,29 @@ public final class MetaStore implements Closeable {
     return spacedKeys = Map.copyOf(m);
   }
 
+  /** The live id whose stored key is exactly {@code key} (a bare id's synthesized one included), or -1. */
   private int exactIdOfKey(String key) {
+    BytesRef term = new BytesRef(key);
     try {
-      TopDocs top = searcher.search(new TermQuery(new Term(MetaSchema.KEY, key)), 1);
-      if (top.scoreDocs.length == 0) {
-        int id = syntheticId(key);
-        return id >= 0 && bare.contains(id) ? id : -1;
+      for (LeafReaderContext leaf : reader.leaves()) { // by the terms and the id doc values: no query, no stored fields
+        Terms terms = leaf.reader().terms(MetaSchema.KEY);
+        if (terms == null) continue;
+        TermsEnum te = terms.iterator();
+        if (!te.seekExact(term)) continue;
+        PostingsEnum pe = te.postings(null, PostingsEnum.NONE);
+        Bits live = leaf.reader().getLiveDocs();
+        NumericDocValues ids = leaf.reader().getNumericDocValues(MetaSchema.ID);
+        for (int d = pe.nextDoc(); d != DocIdSetIterator.NO_MORE_DOCS; d = pe.nextDoc()) {
+          if (live != null && !live.get(d) || ids == null || !ids.advanceExact(d)) continue;
+          int id = Math.toIntExact(ids.longValue());
+          if (!deleted.contains(id)) return id;
+        }
       }
-      IndexableField f = searcher.storedFields().document(top.scoreDocs[0].doc).getField(MetaSchema.ID);
-      int id = f.numericValue().intValue();
-      return deleted.contains(id) ? -1 : id;
     } catch (IOException e) {
       throw new UncheckedIOException(e);
     }
+    int id = syntheticId(key);
+    return id >= 0 && bare.contains(id) ? id : -1;
   }
 
   /**

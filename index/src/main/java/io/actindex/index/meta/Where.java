@@ -10,6 +10,7 @@ import java.util.LinkedHashSet;
 import java.util.List;
 import java.util.Map;
 import java.util.TreeSet;
+import java.util.function.UnaryOperator;
 import org.apache.lucene.document.DoublePoint;
 import org.apache.lucene.index.Term;
 import org.apache.lucene.search.BooleanClause.Occur;
@@ -59,21 +60,27 @@ public final class Where {
 
   private final String text;
   private final Map<String, FieldKind> fields;
+  private final UnaryOperator<String> keys;
   private final List<Token> tokens;
   private int pos;
   private int depth;
   private int clauses;
 
-  private Where(String text, Map<String, FieldKind> fields) {
+  private Where(String text, Map<String, FieldKind> fields, UnaryOperator<String> keys) {
     this.text = text;
     this.fields = fields;
+    this.keys = keys;
     this.tokens = tokenize(text);
   }
 
-  /** Parses {@code expr} against the given field kinds (the store's own query; callers use {@link #select}). */
-  static Query parse(String expr, Map<String, FieldKind> fields) {
+  /**
+   * Parses {@code expr} against the given field kinds (the store's own query; callers use {@link
+   * #select}); {@code keys} turns a value compared with {@code key} into the stored key it names
+   * ({@link MetaStore#storedKey}).
+   */
+  static Query parse(String expr, Map<String, FieldKind> fields, UnaryOperator<String> keys) {
     if (expr == null || expr.isBlank()) throw new BadParameterException("where", ": the expression is empty; give no filter (null) to use every example");
-    Where w = new Where(expr, fields);
+    Where w = new Where(expr, fields, keys);
     Query q = w.or();
     if (w.peek().type != T.END) throw w.error(w.peek(), "expected 'and', 'or' or the end, found " + w.peek().describe());
     return q;
@@ -87,7 +94,7 @@ public final class Where {
    */
   public static IdSet select(MetaStore meta, String expr) {
     if (expr == null) return null;
-    return meta.select(parse(expr, meta.fields()));
+    return meta.select(parse(expr, meta.fields(), meta::storedKey));
   }
 
   // ---- grammar
@@ -197,8 +204,7 @@ public final class Where {
   }
 
   private Query equalsQuery(String field, FieldKind kind, Token v) {
-    if (field.equals(MetaSchema.KEY) && !MetaStore.key(v.text).equals(v.text)) // as written, or without the spaces around it (MetaStore.key)
-      return new TermInSetQuery(field, List.of(new BytesRef(v.text), new BytesRef(MetaStore.key(v.text))));
+    if (field.equals(MetaSchema.KEY)) return new TermQuery(new Term(field, keys.apply(v.text))); // the key delete would take
     if (kind != FieldKind.NUMBER) return new TermQuery(new Term(field, v.text));
     double x = number(v);
     return DoublePoint.newRangeQuery(field, low(x), high(x));
@@ -234,10 +240,7 @@ public final class Where {
       return DoublePoint.newSetQuery(field, xs.build().distinct().toArray());
     }
     LinkedHashSet<BytesRef> terms = new LinkedHashSet<>();
-    for (Token v : values) {
-      terms.add(new BytesRef(v.text));
-      if (field.equals(MetaSchema.KEY)) terms.add(new BytesRef(MetaStore.key(v.text)));
-    }
+    for (Token v : values) terms.add(new BytesRef(field.equals(MetaSchema.KEY) ? keys.apply(v.text) : v.text));
     return new TermInSetQuery(field, terms);
   }
 

@@ -5,11 +5,9 @@ import io.actindex.core.BadParameterException;
 import io.actindex.core.OutputFiles;
 import java.io.IOException;
 import java.nio.charset.StandardCharsets;
-import java.nio.file.AtomicMoveNotSupportedException;
 import java.nio.file.Files;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
-import java.nio.file.StandardCopyOption;
 import java.nio.file.attribute.FileTime;
 import java.time.Instant;
 import java.time.temporal.ChronoUnit;
@@ -88,7 +86,7 @@ public final class PlannerCalibration {
     OutputFiles.checkOutsideIndex(file, "the costs");
   }
 
-  /** Writes {@code r} to {@code file} whole or not at all (a temporary file moved into place). */
+  /** Writes {@code r} to {@code file} whole or not at all ({@link OutputFiles#write}: its folders made first). */
   public static void write(Result r, Path file) throws IOException {
     StringBuilder s = new StringBuilder();
     s.append("# actindex planner costs in ns: the median of ").append(r.runs()).append(" measurements, ")
@@ -97,22 +95,9 @@ public final class PlannerCalibration {
     s.append("# written by 'actindex calibrate-planner'; delete the file to go back to the costs each index stored\n");
     s.append(FORMAT).append('\n');
     for (Cost c : r.costs()) s.append(c.name()).append('=').append(String.format(Locale.ROOT, "%.6g", c.ns())).append('\n');
-    Path abs = file.toAbsolutePath();
     checkTarget(file);
-    Files.createDirectories(abs.getParent());
-    Path tmp = Files.createTempFile(abs.getParent(), abs.getFileName().toString(), ".tmp");
-    try {
-      Files.writeString(tmp, s, StandardCharsets.UTF_8);
-      if (Files.getFileStore(tmp).supportsFileAttributeView("posix")) // a temporary file is the owner's alone; the costs are not secret
-        Files.setPosixFilePermissions(tmp, java.nio.file.attribute.PosixFilePermissions.fromString("rw-r--r--"));
-      try {
-        Files.move(tmp, abs, StandardCopyOption.REPLACE_EXISTING, StandardCopyOption.ATOMIC_MOVE);
-      } catch (AtomicMoveNotSupportedException e) {
-        Files.move(tmp, abs, StandardCopyOption.REPLACE_EXISTING);
-      }
-    } finally {
-      Files.deleteIfExists(tmp);
-    }
+    Files.createDirectories(file.toAbsolutePath().getParent());
+    OutputFiles.write(file, s.toString().getBytes(StandardCharsets.UTF_8), "the costs");
   }
 
   /** The costs in {@code file}, or empty when there is no such file. */

@@ -52,7 +52,7 @@ class WhereTest {
         IndexSearcher searcher = new IndexSearcher(reader);
         for (int e = 0; e < 20; e++) {
           Expr ex = expr(rnd, 3);
-          assertEquals(scan(rows, ex.test), search(searcher, Where.parse(ex.text, FIELDS), rows.size()),
+          assertEquals(scan(rows, ex.test), search(searcher, Where.parse(ex.text, FIELDS, MetaStore::key), rows.size()),
               ex.text + " " + Randoms.describe(seed));
         }
       }
@@ -174,7 +174,7 @@ class WhereTest {
         new Row("cat", null, null, null, null));
     try (ByteBuffersDirectory dir = index(rows); DirectoryReader reader = DirectoryReader.open(dir)) {
       IndexSearcher s = new IndexSearcher(reader);
-      Query q = Where.parse("label = cat and split != test and (score >= 0.5 or source in (a, b))", FIELDS);
+      Query q = Where.parse("label = cat and split != test and (score >= 0.5 or source in (a, b))", FIELDS, MetaStore::key);
       List<String> got = new ArrayList<>();
       for (ScoreDoc sd : s.search(q, 10).scoreDocs) got.add(s.storedFields().document(sd.doc).get("row"));
       got.sort(null);
@@ -184,19 +184,19 @@ class WhereTest {
 
   @Test
   void errorsNameThePosition() {
-    assertThatThrownBy(() -> Where.parse("label = cat and colour = red", FIELDS))
+    assertThatThrownBy(() -> Where.parse("label = cat and colour = red", FIELDS, MetaStore::key))
         .isInstanceOf(BadInputException.class).hasMessageContaining("position 17").hasMessageContaining("unknown field 'colour'");
-    assertThatThrownBy(() -> Where.parse("label = cat and", FIELDS))
+    assertThatThrownBy(() -> Where.parse("label = cat and", FIELDS, MetaStore::key))
         .isInstanceOf(BadInputException.class).hasMessageContaining("position 16").hasMessageContaining("the end");
-    assertThatThrownBy(() -> Where.parse("(label = cat", FIELDS)).hasMessageContaining("position 13").hasMessageContaining("')'");
-    assertThatThrownBy(() -> Where.parse("score > high", FIELDS)).hasMessageContaining("position 9").hasMessageContaining("not a number");
-    assertThatThrownBy(() -> Where.parse("label < cat", FIELDS)).hasMessageContaining("position 7").hasMessageContaining("number field");
-    assertThatThrownBy(() -> Where.parse("label = 'cat", FIELDS)).hasMessageContaining("position 9").hasMessageContaining("quote");
-    assertThatThrownBy(() -> Where.parse("label ! cat", FIELDS)).hasMessageContaining("position 7");
-    assertThatThrownBy(() -> Where.parse("label in ()", FIELDS)).hasMessageContaining("position 11").hasMessageContaining("value");
-    assertThatThrownBy(() -> Where.parse("label = cat dog", FIELDS)).hasMessageContaining("position 13");
-    assertThatThrownBy(() -> Where.parse(" ", FIELDS)).isInstanceOf(BadInputException.class).hasMessageContaining("empty");
-    assertThatThrownBy(() -> Where.parse("or label = cat", FIELDS)).hasMessageContaining("position 1").hasMessageContaining("field name");
+    assertThatThrownBy(() -> Where.parse("(label = cat", FIELDS, MetaStore::key)).hasMessageContaining("position 13").hasMessageContaining("')'");
+    assertThatThrownBy(() -> Where.parse("score > high", FIELDS, MetaStore::key)).hasMessageContaining("position 9").hasMessageContaining("not a number");
+    assertThatThrownBy(() -> Where.parse("label < cat", FIELDS, MetaStore::key)).hasMessageContaining("position 7").hasMessageContaining("number field");
+    assertThatThrownBy(() -> Where.parse("label = 'cat", FIELDS, MetaStore::key)).hasMessageContaining("position 9").hasMessageContaining("quote");
+    assertThatThrownBy(() -> Where.parse("label ! cat", FIELDS, MetaStore::key)).hasMessageContaining("position 7");
+    assertThatThrownBy(() -> Where.parse("label in ()", FIELDS, MetaStore::key)).hasMessageContaining("position 11").hasMessageContaining("value");
+    assertThatThrownBy(() -> Where.parse("label = cat dog", FIELDS, MetaStore::key)).hasMessageContaining("position 13");
+    assertThatThrownBy(() -> Where.parse(" ", FIELDS, MetaStore::key)).isInstanceOf(BadInputException.class).hasMessageContaining("empty");
+    assertThatThrownBy(() -> Where.parse("or label = cat", FIELDS, MetaStore::key)).hasMessageContaining("position 1").hasMessageContaining("field name");
   }
 
   @Test
@@ -205,7 +205,7 @@ class WhereTest {
         new Row("and", "train", null, "a", 1.0), new Row("cat", "train", 0.5, "a", 1.0));
     try (ByteBuffersDirectory dir = index(rows); DirectoryReader reader = DirectoryReader.open(dir)) {
       // row 2 has no score: 'score < 1e-3' does not hold for it, so its negation does
-      assertEquals(List.of(1, 2), search(new IndexSearcher(reader), Where.parse("label == 'and' AND NOT score < 1e-3", FIELDS), 4));
+      assertEquals(List.of(1, 2), search(new IndexSearcher(reader), Where.parse("label == 'and' AND NOT score < 1e-3", FIELDS, MetaStore::key), 4));
     }
   }
 
@@ -233,7 +233,7 @@ class WhereTest {
         boolean not = rnd.nextBoolean();
         String text = "label " + (not ? "not in" : "in") + " (" + lt + ") or score in (" + st + ")";
         Predicate<Row> test = r -> (not != labels.contains(r.label)) || (r.score != null && scores.contains(r.score));
-        assertEquals(scan(rows, test), search(searcher, Where.parse(text, FIELDS), rows.size()), Randoms.describe(seed));
+        assertEquals(scan(rows, test), search(searcher, Where.parse(text, FIELDS, MetaStore::key), rows.size()), Randoms.describe(seed));
       }
     }
   }
@@ -252,7 +252,7 @@ class WhereTest {
         Expr inner = e;
         e = rnd.nextBoolean() ? new Expr("(" + inner.text + ")", inner.test, 0) : new Expr("not " + inner.text, inner.test.negate(), 3);
       }
-      assertEquals(scan(rows, e.test), search(searcher, Where.parse(e.text, FIELDS), rows.size()), e.text + " " + Randoms.describe(seed));
+      assertEquals(scan(rows, e.test), search(searcher, Where.parse(e.text, FIELDS, MetaStore::key), rows.size()), e.text + " " + Randoms.describe(seed));
       // the longest accepted or-chain: MAX_CLAUSES comparisons
       StringBuilder chain = new StringBuilder();
       Predicate<Row> any = r -> false;
@@ -266,31 +266,31 @@ class WhereTest {
         chain.append(i == 0 ? "" : " or ").append(a.text);
         any = any.or(a.test);
       }
-      assertEquals(scan(rows, any), search(searcher, Where.parse(chain.toString(), FIELDS), rows.size()), Randoms.describe(seed));
+      assertEquals(scan(rows, any), search(searcher, Where.parse(chain.toString(), FIELDS, MetaStore::key), rows.size()), Randoms.describe(seed));
     }
     String tooDeep = "(".repeat(Where.MAX_NESTING) + "not label = cat" + ")".repeat(Where.MAX_NESTING);
-    assertThatThrownBy(() -> Where.parse(tooDeep, FIELDS)).isInstanceOf(BadInputException.class)
+    assertThatThrownBy(() -> Where.parse(tooDeep, FIELDS, MetaStore::key)).isInstanceOf(BadInputException.class)
         .hasMessageContaining("position " + (Where.MAX_NESTING + 1)).hasMessageContaining("nest more than " + Where.MAX_NESTING);
     // the inputs that overflowed the stack before: 3,000 parentheses, 30,000 'not'
     for (String huge : List.of("(".repeat(3000) + "label = cat" + ")".repeat(3000), "not ".repeat(30000) + "label = cat")) {
-      assertThatThrownBy(() -> Where.parse(huge, FIELDS)).isInstanceOf(BadInputException.class)
+      assertThatThrownBy(() -> Where.parse(huge, FIELDS, MetaStore::key)).isInstanceOf(BadInputException.class)
           .hasMessageContaining("nest more than").message().hasSizeLessThan(400).doesNotContain("\n");
     }
     String tooLong = "label = a or ".repeat(Where.MAX_CLAUSES) + "label = b";
-    assertThatThrownBy(() -> Where.parse(tooLong, FIELDS)).isInstanceOf(BadInputException.class)
+    assertThatThrownBy(() -> Where.parse(tooLong, FIELDS, MetaStore::key)).isInstanceOf(BadInputException.class)
         .hasMessageContaining("position " + (tooLong.length() - "label = b".length() + 1))
         .hasMessageContaining("in (").message().hasSizeLessThan(400);
     // != and not count one more each: 501 of them are 1,002 clauses
-    assertThatThrownBy(() -> Where.parse("label != a and ".repeat(500) + "label != b", FIELDS))
+    assertThatThrownBy(() -> Where.parse("label != a and ".repeat(500) + "label != b", FIELDS, MetaStore::key))
         .isInstanceOf(BadInputException.class).hasMessageContaining("more than " + Where.MAX_CLAUSES);
   }
 
   @Test
   void messagesQuoteOnlyAShortPrefix() {
     String longValue = "x".repeat(5_000_000);
-    assertThatThrownBy(() -> Where.parse("score = " + longValue, FIELDS)).isInstanceOf(BadInputException.class)
+    assertThatThrownBy(() -> Where.parse("score = " + longValue, FIELDS, MetaStore::key)).isInstanceOf(BadInputException.class)
         .hasMessageContaining("not a number").hasMessageContaining("5,000,000 characters").message().hasSizeLessThan(400);
-    assertThatThrownBy(() -> Where.parse("label = 'a\nb' and\ncolour = red", FIELDS)).isInstanceOf(BadInputException.class)
+    assertThatThrownBy(() -> Where.parse("label = 'a\nb' and\ncolour = red", FIELDS, MetaStore::key)).isInstanceOf(BadInputException.class)
         .message().doesNotContain("\n");
   }
 
