@@ -3,6 +3,8 @@ package io.actindex.cli;
 import io.actindex.core.OptionNames;
 import java.util.List;
 import java.util.Map;
+import java.util.regex.Pattern;
+import picocli.CommandLine;
 
 /**
  * The library's messages name Java API parameters; the command line prints its options instead. A
@@ -31,6 +33,20 @@ final class ApiNames {
   static String options(String text) {
     return OptionNames.options(text, SPELLED);
   }
+
+  /**
+   * {@link #options(String)} for a message of {@code command}: a command that takes the kind of its
+   * rows as a value ({@code compare --kind inputs}, {@code report --compare-kind inputs}) rather than as options of their own ({@code
+   * nearest --inputs}) gets {@code `Source.inputs`} (and the other kinds) as {@code --kind inputs}.
+   */
+  static String options(String text, CommandLine.Model.CommandSpec command) {
+    if (text != null && command != null && command.findOption("--inputs") == null)
+      for (String kind : List.of("--kind", "--compare-kind"))
+        if (command.findOption(kind) != null) return options(KIND.matcher(text).replaceAll(kind + " $1"));
+    return options(text);
+  }
+
+  private static final Pattern KIND = Pattern.compile("`Source\\.(inputs|activations|codes)`");
 
   /** Each of {@code texts} through {@link #options(String)}. */
   static List<String> options(List<String> texts) {

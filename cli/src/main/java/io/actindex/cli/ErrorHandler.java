@@ -155,7 +155,7 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
     for (Throwable t = ex; t != null; t = t.getCause() == t ? null : t.getCause()) {
       if (t instanceof BadParameterException p && option(command, p.parameter()) != null)
         return option(command, p.parameter()) + ApiNames.options(p.rest());
-      if (t instanceof BadInputException) return ApiNames.options(t.getMessage());
+      if (t instanceof BadInputException) return ApiNames.options(t.getMessage(), command);
       if (t instanceof NoSuchFileException f) return f.getFile() + ": no such file";
       if (t instanceof AccessDeniedException f) return f.getFile() + ": permission denied";
       if (t instanceof NotDirectoryException f) return f.getFile() + ": not a folder (a part of this path is a file)";

@@ -56,6 +56,11 @@ class CsvColumnNamesEndToEndTest {
     assertThat(r.err().strip()).as(r.describe()).doesNotContain("\n");
   }
 
+  private static void assertHinted(Cli.Result r, Path file, String hint) {
+    assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(r.err().strip()).as(r.describe()).contains(file.toString() + ": the activations have layout").endsWith(hint).doesNotContain("\n");
+  }
+
   @Test
   void activationsWhoseHeaderNamesOtherOrReorderedColumnsAreRefused() {
     SplittableRandom rnd = new SplittableRandom(11);
@@ -118,6 +123,37 @@ class CsvColumnNamesEndToEndTest {
     assertThat(asActs.err()).as(asActs.describe()).contains("q.csv").contains("pass it with --inputs");
     assertRefused(Cli.run("compare", "--a", inputs.toString(), "--b", reordered.toString(), "--model", model.toString(), "--kind", "inputs"),
         reordered, "another order");
+  }
+
+  /**
+   * The model's inputs passed as activations (or codes) by mistake, in a file with no header to tell
+   * them apart: the refusal of their width says they match the model's inputs and names the option
+   * that reads them so, in each command's own words ({@code --inputs}, {@code --kind inputs},
+   * {@code --compare-kind inputs}); a file of another width gets no such hint.
+   */
+  @Test
+  void inputsGivenAsActivationsGetAHintInEachCommandsWords() throws Exception {
+    SplittableRandom rnd = new SplittableRandom(15);
+    Path model = mlp("mlp.safetensors", 4, rnd);
+    float[][] train = SourcesEndToEndTest.activations(30, D, rnd), query = SourcesEndToEndTest.activations(4, D, rnd);
+    Path idx = tmp.resolve("idx");
+    Cli.Result b = Cli.run("build", "--out", idx.toString(), "--model", model.toString(), "--inputs",
+        Files2.floats(tmp.resolve("train.npy"), train).toString());
+    assertThat(b.code()).as(b.describe()).isZero();
+    Path q = Files2.floats(tmp.resolve("q.npy"), query);
+    String hint = "match the " + D + " inputs of the model the index " + idx + " keeps: if these rows are the model's inputs, pass them with ";
+    Cli.Result nearest = Cli.run("nearest", "--index", idx.toString(), "--activations", q.toString());
+    assertHinted(nearest, q, hint + "--inputs");
+    Cli.Result compare = Cli.run("compare", "--index", idx.toString(), "--kind", "activations", "--a", q.toString(), "--b", q.toString());
+    assertHinted(compare, q, hint + "--kind inputs");
+    Cli.Result report = Cli.run("report", "--index", idx.toString(), "--out", tmp.resolve("r.html").toString(),
+        "--compare-kind", "activations", "--compare-a", q.toString(), "--compare-b", q.toString());
+    assertHinted(report, q, hint + "--compare-kind inputs");
+    Path wide = Files2.floats(tmp.resolve("wide.npy"), SourcesEndToEndTest.activations(4, D + 1, rnd));
+    Cli.Result other = Cli.run("nearest", "--index", idx.toString(), "--activations", wide.toString());
+    assertThat(other.code()).as(other.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(other.err()).as(other.describe()).contains("wide.npy").doesNotContain("inputs of the model");
+    assertThat(Cli.run("nearest", "--index", idx.toString(), "--inputs", q.toString()).code()).isZero();
   }
 
   /**

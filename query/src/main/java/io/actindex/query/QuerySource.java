@@ -75,14 +75,10 @@ public final class QuerySource {
     if (name.endsWith(".npz")) return Source.Kind.ACTIVATIONS; // one array per layer; inputs are one matrix
     byte[] model = reader.attachment(BuildInfo.MODEL);
     if (model == null || !(name.endsWith(".npy") || name.endsWith(".csv"))) return Source.Kind.INPUTS; // the reader says what is wrong
-    try (MatrixReader m = Encoders.openMatrix(file, header); SafetensorsReader r = SafetensorsReader.open(BuildInfo.MODEL, model)) {
+    try (MatrixReader m = Encoders.openMatrix(file, header)) {
       long cols = m.cols();
-      int inputs;
-      try {
-        inputs = Mlp.load(r, info.encode().layerOrder(), info.encode().outputLayer(), -1).mlp().inputs();
-      } catch (BadInputException e) { // an order that needs the input width to resolve: reading the file as inputs says what fits
-        return Source.Kind.INPUTS;
-      }
+      int inputs = modelInputs(info, model);
+      if (inputs < 0) return Source.Kind.INPUTS; // an order that needs the input width to resolve: reading the file as inputs says what fits
       CodeLayout hidden = info.sourceLayout();
       boolean codesWidth = cols == reader.layout().bits() || (hidden != null && cols == hidden.bits());
       if (!codesWidth) return Source.Kind.INPUTS;
@@ -92,6 +88,18 @@ public final class QuerySource {
           + "); say which with " + option + " inputs or " + option + " activations");
     } catch (IOException e) {
       throw new UncheckedIOException(e);
+    }
+  }
+
+  /**
+   * The input width of the model stored in an index ({@code model}, its safetensors bytes), or -1
+   * when its layer order cannot be resolved without knowing that width.
+   */
+  private static int modelInputs(BuildInfo info, byte[] model) throws IOException {
+    try (SafetensorsReader r = SafetensorsReader.open(BuildInfo.MODEL, model)) {
+      return Mlp.load(r, info.encode().layerOrder(), info.encode().outputLayer(), -1).mlp().inputs();
+    } catch (BadInputException e) {
+      return -1;
     }
   }
 
@@ -134,7 +142,12 @@ public final class QuerySource {
       throw new BadInputException(source.file() + ": its header names the model inputs the index " + reader.dir() + " was built from, but it"
           + " was given as " + source.kind().name().toLowerCase(java.util.Locale.ROOT) + "; pass it with `Source.inputs`");
     CodeBlock raw = read.codes();
-    CodeBlock codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString(), source.kind());
+    CodeBlock codes;
+    try {
+      codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString(), source.kind());
+    } catch (BadInputException e) {
+      throw inputsHint(e, reader, info, source, raw.layout().bits());
+    }
     CodeLayout split = raw.layout().bits() == target.bits() ? target : info.sourceLayout();
     if (raw.layout().segments().size() == 1 && split != null && split.segments().size() > 1 && split.bits() == raw.layout().bits())
       notes.add(source.file() + ": note: its " + raw.layout().bits() + " columns are read as the layers " + split + " side by side, in that order");
@@ -144,6 +157,23 @@ public final class QuerySource {
       notes.add(source.file() + ": note: the index keeps its model's hidden activations after ReLU; the negative values here (activations"
           + " before ReLU, e.g. hooked on nn.Linear) are taken as 0, as ReLU does");
     return new Encoded(codes, values, read.columns());
+  }
+
+  /**
+   * {@code refusal} of rows that do not fit the index's layout, with a hint when they were given as
+   * activations or codes but have exactly as many columns as the model stored in the index takes
+   * inputs (the usual slip: the model's inputs passed as activations).
+   */
+  private static BadInputException inputsHint(BadInputException refusal, IndexReader reader, BuildInfo info, Source source, int cols) {
+    byte[] model = reader.attachment(BuildInfo.MODEL);
+    if (source.kind() == Source.Kind.INPUTS || model == null) return refusal;
+    try {
+      if (modelInputs(info, model) != cols) return refusal;
+    } catch (IOException | RuntimeException e) { // the hint is a courtesy: the refusal stands as it was
+      return refusal;
+    }
+    return new BadInputException(refusal.getMessage() + ". Its " + cols + " columns match the " + cols + " inputs of the model the index "
+        + reader.dir() + " keeps: if these rows are the model's inputs, pass them with `Source.inputs`");
   }
 
   /**
