@@ -45,7 +45,8 @@ import java.util.zip.CRC32;
  * crc        u32       CRC32 (ISO-HDLC, java.util.zip.CRC32) of every byte before it
  * </pre>
  *
- * Nothing may follow the CRC. The reader checks the magic, the version, the CRC, every count
+ * Nothing may follow the CRC. The reader checks the magic, the version (another version is told as
+ * such when the CRC is right, as damage when it is not), the CRC, every count
  * against the bytes that remain, and every field's range, and throws {@link EdgeFormatException}
  * naming the file and field; it never scores from a damaged bundle.
  */
@@ -121,13 +122,16 @@ public final class BundleFormat {
     ByteBuffer in = ByteBuffer.wrap(bytes);
     in.position(MAGIC.length);
     int version = in.getInt();
-    if (version != VERSION) throw new EdgeFormatException(source + ": field version: bundle version " + version + ", this reader reads " + VERSION);
     CRC32 crc = new CRC32();
     crc.update(bytes, 0, bytes.length - 4);
     int stored = ByteBuffer.wrap(bytes, bytes.length - 4, 4).getInt();
+    // another version whose CRC is right is another version; with a wrong CRC it is damage (a flipped bit in the version, say)
+    if (version != VERSION && stored == (int) crc.getValue())
+      throw new EdgeFormatException(source + ": field version: bundle version " + version + ", this reader reads " + VERSION);
     if (stored != (int) crc.getValue())
       throw new EdgeFormatException(source + ": CRC32 mismatch (stored " + Integer.toHexString(stored) + ", computed "
-          + Long.toHexString(crc.getValue()) + "): the bundle is damaged");
+          + Long.toHexString(crc.getValue()) + "): the bundle is damaged" + (version != VERSION ? " (its version field reads " + version
+          + ", this reader reads " + VERSION + ")" : ""));
     ByteBuffer body = ByteBuffer.wrap(bytes, 0, bytes.length - 4);
     body.position(in.position());
     Reader r = new Reader(body, source);

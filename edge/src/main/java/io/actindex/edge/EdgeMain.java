@@ -1,16 +1,21 @@
 package io.actindex.edge;
 
-import java.io.BufferedReader;
 import java.io.IOException;
-import java.io.InputStreamReader;
+import java.io.InputStream;
 import java.io.PrintStream;
-import java.io.Reader;
+import java.nio.ByteBuffer;
+import java.nio.CharBuffer;
+import java.nio.charset.CharsetDecoder;
+import java.nio.charset.CodingErrorAction;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.AccessDeniedException;
 import java.nio.file.Files;
 import java.nio.file.InvalidPathException;
 import java.nio.file.NoSuchFileException;
 import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
 
 /**
  * {@code java -jar actindex-edge.jar BUNDLE [--inputs]}: scores the rows on standard input and
@@ -20,14 +25,17 @@ import java.nio.file.Path;
  * CSV reader reads a file under {@code --header auto}: blank lines skipped, cells may be quoted, a
  * first line of column names skipped with a note on stderr ({@link #firstLine}), a first line that
  * may be either refused, and so is a header with no row after it; two whole numbers in row 0 of a
- * two-input model are refused ({@link #decimalComma}). Either way empty input and lines ending in CR
- * alone are refused. Exit 0 ok, 2 a bad bundle, row or option (one line on stderr), 1 anything else.
+ * two-input model are refused ({@link #decimalComma}). Either way standard input is UTF-8, read as
+ * the index's CSV reader reads a file ({@link Lines}: empty input, a line ending in CR alone, bytes
+ * that are not UTF-8, a NUL byte and a line over {@link RowText#MAX_LINE_BYTES} are refused), and a
+ * bad row is named as that reader names it: {@code stdin line L (row R), column C (0-based)}.
+ * Exit 0 ok, 2 a bad bundle, row or option (one line on stderr), 1 anything else.
  */
 public final class EdgeMain {
   private EdgeMain() {}
 
   public static void main(String[] args) {
-    System.exit(run(args, new BufferedReader(new InputStreamReader(System.in, StandardCharsets.UTF_8)), System.out, System.err));
+    System.exit(run(args, System.in, System.out, System.err));
   }
 
   static final String USAGE = "usage: java -jar actindex-edge.jar BUNDLE [--inputs] < rows";
@@ -39,7 +47,7 @@ public final class EdgeMain {
     }
   }
 
-  static int run(String[] args, BufferedReader in, PrintStream out, PrintStream err) {
+  static int run(String[] args, InputStream in, PrintStream out, PrintStream err) {
     if (args.length == 1 && (args[0].equals("--help") || args[0].equals("-h"))) {
       out.println(USAGE);
       out.println("Scores each row of standard input against the bundle: a code as 0/1 bits, or with --inputs a raw input");
@@ -61,7 +69,7 @@ public final class EdgeMain {
       out.println("# a calibrated heuristic, not a guarantee: rates hold only for inputs exchangeable with the calibration data");
       out.println("row,score,decision,p_value");
       Lines lines = new Lines(in, inputs);
-      String line = lines.next(), note = null;
+      String line = lines.next(), note = null, indexHeader = null;
       if (line == null) return fail(err, "stdin holds no rows (it is empty" + (inputs ? " or blank)" : ")"));
       boolean headed = false;
       if (inputs) {
@@ -69,34 +77,47 @@ public final class EdgeMain {
         String[] first;
         try {
           first = RowText.cells(line);
-          headed = firstLine(first);
+          headed = firstLine(first, where);
+        } catch (RowText.BadCell e) {
+          return fail(err, where + ", column " + e.column() + " (0-based): " + e.reason());
         } catch (IllegalArgumentException e) {
-          return fail(err, where + ": " + e.getMessage());
+          return fail(err, e.getMessage());
         }
         if (headed) {
           line = lines.next();
           if (line == null) return fail(err, where + " is taken as a header (column names, not numbers) and no row follows it"
               + (first.length == 1 ? otherSeparator(first[0]) : ""));
           note = "note: " + where + " taken as a header and skipped (column names, not numbers); row 0 is the next line";
-          if (first.length > 1 && RowText.isIndexHeader(first[0].trim()))
-            note += "; hint: column 0 looks like a row index (header cell " + quote(first[0].trim()) + "); it is read as data: write the rows without it"
-                + " (e.g. to_csv(index=False)) if it is not an input";
+          if (first.length > 1 && RowText.isIndexHeader(first[0].trim())) indexHeader = first[0].trim();
         }
       }
       boolean pairs = inputs && !headed && b.model().layers().get(0).in() == 2;
-      for (long row = 0; line != null; row++, line = lines.next()) {
+      int width = inputs ? b.model().layers().get(0).in() : 0;
+      List<String> column0 = new ArrayList<>(); // of rows 0 to 2, for the row-index hint
+      long row = 0;
+      for (; line != null; row++, line = lines.next()) {
+        String where = "stdin line " + lines.number + " (row " + row + ")";
         long[] code;
         try {
           if (pairs && row == 0) decimalComma(line);
-          code = inputs ? b.encode(numbers(line)) : bits(line, b);
+          if (inputs) {
+            String[] cells = RowText.cells(line); // "1,2," keeps its empty last field (refused), as the index's CSV reader refuses it
+            double[] x = numbers(cells, width);
+            if (row < 3) column0.add(cells[0]);
+            code = b.encode(x);
+          } else {
+            code = bits(line, b);
+          }
+        } catch (RowText.BadCell e) {
+          return fail(err, where + ", column " + e.column() + " (0-based): " + e.reason());
         } catch (IllegalArgumentException e) {
-          return fail(err, "stdin row " + row + ": " + e.getMessage());
+          return fail(err, where + ": " + e.getMessage());
         }
-        if (note != null) err.println(note); // once row 0 is read: a refusal stays one line
-        note = null;
         double s = b.score(code).value();
         out.println(row + "," + s + "," + (b.isOut(code) ? "out" : "in") + "," + b.pValue(s));
+        if (row == 2) note(err, note, indexHeader, column0, width);
       }
+      if (row < 3) note(err, note, indexHeader, column0, width);
       return 0;
     } catch (EdgeFormatException e) {
       return fail(err, e.getMessage());
@@ -136,6 +157,22 @@ public final class EdgeMain {
     }
   }
 
+  /**
+   * Prints the header note and the row-index hint (a row-index header cell, or column 0 counting 0, 1,
+   * 2 or 1, 2, 3 in rows 0 to 2, as the index's CSV reader tells it) on one line, once rows 0 to 2 (or
+   * all rows, when fewer) are read; a refusal before that stays one line.
+   */
+  private static void note(PrintStream err, String note, String indexHeader, List<String> column0, int width) {
+    long start = width >= 2 ? RowText.countingFrom(column0) : -1;
+    if (indexHeader != null || start >= 0) {
+      String hint = "hint: column 0 looks like a row index (" + (indexHeader != null ? "header cell " + quote(indexHeader) : "")
+          + (indexHeader != null && start >= 0 ? ", " : "") + (start >= 0 ? "values " + start + ", " + (start + 1) + ", ..." : "")
+          + "); it is read as data: write the rows without it (e.g. to_csv(index=False)) if it is not an input";
+      note = note == null ? "note: " + hint : note + "; " + hint;
+    }
+    if (note != null) err.println(note);
+  }
+
   private static int fail(PrintStream err, String message) {
     err.println(message);
     return 2;
@@ -144,25 +181,36 @@ public final class EdgeMain {
   /**
    * The first line of raw inputs (its {@link RowText#cells}), decided by {@link RowText#firstLine} as
    * the index's CSV reader decides under {@code --header auto}: true, a header, for {@code TEXT} and
-   * {@code COLUMN_NUMBERS}; false, data, otherwise. Refused (IllegalArgumentException) when it can be
-   * both: {@code FEW_COLUMN_NUMBERS} ({@code 0} or {@code 0,1}) or {@code EVENLY_SPACED}.
-   * A line mixing text and numbers is data here, refused when read as a row (the index refuses the
-   * line as unclear). This reader takes no {@code --header}, so the way out is a line of column names
-   * before a first row of data.
+   * {@code COLUMN_NUMBERS}; false, data, for {@code NUMBERS}. Refused (IllegalArgumentException, the
+   * whole message, starting with {@code where}) when it can be both: {@code FEW_COLUMN_NUMBERS}
+   * ({@code 0} or {@code 0,1}), {@code EVENLY_SPACED}, or {@code MIXED} text and numbers (naming
+   * the first text cell, with the row-index hint when column 0's cell names one, as the index words
+   * it). This reader takes no {@code --header}, so the way out is a line of column names before a
+   * first row of data. The numbers are listed unquoted, as the index lists them: a decimal number
+   * holds no character to escape.
    */
-  static boolean firstLine(String[] f) {
-    String cells = String.join(", ", java.util.Arrays.stream(f).map(String::trim).toArray(String[]::new));
+  static boolean firstLine(String[] f, String where) {
     String wayOut = "; this reader takes no --header: delete the line if it is a header, or put a line of column names before it if it is data";
     switch (RowText.firstLine(f)) {
       case TEXT:
       case COLUMN_NUMBERS:
         return true;
       case FEW_COLUMN_NUMBERS:
-        throw new IllegalArgumentException("holds " + quote(cells) + ", the column numbers a data-frame library writes over unnamed columns, or a row"
-            + " of data (with " + f.length + (f.length == 1 ? " column" : " columns") + " either is likely)" + wayOut);
+        throw new IllegalArgumentException(where + " holds " + String.join(", ", Arrays.stream(f).map(String::trim).toArray(String[]::new))
+            + ", the column numbers a data-frame library writes over unnamed columns,"
+            + " or a row of data (with " + f.length + (f.length == 1 ? " column" : " columns") + " either is likely)" + wayOut);
       case EVENLY_SPACED:
-        throw new IllegalArgumentException("holds the evenly spaced numbers " + quote(cells) + ", more like column names (columns numbered from 1,"
-            + " wavelengths, time offsets) than a row of data" + wayOut);
+        throw new IllegalArgumentException(where + " holds the evenly spaced numbers " + f[0].trim() + ", " + f[1].trim() + ", ..., "
+            + f[f.length - 1].trim() + ", more like column names (columns numbered"
+            + " from 1, wavelengths, time offsets) than a row of data" + wayOut);
+      case MIXED:
+        int text = 0;
+        while (RowText.isNumber(f[text].trim())) text++;
+        throw new IllegalArgumentException(where + ", column " + text + " (0-based): " + quote(f[text].trim()) + " is text but other cells of the"
+            + " line are numbers, so it is unclear whether the line is a header; this reader takes no --header: write a header with a name in"
+            + " every cell, or a row with a number in every cell"
+            + (RowText.isIndexHeader(f[0].trim()) ? "; column 0 looks like a row index column (header cell " + quote(f[0].trim())
+                + "): write the rows without it" : ""));
       default:
         return false;
     }
@@ -192,20 +240,27 @@ public final class EdgeMain {
   }
 
   /**
-   * Lines of standard input, split at LF (a CR before it dropped), a UTF-8 byte order mark before the
-   * first skipped, blank lines skipped for raw inputs, counted from 1. A CR anywhere else is refused
-   * ({@link Refused}): lines that end in CR alone (classic Mac OS) are one line to the index's CSV
-   * reader, which refuses them, so they are refused here rather than read as rows.
+   * Lines of standard input, read as the index's CSV reader reads a file's: split at LF (a CR before
+   * it dropped), each line decoded strictly as UTF-8, a UTF-8 byte order mark before the first
+   * skipped, blank lines skipped for raw inputs, counted from 1. Refused ({@link Refused}, naming the
+   * byte offset and line, as that reader does): a UTF-16 byte order mark, a NUL byte (UTF-16 or
+   * binary), bytes that are not UTF-8 (Latin-1 text), a CR anywhere else (lines that end in CR alone,
+   * classic Mac OS, are one line to that reader) and a line over {@link RowText#MAX_LINE_BYTES} (so a
+   * stream without line ends does not fill memory). Reads what is there ({@code read}), never waits
+   * for a full buffer, so rows piped one by one are answered one by one.
    */
   private static final class Lines {
-    final Reader in;
+    final InputStream in;
     final boolean skipBlank;
-    final char[] buf = new char[8192];
+    final byte[] buf = new byte[1 << 16];
     int pos, len;
-    final StringBuilder line = new StringBuilder();
+    long bufStart; // offset of buf[0] in the stream
+    byte[] line = new byte[256];
+    final CharsetDecoder utf8 = StandardCharsets.UTF_8.newDecoder().onMalformedInput(CodingErrorAction.REPORT)
+        .onUnmappableCharacter(CodingErrorAction.REPORT);
     long number;
 
-    Lines(Reader in, boolean skipBlank) {
+    Lines(InputStream in, boolean skipBlank) {
       this.in = in;
       this.skipBlank = skipBlank;
     }
@@ -220,40 +275,72 @@ public final class EdgeMain {
     }
 
     private String read() throws IOException, Refused {
-      line.setLength(0);
+      int n = 0;
+      long start = bufStart + pos;
       boolean any = false;
       while (true) {
         if (pos == len) {
+          bufStart += len;
           len = Math.max(0, in.read(buf));
           pos = 0;
           if (len == 0) break;
+          if (bufStart == 0 && len >= 2 && ((buf[0] & 0xff) == 0xff && (buf[1] & 0xff) == 0xfe || (buf[0] & 0xff) == 0xfe && (buf[1] & 0xff) == 0xff))
+            throw refused(0, "a UTF-16 byte order mark: write the rows as UTF-8");
         }
         any = true;
-        char c = buf[pos++];
-        if (c == '\n') break;
-        line.append(c);
+        int nl = -1;
+        for (int i = pos; i < len; i++) {
+          if (buf[i] == '\n') {
+            nl = i;
+            break;
+          }
+          if (buf[i] == 0) throw refused(bufStart + i, "a NUL byte: the rows look like UTF-16 or binary; write them as UTF-8 text");
+        }
+        int end = nl < 0 ? len : nl;
+        if ((long) n + end - pos > RowText.MAX_LINE_BYTES)
+          throw new Refused("stdin line " + (number + 1) + " is longer than " + (RowText.MAX_LINE_BYTES >> 20) + " MiB");
+        if (n + end - pos > line.length) line = Arrays.copyOf(line, Math.max(n + end - pos, line.length * 2));
+        System.arraycopy(buf, pos, line, n, end - pos);
+        n += end - pos;
+        pos = nl < 0 ? len : nl + 1;
+        if (nl >= 0) break;
       }
       if (!any) return null;
+      if (n > 0 && line[n - 1] == '\r') n--;
+      for (int i = 0; i < n; i++)
+        if (line[i] == '\r')
+          throw refused(start + i, "a carriage return inside a line: the lines end in CR alone (classic Mac OS); write them with LF or CRLF line ends");
+      ByteBuffer bytes = ByteBuffer.wrap(line, 0, n);
+      CharBuffer chars = CharBuffer.allocate(n);
+      utf8.reset();
+      if (utf8.decode(bytes, chars, true).isError())
+        throw refused(start + bytes.position(), "a byte sequence that is not UTF-8 (e.g. Latin-1 text); write the rows as UTF-8");
+      utf8.flush(chars);
       number++;
-      int n = line.length();
-      if (n > 0 && line.charAt(n - 1) == '\r') line.setLength(--n);
-      if (line.indexOf("\r") >= 0)
-        throw new Refused("stdin line " + number + ": a carriage return inside a line: the lines end in CR alone (classic Mac OS);"
-            + " write them with LF or CRLF line ends");
-      return line.toString();
+      return chars.flip().toString();
+    }
+
+    private Refused refused(long offset, String what) {
+      return new Refused("stdin byte " + offset + " (line " + (number + 1) + "): " + what);
     }
   }
 
-  private static double[] numbers(String line) {
-    String[] parts = RowText.cells(line); // "1,2," keeps its empty last field (refused below), as the index's CSV reader refuses it
-    double[] x = new double[parts.length];
-    for (int i = 0; i < x.length; i++) {
-      String f = parts[i].trim();
-      if (RowText.isNotFinite(f)) throw new IllegalArgumentException("column " + i + ": not finite");
-      if (!RowText.isDecimal(f)) throw new IllegalArgumentException("column " + i + ": " + quote(f) + " is not a number" + otherSeparator(f));
-      x[i] = Double.parseDouble(f);
-      if (!Double.isFinite(x[i])) throw new IllegalArgumentException("column " + i + ": not finite");
+  /**
+   * The numbers in {@code cells}, {@code width} of them, refused ({@link RowText.BadCell} naming the
+   * column) as the index's CSV reader refuses a cell: too many or too few fields, an empty field,
+   * text, NaN or an infinity (also a number too large for a double).
+   */
+  private static double[] numbers(String[] cells, int width) {
+    double[] x = new double[width];
+    for (int i = 0; i < cells.length; i++) {
+      if (i >= width) throw new RowText.BadCell(i, "too many fields (expected " + width + ", the model's inputs)");
+      String f = cells[i].trim();
+      if (f.isEmpty()) throw new RowText.BadCell(i, "empty field");
+      if (!RowText.isNumber(f)) throw new RowText.BadCell(i, quote(f) + " is not a number" + otherSeparator(f));
+      x[i] = RowText.isNotFinite(f) ? Double.NaN : Double.parseDouble(f);
+      if (!Double.isFinite(x[i])) throw new RowText.BadCell(i, "value is " + quote(f) + "; only finite numbers are accepted");
     }
+    if (cells.length < width) throw new RowText.BadCell(cells.length, "only " + cells.length + " fields (expected " + width + ", the model's inputs)");
     return x;
   }
 

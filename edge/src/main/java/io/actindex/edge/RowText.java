@@ -14,6 +14,12 @@ import java.util.regex.Pattern;
 public final class RowText {
   private RowText() {}
 
+  /**
+   * Longest line a rows file may hold, in bytes (64 MiB): a reader refuses a longer one rather than
+   * read a file without line ends (binary data, one huge line) until memory runs out.
+   */
+  public static final int MAX_LINE_BYTES = 64 << 20;
+
   /** A decimal number as a cell of data may write one: no {@code 1f}, {@code 1d} or hexadecimal, which Java's own parser takes. */
   private static final Pattern DECIMAL = Pattern.compile("[+-]?(\\d+\\.?\\d*|\\.\\d+)([eE][+-]?\\d+)?");
 
@@ -121,6 +127,26 @@ public final class RowText {
       if (i == n) return cells.toArray(String[]::new);
       i++; // the comma
     }
+  }
+
+  /**
+   * Where the first cells of the first rows (column 0, untrimmed; two or more of them) count up by
+   * one from 0 or 1, as a row-index column written with the data does: that start, else -1.
+   */
+  public static long countingFrom(List<String> column0) {
+    if (column0.size() < 2) return -1;
+    long start = -1;
+    for (int k = 0; k < column0.size(); k++) {
+      long v;
+      try {
+        v = Long.parseLong(column0.get(k).trim());
+      } catch (NumberFormatException e) {
+        return -1;
+      }
+      if (k == 0) start = v;
+      if ((start != 0 && start != 1) || v != start + k) return -1;
+    }
+    return start;
   }
 
   /** What the cells of a first line look like, in the order the header decision asks. */

@@ -3,10 +3,9 @@ package io.actindex.edge;
 import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
-import java.io.BufferedReader;
+import java.io.ByteArrayInputStream;
 import java.io.ByteArrayOutputStream;
 import java.io.PrintStream;
-import java.io.StringReader;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -149,8 +148,13 @@ class EdgeBundleTest {
           .hasMessageStartingWith("bad.edge: ");
     }
     byte[] v2 = bytes.clone();
-    v2[11] = 2; // version 2
-    assertThatThrownBy(() -> BundleFormat.read(v2, "v2.edge")).hasMessageContaining("version 2");
+    v2[11] = 2; // version 2, CRC unchanged: damage, the version field told beside it (it was told as a bundle of version 2)
+    assertThatThrownBy(() -> BundleFormat.read(v2, "v2.edge")).hasMessageStartingWith("v2.edge: CRC32 mismatch")
+        .hasMessageEndingWith("the bundle is damaged (its version field reads 2, this reader reads 1)");
+    java.util.zip.CRC32 crc = new java.util.zip.CRC32();
+    crc.update(v2, 0, v2.length - 4);
+    java.nio.ByteBuffer.wrap(v2, v2.length - 4, 4).putInt((int) crc.getValue()); // a version 2 bundle written whole
+    assertThatThrownBy(() -> BundleFormat.read(v2, "v2.edge")).hasMessage("v2.edge: field version: bundle version 2, this reader reads 1");
     assertThatThrownBy(() -> BundleFormat.read(Arrays.copyOf(bytes, 10), "cut.edge")).isInstanceOf(EdgeFormatException.class);
     assertThatThrownBy(() -> BundleFormat.read("PK\u0003\u0004 a zip file".getBytes(StandardCharsets.ISO_8859_1), "a.zip"))
         .hasMessageContaining("not an actindex edge bundle");
@@ -189,7 +193,7 @@ class EdgeBundleTest {
     assertThat(ok.out.lines().toList()).hasSize(3).element(2).isEqualTo("0," + b.score(c).value() + ",in," + b.pValue(b.score(c).value()));
     Run badRow = run(new String[] {file.toString()}, "0101\n");
     assertThat(badRow.code).isEqualTo(2);
-    assertThat(badRow.err).startsWith("stdin row 0: 4 bits");
+    assertThat(badRow.err).startsWith("stdin line 1 (row 0): 4 bits");
     Files.write(tmp.resolve("d.edge"), Arrays.copyOf(Files.readAllBytes(file), 50));
     Run damaged = run(new String[] {tmp.resolve("d.edge").toString()}, "");
     assertThat(damaged.code).isEqualTo(2);
@@ -250,22 +254,22 @@ class EdgeBundleTest {
     assertThat(run(new String[] {"--help"}, "").out).startsWith("usage: java -jar actindex-edge.jar BUNDLE");
     // rows of the wrong width or content, as codes and as inputs
     String ok = "0".repeat(70);
-    assertRefused(run(new String[] {file.toString()}, ok + "\n" + "0".repeat(69) + "\n"), "stdin row 1: 69 bits, the bundle's codes have 70");
-    assertRefused(run(new String[] {file.toString()}, ok + "1\n"), "stdin row 0: more than the bundle's 70 bits");
-    assertRefused(run(new String[] {file.toString()}, "\n"), "stdin row 0: 0 bits, the bundle's codes have 70");
-    assertRefused(run(new String[] {file.toString()}, "01\u0007" + ok), "stdin row 0: character 2: '\\u0007' is not 0 or 1");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2\n"), "stdin row 0: input has 2 values, the model takes 3");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,5\n"), "stdin row 0: input has 4 values, the model takes 3");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,\n"), "stdin row 0: column 3: '' is not a number");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,x\u001b[31m,3\n"), "stdin row 0: column 1: 'x\\u001b[31m' is not a number");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,NaN,3\n"), "stdin row 0: column 1: not finite");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,-Infinity,3\n"), "stdin row 0: column 1: not finite");
+    assertRefused(run(new String[] {file.toString()}, ok + "\n" + "0".repeat(69) + "\n"), "stdin line 2 (row 1): 69 bits, the bundle's codes have 70");
+    assertRefused(run(new String[] {file.toString()}, ok + "1\n"), "stdin line 1 (row 0): more than the bundle's 70 bits");
+    assertRefused(run(new String[] {file.toString()}, "\n"), "stdin line 1 (row 0): 0 bits, the bundle's codes have 70");
+    assertRefused(run(new String[] {file.toString()}, "01\u0007" + ok), "stdin line 1 (row 0): character 2: '\\u0007' is not 0 or 1");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2\n"), "stdin line 1 (row 0), column 2 (0-based): only 2 fields (expected 3, the model's inputs)");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,5\n"), "stdin line 1 (row 0), column 3 (0-based): too many fields (expected 3, the model's inputs)");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1,,3\n"), "stdin line 2 (row 1), column 1 (0-based): empty field");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,x\u001b[31m,3\n"), "stdin line 1, column 1 (0-based): 'x\\u001b[31m' is text but other cells of the line are numbers");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,NaN,3\n"), "stdin line 1 (row 0), column 1 (0-based): value is 'NaN'; only finite numbers are accepted");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,-Infinity,3\n"), "stdin line 1 (row 0), column 1 (0-based): value is '-Infinity'; only finite numbers are accepted");
     // Java's parser takes these, the index's CSV reader does not: neither does the edge reader
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2f,3\n"), "stdin row 0: column 1: '2f' is not a number");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3d\n"), "stdin row 0: column 2: '3d' is not a number");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "0x1p3,2,3\n"), "stdin row 0: column 0: '0x1p3' is not a number");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,1e999\n"), "stdin row 0: column 2: not finite");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1.7e308,1.7e308,1.7e308\n"), "stdin row 1: layer a, unit ");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1,2f,3\n"), "stdin line 2 (row 1), column 1 (0-based): '2f' is not a number");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1,2,3d\n"), "stdin line 2 (row 1), column 2 (0-based): '3d' is not a number");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n0x1p3,2,3\n"), "stdin line 2 (row 1), column 0 (0-based): '0x1p3' is not a number");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,1e999\n"), "stdin line 1 (row 0), column 2 (0-based): value is '1e999'; only finite numbers are accepted");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1.7e308,1.7e308,1.7e308\n"), "stdin line 2 (row 1): layer a, unit ");
   }
 
   /**
@@ -283,10 +287,10 @@ class EdgeBundleTest {
     assertRefused(run(in, "0.1;0.2;0.3\n"), "stdin line 1 is taken as a header (column names, not numbers) and no row follows it; it holds numbers"
         + " separated by semicolons, but cells are separated by commas");
     assertRefused(run(in, "\n\na,b,c\n\n"), "stdin line 3 is taken as a header (column names, not numbers) and no row follows it");
-    assertRefused(run(in, "0.1;0.2;0.3\n0.4;0.5;0.6\n"), "stdin row 0: column 0: '0.4;0.5;0.6' is not a number; it holds numbers separated by semicolons");
-    assertRefused(run(in, "0.1,0.2,0.3\n1,2,3\n"), "stdin line 1: holds the evenly spaced numbers '0.1, 0.2, 0.3', more like column names");
+    assertRefused(run(in, "0.1;0.2;0.3\n0.4;0.5;0.6\n"), "stdin line 2 (row 0), column 0 (0-based): '0.4;0.5;0.6' is not a number; it holds numbers separated by semicolons");
+    assertRefused(run(in, "0.1,0.2,0.3\n1,2,3\n"), "stdin line 1 holds the evenly spaced numbers 0.1, 0.2, ..., 0.3, more like column names");
     assertRefused(run(in, "3,2,1\n"), "put a line of column names before it if it is data");
-    assertRefused(run(in, "0,1\n"), "stdin line 1: holds '0, 1', the column numbers a data-frame library writes over unnamed columns, or a row of data");
+    assertRefused(run(in, "0,1\n"), "stdin line 1 holds 0, 1, the column numbers a data-frame library writes over unnamed columns, or a row of data");
     assertRefused(run(in, "0\n"), "(with 1 column either is likely)");
     Run plain = run(in, "0.5,2,3\n1,2,3\n");
     assertThat(plain.code).as(plain.err).isZero();
@@ -295,19 +299,82 @@ class EdgeBundleTest {
       assertThat(r.code).as(text + ": " + r.err).isZero();
       assertThat(r.out).as(text).isEqualTo(plain.out);
     }
-    assertRefused(run(new String[] {file.toString()}, "0".repeat(70) + "\n\n"), "stdin row 1: 0 bits"); // codes: a blank line stays a refused row
+    assertRefused(run(new String[] {file.toString()}, "0".repeat(70) + "\n\n"), "stdin line 2 (row 1): 0 bits"); // codes: a blank line stays a refused row
     // empty input, lines ending in CR alone and bad quotes are refused, as the index refuses such a file; quoted numbers are numbers
     assertRefused(run(in, ""), "stdin holds no rows (it is empty or blank)");
     assertRefused(run(in, "\n \n"), "stdin holds no rows (it is empty or blank)");
     assertRefused(run(new String[] {file.toString()}, ""), "stdin holds no rows (it is empty)");
-    assertRefused(run(in, "0.5,2,3\r1,2,3\r"), "stdin line 1: a carriage return inside a line: the lines end in CR alone");
-    assertRefused(run(in, "0.5,2,3\n1,2\r3\n"), "stdin line 2: a carriage return inside a line");
+    assertRefused(run(in, "0.5,2,3\r1,2,3\r"), "stdin byte 7 (line 1): a carriage return inside a line: the lines end in CR alone");
+    assertRefused(run(in, "0.5,2,3\n1,2\r3\n"), "stdin byte 11 (line 2): a carriage return inside a line");
     assertThat(run(in, "0.5,2,3\r\n1,2,3\r").out).isEqualTo(plain.out);
     assertThat(run(in, "\"a\",\"b,c\",d\n\"0.5\",\"2\",\"3\"\n1, \"2\" ,3\n").out).isEqualTo(plain.out);
-    assertRefused(run(in, "0.5,\"2,3\n"), "stdin line 1: column 1: a quoted cell is not closed on its line");
-    assertRefused(run(in, "0.5,2,3\n0.5,\"2,3\n"), "stdin row 1: column 1: a quoted cell is not closed on its line");
-    assertRefused(run(in, "0.5,2,3\n0.5,\"2\"0,3\n"), "stdin row 1: column 1: text after a closing quote");
-    assertRefused(run(in, "\"a\"b,c,d\n0.5,2,3\n"), "stdin line 1: column 0: text after a closing quote");
+    assertRefused(run(in, "0.5,\"2,3\n"), "stdin line 1, column 1 (0-based): a quoted cell is not closed on its line");
+    assertRefused(run(in, "0.5,2,3\n0.5,\"2,3\n"), "stdin line 2 (row 1), column 1 (0-based): a quoted cell is not closed on its line");
+    assertRefused(run(in, "0.5,2,3\n0.5,\"2\"0,3\n"), "stdin line 2 (row 1), column 1 (0-based): text after a closing quote");
+    assertRefused(run(in, "\"a\"b,c,d\n0.5,2,3\n"), "stdin line 1, column 0 (0-based): text after a closing quote");
+  }
+
+  /**
+   * Column 0 counting 0, 1, 2 (or 1, 2, 3) in rows 0 to 2 is told as a row index, as the index's CSV
+   * reader tells it (the edge jar told only a row-index header cell), on the header note's line when
+   * there is one; the note waits for row 2 (or the end), so a refusal before that stays one line.
+   */
+  @Test
+  void aCountingColumnZeroIsToldAsARowIndex() throws Exception {
+    Path file = tmp.resolve("m.edge");
+    Files.write(file, BundleFormat.toBytes(random(14, 20, 70, EdgeBundle.Statistic.KTH, 6, true)));
+    String[] in = {file.toString(), "--inputs"};
+    String hint = "; it is read as data: write the rows without it (e.g. to_csv(index=False)) if it is not an input\n";
+    assertThat(run(in, "0,2,3\n1,2,3\n2,5,6\n3,1,1\n").err).isEqualTo("note: hint: column 0 looks like a row index (values 0, 1, ...)" + hint);
+    assertThat(run(in, "1,2,5\n2,2,3\n").err).isEqualTo("note: hint: column 0 looks like a row index (values 1, 2, ...)" + hint);
+    assertThat(run(in, ",a,b\n0,2,3\n1,2,3\n").err).isEqualTo("note: stdin line 1 taken as a header and skipped (column names, not numbers);"
+        + " row 0 is the next line; hint: column 0 looks like a row index (header cell '', values 0, 1, ...)" + hint);
+    for (String notCounting : List.of("0,2,3\n", "0,2,3\n2,2,3\n", "2,2,3\n3,2,3\n", "0,2,3\n1,2,3\n3,5,6\n", "0.0,2,3\n1,2,3\n"))
+      assertThat(run(in, notCounting).err).as(notCounting).isEmpty();
+    assertRefused(run(in, "a,b,c\n0,2,3\n1,x,3\n"), "stdin line 3 (row 1), column 1 (0-based): 'x' is not a number");
+  }
+
+  /**
+   * A stream without a line end is refused once a line passes 64 MiB, not read on until memory runs
+   * out; bytes that are not UTF-8 and NUL bytes are refused naming the byte (they were read as text:
+   * a Latin-1 header skipped, a row's NUL trimmed away).
+   */
+  @Test
+  void standardInputIsReadAsUtf8LinesOfAtMost64MiB() throws Exception {
+    Path file = tmp.resolve("m.edge");
+    Files.write(file, BundleFormat.toBytes(random(15, 20, 70, EdgeBundle.Statistic.KTH, 6, true)));
+    long[] served = {0};
+    java.io.InputStream ones = new java.io.InputStream() { // 2 x 64 MiB of '1', no line end, never held in memory whole
+      @Override
+      public int read() {
+        if (served[0] >= 2L * RowText.MAX_LINE_BYTES) return -1;
+        served[0]++;
+        return '1';
+      }
+
+      @Override
+      public int read(byte[] b, int off, int len) {
+        int n = (int) Math.min(len, 2L * RowText.MAX_LINE_BYTES - served[0]);
+        if (n <= 0) return -1;
+        Arrays.fill(b, off, off + n, (byte) '1');
+        served[0] += n;
+        return n;
+      }
+    };
+    for (String[] args : List.of(new String[] {file.toString()}, new String[] {file.toString(), "--inputs"})) {
+      served[0] = 0;
+      ByteArrayOutputStream err = new ByteArrayOutputStream();
+      assertThat(EdgeMain.run(args, ones, new PrintStream(new ByteArrayOutputStream(), true, StandardCharsets.UTF_8),
+          new PrintStream(err, true, StandardCharsets.UTF_8))).isEqualTo(2);
+      assertThat(err.toString(StandardCharsets.UTF_8)).isEqualTo("stdin line 1 is longer than 64 MiB\n");
+      assertThat(served[0]).isLessThanOrEqualTo(RowText.MAX_LINE_BYTES + (1 << 16)); // stopped within one buffer of the limit
+    }
+    String[] in = {file.toString(), "--inputs"};
+    assertRefused(run(in, "caf\u00e9,b,c\n0.5,2,3\n", StandardCharsets.ISO_8859_1),
+        "stdin byte 3 (line 1): a byte sequence that is not UTF-8 (e.g. Latin-1 text); write the rows as UTF-8");
+    assertRefused(run(in, "0.5,2,3\n1,2,3\0\n", StandardCharsets.UTF_8), "stdin byte 13 (line 2): a NUL byte: the rows look like UTF-16 or binary");
+    assertRefused(run(in, "0.5,2,3\n", StandardCharsets.UTF_16), "stdin byte 0 (line 1): a UTF-16 byte order mark: write the rows as UTF-8");
+    assertRefused(run(new String[] {file.toString()}, "0".repeat(70) + "\n", StandardCharsets.UTF_16LE), "stdin byte 1 (line 1): a NUL byte");
   }
 
   /**
@@ -333,7 +400,7 @@ class EdgeBundleTest {
       Files.write(file, bad);
       Run r = run(new String[] {file.toString()}, "0".repeat(70) + "\n"); // empty input is refused: one row to score
       assertThat(r.code).as("byte " + pos + " rep " + rep + ": " + r.err).isIn(0, 2);
-      if (r.code == 2 && !r.err.startsWith("stdin row 0: ")) { // a row refused: the bundle was read (as one of another width)
+      if (r.code == 2 && !r.err.startsWith("stdin line 1 (row 0): ")) { // a row refused: the bundle was read (as one of another width)
         refused++;
         assertThat(r.err).as("byte " + pos).startsWith(file + ": ").hasLineCount(1);
       }
@@ -349,8 +416,12 @@ class EdgeBundleTest {
   record Run(int code, String out, String err) {}
 
   static Run run(String[] args, String stdin) {
+    return run(args, stdin, StandardCharsets.UTF_8);
+  }
+
+  static Run run(String[] args, String stdin, java.nio.charset.Charset charset) {
     ByteArrayOutputStream out = new ByteArrayOutputStream(), err = new ByteArrayOutputStream();
-    int code = EdgeMain.run(args, new BufferedReader(new StringReader(stdin)), new PrintStream(out, true, StandardCharsets.UTF_8),
+    int code = EdgeMain.run(args, new ByteArrayInputStream(stdin.getBytes(charset)), new PrintStream(out, true, StandardCharsets.UTF_8),
         new PrintStream(err, true, StandardCharsets.UTF_8));
     return new Run(code, out.toString(StandardCharsets.UTF_8), err.toString(StandardCharsets.UTF_8));
   }

@@ -50,7 +50,7 @@ public final class CsvMatrixReader implements MatrixReader {
   public enum Header { YES, NO, AUTO }
 
   /** Longest line accepted, in bytes. */
-  public static final int MAX_LINE_BYTES = 64 << 20;
+  public static final int MAX_LINE_BYTES = RowText.MAX_LINE_BYTES;
 
   private final Path file;
   private final InputStream in;
@@ -167,21 +167,10 @@ public final class CsvMatrixReader implements MatrixReader {
   /** A note when column 0 holds 0, 1, 2... (or 1, 2, 3...) in the rows read ahead, or has a row-index header cell. */
   private String indexColumnHint() {
     if (cols < 2) return null;
-    boolean counting = pending.size() >= 2;
-    long start = -1, k = 0;
-    for (String s : pending) {
-      String c0 = split(s, -1)[0].trim();
-      long v;
-      try {
-        v = Long.parseLong(c0);
-      } catch (NumberFormatException e) {
-        counting = false;
-        break;
-      }
-      if (k == 0) start = v;
-      if ((start != 0 && start != 1) || v != start + k) counting = false;
-      k++;
-    }
+    List<String> column0 = new ArrayList<>();
+    for (String s : pending) column0.add(split(s, -1)[0]);
+    long start = RowText.countingFrom(column0);
+    boolean counting = start >= 0;
     boolean named = header != null && RowText.isIndexHeader(header.getFirst());
     if (!counting && !named) return null;
     return file + ": hint: column 0 looks like a row index (" + (named ? "header cell " + BadInputException.quote(header.getFirst()) : "")
