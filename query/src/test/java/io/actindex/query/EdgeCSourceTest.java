@@ -15,7 +15,7 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * The generated C99 source, compiled by the system's gcc (-std=c99 -Wall -Wextra -Werror), answers
+ * The generated C99 source, compiled by the system's gcc (-std=c99 -Wall -Wextra -pedantic -Werror), answers
  * exactly as the index does on random (70-bit, two words, a layer subset) and ReLU-like (72-bit)
  * codes: k-th distance, score, decision and p-value, also for a code whose bits past the width
  * are set (they never count). The model part is checked on the digits set
