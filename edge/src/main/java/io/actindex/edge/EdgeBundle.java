@@ -332,8 +332,9 @@ public final class EdgeBundle {
 
   /**
    * The code of a raw input, through the bundle's model: exactly what the index's encoder gives.
-   * Throws {@link IllegalArgumentException} when a hidden activation is not finite (the input is too
-   * large for the weights), where the index refuses the row too.
+   * Throws {@link IllegalArgumentException} when an input value is NaN or infinite, or a hidden
+   * activation is not finite (the input is too large for the weights), where the index refuses the
+   * row too (an infinite input can reach a finite code when every weight on it has one sign).
    */
   public long[] encode(double[] input) {
     Model m = requireModel();
@@ -341,6 +342,8 @@ public final class EdgeBundle {
     double[] h = input;
     if (h.length != m.layers().get(0).in())
       throw new IllegalArgumentException("input has " + h.length + " values, the model takes " + m.layers().get(0).in());
+    for (int j = 0; j < h.length; j++)
+      if (!Double.isFinite(h[j])) throw new IllegalArgumentException("input " + j + " is " + h[j] + "; only finite numbers are accepted");
     int bit = 0;
     for (int l = 0; l < keptHidden.length; l++) {
       h = layer(m.layers().get(l), h, true);

@@ -174,7 +174,9 @@ class EdgeBundleTest {
     // as the index: a hidden activation of +Infinity or NaN is refused, -Infinity is ReLU's 0
     assertThatThrownBy(() -> b.encode(new double[] {Double.MAX_VALUE, -Double.MAX_VALUE})).isInstanceOf(IllegalArgumentException.class)
         .hasMessageContaining("layer h, unit 0 overflows (Infinity)");
-    assertThatThrownBy(() -> b.encode(new double[] {Double.NaN, 0})).hasMessageContaining("layer h, unit 0 overflows (NaN)");
+    // an input that is NaN or infinite is refused as the index's readers refuse it, before the weights see it
+    assertThatThrownBy(() -> b.encode(new double[] {Double.NaN, 0})).hasMessageContaining("input 0 is NaN; only finite numbers are accepted");
+    assertThatThrownBy(() -> b.encode(new double[] {0, Double.NEGATIVE_INFINITY})).hasMessageContaining("input 1 is -Infinity");
     assertThat(b.encode(new double[] {-Double.MAX_VALUE, Double.MAX_VALUE})).containsExactly(0L); // h = (relu(-Infinity), relu(-1))
     // softmax of logits (a, b) = h: max probability 1 / (1 + e^-|a-b|)
     assertThat(b.maxSoftmax(new double[] {3, 0})).isCloseTo(1 / (1 + Math.exp(-2.5)), org.assertj.core.api.Assertions.within(1e-15));

@@ -78,7 +78,8 @@ public final class EdgeCSource {
     s.append("/* decision only, stops early when in: 1 = out of distribution, 0 = in */\nint axe_is_out(const uint64_t code[AXE_WORDS]);\n");
     s.append("/* conformal p-value of a score: (1 + #{calibration scores >= score}) / (n + 1) */\ndouble axe_p_value(double score);\n");
     if (m != null) s.append("/* the code of a raw input through the model (bit i is bit i % 64 of word i / 64); returns 0, or -1\n"
-        + "   when a hidden activation is not finite (the input is too large for the weights): do not score that code */\n"
+        + "   when an input is NaN or infinite or a hidden activation is not finite (the input is too large for\n"
+        + "   the weights): do not score that code */\n"
         + "int axe_encode(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS]);\n");
     return s.append("\n#endif\n").toString();
   }
@@ -214,7 +215,10 @@ public final class EdgeCSource {
         int axe_encode(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS]) {
           double a[AXE_WIDEST], z[AXE_WIDEST];
           for (int w = 0; w < AXE_WORDS; w++) code[w] = 0;
-          for (int j = 0; j < AXE_INPUTS; j++) a[j] = input[j];
+          for (int j = 0; j < AXE_INPUTS; j++) {
+            if (!isfinite(input[j])) return -1; /* refused as the index refuses it, even where the weights would give a finite code */
+            a[j] = input[j];
+          }
           int bit = 0;
         """);
     List<String> kept = b.layerNames();

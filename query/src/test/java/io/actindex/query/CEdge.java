@@ -60,7 +60,7 @@ final class CEdge {
     assumeTrue(gcc(), "gcc not found on PATH: the compiled C source check is skipped (install gcc to run it)");
     Files.writeString(dir.resolve("driver.c"), DRIVER);
     Path exe = dir.resolve("edge-driver");
-    Process p = new ProcessBuilder("gcc", "-std=c99", "-O2", "-ffp-contract=off", "-Wall", "-Wextra", "-Werror", "-o", exe.toString(),
+    Process p = new ProcessBuilder("gcc", "-std=c99", "-O2", "-ffp-contract=off", "-Wall", "-Wextra", "-pedantic", "-Werror", "-o", exe.toString(),
         dir.resolve("driver.c").toString(), dir.resolve(EdgeCSource.SOURCE).toString()).redirectErrorStream(true).start();
     String log = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
     if (!p.waitFor(300, TimeUnit.SECONDS) || p.exitValue() != 0) throw new AssertionError("gcc failed:\n" + log);

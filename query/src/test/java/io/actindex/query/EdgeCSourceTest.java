@@ -1,6 +1,7 @@
 package io.actindex.query;
 
 import static org.assertj.core.api.Assertions.assertThat;
+import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Randoms;
@@ -14,7 +15,7 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
 /**
- * The generated C99 source, compiled by the system's gcc (-std=c99 -Wall -Wextra -Werror), answers
+ * The generated C99 source, compiled by the system's gcc (-std=c99 -Wall -Wextra -pedantic -Werror), answers
  * exactly as the index does on random (70-bit, two words, a layer subset) and ReLU-like (72-bit)
  * codes: k-th distance, score, decision and p-value, also for a code whose bits past the width
  * are set (they never count). The model part is checked on the digits set
@@ -96,7 +97,7 @@ class EdgeCSourceTest {
       try {
         code = b.encode(rows[i]);
       } catch (IllegalArgumentException e) {
-        assertThat(e).hasMessageContaining("overflows");
+        assertThat(e.getMessage()).containsAnyOf("overflows", "only finite numbers");
         assertThat(out.get(i)).as("row " + i + " refused in Java").isEqualTo("overflow");
         refused++;
         continue;
@@ -108,6 +109,38 @@ class EdgeCSourceTest {
     // refused: (big, big) takes unit 0 to +Infinity, (big, -big) and (MAX, -MAX) unit 1, (NaN, 0) both units to NaN;
     // kept: (-big, -big) and (-big, big) reach -Infinity only, which ReLU takes to 0 (as in the index)
     assertThat(refused).isEqualTo(4);
+  }
+
+  @Test
+  void anInputThatIsNotFiniteIsRefusedInJavaAndC() throws Exception {
+    // ood score refuses a row holding NaN or an infinity when it reads it; the device's encoders must
+    // refuse it too, also where the weights would take it to a finite code: here every weight on
+    // input 0 is positive, so -Infinity there makes every hidden unit -Infinity, which ReLU takes to 0
+    EdgeBundle.Model m = new EdgeBundle.Model(List.of(new EdgeBundle.Layer("h", 2, 2, new float[] {1, 1, 2, -1}, new float[] {0, 0}),
+        new EdgeBundle.Layer("o", 1, 2, new float[] {1, 1}, new float[] {0})), new double[] {0, 0});
+    EdgeBundle b = new EdgeBundle(List.of("h"), new int[] {2}, new long[] {1, 0}, new int[] {2, 1},
+        new EdgeBundle.Calibration(1, Statistic.KTH, List.of(), 0.9, 1, new double[] {0, 1}), m);
+    Path c = tmp.resolve("notfinite");
+    EdgeCSource.write(b, c);
+    Path exe = CEdge.compile(c);
+    double[][] rows = {{Double.NEGATIVE_INFINITY, 0}, {Double.NEGATIVE_INFINITY, 1}, {0, Double.POSITIVE_INFINITY}, {Double.NaN, 0},
+        {0, Double.NaN}, {-1e300, 0}};
+    List<String> lines = new ArrayList<>();
+    for (double[] x : rows) lines.add(CEdge.inputLine(x));
+    List<String> out = CEdge.run(exe, lines);
+    assertThat(out).hasSize(rows.length);
+    for (int i = 0; i < rows.length - 1; i++) {
+      double[] x = rows[i];
+      assertThat(out.get(i)).as("C, row " + i + " " + java.util.Arrays.toString(x)).isEqualTo("overflow");
+      assertThatThrownBy(() -> b.encode(x)).as("Java, row " + i).isInstanceOf(IllegalArgumentException.class).hasMessageContaining("finite");
+    }
+    // a finite input that the weights take to -Infinity everywhere is read by the index (its activations are 0), so here too
+    long[] code = b.encode(rows[rows.length - 1]);
+    assertThat(code).containsExactly(0L);
+    String[] f = out.get(rows.length - 1).split(" ");
+    assertThat(Integer.parseInt(f[0])).isEqualTo(b.score(code).kth());
+    assertThat(f[2]).isEqualTo(b.isOut(code) ? "1" : "0");
+    assertThat(Long.parseUnsignedLong(f[4], 16)).isZero();
   }
 
   @Test
