@@ -339,11 +339,7 @@ public final class EdgeBundle {
   public long[] encode(double[] input) {
     Model m = requireModel();
     long[] code = new long[words];
-    double[] h = input;
-    if (h.length != m.layers().get(0).in())
-      throw new IllegalArgumentException("input has " + h.length + " values, the model takes " + m.layers().get(0).in());
-    for (int j = 0; j < h.length; j++)
-      if (!Double.isFinite(h[j])) throw new IllegalArgumentException("input " + j + " is " + h[j] + "; only finite numbers are accepted");
+    double[] h = checkInput(m, input);
     int bit = 0;
     for (int l = 0; l < keptHidden.length; l++) {
       h = layer(m.layers().get(l), h, true);
@@ -360,13 +356,23 @@ public final class EdgeBundle {
     return code;
   }
 
+  /** {@code input} when it is as wide as the model's inputs and every value is finite, else an {@link IllegalArgumentException}. */
+  private static double[] checkInput(Model m, double[] input) {
+    if (input.length != m.layers().get(0).in())
+      throw new IllegalArgumentException("input has " + input.length + " values, the model takes " + m.layers().get(0).in());
+    for (int j = 0; j < input.length; j++)
+      if (!Double.isFinite(input[j])) throw new IllegalArgumentException("input " + j + " is " + input[j] + "; only finite numbers are accepted");
+    return input;
+  }
+
   /**
    * The largest softmax probability of the model's output layer for a raw input (Hendrycks &amp;
-   * Gimpel, ICLR 2017): a baseline, kept apart from the code score.
+   * Gimpel, ICLR 2017): a baseline, kept apart from the code score. Refuses the inputs {@link
+   * #encode} refuses (a wrong width, NaN or an infinity) with an {@link IllegalArgumentException}.
    */
   public double maxSoftmax(double[] input) {
     Model m = requireModel();
-    double[] h = input;
+    double[] h = checkInput(m, input);
     for (int l = 0; l < m.layers().size(); l++) h = layer(m.layers().get(l), h, l < m.layers().size() - 1);
     return maxSoftmaxOf(h);
   }

@@ -20,7 +20,7 @@ import java.util.List;
 /**
  * {@code java -jar actindex-edge.jar BUNDLE [--inputs]}: scores the rows on standard input and
  * prints {@code row,score,decision,p_value} per row. Without {@code --inputs} a row is a code
- * written as its bits, {@code 0} and {@code 1} (commas and spaces ignored), bit 0 first; with it, a
+ * written as its bits, {@code 0} and {@code 1} (spaces ignored, commas between bits; an empty cell refused), bit 0 first; with it, a
  * row is the raw input, comma-separated numbers, run through the bundle's model, read as the index's
  * CSV reader reads a file under {@code --header auto}: blank lines skipped, cells may be quoted, a
  * first line of column names skipped with a note on stderr ({@link #firstLine}), a first line that
@@ -347,14 +347,23 @@ public final class EdgeMain {
   private static long[] bits(String line, EdgeBundle b) {
     long[] code = new long[b.words()];
     int bit = 0;
+    boolean cellOpen = false, commas = false; // a bit since the last comma; any comma in the row
     for (int i = 0; i < line.length(); i++) {
       char c = line.charAt(i);
-      if (c == ',' || c == ' ') continue;
+      if (c == ',') { // a comma closes a cell: an empty one (",,", a leading comma) is a lost bit, not a separator to skip
+        if (!cellOpen) throw new IllegalArgumentException("character " + i + ": an empty field before this comma");
+        cellOpen = false;
+        commas = true;
+        continue;
+      }
+      if (c == ' ') continue;
+      cellOpen = true;
       if (c != '0' && c != '1') throw new IllegalArgumentException("character " + i + ": " + quote(String.valueOf(c)) + " is not 0 or 1");
       if (bit >= b.bits()) throw new IllegalArgumentException("more than the bundle's " + b.bits() + " bits");
       if (c == '1') code[bit >>> 6] |= 1L << (bit & 63);
       bit++;
     }
+    if (commas && !cellOpen) throw new IllegalArgumentException("an empty field after the last comma");
     if (bit != b.bits()) throw new IllegalArgumentException(bit + " bits, the bundle's codes have " + b.bits());
     return code;
   }

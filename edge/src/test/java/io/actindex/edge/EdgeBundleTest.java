@@ -176,6 +176,9 @@ class EdgeBundleTest {
         .hasMessageContaining("layer h, unit 0 overflows (Infinity)");
     // an input that is NaN or infinite is refused as the index's readers refuse it, before the weights see it
     assertThatThrownBy(() -> b.encode(new double[] {Double.NaN, 0})).hasMessageContaining("input 0 is NaN; only finite numbers are accepted");
+    // the softmax baseline refuses the same inputs (it returned a probability for them before)
+    assertThatThrownBy(() -> b.maxSoftmax(new double[] {0, Double.NEGATIVE_INFINITY})).hasMessageContaining("input 1 is -Infinity; only finite numbers are accepted");
+    assertThatThrownBy(() -> b.maxSoftmax(new double[] {0})).hasMessageContaining("input has 1 values, the model takes 2");
     assertThatThrownBy(() -> b.encode(new double[] {0, Double.NEGATIVE_INFINITY})).hasMessageContaining("input 1 is -Infinity");
     assertThat(b.encode(new double[] {-Double.MAX_VALUE, Double.MAX_VALUE})).containsExactly(0L); // h = (relu(-Infinity), relu(-1))
     // softmax of logits (a, b) = h: max probability 1 / (1 + e^-|a-b|)
@@ -260,6 +263,13 @@ class EdgeBundleTest {
     assertRefused(run(new String[] {file.toString()}, ok + "1\n"), "stdin line 1 (row 0): more than the bundle's 70 bits");
     assertRefused(run(new String[] {file.toString()}, "\n"), "stdin line 1 (row 0): 0 bits, the bundle's codes have 70");
     assertRefused(run(new String[] {file.toString()}, "01\u0007" + ok), "stdin line 1 (row 0): character 2: '\\u0007' is not 0 or 1");
+    // commas separate cells of one bit: an empty cell is a lost bit, refused even where the count still fits
+    String commas = String.join(",", ok.split(""));
+    assertThat(run(new String[] {file.toString()}, commas + "\n").out).isEqualTo(codes.out);
+    assertRefused(run(new String[] {file.toString()}, commas.substring(0, 4) + "," + commas.substring(4) + "1\n"),
+        "stdin line 1 (row 0): character 4: an empty field before this comma");
+    assertRefused(run(new String[] {file.toString()}, "," + commas + "\n"), "stdin line 1 (row 0): character 0: an empty field before this comma");
+    assertRefused(run(new String[] {file.toString()}, commas.substring(2) + ",\n"), "stdin line 1 (row 0): an empty field after the last comma");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2\n"), "stdin line 1 (row 0), column 2 (0-based): only 2 fields (expected 3, the model's inputs)");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,5\n"), "stdin line 1 (row 0), column 3 (0-based): too many fields (expected 3, the model's inputs)");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1,,3\n"), "stdin line 2 (row 1), column 1 (0-based): empty field");
