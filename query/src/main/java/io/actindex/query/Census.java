@@ -160,8 +160,8 @@ public final class Census {
 
   /**
    * One prefix: the examples sorted by their masked code (ties by id), so that each region is a run
-   * of that order holding its members in ascending id. About 12 bytes per example beside the masked
-   * codes, where a hash map of codes to lists of boxed ids took about 200.
+   * of that order holding its members in ascending id. At most about 30 bytes per example beside the
+   * masked codes (while sorting), where a hash map of codes to lists of boxed ids took about 200.
    */
   private static Prefix prefix(CodeBlock codes, long[] mask, List<String> names, int bits, String[] labels,
       IntFunction<String> keyOf, Params p) {
