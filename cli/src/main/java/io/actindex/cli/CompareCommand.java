@@ -143,7 +143,7 @@ final class CompareCommand implements Callable<Integer> {
     Compare.Params p = new Compare.Params(index, sample(a, aWhere), sample(b, bWhere), enc, layout, model, aFloats, bFloats,
         layers.layers, o, header.of(a, b, aFloats, bFloats));
     Compare.Result r;
-    try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "reading samples")) {
+    try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "comparing (rows read, then W2 iterations)")) {
       r = Compare.run(p, bar);
     }
     noteUnusedW2Options(r);

@@ -11,10 +11,12 @@ import java.math.MathContext;
 import java.math.RoundingMode;
 import java.util.ArrayList;
 import java.util.Arrays;
+import java.util.Comparator;
 import java.util.HashMap;
 import java.util.List;
 import java.util.Locale;
 import java.util.Map;
+import java.util.PriorityQueue;
 import java.util.function.IntFunction;
 
 /**
@@ -156,47 +158,85 @@ public final class Census {
     return new Result(n, List.copyOf(prefixes), neurons(codes, order));
   }
 
+  /**
+   * One prefix: the examples sorted by their masked code (ties by id), so that each region is a run
+   * of that order holding its members in ascending id. At most about 30 bytes per example beside the
+   * masked codes (while sorting), where a hash map of codes to lists of boxed ids took about 200.
+   */
   private static Prefix prefix(CodeBlock codes, long[] mask, List<String> names, int bits, String[] labels,
       IntFunction<String> keyOf, Params p) {
     int n = codes.size(), w = codes.wordsPerCode();
-    long[] data = codes.words();
-    Map<Code, List<Integer>> regions = new HashMap<>();
-    for (int i = 0; i < n; i++) {
-      long[] c = new long[w];
-      for (int j = 0; j < w; j++) c[j] = data[i * w + j] & mask[j];
-      regions.computeIfAbsent(new Code(c), k -> new ArrayList<>()).add(i);
-    }
-    int[] sizes = new int[regions.size()];
-    int r = 0, singletons = 0;
+    long[] data = codes.words(), masked = new long[data.length];
+    for (int i = 0; i < n; i++) for (int j = 0; j < w; j++) masked[i * w + j] = data[i * w + j] & mask[j];
+    int[] order = byCode(masked, n, w);
+    int[] start = new int[n + 1]; // run r (a region) is order[start[r] .. start[r + 1])
+    int runs = 0;
+    for (int i = 0; i < n; i++) if (i == 0 || !Arrays.equals(masked, order[i - 1] * w, order[i - 1] * w + w, masked, order[i] * w, order[i] * w + w)) start[runs++] = i;
+    start[runs] = n;
+    int[] sizes = new int[runs];
+    int singletons = 0;
     long majority = 0, labeled = 0;
-    for (List<Integer> members : regions.values()) {
-      sizes[r++] = members.size();
-      if (members.size() == 1) singletons++;
-      Map<String, Integer> mix = mix(members, labels);
+    for (int r = 0; r < runs; r++) {
+      sizes[r] = start[r + 1] - start[r];
+      if (sizes[r] == 1) {
+        singletons++;
+        String l = labels[order[start[r]]];
+        if (l != null && !l.isEmpty()) {
+          labeled++;
+          majority++;
+        }
+        continue;
+      }
+      Map<String, Integer> mix = mix(order, start[r], start[r + 1], labels);
       for (int c : mix.values()) labeled += c;
       majority += mix.values().stream().mapToInt(Integer::intValue).max().orElse(0);
     }
-    Arrays.sort(sizes);
-    List<Map.Entry<Code, List<Integer>>> big = new ArrayList<>(regions.entrySet());
-    // largest first; ties by the smallest member (codes are in id order), so the listing is deterministic
-    big.sort((a, b) -> a.getValue().size() != b.getValue().size()
-        ? Integer.compare(b.getValue().size(), a.getValue().size())
-        : Integer.compare(a.getValue().get(0), b.getValue().get(0)));
-    List<Big> largest = new ArrayList<>();
-    for (var e : big.subList(0, Math.min(p.largest(), big.size()))) {
-      List<String> ks = new ArrayList<>();
-      for (int i : e.getValue().subList(0, Math.min(p.examples(), e.getValue().size()))) ks.add(keyOf.apply(i));
-      int active = 0;
-      for (long x : e.getKey().words) active += Long.bitCount(x);
-      largest.add(new Big(e.getValue().size(), active, Region.sortedCounts(mix(e.getValue(), labels)), ks));
+    // largest first; ties by the smallest member (the run's first), so the listing is deterministic
+    Comparator<Integer> bigFirst = (a, b) -> sizes[a] != sizes[b] ? Integer.compare(sizes[b], sizes[a])
+        : Integer.compare(order[start[a]], order[start[b]]);
+    PriorityQueue<Integer> top = new PriorityQueue<>(bigFirst.reversed()); // the worst of the kept ones at the head
+    for (int r = 0; r < runs && p.largest() > 0; r++) {
+      if (top.size() < p.largest()) top.add(r);
+      else if (bigFirst.compare(r, top.peek()) < 0) {
+        top.poll();
+        top.add(r);
+      }
     }
+    List<Integer> big = new ArrayList<>(top);
+    big.sort(bigFirst);
+    List<Big> largest = new ArrayList<>();
+    for (int r : big) {
+      List<String> ks = new ArrayList<>();
+      for (int i = start[r]; i < Math.min(start[r + 1], start[r] + p.examples()); i++) ks.add(keyOf.apply(order[i]));
+      int active = 0, first = order[start[r]];
+      for (int j = 0; j < w; j++) active += Long.bitCount(masked[first * w + j]);
+      largest.add(new Big(sizes[r], active, Region.sortedCounts(mix(order, start[r], start[r + 1], labels)), ks));
+    }
+    Arrays.sort(sizes);
     return new Prefix(names, bits, sizes.length, singletons, histogram(sizes), quantiles(sizes, n),
         labeled == 0 ? null : majority / (double) labeled, List.copyOf(largest));
   }
 
-  private static Map<String, Integer> mix(List<Integer> members, String[] labels) {
+  /** The ids {@code 0..n-1} ordered by their code in {@code masked} ({@code w} words each, compared word by word), ties by id. */
+  private static int[] byCode(long[] masked, int n, int w) {
+    Integer[] ids = new Integer[n];
+    for (int i = 0; i < n; i++) ids[i] = i;
+    Arrays.sort(ids, (a, b) -> {
+      int c = Arrays.compare(masked, a * w, a * w + w, masked, b * w, b * w + w);
+      return c != 0 ? c : Integer.compare(a, b);
+    });
+    int[] out = new int[n];
+    for (int i = 0; i < n; i++) out[i] = ids[i];
+    return out;
+  }
+
+  /** Label counts of the members {@code order[from..to)}. */
+  private static Map<String, Integer> mix(int[] order, int from, int to, String[] labels) {
     Map<String, Integer> mix = new HashMap<>();
-    for (int i : members) if (labels[i] != null && !labels[i].isEmpty()) mix.merge(labels[i], 1, Integer::sum);
+    for (int i = from; i < to; i++) {
+      String l = labels[order[i]];
+      if (l != null && !l.isEmpty()) mix.merge(l, 1, Integer::sum);
+    }
     return mix;
   }
 
@@ -255,18 +295,5 @@ public final class Census {
       out.add(new Neurons(seg.name(), rates, List.copyOf(dead), List.copyOf(always)));
     }
     return List.copyOf(out);
-  }
-
-  /** A masked code as a hash key. */
-  private record Code(long[] words) {
-    @Override
-    public boolean equals(Object o) {
-      return o instanceof Code c && Arrays.equals(words, c.words);
-    }
-
-    @Override
-    public int hashCode() {
-      return Arrays.hashCode(words);
-    }
   }
 }

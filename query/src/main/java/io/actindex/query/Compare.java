@@ -237,17 +237,17 @@ public final class Compare {
     }
     checkPairing(fa, a, p.aFloats(), sa, "A");
     checkPairing(fb, b, p.bFloats(), sb, "B");
-    return compute(a, b, fa, fb, sa.describe(), sb.describe(), p.options(), notes);
+    return compute(a, b, fa, fb, sa.describe(), sb.describe(), p.options(), notes, prog);
   }
 
   /** The statistics on codes already in memory (and optional floats); independent of files. */
   public static Result compute(CodeBlock a, CodeBlock b, FloatSample fa, FloatSample fb, String describeA, String describeB,
       Options o) {
-    return compute(a, b, fa, fb, describeA, describeB, o, List.of());
+    return compute(a, b, fa, fb, describeA, describeB, o, List.of(), Progress.NONE);
   }
 
   private static Result compute(CodeBlock a, CodeBlock b, FloatSample fa, FloatSample fb, String describeA, String describeB,
-      Options o, List<String> readNotes) {
+      Options o, List<String> readNotes, Progress prog) {
     if (!a.layout().equals(b.layout())) throw new BadInputException("samples A and B have different layouts: " + a.layout() + " vs " + b.layout());
     CodeLayout layout = a.layout();
     if (layout.bits() > MAX_BITS)
@@ -282,7 +282,7 @@ public final class Compare {
     if (linear == null)
       notes.add("linear-time MMD^2 not computed: it needs at least 4 rows in each sample (A has " + m + ", B " + n + ")");
 
-    Wasserstein.Result w2 = w2(a, b, o, notes);
+    Wasserstein.Result w2 = w2(a, b, o, notes, prog);
 
     // neurons and layers
     FiringRates.Result rates = FiringRates.of(a, b);
@@ -332,13 +332,15 @@ public final class Compare {
     return new Mmd(kernel, sigma, t.statistic(), t.pValue(), t.permutations(), t.nullMean(), t.nullSd(), ra, rb, sub);
   }
 
-  private static Wasserstein.Result w2(CodeBlock a, CodeBlock b, Options o, List<String> notes) {
+  /** W2, exact or by Sinkhorn; Sinkhorn's iterations (out of `maxIter`) go to {@code prog}: the longest part of a comparison. */
+  private static Wasserstein.Result w2(CodeBlock a, CodeBlock b, Options o, List<String> notes, Progress prog) {
     int m = a.size(), n = b.size();
     if (m == n && m <= o.exactMax()) return Wasserstein.exact(a, b, o.threads());
     int[] pa = subsample(m, o.sinkhornRows(), o.seed() + 2), pb = subsample(n, o.sinkhornRows(), o.seed() + 3);
     String why = m != n ? "sample sizes differ" : "more than `exactMax` " + o.exactMax() + " rows";
     notes.add(String.format(Locale.ROOT, "W2 by Sinkhorn (%s) on %d of %d (A) and %d of %d (B) rows", why, pa.length, m, pb.length, n));
-    Wasserstein.Result r = Wasserstein.sinkhorn(select(a, pa), select(b, pb), o.reg(), o.maxIter(), o.tol(), o.threads());
+    Wasserstein.Result r = Wasserstein.sinkhorn(select(a, pa), select(b, pb), o.reg(), o.maxIter(), o.tol(), o.threads(),
+        it -> prog.update(it, o.maxIter()));
     if (!r.converged())
       notes.add(String.format(Locale.ROOT, "Sinkhorn stopped after %d iterations with marginal error %.3g (tolerance %.3g): W2 is approximate",
           r.iterations(), r.marginalError(), o.tol()));

@@ -56,7 +56,11 @@ final class Encoding {
       // the row count is known for every file source: one array of the final size, no copies
       long expect = total < 0 ? 1024 : Math.min(total, range.to() == -1 ? total : range.to()) - Math.max(0, range.from());
       long[] buf = new long[(int) Math.min(Math.max(expect, 0) * w, 1 << 26)]; // beyond 512 MB it grows as read
-      float[] act = activations && source.kind() != Source.Kind.CODES ? new float[d * 1024] : null;
+      // the floats likewise: one array of the final size when the count is known (doubling from a small one
+      // allocated and copied about three times the floats, and held two copies at once at the end)
+      boolean keep = activations && source.kind() != Source.Kind.CODES;
+      if (keep && total >= 0 && expect * d > MAX_VALUES) throw tooManyRows(source, expect + " rows", d);
+      float[] act = keep ? new float[(int) (Math.max(total < 0 ? 1024 : expect, 1) * d)] : null;
       int kept = 0;
       long row = 0;
       progress.update(0, total);
@@ -67,12 +71,12 @@ final class Encoding {
         float[] values = act == null ? null : stream.lastActivations();
         for (int i = 0; i < block.size(); i++, row++) {
           if (!range.contains(row)) continue;
-          if ((long) (kept + 1) * w > Integer.MAX_VALUE - 16 || (act != null && (long) (kept + 1) * d > Integer.MAX_VALUE - 16))
-            throw new BadInputException(source.file() + ": too many rows to hold as one block (" + row + ")");
+          if ((long) (kept + 1) * w > MAX_VALUES) throw new BadInputException(source.file() + ": too many rows to hold as one block (" + row + ")");
+          if (act != null && (long) (kept + 1) * d > MAX_VALUES) throw tooManyRows(source, "more than " + kept + " rows", d);
           if ((kept + 1) * w > buf.length) buf = Arrays.copyOf(buf, Math.max((kept + 1) * w, buf.length * 2));
           System.arraycopy(words, i * w, buf, kept * w, w);
           if (act != null) {
-            if ((kept + 1) * d > act.length) act = Arrays.copyOf(act, (int) Math.min(Integer.MAX_VALUE - 16, Math.max((long) (kept + 1) * d, act.length * 2L)));
+            if ((kept + 1) * d > act.length) act = Arrays.copyOf(act, (int) Math.min(MAX_VALUES, Math.max((long) (kept + 1) * d, act.length * 2L)));
             System.arraycopy(values, i * d, act, kept * d, d);
           }
           kept++;
@@ -83,10 +87,19 @@ final class Encoding {
       if ((range.to() != -1 && row < range.to()) || (range.from() > 0 && range.from() >= row))
         throw new BadInputException(source.file() + ": rows " + range + " asked, the file has " + row + " rows");
       return new Read(new CodeBlock(layout, kept, buf.length == kept * w ? buf : Arrays.copyOf(buf, kept * w)),
-          stream.options(), stream.notes(), act == null ? null : Arrays.copyOf(act, kept * d), stream.columnNames());
+          stream.options(), stream.notes(), act == null ? null : act.length == kept * d ? act : Arrays.copyOf(act, kept * d), stream.columnNames());
     } catch (IOException e) {
       throw new UncheckedIOException(source.file() + ": " + e.getMessage(), e);
     }
+  }
+
+  /** Values one Java array holds at most. */
+  private static final long MAX_VALUES = Integer.MAX_VALUE - 16;
+
+  /** The activations of {@code rows} rows of {@code d} units, kept as floats, would not fit in one array. */
+  private static BadInputException tooManyRows(Source source, String rows, int d) {
+    return new BadInputException(source.file() + ": " + rows + " of " + d + " activations are more than one block of kept floats holds ("
+        + MAX_VALUES / d + " rows of " + d + " at most); split the file into parts of at most that many rows");
   }
 
   private static CodeStream open(Source source, Model model, EncodeOptions options, CodeLayout codesLayout) throws IOException {

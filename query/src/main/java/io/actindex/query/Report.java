@@ -29,7 +29,7 @@ public final class Report {
    * compareA}/{@code compareB}: add a comparison of two files (null: none); {@code compareKind}:
    * what they hold (null: told by the index as {@code compare --index} does, {@link
    * QuerySource#kindOf}); {@code compareHeader}: whether their CSV first line is a header (null:
-   * detect); {@code threads} for the join and the comparison.
+   * detect); {@code threads} for the nearest-other distances, the join and the comparison.
    */
   public record Params(Path out, String title, Integer dupesRadius, Path compareA, Path compareB, Source.Kind compareKind,
       CsvMatrixReader.Header compareHeader, int threads) {
@@ -55,6 +55,11 @@ public final class Report {
 
   /** The facts of an index that the page shows. */
   public static IndexReport.Facts facts(IndexReader reader, Progress progress) {
+    return facts(reader, 1, progress);
+  }
+
+  /** As {@link #facts(IndexReader, Progress)}, the nearest-other distances measured on up to {@code threads} threads. */
+  public static IndexReport.Facts facts(IndexReader reader, int threads, Progress progress) {
     int[] ids = new int[reader.liveCount()];
     CodeBlock codes = reader.liveCodes(ids);
     // labels and splits read per distinct value, not one metadata document per example
@@ -68,7 +73,7 @@ public final class Report {
       Map<String, String> doc = reader.meta().document(ids[i]);
       return doc == null ? null : doc.get("key");
     }, new Census.Params(null, 5, 3));
-    return new IndexReport.Facts(ids.length, census, IndexReport.nearestOther(codes, progress), split);
+    return new IndexReport.Facts(ids.length, census, IndexReport.nearestOther(codes, threads, progress), split);
   }
 
   /** Renders the page of {@code reader} with any extra sections already added to {@code page}'s tail by the caller. */
@@ -80,7 +85,7 @@ public final class Report {
     int bits = reader.layout().bits();
     if (p.dupesRadius() != null && (p.dupesRadius() < 0 || p.dupesRadius() > bits))
       throw new BadParameterException("dupesRadius", " must be 0 to the code length, " + bits + " bits; got " + p.dupesRadius());
-    IndexReport.Facts f = facts(reader, progress);
+    IndexReport.Facts f = facts(reader, p.threads(), progress);
     String title = p.title() != null ? p.title() : "actindex report: " + reader.dir().toAbsolutePath().normalize().getFileName();
     HtmlPage page = new HtmlPage(title, HtmlPage.count(f.examples(), "example") + ", " + HtmlPage.count(reader.layout().bits(), "bit") + " per example.");
     IndexReport.render(page, reader, f);

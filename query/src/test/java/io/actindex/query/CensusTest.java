@@ -211,6 +211,72 @@ class CensusTest {
     }
   }
 
+  /**
+   * The largest regions listed, in full (size, neurons on, label counts, keys of the first members)
+   * and in order (largest first, ties by the smallest member), against a direct grouping, on codes
+   * drawn from a few distinct ones so that many regions tie in size; and the other counts of each
+   * prefix against the same grouping.
+   */
+  @Test
+  void largestRegionsAndTheirTiesAgainstDirectGrouping() {
+    for (int rep = 0; rep < 12; rep++) {
+      long seed = Randoms.seed(100 + rep);
+      String why = Randoms.describe(seed);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int n = rnd.nextInt(400), distinct = 1 + rnd.nextInt(60);
+      CodeBlock base = SyntheticCodes.reluLike(Math.max(distinct, 1), 3 + rnd.nextInt(70), 2 + rnd.nextInt(6), seed).codes();
+      boolean[][] rows = new boolean[n][];
+      for (int i = 0; i < n; i++) {
+        int from = rnd.nextInt(base.size());
+        rows[i] = new boolean[base.layout().bits()];
+        for (int b = 0; b < rows[i].length; b++) rows[i][b] = base.bit(from, b) ^ (rnd.nextInt(40) == 0); // a few flipped bits
+      }
+      CodeBlock codes = CodeBlock.fromBits(base.layout(), rows);
+      String[] labels = new String[n], keys = new String[n];
+      for (int i = 0; i < n; i++) {
+        keys[i] = "k" + i;
+        labels[i] = rnd.nextInt(4) == 0 ? null : rnd.nextInt(9) == 0 ? "" : "c" + rnd.nextInt(3);
+      }
+      int largest = new int[] {0, 1, 3, 50, Integer.MAX_VALUE}[rnd.nextInt(5)], examples = rnd.nextInt(5);
+      Census.Result c = Census.compute(codes, labels, i -> keys[i], new Census.Params(null, largest, examples));
+      int end = 0;
+      for (int p = 0; p < codes.layout().segments().size(); p++) {
+        end += codes.layout().segments().get(p).bits();
+        Map<String, List<Integer>> regions = new HashMap<>();
+        for (int i = 0; i < n; i++) regions.computeIfAbsent(bits(codes, i, 0, end), k -> new ArrayList<>()).add(i);
+        List<Map.Entry<String, List<Integer>>> sorted = new ArrayList<>(regions.entrySet());
+        sorted.sort((a, b) -> a.getValue().size() != b.getValue().size() ? b.getValue().size() - a.getValue().size()
+            : a.getValue().get(0) - b.getValue().get(0));
+        Census.Prefix got = c.prefixes().get(p);
+        assertEquals(regions.size(), got.regions(), why);
+        assertEquals(Math.min(largest, regions.size()), got.largest().size(), why + " prefix " + p);
+        for (int r = 0; r < got.largest().size(); r++) {
+          List<Integer> members = sorted.get(r).getValue();
+          Census.Big big = got.largest().get(r);
+          String at = why + " prefix " + p + " region " + r;
+          assertEquals(members.size(), big.count(), at);
+          assertEquals(sorted.get(r).getKey().chars().filter(ch -> ch == '1').count(), big.active(), at);
+          Map<String, Integer> mix = new HashMap<>();
+          for (int i : members) if (labels[i] != null && !labels[i].isEmpty()) mix.merge(labels[i], 1, Integer::sum);
+          assertEquals(Region.sortedCounts(mix), big.labels(), at);
+          assertEquals(new ArrayList<>(big.labels().keySet()), new ArrayList<>(Region.sortedCounts(mix).keySet()), at + " label order");
+          assertEquals(members.subList(0, Math.min(examples, members.size())).stream().map(i -> keys[i]).toList(), big.keys(), at);
+        }
+        long single = regions.values().stream().filter(l -> l.size() == 1).count();
+        assertEquals(single, got.singletons(), why);
+        long maj = 0, lab = 0;
+        for (List<Integer> members : regions.values()) {
+          Map<String, Integer> cnt = new TreeMap<>();
+          for (int i : members) if (labels[i] != null && !labels[i].isEmpty()) cnt.merge(labels[i], 1, Integer::sum);
+          maj += cnt.values().stream().mapToInt(x -> x).max().orElse(0);
+          lab += cnt.values().stream().mapToInt(x -> x).sum();
+        }
+        if (lab == 0) assertEquals(null, got.purity(), why);
+        else assertEquals(maj / (double) lab, got.purity(), 1e-12, why);
+      }
+    }
+  }
+
   static String bits(CodeBlock codes, int i, int from, int to) {
     StringBuilder sb = new StringBuilder();
     for (int b = from; b < to; b++) sb.append(codes.bit(i, b) ? '1' : '0');

@@ -31,20 +31,59 @@ public final class IndexReport {
    */
   public record Facts(int examples, Census.Result census, int[] nearestOther, String[] splits) {}
 
-  /** For each code, the Hamming distance to its nearest other code of the block (-1 if it is alone). Exact. */
+  /** For each code, the Hamming distance to its nearest other code of the block (-1 if it is alone). Exact. One thread. */
   public static int[] nearestOther(CodeBlock codes, Progress progress) {
+    return nearestOther(codes, 1, progress);
+  }
+
+  /** Codes one worker takes at a time (and between progress updates). */
+  static final int BLOCK = 1024;
+
+  /**
+   * As {@link #nearestOther(CodeBlock, Progress)} on up to {@code threads} threads sharing one searcher
+   * (each code's search is independent, so the answer does not depend on {@code threads}).
+   */
+  public static int[] nearestOther(CodeBlock codes, int threads, Progress progress) {
     int n = codes.size();
     int[] out = new int[n];
     if (n == 0) return out;
     CodeSearcher searcher = Searchers.build(codes);
-    long[] q = new long[codes.layout().words()];
     Progress p = progress == null ? Progress.NONE : progress;
-    for (int i = 0; i < n; i++) {
-      System.arraycopy(codes.words(), i * q.length, q, 0, q.length);
-      int self = i;
-      Hits h = searcher.knn(q, 1, o -> o != self, null);
-      out[i] = h.size() == 0 ? -1 : h.dist(0);
-      if ((i & 1023) == 1023 || i == n - 1) p.update(i + 1, n);
+    int words = codes.layout().words(), blocks = (n + BLOCK - 1) / BLOCK;
+    java.util.concurrent.atomic.AtomicInteger next = new java.util.concurrent.atomic.AtomicInteger();
+    long[] done = {0};
+    Runnable worker = () -> {
+      long[] q = new long[words];
+      for (int b; (b = next.getAndIncrement()) < blocks; ) {
+        int from = b * BLOCK, to = Math.min(n, from + BLOCK);
+        for (int i = from; i < to; i++) {
+          System.arraycopy(codes.words(), i * words, q, 0, words);
+          int self = i;
+          Hits h = searcher.knn(q, 1, o -> o != self, null);
+          out[i] = h.size() == 0 ? -1 : h.dist(0);
+        }
+        synchronized (done) {
+          done[0] += to - from;
+          p.update(done[0], n);
+        }
+      }
+    };
+    int workers = Math.max(1, Math.min(threads, blocks));
+    if (workers == 1) {
+      worker.run();
+      return out;
+    }
+    try (java.util.concurrent.ExecutorService pool = java.util.concurrent.Executors.newFixedThreadPool(workers)) {
+      List<java.util.concurrent.Future<?>> running = new ArrayList<>();
+      for (int t = 0; t < workers; t++) running.add(pool.submit(worker));
+      for (java.util.concurrent.Future<?> f : running) f.get();
+    } catch (InterruptedException e) {
+      Thread.currentThread().interrupt();
+      throw new IllegalStateException("interrupted", e);
+    } catch (java.util.concurrent.ExecutionException e) {
+      if (e.getCause() instanceof RuntimeException re) throw re;
+      if (e.getCause() instanceof Error err) throw err;
+      throw new IllegalStateException(e.getCause());
     }
     return out;
   }

@@ -33,6 +33,12 @@ public final class Sinkhorn {
    * @param epsilon the regularisation, in cost units
    */
   public static Result solve(int m, int n, char[] index, double[] cost, double epsilon, int maxIter, double tol, int threads) {
+    return solve(m, n, index, cost, epsilon, maxIter, tol, threads, null);
+  }
+
+  /** As above; {@code iterated} (may be null) is told the number of each iteration done, 1, 2, ..., for a progress bar. */
+  public static Result solve(int m, int n, char[] index, double[] cost, double epsilon, int maxIter, double tol, int threads,
+      java.util.function.IntConsumer iterated) {
     if (!(epsilon > 0)) throw new BadParameterException("epsilon", " must be above 0, got " + epsilon);
     char[] transposed = new char[index.length];
     for (int i = 0; i < m; i++) for (int j = 0; j < n; j++) transposed[j * m + i] = index[i * n + j];
@@ -55,6 +61,7 @@ public final class Sinkhorn {
         g[j] = Math.log(1.0 / n) - lseCols[j];
       }
       err = e;
+      if (iterated != null) iterated.accept(it);
       if (err < tol) break;
     }
     // <P, C> = sum_i exp(f_i) sum_j exp(g_j - C_ij / eps) C_ij

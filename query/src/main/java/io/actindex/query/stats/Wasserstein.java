@@ -36,6 +36,12 @@ public final class Wasserstein {
 
   /** {@code relativeEpsilon}: the regularisation as a fraction of the mean squared distance over all pairs. */
   public static Result sinkhorn(CodeBlock a, CodeBlock b, double relativeEpsilon, int maxIter, double tol, int threads) {
+    return sinkhorn(a, b, relativeEpsilon, maxIter, tol, threads, null);
+  }
+
+  /** As above; {@code iterated} (may be null) is told the number of each Sinkhorn iteration done. */
+  public static Result sinkhorn(CodeBlock a, CodeBlock b, double relativeEpsilon, int maxIter, double tol, int threads,
+      java.util.function.IntConsumer iterated) {
     int m = a.size(), n = b.size();
     char[] d = crossDistances(a, b, threads);
     int bits = a.layout().bits();
@@ -45,7 +51,7 @@ public final class Wasserstein {
     for (char x : d) mean += cost[x];
     mean /= d.length;
     double eps = relativeEpsilon * Math.max(mean, 1);
-    Sinkhorn.Result r = Sinkhorn.solve(m, n, d, cost, eps, maxIter, tol, threads);
+    Sinkhorn.Result r = Sinkhorn.solve(m, n, d, cost, eps, maxIter, tol, threads, iterated);
     return new Result(Method.SINKHORN, Math.sqrt(Math.max(0, r.cost())), m, n, eps, relativeEpsilon, r.iterations(),
         r.marginalError(), r.converged());
   }

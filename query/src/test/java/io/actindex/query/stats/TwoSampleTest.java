@@ -157,6 +157,22 @@ class TwoSampleTest {
   }
 
   @Test
+  void sinkhornTellsEachIterationAndAnswersAsWithoutBeingWatched() {
+    for (int rep = 0; rep < 4; rep++) {
+      long seed = Randoms.seed(60 + rep);
+      SplittableRandom r = new SplittableRandom(seed);
+      CodeBlock a = codes(r, 50, rates(r, 70)), b = codes(r, 35, rates(r, 70));
+      int maxIter = rep == 0 ? 3 : 5000; // rep 0 stops at maxIter unconverged, the others converge
+      java.util.List<Integer> told = new java.util.ArrayList<>();
+      Wasserstein.Result watched = Wasserstein.sinkhorn(a, b, 0.05, maxIter, 1e-9, 1 + rep % 2, told::add);
+      Wasserstein.Result plain = Wasserstein.sinkhorn(a, b, 0.05, maxIter, 1e-9, 1 + rep % 2);
+      assertThat(watched.w2()).as(Randoms.describe(seed)).isEqualTo(plain.w2());
+      assertThat(told).as(Randoms.describe(seed)).hasSize(plain.iterations());
+      for (int i = 0; i < told.size(); i++) assertThat(told.get(i)).as(Randoms.describe(seed)).isEqualTo(i + 1);
+    }
+  }
+
+  @Test
   void assignmentMatchesBruteForceOverAllPermutations() {
     for (int rep = 0; rep < 30; rep++) {
       long seed = Randoms.seed(20 + rep);
