@@ -15,10 +15,12 @@ import org.junit.jupiter.api.Test;
  * sec. 2.1; the split-conformal quantile): on exchangeable data, P(p <= alpha) <= alpha, with equality
  * up to {@code floor(alpha (n + 1)) / (n + 1)} for continuous scores; the threshold at rank
  * {@code ceil(tpr (n + 1))} accepts a fresh score with probability at least tpr. Checked over many
- * seeds: the observed share must lie within 4 binomial standard deviations.
+ * seeds: the observed share must lie within 5 binomial standard deviations (a false failure about
+ * once in a million runs per check: 4 deviations over 4,000 trials failed once, at 4.2, on a random
+ * base seed; the exact ranks are checked in {@link #thresholdRankAndMinimumSize}).
  */
 class ConformalTest {
-  static final int TRIALS = 4000, N = 99;
+  static final int TRIALS = 20_000, N = 99;
 
   @Test
   void pValuesAreValidOnContinuousScores() {
@@ -36,10 +38,10 @@ class ConformalTest {
     double expected = Math.floor(alpha * (N + 1)) / (N + 1); // exactly 0.1 here
     double sd = Math.sqrt(expected * (1 - expected) / TRIALS);
     assertThat(hits / (double) TRIALS).as("share of p <= alpha; base " + Randoms.describe(Randoms.base()))
-        .isBetween(expected - 4 * sd, expected + 4 * sd);
+        .isBetween(expected - 5 * sd, expected + 5 * sd);
     double acc = Math.ceil(0.95 * (N + 1)) / (N + 1); // P(fresh <= j-th smallest) = j / (n + 1) = 0.95
     double sdAcc = Math.sqrt(acc * (1 - acc) / TRIALS);
-    assertThat(accepted / (double) TRIALS).isBetween(acc - 4 * sdAcc, acc + 4 * sdAcc);
+    assertThat(accepted / (double) TRIALS).isBetween(acc - 5 * sdAcc, acc + 5 * sdAcc);
   }
 
   @Test
@@ -56,8 +58,8 @@ class ConformalTest {
       if (fresh <= OodCalibration.threshold(cal, 0.95, "test")) accepted++;
     }
     double sd = Math.sqrt(alpha * (1 - alpha) / TRIALS);
-    assertThat(hits / (double) TRIALS).as("ties make p conservative, never liberal").isLessThanOrEqualTo(alpha + 4 * sd);
-    assertThat(accepted / (double) TRIALS).isGreaterThanOrEqualTo(0.95 - 4 * Math.sqrt(0.95 * 0.05 / TRIALS));
+    assertThat(hits / (double) TRIALS).as("ties make p conservative, never liberal").isLessThanOrEqualTo(alpha + 5 * sd);
+    assertThat(accepted / (double) TRIALS).isGreaterThanOrEqualTo(0.95 - 5 * Math.sqrt(0.95 * 0.05 / TRIALS));
   }
 
   @Test

@@ -66,8 +66,8 @@ class TwoSampleTest {
     PermutationTest t1 = mmd.test(new int[][] {{0, 100}}, Permutations.seeded(7), 500, 1)[0];
     PermutationTest t2 = mmd.test(new int[][] {{0, 100}}, Permutations.seeded(7), 500, 3)[0];
     assertThat(t2).as(Randoms.describe(seed)).isEqualTo(t1);
-    // MMD^2_u is unbiased: its mean over relabelings (an exchangeable null) is 0 up to sampling error
-    assertThat(Math.abs(t1.nullMean())).as(Randoms.describe(seed)).isLessThan(4 * t1.nullSd() / Math.sqrt(500));
+    // MMD^2_u is unbiased: its mean over relabelings (an exchangeable null) is 0 up to sampling error (5 sd: a false failure about once in 1.7 million runs)
+    assertThat(Math.abs(t1.nullMean())).as(Randoms.describe(seed)).isLessThan(5 * t1.nullSd() / Math.sqrt(500));
   }
 
   @Test
