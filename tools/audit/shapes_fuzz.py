@@ -6,12 +6,13 @@ Partition.MIN_CODES = 4,096 codes in a segment, the cluster partition), a code w
 bits) cut into 1-4 layers at random places (inside and at 64-bit word boundaries), a code family
 (uniform, skewed, few distinct codes, near copies of a few centres, all identical), an input form
 (bool/int/float 0-1 codes, packed bytes with --code-layout, float or int activations as .npy or
-.npz with named layers), a build (in one go, or build + adds + a delete by keys + maybe compact,
-also with small segments and a low merge factor), and planner costs (stored, scan made dear,
-tables made dear, random): costs choose the path, never the answer. Then it runs nearest (k 1, 2,
-10, n-1, n, n+5; --ties; --layers; --where), region, dupes (self-join at radius 0-3 with --pairs,
-and --against), census, and checks every answer against NumPy on the live codes under the
-documented rules (distance, then id ascending).
+.npz with named layers), a build (in one go, or build + adds + a delete by keys (now and then of
+every example) + maybe compact + maybe an add, also with small segments and a low merge factor),
+and planner costs (stored, scan made dear, tables made dear, random): costs choose the path, never
+the answer. Then it runs nearest (k 1, 2, 10, n-1, n, n+5; --ties; --layers in any order; --where;
+JSON or CSV), region, dupes (self-join at radius 0-3 and now and then wider, with --pairs, and
+--against), census, and checks every answer against NumPy on the live codes under the documented
+rules (distance, then id ascending).
 
     tools/audit/shapes_fuzz.py [--seed S] [--cases N] [--bin bin/actindex] [--work DIR]
 
@@ -195,7 +196,7 @@ class Runner:
         p = subprocess.run([self.binary] + [str(a) for a in args], capture_output=True, text=True, env=self.env)
         self.commands += 1
         self.seconds += time.time() - t
-        self.slowest = max(self.slowest, (time.time() - t, str(args[0])))
+        self.slowest = max(self.slowest, (time.time() - t, " ".join(str(a) for a in args if not str(a).startswith("/"))))
         if p.returncode != 0:
             raise Diff(f"exit {p.returncode}: {' '.join(map(str, args))}: {p.stderr.strip()[:400]}")
         return json.loads(p.stdout) if expect_json else p.stdout
@@ -308,6 +309,8 @@ def run_case(args, seed, case, work, state):
     live = np.ones(n, dtype=bool)
     if mode == "pieces":
         ndel = int(rng.integers(0, max(1, n // 5) + 1)) if rng.random() < 0.8 else 0
+        if rng.random() < 0.05:
+            ndel = n  # every example: answers without live examples
         if ndel:
             gone = rng.choice(n, size=ndel, replace=False)
             allkeys = sum(model.keys, [])
@@ -404,6 +407,12 @@ def run_case(args, seed, case, work, state):
             check(got_ids == ids[want].tolist() and got_d == D[qi][want].tolist(),
                   f"nearest {opts} query {qi}: got ids {got_ids[:12]} d {got_d[:12]}, "
                   f"want ids {ids[want][:12].tolist()} d {D[qi][want][:12].tolist()}")
+            if "vote" in res and len(want):  # the default vote counts every example within the k-th distance
+                dk = int(D[qi][want[-1]])
+                v = res["vote"]
+                check(v is not None and (v["neighbors"], v["within_distance"]) == (int((D[qi] <= dk).sum()), dk),
+                      f"nearest {opts} query {qi}: vote over {None if v is None else (v['neighbors'], v['within_distance'])}, "
+                      f"want {(int((D[qi] <= dk).sum()), dk)}")
             for nb, w in zip(res["neighbors"], want):
                 check(nb["key"] == model.K[np.nonzero(sel)[0][w]], f"nearest {opts} query {qi}: id {nb['id']} key {nb['key']}")
                 check(all(nb["layer_distances"].get(nm) == int(ld[nm][qi][w]) for nm in ld),
@@ -686,6 +695,7 @@ def main():
     ap.add_argument("--bin", default=os.path.join(here, "..", "..", "bin", "actindex"))
     ap.add_argument("--work", default="/tmp/actindex-shapes-fuzz")
     ap.add_argument("--only", type=int, default=None, help="run this case number alone")
+    ap.add_argument("--keep", action="store_true", help="keep the files of cases that pass too")
     ap.add_argument("--sizes", type=lambda x: [int(v) for v in x.split(",")], default=N_CHOICES,
                     help="stored codes to draw from (default %(default)s)")
     ap.add_argument("--widths", type=lambda x: [int(v) for v in x.split(",")], default=BITS_CHOICES,
@@ -708,7 +718,8 @@ def main():
             total_cmds += r.commands
             skipped += state["skipped"][0]
             print(f"OK   case {case} ({nchecks} checks, {r.commands} commands, {time.time() - t:.1f} s, {r.seconds:.1f} s in actindex, slowest {r.slowest[1]} {r.slowest[0]:.1f} s): {desc}", flush=True)
-            shutil.rmtree(work, ignore_errors=True)
+            if not args.keep:
+                shutil.rmtree(work, ignore_errors=True)
         except Diff as e:
             bad += 1
             print(f"DIFF case {case} (rerun: --seed {seed} --only {case}; files in {work}): {state['desc']}: {e}", flush=True)
