@@ -35,7 +35,7 @@ public final class CodeFiles {
     NpyReader r = NpyReader.open(file);
     try {
       NpyDtype t = r.header().dtype();
-      boolean packed = false;
+      boolean packed = false, given = layout != null;
       if (layout == null) {
         layout = CodeLayout.single("code", r.cols());
       } else if (r.cols() != layout.bits()) {
@@ -44,7 +44,7 @@ public final class CodeFiles {
           throw new BadInputException(file + ": field 'shape' " + r.header().shapeString() + " does not match the layout " + layout + " ("
               + layout.bits() + " bits: " + layout.bits() + " columns of 0/1, or " + (layout.bits() + 7) / 8 + " packed bytes)");
       }
-      return new Stream(r, layout, packed);
+      return new Stream(r, layout, packed, given);
     } catch (RuntimeException e) {
       r.close();
       throw e;
@@ -56,15 +56,16 @@ public final class CodeFiles {
   private static final class Stream implements CodeStream {
     private final NpyReader r;
     private final CodeLayout layout;
-    private final boolean packed;
+    private final boolean packed, layoutGiven;
     private final NeuronStats stats;
     private byte[] buf = new byte[0];
     private double[] values = new double[0]; // dtypes other than bool and uint8, read as numbers
 
-    Stream(NpyReader r, CodeLayout layout, boolean packed) {
+    Stream(NpyReader r, CodeLayout layout, boolean packed, boolean layoutGiven) {
       this.r = r;
       this.layout = layout;
       this.packed = packed;
+      this.layoutGiven = layoutGiven;
       this.stats = new NeuronStats(layout);
     }
 
@@ -142,8 +143,12 @@ public final class CodeFiles {
     private BadInputException notBinary(byte[] b, int off, int from, long row) {
       int c = from;
       while ((b[off + c] & 0xff) <= 1) c++;
+      // with a layout, one column per bit is read as 0/1 values; for a 1-bit code packed bytes have that shape too
+      String why = !layoutGiven ? "packed bytes need the code layout"
+          : layout.bits() == 1 ? "a 1-bit code is one column whether packed or not, so it is read as 0/1 values: save it unpacked"
+          : "one column per bit of the layout " + layout + " is read as 0/1 values, not packed bytes";
       return new BadInputException(r.source() + ": row " + row + ", column " + c + ": value " + (b[off + c] & 0xff)
-          + " is not 0 or 1 (packed bytes need the code layout)");
+          + " is not 0 or 1 (" + why + ")");
     }
 
     /** One row of packbits bytes (most significant bit first) to code bits: byte c holds bits 8c..8c+7. */

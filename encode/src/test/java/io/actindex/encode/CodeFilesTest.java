@@ -113,6 +113,18 @@ class CodeFilesTest {
     }
     assertThatThrownBy(() -> read(pad, CodeLayout.single("c", 21))).isInstanceOf(BadInputException.class)
         .hasMessageContaining("row 0, column 2").hasMessageContaining("padding");
+    // a 1-bit code packed by np.packbits has the shape of the unpacked one and is read as 0/1:
+    // the refusal says so rather than asking for the layout it was given (found by tools/audit/shapes_fuzz.py)
+    Path onePacked = tmp.resolve("one_packed.npy");
+    try (NpyWriter w = NpyWriter.create(onePacked, NpyDtype.UINT8, 1)) {
+      w.writeBytes(new byte[] {0, (byte) 0x80}, 2);
+      w.commit();
+    }
+    assertThatThrownBy(() -> read(onePacked, CodeLayout.single("z", 1))).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("one_packed.npy").hasMessageContaining("row 1, column 0: value 128 is not 0 or 1")
+        .hasMessageContaining("1-bit code").hasMessageNotContaining("need the code layout");
+    assertThatThrownBy(() -> read(onePacked, null)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("need the code layout");
     // shape does not match the index layout
     assertThatThrownBy(() -> read(Golden.path("codes_bool.npy"), CodeLayout.single("c", 30))).isInstanceOf(BadInputException.class)
         .hasMessageContaining("codes_bool.npy").hasMessageContaining("shape").hasMessageContaining("c:30");
