@@ -238,17 +238,27 @@ final class BitPlan {
     double[] h = new double[m];
     int[] ones = new int[Math.max(1, rows * 2)];
     boolean[] taken = new boolean[total];
+    double most = sample.fullEntropy(members); // no key over these bits has more entropy
+    int firstFree = 0;
     for (int step = 0; step < total; step++) {
       int t = -1;
       for (int u = 0; u < m; u++) if (tables.get(u).size() < cap[u] && (t < 0 || h[u] < h[t])) t = u;
-      int best = -1;
-      double bestH = -1;
-      for (int idx = 0; idx < total; idx++) {
-        if (taken[idx]) continue;
-        double hb = sample.splitEntropy(members.get(idx), group[t], groupSize[t], ones);
-        if (hb > bestH + 1e-9) {
-          bestH = hb;
-          best = idx;
+      while (taken[firstFree]) firstFree++;
+      int best = firstFree;
+      double bestH = sample.splitEntropy(members.get(firstFree), group[t], groupSize[t], ones);
+      // a key that already tells every distinct sample row apart cannot gain (any real gain is at
+      // least about 2 / 8192 bits): every bit scores the key's entropy and the loop below would keep
+      // the first bit left, so it is kept without trying the others (the same plan: wide codes cut
+      // into few parts, as the self-join cuts them, spent most of their time in that loop)
+      if (h[t] < most - 1e-9) {
+        bestH = -1;
+        for (int idx = firstFree; idx < total; idx++) {
+          if (taken[idx]) continue;
+          double hb = sample.splitEntropy(members.get(idx), group[t], groupSize[t], ones);
+          if (hb > bestH + 1e-9) {
+            bestH = hb;
+            best = idx;
+          }
         }
       }
       taken[best] = true;
@@ -296,6 +306,15 @@ final class BitPlan {
         ones[g] = 0;
       }
       return h;
+    }
+
+    /** Entropy of the key made of every column in {@code members}: the most any of their subsets reaches. */
+    double fullEntropy(List<Integer> members) {
+      int[] group = new int[size], sizes = {size};
+      for (int c : members) sizes = split(c, group, sizes.length);
+      double h = 0;
+      for (int g : sizes) h -= plogp(g / (double) size);
+      return size == 0 ? 0 : h;
     }
 
     /** Refines the groups by bit column c in place; returns the new group sizes. */
