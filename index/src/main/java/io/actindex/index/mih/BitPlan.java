@@ -213,9 +213,14 @@ final class BitPlan {
   }
 
   private static int[][] balanced(CodeBlock codes, int[] chosen, double[] entropy, int m) {
+    return balanced(codes, chosen, entropy, m, false);
+  }
+
+  /** {@link #greedy}'s tables; {@code scoreEvery}: score every bit left at every step (tests: the plain greedy, oracle of its shortcut). */
+  static int[][] balanced(CodeBlock codes, int[] chosen, double[] entropy, int m, boolean scoreEvery) {
     List<Integer> members = new ArrayList<>();
     for (int i = 0; i < chosen.length; i++) members.add(i);
-    return greedy(members, chosen, entropy, m, new Sample(codes, chosen)).toArray(new int[0][]);
+    return greedy(members, chosen, entropy, m, new Sample(codes, chosen), scoreEvery).toArray(new int[0][]);
   }
 
   /**
@@ -224,7 +229,7 @@ final class BitPlan {
    * lower position). Bits that copy a bit already in the table add nothing there, so correlated
    * bits end up in different tables.
    */
-  private static List<int[]> greedy(List<Integer> members, int[] chosen, double[] entropy, int m, Sample sample) {
+  private static List<int[]> greedy(List<Integer> members, int[] chosen, double[] entropy, int m, Sample sample, boolean scoreEvery) {
     members.sort((a, b) -> entropy[chosen[a]] != entropy[chosen[b]]
         ? Double.compare(entropy[chosen[b]], entropy[chosen[a]]) : Integer.compare(a, b));
     int total = members.size(), rows = sample.size;
@@ -250,7 +255,7 @@ final class BitPlan {
       // least about 2 / 8192 bits): every bit scores the key's entropy and the loop below would keep
       // the first bit left, so it is kept without trying the others (the same plan: wide codes cut
       // into few parts, as the self-join cuts them, spent most of their time in that loop)
-      if (h[t] < most - 1e-9) {
+      if (scoreEvery || h[t] < most - 1e-9) {
         bestH = -1;
         for (int idx = firstFree; idx < total; idx++) {
           if (taken[idx]) continue;
