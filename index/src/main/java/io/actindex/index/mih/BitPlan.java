@@ -286,10 +286,13 @@ final class BitPlan {
   private static final class Sample {
     private final long[][] columns;
     private final int size;
+    private final double[] plogpOf; // plogp(c / size) for each count c: the same doubles, without a logarithm per group and bit
 
     Sample(CodeBlock codes, int[] chosen) {
       int n = codes.size();
       size = Math.min(n, 8192);
+      plogpOf = new double[size + 1];
+      for (int c = 0; c <= size; c++) plogpOf[c] = plogp(c / (double) size);
       columns = new long[chosen.length][(size + 63) >>> 6];
       for (int r = 0; r < size; r++) {
         int i = (int) ((long) r * n / size);
@@ -304,10 +307,10 @@ final class BitPlan {
       long[] col = columns[c];
       for (int i = 0; i < col.length; i++)
         for (long x = col[i]; x != 0; x &= x - 1) ones[group[(i << 6) + Long.numberOfTrailingZeros(x)]]++;
-      double h = 0, n = size;
+      double h = 0;
       for (int g = 0; g < groupSize.length; g++) {
         int one = ones[g], zero = groupSize[g] - one;
-        h -= plogp(one / n) + plogp(zero / n);
+        h -= plogpOf[one] + plogpOf[zero];
         ones[g] = 0;
       }
       return h;
