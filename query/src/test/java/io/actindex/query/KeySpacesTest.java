@@ -76,17 +76,7 @@ class KeySpacesTest {
    */
   @Test
   void aKeyStoredWithSpacesIsFoundByTheKeyWithout() {
-    Path dir = build("stored");
-    try (IndexWriter w = IndexWriter.open(dir)) {
-      CodeLayout layout;
-      long[] words;
-      try (IndexReader r = IndexReader.open(dir)) {
-        layout = r.layout();
-        words = r.code(0);
-      }
-      w.add(new CodeBlock(layout, 1, words), List.of(new java.util.HashMap<>(java.util.Map.of("key", " a\t", "label", "x"))));
-      w.add(new CodeBlock(layout, 1, words), List.of(new java.util.HashMap<>(java.util.Map.of("key", "b ", "label", "x"))));
-    }
+    Path dir = libraryKeys(build("stored"));
     try (IndexReader r = IndexReader.open(dir)) {
       assertThat(r.meta().document(4).get("key")).isEqualTo(" a\t"); // stored as the caller wrote it
       assertThat(r.meta().idOfKey("a")).isEqualTo(4);
