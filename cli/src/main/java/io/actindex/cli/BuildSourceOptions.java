@@ -23,11 +23,11 @@ public final class BuildSourceOptions {
   Path activations;
 
   @Option(names = "--codes", paramLabel = "FILE",
-      description = "Codes already binarized: .npy of bool, or 0/1 in any integer or float dtype, or uint8 packed 8 bits per byte (NumPy packbits order; give --code-layout).")
+      description = "Codes already binarized: .npy of bool, or 0/1 in any integer or float dtype, or uint8 packed 8 bits per byte (NumPy packbits order; build: give --code-layout; add: read in the index's layout).")
   Path codes;
 
   @Option(names = "--code-layout", paramLabel = "LAYOUT",
-      description = "Layer names and widths of --codes, e.g. h1:64,h2:32 (needed for packed bits; default: one layer named code).")
+      description = "build only: layer names and widths of --codes, e.g. h1:64,h2:32 (needed for packed bits; default: one layer named code). add refuses it: it reads codes in the index's layout.")
   String codeLayout;
 
   @Option(names = "--inputs", paramLabel = "FILE",
