@@ -4,7 +4,6 @@ import io.actindex.cli.format.CsvWriter;
 import io.actindex.cli.format.JsonWriter;
 import io.actindex.cli.format.TextTable;
 import io.actindex.core.BadInputException;
-import io.actindex.index.meta.Where;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Layers;
 import io.actindex.query.Nearest;
@@ -112,7 +111,7 @@ final class NearestCommand implements Callable<Integer> {
           results.add(new Nearest.Result(r.row(), r.neighbors().stream().map(Refine.Neighbor::example).toList(), r.vote()));
       }
       index.noteIfNoneFound(reader, where, results.stream().anyMatch(r -> !r.neighbors().isEmpty()));
-      if (results.stream().anyMatch(r -> r.neighbors().size() < k)) noteIfKAboveLive(reader);
+      noteIfKAboveLive(results.stream().mapToInt(r -> r.neighbors().size()).max().orElse(k));
     }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
@@ -125,19 +124,17 @@ final class NearestCommand implements Callable<Integer> {
   }
 
   /**
-   * After an answer listed fewer than {@code -k} neighbours: one line on stderr when {@code -k} is above
-   * the live examples (those {@code --where} matches, with a filter), since each answer then lists all
-   * of them. None when there are none ({@link IndexOption#noteIfNoneFound} says so).
+   * One line on stderr when {@code -k} is above the live examples (those {@code --where} matches,
+   * with a filter): an exact search then lists every one of them, so an answer's length, {@code
+   * listed}, is their count. None when nothing was listed ({@link IndexOption#noteIfNoneFound} says so).
    */
-  private void noteIfKAboveLive(IndexReader reader) {
-    int live = reader.liveCount();
-    int matched = where == null ? live : Where.select(reader.meta(), where).count();
-    if (matched == 0 || matched >= k) return;
-    String examples = matched == 1 ? "live example" : "live examples";
+  private void noteIfKAboveLive(int listed) {
+    if (listed == 0 || listed >= k) return;
+    String examples = listed == 1 ? "live example" : "live examples";
     String which = where == null ? examples + " in the index" : examples + " --where " + BadInputException.quote(where) + " matches";
     PrintWriter err = spec.commandLine().getErr();
-    err.println("note: -k " + k + " is more than the " + matched + " " + which + "; each answer lists "
-        + (matched == 1 ? "it" : "all " + matched));
+    err.println("note: -k " + k + " is more than the " + listed + " " + which + "; each answer lists "
+        + (listed == 1 ? "it" : "all " + listed));
     err.flush();
   }
 

@@ -3,11 +3,6 @@ package io.actindex.edge;
 import java.io.IOException;
 import java.io.InputStream;
 import java.io.PrintStream;
-import java.nio.ByteBuffer;
-import java.nio.CharBuffer;
-import java.nio.charset.CharsetDecoder;
-import java.nio.charset.CodingErrorAction;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.AccessDeniedException;
 import java.nio.file.Files;
 import java.nio.file.InvalidPathException;
@@ -240,88 +235,38 @@ public final class EdgeMain {
   }
 
   /**
-   * Lines of standard input, read as the index's CSV reader reads a file's: split at LF (a CR before
-   * it dropped), each line decoded strictly as UTF-8, a UTF-8 byte order mark before the first
-   * skipped, blank lines skipped for raw inputs, counted from 1. Refused ({@link Refused}, naming the
-   * byte offset and line, as that reader does): a UTF-16 byte order mark, a NUL byte (UTF-16 or
-   * binary), bytes that are not UTF-8 (Latin-1 text), a CR anywhere else (lines that end in CR alone,
-   * classic Mac OS, are one line to that reader) and a line over {@link RowText#MAX_LINE_BYTES} (so a
-   * stream without line ends does not fill memory). Reads what is there ({@code read}), never waits
-   * for a full buffer, so rows piped one by one are answered one by one.
+   * Lines of standard input as the index's CSV reader reads a file's ({@link Utf8Lines}), blank lines
+   * skipped for raw inputs; its refusals ({@link Refused}) name the byte offset and line on stdin.
    */
   private static final class Lines {
-    final InputStream in;
+    final Utf8Lines lines;
     final boolean skipBlank;
-    final byte[] buf = new byte[1 << 16];
-    int pos, len;
-    long bufStart; // offset of buf[0] in the stream
-    byte[] line = new byte[256];
-    final CharsetDecoder utf8 = StandardCharsets.UTF_8.newDecoder().onMalformedInput(CodingErrorAction.REPORT)
-        .onUnmappableCharacter(CodingErrorAction.REPORT);
     long number;
 
     Lines(InputStream in, boolean skipBlank) {
-      this.in = in;
+      this.lines = new Utf8Lines(in);
       this.skipBlank = skipBlank;
     }
 
     String next() throws IOException, Refused {
-      String s;
-      do {
-        s = read();
-        if (s != null && number == 1 && s.startsWith("\uFEFF")) s = s.substring(1); // as the index's CSV reader skips it
-      } while (s != null && skipBlank && s.isBlank());
-      return s;
-    }
-
-    private String read() throws IOException, Refused {
-      int n = 0;
-      long start = bufStart + pos;
-      boolean any = false;
-      while (true) {
-        if (pos == len) {
-          bufStart += len;
-          len = Math.max(0, in.read(buf));
-          pos = 0;
-          if (len == 0) break;
-          if (bufStart == 0 && len >= 2 && ((buf[0] & 0xff) == 0xff && (buf[1] & 0xff) == 0xfe || (buf[0] & 0xff) == 0xfe && (buf[1] & 0xff) == 0xff))
-            throw refused(0, "a UTF-16 byte order mark: write the rows as UTF-8");
-        }
-        any = true;
-        int nl = -1;
-        for (int i = pos; i < len; i++) {
-          if (buf[i] == '\n') {
-            nl = i;
-            break;
-          }
-          if (buf[i] == 0) throw refused(bufStart + i, "a NUL byte: the rows look like UTF-16 or binary; write them as UTF-8 text");
-        }
-        int end = nl < 0 ? len : nl;
-        if ((long) n + end - pos > RowText.MAX_LINE_BYTES)
-          throw new Refused("stdin line " + (number + 1) + " is longer than " + (RowText.MAX_LINE_BYTES >> 20) + " MiB");
-        if (n + end - pos > line.length) line = Arrays.copyOf(line, Math.max(n + end - pos, line.length * 2));
-        System.arraycopy(buf, pos, line, n, end - pos);
-        n += end - pos;
-        pos = nl < 0 ? len : nl + 1;
-        if (nl >= 0) break;
+      try {
+        String s;
+        do {
+          s = lines.next();
+          number = lines.line();
+        } while (s != null && skipBlank && s.isBlank());
+        return s;
+      } catch (Utf8Lines.Bad b) {
+        String what = switch (b.fault()) {
+          case TOO_LONG -> null;
+          case UTF16_BOM -> "a UTF-16 byte order mark: write the rows as UTF-8";
+          case NUL -> "a NUL byte: the rows look like UTF-16 or binary; write them as UTF-8 text";
+          case CR_INSIDE -> "a carriage return inside a line: the lines end in CR alone (classic Mac OS); write them with LF or CRLF line ends";
+          case NOT_UTF8 -> "a byte sequence that is not UTF-8 (e.g. Latin-1 text); write the rows as UTF-8";
+        };
+        throw new Refused(what == null ? "stdin line " + b.line() + " is longer than " + (RowText.MAX_LINE_BYTES >> 20) + " MiB"
+            : "stdin byte " + b.offset() + " (line " + b.line() + "): " + what);
       }
-      if (!any) return null;
-      if (n > 0 && line[n - 1] == '\r') n--;
-      for (int i = 0; i < n; i++)
-        if (line[i] == '\r')
-          throw refused(start + i, "a carriage return inside a line: the lines end in CR alone (classic Mac OS); write them with LF or CRLF line ends");
-      ByteBuffer bytes = ByteBuffer.wrap(line, 0, n);
-      CharBuffer chars = CharBuffer.allocate(n);
-      utf8.reset();
-      if (utf8.decode(bytes, chars, true).isError())
-        throw refused(start + bytes.position(), "a byte sequence that is not UTF-8 (e.g. Latin-1 text); write the rows as UTF-8");
-      utf8.flush(chars);
-      number++;
-      return chars.flip().toString();
-    }
-
-    private Refused refused(long offset, String what) {
-      return new Refused("stdin byte " + offset + " (line " + (number + 1) + "): " + what);
     }
   }
 

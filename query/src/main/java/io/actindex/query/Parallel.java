@@ -9,8 +9,11 @@ import java.util.concurrent.Executors;
 import java.util.concurrent.Future;
 import java.util.function.IntConsumer;
 
-/** Runs one task per query on up to {@code threads} threads, reporting (done, n) to a progress callback. */
-final class Parallel {
+/**
+ * Runs one task per query (or per block of work) on up to {@code threads} threads, reporting (done,
+ * n) to a progress callback. Public for the report package; the {@code threads} checks stay inside.
+ */
+public final class Parallel {
   private Parallel() {}
 
   /** Refuses a {@code threads} parameter below 1 (a {@code Params} check; the caller resolves "one per core" first). */
@@ -24,7 +27,7 @@ final class Parallel {
   }
 
   /** Calls {@code task} with {@code 0..n-1}; the first task failure is rethrown. */
-  static void forEach(int n, int threads, Progress progress, IntConsumer task) {
+  public static void forEach(int n, int threads, Progress progress, IntConsumer task) {
     Progress prog = progress == null ? Progress.NONE : progress;
     Object lock = new Object();
     long[] done = {0};
@@ -50,6 +53,7 @@ final class Parallel {
       throw new IllegalStateException("interrupted", e);
     } catch (ExecutionException e) {
       if (e.getCause() instanceof RuntimeException re) throw re;
+      if (e.getCause() instanceof Error err) throw err;
       throw new IllegalStateException(e.getCause());
     }
   }

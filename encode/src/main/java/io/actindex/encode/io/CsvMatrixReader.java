@@ -4,14 +4,9 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.BadParameterException;
 import io.actindex.core.Names;
 import io.actindex.edge.RowText;
+import io.actindex.edge.Utf8Lines;
 import java.io.IOException;
 import java.io.InputStream;
-import java.nio.ByteBuffer;
-import java.nio.CharBuffer;
-import java.nio.charset.CharsetDecoder;
-import java.nio.charset.CoderResult;
-import java.nio.charset.CodingErrorAction;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayDeque;
@@ -54,13 +49,7 @@ public final class CsvMatrixReader implements MatrixReader {
 
   private final Path file;
   private final InputStream in;
-  private final CharsetDecoder utf8 = StandardCharsets.UTF_8.newDecoder().onMalformedInput(CodingErrorAction.REPORT)
-      .onUnmappableCharacter(CodingErrorAction.REPORT);
-  private final byte[] buf = new byte[1 << 16];
-  private int bufPos, bufLen;
-  private long bufStart; // file offset of buf[0]
-  private byte[] lineBytes = new byte[256];
-  private CharBuffer chars = CharBuffer.allocate(256);
+  private final Utf8Lines lines;
   private final List<String> header;
   private final int cols;
   private final List<String> notes = new ArrayList<>();
@@ -77,10 +66,7 @@ public final class CsvMatrixReader implements MatrixReader {
   private CsvMatrixReader(Path file, InputStream in, Header mode) throws IOException {
     this.file = file;
     this.in = in;
-    bufLen = Math.max(0, in.readNBytes(buf, 0, buf.length));
-    if (bufLen >= 2 && ((buf[0] & 0xff) == 0xff && (buf[1] & 0xff) == 0xfe || (buf[0] & 0xff) == 0xfe && (buf[1] & 0xff) == 0xff))
-      throw encoding(0, "a UTF-16 byte order mark: save the file as UTF-8");
-    if (bufLen >= 3 && (buf[0] & 0xff) == 0xef && (buf[1] & 0xff) == 0xbb && (buf[2] & 0xff) == 0xbf) bufPos = 3; // UTF-8 byte order mark
+    this.lines = new Utf8Lines(in);
     String first = nextLine();
     if (first == null) throw new BadInputException(file + ": the CSV file is empty");
     long firstLine = line;
@@ -216,52 +202,26 @@ public final class CsvMatrixReader implements MatrixReader {
   }
 
   private String readLine() throws IOException {
-    int n = 0;
-    long lineStart = bufStart + bufPos;
-    boolean any = false;
-    while (true) {
-      if (bufPos == bufLen) {
-        bufStart += bufLen;
-        bufLen = Math.max(0, in.readNBytes(buf, 0, buf.length));
-        bufPos = 0;
-        if (bufLen == 0) break;
-      }
-      any = true;
-      int nl = -1;
-      for (int i = bufPos; i < bufLen; i++) {
-        if (buf[i] == '\n') {
-          nl = i;
-          break;
-        }
-        if (buf[i] == 0) throw encoding(bufStart + i, "a NUL byte: the file looks like UTF-16 or binary; save it as UTF-8 text");
-      }
-      int end = nl < 0 ? bufLen : nl;
-      if ((long) n + end - bufPos > MAX_LINE_BYTES)
-        throw new BadInputException(file + ": line " + (line + 1) + " is longer than " + (MAX_LINE_BYTES >> 20) + " MiB");
-      if (n + end - bufPos > lineBytes.length) lineBytes = Arrays.copyOf(lineBytes, Math.max(n + end - bufPos, lineBytes.length * 2));
-      System.arraycopy(buf, bufPos, lineBytes, n, end - bufPos);
-      n += end - bufPos;
-      bufPos = nl < 0 ? bufLen : nl + 1;
-      if (nl >= 0) break;
+    try {
+      String s = lines.next();
+      line = lines.line();
+      return s;
+    } catch (Utf8Lines.Bad b) {
+      throw refusal(b);
     }
-    if (!any) return null;
-    if (n > 0 && lineBytes[n - 1] == '\r') n--;
-    for (int i = 0; i < n; i++) // lines ending in CR alone are one line to this reader: refused as such, not as a header without rows
-      if (lineBytes[i] == '\r')
-        throw encoding(lineStart + i, "a carriage return inside a line: the file's lines end in CR alone (classic Mac OS); save it with LF or CRLF line ends");
-    ByteBuffer bb = ByteBuffer.wrap(lineBytes, 0, n);
-    if (chars.capacity() < n) chars = CharBuffer.allocate(Math.max(n, chars.capacity() * 2));
-    chars.clear();
-    utf8.reset();
-    CoderResult r = utf8.decode(bb, chars, true);
-    if (r.isError()) throw encoding(lineStart + bb.position(), "a byte sequence that is not UTF-8 (e.g. Latin-1 text); save the file as UTF-8");
-    utf8.flush(chars);
-    line++;
-    return chars.flip().toString();
   }
 
-  private BadInputException encoding(long offset, String what) {
-    return new BadInputException(file + ": byte " + offset + " (line " + (line + 1) + "): " + what);
+  /** A refusal of the file's bytes ({@link Utf8Lines}) in this reader's words. */
+  private BadInputException refusal(Utf8Lines.Bad b) {
+    String what = switch (b.fault()) {
+      case TOO_LONG -> null;
+      case UTF16_BOM -> "a UTF-16 byte order mark: save the file as UTF-8";
+      case NUL -> "a NUL byte: the file looks like UTF-16 or binary; save it as UTF-8 text";
+      case CR_INSIDE -> "a carriage return inside a line: the file's lines end in CR alone (classic Mac OS); save it with LF or CRLF line ends";
+      case NOT_UTF8 -> "a byte sequence that is not UTF-8 (e.g. Latin-1 text); save the file as UTF-8";
+    };
+    return new BadInputException(what == null ? file + ": line " + b.line() + " is longer than " + (MAX_LINE_BYTES >> 20) + " MiB"
+        : file + ": byte " + b.offset() + " (line " + b.line() + "): " + what);
   }
 
   /** Column names from the header line, or null if the file has none. */

@@ -9,6 +9,7 @@ import io.actindex.index.store.IndexInfo;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Census;
 import io.actindex.query.IndexBuilder;
+import io.actindex.query.Parallel;
 import io.actindex.query.Progress;
 import java.util.ArrayList;
 import java.util.List;
@@ -50,41 +51,16 @@ public final class IndexReport {
     CodeSearcher searcher = Searchers.build(codes);
     Progress p = progress == null ? Progress.NONE : progress;
     int words = codes.layout().words(), blocks = (n + BLOCK - 1) / BLOCK;
-    java.util.concurrent.atomic.AtomicInteger next = new java.util.concurrent.atomic.AtomicInteger();
-    long[] done = {0};
-    Runnable worker = () -> {
+    // progress in codes: every block but the last holds BLOCK of them
+    Parallel.forEach(blocks, threads, (done, total) -> p.update(Math.min(n, done * BLOCK), n), b -> {
       long[] q = new long[words];
-      for (int b; (b = next.getAndIncrement()) < blocks; ) {
-        int from = b * BLOCK, to = Math.min(n, from + BLOCK);
-        for (int i = from; i < to; i++) {
-          System.arraycopy(codes.words(), i * words, q, 0, words);
-          int self = i;
-          Hits h = searcher.knn(q, 1, o -> o != self, null);
-          out[i] = h.size() == 0 ? -1 : h.dist(0);
-        }
-        synchronized (done) {
-          done[0] += to - from;
-          p.update(done[0], n);
-        }
+      for (int i = b * BLOCK, to = Math.min(n, i + BLOCK); i < to; i++) {
+        System.arraycopy(codes.words(), i * words, q, 0, words);
+        int self = i;
+        Hits h = searcher.knn(q, 1, o -> o != self, null);
+        out[i] = h.size() == 0 ? -1 : h.dist(0);
       }
-    };
-    int workers = Math.max(1, Math.min(threads, blocks));
-    if (workers == 1) {
-      worker.run();
-      return out;
-    }
-    try (java.util.concurrent.ExecutorService pool = java.util.concurrent.Executors.newFixedThreadPool(workers)) {
-      List<java.util.concurrent.Future<?>> running = new ArrayList<>();
-      for (int t = 0; t < workers; t++) running.add(pool.submit(worker));
-      for (java.util.concurrent.Future<?> f : running) f.get();
-    } catch (InterruptedException e) {
-      Thread.currentThread().interrupt();
-      throw new IllegalStateException("interrupted", e);
-    } catch (java.util.concurrent.ExecutionException e) {
-      if (e.getCause() instanceof RuntimeException re) throw re;
-      if (e.getCause() instanceof Error err) throw err;
-      throw new IllegalStateException(e.getCause());
-    }
+    });
     return out;
   }
 
