@@ -197,8 +197,9 @@ final class HeadlessChromium implements AutoCloseable {
       if (!process.waitFor(10, TimeUnit.SECONDS)) process.destroyForcibly().waitFor();
       try (var walk = Files.walk(profile)) {
         for (Path p : walk.sorted(java.util.Comparator.reverseOrder()).toList()) Files.deleteIfExists(p);
-      } catch (IOException ignored) {
-        // chromium may still hold a lock file for a moment; the temp folder is cleaned by the OS
+      } catch (IOException | java.io.UncheckedIOException ignored) {
+        // chromium's helper processes may still add or remove files for a moment (the walk then
+        // fails with a file that vanished): the temp folder is cleaned by the OS
       }
     }
   }
