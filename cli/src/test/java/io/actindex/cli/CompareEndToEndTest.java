@@ -192,6 +192,25 @@ class CompareEndToEndTest {
     return r;
   }
 
+  /** `--threads` defaults to one per core; 1, 3 and the default give the same document (Sinkhorn's rows, permutations, distances). */
+  @Test
+  void threadsGiveTheSameOutput() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(402));
+    float[][] a = new float[45][10], b = new float[31][10];
+    for (float[] row : a) for (int j = 0; j < 10; j++) row[j] = (float) r.nextGaussian();
+    for (float[] row : b) for (int j = 0; j < 10; j++) row[j] = (float) (r.nextGaussian() + 0.5);
+    Path fa = Files2.floats(tmp.resolve("ta.npy"), a), fb = Files2.floats(tmp.resolve("tb.npy"), b);
+    List<String> outputs = new java.util.ArrayList<>();
+    for (List<String> threads : List.of(List.of("--threads", "1"), List.of("--threads", "3"), List.<String>of())) {
+      List<String> args = new java.util.ArrayList<>(List.of("compare", "--a", fa.toString(), "--b", fb.toString(), "--permutations", "200",
+          "--format", "json"));
+      args.addAll(threads);
+      outputs.add(ok(Cli.run(args.toArray(String[]::new))).out());
+    }
+    assertThat(outputs.get(0)).contains("\"method\":\"sinkhorn\"");
+    assertThat(outputs).containsOnly(outputs.get(0));
+  }
+
   @Test
   void activationsGiveTheFloatReferenceAndUnequalSizesUseSinkhorn() throws Exception {
     SplittableRandom r = new SplittableRandom(Randoms.seed(401));

@@ -138,6 +138,20 @@ class RefineFidelityEndToEndTest {
    * brute-force count here), prints a note on stderr and adds the counts at the end of the JSON
    * object and of the CSV rows. Fully labelled (the fixture's index): zeros and no note.
    */
+  /** `--threads` defaults to one per core; 1, 3 and the default give the same document (13 queries: blocks of 8 and a short one). */
+  @Test
+  void fidelityThreadsGiveTheSameOutput() {
+    List<String> outputs = new ArrayList<>();
+    for (List<String> threads : List.of(List.of("--threads", "1"), List.of("--threads", "3"), List.<String>of())) {
+      List<String> args = new ArrayList<>(List.of("fidelity", "--index", idx.toString(), "--queries", "13", "-k", "3", "--format", "json"));
+      args.addAll(threads);
+      Cli.Result r = Cli.run(args.toArray(String[]::new));
+      assertThat(r.code()).as(r.describe()).isZero();
+      outputs.add(r.out());
+    }
+    assertThat(outputs).containsOnly(outputs.get(0));
+  }
+
   @Test
   void queriesWithoutALabelledNeighbourAreCountedAndNoted() {
     int k = 2;

@@ -218,50 +218,14 @@ public final class Fidelity {
     int[] sample = sample(n, p.queries(), new SplittableRandom(p.seed()));
     double[] norms = norms(data.floats(), n, d);
     long[] words = codes.words();
-    boolean labels = data.labels() != null;
     PerQuery[] per = new PerQuery[sample.length];
-    Parallel.forEach(sample.length, p.threads(), progress, t -> {
-      int q = sample[t];
-      int[] ham = new int[n];
-      double[] cos = new double[n];
-      for (int j = 0; j < n; j++) {
-        ham[j] = Hamming.distance(words, q * w, words, j * w, w);
-        cos[j] = cosine(data.floats(), q, j, d, norms);
-      }
-      ham[q] = Integer.MAX_VALUE;
-      cos[q] = Double.POSITIVE_INFINITY;
-      int[] count = new int[d + 2];
-      for (int j = 0; j < n; j++) if (j != q) count[ham[j]]++;
-      int kth = distanceAtRank(count, p.k());
-      int within = 0;
-      for (int t2 = 0; t2 <= kth; t2++) within += count[t2];
-      int[] hamTop = hammingTop(ham, kth, p.k());
-      int[] cosTop = top(cos, p.k());
-      int both = 0;
-      for (int a : hamTop) for (int b : cosTop) if (a == b) both++;
-      String label = labels ? data.labels()[q] : null;
-      String hamVote = null, refVote = null, cosVote = null, eucVote = null;
-      if (label != null) {
-        hamVote = vote(data.labels(), hamTop);
-        cosVote = vote(data.labels(), cosTop);
-        if (data.kept() != null) {
-          int dc = distanceAtRank(count, c);
-          int[] cands = java.util.stream.IntStream.range(0, n).filter(j -> ham[j] <= dc).toArray();
-          int[] cd = new int[cands.length];
-          for (int i = 0; i < cands.length; i++) cd[i] = ham[cands[i]];
-          float[] query = Arrays.copyOfRange(data.floats(), q * d, q * d + d);
-          Refine.Ranked r = Refine.rerank(Hits.sorted(cands, cd, cands.length), query, data.kept(), new float[d], Refine.Metric.COSINE, null, p.k());
-          refVote = vote(data.labels(), r.ids());
-        }
-        if (data.inputs() != null) {
-          double[] euc = new double[n];
-          int iw = data.inputWidth();
-          for (int j = 0; j < n; j++) euc[j] = euclidean(data.inputs(), q, j, iw);
-          euc[q] = Double.POSITIVE_INFINITY;
-          eucVote = vote(data.labels(), top(euc, p.k()));
-        }
-      }
-      per[t] = new PerQuery(both / (double) p.k(), within > p.k(), kth, label, hamVote, refVote, cosVote, eucVote);
+    int blocks = (sample.length + FidelityScan.BLOCK - 1) / FidelityScan.BLOCK;
+    Progress queries = progress == null ? Progress.NONE
+        : (done, total) -> progress.update(Math.min(done * FidelityScan.BLOCK, sample.length), sample.length);
+    Parallel.forEach(blocks, p.threads(), queries, blk -> {
+      int from = blk * FidelityScan.BLOCK, to = Math.min(from + FidelityScan.BLOCK, sample.length);
+      FidelityScan scan = FidelityScan.of(sample, from, to, words, w, data.floats(), d, norms, n, p.k());
+      for (int t = from; t < to; t++) per[t] = measure(data, p, c, sample[t], scan.hamming[t - from], scan.cosineTop[t - from]);
     });
     double overlap = 0, tied = 0, kthSum = 0;
     int labeled = 0;
@@ -289,6 +253,43 @@ public final class Fidelity {
     double ov = overlap / m, ts = tied / m;
     return new Result(n, m, p.k(), p.seed(), data.floatSource(), data.keptBits(), c, ov, rho, pairs, ts, kthSum / m, acc,
         verdict(ov, rho, ts, acc, p.k(), c, n));
+  }
+
+  /** One query's measurements from its Hamming distances to every row ({@code ham}) and its cosine k-NN ({@code cosTop}). */
+  private static PerQuery measure(Data data, Params p, int c, int q, int[] ham, int[] cosTop) {
+    int n = ham.length, d = data.codes().layout().bits();
+    boolean labels = data.labels() != null;
+    int[] count = new int[d + 2];
+    for (int j = 0; j < n; j++) if (j != q) count[ham[j]]++;
+    int kth = distanceAtRank(count, p.k());
+    int within = 0;
+    for (int t2 = 0; t2 <= kth; t2++) within += count[t2];
+    int[] hamTop = hammingTop(ham, kth, p.k());
+    int both = 0;
+    for (int a : hamTop) for (int b : cosTop) if (a == b) both++;
+    String label = labels ? data.labels()[q] : null;
+    String hamVote = null, refVote = null, cosVote = null, eucVote = null;
+    if (label != null) {
+      hamVote = vote(data.labels(), hamTop);
+      cosVote = vote(data.labels(), cosTop);
+      if (data.kept() != null) {
+        int dc = distanceAtRank(count, c);
+        int[] cands = java.util.stream.IntStream.range(0, n).filter(j -> ham[j] <= dc).toArray();
+        int[] cd = new int[cands.length];
+        for (int i = 0; i < cands.length; i++) cd[i] = ham[cands[i]];
+        float[] query = Arrays.copyOfRange(data.floats(), q * d, q * d + d);
+        Refine.Ranked r = Refine.rerank(Hits.sorted(cands, cd, cands.length), query, data.kept(), new float[d], Refine.Metric.COSINE, null, p.k());
+        refVote = vote(data.labels(), r.ids());
+      }
+      if (data.inputs() != null) {
+        double[] euc = new double[n];
+        int iw = data.inputWidth();
+        for (int j = 0; j < n; j++) euc[j] = euclidean(data.inputs(), q, j, iw);
+        euc[q] = Double.POSITIVE_INFINITY;
+        eucVote = vote(data.labels(), top(euc, p.k()));
+      }
+    }
+    return new PerQuery(both / (double) p.k(), within > p.k(), kth, label, hamVote, refVote, cosVote, eucVote);
   }
 
   /**
