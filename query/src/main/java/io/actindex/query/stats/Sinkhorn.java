@@ -22,7 +22,7 @@ import io.actindex.core.BadParameterException;
  * plain step ({@code f <- f + omega (f' - f)}, the same for {@code g}), {@code omega} from the
  * plain iterations' rate of convergence {@code r} as {@code 2 / (1 + sqrt(1 - r))} (Lehmann, von
  * Renesse, Sambale &amp; Uschmajew, "A note on overrelaxation in the Sinkhorn algorithm",
- * Optimization Letters, 2022), at most 1.9. Its fixed point is plain Sinkhorn's. Once a relaxed
+ * Optimization Letters, 2022), at most 1.95. Its fixed point is plain Sinkhorn's. Once a relaxed
  * iteration's column error is below a quarter of {@code tol}, a plain iteration judges the
  * stopping rule (if it fails, the relaxed ones go on to a quarter of that), so the plan reported is
  * one a plain iteration gives. When the relaxed iterations find no smaller error in 50 in a row,
@@ -48,7 +48,7 @@ public final class Sinkhorn {
   private static final int PLAIN = 10;
 
   /** The largest relaxation factor (below 2, where the relaxed iteration stops converging). */
-  private static final double MAX_OMEGA = 1.9;
+  private static final double MAX_OMEGA = 1.95;
 
   /** Relaxed iterations without a new smallest error after which the rest are plain. */
   private static final int STALL = 50;
