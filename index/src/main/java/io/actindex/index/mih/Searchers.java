@@ -73,7 +73,7 @@ public final class Searchers {
    * at most {@code log2 n} bits. When their keys carry much less entropy than {@code log2 n}
    * (correlated bits: large buckets), a layout with proportionally fewer, wider tables is built too,
    * and kept instead only when the tables' work for typical queries, counted and priced with fixed
-   * costs ({@link #typicalWork}), is under {@link #WIDER_SHARE} of the first layout's: the choice
+   * costs ({@code typicalWork}), is under {@code WIDER_SHARE} of the first layout's: the choice
    * depends on the codes alone, not on the costs this build measured.
    */
   public static CodeSearcher build(CodeBlock codes, SearchPlanOptions opts) {
