@@ -34,12 +34,20 @@ public final class NearestOthers {
    * the scalar loop does eight distances per code.
    */
   private static final double GROUP_CODE = 2, GROUP_CODE_SCALAR = 8;
+  /**
+   * Fewest distinct codes for the Vector API loops ({@link ScanKernel#LEAST8_LOOPS}); below, the
+   * scalar loops. Until compiled the vector loops are slow (boxed vectors): over 5,000 ReLU codes of
+   * 256 bits the pass took 1.0 s of CPU with them, 0.67 s one search per code; over 20,000, 1.15 s
+   * and 1.20 s.
+   */
+  private static final int VECTOR_FROM = 20_000;
 
   private final CodeBlock codes;
   private final DistinctCodes distinct;
   private final MihSearcher searcher; // over the distinct codes
   private final Partition partition; // of the distinct codes; null: each code searched alone
   private final int[] answer; // by distinct code
+  private final Loops loops;
   private final double groupCode;
   private final int maxRadius; // the largest radius of any cluster
 
@@ -53,7 +61,8 @@ public final class NearestOthers {
     int r = 0;
     if (partition != null) for (int x : partition.maxRadius) r = Math.max(r, x);
     this.maxRadius = r;
-    this.groupCode = (ScanKernel.LEAST8_LOOPS == Loops.VECTOR ? GROUP_CODE : GROUP_CODE_SCALAR)
+    this.loops = d.size() >= VECTOR_FROM ? ScanKernel.LEAST8_LOOPS : Loops.SCALAR;
+    this.groupCode = (loops == Loops.VECTOR ? GROUP_CODE : GROUP_CODE_SCALAR)
         * (searcher == null ? 1 : searcher.cost.partitionCode());
   }
 
@@ -108,7 +117,7 @@ public final class NearestOthers {
     }
     Arrays.fill(best, Long.MAX_VALUE);
     // the clusters by the nearest of the group's distances to their centres (packed, sorted)
-    ScanKernel.distances8(q, p.centres, w, 0, clusters, dq);
+    ScanKernel.distances8(loops, q, p.centres, w, 0, clusters, dq);
     long[] order = new long[clusters];
     for (int c = 0; c < clusters; c++) {
       long least = Long.MAX_VALUE;
@@ -129,8 +138,8 @@ public final class NearestOthers {
       int lo = (int) (window >>> 32), hi = (int) window;
       if (lo >= hi) continue;
       // the group's own positions are read apart, each code skipping itself
-      ScanKernel.least8(q, pc, w, lo, Math.min(hi, g), best);
-      ScanKernel.least8(q, pc, w, Math.max(lo, g + m), hi, best);
+      ScanKernel.least8(loops, q, pc, w, lo, Math.min(hi, g), best);
+      ScanKernel.least8(loops, q, pc, w, Math.max(lo, g + m), hi, best);
       for (int y = Math.max(lo, g); y < Math.min(hi, g + m); y++)
         for (int i = 0; i < m; i++)
           if (y != g + i) best[i] = Math.min(best[i], Hamming.distance(pc, y * w, pc, (g + i) * w, w));

@@ -6,6 +6,7 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Randoms;
 import io.actindex.core.SyntheticCodes;
+import io.actindex.index.mih.DistinctCodes;
 import java.util.ArrayList;
 import java.util.List;
 import java.util.SplittableRandom;
@@ -15,27 +16,31 @@ import org.junit.jupiter.api.Test;
  * {@link IndexReport#nearestOther} (grouped searches over the partition, or one search per code)
  * on one thread and on several against a plain loop over every pair: uniform codes (short ones,
  * where the tables win, and long ones) and skewed ReLU-like codes of 64 to 288 bits, from a few
- * codes to more than a partition needs (4,096 distinct codes), with exact copies planted (distance
- * 0), near copies (ties at small distances) and a crowd of one code.
+ * codes to more than a partition needs (4,096 distinct codes) and than the vector loops need
+ * (20,000), with exact copies planted (distance 0), near copies (ties at small distances) and a
+ * crowd of one code.
  */
 class NearestOtherTest {
   @Test
   void everyThreadCountGivesTheBruteForceDistances() {
-    for (int rep = 0; rep < 24; rep++) {
+    for (int rep = 0; rep < 26; rep++) {
       long seed = Randoms.seed(rep);
       String why = Randoms.describe(seed);
       SplittableRandom rnd = new SplittableRandom(seed);
-      int n = rep % 3 == 0 ? 1 + rnd.nextInt(3000) : 4500 + rnd.nextInt(3500);
-      CodeBlock codes = switch (rep % 4) {
+      // past 20,000 distinct codes (after the copies) the groups run the Vector API loops where the JVM has them
+      int n = rep >= 24 ? 28_000 + rnd.nextInt(1000) : rep % 3 == 0 ? 1 + rnd.nextInt(3000) : 4500 + rnd.nextInt(3500);
+      CodeBlock codes = switch (rep >= 24 ? 2 : rep % 4) {
         case 0 -> SyntheticCodes.uniform(n, 16 + rnd.nextInt(100), seed);
         case 1 -> SyntheticCodes.uniform(n, 200 + rnd.nextInt(300), seed);
-        default -> SyntheticCodes.reluLike(n, 32 + rnd.nextInt(100), 32 + rnd.nextInt(100), seed).codes();
+        default -> rep >= 24 ? SyntheticCodes.reluLike(n, 96 + rnd.nextInt(32), 96 + rnd.nextInt(32), seed).codes()
+            : SyntheticCodes.reluLike(n, 32 + rnd.nextInt(100), 32 + rnd.nextInt(100), seed).codes();
       };
       codes = withCopies(codes, rnd);
+      if (rep >= 24) assertEquals(true, DistinctCodes.of(codes).count() >= 20_000, why + " enough distinct codes for the vector loops");
       int[] expected = bruteForce(codes);
       List<long[]> updates = new ArrayList<>();
       assertArrayEquals(expected, IndexReport.nearestOther(codes, null), why + " threads 1, n " + n);
-      for (int threads : new int[] {2, 3, 7}) {
+      for (int threads : rep >= 24 ? new int[] {2} : new int[] {2, 3, 7}) {
         updates.clear();
         int[] got = IndexReport.nearestOther(codes, threads, (done, total) -> updates.add(new long[] {done, total}));
         assertArrayEquals(expected, got, why + " threads " + threads + ", n " + n);
