@@ -202,14 +202,8 @@ public final class ScanKernel {
 
   /**
    * Eight queries (laid out as for {@link #least8}) against the codes at positions {@code [from,
-   * to)}: the distance of query i to the code at y in {@code out[8 * (y - from) + i]}, through the
-   * loops {@link #least8} runs.
+   * to)}: the distance of query i to the code at y in {@code out[8 * (y - from) + i]}.
    */
-  public static void distances8(long[] q, long[] data, int w, int from, int to, long[] out) {
-    distances8(LEAST8_LOOPS, q, data, w, from, to, out);
-  }
-
-  /** As {@link #distances8(long[], long[], int, int, int, long[])} through the given loops (tests). */
   public static void distances8(Loops loops, long[] q, long[] data, int w, int from, int to, long[] out) {
     if (loops == Loops.VECTOR) {
       VectorKernel.distances8(q, data, w, from, to, out);
@@ -223,22 +217,15 @@ public final class ScanKernel {
       }
   }
 
-  /** The loops {@link #least8} runs (see there). */
-  public static final Loops LEAST8_LOOPS = Loops.vectorUsable() ? Loops.VECTOR : Loops.SCALAR;
-
   /**
    * Eight queries against one run of codes: lowers {@code best[i]} to the least distance of query
    * {@code i} (its word j at {@code q[8 * j + i]}) to the codes at positions {@code [from, to)} of
    * {@code data} (codes of {@code w} words). For passes over every code of a block (all nearest
-   * others), each code is read once for eight queries. Through the Vector API whenever the JVM has
-   * it ({@link Loops#vectorUsable}), not only under {@link Loops#VECTOR}: such a pass runs long
-   * enough to repay the compilation; else eight scalar distances per code. Same answer either way.
+   * others), each code is read once for eight queries. The loops are the caller's choice, not
+   * {@link Loops#CHOSEN}: such a pass may run long enough to repay compiling the vector loops
+   * ({@code VECTOR} only where {@link Loops#vectorUsable}); eight scalar distances per code
+   * otherwise. Same answer either way.
    */
-  public static void least8(long[] q, long[] data, int w, int from, int to, long[] best) {
-    least8(LEAST8_LOOPS, q, data, w, from, to, best);
-  }
-
-  /** As {@link #least8(long[], long[], int, int, int, long[])} through the given loops (tests; {@code VECTOR} only where usable). */
   public static void least8(Loops loops, long[] q, long[] data, int w, int from, int to, long[] best) {
     if (from >= to) return;
     if (loops == Loops.VECTOR) {

@@ -35,7 +35,7 @@ public final class NearestOthers {
    */
   private static final double GROUP_CODE = 2, GROUP_CODE_SCALAR = 8;
   /**
-   * Fewest distinct codes for the Vector API loops ({@link ScanKernel#LEAST8_LOOPS}); below, the
+   * Fewest distinct codes for the Vector API loops (where {@link Loops#vectorUsable}); below, the
    * scalar loops. Until compiled the vector loops are slow (boxed vectors): over 5,000 ReLU codes of
    * 256 bits the pass took 1.0 s of CPU with them, 0.67 s one search per code; over 20,000, 1.15 s
    * and 1.20 s.
@@ -61,7 +61,7 @@ public final class NearestOthers {
     int r = 0;
     if (partition != null) for (int x : partition.maxRadius) r = Math.max(r, x);
     this.maxRadius = r;
-    this.loops = d.size() >= VECTOR_FROM ? ScanKernel.LEAST8_LOOPS : Loops.SCALAR;
+    this.loops = d.size() >= VECTOR_FROM && Loops.vectorUsable() ? Loops.VECTOR : Loops.SCALAR;
     this.groupCode = (loops == Loops.VECTOR ? GROUP_CODE : GROUP_CODE_SCALAR)
         * (searcher == null ? 1 : searcher.cost.partitionCode());
   }
