@@ -201,6 +201,46 @@ public final class ScanKernel {
   }
 
   /**
+   * Eight queries (laid out as for {@link #least8}) against the codes at positions {@code [from,
+   * to)}: the distance of query i to the code at y in {@code out[8 * (y - from) + i]}.
+   */
+  public static void distances8(Loops loops, long[] q, long[] data, int w, int from, int to, long[] out) {
+    if (loops == Loops.VECTOR) {
+      VectorKernel.distances8(q, data, w, from, to, out);
+      return;
+    }
+    for (int y = from, off = from * w; y < to; y++, off += w)
+      for (int i = 0; i < 8; i++) {
+        long d = 0;
+        for (int j = 0; j < w; j++) d += Long.bitCount(data[off + j] ^ q[8 * j + i]);
+        out[8 * (y - from) + i] = d;
+      }
+  }
+
+  /**
+   * Eight queries against one run of codes: lowers {@code best[i]} to the least distance of query
+   * {@code i} (its word j at {@code q[8 * j + i]}) to the codes at positions {@code [from, to)} of
+   * {@code data} (codes of {@code w} words). For passes over every code of a block (all nearest
+   * others), each code is read once for eight queries. The loops are the caller's choice, not
+   * {@link Loops#CHOSEN}: such a pass may run long enough to repay compiling the vector loops
+   * ({@code VECTOR} only where {@link Loops#vectorUsable}); eight scalar distances per code
+   * otherwise. Same answer either way.
+   */
+  public static void least8(Loops loops, long[] q, long[] data, int w, int from, int to, long[] best) {
+    if (from >= to) return;
+    if (loops == Loops.VECTOR) {
+      VectorKernel.least8(q, data, w, from, to, best);
+      return;
+    }
+    for (int off = from * w, end = to * w; off < end; off += w)
+      for (int i = 0; i < 8; i++) {
+        long d = 0;
+        for (int j = 0; j < w; j++) d += Long.bitCount(data[off + j] ^ q[8 * j + i]);
+        if (d < best[i]) best[i] = d;
+      }
+  }
+
+  /**
    * Offers one code that passed the distance test; returns the new bound. A code tied with the
    * k-th distance of a full top enters only with a smaller ordinal (checked before the filter). Without {@code ords}
    * the ordinals rise with the position, so once the top is full a code tied with the k-th

@@ -64,6 +64,41 @@ final class VectorKernel {
     };
   }
 
+  /**
+   * {@link ScanKernel#least8} for codes of {@code w} words: each code's words broadcast to the eight
+   * lanes, XORed with the eight queries' words (one vector per word), a popcount per lane, summed:
+   * eight distances per code, kept as the lanewise minimum.
+   */
+  static void least8(long[] q, long[] data, int w, int from, int to, long[] best) {
+    LongVector least = LongVector.fromArray(S, best, 0);
+    if (w == 4) {
+      LongVector q0 = LongVector.fromArray(S, q, 0), q1 = LongVector.fromArray(S, q, 8), q2 = LongVector.fromArray(S, q, 16),
+          q3 = LongVector.fromArray(S, q, 24);
+      for (int off = from * 4, end = to * 4; off < end; off += 4)
+        least = least.min(bits(data[off], q0).add(bits(data[off + 1], q1)).add(bits(data[off + 2], q2)).add(bits(data[off + 3], q3)));
+    } else {
+      for (int off = from * w, end = to * w; off < end; off += w) {
+        LongVector d = bits(data[off], LongVector.fromArray(S, q, 0));
+        for (int j = 1; j < w; j++) d = d.add(bits(data[off + j], LongVector.fromArray(S, q, 8 * j)));
+        least = least.min(d);
+      }
+    }
+    least.intoArray(best, 0);
+  }
+
+  /** {@link ScanKernel#distances8}: as {@link #least8}, each code's eight distances stored instead. */
+  static void distances8(long[] q, long[] data, int w, int from, int to, long[] out) {
+    for (int y = from, off = from * w; y < to; y++, off += w) {
+      LongVector d = bits(data[off], LongVector.fromArray(S, q, 0));
+      for (int j = 1; j < w; j++) d = d.add(bits(data[off + j], LongVector.fromArray(S, q, 8 * j)));
+      d.intoArray(out, 8 * (y - from));
+    }
+  }
+
+  private static LongVector bits(long word, LongVector q) {
+    return LongVector.broadcast(S, word).lanewise(VectorOperators.XOR, q).lanewise(VectorOperators.BIT_COUNT);
+  }
+
   /** [a0+a1, a2+a3, a4+a5, a6+a7, b0+b1, b2+b3, b4+b5, b6+b7]. */
   private static LongVector pair(LongVector a, LongVector b) {
     return EVEN.selectFrom(a, b).add(ODD.selectFrom(a, b));

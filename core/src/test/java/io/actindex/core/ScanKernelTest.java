@@ -142,6 +142,45 @@ class ScanKernelTest {
   /** Codes of which thousands tie over {@code layer} (null: over every bit). */
   private record Tied(CodeBlock codes, long[] layer) {}
 
+  /**
+   * {@link ScanKernel#least8} and {@link ScanKernel#distances8} through each loop this JVM has: each
+   * of eight queries' least distance to a run of codes (starting best values kept where smaller,
+   * runs empty or odd-sized), and every distance, against a plain loop over the pairs, at every
+   * width of {@code WORDS}.
+   */
+  @Test
+  void eightQueriesAtOnceEqualThePairs() {
+    for (int rep = 0; rep < 80; rep++) {
+      long seed = Randoms.seed(rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      int words = WORDS[rep % WORDS.length], bits = 64 * (words - 1) + 1 + rnd.nextInt(64), n = 1 + rnd.nextInt(300);
+      CodeBlock codes = rep % 2 == 0 ? SyntheticCodes.uniform(n, bits, seed) : SyntheticCodes.reluLike(n, bits / 2, bits - bits / 2, seed).codes();
+      int w = codes.wordsPerCode(), from = rnd.nextInt(n + 1), to = from + rnd.nextInt(n - from + 1);
+      long[] q = new long[8 * w], start = new long[8], expected = new long[8], all = new long[8 * (to - from)];
+      for (int i = 0; i < 8; i++) {
+        long[] code = codes.code(rnd.nextInt(n));
+        if (rnd.nextBoolean()) code[0] ^= 1L << rnd.nextInt(64);
+        for (int j = 0; j < w; j++) q[8 * j + i] = code[j];
+        start[i] = expected[i] = rnd.nextBoolean() ? Long.MAX_VALUE : rnd.nextInt(bits + 1);
+        for (int y = from; y < to; y++) {
+          long d = 0;
+          for (int j = 0; j < w; j++) d += Long.bitCount(codes.words()[y * w + j] ^ code[j]);
+          expected[i] = Math.min(expected[i], d);
+          all[8 * (y - from) + i] = d;
+        }
+      }
+      for (Loops loops : Loops.vectorUsable() ? Loops.values() : new Loops[] {Loops.SCALAR}) {
+        long[] best = start.clone();
+        ScanKernel.least8(loops, q, codes.words(), w, from, to, best);
+        String why = Randoms.describe(seed) + " " + loops + " bits " + bits + " codes " + from + ".." + to;
+        org.junit.jupiter.api.Assertions.assertArrayEquals(expected, best, why);
+        long[] got = new long[all.length];
+        ScanKernel.distances8(loops, q, codes.words(), w, from, to, got);
+        org.junit.jupiter.api.Assertions.assertArrayEquals(all, got, why);
+      }
+    }
+  }
+
   /** Uniform or ReLU-like codes cut into layers, a layer mask (null for every fifth rep), and one layer copied from a few codes. */
   private static Tied tied(int rep, int n, int bits, long seed, SplittableRandom rnd) {
     CodeBlock base = LayerMasks.cut(rep % 2 == 0 ? SyntheticCodes.uniform(n, bits, seed)

@@ -2,9 +2,7 @@ package io.actindex.query.report;
 
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
-import io.actindex.core.CodeSearcher;
-import io.actindex.core.Hits;
-import io.actindex.index.mih.Searchers;
+import io.actindex.index.mih.NearestOthers;
 import io.actindex.index.store.IndexInfo;
 import io.actindex.index.store.IndexReader;
 import io.actindex.query.Census;
@@ -37,31 +35,19 @@ public final class IndexReport {
     return nearestOther(codes, 1, progress);
   }
 
-  /** Codes one worker takes at a time (and between progress updates). */
-  static final int BLOCK = 1024;
-
   /**
-   * As {@link #nearestOther(CodeBlock, Progress)} on up to {@code threads} threads sharing one searcher
-   * (each code's search is independent, so the answer does not depend on {@code threads}).
+   * As {@link #nearestOther(CodeBlock, Progress)} on up to {@code threads} threads ({@link
+   * NearestOthers}: the searches grouped, the groups' tasks run in any order, so the answer does not
+   * depend on {@code threads}). Progress counts codes, in proportion to the tasks done.
    */
   public static int[] nearestOther(CodeBlock codes, int threads, Progress progress) {
     int n = codes.size();
-    int[] out = new int[n];
-    if (n == 0) return out;
-    CodeSearcher searcher = Searchers.build(codes);
+    if (n == 0) return new int[0];
+    NearestOthers all = NearestOthers.of(codes);
     Progress p = progress == null ? Progress.NONE : progress;
-    int words = codes.layout().words(), blocks = (n + BLOCK - 1) / BLOCK;
-    // progress in codes: every block but the last holds BLOCK of them
-    Parallel.forEach(blocks, threads, (done, total) -> p.update(Math.min(n, done * BLOCK), n), b -> {
-      long[] q = new long[words];
-      for (int i = b * BLOCK, to = Math.min(n, i + BLOCK); i < to; i++) {
-        System.arraycopy(codes.words(), i * words, q, 0, words);
-        int self = i;
-        Hits h = searcher.knn(q, 1, o -> o != self, null);
-        out[i] = h.size() == 0 ? -1 : h.dist(0);
-      }
-    });
-    return out;
+    int tasks = all.tasks();
+    Parallel.forEach(tasks, threads, (done, total) -> p.update(done * n / total, n), all::run);
+    return all.result();
   }
 
   /** Renders the page's fixed sections into {@code page}. */
