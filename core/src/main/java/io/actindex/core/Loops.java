@@ -8,7 +8,9 @@ package io.actindex.core;
  * compiled them, which a one-shot command never earns back (docs/benchmarks.md, "Vector API
  * loops"): they are for long runs (a large {@code dupes}, a server, batches of queries), e.g.
  * {@code ACTINDEX_JAVA_OPTS=-Dactindex.simd=true bin/actindex ...}. Either way the results are
- * the same.
+ * the same. One caller runs long enough to repay them whatever the property says: the all-codes
+ * nearest-other pass of {@code report} ({@code NearestOthers} in the index module) takes {@link
+ * #VECTOR} wherever {@link #vectorUsable()}, from 20,000 distinct codes.
  */
 public enum Loops {
   /** {@code Long.bitCount}, one code at a time: the reference, always usable. */
