@@ -187,6 +187,69 @@ class CompareEndToEndTest {
     assertThat(inferred).isEqualTo(ok(Cli.run(concat(onCodes, "--kind", "codes"))).out()).doesNotContain("binarized");
   }
 
+  /**
+   * Samples of model inputs (with an index built from the model, or with --model) come with the
+   * full-precision reference: the model's hidden activations on them, the same statistics as those
+   * activations given as --a-floats/--b-floats (computed here by hand in double, saved as float32);
+   * with --layers only that layer's units. A float file given for one sample is used for it.
+   */
+  @Test
+  void inputsThroughAModelGiveTheFloatReference() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(402));
+    int inputs = 3;
+    // float32 values (the weights may be stored as float32), so that the computation by hand below uses the model's own weights
+    double[] w0 = r.doubles(4L * inputs, -1, 1).map(v -> (float) v).toArray(), b0 = r.doubles(4, -0.5, 0.5).map(v -> (float) v).toArray();
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {4, inputs}, w0));
+    t.put("0.bias", new SafetensorsWriter.Tensor(new long[] {4}, b0));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {3, 4}, r.doubles(12, -1, 1).toArray()));
+    t.put("2.bias", new SafetensorsWriter.Tensor(new long[] {3}, r.doubles(3, -0.5, 0.5).toArray()));
+    t.put("4.weight", new SafetensorsWriter.Tensor(new long[] {2, 3}, r.doubles(6, -1, 1).toArray()));
+    Path model = tmp.resolve("m.safetensors");
+    SafetensorsWriter.write(model, t, Map.of());
+    float[][] xa = SourcesEndToEndTest.activations(20, inputs, r), xb = SourcesEndToEndTest.activations(16, inputs, r);
+    for (float[] row : xb) row[0] += 1; // a shift
+    Path ia = Files2.floats(tmp.resolve("ia.npy"), xa), ib = Files2.floats(tmp.resolve("ib.npy"), xb);
+    Path idx = tmp.resolve("idx");
+    ok(Cli.run("build", "--out", idx.toString(), "--model", model.toString(), "--inputs", ia.toString()));
+    // the first hidden layer by hand: ReLU(W0 x + b0), in double, kept as float32 as activations files are
+    Path ha = Files2.floats(tmp.resolve("ha.npy"), firstLayer(xa, w0, b0)), hb = Files2.floats(tmp.resolve("hb.npy"), firstLayer(xb, w0, b0));
+    String[] common = {"--a", ia.toString(), "--b", ib.toString(), "--permutations", "50", "--format", "json", "--layers", "0"};
+    JsonNode byHand = NearestEndToEndTest.json(concat(concat(new String[] {"compare", "--index", idx.toString()}, common),
+        "--a-floats", ha.toString(), "--b-floats", hb.toString()));
+    assertThat(byHand.get("floats").get("columns").asInt()).isEqualTo(4);
+    for (String[] how : List.of(new String[] {"compare", "--index", idx.toString()}, new String[] {"compare", "--model", model.toString(),
+        "--kind", "inputs"})) {
+      JsonNode doc = NearestEndToEndTest.json(concat(how, common));
+      String what = String.join(" ", how);
+      assertThat(doc.get("floats_absent").isNull()).as(what).isTrue();
+      assertThat(doc.get("floats").get("columns").asInt()).as(what).isEqualTo(4);
+      assertThat(doc.get("floats").get("frechet").asDouble()).as(what).isCloseTo(byHand.get("floats").get("frechet").asDouble(), within(1e-9));
+      assertThat(doc.get("floats").get("mmd").get("mmd2").asDouble()).as(what)
+          .isCloseTo(byHand.get("floats").get("mmd").get("mmd2").asDouble(), within(1e-12));
+      assertThat(doc.get("notes").toString()).as(what).contains("float sample A: the model's hidden activations (after ReLU) on " + ia + ", 4 units");
+      // B's floats from a file: used for B, A's from the model
+      JsonNode mixed = NearestEndToEndTest.json(concat(concat(how, common), "--b-floats", hb.toString()));
+      assertThat(mixed.get("floats").get("frechet").asDouble()).as(what).isCloseTo(byHand.get("floats").get("frechet").asDouble(), within(1e-9));
+      assertThat(mixed.get("notes").toString()).as(what).contains("float sample A:").doesNotContain("float sample B:");
+    }
+    // every hidden layer: 4 + 3 units
+    JsonNode all = NearestEndToEndTest.json("compare", "--index", idx.toString(), "--a", ia.toString(), "--b", ib.toString(), "--permutations", "20",
+        "--format", "json");
+    assertThat(all.get("floats").get("columns").asInt()).isEqualTo(7);
+  }
+
+  private static float[][] firstLayer(float[][] x, double[] w, double[] b) {
+    float[][] h = new float[x.length][b.length];
+    for (int i = 0; i < x.length; i++)
+      for (int o = 0; o < b.length; o++) {
+        double s = b[o];
+        for (int j = 0; j < x[i].length; j++) s += w[o * x[i].length + j] * x[i][j];
+        h[i][o] = (float) Math.max(0, s);
+      }
+    return h;
+  }
+
   private static Cli.Result ok(Cli.Result r) {
     assertThat(r.code()).as(r.describe()).isZero();
     return r;

@@ -189,27 +189,33 @@ public final class Compare {
   public static Result run(Params p, Progress progress) {
     Progress prog = progress == null ? Progress.NONE : progress;
     CodeBlock a, b;
+    float[] modelA, modelB; // a model's hidden activations on a sample of inputs without a floats file, in the layout of its codes
     List<String> notes = new ArrayList<>();
     Sample sa = p.a(), sb = p.b();
     if (p.index() != null) {
       try (IndexReader reader = IndexReader.open(p.index())) {
         sa = ofIndexKind(reader, sa);
         sb = ofIndexKind(reader, sb);
-        QuerySource.Encoded ea = load(reader, sa, "A", prog, notes), eb = load(reader, sb, "B", prog, notes);
+        QuerySource.Encoded ea = load(reader, sa, "A", prog, notes, modelFloats(sa, p.aFloats())),
+            eb = load(reader, sb, "B", prog, notes, modelFloats(sb, p.bFloats()));
         // each file was checked against the build's header; B against A too (an index built from .npy records none)
         if (sb.source() != null)
           SourceColumns.check(ea.columns(), "sample A (" + sa.brief() + ")", eb.columns(), sb.source().file().toString());
         a = ea.codes();
         b = eb.codes();
+        modelA = ea.activations();
+        modelB = eb.activations();
       }
     } else {
       EncodeOptions enc = p.encode() == null ? EncodeOptions.positive() : p.encode();
-      Encoding.Read ra = read(sa.source(), p, enc, prog);
+      Encoding.Read ra = read(sa.source(), p, enc, prog, modelFloats(sa, p.aFloats()));
       // B is encoded with A's options: with per-neuron medians, A's medians (A is the reference)
-      Encoding.Read rb = read(sb.source(), p, ra.options() == null ? enc : ra.options(), prog);
+      Encoding.Read rb = read(sb.source(), p, ra.options() == null ? enc : ra.options(), prog, modelFloats(sb, p.bFloats()));
       SourceColumns.check(ra.columns(), "sample A (" + sa.source().file() + ")", rb.columns(), sb.source().file().toString());
       a = ra.codes();
       b = rb.codes();
+      modelA = ra.activations();
+      modelB = rb.activations();
       if (ra.notes() != null) notes.addAll(ra.notes());
       if (rb.notes() != null) notes.addAll(rb.notes());
       if (!a.layout().equals(b.layout()))
@@ -217,6 +223,7 @@ public final class Compare {
             + " bits), sample A " + a.layout() + " (" + a.layout().bits() + " bits)"
             + notes.stream().filter(n -> n.contains("looks like a row index")).map(n -> "; " + n).collect(java.util.stream.Collectors.joining()));
     }
+    CodeLayout full = a.layout();
     if (!p.layers().isEmpty()) {
       CodeLayout target = subLayout(a.layout(), p.layers());
       a = Layers.project(a, target);
@@ -224,16 +231,16 @@ public final class Compare {
     }
     checkRows(a, sa, "A");
     checkRows(b, sb, "B");
-    FloatFile ffa = floats(p.aFloats(), sa, p, "A"), ffb = floats(p.bFloats(), sb, p, "B");
+    FloatFile ffa = modelA != null ? modelFloats(modelA, full, a, sa, "A", notes) : floats(p.aFloats(), sa, p, "A"),
+        ffb = modelB != null ? modelFloats(modelB, full, b, sb, "B", notes) : floats(p.bFloats(), sb, p, "B");
     FloatSample fa = ffa == null ? null : ffa.values(), fb = ffb == null ? null : ffb.values();
     for (FloatFile f : new FloatFile[] {ffa, ffb}) // how a float file was read, unless its sample's file (the same) said so
       if (f != null) for (String n : f.notes()) if (!notes.contains(n)) notes.add(n);
     if (fa != null && fb != null) // both hold activations of the same units: read by position like the samples
-      SourceColumns.check(ffa.columns(), "float sample A (" + floatsFile(p.aFloats(), sa) + ")", ffb.columns(),
-          floatsFile(p.bFloats(), sb).toString());
+      SourceColumns.check(ffa.columns(), "float sample A (" + floatsName(p.aFloats(), sa) + ")", ffb.columns(), floatsName(p.bFloats(), sb));
     if (fa != null && fb != null && fa.cols() != fb.cols()) {
-      throw new BadInputException(floatsFile(p.bFloats(), sb) + ": float sample B has " + fb.cols()
-          + " columns, float sample A (" + floatsFile(p.aFloats(), sa) + ") " + fa.cols());
+      throw new BadInputException(floatsName(p.bFloats(), sb) + ": float sample B has " + fb.cols()
+          + " columns, float sample A (" + floatsName(p.aFloats(), sa) + ") " + fa.cols());
     }
     checkPairing(fa, a, p.aFloats(), sa, "A");
     checkPairing(fb, b, p.bFloats(), sb, "B");
@@ -395,9 +402,9 @@ public final class Compare {
   }
 
   /** A sample's codes (and a file's column names) from the index: a file encoded as the index was built, or the examples --where selects. */
-  private static QuerySource.Encoded load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
+  private static QuerySource.Encoded load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes, boolean activations) {
     if (s.source() != null)
-      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes, false);
+      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes, activations);
     IdSet ids;
     try {
       ids = Where.select(reader.meta(), s.where());
@@ -418,13 +425,31 @@ public final class Compare {
     return new QuerySource.Encoded(new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w)), null, null);
   }
 
-  private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog) {
+  private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog, boolean activations) {
     Source src = s;
     if (s.kind() == Source.Kind.INPUTS && s.model() == null) {
       if (p.model() == null) throw new BadInputException(s.file() + ": inputs need a model (`model` FILE) or an index that stores one");
       src = Source.inputs(s.file(), p.model());
     }
-    return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog);
+    return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog, activations);
+  }
+
+  /** Whether a sample's floats are the model's hidden activations on it: a file of inputs, and no floats file given for it. */
+  private static boolean modelFloats(Sample s, Path given) {
+    return given == null && s.source() != null && s.source().kind() == Source.Kind.INPUTS;
+  }
+
+  /**
+   * The model's hidden activations on a sample of inputs (after ReLU, {@code full}'s columns) as its
+   * floats, on the compared layers ({@code codes}' layout), with a note saying where they come from.
+   */
+  private static FloatFile modelFloats(float[] acts, CodeLayout full, CodeBlock codes, Sample s, String which, List<String> notes) {
+    int[] cols = Layers.columns(full, codes.layout());
+    float[] picked = Layers.pickColumns(acts, codes.size(), full.bits(), cols);
+    double[] values = new double[picked.length];
+    for (int i = 0; i < picked.length; i++) values[i] = picked[i];
+    notes.add("float sample " + which + ": the model's hidden activations (after ReLU) on " + s.brief() + ", " + cols.length + " units");
+    return new FloatFile(new FloatSample(codes.size(), cols.length, values), null, List.of());
   }
 
   private static CodeLayout subLayout(CodeLayout layout, List<String> names) {
@@ -460,6 +485,12 @@ public final class Compare {
     int rows = f.values().rows();
     if (rows < 2) throw new BadInputException(file + ": float sample " + which + " has " + rows + " rows; at least 2 are needed");
     return f;
+  }
+
+  /** Where a sample's floats come from, for messages: {@link #floatsFile}, else the model run on the sample's inputs. */
+  private static String floatsName(Path given, Sample s) {
+    Path file = floatsFile(given, s);
+    return file != null ? file.toString() : "the model's hidden activations on " + s.brief();
   }
 
   /** The file a sample's floats come from: the given one, else the sample's own activations file, else null. */
