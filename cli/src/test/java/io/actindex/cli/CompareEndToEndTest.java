@@ -233,6 +233,12 @@ class CompareEndToEndTest {
       assertThat(mixed.get("floats").get("frechet").asDouble()).as(what).isCloseTo(byHand.get("floats").get("frechet").asDouble(), within(1e-9));
       assertThat(mixed.get("notes").toString()).as(what).contains("float sample A:").doesNotContain("float sample B:");
     }
+    // --model alone: the files are its inputs (was refused: "--model goes with --kind inputs")
+    String[] bare = concat(new String[] {"compare", "--model", model.toString()}, common);
+    assertThat(ok(Cli.run(bare)).out()).isEqualTo(ok(Cli.run(concat(bare, "--kind", "inputs"))).out());
+    Cli.Result asActivations = Cli.run(concat(bare, "--kind", "activations"));
+    assertThat(asActivations.code()).as(asActivations.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(asActivations.err()).as(asActivations.describe()).contains("--model goes with --kind inputs");
     // every hidden layer: 4 + 3 units
     JsonNode all = NearestEndToEndTest.json("compare", "--index", idx.toString(), "--a", ia.toString(), "--b", ib.toString(), "--permutations", "20",
         "--format", "json");
