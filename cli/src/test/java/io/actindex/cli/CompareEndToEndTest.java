@@ -245,6 +245,31 @@ class CompareEndToEndTest {
     assertThat(all.get("floats").get("columns").asInt()).isEqualTo(7);
   }
 
+  /**
+   * A sample of more rows x hidden units than {@link Compare#MODEL_FLOATS_MAX} keeps no model floats
+   * (they would take gigabytes, or not fit in one array): a note says so and names --a-floats; the
+   * other sample's are still kept.
+   */
+  @Test
+  void tooManyModelActivationsAreNotKeptAsFloats() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(403));
+    int hidden = 4096, rows = (int) (Compare.MODEL_FLOATS_MAX / hidden) + 1;
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {hidden, 2}, r.doubles(2L * hidden, -1, 1).toArray()));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, hidden}, r.doubles(2L * hidden, -1, 1).toArray()));
+    Path model = tmp.resolve("wide.safetensors");
+    SafetensorsWriter.write(model, t, Map.of());
+    Path a = Files2.floats(tmp.resolve("a.npy"), SourcesEndToEndTest.activations(rows, 2, r));
+    Path b = Files2.floats(tmp.resolve("b.npy"), SourcesEndToEndTest.activations(8, 2, r));
+    JsonNode doc = NearestEndToEndTest.json("compare", "--model", model.toString(), "--a", a.toString(), "--b", b.toString(),
+        "--permutations", "1", "--matrix-rows", "2", "--sinkhorn-rows", "2", "--format", "json");
+    assertThat(doc.get("floats").isNull()).isTrue();
+    assertThat(doc.get("floats_absent").asText()).startsWith("no float activations for A ");
+    assertThat(doc.get("notes").toString()).contains("float sample A: the model's hidden activations on " + a + " are not kept as its floats: "
+        + rows + " rows of " + hidden + " units are more than " + Compare.MODEL_FLOATS_MAX + " values; give --a-floats")
+        .contains("float sample B: the model's hidden activations (after ReLU) on " + b);
+  }
+
   private static float[][] firstLayer(float[][] x, double[] w, double[] b) {
     float[][] h = new float[x.length][b.length];
     for (int i = 0; i < x.length; i++)

@@ -196,26 +196,27 @@ public final class Compare {
       try (IndexReader reader = IndexReader.open(p.index())) {
         sa = ofIndexKind(reader, sa);
         sb = ofIndexKind(reader, sb);
-        QuerySource.Encoded ea = load(reader, sa, "A", prog, notes, modelFloats(sa, p.aFloats())),
-            eb = load(reader, sb, "B", prog, notes, modelFloats(sb, p.bFloats()));
+        QuerySource.Encoded ea = load(reader, sa, "A", prog, notes, false), eb = load(reader, sb, "B", prog, notes, false);
         // each file was checked against the build's header; B against A too (an index built from .npy records none)
         if (sb.source() != null)
           SourceColumns.check(ea.columns(), "sample A (" + sa.brief() + ")", eb.columns(), sb.source().file().toString());
         a = ea.codes();
         b = eb.codes();
-        modelA = ea.activations();
-        modelB = eb.activations();
+        // read again for the floats, once the rows are known to be few enough to hold them
+        modelA = keepModelFloats(sa, p.aFloats(), ea.codes(), "A", notes) ? load(reader, sa, "A", prog, new ArrayList<>(), true).activations() : null;
+        modelB = keepModelFloats(sb, p.bFloats(), eb.codes(), "B", notes) ? load(reader, sb, "B", prog, new ArrayList<>(), true).activations() : null;
       }
     } else {
       EncodeOptions enc = p.encode() == null ? EncodeOptions.positive() : p.encode();
-      Encoding.Read ra = read(sa.source(), p, enc, prog, modelFloats(sa, p.aFloats()));
+      Encoding.Read ra = read(sa.source(), p, enc, prog, false);
       // B is encoded with A's options: with per-neuron medians, A's medians (A is the reference)
-      Encoding.Read rb = read(sb.source(), p, ra.options() == null ? enc : ra.options(), prog, modelFloats(sb, p.bFloats()));
+      EncodeOptions encB = ra.options() == null ? enc : ra.options();
+      Encoding.Read rb = read(sb.source(), p, encB, prog, false);
       SourceColumns.check(ra.columns(), "sample A (" + sa.source().file() + ")", rb.columns(), sb.source().file().toString());
       a = ra.codes();
       b = rb.codes();
-      modelA = ra.activations();
-      modelB = rb.activations();
+      modelA = keepModelFloats(sa, p.aFloats(), ra.codes(), "A", notes) ? read(sa.source(), p, enc, prog, true).activations() : null;
+      modelB = keepModelFloats(sb, p.bFloats(), rb.codes(), "B", notes) ? read(sb.source(), p, encB, prog, true).activations() : null;
       if (ra.notes() != null) notes.addAll(ra.notes());
       if (rb.notes() != null) notes.addAll(rb.notes());
       if (!a.layout().equals(b.layout()))
@@ -434,9 +435,21 @@ public final class Compare {
     return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog, activations);
   }
 
-  /** Whether a sample's floats are the model's hidden activations on it: a file of inputs, and no floats file given for it. */
-  private static boolean modelFloats(Sample s, Path given) {
-    return given == null && s.source() != null && s.source().kind() == Source.Kind.INPUTS;
+  /** Most values (rows x hidden units) of a sample whose model activations are kept as its floats: 256 MiB as doubles. */
+  public static final long MODEL_FLOATS_MAX = 1L << 25;
+
+  /**
+   * Whether a sample's floats are to be the model's hidden activations on it: a file of inputs, no
+   * floats file given for it, and at most {@link #MODEL_FLOATS_MAX} values (else a note says why not).
+   */
+  private static boolean keepModelFloats(Sample s, Path given, CodeBlock codes, String which, List<String> notes) {
+    if (given != null || s.source() == null || s.source().kind() != Source.Kind.INPUTS) return false;
+    long values = (long) codes.size() * codes.layout().bits();
+    if (values <= MODEL_FLOATS_MAX) return true;
+    notes.add(String.format(Locale.ROOT, "float sample %s: the model's hidden activations on %s are not kept as its floats: %d rows of %d units"
+        + " are more than %d values; give `%sFloats` for the full-precision reference", which, s.brief(), codes.size(),
+        codes.layout().bits(), MODEL_FLOATS_MAX, which.toLowerCase(Locale.ROOT)));
+    return false;
   }
 
   /**
