@@ -246,14 +246,14 @@ class CompareEndToEndTest {
   }
 
   /**
-   * A sample of more rows x hidden units than {@link Compare#MODEL_FLOATS_MAX} keeps no model floats
+   * A sample of more rows x hidden units than {@link Compare#FLOATS_MAX} keeps no model floats
    * (they would take gigabytes, or not fit in one array): a note says so and names --a-floats; the
    * other sample's are still kept.
    */
   @Test
   void tooManyModelActivationsAreNotKeptAsFloats() throws Exception {
     SplittableRandom r = new SplittableRandom(Randoms.seed(403));
-    int hidden = 4096, rows = (int) (Compare.MODEL_FLOATS_MAX / hidden) + 1;
+    int hidden = 4096, rows = (int) (Compare.FLOATS_MAX / hidden) + 1;
     Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
     t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {hidden, 2}, r.doubles(2L * hidden, -1, 1).toArray()));
     t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, hidden}, r.doubles(2L * hidden, -1, 1).toArray()));
@@ -265,9 +265,68 @@ class CompareEndToEndTest {
         "--permutations", "1", "--matrix-rows", "2", "--sinkhorn-rows", "2", "--format", "json");
     assertThat(doc.get("floats").isNull()).isTrue();
     assertThat(doc.get("floats_absent").asText()).startsWith("no float activations for A ");
-    assertThat(doc.get("notes").toString()).contains("float sample A: the model's hidden activations on " + a + " are not kept as its floats: "
-        + rows + " rows of " + hidden + " units are more than " + Compare.MODEL_FLOATS_MAX + " values; give --a-floats")
+    assertThat(doc.get("notes").toString()).contains("float sample A: the model's hidden activations (after ReLU) on " + a + " are not taken as its floats: "
+        + rows + " rows of " + hidden + " units are more than " + Compare.FLOATS_MAX + " values; give --a-floats")
         .contains("float sample B: the model's hidden activations (after ReLU) on " + b);
+  }
+
+  /**
+   * Samples chosen by --a-where/--b-where on an index that keeps magnitudes come with the float
+   * reference from them: the same statistics as the dequantised magnitudes (read here through
+   * IndexReader) given as --a-floats/--b-floats; with --layers that layer's units; an index that
+   * keeps none says there are no floats.
+   */
+  @Test
+  void filteredSamplesTakeTheKeptMagnitudesAsFloats() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(404));
+    float[][] acts = SourcesEndToEndTest.activations(60, 9, r);
+    List<String> meta = new ArrayList<>(List.of("key,split"));
+    for (int i = 0; i < acts.length; i++) meta.add("k" + i + "," + (i % 3 == 0 ? "b" : "a"));
+    Path npz = tmp.resolve("acts.npz");
+    float[][] h1 = new float[acts.length][], h2 = new float[acts.length][];
+    for (int i = 0; i < acts.length; i++) {
+      h1[i] = java.util.Arrays.copyOfRange(acts[i], 0, 5);
+      h2[i] = java.util.Arrays.copyOfRange(acts[i], 5, 9);
+    }
+    try (io.actindex.encode.io.NpzWriter z = io.actindex.encode.io.NpzWriter.create(npz)) {
+      for (float[][] layer : List.of(h1, h2)) {
+        float[] flat = new float[layer.length * layer[0].length];
+        for (int i = 0; i < layer.length; i++) System.arraycopy(layer[i], 0, flat, i * layer[i].length, layer[i].length);
+        z.member(layer == h1 ? "h1" : "h2", io.actindex.encode.io.NpyDtype.FLOAT32, layer[0].length).write(flat, layer.length);
+      }
+      z.commit();
+    }
+    Path metaCsv = Files2.text(tmp.resolve("m.csv"), meta), idx = tmp.resolve("idx"), off = tmp.resolve("off");
+    ok(Cli.run("build", "--out", idx.toString(), "--activations", npz.toString(), "--meta", metaCsv.toString()));
+    ok(Cli.run("build", "--out", off.toString(), "--activations", npz.toString(), "--meta", metaCsv.toString(), "--magnitudes", "off"));
+    float[][] keptA = new float[40][9], keptB = new float[20][9];
+    try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(idx)) {
+      for (int i = 0; i < acts.length; i++) assertThat(reader.magnitudes(i, i % 3 == 0 ? keptB[i / 3] : keptA[i - i / 3 - 1], 0)).isTrue();
+    }
+    Path fa = Files2.floats(tmp.resolve("fa.npy"), keptA), fb = Files2.floats(tmp.resolve("fb.npy"), keptB);
+    for (List<String> layers : List.of(List.<String>of(), List.of("--layers", "h2"))) {
+      String[] where = concat(new String[] {"compare", "--index", idx.toString(), "--a-where", "split = a", "--b-where", "split = b",
+          "--permutations", "50", "--format", "json"}, layers.toArray(String[]::new));
+      JsonNode derived = NearestEndToEndTest.json(where);
+      String[] withFiles = concat(where, "--a-floats", fa.toString(), "--b-floats", fb.toString());
+      if (!layers.isEmpty()) { // a floats file is read whole: give the layer's columns
+        float[][] la = new float[40][], lb = new float[20][];
+        for (int i = 0; i < 40; i++) la[i] = java.util.Arrays.copyOfRange(keptA[i], 5, 9);
+        for (int i = 0; i < 20; i++) lb[i] = java.util.Arrays.copyOfRange(keptB[i], 5, 9);
+        withFiles = concat(where, "--a-floats", Files2.floats(tmp.resolve("la.npy"), la).toString(), "--b-floats",
+            Files2.floats(tmp.resolve("lb.npy"), lb).toString());
+      }
+      JsonNode byHand = NearestEndToEndTest.json(withFiles);
+      String what = String.join(" ", layers);
+      assertThat(derived.get("floats").get("columns").asInt()).as(what).isEqualTo(layers.isEmpty() ? 9 : 4);
+      assertThat(derived.get("floats")).as(what).isEqualTo(byHand.get("floats"));
+      assertThat(derived.get("notes").toString()).as(what)
+          .contains("float sample A: the index's kept 8-bit magnitudes (dequantised) of where split = a, " + (layers.isEmpty() ? 9 : 4) + " units");
+    }
+    JsonNode none = NearestEndToEndTest.json("compare", "--index", off.toString(), "--a-where", "split = a", "--b-where", "split = b",
+        "--permutations", "20", "--format", "json");
+    assertThat(none.get("floats").isNull()).isTrue();
+    assertThat(none.get("floats_absent").asText()).startsWith("no float activations for A and B");
   }
 
   private static float[][] firstLayer(float[][] x, double[] w, double[] b) {

@@ -189,7 +189,10 @@ public final class Compare {
   public static Result run(Params p, Progress progress) {
     Progress prog = progress == null ? Progress.NONE : progress;
     CodeBlock a, b;
-    float[] modelA, modelB; // a model's hidden activations on a sample of inputs without a floats file, in the layout of its codes
+    // floats compare takes itself for a sample without a floats file, in the layout of its codes: a model's hidden
+    // activations on a file of inputs, or the kept magnitudes of the examples a filter selects; and where they come from
+    float[] derivedA, derivedB;
+    String[] floatsFrom;
     List<String> notes = new ArrayList<>();
     Sample sa = p.a(), sb = p.b();
     if (p.index() != null) {
@@ -203,8 +206,10 @@ public final class Compare {
         a = ea.codes();
         b = eb.codes();
         // read again for the floats, once the rows are known to be few enough to hold them
-        modelA = keepModelFloats(sa, p.aFloats(), ea.codes(), "A", notes) ? load(reader, sa, "A", prog, new ArrayList<>(), true).activations() : null;
-        modelB = keepModelFloats(sb, p.bFloats(), eb.codes(), "B", notes) ? load(reader, sb, "B", prog, new ArrayList<>(), true).activations() : null;
+        int bits = reader.hasMagnitudes() ? reader.magnitudeBits() : 0;
+        derivedA = keepFloats(sa, p.aFloats(), ea.codes(), "A", notes, bits) ? load(reader, sa, "A", prog, new ArrayList<>(), true).activations() : null;
+        derivedB = keepFloats(sb, p.bFloats(), eb.codes(), "B", notes, bits) ? load(reader, sb, "B", prog, new ArrayList<>(), true).activations() : null;
+        floatsFrom = new String[] {floatsFrom(sa, bits), floatsFrom(sb, bits)};
       }
     } else {
       EncodeOptions enc = p.encode() == null ? EncodeOptions.positive() : p.encode();
@@ -215,8 +220,9 @@ public final class Compare {
       SourceColumns.check(ra.columns(), "sample A (" + sa.source().file() + ")", rb.columns(), sb.source().file().toString());
       a = ra.codes();
       b = rb.codes();
-      modelA = keepModelFloats(sa, p.aFloats(), ra.codes(), "A", notes) ? read(sa.source(), p, enc, prog, true).activations() : null;
-      modelB = keepModelFloats(sb, p.bFloats(), rb.codes(), "B", notes) ? read(sb.source(), p, encB, prog, true).activations() : null;
+      derivedA = keepFloats(sa, p.aFloats(), ra.codes(), "A", notes, 0) ? read(sa.source(), p, enc, prog, true).activations() : null;
+      derivedB = keepFloats(sb, p.bFloats(), rb.codes(), "B", notes, 0) ? read(sb.source(), p, encB, prog, true).activations() : null;
+      floatsFrom = new String[] {floatsFrom(sa, 0), floatsFrom(sb, 0)};
       if (ra.notes() != null) notes.addAll(ra.notes());
       if (rb.notes() != null) notes.addAll(rb.notes());
       if (!a.layout().equals(b.layout()))
@@ -232,16 +238,16 @@ public final class Compare {
     }
     checkRows(a, sa, "A");
     checkRows(b, sb, "B");
-    FloatFile ffa = modelA != null ? modelFloats(modelA, full, a, sa, "A", notes) : floats(p.aFloats(), sa, p, "A"),
-        ffb = modelB != null ? modelFloats(modelB, full, b, sb, "B", notes) : floats(p.bFloats(), sb, p, "B");
+    FloatFile ffa = derivedA != null ? derivedFloats(derivedA, full, a, floatsFrom[0], "A", notes) : floats(p.aFloats(), sa, p, "A"),
+        ffb = derivedB != null ? derivedFloats(derivedB, full, b, floatsFrom[1], "B", notes) : floats(p.bFloats(), sb, p, "B");
     FloatSample fa = ffa == null ? null : ffa.values(), fb = ffb == null ? null : ffb.values();
     for (FloatFile f : new FloatFile[] {ffa, ffb}) // how a float file was read, unless its sample's file (the same) said so
       if (f != null) for (String n : f.notes()) if (!notes.contains(n)) notes.add(n);
     if (fa != null && fb != null) // both hold activations of the same units: read by position like the samples
-      SourceColumns.check(ffa.columns(), "float sample A (" + floatsName(p.aFloats(), sa) + ")", ffb.columns(), floatsName(p.bFloats(), sb));
+      SourceColumns.check(ffa.columns(), "float sample A (" + floatsName(p.aFloats(), sa, floatsFrom[0]) + ")", ffb.columns(), floatsName(p.bFloats(), sb, floatsFrom[1]));
     if (fa != null && fb != null && fa.cols() != fb.cols()) {
-      throw new BadInputException(floatsName(p.bFloats(), sb) + ": float sample B has " + fb.cols()
-          + " columns, float sample A (" + floatsName(p.aFloats(), sa) + ") " + fa.cols());
+      throw new BadInputException(floatsName(p.bFloats(), sb, floatsFrom[1]) + ": float sample B has " + fb.cols()
+          + " columns, float sample A (" + floatsName(p.aFloats(), sa, floatsFrom[0]) + ") " + fa.cols());
     }
     checkPairing(fa, a, p.aFloats(), sa, "A");
     checkPairing(fb, b, p.bFloats(), sb, "B");
@@ -419,11 +425,16 @@ public final class Compare {
           + ids.count() + " of the " + reader.liveCount() + " live examples; sample " + which + " needs at least 2");
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
-    int w = all.wordsPerCode(), kept = 0;
+    int w = all.wordsPerCode(), bits = all.layout().bits(), kept = 0;
     long[] out = new long[Math.multiplyExact(ids.count(), w)];
+    float[] values = activations && reader.hasMagnitudes() ? new float[Math.multiplyExact(ids.count(), bits)] : null;
     for (int i = 0; i < live.length; i++)
-      if (ids.contains(live[i])) System.arraycopy(all.words(), i * w, out, kept++ * w, w);
-    return new QuerySource.Encoded(new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w)), null, null);
+      if (ids.contains(live[i])) {
+        if (values != null) reader.magnitudes(live[i], values, kept * bits);
+        System.arraycopy(all.words(), i * w, out, kept++ * w, w);
+      }
+    return new QuerySource.Encoded(new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w)),
+        values == null ? null : Arrays.copyOf(values, kept * bits), null);
   }
 
   private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog, boolean activations) {
@@ -435,33 +446,44 @@ public final class Compare {
     return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog, activations);
   }
 
-  /** Most values (rows x hidden units) of a sample whose model activations are kept as its floats: 256 MiB as doubles. */
-  public static final long MODEL_FLOATS_MAX = 1L << 25;
+  /** Most values (rows x units) of a sample whose floats compare takes itself (a model's activations, kept magnitudes): 256 MiB as doubles. */
+  public static final long FLOATS_MAX = 1L << 25;
 
   /**
-   * Whether a sample's floats are to be the model's hidden activations on it: a file of inputs, no
-   * floats file given for it, and at most {@link #MODEL_FLOATS_MAX} values (else a note says why not).
+   * Where compare can take a sample's floats itself, or null: a file of inputs, the model's hidden
+   * activations on it; the examples a filter selects, the index's kept magnitudes ({@code keptBits}
+   * bits per unit, 0 when it keeps none).
    */
-  private static boolean keepModelFloats(Sample s, Path given, CodeBlock codes, String which, List<String> notes) {
-    if (given != null || s.source() == null || s.source().kind() != Source.Kind.INPUTS) return false;
+  private static String floatsFrom(Sample s, int keptBits) {
+    if (s.source() != null) return s.source().kind() == Source.Kind.INPUTS ? "the model's hidden activations (after ReLU) on " + s.brief() : null;
+    return keptBits > 0 ? "the index's kept " + keptBits + "-bit magnitudes (dequantised) of " + s.brief() : null;
+  }
+
+  /**
+   * Whether compare takes a sample's floats itself ({@link #floatsFrom}): no floats file given for it,
+   * and at most {@link #FLOATS_MAX} values (else a note says why not).
+   */
+  private static boolean keepFloats(Sample s, Path given, CodeBlock codes, String which, List<String> notes, int keptBits) {
+    String from = floatsFrom(s, keptBits);
+    if (given != null || from == null) return false;
     long values = (long) codes.size() * codes.layout().bits();
-    if (values <= MODEL_FLOATS_MAX) return true;
-    notes.add(String.format(Locale.ROOT, "float sample %s: the model's hidden activations on %s are not kept as its floats: %d rows of %d units"
-        + " are more than %d values; give `%sFloats` for the full-precision reference", which, s.brief(), codes.size(),
-        codes.layout().bits(), MODEL_FLOATS_MAX, which.toLowerCase(Locale.ROOT)));
+    if (values <= FLOATS_MAX) return true;
+    notes.add(String.format(Locale.ROOT, "float sample %s: %s are not taken as its floats: %d rows of %d units are more than %d values;"
+        + " give `%sFloats` for the full-precision reference", which, from, codes.size(), codes.layout().bits(), FLOATS_MAX,
+        which.toLowerCase(Locale.ROOT)));
     return false;
   }
 
   /**
-   * The model's hidden activations on a sample of inputs (after ReLU, {@code full}'s columns) as its
-   * floats, on the compared layers ({@code codes}' layout), with a note saying where they come from.
+   * Floats compare took itself ({@code full}'s columns) as a sample's floats, on the compared layers
+   * ({@code codes}' layout), with a note saying where they come from.
    */
-  private static FloatFile modelFloats(float[] acts, CodeLayout full, CodeBlock codes, Sample s, String which, List<String> notes) {
+  private static FloatFile derivedFloats(float[] acts, CodeLayout full, CodeBlock codes, String from, String which, List<String> notes) {
     int[] cols = Layers.columns(full, codes.layout());
     float[] picked = Layers.pickColumns(acts, codes.size(), full.bits(), cols);
     double[] values = new double[picked.length];
     for (int i = 0; i < picked.length; i++) values[i] = picked[i];
-    notes.add("float sample " + which + ": the model's hidden activations (after ReLU) on " + s.brief() + ", " + cols.length + " units");
+    notes.add("float sample " + which + ": " + from + ", " + cols.length + " units");
     return new FloatFile(new FloatSample(codes.size(), cols.length, values), null, List.of());
   }
 
@@ -500,10 +522,10 @@ public final class Compare {
     return f;
   }
 
-  /** Where a sample's floats come from, for messages: {@link #floatsFile}, else the model run on the sample's inputs. */
-  private static String floatsName(Path given, Sample s) {
+  /** Where a sample's floats come from, for messages: {@link #floatsFile}, else what compare took itself ({@link #floatsFrom}). */
+  private static String floatsName(Path given, Sample s, String from) {
     Path file = floatsFile(given, s);
-    return file != null ? file.toString() : "the model's hidden activations on " + s.brief();
+    return file != null ? file.toString() : from;
   }
 
   /** The file a sample's floats come from: the given one, else the sample's own activations file, else null. */
