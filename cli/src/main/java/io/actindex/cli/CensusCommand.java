@@ -49,7 +49,9 @@ final class CensusCommand implements Callable<Integer> {
           "--largest", "--examples");
     Census.Result c;
     try (IndexReader reader = IndexReader.open(index.dir)) {
-      c = Census.run(reader, new Census.Params(layers.layers, largest, examples));
+      try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "counting regions (layer prefixes)")) {
+        c = Census.run(reader, new Census.Params(layers.layers, largest, examples), bar);
+      }
       index.noteIfEmpty(reader.liveCount());
     }
     PrintWriter out = spec.commandLine().getOut();

@@ -28,7 +28,10 @@ final class CheckCommand implements Callable<Integer> {
 
   @Override
   public Integer call() {
-    IndexCheck.Report r = Check.run(new Check.Params(index.dir));
+    IndexCheck.Report r;
+    try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "checking files")) {
+      r = Check.run(new Check.Params(index.dir), bar);
+    }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
       case json -> {

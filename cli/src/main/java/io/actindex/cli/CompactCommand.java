@@ -24,7 +24,10 @@ final class CompactCommand implements Callable<Integer> {
 
   @Override
   public Integer call() {
-    Compact.Result r = Compact.run(new Compact.Params(index.dir, threads.value()));
+    Compact.Result r;
+    try (Progress bar = Progress.onTerminal(spec.commandLine().getErr(), "compacting (codes read, then written)")) {
+      r = Compact.run(new Compact.Params(index.dir, threads.value()), bar);
+    }
     PrintWriter out = spec.commandLine().getOut();
     switch (format.format) {
       case json -> {

@@ -30,6 +30,10 @@ class CalibratePlannerEndToEndTest {
   @Test
   void writesTheCostsAndQueriesPlanWithThem() throws Exception {
     Path file = tmp.resolve("conf/costs.properties");
+    // what an earlier version killed before its rename left (Files.createTempFile's name), old and unlocked
+    Files.createDirectories(file.getParent());
+    Path leftover = Files.createTempFile(file.getParent(), "costs.properties", ".tmp"), young = Files.createTempFile(file.getParent(), "costs.properties", ".tmp");
+    Files.setLastModifiedTime(leftover, java.nio.file.attribute.FileTime.from(java.time.Instant.now().minus(java.time.Duration.ofHours(1))));
     Cli.Result r = Cli.run("calibrate-planner", "--runs", "1", "--out", file.toString(), "--format", "json");
     assertThat(r.code()).as(r.describe()).isZero();
     JsonNode doc = JsonWriterTest.STRICT.readTree(r.out());
@@ -40,6 +44,8 @@ class CalibratePlannerEndToEndTest {
     List<String> lines = Files.readAllLines(file);
     assertThat(lines).contains("format=1");
     assertThat(lines.stream().filter(l -> !l.startsWith("format=") && l.matches("[a-z-]+=[0-9.e+-]+")).count()).isEqualTo(8);
+    assertThat(leftover).as("an old leftover of an earlier version").doesNotExist();
+    assertThat(young).as("a young one: maybe a writer of an earlier version still at work").exists();
 
     Path dry = tmp.resolve("dry.properties"); // the file a dry run would write: the machine's, given by the property
     System.setProperty(PlannerCalibration.PROPERTY, dry.toString());

@@ -68,7 +68,7 @@ public final class OutputFiles {
   }
 
   /** The random part of a temporary file name: {@link Long#toUnsignedString(long, int)} in base 36. */
-  private static final Pattern RANDOM_PART = Pattern.compile("[0-9a-z]{1,13}");
+  private static final String RANDOM_PART = "[0-9a-z]{1,13}";
 
   /**
    * How long a temporary file must have gone unmodified before a write of its target may remove it
@@ -152,15 +152,28 @@ public final class OutputFiles {
    * and any file that cannot be tested, is left alone; a failure is ignored (the target is written).
    */
   static void removeStale(Path target) {
+    removeStale(target, Pattern.compile(Pattern.quote(tempPrefix(target)) + RANDOM_PART + "\\.tmp"));
+  }
+
+  /**
+   * Removes, under the rules of {@link #removeStale}, the temporary files {@code NAMEDIGITS.tmp} (1-20
+   * decimal digits: {@link Files#createTempFile} with the target's name as prefix) that earlier
+   * versions of {@code calibrate-planner} left beside {@code target} when killed before their rename.
+   * They were never locked, so the age rule alone keeps a writer of such a version off its file.
+   */
+  public static void removeStaleCreateTempFiles(Path target) {
+    // the random part Files.createTempFile puts between prefix and suffix: an unsigned long in decimal
+    removeStale(target, Pattern.compile(Pattern.quote(target.getFileName().toString()) + "[0-9]{1,20}\\.tmp"));
+  }
+
+  /** {@link #removeStale(Path)} for the files of {@code target}'s folder whose whole names match {@code temporary}. */
+  private static void removeStale(Path target, Pattern temporary) {
     Path dir = target.toAbsolutePath().normalize().getParent();
-    String prefix = tempPrefix(target);
     FileTime cutoff = FileTime.from(Instant.now().minus(STALE_AFTER));
     try (DirectoryStream<Path> files = Files.newDirectoryStream(dir)) {
       for (Path f : files) {
         String name = f.getFileName().toString();
-        if (!name.startsWith(prefix) || !name.endsWith(".tmp")
-            || !RANDOM_PART.matcher(name.substring(prefix.length(), name.length() - 4)).matches() || Pending.FILES.contains(f))
-          continue;
+        if (!temporary.matcher(name).matches() || Pending.FILES.contains(f)) continue;
         try {
           BasicFileAttributes a = Files.readAttributes(f, BasicFileAttributes.class, LinkOption.NOFOLLOW_LINKS);
           if (!a.isRegularFile() || a.lastModifiedTime().compareTo(cutoff) > 0) continue;

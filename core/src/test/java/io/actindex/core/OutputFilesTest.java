@@ -4,8 +4,10 @@ import static org.assertj.core.api.Assertions.assertThat;
 import static org.assertj.core.api.Assertions.assertThatThrownBy;
 
 import java.io.IOException;
+import java.nio.channels.FileChannel;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.nio.file.StandardOpenOption;
 import java.nio.file.attribute.FileTime;
 import java.time.Instant;
 import java.util.List;
@@ -143,6 +145,40 @@ class OutputFilesTest {
     }
   }
 
+  /**
+   * Earlier calibrate-planner versions wrote through {@link Files#createTempFile}(folder, NAME, ".tmp"):
+   * {@code NAME} + an unsigned long in decimal + {@code .tmp}, never locked. Such a file is removed
+   * once unmodified for {@link OutputFiles#STALE_AFTER} and not locked; every other name stays,
+   * however old, and so does a young one and one this JVM holds locked.
+   */
+  @Test
+  void earlierVersionsCreateTempFilesAreRemovedWhenStale() throws IOException {
+    Path target = tmp.resolve("costs.properties");
+    Files.write(target, new byte[] {1});
+    // Files.createTempFile's own name for this target, so that the pattern is the JDK's and not a guess
+    Path made = Files.createTempFile(tmp, "costs.properties", ".tmp");
+    List<Path> stale = List.of(made, tmp.resolve("costs.properties0.tmp"), tmp.resolve("costs.properties18446744073709551615.tmp"));
+    for (Path f : stale) setBack(Files.write(f, new byte[] {5}));
+    Path fresh = Files.write(tmp.resolve("costs.properties77.tmp"), new byte[] {5});
+    Path locked = setBack(Files.write(tmp.resolve("costs.properties78.tmp"), new byte[] {5}));
+    List<Path> others = List.of(tmp.resolve("costs.properties.tmp"), tmp.resolve("costs.properties12a.tmp"),
+        tmp.resolve("costs.properties123456789012345678901.tmp"), tmp.resolve("costs.properties12.tmp.keep"),
+        tmp.resolve("xcosts.properties12.tmp"), tmp.resolve("costs.propertie12.tmp"), tmp.resolve("other12.tmp"),
+        tmp.resolve(".costs.properties12.tmp0"));
+    for (Path f : others) setBack(Files.write(f, new byte[] {5}));
+    Files.createDirectories(tmp.resolve("costs.properties99.tmp")); // a folder of that name: not a file to remove
+    setBack(tmp.resolve("costs.properties99.tmp"));
+    try (FileChannel ch = FileChannel.open(locked, StandardOpenOption.WRITE); var lock = ch.lock()) {
+      OutputFiles.removeStaleCreateTempFiles(target);
+    }
+    for (Path f : stale) assertThat(f).as("stale").doesNotExist();
+    assertThat(fresh).exists();
+    assertThat(locked).exists();
+    assertThat(tmp.resolve("costs.properties99.tmp")).isDirectory();
+    for (Path f : others) assertThat(f).exists();
+    assertThat(Files.readAllBytes(target)).containsExactly(1);
+  }
+
   /** Ctrl-C (SIGINT) or SIGTERM during a write: the JVM's shutdown hook deletes the temporary file. */
   @Test
   void anInterruptedWriteDeletesItsTemporaryFile() throws Exception {
@@ -164,8 +200,8 @@ class OutputFilesTest {
     }
   }
 
-  private static void setBack(Path f) throws IOException {
-    Files.setLastModifiedTime(f, FileTime.from(Instant.now().minus(OutputFiles.STALE_AFTER).minusSeconds(60)));
+  private static Path setBack(Path f) throws IOException {
+    return Files.setLastModifiedTime(f, FileTime.from(Instant.now().minus(OutputFiles.STALE_AFTER).minusSeconds(60)));
   }
 
   private static Process start(Path target, Path ready) throws IOException {

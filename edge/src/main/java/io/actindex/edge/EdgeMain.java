@@ -19,8 +19,9 @@ import java.util.List;
  * row is the raw input, comma-separated numbers, run through the bundle's model, read as the index's
  * CSV reader reads a file under {@code --header auto}: blank lines skipped, cells may be quoted, a
  * first line of column names skipped with a note on stderr ({@link #firstLine}), a first line that
- * may be either refused, and so is a header with no row after it; two whole numbers in row 0 of a
- * two-input model are refused ({@link #decimalComma}). Either way standard input is UTF-8, read as
+ * may be either refused, and so is a header with no row after it; a file whose width (its header's,
+ * else row 0's) is not the model's inputs is refused as {@code ood score} refuses it ({@link
+ * #widthRefusal}); two whole numbers in row 0 of a two-input model are refused ({@link #decimalComma}). Either way standard input is UTF-8, read as
  * the index's CSV reader reads a file ({@link Lines}: empty input, a line ending in CR alone, bytes
  * that are not UTF-8, a NUL byte and a line over {@link RowText#MAX_LINE_BYTES} are refused), and a
  * bad row is named as that reader names it: {@code stdin line L (row R), column C (0-based)}.
@@ -65,7 +66,7 @@ public final class EdgeMain {
       out.println("row,score,decision,p_value");
       Lines lines = new Lines(in, inputs);
       String line = lines.next(), note = null, indexHeader = null;
-      if (line == null) return fail(err, "stdin holds no rows (it is empty" + (inputs ? " or blank)" : ")"));
+      if (line == null) return fail(err, "stdin is empty: no rows" + (inputs ? " (blank lines are skipped)" : ""));
       boolean headed = false;
       if (inputs) {
         String where = "stdin line " + lines.number;
@@ -80,8 +81,10 @@ public final class EdgeMain {
         }
         if (headed) {
           line = lines.next();
-          if (line == null) return fail(err, where + " is taken as a header (column names, not numbers) and no row follows it"
-              + (first.length == 1 ? otherSeparator(first[0]) : ""));
+          if (line == null) return fail(err, "stdin has a header but no rows (" + where.substring("stdin ".length())
+              + " taken as the header: column names, not numbers)" + (first.length == 1 ? otherSeparator(first[0]) : ""));
+          // the header gives the file's width, as in the index's CSV reader: checked against the model's before any row
+          if (first.length != b.model().layers().get(0).in()) return fail(err, widthRefusal(where + ", the header", first, true, b));
           note = "note: " + where + " taken as a header and skipped (column names, not numbers); row 0 is the next line";
           if (first.length > 1 && RowText.isIndexHeader(first[0].trim())) indexHeader = first[0].trim();
         }
@@ -97,6 +100,7 @@ public final class EdgeMain {
           if (pairs && row == 0) decimalComma(line);
           if (inputs) {
             String[] cells = RowText.cells(line); // "1,2," keeps its empty last field (refused), as the index's CSV reader refuses it
+            if (row == 0 && !headed && cells.length != width) return fail(err, widthRefusal(where, cells, false, b));
             double[] x = numbers(cells, width);
             if (row < 3) column0.add(cells[0]);
             code = b.encode(x);
@@ -226,6 +230,23 @@ public final class EdgeMain {
     throw new IllegalArgumentException(quote(line.trim()) + " is two whole numbers, the second without a sign, which is also how one value written"
         + " with a decimal comma reads (0,342 for 0.342, as spreadsheets in European languages save it); refused rather than guessed: write the"
         + " numbers with a decimal point, or, if these are the model's two inputs, put a line of column names before the rows");
+  }
+
+  /**
+   * Rows of {@code cols} values for a model of another number of inputs, worded as {@code ood score}
+   * words it (which checks the file's width before reading rows): {@code cells} of the header line
+   * ({@code header}) or of row 0, at {@code where}. One cell of numbers apart by spaces, tabs or
+   * semicolons gets the separator hint ({@link #otherSeparator}), which {@code ood score} gives for
+   * such a cell when it reads it.
+   */
+  private static String widthRefusal(String where, String[] cells, boolean header, EdgeBundle b) {
+    EdgeBundle.Layer first = b.model().layers().get(0);
+    int cols = cells.length;
+    return where + ": rows have " + cols + (cols == 1 ? " value" : " values") + " but the bundle's model (layer " + quote(first.name())
+        + ", weight shape [" + first.out() + ", " + first.in() + "]) takes " + first.in()
+        + (cols == 1 ? otherSeparator(cells[0]) : "")
+        + (cols == first.in() + 1 ? "; one column too many: is one of them the label (scikit-learn's data frames end with 'target')"
+            + " or a row index?" + (header ? " (first column " + quote(cells[0].trim()) + ", last " + quote(cells[cols - 1].trim()) + ")" : "") : "");
   }
 
   /** A hint when a cell is several numbers apart by spaces, tabs or semicolons, worded as the index's CSV reader words it. */

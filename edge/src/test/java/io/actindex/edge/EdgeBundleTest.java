@@ -270,8 +270,20 @@ class EdgeBundleTest {
         "stdin line 1 (row 0): character 4: an empty field before this comma");
     assertRefused(run(new String[] {file.toString()}, "," + commas + "\n"), "stdin line 1 (row 0): character 0: an empty field before this comma");
     assertRefused(run(new String[] {file.toString()}, commas.substring(2) + ",\n"), "stdin line 1 (row 0): an empty field after the last comma");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2\n"), "stdin line 1 (row 0), column 2 (0-based): only 2 fields (expected 3, the model's inputs)");
-    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,5\n"), "stdin line 1 (row 0), column 3 (0-based): too many fields (expected 3, the model's inputs)");
+    // a file of another width than the model's (its header's, else row 0's), as ood score words it; a later row by its column
+    String model = "but the bundle's model (layer 'a', weight shape [20, 3]) takes 3";
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2\n"), "stdin line 1 (row 0): rows have 2 values " + model);
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,2,3,5\n"), "stdin line 1 (row 0): rows have 4 values " + model
+        + "; one column too many: is one of them the label (scikit-learn's data frames end with 'target') or a row index?");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "\n0.5\n"), "stdin line 2 (row 0): rows have 1 value " + model);
+    // np.savetxt's default delimiter: the first line is one text cell, a header of one column
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "1 2 3\n4 5 6\n"), "stdin line 1, the header: rows have 1 value " + model
+        + "; it holds numbers separated by spaces, but cells are separated by commas: write the rows with delimiter=','");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "x,y\n1,2,3\n"), "stdin line 1, the header: rows have 2 values " + model);
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "id,x,y,z\n0,1,2,3\n"), "stdin line 1, the header: rows have 4 values " + model
+        + "; one column too many: is one of them the label (scikit-learn's data frames end with 'target') or a row index? (first column 'id', last 'z')");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1,2\n"), "stdin line 2 (row 1), column 2 (0-based): only 2 fields (expected 3, the model's inputs)");
+    assertRefused(run(new String[] {file.toString(), "--inputs"}, "x,y,z\n0.5,2,3,5\n"), "stdin line 2 (row 0), column 3 (0-based): too many fields (expected 3, the model's inputs)");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "0.5,2,3\n1,,3\n"), "stdin line 2 (row 1), column 1 (0-based): empty field");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,x\u001b[31m,3\n"), "stdin line 1, column 1 (0-based): 'x\\u001b[31m' is text but other cells of the line are numbers");
     assertRefused(run(new String[] {file.toString(), "--inputs"}, "1,NaN,3\n"), "stdin line 1 (row 0), column 1 (0-based): value is 'NaN'; only finite numbers are accepted");
@@ -296,10 +308,12 @@ class EdgeBundleTest {
     Path file = tmp.resolve("m.edge");
     Files.write(file, BundleFormat.toBytes(b));
     String[] in = {file.toString(), "--inputs"};
-    assertRefused(run(in, "0.1;0.2;0.3\n"), "stdin line 1 is taken as a header (column names, not numbers) and no row follows it; it holds numbers"
-        + " separated by semicolons, but cells are separated by commas");
-    assertRefused(run(in, "\n\na,b,c\n\n"), "stdin line 3 is taken as a header (column names, not numbers) and no row follows it");
-    assertRefused(run(in, "0.1;0.2;0.3\n0.4;0.5;0.6\n"), "stdin line 2 (row 0), column 0 (0-based): '0.4;0.5;0.6' is not a number; it holds numbers separated by semicolons");
+    assertRefused(run(in, "0.1;0.2;0.3\n"), "stdin has a header but no rows (line 1 taken as the header: column names, not numbers); it holds"
+        + " numbers separated by semicolons, but cells are separated by commas");
+    assertRefused(run(in, "\n\na,b,c\n\n"), "stdin has a header but no rows (line 3 taken as the header: column names, not numbers)");
+    // one text cell, so a header of one column: refused for its width, as ood score refuses it, with the separator hint
+    assertRefused(run(in, "0.1;0.2;0.3\n0.4;0.5;0.6\n"), "stdin line 1, the header: rows have 1 value but the bundle's model (layer 'a', weight shape"
+        + " [20, 3]) takes 3; it holds numbers separated by semicolons");
     assertRefused(run(in, "0.1,0.2,0.3\n1,2,3\n"), "stdin line 1 holds the evenly spaced numbers 0.1, 0.2, ..., 0.3, more like column names");
     assertRefused(run(in, "3,2,1\n"), "put a line of column names before it if it is data");
     assertRefused(run(in, "0,1\n"), "stdin line 1 holds 0, 1, the column numbers a data-frame library writes over unnamed columns, or a row of data");
@@ -313,9 +327,9 @@ class EdgeBundleTest {
     }
     assertRefused(run(new String[] {file.toString()}, "0".repeat(70) + "\n\n"), "stdin line 2 (row 1): 0 bits"); // codes: a blank line stays a refused row
     // empty input, lines ending in CR alone and bad quotes are refused, as the index refuses such a file; quoted numbers are numbers
-    assertRefused(run(in, ""), "stdin holds no rows (it is empty or blank)");
-    assertRefused(run(in, "\n \n"), "stdin holds no rows (it is empty or blank)");
-    assertRefused(run(new String[] {file.toString()}, ""), "stdin holds no rows (it is empty)");
+    assertRefused(run(in, ""), "stdin is empty: no rows (blank lines are skipped)");
+    assertRefused(run(in, "\n \n"), "stdin is empty: no rows (blank lines are skipped)");
+    assertRefused(run(new String[] {file.toString()}, ""), "stdin is empty: no rows");
     assertRefused(run(in, "0.5,2,3\r1,2,3\r"), "stdin byte 7 (line 1): a carriage return inside a line: the lines end in CR alone");
     assertRefused(run(in, "0.5,2,3\n1,2\r3\n"), "stdin byte 11 (line 2): a carriage return inside a line");
     assertThat(run(in, "0.5,2,3\r\n1,2,3\r").out).isEqualTo(plain.out);

@@ -28,7 +28,7 @@ final class ModelLayers implements LayerSource {
     if (hidden.isEmpty())
       throw new BadInputException(modelName + ": the model has one layer and no hidden layer to encode (a file of hidden layers only: `outputLayer false`)");
     if (in.cols() != mlp.inputs())
-      throw new BadInputException(in.source() + ": rows have " + in.cols() + " values but the model " + modelName + " (layer '"
+      throw new BadInputException(in.source() + ": rows have " + in.cols() + (in.cols() == 1 ? " value" : " values") + " but the model " + modelName + " (layer '"
           + mlp.layers().getFirst().name() + "', weight shape [" + mlp.layers().getFirst().out() + ", " + mlp.inputs() + "]) takes " + mlp.inputs()
           + in.notes().stream().filter(n -> n.contains("hint:")).map(n -> "; " + n.substring(n.indexOf("hint:"))).findFirst().orElse("")
           + (in.rows() == mlp.inputs() ? "; the file has " + in.rows() + " rows: saved as features by examples? save it transposed (a.T)" : "")

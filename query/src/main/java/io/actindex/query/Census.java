@@ -123,6 +123,15 @@ public final class Census {
   }
 
   public static Result run(IndexReader reader, Params p) {
+    return run(reader, p, null);
+  }
+
+  /**
+   * As {@link #run(IndexReader, Params)}, with {@code progress} (null: none) told the layer prefixes
+   * counted of all (0 while the codes and labels are read).
+   */
+  public static Result run(IndexReader reader, Params p, Progress progress) {
+    if (progress != null) progress.update(0, Layers.select(reader.layout(), p.layers()).length);
     int[] ids = new int[reader.liveCount()];
     CodeBlock codes = reader.liveCodes(ids);
     LabelIndex labelIndex = LabelIndex.of(reader.meta(), reader.maxId());
@@ -131,7 +140,7 @@ public final class Census {
     return compute(codes, labels, i -> {
       Map<String, String> doc = reader.meta().document(ids[i]);
       return doc == null ? null : doc.get("key");
-    }, p);
+    }, p, progress);
   }
 
   /**
@@ -140,6 +149,11 @@ public final class Census {
    * of the store, so callers may run it on any code block.
    */
   public static Result compute(CodeBlock codes, String[] labels, IntFunction<String> keyOf, Params p) {
+    return compute(codes, labels, keyOf, p, null);
+  }
+
+  /** As {@link #compute(CodeBlock, String[], IntFunction, Params)}, with {@code progress} (null: none) told the prefixes done of all. */
+  public static Result compute(CodeBlock codes, String[] labels, IntFunction<String> keyOf, Params p, Progress progress) {
     CodeLayout layout = codes.layout();
     int n = codes.size();
     if (labels.length != n) throw new IllegalArgumentException("labels need one entry per code");
@@ -154,6 +168,7 @@ public final class Census {
       names.add(layout.segments().get(s).name());
       bits += layout.segments().get(s).bits();
       prefixes.add(prefix(codes, mask, List.copyOf(names), bits, labels, keyOf, p));
+      if (progress != null) progress.update(prefixes.size(), order.length);
     }
     return new Result(n, List.copyOf(prefixes), neurons(codes, order));
   }

@@ -20,6 +20,14 @@ public final class Check {
 
   /** The per-file report of {@link IndexCheck}. */
   public static IndexCheck.Report run(Params p) {
-    return IndexCheck.run(p.dir());
+    return run(p, null);
+  }
+
+  /**
+   * As {@link #run(Params)}, with {@code progress} (null: none) told the files checked of all the
+   * index's files (the metadata files counting one, the cross-file check one more).
+   */
+  public static IndexCheck.Report run(Params p, Progress progress) {
+    return IndexCheck.run(p.dir(), progress == null ? null : progress::update);
   }
 }

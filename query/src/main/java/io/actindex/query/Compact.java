@@ -41,6 +41,14 @@ public final class Compact {
   }
 
   public static Result run(Params p) {
+    return run(p, null);
+  }
+
+  /**
+   * As {@link #run(Params)}, with {@code progress} (null: none) told the codes read (every stored
+   * one) then written (the live ones) of both counts together; nothing when there is nothing to do.
+   */
+  public static Result run(Params p, Progress progress) {
     int segsBefore;
     long before;
     try (IndexReader r = IndexReader.open(p.dir())) {
@@ -50,7 +58,7 @@ public final class Compact {
     List<String> warnings;
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       Forked.withThreads(p.threads(), () -> {
-        w.compact();
+        w.compact(progress == null ? null : progress::update);
         return null;
       });
       warnings = w.takeWarnings();

@@ -49,18 +49,38 @@ final class Encoding {
   /** As above; with {@code activations} the floats of the kept rows are kept too (4 bytes per value). */
   static Read read(Source source, Model model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
       int chunk, Progress progress, boolean activations) {
+    Kept kept = activations && source.kind() != Source.Kind.CODES ? new Kept(source) : null;
+    Read read = read(source, model, options, codesLayout, range, chunk, progress, kept);
+    return kept == null ? read : new Read(read.codes(), read.options(), read.notes(), kept.values(read.codes().size()), read.columns());
+  }
+
+  /**
+   * Takes the floats of the kept rows chunk by chunk, in row order (a codes file has none): {@link
+   * #start} once the row count ({@code -1} when not known in advance) and the layout (one unit per
+   * code bit) are known, then {@code rows} rows of {@code units} values at {@code values[from *
+   * units ..]}, an array the stream reuses after the call.
+   */
+  interface FloatRows {
+    void start(long rows, CodeLayout layout);
+
+    void accept(float[] values, int from, int rows);
+  }
+
+  /**
+   * As above, handing the floats of the kept rows to {@code floats} (null: none) instead of keeping
+   * them, so that no more than one chunk of them is alive at a time.
+   */
+  static Read read(Source source, Model model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
+      int chunk, Progress progress, FloatRows floats) {
     try (CodeStream stream = open(source, model, options, codesLayout)) {
       long total = stream.rows();
       CodeLayout layout = stream.layout();
       int w = layout.words(), d = layout.bits();
       // the row count is known for every file source: one array of the final size, no copies
-      long expect = total < 0 ? 1024 : Math.min(total, range.to() == -1 ? total : range.to()) - Math.max(0, range.from());
-      long[] buf = new long[(int) Math.min(Math.max(expect, 0) * w, 1 << 26)]; // beyond 512 MB it grows as read
-      // the floats likewise: one array of the final size when the count is known (doubling from a small one
-      // allocated and copied about three times the floats, and held two copies at once at the end)
-      boolean keep = activations && source.kind() != Source.Kind.CODES;
-      if (keep && total >= 0 && expect * d > MAX_VALUES) throw tooManyRows(source, expect + " rows", d);
-      float[] act = keep ? new float[(int) (Math.max(total < 0 ? 1024 : expect, 1) * d)] : null;
+      long expect = total < 0 ? -1 : Math.min(total, range.to() == -1 ? total : range.to()) - Math.max(0, range.from());
+      long[] buf = new long[(int) Math.min(Math.max(expect < 0 ? 1024 : expect, 0) * w, 1 << 26)]; // beyond 512 MB it grows as read
+      FloatRows sink = source.kind() == Source.Kind.CODES ? null : floats;
+      if (sink != null) sink.start(expect, layout);
       int kept = 0;
       long row = 0;
       progress.update(0, total);
@@ -68,33 +88,65 @@ final class Encoding {
         if (!block.layout().equals(layout))
           throw new IllegalStateException(source.file() + ": the encoder changed layout mid-stream: " + layout + " then " + block.layout());
         long[] words = block.words();
-        float[] values = act == null ? null : stream.lastActivations();
+        int first = -1, keptHere = 0; // the kept rows of a chunk are consecutive (a range of rows)
         for (int i = 0; i < block.size(); i++, row++) {
           if (!range.contains(row)) continue;
           if ((long) (kept + 1) * w > MAX_VALUES) throw new BadInputException(source.file() + ": too many rows to hold as one block (" + row + ")");
-          if (act != null && (long) (kept + 1) * d > MAX_VALUES) throw tooManyRows(source, "more than " + kept + " rows", d);
           if ((kept + 1) * w > buf.length) buf = Arrays.copyOf(buf, Math.max((kept + 1) * w, buf.length * 2));
           System.arraycopy(words, i * w, buf, kept * w, w);
-          if (act != null) {
-            if ((kept + 1) * d > act.length) act = Arrays.copyOf(act, (int) Math.min(MAX_VALUES, Math.max((long) (kept + 1) * d, act.length * 2L)));
-            System.arraycopy(values, i * d, act, kept * d, d);
-          }
+          if (first < 0) first = i;
+          keptHere++;
           kept++;
         }
+        if (sink != null && keptHere > 0) sink.accept(stream.lastActivations(), first, keptHere);
         progress.update(row, total);
         if (range.to() != -1 && row >= range.to()) break;
       }
       if ((range.to() != -1 && row < range.to()) || (range.from() > 0 && range.from() >= row))
         throw new BadInputException(source.file() + ": rows " + range + " asked, the file has " + row + " rows");
       return new Read(new CodeBlock(layout, kept, buf.length == kept * w ? buf : Arrays.copyOf(buf, kept * w)),
-          stream.options(), stream.notes(), act == null ? null : act.length == kept * d ? act : Arrays.copyOf(act, kept * d), stream.columnNames());
+          stream.options(), stream.notes(), null, stream.columnNames());
     } catch (IOException e) {
       throw new UncheckedIOException(source.file() + ": " + e.getMessage(), e);
     }
   }
 
+  /**
+   * Keeps the floats in one array: of the final size when the row count is known (doubling from a
+   * small one allocated and copied about three times the floats, and held two copies at once at the end).
+   */
+  private static final class Kept implements FloatRows {
+    private final Source source;
+    private float[] act;
+    private int units, rows;
+
+    Kept(Source source) {
+      this.source = source;
+    }
+
+    @Override
+    public void start(long expect, CodeLayout layout) {
+      units = layout.bits();
+      if (expect >= 0 && expect * units > MAX_VALUES) throw tooManyRows(source, expect + " rows", units);
+      act = new float[(int) (Math.max(expect < 0 ? 1024 : expect, 1) * units)];
+    }
+
+    @Override
+    public void accept(float[] values, int from, int n) {
+      long need = (long) (rows + n) * units;
+      if (need > MAX_VALUES) throw tooManyRows(source, "more than " + MAX_VALUES / units + " rows", units);
+      if (need > act.length) act = Arrays.copyOf(act, (int) Math.min(MAX_VALUES, Math.max(need, act.length * 2L)));
+      System.arraycopy(values, from * units, act, rows * units, n * units);
+      rows += n;
+    }
+
+    float[] values(int n) {
+      return act.length == n * units ? act : Arrays.copyOf(act, n * units);
+    }
+  }
+
   /** Values one Java array holds at most. */
-  private static final long MAX_VALUES = Integer.MAX_VALUE - 16;
+  static final long MAX_VALUES = Integer.MAX_VALUE - 16;
 
   /** The activations of {@code rows} rows of {@code d} units, kept as floats, would not fit in one array. */
   private static BadInputException tooManyRows(Source source, String rows, int d) {

@@ -134,20 +134,39 @@ public final class IndexBuilder {
     /** Compares {@code m} with the {@code values} it was quantised from. */
     public static Quantisation of(Magnitudes m, float[] values) {
       int d = m.units();
+      Errors errors = new Errors(d);
       float[] row = new float[d];
-      double max = 0, sq = 0, norm = 0;
       for (int i = 0; i < m.count(); i++) {
         m.dequantise(i, row, 0);
-        for (int j = 0; j < d; j++) {
-          double v = values[i * d + j], e = Math.abs(row[j] - v);
+        errors.add(row, values, i * d);
+      }
+      return errors.result(m);
+    }
+
+    /** The sums {@link #of} takes, row by row: for rows quantised one at a time. */
+    static final class Errors {
+      private final int units;
+      private double max, sq, norm;
+
+      Errors(int units) {
+        this.units = units;
+      }
+
+      /** One row: its dequantised values, and the values it came from at {@code values[from ..]}. */
+      void add(float[] dequantised, float[] values, int from) {
+        for (int j = 0; j < units; j++) {
+          double v = values[from + j], e = Math.abs(dequantised[j] - v);
           max = Math.max(max, e);
           sq += e * e;
           norm += v * v;
         }
       }
-      long count = Math.max(1, (long) m.count() * d);
-      return new Quantisation(m.bits(), Magnitudes.rowBytes(d, m.bits()), max, Math.sqrt(sq / count),
-          norm == 0 ? 0 : Math.sqrt(sq / norm));
+
+      Quantisation result(Magnitudes m) {
+        long count = Math.max(1, (long) m.count() * units);
+        return new Quantisation(m.bits(), Magnitudes.rowBytes(units, m.bits()), max, Math.sqrt(sq / count),
+            norm == 0 ? 0 : Math.sqrt(sq / norm));
+      }
     }
   }
 
@@ -167,14 +186,22 @@ public final class IndexBuilder {
     if (p.source().kind() == Source.Kind.INPUTS && p.source().model() == null)
       throw new BadInputException(p.source().file() + ": building from inputs needs a model file");
     checkEmptyOrAbsent(p.dir());
-    Encoding.Read read = Encoding.read(p.source(), Encoding.Model.of(p.source().model()), p.encode(), p.codesLayout(), RowRange.ALL,
-        chunk(p.chunkRows()), orNone(progress), p.magnitudeBits() > 0);
+    // kept magnitudes read the file twice (the floats' ranges, then the floats quantised), so that no
+    // more than a chunk of floats is alive at a time; the bar counts both reads
+    Encoding.Model net = Encoding.Model.of(p.source().model());
+    int chunk = chunk(p.chunkRows());
+    Progress bar = orNone(progress);
+    StreamedMagnitudes.Ranges ranges = p.magnitudeBits() > 0 ? new StreamedMagnitudes.Ranges(p.source(), p.encode().layers(), p.magnitudeBits()) : null;
+    Encoding.Read read = Encoding.read(p.source(), net, p.encode(), p.codesLayout(), RowRange.ALL, chunk,
+        ranges == null ? bar : (done, total) -> bar.update(done, total < 0 ? -1 : 2 * total), ranges);
     CodeBlock raw = read.codes();
     CodeBlock codes = keepLayers(raw, p.encode().layers());
     if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
-    float[] values = read.activations() == null ? null
-        : Layers.pickColumns(read.activations(), raw.size(), raw.layout().bits(), Layers.columns(raw.layout(), codes.layout()));
-    Magnitudes mags = values == null ? null : Magnitudes.quantise(values, codes.size(), codes.layout().bits(), p.magnitudeBits());
+    StreamedMagnitudes.Result kept = ranges == null ? null
+        : StreamedMagnitudes.quantise(p.source(), net, p.encode(), p.codesLayout(), chunk,
+            (done, total) -> bar.update(total < 0 ? done : total + done, total < 0 ? -1 : 2 * total),
+            raw, Layers.columns(raw.layout(), codes.layout()), ranges, p.magnitudeBits());
+    Magnitudes mags = kept == null ? null : kept.magnitudes();
     List<Map<String, String>> meta = readMeta(p.meta(), codes, p.source());
     byte[] model = p.source().kind() == Source.Kind.INPUTS ? readAll(p.source().model()) : null;
     // the options in force (per-neuron medians filled in) are what later queries must use
@@ -208,8 +235,8 @@ public final class IndexBuilder {
       if (meta != null && meta.stream().noneMatch(row -> row.containsKey("label")))
         notes.add(p.meta().file() + ": note: no example has a label (no column 'label' with a value; `labelColumn` NAME takes another, such as"
             + " scikit-learn's 'target'), so label votes, purity and label conflicts have none to count" + labelLike(meta));
-      return new Result(first, codes.size(), codes.layout(), notes, read.options(),
-          mags == null ? null : Quantisation.of(mags, values), w.takeWarnings());
+      return new Result(first, codes.size(), codes.layout(), notes, read.options(), kept == null ? null : kept.quantisation(),
+          w.takeWarnings());
     } catch (RuntimeException | Error e) {
       removeBuilt(p.dir(), existed, e);
       // the writer's refusal speaks of a change to an index; here there was no index before

@@ -17,7 +17,6 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
 import java.util.HashMap;
-import java.util.LinkedHashMap;
 import java.util.List;
 import java.util.Map;
 
@@ -28,7 +27,8 @@ import java.util.Map;
  * example (keys must be unique; without a key column the store generates {@code row-<id>}; the
  * whitespace around a key is not part of it, {@link MetaStore#key}, also inside quotes); the
  * label and split columns become {@code label} and {@code split}; every other column keeps its
- * name (in Unicode NFC, {@link Names}) and becomes a filterable field. Empty values are left out of the row map. A header of one
+ * name (in Unicode NFC, {@link Names}) and becomes a filterable field. Empty values are left out of the row map.
+ * The rows are held by column ({@link MetaRows}), read-only. A header of one
  * column whose name holds a semicolon or a tab is refused: the file is separated by those, and
  * read by commas it would become one field named after the whole header line.
  *
@@ -74,7 +74,7 @@ public final class MetaCsv {
             + (header.getFirst().contains(";") ? "semicolons (as spreadsheets in European languages save CSV)" : "tabs")
             + ", but metadata is read comma-separated: save it with commas (pandas: to_csv(sep=','))");
       String[] target = targets(header, o, name);
-      List<Map<String, String>> rows = new ArrayList<>();
+      MetaRows rows = new MetaRows(target);
       Map<String, Integer> keyRow = new HashMap<>();
       int keyCol = indexOf(target, "key");
       for (List<String> fields; (fields = p.next()) != null; ) {
@@ -82,15 +82,14 @@ public final class MetaCsv {
         if (fields.size() == 1 && fields.get(0).isEmpty()) continue; // blank line
         if (fields.size() != header.size())
           throw new BadInputException(name + ": line " + line + " has " + fields.size() + " fields, the header has " + header.size());
-        Map<String, String> row = new LinkedHashMap<>();
-        for (int c = 0; c < fields.size(); c++) if (!fields.get(c).isEmpty()) row.put(target[c], fields.get(c));
+        String[] row = fields.toArray(String[]::new);
         if (keyCol >= 0) {
           String key = MetaStore.key(fields.get(keyCol)); // spaces around a key are not part of it, quoted or not
           if (key.isEmpty()) throw new BadInputException(name + ": line " + line + ": empty key in column '" + header.get(keyCol) + "'");
           Integer first = keyRow.putIfAbsent(key, line);
           if (first != null)
             throw new BadInputException(name + ": line " + line + ": key '" + Snippet.of(key) + "' already used on line " + first);
-          row.put("key", key);
+          row[keyCol] = key;
         }
         rows.add(row);
       }

@@ -101,6 +101,13 @@ public final class CsvMatrixReader implements MatrixReader {
     }
     if (pending.isEmpty()) throw new BadInputException(file + ": the CSV file has a header but no rows" + (f.length == 1 ? otherSeparator(f[0]) : ""));
     wholePairs = mode == Header.AUTO && header == null && cols == 2;
+    // one cell of numbers apart by spaces, tabs or semicolons (np.savetxt's default delimiter): a
+    // caller that checks the width (one column) against a model's adds the hint to its refusal
+    if (cols == 1) {
+      String cell = split(pending.getFirst(), pendingLines.getFirst())[0];
+      if (RowText.otherSeparator(cell) != null)
+        notes.add(file + ": hint: line " + pendingLines.getFirst() + otherSeparator(cell).replaceFirst("^; it", ""));
+    }
     String hint = indexColumnHint();
     if (hint != null) notes.add(hint);
     for (int c = 0; header != null && c < header.size(); c++)

@@ -155,6 +155,14 @@ class CsvHeaderTest {
         .hasMessageContaining("a header but no rows").hasMessageContaining("separated by semicolons");
     assertThatThrownBy(() -> CsvMatrixReader.open(csv("names.csv", "a;b\n"), Header.AUTO)).hasMessageContaining("a header but no rows")
         .hasMessageNotContaining("semicolons");
+    // read as one column, such a file carries the hint in its notes, for a caller's width check against a model
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("spaced.csv", "1.5 2 3\n4 5 6\n"), Header.NO)) {
+      assertThat(r.cols()).isEqualTo(1);
+      assertThat(r.notes()).anyMatch(n -> n.contains("hint: line 1 holds numbers separated by spaces") && n.contains("delimiter=','"));
+    }
+    try (CsvMatrixReader r = CsvMatrixReader.open(csv("column.csv", "1.5\n2\n"), Header.NO)) {
+      assertThat(r.notes()).as("one column of numbers: no hint").noneMatch(n -> n.contains("hint:"));
+    }
   }
 
   /** np.savetxt(header=...) writes "# " before the header (its default comments, from memory of NumPy's API). */

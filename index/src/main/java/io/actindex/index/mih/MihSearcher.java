@@ -407,10 +407,38 @@ final class MihSearcher implements CodeSearcher {
 
   /**
    * Estimated cost of the tables finding every code within {@code bound} of {@code query} (bucket
-   * statistics measured at build), for choosing between table layouts.
+   * statistics measured at build; see {@link #partitionFinishes}).
    */
   double tablesCost(long[] query, int bound) {
     return freshTablesCost(bound, plan.constantDistance(query, null));
+  }
+
+  /**
+   * Work of the tables alone finding the {@code k} nearest codes of {@code query}: every shell in
+   * order, no planner and no scan, priced with {@code c} from the buckets probed and candidates
+   * verified (counted, not timed), and cut at {@code cap} (returned once reached). For comparing
+   * table layouts of the same codes at build.
+   */
+  double tablesWork(long[] query, int k, PlannerCosts c, double cap) {
+    int kk = Math.min(k, codes.size()), m = tables.length, from = plan.constantDistance(query, null);
+    double candidate = c.candidate(8L * codes.words().length), work = 0;
+    TopK top = new TopK(kk);
+    Scratch s = scratch.get().begin(this, query, activeTables(null));
+    try {
+      for (int rho = 0; rho <= SearchPlanOptions.MAX_SUBSTRING_BITS; rho++)
+        for (int t = 0; t < m; t++) {
+          if (rho <= tables[t].width) {
+            long probes = s.probes, candidates = s.candidates;
+            shell(s, t, rho, query, null, null, top, bound(top, kk, Integer.MAX_VALUE));
+            work += (s.probes - probes) * (tables[t].dense() ? c.probeDense() : c.probeSparse()) + (s.candidates - candidates) * candidate;
+            if (work >= cap) return cap;
+          }
+          if (bound(top, kk, Integer.MAX_VALUE) <= rho * m + t + from) return work;
+        }
+      return work;
+    } finally {
+      s.end();
+    }
   }
 
   /**

@@ -86,7 +86,11 @@ public final class PlannerCalibration {
     OutputFiles.checkOutsideIndex(file, "the costs");
   }
 
-  /** Writes {@code r} to {@code file} whole or not at all ({@link OutputFiles#write}: its folders made first). */
+  /**
+   * Writes {@code r} to {@code file} whole or not at all ({@link OutputFiles#write}: its folders made
+   * first), then removes the stale temporary files earlier versions left beside it ({@link
+   * OutputFiles#removeStaleCreateTempFiles}).
+   */
   public static void write(Result r, Path file) throws IOException {
     StringBuilder s = new StringBuilder();
     s.append("# actindex planner costs in ns: the median of ").append(r.runs()).append(" measurements, ")
@@ -98,6 +102,7 @@ public final class PlannerCalibration {
     checkTarget(file);
     Files.createDirectories(file.toAbsolutePath().getParent());
     OutputFiles.write(file, s.toString().getBytes(StandardCharsets.UTF_8), "the costs");
+    OutputFiles.removeStaleCreateTempFiles(file);
   }
 
   /** The costs in {@code file}, or empty when there is no such file. */

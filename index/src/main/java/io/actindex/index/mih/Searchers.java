@@ -72,8 +72,9 @@ public final class Searchers {
    * of Norouzi, Punjani and Fleet (TPAMI 2014, choosing m): about {@code L / log2 n} substrings of
    * at most {@code log2 n} bits. When their keys carry much less entropy than {@code log2 n}
    * (correlated bits: large buckets), a layout with proportionally fewer, wider tables is built too,
-   * and the one whose measured bucket occupancy predicts less work for typical queries is kept: 16
-   * indexed codes as queries, each with its true 10th-neighbour distance as the radius to cover.
+   * and kept instead only when the tables' work for typical queries, counted and priced with fixed
+   * costs ({@code typicalWork}), is under {@code WIDER_SHARE} of the first layout's: the choice
+   * depends on the codes alone, not on the costs this build measured.
    */
   public static CodeSearcher build(CodeBlock codes, SearchPlanOptions opts) {
     return build(codes, opts, PlannerCosts.machine());
@@ -97,7 +98,7 @@ public final class Searchers {
         int fewer = Math.max(1, (int) Math.round(m * h / lg));
         if (h < lg - 1 && fewer < m) {
           MihSearcher wider = build(codes, BitPlan.choose(codes, opts.withSubstrings(fewer)), opts.strategy(), null, cost);
-          if (typicalWork(wider) < typicalWork(s)) s = wider;
+          if (typicalWork(wider) < WIDER_SHARE * typicalWork(s)) s = wider;
         }
       }
       return partition == null ? s : s.withPartition(partition.join());
@@ -107,17 +108,28 @@ public final class Searchers {
     }
   }
 
-  /** Mean estimated table work to find the 10 nearest other codes of 16 evenly spaced indexed codes. */
+  /**
+   * Share of the analysis' layout's typical work under which the fewer, wider tables are kept
+   * instead. The wider tables trade verified candidates for probes of sparse tables, whose price
+   * against a candidate's is 1.7x in the fixed costs and was 3.8x to 25x in costs measured on this
+   * project's machine: on 1M ReLU codes of 256 bits the 7 tables of 32 bits counted 0.64 of the 14
+   * narrow ones' work at the fixed prices, 3x at quiet measured ones (docs/benchmarks.md, "Table
+   * layout chosen by counted work").
+   */
+  private static final double WIDER_SHARE = 0.5;
+
+  /**
+   * Mean work of the tables alone finding the 10 nearest other codes of 16 evenly spaced indexed
+   * codes: buckets probed and candidates verified, counted on the codes and priced with the fixed
+   * {@link PlannerCosts#defaults()}, each query's work cut at a scan's. Neither the costs the build
+   * measured nor the load it ran under enter the choice.
+   */
   private static double typicalWork(MihSearcher s) {
     CodeBlock codes = s.codes;
+    PlannerCosts fixed = PlannerCosts.defaults();
     int n = codes.size(), samples = Math.min(16, n), k = Math.min(11, n);
-    ScanSearcher scan = new ScanSearcher(codes);
-    double total = 0;
-    for (int i = 0; i < samples; i++) {
-      long[] q = codes.code((int) ((long) i * n / samples));
-      io.actindex.core.Hits h = scan.knn(q, k);
-      total += s.tablesCost(q, h.dist(h.size() - 1));
-    }
+    double cap = fixed.scan(n, codes.wordsPerCode()), total = 0;
+    for (int i = 0; i < samples; i++) total += s.tablesWork(codes.code((int) ((long) i * n / samples)), k, fixed, cap);
     return total / samples;
   }
 

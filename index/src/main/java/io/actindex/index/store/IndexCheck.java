@@ -3,6 +3,7 @@ package io.actindex.index.store;
 import io.actindex.core.BadInputException;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.meta.MetaWriter;
+import io.actindex.index.mih.SelfJoin;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
@@ -68,6 +69,15 @@ public final class IndexCheck {
 
   /** Checks {@code dir}; BadInputException only when it holds no index at all. */
   public static Report run(Path dir) {
+    return run(dir, null);
+  }
+
+  /**
+   * As {@link #run(Path)}, telling {@code progress} (null: nobody) the steps done of all steps: one
+   * per file of the manifest (a segment's codes and tables count two), one for the metadata files,
+   * one for the cross-file check.
+   */
+  public static Report run(Path dir, SelfJoin.Progress progress) {
     if (!Files.isDirectory(dir)) throw new BadInputException("index folder " + dir + " does not exist or is not a folder");
     long gen = Manifest.newestGeneration(dir);
     if (gen < 0) throw Manifest.noManifest(dir);
@@ -83,6 +93,12 @@ public final class IndexCheck {
     }
     List<Path> files = new ArrayList<>();
     for (FileRef f : m.files()) files.add(dir.resolve(f.name()));
+    long steps = 1 + files.size() + 2; // the manifest, its files, the metadata, the cross-file check
+    long[] done = {0};
+    Runnable step = () -> {
+      if (progress != null) progress.update(++done[0], steps);
+    };
+    step.run();
     boolean filesOk = true;
     try (FileSource.Pinned src = FileSource.pin(files.stream().filter(Files::isRegularFile).toList())) {
       for (Manifest.SegmentEntry e : m.segments()) {
@@ -93,22 +109,27 @@ public final class IndexCheck {
         out.add(new FileResult(tables, size(dir.resolve(tables)),
             codesBad ? NOT_CHECKED + "its codes file " + dir.resolve(codes) + " is damaged" : problem));
         filesOk &= problem == null;
+        step.run();
+        step.run();
         FileRef mags = m.magnitudes().get(e.segmentId());
         if (mags != null) {
           String mp = problem(() -> Magnitudes.read(dir, src, m, e, mags, ChecksummedFile.Check.FULL));
           out.add(new FileResult(mags.name(), size(dir.resolve(mags.name())), mp));
           filesOk &= mp == null;
+          step.run();
         }
       }
       if (m.tombstones() != null) {
         String problem = problem(() -> Tombstones.read(dir, src, m, ChecksummedFile.Check.FULL));
         out.add(new FileResult(m.tombstones().name(), size(dir.resolve(m.tombstones().name())), problem));
         filesOk &= problem == null;
+        step.run();
       }
       for (Map.Entry<String, FileRef> a : m.attachments().entrySet()) {
         String problem = problem(() -> Attachments.read(dir, src, m, a.getKey(), ChecksummedFile.Check.FULL));
         out.add(new FileResult(a.getValue().name(), size(dir.resolve(a.getValue().name())), problem));
         filesOk &= problem == null;
+        step.run();
       }
     }
     Set<String> used = new HashSet<>(List.of(manifestName, WriteLock.FILE, IndexWriter.META_DIR));
@@ -130,7 +151,9 @@ public final class IndexCheck {
       out.add(new FileResult(IndexWriter.META_DIR, 0, e.getMessage()));
       filesOk = false;
     }
+    step.run();
     if (filesOk) out.add(new FileResult("index", 0, problem(() -> IndexReader.open(dir).close())));
+    step.run();
     leftovers.sort(java.util.Comparator.comparing(Leftover::file));
     return new Report(dir, gen, out, leftovers);
   }

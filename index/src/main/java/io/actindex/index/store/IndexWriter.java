@@ -6,6 +6,7 @@ import io.actindex.core.CodeLayout;
 import io.actindex.core.DiskFull;
 import io.actindex.core.OutputFiles;
 import io.actindex.index.mih.SearchPlanOptions;
+import io.actindex.index.mih.SelfJoin;
 import io.actindex.index.meta.MetaWriter;
 import java.io.IOException;
 import java.io.UncheckedIOException;
@@ -296,12 +297,20 @@ public final class IndexWriter implements AutoCloseable {
    * allows; ids stay as they are. Every byte read is CRC-checked first.
    */
   public void compact() {
+    compact(null);
+  }
+
+  /**
+   * As {@link #compact()}, telling {@code progress} (null: nobody) the codes read (every stored one,
+   * checked) then written (the live ones) of both counts together, a segment at a time.
+   */
+  public void compact(SelfJoin.Progress progress) {
     ensureOpen();
     List<Manifest.SegmentEntry> all = manifest.segments();
     boolean clean = all.size() <= 1 && all.stream().allMatch(e -> live(e) == e.count());
     if (clean) return;
     mutate(() -> {
-      Manifest m = merge(manifest, 0, all.size());
+      Manifest m = merge(manifest, 0, all.size(), progress);
       meta.expungeDeletes();
       String commit = meta.commit();
       publish(m.next(m.nextId(), m.nextSegmentId(), m.segments(), m.tombstones(), m.properties(), m.attachments(), commit));
@@ -317,7 +326,7 @@ public final class IndexWriter implements AutoCloseable {
       int[] window = policy.next(live, w);
       if (window == null) return;
       mutate(() -> {
-        Manifest m = merge(manifest, window[0], window[1]);
+        Manifest m = merge(manifest, window[0], window[1], null);
         publish(m.next(m.nextId(), m.nextSegmentId(), m.segments(), m.tombstones(), m.properties(), m.attachments(),
             m.metaCommit()));
       });
@@ -331,20 +340,26 @@ public final class IndexWriter implements AutoCloseable {
   /**
    * Writes the live codes of segments {@code [from, to)} as new segments (at most the cap each)
    * and returns the manifest entries in their place (same generation: the caller publishes). Reads
-   * with the full check, so a merge never copies damaged bytes into a new file.
+   * with the full check, so a merge never copies damaged bytes into a new file. {@code progress}
+   * (null: none) is told the codes read then written, of both counts together.
    */
-  private Manifest merge(Manifest m, int from, int to) throws IOException {
+  private Manifest merge(Manifest m, int from, int to, SelfJoin.Progress progress) throws IOException {
     int w = m.layout().words(), total = 0;
     List<Segment> segs = new ArrayList<>();
     List<Path> files = new ArrayList<>();
+    long steps = 0, done = 0;
     for (Manifest.SegmentEntry e : m.segments().subList(from, to)) {
       files.add(dir.resolve(e.codes().name()));
       files.add(dir.resolve(e.tables().name()));
+      steps += e.count() + live(e);
     }
+    if (progress != null) progress.update(0, steps);
     try (FileSource.Pinned src = FileSource.pin(files)) { // unmapped right after: the codes are copied
       for (Manifest.SegmentEntry e : m.segments().subList(from, to)) {
         segs.add(Segment.read(dir, src, m, e, ChecksummedFile.Check.FULL));
         total += live(e);
+        done += e.count();
+        if (progress != null) progress.update(done, steps);
       }
     }
     List<Manifest.SegmentEntry> out = new ArrayList<>(m.segments().subList(0, from));
@@ -376,6 +391,8 @@ public final class IndexWriter implements AutoCloseable {
             len == total ? kept : rows(kept, at, len)));
       segId++;
       at += len;
+      done += len;
+      if (progress != null) progress.update(done, steps);
     }
     out.addAll(m.segments().subList(to, m.segments().size()));
     return new Manifest(m.generation(), m.uuid(), m.layout(), m.nextId(), segId, out, m.tombstones(), m.properties(),

@@ -103,26 +103,67 @@ public final class Magnitudes {
   }
 
   private static Magnitudes quantise(float[] values, int n, int units, int bits, float[] lo, float[] hi) {
-    int levels = (1 << bits) - 1;
-    float[] step = new float[units];
-    float[] offset = new float[units];
-    for (int j = 0; j < units; j++) {
-      if (n == 0) continue;
-      offset[j] = lo[j];
-      step[j] = (float) (((double) hi[j] - lo[j]) / levels);
-    }
-    int rb = rowBytes(units, bits), perByte = 8 / bits;
-    byte[] data = new byte[Math.multiplyExact(n, rb)];
-    for (int i = 0; i < n; i++)
+    Builder b = new Builder(n, units, bits, lo, hi);
+    for (int i = 0; i < n; i++) b.add(values, i * units);
+    return b.build();
+  }
+
+  /**
+   * Quantises {@code n} rows one at a time, each column's range ({@code lo[j]..hi[j]}, over all
+   * the rows) known beforehand: what {@link #quantise(float[], int, int, int)} does with the
+   * values in one array, without the array (a value outside its column's range is stored as the
+   * nearest end).
+   */
+  public static final class Builder {
+    private final Magnitudes m;
+    private final int levels, perByte;
+    private int rows;
+
+    public Builder(int n, int units, int bits, float[] lo, float[] hi) {
+      if (!supported(bits)) throw new BadParameterException("bits", " per value must be 2, 4 or 8, got " + bits);
+      if (lo.length != units || hi.length != units) throw new IllegalArgumentException(lo.length + " and " + hi.length + " bounds for " + units + " units");
+      levels = (1 << bits) - 1;
+      perByte = 8 / bits;
+      float[] step = new float[units];
+      float[] offset = new float[units];
       for (int j = 0; j < units; j++) {
+        if (n == 0) continue;
+        offset[j] = lo[j];
+        step[j] = (float) (((double) hi[j] - lo[j]) / levels);
+      }
+      m = new Magnitudes(n, units, bits, new int[] {0}, offset, step, new byte[Math.multiplyExact(n, rowBytes(units, bits))]);
+    }
+
+    /** Quantises the next row, {@code units} values at {@code values[from ..]}. */
+    public void add(float[] values, int from) {
+      if (rows == m.count) throw new IllegalStateException("more than " + m.count + " rows");
+      int rb = m.rowBytes, units = m.units;
+      float[] offset = m.lo, step = m.step;
+      byte[] data = m.data;
+      int i = rows++;
+      for (int j = 0; j < units; j++) {
+        float v = values[from + j];
+        if (!Float.isFinite(v)) throw new IllegalArgumentException("value " + v + " at row " + i + ", unit " + j);
         int q = 0;
         if (step[j] > 0) {
-          long r = Math.round(((double) values[i * units + j] - offset[j]) / step[j]);
+          long r = Math.round(((double) v - offset[j]) / step[j]);
           q = (int) Math.max(0, Math.min(levels, r));
         }
-        data[i * rb + j / perByte] |= (byte) (q << ((j % perByte) * bits));
+        data[i * rb + j / perByte] |= (byte) (q << ((j % perByte) * m.bits));
       }
-    return new Magnitudes(n, units, bits, new int[] {0}, offset, step, data);
+    }
+
+    /** Writes the dequantised row {@code ord} (one already added) to {@code out[off .. off+units)}. */
+    public void dequantise(int ord, float[] out, int off) {
+      if (ord >= rows) throw new IllegalArgumentException("row " + ord + " not added yet (" + rows + " rows)");
+      m.dequantise(ord, out, off);
+    }
+
+    /** The rows quantised; every one of the {@code n} rows must have been added. */
+    public Magnitudes build() {
+      if (rows != m.count) throw new IllegalStateException(rows + " rows added of " + m.count);
+      return m;
+    }
   }
 
   public int count() {
