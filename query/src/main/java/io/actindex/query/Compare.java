@@ -187,6 +187,14 @@ public final class Compare {
       List<Neuron> neurons, int neuronsMoved, String correction, double alpha, String verdict, List<String> notes) {}
 
   public static Result run(Params p, Progress progress) {
+    return run(p, progress, true);
+  }
+
+  /**
+   * As {@link #run(Params, Progress)}; with {@code withFloats} false (the report, which shows no floats)
+   * no float file is read and no floats are taken from a model or kept magnitudes.
+   */
+  static Result run(Params p, Progress progress, boolean withFloats) {
     Progress prog = progress == null ? Progress.NONE : progress;
     CodeBlock a, b;
     // floats compare takes itself for a sample without a floats file, in the layout of its codes: a model's hidden
@@ -207,8 +215,8 @@ public final class Compare {
         b = eb.codes();
         // read again for the floats, once the rows are known to be few enough to hold them
         int bits = reader.hasMagnitudes() ? reader.magnitudeBits() : 0;
-        derivedA = keepFloats(sa, p.aFloats(), ea.codes(), "A", notes, bits) ? load(reader, sa, "A", prog, new ArrayList<>(), true).activations() : null;
-        derivedB = keepFloats(sb, p.bFloats(), eb.codes(), "B", notes, bits) ? load(reader, sb, "B", prog, new ArrayList<>(), true).activations() : null;
+        derivedA = withFloats && keepFloats(sa, p.aFloats(), ea.codes(), "A", notes, bits) ? load(reader, sa, "A", prog, new ArrayList<>(), true).activations() : null;
+        derivedB = withFloats && keepFloats(sb, p.bFloats(), eb.codes(), "B", notes, bits) ? load(reader, sb, "B", prog, new ArrayList<>(), true).activations() : null;
         floatsFrom = new String[] {floatsFrom(sa, bits), floatsFrom(sb, bits)};
       }
     } else {
@@ -220,8 +228,8 @@ public final class Compare {
       SourceColumns.check(ra.columns(), "sample A (" + sa.source().file() + ")", rb.columns(), sb.source().file().toString());
       a = ra.codes();
       b = rb.codes();
-      derivedA = keepFloats(sa, p.aFloats(), ra.codes(), "A", notes, 0) ? read(sa.source(), p, enc, prog, true).activations() : null;
-      derivedB = keepFloats(sb, p.bFloats(), rb.codes(), "B", notes, 0) ? read(sb.source(), p, encB, prog, true).activations() : null;
+      derivedA = withFloats && keepFloats(sa, p.aFloats(), ra.codes(), "A", notes, 0) ? read(sa.source(), p, enc, prog, true).activations() : null;
+      derivedB = withFloats && keepFloats(sb, p.bFloats(), rb.codes(), "B", notes, 0) ? read(sb.source(), p, encB, prog, true).activations() : null;
       floatsFrom = new String[] {floatsFrom(sa, 0), floatsFrom(sb, 0)};
       if (ra.notes() != null) notes.addAll(ra.notes());
       if (rb.notes() != null) notes.addAll(rb.notes());
@@ -238,8 +246,8 @@ public final class Compare {
     }
     checkRows(a, sa, "A");
     checkRows(b, sb, "B");
-    FloatFile ffa = derivedA != null ? derivedFloats(derivedA, full, a, floatsFrom[0], "A", notes) : floats(p.aFloats(), sa, p, "A"),
-        ffb = derivedB != null ? derivedFloats(derivedB, full, b, floatsFrom[1], "B", notes) : floats(p.bFloats(), sb, p, "B");
+    FloatFile ffa = !withFloats ? null : derivedA != null ? derivedFloats(derivedA, full, a, floatsFrom[0], "A", notes) : floats(p.aFloats(), sa, p, "A"),
+        ffb = !withFloats ? null : derivedB != null ? derivedFloats(derivedB, full, b, floatsFrom[1], "B", notes) : floats(p.bFloats(), sb, p, "B");
     FloatSample fa = ffa == null ? null : ffa.values(), fb = ffb == null ? null : ffb.values();
     for (FloatFile f : new FloatFile[] {ffa, ffb}) // how a float file was read, unless its sample's file (the same) said so
       if (f != null) for (String n : f.notes()) if (!notes.contains(n)) notes.add(n);
