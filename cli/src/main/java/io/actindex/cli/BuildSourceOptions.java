@@ -59,8 +59,8 @@ public final class BuildSourceOptions {
   void check(Path model, boolean modelRequiredForInputs) {
     int given = (activations != null ? 1 : 0) + (codes != null ? 1 : 0) + (inputs != null ? 1 : 0);
     if (given != 1)
-      throw new ParameterException(mixee.commandLine(),
-          "give exactly one source: --activations FILE, --codes FILE, or --model FILE --inputs FILE");
+      throw new ParameterException(mixee.commandLine(), "give exactly one source: --activations FILE, --codes FILE, or "
+          + (modelRequiredForInputs ? "--model FILE --inputs FILE" : "--inputs FILE (run through the model stored in the index)"));
     if (model != null && inputs == null)
       throw new ParameterException(mixee.commandLine(), "--model goes with --inputs");
     if (modelRequiredForInputs && inputs != null && model == null)

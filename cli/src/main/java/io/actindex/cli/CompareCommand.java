@@ -51,10 +51,10 @@ final class CompareCommand implements Callable<Integer> {
   Path index;
 
   @Option(names = "--kind", paramLabel = "KIND", defaultValue = "activations",
-      description = "What --a and --b hold: activations (.npy, .npz, .csv), codes (.npy of 0/1 or packed bits) or inputs (run through --model or the index's model). Default: ${DEFAULT-VALUE}; with --index, what the index was built from (for a model's index, inputs or hidden activations by the file's width).")
+      description = "What --a and --b hold: activations (.npy, .npz, .csv), codes (.npy of 0/1 or packed bits) or inputs (run through --model or the index's model). Default: ${DEFAULT-VALUE}, inputs with --model; with --index, what the index was built from (for a model's index, inputs or hidden activations by the file's width).")
   Source.Kind kind;
 
-  @Option(names = "--model", paramLabel = "FILE", description = "MLP (safetensors) for --kind inputs without an index.")
+  @Option(names = "--model", paramLabel = "FILE", description = "MLP (safetensors) that --a and --b (model inputs: --kind inputs, the default with --model) are run through, without an index.")
   Path model;
 
   @Option(names = "--threshold", paramLabel = "T", description = "Without an index: a neuron is on when its activation is > T (default: > 0).")
@@ -122,6 +122,7 @@ final class CompareCommand implements Callable<Integer> {
     if (index != null && (threshold != null || median || model != null || codeLayout != null))
       throw new ParameterException(spec.commandLine(), "with --index, files are encoded as the index was built: drop --threshold, --median, --model and --code-layout");
     if (threshold != null && median) throw new ParameterException(spec.commandLine(), "give --threshold or --median, not both");
+    if (model != null && !GivenOptions.given(spec, "--kind")) kind = Source.Kind.INPUTS; // files run through a model hold its inputs
     if (model != null && kind != Source.Kind.INPUTS) throw new ParameterException(spec.commandLine(), "--model goes with --kind inputs");
     if (codeLayout != null && kind != Source.Kind.CODES) throw new ParameterException(spec.commandLine(), "--code-layout goes with --kind codes");
     if ((threshold != null || median) && kind == Source.Kind.CODES)

@@ -64,7 +64,18 @@ final class ErrorHandler implements CommandLine.IParameterExceptionHandler, Comm
     boolean command = !cl.getSubcommands().isEmpty() && !first.startsWith("-");
     String near = nearest(first, first.startsWith("-") ? cl.getCommandSpec().optionsMap().keySet() : cl.getSubcommands().keySet());
     String hint = near == null ? "" : "; did you mean " + near + "?";
+    String build = buildOnly(cl, first);
+    if (build != null) hint = "; " + build + " is a build option: add encodes its rows the way the index was built (its rule, layers,"
+        + " kept magnitudes and, for --inputs, the model stored in the index)";
     return (command ? "unknown command '" + first + "'" : ex.getMessage()) + hint;
+  }
+
+  /** {@code typed} (up to any {@code =VALUE}) when the command is {@code add} and it is an option of {@code build}; else null. */
+  private static String buildOnly(CommandLine cl, String typed) {
+    CommandLine parent = cl.getParent();
+    if (!"add".equals(cl.getCommandName()) || parent == null || parent.getSubcommands().get("build") == null) return null;
+    String option = typed.contains("=") ? typed.substring(0, typed.indexOf('=')) : typed;
+    return parent.getSubcommands().get("build").getCommandSpec().optionsMap().containsKey(option) ? option : null;
   }
 
   /**

@@ -187,6 +187,159 @@ class CompareEndToEndTest {
     assertThat(inferred).isEqualTo(ok(Cli.run(concat(onCodes, "--kind", "codes"))).out()).doesNotContain("binarized");
   }
 
+  /**
+   * Samples of model inputs (with an index built from the model, or with --model) come with the
+   * full-precision reference: the model's hidden activations on them, the same statistics as those
+   * activations given as --a-floats/--b-floats (computed here by hand in double, saved as float32);
+   * with --layers only that layer's units. A float file given for one sample is used for it.
+   */
+  @Test
+  void inputsThroughAModelGiveTheFloatReference() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(402));
+    int inputs = 3;
+    // float32 values (the weights may be stored as float32), so that the computation by hand below uses the model's own weights
+    double[] w0 = r.doubles(4L * inputs, -1, 1).map(v -> (float) v).toArray(), b0 = r.doubles(4, -0.5, 0.5).map(v -> (float) v).toArray();
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {4, inputs}, w0));
+    t.put("0.bias", new SafetensorsWriter.Tensor(new long[] {4}, b0));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {3, 4}, r.doubles(12, -1, 1).toArray()));
+    t.put("2.bias", new SafetensorsWriter.Tensor(new long[] {3}, r.doubles(3, -0.5, 0.5).toArray()));
+    t.put("4.weight", new SafetensorsWriter.Tensor(new long[] {2, 3}, r.doubles(6, -1, 1).toArray()));
+    Path model = tmp.resolve("m.safetensors");
+    SafetensorsWriter.write(model, t, Map.of());
+    float[][] xa = SourcesEndToEndTest.activations(20, inputs, r), xb = SourcesEndToEndTest.activations(16, inputs, r);
+    for (float[] row : xb) row[0] += 1; // a shift
+    Path ia = Files2.floats(tmp.resolve("ia.npy"), xa), ib = Files2.floats(tmp.resolve("ib.npy"), xb);
+    Path idx = tmp.resolve("idx");
+    ok(Cli.run("build", "--out", idx.toString(), "--model", model.toString(), "--inputs", ia.toString()));
+    // the first hidden layer by hand: ReLU(W0 x + b0), in double, kept as float32 as activations files are
+    Path ha = Files2.floats(tmp.resolve("ha.npy"), firstLayer(xa, w0, b0)), hb = Files2.floats(tmp.resolve("hb.npy"), firstLayer(xb, w0, b0));
+    String[] common = {"--a", ia.toString(), "--b", ib.toString(), "--permutations", "50", "--format", "json", "--layers", "0"};
+    JsonNode byHand = NearestEndToEndTest.json(concat(concat(new String[] {"compare", "--index", idx.toString()}, common),
+        "--a-floats", ha.toString(), "--b-floats", hb.toString()));
+    assertThat(byHand.get("floats").get("columns").asInt()).isEqualTo(4);
+    for (String[] how : List.of(new String[] {"compare", "--index", idx.toString()}, new String[] {"compare", "--model", model.toString(),
+        "--kind", "inputs"})) {
+      JsonNode doc = NearestEndToEndTest.json(concat(how, common));
+      String what = String.join(" ", how);
+      assertThat(doc.get("floats_absent").isNull()).as(what).isTrue();
+      assertThat(doc.get("floats").get("columns").asInt()).as(what).isEqualTo(4);
+      assertThat(doc.get("floats").get("frechet").asDouble()).as(what).isCloseTo(byHand.get("floats").get("frechet").asDouble(), within(1e-9));
+      assertThat(doc.get("floats").get("mmd").get("mmd2").asDouble()).as(what)
+          .isCloseTo(byHand.get("floats").get("mmd").get("mmd2").asDouble(), within(1e-12));
+      assertThat(doc.get("notes").toString()).as(what).contains("float sample A: the model's hidden activations (after ReLU) on " + ia + ", 4 units");
+      // B's floats from a file: used for B, A's from the model
+      JsonNode mixed = NearestEndToEndTest.json(concat(concat(how, common), "--b-floats", hb.toString()));
+      assertThat(mixed.get("floats").get("frechet").asDouble()).as(what).isCloseTo(byHand.get("floats").get("frechet").asDouble(), within(1e-9));
+      assertThat(mixed.get("notes").toString()).as(what).contains("float sample A:").doesNotContain("float sample B:");
+    }
+    // --model alone: the files are its inputs (was refused: "--model goes with --kind inputs")
+    String[] bare = concat(new String[] {"compare", "--model", model.toString()}, common);
+    assertThat(ok(Cli.run(bare)).out()).isEqualTo(ok(Cli.run(concat(bare, "--kind", "inputs"))).out());
+    Cli.Result asActivations = Cli.run(concat(bare, "--kind", "activations"));
+    assertThat(asActivations.code()).as(asActivations.describe()).isEqualTo(ExitCodes.USAGE);
+    assertThat(asActivations.err()).as(asActivations.describe()).contains("--model goes with --kind inputs");
+    // every hidden layer: 4 + 3 units
+    JsonNode all = NearestEndToEndTest.json("compare", "--index", idx.toString(), "--a", ia.toString(), "--b", ib.toString(), "--permutations", "20",
+        "--format", "json");
+    assertThat(all.get("floats").get("columns").asInt()).isEqualTo(7);
+  }
+
+  /**
+   * A sample of more rows x hidden units than {@link Compare#FLOATS_MAX} keeps no model floats
+   * (they would take gigabytes, or not fit in one array): a note says so and names --a-floats; the
+   * other sample's are still kept.
+   */
+  @Test
+  void tooManyModelActivationsAreNotKeptAsFloats() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(403));
+    int hidden = 4096, rows = (int) (Compare.FLOATS_MAX / hidden) + 1;
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {hidden, 2}, r.doubles(2L * hidden, -1, 1).toArray()));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {2, hidden}, r.doubles(2L * hidden, -1, 1).toArray()));
+    Path model = tmp.resolve("wide.safetensors");
+    SafetensorsWriter.write(model, t, Map.of());
+    Path a = Files2.floats(tmp.resolve("a.npy"), SourcesEndToEndTest.activations(rows, 2, r));
+    Path b = Files2.floats(tmp.resolve("b.npy"), SourcesEndToEndTest.activations(8, 2, r));
+    JsonNode doc = NearestEndToEndTest.json("compare", "--model", model.toString(), "--a", a.toString(), "--b", b.toString(),
+        "--permutations", "1", "--matrix-rows", "2", "--sinkhorn-rows", "2", "--format", "json");
+    assertThat(doc.get("floats").isNull()).isTrue();
+    assertThat(doc.get("floats_absent").asText()).startsWith("no float activations for A ");
+    assertThat(doc.get("notes").toString()).contains("float sample A: the model's hidden activations (after ReLU) on " + a + " are not taken as its floats: "
+        + rows + " rows of " + hidden + " units are more than " + Compare.FLOATS_MAX + " values; give --a-floats")
+        .contains("float sample B: the model's hidden activations (after ReLU) on " + b);
+  }
+
+  /**
+   * Samples chosen by --a-where/--b-where on an index that keeps magnitudes come with the float
+   * reference from them: the same statistics as the dequantised magnitudes (read here through
+   * IndexReader) given as --a-floats/--b-floats; with --layers that layer's units; an index that
+   * keeps none says there are no floats.
+   */
+  @Test
+  void filteredSamplesTakeTheKeptMagnitudesAsFloats() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(404));
+    float[][] acts = SourcesEndToEndTest.activations(60, 9, r);
+    List<String> meta = new ArrayList<>(List.of("key,split"));
+    for (int i = 0; i < acts.length; i++) meta.add("k" + i + "," + (i % 3 == 0 ? "b" : "a"));
+    Path npz = tmp.resolve("acts.npz");
+    float[][] h1 = new float[acts.length][], h2 = new float[acts.length][];
+    for (int i = 0; i < acts.length; i++) {
+      h1[i] = java.util.Arrays.copyOfRange(acts[i], 0, 5);
+      h2[i] = java.util.Arrays.copyOfRange(acts[i], 5, 9);
+    }
+    try (io.actindex.encode.io.NpzWriter z = io.actindex.encode.io.NpzWriter.create(npz)) {
+      for (float[][] layer : List.of(h1, h2)) {
+        float[] flat = new float[layer.length * layer[0].length];
+        for (int i = 0; i < layer.length; i++) System.arraycopy(layer[i], 0, flat, i * layer[i].length, layer[i].length);
+        z.member(layer == h1 ? "h1" : "h2", io.actindex.encode.io.NpyDtype.FLOAT32, layer[0].length).write(flat, layer.length);
+      }
+      z.commit();
+    }
+    Path metaCsv = Files2.text(tmp.resolve("m.csv"), meta), idx = tmp.resolve("idx"), off = tmp.resolve("off");
+    ok(Cli.run("build", "--out", idx.toString(), "--activations", npz.toString(), "--meta", metaCsv.toString()));
+    ok(Cli.run("build", "--out", off.toString(), "--activations", npz.toString(), "--meta", metaCsv.toString(), "--magnitudes", "off"));
+    float[][] keptA = new float[40][9], keptB = new float[20][9];
+    try (io.actindex.index.store.IndexReader reader = io.actindex.index.store.IndexReader.open(idx)) {
+      for (int i = 0; i < acts.length; i++) assertThat(reader.magnitudes(i, i % 3 == 0 ? keptB[i / 3] : keptA[i - i / 3 - 1], 0)).isTrue();
+    }
+    Path fa = Files2.floats(tmp.resolve("fa.npy"), keptA), fb = Files2.floats(tmp.resolve("fb.npy"), keptB);
+    for (List<String> layers : List.of(List.<String>of(), List.of("--layers", "h2"))) {
+      String[] where = concat(new String[] {"compare", "--index", idx.toString(), "--a-where", "split = a", "--b-where", "split = b",
+          "--permutations", "50", "--format", "json"}, layers.toArray(String[]::new));
+      JsonNode derived = NearestEndToEndTest.json(where);
+      String[] withFiles = concat(where, "--a-floats", fa.toString(), "--b-floats", fb.toString());
+      if (!layers.isEmpty()) { // a floats file is read whole: give the layer's columns
+        float[][] la = new float[40][], lb = new float[20][];
+        for (int i = 0; i < 40; i++) la[i] = java.util.Arrays.copyOfRange(keptA[i], 5, 9);
+        for (int i = 0; i < 20; i++) lb[i] = java.util.Arrays.copyOfRange(keptB[i], 5, 9);
+        withFiles = concat(where, "--a-floats", Files2.floats(tmp.resolve("la.npy"), la).toString(), "--b-floats",
+            Files2.floats(tmp.resolve("lb.npy"), lb).toString());
+      }
+      JsonNode byHand = NearestEndToEndTest.json(withFiles);
+      String what = String.join(" ", layers);
+      assertThat(derived.get("floats").get("columns").asInt()).as(what).isEqualTo(layers.isEmpty() ? 9 : 4);
+      assertThat(derived.get("floats")).as(what).isEqualTo(byHand.get("floats"));
+      assertThat(derived.get("notes").toString()).as(what)
+          .contains("float sample A: the index's kept 8-bit magnitudes (dequantised) of where split = a, " + (layers.isEmpty() ? 9 : 4) + " units");
+    }
+    JsonNode none = NearestEndToEndTest.json("compare", "--index", off.toString(), "--a-where", "split = a", "--b-where", "split = b",
+        "--permutations", "20", "--format", "json");
+    assertThat(none.get("floats").isNull()).isTrue();
+    assertThat(none.get("floats_absent").asText()).startsWith("no float activations for A and B");
+  }
+
+  private static float[][] firstLayer(float[][] x, double[] w, double[] b) {
+    float[][] h = new float[x.length][b.length];
+    for (int i = 0; i < x.length; i++)
+      for (int o = 0; o < b.length; o++) {
+        double s = b[o];
+        for (int j = 0; j < x[i].length; j++) s += w[o * x[i].length + j] * x[i][j];
+        h[i][o] = (float) Math.max(0, s);
+      }
+    return h;
+  }
+
   private static Cli.Result ok(Cli.Result r) {
     assertThat(r.code()).as(r.describe()).isZero();
     return r;

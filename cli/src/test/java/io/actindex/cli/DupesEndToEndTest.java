@@ -203,11 +203,30 @@ class DupesEndToEndTest {
       Cli.Result b = Cli.run(args.toArray(String[]::new));
       assertThat(b.code()).as(b.describe()).isZero();
       assertThat(b.err().contains("no example has a label")).as(b.describe()).isEqualTo(!named);
+      assertThat(b.err().contains("column 'target' looks like one: name it with --label-column")).as(b.describe()).isEqualTo(!named);
       Cli.Result d = Cli.run("dupes", "--index", idx.toString(), "--radius", "0", "--conflicting-labels", "--format", "json");
       assertThat(d.code()).as(d.describe()).isZero();
       int conflicts = io.actindex.cli.format.JsonWriterTest.STRICT.readTree(d.out()).get("summary").get("conflicting_groups").asInt();
       assertThat(conflicts).as(d.describe()).isEqualTo(named ? 3 : 0);
       assertThat(d.err().contains("no example in " + idx + " has a label")).as(d.describe()).isEqualTo(!named);
+    }
+  }
+
+  /** A label column named in another case ({@code Label}) or {@code y} is named in the build's note; other columns are not. */
+  @Test
+  void theNoLabelNoteNamesColumnsNamedLikeALabel() throws Exception {
+    boolean[][] codes = new boolean[3][8];
+    for (int i = 0; i < 3; i++) codes[i][i] = true;
+    Path npy = Files2.bits(tmp.resolve("c.npy"), codes);
+    Path named = Files2.text(tmp.resolve("m1.csv"), List.of("key,Label,y,colour", "a,0,1,red", "b,1,0,blue", "c,0,1,red"));
+    Path other = Files2.text(tmp.resolve("m2.csv"), List.of("key,colour", "a,red", "b,blue", "c,red"));
+    for (Path meta : List.of(named, other)) {
+      Cli.Result b = Cli.run("build", "--out", tmp.resolve("idx-" + meta.getFileName()).toString(), "--codes", npy.toString(),
+          "--meta", meta.toString());
+      assertThat(b.code()).as(b.describe()).isZero();
+      assertThat(b.err()).as(b.describe()).contains("no example has a label");
+      if (meta == named) assertThat(b.err()).as(b.describe()).contains("column 'Label', 'y' look like one: name it with --label-column");
+      else assertThat(b.err()).as(b.describe()).doesNotContain("like one");
     }
   }
 

@@ -150,6 +150,31 @@ class MainTest {
     assertThat(none.err()).as(none.describe()).doesNotContain("did you mean");
   }
 
+  /**
+   * A build option typed on add (as a user repeats the build line: add --model M --inputs X) says
+   * that add encodes its rows as the index was built; an option neither command has gets no such
+   * line; add without a source names the sources add takes (there is no --model there).
+   */
+  @Test
+  void aBuildOptionOnAddSaysThatAddEncodesAsTheIndexWasBuilt() {
+    for (String[] typed : new String[][] {{"--model", "m.safetensors"}, {"--threshold=0.5"}, {"--layers", "fc1"}, {"--no-output-layer"}}) {
+      java.util.List<String> args = new java.util.ArrayList<>(java.util.List.of("add", "--index", "x", "--inputs", "x.npy"));
+      args.addAll(java.util.List.of(typed));
+      Cli.Result r = Cli.run(args.toArray(String[]::new));
+      assertThat(r.code()).as(r.describe()).isEqualTo(ExitCodes.USAGE);
+      String option = typed[0].contains("=") ? typed[0].substring(0, typed[0].indexOf('=')) : typed[0];
+      assertThat(r.err()).as(r.describe()).contains("; " + option + " is a build option: add encodes its rows the way the index was built");
+    }
+    Cli.Result other = Cli.run("add", "--index", "x", "--inputs", "x.npy", "--frobnicate");
+    assertThat(other.err()).as(other.describe()).doesNotContain("build option");
+    Cli.Result onBuild = Cli.run("build", "--out", "x", "--inputs", "x.npy", "--frobnicate");
+    assertThat(onBuild.err()).as(onBuild.describe()).doesNotContain("build option");
+    Cli.Result none = Cli.run("add", "--index", "x");
+    assertThat(none.err()).as(none.describe())
+        .contains("give exactly one source: --activations FILE, --codes FILE, or --inputs FILE (run through the model stored in the index)");
+    assertThat(Cli.run("build", "--out", "x").err()).contains("or --model FILE --inputs FILE");
+  }
+
   @Test
   void missingRequiredOptionIsBadUsage() {
     Cli.Result r = Cli.run("nearest", "--activations", "q.npy");

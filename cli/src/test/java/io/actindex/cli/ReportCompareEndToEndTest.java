@@ -33,6 +33,11 @@ class ReportCompareEndToEndTest {
     // hidden activations were read as the model's inputs and refused (4 columns, the model takes 3)
     assertThat(comparison(idx, ha, hb)).isEqualTo(comparison(idx, ha, hb, "--compare-kind", "activations"));
     assertThat(comparison(idx, ia, ib)).isEqualTo(comparison(idx, ia, ib, "--compare-kind", "inputs"));
+    // the page shows no floats: report takes none from the model, while compare on the same files does (and says so)
+    Cli.Result page = ok(report(idx, "floats.html", ia, ib));
+    assertThat(page.err()).as(page.describe()).doesNotContain("float sample");
+    Cli.Result compared = ok(Cli.run("compare", "--index", idx.toString(), "--a", ia, "--b", ib, "--permutations", "20"));
+    assertThat(compared.out()).as(compared.describe()).contains("float sample A: the model's hidden activations (after ReLU) on " + ia);
     Cli.Result asInputs = report(idx, "wrong.html", ha, hb, "--compare-kind", "inputs");
     assertThat(asInputs.code()).as("a typed kind is used as given: " + asInputs.describe()).isEqualTo(ExitCodes.USAGE);
 

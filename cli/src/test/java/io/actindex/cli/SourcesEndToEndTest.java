@@ -159,6 +159,13 @@ class SourcesEndToEndTest {
     assertThat(b.code()).as(b.describe()).isZero();
     JsonNode doc = NearestEndToEndTest.json("nearest", "--index", idx.toString(), "--inputs",
         Files2.floats(tmp.resolve("qx.npy"), qx).toString(), "-k", "6", "--format", "json");
+    // --layers naming the output layer: refused, saying that it is the output layer and how to encode it
+    Cli.Result out = Cli.run("build", "--out", tmp.resolve("idx-out").toString(), "--model", model.toString(), "--inputs",
+        tmp.resolve("x.npy").toString(), "--layers", "4");
+    assertThat(out.code()).as(out.describe()).isEqualTo(2);
+    assertThat(out.err()).as(out.describe()).contains("no hidden layer named '4' (hidden layers: [0, 2]); '4' is the output layer,"
+        + " which is not encoded (--no-output-layer makes every layer a code layer)");
+    assertThat(tmp.resolve("idx-out")).doesNotExist();
     boolean[][] codes = new boolean[x.length][], qcodes = new boolean[qx.length][];
     for (int i = 0; i < x.length; i++) codes[i] = hidden(x[i], w, bias);
     for (int i = 0; i < qx.length; i++) qcodes[i] = hidden(qx[i], w, bias);

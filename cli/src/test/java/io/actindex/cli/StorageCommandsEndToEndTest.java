@@ -107,6 +107,25 @@ class StorageCommandsEndToEndTest {
   }
 
   /**
+   * The metadata CSV given as the keys file: its lines are no keys, so nothing is deleted, and the
+   * refusal says that the lines are CSV rows whose first cell is a live key; a file of plain keys
+   * that are not live gets no such hint.
+   */
+  @Test
+  void aMetadataCsvAsTheKeysFileIsToldApart() throws Exception {
+    Path meta = Files2.text(tmp.resolve("meta.csv"), List.of("key,label", "k5,a", "k7,b"));
+    Map<String, String> before = Files2.checksums(idx);
+    Cli.Result r = Cli.run("delete", "--index", idx.toString(), "--keys", meta.toString());
+    refused(r, "line 1: 'key,label' is not a live example");
+    assertThat(r.err()).as(r.describe()).contains("; 2 of these lines are CSV rows whose first cell is a live example's key (line 2: 'k5,a'):"
+        + " the keys file is read one whole line per key, not as a CSV file: list the keys alone, one per line");
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+    Cli.Result plain = Cli.run("delete", "--index", idx.toString(), "--keys", Files2.text(tmp.resolve("typo.txt"), List.of("k5x,a")).toString());
+    refused(plain, "line 1: 'k5x,a' is not a live example");
+    assertThat(plain.err()).as(plain.describe()).doesNotContain("CSV rows");
+  }
+
+  /**
    * The spaces (or a stray carriage return) around a key are not part of it, as in the metadata CSV:
    * a key line {@code '  k7 '} deletes k7 (it was refused, with a "did you mean 'k7'" hint); a key
    * of no live example still refuses the delete, naming its file and line.

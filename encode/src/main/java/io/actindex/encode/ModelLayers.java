@@ -39,7 +39,10 @@ final class ModelLayers implements LayerSource {
       names = hidden;
     } else {
       for (String s : selected)
-        if (!hidden.contains(s)) throw new BadInputException(modelName + ": no hidden layer named " + BadInputException.quote(s) + " (hidden layers: " + hidden + ")");
+        if (!hidden.contains(s))
+          throw new BadInputException(modelName + ": no hidden layer named " + BadInputException.quote(s) + " (hidden layers: " + hidden + ")"
+              + (s.equals(mlp.layers().getLast().name()) && !hidden.contains(s)
+                  ? "; " + BadInputException.quote(s) + " is the output layer, which is not encoded (`outputLayer false` makes every layer a code layer)" : ""));
       names = hidden.stream().filter(selected::contains).toList();
     }
     layerIndex = names.stream().mapToInt(hidden::indexOf).toArray();

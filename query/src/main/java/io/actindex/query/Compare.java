@@ -187,29 +187,50 @@ public final class Compare {
       List<Neuron> neurons, int neuronsMoved, String correction, double alpha, String verdict, List<String> notes) {}
 
   public static Result run(Params p, Progress progress) {
+    return run(p, progress, true);
+  }
+
+  /**
+   * As {@link #run(Params, Progress)}; with {@code withFloats} false (the report, which shows no floats)
+   * no float file is read and no floats are taken from a model or kept magnitudes.
+   */
+  static Result run(Params p, Progress progress, boolean withFloats) {
     Progress prog = progress == null ? Progress.NONE : progress;
     CodeBlock a, b;
+    // floats compare takes itself for a sample without a floats file, in the layout of its codes: a model's hidden
+    // activations on a file of inputs, or the kept magnitudes of the examples a filter selects; and where they come from
+    float[] derivedA, derivedB;
+    String[] floatsFrom;
     List<String> notes = new ArrayList<>();
     Sample sa = p.a(), sb = p.b();
     if (p.index() != null) {
       try (IndexReader reader = IndexReader.open(p.index())) {
         sa = ofIndexKind(reader, sa);
         sb = ofIndexKind(reader, sb);
-        QuerySource.Encoded ea = load(reader, sa, "A", prog, notes), eb = load(reader, sb, "B", prog, notes);
+        QuerySource.Encoded ea = load(reader, sa, "A", prog, notes, false), eb = load(reader, sb, "B", prog, notes, false);
         // each file was checked against the build's header; B against A too (an index built from .npy records none)
         if (sb.source() != null)
           SourceColumns.check(ea.columns(), "sample A (" + sa.brief() + ")", eb.columns(), sb.source().file().toString());
         a = ea.codes();
         b = eb.codes();
+        // read again for the floats, once the rows are known to be few enough to hold them
+        int bits = reader.hasMagnitudes() ? reader.magnitudeBits() : 0;
+        derivedA = withFloats && keepFloats(sa, p.aFloats(), ea.codes(), "A", notes, bits) ? load(reader, sa, "A", prog, new ArrayList<>(), true).activations() : null;
+        derivedB = withFloats && keepFloats(sb, p.bFloats(), eb.codes(), "B", notes, bits) ? load(reader, sb, "B", prog, new ArrayList<>(), true).activations() : null;
+        floatsFrom = new String[] {floatsFrom(sa, bits), floatsFrom(sb, bits)};
       }
     } else {
       EncodeOptions enc = p.encode() == null ? EncodeOptions.positive() : p.encode();
-      Encoding.Read ra = read(sa.source(), p, enc, prog);
+      Encoding.Read ra = read(sa.source(), p, enc, prog, false);
       // B is encoded with A's options: with per-neuron medians, A's medians (A is the reference)
-      Encoding.Read rb = read(sb.source(), p, ra.options() == null ? enc : ra.options(), prog);
+      EncodeOptions encB = ra.options() == null ? enc : ra.options();
+      Encoding.Read rb = read(sb.source(), p, encB, prog, false);
       SourceColumns.check(ra.columns(), "sample A (" + sa.source().file() + ")", rb.columns(), sb.source().file().toString());
       a = ra.codes();
       b = rb.codes();
+      derivedA = withFloats && keepFloats(sa, p.aFloats(), ra.codes(), "A", notes, 0) ? read(sa.source(), p, enc, prog, true).activations() : null;
+      derivedB = withFloats && keepFloats(sb, p.bFloats(), rb.codes(), "B", notes, 0) ? read(sb.source(), p, encB, prog, true).activations() : null;
+      floatsFrom = new String[] {floatsFrom(sa, 0), floatsFrom(sb, 0)};
       if (ra.notes() != null) notes.addAll(ra.notes());
       if (rb.notes() != null) notes.addAll(rb.notes());
       if (!a.layout().equals(b.layout()))
@@ -217,6 +238,7 @@ public final class Compare {
             + " bits), sample A " + a.layout() + " (" + a.layout().bits() + " bits)"
             + notes.stream().filter(n -> n.contains("looks like a row index")).map(n -> "; " + n).collect(java.util.stream.Collectors.joining()));
     }
+    CodeLayout full = a.layout();
     if (!p.layers().isEmpty()) {
       CodeLayout target = subLayout(a.layout(), p.layers());
       a = Layers.project(a, target);
@@ -224,16 +246,16 @@ public final class Compare {
     }
     checkRows(a, sa, "A");
     checkRows(b, sb, "B");
-    FloatFile ffa = floats(p.aFloats(), sa, p, "A"), ffb = floats(p.bFloats(), sb, p, "B");
+    FloatFile ffa = !withFloats ? null : derivedA != null ? derivedFloats(derivedA, full, a, floatsFrom[0], "A", notes) : floats(p.aFloats(), sa, p, "A"),
+        ffb = !withFloats ? null : derivedB != null ? derivedFloats(derivedB, full, b, floatsFrom[1], "B", notes) : floats(p.bFloats(), sb, p, "B");
     FloatSample fa = ffa == null ? null : ffa.values(), fb = ffb == null ? null : ffb.values();
     for (FloatFile f : new FloatFile[] {ffa, ffb}) // how a float file was read, unless its sample's file (the same) said so
       if (f != null) for (String n : f.notes()) if (!notes.contains(n)) notes.add(n);
     if (fa != null && fb != null) // both hold activations of the same units: read by position like the samples
-      SourceColumns.check(ffa.columns(), "float sample A (" + floatsFile(p.aFloats(), sa) + ")", ffb.columns(),
-          floatsFile(p.bFloats(), sb).toString());
+      SourceColumns.check(ffa.columns(), "float sample A (" + floatsName(p.aFloats(), sa, floatsFrom[0]) + ")", ffb.columns(), floatsName(p.bFloats(), sb, floatsFrom[1]));
     if (fa != null && fb != null && fa.cols() != fb.cols()) {
-      throw new BadInputException(floatsFile(p.bFloats(), sb) + ": float sample B has " + fb.cols()
-          + " columns, float sample A (" + floatsFile(p.aFloats(), sa) + ") " + fa.cols());
+      throw new BadInputException(floatsName(p.bFloats(), sb, floatsFrom[1]) + ": float sample B has " + fb.cols()
+          + " columns, float sample A (" + floatsName(p.aFloats(), sa, floatsFrom[0]) + ") " + fa.cols());
     }
     checkPairing(fa, a, p.aFloats(), sa, "A");
     checkPairing(fb, b, p.bFloats(), sb, "B");
@@ -395,9 +417,9 @@ public final class Compare {
   }
 
   /** A sample's codes (and a file's column names) from the index: a file encoded as the index was built, or the examples --where selects. */
-  private static QuerySource.Encoded load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes) {
+  private static QuerySource.Encoded load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes, boolean activations) {
     if (s.source() != null)
-      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes, false);
+      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes, activations);
     IdSet ids;
     try {
       ids = Where.select(reader.meta(), s.where());
@@ -411,20 +433,66 @@ public final class Compare {
           + ids.count() + " of the " + reader.liveCount() + " live examples; sample " + which + " needs at least 2");
     int[] live = new int[reader.liveCount()];
     CodeBlock all = reader.liveCodes(live);
-    int w = all.wordsPerCode(), kept = 0;
+    int w = all.wordsPerCode(), bits = all.layout().bits(), kept = 0;
     long[] out = new long[Math.multiplyExact(ids.count(), w)];
+    float[] values = activations && reader.hasMagnitudes() ? new float[Math.multiplyExact(ids.count(), bits)] : null;
     for (int i = 0; i < live.length; i++)
-      if (ids.contains(live[i])) System.arraycopy(all.words(), i * w, out, kept++ * w, w);
-    return new QuerySource.Encoded(new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w)), null, null);
+      if (ids.contains(live[i])) {
+        if (values != null) reader.magnitudes(live[i], values, kept * bits);
+        System.arraycopy(all.words(), i * w, out, kept++ * w, w);
+      }
+    return new QuerySource.Encoded(new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w)),
+        values == null ? null : Arrays.copyOf(values, kept * bits), null);
   }
 
-  private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog) {
+  private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog, boolean activations) {
     Source src = s;
     if (s.kind() == Source.Kind.INPUTS && s.model() == null) {
       if (p.model() == null) throw new BadInputException(s.file() + ": inputs need a model (`model` FILE) or an index that stores one");
       src = Source.inputs(s.file(), p.model());
     }
-    return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog);
+    return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog, activations);
+  }
+
+  /** Most values (rows x units) of a sample whose floats compare takes itself (a model's activations, kept magnitudes): 256 MiB as doubles. */
+  public static final long FLOATS_MAX = 1L << 25;
+
+  /**
+   * Where compare can take a sample's floats itself, or null: a file of inputs, the model's hidden
+   * activations on it; the examples a filter selects, the index's kept magnitudes ({@code keptBits}
+   * bits per unit, 0 when it keeps none).
+   */
+  private static String floatsFrom(Sample s, int keptBits) {
+    if (s.source() != null) return s.source().kind() == Source.Kind.INPUTS ? "the model's hidden activations (after ReLU) on " + s.brief() : null;
+    return keptBits > 0 ? "the index's kept " + keptBits + "-bit magnitudes (dequantised) of " + s.brief() : null;
+  }
+
+  /**
+   * Whether compare takes a sample's floats itself ({@link #floatsFrom}): no floats file given for it,
+   * and at most {@link #FLOATS_MAX} values (else a note says why not).
+   */
+  private static boolean keepFloats(Sample s, Path given, CodeBlock codes, String which, List<String> notes, int keptBits) {
+    String from = floatsFrom(s, keptBits);
+    if (given != null || from == null) return false;
+    long values = (long) codes.size() * codes.layout().bits();
+    if (values <= FLOATS_MAX) return true;
+    notes.add(String.format(Locale.ROOT, "float sample %s: %s are not taken as its floats: %d rows of %d units are more than %d values;"
+        + " give `%sFloats` for the full-precision reference", which, from, codes.size(), codes.layout().bits(), FLOATS_MAX,
+        which.toLowerCase(Locale.ROOT)));
+    return false;
+  }
+
+  /**
+   * Floats compare took itself ({@code full}'s columns) as a sample's floats, on the compared layers
+   * ({@code codes}' layout), with a note saying where they come from.
+   */
+  private static FloatFile derivedFloats(float[] acts, CodeLayout full, CodeBlock codes, String from, String which, List<String> notes) {
+    int[] cols = Layers.columns(full, codes.layout());
+    float[] picked = Layers.pickColumns(acts, codes.size(), full.bits(), cols);
+    double[] values = new double[picked.length];
+    for (int i = 0; i < picked.length; i++) values[i] = picked[i];
+    notes.add("float sample " + which + ": " + from + ", " + cols.length + " units");
+    return new FloatFile(new FloatSample(codes.size(), cols.length, values), null, List.of());
   }
 
   private static CodeLayout subLayout(CodeLayout layout, List<String> names) {
@@ -460,6 +528,12 @@ public final class Compare {
     int rows = f.values().rows();
     if (rows < 2) throw new BadInputException(file + ": float sample " + which + " has " + rows + " rows; at least 2 are needed");
     return f;
+  }
+
+  /** Where a sample's floats come from, for messages: {@link #floatsFile}, else what compare took itself ({@link #floatsFrom}). */
+  private static String floatsName(Path given, Sample s, String from) {
+    Path file = floatsFile(given, s);
+    return file != null ? file.toString() : from;
   }
 
   /** The file a sample's floats come from: the given one, else the sample's own activations file, else null. */

@@ -67,14 +67,16 @@ public final class Delete {
 
   public static Result run(Params p) {
     int[] ids;
-    List<String> notLive = new ArrayList<>();
+    List<String> notLive = new ArrayList<>(), csvRows = new ArrayList<>();
     try (IndexReader r = IndexReader.open(p.dir())) {
-      ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile(), notLive) : Where.select(r.meta(), p.where()).toArray();
+      ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile(), notLive, csvRows) : Where.select(r.meta(), p.where()).toArray();
     }
     if (!notLive.isEmpty() && !p.skipMissing()) {
       throw new BadInputException("keys file " + p.keysFile() + " " + notLive.getFirst() + " is not a live example of the index "
           + "(never added, or deleted already)" + (notLive.size() > 1 ? ", and " + (notLive.size() - 1) + " more key(s) are not" : "")
-          + "; nothing deleted (`skipMissing` deletes the others and names these)");
+          + "; nothing deleted (`skipMissing` deletes the others and names these)"
+          + (csvRows.isEmpty() ? "" : "; " + csvRows.size() + " of these lines are CSV rows whose first cell is a live example's key ("
+              + csvRows.getFirst() + "): the keys file is read one whole line per key, not as a CSV file: list the keys alone, one per line"));
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
       int deleted = w.delete(ids);
@@ -87,10 +89,11 @@ public final class Delete {
 
   /**
    * The ids of the keys listed in {@code file} that name live examples, ascending, each once; each
-   * other key goes to {@code notLive} as {@code line N: 'KEY'}. A line is matched as a key of the
-   * metadata CSV is read, without the whitespace around it ({@link MetaStore#idOfKey}).
+   * other key goes to {@code notLive} as {@code line N: 'KEY'}, and also to {@code csvRows} when the
+   * text before its first comma is a live key (a metadata CSV given as the keys file). A line is
+   * matched as a key of the metadata CSV is read, without the whitespace around it ({@link MetaStore#idOfKey}).
    */
-  static int[] byKeys(MetaStore meta, Path file, List<String> notLive) {
+  static int[] byKeys(MetaStore meta, Path file, List<String> notLive, List<String> csvRows) {
     byte[] bytes;
     try {
       bytes = Files.readAllBytes(file);
@@ -116,7 +119,11 @@ public final class Delete {
         throw new BadInputException("keys file " + file + " line " + (i + 1) + ": longer than " + MAX_KEY_BYTES + " characters");
       int id = meta.idOfKey(key);
       if (id >= 0) ids.add(id);
-      else notLive.add("line " + (i + 1) + ": '" + Snippet.of(key) + "'");
+      else {
+        notLive.add("line " + (i + 1) + ": '" + Snippet.of(key) + "'");
+        int comma = key.indexOf(',');
+        if (comma > 0 && meta.idOfKey(key.substring(0, comma)) >= 0) csvRows.add(notLive.getLast());
+      }
     }
     return ids.toArray();
   }

@@ -234,7 +234,7 @@ public final class IndexBuilder {
       if (spelt != null) notes.add(spelt);
       if (meta != null && meta.stream().noneMatch(row -> row.containsKey("label")))
         notes.add(p.meta().file() + ": note: no example has a label (no column 'label' with a value; `labelColumn` NAME takes another, such as"
-            + " scikit-learn's 'target'), so label votes, purity and label conflicts have none to count");
+            + " scikit-learn's 'target'), so label votes, purity and label conflicts have none to count" + labelLike(meta));
       return new Result(first, codes.size(), codes.layout(), notes, read.options(), kept == null ? null : kept.quantisation(),
           w.takeWarnings());
     } catch (RuntimeException | Error e) {
@@ -244,6 +244,14 @@ public final class IndexBuilder {
           : "the index was not built, the folder was removed", e);
       throw e;
     }
+  }
+
+  /** "; column 'Label' looks like one: ..." for metadata columns named like a label in another case or under another usual name. */
+  private static String labelLike(List<Map<String, String>> meta) {
+    java.util.Set<String> names = new java.util.LinkedHashSet<>();
+    for (Map<String, String> row : meta) names.addAll(row.keySet());
+    List<String> like = names.stream().filter(io.actindex.encode.io.CsvMatrixReader::looksLikeLabel).map(n -> "'" + n + "'").toList();
+    return like.isEmpty() ? "" : "; column " + String.join(", ", like) + (like.size() == 1 ? " looks" : " look") + " like one: name it with `labelColumn`";
   }
 
   /**

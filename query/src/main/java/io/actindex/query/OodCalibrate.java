@@ -84,23 +84,8 @@ public final class OodCalibrate {
       QuerySource.Queries qa = scorer.load(source, rows);
       notes = qa.codes().notes();
       String file = source.file().toString();
-      int[] overlap = overlap(reader, qa.codes());
-      boolean looksLikeTraining = overlap[1] > 0 && 2L * overlap[0] >= overlap[1];
-      String found = overlap[0] + " of " + overlap[1] + " rows have exactly the code of the index example with the same id";
-      int rowCount = qa.codes().codes().size();
-      if (!looksLikeTraining && qa.activations() != null && reader.hasMagnitudes()) {
-        // training rows in another order, or a part of them saved to a file of its own
-        int copies = copies(reader, qa);
-        looksLikeTraining = rowCount > 0 && 2L * copies >= rowCount;
-        found = copies + " of " + rowCount + " rows are copies of indexed examples (the same code, and activations within the rounding of the kept magnitudes)";
-      } else if (!looksLikeTraining) {
-        // no activations to compare: training rows in another order still all land on an indexed code
-        int[] shared = sharedCodes(reader, qa.codes().codes());
-        looksLikeTraining = farAbove(shared);
-        found = shared[0] + " of " + shared[1] + " rows have exactly the code of an indexed example, while " + shared[2] + " of "
-            + shared[3] + " indexed examples drawn at random share their code with another (about how often rows the index does not hold"
-            + " land on an indexed code)";
-      }
+      String found = trainingRows(reader, qa);
+      boolean looksLikeTraining = found != null;
       if (looksLikeTraining && p.checkOverlap())
         throw new BadInputException(file + ": " + found + "; these look like training rows (calibrate with held-out inputs the index does not hold)");
       if (looksLikeTraining)
@@ -125,6 +110,34 @@ public final class OodCalibrate {
     }
     Result r = summary(cal, scoring);
     return new Result(cal, scoring, r.inputs(), r.min(), r.p50(), r.p90(), r.p95(), r.p99(), r.max(), r.mean(), warnings, notes);
+  }
+
+  /**
+   * What makes the rows of {@code qa} look like (part of) the training file, or null when they do
+   * not: at least half of them have exactly the code of the live example with the same id ({@link
+   * #overlap}); else, with activations and kept magnitudes, at least half are copies of indexed
+   * examples ({@link #copies}); else nearly all land on an indexed code, far more often than indexed
+   * examples share one ({@link #sharedCodes}). Their k-NN scores are then optimistically low.
+   */
+  static String trainingRows(IndexReader reader, QuerySource.Queries qa) {
+    int[] overlap = overlap(reader, qa.codes());
+    if (overlap[1] > 0 && 2L * overlap[0] >= overlap[1])
+      return overlap[0] + " of " + overlap[1] + " rows have exactly the code of the index example with the same id";
+    int rowCount = qa.codes().codes().size();
+    if (qa.activations() != null && reader.hasMagnitudes()) {
+      // training rows in another order, or a part of them saved to a file of its own
+      int copies = copies(reader, qa);
+      return rowCount > 0 && 2L * copies >= rowCount
+          ? copies + " of " + rowCount + " rows are copies of indexed examples (the same code, and activations within the rounding of the kept magnitudes)"
+          : null;
+    }
+    // no activations to compare: training rows in another order still all land on an indexed code
+    int[] shared = sharedCodes(reader, qa.codes().codes());
+    return farAbove(shared)
+        ? shared[0] + " of " + shared[1] + " rows have exactly the code of an indexed example, while " + shared[2] + " of "
+            + shared[3] + " indexed examples drawn at random share their code with another (about how often rows the index does not hold"
+            + " land on an indexed code)"
+        : null;
   }
 
   /** The summary {@code ood calibrate} prints, of a stored calibration (the report shows the same numbers). */

@@ -135,6 +135,10 @@ public final class OodEval {
         }
     Scored floats = null, refined = null;
     List<String> warnings = new ArrayList<>();
+    String training = OodCalibrate.trainingRows(reader, inQ);
+    if (training != null)
+      warnings.add(p.in().file() + ": " + training + ", as rows of the training file would; their scores are optimistically low, so every"
+          + " AUROC and FPR here is better than new in-distribution inputs would give (evaluate with held-out inputs the index does not hold)");
     Set<String> notes = new LinkedHashSet<>(in.notes()); // each once: a float file may be --in or --out itself
     notes.addAll(out.notes());
     if (p.trainFloats() != null) {

@@ -100,7 +100,7 @@ public final class Report {
       o = new Compare.Options(o.permutations(), o.seed(), o.sigma(), o.alpha(), o.top(), o.matrixRows(), o.exactMax(), o.sinkhornRows(),
           o.reg(), o.maxIter(), o.tol(), p.threads());
       Compare.Result compared = Compare.run(new Compare.Params(reader.dir(), Compare.Sample.file(a), Compare.Sample.file(b), null, null,
-          null, null, null, null, o, p.compareHeader()), null);
+          null, null, null, null, o, p.compareHeader()), null, false); // the page shows no floats: none read or taken
       ReportSections.compare(page, compared);
       notes = compared.notes();
     }

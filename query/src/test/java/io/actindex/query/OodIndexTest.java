@@ -216,6 +216,27 @@ class OodIndexTest {
     }
   }
 
+  /**
+   * {@code ood eval --in} given the training file (as {@code ood calibrate} warns of it): the k = 1
+   * variants reach AUROC 1 on rows the index holds, so a warning says the metrics are optimistic;
+   * held-out rows of the same network get none.
+   */
+  @Test
+  void evaluationOnTrainingRowsWarns() throws Exception {
+    Data d = relu(Randoms.seed(0), 300);
+    Path dir = index(tmp.resolve("idx"), d.train());
+    Path cal = npy(tmp.resolve("cal.npy"), d.cal()), train = npy(tmp.resolve("train.npy"), d.train());
+    Path queries = npy(tmp.resolve("q.npy"), d.queries());
+    OodCalibrate.run(dir, Source.codes(cal), RowRange.ALL, new OodCalibrate.Params(5, null, 0.95, null, false), Progress.NONE);
+    try (IndexReader r = IndexReader.open(dir)) {
+      OodEval.Result onTrain = OodEval.run(r, new OodEval.Params(Source.codes(train), Source.codes(queries), null, null, null), Progress.NONE);
+      assertThat(onTrain.warnings()).anySatisfy(w -> assertThat(w).startsWith(train + ": ")
+          .contains("rows have exactly the code of the index example with the same id").contains("optimistically low"));
+      OodEval.Result heldOut = OodEval.run(r, new OodEval.Params(Source.codes(cal), Source.codes(queries), null, null, null), Progress.NONE);
+      assertThat(heldOut.warnings()).noneSatisfy(w -> assertThat(w).contains("optimistically"));
+    }
+  }
+
   /** An empty --in or --out file is named (the message said only "needs rows in both --in and --out"). */
   @Test
   void anEmptyEvaluationFileIsNamed() throws Exception {

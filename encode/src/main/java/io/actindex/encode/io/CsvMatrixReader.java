@@ -118,6 +118,11 @@ public final class CsvMatrixReader implements MatrixReader {
 
   private static final Pattern LABEL_HEADER = Pattern.compile("label|labels|target|class|y", Pattern.CASE_INSENSITIVE);
 
+  /** Whether a column name is one a label column usually has ({@code label}, {@code target}, {@code y}, ... in any case). */
+  public static boolean looksLikeLabel(String columnName) {
+    return LABEL_HEADER.matcher(columnName).matches();
+  }
+
   /** The way out of a first line AUTO cannot decide on: every command that reads CSV data takes {@code --header}. */
   static final String HEADER_CHOICE = "pass `header` yes (a header) or `header` no (data)";
 

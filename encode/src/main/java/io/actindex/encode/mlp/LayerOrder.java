@@ -85,6 +85,16 @@ public final class LayerOrder {
       throw new BadInputException(head + (chains.isEmpty() ? "no order of the layers chains" : candidates(chains)));
     }
     List<List<String>> chains = chains(file, layers, inputWidth);
+    if (inputWidth >= 0 && chains.stream().noneMatch(c -> byName.get(c.getFirst()).in() == inputWidth)) {
+      // no order starts with the input width: read as [in, out], do the weights chain from it?
+      List<Shape> flipped = layers.stream().map(l -> new Shape(l.name(), l.in(), l.out())).toList();
+      List<List<String>> from = chains(file, flipped, inputWidth).stream().filter(c -> byName.get(c.getFirst()).out() == inputWidth).toList();
+      if (!from.isEmpty())
+        throw new BadInputException(file + ": no order of the weights " + shapes(layers) + " read as [out, in] starts with the input width " + inputWidth
+            + "; read as [in, out] (how scikit-learn's coefs_, Keras and JAX/Flax store a dense kernel) they chain as "
+            + String.join(",", from.getFirst().stream().map(BadInputException::plain).toList()) + " from it: save each one transposed, as [out, in]"
+            + " like PyTorch's nn.Linear: np.ascontiguousarray(W.T)");
+    }
     if (chains.size() == 1) return new Resolved(chains.getFirst(), From.SHAPES);
     if (chains.isEmpty())
       throw new BadInputException(file + ": no order of the layers " + shapes(layers) + " chains (each weight [out, in] must take the previous layer's out as its in"

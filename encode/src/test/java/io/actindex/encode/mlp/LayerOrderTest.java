@@ -95,6 +95,26 @@ class LayerOrderTest {
           .hasMessageContaining("`layerOrder` 2,0").hasMessageNotContaining("transposed");
   }
 
+  /**
+   * The same under names that give no order (fc1, fc2, fc3, head of an 11 -> 48 -> 100 -> 17 -> 5
+   * network saved as [in, out], no biases): the one order of the shapes, head first, takes 5 inputs;
+   * the refusal named head's width ("rows have 11 values but the model (layer 'head') takes 5"). With
+   * the input width known it now says to transpose them and names the order they chain in from it.
+   */
+  @Test
+  void unnumberedWeightsThatChainOnlyAsInOutFromTheInputWidthAreCalledTransposed() {
+    List<Shape> kernels = List.of(s("fc1", 11, 48), s("fc2", 48, 100), s("fc3", 100, 17), s("head", 17, 5));
+    assertThatThrownBy(() -> LayerOrder.resolve("m.safetensors", kernels, null, 11)).isInstanceOf(BadInputException.class)
+        .hasMessageContaining("m.safetensors: no order of the weights").hasMessageContaining("starts with the input width 11")
+        .hasMessageContaining("they chain as fc1,fc2,fc3,head from it").hasMessageContaining("np.ascontiguousarray(W.T)");
+    // no input width known (a stored order is used then): the one order of the shapes, as before
+    assertThat(LayerOrder.resolve("m.safetensors", kernels, null, -1).order()).containsExactly("head", "fc3", "fc2", "fc1");
+    // stored right, the input width picks the order; another width that neither reading starts with: the order of the shapes
+    List<Shape> right = kernels.stream().map(k -> s(k.name(), k.in(), k.out())).toList();
+    assertThat(LayerOrder.resolve("m.safetensors", right, null, 11).order()).containsExactly("fc1", "fc2", "fc3", "head");
+    assertThat(LayerOrder.resolve("m.safetensors", right, null, 7).order()).containsExactly("fc1", "fc2", "fc3", "head");
+  }
+
   @Test
   void shapeSearchFindsTheHiddenChainOfShuffledDistinctWidths() {
     long seed = new Random().nextLong();
