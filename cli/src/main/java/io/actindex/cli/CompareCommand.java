@@ -25,7 +25,7 @@ import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.Spec;
 
 /** {@code actindex compare}: two samples compared in code space, per layer and per neuron, with a float reference. */
-@Command(name = "compare", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
+@Command(name = "compare", mixinStandardHelpOptions = true,
     description = {"Two samples of inputs compared where the model looks: kernel MMD^2 between their codes with a"
         + " permutation p-value, Wasserstein-2 with Hamming ground cost, a per-layer breakdown, the neurons whose"
         + " firing rates differ most (Benjamini-Hochberg corrected), and with float activations the Frechet"

@@ -22,7 +22,7 @@ import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.Spec;
 
 /** {@code actindex fidelity}: how well Hamming neighbours on codes agree with float neighbours, on the user's data. */
-@Command(name = "fidelity", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
+@Command(name = "fidelity", mixinStandardHelpOptions = true,
     description = {"Measures how faithful the binary codes are to the float activations: for N sampled rows against all other"
         + " rows, the overlap of the Hamming k-NN with the cosine k-NN, Spearman's rank correlation of the two distances over"
         + " random pairs, the share of queries tied at the k-th Hamming distance and, with labels, k-NN label accuracy under"

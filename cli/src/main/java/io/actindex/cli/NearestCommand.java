@@ -25,7 +25,7 @@ import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.Spec;
 
 /** {@code actindex nearest}: the k indexed examples nearest to each query, by Hamming distance. */
-@Command(name = "nearest", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
+@Command(name = "nearest", mixinStandardHelpOptions = true,
     description = {"For each query, the k indexed examples nearest by Hamming distance between codes (exact; ties by ascending id).",
         "Shows per-layer distances, key, label, split and metadata, and the neighbours' label vote.",
         "The vote counts every example within the k-th distance, also those tied with the k-th but not listed (--vote-ties).",

@@ -105,7 +105,7 @@ final class OodCommand implements Callable<Integer> {
     else if (f == Format.table) out.println("caution: " + OodCalibration.CAUTION);
   }
 
-  @Command(name = "calibrate", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
+  @Command(name = "calibrate", mixinStandardHelpOptions = true,
       description = {"Scores held-out in-distribution inputs (not in the index) and stores the sorted scores, k, statistic, layers and the "
           + "threshold that accepts the target share of in-distribution inputs in the index (one atomic commit)."})
   static final class Calibrate implements Callable<Integer> {
@@ -195,7 +195,7 @@ final class OodCommand implements Callable<Integer> {
     }
   }
 
-  @Command(name = "score", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
+  @Command(name = "score", mixinStandardHelpOptions = true,
       description = {"Per input: score, threshold, decision (in/out), conformal p-value, own region populated, nearest training examples as "
           + "evidence, and the model's maximum softmax probability beside it when the inputs are raw inputs and the index holds the model."})
   static final class Score implements Callable<Integer> {
@@ -346,7 +346,7 @@ final class OodCommand implements Callable<Integer> {
     }
   }
 
-  @Command(name = "eval", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
+  @Command(name = "eval", mixinStandardHelpOptions = true,
       description = {"AUROC, FPR at 95%% TPR and AUPR of the calibrated score (code or refined) on in- and out-of-distribution inputs, "
           + "a breakdown of the code score over k, statistic and layers, and beside it the k-NN score on float activations and the softmax baseline when they apply.",
           "Optionally the ROC curves as CSV and a self-contained HTML page."})

@@ -18,7 +18,7 @@ import picocli.CommandLine.ParameterException;
 import picocli.CommandLine.Spec;
 
 /** {@code actindex report}: a self-contained HTML page about one index. */
-@Command(name = "report", mixinStandardHelpOptions = true, defaultValueProvider = AllCoresByDefault.class,
+@Command(name = "report", mixinStandardHelpOptions = true,
     description = {"Writes one self-contained HTML page about an index.",
         "Inline SVG charts, each with a table beside it (its numbers, or a summary for the firing rates per unit and the calibration scores); no script, nothing fetched, opens offline. "
             + "Sections: layout and size, examples per linear region, neuron firing rates, distance to the nearest other "
