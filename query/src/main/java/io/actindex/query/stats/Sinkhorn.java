@@ -139,11 +139,8 @@ public final class Sinkhorn {
    */
   private static void logSumExp(int rows, int cols, char[] index, double[] kernel, double[] scaled, double[] p, double[] out,
       int threads) {
-    double top = Double.NEGATIVE_INFINITY;
-    for (double x : p) top = Math.max(top, x);
-    double g = top;
-    double[] w = new double[cols];
-    for (int j = 0; j < cols; j++) w[j] = Math.exp(p[j] - g);
+    double g = max(p);
+    double[] w = expBelow(p, g, cols);
     Parallel.forRange(threads, rows, (from, to) -> {
       double[] t = null;
       for (int i = from; i < to; i++) {
@@ -166,14 +163,24 @@ public final class Sinkhorn {
     });
   }
 
+  private static double max(double[] p) {
+    double top = Double.NEGATIVE_INFINITY;
+    for (double x : p) top = Math.max(top, x);
+    return top;
+  }
+
+  /** {@code exp(p[j] - g)} for the first {@code cols} entries. */
+  private static double[] expBelow(double[] p, double g, int cols) {
+    double[] w = new double[cols];
+    for (int j = 0; j < cols; j++) w[j] = Math.exp(p[j] - g);
+    return w;
+  }
+
   /** As {@link #logSumExp} with each term times {@code weight[c]} (once, for the cost), every row by {@link #exactRow}. */
   private static void weightedLogSumExp(int rows, int cols, char[] index, double[] scaled, double[] p, double[] weight, double[] out,
       int threads) {
-    double top = Double.NEGATIVE_INFINITY;
-    for (double x : p) top = Math.max(top, x);
-    double g = top;
-    double[] w = new double[cols];
-    for (int j = 0; j < cols; j++) w[j] = Math.exp(p[j] - g);
+    double g = max(p);
+    double[] w = expBelow(p, g, cols);
     Parallel.forRange(threads, rows, (from, to) -> {
       double[] t = new double[scaled.length];
       for (int i = from; i < to; i++) out[i] = exactRow(i * cols, cols, index, scaled, p, g, w, weight, t);
