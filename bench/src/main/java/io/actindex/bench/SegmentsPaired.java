@@ -2,6 +2,7 @@ package io.actindex.bench;
 
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hits;
+import io.actindex.core.IdSet;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import java.io.IOException;
@@ -14,10 +15,12 @@ import java.util.Locale;
 import java.util.Map;
 
 /**
- * Many segments against one, paired per query (issue 9: "ten segments at most 1.3x the clean single
- * segment"): the same 1M codes as one segment, as ten segments of 100k kept apart (the stores {@link
- * RealUseBench} caches) and as ten adds of 100k under the default merge policy (what a user who adds
- * ten batches gets; built here once and cached). Each query runs through the three indexes in turn,
+ * Many segments and one tombstone against one clean segment, paired per query (issue 9: "one
+ * tombstone and ten segments at most 1.1x and 1.3x of the clean single segment"): the same 1M codes
+ * as one segment, as ten segments of 100k kept apart (the stores {@link RealUseBench} caches), as ten
+ * adds of 100k under the default merge policy (what a user who adds ten batches gets; built here
+ * once and cached) and as the one segment with one id deleted ({@link RealUseBench}'s {@code tomb1}
+ * store: a copy of the clean one, then the delete). Each query runs through the four indexes in turn,
  * rotating which goes first, {@code rounds} times after a round that checks they answer alike; a
  * query's time is its best round. Ratios: summed per-query times, and the median of the per-query
  * ratios, over the single segment's, all measured in the same minutes.
@@ -32,12 +35,18 @@ public final class SegmentsPaired {
     String[] data = WorstCaseSweep.arg(args, "data", "relu,dense").split(","), kinds = WorstCaseSweep.arg(args, "queries", "in,ood").split(",");
     int n = 1_000_000, bits = 256, rounds = Integer.parseInt(WorstCaseSweep.arg(args, "rounds", "5")),
         count = Integer.parseInt(WorstCaseSweep.arg(args, "count", "512")), k = Integer.parseInt(WorstCaseSweep.arg(args, "k", "10"));
-    System.out.println("| data | queries | one segment µs | ten kept apart µs | / one (sum, median per query) | ten adds, default policy µs | segments | / one (sum, median per query) | load |");
-    System.out.println("|---|---|---:|---:|---:|---:|---:|---:|---:|");
+    System.out.println("| data | queries | one segment µs | ten kept apart µs | / one (sum, median per query) | ten adds, default policy µs | segments | / one (sum, median per query) | load | one tombstone µs | / one (sum, median per query) |");
+    System.out.println("|---|---|---:|---:|---:|---:|---:|---:|---:|---:|---:|");
     for (String d : data) {
       CodeBlock codes = BenchData.codes(d, n, bits);
       IndexReader[] r = {IndexReader.open(RealUseBench.store(d, codes, 1, null)), IndexReader.open(RealUseBench.store(d, codes, 10, null)),
-        IndexReader.open(defaultPolicy(d, codes, 10))};
+        IndexReader.open(defaultPolicy(d, codes, 10)), IndexReader.open(RealUseBench.store(d, codes, 1, "tomb1"))};
+      int deleted = n / 2; // the tombstone's id (RealUseBench.store)
+      long[] live = new long[(n + 63) >>> 6];
+      Arrays.fill(live, -1L);
+      live[deleted >>> 6] &= ~(1L << (deleted & 63));
+      if ((n & 63) != 0) live[live.length - 1] &= (1L << (n & 63)) - 1;
+      IdSet clean = IdSet.of(live, n); // the clean segment's answer less the deleted id is the tombstone's
       try {
         for (String kind : kinds) {
           long[][] qs = Arrays.copyOf(BenchData.queries(d, kind, n, bits).codeArrays(), count);
@@ -51,14 +60,15 @@ public final class SegmentsPaired {
                 Hits h = r[p].search(qs[i], k, null, null);
                 double us = (System.nanoTime() - t0) / 1e3;
                 if (round > 0) best[p][i] = Math.min(best[p][i], us);
-                else if (p > 0 && !h.equals(r[0].search(qs[i], k, null, null)))
+                else if (p > 0 && !h.equals(r[0].search(qs[i], k, p == 3 ? clean : null, null)))
                   throw new AssertionError(d + " " + kind + " query " + i + ": index " + p + " answers differently");
               }
           double one = sum(best[0]);
-          System.out.printf(Locale.ROOT, "| %s | %s | %.1f | %.1f | %.2f×, %.2f× | %.1f | %d | %.2f×, %.2f× | %.1f |%n", d, kind, one / qs.length,
-              sum(best[1]) / qs.length, sum(best[1]) / one, medianRatio(best[1], best[0]), sum(best[2]) / qs.length,
+          System.out.printf(Locale.ROOT, "| %s | %s | %.1f | %.1f | %.2f×, %.2f× | %.1f | %d | %.2f×, %.2f× | %.1f | %.1f | %.2f×, %.2f× |%n", d, kind,
+              one / qs.length, sum(best[1]) / qs.length, sum(best[1]) / one, medianRatio(best[1], best[0]), sum(best[2]) / qs.length,
               r[2].info().segments().size(), sum(best[2]) / one, medianRatio(best[2], best[0]),
-              ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage());
+              ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage(), sum(best[3]) / qs.length, sum(best[3]) / one,
+              medianRatio(best[3], best[0]));
         }
       } finally {
         for (IndexReader x : r) x.close();
