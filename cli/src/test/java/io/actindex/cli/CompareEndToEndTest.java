@@ -271,6 +271,41 @@ class CompareEndToEndTest {
   }
 
   /**
+   * An index that keeps one small layer of a wide model: a sample of inputs whose every hidden unit
+   * is more than {@link Compare#FLOATS_MAX} values, but whose units in the index are not, still gets
+   * the model's floats for those units in its one read (the encoder computes the index's layers
+   * only, so the read's cap counts the units compare counts), the same statistics as that layer's
+   * activations computed here and given as a file.
+   */
+  @Test
+  void aWideModelsSmallLayerStillGivesItsFloats() throws Exception {
+    SplittableRandom r = new SplittableRandom(Randoms.seed(405));
+    int wide = 4096, rows = (int) (Compare.FLOATS_MAX / (wide + 3)) + 1;
+    double[] w0 = r.doubles(2L * wide, -1, 1).map(v -> (float) v).toArray(), w2 = r.doubles(3L * wide, -1, 1).map(v -> (float) v).toArray();
+    Map<String, SafetensorsWriter.Tensor> t = new LinkedHashMap<>();
+    t.put("0.weight", new SafetensorsWriter.Tensor(new long[] {wide, 2}, w0));
+    t.put("2.weight", new SafetensorsWriter.Tensor(new long[] {3, wide}, w2));
+    t.put("4.weight", new SafetensorsWriter.Tensor(new long[] {2, 3}, r.doubles(6, -1, 1).toArray()));
+    Path model = tmp.resolve("wide2.safetensors");
+    SafetensorsWriter.write(model, t, Map.of());
+    float[][] xa = SourcesEndToEndTest.activations(rows, 2, r), xb = SourcesEndToEndTest.activations(8, 2, r);
+    Path a = Files2.floats(tmp.resolve("wa.npy"), xa), b = Files2.floats(tmp.resolve("wb.npy"), xb), idx = tmp.resolve("small-layer");
+    ok(Cli.run("build", "--out", idx.toString(), "--model", model.toString(), "--inputs", b.toString(), "--layers", "2"));
+    String[] common = {"compare", "--index", idx.toString(), "--a", a.toString(), "--b", b.toString(), "--permutations", "1",
+        "--matrix-rows", "2", "--sinkhorn-rows", "2", "--format", "json"};
+    JsonNode doc = NearestEndToEndTest.json(common);
+    assertThat(doc.get("floats_absent").isNull()).isTrue();
+    assertThat(doc.get("floats").get("columns").asInt()).isEqualTo(3);
+    assertThat(doc.get("notes").toString()).contains("float sample A: the model's hidden activations (after ReLU) on " + a + ", 3 units");
+    double[] none = new double[wide];
+    Path ha = Files2.floats(tmp.resolve("wha.npy"), firstLayer(firstLayer(xa, w0, none), w2, new double[3]));
+    Path hb = Files2.floats(tmp.resolve("whb.npy"), firstLayer(firstLayer(xb, w0, none), w2, new double[3]));
+    JsonNode byHand = NearestEndToEndTest.json(concat(common, "--a-floats", ha.toString(), "--b-floats", hb.toString()));
+    double f = byHand.get("floats").get("frechet").asDouble();
+    assertThat(doc.get("floats").get("frechet").asDouble()).isCloseTo(f, within(1e-5 * Math.max(1, Math.abs(f))));
+  }
+
+  /**
    * Samples chosen by --a-where/--b-where on an index that keeps magnitudes come with the float
    * reference from them: the same statistics as the dequantised magnitudes (read here through
    * IndexReader) given as --a-floats/--b-floats; with --layers that layer's units; an index that

@@ -207,29 +207,34 @@ public final class Compare {
       try (IndexReader reader = IndexReader.open(p.index())) {
         sa = ofIndexKind(reader, sa);
         sb = ofIndexKind(reader, sb);
-        QuerySource.Encoded ea = load(reader, sa, "A", prog, notes, false), eb = load(reader, sb, "B", prog, notes, false);
+        // the floats compare may take itself are kept in the same read when they are few enough (see keepFloats)
+        int bits = reader.hasMagnitudes() ? reader.magnitudeBits() : 0;
+        QuerySource.Encoded ea = load(reader, sa, "A", prog, notes, keep(withFloats, sa, p.aFloats(), bits)),
+            eb = load(reader, sb, "B", prog, notes, keep(withFloats, sb, p.bFloats(), bits));
         // each file was checked against the build's header; B against A too (an index built from .npy records none)
         if (sb.source() != null)
           SourceColumns.check(ea.columns(), "sample A (" + sa.brief() + ")", eb.columns(), sb.source().file().toString());
         a = ea.codes();
         b = eb.codes();
-        // read again for the floats, once the rows are known to be few enough to hold them
-        int bits = reader.hasMagnitudes() ? reader.magnitudeBits() : 0;
-        derivedA = withFloats && keepFloats(sa, p.aFloats(), ea.codes(), "A", notes, bits) ? load(reader, sa, "A", prog, new ArrayList<>(), true).activations() : null;
-        derivedB = withFloats && keepFloats(sb, p.bFloats(), eb.codes(), "B", notes, bits) ? load(reader, sb, "B", prog, new ArrayList<>(), true).activations() : null;
+        derivedA = withFloats && keepFloats(sa, p.aFloats(), ea.codes(), "A", notes, bits)
+            ? ea.activations() : null; // kept by this read: its cap counts the same units as keepFloats
+        derivedB = withFloats && keepFloats(sb, p.bFloats(), eb.codes(), "B", notes, bits)
+            ? eb.activations() : null;
         floatsFrom = new String[] {floatsFrom(sa, bits), floatsFrom(sb, bits)};
       }
     } else {
       EncodeOptions enc = p.encode() == null ? EncodeOptions.positive() : p.encode();
-      Encoding.Read ra = read(sa.source(), p, enc, prog, false);
+      Encoding.Read ra = read(sa.source(), p, enc, prog, keep(withFloats, sa, p.aFloats(), 0));
       // B is encoded with A's options: with per-neuron medians, A's medians (A is the reference)
       EncodeOptions encB = ra.options() == null ? enc : ra.options();
-      Encoding.Read rb = read(sb.source(), p, encB, prog, false);
+      Encoding.Read rb = read(sb.source(), p, encB, prog, keep(withFloats, sb, p.bFloats(), 0));
       SourceColumns.check(ra.columns(), "sample A (" + sa.source().file() + ")", rb.columns(), sb.source().file().toString());
       a = ra.codes();
       b = rb.codes();
-      derivedA = withFloats && keepFloats(sa, p.aFloats(), ra.codes(), "A", notes, 0) ? read(sa.source(), p, enc, prog, true).activations() : null;
-      derivedB = withFloats && keepFloats(sb, p.bFloats(), rb.codes(), "B", notes, 0) ? read(sb.source(), p, encB, prog, true).activations() : null;
+      derivedA = withFloats && keepFloats(sa, p.aFloats(), ra.codes(), "A", notes, 0)
+          ? ra.activations() : null; // kept by this read: its cap counts the same units as keepFloats
+      derivedB = withFloats && keepFloats(sb, p.bFloats(), rb.codes(), "B", notes, 0)
+          ? rb.activations() : null;
       floatsFrom = new String[] {floatsFrom(sa, 0), floatsFrom(sb, 0)};
       if (ra.notes() != null) notes.addAll(ra.notes());
       if (rb.notes() != null) notes.addAll(rb.notes());
@@ -417,9 +422,9 @@ public final class Compare {
   }
 
   /** A sample's codes (and a file's column names) from the index: a file encoded as the index was built, or the examples --where selects. */
-  private static QuerySource.Encoded load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes, boolean activations) {
+  private static QuerySource.Encoded load(IndexReader reader, Sample s, String which, Progress prog, List<String> notes, long keep) {
     if (s.source() != null)
-      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes, activations);
+      return QuerySource.encode(reader, s.source(), RowRange.ALL, Encoding.CHUNK, prog, "sample " + which, notes, keep);
     IdSet ids;
     try {
       ids = Where.select(reader.meta(), s.where());
@@ -435,7 +440,8 @@ public final class Compare {
     CodeBlock all = reader.liveCodes(live);
     int w = all.wordsPerCode(), bits = all.layout().bits(), kept = 0;
     long[] out = new long[Math.multiplyExact(ids.count(), w)];
-    float[] values = activations && reader.hasMagnitudes() ? new float[Math.multiplyExact(ids.count(), bits)] : null;
+    boolean floats = reader.hasMagnitudes() && (keep == Encoding.KEEP_ALL || keep > 0 && (long) ids.count() * bits <= keep);
+    float[] values = floats ? new float[Math.multiplyExact(ids.count(), bits)] : null;
     for (int i = 0; i < live.length; i++)
       if (ids.contains(live[i])) {
         if (values != null) reader.magnitudes(live[i], values, kept * bits);
@@ -445,13 +451,13 @@ public final class Compare {
         values == null ? null : Arrays.copyOf(values, kept * bits), null);
   }
 
-  private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog, boolean activations) {
+  private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog, long keep) {
     Source src = s;
     if (s.kind() == Source.Kind.INPUTS && s.model() == null) {
       if (p.model() == null) throw new BadInputException(s.file() + ": inputs need a model (`model` FILE) or an index that stores one");
       src = Source.inputs(s.file(), p.model());
     }
-    return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog, activations);
+    return Encoding.read(src, Encoding.Model.of(src.model()), enc, p.codesLayout(), RowRange.ALL, Encoding.CHUNK, prog, keep);
   }
 
   /** Most values (rows x units) of a sample whose floats compare takes itself (a model's activations, kept magnitudes): 256 MiB as doubles. */
@@ -465,6 +471,11 @@ public final class Compare {
   private static String floatsFrom(Sample s, int keptBits) {
     if (s.source() != null) return s.source().kind() == Source.Kind.INPUTS ? "the model's hidden activations (after ReLU) on " + s.brief() : null;
     return keptBits > 0 ? "the index's kept " + keptBits + "-bit magnitudes (dequantised) of " + s.brief() : null;
+  }
+
+  /** How many floats a sample's read keeps ({@link Encoding#read}): up to {@link #FLOATS_MAX} where compare may take them itself. */
+  private static long keep(boolean withFloats, Sample s, Path given, int keptBits) {
+    return withFloats && given == null && floatsFrom(s, keptBits) != null ? FLOATS_MAX : 0;
   }
 
   /**

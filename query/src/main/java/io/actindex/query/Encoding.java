@@ -49,7 +49,20 @@ final class Encoding {
   /** As above; with {@code activations} the floats of the kept rows are kept too (4 bytes per value). */
   static Read read(Source source, Model model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
       int chunk, Progress progress, boolean activations) {
-    Kept kept = activations && source.kind() != Source.Kind.CODES ? new Kept(source) : null;
+    return read(source, model, options, codesLayout, range, chunk, progress, activations ? KEEP_ALL : 0);
+  }
+
+  /** {@code keep} of {@link #read(Source, Model, EncodeOptions, CodeLayout, RowRange, int, Progress, long)}: every float, or a refusal. */
+  static final long KEEP_ALL = -1;
+
+  /**
+   * As above, keeping the floats of the kept rows ({@code activations} of the result) when they are at
+   * most {@code keep} values: past it none are kept (null, without a second read of the file); {@link
+   * #KEEP_ALL}: all of them, a file whose floats cannot fit one array refused; 0: none.
+   */
+  static Read read(Source source, Model model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
+      int chunk, Progress progress, long keep) {
+    Kept kept = keep != 0 && source.kind() != Source.Kind.CODES ? new Kept(source, keep) : null;
     Read read = read(source, model, options, codesLayout, range, chunk, progress, kept);
     return kept == null ? read : new Read(read.codes(), read.options(), read.notes(), kept.values(read.codes().size()), read.columns());
   }
@@ -117,30 +130,42 @@ final class Encoding {
    */
   private static final class Kept implements FloatRows {
     private final Source source;
+    private final long cap; // most values kept (past it none), or KEEP_ALL
     private float[] act;
     private int units, rows;
+    private boolean over; // past the cap: nothing kept
 
-    Kept(Source source) {
+    Kept(Source source, long keep) {
       this.source = source;
+      this.cap = keep;
     }
 
     @Override
     public void start(long expect, CodeLayout layout) {
       units = layout.bits();
+      over = cap != KEEP_ALL && expect * units > cap;
+      if (over) return;
       if (expect >= 0 && expect * units > MAX_VALUES) throw tooManyRows(source, expect + " rows", units);
       act = new float[(int) (Math.max(expect < 0 ? 1024 : expect, 1) * units)];
     }
 
     @Override
     public void accept(float[] values, int from, int n) {
+      if (over) return;
       long need = (long) (rows + n) * units;
+      if (cap != KEEP_ALL && need > cap) {
+        over = true;
+        act = null;
+        return;
+      }
       if (need > MAX_VALUES) throw tooManyRows(source, "more than " + MAX_VALUES / units + " rows", units);
-      if (need > act.length) act = Arrays.copyOf(act, (int) Math.min(MAX_VALUES, Math.max(need, act.length * 2L)));
+      if (need > act.length) act = Arrays.copyOf(act, (int) Math.min(cap == KEEP_ALL ? MAX_VALUES : cap, Math.max(need, act.length * 2L)));
       System.arraycopy(values, from * units, act, rows * units, n * units);
       rows += n;
     }
 
     float[] values(int n) {
+      if (over) return null;
       return act.length == n * units ? act : Arrays.copyOf(act, n * units);
     }
   }

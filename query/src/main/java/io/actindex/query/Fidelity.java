@@ -171,7 +171,7 @@ public final class Fidelity {
           + " holds none; leave `inputs` out to measure on its kept magnitudes");
     List<String> notes = new java.util.ArrayList<>();
     QuerySource.Encoded enc = QuerySource.encode(r, Source.inputs(inputs, null).withHeader(header), RowRange.ALL, Encoding.CHUNK, progress,
-        "inputs", notes, true);
+        "inputs", notes, Encoding.KEEP_ALL);
     if (enc.codes().size() != r.maxId())
       throw new BadInputException(inputs + ": " + enc.codes().size() + " rows, but index " + r.dir() + " was built from "
           + r.maxId() + " rows; give the inputs the index was built from, in id order");

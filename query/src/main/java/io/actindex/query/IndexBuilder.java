@@ -294,7 +294,7 @@ public final class IndexBuilder {
       if (bits > 0 && p.source().kind() == Source.Kind.CODES)
         throw new BadInputException(p.source().file() + ": the index keeps magnitudes beside its codes; add activations or inputs, not codes");
       QuerySource.Encoded enc = QuerySource.encode(r, p.source(), RowRange.ALL, chunk(p.chunkRows()), orNone(progress),
-          "rows to add", notes, bits > 0);
+          "rows to add", notes, bits > 0 ? Encoding.KEEP_ALL : 0);
       codes = enc.codes();
       if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
       if (bits > 0) {

@@ -35,7 +35,7 @@ public final class QuerySource {
   public static QueryCodes load(IndexReader reader, Source source, RowRange rows, Progress progress) {
     RowRange range = rows == null ? RowRange.ALL : rows;
     java.util.List<String> notes = new java.util.ArrayList<>();
-    Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, false);
+    Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, 0);
     return new QueryCodes(e.codes(), range.from(), notes, e.columns());
   }
 
@@ -51,7 +51,7 @@ public final class QuerySource {
       throw new BadInputException(source.file() + ": refinement needs the queries' activations (`Source.activations`) or inputs (`Source.inputs`), not codes");
     RowRange range = rows == null ? RowRange.ALL : rows;
     java.util.List<String> notes = new java.util.ArrayList<>();
-    Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, true);
+    Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, Encoding.KEEP_ALL);
     return new Queries(new QueryCodes(e.codes(), range.from(), notes, e.columns()), e.activations());
   }
 
@@ -111,10 +111,12 @@ public final class QuerySource {
 
   /**
    * Encodes {@code source} with the index's stored options and aligns it to the index layout,
-   * keeping the activations (null for a codes source) when {@code activations}.
+   * keeping the activations (null for a codes source) as {@code keep} says ({@link Encoding#read(Source,
+   * Encoding.Model, EncodeOptions, CodeLayout, RowRange, int, Progress, long)}: 0 none, {@link
+   * Encoding#KEEP_ALL} all, else at most that many values or none).
    */
   static Encoded encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
-      java.util.List<String> notes, boolean activations) {
+      java.util.List<String> notes, long keep) {
     BuildInfo info = BuildInfo.fromProperties(reader.properties(), "index");
     CodeLayout target = reader.layout();
     Encoding.Model model = Encoding.Model.of(source.model());
@@ -131,7 +133,7 @@ public final class QuerySource {
     CodeLayout codesLayout = source.kind() != Source.Kind.CODES ? null
         : info.kind() == Source.Kind.CODES ? info.sourceLayout() : target;
     Encoding.Read read = Encoding.read(source, model, oneMatrixOptions(source, info, target), codesLayout, range, chunk,
-        progress == null ? Progress.NONE : progress, activations);
+        progress == null ? Progress.NONE : progress, keep);
     // notes about the file itself (its CSV header); the model's layers were reported at build
     for (String n : read.notes()) if (n.startsWith(source.file() + ":")) notes.add(n);
     java.util.List<String> builtColumns = SourceColumns.of(reader.properties(), reader.dir().toString());

@@ -70,6 +70,41 @@ class EncodingKeptFloatsTest {
         e.getMessage());
   }
 
+  @Test
+  void aCapKeepsEveryFloatOrNoneInOneRead() {
+    // 300 rows of 40: a CSV (row count not known in advance, the kept array grows) and a .npy (known)
+    int rows = 300, cols = 40;
+    float[] values = new float[rows * cols];
+    Random rnd = new Random(11);
+    for (int i = 0; i < values.length; i++) values[i] = rnd.nextInt(7) - 3;
+    StringBuilder csv = new StringBuilder();
+    for (int r = 0; r < rows; r++) {
+      for (int c = 0; c < cols; c++) csv.append(c == 0 ? "" : ",").append((int) values[r * cols + c]);
+      csv.append('\n');
+    }
+    Path text = dir.resolve("a.csv");
+    try {
+      Files.writeString(text, csv);
+    } catch (IOException e) {
+      throw new java.io.UncheckedIOException(e);
+    }
+    for (Source src : new Source[] {Source.activations(TestFiles.npyFloat32(dir.resolve("a.npy"), rows, cols, values)), Source.activations(text)}) {
+      Encoding.Read all = read(src, true);
+      assertArrayEquals(values, all.activations(), src.file().toString());
+      for (long cap : new long[] {rows * cols, rows * cols + 1, 1L << 25}) {
+        Encoding.Read capped = Encoding.read(src, null, EncodeOptions.positive(), null, RowRange.ALL, 7, Progress.NONE, cap);
+        assertArrayEquals(values, capped.activations(), src.file() + " cap " + cap);
+        assertArrayEquals(all.codes().words(), capped.codes().words());
+      }
+      for (long cap : new long[] {1, cols, rows * cols - 1}) { // chunks of 7 rows: past the cap mid-file
+        Encoding.Read capped = Encoding.read(src, null, EncodeOptions.positive(), null, RowRange.ALL, 7, Progress.NONE, cap);
+        assertEquals(null, capped.activations(), src.file() + " cap " + cap);
+        assertArrayEquals(all.codes().words(), capped.codes().words());
+      }
+      assertEquals(null, Encoding.read(src, null, EncodeOptions.positive(), null, RowRange.ALL, 7, Progress.NONE, 0L).activations());
+    }
+  }
+
   private static Encoding.Read read(Source src, boolean floats) {
     return Encoding.read(src, null, EncodeOptions.positive(), null, RowRange.ALL, Encoding.CHUNK, Progress.NONE, floats);
   }
