@@ -45,6 +45,8 @@ import picocli.CommandLine.Spec;
     description = {"Out-of-distribution flags from the distance of an input's code to its k nearest training codes.",
         "calibrate: store a threshold from held-out in-distribution inputs; score: score and flag inputs; "
             + "eval: AUROC and FPR at 95%% TPR on in and out inputs, beside float and softmax baselines.",
+        "Neither score sees how large the activations are: an input far outside the training range can score like an ordinary one "
+            + "(docs/commands/ood.md, far inputs).",
         "A calibrated heuristic, not a guarantee (see the caution in every output)."},
     subcommands = {OodCommand.Calibrate.class, OodCommand.Score.class, OodCommand.Eval.class})
 final class OodCommand implements Callable<Integer> {
@@ -130,7 +132,7 @@ final class OodCommand implements Callable<Integer> {
     boolean checkOverlap;
 
     @Option(names = "--score", paramLabel = "S",
-        description = "code (Hamming distances on codes) or refined (cosine distance to kept magnitudes among the Hamming candidates). Default: refined when the index keeps magnitudes, else code.")
+        description = "code (Hamming distances on codes) or refined (cosine distance to kept magnitudes among the Hamming candidates); neither sees the activations' size. Default: refined when the index keeps magnitudes, else code.")
     String score;
 
     @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",

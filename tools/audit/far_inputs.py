@@ -1,0 +1,250 @@
+#!/usr/bin/env python3
+"""Far inputs and the OOD scores: the model and data of newuser_mlp.py (same seeds, same 11 -> 48 ->
+100 -> 17 -> 5 PyTorch MLP), its far-out batch, and held-out in-distribution inputs multiplied by
+t = 2, 5, 10, 100. For every batch: `ood eval` AUROC of each score actindex offers (code score with
+the default calibration and the audit's, the refined score from kept magnitudes, the float and
+candidate-float scores from float files, the softmax baseline), each checked against NumPy /
+scikit-learn, plus scores actindex does not have (plain Euclidean k-NN on activations, the
+activation norm), and how many far codes lie at Hamming distance 0 or d from a training code.
+Last, NumPy only: whether a magnitude-aware refined score (Euclidean instead of cosine among the 100
+nearest codes) would lose on near inputs, on scikit-learn's copy of the UCI digits (0-4 in, 5-9 out,
+a scikit-learn (64, 32) MLP, the three seeds of DigitsOodTest; not the project's trainer).
+
+A ReLU network is piecewise linear: along x -> t x the input ends in one outer linear region, where
+the hidden activations grow linearly in t and their direction settles (Hein, Andriushchenko &
+Bitterwolf, CVPR 2019). Hamming and cosine scores see the region and the direction, not the size.
+
+    tools/audit/far_inputs.py [--bin bin/actindex] [--work DIR] [--epochs N]
+
+Needs torch (CPU), numpy, scikit-learn, safetensors; never a test dependency. Exit 1 on any DIFF.
+"""
+import argparse
+import json
+import os
+import shutil
+import subprocess
+import sys
+import warnings
+
+import numpy as np
+import torch
+from safetensors.torch import save_file
+from sklearn.metrics import roc_auc_score
+
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from newuser_mlp import C, D, Net, gen, hamming, hidden, labels  # noqa: E402
+
+SCALES = [2, 5, 10, 100]
+failures = []
+
+
+def check(name, ok, detail=""):
+    print(("OK   " if ok else "DIFF ") + name + ("" if ok else ": " + detail))
+    if not ok:
+        failures.append(name)
+
+
+def data(epochs):
+    """newuser_mlp.py's model and batches, drawn in the same order from the same seeds."""
+    rng = np.random.default_rng(7)
+    torch.manual_seed(7)
+    torch.set_num_threads(1)
+    x = gen(rng, 6000)
+    y = labels(x)
+    perm = rng.permutation(len(x))
+    xtr, ytr, xte, yte = x[perm[:4800]], y[perm[:4800]], x[perm[4800:]].copy(), y[perm[4800:]].copy()
+    leak = rng.choice(len(xtr), 25, replace=False)
+    xte[:25], yte[:25] = xtr[leak], ytr[leak]
+    conf = np.setdiff1d(rng.choice(len(xtr), 15, replace=False), leak)
+    xtr, ytr = np.concatenate([xtr, xtr[conf]]), np.concatenate([ytr, (ytr[conf] + 1) % C])
+    net = Net()
+    opt = torch.optim.Adam(net.parameters(), 3e-3)
+    xt, yt = torch.tensor(xtr), torch.tensor(ytr)
+    for _ in range(epochs):
+        p = torch.randperm(len(xt))
+        for i in range(0, len(xt), 128):
+            b = p[i:i + 128]
+            opt.zero_grad()
+            torch.nn.functional.cross_entropy(net(xt[b]), yt[b]).backward()
+            opt.step()
+    xood = (rng.normal(size=(300, D)) * 3 + 4).astype(np.float32)
+    xood[:, ::2] *= -1
+    xin, _, xsame = gen(rng, 800), gen(rng, 800, 1.0), gen(rng, 800)
+    return net, xtr, xte, xood, xin, xsame
+
+
+def knn(q, train, k=1, metric="hamming"):
+    """The k-th nearest distance of each row of q to the rows of train."""
+    if metric == "hamming":
+        d = hamming(q, train).astype(float)
+    elif metric == "cosine":
+        qn = q / np.maximum(np.linalg.norm(q, axis=1, keepdims=True), 1e-300)
+        tn = train / np.maximum(np.linalg.norm(train, axis=1, keepdims=True), 1e-300)
+        d = 1 - qn @ tn.T
+        d[(np.linalg.norm(q, axis=1) == 0)[:, None] | (np.linalg.norm(train, axis=1) == 0)[None, :]] = 1
+    else:
+        d = np.sqrt(np.maximum((q * q).sum(1)[:, None] + (train * train).sum(1)[None, :] - 2 * q @ train.T, 0))
+    return np.sort(d, 1)[:, k - 1]
+
+
+def refined(a_q, c_q, a_tr, c_tr, metric="cosine", candidates=100):
+    """The distance (cosine or Euclidean) to the nearest of the `candidates` nearest codes (ties at the
+    last distance included), on float activations (actindex uses its 8-bit kept magnitudes: close, not equal)."""
+    h = hamming(c_q, c_tr)
+    out = np.empty(len(a_q))
+    for i in range(len(a_q)):
+        last = np.sort(h[i])[candidates - 1]
+        idx = np.nonzero(h[i] <= last)[0]
+        out[i] = knn(a_q[i:i + 1], a_tr[idx], 1, metric)[0]
+    return out
+
+
+def msp_score(logits):
+    e = np.exp(logits - logits.max(1, keepdims=True))
+    return 1 - (e / e.sum(1, keepdims=True)).max(1)
+
+
+def digits():
+    """Cosine and Euclidean among the 100 nearest codes, the code score and the activation norm on near
+    out-of-distribution inputs (unseen digit classes): NumPy and scikit-learn only."""
+    from sklearn.datasets import load_digits
+    from sklearn.neural_network import MLPClassifier
+    warnings.filterwarnings("ignore")  # 60 epochs do not converge, as intended
+    x, y = load_digits(return_X_y=True)
+    x = x / 16.0
+
+    def acts(m, q):
+        h, out = q, []
+        for w, b in zip(m.coefs_[:-1], m.intercepts_[:-1]):
+            h = np.maximum(h @ w + b, 0)
+            out.append(h)
+        return np.concatenate(out, 1)
+
+    print()
+    print("| UCI digits seed | code k=1 | refined cosine among 100 codes | refined Euclidean among 100 codes | activation norm |")
+    print("|---|---|---|---|---|")
+    for seed in [11, 22, 33]:
+        rng = np.random.default_rng(seed)
+        idx = rng.permutation(np.nonzero(y < 5)[0])
+        n = len(idx)
+        tr, te = idx[:int(.6 * n)], idx[int(.8 * n):]
+        m = MLPClassifier((64, 32), max_iter=60, random_state=seed).fit(x[tr], y[tr])
+        a, ai, ao = acts(m, x[tr]), acts(m, x[te]), acts(m, x[y >= 5])
+        truth = np.r_[np.zeros(len(ai)), np.ones(len(ao))]
+        auc = [roc_auc_score(truth, np.r_[f(ai), f(ao)]) for f in [
+            lambda q: knn(q > 0, a > 0), lambda q: refined(q, q > 0, a, a > 0), lambda q: refined(q, q > 0, a, a > 0, "euclid"),
+            lambda q: np.linalg.norm(q, axis=1)]]
+        print(f"| {seed} | " + " | ".join(f"{v:.3f}" for v in auc) + " |")
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--bin", default=os.path.join(os.path.dirname(__file__), "..", "..", "bin", "actindex"))
+    ap.add_argument("--work", default="/tmp/actindex-far")
+    ap.add_argument("--epochs", type=int, default=40)
+    args = ap.parse_args()
+    binary = os.path.abspath(args.bin)
+    shutil.rmtree(args.work, ignore_errors=True)
+    os.makedirs(args.work)
+    os.chdir(args.work)
+
+    def run(*a):
+        p = subprocess.run([binary, *map(str, a)], capture_output=True, text=True)
+        if p.returncode != 0:
+            sys.exit("actindex " + " ".join(map(str, a)) + " failed:\n" + p.stderr)
+        return p
+
+    def js(*a):
+        return json.loads(run(*a, "--format", "json").stdout)
+
+    net, xtr, xte, xood, xin, xsame = data(args.epochs)
+    save_file({k: v.contiguous() for k, v in net.state_dict().items()}, "model.safetensors")
+    batches = {"far-out (newuser_mlp)": xood}
+    for t in SCALES:
+        batches[f"in x {t}"] = (xsame * t).astype(np.float32)
+    np.save("train.npy", xtr)
+    np.save("cal.npy", xte[25:])  # the audit's calibration rows (its first 25 test rows are copies of training rows)
+    np.save("in.npy", xin)
+    a_tr, _ = hidden(net, xtr)
+    c_tr = a_tr > 0
+    np.save("train-floats.npy", a_tr.astype(np.float32))
+    a_in, l_in = hidden(net, xin)
+    c_in = a_in > 0
+    np.save("in-floats.npy", a_in.astype(np.float32))
+    run("build", "--out", "index", "--model", "model.safetensors", "--inputs", "train.npy")
+    for i, (name, xb) in enumerate(batches.items()):
+        np.save(f"out{i}.npy", xb)
+        np.save(f"out{i}-floats.npy", hidden(net, xb)[0].astype(np.float32))
+
+    # the three calibrations: the default (refined, k=1 kth), code k=1 kth, the audit's code k=3 mean
+    setups = [("default (refined)", []), ("code k=1", ["--score", "code"]), ("code k=3 mean (audit)", ["--score", "code", "-k", "3", "--statistic", "mean"])]
+    rows = []
+    for setup, flags in setups:
+        cal = js("ood", "calibrate", "--index", "index", "--inputs", "cal.npy", *flags)
+        for i, (name, xb) in enumerate(batches.items()):
+            extra = [] if flags == [] else ["--in-floats", "in-floats.npy", "--out-floats", f"out{i}-floats.npy", "--train-floats", "train-floats.npy"]
+            ev = js("ood", "eval", "--index", "index", "--in", "in.npy", "--out", f"out{i}.npy", "--kind", "inputs", *extra)
+            sc = {s["name"]: s for s in ev["scores"]}
+            rows.append((setup, name, {n: s["auroc"] for n, s in sc.items()}, {n: s["fpr_at_95_tpr"] for n, s in sc.items()}))
+            scored = js("ood", "score", "--index", "index", "--inputs", f"out{i}.npy")
+            rows[-1][2]["flagged"] = sum(r["decision"] == "out" for r in scored["results"]) / len(scored["results"])
+            rows[-1][2]["best variant"] = max(v["auroc"] for v in ev["variants"])
+        scored = js("ood", "score", "--index", "index", "--inputs", "in.npy")
+        rows.append((setup, "in (held out, 800)", {"flagged": sum(r["decision"] == "out" for r in scored["results"]) / len(scored["results"])}, {}))
+        print(f"calibration {setup}: {cal.get('score_name', '')} threshold {cal.get('threshold')}")
+
+    # NumPy / scikit-learn on the same batches
+    print()
+    print("| batch | code k=1 (NumPy) | cosine k=1, all training rows | refined cosine among 100 codes (floats) | Euclidean k=1 on activations "
+          "| Euclidean among 100 codes | activation norm | softmax | norm above the largest training norm | codes at distance 0 / <=2 / <=5 "
+          "of a training code | nearest distance median / 95th percentile |")
+    print("|---|---|---|---|---|---|---|---|---|---|---|")
+    d_in = knn(c_in, c_tr)
+    top = np.linalg.norm(a_tr, axis=1).max()
+    print(f"| in (held out, 800) | - | - | - | - | - | - | - | {np.mean(np.linalg.norm(a_in, axis=1) > top):.2f} "
+          f"| {np.mean(d_in == 0):.2f} / {np.mean(d_in <= 2):.2f} / {np.mean(d_in <= 5):.2f} | {np.median(d_in):.0f} / {np.percentile(d_in, 95):.0f} |")
+    truth = None
+    for i, (name, xb) in enumerate(batches.items()):
+        a_o, l_o = hidden(net, xb)
+        c_o = a_o > 0
+        truth = np.r_[np.zeros(len(a_in)), np.ones(len(a_o))]
+        d_o = knn(c_o, c_tr)
+        auc = {
+            "code": roc_auc_score(truth, np.r_[d_in, d_o]),
+            "cosine": roc_auc_score(truth, np.r_[knn(a_in, a_tr, 1, "cosine"), knn(a_o, a_tr, 1, "cosine")]),
+            "refined": roc_auc_score(truth, np.r_[refined(a_in, c_in, a_tr, c_tr), refined(a_o, c_o, a_tr, c_tr)]),
+            "euclid": roc_auc_score(truth, np.r_[knn(a_in, a_tr, 1, "euclid"), knn(a_o, a_tr, 1, "euclid")]),
+            "euclid-cands": roc_auc_score(truth, np.r_[refined(a_in, c_in, a_tr, c_tr, "euclid"), refined(a_o, c_o, a_tr, c_tr, "euclid")]),
+            "norm": roc_auc_score(truth, np.r_[np.linalg.norm(a_in, axis=1), np.linalg.norm(a_o, axis=1)]),
+            "softmax": roc_auc_score(truth, np.r_[msp_score(l_in), msp_score(l_o)]),
+        }
+        print(f"| {name} | {auc['code']:.3f} | {auc['cosine']:.3f} | {auc['refined']:.3f} | {auc['euclid']:.3f} | {auc['euclid-cands']:.3f} "
+              f"| {auc['norm']:.3f} | {auc['softmax']:.3f} | {np.mean(np.linalg.norm(a_o, axis=1) > top):.2f} "
+              f"| {np.mean(d_o == 0):.2f} / {np.mean(d_o <= 2):.2f} / {np.mean(d_o <= 5):.2f} | {np.median(d_o):.0f} / {np.percentile(d_o, 95):.0f} |")
+        got = next(r for r in rows if r[0] == "code k=1" and r[1] == name)[2]
+        check(f"{name}: ood eval code AUROC (k=1) = roc_auc_score", abs(got["code"] - auc["code"]) < 1e-12, f"{got['code']} vs {auc['code']}")
+        check(f"{name}: ood eval softmax AUROC = roc_auc_score (float64 logits)", abs(got["softmax"] - auc["softmax"]) < 1e-6,
+              f"{got['softmax']} vs {auc['softmax']}")
+        check(f"{name}: ood eval float AUROC (unit-length k=1) = cosine k-NN", abs(got["float"] - auc["cosine"]) < 1e-4, f"{got['float']} vs {auc['cosine']}")
+        ref = next(r for r in rows if r[0] == "default (refined)" and r[1] == name)[2]["refined"]
+        check(f"{name}: refined from kept magnitudes near the float cosine among 100 codes", abs(ref - auc["refined"]) < 0.02, f"{ref} vs {auc['refined']}")
+        # the outer region: the code at t and at 10 t
+        if name.startswith("in x"):
+            c_far = hidden(net, xb * 10)[0] > 0
+            t = int(name[5:])
+            print(f"|   x {t}: the same code as at x {10 * t}: {np.mean((c_far == c_o).all(1)):.2f} of the rows; median activation norm "
+                  f"{np.median(np.linalg.norm(a_o, axis=1)) / np.median(np.linalg.norm(a_in, axis=1)):.1f} times the held-out inputs' |")
+
+    print()
+    print("| calibration | batch | " + " | ".join(["code", "best code variant", "refined", "float", "softmax"]) + " | flagged out by ood score |")
+    print("|---|---|---|---|---|---|---|---|")
+    for setup, name, auc, _ in rows:
+        cell = lambda n: f"{auc[n]:.3f}" if n in auc else "-"
+        print(f"| {setup} | {name} | {cell('code')} | {cell('best variant')} | {cell('refined')} | {cell('float')} | {cell('softmax')} | {auc['flagged']:.2f} |")
+    digits()
+    print(f"{len(failures)} DIFF" if failures else "all OK")
+    sys.exit(1 if failures else 0)
+
+
+if __name__ == "__main__":
+    main()
