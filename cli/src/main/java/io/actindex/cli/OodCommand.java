@@ -45,8 +45,8 @@ import picocli.CommandLine.Spec;
     description = {"Out-of-distribution flags from the distance of an input's code to its k nearest training codes.",
         "calibrate: store a threshold from held-out in-distribution inputs; score: score and flag inputs; "
             + "eval: AUROC and FPR at 95%% TPR on in and out inputs, beside float and softmax baselines.",
-        "Neither score sees how large the activations are: an input far outside the training range can score like an ordinary one "
-            + "(docs/commands/ood.md, far inputs).",
+        "The code and refined scores do not see how large the activations are: an input far outside the training range can score like an "
+            + "ordinary one; the euclidean score does (docs/commands/ood.md, far inputs).",
         "A calibrated heuristic, not a guarantee (see the caution in every output)."},
     subcommands = {OodCommand.Calibrate.class, OodCommand.Score.class, OodCommand.Eval.class})
 final class OodCommand implements Callable<Integer> {
@@ -67,7 +67,7 @@ final class OodCommand implements Callable<Integer> {
   }
 
   static String scoreLabel(OodCalibration.Scoring s) {
-    return s.kind() == OodScorer.Kind.CODE ? "code score" : "refined score (" + s.candidates() + " Hamming candidates, exact within them)";
+    return s.kind() == OodScorer.Kind.CODE ? "code score" : s.kind().label() + " score (" + s.candidates() + " Hamming candidates, exact within them)";
   }
 
   static String layers(List<String> layers) {
@@ -132,11 +132,11 @@ final class OodCommand implements Callable<Integer> {
     boolean checkOverlap;
 
     @Option(names = "--score", paramLabel = "S",
-        description = "code (Hamming distances on codes) or refined (cosine distance to kept magnitudes among the Hamming candidates); neither sees the activations' size. Default: refined when the index keeps magnitudes, else code.")
+        description = "code (Hamming distances on codes), refined (cosine distance to kept magnitudes among the Hamming candidates; neither sees the activations' size) or euclidean (Euclidean distance to the same, which does). Default: refined when the index keeps magnitudes, else code.")
     String score;
 
     @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",
-        description = "Hamming candidates the refined score re-ranks (raised to k when smaller; ties at the last distance included); refused with the code score. Default: ${DEFAULT-VALUE}.")
+        description = "Hamming candidates the refined or euclidean score re-ranks (raised to k when smaller; ties at the last distance included); refused with the code score. Default: ${DEFAULT-VALUE}.")
     int candidates;
 
     @Mixin LayersOption layers;
@@ -213,7 +213,7 @@ final class OodCommand implements Callable<Integer> {
     boolean decisionOnly;
 
     @Option(names = "--score", paramLabel = "S",
-        description = "code or refined; must match the stored calibration (refused otherwise). Default: the calibration's.")
+        description = "code, refined or euclidean; must match the stored calibration (refused otherwise). Default: the calibration's.")
     String score;
 
 
@@ -320,7 +320,7 @@ final class OodCommand implements Callable<Integer> {
                 r.maxSoftmax() == null ? "" : CsvWriter.number(r.maxSoftmax()), CsvWriter.list(evidence(r, false)), o.scoreName()));
         }
         case table -> {
-          String cands = o.scoring().kind() == OodScorer.Kind.REFINED ? ", among " + o.scoring().candidates() + " Hamming candidates" : "";
+          String cands = o.scoring().kind().usesMagnitudes() ? ", among " + o.scoring().candidates() + " Hamming candidates" : "";
           out.println("score: " + o.scoreName() + " (k=" + c.k() + cands + ", layers " + layers(c.layers()) + ")");
           out.println("threshold " + num(c.threshold()) + " (target TPR " + c.tpr() + ", " + c.scores().length + " calibration inputs)");
           boolean msp = o.results().stream().anyMatch(r -> r.maxSoftmax() != null);
@@ -349,8 +349,9 @@ final class OodCommand implements Callable<Integer> {
   }
 
   @Command(name = "eval", mixinStandardHelpOptions = true,
-      description = {"AUROC, FPR at 95%% TPR and AUPR of the calibrated score (code or refined) on in- and out-of-distribution inputs, "
-          + "a breakdown of the code score over k, statistic and layers, and beside it the k-NN score on float activations and the softmax baseline when they apply.",
+      description = {"AUROC, FPR at 95%% TPR and AUPR of the calibrated score (code, refined or euclidean) on in- and out-of-distribution inputs, "
+          + "a breakdown of the code score over k, statistic and layers, and beside it the k-NN score on float activations and the softmax baseline when they apply; "
+          + "with a refined or euclidean calibration, both of these scores.",
           "Optionally the ROC curves as CSV and a self-contained HTML page."})
   static final class Eval implements Callable<Integer> {
     enum Kind { inputs, activations, codes }
@@ -384,7 +385,7 @@ final class OodCommand implements Callable<Integer> {
     int candidates;
 
     @Option(names = "--score", paramLabel = "S",
-        description = "code or refined; must match the stored calibration (refused otherwise). Default: the calibration's.")
+        description = "code, refined or euclidean; must match the stored calibration (refused otherwise). Default: the calibration's.")
     String score;
 
     @Option(names = "--roc", paramLabel = "FILE", description = "Write the ROC curves as CSV (score,threshold,false_alarm_rate,detection_rate).")

@@ -532,4 +532,70 @@ class OodEndToEndTest {
     assertThat(out.err().strip()).as(out.describe()).startsWith("actindex ood eval: " + fewer + ": 59 rows of floats, but --out " + qF + " has 20");
     assertThat(Files2.checksums(idx)).isEqualTo(before);
   }
+
+  /**
+   * The euclidean score through the command line: calibrate, score and eval (listed last, after the
+   * cosine refined score, whose numbers it does not change); a different --score, the decision-only
+   * path and the edge bundle refused naming it; an index without kept magnitudes refused naming the index.
+   */
+  @Test
+  void euclideanScoreFromKeptMagnitudes() throws Exception {
+    Path idx = tmp.resolve("eidx");
+    Path trainF = Files2.floats(tmp.resolve("etrain.npy"), floats(300, 0.1, 1)), calF = Files2.floats(tmp.resolve("ecal.npy"), floats(60, 0.1, 2));
+    Path qF = Files2.floats(tmp.resolve("eq.npy"), floats(20, 0.5, 3));
+    String i = idx.toString();
+    assertThat(Cli.run("build", "--out", i, "--activations", trainF.toString()).code()).isZero();
+    Cli.Result cosine = Cli.run("ood", "calibrate", "--index", i, "--activations", calF.toString(), "-k", "2", "--candidates", "30");
+    assertThat(cosine.code()).as(cosine.describe()).isZero();
+    Cli.Result cosineEval = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--format", "json");
+    assertThat(cosineEval.code()).as(cosineEval.describe()).isZero();
+    Cli.Result c = Cli.run("ood", "calibrate", "--index", i, "--activations", calF.toString(), "-k", "2", "--candidates", "30", "--score", "euclidean",
+        "--format", "json");
+    assertThat(c.code()).as(c.describe()).isZero();
+    JsonNode cj = JSON.readTree(c.out());
+    assertThat(cj.get("score").asText()).isEqualTo("euclidean");
+    assertThat(cj.get("candidates").asInt()).isEqualTo(30);
+    Cli.Result s = Cli.run("ood", "score", "--index", i, "--activations", qF.toString(), "--format", "json");
+    assertThat(s.code()).as(s.describe()).isZero();
+    JsonNode sj = JSON.readTree(s.out());
+    assertThat(sj.get("score_name").asText()).isEqualTo("refined euclidean k-th distance");
+    for (JsonNode r : sj.get("results"))
+      assertThat(r.get("decision").asText()).isEqualTo(r.get("score").asDouble() > cj.get("threshold").asDouble() ? "out" : "in");
+    Cli.Result table = Cli.run("ood", "score", "--index", i, "--activations", qF.toString());
+    assertThat(table.out()).startsWith("score: refined euclidean k-th distance (k=2, among 30 Hamming candidates, layers all)\n");
+    Cli.Result e = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--format", "json");
+    assertThat(e.code()).as(e.describe()).isZero();
+    List<String> names = JSON.readTree(e.out()).get("scores").findValuesAsText("name");
+    assertThat(names).containsExactly("code", "refined", "euclidean");
+    // the same k, statistic and candidates: the cosine refined score's numbers are those of the cosine calibration's eval
+    assertThat(JSON.readTree(e.out()).get("scores").get(1)).isEqualTo(JSON.readTree(cosineEval.out()).get("scores").get(1));
+    assertThat(JSON.readTree(cosineEval.out()).get("scores").findValuesAsText("name")).containsExactly("code", "refined", "euclidean");
+    Cli.Result csv = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--format", "csv");
+    assertThat(csv.out().lines().skip(3).findFirst().orElseThrow()).startsWith("euclidean,,,,");
+    Map<String, String> before = Files2.checksums(idx);
+    String[][] bad = {
+        {"ood", "score", "--index", i, "--activations", qF.toString(), "--score", "refined"},
+        {"ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--score", "code"},
+        {"ood", "score", "--index", i, "--activations", qF.toString(), "--decision-only"},
+        {"export-edge", "--index", i, "--out", tmp.resolve("e.edge").toString()},
+    };
+    for (String[] args : bad) {
+      Cli.Result r = Cli.run(args);
+      assertThat(r.code()).as(r.describe()).isEqualTo(2);
+      assertThat(r.err().lines().filter(l -> !l.isBlank()).toList()).as(r.describe()).hasSize(1).first().asString()
+          .contains("uses the euclidean score");
+    }
+    assertThat(Files2.checksums(idx)).isEqualTo(before);
+    assertThat(tmp.resolve("e.edge")).doesNotExist();
+    // an index built from codes keeps no magnitudes: refused, naming the index
+    Path codesIdx = tmp.resolve("ecodes");
+    assertThat(Cli.run("build", "--out", codesIdx.toString(), "--codes", Files2.bits(tmp.resolve("etrain-codes.npy"), rows(300, 0.05, 1)).toString())
+        .code()).isZero();
+    Map<String, String> codesBefore = Files2.checksums(codesIdx);
+    Cli.Result none = Cli.run("ood", "calibrate", "--index", codesIdx.toString(), "--activations", calF.toString(), "--score", "euclidean");
+    assertThat(none.code()).as(none.describe()).isEqualTo(2);
+    assertThat(none.err().lines().filter(l -> !l.isBlank()).toList()).as(none.describe()).hasSize(1).first().asString()
+        .contains("index " + codesIdx + " keeps no magnitudes");
+    assertThat(Files2.checksums(codesIdx)).isEqualTo(codesBefore);
+  }
 }

@@ -31,7 +31,7 @@ public final class OodCalibrate {
    * {@code k} nearest, the statistic, the target true-positive rate (share of in-distribution inputs
    * accepted), the layers counted (null/empty = all), and whether to refuse inputs that look like
    * the index's own rows; {@code score} (null = refined when the index keeps magnitudes, else code)
-   * and the Hamming candidates the refined score re-ranks (0 = {@link Refine#DEFAULT_CANDIDATES}; another
+   * and the Hamming candidates the refined and euclidean scores re-rank (0 = {@link Refine#DEFAULT_CANDIDATES}; another
    * count with the code score is refused);
    * {@code threads >= 1}: inputs scored in parallel (the same calibration for any count).
    */
@@ -77,7 +77,7 @@ public final class OodCalibrate {
       Layers.select(reader.layout(), p.layers());
       OodScorer.Kind kind = p.score() != null ? p.score() : OodScorer.Kind.defaultFor(reader);
       if (kind == OodScorer.Kind.CODE && p.candidates() != 0)
-        throw new BadParameterException("candidates", " is for the refined score; this calibration uses the code score"
+        throw new BadParameterException("candidates", " is for the refined and euclidean scores; this calibration uses the code score"
             + (p.score() == null ? " (the index " + dir + " keeps no magnitudes)" : ""));
       int cands = kind == OodScorer.Kind.CODE ? 0 : Math.max(p.candidates() == 0 ? Refine.DEFAULT_CANDIDATES : p.candidates(), p.k());
       OodScorer scorer = new OodScorer(reader, p.k(), p.statistic(), p.layers(), kind, cands);

@@ -18,8 +18,9 @@ import java.util.Map;
  * {@code key=value} lines ({@code format=1}, {@code k}, {@code statistic} kth|mean, {@code
  * layers} comma-separated or empty, {@code tpr}, {@code threshold}, {@code scores}: the sorted
  * calibration scores, comma-separated, each written by {@link Double#toString} so it reads back
- * exactly), and, when the refined score was calibrated, {@code score=refined} and {@code candidates}
- * (absent = the code score). Since the live-set record, also {@code live} (the index's live examples
+ * exactly), and, when a score on kept magnitudes was calibrated, {@code score=refined} (cosine) or
+ * {@code score=euclidean}, and {@code candidates} (absent = the code score; a reader that does not
+ * know the stored name refuses the calibration as damaged, naming the field). Since the live-set record, also {@code live} (the index's live examples
  * when it was calibrated) and {@code live_ids} (their {@link LiveSet#fingerprint}, 16 lowercase hex
  * digits), both or neither: a calibration without them (written before) reads as {@link
  * LiveSet#UNRECORDED}. The store checksums attachments; this class checks the content.
@@ -47,17 +48,24 @@ public final class OodCalibration {
     return parse(new String(bytes, StandardCharsets.UTF_8), reader.dir() + " attachment " + ATTACHMENT);
   }
 
-  /** Which score a calibration holds, and the Hamming candidates the refined score re-ranks (0 for the code score). */
+  /** Which score a calibration holds, and the Hamming candidates the refined and euclidean scores re-rank (0 for the code score). */
   public record Scoring(OodScorer.Kind kind, int candidates) {
     public static final Scoring CODE = new Scoring(OodScorer.Kind.CODE, 0);
 
     /**
-     * The score in force, one of four fixed names: {@code code k-th distance}, {@code code mean
+     * The score in force, one of six fixed names: {@code code k-th distance}, {@code code mean
      * distance} (Hamming distances on codes), {@code refined cosine k-th distance}, {@code refined
-     * cosine mean distance} (cosine distances to kept magnitudes among the Hamming candidates).
+     * cosine mean distance} (cosine distances to kept magnitudes among the Hamming candidates),
+     * {@code refined euclidean k-th distance}, {@code refined euclidean mean distance} (Euclidean
+     * distances to the same).
      */
     public String name(Statistic statistic) {
-      return (kind == OodScorer.Kind.CODE ? "code " : "refined cosine ") + (statistic == Statistic.MEAN ? "mean distance" : "k-th distance");
+      String score = switch (kind) {
+        case CODE -> "code ";
+        case REFINED -> "refined cosine ";
+        case EUCLIDEAN -> "refined euclidean ";
+      };
+      return score + (statistic == Statistic.MEAN ? "mean distance" : "k-th distance");
     }
   }
 
@@ -95,11 +103,12 @@ public final class OodCalibration {
     return new OodScorer(reader, cal.k(), cal.statistic(), cal.layers(), s.kind(), s.candidates());
   }
 
-  /** Refuses a refined calibration where only the code score applies ({@code what}: the option or command). */
+  /** Refuses a refined or euclidean calibration where only the code score applies ({@code what}: the option or command). */
   public static void requireCode(IndexReader reader, String what) {
-    if (scoring(reader).kind() != OodScorer.Kind.CODE)
+    OodScorer.Kind kind = scoring(reader).kind();
+    if (kind != OodScorer.Kind.CODE)
       throw new BadInputException(what + " uses the code score, but the calibration stored in " + reader.dir()
-          + " uses the refined score; calibrate with `score` code for it");
+          + " uses the " + kind.label() + " score; calibrate with `score` code for it");
   }
 
   /**

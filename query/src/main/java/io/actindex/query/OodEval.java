@@ -21,7 +21,9 @@ import java.util.TreeSet;
  * breakdown over k (1, 5, 10 and the calibrated k), statistic and layers (all, and each layer
  * alone) so users can choose; with float activations of the same inputs and of the training
  * examples, the k-NN score on floats ({@link FloatKnnScore}); with raw inputs and a model in the
- * index, the softmax baseline ({@link SoftmaxBaseline}). Side by side, never mixed.
+ * index, the softmax baseline ({@link SoftmaxBaseline}); with a refined or euclidean calibration,
+ * both of these scores on the kept magnitudes (the calibration's k, statistic, layers and
+ * candidates). Side by side, never mixed.
  *
  * <pre>{@code
  * try (IndexReader r = IndexReader.open(dir)) {
@@ -38,8 +40,9 @@ public final class OodEval {
    * {@code candidates}: Hamming candidates the training-floats refined score re-ranks (0 = {@link
    * #REFINE_CANDIDATES}; another count without the training floats or with a refined calibration is
    * refused); {@code score}: the score asked for (null = the calibration's; a different one is
-   * refused). With a refined calibration, {@code refined} is the score from the index's kept
-   * magnitudes (the calibration's candidates), and the training floats feed only the float score.
+   * refused). With a refined or euclidean calibration, {@code refined} and {@code euclidean} are the
+   * scores from the index's kept magnitudes (the calibration's candidates), and the training floats
+   * feed only the float score.
    * {@code threads >= 1}: inputs searched and scored in parallel (the same result for any count).
    * {@code header}: whether the first line of every CSV file read (in and out, replacing their
    * sources' own rule, and the float files) is a header (null = detect).
@@ -79,21 +82,24 @@ public final class OodEval {
   public record Variant(int k, Statistic statistic, List<String> layers, double auroc, double fprAt95Tpr) {}
 
   /**
-   * {@code floats}, {@code refined} and {@code softmax} are null when they do not apply. {@code
-   * refined} needs training floats whose rows are the index's ids (one row per id, in build order).
+   * {@code floats}, {@code refined}, {@code softmax} and {@code euclidean} are null when they do not
+   * apply. With a code calibration, {@code refined} needs training floats whose rows are the index's
+   * ids (one row per id, in build order) and {@code euclidean} is null; with a refined or euclidean
+   * calibration both are the scores on the index's kept magnitudes.
    * {@code notes}: how the in and out files were read ({@link QueryCodes#notes()}, e.g. their CSV header), then
    * the float files ({@link FloatKnnScore.Queries#notes()}, {@link FloatKnnScore#notes()}). {@code
    * liveCheck}: whether the index's live examples changed since the calibration ({@link
    * OodCalibration#liveCheck}).
    */
   public record Result(Calibration calibration, Scored code, List<Variant> variants, Scored floats, Scored refined, Scored softmax,
-      List<String> warnings, List<String> notes, OodCalibration.LiveCheck liveCheck) {
-    /** The scores that apply, code score first. */
+      Scored euclidean, List<String> warnings, List<String> notes, OodCalibration.LiveCheck liveCheck) {
+    /** The scores that apply, code score first, euclidean (added later) last. */
     public List<Scored> scores() {
       List<Scored> s = new ArrayList<>(List.of(code));
       if (floats != null) s.add(floats);
       if (refined != null) s.add(refined);
       if (softmax != null) s.add(softmax);
+      if (euclidean != null) s.add(euclidean);
       return List.copyOf(s);
     }
   }
@@ -101,8 +107,8 @@ public final class OodEval {
   public static Result run(IndexReader reader, Params p, Progress progress) {
     Calibration cal = OodCalibration.load(reader);
     OodScorer scorer = OodCalibration.scorer(reader, cal, p.score());
-    if (p.candidates() != 0 && scorer.kind() == OodScorer.Kind.REFINED)
-      throw new BadInputException("`candidates` is for the refined score from `trainFloats` with a code calibration; this refined"
+    if (p.candidates() != 0 && scorer.kind().usesMagnitudes())
+      throw new BadInputException("`candidates` is for the refined score from `trainFloats` with a code calibration; this " + scorer.kind().label()
           + " calibration re-ranks its own " + OodCalibration.scoring(reader).candidates() + " candidates (set at ood calibrate)");
     QuerySource.Queries inQ = scorer.load(p.in(), RowRange.ALL), outQ = scorer.load(p.out(), RowRange.ALL);
     QueryCodes in = inQ.codes(), out = outQ.codes();
@@ -169,18 +175,28 @@ public final class OodEval {
             + " ids (the refined score needs one row per index id, in build order); the float score uses all its rows");
       }
     }
-    if (scorer.kind() == OodScorer.Kind.REFINED)
-      refined = Scored.of("refined", "cosine distance of activations to kept magnitudes among the " + OodCalibration.scoring(reader).candidates()
-          + " nearest codes (k=" + cal.k() + ", " + cal.statistic().label + ", exact within the candidates)", scorer.values(inQ, Progress.NONE, threads),
-          scorer.values(outQ, Progress.NONE, threads));
+    Scored euclidean = null;
+    if (scorer.kind().usesMagnitudes()) { // both distances on the kept magnitudes, whichever was calibrated
+      refined = kept(reader, cal, OodScorer.Kind.REFINED, inQ, outQ, threads);
+      euclidean = kept(reader, cal, OodScorer.Kind.EUCLIDEAN, inQ, outQ, threads);
+    }
     Scored softmax = null;
     double[] sa = SoftmaxBaseline.scores(reader, p.in(), RowRange.ALL), sb = SoftmaxBaseline.scores(reader, p.out(), RowRange.ALL);
     if (sa != null && sb != null) {
       String one = SoftmaxBaseline.oneOutputNote(reader);
       softmax = Scored.of("softmax", "1 - maximum softmax probability of the model (baseline)" + (one == null ? "" : "; " + one), sa, sb);
     }
-    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, List.copyOf(warnings), List.copyOf(notes),
+    return new Result(cal, code, List.copyOf(variants), floats, refined, softmax, euclidean, List.copyOf(warnings), List.copyOf(notes),
         OodCalibration.liveCheck(reader));
+  }
+
+  /** The {@code kind} score (refined or euclidean) of in and out with the stored calibration's k, statistic, layers and candidates. */
+  private static Scored kept(IndexReader reader, Calibration cal, OodScorer.Kind kind, QuerySource.Queries in, QuerySource.Queries out, int threads) {
+    int c = OodCalibration.scoring(reader).candidates();
+    OodScorer s = new OodScorer(reader, cal.k(), cal.statistic(), cal.layers(), kind, c);
+    String what = kind == OodScorer.Kind.REFINED ? "cosine" : "Euclidean";
+    return Scored.of(kind.label(), what + " distance of activations to kept magnitudes among the " + c + " nearest codes (k=" + cal.k() + ", "
+        + cal.statistic().label + ", exact within the candidates)", s.values(in, Progress.NONE, threads), s.values(out, Progress.NONE, threads));
   }
 
   /** Hamming candidates the refined score re-ranks. */

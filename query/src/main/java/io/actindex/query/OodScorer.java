@@ -19,7 +19,9 @@ import java.util.Locale;
  * distance ({@link Refine.Metric#COSINE}) from the query's activations to the k-th nearest (or the
  * mean of the k nearest) dequantised magnitude vectors among the {@code candidates} nearest codes
  * (ties at the last Hamming distance included, {@link Refine#candidates}): exact within the
- * candidates, never looking at the rest.
+ * candidates, never looking at the rest. {@link Kind#EUCLIDEAN}: the same with the Euclidean distance
+ * ({@link Refine.Metric#EUCLIDEAN}), which, unlike the cosine, grows with the activations' size (an
+ * input scaled far outside the training range scores high; docs/commands/ood.md, far inputs).
  */
 public final class OodScorer {
   /**
@@ -30,17 +32,36 @@ public final class OodScorer {
    */
   public record Score(double value, int kth, double mean, boolean ownRegion, int[] ids, int[] distances) {}
 
-  /** Which score: Hamming distances on codes, or float distances on kept magnitudes among the Hamming candidates. */
+  /**
+   * Which score: Hamming distances on codes, or float distances on kept magnitudes among the Hamming
+   * candidates, cosine (REFINED) or Euclidean (EUCLIDEAN).
+   */
   public enum Kind {
-    CODE, REFINED;
+    CODE(null), REFINED(Refine.Metric.COSINE), EUCLIDEAN(Refine.Metric.EUCLIDEAN);
+
+    private final Refine.Metric metric;
+
+    Kind(Refine.Metric metric) {
+      this.metric = metric;
+    }
 
     public static Kind parse(String s) {
       for (Kind x : values()) if (x.label().equalsIgnoreCase(s)) return x;
-      throw new BadParameterException("score", ": unknown score '" + (s.length() > 20 ? s.substring(0, 20) + "..." : s) + "' (code or refined)");
+      throw new BadParameterException("score", ": unknown score '" + (s.length() > 20 ? s.substring(0, 20) + "..." : s) + "' (code, refined or euclidean)");
     }
 
     public String label() {
       return name().toLowerCase(Locale.ROOT);
+    }
+
+    /** The float distance on kept magnitudes; null for the code score. */
+    public Refine.Metric metric() {
+      return metric;
+    }
+
+    /** Whether the score re-ranks Hamming candidates by kept magnitudes (REFINED, EUCLIDEAN). */
+    public boolean usesMagnitudes() {
+      return metric != null;
     }
 
     /** REFINED when the index keeps magnitudes, CODE otherwise. */
@@ -63,8 +84,8 @@ public final class OodScorer {
   }
 
   /**
-   * The {@code kind} score; REFINED re-ranks {@code max(candidates, k)} Hamming candidates and needs
-   * an index that keeps magnitudes (refused otherwise).
+   * The {@code kind} score; REFINED and EUCLIDEAN re-rank {@code max(candidates, k)} Hamming
+   * candidates and need an index that keeps magnitudes (refused otherwise).
    */
   public OodScorer(IndexReader reader, int k, Statistic statistic, List<String> layers, Kind kind, int candidates) {
     this.reader = reader;
@@ -74,7 +95,7 @@ public final class OodScorer {
     this.kind = kind;
     this.candidates = Math.max(candidates, k);
     checkK(reader, k);
-    if (kind == Kind.REFINED && !reader.hasMagnitudes()) throw new BadInputException(Refine.noMagnitudes(reader));
+    if (kind.usesMagnitudes() && !reader.hasMagnitudes()) throw new BadInputException(Refine.noMagnitudes(reader));
     this.units = layers == null || layers.isEmpty() ? null : Refine.units(reader.layout(), Layers.select(reader.layout(), layers));
   }
 
@@ -96,7 +117,7 @@ public final class OodScorer {
   }
 
   /**
-   * The refined score of one query: its code and its activations ({@code acts[off..off+bits)}).
+   * The refined score (cosine, or Euclidean for EUCLIDEAN) of one query: its code and its activations ({@code acts[off..off+bits)}).
    * {@code kth} and {@code mean} stay the Hamming distances of the k nearest codes; {@code value} is
    * the refined statistic; {@code nearest} lists the k best candidates in refined order with their
    * Hamming distances.
@@ -105,7 +126,7 @@ public final class OodScorer {
     Hits cands = Refine.candidates(reader, code, candidates, null, mask);
     int d = reader.layout().bits();
     float[] query = java.util.Arrays.copyOfRange(acts, off, off + d);
-    Refine.Ranked r = Refine.rerank(cands, query, (id, v) -> reader.magnitudes(id, v, 0), new float[d], Refine.Metric.COSINE, units, k);
+    Refine.Ranked r = Refine.rerank(cands, query, (id, v) -> reader.magnitudes(id, v, 0), new float[d], kind == Kind.CODE ? Refine.Metric.COSINE : kind.metric(), units, k);
     double sum = 0;
     for (int i = 0; i < k; i++) sum += r.distance()[i];
     Score hamming = of(cands, k, statistic);
@@ -113,9 +134,9 @@ public final class OodScorer {
     return new Score(value, hamming.kth(), hamming.mean(), hamming.ownRegion(), r.ids(), r.hamming());
   }
 
-  /** The score of query {@code i}: refined when this scorer is, from {@code acts} (null for the code score). */
+  /** The score of query {@code i}: refined (cosine or Euclidean) when this scorer is, from {@code acts} (null for the code score). */
   public Score score(QueryCodes q, float[] acts, int i) {
-    return kind == Kind.REFINED ? refined(q.codes().code(i), acts, i * reader.layout().bits()) : score(q.codes().code(i));
+    return kind.usesMagnitudes() ? refined(q.codes().code(i), acts, i * reader.layout().bits()) : score(q.codes().code(i));
   }
 
   /** The scores of every code of {@code codes} ({@code progress} null: none). */
@@ -145,11 +166,11 @@ public final class OodScorer {
     return out;
   }
 
-  /** The queries this scorer needs: with activations for the refined score (a codes source is refused), codes otherwise. */
+  /** The queries this scorer needs: with activations for the refined and euclidean scores (a codes source is refused), codes otherwise. */
   public QuerySource.Queries load(Source source, RowRange rows) {
-    if (kind == Kind.REFINED) {
+    if (kind.usesMagnitudes()) {
       if (source.kind() == Source.Kind.CODES)
-        throw new BadInputException(source.file() + ": the refined score needs the queries' activations (`Source.activations`) or inputs (`Source.inputs`), "
+        throw new BadInputException(source.file() + ": the " + kind.label() + " score needs the queries' activations (`Source.activations`) or inputs (`Source.inputs`), "
             + "not codes; use `score` code for codes");
       return QuerySource.loadWithActivations(reader, source, rows, Progress.NONE);
     }

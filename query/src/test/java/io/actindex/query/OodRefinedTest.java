@@ -27,18 +27,22 @@ import org.junit.jupiter.api.io.TempDir;
 import org.roaringbitmap.RoaringBitmap;
 
 /**
- * The refined OOD score ({@link OodScorer.Kind#REFINED}) against a brute force written here: every
+ * The refined OOD scores ({@link OodScorer.Kind#REFINED}, cosine, and {@link OodScorer.Kind#EUCLIDEAN})
+ * against a brute force written here: every
  * live code's Hamming distance counted bit by bit on the scored layers, the candidates = every row
  * within the C-th smallest distance (ties at the C-th included), each candidate's vector
- * dequantised from the {@link Magnitudes} the test quantised itself, the cosine distance computed
- * here, sorted; the score is the k-th smallest (or the mean of the k smallest). Random and ReLU-like
- * data, deletes, layers, both statistics, many seeds, before and after a compaction merges the two
+ * dequantised from the {@link Magnitudes} the test quantised itself, the cosine or Euclidean distance
+ * computed here, sorted; the score is the k-th smallest (or the mean of the k smallest). Random and
+ * ReLU-like data (the random data with duplicated rows and a query equal to a training row, so that
+ * distances tie exactly), deletes, layers, both statistics, many seeds, before and after a compaction merges the two
  * segments (their rows keep their own quantisation, so the scores stay the same). Then the commands
  * end to end: the stored calibration records the score, and mismatches and codes-only queries are
  * refused.
  */
 class OodRefinedTest {
   @TempDir Path tmp;
+
+  private int exactTies; // queries whose k-th and (k+1)-th candidate distances were equal, over the whole test
 
   @Test
   void equalsBruteForceOnReluLikeAndRandomData() {
@@ -60,11 +64,15 @@ class OodRefinedTest {
         CodeLayout layout = d > 3 ? CodeLayout.parse("a:" + (d / 3) + ",b:" + (d - d / 3)) : CodeLayout.single("a", d);
         acts = gaussian(rnd, n * d);
         qActs = gaussian(rnd, 12 * d);
+        for (int i = 0; i < n / 3; i++) // duplicated rows: the same code and, in one half, the same quantised vector
+          System.arraycopy(acts, (i % (n / 2)) * d, acts, (n / 2 - 1 - i % (n / 2)) * d, d);
+        System.arraycopy(acts, rnd.nextInt(n) * d, qActs, 0, d); // a query on a training row
         codes = binarize(layout, acts, n);
         qCodes = binarize(layout, qActs, 12);
       }
       check(tmp.resolve("i" + t), codes, acts, qCodes, qActs, rnd, why);
     }
+    assertThat(exactTies).as("queries with an exact tie at the k-th refined distance").isGreaterThan(0);
   }
 
   private void check(Path dir, CodeBlock codes, float[] acts, CodeBlock qCodes, float[] qActs, SplittableRandom rnd, String why) {
@@ -94,19 +102,23 @@ class OodRefinedTest {
           Statistic st = rnd.nextBoolean() ? Statistic.KTH : Statistic.MEAN;
           List<String> layers = round == 2 && codes.layout().segments().size() > 1 ? List.of(codes.layout().segments().get(1).name()) : null;
           int[] units = layers == null ? java.util.stream.IntStream.range(0, d).toArray() : Refine.units(codes.layout(), Layers.select(codes.layout(), layers));
-          OodScorer scorer = new OodScorer(r, k, st, layers, OodScorer.Kind.REFINED, c);
-          for (int i = 0; i < qCodes.size(); i++) {
-            String at = why + (pass == 1 ? " after compaction" : "") + " bits " + bits + " round " + round + " k " + k + " C " + c + " " + st.label + " query " + i;
-            double want = bruteForce(codes, vectors, deleted, qCodes.code(i), Arrays.copyOfRange(qActs, i * d, i * d + d), units, k, c, st);
-            assertThat(scorer.score(q, qActs, i).value()).as(at).isCloseTo(want, org.assertj.core.api.Assertions.within(1e-12));
+          for (OodScorer.Kind kind : List.of(OodScorer.Kind.REFINED, OodScorer.Kind.EUCLIDEAN)) {
+            OodScorer scorer = new OodScorer(r, k, st, layers, kind, c);
+            for (int i = 0; i < qCodes.size(); i++) {
+              String at = why + (pass == 1 ? " after compaction" : "") + " " + kind.label() + " bits " + bits + " round " + round + " k " + k + " C " + c
+                  + " " + st.label + " query " + i;
+              double want = bruteForce(codes, vectors, deleted, qCodes.code(i), Arrays.copyOfRange(qActs, i * d, i * d + d), units, k, c, st,
+                  kind == OodScorer.Kind.EUCLIDEAN);
+              assertThat(scorer.score(q, qActs, i).value()).as(at).isCloseTo(want, org.assertj.core.api.Assertions.within(1e-12));
+            }
           }
         }
       }
     }
   }
 
-  private static double bruteForce(CodeBlock codes, float[][] vectors, RoaringBitmap deleted, long[] q, float[] query, int[] units, int k, int c,
-      Statistic st) {
+  private double bruteForce(CodeBlock codes, float[][] vectors, RoaringBitmap deleted, long[] q, float[] query, int[] units, int k, int c,
+      Statistic st, boolean euclidean) {
     List<int[]> byHamming = new ArrayList<>(); // {id, hamming}
     for (int id = 0; id < codes.size(); id++) {
       if (deleted.contains(id)) continue;
@@ -118,8 +130,9 @@ class OodRefinedTest {
     byHamming.sort((a, b) -> Integer.compare(a[1], b[1]));
     int dc = byHamming.get(Math.min(c, byHamming.size()) - 1)[1];
     List<Double> dist = new ArrayList<>();
-    for (int[] e : byHamming) if (e[1] <= dc) dist.add(cosine(query, vectors[e[0]], units));
+    for (int[] e : byHamming) if (e[1] <= dc) dist.add(euclidean ? euclidean(query, vectors[e[0]], units) : cosine(query, vectors[e[0]], units));
     dist.sort(null);
+    if (dist.size() > k && dist.get(k - 1).equals(dist.get(k))) exactTies++;
     double sum = 0;
     for (int i = 0; i < k; i++) sum += dist.get(i);
     return st == Statistic.MEAN ? sum / k : dist.get(k - 1);
@@ -134,6 +147,16 @@ class OodRefinedTest {
       nb += (double) b[u] * b[u];
     }
     return na == 0 || nb == 0 ? 1 : 1 - dot / Math.sqrt(na * nb);
+  }
+
+  /** {@code sqrt(sum (a_u - b_u)^2)} over the units. */
+  private static double euclidean(float[] a, float[] b, int[] units) {
+    double sum = 0;
+    for (int u : units) {
+      double x = (double) a[u] - b[u];
+      sum += x * x;
+    }
+    return Math.sqrt(sum);
   }
 
   private static float[] gaussian(SplittableRandom rnd, int m) {
@@ -214,5 +237,55 @@ class OodRefinedTest {
         new OodCalibrate.Params(3, Statistic.KTH, 0.9, null, false, OodScorer.Kind.REFINED, 0), Progress.NONE))
         .isInstanceOf(BadInputException.class).hasMessageContaining("keeps no magnitudes");
     assertThat(Files.exists(noMag)).isTrue();
+  }
+
+  @Test
+  void euclideanCalibrationIsStoredScoredAndEvaluatedBesideTheCosine() throws Exception {
+    long seed = Randoms.seed(11);
+    SyntheticCodes.ReluNet net = new SyntheticCodes.ReluNet(8, 40, 20, 5, seed);
+    SyntheticCodes.Sample train = net.sample(300, 0, seed + 1), cal = net.sample(60, 0, seed + 2), q = net.sample(20, 2, seed + 3);
+    int d = train.codes().layout().bits();
+    Path dir = tmp.resolve("idx");
+    IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.activations(npy(tmp.resolve("train.npy"), train.activations(), d)), null,
+        EncodeOptions.positive(), null, 0), Progress.NONE);
+    Path calFile = npy(tmp.resolve("cal.npy"), cal.activations(), d), qFile = npy(tmp.resolve("q.npy"), q.activations(), d);
+    OodCalibrate.Result cr = OodCalibrate.run(dir, Source.activations(calFile), RowRange.ALL,
+        new OodCalibrate.Params(3, Statistic.MEAN, 0.9, null, false, OodScorer.Kind.EUCLIDEAN, 40), Progress.NONE);
+    assertThat(cr.scoring()).isEqualTo(new OodCalibration.Scoring(OodScorer.Kind.EUCLIDEAN, 40));
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertThat(new String(r.attachment(OodCalibration.ATTACHMENT), java.nio.charset.StandardCharsets.UTF_8))
+          .contains("score=euclidean\n").contains("candidates=40\n");
+      assertThat(OodCalibration.scoring(r)).isEqualTo(cr.scoring());
+      OodScore.Output o = OodScore.run(r, Source.activations(qFile), RowRange.ALL, new OodScore.Params(2), Progress.NONE);
+      assertThat(o.scoreName()).isEqualTo("refined euclidean mean distance");
+      QuerySource.Queries qa = QuerySource.loadWithActivations(r, Source.activations(qFile), RowRange.ALL, Progress.NONE);
+      QuerySource.Queries ca = QuerySource.loadWithActivations(r, Source.activations(calFile), RowRange.ALL, Progress.NONE);
+      OodScorer euclid = new OodScorer(r, 3, Statistic.MEAN, null, OodScorer.Kind.EUCLIDEAN, 40);
+      OodScorer cosine = new OodScorer(r, 3, Statistic.MEAN, null, OodScorer.Kind.REFINED, 40);
+      double[] calScores = euclid.values(ca, Progress.NONE);
+      Arrays.sort(calScores);
+      assertThat(cr.calibration().scores()).containsExactly(calScores);
+      for (int i = 0; i < 20; i++) {
+        OodScore.Result x = o.results().get(i);
+        assertThat(x.score()).isEqualTo(euclid.score(qa.codes(), qa.activations(), i).value());
+        assertThat(x.out()).isEqualTo(x.score() > cr.calibration().threshold());
+      }
+      OodEval.Result e = OodEval.run(r, new OodEval.Params(Source.activations(calFile), Source.activations(qFile), null, null, null), Progress.NONE);
+      assertThat(e.euclidean().in()).containsExactly(euclid.values(ca, Progress.NONE));
+      assertThat(e.euclidean().out()).containsExactly(euclid.values(qa, Progress.NONE));
+      assertThat(e.refined().out()).containsExactly(cosine.values(qa, Progress.NONE));
+      assertThat(e.scores().getLast()).isSameAs(e.euclidean());
+      assertThatThrownBy(() -> OodScore.run(r, Source.activations(qFile), RowRange.ALL, new OodScore.Params(2, OodScorer.Kind.REFINED), Progress.NONE))
+          .isInstanceOf(BadInputException.class).hasMessageContaining("uses the euclidean score");
+      assertThatThrownBy(() -> OodScore.decide(r, qa.codes())).isInstanceOf(BadInputException.class).hasMessageContaining("uses the euclidean score");
+      assertThatThrownBy(() -> EdgeExport.bundle(r, OodCalibration.load(r), false)).isInstanceOf(BadInputException.class)
+          .hasMessageContaining("the edge bundle").hasMessageContaining("uses the euclidean score");
+    }
+    // an index without magnitudes: euclidean refused, naming the index and how to get them
+    Path noMag = tmp.resolve("codes-idx");
+    OodIndexTest.index(noMag, train.codes());
+    assertThatThrownBy(() -> OodCalibrate.run(noMag, Source.activations(calFile), RowRange.ALL,
+        new OodCalibrate.Params(3, Statistic.KTH, 0.9, null, false, OodScorer.Kind.EUCLIDEAN, 0), Progress.NONE))
+        .isInstanceOf(BadInputException.class).hasMessageContaining("keeps no magnitudes").hasMessageContaining(noMag.toString());
   }
 }
