@@ -2,12 +2,12 @@
 """Far inputs and the OOD scores: the model and data of newuser_mlp.py (same seeds, same 11 -> 48 ->
 100 -> 17 -> 5 PyTorch MLP), its far-out batch, and held-out in-distribution inputs multiplied by
 t = 2, 5, 10, 100. For every batch: `ood eval` AUROC of each score actindex offers (code score with
-the default calibration and the audit's, the refined score from kept magnitudes, the float and
+the default calibration and the audit's, the refined (cosine) and euclidean scores from kept magnitudes, the float and
 candidate-float scores from float files, the softmax baseline), each checked against NumPy /
 scikit-learn, plus scores actindex does not have (plain Euclidean k-NN on activations, the
 activation norm), and how many far codes lie at Hamming distance 0 or d from a training code.
-Last, NumPy only: whether a magnitude-aware refined score (Euclidean instead of cosine among the 100
-nearest codes) would lose on near inputs, on scikit-learn's copy of the UCI digits (0-4 in, 5-9 out,
+Last, NumPy only: whether the magnitude-aware score (Euclidean instead of cosine among the 100
+nearest codes, what `--score euclidean` computes on kept magnitudes) loses on near inputs, on scikit-learn's copy of the UCI digits (0-4 in, 5-9 out,
 a scikit-learn (64, 32) MLP, the three seeds of DigitsOodTest; not the project's trainer).
 
 A ReLU network is piecewise linear: along x -> t x the input ends in one outer linear region, where
@@ -176,13 +176,14 @@ def main():
         np.save(f"out{i}.npy", xb)
         np.save(f"out{i}-floats.npy", hidden(net, xb)[0].astype(np.float32))
 
-    # the three calibrations: the default (refined, k=1 kth), code k=1 kth, the audit's code k=3 mean
-    setups = [("default (refined)", []), ("code k=1", ["--score", "code"]), ("code k=3 mean (audit)", ["--score", "code", "-k", "3", "--statistic", "mean"])]
+    # the four calibrations: the default (refined, k=1 kth), euclidean k=1 kth, code k=1 kth, the audit's code k=3 mean
+    setups = [("default (refined)", []), ("euclidean", ["--score", "euclidean"]), ("code k=1", ["--score", "code"]),
+              ("code k=3 mean (audit)", ["--score", "code", "-k", "3", "--statistic", "mean"])]
     rows = []
     for setup, flags in setups:
         cal = js("ood", "calibrate", "--index", "index", "--inputs", "cal.npy", *flags)
         for i, (name, xb) in enumerate(batches.items()):
-            extra = [] if flags == [] else ["--in-floats", "in-floats.npy", "--out-floats", f"out{i}-floats.npy", "--train-floats", "train-floats.npy"]
+            extra = [] if flags == [] or "euclidean" in flags else ["--in-floats", "in-floats.npy", "--out-floats", f"out{i}-floats.npy", "--train-floats", "train-floats.npy"]
             ev = js("ood", "eval", "--index", "index", "--in", "in.npy", "--out", f"out{i}.npy", "--kind", "inputs", *extra)
             sc = {s["name"]: s for s in ev["scores"]}
             rows.append((setup, name, {n: s["auroc"] for n, s in sc.items()}, {n: s["fpr_at_95_tpr"] for n, s in sc.items()}))
@@ -228,6 +229,11 @@ def main():
         check(f"{name}: ood eval float AUROC (unit-length k=1) = cosine k-NN", abs(got["float"] - auc["cosine"]) < 1e-4, f"{got['float']} vs {auc['cosine']}")
         ref = next(r for r in rows if r[0] == "default (refined)" and r[1] == name)[2]["refined"]
         check(f"{name}: refined from kept magnitudes near the float cosine among 100 codes", abs(ref - auc["refined"]) < 0.02, f"{ref} vs {auc['refined']}")
+        eu = next(r for r in rows if r[0] == "euclidean" and r[1] == name)[2]
+        check(f"{name}: euclidean from kept magnitudes near the float Euclidean among 100 codes", abs(eu["euclidean"] - auc["euclid-cands"]) < 0.02,
+              f"{eu['euclidean']} vs {auc['euclid-cands']}")
+        check(f"{name}: the euclidean calibration's eval lists the same cosine refined AUROC as the default's", eu["refined"] == ref,
+              f"{eu['refined']} vs {ref}")
         # the outer region: the code at t and at 10 t
         if name.startswith("in x"):
             c_far = hidden(net, xb * 10)[0] > 0
@@ -236,11 +242,12 @@ def main():
                   f"{np.median(np.linalg.norm(a_o, axis=1)) / np.median(np.linalg.norm(a_in, axis=1)):.1f} times the held-out inputs' |")
 
     print()
-    print("| calibration | batch | " + " | ".join(["code", "best code variant", "refined", "float", "softmax"]) + " | flagged out by ood score |")
-    print("|---|---|---|---|---|---|---|---|")
+    print("| calibration | batch | " + " | ".join(["code", "best code variant", "refined", "euclidean", "float", "softmax"]) + " | flagged out by ood score |")
+    print("|---|---|---|---|---|---|---|---|---|")
     for setup, name, auc, _ in rows:
         cell = lambda n: f"{auc[n]:.3f}" if n in auc else "-"
-        print(f"| {setup} | {name} | {cell('code')} | {cell('best variant')} | {cell('refined')} | {cell('float')} | {cell('softmax')} | {auc['flagged']:.2f} |")
+        print(f"| {setup} | {name} | {cell('code')} | {cell('best variant')} | {cell('refined')} | {cell('euclidean')} | {cell('float')} | {cell('softmax')} "
+              f"| {auc['flagged']:.2f} |")
     digits()
     print(f"{len(failures)} DIFF" if failures else "all OK")
     sys.exit(1 if failures else 0)

@@ -33,7 +33,7 @@ import org.junit.jupiter.api.io.TempDir;
  * the training part; {@code ood calibrate} then {@code ood eval} give AUROC and FPR at 95% TPR for
  * the code score (every k, statistic and layer set), the k-NN score on float activations and the
  * maximum-softmax baseline, and the refined score (float distance among the Hamming candidates, the
- * training floats' rows being the index ids). Floors are set from the measurement (see docs/commands/ood.md) with a
+ * training floats' rows being the index ids), and the refined and euclidean scores from the index's kept magnitudes. Floors are set from the measurement (see docs/commands/ood.md) with a
  * margin. The same run checks the edge bundle with the model and the compiled C source: raw
  * inputs encode to the index's codes and score as the index scores them.
  */
@@ -46,7 +46,8 @@ class DigitsOodTest {
   // code k=1 kth all layers: 0.7775 / 0.9045 / 0.7598; best code variant: 0.7775 / 0.9104 / 0.7960;
   // float k-NN (k=1): 0.9762 / 0.9889 / 0.9934; softmax baseline: 0.9391 / 0.9432 / 0.9345;
   // refined (float distance among the 100 nearest codes): 0.9762 / 0.9890 / 0.9934; refined from the index's kept 8-bit magnitudes
-  // (cosine, 100 candidates, the default calibration): 0.9763 / 0.9890 / 0.9934
+  // (cosine, 100 candidates, the default calibration): 0.9763 / 0.9890 / 0.9934; euclidean from the same kept magnitudes (listed by the
+  // same ood eval, 2026-12-05): 0.9821 / 0.9868 / 0.9913
   static final double CODE_AUROC_FLOOR = 0.70, BEST_CODE_AUROC_FLOOR = 0.74, FLOAT_AUROC_FLOOR = 0.93, SOFTMAX_AUROC_FLOOR = 0.88,
       REFINED_AUROC_FLOOR = 0.93, KEPT_AUROC_FLOOR = 0.93;
 
@@ -81,7 +82,8 @@ class DigitsOodTest {
   void codeScoreFloatScoreAndSoftmaxOnHeldOutDigits() throws Exception {
     DigitsData d = DigitsData.load();
     List<String> report = new ArrayList<>();
-    double minCode = 1, minBest = 1, minFloat = 1, minSoftmax = 1, minRefined = 1, refinedVsSoftmax = 1, minKept = 1, keptVsSoftmax = 1;
+    double minCode = 1, minBest = 1, minFloat = 1, minSoftmax = 1, minRefined = 1, refinedVsSoftmax = 1, minKept = 1, keptVsSoftmax = 1,
+        minEuclidean = 1;
     for (long seed : SEEDS) {
       List<double[]> train = new ArrayList<>(), cal = new ArrayList<>(), in = new ArrayList<>(), out = new ArrayList<>();
       List<Integer> trainY = new ArrayList<>();
@@ -130,7 +132,10 @@ class DigitsOodTest {
       report.add(String.format(Locale.ROOT, "seed %d refined from kept magnitudes: AUROC %.4f FPR95 %.4f AUPR-in %.4f AUPR-out %.4f; softmax %.4f",
           seed, m.refined().metrics().auroc(), m.refined().metrics().fprAt95Tpr(), m.refined().metrics().auprIn(), m.refined().metrics().auprOut(),
           m.softmax().metrics().auroc()));
+      report.add(String.format(Locale.ROOT, "seed %d euclidean from kept magnitudes: AUROC %.4f FPR95 %.4f AUPR-in %.4f AUPR-out %.4f", seed,
+          m.euclidean().metrics().auroc(), m.euclidean().metrics().fprAt95Tpr(), m.euclidean().metrics().auprIn(), m.euclidean().metrics().auprOut()));
       minKept = Math.min(minKept, m.refined().metrics().auroc());
+      minEuclidean = Math.min(minEuclidean, m.euclidean().metrics().auroc());
       keptVsSoftmax = Math.min(keptVsSoftmax, m.refined().metrics().auroc() - m.softmax().metrics().auroc());
       double best = 0;
       for (OodEval.Variant v : e.variants()) {
@@ -160,6 +165,7 @@ class DigitsOodTest {
     System.out.printf(Locale.ROOT, "refined (kept magnitudes) minus softmax AUROC, worst seed: %.4f%n", keptVsSoftmax);
     assertThat(minKept).as("refined score from kept magnitudes AUROC, worst seed").isGreaterThanOrEqualTo(KEPT_AUROC_FLOOR);
     assertThat(keptVsSoftmax).as("refined (kept magnitudes) minus softmax AUROC, worst seed").isGreaterThanOrEqualTo(0);
+    assertThat(minEuclidean).as("euclidean score from kept magnitudes AUROC, worst seed").isGreaterThanOrEqualTo(KEPT_AUROC_FLOOR);
   }
 
   /** The bundle with the model (Java reader and compiled C) encodes raw inputs to the index's codes and scores them alike. */
