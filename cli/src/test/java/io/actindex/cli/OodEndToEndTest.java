@@ -555,6 +555,11 @@ class OodEndToEndTest {
     JsonNode cj = JSON.readTree(c.out());
     assertThat(cj.get("score").asText()).isEqualTo("euclidean");
     assertThat(cj.get("candidates").asInt()).isEqualTo(30);
+    Path page = tmp.resolve("e.html");
+    Cli.Result rep = Cli.run("report", "--index", i, "--out", page.toString());
+    assertThat(rep.code()).as(rep.describe()).isZero();
+    assertThat(Files.readString(page)).contains("refined euclidean k-th distance (k = 2, among 30 Hamming candidates")
+        .contains("score (Euclidean distance)").doesNotContain("score (cosine distance)");
     Cli.Result s = Cli.run("ood", "score", "--index", i, "--activations", qF.toString(), "--format", "json");
     assertThat(s.code()).as(s.describe()).isZero();
     JsonNode sj = JSON.readTree(s.out());

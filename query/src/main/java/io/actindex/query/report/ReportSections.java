@@ -65,7 +65,7 @@ public final class ReportSections {
         .row("median score", r.p50())
         .row("largest score", hi);
     page.chartWithTable(SvgChart.bars("Calibration scores (threshold " + HtmlPage.num(c.threshold()) + ")",
-        code ? "score (bits)" : "score (cosine distance)",
+        code ? "score (bits)" : r.scoring().kind() == OodScorer.Kind.EUCLIDEAN ? "score (Euclidean distance)" : "score (cosine distance)",
         "calibration inputs", edges, bins, List.of(new SvgChart.Series("accepted (in)", null, counts),
             new SvgChart.Series("above the threshold", null, flagged)), false), t);
   }
