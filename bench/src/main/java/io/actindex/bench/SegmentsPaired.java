@@ -20,7 +20,10 @@ import java.util.Map;
  * as one segment, as ten segments of 100k kept apart (the stores {@link RealUseBench} caches), as ten
  * adds of 100k under the default merge policy (what a user who adds ten batches gets; built here
  * once and cached) and as the one segment with one id deleted ({@link RealUseBench}'s {@code tomb1}
- * store: a copy of the clean one, then the delete). Each query runs through the four indexes in turn,
+ * store: a copy of the clean one, then the delete), and once more as a pair on the same files: a fresh
+ * copy of the clean store opened, then one id deleted in it and opened again, so that the tombstone's
+ * reader and its clean reader map the same segment files (a second store's own pages cost 0-4% on
+ * their own, docs/benchmarks.md "One tombstone, paired per query"). Each query runs through the six indexes in turn,
  * rotating which goes first, {@code rounds} times after a round that checks they answer alike; a
  * query's time is its best round. Ratios: summed per-query times, and the median of the per-query
  * ratios, over the single segment's, all measured in the same minutes.
@@ -35,13 +38,16 @@ public final class SegmentsPaired {
     String[] data = WorstCaseSweep.arg(args, "data", "relu,dense").split(","), kinds = WorstCaseSweep.arg(args, "queries", "in,ood").split(",");
     int n = 1_000_000, bits = 256, rounds = Integer.parseInt(WorstCaseSweep.arg(args, "rounds", "5")),
         count = Integer.parseInt(WorstCaseSweep.arg(args, "count", "512")), k = Integer.parseInt(WorstCaseSweep.arg(args, "k", "10"));
-    System.out.println("| data | queries | one segment µs | ten kept apart µs | / one (sum, median per query) | ten adds, default policy µs | segments | / one (sum, median per query) | load | one tombstone µs | / one (sum, median per query) |");
-    System.out.println("|---|---|---:|---:|---:|---:|---:|---:|---:|---:|---:|");
+    System.out.println("| data | queries | one segment µs | ten kept apart µs | / one (sum, median per query) | ten adds, default policy µs | segments | / one (sum, median per query) | load | one tombstone µs | / one (sum, median per query) | same files: clean µs | one tombstone µs | / clean (sum, median per query) |");
+    System.out.println("|---|---|---:|---:|---:|---:|---:|---:|---:|---:|---:|---:|---:|---:|");
     for (String d : data) {
       CodeBlock codes = BenchData.codes(d, n, bits);
-      IndexReader[] r = {IndexReader.open(RealUseBench.store(d, codes, 1, null)), IndexReader.open(RealUseBench.store(d, codes, 10, null)),
-        IndexReader.open(defaultPolicy(d, codes, 10)), IndexReader.open(RealUseBench.store(d, codes, 1, "tomb1"))};
       int deleted = n / 2; // the tombstone's id (RealUseBench.store)
+      Path pair = BenchData.dir().resolve("paired-tomb1-" + d);
+      IndexReader[] r = {IndexReader.open(RealUseBench.store(d, codes, 1, null)), IndexReader.open(RealUseBench.store(d, codes, 10, null)),
+        IndexReader.open(defaultPolicy(d, codes, 10)), IndexReader.open(RealUseBench.store(d, codes, 1, "tomb1")),
+        IndexReader.open(copy(RealUseBench.store(d, codes, 1, null), pair)), null};
+      r[5] = deleteOne(pair, deleted);
       long[] live = new long[(n + 63) >>> 6];
       Arrays.fill(live, -1L);
       live[deleted >>> 6] &= ~(1L << (deleted & 63));
@@ -60,18 +66,24 @@ public final class SegmentsPaired {
                 Hits h = r[p].search(qs[i], k, null, null);
                 double us = (System.nanoTime() - t0) / 1e3;
                 if (round > 0) best[p][i] = Math.min(best[p][i], us);
-                else if (p > 0 && !h.equals(r[0].search(qs[i], k, p == 3 ? clean : null, null)))
+                else if (p > 0 && !h.equals(r[0].search(qs[i], k, p == 3 || p == 5 ? clean : null, null)))
                   throw new AssertionError(d + " " + kind + " query " + i + ": index " + p + " answers differently");
               }
           double one = sum(best[0]);
-          System.out.printf(Locale.ROOT, "| %s | %s | %.1f | %.1f | %.2f×, %.2f× | %.1f | %d | %.2f×, %.2f× | %.1f | %.1f | %.2f×, %.2f× |%n", d, kind,
+          System.out.printf(Locale.ROOT, "| %s | %s | %.1f | %.1f | %.2f×, %.2f× | %.1f | %d | %.2f×, %.2f× | %.1f | %.1f | %.2f×, %.2f× | %.1f | %.1f | %.2f×, %.2f× |%n", d, kind,
               one / qs.length, sum(best[1]) / qs.length, sum(best[1]) / one, medianRatio(best[1], best[0]), sum(best[2]) / qs.length,
               r[2].info().segments().size(), sum(best[2]) / one, medianRatio(best[2], best[0]),
               ManagementFactory.getOperatingSystemMXBean().getSystemLoadAverage(), sum(best[3]) / qs.length, sum(best[3]) / one,
-              medianRatio(best[3], best[0]));
+              medianRatio(best[3], best[0]), sum(best[4]) / qs.length, sum(best[5]) / qs.length, sum(best[5]) / sum(best[4]),
+              medianRatio(best[5], best[4]));
         }
       } finally {
         for (IndexReader x : r) x.close();
+        try {
+          RealUseBench.delete(pair);
+        } catch (IOException e) {
+          throw new UncheckedIOException(e);
+        }
       }
     }
   }
@@ -89,6 +101,43 @@ public final class SegmentsPaired {
       }
       Files.writeString(done, "");
       return dir;
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
+  }
+
+  /** A fresh byte copy of the store {@code from} at {@code to}. */
+  private static Path copy(Path from, Path to) {
+    try (java.util.stream.Stream<Path> s = Files.walk(from)) {
+      RealUseBench.delete(to);
+      for (Path p : s.toList()) Files.copy(p, to.resolve(from.relativize(p).toString()));
+      return to;
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
+  }
+
+  /**
+   * Deletes {@code id} in the store at {@code dir} and opens it: a reader opened before keeps the
+   * clean generation, and both map the same segment files (the delete writes a tombstone file and a
+   * manifest, no segment: checked here by the segment files' sizes and times).
+   */
+  private static IndexReader deleteOne(Path dir, int id) {
+    Map<Path, String> before = segmentFiles(dir);
+    try (IndexWriter w = IndexWriter.open(dir)) {
+      w.delete(new int[] {id});
+    }
+    if (!segmentFiles(dir).equals(before)) throw new IllegalStateException(dir + ": the delete rewrote a segment file");
+    return IndexReader.open(dir);
+  }
+
+  /** The segment files of a store, each with its size and modification time. */
+  private static Map<Path, String> segmentFiles(Path dir) {
+    try (java.util.stream.Stream<Path> s = Files.list(dir)) {
+      Map<Path, String> files = new java.util.TreeMap<>();
+      for (Path p : s.filter(p -> p.getFileName().toString().startsWith("seg-")).toList())
+        files.put(p, Files.size(p) + " " + Files.getLastModifiedTime(p));
+      return files;
     } catch (IOException e) {
       throw new UncheckedIOException(e);
     }

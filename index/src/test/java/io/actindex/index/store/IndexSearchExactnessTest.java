@@ -89,6 +89,52 @@ class IndexSearchExactnessTest {
     }
   }
 
+  /**
+   * A few deleted or filtered-out ids (so few that the search first runs without asking the filter,
+   * and repeats with it when an answer is rejected): the deleted ids are the codes the queries copy
+   * and their duplicates, so their nearest codes are rejected and the search must repeat, and other
+   * queries whose answers are all accepted end after the first pass. Dense and skewed ReLU-like codes
+   * (partitions and tables) and uniform ones, two segments, k = 1, 10, 100, against brute force.
+   */
+  @Test
+  void fewRejectedIdsEqualBruteForce() {
+    for (int rep = 0; rep < 6; rep++) {
+      long seed = Randoms.seed(600 + rep);
+      String why = Randoms.describe(seed);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      CodeBlock all = switch (rep % 3) {
+        case 0 -> SyntheticCodes.ReluNet.dense(32, 64, 64, 20, seed).sample(12_000, 0, seed + 1).codes();
+        case 1 -> SyntheticCodes.reluLike(12_000, 96, 64, seed).codes();
+        default -> SyntheticCodes.uniform(12_000, 128, seed);
+      };
+      all = all.concat(all.slice(0, 300)); // duplicates: a rejected code tied with an accepted one of a larger id
+      Path dir = tmp.resolve("few-" + rep);
+      int n = all.size();
+      int[] copied = new int[12];
+      for (int i = 0; i < copied.length; i++) copied[i] = rnd.nextInt(i % 2 == 0 ? 300 : n);
+      RoaringBitmap deleted = RoaringBitmap.bitmapOf(copied[0], copied[1], copied[2], copied[3]);
+      try (IndexWriter w = IndexWriter.create(dir, all.layout(), Map.of())) {
+        w.add(all.slice(0, 7_000), null);
+        w.add(all.slice(7_000, n), null);
+        w.delete(deleted.toArray());
+      }
+      try (IndexReader r = IndexReader.open(dir)) {
+        RoaringBitmap out = RoaringBitmap.bitmapOf(copied[4], copied[5]); // a filter of every id but two
+        io.actindex.core.IdSet allButTwo = r.filter(RoaringBitmap.andNot(RoaringBitmap.bitmapOf(java.util.stream.IntStream.range(0, n).toArray()), out).toArray());
+        for (int i = 0; i < copied.length; i++) {
+          long[] q = all.code(copied[i]);
+          if (i >= 8) q = flip(q, rnd, all.layout().bits());
+          for (int k : new int[] {1, 10, 100}) {
+            String what = why + " query " + i + " (copy of id " + copied[i] + ") k=" + k;
+            assertEquals(BruteForce.knn(all, q, k, id -> !deleted.contains(id), null), r.search(q, k, null, null), what);
+            assertEquals(BruteForce.knn(all, q, k, id -> !deleted.contains(id) && !out.contains(id), null), r.search(q, k, allButTwo, null),
+                what + " filtered");
+          }
+        }
+      }
+    }
+  }
+
   private void run(int rep, int batches) {
     long seed = Randoms.seed(rep);
     String why = Randoms.describe(seed);
