@@ -312,9 +312,11 @@ public final class IndexReader implements AutoCloseable {
     checkQuery(query, mask);
     IdSet accept = accepted(filter);
     if (k <= 0 || accept != null && accept.isEmpty()) return Hits.EMPTY;
-    if (accept != null && fewRejected(accept, k)) { // first without the test: exact when no answer is rejected
+    if (accept != null && fewRejected(accept, k) && defersFilter()) { // first without the test: exact when no answer is rejected
+      firstPasses.incrementAndGet();
       Hits h = joint.knn(query, k, null, b -> null, mask);
       if (allIn(h, accept)) return h;
+      repeated.incrementAndGet();
     }
     return joint.knn(query, k, accept, filter == null ? liveOf : b -> ordinals(bySize[b], accept), mask);
   }
@@ -327,6 +329,22 @@ public final class IndexReader implements AutoCloseable {
    * the same files"), a search made twice costs 100% of one.
    */
   private static final double RETRY_SHARE = 0.01;
+
+  /**
+   * Share of first passes repeated past which this reader stops trying them (after {@value
+   * #FIRST_PASSES_SEEN}): the rejected ids can be the very codes the queries land on (deleted copies
+   * of them), where each query would be searched twice.
+   */
+  private static final double REPEATED_MAX = 0.05;
+  private static final int FIRST_PASSES_SEEN = 64;
+  private final java.util.concurrent.atomic.AtomicLong firstPasses = new java.util.concurrent.atomic.AtomicLong(),
+      repeated = new java.util.concurrent.atomic.AtomicLong();
+
+  /** Whether {@link #search} still tries a first pass without the filter (see {@link #REPEATED_MAX}). */
+  boolean defersFilter() {
+    long tried = firstPasses.get();
+    return tried < FIRST_PASSES_SEEN || repeated.get() <= REPEATED_MAX * tried;
+  }
 
   /**
    * Whether so few ids are rejected that a search without the filter, repeated with it only when one

@@ -135,6 +135,36 @@ class IndexSearchExactnessTest {
     }
   }
 
+  /**
+   * Queries that land on deleted codes (each a copy of one) make every first pass without the filter
+   * repeat: the reader stops trying first passes after a few dozen, and still answers exactly; a
+   * reader whose queries miss the deleted codes keeps trying them.
+   */
+  @Test
+  void firstPassesStopWhenTheyKeepRepeating() {
+    long seed = Randoms.seed(700);
+    String why = Randoms.describe(seed);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    CodeBlock all = SyntheticCodes.uniform(20_000, 64, seed);
+    int[] del = new int[20];
+    for (int i = 0; i < del.length; i++) del[i] = rnd.nextInt(all.size());
+    RoaringBitmap deleted = RoaringBitmap.bitmapOf(del);
+    Path dir = tmp.resolve("repeats");
+    try (IndexWriter w = IndexWriter.create(dir, all.layout(), Map.of())) {
+      w.add(all, null);
+      w.delete(del);
+    }
+    try (IndexReader hit = IndexReader.open(dir); IndexReader miss = IndexReader.open(dir)) {
+      for (int i = 0; i < 200; i++) {
+        long[] onDeleted = all.code(del[i % del.length]), elsewhere = all.code(rnd.nextInt(all.size()));
+        assertEquals(BruteForce.knn(all, onDeleted, 1, id -> !deleted.contains(id), null), hit.search(onDeleted, 1, null, null), why + " " + i);
+        assertEquals(BruteForce.knn(all, elsewhere, 1, id -> !deleted.contains(id), null), miss.search(elsewhere, 1, null, null), why + " " + i);
+      }
+      assertTrue(!hit.defersFilter(), why + ": first passes still tried after 200 repeats");
+      assertTrue(miss.defersFilter(), why + ": first passes stopped for queries that rarely land on a deleted code");
+    }
+  }
+
   private void run(int rep, int batches) {
     long seed = Randoms.seed(rep);
     String why = Randoms.describe(seed);
