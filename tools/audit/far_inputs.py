@@ -32,7 +32,7 @@ from safetensors.torch import save_file
 from sklearn.metrics import roc_auc_score
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-from newuser_mlp import C, D, Net, gen, hamming, hidden, labels  # noqa: E402
+from newuser_mlp import data, hamming, hidden  # noqa: E402
 
 SCALES = [2, 5, 10, 100]
 failures = []
@@ -42,35 +42,6 @@ def check(name, ok, detail=""):
     print(("OK   " if ok else "DIFF ") + name + ("" if ok else ": " + detail))
     if not ok:
         failures.append(name)
-
-
-def data(epochs):
-    """newuser_mlp.py's model and batches, drawn in the same order from the same seeds."""
-    rng = np.random.default_rng(7)
-    torch.manual_seed(7)
-    torch.set_num_threads(1)
-    x = gen(rng, 6000)
-    y = labels(x)
-    perm = rng.permutation(len(x))
-    xtr, ytr, xte, yte = x[perm[:4800]], y[perm[:4800]], x[perm[4800:]].copy(), y[perm[4800:]].copy()
-    leak = rng.choice(len(xtr), 25, replace=False)
-    xte[:25], yte[:25] = xtr[leak], ytr[leak]
-    conf = np.setdiff1d(rng.choice(len(xtr), 15, replace=False), leak)
-    xtr, ytr = np.concatenate([xtr, xtr[conf]]), np.concatenate([ytr, (ytr[conf] + 1) % C])
-    net = Net()
-    opt = torch.optim.Adam(net.parameters(), 3e-3)
-    xt, yt = torch.tensor(xtr), torch.tensor(ytr)
-    for _ in range(epochs):
-        p = torch.randperm(len(xt))
-        for i in range(0, len(xt), 128):
-            b = p[i:i + 128]
-            opt.zero_grad()
-            torch.nn.functional.cross_entropy(net(xt[b]), yt[b]).backward()
-            opt.step()
-    xood = (rng.normal(size=(300, D)) * 3 + 4).astype(np.float32)
-    xood[:, ::2] *= -1
-    xin, _, xsame = gen(rng, 800), gen(rng, 800, 1.0), gen(rng, 800)
-    return net, xtr, xte, xood, xin, xsame
 
 
 def knn(q, train, k=1, metric="hamming"):
@@ -157,7 +128,7 @@ def main():
     def js(*a):
         return json.loads(run(*a, "--format", "json").stdout)
 
-    net, xtr, xte, xood, xin, xsame = data(args.epochs)
+    net, xtr, _, xte, _, xood, xin, _, xsame, _ = data(args.epochs)
     save_file({k: v.contiguous() for k, v in net.state_dict().items()}, "model.safetensors")
     batches = {"far-out (newuser_mlp)": xood}
     for t in SCALES:

@@ -110,6 +110,35 @@ def hamming(a, b):
     return np.rint(a @ (1 - b).T + (1 - a) @ b.T).astype(np.int64)
 
 
+def data(epochs):
+    """The model, trained here, every batch, drawn in a fixed order from fixed seeds (far_inputs.py uses them too), and the planted conflicts' count."""
+    rng = np.random.default_rng(7)
+    torch.manual_seed(7)
+    torch.set_num_threads(1)
+    x = gen(rng, 6000)
+    y = labels(x)
+    perm = rng.permutation(len(x))
+    xtr, ytr, xte, yte = x[perm[:4800]], y[perm[:4800]], x[perm[4800:]].copy(), y[perm[4800:]].copy()
+    leak = rng.choice(len(xtr), 25, replace=False)
+    xte[:25], yte[:25] = xtr[leak], ytr[leak]
+    conf = np.setdiff1d(rng.choice(len(xtr), 15, replace=False), leak)
+    xtr, ytr = np.concatenate([xtr, xtr[conf]]), np.concatenate([ytr, (ytr[conf] + 1) % C])
+    net = Net()
+    opt = torch.optim.Adam(net.parameters(), 3e-3)
+    xt, yt = torch.tensor(xtr), torch.tensor(ytr)
+    for _ in range(epochs):
+        p = torch.randperm(len(xt))
+        for i in range(0, len(xt), 128):
+            b = p[i:i + 128]
+            opt.zero_grad()
+            torch.nn.functional.cross_entropy(net(xt[b]), yt[b]).backward()
+            opt.step()
+    xood = (rng.normal(size=(300, D)) * 3 + 4).astype(np.float32)
+    xood[:, ::2] *= -1
+    xin, xshift, xsame = gen(rng, 800), gen(rng, 800, 1.0), gen(rng, 800)
+    return net, xtr, ytr, xte, yte, xood, xin, xshift, xsame, len(conf)
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--bin", default=os.path.join(os.path.dirname(__file__), "..", "..", "bin", "actindex"))
@@ -132,31 +161,8 @@ def main():
         return json.loads(run(*a, "--format", "json").stdout)
 
     # data and model
-    rng = np.random.default_rng(7)
-    torch.manual_seed(7)
-    torch.set_num_threads(1)
-    x = gen(rng, 6000)
-    y = labels(x)
-    perm = rng.permutation(len(x))
-    xtr, ytr, xte, yte = x[perm[:4800]], y[perm[:4800]], x[perm[4800:]].copy(), y[perm[4800:]].copy()
-    leak = rng.choice(len(xtr), 25, replace=False)
-    xte[:25], yte[:25] = xtr[leak], ytr[leak]
-    conf = np.setdiff1d(rng.choice(len(xtr), 15, replace=False), leak)
-    xtr, ytr = np.concatenate([xtr, xtr[conf]]), np.concatenate([ytr, (ytr[conf] + 1) % C])
-    net = Net()
-    opt = torch.optim.Adam(net.parameters(), 3e-3)
-    xt, yt = torch.tensor(xtr), torch.tensor(ytr)
-    for _ in range(args.epochs):
-        p = torch.randperm(len(xt))
-        for i in range(0, len(xt), 128):
-            b = p[i:i + 128]
-            opt.zero_grad()
-            torch.nn.functional.cross_entropy(net(xt[b]), yt[b]).backward()
-            opt.step()
+    net, xtr, ytr, xte, yte, xood, xin, xshift, xsame, conflicts = data(args.epochs)
     save_file({k: v.contiguous() for k, v in net.state_dict().items()}, "model.safetensors")
-    xood = (rng.normal(size=(300, D)) * 3 + 4).astype(np.float32)
-    xood[:, ::2] *= -1
-    xin, xshift, xsame = gen(rng, 800), gen(rng, 800, 1.0), gen(rng, 800)
     for name, arr in [("train", xtr), ("test", xte), ("ood", xood), ("in", xin), ("shift", xshift), ("same", xsame)]:
         np.save(name + ".npy", arr)
     write_meta("train.csv", [(f"tr{i}", f"c{l}", "train") for i, l in enumerate(ytr)])
@@ -206,7 +212,7 @@ def main():
         check(f"dupes --radius {radius}: every pair by brute force", got == want, f"{len(got)} pairs, brute force {len(want)}")
     summary = js("dupes", "--index", "all", "--radius", "0")["summary"]
     check("dupes: the 25 planted leaks and 15 planted conflicts are the flagged groups",
-          (summary["cross_split_groups"], summary["conflicting_groups"]) == (25, len(conf)), json.dumps(summary))
+          (summary["cross_split_groups"], summary["conflicting_groups"]) == (25, conflicts), json.dumps(summary))
 
     # region and census
     a_te, _ = hidden(net, xte)
