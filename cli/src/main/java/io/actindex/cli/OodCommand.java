@@ -133,7 +133,7 @@ final class OodCommand implements Callable<Integer> {
 
     @Option(names = "--score", paramLabel = "S",
         description = "euclidean (Euclidean distance of the activations to kept magnitudes among the Hamming candidates; sees their size: inputs scaled far outside the training range scored AUROC 1.000, the cosine 0.65-0.76), "
-            + "refined (cosine distance to the same; ignores each layer's scale, blind to that size) or code (Hamming distances on codes; blind too). Default: euclidean when the index keeps magnitudes, else code.")
+            + "refined (cosine distance to the same; ignores the activations' overall size, so blind to such inputs) or code (Hamming distances on codes; blind too). Default: euclidean when the index keeps magnitudes, else code.")
     String score;
 
     @Option(names = "--candidates", paramLabel = "N", defaultValue = "100",
