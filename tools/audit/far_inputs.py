@@ -1,8 +1,8 @@
 #!/usr/bin/env python3
 """Far inputs and the OOD scores: the model and data of newuser_mlp.py (same seeds, same 11 -> 48 ->
 100 -> 17 -> 5 PyTorch MLP), its far-out batch, and held-out in-distribution inputs multiplied by
-t = 2, 5, 10, 100. For every batch: `ood eval` AUROC of each score actindex offers (code score with
-the default calibration and the audit's, the refined (cosine) and euclidean scores from kept magnitudes, the float and
+t = 2, 5, 10, 100. For every batch: `ood eval` AUROC of each score actindex offers (code score at
+k=1 and the audit's k=3 mean, the refined (cosine) and euclidean scores from kept magnitudes, the float and
 candidate-float scores from float files, the softmax baseline), each checked against NumPy /
 scikit-learn, plus scores actindex does not have (plain Euclidean k-NN on activations, the
 activation norm), and how many far codes lie at Hamming distance 0 or d from a training code.
@@ -147,14 +147,17 @@ def main():
         np.save(f"out{i}.npy", xb)
         np.save(f"out{i}-floats.npy", hidden(net, xb)[0].astype(np.float32))
 
-    # the four calibrations: the default (refined, k=1 kth), euclidean k=1 kth, code k=1 kth, the audit's code k=3 mean
-    setups = [("default (refined)", []), ("euclidean", ["--score", "euclidean"]), ("code k=1", ["--score", "code"]),
+    # the four calibrations: refined (cosine, k=1 kth), the default (euclidean, k=1 kth), code k=1 kth, the audit's code k=3 mean
+    setups = [("refined", ["--score", "refined"]), ("euclidean (default)", []), ("code k=1", ["--score", "code"]),
               ("code k=3 mean (audit)", ["--score", "code", "-k", "3", "--statistic", "mean"])]
     rows = []
     for setup, flags in setups:
         cal = js("ood", "calibrate", "--index", "index", "--inputs", "cal.npy", *flags)
+        if flags == []:
+            check("the default calibration of an index with kept magnitudes is the euclidean score", cal["score"] == "euclidean", cal["score"])
+        code_score = flags[:2] == ["--score", "code"]
         for i, (name, xb) in enumerate(batches.items()):
-            extra = [] if flags == [] or "euclidean" in flags else ["--in-floats", "in-floats.npy", "--out-floats", f"out{i}-floats.npy", "--train-floats", "train-floats.npy"]
+            extra = ["--in-floats", "in-floats.npy", "--out-floats", f"out{i}-floats.npy", "--train-floats", "train-floats.npy"] if code_score else []
             ev = js("ood", "eval", "--index", "index", "--in", "in.npy", "--out", f"out{i}.npy", "--kind", "inputs", *extra)
             sc = {s["name"]: s for s in ev["scores"]}
             rows.append((setup, name, {n: s["auroc"] for n, s in sc.items()}, {n: s["fpr_at_95_tpr"] for n, s in sc.items()}))
@@ -198,12 +201,12 @@ def main():
         check(f"{name}: ood eval softmax AUROC = roc_auc_score (float64 logits)", abs(got["softmax"] - auc["softmax"]) < 1e-6,
               f"{got['softmax']} vs {auc['softmax']}")
         check(f"{name}: ood eval float AUROC (unit-length k=1) = cosine k-NN", abs(got["float"] - auc["cosine"]) < 1e-4, f"{got['float']} vs {auc['cosine']}")
-        ref = next(r for r in rows if r[0] == "default (refined)" and r[1] == name)[2]["refined"]
+        ref = next(r for r in rows if r[0] == "refined" and r[1] == name)[2]["refined"]
         check(f"{name}: refined from kept magnitudes near the float cosine among 100 codes", abs(ref - auc["refined"]) < 0.02, f"{ref} vs {auc['refined']}")
-        eu = next(r for r in rows if r[0] == "euclidean" and r[1] == name)[2]
+        eu = next(r for r in rows if r[0] == "euclidean (default)" and r[1] == name)[2]
         check(f"{name}: euclidean from kept magnitudes near the float Euclidean among 100 codes", abs(eu["euclidean"] - auc["euclid-cands"]) < 0.02,
               f"{eu['euclidean']} vs {auc['euclid-cands']}")
-        check(f"{name}: the euclidean calibration's eval lists the same cosine refined AUROC as the default's", eu["refined"] == ref,
+        check(f"{name}: the euclidean calibration's eval lists the same cosine refined AUROC as the refined calibration's", eu["refined"] == ref,
               f"{eu['refined']} vs {ref}")
         # the outer region: the code at t and at 10 t
         if name.startswith("in x"):

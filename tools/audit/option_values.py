@@ -244,7 +244,7 @@ def commands():
         index=True,
         opts={'--evidence': ('int', '1', ['2', '100000']),
               '--rows': ('rows', '0:3', []),
-              '--score': ('enum', 'refined', ['REFINED', 'code']),
+              '--score': ('enum', 'euclidean', ['EUCLIDEAN', 'code']),  # the demo's calibration: the default with kept magnitudes
               '--threads': ('int', '2', ['-3', '100000']),
               '--format': ('format', 'json', [])})
     C['ood eval'] = dict(
@@ -253,7 +253,7 @@ def commands():
         index=True,
         opts={'--candidates': ('int', '100', ['1', '2147483647']),
               '--kind': ('enum', 'inputs', ['INPUTS', 'codes', 'input']),
-              '--score': ('enum', 'refined', ['REFINED', 'code']),
+              '--score': ('enum', 'euclidean', ['EUCLIDEAN', 'code']),  # the demo's calibration: the default with kept magnitudes
               '--threads': ('int', '2', ['-3', '100000']),
               '--roc': ('path', f'{OUT}/roc.csv', [IDX + '/roc.csv', OUT, D('incoming-odd.npy')]),
               '--html': ('path', f'{OUT}/eval.html', [IDX + '/eval.html', OUT]),
@@ -354,7 +354,7 @@ def cases():
          ('delete', ['--keys', F('keys.txt')], 'delete'),
          ('calibrate-planner', ['--dry-run'], 'calibrate-planner'),
          ('ood score', ['--decision-only', '--evidence', '2'], 'ood score'),
-         ('ood score', ['--decision-only', '--score', 'refined'], 'ood score'),
+         ('ood score', ['--decision-only', '--score', 'euclidean'], 'ood score'),
          ('dupes', ['--groups', '2'], 'dupes-against'),
          ('dupes', ['--cross-split'], 'dupes-against'),
          ('compare', ['--a-where', 'split = train'], 'compare'),

@@ -13,7 +13,7 @@ def check(base, net, k, stat, layers, lmap):
     idx = base + "_oodr"; shutil.rmtree(D + idx, ignore_errors=True); shutil.copytree(D + base, D + idx)
     T = codes(net, "train"); TQ = quant(np.load(D + f"{net}_train_acts.npy").astype(np.float64)); m = mask(net, layers); bad = 0
     lay = ["--layers", ",".join(lmap[x] for x in layers)] if layers else []
-    cal = js(["ood", "calibrate", "--index", idx, "--inputs", "cal_inputs.npy", "-k", str(k), "--statistic", stat] + lay)
+    cal = js(["ood", "calibrate", "--index", idx, "--inputs", "cal_inputs.npy", "-k", str(k), "--statistic", stat, "--score", "refined"] + lay)
     L = lambda t: (np.load(D + f"{net}_{t}_acts.npy").astype(np.float64), np.load(D + f"{net}_{t}_codes.npy"))
     cs = refscore(*L("cal"), T, TQ, m, k, stat); n = len(cs); thr = sorted(cs)[math.ceil(0.95 * (n + 1)) - 1]
     if abs(cal["threshold"] - thr) > 1e-5 * max(thr, 1e-3): bad += 1; print("RTHR", cal["threshold"], thr)

@@ -56,7 +56,7 @@ class ModeOptionsEndToEndTest {
     ok("build", "--out", plainIdx.toString(), "--activations", acts.toString()); // magnitudes, no labels
     ok("build", "--out", idx.toString(), "--activations", acts.toString(), "--meta", meta.toString());
     ok("build", "--out", codesIdx.toString(), "--codes", codes.toString(), "--meta", meta.toString());
-    ok("ood", "calibrate", "--index", idx.toString(), "--activations", calActs.toString()); // refined: the index keeps magnitudes
+    ok("ood", "calibrate", "--index", idx.toString(), "--activations", calActs.toString()); // euclidean, the default: the index keeps magnitudes
     ok("ood", "calibrate", "--index", codesIdx.toString(), "--codes", calCodes.toString()); // code: it keeps none
   }
 
@@ -133,7 +133,7 @@ class ModeOptionsEndToEndTest {
     Cli.Result eval = Cli.run("ood", "eval", "--index", idx.toString(), "--in", calActs.toString(), "--out", farActs.toString(),
         "--kind", "activations", "--in-floats", calActs.toString(), "--out-floats", farActs.toString(), "--train-floats", acts.toString(),
         "--candidates", "50");
-    assertThat(eval.err()).contains("--candidates").contains("refined calibration").contains("100 candidates");
+    assertThat(eval.err()).contains("--candidates").contains("euclidean calibration").contains("100 candidates");
     Cli.Result evalNoFloats = Cli.run("ood", "eval", "--index", codesIdx.toString(), "--in", calCodes.toString(), "--out", farCodes.toString(),
         "--kind", "codes", "--candidates", "50");
     assertThat(evalNoFloats.err()).contains("--candidates").contains("--train-floats");

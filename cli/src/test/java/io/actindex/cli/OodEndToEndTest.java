@@ -307,22 +307,25 @@ class OodEndToEndTest {
     String i = idx.toString();
 
     Map<String, String> before = Files2.checksums(idx);
-    Cli.Result refused = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString(), "--check-overlap");
+    Cli.Result refused = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString(), "--score", "refined", "--check-overlap");
     assertThat(refused.code()).as(refused.describe()).isEqualTo(2);
     assertThat(refused.err()).as(refused.describe()).contains("120 of 120 rows are copies of indexed examples");
+    Cli.Result refusedByDefault = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString(), "--check-overlap"); // euclidean
+    assertThat(refusedByDefault.code()).as(refusedByDefault.describe()).isEqualTo(2);
+    assertThat(refusedByDefault.err()).as(refusedByDefault.describe()).contains("120 of 120 rows are copies of indexed examples");
     assertThat(Files2.checksums(idx)).isEqualTo(before);
 
-    Cli.Result moved = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString(), "--format", "json");
+    Cli.Result moved = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString(), "--score", "refined", "--format", "json");
     assertThat(moved.code()).as(moved.describe()).isZero();
     assertThat(moved.err()).as(moved.describe()).contains("warning: ").contains("120 of 120 rows are copies").contains("--check-overlap");
     assertThat(JSON.readTree(moved.out()).get("warnings")).hasSize(1);
     // the table showed such a threshold (about 1e-6) as 0.0000
     double threshold = JSON.readTree(moved.out()).get("threshold").asDouble();
-    Cli.Result table = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString());
+    Cli.Result table = Cli.run("ood", "calibrate", "--index", i, "--activations", shuffledF.toString(), "--score", "refined");
     assertThat(threshold).isStrictlyBetween(0.0, 1e-3);
     assertThat(table.out()).as(table.describe()).contains("threshold: " + String.format(java.util.Locale.ROOT, "%.3e", threshold) + " ");
 
-    Cli.Result held = Cli.run("ood", "calibrate", "--index", i, "--activations", heldF.toString(), "--format", "json");
+    Cli.Result held = Cli.run("ood", "calibrate", "--index", i, "--activations", heldF.toString(), "--score", "refined", "--format", "json");
     assertThat(held.code()).as(held.describe()).isZero();
     assertThat(held.err()).as(held.describe()).doesNotContain("warning");
     assertThat(JSON.readTree(held.out()).get("warnings")).isEmpty();
@@ -332,7 +335,9 @@ class OodEndToEndTest {
    * A stored calibration whose score name or candidate count is damaged (written here through the
    * index writer, as a bug or a hand-edited store could leave it) is named as a damaged calibration
    * of the index, exit 2. The score name went through the parser of the --score option, so the
-   * refusal read "--score: unknown score 'refind'" although no --score was typed.
+   * refusal read "--score: unknown score 'refind'" although no --score was typed. A calibration
+   * stored before the default became euclidean keeps its score: {@code score=refined} stays the
+   * cosine, a record without {@code score} the code score.
    */
   @Test
   void aDamagedStoredScoreNameIsNamedAsADamagedCalibration() throws Exception {
@@ -341,12 +346,25 @@ class OodEndToEndTest {
     assertThat(Cli.run("build", "--out", idx.toString(), "--activations", trainF.toString()).code()).isZero();
     Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString());
     assertThat(c.code()).as(c.describe()).isZero();
+    assertThat(c.out()).as("the default with kept magnitudes").contains("euclidean score (100 Hamming candidates");
     String stored;
     try (io.actindex.index.store.IndexReader r = io.actindex.index.store.IndexReader.open(idx)) {
       stored = new String(r.attachment("ood.calibration"), java.nio.charset.StandardCharsets.UTF_8);
     }
-    assertThat(stored).contains("score=refined\n").contains("candidates=100\n");
-    String[][] damages = {{"score=refined\n", "score=refind\n", "unknown score 'refind'"}, {"candidates=100\n", "candidates=-3\n", "candidates"},
+    assertThat(stored).contains("score=euclidean\n").contains("candidates=100\n");
+    String[][] older = {{"score=euclidean\n", "score=refined\n", "score: refined cosine k-th distance (k=1, among 100 Hamming candidates"},
+        {"score=euclidean\ncandidates=100\n", "", "score: code k-th distance (k=1, layers"}};
+    for (String[] o : older) {
+      String old = stored.replace(o[0], o[1]);
+      assertThat(old).isNotEqualTo(stored);
+      try (io.actindex.index.store.IndexWriter w = io.actindex.index.store.IndexWriter.open(idx)) {
+        w.putAttachment("ood.calibration", old.getBytes(java.nio.charset.StandardCharsets.UTF_8));
+      }
+      Cli.Result r = Cli.run("ood", "score", "--index", idx.toString(), "--activations", calF.toString(), "--rows", "0:1");
+      assertThat(r.code()).as(r.describe()).isZero();
+      assertThat(r.out()).as(r.describe()).contains(o[2]);
+    }
+    String[][] damages = {{"score=euclidean\n", "score=refind\n", "unknown score 'refind'"}, {"candidates=100\n", "candidates=-3\n", "candidates"},
         {"candidates=100\n", "candidates=x\n", "candidates"}};
     for (String[] d : damages) {
       try (io.actindex.index.store.IndexWriter w = io.actindex.index.store.IndexWriter.open(idx)) {
@@ -467,7 +485,8 @@ class OodEndToEndTest {
     Path trainF = Files2.floats(tmp.resolve("ftrain.npy"), floats(300, 0.1, 1)), calF = Files2.floats(tmp.resolve("fcal.npy"), floats(60, 0.1, 2));
     Path qF = Files2.floats(tmp.resolve("fq.npy"), floats(20, 0.5, 3));
     assertThat(Cli.run("build", "--out", idx.toString(), "--activations", trainF.toString()).code()).isZero();
-    Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString(), "-k", "2", "--format", "json");
+    Cli.Result c = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString(), "-k", "2", "--score", "refined",
+        "--format", "json");
     assertThat(c.code()).as(c.describe()).isZero();
     JsonNode cj = JSON.readTree(c.out());
     assertThat(cj.get("score").asText()).isEqualTo("refined");
@@ -489,7 +508,8 @@ class OodEndToEndTest {
     Cli.Result s = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString(), "--format", "json");
     assertThat(s.code()).as(s.describe()).isZero();
     assertThat(JSON.readTree(s.out()).get("score_name").asText()).isEqualTo("refined cosine k-th distance");
-    Cli.Result mean = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString(), "-k", "2", "--statistic", "mean");
+    Cli.Result mean = Cli.run("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString(), "-k", "2", "--statistic", "mean",
+        "--score", "refined");
     assertThat(mean.code()).as(mean.describe()).isZero();
     Cli.Result table = Cli.run("ood", "score", "--index", idx.toString(), "--activations", qF.toString());
     assertThat(table.out()).startsWith("score: refined cosine mean distance (k=2, among 100 Hamming candidates, layers all)\n");
@@ -545,7 +565,7 @@ class OodEndToEndTest {
     Path qF = Files2.floats(tmp.resolve("eq.npy"), floats(20, 0.5, 3));
     String i = idx.toString();
     assertThat(Cli.run("build", "--out", i, "--activations", trainF.toString()).code()).isZero();
-    Cli.Result cosine = Cli.run("ood", "calibrate", "--index", i, "--activations", calF.toString(), "-k", "2", "--candidates", "30");
+    Cli.Result cosine = Cli.run("ood", "calibrate", "--index", i, "--activations", calF.toString(), "-k", "2", "--candidates", "30", "--score", "refined");
     assertThat(cosine.code()).as(cosine.describe()).isZero();
     Cli.Result cosineEval = Cli.run("ood", "eval", "--index", i, "--in", calF.toString(), "--out", qF.toString(), "--format", "json");
     assertThat(cosineEval.code()).as(cosineEval.describe()).isZero();
@@ -554,6 +574,10 @@ class OodEndToEndTest {
     assertThat(c.code()).as(c.describe()).isZero();
     JsonNode cj = JSON.readTree(c.out());
     assertThat(cj.get("score").asText()).isEqualTo("euclidean");
+    // the default on an index that keeps magnitudes: the same calibration without --score
+    Cli.Result byDefault = Cli.run("ood", "calibrate", "--index", i, "--activations", calF.toString(), "-k", "2", "--candidates", "30", "--format", "json");
+    assertThat(byDefault.code()).as(byDefault.describe()).isZero();
+    assertThat(byDefault.out()).isEqualTo(c.out());
     assertThat(cj.get("candidates").asInt()).isEqualTo(30);
     Path page = tmp.resolve("e.html");
     Cli.Result rep = Cli.run("report", "--index", i, "--out", page.toString());

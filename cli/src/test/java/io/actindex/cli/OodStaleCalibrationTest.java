@@ -112,7 +112,7 @@ class OodStaleCalibrationTest {
     expect(everyUse(idx, q, q2), false, null); // the same examples as at calibration, so the same scores
   }
 
-  /** Compact keeps ids and kept magnitudes: the refined scores are the same before and after, and nothing is said. */
+  /** Compact keeps ids and kept magnitudes: the scores on them (the default euclidean) are the same before and after, and nothing is said. */
   @Test
   void compactLeavesScoresAndSaysNothing() throws Exception {
     Path idx = tmp.resolve("fidx");
@@ -122,7 +122,7 @@ class OodStaleCalibrationTest {
     ok("build", "--out", idx.toString(), "--activations", trainF.toString());
     ok("delete", "--index", idx.toString(), "--keys", keys("gone.txt", 10, 90).toString());
     ok("ood", "calibrate", "--index", idx.toString(), "--activations", calF.toString(), "-k", "3");
-    assertThat(attachment(idx)).contains("score=refined\n").contains("\nlive=220\n");
+    assertThat(attachment(idx)).contains("score=euclidean\n").contains("\nlive=220\n");
     String[] score = {"ood", "score", "--index", idx.toString(), "--activations", qF.toString(), "--evidence", "3", "--format", "json"};
     Cli.Result before = ok(score);
     Map<String, String> files = Files2.checksums(idx);

@@ -30,7 +30,7 @@ public final class OodCalibrate {
   /**
    * {@code k} nearest, the statistic, the target true-positive rate (share of in-distribution inputs
    * accepted), the layers counted (null/empty = all), and whether to refuse inputs that look like
-   * the index's own rows; {@code score} (null = refined when the index keeps magnitudes, else code)
+   * the index's own rows; {@code score} (null = euclidean when the index keeps magnitudes, else code)
    * and the Hamming candidates the refined and euclidean scores re-rank (0 = {@link Refine#DEFAULT_CANDIDATES}; another
    * count with the code score is refused);
    * {@code threads >= 1}: inputs scored in parallel (the same calibration for any count).

@@ -64,9 +64,12 @@ public final class OodScorer {
       return metric != null;
     }
 
-    /** REFINED when the index keeps magnitudes, CODE otherwise. */
+    /**
+     * EUCLIDEAN when the index keeps magnitudes (it sees inputs far outside the training range, which
+     * the cosine and the codes cannot; docs/commands/ood.md, far inputs), CODE otherwise.
+     */
     public static Kind defaultFor(IndexReader reader) {
-      return reader.hasMagnitudes() ? REFINED : CODE;
+      return reader.hasMagnitudes() ? EUCLIDEAN : CODE;
     }
   }
 

@@ -121,10 +121,11 @@ class DigitsOodTest {
             npy(s.resolve("out-f.npy"), hidden(mlp, out)), npy(s.resolve("train-f.npy"), hidden(mlp, train)), CANDIDATES, null), Progress.NONE);
         if (seed == SEEDS[0]) checkEdgeWithModel(r, s, in, out);
       }
-      // the refined score from the index's own kept magnitudes (8 bits, the default): the default calibration of this index
+      // the scores from the index's own kept magnitudes (8 bits, the default): the default calibration of this index is the euclidean
+      // score; eval gives the refined (cosine) score beside it at the same k, statistic, layers and candidates
       OodCalibrate.Result rc = OodCalibrate.run(dir, Source.inputs(calFile, null), RowRange.ALL, new OodCalibrate.Params(1, Statistic.KTH, 0.95, null, false),
           Progress.NONE);
-      assertThat(rc.scoring().kind()).isEqualTo(OodScorer.Kind.REFINED);
+      assertThat(rc.scoring().kind()).as("default score on an index with magnitudes").isEqualTo(OodScorer.Kind.EUCLIDEAN);
       OodEval.Result m;
       try (IndexReader r = IndexReader.open(dir)) {
         m = OodEval.run(r, new OodEval.Params(Source.inputs(inFile, null), Source.inputs(outFile, null), null, null, null), Progress.NONE);

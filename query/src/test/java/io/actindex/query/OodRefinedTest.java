@@ -194,9 +194,12 @@ class OodRefinedTest {
     IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.activations(npy(tmp.resolve("train.npy"), train.activations(), d)), null,
         EncodeOptions.positive(), null, 0), Progress.NONE);
     Path calFile = npy(tmp.resolve("cal.npy"), cal.activations(), d), qFile = npy(tmp.resolve("q.npy"), q.activations(), d);
-    OodCalibrate.Result cr = OodCalibrate.run(dir, Source.activations(calFile), RowRange.ALL, new OodCalibrate.Params(3, Statistic.KTH, 0.9, null, false),
+    OodCalibrate.Result cd = OodCalibrate.run(dir, Source.activations(calFile), RowRange.ALL, new OodCalibrate.Params(3, Statistic.KTH, 0.9, null, false),
         Progress.NONE);
-    assertThat(cr.scoring()).as("default on an index with magnitudes").isEqualTo(new OodCalibration.Scoring(OodScorer.Kind.REFINED, 100));
+    assertThat(cd.scoring()).as("default on an index with magnitudes").isEqualTo(new OodCalibration.Scoring(OodScorer.Kind.EUCLIDEAN, 100));
+    OodCalibrate.Result cr = OodCalibrate.run(dir, Source.activations(calFile), RowRange.ALL,
+        new OodCalibrate.Params(3, Statistic.KTH, 0.9, null, false, OodScorer.Kind.REFINED, 0), Progress.NONE);
+    assertThat(cr.scoring()).as("asked for the cosine").isEqualTo(new OodCalibration.Scoring(OodScorer.Kind.REFINED, 100));
     try (IndexReader r = IndexReader.open(dir)) {
       OodScore.Output o = OodScore.run(r, Source.activations(qFile), RowRange.ALL, new OodScore.Params(2), Progress.NONE);
       QuerySource.Queries qa = QuerySource.loadWithActivations(r, Source.activations(qFile), RowRange.ALL, Progress.NONE);

@@ -130,7 +130,7 @@ public final class DemoCommand implements ExtraCommand {
         "ood", "calibrate", "--index", index, "--inputs", file("calibration.npy").toString());
     int firstOdd = plant.incoming().size() - (int) (count(plant.incoming(), VibrationScenario.NEW_MACHINE)
         + count(plant.incoming(), VibrationScenario.LOOSE_SENSOR));
-    if (code == 0) code = run(o, "Score incoming windows: two ordinary ones, then two from the new capping machine and two from the loose sensor:",
+    if (code == 0) code = run(o, "Score incoming windows: two ordinary ones, then the first two from the new capping machine:",
         "ood", "score", "--index", index, "--inputs", incoming, "--rows", (firstOdd - 2) + ":" + (firstOdd + 2));
     if (code == 0) code = run(o, "How well does the flag separate ordinary incoming windows from the odd ones? (page: ood-eval.html)",
         "ood", "eval", "--index", index, "--in", file("incoming-ordinary.npy").toString(), "--out", file("incoming-odd.npy").toString(),
