@@ -448,7 +448,7 @@ public final class Compare {
         System.arraycopy(all.words(), i * w, out, kept++ * w, w);
       }
     return new QuerySource.Encoded(new CodeBlock(all.layout(), kept, Arrays.copyOf(out, kept * w)),
-        values == null ? null : Arrays.copyOf(values, kept * bits), null);
+        values == null ? null : Arrays.copyOf(values, kept * bits), null, null);
   }
 
   private static Encoding.Read read(Source s, Params p, EncodeOptions enc, Progress prog, long keep) {

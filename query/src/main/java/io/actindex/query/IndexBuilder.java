@@ -191,16 +191,17 @@ public final class IndexBuilder {
     Encoding.Model net = Encoding.Model.of(p.source().model());
     int chunk = chunk(p.chunkRows());
     Progress bar = orNone(progress);
-    StreamedMagnitudes.Ranges ranges = p.magnitudeBits() > 0 ? new StreamedMagnitudes.Ranges(p.source(), p.encode().layers(), p.magnitudeBits()) : null;
+    List<String> layers = p.encode().layers();
+    StreamedMagnitudes.Ranges ranges = p.magnitudeBits() == 0 ? null : new StreamedMagnitudes.Ranges(p.source(), "build",
+        layout -> Layers.columns(layout, keptLayout(layout, layers)), false, p.magnitudeBits());
     Encoding.Read read = Encoding.read(p.source(), net, p.encode(), p.codesLayout(), RowRange.ALL, chunk,
-        ranges == null ? bar : (done, total) -> bar.update(done, total < 0 ? -1 : 2 * total), ranges);
+        ranges == null ? bar : StreamedMagnitudes.firstRead(bar), ranges);
     CodeBlock raw = read.codes();
-    CodeBlock codes = keepLayers(raw, p.encode().layers());
+    CodeBlock codes = Layers.project(raw, keptLayout(raw.layout(), layers));
     if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
     StreamedMagnitudes.Result kept = ranges == null ? null
-        : StreamedMagnitudes.quantise(p.source(), net, p.encode(), p.codesLayout(), chunk,
-            (done, total) -> bar.update(total < 0 ? done : total + done, total < 0 ? -1 : 2 * total),
-            raw, Layers.columns(raw.layout(), codes.layout()), ranges, p.magnitudeBits());
+        : StreamedMagnitudes.quantise(p.source(), net, p.encode(), p.codesLayout(), RowRange.ALL, chunk, StreamedMagnitudes.secondRead(bar),
+            raw, ranges);
     Magnitudes mags = kept == null ? null : kept.magnitudes();
     List<Map<String, String>> meta = readMeta(p.meta(), codes, p.source());
     byte[] model = p.source().kind() == Source.Kind.INPUTS ? readAll(p.source().model()) : null;
@@ -279,8 +280,7 @@ public final class IndexBuilder {
     List<Map<String, String>> meta;
     List<String> notes = new ArrayList<>();
     EncodeOptions encode;
-    Magnitudes mags = null;
-    float[] values = null;
+    StreamedMagnitudes.Result kept = null;
     try (IndexReader r = IndexReader.open(p.dir())) {
       int bits = magnitudeBits(r);
       BuildInfo built = BuildInfo.fromProperties(r.properties(), p.dir().toString());
@@ -293,14 +293,12 @@ public final class IndexBuilder {
       }
       if (bits > 0 && p.source().kind() == Source.Kind.CODES)
         throw new BadInputException(p.source().file() + ": the index keeps magnitudes beside its codes; add activations or inputs, not codes");
+      // kept magnitudes read the file twice, as build does (StreamedMagnitudes), so the rows' floats are never held
       QuerySource.Encoded enc = QuerySource.encode(r, p.source(), RowRange.ALL, chunk(p.chunkRows()), orNone(progress),
-          "rows to add", notes, bits > 0 ? Encoding.KEEP_ALL : 0);
+          "rows to add", notes, 0, bits, "add");
       codes = enc.codes();
       if (codes.size() == 0) throw new BadInputException(p.source().file() + ": no rows");
-      if (bits > 0) {
-        values = enc.activations();
-        mags = Magnitudes.quantise(values, codes.size(), codes.layout().bits(), bits);
-      }
+      kept = enc.magnitudes();
       meta = readMeta(p.meta(), codes, p.source());
       if (meta != null) {
         String spelt = LabelSpellings.note(p.meta().file().toString(), meta, label -> LabelSpellings.inIndex(r.meta(), label));
@@ -314,9 +312,9 @@ public final class IndexBuilder {
         }
     }
     try (IndexWriter w = IndexWriter.open(p.dir())) {
-      Magnitudes kept = mags;
-      int first = Forked.withThreads(p.threads(), () -> addRows(w, codes, kept, meta, p.meta()));
-      return new Result(first, codes.size(), codes.layout(), notes, encode, mags == null ? null : Quantisation.of(mags, values),
+      Magnitudes mags = kept == null ? null : kept.magnitudes();
+      int first = Forked.withThreads(p.threads(), () -> addRows(w, codes, mags, meta, p.meta()));
+      return new Result(first, codes.size(), codes.layout(), notes, encode, kept == null ? null : kept.quantisation(),
           w.takeWarnings());
     }
   }
@@ -355,12 +353,12 @@ public final class IndexBuilder {
     throw new BadInputException(r.dir() + ": index property " + MAGNITUDES + " is '" + v + "', expected 0, 2, 4 or 8");
   }
 
-  private static CodeBlock keepLayers(CodeBlock raw, List<String> layers) {
-    if (layers == null || layers.isEmpty()) return raw;
-    int[] keep = Layers.select(raw.layout(), layers);
+  /** The segments of {@code layout} named by {@code layers}, in that order (null or empty: all of them). */
+  private static CodeLayout keptLayout(CodeLayout layout, List<String> layers) {
+    if (layers == null || layers.isEmpty()) return layout;
     List<CodeLayout.Segment> segs = new ArrayList<>();
-    for (int s : keep) segs.add(raw.layout().segments().get(s));
-    return Layers.project(raw, new CodeLayout(segs));
+    for (int s : Layers.select(layout, layers)) segs.add(layout.segments().get(s));
+    return new CodeLayout(segs);
   }
 
   /** The metadata rows, one per code of {@code codes} (whose width is the source's columns unless it is a model's inputs). */

@@ -105,9 +105,10 @@ public final class QuerySource {
 
   /**
    * Codes in the index layout and, when asked for, their activations aligned to the same columns;
-   * the file's column names (its CSV header) or null.
+   * the file's column names (its CSV header) or null; and, when asked for, those activations
+   * quantised without holding them (null otherwise).
    */
-  record Encoded(CodeBlock codes, float[] activations, java.util.List<String> columns) {}
+  record Encoded(CodeBlock codes, float[] activations, java.util.List<String> columns, StreamedMagnitudes.Result magnitudes) {}
 
   /**
    * Encodes {@code source} with the index's stored options and aligns it to the index layout,
@@ -117,6 +118,16 @@ public final class QuerySource {
    */
   static Encoded encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
       java.util.List<String> notes, long keep) {
+    return encode(reader, source, range, chunk, progress, what, notes, keep, 0, null);
+  }
+
+  /**
+   * As above; with {@code magnitudeBits} above 0 (and {@code keep} 0) the activations are quantised
+   * to that many bits in a second read of the file ({@link StreamedMagnitudes}, refusing a file that
+   * {@code command} saw change between the reads) instead of being kept.
+   */
+  static Encoded encode(IndexReader reader, Source source, RowRange range, int chunk, Progress progress, String what,
+      java.util.List<String> notes, long keep, int magnitudeBits, String command) {
     BuildInfo info = BuildInfo.fromProperties(reader.properties(), "index");
     CodeLayout target = reader.layout();
     Encoding.Model model = Encoding.Model.of(source.model());
@@ -132,8 +143,17 @@ public final class QuerySource {
     // a codes file is read in the layout the index was built from when that was a codes file too
     CodeLayout codesLayout = source.kind() != Source.Kind.CODES ? null
         : info.kind() == Source.Kind.CODES ? info.sourceLayout() : target;
-    Encoding.Read read = Encoding.read(source, model, oneMatrixOptions(source, info, target), codesLayout, range, chunk,
-        progress == null ? Progress.NONE : progress, keep);
+    EncodeOptions options = oneMatrixOptions(source, info, target);
+    Progress bar = progress == null ? Progress.NONE : progress;
+    // activations given for an index of a model's activations (after ReLU) are taken after ReLU
+    boolean relu = info.kind() == Source.Kind.INPUTS && source.kind() == Source.Kind.ACTIVATIONS;
+    StreamedMagnitudes.Ranges ranges = magnitudeBits == 0 || source.kind() == Source.Kind.CODES ? null
+        : new StreamedMagnitudes.Ranges(source, command, layout -> {
+          align(new CodeBlock(layout, 0, new long[0]), reader, info, source); // the refusal of a layout that does not fit, before reading
+          return Layers.alignColumns(layout, target, info.sourceLayout());
+        }, relu, magnitudeBits);
+    Encoding.Read read = ranges == null ? Encoding.read(source, model, options, codesLayout, range, chunk, bar, keep)
+        : Encoding.read(source, model, options, codesLayout, range, chunk, StreamedMagnitudes.firstRead(bar), ranges);
     // notes about the file itself (its CSV header); the model's layers were reported at build
     for (String n : read.notes()) if (n.startsWith(source.file() + ":")) notes.add(n);
     java.util.List<String> builtColumns = SourceColumns.of(reader.properties(), reader.dir().toString());
@@ -144,21 +164,27 @@ public final class QuerySource {
       throw new BadInputException(source.file() + ": its header names the model inputs the index " + reader.dir() + " was built from, but it"
           + " was given as " + source.kind().name().toLowerCase(java.util.Locale.ROOT) + "; pass it with `Source.inputs`");
     CodeBlock raw = read.codes();
-    CodeBlock codes;
-    try {
-      codes = Layers.align(raw, target, info.sourceLayout(), source.file().toString(), source.kind());
-    } catch (BadInputException e) {
-      throw inputsHint(e, reader, info, source, raw.layout().bits());
-    }
+    CodeBlock codes = align(raw, reader, info, source);
     CodeLayout split = raw.layout().bits() == target.bits() ? target : info.sourceLayout();
     if (raw.layout().segments().size() == 1 && split != null && split.segments().size() > 1 && split.bits() == raw.layout().bits())
       notes.add(source.file() + ": note: its " + raw.layout().bits() + " columns are read as the layers " + split + " side by side, in that order");
     float[] values = read.activations() == null ? null : Layers.pickColumns(read.activations(), raw.size(), raw.layout().bits(),
         Layers.alignColumns(raw.layout(), target, info.sourceLayout()));
-    if (values != null && info.kind() == Source.Kind.INPUTS && source.kind() == Source.Kind.ACTIVATIONS && reluInPlace(values))
+    if ((values != null && relu && reluInPlace(values)) || (ranges != null && ranges.negative()))
       notes.add(source.file() + ": note: the index keeps its model's hidden activations after ReLU; the negative values here (activations"
           + " before ReLU, e.g. hooked on nn.Linear) are taken as 0, as ReLU does");
-    return new Encoded(codes, values, read.columns());
+    StreamedMagnitudes.Result kept = ranges == null || raw.size() == 0 ? null
+        : StreamedMagnitudes.quantise(source, model, options, codesLayout, range, chunk, StreamedMagnitudes.secondRead(bar), raw, ranges);
+    return new Encoded(codes, values, read.columns(), kept);
+  }
+
+  /** {@link Layers#align} of {@code raw} to the index layout, its refusal with {@link #inputsHint}. */
+  private static CodeBlock align(CodeBlock raw, IndexReader reader, BuildInfo info, Source source) {
+    try {
+      return Layers.align(raw, reader.layout(), info.sourceLayout(), source.file().toString(), source.kind());
+    } catch (BadInputException e) {
+      throw inputsHint(e, reader, info, source, raw.layout().bits());
+    }
   }
 
   /**

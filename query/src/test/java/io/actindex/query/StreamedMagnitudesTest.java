@@ -41,14 +41,24 @@ class StreamedMagnitudesTest {
       // all units, or some of them in order (a build that keeps some layers)
       int[] cols = rnd.nextBoolean() ? IntStream.range(0, d).toArray() : IntStream.range(0, d).filter(j -> rnd.nextInt(3) > 0).toArray();
       if (cols.length == 0) cols = new int[] {d - 1};
-      String why = Randoms.describe(seed) + " n=" + n + " d=" + d + " chunk=" + chunk + " bits=" + bits + " units kept=" + cols.length;
+      boolean relu = rnd.nextBoolean(); // an add of activations to an index of a model's: negative values taken as 0
+      String why = Randoms.describe(seed) + " n=" + n + " d=" + d + " chunk=" + chunk + " bits=" + bits + " units kept=" + cols.length
+          + " relu=" + relu;
 
-      StreamedMagnitudes.Ranges ranges = new StreamedMagnitudes.Ranges(src, null, bits);
+      int[] kept = cols;
+      StreamedMagnitudes.Ranges ranges = new StreamedMagnitudes.Ranges(src, "build", layout -> kept, relu, bits);
       Encoding.Read first = Encoding.read(src, null, EncodeOptions.positive(), null, RowRange.ALL, chunk, Progress.NONE, ranges);
-      StreamedMagnitudes.Result got = StreamedMagnitudes.quantise(src, null, EncodeOptions.positive(), null, chunk, Progress.NONE,
-          first.codes(), cols, ranges, bits);
+      StreamedMagnitudes.Result got = StreamedMagnitudes.quantise(src, null, EncodeOptions.positive(), null, RowRange.ALL, chunk,
+          Progress.NONE, first.codes(), ranges);
 
-      float[] picked = Layers.pickColumns(values, n, d, cols);
+      float[] picked = Layers.pickColumns(values, n, d, cols).clone();
+      boolean negative = false;
+      for (int i = 0; relu && i < picked.length; i++)
+        if (picked[i] < 0) {
+          picked[i] = 0;
+          negative = true;
+        }
+      assertEquals(negative, ranges.negative(), why);
       Magnitudes want = Magnitudes.quantise(picked, n, cols.length, bits);
       assertEquals(IndexBuilder.Quantisation.of(want, picked), got.quantisation(), why);
       assertEquals(n, got.magnitudes().count(), why);
@@ -69,11 +79,11 @@ class StreamedMagnitudesTest {
     float[] grown = java.util.Arrays.copyOf(values, (n + 1) * d);
     for (float[] other : new float[][] {same, grown}) {
       TestFiles.npyFloat32(file, n, d, values);
-      StreamedMagnitudes.Ranges ranges = new StreamedMagnitudes.Ranges(src, null, 8);
+      StreamedMagnitudes.Ranges ranges = new StreamedMagnitudes.Ranges(src, "build", layout -> IntStream.range(0, d).toArray(), false, 8);
       Encoding.Read first = Encoding.read(src, null, EncodeOptions.positive(), null, RowRange.ALL, 64, Progress.NONE, ranges);
       TestFiles.npyFloat32(file, other.length / d, d, other);
       BadInputException e = assertThrows(BadInputException.class, () -> StreamedMagnitudes.quantise(src, null, EncodeOptions.positive(), null,
-          64, Progress.NONE, first.codes(), IntStream.range(0, d).toArray(), ranges, 8));
+          RowRange.ALL, 64, Progress.NONE, first.codes(), ranges));
       assertTrue(e.getMessage().startsWith(file + ": changed while the build read it"), e.getMessage());
     }
   }
@@ -98,7 +108,7 @@ class StreamedMagnitudesTest {
   }
 
   /** Bytes of the heap in use after a full collection (a System.gc() with G1, the default collector, is one). */
-  private static long live(MemoryMXBean heap) {
+  static long live(MemoryMXBean heap) {
     System.gc();
     System.gc();
     return heap.getHeapMemoryUsage().getUsed();
@@ -127,7 +137,7 @@ class StreamedMagnitudesTest {
   }
 
   /** Rows of ReLU-like values: about half zero, some units always zero, some negative. */
-  private static float[] reluLike(Random rnd, int n, int d) {
+  static float[] reluLike(Random rnd, int n, int d) {
     float[] v = new float[n * d];
     boolean[] dead = new boolean[d];
     for (int j = 0; j < d; j++) dead[j] = rnd.nextInt(8) == 0;
