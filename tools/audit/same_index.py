@@ -8,7 +8,9 @@ Two builds of one input differ in more unless both run with
   ACTINDEX_PLANNER_COSTS=FILE                 (the same planner costs, so the same search tables;
                                                `actindex calibrate-planner --out FILE` writes one)
 Used to check that a change to how `build` reads its input leaves the index files as they were:
-build with the old jar and the new one, then compare. (Python 3 only; never a test dependency.)"""
+build with the old jar and the new one, then compare. For `add`: build one index, copy its folder
+twice, add the same file to one copy with the old jar and to the other with the new one (the copies
+share the index UUID), then compare. (Python 3 only; never a test dependency.)"""
 import os, re, sys
 
 def files(d):
