@@ -19,10 +19,8 @@ Bitterwolf, CVPR 2019). Hamming and cosine scores see the region and the directi
 Needs torch (CPU), numpy, scikit-learn, safetensors; never a test dependency. Exit 1 on any DIFF.
 """
 import argparse
-import json
 import os
 import shutil
-import subprocess
 import sys
 import warnings
 
@@ -32,7 +30,7 @@ from safetensors.torch import save_file
 from sklearn.metrics import roc_auc_score
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-from newuser_mlp import data, hamming, hidden  # noqa: E402
+from newuser_mlp import data, hamming, hidden, runners  # noqa: E402
 
 SCALES = [2, 5, 10, 100]
 failures = []
@@ -119,14 +117,7 @@ def main():
     os.makedirs(args.work)
     os.chdir(args.work)
 
-    def run(*a):
-        p = subprocess.run([binary, *map(str, a)], capture_output=True, text=True)
-        if p.returncode != 0:
-            sys.exit("actindex " + " ".join(map(str, a)) + " failed:\n" + p.stderr)
-        return p
-
-    def js(*a):
-        return json.loads(run(*a, "--format", "json").stdout)
+    run, js = runners(binary)
 
     net, xtr, _, xte, _, xood, xin, _, xsame, _ = data(args.epochs)
     save_file({k: v.contiguous() for k, v in net.state_dict().items()}, "model.safetensors")

@@ -110,6 +110,19 @@ def hamming(a, b):
     return np.rint(a @ (1 - b).T + (1 - a) @ b.T).astype(np.int64)
 
 
+def runners(binary):
+    """run(*args, ok=True): the command's completed process (exits on failure unless ok=False); js(*args): its --format json output."""
+    def run(*a, ok=True):
+        p = subprocess.run([binary, *map(str, a)], capture_output=True, text=True)
+        if ok and p.returncode != 0:
+            sys.exit("actindex " + " ".join(map(str, a)) + " failed:\n" + p.stderr)
+        return p
+
+    def js(*a):
+        return json.loads(run(*a, "--format", "json").stdout)
+    return run, js
+
+
 def data(epochs):
     """The model, trained here, every batch, drawn in a fixed order from fixed seeds (far_inputs.py uses them too), and the planted conflicts' count."""
     rng = np.random.default_rng(7)
@@ -151,14 +164,7 @@ def main():
     os.makedirs(args.work)
     os.chdir(args.work)
 
-    def run(*a, ok=True):
-        p = subprocess.run([binary, *map(str, a)], capture_output=True, text=True)
-        if ok and p.returncode != 0:
-            sys.exit("actindex " + " ".join(map(str, a)) + " failed:\n" + p.stderr)
-        return p
-
-    def js(*a):
-        return json.loads(run(*a, "--format", "json").stdout)
+    run, js = runners(binary)
 
     # data and model
     net, xtr, ytr, xte, yte, xood, xin, xshift, xsame, conflicts = data(args.epochs)

@@ -186,14 +186,9 @@ class OodRefinedTest {
 
   @Test
   void commandsRecordTheScoreAndRefuseMismatches() throws Exception {
-    long seed = Randoms.seed(7);
-    SyntheticCodes.ReluNet net = new SyntheticCodes.ReluNet(8, 40, 20, 5, seed);
-    SyntheticCodes.Sample train = net.sample(300, 0, seed + 1), cal = net.sample(60, 0, seed + 2), q = net.sample(20, 2, seed + 3);
-    int d = train.codes().layout().bits();
-    Path dir = tmp.resolve("idx");
-    IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.activations(npy(tmp.resolve("train.npy"), train.activations(), d)), null,
-        EncodeOptions.positive(), null, 0), Progress.NONE);
-    Path calFile = npy(tmp.resolve("cal.npy"), cal.activations(), d), qFile = npy(tmp.resolve("q.npy"), q.activations(), d);
+    Fixture f = fixture(Randoms.seed(7));
+    Path dir = f.dir(), calFile = f.cal(), qFile = f.q();
+    SyntheticCodes.Sample train = f.train();
     OodCalibrate.Result cd = OodCalibrate.run(dir, Source.activations(calFile), RowRange.ALL, new OodCalibrate.Params(3, Statistic.KTH, 0.9, null, false),
         Progress.NONE);
     assertThat(cd.scoring()).as("default on an index with magnitudes").isEqualTo(new OodCalibration.Scoring(OodScorer.Kind.EUCLIDEAN, 100));
@@ -244,14 +239,9 @@ class OodRefinedTest {
 
   @Test
   void euclideanCalibrationIsStoredScoredAndEvaluatedBesideTheCosine() throws Exception {
-    long seed = Randoms.seed(11);
-    SyntheticCodes.ReluNet net = new SyntheticCodes.ReluNet(8, 40, 20, 5, seed);
-    SyntheticCodes.Sample train = net.sample(300, 0, seed + 1), cal = net.sample(60, 0, seed + 2), q = net.sample(20, 2, seed + 3);
-    int d = train.codes().layout().bits();
-    Path dir = tmp.resolve("idx");
-    IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.activations(npy(tmp.resolve("train.npy"), train.activations(), d)), null,
-        EncodeOptions.positive(), null, 0), Progress.NONE);
-    Path calFile = npy(tmp.resolve("cal.npy"), cal.activations(), d), qFile = npy(tmp.resolve("q.npy"), q.activations(), d);
+    Fixture f = fixture(Randoms.seed(11));
+    Path dir = f.dir(), calFile = f.cal(), qFile = f.q();
+    SyntheticCodes.Sample train = f.train();
     OodCalibrate.Result cr = OodCalibrate.run(dir, Source.activations(calFile), RowRange.ALL,
         new OodCalibrate.Params(3, Statistic.MEAN, 0.9, null, false, OodScorer.Kind.EUCLIDEAN, 40), Progress.NONE);
     assertThat(cr.scoring()).isEqualTo(new OodCalibration.Scoring(OodScorer.Kind.EUCLIDEAN, 40));
@@ -290,5 +280,18 @@ class OodRefinedTest {
     assertThatThrownBy(() -> OodCalibrate.run(noMag, Source.activations(calFile), RowRange.ALL,
         new OodCalibrate.Params(3, Statistic.KTH, 0.9, null, false, OodScorer.Kind.EUCLIDEAN, 0), Progress.NONE))
         .isInstanceOf(BadInputException.class).hasMessageContaining("keeps no magnitudes").hasMessageContaining(noMag.toString());
+  }
+
+  /** An index built from 300 training activations with kept magnitudes, 60 calibration and 20 query rows as files. */
+  private record Fixture(Path dir, Path cal, Path q, SyntheticCodes.Sample train) {}
+
+  private Fixture fixture(long seed) throws Exception {
+    SyntheticCodes.ReluNet net = new SyntheticCodes.ReluNet(8, 40, 20, 5, seed);
+    SyntheticCodes.Sample train = net.sample(300, 0, seed + 1), cal = net.sample(60, 0, seed + 2), q = net.sample(20, 2, seed + 3);
+    int d = train.codes().layout().bits();
+    Path dir = tmp.resolve("idx");
+    IndexBuilder.build(new IndexBuilder.BuildParams(dir, Source.activations(npy(tmp.resolve("train.npy"), train.activations(), d)), null,
+        EncodeOptions.positive(), null, 0), Progress.NONE);
+    return new Fixture(dir, npy(tmp.resolve("cal.npy"), cal.activations(), d), npy(tmp.resolve("q.npy"), q.activations(), d), train);
   }
 }
