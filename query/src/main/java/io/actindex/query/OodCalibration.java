@@ -273,7 +273,7 @@ public final class OodCalibration {
   public static double threshold(double[] sorted, double tpr, String what) {
     long need = minimum(tpr);
     if (sorted.length < need)
-      throw new BadInputException(what + ": " + sorted.length + " calibration inputs; a target rate of " + tpr + " needs at least " + need);
+      throw new BadInputException(what + ": " + sorted.length + (sorted.length == 1 ? " calibration input" : " calibration inputs") + "; a target rate of " + tpr + " needs at least " + need);
     return sorted[(int) rank(tpr, sorted.length) - 1];
   }
 }
