@@ -19,7 +19,7 @@ import picocli.CommandLine.Spec;
     description = {"Writes the codes of the index's live examples, in id order, as a .npy file: uint8 0/1 of shape (rows, bits), "
         + "column i = bit i of the layers.",
         "With --packed, uint8 of shape (rows, ceil(bits/8)), eight bits a byte in NumPy's packbits order (first bit in the most "
-        + "significant bit): what 'build --codes FILE --code-layout ...' reads back. Existing files are replaced atomically."})
+        + "significant bit): what 'build --codes FILE --code-layout ...' reads back. --layers keeps only those layers' bits, in the order named. Existing files are replaced atomically."})
 final class ExportCodesCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
