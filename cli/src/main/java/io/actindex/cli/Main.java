@@ -27,7 +27,7 @@ import picocli.CommandLine.Spec;
     subcommands = {
       BuildCommand.class, AddCommand.class, InfoCommand.class, NearestCommand.class,
       RegionCommand.class, CensusCommand.class, CompareCommand.class, FidelityCommand.class, DupesCommand.class,
-      OodCommand.class, ExportEdgeCommand.class, ReportCommand.class, DeleteCommand.class, CompactCommand.class, CheckCommand.class,
+      OodCommand.class, ExportEdgeCommand.class, ExportCodesCommand.class, ReportCommand.class, DeleteCommand.class, CompactCommand.class, CheckCommand.class,
       CalibratePlannerCommand.class,
       CommandLine.HelpCommand.class
     },

@@ -11,7 +11,7 @@ import picocli.CommandLine;
 /** Parsing, help, version and exit codes that need no index. */
 class MainTest {
   static final List<String> COMMANDS = List.of("build", "add", "info", "nearest", "region", "census", "compare", "fidelity", "dupes",
-      "ood", "export-edge", "report", "delete", "compact", "check", "calibrate-planner");
+      "ood", "export-edge", "export-codes", "report", "delete", "compact", "check", "calibrate-planner");
 
   @Test
   void everyContractCommandIsRegistered() {

@@ -124,13 +124,18 @@ public final class Refine {
 
   /** The message for an index that keeps no magnitudes: how to build one that does. */
   public static String noMagnitudes(IndexReader reader) {
+    return noMagnitudes(reader, "to refine with");
+  }
+
+  /** {@link #noMagnitudes(IndexReader)} for another use of them ({@code purpose}, e.g. "to export"). */
+  public static String noMagnitudes(IndexReader reader, String purpose) {
     String kind = reader.properties().get(BuildInfo.KIND);
     String how = "codes".equals(kind)
         ? "it was built from codes, which carry none; build it from activations (`Source.activations`) or a model and its inputs (`model`, `Source.inputs`)"
         : reader.properties().get(IndexBuilder.MAGNITUDES) == null
             ? "it was built by an earlier actindex, which kept none; build it again (activations and inputs keep 8 bits per unit by default)"
             : "it was built with `magnitudeBits 0`; build it again with `magnitudeBits` 8 (the default for activations and inputs)";
-    return "index " + reader.dir() + " keeps no magnitudes to refine with: " + how;
+    return "index " + reader.dir() + " keeps no magnitudes " + purpose + ": " + how;
   }
 
   /**

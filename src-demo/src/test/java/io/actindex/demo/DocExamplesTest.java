@@ -51,6 +51,9 @@ class DocExamplesTest {
   /** Options whose value is a file or folder the command writes. */
   static final Set<String> OUTPUTS = Set.of("--out", "--pairs", "--html", "--roc", "--c-source");
 
+  /** export-codes' other outputs; these names are no file elsewhere (build's {@code --magnitudes} takes a bit count). */
+  static final Set<String> EXPORT_CODES_OUTPUTS = Set.of("--ids", "--magnitudes");
+
   /**
    * Examples that need files the demo does not write, with the reason (command line as the doc
    * writes it, continuation lines joined by one space). Each must still be found in the docs.
@@ -202,6 +205,10 @@ class DocExamplesTest {
         + "--html ood.html --where \"split = test\"", demo, scratch)).containsExactly(
         "ood", "eval", "--index", "/d/actindex-demo/index", "--in", "/d/actindex-demo/a.npy", "--out", "/d/actindex-demo/b.npy",
         "--html", "/s/ood.html", "--where", "split = test");
+    assertThat(arguments("bin/actindex export-codes --index actindex-demo/index --out c.npy --ids i.csv --magnitudes m.npy", demo, scratch))
+        .containsExactly("export-codes", "--index", "/d/actindex-demo/index", "--out", "/s/c.npy", "--ids", "/s/i.csv", "--magnitudes", "/s/m.npy");
+    assertThat(arguments("bin/actindex build --out i --codes actindex-demo/c.npy --magnitudes 8", demo, scratch))
+        .containsExactly("build", "--out", "/s/i", "--codes", "/d/actindex-demo/c.npy", "--magnitudes", "8");
     for (String shell : List.of("bin/actindex x --inputs actindex-demo/a.npy < in.csv", "bin/actindex x --index $IDX",
         "bin/actindex x --where 'split = test"))
       assertThatIllegalArgumentException().as(shell).isThrownBy(() -> arguments(shell, demo, scratch));
@@ -326,7 +333,7 @@ class DocExamplesTest {
     for (int i = 0; i < args.length; i++) {
       if (args[i].equals("actindex-demo") || args[i].startsWith("actindex-demo/")) {
         args[i] = demo.resolve(args[i].substring("actindex-demo".length()).replaceFirst("^/", "")).toString();
-      } else if (i > 0 && OUTPUTS.contains(args[i - 1])) {
+      } else if (i > 0 && (OUTPUTS.contains(args[i - 1]) || args[0].equals("export-codes") && EXPORT_CODES_OUTPUTS.contains(args[i - 1]))) {
         if (Path.of(args[i]).isAbsolute()) throw new IllegalArgumentException("absolute output path " + args[i]);
         args[i] = scratch.resolve(args[i]).toString();
       }

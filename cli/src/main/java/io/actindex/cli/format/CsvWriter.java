@@ -58,11 +58,8 @@ public final class CsvWriter {
     return items;
   }
 
-  /** One field, quoted if needed. */
+  /** One field, quoted if needed ({@link io.actindex.core.CsvCell#field}). */
   public static String field(String s) {
-    if (s == null) return "";
-    boolean quote = s.indexOf(',') >= 0 || s.indexOf('"') >= 0 || s.indexOf('\n') >= 0 || s.indexOf('\r') >= 0
-        || (!s.isEmpty() && (Character.isWhitespace(s.charAt(0)) || Character.isWhitespace(s.charAt(s.length() - 1))));
-    return quote ? '"' + s.replace("\"", "\"\"") + '"' : s;
+    return io.actindex.core.CsvCell.field(s);
   }
 }
