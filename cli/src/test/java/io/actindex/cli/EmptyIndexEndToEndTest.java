@@ -98,6 +98,7 @@ class EmptyIndexEndToEndTest {
         {"ood", "score", "--index", i, "--activations", acts.toString(), "--decision-only"},
         {"ood", "eval", "--index", i, "--in", cal.toString(), "--out", acts.toString()},
         {"export-edge", "--index", i, "--out", tmp.resolve("e.bin").toString()},
+        {"export-codes", "--index", i, "--out", tmp.resolve("c.npy").toString()},
         {"fidelity", "--index", i},
         {"compare", "--index", i, "--a-where", "label = a", "--b", acts.toString()}};
     for (String[] args : impossible) {
@@ -107,6 +108,7 @@ class EmptyIndexEndToEndTest {
       assertThat(r.err().strip()).as(why).contains(i).contains("no live examples").doesNotContain("internal error").doesNotContain("\n");
     }
     assertThat(tmp.resolve("e.bin")).doesNotExist();
+    assertThat(tmp.resolve("c.npy")).doesNotExist();
     assertThat(Files2.checksums(idx)).as(state).isEqualTo(before);
   }
 
