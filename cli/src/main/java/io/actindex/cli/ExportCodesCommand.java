@@ -77,12 +77,7 @@ final class ExportCodesCommand implements Callable<Integer> {
       }
     }
     o.flush();
-    if (r.packed() && r.bits() == 1) {
-      PrintWriter err = spec.commandLine().getErr();
-      err.println("note: a packed 1-bit code is one column, which 'build --codes' reads as 0/1 values (and refuses the packed byte 128):"
-          + " to build from it, export without --packed");
-      err.flush();
-    }
+    Summaries.notes(spec.commandLine().getErr(), r.notes());
     return ExitCodes.OK;
   }
 

@@ -48,8 +48,11 @@ public final class CodeExport {
    */
   public record Params(Path out, boolean packed, List<String> layers, String where, Path ids, Path magnitudes) {}
 
-  /** What was written: the rows (examples) and bits (columns before packing) of each file, the layers, the files. */
-  public record Result(int rows, int bits, boolean packed, List<String> layers, Path out, Path ids, Path magnitudes) {}
+  /**
+   * What was written: the rows (examples) and bits (columns before packing) of each file, the layers,
+   * the files; {@code notes} for the user (a packed 1-bit export that a build cannot read back).
+   */
+  public record Result(int rows, int bits, boolean packed, List<String> layers, Path out, Path ids, Path magnitudes, List<String> notes) {}
 
   /** Rows written between progress reports and between writes to the files. */
   private static final int CHUNK = 4096;
@@ -74,7 +77,11 @@ public final class CodeExport {
     } catch (IOException e) {
       throw new UncheckedIOException("cannot write " + p.out() + ": " + e.getMessage(), e);
     }
-    return new Result(ids.length, cols.length, p.packed(), List.copyOf(names), p.out(), p.ids(), p.magnitudes());
+    List<String> notes = p.packed() && cols.length == 1
+        ? List.of("note: a packed 1-bit code is one column, which a build from codes reads as 0/1 values (and refuses the packed byte 128):"
+            + " to build from it, export without `packed`")
+        : List.of();
+    return new Result(ids.length, cols.length, p.packed(), List.copyOf(names), p.out(), p.ids(), p.magnitudes(), notes);
   }
 
   /** Refuses a target that cannot be written, or two outputs on one path, before any work. */
