@@ -6,7 +6,9 @@ k=1 and the audit's k=3 mean, the refined (cosine) and euclidean scores from kep
 candidate-float scores from float files, the softmax baseline), each checked against NumPy /
 scikit-learn, plus scores actindex does not have (plain Euclidean k-NN on activations, the
 activation norm), and how many far codes lie at Hamming distance 0 or d from a training code.
-Last, NumPy only: whether the magnitude-aware score (Euclidean instead of cosine among the 100
+Then the edge bundle's range guard (export-edge --with-model, run by the edge jar on raw inputs):
+the share of training, held-out and far inputs whose range ratio is above 1, its AUROC, and the jar's
+ratio against NumPy's (largest layer norm over the exported bound). Last, NumPy only: whether the magnitude-aware score (Euclidean instead of cosine among the 100
 nearest codes, what `--score euclidean` computes on kept magnitudes) loses on near inputs, on scikit-learn's copy of the UCI digits (0-4 in, 5-9 out,
 a scikit-learn (64, 32) MLP, the three seeds of DigitsOodTest; not the project's trainer).
 
@@ -14,13 +16,15 @@ A ReLU network is piecewise linear: along x -> t x the input ends in one outer l
 the hidden activations grow linearly in t and their direction settles (Hein, Andriushchenko &
 Bitterwolf, CVPR 2019). Hamming and cosine scores see the region and the direction, not the size.
 
-    tools/audit/far_inputs.py [--bin bin/actindex] [--work DIR] [--epochs N]
+    tools/audit/far_inputs.py [--bin bin/actindex] [--edge-jar edge/target/actindex-edge-*.jar] [--work DIR] [--epochs N]
 
 Needs torch (CPU), numpy, scikit-learn, safetensors; never a test dependency. Exit 1 on any DIFF.
 """
 import argparse
+import glob
 import os
 import shutil
+import subprocess
 import sys
 import warnings
 
@@ -106,13 +110,64 @@ def digits():
         print(f"| {seed} | " + " | ".join(f"{v:.3f}" for v in auc) + " |")
 
 
+def range_guard(run, js, edge_jar, net, xtr, xin, batches):
+    """The bundle's range guard: export-edge --with-model (the index's stored calibration is the code score by now), the edge jar's
+    range column on raw inputs written as CSV (17 digits: float32 values exactly)."""
+    out = js("export-edge", "--index", "index", "--out", "far.edge", "--with-model")
+    bounds = out["range_bounds"]
+    check("export-edge gives one range bound per hidden layer", bounds is not None and len(bounds) == 3, str(bounds))
+
+    def ranges(x, name):
+        np.savetxt(name + ".csv", x.astype(np.float64), delimiter=",", fmt="%.17g")
+        with open(name + ".csv") as f:
+            p = subprocess.run(["java", "-jar", edge_jar, "far.edge", "--inputs"], stdin=f, capture_output=True, text=True)
+        if p.returncode != 0:
+            sys.exit("edge jar on " + name + ".csv failed:\n" + p.stderr)
+        lines = p.stdout.splitlines()
+        check(f"{name}: the jar's columns end in range", lines[1] == "row,score,decision,p_value,range", lines[1])
+        return np.array([float(l.split(",")[-1]) for l in lines[2:]])
+
+    a_tr = hidden(net, xtr)[0]
+    widths = [48, 100, 17]
+    cuts = np.cumsum([0] + widths)
+
+    def numpy_ratio(x):
+        a = hidden(net, x)[0]
+        return np.max(np.stack([np.linalg.norm(a[:, cuts[l]:cuts[l + 1]], axis=1) / bounds[l] for l in range(3)], 1), 1)
+
+    for l in range(3):
+        top = np.linalg.norm(a_tr[:, cuts[l]:cuts[l + 1]], axis=1).max()
+        check(f"layer {l}: the bound covers the largest training norm, within 1%", top <= bounds[l] <= top * 1.01, f"{bounds[l]} vs {top}")
+    r_tr = ranges(xtr, "train")
+    check("no training input has a range ratio above 1", r_tr.max() <= 1, f"largest {r_tr.max()}")
+    check("the jar's ratio on training inputs = NumPy's", np.allclose(r_tr, numpy_ratio(xtr), rtol=1e-9, atol=0), "")
+    r_in = ranges(xin, "in")
+    print()
+    print(f"range guard: bounds {', '.join(f'{b:.4g}' for b in bounds)}; largest training ratio {r_tr.max():.4f}; "
+          f"held-out inputs above 1: {np.mean(r_in > 1):.4f} of {len(r_in)} (exchangeable inputs: at most 3 / (n + 1) = {3 / (len(xtr) + 1):.4f})")
+    print("| batch | range ratio above 1 | AUROC of the ratio | ratio median |")
+    print("|---|---|---|---|")
+    print(f"| held-out in ({len(r_in)}) | {np.mean(r_in > 1):.3f} | - | {np.median(r_in):.3f} |")
+    for i, (name, xb) in enumerate(batches.items()):
+        r = ranges(xb, f"out{i}")
+        check(f"{name}: the jar's ratio = NumPy's", np.allclose(r, numpy_ratio(xb), rtol=1e-9, atol=0), "")
+        auc = roc_auc_score(np.r_[np.zeros(len(r_in)), np.ones(len(r))], np.r_[r_in, r])
+        print(f"| {name} | {np.mean(r > 1):.3f} | {auc:.3f} | {np.median(r):.3f} |")
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--bin", default=os.path.join(os.path.dirname(__file__), "..", "..", "bin", "actindex"))
     ap.add_argument("--work", default="/tmp/actindex-far")
     ap.add_argument("--epochs", type=int, default=40)
+    ap.add_argument("--edge-jar", default=None, help="the edge jar (default: the newest edge/target/actindex-edge-*.jar)")
     args = ap.parse_args()
     binary = os.path.abspath(args.bin)
+    jars = [args.edge_jar] if args.edge_jar else sorted(glob.glob(os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "edge", "target",
+                                                                               "actindex-edge-*.jar")), key=os.path.getmtime)
+    if not jars:
+        sys.exit("no edge jar: build it with `mvn -B -ntp -q -pl edge package`, or pass --edge-jar")
+    edge_jar = os.path.abspath(jars[-1])
     shutil.rmtree(args.work, ignore_errors=True)
     os.makedirs(args.work)
     os.chdir(args.work)
@@ -213,6 +268,7 @@ def main():
         cell = lambda n: f"{auc[n]:.3f}" if n in auc else "-"
         print(f"| {setup} | {name} | {cell('code')} | {cell('best variant')} | {cell('refined')} | {cell('euclidean')} | {cell('float')} | {cell('softmax')} "
               f"| {auc['flagged']:.2f} |")
+    range_guard(run, js, edge_jar, net, xtr, xin, batches)
     digits()
     print(f"{len(failures)} DIFF" if failures else "all OK")
     sys.exit(1 if failures else 0)

@@ -48,22 +48,31 @@ final class ExportEdgeCommand implements Callable<Integer> {
             .member("unique_codes", r.uniqueCodes()).member("examples", r.examples()).member("bytes_per_example", r.bytesPerExample())
             .name("with_model").value(r.withModel()).name("c_files").beginArray();
         for (Path p : r.cFiles()) j.value(p.toString());
-        j.endArray().member("caution", OodCalibration.CAUTION).endObject();
+        j.endArray().member("caution", OodCalibration.CAUTION).name("range_bounds");
+        if (r.rangeBounds() == null) j.nullValue();
+        else {
+          j.beginArray();
+          for (double v : r.rangeBounds()) j.value(v);
+          j.endArray();
+        }
+        j.endObject();
         o.println();
       }
       case csv -> {
-        o.println("bundle,bytes,unique_codes,examples,bytes_per_example,with_model");
+        o.println("bundle,bytes,unique_codes,examples,bytes_per_example,with_model,range_guard");
         o.println(io.actindex.cli.format.CsvWriter.field(r.out().toString()) + "," + r.bytes() + "," + r.uniqueCodes() + "," + r.examples() + ","
-            + r.bytesPerExample() + "," + r.withModel());
+            + r.bytesPerExample() + "," + r.withModel() + "," + (r.rangeBounds() != null));
       }
       case table -> {
         o.println("wrote " + r.out() + ": " + Units.bytes(r.bytes()) + ", " + r.uniqueCodes() + " unique codes of " + r.examples()
-            + " examples (" + String.format(Locale.ROOT, "%.2f", r.bytesPerExample()) + " bytes per example)" + (r.withModel() ? ", with the model" : ""));
+            + " examples (" + String.format(Locale.ROOT, "%.2f", r.bytesPerExample()) + " bytes per example)" + (r.withModel() ? ", with the model" : "")
+            + (r.rangeBounds() != null ? " and a range guard" : ""));
         for (Path p : r.cFiles()) o.println("wrote " + p);
       }
     }
     OodCommand.caution(o, spec.commandLine().getErr(), format.format);
     o.flush();
+    Summaries.notes(spec.commandLine().getErr(), r.notes());
     OodCommand.liveNote(spec.commandLine().getErr(), r.liveCheck()); // the bundle carries the calibration as stored
     return ExitCodes.OK;
   }

@@ -414,6 +414,48 @@ class OodEndToEndTest {
   }
 
   /**
+   * export-edge ends its JSON with the range guard's bounds (one per code layer) and its CSV with
+   * range_guard; without one (no --with-model, or an index that keeps no magnitudes) the bounds are
+   * null and one note on stderr says why and what to do.
+   */
+  @Test
+  void exportEdgeTellsItsRangeGuard() throws Exception {
+    SplittableRandom r = new SplittableRandom(77);
+    String train = Files2.floats(tmp.resolve("gin.npy"), SourcesEndToEndTest.activations(80, 3, r)).toString();
+    String cal = Files2.floats(tmp.resolve("gcal.npy"), SourcesEndToEndTest.activations(40, 3, r)).toString();
+    String model = CompareEndToEndTest.mlp(tmp.resolve("g.safetensors"), 3, r).toString();
+    for (String mags : List.of("8", "off")) {
+      String i = tmp.resolve("g" + mags).toString();
+      assertThat(Cli.run("build", "--out", i, "--model", model, "--inputs", train, "--magnitudes", mags).code()).isZero();
+      assertThat(Cli.run("ood", "calibrate", "--index", i, "--inputs", cal, "--score", "code").code()).isZero();
+      for (boolean withModel : List.of(true, false)) {
+        String out = tmp.resolve("g" + mags + withModel + ".edge").toString();
+        Cli.Result x = withModel ? Cli.run("export-edge", "--index", i, "--out", out, "--with-model", "--format", "json")
+            : Cli.run("export-edge", "--index", i, "--out", out, "--format", "json");
+        assertThat(x.code()).as(x.describe()).isZero();
+        JsonNode j = JSON.readTree(x.out());
+        List<String> names = new java.util.ArrayList<>();
+        j.fieldNames().forEachRemaining(names::add);
+        assertThat(names.getLast()).isEqualTo("range_bounds");
+        boolean guard = withModel && mags.equals("8");
+        if (guard) {
+          assertThat(j.get("range_bounds").size()).as("one bound per code layer").isEqualTo(1);
+          assertThat(j.get("range_bounds").get(0).asDouble()).isPositive();
+          assertThat(x.err()).doesNotContain("range guard");
+          Cli.Result csv = Cli.run("export-edge", "--index", i, "--out", out, "--with-model", "--format", "csv");
+          assertThat(csv.out().lines().toList()).startsWith("bundle,bytes,unique_codes,examples,bytes_per_example,with_model,range_guard");
+          assertThat(csv.out().lines().skip(1).findFirst().orElse("")).endsWith(",true,true");
+        } else {
+          assertThat(j.get("range_bounds").isNull()).isTrue();
+          assertThat(x.err().lines().filter(l -> l.contains("range guard")).toList()).as(x.describe()).singleElement().asString()
+              .startsWith("note: the bundle has no range guard").contains(withModel ? "keeps no magnitudes" : "export with --with-model")
+              .doesNotContain("`");
+        }
+      }
+    }
+  }
+
+  /**
    * {@code --threads}: calibrate, score (full and decision-only) and eval print the same bytes on 1
    * and 3 threads and by default (one per core, shown in the help).
    */

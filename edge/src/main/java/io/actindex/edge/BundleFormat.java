@@ -23,7 +23,8 @@ import java.util.zip.CRC32;
  * <pre>
  * magic      8 bytes   0x89 'A' 'X' 'E' 'D' 'G' 0x0D 0x0A   (a text-mode transfer or a foreign file fails here)
  * version    u32       1
- * flags      u32       bit 0: calibration present; bit 1: model present; other bits 0
+ * flags      u32       bit 0: calibration present; bit 1: model present; bit 2: range guard present
+ *                      (only with bit 1); other bits 0
  * layers     u32       L &gt;= 1, then L x (str name, u32 bits &gt;= 1)           the code layout
  * unique     u32       n, the number of unique codes
  * examples   u64       training examples = the sum of the counts
@@ -42,10 +43,14 @@ import java.util.zip.CRC32;
  *                                 out x f32 bias); ReLU after every layer but the last; the hidden
  *                                 layers named in the code layout give its bits, in layout order
  *   thresholds bits x f64   bit i is on when its neuron's activation (after ReLU) is &gt; thresholds[i]
+ * range guard (flag bit 2)
+ *   bounds     L x f64   per code layer, in layout order, finite and &gt;= 0: an upper bound of the
+ *                        Euclidean norm of that layer's activations over the training examples
  * crc        u32       CRC32 (ISO-HDLC, java.util.zip.CRC32) of every byte before it
  * </pre>
  *
- * Nothing may follow the CRC. The reader checks the magic, the version (another version is told as
+ * Bundles written before the range guard (flag bit 2 clear) read as they did; a reader from before
+ * it refuses a bundle that has one (unknown flag bit). Nothing may follow the CRC. The reader checks the magic, the version (another version is told as
  * such when the CRC is right, as damage when it is not), the CRC, every count
  * against the bytes that remain, and every field's range, and throws {@link EdgeFormatException}
  * naming the file and field; it never scores from a damaged bundle.
@@ -55,7 +60,7 @@ public final class BundleFormat {
 
   static final byte[] MAGIC = {(byte) 0x89, 'A', 'X', 'E', 'D', 'G', 0x0D, 0x0A};
   public static final int VERSION = 1;
-  static final int FLAG_CALIBRATION = 1, FLAG_MODEL = 2;
+  static final int FLAG_CALIBRATION = 1, FLAG_MODEL = 2, FLAG_RANGE = 4;
 
   /** The bundle's bytes. */
   public static byte[] toBytes(EdgeBundle b) {
@@ -66,7 +71,7 @@ public final class BundleFormat {
       out.writeInt(VERSION);
       EdgeBundle.Calibration cal = b.calibration();
       EdgeBundle.Model model = b.model();
-      out.writeInt((cal != null ? FLAG_CALIBRATION : 0) | (model != null ? FLAG_MODEL : 0));
+      out.writeInt((cal != null ? FLAG_CALIBRATION : 0) | (model != null ? FLAG_MODEL : 0) | (b.hasRangeGuard() ? FLAG_RANGE : 0));
       out.writeInt(b.layerNames().size());
       int[] bits = b.layerBits();
       for (int i = 0; i < bits.length; i++) {
@@ -98,6 +103,7 @@ public final class BundleFormat {
           for (float v : l.bias()) out.writeFloat(v);
         }
         for (double t : model.thresholds()) out.writeDouble(t);
+        if (model.rangeBounds() != null) for (double v : model.rangeBounds()) out.writeDouble(v);
       }
       out.flush();
       CRC32 crc = new CRC32();
@@ -137,7 +143,8 @@ public final class BundleFormat {
     Reader r = new Reader(body, source);
     try {
       int flags = r.u32("flags");
-      if ((flags & ~(FLAG_CALIBRATION | FLAG_MODEL)) != 0) throw r.error("flags", "unknown flag bits " + Integer.toHexString(flags));
+      if ((flags & ~(FLAG_CALIBRATION | FLAG_MODEL | FLAG_RANGE)) != 0) throw r.error("flags", "unknown flag bits " + Integer.toHexString(flags));
+      if ((flags & FLAG_RANGE) != 0 && (flags & FLAG_MODEL) == 0) throw r.error("flags", "a range guard without a model");
       int layerCount = r.count("layers", 6);
       if (layerCount < 1) throw r.error("layers", "no layer");
       List<String> names = new ArrayList<>();
@@ -194,7 +201,16 @@ public final class BundleFormat {
         if ((long) total * 8 > body.remaining()) throw r.error("model thresholds", "truncated");
         double[] t = new double[(int) total];
         for (int i = 0; i < t.length; i++) t[i] = body.getDouble();
-        model = r.build("model", () -> new EdgeBundle.Model(layers, t));
+        double[] bounds = null;
+        if ((flags & FLAG_RANGE) != 0) {
+          if ((long) layerCount * 8 > body.remaining()) throw r.error("range guard", "truncated");
+          bounds = new double[layerCount];
+          for (int i = 0; i < layerCount; i++)
+            if (!((bounds[i] = body.getDouble()) >= 0 && bounds[i] < Double.POSITIVE_INFINITY))
+              throw r.error("range guard", "bound of layer " + names.get(i) + " is " + bounds[i] + " (finite and >= 0 expected)");
+        }
+        double[] fb = bounds;
+        model = r.build("model", () -> new EdgeBundle.Model(layers, t, fb));
       }
       if (body.hasRemaining()) throw r.error("end", body.remaining() + " unexpected bytes before the CRC");
       EdgeBundle.Calibration fc = cal;

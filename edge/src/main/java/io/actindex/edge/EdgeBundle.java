@@ -28,6 +28,8 @@ import java.util.List;
  * EdgeBundle.Score s = b.score(b.encode(pixels));      // needs a bundle exported --with-model
  * boolean out = b.isOut(code);                          // decision only: stops early when in
  * double p = b.pValue(s.value());
+ * EdgeBundle.Encoded e = b.encodeWithRange(pixels);     // the code and the range ratio, one pass (hasRangeGuard())
+ * boolean beyond = e.range() > 1;                       // some layer's activations larger than every training example's
  * }</pre>
  */
 public final class EdgeBundle {
@@ -96,21 +98,40 @@ public final class EdgeBundle {
   }
 
   /**
-   * The MLP (ReLU between layers, none after the last) and the binarization threshold of each code
-   * bit: bit {@code i} is on when its neuron's activation after ReLU is {@code > thresholds[i]}.
+   * The MLP (ReLU between layers, none after the last), the binarization threshold of each code
+   * bit (bit {@code i} is on when its neuron's activation after ReLU is {@code > thresholds[i]}),
+   * and the range guard, or null: per code layer, in the layout's order, an upper bound of the
+   * Euclidean norm of that layer's activations over the training examples ({@link #encodeWithRange}).
    */
-  public record Model(List<Layer> layers, double[] thresholds) {
+  public record Model(List<Layer> layers, double[] thresholds, double[] rangeBounds) {
     public Model {
       layers = List.copyOf(layers);
       thresholds = thresholds.clone();
+      rangeBounds = rangeBounds == null ? null : rangeBounds.clone();
       if (layers.size() < 2) throw new IllegalArgumentException("the model needs a hidden layer and an output layer");
       for (int i = 1; i < layers.size(); i++)
         if (layers.get(i).in() != layers.get(i - 1).out())
           throw new IllegalArgumentException("layer " + layers.get(i).name() + " takes " + layers.get(i).in() + " inputs, the layer before gives "
               + layers.get(i - 1).out());
       for (double t : thresholds) if (!Double.isFinite(t)) throw new IllegalArgumentException("a binarization threshold is not finite");
+      if (rangeBounds != null)
+        for (int i = 0; i < rangeBounds.length; i++)
+          if (!(rangeBounds[i] >= 0 && rangeBounds[i] < Double.POSITIVE_INFINITY))
+            throw new IllegalArgumentException("range bound " + i + " is " + rangeBounds[i] + "; a bound is finite and >= 0");
+    }
+
+    /** A model without a range guard. */
+    public Model(List<Layer> layers, double[] thresholds) {
+      this(layers, thresholds, null);
     }
   }
+
+  /**
+   * A raw input's code and its range ratio, from one forward pass: the largest, over the code
+   * layers, of the layer's activation norm divided by its {@link Model#rangeBounds() bound}. Above 1,
+   * some layer's activations are larger than every training example's there.
+   */
+  public record Encoded(long[] code, double range) {}
 
   /**
    * The score of one code: the k-th nearest distance, the mean of the k nearest, how many training
@@ -171,6 +192,8 @@ public final class EdgeBundle {
   }
 
   private int[] keptHidden(Model m) {
+    if (m.rangeBounds() != null && m.rangeBounds().length != layerNames.size())
+      throw new IllegalArgumentException("model has " + m.rangeBounds().length + " range bounds for " + layerNames.size() + " code layers");
     int hidden = m.layers().size() - 1;
     int[] kept = new int[hidden];
     int next = 0;
@@ -337,9 +360,34 @@ public final class EdgeBundle {
    * row too (an infinite input can reach a finite code when every weight on it has one sign).
    */
   public long[] encode(double[] input) {
+    return forward(input, false).code();
+  }
+
+  /**
+   * {@link #encode} and the range ratio in the same pass: for each code layer {@code l}, the
+   * Euclidean norm of its activations (after ReLU, in double) divided by its bound, {@code
+   * sqrt(sum h^2) / rangeBounds[l]}; the ratio is the largest of these. A layer whose bound is 0
+   * (every unit 0 on every training example) gives 0 while it stays all zero and +Infinity as soon
+   * as one of its units is positive: then too it is larger than every training example's. Refuses
+   * what {@code encode} refuses; throws {@link IllegalStateException} when the bundle holds no range
+   * guard ({@link #hasRangeGuard}).
+   */
+  public Encoded encodeWithRange(double[] input) {
+    if (!hasRangeGuard())
+      throw new IllegalStateException("the bundle holds no range guard: export it with `withModel` from an index that keeps magnitudes");
+    return forward(input, true);
+  }
+
+  /** True when the bundle holds a model with a range guard, so {@link #encodeWithRange} can answer. */
+  public boolean hasRangeGuard() {
+    return model != null && model.rangeBounds() != null;
+  }
+
+  private Encoded forward(double[] input, boolean range) {
     Model m = requireModel();
     long[] code = new long[words];
     double[] h = checkInput(m, input);
+    double ratio = 0;
     int bit = 0;
     for (int l = 0; l < keptHidden.length; l++) {
       h = layer(m.layers().get(l), h, true);
@@ -352,8 +400,15 @@ public final class EdgeBundle {
         if (v > m.thresholds()[bit]) code[bit >>> 6] |= 1L << (bit & 63);
         bit++;
       }
+      if (range) { // the generated C computes the same, in the same order (EdgeCSource)
+        double s = 0;
+        for (double v : h) s += v * v;
+        double bound = m.rangeBounds()[keptHidden[l]];
+        double r = bound > 0 ? Math.sqrt(s) / bound : s > 0 ? Double.POSITIVE_INFINITY : 0;
+        if (r > ratio) ratio = r;
+      }
     }
-    return code;
+    return new Encoded(code, range ? ratio : Double.NaN);
   }
 
   /** {@code input} when it is as wide as the model's inputs and every value is finite, else an {@link IllegalArgumentException}. */
@@ -443,6 +498,6 @@ public final class EdgeBundle {
     for (int i = 0; i < layerBits.length; i++) l.add(layerNames.get(i) + ":" + layerBits[i]);
     return "edge bundle " + String.join(",", l) + ", " + n + " unique codes of " + examples + " examples"
         + (calibration == null ? "" : ", k=" + calibration.k() + " " + calibration.statistic().label + " threshold " + calibration.threshold())
-        + (model == null ? "" : ", with model");
+        + (model == null ? "" : ", with model") + (hasRangeGuard() ? " and range guard" : "");
   }
 }

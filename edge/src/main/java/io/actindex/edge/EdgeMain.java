@@ -14,7 +14,8 @@ import java.util.List;
 
 /**
  * {@code java -jar actindex-edge.jar BUNDLE [--inputs]}: scores the rows on standard input and
- * prints {@code row,score,decision,p_value} per row. Without {@code --inputs} a row is a code
+ * prints {@code row,score,decision,p_value} per row, with {@code --inputs} also {@code range}, the
+ * range ratio of {@link EdgeBundle#encodeWithRange} (empty when the bundle has no range guard). Without {@code --inputs} a row is a code
  * written as its bits, {@code 0} and {@code 1} (spaces ignored, commas between bits; an empty cell refused), bit 0 first; with it, a
  * row is the raw input, comma-separated numbers, run through the bundle's model, read as the index's
  * CSV reader reads a file under {@code --header auto}: blank lines skipped, cells may be quoted, a
@@ -47,7 +48,8 @@ public final class EdgeMain {
     if (args.length == 1 && (args[0].equals("--help") || args[0].equals("-h"))) {
       out.println(USAGE);
       out.println("Scores each row of standard input against the bundle: a code as 0/1 bits, or with --inputs a raw input");
-      out.println("(comma-separated numbers). Prints row,score,decision,p_value. Exit 0 ok, 2 bad bundle, row or option, 1 internal error.");
+      out.println("(comma-separated numbers). Prints row,score,decision,p_value, with --inputs also range (above 1: some layer's activations");
+      out.println("larger than every training example's; empty without a range guard). Exit 0 ok, 2 bad bundle, row or option, 1 internal error.");
       return 0;
     }
     String file = null;
@@ -63,7 +65,7 @@ public final class EdgeMain {
       if (b.calibration() == null) return fail(err, escape(file, 200) + ": the bundle holds no calibration");
       if (inputs && b.model() == null) return fail(err, escape(file, 200) + ": --inputs needs a bundle exported --with-model");
       out.println("# a calibrated heuristic, not a guarantee: rates hold only for inputs exchangeable with the calibration data");
-      out.println("row,score,decision,p_value");
+      out.println(inputs ? "row,score,decision,p_value,range" : "row,score,decision,p_value");
       Lines lines = new Lines(in, inputs);
       String line = lines.next(), note = null, indexHeader = null;
       if (line == null) return fail(err, "stdin is empty: no rows" + (inputs ? " (blank lines are skipped)" : ""));
@@ -96,6 +98,7 @@ public final class EdgeMain {
       for (; line != null; row++, line = lines.next()) {
         String where = "stdin line " + lines.number + " (row " + row + ")";
         long[] code;
+        String range = "";
         try {
           if (pairs && row == 0) decimalComma(line);
           if (inputs) {
@@ -103,7 +106,14 @@ public final class EdgeMain {
             if (row == 0 && !headed && cells.length != width) return fail(err, widthRefusal(where, cells, false, b));
             double[] x = numbers(cells, width);
             if (row < 3) column0.add(cells[0]);
-            code = b.encode(x);
+            if (b.hasRangeGuard()) {
+              EdgeBundle.Encoded e = b.encodeWithRange(x);
+              code = e.code();
+              range = "," + e.range();
+            } else {
+              code = b.encode(x);
+              range = ",";
+            }
           } else {
             code = bits(line, b);
           }
@@ -113,7 +123,7 @@ public final class EdgeMain {
           return fail(err, where + ": " + e.getMessage());
         }
         double s = b.score(code).value();
-        out.println(row + "," + s + "," + (b.isOut(code) ? "out" : "in") + "," + b.pValue(s));
+        out.println(row + "," + s + "," + (b.isOut(code) ? "out" : "in") + "," + b.pValue(s) + range);
         if (row == 2) note(err, note, indexHeader, column0, width);
       }
       if (row < 3) note(err, note, indexHeader, column0, width);

@@ -185,6 +185,148 @@ class EdgeBundleTest {
     assertThat(b.maxSoftmax(new double[] {3, 0})).isCloseTo(1 / (1 + Math.exp(-2.5)), org.assertj.core.api.Assertions.within(1e-15));
   }
 
+  /** {@code b} (with its model) given a range guard of {@code bounds}. */
+  static EdgeBundle guarded(EdgeBundle b, double[] bounds) {
+    long[] codes = new long[b.uniqueCodes() * b.words()];
+    int[] counts = new int[b.uniqueCodes()];
+    for (int i = 0; i < counts.length; i++) {
+      System.arraycopy(b.code(i), 0, codes, i * b.words(), b.words());
+      counts[i] = b.count(i);
+    }
+    return new EdgeBundle(b.layerNames(), b.layerBits(), codes, counts, b.calibration(),
+        new EdgeBundle.Model(b.model().layers(), b.model().thresholds(), bounds));
+  }
+
+  /**
+   * The range ratio by hand: hidden layers h1 = relu(x0, x1) and h2 = relu(4 h1[0] - h1[1]), bounds 5
+   * and 14; the ratio is the larger of |h1| / 5 and |h2| / 14 (Euclidean norms, worked out beside).
+   */
+  @Test
+  void rangeRatioIsTheLargestLayerNormOverItsBound() {
+    List<EdgeBundle.Layer> layers = List.of(new EdgeBundle.Layer("h1", 2, 2, new float[] {1, 0, 0, 1}, new float[2]),
+        new EdgeBundle.Layer("h2", 1, 2, new float[] {4, -1}, new float[1]), new EdgeBundle.Layer("o", 1, 1, new float[] {1}, new float[1]));
+    EdgeBundle b = new EdgeBundle(List.of("h1", "h2"), new int[] {2, 1}, new long[] {0}, new int[] {1}, null,
+        new EdgeBundle.Model(layers, new double[3], new double[] {5, 14}));
+    assertThat(b.hasRangeGuard()).isTrue();
+    assertThat(b.encodeWithRange(new double[] {3, 4}).range()).isEqualTo(1.0); // |(3, 4)| / 5 = 1; (12 - 4) / 14
+    assertThat(b.encodeWithRange(new double[] {7, 0}).range()).isEqualTo(2.0); // 7 / 5 = 1.4; 28 / 14 = 2: h2 decides
+    assertThat(b.encodeWithRange(new double[] {0, 12}).range()).isEqualTo(2.4); // 12 / 5; relu(-12) = 0: h1 decides
+    assertThat(b.encodeWithRange(new double[] {-3, 4}).range()).isEqualTo(0.8); // relu: (0, 4) -> 4 / 5; relu(-4) = 0
+    assertThat(b.encodeWithRange(new double[] {-1, -2}).range()).isZero(); // every activation 0
+    for (double[] x : List.of(new double[] {3, 4}, new double[] {-3, 4}, new double[] {7, 0}))
+      assertThat(b.encodeWithRange(x).code()).isEqualTo(b.encode(x));
+    // a layer dead on every training example (bound 0): 0 while it stays dead, +Infinity once a unit is on
+    EdgeBundle dead = new EdgeBundle(List.of("h1", "h2"), new int[] {2, 1}, new long[] {0}, new int[] {1}, null,
+        new EdgeBundle.Model(layers, new double[3], new double[] {5, 0}));
+    assertThat(dead.encodeWithRange(new double[] {7, 0}).range()).isEqualTo(Double.POSITIVE_INFINITY); // h2 = 28
+    assertThat(dead.encodeWithRange(new double[] {-3, 4}).range()).isEqualTo(0.8); // h2 = 0; h1 = (0, 4)
+    // a hidden layer outside the code layout has no bound: only h2 counts here
+    EdgeBundle only2 = new EdgeBundle(List.of("h2"), new int[] {1}, new long[] {0}, new int[] {1}, null,
+        new EdgeBundle.Model(layers, new double[1], new double[] {14}));
+    assertThat(only2.encodeWithRange(new double[] {0, 12}).range()).isZero();
+    assertThat(only2.encodeWithRange(new double[] {3, 4}).range()).isEqualTo(8 / 14.0);
+    // no guard, and bounds that do not fit
+    EdgeBundle none = new EdgeBundle(List.of("h1", "h2"), new int[] {2, 1}, new long[] {0}, new int[] {1}, null, new EdgeBundle.Model(layers, new double[3]));
+    assertThat(none.hasRangeGuard()).isFalse();
+    assertThatThrownBy(() -> none.encodeWithRange(new double[] {1, 1})).isInstanceOf(IllegalStateException.class).hasMessageContaining("no range guard");
+    assertThatThrownBy(() -> new EdgeBundle(List.of("h1", "h2"), new int[] {2, 1}, new long[] {0}, new int[] {1}, null,
+        new EdgeBundle.Model(layers, new double[3], new double[] {5}))).hasMessageContaining("1 range bounds for 2 code layers");
+    for (double bad : new double[] {-1, Double.NaN, Double.POSITIVE_INFINITY})
+      assertThatThrownBy(() -> new EdgeBundle.Model(layers, new double[3], new double[] {5, bad})).hasMessageContaining("range bound 1 is " + bad);
+  }
+
+  /**
+   * The range guard in the bytes: it round-trips, a bundle without it keeps the bytes of the format
+   * before it (the resource was written by the edge module before the guard existed, from the same
+   * parameters as {@code random(21, 12, 70, MEAN, 6.5, true)}), and damage to its section is refused.
+   */
+  @Test
+  void rangeGuardIsWrittenReadAndItsDamageRefused() throws Exception {
+    byte[] before;
+    try (var in = EdgeBundleTest.class.getResourceAsStream("before-range-guard.edge")) {
+      before = in.readAllBytes();
+    }
+    EdgeBundle plain = random(21, 12, 70, EdgeBundle.Statistic.MEAN, 6.5, true);
+    assertThat(BundleFormat.toBytes(plain)).as("no guard: the bytes of the format before it").isEqualTo(before);
+    EdgeBundle old = BundleFormat.read(before, "before.edge");
+    assertThat(old.hasRangeGuard()).isFalse();
+    assertThat(old.encode(new double[] {0.5, -1, 2})).isEqualTo(plain.encode(new double[] {0.5, -1, 2}));
+
+    EdgeBundle b = guarded(plain, new double[] {3.25, 0});
+    byte[] bytes = BundleFormat.toBytes(b);
+    assertThat(bytes.length).isEqualTo(before.length + 16); // 8 bytes per code layer
+    EdgeBundle back = BundleFormat.read(bytes, "g.edge");
+    assertThat(back.model().rangeBounds()).containsExactly(3.25, 0);
+    assertThat(BundleFormat.toBytes(back)).isEqualTo(bytes);
+    double[] x = {0.25, -1, 3};
+    assertThat(back.encodeWithRange(x)).usingRecursiveComparison().isEqualTo(b.encodeWithRange(x));
+    int guardAt = bytes.length - 4 - 16;
+    for (int pos = guardAt; pos < bytes.length - 4; pos++) { // every byte of the section: the CRC tells
+      byte[] bad = bytes.clone();
+      bad[pos] ^= 0x01;
+      assertThatThrownBy(() -> BundleFormat.read(bad, "bad.edge")).hasMessageStartingWith("bad.edge: CRC32 mismatch");
+    }
+    // damage whose CRC was written after it (a writer bug, a crafted file): each refused naming the field
+    byte[] cut = withCrc(Arrays.copyOfRange(bytes, 0, bytes.length - 4 - 8)); // the last bound lost
+    assertThatThrownBy(() -> BundleFormat.read(cut, "cut.edge")).hasMessage("cut.edge: field range guard: truncated");
+    byte[] negative = bytes.clone();
+    java.nio.ByteBuffer.wrap(negative).putDouble(guardAt, -3.25);
+    assertThatThrownBy(() -> BundleFormat.read(withCrc(Arrays.copyOf(negative, negative.length - 4)), "neg.edge"))
+        .hasMessage("neg.edge: field range guard: bound of layer a is -3.25 (finite and >= 0 expected)");
+    byte[] nan = bytes.clone();
+    java.nio.ByteBuffer.wrap(nan).putDouble(guardAt + 8, Double.NaN);
+    assertThatThrownBy(() -> BundleFormat.read(withCrc(Arrays.copyOf(nan, nan.length - 4)), "nan.edge"))
+        .hasMessage("nan.edge: field range guard: bound of layer b is NaN (finite and >= 0 expected)");
+    byte[] flagOnly = before.clone(); // the flag set on a bundle without the section
+    flagOnly[15] |= BundleFormat.FLAG_RANGE;
+    assertThatThrownBy(() -> BundleFormat.read(withCrc(Arrays.copyOf(flagOnly, flagOnly.length - 4)), "flag.edge"))
+        .hasMessage("flag.edge: field range guard: truncated");
+    byte[] noModel = BundleFormat.toBytes(random(21, 12, 70, EdgeBundle.Statistic.MEAN, 6.5, false));
+    noModel[15] |= BundleFormat.FLAG_RANGE;
+    assertThatThrownBy(() -> BundleFormat.read(withCrc(Arrays.copyOf(noModel, noModel.length - 4)), "nm.edge"))
+        .hasMessage("nm.edge: field flags: a range guard without a model");
+  }
+
+  /** {@code body} followed by its CRC32, as the writer ends a bundle. */
+  private static byte[] withCrc(byte[] body) {
+    java.util.zip.CRC32 crc = new java.util.zip.CRC32();
+    crc.update(body);
+    byte[] out = Arrays.copyOf(body, body.length + 4);
+    java.nio.ByteBuffer.wrap(out, body.length, 4).putInt((int) crc.getValue());
+    return out;
+  }
+
+  /** {@code --inputs} ends each row with the range ratio, empty without a guard; codes rows keep their four columns. */
+  @Test
+  void commandLinePrintsTheRangeRatioLast() throws Exception {
+    EdgeBundle plain = random(13, 20, 70, EdgeBundle.Statistic.KTH, 6, true);
+    EdgeBundle b = guarded(plain, new double[] {4, 30});
+    Path file = tmp.resolve("g.edge"), none = tmp.resolve("n.edge");
+    Files.write(file, BundleFormat.toBytes(b));
+    Files.write(none, BundleFormat.toBytes(plain));
+    double[][] rows = {{0.5, 2, 3}, {0.05, 0.2, 0.3}, {50, -20, 30}};
+    StringBuilder in = new StringBuilder();
+    for (double[] x : rows) in.append(x[0]).append(',').append(x[1]).append(',').append(x[2]).append('\n');
+    Run g = run(new String[] {file.toString(), "--inputs"}, in.toString()), n = run(new String[] {none.toString(), "--inputs"}, in.toString());
+    assertThat(g.code).as(g.err).isZero();
+    List<String> gl = g.out.lines().toList(), nl = n.out.lines().toList();
+    assertThat(gl.get(1)).isEqualTo("row,score,decision,p_value,range");
+    assertThat(nl.get(1)).isEqualTo("row,score,decision,p_value,range");
+    for (int i = 0; i < rows.length; i++) {
+      EdgeBundle.Encoded e = b.encodeWithRange(rows[i]);
+      double s = b.score(e.code()).value();
+      String head = i + "," + s + "," + (b.isOut(e.code()) ? "out" : "in") + "," + b.pValue(s);
+      assertThat(gl.get(2 + i)).isEqualTo(head + "," + e.range());
+      assertThat(nl.get(2 + i)).as("no guard: the column is empty").isEqualTo(head + ",");
+    }
+    assertThat(gl.stream().skip(2).mapToDouble(l -> Double.parseDouble(l.substring(l.lastIndexOf(',') + 1))).max().getAsDouble())
+        .as("the scaled row goes beyond a bound").isGreaterThan(1);
+    long[] c = b.code(0);
+    StringBuilder bits = new StringBuilder();
+    for (int i = 0; i < 70; i++) bits.append((c[i >>> 6] >>> (i & 63) & 1) != 0 ? '1' : '0');
+    assertThat(run(new String[] {file.toString()}, bits + "\n").out.lines().toList()).element(1).isEqualTo("row,score,decision,p_value");
+  }
+
   @Test
   void commandLineScoresRowsAndRefusesBadBundles() throws Exception {
     EdgeBundle b = random(9, 20, 36, EdgeBundle.Statistic.KTH, 6, false);

@@ -19,7 +19,9 @@ import java.util.List;
  * Clang, a portable bit count elsewhere. Numbers are written as C99 hexadecimal floating literals,
  * so the arrays hold exactly the bundle's values; the encoder sums in the index's order in double
  * precision (compile without floating-point contraction, e.g. {@code -ffp-contract=off}, so an
- * input on a neuron's threshold binarizes as in Java). The answers equal {@link EdgeBundle}'s.
+ * input on a neuron's threshold binarizes as in Java). The answers equal {@link EdgeBundle}'s. A
+ * bundle with a range guard adds {@code axe_range_bound} and {@code axe_encode_range} (the code and
+ * the range ratio in one pass; it takes {@code sqrt}, so such a source links with {@code -lm}).
  */
 public final class EdgeCSource {
   private EdgeCSource() {}
@@ -71,7 +73,9 @@ public final class EdgeCSource {
         .append(" /* 1: the score is the mean of the k nearest distances; 0: the k-th nearest distance */\n");
     s.append("#define AXE_CALIBRATION_SIZE ").append(cal.scores().length).append('\n');
     s.append("#define AXE_HAS_MODEL ").append(m == null ? 0 : 1).append('\n');
+    s.append("#define AXE_HAS_RANGE ").append(b.hasRangeGuard() ? 1 : 0).append('\n');
     if (m != null) s.append("#define AXE_INPUTS ").append(m.layers().get(0).in()).append('\n');
+    if (b.hasRangeGuard()) s.append("#define AXE_LAYERS ").append(b.layerNames().size()).append(" /* code layers, each with a range bound */\n");
     s.append("\n/* out when the score is above this */\nextern const double axe_threshold;\n\n");
     s.append("/* the calibrated score of a code (higher = further from the training data) */\ndouble axe_score(const uint64_t code[AXE_WORDS]);\n");
     s.append("/* the Hamming distance to the k-th nearest training example on the calibrated layers */\nint axe_kth_distance(const uint64_t code[AXE_WORDS]);\n");
@@ -81,6 +85,12 @@ public final class EdgeCSource {
         + "   when an input is NaN or infinite or a hidden activation is not finite (the input is too large for\n"
         + "   the weights): do not score that code */\n"
         + "int axe_encode(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS]);\n");
+    if (b.hasRangeGuard()) s.append("/* axe_encode and, in the same pass, the range ratio: the largest over the code layers of\n"
+        + "   sqrt(sum of the layer's activations squared) / axe_range_bound[layer]. Above 1: some layer's\n"
+        + "   activations are larger than every training example's (a layer with bound 0, dead on every\n"
+        + "   training example, gives INFINITY once a unit is active). Returns as axe_encode; *range is set\n"
+        + "   only when it returns 0. Uses sqrt: link with -lm. A heuristic, not a guarantee. */\n"
+        + "int axe_encode_range(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS], double *range);\n");
     return s.append("\n#endif\n").toString();
   }
 
@@ -198,7 +208,15 @@ public final class EdgeCSource {
     s.append("static const double axe_bit_threshold[AXE_BITS] = {");
     double[] t = m.thresholds();
     for (int i = 0; i < t.length; i++) s.append(i % 6 == 0 ? "\n  " : " ").append(Double.toHexString(t[i])).append(',');
-    s.append("\n};\n#define AXE_WIDEST ").append(widest).append("\n\n");
+    s.append("\n};\n#define AXE_WIDEST ").append(widest).append("\n");
+    double[] bounds = m.rangeBounds();
+    if (bounds != null) {
+      s.append("/* per code layer: the largest norm of its activations over the training examples (an upper bound) */\n");
+      s.append("static const double axe_range_bound[AXE_LAYERS] = {");
+      for (double v : bounds) s.append(' ').append(Double.toHexString(v)).append(',');
+      s.append(" };\n");
+    }
+    s.append('\n');
     s.append("""
         /* one hidden layer with ReLU; -1 when an activation is not finite (refused, as in the index) */
         static int axe_layer(const float *w, const float *b, int out, int in, const double *h, double *z) {
@@ -212,8 +230,9 @@ public final class EdgeCSource {
           return 0;
         }
 
-        int axe_encode(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS]) {
-          double a[AXE_WIDEST], z[AXE_WIDEST];
+        /* the code and, when range is not null, the range ratio (EdgeBundle.encodeWithRange) */
+        static int axe_forward(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS], double *range) {
+          double a[AXE_WIDEST], z[AXE_WIDEST], ratio = 0;
           for (int w = 0; w < AXE_WORDS; w++) code[w] = 0;
           for (int j = 0; j < AXE_INPUTS; j++) {
             if (!isfinite(input[j])) return -1; /* refused as the index refuses it, even where the weights would give a finite code */
@@ -226,11 +245,18 @@ public final class EdgeCSource {
       EdgeBundle.Layer layer = m.layers().get(l);
       s.append("  if (axe_layer(axe_w").append(l).append(", axe_b").append(l).append(", ").append(layer.out()).append(", ").append(layer.in())
           .append(", a, z)) return -1;\n");
-      if (kept.contains(layer.name()))
-        s.append("  for (int o = 0; o < ").append(layer.out())
-            .append("; o++, bit++) if (z[o] > axe_bit_threshold[bit]) code[bit >> 6] |= (uint64_t) 1 << (bit & 63);\n");
+      int segment = kept.indexOf(layer.name());
+      if (segment >= 0) s.append("  for (int o = 0; o < ").append(layer.out())
+          .append("; o++, bit++) if (z[o] > axe_bit_threshold[bit]) code[bit >> 6] |= (uint64_t) 1 << (bit & 63);\n");
+      if (segment >= 0 && bounds != null) // as EdgeBundle.encodeWithRange: the same sums in the same order, so the same double
+        s.append("  if (range) {\n    double q = 0, r;\n    for (int o = 0; o < ").append(layer.out()).append("; o++) q += z[o] * z[o];\n")
+            .append("    r = axe_range_bound[").append(segment).append("] > 0 ? sqrt(q) / axe_range_bound[").append(segment)
+            .append("] : q > 0 ? INFINITY : 0;\n    if (r > ratio) ratio = r;\n  }\n");
       s.append("  for (int o = 0; o < ").append(layer.out()).append("; o++) a[o] = z[o];\n");
     }
-    s.append("  (void) bit;\n  return 0;\n}\n");
+    s.append("  (void) bit;\n  if (range) *range = ratio;\n  return 0;\n}\n\n");
+    s.append("int axe_encode(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS]) {\n  return axe_forward(input, code, 0);\n}\n");
+    if (bounds != null) s.append("\nint axe_encode_range(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS], double *range) {\n"
+        + "  return axe_forward(input, code, range);\n}\n");
   }
 }

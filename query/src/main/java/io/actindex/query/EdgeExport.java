@@ -36,11 +36,13 @@ public final class EdgeExport {
   public record Params(Path out, boolean withModel, Path cSource) {}
 
   /**
-   * What was written: sizes and counts, and whether the index's live examples changed since the
-   * calibration the bundle carries as stored ({@link OodCalibration#liveCheck}).
+   * What was written: sizes and counts, the range guard's bounds per code layer ({@link
+   * RangeBounds}; null when the bundle has none), notes for the user (why there is no range guard),
+   * and whether the index's live examples changed since the calibration the bundle carries as stored
+   * ({@link OodCalibration#liveCheck}).
    */
   public record Result(Path out, long bytes, int uniqueCodes, long examples, double bytesPerExample, boolean withModel, List<Path> cFiles,
-      OodCalibration.LiveCheck liveCheck) {}
+      double[] rangeBounds, List<String> notes, OodCalibration.LiveCheck liveCheck) {}
 
   public static Result run(IndexReader reader, Params p) {
     Calibration cal = OodCalibration.load(reader);
@@ -51,8 +53,9 @@ public final class EdgeExport {
       if (p.cSource() != null) EdgeCSource.checkTargets(p.cSource(), p.out());
       OutputFiles.write(p.out(), bytes, "`out`");
       List<Path> c = p.cSource() == null ? List.of() : EdgeCSource.write(b, p.cSource());
-      return new Result(p.out(), bytes.length, b.uniqueCodes(), b.examples(), bytes.length / (double) b.examples(), p.withModel(), c,
-          OodCalibration.liveCheck(reader));
+      double[] bounds = b.hasRangeGuard() ? b.model().rangeBounds().clone() : null;
+      return new Result(p.out(), bytes.length, b.uniqueCodes(), b.examples(), bytes.length / (double) b.examples(), p.withModel(), c, bounds,
+          bounds != null ? List.of() : List.of(noGuard(reader, p.withModel())), OodCalibration.liveCheck(reader));
     } catch (IOException e) {
       throw new UncheckedIOException(p.out() + ": " + e.getMessage(), e);
     }
@@ -106,7 +109,14 @@ public final class EdgeExport {
     return new EdgeBundle(names, bits, unique, counts, cal, model);
   }
 
-  /** The stored model in float32 with each code bit's binarization threshold. */
+  /** Why a bundle has no range guard, and what to do. */
+  private static String noGuard(IndexReader reader, boolean withModel) {
+    String what = "note: the bundle has no range guard (the device's check that each layer's activations stay within the training examples'"
+        + " largest norm, which the code score does not see): ";
+    return what + (withModel ? Refine.noMagnitudes(reader, "for it") : "it needs the model on the device; export with `withModel`");
+  }
+
+  /** The stored model in float32 with each code bit's binarization threshold, and the range guard when the index keeps magnitudes. */
   static EdgeBundle.Model model(IndexReader reader) {
     Mlp mlp = SoftmaxBaseline.model(reader);
     if (mlp == null) throw new BadInputException(reader.dir() + ": `withModel`, but the index holds no model (it was not built with `model`)");
@@ -135,7 +145,7 @@ public final class EdgeExport {
           }
         };
     }
-    return new EdgeBundle.Model(layers, thresholds);
+    return new EdgeBundle.Model(layers, thresholds, RangeBounds.of(reader));
   }
 
   private static float exactFloat(double v, String tensor, IndexReader reader) {

@@ -14,7 +14,9 @@ import java.util.concurrent.TimeUnit;
  * Compiles the C source of an edge bundle with the system's gcc and a small driver, and runs it:
  * each input line is {@code c W0 W1 ...} (a code as hex words) or {@code x V0 V1 ...} (a raw input,
  * doubles as hex floats); each output line is {@code kth score is_out p_value W0 W1 ...} (scores as
- * C's %a, the code's words in hex), or {@code overflow} when axe_encode refuses the input. Tests skip, saying why, when gcc is absent.
+ * C's %a, the code's words in hex), for a raw input through a bundle with a range guard followed by
+ * {@code r=RANGE} (axe_encode_range's ratio as %a; the driver exits 5 when its code differs from
+ * axe_encode's), or {@code overflow} when axe_encode refuses the input. Tests skip, saying why, when gcc is absent.
  */
 final class CEdge {
   private CEdge() {}
@@ -27,6 +29,7 @@ final class CEdge {
         char kind;
         uint64_t code[AXE_WORDS];
         while (scanf(" %c", &kind) == 1) {
+          double range = 0;
           if (kind == 'c') {
             for (int w = 0; w < AXE_WORDS; w++) {
               unsigned long long v;
@@ -42,6 +45,11 @@ final class CEdge {
               x[j] = strtod(buf, NULL);
             }
             if (axe_encode(x, code)) { printf("overflow\\n"); continue; }
+      #if AXE_HAS_RANGE
+            uint64_t again[AXE_WORDS];
+            if (axe_encode_range(x, again, &range)) return 5;
+            for (int w = 0; w < AXE_WORDS; w++) if (again[w] != code[w]) return 5;
+      #endif
       #else
             return 4;
       #endif
@@ -49,6 +57,7 @@ final class CEdge {
           double s = axe_score(code);
           printf("%d %a %d %a", axe_kth_distance(code), s, axe_is_out(code), axe_p_value(s));
           for (int w = 0; w < AXE_WORDS; w++) printf(" %llx", (unsigned long long) code[w]);
+          if (AXE_HAS_RANGE && kind != 'c') printf(" r=%a", range);
           printf("\\n");
         }
         return 0;
@@ -60,8 +69,11 @@ final class CEdge {
     assumeTrue(gcc(), "gcc not found on PATH: the compiled C source check is skipped (install gcc to run it)");
     Files.writeString(dir.resolve("driver.c"), DRIVER);
     Path exe = dir.resolve("edge-driver");
-    Process p = new ProcessBuilder("gcc", "-std=c99", "-O2", "-ffp-contract=off", "-Wall", "-Wextra", "-pedantic", "-Werror", "-o", exe.toString(),
-        dir.resolve("driver.c").toString(), dir.resolve(EdgeCSource.SOURCE).toString()).redirectErrorStream(true).start();
+    List<String> cmd = new java.util.ArrayList<>(List.of("gcc", "-std=c99", "-O2", "-ffp-contract=off", "-Wall", "-Wextra", "-pedantic", "-Werror",
+        "-o", exe.toString(), dir.resolve("driver.c").toString(), dir.resolve(EdgeCSource.SOURCE).toString()));
+    // the range ratio takes sqrt (libm); a source without a range guard links without it, as before the guard
+    if (Files.readString(dir.resolve(EdgeCSource.HEADER)).contains("#define AXE_HAS_RANGE 1")) cmd.add("-lm");
+    Process p = new ProcessBuilder(cmd).redirectErrorStream(true).start();
     String log = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
     if (!p.waitFor(300, TimeUnit.SECONDS) || p.exitValue() != 0) throw new AssertionError("gcc failed:\n" + log);
     return exe;
@@ -74,6 +86,12 @@ final class CEdge {
     String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
     if (!p.waitFor(300, TimeUnit.SECONDS) || p.exitValue() != 0) throw new AssertionError("driver exited " + p.exitValue());
     return out.lines().toList();
+  }
+
+  /** The range ratio a driver line ends with ({@code r=...}, C's %a, or inf). */
+  static double range(String line) {
+    String r = line.substring(line.lastIndexOf(" r=") + 3);
+    return r.equals("inf") ? Double.POSITIVE_INFINITY : Double.parseDouble(r);
   }
 
   static String codeLine(long[] code) {

@@ -120,6 +120,7 @@ class DigitsOodTest {
         e = OodEval.run(r, new OodEval.Params(Source.inputs(inFile, null), Source.inputs(outFile, null), npy(s.resolve("in-f.npy"), hidden(mlp, in)),
             npy(s.resolve("out-f.npy"), hidden(mlp, out)), npy(s.resolve("train-f.npy"), hidden(mlp, train)), CANDIDATES, null), Progress.NONE);
         if (seed == SEEDS[0]) checkEdgeWithModel(r, s, in, out);
+        rangeGuard(r, seed, train, in, out, report);
       }
       // the scores from the index's own kept magnitudes (8 bits, the default): the default calibration of this index is the euclidean
       // score; eval gives the refined (cosine) score beside it at the same k, statistic, layers and candidates
@@ -193,9 +194,50 @@ class DigitsOodTest {
       assertThat(Double.parseDouble(f[1])).as("C score, row " + i).isEqualTo(scored.results().get(i).score());
       assertThat(f[2]).isEqualTo(scored.results().get(i).out() ? "1" : "0");
       for (int w = 0; w < code.length; w++) assertThat(Long.parseUnsignedLong(f[4 + w], 16)).as("C code, row " + i).isEqualTo(code[w]);
+      assertThat(CEdge.range(cOut.get(i))).as("C range ratio, row " + i).isEqualTo(b.encodeWithRange(rows.get(i)).range());
     }
     System.out.printf(Locale.ROOT, "digits bundle with model: %d bytes, %d unique codes of %d examples, %.2f bytes per example%n", res.bytes(),
         res.uniqueCodes(), res.examples(), res.bytesPerExample());
+  }
+
+  /**
+   * The bundle's range guard on this seed: no training input above 1 (the bound covers the kept
+   * magnitudes' rounding); the share above 1 of the held-out inputs (false alarms), of digits 5-9
+   * and of held-out inputs multiplied by 2, 5 and 100, with the ratio's AUROC against the held-out
+   * inputs. Values in docs/commands/ood.md (far inputs).
+   */
+  private static void rangeGuard(IndexReader r, long seed, List<double[]> train, List<double[]> in, List<double[]> out, List<String> report) {
+    EdgeBundle b = EdgeExport.bundle(r, OodCalibration.load(r), true);
+    assertThat(b.hasRangeGuard()).isTrue();
+    for (int i = 0; i < train.size(); i++) assertThat(b.encodeWithRange(train.get(i)).range()).as("seed " + seed + " training " + i).isLessThanOrEqualTo(1);
+    double[] held = ranges(b, in);
+    double falseAlarms = beyond(held);
+    StringBuilder line = new StringBuilder(String.format(Locale.ROOT, "seed %d range guard: held-out in %.4f above 1 (%d inputs)", seed, falseAlarms,
+        held.length));
+    List<List<double[]>> batches = List.of(out, scaled(in, 2), scaled(in, 5), scaled(in, 100));
+    List<String> names = List.of("digits 5-9", "in x 2", "in x 5", "in x 100");
+    double[] caught = new double[batches.size()];
+    for (int k = 0; k < batches.size(); k++) {
+      double[] o = ranges(b, batches.get(k));
+      caught[k] = beyond(o);
+      line.append(String.format(Locale.ROOT, "; %s %.4f above 1, AUROC %.4f", names.get(k), caught[k], RocMetrics.auroc(held, o)));
+    }
+    report.add(line.toString());
+    // measured 2026-12-05 (seeds 11 / 22 / 33): held-out 0.0000 / 0.0056 / 0.0000; x 5 and x 100 1.0000 on every seed
+    assertThat(falseAlarms).as("seed " + seed + ": held-out inputs above 1").isLessThanOrEqualTo(0.05);
+    assertThat(caught[3]).as("seed " + seed + ": inputs x 100 above 1").isEqualTo(1.0);
+  }
+
+  private static double[] ranges(EdgeBundle b, List<double[]> rows) {
+    return rows.stream().mapToDouble(x -> b.encodeWithRange(x).range()).toArray();
+  }
+
+  private static double beyond(double[] ratios) {
+    return Arrays.stream(ratios).filter(v -> v > 1).count() / (double) ratios.length;
+  }
+
+  private static List<double[]> scaled(List<double[]> rows, double t) {
+    return rows.stream().map(x -> Arrays.stream(x).map(v -> v * t).toArray()).toList();
   }
 
   static int[] shuffled(int n, long seed) {

@@ -152,7 +152,8 @@ class EdgeCSourceTest {
     try (IndexReader r = IndexReader.open(dir)) {
       EdgeBundle b = EdgeExport.bundle(r, OodCalibration.load(r), false);
       String h = EdgeCSource.header(b);
-      assertThat(h).contains("#define AXE_BITS 70", "#define AXE_WORDS 2", "#define AXE_K 1", "not a guarantee", "#define AXE_HAS_MODEL 0");
+      assertThat(h).contains("#define AXE_BITS 70", "#define AXE_WORDS 2", "#define AXE_K 1", "not a guarantee", "#define AXE_HAS_MODEL 0",
+          "#define AXE_HAS_RANGE 0");
       assertThat(EdgeCSource.source(b)).contains("__builtin_popcountll").doesNotContain("malloc");
     }
   }
