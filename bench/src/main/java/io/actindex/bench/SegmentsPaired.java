@@ -17,9 +17,9 @@ import java.util.Map;
 /**
  * Many segments and one tombstone against one clean segment, paired per query (issue 9: "one
  * tombstone and ten segments at most 1.1x and 1.3x of the clean single segment"): the same 1M codes
- * as one segment, as ten segments of 100k kept apart (the stores {@link RealUseBench} caches), as ten
- * adds of 100k under the default merge policy (what a user who adds ten batches gets; built here
- * once and cached) and as the one segment with one id deleted ({@link RealUseBench}'s {@code tomb1}
+ * as one segment, as ten segments of 100k kept apart (the stores {@link RealUseBench} caches), as
+ * {@code adds} equal adds (10 by default) under the default merge policy (what a user who adds that
+ * many batches gets; built here once and cached; a comment line gives the segments it left) and as the one segment with one id deleted ({@link RealUseBench}'s {@code tomb1}
  * store: a copy of the clean one, then the delete), and once more as a pair on the same files: a fresh
  * copy of the clean store opened, then one id deleted in it and opened again, so that the tombstone's
  * reader and its clean reader map the same segment files (a second store's own pages cost 0-4% on
@@ -29,7 +29,7 @@ import java.util.Map;
  * ratios, over the single segment's, all measured in the same minutes.
  *
  * <p>Run: {@code java -Xmx8g -cp bench/target/benchmarks.jar -Dactindex.bench.data=DIR
- * io.actindex.bench.SegmentsPaired [data=relu,dense] [queries=in,ood] [rounds=5] [count=512] [k=10]}.
+ * io.actindex.bench.SegmentsPaired [data=relu,dense] [queries=in,ood] [rounds=5] [count=512] [k=10] [adds=10]}.
  */
 public final class SegmentsPaired {
   private SegmentsPaired() {}
@@ -37,15 +37,16 @@ public final class SegmentsPaired {
   public static void main(String[] args) {
     String[] data = WorstCaseSweep.arg(args, "data", "relu,dense").split(","), kinds = WorstCaseSweep.arg(args, "queries", "in,ood").split(",");
     int n = 1_000_000, bits = 256, rounds = Integer.parseInt(WorstCaseSweep.arg(args, "rounds", "5")),
-        count = Integer.parseInt(WorstCaseSweep.arg(args, "count", "512")), k = Integer.parseInt(WorstCaseSweep.arg(args, "k", "10"));
-    System.out.println("| data | queries | one segment µs | ten kept apart µs | / one (sum, median per query) | ten adds, default policy µs | segments | / one (sum, median per query) | load | one tombstone µs | / one (sum, median per query) | same files: clean µs | one tombstone µs | / clean (sum, median per query) |");
+        count = Integer.parseInt(WorstCaseSweep.arg(args, "count", "512")), k = Integer.parseInt(WorstCaseSweep.arg(args, "k", "10")),
+        adds = Integer.parseInt(WorstCaseSweep.arg(args, "adds", "10"));
+    System.out.println("| data | queries | one segment µs | ten kept apart µs | / one (sum, median per query) | " + adds + " adds, default policy µs | segments | / one (sum, median per query) | load | one tombstone µs | / one (sum, median per query) | same files: clean µs | one tombstone µs | / clean (sum, median per query) |");
     System.out.println("|---|---|---:|---:|---:|---:|---:|---:|---:|---:|---:|---:|---:|---:|");
     for (String d : data) {
       CodeBlock codes = BenchData.codes(d, n, bits);
       int deleted = n / 2; // the tombstone's id (RealUseBench.store)
       Path pair = BenchData.dir().resolve("paired-tomb1-" + d);
       IndexReader[] r = {IndexReader.open(RealUseBench.store(d, codes, 1, null)), IndexReader.open(RealUseBench.store(d, codes, 10, null)),
-        IndexReader.open(defaultPolicy(d, codes, 10)), IndexReader.open(RealUseBench.store(d, codes, 1, "tomb1")),
+        IndexReader.open(defaultPolicy(d, codes, adds)), IndexReader.open(RealUseBench.store(d, codes, 1, "tomb1")),
         IndexReader.open(copy(RealUseBench.store(d, codes, 1, null), pair)), null};
       r[5] = deleteOne(pair, deleted);
       long[] live = new long[(n + 63) >>> 6];
@@ -53,6 +54,8 @@ public final class SegmentsPaired {
       live[deleted >>> 6] &= ~(1L << (deleted & 63));
       if ((n & 63) != 0) live[live.length - 1] &= (1L << (n & 63)) - 1;
       IdSet clean = IdSet.of(live, n); // the clean segment's answer less the deleted id is the tombstone's
+      System.out.println("<!-- " + d + ", " + adds + " adds under the default policy leave segments of " + r[2].info().segments().stream()
+          .map(s -> Integer.toString(s.count() - s.deleted())).collect(java.util.stream.Collectors.joining(", ")) + " live codes -->");
       try {
         for (String kind : kinds) {
           long[][] qs = Arrays.copyOf(BenchData.queries(d, kind, n, bits).codeArrays(), count);
