@@ -12,8 +12,14 @@ import java.util.List;
  * the data. Past the budget, the window of {@code mergeFactor} adjacent segments whose largest
  * member is smallest (and that fits under the size cap) merges into one, so small segments merge
  * first and a big one is rewritten only when enough data has piled up beside it (choosing balanced
- * merges is common practice in search engines). When no window fits under the cap, every window
- * holds more than a cap's worth, so the count is at most {@code mergeFactor} per cap's worth.
+ * merges is common practice in search engines). Within the budget too, {@code mergeFactor} adjacent
+ * segments of one size tier ({@link #tier}: the logarithm, base {@code mergeFactor}, of a segment's
+ * live codes, rounded down) merge, as in size-tiered compaction (common practice): the
+ * budget alone let equal batches pile up (six adds of 166,667 codes kept six segments, and a query
+ * over six equal segments costs more than over a few unequal ones: docs/benchmarks.md). Every tier
+ * then holds fewer than {@code mergeFactor} adjacent segments, and the budget still bounds the count.
+ * When no window fits under the cap, every window holds more than a cap's worth, so the count is at
+ * most {@code mergeFactor} per cap's worth.
  *
  * @param maxSegmentBytes cap on one segment's codes file; {@code add} and merges split or stop
  *     there. The default keeps every array the reader allocates well inside Java's limits.
@@ -50,23 +56,39 @@ public record MergePolicy(long maxSegmentBytes, int mergeFactor, int floorCodes)
   }
 
   /**
+   * The size tier of a segment of {@code liveCodes} live codes: the logarithm, base {@code
+   * mergeFactor}, rounded down (0 for 0). A window of one tier costs at most {@code mergeFactor}
+   * times its largest member to merge and lifts its codes one tier up, so a code is rewritten about
+   * once per tier.
+   */
+  int tier(long liveCodes) {
+    int t = 0;
+    for (long c = liveCodes; c >= mergeFactor; c /= mergeFactor) t++;
+    return t;
+  }
+
+  /**
    * The next window of adjacent segments to merge, as [from, to) indices into {@code live} (live
-   * codes per segment, in id order), or null when the count is within the budget or no window fits.
+   * codes per segment, in id order), or null when none should: over the budget any window that fits
+   * under the cap, within it only a window of one size tier; of those, the one whose largest member
+   * is smallest (then the smallest sum).
    */
   int[] next(List<Long> live, int words) {
     long total = 0;
     for (long l : live) total += l;
-    if (live.size() <= budget(total)) return null;
+    boolean over = live.size() > budget(total);
     int f = mergeFactor, max = maxCodes(words);
     int best = -1;
     long bestMax = Long.MAX_VALUE, bestSum = Long.MAX_VALUE;
     for (int from = 0; from + f <= live.size(); from++) {
       long sum = 0, big = 0;
+      boolean oneTier = true;
       for (int i = from; i < from + f; i++) {
         sum += live.get(i);
         big = Math.max(big, live.get(i));
+        oneTier &= tier(live.get(i)) == tier(live.get(from));
       }
-      if (sum <= max && (big < bestMax || (big == bestMax && sum < bestSum))) {
+      if ((over || oneTier) && sum <= max && (big < bestMax || (big == bestMax && sum < bestSum))) {
         best = from;
         bestMax = big;
         bestSum = sum;
