@@ -9,17 +9,17 @@ import java.util.List;
  * O'Neil, "The Log-Structured Merge-Tree", Acta Informatica 1996) over adjacent segments. The index
  * may hold {@code mergeFactor - 1} segments per level, levels counted as the logarithm (base {@code
  * mergeFactor}) of the live codes over {@code floorCodes}: a budget that grows with the logarithm of
- * the data. Past the budget, the window of {@code mergeFactor} adjacent segments whose largest
- * member is smallest (and that fits under the size cap) merges into one, so small segments merge
- * first and a big one is rewritten only when enough data has piled up beside it (choosing balanced
- * merges is common practice in search engines). Within the budget too, {@code mergeFactor} adjacent
+ * the data. Past the budget, the window of 2 to {@code mergeFactor} adjacent segments that fits
+ * under the size cap and writes the fewest codes per segment it removes merges into one, so small
+ * segments merge first and a big one is rewritten only when enough data has piled up beside it
+ * (choosing cheap, balanced merges is common practice in search engines). Within the budget too, {@code mergeFactor} adjacent
  * segments of one size tier ({@link #tier}: the logarithm, base {@code mergeFactor}, of a segment's
  * live codes, rounded down) merge, as in size-tiered compaction (common practice): the
  * budget alone let equal batches pile up (six adds of 166,667 codes kept six segments, and a query
  * over six equal segments costs more than over a few unequal ones: docs/benchmarks.md). Every tier
  * then holds fewer than {@code mergeFactor} adjacent segments, and the budget still bounds the count.
- * When no window fits under the cap, every window holds more than a cap's worth, so the count is at
- * most {@code mergeFactor} per cap's worth.
+ * When no window fits under the cap, every two adjacent segments hold more than a cap's worth, so
+ * the count is at most two per cap's worth.
  *
  * @param maxSegmentBytes cap on one segment's codes file; {@code add} and merges split or stop
  *     there. The default keeps every array the reader allocates well inside Java's limits.
@@ -69,16 +69,44 @@ public record MergePolicy(long maxSegmentBytes, int mergeFactor, int floorCodes)
 
   /**
    * The next window of adjacent segments to merge, as [from, to) indices into {@code live} (live
-   * codes per segment, in id order), or null when none should: over the budget any window that fits
-   * under the cap, within it only a window of one size tier; of those, the one whose largest member
-   * is smallest (then the smallest sum).
+   * codes per segment, in id order), or null when none should: over the budget {@link #cheapest},
+   * within it {@link #oneTier}.
    */
   int[] next(List<Long> live, int words) {
     long total = 0;
     for (long l : live) total += l;
-    boolean over = live.size() > budget(total);
-    int f = mergeFactor, max = maxCodes(words);
-    int best = -1;
+    return live.size() > budget(total) ? cheapest(live, maxCodes(words)) : oneTier(live, maxCodes(words));
+  }
+
+  /**
+   * Of the windows of 2 to {@code mergeFactor} adjacent segments that fit under the cap ({@code
+   * max} codes), the one that writes the fewest codes per segment it removes (sum over length - 1;
+   * of equals the longer, then the first). Windows of exactly {@code mergeFactor} made the newest
+   * small segments wait for a big neighbour: 1,000 adds of 1,000 codes wrote every code about 100
+   * times, against about 16 (docs/benchmarks.md, "The merge policy's own worst case").
+   */
+  private int[] cheapest(List<Long> live, int max) {
+    int[] best = null;
+    double bestCost = Double.MAX_VALUE;
+    for (int len = mergeFactor; len >= 2; len--)
+      for (int from = 0; from + len <= live.size(); from++) {
+        long sum = 0;
+        for (int i = from; i < from + len; i++) sum += live.get(i);
+        double cost = (double) sum / (len - 1);
+        if (sum <= max && cost < bestCost) {
+          best = new int[] {from, from + len};
+          bestCost = cost;
+        }
+      }
+    return best;
+  }
+
+  /**
+   * Of the windows of {@code mergeFactor} adjacent segments of one size tier that fit under the cap,
+   * the one whose largest member is smallest (then the smallest sum).
+   */
+  private int[] oneTier(List<Long> live, int max) {
+    int f = mergeFactor, best = -1;
     long bestMax = Long.MAX_VALUE, bestSum = Long.MAX_VALUE;
     for (int from = 0; from + f <= live.size(); from++) {
       long sum = 0, big = 0;
@@ -88,7 +116,7 @@ public record MergePolicy(long maxSegmentBytes, int mergeFactor, int floorCodes)
         big = Math.max(big, live.get(i));
         oneTier &= tier(live.get(i)) == tier(live.get(from));
       }
-      if ((over || oneTier) && sum <= max && (big < bestMax || (big == bestMax && sum < bestSum))) {
+      if (oneTier && sum <= max && (big < bestMax || (big == bestMax && sum < bestSum))) {
         best = from;
         bestMax = big;
         bestSum = sum;
