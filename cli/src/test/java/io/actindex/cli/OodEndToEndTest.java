@@ -456,6 +456,47 @@ class OodEndToEndTest {
   }
 
   /**
+   * An index built with its code layers out of the model's order ({@code --layers 2,0}) cannot give
+   * a bundle that encodes (the device sets the bits layer by layer as the model computes them):
+   * export-edge --with-model refuses it with one line naming the index, both orders and the way
+   * out, writes nothing, and exports the same index without the model. It was an internal error
+   * (exit 1, "model layer 0 is out of the code layout's order").
+   */
+  @Test
+  void exportWithModelRefusesCodeLayersOutOfTheModelsOrder() throws Exception {
+    SplittableRandom r = new SplittableRandom(78);
+    Map<String, io.actindex.encode.io.SafetensorsWriter.Tensor> t = new java.util.LinkedHashMap<>();
+    long[][] shapes = {{5, 3}, {4, 5}, {2, 4}};
+    for (int l = 0; l < shapes.length; l++) {
+      t.put(2 * l + ".weight", new io.actindex.encode.io.SafetensorsWriter.Tensor(shapes[l], r.doubles(shapes[l][0] * shapes[l][1], -1, 1).toArray()));
+      t.put(2 * l + ".bias", new io.actindex.encode.io.SafetensorsWriter.Tensor(new long[] {shapes[l][0]}, r.doubles(shapes[l][0], -0.5, 0.5).toArray()));
+    }
+    Path model = tmp.resolve("three.safetensors");
+    io.actindex.encode.io.SafetensorsWriter.write(model, t, Map.of());
+    String train = Files2.floats(tmp.resolve("tin.npy"), SourcesEndToEndTest.activations(80, 3, r)).toString();
+    String cal = Files2.floats(tmp.resolve("tcal.npy"), SourcesEndToEndTest.activations(40, 3, r)).toString();
+    for (String layers : List.of("2,0", "0,2")) {
+      Path idx = tmp.resolve("t" + layers.replace(',', '_'));
+      String i = idx.toString(), out = tmp.resolve("t" + layers.replace(',', '_') + ".edge").toString();
+      assertThat(Cli.run("build", "--out", i, "--model", model.toString(), "--inputs", train, "--layers", layers).code()).isZero();
+      assertThat(Cli.run("ood", "calibrate", "--index", i, "--inputs", cal, "--score", "code").code()).isZero();
+      Map<String, String> before = Files2.checksums(idx);
+      Cli.Result x = Cli.run("export-edge", "--index", i, "--out", out, "--with-model");
+      if (layers.equals("0,2")) {
+        assertThat(x.code()).as(x.describe()).isZero();
+        continue;
+      }
+      assertThat(x.code()).as(x.describe()).isEqualTo(2);
+      assertThat(x.err().strip()).as(x.describe()).doesNotContain("\n").doesNotContain("`").contains(i + ": ")
+          .contains("--with-model").contains("model's order (0, 2)").contains("in the order 2, 0").contains("--layers 0,2");
+      assertThat(Path.of(out)).doesNotExist();
+      assertThat(Files2.checksums(idx)).isEqualTo(before);
+      Cli.Result codesOnly = Cli.run("export-edge", "--index", i, "--out", out);
+      assertThat(codesOnly.code()).as(codesOnly.describe()).isZero();
+    }
+  }
+
+  /**
    * {@code --threads}: calibrate, score (full and decision-only) and eval print the same bytes on 1
    * and 3 threads and by default (one per core, shown in the help).
    */

@@ -123,8 +123,12 @@ public final class BundleFormat {
 
   /** Reads and checks a bundle from its bytes; {@code source} names it in messages. */
   public static EdgeBundle read(byte[] bytes, String source) throws EdgeFormatException {
-    if (bytes.length < MAGIC.length + 8 || !Arrays.equals(Arrays.copyOf(bytes, MAGIC.length), MAGIC))
+    if (bytes.length == 0) throw new EdgeFormatException(source + ": the file is empty (0 bytes), not a bundle");
+    int head = Math.min(bytes.length, MAGIC.length);
+    if (!Arrays.equals(bytes, 0, head, MAGIC, 0, head))
       throw new EdgeFormatException(source + ": not an actindex edge bundle (magic bytes differ)");
+    if (bytes.length < MAGIC.length + 8) // magic, version and at least the CRC
+      throw new EdgeFormatException(source + ": truncated: " + bytes.length + " bytes, the start of a bundle but too short to hold one");
     ByteBuffer in = ByteBuffer.wrap(bytes);
     in.position(MAGIC.length);
     int version = in.getInt();

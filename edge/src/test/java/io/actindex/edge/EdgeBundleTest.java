@@ -160,6 +160,24 @@ class EdgeBundleTest {
         .hasMessageContaining("not an actindex edge bundle");
   }
 
+  /**
+   * An empty file, and one cut inside its first 16 bytes (magic and version) while what is there
+   * reads as a bundle's start, are told as such: both were told "magic bytes differ", which they do not.
+   */
+  @Test
+  void emptyAndShortFilesAreToldAsSuch() {
+    byte[] bytes = BundleFormat.toBytes(random(7, 30, 70, EdgeBundle.Statistic.MEAN, 5, true));
+    assertThatThrownBy(() -> BundleFormat.read(new byte[0], "empty.edge")).hasMessage("empty.edge: the file is empty (0 bytes), not a bundle");
+    for (int n : new int[] {1, 7, 8, 12, 15}) {
+      byte[] cut = Arrays.copyOf(bytes, n);
+      assertThatThrownBy(() -> BundleFormat.read(cut, "cut.edge")).as(n + " bytes")
+          .hasMessage("cut.edge: truncated: " + n + " bytes, the start of a bundle but too short to hold one");
+    }
+    byte[] other = Arrays.copyOf(bytes, 12);
+    other[3] = 'x';
+    assertThatThrownBy(() -> BundleFormat.read(other, "other.edge")).hasMessage("other.edge: not an actindex edge bundle (magic bytes differ)");
+  }
+
   @Test
   void encodeFollowsTheForwardPass() {
     // one hidden layer of 2 units (weights [[1, -1], [0.5, 0.5]], bias [0, -1]) and thresholds 0 and 0.25
@@ -367,7 +385,7 @@ class EdgeBundleTest {
     locked.toFile().setReadable(false, false);
     if (!Files.isReadable(locked)) assertRefused(run(new String[] {locked.toString()}, ""), locked + ": permission denied"); // not as root
     Path empty = Files.createFile(tmp.resolve("empty.edge"));
-    assertRefused(run(new String[] {empty.toString()}, ""), empty + ": not an actindex edge bundle");
+    assertRefused(run(new String[] {empty.toString()}, ""), empty + ": the file is empty (0 bytes), not a bundle");
     Path cut = tmp.resolve("cut.edge");
     Files.write(cut, Arrays.copyOf(Files.readAllBytes(file), 100));
     assertRefused(run(new String[] {cut.toString()}, ""), cut + ": CRC32 mismatch");
