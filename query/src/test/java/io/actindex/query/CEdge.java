@@ -79,6 +79,28 @@ final class CEdge {
     return exe;
   }
 
+  /**
+   * The same driver compiled as C++ (g++) against the source compiled as C (gcc): links only when
+   * the header declares its functions {@code extern "C"}. Skips the test when there is no g++.
+   */
+  static Path compileCpp(Path dir) throws IOException, InterruptedException {
+    assumeTrue(gcc() && works("g++", "--version"), "gcc or g++ not found on PATH: the C++ check is skipped");
+    Files.writeString(dir.resolve("driver.c"), DRIVER);
+    Path obj = dir.resolve("edge.o"), exe = dir.resolve("edge-driver-cpp");
+    String header = Files.readString(dir.resolve(EdgeCSource.HEADER));
+    List<String> c = List.of("gcc", "-std=c99", "-O2", "-ffp-contract=off", "-Wall", "-Wextra", "-pedantic", "-Werror", "-c", "-o", obj.toString(),
+        dir.resolve(EdgeCSource.SOURCE).toString());
+    List<String> cpp = new java.util.ArrayList<>(List.of("g++", "-std=c++11", "-O2", "-ffp-contract=off", "-Wall", "-Wextra", "-Werror", "-o",
+        exe.toString(), "-x", "c++", dir.resolve("driver.c").toString(), "-x", "none", obj.toString()));
+    if (header.contains("#define AXE_HAS_RANGE 1")) cpp.add("-lm");
+    for (List<String> cmd : List.of(c, cpp)) {
+      Process p = new ProcessBuilder(cmd).redirectErrorStream(true).start();
+      String log = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
+      if (!p.waitFor(300, TimeUnit.SECONDS) || p.exitValue() != 0) throw new AssertionError(cmd.get(0) + " failed:\n" + log);
+    }
+    return exe;
+  }
+
   static List<String> run(Path exe, List<String> lines) throws IOException, InterruptedException {
     Path in = Files.createTempFile(exe.getParent(), "in", ".txt");
     Files.write(in, lines);
@@ -107,8 +129,12 @@ final class CEdge {
   }
 
   private static boolean gcc() {
+    return works("gcc", "--version");
+  }
+
+  private static boolean works(String... cmd) {
     try {
-      Process p = new ProcessBuilder("gcc", "--version").redirectErrorStream(true).start();
+      Process p = new ProcessBuilder(cmd).redirectErrorStream(true).start();
       p.getInputStream().readAllBytes();
       return p.waitFor(60, TimeUnit.SECONDS) && p.exitValue() == 0;
     } catch (IOException e) {

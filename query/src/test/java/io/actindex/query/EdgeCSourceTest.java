@@ -109,6 +109,8 @@ class EdgeCSourceTest {
     // refused: (big, big) takes unit 0 to +Infinity, (big, -big) and (MAX, -MAX) unit 1, (NaN, 0) both units to NaN;
     // kept: (-big, -big) and (-big, big) reach -Infinity only, which ReLU takes to 0 (as in the index)
     assertThat(refused).isEqualTo(4);
+    // the header serves C++ firmware too: the driver built as C++ against the C object answers alike
+    assertThat(CEdge.run(CEdge.compileCpp(c), lines)).isEqualTo(out);
   }
 
   @Test
