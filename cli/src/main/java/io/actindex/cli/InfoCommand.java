@@ -172,6 +172,9 @@ final class InfoCommand implements Callable<Integer> {
           Integer.toString(s.deleted()), Units.bytes(s.bytes()), memory(s.searcher()), Integer.toString(s.droppedConstantBits()),
           plan(s.searcher())));
     t.print(out, "  ");
+    if (info.segments().size() > 1)
+      out.println("  a query searches each of the " + info.segments().size() + " segments (at 1M codes measured 1.1-1.4x the time of one segment); "
+          + "'actindex compact' merges them into one");
     if (!props.isEmpty()) {
       out.println();
       out.println("build settings:");

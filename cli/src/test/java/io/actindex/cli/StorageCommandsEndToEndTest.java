@@ -96,6 +96,16 @@ class StorageCommandsEndToEndTest {
   }
 
   @Test
+  void infoPointsToCompactWhileThereIsMoreThanOneSegment() throws Exception {
+    int segments = json(Cli.run("info", "--index", idx.toString(), "--format", "json")).get("segments").size();
+    assertThat(segments).as("the fixture's build and add").isEqualTo(2);
+    assertThat(ok(Cli.run("info", "--index", idx.toString())).out())
+        .contains("a query searches each of the 2 segments").contains("'actindex compact' merges them into one");
+    ok(Cli.run("compact", "--index", idx.toString()));
+    assertThat(ok(Cli.run("info", "--index", idx.toString())).out()).doesNotContain("actindex compact");
+  }
+
+  @Test
   void aKeysFileSavedWithAByteOrderMarkAndCrlfDeletesItsKeys() throws Exception {
     // Windows editors write "\uFEFF" first and CRLF line ends; the BOM was read as part of the
     // first key, which was then "not in the index" (the metadata CSV accepts a BOM).
