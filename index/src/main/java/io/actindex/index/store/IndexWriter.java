@@ -123,6 +123,7 @@ public final class IndexWriter implements AutoCloseable {
         Path metaDir = dir.resolve(META_DIR);
         if (!Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
         io.syncDir(dir); // the manifest read is durable before anything it does not name is deleted (a writer killed before its folder fsync)
+        lock.ensureHeld(); // else the manifest read may be stale and what it does not name another writer's commit
         meta = MetaWriter.open(metaDir, io.meta(), m.metaCommit());
         IndexWriter w = new IndexWriter(dir, io, lock, meta, m, deleted);
         w.cleanUp();
@@ -451,18 +452,28 @@ public final class IndexWriter implements AutoCloseable {
    */
   private void mutate(Mutation m) {
     try {
+      lock.ensureHeld();
       m.run();
     } catch (IOException e) {
       boolean full = DiskFull.in(e, dir); // before fail() frees what the change wrote
+      RuntimeException lost = lost(e);
       boolean undone = fail(e);
+      if (lost != null) throw lost;
       if (full) throw diskFull(e, undone);
       throw new UncheckedIOException("index " + dir + ": write failed; the last commit stands", e);
     } catch (RuntimeException | Error e) {
       boolean full = DiskFull.in(e, dir);
+      RuntimeException lost = lost(e);
       boolean undone = fail(e);
+      if (lost != null) throw lost;
       if (full) throw diskFull(e, undone);
       throw e;
     }
+  }
+
+  /** The refusal to report when the lock file was taken from this writer (the failure may come from another writer's work), else null. */
+  private RuntimeException lost(Throwable e) {
+    return lock.held() ? null : lock.lost(e);
   }
 
   /** A full disk (exit code 2, naming the folder), saying whether the change was undone or had been published. */
@@ -475,7 +486,8 @@ public final class IndexWriter implements AutoCloseable {
   private boolean fail(Throwable cause) {
     boolean undone = false;
     try {
-      undone = newestOnDisk() == manifest.generation();
+      // with the lock file taken from this writer, files no manifest names may be another writer's work: kept
+      undone = lock.held() && newestOnDisk() == manifest.generation();
       if (undone) deleteUnreferenced();
     } catch (IOException | RuntimeException e) {
       cause.addSuppressed(e);
@@ -513,6 +525,7 @@ public final class IndexWriter implements AutoCloseable {
    * is only a warning ({@link #takeWarnings()}).
    */
   private void publish(Manifest next) throws IOException {
+    lock.ensureHeld();
     next.commit(io, dir);
     manifest = next;
     cleanUp();
