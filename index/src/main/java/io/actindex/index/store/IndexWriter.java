@@ -123,7 +123,7 @@ public final class IndexWriter implements AutoCloseable {
         Path metaDir = dir.resolve(META_DIR);
         if (!Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
         io.syncDir(dir); // the manifest read is durable before anything it does not name is deleted (a writer killed before its folder fsync)
-        lock.ensureHeld(); // else the manifest read may be stale and what it does not name another writer's commit
+        ensureCurrent(lock, dir, gen); // else what the manifest read does not name may be another writer's commit
         meta = MetaWriter.open(metaDir, io.meta(), m.metaCommit());
         IndexWriter w = new IndexWriter(dir, io, lock, meta, m, deleted);
         w.cleanUp();
@@ -452,7 +452,7 @@ public final class IndexWriter implements AutoCloseable {
    */
   private void mutate(Mutation m) {
     try {
-      lock.ensureHeld();
+      ensureCurrent(lock, dir, manifest.generation());
       m.run();
     } catch (IOException e) {
       boolean full = DiskFull.in(e, dir); // before fail() frees what the change wrote
@@ -515,6 +515,17 @@ public final class IndexWriter implements AutoCloseable {
     return undone;
   }
 
+  /**
+   * Refuses to go on unless this writer still holds {@code writer.lock} (not removed or replaced
+   * while held) and generation {@code gen} is the newest on disk: otherwise another writer may have
+   * committed, and what this writer's manifest does not name may be that writer's files. Checked
+   * before each step that deletes or commits.
+   */
+  private static void ensureCurrent(WriteLock lock, Path dir, long gen) {
+    lock.ensureHeld();
+    if (Manifest.newestGeneration(dir) != gen) throw lock.lost(null);
+  }
+
   private long newestOnDisk() {
     return Manifest.newestGeneration(dir);
   }
@@ -525,7 +536,7 @@ public final class IndexWriter implements AutoCloseable {
    * is only a warning ({@link #takeWarnings()}).
    */
   private void publish(Manifest next) throws IOException {
-    lock.ensureHeld();
+    ensureCurrent(lock, dir, manifest.generation());
     next.commit(io, dir);
     manifest = next;
     cleanUp();
@@ -543,6 +554,7 @@ public final class IndexWriter implements AutoCloseable {
 
   /** Deletes our files that the current manifest does not name (old generations, crash leftovers). */
   private void deleteUnreferenced() throws IOException {
+    ensureCurrent(lock, dir, manifest.generation());
     Set<String> keep = new HashSet<>();
     keep.add(Manifest.fileName(manifest.generation()));
     for (FileRef f : manifest.files()) keep.add(f.name());
