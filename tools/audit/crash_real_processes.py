@@ -11,9 +11,13 @@ processes on copies of the demo's index, and
      --format json of a fixed query file, info's counts, ood score; for the add with a merge, the
      add's commit alone must read the same as after); the next write works (no stale lock); no
      leftover or temporary file stays after that next write; kills chained on one folder leave a bounded number of files;
-  2. starts two writers on one index at once (add+add, add+delete, compact+add): the second must be
-     refused (exit 2, a message naming the index and another writer) and the index must equal the
-     first one's result; a reader (nearest) run during a write must answer from before or after;
+  2. starts two writers on one index (add+add, add+delete, compact+add, add --meta+compact,
+     delete --where+compact, compact+delete --where): once the first holds writer.lock (seen in
+     /proc/locks) it is stopped (SIGSTOP) while the second runs, then continued: the second must be
+     refused (exit 2, one line naming the index and another writer) and the index must equal the
+     first one's result; a trial is inconclusive only when the first was never seen holding the
+     lock, and the count of conclusive ones is printed; a reader (nearest) run during a write must
+     answer from before or after;
   3. the same checks as 1 after SIGINT and SIGTERM;
   4. kills commands that write a file outside the index (dupes --pairs, report --out) with each
      signal: the target holds its old bytes or the whole new file (pairs: the bytes of an
@@ -48,14 +52,15 @@ def java_cmd():
 
 
 class Tool:
-    def __init__(self, work):
+    def __init__(self, work, jar):
         self.java = java_cmd()
+        self.jar = jar
         self.work = work
         self.jtmp = os.path.join(work, "java-tmp")  # every run's java.io.tmpdir: nothing may stay in it
         os.makedirs(self.jtmp, exist_ok=True)
 
     def argv(self, args, props=()):
-        return self.java + ["-Djava.io.tmpdir=" + self.jtmp] + list(props) + ["-jar", JAR] + args
+        return self.java + ["-Djava.io.tmpdir=" + self.jtmp] + list(props) + ["-jar", self.jar] + args
 
     def run(self, args, timeout=300, props=()):
         p = subprocess.run(self.argv(args, props), capture_output=True, text=True, timeout=timeout)
@@ -410,6 +415,9 @@ class Audit:
 
     # ---------- 2: two writers, and a reader during a write ----------
     def two_writers(self, first, second_args, trials):
+        """The second writer starts once the first holds writer.lock (seen in /proc/locks) and runs while the first is
+        stopped (SIGSTOP) holding it: the second's whole attempt falls inside the first's hold, as with a slow first
+        writer, and must be refused. A trial is inconclusive only when the first was never seen holding the lock."""
         label = f"{first} + second writer ({second_args[0]})"
         base, args = self.commands[first]
         before, after, dur, _ = self.refs[first]
@@ -419,22 +427,31 @@ class Audit:
             lockfile = os.path.join(idx, "writer.lock")
             p = self.t.start([a.replace("{idx}", idx) for a in args], "first")
             held = wait_lock(p, lockfile)
-            q_rc, _, q_err = self.t.run([a.replace("{idx}", idx) for a in second_args])
-            still = p.poll() is None
-            rc, _, err = finish(p)
+            if held:
+                os.kill(p.pid, signal.SIGSTOP)
+                held = holds_lock(p.pid, lockfile)  # it may have released the lock between the look and the stop
+                if not held:
+                    os.kill(p.pid, signal.SIGCONT)
             self.rows[label]["trials"] += 1
             where = f"trial {trial}"
             if not held:
-                self.rows[label]["first never held the lock while watched (inconclusive)"] += 1
+                rc, _, err = finish(p)
+                self.rows[label]["first never seen holding the lock (inconclusive)"] += 1
+                if rc != 0:
+                    self.fail(label, "first writer failed", where + ": " + err[:300])
                 continue
+            try:
+                q_rc, _, q_err = self.t.run([a.replace("{idx}", idx) for a in second_args])
+            finally:
+                os.kill(p.pid, signal.SIGCONT)
+            rc, _, err = finish(p)
+            self.rows[label]["conclusive"] += 1
             if rc != 0:
                 self.fail(label, "first writer failed", where + ": " + err[:300])
-            if q_rc == 2 and "another writer" in q_err and idx in q_err:
-                self.rows[label]["second refused, exit 2, names index and writer"] += 1
-                self.rows[label][f"second says: {shape(q_err.strip().splitlines()[-1])}"] += 1
-            elif q_rc == 0 and not still:
-                self.rows[label]["first finished before the second locked (inconclusive)"] += 1
-                continue
+            lines = q_err.strip().splitlines()
+            if q_rc == 2 and len(lines) == 1 and "another writer" in q_err and idx in q_err:
+                self.rows[label]["second refused, exit 2, one line naming index and writer"] += 1
+                self.rows[label][f"second says: {shape(lines[-1])}"] += 1
             else:
                 self.fail(label, "second writer not refused clearly", f"{where}: exit {q_rc}: {q_err.strip()[:300]}")
             if self.state(idx) != after:
@@ -488,20 +505,27 @@ class Audit:
         self.rows[label][f"files in the folder per kill: {min(sizes)}-{max(sizes)}, after the next write {len(listing(idx))}"] += 1
 
 
-def wait_lock(p, lockfile, limit=30):
+def wait_lock(p, lockfile, limit=60):
     """Waits until process p holds the POSIX lock on lockfile (/proc/locks, read only: nothing here takes a lock)."""
     t0 = time.monotonic()
     while p.poll() is None and time.monotonic() - t0 < limit:
-        try:
-            ino = os.stat(lockfile).st_ino
-            with open("/proc/locks") as f:
-                for line in f:
-                    parts = line.split()
-                    if len(parts) > 5 and parts[4] == str(p.pid) and parts[5].endswith(":" + str(ino)):
-                        return True
-        except FileNotFoundError:
-            pass
-        time.sleep(0.01)
+        if holds_lock(p.pid, lockfile):
+            return True
+        time.sleep(0.002)
+    return False
+
+
+def holds_lock(pid, lockfile):
+    """Whether process pid holds a lock on lockfile, per /proc/locks."""
+    try:
+        ino = os.stat(lockfile).st_ino
+    except FileNotFoundError:
+        return False
+    with open("/proc/locks") as f:
+        for line in f:
+            parts = line.split()
+            if len(parts) > 5 and parts[4] == str(pid) and parts[5].endswith(":" + str(ino)):
+                return True
     return False
 
 
@@ -522,44 +546,50 @@ def main():
     ap.add_argument("--only", default="", help="comma-separated command names to run (default: all)")
     ap.add_argument("--signals", default="KILL,INT,TERM", help="which signals interrupt the commands")
     ap.add_argument("--seed", type=int, default=None)
+    ap.add_argument("--jar", default=JAR, help="the jar to run (a copy lets the tree be rebuilt during a run)")
     a = ap.parse_args()
     seed = a.seed if a.seed is not None else random.SystemRandom().randrange(1 << 31)
     print(f"seed {seed} (repeat with --seed {seed})", flush=True)
-    if not os.path.exists(JAR):
-        sys.exit(f"{JAR} is missing: run bin/actindex --help first")
+    if not os.path.exists(a.jar):
+        sys.exit(f"{a.jar} is missing: run bin/actindex --help first")
     os.makedirs(a.work, exist_ok=True)
-    au = Audit(Tool(a.work), a.work, random.Random(seed))
+    au = Audit(Tool(a.work, a.jar), a.work, random.Random(seed))
     print("set-up (demo, batches, reference states):", flush=True)
     only = [s.strip() for s in a.only.split(",") if s.strip()]
-    needed = set(only) | ({"add", "compact", "add --meta"} if "pairs" in only else set()) if only else None
+    needed = set(only) | ({"add", "compact", "add --meta", "delete --where"} if "pairs" in only else set()) if only else None
     au.setup(needed)
     names = [n for n in au.commands if not only or n in only]
     sigs = [getattr(signal, "SIG" + x.strip()) for x in a.signals.split(",")]
-    for n in names if signal.SIGKILL in sigs else []:
-        print(f"SIGKILL: {n} x {a.trials}", flush=True)
-        au.interrupted(n, a.trials, signal.SIGKILL)
-    for sig in [x for x in sigs if x != signal.SIGKILL]:
-        for n in names:
-            print(f"{sig.name}: {n} x {a.signal_trials}", flush=True)
-            au.interrupted(n, a.signal_trials, sig)
-    if not only or "outputs" in only:
-        for sig in sigs:
-            print(f"{sig.name}: output files x {a.output_trials}", flush=True)
-            au.outputs_interrupted(a.output_trials, sig)
-    if not only or "pairs" in only:
-        au.build_onto_index()
-        D = au.d
-        print("two writers", flush=True)
-        au.two_writers("add", ["add", "--index", "{idx}", "--inputs", D + "/second.npy"], a.pair_trials)
-        au.two_writers("add", ["delete", "--index", "{idx}", "--where", "line = L1"], a.pair_trials)
-        au.two_writers("compact", ["add", "--index", "{idx}", "--inputs", D + "/second.npy"], a.pair_trials)
-        au.two_writers("add --meta", ["compact", "--index", "{idx}"], a.pair_trials)
-        print("readers during writes", flush=True)
-        au.reader_during_write("add", a.pair_trials)
-        au.reader_during_write("compact", a.pair_trials)
-        print("chained kills", flush=True)
-        au.chained("add", 12)
-        au.chained("compact", 8)
+    try:  # Ctrl-C (SIGINT to this script) stops the run and prints the table of the trials done
+        if not only or "pairs" in only:  # first: the shortest part
+            au.build_onto_index()
+            D = au.d
+            print("two writers", flush=True)
+            au.two_writers("add", ["add", "--index", "{idx}", "--inputs", D + "/second.npy"], a.pair_trials)
+            au.two_writers("add", ["delete", "--index", "{idx}", "--where", "line = L1"], a.pair_trials)
+            au.two_writers("compact", ["add", "--index", "{idx}", "--inputs", D + "/second.npy"], a.pair_trials)
+            au.two_writers("add --meta", ["compact", "--index", "{idx}"], a.pair_trials)
+            au.two_writers("delete --where", ["compact", "--index", "{idx}"], a.pair_trials)
+            au.two_writers("compact", ["delete", "--index", "{idx}", "--where", "line = L2"], a.pair_trials)
+            print("readers during writes", flush=True)
+            au.reader_during_write("add", a.pair_trials)
+            au.reader_during_write("compact", a.pair_trials)
+            print("chained kills", flush=True)
+            au.chained("add", 12)
+            au.chained("compact", 8)
+        for n in names if signal.SIGKILL in sigs else []:
+            print(f"SIGKILL: {n} x {a.trials}", flush=True)
+            au.interrupted(n, a.trials, signal.SIGKILL)
+        for sig in [x for x in sigs if x != signal.SIGKILL]:
+            for n in names:
+                print(f"{sig.name}: {n} x {a.signal_trials}", flush=True)
+                au.interrupted(n, a.signal_trials, sig)
+        if not only or "outputs" in only:
+            for sig in sigs:
+                print(f"{sig.name}: output files x {a.output_trials}", flush=True)
+                au.outputs_interrupted(a.output_trials, sig)
+    except KeyboardInterrupt:
+        print("\ninterrupted: the table counts the trials done so far", flush=True)
     print(f"\nseed {seed}\n")
     print("| command | trials | outcomes | failures by kind |")
     print("|---|---|---|---|")
@@ -571,6 +601,10 @@ def main():
         total += n
         print(f"| {cmd} | {n} | " + "; ".join(f"{k}: {v}" for k, v in outcomes.items()) + " | "
               + ("; ".join(f"{k}: {v}" for k, v in failures.items()) or "none") + " |")
+    pairs = [c for cmd, c in au.rows.items() if "second writer" in cmd]
+    if pairs:
+        print(f"\ntwo writers: {sum(c['trials'] for c in pairs)} trials, {sum(c['conclusive'] for c in pairs)} conclusive "
+              "(the second tried while the first held the lock)")
     print(f"\n{total} trials and reads; {len(au.notes)} failures")
     for n in au.notes:
         print("  " + n)

@@ -24,6 +24,8 @@ import org.apache.lucene.index.TermsEnum;
 import org.apache.lucene.search.DocIdSetIterator;
 import org.apache.lucene.store.Directory;
 import org.apache.lucene.store.FSDirectory;
+import org.apache.lucene.store.Lock;
+import org.apache.lucene.store.LockObtainFailedException;
 import org.apache.lucene.util.Bits;
 import org.apache.lucene.util.BytesRef;
 
@@ -123,9 +125,18 @@ public final class MetaWriter implements Closeable {
   public static MetaWriter open(Path metaDir, Opener opener, String segmentsFile) throws IOException {
     Directory dir = opener.open(metaDir);
     try {
-      IndexCommit commit = MetaStore.findCommit(metaDir, dir, segmentsFile);
-      for (String name : dir.listAll())
-        if (otherCommit(name, segmentsFile)) dir.deleteFile(name);
+      IndexCommit commit;
+      // Lucene's lock, held while deleting: another process's writer holds it only when writer.lock was taken from that
+      // writer (removed while held), and then its commit in progress must not be deleted here
+      try (Lock held = dir.obtainLock(IndexWriter.WRITE_LOCK_NAME)) {
+        commit = MetaStore.findCommit(metaDir, dir, segmentsFile);
+        for (String name : dir.listAll())
+          if (otherCommit(name, segmentsFile)) dir.deleteFile(name);
+      } catch (LockObtainFailedException e) {
+        throw new BadInputException("index " + metaDir.getParent() + " is locked by another writer (another process holds its "
+            + metaDir.getFileName() + "/" + IndexWriter.WRITE_LOCK_NAME + ", though writer.lock was free: was it removed?); wait "
+            + "for that one to end and run this again", e);
+      }
       KeepPublishedPolicy policy = new KeepPublishedPolicy();
       policy.publish(commit.getGeneration());
       IndexWriterConfig cfg = config(policy).setOpenMode(IndexWriterConfig.OpenMode.APPEND).setIndexCommit(commit);

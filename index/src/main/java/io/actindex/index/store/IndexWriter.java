@@ -123,6 +123,7 @@ public final class IndexWriter implements AutoCloseable {
         Path metaDir = dir.resolve(META_DIR);
         if (!Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
         io.syncDir(dir); // the manifest read is durable before anything it does not name is deleted (a writer killed before its folder fsync)
+        ensureCurrent(lock, dir, gen); // else what the manifest read does not name may be another writer's commit
         meta = MetaWriter.open(metaDir, io.meta(), m.metaCommit());
         IndexWriter w = new IndexWriter(dir, io, lock, meta, m, deleted);
         w.cleanUp();
@@ -451,18 +452,28 @@ public final class IndexWriter implements AutoCloseable {
    */
   private void mutate(Mutation m) {
     try {
+      ensureCurrent(lock, dir, manifest.generation());
       m.run();
     } catch (IOException e) {
       boolean full = DiskFull.in(e, dir); // before fail() frees what the change wrote
+      RuntimeException lost = lost(e);
       boolean undone = fail(e);
+      if (lost != null) throw lost;
       if (full) throw diskFull(e, undone);
       throw new UncheckedIOException("index " + dir + ": write failed; the last commit stands", e);
     } catch (RuntimeException | Error e) {
       boolean full = DiskFull.in(e, dir);
+      RuntimeException lost = lost(e);
       boolean undone = fail(e);
+      if (lost != null) throw lost;
       if (full) throw diskFull(e, undone);
       throw e;
     }
+  }
+
+  /** The refusal to report when the lock file was taken from this writer (the failure may come from another writer's work), else null. */
+  private RuntimeException lost(Throwable e) {
+    return lock.held() ? null : lock.lost(e);
   }
 
   /** A full disk (exit code 2, naming the folder), saying whether the change was undone or had been published. */
@@ -475,7 +486,8 @@ public final class IndexWriter implements AutoCloseable {
   private boolean fail(Throwable cause) {
     boolean undone = false;
     try {
-      undone = newestOnDisk() == manifest.generation();
+      // with the lock file taken from this writer, files no manifest names may be another writer's work: kept
+      undone = lock.held() && newestOnDisk() == manifest.generation();
       if (undone) deleteUnreferenced();
     } catch (IOException | RuntimeException e) {
       cause.addSuppressed(e);
@@ -503,6 +515,17 @@ public final class IndexWriter implements AutoCloseable {
     return undone;
   }
 
+  /**
+   * Refuses to go on unless this writer still holds {@code writer.lock} (not removed or replaced
+   * while held) and generation {@code gen} is the newest on disk: otherwise another writer may have
+   * committed, and what this writer's manifest does not name may be that writer's files. Checked
+   * before each step that deletes or commits.
+   */
+  private static void ensureCurrent(WriteLock lock, Path dir, long gen) {
+    lock.ensureHeld();
+    if (Manifest.newestGeneration(dir) != gen) throw lock.lost(null);
+  }
+
   private long newestOnDisk() {
     return Manifest.newestGeneration(dir);
   }
@@ -513,6 +536,7 @@ public final class IndexWriter implements AutoCloseable {
    * is only a warning ({@link #takeWarnings()}).
    */
   private void publish(Manifest next) throws IOException {
+    ensureCurrent(lock, dir, manifest.generation());
     next.commit(io, dir);
     manifest = next;
     cleanUp();
@@ -530,6 +554,7 @@ public final class IndexWriter implements AutoCloseable {
 
   /** Deletes our files that the current manifest does not name (old generations, crash leftovers). */
   private void deleteUnreferenced() throws IOException {
+    ensureCurrent(lock, dir, manifest.generation());
     Set<String> keep = new HashSet<>();
     keep.add(Manifest.fileName(manifest.generation()));
     for (FileRef f : manifest.files()) keep.add(f.name());
