@@ -74,7 +74,7 @@ final class MihSearcher implements CodeSearcher {
   private static final int[] NO_TABLES = {};
 
   /** The masked scan's head ({@link #head}): the first n / HEAD_SHARE codes, at least HEAD_MIN... */
-  private static final int HEAD_SHARE = 64, HEAD_MIN = 1024;
+  static final int HEAD_SHARE = 64, HEAD_MIN = 1024;
   /** ...then on while k codes at distance 0 are expected within this share of the codes. */
   private static final double HEAD_REACH = 0.125;
 
@@ -157,7 +157,8 @@ final class MihSearcher implements CodeSearcher {
   /**
    * The planner's order: an empty filter answers at once and a selective one is walked (the scan
    * does both); under a mask the scan's head runs first ({@link #head}) and answers when it holds k
-   * codes at distance 0; then the partition finds a first k-th distance B from the nearest clusters
+   * codes at distance 0 (or, when only codes at 0 can still enter, after reading on as far as the
+   * partition's try would); then the partition finds a first k-th distance B from the nearest clusters
    * (under a mask, with the mask's distances to the centres and radii, starting from a copy of a
    * full head's top), and whichever of the rest of the partition, the tables (every shell up to B)
    * or the scan (from where the head stopped) is estimated cheapest finishes the query, with B as
@@ -206,6 +207,18 @@ final class MihSearcher implements CodeSearcher {
       boolean usePartition = partition != null && (auto || strategy == SearchPlanOptions.Strategy.PARTITION);
       if (usePartition && head != null && head.top.size() == kk) {
         partition.begin(sel, mask, codes.layout().bits(), s.visit, accept, head.top, 0, maxDist); // the clusters in order, none scanned
+        if (head.top.bound() == 1) {
+          // only codes at distance 0 can still enter: the scan stops at the k-th of them, while the
+          // partition would have to find them all (ties go to the smallest positions); so the head
+          // first reads as many codes as the partition's try would (its nearest clusters), and a
+          // query with k codes at 0 there ends at no more than the try's cost (ski rental)
+          head.scanTo((int) Math.min(n, head.end + partition.nearestCodes(s.visit, kk)), sel, accept, maxDist);
+          if (head.done()) {
+            s.path = PATH_HEAD;
+            return head.top.toHits();
+          }
+          s.scanCost = scanCost = cost.scan((int) Math.max(0, head.stop - head.end), sel.at().length);
+        }
         usePartition = !(s.untried = partitionHopeless(s.visit, head, kk, scanCost));
       }
       if (usePartition) {

@@ -443,6 +443,13 @@ final class Partition {
     return done;
   }
 
+  /** How many codes {@link #scanNearest} reads for {@code least}: the nearest clusters' sizes, after {@link #begin}. */
+  long nearestCodes(Visit v, long least) {
+    long read = 0;
+    for (int done = 0; done < clusters() && read < least; done++) read += start[v.order[done] + 1] - start[v.order[done]];
+    return read;
+  }
+
   /**
    * After {@link #begin} with no clusters scanned, for a top that already holds k codes (the masked
    * scan's head; {@code accept} must refuse the codes the top was filled from): the nearest clusters

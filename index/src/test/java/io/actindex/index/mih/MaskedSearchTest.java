@@ -252,6 +252,38 @@ class MaskedSearchTest {
   }
 
   /**
+   * The head's first step holds codes at masked distance 1 only (the query's layer with one bit
+   * flipped, or farther); the next position holds the query's layer exactly. Only codes at distance 0
+   * can still enter, so before trying the partition the head reads as many codes as the try would:
+   * the code at 0 ends the query there, answered by the head (before, the partition was tried first
+   * and the scan finished). A code at 0 only far past the head is found exactly by whichever path.
+   */
+  @Test
+  void aCodeAtDistanceZeroJustPastTheHeadIsFoundBeforeThePartitionIsTried() {
+    for (int rep = 0; rep < 8; rep++) {
+      long seed = Randoms.seed(700 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      CodeLayout layout = new CodeLayout(List.of(new CodeLayout.Segment("a", 64), new CodeLayout.Segment("b", 64)));
+      int n = 30_000 + rnd.nextInt(70_000), headEnd = Math.max(MihSearcher.HEAD_MIN, n / MihSearcher.HEAD_SHARE);
+      int zeroAt = rep % 2 == 0 ? headEnd : n / 2 + rnd.nextInt(n / 2);
+      long zb = rnd.nextLong();
+      long[] words = new long[2 * n];
+      for (int i = 0; i < n; i++) {
+        words[2 * i] = rnd.nextLong();
+        words[2 * i + 1] = i == zeroAt ? zb : i < headEnd || rnd.nextInt(4) == 0 ? zb ^ 1L << rnd.nextInt(64) : rnd.nextLong();
+      }
+      CodeBlock codes = new CodeBlock(layout, n, words);
+      MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults(), PlannerCosts.defaults());
+      long[] mask = layout.mask(1), q = {rnd.nextLong(), zb};
+      String why = Randoms.describe(seed) + " n=" + n + " zero at " + zeroAt;
+      Hits got = s.knn(q, 1, null, mask);
+      assertEquals(BruteForce.knn(codes, q, 1, null, mask), got, why);
+      assertEquals(zeroAt, got.ord(0), why);
+      if (zeroAt == headEnd) assertEquals(MihSearcher.PATH_HEAD, s.lastQueryWork()[3], why + ": the partition was tried first");
+    }
+  }
+
+  /**
    * After the masked scan's head, the partition's first cluster holds k codes at distance 0 while
    * thousands more at distance 0 lie in another cluster: the partition would have to read them all
    * (an estimate well under a third of the whole scan, which once chose it), while the scan stops by
