@@ -400,15 +400,35 @@ public final class EdgeBundle {
         if (v > m.thresholds()[bit]) code[bit >>> 6] |= 1L << (bit & 63);
         bit++;
       }
-      if (range) { // the generated C computes the same, in the same order (EdgeCSource)
-        double s = 0;
-        for (double v : h) s += v * v;
-        double bound = m.rangeBounds()[keptHidden[l]];
-        double r = bound > 0 ? Math.sqrt(s) / bound : s > 0 ? Double.POSITIVE_INFINITY : 0;
+      if (range) {
+        double r = normOver(h, m.rangeBounds()[keptHidden[l]]);
         if (r > ratio) ratio = r;
       }
     }
     return new Encoded(code, range ? ratio : Double.NaN);
+  }
+
+  /**
+   * {@code sqrt(sum h^2) / bound} for activations {@code h >= 0} and a finite {@code bound >= 0}: 0
+   * when every activation is 0, else +Infinity when the bound is 0. The activations and the bound are
+   * first scaled by powers of two (exact), so no square overflows (activations of 1.4e154 or more
+   * did, giving +Infinity) or underflows; the result is the correctly rounded ratio, +Infinity only
+   * when the ratio itself exceeds {@link Double#MAX_VALUE}. Where the unscaled sum neither overflows
+   * nor underflows it is the same double as {@code Math.sqrt(s) / bound}. The generated C
+   * (EdgeCSource) computes the same, in the same order.
+   */
+  static double normOver(double[] h, double bound) {
+    double top = 0;
+    for (double v : h) top = Math.max(top, v);
+    if (top == 0) return 0;
+    if (bound == 0) return Double.POSITIVE_INFINITY;
+    int e = Math.getExponent(top), eb = Math.getExponent(bound);
+    double q = 0;
+    for (double v : h) {
+      double u = Math.scalb(v, -e);
+      q += u * u;
+    }
+    return Math.scalb(Math.sqrt(q) / Math.scalb(bound, -eb), e - eb);
   }
 
   /** {@code input} when it is as wide as the model's inputs and every value is finite, else an {@link IllegalArgumentException}. */
