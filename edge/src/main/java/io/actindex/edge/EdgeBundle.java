@@ -196,19 +196,27 @@ public final class EdgeBundle {
       throw new IllegalArgumentException("model has " + m.rangeBounds().length + " range bounds for " + layerNames.size() + " code layers");
     int hidden = m.layers().size() - 1;
     int[] kept = new int[hidden];
-    int next = 0;
-    for (int l = 0; l < hidden; l++) {
+    boolean[] found = new boolean[layerNames.size()];
+    for (int l = 0; l < hidden; l++) { // the code layout may name the layers in another order than the model computes them
       Layer layer = m.layers().get(l);
       int s = layerNames.indexOf(layer.name());
-      if (s >= 0 && s != next) throw new IllegalArgumentException("model layer " + layer.name() + " is out of the code layout's order");
       if (s >= 0 && layerBits[s] != layer.out())
         throw new IllegalArgumentException("model layer " + layer.name() + " has " + layer.out() + " neurons, the code layout " + layerBits[s] + " bits");
+      if (s >= 0 && found[s]) throw new IllegalArgumentException("model layer " + layer.name() + " appears twice");
       kept[l] = s;
-      if (s >= 0) next++;
+      if (s >= 0) found[s] = true;
     }
-    if (next != layerNames.size()) throw new IllegalArgumentException("code layer " + layerNames.get(next) + " is no hidden layer of the model");
+    for (int s = 0; s < found.length; s++)
+      if (!found[s]) throw new IllegalArgumentException("code layer " + layerNames.get(s) + " is no hidden layer of the model");
     if (m.thresholds().length != bits) throw new IllegalArgumentException("model has " + m.thresholds().length + " thresholds for " + bits + " bits");
     return kept;
+  }
+
+  /** The first bit of code layer (segment) {@code s}: the widths of the layers before it in the layout. */
+  public int firstBit(int s) {
+    int first = 0;
+    for (int i = 0; i < s; i++) first += layerBits[i];
+    return first;
   }
 
   /** A mask with the bits of the named layers set. */
@@ -388,7 +396,6 @@ public final class EdgeBundle {
     long[] code = new long[words];
     double[] h = checkInput(m, input);
     double ratio = 0;
-    int bit = 0;
     for (int l = 0; l < keptHidden.length; l++) {
       h = layer(m.layers().get(l), h, true);
       for (int o = 0; o < h.length; o++) // as the index: an overflow is refused, never read as a bit
@@ -396,6 +403,7 @@ public final class EdgeBundle {
           throw new IllegalArgumentException("layer " + m.layers().get(l).name() + ", unit " + o + " overflows (" + h[o]
               + "); the input is too large for the weights");
       if (keptHidden[l] < 0) continue;
+      int bit = firstBit(keptHidden[l]); // the layer's bits where the layout puts them
       for (double v : h) {
         if (v > m.thresholds()[bit]) code[bit >>> 6] |= 1L << (bit & 63);
         bit++;

@@ -269,7 +269,8 @@ public final class EdgeCSource {
       s.append("  if (axe_layer(axe_w").append(l).append(", axe_b").append(l).append(", ").append(layer.out()).append(", ").append(layer.in())
           .append(", a, z)) return -1;\n");
       int segment = kept.indexOf(layer.name());
-      if (segment >= 0) s.append("  for (int o = 0; o < ").append(layer.out())
+      if (segment >= 0) s.append("  bit = ").append(b.firstBit(segment)).append("; /* code layer ").append(segment)
+          .append(" of the layout: its bits where the layout puts them */\n  for (int o = 0; o < ").append(layer.out())
           .append("; o++, bit++) if (z[o] > axe_bit_threshold[bit]) code[bit >> 6] |= (uint64_t) 1 << (bit & 63);\n");
       if (segment >= 0 && bounds != null) // as EdgeBundle.encodeWithRange: the same sums in the same order, so the same double
         s.append("  if (range) {\n    double r = axe_norm_over(z, ").append(layer.out()).append(", axe_range_bound[").append(segment)
