@@ -64,6 +64,12 @@ final class ModelLayers implements LayerSource {
     return modelName;
   }
 
+  /** The inputs file: a row of activations is the model run on its row. */
+  @Override
+  public String rowSource() {
+    return in.source();
+  }
+
   @Override
   public List<String> names() {
     return names;
