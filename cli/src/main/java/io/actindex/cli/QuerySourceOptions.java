@@ -5,6 +5,7 @@ import io.actindex.index.store.IndexReader;
 import io.actindex.query.QueryCodes;
 import io.actindex.query.QuerySource;
 import io.actindex.query.RowRange;
+import io.actindex.query.Snippet;
 import io.actindex.query.Source;
 import java.nio.file.Path;
 import picocli.CommandLine.Model.CommandSpec;
@@ -88,9 +89,14 @@ public final class QuerySourceOptions {
     noteIfEmpty(q.codes().size());
   }
 
-  /** A note on stderr when the query file held no rows (else the answer is silently empty). */
+  /**
+   * A note on stderr when no query row was read (else the answer is silently empty): the file holds
+   * none, or {@code --rows} selects none of it ({@code 5:5}; a range past the file's end is refused).
+   */
   void noteIfEmpty(int rows) {
-    if (rows == 0) mixee.commandLine().getErr().println("note: " + toSource().file() + " holds no rows; the answer is empty");
+    RowRange range = range();
+    if (rows == 0) mixee.commandLine().getErr().println("note: " + (range.to() == range.from() ? "--rows " + Snippet.of(this.rows) + " selects no row of "
+        + toSource().file() : toSource().file() + " holds no rows") + "; the answer is empty");
     mixee.commandLine().getErr().flush();
   }
 }

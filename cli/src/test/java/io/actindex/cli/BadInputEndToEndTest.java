@@ -130,6 +130,12 @@ class BadInputEndToEndTest {
     Map<String, String> before = Files2.checksums(out);
     assertRefused(Cli.run("nearest", "--index", out.toString(), "--inputs", wide.toString()), c);
     assertRefused(Cli.run("add", "--index", out.toString(), "--inputs", wide.toString()), c);
+    // 4 columns are the model's 4 hidden units: the hidden activations given as --inputs get the way out, as the reverse slip
+    // (inputs given as --activations) does; another width gets no such hint (a new user's run on the digits gave 153 for 64)
+    assertThat(Cli.run("nearest", "--index", out.toString(), "--inputs", wide.toString()).err())
+        .contains("; 4 is the number of the model's hidden units in the code layers: if these rows are its hidden activations, pass them with --activations");
+    Path five = Files2.floats(tmp.resolve("inputs5.npy"), new float[5][5]);
+    assertThat(Cli.run("nearest", "--index", out.toString(), "--inputs", five.toString()).err()).contains("takes 3").doesNotContain("hidden units");
     assertThat(Files2.checksums(out)).isEqualTo(before);
   }
 

@@ -82,6 +82,32 @@ class OptionValuesEndToEndTest {
     assertThat(open.get("results").get(0).get("query").asInt()).isEqualTo(57);
   }
 
+  /**
+   * A --rows that selects too few rows for a calibration was refused without naming the option
+   * ("acts.npy: 1 calibration input; a target rate of 0.95 needs at least 19"); one past the file's end
+   * named neither ("rows 70:71 asked"); one that selects none was noted as a file holding no rows.
+   * The need, 19 inputs at --tpr 0.95 and 99 at 0.99, is ceil(tpr (n + 1)) <= n (split conformal
+   * rank; Vovk, Gammerman &amp; Shafer 2005, "Algorithmic Learning in a Random World", section 2.2).
+   */
+  @Test
+  void rowsThatSelectTooFewOrNoneAreNamed() {
+    String[] calibrate = {"ood", "calibrate", "--index", i, "--activations", acts2.toString(), "--score", "code"};
+    refused(with(List.of(calibrate), "--rows", "0:1"), "acts2.npy: --rows 0:1 selects 1 calibration input;", "(--tpr) of 0.95 needs at least 19",
+        "select more rows, or leave --rows out");
+    refused(with(List.of(calibrate), "--rows", "42:"), "--rows 42: selects 18 calibration inputs", "needs at least 19");
+    refused(with(List.of(calibrate), "--rows", "30:48", "--tpr", "0.95"), "--rows 30:48 selects 18 calibration inputs", "at least 19");
+    refused(with(List.of(calibrate), "--tpr", "0.99"), "acts2.npy: 60 calibration inputs; a target rate (--tpr) of 0.99 needs at least 99");
+    ok(with(List.of(calibrate), "--rows", "41:")); // 19 rows
+    for (String cmd : List.of("nearest", "region")) {
+      refused(args(cmd, "--index", i, "--activations", a, "--rows", "70:71"), "acts.npy: --rows 70:71 asked, the file has 60 rows");
+      assertThat(notes(ok(cmd, "--index", i, "--activations", a, "--rows", "5:5"))).containsExactly(
+          "note: --rows 5:5 selects no row of " + a + "; the answer is empty");
+    }
+    refused(args("ood", "score", "--index", i, "--activations", a, "--rows", "60"), "--rows 60:61 asked, the file has 60 rows");
+    assertThat(notes(ok("ood", "score", "--index", i, "--activations", a, "--rows", "5:5"))).contains(
+        "note: --rows 5:5 selects no row of " + a + "; the answer is empty");
+  }
+
   /** region took any radius above the code length (as the code length); dupes refused it: now both refuse it. */
   @Test
   void regionRefusesARadiusAboveTheCodeLengthLikeDupes() {

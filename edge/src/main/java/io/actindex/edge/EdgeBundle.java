@@ -196,19 +196,27 @@ public final class EdgeBundle {
       throw new IllegalArgumentException("model has " + m.rangeBounds().length + " range bounds for " + layerNames.size() + " code layers");
     int hidden = m.layers().size() - 1;
     int[] kept = new int[hidden];
-    int next = 0;
-    for (int l = 0; l < hidden; l++) {
+    boolean[] found = new boolean[layerNames.size()];
+    for (int l = 0; l < hidden; l++) { // the code layout may name the layers in another order than the model computes them
       Layer layer = m.layers().get(l);
       int s = layerNames.indexOf(layer.name());
-      if (s >= 0 && s != next) throw new IllegalArgumentException("model layer " + layer.name() + " is out of the code layout's order");
       if (s >= 0 && layerBits[s] != layer.out())
         throw new IllegalArgumentException("model layer " + layer.name() + " has " + layer.out() + " neurons, the code layout " + layerBits[s] + " bits");
+      if (s >= 0 && found[s]) throw new IllegalArgumentException("model layer " + layer.name() + " appears twice");
       kept[l] = s;
-      if (s >= 0) next++;
+      if (s >= 0) found[s] = true;
     }
-    if (next != layerNames.size()) throw new IllegalArgumentException("code layer " + layerNames.get(next) + " is no hidden layer of the model");
+    for (int s = 0; s < found.length; s++)
+      if (!found[s]) throw new IllegalArgumentException("code layer " + layerNames.get(s) + " is no hidden layer of the model");
     if (m.thresholds().length != bits) throw new IllegalArgumentException("model has " + m.thresholds().length + " thresholds for " + bits + " bits");
     return kept;
+  }
+
+  /** The first bit of code layer (segment) {@code s}: the widths of the layers before it in the layout. */
+  public int firstBit(int s) {
+    int first = 0;
+    for (int i = 0; i < s; i++) first += layerBits[i];
+    return first;
   }
 
   /** A mask with the bits of the named layers set. */
@@ -388,7 +396,6 @@ public final class EdgeBundle {
     long[] code = new long[words];
     double[] h = checkInput(m, input);
     double ratio = 0;
-    int bit = 0;
     for (int l = 0; l < keptHidden.length; l++) {
       h = layer(m.layers().get(l), h, true);
       for (int o = 0; o < h.length; o++) // as the index: an overflow is refused, never read as a bit
@@ -396,19 +403,40 @@ public final class EdgeBundle {
           throw new IllegalArgumentException("layer " + m.layers().get(l).name() + ", unit " + o + " overflows (" + h[o]
               + "); the input is too large for the weights");
       if (keptHidden[l] < 0) continue;
+      int bit = firstBit(keptHidden[l]); // the layer's bits where the layout puts them
       for (double v : h) {
         if (v > m.thresholds()[bit]) code[bit >>> 6] |= 1L << (bit & 63);
         bit++;
       }
-      if (range) { // the generated C computes the same, in the same order (EdgeCSource)
-        double s = 0;
-        for (double v : h) s += v * v;
-        double bound = m.rangeBounds()[keptHidden[l]];
-        double r = bound > 0 ? Math.sqrt(s) / bound : s > 0 ? Double.POSITIVE_INFINITY : 0;
+      if (range) {
+        double r = normOver(h, m.rangeBounds()[keptHidden[l]]);
         if (r > ratio) ratio = r;
       }
     }
     return new Encoded(code, range ? ratio : Double.NaN);
+  }
+
+  /**
+   * {@code sqrt(sum h^2) / bound} for activations {@code h >= 0} and a finite {@code bound >= 0}: 0
+   * when every activation is 0, else +Infinity when the bound is 0. The activations and the bound are
+   * first scaled by powers of two (exact), so no square overflows (activations of 1.4e154 or more
+   * did, giving +Infinity) or underflows; the result is the correctly rounded ratio, +Infinity only
+   * when the ratio itself exceeds {@link Double#MAX_VALUE}. Where the unscaled sum neither overflows
+   * nor underflows it is the same double as {@code Math.sqrt(s) / bound}. The generated C
+   * (EdgeCSource) computes the same, in the same order.
+   */
+  static double normOver(double[] h, double bound) {
+    double top = 0;
+    for (double v : h) top = Math.max(top, v);
+    if (top == 0) return 0;
+    if (bound == 0) return Double.POSITIVE_INFINITY;
+    int e = Math.getExponent(top), eb = Math.getExponent(bound);
+    double q = 0;
+    for (double v : h) {
+      double u = Math.scalb(v, -e);
+      q += u * u;
+    }
+    return Math.scalb(Math.sqrt(q) / Math.scalb(bound, -eb), e - eb);
   }
 
   /** {@code input} when it is as wide as the model's inputs and every value is finite, else an {@link IllegalArgumentException}. */

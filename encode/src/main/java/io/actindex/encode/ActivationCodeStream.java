@@ -126,9 +126,13 @@ final class ActivationCodeStream implements CodeStream {
   private float toFloat(double v, int layer, int row, int col) {
     float f = (float) v;
     if (Float.isFinite(f)) return f;
-    throw new BadInputException(src.source() + ": " + (widths.length > 1 ? "layer " + BadInputException.quote(src.names().get(layer)) + ", " : "")
-        + "row " + (lastStart + row) + ", column " + col + " (0-based): value " + v + " does not fit the float32 in which activations"
-        + " are kept (at most about 3.4e38); scale the activations, or build with `magnitudeBits 0` to keep none");
+    String layerName = "layer " + BadInputException.quote(src.names().get(layer));
+    String where = src.rowSource().equals(src.source())
+        ? src.source() + ": " + (widths.length > 1 ? layerName + ", " : "") + "row " + (lastStart + row) + ", column " + col + " (0-based)"
+        : src.rowSource() + ": row " + (lastStart + row) + " (0-based) through the model " + src.source() + ", " + layerName + ", unit " + col;
+    throw new BadInputException(where + ": value " + v + " does not fit the float32 in which activations"
+        + " are kept (at most about 3.4e38); scale the " + (where.contains("through the model") ? "inputs" : "activations")
+        + ", or build with `magnitudeBits 0` to keep none");
   }
 
   @Override

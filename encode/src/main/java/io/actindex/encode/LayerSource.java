@@ -12,6 +12,11 @@ import java.util.List;
 interface LayerSource extends AutoCloseable {
   String source();
 
+  /** The file whose rows these are: {@link #source()}, except for a model run on an inputs file (that file). */
+  default String rowSource() {
+    return source();
+  }
+
   List<String> names();
 
   int[] widths();

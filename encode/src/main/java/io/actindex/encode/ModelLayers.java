@@ -32,6 +32,8 @@ final class ModelLayers implements LayerSource {
           + mlp.layers().getFirst().name() + "', weight shape [" + mlp.layers().getFirst().out() + ", " + mlp.inputs() + "]) takes " + mlp.inputs()
           + in.notes().stream().filter(n -> n.contains("hint:")).map(n -> "; " + n.substring(n.indexOf("hint:"))).findFirst().orElse("")
           + (in.rows() == mlp.inputs() ? "; the file has " + in.rows() + " rows: saved as features by examples? save it transposed (a.T)" : "")
+          + (in.cols() == hiddenUnits(mlp, selected) ? "; " + in.cols() + " is the number of the model's hidden units in the code layers: if these rows"
+              + " are its hidden activations, pass them with `Source.activations`" : "")
           + (in.cols() == mlp.inputs() + 1 ? "; one column too many: is one of them the label (scikit-learn's data frames end with 'target')"
               + " or a row index?" + (in.columnNames() == null ? "" : " (first column " + BadInputException.quote(in.columnNames().getFirst())
                   + ", last " + BadInputException.quote(in.columnNames().getLast()) + ")") : ""));
@@ -48,10 +50,24 @@ final class ModelLayers implements LayerSource {
     layerIndex = names.stream().mapToInt(hidden::indexOf).toArray();
   }
 
+  /** The units of the hidden layers {@code selected} (null: every hidden layer; a name of no hidden layer counts nothing). */
+  private static int hiddenUnits(Mlp mlp, List<String> selected) {
+    int units = 0;
+    for (Mlp.Layer l : mlp.layers())
+      if (mlp.hiddenNames().contains(l.name()) && (selected == null || selected.contains(l.name()))) units += l.out();
+    return units;
+  }
+
   /** The model: messages about layers concern it (rows are the reader's, which names the inputs). */
   @Override
   public String source() {
     return modelName;
+  }
+
+  /** The inputs file: a row of activations is the model run on its row. */
+  @Override
+  public String rowSource() {
+    return in.source();
   }
 
   @Override

@@ -6,6 +6,7 @@ import static org.assertj.core.api.Assertions.assertThatThrownBy;
 import io.actindex.encode.io.ArrayMatrixReader;
 import io.actindex.encode.io.NpyDtype;
 import io.actindex.encode.io.NpyWriter;
+import io.actindex.encode.mlp.Mlp;
 import io.actindex.core.BadInputException;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeLayout;
@@ -16,6 +17,7 @@ import java.nio.file.Path;
 import java.util.List;
 import java.util.Map;
 import java.util.SplittableRandom;
+import org.ejml.data.DMatrixRMaj;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -222,6 +224,24 @@ public class EncodersTest {
       assertThat(s.next(3).code(0)[0]).isEqualTo(0b01L);
       assertThatThrownBy(s::lastActivations).isInstanceOf(BadInputException.class)
           .hasMessageContaining("big.npy: row 3, column 1").hasMessageContaining("float32");
+    }
+  }
+
+  /**
+   * The same through a model: the row is the inputs file's, the model and layer say where the value
+   * came from. The message named the model file for the row ("model.safetensors: layer '0', row 1,
+   * column 0"), though the model has no rows (a new user's run: digits scaled by 1e160).
+   */
+  @Test
+  void keptActivationsBeyondFloat32ThroughAModelNameTheInputsRow() throws IOException {
+    DMatrixRMaj w = new DMatrixRMaj(new double[][] {{1, 0}, {0, 1}});
+    Mlp mlp = new Mlp(List.of(new Mlp.Layer("h", w, new double[2]), new Mlp.Layer("out", w.copy(), new double[2])));
+    double[][] rows = {{1, 2}, {3, 1e160}};
+    try (CodeStream s = Encoders.model(mlp, "m.safetensors", () -> ArrayMatrixReader.of("in.npy", rows), EncodeOptions.positive())) {
+      assertThat(s.next(5).size()).isEqualTo(2);
+      assertThatThrownBy(s::lastActivations).isInstanceOf(BadInputException.class)
+          .hasMessageStartingWith("in.npy: row 1 (0-based) through the model m.safetensors, layer 'h', unit 1: value 1.0E160 does not fit the float32")
+          .hasMessageContaining("scale the inputs");
     }
   }
 

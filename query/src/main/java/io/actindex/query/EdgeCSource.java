@@ -21,7 +21,7 @@ import java.util.List;
  * precision (compile without floating-point contraction, e.g. {@code -ffp-contract=off}, so an
  * input on a neuron's threshold binarizes as in Java). The answers equal {@link EdgeBundle}'s. A
  * bundle with a range guard adds {@code axe_range_bound} and {@code axe_encode_range} (the code and
- * the range ratio in one pass; it takes {@code sqrt}, so such a source links with {@code -lm}).
+ * the range ratio in one pass; it takes {@code sqrt}, {@code scalbn} and {@code ilogb}, so such a source links with {@code -lm}).
  */
 public final class EdgeCSource {
   private EdgeCSource() {}
@@ -90,7 +90,7 @@ public final class EdgeCSource {
         + "   sqrt(sum of the layer's activations squared) / axe_range_bound[layer]. Above 1: some layer's\n"
         + "   activations are larger than every training example's (a layer with bound 0, dead on every\n"
         + "   training example, gives INFINITY once a unit is active). Returns as axe_encode; *range is set\n"
-        + "   only when it returns 0. Uses sqrt: link with -lm. A heuristic, not a guarantee. */\n"
+        + "   only when it returns 0. Uses sqrt, scalbn and ilogb: link with -lm. A heuristic, not a guarantee. */\n"
         + "int axe_encode_range(const double input[AXE_INPUTS], uint64_t code[AXE_WORDS], double *range);\n");
     return s.append("\n#ifdef __cplusplus\n}\n#endif\n\n#endif\n").toString();
   }
@@ -216,6 +216,28 @@ public final class EdgeCSource {
       s.append("static const double axe_range_bound[AXE_LAYERS] = {");
       for (double v : bounds) s.append(' ').append(Double.toHexString(v)).append(',');
       s.append(" };\n");
+      s.append("""
+
+          /* Java's Math.getExponent of a finite x > 0: its binary exponent, -1023 for a subnormal */
+          static int axe_exponent(double x) {
+            return x < 0x1p-1022 ? -1023 : ilogb(x);
+          }
+
+          /* sqrt(sum z^2) / bound (EdgeBundle.normOver): z and the bound scaled by powers of two (exact) first,
+             so no square overflows or underflows; 0 when every z is 0, INFINITY when the bound is 0 */
+          static double axe_norm_over(const double *z, int n, double bound) {
+            double top = 0, q = 0;
+            for (int o = 0; o < n; o++) if (z[o] > top) top = z[o];
+            if (top == 0) return 0;
+            if (bound == 0) return INFINITY;
+            int e = axe_exponent(top), eb = axe_exponent(bound);
+            for (int o = 0; o < n; o++) {
+              double u = scalbn(z[o], -e);
+              q += u * u;
+            }
+            return scalbn(sqrt(q) / scalbn(bound, -eb), e - eb);
+          }
+          """);
     }
     s.append('\n');
     s.append("""
@@ -247,12 +269,12 @@ public final class EdgeCSource {
       s.append("  if (axe_layer(axe_w").append(l).append(", axe_b").append(l).append(", ").append(layer.out()).append(", ").append(layer.in())
           .append(", a, z)) return -1;\n");
       int segment = kept.indexOf(layer.name());
-      if (segment >= 0) s.append("  for (int o = 0; o < ").append(layer.out())
+      if (segment >= 0) s.append("  bit = ").append(b.firstBit(segment)).append("; /* code layer ").append(segment)
+          .append(" of the layout: its bits where the layout puts them */\n  for (int o = 0; o < ").append(layer.out())
           .append("; o++, bit++) if (z[o] > axe_bit_threshold[bit]) code[bit >> 6] |= (uint64_t) 1 << (bit & 63);\n");
       if (segment >= 0 && bounds != null) // as EdgeBundle.encodeWithRange: the same sums in the same order, so the same double
-        s.append("  if (range) {\n    double q = 0, r;\n    for (int o = 0; o < ").append(layer.out()).append("; o++) q += z[o] * z[o];\n")
-            .append("    r = axe_range_bound[").append(segment).append("] > 0 ? sqrt(q) / axe_range_bound[").append(segment)
-            .append("] : q > 0 ? INFINITY : 0;\n    if (r > ratio) ratio = r;\n  }\n");
+        s.append("  if (range) {\n    double r = axe_norm_over(z, ").append(layer.out()).append(", axe_range_bound[").append(segment)
+            .append("]);\n    if (r > ratio) ratio = r;\n  }\n");
       s.append("  for (int o = 0; o < ").append(layer.out()).append("; o++) a[o] = z[o];\n");
     }
     s.append("  (void) bit;\n  if (range) *range = ratio;\n  return 0;\n}\n\n");

@@ -122,14 +122,7 @@ public final class EdgeExport {
     if (mlp == null) throw new BadInputException(reader.dir() + ": `withModel`, but the index holds no model (it was not built with `model`)");
     if (mlp.outputLayer() == null)
       throw new BadInputException(reader.dir() + ": `withModel` needs a model whose last layer is an output layer; this index's model has hidden layers only");
-    CodeLayout layout = reader.layout();
-    List<String> codeLayers = new ArrayList<>(), modelOrder = new ArrayList<>();
-    for (CodeLayout.Segment s : layout.segments()) codeLayers.add(s.name());
-    for (Mlp.Layer l : mlp.layers()) if (codeLayers.contains(l.name())) modelOrder.add(l.name());
-    if (!modelOrder.equals(codeLayers)) // the device sets the bits layer by layer, as the model computes them
-      throw new BadInputException(reader.dir() + ": `withModel` needs the code layers in the model's order (" + String.join(", ", modelOrder)
-          + "); this index has them in the order " + String.join(", ", codeLayers) + ": build it again with `layers` " + String.join(",", modelOrder)
-          + " (or export without `withModel`)");
+    CodeLayout layout = reader.layout(); // its layers may be in another order than the model's (build `layers` 2,0): the bundle follows it
     List<EdgeBundle.Layer> layers = new ArrayList<>();
     for (Mlp.Layer l : mlp.layers()) {
       float[] wt = new float[l.weight().data.length], bias = new float[l.out()];

@@ -116,7 +116,7 @@ final class Encoding {
         if (range.to() != -1 && row >= range.to()) break;
       }
       if ((range.to() != -1 && row < range.to()) || (range.from() > 0 && range.from() >= row))
-        throw new BadInputException(source.file() + ": rows " + range + " asked, the file has " + row + " rows");
+        throw new BadInputException(source.file() + ": `rows` " + range + " asked, the file has " + row + (row == 1 ? " row" : " rows"));
       return new Read(new CodeBlock(layout, kept, buf.length == kept * w ? buf : Arrays.copyOf(buf, kept * w)),
           stream.options(), stream.notes(), null, stream.columnNames());
     } catch (IOException e) {

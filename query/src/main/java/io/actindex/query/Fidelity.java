@@ -340,8 +340,9 @@ public final class Fidelity {
         .append(Double.isNaN(rho) ? "Spearman undefined (one of the two distances is the same for every pair)."
             : String.format(java.util.Locale.ROOT, "Spearman %.2f.", rho));
     if (tied >= 0.2)
-      v.append(String.format(java.util.Locale.ROOT, " %.0f%% of queries have more than %d rows within the Hamming distance of their"
-          + " neighbour number %d, so the order among ties (ascending id) decides part of the answer.", 100 * tied, k, k));
+      v.append(String.format(java.util.Locale.ROOT, " %.0f%% of queries have more than %s within the Hamming distance of their %s,"
+          + " so the order among ties (ascending id) decides part of the answer.", 100 * tied, k == 1 ? "1 other row" : k + " other rows",
+          k == 1 ? "nearest neighbour" : "neighbour at rank " + k));
     v.append(" Measured on this data only: check again on data like your use.");
     return v.toString();
   }

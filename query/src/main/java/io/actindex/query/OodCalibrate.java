@@ -84,6 +84,7 @@ public final class OodCalibrate {
       QuerySource.Queries qa = scorer.load(source, rows);
       notes = qa.codes().notes();
       String file = source.file().toString();
+      OodCalibration.checkEnough(qa.codes().codes().size(), p.tpr(), file, rows); // before the scoring, which may take long
       String found = trainingRows(reader, qa);
       boolean looksLikeTraining = found != null;
       if (looksLikeTraining && p.checkOverlap())

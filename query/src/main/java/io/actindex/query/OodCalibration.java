@@ -271,9 +271,19 @@ public final class OodCalibration {
 
   /** The threshold of ascending {@code sorted} scores for {@code tpr}; too few scores is refused. */
   public static double threshold(double[] sorted, double tpr, String what) {
-    long need = minimum(tpr);
-    if (sorted.length < need)
-      throw new BadInputException(what + ": " + sorted.length + (sorted.length == 1 ? " calibration input" : " calibration inputs") + "; a target rate of " + tpr + " needs at least " + need);
+    checkEnough(sorted.length, tpr, what, RowRange.ALL);
     return sorted[(int) rank(tpr, sorted.length) - 1];
+  }
+
+  /**
+   * Refuses {@code n} calibration inputs of {@code what} when {@code tpr} needs more, naming the
+   * {@code rows} selected when they are not all of the file (too few of them is then the likely cause).
+   */
+  public static void checkEnough(long n, double tpr, String what, RowRange rows) {
+    long need = minimum(tpr);
+    if (n >= need) return;
+    boolean part = rows != null && !rows.equals(RowRange.ALL);
+    throw new BadInputException(what + ": " + (part ? "`rows` " + rows + " selects " : "") + n + (n == 1 ? " calibration input" : " calibration inputs")
+        + "; a target rate (`tpr`) of " + tpr + " needs at least " + need + (part ? ": select more rows, or leave `rows` out for the whole file" : ""));
   }
 }

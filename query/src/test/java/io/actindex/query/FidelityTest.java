@@ -182,6 +182,19 @@ class FidelityTest {
   }
 
   /**
+   * The ties sentence read "more than 1 rows within the Hamming distance of their neighbour number
+   * 1" (a new user's run on the digits, k = 1): now plain English for k = 1 and for larger k.
+   */
+  @Test
+  void theTiesSentenceReadsPlainly() {
+    assertThat(Fidelity.verdict(0.3, 0.7, 0.41, null, 1, 100, 300)).contains(
+        " 41% of queries have more than 1 other row within the Hamming distance of their nearest neighbour, so the order among ties");
+    assertThat(Fidelity.verdict(0.3, 0.7, 0.25, null, 5, 100, 300)).contains(
+        " 25% of queries have more than 5 other rows within the Hamming distance of their neighbour at rank 5, so");
+    assertThat(Fidelity.verdict(0.3, 0.7, 0.1, null, 5, 100, 300)).doesNotContain("ties");
+  }
+
+  /**
    * Two or three rows with k = 1 or 2: every other row is a neighbour under both metrics, so the
    * overlap is 1 whatever the codes, and the verdict said the neighbours "largely agree". Chance
    * overlap k / (n - 1) (common practice: k rows drawn at random from n - 1) of at least one half

@@ -232,6 +232,39 @@ class RangeGuardTest {
     assertThat(Files.exists(tmp.resolve("8true.edge"))).isTrue();
   }
 
+  /**
+   * The generated C against Java where the plain sum of squares would overflow or underflow: a code
+   * layer of identity weights passes inputs of 1e154 to Double.MAX_VALUE and of 1e-200 to the smallest
+   * subnormal through as activations; C's scalbn/ilogb and Java's Math.scalb/getExponent give the
+   * same double for each ratio (the value itself is checked against BigDecimal in edge's
+   * RangeRatioExtremesTest), and a finite one where only the squares are beyond the double range.
+   */
+  @Test
+  void cGivesJavasRatioForHugeAndTinyActivations() throws Exception {
+    int n = 3;
+    float[] eye = new float[n * n];
+    for (int i = 0; i < n; i++) eye[i * n + i] = 1;
+    List<EdgeBundle.Layer> layers = List.of(new EdgeBundle.Layer("h", n, n, eye, new float[n]), new EdgeBundle.Layer("o", 1, n, new float[n], new float[1]));
+    double max = Double.MAX_VALUE;
+    double[][] rows = {{1e154, 1e154, 0}, {1.5e154, 0, 0}, {1e300, 3e299, 2e299}, {max, 0, 0}, {max, max, max}, {1e-200, 0, 3e-200},
+        {Double.MIN_VALUE, 0, 0}, {3, 4, 0}, {-1, -2, -3}, {0.1, 0.2, 0.3}};
+    for (double bound : new double[] {1, 1e10, 0.5, 1e-190, Double.MIN_VALUE, 0}) {
+      EdgeBundle b = new EdgeBundle(List.of("h"), new int[] {n}, new long[] {0}, new int[] {1},
+          new EdgeBundle.Calibration(1, Statistic.KTH, List.of(), 0.9, 1, new double[] {0, 1}),
+          new EdgeBundle.Model(layers, new double[n], new double[] {bound}));
+      Path c = tmp.resolve("c" + bound);
+      EdgeCSource.write(b, c);
+      List<String> lines = new ArrayList<>();
+      for (double[] x : rows) lines.add(CEdge.inputLine(x));
+      List<String> out = CEdge.run(CEdge.compile(c), lines);
+      for (int i = 0; i < rows.length; i++) {
+        double java = b.encodeWithRange(rows[i]).range();
+        assertThat(CEdge.range(out.get(i))).as("bound " + bound + ", row " + Arrays.toString(rows[i])).isEqualTo(java);
+        if (bound == 1 && i < 3) assertThat(java).as("row " + i).isFinite().isGreaterThan(1e154);
+      }
+    }
+  }
+
   interface Norms {
     void accept(int row, double[] norms);
   }
