@@ -144,6 +144,9 @@ public class RealUseBench {
           default -> throw new IllegalArgumentException("unknown deletions " + deletions);
         };
         try (IndexWriter w = IndexWriter.open(dir)) {
+          // deleted share 1: the deleted codes stay in the segment (the leftover these scenarios measure)
+          w.mergePolicy(new MergePolicy(MergePolicy.DEFAULT_MAX_SEGMENT_BYTES, MergePolicy.DEFAULT_MERGE_FACTOR,
+              MergePolicy.DEFAULT_FLOOR_CODES, 1));
           w.delete(del);
         }
       }
