@@ -13,15 +13,16 @@ import java.util.Locale;
 
 /**
  * What the deleted-share rewrite buys a query, paired per query: the same 1M codes with the same
- * 30% deleted, once as the old leftover (one segment keeping its deleted codes: {@link
- * RealUseBench}'s {@code deleted30} store) and once as the default merge policy leaves it (a copy of
- * the clean store, the same delete, which rewrites the segment without its deleted codes). Each
+ * {@code deleted}% deleted (30 by default), once as the old leftover (one segment keeping its
+ * deleted codes: {@link RealUseBench}'s {@code deletedP} store) and once rewritten without them (a
+ * copy of the clean store, the same delete, which under the default merge policy rewrites the
+ * segment past a quarter deleted, then a compaction for a share below that). Each
  * query runs through both in turn, rotating which goes first, {@code rounds} times after a round
  * that checks they answer alike; a query's time is its best round. Ratios: summed per-query times
  * and the median of the per-query ratios, rewritten over leftover, measured in the same minutes.
  *
  * <p>Run: {@code java -Xmx8g -cp bench/target/benchmarks.jar -Dactindex.bench.data=DIR
- * io.actindex.bench.DeletedPaired [data=relu,dense] [queries=in,ood] [rounds=5] [count=512] [k=10]}.
+ * io.actindex.bench.DeletedPaired [data=relu,dense] [queries=in,ood] [rounds=5] [count=512] [k=10] [deleted=30]}.
  */
 public final class DeletedPaired {
   private DeletedPaired() {}
@@ -29,17 +30,19 @@ public final class DeletedPaired {
   public static void main(String[] args) throws IOException {
     String[] data = WorstCaseSweep.arg(args, "data", "relu,dense").split(","), kinds = WorstCaseSweep.arg(args, "queries", "in,ood").split(",");
     int n = 1_000_000, bits = 256, rounds = Integer.parseInt(WorstCaseSweep.arg(args, "rounds", "5")),
-        count = Integer.parseInt(WorstCaseSweep.arg(args, "count", "512")), k = Integer.parseInt(WorstCaseSweep.arg(args, "k", "10"));
+        count = Integer.parseInt(WorstCaseSweep.arg(args, "count", "512")), k = Integer.parseInt(WorstCaseSweep.arg(args, "k", "10")),
+        pct = Integer.parseInt(WorstCaseSweep.arg(args, "deleted", "30"));
     System.out.println("| data | queries | leftover µs | rewritten µs | rewritten / leftover (sum, median per query) | stored: leftover, rewritten | load |");
     System.out.println("|---|---|---:|---:|---:|---|---:|");
     for (String d : data) {
       CodeBlock codes = BenchData.codes(d, n, bits);
-      Path rewritten = BenchData.dir().resolve("deleted30-rewritten-" + d);
+      Path rewritten = BenchData.dir().resolve("deleted" + pct + "-rewritten-" + d);
       SegmentsPaired.copy(RealUseBench.store(d, codes, 1, null), rewritten);
-      try (IndexWriter w = IndexWriter.open(rewritten)) { // the default policy: the delete rewrites the segment
-        w.delete(RealUseBench.randomIds(n, 0.30, 0xDE1E7EL));
+      try (IndexWriter w = IndexWriter.open(rewritten)) { // the default policy: past a quarter, the delete rewrites the segment
+        w.delete(RealUseBench.randomIds(n, pct / 100.0, 0xDE1E7EL));
+        w.compact(); // nothing left to do unless below a quarter
       }
-      IndexReader[] r = {IndexReader.open(RealUseBench.store(d, codes, 1, "deleted30")), IndexReader.open(rewritten)};
+      IndexReader[] r = {IndexReader.open(RealUseBench.store(d, codes, 1, "deleted" + pct)), IndexReader.open(rewritten)};
       try {
         for (String kind : kinds) {
           long[][] qs = Arrays.copyOf(BenchData.queries(d, kind, n, bits).codeArrays(), count);
