@@ -108,6 +108,25 @@ class MergePolicyTest {
   }
 
   @Test
+  void theShareComesFromItsPropertyAndABadOneIsRefusedByName() {
+    String old = System.getProperty(MergePolicy.DELETED_SHARE_PROPERTY);
+    try {
+      System.clearProperty(MergePolicy.DELETED_SHARE_PROPERTY);
+      assertEquals(MergePolicy.DEFAULT_MAX_DELETED_SHARE, MergePolicy.defaults().maxDeletedShare());
+      System.setProperty(MergePolicy.DELETED_SHARE_PROPERTY, "0.4");
+      assertEquals(0.4, MergePolicy.defaults().maxDeletedShare());
+      System.setProperty(MergePolicy.DELETED_SHARE_PROPERTY, "a third");
+      io.actindex.core.BadParameterException e = org.junit.jupiter.api.Assertions.assertThrows(
+          io.actindex.core.BadParameterException.class, MergePolicy::defaults);
+      assertEquals("maxDeletedShare", e.parameter());
+      assertTrue(e.getMessage().contains("'a third'"), e.getMessage());
+    } finally {
+      if (old == null) System.clearProperty(MergePolicy.DELETED_SHARE_PROPERTY);
+      else System.setProperty(MergePolicy.DELETED_SHARE_PROPERTY, old);
+    }
+  }
+
+  @Test
   void anAllDeletedSegmentDisappearsAndNothingLoops() {
     Life life = new Life(new MergePolicy(MergePolicy.DEFAULT_MAX_SEGMENT_BYTES, 4, 65_536), true);
     life.add(1000);
