@@ -139,11 +139,15 @@ public class RealUseBench {
         }
         int[] del = switch (deletions) {
           case "tomb1" -> new int[] {n / 2};
-          case "deleted1" -> randomIds(n, 0.01, 0xDE1E7EL);
-          case "deleted30" -> randomIds(n, 0.30, 0xDE1E7EL);
-          default -> throw new IllegalArgumentException("unknown deletions " + deletions);
+          default -> { // deletedP: P% at random (deleted1, deleted30; DeletedPaired asks for others)
+            if (!deletions.matches("deleted\\d{1,2}")) throw new IllegalArgumentException("unknown deletions " + deletions);
+            yield randomIds(n, Integer.parseInt(deletions.substring(7)) / 100.0, 0xDE1E7EL);
+          }
         };
         try (IndexWriter w = IndexWriter.open(dir)) {
+          // deleted share 1: the deleted codes stay in the segment (the leftover these scenarios measure)
+          w.mergePolicy(new MergePolicy(MergePolicy.DEFAULT_MAX_SEGMENT_BYTES, MergePolicy.DEFAULT_MERGE_FACTOR,
+              MergePolicy.DEFAULT_FLOOR_CODES, 1));
           w.delete(del);
         }
       }

@@ -110,7 +110,7 @@ public final class SegmentsPaired {
   }
 
   /** A fresh byte copy of the store {@code from} at {@code to}. */
-  private static Path copy(Path from, Path to) {
+  static Path copy(Path from, Path to) {
     try (java.util.stream.Stream<Path> s = Files.walk(from)) {
       RealUseBench.delete(to);
       for (Path p : s.toList()) Files.copy(p, to.resolve(from.relativize(p).toString()));
@@ -146,14 +146,14 @@ public final class SegmentsPaired {
     }
   }
 
-  private static double medianRatio(double[] a, double[] b) {
+  static double medianRatio(double[] a, double[] b) {
     double[] r = new double[a.length];
     for (int i = 0; i < a.length; i++) r[i] = a[i] / b[i];
     Arrays.sort(r);
     return r[r.length / 2];
   }
 
-  private static double sum(double[] a) {
+  static double sum(double[] a) {
     return Arrays.stream(a).sum();
   }
 }

@@ -18,7 +18,8 @@ import picocli.CommandLine.Spec;
 @Command(name = "delete", mixinStandardHelpOptions = true,
     description = {"Deletes examples from an index in one atomic commit (their ids are never reused).",
         "Name the examples with --keys FILE or --where EXPR (exactly one of them). "
-            + "Their codes stay on disk until 'actindex compact'. A key that names no live example (deleted already, or never added) "
+            + "A segment left with more than a quarter of its codes deleted is rewritten without them; "
+            + "other deleted codes stay on disk until a merge or 'actindex compact'. A key that names no live example (deleted already, or never added) "
             + "refuses the whole delete, unless --skip-missing is given."})
 final class DeleteCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
@@ -56,13 +57,18 @@ final class DeleteCommand implements Callable<Integer> {
             .member("deleted", r.deleted())
             .member("live", r.live())
             .member("not_live", r.notLive().size())
+            .member("rewritten_segments", r.rewrittenSegments())
+            .member("dropped_codes", r.droppedCodes())
             .endObject();
         out.println();
       }
-      case csv -> new CsvWriter(out, List.of("index", "matched", "deleted", "live", "not_live"))
+      case csv -> new CsvWriter(out, List.of("index", "matched", "deleted", "live", "not_live", "rewritten_segments", "dropped_codes"))
           .row(List.of(index.dir.toString(), Integer.toString(r.matched()), Integer.toString(r.deleted()),
-              Integer.toString(r.live()), Integer.toString(r.notLive().size())));
-      case table -> out.println("deleted " + r.deleted() + (r.deleted() == 1 ? " example" : " examples") + " from " + index.dir + "; " + r.live() + " live");
+              Integer.toString(r.live()), Integer.toString(r.notLive().size()), Integer.toString(r.rewrittenSegments()),
+              Long.toString(r.droppedCodes())));
+      case table -> out.println("deleted " + r.deleted() + (r.deleted() == 1 ? " example" : " examples") + " from " + index.dir + "; " + r.live() + " live"
+          + (r.rewrittenSegments() == 0 ? "" : "; rewrote " + r.rewrittenSegments() + (r.rewrittenSegments() == 1 ? " segment" : " segments")
+              + " without " + r.droppedCodes() + " deleted " + (r.droppedCodes() == 1 ? "code" : "codes")));
     }
     out.flush();
     if (where != null) index.noteIfEmpty(r.live() + r.deleted(), "--where", where, r.matched()); // live before the delete

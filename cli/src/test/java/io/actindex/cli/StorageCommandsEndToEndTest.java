@@ -59,6 +59,7 @@ class StorageCommandsEndToEndTest {
     Path keys = Files2.text(tmp.resolve("keys.txt"), List.of("k5", "", "row-250", "k7"));
     JsonNode d = json(Cli.run("delete", "--index", idx.toString(), "--keys", keys.toString(), "--format", "json"));
     assertThat(d.get("deleted").asInt()).isEqualTo(3);
+    assertThat(List.of(d.get("rewritten_segments").asInt(), d.get("dropped_codes").asInt())).as("a few deleted: no rewrite").isEqualTo(List.of(0, 0));
     live.removeAll(List.of(5, 7, 250));
     // the same list again: refused by default (a typo never deletes half a list), files unchanged
     Map<String, String> once = Files2.checksums(idx);
@@ -80,7 +81,10 @@ class StorageCommandsEndToEndTest {
     for (int i = 0; i < 200; i += 3) if (live.remove(i)) labelledA++;
     assertThat(d.get("deleted").asInt()).isEqualTo(labelledA);
     assertThat(d.get("live").asInt()).isEqualTo(live.size());
+    // the built segment (ids 0-199) now has 2 + 67 of its 200 codes deleted, past a quarter: rewritten without them
+    assertThat(List.of(d.get("rewritten_segments").asInt(), d.get("dropped_codes").asInt())).isEqualTo(List.of(1, labelledA + 2));
     nearestMatchesScan();
+    nearestMatchesScan("label = b", id -> id < 200 && id % 3 != 0); // labels and keys line up after the rewrite
 
     JsonNode c = json(Cli.run("compact", "--index", idx.toString(), "--format", "json", "--threads", "3"));
     assertThat(c.get("stored_after").asInt()).isEqualTo(live.size());
@@ -219,12 +223,19 @@ class StorageCommandsEndToEndTest {
   }
 
   private void nearestMatchesScan() throws Exception {
+    nearestMatchesScan(null, id -> true);
+  }
+
+  /** nearest (with {@code --where where} unless null) against a scan over the live ids that {@code labelled} accepts. */
+  private void nearestMatchesScan(String where, java.util.function.IntPredicate labelled) throws Exception {
     boolean[][] queries = {codes[1], codes[250], codes[299]};
-    JsonNode doc = json(Cli.run("nearest", "--index", idx.toString(), "--codes",
+    List<String> args = new ArrayList<>(List.of("nearest", "--index", idx.toString(), "--codes",
         Files2.bits(tmp.resolve("q" + System.nanoTime() + ".npy"), queries).toString(), "-k", "6", "--format", "json"));
+    if (where != null) args.addAll(List.of("--where", where));
+    JsonNode doc = json(Cli.run(args.toArray(String[]::new)));
     for (int q = 0; q < queries.length; q++) {
       List<int[]> want = new ArrayList<>();
-      for (int id : live) want.add(new int[] {distance(queries[q], codes[id]), id});
+      for (int id : live) if (labelled.test(id)) want.add(new int[] {distance(queries[q], codes[id]), id});
       want.sort((a, b) -> a[0] != b[0] ? Integer.compare(a[0], b[0]) : Integer.compare(a[1], b[1]));
       JsonNode got = doc.get("results").get(q).get("neighbors");
       assertThat(got.size()).isEqualTo(6);

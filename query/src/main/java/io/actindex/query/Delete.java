@@ -4,6 +4,7 @@ import io.actindex.core.BadInputException;
 import io.actindex.core.BadParameterException;
 import io.actindex.index.meta.MetaStore;
 import io.actindex.index.meta.Where;
+import io.actindex.index.store.IndexInfo;
 import io.actindex.index.store.IndexReader;
 import io.actindex.index.store.IndexWriter;
 import java.io.IOException;
@@ -14,13 +15,17 @@ import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
+import java.util.HashSet;
 import java.util.List;
 import java.util.Objects;
+import java.util.Set;
 import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Deletes examples by key or by metadata filter, as one commit of tombstones (their ids are never
- * reused; {@link Compact} drops their codes). A keys file is read and every key resolved before
+ * reused). The merge policy then rewrites, each in a commit of its own, a segment left with too
+ * many deleted codes without them ({@code MergePolicy.maxDeletedShare}); {@link Compact} drops
+ * every deleted code. A keys file is read and every key resolved before
  * anything changes: a key that names no live example (deleted already, or never added: the index keeps
  * no keys of deleted examples, so it cannot tell which) refuses the whole delete, so a typo never
  * deletes half a list; with {@code skipMissing} such keys are skipped and reported in
@@ -57,8 +62,11 @@ public final class Delete {
    * @param warnings problems that did not undo the commit
    * @param notLive the keys file's keys that named no live example and were skipped, as
    *     {@code line N: 'KEY'} in file order (empty for a filter)
+   * @param rewrittenSegments segments the merges after the delete rewrote (0 when none ran)
+   * @param droppedCodes deleted codes those rewrites removed from the segment files
    */
-  public record Result(int matched, int deleted, int live, List<String> warnings, List<String> notLive) {
+  public record Result(int matched, int deleted, int live, List<String> warnings, List<String> notLive,
+      int rewrittenSegments, long droppedCodes) {
     public Result {
       warnings = List.copyOf(warnings);
       notLive = List.copyOf(notLive);
@@ -68,8 +76,10 @@ public final class Delete {
   public static Result run(Params p) {
     int[] ids;
     List<String> notLive = new ArrayList<>(), csvRows = new ArrayList<>();
+    List<IndexInfo.SegmentInfo> before;
     try (IndexReader r = IndexReader.open(p.dir())) {
       ids = p.keysFile() != null ? byKeys(r.meta(), p.keysFile(), notLive, csvRows) : Where.select(r.meta(), p.where()).toArray();
+      before = r.info().segments();
     }
     if (!notLive.isEmpty() && !p.skipMissing()) {
       throw new BadInputException("keys file " + p.keysFile() + " " + notLive.getFirst() + " is not a live example of the index "
@@ -82,9 +92,17 @@ public final class Delete {
       int deleted = w.delete(ids);
       List<String> warnings = w.takeWarnings();
       try (IndexReader r = IndexReader.open(p.dir())) {
-        return new Result(ids.length, deleted, r.liveCount(), warnings, notLive);
+        List<IndexInfo.SegmentInfo> after = r.info().segments();
+        Set<Integer> kept = new HashSet<>();
+        for (IndexInfo.SegmentInfo s : after) kept.add(s.segmentId());
+        return new Result(ids.length, deleted, r.liveCount(), warnings, notLive,
+            (int) before.stream().filter(s -> !kept.contains(s.segmentId())).count(), stored(before) - stored(after));
       }
     }
+  }
+
+  private static long stored(List<IndexInfo.SegmentInfo> segments) {
+    return segments.stream().mapToLong(IndexInfo.SegmentInfo::count).sum();
   }
 
   /**

@@ -171,7 +171,7 @@ public final class IndexWriter implements AutoCloseable {
 
   /**
    * Problems that did not undo a commit (old files that could not be deleted after a new manifest
-   * was published, the next writer deletes them; a merge that failed after an add's commit).
+   * was published, the next writer deletes them; a merge that failed after an add's or a delete's commit).
    * Cleared by reading.
    */
   public List<String> takeWarnings() {
@@ -239,13 +239,7 @@ public final class IndexWriter implements AutoCloseable {
       for (Map.Entry<Integer, FileRef> e : mags.entrySet()) next = next.withMagnitudes(e.getKey(), e.getValue());
       publish(batch == null ? next : next.withDocumented(first, end));
     });
-    try {
-      mergeAsNeeded();
-    } catch (RuntimeException | OutOfMemoryError e) { // the add stands: an error would invite adding the rows again
-      warnings.add("index " + dir + ": the add is committed (ids " + first + ".." + (end - 1)
-          + "); a merge of segments that followed failed, which leaves more segments than usual and loses nothing: "
-          + e.getMessage());
-    }
+    mergeAsNeeded("the add is committed (ids " + first + ".." + (end - 1) + ")");
     return first;
   }
 
@@ -267,7 +261,10 @@ public final class IndexWriter implements AutoCloseable {
 
   /**
    * Deletes the given ids (any order; repeats, ids never given out and ids deleted already are
-   * ignored) and commits; returns how many were live.
+   * ignored) and commits; returns how many were live. Then merges segments as the merge policy asks
+   * (each merge its own commit), which rewrites a segment left with too many deleted codes ({@link
+   * MergePolicy#maxDeletedShare}); a merge that fails after the delete's commit is a warning
+   * ({@link #takeWarnings()}), as after {@link #add}.
    */
   public int delete(int... ids) {
     ensureOpen();
@@ -290,6 +287,7 @@ public final class IndexWriter implements AutoCloseable {
           manifest.properties(), manifest.attachments(), commit));
       deleted = all;
     });
+    mergeAsNeeded("the delete is committed (" + count + (count == 1 ? " id)" : " ids)"));
     return count;
   }
 
@@ -318,19 +316,32 @@ public final class IndexWriter implements AutoCloseable {
     });
   }
 
-  /** Runs the merges the merge policy asks for, each its own commit. */
-  private void mergeAsNeeded() {
-    int w = manifest.layout().words();
-    while (true) {
-      List<Long> live = new ArrayList<>();
-      for (Manifest.SegmentEntry e : manifest.segments()) live.add((long) live(e));
-      int[] window = policy.next(live, w);
-      if (window == null) return;
-      mutate(() -> {
-        Manifest m = merge(manifest, window[0], window[1], null);
-        publish(m.next(m.nextId(), m.nextSegmentId(), m.segments(), m.tombstones(), m.properties(), m.attachments(),
-            m.metaCommit()));
-      });
+  /**
+   * Runs the merges the merge policy asks for after a committed change ({@code committed} says
+   * which, for the warning), each its own commit. A merge that fails is a warning, not an error: the
+   * change stands, and an error would invite making it again (adding the rows twice).
+   */
+  private void mergeAsNeeded(String committed) {
+    try {
+      int w = manifest.layout().words();
+      while (true) {
+        List<Long> live = new ArrayList<>(), stored = new ArrayList<>();
+        for (Manifest.SegmentEntry e : manifest.segments()) {
+          live.add((long) live(e));
+          stored.add((long) e.count());
+        }
+        int[] window = policy.next(live, stored, w);
+        if (window == null) return;
+        mutate(() -> {
+          Manifest m = merge(manifest, window[0], window[1], null);
+          publish(m.next(m.nextId(), m.nextSegmentId(), m.segments(), m.tombstones(), m.properties(), m.attachments(),
+              m.metaCommit()));
+        });
+      }
+    } catch (RuntimeException | OutOfMemoryError e) {
+      warnings.add("index " + dir + ": " + committed
+          + "; a merge of segments that followed failed, which leaves more segments than usual and loses nothing: "
+          + e.getMessage());
     }
   }
 

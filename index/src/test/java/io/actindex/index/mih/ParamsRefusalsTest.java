@@ -29,6 +29,9 @@ class ParamsRefusalsTest {
     refused("maxSegmentBytes", () -> new MergePolicy(0, 2, 1));
     refused("mergeFactor", () -> new MergePolicy(1 << 20, 1, 1));
     refused("floorCodes", () -> new MergePolicy(1 << 20, 2, 0));
+    refused("maxDeletedShare", () -> new MergePolicy(1 << 20, 2, 1, -0.01));
+    refused("maxDeletedShare", () -> new MergePolicy(1 << 20, 2, 1, 1.01));
+    refused("maxDeletedShare", () -> new MergePolicy(1 << 20, 2, 1, Double.NaN));
     refused("bits", () -> Magnitudes.quantise(new float[6], 2, 3, 3));
   }
 

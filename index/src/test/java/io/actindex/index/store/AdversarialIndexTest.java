@@ -66,7 +66,8 @@ class AdversarialIndexTest {
     RoaringBitmap deleted = new RoaringBitmap();
     int used = 0;
     try (IndexWriter w = IndexWriter.create(dir, layout, Map.of()).searchPlan(plan)
-        .mergePolicy(new MergePolicy(MergePolicy.DEFAULT_MAX_SEGMENT_BYTES, 50, 1 << 20))) {
+        // deleted share 1: the deleted codes (an all-deleted segment among them) stay until compact, searched past
+        .mergePolicy(new MergePolicy(MergePolicy.DEFAULT_MAX_SEGMENT_BYTES, 50, 1 << 20, 1))) {
       // one code, a large batch, two codes, a middle one: segments of very different sizes
       for (int n : new int[] {1, large, 2, large / 3}) {
         w.add(pool.slice(used, used + n), null);

@@ -57,7 +57,10 @@ class IndexSearchExactnessTest {
     CodeBlock all = net.sample(4_200 + 5_000 + 4_500, 0, seed + 1).codes();
     Path dir = tmp.resolve("partitioned");
     RoaringBitmap deleted = new RoaringBitmap();
-    try (IndexWriter w = IndexWriter.create(dir, all.layout(), Map.of())) {
+    // deleted share 1: the 30% deleted stay in the partitioned segments, searched past
+    MergePolicy keepDeleted = new MergePolicy(MergePolicy.DEFAULT_MAX_SEGMENT_BYTES, MergePolicy.DEFAULT_MERGE_FACTOR,
+        MergePolicy.DEFAULT_FLOOR_CODES, 1);
+    try (IndexWriter w = IndexWriter.create(dir, all.layout(), Map.of()).mergePolicy(keepDeleted)) {
       w.add(all.slice(0, 4_200), null);
       w.add(all.slice(4_200, 9_200), null);
       w.add(all.slice(9_200, all.size()), null);
@@ -162,6 +165,79 @@ class IndexSearchExactnessTest {
       }
       assertTrue(!hit.defersFilter(), why + ": first passes still tried after 200 repeats");
       assertTrue(miss.defersFilter(), why + ": first passes stopped for queries that rarely land on a deleted code");
+    }
+  }
+
+  /**
+   * Deletes past the deleted share rewrite the segment without its deleted codes, at once (the
+   * delete's own call), and one whose every code is deleted disappears: ids, codes, keys and labels
+   * stay as they were, searches equal brute force over the live codes after each step, and no
+   * segment is ever left past the share. Segments of 60-300 codes, uniform and ReLU-like, many seeds.
+   */
+  @Test
+  void deletesPastTheShareRewriteTheSegmentAndStayExact() {
+    for (int rep = 0; rep < 8; rep++) {
+      long seed = Randoms.seed(800 + rep);
+      String why = Randoms.describe(seed);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      CodeBlock pool = rep % 2 == 1 ? SyntheticCodes.reluLike(1200, 40 + rnd.nextInt(120), 20 + rnd.nextInt(80), seed).codes()
+          : SyntheticCodes.uniform(1200, new int[] {64, 100, 256}[rnd.nextInt(3)], seed);
+      // a merge factor of 50: each add stays its own segment, only the deleted share rewrites
+      MergePolicy policy = new MergePolicy(MergePolicy.DEFAULT_MAX_SEGMENT_BYTES, 50, 1 << 20);
+      Path dir = tmp.resolve("share-" + rep);
+      CodeBlock all = new CodeBlock(pool.layout(), 0, new long[0]);
+      List<String> labels = new ArrayList<>();
+      RoaringBitmap deleted = new RoaringBitmap();
+      try (IndexWriter w = IndexWriter.create(dir, pool.layout(), Map.of()).mergePolicy(policy)) {
+        for (int b = 0; b < 4; b++) {
+          int n = 60 + rnd.nextInt(240);
+          List<Map<String, String>> rows = new ArrayList<>();
+          for (int i = 0; i < n; i++) {
+            labels.add("c" + rnd.nextInt(3));
+            rows.add(Map.of("key", "k" + (all.size() + i), "label", labels.getLast()));
+          }
+          w.add(pool.slice(all.size(), all.size() + n), rows);
+          all = all.concat(pool.slice(all.size(), all.size() + n));
+        }
+        // a few ids at a time from one segment until it passes the share, then all of another
+        IndexInfo.SegmentInfo target = segmentOf(dir, rnd.nextInt(all.size()));
+        for (int step = 0; segmentOf(dir, target.firstId()) != null
+            && segmentOf(dir, target.firstId()).segmentId() == target.segmentId(); step++) {
+          RoaringBitmap del = new RoaringBitmap();
+          for (int i = 0; i < 1 + rnd.nextInt(Math.max(1, target.count() / 12)); i++) del.add(target.firstId() + rnd.nextInt(target.count()));
+          w.delete(del.toArray());
+          deleted.or(del);
+          assertTrue(step < target.count(), why + ": segment " + target + " never rewritten");
+          checkShares(dir, policy, deleted, why + " step " + step);
+          check(dir, all, labels, deleted, rnd, why + " step " + step);
+        }
+        IndexInfo.SegmentInfo rewritten = segmentOf(dir, RoaringBitmap.andNot(RoaringBitmap.bitmapOf(
+            java.util.stream.IntStream.range(target.firstId(), target.endId()).toArray()), deleted).first());
+        assertEquals(0, rewritten.deleted(), why + ": the rewrite keeps no deleted code");
+        int segments = w.segmentCount();
+        IndexInfo.SegmentInfo gone = segmentOf(dir, target.firstId() == 0 ? target.endId() : 0);
+        w.delete(java.util.stream.IntStream.range(gone.firstId(), gone.endId()).toArray());
+        deleted.add((long) gone.firstId(), (long) gone.endId());
+        assertEquals(segments - 1, w.segmentCount(), why + ": the segment whose every code is deleted is gone");
+        checkShares(dir, policy, deleted, why + " all of a segment deleted");
+        check(dir, all, labels, deleted, rnd, why + " all of a segment deleted");
+      }
+    }
+  }
+
+  /** The segment that stores {@code id}, or null. */
+  private static IndexInfo.SegmentInfo segmentOf(Path dir, int id) {
+    try (IndexReader r = IndexReader.open(dir)) {
+      return r.info().segments().stream().filter(s -> s.firstId() <= id && id < s.endId()).findFirst().orElse(null);
+    }
+  }
+
+  /** No segment past the share; every live key names its id, no deleted one names any. */
+  private static void checkShares(Path dir, MergePolicy policy, RoaringBitmap deleted, String why) {
+    try (IndexReader r = IndexReader.open(dir)) {
+      for (IndexInfo.SegmentInfo s : r.info().segments())
+        assertTrue(s.count() > 0 && s.deleted() <= policy.maxDeletedShare() * s.count(), why + ": segment " + s + " past the share");
+      for (int id = 0; id < r.maxId(); id++) assertEquals(deleted.contains(id) ? -1 : id, r.meta().idOfKey("k" + id), why + " key k" + id);
     }
   }
 

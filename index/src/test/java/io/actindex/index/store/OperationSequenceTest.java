@@ -153,7 +153,8 @@ class OperationSequenceTest {
 
     void openWriter() {
       int w = layout.words(), cap = scale == 1 ? 8 + rnd.nextInt(50) : 4096 + rnd.nextInt(4096);
-      policy = new MergePolicy(256 + cap * (8L * w + 4), 2 + rnd.nextInt(3), (1 + rnd.nextInt(16)) * scale);
+      policy = new MergePolicy(256 + cap * (8L * w + 4), 2 + rnd.nextInt(3), (1 + rnd.nextInt(16)) * scale,
+          new double[] {0, 0.25, 1}[rnd.nextInt(3)]); // deleted share: rewrite on any delete, the default, never
       assertEquals(cap, policy.maxCodes(w), why);
       maxCap = Math.max(maxCap, cap);
       // segments of test size get a partition (so a share in the joint search) only under PARTITION
@@ -164,7 +165,7 @@ class OperationSequenceTest {
         default -> SearchPlanOptions.defaults();
       };
       writer = (writer == null ? IndexWriter.create(dir, layout, Map.of()) : IndexWriter.open(dir)).mergePolicy(policy).searchPlan(plan);
-      log.add("writer cap=" + cap + " factor=" + policy.mergeFactor() + " floor=" + policy.floorCodes() + " plan=" + plan.strategy());
+      log.add("writer cap=" + cap + " factor=" + policy.mergeFactor() + " floor=" + policy.floorCodes() + " share=" + policy.maxDeletedShare() + " plan=" + plan.strategy());
     }
 
     Snapshot now() {

@@ -20,7 +20,7 @@ import org.roaringbitmap.RoaringBitmap;
 
 /**
  * Power loss at every step of a run of changes (adds with and without metadata, automatic merges,
- * a delete, a compaction): the machine stops at operation K of the {@link PowerLossIo} layer, the
+ * a delete, a compaction, a delete followed by its rewrite of a segment past the deleted share): the machine stops at operation K of the {@link PowerLossIo} layer, the
  * folder is rewound to what was fsynced, and the index must open at the last change that returned
  * or at the one in flight — never lose a returned change, never open damaged. Removing any fsync
  * of the commit path (a file's or the folder's) makes this test fail.
@@ -59,7 +59,8 @@ class PowerLossTest {
         new Step("add 20-39 bare, merges", w -> w.add(codes.slice(20, 40), null)),
         new Step("delete", w -> w.delete(1, 12, 25)),
         new Step("add 40-79 with metadata, split and merged", w -> w.add(codes.slice(40, 80), StoreFixtures.rows(40, 40))),
-        new Step("compact", IndexWriter::compact));
+        new Step("compact", IndexWriter::compact),
+        new Step("delete past the deleted share, rewritten", w -> w.delete(java.util.stream.IntStream.range(40, 70).toArray())));
     Path pristine = tmp.resolve("pristine");
     IndexWriter.create(pristine, codes.layout(), Map.of()).close();
 
@@ -76,6 +77,11 @@ class PowerLossTest {
       }
       opsAfter.add(counting.ops());
       states.add(State.of(full));
+      if (s.name().contains("rewritten"))
+        try (IndexReader r = IndexReader.open(full)) {
+          assertTrue(r.info().segments().stream().allMatch(g -> g.deleted() <= SMALL.maxDeletedShare() * g.count()),
+              "the delete past the share rewrote its segments: " + r.info().segments());
+        }
     }
     assertTrue(states.get(3).segments() < 4, "merges happened: " + states.get(3).segments() + " segments");
 

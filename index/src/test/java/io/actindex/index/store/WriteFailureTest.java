@@ -257,6 +257,47 @@ class WriteFailureTest {
     }
   }
 
+  /**
+   * The rewrite that follows a delete's commit (a third of the only segment deleted) fails: the
+   * delete stands and returns its count with a warning that says so; the rewrite leaves no file, the
+   * deleted codes stay in their segment, and the next delete's rewrite drops them.
+   */
+  @Test
+  void failedRewriteAfterADeleteIsAWarningAndTheDeleteStands() throws IOException {
+    Path dir = tmp.resolve("idx");
+    CodeBlock codes = SyntheticCodes.uniform(30, 64, 7);
+    indexOf30(dir, codes); // seg-0
+    StoreIo full = new StoreIo.Forwarding(StoreIo.REAL) {
+      @Override
+      public FileChannel create(Path file) throws IOException {
+        if (file.getFileName().toString().equals("seg-1.codes")) throw io.actindex.core.NoSpace.exception(); // the rewrite's output
+        return super.create(file);
+      }
+    };
+    IndexWriter w = IndexWriter.open(dir, full);
+    assertEquals(10, w.delete(java.util.stream.IntStream.range(0, 10).toArray()));
+    List<String> warnings = w.takeWarnings();
+    assertEquals(1, warnings.size(), warnings.toString());
+    assertTrue(warnings.get(0).contains("the delete is committed (10 ids)"), warnings.get(0));
+    assertTrue(warnings.get(0).contains("no space left on device"), warnings.get(0));
+    w.close();
+    assertEquals(List.of("manifest-3", "meta", "seg-0.codes", "seg-0.tables", "tomb-3.bits", "writer.lock"),
+        names(dir), "the failed rewrite left no file");
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertEquals(20, r.liveCount());
+      assertEquals(10, r.info().segments().get(0).deleted());
+      assertEquals(-1, r.meta().idOfKey("k0"));
+      assertEquals(10, r.meta().idOfKey("k10"));
+    }
+    try (IndexWriter again = IndexWriter.open(dir)) {
+      assertEquals(1, again.delete(10));
+    }
+    try (IndexReader r = IndexReader.open(dir)) {
+      assertEquals(List.of(19), r.info().segments().stream().map(IndexInfo.SegmentInfo::count).toList());
+      assertEquals(11, r.meta().idOfKey("k11"));
+    }
+  }
+
   @Test
   void failedCleanUpAfterPublishingIsAWarning() throws IOException {
     Path dir = tmp.resolve("idx");
