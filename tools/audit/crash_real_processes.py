@@ -25,6 +25,8 @@ processes on copies of the demo's index, and
      leaves is removed by the next write of the same target once it is older than 10 minutes (its
      time is set back) and kept while younger.
 Trials run one after another (the machine is shared). The seed is printed; --seed repeats a run.
+Exit code: 0 when every trial ran and none failed; 1 when any failed; 130 when Ctrl-C cut the run
+short (after the table of the trials done) and none of those failed.
 
   python3 tools/audit/crash_real_processes.py [--work DIR] [--trials N] [--signal-trials N] [--seed S]
       [--only "add,compact,pairs,outputs"] [--signals KILL,INT,TERM] [--output-trials N]
@@ -560,6 +562,7 @@ def main():
     au.setup(needed)
     names = [n for n in au.commands if not only or n in only]
     sigs = [getattr(signal, "SIG" + x.strip()) for x in a.signals.split(",")]
+    interrupted = False
     try:  # Ctrl-C (SIGINT to this script) stops the run and prints the table of the trials done
         if not only or "pairs" in only:  # first: the shortest part
             au.build_onto_index()
@@ -589,6 +592,7 @@ def main():
                 print(f"{sig.name}: output files x {a.output_trials}", flush=True)
                 au.outputs_interrupted(a.output_trials, sig)
     except KeyboardInterrupt:
+        interrupted = True
         print("\ninterrupted: the table counts the trials done so far", flush=True)
     print(f"\nseed {seed}\n")
     print("| command | trials | outcomes | failures by kind |")
@@ -608,7 +612,10 @@ def main():
     print(f"\n{total} trials and reads; {len(au.notes)} failures")
     for n in au.notes:
         print("  " + n)
-    sys.exit(1 if au.notes else 0)
+    # a failure first (exit 1), else a run cut short by Ctrl-C (130, the shell's code for SIGINT): neither is a pass
+    if interrupted:
+        print("incomplete: interrupted before every trial ran" + ("" if au.notes else "; exit 130"))
+    sys.exit(1 if au.notes else 130 if interrupted else 0)
 
 
 

@@ -19,7 +19,8 @@ import picocli.CommandLine.Spec;
     description = {"Verifies every byte of every file of an index and reports per file; never writes.",
         "Checks each file's CRC32, every hash-table key against its codes, and the checksum of every metadata (Lucene) file. "
             + "Exits 2, naming the first damaged file, if any is damaged. Files the index does not use are listed as "
-            + "leftovers (exit 0 when the index is sound)."})
+            + "leftovers (exit 0 when the index is sound); while an add, delete or compact runs, a note says so (its files "
+            + "in progress are among the leftovers)."})
 final class CheckCommand implements Callable<Integer> {
   @Spec CommandSpec spec;
   @Mixin Verbose verbose;
@@ -48,7 +49,7 @@ final class CheckCommand implements Callable<Integer> {
         for (IndexCheck.Leftover f : r.leftovers())
           j.beginObject().member("file", f.file()).member("bytes", f.bytes()).name("ok").value(true).member("status", LEFTOVER)
               .name("removed_by_next_change").value(f.removedByWriter()).endObject();
-        j.endArray().endObject();
+        j.endArray().name("writer_running").value(r.writerRunning()).endObject();
         out.println();
       }
       case csv -> {
@@ -69,16 +70,24 @@ final class CheckCommand implements Callable<Integer> {
         for (IndexCheck.FileResult f : r.files())
           if (!f.ok()) out.println("  " + f.file() + ": " + f.problem());
         if (!r.leftovers().isEmpty()) {
-          out.println(r.leftovers().size() + " leftover file(s), not part of the index (left by an interrupted or failed change,"
-              + " or put here):");
-          out.println("safe to delete (the index stays as it is) while no add, delete or compact runs on it");
+          out.println(r.leftovers().size() + " leftover file(s), not part of the index ("
+              + (r.writerRunning() ? "files of the change now running, not committed yet, or " : "")
+              + "left by an interrupted or failed change, or put here):");
+          out.println(r.writerRunning() ? "do not delete any while that change runs; run check again once it ends"
+              : "safe to delete (the index stays as it is) while no add, delete or compact runs on it");
           for (IndexCheck.Leftover f : r.leftovers())
-            out.println("  " + f.file() + ": " + f.bytes() + " bytes, "
-                + (f.removedByWriter() ? "removed by the next add, delete or compact" : "never removed by actindex (a name it does not write)"));
+            out.println("  " + f.file() + ": " + f.bytes() + " bytes, " + (!f.removedByWriter()
+                ? "never removed by actindex (a name it does not write)"
+                : r.writerRunning() ? "the running change's, or removed by the next add, delete or compact"
+                : "removed by the next add, delete or compact"));
         }
       }
     }
     out.flush();
+    if (r.writerRunning())
+      spec.commandLine().getErr().println("note: a writer holds " + index.dir.resolve("writer.lock")
+          + " (an add, delete or compact is running on this index): files it has not committed yet are listed as leftovers;"
+          + " do not delete them, and run check again once it ends");
     IndexCheck.FileResult bad = r.firstDamaged();
     if (bad != null) throw new BadInputException(bad.problem());
     return ExitCodes.OK;

@@ -24,6 +24,7 @@ import org.apache.lucene.index.TermsEnum;
 import org.apache.lucene.search.DocIdSetIterator;
 import org.apache.lucene.store.Directory;
 import org.apache.lucene.store.FSDirectory;
+import org.apache.lucene.store.FilterDirectory;
 import org.apache.lucene.store.Lock;
 import org.apache.lucene.store.LockObtainFailedException;
 import org.apache.lucene.util.Bits;
@@ -118,33 +119,65 @@ public final class MetaWriter implements Closeable {
    * and stops at one it cannot parse (junk, a copy, a commit cut short); see {@link #removesLeftover}.
    */
   public static MetaWriter open(Path metaDir, String segmentsFile) throws IOException {
-    return open(metaDir, Opener.FILES, segmentsFile);
+    return open(metaDir, Opener.FILES, segmentsFile, () -> {});
   }
 
-  /** As {@link #open(Path, String)}, reaching the folder through {@code opener}. */
-  public static MetaWriter open(Path metaDir, Opener opener, String segmentsFile) throws IOException {
+  /**
+   * As {@link #open(Path, String)}, reaching the folder through {@code opener}. Lucene's write lock
+   * is taken first and held until Lucene's writer has opened: {@code whileLocked} runs once it is
+   * held, before anything is read or deleted, so that the caller can make sure that the commit it
+   * names is still the newest (no other writer committed before the lock; none can after it).
+   */
+  public static MetaWriter open(Path metaDir, Opener opener, String segmentsFile, Runnable whileLocked) throws IOException {
     Directory dir = opener.open(metaDir);
+    Lock lock = null;
     try {
-      IndexCommit commit;
-      // Lucene's lock, held while deleting: another process's writer holds it only when writer.lock was taken from that
-      // writer (removed while held), and then its commit in progress must not be deleted here
-      try (Lock held = dir.obtainLock(IndexWriter.WRITE_LOCK_NAME)) {
-        commit = MetaStore.findCommit(metaDir, dir, segmentsFile);
-        for (String name : dir.listAll())
-          if (otherCommit(name, segmentsFile)) dir.deleteFile(name);
+      try {
+        lock = dir.obtainLock(IndexWriter.WRITE_LOCK_NAME);
       } catch (LockObtainFailedException e) {
+        // another process's writer holds it only when writer.lock was taken from that writer (removed while held)
         throw new BadInputException("index " + metaDir.getParent() + " is locked by another writer (another process holds its "
             + metaDir.getFileName() + "/" + IndexWriter.WRITE_LOCK_NAME + ", though writer.lock was free: was it removed?); wait "
             + "for that one to end and run this again", e);
       }
+      whileLocked.run();
+      // Lucene's writer takes the lock held here (and releases it when it closes, or fails to open); the commit must be
+      // found through the directory the writer is given
+      Directory handing = handingOver(dir, lock);
+      IndexCommit commit = MetaStore.findCommit(metaDir, handing, segmentsFile);
+      for (String name : dir.listAll())
+        if (otherCommit(name, segmentsFile)) dir.deleteFile(name);
       KeepPublishedPolicy policy = new KeepPublishedPolicy();
       policy.publish(commit.getGeneration());
       IndexWriterConfig cfg = config(policy).setOpenMode(IndexWriterConfig.OpenMode.APPEND).setIndexCommit(commit);
-      return new MetaWriter(metaDir, dir, policy, new IndexWriter(dir, cfg), MetaStore.kinds(commit.getUserData()));
+      IndexWriter writer = new IndexWriter(handing, cfg);
+      lock = null;
+      try {
+        return new MetaWriter(metaDir, dir, policy, writer, MetaStore.kinds(commit.getUserData()));
+      } catch (IOException | RuntimeException e) {
+        writer.rollback();
+        throw e;
+      }
     } catch (IOException | RuntimeException e) {
+      if (lock != null) lock.close();
       dir.close();
       throw e;
     }
+  }
+
+  /** {@code dir} whose first request of Lucene's write lock gets {@code held}, taken on {@code dir} already. */
+  private static Directory handingOver(Directory dir, Lock held) {
+    return new FilterDirectory(dir) {
+      private Lock pending = held;
+
+      @Override
+      public Lock obtainLock(String name) throws IOException {
+        if (pending == null || !name.equals(IndexWriter.WRITE_LOCK_NAME)) return super.obtainLock(name);
+        Lock l = pending;
+        pending = null;
+        return l;
+      }
+    };
   }
 
   /** Whether {@code name} is a segments file (a commit, or one being written) other than {@code segmentsFile}. */
@@ -164,10 +197,12 @@ public final class MetaWriter implements Closeable {
 
   /**
    * Removes what a failed change left in the store: every commit but the published one ({@code
-   * segmentsFile}) and every file no kept commit references. The published commit is not touched.
+   * segmentsFile}) and every file no kept commit references. The published commit is not touched;
+   * {@code whileLocked} as in {@link #open(Path, Opener, String, Runnable)}.
    */
-  public static void dropUnpublished(Path metaDir, Opener opener, String segmentsFile) throws IOException {
-    open(metaDir, opener, segmentsFile).close();
+  public static void dropUnpublished(Path metaDir, Opener opener, String segmentsFile, Runnable whileLocked)
+      throws IOException {
+    open(metaDir, opener, segmentsFile, whileLocked).close();
   }
 
   private static IndexWriterConfig config(KeepPublishedPolicy policy) {

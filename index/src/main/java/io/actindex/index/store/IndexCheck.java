@@ -20,8 +20,9 @@ import java.util.stream.Stream;
  * then the cross-file counts that opening checks. Unlike {@link IndexReader#open}, it reads big
  * files in full, and it keeps going after a damaged file so the report lists every file. Files of
  * the folder and of {@code meta/} that the generation does not use (what a killed or failed change
- * left, a stray Lucene commit) are listed as leftovers, not checked: they are not part of the
- * index. Never writes.
+ * left, a stray Lucene commit, the files of a change still running) are listed as leftovers, not
+ * checked: they are not part of the index. Never writes (it tries the writer's lock for an instant
+ * to tell whether a change is running).
  */
 public final class IndexCheck {
   private IndexCheck() {}
@@ -50,8 +51,10 @@ public final class IndexCheck {
   /**
    * Every file checked, in manifest order, then the metadata files and the cross-file check
    * ("index"); then the leftovers, by name (none when the manifest itself is damaged).
+   * {@code writerRunning}: a writer held the folder's lock when the check began or ended, so some
+   * leftovers may be the files of a change in progress (not yet named by a manifest).
    */
-  public record Report(Path dir, long generation, List<FileResult> files, List<Leftover> leftovers) {
+  public record Report(Path dir, long generation, List<FileResult> files, List<Leftover> leftovers, boolean writerRunning) {
     public Report {
       files = List.copyOf(files);
       leftovers = List.copyOf(leftovers);
@@ -81,6 +84,7 @@ public final class IndexCheck {
     if (!Files.isDirectory(dir)) throw new BadInputException("index folder " + dir + " does not exist or is not a folder");
     long gen = Manifest.newestGeneration(dir);
     if (gen < 0) throw Manifest.noManifest(dir);
+    boolean writing = WriteLock.heldByWriter(dir);
     List<FileResult> out = new ArrayList<>();
     String manifestName = Manifest.fileName(gen);
     Manifest m;
@@ -89,7 +93,7 @@ public final class IndexCheck {
       out.add(new FileResult(manifestName, size(dir.resolve(manifestName)), null));
     } catch (BadInputException e) {
       out.add(new FileResult(manifestName, size(dir.resolve(manifestName)), e.getMessage()));
-      return new Report(dir, gen, out, List.of());
+      return new Report(dir, gen, out, List.of(), writing || WriteLock.heldByWriter(dir));
     }
     List<Path> files = new ArrayList<>();
     for (FileRef f : m.files()) files.add(dir.resolve(f.name()));
@@ -155,7 +159,7 @@ public final class IndexCheck {
     if (filesOk) out.add(new FileResult("index", 0, problem(() -> IndexReader.open(dir).close())));
     step.run();
     leftovers.sort(java.util.Comparator.comparing(Leftover::file));
-    return new Report(dir, gen, out, leftovers);
+    return new Report(dir, gen, out, leftovers, writing || WriteLock.heldByWriter(dir));
   }
 
   /** The files (not folders) of {@code folder} not in {@code used}, named {@code prefix + name}. */

@@ -123,14 +123,18 @@ public final class IndexWriter implements AutoCloseable {
         Path metaDir = dir.resolve(META_DIR);
         if (!Files.isDirectory(metaDir)) throw new BadInputException("metadata folder " + metaDir + " is missing");
         io.syncDir(dir); // the manifest read is durable before anything it does not name is deleted (a writer killed before its folder fsync)
-        ensureCurrent(lock, dir, gen); // else what the manifest read does not name may be another writer's commit
-        meta = MetaWriter.open(metaDir, io.meta(), m.metaCommit());
+        // checked under Lucene's lock on the metadata store, which no other writer can then open: else what the manifest
+        // read does not name may be another writer's commit
+        meta = MetaWriter.open(metaDir, io.meta(), m.metaCommit(), () -> ensureCurrent(lock, dir, gen));
         IndexWriter w = new IndexWriter(dir, io, lock, meta, m, deleted);
         w.cleanUp();
         return w;
       } catch (IOException | RuntimeException e) {
+        // with writer.lock taken from this writer, the failure (say, Lucene's lock held) may come from another writer
+        RuntimeException lost = lock.held() ? null : lock.lost(e);
         if (meta != null) meta.close();
         lock.close();
+        if (lost != null) throw lost;
         throw e;
       }
     } catch (IOException e) {
@@ -513,7 +517,8 @@ public final class IndexWriter implements AutoCloseable {
     if (undone) { // Lucene's files of the failed change (a commit no manifest names, a half-written flush), under our lock
       try {
         Path metaDir = dir.resolve(META_DIR);
-        MetaWriter.dropUnpublished(metaDir, io.meta(), manifest.metaCommit());
+        MetaWriter.dropUnpublished(metaDir, io.meta(), manifest.metaCommit(),
+            () -> ensureCurrent(lock, dir, manifest.generation()));
       } catch (IOException | RuntimeException e) {
         cause.addSuppressed(e);
       }

@@ -62,6 +62,36 @@ final class WriteLock implements AutoCloseable {
     }
   }
 
+  /**
+   * Whether a writer holds {@code dir}'s lock now, in this process or another, found without keeping
+   * it: this process's writers by the set of held folders (reserved meanwhile, so that none of them
+   * starts while the file is open here), another process's by a shared lock tried on {@value #FILE}
+   * and released at once. For that instant a writer starting in another process is refused as if
+   * one ran (it says to wait and run again). Never creates the file; false when there is none or it
+   * cannot be opened or locked.
+   */
+  static boolean heldByWriter(Path dir) {
+    Path key;
+    try {
+      key = dir.toRealPath();
+    } catch (IOException e) {
+      return false;
+    }
+    if (!HELD.add(key)) return true;
+    try (FileChannel ch = FileChannel.open(key.resolve(FILE), StandardOpenOption.READ)) {
+      FileLock l = ch.tryLock(0, Long.MAX_VALUE, true);
+      if (l == null) return true;
+      l.release();
+      return false;
+    } catch (OverlappingFileLockException e) {
+      return true;
+    } catch (IOException e) {
+      return false;
+    } finally {
+      HELD.remove(key);
+    }
+  }
+
   /** Whether {@value #FILE} is still the file this writer locked (not removed or replaced while held). */
   boolean held() {
     if (!lock.isValid()) return false;

@@ -1,5 +1,6 @@
 package io.actindex.index.store;
 
+import static org.junit.jupiter.api.Assertions.assertArrayEquals;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertThrows;
@@ -12,9 +13,21 @@ import java.io.InputStreamReader;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.LinkedHashMap;
+import java.util.List;
 import java.util.Map;
 import java.util.concurrent.TimeUnit;
+import io.actindex.index.meta.MetaOpeners;
+import io.actindex.index.meta.MetaWriter;
+import java.io.IOException;
+import org.apache.lucene.store.Directory;
+import org.apache.lucene.store.FilterDirectory;
+import org.apache.lucene.store.IOContext;
+import org.apache.lucene.store.IndexInput;
+import org.apache.lucene.store.Lock;
+import org.junit.jupiter.api.Tag;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 
@@ -138,6 +151,130 @@ class WriterLockTest {
       assertEquals(40, r.meta().idOfKey("k40")); // the child's first row
     }
     assertTrue(IndexCheck.run(dir).ok());
+  }
+
+  /**
+   * {@code d}, running {@code before} ahead of each listing, read, deletion and lock request: the
+   * points where another writer may run while this one opens the metadata store.
+   */
+  private static Directory counting(Directory d, Runnable before) {
+    return new FilterDirectory(d) {
+      @Override
+      public String[] listAll() throws IOException {
+        before.run();
+        return super.listAll();
+      }
+
+      @Override
+      public IndexInput openInput(String name, IOContext context) throws IOException {
+        before.run();
+        return super.openInput(name, context);
+      }
+
+      @Override
+      public void deleteFile(String name) throws IOException {
+        before.run();
+        super.deleteFile(name);
+      }
+
+      @Override
+      public Lock obtainLock(String name) throws IOException {
+        before.run();
+        return super.obtainLock(name);
+      }
+    };
+  }
+
+  /** A store layer whose metadata folder runs {@code before} ahead of each call {@link #counting} sees. */
+  private static StoreIo metaCalls(Runnable before) {
+    return new StoreIo.Forwarding(StoreIo.REAL) {
+      @Override
+      MetaWriter.Opener meta() {
+        return MetaOpeners.wrapping(delegate.meta(), (metaDir, d) -> counting(d, before));
+      }
+    };
+  }
+
+  /** How many calls {@link #counting} sees while a writer opens {@code dir}. */
+  private static int callsWhileOpening(Path dir) {
+    int[] calls = {0};
+    try (IndexWriter w = IndexWriter.open(dir, metaCalls(() -> calls[0]++))) {
+      return calls[0];
+    }
+  }
+
+  @Test
+  void anotherWriterAtTheFirstOrLastCallOfTheMetadataOpenCommitsAloneOrIsRefused() throws Exception {
+    Path source = index();
+    int total = callsWhileOpening(source);
+    assertTrue(total >= 3, "calls to the metadata folder while opening: " + total);
+    otherWriterBeforeCall(source, 1);
+    otherWriterBeforeCall(source, total);
+  }
+
+  /** As above at every call in turn (a child JVM each, about 40 s). */
+  @Tag("slow")
+  @Test
+  void aWriterWhoseLockFileWasRemovedWhileItOpenedTheMetadataCommitsNothingAndLeavesTheOtherWritersCommitAlone()
+      throws Exception {
+    Path source = index();
+    int total = callsWhileOpening(source);
+    List<String> failures = new ArrayList<>();
+    for (int at = 1; at <= total; at++) {
+      try {
+        otherWriterBeforeCall(source, at);
+      } catch (AssertionError e) {
+        failures.add("other writer before call " + at + " of " + total + ": " + e.getMessage());
+      }
+    }
+    assertEquals(List.of(), failures);
+  }
+
+  /** On a copy of {@code source}: writer.lock removed and another process adding before the {@code at}-th call. */
+  private void otherWriterBeforeCall(Path source, int at) throws Exception {
+    Path dir = tmp.resolve("at" + at);
+    StoreFixtures.copy(source, dir);
+    Map<Path, String> before = contents(dir);
+    int[] seen = {0};
+    boolean[] opening = {true};
+    String[] line = {null};
+    StoreIo io = metaCalls(() -> {
+      if (!opening[0] || ++seen[0] != at) return;
+      try {
+        Files.delete(dir.resolve(WriteLock.FILE));
+        Process p = child(dir, "add");
+        line[0] = firstLine(p);
+        assertTrue(p.waitFor(60, TimeUnit.SECONDS));
+      } catch (Exception e) {
+        throw new IllegalStateException(e);
+      }
+    });
+    Throwable thrown = assertThrows(Throwable.class, () -> {
+      try (IndexWriter w = IndexWriter.open(dir, io)) {
+        opening[0] = false;
+        w.add(StoreFixtures.sample(7).slice(40, 50), StoreFixtures.rows(40, 10));
+      }
+    }, "this writer's add went through");
+    assertTrue(thrown instanceof BadInputException, thrown.toString());
+    assertLost((BadInputException) thrown, dir);
+    assertTrue(line[0] != null, "the other writer did not run");
+    if (line[0].equals("DONE")) { // its commit stands and answers queries
+      CodeBlock theirs = StoreFixtures.sample(1).slice(0, LockChild.ADDED); // what LockChild adds
+      try (IndexReader r = IndexReader.open(dir)) {
+        assertEquals(40 + LockChild.ADDED, r.maxId());
+        assertEquals(40, r.meta().idOfKey("k40"));
+        for (int i = 0; i < LockChild.ADDED; i++) {
+          int id = 40 + i;
+          assertTrue(Arrays.stream(r.searchRadius(theirs.code(i), 0, null, null).ords()).anyMatch(o -> o == id),
+              "id " + id + " not found at distance 0 from its code");
+          assertArrayEquals(theirs.code(i), r.code(id), "id " + id);
+        }
+      }
+      assertTrue(IndexCheck.run(dir).ok(), "check");
+    } else { // refused by this writer's metadata lock: neither committed
+      assertTrue(line[0].startsWith("REFUSED index " + dir + " is locked by another writer"), line[0]);
+      assertEquals(before, contents(dir));
+    }
   }
 
   private static void assertLost(BadInputException e, Path dir) {
