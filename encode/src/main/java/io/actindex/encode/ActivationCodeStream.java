@@ -127,11 +127,12 @@ final class ActivationCodeStream implements CodeStream {
     float f = (float) v;
     if (Float.isFinite(f)) return f;
     String layerName = "layer " + BadInputException.quote(src.names().get(layer));
-    String where = src.rowSource().equals(src.source())
-        ? src.source() + ": " + (widths.length > 1 ? layerName + ", " : "") + "row " + (lastStart + row) + ", column " + col + " (0-based)"
-        : src.rowSource() + ": row " + (lastStart + row) + " (0-based) through the model " + src.source() + ", " + layerName + ", unit " + col;
+    boolean throughModel = !src.rowSource().equals(src.source());
+    String where = throughModel
+        ? src.rowSource() + ": row " + (lastStart + row) + " (0-based) through the model " + src.source() + ", " + layerName + ", unit " + col
+        : src.source() + ": " + (widths.length > 1 ? layerName + ", " : "") + "row " + (lastStart + row) + ", column " + col + " (0-based)";
     throw new BadInputException(where + ": value " + v + " does not fit the float32 in which activations"
-        + " are kept (at most about 3.4e38); scale the " + (where.contains("through the model") ? "inputs" : "activations")
+        + " are kept (at most about 3.4e38); scale the " + (throughModel ? "inputs" : "activations")
         + ", or build with `magnitudeBits 0` to keep none");
   }
 
