@@ -219,7 +219,7 @@ final class MihSearcher implements CodeSearcher {
           }
           s.scanCost = scanCost = cost.scan((int) Math.max(0, head.stop - head.end), sel.at().length);
         }
-        usePartition = !(s.untried = partitionHopeless(s.visit, head, kk, scanCost));
+        usePartition = !(s.untried = partitionHopeless(s.visit, head, kk, scanCost) || partitionCannotPay(s.visit, kk, scanCost));
       }
       if (usePartition) {
         TopK top;
@@ -382,6 +382,20 @@ final class MihSearcher implements CodeSearcher {
     while (head.top.countWithin(guess) < j) guess++;
     double limit = HOPELESS * MASKED_PROVEN * scanCost;
     return partition.estimate(v, 0, guess, cost, limit) > limit;
+  }
+
+  /**
+   * Whether the partition, tried after the masked scan's head, could not finish the query even if
+   * its try (the nearest clusters) found k codes at distance 0: its estimate for the clusters after
+   * the try is least at a k-th distance of 0 (every window only shrinks as the bound drops), and the
+   * scan it would have to beat only gets shorter after the try. Where that least estimate is over
+   * the limit the try is wasted whatever it finds (skewed codes under one layer out of distribution,
+   * codes without structure); the head's guess ({@link #partitionHopeless}) needs k of 64 or more,
+   * this needs none.
+   */
+  private boolean partitionCannotPay(Partition.Visit v, int k, double scanCost) {
+    double limit = MASKED_PROVEN * scanCost;
+    return partition.estimate(v, partition.nearestClusters(v, k), 0, cost, limit) > limit;
   }
 
   /**
@@ -670,7 +684,7 @@ final class MihSearcher implements CodeSearcher {
     return new long[] {s.probes, s.candidates, s.path == PATH_SCAN || s.path == PATH_HEAD ? 1 : 0, s.path};
   }
 
-  /** Expert, for tests: whether this thread's last query left the partition untried after the masked head ({@link #partitionHopeless}). */
+  /** Expert, for tests: whether this thread's last query left the partition untried after the masked head ({@link #partitionHopeless}, {@link #partitionCannotPay}). */
   boolean lastLeftPartitionUntried() {
     return scratch.get().untried;
   }

@@ -443,10 +443,17 @@ final class Partition {
     return done;
   }
 
+  /** How many of the nearest clusters {@link #scanNearest} reads for {@code least} codes, after {@link #begin}. */
+  int nearestClusters(Visit v, long least) {
+    int done = 0;
+    for (long read = 0; done < clusters() && read < least; done++) read += start[v.order[done] + 1] - start[v.order[done]];
+    return done;
+  }
+
   /** How many codes {@link #scanNearest} reads for {@code least}: the nearest clusters' sizes, after {@link #begin}. */
   long nearestCodes(Visit v, long least) {
     long read = 0;
-    for (int done = 0; done < clusters() && read < least; done++) read += start[v.order[done] + 1] - start[v.order[done]];
+    for (int p = 0, m = nearestClusters(v, least); p < m; p++) read += start[v.order[p] + 1] - start[v.order[p]];
     return read;
   }
 

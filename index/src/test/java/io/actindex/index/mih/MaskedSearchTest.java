@@ -227,8 +227,9 @@ class MaskedSearchTest {
   /**
    * Dense codes out of distribution at k = 100 under one layer: the planner leaves the partition
    * untried for some queries after the masked scan's head (its estimate under the head's guess of
-   * the k-th distance is hopeless) and answers them by the scan, exactly; at k = 10 the head is too
-   * small a sample for the guess and the partition is always tried.
+   * the k-th distance is hopeless) and answers them by the scan, exactly. (At k = 10 the head is too
+   * small a sample for the guess; the partition may then be left untried only because it cannot
+   * pay even at distance 0, next test.)
    */
   @Test
   void aHopelessPartitionIsLeftUntriedAndTheAnswerStaysExact() {
@@ -245,9 +246,38 @@ class MaskedSearchTest {
         assertEquals(BruteForce.knn(codes, q, 100, null, mask), s.knn(q, 100, null, mask), Randoms.describe(seed) + " layer " + layer + " query " + i);
         if (s.lastLeftPartitionUntried()) untried++;
         assertEquals(BruteForce.knn(codes, q, 10, null, mask), s.knn(q, 10, null, mask), Randoms.describe(seed) + " layer " + layer + " query " + i);
-        assertTrue(!s.lastLeftPartitionUntried(), "k = 10 left the partition untried");
       }
       assertTrue(untried > 0, Randoms.describe(seed) + " layer " + layer + ": the partition was tried for every query");
+    }
+  }
+
+  /**
+   * Uniform random codes under one layer: every code is about as far from every centre, so even if
+   * the partition's try found k codes at distance 0, its windows (codes whose radius reaches the
+   * query's distance to their centre) would hold nearly every code. The planner leaves it untried at
+   * any k, including k = 1 where the head is too small a sample to guess the k-th distance, and the
+   * scan answers, exactly.
+   */
+  @Test
+  void aPartitionThatCannotPayEvenAtDistanceZeroIsLeftUntried() {
+    for (int rep = 0; rep < 6; rep++) {
+      long seed = Randoms.seed(800 + rep);
+      SplittableRandom rnd = new SplittableRandom(seed);
+      CodeLayout layout = new CodeLayout(List.of(new CodeLayout.Segment("a", 64), new CodeLayout.Segment("b", 64)));
+      int n = 20_000 + rnd.nextInt(40_000);
+      long[] words = new long[2 * n];
+      for (int i = 0; i < words.length; i++) words[i] = rnd.nextLong();
+      CodeBlock codes = new CodeBlock(layout, n, words);
+      MihSearcher s = (MihSearcher) Searchers.build(codes, SearchPlanOptions.defaults(), PlannerCosts.defaults());
+      long[] mask = layout.mask(rep % 2);
+      for (int i = 0; i < 10; i++) {
+        long[] q = {rnd.nextLong(), rnd.nextLong()};
+        for (int k : new int[] {1, 10}) {
+          String why = Randoms.describe(seed) + " n=" + n + " query " + i + " k=" + k;
+          assertEquals(BruteForce.knn(codes, q, k, null, mask), s.knn(q, k, null, mask), why);
+          assertTrue(s.lastLeftPartitionUntried(), why + ": the partition was tried");
+        }
+      }
     }
   }
 
