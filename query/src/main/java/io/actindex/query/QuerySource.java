@@ -85,8 +85,8 @@ public final class QuerySource {
     if (far.length > FAR_LISTED) rows.append(" and ").append(far.length - FAR_LISTED).append(" more");
     String through = source.kind() == Source.Kind.INPUTS ? " through the model" : "";
     return source.file() + ": note: " + rows + " (0-based) " + (far.length == 1 ? "has" : "have") + " activations" + through
-        + " beyond float32's range (about 3.4e38), which the kept magnitudes are not compared with: a float distance counting those units is infinite"
-        + " (an OOD score flags them out; a refined search keeps their candidates in Hamming order); their codes are exact";
+        + " beyond float32's range (about 3.4e38), which the kept magnitudes are not compared with: a float distance counting such a unit is"
+        + " infinite, so an OOD score flags such a row out and a refined search keeps its candidates in Hamming order (codes are exact)";
   }
 
   /**
