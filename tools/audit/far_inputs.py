@@ -6,7 +6,7 @@ k=1 and the audit's k=3 mean, the refined (cosine) and euclidean scores from kep
 candidate-float scores from float files, the softmax baseline), each checked against NumPy /
 scikit-learn, plus scores actindex does not have (plain Euclidean k-NN on activations, the
 activation norm), and how many far codes lie at Hamming distance 0 or d from a training code; and one
-row of a batch scaled by 1e36 (past float32): answered, flagged out, the other rows unchanged.
+row of a batch scaled by 1e38 (past float32): answered, flagged out, the other rows unchanged.
 Then the edge bundle's range guard (export-edge --with-model, run by the edge jar on raw inputs):
 the share of training, held-out and far inputs whose range ratio is above 1, its AUROC, and the jar's
 ratio against NumPy's (largest layer norm over the exported bound). Last, NumPy only: whether the magnitude-aware score (Euclidean instead of cosine among the 100
@@ -158,15 +158,15 @@ def range_guard(run, js, edge_jar, net, xtr, xin, batches):
 
 
 def past_float32(run, js, net, xin):
-    """One row of a query batch scaled by 1e36 (hidden activations past float32's largest value, NumPy in float64 says):
+    """One row of a query batch scaled by 1e38 (hidden activations past float32's largest value, NumPy in float64 says):
     ood score (the default euclidean calibration) and nearest --refine answer every row, the far one out with a null score
     and null refined distances in Hamming order, the others as in the batch without it; ood calibrate on it exits 2."""
     xs = xin[:20].astype(np.float64)
-    far = np.insert(xs, 7, xs[7] * 1e36, axis=0)
+    far = np.insert(xs, 7, xs[7] * 1e38, axis=0)
     np.save("q.npy", xs)
     np.save("q-far.npy", far)
     biggest = np.abs(hidden(net, far[7:8])[0]).max()
-    check("the row x 1e36 has a hidden activation past float32 (float64 forward pass)", biggest > np.finfo(np.float32).max, f"{biggest:.3g}")
+    check("the row x 1e38 has a hidden activation past float32 (float64 forward pass)", biggest > np.finfo(np.float32).max, f"{biggest:.3g}")
     p = run("ood", "score", "--index", "index", "--inputs", "q-far.npy", "--format", "json", ok=False)
     check("ood score on a batch with one far row exits 0", p.returncode == 0, p.stderr.strip())
     if p.returncode != 0:
@@ -186,7 +186,7 @@ def past_float32(run, js, net, xin):
     check("nearest --refine: the other rows as without it", [strip(r) for r in n1[:7] + n1[8:]] == [strip(r) for r in n0], "")
     c = run("ood", "calibrate", "--index", "index", "--inputs", "q-far.npy", ok=False)
     check("ood calibrate on it exits 2 naming the file and row", c.returncode == 2 and "q-far.npy: row 7 (0-based)" in c.stderr, c.stderr.strip())
-    print(f"past float32: x 1e36 gives a largest hidden activation of {biggest:.3g}; ood score: {got[7]}")
+    print(f"past float32: x 1e38 gives a largest hidden activation of {biggest:.3g}; ood score: {got[7]}")
 
 
 def main():
