@@ -5,7 +5,8 @@ t = 2, 5, 10, 100. For every batch: `ood eval` AUROC of each score actindex offe
 k=1 and the audit's k=3 mean, the refined (cosine) and euclidean scores from kept magnitudes, the float and
 candidate-float scores from float files, the softmax baseline), each checked against NumPy /
 scikit-learn, plus scores actindex does not have (plain Euclidean k-NN on activations, the
-activation norm), and how many far codes lie at Hamming distance 0 or d from a training code.
+activation norm), and how many far codes lie at Hamming distance 0 or d from a training code; and one
+row of a batch scaled by 1e38 (past float32): answered, flagged out, the other rows unchanged.
 Then the edge bundle's range guard (export-edge --with-model, run by the edge jar on raw inputs):
 the share of training, held-out and far inputs whose range ratio is above 1, its AUROC, and the jar's
 ratio against NumPy's (largest layer norm over the exported bound). Last, NumPy only: whether the magnitude-aware score (Euclidean instead of cosine among the 100
@@ -22,6 +23,7 @@ Needs torch (CPU), numpy, scikit-learn, safetensors; never a test dependency. Ex
 """
 import argparse
 import glob
+import json
 import os
 import shutil
 import subprocess
@@ -155,6 +157,38 @@ def range_guard(run, js, edge_jar, net, xtr, xin, batches):
         print(f"| {name} | {np.mean(r > 1):.3f} | {auc:.3f} | {np.median(r):.3f} |")
 
 
+def past_float32(run, js, net, xin):
+    """One row of a query batch scaled by 1e38 (hidden activations past float32's largest value, NumPy in float64 says):
+    ood score (the default euclidean calibration) and nearest --refine answer every row, the far one out with a null score
+    and null refined distances in Hamming order, the others as in the batch without it; ood calibrate on it exits 2."""
+    xs = xin[:20].astype(np.float64)
+    far = np.insert(xs, 7, xs[7] * 1e38, axis=0)
+    np.save("q.npy", xs)
+    np.save("q-far.npy", far)
+    biggest = np.abs(hidden(net, far[7:8])[0]).max()
+    check("the row x 1e38 has a hidden activation past float32 (float64 forward pass)", biggest > np.finfo(np.float32).max, f"{biggest:.3g}")
+    p = run("ood", "score", "--index", "index", "--inputs", "q-far.npy", "--format", "json", ok=False)
+    check("ood score on a batch with one far row exits 0", p.returncode == 0, p.stderr.strip())
+    if p.returncode != 0:
+        return
+    note = [l for l in p.stderr.splitlines() if "float32" in l]
+    check("one note names the file and the row", len(note) == 1 and note[0].startswith("q-far.npy: note: row 7 (0-based)"), str(note))
+    got = json.loads(p.stdout)["results"]
+    base = js("ood", "score", "--index", "index", "--inputs", "q.npy")["results"]
+    check("the far row: decision out, score null", got[7]["decision"] == "out" and got[7]["score"] is None, str(got[7]))
+    strip = lambda r: {k: v for k, v in r.items() if k != "query"}
+    check("the other 20 rows: the answers of the batch without it", [strip(r) for r in got[:7] + got[8:]] == [strip(r) for r in base], "")
+    n1 = js("nearest", "--index", "index", "--inputs", "q-far.npy", "--refine", "euclidean", "-k", "3")["results"]
+    n0 = js("nearest", "--index", "index", "--inputs", "q.npy", "--refine", "euclidean", "-k", "3")["results"]
+    nb = n1[7]["neighbors"]
+    check("nearest --refine: the far row's refined distances null, in Hamming order",
+          all(n["refined_distance"] is None for n in nb) and [n["distance"] for n in nb] == sorted(n["distance"] for n in nb), str(nb))
+    check("nearest --refine: the other rows as without it", [strip(r) for r in n1[:7] + n1[8:]] == [strip(r) for r in n0], "")
+    c = run("ood", "calibrate", "--index", "index", "--inputs", "q-far.npy", ok=False)
+    check("ood calibrate on it exits 2 naming the file and row", c.returncode == 2 and "q-far.npy: row 7 (0-based)" in c.stderr, c.stderr.strip())
+    print(f"past float32: x 1e38 gives a largest hidden activation of {biggest:.3g}; ood score: {got[7]}")
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--bin", default=os.path.join(os.path.dirname(__file__), "..", "..", "bin", "actindex"))
@@ -201,6 +235,7 @@ def main():
         cal = js("ood", "calibrate", "--index", "index", "--inputs", "cal.npy", *flags)
         if flags == []:
             check("the default calibration of an index with kept magnitudes is the euclidean score", cal["score"] == "euclidean", cal["score"])
+            past_float32(run, js, net, xin)
         code_score = flags[:2] == ["--score", "code"]
         for i, (name, xb) in enumerate(batches.items()):
             extra = ["--in-floats", "in-floats.npy", "--out-floats", f"out{i}-floats.npy", "--train-floats", "train-floats.npy"] if code_score else []

@@ -268,8 +268,10 @@ final class NearestCommand implements Callable<Integer> {
       if (r.neighbors().isEmpty()) head.append(": no example matches");
       else if (r.vote() != null) head.append("  vote: ").append(describe(r.vote(), k));
       out.println(io.actindex.core.BadInputException.snippet(head, Integer.MAX_VALUE)); // the label comes from a user's file
+      boolean far = refined != null && !r.neighbors().isEmpty() && Double.isInfinite(refined.get(q).neighbors().get(0).distance());
       if (refined != null)
-        out.println("  order: re-ranked by " + Refine.Metric.parse(refine).label() + " distance on the kept magnitudes among "
+        out.println("  order: " + (far ? "Hamming (its activations do not fit float32: every " + Refine.Metric.parse(refine).label()
+            + " distance is infinite)" : "re-ranked by " + Refine.Metric.parse(refine).label() + " distance on the kept magnitudes") + " among "
             + refined.get(q).candidates() + " Hamming candidates (Hamming distance <= " + refined.get(q).hammingRadius() + ")");
       if (r.neighbors().isEmpty()) continue;
       List<String> header = new ArrayList<>(List.of("rank", "distance"));

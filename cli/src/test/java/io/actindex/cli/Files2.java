@@ -31,6 +31,17 @@ final class Files2 {
     }
   }
 
+  /** float64 rows. */
+  static Path doubles(Path file, double[][] rows) {
+    try (NpyWriter w = NpyWriter.create(file, NpyDtype.FLOAT64, rows[0].length)) {
+      for (double[] r : rows) w.write(r, 1);
+      w.commit();
+      return file;
+    } catch (IOException e) {
+      throw new UncheckedIOException(e);
+    }
+  }
+
   /** 0/1 uint8 rows (one byte per bit, unpacked). */
   static Path bits(Path file, boolean[][] rows) {
     try (NpyWriter w = NpyWriter.create(file, NpyDtype.UINT8, rows[0].length)) {

@@ -25,6 +25,7 @@ final class ActivationCodeStream implements CodeStream {
   private int lastRows;
   private long lastStart; // row number of the last chunk's first row
   private float[] activations;
+  private boolean activationsCast; // whether activations holds far values cast (lastActivations(true))
 
   ActivationCodeStream(LayerSource.Opener opener, EncodeOptions o) throws IOException {
     if (o.rule() == BinarizeRule.MEDIAN && o.medians() == null) {
@@ -109,23 +110,33 @@ final class ActivationCodeStream implements CodeStream {
 
   @Override
   public float[] lastActivations() {
-    if (activations != null || lastRows == 0) return activations;
+    return lastActivations(false);
+  }
+
+  @Override
+  public float[] lastActivations(boolean castFar) {
+    if (lastRows == 0) return null;
+    if (activations != null && activationsCast == castFar) return activations;
     int bits = layout.bits();
     float[] a = new float[lastRows * bits];
     for (int i = 0; i < widths.length; i++) {
       int start = layout.start(i), w = widths[i];
       for (int r = 0; r < lastRows; r++) {
         if (src.floats(i)) System.arraycopy(f[i], r * w, a, r * bits + start, w);
-        else for (int c = 0; c < w; c++) a[r * bits + start + c] = toFloat(d[i][r * w + c], i, r, c);
+        else for (int c = 0; c < w; c++) a[r * bits + start + c] = toFloat(d[i][r * w + c], i, r, c, castFar);
       }
     }
+    activationsCast = castFar;
     return activations = a;
   }
 
-  /** A value kept as a float32 activation; one beyond float32's range is refused (it would become infinite). */
-  private float toFloat(double v, int layer, int row, int col) {
+  /**
+   * A value kept as a float32 activation; one beyond float32's range is refused (it would become
+   * infinite), or with {@code castFar} kept as the cast makes it, +-Infinity. NaN is refused either way.
+   */
+  private float toFloat(double v, int layer, int row, int col, boolean castFar) {
     float f = (float) v;
-    if (Float.isFinite(f)) return f;
+    if (Float.isFinite(f) || (castFar && !Double.isNaN(v))) return f;
     String layerName = "layer " + BadInputException.quote(src.names().get(layer));
     boolean throughModel = !src.rowSource().equals(src.source());
     String where = throughModel

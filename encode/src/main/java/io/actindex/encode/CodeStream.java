@@ -44,6 +44,15 @@ public interface CodeStream extends AutoCloseable {
   }
 
   /**
+   * As {@link #lastActivations()}; with {@code castFar} a value beyond float32's range (about
+   * 3.4e38) is not refused but kept as Java's cast makes it, +-Infinity (a query's row is still
+   * answered: its distances to kept magnitudes are infinite). NaN is refused either way.
+   */
+  default float[] lastActivations(boolean castFar) {
+    return lastActivations();
+  }
+
+  /**
    * How the input was read and interpreted, one line each: a CSV header decision, a model's layer
    * order, code layers and output layer. Empty by default.
    */

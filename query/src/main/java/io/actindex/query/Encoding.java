@@ -56,9 +56,16 @@ final class Encoding {
   static final long KEEP_ALL = -1;
 
   /**
+   * {@code keep}: as {@link #KEEP_ALL}, but a value beyond float32's range is kept as +-Infinity
+   * instead of refused ({@link CodeStream#lastActivations(boolean)}): a query's rows, each answered.
+   */
+  static final long KEEP_ALL_CAST = -2;
+
+  /**
    * As above, keeping the floats of the kept rows ({@code activations} of the result) when they are at
    * most {@code keep} values: past it none are kept (null, without a second read of the file); {@link
-   * #KEEP_ALL}: all of them, a file whose floats cannot fit one array refused; 0: none.
+   * #KEEP_ALL}: all of them, a file whose floats cannot fit one array refused; {@link #KEEP_ALL_CAST}: the
+   * same, values beyond float32's range as +-Infinity; 0: none.
    */
   static Read read(Source source, Model model, EncodeOptions options, CodeLayout codesLayout, RowRange range,
       int chunk, Progress progress, long keep) {
@@ -77,6 +84,11 @@ final class Encoding {
     void start(long rows, CodeLayout layout);
 
     void accept(float[] values, int from, int rows);
+
+    /** Whether values beyond float32's range come as +-Infinity rather than refused ({@link CodeStream#lastActivations(boolean)}). */
+    default boolean castFar() {
+      return false;
+    }
   }
 
   /**
@@ -111,7 +123,7 @@ final class Encoding {
           keptHere++;
           kept++;
         }
-        if (sink != null && keptHere > 0) sink.accept(stream.lastActivations(), first, keptHere);
+        if (sink != null && keptHere > 0) sink.accept(stream.lastActivations(sink.castFar()), first, keptHere);
         progress.update(row, total);
         if (range.to() != -1 && row >= range.to()) break;
       }
@@ -131,13 +143,20 @@ final class Encoding {
   private static final class Kept implements FloatRows {
     private final Source source;
     private final long cap; // most values kept (past it none), or KEEP_ALL
+    private final boolean castFar; // KEEP_ALL_CAST
     private float[] act;
     private int units, rows;
     private boolean over; // past the cap: nothing kept
 
     Kept(Source source, long keep) {
       this.source = source;
-      this.cap = keep;
+      this.castFar = keep == KEEP_ALL_CAST;
+      this.cap = castFar ? KEEP_ALL : keep;
+    }
+
+    @Override
+    public boolean castFar() {
+      return castFar;
     }
 
     @Override

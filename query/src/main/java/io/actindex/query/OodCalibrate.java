@@ -84,6 +84,11 @@ public final class OodCalibrate {
       QuerySource.Queries qa = scorer.load(source, rows);
       notes = qa.codes().notes();
       String file = source.file().toString();
+      long[] far = qa.farRows();
+      if (far.length > 0) // a calibration score must be finite: the threshold and the p-values come from them
+        throw new BadInputException(file + ": row " + far[0] + " (0-based) has activations beyond float32's range (about 3.4e38), which score"
+            + " as infinitely far" + (far.length > 1 ? " (" + far.length + " such rows)" : "") + "; calibrate on held-out in-distribution rows:"
+            + " leave it out or scale the " + (source.kind() == Source.Kind.INPUTS ? "inputs" : "activations"));
       OodCalibration.checkEnough(qa.codes().codes().size(), p.tpr(), file, rows); // before the scoring, which may take long
       String found = trainingRows(reader, qa);
       boolean looksLikeTraining = found != null;

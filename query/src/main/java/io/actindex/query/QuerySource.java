@@ -41,18 +41,52 @@ public final class QuerySource {
 
   /**
    * Query codes and the activations they came from (row-major, one value per bit of the index
-   * layout), for refinement by kept magnitudes. A codes source has no activations: refused.
+   * layout), for refinement by kept magnitudes. A codes source has no activations: refused. A value
+   * beyond float32's range is held as +-Infinity ({@link #farRows}).
    */
-  public record Queries(QueryCodes codes, float[] activations) {}
+  public record Queries(QueryCodes codes, float[] activations) {
+    /**
+     * The file rows (ascending) whose activations do not fit float32 (above about 3.4e38 in size),
+     * held as +-Infinity: their distance to any kept magnitude vector, counted on a unit that holds
+     * one, is +Infinity ({@link Refine#distance}).
+     */
+    public long[] farRows() {
+      if (activations == null) return new long[0];
+      int d = codes.codes().layout().bits();
+      return java.util.stream.IntStream.range(0, codes.size())
+          .filter(i -> java.util.stream.IntStream.range(i * d, i * d + d).anyMatch(j -> Float.isInfinite(activations[j])))
+          .mapToLong(codes::row).toArray();
+    }
+  }
 
-  /** As {@link #load}, keeping the query activations; a codes source is a {@link BadInputException}. */
+  /**
+   * As {@link #load}, keeping the query activations; a codes source is a {@link BadInputException}.
+   * A row whose activations do not fit float32 is kept (as +-Infinity, {@link Queries#farRows}) with
+   * a note naming the file and the rows, not refused: it is answered, as far from every example.
+   */
   public static Queries loadWithActivations(IndexReader reader, Source source, RowRange rows, Progress progress) {
     if (source.kind() == Source.Kind.CODES)
       throw new BadInputException(source.file() + ": refinement needs the queries' activations (`Source.activations`) or inputs (`Source.inputs`), not codes");
     RowRange range = rows == null ? RowRange.ALL : rows;
     java.util.List<String> notes = new java.util.ArrayList<>();
-    Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, Encoding.KEEP_ALL);
+    Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, Encoding.KEEP_ALL_CAST);
+    long[] far = new Queries(new QueryCodes(e.codes(), range.from()), e.activations()).farRows();
+    if (far.length > 0) notes.add(farNote(source, far));
     return new Queries(new QueryCodes(e.codes(), range.from(), notes, e.columns()), e.activations());
+  }
+
+  /** Rows listed by number in {@link #farNote}; past them, how many more. */
+  private static final int FAR_LISTED = 10;
+
+  /** One line naming the file and the rows whose activations do not fit float32, and what is done with them. */
+  static String farNote(Source source, long[] far) {
+    StringBuilder rows = new StringBuilder(far.length == 1 ? "row " : "rows ");
+    for (int i = 0; i < Math.min(far.length, FAR_LISTED); i++) rows.append(i == 0 ? "" : ", ").append(far[i]);
+    if (far.length > FAR_LISTED) rows.append(" and ").append(far.length - FAR_LISTED).append(" more");
+    String through = source.kind() == Source.Kind.INPUTS ? " through the model" : "";
+    return source.file() + ": note: " + rows + " (0-based) " + (far.length == 1 ? "has" : "have") + " activations" + through
+        + " beyond float32's range (about 3.4e38), which the kept magnitudes are not compared with: a float distance counting such a unit is"
+        + " infinite, so an OOD score flags such a row out and a refined search keeps its candidates in Hamming order (codes are exact)";
   }
 
   /**

@@ -19,7 +19,9 @@ import java.util.Locale;
  * cosine or Euclidean distance between the query's activations and each candidate's dequantised
  * magnitudes (ties by Hamming distance, then id) and keeps the first {@code k}. The order is a
  * re-ranking of the Hamming candidates, not a float search of the whole index: an example outside
- * the candidates is never returned.
+ * the candidates is never returned. A query row whose activations do not fit float32 ({@link
+ * QuerySource.Queries#farRows}) is at distance +Infinity from every candidate, so its candidates
+ * stay in Hamming order (then id).
  *
  * <pre>{@code
  * try (IndexReader r = IndexReader.open(dir)) {
@@ -177,7 +179,11 @@ public final class Refine {
     return new Ranked(ids, ham, ds);
   }
 
-  /** The metric between {@code a} and {@code b} over positions {@code units} (null = all of {@code a}). */
+  /**
+   * The metric between {@code a} and {@code b} over positions {@code units} (null = all of {@code a}).
+   * An infinite value of {@code a} (a query row beyond float32, {@link QuerySource.Queries#farRows};
+   * {@code b} finite) makes either metric +Infinity: such a row is as far as can be from every vector.
+   */
   public static double distance(Metric metric, float[] a, float[] b, int[] units) {
     int n = units == null ? a.length : units.length;
     if (metric == Metric.EUCLIDEAN) {
@@ -196,6 +202,7 @@ public final class Refine {
       na += (double) a[j] * a[j];
       nb += (double) b[j] * b[j];
     }
+    if (Double.isInfinite(na)) return Double.POSITIVE_INFINITY; // a query value beyond float32 (QuerySource.Queries#farRows), as EUCLIDEAN gives
     if (na == 0 || nb == 0) return 1;
     return 1 - dot / Math.sqrt(na * nb);
   }

@@ -59,16 +59,26 @@ public final class EvalPage {
     return h.append("</table>\n</body></html>\n").toString();
   }
 
-  /** In and out histograms of one score: one bin per value for integer scores with few values, else 30 equal bins. */
+  /**
+   * In and out histograms of one score: one bin per value for integer scores with few values, else 30
+   * equal bins. Infinite scores (rows past float32, {@code QuerySource.Queries#farRows}) have no bin:
+   * the axis label counts them; shares stay shares of all inputs.
+   */
   static String histogram(OodEval.Scored s) {
     double lo = Double.POSITIVE_INFINITY, hi = Double.NEGATIVE_INFINITY;
     boolean integers = true;
+    int infinite = 0;
     for (double[] a : new double[][] {s.in(), s.out()})
       for (double v : a) {
+        if (Double.isInfinite(v)) {
+          infinite++;
+          continue;
+        }
         lo = Math.min(lo, v);
         hi = Math.max(hi, v);
         integers &= v == Math.rint(v);
       }
+    if (lo > hi) lo = hi = 0; // every score infinite: empty bins
     double[] edges;
     if (integers && hi - lo <= 60) {
       edges = new double[(int) (hi - lo) + 2];
@@ -79,13 +89,15 @@ public final class EvalPage {
       edges = new double[bins + 1];
       for (int i = 0; i <= bins; i++) edges[i] = lo + i * width;
     }
-    return SvgChart.shareBars("Histogram: " + s.name() + " score", s.name() + " score", "share of inputs", edges, null,
+    String axis = s.name() + " score" + (infinite == 0 ? "" : " (" + infinite + " infinite, past float32, not shown)");
+    return SvgChart.shareBars("Histogram: " + s.name() + " score", axis, "share of inputs", edges, null,
         List.of(new SvgChart.Series("in", null, shares(s.in(), edges)), new SvgChart.Series("out", null, shares(s.out(), edges))));
   }
 
   static double[] shares(double[] values, double[] edges) {
     double[] h = new double[edges.length - 1];
     for (double v : values) {
+      if (Double.isInfinite(v)) continue;
       int b = Arrays.binarySearch(edges, v);
       b = b >= 0 ? b : -b - 2;
       h[Math.max(0, Math.min(h.length - 1, b))]++;
