@@ -29,6 +29,9 @@ words unevenly. What newuser_mlp.py (fc1..head names, 11 features) and the fuzze
   does not claim the codes keep what the floats know;
 - delete --keys with a key listed twice and a blank line, compact, check, then nearest on the live
   examples against brute force;
+- census: purity, the share of labelled examples alone in their region and the purity where a
+  region holds two or more, against a NumPy grouping of the codes, with the true labels and with
+  the labels shuffled (purity stays high there: most examples are alone at 231 bits);
 - dupes --pairs at radius 0 and 4 with 12 planted copies (6 across the split, 6 relabelled)
   against all pairs by NumPy, and the leaking / conflicting groups.
 
@@ -379,6 +382,30 @@ def main():
         check(f"nearest {step}: live examples only, against brute force", diffs == 0, f"{diffs} queries differ")
     p = run("check", "--index", "id")
     check("check after delete and compact: exit 0", p.returncode == 0, p.stderr.strip()[:200])
+
+    # ---- census purity, and what it rests on
+    with open("shuffled.csv", "w", newline="") as f:
+        w = csv.writer(f)
+        w.writerow(["key", "label"])
+        for i, lbl in enumerate(rng.permutation([m["label"] for m in meta])):
+            w.writerow([f"s{i}", lbl])
+    ok_run("build", "--out", "ish", "--model", "model.safetensors", "--inputs", "train.npy", "--meta", "shuffled.csv")
+    for idx, labs in [("i1", [m["label"] for m in meta]), ("ish", [r["label"] for r in csv.DictReader(open("shuffled.csv", encoding="utf-8"))])]:
+        cj = js("census", "--index", idx)
+        for pre in cj["prefixes"]:
+            end = {"net.0": 37, "net.2": 166, "net.4": 231}[pre["layers"][-1]]
+            groups = {}
+            for i in range(400):
+                groups.setdefault(C[i, :end].tobytes(), []).append(labs[i])
+            alone = sum(1 for g in groups.values() if len(g) == 1)
+            shared = [g for g in groups.values() if len(g) > 1]
+            maj = sum(max(g.count(x) for x in set(g)) for g in shared)
+            purity = (alone + maj) / 400
+            ps = maj / sum(len(g) for g in shared) if shared else None
+            ok = abs(pre["purity"] - purity) < 1e-12 and abs(pre["labelled_alone"] - alone / 400) < 1e-12 and \
+                (ps is None and pre["purity_shared"] is None or ps is not None and abs(pre["purity_shared"] - ps) < 1e-12)
+            check(f"census {idx} {'+'.join(pre['layers'])}: purity {purity:.3f}, labelled alone {alone / 400:.3f}, purity where shared "
+                  f"{'n/a' if ps is None else f'{ps:.3f}'} against NumPy", ok, pre)
 
     # ---- dupes with planted copies
     Xd = np.concatenate([Xtr, Xtr[:12]])
