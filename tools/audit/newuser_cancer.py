@@ -38,7 +38,7 @@ words unevenly. What newuser_mlp.py (fc1..head names, 11 features) and the fuzze
     tools/audit/newuser_cancer.py [--bin bin/actindex] [--work DIR]
 
 Prints one line per check (OK or DIFF) and a summary; exit 1 on any DIFF. Needs torch (CPU),
-numpy, scikit-learn, safetensors; never a test dependency (not part of bin/test). About 3 minutes.
+numpy, scikit-learn, safetensors; never a test dependency (not part of bin/test). About 10 minutes on one busy shared core (some 300 commands).
 """
 import argparse
 import csv
