@@ -95,7 +95,14 @@ final class CensusCommand implements Callable<Integer> {
         for (String k : b.keys()) j.value(k);
         j.endArray().endObject();
       }
-      j.endArray().endObject();
+      j.endArray();
+      for (String m : List.of("labelled_alone", "purity_shared")) {
+        Double v = m.equals("labelled_alone") ? p.labelledAlone() : p.purityShared();
+        j.name(m);
+        if (v == null) j.nullValue();
+        else j.value(v.doubleValue());
+      }
+      j.endObject();
     }
     j.endArray().name("neurons").beginArray();
     for (Census.Neurons n : c.neurons()) {
@@ -127,7 +134,7 @@ final class CensusCommand implements Callable<Integer> {
     out.println();
     out.println("regions by layer prefix (a region = one code on those layers):");
     TextTable t = new TextTable(List.of("layers", "bits", "regions", "singletons", "median size", "p90 size", "largest",
-        "mean size", "label purity"));
+        "mean size", "label purity", "labelled alone", "purity where shared"));
     for (Census.Prefix p : c.prefixes()) {
       Census.Quantiles q = p.quantiles();
       List<String> row = new ArrayList<>(List.of(String.join("+", p.layers()), Integer.toString(p.bits()), Integer.toString(p.regions()),
@@ -137,9 +144,14 @@ final class CensusCommand implements Callable<Integer> {
       else row.addAll(List.of(Integer.toString(q.p50()), Integer.toString(q.p90()), Integer.toString(q.max()),
           String.format(java.util.Locale.ROOT, "%.2f", q.mean())));
       row.add(p.purity() == null ? "" : Units.percent(p.purity()));
+      row.add(p.labelledAlone() == null ? "" : Units.percent(p.labelledAlone()));
+      row.add(p.purityShared() == null ? (p.purity() == null ? "" : "n/a") : Units.percent(p.purityShared()));
       t.row(row);
     }
     t.print(out, "  ");
+    if (c.prefixes().stream().anyMatch(p -> p.labelledAlone() != null && p.labelledAlone() >= 0.5))
+      out.println("  Label purity counts an example with no other labelled example in its region (labelled alone) as pure, whatever its"
+          + " label: where most are alone it is high even for random labels; purity where shared counts only the regions that hold two or more.");
     if (c.prefixes().isEmpty()) return;
     Census.Prefix all = c.prefixes().get(c.prefixes().size() - 1);
     String name = String.join("+", all.layers());

@@ -212,6 +212,31 @@ class DupesEndToEndTest {
     }
   }
 
+  /**
+   * A continuous target given as the label (a new user's house prices, written to 5 decimals, every
+   * one distinct): each near-duplicate pair of two prices was a "label conflict" with no word why.
+   * The build now notes that most labels are written by no other row; class labels get no note, and
+   * the dupes answer is the same either way (24 of 24 groups conflict: labels are compared as text).
+   */
+  @Test
+  void aContinuousTargetAsTheLabelIsNoted() throws Exception {
+    boolean[][] codes = new boolean[48][11];
+    for (int i = 0; i < 48; i++) codes[i][i % 24 % 8] = codes[i][8 + i % 24 / 8] = true; // rows i and i + 24 share a code, 24 codes
+    Path npy = Files2.bits(tmp.resolve("c.npy"), codes);
+    for (boolean prices : new boolean[] {true, false}) {
+      List<String> lines = new ArrayList<>(List.of("key,label"));
+      for (int i = 0; i < 48; i++) lines.add("k" + i + "," + (prices ? String.format(java.util.Locale.ROOT, "%.5f", 1.5 + i * 0.37) : i < 24 ? "cat" : "dog"));
+      Path meta = Files2.text(tmp.resolve("m-" + prices + ".csv"), lines), idx = tmp.resolve("idx-" + prices);
+      Cli.Result b = Cli.run("build", "--out", idx.toString(), "--codes", npy.toString(), "--meta", meta.toString());
+      assertThat(b.code()).as(b.describe()).isZero();
+      assertThat(b.err().contains(meta + ": note: 48 of the 48 labels are written by no other row (a continuous target")).as(b.describe())
+          .isEqualTo(prices);
+      Cli.Result d = Cli.run("dupes", "--index", idx.toString(), "--radius", "0", "--format", "json");
+      assertThat(io.actindex.cli.format.JsonWriterTest.STRICT.readTree(d.out()).get("summary").get("conflicting_groups").asInt()).as(d.describe())
+          .isEqualTo(24);
+    }
+  }
+
   /** A label column named in another case ({@code Label}) or {@code y} is named in the build's note; other columns are not. */
   @Test
   void theNoLabelNoteNamesColumnsNamedLikeALabel() throws Exception {

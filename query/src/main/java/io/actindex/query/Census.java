@@ -74,10 +74,13 @@ public final class Census {
   /**
    * Census of one prefix of layers. {@code purity}: the fraction of labelled examples whose
    * label is their region's majority label (null when no example has a label); {@code singletons}:
-   * regions holding a single example.
+   * regions holding a single example. An example with no other labelled example in its region
+   * counts as pure whatever its label: {@code labelledAlone} is the fraction of labelled examples
+   * that are so (null without labels), {@code purityShared} the purity over the regions that hold at
+   * least two labelled examples, where labels can disagree (null when no region does).
    */
   public record Prefix(List<String> layers, int bits, int regions, int singletons, List<Bucket> histogram, Quantiles quantiles,
-      Double purity, List<Big> largest) {}
+      Double purity, List<Big> largest, Double labelledAlone, Double purityShared) {}
 
   /**
    * Firing rates of one layer's units (NaN without examples), and its dead and always-on units
@@ -190,7 +193,7 @@ public final class Census {
     start[runs] = n;
     int[] sizes = new int[runs];
     int singletons = 0;
-    long majority = 0, labeled = 0;
+    long majority = 0, labeled = 0, alone = 0, majorityShared = 0, labeledShared = 0;
     for (int r = 0; r < runs; r++) {
       sizes[r] = start[r + 1] - start[r];
       if (sizes[r] == 1) {
@@ -199,12 +202,19 @@ public final class Census {
         if (l != null && !l.isEmpty()) {
           labeled++;
           majority++;
+          alone++;
         }
         continue;
       }
       Map<String, Integer> mix = mix(order, start[r], start[r + 1], labels);
-      for (int c : mix.values()) labeled += c;
-      majority += mix.values().stream().mapToInt(Integer::intValue).max().orElse(0);
+      int here = mix.values().stream().mapToInt(Integer::intValue).sum(), most = mix.values().stream().mapToInt(Integer::intValue).max().orElse(0);
+      labeled += here;
+      majority += most;
+      if (here == 1) alone++;
+      else if (here > 1) {
+        labeledShared += here;
+        majorityShared += most;
+      }
     }
     // largest first; ties by the smallest member (the run's first), so the listing is deterministic
     Comparator<Integer> bigFirst = (a, b) -> sizes[a] != sizes[b] ? Integer.compare(sizes[b], sizes[a])
@@ -229,7 +239,8 @@ public final class Census {
     }
     Arrays.sort(sizes);
     return new Prefix(names, bits, sizes.length, singletons, histogram(sizes), quantiles(sizes, n),
-        labeled == 0 ? null : majority / (double) labeled, List.copyOf(largest));
+        labeled == 0 ? null : majority / (double) labeled, List.copyOf(largest), labeled == 0 ? null : alone / (double) labeled,
+        labeledShared == 0 ? null : majorityShared / (double) labeledShared);
   }
 
   /** The ids {@code 0..n-1} ordered by their code in {@code masked} ({@code w} words each, compared word by word), ties by id. */

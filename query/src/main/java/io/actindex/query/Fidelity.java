@@ -78,10 +78,12 @@ public final class Fidelity {
   /**
    * k-NN label accuracy over the {@code labeled} sampled queries that carry a label; {@code refined}
    * is null without kept magnitudes, {@code euclideanInputs} null without inputs. A query whose k
-   * neighbours all lack a label counts as wrong; {@code noLabelledNeighbour} says how many did, per metric.
+   * neighbours all lack a label counts as wrong; {@code noLabelledNeighbour} says how many did, per metric;
+   * {@code labelAlone}: the labelled queries whose label no other row carries, which no neighbour can match
+   * (every label distinct: a continuous target such as a price, or an id, given as the label).
    */
   public record Accuracy(int labeled, double hamming, Double refined, double cosine, Double euclideanInputs,
-      NoLabelledNeighbour noLabelledNeighbour) {}
+      NoLabelledNeighbour noLabelledNeighbour, int labelAlone) {}
 
   /**
    * Per metric, the labelled queries none of whose k neighbours carries a label (each counted wrong
@@ -228,7 +230,9 @@ public final class Fidelity {
       for (int t = from; t < to; t++) per[t] = measure(data, p, c, sample[t], scan.hamming[t - from], scan.cosineTop[t - from]);
     });
     double overlap = 0, tied = 0, kthSum = 0;
-    int labeled = 0;
+    int labeled = 0, alone = 0;
+    Map<String, Integer> labelCount = new HashMap<>();
+    if (data.labels() != null) for (String l : data.labels()) if (l != null) labelCount.merge(l, 1, Integer::sum);
     Tally ham = new Tally(), ref = new Tally(), cos = new Tally(), euc = new Tally();
     for (PerQuery r : per) {
       overlap += r.overlap;
@@ -236,6 +240,7 @@ public final class Fidelity {
       kthSum += r.kth;
       if (r.label == null) continue;
       labeled++;
+      if (labelCount.get(r.label) == 1) alone++;
       ham.add(r.label, r.hamVote);
       ref.add(r.label, r.refVote);
       cos.add(r.label, r.cosVote);
@@ -246,7 +251,7 @@ public final class Fidelity {
     Accuracy acc = labeled == 0 ? null
         : new Accuracy(labeled, ham.right / (double) labeled, refined ? ref.right / (double) labeled : null,
             cos.right / (double) labeled, inputs ? euc.right / (double) labeled : null,
-            new NoLabelledNeighbour(ham.none, refined ? ref.none : null, cos.none, inputs ? euc.none : null));
+            new NoLabelledNeighbour(ham.none, refined ? ref.none : null, cos.none, inputs ? euc.none : null), alone);
     long distinct = (long) n * (n - 1) / 2;
     int pairs = distinct <= p.pairs() ? (int) distinct : p.pairs();
     double rho = spearman(data, norms, pairs, distinct <= p.pairs(), new SplittableRandom(p.seed() ^ 0x5DEECE66DL));
@@ -315,6 +320,11 @@ public final class Fidelity {
     double chance = (double) k / (n - 1); // expected overlap of k rows drawn at random from the n - 1 others
     if (chance >= 0.5) v.append(String.format(java.util.Locale.ROOT,
         "Too few rows to judge: with k = %d of the %d other rows as neighbours, chance alone gives an overlap of %.2f.", k, n - 1, chance));
+    else if (acc != null && acc.labelAlone() > MOST_UNANSWERED * acc.labeled())
+      v.append(String.format(java.util.Locale.ROOT, "Labels too rarely shared to compare the accuracies: %d of the %d labelled queries"
+          + " (%.0f%%) carry a label no other row has, so no neighbour can match it under any measure (a continuous target, such as"
+          + " a price, or an id given as the label?); the accuracies say nothing about the codes here: give class labels.",
+          acc.labelAlone(), acc.labeled(), 100.0 * acc.labelAlone() / acc.labeled()));
     else if (acc != null && tooFewLabels(acc))
       v.append(String.format(java.util.Locale.ROOT, "Too few labels to compare the accuracies: under at least one measure, %d of the %d labelled"
           + " queries (%.0f%%) have no labelled example among their %d nearest and count as wrong (see no_labelled_neighbour);"

@@ -236,6 +236,8 @@ public final class IndexBuilder {
       if (meta != null && meta.stream().noneMatch(row -> row.containsKey("label")))
         notes.add(p.meta().file() + ": note: no example has a label (no column 'label' with a value; `labelColumn` NAME takes another, such as"
             + " scikit-learn's 'target'), so label votes, purity and label conflicts have none to count" + labelLike(meta));
+      String alone = meta == null ? null : labelsAlone(meta);
+      if (alone != null) notes.add(p.meta().file() + ": note: " + alone);
       return new Result(first, codes.size(), codes.layout(), notes, read.options(), kept == null ? null : kept.quantisation(),
           w.takeWarnings());
     } catch (RuntimeException | Error e) {
@@ -248,6 +250,22 @@ public final class IndexBuilder {
   }
 
   /** "; column 'Label' looks like one: ..." for metadata columns named like a label in another case or under another usual name. */
+  /**
+   * Labels are classes, compared as text. When most labelled rows (more than half, from 20 on: our
+   * choice) carry a label no other row has, the column is a continuous target or an id: every vote then
+   * goes against the query and every near-duplicate pair is a label conflict. Says so, else null.
+   */
+  static String labelsAlone(List<Map<String, String>> meta) {
+    Map<String, Integer> count = new java.util.HashMap<>();
+    for (Map<String, String> row : meta) if (row.get("label") != null) count.merge(row.get("label"), 1, Integer::sum);
+    int labelled = count.values().stream().mapToInt(Integer::intValue).sum();
+    long alone = count.values().stream().filter(c -> c == 1).count();
+    if (labelled < 20 || 2 * alone <= labelled) return null;
+    return alone + " of the " + labelled + " labels are written by no other row (a continuous target such as a price, or an id, as the"
+        + " label?): labels are classes compared as text, so label votes, purity and label conflicts (every near-duplicate pair of"
+        + " different values is one) mean little; give class labels, and keep such a value in another column";
+  }
+
   private static String labelLike(List<Map<String, String>> meta) {
     java.util.Set<String> names = new java.util.LinkedHashSet<>();
     for (Map<String, String> row : meta) names.addAll(row.keySet());

@@ -71,7 +71,7 @@ final class LabelSpellings {
     if (!meta.fields().containsKey("label")) return null;
     String n = number(label);
     if (n == null) { // the label's other Unicode forms: two exact look-ups, none for plain ASCII
-      for (String form : List.of(Names.nfc(label), Normalizer.normalize(label, Normalizer.Form.NFD)))
+      for (String form : List.of(Names.nfc(label), Normalizer.normalize(label, Normalizer.Form.NFD), label.strip()))
         if (!form.equals(label) && !meta.selectEqual("label", form).isEmpty()) return form;
       return null;
     }
@@ -95,24 +95,28 @@ final class LabelSpellings {
     for (String label : labels) {
       if (label == null) continue;
       String n = number(label);
-      boolean ascii = n == null && label.chars().allMatch(c -> c < 128);
-      if (ascii) continue; // neither a number nor text with another Unicode form
-      String first = seen.putIfAbsent(n != null ? n : "text:" + Names.nfc(label), label);
-      if (first != null) return message(file, label, "'" + first + "' earlier in the file", n != null);
+      String first = seen.putIfAbsent(n != null ? n : "text:" + Names.nfc(label.strip()), label);
+      if (first != null) return message(file, label, first, "' earlier in the file", n != null);
+      boolean ascii = n == null && label.chars().allMatch(c -> c < 128) && label.strip().equals(label);
+      if (ascii) continue; // neither a number, nor text with another Unicode form or spaces around it
       if (inIndex != null && looked++ < MAX_LOOKUPS) {
         String other = inIndex.apply(label);
-        if (other != null) return message(file, label, "'" + other + "' in the index", n != null);
+        if (other != null) return message(file, label, other, "' in the index", n != null);
       }
     }
     return null;
   }
 
-  private static String message(String file, String label, String other, boolean number) {
-    String why = number ? "are the same number written two ways" : "are the same text in two Unicode forms (one writes an accent as a"
+  private static String message(String file, String label, String otherLabel, String where, boolean number) {
+    String other = "'" + otherLabel + where;
+    boolean spaces = !number && (!label.strip().equals(label) || !otherLabel.strip().equals(otherLabel));
+    String why = number ? "are the same number written two ways" : spaces ? "differ only in the spaces around them (kept inside"
+        + " quotes: a spreadsheet or R's write.csv quotes every text cell)" : "are the same text in two Unicode forms (one writes an accent as a"
         + " separate combining mark, so they print alike)";
     return file + ": note: label '" + label + "' and " + other + " " + why + ", and labels are compared as"
         + " text, so they count as two labels (label votes, purity and label conflicts); " + (number ? "pandas writes whole numbers as 3.0 in a"
-        + " column with a missing value" : "Python's unicodedata.normalize('NFC', s) writes every label one way") + ". If they are the same class,"
+        + " column with a missing value" : spaces ? "Python's s.strip() writes every label without them"
+        : "Python's unicodedata.normalize('NFC', s) writes every label one way") + ". If they are the same class,"
         + " write them the same way";
   }
 }

@@ -216,12 +216,41 @@ class FidelityTest {
   @Test
   void manyQueriesWithoutALabelledNeighbourAreSaidInTheVerdict() {
     for (int[] c : new int[][] {{6, 0, 0}, {0, 6, 0}, {0, 0, 6}, {5, 5, 5}, {0, 0, 0}}) {
-      Fidelity.Accuracy acc = new Fidelity.Accuracy(50, 0.5, 0.5, 0.5, null, new Fidelity.NoLabelledNeighbour(c[0], c[1], c[2], null));
+      Fidelity.Accuracy acc = new Fidelity.Accuracy(50, 0.5, 0.5, 0.5, null, new Fidelity.NoLabelledNeighbour(c[0], c[1], c[2], null), 0);
       String v = Fidelity.verdict(0.6, 0.8, 0, acc, 3, 100, 200);
       boolean many = Math.max(c[0], Math.max(c[1], c[2])) > 5;
       assertThat(v.startsWith("Too few labels to compare the accuracies")).as(v).isEqualTo(many);
       assertThat(v.contains("keep what the float activations know")).as(v).isEqualTo(!many);
       if (many) assertThat(v).contains("6 of the 50 labelled queries (12%)").contains("among their 3 nearest").contains("Overlap 0.60");
     }
+  }
+
+  /**
+   * A new user's run with a continuous target as the label (house prices written to 5 decimals, every
+   * one distinct): no neighbour can carry a query's label, so every accuracy was 0, and the verdict
+   * read "Codes keep what the float activations know about labels here: ... within 1 point". Above
+   * 10% of the labelled queries with a label no other row has, the verdict now says the accuracies say
+   * nothing; with a few such labels (5 of 80) it compares them as before.
+   */
+  @Test
+  void labelsThatNoOtherRowSharesAreSaidInTheVerdict() {
+    long seed = Randoms.seed(41);
+    SplittableRandom rnd = new SplittableRandom(seed);
+    int n = 80, d = 24;
+    float[] f = new float[n * d];
+    for (int i = 0; i < f.length; i++) f[i] = (float) rnd.nextGaussian();
+    String[] prices = new String[n], classes = new String[n];
+    for (int i = 0; i < n; i++) {
+      prices[i] = String.format(java.util.Locale.ROOT, "%.5f", 1 + i + rnd.nextDouble());
+      classes[i] = i < 5 ? "rare" + i : (f[i * d] > 0 ? "up" : "down");
+    }
+    Fidelity.Result r = Fidelity.run(data(f, n, d, prices, true), new Fidelity.Params(n, 3, 20, 2000, 1, 1), null);
+    assertThat(r.accuracy().hamming()).as("seed " + seed).isZero();
+    assertThat(r.accuracy().labelAlone()).isEqualTo(n);
+    assertThat(r.verdict()).as("seed " + seed).startsWith("Labels too rarely shared to compare the accuracies: 80 of the 80 labelled queries (100%)")
+        .doesNotContain("keep what the float activations know");
+    Fidelity.Result c = Fidelity.run(data(f, n, d, classes, true), new Fidelity.Params(n, 3, 20, 2000, 1, 1), null);
+    assertThat(c.accuracy().labelAlone()).isEqualTo(5);
+    assertThat(c.verdict()).as("seed " + seed).doesNotStartWith("Labels too rarely shared").containsAnyOf("within 1 point", "Codes lose");
   }
 }

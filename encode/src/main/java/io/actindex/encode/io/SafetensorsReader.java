@@ -284,7 +284,8 @@ public final class SafetensorsReader implements AutoCloseable {
       case "F16" -> { for (int i = 0; i < n; i++) out[i] = Float.float16ToFloat(bb.getShort(i << 1)); }
       case "BF16" -> { for (int i = 0; i < n; i++) out[i] = Float.intBitsToFloat((bb.getShort(i << 1) & 0xffff) << 16); }
       default -> throw new BadInputException(file + ": tensor " + BadInputException.quote(name) + ": field dtype: " + e.dtype()
-          + " is not a floating-point type (supported: F32, F16, BF16, F64)");
+          + (e.dtype().startsWith("F8") ? " (8-bit floating point) is not read" : " is not a floating-point type")
+          + " (supported: F32, F16, BF16, F64)");
     }
     for (int i = 0; i < n; i++)
       if (!Double.isFinite(out[i])) throw new BadInputException(file + ": tensor " + BadInputException.quote(name) + ", element " + i + ": value is not finite");

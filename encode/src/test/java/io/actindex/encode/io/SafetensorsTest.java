@@ -107,6 +107,22 @@ class SafetensorsTest {
     }
   }
 
+  /**
+   * A PyTorch model cast to float8 (torch.float8_e4m3fn, saved as F8_E4M3) was refused as "not a
+   * floating-point type", which it is: now it says that 8-bit floats are not read; integers keep
+   * the old words.
+   */
+  @Test
+  void eightBitFloatsAreRefusedAsUnreadNotAsNonFloat() throws IOException {
+    for (String[] c : new String[][] {{"F8_E4M3", "F8_E4M3 (8-bit floating point) is not read (supported: F32, F16, BF16, F64)"},
+        {"F8_E5M2", "F8_E5M2 (8-bit floating point) is not read"}, {"I8", "I8 is not a floating-point type (supported"}}) {
+      Path f = withHeader("{\"w\":{\"dtype\":\"" + c[0] + "\",\"shape\":[2],\"data_offsets\":[0,2]}}", 2);
+      try (SafetensorsReader r = SafetensorsReader.open(f)) {
+        assertThatThrownBy(() -> r.read("w")).isInstanceOf(BadInputException.class).hasMessageContaining("tensor 'w': field dtype: " + c[1]);
+      }
+    }
+  }
+
   @Test
   void jsonParser() {
     Object v = Json.parse(" {\"a\": [1, -2.5e3, true, null, \"x\\u0041\\n\"], \"b\": {}} ");

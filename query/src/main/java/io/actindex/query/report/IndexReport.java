@@ -206,17 +206,21 @@ public final class IndexReport {
   private static void purity(HtmlPage page, Census.Result census) {
     page.section("purity", "Label purity of regions",
         "The share of labelled examples that carry their region's majority label, for each layer prefix. 1 means every region holds "
-            + "one label; lower values mean the network puts differently labelled examples in the same region.");
+            + "one label; lower values mean the network puts differently labelled examples in the same region. An example with no other "
+            + "labelled example in its region (labelled alone) counts as pure whatever its label, so where most are alone purity is high "
+            + "even for random labels: purity where shared counts only the regions that hold two or more labelled examples.");
     List<Census.Prefix> prefixes = census.prefixes();
     double[] bits = new double[prefixes.size()], y = new double[prefixes.size()];
-    HtmlPage.Table t = new HtmlPage.Table(null, 1, List.of("layers", "bits", "regions", "singletons", "median examples per region", "purity"));
+    HtmlPage.Table t = new HtmlPage.Table(null, 1, List.of("layers", "bits", "regions", "singletons", "median examples per region", "purity", "labelled alone",
+        "purity where shared"));
     for (int i = 0; i < prefixes.size(); i++) {
       Census.Prefix p = prefixes.get(i);
       bits[i] = p.bits();
       y[i] = p.purity() == null ? Double.NaN : p.purity();
       t.row(prefixName(p), p.bits(), p.regions(), p.singletons(), p.quantiles() == null ? null : p.quantiles().p50(),
           // null purity: no live example carries a label (labelled ones may have been deleted: nothing records that they were)
-          p.purity() == null ? "no live example has a label" : HtmlPage.num(p.purity()));
+          p.purity() == null ? "no live example has a label" : HtmlPage.num(p.purity()),
+          p.labelledAlone() == null ? null : HtmlPage.num(p.labelledAlone()), p.purityShared() == null ? null : HtmlPage.num(p.purityShared()));
     }
     String svg = SvgChart.shareLines("Label purity as layers are added", "bits of the layer prefix", "purity (share with the majority label)",
         List.of(new SvgChart.Series("purity", bits, y)));
