@@ -249,7 +249,6 @@ public final class IndexBuilder {
     }
   }
 
-  /** "; column 'Label' looks like one: ..." for metadata columns named like a label in another case or under another usual name. */
   /**
    * Labels are classes, compared as text. When most labelled rows (more than half, from 20 on: our
    * choice) carry a label no other row has, the column is a continuous target or an id: every vote then
@@ -266,6 +265,7 @@ public final class IndexBuilder {
         + " different values is one) mean little; give class labels, and keep such a value in another column";
   }
 
+  /** "; column 'Label' looks like one: ..." for metadata columns named like a label in another case or under another usual name. */
   private static String labelLike(List<Map<String, String>> meta) {
     java.util.Set<String> names = new java.util.LinkedHashSet<>();
     for (Map<String, String> row : meta) names.addAll(row.keySet());
