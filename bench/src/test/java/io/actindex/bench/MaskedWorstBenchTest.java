@@ -11,30 +11,11 @@ import io.actindex.core.ScanSearcher;
 import io.actindex.core.SyntheticCodes;
 import io.actindex.index.mih.Searchers;
 import java.lang.reflect.Method;
-import java.nio.file.Path;
 import java.util.TreeSet;
 import java.util.function.IntPredicate;
-import org.junit.jupiter.api.AfterEach;
-import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.io.TempDir;
 
-class MaskedWorstBenchTest {
-  @TempDir Path dir;
-  private String old;
-
-  @BeforeEach
-  void useTempCache() {
-    old = System.getProperty("actindex.bench.data");
-    System.setProperty("actindex.bench.data", dir.toString());
-  }
-
-  @AfterEach
-  void restore() {
-    if (old == null) System.clearProperty("actindex.bench.data");
-    else System.setProperty("actindex.bench.data", old);
-  }
-
+class MaskedWorstBenchTest extends TempBenchCache {
   /** The benchmark's own setup on small sets of its seed: it checks every query and throws on a difference. */
   @Test
   void setupPassesOnSmallSets() {
@@ -82,7 +63,7 @@ class MaskedWorstBenchTest {
             }
         }
       }
-    assertThat(paths).as("paths taken (1 scan, 2 tables, 3 partition, 4 head)").hasSizeGreaterThan(1);
+    assertThat(paths).as("paths taken (1 scan, 2 tables, 3 partition, 4 head)").contains(4L).containsAnyOf(1L, 2L, 3L);
   }
 
   /** A searcher that answers one query wrong is caught, and the message names the query and the set. */
