@@ -20,6 +20,8 @@ import org.openjdk.jmh.annotations.Setup;
 import org.openjdk.jmh.annotations.State;
 import org.openjdk.jmh.annotations.Warmup;
 import org.openjdk.jmh.infra.Blackhole;
+import org.openjdk.jmh.infra.IterationParams;
+import org.openjdk.jmh.runner.IterationType;
 
 /**
  * The rows of {@link WorstCaseSweep} whose queries are too short to time one by one (masked k-NN
@@ -29,9 +31,16 @@ import org.openjdk.jmh.infra.Blackhole;
  * invocation's time over {@code SET} (ns per query); a set's ratio is the planner's median over the
  * masked scan's from the same run ({@code bench/masked-ratios.jq}). On a shared core the median
  * holds where the mean does not: an invocation of 25 µs to 1 ms that loses the core to another
- * process for a time slice counts as one slow sample, not as a shift of the whole score. The param {@code searcher} comes last in JMH's order, so both forks of a set run
- * one after the other. Setup (every fork, both searchers) checks that the planner answers every
- * query of the set exactly as the masked scan does, and throws if not.
+ * process for a time slice counts as one slow sample, not as a shift of the whole score.
+ *
+ * <p>{@code searcher=both} (the default) times both in the same fork: iterations alternate, the
+ * planner first (warm-up iterations too, so the JIT compiles both paths, and the scan loops they
+ * share, in the JVM that is timed); JMH's own score then mixes the two and only the per-iteration
+ * samples count ({@code bench/masked-ratios.jq} splits them: even measurement iterations are the
+ * planner's, odd ones the masked scan's). {@code searcher=planner} or {@code maskscan} time one in
+ * a fork of its own ({@code searcher} comes last in JMH's order, so a set's two forks run one after
+ * the other). Setup checks that the planner answers every query of the set exactly as the masked
+ * scan does, and throws if not.
  *
  * <p>Run (held-out seed; drop the seed property for the tuned one): {@code java
  * -Djmh.ignoreLock=true -jar bench/target/benchmarks.jar MaskedWorstBench -p data=relu -p k=1
@@ -39,8 +48,8 @@ import org.openjdk.jmh.infra.Blackhole;
  */
 @State(Scope.Benchmark)
 @Fork(value = 3, jvmArgsAppend = {"-Xms2g", "-Xmx8g", "--add-modules=jdk.incubator.vector"})
-@Warmup(iterations = 5, time = 1)
-@Measurement(iterations = 5, time = 1)
+@Warmup(iterations = 6, time = 1)
+@Measurement(iterations = 10, time = 1)
 @BenchmarkMode(Mode.SampleTime)
 @OutputTimeUnit(TimeUnit.NANOSECONDS)
 public class MaskedWorstBench {
@@ -65,27 +74,36 @@ public class MaskedWorstBench {
   @Param("second")
   public String mask;
 
-  @Param({"planner", "maskscan"})
+  @Param("both")
   public String searcher;
 
-  private CodeSearcher timed;
+  private CodeSearcher planner, scan, timed;
+  private int warmups, measurements;
   private long[][] set;
   private long[] layers;
 
   @Setup(Level.Trial)
   public void setup() {
     CodeBlock codes = BenchData.codes(data, n, bits);
-    CodeSearcher planner = Searchers.build(codes);
-    ScanSearcher scan = new ScanSearcher(codes);
+    planner = Searchers.build(codes);
+    scan = new ScanSearcher(codes);
     set = WorstCaseSweep.querySet(data, queries, n, bits, SET);
     layers = WorstCaseSweep.layerMask(codes.layout(), mask);
     requireSame(planner, scan, set, k, layers,
         data + " n=" + n + " bits=" + bits + " queries=" + queries + " mask=" + mask + " k=" + k + " seed 0x" + Long.toHexString(BenchData.SEED));
     timed = switch (searcher) {
       case "planner" -> planner;
-      case "maskscan" -> scan;
-      default -> throw new IllegalArgumentException("searcher must be planner or maskscan, got " + searcher);
+      case "maskscan", "both" -> scan;
+      default -> throw new IllegalArgumentException("searcher must be planner, maskscan or both, got " + searcher);
     };
+  }
+
+  /** With {@code searcher=both}: the planner on even iterations (warm-up and measurement counted apart), the masked scan on odd ones. */
+  @Setup(Level.Iteration)
+  public void alternate(IterationParams iteration) {
+    if (!searcher.equals("both")) return;
+    int i = iteration.getType() == IterationType.WARMUP ? warmups++ : measurements++;
+    timed = i % 2 == 0 ? planner : scan;
   }
 
   /** Throws unless {@code planner} answers every query of {@code set} as {@code scan} does (ids and distances). */

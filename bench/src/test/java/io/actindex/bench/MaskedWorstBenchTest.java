@@ -29,7 +29,7 @@ class MaskedWorstBenchTest extends TempBenchCache {
           b.queries = queries;
           b.k = k;
           b.mask = "second";
-          b.searcher = "planner";
+          b.searcher = "both";
           b.setup();
         }
   }
