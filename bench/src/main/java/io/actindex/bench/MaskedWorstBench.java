@@ -30,8 +30,10 @@ import org.openjdk.jmh.runner.IterationType;
  * Searchers#build}) or through the masked plain scan, its baseline. Sample mode: one sample is one
  * invocation's time over {@code SET} (ns per query); a set's ratio is the planner's median over the
  * masked scan's from the same run ({@code bench/masked-ratios.jq}). On a shared core the median
- * holds where the mean does not: an invocation of 25 µs to 1 ms that loses the core to another
- * process for a time slice counts as one slow sample, not as a shift of the whole score.
+ * holds where the mean does not: an invocation shorter than a time slice (the sub-µs sets: 15-400
+ * µs a set) that loses the core to another process counts as one slow sample, not as a shift of
+ * the whole score. Sets of several ms (dense codes, out-of-distribution queries) get no such
+ * protection; alternating in one fork (below) at least pairs them in time.
  *
  * <p>{@code searcher=both} (the default) times both in the same fork: iterations alternate, the
  * planner first (warm-up iterations too, so the JIT compiles both paths, and the scan loops they
