@@ -78,10 +78,15 @@ public final class BenchData {
 
   /** The ReLU network behind data set {@code relu} or {@code dense} at {@code bits} (two layers of bits/2). */
   public static SyntheticCodes.ReluNet net(String data, int bits) {
+    return net(data, bits, SEED);
+  }
+
+  /** As {@link #net(String, int)}, drawn from {@code seed} instead of {@link #SEED} (tests over many seeds). */
+  static SyntheticCodes.ReluNet net(String data, int bits, long seed) {
     if (bits < 2 || bits % 2 != 0) throw new IllegalArgumentException(data + " codes need an even bit count, got " + bits);
     return switch (data) {
-      case "relu" -> new SyntheticCodes.ReluNet(INPUT_DIM, bits / 2, bits / 2, CLUSTERS, SEED);
-      case "dense" -> SyntheticCodes.ReluNet.dense(INPUT_DIM, bits / 2, bits / 2, DENSE_CLUSTERS, SEED);
+      case "relu" -> new SyntheticCodes.ReluNet(INPUT_DIM, bits / 2, bits / 2, CLUSTERS, seed);
+      case "dense" -> SyntheticCodes.ReluNet.dense(INPUT_DIM, bits / 2, bits / 2, DENSE_CLUSTERS, seed);
       default -> throw new IllegalArgumentException("no network behind data set " + data);
     };
   }

@@ -1,6 +1,7 @@
 package io.actindex.bench;
 
 import io.actindex.core.CodeBlock;
+import io.actindex.core.CodeLayout;
 import io.actindex.core.CodeSearcher;
 import io.actindex.core.Hits;
 import io.actindex.core.ScanSearcher;
@@ -55,17 +56,11 @@ public final class WorstCaseSweep {
         Method work = searcher.getClass().getDeclaredMethod("lastQueryWork");
         work.setAccessible(true);
         for (String kind : kinds) {
-          long[][] pool = BenchData.queries(d, kind, n, bits).codeArrays();
-          long[][] qs = Arrays.copyOf(pool, Math.min(count, pool.length));
+          long[][] qs = querySet(d, kind, n, bits, count);
           for (int k : ks) {
             double[] plain = bestTimes(scan, qs, k, rounds);
             for (String m : masks) {
-              long[] mask = switch (m) {
-                case "none" -> null;
-                case "first" -> codes.layout().mask(0);
-                case "second" -> codes.layout().mask(1);
-                default -> throw new IllegalArgumentException("mask must be none, first or second, got " + m);
-              };
+              long[] mask = layerMask(codes.layout(), m);
               double[] scanT = new double[qs.length], planT = new double[qs.length];
               int[] paths = new int[6], pathOf = new int[qs.length], kth = new int[qs.length];
               bestPair(scan, planner, searcher, mask, qs, k, rounds, loops, scanT, planT, paths, pathOf, kth, work,
@@ -84,6 +79,22 @@ public final class WorstCaseSweep {
       }
   }
 
+  /** The first {@code count} queries of a pool ({@link BenchData#queries}): a row's fixed query set. */
+  static long[][] querySet(String data, String kind, int n, int bits, int count) {
+    long[][] pool = BenchData.queries(data, kind, n, bits).codeArrays();
+    return Arrays.copyOf(pool, Math.min(count, pool.length));
+  }
+
+  /** The mask of a row: {@code none} (null), {@code first} or {@code second} layer. */
+  static long[] layerMask(CodeLayout layout, String name) {
+    return switch (name) {
+      case "none" -> null;
+      case "first" -> layout.mask(0);
+      case "second" -> layout.mask(1);
+      default -> throw new IllegalArgumentException("mask must be none, first or second, got " + name);
+    };
+  }
+
   /** The searcher of the reader's one segment (for its work counters). */
   private static CodeSearcher segmentSearcher(IndexReader reader) throws ReflectiveOperationException {
     Field f = IndexReader.class.getDeclaredField("segments");
@@ -98,7 +109,7 @@ public final class WorstCaseSweep {
   private static CodeSearcher through(IndexReader reader) {
     return new CodeSearcher() {
       @Override
-      public io.actindex.core.CodeLayout layout() {
+      public CodeLayout layout() {
         return reader.layout();
       }
 

@@ -5,28 +5,9 @@ import static org.assertj.core.api.Assertions.assertThat;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.Hamming;
 import io.actindex.core.SyntheticCodes;
-import java.nio.file.Path;
-import org.junit.jupiter.api.AfterEach;
-import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.api.Test;
-import org.junit.jupiter.api.io.TempDir;
 
-class BenchDataTest {
-  @TempDir Path dir;
-  private String old;
-
-  @BeforeEach
-  void useTempCache() {
-    old = System.getProperty("actindex.bench.data");
-    System.setProperty("actindex.bench.data", dir.toString());
-  }
-
-  @AfterEach
-  void restore() {
-    if (old == null) System.clearProperty("actindex.bench.data");
-    else System.setProperty("actindex.bench.data", old);
-  }
-
+class BenchDataTest extends TempBenchCache {
   @Test
   void reluCodesAreTheSignsOfTheCachedActivations() {
     int n = 70_000, bits = 64; // more than one generation chunk

@@ -5,35 +5,16 @@ import static org.assertj.core.api.Assertions.assertThat;
 import io.actindex.core.BruteForce;
 import io.actindex.core.CodeBlock;
 import io.actindex.core.CodeSearcher;
-import java.nio.file.Path;
-import org.junit.jupiter.api.AfterEach;
 import org.junit.jupiter.api.BeforeAll;
-import org.junit.jupiter.api.BeforeEach;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.CsvSource;
-import org.junit.jupiter.api.io.TempDir;
 
 /** Every contender the benchmarks time answers exactly what brute force answers. */
-class CodeContendersTest {
-  @TempDir Path dir;
-  private String old;
-
+class CodeContendersTest extends TempBenchCache {
   @BeforeAll
   static void blankSeedIsNoSeed() {
     String s = System.getProperty("tests.seed"); // Lucene (metadata store) parses a present tests.seed as hex
     if (s != null && s.isBlank()) System.clearProperty("tests.seed");
-  }
-
-  @BeforeEach
-  void useTempCache() {
-    old = System.getProperty("actindex.bench.data");
-    System.setProperty("actindex.bench.data", dir.toString());
-  }
-
-  @AfterEach
-  void restore() {
-    if (old == null) System.clearProperty("actindex.bench.data");
-    else System.setProperty("actindex.bench.data", old);
   }
 
   @ParameterizedTest
