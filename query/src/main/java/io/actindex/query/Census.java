@@ -207,7 +207,11 @@ public final class Census {
         continue;
       }
       Map<String, Integer> mix = mix(order, start[r], start[r + 1], labels);
-      int here = mix.values().stream().mapToInt(Integer::intValue).sum(), most = mix.values().stream().mapToInt(Integer::intValue).max().orElse(0);
+      int here = 0, most = 0;
+      for (int c : mix.values()) {
+        here += c;
+        most = Math.max(most, c);
+      }
       labeled += here;
       majority += most;
       if (here == 1) alone++;

@@ -51,12 +51,22 @@ public final class QuerySource {
      * one, is +Infinity ({@link Refine#distance}).
      */
     public long[] farRows() {
-      if (activations == null) return new long[0];
-      int d = codes.codes().layout().bits();
-      return java.util.stream.IntStream.range(0, codes.size())
-          .filter(i -> java.util.stream.IntStream.range(i * d, i * d + d).anyMatch(j -> Float.isInfinite(activations[j])))
-          .mapToLong(codes::row).toArray();
+      return rowsPastFloat32(activations, codes.codes().layout().bits(), codes.firstRow());
     }
+  }
+
+  /** The file rows ({@code firstRow} + index) of row-major {@code activations}, {@code d} a row, that hold an infinite value. */
+  private static long[] rowsPastFloat32(float[] activations, int d, long firstRow) {
+    if (activations == null) return new long[0];
+    long[] far = new long[activations.length / d];
+    int count = 0;
+    for (int i = 0; i < far.length; i++)
+      for (int j = i * d; j < i * d + d; j++)
+        if (Float.isInfinite(activations[j])) {
+          far[count++] = firstRow + i;
+          break;
+        }
+    return java.util.Arrays.copyOf(far, count);
   }
 
   /**
@@ -70,7 +80,7 @@ public final class QuerySource {
     RowRange range = rows == null ? RowRange.ALL : rows;
     java.util.List<String> notes = new java.util.ArrayList<>();
     Encoded e = encode(reader, source, range, Encoding.CHUNK, progress, "query", notes, Encoding.KEEP_ALL_CAST);
-    long[] far = new Queries(new QueryCodes(e.codes(), range.from()), e.activations()).farRows();
+    long[] far = rowsPastFloat32(e.activations(), e.codes().layout().bits(), range.from());
     if (far.length > 0) notes.add(farNote(source, far));
     return new Queries(new QueryCodes(e.codes(), range.from(), notes, e.columns()), e.activations());
   }
